@@ -1,0 +1,1 @@
+"""Ropewright sketchpad: the PySide6 application, a thin view over the solver."""

@@ -1,0 +1,134 @@
+"""The solver's answer: an immutable Result with the numbers a rigger asks for, by name.
+
+Its JSON form (``to_json``) is the "Result" section of rig-format.md.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any, Mapping
+
+STATUSES: tuple[str, ...] = ("ok", "mechanism", "diverged", "invalid")
+
+
+@dataclass(frozen=True)
+class SegmentResult:
+    """One straight piece of rope between two consecutive passes."""
+
+    rope: str
+    index: int  # piece index along the rope's path (0 = path[0] -> path[1])
+    from_point: str
+    to_point: str
+    tension_N: float
+    length_m: float
+    strain: float
+    utilization: float  # tension x min_safety_factor / MBS
+    run: int = 0  # index of the run this piece belongs to
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "rope": self.rope,
+            "index": self.index,
+            "from": self.from_point,
+            "to": self.to_point,
+            "tension_N": self.tension_N,
+            "length_m": self.length_m,
+            "strain": self.strain,
+            "utilization": self.utilization,
+        }
+
+
+@dataclass(frozen=True)
+class AnchorResult:
+    """Resultant of everything attached to one anchor (or other fixed point)."""
+
+    force_N: float
+    direction_deg: float  # direction the anchor is pulled toward, CCW from +x
+    capacity_N: float | None
+    utilization: float | None  # force x min_safety_factor / capacity, None if capacity unknown
+    fx_N: float = 0.0
+    fy_N: float = 0.0
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "force_N": self.force_N,
+            "direction_deg": self.direction_deg,
+            "capacity_N": self.capacity_N,
+            "utilization": self.utilization,
+        }
+
+
+@dataclass(frozen=True)
+class Warning_:
+    """A named finding: a code of our own, the id it is about, and a plain message."""
+
+    code: str
+    subject: str
+    message: str
+    severity: str = "warning"  # "info", "warning", "danger"
+
+    def to_json(self) -> dict[str, Any]:
+        return {"code": self.code, "subject": self.subject, "message": self.message}
+
+
+@dataclass(frozen=True)
+class HoldRange:
+    """In ``hold``: the least and greatest value static friction allows."""
+
+    low: float
+    high: float
+
+
+@dataclass(frozen=True)
+class Result:
+    """Equilibrium of one rig, or a named failure (status != "ok", message says why)."""
+
+    status: str
+    message: str = ""
+    iterations: int = 0
+    residual_N: float = float("nan")
+    points: Mapping[str, tuple[float, float]] = field(default_factory=dict)
+    segments: tuple[SegmentResult, ...] = ()
+    anchors: Mapping[str, AnchorResult] = field(default_factory=dict)
+    loads: Mapping[str, AnchorResult] = field(default_factory=dict)
+    haul: Mapping[str, float] = field(default_factory=dict)
+    ma_actual: float | None = None
+    ma_ideal: float | None = None
+    deflection_deg: Mapping[str, float] = field(default_factory=dict)
+    warnings: tuple[Warning_, ...] = ()
+    subject: str = ""  # id of the point or rope a failure is about
+    hold_haul_range: Mapping[str, HoldRange] = field(default_factory=dict)
+    hold_anchor_range: Mapping[str, HoldRange] = field(default_factory=dict)
+    revision: int = 0  # the document revision this result was solved for (app use)
+
+    @property
+    def ok(self) -> bool:
+        return self.status == "ok"
+
+    def segments_of(self, rope_id: str) -> list[SegmentResult]:
+        return [s for s in self.segments if s.rope == rope_id]
+
+    def to_json(self) -> dict[str, Any]:
+        """The result JSON of rig-format.md, plus hold ranges when present."""
+        out: dict[str, Any] = {
+            "status": self.status,
+            "message": self.message,
+            "iterations": self.iterations,
+            "residual_N": self.residual_N,
+            "points": {k: {"x": v[0], "y": v[1]} for k, v in self.points.items()},
+            "segments": [s.to_json() for s in self.segments],
+            "anchors": {k: a.to_json() for k, a in self.anchors.items()},
+            "loads": {k: {"force_N": a.force_N, "direction_deg": a.direction_deg} for k, a in self.loads.items()},
+            "haul": {k: {"force_N": f} for k, f in self.haul.items()},
+            "mechanical_advantage": {"actual": self.ma_actual, "ideal": self.ma_ideal},
+            "deflection_deg": dict(self.deflection_deg),
+            "warnings": [w.to_json() for w in self.warnings],
+        }
+        if self.subject:
+            out["subject"] = self.subject
+        if self.hold_haul_range or self.hold_anchor_range:
+            out["hold_range"] = {
+                "haul": {k: {"low_N": r.low, "high_N": r.high} for k, r in self.hold_haul_range.items()},
+                "anchors": {k: {"low_N": r.low, "high_N": r.high} for k, r in self.hold_anchor_range.items()},
+            }
+        return out
