@@ -1,0 +1,104 @@
+"""The ``ropewright`` command: a thin shell over the functions the app uses.
+
+``ropewright [FILE]`` opens the app; ``solve`` prints a result; ``sweep``,
+``render``, ``report`` and ``screenshot`` live in their own modules and are
+imported only when asked for, so ``ropewright solve`` never loads Qt.
+Exit codes: 0 ok, 2 bad file or arguments, 3 solve failed.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import logging
+import sys
+from typing import Callable, Sequence
+
+from solver.errors import RopewrightError
+
+EXIT_OK = 0
+EXIT_BAD_INPUT = 2
+EXIT_SOLVE_FAILED = 3
+
+SUBCOMMANDS = ("solve", "sweep", "render", "report", "screenshot", "open")
+
+#: subcommand -> "module:function" taking the parsed args and returning an exit code
+HANDLERS: dict[str, str] = {
+    "solve": "solver.cli_solve:run",
+    "sweep": "solver.sweep:run_cli",
+    "render": "sketchpad.export:render_cli",
+    "report": "sketchpad.report:report_cli",
+    "screenshot": "sketchpad.app:screenshot_cli",
+    "open": "sketchpad.app:open_cli",
+}
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """The argument parser for every subcommand."""
+    parser = argparse.ArgumentParser(
+        prog="ropewright",
+        description="Rope-rescue rigging sketchpad and solver. A planning aid only.",
+    )
+    sub = parser.add_subparsers(dest="command")
+
+    p = sub.add_parser("solve", help="solve a rig and print its forces")
+    p.add_argument("rig", help="a .rig.json file")
+    p.add_argument("--json", action="store_true", help="print the result JSON (rig-format.md)")
+    p.add_argument("--units", choices=("si", "imperial"), default=None,
+                   help="display units (default: the rig's own display setting)")
+
+    p = sub.add_parser("sweep", help="solve a rig over a range of one parameter; write CSV and a plot")
+    p.add_argument("rig")
+    p.add_argument("--vary", required=True,
+                   help="what to vary, e.g. force:F1, point:A2.x, haul:H1, hardware:pulley-large.efficiency")
+    p.add_argument("--from", dest="start", type=float, required=True)
+    p.add_argument("--to", dest="stop", type=float, required=True)
+    p.add_argument("--steps", type=int, default=50)
+    p.add_argument("-o", "--output", default=None, help="CSV path (default: RIG-sweep.csv)")
+    p.add_argument("--plot", default=None, help="plot path (.png/.svg/.pdf; default beside the CSV)")
+    p.add_argument("--no-progress", action="store_true")
+
+    p = sub.add_parser("render", help="draw the rig and its forces to PNG, SVG or PDF")
+    p.add_argument("rig")
+    p.add_argument("-o", "--output", required=True)
+    p.add_argument("--size", default=None, help="WxH pixels for PNG (default 1600x1100)")
+
+    p = sub.add_parser("report", help="write a PDF report of the rig")
+    p.add_argument("rig")
+    p.add_argument("-o", "--output", required=True)
+
+    p = sub.add_parser("screenshot", help="render the whole main window offscreen with a rig open")
+    p.add_argument("rig")
+    p.add_argument("-o", "--output", required=True)
+    p.add_argument("--size", default="1400x900", help="WxH pixels")
+
+    p = sub.add_parser("open", help="open the app (default when only a file is given)")
+    p.add_argument("rig", nargs="?", default=None)
+    return parser
+
+
+def _handler(command: str) -> Callable[[argparse.Namespace], int]:
+    module_name, func_name = HANDLERS[command].split(":")
+    return getattr(importlib.import_module(module_name), func_name)
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the ``ropewright`` script."""
+    logging.basicConfig(level=logging.WARNING, format="%(levelname)s: %(message)s")
+    args_list = list(sys.argv[1:] if argv is None else argv)
+    if not args_list or (args_list[0] not in SUBCOMMANDS and not args_list[0].startswith("-")):
+        args_list = ["open", *args_list]
+    parser = build_parser()
+    args = parser.parse_args(args_list)
+    try:
+        code = _handler(args.command)(args)
+    except RopewrightError as exc:
+        print(f"ropewright: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        return 130
+    return int(code or 0)
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())
