@@ -1,0 +1,109 @@
+"""``ropewright solve RIG [--json] [--units si|imperial]``: solve a rig file and print its forces.
+
+Prints a readable table (rope pieces, anchors, loads, mechanical advantage,
+warnings) or the result JSON of rig-format.md.  Exit codes: 0 ok, 2 bad
+file, 3 the solve failed (the message says why, in words).
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import sys
+from typing import TextIO
+
+from solver import units
+from solver.cautions import SHORT_CAUTION
+from solver.model import Rig
+from solver.result import Result
+
+EXIT_OK, EXIT_BAD_INPUT, EXIT_SOLVE_FAILED = 0, 2, 3
+
+
+def _units_for(rig: Rig, system: str | None) -> tuple[str, str]:
+    """(length unit, force unit): the --units choice, else the rig's own display setting."""
+    if system:
+        return units.system_units(system)
+    return rig.display.length, rig.display.force
+
+
+def _table(headers: list[str], rows: list[list[str]]) -> str:
+    widths = [max(len(h), *(len(r[i]) for r in rows)) if rows else len(h) for i, h in enumerate(headers)]
+    line = "  ".join(h.ljust(w) for h, w in zip(headers, widths))
+    out = [line, "  ".join("-" * w for w in widths)]
+    out += ["  ".join(c.rjust(w) if c[:1].isdigit() or c[:1] == "-" else c.ljust(w) for c, w in zip(r, widths))
+            for r in rows]
+    return "\n".join(out)
+
+
+def _pct(x: float | None) -> str:
+    return "—" if x is None or not math.isfinite(x) else f"{100 * x:.0f}%"
+
+
+def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -> str:
+    """The result as plain-text tables a rigging lead can read at a glance."""
+    f = lambda n: units.format_force(n, force_unit)  # noqa: E731
+    parts = [f"{rig.title or 'Untitled rig'}  —  motion: {rig.settings.motion}, "
+             f"safety factor {rig.settings.min_safety_factor:g}:1"]
+    if not result.ok:
+        parts.append(f"SOLVE FAILED ({result.status}): {result.message}")
+    else:
+        parts.append(f"Solved in {result.iterations} iterations, largest imbalance {f(result.residual_N)}.")
+        rope_names = {r.id: r.name for r in rig.ropes}
+        rows = [[rope_names.get(s.rope, s.rope), f"{s.from_point}→{s.to_point}", f(s.tension_N),
+                 units.format_length(s.length_m, length_unit), f"{100 * s.strain:.2f}%", _pct(s.utilization)]
+                for s in result.segments]
+        parts.append("\nRope pieces\n" + _table(["rope", "piece", "tension", "length", "stretch", "use of MBS/SF"], rows))
+        if result.anchors:
+            rows = [[aid, f(a.force_N), f"{a.direction_deg:.0f}°",
+                     f(a.capacity_N) if a.capacity_N else "unrated", _pct(a.utilization)]
+                    for aid, a in result.anchors.items()]
+            parts.append("\nAnchors\n" + _table(["anchor", "resultant", "toward", "capacity", "use"], rows))
+        if result.loads:
+            rows = [[lid, f(a.force_N), f"{a.direction_deg:.0f}°"] for lid, a in result.loads.items()]
+            parts.append("\nLoads\n" + _table(["load", "force delivered", "toward"], rows))
+        if result.haul:
+            parts.append("\nHaul: " + ", ".join(f"{hid} {f(v)}" for hid, v in result.haul.items()))
+        if result.ma_actual is not None:
+            ideal = f"{result.ma_ideal:.2f}" if result.ma_ideal is not None else "—"
+            parts.append(f"Mechanical advantage: actual {result.ma_actual:.2f}:1, ideal {ideal}:1")
+        for rng_name, rng in (("haul", result.hold_haul_range), ("anchor", result.hold_anchor_range)):
+            for k, r in rng.items():
+                parts.append(f"Hold range, {rng_name} {k}: {f(r.low)} to {f(r.high)}")
+    if result.warnings:
+        parts.append("\nWarnings")
+        parts += [f"  [{w.code}] {w.subject}: {w.message}" for w in result.warnings]
+    parts.append("\n" + SHORT_CAUTION)
+    return "\n".join(parts)
+
+
+def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
+    """Load, solve and print one rig; returns the exit code."""
+    from solver.analysis import analyse
+    from solver.rigfile import load_rig
+
+    out = out or sys.stdout
+    rig = load_rig(args.rig)  # RigFileError -> exit 2 via solver.cli.main
+    result = analyse(rig)
+    if args.json:
+        json.dump(_finite(result.to_json()), out, indent=2, allow_nan=False)
+        out.write("\n")
+    else:
+        length_unit, force_unit = _units_for(rig, args.units)
+        out.write(format_result(rig, result, length_unit, force_unit) + "\n")
+    if not result.ok:
+        print(f"ropewright: {args.rig}: {result.message}", file=sys.stderr)
+        return EXIT_SOLVE_FAILED
+    return EXIT_OK
+
+
+def _finite(obj: object) -> object:
+    """The same JSON tree with NaN and infinities as null (strict JSON has neither)."""
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, dict):
+        return {k: _finite(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_finite(v) for v in obj]
+    return obj

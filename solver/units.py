@@ -1,0 +1,151 @@
+"""Display units: the one place SI numbers become m/ft and N/kN/lbf for people, and back.
+
+Everything inside Ropewright is SI (metres, newtons).  Conversion happens only
+where a person reads or types a number.  Factors are the exact ones of
+NIST SP 811 (2008), Appendix B: 1 ft = 0.3048 m, 1 lbf = 4.4482216152605 N.
+Typed text is parsed with pint, so "12 ft", "3.5kN", "800 lbf" and "2,500 N"
+all work; a bare number is taken in the field's own unit.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from functools import lru_cache
+
+from solver.errors import UnitError
+
+FT_IN_M = 0.3048  # exact, NIST SP 811
+LBF_IN_N = 4.4482216152605  # exact: 0.45359237 kg x 9.80665 m/s^2, NIST SP 811
+
+#: metres or newtons per display unit
+LENGTH_FACTORS: dict[str, float] = {"m": 1.0, "ft": FT_IN_M}
+FORCE_FACTORS: dict[str, float] = {"N": 1.0, "kN": 1000.0, "lbf": LBF_IN_N}
+
+#: the unit systems offered to a user: (length unit, force unit)
+SYSTEMS: dict[str, tuple[str, str]] = {"si": ("m", "kN"), "imperial": ("ft", "lbf")}
+
+_UNIT_ALIASES: dict[str, str] = {
+    "m": "meter", "metre": "meter", "metres": "meter", "meters": "meter",
+    "ft": "foot", "feet": "foot", "foot": "foot", "'": "foot",
+    "cm": "centimeter", "mm": "millimeter", "in": "inch", "inch": "inch", "inches": "inch",
+    "n": "newton", "newton": "newton", "newtons": "newton",
+    "kn": "kilonewton", "kilonewton": "kilonewton", "kilonewtons": "kilonewton",
+    "lbf": "force_pound", "lb": "force_pound", "lbs": "force_pound", "pound": "force_pound", "pounds": "force_pound",
+    "kgf": "kilogram_force", "kg": "kilogram_force",
+}
+_NUMBER_UNIT = re.compile(r"^\s*([-+]?(?:\d[\d_]*\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([A-Za-z']*)\s*$")
+
+
+@lru_cache(maxsize=1)
+def _registry():
+    """The pint registry, built once on first use (pint is slow to import)."""
+    import pint
+
+    return pint.UnitRegistry()
+
+
+def _check_unit(unit: str, table: dict[str, float], what: str) -> float:
+    try:
+        return table[unit]
+    except KeyError:
+        raise UnitError(f"unknown {what} unit {unit!r}; use one of {', '.join(table)}") from None
+
+
+def length_to(metres: float, unit: str) -> float:
+    """A length in metres expressed in ``unit`` (m or ft)."""
+    return metres / _check_unit(unit, LENGTH_FACTORS, "length")
+
+
+def length_from(value: float, unit: str) -> float:
+    """A length given in ``unit`` (m or ft) in metres."""
+    return value * _check_unit(unit, LENGTH_FACTORS, "length")
+
+
+def force_to(newtons: float, unit: str) -> float:
+    """A force in newtons expressed in ``unit`` (N, kN or lbf)."""
+    return newtons / _check_unit(unit, FORCE_FACTORS, "force")
+
+
+def force_from(value: float, unit: str) -> float:
+    """A force given in ``unit`` (N, kN or lbf) in newtons."""
+    return value * _check_unit(unit, FORCE_FACTORS, "force")
+
+
+def _digits(value: float, unit: str, kind: str) -> int:
+    """Decimals a planner wants to see: enough to read, not false precision."""
+    a = abs(value)
+    if kind == "force":
+        if unit == "kN":
+            return 2 if a < 10 else 1
+        return 0 if a >= 100 else 1
+    return 2 if a < 10 else 1
+
+
+def format_length(metres: float, unit: str = "m", digits: int | None = None) -> str:
+    """A length for people, e.g. ``"12.4 m"`` or ``"40.7 ft"``."""
+    v = length_to(metres, unit)
+    if not math.isfinite(v):
+        return "—"
+    d = _digits(v, unit, "length") if digits is None else digits
+    return f"{v:.{d}f} {unit}"
+
+
+def format_force(newtons: float, unit: str = "kN", digits: int | None = None) -> str:
+    """A force for people, e.g. ``"2.71 kN"``, ``"610 lbf"``, ``"850 N"``."""
+    v = force_to(newtons, unit)
+    if not math.isfinite(v):
+        return "—"
+    d = _digits(v, unit, "force") if digits is None else digits
+    text = f"{v:,.{d}f}" if unit != "kN" else f"{v:.{d}f}"
+    return f"{text} {unit}"
+
+
+def _parse(text: str, default_unit: str, dimension: str, factors: dict[str, float], what: str) -> float:
+    """Read typed text as an SI quantity of ``dimension``; bare numbers are in ``default_unit``."""
+    _check_unit(default_unit, factors, what)
+    raw = (text or "").strip()
+    if not raw:
+        raise UnitError(f"enter a {what}, e.g. 2.5 {default_unit}")
+    cleaned = raw.replace("\u2212", "-")
+    if re.search(r"\d,\d{1,2}(\D|$)", cleaned) and "." not in cleaned:
+        raise UnitError(f"{raw!r}: use a point for decimals (e.g. 12.5), not a comma")
+    cleaned = cleaned.replace(",", "")
+    m = _NUMBER_UNIT.match(cleaned)
+    if not m:
+        raise UnitError(f"{raw!r} is not a {what}; type a number, optionally with a unit like {default_unit}")
+    number = float(m.group(1).replace("_", ""))
+    unit_text = m.group(2)
+    if not math.isfinite(number):
+        raise UnitError(f"{raw!r} is not a finite number")
+    if not unit_text:
+        return number * factors[default_unit]
+    if unit_text in factors:
+        return number * factors[unit_text]
+    name = _UNIT_ALIASES.get(unit_text.lower())
+    if name is None:
+        raise UnitError(f"{raw!r}: unknown unit {unit_text!r}; use {', '.join(factors)}")
+    ureg = _registry()
+    q = number * ureg(name)
+    if not q.check(dimension):
+        raise UnitError(f"{raw!r} is not a {what} (unit {unit_text!r})")
+    base = "meter" if dimension == "[length]" else "newton"
+    return float(q.to(base).magnitude)
+
+
+def parse_length(text: str, unit: str = "m") -> float:
+    """Typed length text (``"12"``, ``"40 ft"``, ``"3.2 m"``) in metres; UnitError in words if unreadable."""
+    return _parse(text, unit, "[length]", LENGTH_FACTORS, "length")
+
+
+def parse_force(text: str, unit: str = "kN") -> float:
+    """Typed force text (``"2.5"``, ``"2.5 kN"``, ``"600 lbf"``) in newtons; UnitError in words if unreadable."""
+    return _parse(text, unit, "[force]", FORCE_FACTORS, "force")
+
+
+def system_units(system: str) -> tuple[str, str]:
+    """(length unit, force unit) of a named system, ``si`` or ``imperial``."""
+    try:
+        return SYSTEMS[system]
+    except KeyError:
+        raise UnitError(f"unknown unit system {system!r}; use si or imperial") from None

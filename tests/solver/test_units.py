@@ -1,0 +1,90 @@
+"""Display units against the exact NIST SP 811 factors and pint as an independent reference."""
+
+import math
+
+import pint
+import pytest
+from hypothesis import given, settings, strategies as st
+
+from solver import units
+from solver.errors import UnitError
+
+UREG = pint.UnitRegistry()
+
+
+def test_lbf_factor_is_the_exact_nist_value():
+    # NIST SP 811 (2008) App. B: 1 lbf = 0.45359237 kg x 9.80665 m/s^2 exactly
+    assert units.LBF_IN_N == pytest.approx(0.45359237 * 9.80665, rel=0, abs=1e-13)
+    # independent: pint's own definition
+    assert (1 * UREG.force_pound).to("newton").magnitude == pytest.approx(units.LBF_IN_N, rel=1e-12)
+
+
+def test_foot_is_exactly_0_3048_m():
+    # NIST SP 811 (2008) App. B
+    assert units.FT_IN_M == 0.3048
+    assert (1 * UREG.foot).to("meter").magnitude == pytest.approx(units.FT_IN_M, rel=1e-12)
+
+
+@given(st.floats(min_value=-1e6, max_value=1e6, allow_nan=False), st.sampled_from(["N", "kN", "lbf"]))
+@settings(max_examples=100, deadline=None)
+def test_force_round_trip_is_exact_to_rounding(value, unit):
+    assert units.force_from(units.force_to(value, unit), unit) == pytest.approx(value, rel=1e-12, abs=1e-9)
+
+
+@given(st.floats(min_value=-1e5, max_value=1e5, allow_nan=False), st.sampled_from(["m", "ft"]))
+@settings(max_examples=100, deadline=None)
+def test_length_round_trip_is_exact_to_rounding(value, unit):
+    assert units.length_from(units.length_to(value, unit), unit) == pytest.approx(value, rel=1e-12, abs=1e-9)
+
+
+@pytest.mark.parametrize(
+    "text, unit, expected_N",
+    [
+        ("2.5", "kN", 2500.0),
+        ("2.5 kN", "N", 2500.0),
+        ("600 lbf", "kN", 600 * 4.4482216152605),  # NIST SP 811
+        ("2,500 N", "kN", 2500.0),
+        ("−1.5 kN", "kN", -1500.0),
+        ("100 kgf", "kN", 100 * 9.80665),  # kilogram-force, NIST SP 811
+    ],
+)
+def test_parse_force_reads_what_riggers_type(text, unit, expected_N):
+    assert units.parse_force(text, unit) == pytest.approx(expected_N, rel=1e-12)
+
+
+@pytest.mark.parametrize(
+    "text, unit, expected_m",
+    [("12", "m", 12.0), ("40 ft", "m", 40 * 0.3048), ("10", "ft", 3.048), ("250 cm", "m", 2.5)],
+)
+def test_parse_length_reads_what_riggers_type(text, unit, expected_m):
+    assert units.parse_length(text, unit) == pytest.approx(expected_m, rel=1e-12)
+
+
+@pytest.mark.parametrize("text, fragment", [
+    ("12,5 kN", "point for decimals"),
+    ("abc", "not a force"),
+    ("3 m", "not a force"),
+    ("", "enter a force"),
+    ("5 parsecs", "unknown unit"),
+])
+def test_bad_force_text_gets_a_message_in_words(text, fragment):
+    with pytest.raises(UnitError, match=fragment):
+        units.parse_force(text, "kN")
+
+
+def test_length_field_refuses_a_force():
+    with pytest.raises(UnitError, match="not a length"):
+        units.parse_length("3 kN", "m")
+
+
+def test_formatting_shows_unit_and_sensible_digits():
+    assert units.format_force(2710.0, "kN") == "2.71 kN"
+    assert units.format_force(2710.0, "lbf") == f"{2710.0 / 4.4482216152605:,.0f} lbf"
+    assert units.format_length(12.345, "m") == "12.3 m"
+    assert units.format_length(3.048, "ft") == "10.0 ft"
+    assert units.format_force(math.nan, "kN") == "—"
+
+
+def test_unknown_unit_names_the_choices():
+    with pytest.raises(UnitError, match="N, kN, lbf"):
+        units.force_to(1.0, "kip")
