@@ -1,0 +1,60 @@
+#!/usr/bin/env python3
+"""Set-up and run Ropewright with nothing but Python 3.11+.
+
+    python3 dev.py run [RIG]   create .venv if needed, install, open the app on a sample site
+    python3 dev.py test [ARGS] create .venv if needed, install, run every test (pytest ARGS)
+    python3 dev.py bench       run the benchmarks with timing on
+
+The virtual environment is rebuilt only when pyproject.toml changes.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import os
+import pathlib
+import subprocess
+import sys
+import venv
+
+ROOT = pathlib.Path(__file__).resolve().parent
+VENV = ROOT / ".venv"
+BIN = VENV / ("Scripts" if os.name == "nt" else "bin")
+PY = BIN / ("python.exe" if os.name == "nt" else "python")
+STAMP = VENV / ".installed"
+DEFAULT_SAMPLE = ROOT / "samples" / "raft-3to1-redirect.rig.json"
+
+
+def ensure_env() -> None:
+    """Create .venv and install the project with its test extras, once per pyproject.toml version."""
+    digest = hashlib.sha256((ROOT / "pyproject.toml").read_bytes()).hexdigest()
+    if STAMP.exists() and STAMP.read_text() == digest and PY.exists():
+        return
+    if not PY.exists():
+        print("dev.py: creating .venv ...", flush=True)
+        venv.EnvBuilder(with_pip=True).create(VENV)
+    print("dev.py: installing Ropewright and its test tools into .venv ...", flush=True)
+    subprocess.run([str(PY), "-m", "pip", "install", "--quiet", "--upgrade", "pip"], check=True)
+    subprocess.run([str(PY), "-m", "pip", "install", "--quiet", "-e", f"{ROOT}[test]"], check=True)
+    STAMP.write_text(digest)
+
+
+def main(argv: list[str]) -> int:
+    if not argv or argv[0] not in {"run", "test", "bench"}:
+        print(__doc__)
+        return 2
+    ensure_env()
+    command, rest = argv[0], argv[1:]
+    env = dict(os.environ)
+    if command == "run":
+        rig = rest[0] if rest else str(DEFAULT_SAMPLE)
+        return subprocess.call([str(BIN / "ropewright"), rig], env=env, cwd=ROOT)
+    env.setdefault("QT_QPA_PLATFORM", "offscreen")
+    if command == "test":
+        return subprocess.call([str(PY), "-m", "pytest", *rest], env=env, cwd=ROOT)
+    return subprocess.call([str(PY), "-m", "pytest", "tests/bench", "--benchmark-enable", "--benchmark-only", *rest],
+                           env=env, cwd=ROOT)
+
+
+if __name__ == "__main__":
+    sys.exit(main(sys.argv[1:]))
