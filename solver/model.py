@@ -97,6 +97,7 @@ class Rigging:
 
     slack_m: float = 0.0
     pretension_N: float | None = None
+    extra: Mapping[str, Any] = field(default_factory=dict)  # unknown keys, kept
 
     @property
     def is_default(self) -> bool:

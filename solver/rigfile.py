@@ -1,0 +1,972 @@
+"""Read and write rig files (``*.rig.json``, rig-format.md version 1) as frozen :class:`~solver.model.Rig`.
+
+Loading is: bytes -> UTF-8 text -> JSON -> format/version check -> :func:`migrate`
+-> every number finite -> JSON Schema (``schema/rig-v1.schema.json``, draft
+2020-12) -> dataclasses -> the cross-checks a schema cannot do (ids unique,
+references exist, path rules, stretch tables, image path).  Every problem is a
+:class:`~solver.errors.RigFileError` whose ``where`` is the field path in the
+format's own terms (``ropes[2].path[3]``) and whose message a rigger can act on.
+Files are data only: JSON is parsed, never evaluated; size is capped.
+
+Saving writes only what the rig holds: a field that was in the loaded file is
+written back, a field still at its default that was not in the file is left out,
+unknown keys are written back, floats use ``repr`` so ``load(save(x)) == x``
+exactly.  Saving embeds every library material and hardware spec the rig uses
+(rig-format.md: "saving embeds every spec the rig uses"), checks that the text
+loads back, and replaces the file atomically (temp file, fsync, ``os.replace``).
+Units are SI throughout, as in the file.
+"""
+
+from __future__ import annotations
+
+import base64
+import binascii
+import json
+import logging
+import math
+import ntpath
+import os
+import pathlib
+import posixpath
+import tempfile
+import weakref
+from dataclasses import replace
+from functools import lru_cache
+from importlib import resources
+from typing import Any, Callable, Iterable, Mapping, Sequence
+
+from solver import model as m
+from solver.errors import RigFileError
+
+log = logging.getLogger(__name__)
+
+FORMAT = "ropewright-rig"
+#: The version this module reads and writes.
+VERSION = 1
+#: Largest rig file read or written, bytes, embedded background image included.
+MAX_FILE_BYTES = 20 * 1024 * 1024
+#: Largest distance of any point or site coordinate from the site origin, m: a
+#: sanity bound far beyond any rescue site (ours, not from a standard).
+MAX_COORDINATE_M = 100_000.0
+#: Library ids (brief / solver.materials), used only while that module is absent.
+LIBRARY_MATERIAL_IDS: tuple[str, ...] = (
+    "kern-11", "kern-12.5", "throwline-pp-8", "dynamic-10.5", "cord-8", "webbing-25", "sling-hmpe",
+)
+LIBRARY_HARDWARE_IDS: tuple[str, ...] = (
+    "pulley-large", "pulley-small", "pulley-bushing", "carabiner", "ring",
+    "edge-rock", "edge-concrete", "edge-timber", "edge-steel",
+)
+
+_REQUIRED = object()  # marks a field every file must have
+
+# (json key == attribute name, kind, default); kinds: str, float, int, bool, pair, pairs
+_Spec = tuple[tuple[str, str, Any], ...]
+_POINT: _Spec = (
+    ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("x", "float", _REQUIRED), ("y", "float", _REQUIRED),
+    ("label", "str", ""), ("fixed", "bool", None), ("capacity_N", "float", None), ("anchor_type", "str", None),
+    ("required_N", "float", None), ("mass_kg", "float", None), ("force_N", "float", None), ("team", "int", None),
+    ("force_per_person_N", "float", None),
+)
+_PASS: _Spec = (("at", "str", _REQUIRED), ("how", "str", "tied"), ("hardware", "str", None))
+_RIGGING: _Spec = (("slack_m", "float", 0.0), ("pretension_N", "float", None))
+_ROPE: _Spec = (("id", "str", _REQUIRED), ("material", "str", _REQUIRED), ("label", "str", ""))
+_MATERIAL: _Spec = (
+    ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("mbs_N", "float", _REQUIRED),
+    ("stretch", "pairs", _REQUIRED), ("diameter_mm", "float", None), ("label", "str", ""), ("source", "str", ""),
+)
+_HARDWARE: _Spec = (
+    ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("efficiency", "float", None), ("mbs_N", "float", None),
+    ("friction_coefficient", "float", None), ("size_m", "float", None), ("label", "str", ""), ("source", "str", ""),
+)
+_FORCE: _Spec = (
+    ("at", "str", _REQUIRED), ("magnitude_N", "float", _REQUIRED), ("direction_deg", "float", _REQUIRED),
+    ("label", "str", ""),
+)
+_IMAGE: _Spec = (
+    ("file", "str", None), ("data_base64", "str", None), ("origin", "pair", (0.0, 0.0)),
+    ("metres_per_pixel", "float", 0.01), ("rotation_deg", "float", 0.0), ("opacity", "float", 1.0),
+)
+_FEATURE: _Spec = (("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("polygon", "pairs", None),
+                   ("line", "pairs", None), ("label", "str", ""))
+_SETTINGS: _Spec = (("motion", "str", "haul"), ("min_safety_factor", "float", 10.0))
+_DISPLAY: _Spec = (("length", "str", "m"), ("force", "str", "kN"))
+_SITE_KEYS = ("image", "features")
+_TOP_KEYS = ("format", "version", "display", "view", "title", "notes", "settings", "site",
+             "materials", "hardware", "points", "forces", "ropes")
+
+# --------------------------------------------------------------------------------------
+# Which optional keys a loaded object had, so that saving writes back exactly those
+# (plus anything changed away from its default).  Keyed by object identity; an entry
+# lives as long as its (immutable) object.
+_PRESENT: dict[int, frozenset[str]] = {}
+
+
+def _remember(obj: Any, keys: Iterable[str]) -> Any:
+    _PRESENT[id(obj)] = frozenset(keys)
+    weakref.finalize(obj, _PRESENT.pop, id(obj), None)
+    return obj
+
+
+def _present(obj: Any) -> frozenset[str]:
+    return _PRESENT.get(id(obj), frozenset())
+
+
+# --------------------------------------------------------------------------------------
+# Public API
+
+
+def load_rig(path: str | os.PathLike[str], strict: bool = False) -> m.Rig:
+    """Read and check the rig file at ``path``; relative image files resolve against its folder."""
+    p = pathlib.Path(path)
+    try:
+        with open(p, "rb") as fh:
+            size = os.fstat(fh.fileno()).st_size
+            if size > MAX_FILE_BYTES:
+                raise _too_big(size)
+            data = fh.read(MAX_FILE_BYTES + 1)
+    except RigFileError as exc:
+        exc.path = str(p)
+        raise
+    except FileNotFoundError:
+        raise RigFileError("there is no such file", where=str(p)) from None
+    except IsADirectoryError:
+        raise RigFileError("this is a folder, not a rig file", where=str(p)) from None
+    except PermissionError:
+        raise RigFileError("permission denied: the file cannot be read", where=str(p)) from None
+    except OSError as exc:
+        raise RigFileError(f"the file cannot be read ({exc.strerror or exc})", where=str(p)) from None
+    try:
+        return loads_rig(data, base_dir=p.parent, strict=strict)
+    except RigFileError as exc:
+        exc.path = str(p)
+        raise
+
+
+def loads_rig(text: str | bytes, base_dir: str | os.PathLike[str] | None = None, strict: bool = False) -> m.Rig:
+    """Parse rig-file text (str, or bytes that must be UTF-8) into a checked Rig."""
+    if isinstance(text, (bytes, bytearray, memoryview)):
+        raw = bytes(text)
+        if len(raw) > MAX_FILE_BYTES:
+            raise _too_big(len(raw))
+        text = _decode_utf8(raw)
+    elif len(text) > MAX_FILE_BYTES // 4:
+        size = len(text.encode("utf-8", "surrogatepass"))
+        if size > MAX_FILE_BYTES:
+            raise _too_big(size)
+    if text.startswith("\ufeff"):  # a byte-order mark some editors add
+        text = text[1:]
+    data = _parse_json(text)
+    return rig_from_dict(data, strict=strict, base_dir=base_dir)
+
+
+def rig_from_dict(d: Any, strict: bool = False, *, base_dir: str | os.PathLike[str] | None = None) -> m.Rig:
+    """Check a parsed rig file (a dict, as from ``json.loads``) and build the Rig.
+
+    ``strict`` refuses unknown keys inside objects (top-level unknown keys are
+    always kept, in ``Rig.extra``).  ``base_dir`` is the rig file's folder, used to
+    check that ``site.image.file`` stays inside it.
+    """
+    if not isinstance(d, dict):
+        raise RigFileError(f"a rig file must be one JSON object {{...}}, this one is {_kind_of(d)}",
+                           where="(top level)")
+    _check_format_and_version(d)
+    d = migrate(d)
+    _check_plain_data(d)
+    _check_schema(d)
+    rig = _build_rig(d, strict)
+    _check_semantics(rig, base_dir)
+    return rig
+
+
+def rig_to_dict(rig: m.Rig, *, embed: bool = True) -> dict[str, Any]:
+    """The rig as a JSON-ready dict (rig-format.md v1); ``embed`` adds library specs the rig uses."""
+    if embed:
+        rig = embed_specs(rig)
+    pres = _present(rig)
+    out: dict[str, Any] = {"format": FORMAT, "version": VERSION}
+    if "display" in pres or rig.display != m.Display():
+        out["display"] = _to_simple(rig.display, _DISPLAY)
+    if "view" in pres or rig.view != "plan":
+        out["view"] = str(rig.view)
+    if "title" in pres or rig.title:
+        out["title"] = str(rig.title)
+    if "notes" in pres or rig.notes:
+        out["notes"] = str(rig.notes)
+    if "settings" in pres or rig.settings != m.Settings():
+        out["settings"] = _to_simple(rig.settings, _SETTINGS)
+    if "site" in pres or rig.site != m.Site():
+        out["site"] = _site_to(rig.site)
+    if "materials" in pres or rig.materials:
+        out["materials"] = [_to_simple(x, _MATERIAL) for x in rig.materials]
+    if "hardware" in pres or rig.hardware:
+        out["hardware"] = [_to_simple(x, _HARDWARE) for x in rig.hardware]
+    out["points"] = [_to_simple(x, _POINT) for x in rig.points]
+    if "forces" in pres or rig.forces:
+        out["forces"] = [_to_simple(x, _FORCE) for x in rig.forces]
+    out["ropes"] = [_rope_to(x) for x in rig.ropes]
+    for key, value in rig.extra.items():
+        if key not in out and key not in _TOP_KEYS:
+            out[key] = value
+    return out
+
+
+def dumps_rig(rig: m.Rig, *, embed: bool = True) -> str:
+    """The rig as rig-file text: indented UTF-8 JSON ending in a newline."""
+    try:
+        return json.dumps(rig_to_dict(rig, embed=embed), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    except ValueError as exc:  # NaN or infinity somewhere in the rig
+        raise RigFileError(f"the rig holds a number that is not finite ({exc}); it cannot be saved",
+                           where="(rig)") from None
+    except TypeError as exc:
+        raise RigFileError(f"the rig holds a value that cannot be written to a file ({exc})",
+                           where="(rig)") from None
+
+
+def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) -> None:
+    """Write the rig to ``path`` atomically; the old file stays untouched if anything fails.
+
+    With ``check`` (default) the text is first loaded back, so a file on disk
+    always opens again; a rig that would not is refused with the place named.
+    """
+    p = pathlib.Path(path)
+    text = dumps_rig(rig)
+    data = text.encode("utf-8", "surrogatepass")
+    if len(data) > MAX_FILE_BYTES:
+        raise _too_big(len(data), saving=True)
+    if check:
+        loads_rig(data, base_dir=p.parent)
+    folder = p.parent if str(p.parent) else pathlib.Path(".")
+    mode = None
+    try:
+        mode = os.stat(p).st_mode & 0o7777
+    except OSError:
+        pass
+    tmp_name = None
+    try:
+        fd, tmp_name = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=folder)
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        if mode is None:
+            umask = os.umask(0)
+            os.umask(umask)
+            mode = 0o666 & ~umask
+        os.chmod(tmp_name, mode)
+        os.replace(tmp_name, p)
+        tmp_name = None
+        _fsync_folder(folder)
+    except OSError as exc:
+        raise RigFileError(f"the rig could not be saved ({exc.strerror or exc}); the old file, if any, is unchanged",
+                           where=str(p)) from None
+    finally:
+        if tmp_name is not None:
+            try:
+                os.unlink(tmp_name)
+            except OSError:
+                log.warning("could not remove the temporary file %s", tmp_name)
+
+
+def migrate(d: dict[str, Any]) -> dict[str, Any]:
+    """Bring a parsed rig file of any known version up to :data:`VERSION` (v1 -> v1: unchanged).
+
+    A future v2 adds ``_MIGRATIONS[1]`` converting a v1 dict to v2, and so on.
+    """
+    version = d.get("version")
+    while isinstance(version, int) and version < VERSION:
+        step = _MIGRATIONS.get(version)
+        if step is None:
+            raise RigFileError(f"rig files of version {version} cannot be read", where="version")
+        d = step(d)
+        version = d.get("version")
+    return d
+
+
+#: version n -> function turning a version-n dict into a version n+1 dict
+_MIGRATIONS: dict[int, Callable[[dict[str, Any]], dict[str, Any]]] = {}
+
+
+def embed_specs(rig: m.Rig) -> m.Rig:
+    """The rig with every library material and hardware spec it uses embedded (first use first)."""
+    lib = _library()
+    if lib is None:
+        return rig
+    lib_materials, lib_hardware = lib
+    have_m = {x.id for x in rig.materials}
+    have_h = {x.id for x in rig.hardware}
+    add_m: list[m.Material] = []
+    add_h: list[m.Hardware] = []
+    for rope in rig.ropes:
+        if rope.material not in have_m and rope.material in lib_materials:
+            add_m.append(lib_materials[rope.material])
+            have_m.add(rope.material)
+        for ps in rope.path:
+            if ps.hardware and ps.hardware not in have_h and ps.hardware in lib_hardware:
+                add_h.append(lib_hardware[ps.hardware])
+                have_h.add(ps.hardware)
+    if not add_m and not add_h:
+        return rig
+    new = replace(rig, materials=rig.materials + tuple(add_m), hardware=rig.hardware + tuple(add_h))
+    return _remember(new, _present(rig))
+
+
+# --------------------------------------------------------------------------------------
+# Bytes and JSON
+
+
+def _too_big(size: int, saving: bool = False) -> RigFileError:
+    mb = size / (1024 * 1024)
+    limit = MAX_FILE_BYTES // (1024 * 1024)
+    verb = "would be" if saving else "is"
+    return RigFileError(
+        f"the rig file {verb} {mb:.1f} MB; a rig file may be at most {limit} MB including an embedded "
+        "background image (keep a large image as a file beside the rig instead)",
+        where="(file)",
+    )
+
+
+def _decode_utf8(raw: bytes) -> str:
+    try:
+        return raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        line = raw.count(b"\n", 0, exc.start) + 1
+        bad = raw[exc.start:exc.start + 1].hex().upper()
+        raise RigFileError(
+            f"the file is not UTF-8 text (byte 0x{bad} at offset {exc.start}); a rig file is JSON saved as UTF-8 "
+            "- is this really a rig file?",
+            where=f"line {line}",
+        ) from None
+
+
+_JSON_HINTS = (
+    ("Expecting value", "a value is missing or not valid JSON here (a trailing comma, a stray character, "
+                        "a decimal comma, or text without double quotes?)"),
+    ("Expecting ',' delimiter", "a comma is missing between two items"),
+    ("Expecting ':' delimiter", "a colon is missing after a key"),
+    ("Expecting property name enclosed in double quotes", "expected a key in double quotes here "
+                                                          "(a trailing comma before } ?)"),
+    ("Unterminated string", "a text value is not closed with a double quote"),
+    ("Invalid control character", "a text value holds a line break or control character; write it as \\n"),
+    ("Invalid \\escape", "a backslash escape in a text value is not valid JSON"),
+    ("Invalid \\uXXXX escape", "a \\u escape in a text value is not valid JSON"),
+    ("Extra data", "unexpected text after the end of the rig object"),
+)
+
+
+def _parse_json(text: str) -> Any:
+    """json.loads with errors as RigFileError naming line and column."""
+    if not text.strip():
+        raise RigFileError("the file is empty", where="line 1, column 1")
+    try:
+        return json.loads(text)
+    except json.JSONDecodeError as exc:
+        hint = next((h for k, h in _JSON_HINTS if exc.msg.startswith(k)), exc.msg)
+        raise RigFileError(f"the file is not valid JSON: {hint}",
+                           where=f"line {exc.lineno}, column {exc.colno}") from None
+    except RecursionError:
+        raise RigFileError("the file is nested too deeply to be a rig file", where="(file)") from None
+    except ValueError as exc:  # e.g. an integer with thousands of digits
+        raise RigFileError(f"the file holds a value that cannot be read ({exc})", where="(file)") from None
+
+
+def _kind_of(value: Any) -> str:
+    if value is None:
+        return "null"
+    if isinstance(value, bool):
+        return "true or false"
+    if isinstance(value, (int, float)):
+        return "a number"
+    if isinstance(value, str):
+        return "text"
+    if isinstance(value, list):
+        return "a list"
+    if isinstance(value, dict):
+        return "an object"
+    return type(value).__name__
+
+
+def _show(value: Any, limit: int = 40) -> str:
+    """A value as a person would type it in the file, shortened."""
+    if isinstance(value, float) and not math.isfinite(value):
+        return "NaN" if math.isnan(value) else ("Infinity" if value > 0 else "-Infinity")
+    try:
+        s = json.dumps(value, ensure_ascii=False)
+    except (TypeError, ValueError):
+        s = repr(value)
+    return s if len(s) <= limit else s[: limit - 1] + "…"
+
+
+def _where(path: Iterable[Any]) -> str:
+    out = ""
+    for part in path:
+        if isinstance(part, int):
+            out += f"[{part}]"
+        else:
+            out += f".{part}" if out else str(part)
+    return out or "(top level)"
+
+
+# --------------------------------------------------------------------------------------
+# Checks on the parsed dict
+
+
+def _check_format_and_version(d: dict[str, Any]) -> None:
+    fmt = d.get("format", _REQUIRED)
+    if fmt is _REQUIRED:
+        raise RigFileError(f'is missing: a rig file starts with "format": "{FORMAT}" - is this a Ropewright rig?',
+                           where="format")
+    if fmt != FORMAT:
+        raise RigFileError(f'this is not a Ropewright rig file (format is {_show(fmt)}, expected "{FORMAT}")',
+                           where="format")
+    version = d.get("version", _REQUIRED)
+    if version is _REQUIRED:
+        raise RigFileError(f"is missing: a rig file says which version of the format it uses ({VERSION})",
+                           where="version")
+    if isinstance(version, float) and version.is_integer() and abs(version) < 1e9:
+        version = int(version)
+    if isinstance(version, bool) or not isinstance(version, int):
+        raise RigFileError(f"must be a whole number, got {_show(version)}", where="version")
+    if version > VERSION:
+        raise RigFileError(
+            f"this file was made by a newer Ropewright (format version {version}); this one reads version "
+            f"{VERSION} and older - update Ropewright to open it",
+            where="version",
+        )
+    if version < 1:
+        raise RigFileError(f"there is no rig format version {version}", where="version")
+
+
+def _check_plain_data(d: Any) -> None:
+    """Every number finite and within float range, every text valid Unicode (iterative walk)."""
+    stack: list[tuple[Any, tuple[Any, ...]]] = [(d, ())]
+    while stack:
+        value, path = stack.pop()
+        if isinstance(value, dict):
+            for k, v in value.items():
+                _check_text(k, path)
+                stack.append((v, path + (k,)))
+        elif isinstance(value, list):
+            for i, v in enumerate(value):
+                stack.append((v, path + (i,)))
+        elif isinstance(value, bool) or value is None:
+            continue
+        elif isinstance(value, float):
+            if not math.isfinite(value):
+                raise RigFileError(f"must be a finite number, got {_show(value)}", where=_where(path))
+        elif isinstance(value, int):
+            if abs(value) > 1e300:
+                raise RigFileError("this number is far too large", where=_where(path))
+        elif isinstance(value, str):
+            _check_text(value, path)
+
+
+def _check_text(s: str, path: tuple[Any, ...]) -> None:
+    try:
+        s.encode("utf-8")
+    except UnicodeEncodeError:
+        raise RigFileError("holds a broken \\u escape (half of a character pair)", where=_where(path)) from None
+
+
+@lru_cache(maxsize=1)
+def _validator() -> Any:
+    import jsonschema
+
+    text = resources.files("solver").joinpath("schema/rig-v1.schema.json").read_text(encoding="utf-8")
+    schema = json.loads(text)
+    cls = jsonschema.Draft202012Validator
+    cls.check_schema(schema)
+    return cls(schema)
+
+
+def schema() -> dict[str, Any]:
+    """The JSON Schema (draft 2020-12) of a version-1 rig file."""
+    return _validator().schema
+
+
+_NOUNS = {"points": "point", "ropes": "rope", "path": "pass", "materials": "material",
+          "hardware": "hardware spec", "forces": "force", "features": "site feature", "image": "site image",
+          "stretch": "stretch point"}
+_TYPE_WORDS = {"number": "a number", "integer": "a whole number", "string": "text in double quotes",
+               "array": "a list [...]", "object": "an object {...}", "boolean": "true or false", "null": "null"}
+
+
+def _noun_for(path: Sequence[Any]) -> str:
+    for part in reversed(path):
+        if isinstance(part, str):
+            return _NOUNS.get(part, part)
+    return "rig file"
+
+
+def _check_schema(d: dict[str, Any]) -> None:
+    from jsonschema.exceptions import best_match
+
+    errors = list(_validator().iter_errors(d))
+    if not errors:
+        return
+    err = best_match(errors)
+    where, message = _translate(err)
+    if len(errors) > 1:
+        more = len(errors) - 1
+        message += f" (and {more} more problem{'s' if more > 1 else ''} after this one is fixed)"
+    raise RigFileError(message, where=where)
+
+
+def _translate(err: Any) -> tuple[str, str]:
+    """A jsonschema error as (field path, message in a rigger's words)."""
+    path = list(err.absolute_path)
+    kw = err.validator
+    val = err.validator_value
+    inst = err.instance
+    where = _where(path)
+    if kw == "type":
+        wanted = [val] if isinstance(val, str) else list(val)
+        words = " or ".join(_TYPE_WORDS.get(w, w) for w in wanted)
+        msg = f"must be {words}, got {_show(inst)}"
+        if "number" in wanted and isinstance(inst, str):
+            fixed = inst.strip().replace(",", ".", 1) if inst.count(",") == 1 else inst.strip()
+            try:
+                num = float(fixed)
+            except ValueError:
+                pass
+            else:
+                if math.isfinite(num):
+                    msg += f" (write {fixed} with a decimal point and no quotes)"
+        return where, msg
+    if kw == "required":
+        missing = [k for k in val if isinstance(inst, dict) and k not in inst]
+        key = missing[0] if missing else val[0]
+        noun = _noun_for(path)
+        needs = ", ".join(val[:-1]) + f" and {val[-1]}" if len(val) > 1 else val[0]
+        return _where(path + [key]), f"is missing (every {noun} needs {needs})"
+    if kw == "enum":
+        choices = ", ".join(_show(c) for c in val)
+        return where, f"must be one of {choices}; got {_show(inst)}"
+    if kw == "const":
+        return where, f"must be {_show(val)}, got {_show(inst)}"
+    if kw == "minimum":
+        return where, f"must be at least {val:g}, got {_show(inst)}"
+    if kw == "exclusiveMinimum":
+        return where, f"must be more than {val:g}, got {_show(inst)}"
+    if kw == "maximum":
+        return where, f"must be at most {val:g}, got {_show(inst)}"
+    if kw == "exclusiveMaximum":
+        return where, f"must be less than {val:g}, got {_show(inst)}"
+    if kw in ("minItems", "maxItems", "items") and _is_pair_schema(err):
+        return where, f"must be a pair of numbers [x, y], got {_show(inst)}"
+    if kw == "minItems":
+        if path and path[-1] == "path":
+            return where, (f"a rope needs at least {val} passes (where it starts and where it ends); "
+                           f"this one has {len(inst)}")
+        item = _NOUNS.get(str(path[-1]), "item") if path else "item"
+        return where, f"needs at least {val} {item}{'s' if val != 1 else ''}, has {len(inst)}"
+    if kw == "minLength":
+        return where, "must not be empty"
+    return where, f"is not valid here ({_show(inst)})"
+
+
+def _is_pair_schema(err: Any) -> bool:
+    sch = err.schema if isinstance(err.schema, dict) else {}
+    return "prefixItems" in sch or sch is False
+
+
+# --------------------------------------------------------------------------------------
+# Building the dataclasses
+
+
+def _from_simple(d: dict[str, Any], spec: _Spec, where: str, strict: bool) -> tuple[dict[str, Any], dict[str, Any]]:
+    """kwargs for a dataclass from a checked dict, and its unknown keys (``extra``)."""
+    kwargs: dict[str, Any] = {}
+    for key, kind, _default in spec:
+        if key in d:
+            kwargs[key] = _convert(d[key], kind)
+    known = {k for k, _, _ in spec}
+    extra = {k: v for k, v in d.items() if k not in known}
+    if strict and extra:
+        key = next(iter(extra))
+        raise RigFileError(f'unknown field "{key}" (strict mode allows only the fields of rig-format.md)',
+                           where=f"{where}.{key}")
+    kwargs["extra"] = extra
+    return kwargs, extra
+
+
+def _convert(value: Any, kind: str) -> Any:
+    if kind == "float":
+        return float(value)
+    if kind == "int":
+        return int(value)
+    if kind == "bool":
+        return bool(value)
+    if kind == "pair":
+        return (float(value[0]), float(value[1]))
+    if kind == "pairs":
+        return tuple((float(a), float(b)) for a, b in value)
+    return value
+
+
+def _make(cls: type, d: dict[str, Any], spec: _Spec, where: str, strict: bool, **more: Any) -> Any:
+    kwargs, _ = _from_simple(d, spec, where, strict)
+    kwargs.update(more)
+    return _remember(cls(**kwargs), d.keys())
+
+
+def _build_rig(d: dict[str, Any], strict: bool) -> m.Rig:
+    kw: dict[str, Any] = {}
+    if "display" in d:
+        kw["display"] = _make(m.Display, d["display"], _DISPLAY, "display", strict)
+    if "settings" in d:
+        kw["settings"] = _make(m.Settings, d["settings"], _SETTINGS, "settings", strict)
+    if "site" in d:
+        kw["site"] = _build_site(d["site"], strict)
+    for key in ("view", "title", "notes"):
+        if key in d:
+            kw[key] = d[key]
+    kw["materials"] = tuple(_make(m.Material, x, _MATERIAL, f"materials[{i}]", strict)
+                            for i, x in enumerate(d.get("materials", ())))
+    kw["hardware"] = tuple(_make(m.Hardware, x, _HARDWARE, f"hardware[{i}]", strict)
+                           for i, x in enumerate(d.get("hardware", ())))
+    kw["points"] = tuple(_make(m.Point, x, _POINT, f"points[{i}]", strict) for i, x in enumerate(d["points"]))
+    kw["forces"] = tuple(_make(m.Force, x, _FORCE, f"forces[{i}]", strict)
+                         for i, x in enumerate(d.get("forces", ())))
+    kw["ropes"] = tuple(_build_rope(x, f"ropes[{i}]", strict) for i, x in enumerate(d["ropes"]))
+    kw["extra"] = {k: v for k, v in d.items() if k not in _TOP_KEYS}
+    return _remember(m.Rig(**kw), d.keys())
+
+
+def _build_site(d: dict[str, Any], strict: bool) -> m.Site:
+    kw: dict[str, Any] = {}
+    if "image" in d:
+        kw["image"] = _make(m.SiteImage, d["image"], _IMAGE, "site.image", strict)
+    kw["features"] = tuple(_make(m.Feature, x, _FEATURE, f"site.features[{i}]", strict)
+                           for i, x in enumerate(d.get("features", ())))
+    extra = {k: v for k, v in d.items() if k not in _SITE_KEYS}
+    if strict and extra:
+        key = next(iter(extra))
+        raise RigFileError(f'unknown field "{key}" (strict mode allows only the fields of rig-format.md)',
+                           where=f"site.{key}")
+    return _remember(m.Site(extra=extra, **kw), d.keys())
+
+
+def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
+    path = tuple(_make(m.Pass, x, _PASS, f"{where}.path[{j}]", strict) for j, x in enumerate(d["path"]))
+    more: dict[str, Any] = {"path": path}
+    if "rigged" in d:
+        rg = d["rigged"]
+        if "slack_m" in rg and "pretension_N" in rg:
+            raise RigFileError("give slack_m or pretension_N, not both: a run is either hand-tight plus slack, "
+                               "or tensioned", where=f"{where}.rigged")
+        more["rigged"] = _make(m.Rigging, rg, _RIGGING, f"{where}.rigged", strict)
+    kwargs, _ = _from_simple({k: v for k, v in d.items() if k not in ("path", "rigged")}, _ROPE, where, strict)
+    kwargs.update(more)
+    return _remember(m.Rope(**kwargs), d.keys())
+
+
+# --------------------------------------------------------------------------------------
+# Writing the dataclasses
+
+
+def _to_simple(obj: Any, spec: _Spec) -> dict[str, Any]:
+    pres = _present(obj)
+    out: dict[str, Any] = {}
+    for key, kind, default in spec:
+        value = getattr(obj, key)
+        if default is _REQUIRED or key in pres or value != default:
+            if value is None and default is not _REQUIRED:
+                continue  # optional and unset: JSON has no "unset", leave the key out
+            out[key] = _encode(value, kind)
+    _write_extra(out, obj.extra, spec)
+    return out
+
+
+def _write_extra(out: dict[str, Any], extra: Mapping[str, Any], spec: _Spec | Sequence[str] = ()) -> None:
+    known = {s[0] if isinstance(s, tuple) else s for s in spec}
+    for key, value in extra.items():
+        if key not in out and key not in known:
+            out[key] = value
+
+
+def _encode(value: Any, kind: str) -> Any:
+    if kind == "float":
+        return float(value)
+    if kind == "int":
+        return int(value)
+    if kind == "bool":
+        return bool(value)
+    if kind == "pair":
+        return [float(value[0]), float(value[1])]
+    if kind == "pairs":
+        return [[float(a), float(b)] for a, b in value]
+    return str(value)
+
+
+def _site_to(site: m.Site) -> dict[str, Any]:
+    pres = _present(site)
+    out: dict[str, Any] = {}
+    if site.image is not None:
+        out["image"] = _to_simple(site.image, _IMAGE)
+    if "features" in pres or site.features:
+        out["features"] = [_to_simple(f, _FEATURE) for f in site.features]
+    _write_extra(out, site.extra, _SITE_KEYS)
+    return out
+
+
+def _rope_to(rope: m.Rope) -> dict[str, Any]:
+    pres = _present(rope)
+    out: dict[str, Any] = {"id": str(rope.id), "material": str(rope.material)}
+    if "label" in pres or rope.label:
+        out["label"] = str(rope.label)
+    if "rigged" in pres or rope.rigged != m.Rigging():
+        out["rigged"] = _to_simple(rope.rigged, _RIGGING)
+    out["path"] = [_to_simple(ps, _PASS) for ps in rope.path]
+    _write_extra(out, rope.extra, ("id", "material", "label", "rigged", "path"))
+    return out
+
+
+# --------------------------------------------------------------------------------------
+# Cross-checks on the built Rig
+
+
+def _library() -> tuple[Mapping[str, m.Material], Mapping[str, m.Hardware]] | None:
+    """The built-in spec library, or None while ``solver.materials`` does not exist yet."""
+    try:
+        from solver import materials
+    except ModuleNotFoundError as exc:
+        if exc.name in ("solver.materials",):
+            return None
+        raise
+    return materials.LIBRARY_MATERIALS, materials.LIBRARY_HARDWARE
+
+
+def _material(rig: m.Rig, mat_id: str) -> m.Material | None | bool:
+    """The spec (embedded first, then library); True if only known by id; None if unknown."""
+    found = rig.embedded_material(mat_id)
+    if found is not None:
+        return found
+    lib = _library()
+    if lib is None:
+        return True if mat_id in LIBRARY_MATERIAL_IDS else None
+    return lib[0].get(mat_id)
+
+
+def _hardware(rig: m.Rig, hw_id: str) -> m.Hardware | None | bool:
+    found = rig.embedded_hardware(hw_id)
+    if found is not None:
+        return found
+    lib = _library()
+    if lib is None:
+        return True if hw_id in LIBRARY_HARDWARE_IDS else None
+    return lib[1].get(hw_id)
+
+
+def check_rig(rig: m.Rig, base_dir: str | os.PathLike[str] | None = None) -> None:
+    """Raise RigFileError for what a schema cannot see: ids, references, path rules, specs, image."""
+    _check_semantics(rig, base_dir)
+
+
+def _unique(items: Sequence[Any], where: str) -> None:
+    seen: dict[str, int] = {}
+    for i, item in enumerate(items):
+        if item.id in seen:
+            raise RigFileError(f'id "{item.id}" is used twice in this list (also {where}[{seen[item.id]}]); '
+                               "each id must be unique", where=f"{where}[{i}].id")
+        seen[item.id] = i
+
+
+def _check_coordinate(value: float, where: str) -> None:
+    if abs(value) > MAX_COORDINATE_M:
+        raise RigFileError(f"{value:g} m is more than {MAX_COORDINATE_M / 1000:g} km from the site origin; "
+                           "is the unit right?", where=where)
+
+
+def _check_semantics(rig: m.Rig, base_dir: str | os.PathLike[str] | None) -> None:
+    _unique(rig.points, "points")
+    _unique(rig.ropes, "ropes")
+    _unique(rig.materials, "materials")
+    _unique(rig.hardware, "hardware")
+    _unique(rig.site.features, "site.features")
+    points = {p.id: p for p in rig.points}
+    for i, p in enumerate(rig.points):
+        _check_coordinate(p.x, f"points[{i}].x")
+        _check_coordinate(p.y, f"points[{i}].y")
+    for i, f in enumerate(rig.forces):
+        if f.at not in points:
+            raise RigFileError(f'point "{f.at}" does not exist', where=f"forces[{i}].at")
+    problems = _spec_problem_functions()
+    for i, mat in enumerate(rig.materials):
+        if problems is not None:
+            _raise_problem(problems[0](mat), f"materials[{i}]")
+        _check_stretch(mat, f"materials[{i}]")
+    for i, hw in enumerate(rig.hardware):
+        if problems is not None:
+            _raise_problem(problems[1](hw), f"hardware[{i}]")
+    for i, rope in enumerate(rig.ropes):
+        _check_rope(rig, rope, points, f"ropes[{i}]")
+    _check_site(rig.site, base_dir)
+
+
+def _spec_problem_functions() -> tuple[Callable[[Any], Any], Callable[[Any], Any]] | None:
+    """The library's own spec checks (one set of rules for shipped and embedded specs), if present."""
+    if _library() is None:
+        return None
+    from solver import materials
+
+    return materials.material_problem, materials.hardware_problem
+
+
+def _raise_problem(problem: tuple[str, str] | None, where: str) -> None:
+    if problem is not None:
+        field, message = problem
+        raise RigFileError(message, where=f"{where}.{field}" if field else where)
+
+
+def _check_stretch(mat: m.Material, where: str) -> None:
+    prev_t, prev_e = 0.0, 0.0
+    for k, (t, e) in enumerate(mat.stretch):
+        if k == 0 and (t <= 0 or e <= 0):
+            raise RigFileError(f"the stretch table must start after (0, 0) with a positive tension and strain, "
+                               f"got [{t:g}, {e:g}]", where=f"{where}.stretch[0]")
+        if t <= prev_t:
+            raise RigFileError(f"tension must increase down the stretch table ({t:g} N after {prev_t:g} N)",
+                               where=f"{where}.stretch[{k}]")
+        if e <= prev_e:
+            raise RigFileError(f"strain must increase down the stretch table ({e:g} after {prev_e:g})",
+                               where=f"{where}.stretch[{k}]")
+        prev_t, prev_e = t, e
+
+
+def _check_rope(rig: m.Rig, rope: m.Rope, points: Mapping[str, m.Point], where: str) -> None:
+    path = rope.path
+    n = len(path)
+    if n < 2:
+        raise RigFileError(f"a rope needs at least 2 passes (where it starts and where it ends); this one has {n}",
+                           where=f"{where}.path")
+    if _material(rig, rope.material) is None:
+        raise RigFileError(f'material "{rope.material}" is neither in this file\'s materials nor in the '
+                           "built-in library", where=f"{where}.material")
+    rg = rope.rigged
+    if rg.slack_m < 0:
+        raise RigFileError(f"slack must be 0 or more, got {rg.slack_m:g} m", where=f"{where}.rigged.slack_m")
+    if rg.pretension_N is not None and rg.pretension_N <= 0:
+        raise RigFileError(f"pretension must be more than 0, got {rg.pretension_N:g} N",
+                           where=f"{where}.rigged.pretension_N")
+    if rg.pretension_N is not None and rg.slack_m != 0:
+        raise RigFileError("give slack_m or pretension_N, not both", where=f"{where}.rigged")
+    for j, ps in enumerate(path):
+        here = f"{where}.path[{j}]"
+        if ps.at not in points:
+            raise RigFileError(f'point "{ps.at}" does not exist', where=here)
+        if points[ps.at].kind == "person":
+            raise RigFileError(f'"{ps.at}" marks a person, not part of the rig; a rope cannot pass there',
+                               where=here)
+        if j > 0 and path[j - 1].at == ps.at:
+            raise RigFileError(f'passes point "{ps.at}" twice in a row (path[{j - 1}] is there too)', where=here)
+        if j == 0 and ps.how != "tied":
+            raise RigFileError(f'a rope must start tied (knot or rope grab), not "{ps.how}"', where=f"{here}.how")
+        if ps.how == "hauled" and j != n - 1:
+            raise RigFileError('only the last pass can be "hauled" (the end the haul team pulls)',
+                               where=f"{here}.how")
+        if j == n - 1 and ps.how not in ("tied", "hauled"):
+            raise RigFileError(f'a rope must end tied or hauled, not "{ps.how}"', where=f"{here}.how")
+        if ps.how not in m.PASS_HOWS:
+            raise RigFileError(f'unknown pass kind "{ps.how}"', where=f"{here}.how")
+        _check_pass_hardware(rig, ps, f"{here}.hardware")
+
+
+def _check_pass_hardware(rig: m.Rig, ps: m.Pass, where: str) -> None:
+    if ps.how in ("pulley", "edge") and not ps.hardware:
+        what = "which pulley or carabiner" if ps.how == "pulley" else "which edge (rock, concrete, ...)"
+        raise RigFileError(f"a {ps.how} pass must name its hardware ({what})", where=where)
+    if not ps.hardware:
+        return
+    hw = _hardware(rig, ps.hardware)
+    if hw is None:
+        raise RigFileError(f'hardware "{ps.hardware}" is neither in this file\'s hardware nor in the built-in '
+                           "library", where=where)
+    if not isinstance(hw, m.Hardware):
+        return  # library id while the library module is not available: kind unknown
+    if ps.how == "edge" and hw.kind != "edge":
+        raise RigFileError(f'"{hw.id}" is a {hw.kind}; an edge pass needs an edge spec', where=where)
+    if ps.how == "pulley" and hw.kind == "edge":
+        raise RigFileError(f'"{hw.id}" is an edge; a pulley pass needs a pulley, carabiner or ring', where=where)
+    if ps.how == "pulley" and hw.efficiency is None:
+        raise RigFileError(f'"{hw.id}" has no efficiency, so it cannot be used as a pulley', where=where)
+    if ps.how == "edge" and hw.friction_coefficient is None:
+        raise RigFileError(f'"{hw.id}" has no friction_coefficient, so it cannot be used as an edge', where=where)
+
+
+def _check_site(site: m.Site, base_dir: str | os.PathLike[str] | None) -> None:
+    for i, feat in enumerate(site.features):
+        here = f"site.features[{i}]"
+        if feat.polygon is not None and feat.line is not None:
+            raise RigFileError("give a polygon or a line, not both", where=here)
+        if feat.polygon is None and feat.line is None:
+            raise RigFileError("needs a polygon or a line to draw", where=here)
+        if feat.line is not None and len(feat.line) < 2 and feat.kind != "note":
+            raise RigFileError(f"a line needs at least 2 points, has {len(feat.line)}", where=f"{here}.line")
+        if feat.polygon is not None and len(feat.polygon) < 3:
+            raise RigFileError(f"a polygon needs at least 3 points, has {len(feat.polygon)}",
+                               where=f"{here}.polygon")
+        for key in ("polygon", "line"):
+            for k, (x, y) in enumerate(getattr(feat, key) or ()):
+                _check_coordinate(x, f"{here}.{key}[{k}][0]")
+                _check_coordinate(y, f"{here}.{key}[{k}][1]")
+    img = site.image
+    if img is None:
+        return
+    if img.file is not None and img.data_base64 is not None:
+        raise RigFileError("give the image as file or as data_base64, not both", where="site.image")
+    if img.file is None and img.data_base64 is None:
+        raise RigFileError("needs file (a picture beside the rig file) or data_base64 (embedded)",
+                           where="site.image")
+    if img.file is not None:
+        _check_image_file(img.file, base_dir)
+    if img.data_base64 is not None:
+        try:
+            data = base64.b64decode("".join(img.data_base64.split()), validate=True)
+        except (binascii.Error, ValueError):
+            raise RigFileError("the embedded image is not valid base64 data", where="site.image.data_base64") \
+                from None
+        if not data:
+            raise RigFileError("the embedded image is empty", where="site.image.data_base64")
+    if not img.metres_per_pixel > 0:
+        raise RigFileError(f"must be more than 0, got {img.metres_per_pixel:g}", where="site.image.metres_per_pixel")
+    _check_coordinate(img.origin[0], "site.image.origin[0]")
+    _check_coordinate(img.origin[1], "site.image.origin[1]")
+
+
+def _check_image_file(name: str, base_dir: str | os.PathLike[str] | None) -> None:
+    """``site.image.file`` must be a relative path that stays inside the rig file's folder."""
+    where = "site.image.file"
+    if not name or "\x00" in name:
+        raise RigFileError("is not a usable file name", where=where)
+    if posixpath.isabs(name) or ntpath.isabs(name) or ntpath.splitdrive(name)[0] or name.startswith(("/", "\\")):
+        raise RigFileError(f'"{name}" is an absolute path; the image must be named relative to the rig file '
+                           "and sit in its folder (or below)", where=where)
+    parts = name.replace("\\", "/").split("/")
+    if ".." in parts:
+        raise RigFileError(f'"{name}" leaves the rig file\'s folder (".."); the image must sit in that folder '
+                           "or below it", where=where)
+    if base_dir is not None:
+        base = pathlib.Path(base_dir).resolve()
+        target = (base / name.replace("\\", "/")).resolve()
+        if target != base and base not in target.parents:
+            raise RigFileError(f'"{name}" leads outside the rig file\'s folder (through a link)', where=where)
+
+
+def _fsync_folder(folder: pathlib.Path) -> None:
+    """Make the rename durable (POSIX); harmless where folders cannot be opened."""
+    try:
+        fd = os.open(folder, os.O_RDONLY)
+    except OSError:
+        return
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass
+    finally:
+        os.close(fd)
+
+
+__all__ = [
+    "FORMAT", "VERSION", "MAX_FILE_BYTES", "load_rig", "loads_rig", "rig_from_dict", "rig_to_dict",
+    "dumps_rig", "save_rig", "migrate", "embed_specs", "check_rig", "schema", "RigFileError",
+]
