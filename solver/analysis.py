@@ -1,0 +1,55 @@
+"""Solve a rig and run its safety checks: the one call the app, the CLI and reports use.
+
+``analyse(rig)`` = :func:`solver.equilibrium.solve` + :func:`solver.checks.run_checks`,
+returning a new frozen :class:`Result` whose ``warnings`` are the solver's own first,
+then the checks' (a finding with the same code, subject and message is kept once).
+It never raises for a bad rig: a failed solve keeps its status and message, and only
+the checks on the drawn geometry run.
+"""
+
+from __future__ import annotations
+
+import logging
+from dataclasses import replace
+from typing import Mapping
+
+from solver.checks import run_checks
+from solver.errors import RigModelError, RopewrightError
+from solver.model import Rig
+from solver.result import Result, Warning_
+
+log = logging.getLogger(__name__)
+
+
+def merge_warnings(first: tuple[Warning_, ...], then: tuple[Warning_, ...]) -> tuple[Warning_, ...]:
+    """``first`` then ``then``, dropping repeats of the same (code, subject, message)."""
+    seen: set[tuple[str, str, str]] = set()
+    out: list[Warning_] = []
+    for w in (*first, *then):
+        key = (w.code, w.subject, w.message)
+        if key not in seen:
+            seen.add(key)
+            out.append(w)
+    return tuple(out)
+
+
+def analyse(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None) -> Result:
+    """Equilibrium of ``rig`` (warm-started from ``start`` if given) with every safety finding merged in."""
+    from solver.equilibrium import solve
+
+    try:
+        result = solve(rig, start=start)
+    except RopewrightError as exc:  # solve promises not to raise; keep that promise for callers anyway
+        subject = exc.subject if isinstance(exc, RigModelError) else ""
+        result = Result(status="invalid", message=exc.message, subject=subject)
+    except Exception as exc:  # noqa: BLE001 - a bug must not take the user's drawing down with it
+        log.exception("solver crashed on rig %r", rig.title)
+        result = Result(status="diverged", message=f"The solver failed unexpectedly ({type(exc).__name__}); "
+                                                   f"the rig could not be checked.")
+    try:
+        found = run_checks(rig, result)
+    except Exception as exc:  # noqa: BLE001 - say so loudly rather than show an unchecked rig as safe
+        log.exception("safety checks crashed on rig %r", rig.title)
+        found = (Warning_("checks-failed", "", f"The safety checks could not run ({type(exc).__name__}): "
+                                               f"treat this rig as unchecked.", "danger"),)
+    return replace(result, warnings=merge_warnings(tuple(result.warnings), found))

@@ -1,0 +1,626 @@
+"""Safety checks on a solved rig: named warnings a rigger reads, with numbers in the rig's units.
+
+``run_checks(rig, result)`` looks at a :class:`Result` and the rig it came from and
+returns :class:`Warning_` findings.  Each has a short stable ``code`` (see ``CODES``),
+the id(s) it is about in ``subject`` (several joined with ``,``), a plain message and
+a severity (``info``, ``warning``, ``danger``).  Forces are newtons inside and shown in
+``rig.display.force``; the chosen safety factor is ``rig.settings.min_safety_factor``.
+
+Rules (sources in the tests that hold them):
+
+* Margins: a component with strength S carrying F is ``*-over`` (danger) when F > S and
+  ``*-margin`` (warning) when F x SF > S.  Anchors use their resultant; in ``hold``, the
+  high end of ``hold_anchor_range`` when the solver gives it.  Rope pieces use their
+  tension against the material's MBS.  Hardware at a pass carries the vector sum of the
+  two legs there (redirect resultant R = 2T cos(alpha/2) when the legs are equal).
+* ``wide-anchor``: a free point held by exactly two legs running to anchors (tied or
+  sliding there: a master point, an equalising sling) whose included angle exceeds
+  120 deg -- ASME B30.9 does not recommend more.  Message gives the leg force factor
+  1 / (2 cos(alpha/2)) (each leg's share of the resultant for symmetric legs).
+* ``abrasion``: a rope piece crossing a ``boulder`` or ``hazard`` feature, other than the
+  stretch of that crossing which touches an ``edge`` pass (protected, modelled edge) or an
+  anchor standing on the feature (the anchor's own wrap).
+* ``overpull``: potential force at the load = haul force x ideal MA (what the team could
+  deliver if friction vanished, e.g. the moment the load breaks free).  Limit, first that
+  applies: ``settings.overpull_limit_N``; else the least of ``OVERPULL_FACTOR`` x the
+  load's ``required_N`` (common practice, no source) and the working strength
+  (MBS / SF) of the weakest rope or hardware attached at the load.  Haul motion only.
+* ``load-stuck``: in ``haul``, force delivered < ``required_N``; haulers needed =
+  ceil(required / (actual MA x force per hauler)).
+* ``two-blocked``: a piece with a free end shorter than the hardware size there plus
+  ``TWO_BLOCK_TOL_M``: the system has run out of throw.
+* ``person-in-zone``: a ``person`` or ``haul`` point strictly inside a danger zone
+  (:mod:`solver.danger`).  A haul team is not warned about the recoil band of the rope
+  piece ending at its own point -- they hold that end by definition -- but is warned
+  about every other zone.
+
+When the result is not ``ok`` only the checks on the drawn geometry run (abrasion,
+wide anchor angle, unrated anchors); one ``checks-skipped`` info says so.
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+from typing import Callable, Iterable
+
+import numpy as np
+from shapely.geometry import LineString, Point as ShPoint, Polygon
+from shapely.geometry.base import BaseGeometry
+
+from solver.danger import DangerZone, Piece, danger_zones, pieces, positions
+from solver.errors import RopewrightError
+from solver.model import Hardware, Material, Rig
+from solver.result import Result, Warning_
+
+log = logging.getLogger(__name__)
+
+#: Every code run_checks can produce, with its meaning (reports and the legend use this).
+CODES: dict[str, str] = {
+    "anchor-over": "an anchor's resultant exceeds its rated capacity",
+    "anchor-margin": "an anchor's resultant times the safety factor exceeds its capacity",
+    "anchor-unrated": "a loaded anchor has no capacity entered, so its margin is unknown",
+    "rope-over": "a rope, sling or cord piece carries more than its MBS",
+    "rope-margin": "a rope, sling or cord piece is below the chosen safety factor",
+    "hardware-over": "a pulley, carabiner, ring or edge carries more than its MBS",
+    "hardware-margin": "a pulley, carabiner, ring or edge is below the chosen safety factor",
+    "spec-unknown": "a rope or hardware spec is missing, so its margin cannot be checked",
+    "wide-anchor": "two anchor legs meet at more than 120 degrees (ASME B30.9)",
+    "slack-run": "a run of rope carries no load",
+    "abrasion": "a rope piece crosses a boulder or hazard without a modelled edge",
+    "overpull": "the haul team could pull harder on the load than the set limit",
+    "load-stuck": "the force delivered to the load is below the force needed to free it",
+    "two-blocked": "two passes have come together: the system is out of throw",
+    "person-in-zone": "a person or haul team stands in a bight or recoil zone",
+    "checks-skipped": "the rig did not solve, so force checks were skipped",
+    "checks-failed": "the checks themselves crashed (analyse): treat the rig as unchecked",
+}
+
+#: Overpull limit as a multiple of the load's required_N. Common practice, no source.
+OVERPULL_FACTOR = 2.0
+#: Included angle above which a two-leg anchor is warned about (degrees) -- ASME B30.9.
+WIDE_ANCHOR_DEG = 120.0
+#: Two passes closer than the hardware size plus this (m) are two-blocked.
+TWO_BLOCK_TOL_M = 0.02
+#: A run whose pieces all carry no more than this (N) is slack.
+SLACK_MAX_N = 0.5
+#: Length of a crossing (m) below which it is a graze at a shared corner, not abrasion.
+ABRASION_MIN_M = 0.01
+#: Distance (m) within which an anchor or edge pass counts as standing on a feature.
+ON_FEATURE_TOL_M = 0.5
+#: Feature kinds a rope must not run over without an edge.
+ABRASIVE_KINDS = frozenset({"boulder", "hazard"})
+
+
+# --- formatting and specs ------------------------------------------------------------------
+
+
+def _force(rig: Rig, newtons: float) -> str:
+    from solver.units import format_force
+
+    return format_force(newtons, rig.display.force)
+
+
+def _length(rig: Rig, metres: float) -> str:
+    from solver.units import format_length
+
+    return format_length(metres, rig.display.length)
+
+
+def _name(rig: Rig, point_id: str) -> str:
+    try:
+        return rig.point(point_id).name
+    except KeyError:
+        return point_id
+
+
+def _material(rig: Rig, mat_id: str) -> Material | None:
+    """The material spec (embedded first, then the library), or None if unknown."""
+    emb = rig.embedded_material(mat_id)
+    if emb is not None:
+        return emb
+    try:
+        from solver.materials import material_for
+    except ImportError:  # library not available: embedded specs only
+        return None
+    try:
+        return material_for(rig, mat_id)
+    except RopewrightError:
+        return None
+
+
+def _hardware(rig: Rig, hw_id: str) -> Hardware | None:
+    """The hardware spec (embedded first, then the library), or None if unknown."""
+    emb = rig.embedded_hardware(hw_id)
+    if emb is not None:
+        return emb
+    try:
+        from solver.materials import hardware_for
+    except ImportError:
+        return None
+    try:
+        return hardware_for(rig, hw_id)
+    except RopewrightError:
+        return None
+
+
+def _sf(rig: Rig) -> float:
+    return float(rig.settings.min_safety_factor)
+
+
+def _margin(rig: Rig, force: float, strength: float) -> str | None:
+    """``"over"`` when force > strength, ``"margin"`` when force x SF > strength, else None."""
+    if force > strength:
+        return "over"
+    if force * _sf(rig) > strength:
+        return "margin"
+    return None
+
+
+# --- the checks ----------------------------------------------------------------------------
+
+
+def check_anchors(rig: Rig, result: Result) -> list[Warning_]:
+    """Anchor resultant against capacity (hold: the high end of static friction's range)."""
+    out: list[Warning_] = []
+    sf = _sf(rig)
+    for p in rig.points_of_kind("anchor"):
+        ar = result.anchors.get(p.id)
+        if ar is None:
+            continue
+        force = float(ar.force_N)
+        held = ""
+        rng = result.hold_anchor_range.get(p.id)
+        if rng is not None and rng.high > force:
+            force = float(rng.high)
+            held = " (highest value static friction allows while holding)"
+        if force <= 0.0:
+            continue
+        cap = p.capacity_N
+        if cap is None:
+            out.append(Warning_(
+                "anchor-unrated", p.id,
+                f"{p.name} takes {_force(rig, force)}{held} but has no capacity entered; "
+                f"it needs at least {_force(rig, force * sf)} for a {sf:g}:1 safety factor.",
+                "info"))
+            continue
+        m = _margin(rig, force, float(cap))
+        if m == "over":
+            out.append(Warning_(
+                "anchor-over", p.id,
+                f"{p.name} takes {_force(rig, force)}{held}, more than its capacity of {_force(rig, cap)}.",
+                "danger"))
+        elif m == "margin":
+            out.append(Warning_(
+                "anchor-margin", p.id,
+                f"{p.name} takes {_force(rig, force)}{held}: safety factor {cap / force:.1f}:1, "
+                f"below {sf:g}:1 (capacity {_force(rig, cap)}).",
+                "warning"))
+    return out
+
+
+def check_unrated_drawn(rig: Rig) -> list[Warning_]:
+    """Anchors used by a rope with no capacity entered (for rigs that did not solve)."""
+    used = {ps.at for r in rig.ropes for ps in r.path}
+    return [
+        Warning_("anchor-unrated", p.id, f"{p.name} has no capacity entered, so its margin cannot be checked.", "info")
+        for p in rig.points_of_kind("anchor")
+        if p.capacity_N is None and p.id in used
+    ]
+
+
+def check_ropes(rig: Rig, result: Result) -> list[Warning_]:
+    """Each rope piece's tension against its material's MBS; one warning per rope (its worst piece)."""
+    out: list[Warning_] = []
+    sf = _sf(rig)
+    worst: dict[str, Piece] = {}
+    for pc in pieces(rig, result):
+        if pc.tension_N is None:
+            continue
+        if pc.rope.id not in worst or pc.tension_N > (worst[pc.rope.id].tension_N or 0.0):
+            worst[pc.rope.id] = pc
+    for rope in rig.ropes:
+        pc = worst.get(rope.id)
+        if pc is None or not pc.loaded:
+            continue
+        t = float(pc.tension_N or 0.0)
+        mat = _material(rig, rope.material)
+        where = f"between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}"
+        if mat is None:
+            out.append(Warning_("spec-unknown", rope.id,
+                                f"{rope.name}: material '{rope.material}' is not known, so its margin is not checked.",
+                                "warning"))
+            continue
+        what = {"sling": "sling", "cord": "cord"}.get(mat.kind, "rope")
+        m = _margin(rig, t, float(mat.mbs_N))
+        if m == "over":
+            out.append(Warning_("rope-over", rope.id,
+                                f"{rope.name} ({what}) carries {_force(rig, t)} {where}, more than its "
+                                f"MBS of {_force(rig, mat.mbs_N)}.", "danger"))
+        elif m == "margin":
+            out.append(Warning_("rope-margin", rope.id,
+                                f"{rope.name} ({what}) carries {_force(rig, t)} {where}: safety factor "
+                                f"{mat.mbs_N / t:.1f}:1, below {sf:g}:1 (MBS {_force(rig, mat.mbs_N)}).", "warning"))
+    return out
+
+
+def pass_loads(rig: Rig, result: Result) -> list[tuple[str, int, str, float]]:
+    """Force (N) on the hardware at each pass that has hardware: (rope id, pass index, point id, |F|).
+
+    F is the vector sum of the pieces meeting there, each pulling toward its far end.
+    """
+    pos = positions(rig, result)
+    tens = {(s.rope, s.index): float(s.tension_N) for s in result.segments}
+    out = []
+    for rope in rig.ropes:
+        n = len(rope.path)
+        for k, ps in enumerate(rope.path):
+            if ps.hardware is None or ps.at not in pos:
+                continue
+            f = np.zeros(2)
+            here = np.asarray(pos[ps.at])
+            for piece, other in ((k - 1, k - 1), (k, k + 1)):
+                if not (0 <= other < n) or (rope.id, piece) not in tens:
+                    continue
+                far = rope.path[other].at
+                if far not in pos:
+                    continue
+                d = np.asarray(pos[far]) - here
+                nd = float(np.hypot(*d))
+                if nd > 0:
+                    f += tens[(rope.id, piece)] * d / nd
+            out.append((rope.id, k, ps.at, float(np.hypot(*f))))
+    return out
+
+
+def check_hardware(rig: Rig, result: Result) -> list[Warning_]:
+    """Each pass's hardware against its MBS, loaded by the vector sum of the legs there."""
+    out: list[Warning_] = []
+    sf = _sf(rig)
+    for rope_id, k, at, f in pass_loads(rig, result):
+        if f <= 0.0:
+            continue
+        rope = rig.rope(rope_id)
+        hw_id = rope.path[k].hardware or ""
+        hw = _hardware(rig, hw_id)
+        subject = f"{rope_id}@{at}"
+        if hw is None:
+            out.append(Warning_("spec-unknown", subject,
+                                f"Hardware '{hw_id}' on {rope.name} at {_name(rig, at)} is not known, "
+                                f"so its margin is not checked.", "warning"))
+            continue
+        if hw.mbs_N is None:
+            continue
+        m = _margin(rig, f, float(hw.mbs_N))
+        if m == "over":
+            out.append(Warning_("hardware-over", subject,
+                                f"{hw.name} on {rope.name} at {_name(rig, at)} takes {_force(rig, f)}, "
+                                f"more than its MBS of {_force(rig, hw.mbs_N)}.", "danger"))
+        elif m == "margin":
+            out.append(Warning_("hardware-margin", subject,
+                                f"{hw.name} on {rope.name} at {_name(rig, at)} takes {_force(rig, f)}: "
+                                f"safety factor {hw.mbs_N / f:.1f}:1, below {sf:g}:1 (MBS {_force(rig, hw.mbs_N)}).",
+                                "warning"))
+    return out
+
+
+def leg_force_factor(included_deg: float) -> float:
+    """Each leg's force over the resultant for two equal legs at ``included_deg``: 1 / (2 cos(alpha/2))."""
+    return 1.0 / (2.0 * math.cos(math.radians(included_deg) / 2.0))
+
+
+def two_leg_anchors(rig: Rig, result: Result | None) -> list[tuple[str, str, str, float]]:
+    """Free points held by exactly two legs to anchors: (point id, anchor 1, anchor 2, included angle deg)."""
+    pos = positions(rig, result)
+    kinds = {p.id: p.kind for p in rig.points}
+    legs: dict[str, list[tuple[str, Piece]]] = {}
+    for pc in pieces(rig, result):
+        for here, there, k in ((pc.a_id, pc.b_id, pc.index), (pc.b_id, pc.a_id, pc.index + 1)):
+            if kinds.get(there) != "anchor":
+                continue
+            pt = next((p for p in rig.points if p.id == here), None)
+            if pt is None or pt.is_fixed or not pt.is_structural:
+                continue
+            if pc.rope.path[k].how not in ("tied", "sliding"):
+                continue
+            legs.setdefault(here, []).append((there, pc))
+    out = []
+    for here, ls in legs.items():
+        if len(ls) != 2:
+            continue
+        (a1, _), (a2, _) = ls
+        p = np.asarray(pos[here])
+        d1, d2 = np.asarray(pos[a1]) - p, np.asarray(pos[a2]) - p
+        n1, n2 = float(np.hypot(*d1)), float(np.hypot(*d2))
+        if n1 == 0 or n2 == 0:
+            continue
+        ang = math.degrees(math.acos(float(np.clip(np.dot(d1, d2) / (n1 * n2), -1.0, 1.0))))
+        out.append((here, a1, a2, ang))
+    return out
+
+
+def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
+    """Two-leg anchors with an included angle over 120 degrees (ASME B30.9)."""
+    out = []
+    for here, a1, a2, ang in two_leg_anchors(rig, result):
+        if ang <= WIDE_ANCHOR_DEG:
+            continue
+        fac = leg_force_factor(ang) if ang < 179.999 else float("inf")
+        fac_txt = f"{fac:.2f}" if math.isfinite(fac) else "an unbounded multiple of"
+        out.append(Warning_(
+            "wide-anchor", f"{here},{a1},{a2}",
+            f"The legs from {_name(rig, here)} to {_name(rig, a1)} and {_name(rig, a2)} spread {ang:.0f}°, "
+            f"over the {WIDE_ANCHOR_DEG:.0f}° ASME B30.9 recommends: each leg carries {fac_txt} × the load "
+            f"on {_name(rig, here)} (1.00 at 120°, 0.58 at 60°). Bring the anchors closer together or "
+            f"move {_name(rig, here)} away from them.",
+            "warning"))
+    return out
+
+
+def check_slack(rig: Rig, result: Result) -> list[Warning_]:
+    """Runs whose pieces all carry (practically) nothing."""
+    out = []
+    tens = {(s.rope, s.index): float(s.tension_N) for s in result.segments}
+    for rope in rig.ropes:
+        for run in rope.runs():
+            ts = [tens.get((rope.id, i)) for i in run.piece_indices]
+            if not ts or any(t is None for t in ts):
+                continue
+            if max(ts) <= SLACK_MAX_N:
+                a, b = rope.path[run.first].at, rope.path[run.last].at
+                out.append(Warning_(
+                    "slack-run", rope.id,
+                    f"{rope.name} is slack between {_name(rig, a)} and {_name(rig, b)}: it carries no load "
+                    f"and would shock-load when it comes tight.",
+                    "warning"))
+    return out
+
+
+def _feature_geometry(coords, is_polygon: bool) -> BaseGeometry | None:
+    try:
+        g = Polygon(coords) if is_polygon else LineString(coords)
+    except (ValueError, TypeError):
+        return None
+    if is_polygon and not g.is_valid:
+        g = g.buffer(0)
+    return None if g.is_empty else g
+
+
+def abrasion_crossings(rig: Rig, result: Result | None) -> list[tuple[Piece, str, float]]:
+    """(piece, feature id, unprotected crossing length m) for pieces over boulder/hazard features."""
+    pos = positions(rig, result)
+    feats = []
+    for f in rig.site.features:
+        if f.kind not in ABRASIVE_KINDS:
+            continue
+        g = _feature_geometry(f.polygon or f.line or (), f.polygon is not None)
+        if g is not None:
+            feats.append((f, g))
+    if not feats:
+        return []
+    kinds = {p.id: p.kind for p in rig.points}
+    out = []
+    for pc in pieces(rig, result):
+        if pc.length_m == 0:
+            continue
+        line = LineString([pc.a, pc.b])
+        for f, g in feats:
+            inter = line.intersection(g)
+            if inter.is_empty:
+                continue
+            # The stretch touching a protected end does not count: an edge pass on the
+            # feature, or an anchor standing on it (its own wrap).
+            parts = list(getattr(inter, "geoms", [inter]))
+            ends = []
+            for pid, k in ((pc.a_id, pc.index), (pc.b_id, pc.index + 1)):
+                on = g.distance(ShPoint(pos[pid])) <= ON_FEATURE_TOL_M
+                if on and (pc.rope.path[k].how == "edge" or kinds.get(pid) == "anchor"):
+                    ends.append(ShPoint(pos[pid]))
+            length = 0.0
+            crossing = False
+            for part in parts:
+                if any(part.distance(e) <= ON_FEATURE_TOL_M for e in ends):
+                    continue
+                if part.geom_type in ("LineString", "MultiLineString"):
+                    length += part.length
+                    crossing = crossing or part.length > ABRASION_MIN_M
+                else:  # a line feature crossed at a point
+                    crossing = True
+            if crossing:
+                out.append((pc, f.id, length))
+    return out
+
+
+def check_abrasion(rig: Rig, result: Result | None) -> list[Warning_]:
+    """Rope pieces over boulders or hazards with no edge pass there."""
+    out = []
+    feats = {f.id: f for f in rig.site.features}
+    for pc, fid, length in abrasion_crossings(rig, result):
+        f = feats[fid]
+        fname = f.label or fid
+        over = f" for {_length(rig, length)}" if length > 0 else ""
+        out.append(Warning_(
+            "abrasion", f"{pc.rope.id},{fid}",
+            f"{pc.rope.name} runs over {fname}{over} between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)} "
+            f"with no edge there: pad it, or add an edge pass so its friction and wear are counted.",
+            "warning"))
+    return out
+
+
+def _haul_points(rig: Rig, result: Result):
+    for p in rig.points_of_kind("haul"):
+        f = p.haul_force
+        if f is None:
+            f = result.haul.get(p.id)
+        if f is not None and f > 0:
+            yield p, float(f)
+
+
+def _per_person(p) -> float | None:
+    if p.force_per_person_N is not None:
+        return float(p.force_per_person_N)
+    if p.force_N is not None and p.team:
+        return float(p.force_N) / float(p.team)
+    return None
+
+
+def overpull_limit(rig: Rig, result: Result, load_id: str) -> tuple[float, str] | None:
+    """The overpull limit for one load (N) and what set it, or None if nothing does (rule in module doc)."""
+    s = rig.settings.extra.get("overpull_limit_N")
+    if s is not None:
+        return float(s), "the set overpull limit"
+    cands: list[tuple[float, str]] = []
+    ld = rig.point(load_id)
+    if ld.required_N:
+        cands.append((OVERPULL_FACTOR * float(ld.required_N),
+                      f"{OVERPULL_FACTOR:g} × the {_force(rig, ld.required_N)} needed to free it"))
+    sf = _sf(rig)
+    for rope in rig.ropes:
+        for k, ps in enumerate(rope.path):
+            if ps.at != load_id:
+                continue
+            mat = _material(rig, rope.material)
+            if mat is not None:
+                cands.append((float(mat.mbs_N) / sf, f"the working strength of {rope.name} (MBS / {sf:g})"))
+            hw = _hardware(rig, ps.hardware) if ps.hardware else None
+            if hw is not None and hw.mbs_N is not None:
+                cands.append((float(hw.mbs_N) / sf, f"the working strength of {hw.name} (MBS / {sf:g})"))
+    return min(cands, key=lambda c: c[0]) if cands else None
+
+
+def check_haul(rig: Rig, result: Result) -> list[Warning_]:
+    """Overpull (haul force x ideal MA over the limit) and a load not freed (delivered < required)."""
+    out: list[Warning_] = []
+    if rig.settings.motion != "haul":
+        return out
+    hauls = list(_haul_points(rig, result))
+    if not hauls:
+        return out
+    total = sum(f for _, f in hauls)
+    team = sum(p.team or 0 for p, _ in hauls)
+    pps = [pp for p, _ in hauls if (pp := _per_person(p)) is not None]
+    per_person = min(pps) if pps else None
+    for ld in rig.points_of_kind("load"):
+        lr = result.loads.get(ld.id)
+        if lr is None:
+            continue
+        delivered = float(lr.force_N)
+        if result.ma_ideal is not None and result.ma_ideal > 0:
+            potential = total * float(result.ma_ideal)
+            lim = overpull_limit(rig, result, ld.id)
+            if lim is not None and potential > lim[0]:
+                out.append(Warning_(
+                    "overpull", ld.id,
+                    f"The haul team ({_force(rig, total)}) × ideal MA {result.ma_ideal:.2f} could put "
+                    f"{_force(rig, potential)} on {ld.name}, over {lim[1]} ({_force(rig, lim[0])}). "
+                    f"Use fewer haulers or less mechanical advantage, or watch the load's attachment.",
+                    "warning"))
+        req = ld.required_N
+        if req and delivered < float(req):
+            ma = result.ma_actual if result.ma_actual else (delivered / total if total > 0 else 0.0)
+            if per_person and ma > 0:
+                need = math.ceil(float(req) / (ma * per_person) - 1e-9)
+                have = f" (team of {team})" if team else ""
+                advice = (f"With actual MA {ma:.2f} and {_force(rig, per_person)} per hauler it takes "
+                          f"{need} haulers{have}, or more mechanical advantage.")
+            elif ma > 0:
+                advice = (f"With actual MA {ma:.2f} the haul needs {_force(rig, float(req) / ma)} "
+                          f"instead of {_force(rig, total)}, or more mechanical advantage.")
+            else:
+                advice = "The haul delivers nothing to it."
+            out.append(Warning_(
+                "load-stuck", ld.id,
+                f"{ld.name} gets {_force(rig, delivered)} of the {_force(rig, req)} needed to free it. {advice}",
+                "warning"))
+    return out
+
+
+def check_two_blocked(rig: Rig, result: Result) -> list[Warning_]:
+    """Pieces with a free end that have shrunk to the hardware size: out of throw."""
+    out = []
+    pts = {p.id: p for p in rig.points}
+    seen = set()
+    for pc in pieces(rig, result):
+        if pc.a_id == pc.b_id or pc.a_id not in pts or pc.b_id not in pts:
+            continue
+        if pts[pc.a_id].is_fixed and pts[pc.b_id].is_fixed:
+            continue
+        sizes = [0.0]
+        for k in (pc.index, pc.index + 1):
+            hw_id = pc.rope.path[k].hardware
+            hw = _hardware(rig, hw_id) if hw_id else None
+            if hw is not None and hw.size_m:
+                sizes.append(float(hw.size_m))
+        if pc.length_m <= max(sizes) + TWO_BLOCK_TOL_M:
+            key = frozenset((pc.a_id, pc.b_id))
+            if key in seen:
+                continue
+            seen.add(key)
+            out.append(Warning_(
+                "two-blocked", f"{pc.a_id},{pc.b_id}",
+                f"{_name(rig, pc.a_id)} and {_name(rig, pc.b_id)} have come together on {pc.rope.name} "
+                f"({_length(rig, pc.length_m)} apart): the system is out of throw. Reset before hauling further.",
+                "warning"))
+    return out
+
+
+def people_in_zones(rig: Rig, zones: Iterable[DangerZone]) -> list[tuple[str, DangerZone]]:
+    """(point id, zone) for every person or haul point inside a zone, haul teams excused from their own rope end."""
+    zones = list(zones)
+    out = []
+    for p in rig.points:
+        if p.kind not in ("person", "haul"):
+            continue
+        pt = ShPoint(p.x, p.y)
+        for z in zones:
+            if not z.geometry.contains(pt):  # strictly inside: a leg's far end is not in its own bight
+                continue
+            if p.kind == "haul" and z.kind == "recoil" and _piece_ends_at(rig, z.rope, z.piece, p.id):
+                continue
+            out.append((p.id, z))
+    return out
+
+
+def _piece_ends_at(rig: Rig, rope_id: str, piece: int, point_id: str) -> bool:
+    try:
+        path = rig.rope(rope_id).path
+    except KeyError:
+        return False
+    return 0 <= piece < len(path) - 1 and point_id in (path[piece].at, path[piece + 1].at)
+
+
+def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None) -> list[Warning_]:
+    """Person and haul points inside bight or recoil zones."""
+    if zones is None:
+        zones = danger_zones(rig, result)
+    out = []
+    for pid, z in people_in_zones(rig, zones):
+        what = "is" if z.kind == "recoil" else "stands"
+        out.append(Warning_(
+            "person-in-zone", f"{pid},{z.subject}",
+            f"{_name(rig, pid)} {what} {z.label}. Move out of it" +
+            (": if the redirect fails, the pulley and rope fly through there." if z.kind == "bight"
+             else ": a failing or released rope whips through there."),
+            z.severity))
+    return out
+
+
+#: Checks that need solved forces, in report order.
+FORCE_CHECKS: tuple[Callable[[Rig, Result], list[Warning_]], ...] = (
+    check_anchors, check_ropes, check_hardware, check_wide_anchors, check_slack,
+    check_abrasion, check_haul, check_two_blocked, check_people,
+)
+
+
+def run_checks(rig: Rig, result: Result) -> tuple[Warning_, ...]:
+    """All safety findings for ``rig`` solved as ``result`` (geometry-only checks when it did not solve)."""
+    if not result.ok:
+        found = [Warning_("checks-skipped", result.subject or "",
+                          "The rig did not solve, so forces, margins and danger zones were not checked; "
+                          "only the drawn geometry was.", "info")]
+        found += check_wide_anchors(rig, None) + check_abrasion(rig, None) + check_unrated_drawn(rig)
+        return tuple(found)
+    found = []
+    for chk in FORCE_CHECKS:
+        found += chk(rig, result)
+    return tuple(found)
