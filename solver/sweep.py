@@ -74,18 +74,18 @@ def parse_vary(text: str) -> Vary:
     kind = kind.strip().lower()
     rest = rest.strip()
     if not sep or kind not in VARY_KINDS or not rest:
-        raise SweepError(f"cannot read --vary '{text}'; {help_text}", where="--vary")
+        raise SweepError(f"cannot read '{text}'; {help_text}", where="--vary")
     if kind == "point":
         target, dot, attr = rest.rpartition(".")
         if not dot or attr not in ("x", "y") or not target:
-            raise SweepError(f"--vary '{text}': say which coordinate, e.g. point:{rest.split('.')[0]}.x",
+            raise SweepError(f"'{text}': say which coordinate, e.g. point:{rest.split('.')[0]}.x",
                              where="--vary")
         return Vary(kind, target, attr, text)
     if kind in ("hardware", "material"):
         fields = HARDWARE_FIELDS if kind == "hardware" else MATERIAL_FIELDS
         target, dot, attr = rest.rpartition(".")
         if not dot or attr not in fields or not target:
-            raise SweepError(f"--vary '{text}': a {kind} sweep varies one of "
+            raise SweepError(f"'{text}': a {kind} sweep varies one of "
                              + ", ".join(f"{kind}:ID.{f}" for f in fields), where="--vary")
         return Vary(kind, target, attr, text)
     return Vary(kind, rest, "", text)
