@@ -27,8 +27,8 @@ def haulers_needed(required_N: float, ma_actual: float, per_person_N: float = DE
     if not math.isfinite(per_person_N) or per_person_N <= 0:
         raise RigModelError(f"The force per hauler must be above zero (got {per_person_N})",
                             subject="force_per_person_N")
-    # a hair of tolerance so 2.0000000001 people (rounding) stays 2
-    return max(0, math.ceil(required_N / (ma_actual * per_person_N) - 1e-9))
+    # a relative hair of tolerance so 2.000000000001 people (rounding) stays 2; any force needs one
+    return max(0, math.ceil(required_N / (ma_actual * per_person_N) * (1.0 - 1e-12)))
 
 
 @dataclass(frozen=True)
