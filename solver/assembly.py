@@ -1,0 +1,592 @@
+"""Compile a Rig once into index arrays (points -> dofs, pieces -> runs) for the equilibrium solver.
+
+The solver's unknowns are the free points' coordinates (2 per free structural point);
+each rope is cut into pieces (straight spans between consecutive passes) grouped into
+runs (rig-format.md "Ropes").  Everything the Newton iteration needs is held here as
+flat numpy arrays so that no Python loop over pieces runs inside the iteration.
+Invalid rigs raise :class:`solver.errors.RigModelError` with the offending id.
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+from numpy.typing import NDArray
+
+from solver.errors import RigModelError
+from solver.model import MIDDLE_HOWS, MOTIONS, STANDARD_GRAVITY, Hardware, Material, Rig
+from solver.stretch import StretchCurve
+
+log = logging.getLogger(__name__)
+
+FloatArray = NDArray[np.float64]
+IntArray = NDArray[np.intp]
+
+#: Closest two passes may come along a rope when the hardware gives no size, m.
+DEFAULT_MIN_SPACING_M = 0.05
+#: Pass kinds, coded.
+PASS_NONE, PASS_PULLEY, PASS_SLIDING, PASS_EDGE = 0, 1, 2, 3
+#: Two points closer than this are coincident, m.
+COINCIDENT_M = 1e-6
+
+
+def _material(rig: Rig, material_id: str) -> Material:
+    """The material spec: the shared library module when present, else embedded specs only."""
+    try:
+        from solver.materials import material_for  # noqa: PLC0415  (lands in a sibling issue)
+    except ImportError:
+        spec = rig.embedded_material(material_id)
+        if spec is None:
+            raise RigModelError(f'the rope material "{material_id}" is not known', subject=material_id)
+        return spec
+    return material_for(rig, material_id)
+
+
+def _hardware(rig: Rig, hardware_id: str) -> Hardware:
+    """The hardware spec: the shared library module when present, else embedded specs only."""
+    try:
+        from solver.materials import hardware_for  # noqa: PLC0415
+    except ImportError:
+        spec = rig.embedded_hardware(hardware_id)
+        if spec is None:
+            raise RigModelError(f'the hardware "{hardware_id}" is not known', subject=hardware_id)
+        return spec
+    return hardware_for(rig, hardware_id)
+
+
+@dataclass
+class MiddlePass:
+    """A middle pass of a rope, for reporting: key "ROPE@POINT", the pieces before and after."""
+
+    key: str
+    rope: str
+    point: str
+    how: str
+    piece_in: int
+    piece_out: int
+    hardware: str | None
+
+
+@dataclass
+class System:
+    """One rig compiled to arrays.  Points are all structural points; dofs are free coordinates."""
+
+    rig: Rig
+    motion: str
+    point_ids: list[str]
+    xy0: FloatArray  # (n_points, 2) drawn coordinates
+    free: NDArray[np.bool_]  # (n_points,)
+    dof: IntArray  # (n_points, 2): dof index, or -1 when fixed
+    n_dof: int
+    # pieces (ordered run by run, so each run's pieces are contiguous)
+    a: IntArray
+    b: IntArray
+    piece_rope: list[str]
+    piece_index: IntArray  # index along the rope's path
+    piece_run: IntArray  # global run number
+    piece_mat: IntArray  # material number
+    piece_first: NDArray[np.bool_]  # first piece of its run
+    pass_kind: IntArray  # kind of the pass *before* this piece (PASS_NONE on a run's first piece)
+    pass_eta: FloatArray
+    pass_mu: FloatArray
+    pass_hw: list[str | None]
+    pass_point: list[str]
+    s_min: FloatArray  # minimum spacing (two-blocking contact), m
+    contact_on: NDArray[np.bool_]
+    # runs
+    run_start: IntArray  # first piece of each run
+    run_count: IntArray
+    run_hauled: NDArray[np.bool_]
+    run_P: FloatArray  # haul force of hauled runs, N
+    run_L0: FloatArray  # unstretched length of tied runs, m
+    run_mat: IntArray
+    run_rope: list[str]
+    run_haul_point: list[str | None]
+    curves: list[StretchCurve]
+    materials: list[Material]
+    F: FloatArray  # external force on each dof, N
+    size: float  # rig size, m
+    centre: FloatArray
+    force_scale: float
+    middle_passes: list[MiddlePass] = field(default_factory=list)
+    ignored_forces: list[str] = field(default_factory=list)
+    # index arrays for assembly, built in finish()
+    piece_dofs: IntArray = field(default=None)  # (n_pieces, 4) dofs [ax, ay, bx, by], -1 fixed
+    pair_k: IntArray = field(default=None)  # piece pairs within a tied run (rank-one term)
+    pair_j: IntArray = field(default=None)
+    pair_run: IntArray = field(default=None)
+    mat_masks: list[IntArray] = field(default_factory=list)
+    run_mat_masks: list[IntArray] = field(default_factory=list)
+    has_edges: bool = False
+    has_friction: bool = False
+
+    @property
+    def n_pieces(self) -> int:
+        return len(self.a)
+
+    @property
+    def n_runs(self) -> int:
+        return len(self.run_start)
+
+    def positions(self, x: FloatArray) -> FloatArray:
+        """All structural points' coordinates (n_points, 2) for free-dof vector ``x``."""
+        xy = self.xy0.copy()
+        xy[self.free] = x.reshape(-1, 2)
+        return xy
+
+    def x_from(self, xy: FloatArray) -> FloatArray:
+        return xy[self.free].reshape(-1).copy()
+
+
+def compile_rig(rig: Rig, motion: str | None = None) -> System:
+    """Compile ``rig`` into a :class:`System`; raises RigModelError naming what is wrong."""
+    motion = motion or rig.settings.motion
+    if motion not in MOTIONS:
+        raise RigModelError(f'the motion "{motion}" is not one of haul, hold, lower', where="settings.motion")
+    pts = [p for p in rig.points if p.is_structural]
+    index = {p.id: i for i, p in enumerate(pts)}
+    all_ids = {p.id for p in rig.points}
+    if len(all_ids) != len(rig.points):
+        seen: set[str] = set()
+        for p in rig.points:
+            if p.id in seen:
+                raise RigModelError(f'two points share the id "{p.id}"', subject=p.id)
+            seen.add(p.id)
+    xy0 = np.array([[p.x, p.y] for p in pts], dtype=float).reshape(-1, 2)
+    if not np.all(np.isfinite(xy0)):
+        bad = next(p for p in pts if not (math.isfinite(p.x) and math.isfinite(p.y)))
+        raise RigModelError(f'point "{bad.id}" has no proper position', subject=bad.id)
+    free = np.array([not p.is_fixed for p in pts], dtype=bool)
+    dof = -np.ones((len(pts), 2), dtype=np.intp)
+    nf = int(free.sum())
+    dof[free] = np.arange(2 * nf).reshape(-1, 2)
+
+    mat_ids: list[str] = []
+    materials: list[Material] = []
+    curves: list[StretchCurve] = []
+    a: list[int] = []
+    b: list[int] = []
+    piece_rope: list[str] = []
+    piece_index: list[int] = []
+    piece_run: list[int] = []
+    piece_mat: list[int] = []
+    piece_first: list[bool] = []
+    pass_kind: list[int] = []
+    pass_eta: list[float] = []
+    pass_mu: list[float] = []
+    pass_hw: list[str | None] = []
+    pass_point: list[str] = []
+    s_min: list[float] = []
+    run_start: list[int] = []
+    run_count: list[int] = []
+    run_hauled: list[bool] = []
+    run_P: list[float] = []
+    run_L0: list[float] = []
+    run_mat: list[int] = []
+    run_rope: list[str] = []
+    run_haul_point: list[str | None] = []
+    middle: list[MiddlePass] = []
+    hw_cache: dict[str, Hardware] = {}
+
+    def hardware(hid: str) -> Hardware:
+        if hid not in hw_cache:
+            hw_cache[hid] = _hardware(rig, hid)
+        return hw_cache[hid]
+
+    rope_ids: set[str] = set()
+    for r_i, rope in enumerate(rig.ropes):
+        where = f"ropes[{r_i}]"
+        if rope.id in rope_ids:
+            raise RigModelError(f'two ropes share the id "{rope.id}"', where=where, subject=rope.id)
+        rope_ids.add(rope.id)
+        path = rope.path
+        if len(path) < 2:
+            raise RigModelError(f'rope "{rope.name}" needs at least two passes (a start and an end)',
+                                where=f"{where}.path", subject=rope.id)
+        for j, ps in enumerate(path):
+            if ps.at not in all_ids:
+                raise RigModelError(f'rope "{rope.name}" goes to point "{ps.at}", which is not on the sketch',
+                                    where=f"{where}.path[{j}]", subject=ps.at)
+            if ps.at not in index:
+                raise RigModelError(f'rope "{rope.name}" goes to "{ps.at}", a person marker, not part of the rig',
+                                    where=f"{where}.path[{j}]", subject=ps.at)
+            if j == 0 and ps.how != "tied":
+                raise RigModelError(f'rope "{rope.name}" must start tied at "{ps.at}"',
+                                    where=f"{where}.path[0]", subject=rope.id)
+            if j == len(path) - 1 and ps.how not in ("tied", "hauled"):
+                raise RigModelError(f'rope "{rope.name}" must end tied or hauled at "{ps.at}"',
+                                    where=f"{where}.path[{j}]", subject=rope.id)
+            if 0 < j < len(path) - 1 and ps.how not in MIDDLE_HOWS:
+                raise RigModelError(f'rope "{rope.name}" cannot be "{ps.how}" at "{ps.at}" in the middle of its path',
+                                    where=f"{where}.path[{j}]", subject=rope.id)
+            if j > 0:
+                prev = path[j - 1].at
+                if prev == ps.at or np.hypot(*(xy0[index[prev]] - xy0[index[ps.at]])) < COINCIDENT_M:
+                    raise RigModelError(
+                        f'rope "{rope.name}" goes from "{prev}" to "{ps.at}", which are at the same spot: '
+                        "move one of them or remove the pass", where=f"{where}.path[{j}]", subject=ps.at)
+        if rope.material not in mat_ids:
+            spec = _material(rig, rope.material)
+            try:
+                curve = StretchCurve(spec.stretch)
+            except ValueError as exc:
+                raise RigModelError(f'material "{spec.name}": {exc}', where=f"materials.{spec.id}",
+                                    subject=spec.id) from None
+            if not spec.mbs_N or spec.mbs_N <= 0:
+                raise RigModelError(f'material "{spec.name}" needs a positive breaking strength (MBS)',
+                                    where=f"materials.{spec.id}", subject=spec.id)
+            mat_ids.append(rope.material)
+            materials.append(spec)
+            curves.append(curve)
+        m_i = mat_ids.index(rope.material)
+        rig_i = rope.rigged
+        for run in rope.runs():
+            g = len(run_start)
+            run_start.append(len(a))
+            run_count.append(run.last - run.first)
+            run_mat.append(m_i)
+            run_rope.append(rope.id)
+            length = 0.0
+            for k in range(run.first, run.last):
+                pa, pb = path[k], path[k + 1]
+                ia, ib = index[pa.at], index[pb.at]
+                a.append(ia)
+                b.append(ib)
+                piece_rope.append(rope.id)
+                piece_index.append(k)
+                piece_run.append(g)
+                piece_mat.append(m_i)
+                piece_first.append(k == run.first)
+                lk = float(np.hypot(*(xy0[ib] - xy0[ia])))
+                length += lk
+                sizes = [DEFAULT_MIN_SPACING_M]
+                for ps in (pa, pb):
+                    if ps.hardware and ps.how != "tied":
+                        sz = hardware(ps.hardware).size_m
+                        if sz:
+                            sizes.append(float(sz))
+                s_min.append(min(max(sizes), 0.5 * lk))
+                kind, eta, mu, hw = PASS_NONE, 1.0, 0.0, None
+                if k > run.first:  # pass pa is a middle pass of this run
+                    kind, eta, mu, hw = _pass_factor(rope.name, pa, hardware, f"{where}.path[{k}]")
+                pass_kind.append(kind)
+                pass_eta.append(eta)
+                pass_mu.append(mu)
+                pass_hw.append(hw)
+                pass_point.append(pa.at)
+            if run.hauled:
+                hp = rig.point(path[run.last].at)
+                P = hp.haul_force
+                if P is None or not math.isfinite(P) or P < 0:
+                    raise RigModelError(
+                        f'rope "{rope.name}" is hauled at "{hp.name}" but no haul force is set there: '
+                        "give the team's total force, or the team size and force per person",
+                        where=f"{where}.path[{run.last}]", subject=hp.id)
+                run_hauled.append(True)
+                run_P.append(float(P))
+                run_L0.append(length)
+                run_haul_point.append(hp.id)
+            else:
+                if rig_i.pretension_N is not None:
+                    if not (math.isfinite(rig_i.pretension_N) and rig_i.pretension_N >= 0):
+                        raise RigModelError(f'rope "{rope.name}" has a negative pretension',
+                                            where=f"{where}.rigged", subject=rope.id)
+                    L0 = length / (1.0 + float(curves[m_i].strain(rig_i.pretension_N)))
+                else:
+                    L0 = length + float(rig_i.slack_m)
+                if not L0 > 0:
+                    raise RigModelError(f'rope "{rope.name}" has a run of no length', where=f"{where}.rigged",
+                                        subject=rope.id)
+                run_hauled.append(False)
+                run_P.append(0.0)
+                run_L0.append(L0)
+                run_haul_point.append(None)
+        # middle passes of the rope, for deflection angles
+        first_piece = len(a) - (len(path) - 1)
+        counts: dict[str, int] = {}
+        for j in range(1, len(path) - 1):
+            at = path[j].at
+            counts[at] = counts.get(at, 0) + 1
+            key = f"{rope.id}@{at}" if counts[at] == 1 else f"{rope.id}@{at}#{counts[at]}"
+            middle.append(MiddlePass(key, rope.id, at, path[j].how, first_piece + j - 1, first_piece + j,
+                                     path[j].hardware))
+
+    # external forces and weights
+    F = np.zeros(2 * nf)
+    ignored: list[str] = []
+    for f_i, force in enumerate(rig.forces):
+        if force.at not in index:
+            raise RigModelError(f'a force acts at "{force.at}", which is not a point of the rig',
+                                where=f"forces[{f_i}]", subject=force.at)
+        if not (math.isfinite(force.magnitude_N) and math.isfinite(force.direction_deg)):
+            raise RigModelError(f'the force at "{force.at}" has no proper size or direction',
+                                where=f"forces[{f_i}]", subject=force.at)
+        i = index[force.at]
+        if not free[i]:
+            ignored.append(force.at)
+            continue
+        th = math.radians(force.direction_deg)
+        F[dof[i, 0]] += force.magnitude_N * math.cos(th)
+        F[dof[i, 1]] += force.magnitude_N * math.sin(th)
+    if rig.view == "elevation":
+        for i, p in enumerate(pts):
+            if free[i] and p.mass_kg:
+                F[dof[i, 1]] -= float(p.mass_kg) * STANDARD_GRAVITY
+
+    lo, hi = (xy0.min(axis=0), xy0.max(axis=0)) if len(pts) else (np.zeros(2), np.zeros(2))
+    size = float(max(np.hypot(*(hi - lo)), 1.0))
+    fmag = np.hypot(F[0::2], F[1::2]) if nf else np.zeros(0)
+    pre = [r.rigged.pretension_N or 0.0 for r in rig.ropes]
+    force_scale = float(max([0.0, *fmag, *run_P, *pre]))
+
+    sys_ = System(
+        rig=rig, motion=motion, point_ids=[p.id for p in pts], xy0=xy0, free=free, dof=dof, n_dof=2 * nf,
+        a=np.array(a, dtype=np.intp), b=np.array(b, dtype=np.intp), piece_rope=piece_rope,
+        piece_index=np.array(piece_index, dtype=np.intp), piece_run=np.array(piece_run, dtype=np.intp),
+        piece_mat=np.array(piece_mat, dtype=np.intp), piece_first=np.array(piece_first, dtype=bool),
+        pass_kind=np.array(pass_kind, dtype=np.intp), pass_eta=np.array(pass_eta, dtype=float),
+        pass_mu=np.array(pass_mu, dtype=float), pass_hw=pass_hw, pass_point=pass_point,
+        s_min=np.array(s_min, dtype=float), contact_on=np.zeros(len(a), dtype=bool),
+        run_start=np.array(run_start, dtype=np.intp), run_count=np.array(run_count, dtype=np.intp),
+        run_hauled=np.array(run_hauled, dtype=bool), run_P=np.array(run_P, dtype=float),
+        run_L0=np.array(run_L0, dtype=float), run_mat=np.array(run_mat, dtype=np.intp), run_rope=run_rope,
+        run_haul_point=run_haul_point, curves=curves, materials=materials, F=F, size=size,
+        centre=0.5 * (lo + hi), force_scale=force_scale, middle_passes=middle, ignored_forces=ignored,
+    )
+    _finish(sys_)
+    return sys_
+
+
+def _pass_factor(rope_name: str, ps, hardware, where: str) -> tuple[int, float, float, str | None]:
+    """(kind, efficiency, friction coefficient, hardware id) of a middle pass of a run."""
+    if ps.how == "sliding":
+        return PASS_SLIDING, 1.0, 0.0, ps.hardware
+    if ps.how == "pulley":
+        if not ps.hardware:
+            raise RigModelError(f'the pulley at "{ps.at}" on rope "{rope_name}" has no hardware chosen: '
+                                "pick a pulley or carabiner so its efficiency is known", where=where, subject=ps.at)
+        hw = hardware(ps.hardware)
+        eta = hw.efficiency
+        if eta is None or not (0.0 < eta <= 1.0):
+            raise RigModelError(f'"{hw.name}" at "{ps.at}" on rope "{rope_name}" has no efficiency between 0 and 1, '
+                                "so it cannot be used as a pulley", where=where, subject=ps.at)
+        return PASS_PULLEY, float(eta), 0.0, ps.hardware
+    if ps.how == "edge":
+        if not ps.hardware:
+            raise RigModelError(f'the edge at "{ps.at}" on rope "{rope_name}" has no edge kind chosen: '
+                                "pick one so its friction is known", where=where, subject=ps.at)
+        hw = hardware(ps.hardware)
+        mu = hw.friction_coefficient
+        if mu is None or not (math.isfinite(mu) and mu >= 0.0):
+            raise RigModelError(f'"{hw.name}" at "{ps.at}" on rope "{rope_name}" has no friction coefficient, '
+                                "so it cannot be used as an edge", where=where, subject=ps.at)
+        return PASS_EDGE, 1.0, float(mu), ps.hardware
+    raise RigModelError(f'rope "{rope_name}" has an unknown pass "{ps.how}" at "{ps.at}"', where=where,
+                        subject=ps.at)
+
+
+def _finish(s: System) -> None:
+    """Build the assembly index arrays once: piece dofs, tied-run piece pairs, material masks."""
+    s.piece_dofs = np.concatenate([s.dof[s.a], s.dof[s.b]], axis=1) if s.n_pieces else np.zeros((0, 4), np.intp)
+    s.contact_on = (s.free[s.a] | s.free[s.b]) if s.n_pieces else np.zeros(0, bool)
+    # pairs (k, j) of pieces in the same tied run, vectorised by run size
+    ks, js, rs = [], [], []
+    tied = np.flatnonzero(~s.run_hauled)
+    for m in np.unique(s.run_count[tied]) if len(tied) else []:
+        runs = tied[s.run_count[tied] == m]
+        kk, jj = np.meshgrid(np.arange(m), np.arange(m), indexing="ij")
+        base = s.run_start[runs][:, None]
+        ks.append((base + kk.reshape(1, -1)).reshape(-1))
+        js.append((base + jj.reshape(1, -1)).reshape(-1))
+        rs.append(np.repeat(runs, m * m))
+    s.pair_k = np.concatenate(ks) if ks else np.zeros(0, np.intp)
+    s.pair_j = np.concatenate(js) if js else np.zeros(0, np.intp)
+    s.pair_run = np.concatenate(rs) if rs else np.zeros(0, np.intp)
+    s.mat_masks = [np.flatnonzero(s.piece_mat == m) for m in range(len(s.curves))]
+    s.run_mat_masks = [np.flatnonzero(s.run_mat == m) for m in range(len(s.curves))]
+    s.has_edges = bool(np.any(s.pass_kind == PASS_EDGE))
+    s.has_friction = s.has_edges or bool(np.any((s.pass_kind == PASS_PULLEY) & (s.pass_eta < 1.0)))
+
+
+# --- evaluation: lengths, run tensions, out-of-balance forces, energy, tangent -------------------
+
+#: Stiffness of the two-blocking contact, as a multiple of (force scale / minimum spacing).
+CONTACT_STIFFNESS = 1e4
+
+
+@dataclass
+class State:
+    """Everything at one trial geometry: piece lengths/directions, run tensions, forces."""
+
+    x: FloatArray
+    xy: FloatArray
+    l: FloatArray  # piece lengths, m
+    u: FloatArray  # piece unit vectors (n_pieces, 2)
+    w: FloatArray  # piece tension weights
+    L: FloatArray  # run lengths, m
+    tau: FloatArray  # run reference tensions (first piece), N
+    taut: NDArray[np.bool_]  # tied runs at or beyond their unstretched length
+    T: FloatArray  # piece tensions, N
+    eps: FloatArray  # piece strains
+    pen: FloatArray  # contact penetration (>0 when two passes are closer than their size), m
+    N: FloatArray  # piece axial pull incl. contact push, N
+    g: FloatArray  # out-of-balance: internal resistance minus external force, per dof, N
+    energy: float  # total potential (meaningful without friction), J
+
+
+def by_material(s: System, mats: IntArray, values: FloatArray, method: str) -> FloatArray:
+    """Apply StretchCurve ``method`` elementwise, each element with its material's curve."""
+    out = np.empty_like(values)
+    if len(s.curves) == 1:
+        out[:] = getattr(s.curves[0], method)(values)
+        return out
+    for m, curve in enumerate(s.curves):
+        idx = np.flatnonzero(mats == m)
+        if len(idx):
+            out[idx] = getattr(curve, method)(values[idx])
+    return out
+
+
+def contact_stiffness(s: System) -> FloatArray:
+    """Penalty stiffness of the minimum-spacing contact of each piece, N/m."""
+    return CONTACT_STIFFNESS * max(s.force_scale, 1.0) / np.maximum(s.s_min, 1e-6)
+
+
+def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -> tuple[FloatArray, NDArray[np.bool_]]:
+    """Reference tension tau_r of every run: haul force for hauled runs, else the root of the length equation.
+
+    Tied run: sum_k l_k / (1 + eps(w_k tau)) = L0 (strictly decreasing in tau), solved by a
+    bracketed Newton iteration vectorised over runs; tau = 0 when slack (sum l_k <= L0).
+    """
+    nr = s.n_runs
+    tau = np.zeros(nr)
+    last = s.run_start + s.run_count - 1
+    hauled = s.run_hauled
+    tau[hauled] = s.run_P[hauled] / w[last[hauled]]
+    taut = (~hauled) & (L >= s.run_L0)
+    strict = np.flatnonzero((~hauled) & (L > s.run_L0))
+    if len(strict) == 0:
+        return tau, taut
+    lam_e = L[strict] / s.run_L0[strict] - 1.0
+    t_lam = by_material(s, s.run_mat[strict], lam_e, "tension")
+    wmin = np.minimum.reduceat(w, s.run_start)[strict] if nr else w
+    wmax = np.maximum.reduceat(w, s.run_start)[strict] if nr else w
+    lo = t_lam / wmax
+    hi = t_lam / wmin
+    t = 0.5 * (lo + hi)
+    todo = np.flatnonzero(hi - lo > 1e-15 * hi)
+    if len(todo):
+        # pieces of the runs still to solve
+        runs = strict[todo]
+        counts = s.run_count[runs]
+        pieces = np.repeat(s.run_start[runs] - np.cumsum(counts) + counts, counts) + np.arange(counts.sum())
+        owner = np.repeat(np.arange(len(runs)), counts)
+        lk, wk, mk = l[pieces], w[pieces], s.piece_mat[pieces]
+        L0 = s.run_L0[runs]
+        tt, lo_t, hi_t = t[todo], lo[todo], hi[todo]
+        for _ in range(100):
+            Tk = wk * tt[owner]
+            e = by_material(s, mk, Tk, "strain")
+            de = by_material(s, mk, Tk, "dstrain")
+            f = np.bincount(owner, lk / (1.0 + e), minlength=len(runs)) - L0
+            fp = -np.bincount(owner, lk * wk * de / (1.0 + e) ** 2, minlength=len(runs))
+            lo_t = np.where(f > 0, tt, lo_t)
+            hi_t = np.where(f < 0, tt, hi_t)
+            done = (np.abs(f) <= 1e-15 * L0) | (hi_t - lo_t <= 1e-15 * hi_t)
+            if np.all(done):
+                break
+            with np.errstate(divide="ignore", invalid="ignore"):
+                step = tt - f / fp
+            bad = ~np.isfinite(step) | (step <= lo_t) | (step >= hi_t)
+            tt = np.where(bad, 0.5 * (lo_t + hi_t), step)
+        t[todo] = tt
+    tau[strict] = t
+    return tau, taut
+
+
+def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArray | None = None) -> State:
+    """The state at free coordinates ``x`` (m) with piece weights ``w`` (None: frictionless)."""
+    xy = s.positions(x)
+    d = xy[s.b] - xy[s.a]
+    l = np.hypot(d[:, 0], d[:, 1])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        u = np.where(l[:, None] > 0, d / l[:, None], 0.0)
+    if w is None:
+        w = np.ones(s.n_pieces)
+    L = np.add.reduceat(l, s.run_start) if s.n_runs else np.zeros(0)
+    tau, taut = solve_run_tensions(s, L, l, w)
+    T = w * tau[s.piece_run] if s.n_pieces else np.zeros(0)
+    eps = by_material(s, s.piece_mat, T, "strain") if s.n_pieces else np.zeros(0)
+    if kc is None:
+        kc = contact_stiffness(s)
+    pen = np.where(s.contact_on, np.maximum(s.s_min - l, 0.0), 0.0)
+    N = T - kc * pen
+    g = -s.F.copy()
+    if s.n_pieces:
+        fa = -N[:, None] * u  # dPi/dx_a = -N u, dPi/dx_b = +N u
+        vals = np.concatenate([fa, -fa], axis=1).reshape(-1)
+        idx = s.piece_dofs.reshape(-1)
+        keep = idx >= 0
+        g += np.bincount(idx[keep], vals[keep], minlength=s.n_dof)
+    # potential energy, exact for frictionless weights
+    hauled = s.run_hauled
+    energy = float(np.dot(s.run_P[hauled], L[hauled])) if s.n_runs else 0.0
+    tied = np.flatnonzero(~hauled & (L > s.run_L0))
+    if len(tied):
+        e_r = L[tied] / s.run_L0[tied] - 1.0
+        energy += float(np.dot(s.run_L0[tied], by_material(s, s.run_mat[tied], e_r, "energy")))
+    energy += float(0.5 * np.dot(kc, pen * pen)) - float(np.dot(s.F, x))
+    return State(x=x, xy=xy, l=l, u=u, w=w, L=L, tau=tau, taut=taut, T=T, eps=eps, pen=pen, N=N, g=g,
+                 energy=energy)
+
+
+_SGN = np.array([1.0, 1.0, -1.0, -1.0])
+_LOCAL_I = np.repeat(np.arange(4), 4)
+_LOCAL_J = np.tile(np.arange(4), 4)
+
+
+def tangent_triplets(s: System, st: State, kc: FloatArray | None = None) -> tuple[IntArray, IntArray, FloatArray]:
+    """COO triplets (row, col, value) of the tangent K = d g / d x at fixed piece weights, N/m.
+
+    K = sum_k N_k/l_k (I - u u^T) (geometric) + contact k_c u u^T + for each taut tied run
+    the rank-one term (sum_k w_k grad l_k)(d tau/d x)^T, with
+    d tau/d x = sum_j grad l_j / (1 + eps_j) / D, D = sum_j l_j w_j eps'(T_j) / (1 + eps_j)^2.
+    """
+    if s.n_pieces == 0:
+        z = np.zeros(0, np.intp)
+        return z, z, np.zeros(0)
+    if kc is None:
+        kc = contact_stiffness(s)
+    u, l = st.u, st.l
+    with np.errstate(divide="ignore", invalid="ignore"):
+        geo = np.where(l > 0, st.N / l, 0.0)
+    act = np.where(st.pen > 0, kc, 0.0)
+    uu = u[:, :, None] * u[:, None, :]
+    A = geo[:, None, None] * (np.eye(2)[None] - uu) + act[:, None, None] * uu  # (n, 2, 2)
+    sg = (_SGN[_LOCAL_I] * _SGN[_LOCAL_J])[None, :]
+    vals = [(A[:, _LOCAL_I % 2, _LOCAL_J % 2] * sg).reshape(-1)]
+    rows = [s.piece_dofs[:, _LOCAL_I].reshape(-1)]
+    cols = [s.piece_dofs[:, _LOCAL_J].reshape(-1)]
+    if len(s.pair_k):
+        run_ok = st.taut.copy()
+        c = 1.0 / (1.0 + st.eps)
+        de = by_material(s, s.piece_mat, st.T, "dstrain")
+        Dp = l * st.w * de / (1.0 + st.eps) ** 2
+        D = np.bincount(s.piece_run, Dp, minlength=s.n_runs)
+        run_ok &= D > 0
+        sel = np.flatnonzero(run_ok[s.pair_run])
+        if len(sel):
+            k, j, r = s.pair_k[sel], s.pair_j[sel], s.pair_run[sel]
+            coef = st.w[k] * c[j] / D[r]
+            blk = coef[:, None, None] * u[k][:, :, None] * u[j][:, None, :]
+            vals.append((blk[:, _LOCAL_I % 2, _LOCAL_J % 2] * sg).reshape(-1))
+            rows.append(s.piece_dofs[k][:, _LOCAL_I].reshape(-1))
+            cols.append(s.piece_dofs[j][:, _LOCAL_J].reshape(-1))
+    row = np.concatenate(rows)
+    col = np.concatenate(cols)
+    val = np.concatenate(vals)
+    keep = (row >= 0) & (col >= 0)
+    return row[keep], col[keep], val[keep]

@@ -1,0 +1,485 @@
+"""Nonlinear static equilibrium of a rig: elastic tension-only ropes, pulleys, edges, hauls.
+
+Unknowns are the free points' positions; each tied run's tension is condensed out of its
+length equation and each hauled run carries its haul force (``shared/design/solver-notes.md``).
+Without friction the equilibrium minimises the total potential
+Pi = sum_runs U_r(L_r) - F.x, which is convex (Kanno, Ohsaki & Ito, IJNME 2002), so a
+Levenberg-Marquardt-shifted Newton method with a step cap and Armijo backtracking on Pi
+reaches it from the drawn geometry.  Friction is then added by continuation from that
+geometry (merit 1/2 |R|^2), re-evaluating edge wrap angles until they settle.
+:func:`solve` never raises for a bad rig: it returns status "invalid", "mechanism" or
+"diverged" with a message in a rigger's words.
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.linalg
+import scipy.sparse
+import scipy.sparse.linalg
+
+from solver import friction
+from solver.assembly import (
+    PASS_EDGE,
+    PASS_PULLEY,
+    State,
+    System,
+    compile_rig,
+    contact_stiffness,
+    evaluate,
+    tangent_triplets,
+)
+from solver.errors import RigModelError
+from solver.model import Rig
+from solver.result import AnchorResult, HoldRange, Result, SegmentResult, Warning_
+
+log = logging.getLogger(__name__)
+
+#: Largest number of unknowns solved with dense linear algebra.
+DENSE_MAX = 400
+#: Newton iterations per stage.
+MAX_ITER = 200
+#: Target and acceptance of the largest free-point imbalance, relative to the largest force.
+TARGET_REL = 1e-10
+ACCEPT_REL = 1e-7
+#: A point farther than this many rig sizes from the sketch has run away.
+RUNAWAY_SIZES = 100.0
+#: Smallest tangent eigenvalue, relative to the largest diagonal, that still holds a point.
+MECHANISM_REL = 1e-11
+
+
+@dataclass
+class _Outcome:
+    state: State
+    iterations: int
+    converged: bool
+    runaway: int | None = None  # free point index (into System points) that ran away
+
+
+def _point_norms(g: np.ndarray) -> np.ndarray:
+    return np.hypot(g[0::2], g[1::2]) if len(g) else np.zeros(0)
+
+
+def _force_scale(s: System, st: State) -> float:
+    t = float(np.max(np.abs(st.N))) if len(st.N) else 0.0
+    return max(s.force_scale, t)
+
+
+def _matrix(s: System, st: State, kc: np.ndarray, dense: bool):
+    row, col, val = tangent_triplets(s, st, kc)
+    n = s.n_dof
+    if dense:
+        return np.bincount(row * n + col, val, minlength=n * n).reshape(n, n)
+    return scipy.sparse.coo_matrix((val, (row, col)), shape=(n, n)).tocsc()
+
+
+def _shifted_solve(K, lam: float, rhs: np.ndarray, dense: bool, symmetric: bool) -> np.ndarray | None:
+    """Solve (K + lam I) d = rhs; None when the shifted matrix is not usable (raise the shift)."""
+    n = len(rhs)
+    try:
+        if dense:
+            M = K + lam * np.eye(n)
+            if symmetric:
+                c, low = scipy.linalg.cho_factor(M, check_finite=False)
+                d = scipy.linalg.cho_solve((c, low), rhs, check_finite=False)
+            else:
+                d = scipy.linalg.solve(M, rhs, check_finite=False)
+        else:
+            M = (K + lam * scipy.sparse.identity(n, format="csc")).tocsc()
+            d = scipy.sparse.linalg.splu(M).solve(rhs)
+    except (np.linalg.LinAlgError, scipy.linalg.LinAlgError, RuntimeError, ValueError):
+        return None
+    return d if np.all(np.isfinite(d)) else None
+
+
+def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symmetric: bool,
+            max_iter: int = MAX_ITER) -> _Outcome:
+    """Damped, shifted Newton iteration for g(x) = 0 at fixed piece weights ``w``."""
+    dense = s.n_dof <= DENSE_MAX
+    st = evaluate(s, x0, w, kc)
+    if s.n_dof == 0:
+        return _Outcome(st, 0, True)
+
+    def merit(state: State) -> float:
+        return state.energy if symmetric else 0.5 * float(np.dot(state.g, state.g))
+
+    cap = 0.1 * s.size
+    mu = 1e-10
+    free_idx = np.flatnonzero(s.free)
+    for it in range(max_iter):
+        scale = _force_scale(s, st)
+        res = float(_point_norms(st.g).max())
+        if res <= TARGET_REL * scale or (scale == 0.0 and res == 0.0):
+            return _Outcome(st, it, True)
+        K = _matrix(s, st, kc, dense)
+        diag = K.diagonal()
+        base = max(float(diag.max()) if len(diag) else 0.0, scale / s.size, 1e-12)
+        m0 = merit(st)
+        accepted = False
+        for _attempt in range(12):
+            lam = mu * base
+            d = _shifted_solve(K, lam, -st.g, dense, symmetric)
+            if d is None:
+                mu *= 100.0
+                continue
+            step = _point_norms(d).max()
+            capped = step > cap
+            if capped:
+                d *= cap / step
+            if symmetric:
+                slope = float(np.dot(st.g, d))
+            else:
+                Kd = K @ d
+                slope = float(np.dot(st.g, Kd))
+            if slope >= 0.0:
+                mu *= 100.0
+                continue
+            alpha = 1.0
+            for _ls in range(40):
+                trial = evaluate(s, st.x + alpha * d, w, kc)
+                m1 = merit(trial)
+                if m1 <= m0 + 1e-4 * alpha * slope:
+                    accepted = True
+                    break
+                # round-off: merit flat to machine precision but the imbalance still shrinks
+                if abs(m1 - m0) <= 1e-13 * (abs(m0) + scale * s.size) and \
+                        _point_norms(trial.g).max() < 0.9 * res:
+                    accepted = True
+                    break
+                alpha *= 0.5
+            if accepted:
+                break
+            mu *= 100.0
+        if not accepted:
+            return _Outcome(st, it, res <= ACCEPT_REL * scale)
+        if alpha == 1.0:
+            mu = max(mu / 10.0, 1e-10)
+            if capped:
+                cap *= 2.0
+        st = trial
+        far = np.hypot(*(st.xy[free_idx] - s.centre).T)
+        if far.max() > RUNAWAY_SIZES * s.size:
+            return _Outcome(st, it + 1, False, runaway=int(free_idx[np.argmax(far)]))
+    scale = _force_scale(s, st)
+    return _Outcome(st, max_iter, float(_point_norms(st.g).max()) <= ACCEPT_REL * scale)
+
+
+# --- words -----------------------------------------------------------------------------------------
+
+def _direction_words(vx: float, vy: float, elevation: bool) -> str:
+    """Name the axis a point can move along ("east–west" ...)."""
+    ang = math.degrees(math.atan2(vy, vx)) % 180.0
+    if elevation:
+        names = ["sideways", "diagonally (up to the right)", "up and down", "diagonally (up to the left)"]
+    else:
+        names = ["east–west", "northeast–southwest", "north–south", "northwest–southeast"]
+    return names[int(((ang + 22.5) % 180.0) // 45.0)]
+
+
+def _heading_words(vx: float, vy: float, elevation: bool) -> str:
+    ang = math.degrees(math.atan2(vy, vx)) % 360.0
+    if elevation:
+        names = ["to the right", "up and right", "up", "up and left", "to the left", "down and left", "down",
+                 "down and right"]
+    else:
+        names = ["east", "northeast", "north", "northwest", "west", "southwest", "south", "southeast"]
+    return names[int(((ang + 22.5) % 360.0) // 45.0)]
+
+
+def _point_name(rig: Rig, pid: str) -> str:
+    p = rig.point(pid)
+    return f'"{p.id}"' if not p.label else f'"{p.id}" ({p.label})'
+
+
+# --- checks ----------------------------------------------------------------------------------------
+
+def _mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] | None:
+    """(free point index, direction) of a zero-stiffness mode of the symmetric tangent, or None."""
+    if s.n_dof == 0:
+        return None
+    dense = s.n_dof <= DENSE_MAX
+    K = _matrix(s, st, kc, dense)
+    diag = np.asarray(K.diagonal())
+    top = max(float(diag.max()), _force_scale(s, st) / s.size, 1e-12)
+    if dense:
+        vals, vecs = np.linalg.eigh(0.5 * (K + K.T))
+        lam, v = float(vals[0]), vecs[:, 0]
+    else:
+        Ks = (0.5 * (K + K.T)).tocsc()
+        try:
+            vals, vecs = scipy.sparse.linalg.eigsh(Ks, k=1, sigma=-1e-6 * top, which="LM", tol=1e-8)
+            lam, v = float(vals[0]), vecs[:, 0]
+        except (RuntimeError, scipy.sparse.linalg.ArpackNoConvergence) as exc:  # pragma: no cover
+            log.warning("mechanism check did not converge: %s", exc)
+            return None
+    if lam > MECHANISM_REL * top:
+        return None
+    mag = _point_norms(v)
+    k = int(np.argmax(mag))
+    free_idx = np.flatnonzero(s.free)
+    return int(free_idx[k]), v[2 * k:2 * k + 2]
+
+
+def _unattached(s: System) -> int | None:
+    """A free point that no rope reaches, if any."""
+    used = np.zeros(len(s.point_ids), dtype=bool)
+    used[s.a] = True
+    used[s.b] = True
+    lonely = np.flatnonzero(s.free & ~used)
+    return int(lonely[0]) if len(lonely) else None
+
+
+# --- the solver --------------------------------------------------------------------------------------
+
+def _start_x(s: System, start) -> np.ndarray:
+    xy = s.xy0.copy()
+    if start:
+        for i, pid in enumerate(s.point_ids):
+            if s.free[i] and pid in start:
+                px, py = start[pid]
+                if math.isfinite(px) and math.isfinite(py):
+                    xy[i] = (float(px), float(py))
+    return s.x_from(xy)
+
+
+@dataclass
+class _Solved:
+    state: State
+    ideal: State
+    iterations: int
+    converged: bool
+    runaway: int | None
+    w: np.ndarray
+
+
+def _solve_system(s: System, x0: np.ndarray, motion: str) -> _Solved | Result:
+    """Frictionless solve, mechanism check, then friction continuation; a failed Result on failure."""
+    kc = contact_stiffness(s)
+    rig = s.rig
+    lonely = _unattached(s)
+    if lonely is not None:
+        pid = s.point_ids[lonely]
+        return Result(status="mechanism", subject=pid,
+                      message=f"point {_point_name(rig, pid)} is not held: no rope is attached to it")
+    out = _newton(s, x0, None, kc, symmetric=True)
+    iters = out.iterations
+    if out.runaway is not None or not out.converged:
+        return _Solved(out.state, out.state, iters, False, out.runaway, out.state.w)
+    mech = _mechanism(s, out.state, kc)
+    if mech is not None:
+        i, v = mech
+        pid = s.point_ids[i]
+        words = _direction_words(float(v[0]), float(v[1]), rig.view == "elevation")
+        return Result(status="mechanism", subject=pid, iterations=iters,
+                      points=_all_points(s, out.state),
+                      message=f"point {_point_name(rig, pid)} is not held: it can move {words} "
+                              "with nothing resisting (tie it off, tension its ropes or add a load)")
+    ideal = out.state
+    st = out.state
+    w = st.w
+    if motion != "hold" and s.has_friction:
+        converged = False
+        for _outer in range(40):
+            w = friction.weights(s, st.u, motion)
+            fr = _newton(s, st.x, w, kc, symmetric=False)
+            iters += fr.iterations
+            st = fr.state
+            if fr.runaway is not None or not fr.converged:
+                return _Solved(st, ideal, iters, False, fr.runaway, w)
+            w_new = friction.weights(s, st.u, motion)
+            if not s.has_edges or np.max(np.abs(w_new / w - 1.0)) <= 1e-12:
+                if s.has_edges:
+                    st = evaluate(s, st.x, w_new, kc)
+                    w = w_new
+                converged = float(_point_norms(st.g).max()) <= ACCEPT_REL * _force_scale(s, st)
+                break
+        return _Solved(st, ideal, iters, converged, None, w)
+    return _Solved(st, ideal, iters, True, None, w)
+
+
+def _all_points(s: System, st: State) -> dict[str, tuple[float, float]]:
+    pos = {pid: (float(st.xy[i, 0]), float(st.xy[i, 1])) for i, pid in enumerate(s.point_ids)}
+    return {p.id: pos.get(p.id, (p.x, p.y)) for p in s.rig.points}
+
+
+def _resultants(s: System, st: State) -> np.ndarray:
+    """Force the ropes exert on every structural point (n_points, 2), N."""
+    f = np.zeros((len(s.point_ids), 2))
+    if s.n_pieces:
+        pull = st.N[:, None] * st.u  # rope pulls a toward b and b toward a
+        np.add.at(f, s.a, pull)
+        np.add.at(f, s.b, -pull)
+    return f
+
+
+def _anchor(fx: float, fy: float, capacity: float | None, sf: float) -> AnchorResult:
+    mag = math.hypot(fx, fy)
+    util = mag * sf / capacity if capacity else None
+    return AnchorResult(force_N=mag, direction_deg=math.degrees(math.atan2(fy, fx)) % 360.0 if mag > 0 else 0.0,
+                        capacity_N=capacity, utilization=util, fx_N=fx, fy_N=fy)
+
+
+def _mech_advantage(s: System, st: State) -> float | None:
+    """Force delivered to the load points over the input (haul forces, else external pulls)."""
+    rig = s.rig
+    f = _resultants(s, st)
+    load_ids = [i for i, pid in enumerate(s.point_ids) if rig.point(pid).kind == "load"]
+    if not load_ids:
+        return None
+    delivered = float(sum(math.hypot(*f[i]) for i in load_ids))
+    hauled = s.run_hauled
+    inp = float(s.run_P[hauled].sum()) if np.any(hauled) else float(sum(abs(fc.magnitude_N) for fc in rig.forces))
+    return delivered / inp if inp > 0 else None
+
+
+def _two_blocked(s: System, st: State) -> list[Warning_]:
+    out: list[Warning_] = []
+    seen: set[str] = set()
+    for k in np.flatnonzero(st.pen > 1e-3 * s.s_min):
+        pa, pb = s.point_ids[s.a[k]], s.point_ids[s.b[k]]
+        subject = pb if s.free[s.b[k]] else pa
+        if subject in seen:
+            continue
+        seen.add(subject)
+        out.append(Warning_(
+            code="two-blocked", subject=subject, severity="danger",
+            message=f'on rope "{s.piece_rope[k]}" the pass at "{subject}" has run into '
+                    f'"{pa if subject == pb else pb}": the system is two-blocked (out of throw); '
+                    "hauling further only loads the hardware — reset it"))
+    return out
+
+
+def _build_result(s: System, sol: _Solved, motion: str) -> Result:
+    rig = s.rig
+    st = sol.state
+    sf = rig.settings.min_safety_factor
+    run_in_rope = [_run_index_in_rope(s, g) for g in range(s.n_runs)]
+    segments = []
+    for k in range(s.n_pieces):
+        mat = s.materials[s.piece_mat[k]]
+        segments.append(SegmentResult(
+            rope=s.piece_rope[k], index=int(s.piece_index[k]), from_point=s.point_ids[s.a[k]],
+            to_point=s.point_ids[s.b[k]], tension_N=float(st.T[k]), length_m=float(st.l[k]),
+            strain=float(st.eps[k]), utilization=float(st.T[k] * sf / mat.mbs_N),
+            run=run_in_rope[s.piece_run[k]]))
+    f = _resultants(s, st)
+    anchors, loads = {}, {}
+    for i, pid in enumerate(s.point_ids):
+        p = rig.point(pid)
+        if p.kind == "anchor" and not s.free[i]:
+            anchors[pid] = _anchor(float(f[i, 0]), float(f[i, 1]), p.capacity_N, sf)
+        if p.kind == "load":
+            loads[pid] = _anchor(float(f[i, 0]), float(f[i, 1]), None, sf)
+    haul = {}
+    for r in np.flatnonzero(s.run_hauled):
+        hp = s.run_haul_point[r]
+        haul[hp] = haul.get(hp, 0.0) + float(s.run_P[r])
+    deflection = {}
+    for mp in s.middle_passes:
+        c = float(np.dot(st.u[mp.piece_in], st.u[mp.piece_out]))
+        deflection[mp.key] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
+    scale = _force_scale(s, st)
+    residual = float(_point_norms(st.g).max()) if s.n_dof else 0.0
+    warnings = _two_blocked(s, st)
+    for pid in s.ignored_forces:
+        warnings.append(Warning_("force-on-fixed-point", pid,
+                                 f'the force drawn at "{pid}" acts on a fixed point and is not part of the solve'))
+    status, message, subject = "ok", "", ""
+    # the length equation of every taut tied run must hold
+    taut = np.flatnonzero(s.run_L0 > 0) if s.n_runs else np.zeros(0, np.intp)
+    bad_len = None
+    if s.n_pieces:
+        unst = np.add.reduceat(st.l / (1.0 + st.eps), s.run_start)
+        tight = (~s.run_hauled) & (st.tau > 0)
+        err = np.abs(unst - s.run_L0) / s.run_L0
+        if np.any(tight & (err > 1e-9)):
+            bad_len = int(np.flatnonzero(tight & (err > 1e-9))[0])
+    del taut
+    if np.any(st.T < 0) or not sol.converged or bad_len is not None or residual > ACCEPT_REL * max(scale, 1e-9):
+        status = "diverged"
+        worst = int(np.argmax(_point_norms(st.g))) if s.n_dof else 0
+        subject = s.point_ids[np.flatnonzero(s.free)[worst]] if s.n_dof else ""
+        message = (f"no equilibrium found after {sol.iterations} iterations: the largest imbalance is "
+                   f"{residual:.3g} N at point {_point_name(rig, subject) if subject else ''}; "
+                   "check for a part of the rig that nothing holds")
+    ma = _mech_advantage(s, st)
+    ma_ideal = _mech_advantage(s, sol.ideal) if s.has_friction and motion != "hold" else ma
+    return Result(status=status, message=message, subject=subject, iterations=sol.iterations,
+                  residual_N=residual, points=_all_points(s, st), segments=tuple(segments), anchors=anchors,
+                  loads=loads, haul=haul, ma_actual=ma, ma_ideal=ma_ideal, deflection_deg=deflection,
+                  warnings=tuple(warnings))
+
+
+def _run_index_in_rope(s: System, g: int) -> int:
+    """Index of global run ``g`` within its rope."""
+    rope = s.run_rope[g]
+    i = g
+    while i > 0 and s.run_rope[i - 1] == rope:
+        i -= 1
+    return g - i
+
+
+def _runaway_result(s: System, sol: _Solved) -> Result:
+    rig = s.rig
+    i = sol.runaway
+    pid = s.point_ids[i]
+    dx, dy = sol.state.xy[i] - s.xy0[i]
+    heading = _heading_words(float(dx), float(dy), rig.view == "elevation")
+    return Result(status="diverged", subject=pid, iterations=sol.iterations,
+                  message=f"the rig cannot hold the load: point {_point_name(rig, pid)} runs away {heading} — "
+                          "the forces pulling it that way are more than the ropes can resist in any position "
+                          "(for example a haul too weak for the mechanical advantage, or a load with nothing "
+                          "under it)")
+
+
+def solve(rig: Rig, *, start=None, motion: str | None = None) -> Result:
+    """Solve ``rig`` for static equilibrium; ``start`` = {point_id: (x, y)} warm start, metres.
+
+    ``motion`` overrides ``rig.settings.motion`` ("haul", "hold" or "lower").  Never raises for
+    a bad rig: the Result's status, message and subject say what is wrong.
+    """
+    try:
+        s = compile_rig(rig, motion)
+    except RigModelError as exc:
+        return Result(status="invalid", message=exc.message, subject=exc.subject or exc.where)
+    motion = s.motion
+    sol = _solve_system(s, _start_x(s, start), motion)
+    if isinstance(sol, Result):
+        return sol
+    if sol.runaway is not None:
+        return _runaway_result(s, sol)
+    result = _build_result(s, sol, motion)
+    if motion == "hold" and result.ok and s.has_friction:
+        result = _with_hold_ranges(s, result, sol)
+    return result
+
+
+def _with_hold_ranges(s: System, held: Result, sol: _Solved) -> Result:
+    """Hold: static friction allows every pass between eta and 1/eta (edges e^(-+mu phi)); report extremes."""
+    from dataclasses import replace
+
+    extremes: list[Result] = []
+    for m in ("haul", "lower"):
+        sub = _solve_system(s, sol.state.x, m)
+        if isinstance(sub, Result) or not sub.converged or sub.runaway is not None:
+            return held
+        extremes.append(_build_result(s, sub, m))
+    anchor_range = {}
+    for aid, a in held.anchors.items():
+        vals = [a.force_N] + [r.anchors[aid].force_N for r in extremes]
+        anchor_range[aid] = HoldRange(min(vals), max(vals))
+    haul_range = {}
+    ma_hold = held.ma_actual
+    ma_haul, ma_lower = extremes[0].ma_actual, extremes[1].ma_actual
+    if ma_hold and ma_haul and ma_lower:
+        for hid, P in held.haul.items():
+            lo, hi = P * ma_hold / ma_lower, P * ma_hold / ma_haul
+            haul_range[hid] = HoldRange(min(lo, hi), max(lo, hi))
+    return replace(held, hold_anchor_range=anchor_range, hold_haul_range=haul_range)
+
+
+__all__ = ["solve", "PASS_EDGE", "PASS_PULLEY"]

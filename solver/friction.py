@@ -1,0 +1,54 @@
+"""Pass friction: tension ratios along each run from pulley efficiency and edge wrap (capstan).
+
+Piece k of a run carries T_k = w_k * tau, with w = 1 on the run's first piece and each
+middle pass multiplying by its factor in the rope's direction of travel (rig-format.md):
+``haul`` travels first -> last, so a pulley multiplies by 1/eta and an edge by e^(mu phi)
+(Euler-Eytelwein capstan equation, phi = wrap angle in radians); ``lower`` travels the other
+way (eta, e^(-mu phi)); ``hold`` and sliding passes are frictionless.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from numpy.typing import NDArray
+
+from solver.assembly import PASS_EDGE, PASS_PULLEY, System
+
+FloatArray = NDArray[np.float64]
+
+
+def turn_angles(s: System, u: FloatArray) -> FloatArray:
+    """Angle in radians through which the rope turns at the pass before each piece (0 on a run's first piece).
+
+    ``u`` holds the unit direction of every piece (n_pieces, 2); 0 = straight through, pi = doubled back.
+    """
+    phi = np.zeros(s.n_pieces)
+    inner = np.flatnonzero(~s.piece_first)
+    if len(inner):
+        cos = np.einsum("ij,ij->i", u[inner - 1], u[inner])
+        phi[inner] = np.arccos(np.clip(cos, -1.0, 1.0))
+    return phi
+
+
+def log_factors(s: System, u: FloatArray, motion: str) -> FloatArray:
+    """log of the tension ratio across the pass before each piece, for ``motion`` (haul/lower/hold)."""
+    if motion == "hold" or s.n_pieces == 0:
+        return np.zeros(s.n_pieces)
+    sign = 1.0 if motion == "haul" else -1.0
+    lf = np.zeros(s.n_pieces)
+    pul = s.pass_kind == PASS_PULLEY
+    lf[pul] = -sign * np.log(s.pass_eta[pul])
+    edge = s.pass_kind == PASS_EDGE
+    if np.any(edge):
+        lf[edge] = sign * s.pass_mu[edge] * turn_angles(s, u)[edge]
+    return lf
+
+
+def weights(s: System, u: FloatArray, motion: str) -> FloatArray:
+    """Tension weight w_k of every piece relative to its run's first piece (product of pass factors)."""
+    lf = log_factors(s, u, motion)
+    if s.n_pieces == 0:
+        return lf
+    cs = np.cumsum(lf)
+    start = s.run_start[s.piece_run]
+    return np.exp(cs - cs[start])
