@@ -28,7 +28,8 @@ def haulers_needed(required_N: float, ma_actual: float, per_person_N: float = DE
         raise RigModelError(f"The force per hauler must be above zero (got {per_person_N})",
                             subject="force_per_person_N")
     # a relative hair of tolerance so 2.000000000001 people (rounding) stays 2; any force needs one
-    return max(0, math.ceil(required_N / (ma_actual * per_person_N) * (1.0 - 1e-12)))
+    n = math.ceil(required_N / (ma_actual * per_person_N) * (1.0 - 1e-12))
+    return max(1 if required_N > 0 else 0, n)
 
 
 @dataclass(frozen=True)
