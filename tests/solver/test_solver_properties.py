@@ -1,0 +1,232 @@
+"""Properties every equilibrium must have, and failures the solver must name.
+
+Force balance is recomputed here from the Result's positions and segment tensions
+(numpy only, tests/rigs.py), never read from the solver's own residual; invariance
+under translation, rotation, unit scaling and mirroring is checked by solving the
+transformed rig (Galilean / frame invariance of statics: any mechanics text).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from hypothesis import HealthCheck, assume, given, settings
+from hypothesis import strategies as st
+
+from tests import rigs
+
+equilibrium = pytest.importorskip("solver.equilibrium")
+solve = equilibrium.solve
+
+PROP = settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+BOX = 20.0
+
+coord = st.floats(0.0, BOX, allow_nan=False, allow_infinity=False)
+
+
+@st.composite
+def random_rigs(draw, friction: bool = True):
+    """A plan-view rig: 2-4 anchors, 1-4 free points each tied toward the anchors, one long rope
+    through free points (tied, sliding or over a pulley), forces on every free point."""
+    n_anchor = draw(st.integers(2, 4))
+    n_free = draw(st.integers(1, 4))
+    xy = [(draw(coord), draw(coord)) for _ in range(n_anchor + n_free)]
+    # no two points closer than 1 m: the rig is drawn, not degenerate
+    for i in range(len(xy)):
+        for j in range(i):
+            assume(math.dist(xy[i], xy[j]) > 1.0)
+    anchors = [rigs.anchor(f"A{i}", *xy[i]) for i in range(n_anchor)]
+    frees = [rigs.free(f"P{i}", *xy[n_anchor + i]) for i in range(n_free)]
+    ids_a = [p.id for p in anchors]
+    ids_f = [p.id for p in frees]
+    ropes = []
+    hw = [rigs.pulley("pul", draw(st.sampled_from([1.0, 0.9, 0.6])))]
+
+    def rigging():
+        mode = draw(st.sampled_from(["tight", "slack", "pre"]))
+        if mode == "slack":
+            return {"slack_m": draw(st.floats(0.0, 0.5))}
+        if mode == "pre":
+            return {"pretension_N": draw(st.floats(20.0, 800.0))}
+        return {}
+
+    for i, pid in enumerate(ids_f):
+        earlier = ids_a + ids_f[:i]
+        picks = draw(st.lists(st.sampled_from(earlier), min_size=1, max_size=2, unique=True))
+        for other in picks:
+            ropes.append(rigs.rope(f"r{len(ropes)}", [other, pid], **rigging()))
+    a, b = draw(st.lists(st.sampled_from(ids_a), min_size=2, max_size=2, unique=True))
+    mids = draw(st.lists(st.sampled_from(ids_f), min_size=1, max_size=2, unique=True))
+    hows = ["tied", "sliding"] + (["pulley"] if friction else [])
+    middle = []
+    for m in mids:
+        how = draw(st.sampled_from(hows))
+        middle.append((m, how, "pul") if how == "pulley" else (m, how))
+    ropes.append(rigs.rope(f"r{len(ropes)}", [a, *middle, b], pretension_N=draw(st.floats(20.0, 500.0))))
+    forces = [rigs.force(pid, draw(st.floats(100.0, 2000.0)), draw(st.floats(0.0, 360.0))) for pid in ids_f]
+    motion = draw(st.sampled_from(["haul", "lower", "hold"]))
+    return rigs.make_rig(anchors + frees, ropes, forces, hardware=hw, motion=motion, ea=draw(st.sampled_from([2e4, 1e5, 1e6])))
+
+
+def solved(rig):
+    res = solve(rig)
+    assert res.status == "ok", rigs.describe(res)
+    return res
+
+
+def same_tensions(a, b, fmax: float) -> None:
+    ta = {(s.rope, s.index): s.tension_N for s in a.segments}
+    tb = {(s.rope, s.index): s.tension_N for s in b.segments}
+    assert ta.keys() == tb.keys()
+    for k in ta:
+        assert tb[k] == pytest.approx(ta[k], rel=1e-6, abs=1e-8 * fmax), f"segment {k}"
+
+
+# --- equilibrium ---------------------------------------------------------------------------
+
+
+@PROP
+@given(rig=random_rigs())
+def test_every_free_point_balances_to_1e_9_of_the_largest_force(rig):
+    res = solved(rig)
+    fmax = rigs.largest_force(rig, res)
+    for pid, r in rigs.free_point_residuals(rig, res).items():
+        assert float(np.linalg.norm(r)) <= 1e-9 * fmax, f"{pid}: imbalance {np.linalg.norm(r)} N, largest force {fmax} N"
+    assert all(s.tension_N >= 0.0 for s in res.segments), "ropes only pull"
+    assert res.residual_N <= 1e-7 * fmax
+
+
+@PROP
+@given(rig=random_rigs())
+def test_warm_start_from_the_answer_returns_the_same_answer(rig):
+    res = solved(rig)
+    again = solve(rig, start=rigs.start_from(res))
+    assert again.status == "ok", rigs.describe(again)
+    for pid in res.points:
+        np.testing.assert_allclose(again.points[pid], res.points[pid], atol=1e-7 * BOX)
+    same_tensions(res, again, rigs.largest_force(rig, res))
+
+
+# --- invariance ------------------------------------------------------------------------------
+
+
+@PROP
+@given(rig=random_rigs(), dx=st.floats(-500.0, 500.0), dy=st.floats(-500.0, 500.0))
+def test_translating_the_rig_translates_the_answer(rig, dx, dy):
+    a = solved(rig)
+    b = solved(rigs.transformed(rig, shift=(dx, dy)))
+    for pid in a.points:
+        np.testing.assert_allclose(b.points[pid], np.asarray(a.points[pid]) + [dx, dy], atol=1e-7 * (BOX + 500.0))
+    same_tensions(a, b, rigs.largest_force(rig, a))
+
+
+@PROP
+@given(rig=random_rigs(), angle=st.floats(0.0, 360.0))
+def test_rotating_the_rig_rotates_the_answer(rig, angle):
+    a = solved(rig)
+    b = solved(rigs.transformed(rig, angle_deg=angle))
+    for pid in a.points:
+        np.testing.assert_allclose(b.points[pid], rigs.map_point(a.points[pid], angle_deg=angle), atol=1e-7 * BOX)
+    same_tensions(a, b, rigs.largest_force(rig, a))
+
+
+@PROP
+@given(rig=random_rigs(), k=st.sampled_from([0.01, 0.3048, 3.0, 100.0]))
+def test_scaling_lengths_scales_positions_and_keeps_tensions(rig, k):
+    # lengths x k (incl. slack) with the same forces and rope stiffness: same strains, same tensions
+    a = solved(rig)
+    b = solved(rigs.transformed(rig, scale=k))
+    for pid in a.points:
+        np.testing.assert_allclose(b.points[pid], k * np.asarray(a.points[pid]), atol=1e-7 * BOX * k)
+    same_tensions(a, b, rigs.largest_force(rig, a))
+
+
+@PROP
+@given(rig=random_rigs())
+def test_mirroring_the_rig_mirrors_the_answer(rig):
+    a = solved(rig)
+    b = solved(rigs.transformed(rig, mirror=True))
+    for pid in a.points:
+        np.testing.assert_allclose(b.points[pid], rigs.map_point(a.points[pid], mirror=True), atol=1e-7 * BOX)
+    same_tensions(a, b, rigs.largest_force(rig, a))
+
+
+@PROP
+@given(
+    ax=st.floats(3.0, 15.0), ay=st.floats(-5.0, 5.0), px=st.floats(1.0, 6.0), py=st.floats(-8.0, -1.0),
+    w=st.floats(100.0, 3000.0), side=st.floats(0.0, 1500.0), ea=st.sampled_from([2e4, 1e5]),
+    ring=st.booleans(),
+)
+def test_symmetric_rig_keeps_its_mirror_symmetry(ax, ay, px, py, w, side, ea, ring):
+    # A rig symmetric about the y axis (anchors, free points, forces mirrored; a centre
+    # point pulled along the axis) must solve to a symmetric answer.
+    pts = [rigs.anchor("AL", -ax, ay), rigs.anchor("AR", ax, ay), rigs.free("PL", -px, py), rigs.free("PR", px, py),
+           rigs.free("C", 0.0, py - 2.0), rigs.anchor("TOP", 0.0, 6.0)]
+    mid = ("C", "sliding") if ring else "C"
+    ropes = [rigs.rope("l1", ["AL", "PL"]), rigs.rope("r1", ["AR", "PR"]), rigs.rope("l2", ["PL", "C"]),
+             rigs.rope("r2", ["PR", "C"]), rigs.rope("x", ["PL", mid, "PR"], pretension_N=50.0),
+             rigs.rope("t", ["TOP", "PL", "PR", "TOP"], slack_m=0.1)]
+    forces = [rigs.force("C", w, 270.0), rigs.force("PL", side, 200.0), rigs.force("PR", side, -20.0)]
+    rig = rigs.make_rig(pts, ropes, forces, motion="hold", ea=ea)
+    res = solved(rig)
+    pl, pr, c = rigs.xy(res, "PL"), rigs.xy(res, "PR"), rigs.xy(res, "C")
+    np.testing.assert_allclose(pr, [-pl[0], pl[1]], atol=1e-7 * BOX)
+    assert c[0] == pytest.approx(0.0, abs=1e-7 * BOX)
+    fmax = rigs.largest_force(rig, res)
+    for left, right in (("l1", "r1"), ("l2", "r2")):
+        assert rigs.tension(res, left, 0) == pytest.approx(rigs.tension(res, right, 0), rel=1e-6, abs=1e-9 * fmax)
+    assert rigs.tension(res, "t", 0) == pytest.approx(rigs.tension(res, "t", 2), rel=1e-6, abs=1e-9 * fmax)
+
+
+# --- failures, named ---------------------------------------------------------------------------
+
+
+def test_slack_unloaded_point_is_a_mechanism_naming_the_point():
+    # solver-notes.md: an unloaded point on a slack rope is a mechanism.
+    pts = [rigs.anchor("A1", 0, 0), rigs.anchor("A2", 10, 0), rigs.free("G1", 5, 0, label="loose grab"),
+           rigs.free("P2", 5, 5), rigs.anchor("A3", 5, 10)]
+    ropes = [rigs.rope("a", ["A1", "G1"], slack_m=0.5), rigs.rope("b", ["G1", "A2"], slack_m=0.5),
+             rigs.rope("c", ["A1", "P2", "A2"]), rigs.rope("d", ["P2", "A3"])]
+    rig = rigs.make_rig(pts, ropes, [rigs.force("P2", 300.0, 90.0)])
+    res = solve(rig)
+    assert res.status == "mechanism", rigs.describe(res)
+    assert res.subject == "G1" or "loose grab" in res.message, rigs.describe(res)
+    assert res.message
+
+
+def test_two_to_one_hauled_with_less_than_half_the_load_cannot_hold_and_says_so():
+    # A 2:1 (ideal MA 2, check-values.md) hauled with 400 N on a free load resisting 1000 N:
+    # no equilibrium, the load runs away (solver-notes.md "Cannot hold").
+    pts = [rigs.load("L", 0, 0, fixed=False, label="pinned raft"), rigs.anchor("A", 10, 0.2), rigs.haul("H", 10, -0.2, 400.0)]
+    ropes = [rigs.rope("m", ["A", ("L", "pulley", "pul"), ("H", "hauled")])]
+    rig = rigs.make_rig(pts, ropes, [rigs.force("L", 1000.0, 180.0)], hardware=[rigs.pulley("pul", 1.0)])
+    res = solve(rig)
+    assert res.status != "ok", rigs.describe(res)
+    assert res.status in ("mechanism", "diverged"), rigs.describe(res)
+    assert res.subject == "L" or "pinned raft" in res.message, rigs.describe(res)
+
+
+def test_coincident_points_are_invalid_and_named():
+    pts = [rigs.anchor("A1", 0, 0), rigs.free("P1", 0, 0, label="grab"), rigs.anchor("A2", 8, 0)]
+    ropes = [rigs.rope("a", ["A1", "P1", "A2"])]
+    rig = rigs.make_rig(pts, ropes, [rigs.force("P1", 100.0, 90.0)])
+    res = solve(rig)
+    assert res.status == "invalid", rigs.describe(res)
+    assert res.subject in ("A1", "P1", "a") or "grab" in res.message, rigs.describe(res)
+    assert res.message
+
+
+def test_bad_rigs_never_raise():
+    # rig-format.md / brief: solve never raises for a bad rig, it returns a named failure.
+    pts = [rigs.anchor("A1", 0, 0), rigs.free("P1", 3, 0)]
+    bad = [
+        rigs.make_rig(pts, [rigs.rope("a", ["A1", "NOPE"])]),  # unknown point
+        rigs.make_rig(pts, [rigs.rope("a", ["A1", "P1"], material="no-such-material")]),
+        rigs.make_rig(pts, [rigs.rope("a", ["A1", ("P1", "pulley", "no-such-pulley"), "A1"])]),
+    ]
+    for rig in bad:
+        res = solve(rig)
+        assert res.status == "invalid", rigs.describe(res)
+        assert res.message
