@@ -1,0 +1,506 @@
+"""The drawing surface: a scene of model-keyed items (metres, y down) and the view that shows it.
+
+``SketchScene.sync(rig)`` adds, removes and updates items by model key
+(``("point", id)``, ``("rope", id)``, ``("force", index)``, ``("feature", id)``),
+so an overlay layer (z ``theme.Z_OVERLAY``) can sit on top and find items by id.
+``SketchView`` zooms at the cursor with the wheel, pans with the middle button or
+space+drag, draws the grid (m or ft), a scale bar and a north arrow, snaps, and
+routes every other mouse and key event to the active tool (``sketchpad.tools``).
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+from dataclasses import dataclass
+
+from PySide6.QtCore import QPoint, QPointF, QRectF, Qt, Signal
+from PySide6.QtGui import QFontMetricsF, QKeyEvent, QMouseEvent, QPainter, QPainterPath, QPolygonF, QWheelEvent
+from PySide6.QtWidgets import QGraphicsItem, QGraphicsScene, QGraphicsView
+
+from sketchpad import theme
+from sketchpad.geometry import to_scene, to_site
+from sketchpad.items import (
+    FeatureItem,
+    ForceItem,
+    PointItem,
+    RopeItem,
+    SketchItem,
+    fmt_length,
+    make_point_item,
+)
+from sketchpad.tools import ToolDefaults
+from solver.model import Rig
+
+log = logging.getLogger(__name__)
+
+FT_IN_M = 0.3048  # NIST SP 811
+SCENE_HALF_EXTENT_M = 20000.0  # room to pan in every direction
+MIN_SCALE_PX_PER_M = 0.05
+MAX_SCALE_PX_PER_M = 5000.0
+WHEEL_ZOOM_PER_DEGREE = 1.01  # one wheel notch (15 degrees) zooms about 16 %
+PICK_RADIUS_PX = 11.0  # a click this close to a point picks it
+SNAP_RADIUS_PX = 10.0  # snapping to points within this distance
+FIT_MARGIN_FRACTION = 0.08
+
+
+def unit_metres(unit: str) -> float:
+    """Metres in one display length unit."""
+    return FT_IN_M if unit == "ft" else 1.0
+
+
+def nice_step(minimum: float) -> float:
+    """The smallest 1, 2 or 5 x 10^n not below ``minimum`` (> 0)."""
+    exp = math.floor(math.log10(minimum))
+    for mant in (1.0, 2.0, 5.0, 10.0):
+        step = mant * 10.0**exp
+        if step >= minimum * (1 - 1e-9):
+            return step
+    return 10.0 ** (exp + 1)
+
+
+class SketchScene(QGraphicsScene):
+    """Holds one item per model thing, keyed by ``(kind, id)``, kept in step with the Rig by :meth:`sync`."""
+
+    synced = Signal(object)  # the Rig just shown
+
+    def __init__(self, parent=None) -> None:
+        super().__init__(parent)
+        self.setSceneRect(QRectF(-SCENE_HALF_EXTENT_M, -SCENE_HALF_EXTENT_M, 2 * SCENE_HALF_EXTENT_M, 2 * SCENE_HALF_EXTENT_M))
+        self.setItemIndexMethod(QGraphicsScene.NoIndex)  # few items, all moving during drags
+        self.items_by_key: dict[tuple, SketchItem] = {}
+        self.rig = Rig()
+        self.scale_m_per_px = 0.05
+        self.background_item: QGraphicsItem | None = None
+
+    # --- model -> items -----------------------------------------------------------------
+    def sync(self, rig: Rig) -> None:
+        """Make the items show ``rig``: add what is new, update what changed, remove what is gone."""
+        self.rig = rig
+        wanted: set[tuple] = set()
+        for p in rig.points:
+            key = ("point", p.id)
+            wanted.add(key)
+            item = self.items_by_key.get(key)
+            if item is not None and item.point.kind != p.kind:
+                self._remove(key)
+                item = None
+            if item is None:
+                self._add(make_point_item(p))
+            elif item.point != p:
+                item.set_point(p)
+        for f in rig.site.features:
+            key = ("feature", f.id)
+            wanted.add(key)
+            item = self.items_by_key.get(key)
+            if item is None:
+                self._add(FeatureItem(f))
+            elif item.feature != f:
+                item.set_feature(f)
+        unit = rig.display.force
+        for i, f in enumerate(rig.forces):
+            if not rig.has_point(f.at):
+                continue
+            key = ("force", i)
+            wanted.add(key)
+            item = self.items_by_key.get(key)
+            if item is None:
+                item = ForceItem(i, f, unit)
+                self._add(item)
+            item.set_force(f, rig.point(f.at).xy, unit)
+        for r in rig.ropes:
+            key = ("rope", r.id)
+            wanted.add(key)
+            if key not in self.items_by_key:
+                self._add(RopeItem(r))
+        for key in [k for k in self.items_by_key if k not in wanted]:
+            self._remove(key)
+        self._layout_ropes()
+        self.synced.emit(rig)
+
+    def _layout_ropes(self) -> None:
+        positions = {p.id: to_scene(p.x, p.y) for p in self.rig.points}
+        kinds = {p.id: p.kind for p in self.rig.points}
+        for i, r in enumerate(self.rig.ropes):
+            item = self.items_by_key.get(("rope", r.id))
+            if item is not None:
+                item.set_rope(r, positions, kinds, theme.rope_colour(i), self.scale_m_per_px)
+
+    def set_scale(self, m_per_px: float) -> None:
+        """The view's zoom changed: glyphs drawn in metres are resized to keep their pixel size."""
+        if not math.isclose(m_per_px, self.scale_m_per_px, rel_tol=1e-9):
+            self.scale_m_per_px = m_per_px
+            self._layout_ropes()
+
+    def _add(self, item: SketchItem) -> None:
+        self.addItem(item)
+        self.items_by_key[item.key] = item
+
+    def _remove(self, key: tuple) -> None:
+        item = self.items_by_key.pop(key)
+        self.removeItem(item)
+
+    # --- look-ups -------------------------------------------------------------------------
+    def item_for(self, key: tuple) -> SketchItem | None:
+        return self.items_by_key.get(key)
+
+    def selected_keys(self) -> list[tuple]:
+        """Keys of the selected items, in scene order (points first is not guaranteed)."""
+        return [it.key for it in self.selectedItems() if isinstance(it, SketchItem)]
+
+    def select_keys(self, keys, add: bool = False) -> None:
+        """Select exactly ``keys`` (or add them to the selection)."""
+        if not add:
+            self.clearSelection()
+        for k in keys:
+            item = self.items_by_key.get(k)
+            if item is not None:
+                item.setSelected(True)
+
+    def model_bounds(self) -> QRectF:
+        """The scene rectangle (metres) covering every model item (not previews or overlays)."""
+        rect = QRectF()
+        for p in self.rig.points:
+            q = to_scene(p.x, p.y)
+            rect = rect.united(QRectF(q.x() - 0.5, q.y() - 0.5, 1.0, 1.0))
+        for f in self.rig.site.features:
+            for x, y in f.coords:
+                q = to_scene(x, y)
+                rect = rect.united(QRectF(q.x() - 0.1, q.y() - 0.1, 0.2, 0.2))
+        if self.background_item is not None:
+            rect = rect.united(self.background_item.sceneBoundingRect())
+        return rect
+
+    # --- layers for other modules -------------------------------------------------------------
+    def set_background_item(self, item: QGraphicsItem | None) -> None:
+        """Put the site image (or nothing) at the bottom of the z-order."""
+        if self.background_item is not None:
+            self.removeItem(self.background_item)
+        self.background_item = item
+        if item is not None:
+            item.setZValue(theme.Z_BACKGROUND)
+            self.addItem(item)
+
+    def add_overlay_item(self, item: QGraphicsItem) -> None:
+        """Add a result-overlay item above the model items (and below tool previews)."""
+        item.setZValue(theme.Z_OVERLAY)
+        self.addItem(item)
+
+
+@dataclass
+class CanvasEvent:
+    """A mouse event as a tool sees it: scene position (metres, y down), snapped site position, buttons."""
+
+    scene_pos: QPointF
+    view_pos: QPoint
+    button: Qt.MouseButton
+    modifiers: Qt.KeyboardModifier
+
+    @property
+    def site(self) -> tuple[float, float]:
+        return to_site(self.scene_pos)
+
+
+class SketchView(QGraphicsView):
+    """Shows the scene: zoom at cursor, pan, grid, scale bar, north arrow, snapping; routes input to the tool."""
+
+    cursor_moved = Signal(float, float)  # site x, y in metres
+    scale_changed = Signal(float)  # pixels per metre
+    escape_pressed = Signal()  # the tool was cancelled: the window returns to select
+    message = Signal(str)  # a hint or measurement for the status bar
+
+    def __init__(self, scene: SketchScene, document, parent=None) -> None:
+        super().__init__(scene, parent)
+        self._scene_ref = scene  # a view does not own its scene
+        self.document = document
+        self.tool = None
+        self.defaults = ToolDefaults()
+        self.grid_visible = True
+        self.snap_to_grid = False
+        self.snap_to_points = True
+        self._panning: QPoint | None = None
+        self._space_held = False
+        self.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing)
+        self.setHorizontalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
+        self.setVerticalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
+        self.setTransformationAnchor(QGraphicsView.NoAnchor)
+        self.setResizeAnchor(QGraphicsView.AnchorViewCenter)
+        self.setViewportUpdateMode(QGraphicsView.FullViewportUpdate)  # grid and HUD follow every pan
+        self.setDragMode(QGraphicsView.NoDrag)
+        self.setMouseTracking(True)
+        self.setFocusPolicy(Qt.StrongFocus)
+        self.setMinimumSize(320, 240)
+        self.resetTransform()
+        self.scale(20.0, 20.0)
+        self.centerOn(0, 0)
+        scene.set_scale(1.0 / 20.0)
+
+    # --- zoom and pan -----------------------------------------------------------------------
+    @property
+    def sketch_scene(self) -> SketchScene:
+        return self._scene_ref
+
+    @property
+    def px_per_m(self) -> float:
+        return float(self.transform().m11())
+
+    def zoom_at(self, factor: float, view_pos: QPoint) -> None:
+        """Zoom by ``factor`` keeping the scene point under ``view_pos`` where it is."""
+        current = self.px_per_m
+        factor = min(max(current * factor, MIN_SCALE_PX_PER_M), MAX_SCALE_PX_PER_M) / current
+        if math.isclose(factor, 1.0):
+            return
+        before = self.mapToScene(view_pos)
+        self.scale(factor, factor)
+        after = self.mapFromScene(before)
+        self._scroll_by(after - view_pos)
+        self._scale_changed()
+
+    def _scroll_by(self, delta: QPoint) -> None:
+        h, v = self.horizontalScrollBar(), self.verticalScrollBar()
+        h.setValue(h.value() + delta.x())
+        v.setValue(v.value() + delta.y())
+
+    def zoom_to_fit(self) -> None:
+        """Show every point and feature with a margin (or the origin area when empty)."""
+        rect = self.sketch_scene.model_bounds()
+        if rect.isNull() or rect.width() < 1e-9 and rect.height() < 1e-9:
+            rect = QRectF(-10, -10, 20, 20)
+        m = max(rect.width(), rect.height()) * FIT_MARGIN_FRACTION + 1.0
+        rect = rect.adjusted(-m, -m, m, m)
+        vp = self.viewport().rect()
+        if vp.width() < 10 or vp.height() < 10:
+            return
+        s = min(vp.width() / rect.width(), vp.height() / rect.height())
+        s = min(max(s, MIN_SCALE_PX_PER_M), MAX_SCALE_PX_PER_M)
+        self.resetTransform()
+        self.scale(s, s)
+        self.centerOn(rect.center())
+        self._scale_changed()
+
+    def _scale_changed(self) -> None:
+        self.sketch_scene.set_scale(1.0 / self.px_per_m)
+        self.scale_changed.emit(self.px_per_m)
+        self.viewport().update()
+
+    def wheelEvent(self, event: QWheelEvent) -> None:  # noqa: N802
+        degrees = event.angleDelta().y() / 8.0
+        if degrees:
+            self.zoom_at(WHEEL_ZOOM_PER_DEGREE**degrees, event.position().toPoint())
+        event.accept()
+
+    # --- snapping and picking --------------------------------------------------------------
+    @property
+    def length_unit(self) -> str:
+        return self.sketch_scene.rig.display.length
+
+    def grid_step_m(self) -> float:
+        """Minor grid spacing in metres for the current zoom and display unit."""
+        u = unit_metres(self.length_unit)
+        return nice_step(theme.GRID_MIN_SPACING_PX / (self.px_per_m * u)) * u
+
+    def pick_point(self, view_pos: QPoint, exclude=(), kinds=None) -> str | None:
+        """The id of the point nearest ``view_pos`` within the pick radius, or None."""
+        best, best_d = None, PICK_RADIUS_PX
+        for p in self.sketch_scene.rig.points:
+            if p.id in exclude or (kinds is not None and p.kind not in kinds):
+                continue
+            q = self.mapFromScene(to_scene(p.x, p.y))
+            d = math.hypot(q.x() - view_pos.x(), q.y() - view_pos.y())
+            if d <= best_d:
+                best, best_d = p.id, d
+        return best
+
+    def item_at(self, view_pos: QPoint) -> SketchItem | None:
+        """The topmost model item under ``view_pos`` (labels count as their feature)."""
+        for it in self.items(view_pos):
+            while it is not None and not isinstance(it, SketchItem):
+                it = it.parentItem()
+            if isinstance(it, SketchItem):
+                return it
+        return None
+
+    def snap(self, scene_pos: QPointF, exclude=()) -> tuple[float, float]:
+        """Site (x, y) metres for ``scene_pos``: onto a nearby point if enabled, else onto the grid if enabled."""
+        if self.snap_to_points:
+            pid = self.pick_point(self.mapFromScene(scene_pos), exclude=exclude)
+            if pid is not None and SNAP_RADIUS_PX > 0:
+                p = self.sketch_scene.rig.point(pid)
+                q = self.mapFromScene(to_scene(p.x, p.y))
+                v = self.mapFromScene(scene_pos)
+                if math.hypot(q.x() - v.x(), q.y() - v.y()) <= SNAP_RADIUS_PX:
+                    return (p.x, p.y)
+        x, y = to_site(scene_pos)
+        if self.snap_to_grid:
+            g = self.grid_step_m()
+            x, y = round(x / g) * g, round(y / g) * g
+        return (x, y)
+
+    def status_message(self, text: str) -> None:
+        self.message.emit(text)
+
+    # --- events -> tool -------------------------------------------------------------------------
+    def set_tool(self, tool) -> None:
+        if self.tool is not None:
+            self.tool.deactivate()
+        self.tool = tool
+        if tool is not None:
+            tool.activate()
+            self.viewport().setCursor(tool.cursor)
+
+    def _event(self, event: QMouseEvent) -> CanvasEvent:
+        vp = event.position().toPoint()
+        return CanvasEvent(self.mapToScene(vp), vp, event.button(), event.modifiers())
+
+    def mousePressEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+        if event.button() == Qt.MiddleButton or (event.button() == Qt.LeftButton and self._space_held):
+            self._panning = event.position().toPoint()
+            self.viewport().setCursor(Qt.ClosedHandCursor)
+            event.accept()
+            return
+        self.setFocus()
+        if self.tool is not None:
+            self.tool.press(self._event(event))
+        event.accept()
+
+    def mouseMoveEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+        vp = event.position().toPoint()
+        if self._panning is not None:
+            self._scroll_by(self._panning - vp)
+            self._panning = vp
+            event.accept()
+            return
+        ev = self._event(event)
+        self.cursor_moved.emit(*ev.site)
+        if self.tool is not None:
+            self.tool.move(ev)
+        event.accept()
+
+    def mouseReleaseEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+        if self._panning is not None:
+            self._panning = None
+            self.viewport().setCursor(Qt.OpenHandCursor if self._space_held else (self.tool.cursor if self.tool else Qt.ArrowCursor))
+            event.accept()
+            return
+        if self.tool is not None:
+            self.tool.release(self._event(event))
+        event.accept()
+
+    def mouseDoubleClickEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+        if self.tool is not None and event.button() == Qt.LeftButton:
+            self.tool.double_click(self._event(event))
+        event.accept()
+
+    def keyPressEvent(self, event: QKeyEvent) -> None:  # noqa: N802
+        key = event.key()
+        if key == Qt.Key_Space and not event.isAutoRepeat():
+            self._space_held = True
+            self.viewport().setCursor(Qt.OpenHandCursor)
+            event.accept()
+            return
+        if key == Qt.Key_Escape:
+            if self.tool is not None:
+                self.tool.cancel()
+            self.escape_pressed.emit()
+            event.accept()
+            return
+        if key in (Qt.Key_Return, Qt.Key_Enter) and self.tool is not None:
+            self.tool.finish()
+            event.accept()
+            return
+        if self.tool is not None and self.tool.key(event):
+            event.accept()
+            return
+        super().keyPressEvent(event)
+
+    def keyReleaseEvent(self, event: QKeyEvent) -> None:  # noqa: N802
+        if event.key() == Qt.Key_Space and not event.isAutoRepeat():
+            self._space_held = False
+            self.viewport().setCursor(self.tool.cursor if self.tool else Qt.ArrowCursor)
+            event.accept()
+            return
+        super().keyReleaseEvent(event)
+
+    # --- grid, scale bar, north arrow ---------------------------------------------------------
+    def drawBackground(self, painter: QPainter, rect: QRectF) -> None:  # noqa: N802
+        painter.fillRect(rect, theme.PAPER)
+        if not self.grid_visible:
+            return
+        step = self.grid_step_m()
+        major = step * theme.GRID_MAJOR_EVERY
+        painter.setRenderHint(QPainter.Antialiasing, False)
+        for spacing, colour in ((step, theme.GRID_MINOR), (major, theme.GRID_MAJOR)):
+            painter.setPen(theme.cosmetic_pen(colour, 1.0))
+            x = math.floor(rect.left() / spacing) * spacing
+            lines = []
+            while x <= rect.right():
+                lines.append((QPointF(x, rect.top()), QPointF(x, rect.bottom())))
+                x += spacing
+            y = math.floor(rect.top() / spacing) * spacing
+            while y <= rect.bottom():
+                lines.append((QPointF(rect.left(), y), QPointF(rect.right(), y)))
+                y += spacing
+            for a, b in lines:
+                painter.drawLine(a, b)
+        painter.setPen(theme.cosmetic_pen(theme.GRID_AXIS, 1.0))
+        painter.drawLine(QPointF(0, rect.top()), QPointF(0, rect.bottom()))
+        painter.drawLine(QPointF(rect.left(), 0), QPointF(rect.right(), 0))
+
+    def drawForeground(self, painter: QPainter, rect: QRectF) -> None:  # noqa: N802
+        painter.save()
+        painter.resetTransform()
+        painter.setRenderHint(QPainter.Antialiasing, True)
+        self._draw_scale_bar(painter)
+        self._draw_orientation(painter)
+        painter.restore()
+
+    def scale_bar_length_m(self) -> float:
+        """The scale bar's length in metres: a round number of display units near the target width."""
+        u = unit_metres(self.length_unit)
+        return nice_step(theme.SCALE_BAR_TARGET_PX / (self.px_per_m * u) * 0.7) * u
+
+    def _draw_scale_bar(self, painter: QPainter) -> None:
+        length_m = self.scale_bar_length_m()
+        w = length_m * self.px_per_m
+        h = theme.SCALE_BAR_HEIGHT_PX
+        m = theme.HUD_MARGIN_PX
+        vp = self.viewport().rect()
+        x0, y0 = m + 6, vp.height() - m - h
+        f = theme.font(theme.HUD_POINT_SIZE)
+        fm = QFontMetricsF(f)
+        text = fmt_length(length_m, self.length_unit)
+        painter.setPen(Qt.NoPen)
+        painter.setBrush(theme.HUD_BACK)
+        painter.drawRoundedRect(QRectF(x0 - 6, y0 - fm.height() - 6, max(w, fm.horizontalAdvance(text)) + 12, h + fm.height() + 10), 4, 4)
+        painter.setPen(theme.pixel_pen(theme.HUD_TEXT, 1.0))
+        for i in range(2):
+            painter.setBrush(theme.HUD_TEXT if i == 0 else theme.PAPER)
+            painter.drawRect(QRectF(x0 + i * w / 2, y0, w / 2, h))
+        painter.setFont(f)
+        painter.drawText(QPointF(x0, y0 - 4), text)
+
+    def _draw_orientation(self, painter: QPainter) -> None:
+        """North arrow in plan view; an arrow labelled "up" in elevation view."""
+        vp = self.viewport().rect()
+        s = theme.NORTH_ARROW_PX
+        m = theme.HUD_MARGIN_PX
+        cx, top = vp.width() - m - s / 2, m + 4
+        elevation = self.sketch_scene.rig.view == "elevation"
+        painter.setPen(Qt.NoPen)
+        painter.setBrush(theme.HUD_BACK)
+        painter.drawEllipse(QPointF(cx, top + s * 0.62), s * 0.72, s * 0.72)
+        path = QPainterPath()
+        path.addPolygon(QPolygonF([QPointF(cx, top), QPointF(cx + s * 0.28, top + s), QPointF(cx, top + s * 0.78),
+                                   QPointF(cx - s * 0.28, top + s)]))
+        path.closeSubpath()
+        painter.setPen(theme.pixel_pen(theme.HUD_TEXT, 1.0))
+        painter.setBrush(theme.HUD_TEXT)
+        painter.drawPath(path)
+        painter.setFont(theme.font(theme.HUD_POINT_SIZE, bold=True))
+        label = "up" if elevation else "N"
+        fm = QFontMetricsF(painter.font())
+        painter.setPen(theme.HUD_TEXT)
+        painter.drawText(QPointF(cx - fm.horizontalAdvance(label) / 2, top + s + fm.ascent() + 1), label)
+
+
+__all__ = ["SketchScene", "SketchView", "CanvasEvent", "PointItem", "RopeItem", "nice_step", "unit_metres"]

@@ -1,0 +1,595 @@
+"""Canvas items: one QGraphicsItem subclass per kind of thing in the sketch, each a view of one model id.
+
+Items never edit the model and never change geometry inside ``paint()``; the
+scene (``sketchpad.canvas.SketchScene``) creates them, feeds them model data
+through ``set_*`` methods and removes them by key.  Point markers, force arrows
+and labels keep their size in screen pixels; rope paths and site features live
+in metres.  Rope items also need the current metres-per-pixel (``scale_m_per_px``)
+so that pulleys, rings, knots and edge wedges keep a readable size at any zoom.
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+from typing import Iterable, Sequence
+
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import (
+    QBrush,
+    QColor,
+    QFontMetricsF,
+    QPainter,
+    QPainterPath,
+    QPainterPathStroker,
+    QPen,
+    QPolygonF,
+    QTransform,
+)
+from PySide6.QtWidgets import QGraphicsItem, QGraphicsSimpleTextItem, QStyleOptionGraphicsItem
+
+from sketchpad import theme
+from sketchpad.geometry import to_scene
+from solver.model import Feature, Force, Point, Rope
+
+log = logging.getLogger(__name__)
+
+# --- display units (solver.units when present) --------------------------------------------
+try:  # pragma: no cover - depends on which helper has landed
+    from solver.units import format_force as _format_force
+    from solver.units import format_length as _format_length
+except ImportError:  # TODO(lead): drop this fallback once solver/units.py is merged
+    _format_force = None
+    _format_length = None
+
+FT_IN_M = 0.3048  # NIST SP 811, exact by definition
+LBF_IN_N = 4.4482216152605  # NIST SP 811
+
+
+def fmt_length(metres: float, unit: str) -> str:
+    """A length for a person to read, in ``unit`` ("m" or "ft")."""
+    if _format_length is not None:
+        return _format_length(metres, unit)
+    if unit == "ft":
+        return f"{metres / FT_IN_M:.1f} ft"
+    return f"{metres:.2f} m"
+
+
+def fmt_force(newtons: float, unit: str) -> str:
+    """A force for a person to read, in ``unit`` ("N", "kN" or "lbf")."""
+    if _format_force is not None:
+        return _format_force(newtons, unit)
+    if unit == "kN":
+        return f"{newtons / 1000.0:.2f} kN"
+    if unit == "lbf":
+        return f"{newtons / LBF_IN_N:.0f} lbf"
+    return f"{newtons:.0f} N"
+
+
+# --- small vector helpers (scene coordinates) ------------------------------------------------
+def _unit(v: QPointF) -> QPointF:
+    n = math.hypot(v.x(), v.y())
+    return QPointF(1.0, 0.0) if n < 1e-12 else QPointF(v.x() / n, v.y() / n)
+
+
+def _left(v: QPointF) -> QPointF:
+    return QPointF(-v.y(), v.x())
+
+
+def _dot(a: QPointF, b: QPointF) -> float:
+    return a.x() * b.x() + a.y() * b.y()
+
+
+def _draw_halo_text(painter: QPainter, pos: QPointF, text: str, colour: QColor, font) -> None:
+    """Text with a paper-coloured halo so it stays readable over ropes and water."""
+    path = QPainterPath()
+    path.addText(pos, font, text)
+    painter.setPen(QPen(theme.LABEL_HALO, 3.0, Qt.SolidLine, Qt.RoundCap, Qt.RoundJoin))
+    painter.setBrush(Qt.NoBrush)
+    painter.drawPath(path)
+    painter.setPen(Qt.NoPen)
+    painter.setBrush(colour)
+    painter.drawPath(path)
+
+
+class SketchItem(QGraphicsItem):
+    """Base of every model view: carries the model ``key`` (kind, id) the scene indexes it by."""
+
+    def __init__(self, key: tuple) -> None:
+        super().__init__()
+        self.key = key
+        self.setFlag(QGraphicsItem.ItemIsSelectable, True)
+
+    @property
+    def model_id(self):
+        return self.key[1]
+
+
+# --- points ------------------------------------------------------------------------------
+class PointItem(SketchItem):
+    """Base marker for a point of any kind: position, label and selection halo, in screen pixels."""
+
+    KIND = "point"
+
+    def __init__(self, point: Point) -> None:
+        super().__init__(("point", point.id))
+        self.setFlag(QGraphicsItem.ItemIgnoresTransformations, True)
+        self.setZValue(theme.Z_POINT)
+        self.point = point
+        self._label = ""
+        self._label_rect = QRectF()
+        self.set_point(point)
+
+    @property
+    def radius(self) -> float:
+        return theme.POINT_RADIUS_PX.get(self.point.kind, 5.0)
+
+    def set_point(self, point: Point) -> None:
+        """Show ``point``: move to its position and relabel if needed."""
+        self.point = point
+        label = point.name
+        if label != self._label:
+            self.prepareGeometryChange()
+            self._label = label
+            fm = QFontMetricsF(theme.font())
+            r = self.radius
+            w = fm.horizontalAdvance(label)
+            self._label_rect = QRectF(r + theme.LABEL_GAP_PX, -r - fm.ascent(), w, fm.height())
+        self.setPos(to_scene(point.x, point.y))
+        self.setToolTip(f"{point.name} ({point.kind})")
+        self.update()
+
+    def marker_rect(self) -> QRectF:
+        r = self.radius
+        return QRectF(-r, -r, 2 * r, 2 * r)
+
+    def boundingRect(self) -> QRectF:  # noqa: N802 - Qt name
+        m = theme.SELECTION_WIDTH_PX + 2
+        return self.marker_rect().adjusted(-m, -m, m, m).united(self._label_rect.adjusted(-3, -3, 3, 3))
+
+    def shape(self) -> QPainterPath:
+        path = QPainterPath()
+        path.addEllipse(self.marker_rect().adjusted(-2, -2, 2, 2))
+        return path
+
+    def paint(self, painter: QPainter, option: QStyleOptionGraphicsItem, widget=None) -> None:
+        painter.setRenderHint(QPainter.Antialiasing, True)
+        if self.isSelected():
+            painter.setPen(theme.pixel_pen(theme.SELECTION, theme.SELECTION_WIDTH_PX))
+            painter.setBrush(Qt.NoBrush)
+            r = self.radius + 3
+            painter.drawEllipse(QRectF(-r, -r, 2 * r, 2 * r))
+        self.paint_marker(painter)
+        if self._label:
+            baseline = QPointF(self._label_rect.left(), self._label_rect.top() + QFontMetricsF(theme.font()).ascent())
+            _draw_halo_text(painter, baseline, self._label, theme.LABEL_TEXT, theme.font())
+
+    def paint_marker(self, painter: QPainter) -> None:
+        """A free point: a small open circle."""
+        painter.setPen(theme.pixel_pen(theme.POINT_OUTLINE, theme.POINT_OUTLINE_PX))
+        painter.setBrush(theme.POINT_FILL["point"])
+        painter.drawEllipse(self.marker_rect())
+
+
+class FreePointItem(PointItem):
+    """A free junction (master point, rope-grab spot, travelling pulley, a hand)."""
+
+
+class AnchorItem(PointItem):
+    """An anchor: a dark square (something solid) with a white eye."""
+
+    def paint_marker(self, painter: QPainter) -> None:
+        r = self.radius
+        painter.setPen(theme.pixel_pen(theme.POINT_OUTLINE, theme.POINT_OUTLINE_PX))
+        painter.setBrush(theme.POINT_FILL["anchor"])
+        painter.drawRoundedRect(QRectF(-r, -r, 2 * r, 2 * r), 2.0, 2.0)
+        painter.setPen(theme.pixel_pen(theme.POINT_MARK, 1.6))
+        painter.setBrush(Qt.NoBrush)
+        painter.drawEllipse(QRectF(-r * 0.42, -r * 0.42, r * 0.84, r * 0.84))
+
+
+class LoadItem(PointItem):
+    """The load: an amber diamond with a dot."""
+
+    def paint_marker(self, painter: QPainter) -> None:
+        r = self.radius
+        poly = QPolygonF([QPointF(0, -r), QPointF(r, 0), QPointF(0, r), QPointF(-r, 0)])
+        painter.setPen(theme.pixel_pen(theme.POINT_OUTLINE, theme.POINT_OUTLINE_PX))
+        painter.setBrush(theme.POINT_FILL["load"])
+        painter.drawPolygon(poly)
+        painter.setPen(Qt.NoPen)
+        painter.setBrush(theme.POINT_MARK)
+        painter.drawEllipse(QRectF(-2, -2, 4, 4))
+
+
+class HaulItem(PointItem):
+    """Where a haul team stands: a green disc with two white chevrons (people pulling)."""
+
+    def paint_marker(self, painter: QPainter) -> None:
+        r = self.radius
+        painter.setPen(theme.pixel_pen(theme.POINT_OUTLINE, theme.POINT_OUTLINE_PX))
+        painter.setBrush(theme.POINT_FILL["haul"])
+        painter.drawEllipse(self.marker_rect())
+        painter.setPen(theme.pixel_pen(theme.POINT_MARK, 1.5))
+        for dx in (-r * 0.35, r * 0.15):
+            painter.drawPolyline(
+                QPolygonF([QPointF(dx - r * 0.15, -r * 0.4), QPointF(dx + r * 0.2, 0), QPointF(dx - r * 0.15, r * 0.4)])
+            )
+
+
+class PersonItem(PointItem):
+    """A rescuer's position (not part of the structure): a violet head-and-shoulders sign."""
+
+    def paint_marker(self, painter: QPainter) -> None:
+        r = self.radius
+        painter.setPen(theme.pixel_pen(theme.POINT_OUTLINE, 1.0))
+        painter.setBrush(theme.POINT_FILL["person"])
+        body = QPainterPath()
+        body.moveTo(-r, r)
+        body.cubicTo(-r, -0.1 * r, r, -0.1 * r, r, r)
+        body.closeSubpath()
+        painter.drawPath(body)
+        painter.drawEllipse(QRectF(-0.42 * r, -r, 0.84 * r, 0.84 * r))
+
+
+POINT_ITEM_CLASSES: dict[str, type[PointItem]] = {
+    "anchor": AnchorItem,
+    "load": LoadItem,
+    "haul": HaulItem,
+    "point": FreePointItem,
+    "person": PersonItem,
+}
+
+
+def make_point_item(point: Point) -> PointItem:
+    """The marker item for ``point``'s kind."""
+    return POINT_ITEM_CLASSES.get(point.kind, FreePointItem)(point)
+
+
+# --- ropes ---------------------------------------------------------------------------------
+class RopeItem(SketchItem):
+    """A rope's path with a glyph at every pass: knot (tied), sheave (pulley), ring (sliding),
+    wedge (edge) and an arrow beyond the hauled end.  Drawn in metres; glyph sizes follow
+    ``scale_m_per_px`` so they keep their size on screen.
+    """
+
+    def __init__(self, rope: Rope) -> None:
+        super().__init__(("rope", rope.id))
+        self.setZValue(theme.Z_ROPE)
+        self.rope = rope
+        self.colour = theme.rope_colour(0)
+        self._path = QPainterPath()
+        self._glyphs: list[tuple[str, QPointF, float, QPointF]] = []  # (kind, centre, radius m, direction)
+        self._arrow = QPolygonF()
+        self._label_pos = QPointF()
+        self._label = ""
+        self._k = 0.01
+        self._bounds = QRectF()
+        self._shape = QPainterPath()
+
+    def set_rope(self, rope: Rope, positions: dict, kinds: dict, colour: QColor, scale_m_per_px: float) -> None:
+        """Rebuild the path from ``rope`` and the scene positions of its points."""
+        self.prepareGeometryChange()
+        self.rope = rope
+        self.colour = QColor(colour)
+        self._k = float(scale_m_per_px)
+        self._build(positions, kinds)
+        self.setToolTip(f"{rope.name} ({rope.material})")
+        self.update()
+
+    # geometry ----------------------------------------------------------------------
+    def _build(self, positions: dict, kinds: dict) -> None:
+        k = self._k
+        passes = [p for p in self.rope.path if p.at in positions]
+        pts = [QPointF(positions[p.at]) for p in passes]
+        self._glyphs = []
+        self._arrow = QPolygonF()
+        path = QPainterPath()
+        n = len(pts)
+        if n == 0:
+            self._path = path
+            self._finish_bounds()
+            return
+        path.moveTo(pts[0])
+        longest = (0.0, pts[0], pts[0])
+        for i in range(n):
+            p = pts[i]
+            how = passes[i].how
+            marker = theme.POINT_RADIUS_PX.get(kinds.get(passes[i].at, "point"), 5.0) * k
+            u_prev = _unit(pts[i - 1] - p) if i > 0 else None
+            u_next = _unit(pts[i + 1] - p) if i < n - 1 else None
+            if i > 0:
+                seg = math.hypot(*(p - pts[i - 1]).toTuple())
+                if seg > longest[0]:
+                    longest = (seg, pts[i - 1], p)
+            if 0 < i < n - 1 and how in ("pulley", "sliding"):
+                r = (theme.PULLEY_RADIUS_PX if how == "pulley" else theme.RING_RADIUS_PX) * k
+                s = u_prev + u_next
+                if math.hypot(s.x(), s.y()) < 1e-6:
+                    b = _left(u_next)
+                else:
+                    b = _unit(s)
+                c = p + b * (marker + theme.GLYPH_GAP_PX * k + r)
+                t_in = self._tangent(c, -u_prev, b, r)
+                t_out = self._tangent(c, u_next, b, r)
+                path.lineTo(t_in)
+                for q in self._arc(c, r, t_in, t_out, b):
+                    path.lineTo(q)
+                self._glyphs.append((how, c, r, b))
+                continue
+            path.lineTo(p)
+            if i == 0 or (i < n - 1 and how == "tied") or (i == n - 1 and how != "hauled"):
+                d = u_next if i == 0 else u_prev
+                kr = theme.KNOT_RADIUS_PX * k
+                self._glyphs.append(("tied", p + d * (marker + theme.GLYPH_GAP_PX * k + kr), kr, d))
+            elif how == "edge":
+                s = (u_prev + u_next) if (u_prev is not None and u_next is not None) else QPointF(0, 1)
+                b = _left(u_next) if math.hypot(s.x(), s.y()) < 1e-6 else _unit(s)
+                self._glyphs.append(("edge", p, theme.EDGE_SIZE_PX * k, b))
+            elif i == n - 1 and how == "hauled":
+                d = -u_prev
+                tip = p + d * (marker + theme.HAUL_ARROW_PX * k)
+                path.lineTo(tip)
+                h = theme.HAUL_ARROW_HEAD_PX * k
+                side = _left(d) * (h * 0.5)
+                base = tip - d * h
+                self._arrow = QPolygonF([tip + d * (h * 0.2), base + side, base - side])
+        self._path = path
+        self._label = self.rope.name
+        _, a, b2 = longest
+        mid = (a + b2) * 0.5
+        normal = _left(_unit(b2 - a))
+        if normal.y() > 0:  # keep labels above the line on screen
+            normal = -normal
+        self._label_pos = mid + normal * (theme.ROPE_LABEL_OFFSET_PX * k)
+        self._finish_bounds()
+
+    @staticmethod
+    def _tangent(c: QPointF, direction: QPointF, inside: QPointF, r: float) -> QPointF:
+        """Where a rope travelling along ``direction`` touches a sheave at ``c`` on the side away from ``inside``."""
+        n = _left(direction)
+        if _dot(n, inside) > 0:
+            n = -n
+        return c + n * r
+
+    @staticmethod
+    def _arc(c: QPointF, r: float, a: QPointF, b: QPointF, inside: QPointF, steps: int = 10) -> list[QPointF]:
+        """Points along the sheave from ``a`` to ``b`` going round the outside (away from ``inside``)."""
+        a0 = math.atan2(a.y() - c.y(), a.x() - c.x())
+        a1 = math.atan2(b.y() - c.y(), b.x() - c.x())
+        sweep = (a1 - a0) % (2 * math.pi)
+        outside = math.atan2(-inside.y(), -inside.x())
+
+        def mid_score(sw: float) -> float:
+            m = a0 + sw / 2
+            return math.cos(m - outside)
+
+        if mid_score(sweep - 2 * math.pi) > mid_score(sweep):
+            sweep -= 2 * math.pi
+        return [c + QPointF(math.cos(a0 + sweep * t / steps), math.sin(a0 + sweep * t / steps)) * r for t in range(1, steps + 1)]
+
+    def _finish_bounds(self) -> None:
+        k = self._k
+        rect = self._path.boundingRect()
+        for _, c, r, _d in self._glyphs:
+            rect = rect.united(QRectF(c.x() - r * 1.5, c.y() - r * 1.5, r * 3, r * 3))
+        rect = rect.united(self._arrow.boundingRect())
+        if self._label:
+            fm = QFontMetricsF(theme.font(theme.SMALL_POINT_SIZE))
+            w = fm.horizontalAdvance(self._label) * k
+            h = fm.height() * k
+            rect = rect.united(QRectF(self._label_pos.x() - w / 2 - k, self._label_pos.y() - h, w + 2 * k, h * 1.5))
+        m = (theme.SELECTION_WIDTH_PX + theme.ROPE_WIDTH_PX) * k
+        self._bounds = rect.adjusted(-m, -m, m, m)
+        stroker = QPainterPathStroker()
+        stroker.setWidth(theme.ROPE_HIT_PX * k)
+        self._shape = stroker.createStroke(self._path)
+
+    # Qt interface -------------------------------------------------------------------
+    def boundingRect(self) -> QRectF:  # noqa: N802
+        return self._bounds
+
+    def shape(self) -> QPainterPath:
+        return self._shape
+
+    def glyph_kinds(self) -> list[str]:
+        """The glyphs drawn, in path order (for tests and exports)."""
+        return [g[0] for g in self._glyphs] + (["hauled"] if not self._arrow.isEmpty() else [])
+
+    def paint(self, painter: QPainter, option: QStyleOptionGraphicsItem, widget=None) -> None:
+        painter.setRenderHint(QPainter.Antialiasing, True)
+        k = self._k
+        if self.isSelected():
+            painter.setPen(theme.cosmetic_pen(theme.SELECTION, theme.ROPE_WIDTH_PX + 2 * theme.SELECTION_WIDTH_PX))
+            painter.setBrush(Qt.NoBrush)
+            painter.drawPath(self._path)
+        rope_pen = theme.cosmetic_pen(self.colour, theme.ROPE_WIDTH_PX)
+        painter.setPen(rope_pen)
+        painter.setBrush(Qt.NoBrush)
+        painter.drawPath(self._path)
+        for kind, c, r, d in self._glyphs:
+            if kind == "pulley":
+                painter.setPen(theme.cosmetic_pen(self.colour, 1.6))
+                painter.setBrush(theme.PULLEY_FILL)
+                painter.drawEllipse(c, r * 0.82, r * 0.82)
+                painter.setPen(Qt.NoPen)
+                painter.setBrush(self.colour)
+                a = theme.PULLEY_AXLE_PX * k
+                painter.drawEllipse(c, a, a)
+            elif kind == "sliding":
+                painter.setPen(theme.cosmetic_pen(self.colour, 1.8))
+                painter.setBrush(Qt.NoBrush)
+                painter.drawEllipse(c, r, r)
+            elif kind == "tied":
+                painter.setPen(theme.cosmetic_pen(theme.POINT_OUTLINE, 1.0))
+                painter.setBrush(self.colour)
+                painter.drawEllipse(c, r, r)
+                painter.setPen(theme.cosmetic_pen(theme.POINT_MARK, 1.0))
+                side = _left(d) * (r * 0.6)
+                painter.drawLine(c + side, c - side)
+            elif kind == "edge":
+                side = _left(d) * (r * 0.55)
+                base = c + d * r
+                painter.setPen(theme.cosmetic_pen(theme.POINT_OUTLINE, 1.0))
+                painter.setBrush(theme.EDGE_FILL)
+                painter.drawPolygon(QPolygonF([c, base + side, base - side]))
+        if not self._arrow.isEmpty():
+            painter.setPen(theme.cosmetic_pen(self.colour, 1.0))
+            painter.setBrush(self.colour)
+            painter.drawPolygon(self._arrow)
+        if self._label:
+            painter.save()
+            painter.translate(self._label_pos)
+            painter.scale(k, k)
+            f = theme.font(theme.SMALL_POINT_SIZE, bold=True)
+            w = QFontMetricsF(f).horizontalAdvance(self._label)
+            _draw_halo_text(painter, QPointF(-w / 2, 0), self._label, self.colour, f)
+            painter.restore()
+
+
+# --- forces --------------------------------------------------------------------------------
+class ForceItem(SketchItem):
+    """An external force the planner put on a free point: an arrow and its size, in screen pixels."""
+
+    def __init__(self, index: int, force: Force, unit: str = "kN") -> None:
+        super().__init__(("force", index))
+        self.setFlag(QGraphicsItem.ItemIgnoresTransformations, True)
+        self.setZValue(theme.Z_FORCE)
+        self.force = force
+        self._text = ""
+        self._bounds = QRectF()
+        self.set_force(force, (0.0, 0.0), unit)
+
+    def set_force(self, force: Force, at_xy: tuple[float, float], unit: str) -> None:
+        self.prepareGeometryChange()
+        self.force = force
+        text = fmt_force(force.magnitude_N, unit)
+        self._text = f"{text}  {force.label}".strip() if force.label else text
+        self.setPos(to_scene(*at_xy))
+        d = self._direction()
+        tip = d * theme.FORCE_LENGTH_PX
+        fm = QFontMetricsF(theme.font(theme.SMALL_POINT_SIZE))
+        label = QRectF(tip.x() + 4, tip.y() - fm.ascent(), fm.horizontalAdvance(self._text) + 4, fm.height())
+        m = theme.FORCE_HEAD_PX + theme.SELECTION_WIDTH_PX
+        self._bounds = QRectF(QPointF(0, 0), tip).normalized().adjusted(-m, -m, m, m).united(label)
+        self.update()
+
+    def _direction(self) -> QPointF:
+        a = math.radians(self.force.direction_deg)
+        return QPointF(math.cos(a), -math.sin(a))  # site y up -> screen y down
+
+    def boundingRect(self) -> QRectF:  # noqa: N802
+        return self._bounds
+
+    def shape(self) -> QPainterPath:
+        stroker = QPainterPathStroker()
+        stroker.setWidth(theme.ROPE_HIT_PX)
+        line = QPainterPath()
+        line.moveTo(0, 0)
+        line.lineTo(self._direction() * theme.FORCE_LENGTH_PX)
+        return stroker.createStroke(line)
+
+    def paint(self, painter: QPainter, option: QStyleOptionGraphicsItem, widget=None) -> None:
+        painter.setRenderHint(QPainter.Antialiasing, True)
+        d = self._direction()
+        tip = d * theme.FORCE_LENGTH_PX
+        if self.isSelected():
+            painter.setPen(theme.pixel_pen(theme.SELECTION, theme.FORCE_WIDTH_PX + 2 * theme.SELECTION_WIDTH_PX))
+            painter.drawLine(QPointF(0, 0), tip)
+        painter.setPen(theme.pixel_pen(theme.FORCE_COLOUR, theme.FORCE_WIDTH_PX))
+        h = theme.FORCE_HEAD_PX
+        painter.drawLine(QPointF(0, 0), tip - d * h * 0.8)
+        side = _left(d) * (h * 0.45)
+        painter.setBrush(theme.FORCE_COLOUR)
+        painter.setPen(Qt.NoPen)
+        painter.drawPolygon(QPolygonF([tip, tip - d * h + side, tip - d * h - side]))
+        fm = QFontMetricsF(theme.font(theme.SMALL_POINT_SIZE))
+        _draw_halo_text(painter, QPointF(tip.x() + 5, tip.y() + fm.ascent() / 2 - 1), self._text,
+                        theme.FORCE_COLOUR, theme.font(theme.SMALL_POINT_SIZE))
+
+
+# --- site features ----------------------------------------------------------------------------
+class FeatureItem(SketchItem):
+    """A site feature in metres: water, boulder, hazard (polygons), bank or note (lines), with its label."""
+
+    def __init__(self, feature: Feature) -> None:
+        super().__init__(("feature", feature.id))
+        self.setZValue(theme.Z_FEATURE)
+        self.feature = feature
+        self._path = QPainterPath()
+        self._closed = True
+        self._label = QGraphicsSimpleTextItem(self)
+        self._label.setFlag(QGraphicsItem.ItemIgnoresTransformations, True)
+        self._label.setFont(theme.font(theme.SMALL_POINT_SIZE))
+        self.set_feature(feature)
+
+    def set_feature(self, feature: Feature) -> None:
+        self.prepareGeometryChange()
+        self.feature = feature
+        coords = [to_scene(x, y) for x, y in feature.coords]
+        self._closed = feature.polygon is not None
+        path = QPainterPath()
+        if coords:
+            if self._closed:
+                path.addPolygon(QPolygonF(coords))
+                path.closeSubpath()
+            else:
+                path.moveTo(coords[0])
+                for c in coords[1:]:
+                    path.lineTo(c)
+        self._path = path
+        self._label.setText(feature.label)
+        self._label.setBrush(theme.FEATURE_LABEL.get(feature.kind, theme.LABEL_TEXT))
+        self._label.setFont(theme.font(theme.SMALL_POINT_SIZE, italic=True))
+        if coords:
+            if self._closed:  # inside the top-left corner, where it rarely sits on the rig
+                self._label.setPos(QPointF(min(c.x() for c in coords), min(c.y() for c in coords)))
+                self._label.setTransform(QTransform.fromTranslate(theme.FEATURE_LABEL_INSET_PX, theme.FEATURE_LABEL_INSET_PX))
+            else:  # just below the line's middle vertex
+                self._label.setPos(coords[len(coords) // 2])
+                self._label.setTransform(QTransform.fromTranslate(0, 2))
+        self.setToolTip(f"{feature.label or feature.id} ({feature.kind})")
+        self.update()
+
+    def boundingRect(self) -> QRectF:  # noqa: N802
+        r = self._path.boundingRect()
+        m = max(r.width(), r.height(), 1.0) * 0.01 + 0.5
+        return r.adjusted(-m, -m, m, m)
+
+    def shape(self) -> QPainterPath:
+        if self._closed:
+            return self._path
+        stroker = QPainterPathStroker()
+        stroker.setWidth(0.5)
+        return stroker.createStroke(self._path)
+
+    def paint(self, painter: QPainter, option: QStyleOptionGraphicsItem, widget=None) -> None:
+        painter.setRenderHint(QPainter.Antialiasing, True)
+        kind = self.feature.kind
+        if self.isSelected():
+            painter.setPen(theme.cosmetic_pen(theme.SELECTION, theme.SELECTION_WIDTH_PX * 2))
+            painter.setBrush(Qt.NoBrush)
+            painter.drawPath(self._path)
+        edge = theme.FEATURE_EDGE.get(kind, theme.FEATURE_EDGE["note"])
+        style = Qt.DashLine if kind in ("bank", "note") else Qt.SolidLine
+        painter.setPen(theme.cosmetic_pen(edge, theme.FEATURE_EDGE_PX.get(kind, 1.0), style))
+        if self._closed:
+            brush = QBrush(theme.feature_brush(kind))
+            lod = QStyleOptionGraphicsItem.levelOfDetailFromTransform(painter.worldTransform())
+            if brush.style() not in (Qt.SolidPattern, Qt.NoBrush) and lod > 0:
+                brush.setTransform(QTransform.fromScale(1.0 / lod, 1.0 / lod))  # hatch in screen pixels
+            if kind == "hazard":
+                painter.fillPath(self._path, theme.FEATURE_FILL["hazard"])
+            painter.setBrush(brush)
+        else:
+            painter.setBrush(Qt.NoBrush)
+        painter.drawPath(self._path)
+
+
+def keys_of(items: Iterable[SketchItem]) -> list[tuple]:
+    """The model keys of some items, in order."""
+    return [it.key for it in items if isinstance(it, SketchItem)]
+
+
+def point_ids(keys: Sequence[tuple]) -> list[str]:
+    return [k[1] for k in keys if k[0] == "point"]

@@ -1,0 +1,342 @@
+"""The main window: canvas in the middle, tool bars, menus, a right dock area for panels, status bar.
+
+A thin shell over the model: ``self.document`` holds the Rig and its undo stack,
+``self.canvas`` (a :class:`~sketchpad.canvas.SketchScene`) mirrors it item by item,
+``self.view`` shows it and routes input to the active tool.  Other modules extend
+the window through ``menu_file``, ``menu_edit``, ``menu_view``, ``menu_insert``,
+``menu_tools``, ``menu_help`` (each a QMenu attribute), :meth:`add_panel` for
+docks on the right, and ``document.changed`` / ``canvas.synced`` for updates.
+"""
+
+from __future__ import annotations
+
+import logging
+import pathlib
+
+from PySide6.QtCore import QSignalBlocker, Qt
+from PySide6.QtGui import QAction, QActionGroup, QKeySequence
+from PySide6.QtWidgets import (
+    QComboBox,
+    QDockWidget,
+    QLabel,
+    QMainWindow,
+    QMessageBox,
+    QToolBar,
+    QUndoView,
+    QWidget,
+)
+
+from sketchpad.canvas import SketchScene, SketchView
+from sketchpad.document import Document
+from sketchpad.items import fmt_length
+from sketchpad.tools import delete_keys, make_tools, set_display
+from solver.errors import RopewrightError
+from solver.model import FEATURE_KINDS, MIDDLE_HOWS, Rig
+
+log = logging.getLogger(__name__)
+
+APP_NAME = "Ropewright"
+DEFAULT_SIZE = (1400, 900)
+STATUS_MESSAGE_MS = 6000
+
+#: material and hardware ids offered before solver.materials is importable (rig-format library ids)
+FALLBACK_MATERIALS = ("kern-11", "kern-12.5", "throwline-pp-8", "dynamic-10.5", "cord-8", "webbing-25", "sling-hmpe")
+FALLBACK_PULLEYS = ("pulley-large", "pulley-small", "pulley-bushing", "carabiner", "ring")
+FALLBACK_EDGES = ("edge-rock", "edge-concrete", "edge-timber", "edge-steel")
+
+#: tool name -> (menu, shortcut)
+TOOL_KEYS: dict[str, tuple[str, str]] = {
+    "select": ("tools", "V"),
+    "place-anchor": ("insert", "A"),
+    "place-load": ("insert", "L"),
+    "place-haul": ("insert", "H"),
+    "place-point": ("insert", "J"),
+    "place-person": ("insert", "P"),
+    "rope": ("tools", "R"),
+    "force": ("tools", "F"),
+    "feature": ("tools", "G"),
+    "measure": ("tools", "M"),
+}
+UNIT_SYSTEMS = {"metric": ("m", "kN"), "imperial": ("ft", "lbf")}
+
+
+def _library_ids() -> tuple[tuple[str, ...], tuple[str, ...], tuple[str, ...]]:
+    """Material, pulley-like and edge hardware ids from the library (or the documented fallback list)."""
+    try:
+        from solver.materials import LIBRARY_HARDWARE, LIBRARY_MATERIALS
+    except ImportError:
+        return FALLBACK_MATERIALS, FALLBACK_PULLEYS, FALLBACK_EDGES
+    pulleys = tuple(k for k, h in LIBRARY_HARDWARE.items() if h.kind != "edge")
+    edges = tuple(k for k, h in LIBRARY_HARDWARE.items() if h.kind == "edge")
+    return tuple(LIBRARY_MATERIALS), pulleys or FALLBACK_PULLEYS, edges or FALLBACK_EDGES
+
+
+class MainWindow(QMainWindow):
+    """Ropewright's main window around one Document."""
+
+    def __init__(self, document: Document | None = None, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.document = document if document is not None else Document(parent=self)
+        self.canvas = SketchScene(self)
+        self.view = SketchView(self.canvas, self.document, self)
+        self.setCentralWidget(self.view)
+        self.setDockOptions(QMainWindow.AnimatedDocks | QMainWindow.AllowTabbedDocks)
+        self.tools = make_tools(self.view)
+        self.tool_actions: dict[str, QAction] = {}
+        self._build_actions()
+        self._build_menus()
+        self._build_toolbars()
+        self._build_docks()
+        self._build_status()
+        self.document.changed.connect(self._on_rig_changed)
+        self.document.path_changed.connect(lambda _p: self._update_title())
+        self.document.undo_stack.cleanChanged.connect(lambda _c: self._update_title())
+        self.view.escape_pressed.connect(lambda: self.set_tool("select"))
+        self.view.message.connect(lambda t: self.statusBar().showMessage(t, STATUS_MESSAGE_MS))
+        self.view.cursor_moved.connect(self._show_cursor)
+        self.set_tool("select")
+        self._on_rig_changed(self.document.rig)
+        self.resize(*DEFAULT_SIZE)
+
+    # --- actions ---------------------------------------------------------------------------
+    def _action(self, text: str, slot=None, shortcut=None, checkable: bool = False, tip: str = "") -> QAction:
+        act = QAction(text, self)
+        if shortcut is not None:
+            act.setShortcuts(shortcut if isinstance(shortcut, list) else [QKeySequence(shortcut)])
+        act.setCheckable(checkable)
+        if tip:
+            act.setStatusTip(tip)
+            act.setToolTip(tip)
+        if slot is not None:
+            act.triggered.connect(slot)
+        return act
+
+    def _build_actions(self) -> None:
+        stack = self.document.undo_stack
+        self.action_undo = self._action("&Undo", self.undo, [QKeySequence(QKeySequence.Undo)])
+        self.action_redo = self._action("&Redo", self.redo, [QKeySequence(QKeySequence.Redo), QKeySequence("Ctrl+Y")])
+        stack.canUndoChanged.connect(self.action_undo.setEnabled)
+        stack.canRedoChanged.connect(self.action_redo.setEnabled)
+        stack.undoTextChanged.connect(lambda t: self.action_undo.setText(f"&Undo {t}".strip()))
+        stack.redoTextChanged.connect(lambda t: self.action_redo.setText(f"&Redo {t}".strip()))
+        self.action_undo.setEnabled(False)
+        self.action_redo.setEnabled(False)
+        self.action_delete = self._action("&Delete", self.delete_selection,
+                                          [QKeySequence(QKeySequence.Delete), QKeySequence(Qt.Key_Backspace)],
+                                          tip="Delete the selection and every pass and force that depends on it")
+        self.action_select_all = self._action("Select &all", self.select_all, [QKeySequence(QKeySequence.SelectAll)])
+        self.action_quit = self._action("&Quit", self.close, [QKeySequence(QKeySequence.Quit)])
+        self.action_zoom_fit = self._action("Zoom to &fit", self.view.zoom_to_fit, "Ctrl+0")
+        self.action_zoom_in = self._action("Zoom &in", lambda: self.view.zoom_at(1.25, self.view.viewport().rect().center()),
+                                           [QKeySequence(QKeySequence.ZoomIn)])
+        self.action_zoom_out = self._action("Zoom &out", lambda: self.view.zoom_at(0.8, self.view.viewport().rect().center()),
+                                            [QKeySequence(QKeySequence.ZoomOut)])
+        self.action_grid = self._action("Show &grid", self._toggle_grid, "Ctrl+'", checkable=True)
+        self.action_grid.setChecked(self.view.grid_visible)
+        self.action_snap_grid = self._action("Snap to g&rid", self._toggle_snap, checkable=True)
+        self.action_snap_grid.setChecked(self.view.snap_to_grid)
+        self.action_snap_points = self._action("Snap to &points", self._toggle_snap, checkable=True)
+        self.action_snap_points.setChecked(self.view.snap_to_points)
+        self.unit_group = QActionGroup(self)
+        self.unit_actions: dict[str, QAction] = {}
+        for system, (length, force) in UNIT_SYSTEMS.items():
+            act = self._action(f"{system.capitalize()} units ({length}, {force})", checkable=True)
+            act.triggered.connect(lambda _c=False, s=system: self.set_units(s))
+            self.unit_group.addAction(act)
+            self.unit_actions[system] = act
+        self.tool_group = QActionGroup(self)
+        self.tool_group.setExclusive(True)
+        for name, tool in self.tools.items():
+            act = self._action(tool.label, checkable=True, tip=tool.hint)
+            act.setShortcut(QKeySequence(TOOL_KEYS.get(name, ("tools", ""))[1]))
+            act.setData(name)
+            act.triggered.connect(lambda _c=False, n=name: self.set_tool(n))
+            self.tool_group.addAction(act)
+            self.tool_actions[name] = act
+
+    def _build_menus(self) -> None:
+        bar = self.menuBar()
+        self.menu_file = bar.addMenu("&File")
+        self.menu_file.addAction(self.action_quit)
+        self.menu_edit = bar.addMenu("&Edit")
+        for a in (self.action_undo, self.action_redo):
+            self.menu_edit.addAction(a)
+        self.menu_edit.addSeparator()
+        self.menu_edit.addAction(self.action_delete)
+        self.menu_edit.addAction(self.action_select_all)
+        self.menu_view = bar.addMenu("&View")
+        for a in (self.action_zoom_fit, self.action_zoom_in, self.action_zoom_out):
+            self.menu_view.addAction(a)
+        self.menu_view.addSeparator()
+        for a in (self.action_grid, self.action_snap_grid, self.action_snap_points):
+            self.menu_view.addAction(a)
+        self.menu_view.addSeparator()
+        for a in self.unit_actions.values():
+            self.menu_view.addAction(a)
+        self.menu_view.addSeparator()
+        self.menu_panels = self.menu_view.addMenu("&Panels")
+        self.menu_insert = bar.addMenu("&Insert")
+        self.menu_tools = bar.addMenu("&Tools")
+        for name, act in self.tool_actions.items():
+            (self.menu_insert if TOOL_KEYS.get(name, ("tools",))[0] == "insert" else self.menu_tools).addAction(act)
+        self.menu_help = bar.addMenu("&Help")
+        self.action_drawing_help = self._action("Drawing &keys", self.show_drawing_help, [QKeySequence(QKeySequence.HelpContents)])
+        self.menu_help.addAction(self.action_drawing_help)
+
+    def _build_toolbars(self) -> None:
+        self.toolbar_tools = QToolBar("Tools", self)
+        self.toolbar_tools.setObjectName("toolbar_tools")
+        for act in self.tool_actions.values():
+            self.toolbar_tools.addAction(act)
+        self.addToolBar(Qt.TopToolBarArea, self.toolbar_tools)
+        self.addToolBarBreak(Qt.TopToolBarArea)
+        self.toolbar_options = QToolBar("Drawing options", self)
+        self.toolbar_options.setObjectName("toolbar_options")
+        materials, pulleys, edges = _library_ids()
+        d = self.view.defaults
+        self.combo_how = self._combo(MIDDLE_HOWS, d.how, "how", "How a rope passes a middle point unless a modifier says otherwise")
+        self.combo_material = self._combo(materials, d.material, "material", "Material of new ropes")
+        self.combo_pulley = self._combo(pulleys, d.pulley_hardware, "pulley_hardware", "Hardware at new pulley passes")
+        self.combo_edge = self._combo(edges, d.edge_hardware, "edge_hardware", "Edge at new edge passes")
+        self.combo_feature = self._combo(FEATURE_KINDS, d.feature_kind, "feature_kind", "Kind of new site features")
+        for label, combo in (("Passes", self.combo_how), ("Rope", self.combo_material), ("Pulley", self.combo_pulley),
+                             ("Edge", self.combo_edge), ("Feature", self.combo_feature)):
+            self.toolbar_options.addWidget(QLabel(f" {label} "))
+            self.toolbar_options.addWidget(combo)
+        self.addToolBar(Qt.TopToolBarArea, self.toolbar_options)
+
+    def _combo(self, items, current: str, field: str, tip: str) -> QComboBox:
+        combo = QComboBox(self)
+        combo.addItems(list(items))
+        if current not in items:
+            combo.addItem(current)
+        combo.setCurrentText(current)
+        combo.setToolTip(tip)
+        combo.setFocusPolicy(Qt.ClickFocus)
+        combo.currentTextChanged.connect(lambda text: setattr(self.view.defaults, field, text))
+        return combo
+
+    def _build_docks(self) -> None:
+        self.history_view = QUndoView(self.document.undo_stack)
+        self.history_view.setEmptyLabel("Opened sketch")
+        self.history_dock = self.add_panel(self.history_view, "History", "dock_history")
+
+    def add_panel(self, widget: QWidget, title: str, object_name: str | None = None,
+                  area: Qt.DockWidgetArea = Qt.RightDockWidgetArea) -> QDockWidget:
+        """Dock ``widget`` (right side by default) and list it under View > Panels."""
+        dock = QDockWidget(title, self)
+        dock.setObjectName(object_name or f"dock_{title.lower().replace(' ', '_')}")
+        dock.setWidget(widget)
+        self.addDockWidget(area, dock)
+        self.menu_panels.addAction(dock.toggleViewAction())
+        return dock
+
+    def _build_status(self) -> None:
+        self.cursor_label = QLabel("")
+        self.cursor_label.setMinimumWidth(220)
+        self.statusBar().addPermanentWidget(self.cursor_label)
+
+    # --- behaviour --------------------------------------------------------------------------
+    def set_tool(self, name: str) -> None:
+        """Make ``name`` the active tool (finishing or dropping what the last one was doing)."""
+        tool = self.tools[name]
+        if self.view.tool is not tool:
+            self.view.set_tool(tool)
+        act = self.tool_actions[name]
+        if not act.isChecked():
+            act.setChecked(True)
+
+    @property
+    def tool(self):
+        return self.view.tool
+
+    def _cancel_tool(self) -> None:
+        if self.view.tool is not None:
+            self.view.tool.cancel()
+
+    def undo(self) -> None:
+        self._cancel_tool()
+        self.document.undo_stack.undo()
+
+    def redo(self) -> None:
+        self._cancel_tool()
+        self.document.undo_stack.redo()
+
+    def delete_selection(self) -> None:
+        """Delete what is selected and everything depending on it, as one undoable step."""
+        keys = self.canvas.selected_keys()
+        if not keys:
+            return
+        self._cancel_tool()
+        new = delete_keys(self.document.rig, keys)
+        n = len(keys)
+        what = keys[0][1] if n == 1 else f"{n} items"
+        self.document.apply(new, f"Delete {what}")
+
+    def select_all(self) -> None:
+        self.canvas.select_keys(list(self.canvas.items_by_key))
+
+    def set_units(self, system: str) -> None:
+        """Show lengths and forces in ``system`` ("metric" or "imperial"); stored in the rig, undoable."""
+        length, force = UNIT_SYSTEMS[system]
+        rig = self.document.rig
+        self.document.apply(set_display(rig, length, force), f"Show {system} units")
+
+    def _toggle_grid(self, on: bool) -> None:
+        self.view.grid_visible = bool(on)
+        self.view.viewport().update()
+
+    def _toggle_snap(self, _on: bool = False) -> None:
+        self.view.snap_to_grid = self.action_snap_grid.isChecked()
+        self.view.snap_to_points = self.action_snap_points.isChecked()
+
+    def _on_rig_changed(self, rig: Rig) -> None:
+        self.canvas.sync(rig)
+        system = "imperial" if rig.display.length == "ft" else "metric"
+        with QSignalBlocker(self.unit_group):
+            self.unit_actions[system].setChecked(True)
+        self._update_title()
+        self.view.viewport().update()
+
+    def _update_title(self) -> None:
+        path = self.document.path
+        name = path.name if path is not None else (self.document.rig.title or "untitled sketch")
+        self.setWindowTitle(f"{name}[*] — {APP_NAME}")
+        self.setWindowModified(self.document.is_modified)
+
+    def _show_cursor(self, x: float, y: float) -> None:
+        unit = self.view.length_unit
+        self.cursor_label.setText(f"x {fmt_length(x, unit)}   y {fmt_length(y, unit)}")
+
+    def open_path(self, path, show_errors: bool = True) -> bool:
+        """Load a rig file into the document (clearing history) and fit it in view; False on a bad file."""
+        try:
+            from solver.rigfile import load_rig
+
+            rig = load_rig(pathlib.Path(path))
+        except (RopewrightError, OSError) as exc:
+            log.warning("could not open %s: %s", path, exc)
+            if show_errors:
+                QMessageBox.warning(self, APP_NAME, f"Could not open {path}:\n{exc}")
+            return False
+        self.document.replace_all(rig, pathlib.Path(path))
+        self.view.zoom_to_fit()
+        return True
+
+    def showEvent(self, event) -> None:  # noqa: N802
+        super().showEvent(event)
+        if not getattr(self, "_fitted_once", False):
+            self._fitted_once = True
+            self.view.zoom_to_fit()
+
+    def show_drawing_help(self) -> None:
+        QMessageBox.information(
+            self,
+            f"{APP_NAME}: drawing keys",
+            "Tools: V select, A anchor, L load, H haul team, J free point, P person, R rope, F force, "
+            "G site feature, M measure. Esc returns to select.\n\n"
+            "Rope: click the points in order from the load end; empty space makes a free point. "
+            "Shift+click pulley, Ctrl+click tied, Alt+click sliding, Ctrl+Shift+click edge; otherwise the "
+            "'Passes' choice. Enter or double-click ends; a haul team ends the rope hauled.\n\n"
+            "View: wheel zooms at the cursor; middle button or Space+drag pans; Ctrl+0 fits the sketch.",
+        )

@@ -1,0 +1,161 @@
+"""Ropewright's visual language in one place: colours, pens, fonts, glyph sizes and z-order.
+
+Every ``paint()`` and every widget style reads from here, so the sketch looks
+the same on screen, in screenshots and in exports.  Sizes ending in ``_PX`` are
+screen pixels (they stay the same at every zoom); everything else on the
+canvas is in metres.  The palette is our own: warm paper, muted site colours
+and saturated, distinct rope colours so a rigger can follow each line.
+"""
+
+from __future__ import annotations
+
+from functools import lru_cache
+
+from PySide6.QtCore import Qt
+from PySide6.QtGui import QBrush, QColor, QFont, QPen
+
+# --- z-order plan (higher draws on top) ------------------------------------------------
+Z_BACKGROUND = 0.0  # site image (sketchpad.background)
+Z_FEATURE = 10.0  # water, boulders, banks, hazards, notes
+Z_ROPE = 20.0  # rope paths with their pass glyphs
+Z_FORCE = 25.0  # external forces drawn from the model
+Z_POINT = 30.0  # anchors, loads, haul teams, free points, people
+Z_OVERLAY = 40.0  # solver results (tensions, resultants, danger zones)
+Z_PREVIEW = 50.0  # what a tool is drawing right now (rubber band, rope in progress)
+
+# --- fonts -----------------------------------------------------------------------------
+FONT_FAMILY = "DejaVu Sans"
+LABEL_POINT_SIZE = 9
+SMALL_POINT_SIZE = 8
+HUD_POINT_SIZE = 8
+
+
+@lru_cache(maxsize=None)
+def font(size: int = LABEL_POINT_SIZE, bold: bool = False, italic: bool = False) -> QFont:
+    """The one sans-serif face used everywhere, at ``size`` points."""
+    f = QFont(FONT_FAMILY, size)
+    f.setBold(bold)
+    f.setItalic(italic)
+    return f
+
+
+# --- paper and grid ----------------------------------------------------------------------
+PAPER = QColor("#f6f4ee")
+GRID_MINOR = QColor("#e7e3d8")
+GRID_MAJOR = QColor("#d2cbbb")
+GRID_AXIS = QColor("#b9ae97")
+GRID_MIN_SPACING_PX = 14  # minor grid lines never closer than this
+GRID_MAJOR_EVERY = 5
+
+HUD_TEXT = QColor("#3a3a36")
+HUD_BACK = QColor(246, 244, 238, 215)
+HUD_MARGIN_PX = 14
+SCALE_BAR_TARGET_PX = 120
+SCALE_BAR_HEIGHT_PX = 6
+NORTH_ARROW_PX = 34
+
+# --- labels ---------------------------------------------------------------------------------
+LABEL_TEXT = QColor("#23231f")
+LABEL_HALO = QColor(246, 244, 238, 220)
+LABEL_GAP_PX = 4
+
+# --- selection and previews -------------------------------------------------------------
+SELECTION = QColor("#ffb000")
+SELECTION_WIDTH_PX = 3.0
+PREVIEW = QColor("#2a6fdb")
+RUBBER_BAND_FILL = QColor(42, 111, 219, 40)
+MEASURE = QColor("#8a2be2")
+
+# --- points ------------------------------------------------------------------------------
+#: marker radius in pixels for each point kind
+POINT_RADIUS_PX: dict[str, float] = {"anchor": 8.0, "load": 9.0, "haul": 8.0, "point": 4.5, "person": 7.0}
+POINT_FILL: dict[str, QColor] = {
+    "anchor": QColor("#33414a"),  # slate: something solid in the ground
+    "load": QColor("#e07b1a"),  # amber: the thing being moved
+    "haul": QColor("#2f8a57"),  # green: people pulling
+    "point": QColor("#ffffff"),  # a free junction
+    "person": QColor("#7b52a6"),  # violet: a rescuer standing somewhere
+}
+POINT_OUTLINE = QColor("#1e1e1c")
+POINT_OUTLINE_PX = 1.4
+POINT_MARK = QColor("#ffffff")  # the small sign inside a marker
+
+# --- ropes ----------------------------------------------------------------------------
+ROPE_COLOURS: tuple[QColor, ...] = (
+    QColor("#c2362b"),  # signal red
+    QColor("#1c64a8"),  # deep blue
+    QColor("#8a3fa0"),  # purple
+    QColor("#0f7f6f"),  # teal
+    QColor("#b86b10"),  # ochre
+    QColor("#4d5a12"),  # olive
+)
+ROPE_WIDTH_PX = 2.4
+ROPE_HIT_PX = 8.0  # how close a click must be to pick a rope
+ROPE_LABEL_OFFSET_PX = 9
+
+PULLEY_RADIUS_PX = 9.0  # sheave
+PULLEY_FILL = QColor("#ffffff")
+PULLEY_AXLE_PX = 1.8
+RING_RADIUS_PX = 6.0  # sliding pass: ring or hand
+KNOT_RADIUS_PX = 4.4  # tied pass: knot or rope grab
+EDGE_SIZE_PX = 11.0  # edge pass: the wedge of rock or concrete
+EDGE_FILL = QColor("#7c6a55")
+HAUL_ARROW_PX = 22.0  # arrow beyond a hauled end
+HAUL_ARROW_HEAD_PX = 9.0
+GLYPH_GAP_PX = 2.0  # space between a point marker and the glyph beside it
+
+# --- forces ---------------------------------------------------------------------------
+FORCE_COLOUR = QColor("#0b7a3b")
+FORCE_LENGTH_PX = 46.0
+FORCE_WIDTH_PX = 2.2
+FORCE_HEAD_PX = 9.0
+
+# --- site features ------------------------------------------------------------------------
+FEATURE_FILL: dict[str, QColor] = {
+    "water": QColor(96, 150, 196, 70),
+    "boulder": QColor(150, 140, 126, 150),
+    "bank": QColor(0, 0, 0, 0),
+    "hazard": QColor(206, 60, 40, 55),
+    "note": QColor(0, 0, 0, 0),
+}
+FEATURE_EDGE: dict[str, QColor] = {
+    "water": QColor("#5b8db8"),
+    "boulder": QColor("#645a4d"),
+    "bank": QColor("#7a6a35"),
+    "hazard": QColor("#c23b22"),
+    "note": QColor("#6a6a6a"),
+}
+FEATURE_LABEL_INSET_PX = 5.0  # polygon labels sit this far inside the top-left corner
+FEATURE_EDGE_PX: dict[str, float] = {"water": 1.2, "boulder": 1.4, "bank": 2.6, "hazard": 1.6, "note": 1.0}
+FEATURE_LABEL: dict[str, QColor] = {
+    "water": QColor("#2f5f8a"),
+    "boulder": QColor("#4b4237"),
+    "bank": QColor("#5e5228"),
+    "hazard": QColor("#a02a16"),
+    "note": QColor("#4a4a4a"),
+}
+
+
+def cosmetic_pen(colour: QColor, width_px: float, style: Qt.PenStyle = Qt.SolidLine) -> QPen:
+    """A pen whose width is in screen pixels whatever the zoom."""
+    pen = QPen(colour, width_px, style, Qt.RoundCap, Qt.RoundJoin)
+    pen.setCosmetic(True)
+    return pen
+
+
+def pixel_pen(colour: QColor, width_px: float, style: Qt.PenStyle = Qt.SolidLine) -> QPen:
+    """A pen for items drawn in pixels (they ignore the view's zoom)."""
+    return QPen(colour, width_px, style, Qt.RoundCap, Qt.RoundJoin)
+
+
+def rope_colour(index: int) -> QColor:
+    """The colour of the ``index``-th rope in the rig (the palette repeats)."""
+    return ROPE_COLOURS[index % len(ROPE_COLOURS)]
+
+
+def feature_brush(kind: str) -> QBrush:
+    """Fill for a site feature; hazards are hatched so they read even in greyscale print."""
+    colour = FEATURE_FILL.get(kind, FEATURE_FILL["note"])
+    if kind == "hazard":
+        return QBrush(FEATURE_EDGE["hazard"], Qt.BDiagPattern)
+    return QBrush(colour)
