@@ -595,12 +595,11 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
         zones = danger_zones(rig, result)
     out = []
     for pid, z in people_in_zones(rig, zones):
-        what = "is" if z.kind == "recoil" else "stands"
+        why = ("if the redirect or its anchor fails, the pulley and rope fly through there" if z.kind == "bight"
+               else "a failing or released rope whips through there")
         out.append(Warning_(
             "person-in-zone", f"{pid},{z.subject}",
-            f"{_name(rig, pid)} {what} {z.label}. Move out of it" +
-            (": if the redirect fails, the pulley and rope fly through there." if z.kind == "bight"
-             else ": a failing or released rope whips through there."),
+            f"{_name(rig, pid)} stands in the {z.label}: {why}. Move out of it.",
             z.severity))
     return out
 

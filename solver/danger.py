@@ -263,7 +263,7 @@ def danger_zones(rig: Rig, result: Result) -> list[DangerZone]:
                 DangerZone(
                     kind="bight",
                     subject=ps.at,
-                    label=f"inside the bight of {rope.name} at {_name(rig, ps.at)}",
+                    label=f"bight of {rope.name} at {_name(rig, ps.at)}",
                     geometry=geom,
                     severity="danger",
                     rope=rope.id,

@@ -262,3 +262,18 @@ def test_wide_angle_also_checked_on_a_rig_that_did_not_solve():
     ws = run_checks(rig, Result(status="diverged", message="no"))
     codes = [w.code for w in ws]
     assert "checks-skipped" in codes and "wide-anchor" in codes
+
+
+def test_haul_team_in_the_bight_of_its_own_rope_is_warned():
+    # rope doubled back round a pulley at A: the team hauls toward the load, standing in the bight line
+    pts = (
+        Point("L", "load", 0.0, 10.0),
+        Point("A", "anchor", 0.0, 0.0, capacity_N=2e4),
+        Point("H", "haul", 0.3, 5.0, force_N=500.0, label="haul team"),
+    )
+    rope = Rope("main", "r", (Pass("L"), Pass("A", "pulley"), Pass("H", "hauled")))
+    rig = Rig(points=pts, ropes=(rope,), materials=(MAT,))
+    res = _result(rig, {("main", 0): 1000.0, ("main", 1): 1000.0}, strain=0.01)
+    ws = [w for w in run_checks(rig, res) if w.code == "person-in-zone"]
+    # the bight at A (danger) and the band of the L-A piece, which is not the end the team holds
+    assert sorted((w.subject, w.severity) for w in ws) == [("H,A", "danger"), ("H,main", "warning")]
