@@ -2,8 +2,9 @@
 
 ``sweep(rig, "haul:H1", values)`` solves the rig once per value, each solve warm-started
 from the last good geometry, and returns a table with one row per value: status,
-actual and ideal mechanical advantage, anchor forces (N), largest rope tension (N),
-deflection angles (degrees) and the force delivered to each load (N).  The command
+actual and ideal mechanical advantage, anchor forces (N), largest rope tension (N) and
+utilisation (tension x safety factor / MBS), deflection angles (degrees) and the force
+delivered to each load (N).  The command
 ``ropewright sweep`` writes that table as CSV and plots MA and peak anchor force.
 
 What can vary (``--vary``), values in SI:
@@ -215,6 +216,7 @@ def _row(value: float, res: Result) -> dict[str, float | str]:
     anchors = {k: a.force_N for k, a in res.anchors.items()}
     row["peak_anchor_N"] = max(anchors.values()) if anchors else nan
     row["max_tension_N"] = max((s.tension_N for s in res.segments), default=nan)
+    row["max_utilization"] = max((s.utilization for s in res.segments), default=nan)
     for k, f in anchors.items():
         row[f"anchor_{k}_N"] = f
     for k, a in res.loads.items():
@@ -256,7 +258,7 @@ def sweep(rig: Rig, vary: str | Vary, values: Iterable[float], progress: Progres
         results.append(res)
         if progress is not None:
             progress(i + 1, len(vals))
-    cols = ["value", "status", "ma_actual", "ma_ideal", "peak_anchor_N", "max_tension_N"]
+    cols = ["value", "status", "ma_actual", "ma_ideal", "peak_anchor_N", "max_tension_N", "max_utilization"]
     extra: list[str] = []
     for row in rows:
         for k in row:
