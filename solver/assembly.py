@@ -76,6 +76,7 @@ class System:
 
     rig: Rig
     motion: str
+    points: list  # the structural Point objects, in dof order
     point_ids: list[str]
     xy0: FloatArray  # (n_points, 2) drawn coordinates
     free: NDArray[np.bool_]  # (n_points,)
@@ -118,8 +119,13 @@ class System:
     pair_k: IntArray = field(default=None)  # piece pairs within a tied run (rank-one term)
     pair_j: IntArray = field(default=None)
     pair_run: IntArray = field(default=None)
-    mat_masks: list[IntArray] = field(default_factory=list)
-    run_mat_masks: list[IntArray] = field(default_factory=list)
+    k_rows: IntArray = field(default=None)  # tangent pattern (free dofs only)
+    k_cols: IntArray = field(default=None)
+    k_keep: IntArray = field(default=None)
+    csc_map: IntArray = field(default=None)
+    csc_indices: NDArray[np.int32] = field(default=None)
+    csc_indptr: NDArray[np.int32] = field(default=None)
+    dense_lin: NDArray[np.int64] = field(default=None)
     has_edges: bool = False
     has_friction: bool = False
 
@@ -156,6 +162,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
                 raise RigModelError(f'two points share the id "{p.id}"', subject=p.id)
             seen.add(p.id)
     xy0 = np.array([[p.x, p.y] for p in pts], dtype=float).reshape(-1, 2)
+    coords = [(float(p.x), float(p.y)) for p in pts]
     if not np.all(np.isfinite(xy0)):
         bad = next(p for p in pts if not (math.isfinite(p.x) and math.isfinite(p.y)))
         raise RigModelError(f'point "{bad.id}" has no proper position', subject=bad.id)
@@ -164,7 +171,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
     nf = int(free.sum())
     dof[free] = np.arange(2 * nf).reshape(-1, 2)
 
-    mat_ids: list[str] = []
+    mat_index: dict[str, int] = {}
     materials: list[Material] = []
     curves: list[StretchCurve] = []
     a: list[int] = []
@@ -190,6 +197,13 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
     run_haul_point: list[str | None] = []
     middle: list[MiddlePass] = []
     hw_cache: dict[str, Hardware] = {}
+
+    strain_cache: dict[tuple[int, float], float] = {}
+
+    def pre_strain(m: int, tension: float) -> float:
+        if (m, tension) not in strain_cache:
+            strain_cache[(m, tension)] = float(curves[m].strain(tension))
+        return strain_cache[(m, tension)]
 
     def hardware(hid: str) -> Hardware:
         if hid not in hw_cache:
@@ -224,11 +238,13 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
                                     where=f"{where}.path[{j}]", subject=rope.id)
             if j > 0:
                 prev = path[j - 1].at
-                if prev == ps.at or np.hypot(*(xy0[index[prev]] - xy0[index[ps.at]])) < COINCIDENT_M:
+                (x1, y1), (x2, y2) = coords[index[prev]], coords[index[ps.at]]
+                if prev == ps.at or math.hypot(x2 - x1, y2 - y1) < COINCIDENT_M:
                     raise RigModelError(
                         f'rope "{rope.name}" goes from "{prev}" to "{ps.at}", which are at the same spot: '
                         "move one of them or remove the pass", where=f"{where}.path[{j}]", subject=ps.at)
-        if rope.material not in mat_ids:
+        m_i = mat_index.get(rope.material)
+        if m_i is None:
             spec = _material(rig, rope.material)
             try:
                 curve = StretchCurve(spec.stretch)
@@ -238,10 +254,9 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
             if not spec.mbs_N or spec.mbs_N <= 0:
                 raise RigModelError(f'material "{spec.name}" needs a positive breaking strength (MBS)',
                                     where=f"materials.{spec.id}", subject=spec.id)
-            mat_ids.append(rope.material)
+            m_i = mat_index[rope.material] = len(materials)
             materials.append(spec)
             curves.append(curve)
-        m_i = mat_ids.index(rope.material)
         rig_i = rope.rigged
         for run in rope.runs():
             g = len(run_start)
@@ -260,7 +275,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
                 piece_run.append(g)
                 piece_mat.append(m_i)
                 piece_first.append(k == run.first)
-                lk = float(np.hypot(*(xy0[ib] - xy0[ia])))
+                lk = math.hypot(coords[ib][0] - coords[ia][0], coords[ib][1] - coords[ia][1])
                 length += lk
                 sizes = [DEFAULT_MIN_SPACING_M]
                 for ps in (pa, pb):
@@ -278,7 +293,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
                 pass_hw.append(hw)
                 pass_point.append(pa.at)
             if run.hauled:
-                hp = rig.point(path[run.last].at)
+                hp = pts[index[path[run.last].at]]
                 P = hp.haul_force
                 if P is None or not math.isfinite(P) or P < 0:
                     raise RigModelError(
@@ -294,7 +309,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
                     if not (math.isfinite(rig_i.pretension_N) and rig_i.pretension_N >= 0):
                         raise RigModelError(f'rope "{rope.name}" has a negative pretension',
                                             where=f"{where}.rigged", subject=rope.id)
-                    L0 = length / (1.0 + float(curves[m_i].strain(rig_i.pretension_N)))
+                    L0 = length / (1.0 + pre_strain(m_i, float(rig_i.pretension_N)))
                 else:
                     L0 = length + float(rig_i.slack_m)
                 if not L0 > 0:
@@ -343,7 +358,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
     force_scale = float(max([0.0, *fmag, *run_P, *pre]))
 
     sys_ = System(
-        rig=rig, motion=motion, point_ids=[p.id for p in pts], xy0=xy0, free=free, dof=dof, n_dof=2 * nf,
+        rig=rig, motion=motion, points=pts, point_ids=[p.id for p in pts], xy0=xy0, free=free, dof=dof, n_dof=2 * nf,
         a=np.array(a, dtype=np.intp), b=np.array(b, dtype=np.intp), piece_rope=piece_rope,
         piece_index=np.array(piece_index, dtype=np.intp), piece_run=np.array(piece_run, dtype=np.intp),
         piece_mat=np.array(piece_mat, dtype=np.intp), piece_first=np.array(piece_first, dtype=bool),
@@ -405,10 +420,11 @@ def _finish(s: System) -> None:
     s.pair_k = np.concatenate(ks) if ks else np.zeros(0, np.intp)
     s.pair_j = np.concatenate(js) if js else np.zeros(0, np.intp)
     s.pair_run = np.concatenate(rs) if rs else np.zeros(0, np.intp)
-    s.mat_masks = [np.flatnonzero(s.piece_mat == m) for m in range(len(s.curves))]
-    s.run_mat_masks = [np.flatnonzero(s.run_mat == m) for m in range(len(s.curves))]
+    off = s.pair_k != s.pair_j  # the k == j terms go into each piece's own block
+    s.pair_k, s.pair_j, s.pair_run = s.pair_k[off], s.pair_j[off], s.pair_run[off]
     s.has_edges = bool(np.any(s.pass_kind == PASS_EDGE))
     s.has_friction = s.has_edges or bool(np.any((s.pass_kind == PASS_PULLEY) & (s.pass_eta < 1.0)))
+    _pattern(s)
 
 
 # --- evaluation: lengths, run tensions, out-of-balance forces, energy, tangent -------------------
@@ -548,45 +564,72 @@ _LOCAL_I = np.repeat(np.arange(4), 4)
 _LOCAL_J = np.tile(np.arange(4), 4)
 
 
-def tangent_triplets(s: System, st: State, kc: FloatArray | None = None) -> tuple[IntArray, IntArray, FloatArray]:
-    """COO triplets (row, col, value) of the tangent K = d g / d x at fixed piece weights, N/m.
+def tangent_values(s: System, st: State, kc: FloatArray | None = None) -> FloatArray:
+    """Values of the tangent K = d g / d x (N/m) at fixed piece weights, on the static pattern ``s.k_rows/k_cols``.
 
-    K = sum_k N_k/l_k (I - u u^T) (geometric) + contact k_c u u^T + for each taut tied run
-    the rank-one term (sum_k w_k grad l_k)(d tau/d x)^T, with
-    d tau/d x = sum_j grad l_j / (1 + eps_j) / D, D = sum_j l_j w_j eps'(T_j) / (1 + eps_j)^2.
+    K = sum_k [N_k/l_k (I - u u^T) + contact k_c u u^T] (geometric and contact parts) + for each
+    taut tied run the rank-one term (sum_k w_k grad l_k)(d tau/d x)^T with
+    d tau/d x = sum_j grad l_j / (1 + eps_j) / D, D = sum_j l_j w_j eps'(T_j) / (1 + eps_j)^2
+    (implicit differentiation of the run's length equation).  The k == j terms of the
+    rank-one part are folded into each piece's own 4x4 block.
     """
     if s.n_pieces == 0:
-        z = np.zeros(0, np.intp)
-        return z, z, np.zeros(0)
+        return np.zeros(0)
     if kc is None:
         kc = contact_stiffness(s)
     u, l = st.u, st.l
     with np.errstate(divide="ignore", invalid="ignore"):
         geo = np.where(l > 0, st.N / l, 0.0)
-    act = np.where(st.pen > 0, kc, 0.0)
-    uu = u[:, :, None] * u[:, None, :]
-    A = geo[:, None, None] * (np.eye(2)[None] - uu) + act[:, None, None] * uu  # (n, 2, 2)
-    sg = (_SGN[_LOCAL_I] * _SGN[_LOCAL_J])[None, :]
-    vals = [(A[:, _LOCAL_I % 2, _LOCAL_J % 2] * sg).reshape(-1)]
+    axial = np.where(st.pen > 0, kc, 0.0)
+    coef = np.zeros(s.n_pieces)
+    run_coef = None
+    if np.any(st.taut):
+        c = 1.0 / (1.0 + st.eps)
+        de = by_material(s, s.piece_mat, st.T, "dstrain")
+        D = np.bincount(s.piece_run, l * st.w * de * c * c, minlength=s.n_runs)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            run_coef = np.where(st.taut & (D > 0), 1.0 / D, 0.0)
+        coef = st.w * c * run_coef[s.piece_run]
+    axial = axial + coef
+    ux, uy = u[:, 0], u[:, 1]
+    # 2x2 block A = geo (I - u u^T) + axial u u^T, stored as (xx, xy, yy)
+    axx = geo * (1.0 - ux * ux) + axial * ux * ux
+    axy = (axial - geo) * ux * uy
+    ayy = geo * (1.0 - uy * uy) + axial * uy * uy
+    A = np.stack([axx, axy, axy, ayy], axis=1)  # (n, 4): [xx, xy, yx, yy]
+    vals = [(A[:, _LOCAL_AB] * _LOCAL_SG).reshape(-1)]
+    if len(s.pair_k):
+        k, j, r = s.pair_k, s.pair_j, s.pair_run
+        cj = 1.0 / (1.0 + st.eps[j])
+        pc = st.w[k] * cj * (run_coef[r] if run_coef is not None else 0.0)
+        B = np.stack([ux[k] * ux[j], ux[k] * uy[j], uy[k] * ux[j], uy[k] * uy[j]], axis=1) * pc[:, None]
+        vals.append((B[:, _LOCAL_AB] * _LOCAL_SG).reshape(-1))
+    return np.concatenate(vals)[s.k_keep]
+
+
+_SGN = np.array([1.0, 1.0, -1.0, -1.0])
+_LOCAL_I = np.repeat(np.arange(4), 4)
+_LOCAL_J = np.tile(np.arange(4), 4)
+_LOCAL_AB = (_LOCAL_I % 2) * 2 + (_LOCAL_J % 2)
+_LOCAL_SG = (_SGN[_LOCAL_I] * _SGN[_LOCAL_J])[None, :]
+
+
+def _pattern(s: System) -> None:
+    """Static sparsity pattern of the tangent: triplet rows/cols, kept entries, CSC map."""
     rows = [s.piece_dofs[:, _LOCAL_I].reshape(-1)]
     cols = [s.piece_dofs[:, _LOCAL_J].reshape(-1)]
     if len(s.pair_k):
-        run_ok = st.taut.copy()
-        c = 1.0 / (1.0 + st.eps)
-        de = by_material(s, s.piece_mat, st.T, "dstrain")
-        Dp = l * st.w * de / (1.0 + st.eps) ** 2
-        D = np.bincount(s.piece_run, Dp, minlength=s.n_runs)
-        run_ok &= D > 0
-        sel = np.flatnonzero(run_ok[s.pair_run])
-        if len(sel):
-            k, j, r = s.pair_k[sel], s.pair_j[sel], s.pair_run[sel]
-            coef = st.w[k] * c[j] / D[r]
-            blk = coef[:, None, None] * u[k][:, :, None] * u[j][:, None, :]
-            vals.append((blk[:, _LOCAL_I % 2, _LOCAL_J % 2] * sg).reshape(-1))
-            rows.append(s.piece_dofs[k][:, _LOCAL_I].reshape(-1))
-            cols.append(s.piece_dofs[j][:, _LOCAL_J].reshape(-1))
-    row = np.concatenate(rows)
-    col = np.concatenate(cols)
-    val = np.concatenate(vals)
+        rows.append(s.piece_dofs[s.pair_k][:, _LOCAL_I].reshape(-1))
+        cols.append(s.piece_dofs[s.pair_j][:, _LOCAL_J].reshape(-1))
+    row = np.concatenate(rows) if rows else np.zeros(0, np.intp)
+    col = np.concatenate(cols) if cols else np.zeros(0, np.intp)
     keep = (row >= 0) & (col >= 0)
-    return row[keep], col[keep], val[keep]
+    s.k_keep = np.flatnonzero(keep)
+    s.k_rows, s.k_cols = row[keep], col[keep]
+    n = max(s.n_dof, 1)
+    lin = s.k_cols.astype(np.int64) * n + s.k_rows  # column-major: CSC order after unique
+    uniq, inv = np.unique(lin, return_inverse=True)
+    s.csc_map = inv.reshape(-1)
+    s.csc_indices = (uniq % n).astype(np.int32)
+    s.csc_indptr = np.concatenate([[0], np.cumsum(np.bincount(uniq // n, minlength=s.n_dof))]).astype(np.int32)
+    s.dense_lin = s.k_rows.astype(np.int64) * n + s.k_cols

@@ -31,7 +31,7 @@ from solver.assembly import (
     compile_rig,
     contact_stiffness,
     evaluate,
-    tangent_triplets,
+    tangent_values,
 )
 from solver.errors import RigModelError
 from solver.model import Rig
@@ -70,11 +70,13 @@ def _force_scale(s: System, st: State) -> float:
 
 
 def _matrix(s: System, st: State, kc: np.ndarray, dense: bool):
-    row, col, val = tangent_triplets(s, st, kc)
+    """The tangent on the free dofs: a dense array for small rigs, else CSC."""
+    val = tangent_values(s, st, kc)
     n = s.n_dof
     if dense:
-        return np.bincount(row * n + col, val, minlength=n * n).reshape(n, n)
-    return scipy.sparse.coo_matrix((val, (row, col)), shape=(n, n)).tocsc()
+        return np.bincount(s.dense_lin, val, minlength=n * n).reshape(n, n)
+    data = np.bincount(s.csc_map, val, minlength=len(s.csc_indices))
+    return scipy.sparse.csc_matrix((data, s.csc_indices, s.csc_indptr), shape=(n, n))
 
 
 def _shifted_solve(K, lam: float, rhs: np.ndarray, dense: bool, symmetric: bool) -> np.ndarray | None:
@@ -90,7 +92,12 @@ def _shifted_solve(K, lam: float, rhs: np.ndarray, dense: bool, symmetric: bool)
                 d = scipy.linalg.solve(M, rhs, check_finite=False)
         else:
             M = (K + lam * scipy.sparse.identity(n, format="csc")).tocsc()
-            d = scipy.sparse.linalg.splu(M).solve(rhs)
+            if symmetric:  # SPD after the shift: diagonal pivots, symmetric ordering
+                lu = scipy.sparse.linalg.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                                              options={"SymmetricMode": True})
+            else:
+                lu = scipy.sparse.linalg.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.1)
+            d = lu.solve(rhs)
     except (np.linalg.LinAlgError, scipy.linalg.LinAlgError, RuntimeError, ValueError):
         return None
     return d if np.all(np.isfinite(d)) else None
@@ -206,16 +213,30 @@ def _mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] |
     diag = np.asarray(K.diagonal())
     top = max(float(diag.max()), _force_scale(s, st) / s.size, 1e-12)
     if dense:
-        vals, vecs = np.linalg.eigh(0.5 * (K + K.T))
+        Ks = 0.5 * (K + K.T)
+        lam = float(np.linalg.eigvalsh(Ks)[0])  # values only: fast; the vector only on failure
+        if lam > MECHANISM_REL * top:
+            return None
+        vals, vecs = scipy.linalg.eigh(Ks, subset_by_index=[0, 0])
         lam, v = float(vals[0]), vecs[:, 0]
     else:
+        # inverse iteration from a fixed pseudo-random start: a near-zero eigenvalue dominates at once
         Ks = (0.5 * (K + K.T)).tocsc()
+        n = Ks.shape[0]
+        shift = 1e-3 * MECHANISM_REL * top
         try:
-            vals, vecs = scipy.sparse.linalg.eigsh(Ks, k=1, sigma=-1e-6 * top, which="LM", tol=1e-8)
-            lam, v = float(vals[0]), vecs[:, 0]
-        except (RuntimeError, scipy.sparse.linalg.ArpackNoConvergence) as exc:  # pragma: no cover
-            log.warning("mechanism check did not converge: %s", exc)
-            return None
+            lu = scipy.sparse.linalg.splu((Ks + shift * scipy.sparse.identity(n, format="csc")).tocsc(),
+                                          permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                                          options={"SymmetricMode": True})
+        except RuntimeError:
+            lam, v = 0.0, np.zeros(n)
+            v[int(np.argmin(np.abs(Ks.diagonal())))] = 1.0
+        else:
+            v = np.random.default_rng(12345).standard_normal(n)
+            for _ in range(4):
+                v = lu.solve(v)
+                v /= np.linalg.norm(v)
+            lam = float(v @ (Ks @ v))
     if lam > MECHANISM_REL * top:
         return None
     mag = _point_norms(v)
@@ -327,7 +348,7 @@ def _mech_advantage(s: System, st: State) -> float | None:
     """Force delivered to the load points over the input (haul forces, else external pulls)."""
     rig = s.rig
     f = _resultants(s, st)
-    load_ids = [i for i, pid in enumerate(s.point_ids) if rig.point(pid).kind == "load"]
+    load_ids = [i for i, p in enumerate(s.points) if p.kind == "load"]
     if not load_ids:
         return None
     delivered = float(sum(math.hypot(*f[i]) for i in load_ids))
@@ -368,8 +389,8 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
             run=run_in_rope[s.piece_run[k]]))
     f = _resultants(s, st)
     anchors, loads = {}, {}
-    for i, pid in enumerate(s.point_ids):
-        p = rig.point(pid)
+    for i, p in enumerate(s.points):
+        pid = p.id
         if p.kind == "anchor" and not s.free[i]:
             anchors[pid] = _anchor(float(f[i, 0]), float(f[i, 1]), p.capacity_N, sf)
         if p.kind == "load":
