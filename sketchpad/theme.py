@@ -159,3 +159,69 @@ def feature_brush(kind: str) -> QBrush:
     if kind == "hazard":
         return QBrush(FEATURE_EDGE["hazard"], Qt.BDiagPattern)
     return QBrush(colour)
+
+
+# --- force overlay (sketchpad.overlay, sketchpad.results_panel) -------------------------------
+#: Utilization ramp, our own: (utilization = tension x SF / MBS, colour). 1.0 = exactly at the safety factor.
+UTIL_RAMP: tuple[tuple[float, QColor], ...] = (
+    (0.0, QColor("#2f9e6a")),  # green: plenty of margin
+    (0.5, QColor("#8fb32b")),  # yellow-green
+    (0.8, QColor("#e2a21a")),  # amber: getting close
+    (1.0, QColor("#d9541e")),  # orange-red: at the safety factor
+    (1.5, QColor("#9c1238")),  # crimson: well past it
+)
+UTIL_UNKNOWN = QColor("#8a8a86")  # capacity not known
+OVERLAY_POINT_SIZE = 8
+OVERLAY_LABEL_TEXT = QColor("#1d1d1a")
+OVERLAY_LABEL_BACK = QColor(255, 254, 250, 235)
+OVERLAY_LABEL_PAD_PX = 3.0
+OVERLAY_LABEL_BORDER_PX = 1.6
+OVERLAY_LABEL_GAP_PX = 6.0  # from the rope to the nearest label edge
+OVERLAY_LEADER = QColor(60, 60, 56, 170)
+OVERLAY_BAND_PX = 7.0  # translucent utilization band along each solved piece
+OVERLAY_BAND_ALPHA = 125
+OVERLAY_SOLVED_POINT_PX = 4.0  # ring where the solver moved a free point
+ANGLE_TEXT = QColor("#2c3e8c")
+ANCHOR_ARROW_PX = 56.0
+ANCHOR_ARROW_HEAD_PX = 11.0
+ANCHOR_ARROW_WIDTH_PX = 3.2
+ZONE_COLOURS: dict[str, QColor] = {"bight": QColor(196, 28, 36), "recoil": QColor(224, 120, 20)}
+ZONE_FILL_ALPHA = 28
+ZONE_HATCH_ALPHA = 95
+ZONE_EDGE_PX = 1.0
+OVERLAY_GREY = QColor("#9d9d98")  # last good overlay while the current solve has failed
+OVERLAY_GREY_OPACITY = 0.55
+FAIL_RING_PX = 15.0
+BANNER_BACK = QColor(163, 29, 24, 235)
+BANNER_TEXT = QColor("#ffffff")
+BANNER_MARGIN_PX = 10
+LEGEND_BACK = QColor(255, 254, 250, 232)
+LEGEND_EDGE = QColor("#b9ae97")
+LEGEND_RAMP_W_PX = 150
+LEGEND_RAMP_H_PX = 10
+LEGEND_MARGIN_PX = 12
+
+
+def utilization_colour(u: float | None) -> QColor:
+    """Colour of a utilization on the overlay ramp (linear between stops; None = capacity unknown)."""
+    if u is None or u != u:
+        return UTIL_UNKNOWN
+    stops = UTIL_RAMP
+    if u <= stops[0][0]:
+        return QColor(stops[0][1])
+    for (u0, c0), (u1, c1) in zip(stops, stops[1:]):
+        if u <= u1:
+            t = (u - u0) / (u1 - u0)
+            return QColor.fromRgbF(c0.redF() + t * (c1.redF() - c0.redF()),
+                                   c0.greenF() + t * (c1.greenF() - c0.greenF()),
+                                   c0.blueF() + t * (c1.blueF() - c0.blueF()))
+    return QColor(stops[-1][1])
+
+
+def zone_brushes(kind: str) -> tuple[QBrush, QBrush]:
+    """(translucent fill, hatch) brushes of a danger zone kind ("bight" or "recoil")."""
+    base = ZONE_COLOURS.get(kind, ZONE_COLOURS["bight"])
+    fill, hatch = QColor(base), QColor(base)
+    fill.setAlpha(ZONE_FILL_ALPHA)
+    hatch.setAlpha(ZONE_HATCH_ALPHA)
+    return QBrush(fill), QBrush(hatch, Qt.BDiagPattern if kind == "bight" else Qt.FDiagPattern)
