@@ -13,8 +13,9 @@ Rules (sources in the tests that hold them):
   high end of ``hold_anchor_range`` when the solver gives it.  Rope pieces use their
   tension against the material's MBS.  Hardware at a pass carries the vector sum of the
   two legs there (redirect resultant R = 2T cos(alpha/2) when the legs are equal).
-* ``wide-anchor``: a free point held by exactly two legs running to anchors (tied or
-  sliding there: a master point, an equalising sling) whose included angle exceeds
+* ``wide-anchor``: a free point held by exactly two legs tied to anchors (tied or
+  sliding at the point: a master point, an equalising sling; not a rope grab between
+  two redirect pulleys) whose included angle exceeds
   120 deg -- ASME B30.9 does not recommend more.  Message gives the leg force factor
   1 / (2 cos(alpha/2)) (each leg's share of the resultant for symmetric legs).
 * ``abrasion``: a rope piece crossing a ``boulder`` or ``hazard`` feature, other than the
@@ -28,7 +29,8 @@ Rules (sources in the tests that hold them):
 * ``load-stuck``: in ``haul``, force delivered < ``required_N``; haulers needed =
   ceil(required / (actual MA x force per hauler)).
 * ``two-blocked``: a piece with a free end shorter than the hardware size there plus
-  ``TWO_BLOCK_TOL_M``: the system has run out of throw.
+  ``TWO_BLOCK_TOL_M``: the system has run out of throw (skipped when the solver already
+  reported it from its contact model).
 * ``person-in-zone``: a ``person`` or ``haul`` point strictly inside a danger zone
   (:mod:`solver.danger`).  A haul team is not warned about the recoil band of the rope
   piece ending at its own point -- they hold that end by definition -- but is warned
@@ -315,13 +317,16 @@ def two_leg_anchors(rig: Rig, result: Result | None) -> list[tuple[str, str, str
     kinds = {p.id: p.kind for p in rig.points}
     legs: dict[str, list[tuple[str, Piece]]] = {}
     for pc in pieces(rig, result):
-        for here, there, k in ((pc.a_id, pc.b_id, pc.index), (pc.b_id, pc.a_id, pc.index + 1)):
+        for here, there, k, k_there in ((pc.a_id, pc.b_id, pc.index, pc.index + 1),
+                                        (pc.b_id, pc.a_id, pc.index + 1, pc.index)):
             if kinds.get(there) != "anchor":
                 continue
             pt = next((p for p in rig.points if p.id == here), None)
             if pt is None or pt.is_fixed or not pt.is_structural:
                 continue
-            if pc.rope.path[k].how not in ("tied", "sliding"):
+            # a leg is tied to its anchor and tied (or slides, equalising) at the junction;
+            # a rope running over a pulley at the anchor is a redirect, not an anchor leg
+            if pc.rope.path[k].how not in ("tied", "sliding") or pc.rope.path[k_there].how != "tied":
                 continue
             legs.setdefault(here, []).append((there, pc))
     out = []
@@ -537,7 +542,9 @@ def check_haul(rig: Rig, result: Result) -> list[Warning_]:
 
 def check_two_blocked(rig: Rig, result: Result) -> list[Warning_]:
     """Pieces with a free end that have shrunk to the hardware size: out of throw."""
-    out = []
+    out: list[Warning_] = []
+    if any(w.code == "two-blocked" for w in result.warnings):
+        return out  # the solver found it with its own contact model; do not say it twice
     pts = {p.id: p for p in rig.points}
     seen = set()
     for pc in pieces(rig, result):
@@ -560,7 +567,7 @@ def check_two_blocked(rig: Rig, result: Result) -> list[Warning_]:
                 "two-blocked", f"{pc.a_id},{pc.b_id}",
                 f"{_name(rig, pc.a_id)} and {_name(rig, pc.b_id)} have come together on {pc.rope.name} "
                 f"({_length(rig, pc.length_m)} apart): the system is out of throw. Reset before hauling further.",
-                "warning"))
+                "danger"))
     return out
 
 

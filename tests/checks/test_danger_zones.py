@@ -277,3 +277,22 @@ def test_haul_team_in_the_bight_of_its_own_rope_is_warned():
     ws = [w for w in run_checks(rig, res) if w.code == "person-in-zone"]
     # the bight at A (danger) and the band of the L-A piece, which is not the end the team holds
     assert sorted((w.subject, w.severity) for w in ws) == [("H,A", "danger"), ("H,main", "warning")]
+
+
+def test_rope_grab_between_two_redirect_pulleys_is_not_a_two_leg_anchor():
+    # the main line runs over pulleys at both anchors and is gripped at G in between (a 3:1's rope grab)
+    pts = (
+        Point("L", "load", 0.0, -10.0),
+        Point("A1", "anchor", -5.0, 0.5, capacity_N=2e4),
+        Point("A2", "anchor", 5.0, 0.5, capacity_N=2e4),
+        Point("G", "point", 0.0, 0.0),
+        Point("H", "haul", 0.0, 5.0, force_N=500.0),
+    )
+    rope = Rope("main", "r", (Pass("L"), Pass("A2", "pulley"), Pass("G"), Pass("A1", "pulley"), Pass("H", "hauled")))
+    rig = Rig(points=pts, ropes=(rope,), materials=(MAT,))
+    assert two_leg_anchors(rig, None) == []
+    # the same geometry with both legs tied to the anchors is one (and is wide: 169 deg)
+    legs = (Rope("s1", "r", (Pass("A1"), Pass("G"))), Rope("s2", "r", (Pass("G"), Pass("A2"))))
+    rig2 = Rig(points=pts, ropes=legs, materials=(MAT,))
+    (found,) = two_leg_anchors(rig2, None)
+    assert found[0] == "G" and found[3] == pytest.approx(180 - 2 * math.degrees(math.atan2(0.5, 5.0)))

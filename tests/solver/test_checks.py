@@ -358,3 +358,112 @@ def test_analyse_does_not_repeat_a_warning_the_solver_already_gave(monkeypatch):
     from solver.analysis import analyse
 
     assert analyse(rig).warnings == dup
+
+
+def test_geometric_two_block_check_defers_to_the_solver():
+    close = _travelling_pulley_rig(3.0).moved("T", 0.55, 10.0)
+    t = {("c", 0): 400.0, ("c", 1): 400.0, ("c", 2): 400.0}
+    solver_says = Warning_("two-blocked", "T", "from the solver", "danger")
+    res = hand_result(close, t, warnings=(solver_says,))
+    assert "two-blocked" not in codes(run_checks(close, res))
+
+
+# --- end to end through the solver -------------------------------------------------------------
+
+STIFF = Material(id="stiff", kind="rope", mbs_N=1e12, stretch=((1e7, 0.01),))  # EA = 1e9 N
+
+
+def _master_point_rig(included_deg: float, person_at=(0.0, -3.0)) -> Rig:
+    """Master point M pulled down with 1 kN, held by two stiff legs tied to anchors at +-alpha/2 from +y."""
+    from solver.model import Force
+
+    h = math.radians(included_deg) / 2
+    pts = (
+        Point("A1", "anchor", -4 * math.sin(h), 4 * math.cos(h), capacity_N=2e4),
+        Point("A2", "anchor", 4 * math.sin(h), 4 * math.cos(h), capacity_N=2e4),
+        Point("M", "point", 0.0, 0.0, label="master point"),
+        Point("P", "person", *person_at, label="rigger"),
+    )
+    legs = (Rope("s1", "stiff", (Pass("A1"), Pass("M"))), Rope("s2", "stiff", (Pass("A2"), Pass("M"))))
+    return Rig(points=pts, ropes=legs, materials=(STIFF,),
+               forces=(Force("M", 1000.0, 270.0),), settings=Settings(motion="hold"))
+
+
+@pytest.mark.parametrize("included, warned", [(110.0, False), (130.0, True)])
+def test_solved_two_leg_anchor_matches_asme_leg_factor_and_warns_over_120(included, warned):
+    pytest.importorskip("solver.equilibrium")
+    from solver.analysis import analyse
+    from solver.checks import leg_force_factor
+
+    res = analyse(_master_point_rig(included))
+    assert res.ok, res.message
+    # ASME B30.9 load-angle factor: leg = (W/2) / sin(beta) = W / (2 cos(alpha/2)), W = 1 kN
+    for s in res.segments:
+        assert s.tension_N == pytest.approx(1000.0 * leg_force_factor(included), rel=1e-5)
+    assert ("wide-anchor" in codes(res.warnings)) is warned
+
+
+def test_solved_redirect_pulley_load_equals_the_solvers_anchor_resultant():
+    pytest.importorskip("solver.equilibrium")
+    from solver.equilibrium import solve
+
+    pts = (
+        Point("L", "load", 10.0, 0.0, fixed=False, label="raft"),
+        Point("A", "anchor", 0.0, 0.0, capacity_N=1e9),
+        Point("H", "haul", 0.0, 10.0, force_N=1000.0),
+        Point("B", "anchor", 20.0, 0.0, capacity_N=1e9),
+    )
+    ropes = (
+        Rope("m", "stiff", (Pass("L"), Pass("A", "pulley", "pul"), Pass("H", "hauled"))),
+        Rope("b", "stiff", (Pass("L"), Pass("B"))),
+    )
+    rig = Rig(points=pts, ropes=ropes, materials=(STIFF,), hardware=(PULLEY,))
+    res = solve(rig)
+    assert res.ok, res.message
+    f = next(x[3] for x in pass_loads(rig, res) if x[2] == "A")
+    assert f == pytest.approx(res.anchors["A"].force_N, rel=1e-9)
+
+
+def test_person_in_the_bight_of_a_solved_redirect_is_warned():
+    pytest.importorskip("solver.equilibrium")
+    from solver.analysis import analyse
+
+    # a free load held back by a tie to B, hauled through a redirect at A (90 deg turn)
+    pts = (
+        Point("L", "load", 10.0, 0.0, fixed=False, label="raft"),
+        Point("A", "anchor", 0.0, 0.0, capacity_N=2e4, label="boulder"),
+        Point("H", "haul", 0.0, 10.0, force_N=1000.0, label="haul team"),
+        Point("B", "anchor", 20.0, 0.0, capacity_N=2e4),
+        Point("P", "person", 3.0, 3.0, label="rigger"),
+    )
+    ropes = (
+        Rope("m", "stiff", (Pass("L"), Pass("A", "pulley", "pul"), Pass("H", "hauled"))),
+        Rope("b", "stiff", (Pass("L"), Pass("B"))),
+    )
+    rig = Rig(points=pts, ropes=ropes, materials=(STIFF,), hardware=(PULLEY,))
+    res = analyse(rig)
+    assert res.ok, res.message
+    ws = [w for w in res.warnings if w.code == "person-in-zone"]
+    assert [w.subject for w in ws] == ["P,A"]
+    safe = analyse(rig.moved("P", -5.0, -5.0))
+    assert "person-in-zone" not in codes(safe.warnings)
+
+
+def test_every_sample_analyses_with_known_codes():
+    pytest.importorskip("solver.equilibrium")
+    from solver.analysis import analyse
+    from solver.danger import danger_zones
+    from solver.rigfile import load_rig
+    from tests.conftest import SAMPLES
+
+    files = sorted(SAMPLES.glob("*.rig.json"))
+    assert files
+    for f in files:
+        rig = load_rig(f)
+        res = analyse(rig)
+        assert res.ok, f"{f.name}: {res.message}"
+        own = {w.code for w in run_checks(rig, res)}
+        assert own <= set(CODES), f"{f.name}: {own - set(CODES)}"
+        assert "checks-failed" not in {w.code for w in res.warnings}
+        zones = danger_zones(rig, res)
+        assert all(z.geometry.is_valid and z.geometry.area > 0 for z in zones)
