@@ -9,9 +9,14 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from solver.errors import RigModelError
 from solver.units import format_force
+
+if TYPE_CHECKING:
+    from solver.model import Rig
+    from solver.result import Result
 
 #: Force one hauler sustains on a long haul, N (common practice, no source).
 DEFAULT_PER_PERSON_N = 220.0
@@ -62,3 +67,22 @@ def haul_plan(required_N: float, ma_actual: float, per_person_N: float = DEFAULT
     n = haulers_needed(required_N, ma_actual, per_person_N)
     return HaulPlan(float(required_N), float(ma_actual), float(per_person_N), n,
                     n * per_person_N, n * per_person_N * ma_actual)
+
+
+def plan_for_result(rig: "Rig", result: "Result", load_id: str,
+                    per_person_N: float | None = None) -> HaulPlan | None:
+    """The haul plan for a solved rig: the load's ``required_N`` through the solved actual MA.
+
+    None when the load has no required force or the solve gave no MA (failed, or no haul).
+    ``per_person_N`` defaults to the first haul team's ``force_per_person_N``, else 220 N.
+    """
+    try:
+        load = rig.point(load_id)
+    except KeyError:
+        raise RigModelError(f"The load '{load_id}' is not in the drawing", subject=load_id) from None
+    if load.required_N is None or not result.ok or not result.ma_actual:
+        return None
+    if per_person_N is None:
+        per_person_N = next((p.force_per_person_N for p in rig.points
+                             if p.kind == "haul" and p.force_per_person_N), DEFAULT_PER_PERSON_N)
+    return haul_plan(float(load.required_N), float(result.ma_actual), float(per_person_N))

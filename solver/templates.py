@@ -190,11 +190,39 @@ def _haul_point(b: _Builder, s: _Site, default_dir: Vec, team_default: int) -> s
     return b.point("H", "haul", xy, "haul team", **fields)
 
 
-def _team_default(s: _Site, ma_ideal: float | None) -> int:
-    """Haulers for the load's required force at the ideal MA (the solved plan refines it), else 2."""
+def t_method_ma(name: str, eta: float) -> float | None:
+    """Actual MA of system ``name`` drawn in line, pulleys of efficiency ``eta`` (T-method, derived)."""
+    z = 1 + eta + eta * eta
+    return {
+        "2:1": 1 + eta,
+        "3:1": z,
+        "4:1": (1 + eta) ** 2,
+        "5:1": sum(eta**k for k in range(5)),
+        "6:1": (1 + eta) * z,
+        "9:1": z * z,
+        "redirect": eta,
+    }.get(name)
+
+
+def _efficiency(s: _Site) -> float:
+    """The chosen pulley's efficiency (embedded or library), 1.0 if it cannot be looked up."""
+    spec = s.rig.embedded_hardware(s.opts["hardware"])
+    if spec is None:
+        try:
+            from solver.materials import hardware_for
+            spec = hardware_for(s.rig, s.opts["hardware"])
+        except (ImportError, RigModelError):
+            return 1.0
+    return float(spec.efficiency) if spec.efficiency else 1.0
+
+
+def _team_default(s: _Site, name: str) -> int:
+    """Haulers for the load's required force at the system's T-method MA (the solve refines it), else 2."""
     req = s.load.required_N if s.load is not None else None
-    if req and ma_ideal:
-        return max(1, math.ceil(float(req) / (ma_ideal * float(s.opts.get("per_person_N") or DEFAULT_PER_PERSON_N))))
+    ma = t_method_ma(name, _efficiency(s))
+    if req and ma:
+        from solver.hauling import haulers_needed
+        return haulers_needed(float(req), ma, float(s.opts.get("per_person_N") or DEFAULT_PER_PERSON_N))
     return 2
 
 
@@ -223,7 +251,7 @@ def _build_2to1(b: _Builder, s: _Site) -> None:
     o = s.opts
     g = _grab(b, s)
     b.rope("main", o["material"], [_tied(s.load.id), _tied(g)], "main line to rope grab")
-    h = _haul_point(b, s, s.u, _team_default(s, 2.0))
+    h = _haul_point(b, s, s.u, _team_default(s, "2:1"))
     b.rope("ma", o["material"], [_tied(s.anchor.id), _pulley(g, o["hardware"]), _hauled(h)], "2:1 rope")
 
 
@@ -231,7 +259,7 @@ def _build_z(b: _Builder, s: _Site, strands: int) -> None:
     """Simple odd MA: the main line is gripped at G, then zig-zags between anchor and G."""
     o = s.opts
     g = _grab(b, s, "rope grab + travelling pulley")
-    h = _haul_point(b, s, s.u, _team_default(s, float(strands)))
+    h = _haul_point(b, s, s.u, _team_default(s, f"{strands}:1"))
     path = [_tied(s.load.id), _tied(g)]
     for _ in range((strands - 1) // 2):
         path += [_pulley(s.anchor.id, o["hardware"]), _pulley(g, o["hardware"])]
@@ -254,7 +282,7 @@ def _build_4to1(b: _Builder, s: _Site) -> None:
     t = _travelling(b, s, b.rig.point(g).xy, "second-stage pulley")
     b.rope("main", o["material"], [_tied(s.load.id), _tied(g)], "main line to rope grab")
     b.rope("ma", o["material"], [_tied(s.anchor.id), _pulley(g, o["hardware"]), _tied(t)], "first 2:1 rope")
-    h = _haul_point(b, s, s.u, _team_default(s, 4.0))
+    h = _haul_point(b, s, s.u, _team_default(s, "4:1"))
     b.rope("ma", o["material"], [_tied(_second_anchor(s)), _pulley(t, o["hardware"]), _hauled(h)], "second 2:1 rope")
 
 
@@ -272,7 +300,7 @@ def _build_2on3(b: _Builder, s: _Site) -> None:
     g = _grab(b, s, "rope grab + travelling pulley")
     t = _travelling(b, s, b.rig.point(g).xy, "2:1 travelling pulley")
     _z_to(b, s, g, t)
-    h = _haul_point(b, s, s.u, _team_default(s, 6.0))
+    h = _haul_point(b, s, s.u, _team_default(s, "6:1"))
     b.rope("ma", o["material"], [_tied(_second_anchor(s)), _pulley(t, o["hardware"]), _hauled(h)], "2:1 rope")
 
 
@@ -283,7 +311,7 @@ def _build_3on3(b: _Builder, s: _Site) -> None:
     g = _grab(b, s, "rope grab + travelling pulley")
     t = _travelling(b, s, b.rig.point(g).xy, "second rope grab + travelling pulley")
     _z_to(b, s, g, t)
-    h = _haul_point(b, s, s.u, _team_default(s, 9.0))
+    h = _haul_point(b, s, s.u, _team_default(s, "9:1"))
     b.rope("ma", o["material"],
            [_tied(t), _pulley(_second_anchor(s), hw), _pulley(t, hw), _hauled(h)], "second 3:1 rope")
 
@@ -348,7 +376,7 @@ def _build_vector_capture(b: _Builder, s: _Site) -> None:
 def _build_redirect(b: _Builder, s: _Site) -> None:
     """The load line turned through a pulley on the picked anchor, then to the haul team."""
     o = s.opts
-    h = _haul_point(b, s, _left(s.u), _team_default(s, 1.0))
+    h = _haul_point(b, s, _left(s.u), _team_default(s, "redirect"))
     b.rope("main", o["material"], [_tied(s.load.id), _pulley(s.anchor.id, o["hardware"]), _hauled(h)],
            "redirected main line")
 

@@ -136,3 +136,21 @@ def test_default_per_person_force_is_0_22_kN():
 def test_haul_planning_refuses_nonsense(args):
     with pytest.raises(RigModelError):
         haulers_needed(*args)
+
+
+def test_plan_for_a_solved_3_to_1_uses_its_actual_ma():
+    equilibrium = pytest.importorskip("solver.equilibrium")
+    from solver.hauling import plan_for_result
+    from solver.templates import place_template
+    from tests import rigs
+
+    rig = rigs.make_rig([rigs.load("L", 0.0, 0.0, required_N=6900.0), rigs.anchor("A", 0.0, 20.0)], [],
+                        hardware=[rigs.pulley("p", 0.9)])
+    rig = place_template(rig, "3:1", load_id="L", anchor_id="A", material="lin", hardware="p")
+    res = equilibrium.solve(rig)
+    assert res.ok, res.message
+    plan = plan_for_result(rig, res, "L")
+    # 6900 N / (2.710 x 220 N) = 11.6 -> 12 (T-method, check-values.md; 220 N common practice, no source)
+    assert plan is not None and plan.ma_actual == pytest.approx(2.71, rel=1e-6) and plan.haulers == 12
+    # the template sized its own team the same way, from the pulley's efficiency
+    assert next(p.team for p in rig.points if p.kind == "haul") == 12

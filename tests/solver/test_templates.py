@@ -105,13 +105,14 @@ def test_fresh_ids_do_not_clash_when_placed_twice():
     assert len({r.id for r in rig2.ropes}) == len(rig2.ropes) == 2
 
 
-def test_team_defaults_to_enough_haulers_for_the_required_force_at_ideal_ma():
+def test_team_defaults_to_enough_haulers_for_the_required_force_at_t_method_ma():
     rig = site()
     rig = rig.with_point(Point("L", "load", 0.0, 0.0, fixed=True, required_N=3000.0))
     after = place_template(rig, "3:1", load_id="L", anchor_id="A", material="lin", hardware="p")
     h = next(p for p in after.points if p.kind == "haul")
-    # 3000 N / (3 x 220 N) = 4.55 -> 5 haulers (220 N each: common practice, no source)
-    assert (h.team, h.force_per_person_N) == (5, 220.0)
+    # 3000 N / (2.71 x 220 N) = 5.03 -> 6 haulers (T-method at eta 0.9; 220 N each: common practice,
+    # no source); the ideal 3:1 would have said 5
+    assert (h.team, h.force_per_person_N) == (math.ceil(3000.0 / ((1 + ETA + ETA**2) * 220.0)), 220.0) == (6, 220.0)
 
 
 @pytest.mark.parametrize(
