@@ -162,8 +162,9 @@ def loads_rig(text: str | bytes, base_dir: str | os.PathLike[str] | None = None,
 def rig_from_dict(d: Any, strict: bool = False, *, base_dir: str | os.PathLike[str] | None = None) -> m.Rig:
     """Check a parsed rig file (a dict, as from ``json.loads``) and build the Rig.
 
-    ``strict`` refuses unknown keys inside objects (top-level unknown keys are
-    always kept, in ``Rig.extra``).  ``base_dir`` is the rig file's folder, used to
+    ``strict`` refuses unknown keys inside points, ropes, passes, forces, site and
+    settings objects; top-level unknown keys are always kept (``Rig.extra``), and so
+    are extra properties of material and hardware specs (the library has some).  ``base_dir`` is the rig file's folder, used to
     check that ``site.image.file`` stays inside it.
     """
     if not isinstance(d, dict):
@@ -620,9 +621,11 @@ def _build_rig(d: dict[str, Any], strict: bool) -> m.Rig:
     for key in ("view", "title", "notes"):
         if key in d:
             kw[key] = d[key]
-    kw["materials"] = tuple(_make(m.Material, x, _MATERIAL, f"materials[{i}]", strict)
+    # spec sheets stay open to extension even in strict mode: the built-in library
+    # itself carries extra properties (e.g. a webbing's width_mm) that saving embeds
+    kw["materials"] = tuple(_make(m.Material, x, _MATERIAL, f"materials[{i}]", False)
                             for i, x in enumerate(d.get("materials", ())))
-    kw["hardware"] = tuple(_make(m.Hardware, x, _HARDWARE, f"hardware[{i}]", strict)
+    kw["hardware"] = tuple(_make(m.Hardware, x, _HARDWARE, f"hardware[{i}]", False)
                            for i, x in enumerate(d.get("hardware", ())))
     kw["points"] = tuple(_make(m.Point, x, _POINT, f"points[{i}]", strict) for i, x in enumerate(d["points"]))
     kw["forces"] = tuple(_make(m.Force, x, _FORCE, f"forces[{i}]", strict)

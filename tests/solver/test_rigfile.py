@@ -656,3 +656,14 @@ def test_the_schema_ships_in_the_package_and_is_draft_2020_12():
     jsonschema.Draft202012Validator.check_schema(schema)
     for path in SAMPLE_FILES:
         assert list(jsonschema.Draft202012Validator(schema).iter_errors(_sample(path))) == []
+
+
+def test_strict_mode_accepts_the_extra_properties_of_embedded_library_specs():
+    # the built-in webbing carries width_mm, a property rig-format.md does not list
+    rig = Rig(points=(Point("A1", "anchor", 0.0, 0.0), Point("B1", "anchor", 1.0, 0.0)),
+              ropes=(Rope("s", "webbing-25", path=(Pass("A1"), Pass("B1"))),))
+    again = loads_rig(dumps_rig(rig), strict=True)
+    assert again.materials[0].id == "webbing-25"
+    d = _sample()
+    d["materials"] = [{"id": "m", "kind": "rope", "mbs_N": 1e4, "stretch": [[100, 0.01]], "batch": "2024-07"}]
+    assert rig_from_dict(d, strict=True).materials[0].extra == {"batch": "2024-07"}
