@@ -244,39 +244,58 @@ class FileController(QObject):
 
     # --- title ------------------------------------------------------------------------
     def title(self) -> str:
-        """``name* — Ropewright`` (the star while there are unsaved changes)."""
-        star = "*" if self.document.is_modified else ""
-        return f"{display_name(self.document.path)}{star} — {APP_NAME}"
+        """``name[*] — Ropewright``: Qt shows the ``[*]`` as a star while there are unsaved changes.
+
+        The name is the file's (without ``.rig.json``), else the rig's title, else "Untitled".
+        """
+        if self.document.path is not None:
+            name = display_name(self.document.path)
+        else:
+            name = (self.document.rig.title or "").strip()[:60] or "Untitled"
+        return f"{name}[*] — {APP_NAME}"
+
+    def shown_title(self) -> str:
+        """The title as the window shows it, star included."""
+        return self.window.windowTitle().replace("[*]", "*" if self.window.isWindowModified() else "")
 
     def update_title(self, *_args) -> None:
         if not self._alive():
             return
         self.window.setWindowTitle(self.title())
+        self.window.setWindowModified(self.document.is_modified)
 
     def _alive(self) -> bool:
         """False once Qt has deleted the window or document (signals can still arrive while tearing down)."""
         return shiboken6.isValid(self.window) and shiboken6.isValid(self.document.undo_stack)
 
     # --- menu -------------------------------------------------------------------------
-    def install_menu(self, menu: QMenu) -> None:
-        """Fill ``menu`` (the File menu) with New, Open, Open recent, Samples, Save, Save as."""
+    def install_menu(self, menu: QMenu, before: QAction | None = None) -> None:
+        """Fill ``menu`` (the File menu) with New, Open, Open recent, Samples, Save, Save as (above ``before``)."""
+        if before is None and menu.actions():
+            before = menu.actions()[0]  # e.g. Quit stays last
+
         def add(key: str, text: str, slot, shortcut=None) -> QAction:
             act = QAction(text, self.window)
             if shortcut is not None:
                 act.setShortcut(shortcut)
             act.triggered.connect(lambda _checked=False: slot())
-            menu.addAction(act)
+            menu.insertAction(before, act)
             self.actions[key] = act
             return act
 
+        def submenu(text: str) -> QMenu:
+            sub = QMenu(text, menu)
+            menu.insertMenu(before, sub)
+            return sub
+
         add("new", "&New", self.new, QKeySequence.StandardKey.New)
         add("open", "&Open…", self.open, QKeySequence.StandardKey.Open)
-        self.recent_menu = menu.addMenu("Open &recent")
-        self.samples_menu = menu.addMenu("&Samples")
-        menu.addSeparator()
+        self.recent_menu = submenu("Open &recent")
+        self.samples_menu = submenu("&Samples")
+        menu.insertSeparator(before)
         add("save", "&Save", self.save, QKeySequence.StandardKey.Save)
         add("save_as", "Save &as…", self.save_as, QKeySequence.StandardKey.SaveAs)
-        menu.addSeparator()
+        menu.insertSeparator(before)
         self.rebuild_recent_menu()
         self.rebuild_samples_menu()
 

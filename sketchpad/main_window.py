@@ -95,6 +95,7 @@ class MainWindow(QMainWindow):
         self.view.message.connect(lambda t: self.statusBar().showMessage(t, STATUS_MESSAGE_MS))
         self.view.cursor_moved.connect(self._show_cursor)
         self.set_tool("select")
+        self._build_files_and_panels()
         self._on_rig_changed(self.document.rig)
         self.resize(*DEFAULT_SIZE)
 
@@ -236,6 +237,28 @@ class MainWindow(QMainWindow):
         self.cursor_label.setMinimumWidth(220)
         self.statusBar().addPermanentWidget(self.cursor_label)
 
+    def _build_files_and_panels(self) -> None:
+        """File menu with autosave/recovery, Properties dock, background picture, safety caution."""
+        from sketchpad.about import install_caution
+        from sketchpad.background import BackgroundController
+        from sketchpad.files import FileController
+        from sketchpad.properties import PropertiesDock
+
+        def say(text: str) -> None:
+            self.statusBar().showMessage(text, STATUS_MESSAGE_MS)
+
+        self.files = FileController(self, self.document, on_loaded=lambda _rig: self.view.zoom_to_fit())
+        self.files.install_menu(self.menu_file, before=self.action_quit)
+        self.background = BackgroundController(self.document, self.view, self, say)
+        self.background.install_menus(self.menu_insert, self.menu_tools)
+        self.properties_dock = PropertiesDock(self.document, self)
+        self.addDockWidget(Qt.RightDockWidgetArea, self.properties_dock)
+        self.splitDockWidget(self.properties_dock, self.history_dock, Qt.Vertical)
+        self.menu_panels.addAction(self.properties_dock.toggleViewAction())
+        self.properties_dock.follow_scene(self.canvas)
+        self.properties_dock.panel.rig_page.add_section("Background picture", self.background.make_panel())
+        self.caution_label = install_caution(self, self.menu_help)
+
     # --- behaviour --------------------------------------------------------------------------
     def set_tool(self, name: str) -> None:
         """Make ``name`` the active tool (finishing or dropping what the last one was doing)."""
@@ -299,6 +322,9 @@ class MainWindow(QMainWindow):
         self.view.viewport().update()
 
     def _update_title(self) -> None:
+        if getattr(self, "files", None) is not None:  # the file controller owns the title
+            self.files.update_title()
+            return
         path = self.document.path
         name = path.name if path is not None else (self.document.rig.title or "untitled sketch")
         self.setWindowTitle(f"{name}[*] — {APP_NAME}")

@@ -107,11 +107,11 @@ def test_save_then_reopen_gives_an_equal_rig(make_window, tmp_path):
 def test_saving_an_untitled_sketch_asks_where_and_clears_the_star(make_window, tmp_path):
     window, doc, ctl, dialogs = make_window()
     doc.apply(_edited(doc.rig), "Add anchor")
-    assert window.windowTitle().startswith("Untitled*")
+    assert ctl.shown_title() == "Untitled* — Ropewright"
     dialogs.save_path_answer = tmp_path / "mine.rig.json"
     assert ctl.save()
     assert "save_path" in dialogs.kinds()
-    assert window.windowTitle() == "mine — Ropewright"
+    assert ctl.shown_title() == "mine — Ropewright"
     assert rigfile.load_rig(tmp_path / "mine.rig.json").points == doc.rig.points
 
 
@@ -261,13 +261,15 @@ def test_samples_menu_lists_every_sample_and_opens_it_untitled(make_window):
 
 def test_title_shows_the_file_name_and_a_star_when_modified(make_window):
     window, doc, ctl, dialogs = make_window()
-    assert window.windowTitle() == "Untitled — Ropewright"
+    assert ctl.shown_title() == "Untitled — Ropewright"
     ctl.open(SAMPLE)
-    assert window.windowTitle() == "raft-3to1-redirect — Ropewright"
+    assert window.windowTitle() == "raft-3to1-redirect[*] — Ropewright"
+    assert ctl.shown_title() == "raft-3to1-redirect — Ropewright"
     doc.apply(replace(doc.rig, title="changed"), "Retitle")
-    assert window.windowTitle() == "raft-3to1-redirect* — Ropewright"
+    assert window.isWindowModified()
+    assert ctl.shown_title() == "raft-3to1-redirect* — Ropewright"
     doc.undo_stack.undo()
-    assert window.windowTitle() == "raft-3to1-redirect — Ropewright"
+    assert ctl.shown_title() == "raft-3to1-redirect — Ropewright"
 
 
 def test_a_failed_save_says_why_and_keeps_the_sketch_modified(make_window, tmp_path):
