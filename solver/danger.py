@@ -8,8 +8,10 @@ Two kinds, both drawn from the solved geometry and tensions of a :class:`Result`
   pulley and both legs fly toward the bisector of the legs and sweep the triangle
   between them.  Zone = that triangle (pass point, and the point on each leg at
   ``min(leg length, BIGHT_REACH_M)``) united with the pulley's flight path: a strip of
-  half-width ``BIGHT_MARGIN_M`` along the bisector, as long as the shorter (cut) leg,
-  so a doubled-back rope (3:1 pulleys, 180 deg turn) still has a zone with width.
+  half-width ``BIGHT_MARGIN_M`` along the bisector, twice as far as the triangle's far
+  side (the pulley overshoots the line the rope snaps straight to as far again) but no
+  longer than the shorter cut leg.  So a doubled-back rope (3:1 pulleys, 180 deg turn)
+  still has a zone with width, and a shallow vector pull only a short one.
   The "inside of the bight" rule is common practice, no source; reach and margin are
   our own choice (common practice, no source).
 * ``recoil`` -- a band along every loaded straight piece of rope, for the whip of a
@@ -161,6 +163,16 @@ def bight_triangle(
     return Polygon(corners)
 
 
+def _to_chord_m(p: np.ndarray, b: np.ndarray, c1: np.ndarray, c2: np.ndarray) -> float:
+    """Distance (m) from ``p`` along unit vector ``b`` to the chord c1-c2 (to the nearer corner if the chord is a point)."""
+    chord = c2 - c1
+    m = np.column_stack([b, -chord])
+    if abs(float(np.linalg.det(m))) > 1e-12 * max(1.0, float(np.hypot(*chord))):
+        t, _ = np.linalg.solve(m, c1 - p)
+        return max(0.0, float(t))
+    return max(0.0, min(float(np.dot(c1 - p, b)), float(np.dot(c2 - p, b))))
+
+
 def bight_zone(
     at: tuple[float, float],
     leg1_end: tuple[float, float],
@@ -183,7 +195,9 @@ def bight_zone(
     nb = float(np.hypot(*b))
     if nb < 1e-12 or margin_m <= 0:  # straight through: no bisector to fly along
         return tri
-    flight = LineString([tuple(p), tuple(p + b / nb * min(lens))]).buffer(margin_m, quad_segs=QUAD_SEGS)
+    b = b / nb
+    flight_m = min(2.0 * _to_chord_m(p, b, p + units[0] * lens[0], p + units[1] * lens[1]), min(lens))
+    flight = LineString([tuple(p), tuple(p + b * flight_m)]).buffer(margin_m, quad_segs=QUAD_SEGS)
     return flight.union(tri) if tri.area > 0 else flight
 
 

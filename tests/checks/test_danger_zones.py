@@ -296,3 +296,16 @@ def test_rope_grab_between_two_redirect_pulleys_is_not_a_two_leg_anchor():
     rig2 = Rig(points=pts, ropes=legs, materials=(MAT,))
     (found,) = two_leg_anchors(rig2, None)
     assert found[0] == "G" and found[3] == pytest.approx(180 - 2 * math.degrees(math.atan2(0.5, 5.0)))
+
+
+def test_shallow_bight_flight_strip_is_twice_the_distance_to_the_chord():
+    # a 20 deg turn (a vector pull's hand): equal legs L = 12 m at an included angle of 160 deg;
+    # the chord is L*cos(80 deg) from the pass along the bisector (isosceles triangle); the strip runs twice that
+    L, half = 12.0, math.radians(80.0)
+    a = (-L * math.sin(half), -L * math.cos(half))
+    b = (L * math.sin(half), -L * math.cos(half))
+    w = 0.5
+    zone = bight_zone((0.0, 0.0), a, b, reach_m=100.0, margin_m=w)
+    d = L * math.cos(half)
+    assert zone.contains(ShPoint(0.0, -(2 * d + 0.9 * w)))
+    assert not zone.contains(ShPoint(0.0, -(2 * d + 1.1 * w)))
