@@ -195,3 +195,17 @@ def describe(result) -> str:
 
 def start_from(result) -> Mapping[str, tuple[float, float]]:
     return {k: (float(v[0]), float(v[1])) for k, v in result.points.items()}
+
+
+def with_bystander(rig: Rig) -> Rig:
+    """The rig plus an unrelated free point Q hanging 5 m from its own anchor AQ far away (100 N).
+
+    Gives an all-fixed rig one free point, so a check can tell the physics of its
+    passes apart from the solver's handling of a rig with nothing free.
+    """
+    return replace(
+        rig,
+        points=rig.points + (anchor("AQ", 500.0, 500.0), free("Q", 500.0, 495.0)),
+        ropes=rig.ropes + (rope("q", ["AQ", "Q"], material="lin" if rig.embedded_material("lin") else rig.ropes[0].material),),
+        forces=rig.forces + (force("Q", 100.0, 270.0),),
+    )

@@ -33,6 +33,17 @@ def edge_rig(mu: float, wrap_deg: float, motion: str = "haul"):
     return rigs.make_rig(pts, ropes, hardware=[rigs.edge("edg", mu)], motion=motion)
 
 
+# "bystander": the same rig plus an unrelated free point elsewhere (tests/rigs.py).  Without
+# it every point of these rigs is fixed; solver/equilibrium.py at 30892e4 raised
+# "ValueError: zero-size array to reduction operation maximum" there whenever a pass had
+# friction (solve must never raise) — reported to the lead.
+BYSTANDER = pytest.mark.parametrize("bystander", [False, True], ids=["all-fixed", "bystander"])
+
+
+def maybe_bystander(rig, bystander: bool):
+    return rigs.with_bystander(rig) if bystander else rig
+
+
 def solved(rig):
     res = solve(rig)
     assert res.status == "ok", rigs.describe(res)
@@ -41,9 +52,10 @@ def solved(rig):
 
 @pytest.mark.parametrize("mu", [0.14, 0.25, 0.36, 0.44])  # Delaney: aluminium bar, steel tube, timber, concrete
 @pytest.mark.parametrize("wrap_deg", [30.0, 90.0, 135.0, 180.0])
-def test_hauling_over_an_edge_follows_capstan_equation(mu, wrap_deg):
+@BYSTANDER
+def test_hauling_over_an_edge_follows_capstan_equation(mu, wrap_deg, bystander):
     # Euler–Eytelwein: T_high / T_low = e^(μφ); hauling, the haul side is the high side.
-    res = solved(edge_rig(mu, wrap_deg))
+    res = solved(maybe_bystander(edge_rig(mu, wrap_deg), bystander))
     t_low, t_high = rigs.tension(res, "r", 0), rigs.tension(res, "r", 1)
     expected = math.exp(mu * math.radians(wrap_deg))
     assert t_high == pytest.approx(F, rel=REL)
@@ -55,26 +67,29 @@ def test_hauling_over_an_edge_follows_capstan_equation(mu, wrap_deg):
 
 
 @pytest.mark.parametrize("mu, wrap_deg", [(0.44, 90.0), (0.19, 180.0)])
-def test_lowering_over_an_edge_puts_the_high_side_at_the_tied_end(mu, wrap_deg):
+@BYSTANDER
+def test_lowering_over_an_edge_puts_the_high_side_at_the_tied_end(mu, wrap_deg, bystander):
     # Lowering, the rope runs toward the tied end, which becomes the high side: T_L = F e^(μφ).
-    res = solved(edge_rig(mu, wrap_deg, motion="lower"))
+    res = solved(maybe_bystander(edge_rig(mu, wrap_deg, motion="lower"), bystander))
     assert rigs.tension(res, "r", 0) / rigs.tension(res, "r", 1) == pytest.approx(
         math.exp(mu * math.radians(wrap_deg)), rel=REL
     )
 
 
-def test_ninety_degree_concrete_edge_roughly_doubles_the_haul():
+@BYSTANDER
+def test_ninety_degree_concrete_edge_roughly_doubles_the_haul(bystander):
     # μ = 0.44 concrete (Delaney) over a 90° edge: e^(0.44 π/2) = 1.996; "a 90° concrete
     # edge roughly doubles the haul force" (common practice, no source).
-    res = solved(edge_rig(0.44, 90.0))
+    res = solved(maybe_bystander(edge_rig(0.44, 90.0), bystander))
     ratio = rigs.tension(res, "r", 1) / rigs.tension(res, "r", 0)
     assert ratio == pytest.approx(1.996, abs=1e-3)
     assert ratio == pytest.approx(2.0, abs=0.01)
 
 
-def test_edge_in_hold_is_frictionless():
+@BYSTANDER
+def test_edge_in_hold_is_frictionless(bystander):
     # rig-format.md: in hold all passes are frictionless.
-    res = solved(edge_rig(0.44, 90.0, motion="hold"))
+    res = solved(maybe_bystander(edge_rig(0.44, 90.0, motion="hold"), bystander))
     assert rigs.tension(res, "r", 0) == pytest.approx(rigs.tension(res, "r", 1), rel=1e-9)
 
 
