@@ -395,8 +395,9 @@ def _master_place(s: _Site, anchors: Sequence[Point]) -> Vec:
     dist = _norm(to_load)
     u = _unit(to_load, "The load and the anchors' centre", s.load.id)
     spread = max(_norm(_sub(p.xy, q.xy)) for p in anchors for q in anchors)
-    # about 60 degrees between the outer legs (0.87 x spread), never past halfway to the load
-    reach = min(max(0.87 * spread, 0.5), 0.5 * dist)
+    # about 90 degrees between the outer legs (0.5 x spread: ASME B30.9 advises against more
+    # than 120), at least 0.5 m, never past halfway to the load
+    reach = min(max(0.5 * spread, 0.5), 0.5 * dist)
     return _add(centre, _scale(u, reach))
 
 
@@ -489,13 +490,15 @@ TEMPLATES: dict[str, Template] = {t.name: t for t in (
              1.0, _MA_NEEDS, (0, 0), _build_redirect),
     Template("anchor-shared", "Load-sharing anchor (2 or 3 points)",
              "Separate slings from each picked anchor are tied at one master point; the main line from "
-             "the load is tied to it at a set tension. The anchors share the load by their sling angles "
+             "the load is tied to it, tensioned as drawn to a set force (it relaxes a little as the slings "
+             "stretch). The anchors share the load by their sling angles "
              "and stretch; they do not re-balance if the pull swings.",
              None, ("anchor", "load?"), (1, 2), _build_load_sharing),
     Template("anchor-equalising", "Self-equalising anchor (2 or 3 points)",
              "One sling runs from the first anchor through the master point (and round each middle "
              "anchor and back through the master point) to the last anchor; the master point slides on "
-             "it so every strand carries the same tension. If one anchor fails the master point drops "
+             "it so every strand carries the same tension (a middle anchor holds two strands). The main "
+             "line is tensioned as drawn, as for the load-sharing anchor. If one anchor fails the master point drops "
              "along the sling (extension).",
              None, ("anchor", "load?"), (1, 2), _build_self_equalising),
     Template("tensioned-line", "Tensioned line between two anchors",

@@ -159,12 +159,7 @@ def solved(rig):
     return res
 
 
-_NO_FREE_POINT = pytest.mark.xfail(
-    raises=ValueError, reason="solver.equilibrium raises on a rig with no free point (reported to its owner)")
-
-
-@pytest.mark.parametrize("name", [n if n != "redirect" else pytest.param(n, marks=_NO_FREE_POINT)
-                                  for n in MA_SYSTEMS])
+@pytest.mark.parametrize("name", MA_SYSTEMS)
 def test_template_delivers_t_method_ma_with_90pct_pulleys(name):
     rig = place(site(), name, load_id="L", anchor_id="A")
     res = solved(rig)
@@ -228,7 +223,6 @@ def test_vector_pull_with_capture_holds_the_line_at_the_grab():
     assert any(p.kind == "person" for p in rig.points)
 
 
-@_NO_FREE_POINT
 def test_redirect_anchor_takes_the_resultant_of_both_legs():
     rig = place(site(), "redirect", load_id="L", anchor_id="A")  # haul team 5 m to the left: 90 degree turn
     res = solved(rig)
