@@ -1,0 +1,306 @@
+"""Live solving: re-solve the rig after every Document change (and during drags) without ever blocking the UI.
+
+:class:`SolveScheduler` listens to ``Document.changed``.  Changes are coalesced by
+one single-shot QTimer (0-30 ms), so a drag that previews the rig on every mouse
+event is solved at most once per timer period, never once per event.  Each solve
+is warm-started from the last good solution (free points whose drawn position is
+unchanged), and its Result carries the document revision it was solved for;
+a result whose revision is no longer the document's is dropped as stale.
+
+Solves run in the GUI thread while they are quick (a drag step on a 50-rope rig
+takes milliseconds, so the overlay follows the mouse).  A solve that takes longer
+than ``background_after_ms`` moves later solves to a worker thread, where the
+window stays responsive and stale answers are dropped.  A solve that raises, or
+that returns a failed status, becomes a failed Result with a named reason; the
+last good Result (and the rig it was solved for) is kept for a greyed overlay.
+"""
+
+from __future__ import annotations
+
+import concurrent.futures
+import logging
+import time
+from dataclasses import replace
+from typing import Callable, Mapping
+
+from PySide6.QtCore import QObject, Qt, QTimer, Signal
+
+from solver.model import Rig
+from solver.result import Result
+
+log = logging.getLogger(__name__)
+
+#: Coalescing delay (ms) between a change and its solve; the brief allows 0-30 ms.
+DEFAULT_DELAY_MS = 12
+MAX_DELAY_MS = 30
+#: A solve slower than this (ms) sends later solves to the worker thread.
+BACKGROUND_AFTER_MS = 120.0
+#: Back to the GUI thread after this many quick background solves in a row.
+QUICK_SOLVES_TO_RETURN = 3
+
+Analyse = Callable[..., Result]
+
+
+def _default_analyse(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None) -> Result:
+    from solver.analysis import analyse
+
+    return analyse(rig, start=start)
+
+
+def warm_start(rig: Rig, good_rig: Rig | None, good: Result | None) -> dict[str, tuple[float, float]] | None:
+    """Solved positions (m) of the last good result for free points of ``rig`` whose drawn position is unchanged.
+
+    A point the planner just dragged starts from where it was drawn, so the solver
+    follows the drag instead of the old answer.
+    """
+    if good is None or good_rig is None or not good.ok:
+        return None
+    old = {p.id: (p.x, p.y) for p in good_rig.points}
+    start = {}
+    for p in rig.points:
+        if p.is_fixed or p.id not in good.points:
+            continue
+        if old.get(p.id) == (p.x, p.y):
+            start[p.id] = tuple(good.points[p.id])
+    return start or None
+
+
+def failure_result(exc: BaseException) -> Result:
+    """A failed Result naming an exception the solver should never have raised."""
+    return Result(status="diverged",
+                  message=f"the solver stopped with an internal error ({type(exc).__name__}: {exc}); "
+                          "the last good result is shown greyed and nothing you drew is lost")
+
+
+def failure_text(result: Result, rig: Rig | None = None) -> str:
+    """One line for a banner: what failed, the solver's reason and the point or rope it is about."""
+    head = {"invalid": "The rig cannot be solved as drawn", "mechanism": "The rig is not held in place",
+            "diverged": "No equilibrium found"}.get(result.status, "The solve failed")
+    subject = result.subject
+    where = ""
+    if subject and rig is not None:
+        if rig.has_point(subject):
+            p = rig.point(subject)
+            where = f" — at point {p.name}" + (f" ({p.id})" if p.label else "")
+        elif any(r.id == subject for r in rig.ropes):
+            r = rig.rope(subject)
+            where = f" — on rope {r.name}" + (f" ({r.id})" if r.label else "")
+        else:
+            where = f" — at {subject}"
+    elif subject:
+        where = f" — at {subject}"
+    reason = result.message.strip() or result.status
+    return f"{head}{where}: {reason}"
+
+
+class _Bridge(QObject):
+    """Carries a worker thread's answer back to the GUI thread (queued signal)."""
+
+    done = Signal(int, object, object)  # revision, rig, Result
+
+
+class SolveScheduler(QObject):
+    """Solves the document's rig after each change through one coalescing timer; keeps the last good Result."""
+
+    result_ready = Signal(object)  # Result (ok or failed) for the document's current revision
+    status_changed = Signal(str)  # "solving", "ok", or the failed status ("diverged", "invalid", ...)
+
+    def __init__(self, document, parent: QObject | None = None, *, delay_ms: int = DEFAULT_DELAY_MS,
+                 analyse: Analyse | None = None, background_after_ms: float = BACKGROUND_AFTER_MS) -> None:
+        super().__init__(parent)
+        self.document = document
+        self.analyse: Analyse = analyse or _default_analyse
+        self.background_after_ms = float(background_after_ms)
+        self.timer = QTimer(self)
+        self.timer.setSingleShot(True)
+        self.timer.setInterval(max(0, min(int(delay_ms), MAX_DELAY_MS)))
+        self.timer.timeout.connect(self._fire)
+        self.result: Result | None = None  # latest delivered (ok or failed)
+        self.rig: Rig | None = None  # the rig ``result`` was solved for
+        self.last_good: Result | None = None
+        self.last_good_rig: Rig | None = None
+        self.solve_count = 0
+        self.stale_dropped = 0
+        self.last_solve_ms = 0.0
+        self.background = False
+        self._quick_in_row = 0
+        self._in_flight: int | None = None  # revision being solved in the worker
+        self._executor: concurrent.futures.ThreadPoolExecutor | None = None
+        self._closed = False
+        self._bridge = _Bridge(self)
+        self._bridge.done.connect(self._deliver, Qt.QueuedConnection)
+        document.changed.connect(self.schedule)
+
+    # --- scheduling ---------------------------------------------------------------------------
+    def schedule(self, *_args) -> None:
+        """Note a change; the solve runs when the timer fires (a running timer is not restarted,
+        so a continuous drag is still solved every ``delay`` ms)."""
+        if not self._closed and not self.timer.isActive():
+            self.timer.start()
+
+    @property
+    def pending(self) -> bool:
+        """True while a change waits for its solve (timer running or a worker busy)."""
+        return self.timer.isActive() or self._in_flight is not None
+
+    def solve_now(self) -> Result | None:
+        """Solve the current rig at once in this thread (tests, benchmarks, export) and deliver the answer."""
+        self.timer.stop()
+        rev, rig = self.document.revision, self.document.rig
+        result = self._run(rig, rev)
+        self._deliver(rev, rig, result)
+        return self.result
+
+    def _fire(self) -> None:
+        if self._closed:
+            return
+        if self._in_flight is not None:  # the worker is busy; its return re-arms the timer
+            return
+        rev, rig = self.document.revision, self.document.rig
+        if self.result is not None and self.result.revision == rev:
+            return  # already solved this revision
+        self.status_changed.emit("solving")
+        if self.background:
+            self._submit(rig, rev)
+            return
+        result = self._run(rig, rev)
+        if self.last_solve_ms > self.background_after_ms:
+            log.info("solve took %.0f ms: later solves run in the background", self.last_solve_ms)
+            self.background = True
+            self._quick_in_row = 0
+        self._deliver(rev, rig, result)
+
+    def _run(self, rig: Rig, rev: int) -> Result:
+        """One solve, never raising: exceptions become a failed Result; the revision is stamped on."""
+        start = warm_start(rig, self.last_good_rig, self.last_good)
+        t0 = time.perf_counter()
+        try:
+            result = self.analyse(rig, start=start)
+            if not isinstance(result, Result):
+                raise TypeError(f"analyse returned {type(result).__name__}, not a Result")
+        except Exception as exc:  # noqa: BLE001 - a solver bug must not take the window down
+            log.exception("live solve failed")
+            result = failure_result(exc)
+        self.last_solve_ms = (time.perf_counter() - t0) * 1e3
+        self.solve_count += 1
+        return replace(result, revision=rev)
+
+    def _submit(self, rig: Rig, rev: int) -> None:
+        if self._executor is None:
+            self._executor = concurrent.futures.ThreadPoolExecutor(max_workers=1, thread_name_prefix="rw-solve")
+        self._in_flight = rev
+        bridge = self._bridge
+
+        def work() -> None:
+            result = self._run(rig, rev)
+            if not self._closed:
+                try:
+                    bridge.done.emit(rev, rig, result)
+                except RuntimeError:  # the window closed while solving
+                    pass
+
+        self._executor.submit(work)
+
+    # --- delivery -------------------------------------------------------------------------------
+    def _deliver(self, rev: int, rig: Rig, result: Result) -> None:
+        if self._closed:
+            return
+        if self._in_flight == rev:
+            self._in_flight = None
+            if self.background:
+                self._quick_in_row = self._quick_in_row + 1 if self.last_solve_ms < self.background_after_ms / 2 else 0
+                if self._quick_in_row >= QUICK_SOLVES_TO_RETURN:
+                    self.background = False
+        if rev != self.document.revision:
+            self.stale_dropped += 1
+            log.debug("dropped a stale result for revision %d (document at %d)", rev, self.document.revision)
+            self.schedule()
+            return
+        self.result, self.rig = result, rig
+        if result.ok:
+            self.last_good, self.last_good_rig = result, rig
+        self.status_changed.emit(result.status)
+        self.result_ready.emit(result)
+
+    def close(self) -> None:
+        """Stop solving (window closing): no more timers, the worker's late answers are ignored."""
+        self._closed = True
+        self.timer.stop()
+        try:
+            self.document.changed.disconnect(self.schedule)
+        except (RuntimeError, TypeError):
+            pass
+        if self._executor is not None:
+            self._executor.shutdown(wait=False, cancel_futures=True)
+            self._executor = None
+
+
+class LiveForces(QObject):
+    """Everything issue 5 adds to a main window: scheduler, overlay, results dock, View-menu layer toggles."""
+
+    def __init__(self, window) -> None:
+        super().__init__(window)
+        from sketchpad.overlay import ResultOverlay
+        from sketchpad.results_panel import ResultsPanel
+
+        self.window = window
+        self.scheduler = SolveScheduler(window.document, self)
+        self.overlay = ResultOverlay(window.view, self)
+        self.panel = ResultsPanel()
+        self.panel.subject_activated.connect(self.select_subject)
+        self.dock = window.add_panel(self.panel, "Forces", "dock_forces")
+        self.scheduler.result_ready.connect(self._show)
+        self.layer_actions = self.overlay.make_layer_actions(window)
+        window.menu_view.addSeparator()
+        self.menu_layers = window.menu_view.addMenu("Force &overlay")
+        for act in self.layer_actions.values():
+            self.menu_layers.addAction(act)
+        self.scheduler.schedule()
+
+    def _show(self, result: Result) -> None:
+        s = self.scheduler
+        self.overlay.show_result(s.rig, result, s.last_good_rig, s.last_good)
+        self.panel.show_result(s.rig, result, s.last_good_rig, s.last_good)
+
+    def select_subject(self, subject: str) -> None:
+        """Select and centre the canvas item a warning is about (point, rope, ``rope@point``, ``a,b,c``)."""
+        keys = subject_keys(self.window.document.rig, subject)
+        if not keys:
+            return
+        canvas, view = self.window.canvas, self.window.view
+        canvas.select_keys(keys)
+        items = [canvas.item_for(k) for k in keys]
+        rect = None
+        for it in items:
+            if it is None:
+                continue
+            r = it.sceneBoundingRect()
+            rect = r if rect is None else rect.united(r)
+        if rect is not None:
+            view.centerOn(rect.center())
+            view.viewport().update()
+
+
+def subject_keys(rig: Rig, subject: str) -> list[tuple]:
+    """Canvas keys for a warning subject: a point id, a rope id, ``rope@point`` (the point) or ``id,id,...``."""
+    keys: list[tuple] = []
+    for part in (subject or "").split(","):
+        part = part.strip()
+        if not part:
+            continue
+        if "@" in part:
+            part = part.split("@", 1)[1].split("#", 1)[0]
+        if rig.has_point(part):
+            keys.append(("point", part))
+        elif any(r.id == part for r in rig.ropes):
+            keys.append(("rope", part))
+        elif any(f.id == part for f in rig.site.features):
+            keys.append(("feature", part))
+    return keys
+
+
+def install_live_forces(window) -> LiveForces:
+    """Add live solving, the force overlay and the results dock to ``window`` (a MainWindow)."""
+    live = LiveForces(window)
+    window.destroyed.connect(lambda *_: live.scheduler.close())
+    return live

@@ -1,0 +1,935 @@
+"""The force overlay: the solver's Result drawn over the sketch by a few items that paint many labels.
+
+What a planner sees after every solve:
+
+* each rope piece, at its solved position, under a translucent band coloured by its
+  utilization (tension x safety factor / MBS, ramp in ``theme.UTIL_RAMP``) and
+  labelled with its tension (and stretch, %) in the display unit;
+* the turn at every redirect, and at a vector-pull hand also the angle off the
+  original line (half the turn);
+* an arrow at every anchor showing the resultant's direction, with its size and the
+  share of the anchor's allowed load used; the force delivered to each load against
+  the force it needs; the haul force and what each hauler gives (with the range
+  static friction allows in ``hold``);
+* danger zones (``solver.danger``) as hatched translucent areas;
+* a legend with the ramp, mechanical advantage (actual / ideal) and the haul summary.
+
+Labels keep their size in screen pixels: the items live in scene metres, and
+labels are painted in device space at pixel offsets from their anchor point.  A
+greedy placer (:func:`place_labels`) runs whenever the result or the zoom
+changes (never inside ``paint``): most important labels first, each tries several
+offsets along and either side of its piece, then a leader line farther out, else it
+is skipped and counted.  A failed solve shows a banner with the named reason and
+keeps the last good overlay, greyed.
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+from dataclasses import dataclass, field
+from typing import Callable, Iterable, Mapping
+
+from PySide6.QtCore import QEvent, QObject, QPointF, QRectF, QSize, Qt
+from PySide6.QtGui import (
+    QAction,
+    QBrush,
+    QColor,
+    QFontMetricsF,
+    QLinearGradient,
+    QPainter,
+    QPainterPath,
+    QPen,
+    QPolygonF,
+    QStaticText,
+    QTransform,
+)
+from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
+
+from sketchpad import theme
+from sketchpad.geometry import to_scene
+from solver.model import Rig
+from solver.result import Result
+from solver.units import format_force
+
+log = logging.getLogger(__name__)
+
+#: Overlay layers the View menu toggles, with their menu text.
+LAYERS: dict[str, str] = {
+    "tensions": "Rope &tensions",
+    "angles": "Turn &angles",
+    "anchors": "Anchor, &load and haul forces",
+    "zones": "&Danger zones",
+    "stretch": "Rope &stretch",
+}
+#: Middle passes whose turn is labelled (tied passes are knots and grabs, not redirects).
+TURNING_HOWS = frozenset({"pulley", "sliding", "edge"})
+#: Pieces carrying less than this (N) are labelled "slack".
+SLACK_N = 1.0
+#: Utilization buckets for the band paths (one path and pen per bucket).
+BAND_BUCKETS = 24
+BAND_MAX_UTIL = 1.6
+#: Placer tuning, in screen pixels.
+MARKER_CLEAR_PX = 11.0  # keep labels off point markers
+GRID_CELL_PX = 56.0
+ROPE_SAMPLE_PX = 10.0
+MAX_SAMPLES_PER_PIECE = 160
+LEADER_STEPS_PX = (26.0, 52.0)
+HOLD_LABEL = "hold"
+
+
+# --- the label model ---------------------------------------------------------------------------
+@dataclass
+class OverlayLabel:
+    """One label: what it says (lines), the numbers behind it, where it hangs, and where the placer put it."""
+
+    kind: str  # "tension", "angle", "anchor", "load", "haul"
+    key: object  # (rope id, piece) | pass key "rope@point" | point id
+    lines: tuple[str, ...]
+    values: Mapping[str, float]
+    colour: QColor  # border (utilization colour for ropes and anchors)
+    priority: float
+    base: tuple[float, float]  # scene metres: the point on the piece or the point it is about
+    end: tuple[float, float] | None = None  # piece labels: the piece's other end (scene metres)
+    prefer: tuple[float, float] = (0.0, -1.0)  # point labels: preferred direction (scene, unit)
+    # placement (screen pixels, relative to the anchor ``at``), set by place_labels
+    placed: bool = False
+    at: tuple[float, float] = (0.0, 0.0)  # scene metres the pixel rect hangs from
+    rect: tuple[float, float, float, float] = (0.0, 0.0, 0.0, 0.0)  # x, y, w, h px relative to ``at``
+    leader: bool = False
+    static: list = field(default_factory=list, repr=False)
+
+    @property
+    def text(self) -> str:
+        return "\n".join(self.lines)
+
+
+@dataclass
+class AnchorArrow:
+    """An anchor resultant: where (scene metres), which way (scene unit vector), colour."""
+
+    point_id: str
+    base: tuple[float, float]
+    direction: tuple[float, float]
+    colour: QColor
+
+
+def _scene(xy) -> tuple[float, float]:
+    return (float(xy[0]), -float(xy[1]))
+
+
+def _unit(dx: float, dy: float) -> tuple[float, float]:
+    n = math.hypot(dx, dy)
+    return (0.0, -1.0) if n < 1e-12 else (dx / n, dy / n)
+
+
+def pass_keys(rig: Rig) -> dict[str, tuple[str, int]]:
+    """Deflection keys of ``Result.deflection_deg`` ("rope@point", "rope@point#2") -> (rope id, pass index)."""
+    out: dict[str, tuple[str, int]] = {}
+    for rope in rig.ropes:
+        counts: dict[str, int] = {}
+        for j in range(1, len(rope.path) - 1):
+            at = rope.path[j].at
+            counts[at] = counts.get(at, 0) + 1
+            key = f"{rope.id}@{at}" if counts[at] == 1 else f"{rope.id}@{at}#{counts[at]}"
+            out[key] = (rope.id, j)
+    return out
+
+
+def fmt_percent(fraction: float, digits: int = 0) -> str:
+    return f"{fraction * 100:.{digits}f} %"
+
+
+def fmt_angle(deg: float) -> str:
+    return f"{deg:.0f}°" if abs(deg) >= 10 else f"{deg:.1f}°"
+
+
+def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[OverlayLabel], list[AnchorArrow]]:
+    """Labels and anchor arrows for an ok ``result`` of ``rig`` with the ``layers`` shown (numbers from the Result)."""
+    layers = set(layers)
+    unit = rig.display.force
+    sf = float(rig.settings.min_safety_factor)
+    pos = {p.id: _scene(p.xy) for p in rig.points}
+    for pid, xy in result.points.items():
+        pos[pid] = _scene(xy)
+    labels: list[OverlayLabel] = []
+    arrows: list[AnchorArrow] = []
+
+    if "tensions" in layers or "stretch" in layers:
+        for s in result.segments:
+            if s.from_point not in pos or s.to_point not in pos:
+                continue
+            a, b = pos[s.from_point], pos[s.to_point]
+            lines = []
+            slack = s.tension_N <= SLACK_N
+            if "tensions" in layers:
+                lines.append("slack" if slack else format_force(s.tension_N, unit))
+            if "stretch" in layers and not slack:
+                lines.append(f"{s.strain * 100:.1f} % stretch")
+            if not lines:
+                continue
+            labels.append(OverlayLabel(
+                kind="tension", key=(s.rope, s.index), lines=tuple(lines),
+                values={"tension_N": s.tension_N, "strain": s.strain, "utilization": s.utilization},
+                colour=theme.utilization_colour(s.utilization), priority=50.0 + 10.0 * min(s.utilization, 3.0),
+                base=a, end=b))
+
+    if "angles" in layers:
+        keys = pass_keys(rig)
+        forced = {f.at for f in rig.forces if f.magnitude_N > 0}
+        for key, turn in result.deflection_deg.items():
+            if key not in keys or not math.isfinite(turn):
+                continue
+            rope_id, j = keys[key]
+            rope = rig.rope(rope_id)
+            ps = rope.path[j]
+            if ps.how not in TURNING_HOWS or ps.at not in pos:
+                continue
+            at = pos[ps.at]
+            prev, nxt = pos.get(rope.path[j - 1].at, at), pos.get(rope.path[j + 1].at, at)
+            u1, u2 = _unit(prev[0] - at[0], prev[1] - at[1]), _unit(nxt[0] - at[0], nxt[1] - at[1])
+            outward = _unit(-(u1[0] + u2[0]), -(u1[1] + u2[1]))  # away from both legs: outside the bight
+            point = rig.point(ps.at) if rig.has_point(ps.at) else None
+            hand = point is not None and not point.is_fixed and ps.at in forced
+            lines = [f"turn {fmt_angle(turn)}"]
+            values = {"turn_deg": float(turn)}
+            if hand:
+                lines.append(f"off line {fmt_angle(turn / 2.0)}")
+                values["off_line_deg"] = float(turn) / 2.0
+            labels.append(OverlayLabel(kind="angle", key=key, lines=tuple(lines), values=values,
+                                       colour=theme.ANGLE_TEXT, priority=30.0 + (5.0 if hand else 0.0),
+                                       base=at, prefer=outward))
+
+    if "anchors" in layers:
+        for aid, a in result.anchors.items():
+            if aid not in pos or not rig.has_point(aid):
+                continue
+            p = rig.point(aid)
+            rad = math.radians(a.direction_deg)
+            d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
+            colour = theme.utilization_colour(a.utilization)
+            lines = [f"{p.name} {format_force(a.force_N, unit)}"]
+            if a.utilization is not None:
+                lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
+            else:
+                lines.append("capacity not known")
+            hold = result.hold_anchor_range.get(aid)
+            values = {"force_N": a.force_N, "direction_deg": a.direction_deg}
+            if a.utilization is not None:
+                values["utilization"] = a.utilization
+            if hold is not None:
+                lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
+                values.update(hold_low_N=hold.low, hold_high_N=hold.high)
+            if a.force_N > SLACK_N:
+                arrows.append(AnchorArrow(aid, pos[aid], d, colour))
+            labels.append(OverlayLabel(kind="anchor", key=aid, lines=tuple(lines), values=values, colour=colour,
+                                       priority=90.0 + min(a.utilization or 0.0, 3.0), base=pos[aid], prefer=d))
+        for lid, f in result.loads.items():
+            if lid not in pos or not rig.has_point(lid):
+                continue
+            p = rig.point(lid)
+            rad = math.radians(f.direction_deg)
+            d = (math.cos(rad), -math.sin(rad))
+            lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
+            values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
+            colour = QColor(theme.UTIL_RAMP[0][1])
+            if p.required_N is not None:
+                enough = f.force_N >= p.required_N
+                lines.append(f"needs {format_force(p.required_N, unit)}" + ("" if enough else " — short"))
+                values["required_N"] = float(p.required_N)
+                colour = QColor(theme.UTIL_RAMP[0][1] if enough else theme.UTIL_RAMP[-1][1])
+            labels.append(OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
+                                       priority=95.0, base=pos[lid], prefer=(-d[0], -d[1])))
+        for hid, force in result.haul.items():
+            if hid not in pos or not rig.has_point(hid):
+                continue
+            p = rig.point(hid)
+            lines = [f"haul {format_force(force, unit)}"]
+            values = {"force_N": float(force)}
+            if p.team:
+                each = force / p.team
+                lines.append(f"{p.team} × {format_force(each, unit)} each")
+                values.update(team=float(p.team), per_hauler_N=each)
+            hold = result.hold_haul_range.get(hid)
+            if hold is not None:
+                lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
+                values.update(hold_low_N=hold.low, hold_high_N=hold.high)
+            labels.append(OverlayLabel(kind="haul", key=hid, lines=tuple(lines), values=values,
+                                       colour=QColor(theme.POINT_FILL["haul"]), priority=94.0, base=pos[hid]))
+    return labels, arrows
+
+
+# --- the greedy placer ----------------------------------------------------------------------------
+class _Grid:
+    """Uniform-grid spatial hash of pixel rects and rope sample points."""
+
+    def __init__(self, cell: float = GRID_CELL_PX) -> None:
+        self.cell = cell
+        self.rects: dict[tuple[int, int], list[tuple[float, float, float, float]]] = {}
+        self.points: dict[tuple[int, int], list[tuple[float, float, object]]] = {}
+
+    def _cells(self, x: float, y: float, w: float, h: float):
+        c = self.cell
+        for i in range(int(math.floor(x / c)), int(math.floor((x + w) / c)) + 1):
+            for j in range(int(math.floor(y / c)), int(math.floor((y + h) / c)) + 1):
+                yield (i, j)
+
+    def add_rect(self, r) -> None:
+        for k in self._cells(*r):
+            self.rects.setdefault(k, []).append(r)
+
+    def add_point(self, x: float, y: float, owner: object) -> None:
+        self.points.setdefault((int(math.floor(x / self.cell)), int(math.floor(y / self.cell))), []).append((x, y, owner))
+
+    def hits_rect(self, r) -> bool:
+        x, y, w, h = r
+        for k in self._cells(x, y, w, h):
+            for (ox, oy, ow, oh) in self.rects.get(k, ()):
+                if x < ox + ow and ox < x + w and y < oy + oh and oy < y + h:
+                    return True
+        return False
+
+    def crossings(self, r, own: object) -> int:
+        x, y, w, h = r
+        n = 0
+        for k in self._cells(x, y, w, h):
+            for (px, py, owner) in self.points.get(k, ()):
+                if owner != own and x <= px <= x + w and y <= py <= y + h:
+                    n += 1
+        return n
+
+
+def _half_extent(nx: float, ny: float, w: float, h: float) -> float:
+    """Distance from a w x h rect's centre to its edge along the unit direction (nx, ny)."""
+    return abs(nx) * w / 2.0 + abs(ny) * h / 2.0
+
+
+def _rotate(v: tuple[float, float], deg: float) -> tuple[float, float]:
+    c, s = math.cos(math.radians(deg)), math.sin(math.radians(deg))
+    return (v[0] * c - v[1] * s, v[0] * s + v[1] * c)
+
+
+def _candidates(lab: OverlayLabel, to_px: Callable, w: float, h: float):
+    """Candidate (anchor scene point, centre px, anchor px, leader) for one label, best first."""
+    gap = theme.OVERLAY_LABEL_GAP_PX
+    if lab.end is not None:
+        a, b = to_px(lab.base), to_px(lab.end)
+        u = _unit(b[0] - a[0], b[1] - a[1])
+        n = (-u[1], u[0])
+        if n[1] > 0 or (n[1] == 0 and n[0] < 0):  # first try above / right of the piece
+            n = (-n[0], -n[1])
+        d = gap + _half_extent(n[0], n[1], w, h)
+        for extra, leader in ((0.0, False),) + tuple((s, True) for s in LEADER_STEPS_PX):
+            for t in (0.5, 0.36, 0.64, 0.22, 0.78):
+                base_s = (lab.base[0] + (lab.end[0] - lab.base[0]) * t, lab.base[1] + (lab.end[1] - lab.base[1]) * t)
+                bp = (a[0] + (b[0] - a[0]) * t, a[1] + (b[1] - a[1]) * t)
+                for side in (1.0, -1.0):
+                    c = (bp[0] + n[0] * side * (d + extra), bp[1] + n[1] * side * (d + extra))
+                    yield base_s, c, bp, leader
+    else:
+        bp = to_px(lab.base)
+        r = MARKER_CLEAR_PX
+        for extra, leader in ((0.0, False),) + tuple((s, True) for s in LEADER_STEPS_PX):
+            for rot in (0.0, 40.0, -40.0, 90.0, -90.0, 140.0, -140.0, 180.0):
+                v = _rotate(lab.prefer, rot)
+                d = r + gap + _half_extent(v[0], v[1], w, h) + extra
+                if lab.kind == "anchor":
+                    d += theme.ANCHOR_ARROW_PX if rot == 0.0 else 0.0
+                yield lab.base, (bp[0] + v[0] * d, bp[1] + v[1] * d), bp, leader
+
+
+def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float]], tuple[float, float]],
+                 size_of: Callable[[OverlayLabel], tuple[float, float]],
+                 markers: Iterable[tuple[float, float]] = (),
+                 pieces: Iterable[tuple[object, tuple[float, float], tuple[float, float]]] = (),
+                 boxes: Iterable[tuple[tuple[float, float], tuple[float, float, float, float]]] = ()) -> int:
+    """Greedy placement in screen pixels; returns how many labels were skipped.
+
+    Most important first (``priority``).  Each label takes its first candidate that
+    overlaps no placed label and no point marker and crosses no other rope; failing
+    that, the first that only crosses ropes; failing that, one farther out with a
+    leader line; else it is skipped.  ``markers`` are scene points, ``pieces``
+    (owner key, scene a, scene b) the solved rope pieces, ``boxes`` (scene point,
+    pixel rect relative to it) other text already on the canvas (point names).
+    """
+    grid = _Grid()
+    for xy, (bx, by, bw, bh) in boxes:
+        x, y = to_px(xy)
+        grid.add_rect((x + bx, y + by, bw, bh))
+    for m in markers:
+        x, y = to_px(m)
+        grid.add_rect((x - MARKER_CLEAR_PX, y - MARKER_CLEAR_PX, 2 * MARKER_CLEAR_PX, 2 * MARKER_CLEAR_PX))
+    for owner, a, b in pieces:
+        pa, pb = to_px(a), to_px(b)
+        length = math.hypot(pb[0] - pa[0], pb[1] - pa[1])
+        n = int(min(MAX_SAMPLES_PER_PIECE, max(1, length // ROPE_SAMPLE_PX)))
+        for k in range(n + 1):
+            t = k / n
+            grid.add_point(pa[0] + (pb[0] - pa[0]) * t, pa[1] + (pb[1] - pa[1]) * t, owner)
+    skipped = 0
+    for lab in sorted(labels, key=lambda l: -l.priority):
+        w, h = size_of(lab)
+        lab.placed = False
+        fallback = None
+        own = lab.key if lab.kind == "tension" else None
+        for base_s, c, bp, leader in _candidates(lab, to_px, w, h):
+            r = (c[0] - w / 2.0, c[1] - h / 2.0, w, h)
+            if grid.hits_rect(r):
+                continue
+            crossing = grid.crossings(r, own) > 0
+            if not crossing or leader:
+                choice = (base_s, r, bp, leader)
+                break
+            if fallback is None:
+                fallback = (base_s, r, bp, leader)
+        else:
+            choice = fallback
+        if choice is None:
+            skipped += 1
+            continue
+        base_s, r, bp, leader = choice
+        grid.add_rect(r)
+        lab.placed = True
+        lab.at = base_s
+        lab.rect = (r[0] - bp[0], r[1] - bp[1], r[2], r[3])
+        lab.leader = leader
+    return skipped
+
+
+# --- shapely -> QPainterPath --------------------------------------------------------------------------
+def geometry_path(geom) -> QPainterPath:
+    """A shapely (Multi)Polygon in site metres as a scene QPainterPath (holes by odd-even fill)."""
+    path = QPainterPath()
+    path.setFillRule(Qt.OddEvenFill)
+    polys = getattr(geom, "geoms", None)
+    for poly in (polys if polys is not None else [geom]):
+        if poly.is_empty or not hasattr(poly, "exterior"):
+            continue
+        for ring in (poly.exterior, *poly.interiors):
+            pts = [QPointF(x, -y) for x, y in ring.coords]
+            path.addPolygon(QPolygonF(pts))
+            path.closeSubpath()
+    return path
+
+
+# --- the items --------------------------------------------------------------------------------------
+class _LayerItem(QGraphicsItem):
+    """Base of the overlay items: never selectable, never hit by clicks, scene coordinates in metres."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.setAcceptedMouseButtons(Qt.NoButton)
+        self.setFlag(QGraphicsItem.ItemIsSelectable, False)
+        self._rect = QRectF()
+        self.grey = False
+
+    def boundingRect(self) -> QRectF:  # noqa: N802
+        return self._rect
+
+    def shape(self) -> QPainterPath:
+        return QPainterPath()  # clicks go to the sketch underneath
+
+    def set_rect(self, rect: QRectF) -> None:
+        if rect != self._rect:
+            self.prepareGeometryChange()
+            self._rect = rect
+
+
+class ZoneItem(_LayerItem):
+    """Danger zones: one hatched translucent path per kind (the union of its zones)."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.paths: dict[str, QPainterPath] = {}
+        self._brushes = {k: theme.zone_brushes(k) for k in theme.ZONE_COLOURS}
+        grey = QColor(theme.OVERLAY_GREY)
+        grey.setAlpha(theme.ZONE_HATCH_ALPHA)
+        self._grey_brush = QBrush(grey, Qt.BDiagPattern)
+        self._pens = {k: theme.cosmetic_pen(c, theme.ZONE_EDGE_PX, Qt.DashLine) for k, c in theme.ZONE_COLOURS.items()}
+        self._grey_pen = theme.cosmetic_pen(theme.OVERLAY_GREY, theme.ZONE_EDGE_PX, Qt.DashLine)
+
+    def set_zones(self, zones) -> None:
+        from shapely.ops import unary_union
+
+        by_kind: dict[str, list] = {}
+        for z in zones:
+            by_kind.setdefault(z.kind, []).append(z.geometry)
+        self.paths = {k: geometry_path(unary_union(g)) for k, g in by_kind.items()}
+        rect = QRectF()
+        for p in self.paths.values():
+            rect = rect.united(p.boundingRect())
+        self.set_rect(rect.adjusted(-1, -1, 1, 1) if not rect.isNull() else QRectF())
+        self.update()
+
+    def paint(self, painter: QPainter, option, widget=None) -> None:
+        for kind in ("recoil", "bight"):
+            path = self.paths.get(kind)
+            if path is None:
+                continue
+            fill, hatch = self._brushes.get(kind, self._brushes["bight"])
+            if self.grey:
+                painter.setPen(self._grey_pen)
+                painter.setBrush(self._grey_brush)
+                painter.drawPath(path)
+                continue
+            painter.setPen(Qt.NoPen)
+            painter.setBrush(fill)
+            painter.drawPath(path)
+            painter.setPen(self._pens.get(kind, self._grey_pen))
+            painter.setBrush(hatch)
+            # hatch patterns follow the device, so they stay the same density at every zoom
+            painter.drawPath(path)
+
+
+class ForceItem(_LayerItem):
+    """Utilization bands, anchor arrows, solved-point rings and every label, painted by one item."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.bands: list[tuple[QPen, QPainterPath]] = []
+        self._grey_band_pen = theme.cosmetic_pen(theme.OVERLAY_GREY, theme.OVERLAY_BAND_PX)
+        self.labels: list[OverlayLabel] = []
+        self.arrows: list[AnchorArrow] = []
+        self.moved_points: list[tuple[float, float]] = []
+        self.fail_point: tuple[float, float] | None = None
+        self.font = theme.font(theme.OVERLAY_POINT_SIZE)
+        self.fm = QFontMetricsF(self.font)
+        self._pens: dict[int, QPen] = {}
+        self._back = QBrush(theme.OVERLAY_LABEL_BACK)
+        self._text_pen = QPen(theme.OVERLAY_LABEL_TEXT)
+        self._leader_pen = theme.pixel_pen(theme.OVERLAY_LEADER, 1.0)
+        self._ring_pen = theme.pixel_pen(theme.OVERLAY_LEADER, 1.3)
+        self._fail_pen = theme.pixel_pen(theme.BANNER_BACK, 3.0)
+        self._size_cache: dict[str, tuple[float, float]] = {}
+        self._static_cache: dict[str, QStaticText] = {}
+
+    # --- building (outside paint) ---------------------------------------------------------------
+    def pen_for(self, colour: QColor, width: float) -> QPen:
+        key = (colour.rgba(), width)
+        pen = self._pens.get(key)
+        if pen is None:
+            pen = self._pens[key] = theme.pixel_pen(colour, width)
+        return pen
+
+    def set_bands(self, rig: Rig, result: Result) -> list[tuple[object, tuple[float, float], tuple[float, float]]]:
+        """One path per utilization bucket along the solved pieces; returns the pieces (key, a, b) in scene metres."""
+        pos = {p.id: _scene(p.xy) for p in rig.points}
+        for pid, xy in result.points.items():
+            pos[pid] = _scene(xy)
+        buckets: dict[int, QPainterPath] = {}
+        pieces = []
+        for s in result.segments:
+            if s.from_point not in pos or s.to_point not in pos:
+                continue
+            a, b = pos[s.from_point], pos[s.to_point]
+            pieces.append(((s.rope, s.index), a, b))
+            if s.tension_N <= SLACK_N:
+                continue
+            k = int(round(min(max(s.utilization, 0.0), BAND_MAX_UTIL) / BAND_MAX_UTIL * BAND_BUCKETS))
+            path = buckets.get(k)
+            if path is None:
+                path = buckets[k] = QPainterPath()
+            path.moveTo(*a)
+            path.lineTo(*b)
+        self.bands = []
+        for k in sorted(buckets):
+            colour = theme.utilization_colour(k / BAND_BUCKETS * BAND_MAX_UTIL)
+            colour.setAlpha(theme.OVERLAY_BAND_ALPHA)
+            self.bands.append((theme.cosmetic_pen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine), buckets[k]))
+        drawn = {p.id: _scene(p.xy) for p in rig.points}
+        self.moved_points = [pos[pid] for pid in result.points
+                             if pid in drawn and math.dist(pos[pid], drawn[pid]) > 1e-6]
+        return pieces
+
+    def label_size(self, lab: OverlayLabel) -> tuple[float, float]:
+        text = lab.text
+        size = self._size_cache.get(text)
+        if size is None:
+            pad = theme.OVERLAY_LABEL_PAD_PX
+            w = max(self.fm.horizontalAdvance(line) for line in lab.lines) + 2 * pad
+            h = self.fm.height() * len(lab.lines) + 2 * pad
+            size = self._size_cache[text] = (math.ceil(w), math.ceil(h))
+        return size
+
+    def static_text(self, line: str) -> QStaticText:
+        st = self._static_cache.get(line)
+        if st is None:
+            st = QStaticText(line)
+            st.setTextFormat(Qt.PlainText)
+            st.prepare(QTransform(), self.font)
+            self._static_cache[line] = st
+        return st
+
+    def set_labels(self, labels: list[OverlayLabel], arrows: list[AnchorArrow], m_per_px: float) -> None:
+        self.labels, self.arrows = labels, arrows
+        self.refresh_rect(m_per_px)
+
+    def refresh_rect(self, m_per_px: float) -> None:
+        rect = QRectF()
+        for _pen, path in self.bands:
+            rect = rect.united(path.boundingRect())
+        reach = (theme.ANCHOR_ARROW_PX + theme.ANCHOR_ARROW_HEAD_PX) * m_per_px
+        for a in self.arrows:
+            rect = rect.united(QRectF(a.base[0] - reach, a.base[1] - reach, 2 * reach, 2 * reach))
+        for lab in self.labels:
+            if lab.placed:
+                x, y, w, h = lab.rect
+                rect = rect.united(QRectF(lab.at[0] + x * m_per_px, lab.at[1] + y * m_per_px, w * m_per_px, h * m_per_px))
+        pad = (theme.FAIL_RING_PX + theme.OVERLAY_BAND_PX) * m_per_px
+        if self.fail_point is not None:
+            fx, fy = self.fail_point
+            rect = rect.united(QRectF(fx - pad, fy - pad, 2 * pad, 2 * pad))
+        self.set_rect(rect.adjusted(-pad, -pad, pad, pad) if not rect.isNull() else QRectF())
+        self.update()
+
+    # --- painting -----------------------------------------------------------------------------------
+    def paint(self, painter: QPainter, option, widget=None) -> None:
+        painter.setRenderHint(QPainter.Antialiasing, True)
+        if self.grey:
+            painter.setOpacity(theme.OVERLAY_GREY_OPACITY)
+        for pen, path in self.bands:
+            painter.setPen(self._grey_band_pen if self.grey else pen)
+            painter.drawPath(path)
+        t = painter.worldTransform()
+        painter.setWorldTransform(QTransform())
+        painter.setBrush(Qt.NoBrush)
+        painter.setPen(self._ring_pen)
+        r = theme.OVERLAY_SOLVED_POINT_PX
+        for m in self.moved_points:
+            painter.drawEllipse(t.map(QPointF(*m)), r, r)
+        for arrow in self.arrows:
+            self._paint_arrow(painter, t, arrow)
+        painter.setFont(self.font)
+        pad = theme.OVERLAY_LABEL_PAD_PX
+        lh = self.fm.height()
+        for lab in self.labels:
+            if not lab.placed:
+                continue
+            p = t.map(QPointF(*lab.at))
+            x, y, w, h = lab.rect
+            box = QRectF(p.x() + x, p.y() + y, w, h)
+            colour = theme.OVERLAY_GREY if self.grey else lab.colour
+            if lab.leader:
+                painter.setPen(self._leader_pen)
+                cx = min(max(p.x(), box.left()), box.right())
+                cy = min(max(p.y(), box.top()), box.bottom())
+                painter.drawLine(p, QPointF(cx, cy))
+                painter.setBrush(theme.OVERLAY_LEADER)
+                painter.drawEllipse(p, 1.8, 1.8)
+            painter.setPen(self.pen_for(colour, theme.OVERLAY_LABEL_BORDER_PX))
+            painter.setBrush(self._back)
+            painter.drawRoundedRect(box, 3.0, 3.0)
+            painter.setPen(self._text_pen if lab.kind != "angle" or self.grey else self.pen_for(theme.ANGLE_TEXT, 1.0))
+            for i, line in enumerate(lab.lines):
+                painter.drawStaticText(QPointF(box.left() + pad, box.top() + pad + i * lh), self.static_text(line))
+        if self.fail_point is not None:
+            painter.setOpacity(1.0)
+            painter.setPen(self._fail_pen)
+            painter.setBrush(Qt.NoBrush)
+            painter.drawEllipse(t.map(QPointF(*self.fail_point)), theme.FAIL_RING_PX, theme.FAIL_RING_PX)
+
+    def _paint_arrow(self, painter: QPainter, t: QTransform, arrow: AnchorArrow) -> None:
+        colour = theme.OVERLAY_GREY if self.grey else arrow.colour
+        base = t.map(QPointF(*arrow.base))
+        dx, dy = arrow.direction
+        start = QPointF(base.x() + dx * MARKER_CLEAR_PX, base.y() + dy * MARKER_CLEAR_PX)
+        tip = QPointF(base.x() + dx * theme.ANCHOR_ARROW_PX, base.y() + dy * theme.ANCHOR_ARROW_PX)
+        hd = theme.ANCHOR_ARROW_HEAD_PX
+        neck = QPointF(tip.x() - dx * hd, tip.y() - dy * hd)
+        painter.setPen(self.pen_for(colour, theme.ANCHOR_ARROW_WIDTH_PX))
+        painter.drawLine(start, neck)
+        nx, ny = -dy, dx
+        head = QPolygonF([tip, QPointF(neck.x() + nx * hd * 0.5, neck.y() + ny * hd * 0.5),
+                          QPointF(neck.x() - nx * hd * 0.5, neck.y() - ny * hd * 0.5)])
+        painter.setPen(self.pen_for(colour, 1.0))
+        painter.setBrush(colour)
+        painter.drawPolygon(head)
+
+
+# --- screen-fixed widgets on the viewport ------------------------------------------------------------------
+class Banner(QLabel):
+    """A red banner across the top of the canvas naming why the solve failed."""
+
+    def __init__(self, parent: QWidget) -> None:
+        super().__init__(parent)
+        self.setWordWrap(True)
+        self.setTextFormat(Qt.PlainText)
+        self.setFont(theme.font(theme.LABEL_POINT_SIZE + 1, bold=True))
+        self.setStyleSheet(f"QLabel {{ background: {theme.BANNER_BACK.name(QColor.HexArgb)}; "
+                           f"color: {theme.BANNER_TEXT.name()}; padding: 7px 10px; border-radius: 4px; }}")
+        self.setAttribute(Qt.WA_TransparentForMouseEvents, True)
+        self.hide()
+
+    def place(self) -> None:
+        vp = self.parentWidget().rect()
+        m = theme.BANNER_MARGIN_PX
+        right = theme.NORTH_ARROW_PX + 2 * theme.HUD_MARGIN_PX
+        w = max(160, vp.width() - m - right)
+        self.setFixedWidth(w)
+        self.adjustSize()
+        self.move(m, m)
+
+
+class Legend(QWidget):
+    """Bottom-right key: the utilization ramp, zone hatches and the system summary lines."""
+
+    def __init__(self, parent: QWidget) -> None:
+        super().__init__(parent)
+        self.setAttribute(Qt.WA_TransparentForMouseEvents, True)
+        self.lines: list[str] = []
+        self.show_zones = True
+        self.grey = False
+        self.font = theme.font(theme.OVERLAY_POINT_SIZE)
+        self.title_font = theme.font(theme.OVERLAY_POINT_SIZE, bold=True)
+        self.fm = QFontMetricsF(self.font)
+        self.hide()
+
+    TITLE = "Rope use: tension × SF ÷ MBS"
+    TICKS = (0.0, 0.5, 1.0, 1.5)
+
+    def set_content(self, lines: list[str], show_zones: bool, grey: bool) -> None:
+        self.lines, self.show_zones, self.grey = list(lines), show_zones, grey
+        self.resize(self.sizeHint())
+        self.place()
+        self.update()
+
+    def sizeHint(self) -> QSize:  # noqa: N802
+        pad, lh = 8, self.fm.height()
+        w = max([theme.LEGEND_RAMP_W_PX + 24, QFontMetricsF(self.title_font).horizontalAdvance(self.TITLE)]
+                + [self.fm.horizontalAdvance(t) for t in self.lines])
+        h = lh + 4 + theme.LEGEND_RAMP_H_PX + lh + 6 + (lh + 4 if self.show_zones else 0) + len(self.lines) * lh
+        return QSize(int(w + 2 * pad), int(h + 2 * pad))
+
+    def place(self) -> None:
+        vp = self.parentWidget().rect()
+        m = theme.LEGEND_MARGIN_PX
+        self.move(vp.width() - self.width() - m, vp.height() - self.height() - m)
+
+    def paintEvent(self, event) -> None:  # noqa: N802
+        p = QPainter(self)
+        p.setRenderHint(QPainter.Antialiasing, True)
+        p.setPen(theme.pixel_pen(theme.LEGEND_EDGE, 1.0))
+        p.setBrush(theme.LEGEND_BACK)
+        p.drawRoundedRect(QRectF(self.rect()).adjusted(0.5, 0.5, -0.5, -0.5), 5, 5)
+        pad, lh = 8.0, self.fm.height()
+        y = pad
+        p.setFont(self.title_font)
+        p.setPen(theme.OVERLAY_LABEL_TEXT)
+        p.drawText(QPointF(pad, y + self.fm.ascent()), self.TITLE)
+        y += lh + 4
+        ramp = QRectF(pad, y, theme.LEGEND_RAMP_W_PX, theme.LEGEND_RAMP_H_PX)
+        top = self.TICKS[-1]
+        grad = QLinearGradient(ramp.topLeft(), ramp.topRight())
+        for u, c in theme.UTIL_RAMP:
+            grad.setColorAt(min(u / top, 1.0), theme.OVERLAY_GREY if self.grey else c)
+        p.setPen(Qt.NoPen)
+        p.setBrush(grad)
+        p.drawRect(ramp)
+        p.setFont(self.font)
+        p.setPen(theme.pixel_pen(theme.OVERLAY_LABEL_TEXT, 1.0))
+        for u in self.TICKS:
+            x = ramp.left() + ramp.width() * u / top
+            p.drawLine(QPointF(x, ramp.bottom()), QPointF(x, ramp.bottom() + 3))
+            text = f"{u * 100:.0f}%" + ("+" if u == top else "")
+            tw = self.fm.horizontalAdvance(text)
+            p.drawText(QPointF(min(max(x - tw / 2, 2), self.width() - tw - 2), ramp.bottom() + 3 + self.fm.ascent()), text)
+        y = ramp.bottom() + 3 + lh + 3
+        if self.show_zones:
+            x = pad
+            for kind, name in (("bight", "inside of bight"), ("recoil", "recoil band")):
+                fill, hatch = theme.zone_brushes(kind)
+                box = QRectF(x, y + 1, 14, lh - 3)
+                p.setPen(theme.pixel_pen(theme.ZONE_COLOURS[kind], 1.0))
+                p.setBrush(fill)
+                p.drawRect(box)
+                p.setBrush(hatch)
+                p.drawRect(box)
+                p.setPen(theme.OVERLAY_LABEL_TEXT)
+                p.drawText(QPointF(x + 18, y + self.fm.ascent()), name)
+                x += 18 + self.fm.horizontalAdvance(name) + 12
+            y += lh + 4
+        p.setPen(theme.OVERLAY_LABEL_TEXT)
+        for line in self.lines:
+            p.drawText(QPointF(pad, y + self.fm.ascent()), line)
+            y += lh
+        p.end()
+
+
+def summary_lines(rig: Rig, result: Result) -> list[str]:
+    """The system in a few lines: MA actual/ideal, haul force and haulers, load delivered vs needed."""
+    unit = rig.display.force
+    out = []
+    if result.ma_actual is not None:
+        ideal = f" / {result.ma_ideal:.2f} ideal" if result.ma_ideal is not None else ""
+        out.append(f"MA {result.ma_actual:.2f} actual{ideal}")
+    for hid, force in result.haul.items():
+        name = rig.point(hid).name if rig.has_point(hid) else hid
+        hold = result.hold_haul_range.get(hid)
+        text = f"{name}: {format_force(force, unit)}"
+        if hold is not None:
+            text += f" (hold {format_force(hold.low, unit)} – {format_force(hold.high, unit)})"
+        out.append(text)
+    for lid, f in result.loads.items():
+        if not rig.has_point(lid):
+            continue
+        p = rig.point(lid)
+        text = f"to {p.name}: {format_force(f.force_N, unit)}"
+        if p.required_N is not None:
+            text += f" of {format_force(p.required_N, unit)} needed"
+        out.append(text)
+    out.append(f"safety factor {rig.settings.min_safety_factor:g}:1 · {rig.settings.motion}")
+    return out
+
+
+# --- the controller -----------------------------------------------------------------------------------
+class ResultOverlay(QObject):
+    """Shows Results on a SketchView: zone and force items in its scene, banner and legend on its viewport."""
+
+    def __init__(self, view, parent: QObject | None = None) -> None:
+        super().__init__(parent)
+        self.view = view
+        self.scene = view.sketch_scene
+        self.layers: dict[str, bool] = {name: True for name in LAYERS}
+        self.zones_item = ZoneItem()
+        self.zones_item.setZValue(theme.Z_FEATURE + 1.0)  # under the ropes, over the water
+        self.scene.addItem(self.zones_item)
+        self.force_item = ForceItem()
+        self.scene.add_overlay_item(self.force_item)
+        self.banner = Banner(view.viewport())
+        self.legend = Legend(view.viewport())
+        view.viewport().installEventFilter(self)
+        view.scale_changed.connect(lambda _s: self.relayout())
+        self.rig: Rig | None = None  # the rig the drawn overlay belongs to
+        self.result: Result | None = None  # the result drawn (the last good one when greyed)
+        self.failed: Result | None = None  # the current failed result, if any
+        self.zones: list = []
+        self.pieces: list = []
+        self.skipped = 0
+        self.layer_actions: dict[str, QAction] = {}
+
+    # --- public -------------------------------------------------------------------------------------
+    @property
+    def labels(self) -> list[OverlayLabel]:
+        """The label model (numbers and texts as drawn), for tests and reports."""
+        return self.force_item.labels
+
+    @property
+    def greyed(self) -> bool:
+        return self.force_item.grey
+
+    @property
+    def banner_text(self) -> str:
+        return self.banner.text() if not self.banner.isHidden() else ""
+
+    def show_result(self, rig: Rig, result: Result, good_rig: Rig | None = None, good: Result | None = None) -> None:
+        """Draw ``result`` of ``rig``; if it failed, the banner names why and ``good`` (of ``good_rig``) is drawn greyed."""
+        from sketchpad.live_solve import failure_text
+
+        if result.ok:
+            self.failed = None
+            self.rig, self.result = rig, result
+            self.banner.hide()
+        else:
+            self.failed = result
+            self.rig, self.result = (good_rig, good) if good is not None and good.ok else (None, None)
+            self.banner.setText(failure_text(result, rig) + ("  (last good result shown grey)" if self.result else ""))
+            self.banner.place()
+            self.banner.show()
+        fail_point = None
+        if not result.ok and result.subject and rig.has_point(result.subject):
+            fail_point = _scene(rig.point(result.subject).xy)
+        self.force_item.fail_point = fail_point
+        self.rebuild()
+
+    def set_layer(self, name: str, on: bool) -> None:
+        if name not in self.layers:
+            raise KeyError(name)
+        self.layers[name] = bool(on)
+        act = self.layer_actions.get(name)
+        if act is not None and act.isChecked() != bool(on):
+            act.setChecked(bool(on))
+        self.rebuild()
+
+    def make_layer_actions(self, parent: QObject) -> dict[str, QAction]:
+        """Checkable actions (one per layer) for the View menu."""
+        for name, text in LAYERS.items():
+            act = QAction(text, parent)
+            act.setCheckable(True)
+            act.setChecked(self.layers[name])
+            act.setObjectName(f"action_layer_{name}")
+            act.toggled.connect(lambda on, n=name: self.set_layer(n, on))
+            self.layer_actions[name] = act
+        return self.layer_actions
+
+    # --- building -------------------------------------------------------------------------------------
+    def rebuild(self) -> None:
+        """Labels, bands, zones and legend from the current rig and result, then place labels."""
+        grey = self.failed is not None
+        self.force_item.grey = grey
+        self.zones_item.grey = grey
+        if self.result is None or self.rig is None:
+            self.force_item.bands, self.force_item.moved_points = [], []
+            self.force_item.set_labels([], [], self._m_per_px())
+            self.zones_item.set_zones([])
+            self.legend.hide()
+            return
+        rig, result = self.rig, self.result
+        self.pieces = self.force_item.set_bands(rig, result)
+        labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on])
+        self.force_item.labels, self.force_item.arrows = labels, arrows
+        if self.layers["zones"]:
+            from solver.danger import danger_zones
+
+            try:
+                self.zones = danger_zones(rig, result)
+            except Exception:  # noqa: BLE001 - a zone bug must not hide the forces
+                log.exception("danger zones failed")
+                self.zones = []
+        else:
+            self.zones = []
+        self.zones_item.set_zones(self.zones)
+        self.relayout()
+        lines = summary_lines(rig, result)
+        if self.skipped:
+            lines.append(f"{self.skipped} label{'s' if self.skipped != 1 else ''} hidden to avoid overlap: zoom in")
+        if grey:
+            lines.append("solve failed: last good result, greyed")
+        self.legend.set_content(lines, self.layers["zones"], grey)
+        self.legend.show()
+
+    def _m_per_px(self) -> float:
+        return 1.0 / max(self.view.px_per_m, 1e-12)
+
+    def relayout(self) -> None:
+        """Place the labels for the current zoom (pixel offsets are pan-invariant, so only zoom re-places)."""
+        t = self.view.transform()
+        m11, dx, dy = t.m11(), t.dx(), t.dy()
+
+        def to_px(p: tuple[float, float]) -> tuple[float, float]:
+            return (p[0] * m11 + dx, p[1] * m11 + dy)
+
+        markers, boxes = [], []
+        if self.rig is not None:
+            markers = [_scene(p.xy) for p in self.rig.points]
+            boxes = self._name_boxes(self.rig)
+            if self.result is not None:
+                markers += [_scene(xy) for xy in self.result.points.values()]
+        self.skipped = place_labels(self.force_item.labels, to_px, self.force_item.label_size, markers, self.pieces,
+                                    boxes)
+        self.force_item.refresh_rect(self._m_per_px())
+
+    def _name_boxes(self, rig: Rig) -> list:
+        """Pixel rects of the point names the canvas draws beside each marker (sketchpad.items.PointItem)."""
+        fm = QFontMetricsF(theme.font())
+        out = []
+        for p in rig.points:
+            r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
+            out.append((_scene(p.xy), (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name), fm.height())))
+        return out
+
+    def eventFilter(self, obj, event) -> bool:  # noqa: N802
+        if event.type() == QEvent.Resize:
+            self.legend.place()
+            if not self.banner.isHidden():
+                self.banner.place()
+        return False
