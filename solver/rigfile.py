@@ -359,7 +359,7 @@ def _parse_json(text: str) -> Any:
     if not text.strip():
         raise RigFileError("the file is empty", where="line 1, column 1")
     try:
-        return json.loads(text)
+        return json.loads(text, object_pairs_hook=_object_noting_duplicates)
     except json.JSONDecodeError as exc:
         hint = next((h for k, h in _JSON_HINTS if exc.msg.startswith(k)), exc.msg)
         raise RigFileError(f"the file is not valid JSON: {hint}",
@@ -368,6 +368,20 @@ def _parse_json(text: str) -> Any:
         raise RigFileError("the file is nested too deeply to be a rig file", where="(file)") from None
     except ValueError as exc:  # e.g. an integer with thousands of digits
         raise RigFileError(f"the file holds a value that cannot be read ({exc})", where="(file)") from None
+
+
+#: Key under which the JSON reader notes a key given twice in one object (not a string,
+#: so it can never clash with a key from a file); reported with its path by _check_plain_data.
+_DUPLICATE = object()
+
+
+def _object_noting_duplicates(pairs: list[tuple[str, Any]]) -> dict[Any, Any]:
+    out: dict[Any, Any] = {}
+    for key, value in pairs:
+        if key in out and _DUPLICATE not in out:
+            out[_DUPLICATE] = key
+        out[key] = value
+    return out
 
 
 def _kind_of(value: Any) -> str:
@@ -443,6 +457,10 @@ def _check_plain_data(d: Any) -> None:
     while stack:
         value, path = stack.pop()
         if isinstance(value, dict):
+            if _DUPLICATE in value:
+                key = value[_DUPLICATE]
+                raise RigFileError(f'"{key}" is given twice in this object; keep only the right one',
+                                   where=_where(path + (key,)))
             for k, v in value.items():
                 _check_text(k, path)
                 stack.append((v, path + (k,)))
@@ -508,7 +526,7 @@ def _check_schema(d: dict[str, Any]) -> None:
     where, message = _translate(err)
     if len(errors) > 1:
         more = len(errors) - 1
-        message += f" (and {more} more problem{'s' if more > 1 else ''} after this one is fixed)"
+        message += f" (and {more} more problem{'s' if more > 1 else ''} in the file)"
     raise RigFileError(message, where=where)
 
 

@@ -386,6 +386,9 @@ def test_a_file_that_is_not_utf8_is_refused_clearly():
 
 @pytest.mark.parametrize("text,where,words", [
     ("[]", "(top level)", ["one JSON object", "a list"]),
+    ('{"format": "ropewright-rig", "version": 1, "points": [{"id": "A", "kind": "anchor", "x": 1, "x": 2, "y": 0}],'
+     ' "ropes": []}', "points[0].x", ["twice"]),
+    ('{"format": "ropewright-rig", "version": 1, "points": [], "ropes": [], "ropes": []}', "ropes", ["twice"]),
     ('"rig"', "(top level)", ["one JSON object"]),
     ('{"version": 1, "points": [], "ropes": []}', "format", ["ropewright-rig"]),
     ('{"format": "geojson", "version": 1}', "format", ["not a Ropewright rig file", '"geojson"']),
