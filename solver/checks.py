@@ -347,17 +347,25 @@ def two_leg_anchors(rig: Rig, result: Result | None) -> list[tuple[str, str, str
 def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
     """Two-leg anchors with an included angle over 120 degrees (ASME B30.9)."""
     out = []
+    tens: dict[frozenset[str], float] = {}
+    if result is not None and result.ok:
+        for s in result.segments:
+            key = frozenset((s.from_point, s.to_point))
+            tens[key] = max(tens.get(key, 0.0), float(s.tension_N))
     for here, a1, a2, ang in two_leg_anchors(rig, result):
         if ang <= WIDE_ANCHOR_DEG:
             continue
         fac = leg_force_factor(ang) if ang < 179.999 else float("inf")
         fac_txt = f"{fac:.2f}" if math.isfinite(fac) else "an unbounded multiple of"
+        t1, t2 = tens.get(frozenset((here, a1))), tens.get(frozenset((here, a2)))
+        now = (f" Now: {_force(rig, t1)} to {_name(rig, a1)}, {_force(rig, t2)} to {_name(rig, a2)}."
+               if t1 is not None and t2 is not None else "")
         out.append(Warning_(
             "wide-anchor", f"{here},{a1},{a2}",
             f"The legs from {_name(rig, here)} to {_name(rig, a1)} and {_name(rig, a2)} spread {ang:.0f}°, "
             f"over the {WIDE_ANCHOR_DEG:.0f}° ASME B30.9 recommends: each leg carries {fac_txt} × the load "
             f"on {_name(rig, here)} (1.00 at 120°, 0.58 at 60°). Bring the anchors closer together or "
-            f"move {_name(rig, here)} away from them.",
+            f"move {_name(rig, here)} away from them.{now}",
             "warning"))
     return out
 

@@ -401,6 +401,11 @@ def test_solved_two_leg_anchor_matches_asme_leg_factor_and_warns_over_120(includ
     for s in res.segments:
         assert s.tension_N == pytest.approx(1000.0 * leg_force_factor(included), rel=1e-5)
     assert ("wide-anchor" in codes(res.warnings)) is warned
+    if warned:
+        from solver.units import format_force
+
+        w = next(w for w in res.warnings if w.code == "wide-anchor")
+        assert f"Now: {format_force(1000.0 * leg_force_factor(included), 'kN')} to A1" in w.message
 
 
 def test_solved_redirect_pulley_load_equals_the_solvers_anchor_resultant():
