@@ -83,13 +83,18 @@ class CautionLabel(QLabel):
         self.setToolTip(FULL_CAUTION)
         self.setCursor(Qt.CursorShape.PointingHandCursor)
         self.full_text = "⚠ " + SHORT_CAUTION
-        # may shrink with the window: the text is then elided, the tooltip keeps all of it
-        self.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
-        self.setMinimumWidth(160)
+        # full width when there is room; shrinks with a narrow window (text elided, tooltip keeps all of it)
+        self.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Preferred)
+        self.setMinimumWidth(240)
 
     def sizeHint(self):  # noqa: N802 - Qt's name
         hint = super().sizeHint()
         hint.setWidth(self.fontMetrics().horizontalAdvance(self.full_text) + 16)
+        return hint
+
+    def minimumSizeHint(self):  # noqa: N802 - Qt's name
+        hint = super().minimumSizeHint()
+        hint.setWidth(self.minimumWidth())
         return hint
 
     def resizeEvent(self, event) -> None:  # noqa: N802 - Qt's name

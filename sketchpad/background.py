@@ -434,7 +434,7 @@ class BackgroundController(QObject):
             opacity=old.opacity if old is not None else 0.6,
         )
         self.document.apply(_with_image(rig, image), "Import background picture")
-        self._say("Background imported. Calibrate it: Tools ▸ Calibrate background, then click two points a known distance apart.")
+        self._say("Picture imported: now Tools ▸ Calibrate background…")
         return True
 
     def remove_image(self) -> None:

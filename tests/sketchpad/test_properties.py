@@ -281,3 +281,20 @@ def test_every_sample_shows_every_point_and_rope_without_error(qtbot):
         for r in doc.rig.ropes:
             d.panel.show_subject("rope", r.id)
             assert len(d.panel.rope_page._pass_widgets) == len(r.path)
+
+
+def test_clicking_a_point_on_the_canvas_shows_it_in_the_main_window_panel(main_window, mouse, qtbot):
+    w = main_window
+    w.set_tool("place-anchor")
+    mouse.click(2.0, 3.0)
+    aid = w.document.rig.points[-1].id
+    w.set_tool("select")
+    mouse.click(2.0, 3.0)
+    panel = w.properties_dock.panel
+    assert panel.subject == ("point", aid)
+    type_into(qtbot, panel.point_page.capacity, "2.5 kN")
+    assert w.document.rig.point(aid).capacity_N == pytest.approx(2500.0)
+    w.undo()
+    assert w.document.rig.point(aid).capacity_N is None
+    mouse.click(-8.0, -8.0)  # empty space: nothing selected, the rig itself
+    assert panel.subject == (None, None)
