@@ -38,6 +38,7 @@ def run_app(path: str | os.PathLike | None = None) -> int:
     if path is not None:
         window.open_path(path)  # a bad file shows a message and leaves an empty sketch
     window.show()
+    window.files.offer_recovery()  # unsaved work left by a session that did not close cleanly
     return int(app.exec())
 
 
