@@ -10,7 +10,8 @@ Rules (sources in the tests that hold them):
 
 * Margins: a component with strength S carrying F is ``*-over`` (danger) when F > S and
   ``*-margin`` (warning) when F x SF > S.  Anchors use their resultant; in ``hold``, the
-  high end of ``hold_anchor_range`` when the solver gives it.  Rope pieces use their
+  high end of ``hold_anchor_range`` when the solver gives it (also for hardware that is
+  the only thing on that anchor; rope pieces use the solved tensions).  Rope pieces use their
   tension against the material's MBS.  Hardware at a pass carries the vector sum of the
   two legs there (redirect resultant R = 2T cos(alpha/2) when the legs are equal).
 * ``wide-anchor``: a free point held by exactly two legs tied to anchors (tied or
@@ -276,10 +277,21 @@ def pass_loads(rig: Rig, result: Result) -> list[tuple[str, int, str, float]]:
 
 
 def check_hardware(rig: Rig, result: Result) -> list[Warning_]:
-    """Each pass's hardware against its MBS, loaded by the vector sum of the legs there."""
+    """Each pass's hardware against its MBS, loaded by the vector sum of the legs there.
+
+    In ``hold``, hardware that is the only thing on an anchor carries that anchor's
+    resultant, so the high end of its static-friction range is used.
+    """
     out: list[Warning_] = []
     sf = _sf(rig)
+    passes_at: dict[str, int] = {}
+    for r in rig.ropes:
+        for ps in r.path:
+            passes_at[ps.at] = passes_at.get(ps.at, 0) + 1
     for rope_id, k, at, f in pass_loads(rig, result):
+        rng = result.hold_anchor_range.get(at)
+        if rng is not None and passes_at.get(at) == 1 and not any(fc.at == at for fc in rig.forces):
+            f = max(f, float(rng.high))
         if f <= 0.0:
             continue
         rope = rig.rope(rope_id)

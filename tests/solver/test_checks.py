@@ -472,3 +472,13 @@ def test_every_sample_analyses_with_known_codes():
         assert "checks-failed" not in {w.code for w in res.warnings}
         zones = danger_zones(rig, res)
         assert all(z.geometry.is_valid and z.geometry.area > 0 for z in zones)
+
+
+def test_hold_uses_the_anchor_range_for_the_redirect_pulley_alone_on_it():
+    # pulley MBS 36 kN at 10:1; solved legs 1.5 kN at 90 deg give R = 2.12 kN (fine), but static
+    # friction allows the anchor (and so the pulley, the only thing on it) up to 3.7 kN
+    rig = replace(redirect_rig(90.0), settings=Settings(motion="hold"))
+    res = hand_result(rig, {("r", 0): 1500.0, ("r", 1): 1500.0})
+    assert "hardware-margin" not in codes(run_checks(rig, res))
+    held = replace(res, hold_anchor_range={"A": HoldRange(low=1800.0, high=3700.0)})
+    assert "hardware-margin" in codes(run_checks(rig, held))
