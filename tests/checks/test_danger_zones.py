@@ -12,7 +12,6 @@ import pytest
 from scipy.integrate import quad
 from shapely.geometry import LineString, Point as ShPoint, Polygon
 
-from solver import danger
 from solver.checks import leg_force_factor, run_checks, two_leg_anchors
 from solver.danger import (
     QUAD_SEGS,
@@ -25,8 +24,8 @@ from solver.danger import (
     recoil_half_width_m,
     stored_energy_J,
 )
-from solver.model import Material, Pass, Point, Rig, Rope, Settings
-from solver.result import AnchorResult, Result, SegmentResult
+from solver.model import Material, Pass, Point, Rig, Rope
+from solver.result import Result, SegmentResult
 
 MAT = Material(id="r", kind="rope", mbs_N=1e9, stretch=((1000.0, 0.01),))
 
