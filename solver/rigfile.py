@@ -494,12 +494,29 @@ def _validator() -> Any:
     schema = json.loads(text)
     cls = jsonschema.Draft202012Validator
     cls.check_schema(schema)
-    return cls(schema)
+    return cls(_inline_refs(schema, schema.get("$defs", {})))
+
+
+def _inline_refs(node: Any, defs: Mapping[str, Any]) -> Any:
+    """The schema with every local ``{"$ref": "#/$defs/x"}`` replaced by its definition.
+
+    The rig schema is not recursive, so this is finite; it spares the validator a
+    reference look-up per object (about half its time on a large rig).
+    """
+    if isinstance(node, dict):
+        ref = node.get("$ref")
+        if isinstance(ref, str) and ref.startswith("#/$defs/") and len(node) == 1:
+            return _inline_refs(defs[ref[len("#/$defs/"):]], defs)
+        return {k: _inline_refs(v, defs) for k, v in node.items() if k != "$defs"}
+    if isinstance(node, list):
+        return [_inline_refs(v, defs) for v in node]
+    return node
 
 
 def schema() -> dict[str, Any]:
     """The JSON Schema (draft 2020-12) of a version-1 rig file."""
-    return _validator().schema
+    text = resources.files("solver").joinpath("schema/rig-v1.schema.json").read_text(encoding="utf-8")
+    return json.loads(text)
 
 
 _NOUNS = {"points": "point", "ropes": "rope", "path": "pass", "materials": "material",
