@@ -69,7 +69,7 @@ HOW_NAMES = {
 #: hardware kinds that make sense for each way a rope passes a point
 HARDWARE_FOR_HOW = {
     "tied": ("carabiner", "ring"),
-    "pulley": ("pulley", "carabiner"),
+    "pulley": ("pulley", "carabiner", "ring"),
     "sliding": ("ring", "carabiner"),
     "edge": ("edge",),
     "hauled": (),
@@ -402,7 +402,8 @@ class RopePage(_Page):
 
     def _hw_options(self, rig: Rig, how: str, current: str | None) -> list[tuple[str, str | None]]:
         kinds = HARDWARE_FOR_HOW.get(how, ())
-        items = [(NONE_TEXT, None)]
+        # a pulley or edge pass must name its spec (rig-format.md), so "(none)" is not offered there
+        items = [] if how in ("pulley", "edge") and current is not None else [(NONE_TEXT, None)]
         for hid, hw in hardware_for(rig).items():
             if hw.kind in kinds or hid == current:
                 items.append((hw.name, hid))

@@ -187,7 +187,7 @@ def test_mass_field_only_in_elevation(dock, qtbot):
     assert doc.rig.point("L1").mass_kg == 80.0
 
 
-def test_rope_material_slack_and_pass_hardware(dock, qtbot):
+def test_rope_material_slack_and_pass_hardware(dock, qtbot, tmp_path):
     panel = dock.panel
     doc = panel.document
     panel.show_subject("rope", "R1")
@@ -205,12 +205,14 @@ def test_rope_material_slack_and_pass_hardware(dock, qtbot):
     assert doc.rig.rope("R1").path[1].hardware.startswith("edge-")  # an edge needs an edge spec
     hw.setCurrentIndex(hw.findData("edge-steel"))
     assert doc.rig.rope("R1").path[1].hardware == "edge-steel"
+    assert "(none)" not in [hw.itemText(i) for i in range(hw.count())]  # an edge pass must name its edge
     first_how, _ = page._pass_widgets[0]
     assert not first_how.isEnabled()  # a rope's first pass is always tied
     page.setup.setCurrentIndex(page.setup.findData("pretension"))
     assert doc.rig.rope("R1").rigged.pretension_N is not None
     type_into(qtbot, page.pretension, "1 kN")
     assert doc.rig.rope("R1").rigged.pretension_N == 1000.0
+    rigfile.save_rig(doc.rig, tmp_path / "edited.rig.json")  # every edit left a rig the file format accepts
 
 
 def test_force_magnitude_and_direction(dock, qtbot):
