@@ -11,6 +11,8 @@ import pkgutil
 import subprocess
 import sys
 
+import pytest
+
 import solver
 from tests.conftest import ROOT
 
@@ -47,18 +49,21 @@ def _all_solver_modules() -> list[str]:
     return sorted(f"solver.{m.name}" for m in pkgutil.iter_modules(solver.__path__))
 
 
-def test_importing_the_engine_and_every_solver_module_loads_no_qt():
-    optional = [m for m in _all_solver_modules() if m not in REQUIRED]
-    assert "solver.rigfile" not in optional
-    out = _probe(list(REQUIRED), optional)
-    assert out["qt"] == [], f"Qt modules loaded by solver: {out['qt']}"
-
-
-def test_the_solver_core_imports_cleanly_without_qt():
-    # equilibrium and checks must not only avoid Qt but import without error
+@pytest.fixture(scope="module")
+def engine_probe() -> dict:
+    """One fresh interpreter importing every solver module (the core ones must import without error)."""
     core = [n for n in ("solver.equilibrium", "solver.checks") if n in _all_solver_modules()]
-    out = _probe(list(REQUIRED) + core, [])
-    assert out["qt"] == []
+    optional = [m for m in _all_solver_modules() if m not in REQUIRED and m not in core]
+    return _probe(list(REQUIRED) + core, optional)
+
+
+def test_importing_the_engine_and_every_solver_module_loads_no_qt(engine_probe):
+    assert "solver.rigfile" in _all_solver_modules()
+    assert engine_probe["qt"] == [], f"Qt modules loaded by solver: {engine_probe['qt']}"
+
+
+def test_every_solver_module_imports_without_error(engine_probe):
+    assert engine_probe["failed"] == {}
 
 
 def test_the_probe_does_see_qt_when_something_imports_it():
