@@ -155,8 +155,8 @@ class QuantityField(QWidget):
         """Show the model's value (no signal); clears any pending error unless the user is mid-edit."""
         self._value = value
         text = self.format(value)
-        if self.error.isVisible() and self.edit.hasFocus():
-            return  # keep the user's rejected text in front of them
+        if self.edit.hasFocus() and (self.has_error or self.edit.text() != self._shown_text):
+            return  # keep what the user is typing (or their rejected text) in front of them
         with QSignalBlocker(self.edit):
             self.edit.setText(text)
             self.edit.setCursorPosition(0)  # show the start of long text
