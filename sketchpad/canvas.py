@@ -41,7 +41,7 @@ MAX_SCALE_PX_PER_M = 5000.0
 WHEEL_ZOOM_PER_DEGREE = 1.01  # one wheel notch (15 degrees) zooms about 16 %
 PICK_RADIUS_PX = 11.0  # a click this close to a point picks it
 SNAP_RADIUS_PX = 10.0  # snapping to points within this distance
-FIT_MARGIN_FRACTION = 0.08
+FIT_MARGIN_FRACTION = 0.12
 
 
 def unit_metres(unit: str) -> float:
@@ -157,12 +157,15 @@ class SketchScene(QGraphicsScene):
             if item is not None:
                 item.setSelected(True)
 
-    def model_bounds(self) -> QRectF:
-        """The scene rectangle (metres) covering every model item (not previews or overlays)."""
+    def model_bounds(self, rig_first: bool = False) -> QRectF:
+        """The scene rectangle (metres) covering every model item (not previews or overlays);
+        with ``rig_first`` only the points when there are any (site features can span a whole river)."""
         rect = QRectF()
         for p in self.rig.points:
             q = to_scene(p.x, p.y)
             rect = rect.united(QRectF(q.x() - 0.5, q.y() - 0.5, 1.0, 1.0))
+        if rig_first and not rect.isNull():
+            return rect
         for f in self.rig.site.features:
             for x, y in f.coords:
                 q = to_scene(x, y)
@@ -262,8 +265,8 @@ class SketchView(QGraphicsView):
         v.setValue(v.value() + delta.y())
 
     def zoom_to_fit(self) -> None:
-        """Show every point and feature with a margin (or the origin area when empty)."""
-        rect = self.sketch_scene.model_bounds()
+        """Fill the view with the rig's points, with a margin for labels (the site when there are no points)."""
+        rect = self.sketch_scene.model_bounds(rig_first=True)
         if rect.isNull() or rect.width() < 1e-9 and rect.height() < 1e-9:
             rect = QRectF(-10, -10, 20, 20)
         m = max(rect.width(), rect.height()) * FIT_MARGIN_FRACTION + 1.0
