@@ -27,6 +27,8 @@ IntArray = NDArray[np.intp]
 
 #: Closest two passes may come along a rope when the hardware gives no size, m.
 DEFAULT_MIN_SPACING_M = 0.05
+#: Closest two passes may come when neither has hardware (a knot, a hand), m.
+BARE_MIN_SPACING_M = 0.001
 #: Pass kinds, coded.
 PASS_NONE, PASS_PULLEY, PASS_SLIDING, PASS_EDGE = 0, 1, 2, 3
 #: Two points closer than this are coincident, m.
@@ -277,12 +279,11 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
                 piece_first.append(k == run.first)
                 lk = math.hypot(coords[ib][0] - coords[ia][0], coords[ib][1] - coords[ia][1])
                 length += lk
-                sizes = [DEFAULT_MIN_SPACING_M]
+                sizes = [BARE_MIN_SPACING_M]
                 for ps in (pa, pb):
                     if ps.hardware and ps.how != "tied":
                         sz = hardware(ps.hardware).size_m
-                        if sz:
-                            sizes.append(float(sz))
+                        sizes.append(float(sz) if sz else DEFAULT_MIN_SPACING_M)
                 s_min.append(min(max(sizes), 0.5 * lk))
                 kind, eta, mu, hw = PASS_NONE, 1.0, 0.0, None
                 if k > run.first:  # pass pa is a middle pass of this run

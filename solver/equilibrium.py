@@ -64,6 +64,11 @@ def _point_norms(g: np.ndarray) -> np.ndarray:
     return np.hypot(g[0::2], g[1::2]) if len(g) else np.zeros(0)
 
 
+def _max_norm(g: np.ndarray) -> float:
+    """Largest per-point force imbalance, N (0 when nothing is free)."""
+    return float(_point_norms(g).max()) if len(g) else 0.0
+
+
 def _force_scale(s: System, st: State) -> float:
     t = float(np.max(np.abs(st.N))) if len(st.N) else 0.0
     return max(s.force_scale, t)
@@ -119,7 +124,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
     free_idx = np.flatnonzero(s.free)
     for it in range(max_iter):
         scale = _force_scale(s, st)
-        res = float(_point_norms(st.g).max())
+        res = _max_norm(st.g)
         if res <= TARGET_REL * scale or (scale == 0.0 and res == 0.0):
             return _Outcome(st, it, True)
         K = _matrix(s, st, kc, dense)
@@ -154,7 +159,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
                     break
                 # round-off: merit flat to machine precision but the imbalance still shrinks
                 if abs(m1 - m0) <= 1e-13 * (abs(m0) + scale * s.size) and \
-                        _point_norms(trial.g).max() < 0.9 * res:
+                        _max_norm(trial.g) < 0.9 * res:
                     accepted = True
                     break
                 alpha *= 0.5
@@ -172,7 +177,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
         if far.max() > RUNAWAY_SIZES * s.size:
             return _Outcome(st, it + 1, False, runaway=int(free_idx[np.argmax(far)]))
     scale = _force_scale(s, st)
-    return _Outcome(st, max_iter, float(_point_norms(st.g).max()) <= ACCEPT_REL * scale)
+    return _Outcome(st, max_iter, _max_norm(st.g) <= ACCEPT_REL * scale)
 
 
 # --- words -----------------------------------------------------------------------------------------
@@ -277,49 +282,71 @@ class _Solved:
     w: np.ndarray
 
 
-def _solve_system(s: System, x0: np.ndarray, motion: str) -> _Solved | Result:
-    """Frictionless solve, mechanism check, then friction continuation; a failed Result on failure."""
+def _friction_solve(s: System, st: State, motion: str, kc: np.ndarray) -> tuple[_Outcome, np.ndarray]:
+    """Equilibrium with the pass friction of ``motion``, from state ``st``; edge wraps re-evaluated until settled."""
+    iters = 0
+    w = friction.weights(s, st.u, motion)
+    for _outer in range(40):
+        fr = _newton(s, st.x, w, kc, symmetric=False)
+        iters += fr.iterations
+        st = fr.state
+        if fr.runaway is not None or not fr.converged:
+            return _Outcome(st, iters, False, fr.runaway), w
+        w_new = friction.weights(s, st.u, motion)
+        if not s.has_edges or np.max(np.abs(w_new / w - 1.0)) <= 1e-12:
+            if s.has_edges:
+                st = evaluate(s, st.x, w_new, kc)
+                w = w_new
+            return _Outcome(st, iters, _max_norm(st.g) <= ACCEPT_REL * _force_scale(s, st)), w
+        w = w_new
+    return _Outcome(st, iters, False), w
+
+
+def _mechanism_result(s: System, st: State, kc: np.ndarray, iters: int) -> Result | None:
+    mech = _mechanism(s, st, kc)
+    if mech is None:
+        return None
+    i, v = mech
+    pid = s.point_ids[i]
+    words = _direction_words(float(v[0]), float(v[1]), s.rig.view == "elevation")
+    return Result(status="mechanism", subject=pid, iterations=iters, points=_all_points(s, st),
+                  message=f"point {_point_name(s.rig, pid)} is not held: it can move {words} "
+                          "with nothing resisting (tie it off, tension its ropes or add a load)")
+
+
+def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) -> _Solved | Result:
+    """Equilibrium of ``s`` from ``x0``; a failed Result (mechanism) or the solved states.
+
+    Cold: frictionless first (convex, robust from the drawn geometry), mechanism check, then
+    friction by continuation.  Warm (``x0`` is a nearby solution): friction straight away, and
+    the frictionless reference for the ideal MA from there (its iterations are not counted).
+    """
     kc = contact_stiffness(s)
-    rig = s.rig
     lonely = _unattached(s)
     if lonely is not None:
         pid = s.point_ids[lonely]
         return Result(status="mechanism", subject=pid,
-                      message=f"point {_point_name(rig, pid)} is not held: no rope is attached to it")
+                      message=f"point {_point_name(s.rig, pid)} is not held: no rope is attached to it")
+    frictional = motion != "hold" and s.has_friction
+    if warm and frictional:
+        fr, w = _friction_solve(s, evaluate(s, x0, None, kc), motion, kc)
+        if fr.runaway is not None or not fr.converged:
+            return _Solved(fr.state, fr.state, fr.iterations, False, fr.runaway, w)
+        failed = _mechanism_result(s, fr.state, kc, fr.iterations)
+        if failed is not None:
+            return failed
+        ideal = _newton(s, fr.state.x, None, kc, symmetric=True)
+        return _Solved(fr.state, ideal.state if ideal.converged else fr.state, fr.iterations, True, None, w)
     out = _newton(s, x0, None, kc, symmetric=True)
-    iters = out.iterations
     if out.runaway is not None or not out.converged:
-        return _Solved(out.state, out.state, iters, False, out.runaway, out.state.w)
-    mech = _mechanism(s, out.state, kc)
-    if mech is not None:
-        i, v = mech
-        pid = s.point_ids[i]
-        words = _direction_words(float(v[0]), float(v[1]), rig.view == "elevation")
-        return Result(status="mechanism", subject=pid, iterations=iters,
-                      points=_all_points(s, out.state),
-                      message=f"point {_point_name(rig, pid)} is not held: it can move {words} "
-                              "with nothing resisting (tie it off, tension its ropes or add a load)")
-    ideal = out.state
-    st = out.state
-    w = st.w
-    if motion != "hold" and s.has_friction:
-        converged = False
-        for _outer in range(40):
-            w = friction.weights(s, st.u, motion)
-            fr = _newton(s, st.x, w, kc, symmetric=False)
-            iters += fr.iterations
-            st = fr.state
-            if fr.runaway is not None or not fr.converged:
-                return _Solved(st, ideal, iters, False, fr.runaway, w)
-            w_new = friction.weights(s, st.u, motion)
-            if not s.has_edges or np.max(np.abs(w_new / w - 1.0)) <= 1e-12:
-                if s.has_edges:
-                    st = evaluate(s, st.x, w_new, kc)
-                    w = w_new
-                converged = float(_point_norms(st.g).max()) <= ACCEPT_REL * _force_scale(s, st)
-                break
-        return _Solved(st, ideal, iters, converged, None, w)
-    return _Solved(st, ideal, iters, True, None, w)
+        return _Solved(out.state, out.state, out.iterations, False, out.runaway, out.state.w)
+    failed = _mechanism_result(s, out.state, kc, out.iterations)
+    if failed is not None:
+        return failed
+    if not frictional:
+        return _Solved(out.state, out.state, out.iterations, True, None, out.state.w)
+    fr, w = _friction_solve(s, out.state, motion, kc)
+    return _Solved(fr.state, out.state, out.iterations + fr.iterations, fr.converged, fr.runaway, w)
 
 
 def _all_points(s: System, st: State) -> dict[str, tuple[float, float]]:
@@ -357,20 +384,23 @@ def _mech_advantage(s: System, st: State) -> float | None:
     return delivered / inp if inp > 0 else None
 
 
-def _two_blocked(s: System, st: State) -> list[Warning_]:
+def _two_blocked(s: System, st: State, kc: np.ndarray) -> list[Warning_]:
+    """A warning for each pair of passes pressed together at their minimum spacing (out of throw)."""
     out: list[Warning_] = []
     seen: set[str] = set()
-    for k in np.flatnonzero(st.pen > 1e-3 * s.s_min):
+    for k in np.flatnonzero(st.pen > 0):
         pa, pb = s.point_ids[s.a[k]], s.point_ids[s.b[k]]
         subject = pb if s.free[s.b[k]] else pa
         if subject in seen:
             continue
         seen.add(subject)
+        push = float(kc[k] * st.pen[k])
         out.append(Warning_(
             code="two-blocked", subject=subject, severity="danger",
             message=f'on rope "{s.piece_rope[k]}" the pass at "{subject}" has run into '
-                    f'"{pa if subject == pb else pb}": the system is two-blocked (out of throw); '
-                    "hauling further only loads the hardware — reset it"))
+                    f'"{pa if subject == pb else pb}" ({s.s_min[k] * 100:.0f} cm apart): the system is '
+                    f"two-blocked (out of throw) and the hardware bears {push:.0f} N against each other "
+                    "that no rope carries; hauling further only loads the hardware — reset it"))
     return out
 
 
@@ -404,8 +434,8 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
         c = float(np.dot(st.u[mp.piece_in], st.u[mp.piece_out]))
         deflection[mp.key] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
     scale = _force_scale(s, st)
-    residual = float(_point_norms(st.g).max()) if s.n_dof else 0.0
-    warnings = _two_blocked(s, st)
+    residual = _max_norm(st.g) if s.n_dof else 0.0
+    warnings = _two_blocked(s, st, contact_stiffness(s))
     for pid in s.ignored_forces:
         warnings.append(Warning_("force-on-fixed-point", pid,
                                  f'the force drawn at "{pid}" acts on a fixed point and is not part of the solve'))
@@ -468,7 +498,7 @@ def solve(rig: Rig, *, start=None, motion: str | None = None) -> Result:
     except RigModelError as exc:
         return Result(status="invalid", message=exc.message, subject=exc.subject or exc.where)
     motion = s.motion
-    sol = _solve_system(s, _start_x(s, start), motion)
+    sol = _solve_system(s, _start_x(s, start), motion, warm=bool(start))
     if isinstance(sol, Result):
         return sol
     if sol.runaway is not None:
