@@ -302,5 +302,5 @@ def subject_keys(rig: Rig, subject: str) -> list[tuple]:
 def install_live_forces(window) -> LiveForces:
     """Add live solving, the force overlay and the results dock to ``window`` (a MainWindow)."""
     live = LiveForces(window)
-    window.destroyed.connect(lambda *_: live.scheduler.close())
+    window.destroyed.connect(live.scheduler.close)
     return live

@@ -857,9 +857,15 @@ class ResultOverlay(QObject):
             act.setCheckable(True)
             act.setChecked(self.layers[name])
             act.setObjectName(f"action_layer_{name}")
-            act.toggled.connect(lambda on, n=name: self.set_layer(n, on))
             self.layer_actions[name] = act
+            act.toggled.connect(self._layers_from_actions)  # no-argument slot: reads every action
         return self.layer_actions
+
+    def _layers_from_actions(self) -> None:
+        wanted = {n: a.isChecked() for n, a in self.layer_actions.items()}
+        if any(self.layers[n] != on for n, on in wanted.items()):
+            self.layers.update(wanted)
+            self.rebuild()
 
     # --- building -------------------------------------------------------------------------------------
     def rebuild(self) -> None:
