@@ -96,6 +96,9 @@ class MainWindow(QMainWindow):
         self.view.cursor_moved.connect(self._show_cursor)
         self.set_tool("select")
         self._build_files_and_panels()
+        from sketchpad.live_solve import install_live_forces
+
+        self.live = install_live_forces(self)  # live solve, force overlay, Forces dock (issue 5)
         self._on_rig_changed(self.document.rig)
         self.resize(*DEFAULT_SIZE)
 
