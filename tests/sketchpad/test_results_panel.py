@@ -1,0 +1,156 @@
+"""The Forces dock: tables hold the Result's numbers, sort numerically, warnings select their subject."""
+
+from __future__ import annotations
+
+import pathlib
+from dataclasses import replace
+
+import pytest
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QApplication
+
+from sketchpad.results_panel import SUBJECT_ROLE, compass, summary_text
+from solver.checks import pass_loads
+from solver.hauling import haulers_needed
+from solver.rigfile import load_rig
+from solver.units import force_to, format_force
+from tests.conftest import SAMPLES
+
+
+def open_sample(window, name: str, **settings):
+    rig = load_rig(SAMPLES / name)
+    if settings:
+        rig = replace(rig, settings=replace(rig.settings, **settings))
+    window.document.replace_all(rig, pathlib.Path(SAMPLES / name))
+    window.view.zoom_to_fit()
+    result = window.live.scheduler.solve_now()
+    QApplication.processEvents()
+    return result
+
+
+def column_values(table, name: str) -> list[str]:
+    c = table.column(name)
+    return [table.cell_text(r, c) for r in range(table.proxy.rowCount())]
+
+
+def test_piece_table_lists_every_segment_with_its_tension_stretch_and_use(main_window):
+    result = open_sample(main_window, "compound-2on3.rig.json")
+    panel = main_window.live.panel
+    unit = main_window.document.rig.display.force
+    assert panel.segments.proxy.rowCount() == len(result.segments)
+    assert sorted(column_values(panel.segments, "tension")) == sorted(format_force(s.tension_N, unit)
+                                                                       for s in result.segments)
+    assert sorted(column_values(panel.segments, "use")) == sorted(f"{s.utilization * 100:.0f} %"
+                                                                  for s in result.segments)
+
+
+def test_sorting_by_tension_is_numeric_not_alphabetic(main_window):
+    result = open_sample(main_window, "compound-2on3.rig.json", )
+    panel = main_window.live.panel
+    col = panel.segments.column("tension")
+    panel.segments.sortByColumn(col, Qt.DescendingOrder)
+    unit = main_window.document.rig.display.force
+    want = [format_force(s.tension_N, unit) for s in sorted(result.segments, key=lambda s: -s.tension_N)]
+    assert column_values(panel.segments, "tension") == want
+    # the sort key is the number in the display unit
+    top = panel.segments.proxy.index(0, col).data(Qt.UserRole + 1)
+    assert top == pytest.approx(force_to(max(s.tension_N for s in result.segments), unit))
+
+
+def test_anchor_table_shows_force_direction_capacity_and_use(main_window):
+    result = open_sample(main_window, "raft-3to1-redirect.rig.json")
+    panel = main_window.live.panel
+    rig = main_window.document.rig
+    names = column_values(panel.anchors, "anchor")
+    assert sorted(names) == sorted(rig.point(a).name for a in result.anchors)
+    for row, name in enumerate(names):
+        aid = next(a for a in result.anchors if rig.point(a).name == name)
+        a = result.anchors[aid]
+        assert panel.anchors.cell_text(row, 1) == format_force(a.force_N, rig.display.force)
+        assert panel.anchors.cell_text(row, 2) == f"{a.direction_deg:.0f}° ({compass(a.direction_deg)})"
+        assert panel.anchors.cell_text(row, 4) == f"{a.utilization * 100:.0f} %"
+
+
+def test_compass_names_follow_counter_clockwise_degrees_from_east():
+    assert [compass(d) for d in (0, 90, 180, 270, 45, 359)] == ["E", "N", "W", "S", "NE", "E"]
+
+
+def test_hardware_table_holds_pulley_loads_from_the_checks(main_window):
+    result = open_sample(main_window, "raft-3to1-redirect.rig.json")
+    panel = main_window.live.panel
+    loads = pass_loads(main_window.document.rig, result)
+    assert panel.hardware.proxy.rowCount() == len(loads)
+    unit = main_window.document.rig.display.force
+    assert sorted(column_values(panel.hardware, "load")) == sorted(format_force(f, unit) for *_x, f in loads)
+
+
+def test_summary_gives_ma_haul_haulers_and_load_delivered(main_window):
+    result = open_sample(main_window, "raft-3to1-redirect.rig.json")
+    rig = main_window.document.rig
+    text = main_window.live.panel.summary.text()
+    assert text == summary_text(rig, result)
+    assert f"MA {result.ma_actual:.2f} (ideal {result.ma_ideal:.2f})" in text
+    load = rig.point("L1")
+    n = haulers_needed(load.required_N, result.ma_actual, load.force_per_person_N or rig.point("H1").force_per_person_N)
+    assert f"→ {n} haulers needed" in text or f"→ {n} hauler needed" in text
+    assert format_force(result.loads["L1"].force_N, rig.display.force) in text
+
+
+def test_hold_mode_shows_the_range_static_friction_allows(main_window):
+    result = open_sample(main_window, "raft-3to1-redirect.rig.json", motion="hold")
+    assert result.ok and result.hold_anchor_range and result.hold_haul_range, "the solver gives hold ranges"
+    panel = main_window.live.panel
+    unit = main_window.document.rig.display.force
+    holds = column_values(panel.anchors, "hold range")
+    want = {f"{format_force(r.low, unit)} – {format_force(r.high, unit)}" for r in result.hold_anchor_range.values()}
+    assert set(holds) == want
+    h = result.hold_haul_range["H1"]
+    assert f"hold allows {format_force(h.low, unit)} – {format_force(h.high, unit)}" in panel.summary.text()
+    lab = next(l for l in main_window.live.overlay.labels if l.kind == "haul")
+    assert lab.values["hold_low_N"] == h.low and lab.values["hold_high_N"] == h.high
+
+
+def test_clicking_a_warning_selects_and_centres_its_subject(main_window, qtbot):
+    result = open_sample(main_window, "compound-2on3.rig.json")
+    panel = main_window.live.panel
+    anchor_warning = next(w for w in result.warnings if w.subject == "A1")
+    row = next(i for i in range(panel.warnings.count())
+               if panel.warnings.item(i).data(SUBJECT_ROLE) == anchor_warning.subject)
+    item = panel.warnings.item(row)
+    main_window.live.dock.show()
+    panel.warnings.scrollToItem(item)
+    QApplication.processEvents()
+    rect = panel.warnings.visualItemRect(item)
+    main_window.canvas.clearSelection()
+    qtbot.mouseClick(panel.warnings.viewport(), Qt.LeftButton, pos=rect.center())
+    assert main_window.canvas.selected_keys() == [("point", "A1")]
+    view = main_window.view
+    centre = view.mapToScene(view.viewport().rect().center())
+    a1 = main_window.canvas.item_for(("point", "A1")).sceneBoundingRect().center()
+    assert abs(centre.x() - a1.x()) * view.px_per_m < 3 and abs(centre.y() - a1.y()) * view.px_per_m < 3
+
+
+def test_every_warning_of_the_result_is_listed(main_window):
+    result = open_sample(main_window, "compound-2on3.rig.json")
+    panel = main_window.live.panel
+    listed = [panel.warnings.item(i).text() for i in range(panel.warnings.count())]
+    assert len(listed) == len(result.warnings)
+    for w in result.warnings:
+        assert any(w.message in t for t in listed)
+
+
+def test_a_failed_solve_is_named_and_the_tables_keep_the_last_good_numbers(main_window, qtbot):
+    good = open_sample(main_window, "vector-pull.rig.json")
+    doc = main_window.document
+    from solver.model import Point
+
+    doc.apply(doc.rig.with_point(Point("K9", "point", -20.0, 5.0)), "Place free point")
+    with qtbot.waitSignal(main_window.live.scheduler.result_ready, timeout=3000) as got:
+        pass
+    failed = got.args[0]
+    panel = main_window.live.panel
+    assert not failed.ok
+    assert failed.message in panel.status.text() and not panel.status.isHidden()
+    assert panel.segments.proxy.rowCount() == len(good.segments)
+    assert panel.warnings.item(0).text().startswith("⛔ Solve failed")
+    assert panel.warnings.item(0).data(SUBJECT_ROLE) == "K9"
