@@ -53,6 +53,7 @@ from shapely.geometry.base import BaseGeometry
 
 from solver.danger import DangerZone, Piece, danger_zones, pieces, positions
 from solver.errors import RopewrightError
+from solver.hauling import haulers_needed
 from solver.model import Hardware, Material, Rig
 from solver.result import Result, Warning_
 
@@ -544,7 +545,7 @@ def check_haul(rig: Rig, result: Result) -> list[Warning_]:
         if req and delivered < float(req):
             ma = result.ma_actual if result.ma_actual else (delivered / total if total > 0 else 0.0)
             if per_person and ma > 0:
-                need = math.ceil(float(req) / (ma * per_person) - 1e-9)
+                need = haulers_needed(float(req), ma, per_person)
                 have = f" (team of {team})" if team else ""
                 advice = (f"With actual MA {ma:.2f} and {_force(rig, per_person)} per hauler it takes "
                           f"{need} haulers{have}, or more mechanical advantage.")
