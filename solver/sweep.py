@@ -281,9 +281,11 @@ class _TextBar:
 
     def __call__(self, done: int, total: int) -> None:
         filled = int(self.width * done / max(total, 1))
-        self.stream.write(f"\rsolving [{'#' * filled}{'.' * (self.width - filled)}] {done}/{total}")
-        if done >= total:
-            self.stream.write("\n")
+        bar = f"solving [{'#' * filled}{'.' * (self.width - filled)}] {done}/{total}"
+        if getattr(self.stream, "isatty", lambda: False)():
+            self.stream.write("\r" + bar + ("\n" if done >= total else ""))
+        elif done >= total or (10 * done) // total != (10 * (done - 1)) // total:
+            self.stream.write(bar + "\n")  # a log file gets a line per tenth, not a carriage-return smear
         self.stream.flush()
 
 
