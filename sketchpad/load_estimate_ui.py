@@ -99,10 +99,7 @@ class UnitNumberField(QuantityField):
 
     def live_value(self):
         """The SI value of what is typed now, or None if it cannot be read (no message shown)."""
-        try:
-            return self.parse(self.edit.text())
-        except UnitError:
-            return None
+        return _live(self)
 
 
 def _unit_combo(table: dict[str, float], name: str) -> QComboBox:
@@ -369,6 +366,9 @@ class LoadEstimateDialog(QDialog):
 
 
 def _live(field: QuantityField):
+    """The SI value in ``field`` now: the exact value it shows (not its rounded text), else what is being typed."""
+    if field.edit.text() == field._shown_text and field.value() is not None and not field.has_error:
+        return field.value()
     try:
         return field.parse(field.edit.text())
     except UnitError:
