@@ -37,6 +37,9 @@ MAX_DELAY_MS = 30
 BACKGROUND_AFTER_MS = 120.0
 #: Back to the GUI thread after this many quick background solves in a row.
 QUICK_SOLVES_TO_RETURN = 3
+#: Changes closer together than this (ms) are a drag: they get the equilibrium alone, and the full
+#: analysis (safety checks, zones, tables) follows once the rig has been still this long.
+SETTLE_MS = 150
 
 Analyse = Callable[..., Result]
 
@@ -45,6 +48,12 @@ def _default_analyse(rig: Rig, start: Mapping[str, tuple[float, float]] | None =
     from solver.analysis import analyse
 
     return analyse(rig, start=start)
+
+
+def _default_quick(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None) -> Result:
+    from solver.equilibrium import solve
+
+    return solve(rig, start=start)
 
 
 def warm_start(rig: Rig, good_rig: Rig | None, good: Result | None) -> dict[str, tuple[float, float]] | None:
@@ -106,15 +115,24 @@ class SolveScheduler(QObject):
     status_changed = Signal(str)  # "solving", "ok", or the failed status ("diverged", "invalid", ...)
 
     def __init__(self, document, parent: QObject | None = None, *, delay_ms: int = DEFAULT_DELAY_MS,
-                 analyse: Analyse | None = None, background_after_ms: float = BACKGROUND_AFTER_MS) -> None:
+                 analyse: Analyse | None = None, quick: Analyse | None = None,
+                 background_after_ms: float = BACKGROUND_AFTER_MS, settle_ms: int = SETTLE_MS) -> None:
         super().__init__(parent)
         self.document = document
         self.analyse: Analyse = analyse or _default_analyse
+        self.quick: Analyse = quick or analyse or _default_quick
+        self.settle_timer = QTimer(self)
+        self.settle_timer.setSingleShot(True)
+        self.settle_timer.setInterval(int(settle_ms))
+        self.settle_timer.timeout.connect(self._settle)
+        self.settled = True  # False while the delivered result is a drag-time equilibrium without checks
+        self._last_change = -1e9
+        self._change_gap_ms = 1e12  # time between the last two document changes
         self.background_after_ms = float(background_after_ms)
         self.timer = QTimer(self)
         self.timer.setSingleShot(True)
         self.timer.setInterval(max(0, min(int(delay_ms), MAX_DELAY_MS)))
-        self.timer.timeout.connect(self._fire)
+        self.timer.timeout.connect(self.fire)
         self.result: Result | None = None  # latest delivered (ok or failed)
         self.rig: Rig | None = None  # the rig ``result`` was solved for
         self.last_good: Result | None = None
@@ -135,6 +153,9 @@ class SolveScheduler(QObject):
     def schedule(self, *_args) -> None:
         """Note a change; the solve runs when the timer fires (a running timer is not restarted,
         so a continuous drag is still solved every ``delay`` ms)."""
+        now = time.perf_counter()
+        self._change_gap_ms = (now - self._last_change) * 1e3
+        self._last_change = now
         if not self._closed and not self.timer.isActive():
             self.timer.start()
 
@@ -151,7 +172,8 @@ class SolveScheduler(QObject):
         self._deliver(rev, rig, result)
         return self.result
 
-    def _fire(self) -> None:
+    def fire(self) -> None:
+        """What the coalescing timer does: solve the current revision (quickly if changes are streaming)."""
         if self._closed:
             return
         if self._in_flight is not None:  # the worker is busy; its return re-arms the timer
@@ -159,23 +181,27 @@ class SolveScheduler(QObject):
         rev, rig = self.document.revision, self.document.rig
         if self.result is not None and self.result.revision == rev:
             return  # already solved this revision
+        quick = self._change_gap_ms < self.settle_timer.interval()  # changes are streaming: a drag
         self.status_changed.emit("solving")
         if self.background:
             self._submit(rig, rev)
             return
-        result = self._run(rig, rev)
+        result = self._run(rig, rev, quick=quick)
         if self.last_solve_ms > self.background_after_ms:
             log.info("solve took %.0f ms: later solves run in the background", self.last_solve_ms)
             self.background = True
             self._quick_in_row = 0
-        self._deliver(rev, rig, result)
+        self._deliver(rev, rig, result, quick)
 
-    def _run(self, rig: Rig, rev: int) -> Result:
-        """One solve, never raising: exceptions become a failed Result; the revision is stamped on."""
+    def _run(self, rig: Rig, rev: int, quick: bool = False) -> Result:
+        """One solve, never raising: exceptions become a failed Result; the revision is stamped on.
+
+        ``quick`` (during a drag): the equilibrium alone; the settle timer runs the full analysis later.
+        """
         start = warm_start(rig, self.last_good_rig, self.last_good)
         t0 = time.perf_counter()
         try:
-            result = self.analyse(rig, start=start)
+            result = (self.quick if quick else self.analyse)(rig, start=start)
             if not isinstance(result, Result):
                 raise TypeError(f"analyse returned {type(result).__name__}, not a Result")
         except Exception as exc:  # noqa: BLE001 - a solver bug must not take the window down
@@ -202,7 +228,7 @@ class SolveScheduler(QObject):
         self._executor.submit(work)
 
     # --- delivery -------------------------------------------------------------------------------
-    def _deliver(self, rev: int, rig: Rig, result: Result) -> None:
+    def _deliver(self, rev: int, rig: Rig, result: Result, quick: bool = False) -> None:
         if self._closed:
             return
         if self._in_flight == rev:
@@ -217,15 +243,29 @@ class SolveScheduler(QObject):
             self.schedule()
             return
         self.result, self.rig = result, rig
+        self.settled = not quick
         if result.ok:
             self.last_good, self.last_good_rig = result, rig
+        if not self.settled:
+            self.settle_timer.start()  # restarted by every drag step: runs once the rig is still
         self.status_changed.emit(result.status)
         self.result_ready.emit(result)
+
+    def _settle(self) -> None:
+        """The rig has been still for ``settle_ms``: run the full analysis of the current revision."""
+        if self._closed or self.settled or self._in_flight is not None:
+            return
+        if self.result is None or self.result.revision != self.document.revision:
+            self.schedule()
+            return
+        rev, rig = self.document.revision, self.document.rig
+        self._deliver(rev, rig, self._run(rig, rev, quick=False))
 
     def close(self) -> None:
         """Stop solving (window closing): no more timers, the worker's late answers are ignored."""
         self._closed = True
         self.timer.stop()
+        self.settle_timer.stop()
         try:
             self.document.changed.disconnect(self.schedule)
         except (RuntimeError, TypeError):
@@ -259,8 +299,9 @@ class LiveForces(QObject):
 
     def _show(self, result: Result) -> None:
         s = self.scheduler
-        self.overlay.show_result(s.rig, result, s.last_good_rig, s.last_good)
-        self.panel.show_result(s.rig, result, s.last_good_rig, s.last_good)
+        self.overlay.show_result(s.rig, result, s.last_good_rig, s.last_good, settled=s.settled)
+        if s.settled or not result.ok:  # tables and warnings follow once a drag pauses
+            self.panel.show_result(s.rig, result, s.last_good_rig, s.last_good)
 
     def select_subject(self, subject: str) -> None:
         """Select and centre the canvas item a warning is about (point, rope, ``rope@point``, ``a,b,c``)."""

@@ -40,6 +40,7 @@ from PySide6.QtGui import (
     QPainter,
     QPainterPath,
     QPen,
+    QPixmap,
     QPolygonF,
     QStaticText,
     QTransform,
@@ -76,6 +77,7 @@ ROPE_SAMPLE_PX = 10.0
 MAX_SAMPLES_PER_PIECE = 160
 LEADER_STEPS_PX = (26.0, 52.0)
 HOLD_LABEL = "hold"
+PIXMAP_CACHE_MAX = 4000  # rendered labels kept for repaints
 
 
 # --- the label model ---------------------------------------------------------------------------
@@ -342,7 +344,8 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
                  size_of: Callable[[OverlayLabel], tuple[float, float]],
                  markers: Iterable[tuple[float, float]] = (),
                  pieces: Iterable[tuple[object, tuple[float, float], tuple[float, float]]] = (),
-                 boxes: Iterable[tuple[tuple[float, float], tuple[float, float, float, float]]] = ()) -> int:
+                 boxes: Iterable[tuple[tuple[float, float], tuple[float, float, float, float]]] = (),
+                 previous: Mapping[tuple, tuple] | None = None) -> int:
     """Greedy placement in screen pixels; returns how many labels were skipped.
 
     Most important first (``priority``).  Each label takes its first candidate that
@@ -351,6 +354,9 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
     leader line; else it is skipped.  ``markers`` are scene points, ``pieces``
     (owner key, scene a, scene b) the solved rope pieces, ``boxes`` (scene point,
     pixel rect relative to it) other text already on the canvas (point names).
+    ``previous`` (from :func:`placement_memo` at the same zoom) keeps a label where it
+    was when its text and its piece or point moved less than ``KEEP_PX``, so labels do
+    not jump about during a drag and only the moved ones are placed again.
     """
     grid = _Grid()
     for xy, (bx, by, bw, bh) in boxes:
@@ -367,9 +373,26 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
             t = k / n
             grid.add_point(pa[0] + (pb[0] - pa[0]) * t, pa[1] + (pb[1] - pa[1]) * t, owner)
     skipped = 0
-    for lab in sorted(labels, key=lambda l: -l.priority):
-        w, h = size_of(lab)
+    ordered = sorted(labels, key=lambda l: -l.priority)
+    todo = []
+    for lab in ordered:
         lab.placed = False
+        memo = previous.get((lab.kind, lab.key)) if previous else None
+        if memo is not None and memo[0] == lab.lines and _near(memo[1], to_px(lab.base)) and (
+                lab.end is None or _near(memo[2], to_px(lab.end))):
+            at, rect, leader = memo[3], memo[4], memo[5]
+            if at is None:  # it was skipped last time and nothing changed: skip again without searching
+                skipped += 1
+                continue
+            ax, ay = to_px(at)
+            r = (ax + rect[0], ay + rect[1], rect[2], rect[3])
+            if not grid.hits_rect(r):
+                grid.add_rect(r)
+                lab.placed, lab.at, lab.rect, lab.leader = True, at, rect, leader
+                continue
+        todo.append(lab)
+    for lab in todo:
+        w, h = size_of(lab)
         fallback = None
         own = lab.key if lab.kind == "tension" else None
         for base_s, c, bp, leader in _candidates(lab, to_px, w, h):
@@ -394,6 +417,19 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
         lab.rect = (r[0] - bp[0], r[1] - bp[1], r[2], r[3])
         lab.leader = leader
     return skipped
+
+
+KEEP_PX = 0.75
+
+
+def _near(a, b) -> bool:
+    return a is not None and abs(a[0] - b[0]) <= KEEP_PX and abs(a[1] - b[1]) <= KEEP_PX
+
+
+def placement_memo(labels: Iterable[OverlayLabel], to_px) -> dict[tuple, tuple]:
+    """Where each label went (or that it was skipped), for :func:`place_labels`'s ``previous`` at the same zoom."""
+    return {(l.kind, l.key): (l.lines, to_px(l.base), None if l.end is None else to_px(l.end),
+                               l.at if l.placed else None, l.rect, l.leader) for l in labels}
 
 
 # --- shapely -> QPainterPath --------------------------------------------------------------------------
@@ -502,6 +538,7 @@ class ForceItem(_LayerItem):
         self._fail_pen = theme.pixel_pen(theme.BANNER_BACK, 3.0)
         self._size_cache: dict[str, tuple[float, float]] = {}
         self._static_cache: dict[str, QStaticText] = {}
+        self._pixmap_cache: dict[tuple, QPixmap] = {}
 
     # --- building (outside paint) ---------------------------------------------------------------
     def pen_for(self, colour: QColor, width: float) -> QPen:
@@ -550,6 +587,33 @@ class ForceItem(_LayerItem):
             h = self.fm.height() * len(lab.lines) + 2 * pad
             size = self._size_cache[text] = (math.ceil(w), math.ceil(h))
         return size
+
+    def label_pixmap(self, lab: OverlayLabel, colour: QColor) -> QPixmap:
+        """The label's box and text rendered once and blitted on every repaint (cached by text and colour)."""
+        key = (lab.lines, colour.rgba(), lab.kind == "angle" and not self.grey)
+        pix = self._pixmap_cache.get(key)
+        if pix is not None:
+            return pix
+        if len(self._pixmap_cache) > PIXMAP_CACHE_MAX:
+            self._pixmap_cache.clear()
+        w, h = self.label_size(lab)
+        pix = QPixmap(int(w) + 1, int(h) + 1)
+        pix.fill(Qt.transparent)
+        p = QPainter(pix)
+        p.setRenderHint(QPainter.Antialiasing, True)
+        p.setRenderHint(QPainter.TextAntialiasing, True)
+        half = theme.OVERLAY_LABEL_BORDER_PX / 2.0
+        p.setPen(self.pen_for(colour, theme.OVERLAY_LABEL_BORDER_PX))
+        p.setBrush(self._back)
+        p.drawRoundedRect(QRectF(half, half, w - 2 * half, h - 2 * half), 3.0, 3.0)
+        p.setFont(self.font)
+        p.setPen(self.pen_for(theme.ANGLE_TEXT, 1.0) if key[2] else self._text_pen)
+        pad, lh = theme.OVERLAY_LABEL_PAD_PX, self.fm.height()
+        for i, line in enumerate(lab.lines):
+            p.drawStaticText(QPointF(pad, pad + i * lh), self.static_text(line))
+        p.end()
+        self._pixmap_cache[key] = pix
+        return pix
 
     def static_text(self, line: str) -> QStaticText:
         st = self._static_cache.get(line)
@@ -616,12 +680,7 @@ class ForceItem(_LayerItem):
                 painter.drawLine(p, QPointF(cx, cy))
                 painter.setBrush(theme.OVERLAY_LEADER)
                 painter.drawEllipse(p, 1.8, 1.8)
-            painter.setPen(self.pen_for(colour, theme.OVERLAY_LABEL_BORDER_PX))
-            painter.setBrush(self._back)
-            painter.drawRoundedRect(box, 3.0, 3.0)
-            painter.setPen(self._text_pen if lab.kind != "angle" or self.grey else self.pen_for(theme.ANGLE_TEXT, 1.0))
-            for i, line in enumerate(lab.lines):
-                painter.drawStaticText(QPointF(box.left() + pad, box.top() + pad + i * lh), self.static_text(line))
+            painter.drawPixmap(box.topLeft(), self.label_pixmap(lab, colour))
         if self.fail_point is not None:
             painter.setOpacity(1.0)
             painter.setPen(self._fail_pen)
@@ -792,6 +851,7 @@ class ResultOverlay(QObject):
         self.layers: dict[str, bool] = {name: True for name in LAYERS}
         self.zones_item = ZoneItem()
         self.zones_item.setZValue(theme.Z_FEATURE + 1.0)  # under the ropes, over the water
+        self.zones_item.setCacheMode(QGraphicsItem.DeviceCoordinateCache)  # hatching is slow; pans reuse it
         self.scene.addItem(self.zones_item)
         self.force_item = ForceItem()
         self.scene.add_overlay_item(self.force_item)
@@ -806,6 +866,9 @@ class ResultOverlay(QObject):
         self.pieces: list = []
         self.skipped = 0
         self.layer_actions: dict[str, QAction] = {}
+        self._memo: dict = {}
+        self._memo_scale = 0.0
+        self._zones_due = True
 
     # --- public -------------------------------------------------------------------------------------
     @property
@@ -821,8 +884,16 @@ class ResultOverlay(QObject):
     def banner_text(self) -> str:
         return self.banner.text() if not self.banner.isHidden() else ""
 
-    def show_result(self, rig: Rig, result: Result, good_rig: Rig | None = None, good: Result | None = None) -> None:
-        """Draw ``result`` of ``rig``; if it failed, the banner names why and ``good`` (of ``good_rig``) is drawn greyed."""
+    def show_result(self, rig: Rig, result: Result, good_rig: Rig | None = None, good: Result | None = None,
+                    settled: bool = True) -> None:
+        """Draw ``result`` of ``rig``; if it failed, the banner names why and ``good`` (of ``good_rig``) is drawn greyed.
+
+        ``settled`` is False for drag-time results: danger zones are then left as they were and
+        redrawn with the settled result that follows once the drag pauses (``SolveScheduler``).
+        """
+        self._zones_due = settled or self.result is None
+        if settled:  # give labels skipped during a drag another try
+            self._memo = {k: v for k, v in self._memo.items() if v[3] is not None}
         from sketchpad.live_solve import failure_text
 
         if result.ok:
@@ -883,7 +954,9 @@ class ResultOverlay(QObject):
         self.pieces = self.force_item.set_bands(rig, result)
         labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on])
         self.force_item.labels, self.force_item.arrows = labels, arrows
-        if self.layers["zones"]:
+        if self.layers["zones"] and not getattr(self, "_zones_due", True):
+            pass  # a drag step: zones follow the settled result
+        elif self.layers["zones"]:
             from solver.danger import danger_zones
 
             try:
@@ -891,9 +964,11 @@ class ResultOverlay(QObject):
             except Exception:  # noqa: BLE001 - a zone bug must not hide the forces
                 log.exception("danger zones failed")
                 self.zones = []
+            self.zones_item.set_zones(self.zones)
         else:
             self.zones = []
-        self.zones_item.set_zones(self.zones)
+            self.zones_item.set_zones(self.zones)
+        self._zones_due = True
         self.relayout()
         lines = summary_lines(rig, result)
         if self.skipped:
@@ -920,8 +995,10 @@ class ResultOverlay(QObject):
             boxes = self._name_boxes(self.rig)
             if self.result is not None:
                 markers += [_scene(xy) for xy in self.result.points.values()]
+        previous = self._memo if self._memo_scale == m11 else None
         self.skipped = place_labels(self.force_item.labels, to_px, self.force_item.label_size, markers, self.pieces,
-                                    boxes)
+                                    boxes, previous)
+        self._memo, self._memo_scale = placement_memo(self.force_item.labels, to_px), m11
         self.force_item.refresh_rect(self._m_per_px())
 
     def _name_boxes(self, rig: Rig) -> list:

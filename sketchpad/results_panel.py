@@ -170,12 +170,10 @@ class ResultsPanel(QWidget):
     def _fill_segments(self, rig: Rig, result: Result) -> None:
         unit = rig.display.force
         rows = []
+        names = {p.id: p.name for p in rig.points}
+        ropes = {r.id: r.name for r in rig.ropes}
         for s in result.segments:
-            try:
-                rope = rig.rope(s.rope).name
-            except KeyError:
-                rope = s.rope
-            names = {p.id: p.name for p in rig.points}
+            rope = ropes.get(s.rope, s.rope)
             piece = f"{s.index + 1}: {names.get(s.from_point, s.from_point)} → {names.get(s.to_point, s.to_point)}"
             rows.append([
                 _cell(rope), _cell(piece, s.index),

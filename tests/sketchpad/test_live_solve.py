@@ -173,7 +173,7 @@ def test_timing_is_measured_and_slow_solves_move_to_the_background(doc):
         return analyse(rig, start=start)
 
     s = SolveScheduler(doc, analyse=slowish, background_after_ms=5.0)
-    s._fire()
+    s.fire()
     assert s.last_solve_ms >= 20.0
     assert s.background
     s.close()
