@@ -18,6 +18,7 @@ import logging
 import math
 import pathlib
 from dataclasses import replace
+from decimal import Decimal, InvalidOperation
 
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QAction, QBrush, QColor
@@ -140,6 +141,8 @@ class _SpecForm(QWidget):
             field.show_error(exc.message)
             raise
         field.clear_error()
+        if field.value() is not None and value is not None and field.edit.text() == field.format(field.value()):
+            return field.value()  # untouched: the exact stored value, not its rounded display
         return value
 
     def show_problem(self, field: str, message: str) -> None:  # pragma: no cover - overridden
@@ -182,6 +185,7 @@ class MaterialForm(_SpecForm):
         self.form.addRow("Source", self.source)
         self.table.cellChanged.connect(lambda _r, _c: self.check_table())
         self._extra: dict = {}
+        self._shown: dict[tuple[int, str], float] = {}
 
     def fields(self) -> list[QuantityField]:
         return super().fields() + [self.diameter, self.mbs]
@@ -203,9 +207,12 @@ class MaterialForm(_SpecForm):
         self.table.blockSignals(True)
         self.table.setRowCount(len(m.stretch))
         unit = self.force_unit()
+        self._shown = {}
         for i, (t, e) in enumerate(m.stretch):
-            self.table.setItem(i, 0, QTableWidgetItem(f"{units.force_to(t, unit):.6g}"))
-            self.table.setItem(i, 1, QTableWidgetItem(f"{100.0 * e:.6g}"))
+            texts = (f"{units.force_to(t, unit):.6g}", f"{100.0 * e:.6g}")
+            for c, (text, value) in enumerate(zip(texts, (t, e))):
+                self.table.setItem(i, c, QTableWidgetItem(text))
+                self._shown[(c, text)] = value  # an untouched cell gives back the exact stored value
         self.table.blockSignals(False)
         self.check_table()
 
@@ -240,12 +247,13 @@ class MaterialForm(_SpecForm):
             if not all(texts):
                 raise UnitError(f"Stretch table row {r + 1}: type both the tension and the strain", str(r))
             try:
-                t = units.parse_force(texts[0], unit)
+                t = self._shown.get((0, texts[0])) or units.parse_force(texts[0], unit)
             except UnitError as exc:
                 raise UnitError(f"Stretch table row {r + 1}: {exc.message}", str(r)) from None
             try:
-                e = float(texts[1].rstrip("%").strip()) / 100.0
-            except ValueError:
+                # Decimal: "0.65" % is exactly the float nearest 0.0065, not 0.65 / 100
+                e = self._shown.get((1, texts[1])) or float(Decimal(texts[1].rstrip("%").strip()) / 100)
+            except (InvalidOperation, ValueError):
                 raise UnitError(f"Stretch table row {r + 1}: strain {texts[1]!r} is not a number of %", str(r)) from None
             if not math.isfinite(e):
                 raise UnitError(f"Stretch table row {r + 1}: strain must be a finite number", str(r))

@@ -367,7 +367,7 @@ class LoadEstimateDialog(QDialog):
 
 def _live(field: QuantityField):
     """The SI value in ``field`` now: the exact value it shows (not its rounded text), else what is being typed."""
-    if field.edit.text() == field._shown_text and field.value() is not None and not field.has_error:
+    if field.value() is not None and not field.has_error and field.edit.text() == field.format(field.value()):
         return field.value()
     try:
         return field.parse(field.edit.text())
