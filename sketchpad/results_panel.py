@@ -40,7 +40,7 @@ log = logging.getLogger(__name__)
 SORT_ROLE = Qt.UserRole + 1
 SUBJECT_ROLE = Qt.UserRole + 2
 SEVERITY_ORDER = {"danger": 0, "warning": 1, "info": 2}
-SEVERITY_MARK = {"danger": "⛔", "warning": "⚠", "info": "ℹ"}
+SEVERITY_MARK = {"danger": "DANGER:", "warning": "Warning:", "info": "Note:"}  # words: DejaVu has no sign glyphs
 COMPASS = ("E", "ENE", "NE", "NNE", "N", "NNW", "NW", "WNW", "W", "WSW", "SW", "SSW", "S", "SSE", "SE", "ESE")
 
 

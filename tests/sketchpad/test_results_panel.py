@@ -152,5 +152,5 @@ def test_a_failed_solve_is_named_and_the_tables_keep_the_last_good_numbers(main_
     assert not failed.ok
     assert failed.message in panel.status.text() and not panel.status.isHidden()
     assert panel.segments.proxy.rowCount() == len(good.segments)
-    assert panel.warnings.item(0).text().startswith("⛔ Solve failed")
+    assert panel.warnings.item(0).text().startswith("DANGER: Solve failed")
     assert panel.warnings.item(0).data(SUBJECT_ROLE) == "K9"
