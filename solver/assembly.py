@@ -27,8 +27,8 @@ IntArray = NDArray[np.intp]
 
 #: Closest two passes may come along a rope when the hardware gives no size, m.
 DEFAULT_MIN_SPACING_M = 0.05
-#: Closest two passes may come when neither has hardware (a knot, a hand), m.
-BARE_MIN_SPACING_M = 0.001
+#: Closest two passes may come when neither has hardware (a knot, a hand), as a fraction of the rig size.
+BARE_MIN_SPACING = 1e-4
 #: Pass kinds, coded.
 PASS_NONE, PASS_PULLEY, PASS_SLIDING, PASS_EDGE = 0, 1, 2, 3
 #: Two points closer than this are coincident, m.
@@ -189,6 +189,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
     pass_hw: list[str | None] = []
     pass_point: list[str] = []
     s_min: list[float] = []
+    piece_len0: list[float] = []
     run_start: list[int] = []
     run_count: list[int] = []
     run_hauled: list[bool] = []
@@ -279,12 +280,13 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
                 piece_first.append(k == run.first)
                 lk = math.hypot(coords[ib][0] - coords[ia][0], coords[ib][1] - coords[ia][1])
                 length += lk
-                sizes = [BARE_MIN_SPACING_M]
+                hw_size = 0.0  # 0: bare passes (knot, hand), spaced relative to the rig size below
                 for ps in (pa, pb):
                     if ps.hardware and ps.how != "tied":
                         sz = hardware(ps.hardware).size_m
-                        sizes.append(float(sz) if sz else DEFAULT_MIN_SPACING_M)
-                s_min.append(min(max(sizes), 0.5 * lk))
+                        hw_size = max(hw_size, float(sz) if sz else DEFAULT_MIN_SPACING_M)
+                s_min.append(hw_size)
+                piece_len0.append(lk)
                 kind, eta, mu, hw = PASS_NONE, 1.0, 0.0, None
                 if k > run.first:  # pass pa is a middle pass of this run
                     kind, eta, mu, hw = _pass_factor(rope.name, pa, hardware, f"{where}.path[{k}]")
@@ -353,10 +355,13 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
                 F[dof[i, 1]] -= float(p.mass_kg) * STANDARD_GRAVITY
 
     lo, hi = (xy0.min(axis=0), xy0.max(axis=0)) if len(pts) else (np.zeros(2), np.zeros(2))
-    size = float(max(np.hypot(*(hi - lo)), 1.0))
+    size = float(max(np.hypot(*(hi - lo)), 1e-3))
     fmag = np.hypot(F[0::2], F[1::2]) if nf else np.zeros(0)
     pre = [r.rigged.pretension_N or 0.0 for r in rig.ropes]
     force_scale = float(max([0.0, *fmag, *run_P, *pre]))
+    spacing = np.array(s_min, dtype=float)
+    spacing = np.where(spacing > 0, spacing, BARE_MIN_SPACING * size)
+    spacing = np.minimum(spacing, 0.5 * np.array(piece_len0, dtype=float))
 
     sys_ = System(
         rig=rig, motion=motion, points=pts, point_ids=[p.id for p in pts], xy0=xy0, free=free, dof=dof, n_dof=2 * nf,
@@ -365,7 +370,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
         piece_mat=np.array(piece_mat, dtype=np.intp), piece_first=np.array(piece_first, dtype=bool),
         pass_kind=np.array(pass_kind, dtype=np.intp), pass_eta=np.array(pass_eta, dtype=float),
         pass_mu=np.array(pass_mu, dtype=float), pass_hw=pass_hw, pass_point=pass_point,
-        s_min=np.array(s_min, dtype=float), contact_on=np.zeros(len(a), dtype=bool),
+        s_min=spacing, contact_on=np.zeros(len(a), dtype=bool),
         run_start=np.array(run_start, dtype=np.intp), run_count=np.array(run_count, dtype=np.intp),
         run_hauled=np.array(run_hauled, dtype=bool), run_P=np.array(run_P, dtype=float),
         run_L0=np.array(run_L0, dtype=float), run_mat=np.array(run_mat, dtype=np.intp), run_rope=run_rope,

@@ -43,6 +43,8 @@ log = logging.getLogger(__name__)
 DENSE_MAX = 400
 #: Newton iterations per stage.
 MAX_ITER = 200
+#: Trial evaluations (line search included) one Newton solve may spend before giving up.
+MAX_EVALUATIONS = 1500
 #: Target and acceptance of the largest free-point imbalance, relative to the largest force.
 TARGET_REL = 1e-10
 ACCEPT_REL = 1e-7
@@ -122,7 +124,10 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
     cap = 0.1 * s.size
     mu = 1e-10
     free_idx = np.flatnonzero(s.free)
+    evaluations = 0
     for it in range(max_iter):
+        if evaluations > MAX_EVALUATIONS:
+            break
         scale = _force_scale(s, st)
         res = _max_norm(st.g)
         if res <= TARGET_REL * scale or (scale == 0.0 and res == 0.0):
@@ -132,7 +137,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
         base = max(float(diag.max()) if len(diag) else 0.0, scale / s.size, 1e-12)
         m0 = merit(st)
         accepted = False
-        for _attempt in range(12):
+        for _attempt in range(8):
             lam = mu * base
             d = _shifted_solve(K, lam, -st.g, dense, symmetric)
             if d is None:
@@ -151,7 +156,8 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
                 mu *= 100.0
                 continue
             alpha = 1.0
-            for _ls in range(40):
+            for _ls in range(30):
+                evaluations += 1
                 trial = evaluate(s, st.x + alpha * d, w, kc)
                 m1 = merit(trial)
                 if m1 <= m0 + 1e-4 * alpha * slope:
