@@ -107,7 +107,7 @@ class Drawing:
     def __init__(self, rig: Rig, result: Result | None = None, rig_dir: pathlib.Path | None = None,
                  layers: Iterable[str] | None = None) -> None:
         from sketchpad.canvas import SketchScene
-        from sketchpad.overlay import LAYERS, ForceItem, ZoneItem
+        from sketchpad.overlay import LAYERS, ZoneItem
 
         if result is None:
             from solver.analysis import analyse
@@ -122,7 +122,7 @@ class Drawing:
         self.zones_item = ZoneItem()
         self.zones_item.setZValue(theme.Z_FEATURE + 1.0)  # as on the canvas: under the ropes, over the water
         self.scene.addItem(self.zones_item)
-        self.force_item = ForceItem()
+        self.force_item = print_force_item()
         self.scene.add_overlay_item(self.force_item)
         self.zones: list = []
         self.pieces: list = []
@@ -290,6 +290,61 @@ class Drawing:
         k = self.fit.px_per_m if self.fit else 20.0
         u = unit_metres(self.rig.display.length)
         return nice_step(140.0 / (k * u) * 0.7) * u
+
+
+def print_force_item():
+    """The overlay's ForceItem, painting its labels as boxes and text rather than cached pixmaps.
+
+    On screen the overlay blits each label from a pixmap cache (fast repaints); on
+    paper and in SVG that would be blurry, unsearchable bitmaps, so this subclass
+    lets the overlay paint bands, rings, arrows and the failure ring and then paints
+    each placed label as vectors, with the overlay's own pens, fonts and sizes.
+    """
+    from PySide6.QtGui import QTransform
+
+    from sketchpad.overlay import ForceItem
+
+    class PrintForceItem(ForceItem):
+        def paint(self, painter: QPainter, option, widget=None) -> None:
+            t = painter.worldTransform()
+            labels = self.labels
+            self.labels = []
+            try:
+                super().paint(painter, option, widget)
+            finally:
+                self.labels = labels
+            painter.setWorldTransform(QTransform())
+            painter.setOpacity(theme.OVERLAY_GREY_OPACITY if self.grey else 1.0)
+            pad, lh = theme.OVERLAY_LABEL_PAD_PX, self.fm.height()
+            half = theme.OVERLAY_LABEL_BORDER_PX / 2.0
+            for lab in labels:
+                if not lab.placed:
+                    continue
+                painter.save()
+                p = t.map(QPointF(*lab.at))
+                x, y, w, h = lab.rect
+                box = QRectF(p.x() + x, p.y() + y, w, h)
+                colour = theme.OVERLAY_GREY if self.grey else lab.colour
+                if lab.leader:
+                    painter.setPen(self._leader_pen)
+                    cx = min(max(p.x(), box.left()), box.right())
+                    cy = min(max(p.y(), box.top()), box.bottom())
+                    painter.drawLine(p, QPointF(cx, cy))
+                    painter.setBrush(theme.OVERLAY_LEADER)
+                    painter.drawEllipse(p, 1.8, 1.8)
+                painter.restore()
+                painter.save()
+                painter.setPen(self.pen_for(colour, theme.OVERLAY_LABEL_BORDER_PX))
+                painter.setBrush(self._back)
+                painter.drawRoundedRect(box.adjusted(half, half, -half, -half), 3.0, 3.0)
+                painter.setFont(self.font)
+                angle = lab.kind == "angle" and not self.grey
+                painter.setPen(self.pen_for(theme.ANGLE_TEXT, 1.0) if angle else self._text_pen)
+                for i, line in enumerate(lab.lines):
+                    painter.drawText(QPointF(box.left() + pad, box.top() + pad + i * lh + self.fm.ascent()), line)
+                painter.restore()
+
+    return PrintForceItem()
 
 
 def name_boxes(rig: Rig) -> list:

@@ -1,0 +1,672 @@
+"""The rig report: a short PDF a rescue planner can print and read at a glance, or hand to a team.
+
+``write_report(rig, path)`` lays out, on A4 (metric rigs) or US Letter (imperial
+rigs): title, date and notes; the drawing with its forces (the same offscreen
+scene as :mod:`sketchpad.export`, so it matches the screen); the mechanical
+advantage (actual and ideal), haulers needed (:mod:`solver.hauling`) and the
+warnings; tables of rope pieces (tension, stretch, safety factor = MBS ÷
+tension), anchors (resultant, direction, capacity, safety factor) and hardware
+(load at each pulley, carabiner or edge against its MBS); a plot of MA and peak
+anchor load against the haul force (:mod:`solver.sweep`, matplotlib Agg); the
+assumptions (specs and their sources, friction, motion, safety factor); and the
+full safety caution.  Numbers come from ``analyse(rig)`` and are written with
+:mod:`solver.units` in the rig's display units.  A rig that does not solve still
+gets a report that says so in plain words and gives no forces.
+
+Pages are painted with QPainter on a QPdfWriter at 96 dpi (pixel sizes as on the
+screen), zero page margins and our own margins; the layout runs twice, once to
+count pages for the "page n of N" footer.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import io
+import logging
+import math
+import pathlib
+import sys
+from dataclasses import dataclass, field
+from typing import Callable, Sequence
+
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import QColor, QFont, QFontMetricsF, QImage, QPageLayout, QPainter
+
+from sketchpad import theme
+from sketchpad.export import (
+    EXIT_BAD_INPUT,
+    EXIT_OK,
+    EXIT_SOLVE_FAILED,
+    Drawing,
+    ExportError,
+    ensure_app,
+    failure_sentence,
+    page_size_for,
+    paint_key_strip,
+    pdf_writer,
+    units_line,
+)
+from solver.model import Rig
+from solver.result import Result
+from solver.units import format_force, format_length, force_to
+
+log = logging.getLogger(__name__)
+
+MARGIN_IN = 0.6  # page margin, inches
+DPI = 96.0
+BODY_PT, SMALL_PT, TABLE_PT, HEAD_PT, TITLE_PT = 9.0, 7.5, 8.0, 11.0, 16.0
+DRAWING_H_PX = 400.0  # height of the drawing on page 1 (logical px at 96 dpi)
+KEY_H_PX = 46.0
+PLOT_H_PX = 230.0
+PLOT_DPI = 200
+SWEEP_STEPS = 13
+SWEEP_FROM, SWEEP_TO = 0.25, 2.0  # haul force range as fractions of the drawn haul force
+INK = QColor("#1d1d1a")
+MUTED = QColor("#55554f")
+RULE = QColor("#b9ae97")
+HEAD_BACK = QColor("#ece7da")
+ZEBRA = QColor("#f8f6f0")
+LOW_SF = QColor("#b3122e")  # a safety factor below the rig's minimum
+FAIL_BACK = QColor(163, 29, 24)
+OK_BACK = QColor("#e8f3ec")
+
+MOTION_WORDS = {
+    "haul": "haul: every rope moves from its first pass toward its last (load toward haul team); "
+            "crossing a pulley the tension rises by 1/efficiency, crossing an edge by e^(μφ) (capstan equation).",
+    "lower": "lower: every rope moves from its last pass toward its first; friction at pulleys and edges "
+             "now helps hold the load, so the haul end carries less than the load side.",
+    "hold": "hold: nothing moves; every pass is taken as frictionless for the forces shown, and the range "
+            "static friction allows is given where it matters.",
+}
+
+
+# --- the numbers, as text ----------------------------------------------------------------------
+def sf_text(strength_N: float | None, load_N: float) -> str:
+    """Safety factor strength ÷ load as ``"12.3:1"`` ("—" if unknown, "slack" if unloaded)."""
+    if strength_N is None or not math.isfinite(strength_N):
+        return "—"
+    if load_N <= 1.0:
+        return "slack"
+    sf = strength_N / load_N
+    return f"{sf:.1f}:1" if sf < 100 else f"{sf:.0f}:1"
+
+
+def sf_low(rig: Rig, strength_N: float | None, load_N: float) -> bool:
+    return strength_N is not None and load_N > 1.0 and strength_N / load_N < float(rig.settings.min_safety_factor)
+
+
+def _pname(rig: Rig, pid: str) -> str:
+    return rig.point(pid).name if rig.has_point(pid) else pid
+
+
+def _material(rig: Rig, mat_id: str):
+    from solver.errors import RopewrightError
+    from solver.materials import material_for
+
+    try:
+        return material_for(rig, mat_id)
+    except (RopewrightError, KeyError):
+        return None
+
+
+def _hardware(rig: Rig, hw_id: str):
+    from solver.errors import RopewrightError
+    from solver.materials import hardware_for
+
+    try:
+        return hardware_for(rig, hw_id)
+    except (RopewrightError, KeyError):
+        return None
+
+
+@dataclass
+class Table:
+    """Header, rows of cell text, relative column widths, right-aligned columns, rows to flag red."""
+
+    title: str
+    header: tuple[str, ...]
+    rows: list[tuple[str, ...]]
+    widths: tuple[float, ...]
+    right: frozenset[int] = frozenset()
+    flagged: set[int] = field(default_factory=set)
+    note: str = ""
+
+
+def rope_table(rig: Rig, result: Result) -> Table:
+    """One row per straight piece of rope: tension, length, stretch, MBS and safety factor MBS ÷ tension."""
+    fu, lu = rig.display.force, rig.display.length
+    t = Table("Rope pieces", ("Rope", "Piece", "Tension", "Length", "Stretch", "MBS", "Safety factor"), [],
+              (1.5, 2.4, 1.0, 0.9, 0.8, 1.0, 1.0), frozenset({2, 3, 4, 5, 6}),
+              note=f"Safety factor = rope MBS ÷ tension; the rig asks for at least "
+                   f"{rig.settings.min_safety_factor:g}:1 (red below it). Knots and bends weaken a rope further.")
+    for s in result.segments:
+        try:
+            rope = rig.rope(s.rope)
+        except KeyError:
+            continue
+        mat = _material(rig, rope.material)
+        mbs = mat.mbs_N if mat is not None else None
+        slack = s.tension_N <= 1.0
+        t.rows.append((rope.name, f"{_pname(rig, s.from_point)} → {_pname(rig, s.to_point)}",
+                       "slack" if slack else format_force(s.tension_N, fu), format_length(s.length_m, lu),
+                       "—" if slack else f"{s.strain * 100:.1f} %",
+                       format_force(mbs, fu) if mbs is not None else "not known", sf_text(mbs, s.tension_N)))
+        if sf_low(rig, mbs, s.tension_N):
+            t.flagged.add(len(t.rows) - 1)
+    return t
+
+
+def direction_words(rig: Rig, direction_deg: float) -> str:
+    """Which way an anchor is pulled: a compass bearing in plan, above/below horizontal in elevation."""
+    if rig.view == "elevation":
+        a = (direction_deg + 180.0) % 360.0 - 180.0  # (-180, 180]
+        side = "right" if abs(a) < 90 else "left"
+        elev = a if abs(a) <= 90 else (180.0 - a if a > 0 else -180.0 - a)
+        if abs(elev) < 0.5:
+            return f"level, to the {side}"
+        return f"{abs(elev):.0f}° {'above' if elev > 0 else 'below'} level, to the {side}"
+    bearing = (90.0 - direction_deg) % 360.0
+    names = ("N", "NNE", "NE", "ENE", "E", "ESE", "SE", "SSE", "S", "SSW", "SW", "WSW", "W", "WNW", "NW", "NNW")
+    return f"toward {bearing:03.0f}° ({names[int((bearing + 11.25) // 22.5) % 16]})"
+
+
+def anchor_table(rig: Rig, result: Result) -> Table:
+    """One row per anchor: resultant, which way it pulls, capacity and safety factor capacity ÷ resultant."""
+    fu = rig.display.force
+    t = Table("Anchors", ("Anchor", "Resultant", "Pulled", "Capacity", "Safety factor"), [],
+              (1.6, 1.1, 1.9, 1.1, 1.0), frozenset({1, 3, 4}),
+              note="Resultant = vector sum of everything attached. Bearings are clockwise from north (up the page)."
+              if rig.view == "plan" else "Resultant = vector sum of everything attached.")
+    for aid, a in result.anchors.items():
+        extra = ""
+        hold = result.hold_anchor_range.get(aid)
+        if hold is not None:
+            extra = f" (hold {format_force(hold.low, fu)} – {format_force(hold.high, fu)})"
+        t.rows.append((_pname(rig, aid), format_force(a.force_N, fu) + extra, direction_words(rig, a.direction_deg),
+                       format_force(a.capacity_N, fu) if a.capacity_N is not None else "not given",
+                       sf_text(a.capacity_N, a.force_N)))
+        if sf_low(rig, a.capacity_N, a.force_N):
+            t.flagged.add(len(t.rows) - 1)
+    return t
+
+
+def hardware_table(rig: Rig, result: Result) -> Table:
+    """One row per pass with hardware: the load on it (vector sum of the legs) against its MBS."""
+    from solver.checks import pass_loads
+
+    fu = rig.display.force
+    t = Table("Hardware", ("Where", "Hardware", "Friction", "Load on it", "MBS", "Safety factor"), [],
+              (1.9, 2.0, 0.9, 1.0, 1.0, 1.0), frozenset({3, 4, 5}),
+              note="Load = vector sum of the rope legs at the pass. Edges are not rated components: pad them.")
+    for rope_id, k, at, load in pass_loads(rig, result):
+        rope = rig.rope(rope_id)
+        hw_id = rope.path[k].hardware or ""
+        hw = _hardware(rig, hw_id)
+        if hw is None:
+            name, friction, mbs = f"{hw_id} (not known)", "—", None
+        else:
+            name, mbs = hw.name, hw.mbs_N
+            friction = (f"η {hw.efficiency:.2f}" if hw.efficiency is not None
+                        else f"μ {hw.friction_coefficient:.2f}" if hw.friction_coefficient is not None else "—")
+        t.rows.append((f"{rope.name} at {_pname(rig, at)}", name, friction, format_force(load, fu),
+                       format_force(mbs, fu) if mbs is not None else "no rating", sf_text(mbs, load)))
+        if sf_low(rig, mbs, load):
+            t.flagged.add(len(t.rows) - 1)
+    return t
+
+
+def ma_sentence(result: Result) -> str:
+    if result.ma_actual is None:
+        return "No mechanical advantage: the rig has no haul team pulling a load."
+    ideal = f", ideal {result.ma_ideal:.2f}:1 (every pass frictionless, same geometry)" if result.ma_ideal else ""
+    return f"Mechanical advantage: actual {result.ma_actual:.2f}:1 (with the friction of the rig){ideal}."
+
+
+def haul_sentences(rig: Rig, result: Result) -> list[str]:
+    """Haul force, what reaches each load, and haulers needed for each load with a force needed."""
+    from solver.errors import RopewrightError
+    from solver.hauling import DEFAULT_PER_PERSON_N, plan_for_result
+
+    fu = rig.display.force
+    out = []
+    for hid, f in result.haul.items():
+        p = rig.point(hid) if rig.has_point(hid) else None
+        team = f" by {p.team} haulers ({format_force(f / p.team, fu)} each)" if p is not None and p.team else ""
+        out.append(f"Haul force at {_pname(rig, hid)}: {format_force(f, fu)}{team}.")
+    for lid, a in result.loads.items():
+        p = rig.point(lid) if rig.has_point(lid) else None
+        need = ""
+        if p is not None and p.required_N is not None:
+            short = a.force_N < p.required_N
+            need = f" of {format_force(p.required_N, fu)} needed" + (" — NOT ENOUGH" if short else "")
+        out.append(f"Force reaching {_pname(rig, lid)}: {format_force(a.force_N, fu)}{need}.")
+        if p is None:
+            continue
+        try:
+            plan = plan_for_result(rig, result, lid)
+        except RopewrightError as exc:
+            out.append(f"Haulers needed for {p.name}: cannot be worked out ({exc}).")
+            continue
+        if plan is not None:
+            out.append(f"Haulers needed for {p.name}: {plan.haulers}. " + plan.text(fu))
+        elif p.required_N is None:
+            out.append(f"No force needed is entered for {p.name}, so haulers needed is not worked out "
+                       f"(each hauler is taken as {format_force(DEFAULT_PER_PERSON_N, fu)} sustained).")
+    return out
+
+
+def assumption_lines(rig: Rig) -> list[str]:
+    """The model behind the numbers: view, motion and friction, safety factor, and every spec with its source."""
+    fu = rig.display.force
+    out = [
+        "Statics only: the forces hold while the system moves slowly or stands still. Shock loads, a falling "
+        "or surging load and moving water add to every number here.",
+        "Plan view: seen from above, no gravity; weights are not included unless drawn as forces."
+        if rig.view == "plan" else "Elevation view: seen from the side, gravity acts downward on loads with a mass.",
+        "Motion and friction — " + MOTION_WORDS.get(rig.settings.motion, rig.settings.motion),
+        f"Minimum safety factor: {rig.settings.min_safety_factor:g}:1 (strength ÷ load) for ropes, hardware "
+        "and anchors; anchors without a capacity are not checked.",
+        "Ropes are elastic and tension-only (stretch from each material's curve); anchors do not move; each "
+        "straight piece carries one tension.",
+    ]
+    seen = set()
+    for r in rig.ropes:
+        if r.material in seen:
+            continue
+        seen.add(r.material)
+        m = _material(rig, r.material)
+        if m is None:
+            out.append(f"Rope {r.material}: spec not known, so its margins are not checked.")
+            continue
+        dia = f"{m.diameter_mm:g} mm " if m.diameter_mm else ""
+        out.append(f"Rope spec {m.name} ({dia}{m.kind}, MBS {format_force(m.mbs_N, fu)}). Source: "
+                   f"{m.source or 'not given'}")
+    seen = set()
+    for r in rig.ropes:
+        for ps in r.path:
+            if not ps.hardware or ps.hardware in seen:
+                continue
+            seen.add(ps.hardware)
+            h = _hardware(rig, ps.hardware)
+            if h is None:
+                out.append(f"Hardware {ps.hardware}: spec not known.")
+                continue
+            bits = []
+            if h.efficiency is not None:
+                bits.append(f"efficiency {h.efficiency:.2f}")
+            if h.friction_coefficient is not None:
+                bits.append(f"friction coefficient {h.friction_coefficient:.2f}")
+            bits.append(f"MBS {format_force(h.mbs_N, fu)}" if h.mbs_N is not None else "no MBS")
+            out.append(f"Hardware {h.name} ({h.kind}; {', '.join(bits)}). Source: {h.source or 'not given'}")
+    return out
+
+
+# --- the haul-force sweep plot -----------------------------------------------------------------
+def sweep_target(rig: Rig) -> tuple[str, float, str] | None:
+    """(vary text, drawn value N, axis words) for the plot: the first haul team's force, else the first force."""
+    for p in rig.points:
+        if p.kind == "haul" and p.haul_force:
+            return f"haul:{p.id}", float(p.haul_force), f"haul force at {p.name}"
+    for i, f in enumerate(rig.forces):
+        if f.magnitude_N > 0:
+            return f"force:{i + 1}", float(f.magnitude_N), f"force {f.label or 'on ' + _pname(rig, f.at)}"
+    return None
+
+
+def sweep_plot(rig: Rig, width_px: float, height_px: float) -> tuple[QImage | None, str]:
+    """A PNG-backed QImage of MA and peak anchor load against the haul force, and a caption (or why not)."""
+    from solver.errors import RopewrightError
+    from solver.sweep import sweep, values_between
+
+    target = sweep_target(rig)
+    if target is None:
+        return None, "No plot: the rig has no haul force or external force to vary."
+    vary, drawn, words = target
+    try:
+        table = sweep(rig, vary, values_between(drawn * SWEEP_FROM, drawn * SWEEP_TO, SWEEP_STEPS))
+    except RopewrightError as exc:
+        return None, f"No plot: {exc}"
+    if all(r["status"] != "ok" for r in table.rows):
+        return None, "No plot: the rig did not solve at any haul force in the range."
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    fu = rig.display.force
+    x = [force_to(v, fu) for v in table.values]
+    fig = Figure(figsize=(width_px / DPI, height_px / DPI), dpi=PLOT_DPI)
+    FigureCanvasAgg(fig)
+    ax1, ax2 = fig.subplots(1, 2)
+    ax1.plot(x, table.column("ma_actual"), "o-", ms=3, color="#1c64a8", label="actual MA")
+    ax1.plot(x, table.column("ma_ideal"), "--", color="#55554f", label="ideal MA")
+    ax1.set_ylabel("mechanical advantage (:1)")
+    ax1.legend(loc="best", fontsize=7)
+    peak = [force_to(v, fu) if math.isfinite(v) else math.nan for v in table.column("peak_anchor_N")]
+    ax2.plot(x, peak, "o-", ms=3, color="#c2362b", label="peak anchor load")
+    ax2.set_ylabel(f"peak anchor load ({fu})")
+    for ax in (ax1, ax2):
+        ax.set_xlabel(f"{words} ({fu})")
+        ax.axvline(force_to(drawn, fu), color="#2f8a57", lw=1, ls=":")
+        ax.grid(True, alpha=0.3)
+        ax.tick_params(labelsize=7)
+        ax.xaxis.label.set_size(8)
+        ax.yaxis.label.set_size(8)
+    for r in table.failed:
+        for ax in (ax1, ax2):
+            ax.axvline(force_to(float(r["value"]), fu), color="grey", alpha=0.25, lw=4)
+    fig.tight_layout()
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=PLOT_DPI)
+    image = QImage.fromData(buf.getvalue(), "PNG")
+    failed = f" Grey bands: {len(table.failed)} values that did not solve." if table.failed else ""
+    caption = (f"Mechanical advantage and peak anchor load as the {words} goes from "
+               f"{format_force(drawn * SWEEP_FROM, fu)} to {format_force(drawn * SWEEP_TO, fu)} "
+               f"({SWEEP_STEPS} solves); dotted line: as drawn ({format_force(drawn, fu)}).{failed}")
+    return (None if image.isNull() else image), caption
+
+
+# --- page layout --------------------------------------------------------------------------------
+def _font(size: float, bold: bool = False, italic: bool = False) -> QFont:
+    f = QFont(theme.FONT_FAMILY)
+    f.setPointSizeF(size)
+    f.setBold(bold)
+    f.setItalic(italic)
+    return f
+
+
+class Flow:
+    """Top-to-bottom layout on pages of ``content`` (logical px); ``painter`` None measures only."""
+
+    def __init__(self, device, painter: QPainter | None, content: QRectF, footer: Callable[[QPainter, int], None],
+                 new_page: Callable[[], None]) -> None:
+        self.device, self.painter, self.content = device, painter, content
+        self.footer, self._new_page = footer, new_page
+        self.page = 1
+        self.y = content.top()
+
+    @property
+    def left(self) -> float:
+        return self.content.left()
+
+    @property
+    def width(self) -> float:
+        return self.content.width()
+
+    def room(self) -> float:
+        return self.content.bottom() - self.y
+
+    def need(self, h: float) -> None:
+        if h > self.room() and self.y > self.content.top() + 1:
+            self.break_page()
+
+    def break_page(self) -> None:
+        if self.painter is not None:
+            self.footer(self.painter, self.page)
+            self._new_page()
+        self.page += 1
+        self.y = self.content.top()
+
+    def finish(self) -> int:
+        if self.painter is not None:
+            self.footer(self.painter, self.page)
+        return self.page
+
+    def text_height(self, text: str, font: QFont, width: float | None = None) -> float:
+        fm = QFontMetricsF(font, self.device)
+        flags = int(Qt.AlignLeft | Qt.AlignTop | Qt.TextWordWrap)
+        return fm.boundingRect(QRectF(0, 0, width or self.width, 1e6), flags, text).height()
+
+    def text(self, text: str, font: QFont, colour: QColor = INK, gap: float = 4.0, indent: float = 0.0,
+             keep: float = 0.0) -> float:
+        """A wrapped paragraph (moved whole to the next page if it does not fit); returns its height."""
+        w = self.width - indent
+        h = self.text_height(text, font, w)
+        self.need(h + keep)
+        if self.painter is not None:
+            self.painter.setFont(font)
+            self.painter.setPen(colour)
+            self.painter.drawText(QRectF(self.left + indent, self.y, w, h + 2),
+                                  int(Qt.AlignLeft | Qt.AlignTop | Qt.TextWordWrap), text)
+        self.y += h + gap
+        return h
+
+    def heading(self, text: str) -> None:
+        self.y += 6
+        self.text(text, _font(HEAD_PT, bold=True), gap=3, keep=40)
+        if self.painter is not None:
+            self.painter.setPen(RULE)
+            self.painter.drawLine(QPointF(self.left, self.y - 2), QPointF(self.left + self.width, self.y - 2))
+        self.y += 2
+
+    def box(self, text: str, font: QFont, back: QColor, colour: QColor) -> None:
+        pad = 7.0
+        h = self.text_height(text, font, self.width - 2 * pad) + 2 * pad
+        self.need(h)
+        if self.painter is not None:
+            self.painter.setPen(Qt.NoPen)
+            self.painter.setBrush(back)
+            self.painter.drawRoundedRect(QRectF(self.left, self.y, self.width, h), 4, 4)
+            self.painter.setFont(font)
+            self.painter.setPen(colour)
+            self.painter.drawText(QRectF(self.left + pad, self.y + pad, self.width - 2 * pad, h),
+                                  int(Qt.AlignLeft | Qt.AlignTop | Qt.TextWordWrap), text)
+        self.y += h + 6
+
+    def block(self, h: float, paint: Callable[[QPainter, QRectF], None]) -> None:
+        self.need(h)
+        if self.painter is not None:
+            paint(self.painter, QRectF(self.left, self.y, self.width, h))
+        self.y += h
+
+    def table(self, t: Table) -> None:
+        """A table with a shaded header (repeated on a new page), zebra rows, red rows below the safety factor."""
+        self.heading(t.title)
+        if not t.rows:
+            self.text("None in this rig.", _font(BODY_PT, italic=True), MUTED)
+            return
+        font, bold = _font(TABLE_PT), _font(TABLE_PT, bold=True)
+        total = sum(t.widths)
+        cols = [self.width * w / total for w in t.widths]
+        pad = 3.0
+
+        def row_h(cells, f) -> float:
+            return max(self.text_height(c, f, cols[i] - 2 * pad) for i, c in enumerate(cells)) + 2 * pad
+
+        def draw_row(cells, f, back: QColor | None, colour: QColor) -> None:
+            h = row_h(cells, f)
+            if self.painter is not None:
+                p = self.painter
+                if back is not None:
+                    p.setPen(Qt.NoPen)
+                    p.setBrush(back)
+                    p.drawRect(QRectF(self.left, self.y, self.width, h))
+                p.setFont(f)
+                p.setPen(colour)
+                x = self.left
+                for i, c in enumerate(cells):
+                    align = (Qt.AlignRight if i in t.right else Qt.AlignLeft) | Qt.AlignTop | Qt.TextWordWrap
+                    p.drawText(QRectF(x + pad, self.y + pad, cols[i] - 2 * pad, h), int(align), c)
+                    x += cols[i]
+            self.y += h
+
+        head_h = row_h(t.header, bold)
+        self.need(head_h + row_h(t.rows[0], font))
+        draw_row(t.header, bold, HEAD_BACK, INK)
+        for n, cells in enumerate(t.rows):
+            h = row_h(cells, font)
+            if h > self.room():
+                self.break_page()
+                draw_row(t.header, bold, HEAD_BACK, INK)
+            draw_row(cells, _font(TABLE_PT, bold=True) if n in t.flagged else font,
+                     ZEBRA if n % 2 else None, LOW_SF if n in t.flagged else INK)
+        if self.painter is not None:
+            self.painter.setPen(RULE)
+            self.painter.drawLine(QPointF(self.left, self.y), QPointF(self.left + self.width, self.y))
+        self.y += 3
+        if t.note:
+            self.text(t.note, _font(SMALL_PT, italic=True), MUTED)
+
+
+@dataclass
+class Report:
+    """What was written: the path, the page count and the tables (as text) behind them."""
+
+    path: pathlib.Path
+    pages: int
+    result: Result
+    tables: list[Table]
+
+
+def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, source: str | None,
+             plot: tuple[QImage | None, str] | None) -> None:
+    from solver.cautions import FULL_CAUTION
+
+    fu = rig.display.force
+    flow.text(rig.title or (pathlib.Path(source).name if source else "Untitled rig"), _font(TITLE_PT, bold=True), gap=2)
+    flow.text(f"Rig report, {when}" + (f" — {pathlib.Path(source).name}" if source else ""), _font(BODY_PT), MUTED, gap=1)
+    flow.text(units_line(rig) + f". Safety factor asked for: {rig.settings.min_safety_factor:g}:1. "
+              f"Motion: {rig.settings.motion}.", _font(BODY_PT), MUTED, gap=6)
+    if result.ok:
+        flow.box(f"Solved: equilibrium found in {result.iterations} iterations (largest force imbalance "
+                 f"{format_force(result.residual_N, 'N', 3)}). "
+                 f"{len(result.warnings)} warning{'s' if len(result.warnings) != 1 else ''}.",
+                 _font(BODY_PT), OK_BACK, INK)
+    else:
+        flow.box("THE RIG DID NOT SOLVE. " + failure_sentence(rig, result).replace(
+                 "No forces are shown: fix the rig and export again.", "") +
+                 " This report therefore gives no forces, safety factors, mechanical advantage or haul plan. "
+                 "Do not use this rig as drawn: fix the drawing and make a new report.",
+                 _font(BODY_PT + 1, bold=True), FAIL_BACK, QColor("#ffffff"))
+    if rig.notes:
+        flow.text("Notes: " + rig.notes, _font(BODY_PT, italic=True), gap=6)
+
+    def paint_drawing(p: QPainter, r: QRectF) -> None:
+        draw_r = QRectF(r.left(), r.top(), r.width(), r.height() - KEY_H_PX)
+        drawing.paint(p, draw_r)
+        p.setPen(RULE)
+        p.setBrush(Qt.NoBrush)
+        p.drawRect(draw_r)
+        paint_key_strip(p, QRectF(r.left(), draw_r.bottom() + 6, r.width(), KEY_H_PX - 6), drawing)
+
+    drawing_h = min(DRAWING_H_PX + KEY_H_PX, max(flow.room() - 150, 260.0))
+    drawing.fit_into(flow.width, drawing_h - KEY_H_PX)  # before measuring: the fit decides skipped labels
+    flow.block(drawing_h, paint_drawing)
+    flow.y += 4
+    if drawing.skipped and result.ok:
+        flow.text(f"{drawing.skipped} force label{'s' if drawing.skipped != 1 else ''} left off the drawing to "
+                  "avoid overlap; every number is in the tables.", _font(SMALL_PT, italic=True), MUTED)
+
+    if result.ok:
+        flow.heading("System")
+        flow.text(ma_sentence(result), _font(BODY_PT, bold=True))
+        for line in haul_sentences(rig, result):
+            flow.text(line, _font(BODY_PT))
+    flow.heading(f"Warnings ({len(result.warnings)})")
+    if not result.warnings:
+        flow.text("None found by the checks. That does not make the rig safe: see the cautions.", _font(BODY_PT))
+    for w in result.warnings:
+        tag = {"danger": "DANGER", "warning": "Warning", "info": "Note"}.get(w.severity, w.severity)
+        colour = LOW_SF if w.severity == "danger" else INK
+        flow.text(f"{tag}: {w.message}", _font(BODY_PT, bold=w.severity == "danger"), colour, indent=8)
+
+    if result.ok:
+        for t in (rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result)):
+            flow.table(t)
+        if plot is not None:
+            image, caption = plot
+            flow.heading(f"Mechanical advantage and anchor load against haul force ({fu})")
+            if image is not None:
+                cap_h = flow.text_height(caption, _font(SMALL_PT, italic=True))
+                flow.need(PLOT_H_PX + cap_h + 6)
+                flow.block(PLOT_H_PX, lambda p, r: p.drawImage(r, image))
+                flow.y += 2
+            flow.text(caption, _font(SMALL_PT, italic=True), MUTED)
+    flow.heading("Assumptions")
+    for line in assumption_lines(rig):
+        flow.text("• " + line, _font(SMALL_PT), indent=4, gap=2)
+    flow.heading("Safety cautions")
+    for para in FULL_CAUTION.split("\n\n"):
+        flow.text(para, _font(BODY_PT, bold=True), gap=4)
+
+
+def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = None,
+                 rig_dir: pathlib.Path | None = None, source: str | None = None,
+                 now: _dt.datetime | None = None) -> Report:
+    """Write the PDF report of ``rig`` (``result`` defaults to ``analyse(rig)``); ExportError in words on failure."""
+    path = pathlib.Path(path)
+    if path.suffix.lower() != ".pdf":
+        raise ExportError(f"a report is a PDF: end the file name '{path.name}' in .pdf")
+    if not path.parent.exists():
+        raise ExportError(f"the folder {path.parent} does not exist")
+    ensure_app()
+    if result is None:
+        from solver.analysis import analyse
+
+        result = analyse(rig)
+    drawing = Drawing(rig, result, rig_dir)
+    when = (now or _dt.datetime.now()).strftime("%Y-%m-%d %H:%M")
+    title = rig.title or "Untitled rig"
+    writer = pdf_writer(path, page_size_for(rig), QPageLayout.Portrait, f"Ropewright report: {title}")
+    page_w, page_h = writer.width(), writer.height()
+    m = MARGIN_IN * DPI
+    footer_h = 28.0
+    content = QRectF(m, m, page_w - 2 * m, page_h - 2 * m - footer_h)
+    plot = sweep_plot(rig, content.width(), PLOT_H_PX) if result.ok else None
+    from solver.cautions import SHORT_CAUTION
+
+    # pass 1: count pages
+    counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
+    _compose(counter, rig, result, drawing, when, source, plot)
+    total = counter.finish()
+
+    def footer(p: QPainter, n: int) -> None:
+        p.setFont(_font(SMALL_PT))
+        p.setPen(MUTED)
+        r = QRectF(m, page_h - m - footer_h + 8, page_w - 2 * m, footer_h)
+        p.drawLine(QPointF(r.left(), r.top() - 3), QPointF(r.right(), r.top() - 3))
+        p.drawText(r, int(Qt.AlignLeft | Qt.AlignTop | Qt.TextWordWrap), f"Ropewright — {title}. {SHORT_CAUTION}")
+        p.drawText(r, int(Qt.AlignRight | Qt.AlignBottom), f"page {n} of {total}")
+
+    painter = QPainter()
+    if not painter.begin(writer):
+        raise ExportError(f"could not write the report to {path}")
+    try:
+        painter.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing | QPainter.SmoothPixmapTransform)
+        flow = Flow(writer, painter, content, footer, writer.newPage)
+        _compose(flow, rig, result, drawing, when, source, plot)
+        pages = flow.finish()
+    finally:
+        painter.end()
+    log.info("wrote report %s (%d pages)", path, pages)
+    tables = [rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result)] if result.ok else []
+    return Report(path, pages, result, tables)
+
+
+def report_cli(args) -> int:
+    """``ropewright report RIG -o OUT.pdf``: exit 0 written, 2 bad input, 3 written but the rig did not solve."""
+    from solver.errors import RopewrightError
+    from sketchpad.export import load_for_cli
+
+    try:
+        if pathlib.Path(args.output).suffix.lower() != ".pdf":
+            raise ExportError(f"a report is a PDF: end the file name '{pathlib.Path(args.output).name}' in .pdf")
+        rig, result = load_for_cli(args.rig)
+        write_report(rig, args.output, result, pathlib.Path(args.rig).resolve().parent, source=args.rig)
+    except ExportError as exc:
+        print(f"ropewright report: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except RopewrightError as exc:
+        print(f"ropewright report: {args.rig}: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except OSError as exc:
+        print(f"ropewright report: cannot read {args.rig}: {exc.strerror or exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    if not result.ok:
+        print(f"ropewright report: wrote {args.output}, but the rig did not solve: "
+              f"{failure_sentence(rig, result)}", file=sys.stderr)
+        return EXIT_SOLVE_FAILED
+    print(f"wrote {args.output}")
+    return EXIT_OK
+
+
+__all__ = ["write_report", "report_cli", "Report", "Table", "rope_table", "anchor_table", "hardware_table",
+           "haul_sentences", "ma_sentence", "assumption_lines", "sweep_plot", "direction_words", "sf_text"]
