@@ -24,6 +24,7 @@ from PySide6.QtWidgets import (
     QDialog,
     QDialogButtonBox,
     QFormLayout,
+    QGroupBox,
     QHBoxLayout,
     QLabel,
     QVBoxLayout,
@@ -106,6 +107,8 @@ def _unit_combo(table: dict[str, float], name: str) -> QComboBox:
     box = QComboBox()
     box.addItems(list(table))
     box.setObjectName(name)
+    box.setMinimumContentsLength(5)
+    box.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
     return box
 
 
@@ -173,11 +176,8 @@ class LoadEstimateDialog(QDialog):
         self.cd_label = QLabel("Drag coefficient Cd")
         form.addRow(self.cd_label, self.cd)
         form.addRow("Extra factor", self.factor)
-        left = QVBoxLayout()
-        left.addLayout(form)
-        left.addStretch(1)
-        right = QVBoxLayout()
-        right.addWidget(QLabel("Force on the load (drag equation)"))
+        result = QGroupBox("Force on the load (drag equation)")
+        right = QVBoxLayout(result)
         right.addWidget(self.force_label)
         right.addWidget(self.assumptions)
         per = QFormLayout()
@@ -185,9 +185,9 @@ class LoadEstimateDialog(QDialog):
         right.addLayout(per)
         right.addWidget(self.haulers)
         right.addStretch(1)
-        top = QHBoxLayout()
-        top.addLayout(left, 1)
-        top.addLayout(right, 1)
+        top = QVBoxLayout()
+        top.addLayout(form)
+        top.addWidget(result, 1)
         self.buttons = QDialogButtonBox(QDialogButtonBox.Close)
         self.apply_button = self.buttons.addButton("Apply to load", QDialogButtonBox.ApplyRole)
         self.apply_button.setObjectName("apply_to_load")
@@ -197,7 +197,8 @@ class LoadEstimateDialog(QDialog):
         lay.addLayout(top)
         lay.addWidget(self.error)
         lay.addWidget(self.buttons)
-        self.setMinimumWidth(760)
+        self.setMinimumWidth(640)
+        self.resize(700, 500)
 
         for f in (self.speed, self.area, self.cd, self.factor, self.per_person):
             f.edit.textEdited.connect(lambda _t: self.update_estimate())

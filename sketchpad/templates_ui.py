@@ -25,8 +25,9 @@ from PySide6.QtWidgets import (
     QGraphicsPathItem,
     QHBoxLayout,
     QLabel,
-    QListWidget,
-    QListWidgetItem,
+    QHeaderView,
+    QTreeWidget,
+    QTreeWidgetItem,
     QMenu,
     QToolBar,
     QToolButton,
@@ -81,6 +82,7 @@ class Picks:
     extras: list[str] = field(default_factory=list)
     haul_at: tuple[float, float] | None = None
     haul_id: str | None = None
+    master_at: tuple[float, float] | None = None  # anchor systems: where the master point goes
 
     def ids(self) -> list[str]:
         return [i for i in (self.load, self.anchor, *self.extras, self.haul_id) if i]
@@ -93,18 +95,20 @@ def next_prompt(tpl: Template, picks: Picks, rig: Rig) -> str:
     if needs_load(tpl) and picks.load is None:
         return f"{title}: click the load."
     if picks.anchor is None:
-        return f"{title}: click the anchor{' nearest the load' if hi else ''}."
+        which = " (the main one)" if hi and needs_load(tpl) else " 1" if hi else ""
+        return f"{title}: click anchor{which}." if which == " 1" else f"{title}: click the anchor{which}."
     if len(picks.extras) < lo:
         n = len(picks.extras) + 2
         return f"{title}: click anchor {n}."
     options = []
     if len(picks.extras) < hi:
-        options.append("another anchor" + (" (it holds the second stage)" if needs_load(tpl) else ""))
+        options.append("another anchor" + (" for the second stage" if needs_load(tpl) else ""))
     if may_load(tpl) and picks.load is None:
-        options.append("the load (its main line ends at the master point)")
+        options += ["the load", "where the master point goes"]
     if may_haul(tpl):
-        options.append("where the haul team stands (empty space or a haul team)")
-    return f"{title}: click {', or '.join(options)}. Enter uses the defaults; Esc cancels."
+        options.append("where the puller stands" if tpl.name.startswith("vector") else "where the haul team stands")
+    choice = options[0] if len(options) == 1 else ", ".join(options[:-1]) + " or " + options[-1]
+    return f"{title}: click {choice}. Enter: defaults. Esc: cancel."
 
 
 def complete(tpl: Template, picks: Picks) -> bool:
@@ -114,7 +118,7 @@ def complete(tpl: Template, picks: Picks) -> bool:
         return False
     if may_haul(tpl) and (picks.haul_at is not None or picks.haul_id is not None):
         return True
-    if may_load(tpl) and picks.load is not None:
+    if may_load(tpl) and (picks.load is not None or picks.master_at is not None):
         return True
     return not may_haul(tpl) and not may_load(tpl) and len(picks.extras) >= hi
 
@@ -127,9 +131,10 @@ def ready(tpl: Template, picks: Picks) -> bool:
 
 def build(rig: Rig, name: str, picks: Picks, material: str, hardware: str) -> Rig:
     """The rig with system ``name`` placed at ``picks``; RigModelError in words if it cannot be."""
+    options = {"master_at": picks.master_at} if picks.master_at is not None else {}
     return place_template(rig, name, load_id=picks.load, anchor_id=picks.anchor or "",
                           haul_at=picks.haul_at, haul_id=picks.haul_id,
-                          extra_anchor_ids=tuple(picks.extras), material=material, hardware=hardware)
+                          extra_anchor_ids=tuple(picks.extras), material=material, hardware=hardware, **options)
 
 
 class SystemPickTool(Tool):
@@ -189,6 +194,8 @@ class SystemPickTool(Tool):
             picks.haul_id = pid
         elif may_haul(tpl) and p is None:
             picks.haul_at = self.view.snap(ev.scene_pos)
+        elif may_load(tpl) and picks.load is None and p is None:
+            picks.master_at = self.view.snap(ev.scene_pos)
         elif p is not None:
             problem = f"'{p.name}' is already in this system or cannot be used here. " + next_prompt(tpl, picks, rig)
         else:
@@ -262,8 +269,10 @@ class SystemPickTool(Tool):
         self.document.apply(new, f"Place {TEMPLATES[name].title}")
         points, ropes = new_ids(rig, new)
         self.scene.select_keys([("point", i) for i in sorted(points)] + [("rope", i) for i in sorted(ropes)])
-        self.status(f"Placed {TEMPLATES[name].title}: {len(points)} new points, {len(ropes)} ropes. "
-                    "Edit it like any drawing; Ctrl+Z removes it. " + next_prompt(self.tpl, self.picks, new))
+        note = ("Nothing pulls on the master point yet: draw a rope from the load to it. "
+                if may_load(TEMPLATES[name]) and picks.load is None else "")
+        self.status(f"Placed {TEMPLATES[name].title}: {len(points)} new points, {len(ropes)} ropes. {note}"
+                    "Edit it like any drawing; Ctrl+Z removes it.")
         return True
 
     def _clear_preview(self) -> None:
@@ -296,14 +305,17 @@ class SystemDialog(QDialog):
         self.defaults = defaults
         self._select = select
         self._start_pick = start_pick
-        self.list = QListWidget()
+        self.list = QTreeWidget()
         self.list.setObjectName("system_list")
+        self.list.setHeaderLabels(["System", "Ideal MA"])
+        self.list.setRootIsDecorated(False)
         for tpl in TEMPLATES.values():
-            item = QListWidgetItem(f"{tpl.title}    {ma_text(tpl)}")
-            item.setData(Qt.UserRole, tpl.name)
-            item.setToolTip(tpl.description)
-            self.list.addItem(item)
-        self.list.setMinimumWidth(290)
+            item = QTreeWidgetItem([tpl.title, ma_text(tpl)])
+            item.setData(0, Qt.UserRole, tpl.name)
+            item.setToolTip(0, tpl.description)
+            self.list.addTopLevelItem(item)
+        self.list.header().setSectionResizeMode(0, QHeaderView.ResizeToContents)
+        self.list.setMinimumWidth(380)
         self.description = QLabel()
         self.description.setWordWrap(True)
         self.description.setObjectName("system_description")
@@ -343,17 +355,18 @@ class SystemDialog(QDialog):
         lay = QVBoxLayout(self)
         lay.addLayout(top)
         lay.addWidget(self.buttons)
-        self.list.currentRowChanged.connect(lambda _r: self._show_template())
-        self.list.setCurrentRow(list(TEMPLATES).index("3:1"))
+        self.list.currentItemChanged.connect(lambda _c, _p: self._show_template())
+        self.select_template("3:1")
         self.list.setFocus()
+        self.resize(900, 420)
 
     @property
     def template(self) -> str:
         item = self.list.currentItem()
-        return item.data(Qt.UserRole) if item is not None else "3:1"
+        return item.data(0, Qt.UserRole) if item is not None else "3:1"
 
     def select_template(self, name: str) -> None:
-        self.list.setCurrentRow(list(TEMPLATES).index(name))
+        self.list.setCurrentItem(self.list.topLevelItem(list(TEMPLATES).index(name)))
 
     def _fill(self, box: QComboBox, points, optional: bool, first: str = NO_CHOICE) -> None:
         box.clear()
@@ -374,7 +387,8 @@ class SystemDialog(QDialog):
         self._fill(self.anchor_box, anchors, optional=False)
         lo, hi = tpl.extra_anchors
         for i, (lab, box) in enumerate(zip(self.extra_labels, self.extra_boxes)):
-            self._fill(box, anchors, optional=i >= lo)
+            self._fill(box, anchors, optional=i >= lo,
+                       first="(none: the main anchor holds it)" if needs_load(tpl) else NO_CHOICE)
             if i < len(anchors) - 1 and i < lo:
                 box.setCurrentIndex(i + 1)
             lab.setVisible(i < hi)

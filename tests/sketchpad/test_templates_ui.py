@@ -187,3 +187,18 @@ def test_dialog_with_no_load_in_the_sketch_says_so_and_places_nothing(main_windo
     assert not dialog.place()
     assert "no load" in dialog.error.text()
     assert w.document.undo_stack.count() == 0
+
+
+def test_anchor_system_without_a_load_puts_the_master_point_where_clicked_and_says_nothing_pulls_yet(main_window, mouse):
+    w = main_window
+    start(w, "anchor-shared", site(Point("A2", "anchor", 6.0, 20.0)))
+    assert "click anchor 1" in status(w)
+    mouse.click(0.0, 20.0)
+    mouse.click(6.0, 20.0)
+    assert "master point" in status(w)
+    mouse.click(3.0, 16.0)
+    rig = w.document.rig
+    master = next(p for p in rig.points if p.kind == "point")
+    assert (master.x, master.y) == pytest.approx((3.0, 16.0), abs=0.05)
+    assert sorted(r.path[0].at for r in rig.ropes) == ["A1", "A2"], "one sling from each anchor"
+    assert "Nothing pulls on the master point" in status(w)
