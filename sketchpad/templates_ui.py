@@ -38,7 +38,7 @@ from PySide6.QtWidgets import (
 from sketchpad import theme
 from sketchpad.fields import ERROR_STYLE
 from sketchpad.geometry import to_scene
-from sketchpad.tools import KIND_NAMES, Tool
+from sketchpad.tools import Tool
 from solver.errors import RopewrightError
 from solver.model import Point, Rig
 from solver.templates import TEMPLATES, Template, new_ids, place_template

@@ -126,10 +126,12 @@ def test_haulers_needed_use_the_solved_actual_ma_and_the_per_hauler_force(main_w
 
 
 def test_haulers_line_says_so_when_the_rig_has_no_mechanical_advantage(dialog, main_window, qtbot):
-    main_window.live.scheduler.solve_now()
     type_into(qtbot, dialog.speed, "2")
     type_into(qtbot, dialog.area, "1.5")
-    assert "Haulers:" in dialog.haulers.text()
+    main_window.live.scheduler.solve_now()  # a load and an anchor, no rope: nothing to haul with
+    dialog.refresh_result()
+    assert "does not solve to a mechanical advantage" in dialog.haulers.text()
+    assert " haulers (" not in dialog.haulers.text(), "no head count without a solved MA"
 
 
 def test_reopening_on_a_load_shows_the_estimate_it_carries(main_window, dialog, qtbot):
