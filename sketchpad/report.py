@@ -55,7 +55,8 @@ log = logging.getLogger(__name__)
 MARGIN_IN = 0.6  # page margin, inches
 DPI = 96.0
 BODY_PT, SMALL_PT, TABLE_PT, HEAD_PT, TITLE_PT = 9.0, 7.5, 8.0, 11.0, 16.0
-DRAWING_H_PX = 400.0  # height of the drawing on page 1 (logical px at 96 dpi)
+#: (drawing height, plot height) tried in turn until the report fits on two pages
+LAYOUTS = ((400.0, 230.0), (350.0, 200.0), (300.0, 180.0))
 KEY_H_PX = 46.0
 PLOT_H_PX = 230.0
 PLOT_DPI = 200
@@ -466,7 +467,7 @@ class Flow:
         font, bold = _font(TABLE_PT), _font(TABLE_PT, bold=True)
         total = sum(t.widths)
         cols = [self.width * w / total for w in t.widths]
-        pad = 3.0
+        pad = 4.0
 
         def row_h(cells, f) -> float:
             return max(self.text_height(c, f, cols[i] - 2 * pad) for i, c in enumerate(cells)) + 2 * pad
@@ -517,7 +518,7 @@ class Report:
 
 
 def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, source: str | None,
-             plot: tuple[QImage | None, str] | None) -> None:
+             plot: tuple[QImage | None, str] | None, sizes: tuple[float, float] = LAYOUTS[0]) -> None:
     from solver.cautions import FULL_CAUTION
 
     fu = rig.display.force
@@ -547,7 +548,7 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
         p.drawRect(draw_r)
         paint_key_strip(p, QRectF(r.left(), draw_r.bottom() + 6, r.width(), KEY_H_PX - 6), drawing)
 
-    drawing_h = min(DRAWING_H_PX + KEY_H_PX, max(flow.room() - 150, 260.0))
+    drawing_h = min(sizes[0] + KEY_H_PX, max(flow.room() - 150, 260.0))
     drawing.fit_into(flow.width, drawing_h - KEY_H_PX)  # before measuring: the fit decides skipped labels
     flow.block(drawing_h, paint_drawing)
     flow.y += 4
@@ -576,8 +577,12 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
             flow.heading(f"Mechanical advantage and anchor load against haul force ({fu})")
             if image is not None:
                 cap_h = flow.text_height(caption, _font(SMALL_PT, italic=True))
-                flow.need(PLOT_H_PX + cap_h + 6)
-                flow.block(PLOT_H_PX, lambda p, r: p.drawImage(r, image))
+                flow.need(sizes[1] + cap_h + 6)
+                def paint_plot(p: QPainter, r: QRectF) -> None:
+                    w = min(r.width(), sizes[1] * image.width() / max(image.height(), 1))
+                    p.drawImage(QRectF(r.left() + (r.width() - w) / 2, r.top(), w, sizes[1]), image)
+
+                flow.block(sizes[1], paint_plot)
                 flow.y += 2
             flow.text(caption, _font(SMALL_PT, italic=True), MUTED)
     flow.heading("Assumptions")
@@ -613,10 +618,13 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     plot = sweep_plot(rig, content.width(), PLOT_H_PX) if result.ok else None
     from solver.cautions import SHORT_CAUTION
 
-    # pass 1: count pages
-    counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
-    _compose(counter, rig, result, drawing, when, source, plot)
-    total = counter.finish()
+    # pass 1: count pages, shrinking the drawing and the plot until two pages hold it all (if they can)
+    for sizes in LAYOUTS:
+        counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
+        _compose(counter, rig, result, drawing, when, source, plot, sizes)
+        total = counter.finish()
+        if total <= 2:
+            break
 
     def footer(p: QPainter, n: int) -> None:
         p.setFont(_font(SMALL_PT))
@@ -632,7 +640,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     try:
         painter.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing | QPainter.SmoothPixmapTransform)
         flow = Flow(writer, painter, content, footer, writer.newPage)
-        _compose(flow, rig, result, drawing, when, source, plot)
+        _compose(flow, rig, result, drawing, when, source, plot, sizes)
         pages = flow.finish()
     finally:
         painter.end()
@@ -644,7 +652,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
 def report_cli(args) -> int:
     """``ropewright report RIG -o OUT.pdf``: exit 0 written, 2 bad input, 3 written but the rig did not solve."""
     from solver.errors import RopewrightError
-    from sketchpad.export import load_for_cli
+    from sketchpad.export import load_for_cli, rig_error_text
 
     try:
         if pathlib.Path(args.output).suffix.lower() != ".pdf":
@@ -655,7 +663,7 @@ def report_cli(args) -> int:
         print(f"ropewright report: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except RopewrightError as exc:
-        print(f"ropewright report: {args.rig}: {exc}", file=sys.stderr)
+        print(f"ropewright report: {rig_error_text(args.rig, exc)}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except OSError as exc:
         print(f"ropewright report: cannot read {args.rig}: {exc.strerror or exc}", file=sys.stderr)
