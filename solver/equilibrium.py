@@ -24,8 +24,6 @@ import scipy.sparse.linalg
 
 from solver import friction
 from solver.assembly import (
-    PASS_EDGE,
-    PASS_PULLEY,
     State,
     System,
     compile_rig,
@@ -447,7 +445,6 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
                                  f'the force drawn at "{pid}" acts on a fixed point and is not part of the solve'))
     status, message, subject = "ok", "", ""
     # the length equation of every taut tied run must hold
-    taut = np.flatnonzero(s.run_L0 > 0) if s.n_runs else np.zeros(0, np.intp)
     bad_len = None
     if s.n_pieces:
         unst = np.add.reduceat(st.l / (1.0 + st.eps), s.run_start)
@@ -455,7 +452,6 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
         err = np.abs(unst - s.run_L0) / s.run_L0
         if np.any(tight & (err > 1e-9)):
             bad_len = int(np.flatnonzero(tight & (err > 1e-9))[0])
-    del taut
     if np.any(st.T < 0) or not sol.converged or bad_len is not None or residual > ACCEPT_REL * max(scale, 1e-9):
         status = "diverged"
         worst = int(np.argmax(_point_norms(st.g))) if s.n_dof else 0
@@ -497,7 +493,10 @@ def solve(rig: Rig, *, start=None, motion: str | None = None) -> Result:
     """Solve ``rig`` for static equilibrium; ``start`` = {point_id: (x, y)} warm start, metres.
 
     ``motion`` overrides ``rig.settings.motion`` ("haul", "hold" or "lower").  Never raises for
-    a bad rig: the Result's status, message and subject say what is wrong.
+    a bad rig: the Result's status, message and subject say what is wrong.  ``iterations``
+    counts the Newton iterations that produced the reported state (cold: frictionless and
+    friction stages; warm: the friction stage only, not the frictionless reference for
+    ``ma_ideal``, which is the same rig re-solved with every pass frictionless).
     """
     try:
         s = compile_rig(rig, motion)
@@ -539,4 +538,4 @@ def _with_hold_ranges(s: System, held: Result, sol: _Solved) -> Result:
     return replace(held, hold_anchor_range=anchor_range, hold_haul_range=haul_range)
 
 
-__all__ = ["solve", "PASS_EDGE", "PASS_PULLEY"]
+__all__ = ["solve"]
