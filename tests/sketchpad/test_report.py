@@ -1,0 +1,198 @@
+"""The PDF report: solved numbers, safety factors, hardware loads, units, cautions, failed solves, the CLI.
+
+The PDF's text is read back with pypdf and compared with ``analyse(rig)`` formatted
+by ``solver.units`` (the app's own formatting), never with numbers typed in here.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import re
+import unicodedata
+from dataclasses import replace
+
+import pytest
+
+from solver.analysis import analyse
+from solver.cautions import CAUTION_PARAGRAPHS
+from solver.cli import main
+from solver.materials import material_for
+from solver.model import Display
+from solver.rigfile import load_rig, rig_from_dict
+from solver.units import format_force, format_length
+from tests.conftest import SAMPLES
+from tests.sketchpad.test_export import LOOSE_RIG
+
+pypdf = pytest.importorskip("pypdf")
+
+RAFT = SAMPLES / "raft-3to1-redirect.rig.json"
+
+
+def pdf_text(path) -> str:
+    """All pages' text, ligatures unfolded (NFKC) and whitespace collapsed (Qt writes words apart)."""
+    reader = pypdf.PdfReader(path)
+    text = " ".join(page.extract_text() for page in reader.pages)
+    return " ".join(unicodedata.normalize("NFKC", text).split())
+
+
+@pytest.fixture(scope="module")
+def raft_report(qapp, tmp_path_factory):
+    from sketchpad.report import write_report
+
+    rig = load_rig(RAFT)
+    result = analyse(rig)
+    out = tmp_path_factory.mktemp("report") / "raft.pdf"
+    report = write_report(rig, out, result, source=str(RAFT))
+    return rig, result, report, pdf_text(out)
+
+
+def test_report_holds_every_solved_tension_anchor_force_and_the_mechanical_advantage(raft_report):
+    rig, result, report, text = raft_report
+    unit = rig.display.force
+    assert result.ok
+    for s in result.segments:
+        assert format_force(s.tension_N, unit) in text, s
+        assert format_length(s.length_m, rig.display.length) in text, s
+    for aid, a in result.anchors.items():
+        assert f"{rig.point(aid).name} {format_force(a.force_N, unit)}" in text
+    assert f"actual {result.ma_actual:.2f}:1" in text
+    assert f"ideal {result.ma_ideal:.2f}:1" in text
+
+
+def test_rope_safety_factor_is_mbs_over_tension(raft_report):
+    rig, result, report, text = raft_report
+    rope_table = report.tables[0]
+    assert len(rope_table.rows) == len(result.segments)
+    for s, row in zip(result.segments, rope_table.rows):
+        mbs = material_for(rig, rig.rope(s.rope).material).mbs_N
+        # safety factor = MBS / working load (definition, e.g. NFPA 1983 / common rigging texts)
+        expected = f"{mbs / s.tension_N:.1f}:1"
+        assert row[-1] == expected, (row, expected)
+        assert expected in text
+
+
+def test_anchor_safety_factor_and_bearing(raft_report):
+    rig, result, report, text = raft_report
+    anchors = report.tables[1]
+    for (aid, a), row in zip(result.anchors.items(), anchors.rows):
+        assert row[0] == rig.point(aid).name
+        assert row[-1] == f"{a.capacity_N / a.force_N:.1f}:1"
+        # bearing clockwise from north of a direction counter-clockwise from east: 90 - angle (mod 360)
+        assert f"{(90.0 - a.direction_deg) % 360.0:03.0f}°" in row[2]
+
+
+def test_hardware_load_is_the_vector_sum_of_the_two_legs(raft_report):
+    """Law of cosines on the two legs: |T1 + T2| = sqrt(T1² + T2² - 2 T1 T2 cos θ), θ the turn angle."""
+    rig, result, report, text = raft_report
+    hardware = report.tables[2]
+    tens = {(s.rope, s.index): s.tension_N for s in result.segments}
+    checked = 0
+    for rope in rig.ropes:
+        seen: dict[str, int] = {}
+        for j in range(1, len(rope.path) - 1):
+            ps = rope.path[j]
+            seen[ps.at] = seen.get(ps.at, 0) + 1
+            key = f"{rope.id}@{ps.at}" if seen[ps.at] == 1 else f"{rope.id}@{ps.at}#{seen[ps.at]}"
+            if not ps.hardware or key not in result.deflection_deg:
+                continue
+            t1, t2 = tens[(rope.id, j - 1)], tens[(rope.id, j)]
+            theta = math.radians(result.deflection_deg[key])
+            load = math.sqrt(max(t1 * t1 + t2 * t2 - 2 * t1 * t2 * math.cos(theta), 0.0))
+            where = f"{rope.name} at {rig.point(ps.at).name}"
+            rows = [r for r in hardware.rows if r[0] == where]
+            assert rows, (where, hardware.rows)
+            assert rows[0][3] == format_force(load, rig.display.force), (rows[0], load)
+            checked += 1
+    assert checked >= 2
+
+
+def test_report_names_haulers_warnings_assumptions_and_the_full_caution(raft_report):
+    from solver.hauling import plan_for_result
+
+    rig, result, report, text = raft_report
+    load = next(p for p in rig.points if p.kind == "load")
+    plan = plan_for_result(rig, result, load.id)
+    assert f"Haulers needed for {load.name}: {plan.haulers}." in text
+    for w in result.warnings:
+        assert " ".join(w.message.split()) in text
+    for r in rig.ropes:
+        m = material_for(rig, r.material)
+        assert " ".join(m.source.split())[:60] in text  # rope specs with their sources
+    assert "Motion and friction" in text and "10:1" in text
+    for para in CAUTION_PARAGRAPHS:
+        assert " ".join(para.split()) in text
+
+
+def test_report_is_one_or_two_pages_with_a_plot(raft_report):
+    rig, result, report, text = raft_report
+    assert report.pages <= 2
+    assert len(pypdf.PdfReader(report.path).pages) == report.pages
+    assert f"page {report.pages} of {report.pages}" in text
+    assert "Mechanical advantage and peak anchor load as the haul force" in text
+    images = [img for page in pypdf.PdfReader(report.path).pages for img in page.images]
+    assert images, "the sweep plot is embedded as an image"
+
+
+def test_imperial_rig_report_is_letter_in_feet_and_pounds_force(qapp, tmp_path):
+    from sketchpad.report import write_report
+
+    rig = replace(load_rig(RAFT), display=Display("ft", "lbf"))
+    result = analyse(rig)
+    out = tmp_path / "imperial.pdf"
+    write_report(rig, out, result)
+    page = pypdf.PdfReader(out).pages[0]
+    assert (round(float(page.mediabox.width)), round(float(page.mediabox.height))) == (612, 792)  # ANSI Letter
+    text = pdf_text(out)
+    for s in result.segments:
+        assert format_force(s.tension_N, "lbf") in text
+        assert format_length(s.length_m, "ft") in text
+    numbers = text.split("Assumptions")[0]  # spec sources are quoted as published (often in kN)
+    assert not re.search(r"\d kN\b", numbers)
+    assert not re.search(r"\d m\b", numbers)
+    assert " lbf" in text.split("Assumptions")[1]  # the specs' own MBS still in the rig's unit
+
+
+def test_a_rig_that_does_not_solve_gets_a_report_that_says_so(qapp, tmp_path):
+    from sketchpad.report import write_report
+
+    rig = rig_from_dict(LOOSE_RIG)
+    out = tmp_path / "loose.pdf"
+    report = write_report(rig, out)
+    assert not report.result.ok
+    text = pdf_text(out)
+    assert "THE RIG DID NOT SOLVE" in text
+    assert "not held" in text and "P2" in text
+    assert "gives no forces" in text
+    assert "Rope pieces" not in text
+    for para in CAUTION_PARAGRAPHS:
+        assert " ".join(para.split()) in text
+
+
+def test_report_cli_end_to_end_and_its_exit_codes(qapp, tmp_path, capsys):
+    out = tmp_path / "cli.pdf"
+    assert main(["report", str(RAFT), "-o", str(out)]) == 0
+    assert "Kestrel Bend" in pdf_text(out)
+    bad = tmp_path / "bad.rig.json"
+    bad.write_text('{"format": "ropewright-rig", "version": 1, "points": [], "ropes": "x"}', encoding="utf-8")
+    assert main(["report", str(bad), "-o", str(tmp_path / "bad.pdf")]) == 2
+    err = capsys.readouterr().err
+    assert "bad.rig.json" in err and "Traceback" not in err
+    assert main(["report", str(RAFT), "-o", str(tmp_path / "r.png")]) == 2
+    assert "PDF" in capsys.readouterr().err
+    loose = tmp_path / "loose.rig.json"
+    loose.write_text(json.dumps(LOOSE_RIG), encoding="utf-8")
+    assert main(["report", str(loose), "-o", str(tmp_path / "loose.pdf")]) == 3
+    assert (tmp_path / "loose.pdf").exists()
+
+
+def test_directions_read_as_bearings_in_plan():
+    from sketchpad.report import direction_words
+
+    rig = load_rig(RAFT)
+    assert direction_words(rig, 0.0) == "toward 090° (E)"
+    assert direction_words(rig, 90.0) == "toward 000° (N)"
+    assert direction_words(rig, 225.0) == "toward 225° (SW)"
+    elev = replace(rig, view="elevation")
+    assert direction_words(elev, -30.0) == "30° below level, to the right"
+    assert direction_words(elev, 150.0) == "30° above level, to the left"
