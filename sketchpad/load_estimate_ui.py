@@ -14,7 +14,6 @@ from __future__ import annotations
 
 import logging
 import math
-import re
 from typing import Callable
 
 from PySide6.QtCore import Qt
@@ -42,19 +41,14 @@ from solver.result import Result
 
 log = logging.getLogger(__name__)
 
-#: m/s per unit of speed. 1 mph = 0.44704 m/s exactly (NIST SP 811); 1 km/h = 1/3.6 m/s by definition.
-SPEED_UNITS: dict[str, float] = {"m/s": 1.0, "mph": 0.44704, "km/h": 1.0 / 3.6}
-SPEED_ALIASES = {"m/s": "m/s", "ms": "m/s", "mps": "m/s", "mph": "mph", "km/h": "km/h", "kmh": "km/h", "kph": "km/h"}
-#: m² per unit of area. 1 ft = 0.3048 m exactly (NIST SP 811), so 1 ft² = 0.09290304 m².
-AREA_UNITS: dict[str, float] = {"m²": 1.0, "ft²": units.FT_IN_M**2}
-AREA_ALIASES = {"m²": "m²", "m2": "m²", "m^2": "m²", "sqm": "m²", "ft²": "ft²", "ft2": "ft²", "ft^2": "ft²", "sqft": "ft²"}
+SPEED_UNITS, SPEED_ALIASES = units.SPEED_FACTORS, units.SPEED_ALIASES
+AREA_UNITS, AREA_ALIASES = units.AREA_FACTORS, units.AREA_ALIASES
 #: Sanity bound, m/s (no source): faster than any river current; it catches km/h typed as m/s.
 MAX_SPEED_M_S = 15.0
 #: Sanity bound on a typed drag coefficient (no source): tabulated bluff-body values stay below about 2.5.
 MAX_CD = 5.0
 TYPED_CD = "__typed__"
 
-_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 
 
 class UnitNumberField(QuantityField):
@@ -73,26 +67,8 @@ class UnitNumberField(QuantityField):
         return f"{v:.4g} {self.unit()}"
 
     def parse(self, text: str):
-        raw = text.strip()
-        if not raw:
-            raise UnitError(f"{self.what} cannot be empty")
-        if re.search(r"\d,\d", raw) and "." not in raw:
-            raise UnitError(f"{raw!r}: use a point for decimals (e.g. 1.5), not a comma")
-        m = _NUMBER.match(raw.replace("\u2212", "-"))
-        if not m:
-            raise UnitError(f"{raw!r} is not a number; type e.g. 2.5 {self.unit()}")
-        number = float(m.group(1))
-        if not math.isfinite(number):
-            raise UnitError(f"{raw!r} is not a finite number")
-        unit_text = m.group(2).replace(" ", "").lower()
-        if unit_text:
-            unit = self.aliases.get(unit_text)
-            if unit is None:
-                raise UnitError(f"{raw!r}: unknown unit {m.group(2)!r}; use {', '.join(self.table)}")
-        else:
-            unit = self.unit()
-        value = number * self.table[unit]
-        self._check_bounds(value, raw)
+        value = units.parse_in_table(text, self.unit(), self.table, self.aliases, self.what)
+        self._check_bounds(value, text.strip())
         return value
 
     def _fmt_bound(self, v: float) -> str:

@@ -22,6 +22,15 @@ LBF_IN_N = 4.4482216152605  # exact: 0.45359237 kg x 9.80665 m/s^2, NIST SP 811
 LENGTH_FACTORS: dict[str, float] = {"m": 1.0, "ft": FT_IN_M}
 FORCE_FACTORS: dict[str, float] = {"N": 1.0, "kN": 1000.0, "lbf": LBF_IN_N}
 
+#: m/s per unit of speed: 1 mph = 0.44704 m/s exactly (NIST SP 811); 1 km/h = 1/3.6 m/s by definition
+SPEED_FACTORS: dict[str, float] = {"m/s": 1.0, "mph": 0.44704, "km/h": 1.0 / 3.6}
+SPEED_ALIASES: dict[str, str] = {"m/s": "m/s", "ms": "m/s", "mps": "m/s", "mph": "mph",
+                                 "km/h": "km/h", "kmh": "km/h", "kph": "km/h"}
+#: m^2 per unit of area: 1 ft^2 = 0.3048^2 m^2 exactly (NIST SP 811)
+AREA_FACTORS: dict[str, float] = {"m²": 1.0, "ft²": FT_IN_M**2}
+AREA_ALIASES: dict[str, str] = {"m²": "m²", "m2": "m²", "m^2": "m²", "sqm": "m²",
+                                "ft²": "ft²", "ft2": "ft²", "ft^2": "ft²", "sqft": "ft²"}
+
 #: the unit systems offered to a user: (length unit, force unit)
 SYSTEMS: dict[str, tuple[str, str]] = {"si": ("m", "kN"), "imperial": ("ft", "lbf")}
 
@@ -34,7 +43,7 @@ _UNIT_ALIASES: dict[str, str] = {
     "lbf": "force_pound", "lb": "force_pound", "lbs": "force_pound", "pound": "force_pound", "pounds": "force_pound",
     "kgf": "kilogram_force", "kg": "kilogram_force",
 }
-_NUMBER_UNIT = re.compile(r"^\s*([-+]?(?:\d[\d_]*\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([A-Za-z']*)\s*$")
+_NUMBER_UNIT = re.compile(r"^\s*([-+]?(?:\d[\d_]*\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([A-Za-z'/²^0-9 ]*?)\s*$")
 
 
 @lru_cache(maxsize=1)
@@ -101,23 +110,27 @@ def format_force(newtons: float, unit: str = "kN", digits: int | None = None) ->
     return f"{text} {unit}"
 
 
-def _parse(text: str, default_unit: str, dimension: str, factors: dict[str, float], what: str) -> float:
-    """Read typed text as an SI quantity of ``dimension``; bare numbers are in ``default_unit``."""
-    _check_unit(default_unit, factors, what)
+def _read_number(text: str, default_unit: str, what: str) -> tuple[float, str, str]:
+    """Split typed text into (number, unit text, raw text); UnitError in words if it is not a number."""
     raw = (text or "").strip()
     if not raw:
         raise UnitError(f"enter a {what}, e.g. 2.5 {default_unit}")
     cleaned = raw.replace("\u2212", "-")
     if re.search(r"\d,\d{1,2}(\D|$)", cleaned) and "." not in cleaned:
         raise UnitError(f"{raw!r}: use a point for decimals (e.g. 12.5), not a comma")
-    cleaned = cleaned.replace(",", "")
-    m = _NUMBER_UNIT.match(cleaned)
+    m = _NUMBER_UNIT.match(cleaned.replace(",", ""))
     if not m:
-        raise UnitError(f"{raw!r} is not a {what}; type a number, optionally with a unit like {default_unit}")
+        raise UnitError(f"{raw!r} is not a number: type a {what} like 2.5 or 2.5 {default_unit}")
     number = float(m.group(1).replace("_", ""))
-    unit_text = m.group(2)
     if not math.isfinite(number):
         raise UnitError(f"{raw!r} is not a finite number")
+    return number, m.group(2), raw
+
+
+def _parse(text: str, default_unit: str, dimension: str, factors: dict[str, float], what: str) -> float:
+    """Read typed text as an SI quantity of ``dimension``; bare numbers are in ``default_unit``."""
+    _check_unit(default_unit, factors, what)
+    number, unit_text, raw = _read_number(text, default_unit, what)
     if not unit_text:
         return number * factors[default_unit]
     if unit_text in factors:
@@ -131,6 +144,29 @@ def _parse(text: str, default_unit: str, dimension: str, factors: dict[str, floa
         raise UnitError(f"{raw!r} is not a {what} (unit {unit_text!r})")
     base = "meter" if dimension == "[length]" else "newton"
     return float(q.to(base).magnitude)
+
+
+def parse_in_table(text: str, default_unit: str, factors: dict[str, float], aliases: dict[str, str],
+                   what: str) -> float:
+    """Typed text in one of a few named units (speed, area) as SI; bare numbers are in ``default_unit``."""
+    _check_unit(default_unit, factors, what)
+    number, unit_text, raw = _read_number(text, default_unit, what)
+    if not unit_text:
+        return number * factors[default_unit]
+    unit = aliases.get(unit_text.replace(" ", "").lower()) or aliases.get(unit_text)
+    if unit is None:
+        raise UnitError(f"{raw!r}: unknown unit {unit_text!r}; use {', '.join(factors)}")
+    return number * factors[unit]
+
+
+def parse_speed(text: str, unit: str = "m/s") -> float:
+    """Typed current speed (``"2"``, ``"4.5 mph"``, ``"7 km/h"``) in m/s."""
+    return parse_in_table(text, unit, SPEED_FACTORS, SPEED_ALIASES, "speed")
+
+
+def parse_area(text: str, unit: str = "m²") -> float:
+    """Typed area (``"1.5"``, ``"16 ft2"``) in m²."""
+    return parse_in_table(text, unit, AREA_FACTORS, AREA_ALIASES, "area")
 
 
 def parse_length(text: str, unit: str = "m") -> float:

@@ -62,7 +62,7 @@ def test_parse_length_reads_what_riggers_type(text, unit, expected_m):
 
 @pytest.mark.parametrize("text, fragment", [
     ("12,5 kN", "point for decimals"),
-    ("abc", "not a force"),
+    ("abc", "not a number"),
     ("3 m", "not a force"),
     ("", "enter a force"),
     ("5 parsecs", "unknown unit"),
@@ -88,3 +88,22 @@ def test_formatting_shows_unit_and_sensible_digits():
 def test_unknown_unit_names_the_choices():
     with pytest.raises(UnitError, match="N, kN, lbf"):
         units.force_to(1.0, "kip")
+
+
+@pytest.mark.parametrize("text, unit, expected", [
+    ("4.5 mph", "m/s", 4.5 * 0.44704),  # 1 mph = 0.44704 m/s exactly, NIST SP 811
+    ("7 km/h", "m/s", 7 / 3.6),  # km/h by definition
+    ("2", "mph", 2 * 0.44704),
+])
+def test_parse_speed_in_the_units_a_river_report_uses(text, unit, expected):
+    assert units.parse_speed(text, unit) == pytest.approx(expected, rel=1e-12)
+
+
+def test_parse_area_in_square_feet_uses_the_exact_foot():
+    # 1 ft = 0.3048 m exactly (NIST SP 811), so 16 ft^2 = 16 x 0.09290304 m^2
+    assert units.parse_area("16 ft2", "m²") == pytest.approx(16 * 0.09290304, rel=1e-12)
+
+
+def test_unknown_speed_unit_names_the_choices():
+    with pytest.raises(UnitError, match="m/s, mph, km/h"):
+        units.parse_speed("3 knots")
