@@ -66,7 +66,7 @@ def type_into(qtbot, field, text: str) -> None:
     "typed, words",
     [
         ("12,5 kN", "point for decimals"),
-        ("abc", "not a force"),
+        ("abc", "not a number"),
         ("-3", "more than zero"),
         ("7 m", "not a force"),
     ],
