@@ -56,9 +56,8 @@ MARGIN_IN = 0.6  # page margin, inches
 DPI = 96.0
 BODY_PT, SMALL_PT, TABLE_PT, HEAD_PT, TITLE_PT = 9.0, 7.5, 8.0, 11.0, 16.0
 #: (drawing height, plot height) tried in turn until the report fits on two pages
-LAYOUTS = ((400.0, 230.0), (350.0, 200.0), (300.0, 180.0))
+LAYOUTS = ((400.0, 240.0), (360.0, 220.0), (320.0, 200.0))
 KEY_H_PX = 46.0
-PLOT_H_PX = 230.0
 PLOT_DPI = 200
 SWEEP_STEPS = 13
 SWEEP_FROM, SWEEP_TO = 0.25, 2.0  # haul force range as fractions of the drawn haul force
@@ -314,21 +313,26 @@ def sweep_target(rig: Rig) -> tuple[str, float, str] | None:
     return None
 
 
-def sweep_plot(rig: Rig, width_px: float, height_px: float) -> tuple[QImage | None, str]:
-    """A PNG-backed QImage of MA and peak anchor load against the haul force, and a caption (or why not)."""
+def haul_sweep(rig: Rig):
+    """(sweep table, drawn value N, axis words) over the haul force, or (None, 0, reason) when there is none."""
     from solver.errors import RopewrightError
     from solver.sweep import sweep, values_between
 
     target = sweep_target(rig)
     if target is None:
-        return None, "No plot: the rig has no haul force or external force to vary."
+        return None, 0.0, "No plot: the rig has no haul force or external force to vary."
     vary, drawn, words = target
     try:
         table = sweep(rig, vary, values_between(drawn * SWEEP_FROM, drawn * SWEEP_TO, SWEEP_STEPS))
     except RopewrightError as exc:
-        return None, f"No plot: {exc}"
+        return None, 0.0, f"No plot: {exc}"
     if all(r["status"] != "ok" for r in table.rows):
-        return None, "No plot: the rig did not solve at any haul force in the range."
+        return None, 0.0, "No plot: the rig did not solve at any haul force in the range."
+    return table, drawn, words
+
+
+def plot_image(rig: Rig, table, drawn: float, words: str, width_px: float, height_px: float) -> QImage | None:
+    """MA (actual, ideal) and peak anchor load against the varied force, as a QImage (matplotlib Agg)."""
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
@@ -358,11 +362,23 @@ def sweep_plot(rig: Rig, width_px: float, height_px: float) -> tuple[QImage | No
     buf = io.BytesIO()
     fig.savefig(buf, format="png", dpi=PLOT_DPI)
     image = QImage.fromData(buf.getvalue(), "PNG")
+    return None if image.isNull() else image
+
+
+def plot_caption(rig: Rig, table, drawn: float, words: str) -> str:
+    fu = rig.display.force
     failed = f" Grey bands: {len(table.failed)} values that did not solve." if table.failed else ""
-    caption = (f"Mechanical advantage and peak anchor load as the {words} goes from "
-               f"{format_force(drawn * SWEEP_FROM, fu)} to {format_force(drawn * SWEEP_TO, fu)} "
-               f"({SWEEP_STEPS} solves); dotted line: as drawn ({format_force(drawn, fu)}).{failed}")
-    return (None if image.isNull() else image), caption
+    return (f"Mechanical advantage and peak anchor load as the {words} goes from "
+            f"{format_force(drawn * SWEEP_FROM, fu)} to {format_force(drawn * SWEEP_TO, fu)} "
+            f"({SWEEP_STEPS} solves); dotted line: as drawn ({format_force(drawn, fu)}).{failed}")
+
+
+def sweep_plot(rig: Rig, width_px: float, height_px: float) -> tuple[QImage | None, str]:
+    """The plot image of MA and peak anchor load against the haul force, and its caption (or why there is none)."""
+    table, drawn, words = haul_sweep(rig)
+    if table is None:
+        return None, words
+    return plot_image(rig, table, drawn, words, width_px, height_px), plot_caption(rig, table, drawn, words)
 
 
 # --- page layout --------------------------------------------------------------------------------
@@ -460,14 +476,18 @@ class Flow:
 
     def table(self, t: Table) -> None:
         """A table with a shaded header (repeated on a new page), zebra rows, red rows below the safety factor."""
-        self.heading(t.title)
-        if not t.rows:
-            self.text("None in this rig.", _font(BODY_PT, italic=True), MUTED)
-            return
         font, bold = _font(TABLE_PT), _font(TABLE_PT, bold=True)
         total = sum(t.widths)
         cols = [self.width * w / total for w in t.widths]
         pad = 4.0
+        if t.rows:  # keep the heading with the table's header and first row
+            first = max(self.text_height(c, bold, cols[i] - 2 * pad) for i, c in enumerate(t.header)) + \
+                max(self.text_height(c, font, cols[i] - 2 * pad) for i, c in enumerate(t.rows[0])) + 4 * pad
+            self.need(first + self.text_height(t.title, _font(HEAD_PT, bold=True)) + 16)
+        self.heading(t.title)
+        if not t.rows:
+            self.text("None in this rig.", _font(BODY_PT, italic=True), MUTED)
+            return
 
         def row_h(cells, f) -> float:
             return max(self.text_height(c, f, cols[i] - 2 * pad) for i, c in enumerate(cells)) + 2 * pad
@@ -574,7 +594,7 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
             flow.table(t)
         if plot is not None:
             image, caption = plot
-            flow.heading(f"Mechanical advantage and anchor load against haul force ({fu})")
+            flow.heading(f"Mechanical advantage and peak anchor load against the pulling force ({fu})")
             if image is not None:
                 cap_h = flow.text_height(caption, _font(SMALL_PT, italic=True))
                 flow.need(sizes[1] + cap_h + 6)
@@ -615,13 +635,25 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     m = MARGIN_IN * DPI
     footer_h = 28.0
     content = QRectF(m, m, page_w - 2 * m, page_h - 2 * m - footer_h)
-    plot = sweep_plot(rig, content.width(), PLOT_H_PX) if result.ok else None
+    sweep_data = haul_sweep(rig) if result.ok else (None, 0.0, "")
+    plots: dict[float, tuple[QImage | None, str]] = {}
+
+    def plot_for(h: float) -> tuple[QImage | None, str] | None:
+        table, drawn, words = sweep_data
+        if not result.ok:
+            return None
+        if table is None:
+            return None, words
+        if h not in plots:
+            plots[h] = (plot_image(rig, table, drawn, words, content.width() * 0.92, h),
+                        plot_caption(rig, table, drawn, words))
+        return plots[h]
     from solver.cautions import SHORT_CAUTION
 
     # pass 1: count pages, shrinking the drawing and the plot until two pages hold it all (if they can)
     for sizes in LAYOUTS:
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
-        _compose(counter, rig, result, drawing, when, source, plot, sizes)
+        _compose(counter, rig, result, drawing, when, source, plot_for(sizes[1]), sizes)
         total = counter.finish()
         if total <= 2:
             break
@@ -640,7 +672,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     try:
         painter.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing | QPainter.SmoothPixmapTransform)
         flow = Flow(writer, painter, content, footer, writer.newPage)
-        _compose(flow, rig, result, drawing, when, source, plot, sizes)
+        _compose(flow, rig, result, drawing, when, source, plot_for(sizes[1]), sizes)
         pages = flow.finish()
     finally:
         painter.end()
