@@ -14,7 +14,7 @@ import logging
 import math
 from dataclasses import dataclass
 
-from PySide6.QtCore import QPoint, QPointF, QRectF, Qt, Signal
+from PySide6.QtCore import QEvent, QPoint, QPointF, QRectF, Qt, Signal
 from PySide6.QtGui import QFontMetricsF, QKeyEvent, QMouseEvent, QPainter, QPainterPath, QPolygonF, QWheelEvent
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsScene, QGraphicsView
 
@@ -393,6 +393,14 @@ class SketchView(QGraphicsView):
         if self.tool is not None and event.button() == Qt.LeftButton:
             self.tool.double_click(self._event(event))
         event.accept()
+
+    def event(self, event) -> bool:  # noqa: A003
+        # a key the tool claims (Backspace while drawing a rope) must beat the window's shortcut
+        claims = getattr(self.tool, "overrides_shortcut", None)
+        if event.type() == QEvent.ShortcutOverride and claims is not None and claims(event):
+            event.accept()
+            return True
+        return super().event(event)
 
     def keyPressEvent(self, event: QKeyEvent) -> None:  # noqa: N802
         key = event.key()

@@ -21,7 +21,7 @@ from PySide6.QtWidgets import QGraphicsLineItem, QGraphicsPathItem, QGraphicsRec
 from sketchpad import theme
 from sketchpad.geometry import to_scene
 from sketchpad.items import fmt_length
-from solver.model import Display, Feature, Force, Pass, Point, Rig, Rope, Site
+from solver.model import MIDDLE_HOWS, Display, Feature, Force, Pass, Point, Rig, Rope, Site
 
 log = logging.getLogger(__name__)
 
@@ -84,17 +84,86 @@ def delete_keys(rig: Rig, keys) -> Rig:
     return rig
 
 
-def finish_passes(rig: Rig, picks: list[tuple[str, str]], defaults: ToolDefaults) -> tuple[Pass, ...]:
-    """Passes for a rope clicked through ``picks`` = [(point id, how)]: ends tied, a haul end hauled."""
+def _spec_ok(rig: Rig, how: str, hw_id: str | None) -> bool:
+    """True if ``hw_id`` names hardware (embedded or built-in) that a ``how`` pass can run over."""
+    if not hw_id:
+        return False
+    try:
+        from solver.materials import hardware_for
+
+        hw = hardware_for(rig, hw_id)
+    except Exception:  # unknown id (RigModelError) or no library: not usable
+        return False
+    if how == "edge":
+        return hw.kind == "edge" and hw.friction_coefficient is not None
+    return hw.kind != "edge" and hw.efficiency is not None
+
+
+def hardware_options(rig: Rig, how: str) -> tuple[tuple[str, str], ...]:
+    """(id, name) of every spec a ``how`` ("pulley" or "edge") pass can use: the rig's own first, then the library."""
+    try:
+        from solver.materials import LIBRARY_HARDWARE
+    except ImportError:
+        LIBRARY_HARDWARE = {}
+    out: dict[str, str] = {}
+    for hw in tuple(rig.hardware) + tuple(v for k, v in LIBRARY_HARDWARE.items() if k not in {h.id for h in rig.hardware}):
+        if _spec_ok(rig, how, hw.id):
+            out.setdefault(hw.id, hw.name)
+    return tuple(out.items())
+
+
+def pass_hardware(rig: Rig, how: str, defaults: ToolDefaults, wanted: str | None = None) -> str | None:
+    """Hardware a new ``how`` pass names: ``wanted`` if it fits, else the toolbar's, else the first that fits.
+
+    Pulley and edge passes always name hardware (rig-format.md); tied, sliding and
+    hauled passes name none.
+    """
+    if how not in ("pulley", "edge"):
+        return None
+    fallback = "pulley-large" if how == "pulley" else "edge-rock"
+    toolbar = defaults.pulley_hardware if how == "pulley" else defaults.edge_hardware
+    for candidate in (wanted, toolbar, fallback):
+        if _spec_ok(rig, how, candidate):
+            return candidate
+    options = hardware_options(rig, how)
+    return options[0][0] if options else fallback
+
+
+def rope_material(rig: Rig, defaults: ToolDefaults) -> str:
+    """The material id for a new rope: the toolbar's if the rig or the library has it, else kern-11."""
+    if any(m.id == defaults.material for m in rig.materials):
+        return defaults.material
+    try:
+        from solver.materials import LIBRARY_MATERIALS
+    except ImportError:
+        return defaults.material
+    return defaults.material if defaults.material in LIBRARY_MATERIALS else "kern-11"
+
+
+def finish_passes(rig: Rig, picks, defaults: ToolDefaults) -> tuple[Pass, ...]:
+    """Passes for a rope clicked through ``picks`` = [(point id, how[, hardware])] that the file format accepts.
+
+    The first pass is tied; the last is hauled at a haul team and tied anywhere
+    else; middle passes keep their kind (anything else becomes tied); a point
+    clicked twice in a row counts once; pulley and edge passes always name
+    hardware that fits (:func:`pass_hardware`).
+    """
+    clean: list[tuple[str, str, str | None]] = []
+    for pick in picks:
+        pid, how = pick[0], pick[1]
+        if clean and clean[-1][0] == pid:
+            continue
+        clean.append((pid, how, pick[2] if len(pick) > 2 else None))
     passes = []
-    n = len(picks)
-    for i, (pid, how) in enumerate(picks):
+    n = len(clean)
+    for i, (pid, how, hw) in enumerate(clean):
         if i == 0:
             how = "tied"
         elif i == n - 1:
             how = "hauled" if rig.has_point(pid) and rig.point(pid).kind == "haul" else "tied"
-        hw = defaults.pulley_hardware if how == "pulley" else defaults.edge_hardware if how == "edge" else None
-        passes.append(Pass(pid, how, hw))
+        elif how not in MIDDLE_HOWS:
+            how = "tied"
+        passes.append(Pass(pid, how, pass_hardware(rig, how, defaults, hw)))
     return tuple(passes)
 
 
@@ -175,6 +244,10 @@ class Tool:
     def double_click(self, ev) -> None: ...
 
     def key(self, event: QKeyEvent) -> bool:
+        return False
+
+    def overrides_shortcut(self, event: QKeyEvent) -> bool:
+        """True if this key belongs to the tool now rather than to a window shortcut (e.g. Backspace)."""
         return False
 
     def finish(self) -> None: ...
@@ -324,81 +397,297 @@ class PlacePointTool(Tool):
 
 
 class RopeTool(Tool):
-    """Click through points to lay a rope; empty space makes a free point; Enter, double-click or a haul point ends it."""
+    """Click through points to lay a rope from the load end; only ever commits a rope the file format accepts.
+
+    Empty space makes a free point (pass kind from the modifier keys or the
+    toolbar).  A plain click on an existing point asks how the rope passes it
+    (:mod:`sketchpad.pass_chooser`) once the double-click time has gone by; a
+    modifier skips the question (Shift pulley, Ctrl tied, Alt sliding, Ctrl+Shift
+    edge).  A haul team ends the rope hauled; Enter or a double-click ends it
+    tied.  Right-click or Backspace takes back the last pass; Esc drops the rope.
+    A dashed line runs from the last pass to the cursor.
+    """
 
     name = "rope"
     label = "Draw rope"
-    hint = ("Click the points the rope goes through, from the load end. Empty space makes a free point. "
-            "Shift: pulley, Ctrl: tied, Alt: sliding, Ctrl+Shift: edge. Enter or double-click ends; a haul team ends it hauled.")
+    hint = ("Click the points the rope goes through, from the load end; empty space makes a free point. "
+            "A click on a point asks how the rope passes it (Shift pulley, Ctrl tied, Alt sliding, Ctrl+Shift edge "
+            "skip the question). Enter or double-click ends; a haul team ends it hauled. "
+            "Right-click or Backspace takes back the last pass.")
 
     def __init__(self, view) -> None:
         super().__init__(view)
         self._start: Rig | None = None
         self._work: Rig | None = None  # start + the free points made so far
-        self._picks: list[tuple[str, str]] = []
+        self._picks: list[tuple[str, str, str | None]] = []  # (point id, how, hardware)
+        self._created: list[str] = []  # free points this rope made, in order
         self._line: QGraphicsLineItem | None = None
+        self._cursor: QPointF | None = None
+        self._hover: str | None = None
+        self.chooser = None  # a pass_chooser.Chooser; None: the popup menu, made on first use
+        self.chooser_delay_ms: int | None = None  # None: the platform's double-click time
+        self._timer = None
+        self._asking: int | None = None  # serial of the open question, if any
+        self._serial = 0
 
     @property
     def active(self) -> bool:
         return self._start is not None
 
+    @property
+    def picks(self) -> list[tuple[str, str, str | None]]:
+        """The passes clicked so far: (point id, how, hardware)."""
+        return list(self._picks)
+
+    @property
+    def asking(self) -> bool:
+        """True while a click waits for the pass chooser (or for the double-click time)."""
+        return self._asking is not None or (self._timer is not None and self._timer.isActive())
+
+    # --- clicks -----------------------------------------------------------------------------
     def press(self, ev) -> None:
+        if ev.button == Qt.RightButton:
+            if self.active:
+                self.take_back()
+            return
         if ev.button != Qt.LeftButton:
+            return
+        self._settle_question()
+        pid = self.view.pick_point(ev.view_pos)
+        rig = self._work if self._work is not None else self.document.rig
+        if pid is not None and rig.point(pid).kind == "person":
+            self.status(f"{rig.point(pid).name} marks a person, not part of the rig: a rope cannot pass there.")
+            return
+        if pid is None:
+            x, y = self.view.snap(ev.scene_pos)
+            pid = self._point_at(rig, x, y)
+            if pid is not None and rig.point(pid).kind == "person":
+                self.status(f"{rig.point(pid).name} marks a person, not part of the rig: a rope cannot pass there.")
+                return
+        if pid is not None and self._picks and self._picks[-1][0] == pid:
+            self.status(f"The rope is already at {rig.point(pid).name}: a rope cannot pass the same point twice "
+                        "in a row. Click the next point, or Enter to end here.")
             return
         if self._start is None:
             self._start = self.document.rig
             self._work = self._start
-        pid = self.view.pick_point(ev.view_pos)
-        if pid is not None and self._work.point(pid).kind == "person":
-            self.status("A person marker is not part of the rig: a rope cannot pass it.")
-            return
         if pid is None:
-            x, y = self.view.snap(ev.scene_pos)
             self._work, pid = add_point(self._work, "point", x, y)
-        if self._picks and self._picks[-1][0] == pid:
+            self._created.append(pid)
+            self._add_pick(pid, how_for_modifiers(ev.modifiers, self.defaults.how))
             return
-        self._picks.append((pid, how_for_modifiers(ev.modifiers, self.defaults.how)))
-        self._show()
-        if len(self._picks) >= 2 and self._work.point(pid).kind == "haul":
+        point = self._work.point(pid)
+        if not self._picks:
+            self._add_pick(pid, "tied")
+            return
+        if point.kind == "haul":
+            self._add_pick(pid, "hauled")
             self.finish()
+            return
+        how = how_for_modifiers(ev.modifiers, "")
+        if how:
+            self._add_pick(pid, how)
+            return
+        self._add_pick(pid, self.defaults.how)  # shown as the default while the chooser asks
+        self._ask_later(ev)
 
-    def _with_rope(self) -> Rig:
-        if len(self._picks) < 2:
-            return self._work
-        rig, _ = add_rope(self._work, finish_passes(self._work, self._picks, self.defaults), self.defaults.material)
-        return rig
+    @staticmethod
+    def _point_at(rig: Rig, x: float, y: float) -> str | None:
+        """An existing point exactly at site (x, y) (a grid snap can land on one), else None."""
+        for p in rig.points:
+            if math.isclose(p.x, x, abs_tol=1e-9) and math.isclose(p.y, y, abs_tol=1e-9):
+                return p.id
+        return None
 
-    def _show(self) -> None:
-        self.document.preview(self._with_rope())
-        if self._line is None:
-            self._line = self._preview_item(QGraphicsLineItem())
-            self._line.setPen(theme.cosmetic_pen(theme.PREVIEW, 1.5, Qt.DashLine))
-        n = len(self._picks)
-        self.status(f"Rope: {n} point{'s' if n != 1 else ''}. Next point, or Enter to finish.")
-
-    def move(self, ev) -> None:
-        if self._line is not None and self._picks:
-            p = self.document.rig.point(self._picks[-1][0])
-            self._line.setLine(QLineF(to_scene(p.x, p.y), ev.scene_pos))
+    def _add_pick(self, pid: str, how: str, hardware: str | None = None) -> None:
+        self._picks.append((pid, how, pass_hardware(self._work, how, self.defaults, hardware)))
+        self._show()
 
     def double_click(self, ev) -> None:
         self.finish()
 
+    def take_back(self) -> None:
+        """Remove the last pass (and the free point it made, if nothing else uses it); none left drops the rope."""
+        if not self._picks:
+            return
+        self._drop_question()
+        pid = self._picks.pop()[0]
+        name = self._work.point(pid).name if self._work.has_point(pid) else pid
+        if pid in self._created and all(p[0] != pid for p in self._picks):
+            self._created.remove(pid)
+            self._work = self._work.without_point(pid)
+        if not self._picks:
+            self.cancel()
+            self.status(f"Took back {name}: no rope left.")
+            return
+        self._show(f"Took back {name}. ")
+
+    def key(self, event: QKeyEvent) -> bool:
+        if event.key() == Qt.Key_Backspace and self.active:
+            self.take_back()
+            return True
+        return False
+
+    def overrides_shortcut(self, event: QKeyEvent) -> bool:
+        """Backspace takes back a pass while a rope is being drawn (instead of deleting the selection)."""
+        return event.key() == Qt.Key_Backspace and event.modifiers() == Qt.NoModifier and self.active
+
+    # --- the pass chooser -------------------------------------------------------------------
+    def _ask_later(self, ev) -> None:
+        """Ask how the rope passes the point just clicked, after the double-click time (a double-click ends there)."""
+        from PySide6.QtCore import QTimer
+        from PySide6.QtWidgets import QApplication
+
+        delay = self.chooser_delay_ms
+        if delay is None:
+            delay = QApplication.doubleClickInterval()
+        self._global_pos = self.view.viewport().mapToGlobal(ev.view_pos)
+        if delay <= 0:
+            self._ask()
+            return
+        if self._timer is None:
+            self._timer = QTimer(self.view)
+            self._timer.setSingleShot(True)
+            self._timer.timeout.connect(self._ask)
+        self._timer.start(delay)
+
+    def _ask(self) -> None:
+        if not self._picks:
+            return
+        from sketchpad.pass_chooser import PassRequest, PopupChooser
+
+        if self.chooser is None:
+            self.chooser = PopupChooser(self.view.viewport())
+        pid, how, _hw = self._picks[-1]
+        d = self.defaults
+        request = PassRequest(
+            point_id=pid, point_name=self._work.point(pid).name, default_how=d.how,
+            pulley_hardware=pass_hardware(self._work, "pulley", d), edge_hardware=pass_hardware(self._work, "edge", d),
+            pulley_options=hardware_options(self._work, "pulley"), edge_options=hardware_options(self._work, "edge"),
+            global_pos=getattr(self, "_global_pos", None))
+        self._serial += 1
+        serial = self._serial
+        self._asking = serial
+        self.status(f"How does the rope pass {request.point_name}? 1-4 or T P S E, Enter for {d.how}, Esc drops the click.")
+        self.chooser(request, lambda choice: self._answered(serial, choice))
+
+    def _answered(self, serial: int, choice) -> None:
+        if serial != self._asking or not self._picks:
+            return  # the rope moved on (finished, cancelled, taken back) while the question was open
+        self._asking = None
+        pid = self._picks[-1][0]
+        name = self._work.point(pid).name
+        if choice is None:
+            self._picks.pop()
+            if not self._picks:
+                self.cancel()
+                self.status(f"Click on {name} dropped.")
+                return
+            self._show(f"Click on {name} dropped. ")
+            return
+        if choice.end:
+            self._picks[-1] = (pid, "tied", None)
+            self.finish()
+            return
+        how = choice.how if choice.how in MIDDLE_HOWS else "tied"
+        self._picks[-1] = (pid, how, pass_hardware(self._work, how, self.defaults, choice.hardware))
+        self._show()
+
+    def _settle_question(self) -> None:
+        """A new click while a question is pending: the pending pass keeps the default kind."""
+        if self._timer is not None and self._timer.isActive():
+            self._timer.stop()
+        self._close_chooser()
+
+    def _drop_question(self) -> None:
+        if self._timer is not None:
+            self._timer.stop()
+        self._close_chooser()
+
+    def _close_chooser(self) -> None:
+        self._asking = None
+        close = getattr(self.chooser, "close", None)
+        if callable(close):
+            close()
+
+    # --- preview ----------------------------------------------------------------------------
+    def _with_rope(self) -> Rig:
+        if len(self._picks) < 2:
+            return self._work
+        rig, _ = add_rope(self._work, finish_passes(self._work, self._picks, self.defaults),
+                          rope_material(self._work, self.defaults))
+        return rig
+
+    def _describe(self) -> str:
+        parts = []
+        for i, (pid, how, hw) in enumerate(self._picks):
+            name = self._work.point(pid).name
+            if 0 < i:
+                parts.append(f"{name} ({how if how != 'pulley' and how != 'edge' else hw})")
+            else:
+                parts.append(name)
+        return " → ".join(parts)
+
+    def _show(self, prefix: str = "") -> None:
+        self.document.preview(self._with_rope())
+        if self._line is None:
+            self._line = self._preview_item(QGraphicsLineItem())
+            self._line.setPen(theme.cosmetic_pen(theme.PREVIEW, 1.5, Qt.DashLine))
+        self._update_line()
+        self.status(f"{prefix}Rope: {self._describe()}. Next point; Enter or double-click ends; "
+                    "right-click or Backspace takes back the last.")
+
+    def _update_line(self) -> None:
+        if self._line is None:
+            return
+        if not self._picks or self._cursor is None:
+            self._line.setVisible(False)
+            return
+        p = self._work.point(self._picks[-1][0])
+        x, y = self.view.snap(self._cursor)
+        self._line.setLine(QLineF(to_scene(p.x, p.y), to_scene(x, y)))
+        self._line.setVisible(True)
+
+    def move(self, ev) -> None:
+        self._cursor = ev.scene_pos
+        self._update_line()
+        if not self.active:
+            return
+        pid = self.view.pick_point(ev.view_pos)
+        if pid == self._hover:
+            return
+        self._hover = pid
+        if pid is None or not self._work.has_point(pid):
+            return
+        p = self._work.point(pid)
+        if p.kind == "person":
+            self.status(f"{p.name} marks a person: a rope cannot pass there.")
+        elif self._picks and self._picks[-1][0] == pid:
+            self.status(f"The rope is already at {p.name}.")
+        elif p.kind == "haul":
+            self.status(f"Click to end the rope hauled by the team at {p.name}.")
+
+    # --- ending -----------------------------------------------------------------------------
     def finish(self) -> None:
         if self._start is None:
             return
+        self._drop_question()
         if len(self._picks) < 2:
             self.cancel()
-            self.status("A rope needs at least two points.")
+            self.status("A rope needs at least two points: nothing was drawn.")
             return
         rig = self._with_rope()
         start = self._start
         self._reset()
-        self.document.apply(rig, f"Draw rope {rig.ropes[-1].id}", before=start)
-        self.scene.select_keys([("rope", rig.ropes[-1].id)])
+        rid = rig.ropes[-1].id
+        self.document.apply(rig, f"Draw rope {rid}", before=start)
+        self.scene.select_keys([("rope", rid)])
+        self.status(f"Drew {rid}. Click the start of the next rope, or Esc.")
 
     def _reset(self) -> None:
-        self._start, self._work, self._picks = None, None, []
+        self._drop_question()
+        self._start, self._work, self._picks, self._created = None, None, [], []
+        self._hover = None
         self._remove(self._line)
         self._line = None
 
@@ -407,6 +696,7 @@ class RopeTool(Tool):
 
     def cancel(self) -> bool:
         if self._start is None:
+            self._drop_question()
             return False
         start = self._start
         self._reset()
