@@ -116,7 +116,7 @@ def test_calibrate_by_two_clicks_then_measure_that_distance(main_window, mouse, 
     assert img0 is not None and img0.data_base64 and img0.file is None  # unsaved sketch: picture kept inside
     w.view.zoom_to_fit()
     asked = _calibrate(w, mouse, MARK_A, MARK_B, ["abc", "15 m"])
-    assert len(asked) == 2 and "not a length" in asked[1]  # the bad answer is named, then asked again
+    assert len(asked) == 2 and "not a number" in asked[1]  # the bad answer is named, then asked again
     img = w.document.rig.site.image
     px = _screen_px_m(w.view)
     # the clicks land on whole screen pixels: allow one screen pixel at each end, in picture pixels
