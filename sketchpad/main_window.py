@@ -371,7 +371,9 @@ class MainWindow(QMainWindow):
             "Tools: V select, A anchor, L load, H haul team, J free point, P person, R rope, F force, "
             "G site feature, M measure. Esc returns to select.\n\n"
             "Rope: click the points in order from the load end; empty space makes a free point. "
-            "Shift+click pulley, Ctrl+click tied, Alt+click sliding, Ctrl+Shift+click edge; otherwise the "
-            "'Passes' choice. Enter or double-click ends; a haul team ends the rope hauled.\n\n"
+            "A plain click on a point opens a small menu: 1-4 or T P S E for tied, pulley, sliding, edge, F ends "
+            "there, Enter the 'Passes' choice, Esc drops the click. Shift+click pulley, Ctrl+click tied, Alt+click "
+            "sliding, Ctrl+Shift+click edge skip the menu. Enter or double-click ends; a haul team ends the rope "
+            "hauled; right-click or Backspace takes back the last pass.\n\n"
             "View: wheel zooms at the cursor; middle button or Space+drag pans; Ctrl+0 fits the sketch.",
         )

@@ -84,6 +84,7 @@ class PassMenu(QMenu):
         self.setFont(theme.font(theme.LABEL_POINT_SIZE + 1))
         title = QLabel(f"Rope at <b>{request.point_name}</b>: how does it pass?")
         title.setContentsMargins(10, 6, 10, 4)
+        title.setStyleSheet("QLabel:disabled { color: palette(window-text); }")  # a heading, not a greyed item
         header = QWidgetAction(self)
         header.setDefaultWidget(title)
         header.setEnabled(False)
@@ -93,19 +94,19 @@ class PassMenu(QMenu):
             hw = {"pulley": request.pulley_hardware, "edge": request.edge_hardware}.get(how)
             if hw is not None:
                 meaning = _name_of(request.pulley_options if how == "pulley" else request.edge_options, hw)
-            key_hint = f"{chr(digit)}  {chr(letter)}"
+            key_hint = f"{chr(digit)}  {chr(letter)}" + ("  Enter" if how == request.default_how else "")
             act = self.addAction(f"{name} — {meaning}\t{key_hint}")
             act.triggered.connect(lambda _c=False, c=PassChoice(how, hw): self.choose(c))
             self.choice_actions[how] = act
-            if how == request.default_how:
-                self.setDefaultAction(act)
+        # not QMenu.setDefaultAction: its bold text overruns the key column the menu measured in plain text
+        self.default_action = self.choice_actions.get(request.default_how)
         self._add_other("pulley", "Other pulley or carabiner", request.pulley_options, request.pulley_hardware)
         self._add_other("edge", "Other edge", request.edge_options, request.edge_hardware)
         self.addSeparator()
         end = self.addAction("End the rope here, tied\t5  F")
         end.triggered.connect(lambda _c=False: self.choose(PassChoice("tied", None, end=True)))
         self.choice_actions["end"] = end
-        hint = QLabel("Enter: highlighted · Esc: drop this click")
+        hint = QLabel("Arrows and Enter also choose · Esc drops this click")
         hint.setContentsMargins(10, 2, 10, 6)
         hint.setStyleSheet("color: palette(mid);")
         footer = QWidgetAction(self)
@@ -125,8 +126,8 @@ class PassMenu(QMenu):
 
     def showEvent(self, event) -> None:  # noqa: N802
         super().showEvent(event)
-        if self.defaultAction() is not None:
-            self.setActiveAction(self.defaultAction())  # Enter takes the default until the user moves
+        if self.default_action is not None:
+            self.setActiveAction(self.default_action)  # Enter takes the default until the user moves
 
     def choose(self, choice: PassChoice) -> None:
         """Take ``choice`` and close (the answer is emitted once the menu has hidden)."""
@@ -143,7 +144,7 @@ class PassMenu(QMenu):
             self.choice_actions["end"].trigger()
             return
         if key in (Qt.Key_Return, Qt.Key_Enter):
-            act = self.activeAction() or self.defaultAction()
+            act = self.activeAction() or self.default_action
             if act is not None and act.menu() is None and act.isEnabled():
                 act.trigger()
                 return
@@ -171,7 +172,7 @@ class PopupChooser:
     def __call__(self, request: PassRequest, done: Done) -> None:
         self.close()
         menu = PassMenu(request, self.parent)
-        menu.setAttribute(Qt.WA_DeleteOnClose, False)
+        menu.setAttribute(Qt.WA_NoMouseReplay, True)  # a click elsewhere only closes it: the click is dropped
 
         def answer(choice: PassChoice | None) -> None:
             if self.menu is menu:

@@ -568,7 +568,7 @@ class RopeTool(Tool):
         self._serial += 1
         serial = self._serial
         self._asking = serial
-        self.status(f"How does the rope pass {request.point_name}? 1-4 or T P S E, Enter for {d.how}, Esc drops the click.")
+        self.status(f"How does the rope pass {request.point_name}? Pick in the menu; Esc drops the click.")
         self.chooser(request, lambda choice: self._answered(serial, choice))
 
     def _answered(self, serial: int, choice) -> None:
@@ -634,8 +634,7 @@ class RopeTool(Tool):
             self._line = self._preview_item(QGraphicsLineItem())
             self._line.setPen(theme.cosmetic_pen(theme.PREVIEW, 1.5, Qt.DashLine))
         self._update_line()
-        self.status(f"{prefix}Rope: {self._describe()}. Next point; Enter or double-click ends; "
-                    "right-click or Backspace takes back the last.")
+        self.status(f"{prefix}Rope: {self._describe()} · Enter ends · Backspace takes back")
 
     def _update_line(self) -> None:
         if self._line is None:
