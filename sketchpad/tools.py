@@ -106,9 +106,9 @@ def hardware_options(rig: Rig, how: str) -> tuple[tuple[str, str], ...]:
     except ImportError:
         LIBRARY_HARDWARE = {}
     out: dict[str, str] = {}
-    for hw in tuple(rig.hardware) + tuple(v for k, v in LIBRARY_HARDWARE.items() if k not in {h.id for h in rig.hardware}):
-        if _spec_ok(rig, how, hw.id):
-            out.setdefault(hw.id, hw.name)
+    for hw in (*rig.hardware, *LIBRARY_HARDWARE.values()):
+        if hw.id not in out and _spec_ok(rig, how, hw.id):
+            out[hw.id] = hw.name  # the rig's own spec wins over a library one of the same id
     return tuple(out.items())
 
 
@@ -429,6 +429,7 @@ class RopeTool(Tool):
         self._timer = None
         self._asking: int | None = None  # serial of the open question, if any
         self._serial = 0
+        self._global_pos = None  # screen position of the click the chooser asks about
 
     @property
     def active(self) -> bool:
@@ -564,7 +565,7 @@ class RopeTool(Tool):
             point_id=pid, point_name=self._work.point(pid).name, default_how=d.how,
             pulley_hardware=pass_hardware(self._work, "pulley", d), edge_hardware=pass_hardware(self._work, "edge", d),
             pulley_options=hardware_options(self._work, "pulley"), edge_options=hardware_options(self._work, "edge"),
-            global_pos=getattr(self, "_global_pos", None))
+            global_pos=self._global_pos)
         self._serial += 1
         serial = self._serial
         self._asking = serial

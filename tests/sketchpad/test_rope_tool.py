@@ -7,6 +7,8 @@ The rules checked are those of shared/design/rig-format.md ("Ropes"), enforced b
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import pytest
 from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
@@ -15,7 +17,7 @@ from PySide6.QtWidgets import QApplication
 
 from sketchpad.geometry import to_scene
 from sketchpad.pass_chooser import PassChoice, PassMenu, PassRequest
-from solver.model import Point, Rig
+from solver.model import Hardware, Point, Rig
 from solver.rigfile import check_rig, dumps_rig, loads_rig
 
 SITE = Rig(points=(
@@ -193,6 +195,30 @@ def test_each_chooser_key_picks_its_pass(qtbot, key, how):
     hw = {"pulley": "pulley-large", "edge": "edge-concrete"}.get(how)
     assert got == [PassChoice(how, hw)]
     menu.deleteLater()
+
+
+@POPUP_WARNINGS
+def test_other_hardware_comes_from_the_submenus_with_the_rigs_own_specs_first(main_window, mouse, qtbot):
+    w = main_window
+    team = Hardware("team-pulley", "pulley", efficiency=0.9, mbs_N=30000.0, label="team's prusik-minding pulley")
+    w.document.replace_all(replace(SITE, hardware=(team,)))
+    w.set_tool("rope")
+    tool = use_chooser(w, None)
+    mouse.click(0, 0)
+    mouse.click(0, 20)
+    qtbot.waitUntil(lambda: isinstance(QApplication.activePopupWidget(), PassMenu))
+    menu = QApplication.activePopupWidget()
+    req = menu.request
+    assert req.pulley_options[0] == ("team-pulley", "team's prusik-minding pulley")
+    assert not {i for i, _ in req.pulley_options} & {i for i, _ in req.edge_options}  # edges never offered as pulleys
+    others = {a.text(): a for a in menu.actions() if a.menu() is not None}
+    sub = others["Other pulley or carabiner"].menu()
+    [carabiner] = [a for a in sub.actions() if "(carabiner)" in a.text()]
+    carabiner.trigger()
+    qtbot.waitUntil(lambda: not tool.asking)
+    assert tool.picks[-1] == ("A1", "pulley", "carabiner")
+    mouse.key(Qt.Key_Return)
+    check_rig(w.document.rig)
 
 
 # --- refusals in words ----------------------------------------------------------------------
