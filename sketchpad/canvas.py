@@ -14,8 +14,17 @@ import logging
 import math
 from dataclasses import dataclass
 
-from PySide6.QtCore import QEvent, QPoint, QPointF, QRectF, Qt, Signal
-from PySide6.QtGui import QFontMetricsF, QKeyEvent, QMouseEvent, QPainter, QPainterPath, QPolygonF, QWheelEvent
+from PySide6.QtCore import QEvent, QLineF, QPoint, QPointF, QRectF, Qt, Signal
+from PySide6.QtGui import (
+    QFontMetricsF,
+    QKeyEvent,
+    QMouseEvent,
+    QPainter,
+    QPainterPath,
+    QPixmapCache,
+    QPolygonF,
+    QWheelEvent,
+)
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsScene, QGraphicsView
 
 from sketchpad import theme
@@ -42,6 +51,7 @@ WHEEL_ZOOM_PER_DEGREE = 1.01  # one wheel notch (15 degrees) zooms about 16 %
 PICK_RADIUS_PX = 11.0  # a click this close to a point picks it
 SNAP_RADIUS_PX = 10.0  # snapping to points within this distance
 FIT_MARGIN_FRACTION = 0.12
+PIXMAP_CACHE_KB = 96 * 1024  # room for the item caches of a big rig zoomed in (ropes clip to the viewport)
 
 
 def unit_metres(unit: str) -> float:
@@ -72,59 +82,83 @@ class SketchScene(QGraphicsScene):
         self.rig = Rig()
         self.scale_m_per_px = 0.05
         self.background_item: QGraphicsItem | None = None
+        self.item_cache_mode = QGraphicsItem.NoCache  # SketchView turns on pixmap caching for the screen
 
     # --- model -> items -----------------------------------------------------------------
     def sync(self, rig: Rig) -> None:
-        """Make the items show ``rig``: add what is new, update what changed, remove what is gone."""
+        """Make the items show ``rig``: add what is new, update what changed, remove what is gone.
+
+        Model objects are frozen, so an unchanged point, feature, force or rope is the same object
+        (or an equal one) as last time: only items whose model data or whose points changed are
+        touched, and a moved point is only repositioned.
+        """
         self.rig = rig
+        items = self.items_by_key
         wanted: set[tuple] = set()
+        by_id = {}
         for p in rig.points:
+            by_id[p.id] = p
             key = ("point", p.id)
             wanted.add(key)
-            item = self.items_by_key.get(key)
+            item = items.get(key)
             if item is not None and item.point.kind != p.kind:
                 self._remove(key)
                 item = None
             if item is None:
                 self._add(make_point_item(p))
-            elif item.point != p:
+            elif item.point is not p and item.point != p:
                 item.set_point(p)
         for f in rig.site.features:
             key = ("feature", f.id)
             wanted.add(key)
-            item = self.items_by_key.get(key)
+            item = items.get(key)
             if item is None:
                 self._add(FeatureItem(f))
-            elif item.feature != f:
+            elif item.feature is not f and item.feature != f:
                 item.set_feature(f)
         unit = rig.display.force
         for i, f in enumerate(rig.forces):
-            if not rig.has_point(f.at):
+            at = by_id.get(f.at)
+            if at is None:
                 continue
             key = ("force", i)
             wanted.add(key)
-            item = self.items_by_key.get(key)
+            item = items.get(key)
             if item is None:
                 item = ForceItem(i, f, unit)
                 self._add(item)
-            item.set_force(f, rig.point(f.at).xy, unit)
+            item.set_force(f, at.xy, unit)
         for r in rig.ropes:
             key = ("rope", r.id)
             wanted.add(key)
-            if key not in self.items_by_key:
+            if key not in items:
                 self._add(RopeItem(r))
-        for key in [k for k in self.items_by_key if k not in wanted]:
-            self._remove(key)
-        self._layout_ropes()
+        if len(items) != len(wanted):
+            for key in [k for k in items if k not in wanted]:
+                self._remove(key)
+        self._layout_ropes(by_id)
         self.synced.emit(rig)
 
-    def _layout_ropes(self) -> None:
-        positions = {p.id: to_scene(p.x, p.y) for p in self.rig.points}
-        kinds = {p.id: p.kind for p in self.rig.points}
+    def _layout_ropes(self, by_id: dict | None = None) -> None:
+        """Rebuild the rope items whose rope, points (position or kind), colour or zoom changed."""
+        if by_id is None:
+            by_id = {p.id: p for p in self.rig.points}
+        k = self.scale_m_per_px
+        positions: dict | None = None
+        kinds: dict | None = None
         for i, r in enumerate(self.rig.ropes):
             item = self.items_by_key.get(("rope", r.id))
-            if item is not None:
-                item.set_rope(r, positions, kinds, theme.rope_colour(i), self.scale_m_per_px)
+            if item is None:
+                continue
+            colour = theme.rope_colour(i)
+            shown = (r, tuple(by_id.get(ps.at) for ps in r.path), colour.rgba(), k)
+            if item._shown == shown:
+                continue
+            if positions is None:
+                positions = {p.id: to_scene(p.x, p.y) for p in self.rig.points}
+                kinds = {p.id: p.kind for p in self.rig.points}
+            item.set_rope(r, positions, kinds, colour, k)
+            item._shown = shown
 
     def set_scale(self, m_per_px: float) -> None:
         """The view's zoom changed: glyphs drawn in metres are resized to keep their pixel size."""
@@ -132,7 +166,22 @@ class SketchScene(QGraphicsScene):
             self.scale_m_per_px = m_per_px
             self._layout_ropes()
 
+    def set_item_cache(self, mode: QGraphicsItem.CacheMode) -> None:
+        """Cache mode of every rope, point and force item, now and later.
+
+        A view on screen uses ``DeviceCoordinateCache``: an item that did not change since the
+        last paint (every rope but the dragged one's during a drag, every point marker with its
+        name) is blitted from a pixmap instead of being drawn again.  Exports keep ``NoCache``,
+        since Qt would otherwise put those pixmaps into SVG and PDF files.
+        """
+        self.item_cache_mode = mode
+        for item in self.items_by_key.values():
+            if not isinstance(item, FeatureItem):
+                item.setCacheMode(mode)
+
     def _add(self, item: SketchItem) -> None:
+        if self.item_cache_mode != QGraphicsItem.NoCache and not isinstance(item, FeatureItem):
+            item.setCacheMode(self.item_cache_mode)
         self.addItem(item)
         self.items_by_key[item.key] = item
 
@@ -237,6 +286,11 @@ class SketchView(QGraphicsView):
         self.scale(20.0, 20.0)
         self.centerOn(0, 0)
         scene.set_scale(1.0 / 20.0)
+        # unchanged items are blitted from pixmaps (a drag redraws only what moved); the item
+        # caches live in QPixmapCache, whose 10 MB default holds only ~3 viewport-sized pixmaps
+        if QPixmapCache.cacheLimit() < PIXMAP_CACHE_KB:
+            QPixmapCache.setCacheLimit(PIXMAP_CACHE_KB)
+        scene.set_item_cache(QGraphicsItem.DeviceCoordinateCache)
 
     # --- zoom and pan -----------------------------------------------------------------------
     @property
@@ -443,16 +497,16 @@ class SketchView(QGraphicsView):
         for spacing, colour in ((step, theme.GRID_MINOR), (major, theme.GRID_MAJOR)):
             painter.setPen(theme.cosmetic_pen(colour, 1.0))
             x = math.floor(rect.left() / spacing) * spacing
+            top, bottom, left, right = rect.top(), rect.bottom(), rect.left(), rect.right()
             lines = []
-            while x <= rect.right():
-                lines.append((QPointF(x, rect.top()), QPointF(x, rect.bottom())))
+            while x <= right:
+                lines.append(QLineF(x, top, x, bottom))
                 x += spacing
-            y = math.floor(rect.top() / spacing) * spacing
-            while y <= rect.bottom():
-                lines.append((QPointF(rect.left(), y), QPointF(rect.right(), y)))
+            y = math.floor(top / spacing) * spacing
+            while y <= bottom:
+                lines.append(QLineF(left, y, right, y))
                 y += spacing
-            for a, b in lines:
-                painter.drawLine(a, b)
+            painter.drawLines(lines)  # one call: the grid has a hundred lines or more
         painter.setPen(theme.cosmetic_pen(theme.GRID_AXIS, 1.0))
         painter.drawLine(QPointF(0, rect.top()), QPointF(0, rect.bottom()))
         painter.drawLine(QPointF(rect.left(), 0), QPointF(rect.right(), 0))

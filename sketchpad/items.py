@@ -19,10 +19,13 @@ from PySide6.QtGui import (
     QBrush,
     QColor,
     QFontMetricsF,
+    QImage,
     QPainter,
     QPainterPath,
     QPainterPathStroker,
+    QPaintEngine,
     QPen,
+    QPixmap,
     QPolygonF,
     QTransform,
 )
@@ -80,16 +83,152 @@ def _dot(a: QPointF, b: QPointF) -> float:
     return a.x() * b.x() + a.y() * b.y()
 
 
-def _draw_halo_text(painter: QPainter, pos: QPointF, text: str, colour: QColor, font) -> None:
-    """Text with a paper-coloured halo so it stays readable over ropes and water."""
-    path = QPainterPath()
-    path.addText(pos, font, text)
-    painter.setPen(QPen(theme.LABEL_HALO, 3.0, Qt.SolidLine, Qt.RoundCap, Qt.RoundJoin))
+# --- cached text and glyph rendering ----------------------------------------------------------
+# Stroking a text outline costs ~0.1 ms per label, and a 50-rope rig has 150 labels on screen, so
+# labels and point markers are rendered once into small pixmaps (keyed by what they show and by the
+# quarter-pixel phase they land on) and blitted on every repaint.  Only screen-like raster painting
+# at pixel scale uses the pixmaps; SVG/PDF exports and scaled renders draw the same shapes as vectors.
+HALO_WIDTH_PX = 3.0
+PHASES = 4  # sub-pixel positions per pixel a cached pixmap is rendered for (keeps markers centred)
+CACHE_MAX = 4000  # cached paths/pixmaps kept before the caches are cleared
+_HALO_PEN = QPen(theme.LABEL_HALO, HALO_WIDTH_PX, Qt.SolidLine, Qt.RoundCap, Qt.RoundJoin)
+_text_paths: dict[tuple, QPainterPath] = {}
+_pixmaps: dict[tuple, tuple[QPixmap, float, float]] = {}
+_metrics: dict[str, QFontMetricsF] = {}
+_font_keys: dict[int, tuple[object, str]] = {}
+
+
+def font_key(font) -> str:
+    """``font.key()``, remembered per font object (theme fonts are long-lived; the entry keeps it alive)."""
+    hit = _font_keys.get(id(font))
+    if hit is None or hit[0] is not font:
+        if len(_font_keys) > CACHE_MAX:
+            _font_keys.clear()
+        hit = _font_keys[id(font)] = (font, font.key())
+    return hit[1]
+
+
+def font_metrics(font) -> QFontMetricsF:
+    """QFontMetricsF of ``font``, built once per font."""
+    key = font_key(font)
+    fm = _metrics.get(key)
+    if fm is None:
+        fm = _metrics[key] = QFontMetricsF(font)
+    return fm
+
+
+def text_path(text: str, font) -> QPainterPath:
+    """The outline of ``text`` in ``font`` with its baseline origin at (0, 0), built once per (text, font)."""
+    key = (text, font_key(font))
+    path = _text_paths.get(key)
+    if path is None:
+        if len(_text_paths) > CACHE_MAX:
+            _text_paths.clear()
+        path = _text_paths[key] = QPainterPath()
+        path.addText(QPointF(0.0, 0.0), font, text)
+    return path
+
+
+def _paint_halo_path(painter: QPainter, path: QPainterPath, colour: QColor) -> None:
+    painter.setPen(_HALO_PEN)
     painter.setBrush(Qt.NoBrush)
     painter.drawPath(path)
     painter.setPen(Qt.NoPen)
     painter.setBrush(colour)
     painter.drawPath(path)
+
+
+def pixel_dpr(painter: QPainter, scale: float = 1.0) -> float | None:
+    """The device pixel ratio when ``painter`` draws raster pixels at ``scale`` x (world units -> pixels)
+    with no rotation, shear or window mapping (the canvas on screen, PNG exports); else None (vectors)."""
+    engine = painter.paintEngine()
+    if engine is None or engine.type() != QPaintEngine.Raster or painter.viewTransformEnabled():
+        return None
+    t = painter.worldTransform()
+    if t.m12() != 0.0 or t.m21() != 0.0 or t.isAffine() is False:
+        return None
+    if abs(t.m11() * scale - 1.0) > 1e-6 or abs(t.m22() * scale - 1.0) > 1e-6:
+        return None
+    return float(painter.device().devicePixelRatioF())
+
+
+def _render(key: tuple, bounds: QRectF, dpr: float, phase: tuple[float, float], draw) -> tuple[QPixmap, float, float]:
+    """A cached pixmap of ``draw(painter)`` (shapes around the origin within ``bounds``) rendered at
+    ``dpr`` with the origin ``phase`` device pixels past a pixel corner; returns (pixmap, left, top) with
+    left/top the pixmap's corner relative to the origin's pixel corner, in logical pixels."""
+    full = (key, dpr, phase)
+    hit = _pixmaps.get(full)
+    if hit is not None:
+        return hit
+    if len(_pixmaps) > CACHE_MAX:
+        _pixmaps.clear()
+    left = math.floor(bounds.left() * dpr + phase[0]) - 1
+    top = math.floor(bounds.top() * dpr + phase[1]) - 1
+    w = max(1, math.ceil(bounds.right() * dpr + phase[0]) + 1 - left)
+    h = max(1, math.ceil(bounds.bottom() * dpr + phase[1]) + 1 - top)
+    image = QImage(w, h, QImage.Format_ARGB32_Premultiplied)
+    image.fill(Qt.transparent)
+    p = QPainter(image)
+    p.setRenderHint(QPainter.Antialiasing, True)
+    p.translate(phase[0] - left, phase[1] - top)
+    p.scale(dpr, dpr)
+    draw(p)
+    p.end()
+    pix = QPixmap.fromImage(image)
+    pix.setDevicePixelRatio(dpr)
+    hit = _pixmaps[full] = (pix, left / dpr, top / dpr)
+    return hit
+
+
+def blit_cached(painter: QPainter, origin: QPointF, dpr: float, key: tuple, bounds: QRectF, draw) -> None:
+    """Draw ``draw``'s shapes (cached by ``key``) with their origin at item point ``origin``, by blitting
+    a pixmap; ``painter`` must pass :func:`pixel_dpr`.  The origin is placed to a quarter device pixel."""
+    t = painter.worldTransform()
+    dx = (t.m11() * origin.x() + t.dx()) * dpr
+    dy = (t.m22() * origin.y() + t.dy()) * dpr
+    fx, fy = math.floor(dx), math.floor(dy)
+    phase = (round((dx - fx) * PHASES) / PHASES, round((dy - fy) * PHASES) / PHASES)
+    if phase[0] >= 1.0:
+        fx, phase = fx + 1, (0.0, phase[1])
+    if phase[1] >= 1.0:
+        fy, phase = fy + 1, (phase[0], 0.0)
+    pix, left, top = _render(key, bounds, dpr, phase, draw)
+    painter.save()
+    painter.setWorldTransform(QTransform())
+    painter.drawPixmap(QPointF(fx / dpr + left, fy / dpr + top), pix)
+    painter.restore()
+
+
+_NO_DPR = -1.0
+
+
+def _draw_halo_text(painter: QPainter, pos: QPointF, text: str, colour: QColor, font, scale: float = 1.0,
+                    dpr: float | None = _NO_DPR) -> None:
+    """Text with a paper-coloured halo so it stays readable over ropes and water (baseline at ``pos``).
+
+    ``scale`` is the painter's expected world scale inverse (1 for items in pixels, ``m_per_px`` for
+    items in metres that scale the painter to pixels themselves); ``dpr`` is :func:`pixel_dpr`'s
+    answer when the caller already has it.
+    """
+    path = text_path(text, font)
+    if dpr == _NO_DPR:
+        dpr = pixel_dpr(painter, scale)
+    if dpr is None:
+        painter.save()
+        painter.translate(pos)
+        if scale != 1.0:
+            painter.scale(scale, scale)
+        _paint_halo_path(painter, path, colour)
+        painter.restore()
+        return
+    m = HALO_WIDTH_PX
+    blit_cached(painter, pos, dpr, ("halo", text, font_key(font), colour.rgba()),
+                path.boundingRect().adjusted(-m, -m, m, m), lambda p: _paint_halo_path(p, path, colour))
+
+
+def _drawn_differs(a: Point, b: Point) -> bool:
+    """True if two versions of a point differ in more than their position (so the marker must repaint)."""
+    return a.kind != b.kind or a.name != b.name
 
 
 class SketchItem(QGraphicsItem):
@@ -116,8 +255,11 @@ class PointItem(SketchItem):
         self.setFlag(QGraphicsItem.ItemIgnoresTransformations, True)
         self.setZValue(theme.Z_POINT)
         self.point = point
-        self._label = ""
+        self._label: str | None = None  # set_point fills it (and the rects) the first time
         self._label_rect = QRectF()
+        self._baseline = QPointF()
+        self._bounds = QRectF()
+        self._tip = ""
         self.set_point(point)
 
     @property
@@ -125,27 +267,36 @@ class PointItem(SketchItem):
         return theme.POINT_RADIUS_PX.get(self.point.kind, 5.0)
 
     def set_point(self, point: Point) -> None:
-        """Show ``point``: move to its position and relabel if needed."""
+        """Show ``point``: move to its position and relabel if needed (a move alone repaints nothing else)."""
+        old = self.point
         self.point = point
         label = point.name
         if label != self._label:
             self.prepareGeometryChange()
             self._label = label
-            fm = QFontMetricsF(theme.font())
+            fm = font_metrics(theme.font())
             r = self.radius
             w = fm.horizontalAdvance(label)
             self._label_rect = QRectF(r + theme.LABEL_GAP_PX, -r - fm.ascent(), w, fm.height())
-        self.setPos(to_scene(point.x, point.y))
-        self.setToolTip(f"{point.name} ({point.kind})")
-        self.update()
+            self._baseline = QPointF(self._label_rect.left(), self._label_rect.top() + fm.ascent())
+            m = theme.SELECTION_WIDTH_PX + 2
+            self._bounds = self.marker_rect().adjusted(-m, -m, m, m).united(self._label_rect.adjusted(-3, -3, 3, 3))
+        pos = to_scene(point.x, point.y)
+        if pos != self.pos():
+            self.setPos(pos)
+        tip = f"{point.name} ({point.kind})"
+        if tip != self._tip:
+            self._tip = tip
+            self.setToolTip(tip)
+        if old is not point and _drawn_differs(old, point):
+            self.update()
 
     def marker_rect(self) -> QRectF:
         r = self.radius
         return QRectF(-r, -r, 2 * r, 2 * r)
 
     def boundingRect(self) -> QRectF:  # noqa: N802 - Qt name
-        m = theme.SELECTION_WIDTH_PX + 2
-        return self.marker_rect().adjusted(-m, -m, m, m).united(self._label_rect.adjusted(-3, -3, 3, 3))
+        return self._bounds
 
     def shape(self) -> QPainterPath:
         path = QPainterPath()
@@ -154,15 +305,25 @@ class PointItem(SketchItem):
 
     def paint(self, painter: QPainter, option: QStyleOptionGraphicsItem, widget=None) -> None:
         painter.setRenderHint(QPainter.Antialiasing, True)
-        if self.isSelected():
+        selected = self.isSelected()
+        dpr = pixel_dpr(painter)
+        if dpr is None:
+            self._paint_glyph(painter, selected)
+        else:  # every marker of a kind looks the same: blit it
+            m = theme.SELECTION_WIDTH_PX + 4
+            r = self.radius + m
+            blit_cached(painter, QPointF(), dpr, ("marker", type(self), self.radius, selected),
+                        QRectF(-r, -r, 2 * r, 2 * r), lambda p: self._paint_glyph(p, selected))
+        if self._label:
+            _draw_halo_text(painter, self._baseline, self._label, theme.LABEL_TEXT, theme.font(), dpr=dpr)
+
+    def _paint_glyph(self, painter: QPainter, selected: bool) -> None:
+        if selected:
             painter.setPen(theme.pixel_pen(theme.SELECTION, theme.SELECTION_WIDTH_PX))
             painter.setBrush(Qt.NoBrush)
             r = self.radius + 3
             painter.drawEllipse(QRectF(-r, -r, 2 * r, 2 * r))
         self.paint_marker(painter)
-        if self._label:
-            baseline = QPointF(self._label_rect.left(), self._label_rect.top() + QFontMetricsF(theme.font()).ascent())
-            _draw_halo_text(painter, baseline, self._label, theme.LABEL_TEXT, theme.font())
 
     def paint_marker(self, painter: QPainter) -> None:
         """A free point: a small open circle."""
@@ -266,16 +427,38 @@ class RopeItem(SketchItem):
         self._k = 0.01
         self._bounds = QRectF()
         self._shape = QPainterPath()
+        self._shape_due = False
+        self._tip = ""
+        self._pens: dict[tuple, QPen] = {}
+        self._label_w = 0.0
+        self._shown: tuple | None = None  # what the scene last built this item from (sketchpad.canvas)
 
     def set_rope(self, rope: Rope, positions: dict, kinds: dict, colour: QColor, scale_m_per_px: float) -> None:
         """Rebuild the path from ``rope`` and the scene positions of its points."""
-        self.prepareGeometryChange()
+        old_bounds = QRectF(self._bounds)
         self.rope = rope
-        self.colour = QColor(colour)
+        if colour != self.colour or not self._pens:
+            self.colour = QColor(colour)
+            self._pens = {}
         self._k = float(scale_m_per_px)
-        self._build(positions, kinds)
-        self.setToolTip(f"{rope.name} ({rope.material})")
+        self._build(positions, kinds)  # sets self._bounds, read by Qt only through boundingRect()
+        if self._bounds != old_bounds:
+            new_bounds, self._bounds = self._bounds, old_bounds
+            self.prepareGeometryChange()  # Qt must see the old rect here
+            self._bounds = new_bounds
+        tip = f"{rope.name} ({rope.material})"
+        if tip != self._tip:
+            self._tip = tip
+            self.setToolTip(tip)
         self.update()
+
+    def pen(self, colour: QColor, width: float) -> QPen:
+        """A cosmetic pen of this item, built once per (colour, width)."""
+        key = (colour.rgba(), width)
+        pen = self._pens.get(key)
+        if pen is None:
+            pen = self._pens[key] = theme.cosmetic_pen(colour, width)
+        return pen
 
     # geometry ----------------------------------------------------------------------
     def _build(self, positions: dict, kinds: dict) -> None:
@@ -375,21 +558,25 @@ class RopeItem(SketchItem):
             rect = rect.united(QRectF(c.x() - r * 1.5, c.y() - r * 1.5, r * 3, r * 3))
         rect = rect.united(self._arrow.boundingRect())
         if self._label:
-            fm = QFontMetricsF(theme.font(theme.SMALL_POINT_SIZE))
+            fm = font_metrics(theme.font(theme.SMALL_POINT_SIZE))
             w = fm.horizontalAdvance(self._label) * k
             h = fm.height() * k
             rect = rect.united(QRectF(self._label_pos.x() - w / 2 - k, self._label_pos.y() - h, w + 2 * k, h * 1.5))
+            self._label_w = font_metrics(theme.font(theme.SMALL_POINT_SIZE, bold=True)).horizontalAdvance(self._label)
         m = (theme.SELECTION_WIDTH_PX + theme.ROPE_WIDTH_PX) * k
         self._bounds = rect.adjusted(-m, -m, m, m)
-        stroker = QPainterPathStroker()
-        stroker.setWidth(theme.ROPE_HIT_PX * k)
-        self._shape = stroker.createStroke(self._path)
+        self._shape_due = True  # the hit shape is stroked when Qt first asks for it
 
     # Qt interface -------------------------------------------------------------------
     def boundingRect(self) -> QRectF:  # noqa: N802
         return self._bounds
 
     def shape(self) -> QPainterPath:
+        if self._shape_due:
+            stroker = QPainterPathStroker()
+            stroker.setWidth(theme.ROPE_HIT_PX * self._k)
+            self._shape = stroker.createStroke(self._path)
+            self._shape_due = False
         return self._shape
 
     def glyph_kinds(self) -> list[str]:
@@ -399,52 +586,48 @@ class RopeItem(SketchItem):
     def paint(self, painter: QPainter, option: QStyleOptionGraphicsItem, widget=None) -> None:
         painter.setRenderHint(QPainter.Antialiasing, True)
         k = self._k
+        colour = self.colour
+        pen = self.pen
         if self.isSelected():
-            painter.setPen(theme.cosmetic_pen(theme.SELECTION, theme.ROPE_WIDTH_PX + 2 * theme.SELECTION_WIDTH_PX))
+            painter.setPen(pen(theme.SELECTION, theme.ROPE_WIDTH_PX + 2 * theme.SELECTION_WIDTH_PX))
             painter.setBrush(Qt.NoBrush)
             painter.drawPath(self._path)
-        rope_pen = theme.cosmetic_pen(self.colour, theme.ROPE_WIDTH_PX)
-        painter.setPen(rope_pen)
+        painter.setPen(pen(colour, theme.ROPE_WIDTH_PX))
         painter.setBrush(Qt.NoBrush)
         painter.drawPath(self._path)
         for kind, c, r, d in self._glyphs:
             if kind == "pulley":
-                painter.setPen(theme.cosmetic_pen(self.colour, 1.6))
+                painter.setPen(pen(colour, 1.6))
                 painter.setBrush(theme.PULLEY_FILL)
                 painter.drawEllipse(c, r * 0.82, r * 0.82)
                 painter.setPen(Qt.NoPen)
-                painter.setBrush(self.colour)
+                painter.setBrush(colour)
                 a = theme.PULLEY_AXLE_PX * k
                 painter.drawEllipse(c, a, a)
             elif kind == "sliding":
-                painter.setPen(theme.cosmetic_pen(self.colour, 1.8))
+                painter.setPen(pen(colour, 1.8))
                 painter.setBrush(Qt.NoBrush)
                 painter.drawEllipse(c, r, r)
             elif kind == "tied":
-                painter.setPen(theme.cosmetic_pen(theme.POINT_OUTLINE, 1.0))
-                painter.setBrush(self.colour)
+                painter.setPen(pen(theme.POINT_OUTLINE, 1.0))
+                painter.setBrush(colour)
                 painter.drawEllipse(c, r, r)
-                painter.setPen(theme.cosmetic_pen(theme.POINT_MARK, 1.0))
+                painter.setPen(pen(theme.POINT_MARK, 1.0))
                 side = _left(d) * (r * 0.6)
                 painter.drawLine(c + side, c - side)
             elif kind == "edge":
                 side = _left(d) * (r * 0.55)
                 base = c + d * r
-                painter.setPen(theme.cosmetic_pen(theme.POINT_OUTLINE, 1.0))
+                painter.setPen(pen(theme.POINT_OUTLINE, 1.0))
                 painter.setBrush(theme.EDGE_FILL)
                 painter.drawPolygon(QPolygonF([c, base + side, base - side]))
         if not self._arrow.isEmpty():
-            painter.setPen(theme.cosmetic_pen(self.colour, 1.0))
-            painter.setBrush(self.colour)
+            painter.setPen(pen(colour, 1.0))
+            painter.setBrush(colour)
             painter.drawPolygon(self._arrow)
         if self._label:
-            painter.save()
-            painter.translate(self._label_pos)
-            painter.scale(k, k)
-            f = theme.font(theme.SMALL_POINT_SIZE, bold=True)
-            w = QFontMetricsF(f).horizontalAdvance(self._label)
-            _draw_halo_text(painter, QPointF(-w / 2, 0), self._label, self.colour, f)
-            painter.restore()
+            origin = QPointF(self._label_pos.x() - self._label_w / 2 * k, self._label_pos.y())
+            _draw_halo_text(painter, origin, self._label, colour, theme.font(theme.SMALL_POINT_SIZE, bold=True), k)
 
 
 # --- forces --------------------------------------------------------------------------------
@@ -458,21 +641,30 @@ class ForceItem(SketchItem):
         self.force = force
         self._text = ""
         self._bounds = QRectF()
+        self._shown: tuple | None = None
         self.set_force(force, (0.0, 0.0), unit)
 
     def set_force(self, force: Force, at_xy: tuple[float, float], unit: str) -> None:
-        self.prepareGeometryChange()
-        self.force = force
-        text = fmt_force(force.magnitude_N, unit)
-        self._text = f"{text}  {force.label}".strip() if force.label else text
-        self.setPos(to_scene(*at_xy))
-        d = self._direction()
-        tip = d * theme.FORCE_LENGTH_PX
-        fm = QFontMetricsF(theme.font(theme.SMALL_POINT_SIZE))
-        label = QRectF(tip.x() + 4, tip.y() - fm.ascent(), fm.horizontalAdvance(self._text) + 4, fm.height())
-        m = theme.FORCE_HEAD_PX + theme.SELECTION_WIDTH_PX
-        self._bounds = QRectF(QPointF(0, 0), tip).normalized().adjusted(-m, -m, m, m).united(label)
-        self.update()
+        """Show ``force`` at ``at_xy`` (site metres); a move alone only repositions the item."""
+        shown = (force, unit)
+        if shown != self._shown:
+            self._shown = shown
+            self.force = force
+            text = fmt_force(force.magnitude_N, unit)
+            self._text = f"{text}  {force.label}".strip() if force.label else text
+            d = self._direction()
+            tip = d * theme.FORCE_LENGTH_PX
+            fm = font_metrics(theme.font(theme.SMALL_POINT_SIZE))
+            label = QRectF(tip.x() + 4, tip.y() - fm.ascent(), fm.horizontalAdvance(self._text) + 4, fm.height())
+            m = theme.FORCE_HEAD_PX + theme.SELECTION_WIDTH_PX
+            bounds = QRectF(QPointF(0, 0), tip).normalized().adjusted(-m, -m, m, m).united(label)
+            if bounds != self._bounds:
+                self.prepareGeometryChange()
+                self._bounds = bounds
+            self.update()
+        pos = to_scene(*at_xy)
+        if pos != self.pos():
+            self.setPos(pos)
 
     def _direction(self) -> QPointF:
         a = math.radians(self.force.direction_deg)
@@ -503,7 +695,7 @@ class ForceItem(SketchItem):
         painter.setBrush(theme.FORCE_COLOUR)
         painter.setPen(Qt.NoPen)
         painter.drawPolygon(QPolygonF([tip, tip - d * h + side, tip - d * h - side]))
-        fm = QFontMetricsF(theme.font(theme.SMALL_POINT_SIZE))
+        fm = font_metrics(theme.font(theme.SMALL_POINT_SIZE))
         _draw_halo_text(painter, QPointF(tip.x() + 5, tip.y() + fm.ascent() / 2 - 1), self._text,
                         theme.FORCE_COLOUR, theme.font(theme.SMALL_POINT_SIZE))
 

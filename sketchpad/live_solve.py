@@ -152,10 +152,16 @@ class SolveScheduler(QObject):
     # --- scheduling ---------------------------------------------------------------------------
     def schedule(self, *_args) -> None:
         """Note a change; the solve runs when the timer fires (a running timer is not restarted,
-        so a continuous drag is still solved every ``delay`` ms)."""
-        now = time.perf_counter()
-        self._change_gap_ms = (now - self._last_change) * 1e3
-        self._last_change = now
+        so a continuous drag is still solved every ``delay`` ms).
+
+        Only document changes (``Document.changed`` passes the new rig) count towards telling a drag
+        from a single edit; the scheduler's own re-arming calls (no argument) do not, so opening a
+        file right after the window is built gets the full analysis at once.
+        """
+        if _args:
+            now = time.perf_counter()
+            self._change_gap_ms = (now - self._last_change) * 1e3
+            self._last_change = now
         if not self._closed and not self.timer.isActive():
             self.timer.start()
 

@@ -151,7 +151,9 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[
     layers = set(layers)
     unit = rig.display.force
     sf = float(rig.settings.min_safety_factor)
-    pos = {p.id: _scene(p.xy) for p in rig.points}
+    points = {p.id: p for p in rig.points}  # dict look-ups: Rig.point() is a linear search
+    ropes = {r.id: r for r in rig.ropes}
+    pos = {pid: _scene(p.xy) for pid, p in points.items()}
     for pid, xy in result.points.items():
         pos[pid] = _scene(xy)
     labels: list[OverlayLabel] = []
@@ -183,7 +185,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[
             if key not in keys or not math.isfinite(turn):
                 continue
             rope_id, j = keys[key]
-            rope = rig.rope(rope_id)
+            rope = ropes[rope_id]
             ps = rope.path[j]
             if ps.how not in TURNING_HOWS or ps.at not in pos:
                 continue
@@ -191,7 +193,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[
             prev, nxt = pos.get(rope.path[j - 1].at, at), pos.get(rope.path[j + 1].at, at)
             u1, u2 = _unit(prev[0] - at[0], prev[1] - at[1]), _unit(nxt[0] - at[0], nxt[1] - at[1])
             outward = _unit(-(u1[0] + u2[0]), -(u1[1] + u2[1]))  # away from both legs: outside the bight
-            point = rig.point(ps.at) if rig.has_point(ps.at) else None
+            point = points.get(ps.at)
             hand = point is not None and not point.is_fixed and ps.at in forced
             lines = [f"turn {fmt_angle(turn)}"]
             values = {"turn_deg": float(turn)}
@@ -204,9 +206,9 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[
 
     if "anchors" in layers:
         for aid, a in result.anchors.items():
-            if aid not in pos or not rig.has_point(aid):
+            p = points.get(aid)
+            if aid not in pos or p is None:
                 continue
-            p = rig.point(aid)
             rad = math.radians(a.direction_deg)
             d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
             colour = theme.utilization_colour(a.utilization)
@@ -227,9 +229,9 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[
             labels.append(OverlayLabel(kind="anchor", key=aid, lines=tuple(lines), values=values, colour=colour,
                                        priority=90.0 + min(a.utilization or 0.0, 3.0), base=pos[aid], prefer=d))
         for lid, f in result.loads.items():
-            if lid not in pos or not rig.has_point(lid):
+            p = points.get(lid)
+            if lid not in pos or p is None:
                 continue
-            p = rig.point(lid)
             rad = math.radians(f.direction_deg)
             d = (math.cos(rad), -math.sin(rad))
             lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
@@ -243,9 +245,9 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[
             labels.append(OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
                                        priority=95.0, base=pos[lid], prefer=(-d[0], -d[1])))
         for hid, force in result.haul.items():
-            if hid not in pos or not rig.has_point(hid):
+            p = points.get(hid)
+            if hid not in pos or p is None:
                 continue
-            p = rig.point(hid)
             lines = [f"haul {format_force(force, unit)}"]
             values = {"force_N": float(force)}
             if p.team:
@@ -270,33 +272,50 @@ class _Grid:
         self.rects: dict[tuple[int, int], list[tuple[float, float, float, float]]] = {}
         self.points: dict[tuple[int, int], list[tuple[float, float, object]]] = {}
 
-    def _cells(self, x: float, y: float, w: float, h: float):
+    def _cells(self, x: float, y: float, w: float, h: float) -> list[tuple[int, int]]:
         c = self.cell
-        for i in range(int(math.floor(x / c)), int(math.floor((x + w) / c)) + 1):
-            for j in range(int(math.floor(y / c)), int(math.floor((y + h) / c)) + 1):
-                yield (i, j)
+        i0, i1 = math.floor(x / c), math.floor((x + w) / c)
+        j0, j1 = math.floor(y / c), math.floor((y + h) / c)
+        if i0 == i1 and j0 == j1:
+            return [(i0, j0)]
+        return [(i, j) for i in range(i0, i1 + 1) for j in range(j0, j1 + 1)]
 
     def add_rect(self, r) -> None:
+        rects = self.rects
         for k in self._cells(*r):
-            self.rects.setdefault(k, []).append(r)
+            cell = rects.get(k)
+            if cell is None:
+                rects[k] = [r]
+            else:
+                cell.append(r)
 
     def add_point(self, x: float, y: float, owner: object) -> None:
-        self.points.setdefault((int(math.floor(x / self.cell)), int(math.floor(y / self.cell))), []).append((x, y, owner))
+        c = self.cell
+        k = (math.floor(x / c), math.floor(y / c))
+        cell = self.points.get(k)
+        if cell is None:
+            self.points[k] = [(x, y, owner)]
+        else:
+            cell.append((x, y, owner))
 
     def hits_rect(self, r) -> bool:
         x, y, w, h = r
+        x1, y1 = x + w, y + h
+        rects = self.rects
         for k in self._cells(x, y, w, h):
-            for (ox, oy, ow, oh) in self.rects.get(k, ()):
-                if x < ox + ow and ox < x + w and y < oy + oh and oy < y + h:
+            for (ox, oy, ow, oh) in rects.get(k, ()):
+                if x < ox + ow and ox < x1 and y < oy + oh and oy < y1:
                     return True
         return False
 
     def crossings(self, r, own: object) -> int:
         x, y, w, h = r
+        x1, y1 = x + w, y + h
         n = 0
+        points = self.points
         for k in self._cells(x, y, w, h):
-            for (px, py, owner) in self.points.get(k, ()):
-                if owner != own and x <= px <= x + w and y <= py <= y + h:
+            for (px, py, owner) in points.get(k, ()):
+                if owner != own and x <= px <= x1 and y <= py <= y1:
                     n += 1
         return n
 
@@ -741,16 +760,23 @@ class Legend(QWidget):
         self.font = theme.font(theme.OVERLAY_POINT_SIZE)
         self.title_font = theme.font(theme.OVERLAY_POINT_SIZE, bold=True)
         self.fm = QFontMetricsF(self.font)
+        self._pixmap: QPixmap | None = None
+        self._pixmap_key: tuple | None = None
         self.hide()
 
     TITLE = "Rope use: tension × SF ÷ MBS"
     TICKS = (0.0, 0.5, 1.0, 1.5)
 
     def set_content(self, lines: list[str], show_zones: bool, grey: bool) -> None:
-        self.lines, self.show_zones, self.grey = list(lines), show_zones, grey
+        lines = list(lines)
+        if (lines, show_zones, grey) == (self.lines, self.show_zones, self.grey) and self.isVisible():
+            return  # nothing new to say (most drag steps)
+        self.lines, self.show_zones, self.grey = lines, show_zones, grey
         self.resize(self.sizeHint())
         self.place()
-        self.update()
+        # repaint through the viewport: a legend-only update costs Qt a second paint pass of the
+        # viewport under the (translucent) legend; as part of the viewport's region it comes free
+        self.parentWidget().update(self.geometry())
 
     def sizeHint(self) -> QSize:  # noqa: N802
         pad, lh = 8, self.fm.height()
@@ -765,7 +791,22 @@ class Legend(QWidget):
         self.move(vp.width() - self.width() - m, vp.height() - self.height() - m)
 
     def paintEvent(self, event) -> None:  # noqa: N802
+        # the legend is repainted with every viewport frame but changes rarely: blit it from a pixmap
+        dpr = self.devicePixelRatioF()
+        key = (tuple(self.lines), self.show_zones, self.grey, self.width(), self.height(), dpr)
+        if self._pixmap is None or self._pixmap_key != key:
+            pix = QPixmap(max(1, round(self.width() * dpr)), max(1, round(self.height() * dpr)))
+            pix.setDevicePixelRatio(dpr)
+            pix.fill(Qt.transparent)
+            p = QPainter(pix)
+            self._paint(p)
+            p.end()
+            self._pixmap, self._pixmap_key = pix, key
         p = QPainter(self)
+        p.drawPixmap(0, 0, self._pixmap)
+        p.end()
+
+    def _paint(self, p: QPainter) -> None:
         p.setRenderHint(QPainter.Antialiasing, True)
         p.setPen(theme.pixel_pen(theme.LEGEND_EDGE, 1.0))
         p.setBrush(theme.LEGEND_BACK)
@@ -811,27 +852,27 @@ class Legend(QWidget):
         for line in self.lines:
             p.drawText(QPointF(pad, y + self.fm.ascent()), line)
             y += lh
-        p.end()
 
 
 def summary_lines(rig: Rig, result: Result) -> list[str]:
     """The system in a few lines: MA actual/ideal, haul force and haulers, load delivered vs needed."""
     unit = rig.display.force
+    points = {p.id: p for p in rig.points}
     out = []
     if result.ma_actual is not None:
         ideal = f" / {result.ma_ideal:.2f} ideal" if result.ma_ideal is not None else ""
         out.append(f"MA {result.ma_actual:.2f} actual{ideal}")
     for hid, force in result.haul.items():
-        name = rig.point(hid).name if rig.has_point(hid) else hid
+        name = points[hid].name if hid in points else hid
         hold = result.hold_haul_range.get(hid)
         text = f"{name}: {format_force(force, unit)}"
         if hold is not None:
             text += f" (hold {format_force(hold.low, unit)} – {format_force(hold.high, unit)})"
         out.append(text)
     for lid, f in result.loads.items():
-        if not rig.has_point(lid):
+        p = points.get(lid)
+        if p is None:
             continue
-        p = rig.point(lid)
         text = f"to {p.name}: {format_force(f.force_N, unit)}"
         if p.required_N is not None:
             text += f" of {format_force(p.required_N, unit)} needed"
@@ -869,6 +910,8 @@ class ResultOverlay(QObject):
         self._memo: dict = {}
         self._memo_scale = 0.0
         self._zones_due = True
+        self._name_fm = QFontMetricsF(theme.font())
+        self._name_box_cache: dict[tuple[str, str], tuple[float, float, float, float]] = {}
 
     # --- public -------------------------------------------------------------------------------------
     @property
@@ -1003,11 +1046,18 @@ class ResultOverlay(QObject):
 
     def _name_boxes(self, rig: Rig) -> list:
         """Pixel rects of the point names the canvas draws beside each marker (sketchpad.items.PointItem)."""
-        fm = QFontMetricsF(theme.font())
+        cache = self._name_box_cache
+        if len(cache) > 4 * len(rig.points) + 64:
+            cache.clear()
         out = []
         for p in rig.points:
-            r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
-            out.append((_scene(p.xy), (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name), fm.height())))
+            key = (p.name, p.kind)
+            box = cache.get(key)
+            if box is None:
+                fm = self._name_fm
+                r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
+                box = cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name), fm.height())
+            out.append((_scene(p.xy), box))
         return out
 
     def eventFilter(self, obj, event) -> bool:  # noqa: N802
