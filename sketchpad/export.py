@@ -808,32 +808,50 @@ def rig_error_text(rig_path: str, exc: Exception) -> str:
     return text if name in text else f"{rig_path}: {text}"
 
 
-def render_cli(args) -> int:
-    """``ropewright render RIG -o OUT.(png|svg|pdf) [--size WxH]``: exit 0 written, 2 bad input, 3 solve failed."""
+def run_file_command(command: str, args, check_output, write, failed_note: str) -> int:
+    """Shared shell of ``render`` and ``report``: load and solve ``args.rig``, write ``args.output``.
+
+    ``check_output()`` refuses a bad output name (ExportError); ``write(rig, result, rig_dir)``
+    writes the file.  Every failure is one line naming the file and the problem; exit 0 written,
+    2 bad input, 3 written but the rig did not solve (``failed_note`` says what that means).
+    """
     from solver.errors import RopewrightError
 
+    prefix = f"ropewright {command}"
     try:
-        fmt = format_of(args.output)
-        size = parse_size(getattr(args, "size", None))
-        if getattr(args, "size", None) and fmt == "pdf":
-            print("ropewright render: --size is for PNG and SVG; the PDF is a landscape page", file=sys.stderr)
+        check_output()
         rig, result = load_for_cli(args.rig)
-        export_drawing(rig, args.output, size, result, pathlib.Path(args.rig).resolve().parent, source=args.rig)
+        write(rig, result, pathlib.Path(args.rig).resolve().parent)
     except ExportError as exc:
-        print(f"ropewright render: {exc}", file=sys.stderr)
+        print(f"{prefix}: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except RopewrightError as exc:
-        print(f"ropewright render: {rig_error_text(args.rig, exc)}", file=sys.stderr)
+        print(f"{prefix}: {rig_error_text(args.rig, exc)}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except OSError as exc:
-        print(f"ropewright render: cannot read {args.rig}: {exc.strerror or exc}", file=sys.stderr)
+        print(f"{prefix}: cannot read {args.rig}: {exc.strerror or exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
     if not result.ok:
-        print(f"ropewright render: wrote {args.output} without forces: {failure_sentence(rig, result)}",
-              file=sys.stderr)
+        print(f"{prefix}: wrote {args.output} {failed_note}: {failure_sentence(rig, result)}", file=sys.stderr)
         return EXIT_SOLVE_FAILED
     print(f"wrote {args.output}")
     return EXIT_OK
+
+
+def render_cli(args) -> int:
+    """``ropewright render RIG -o OUT.(png|svg|pdf) [--size WxH]``: exit 0 written, 2 bad input, 3 solve failed."""
+    sized = getattr(args, "size", None)
+    fmt_size: list = []
+
+    def check_output() -> None:
+        fmt_size[:] = [format_of(args.output), parse_size(sized)]
+        if sized and fmt_size[0] == "pdf":
+            print("ropewright render: --size is for PNG and SVG; the PDF is a landscape page", file=sys.stderr)
+
+    def write(rig, result, rig_dir) -> None:
+        export_drawing(rig, args.output, fmt_size[1], result, rig_dir, source=args.rig)
+
+    return run_file_command("render", args, check_output, write, "without forces")
 
 
 # --- File menu actions ----------------------------------------------------------------------

@@ -25,7 +25,6 @@ import io
 import logging
 import math
 import pathlib
-import sys
 from dataclasses import dataclass, field
 from typing import Callable, Sequence
 
@@ -34,9 +33,6 @@ from PySide6.QtGui import QColor, QFont, QFontMetricsF, QImage, QPageLayout, QPa
 
 from sketchpad import theme
 from sketchpad.export import (
-    EXIT_BAD_INPUT,
-    EXIT_OK,
-    EXIT_SOLVE_FAILED,
     Drawing,
     ExportError,
     ensure_app,
@@ -44,6 +40,7 @@ from sketchpad.export import (
     page_size_for,
     paint_key_strip,
     pdf_writer,
+    run_file_command,
     units_line,
 )
 from solver.model import Rig
@@ -683,29 +680,14 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
 
 def report_cli(args) -> int:
     """``ropewright report RIG -o OUT.pdf``: exit 0 written, 2 bad input, 3 written but the rig did not solve."""
-    from solver.errors import RopewrightError
-    from sketchpad.export import load_for_cli, rig_error_text
-
-    try:
+    def check_output() -> None:
         if pathlib.Path(args.output).suffix.lower() != ".pdf":
             raise ExportError(f"a report is a PDF: end the file name '{pathlib.Path(args.output).name}' in .pdf")
-        rig, result = load_for_cli(args.rig)
-        write_report(rig, args.output, result, pathlib.Path(args.rig).resolve().parent, source=args.rig)
-    except ExportError as exc:
-        print(f"ropewright report: {exc}", file=sys.stderr)
-        return EXIT_BAD_INPUT
-    except RopewrightError as exc:
-        print(f"ropewright report: {rig_error_text(args.rig, exc)}", file=sys.stderr)
-        return EXIT_BAD_INPUT
-    except OSError as exc:
-        print(f"ropewright report: cannot read {args.rig}: {exc.strerror or exc}", file=sys.stderr)
-        return EXIT_BAD_INPUT
-    if not result.ok:
-        print(f"ropewright report: wrote {args.output}, but the rig did not solve: "
-              f"{failure_sentence(rig, result)}", file=sys.stderr)
-        return EXIT_SOLVE_FAILED
-    print(f"wrote {args.output}")
-    return EXIT_OK
+
+    def write(rig, result, rig_dir) -> None:
+        write_report(rig, args.output, result, rig_dir, source=args.rig)
+
+    return run_file_command("report", args, check_output, write, "but the rig did not solve")
 
 
 __all__ = ["write_report", "report_cli", "Report", "Table", "rope_table", "anchor_table", "hardware_table",
