@@ -36,7 +36,7 @@ def edge_rig(mu: float, wrap_deg: float, motion: str = "haul"):
 # "bystander": the same rig plus an unrelated free point elsewhere (tests/rigs.py).  Without
 # it every point of these rigs is fixed; solver/equilibrium.py at 30892e4 raised
 # "ValueError: zero-size array to reduction operation maximum" there whenever a pass had
-# friction (solve must never raise) — reported to the lead.
+# friction (solve must never raise); fixed by b3538ae, kept as a guard.
 BYSTANDER = pytest.mark.parametrize("bystander", [False, True], ids=["all-fixed", "bystander"])
 
 

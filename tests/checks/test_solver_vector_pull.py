@@ -226,14 +226,9 @@ def test_off_centre_pull_on_tied_hand_matches_reference_and_published_split(a_fr
 @pytest.mark.parametrize("x_frac", [0.15, 0.5, 0.8])
 @pytest.mark.parametrize("direction_deg", [90.0, 60.0, 125.0])
 @pytest.mark.parametrize("p_over_ea, t0", [(1e-3, 0.0), (1e-2, 300.0)])
-# DISCREPANCY (reported to the lead; solver/equilibrium.py at 30892e4): at 60° and 125°
-# with P/EA = 1e-3 hand-tight, and at 125° with P/EA = 1e-2, T0 = 300 N, the reference ring
-# ends 2.6-4.0 cm from an anchor.  The solver holds it at its default 5 cm pass spacing
-# (assembly.DEFAULT_MIN_SPACING_M) with a penalty contact force that is not in any segment
-# tension, returns status "ok" with no "two-blocked" warning, and the reported tensions
-# leave the ring out of balance by 1.8 N of a 40 N pull (60°), 5.4 N of 40 N (125°) and
-# 9.8 N of 400 N.  Either the ideal ring answer or a named two-blocked state is right;
-# "ok" with a hidden force is not.
+# Guards a found discrepancy (solver 30892e4, fixed by b3538ae): at 60° and 125° the ring
+# ends 2.6-4.0 cm from an anchor; the solver then held it at a 5 cm default pass spacing with
+# an unreported contact force (status "ok", no warning, balance off by up to 14 % of P).
 def test_ring_hand_slides_to_equal_angles_with_equal_tensions(x_frac, direction_deg, p_over_ea, t0):
     # Frictionless ring (sliding pass): both sides carry the same tension and the hand
     # slides to equal angles with the pull (check-values.md, Vector pull); position from

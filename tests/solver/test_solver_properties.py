@@ -28,15 +28,24 @@ coord = st.floats(0.0, BOX, allow_nan=False, allow_infinity=False)
 
 @st.composite
 def random_rigs(draw, friction: bool = True):
-    """A plan-view rig: 2-4 anchors, 1-4 free points each tied toward the anchors, one long rope
-    through free points (tied, sliding or over a pulley), forces on every free point."""
+    """A plan-view rig hanging "downstream": 2-4 anchors along the top of the site, 1-4 free
+    points below them, each tied to anchors or free points above it, one long rope through
+    free points (tied, sliding or over a pulley), and on every free point a force within
+    ±50° of "down" (like current in a river).  The family excludes by construction the two
+    degenerate cases in which statics has no unique answer: forces that cancel on a point
+    (it floats on slack ropes, a true mechanism) and a force aimed back through the anchor
+    of a slack rope (the point would have to pass through the anchor)."""
     n_anchor = draw(st.integers(2, 4))
     n_free = draw(st.integers(1, 4))
-    xy = [(draw(coord), draw(coord)) for _ in range(n_anchor + n_free)]
-    # no two points closer than 1 m: the rig is drawn, not degenerate
+    top = [(draw(coord), draw(st.floats(14.0, BOX))) for _ in range(n_anchor)]
+    low = sorted(((draw(coord), draw(st.floats(0.0, 12.0))) for _ in range(n_free)), key=lambda q: -q[1])
+    xy = top + low
+    # no two points closer than 1 m, free points at least 0.5 m apart in height: a drawn rig
     for i in range(len(xy)):
         for j in range(i):
             assume(math.dist(xy[i], xy[j]) > 1.0)
+    for i in range(1, len(low)):
+        assume(low[i - 1][1] - low[i][1] > 0.5)
     anchors = [rigs.anchor(f"A{i}", *xy[i]) for i in range(n_anchor)]
     frees = [rigs.free(f"P{i}", *xy[n_anchor + i]) for i in range(n_free)]
     ids_a = [p.id for p in anchors]
@@ -53,8 +62,8 @@ def random_rigs(draw, friction: bool = True):
         return {}
 
     for i, pid in enumerate(ids_f):
-        earlier = ids_a + ids_f[:i]
-        picks = draw(st.lists(st.sampled_from(earlier), min_size=1, max_size=2, unique=True))
+        above = ids_a + ids_f[:i]
+        picks = draw(st.lists(st.sampled_from(above), min_size=1, max_size=2, unique=True))
         for other in picks:
             ropes.append(rigs.rope(f"r{len(ropes)}", [other, pid], **rigging()))
     a, b = draw(st.lists(st.sampled_from(ids_a), min_size=2, max_size=2, unique=True))
@@ -65,7 +74,7 @@ def random_rigs(draw, friction: bool = True):
         how = draw(st.sampled_from(hows))
         middle.append((m, how, "pul") if how == "pulley" else (m, how))
     ropes.append(rigs.rope(f"r{len(ropes)}", [a, *middle, b], pretension_N=draw(st.floats(20.0, 500.0))))
-    forces = [rigs.force(pid, draw(st.floats(100.0, 2000.0)), draw(st.floats(0.0, 360.0))) for pid in ids_f]
+    forces = [rigs.force(pid, draw(st.floats(100.0, 2000.0)), 270.0 + draw(st.floats(-50.0, 50.0))) for pid in ids_f]
     motion = draw(st.sampled_from(["haul", "lower", "hold"]))
     return rigs.make_rig(anchors + frees, ropes, forces, hardware=hw, motion=motion, ea=draw(st.sampled_from([2e4, 1e5, 1e6])))
 
@@ -87,12 +96,18 @@ def same_tensions(a, b, fmax: float) -> None:
 # --- equilibrium ---------------------------------------------------------------------------
 
 
+# A contact force between passes must be named: solver 30892e4 returned "ok" with no warning
+# while the reported tensions left a point 2.5 N of 100 N out of balance (a hidden contact
+# push at its 5 cm default spacing); b3538ae names it in a "two-blocked" warning.
 @PROP
 @given(rig=random_rigs())
 def test_every_free_point_balances_to_1e_9_of_the_largest_force(rig):
     res = solved(rig)
     fmax = rigs.largest_force(rig, res)
+    blocked = [w for w in res.warnings if w.code == "two-blocked"]
     for pid, r in rigs.free_point_residuals(rig, res).items():
+        if any(w.subject == pid or f'"{pid}"' in w.message for w in blocked):
+            continue  # a named two-blocked pass: the hardware, not a rope, takes the difference
         assert float(np.linalg.norm(r)) <= 1e-9 * fmax, f"{pid}: imbalance {np.linalg.norm(r)} N, largest force {fmax} N"
     assert all(s.tension_N >= 0.0 for s in res.segments), "ropes only pull"
     assert res.residual_N <= 1e-7 * fmax
@@ -107,6 +122,53 @@ def test_warm_start_from_the_answer_returns_the_same_answer(rig):
     for pid in res.points:
         np.testing.assert_allclose(again.points[pid], res.points[pid], atol=1e-7 * BOX)
     same_tensions(res, again, rigs.largest_force(rig, res))
+
+
+# DISCREPANCY (reported to the lead; solver/equilibrium.py at b3538ae): a warm start from
+# the solver's own answer turns "ok" into "mechanism" when a pulley has friction.
+def test_warm_start_from_the_answer_with_a_90pct_pulley_stays_ok():
+    # Found by the property above.  Anchors A0 (0, 15), A1 (1, 14), A2 (0, 17), A3 (5, 14);
+    # free P0 (1, 1), P1 (0, 0); r0 A0-P0, r1 A0-P1 hand-tight; r2 A3 -> pulley(η 0.9) at P0
+    # -> P1 (tied) -> A0, pretension 20 N; EA 1e6 N; 100 N at 270° on P0, 280° on P1; haul.
+    # Cold: "ok".  Warm from the cold answer: "mechanism", P1 "can move east–west", although
+    # P1 hangs on three taut pieces (lateral stiffness ≈ ΣT/l ≈ 11 N/m).  η = 1 or hold: ok.
+    pts = [rigs.anchor("A0", 0, 15), rigs.anchor("A1", 1, 14), rigs.anchor("A2", 0, 17), rigs.anchor("A3", 5, 14),
+           rigs.free("P0", 1, 1), rigs.free("P1", 0, 0)]
+    ropes = [rigs.rope("r0", ["A0", "P0"]), rigs.rope("r1", ["A0", "P1"]),
+             rigs.rope("r2", ["A3", ("P0", "pulley", "pul"), "P1", "A0"], pretension_N=20.0)]
+    rig = rigs.make_rig(pts, ropes, [rigs.force("P0", 100, 270), rigs.force("P1", 100, 280)],
+                        hardware=[rigs.pulley("pul", 0.9)], motion="haul", ea=1e6)
+    cold = solved(rig)
+    warm = solve(rig, start=rigs.start_from(cold))
+    assert warm.status == "ok", rigs.describe(warm)
+    for pid in cold.points:
+        np.testing.assert_allclose(warm.points[pid], cold.points[pid], atol=1e-7 * BOX)
+
+
+# DISCREPANCY (reported to the lead; solver/equilibrium.py at b3538ae): a frictionless ring
+# that slides down its rope into a knot is reported "diverged" instead of two-blocked.
+def test_ring_sliding_into_a_knot_is_named_two_blocked_and_the_rest_still_solves():
+    # Found by the properties above.  Anchors A0 (5, 15), A1 (2, 14), A2 (0, 16); free P0 (0, 4),
+    # P1 (0, 2), P2 (7, 1), P3 (6, 0), each pulled 100 N at 270°; r0 A0-P0, r1 A0-P1, r2 A2-P2,
+    # r3 A2-P3 hand-tight; r4 A0 -> P2 (sliding) -> P3 (tied) -> A1, pretension 20 N; EA 2e4 N.
+    # An independent Nelder-Mead + BFGS minimisation of the potential energy (the reference
+    # of tests/checks/test_solver_energy_reference.py) puts P2 on P3 (3e-13 m apart): the
+    # ring slides into the knot, so the answer is a two-blocked state.  The solver gives
+    # "diverged" after 200 iterations (148 N imbalance "at P3") and leaves P0 at x = 4.40,
+    # though P0 hangs from A0 alone and must sit plumb under it at x = 5.
+    pts = [rigs.anchor("A0", 5, 15), rigs.anchor("A1", 2, 14), rigs.anchor("A2", 0, 16),
+           rigs.free("P0", 0, 4), rigs.free("P1", 0, 2), rigs.free("P2", 7, 1), rigs.free("P3", 6, 0)]
+    ropes = [rigs.rope("r0", ["A0", "P0"]), rigs.rope("r1", ["A0", "P1"]), rigs.rope("r2", ["A2", "P2"]),
+             rigs.rope("r3", ["A2", "P3"]), rigs.rope("r4", ["A0", ("P2", "sliding"), "P3", "A1"], pretension_N=20.0)]
+    ea = 2e4
+    rig = rigs.make_rig(pts, ropes, [rigs.force(p, 100.0, 270.0) for p in ("P0", "P1", "P2", "P3")], motion="hold", ea=ea)
+    res = solve(rig)
+    assert res.status == "ok", rigs.describe(res)
+    assert any(w.code == "two-blocked" and ({w.subject} | {"P2", "P3"}) == {"P2", "P3"} for w in res.warnings), res.warnings
+    # a point on one hand-tight rope hangs plumb under its anchor, stretched by W/EA (Hooke)
+    for pid, (x, y) in (("P0", (0, 4)), ("P1", (0, 2))):
+        l0 = math.hypot(5 - x, 15 - y)
+        np.testing.assert_allclose(rigs.xy(res, pid), [5.0, 15.0 - l0 * (1 + 100.0 / ea)], atol=1e-7 * BOX)
 
 
 # --- invariance ------------------------------------------------------------------------------
@@ -133,11 +195,14 @@ def test_rotating_the_rig_rotates_the_answer(rig, angle):
 
 
 @PROP
-@given(rig=random_rigs(), k=st.sampled_from([0.01, 0.3048, 3.0, 100.0]))
+@given(rig=random_rigs(), k=st.sampled_from([0.3048, 1 / 0.3048, 10.0]))
 def test_scaling_lengths_scales_positions_and_keeps_tensions(rig, k):
-    # lengths x k (incl. slack) with the same forces and rope stiffness: same strains, same tensions
+    # lengths x k (ft <-> m, and x10, slack included) with the same forces and rope stiffness:
+    # same strains, same tensions.  Hardware has an absolute size (two-blocking spacing), so
+    # a rig that ends two-blocked at either scale is outside this property.
     a = solved(rig)
     b = solved(rigs.transformed(rig, scale=k))
+    assume(not any(w.code == "two-blocked" for w in a.warnings + b.warnings))
     for pid in a.points:
         np.testing.assert_allclose(b.points[pid], k * np.asarray(a.points[pid]), atol=1e-7 * BOX * k)
     same_tensions(a, b, rigs.largest_force(rig, a))
