@@ -165,6 +165,12 @@ class SketchScene(QGraphicsScene):
         if not math.isclose(m_per_px, self.scale_m_per_px, rel_tol=1e-9):
             self.scale_m_per_px = m_per_px
             self._layout_ropes()
+            if self.item_cache_mode != QGraphicsItem.NoCache:
+                # markers and force arrows keep their pixel size, so Qt would reuse their cached
+                # pixmaps at the new zoom, placed to a whole pixel: draw them afresh instead
+                for item in self.items_by_key.values():
+                    if isinstance(item, (PointItem, ForceItem)):
+                        item.update()
 
     def set_item_cache(self, mode: QGraphicsItem.CacheMode) -> None:
         """Cache mode of every rope, point and force item, now and later.

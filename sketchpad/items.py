@@ -282,14 +282,15 @@ class PointItem(SketchItem):
             m = theme.SELECTION_WIDTH_PX + 2
             self._bounds = self.marker_rect().adjusted(-m, -m, m, m).united(self._label_rect.adjusted(-3, -3, 3, 3))
         pos = to_scene(point.x, point.y)
-        if pos != self.pos():
+        moved = pos != self.pos()
+        if moved:
             self.setPos(pos)
         tip = f"{point.name} ({point.kind})"
         if tip != self._tip:
             self._tip = tip
             self.setToolTip(tip)
-        if old is not point and _drawn_differs(old, point):
-            self.update()
+        if moved or (old is not point and _drawn_differs(old, point)):
+            self.update()  # also renews a device-coordinate cache drawn at the old sub-pixel offset
 
     def marker_rect(self) -> QRectF:
         r = self.radius
@@ -665,6 +666,7 @@ class ForceItem(SketchItem):
         pos = to_scene(*at_xy)
         if pos != self.pos():
             self.setPos(pos)
+            self.update()  # renews a device-coordinate cache drawn at the old sub-pixel offset
 
     def _direction(self) -> QPointF:
         a = math.radians(self.force.direction_deg)

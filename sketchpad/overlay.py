@@ -49,6 +49,7 @@ from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
 
 from sketchpad import theme
 from sketchpad.geometry import to_scene
+from sketchpad.items import blit_cached, pixel_dpr
 from solver.model import Rig
 from solver.result import Result
 from solver.units import format_force
@@ -302,10 +303,16 @@ class _Grid:
         x, y, w, h = r
         x1, y1 = x + w, y + h
         rects = self.rects
-        for k in self._cells(x, y, w, h):
-            for (ox, oy, ow, oh) in rects.get(k, ()):
-                if x < ox + ow and ox < x1 and y < oy + oh and oy < y1:
-                    return True
+        c = self.cell
+        j0, j1 = math.floor(y / c), math.floor(y1 / c)
+        for i in range(math.floor(x / c), math.floor(x1 / c) + 1):
+            for j in range(j0, j1 + 1):
+                cell = rects.get((i, j))
+                if cell is None:
+                    continue
+                for (ox, oy, ow, oh) in cell:
+                    if x < ox + ow and ox < x1 and y < oy + oh and oy < y1:
+                        return True
         return False
 
     def crossings(self, r, own: object) -> int:
@@ -330,6 +337,11 @@ def _rotate(v: tuple[float, float], deg: float) -> tuple[float, float]:
     return (v[0] * c - v[1] * s, v[0] * s + v[1] * c)
 
 
+#: Point-label directions tried, best first, as (degrees from the preferred one, cos, sin).
+_ROTATIONS = tuple((deg, math.cos(math.radians(deg)), math.sin(math.radians(deg)))
+                   for deg in (0.0, 40.0, -40.0, 90.0, -90.0, 140.0, -140.0, 180.0))
+
+
 def _candidates(lab: OverlayLabel, to_px: Callable, w: float, h: float):
     """Candidate (anchor scene point, centre px, anchor px, leader) for one label, best first."""
     gap = theme.OVERLAY_LABEL_GAP_PX
@@ -350,12 +362,15 @@ def _candidates(lab: OverlayLabel, to_px: Callable, w: float, h: float):
     else:
         bp = to_px(lab.base)
         r = MARKER_CLEAR_PX
+        px, py = lab.prefer
+        dirs = []  # the eight directions and their clearances, the same at every leader step
+        for rot, c, s in _ROTATIONS:
+            v = (px * c - py * s, px * s + py * c)
+            d0 = r + gap + _half_extent(v[0], v[1], w, h)
+            dirs.append((v, d0, theme.ANCHOR_ARROW_PX if lab.kind == "anchor" and rot == 0.0 else 0.0))
         for extra, leader in ((0.0, False),) + tuple((s, True) for s in LEADER_STEPS_PX):
-            for rot in (0.0, 40.0, -40.0, 90.0, -90.0, 140.0, -140.0, 180.0):
-                v = _rotate(lab.prefer, rot)
-                d = r + gap + _half_extent(v[0], v[1], w, h) + extra
-                if lab.kind == "anchor":
-                    d += theme.ANCHOR_ARROW_PX if rot == 0.0 else 0.0
+            for v, d0, arrow in dirs:
+                d = d0 + extra + arrow
                 yield lab.base, (bp[0] + v[0] * d, bp[1] + v[1] * d), bp, leader
 
 
@@ -678,10 +693,17 @@ class ForceItem(_LayerItem):
         painter.setBrush(Qt.NoBrush)
         painter.setPen(self._ring_pen)
         r = theme.OVERLAY_SOLVED_POINT_PX
-        for m in self.moved_points:
-            painter.drawEllipse(t.map(QPointF(*m)), r, r)
+        dpr = pixel_dpr(painter)
+        if dpr is None:  # SVG, PDF: vector rings
+            for m in self.moved_points:
+                painter.drawEllipse(t.map(QPointF(*m)), r, r)
+        else:  # every ring looks the same: blit it
+            reach = r + 2.0
+            bounds = QRectF(-reach, -reach, 2 * reach, 2 * reach)
+            for m in self.moved_points:
+                blit_cached(painter, t.map(QPointF(*m)), dpr, ("solved-ring", r), bounds, self._draw_ring)
         for arrow in self.arrows:
-            self._paint_arrow(painter, t, arrow)
+            self._paint_arrow(painter, t, arrow, dpr)
         painter.setFont(self.font)
         pad = theme.OVERLAY_LABEL_PAD_PX
         lh = self.fm.height()
@@ -706,10 +728,25 @@ class ForceItem(_LayerItem):
             painter.setBrush(Qt.NoBrush)
             painter.drawEllipse(t.map(QPointF(*self.fail_point)), theme.FAIL_RING_PX, theme.FAIL_RING_PX)
 
-    def _paint_arrow(self, painter: QPainter, t: QTransform, arrow: AnchorArrow) -> None:
+    def _draw_ring(self, painter: QPainter) -> None:
+        painter.setPen(self._ring_pen)
+        painter.setBrush(Qt.NoBrush)
+        r = theme.OVERLAY_SOLVED_POINT_PX
+        painter.drawEllipse(QPointF(0.0, 0.0), r, r)
+
+    def _paint_arrow(self, painter: QPainter, t: QTransform, arrow: AnchorArrow, dpr: float | None = None) -> None:
         colour = theme.OVERLAY_GREY if self.grey else arrow.colour
         base = t.map(QPointF(*arrow.base))
-        dx, dy = arrow.direction
+        if dpr is not None:  # on screen: arrows that did not change (most, during a drag) are blitted
+            reach = theme.ANCHOR_ARROW_PX + theme.ANCHOR_ARROW_WIDTH_PX
+            blit_cached(painter, base, dpr, ("anchor-arrow", arrow.direction, colour.rgba()),
+                        QRectF(-reach, -reach, 2 * reach, 2 * reach),
+                        lambda p: self._draw_arrow(p, QPointF(0.0, 0.0), arrow.direction, colour))
+            return
+        self._draw_arrow(painter, base, arrow.direction, colour)
+
+    def _draw_arrow(self, painter: QPainter, base: QPointF, direction: tuple[float, float], colour: QColor) -> None:
+        dx, dy = direction
         start = QPointF(base.x() + dx * MARKER_CLEAR_PX, base.y() + dy * MARKER_CLEAR_PX)
         tip = QPointF(base.x() + dx * theme.ANCHOR_ARROW_PX, base.y() + dy * theme.ANCHOR_ARROW_PX)
         hd = theme.ANCHOR_ARROW_HEAD_PX
@@ -1038,6 +1075,7 @@ class ResultOverlay(QObject):
             boxes = self._name_boxes(self.rig)
             if self.result is not None:
                 markers += [_scene(xy) for xy in self.result.points.values()]
+            markers = list(dict.fromkeys(markers))  # a fixed point's solved place is its drawn one
         previous = self._memo if self._memo_scale == m11 else None
         self.skipped = place_labels(self.force_item.labels, to_px, self.force_item.label_size, markers, self.pieces,
                                     boxes, previous)

@@ -231,10 +231,30 @@ def _name(rig: Rig, point_id: str) -> str:
         return point_id
 
 
+#: The last zones computed, with what they were computed from: (rig, segments, points, zones).
+_last_zones: tuple | None = None
+
+
 def danger_zones(rig: Rig, result: Result) -> list[DangerZone]:
-    """Bight and recoil zones of a solved rig (empty when the result is not ``ok``: no tensions, no zones)."""
+    """Bight and recoil zones of a solved rig (empty when the result is not ``ok``: no tensions, no zones).
+
+    The zones depend only on the rig and the result's solved ``points`` and ``segments``; the
+    last answer is kept, so the safety checks of ``analyse`` and the overlay drawing the same
+    result (a copy with warnings or a revision added by ``dataclasses.replace`` shares those
+    objects) build the shapely geometry once per analysis.
+    """
+    global _last_zones
     if not result.ok:
         return []
+    last = _last_zones
+    if last is not None and last[0] is rig and last[1] is result.segments and last[2] is result.points:
+        return list(last[3])
+    zones = _build_zones(rig, result)
+    _last_zones = (rig, result.segments, result.points, tuple(zones))
+    return zones
+
+
+def _build_zones(rig: Rig, result: Result) -> list[DangerZone]:
     zones: list[DangerZone] = []
     by_rope: dict[str, list[Piece]] = {}
     for pc in pieces(rig, result):
