@@ -561,6 +561,9 @@ class ForceItem(_LayerItem):
         self.bands: list[tuple[QPen, QPainterPath]] = []
         self.band_ends: list[list[tuple[float, float]]] = []  # both ends of every piece of each band (scene)
         self._band_dots: dict[tuple, QPixmap] = {}
+        self._draw: list[tuple] = []
+        self._draw_for: list | None = None
+        self._draw_grey = False
         self._grey_band_pen = theme.cosmetic_pen(theme.OVERLAY_GREY, theme.OVERLAY_BAND_PX)
         self.labels: list[OverlayLabel] = []
         self.arrows: list[AnchorArrow] = []
@@ -686,6 +689,11 @@ class ForceItem(_LayerItem):
             fx, fy = self.fail_point
             rect = rect.united(QRectF(fx - pad, fy - pad, 2 * pad, 2 * pad))
         self.set_rect(rect.adjusted(-pad, -pad, pad, pad) if not rect.isNull() else QRectF())
+        # what paint() blits for each placed label: anchor (scene), box offset and size (px), leader, pixmap
+        self._draw = [(lab.at[0], lab.at[1], *lab.rect, lab.leader,
+                       self.label_pixmap(lab, theme.OVERLAY_GREY if self.grey else lab.colour))
+                      for lab in self.labels if lab.placed]
+        self._draw_for, self._draw_grey = self.labels, self.grey
         self.update()
 
     # --- painting -----------------------------------------------------------------------------------
@@ -714,9 +722,20 @@ class ForceItem(_LayerItem):
         for arrow in self.arrows:
             self._paint_arrow(painter, t, arrow, dpr)
         painter.setFont(self.font)
-        pad = theme.OVERLAY_LABEL_PAD_PX
-        lh = self.fm.height()
-        for lab in self.labels:
+        if self._draw_for is self.labels and self._draw_grey == self.grey:  # prepared by refresh_rect
+            for ax, ay, x, y, w, h, leader, pix in self._draw:
+                px, py = t.map(ax, ay)
+                if leader:
+                    p = QPointF(px, py)
+                    painter.setPen(self._leader_pen)
+                    painter.drawLine(p, QPointF(min(max(px, px + x), px + x + w), min(max(py, py + y), py + y + h)))
+                    painter.setBrush(theme.OVERLAY_LEADER)
+                    painter.drawEllipse(p, 1.8, 1.8)
+                painter.drawPixmap(QPointF(px + x, py + y), pix)
+            labels = ()
+        else:
+            labels = self.labels
+        for lab in labels:
             if not lab.placed:
                 continue
             p = t.map(QPointF(*lab.at))
