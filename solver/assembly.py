@@ -14,6 +14,8 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
+import scipy.sparse
+import scipy.sparse.csgraph
 from numpy.typing import NDArray
 
 from solver.errors import RigModelError
@@ -128,6 +130,15 @@ class System:
     csc_indices: NDArray[np.int32] = field(default=None)
     csc_indptr: NDArray[np.int32] = field(default=None)
     dense_lin: NDArray[np.int64] = field(default=None)
+    # connected components of the free points (pieces and runs link points, fixed points do not)
+    run_pre: FloatArray = field(default=None)  # pretension of each run's rope, N (force scale)
+    n_comp: int = 0
+    dof_comp: IntArray = field(default=None)  # (n_dof,) component of each free coordinate
+    piece_comp: IntArray = field(default=None)  # (n_pieces,) component, -1 when both ends are fixed
+    run_comp: IntArray = field(default=None)  # (n_runs,) component, -1 when the run touches no free point
+    comp_size: FloatArray = field(default=None)  # (n_comp,) size of each component's drawing, m
+    comp_force_scale: FloatArray = field(default=None)  # (n_comp,) largest applied force / haul / pretension, N
+    piece_len0: FloatArray = field(default=None)  # drawn length of each piece, m
     has_edges: bool = False
     has_friction: bool = False
 
@@ -198,6 +209,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
     run_mat: list[int] = []
     run_rope: list[str] = []
     run_haul_point: list[str | None] = []
+    run_pre: list[float] = []
     middle: list[MiddlePass] = []
     hw_cache: dict[str, Hardware] = {}
 
@@ -267,6 +279,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
             run_count.append(run.last - run.first)
             run_mat.append(m_i)
             run_rope.append(rope.id)
+            run_pre.append(float(rig_i.pretension_N or 0.0))
             length = 0.0
             for k in range(run.first, run.last):
                 pa, pb = path[k], path[k + 1]
@@ -359,9 +372,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
     fmag = np.hypot(F[0::2], F[1::2]) if nf else np.zeros(0)
     pre = [r.rigged.pretension_N or 0.0 for r in rig.ropes]
     force_scale = float(max([0.0, *fmag, *run_P, *pre]))
-    spacing = np.array(s_min, dtype=float)
-    spacing = np.where(spacing > 0, spacing, BARE_MIN_SPACING * size)
-    spacing = np.minimum(spacing, 0.5 * np.array(piece_len0, dtype=float))
+    spacing = np.array(s_min, dtype=float)  # bare passes get their size in _finish, from their part's size
 
     sys_ = System(
         rig=rig, motion=motion, points=pts, point_ids=[p.id for p in pts], xy0=xy0, free=free, dof=dof, n_dof=2 * nf,
@@ -377,6 +388,8 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
         run_haul_point=run_haul_point, curves=curves, materials=materials, F=F, size=size,
         centre=0.5 * (lo + hi), force_scale=force_scale, middle_passes=middle, ignored_forces=ignored,
     )
+    sys_.run_pre = np.array(run_pre, dtype=float)
+    sys_.piece_len0 = np.array(piece_len0, dtype=float)
     _finish(sys_)
     return sys_
 
@@ -428,9 +441,74 @@ def _finish(s: System) -> None:
     s.pair_run = np.concatenate(rs) if rs else np.zeros(0, np.intp)
     off = s.pair_k != s.pair_j  # the k == j terms go into each piece's own block
     s.pair_k, s.pair_j, s.pair_run = s.pair_k[off], s.pair_j[off], s.pair_run[off]
+    _components(s)
+    # bare passes (a knot, a hand) are spaced relative to the size of their part of the rig, so a
+    # part solves to the same numbers whether it is drawn alone or beside others
+    part_size = _per_piece(s, s.comp_size, s.size)
+    s.s_min = np.where(s.s_min > 0, s.s_min, BARE_MIN_SPACING * part_size)
+    s.s_min = np.minimum(s.s_min, 0.5 * s.piece_len0)
     s.has_edges = bool(np.any(s.pass_kind == PASS_EDGE))
     s.has_friction = s.has_edges or bool(np.any((s.pass_kind == PASS_PULLEY) & (s.pass_eta < 1.0)))
     _pattern(s)
+
+
+def _per_piece(s: System, per_comp: FloatArray, default: float) -> FloatArray:
+    """A per-part value for every piece; ``default`` for pieces between fixed points."""
+    out = np.full(s.n_pieces, float(default))
+    on = s.piece_comp >= 0
+    out[on] = per_comp[s.piece_comp[on]]
+    return out
+
+
+def _components(s: System) -> None:
+    """Split the free points into independent parts: two free points belong together when a run links them.
+
+    A run's tension depends on every piece of it, so all free points a run touches are one part,
+    even across a fixed pulley; fixed points link nothing.  Each part is solved with its own
+    damping, step and convergence (the frictionless potential is a sum over parts), so that one
+    hard part does not hold the others back.
+    """
+    nf = s.n_dof // 2
+    fidx = np.cumsum(s.free) - 1  # free-point number of each structural point
+    if s.n_pieces and nf:
+        fa = np.where(s.free[s.a], fidx[s.a], -1)
+        fb = np.where(s.free[s.b], fidx[s.b], -1)
+        rep = np.full(s.n_runs, -1, dtype=np.intp)
+        np.maximum.at(rep, s.piece_run, np.maximum(fa, fb))
+        r = rep[s.piece_run]
+        ends = np.concatenate([fa, fb])
+        reps = np.concatenate([r, r])
+        keep = ends >= 0
+        graph = scipy.sparse.coo_matrix((np.ones(int(keep.sum())), (ends[keep], reps[keep])), shape=(nf, nf))
+        n_comp, label = scipy.sparse.csgraph.connected_components(graph, directed=False)
+    else:
+        rep = np.full(s.n_runs, -1, dtype=np.intp)
+        n_comp, label = nf, np.arange(nf)
+    label = np.asarray(label, dtype=np.intp)
+    s.n_comp = int(n_comp)
+    s.dof_comp = np.repeat(label, 2)
+    s.run_comp = np.full(s.n_runs, -1, dtype=np.intp)
+    s.run_comp[rep >= 0] = label[rep[rep >= 0]]
+    s.piece_comp = s.run_comp[s.piece_run] if s.n_pieces else np.zeros(0, np.intp)
+    # size of each part: the box around its free points and every point its pieces reach
+    lo = np.full((s.n_comp, 2), np.inf)
+    hi = np.full((s.n_comp, 2), -np.inf)
+    pc = label
+    pxy = s.xy0[s.free]
+    np.minimum.at(lo, pc, pxy)
+    np.maximum.at(hi, pc, pxy)
+    on = s.piece_comp >= 0
+    for ends in (s.a, s.b):
+        np.minimum.at(lo, s.piece_comp[on], s.xy0[ends[on]])
+        np.maximum.at(hi, s.piece_comp[on], s.xy0[ends[on]])
+    s.comp_size = np.maximum(np.hypot(*(hi - lo).T), 1e-3) if s.n_comp else np.zeros(0)
+    scale = np.zeros(s.n_comp)
+    if nf:
+        np.maximum.at(scale, label, np.hypot(s.F[0::2], s.F[1::2]))
+    rc = s.run_comp >= 0
+    if np.any(rc):
+        np.maximum.at(scale, s.run_comp[rc], np.maximum(s.run_P[rc], s.run_pre[rc]))
+    s.comp_force_scale = scale
 
 
 # --- evaluation: lengths, run tensions, out-of-balance forces, energy, tangent -------------------
@@ -457,6 +535,7 @@ class State:
     N: FloatArray  # piece axial pull incl. contact push, N
     g: FloatArray  # out-of-balance: internal resistance minus external force, per dof, N
     energy: float  # total potential (meaningful without friction), J
+    comp_energy: FloatArray  # the potential of each free part (energy = their sum + a constant), J
 
 
 def by_material(s: System, mats: IntArray, values: FloatArray, method: str) -> FloatArray:
@@ -473,8 +552,9 @@ def by_material(s: System, mats: IntArray, values: FloatArray, method: str) -> F
 
 
 def contact_stiffness(s: System) -> FloatArray:
-    """Penalty stiffness of the minimum-spacing contact of each piece, N/m."""
-    return CONTACT_STIFFNESS * max(s.force_scale, 1.0) / np.maximum(s.s_min, 1e-6)
+    """Penalty stiffness of the minimum-spacing contact of each piece, N/m (from its own part's force scale)."""
+    scale = _per_piece(s, s.comp_force_scale, s.force_scale)
+    return CONTACT_STIFFNESS * np.maximum(scale, 1.0) / np.maximum(s.s_min, 1e-6)
 
 
 def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -> tuple[FloatArray, NDArray[np.bool_]]:
@@ -555,14 +635,22 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
         g += np.bincount(idx[keep], vals[keep], minlength=s.n_dof)
     # potential energy, exact for frictionless weights
     hauled = s.run_hauled
-    energy = float(np.dot(s.run_P[hauled], L[hauled])) if s.n_runs else 0.0
+    U = np.where(hauled, s.run_P * L, 0.0) if s.n_runs else np.zeros(0)
     tied = np.flatnonzero(~hauled & (L > s.run_L0))
     if len(tied):
         e_r = L[tied] / s.run_L0[tied] - 1.0
-        energy += float(np.dot(s.run_L0[tied], by_material(s, s.run_mat[tied], e_r, "energy")))
-    energy += float(0.5 * np.dot(kc, pen * pen)) - float(np.dot(s.F, x))
+        U[tied] = s.run_L0[tied] * by_material(s, s.run_mat[tied], e_r, "energy")
+    contact = 0.5 * kc * pen * pen
+    fx = s.F * x
+    energy = float(U.sum()) + float(contact.sum()) - float(fx.sum())
+    comp_energy = -np.bincount(s.dof_comp, fx, minlength=s.n_comp)
+    if s.n_runs:
+        on = s.run_comp >= 0
+        comp_energy += np.bincount(s.run_comp[on], U[on], minlength=s.n_comp)
+        on = s.piece_comp >= 0
+        comp_energy += np.bincount(s.piece_comp[on], contact[on], minlength=s.n_comp)
     return State(x=x, xy=xy, l=l, u=u, w=w, L=L, tau=tau, taut=taut, T=T, eps=eps, pen=pen, N=N, g=g,
-                 energy=energy)
+                 energy=energy, comp_energy=comp_energy)
 
 
 _SGN = np.array([1.0, 1.0, -1.0, -1.0])

@@ -84,19 +84,20 @@ def _matrix(s: System, st: State, kc: np.ndarray, dense: bool):
     return scipy.sparse.csc_matrix((data, s.csc_indices, s.csc_indptr), shape=(n, n))
 
 
-def _shifted_solve(K, lam: float, rhs: np.ndarray, dense: bool, symmetric: bool) -> np.ndarray | None:
-    """Solve (K + lam I) d = rhs; None when the shifted matrix is not usable (raise the shift)."""
+def _shifted_solve(K, lam: np.ndarray, rhs: np.ndarray, dense: bool, symmetric: bool) -> np.ndarray | None:
+    """Solve (K + diag(lam)) d = rhs; None when the shifted matrix is not usable (raise the shift)."""
     n = len(rhs)
     try:
         if dense:
-            M = K + lam * np.eye(n)
+            M = K.copy()
+            M[np.diag_indices(n)] += lam
             if symmetric:
-                c, low = scipy.linalg.cho_factor(M, check_finite=False)
+                c, low = scipy.linalg.cho_factor(M, overwrite_a=True, check_finite=False)
                 d = scipy.linalg.cho_solve((c, low), rhs, check_finite=False)
             else:
-                d = scipy.linalg.solve(M, rhs, check_finite=False)
+                d = scipy.linalg.solve(M, rhs, overwrite_a=True, check_finite=False)
         else:
-            M = (K + lam * scipy.sparse.identity(n, format="csc")).tocsc()
+            M = (K + scipy.sparse.diags(lam, format="csc")).tocsc()
             if symmetric:  # SPD after the shift: diagonal pivots, symmetric ordering
                 lu = scipy.sparse.linalg.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
                                               options={"SymmetricMode": True})
@@ -108,80 +109,157 @@ def _shifted_solve(K, lam: float, rhs: np.ndarray, dense: bool, symmetric: bool)
     return d if np.all(np.isfinite(d)) else None
 
 
+def _comp_max(s: System, values: np.ndarray) -> np.ndarray:
+    """Largest per-point value (``values`` per free point) within each part."""
+    out = np.zeros(s.n_comp)
+    if len(values):
+        np.maximum.at(out, s.dof_comp[0::2], values)
+    return out
+
+
+def _comp_scale(s: System, st: State) -> np.ndarray:
+    """Force scale of each part: its largest applied force, haul, pretension or piece pull, N."""
+    out = s.comp_force_scale.copy()
+    on = s.piece_comp >= 0
+    if np.any(on):
+        np.maximum.at(out, s.piece_comp[on], np.abs(st.N[on]))
+    return out
+
+
+def _sub(K, idx: np.ndarray, dense: bool):
+    """The tangent restricted to the coordinates ``idx`` (whole parts: K is block-diagonal over parts)."""
+    if dense:
+        return K[np.ix_(idx, idx)]
+    return K[idx][:, idx]
+
+
 def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symmetric: bool,
             max_iter: int = MAX_ITER) -> _Outcome:
-    """Damped, shifted Newton iteration for g(x) = 0 at fixed piece weights ``w``."""
+    """Damped, shifted Newton iteration for g(x) = 0 at fixed piece weights ``w``.
+
+    Every independent part of the rig (``System.n_comp``) keeps its own Levenberg-Marquardt
+    shift, step cap, line-search step and convergence test: the merit (the potential Pi
+    without friction, 1/2 |g|^2 with it) is a sum over parts, so a per-part Armijo test is
+    exactly the test of that part alone.  A part is solved by the same numbers whether it is
+    drawn alone or beside others, and the iteration count is that of the slowest part.
+    """
     dense = s.n_dof <= DENSE_MAX
     st = evaluate(s, x0, w, kc)
     if s.n_dof == 0:
         return _Outcome(st, 0, True)
+    C = s.n_comp
+    cd = s.dof_comp
+    cp = cd[0::2]
+    size = s.comp_size
 
-    def merit(state: State) -> float:
-        return state.energy if symmetric else 0.5 * float(np.dot(state.g, state.g))
+    def merit(state: State) -> np.ndarray:
+        if symmetric:
+            return state.comp_energy
+        return 0.5 * np.bincount(cd, state.g * state.g, minlength=C)
 
-    cap = 0.1 * s.size
-    mu = 1e-10
+    cap = 0.1 * size
+    mu = np.full(C, 1e-10)
+    active = np.ones(C, dtype=bool)  # parts still iterating
+    ok = np.zeros(C, dtype=bool)  # parts that stopped converged
+    stall = np.zeros(C, dtype=np.intp)  # iterations without the imbalance halving
+    best = np.full(C, np.inf)
     free_idx = np.flatnonzero(s.free)
     evaluations = 0
+    it = 0
     for it in range(max_iter):
         if evaluations > MAX_EVALUATIONS:
             break
-        scale = _force_scale(s, st)
-        res = _max_norm(st.g)
-        if res <= TARGET_REL * scale or (scale == 0.0 and res == 0.0):
+        scale = _comp_scale(s, st)
+        pn = _point_norms(st.g)
+        res = _comp_max(s, pn)
+        done = active & ((res <= TARGET_REL * scale) | ((scale == 0.0) & (res == 0.0)))
+        # at the round-off floor: no progress for several iterations but within the acceptance
+        improved = res < 0.5 * best
+        best = np.where(improved, res, best)
+        stall = np.where(improved, 0, stall + 1)
+        done |= active & (stall >= 4) & (res <= ACCEPT_REL * scale)
+        ok |= done
+        active &= ~done
+        if not active.any():
             return _Outcome(st, it, True)
         K = _matrix(s, st, kc, dense)
         diag = K.diagonal()
-        base = max(float(diag.max()) if len(diag) else 0.0, scale / s.size, 1e-12)
+        base = _comp_max(s, np.maximum(diag[0::2], diag[1::2]))
+        base = np.maximum(np.maximum(base, scale / size), 1e-12)
         m0 = merit(st)
-        accepted = False
+        x_new = st.x.copy()
+        pending = active.copy()
+        alpha = np.ones(C)
+        capped = np.zeros(C, dtype=bool)
+        trial = None
         for _attempt in range(8):
-            lam = mu * base
-            d = _shifted_solve(K, lam, -st.g, dense, symmetric)
-            if d is None:
-                mu *= 100.0
-                continue
-            step = _point_norms(d).max()
-            capped = step > cap
-            if capped:
-                d *= cap / step
-            if symmetric:
-                slope = float(np.dot(st.g, d))
-            else:
-                Kd = K @ d
-                slope = float(np.dot(st.g, Kd))
-            if slope >= 0.0:
-                mu *= 100.0
-                continue
-            alpha = 1.0
-            for _ls in range(30):
-                evaluations += 1
-                trial = evaluate(s, st.x + alpha * d, w, kc)
-                m1 = merit(trial)
-                if m1 <= m0 + 1e-4 * alpha * slope:
-                    accepted = True
-                    break
-                # round-off: merit flat to machine precision but the imbalance still shrinks
-                if abs(m1 - m0) <= 1e-13 * (abs(m0) + scale * s.size) and \
-                        _max_norm(trial.g) < 0.9 * res:
-                    accepted = True
-                    break
-                alpha *= 0.5
-            if accepted:
+            if not pending.any():
                 break
-            mu *= 100.0
-        if not accepted:
-            return _Outcome(st, it, res <= ACCEPT_REL * scale)
-        if alpha == 1.0:
-            mu = max(mu / 10.0, 1e-10)
-            if capped:
-                cap *= 2.0
+            idx = np.flatnonzero(pending[cd])
+            every = len(idx) == s.n_dof
+            Ks = K if every else _sub(K, idx, dense)
+            lam = (mu * base)[cd[idx]]
+            d_sub = _shifted_solve(Ks, lam, -st.g[idx], dense, symmetric)
+            if d_sub is None:
+                mu[pending] *= 100.0
+                continue
+            d = np.zeros(s.n_dof)
+            d[idx] = d_sub
+            step = _comp_max(s, _point_norms(d))
+            shrink = np.where(pending & (step > cap), cap / np.maximum(step, 1e-300), 1.0)
+            capped = np.where(pending, step > cap, capped)
+            d *= shrink[cd]
+            if symmetric:
+                slope = np.bincount(cd, st.g * d, minlength=C)
+            else:
+                Kd = np.zeros(s.n_dof)
+                Kd[idx] = Ks @ d[idx]
+                slope = np.bincount(cd, st.g * Kd, minlength=C)
+            uphill = pending & (slope >= 0.0)
+            mu[uphill] *= 100.0
+            trying = pending & ~uphill
+            a = np.where(trying, 1.0, 0.0)
+            for _ls in range(30):
+                if not trying.any():
+                    break
+                evaluations += 1
+                xt = x_new.copy()
+                tdofs = trying[cd]
+                xt[tdofs] = st.x[tdofs] + (a[cd] * d)[tdofs]
+                trial = evaluate(s, xt, w, kc)
+                m1 = merit(trial)
+                good = trying & (m1 <= m0 + 1e-4 * a * slope)
+                # round-off: merit flat to machine precision but the imbalance still shrinks
+                flat = np.abs(m1 - m0) <= 1e-13 * (np.abs(m0) + scale * size)
+                good |= trying & flat & (_comp_max(s, _point_norms(trial.g)) < 0.9 * res)
+                if good.any():
+                    gd = good[cd]
+                    x_new[gd] = xt[gd]
+                    alpha[good] = a[good]
+                    pending &= ~good
+                    trying &= ~good
+                a = np.where(trying, 0.5 * a, a)
+            mu[trying] *= 100.0  # line search failed: more damping
+        for c in np.flatnonzero(pending):  # no step found: stop this part where it is
+            ok[c] = res[c] <= ACCEPT_REL * scale[c]
+            active[c] = False
+        if trial is None or not np.array_equal(trial.x, x_new):
+            evaluations += 1
+            trial = evaluate(s, x_new, w, kc)
+        if log.isEnabledFor(logging.DEBUG):
+            log.debug("it %d res %s mu %s alpha %s cap %s capped %s", it, res, mu, alpha, cap, capped)
+        stepped = active & (alpha == 1.0)
+        mu[stepped] = np.maximum(mu[stepped] / 10.0, 1e-10)
+        cap = np.where(stepped & capped, 2.0 * cap, cap)
         st = trial
         far = np.hypot(*(st.xy[free_idx] - s.centre).T)
         if far.max() > RUNAWAY_SIZES * s.size:
             return _Outcome(st, it + 1, False, runaway=int(free_idx[np.argmax(far)]))
-    scale = _force_scale(s, st)
-    return _Outcome(st, max_iter, _max_norm(st.g) <= ACCEPT_REL * scale)
+        if not active.any():
+            return _Outcome(st, it + 1, bool(ok.all()))
+    scale = _comp_scale(s, st)
+    res = _comp_max(s, _point_norms(st.g))
+    return _Outcome(st, it + 1, bool(np.all(ok | (res <= ACCEPT_REL * scale))))
 
 
 # --- words -----------------------------------------------------------------------------------------
