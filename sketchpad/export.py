@@ -315,33 +315,16 @@ def print_force_item():
                 self.labels = labels
             painter.setWorldTransform(QTransform())
             painter.setOpacity(theme.OVERLAY_GREY_OPACITY if self.grey else 1.0)
-            pad, lh = theme.OVERLAY_LABEL_PAD_PX, self.fm.height()
-            half = theme.OVERLAY_LABEL_BORDER_PX / 2.0
             for lab in labels:
                 if not lab.placed:
                     continue
-                painter.save()
                 p = t.map(QPointF(*lab.at))
                 x, y, w, h = lab.rect
                 box = QRectF(p.x() + x, p.y() + y, w, h)
-                colour = theme.OVERLAY_GREY if self.grey else lab.colour
-                if lab.leader:
-                    painter.setPen(self._leader_pen)
-                    cx = min(max(p.x(), box.left()), box.right())
-                    cy = min(max(p.y(), box.top()), box.bottom())
-                    painter.drawLine(p, QPointF(cx, cy))
-                    painter.setBrush(theme.OVERLAY_LEADER)
-                    painter.drawEllipse(p, 1.8, 1.8)
-                painter.restore()
                 painter.save()
-                painter.setPen(self.pen_for(colour, theme.OVERLAY_LABEL_BORDER_PX))
-                painter.setBrush(self._back)
-                painter.drawRoundedRect(box.adjusted(half, half, -half, -half), 3.0, 3.0)
-                painter.setFont(self.font)
-                angle = lab.kind == "angle" and not self.grey
-                painter.setPen(self.pen_for(theme.ANGLE_TEXT, 1.0) if angle else self._text_pen)
-                for i, line in enumerate(lab.lines):
-                    painter.drawText(QPointF(box.left() + pad, box.top() + pad + i * lh + self.fm.ascent()), line)
+                if lab.leader:
+                    self.paint_leader(painter, p, box)
+                self.paint_label_vector(painter, lab, box, theme.OVERLAY_GREY if self.grey else lab.colour)
                 painter.restore()
 
     return PrintForceItem()

@@ -44,7 +44,6 @@ from PySide6.QtGui import (
     QPen,
     QPixmap,
     QPolygonF,
-    QStaticText,
     QTransform,
 )
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
@@ -578,7 +577,6 @@ class ForceItem(_LayerItem):
         self._ring_pen = theme.pixel_pen(theme.OVERLAY_LEADER, 1.3)
         self._fail_pen = theme.pixel_pen(theme.BANNER_BACK, 3.0)
         self._size_cache: dict[str, tuple[float, float]] = {}
-        self._static_cache: dict[str, QStaticText] = {}
         self._pixmap_cache: dict[tuple, QPixmap] = {}
 
     # --- building (outside paint) ---------------------------------------------------------------
@@ -647,27 +645,35 @@ class ForceItem(_LayerItem):
         p = QPainter(pix)
         p.setRenderHint(QPainter.Antialiasing, True)
         p.setRenderHint(QPainter.TextAntialiasing, True)
-        half = theme.OVERLAY_LABEL_BORDER_PX / 2.0
-        p.setPen(self.pen_for(colour, theme.OVERLAY_LABEL_BORDER_PX))
-        p.setBrush(self._back)
-        p.drawRoundedRect(QRectF(half, half, w - 2 * half, h - 2 * half), 3.0, 3.0)
-        p.setFont(self.font)
-        p.setPen(self.pen_for(theme.ANGLE_TEXT, 1.0) if key[2] else self._text_pen)
-        pad, lh = theme.OVERLAY_LABEL_PAD_PX, self.fm.height()
-        for i, line in enumerate(lab.lines):
-            p.drawStaticText(QPointF(pad, pad + i * lh), self.static_text(line))
+        self.paint_label_vector(p, lab, QRectF(0.0, 0.0, w, h), colour)
         p.end()
         self._pixmap_cache[key] = pix
         return pix
 
-    def static_text(self, line: str) -> QStaticText:
-        st = self._static_cache.get(line)
-        if st is None:
-            st = QStaticText(line)
-            st.setTextFormat(Qt.PlainText)
-            st.prepare(QTransform(), self.font)
-            self._static_cache[line] = st
-        return st
+    def paint_label_vector(self, painter: QPainter, lab: OverlayLabel, box: QRectF, colour: QColor) -> None:
+        """A label's rounded box (border in ``colour``) and its text lines, drawn as vectors in ``box`` (device px).
+
+        Fills :meth:`label_pixmap`'s cache on screen; print and SVG (``sketchpad.export``) draw it directly.
+        """
+        half = theme.OVERLAY_LABEL_BORDER_PX / 2.0
+        painter.setPen(self.pen_for(colour, theme.OVERLAY_LABEL_BORDER_PX))
+        painter.setBrush(self._back)
+        painter.drawRoundedRect(box.adjusted(half, half, -half, -half), 3.0, 3.0)
+        painter.setFont(self.font)
+        angle = lab.kind == "angle" and not self.grey
+        painter.setPen(self.pen_for(theme.ANGLE_TEXT, 1.0) if angle else self._text_pen)
+        pad, lh, ascent = theme.OVERLAY_LABEL_PAD_PX, self.fm.height(), self.fm.ascent()
+        for i, line in enumerate(lab.lines):
+            painter.drawText(QPointF(box.left() + pad, box.top() + pad + i * lh + ascent), line)
+
+    def paint_leader(self, painter: QPainter, anchor: QPointF, box: QRectF) -> None:
+        """The leader from a label's anchor point to the nearest point of its box, with a dot on the anchor (device px)."""
+        painter.setPen(self._leader_pen)
+        cx = min(max(anchor.x(), box.left()), box.right())
+        cy = min(max(anchor.y(), box.top()), box.bottom())
+        painter.drawLine(anchor, QPointF(cx, cy))
+        painter.setBrush(theme.OVERLAY_LEADER)
+        painter.drawEllipse(anchor, 1.8, 1.8)
 
     def set_labels(self, labels: list[OverlayLabel], arrows: list[AnchorArrow], m_per_px: float) -> None:
         self.labels, self.arrows = labels, arrows
@@ -726,11 +732,7 @@ class ForceItem(_LayerItem):
             for ax, ay, x, y, w, h, leader, pix in self._draw:
                 px, py = t.map(ax, ay)
                 if leader:
-                    p = QPointF(px, py)
-                    painter.setPen(self._leader_pen)
-                    painter.drawLine(p, QPointF(min(max(px, px + x), px + x + w), min(max(py, py + y), py + y + h)))
-                    painter.setBrush(theme.OVERLAY_LEADER)
-                    painter.drawEllipse(p, 1.8, 1.8)
+                    self.paint_leader(painter, QPointF(px, py), QRectF(px + x, py + y, w, h))
                 painter.drawPixmap(QPointF(px + x, py + y), pix)
             labels = ()
         else:
@@ -743,12 +745,7 @@ class ForceItem(_LayerItem):
             box = QRectF(p.x() + x, p.y() + y, w, h)
             colour = theme.OVERLAY_GREY if self.grey else lab.colour
             if lab.leader:
-                painter.setPen(self._leader_pen)
-                cx = min(max(p.x(), box.left()), box.right())
-                cy = min(max(p.y(), box.top()), box.bottom())
-                painter.drawLine(p, QPointF(cx, cy))
-                painter.setBrush(theme.OVERLAY_LEADER)
-                painter.drawEllipse(p, 1.8, 1.8)
+                self.paint_leader(painter, p, box)
             painter.drawPixmap(box.topLeft(), self.label_pixmap(lab, colour))
         if self.fail_point is not None:
             painter.setOpacity(1.0)
