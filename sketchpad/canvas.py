@@ -20,15 +20,14 @@ from PySide6.QtGui import (
     QKeyEvent,
     QMouseEvent,
     QPainter,
-    QPainterPath,
     QPixmapCache,
-    QPolygonF,
     QWheelEvent,
 )
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsScene, QGraphicsView
 
 from sketchpad import theme
 from sketchpad.geometry import to_scene, to_site
+from sketchpad.glyphs import paint_north_arrow
 from sketchpad.items import (
     FeatureItem,
     ForceItem,
@@ -560,18 +559,7 @@ class SketchView(QGraphicsView):
         painter.setPen(Qt.NoPen)
         painter.setBrush(theme.HUD_BACK)
         painter.drawEllipse(QPointF(cx, top + s * 0.62), s * 0.72, s * 0.72)
-        path = QPainterPath()
-        path.addPolygon(QPolygonF([QPointF(cx, top), QPointF(cx + s * 0.28, top + s), QPointF(cx, top + s * 0.78),
-                                   QPointF(cx - s * 0.28, top + s)]))
-        path.closeSubpath()
-        painter.setPen(theme.pixel_pen(theme.HUD_TEXT, 1.0))
-        painter.setBrush(theme.HUD_TEXT)
-        painter.drawPath(path)
-        painter.setFont(theme.font(theme.HUD_POINT_SIZE, bold=True))
-        label = "up" if elevation else "N"
-        fm = QFontMetricsF(painter.font())
-        painter.setPen(theme.HUD_TEXT)
-        painter.drawText(QPointF(cx - fm.horizontalAdvance(label) / 2, top + s + fm.ascent() + 1), label)
+        paint_north_arrow(painter, QPointF(cx, top + s * 0.6), s, elevation, theme.font(theme.HUD_POINT_SIZE, bold=True))
 
 
 __all__ = ["SketchScene", "SketchView", "CanvasEvent", "PointItem", "RopeItem", "nice_step", "unit_metres"]

@@ -40,12 +40,11 @@ from PySide6.QtGui import (
     QPageLayout,
     QPageSize,
     QPainter,
-    QPainterPath,
     QPen,
-    QPolygonF,
 )
 
 from sketchpad import theme
+from sketchpad.glyphs import paint_north_arrow
 from solver.model import Point, Rig
 from solver.result import Result
 
@@ -361,24 +360,6 @@ def wrap_text(painter: QPainter, rect: QRectF, text: str, font: QFont, colour: Q
     return bound.height()
 
 
-def paint_north_arrow(painter: QPainter, centre: QPointF, size: float, elevation: bool) -> None:
-    """A north arrow (plan) or an arrow marked "up" (elevation) centred at ``centre``."""
-    s = size
-    cx, top = centre.x(), centre.y() - s * 0.6
-    path = QPainterPath()
-    path.addPolygon(QPolygonF([QPointF(cx, top), QPointF(cx + s * 0.28, top + s), QPointF(cx, top + s * 0.78),
-                               QPointF(cx - s * 0.28, top + s)]))
-    path.closeSubpath()
-    painter.setPen(theme.pixel_pen(theme.HUD_TEXT, 1.0))
-    painter.setBrush(theme.HUD_TEXT)
-    painter.drawPath(path)
-    painter.setFont(_font(TEXT_PT, bold=True))
-    label = "up" if elevation else "N"
-    fm = QFontMetricsF(painter.font())
-    painter.setPen(theme.HUD_TEXT)
-    painter.drawText(QPointF(cx - fm.horizontalAdvance(label) / 2, top + s + fm.ascent() + 1), label)
-
-
 def paint_scale_bar(painter: QPainter, left: QPointF, length_m: float, px_per_m: float, unit: str) -> float:
     """A two-tone scale bar ``length_m`` long with its length written above; returns its width (px)."""
     from solver.units import format_length
@@ -556,7 +537,8 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
     y += 10
     # north arrow and scale bar
     s = theme.NORTH_ARROW_PX
-    paint_north_arrow(painter, QPointF(x + s * 0.5, y + s * 0.6), s, rig.view == "elevation")
+    paint_north_arrow(painter, QPointF(x + s * 0.5, y + s * 0.6), s, rig.view == "elevation",
+                      _font(TEXT_PT, bold=True))
     fm = QFontMetricsF(_font(TEXT_PT))
     if drawing.fit is not None:
         paint_scale_bar(painter, QPointF(x + s + 14, y + fm.height() + 4), drawing.scale_bar_m(),
@@ -605,7 +587,8 @@ def paint_key_strip(painter: QPainter, rect: QRectF, drawing: Drawing) -> None:
     painter.save()
     s = theme.NORTH_ARROW_PX * 0.8
     x, y = rect.left(), rect.top()
-    paint_north_arrow(painter, QPointF(x + s * 0.5, y + s * 0.6), s, rig.view == "elevation")
+    paint_north_arrow(painter, QPointF(x + s * 0.5, y + s * 0.6), s, rig.view == "elevation",
+                      _font(TEXT_PT, bold=True))
     fm = QFontMetricsF(_font(TEXT_PT))
     x += s + 14
     if drawing.fit is not None:
