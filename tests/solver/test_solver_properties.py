@@ -171,6 +171,42 @@ def test_ring_sliding_into_a_knot_is_named_two_blocked_and_the_rest_still_solves
         np.testing.assert_allclose(rigs.xy(res, pid), [5.0, 15.0 - l0 * (1 + 100.0 / ea)], atol=1e-7 * BOX)
 
 
+# DISCREPANCY (reported to the lead; solver/equilibrium.py at 9d6a14c): one point hanging
+# on a tied rope and on a pulley with η = 0.6 (haul) is reported "diverged" though the
+# frictional equilibrium exists (found by the translation property, then minimised).
+def test_point_hanging_on_a_60pct_pulley_solves_to_the_frictional_equilibrium():
+    # P0 (0, 0) with 100 N at 270°; r0 A0 (5, 14) - P0 hand-tight; r1 A0 -> pulley(η 0.6) at P0
+    # -> A1 (0, 14), pretension 20 N; EA 1e6 N; haul, so r1's second piece carries t/η
+    # (rig-format.md).  Reference: scipy least_squares on the force balance of P0 and the
+    # run's length equation Σ l_k/(1 + T_k/EA) = L0 (3 equations, x, y, t); it finds
+    # P0 = (1.85695, -0.20120), t = 38.04 N.  Solver: "diverged" after 216 iterations,
+    # 3.18 N imbalance at P0 (2.10, -0.21); with η = 1 or in hold it is "ok".
+    from scipy.optimize import least_squares
+
+    ea, eta = 1e6, 0.6
+    a0, a1, p0, w = np.array([5.0, 14.0]), np.array([0.0, 14.0]), np.array([0.0, 0.0]), np.array([0.0, -100.0])
+    l00 = float(np.linalg.norm(a0 - p0))
+    l01 = (float(np.linalg.norm(a0 - p0)) + float(np.linalg.norm(a1 - p0))) / (1 + 20.0 / ea)
+
+    def eqs(z):
+        p, t = z[:2], z[2]
+        d0, d1 = a0 - p, a1 - p
+        n0, n1 = float(np.linalg.norm(d0)), float(np.linalg.norm(d1))
+        t0 = max(ea * (n0 / l00 - 1.0), 0.0)
+        f = (t0 + t) * d0 / n0 + (t / eta) * d1 / n1 + w
+        return [f[0], f[1], ea * (n0 / (1 + t / ea) + n1 / (1 + t / (eta * ea)) - l01)]
+
+    ref = least_squares(eqs, [1.0, 0.0, 50.0], xtol=1e-15, ftol=1e-15, gtol=1e-15)
+    assert max(abs(v) for v in eqs(ref.x)) < 1e-6
+    pts = [rigs.anchor("A0", *a0), rigs.anchor("A1", *a1), rigs.free("P0", *p0)]
+    ropes = [rigs.rope("r0", ["A0", "P0"]), rigs.rope("r1", ["A0", ("P0", "pulley", "pul"), "A1"], pretension_N=20.0)]
+    rig = rigs.make_rig(pts, ropes, [rigs.force("P0", 100.0, 270.0)], hardware=[rigs.pulley("pul", eta)], motion="haul", ea=ea)
+    res = solved(rig)
+    np.testing.assert_allclose(rigs.xy(res, "P0"), ref.x[:2], atol=1e-7 * BOX)
+    assert rigs.tension(res, "r1", 0) == pytest.approx(ref.x[2], rel=1e-6)
+    assert rigs.tension(res, "r1", 1) == pytest.approx(ref.x[2] / eta, rel=1e-6)
+
+
 # --- invariance ------------------------------------------------------------------------------
 
 
