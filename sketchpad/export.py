@@ -340,7 +340,8 @@ def name_boxes(rig: Rig) -> list:
 
 
 # --- page furniture ------------------------------------------------------------------------
-def _font(size: float, bold: bool = False, italic: bool = False) -> QFont:
+def page_font(size: float, bold: bool = False, italic: bool = False) -> QFont:
+    """A fresh copy of the app's face at ``size`` points (fractions allowed), for drawings and reports."""
     f = QFont(theme.FONT_FAMILY)
     f.setPointSizeF(size)
     f.setBold(bold)
@@ -371,7 +372,7 @@ def paint_scale_bar(painter: QPainter, left: QPointF, length_m: float, px_per_m:
     for i in range(2):
         painter.setBrush(theme.HUD_TEXT if i == 0 else theme.PAPER)
         painter.drawRect(QRectF(x0 + i * w / 2, y0, w / 2, h))
-    painter.setFont(_font(TEXT_PT))
+    painter.setFont(page_font(TEXT_PT))
     fm = QFontMetricsF(painter.font())
     painter.setPen(theme.HUD_TEXT)
     painter.drawText(QPointF(x0, y0 - 4), format_length(length_m, unit))
@@ -383,9 +384,9 @@ def paint_ramp(painter: QPainter, rect: QRectF, grey: bool = False) -> float:
     """The rope-use ramp (tension x SF / MBS) with ticks, title above; returns the height used."""
     from sketchpad.overlay import Legend
 
-    fm = QFontMetricsF(_font(SMALL_PT))
+    fm = QFontMetricsF(page_font(SMALL_PT))
     y = rect.top()
-    painter.setFont(_font(SMALL_PT, bold=True))
+    painter.setFont(page_font(SMALL_PT, bold=True))
     painter.setPen(INK)
     painter.drawText(QPointF(rect.left(), y + fm.ascent()), Legend.TITLE)
     y += fm.height() + 3
@@ -397,7 +398,7 @@ def paint_ramp(painter: QPainter, rect: QRectF, grey: bool = False) -> float:
     painter.setPen(Qt.NoPen)
     painter.setBrush(grad)
     painter.drawRect(ramp)
-    painter.setFont(_font(SMALL_PT))
+    painter.setFont(page_font(SMALL_PT))
     painter.setPen(theme.pixel_pen(INK, 1.0))
     for u in Legend.TICKS:
         x = ramp.left() + ramp.width() * u / top
@@ -410,9 +411,9 @@ def paint_ramp(painter: QPainter, rect: QRectF, grey: bool = False) -> float:
 
 def paint_zone_key(painter: QPainter, left: QPointF) -> float:
     """Swatches of the two danger-zone kinds; returns the height used."""
-    fm = QFontMetricsF(_font(SMALL_PT))
+    fm = QFontMetricsF(page_font(SMALL_PT))
     x, y = left.x(), left.y()
-    painter.setFont(_font(SMALL_PT))
+    painter.setFont(page_font(SMALL_PT))
     for kind, name in (("bight", "inside of bight"), ("recoil", "recoil band")):
         fill, hatch = theme.zone_brushes(kind)
         box = QRectF(x, y + 1, 16, fm.height() - 2)
@@ -431,8 +432,8 @@ def paint_point_key(painter: QPainter, rect: QRectF, kinds: Iterable[str]) -> fl
     """Each point kind's marker (drawn by its canvas item class) with its name; returns the height used."""
     from sketchpad.items import make_point_item
 
-    fm = QFontMetricsF(_font(SMALL_PT))
-    painter.setFont(_font(SMALL_PT))
+    fm = QFontMetricsF(page_font(SMALL_PT))
+    painter.setFont(page_font(SMALL_PT))
     x, y = rect.left(), rect.top()
     row_h = 2 * max(theme.POINT_RADIUS_PX.values()) + 4
     for kind, name in KEY_KINDS:
@@ -472,9 +473,9 @@ def paint_rope_key(painter: QPainter, rect: QRectF, rig: Rig) -> float:
     y = rect.top()
     for colour, text in rope_lines(rig):
         painter.setPen(theme.pixel_pen(colour, theme.ROPE_WIDTH_PX + 0.6))
-        fm = QFontMetricsF(_font(SMALL_PT))
+        fm = QFontMetricsF(page_font(SMALL_PT))
         painter.drawLine(QPointF(rect.left(), y + fm.height() / 2), QPointF(rect.left() + 20, y + fm.height() / 2))
-        y += wrap_text(painter, QRectF(rect.left() + 26, y, rect.width() - 26, 0), text, _font(SMALL_PT))
+        y += wrap_text(painter, QRectF(rect.left() + 26, y, rect.width() - 26, 0), text, page_font(SMALL_PT))
     return y - rect.top()
 
 
@@ -515,31 +516,31 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
     inner = rect.adjusted(PAD, PAD, -PAD, -PAD)
     x, w = inner.left(), inner.width()
     y = inner.top()
-    y += wrap_text(painter, QRectF(x, y, w, 0), title, _font(TITLE_PT, bold=True)) + 3
-    y += wrap_text(painter, QRectF(x, y, w, 0), subtitle, _font(SMALL_PT), MUTED) + 1
-    y += wrap_text(painter, QRectF(x, y, w, 0), units_line(rig), _font(SMALL_PT), MUTED) + 8
+    y += wrap_text(painter, QRectF(x, y, w, 0), title, page_font(TITLE_PT, bold=True)) + 3
+    y += wrap_text(painter, QRectF(x, y, w, 0), subtitle, page_font(SMALL_PT), MUTED) + 1
+    y += wrap_text(painter, QRectF(x, y, w, 0), units_line(rig), page_font(SMALL_PT), MUTED) + 8
     # solve summary
     if result.ok:
         for line in status_lines(rig, result):
-            y += wrap_text(painter, QRectF(x, y, w, 0), line, _font(TEXT_PT, bold=line.startswith("MA ")))
+            y += wrap_text(painter, QRectF(x, y, w, 0), line, page_font(TEXT_PT, bold=line.startswith("MA ")))
         if drawing.skipped:
             y += wrap_text(painter, QRectF(x, y, w, 0),
                            f"{drawing.skipped} force label{'s' if drawing.skipped != 1 else ''} left off "
-                           f"to avoid overlap: see the report tables.", _font(SMALL_PT, italic=True), MUTED)
+                           f"to avoid overlap: see the report tables.", page_font(SMALL_PT, italic=True), MUTED)
     else:
         text = failure_sentence(rig, result)
-        h = wrap_text(painter, QRectF(x + 6, y + 5, w - 12, 0), text, _font(TEXT_PT, bold=True), draw=False)
+        h = wrap_text(painter, QRectF(x + 6, y + 5, w - 12, 0), text, page_font(TEXT_PT, bold=True), draw=False)
         painter.setPen(Qt.NoPen)
         painter.setBrush(FAIL_BACK)
         painter.drawRoundedRect(QRectF(x, y, w, h + 10), 4, 4)
-        wrap_text(painter, QRectF(x + 6, y + 5, w - 12, 0), text, _font(TEXT_PT, bold=True), theme.BANNER_TEXT)
+        wrap_text(painter, QRectF(x + 6, y + 5, w - 12, 0), text, page_font(TEXT_PT, bold=True), theme.BANNER_TEXT)
         y += h + 10
     y += 10
     # north arrow and scale bar
     s = theme.NORTH_ARROW_PX
     paint_north_arrow(painter, QPointF(x + s * 0.5, y + s * 0.6), s, rig.view == "elevation",
-                      _font(TEXT_PT, bold=True))
-    fm = QFontMetricsF(_font(TEXT_PT))
+                      page_font(TEXT_PT, bold=True))
+    fm = QFontMetricsF(page_font(TEXT_PT))
     if drawing.fit is not None:
         paint_scale_bar(painter, QPointF(x + s + 14, y + fm.height() + 4), drawing.scale_bar_m(),
                         drawing.fit.px_per_m, rig.display.length)
@@ -556,7 +557,7 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
         if drawing.zones:
             y += paint_zone_key(painter, QPointF(x, y)) + 4
     # caution at the bottom; warnings fill what is left above it
-    caution_h = wrap_text(painter, QRectF(x, 0, w, 0), SHORT_CAUTION, _font(SMALL_PT, italic=True), draw=False)
+    caution_h = wrap_text(painter, QRectF(x, 0, w, 0), SHORT_CAUTION, page_font(SMALL_PT, italic=True), draw=False)
     bottom = inner.bottom() - caution_h - 6
     warnings = list(result.warnings)
     if warnings:
@@ -564,20 +565,20 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
         painter.setPen(theme.pixel_pen(RULE, 1.0))
         painter.drawLine(QPointF(x, y), QPointF(x + w, y))
         y += 5
-        y += wrap_text(painter, QRectF(x, y, w, 0), f"Warnings ({len(warnings)})", _font(HEAD_PT, bold=True)) + 2
+        y += wrap_text(painter, QRectF(x, y, w, 0), f"Warnings ({len(warnings)})", page_font(HEAD_PT, bold=True)) + 2
         shown = 0
         for wn in warnings[:MAX_SIDEBAR_WARNINGS]:
             colour = DANGER_TEXT if wn.severity == "danger" else WARNING_TEXT if wn.severity == "warning" else INK
             text = ("DANGER: " if wn.severity == "danger" else "") + wn.message
-            h = wrap_text(painter, QRectF(x, y, w, 0), text, _font(SMALL_PT), draw=False)
+            h = wrap_text(painter, QRectF(x, y, w, 0), text, page_font(SMALL_PT), draw=False)
             if y + h > bottom - 14:
                 break
-            y += wrap_text(painter, QRectF(x, y, w, 0), text, _font(SMALL_PT), colour) + 2
+            y += wrap_text(painter, QRectF(x, y, w, 0), text, page_font(SMALL_PT), colour) + 2
             shown += 1
         if shown < len(warnings):
             wrap_text(painter, QRectF(x, y, w, 0), f"… and {len(warnings) - shown} more in the report.",
-                      _font(SMALL_PT, italic=True), MUTED)
-    wrap_text(painter, QRectF(x, inner.bottom() - caution_h, w, 0), SHORT_CAUTION, _font(SMALL_PT, italic=True), INK)
+                      page_font(SMALL_PT, italic=True), MUTED)
+    wrap_text(painter, QRectF(x, inner.bottom() - caution_h, w, 0), SHORT_CAUTION, page_font(SMALL_PT, italic=True), INK)
     painter.restore()
 
 
@@ -588,8 +589,8 @@ def paint_key_strip(painter: QPainter, rect: QRectF, drawing: Drawing) -> None:
     s = theme.NORTH_ARROW_PX * 0.8
     x, y = rect.left(), rect.top()
     paint_north_arrow(painter, QPointF(x + s * 0.5, y + s * 0.6), s, rig.view == "elevation",
-                      _font(TEXT_PT, bold=True))
-    fm = QFontMetricsF(_font(TEXT_PT))
+                      page_font(TEXT_PT, bold=True))
+    fm = QFontMetricsF(page_font(TEXT_PT))
     x += s + 14
     if drawing.fit is not None:
         x += paint_scale_bar(painter, QPointF(x, y + fm.height() + 6), drawing.scale_bar_m(), drawing.fit.px_per_m,

@@ -37,6 +37,7 @@ from sketchpad.export import (
     ExportError,
     ensure_app,
     failure_sentence,
+    page_font,
     page_size_for,
     paint_key_strip,
     pdf_writer,
@@ -379,14 +380,6 @@ def sweep_plot(rig: Rig, width_px: float, height_px: float) -> tuple[QImage | No
 
 
 # --- page layout --------------------------------------------------------------------------------
-def _font(size: float, bold: bool = False, italic: bool = False) -> QFont:
-    f = QFont(theme.FONT_FAMILY)
-    f.setPointSizeF(size)
-    f.setBold(bold)
-    f.setItalic(italic)
-    return f
-
-
 class Flow:
     """Top-to-bottom layout on pages of ``content`` (logical px); ``painter`` None measures only."""
 
@@ -445,7 +438,7 @@ class Flow:
 
     def heading(self, text: str) -> None:
         self.y += 6
-        self.text(text, _font(HEAD_PT, bold=True), gap=3, keep=40)
+        self.text(text, page_font(HEAD_PT, bold=True), gap=3, keep=40)
         if self.painter is not None:
             self.painter.setPen(RULE)
             self.painter.drawLine(QPointF(self.left, self.y - 2), QPointF(self.left + self.width, self.y - 2))
@@ -473,17 +466,17 @@ class Flow:
 
     def table(self, t: Table) -> None:
         """A table with a shaded header (repeated on a new page), zebra rows, red rows below the safety factor."""
-        font, bold = _font(TABLE_PT), _font(TABLE_PT, bold=True)
+        font, bold = page_font(TABLE_PT), page_font(TABLE_PT, bold=True)
         total = sum(t.widths)
         cols = [self.width * w / total for w in t.widths]
         pad = 4.0
         if t.rows:  # keep the heading with the table's header and first row
             first = max(self.text_height(c, bold, cols[i] - 2 * pad) for i, c in enumerate(t.header)) + \
                 max(self.text_height(c, font, cols[i] - 2 * pad) for i, c in enumerate(t.rows[0])) + 4 * pad
-            self.need(first + self.text_height(t.title, _font(HEAD_PT, bold=True)) + 16)
+            self.need(first + self.text_height(t.title, page_font(HEAD_PT, bold=True)) + 16)
         self.heading(t.title)
         if not t.rows:
-            self.text("None in this rig.", _font(BODY_PT, italic=True), MUTED)
+            self.text("None in this rig.", page_font(BODY_PT, italic=True), MUTED)
             return
 
         def row_h(cells, f) -> float:
@@ -514,14 +507,14 @@ class Flow:
             if h > self.room():
                 self.break_page()
                 draw_row(t.header, bold, HEAD_BACK, INK)
-            draw_row(cells, _font(TABLE_PT, bold=True) if n in t.flagged else font,
+            draw_row(cells, page_font(TABLE_PT, bold=True) if n in t.flagged else font,
                      ZEBRA if n % 2 else None, LOW_SF if n in t.flagged else INK)
         if self.painter is not None:
             self.painter.setPen(RULE)
             self.painter.drawLine(QPointF(self.left, self.y), QPointF(self.left + self.width, self.y))
         self.y += 3
         if t.note:
-            self.text(t.note, _font(SMALL_PT, italic=True), MUTED)
+            self.text(t.note, page_font(SMALL_PT, italic=True), MUTED)
 
 
 @dataclass
@@ -539,23 +532,23 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
     from solver.cautions import FULL_CAUTION
 
     fu = rig.display.force
-    flow.text(rig.title or (pathlib.Path(source).name if source else "Untitled rig"), _font(TITLE_PT, bold=True), gap=2)
-    flow.text(f"Rig report, {when}" + (f" — {pathlib.Path(source).name}" if source else ""), _font(BODY_PT), MUTED, gap=1)
+    flow.text(rig.title or (pathlib.Path(source).name if source else "Untitled rig"), page_font(TITLE_PT, bold=True), gap=2)
+    flow.text(f"Rig report, {when}" + (f" — {pathlib.Path(source).name}" if source else ""), page_font(BODY_PT), MUTED, gap=1)
     flow.text(units_line(rig) + f". Safety factor asked for: {rig.settings.min_safety_factor:g}:1. "
-              f"Motion: {rig.settings.motion}.", _font(BODY_PT), MUTED, gap=6)
+              f"Motion: {rig.settings.motion}.", page_font(BODY_PT), MUTED, gap=6)
     if result.ok:
         flow.box(f"Solved: equilibrium found in {result.iterations} iterations (largest force imbalance "
                  f"{format_force(result.residual_N, 'N', 3)}). "
                  f"{len(result.warnings)} warning{'s' if len(result.warnings) != 1 else ''}.",
-                 _font(BODY_PT), OK_BACK, INK)
+                 page_font(BODY_PT), OK_BACK, INK)
     else:
         flow.box("THE RIG DID NOT SOLVE. " + failure_sentence(rig, result).replace(
                  "No forces are shown: fix the rig and export again.", "") +
                  " This report therefore gives no forces, safety factors, mechanical advantage or haul plan. "
                  "Do not use this rig as drawn: fix the drawing and make a new report.",
-                 _font(BODY_PT + 1, bold=True), FAIL_BACK, QColor("#ffffff"))
+                 page_font(BODY_PT + 1, bold=True), FAIL_BACK, QColor("#ffffff"))
     if rig.notes:
-        flow.text("Notes: " + rig.notes, _font(BODY_PT, italic=True), gap=6)
+        flow.text("Notes: " + rig.notes, page_font(BODY_PT, italic=True), gap=6)
 
     def paint_drawing(p: QPainter, r: QRectF) -> None:
         draw_r = QRectF(r.left(), r.top(), r.width(), r.height() - KEY_H_PX)
@@ -571,20 +564,20 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
     flow.y += 4
     if drawing.skipped and result.ok:
         flow.text(f"{drawing.skipped} force label{'s' if drawing.skipped != 1 else ''} left off the drawing to "
-                  "avoid overlap; every number is in the tables.", _font(SMALL_PT, italic=True), MUTED)
+                  "avoid overlap; every number is in the tables.", page_font(SMALL_PT, italic=True), MUTED)
 
     if result.ok:
         flow.heading("System")
-        flow.text(ma_sentence(result), _font(BODY_PT, bold=True))
+        flow.text(ma_sentence(result), page_font(BODY_PT, bold=True))
         for line in haul_sentences(rig, result):
-            flow.text(line, _font(BODY_PT))
+            flow.text(line, page_font(BODY_PT))
     flow.heading(f"Warnings ({len(result.warnings)})")
     if not result.warnings:
-        flow.text("None found by the checks. That does not make the rig safe: see the cautions.", _font(BODY_PT))
+        flow.text("None found by the checks. That does not make the rig safe: see the cautions.", page_font(BODY_PT))
     for w in result.warnings:
         tag = {"danger": "DANGER", "warning": "Warning", "info": "Note"}.get(w.severity, w.severity)
         colour = LOW_SF if w.severity == "danger" else INK
-        flow.text(f"{tag}: {w.message}", _font(BODY_PT, bold=w.severity == "danger"), colour, indent=8)
+        flow.text(f"{tag}: {w.message}", page_font(BODY_PT, bold=w.severity == "danger"), colour, indent=8)
 
     if result.ok:
         for t in (rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result)):
@@ -593,7 +586,7 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
             image, caption = plot
             flow.heading(f"Mechanical advantage and peak anchor load against the pulling force ({fu})")
             if image is not None:
-                cap_h = flow.text_height(caption, _font(SMALL_PT, italic=True))
+                cap_h = flow.text_height(caption, page_font(SMALL_PT, italic=True))
                 flow.need(sizes[1] + cap_h + 6)
                 def paint_plot(p: QPainter, r: QRectF) -> None:
                     w = min(r.width(), sizes[1] * image.width() / max(image.height(), 1))
@@ -601,13 +594,13 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
 
                 flow.block(sizes[1], paint_plot)
                 flow.y += 2
-            flow.text(caption, _font(SMALL_PT, italic=True), MUTED)
+            flow.text(caption, page_font(SMALL_PT, italic=True), MUTED)
     flow.heading("Assumptions")
     for line in assumption_lines(rig):
-        flow.text("• " + line, _font(SMALL_PT), indent=4, gap=2)
+        flow.text("• " + line, page_font(SMALL_PT), indent=4, gap=2)
     flow.heading("Safety cautions")
     for para in FULL_CAUTION.split("\n\n"):
-        flow.text(para, _font(BODY_PT, bold=True), gap=4)
+        flow.text(para, page_font(BODY_PT, bold=True), gap=4)
 
 
 def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = None,
@@ -656,7 +649,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
             break
 
     def footer(p: QPainter, n: int) -> None:
-        p.setFont(_font(SMALL_PT))
+        p.setFont(page_font(SMALL_PT))
         p.setPen(MUTED)
         r = QRectF(m, page_h - m - footer_h + 8, page_w - 2 * m, footer_h)
         p.drawLine(QPointF(r.left(), r.top() - 3), QPointF(r.right(), r.top() - 3))
