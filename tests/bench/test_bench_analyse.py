@@ -12,7 +12,7 @@ from solver.analysis import analyse
 from solver.checks import run_checks
 from solver.danger import _build_zones, danger_zones
 from solver.equilibrium import solve
-from tests.bench.test_bench_drag_repaint import fifty_rope_rig
+from tests.bench.fifty_ropes import fifty_rope_rig
 
 
 def test_analyse_a_50_rope_rig_warm_started(benchmark):

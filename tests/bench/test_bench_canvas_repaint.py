@@ -9,31 +9,9 @@ can come from its pixmap cache); "after zoom" changes the zoom first, so every i
 
 from __future__ import annotations
 
-import pytest
 from PySide6.QtCore import QPoint
-from PySide6.QtWidgets import QApplication
 
 from sketchpad.items import PointItem, RopeItem
-from sketchpad.main_window import MainWindow
-from tests.bench.test_bench_drag_repaint import fifty_rope_rig
-
-
-@pytest.fixture
-def window(qtbot):
-    w = MainWindow()
-    w.resize(1400, 900)
-    w.show()
-    qtbot.waitExposed(w)
-    w.document.replace_all(fifty_rope_rig())
-    w.view.zoom_to_fit()
-    sched = w.live.scheduler
-    sched.background, sched.background_after_ms = False, float("inf")
-    first = sched.solve_now()
-    assert first.ok, first.message
-    yield w
-    w.close()
-    w.deleteLater()
-    QApplication.processEvents()
 
 
 def _painted(window) -> dict[str, int]:

@@ -6,66 +6,13 @@ follow once the rig is still (``SETTLE_MS``), so that is what one step here meas
 --benchmark-disable (correctness asserted, never time); measure with
 ``python -m pytest tests/bench/test_bench_drag_repaint.py --benchmark-enable --benchmark-only``.
 The parts are tracked on their own by ``test_bench_canvas_repaint.py`` (a frame with nothing
-changed, and one after a zoom) and ``test_bench_analyse.py`` (the settled analysis).
+changed, and one after a zoom) and ``test_bench_analyse.py`` (the settled analysis).  The rig is
+``fifty_ropes.fifty_rope_rig``; the ``window`` fixture is in ``conftest.py``.
 """
 
 from __future__ import annotations
 
 import math
-
-import pytest
-from PySide6.QtWidgets import QApplication
-
-from sketchpad.main_window import MainWindow
-from tests import rigs
-
-
-def fifty_rope_rig():
-    """Ten 3:1-with-redirect hauling systems side by side, each with a two-sling anchor: 50 ropes.
-
-    Per system: main line load -> redirect pulley -> grab -> anchor pulley -> grab -> haul (1 rope),
-    two slings from two anchors to a master point (2), a tag line to a hand (1) and a back-tie (1).
-    """
-    pts, ropes, forces = [], [], []
-    for k in range(10):
-        x = 30.0 * k
-        pts += [rigs.load(f"L{k}", x, 0), rigs.anchor(f"R{k}", x + 6, 12), rigs.anchor(f"S{k}", x - 4, 20),
-                rigs.anchor(f"T{k}", x - 1, 21), rigs.free(f"M{k}", x - 2, 17), rigs.free(f"G{k}", x - 1, 14),
-                rigs.haul(f"H{k}", x - 8, 20, 600.0), rigs.anchor(f"B{k}", x - 12, 24),
-                rigs.anchor(f"P{k}", x + 10, 2), rigs.free(f"V{k}", x + 5, 1)]
-        ropes += [
-            rigs.rope(f"main{k}", [f"L{k}", (f"R{k}", "pulley", "pul"), f"G{k}", (f"M{k}", "pulley", "pul"),
-                                   (f"G{k}", "pulley", "pul"), (f"H{k}", "hauled")]),
-            rigs.rope(f"sa{k}", [f"S{k}", f"M{k}"]),
-            rigs.rope(f"sb{k}", [f"T{k}", f"M{k}"]),
-            rigs.rope(f"tag{k}", [f"L{k}", (f"V{k}", "sliding"), f"P{k}"], pretension_N=200.0),
-            rigs.rope(f"tie{k}", [f"M{k}", f"B{k}"], pretension_N=100.0),
-        ]
-        forces.append(rigs.force(f"V{k}", 80.0, 270.0))
-    return rigs.make_rig(pts, ropes, forces, hardware=[rigs.pulley("pul", 0.9)], ea=6e4)
-
-
-@pytest.fixture
-def window(qtbot):
-    w = MainWindow()
-    w.resize(1400, 900)
-    w.show()
-    qtbot.waitExposed(w)
-    rig = fifty_rope_rig()
-    assert len(rig.ropes) == 50
-    w.document.replace_all(rig)
-    w.view.zoom_to_fit()
-    sched = w.live.scheduler
-    # solve in the GUI thread, as a quick drag step does: the window's first solve (an empty rig,
-    # paying the scipy/shapely imports) can exceed ``background_after_ms`` and would otherwise send
-    # every step to the worker thread, leaving the measured step without its solve
-    sched.background, sched.background_after_ms = False, float("inf")
-    first = sched.solve_now()
-    assert first.ok, first.message
-    yield w
-    w.close()
-    w.deleteLater()
-    QApplication.processEvents()
 
 
 def test_drag_step_on_a_50_rope_rig(benchmark, window):
