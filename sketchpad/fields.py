@@ -166,6 +166,13 @@ class QuantityField(QWidget):
     def value(self):
         return self._value
 
+    def is_untouched(self) -> bool:
+        """True while the field holds a model value and shows exactly its text in the current unit.
+
+        Then :meth:`value` is the exact stored value to use, not a re-read of its rounded display text.
+        """
+        return self._value is not None and self.edit.text() == self.format(self._value)
+
     def revert(self) -> None:
         self.clear_error()
         with QSignalBlocker(self.edit):

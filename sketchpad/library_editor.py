@@ -141,7 +141,7 @@ class _SpecForm(QWidget):
             field.show_error(exc.message)
             raise
         field.clear_error()
-        if field.value() is not None and value is not None and field.edit.text() == field.format(field.value()):
+        if value is not None and field.is_untouched():
             return field.value()  # untouched: the exact stored value, not its rounded display
         return value
 

@@ -344,7 +344,7 @@ class LoadEstimateDialog(QDialog):
 
 def _live(field: QuantityField):
     """The SI value in ``field`` now: the exact value it shows (not its rounded text), else what is being typed."""
-    if field.value() is not None and not field.has_error and field.edit.text() == field.format(field.value()):
+    if field.is_untouched() and not field.has_error:
         return field.value()
     try:
         return field.parse(field.edit.text())
