@@ -317,9 +317,7 @@ def print_force_item():
             for lab in labels:
                 if not lab.placed:
                     continue
-                p = t.map(QPointF(*lab.at))
-                x, y, w, h = lab.rect
-                box = QRectF(p.x() + x, p.y() + y, w, h)
+                p, box = self.label_box(lab, t)
                 painter.save()
                 if lab.leader:
                     self.paint_leader(painter, p, box)

@@ -666,6 +666,13 @@ class ForceItem(_LayerItem):
         for i, line in enumerate(lab.lines):
             painter.drawText(QPointF(box.left() + pad, box.top() + pad + i * lh + ascent), line)
 
+    @staticmethod
+    def label_box(lab: OverlayLabel, t: QTransform) -> tuple[QPointF, QRectF]:
+        """A placed label's anchor point and box in device px, ``t`` mapping scene metres to the device."""
+        p = t.map(QPointF(*lab.at))
+        x, y, w, h = lab.rect
+        return p, QRectF(p.x() + x, p.y() + y, w, h)
+
     def paint_leader(self, painter: QPainter, anchor: QPointF, box: QRectF) -> None:
         """The leader from a label's anchor point to the nearest point of its box, with a dot on the anchor (device px)."""
         painter.setPen(self._leader_pen)
@@ -740,9 +747,7 @@ class ForceItem(_LayerItem):
         for lab in labels:
             if not lab.placed:
                 continue
-            p = t.map(QPointF(*lab.at))
-            x, y, w, h = lab.rect
-            box = QRectF(p.x() + x, p.y() + y, w, h)
+            p, box = self.label_box(lab, t)
             colour = theme.OVERLAY_GREY if self.grey else lab.colour
             if lab.leader:
                 self.paint_leader(painter, p, box)
