@@ -82,7 +82,7 @@ class System:
     motion: str
     points: list  # the structural Point objects, in dof order
     point_ids: list[str]
-    xy0: FloatArray  # (n_points, 2) drawn coordinates
+    xy0: FloatArray  # (n_points, 2) drawn coordinates relative to ``origin``, m
     free: NDArray[np.bool_]  # (n_points,)
     dof: IntArray  # (n_points, 2): dof index, or -1 when fixed
     n_dof: int
@@ -114,8 +114,9 @@ class System:
     materials: list[Material]
     F: FloatArray  # external force on each dof, N
     size: float  # rig size, m
-    centre: FloatArray
+    centre: FloatArray  # centre of the drawing in solver coordinates (the origin: zero)
     force_scale: float
+    origin: FloatArray = field(default=None)  # site coordinates of the solver's origin, m
     middle_passes: list[MiddlePass] = field(default_factory=list)
     ignored_forces: list[str] = field(default_factory=list)
     # index arrays for assembly, built in finish()
@@ -139,6 +140,7 @@ class System:
     comp_size: FloatArray = field(default=None)  # (n_comp,) size of each component's drawing, m
     comp_force_scale: FloatArray = field(default=None)  # (n_comp,) largest applied force / haul / pretension, N
     piece_len0: FloatArray = field(default=None)  # drawn length of each piece, m
+    soft: FloatArray | None = None  # per run: ropes softened to kappa * T(eps) for the solver's soft start
     has_edges: bool = False
     has_friction: bool = False
 
@@ -386,9 +388,12 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
         run_hauled=np.array(run_hauled, dtype=bool), run_P=np.array(run_P, dtype=float),
         run_L0=np.array(run_L0, dtype=float), run_mat=np.array(run_mat, dtype=np.intp), run_rope=run_rope,
         run_haul_point=run_haul_point, curves=curves, materials=materials, F=F, size=size,
-        centre=0.5 * (lo + hi), force_scale=force_scale, middle_passes=middle, ignored_forces=ignored,
+        centre=np.zeros(2), origin=0.5 * (lo + hi), force_scale=force_scale, middle_passes=middle, ignored_forces=ignored,
     )
     sys_.run_pre = np.array(run_pre, dtype=float)
+    # solve about the drawing's centre: round-off then does not grow with the distance from the
+    # site origin (a stiff contact times the last bit of a far-off coordinate is a real force)
+    sys_.xy0 = xy0 - sys_.origin
     sys_.piece_len0 = np.array(piece_len0, dtype=float)
     _finish(sys_)
     return sys_
@@ -538,8 +543,19 @@ class State:
     comp_energy: FloatArray  # the potential of each free part (energy = their sum + a constant), J
 
 
-def by_material(s: System, mats: IntArray, values: FloatArray, method: str) -> FloatArray:
-    """Apply StretchCurve ``method`` elementwise, each element with its material's curve."""
+def by_material(s: System, mats: IntArray, values: FloatArray, method: str,
+                kappa: FloatArray | None = None) -> FloatArray:
+    """Apply StretchCurve ``method`` elementwise, each element with its material's curve.
+
+    ``kappa`` (optional, per element) softens the law to T = kappa * T_material(eps), as the
+    solver's soft start does (see :attr:`System.soft`).
+    """
+    if kappa is not None:
+        if method == "strain":
+            return by_material(s, mats, values / kappa, method)
+        if method == "dstrain":
+            return by_material(s, mats, values / kappa, method) / kappa
+        return kappa * by_material(s, mats, values, method)  # tension, dtension, energy
     out = np.empty_like(values)
     if len(s.curves) == 1:
         out[:] = getattr(s.curves[0], method)(values)
@@ -549,6 +565,15 @@ def by_material(s: System, mats: IntArray, values: FloatArray, method: str) -> F
         if len(idx):
             out[idx] = getattr(curve, method)(values[idx])
     return out
+
+
+def _kappa(s: System, runs: IntArray | None = None, pieces: IntArray | None = None) -> FloatArray | None:
+    """Softening factor of the given runs or pieces (None: the real ropes)."""
+    if s.soft is None:
+        return None
+    if pieces is not None:
+        return s.soft[s.piece_run[pieces]]
+    return s.soft[runs]
 
 
 def contact_stiffness(s: System) -> FloatArray:
@@ -573,7 +598,7 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
     if len(strict) == 0:
         return tau, taut
     lam_e = L[strict] / s.run_L0[strict] - 1.0
-    t_lam = by_material(s, s.run_mat[strict], lam_e, "tension")
+    t_lam = by_material(s, s.run_mat[strict], lam_e, "tension", _kappa(s, runs=strict))
     wmin = np.minimum.reduceat(w, s.run_start)[strict] if nr else w
     wmax = np.maximum.reduceat(w, s.run_start)[strict] if nr else w
     lo = t_lam / wmax
@@ -587,12 +612,13 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         pieces = np.repeat(s.run_start[runs] - np.cumsum(counts) + counts, counts) + np.arange(counts.sum())
         owner = np.repeat(np.arange(len(runs)), counts)
         lk, wk, mk = l[pieces], w[pieces], s.piece_mat[pieces]
+        kk = _kappa(s, pieces=pieces)
         L0 = s.run_L0[runs]
         tt, lo_t, hi_t = t[todo], lo[todo], hi[todo]
         for _ in range(100):
             Tk = wk * tt[owner]
-            e = by_material(s, mk, Tk, "strain")
-            de = by_material(s, mk, Tk, "dstrain")
+            e = by_material(s, mk, Tk, "strain", kk)
+            de = by_material(s, mk, Tk, "dstrain", kk)
             f = np.bincount(owner, lk / (1.0 + e), minlength=len(runs)) - L0
             fp = -np.bincount(owner, lk * wk * de / (1.0 + e) ** 2, minlength=len(runs))
             lo_t = np.where(f > 0, tt, lo_t)
@@ -621,7 +647,8 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
     L = np.add.reduceat(l, s.run_start) if s.n_runs else np.zeros(0)
     tau, taut = solve_run_tensions(s, L, l, w)
     T = w * tau[s.piece_run] if s.n_pieces else np.zeros(0)
-    eps = by_material(s, s.piece_mat, T, "strain") if s.n_pieces else np.zeros(0)
+    every = np.arange(s.n_pieces)
+    eps = by_material(s, s.piece_mat, T, "strain", _kappa(s, pieces=every)) if s.n_pieces else np.zeros(0)
     if kc is None:
         kc = contact_stiffness(s)
     pen = np.where(s.contact_on, np.maximum(s.s_min - l, 0.0), 0.0)
@@ -639,7 +666,7 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
     tied = np.flatnonzero(~hauled & (L > s.run_L0))
     if len(tied):
         e_r = L[tied] / s.run_L0[tied] - 1.0
-        U[tied] = s.run_L0[tied] * by_material(s, s.run_mat[tied], e_r, "energy")
+        U[tied] = s.run_L0[tied] * by_material(s, s.run_mat[tied], e_r, "energy", _kappa(s, runs=tied))
     contact = 0.5 * kc * pen * pen
     fx = s.F * x
     energy = float(U.sum()) + float(contact.sum()) - float(fx.sum())
@@ -661,7 +688,7 @@ _LOCAL_J = np.tile(np.arange(4), 4)
 def tangent_values(s: System, st: State, kc: FloatArray | None = None) -> FloatArray:
     """Values of the tangent K = d g / d x (N/m) at fixed piece weights, on the static pattern ``s.k_rows/k_cols``.
 
-    K = sum_k [N_k/l_k (I - u u^T) + contact k_c u u^T] (geometric and contact parts) + for each
+    K = sum_k [max(N_k, 0)/l_k (I - u u^T) + contact k_c u u^T] (geometric and contact parts) + for each
     taut tied run the rank-one term (sum_k w_k grad l_k)(d tau/d x)^T with
     d tau/d x = sum_j grad l_j / (1 + eps_j) / D, D = sum_j l_j w_j eps'(T_j) / (1 + eps_j)^2
     (implicit differentiation of the run's length equation).  The k == j terms of the
@@ -673,13 +700,15 @@ def tangent_values(s: System, st: State, kc: FloatArray | None = None) -> FloatA
         kc = contact_stiffness(s)
     u, l = st.u, st.l
     with np.errstate(divide="ignore", invalid="ignore"):
-        geo = np.where(l > 0, st.N / l, 0.0)
+        # a piece pushed by the spacing contact (N < 0) would add negative stiffness, turning the
+        # rope's kink at a two-blocked pass into a saddle for Newton: keep only the pull (PSD tangent)
+        geo = np.where(l > 0, np.maximum(st.N, 0.0) / l, 0.0)
     axial = np.where(st.pen > 0, kc, 0.0)
     coef = np.zeros(s.n_pieces)
     run_coef = None
     if np.any(st.taut):
         c = 1.0 / (1.0 + st.eps)
-        de = by_material(s, s.piece_mat, st.T, "dstrain")
+        de = by_material(s, s.piece_mat, st.T, "dstrain", _kappa(s, pieces=np.arange(s.n_pieces)))
         D = np.bincount(s.piece_run, l * st.w * de * c * c, minlength=s.n_runs)
         with np.errstate(divide="ignore", invalid="ignore"):
             run_coef = np.where(st.taut & (D > 0), 1.0 / D, 0.0)

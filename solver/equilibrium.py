@@ -48,6 +48,10 @@ TARGET_REL = 1e-10
 ACCEPT_REL = 1e-7
 #: A point farther than this many rig sizes from the sketch has run away.
 RUNAWAY_SIZES = 100.0
+#: Soft start: ropes are first softened so that the largest force of their part stretches them this much ...
+SOFT_STRAIN = 0.05
+#: ... when their real stretch under that force would be less than this fraction of it (stiff ropes).
+SOFT_BELOW = 0.1
 #: Smallest tangent eigenvalue, relative to the largest diagonal, that still holds a point.
 MECHANISM_REL = 1e-11
 
@@ -84,29 +88,41 @@ def _matrix(s: System, st: State, kc: np.ndarray, dense: bool):
     return scipy.sparse.csc_matrix((data, s.csc_indices, s.csc_indptr), shape=(n, n))
 
 
-def _shifted_solve(K, lam: np.ndarray, rhs: np.ndarray, dense: bool, symmetric: bool) -> np.ndarray | None:
-    """Solve (K + diag(lam)) d = rhs; None when the shifted matrix is not usable (raise the shift)."""
-    n = len(rhs)
+def _shifted_factor(K, lam: np.ndarray, dense: bool, symmetric: bool):
+    """A solver for (K + diag(lam)) d = rhs; None when the shifted matrix is not usable (raise the shift)."""
+    n = len(lam)
     try:
         if dense:
             M = K.copy()
             M[np.diag_indices(n)] += lam
             if symmetric:
-                c, low = scipy.linalg.cho_factor(M, overwrite_a=True, check_finite=False)
-                d = scipy.linalg.cho_solve((c, low), rhs, check_finite=False)
-            else:
-                d = scipy.linalg.solve(M, rhs, overwrite_a=True, check_finite=False)
+                fac = scipy.linalg.cho_factor(M, overwrite_a=True, check_finite=False)
+                return lambda rhs: scipy.linalg.cho_solve(fac, rhs, check_finite=False)
+            fac = scipy.linalg.lu_factor(M, overwrite_a=True, check_finite=False)
+            if not np.all(np.isfinite(fac[0])) or np.any(np.diag(fac[0]) == 0.0):
+                return None
+            return lambda rhs: scipy.linalg.lu_solve(fac, rhs, check_finite=False)
+        M = (K + scipy.sparse.diags(lam, format="csc")).tocsc()
+        if symmetric:  # SPD after the shift: diagonal pivots, symmetric ordering
+            lu = scipy.sparse.linalg.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                                          options={"SymmetricMode": True})
         else:
-            M = (K + scipy.sparse.diags(lam, format="csc")).tocsc()
-            if symmetric:  # SPD after the shift: diagonal pivots, symmetric ordering
-                lu = scipy.sparse.linalg.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
-                                              options={"SymmetricMode": True})
-            else:
-                lu = scipy.sparse.linalg.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.1)
-            d = lu.solve(rhs)
+            lu = scipy.sparse.linalg.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.1)
+        return lu.solve
     except (np.linalg.LinAlgError, scipy.linalg.LinAlgError, RuntimeError, ValueError):
         return None
-    return d if np.all(np.isfinite(d)) else None
+
+
+def _shifted_solve(K, lam: np.ndarray, rhs: np.ndarray, dense: bool, symmetric: bool):
+    """(d, solver) with (K + diag(lam)) d = rhs, or (None, None) when the shift must rise."""
+    solver = _shifted_factor(K, lam, dense, symmetric)
+    if solver is None:
+        return None, None
+    try:
+        d = solver(rhs)
+    except (np.linalg.LinAlgError, scipy.linalg.LinAlgError, RuntimeError, ValueError):
+        return None, None
+    return (d, solver) if np.all(np.isfinite(d)) else (None, None)
 
 
 def _comp_max(s: System, values: np.ndarray) -> np.ndarray:
@@ -199,7 +215,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
             every = len(idx) == s.n_dof
             Ks = K if every else _sub(K, idx, dense)
             lam = (mu * base)[cd[idx]]
-            d_sub = _shifted_solve(Ks, lam, -st.g[idx], dense, symmetric)
+            d_sub, solver = _shifted_solve(Ks, lam, -st.g[idx], dense, symmetric)
             if d_sub is None:
                 mu[pending] *= 100.0
                 continue
@@ -350,7 +366,7 @@ def _start_x(s: System, start) -> np.ndarray:
             if s.free[i] and pid in start:
                 px, py = start[pid]
                 if math.isfinite(px) and math.isfinite(py):
-                    xy[i] = (float(px), float(py))
+                    xy[i] = (float(px) - s.origin[0], float(py) - s.origin[1])
     return s.x_from(xy)
 
 
@@ -384,6 +400,41 @@ def _friction_solve(s: System, st: State, motion: str, kc: np.ndarray) -> tuple[
     return _Outcome(st, iters, False), w
 
 
+def _soft_factors(s: System) -> np.ndarray | None:
+    """Per run: the softening kappa that lets its part's largest force stretch it by SOFT_STRAIN, or None.
+
+    None when every rope is soft enough already.  Straight Newton steps cannot follow the arc a
+    point swings through on a stiff rope (each chord overstretches it), so a cold solve of a
+    stiff rig first finds the equilibrium of the same rig with softened ropes, where the swing
+    takes a few long steps, and then stiffens to the real ropes from there.
+    """
+    if s.n_runs == 0 or s.n_comp == 0:
+        return None
+    force = np.where(s.run_comp >= 0, s.comp_force_scale[np.maximum(s.run_comp, 0)], 0.0)
+    t_soft = np.array([float(c.tension(SOFT_STRAIN)) for c in s.curves])[s.run_mat]
+    kappa = np.clip(force / t_soft, 1e-12, 1.0)
+    tied = ~s.run_hauled & (s.run_comp >= 0) & (force > 0)
+    if not np.any(tied & (kappa < SOFT_BELOW)):
+        return None
+    return np.where(tied, kappa, 1.0)
+
+
+def _soft_start_newton(s: System, x0: np.ndarray, kc: np.ndarray) -> _Outcome:
+    """Frictionless Newton solve from the drawn geometry, through a softened-rope solve for stiff rigs."""
+    kappa = _soft_factors(s)
+    if kappa is None:
+        return _newton(s, x0, None, kc, symmetric=True)
+    s.soft = kappa
+    try:
+        pre = _newton(s, x0, None, kc, symmetric=True, max_iter=60)
+    finally:
+        s.soft = None
+    start = pre.state.x if pre.runaway is None else x0
+    out = _newton(s, start, None, kc, symmetric=True)
+    out.iterations += pre.iterations
+    return out
+
+
 def _mechanism_result(s: System, st: State, kc: np.ndarray, iters: int) -> Result | None:
     mech = _mechanism(s, st, kc)
     if mech is None:
@@ -414,12 +465,13 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) ->
         fr, w = _friction_solve(s, evaluate(s, x0, None, kc), motion, kc)
         if fr.runaway is not None or not fr.converged:
             return _Solved(fr.state, fr.state, fr.iterations, False, fr.runaway, w)
-        failed = _mechanism_result(s, fr.state, kc, fr.iterations)
+        # held or not is a property of the structure: judged on the frictionless (symmetric) tangent
+        failed = _mechanism_result(s, evaluate(s, fr.state.x, None, kc), kc, fr.iterations)
         if failed is not None:
             return failed
         ideal = _newton(s, fr.state.x, None, kc, symmetric=True)
         return _Solved(fr.state, ideal.state if ideal.converged else fr.state, fr.iterations, True, None, w)
-    out = _newton(s, x0, None, kc, symmetric=True)
+    out = _soft_start_newton(s, x0, kc)
     if out.runaway is not None or not out.converged:
         return _Solved(out.state, out.state, out.iterations, False, out.runaway, out.state.w)
     failed = _mechanism_result(s, out.state, kc, out.iterations)
@@ -432,7 +484,8 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) ->
 
 
 def _all_points(s: System, st: State) -> dict[str, tuple[float, float]]:
-    pos = {pid: (float(st.xy[i, 0]), float(st.xy[i, 1])) for i, pid in enumerate(s.point_ids)}
+    ox, oy = float(s.origin[0]), float(s.origin[1])
+    pos = {pid: (float(st.xy[i, 0]) + ox, float(st.xy[i, 1]) + oy) for i, pid in enumerate(s.point_ids)}
     return {p.id: pos.get(p.id, (p.x, p.y)) for p in s.rig.points}
 
 
