@@ -300,3 +300,63 @@ def test_warm_start_after_a_small_anchor_move_takes_at_most_four_iterations():
     assert warm.status == "ok" and cold.status == "ok"
     assert warm.iterations <= 4 < cold.iterations
     np.testing.assert_allclose(warm.points["G"], cold.points["G"], atol=1e-9)
+
+
+# --- independent parts and stiff swings: iteration counts (counts, never time) ----------------
+
+def _hauling_copies(n: int) -> Rig:
+    """``n`` identical, disconnected 3:1 systems with a redirect, 40 m apart (demo rig, invented numbers):
+    load L, redirect pulley R, grab G, two-sling master point M with an anchor pulley, haul H 600 N."""
+    pts, ropes = [], []
+    for k in range(n):
+        x = 40.0 * k
+        pts += [Point(f"L{k}", "load", x, 0.0), Point(f"R{k}", "anchor", x + 6, 12), Point(f"S{k}", "anchor", x - 4, 20),
+                Point(f"T{k}", "anchor", x - 1, 21), Point(f"M{k}", "point", x - 2, 17), Point(f"G{k}", "point", x - 1, 14),
+                Point(f"H{k}", "haul", x - 8, 20, force_N=600.0)]
+        ropes += [rope(f"main{k}", [f"L{k}", (f"R{k}", "pulley", "pul"), f"G{k}", (f"M{k}", "pulley", "pul"),
+                                    (f"G{k}", "pulley", "pul"), (f"H{k}", "hauled")]),
+                  rope(f"sa{k}", [f"S{k}", f"M{k}"]), rope(f"sb{k}", [f"T{k}", f"M{k}"])]
+    return rig(pts, ropes, hardware=[pulley(0.9)], ea=6e4)
+
+
+def test_disconnected_copies_solve_like_one_copy():
+    # Each copy is statically independent (no rope links them), so each must come out exactly as
+    # when drawn alone, and the solve must not take longer in iterations for having neighbours.
+    one = solve(_hauling_copies(1))
+    many = solve(_hauling_copies(10))
+    assert one.status == "ok" and many.status == "ok", many.message
+    assert many.iterations <= one.iterations + 3
+    base = {(s.rope, s.index): s.tension_N for s in one.segments}
+    for k in range(10):
+        for (r, i), t in base.items():
+            mine = next(s for s in many.segments if s.rope == f"{r[:-1]}{k}" and s.index == i)
+            assert mine.tension_N == pytest.approx(t, rel=1e-9)
+        for pid in ("M", "G"):
+            x0, y0 = one.points[f"{pid}0"]
+            assert many.points[f"{pid}{k}"] == pytest.approx((x0 + 40.0 * k, y0), abs=1e-9)
+        assert many.anchors[f"R{k}"].force_N == pytest.approx(one.anchors["R0"].force_N, rel=1e-9)
+
+
+def test_an_anchor_shared_by_two_parts_sums_both():
+    # Two points hang from one anchor on separate ropes (two parts of the rig): the anchor carries
+    # the vector sum of both rope pulls, i.e. both weights (plan-view forces, statics).
+    pts = [Point("A", "anchor", 0.0, 0.0), Point("P", "point", -3.0, -4.0), Point("Q", "point", 4.0, -3.0)]
+    res = solve(rig(pts, [rope("p", ["A", "P"]), rope("q", ["A", "Q"])],
+                    forces=[Force("P", 300.0, 270.0), Force("Q", 500.0, 270.0)]))
+    assert res.status == "ok", res.message
+    assert res.anchors["A"].force_N == pytest.approx(800.0, rel=1e-9)
+
+
+@pytest.mark.parametrize("ea", [1e6, 1e7])
+@pytest.mark.parametrize("direction", [270.0, 200.0, 100.0])
+def test_a_point_swinging_on_a_stiff_rope_needs_few_iterations(ea, direction):
+    # Drawn level at 10 m from its anchor, pulled 1000 N toward `direction`: it must swing up to
+    # 170 degrees round the anchor.  At equilibrium the rope lines up with the force and
+    # stretches by T/EA (Hooke's law, T = 1000 N).  Before the soft start this took 22-68 iterations.
+    pts = [Point("A", "anchor", 0.0, 0.0), Point("P", "point", 10.0, 0.0)]
+    res = solve(rig(pts, [rope("r", ["A", "P"])], forces=[Force("P", 1000.0, direction)], motion="hold", ea=ea))
+    assert res.status == "ok", res.message
+    assert res.iterations <= 20
+    th = math.radians(direction)
+    r = 10.0 * (1 + 1000.0 / ea)
+    assert res.points["P"] == pytest.approx((r * math.cos(th), r * math.sin(th)), abs=1e-7)
