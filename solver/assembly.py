@@ -465,6 +465,26 @@ def _per_piece(s: System, per_comp: FloatArray, default: float) -> FloatArray:
     return out
 
 
+def _union_find(n: int, u: list[int], v: list[int]) -> tuple[int, IntArray]:
+    """Connected components of n nodes joined by edges (u_i, v_i): (count, label per node, 0-based)."""
+    parent = list(range(n))
+
+    def root(i: int) -> int:
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    for a, b in zip(u, v):
+        ra, rb = root(a), root(b)
+        if ra != rb:
+            parent[max(ra, rb)] = min(ra, rb)
+    label, names = [], {}
+    for i in range(n):
+        label.append(names.setdefault(root(i), len(names)))
+    return len(names), np.array(label, dtype=np.intp)
+
+
 def _components(s: System) -> None:
     """Split the free points into independent parts: two free points belong together when a run links them.
 
@@ -484,8 +504,11 @@ def _components(s: System) -> None:
         ends = np.concatenate([fa, fb])
         reps = np.concatenate([r, r])
         keep = ends >= 0
-        graph = scipy.sparse.coo_matrix((np.ones(int(keep.sum())), (ends[keep], reps[keep])), shape=(nf, nf))
-        n_comp, label = scipy.sparse.csgraph.connected_components(graph, directed=False)
+        if nf <= 200:  # small rigs: plain union-find beats building a sparse graph
+            n_comp, label = _union_find(nf, ends[keep].tolist(), reps[keep].tolist())
+        else:
+            graph = scipy.sparse.coo_matrix((np.ones(int(keep.sum())), (ends[keep], reps[keep])), shape=(nf, nf))
+            n_comp, label = scipy.sparse.csgraph.connected_components(graph, directed=False)
     else:
         rep = np.full(s.n_runs, -1, dtype=np.intp)
         n_comp, label = nf, np.arange(nf)

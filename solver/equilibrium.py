@@ -127,6 +127,8 @@ def _shifted_solve(K, lam: np.ndarray, rhs: np.ndarray, dense: bool, symmetric: 
 
 def _comp_max(s: System, values: np.ndarray) -> np.ndarray:
     """Largest per-point value (``values`` per free point) within each part."""
+    if s.n_comp == 1:
+        return np.array([float(values.max()) if len(values) else 0.0])
     out = np.zeros(s.n_comp)
     if len(values):
         np.maximum.at(out, s.dof_comp[0::2], values)
@@ -136,6 +138,9 @@ def _comp_max(s: System, values: np.ndarray) -> np.ndarray:
 def _comp_scale(s: System, st: State) -> np.ndarray:
     """Force scale of each part: its largest applied force, haul, pretension or piece pull, N."""
     out = s.comp_force_scale.copy()
+    if s.n_comp == 1:
+        out[0] = max(out[0], float(np.abs(st.N).max()) if len(st.N) else 0.0)
+        return out
     on = s.piece_comp >= 0
     if np.any(on):
         np.maximum.at(out, s.piece_comp[on], np.abs(st.N[on]))
@@ -620,6 +625,22 @@ def _runaway_result(s: System, sol: _Solved) -> Result:
                           "under it)")
 
 
+#: Compiled systems of the last few rigs solved, by identity (a Rig is immutable, so the same
+#: object always compiles to the same arrays): re-solving a rig skips the index building.
+_CACHE: list[tuple[Rig, str | None, System]] = []
+_CACHE_SIZE = 4
+
+
+def _compiled(rig: Rig, motion: str | None) -> System:
+    for r, m, s in _CACHE:
+        if r is rig and m == motion:
+            return s
+    s = compile_rig(rig, motion)
+    _CACHE.insert(0, (rig, motion, s))
+    del _CACHE[_CACHE_SIZE:]
+    return s
+
+
 def solve(rig: Rig, *, start=None, motion: str | None = None) -> Result:
     """Solve ``rig`` for static equilibrium; ``start`` = {point_id: (x, y)} warm start, metres.
 
@@ -628,9 +649,18 @@ def solve(rig: Rig, *, start=None, motion: str | None = None) -> Result:
     counts the Newton iterations that produced the reported state (cold: frictionless and
     friction stages; warm: the friction stage only, not the frictionless reference for
     ``ma_ideal``, which is the same rig re-solved with every pass frictionless).
+
+    ``ma_ideal`` is deliberately that re-solve, not a statics evaluation at the friction
+    geometry.  At a fixed geometry the frictionless tensions are overdetermined: each free
+    point gives two balance equations, each tied run only one unknown tau (hauled runs none:
+    tau = haul force), so a least-squares tau leaves an out-of-balance force at every free
+    point whose ropes are not collinear (a grab of a Z-rig drawn off-line, a redirect at an
+    angle).  That "ideal MA" would be the force of a state no rope can hold and would depend
+    on the least-squares weighting.  The frictionless re-solve is a true equilibrium; its
+    geometry differs from the friction geometry only by the small swing friction causes.
     """
     try:
-        s = compile_rig(rig, motion)
+        s = _compiled(rig, motion)
     except RigModelError as exc:
         return Result(status="invalid", message=exc.message, subject=exc.subject or exc.where)
     motion = s.motion

@@ -53,12 +53,16 @@ class StretchCurve:
         return float(self._k[0])
 
     def _piece_e(self, eps: FloatArray) -> NDArray[np.intp]:
+        if len(self._k) == 1:  # one straight piece (a linear rope): no search
+            return np.zeros(np.shape(eps), dtype=np.intp)
         idx = np.searchsorted(self._e, eps, side="right") - 1
-        return np.clip(idx, 0, len(self._k) - 1)
+        return np.minimum(np.maximum(idx, 0), len(self._k) - 1)
 
     def _piece_t(self, tension: FloatArray) -> NDArray[np.intp]:
+        if len(self._k) == 1:
+            return np.zeros(np.shape(tension), dtype=np.intp)
         idx = np.searchsorted(self._t, tension, side="right") - 1
-        return np.clip(idx, 0, len(self._k) - 1)
+        return np.minimum(np.maximum(idx, 0), len(self._k) - 1)
 
     def tension(self, eps: ArrayLike) -> FloatArray:
         """Tension in N at strain ``eps`` (zero for eps <= 0)."""
