@@ -171,6 +171,27 @@ def test_ring_sliding_into_a_knot_is_named_two_blocked_and_the_rest_still_solves
         np.testing.assert_allclose(rigs.xy(res, pid), [5.0, 15.0 - l0 * (1 + 100.0 / ea)], atol=1e-7 * BOX)
 
 
+# DISCREPANCY (reported to the lead; solver/equilibrium.py at 1f2fd43, which fixed the case
+# above): a second ring-into-knot rig, frictionless, still "diverged".
+def test_second_ring_sliding_into_a_knot_is_named_two_blocked():
+    # Found by the properties.  Anchors A0 (5.6875, 14.5), A2 (12, 16); free P0 (16, 8.5) with
+    # 178 N and P1 (17.5, 5.6473) with 100 N, both at 270°; r0 A0-P0, r1 A0-P1 hand-tight;
+    # r2 A0 -> P1 (tied) -> P0 (sliding) -> A2, pretension 20 N; EA 1e5 N.  An independent
+    # Nelder-Mead minimisation of the potential energy puts P0 on P1 (9e-16 m apart, at
+    # (11.795, 4.249)): two-blocked.  Solver: "diverged" after 145 iterations, 573 N at P1.
+    pts = [rigs.anchor("A0", 5.6875, 14.5), rigs.anchor("A2", 12.0, 16.0),
+           rigs.free("P0", 16.0, 8.5), rigs.free("P1", 17.5, 5.647296625711277)]
+    ropes = [rigs.rope("r0", ["A0", "P0"]), rigs.rope("r1", ["A0", "P1"]),
+             rigs.rope("r2", ["A0", "P1", ("P0", "sliding"), "A2"], pretension_N=20.0)]
+    rig = rigs.make_rig(pts, ropes, [rigs.force("P0", 178.0, 270.0), rigs.force("P1", 100.0, 270.0)], motion="hold", ea=1e5)
+    res = solve(rig)
+    assert res.status == "ok", rigs.describe(res)
+    assert any(w.code == "two-blocked" and ({w.subject} | {"P0", "P1"}) == {"P0", "P1"} for w in res.warnings), res.warnings
+    # the pair sits where the energy minimum puts it, within the hardware spacing
+    for pid in ("P0", "P1"):
+        assert float(np.linalg.norm(rigs.xy(res, pid) - [11.79487, 4.24944])) < 0.06
+
+
 # DISCREPANCY (reported to the lead; solver/equilibrium.py at 9d6a14c): one point hanging
 # on a tied rope and on a pulley with η = 0.6 (haul) is reported "diverged" though the
 # frictional equilibrium exists (found by the translation property, then minimised).
