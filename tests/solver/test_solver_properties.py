@@ -284,6 +284,7 @@ def test_mirroring_the_rig_mirrors_the_answer(rig):
 def test_symmetric_rig_keeps_its_mirror_symmetry(ax, ay, px, py, w, side, ea, ring):
     # A rig symmetric about the y axis (anchors, free points, forces mirrored; a centre
     # point pulled along the axis) must solve to a symmetric answer.
+    assume(math.dist((ax, ay), (px, py)) > 1.0)  # a drawn rig: no point on top of another
     pts = [rigs.anchor("AL", -ax, ay), rigs.anchor("AR", ax, ay), rigs.free("PL", -px, py), rigs.free("PR", px, py),
            rigs.free("C", 0.0, py - 2.0), rigs.anchor("TOP", 0.0, 6.0)]
     mid = ("C", "sliding") if ring else "C"
