@@ -35,6 +35,7 @@ from functools import lru_cache
 from importlib import resources
 from typing import Any, Callable, Iterable, Mapping, Sequence
 
+from solver import materials
 from solver import model as m
 from solver.errors import RigFileError
 
@@ -48,15 +49,6 @@ MAX_FILE_BYTES = 20 * 1024 * 1024
 #: Largest distance of any point or site coordinate from the site origin, m: a
 #: sanity bound far beyond any rescue site (ours, not from a standard).
 MAX_COORDINATE_M = 100_000.0
-#: Library ids (brief / solver.materials), used only while that module is absent.
-LIBRARY_MATERIAL_IDS: tuple[str, ...] = (
-    "kern-11", "kern-12.5", "throwline-pp-8", "dynamic-10.5", "cord-8", "webbing-25", "sling-hmpe",
-)
-LIBRARY_HARDWARE_IDS: tuple[str, ...] = (
-    "pulley-large", "pulley-small", "pulley-bushing", "carabiner", "ring",
-    "edge-rock", "edge-concrete", "edge-timber", "edge-steel",
-)
-
 _REQUIRED = object()  # marks a field every file must have
 
 # (json key == attribute name, kind, default); kinds: str, float, int, bool, pair, pairs
@@ -289,10 +281,7 @@ _MIGRATIONS: dict[int, Callable[[dict[str, Any]], dict[str, Any]]] = {}
 
 def embed_specs(rig: m.Rig) -> m.Rig:
     """The rig with every library material and hardware spec it uses embedded (first use first)."""
-    lib = _library()
-    if lib is None:
-        return rig
-    lib_materials, lib_hardware = lib
+    lib_materials, lib_hardware = materials.LIBRARY_MATERIALS, materials.LIBRARY_HARDWARE
     have_m = {x.id for x in rig.materials}
     have_h = {x.id for x in rig.hardware}
     add_m: list[m.Material] = []
@@ -763,36 +752,14 @@ def _rope_to(rope: m.Rope) -> dict[str, Any]:
 # Cross-checks on the built Rig
 
 
-def _library() -> tuple[Mapping[str, m.Material], Mapping[str, m.Hardware]] | None:
-    """The built-in spec library, or None while ``solver.materials`` does not exist yet."""
-    try:
-        from solver import materials
-    except ModuleNotFoundError as exc:
-        if exc.name in ("solver.materials",):
-            return None
-        raise
-    return materials.LIBRARY_MATERIALS, materials.LIBRARY_HARDWARE
+def _material(rig: m.Rig, mat_id: str) -> m.Material | None:
+    """The spec (embedded first, then library); None if unknown."""
+    return rig.embedded_material(mat_id) or materials.LIBRARY_MATERIALS.get(mat_id)
 
 
-def _material(rig: m.Rig, mat_id: str) -> m.Material | None | bool:
-    """The spec (embedded first, then library); True if only known by id; None if unknown."""
-    found = rig.embedded_material(mat_id)
-    if found is not None:
-        return found
-    lib = _library()
-    if lib is None:
-        return True if mat_id in LIBRARY_MATERIAL_IDS else None
-    return lib[0].get(mat_id)
-
-
-def _hardware(rig: m.Rig, hw_id: str) -> m.Hardware | None | bool:
-    found = rig.embedded_hardware(hw_id)
-    if found is not None:
-        return found
-    lib = _library()
-    if lib is None:
-        return True if hw_id in LIBRARY_HARDWARE_IDS else None
-    return lib[1].get(hw_id)
+def _hardware(rig: m.Rig, hw_id: str) -> m.Hardware | None:
+    """The spec (embedded first, then library); None if unknown."""
+    return rig.embedded_hardware(hw_id) or materials.LIBRARY_HARDWARE.get(hw_id)
 
 
 def check_rig(rig: m.Rig, base_dir: str | os.PathLike[str] | None = None) -> None:
@@ -828,26 +795,14 @@ def _check_semantics(rig: m.Rig, base_dir: str | os.PathLike[str] | None) -> Non
     for i, f in enumerate(rig.forces):
         if f.at not in points:
             raise RigFileError(f'point "{f.at}" does not exist', where=f"forces[{i}].at")
-    problems = _spec_problem_functions()
     for i, mat in enumerate(rig.materials):
-        if problems is not None:
-            _raise_problem(problems[0](mat), f"materials[{i}]")
+        _raise_problem(materials.material_problem(mat), f"materials[{i}]")
         _check_stretch(mat, f"materials[{i}]")
     for i, hw in enumerate(rig.hardware):
-        if problems is not None:
-            _raise_problem(problems[1](hw), f"hardware[{i}]")
+        _raise_problem(materials.hardware_problem(hw), f"hardware[{i}]")
     for i, rope in enumerate(rig.ropes):
         _check_rope(rig, rope, points, f"ropes[{i}]")
     _check_site(rig.site, base_dir)
-
-
-def _spec_problem_functions() -> tuple[Callable[[Any], Any], Callable[[Any], Any]] | None:
-    """The library's own spec checks (one set of rules for shipped and embedded specs), if present."""
-    if _library() is None:
-        return None
-    from solver import materials
-
-    return materials.material_problem, materials.hardware_problem
 
 
 def _raise_problem(problem: tuple[str, str] | None, where: str) -> None:
@@ -919,8 +874,6 @@ def _check_pass_hardware(rig: m.Rig, ps: m.Pass, where: str) -> None:
     if hw is None:
         raise RigFileError(f'hardware "{ps.hardware}" is neither in this file\'s hardware nor in the built-in '
                            "library", where=where)
-    if not isinstance(hw, m.Hardware):
-        return  # library id while the library module is not available: kind unknown
     if ps.how == "edge" and hw.kind != "edge":
         raise RigFileError(f'"{hw.id}" is a {hw.kind}; an edge pass needs an edge spec', where=where)
     if ps.how == "pulley" and hw.kind == "edge":
