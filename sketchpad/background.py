@@ -25,7 +25,7 @@ import pathlib
 from dataclasses import replace
 from typing import Callable
 
-from PySide6.QtCore import QEvent, QLineF, QObject, QPointF, Qt, Signal
+from PySide6.QtCore import QEvent, QLineF, QObject, Qt, Signal
 from PySide6.QtGui import QAction, QColor, QImage, QPen, QPixmap, QTransform
 from PySide6.QtWidgets import (
     QFileDialog,

@@ -26,12 +26,11 @@ import math
 import os
 import pathlib
 import sys
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Iterable
 
-from PySide6.QtCore import QMarginsF, QPointF, QRectF, QSize, QSizeF, Qt
+from PySide6.QtCore import QMarginsF, QPointF, QRectF, QSize, Qt
 from PySide6.QtGui import (
-    QBrush,
     QColor,
     QFont,
     QFontMetricsF,

@@ -49,7 +49,6 @@ from PySide6.QtGui import (
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
 
 from sketchpad import theme
-from sketchpad.geometry import to_scene
 from sketchpad.items import blit_cached, pixel_dpr
 from solver.model import Rig
 from solver.result import Result

@@ -26,12 +26,11 @@ import logging
 import math
 import pathlib
 from dataclasses import dataclass, field
-from typing import Callable, Sequence
+from typing import Callable
 
 from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QFont, QFontMetricsF, QImage, QPageLayout, QPainter
 
-from sketchpad import theme
 from sketchpad.export import (
     Drawing,
     ExportError,

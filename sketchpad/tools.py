@@ -21,7 +21,7 @@ from PySide6.QtWidgets import QGraphicsLineItem, QGraphicsPathItem, QGraphicsRec
 from sketchpad import theme
 from sketchpad.geometry import to_scene
 from sketchpad.items import fmt_length
-from solver.model import MIDDLE_HOWS, Display, Feature, Force, Pass, Point, Rig, Rope, Site
+from solver.model import MIDDLE_HOWS, Feature, Force, Pass, Point, Rig, Rope
 
 log = logging.getLogger(__name__)
 

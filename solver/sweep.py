@@ -23,7 +23,7 @@ import math
 import sys
 from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Callable, Iterable, Sequence
+from typing import Callable, Iterable
 
 from solver.errors import RigModelError, RopewrightError
 from solver.model import Hardware, Material, Rig, Rigging

@@ -8,7 +8,6 @@ scipy.optimize.brentq; T-method MA of a 3:1 = 1 + eta + eta^2 (derived).
 
 from __future__ import annotations
 
-import argparse
 import csv
 import math
 from dataclasses import replace
