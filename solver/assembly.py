@@ -708,7 +708,7 @@ _LOCAL_I = np.repeat(np.arange(4), 4)
 _LOCAL_J = np.tile(np.arange(4), 4)
 
 
-def tangent_values(s: System, st: State, kc: FloatArray | None = None) -> FloatArray:
+def tangent_values(s: System, st: State, kc: FloatArray | None = None, exact: bool = False) -> FloatArray:
     """Values of the tangent K = d g / d x (N/m) at fixed piece weights, on the static pattern ``s.k_rows/k_cols``.
 
     K = sum_k [max(N_k, 0)/l_k (I - u u^T) + contact k_c u u^T] (geometric and contact parts) + for each
@@ -725,7 +725,7 @@ def tangent_values(s: System, st: State, kc: FloatArray | None = None) -> FloatA
     with np.errstate(divide="ignore", invalid="ignore"):
         # a piece pushed by the spacing contact (N < 0) would add negative stiffness, turning the
         # rope's kink at a two-blocked pass into a saddle for Newton: keep only the pull (PSD tangent)
-        geo = np.where(l > 0, np.maximum(st.N, 0.0) / l, 0.0)
+        geo = np.where(l > 0, (st.N if exact else np.maximum(st.N, 0.0)) / l, 0.0)
     axial = np.where(st.pen > 0, kc, 0.0)
     coef = np.zeros(s.n_pieces)
     run_coef = None

@@ -78,9 +78,9 @@ def _force_scale(s: System, st: State) -> float:
     return max(s.force_scale, t)
 
 
-def _matrix(s: System, st: State, kc: np.ndarray, dense: bool):
+def _matrix(s: System, st: State, kc: np.ndarray, dense: bool, exact: bool = False):
     """The tangent on the free dofs: a dense array for small rigs, else CSC."""
-    val = tangent_values(s, st, kc)
+    val = tangent_values(s, st, kc, exact)
     n = s.n_dof
     if dense:
         return np.bincount(s.dense_lin, val, minlength=n * n).reshape(n, n)
@@ -203,7 +203,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
         active &= ~done
         if not active.any():
             return _Outcome(st, it, True)
-        K = _matrix(s, st, kc, dense)
+        K = _matrix(s, st, kc, dense, exact=not symmetric)
         diag = K.diagonal()
         base = _comp_max(s, np.maximum(diag[0::2], diag[1::2]))
         base = np.maximum(np.maximum(base, scale / size), 1e-12)
@@ -229,6 +229,9 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
             step = _comp_max(s, _point_norms(d))
             shrink = np.where(pending & (step > cap), cap / np.maximum(step, 1e-300), 1.0)
             capped = np.where(pending, step > cap, capped)
+            if not symmetric:
+                # the full Newton correction, for the natural monotonicity test below
+                nat0 = np.sqrt(np.bincount(cd[idx], d_sub * d_sub, minlength=C))
             d *= shrink[cd]
             if symmetric:
                 slope = np.bincount(cd, st.g * d, minlength=C)
@@ -236,7 +239,15 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
                 Kd = np.zeros(s.n_dof)
                 Kd[idx] = Ks @ d[idx]
                 slope = np.bincount(cd, st.g * Kd, minlength=C)
+                # slope of 1/2 |K^-1 g|^2 along d (K with its shift: the level function's own matrix)
+                nat_dir = np.zeros(s.n_dof)
+                nat_dir[idx] = solver(Kd[idx])
+                nat_slope = np.bincount(cd[idx], d_sub * nat_dir[idx], minlength=C)
+            # uphill for the residual merit and (unsymmetric) for the natural level function too
             uphill = pending & (slope >= 0.0)
+            if not symmetric:
+                uphill &= nat_slope >= 0.0
+                slope = np.minimum(slope, 0.0)  # Armijo on |g|^2 only where it is a descent direction
             mu[uphill] *= 100.0
             trying = pending & ~uphill
             a = np.where(trying, 1.0, 0.0)
@@ -250,6 +261,13 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
                 trial = evaluate(s, xt, w, kc)
                 m1 = merit(trial)
                 good = trying & (m1 <= m0 + 1e-4 * a * slope)
+                if not symmetric:
+                    # natural monotonicity test (Deuflhard, Newton Methods for Nonlinear Problems,
+                    # 2004, sec. 3.3): the Newton correction from the trial point, with this
+                    # iteration's matrix, must shrink.  Affine invariant, so a stiff rope's tiny
+                    # overstretch along a curved path does not veto the step as |g|^2 would.
+                    nat1 = np.sqrt(np.bincount(cd[idx], solver(-trial.g[idx]) ** 2, minlength=C))
+                    good |= trying & (nat1 <= (1.0 - 1e-4 * a * shrink) * nat0)
                 # round-off: merit flat to machine precision but the imbalance still shrinks
                 flat = np.abs(m1 - m0) <= 1e-13 * (np.abs(m0) + scale * size)
                 good |= trying & flat & (_comp_max(s, _point_norms(trial.g)) < 0.9 * res)
