@@ -406,15 +406,19 @@ class _Solved:
 def _friction_solve(s: System, st: State, motion: str, kc: np.ndarray) -> tuple[_Outcome, np.ndarray]:
     """Equilibrium with the pass friction of ``motion``, from state ``st``; edge wraps re-evaluated until settled."""
     iters = 0
-    w = friction.weights(s, st.u, motion)
+    # passes two-blocked at the start or on the way stay jammed (ratio 1): the set only grows,
+    # so the outer loop cannot cycle between a running and a jammed pass
+    jam = friction.jammed_passes(s, st.pen)
+    w = friction.weights(s, st.u, motion, jam)
     for _outer in range(40):
         fr = _newton(s, st.x, w, kc, symmetric=False)
         iters += fr.iterations
         st = fr.state
         if fr.runaway is not None or not fr.converged:
             return _Outcome(st, iters, False, fr.runaway), w
-        w_new = friction.weights(s, st.u, motion)
-        if not s.has_edges or np.max(np.abs(w_new / w - 1.0)) <= 1e-12:
+        jam |= friction.jammed_passes(s, st.pen)
+        w_new = friction.weights(s, st.u, motion, jam)
+        if np.max(np.abs(w_new / w - 1.0), initial=0.0) <= 1e-12:
             if s.has_edges:
                 st = evaluate(s, st.x, w_new, kc)
                 w = w_new

@@ -44,11 +44,32 @@ def log_factors(s: System, u: FloatArray, motion: str) -> FloatArray:
     return lf
 
 
-def weights(s: System, u: FloatArray, motion: str) -> FloatArray:
-    """Tension weight w_k of every piece relative to its run's first piece (product of pass factors)."""
+def jammed_passes(s: System, pen: FloatArray) -> NDArray[np.bool_]:
+    """Per piece: the pass before it is jammed, i.e. a piece on either side of it is pressed at its minimum spacing.
+
+    A pass two-blocked against its neighbour (a pulley run into a knot or into the next
+    pulley) lets no rope run through it, so it transmits the static ratio 1, which lies in
+    the static friction range [eta, 1/eta] (rig-format.md) -- not the running ratio of
+    ``haul``/``lower``, which would ask the contact to pull the two passes together.
+    """
+    touch = pen > 0
+    jam = np.zeros(s.n_pieces, dtype=bool)
+    inner = np.flatnonzero(~s.piece_first)
+    if len(inner):
+        jam[inner] = touch[inner] | touch[inner - 1]
+    return jam
+
+
+def weights(s: System, u: FloatArray, motion: str, jammed: NDArray[np.bool_] | None = None) -> FloatArray:
+    """Tension weight w_k of every piece relative to its run's first piece (product of pass factors).
+
+    ``jammed`` (per piece, optional): passes that transmit ratio 1 (see :func:`jammed_passes`).
+    """
     lf = log_factors(s, u, motion)
     if s.n_pieces == 0:
         return lf
+    if jammed is not None:
+        lf = np.where(jammed, 0.0, lf)
     cs = np.cumsum(lf)
     start = s.run_start[s.piece_run]
     return np.exp(cs - cs[start])

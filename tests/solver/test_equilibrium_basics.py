@@ -360,3 +360,42 @@ def test_a_point_swinging_on_a_stiff_rope_needs_few_iterations(ea, direction):
     th = math.radians(direction)
     r = 10.0 * (1 + 1000.0 / ea)
     assert res.points["P"] == pytest.approx((r * math.cos(th), r * math.sin(th)), abs=1e-7)
+
+
+@pytest.mark.parametrize("eta", [0.6, 0.5])
+def test_a_pulley_hauled_into_a_knot_jams_and_is_named_two_blocked(eta):
+    # Found by the rotation property (hypothesis): a pulley at P1 on the run P0 (tied) -> P1 ->
+    # A1 slides into the knot at P0.  A jammed pass lets no rope run through it, so it passes
+    # the static ratio 1, inside the static friction range [eta, 1/eta] (rig-format.md), not
+    # the running ratio 1/eta (which would ask the spacing contact to pull).  Checked by statics
+    # (any mechanics text): P0 and P1 pressed together act as one body, so the external forces
+    # and the ropes leaving the pair balance exactly; the contact force inside acts along P0-P1.
+    pts = [Point("A0", "anchor", 10.0, 14.0), Point("A1", "anchor", 0.0, 14.0), Point("P0", "point", 0.0, 2.0),
+           Point("P1", "point", 0.0, 0.0)]
+    ropes = [rope("r0", ["A0", "P0"]), rope("r2", ["A0", "P0", ("P1", "pulley", "pul"), "A1"], pretension_N=20.0)]
+    forces = [Force("P0", 391.0, 270.0), Force("P1", 100.0, 270.0)]
+    res = solve(rig(pts, ropes, forces, hardware=[pulley(eta)], motion="haul", ea=2e4))
+    assert res.status == "ok", res.message
+    assert ("two-blocked", "P1") in {(w.code, w.subject) for w in res.warnings}
+    seg = {(s.rope, s.index): s for s in res.segments}
+    # default hardware spacing 5 cm, less the penalty contact's tiny give (push / stiffness ~ 1e-6 m)
+    assert seg[("r2", 1)].length_m == pytest.approx(0.05, abs=1e-5)
+    assert seg[("r2", 2)].tension_N == pytest.approx(seg[("r2", 1)].tension_N, rel=1e-9)
+    xy = {k: np.array(v) for k, v in res.points.items()}
+
+    def pull(s):  # force of segment s on its two ends
+        u = (xy[s.to_point] - xy[s.from_point]) / np.linalg.norm(xy[s.to_point] - xy[s.from_point])
+        return {s.from_point: s.tension_N * u, s.to_point: -s.tension_N * u}
+
+    net = {"P0": np.array([0.0, -391.0]), "P1": np.array([0.0, -100.0])}
+    for s in res.segments:
+        for p, f in pull(s).items():
+            if p in net:
+                net[p] = net[p] + f
+    pair = net["P0"] + net["P1"]  # the short piece's pull cancels inside the pair
+    assert np.linalg.norm(pair) <= 1e-7 * 391.0
+    # what is left on P1 is the contact push, along P0 -> P1 and away from P0
+    d = (xy["P1"] - xy["P0"]) / np.linalg.norm(xy["P1"] - xy["P0"])
+    push = net["P1"]
+    assert abs(push[0] * d[1] - push[1] * d[0]) <= 1e-7 * 391.0
+    assert push @ d < 0.0 or np.linalg.norm(push) <= 1e-7 * 391.0
