@@ -404,11 +404,30 @@ class _Solved:
 
 
 def _friction_solve(s: System, st: State, motion: str, kc: np.ndarray) -> tuple[_Outcome, np.ndarray]:
-    """Equilibrium with the pass friction of ``motion``, from state ``st``; edge wraps re-evaluated until settled."""
+    """Equilibrium with the pass friction of ``motion``, from state ``st``; edge wraps re-evaluated until settled.
+
+    Every pass first runs with the ratio of ``motion`` (rig-format.md).  When that finds no
+    equilibrium and passes are two-blocked (at the start or where the iteration stopped), it
+    is solved again with those passes jammed (static ratio 1, see friction.jammed_passes):
+    a pulley hauled into a knot would otherwise need the spacing contact to pull.
+    """
+    fr, w = _friction_stage(s, st, motion, kc, None)
+    if fr.converged or fr.runaway is not None:
+        return fr, w
+    jam = friction.jammed_passes(s, st.pen) | friction.jammed_passes(s, fr.state.pen)
+    if not jam.any():
+        return fr, w
+    again, w2 = _friction_stage(s, st, motion, kc, jam)
+    again.iterations += fr.iterations
+    return (again, w2) if again.converged or again.runaway is not None else (fr, w)
+
+
+def _friction_stage(s: System, st: State, motion: str, kc: np.ndarray,
+                    jam: np.ndarray | None) -> tuple[_Outcome, np.ndarray]:
+    """One friction solve with the passes ``jam`` (None: none) jammed."""
     iters = 0
-    # passes two-blocked at the start or on the way stay jammed (ratio 1): the set only grows,
-    # so the outer loop cannot cycle between a running and a jammed pass
-    jam = friction.jammed_passes(s, st.pen)
+    # passes jammed stay jammed and new two-blocked ones join (when jamming at all): the set
+    # only grows, so the outer loop cannot cycle between a running and a jammed pass
     w = friction.weights(s, st.u, motion, jam)
     for _outer in range(40):
         fr = _newton(s, st.x, w, kc, symmetric=False)
@@ -416,7 +435,8 @@ def _friction_solve(s: System, st: State, motion: str, kc: np.ndarray) -> tuple[
         st = fr.state
         if fr.runaway is not None or not fr.converged:
             return _Outcome(st, iters, False, fr.runaway), w
-        jam |= friction.jammed_passes(s, st.pen)
+        if jam is not None:
+            jam = jam | friction.jammed_passes(s, st.pen)
         w_new = friction.weights(s, st.u, motion, jam)
         if np.max(np.abs(w_new / w - 1.0), initial=0.0) <= 1e-12:
             if s.has_edges:
