@@ -431,6 +431,8 @@ def _friction_stage(s: System, st: State, motion: str, kc: np.ndarray,
     w = friction.weights(s, st.u, motion, jam)
     for _outer in range(40):
         fr = _newton(s, st.x, w, kc, symmetric=False)
+        if not fr.converged and fr.runaway is None:
+            fr = _soft_retry(s, st.x, w, kc, fr)
         iters += fr.iterations
         st = fr.state
         if fr.runaway is not None or not fr.converged:
@@ -445,6 +447,30 @@ def _friction_stage(s: System, st: State, motion: str, kc: np.ndarray,
             return _Outcome(st, iters, _max_norm(st.g) <= ACCEPT_REL * _force_scale(s, st)), w
         w = w_new
     return _Outcome(st, iters, False), w
+
+
+def _soft_retry(s: System, x0: np.ndarray, w: np.ndarray, kc: np.ndarray, failed: _Outcome) -> _Outcome:
+    """A failed friction solve tried again through softened ropes (see _soft_factors); ``failed`` if no better.
+
+    A pass that friction draws a long way along its rope (a pulley climbing to the next
+    anchor) follows a curved path; on stiff ropes the straight Newton chords overstretch them
+    and the iteration stalls, as in the frictionless soft start.
+    """
+    kappa = _soft_factors(s)
+    if kappa is None:
+        return failed
+    s.soft = kappa
+    try:
+        pre = _newton(s, x0, w, kc, symmetric=False, max_iter=60)
+    finally:
+        s.soft = None
+    if pre.runaway is not None:
+        return failed
+    out = _newton(s, pre.state.x, w, kc, symmetric=False)
+    out.iterations += pre.iterations + failed.iterations
+    if out.converged or out.runaway is not None:
+        return out
+    return failed
 
 
 def _soft_factors(s: System) -> np.ndarray | None:

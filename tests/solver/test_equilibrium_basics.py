@@ -399,3 +399,31 @@ def test_a_pulley_hauled_into_a_knot_jams_and_is_named_two_blocked(eta):
     push = net["P1"]
     assert abs(push[0] * d[1] - push[1] * d[0]) <= 1e-7 * 391.0
     assert push @ d < 0.0 or np.linalg.norm(push) <= 1e-7 * 391.0
+
+
+def test_a_pulley_that_friction_draws_up_its_rope_climbs_into_the_anchor_and_is_named():
+    # Found by the scaling property (hypothesis).  P0 hangs on a pulley (eta 0.6, haul) on the
+    # run P1 (tied) -> P0 -> A1 with P1 hanging below it.  Running, the pulley passes t/eta up
+    # and t down (rig-format.md): with t ~ 150 N from P1's 151 N, 0.667 t exceeds P0's 100 N at
+    # every height, so nothing stops it short of A1; it must end two-blocked there (5 cm
+    # default spacing), with the running ratio kept and P1, clear of any contact, balanced
+    # exactly (statics of a point, any mechanics text).
+    pts = [Point("A0", "anchor", 3.0, 14.0), Point("A1", "anchor", 0.0, 14.0), Point("P0", "point", 0.0, 4.0),
+           Point("P1", "point", 0.0, 1.0)]
+    ropes = [rope("r0", ["A0", "P0"]), rope("r1", ["A0", "P1"]),
+             rope("r2", ["A0", "P1", ("P0", "pulley", "pul"), "A1"], pretension_N=20.0)]
+    forces = [Force("P0", 100.0, 270.0), Force("P1", 151.0, 270.0)]
+    res = solve(rig(pts, ropes, forces, hardware=[pulley(0.6)], motion="haul", ea=1e6))
+    assert res.status == "ok", res.message
+    assert ("two-blocked", "P0") in {(w.code, w.subject) for w in res.warnings}
+    xy = {k: np.array(v) for k, v in res.points.items()}
+    assert np.linalg.norm(xy["P0"] - xy["A1"]) == pytest.approx(0.05, abs=1e-5)
+    seg = {(s.rope, s.index): s for s in res.segments}
+    assert seg[("r2", 2)].tension_N == pytest.approx(seg[("r2", 1)].tension_N / 0.6, rel=1e-9)
+    net = np.array([0.0, -151.0])
+    for s in res.segments:
+        for end, other in ((s.from_point, s.to_point), (s.to_point, s.from_point)):
+            if end == "P1":
+                d = xy[other] - xy[end]
+                net = net + s.tension_N * d / np.linalg.norm(d)
+    assert np.linalg.norm(net) <= 1e-8 * 151.0
