@@ -84,3 +84,23 @@ def test_sparse_assembly_equals_dense_assembly():
     Ks = scipy.sparse.csc_matrix((np.bincount(s.csc_map, vals, minlength=len(s.csc_indices)), s.csc_indices,
                                   s.csc_indptr), shape=(s.n_dof, s.n_dof))
     np.testing.assert_allclose(Ks.toarray(), dense_tangent(s, st), rtol=0, atol=1e-12 * np.abs(vals).max())
+
+
+@pytest.mark.parametrize("motion", ["hold", "haul"])
+def test_exact_tangent_matches_finite_differences_with_a_two_blocked_piece(motion):
+    # The friction stage's exact tangent keeps the negative geometric stiffness of a piece the
+    # spacing contact pushes (N < 0); approx_fprime is the reference.  G is put 3 cm from A,
+    # inside the pulley's 5 cm default spacing, so the piece G-A is pressed.
+    s = compile_rig(make_rig(Material(id="lin", kind="rope", mbs_N=3e4, stretch=((1000.0, 0.01),)), motion))
+    xy = s.xy0.copy()
+    ia, ig = s.point_ids.index("A"), s.point_ids.index("G")
+    xy[ig] = xy[ia] + [0.03 * 0.6, -0.03 * 0.8]
+    x = s.x_from(xy)
+    kc = contact_stiffness(s)
+    w = friction.weights(s, evaluate(s, x).u, motion)
+    st = evaluate(s, x, w, kc)
+    assert np.any(st.N < 0), "the check needs a pushed piece"
+    n = s.n_dof
+    K = np.bincount(s.dense_lin, tangent_values(s, st, kc, exact=True), minlength=n * n).reshape(n, n)
+    K_fd = approx_fprime(x, lambda z: evaluate(s, z, w, kc).g, 1e-9)
+    np.testing.assert_allclose(K, K_fd, atol=2e-5 * np.abs(K).max(), rtol=0)
