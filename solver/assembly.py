@@ -140,6 +140,10 @@ class System:
     comp_size: FloatArray = field(default=None)  # (n_comp,) size of each component's drawing, m
     comp_force_scale: FloatArray = field(default=None)  # (n_comp,) largest applied force / haul / pretension, N
     piece_len0: FloatArray = field(default=None)  # drawn length of each piece, m
+    comp_label: IntArray = field(default=None)  # (n_dof // 2,) part of each free point
+    comp_rep: IntArray = field(default=None)  # (n_runs,) representative free point of each run, -1 none
+    g_keep: IntArray = field(default=None)  # entries of piece_dofs.reshape(-1) that are free dofs
+    g_idx: IntArray = field(default=None)  # those dofs
     soft: FloatArray | None = None  # per run: ropes softened to kappa * T(eps) for the solver's soft start
     has_edges: bool = False
     has_friction: bool = False
@@ -427,8 +431,48 @@ def _pass_factor(rope_name: str, ps, hardware, where: str) -> tuple[int, float, 
                         subject=ps.at)
 
 
+#: Index arrays of recently compiled topologies (see :func:`_topology`), most recent last.
+_TOPOLOGY_CACHE: dict[tuple, dict] = {}
+_TOPOLOGY_CACHE_SIZE = 16
+#: System fields that depend only on the topology key of :func:`_finish` (never mutated in place).
+_TOPOLOGY_FIELDS = ("piece_dofs", "contact_on", "pair_k", "pair_j", "pair_run", "n_comp", "dof_comp",
+                    "run_comp", "piece_comp", "comp_label", "comp_rep", "k_keep", "k_rows", "k_cols",
+                    "csc_map", "csc_indices", "csc_indptr", "dense_lin", "g_keep", "g_idx")
+
+
 def _finish(s: System) -> None:
-    """Build the assembly index arrays once: piece dofs, tied-run piece pairs, material masks."""
+    """Build the assembly index arrays once: piece dofs, tied-run piece pairs, material masks.
+
+    The index arrays depend only on which points are free, the pieces' end points and the
+    runs' layout, so a rig that differs from a recent one only in coordinates or forces (a
+    dragged point, a force slider) reuses them; the coordinate-dependent parts are rebuilt.
+    """
+    key = (s.free.tobytes(), s.a.tobytes(), s.b.tobytes(), s.run_start.tobytes(), s.run_hauled.tobytes())
+    topo = _TOPOLOGY_CACHE.pop(key, None)
+    if topo is None:
+        _topology(s)
+        topo = {name: getattr(s, name) for name in _TOPOLOGY_FIELDS}
+        for arr in topo.values():
+            if isinstance(arr, np.ndarray):
+                arr.flags.writeable = False
+        if len(_TOPOLOGY_CACHE) >= _TOPOLOGY_CACHE_SIZE:
+            del _TOPOLOGY_CACHE[next(iter(_TOPOLOGY_CACHE))]
+    else:
+        for name, value in topo.items():
+            setattr(s, name, value)
+    _TOPOLOGY_CACHE[key] = topo
+    _component_scales(s)
+    # bare passes (a knot, a hand) are spaced relative to the size of their part of the rig, so a
+    # part solves to the same numbers whether it is drawn alone or beside others
+    part_size = _per_piece(s, s.comp_size, s.size)
+    s.s_min = np.where(s.s_min > 0, s.s_min, BARE_MIN_SPACING * part_size)
+    s.s_min = np.minimum(s.s_min, 0.5 * s.piece_len0)
+    s.has_edges = bool(np.any(s.pass_kind == PASS_EDGE))
+    s.has_friction = s.has_edges or bool(np.any((s.pass_kind == PASS_PULLEY) & (s.pass_eta < 1.0)))
+
+
+def _topology(s: System) -> None:
+    """The index arrays of :data:`_TOPOLOGY_FIELDS`, from free, a, b and the runs' layout only."""
     s.piece_dofs = np.concatenate([s.dof[s.a], s.dof[s.b]], axis=1) if s.n_pieces else np.zeros((0, 4), np.intp)
     s.contact_on = (s.free[s.a] | s.free[s.b]) if s.n_pieces else np.zeros(0, bool)
     # pairs (k, j) of pieces in the same tied run, vectorised by run size
@@ -447,14 +491,11 @@ def _finish(s: System) -> None:
     off = s.pair_k != s.pair_j  # the k == j terms go into each piece's own block
     s.pair_k, s.pair_j, s.pair_run = s.pair_k[off], s.pair_j[off], s.pair_run[off]
     _components(s)
-    # bare passes (a knot, a hand) are spaced relative to the size of their part of the rig, so a
-    # part solves to the same numbers whether it is drawn alone or beside others
-    part_size = _per_piece(s, s.comp_size, s.size)
-    s.s_min = np.where(s.s_min > 0, s.s_min, BARE_MIN_SPACING * part_size)
-    s.s_min = np.minimum(s.s_min, 0.5 * s.piece_len0)
-    s.has_edges = bool(np.any(s.pass_kind == PASS_EDGE))
-    s.has_friction = s.has_edges or bool(np.any((s.pass_kind == PASS_PULLEY) & (s.pass_eta < 1.0)))
     _pattern(s)
+    # out-of-balance assembly: the free dofs each piece's end forces land on
+    idx = s.piece_dofs.reshape(-1)
+    s.g_keep = np.flatnonzero(idx >= 0)
+    s.g_idx = idx[s.g_keep]
 
 
 def _per_piece(s: System, per_comp: FloatArray, default: float) -> FloatArray:
@@ -514,10 +555,18 @@ def _components(s: System) -> None:
         n_comp, label = nf, np.arange(nf)
     label = np.asarray(label, dtype=np.intp)
     s.n_comp = int(n_comp)
+    s.comp_label = label
+    s.comp_rep = rep
     s.dof_comp = np.repeat(label, 2)
     s.run_comp = np.full(s.n_runs, -1, dtype=np.intp)
     s.run_comp[rep >= 0] = label[rep[rep >= 0]]
     s.piece_comp = s.run_comp[s.piece_run] if s.n_pieces else np.zeros(0, np.intp)
+
+
+def _component_scales(s: System) -> None:
+    """Size (m) and force scale (N) of each part, from the coordinates, forces and ropes of ``s``."""
+    nf = s.n_dof // 2
+    label = s.comp_label
     # size of each part: the box around its free points and every point its pieces reach
     lo = np.full((s.n_comp, 2), np.inf)
     hi = np.full((s.n_comp, 2), -np.inf)
@@ -680,9 +729,7 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
     if s.n_pieces:
         fa = -N[:, None] * u  # dPi/dx_a = -N u, dPi/dx_b = +N u
         vals = np.concatenate([fa, -fa], axis=1).reshape(-1)
-        idx = s.piece_dofs.reshape(-1)
-        keep = idx >= 0
-        g += np.bincount(idx[keep], vals[keep], minlength=s.n_dof)
+        g += np.bincount(s.g_idx, vals[s.g_keep], minlength=s.n_dof)
     # potential energy, exact for frictionless weights
     hauled = s.run_hauled
     U = np.where(hauled, s.run_P * L, 0.0) if s.n_runs else np.zeros(0)
