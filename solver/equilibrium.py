@@ -88,6 +88,16 @@ def _matrix(s: System, st: State, kc: np.ndarray, dense: bool, exact: bool = Fal
     return scipy.sparse.csc_matrix((data, s.csc_indices, s.csc_indptr), shape=(n, n))
 
 
+_POTRF, _POTRS, _GETRF, _GETRS = scipy.linalg.get_lapack_funcs(("potrf", "potrs", "getrf", "getrs"),
+                                                                 (np.zeros((1, 1)),))
+
+
+def _lapack_solved(x: np.ndarray, info: int) -> np.ndarray:
+    if info != 0:
+        raise ValueError(f"illegal value in argument {-info} of the LAPACK solve")
+    return x
+
+
 def _shifted_factor(K, lam: np.ndarray, dense: bool, symmetric: bool):
     """A solver for (K + diag(lam)) d = rhs; None when the shifted matrix is not usable (raise the shift)."""
     n = len(lam)
@@ -95,13 +105,17 @@ def _shifted_factor(K, lam: np.ndarray, dense: bool, symmetric: bool):
         if dense:
             M = K.copy()
             M[np.diag_indices(n)] += lam
+            # the LAPACK routines scipy.linalg.cho_factor/cho_solve and lu_factor/lu_solve call,
+            # called directly: same numbers without the wrappers' per-call overhead (small rigs)
             if symmetric:
-                fac = scipy.linalg.cho_factor(M, overwrite_a=True, check_finite=False)
-                return lambda rhs: scipy.linalg.cho_solve(fac, rhs, check_finite=False)
-            fac = scipy.linalg.lu_factor(M, overwrite_a=True, check_finite=False)
-            if not np.all(np.isfinite(fac[0])) or np.any(np.diag(fac[0]) == 0.0):
+                c, info = _POTRF(M, lower=False, overwrite_a=True, clean=False)
+                if info != 0:
+                    return None
+                return lambda rhs: _lapack_solved(*_POTRS(c, rhs, lower=False))
+            lu, piv, info = _GETRF(M, overwrite_a=True)
+            if info < 0 or not np.all(np.isfinite(lu)) or np.any(np.diag(lu) == 0.0):
                 return None
-            return lambda rhs: scipy.linalg.lu_solve(fac, rhs, check_finite=False)
+            return lambda rhs: _lapack_solved(*_GETRS(lu, piv, rhs, trans=0))
         M = (K + scipy.sparse.diags(lam, format="csc")).tocsc()
         if symmetric:  # SPD after the shift: diagonal pivots, symmetric ordering
             lu = scipy.sparse.linalg.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
