@@ -144,6 +144,8 @@ class System:
     comp_rep: IntArray = field(default=None)  # (n_runs,) representative free point of each run, -1 none
     g_keep: IntArray = field(default=None)  # entries of piece_dofs.reshape(-1) that are free dofs
     g_idx: IntArray = field(default=None)  # those dofs
+    run_on: IntArray = field(default=None)  # runs with run_comp >= 0
+    piece_on: IntArray = field(default=None)  # pieces with piece_comp >= 0
     soft: FloatArray | None = None  # per run: ropes softened to kappa * T(eps) for the solver's soft start
     has_edges: bool = False
     has_friction: bool = False
@@ -437,7 +439,7 @@ _TOPOLOGY_CACHE_SIZE = 16
 #: System fields that depend only on the topology key of :func:`_finish` (never mutated in place).
 _TOPOLOGY_FIELDS = ("piece_dofs", "contact_on", "pair_k", "pair_j", "pair_run", "n_comp", "dof_comp",
                     "run_comp", "piece_comp", "comp_label", "comp_rep", "k_keep", "k_rows", "k_cols",
-                    "csc_map", "csc_indices", "csc_indptr", "dense_lin", "g_keep", "g_idx")
+                    "csc_map", "csc_indices", "csc_indptr", "dense_lin", "g_keep", "g_idx", "run_on", "piece_on")
 
 
 def _finish(s: System) -> None:
@@ -561,6 +563,8 @@ def _components(s: System) -> None:
     s.run_comp = np.full(s.n_runs, -1, dtype=np.intp)
     s.run_comp[rep >= 0] = label[rep[rep >= 0]]
     s.piece_comp = s.run_comp[s.piece_run] if s.n_pieces else np.zeros(0, np.intp)
+    s.run_on = np.flatnonzero(s.run_comp >= 0)
+    s.piece_on = np.flatnonzero(s.piece_comp >= 0)
 
 
 def _component_scales(s: System) -> None:
@@ -712,15 +716,14 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
     xy = s.positions(x)
     d = xy[s.b] - xy[s.a]
     l = np.hypot(d[:, 0], d[:, 1])
-    with np.errstate(divide="ignore", invalid="ignore"):
-        u = np.where(l[:, None] > 0, d / l[:, None], 0.0)
+    u = np.divide(d, l[:, None], out=np.zeros_like(d), where=(l > 0)[:, None])
     if w is None:
         w = np.ones(s.n_pieces)
     L = np.add.reduceat(l, s.run_start) if s.n_runs else np.zeros(0)
     tau, taut = solve_run_tensions(s, L, l, w)
     T = w * tau[s.piece_run] if s.n_pieces else np.zeros(0)
-    every = np.arange(s.n_pieces)
-    eps = by_material(s, s.piece_mat, T, "strain", _kappa(s, pieces=every)) if s.n_pieces else np.zeros(0)
+    kappa = None if s.soft is None else s.soft[s.piece_run]  # = _kappa(s, pieces=every piece)
+    eps = by_material(s, s.piece_mat, T, "strain", kappa) if s.n_pieces else np.zeros(0)
     if kc is None:
         kc = contact_stiffness(s)
     pen = np.where(s.contact_on, np.maximum(s.s_min - l, 0.0), 0.0)
@@ -742,9 +745,9 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
     energy = float(U.sum()) + float(contact.sum()) - float(fx.sum())
     comp_energy = -np.bincount(s.dof_comp, fx, minlength=s.n_comp)
     if s.n_runs:
-        on = s.run_comp >= 0
+        on = s.run_on
         comp_energy += np.bincount(s.run_comp[on], U[on], minlength=s.n_comp)
-        on = s.piece_comp >= 0
+        on = s.piece_on
         comp_energy += np.bincount(s.piece_comp[on], contact[on], minlength=s.n_comp)
     return State(x=x, xy=xy, l=l, u=u, w=w, L=L, tau=tau, taut=taut, T=T, eps=eps, pen=pen, N=N, g=g,
                  energy=energy, comp_energy=comp_energy)
@@ -769,19 +772,17 @@ def tangent_values(s: System, st: State, kc: FloatArray | None = None, exact: bo
     if kc is None:
         kc = contact_stiffness(s)
     u, l = st.u, st.l
-    with np.errstate(divide="ignore", invalid="ignore"):
-        # a piece pushed by the spacing contact (N < 0) would add negative stiffness, turning the
-        # rope's kink at a two-blocked pass into a saddle for Newton: keep only the pull (PSD tangent)
-        geo = np.where(l > 0, (st.N if exact else np.maximum(st.N, 0.0)) / l, 0.0)
+    # a piece pushed by the spacing contact (N < 0) would add negative stiffness, turning the
+    # rope's kink at a two-blocked pass into a saddle for Newton: keep only the pull (PSD tangent)
+    geo = np.divide(st.N if exact else np.maximum(st.N, 0.0), l, out=np.zeros_like(l), where=l > 0)
     axial = np.where(st.pen > 0, kc, 0.0)
     coef = np.zeros(s.n_pieces)
     run_coef = None
     if np.any(st.taut):
         c = 1.0 / (1.0 + st.eps)
-        de = by_material(s, s.piece_mat, st.T, "dstrain", _kappa(s, pieces=np.arange(s.n_pieces)))
+        de = by_material(s, s.piece_mat, st.T, "dstrain", None if s.soft is None else s.soft[s.piece_run])
         D = np.bincount(s.piece_run, l * st.w * de * c * c, minlength=s.n_runs)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            run_coef = np.where(st.taut & (D > 0), 1.0 / D, 0.0)
+        run_coef = np.divide(1.0, D, out=np.zeros_like(D), where=st.taut & (D > 0))
         coef = st.w * c * run_coef[s.piece_run]
     axial = axial + coef
     ux, uy = u[:, 0], u[:, 1]
