@@ -61,6 +61,25 @@ def _hardware(rig: Rig, hardware_id: str) -> Hardware:
     return hardware_for(rig, hardware_id)
 
 
+#: Stretch curves of recently compiled materials, by stretch table (a curve is never modified).
+_CURVES: dict[tuple, StretchCurve] = {}
+
+
+def _curve(stretch) -> StretchCurve:
+    """The StretchCurve of a stretch table, built once per distinct table (raises ValueError as StretchCurve)."""
+    try:
+        key = tuple((float(t), float(e)) for t, e in stretch)
+    except (TypeError, ValueError):
+        return StretchCurve(stretch)  # let the curve say what is wrong with the table
+    curve = _CURVES.get(key)
+    if curve is None:
+        curve = StretchCurve(stretch)
+        if len(_CURVES) >= 64:
+            _CURVES.clear()
+        _CURVES[key] = curve
+    return curve
+
+
 @dataclass
 class MiddlePass:
     """A middle pass of a rope, for reporting: key "ROPE@POINT", the pieces before and after."""
@@ -270,7 +289,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
         if m_i is None:
             spec = _material(rig, rope.material)
             try:
-                curve = StretchCurve(spec.stretch)
+                curve = _curve(spec.stretch)
             except ValueError as exc:
                 raise RigModelError(f'material "{spec.name}": {exc}', where=f"materials.{spec.id}",
                                     subject=spec.id) from None
