@@ -283,8 +283,9 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
                     nat1 = np.sqrt(np.bincount(cd[idx], solver(-trial.g[idx]) ** 2, minlength=C))
                     good |= trying & (nat1 <= (1.0 - 1e-4 * a * shrink) * nat0)
                 # round-off: merit flat to machine precision but the imbalance still shrinks
-                flat = np.abs(m1 - m0) <= 1e-13 * (np.abs(m0) + scale * size)
-                good |= trying & flat & (_comp_max(s, _point_norms(trial.g)) < 0.9 * res)
+                flat = trying & (np.abs(m1 - m0) <= 1e-13 * (np.abs(m0) + scale * size))
+                if flat.any():
+                    good |= flat & (_comp_max(s, _point_norms(trial.g)) < 0.9 * res)
                 if good.any():
                     gd = good[cd]
                     x_new[gd] = xt[gd]
