@@ -651,10 +651,9 @@ def by_material(s: System, mats: IntArray, values: FloatArray, method: str,
         if method == "dstrain":
             return by_material(s, mats, values / kappa, method) / kappa
         return kappa * by_material(s, mats, values, method)  # tension, dtension, energy
+    if len(s.curves) == 1:  # the curve returns a new float array of the same shape
+        return np.asarray(getattr(s.curves[0], method)(values), dtype=float)
     out = np.empty_like(values)
-    if len(s.curves) == 1:
-        out[:] = getattr(s.curves[0], method)(values)
-        return out
     for m, curve in enumerate(s.curves):
         idx = np.flatnonzero(mats == m)
         if len(idx):
