@@ -688,7 +688,7 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
     hauled = s.run_hauled
     tau[hauled] = s.run_P[hauled] / w[last[hauled]]
     taut = (~hauled) & (L >= s.run_L0)
-    strict = np.flatnonzero((~hauled) & (L > s.run_L0))
+    strict = ((~hauled) & (L > s.run_L0)).nonzero()[0]
     if len(strict) == 0:
         return tau, taut
     lam_e = L[strict] / s.run_L0[strict] - 1.0
@@ -698,7 +698,7 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
     lo = t_lam / wmax
     hi = t_lam / wmin
     t = 0.5 * (lo + hi)
-    todo = np.flatnonzero(hi - lo > 1e-15 * hi)
+    todo = (hi - lo > 1e-15 * hi).nonzero()[0]
     if len(todo):
         # pieces of the runs still to solve
         runs = strict[todo]
@@ -734,7 +734,7 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
     xy = s.positions(x)
     d = xy[s.b] - xy[s.a]
     l = np.hypot(d[:, 0], d[:, 1])
-    u = np.divide(d, l[:, None], out=np.zeros_like(d), where=(l > 0)[:, None])
+    u = np.divide(d, l[:, None], out=np.zeros(d.shape), where=(l > 0)[:, None])
     if w is None:
         w = np.ones(s.n_pieces)
     L = np.add.reduceat(l, s.run_start) if s.n_runs else np.zeros(0)
@@ -754,7 +754,7 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
     # potential energy, exact for frictionless weights
     hauled = s.run_hauled
     U = np.where(hauled, s.run_P * L, 0.0) if s.n_runs else np.zeros(0)
-    tied = np.flatnonzero(~hauled & (L > s.run_L0))
+    tied = (~hauled & (L > s.run_L0)).nonzero()[0]
     if len(tied):
         e_r = L[tied] / s.run_L0[tied] - 1.0
         U[tied] = s.run_L0[tied] * by_material(s, s.run_mat[tied], e_r, "energy", _kappa(s, runs=tied))
@@ -792,15 +792,15 @@ def tangent_values(s: System, st: State, kc: FloatArray | None = None, exact: bo
     u, l = st.u, st.l
     # a piece pushed by the spacing contact (N < 0) would add negative stiffness, turning the
     # rope's kink at a two-blocked pass into a saddle for Newton: keep only the pull (PSD tangent)
-    geo = np.divide(st.N if exact else np.maximum(st.N, 0.0), l, out=np.zeros_like(l), where=l > 0)
+    geo = np.divide(st.N if exact else np.maximum(st.N, 0.0), l, out=np.zeros(l.shape), where=l > 0)
     axial = np.where(st.pen > 0, kc, 0.0)
     coef = np.zeros(s.n_pieces)
     run_coef = None
-    if np.any(st.taut):
+    if st.taut.any():
         c = 1.0 / (1.0 + st.eps)
         de = by_material(s, s.piece_mat, st.T, "dstrain", None if s.soft is None else s.soft[s.piece_run])
         D = np.bincount(s.piece_run, l * st.w * de * c * c, minlength=s.n_runs)
-        run_coef = np.divide(1.0, D, out=np.zeros_like(D), where=st.taut & (D > 0))
+        run_coef = np.divide(1.0, D, out=np.zeros(D.shape), where=st.taut & (D > 0))
         coef = st.w * c * run_coef[s.piece_run]
     axial = axial + coef
     ux, uy = u[:, 0], u[:, 1]

@@ -156,7 +156,7 @@ def _comp_scale(s: System, st: State) -> np.ndarray:
         out[0] = max(out[0], float(np.abs(st.N).max()) if len(st.N) else 0.0)
         return out
     on = s.piece_comp >= 0
-    if np.any(on):
+    if on.any():
         np.maximum.at(out, s.piece_comp[on], np.abs(st.N[on]))
     return out
 
@@ -198,7 +198,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
     ok = np.zeros(C, dtype=bool)  # parts that stopped converged
     stall = np.zeros(C, dtype=np.intp)  # iterations without the imbalance halving
     best = np.full(C, np.inf)
-    free_idx = np.flatnonzero(s.free)
+    free_idx = (s.free).nonzero()[0]
     evaluations = 0
     it = 0
     for it in range(max_iter):
@@ -230,7 +230,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
         for _attempt in range(8):
             if not pending.any():
                 break
-            idx = np.flatnonzero(pending[cd])
+            idx = (pending[cd]).nonzero()[0]
             every = len(idx) == s.n_dof
             Ks = K if every else _sub(K, idx, dense)
             lam = (mu * base)[cd[idx]]
