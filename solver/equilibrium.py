@@ -633,13 +633,16 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
     sf = rig.settings.min_safety_factor
     run_in_rope = [_run_index_in_rope(s, g) for g in range(s.n_runs)]
     segments = []
-    for k in range(s.n_pieces):
-        mat = s.materials[s.piece_mat[k]]
+    # whole arrays to Python numbers at once (same values as float()/int() of each element)
+    mbs = np.array([m.mbs_N for m in s.materials], dtype=float)[s.piece_mat] if s.n_pieces else np.zeros(0)
+    util = (st.T * sf / mbs).tolist()
+    ids = s.point_ids
+    for k, (rope, index, ia, ib, t, length, eps, r) in enumerate(zip(
+            s.piece_rope, s.piece_index.tolist(), s.a.tolist(), s.b.tolist(), st.T.tolist(), st.l.tolist(),
+            st.eps.tolist(), s.piece_run.tolist())):
         segments.append(SegmentResult(
-            rope=s.piece_rope[k], index=int(s.piece_index[k]), from_point=s.point_ids[s.a[k]],
-            to_point=s.point_ids[s.b[k]], tension_N=float(st.T[k]), length_m=float(st.l[k]),
-            strain=float(st.eps[k]), utilization=float(st.T[k] * sf / mat.mbs_N),
-            run=run_in_rope[s.piece_run[k]]))
+            rope=rope, index=index, from_point=ids[ia], to_point=ids[ib], tension_N=t, length_m=length,
+            strain=eps, utilization=util[k], run=run_in_rope[r]))
     f = _resultants(s, st)
     anchors, loads = {}, {}
     for i, p in enumerate(s.points):
