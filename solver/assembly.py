@@ -19,6 +19,7 @@ import scipy.sparse.csgraph
 from numpy.typing import NDArray
 
 from solver.errors import RigModelError
+from solver.materials import hardware_for, material_for
 from solver.model import MIDDLE_HOWS, MOTIONS, STANDARD_GRAVITY, Hardware, Material, Rig
 from solver.stretch import StretchCurve
 
@@ -35,30 +36,6 @@ BARE_MIN_SPACING = 1e-4
 PASS_NONE, PASS_PULLEY, PASS_SLIDING, PASS_EDGE = 0, 1, 2, 3
 #: Two points closer than this are coincident, m.
 COINCIDENT_M = 1e-6
-
-
-def _material(rig: Rig, material_id: str) -> Material:
-    """The material spec: the shared library module when present, else embedded specs only."""
-    try:
-        from solver.materials import material_for  # noqa: PLC0415  (lands in a sibling issue)
-    except ImportError:
-        spec = rig.embedded_material(material_id)
-        if spec is None:
-            raise RigModelError(f'the rope material "{material_id}" is not known', subject=material_id)
-        return spec
-    return material_for(rig, material_id)
-
-
-def _hardware(rig: Rig, hardware_id: str) -> Hardware:
-    """The hardware spec: the shared library module when present, else embedded specs only."""
-    try:
-        from solver.materials import hardware_for  # noqa: PLC0415
-    except ImportError:
-        spec = rig.embedded_hardware(hardware_id)
-        if spec is None:
-            raise RigModelError(f'the hardware "{hardware_id}" is not known', subject=hardware_id)
-        return spec
-    return hardware_for(rig, hardware_id)
 
 
 #: Stretch curves of recently compiled materials, by stretch table (a curve is never modified).
@@ -249,7 +226,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
 
     def hardware(hid: str) -> Hardware:
         if hid not in hw_cache:
-            hw_cache[hid] = _hardware(rig, hid)
+            hw_cache[hid] = hardware_for(rig, hid)
         return hw_cache[hid]
 
     rope_ids: set[str] = set()
@@ -287,7 +264,7 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
                         "move one of them or remove the pass", where=f"{where}.path[{j}]", subject=ps.at)
         m_i = mat_index.get(rope.material)
         if m_i is None:
-            spec = _material(rig, rope.material)
+            spec = material_for(rig, rope.material)
             try:
                 curve = _curve(spec.stretch)
             except ValueError as exc:

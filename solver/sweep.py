@@ -111,10 +111,8 @@ def _force_index(rig: Rig, sel: str) -> int:
 
 
 def _hardware_spec(rig: Rig, hw_id: str) -> Hardware:
-    spec = rig.embedded_hardware(hw_id)
-    if spec is not None:
-        return spec
     from solver.materials import hardware_for
+
     try:
         return hardware_for(rig, hw_id)
     except RigModelError:
@@ -122,10 +120,8 @@ def _hardware_spec(rig: Rig, hw_id: str) -> Hardware:
 
 
 def _material_spec(rig: Rig, mat_id: str) -> Material:
-    spec = rig.embedded_material(mat_id)
-    if spec is not None:
-        return spec
     from solver.materials import material_for
+
     try:
         return material_for(rig, mat_id)
     except RigModelError:
