@@ -182,6 +182,8 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
     st = evaluate(s, x0, w, kc)
     if s.n_dof == 0:
         return _Outcome(st, 0, True)
+    if s.n_comp == 1:
+        return _newton_one_part(s, st, w, kc, symmetric, max_iter)
     C = s.n_comp
     cd = s.dof_comp
     cp = cd[0::2]
@@ -314,6 +316,134 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
     scale = _comp_scale(s, st)
     res = _comp_max(s, _point_norms(st.g))
     return _Outcome(st, it + 1, bool(np.all(ok | (res <= ACCEPT_REL * scale))))
+
+
+def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray, symmetric: bool,
+                     max_iter: int) -> _Outcome:
+    """:func:`_newton` for a rig of one part (``s.n_comp == 1``), from its first state ``st``.
+
+    The same iteration, test for test and in the same floating-point operations, with the
+    per-part arrays held as plain numbers: most rigs are one part, and on a small rig the
+    array bookkeeping of the general loop costs more than the linear algebra.
+    """
+    dense = s.n_dof <= DENSE_MAX
+    cd = s.dof_comp
+    size = float(s.comp_size[0])
+    comp_scale0 = float(s.comp_force_scale[0])
+
+    def merit(state: State) -> float:
+        if symmetric:
+            return state.comp_energy[0]
+        return 0.5 * np.bincount(cd, state.g * state.g, minlength=1)[0]
+
+    def nat_norm(v: np.ndarray) -> float:
+        return np.sqrt(np.bincount(cd, v * v, minlength=1))[0]
+
+    def scale_of(state: State) -> float:
+        return max(comp_scale0, float(np.abs(state.N).max()) if len(state.N) else 0.0)
+
+    cap = 0.1 * size
+    mu = 1e-10
+    ok = False
+    stall = 0
+    best = np.inf
+    free_idx = s.free.nonzero()[0]
+    evaluations = 0
+    it = 0
+    for it in range(max_iter):
+        if evaluations > MAX_EVALUATIONS:
+            break
+        scale = scale_of(st)
+        res = float(_point_norms(st.g).max())
+        done = (res <= TARGET_REL * scale) or (scale == 0.0 and res == 0.0)
+        improved = res < 0.5 * best
+        if improved:
+            best = res
+            stall = 0
+        else:
+            stall += 1
+        done = done or (stall >= 4 and res <= ACCEPT_REL * scale)
+        if done:
+            return _Outcome(st, it, True)
+        K = _matrix(s, st, kc, dense, exact=not symmetric)
+        diag = K.diagonal()
+        base = max(float(np.maximum(diag[0::2], diag[1::2]).max()), scale / size, 1e-12)
+        m0 = merit(st)
+        x_new = st.x.copy()
+        pending = True
+        alpha = 1.0
+        capped = False
+        trial = None
+        g = st.g
+        for _attempt in range(8):
+            if not pending:
+                break
+            d_sub, solver = _shifted_solve(K, np.full(s.n_dof, mu * base), -g, dense, symmetric)
+            if d_sub is None:
+                mu *= 100.0
+                continue
+            step = float(_point_norms(d_sub).max())
+            capped = step > cap
+            shrink = cap / max(step, 1e-300) if capped else 1.0
+            if not symmetric:
+                nat0 = nat_norm(d_sub)
+            d = d_sub * shrink
+            slope = np.bincount(cd, g * d, minlength=1)[0] if symmetric else None
+            if symmetric:
+                uphill = slope >= 0.0
+            else:
+                Kd = K @ d
+                slope = np.bincount(cd, g * Kd, minlength=1)[0]
+                nat_slope = np.bincount(cd, d_sub * solver(Kd), minlength=1)[0]
+                uphill = slope >= 0.0 and nat_slope >= 0.0
+                slope = min(slope, 0.0)
+            if uphill:
+                mu *= 100.0
+            trying = not uphill
+            a = 1.0 if trying else 0.0
+            for _ls in range(30):
+                if not trying:
+                    break
+                evaluations += 1
+                xt = st.x + a * d
+                trial = evaluate(s, xt, w, kc)
+                m1 = merit(trial)
+                good = m1 <= m0 + 1e-4 * a * slope
+                if not symmetric and not good:
+                    good = nat_norm(solver(-trial.g)) <= (1.0 - 1e-4 * a * shrink) * nat0
+                if not good and abs(m1 - m0) <= 1e-13 * (abs(m0) + scale * size):
+                    good = float(_point_norms(trial.g).max()) < 0.9 * res
+                if good:
+                    x_new = xt
+                    alpha = a
+                    pending = False
+                    trying = False
+                else:
+                    a = 0.5 * a
+            if trying:
+                mu *= 100.0  # line search failed: more damping
+        active = True
+        if pending:  # no step found: stop where it is
+            ok = res <= ACCEPT_REL * scale
+            active = False
+        if trial is None or not np.array_equal(trial.x, x_new):
+            evaluations += 1
+            trial = evaluate(s, x_new, w, kc)
+        if log.isEnabledFor(logging.DEBUG):
+            log.debug("it %d res %s mu %s alpha %s cap %s capped %s", it, res, mu, alpha, cap, capped)
+        if active and alpha == 1.0:
+            mu = max(mu / 10.0, 1e-10)
+            if capped:
+                cap = 2.0 * cap
+        st = trial
+        far = np.hypot(*(st.xy[free_idx] - s.centre).T)
+        if far.max() > RUNAWAY_SIZES * s.size:
+            return _Outcome(st, it + 1, False, runaway=int(free_idx[np.argmax(far)]))
+        if not active:
+            return _Outcome(st, it + 1, ok)
+    scale = scale_of(st)
+    res = float(_point_norms(st.g).max())
+    return _Outcome(st, it + 1, bool(ok or res <= ACCEPT_REL * scale))
 
 
 # --- words -----------------------------------------------------------------------------------------
