@@ -11,6 +11,7 @@ import argparse
 import json
 import math
 import sys
+from dataclasses import replace
 from typing import TextIO
 
 from solver import units
@@ -85,12 +86,14 @@ def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
 
     out = out or sys.stdout
     rig = load_rig(args.rig)  # RigFileError -> exit 2 via solver.cli.main
+    length_unit, force_unit = _units_for(rig, args.units)
+    # display units never change a number; warnings are worded in the units asked for
+    rig = replace(rig, display=replace(rig.display, length=length_unit, force=force_unit))
     result = analyse(rig)
     if args.json:
         json.dump(_finite(result.to_json()), out, indent=2, allow_nan=False)
         out.write("\n")
     else:
-        length_unit, force_unit = _units_for(rig, args.units)
         out.write(format_result(rig, result, length_unit, force_unit) + "\n")
     if not result.ok:
         print(f"ropewright: {args.rig}: {result.message}", file=sys.stderr)

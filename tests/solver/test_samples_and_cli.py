@@ -50,6 +50,13 @@ def test_imperial_units_show_feet_and_pounds(capsys):
     assert " lbf" in out and " ft" in out
 
 
+def test_imperial_units_reach_the_warnings_too(capsys):
+    # the compound sample's alder is below 10:1, so it carries a margin warning with a force in it
+    assert main(["solve", str(SAMPLES / "compound-2on3.rig.json"), "--units", "imperial"]) == 0
+    warnings = capsys.readouterr().out.split("Warnings", 1)[1]
+    assert " lbf" in warnings and " kN" not in warnings
+
+
 def test_bad_file_exits_2_with_the_place_named(tmp_path, capsys):
     bad = tmp_path / "bad.rig.json"
     data = json.loads((SAMPLES / "vector-pull.rig.json").read_text())
