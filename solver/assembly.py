@@ -123,6 +123,8 @@ class System:
     k_rows: IntArray = field(default=None)  # tangent pattern (free dofs only)
     k_cols: IntArray = field(default=None)
     k_keep: IntArray = field(default=None)
+    k_src: IntArray = field(default=None)  # per kept tangent entry: index into the packed block values
+    k_sgn: FloatArray = field(default=None)  # per kept tangent entry: its sign (+1 or -1)
     csc_map: IntArray = field(default=None)
     csc_indices: NDArray[np.int32] = field(default=None)
     csc_indptr: NDArray[np.int32] = field(default=None)
@@ -434,7 +436,7 @@ _TOPOLOGY_CACHE: dict[tuple, dict] = {}
 _TOPOLOGY_CACHE_SIZE = 16
 #: System fields that depend only on the topology key of :func:`_finish` (never mutated in place).
 _TOPOLOGY_FIELDS = ("piece_dofs", "contact_on", "pair_k", "pair_j", "pair_run", "n_comp", "dof_comp",
-                    "run_comp", "piece_comp", "comp_label", "comp_rep", "k_keep", "k_rows", "k_cols",
+                    "run_comp", "piece_comp", "comp_label", "comp_rep", "k_keep", "k_src", "k_sgn", "k_rows", "k_cols",
                     "csc_map", "csc_indices", "csc_indptr", "dense_lin", "g_keep", "g_idx", "run_on", "piece_on")
 
 
@@ -785,15 +787,14 @@ def tangent_values(s: System, st: State, kc: FloatArray | None = None, exact: bo
     axx = geo * (1.0 - ux * ux) + axial * ux * ux
     axy = (axial - geo) * ux * uy
     ayy = geo * (1.0 - uy * uy) + axial * uy * uy
-    A = np.stack([axx, axy, axy, ayy], axis=1)  # (n, 4): [xx, xy, yx, yy]
-    vals = [(A[:, _LOCAL_AB] * _LOCAL_SG).reshape(-1)]
+    # every kept entry is one of these block values times +-1 (index map built by _pattern)
+    packed = [axx, axy, ayy]
     if len(s.pair_k):
         k, j, r = s.pair_k, s.pair_j, s.pair_run
         cj = 1.0 / (1.0 + st.eps[j])
         pc = st.w[k] * cj * (run_coef[r] if run_coef is not None else 0.0)
-        B = np.stack([ux[k] * ux[j], ux[k] * uy[j], uy[k] * ux[j], uy[k] * uy[j]], axis=1) * pc[:, None]
-        vals.append((B[:, _LOCAL_AB] * _LOCAL_SG).reshape(-1))
-    return np.concatenate(vals)[s.k_keep]
+        packed += [ux[k] * ux[j] * pc, ux[k] * uy[j] * pc, uy[k] * ux[j] * pc, uy[k] * uy[j] * pc]
+    return np.concatenate(packed)[s.k_src] * s.k_sgn
 
 
 _SGN = np.array([1.0, 1.0, -1.0, -1.0])
@@ -814,6 +815,15 @@ def _pattern(s: System) -> None:
     col = np.concatenate(cols) if cols else np.zeros(0, np.intp)
     keep = (row >= 0) & (col >= 0)
     s.k_keep = np.flatnonzero(keep)
+    # where each kept entry's value sits in tangent_values' packed list [axx, axy, ayy] of the
+    # pieces, then [xx, xy, yx, yy] of the pairs (each a block of values, one per piece/pair)
+    n, m = len(s.piece_dofs), len(s.pair_k)
+    comp = np.array([0, 1, 1, 2])[_LOCAL_AB]
+    src = [(comp[None, :] * n + np.arange(n)[:, None]).reshape(-1)]
+    if m:
+        src.append((3 * n + _LOCAL_AB[None, :] * m + np.arange(m)[:, None]).reshape(-1))
+    s.k_src = np.concatenate(src).astype(np.intp)[s.k_keep]
+    s.k_sgn = np.broadcast_to(_LOCAL_SG, (n + m, 16)).reshape(-1)[s.k_keep].copy()
     s.k_rows, s.k_cols = row[keep], col[keep]
     n = max(s.n_dof, 1)
     lin = s.k_cols.astype(np.int64) * n + s.k_rows  # column-major: CSC order after unique
