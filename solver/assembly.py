@@ -613,8 +613,48 @@ class State:
     pen: FloatArray  # contact penetration (>0 when two passes are closer than their size), m
     N: FloatArray  # piece axial pull incl. contact push, N
     g: FloatArray  # out-of-balance: internal resistance minus external force, per dof, N
-    energy: float  # total potential (meaningful without friction), J
-    comp_energy: FloatArray  # the potential of each free part (energy = their sum + a constant), J
+    # what the potential is computed from, on first use (the friction solve never asks for it)
+    potential_from: tuple | None = field(default=None, repr=False, compare=False)
+    _potential: tuple | None = field(default=None, repr=False, compare=False)
+
+    @property
+    def energy(self) -> float:
+        """Total potential (meaningful without friction), J."""
+        return self._energies()[0]
+
+    @property
+    def comp_energy(self) -> FloatArray:
+        """The potential of each free part (energy = their sum + a constant), J."""
+        return self._energies()[1]
+
+    def _energies(self) -> tuple[float, FloatArray]:
+        if self._potential is None:
+            self._potential = _potential(*self.potential_from)
+            self.potential_from = None
+        return self._potential
+
+
+def _potential(s: System, soft: FloatArray | None, x: FloatArray, L: FloatArray, kc: FloatArray,
+               pen: FloatArray) -> tuple[float, FloatArray]:
+    """(total potential, potential of each free part) at a state; ``soft`` = the softening then in force, J."""
+    # potential energy, exact for frictionless weights
+    hauled = s.run_hauled
+    U = np.where(hauled, s.run_P * L, 0.0) if s.n_runs else np.zeros(0)
+    tied = (~hauled & (L > s.run_L0)).nonzero()[0]
+    if len(tied):
+        e_r = L[tied] / s.run_L0[tied] - 1.0
+        U[tied] = s.run_L0[tied] * by_material(s, s.run_mat[tied], e_r, "energy",
+                                               None if soft is None else soft[tied])
+    contact = 0.5 * kc * pen * pen
+    fx = s.F * x
+    energy = float(U.sum()) + float(contact.sum()) - float(fx.sum())
+    comp_energy = -np.bincount(s.dof_comp, fx, minlength=s.n_comp)
+    if s.n_runs:
+        on = s.run_on
+        comp_energy += np.bincount(s.run_comp[on], U[on], minlength=s.n_comp)
+        on = s.piece_on
+        comp_energy += np.bincount(s.piece_comp[on], contact[on], minlength=s.n_comp)
+    return energy, comp_energy
 
 
 def by_material(s: System, mats: IntArray, values: FloatArray, method: str,
@@ -730,24 +770,8 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
         fa = -N[:, None] * u  # dPi/dx_a = -N u, dPi/dx_b = +N u
         vals = np.concatenate([fa, -fa], axis=1).reshape(-1)
         g += np.bincount(s.g_idx, vals[s.g_keep], minlength=s.n_dof)
-    # potential energy, exact for frictionless weights
-    hauled = s.run_hauled
-    U = np.where(hauled, s.run_P * L, 0.0) if s.n_runs else np.zeros(0)
-    tied = (~hauled & (L > s.run_L0)).nonzero()[0]
-    if len(tied):
-        e_r = L[tied] / s.run_L0[tied] - 1.0
-        U[tied] = s.run_L0[tied] * by_material(s, s.run_mat[tied], e_r, "energy", _kappa(s, runs=tied))
-    contact = 0.5 * kc * pen * pen
-    fx = s.F * x
-    energy = float(U.sum()) + float(contact.sum()) - float(fx.sum())
-    comp_energy = -np.bincount(s.dof_comp, fx, minlength=s.n_comp)
-    if s.n_runs:
-        on = s.run_on
-        comp_energy += np.bincount(s.run_comp[on], U[on], minlength=s.n_comp)
-        on = s.piece_on
-        comp_energy += np.bincount(s.piece_comp[on], contact[on], minlength=s.n_comp)
     return State(x=x, xy=xy, l=l, u=u, w=w, L=L, tau=tau, taut=taut, T=T, eps=eps, pen=pen, N=N, g=g,
-                 energy=energy, comp_energy=comp_energy)
+                 potential_from=(s, s.soft, x, L, kc, pen))
 
 
 _SGN = np.array([1.0, 1.0, -1.0, -1.0])

@@ -724,10 +724,14 @@ def _anchor(fx: float, fy: float, capacity: float | None, sf: float) -> AnchorRe
                         capacity_N=capacity, utilization=util, fx_N=fx, fy_N=fy)
 
 
-def _mech_advantage(s: System, st: State) -> float | None:
-    """Force delivered to the load points over the input (haul forces, else external pulls)."""
+def _mech_advantage(s: System, st: State, f: np.ndarray | None = None) -> float | None:
+    """Force delivered to the load points over the input (haul forces, else external pulls).
+
+    ``f``: the rope forces on the points at ``st`` (:func:`_resultants`) when already known.
+    """
     rig = s.rig
-    f = _resultants(s, st)
+    if f is None:
+        f = _resultants(s, st)
     load_ids = [i for i, p in enumerate(s.points) if p.kind == "load"]
     if not load_ids:
         return None
@@ -811,7 +815,7 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
         message = (f"no equilibrium found after {sol.iterations} iterations: the largest imbalance is "
                    f"{residual:.3g} N at point {_point_name(rig, subject) if subject else ''}; "
                    "check for a part of the rig that nothing holds")
-    ma = _mech_advantage(s, st)
+    ma = _mech_advantage(s, st, f)
     ma_ideal = _mech_advantage(s, sol.ideal) if s.has_friction and motion != "hold" else ma
     return Result(status=status, message=message, subject=subject, iterations=sol.iterations,
                   residual_N=residual, points=_all_points(s, st), segments=tuple(segments), anchors=anchors,
