@@ -703,11 +703,16 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
     """
     nr = s.n_runs
     tau = np.zeros(nr)
-    last = s.run_start + s.run_count - 1
-    hauled = s.run_hauled
-    tau[hauled] = s.run_P[hauled] / w[last[hauled]]
-    taut = (~hauled) & (L >= s.run_L0)
-    strict = ((~hauled) & (L > s.run_L0)).nonzero()[0]
+    fixed = s.__dict__.get("_run_tension_fixed")
+    if fixed is None:  # per-System constants of this function, built on first use
+        hauled = s.run_hauled
+        hauled_at = hauled.nonzero()[0]
+        fixed = s._run_tension_fixed = (hauled_at, (s.run_start + s.run_count - 1)[hauled_at],
+                                        s.run_P[hauled_at], ~hauled)
+    hauled_at, hauled_last, hauled_P, tied_run = fixed
+    tau[hauled_at] = hauled_P / w[hauled_last]
+    taut = tied_run & (L >= s.run_L0)
+    strict = (tied_run & (L > s.run_L0)).nonzero()[0]
     if len(strict) == 0:
         return tau, taut
     lam_e = L[strict] / s.run_L0[strict] - 1.0
@@ -765,7 +770,7 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
         kc = contact_stiffness(s)
     pen = np.where(s.contact_on, np.maximum(s.s_min - l, 0.0), 0.0)
     N = T - kc * pen
-    g = -s.F.copy()
+    g = -s.F
     if s.n_pieces:
         fa = -N[:, None] * u  # dPi/dx_a = -N u, dPi/dx_b = +N u
         vals = np.concatenate([fa, -fa], axis=1).reshape(-1)

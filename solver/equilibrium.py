@@ -104,7 +104,7 @@ def _shifted_factor(K, lam: np.ndarray, dense: bool, symmetric: bool):
     try:
         if dense:
             M = K.copy()
-            M[np.diag_indices(n)] += lam
+            M.flat[::n + 1] += lam  # the diagonal
             # the LAPACK routines scipy.linalg.cho_factor/cho_solve and lu_factor/lu_solve call,
             # called directly: same numbers without the wrappers' per-call overhead (small rigs)
             if symmetric:
