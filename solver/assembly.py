@@ -742,7 +742,7 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
             lo_t = np.where(f > 0, tt, lo_t)
             hi_t = np.where(f < 0, tt, hi_t)
             done = (np.abs(f) <= 1e-15 * L0) | (hi_t - lo_t <= 1e-15 * hi_t)
-            if np.all(done):
+            if done.all():
                 break
             with np.errstate(divide="ignore", invalid="ignore"):
                 step = tt - f / fp

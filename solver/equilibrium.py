@@ -136,7 +136,7 @@ def _shifted_solve(K, lam: np.ndarray, rhs: np.ndarray, dense: bool, symmetric: 
         d = solver(rhs)
     except (np.linalg.LinAlgError, scipy.linalg.LinAlgError, RuntimeError, ValueError):
         return None, None
-    return (d, solver) if np.all(np.isfinite(d)) else (None, None)
+    return (d, solver) if np.isfinite(d).all() else (None, None)
 
 
 def _comp_max(s: System, values: np.ndarray) -> np.ndarray:
@@ -737,7 +737,7 @@ def _mech_advantage(s: System, st: State, f: np.ndarray | None = None) -> float 
         return None
     delivered = float(sum(math.hypot(*f[i]) for i in load_ids))
     hauled = s.run_hauled
-    inp = float(s.run_P[hauled].sum()) if np.any(hauled) else float(sum(abs(fc.magnitude_N) for fc in rig.forces))
+    inp = float(s.run_P[hauled].sum()) if hauled.any() else float(sum(abs(fc.magnitude_N) for fc in rig.forces))
     return delivered / inp if inp > 0 else None
 
 
@@ -806,9 +806,9 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
         unst = np.add.reduceat(st.l / (1.0 + st.eps), s.run_start)
         tight = (~s.run_hauled) & (st.tau > 0)
         err = np.abs(unst - s.run_L0) / s.run_L0
-        if np.any(tight & (err > 1e-9)):
+        if (tight & (err > 1e-9)).any():
             bad_len = int(np.flatnonzero(tight & (err > 1e-9))[0])
-    if np.any(st.T < 0) or not sol.converged or bad_len is not None or residual > ACCEPT_REL * max(scale, 1e-9):
+    if (st.T < 0).any() or not sol.converged or bad_len is not None or residual > ACCEPT_REL * max(scale, 1e-9):
         status = "diverged"
         worst = int(np.argmax(_point_norms(st.g))) if s.n_dof else 0
         subject = s.point_ids[np.flatnonzero(s.free)[worst]] if s.n_dof else ""
