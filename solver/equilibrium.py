@@ -779,12 +779,13 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
             strain=eps, utilization=util[k], run=run_in_rope[r]))
     f = _resultants(s, st)
     anchors, loads = {}, {}
+    f_list, free = f.tolist(), s.free.tolist()  # Python numbers at once (same values as float())
     for i, p in enumerate(s.points):
         pid = p.id
-        if p.kind == "anchor" and not s.free[i]:
-            anchors[pid] = _anchor(float(f[i, 0]), float(f[i, 1]), p.capacity_N, sf)
+        if p.kind == "anchor" and not free[i]:
+            anchors[pid] = _anchor(f_list[i][0], f_list[i][1], p.capacity_N, sf)
         if p.kind == "load":
-            loads[pid] = _anchor(float(f[i, 0]), float(f[i, 1]), None, sf)
+            loads[pid] = _anchor(f_list[i][0], f_list[i][1], None, sf)
     haul = {}
     for r in np.flatnonzero(s.run_hauled):
         hp = s.run_haul_point[r]
