@@ -26,6 +26,7 @@ class Document(QObject):
         self._rig = rig if rig is not None else Rig()
         self._path: pathlib.Path | None = None
         self.revision = 0
+        self.sketching = False  # True while a half-drawn shape is shown: not worth solving yet
         self.undo_stack = QUndoStack(self)
 
     # --- state --------------------------------------------------------------------
@@ -67,11 +68,16 @@ class Document(QObject):
         self.set_path(path)
         self.undo_stack.setClean()
 
-    def preview(self, rig: Rig) -> None:
-        """Show ``rig`` without touching the undo stack (live drag); the drag's release pushes the command."""
-        self._set_rig(rig)
+    def preview(self, rig: Rig, sketching: bool = False) -> None:
+        """Show ``rig`` without touching the undo stack (live drag); the drag's release pushes the command.
 
-    def _set_rig(self, rig: Rig) -> None:
+        ``sketching`` marks a half-drawn shape (a rope still being clicked through): the live
+        solver waits for the finished edit instead of reporting the unfinished rig as failed.
+        """
+        self._set_rig(rig, sketching)
+
+    def _set_rig(self, rig: Rig, sketching: bool = False) -> None:
         self._rig = rig
+        self.sketching = sketching
         self.revision += 1
         self.changed.emit(rig)

@@ -187,6 +187,8 @@ class SolveScheduler(QObject):
         rev, rig = self.document.revision, self.document.rig
         if self.result is not None and self.result.revision == rev:
             return  # already solved this revision
+        if getattr(self.document, "sketching", False):
+            return  # a half-drawn rope: solve the finished edit, not every click on the way
         quick = self._change_gap_ms < self.settle_timer.interval()  # changes are streaming: a drag
         self.status_changed.emit("solving")
         if self.background:

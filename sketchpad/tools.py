@@ -630,7 +630,7 @@ class RopeTool(Tool):
         return " → ".join(parts)
 
     def _show(self, prefix: str = "") -> None:
-        self.document.preview(self._with_rope())
+        self.document.preview(self._with_rope(), sketching=True)
         if self._line is None:
             self._line = self._preview_item(QGraphicsLineItem())
             self._line.setPen(theme.cosmetic_pen(theme.PREVIEW, 1.5, Qt.DashLine))

@@ -420,3 +420,24 @@ def test_every_rig_the_rope_tool_commits_passes_the_file_check_and_round_trips(m
         back = loads_rig(dumps_rig(rig))  # save and open again: the same points and ropes
         assert (back.points, back.ropes) == (rig.points, rig.ropes)
     assert not tool.active
+
+
+# --- live forces while drawing -------------------------------------------------------------------
+def test_a_half_drawn_rope_is_not_solved_until_it_is_finished(rope_window, mouse, qtbot):
+    w = rope_window
+    site = SITE.without_point("J1")  # a loose free point would (rightly) be a mechanism
+    w.document.replace_all(site.with_point(replace(site.point("H1"), force_N=600.0)))
+    scheduler = w.live.scheduler
+    use_chooser(w, Scripted(PassChoice("pulley", "pulley-large")))
+    scheduler.solve_now()
+    before = scheduler.result
+    mouse.click(0, 0)  # the load
+    mouse.click(0, 20)  # anchor A1, as a pulley: the rope now ends in the air
+    qtbot.wait(scheduler.timer.interval() + 50)
+    assert w.document.sketching
+    assert scheduler.result is before  # nothing solved: no "not held" failure for an unfinished rope
+    mouse.click(12, 4)  # the haul team ends it: one edit, solved
+    assert not w.document.sketching
+    qtbot.waitUntil(lambda: scheduler.result is not None and scheduler.result.revision == w.document.revision,
+                    timeout=5000)
+    assert scheduler.result.status == "ok", scheduler.result.message
