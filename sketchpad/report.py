@@ -43,6 +43,7 @@ from sketchpad.export import (
     run_file_command,
     units_line,
 )
+from solver.materials import used_hardware_ids, used_material_ids
 from solver.model import Rig
 from solver.result import Result
 from solver.units import format_force, format_length, force_to
@@ -266,35 +267,26 @@ def assumption_lines(rig: Rig) -> list[str]:
         "Ropes are elastic and tension-only (stretch from each material's curve); anchors do not move; each "
         "straight piece carries one tension.",
     ]
-    seen = set()
-    for r in rig.ropes:
-        if r.material in seen:
-            continue
-        seen.add(r.material)
-        m = _material(rig, r.material)
+    for mat_id in used_material_ids(rig):
+        m = _material(rig, mat_id)
         if m is None:
-            out.append(f"Rope {r.material}: spec not known, so its margins are not checked.")
+            out.append(f"Rope {mat_id}: spec not known, so its margins are not checked.")
             continue
         dia = f"{m.diameter_mm:g} mm " if m.diameter_mm else ""
         out.append(f"Rope spec {m.name} ({dia}{m.kind}, MBS {format_force(m.mbs_N, fu)}). Source: "
                    f"{m.source or 'not given'}")
-    seen = set()
-    for r in rig.ropes:
-        for ps in r.path:
-            if not ps.hardware or ps.hardware in seen:
-                continue
-            seen.add(ps.hardware)
-            h = _hardware(rig, ps.hardware)
-            if h is None:
-                out.append(f"Hardware {ps.hardware}: spec not known.")
-                continue
-            bits = []
-            if h.efficiency is not None:
-                bits.append(f"efficiency {h.efficiency:.2f}")
-            if h.friction_coefficient is not None:
-                bits.append(f"friction coefficient {h.friction_coefficient:.2f}")
-            bits.append(f"MBS {format_force(h.mbs_N, fu)}" if h.mbs_N is not None else "no MBS")
-            out.append(f"Hardware {h.name} ({h.kind}; {', '.join(bits)}). Source: {h.source or 'not given'}")
+    for hw_id in used_hardware_ids(rig):
+        h = _hardware(rig, hw_id)
+        if h is None:
+            out.append(f"Hardware {hw_id}: spec not known.")
+            continue
+        bits = []
+        if h.efficiency is not None:
+            bits.append(f"efficiency {h.efficiency:.2f}")
+        if h.friction_coefficient is not None:
+            bits.append(f"friction coefficient {h.friction_coefficient:.2f}")
+        bits.append(f"MBS {format_force(h.mbs_N, fu)}" if h.mbs_N is not None else "no MBS")
+        out.append(f"Hardware {h.name} ({h.kind}; {', '.join(bits)}). Source: {h.source or 'not given'}")
     return out
 
 
