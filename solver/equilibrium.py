@@ -33,7 +33,7 @@ from solver.assembly import (
 )
 from solver.errors import RigModelError
 from solver.model import Rig
-from solver.result import AnchorResult, HoldRange, Result, SegmentResult, Warning_
+from solver.result import AnchorResult, HoldRange, Result, SegmentResult, Warning_, record
 
 log = logging.getLogger(__name__)
 
@@ -98,13 +98,14 @@ def _lapack_solved(x: np.ndarray, info: int) -> np.ndarray:
     return x
 
 
-def _shifted_factor(K, lam: np.ndarray, dense: bool, symmetric: bool):
-    """A solver for (K + diag(lam)) d = rhs; None when the shifted matrix is not usable (raise the shift)."""
-    n = len(lam)
+def _shifted_factor(K, lam: np.ndarray | float, dense: bool, symmetric: bool):
+    """A solver for (K + diag(lam)) d = rhs (``lam`` an array or one shift for every coordinate); None when
+    the shifted matrix is not usable (raise the shift)."""
+    n = K.shape[0]
     try:
         if dense:
             M = K.copy()
-            M.flat[::n + 1] += lam  # the diagonal
+            M.ravel()[::n + 1] += lam  # the diagonal (a view: M is a fresh contiguous copy)
             # the LAPACK routines scipy.linalg.cho_factor/cho_solve and lu_factor/lu_solve call,
             # called directly: same numbers without the wrappers' per-call overhead (small rigs)
             if symmetric:
@@ -113,10 +114,12 @@ def _shifted_factor(K, lam: np.ndarray, dense: bool, symmetric: bool):
                     return None
                 return lambda rhs: _lapack_solved(*_POTRS(c, rhs, lower=False))
             lu, piv, info = _GETRF(M, overwrite_a=True)
-            if info < 0 or not np.all(np.isfinite(lu)) or np.any(np.diag(lu) == 0.0):
+            # info > 0: a pivot is exactly zero; a non-finite factor shows as a non-finite solution,
+            # which _shifted_solve refuses
+            if info != 0:
                 return None
             return lambda rhs: _lapack_solved(*_GETRS(lu, piv, rhs, trans=0))
-        M = (K + scipy.sparse.diags(lam, format="csc")).tocsc()
+        M = (K + scipy.sparse.diags(np.broadcast_to(lam, (n,)), format="csc")).tocsc()
         if symmetric:  # SPD after the shift: diagonal pivots, symmetric ordering
             lu = scipy.sparse.linalg.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
                                           options={"SymmetricMode": True})
@@ -127,7 +130,7 @@ def _shifted_factor(K, lam: np.ndarray, dense: bool, symmetric: bool):
         return None
 
 
-def _shifted_solve(K, lam: np.ndarray, rhs: np.ndarray, dense: bool, symmetric: bool):
+def _shifted_solve(K, lam: np.ndarray | float, rhs: np.ndarray, dense: bool, symmetric: bool):
     """(d, solver) with (K + diag(lam)) d = rhs, or (None, None) when the shift must rise."""
     solver = _shifted_factor(K, lam, dense, symmetric)
     if solver is None:
@@ -347,7 +350,9 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
     ok = False
     stall = 0
     best = np.inf
-    free_idx = s.free.nonzero()[0]
+    free_idx = s.free_at
+    # distance of the free points from the drawing's centre (the solver's origin: no subtraction)
+    centre_x = np.tile(s.centre, s.n_dof // 2) if np.any(s.centre) else None
     evaluations = 0
     it = 0
     for it in range(max_iter):
@@ -366,8 +371,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         if done:
             return _Outcome(st, it, True)
         K = _matrix(s, st, kc, dense, exact=not symmetric)
-        diag = K.diagonal()
-        base = max(float(np.maximum(diag[0::2], diag[1::2]).max()), scale / size, 1e-12)
+        base = max(float(K.diagonal().max()), scale / size, 1e-12)  # = the largest of the x and y maxima
         m0 = merit(st)
         x_new = st.x.copy()
         pending = True
@@ -378,7 +382,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         for _attempt in range(8):
             if not pending:
                 break
-            d_sub, solver = _shifted_solve(K, np.full(s.n_dof, mu * base), -g, dense, symmetric)
+            d_sub, solver = _shifted_solve(K, mu * base, -g, dense, symmetric)
             if d_sub is None:
                 mu *= 100.0
                 continue
@@ -426,7 +430,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         if pending:  # no step found: stop where it is
             ok = res <= ACCEPT_REL * scale
             active = False
-        if trial is None or not np.array_equal(trial.x, x_new):
+        if trial is None or (trial.x is not x_new and not np.array_equal(trial.x, x_new)):
             evaluations += 1
             trial = evaluate(s, x_new, w, kc)
         if log.isEnabledFor(logging.DEBUG):
@@ -436,7 +440,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
             if capped:
                 cap = 2.0 * cap
         st = trial
-        far = np.hypot(*(st.xy[free_idx] - s.centre).T)
+        far = _point_norms(st.x - centre_x) if centre_x is not None else _point_norms(st.x)
         if far.max() > RUNAWAY_SIZES * s.size:
             return _Outcome(st, it + 1, False, runaway=int(free_idx[np.argmax(far)]))
         if not active:
@@ -485,6 +489,12 @@ def _mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] |
     top = max(float(diag.max()), _force_scale(s, st) / s.size, 1e-12)
     if dense:
         Ks = 0.5 * (K + K.T)
+        # Ks - threshold I positive definite (its Cholesky factor exists) means every eigenvalue is
+        # above the threshold: held, at a fraction of the cost of the eigenvalues
+        M = Ks.copy()
+        M.ravel()[::len(M) + 1] -= MECHANISM_REL * top
+        if _POTRF(M, lower=False, overwrite_a=True, clean=False)[1] == 0:
+            return None
         lam = float(np.linalg.eigvalsh(Ks)[0])  # values only: fast; the vector only on failure
         if lam > MECHANISM_REL * top:
             return None
@@ -584,6 +594,8 @@ def _friction_stage(s: System, st: State, motion: str, kc: np.ndarray,
             return _Outcome(st, iters, False, fr.runaway), w
         if jam is not None:
             jam = jam | friction.jammed_passes(s, st.pen)
+        elif not s.has_edges:  # pulley ratios do not depend on the geometry: these weights are final
+            return _Outcome(st, iters, _max_norm(st.g) <= ACCEPT_REL * _force_scale(s, st)), w
         w_new = friction.weights(s, st.u, motion, jam)
         if np.max(np.abs(w_new / w - 1.0), initial=0.0) <= 1e-12:
             if s.has_edges:
@@ -703,25 +715,28 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) ->
 
 def _all_points(s: System, st: State) -> dict[str, tuple[float, float]]:
     ox, oy = float(s.origin[0]), float(s.origin[1])
-    pos = {pid: (float(st.xy[i, 0]) + ox, float(st.xy[i, 1]) + oy) for i, pid in enumerate(s.point_ids)}
+    pos = {pid: (x + ox, y + oy) for pid, (x, y) in zip(s.point_ids, st.xy.tolist())}
     return {p.id: pos.get(p.id, (p.x, p.y)) for p in s.rig.points}
 
 
 def _resultants(s: System, st: State) -> np.ndarray:
     """Force the ropes exert on every structural point (n_points, 2), N."""
-    f = np.zeros((len(s.point_ids), 2))
-    if s.n_pieces:
-        pull = st.N[:, None] * st.u  # rope pulls a toward b and b toward a
-        np.add.at(f, s.a, pull)
-        np.add.at(f, s.b, -pull)
-    return f
+    n = len(s.point_ids)
+    if not s.n_pieces:
+        return np.zeros((n, 2))
+    pull = st.N[:, None] * st.u  # rope pulls a toward b and b toward a
+    # every a end, then every b end, each added in piece order (the sums np.add.at would make)
+    ends = np.concatenate((s.a, s.b))
+    both = np.concatenate((pull, -pull))
+    return np.stack((np.bincount(ends, both[:, 0], minlength=n), np.bincount(ends, both[:, 1], minlength=n)), axis=1)
 
 
 def _anchor(fx: float, fy: float, capacity: float | None, sf: float) -> AnchorResult:
     mag = math.hypot(fx, fy)
     util = mag * sf / capacity if capacity else None
-    return AnchorResult(force_N=mag, direction_deg=math.degrees(math.atan2(fy, fx)) % 360.0 if mag > 0 else 0.0,
-                        capacity_N=capacity, utilization=util, fx_N=fx, fy_N=fy)
+    return record(AnchorResult, force_N=mag,
+                  direction_deg=math.degrees(math.atan2(fy, fx)) % 360.0 if mag > 0 else 0.0,
+                  capacity_N=capacity, utilization=util, fx_N=fx, fy_N=fy)
 
 
 def _mech_advantage(s: System, st: State, f: np.ndarray | None = None) -> float | None:
@@ -765,7 +780,7 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
     rig = s.rig
     st = sol.state
     sf = rig.settings.min_safety_factor
-    run_in_rope = [_run_index_in_rope(s, g) for g in range(s.n_runs)]
+    run_in_rope = _runs_in_ropes(s)
     segments = []
     # whole arrays to Python numbers at once (same values as float()/int() of each element)
     mbs = np.array([m.mbs_N for m in s.materials], dtype=float)[s.piece_mat] if s.n_pieces else np.zeros(0)
@@ -774,8 +789,8 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
     for k, (rope, index, ia, ib, t, length, eps, r) in enumerate(zip(
             s.piece_rope, s.piece_index.tolist(), s.a.tolist(), s.b.tolist(), st.T.tolist(), st.l.tolist(),
             st.eps.tolist(), s.piece_run.tolist())):
-        segments.append(SegmentResult(
-            rope=rope, index=index, from_point=ids[ia], to_point=ids[ib], tension_N=t, length_m=length,
+        segments.append(record(
+            SegmentResult, rope=rope, index=index, from_point=ids[ia], to_point=ids[ib], tension_N=t, length_m=length,
             strain=eps, utilization=util[k], run=run_in_rope[r]))
     f = _resultants(s, st)
     anchors, loads = {}, {}
@@ -787,16 +802,16 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
         if p.kind == "load":
             loads[pid] = _anchor(f_list[i][0], f_list[i][1], None, sf)
     haul = {}
-    for r in np.flatnonzero(s.run_hauled):
-        hp = s.run_haul_point[r]
-        haul[hp] = haul.get(hp, 0.0) + float(s.run_P[r])
+    for hauled, hp, P in zip(s.run_hauled.tolist(), s.run_haul_point, s.run_P.tolist()):
+        if hauled:
+            haul[hp] = haul.get(hp, 0.0) + P
     deflection = {}
     for mp in s.middle_passes:
         c = float(np.dot(st.u[mp.piece_in], st.u[mp.piece_out]))
         deflection[mp.key] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
     scale = _force_scale(s, st)
     residual = _max_norm(st.g) if s.n_dof else 0.0
-    warnings = _two_blocked(s, st, contact_stiffness(s))
+    warnings = _two_blocked(s, st, contact_stiffness(s)) if st.pen.any() else []
     for pid in s.ignored_forces:
         warnings.append(Warning_("force-on-fixed-point", pid,
                                  f'the force drawn at "{pid}" acts on a fixed point and is not part of the solve'))
@@ -824,13 +839,12 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
                   warnings=tuple(warnings))
 
 
-def _run_index_in_rope(s: System, g: int) -> int:
-    """Index of global run ``g`` within its rope."""
-    rope = s.run_rope[g]
-    i = g
-    while i > 0 and s.run_rope[i - 1] == rope:
-        i -= 1
-    return g - i
+def _runs_in_ropes(s: System) -> list[int]:
+    """Index of every global run within its rope (runs of a rope are consecutive)."""
+    out: list[int] = []
+    for g, rope in enumerate(s.run_rope):
+        out.append(out[-1] + 1 if g > 0 and s.run_rope[g - 1] == rope else 0)
+    return out
 
 
 def _runaway_result(s: System, sol: _Solved) -> Result:
