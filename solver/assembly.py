@@ -151,6 +151,8 @@ class System:
     run_tied: NDArray[np.bool_] = field(default=None)  # runs not hauled
     s_min_on: FloatArray = field(default=None)  # s_min where the contact can act, -inf elsewhere
     haul_P_or_0: FloatArray = field(default=None)  # run_P on hauled runs, 0 on tied ones
+    run_L0_div: FloatArray = field(default=None)  # run_L0 on tied runs, 1 on hauled ones
+    piece_mbs: FloatArray = field(default=None)  # minimum breaking strength of each piece's rope, N
     soft: FloatArray | None = None  # per run: ropes softened to kappa * T(eps) for the solver's soft start
     has_edges: bool = False
     has_friction: bool = False
@@ -478,6 +480,9 @@ def _finish(s: System) -> None:
     # the spacing contact only where a piece can close up: -inf elsewhere makes its penetration 0
     s.s_min_on = np.where(s.contact_on, s.s_min, -np.inf)
     s.haul_P_or_0 = np.where(s.run_hauled, s.run_P, 0.0) if s.n_runs else np.zeros(0)
+    s.run_L0_div = np.where(s.run_hauled, 1.0, s.run_L0) if s.n_runs else np.zeros(0)  # no 0 / 0 on hauled runs
+    mbs = np.array([m.mbs_N for m in s.materials], dtype=float)
+    s.piece_mbs = mbs[s.piece_mat] if s.n_pieces else np.zeros(0)
     s.has_edges = bool(np.any(s.pass_kind == PASS_EDGE))
     s.has_friction = s.has_edges or bool(np.any((s.pass_kind == PASS_PULLEY) & (s.pass_eta < 1.0)))
 
@@ -631,6 +636,8 @@ class State:
     pen: FloatArray  # contact penetration (>0 when two passes are closer than their size), m
     N: FloatArray  # piece axial pull incl. contact push, N
     g: FloatArray  # out-of-balance: internal resistance minus external force, per dof, N
+    closed: bool = False  # some contact is closed (pen > 0 somewhere)
+    no_zero_length: bool = True  # every piece has a length > 0
     # what the potential is computed from, on first use (the friction solve never asks for it)
     potential_from: tuple | None = field(default=None, repr=False, compare=False)
     _energy_terms: tuple | None = field(default=None, repr=False, compare=False)
@@ -652,7 +659,7 @@ class State:
             if s.n_runs:
                 on = s.run_on
                 comp_energy += np.bincount(s.run_comp[on], U[on], minlength=s.n_comp)
-                if self.pen.any():
+                if self.closed:
                     on = s.piece_on
                     comp_energy += np.bincount(s.piece_comp[on], contact[on], minlength=s.n_comp)
             self._potential = comp_energy
@@ -734,17 +741,18 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         fixed = s._run_tension_fixed = (hauled_at, (s.run_start + s.run_count - 1)[hauled_at],
                                         s.run_P[hauled_at], ~hauled)
     hauled_at, hauled_last, hauled_P, tied_run = fixed
-    frictionless = w is s.ones
-    tau[hauled_at] = hauled_P if frictionless else hauled_P / w[hauled_last]
     taut = tied_run & (L >= s.run_L0)
+    if w is s.ones:
+        # frictionless: every weight 1, so each tied run's tension is its curve at L / L0 - 1 (the
+        # bracket below closes on it at once; a slack run's strain <= 0 gives 0) -- same numbers
+        t_all = by_material(s, s.run_mat, L / s.run_L0_div - 1.0, "tension", s.soft)
+        return np.where(tied_run, t_all, s.haul_P_or_0), taut
+    tau[hauled_at] = hauled_P / w[hauled_last]
     strict = (tied_run & (L > s.run_L0)).nonzero()[0]
     if len(strict) == 0:
         return tau, taut
     lam_e = L[strict] / s.run_L0[strict] - 1.0
     t_lam = by_material(s, s.run_mat[strict], lam_e, "tension", _kappa(s, runs=strict))
-    if frictionless:  # every weight 1: the bracket below closes on t_lam at once (same numbers)
-        tau[strict] = t_lam
-        return tau, taut
     wmin = np.minimum.reduceat(w, s.run_start)[strict] if nr else w
     wmax = np.maximum.reduceat(w, s.run_start)[strict] if nr else w
     lo = t_lam / wmax
@@ -786,7 +794,8 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
     xy = s.positions(x)
     d = xy[s.b] - xy[s.a]
     l = np.hypot(d[:, 0], d[:, 1])
-    if l.all():
+    no_zero_length = bool(l.all())
+    if no_zero_length:
         u = d / l[:, None]
     else:
         u = np.divide(d, l[:, None], out=np.zeros(d.shape), where=(l > 0)[:, None])
@@ -803,13 +812,15 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
     if kc is None:
         kc = contact_stiffness(s)
     pen = np.maximum(s.s_min_on - l, 0.0)  # 0 where the contact is off (s_min_on = -inf)
-    N = T - kc * pen if pen.any() else T
+    closed = bool(pen.any())
+    N = T - kc * pen if closed else T
     if s.n_pieces:
         nu = (N[:, None] * u).reshape(-1)  # dPi/dx_a = -N u, dPi/dx_b = +N u
         g = np.bincount(s.g_idx, nu[s.g_src] * s.g_sgn, minlength=s.n_dof) - s.F
     else:
         g = -s.F
     return State(x=x, xy=xy, l=l, u=u, w=w, L=L, tau=tau, taut=taut, T=T, eps=eps, pen=pen, N=N, g=g,
+                 closed=closed, no_zero_length=no_zero_length,
                  potential_from=(s, s.soft, x, L, kc, pen))
 
 
@@ -835,7 +846,7 @@ def tangent_values(s: System, st: State, kc: FloatArray | None = None, exact: bo
     # a piece pushed by the spacing contact (N < 0) would add negative stiffness, turning the
     # rope's kink at a two-blocked pass into a saddle for Newton: keep only the pull (PSD tangent)
     pull = st.N if exact else np.maximum(st.N, 0.0)
-    geo = pull / l if l.all() else np.divide(pull, l, out=np.zeros(l.shape), where=l > 0)
+    geo = pull / l if st.no_zero_length else np.divide(pull, l, out=np.zeros(l.shape), where=l > 0)
     unit = st.w is s.ones  # frictionless: every weight 1, so the products by w are left out (same numbers)
     run_coef = None
     if st.taut.any():
@@ -844,7 +855,7 @@ def tangent_values(s: System, st: State, kc: FloatArray | None = None, exact: bo
         D = np.bincount(s.piece_run, (l if unit else l * st.w) * de * c * c, minlength=s.n_runs)
         run_coef = np.divide(1.0, D, out=np.zeros(D.shape), where=st.taut & (D > 0))
         coef = (c if unit else st.w * c) * run_coef[s.piece_run]
-        axial = np.where(st.pen > 0, kc, 0.0) + coef if st.pen.any() else coef
+        axial = np.where(st.pen > 0, kc, 0.0) + coef if st.closed else coef
     else:
         axial = np.where(st.pen > 0, kc, 0.0)
     ux, uy = u[:, 0], u[:, 1]

@@ -353,6 +353,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
     free_idx = s.free_at
     # distance of the free points from the drawing's centre (the solver's origin: no subtraction)
     centre_x = np.tile(s.centre, s.n_dof // 2) if np.any(s.centre) else None
+    debug = log.isEnabledFor(logging.DEBUG)
     evaluations = 0
     it = 0
     for it in range(max_iter):
@@ -433,7 +434,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         if trial is None or (trial.x is not x_new and not np.array_equal(trial.x, x_new)):
             evaluations += 1
             trial = evaluate(s, x_new, w, kc)
-        if log.isEnabledFor(logging.DEBUG):
+        if debug:
             log.debug("it %d res %s mu %s alpha %s cap %s capped %s", it, res, mu, alpha, cap, capped)
         if active and alpha == 1.0:
             mu = max(mu / 10.0, 1e-10)
@@ -783,8 +784,7 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
     run_in_rope = _runs_in_ropes(s)
     segments = []
     # whole arrays to Python numbers at once (same values as float()/int() of each element)
-    mbs = np.array([m.mbs_N for m in s.materials], dtype=float)[s.piece_mat] if s.n_pieces else np.zeros(0)
-    util = (st.T * sf / mbs).tolist()
+    util = (st.T * sf / s.piece_mbs).tolist()
     ids = s.point_ids
     for k, (rope, index, ia, ib, t, length, eps, r) in enumerate(zip(
             s.piece_rope, s.piece_index.tolist(), s.a.tolist(), s.b.tolist(), st.T.tolist(), st.l.tolist(),
@@ -811,7 +811,7 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
         deflection[mp.key] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
     scale = _force_scale(s, st)
     residual = _max_norm(st.g) if s.n_dof else 0.0
-    warnings = _two_blocked(s, st, contact_stiffness(s)) if st.pen.any() else []
+    warnings = _two_blocked(s, st, contact_stiffness(s)) if st.closed else []
     for pid in s.ignored_forces:
         warnings.append(Warning_("force-on-fixed-point", pid,
                                  f'the force drawn at "{pid}" acts on a fixed point and is not part of the solve'))
