@@ -45,6 +45,10 @@ MAX_ITER = 200
 MAX_EVALUATIONS = 1500
 #: Target and acceptance of the largest free-point imbalance, relative to the largest force.
 TARGET_REL = 1e-10
+#: Imbalance at which a cold solve hands the frictionless state on to the friction stage when that
+#: state itself is not reported (no load point needs the ideal MA): the friction stage converges
+#: from there in as many steps as from the exact frictionless equilibrium.
+HANDOVER_REL = 1e-6
 ACCEPT_REL = 1e-7
 #: A point farther than this many rig sizes from the sketch has run away.
 RUNAWAY_SIZES = 100.0
@@ -172,8 +176,8 @@ def _sub(K, idx: np.ndarray, dense: bool):
 
 
 def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symmetric: bool,
-            max_iter: int = MAX_ITER) -> _Outcome:
-    """Damped, shifted Newton iteration for g(x) = 0 at fixed piece weights ``w``.
+            max_iter: int = MAX_ITER, target: float = TARGET_REL) -> _Outcome:
+    """Damped, shifted Newton iteration for g(x) = 0 at fixed piece weights ``w``, to imbalance ``target`` x force scale.
 
     Every independent part of the rig (``System.n_comp``) keeps its own Levenberg-Marquardt
     shift, step cap, line-search step and convergence test: the merit (the potential Pi
@@ -186,7 +190,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
     if s.n_dof == 0:
         return _Outcome(st, 0, True)
     if s.n_comp == 1:
-        return _newton_one_part(s, st, w, kc, symmetric, max_iter)
+        return _newton_one_part(s, st, w, kc, symmetric, max_iter, target)
     C = s.n_comp
     cd = s.dof_comp
     cp = cd[0::2]
@@ -212,7 +216,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
         scale = _comp_scale(s, st)
         pn = _point_norms(st.g)
         res = _comp_max(s, pn)
-        done = active & ((res <= TARGET_REL * scale) | ((scale == 0.0) & (res == 0.0)))
+        done = active & ((res <= target * scale) | ((scale == 0.0) & (res == 0.0)))
         # at the round-off floor: no progress for several iterations but within the acceptance
         improved = res < 0.5 * best
         best = np.where(improved, res, best)
@@ -322,7 +326,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
 
 
 def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray, symmetric: bool,
-                     max_iter: int) -> _Outcome:
+                     max_iter: int, target: float = TARGET_REL) -> _Outcome:
     """:func:`_newton` for a rig of one part (``s.n_comp == 1``), from its first state ``st``.
 
     The same iteration, test for test and in the same floating-point operations, with the
@@ -361,7 +365,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
             break
         scale = scale_of(st)
         res = float(_point_norms(st.g).max())
-        done = (res <= TARGET_REL * scale) or (scale == 0.0 and res == 0.0)
+        done = (res <= target * scale) or (scale == 0.0 and res == 0.0)
         improved = res < 0.5 * best
         if improved:
             best = res
@@ -650,18 +654,19 @@ def _soft_factors(s: System) -> np.ndarray | None:
     return np.where(tied, kappa, 1.0)
 
 
-def _soft_start_newton(s: System, x0: np.ndarray, kc: np.ndarray) -> _Outcome:
-    """Frictionless Newton solve from the drawn geometry, through a softened-rope solve for stiff rigs."""
+def _soft_start_newton(s: System, x0: np.ndarray, kc: np.ndarray, target: float = TARGET_REL) -> _Outcome:
+    """Frictionless Newton solve from the drawn geometry (to imbalance ``target`` x force scale), through a
+    softened-rope solve for stiff rigs."""
     kappa = _soft_factors(s)
     if kappa is None:
-        return _newton(s, x0, None, kc, symmetric=True)
+        return _newton(s, x0, None, kc, symmetric=True, target=target)
     s.soft = kappa
     try:
         pre = _newton(s, x0, None, kc, symmetric=True, max_iter=60)
     finally:
         s.soft = None
     start = pre.state.x if pre.runaway is None else x0
-    out = _newton(s, start, None, kc, symmetric=True)
+    out = _newton(s, start, None, kc, symmetric=True, target=target)
     out.iterations += pre.iterations
     return out
 
@@ -702,7 +707,10 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) ->
             return failed
         ideal = _newton(s, fr.state.x, None, kc, symmetric=True)
         return _Solved(fr.state, ideal.state if ideal.converged else fr.state, fr.iterations, True, None, w)
-    out = _soft_start_newton(s, x0, kc)
+    # the frictionless state is reported only without friction or as the ideal of a load's MA;
+    # otherwise it is just where the friction stage starts, and needs no last digits
+    handover = frictional and not any(p.kind == "load" for p in s.points)
+    out = _soft_start_newton(s, x0, kc, HANDOVER_REL if handover else TARGET_REL)
     if out.runaway is not None or not out.converged:
         return _Solved(out.state, out.state, out.iterations, False, out.runaway, out.state.w)
     failed = _mechanism_result(s, out.state, kc, out.iterations)
