@@ -754,12 +754,12 @@ def _mech_advantage(s: System, st: State, f: np.ndarray | None = None) -> float 
     ``f``: the rope forces on the points at ``st`` (:func:`_resultants`) when already known.
     """
     rig = s.rig
-    if f is None:
-        f = _resultants(s, st)
     load_ids = [i for i, p in enumerate(s.points) if p.kind == "load"]
     if not load_ids:
         return None
-    delivered = float(sum(math.hypot(*f[i]) for i in load_ids))
+    if f is None:
+        f = _resultants(s, st)
+    delivered = float(sum(math.hypot(fx, fy) for fx, fy in f[load_ids].tolist()))
     hauled = s.run_hauled
     inp = float(s.run_P[hauled].sum()) if hauled.any() else float(sum(abs(fc.magnitude_N) for fc in rig.forces))
     return delivered / inp if inp > 0 else None
@@ -814,9 +814,12 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
         if hauled:
             haul[hp] = haul.get(hp, 0.0) + P
     deflection = {}
-    for mp in s.middle_passes:
-        c = float(np.dot(st.u[mp.piece_in], st.u[mp.piece_out]))
-        deflection[mp.key] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
+    if s.middle_passes:
+        u_list = st.u.tolist()
+        for mp in s.middle_passes:
+            (ax, ay), (bx, by) = u_list[mp.piece_in], u_list[mp.piece_out]
+            c = ax * bx + ay * by
+            deflection[mp.key] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
     scale = _force_scale(s, st)
     residual = _max_norm(st.g) if s.n_dof else 0.0
     warnings = _two_blocked(s, st, contact_stiffness(s)) if st.closed else []
