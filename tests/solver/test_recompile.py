@@ -260,6 +260,7 @@ def _structure_changes(rig: Rig) -> dict[str, tuple[Rig, str | None]]:
         "haul force edited": (rig.with_point(replace(hz, force_N=350.0)), None),
         "pretension edited": (rig.with_rope(replace(rig.rope("guy"), rigged=replace(rig.rope("guy").rigged,
                                                                                      pretension_N=450.0))), None),
+        "view changed": (replace(rig, view="elevation"), None),
         "mass added in elevation": (replace(rig.with_point(replace(n11, mass_kg=5.0)), view="elevation"), None),
         "point kind changed": (rig.with_point(replace(n11, kind="load", fixed=False)), None),
     }
@@ -277,6 +278,15 @@ def test_a_change_of_structure_is_compiled_afresh(change):
     got = equilibrium.solve(moved, motion=motion)
     assert equilibrium._CACHE[0][3] is not topo
     assert repr(got) == repr(fresh_solve(moved, motion=motion))
+
+
+def test_a_weighted_rig_turned_from_elevation_to_plan_is_compiled_afresh():
+    rig = RIGS["elevation-edge"]
+    assert equilibrium.solve(rig).ok
+    plan = replace(rig.moved("W", 8.1, 5.0), view="plan")  # the 80 kg no longer weighs on W
+    got = equilibrium.solve(plan)
+    assert repr(got) == repr(fresh_solve(plan))
+    assert not compile_topology(plan).template.F.any() and compile_topology(rig).template.F.any()
 
 
 def test_a_structure_compiled_for_one_motion_is_reused_for_that_motion_only():
