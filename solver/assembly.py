@@ -144,6 +144,15 @@ class System:
     g_idx: IntArray = field(default=None)  # those dofs
     run_on: IntArray = field(default=None)  # runs with run_comp >= 0
     piece_on: IntArray = field(default=None)  # pieces with piece_comp >= 0
+    g_src: IntArray = field(default=None)  # per kept end force: its entry in the flattened N u (n_pieces, 2)
+    g_sgn: FloatArray = field(default=None)  # and its sign (-1 at end a, +1 at end b)
+    free_at: IntArray = field(default=None)  # indices of the free points
+    ones: FloatArray = field(default=None)  # frictionless piece weights (shared, read-only)
+    run_tied: NDArray[np.bool_] = field(default=None)  # runs not hauled
+    s_min_on: FloatArray = field(default=None)  # s_min where the contact can act, -inf elsewhere
+    haul_P_or_0: FloatArray = field(default=None)  # run_P on hauled runs, 0 on tied ones
+    run_L0_div: FloatArray = field(default=None)  # run_L0 on tied runs, 1 on hauled ones
+    piece_mbs: FloatArray = field(default=None)  # minimum breaking strength of each piece's rope, N
     soft: FloatArray | None = None  # per run: ropes softened to kappa * T(eps) for the solver's soft start
     has_edges: bool = False
     has_friction: bool = False
@@ -159,7 +168,7 @@ class System:
     def positions(self, x: FloatArray) -> FloatArray:
         """All structural points' coordinates (n_points, 2) for free-dof vector ``x``."""
         xy = self.xy0.copy()
-        xy[self.free] = x.reshape(-1, 2)
+        xy[self.free_at] = x.reshape(-1, 2)
         return xy
 
     def x_from(self, xy: FloatArray) -> FloatArray:
@@ -200,7 +209,8 @@ class Topology:
 
 
 #: System fields that :func:`with_geometry` rebuilds from the coordinates (all others come from the topology).
-GEOMETRY_FIELDS = ("rig", "points", "xy0", "origin", "size", "piece_len0", "run_L0", "s_min", "comp_size")
+GEOMETRY_FIELDS = ("rig", "points", "xy0", "origin", "size", "piece_len0", "run_L0", "s_min", "comp_size",
+                   "s_min_on", "run_L0_div")
 _SYSTEM_FIELDS = tuple(f.name for f in fields(System))
 
 
@@ -536,6 +546,9 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     part_size = _per_piece(s, s.comp_size, s.size)
     s_min = np.where(topo.hw_spacing > 0, topo.hw_spacing, BARE_MIN_SPACING * part_size)
     s.s_min = np.minimum(s_min, 0.5 * s.piece_len0)
+    # the spacing contact only where a piece can close up: -inf elsewhere makes its penetration 0
+    s.s_min_on = np.where(s.contact_on, s.s_min, -np.inf)
+    s.run_L0_div = np.where(s.run_hauled, 1.0, s.run_L0) if s.n_runs else np.zeros(0)  # no 0 / 0 on hauled runs
     return s
 
 
@@ -573,7 +586,8 @@ _TOPOLOGY_CACHE_SIZE = 16
 #: System fields that depend only on the topology key of :func:`_finish_topology` (never mutated in place).
 _TOPOLOGY_FIELDS = ("piece_dofs", "contact_on", "pair_k", "pair_j", "pair_run", "n_comp", "dof_comp",
                     "run_comp", "piece_comp", "comp_label", "comp_rep", "k_keep", "k_src", "k_sgn", "k_rows", "k_cols",
-                    "csc_map", "csc_indices", "csc_indptr", "dense_lin", "g_keep", "g_idx", "run_on", "piece_on")
+                    "csc_map", "csc_indices", "csc_indptr", "dense_lin", "g_keep", "g_idx", "g_src", "g_sgn",
+                    "run_on", "piece_on", "free_at", "ones", "run_tied")
 
 
 def _finish_topology(s: System) -> None:
@@ -599,6 +613,9 @@ def _finish_topology(s: System) -> None:
             setattr(s, name, value)
     _TOPOLOGY_CACHE[key] = topo
     _component_forces(s)
+    s.haul_P_or_0 = np.where(s.run_hauled, s.run_P, 0.0) if s.n_runs else np.zeros(0)
+    mbs = np.array([m.mbs_N for m in s.materials], dtype=float)
+    s.piece_mbs = mbs[s.piece_mat] if s.n_pieces else np.zeros(0)
     s.has_edges = bool(np.any(s.pass_kind == PASS_EDGE))
     s.has_friction = s.has_edges or bool(np.any((s.pass_kind == PASS_PULLEY) & (s.pass_eta < 1.0)))
 
@@ -628,6 +645,13 @@ def _topology(s: System) -> None:
     idx = s.piece_dofs.reshape(-1)
     s.g_keep = np.flatnonzero(idx >= 0)
     s.g_idx = idx[s.g_keep]
+    # each kept end force as +-(N u) of its piece: entry 4k + c of piece_dofs is end a (c < 2,
+    # force -N u) or end b (c >= 2, +N u), component c % 2
+    s.g_src = (2 * (s.g_keep // 4) + s.g_keep % 2).astype(np.intp)
+    s.g_sgn = np.where(s.g_keep % 4 < 2, -1.0, 1.0)
+    s.free_at = np.flatnonzero(s.free)
+    s.ones = np.ones(s.n_pieces)  # the frictionless piece weights (shared: never written to)
+    s.run_tied = ~s.run_hauled
 
 
 def _per_piece(s: System, per_comp: FloatArray, default: float) -> FloatArray:
@@ -749,48 +773,56 @@ class State:
     pen: FloatArray  # contact penetration (>0 when two passes are closer than their size), m
     N: FloatArray  # piece axial pull incl. contact push, N
     g: FloatArray  # out-of-balance: internal resistance minus external force, per dof, N
+    closed: bool = False  # some contact is closed (pen > 0 somewhere)
+    no_zero_length: bool = True  # every piece has a length > 0
     # what the potential is computed from, on first use (the friction solve never asks for it)
     potential_from: tuple | None = field(default=None, repr=False, compare=False)
-    _potential: tuple | None = field(default=None, repr=False, compare=False)
+    _energy_terms: tuple | None = field(default=None, repr=False, compare=False)
+    _potential: FloatArray | None = field(default=None, repr=False, compare=False)
 
     @property
     def energy(self) -> float:
         """Total potential (meaningful without friction), J."""
-        return self._energies()[0]
+        U, contact, fx = self._terms()
+        return float(U.sum()) + float(contact.sum()) - float(fx.sum())
 
     @property
     def comp_energy(self) -> FloatArray:
         """The potential of each free part (energy = their sum + a constant), J."""
-        return self._energies()[1]
-
-    def _energies(self) -> tuple[float, FloatArray]:
         if self._potential is None:
-            self._potential = _potential(*self.potential_from)
-            self.potential_from = None
+            s = self.potential_from[0]
+            U, contact, fx = self._terms()
+            comp_energy = -np.bincount(s.dof_comp, fx, minlength=s.n_comp)
+            if s.n_runs:
+                on = s.run_on
+                comp_energy += np.bincount(s.run_comp[on], U[on], minlength=s.n_comp)
+                if self.closed:
+                    on = s.piece_on
+                    comp_energy += np.bincount(s.piece_comp[on], contact[on], minlength=s.n_comp)
+            self._potential = comp_energy
         return self._potential
+
+    def _terms(self) -> tuple[FloatArray, FloatArray, FloatArray]:
+        if self._energy_terms is None:
+            self._energy_terms = _potential(*self.potential_from)
+        return self._energy_terms
 
 
 def _potential(s: System, soft: FloatArray | None, x: FloatArray, L: FloatArray, kc: FloatArray,
-               pen: FloatArray) -> tuple[float, FloatArray]:
-    """(total potential, potential of each free part) at a state; ``soft`` = the softening then in force, J."""
-    # potential energy, exact for frictionless weights
-    hauled = s.run_hauled
-    U = np.where(hauled, s.run_P * L, 0.0) if s.n_runs else np.zeros(0)
-    tied = (~hauled & (L > s.run_L0)).nonzero()[0]
+               pen: FloatArray) -> tuple[FloatArray, FloatArray, FloatArray]:
+    """The terms of the potential at a state, J: (run energies U, contact energies, F x per dof).
+
+    ``soft`` = the softening then in force.  Exact for frictionless weights: a hauled run
+    stores P L, a taut tied run L0 W(L/L0 - 1), a closed contact k pen^2 / 2.
+    """
+    U = s.haul_P_or_0 * L if s.n_runs else np.zeros(0)  # tied runs: 0 * L = 0, set below when taut
+    tied = (s.run_tied & (L > s.run_L0)).nonzero()[0]
     if len(tied):
         e_r = L[tied] / s.run_L0[tied] - 1.0
         U[tied] = s.run_L0[tied] * by_material(s, s.run_mat[tied], e_r, "energy",
                                                None if soft is None else soft[tied])
     contact = 0.5 * kc * pen * pen
-    fx = s.F * x
-    energy = float(U.sum()) + float(contact.sum()) - float(fx.sum())
-    comp_energy = -np.bincount(s.dof_comp, fx, minlength=s.n_comp)
-    if s.n_runs:
-        on = s.run_on
-        comp_energy += np.bincount(s.run_comp[on], U[on], minlength=s.n_comp)
-        on = s.piece_on
-        comp_energy += np.bincount(s.piece_comp[on], contact[on], minlength=s.n_comp)
-    return energy, comp_energy
+    return U, contact, s.F * x
 
 
 def by_material(s: System, mats: IntArray, values: FloatArray, method: str,
@@ -846,8 +878,13 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         fixed = s._run_tension_fixed = (hauled_at, (s.run_start + s.run_count - 1)[hauled_at],
                                         s.run_P[hauled_at], ~hauled)
     hauled_at, hauled_last, hauled_P, tied_run = fixed
-    tau[hauled_at] = hauled_P / w[hauled_last]
     taut = tied_run & (L >= s.run_L0)
+    if w is s.ones:
+        # frictionless: every weight 1, so each tied run's tension is its curve at L / L0 - 1 (the
+        # bracket below closes on it at once; a slack run's strain <= 0 gives 0) -- same numbers
+        t_all = by_material(s, s.run_mat, L / s.run_L0_div - 1.0, "tension", s.soft)
+        return np.where(tied_run, t_all, s.haul_P_or_0), taut
+    tau[hauled_at] = hauled_P / w[hauled_last]
     strict = (tied_run & (L > s.run_L0)).nonzero()[0]
     if len(strict) == 0:
         return tau, taut
@@ -894,24 +931,33 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
     xy = s.positions(x)
     d = xy[s.b] - xy[s.a]
     l = np.hypot(d[:, 0], d[:, 1])
-    u = np.divide(d, l[:, None], out=np.zeros(d.shape), where=(l > 0)[:, None])
+    no_zero_length = bool(l.all())
+    if no_zero_length:
+        u = d / l[:, None]
+    else:
+        u = np.divide(d, l[:, None], out=np.zeros(d.shape), where=(l > 0)[:, None])
     if w is None:
-        w = np.ones(s.n_pieces)
+        w = s.ones
     L = np.add.reduceat(l, s.run_start) if s.n_runs else np.zeros(0)
     tau, taut = solve_run_tensions(s, L, l, w)
-    T = w * tau[s.piece_run] if s.n_pieces else np.zeros(0)
+    if not s.n_pieces:
+        T = np.zeros(0)
+    else:
+        T = tau[s.piece_run] if w is s.ones else w * tau[s.piece_run]
     kappa = None if s.soft is None else s.soft[s.piece_run]  # = _kappa(s, pieces=every piece)
     eps = by_material(s, s.piece_mat, T, "strain", kappa) if s.n_pieces else np.zeros(0)
     if kc is None:
         kc = contact_stiffness(s)
-    pen = np.where(s.contact_on, np.maximum(s.s_min - l, 0.0), 0.0)
-    N = T - kc * pen
-    g = -s.F
+    pen = np.maximum(s.s_min_on - l, 0.0)  # 0 where the contact is off (s_min_on = -inf)
+    closed = bool(pen.any())
+    N = T - kc * pen if closed else T
     if s.n_pieces:
-        fa = -N[:, None] * u  # dPi/dx_a = -N u, dPi/dx_b = +N u
-        vals = np.concatenate([fa, -fa], axis=1).reshape(-1)
-        g += np.bincount(s.g_idx, vals[s.g_keep], minlength=s.n_dof)
+        nu = (N[:, None] * u).reshape(-1)  # dPi/dx_a = -N u, dPi/dx_b = +N u
+        g = np.bincount(s.g_idx, nu[s.g_src] * s.g_sgn, minlength=s.n_dof) - s.F
+    else:
+        g = -s.F
     return State(x=x, xy=xy, l=l, u=u, w=w, L=L, tau=tau, taut=taut, T=T, eps=eps, pen=pen, N=N, g=g,
+                 closed=closed, no_zero_length=no_zero_length,
                  potential_from=(s, s.soft, x, L, kc, pen))
 
 
@@ -936,17 +982,19 @@ def tangent_values(s: System, st: State, kc: FloatArray | None = None, exact: bo
     u, l = st.u, st.l
     # a piece pushed by the spacing contact (N < 0) would add negative stiffness, turning the
     # rope's kink at a two-blocked pass into a saddle for Newton: keep only the pull (PSD tangent)
-    geo = np.divide(st.N if exact else np.maximum(st.N, 0.0), l, out=np.zeros(l.shape), where=l > 0)
-    axial = np.where(st.pen > 0, kc, 0.0)
-    coef = np.zeros(s.n_pieces)
+    pull = st.N if exact else np.maximum(st.N, 0.0)
+    geo = pull / l if st.no_zero_length else np.divide(pull, l, out=np.zeros(l.shape), where=l > 0)
+    unit = st.w is s.ones  # frictionless: every weight 1, so the products by w are left out (same numbers)
     run_coef = None
     if st.taut.any():
         c = 1.0 / (1.0 + st.eps)
         de = by_material(s, s.piece_mat, st.T, "dstrain", None if s.soft is None else s.soft[s.piece_run])
-        D = np.bincount(s.piece_run, l * st.w * de * c * c, minlength=s.n_runs)
+        D = np.bincount(s.piece_run, (l if unit else l * st.w) * de * c * c, minlength=s.n_runs)
         run_coef = np.divide(1.0, D, out=np.zeros(D.shape), where=st.taut & (D > 0))
-        coef = st.w * c * run_coef[s.piece_run]
-    axial = axial + coef
+        coef = (c if unit else st.w * c) * run_coef[s.piece_run]
+        axial = np.where(st.pen > 0, kc, 0.0) + coef if st.closed else coef
+    else:
+        axial = np.where(st.pen > 0, kc, 0.0)
     ux, uy = u[:, 0], u[:, 1]
     # 2x2 block A = geo (I - u u^T) + axial u u^T, stored as (xx, xy, yy)
     axx = geo * (1.0 - ux * ux) + axial * ux * ux

@@ -36,7 +36,7 @@ from solver.assembly import (
 )
 from solver.errors import RigModelError
 from solver.model import Rig
-from solver.result import AnchorResult, HoldRange, Result, SegmentResult, Warning_
+from solver.result import AnchorResult, HoldRange, Result, SegmentResult, Warning_, record
 
 log = logging.getLogger(__name__)
 
@@ -48,6 +48,10 @@ MAX_ITER = 200
 MAX_EVALUATIONS = 1500
 #: Target and acceptance of the largest free-point imbalance, relative to the largest force.
 TARGET_REL = 1e-10
+#: Imbalance at which a cold solve hands the frictionless state on to the friction stage when that
+#: state itself is not reported (no load point needs the ideal MA): the friction stage converges
+#: from there in as many steps as from the exact frictionless equilibrium.
+HANDOVER_REL = 1e-6
 ACCEPT_REL = 1e-7
 #: A point farther than this many rig sizes from the sketch has run away.
 RUNAWAY_SIZES = 100.0
@@ -101,13 +105,14 @@ def _lapack_solved(x: np.ndarray, info: int) -> np.ndarray:
     return x
 
 
-def _shifted_factor(K, lam: np.ndarray, dense: bool, symmetric: bool):
-    """A solver for (K + diag(lam)) d = rhs; None when the shifted matrix is not usable (raise the shift)."""
-    n = len(lam)
+def _shifted_factor(K, lam: np.ndarray | float, dense: bool, symmetric: bool):
+    """A solver for (K + diag(lam)) d = rhs (``lam`` an array or one shift for every coordinate); None when
+    the shifted matrix is not usable (raise the shift)."""
+    n = K.shape[0]
     try:
         if dense:
             M = K.copy()
-            M.flat[::n + 1] += lam  # the diagonal
+            M.ravel()[::n + 1] += lam  # the diagonal (a view: M is a fresh contiguous copy)
             # the LAPACK routines scipy.linalg.cho_factor/cho_solve and lu_factor/lu_solve call,
             # called directly: same numbers without the wrappers' per-call overhead (small rigs)
             if symmetric:
@@ -116,10 +121,12 @@ def _shifted_factor(K, lam: np.ndarray, dense: bool, symmetric: bool):
                     return None
                 return lambda rhs: _lapack_solved(*_POTRS(c, rhs, lower=False))
             lu, piv, info = _GETRF(M, overwrite_a=True)
-            if info < 0 or not np.all(np.isfinite(lu)) or np.any(np.diag(lu) == 0.0):
+            # info > 0: a pivot is exactly zero; a non-finite factor shows as a non-finite solution,
+            # which _shifted_solve refuses
+            if info != 0:
                 return None
             return lambda rhs: _lapack_solved(*_GETRS(lu, piv, rhs, trans=0))
-        M = (K + scipy.sparse.diags(lam, format="csc")).tocsc()
+        M = (K + scipy.sparse.diags(np.broadcast_to(lam, (n,)), format="csc")).tocsc()
         if symmetric:  # SPD after the shift: diagonal pivots, symmetric ordering
             lu = scipy.sparse.linalg.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
                                           options={"SymmetricMode": True})
@@ -130,7 +137,7 @@ def _shifted_factor(K, lam: np.ndarray, dense: bool, symmetric: bool):
         return None
 
 
-def _shifted_solve(K, lam: np.ndarray, rhs: np.ndarray, dense: bool, symmetric: bool):
+def _shifted_solve(K, lam: np.ndarray | float, rhs: np.ndarray, dense: bool, symmetric: bool):
     """(d, solver) with (K + diag(lam)) d = rhs, or (None, None) when the shift must rise."""
     solver = _shifted_factor(K, lam, dense, symmetric)
     if solver is None:
@@ -172,8 +179,8 @@ def _sub(K, idx: np.ndarray, dense: bool):
 
 
 def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symmetric: bool,
-            max_iter: int = MAX_ITER) -> _Outcome:
-    """Damped, shifted Newton iteration for g(x) = 0 at fixed piece weights ``w``.
+            max_iter: int = MAX_ITER, target: float = TARGET_REL) -> _Outcome:
+    """Damped, shifted Newton iteration for g(x) = 0 at fixed piece weights ``w``, to imbalance ``target`` x force scale.
 
     Every independent part of the rig (``System.n_comp``) keeps its own Levenberg-Marquardt
     shift, step cap, line-search step and convergence test: the merit (the potential Pi
@@ -186,7 +193,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
     if s.n_dof == 0:
         return _Outcome(st, 0, True)
     if s.n_comp == 1:
-        return _newton_one_part(s, st, w, kc, symmetric, max_iter)
+        return _newton_one_part(s, st, w, kc, symmetric, max_iter, target)
     C = s.n_comp
     cd = s.dof_comp
     cp = cd[0::2]
@@ -212,7 +219,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
         scale = _comp_scale(s, st)
         pn = _point_norms(st.g)
         res = _comp_max(s, pn)
-        done = active & ((res <= TARGET_REL * scale) | ((scale == 0.0) & (res == 0.0)))
+        done = active & ((res <= target * scale) | ((scale == 0.0) & (res == 0.0)))
         # at the round-off floor: no progress for several iterations but within the acceptance
         improved = res < 0.5 * best
         best = np.where(improved, res, best)
@@ -322,7 +329,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
 
 
 def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray, symmetric: bool,
-                     max_iter: int) -> _Outcome:
+                     max_iter: int, target: float = TARGET_REL) -> _Outcome:
     """:func:`_newton` for a rig of one part (``s.n_comp == 1``), from its first state ``st``.
 
     The same iteration, test for test and in the same floating-point operations, with the
@@ -350,7 +357,10 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
     ok = False
     stall = 0
     best = np.inf
-    free_idx = s.free.nonzero()[0]
+    free_idx = s.free_at
+    # distance of the free points from the drawing's centre (the solver's origin: no subtraction)
+    centre_x = np.tile(s.centre, s.n_dof // 2) if np.any(s.centre) else None
+    debug = log.isEnabledFor(logging.DEBUG)
     evaluations = 0
     it = 0
     for it in range(max_iter):
@@ -358,7 +368,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
             break
         scale = scale_of(st)
         res = float(_point_norms(st.g).max())
-        done = (res <= TARGET_REL * scale) or (scale == 0.0 and res == 0.0)
+        done = (res <= target * scale) or (scale == 0.0 and res == 0.0)
         improved = res < 0.5 * best
         if improved:
             best = res
@@ -369,8 +379,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         if done:
             return _Outcome(st, it, True)
         K = _matrix(s, st, kc, dense, exact=not symmetric)
-        diag = K.diagonal()
-        base = max(float(np.maximum(diag[0::2], diag[1::2]).max()), scale / size, 1e-12)
+        base = max(float(K.diagonal().max()), scale / size, 1e-12)  # = the largest of the x and y maxima
         m0 = merit(st)
         x_new = st.x.copy()
         pending = True
@@ -381,7 +390,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         for _attempt in range(8):
             if not pending:
                 break
-            d_sub, solver = _shifted_solve(K, np.full(s.n_dof, mu * base), -g, dense, symmetric)
+            d_sub, solver = _shifted_solve(K, mu * base, -g, dense, symmetric)
             if d_sub is None:
                 mu *= 100.0
                 continue
@@ -429,17 +438,17 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         if pending:  # no step found: stop where it is
             ok = res <= ACCEPT_REL * scale
             active = False
-        if trial is None or not np.array_equal(trial.x, x_new):
+        if trial is None or (trial.x is not x_new and not np.array_equal(trial.x, x_new)):
             evaluations += 1
             trial = evaluate(s, x_new, w, kc)
-        if log.isEnabledFor(logging.DEBUG):
+        if debug:
             log.debug("it %d res %s mu %s alpha %s cap %s capped %s", it, res, mu, alpha, cap, capped)
         if active and alpha == 1.0:
             mu = max(mu / 10.0, 1e-10)
             if capped:
                 cap = 2.0 * cap
         st = trial
-        far = np.hypot(*(st.xy[free_idx] - s.centre).T)
+        far = _point_norms(st.x - centre_x) if centre_x is not None else _point_norms(st.x)
         if far.max() > RUNAWAY_SIZES * s.size:
             return _Outcome(st, it + 1, False, runaway=int(free_idx[np.argmax(far)]))
         if not active:
@@ -488,6 +497,12 @@ def _mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] |
     top = max(float(diag.max()), _force_scale(s, st) / s.size, 1e-12)
     if dense:
         Ks = 0.5 * (K + K.T)
+        # Ks - threshold I positive definite (its Cholesky factor exists) means every eigenvalue is
+        # above the threshold: held, at a fraction of the cost of the eigenvalues
+        M = Ks.copy()
+        M.ravel()[::len(M) + 1] -= MECHANISM_REL * top
+        if _POTRF(M, lower=False, overwrite_a=True, clean=False)[1] == 0:
+            return None
         lam = float(np.linalg.eigvalsh(Ks)[0])  # values only: fast; the vector only on failure
         if lam > MECHANISM_REL * top:
             return None
@@ -587,6 +602,8 @@ def _friction_stage(s: System, st: State, motion: str, kc: np.ndarray,
             return _Outcome(st, iters, False, fr.runaway), w
         if jam is not None:
             jam = jam | friction.jammed_passes(s, st.pen)
+        elif not s.has_edges:  # pulley ratios do not depend on the geometry: these weights are final
+            return _Outcome(st, iters, _max_norm(st.g) <= ACCEPT_REL * _force_scale(s, st)), w
         w_new = friction.weights(s, st.u, motion, jam)
         if np.max(np.abs(w_new / w - 1.0), initial=0.0) <= 1e-12:
             if s.has_edges:
@@ -640,18 +657,19 @@ def _soft_factors(s: System) -> np.ndarray | None:
     return np.where(tied, kappa, 1.0)
 
 
-def _soft_start_newton(s: System, x0: np.ndarray, kc: np.ndarray) -> _Outcome:
-    """Frictionless Newton solve from the drawn geometry, through a softened-rope solve for stiff rigs."""
+def _soft_start_newton(s: System, x0: np.ndarray, kc: np.ndarray, target: float = TARGET_REL) -> _Outcome:
+    """Frictionless Newton solve from the drawn geometry (to imbalance ``target`` x force scale), through a
+    softened-rope solve for stiff rigs."""
     kappa = _soft_factors(s)
     if kappa is None:
-        return _newton(s, x0, None, kc, symmetric=True)
+        return _newton(s, x0, None, kc, symmetric=True, target=target)
     s.soft = kappa
     try:
         pre = _newton(s, x0, None, kc, symmetric=True, max_iter=60)
     finally:
         s.soft = None
     start = pre.state.x if pre.runaway is None else x0
-    out = _newton(s, start, None, kc, symmetric=True)
+    out = _newton(s, start, None, kc, symmetric=True, target=target)
     out.iterations += pre.iterations
     return out
 
@@ -692,7 +710,10 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) ->
             return failed
         ideal = _newton(s, fr.state.x, None, kc, symmetric=True)
         return _Solved(fr.state, ideal.state if ideal.converged else fr.state, fr.iterations, True, None, w)
-    out = _soft_start_newton(s, x0, kc)
+    # the frictionless state is reported only without friction or as the ideal of a load's MA;
+    # otherwise it is just where the friction stage starts, and needs no last digits
+    handover = frictional and not any(p.kind == "load" for p in s.points)
+    out = _soft_start_newton(s, x0, kc, HANDOVER_REL if handover else TARGET_REL)
     if out.runaway is not None or not out.converged:
         return _Solved(out.state, out.state, out.iterations, False, out.runaway, out.state.w)
     failed = _mechanism_result(s, out.state, kc, out.iterations)
@@ -706,25 +727,28 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) ->
 
 def _all_points(s: System, st: State) -> dict[str, tuple[float, float]]:
     ox, oy = float(s.origin[0]), float(s.origin[1])
-    pos = {pid: (float(st.xy[i, 0]) + ox, float(st.xy[i, 1]) + oy) for i, pid in enumerate(s.point_ids)}
+    pos = {pid: (x + ox, y + oy) for pid, (x, y) in zip(s.point_ids, st.xy.tolist())}
     return {p.id: pos.get(p.id, (p.x, p.y)) for p in s.rig.points}
 
 
 def _resultants(s: System, st: State) -> np.ndarray:
     """Force the ropes exert on every structural point (n_points, 2), N."""
-    f = np.zeros((len(s.point_ids), 2))
-    if s.n_pieces:
-        pull = st.N[:, None] * st.u  # rope pulls a toward b and b toward a
-        np.add.at(f, s.a, pull)
-        np.add.at(f, s.b, -pull)
-    return f
+    n = len(s.point_ids)
+    if not s.n_pieces:
+        return np.zeros((n, 2))
+    pull = st.N[:, None] * st.u  # rope pulls a toward b and b toward a
+    # every a end, then every b end, each added in piece order (the sums np.add.at would make)
+    ends = np.concatenate((s.a, s.b))
+    both = np.concatenate((pull, -pull))
+    return np.stack((np.bincount(ends, both[:, 0], minlength=n), np.bincount(ends, both[:, 1], minlength=n)), axis=1)
 
 
 def _anchor(fx: float, fy: float, capacity: float | None, sf: float) -> AnchorResult:
     mag = math.hypot(fx, fy)
     util = mag * sf / capacity if capacity else None
-    return AnchorResult(force_N=mag, direction_deg=math.degrees(math.atan2(fy, fx)) % 360.0 if mag > 0 else 0.0,
-                        capacity_N=capacity, utilization=util, fx_N=fx, fy_N=fy)
+    return record(AnchorResult, force_N=mag,
+                  direction_deg=math.degrees(math.atan2(fy, fx)) % 360.0 if mag > 0 else 0.0,
+                  capacity_N=capacity, utilization=util, fx_N=fx, fy_N=fy)
 
 
 def _mech_advantage(s: System, st: State, f: np.ndarray | None = None) -> float | None:
@@ -768,17 +792,16 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
     rig = s.rig
     st = sol.state
     sf = rig.settings.min_safety_factor
-    run_in_rope = [_run_index_in_rope(s, g) for g in range(s.n_runs)]
+    run_in_rope = _runs_in_ropes(s)
     segments = []
     # whole arrays to Python numbers at once (same values as float()/int() of each element)
-    mbs = np.array([m.mbs_N for m in s.materials], dtype=float)[s.piece_mat] if s.n_pieces else np.zeros(0)
-    util = (st.T * sf / mbs).tolist()
+    util = (st.T * sf / s.piece_mbs).tolist()
     ids = s.point_ids
     for k, (rope, index, ia, ib, t, length, eps, r) in enumerate(zip(
             s.piece_rope, s.piece_index.tolist(), s.a.tolist(), s.b.tolist(), st.T.tolist(), st.l.tolist(),
             st.eps.tolist(), s.piece_run.tolist())):
-        segments.append(SegmentResult(
-            rope=rope, index=index, from_point=ids[ia], to_point=ids[ib], tension_N=t, length_m=length,
+        segments.append(record(
+            SegmentResult, rope=rope, index=index, from_point=ids[ia], to_point=ids[ib], tension_N=t, length_m=length,
             strain=eps, utilization=util[k], run=run_in_rope[r]))
     f = _resultants(s, st)
     anchors, loads = {}, {}
@@ -790,16 +813,16 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
         if p.kind == "load":
             loads[pid] = _anchor(f_list[i][0], f_list[i][1], None, sf)
     haul = {}
-    for r in np.flatnonzero(s.run_hauled):
-        hp = s.run_haul_point[r]
-        haul[hp] = haul.get(hp, 0.0) + float(s.run_P[r])
+    for hauled, hp, P in zip(s.run_hauled.tolist(), s.run_haul_point, s.run_P.tolist()):
+        if hauled:
+            haul[hp] = haul.get(hp, 0.0) + P
     deflection = {}
     for mp in s.middle_passes:
         c = float(np.dot(st.u[mp.piece_in], st.u[mp.piece_out]))
         deflection[mp.key] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
     scale = _force_scale(s, st)
     residual = _max_norm(st.g) if s.n_dof else 0.0
-    warnings = _two_blocked(s, st, contact_stiffness(s))
+    warnings = _two_blocked(s, st, contact_stiffness(s)) if st.closed else []
     for pid in s.ignored_forces:
         warnings.append(Warning_("force-on-fixed-point", pid,
                                  f'the force drawn at "{pid}" acts on a fixed point and is not part of the solve'))
@@ -827,13 +850,12 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
                   warnings=tuple(warnings))
 
 
-def _run_index_in_rope(s: System, g: int) -> int:
-    """Index of global run ``g`` within its rope."""
-    rope = s.run_rope[g]
-    i = g
-    while i > 0 and s.run_rope[i - 1] == rope:
-        i -= 1
-    return g - i
+def _runs_in_ropes(s: System) -> list[int]:
+    """Index of every global run within its rope (runs of a rope are consecutive)."""
+    out: list[int] = []
+    for g, rope in enumerate(s.run_rope):
+        out.append(out[-1] + 1 if g > 0 and s.run_rope[g - 1] == rope else 0)
+    return out
 
 
 def _runaway_result(s: System, sol: _Solved) -> Result:

@@ -11,6 +11,18 @@ from typing import Any, Mapping
 STATUSES: tuple[str, ...] = ("ok", "mechanism", "diverged", "invalid")
 
 
+def record(cls: type, **values: Any) -> Any:
+    """A frozen record of class ``cls`` from every one of its fields by name: equal to ``cls(**values)``.
+
+    The dataclass ``__init__`` of a frozen class sets each field through ``object.__setattr__``;
+    the solver builds a segment record per rope piece on every solve, so it fills the
+    instance's attribute dict in one step instead.  Every field must be given (no defaults).
+    """
+    obj = object.__new__(cls)
+    obj.__dict__.update(values)
+    return obj
+
+
 @dataclass(frozen=True)
 class SegmentResult:
     """One straight piece of rope between two consecutive passes."""

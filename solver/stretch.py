@@ -41,6 +41,9 @@ class StretchCurve:
         self._k = np.diff(t) / np.diff(e)  # slope of each piece, N per unit strain
         # energy at each knot: trapezoid areas
         self._w = np.concatenate(([0.0], np.cumsum(0.5 * (t[1:] + t[:-1]) * np.diff(e))))
+        # one straight piece from (0, 0): the piecewise formulas reduce to T = k0 eps exactly
+        self._linear = len(self._k) == 1
+        self._k0 = float(self._k[0])
 
     @property
     def knots(self) -> tuple[FloatArray, FloatArray]:
@@ -67,6 +70,8 @@ class StretchCurve:
     def tension(self, eps: ArrayLike) -> FloatArray:
         """Tension in N at strain ``eps`` (zero for eps <= 0)."""
         e = np.asarray(eps, dtype=float)
+        if self._linear:  # the formula below with knot 0 = (0, 0): the same numbers, fewer array passes
+            return np.where(e > 0.0, self._k0 * e, 0.0)
         i = self._piece_e(e)
         out = self._t[i] + self._k[i] * (e - self._e[i])
         return np.where(e > 0.0, out, 0.0)
@@ -74,11 +79,15 @@ class StretchCurve:
     def dtension(self, eps: ArrayLike) -> FloatArray:
         """Tangent stiffness dT/d(eps) in N at strain ``eps`` (zero for eps < 0)."""
         e = np.asarray(eps, dtype=float)
+        if self._linear:
+            return np.where(e >= 0.0, self._k0, 0.0)
         return np.where(e >= 0.0, self._k[self._piece_e(e)], 0.0)
 
     def strain(self, tension: ArrayLike) -> FloatArray:
         """Strain at tension ``tension`` N (zero for T <= 0)."""
         t = np.asarray(tension, dtype=float)
+        if self._linear:
+            return np.where(t > 0.0, t / self._k0, 0.0)
         i = self._piece_t(t)
         out = self._e[i] + (t - self._t[i]) / self._k[i]
         return np.where(t > 0.0, out, 0.0)
@@ -86,11 +95,15 @@ class StretchCurve:
     def dstrain(self, tension: ArrayLike) -> FloatArray:
         """Compliance d(eps)/dT in 1/N at tension ``tension`` (zero for T < 0)."""
         t = np.asarray(tension, dtype=float)
+        if self._linear:
+            return np.where(t >= 0.0, 1.0 / self._k0, 0.0)
         return np.where(t >= 0.0, 1.0 / self._k[self._piece_t(t)], 0.0)
 
     def energy(self, eps: ArrayLike) -> FloatArray:
         """Strain energy per unstretched metre W(eps) = integral_0^eps T de, in N (J/m)."""
         e = np.asarray(eps, dtype=float)
+        if self._linear:
+            return np.where(e > 0.0, 0.5 * self._k0 * e * e, 0.0)
         i = self._piece_e(e)
         de = e - self._e[i]
         out = self._w[i] + self._t[i] * de + 0.5 * self._k[i] * de * de
