@@ -890,8 +890,16 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         return tau, taut
     lam_e = L[strict] / s.run_L0[strict] - 1.0
     t_lam = by_material(s, s.run_mat[strict], lam_e, "tension", _kappa(s, runs=strict))
-    wmin = np.minimum.reduceat(w, s.run_start)[strict] if nr else w
-    wmax = np.maximum.reduceat(w, s.run_start)[strict] if nr else w
+    w_of, run_wmin, run_wmax, uneven = s.__dict__.get("_run_weight_range") or (None, None, None, True)
+    if w_of is not w:  # the weights are fixed through a Newton solve: their per-run range once per array
+        run_wmin = np.minimum.reduceat(w, s.run_start) if nr else w
+        run_wmax = np.maximum.reduceat(w, s.run_start) if nr else w
+        uneven = bool(np.any(tied_run & (run_wmin != run_wmax)))
+        s._run_weight_range = (w, run_wmin, run_wmax, uneven)
+    if not uneven:  # each tied run's pieces share one weight: the bracket below is closed already
+        tau[strict] = t_lam / run_wmax[strict]
+        return tau, taut
+    wmin, wmax = run_wmin[strict], run_wmax[strict]
     lo = t_lam / wmax
     hi = t_lam / wmin
     t = 0.5 * (lo + hi)
