@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import logging
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, fields
 
 import numpy as np
 import scipy.sparse
@@ -176,7 +176,55 @@ class System:
 
 
 def compile_rig(rig: Rig, motion: str | None = None) -> System:
-    """Compile ``rig`` into a :class:`System`; raises RigModelError naming what is wrong."""
+    """Compile ``rig`` into a :class:`System`; raises RigModelError naming what is wrong.
+
+    Two parts: :func:`compile_topology` (everything but the coordinates) and the geometry
+    (:func:`with_geometry`), so that a moved copy of a rig, as a drag makes, can reuse the first.
+    """
+    return _with_geometry(compile_topology(rig, motion), rig, checked=True)
+
+
+@dataclass
+class Topology:
+    """What :func:`compile_rig` derives from a rig's structure alone, ready for any coordinates.
+
+    The structure is everything compile_rig reads except point coordinates: the points' ids,
+    kinds, fixedness, haul forces and masses, the ropes, forces, embedded specs, the view and
+    the motion (:func:`same_structure`).  :func:`with_geometry` turns it into the System of
+    any rig with that structure, rebuilding only the arrays that follow from the coordinates
+    (:data:`GEOMETRY_FIELDS`).
+    """
+
+    rig: Rig  # the rig this was compiled from
+    motion: str
+    template: System  # every non-geometric field; geometric ones None; its arrays read-only; never solved
+    point_index: list[int]  # index in ``rig.points`` of each structural point
+    point_keys: tuple  # per rig point: what compile_rig reads from it apart from x and y
+    run_pieces: IntArray  # (n_runs, longest run): each run's pieces in order, padded with n_pieces
+    run_pretensioned: IntArray  # tied runs whose unstretched length follows from a pretension ...
+    run_stretch: FloatArray  # ... 1 + their rope's strain at that pretension
+    run_slacked: IntArray  # tied runs whose unstretched length is the drawn length plus a slack ...
+    run_slack: FloatArray  # ... that slack, m
+    hw_spacing: FloatArray  # per piece: closest spacing its passes' hardware allows, m (0: bare passes)
+
+
+#: System fields that :func:`with_geometry` rebuilds from the coordinates (all others come from the topology).
+GEOMETRY_FIELDS = ("rig", "points", "xy0", "origin", "size", "piece_len0", "run_L0", "s_min", "comp_size",
+                   "s_min_on", "run_L0_div")
+_SYSTEM_FIELDS = tuple(f.name for f in fields(System))
+
+
+def _point_key(p) -> tuple:
+    """What compile_rig reads from a point apart from its coordinates."""
+    return (p.id, p.kind, p.fixed, p.force_N, p.team, p.force_per_person_N, p.mass_kg)
+
+
+def compile_topology(rig: Rig, motion: str | None = None) -> Topology:
+    """The coordinate-free part of :func:`compile_rig`; raises RigModelError naming what is wrong.
+
+    The drawn geometry is checked here too (points at one spot, runs of no length), in the
+    order compile_rig always checked it, so a rig names the same first problem as before.
+    """
     motion = motion or rig.settings.motion
     if motion not in MOTIONS:
         raise RigModelError(f'the motion "{motion}" is not one of haul, hold, lower', where="settings.motion")
@@ -215,12 +263,12 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
     pass_hw: list[str | None] = []
     pass_point: list[str] = []
     s_min: list[float] = []
-    piece_len0: list[float] = []
     run_start: list[int] = []
     run_count: list[int] = []
     run_hauled: list[bool] = []
     run_P: list[float] = []
-    run_L0: list[float] = []
+    run_mode: list[int] = []  # 0 hauled, 1 pretensioned, 2 slack
+    run_param: list[float] = []  # 1 + pre-strain (pretensioned), slack in m (slack), 0 (hauled)
     run_mat: list[int] = []
     run_rope: list[str] = []
     run_haul_point: list[str | None] = []
@@ -314,7 +362,6 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
                         sz = hardware(ps.hardware).size_m
                         hw_size = max(hw_size, float(sz) if sz else DEFAULT_MIN_SPACING_M)
                 s_min.append(hw_size)
-                piece_len0.append(lk)
                 kind, eta, mu, hw = PASS_NONE, 1.0, 0.0, None
                 if k > run.first:  # pass pa is a middle pass of this run
                     kind, eta, mu, hw = _pass_factor(rope.name, pa, hardware, f"{where}.path[{k}]")
@@ -333,22 +380,27 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
                         where=f"{where}.path[{run.last}]", subject=hp.id)
                 run_hauled.append(True)
                 run_P.append(float(P))
-                run_L0.append(length)
+                run_mode.append(0)
+                run_param.append(0.0)
                 run_haul_point.append(hp.id)
             else:
                 if rig_i.pretension_N is not None:
                     if not (math.isfinite(rig_i.pretension_N) and rig_i.pretension_N >= 0):
                         raise RigModelError(f'rope "{rope.name}" has a negative pretension',
                                             where=f"{where}.rigged", subject=rope.id)
-                    L0 = length / (1.0 + pre_strain(m_i, float(rig_i.pretension_N)))
+                    stretch = 1.0 + pre_strain(m_i, float(rig_i.pretension_N))
+                    L0 = length / stretch  # checked here; set from the coordinates in with_geometry
+                    run_mode.append(1)
+                    run_param.append(stretch)
                 else:
                     L0 = length + float(rig_i.slack_m)
+                    run_mode.append(2)
+                    run_param.append(float(rig_i.slack_m))
                 if not L0 > 0:
                     raise RigModelError(f'rope "{rope.name}" has a run of no length', where=f"{where}.rigged",
                                         subject=rope.id)
                 run_hauled.append(False)
                 run_P.append(0.0)
-                run_L0.append(L0)
                 run_haul_point.append(None)
         # middle passes of the rope, for deflection angles
         first_piece = len(a) - (len(path) - 1)
@@ -382,34 +434,122 @@ def compile_rig(rig: Rig, motion: str | None = None) -> System:
             if free[i] and p.mass_kg:
                 F[dof[i, 1]] -= float(p.mass_kg) * STANDARD_GRAVITY
 
-    lo, hi = (xy0.min(axis=0), xy0.max(axis=0)) if len(pts) else (np.zeros(2), np.zeros(2))
-    size = float(max(np.hypot(*(hi - lo)), 1e-3))
     fmag = np.hypot(F[0::2], F[1::2]) if nf else np.zeros(0)
     pre = [r.rigged.pretension_N or 0.0 for r in rig.ropes]
     force_scale = float(max([0.0, *fmag, *run_P, *pre]))
-    spacing = np.array(s_min, dtype=float)  # bare passes get their size in _finish, from their part's size
 
     sys_ = System(
-        rig=rig, motion=motion, points=pts, point_ids=[p.id for p in pts], xy0=xy0, free=free, dof=dof, n_dof=2 * nf,
+        rig=None, motion=motion, points=None, point_ids=[p.id for p in pts], xy0=None, free=free, dof=dof,
+        n_dof=2 * nf,
         a=np.array(a, dtype=np.intp), b=np.array(b, dtype=np.intp), piece_rope=piece_rope,
         piece_index=np.array(piece_index, dtype=np.intp), piece_run=np.array(piece_run, dtype=np.intp),
         piece_mat=np.array(piece_mat, dtype=np.intp), piece_first=np.array(piece_first, dtype=bool),
         pass_kind=np.array(pass_kind, dtype=np.intp), pass_eta=np.array(pass_eta, dtype=float),
         pass_mu=np.array(pass_mu, dtype=float), pass_hw=pass_hw, pass_point=pass_point,
-        s_min=spacing, contact_on=np.zeros(len(a), dtype=bool),
+        s_min=None, contact_on=np.zeros(len(a), dtype=bool),
         run_start=np.array(run_start, dtype=np.intp), run_count=np.array(run_count, dtype=np.intp),
         run_hauled=np.array(run_hauled, dtype=bool), run_P=np.array(run_P, dtype=float),
-        run_L0=np.array(run_L0, dtype=float), run_mat=np.array(run_mat, dtype=np.intp), run_rope=run_rope,
-        run_haul_point=run_haul_point, curves=curves, materials=materials, F=F, size=size,
-        centre=np.zeros(2), origin=0.5 * (lo + hi), force_scale=force_scale, middle_passes=middle, ignored_forces=ignored,
+        run_L0=None, run_mat=np.array(run_mat, dtype=np.intp), run_rope=run_rope,
+        run_haul_point=run_haul_point, curves=curves, materials=materials, F=F, size=None,
+        centre=np.zeros(2), origin=None, force_scale=force_scale, middle_passes=middle, ignored_forces=ignored,
     )
     sys_.run_pre = np.array(run_pre, dtype=float)
+    _finish_topology(sys_)
+    for name in _SYSTEM_FIELDS:  # shared by every System of this topology: none may change them
+        value = getattr(sys_, name)
+        if isinstance(value, np.ndarray):
+            value.flags.writeable = False
+    nr = len(run_start)
+    longest = max(run_count, default=0)
+    run_pieces = np.full((nr, longest), len(a), dtype=np.intp)
+    if nr:
+        counts = sys_.run_count
+        run_pieces[np.repeat(np.arange(nr), counts), np.arange(len(a)) - np.repeat(sys_.run_start, counts)] = \
+            np.arange(len(a))
+    mode = np.array(run_mode, dtype=np.intp)
+    param = np.array(run_param, dtype=float)
+    pretensioned, slacked = np.flatnonzero(mode == 1), np.flatnonzero(mode == 2)
+    structural = [i for i, p in enumerate(rig.points) if p.is_structural]
+    return Topology(rig=rig, motion=motion, template=sys_, point_index=structural,
+                    point_keys=tuple(_point_key(p) for p in rig.points), run_pieces=run_pieces,
+                    run_pretensioned=pretensioned, run_stretch=param[pretensioned], run_slacked=slacked,
+                    run_slack=param[slacked], hw_spacing=np.array(s_min, dtype=float))
+
+
+def same_structure(topo: Topology, rig: Rig, motion: str | None = None) -> bool:
+    """True when ``rig`` (solved for ``motion``) differs from ``topo``'s rig at most in coordinates.
+
+    Cheap for a dragged copy: the Rig edit helpers share the unchanged tuples and points, which
+    are compared by identity first, by value only when not shared.
+    """
+    old = topo.rig
+    if (motion or rig.settings.motion) != topo.motion:
+        return False
+    if rig is old:
+        return True
+    if rig.view != old.view:
+        return False
+    for name in ("ropes", "forces", "materials", "hardware"):
+        new_items, old_items = getattr(rig, name), getattr(old, name)
+        if new_items is not old_items and new_items != old_items:
+            return False
+    if len(rig.points) != len(old.points):
+        return False
+    for p, q, key in zip(rig.points, old.points, topo.point_keys):
+        if p is not q and _point_key(p) != key:
+            return False
+    return True
+
+
+def with_geometry(topo: Topology, rig: Rig) -> System:
+    """The System of ``rig``, a rig of ``topo``'s structure (:func:`same_structure`), equal to compile_rig's.
+
+    The topology's arrays are shared; only :data:`GEOMETRY_FIELDS` are built anew, and nothing
+    the solver caches on a System (``soft``, per-System constants) is carried over.  Raises
+    RigModelError, the very one compile_rig raises, when the coordinates make the rig invalid.
+    """
+    return _with_geometry(topo, rig, checked=False)
+
+
+def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
+    """:func:`with_geometry`; ``checked``: compile_topology has already checked this rig's geometry."""
+    t = topo.template
+    pts = [rig.points[i] for i in topo.point_index]
+    xy = np.array([[p.x, p.y] for p in pts], dtype=float).reshape(-1, 2)
+    d = xy[t.b] - xy[t.a]
+    # math.hypot, one piece at a time, as the check in compile_topology (np.hypot can differ in the last bit)
+    piece_len0 = np.array(list(map(math.hypot, d[:, 0].tolist(), d[:, 1].tolist())), dtype=float)
+    # each run's drawn length summed piece by piece in path order (cumsum adds in sequence)
+    padded = np.append(piece_len0, 0.0)[topo.run_pieces]
+    length = padded.cumsum(axis=1)[:, -1] if padded.size else np.zeros(len(topo.run_pieces))
+    run_L0 = length.copy()
+    run_L0[topo.run_pretensioned] = length[topo.run_pretensioned] / topo.run_stretch
+    run_L0[topo.run_slacked] = length[topo.run_slacked] + topo.run_slack
+    if not checked and not (np.isfinite(xy).all() and (piece_len0 >= COINCIDENT_M).all()
+                            and (run_L0[topo.run_pretensioned] > 0).all() and (run_L0[topo.run_slacked] > 0).all()):
+        return compile_rig(rig, topo.motion)  # raises the RigModelError that names the first problem
+    s = System.__new__(System)
+    s.__dict__.update({name: t.__dict__[name] for name in _SYSTEM_FIELDS})
+    s.soft = None
+    s.rig, s.points = rig, pts
+    lo, hi = (xy.min(axis=0), xy.max(axis=0)) if len(pts) else (np.zeros(2), np.zeros(2))
+    s.size = float(max(np.hypot(*(hi - lo)), 1e-3))
     # solve about the drawing's centre: round-off then does not grow with the distance from the
     # site origin (a stiff contact times the last bit of a far-off coordinate is a real force)
-    sys_.xy0 = xy0 - sys_.origin
-    sys_.piece_len0 = np.array(piece_len0, dtype=float)
-    _finish(sys_)
-    return sys_
+    s.origin = 0.5 * (lo + hi)
+    s.xy0 = xy - s.origin
+    s.piece_len0 = piece_len0
+    s.run_L0 = run_L0
+    _component_sizes(s)
+    # bare passes (a knot, a hand) are spaced relative to the size of their part of the rig, so a
+    # part solves to the same numbers whether it is drawn alone or beside others
+    part_size = _per_piece(s, s.comp_size, s.size)
+    s_min = np.where(topo.hw_spacing > 0, topo.hw_spacing, BARE_MIN_SPACING * part_size)
+    s.s_min = np.minimum(s_min, 0.5 * s.piece_len0)
+    # the spacing contact only where a piece can close up: -inf elsewhere makes its penetration 0
+    s.s_min_on = np.where(s.contact_on, s.s_min, -np.inf)
+    s.run_L0_div = np.where(s.run_hauled, 1.0, s.run_L0) if s.n_runs else np.zeros(0)  # no 0 / 0 on hauled runs
+    return s
 
 
 def _pass_factor(rope_name: str, ps, hardware, where: str) -> tuple[int, float, float, str | None]:
@@ -443,19 +583,20 @@ def _pass_factor(rope_name: str, ps, hardware, where: str) -> tuple[int, float, 
 #: Index arrays of recently compiled topologies (see :func:`_topology`), most recent last.
 _TOPOLOGY_CACHE: dict[tuple, dict] = {}
 _TOPOLOGY_CACHE_SIZE = 16
-#: System fields that depend only on the topology key of :func:`_finish` (never mutated in place).
+#: System fields that depend only on the topology key of :func:`_finish_topology` (never mutated in place).
 _TOPOLOGY_FIELDS = ("piece_dofs", "contact_on", "pair_k", "pair_j", "pair_run", "n_comp", "dof_comp",
                     "run_comp", "piece_comp", "comp_label", "comp_rep", "k_keep", "k_src", "k_sgn", "k_rows", "k_cols",
                     "csc_map", "csc_indices", "csc_indptr", "dense_lin", "g_keep", "g_idx", "g_src", "g_sgn",
                     "run_on", "piece_on", "free_at", "ones", "run_tied")
 
 
-def _finish(s: System) -> None:
+def _finish_topology(s: System) -> None:
     """Build the assembly index arrays once: piece dofs, tied-run piece pairs, material masks.
 
     The index arrays depend only on which points are free, the pieces' end points and the
     runs' layout, so a rig that differs from a recent one only in coordinates or forces (a
-    dragged point, a force slider) reuses them; the coordinate-dependent parts are rebuilt.
+    dragged point, a force slider) reuses them; the coordinate-dependent parts are built by
+    :func:`with_geometry`.
     """
     key = (s.free.tobytes(), s.a.tobytes(), s.b.tobytes(), s.run_start.tobytes(), s.run_hauled.tobytes())
     topo = _TOPOLOGY_CACHE.pop(key, None)
@@ -471,16 +612,8 @@ def _finish(s: System) -> None:
         for name, value in topo.items():
             setattr(s, name, value)
     _TOPOLOGY_CACHE[key] = topo
-    _component_scales(s)
-    # bare passes (a knot, a hand) are spaced relative to the size of their part of the rig, so a
-    # part solves to the same numbers whether it is drawn alone or beside others
-    part_size = _per_piece(s, s.comp_size, s.size)
-    s.s_min = np.where(s.s_min > 0, s.s_min, BARE_MIN_SPACING * part_size)
-    s.s_min = np.minimum(s.s_min, 0.5 * s.piece_len0)
-    # the spacing contact only where a piece can close up: -inf elsewhere makes its penetration 0
-    s.s_min_on = np.where(s.contact_on, s.s_min, -np.inf)
+    _component_forces(s)
     s.haul_P_or_0 = np.where(s.run_hauled, s.run_P, 0.0) if s.n_runs else np.zeros(0)
-    s.run_L0_div = np.where(s.run_hauled, 1.0, s.run_L0) if s.n_runs else np.zeros(0)  # no 0 / 0 on hauled runs
     mbs = np.array([m.mbs_N for m in s.materials], dtype=float)
     s.piece_mbs = mbs[s.piece_mat] if s.n_pieces else np.zeros(0)
     s.has_edges = bool(np.any(s.pass_kind == PASS_EDGE))
@@ -588,11 +721,9 @@ def _components(s: System) -> None:
     s.piece_on = np.flatnonzero(s.piece_comp >= 0)
 
 
-def _component_scales(s: System) -> None:
-    """Size (m) and force scale (N) of each part, from the coordinates, forces and ropes of ``s``."""
-    nf = s.n_dof // 2
+def _component_sizes(s: System) -> None:
+    """Size of each part, m: the box around its free points and every point its pieces reach."""
     label = s.comp_label
-    # size of each part: the box around its free points and every point its pieces reach
     lo = np.full((s.n_comp, 2), np.inf)
     hi = np.full((s.n_comp, 2), -np.inf)
     pc = label
@@ -604,6 +735,12 @@ def _component_scales(s: System) -> None:
         np.minimum.at(lo, s.piece_comp[on], s.xy0[ends[on]])
         np.maximum.at(hi, s.piece_comp[on], s.xy0[ends[on]])
     s.comp_size = np.maximum(np.hypot(*(hi - lo).T), 1e-3) if s.n_comp else np.zeros(0)
+
+
+def _component_forces(s: System) -> None:
+    """Force scale of each part, N: its largest applied force, haul force or pretension (no coordinates)."""
+    nf = s.n_dof // 2
+    label = s.comp_label
     scale = np.zeros(s.n_comp)
     if nf:
         np.maximum.at(scale, label, np.hypot(s.F[0::2], s.F[1::2]))

@@ -26,10 +26,13 @@ from solver import friction
 from solver.assembly import (
     State,
     System,
-    compile_rig,
+    Topology,
+    compile_topology,
     contact_stiffness,
     evaluate,
+    same_structure,
     tangent_values,
+    with_geometry,
 )
 from solver.errors import RigModelError
 from solver.model import Rig
@@ -871,18 +874,25 @@ def _runaway_result(s: System, sol: _Solved) -> Result:
                           "under it)")
 
 
-#: Compiled systems of the last few rigs solved, by identity (a Rig is immutable, so the same
-#: object always compiles to the same arrays): re-solving a rig skips the index building.
-_CACHE: list[tuple[Rig, str | None, System]] = []
+#: Compiled systems of the last few rigs solved, with their topologies, most recent first.  A Rig
+#: is immutable, so the same object always compiles to the same arrays: re-solving a rig skips the
+#: compile; a moved copy of a recent rig (a drag step) only rebuilds the geometry.
+_CACHE: list[tuple[Rig, str | None, System, Topology]] = []
 _CACHE_SIZE = 4
 
 
 def _compiled(rig: Rig, motion: str | None) -> System:
-    for r, m, s in _CACHE:
+    for r, m, s, _ in _CACHE:
         if r is rig and m == motion:
             return s
-    s = compile_rig(rig, motion)
-    _CACHE.insert(0, (rig, motion, s))
+    for _, _, _, topo in _CACHE:
+        if same_structure(topo, rig, motion):
+            s = with_geometry(topo, rig)
+            break
+    else:
+        topo = compile_topology(rig, motion)  # = compile_rig, keeping the topology
+        s = with_geometry(topo, rig)
+    _CACHE.insert(0, (rig, motion, s, topo))
     del _CACHE[_CACHE_SIZE:]
     return s
 
