@@ -902,7 +902,7 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
     wmin, wmax = run_wmin[strict], run_wmax[strict]
     lo = t_lam / wmax
     hi = t_lam / wmin
-    t = 0.5 * (lo + hi)
+    t = 0.5 * (lo + hi)  # the root when the bracket is closed
     todo = (hi - lo > 1e-15 * hi).nonzero()[0]
     if len(todo):
         # pieces of the runs still to solve
@@ -913,7 +913,11 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         lk, wk, mk = l[pieces], w[pieces], s.piece_mat[pieces]
         kk = _kappa(s, pieces=pieces)
         L0 = s.run_L0[runs]
-        tt, lo_t, hi_t = t[todo], lo[todo], hi[todo]
+        lo_t, hi_t = lo[todo], hi[todo]
+        # start at the run's stretch tension over its length-weighted mean weight (inside the
+        # bracket; exact for a rope of constant stiffness in the limit of small strain)
+        w_mean = np.bincount(owner, lk * wk, minlength=len(runs)) / np.bincount(owner, lk, minlength=len(runs))
+        tt = np.clip(t_lam[todo] / w_mean, lo_t, hi_t)
         for _ in range(100):
             Tk = wk * tt[owner]
             e = by_material(s, mk, Tk, "strain", kk)
