@@ -149,6 +149,8 @@ class System:
     free_at: IntArray = field(default=None)  # indices of the free points
     ones: FloatArray = field(default=None)  # frictionless piece weights (shared, read-only)
     run_tied: NDArray[np.bool_] = field(default=None)  # runs not hauled
+    point_groups: "Grouping" = field(default=None)  # free points by part (per-part maxima)
+    piece_groups: "Grouping" = field(default=None)  # pieces by part (those with a part)
     s_min_on: FloatArray = field(default=None)  # s_min where the contact can act, -inf elsewhere
     haul_P_or_0: FloatArray = field(default=None)  # run_P on hauled runs, 0 on tied ones
     run_L0_div: FloatArray = field(default=None)  # run_L0 on tied runs, 1 on hauled ones
@@ -587,7 +589,7 @@ _TOPOLOGY_CACHE_SIZE = 16
 _TOPOLOGY_FIELDS = ("piece_dofs", "contact_on", "pair_k", "pair_j", "pair_run", "n_comp", "dof_comp",
                     "run_comp", "piece_comp", "comp_label", "comp_rep", "k_keep", "k_src", "k_sgn", "k_rows", "k_cols",
                     "csc_map", "csc_indices", "csc_indptr", "dense_lin", "g_keep", "g_idx", "g_src", "g_sgn",
-                    "run_on", "piece_on", "free_at", "ones", "run_tied")
+                    "run_on", "piece_on", "free_at", "ones", "run_tied", "point_groups", "piece_groups")
 
 
 def _finish_topology(s: System) -> None:
@@ -652,6 +654,37 @@ def _topology(s: System) -> None:
     s.free_at = np.flatnonzero(s.free)
     s.ones = np.ones(s.n_pieces)  # the frictionless piece weights (shared: never written to)
     s.run_tied = ~s.run_hauled
+    s.point_groups = Grouping.of(s.comp_label, s.n_comp)
+    s.piece_groups = Grouping.of(s.piece_comp, s.n_comp)
+
+
+@dataclass(frozen=True)
+class Grouping:
+    """Elements sorted by the part they belong to, for per-part maxima by ``np.maximum.reduceat``.
+
+    The same maxima as ``np.maximum.at(out, labels, values)`` (a maximum is exact, so the order
+    does not matter) without its per-element cost; elements labelled -1 belong to no part.
+    """
+
+    order: IntArray  # element indices, grouped by part
+    starts: IntArray  # where each non-empty part's elements begin in ``order``
+    parts: IntArray  # the part of each group
+
+    @classmethod
+    def of(cls, labels: IntArray, n_parts: int) -> Grouping:
+        on = np.flatnonzero(labels >= 0)
+        order = on[np.argsort(labels[on], kind="stable")]
+        ordered = labels[order]
+        starts = np.flatnonzero(np.r_[True, ordered[1:] != ordered[:-1]]) if len(order) else np.zeros(0, np.intp)
+        for arr in (order, starts, ordered):
+            arr.flags.writeable = False
+        return cls(order, starts, ordered[starts] if len(order) else np.zeros(0, np.intp))
+
+    def max_into(self, out: FloatArray, values: FloatArray) -> FloatArray:
+        """``out`` (one value per part, changed in place) raised to each part's largest element of ``values``."""
+        if len(self.order):
+            out[self.parts] = np.maximum(out[self.parts], np.maximum.reduceat(values[self.order], self.starts))
+        return out
 
 
 def _per_piece(s: System, per_comp: FloatArray, default: float) -> FloatArray:

@@ -153,10 +153,7 @@ def _comp_max(s: System, values: np.ndarray) -> np.ndarray:
     """Largest per-point value (``values`` per free point) within each part."""
     if s.n_comp == 1:
         return np.array([float(values.max()) if len(values) else 0.0])
-    out = np.zeros(s.n_comp)
-    if len(values):
-        np.maximum.at(out, s.dof_comp[0::2], values)
-    return out
+    return s.point_groups.max_into(np.zeros(s.n_comp), values)
 
 
 def _comp_scale(s: System, st: State) -> np.ndarray:
@@ -165,10 +162,7 @@ def _comp_scale(s: System, st: State) -> np.ndarray:
     if s.n_comp == 1:
         out[0] = max(out[0], float(np.abs(st.N).max()) if len(st.N) else 0.0)
         return out
-    on = s.piece_comp >= 0
-    if on.any():
-        np.maximum.at(out, s.piece_comp[on], np.abs(st.N[on]))
-    return out
+    return s.piece_groups.max_into(out, np.abs(st.N))
 
 
 def _sub(K, idx: np.ndarray, dense: bool):
