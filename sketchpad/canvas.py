@@ -610,8 +610,9 @@ class SketchView(QGraphicsView):
         cx, top = self.viewport().width() - m - s / 2, m + 4
         fm = QFontMetricsF(theme.font(theme.HUD_POINT_SIZE, bold=True))
         r = s * 0.72
+        upper = min(top + s * 0.62 - r, top - 1)  # the disc reaches above the arrow's tip
         bottom = max(top + s * 0.62 + r, top + s + fm.height() + 1)
-        return QRectF(cx - r, top - 1, 2 * r, bottom - top + 1).adjusted(-2, -2, 2, 2).toAlignedRect()
+        return QRectF(cx - r, upper, 2 * r, bottom - upper).adjusted(-2, -2, 2, 2).toAlignedRect()
 
     def scale_bar_length_m(self) -> float:
         """The scale bar's length in metres: a round number of display units near the target width."""
