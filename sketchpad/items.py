@@ -180,12 +180,10 @@ def _render(key: tuple, bounds: QRectF, dpr: float, phase: tuple[float, float], 
     return hit
 
 
-def blit_cached(painter: QPainter, origin: QPointF, dpr: float, key: tuple, bounds: QRectF, draw) -> None:
-    """Draw ``draw``'s shapes (cached by ``key``) with their origin at item point ``origin``, by blitting
-    a pixmap; ``painter`` must pass :func:`pixel_dpr`.  The origin is placed to a quarter device pixel."""
-    t = painter.worldTransform()
-    dx = (t.m11() * origin.x() + t.dx()) * dpr
-    dy = (t.m22() * origin.y() + t.dy()) * dpr
+def cached_blit_at(x: float, y: float, dpr: float, key: tuple, bounds: QRectF, draw) -> tuple[QPixmap, float, float]:
+    """The cached pixmap of ``draw``'s shapes (by ``key``) for their origin at device-independent pixel
+    (x, y), and the logical pixel its top-left corner goes to; the origin is placed to a quarter device pixel."""
+    dx, dy = x * dpr, y * dpr
     fx, fy = math.floor(dx), math.floor(dy)
     phase = (round((dx - fx) * PHASES) / PHASES, round((dy - fy) * PHASES) / PHASES)
     if phase[0] >= 1.0:
@@ -193,9 +191,17 @@ def blit_cached(painter: QPainter, origin: QPointF, dpr: float, key: tuple, boun
     if phase[1] >= 1.0:
         fy, phase = fy + 1, (phase[0], 0.0)
     pix, left, top = _render(key, bounds, dpr, phase, draw)
+    return pix, fx / dpr + left, fy / dpr + top
+
+
+def blit_cached(painter: QPainter, origin: QPointF, dpr: float, key: tuple, bounds: QRectF, draw) -> None:
+    """Draw ``draw``'s shapes (cached by ``key``) with their origin at item point ``origin``, by blitting
+    a pixmap; ``painter`` must pass :func:`pixel_dpr`.  The origin is placed to a quarter device pixel."""
+    t = painter.worldTransform()
+    pix, x, y = cached_blit_at(t.m11() * origin.x() + t.dx(), t.m22() * origin.y() + t.dy(), dpr, key, bounds, draw)
     painter.save()
     painter.setWorldTransform(QTransform())
-    painter.drawPixmap(QPointF(fx / dpr + left, fy / dpr + top), pix)
+    painter.drawPixmap(QPointF(x, y), pix)
     painter.restore()
 
 

@@ -49,7 +49,8 @@ from PySide6.QtGui import (
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
 
 from sketchpad import theme
-from sketchpad.items import blit_cached, pixel_dpr
+from sketchpad.items import blit_cached, cached_blit_at, pixel_dpr
+from sketchpad.retained import RetainedLayer
 from solver.model import Rig
 from solver.result import Result
 from solver.units import format_force
@@ -457,6 +458,12 @@ KEEP_PX = 0.75
 LEADER_DOT_PX = 1.8  # radius of the dot a leader starts from
 
 
+def _pixmap_entry(kind: str, pix: QPixmap, x: float, y: float) -> tuple:
+    """A retained-layer entry (``sketchpad.retained``) blitting ``pix`` with its top-left at (x, y) device px."""
+    return ((kind, pix.cacheKey(), x, y), QRect(math.floor(x) - 1, math.floor(y) - 1, pix.width() + 3, pix.height() + 3),
+            (pix, QPointF(x, y)))
+
+
 def _leader_end(x: float, y: float, w: float, h: float) -> tuple[float, float]:
     """The point of a label box (x, y, w, h px, relative to its anchor) nearest the anchor: where the leader ends."""
     return (min(max(0.0, x), x + w), min(max(0.0, y), y + h))
@@ -583,6 +590,8 @@ class ForceItem(_LayerItem):
         self._fail_pen = theme.pixel_pen(theme.BANNER_BACK, 3.0)
         self._size_cache: dict[str, tuple[float, float]] = {}
         self._pixmap_cache: dict[tuple, QPixmap] = {}
+        self._retained_marks = RetainedLayer()  # rings, arrows, leaders, labels as last painted
+        self._band_layers: dict[int, RetainedLayer] = {}  # per band colour
 
     # --- building (outside paint) ---------------------------------------------------------------
     def pen_for(self, colour: QColor, width: float) -> QPen:
@@ -723,6 +732,8 @@ class ForceItem(_LayerItem):
     # --- painting -----------------------------------------------------------------------------------
     def paint(self, painter: QPainter, option, widget=None) -> None:
         painter.setRenderHint(QPainter.Antialiasing, True)
+        if not self.grey and self._paint_retained(painter):
+            return
         if self.grey:
             painter.setOpacity(theme.OVERLAY_GREY_OPACITY)
         if self.grey or not self._paint_bands_layered(painter):
@@ -775,6 +786,127 @@ class ForceItem(_LayerItem):
             painter.setPen(self._fail_pen)
             painter.setBrush(Qt.NoBrush)
             painter.drawEllipse(t.map(QPointF(*self.fail_point)), theme.FAIL_RING_PX, theme.FAIL_RING_PX)
+
+    def _paint_retained(self, painter: QPainter) -> bool:
+        """On screen: bands, rings, arrows, leaders and labels kept in retained layers (``sketchpad.retained``)
+        and redrawn only where something changed, then laid down in the order :meth:`paint` draws them.
+
+        A drag step changes the labels and bands of the moved part of the rig only, so the frame
+        costs in proportion to that.  Only for raster painting at 1:1 device pixels with a plain
+        zoom (not greyed); returns False (and draws nothing) otherwise.
+        """
+        if self._draw_for is not self.labels or self._draw_grey != self.grey:
+            return False
+        engine = painter.paintEngine()
+        device = painter.device()
+        t = painter.worldTransform()
+        if (engine is None or engine.type() != QPaintEngine.Raster or painter.viewTransformEnabled()
+                or device.devicePixelRatioF() != 1.0 or t.m12() != 0.0 or t.m21() != 0.0 or not t.isAffine()
+                or painter.opacity() != 1.0):
+            return False
+        m11, m22, dx, dy = t.m11(), t.m22(), t.dx(), t.dy()
+        area = QRect(0, 0, device.width(), device.height())
+        bands = self._retained_bands(m11, m22, dx, dy, area)
+        if bands is None:
+            return False
+        marks = self._retained_marks.update((m11, m22, dx, dy), area, self._mark_entries(m11, m22, dx, dy))
+        painter.save()
+        painter.resetTransform()
+        for image, at, alpha in bands:
+            painter.setOpacity(alpha)
+            painter.drawImage(at, image)
+        painter.setOpacity(1.0)
+        painter.drawImage(area.topLeft(), marks)
+        painter.restore()
+        return True
+
+    def _mark_entries(self, m11: float, m22: float, dx: float, dy: float):
+        """(key, device box, op) of the solved-point rings, anchor arrows, leaders and labels, in paint order."""
+        out = []
+        r = theme.OVERLAY_SOLVED_POINT_PX
+        reach = r + 2.0
+        ring_bounds = QRectF(-reach, -reach, 2 * reach, 2 * reach)
+        for mx, my in self.moved_points:
+            pix, x, y = cached_blit_at(mx * m11 + dx, my * m22 + dy, 1.0, ("solved-ring", r), ring_bounds,
+                                       self._draw_ring)
+            out.append(_pixmap_entry("ring", pix, x, y))
+        reach = theme.ANCHOR_ARROW_PX + theme.ANCHOR_ARROW_WIDTH_PX
+        arrow_bounds = QRectF(-reach, -reach, 2 * reach, 2 * reach)
+        for arrow in self.arrows:
+            colour = arrow.colour
+            pix, x, y = cached_blit_at(arrow.base[0] * m11 + dx, arrow.base[1] * m22 + dy, 1.0,
+                                       ("anchor-arrow", arrow.direction, colour.rgba()), arrow_bounds,
+                                       lambda p, a=arrow, c=colour: self._draw_arrow(p, QPointF(0.0, 0.0), a.direction, c))
+            out.append(_pixmap_entry("arrow", pix, x, y))
+        for ax, ay, x, y, w, h, leader, pix in self._draw:
+            px, py = ax * m11 + dx, ay * m22 + dy
+            if leader:
+                ex, ey = _leader_end(x, y, w, h)
+                lpix, lx, ly = cached_blit_at(px, py, 1.0, ("leader", ex, ey),
+                                              QRectF(min(ex, 0.0), min(ey, 0.0), abs(ex), abs(ey)).adjusted(-3, -3, 3, 3),
+                                              lambda p, ex=ex, ey=ey: self._draw_leader(p, ex, ey))
+                out.append(_pixmap_entry("leader", lpix, lx, ly))
+            out.append(_pixmap_entry("label", pix, px + x, py + y))
+        return out
+
+    def _retained_bands(self, m11: float, m22: float, dx: float, dy: float, area: QRect):
+        """(image, top-left, alpha) per utilization band, each a retained layer of opaque pieces laid down
+        at the band's alpha (see :meth:`_paint_bands_layered`); None when the layers would be too large."""
+        if len(self.band_ends) != len(self.bands):
+            return None
+        half = theme.OVERLAY_BAND_PX / 2.0
+        pad = int(math.ceil(half)) + 3
+        out = []
+        total = 0
+        live = set()
+        for (pen, _path), ends in zip(self.bands, self.band_ends):
+            colour = QColor(pen.color())
+            alpha = colour.alphaF()
+            colour.setAlpha(255)
+            rgba = colour.rgba()
+            pts = [(x * m11 + dx, y * m22 + dy) for x, y in ends]
+            if not pts:
+                continue
+            xs, ys = [q[0] for q in pts], [q[1] for q in pts]
+            # the layer's area snapped to 64 px, so a piece moving a little does not resize it
+            g = 64
+            x0, y0 = (math.floor(min(xs)) - pad) // g * g, (math.floor(min(ys)) - pad) // g * g
+            x1, y1 = (math.ceil(max(xs)) + pad) // g * g + g, (math.ceil(max(ys)) + pad) // g * g + g
+            r = QRect(x0, y0, x1 - x0, y1 - y0).intersected(area)
+            if r.isEmpty():
+                continue
+            total += r.width() * r.height()
+            if total > 2 * area.width() * area.height():
+                return None  # zoomed far in with many bands: layers would cost more than they save
+            flat = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
+            entries = []
+            for i in range(0, len(pts) - 1, 2):
+                a, b = pts[i], pts[i + 1]
+                box = QRect(math.floor(min(a[0], b[0])) - pad, math.floor(min(a[1], b[1])) - pad,
+                            math.ceil(abs(a[0] - b[0])) + 2 * pad + 1, math.ceil(abs(a[1] - b[1])) + 2 * pad + 1)
+                entries.append(((a, b), box, lambda p, a=a, b=b: self._draw_band_piece(p, flat, rgba, half, a, b)))
+            layer = self._band_layers.get(rgba)
+            if layer is None:
+                layer = self._band_layers[rgba] = RetainedLayer()
+            live.add(rgba)
+            out.append((layer.update((m11, m22, dx, dy, rgba), r, entries), r.topLeft(), alpha))
+        for rgba in [k for k in self._band_layers if k not in live]:
+            del self._band_layers[rgba]
+        return out
+
+    def _draw_band_piece(self, p: QPainter, flat: QPen, rgba: int, half: float, a, b) -> None:
+        """One opaque band piece (device px): a flat-capped stroke and a disc at each end (the round caps)."""
+        p.setPen(flat)
+        p.drawLine(QPointF(*a), QPointF(*b))
+        c = int(math.ceil(half)) + 1
+        for x, y in (a, b):
+            ix, iy = math.floor(x), math.floor(y)
+            fx, fy = round((x - ix) * 4) / 4, round((y - iy) * 4) / 4
+            if fx >= 1.0:
+                ix, fx = ix + 1, 0.0
+            if fy >= 1.0:
+                iy, fy = iy + 1, 0.0
+            p.drawPixmap(ix - c, iy - c, self._band_dot(rgba, fx, fy, half))
 
     def _paint_bands_layered(self, painter: QPainter) -> bool:
         """The utilization bands, drawn opaque into a layer per band and laid down at the band's alpha.

@@ -1,0 +1,149 @@
+"""Frames drawn from caches (retained overlay layers, the cached grid and HUD) look like frames drawn afresh."""
+
+from __future__ import annotations
+
+import random
+
+import numpy as np
+import pytest
+from PySide6.QtCore import QPointF, QRect, QRectF, Qt
+from PySide6.QtGui import QColor, QImage, QPainter, QPixmap, QTransform
+from PySide6.QtWidgets import QApplication
+
+from sketchpad.retained import RetainedLayer
+from tests.sketchpad.test_overlay import open_sample
+
+# Compositing the same drawables into a layer first and then onto the canvas, or straight onto the
+# canvas, differs only by 8-bit rounding of premultiplied colours: a channel may be off by a few units.
+ROUNDING = 3
+
+
+def pixels(image: QImage) -> np.ndarray:
+    im = image.convertToFormat(QImage.Format_RGBA8888)
+    rows = np.frombuffer(im.constBits(), np.uint8).reshape(im.height(), im.bytesPerLine() // 4, 4)
+    return rows[:, : im.width()].astype(int)
+
+
+def fresh(size: tuple[int, int], entries) -> QImage:
+    """Every drawable painted afresh, in order, onto a transparent image."""
+    image = QImage(size[0], size[1], QImage.Format_ARGB32_Premultiplied)
+    image.fill(Qt.transparent)
+    p = QPainter(image)
+    p.setRenderHint(QPainter.Antialiasing, True)
+    for _key, _box, (pix, at) in entries:
+        p.drawPixmap(at, pix)
+    p.end()
+    return image
+
+
+def test_a_retained_layer_redrawn_only_where_drawables_changed_equals_one_drawn_afresh():
+    rng = random.Random(5)
+    swatches = []
+    for i in range(6):  # translucent chips that overlap each other
+        pix = QPixmap(14 + 5 * i, 9 + 3 * i)
+        pix.fill(QColor.fromHsv(60 * i, 200, 220, 90 + 25 * i))
+        swatches.append(pix)
+
+    def entry(k, x, y):
+        pix = swatches[k]
+        return ((k, x, y), QRect(int(x) - 1, int(y) - 1, pix.width() + 3, pix.height() + 3), (pix, QPointF(x, y)))
+
+    things = [(rng.randrange(6), rng.uniform(0, 180), rng.uniform(0, 120)) for _ in range(40)]
+    layer = RetainedLayer()
+    area = QRect(0, 0, 220, 150)
+    for step in range(25):
+        for _ in range(rng.randrange(1, 4)):  # a few drawables move, appear or go away, as in a drag
+            i = rng.randrange(len(things))
+            k, x, y = things[i]
+            if rng.random() < 0.7:
+                things[i] = (k, x + rng.uniform(-6, 6), y + rng.uniform(-6, 6))
+            else:
+                things[i] = (rng.randrange(6), rng.uniform(0, 180), rng.uniform(0, 120))
+        entries = [entry(*t) for t in things]
+        got = pixels(layer.update(("frame",), area, entries))
+        want = pixels(fresh((220, 150), entries))
+        assert np.abs(got - want).max() <= ROUNDING, f"step {step}"
+    assert layer.partial_redraws >= 20  # the layer was mostly patched, not redrawn
+
+
+def test_duplicate_drawables_are_each_kept_once_one_of_them_goes():
+    pix = QPixmap(10, 10)
+    pix.fill(QColor(200, 0, 0, 100))
+    e = ((1,), QRect(4, 4, 13, 13), (pix, QPointF(5, 5)))
+    layer = RetainedLayer()
+    area = QRect(0, 0, 30, 30)
+    two = pixels(layer.update(("f",), area, [e, e])).copy()
+    one = pixels(layer.update(("f",), area, [e]))
+    assert np.abs(one - pixels(fresh((30, 30), [e]))).max() <= ROUNDING
+    assert (two[8, 8, 3] > one[8, 8, 3])  # two translucent layers were more opaque than one
+
+
+def test_the_overlay_after_a_drag_through_the_viewport_matches_the_overlay_drawn_afresh(main_window, mouse, qtbot):
+    open_sample(main_window, "two-point-anchor.rig.json")
+    sched, vp = main_window.live.scheduler, main_window.view.viewport()
+    item = main_window.live.overlay.force_item
+    h = main_window.document.rig.point("H1")
+    mouse.press(h.x, h.y)
+    for i in range(1, 7):
+        mouse.move(h.x + 0.3 * i, h.y - 0.5 * i)
+        qtbot.waitUntil(lambda: sched.result is not None and sched.result.revision == main_window.document.revision,
+                        timeout=3000)
+        vp.repaint()  # a frame per step, as the screen shows them
+    assert item._retained_marks.partial_redraws > 0  # drag frames were patched, not drawn afresh
+    patched = pixels(vp.grab().toImage())
+    item._retained_marks.clear()
+    for layer in item._band_layers.values():
+        layer.clear()
+    drawn_afresh = pixels(vp.grab().toImage())
+    assert np.abs(patched - drawn_afresh).max() <= ROUNDING
+    mouse.release(h.x + 1.8, h.y - 3.0)
+
+
+def test_the_cached_grid_follows_zoom_and_the_grid_toggle(main_window):
+    view, vp = main_window.view, main_window.view.viewport()
+
+    def direct() -> np.ndarray:
+        """The background drawn straight into an image through the view's transform (no cache)."""
+        image = QImage(vp.width(), vp.height(), QImage.Format_ARGB32_Premultiplied)
+        p = QPainter(image)
+        p.setTransform(view.viewportTransform())
+        view._paint_background(p, view.viewportTransform().inverted()[0].mapRect(QRectF(vp.rect())))
+        p.end()
+        return pixels(image)
+
+    middle = (slice(100, vp.height() - 100), slice(120, vp.width() - 140))  # clear of the scale bar and arrow
+    for step in ("start", "zoom", "grid off", "grid on", "zoom out"):
+        if step == "zoom":
+            view.zoom_at(1.7, vp.rect().center())
+        elif step == "zoom out":
+            view.zoom_at(0.2, vp.rect().center())
+        elif step.startswith("grid"):
+            main_window.action_grid.setChecked(step == "grid on")
+        shown = pixels(vp.grab().toImage())
+        assert np.array_equal(shown[middle], direct()[middle]), step
+
+
+@pytest.mark.parametrize("unit", ["metric", "imperial"])
+def test_the_scale_bar_and_north_arrow_fit_the_rects_their_cached_pixmaps_cover(main_window, unit):
+    view, vp = main_window.view, main_window.view.viewport()
+    main_window.set_units(unit)
+    lengths = set()
+    for factor in (1.0, 3.0, 0.25, 11.0):
+        view.zoom_at(factor, vp.rect().center())
+        image = QImage(vp.width(), vp.height(), QImage.Format_ARGB32_Premultiplied)
+        image.fill(Qt.transparent)
+        p = QPainter(image)
+        p.setRenderHint(QPainter.Antialiasing, True)
+        view._draw_scale_bar(p)
+        view._draw_orientation(p)
+        p.end()
+        inked = pixels(image)[:, :, 3] > 0
+        covered = np.zeros_like(inked)
+        for r in (view._scale_bar_rect(view.scale_bar_length_m()), view._orientation_rect()):
+            covered[r.top():r.bottom() + 1, r.left():r.right() + 1] = True
+        assert inked.any() and not (inked & ~covered).any(), f"zoom x{factor}: HUD ink outside its cached rect"
+        lengths.add(view.scale_bar_length_m())
+        bar = view._scale_bar_rect(view.scale_bar_length_m())
+        shown = pixels(vp.grab().toImage())[bar.top():bar.bottom(), bar.left():bar.right()]
+        assert np.abs(shown[:, :, 3] - 255).max() == 0  # drawn over the paper, not left transparent
+    assert len(lengths) >= 3  # the bar's length followed the zoom
