@@ -464,6 +464,15 @@ def _pixmap_entry(kind: str, pix: QPixmap, x: float, y: float) -> tuple:
             (pix, QPointF(x, y)))
 
 
+def _arrow_bounds(direction: tuple[float, float]) -> QRectF:
+    """Pixels (relative to the anchor) an anchor arrow along the unit ``direction`` can touch: shaft and head."""
+    dx, dy = direction
+    a = (dx * MARKER_CLEAR_PX, dy * MARKER_CLEAR_PX)
+    b = (dx * theme.ANCHOR_ARROW_PX, dy * theme.ANCHOR_ARROW_PX)
+    m = max(theme.ANCHOR_ARROW_HEAD_PX * 0.5, theme.ANCHOR_ARROW_WIDTH_PX) + 2.0
+    return QRectF(min(a[0], b[0]), min(a[1], b[1]), abs(b[0] - a[0]), abs(b[1] - a[1])).adjusted(-m, -m, m, m)
+
+
 def _leader_end(x: float, y: float, w: float, h: float) -> tuple[float, float]:
     """The point of a label box (x, y, w, h px, relative to its anchor) nearest the anchor: where the leader ends."""
     return (min(max(0.0, x), x + w), min(max(0.0, y), y + h))
@@ -830,12 +839,10 @@ class ForceItem(_LayerItem):
             pix, x, y = cached_blit_at(mx * m11 + dx, my * m22 + dy, 1.0, ("solved-ring", r), ring_bounds,
                                        self._draw_ring)
             out.append(_pixmap_entry("ring", pix, x, y))
-        reach = theme.ANCHOR_ARROW_PX + theme.ANCHOR_ARROW_WIDTH_PX
-        arrow_bounds = QRectF(-reach, -reach, 2 * reach, 2 * reach)
         for arrow in self.arrows:
             colour = arrow.colour
             pix, x, y = cached_blit_at(arrow.base[0] * m11 + dx, arrow.base[1] * m22 + dy, 1.0,
-                                       ("anchor-arrow", arrow.direction, colour.rgba()), arrow_bounds,
+                                       ("anchor-arrow", arrow.direction, colour.rgba()), _arrow_bounds(arrow.direction),
                                        lambda p, a=arrow, c=colour: self._draw_arrow(p, QPointF(0.0, 0.0), a.direction, c))
             out.append(_pixmap_entry("arrow", pix, x, y))
         for ax, ay, x, y, w, h, leader, pix in self._draw:
@@ -995,9 +1002,7 @@ class ForceItem(_LayerItem):
         colour = theme.OVERLAY_GREY if self.grey else arrow.colour
         base = t.map(QPointF(*arrow.base))
         if dpr is not None:  # on screen: arrows that did not change (most, during a drag) are blitted
-            reach = theme.ANCHOR_ARROW_PX + theme.ANCHOR_ARROW_WIDTH_PX
-            blit_cached(painter, base, dpr, ("anchor-arrow", arrow.direction, colour.rgba()),
-                        QRectF(-reach, -reach, 2 * reach, 2 * reach),
+            blit_cached(painter, base, dpr, ("anchor-arrow", arrow.direction, colour.rgba()), _arrow_bounds(arrow.direction),
                         lambda p: self._draw_arrow(p, QPointF(0.0, 0.0), arrow.direction, colour))
             return
         self._draw_arrow(painter, base, arrow.direction, colour)
