@@ -148,11 +148,23 @@ def fmt_angle(deg: float) -> str:
     return f"{deg:.0f}°" if abs(deg) >= 10 else f"{deg:.1f}°"
 
 
-def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[OverlayLabel], list[AnchorArrow]]:
-    """Labels and anchor arrows for an ok ``result`` of ``rig`` with the ``layers`` shown (numbers from the Result)."""
+def build_labels(rig: Rig, result: Result, layers: Iterable[str],
+                 memo: dict | None = None) -> tuple[list[OverlayLabel], list[AnchorArrow]]:
+    """Labels and anchor arrows for an ok ``result`` of ``rig`` with the ``layers`` shown (numbers from the Result).
+
+    ``memo`` (a dict the caller keeps between calls) reuses the label of a piece, pass or point
+    whose numbers, names and positions are exactly those of the last call: during a drag only the
+    moved part of the rig gets new labels (the rest of the result is bit-for-bit the same).
+    """
     layers = set(layers)
     unit = rig.display.force
     sf = float(rig.settings.min_safety_factor)
+    context = (unit, sf, frozenset(layers))
+    old: dict = {}
+    if memo is not None:
+        if memo.get("_context") == context:
+            old = memo
+        memo_new: dict = {"_context": context}
     points = {p.id: p for p in rig.points}  # dict look-ups: Rig.point() is a linear search
     ropes = {r.id: r for r in rig.ropes}
     pos = {pid: _scene(p.xy) for pid, p in points.items()}
@@ -166,19 +178,25 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[
             if s.from_point not in pos or s.to_point not in pos:
                 continue
             a, b = pos[s.from_point], pos[s.to_point]
-            lines = []
-            slack = s.tension_N <= SLACK_N
-            if "tensions" in layers:
-                lines.append("slack" if slack else format_force(s.tension_N, unit))
-            if "stretch" in layers and not slack:
-                lines.append(f"{s.strain * 100:.1f} % stretch")
-            if not lines:
-                continue
-            labels.append(OverlayLabel(
-                kind="tension", key=(s.rope, s.index), lines=tuple(lines),
-                values={"tension_N": s.tension_N, "strain": s.strain, "utilization": s.utilization},
-                colour=theme.utilization_colour(s.utilization), priority=50.0 + 10.0 * min(s.utilization, 3.0),
-                base=a, end=b))
+            key = ("t", s.rope, s.index, s.tension_N, s.strain, s.utilization, a, b)
+            lab = old.get(key)
+            if lab is None:
+                lines = []
+                slack = s.tension_N <= SLACK_N
+                if "tensions" in layers:
+                    lines.append("slack" if slack else format_force(s.tension_N, unit))
+                if "stretch" in layers and not slack:
+                    lines.append(f"{s.strain * 100:.1f} % stretch")
+                if not lines:
+                    continue
+                lab = OverlayLabel(
+                    kind="tension", key=(s.rope, s.index), lines=tuple(lines),
+                    values={"tension_N": s.tension_N, "strain": s.strain, "utilization": s.utilization},
+                    colour=theme.utilization_colour(s.utilization), priority=50.0 + 10.0 * min(s.utilization, 3.0),
+                    base=a, end=b)
+            if memo is not None:
+                memo_new[key] = lab
+            labels.append(lab)
 
     if "angles" in layers:
         keys = pass_keys(rig)
@@ -193,75 +211,104 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[
                 continue
             at = pos[ps.at]
             prev, nxt = pos.get(rope.path[j - 1].at, at), pos.get(rope.path[j + 1].at, at)
-            u1, u2 = _unit(prev[0] - at[0], prev[1] - at[1]), _unit(nxt[0] - at[0], nxt[1] - at[1])
-            outward = _unit(-(u1[0] + u2[0]), -(u1[1] + u2[1]))  # away from both legs: outside the bight
             point = points.get(ps.at)
             hand = point is not None and not point.is_fixed and ps.at in forced
-            lines = [f"turn {fmt_angle(turn)}"]
-            values = {"turn_deg": float(turn)}
-            if hand:
-                lines.append(f"off line {fmt_angle(turn / 2.0)}")
-                values["off_line_deg"] = float(turn) / 2.0
-            labels.append(OverlayLabel(kind="angle", key=key, lines=tuple(lines), values=values,
-                                       colour=theme.ANGLE_TEXT, priority=30.0 + (5.0 if hand else 0.0),
-                                       base=at, prefer=outward))
+            mkey = ("a", key, turn, at, prev, nxt, hand)
+            lab = old.get(mkey)
+            if lab is None:
+                u1, u2 = _unit(prev[0] - at[0], prev[1] - at[1]), _unit(nxt[0] - at[0], nxt[1] - at[1])
+                outward = _unit(-(u1[0] + u2[0]), -(u1[1] + u2[1]))  # away from both legs: outside the bight
+                lines = [f"turn {fmt_angle(turn)}"]
+                values = {"turn_deg": float(turn)}
+                if hand:
+                    lines.append(f"off line {fmt_angle(turn / 2.0)}")
+                    values["off_line_deg"] = float(turn) / 2.0
+                lab = OverlayLabel(kind="angle", key=key, lines=tuple(lines), values=values,
+                                   colour=theme.ANGLE_TEXT, priority=30.0 + (5.0 if hand else 0.0),
+                                   base=at, prefer=outward)
+            if memo is not None:
+                memo_new[mkey] = lab
+            labels.append(lab)
 
     if "anchors" in layers:
         for aid, a in result.anchors.items():
             p = points.get(aid)
             if aid not in pos or p is None:
                 continue
-            rad = math.radians(a.direction_deg)
-            d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
-            colour = theme.utilization_colour(a.utilization)
-            lines = [f"{p.name} {format_force(a.force_N, unit)}"]
-            if a.utilization is not None:
-                lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
-            else:
-                lines.append("capacity not known")
             hold = result.hold_anchor_range.get(aid)
-            values = {"force_N": a.force_N, "direction_deg": a.direction_deg}
-            if a.utilization is not None:
-                values["utilization"] = a.utilization
-            if hold is not None:
-                lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
-                values.update(hold_low_N=hold.low, hold_high_N=hold.high)
-            if a.force_N > SLACK_N:
-                arrows.append(AnchorArrow(aid, pos[aid], d, colour))
-            labels.append(OverlayLabel(kind="anchor", key=aid, lines=tuple(lines), values=values, colour=colour,
-                                       priority=90.0 + min(a.utilization or 0.0, 3.0), base=pos[aid], prefer=d))
+            mkey = ("n", aid, a, p.name, hold, pos[aid])
+            hit = old.get(mkey)
+            if hit is None:
+                rad = math.radians(a.direction_deg)
+                d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
+                colour = theme.utilization_colour(a.utilization)
+                lines = [f"{p.name} {format_force(a.force_N, unit)}"]
+                if a.utilization is not None:
+                    lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
+                else:
+                    lines.append("capacity not known")
+                values = {"force_N": a.force_N, "direction_deg": a.direction_deg}
+                if a.utilization is not None:
+                    values["utilization"] = a.utilization
+                if hold is not None:
+                    lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
+                    values.update(hold_low_N=hold.low, hold_high_N=hold.high)
+                arrow = AnchorArrow(aid, pos[aid], d, colour) if a.force_N > SLACK_N else None
+                lab = OverlayLabel(kind="anchor", key=aid, lines=tuple(lines), values=values, colour=colour,
+                                   priority=90.0 + min(a.utilization or 0.0, 3.0), base=pos[aid], prefer=d)
+                hit = (lab, arrow)
+            if memo is not None:
+                memo_new[mkey] = hit
+            if hit[1] is not None:
+                arrows.append(hit[1])
+            labels.append(hit[0])
         for lid, f in result.loads.items():
             p = points.get(lid)
             if lid not in pos or p is None:
                 continue
-            rad = math.radians(f.direction_deg)
-            d = (math.cos(rad), -math.sin(rad))
-            lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
-            values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
-            colour = QColor(theme.UTIL_RAMP[0][1])
-            if p.required_N is not None:
-                enough = f.force_N >= p.required_N
-                lines.append(f"needs {format_force(p.required_N, unit)}" + ("" if enough else " — short"))
-                values["required_N"] = float(p.required_N)
-                colour = QColor(theme.UTIL_RAMP[0][1] if enough else theme.UTIL_RAMP[-1][1])
-            labels.append(OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
-                                       priority=95.0, base=pos[lid], prefer=(-d[0], -d[1])))
+            mkey = ("l", lid, f, p.name, p.required_N, pos[lid])
+            lab = old.get(mkey)
+            if lab is None:
+                rad = math.radians(f.direction_deg)
+                d = (math.cos(rad), -math.sin(rad))
+                lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
+                values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
+                colour = QColor(theme.UTIL_RAMP[0][1])
+                if p.required_N is not None:
+                    enough = f.force_N >= p.required_N
+                    lines.append(f"needs {format_force(p.required_N, unit)}" + ("" if enough else " — short"))
+                    values["required_N"] = float(p.required_N)
+                    colour = QColor(theme.UTIL_RAMP[0][1] if enough else theme.UTIL_RAMP[-1][1])
+                lab = OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
+                                   priority=95.0, base=pos[lid], prefer=(-d[0], -d[1]))
+            if memo is not None:
+                memo_new[mkey] = lab
+            labels.append(lab)
         for hid, force in result.haul.items():
             p = points.get(hid)
             if hid not in pos or p is None:
                 continue
-            lines = [f"haul {format_force(force, unit)}"]
-            values = {"force_N": float(force)}
-            if p.team:
-                each = force / p.team
-                lines.append(f"{p.team} × {format_force(each, unit)} each")
-                values.update(team=float(p.team), per_hauler_N=each)
             hold = result.hold_haul_range.get(hid)
-            if hold is not None:
-                lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
-                values.update(hold_low_N=hold.low, hold_high_N=hold.high)
-            labels.append(OverlayLabel(kind="haul", key=hid, lines=tuple(lines), values=values,
-                                       colour=QColor(theme.POINT_FILL["haul"]), priority=94.0, base=pos[hid]))
+            mkey = ("h", hid, force, p.name, p.team, hold, pos[hid])
+            lab = old.get(mkey)
+            if lab is None:
+                lines = [f"haul {format_force(force, unit)}"]
+                values = {"force_N": float(force)}
+                if p.team:
+                    each = force / p.team
+                    lines.append(f"{p.team} × {format_force(each, unit)} each")
+                    values.update(team=float(p.team), per_hauler_N=each)
+                if hold is not None:
+                    lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
+                    values.update(hold_low_N=hold.low, hold_high_N=hold.high)
+                lab = OverlayLabel(kind="haul", key=hid, lines=tuple(lines), values=values,
+                                   colour=QColor(theme.POINT_FILL["haul"]), priority=94.0, base=pos[hid])
+            if memo is not None:
+                memo_new[mkey] = lab
+            labels.append(lab)
+    if memo is not None:
+        memo.clear()
+        memo.update(memo_new)
     return labels, arrows
 
 
@@ -1208,6 +1255,7 @@ class ResultOverlay(QObject):
         self.layer_actions: dict[str, QAction] = {}
         self._memo: dict = {}
         self._memo_scale = 0.0
+        self._label_memo: dict = {}  # build_labels' reuse of unchanged labels between solves
         self._zones_due = True
         self._name_fm = QFontMetricsF(theme.font())
         self._name_box_cache: dict[tuple[str, str], tuple[float, float, float, float]] = {}
@@ -1294,7 +1342,7 @@ class ResultOverlay(QObject):
             return
         rig, result = self.rig, self.result
         self.pieces = self.force_item.set_bands(rig, result)
-        labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on])
+        labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on], self._label_memo)
         self.force_item.labels, self.force_item.arrows = labels, arrows
         if self.layers["zones"] and not getattr(self, "_zones_due", True):
             pass  # a drag step: zones follow the settled result

@@ -1,4 +1,4 @@
-"""Frames drawn from caches (retained overlay layers, the cached grid and HUD) look like frames drawn afresh."""
+"""Work saved between frames (memoised labels, retained overlay layers, the cached grid and HUD) changes nothing shown."""
 
 from __future__ import annotations
 
@@ -111,7 +111,8 @@ def test_the_cached_grid_follows_zoom_and_the_grid_toggle(main_window):
         p.end()
         return pixels(image)
 
-    middle = (slice(100, vp.height() - 100), slice(120, vp.width() - 140))  # clear of the scale bar and arrow
+    # clear of the scale bar, the north arrow, the banner and the legend (which an empty rig's solve may show)
+    middle = (slice(100, vp.height() - 300), slice(120, vp.width() - 300))
     for step in ("start", "zoom", "grid off", "grid on", "zoom out"):
         if step == "zoom":
             view.zoom_at(1.7, vp.rect().center())
@@ -120,7 +121,9 @@ def test_the_cached_grid_follows_zoom_and_the_grid_toggle(main_window):
         elif step.startswith("grid"):
             main_window.action_grid.setChecked(step == "grid on")
         shown = pixels(vp.grab().toImage())
-        assert np.array_equal(shown[middle], direct()[middle]), step
+        d = np.abs(shown[middle] - direct()[middle]).max(axis=2)
+        ys, xs = np.nonzero(d)
+        assert not len(ys), (step, len(ys), xs.min(), xs.max(), ys.min(), ys.max(), d.max())
 
 
 @pytest.mark.parametrize("unit", ["metric", "imperial"])
@@ -147,3 +150,40 @@ def test_the_scale_bar_and_north_arrow_fit_the_rects_their_cached_pixmaps_cover(
         shown = pixels(vp.grab().toImage())[bar.top():bar.bottom(), bar.left():bar.right()]
         assert np.abs(shown[:, :, 3] - 255).max() == 0  # drawn over the paper, not left transparent
     assert len(lengths) >= 3  # the bar's length followed the zoom
+
+
+def _label_fields(lab) -> tuple:
+    return (lab.kind, lab.key, lab.lines, dict(lab.values), lab.colour.rgba(), lab.priority, lab.base, lab.end, lab.prefer)
+
+
+def test_labels_reused_between_drag_solves_equal_labels_built_afresh():
+    from sketchpad.live_solve import warm_start
+    from sketchpad.overlay import LAYERS, build_labels
+    from solver.equilibrium import solve
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    rig = fifty_rope_rig()
+    h = rig.point("H4")
+    memo: dict = {}
+    prev_rig, prev = rig, solve(rig)
+    reused = 0
+    for i in range(1, 6):
+        moved = rig.moved("H4", h.x + 1.5 * i, h.y - 0.5 * i)
+        res = solve(moved, start=warm_start(moved, prev_rig, prev))
+        assert res.ok, res.message
+        before = {id(v[0] if isinstance(v, tuple) else v) for k, v in memo.items() if k != "_context"}
+        got, got_arrows = build_labels(moved, res, LAYERS, memo)
+        want, want_arrows = build_labels(moved, res, LAYERS)
+        assert [_label_fields(a) for a in got] == [_label_fields(b) for b in want]
+        assert [(a.point_id, a.base, a.direction, a.colour.rgba()) for a in got_arrows] == \
+            [(a.point_id, a.base, a.direction, a.colour.rgba()) for a in want_arrows]
+        reused += sum(id(lab) in before for lab in got)
+        prev_rig, prev = moved, res
+    assert reused > 100  # the parts of the rig the drag did not touch kept their labels
+    # a change of display unit builds every label again, in the new unit
+    from sketchpad.tools import set_display
+
+    in_lbf = set_display(prev_rig, "ft", "lbf")
+    got, _ = build_labels(in_lbf, prev, LAYERS, memo)
+    tension_lines = [lab.lines[0] for lab in got if lab.kind == "tension" and lab.lines[0] != "slack"]
+    assert tension_lines and all(line.endswith("lbf") for line in tension_lines)
