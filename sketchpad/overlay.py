@@ -648,6 +648,9 @@ class ForceItem(_LayerItem):
         self._pixmap_cache: dict[tuple, QPixmap] = {}
         self._retained_marks = RetainedLayer()  # rings, arrows, leaders, labels as last painted
         self._band_layers: dict[int, RetainedLayer] = {}  # per band colour
+        self._entry_memo: dict = {}  # retained-layer entries of the last frame, by what they show
+        self._band_memo: dict = {}
+        self._flat_pens: dict[int, QPen] = {}
 
     # --- building (outside paint) ---------------------------------------------------------------
     def pen_for(self, colour: QColor, width: float) -> QPen:
@@ -877,30 +880,55 @@ class ForceItem(_LayerItem):
         return True
 
     def _mark_entries(self, m11: float, m22: float, dx: float, dy: float):
-        """(key, device box, op) of the solved-point rings, anchor arrows, leaders and labels, in paint order."""
+        """(key, device box, op) of the solved-point rings, anchor arrows, leaders and labels, in paint order.
+
+        An entry depends only on the frame's transform and on what it shows, so entries are kept
+        from the last frame (a drag step changes a few of them).
+        """
+        frame = (m11, m22, dx, dy)
+        memo = self._entry_memo if self._entry_memo.get("_frame") == frame else {}
+        new: dict = {"_frame": frame}
         out = []
         r = theme.OVERLAY_SOLVED_POINT_PX
         reach = r + 2.0
         ring_bounds = QRectF(-reach, -reach, 2 * reach, 2 * reach)
-        for mx, my in self.moved_points:
-            pix, x, y = cached_blit_at(mx * m11 + dx, my * m22 + dy, 1.0, ("solved-ring", r), ring_bounds,
-                                       self._draw_ring)
-            out.append(_pixmap_entry("ring", pix, x, y))
+        for m in self.moved_points:
+            k = ("r", m)
+            e = memo.get(k)
+            if e is None:
+                pix, x, y = cached_blit_at(m[0] * m11 + dx, m[1] * m22 + dy, 1.0, ("solved-ring", r), ring_bounds,
+                                           self._draw_ring)
+                e = _pixmap_entry("ring", pix, x, y)
+            new[k] = e
+            out.append(e)
         for arrow in self.arrows:
             colour = arrow.colour
-            pix, x, y = cached_blit_at(arrow.base[0] * m11 + dx, arrow.base[1] * m22 + dy, 1.0,
-                                       ("anchor-arrow", arrow.direction, colour.rgba()), _arrow_bounds(arrow.direction),
-                                       lambda p, a=arrow, c=colour: self._draw_arrow(p, QPointF(0.0, 0.0), a.direction, c))
-            out.append(_pixmap_entry("arrow", pix, x, y))
-        for ax, ay, x, y, w, h, leader, pix in self._draw:
-            px, py = ax * m11 + dx, ay * m22 + dy
-            if leader:
-                ex, ey = _leader_end(x, y, w, h)
-                lpix, lx, ly = cached_blit_at(px, py, 1.0, ("leader", ex, ey),
-                                              QRectF(min(ex, 0.0), min(ey, 0.0), abs(ex), abs(ey)).adjusted(-3, -3, 3, 3),
-                                              lambda p, ex=ex, ey=ey: self._draw_leader(p, ex, ey))
-                out.append(_pixmap_entry("leader", lpix, lx, ly))
-            out.append(_pixmap_entry("label", pix, px + x, py + y))
+            k = ("a", arrow.base, arrow.direction, colour.rgba())
+            e = memo.get(k)
+            if e is None:
+                pix, x, y = cached_blit_at(arrow.base[0] * m11 + dx, arrow.base[1] * m22 + dy, 1.0,
+                                           ("anchor-arrow", arrow.direction, colour.rgba()), _arrow_bounds(arrow.direction),
+                                           lambda p, a=arrow, c=colour: self._draw_arrow(p, QPointF(0.0, 0.0), a.direction, c))
+                e = _pixmap_entry("arrow", pix, x, y)
+            new[k] = e
+            out.append(e)
+        for item in self._draw:
+            k = ("l", item)
+            es = memo.get(k)
+            if es is None:
+                ax, ay, x, y, w, h, leader, pix = item
+                px, py = ax * m11 + dx, ay * m22 + dy
+                es = []
+                if leader:
+                    ex, ey = _leader_end(x, y, w, h)
+                    lpix, lx, ly = cached_blit_at(px, py, 1.0, ("leader", ex, ey),
+                                                  QRectF(min(ex, 0.0), min(ey, 0.0), abs(ex), abs(ey)).adjusted(-3, -3, 3, 3),
+                                                  lambda p, ex=ex, ey=ey: self._draw_leader(p, ex, ey))
+                    es.append(_pixmap_entry("leader", lpix, lx, ly))
+                es.append(_pixmap_entry("label", pix, px + x, py + y))
+            new[k] = es
+            out.extend(es)
+        self._entry_memo = new
         return out
 
     def _retained_bands(self, m11: float, m22: float, dx: float, dy: float, area: QRect):
@@ -910,6 +938,9 @@ class ForceItem(_LayerItem):
             return None
         half = theme.OVERLAY_BAND_PX / 2.0
         pad = int(math.ceil(half)) + 3
+        frame = (m11, m22, dx, dy)
+        memo = self._band_memo if self._band_memo.get("_frame") == frame else {}
+        new: dict = {"_frame": frame}
         out = []
         total = 0
         live = set()
@@ -918,27 +949,38 @@ class ForceItem(_LayerItem):
             alpha = colour.alphaF()
             colour.setAlpha(255)
             rgba = colour.rgba()
-            pts = [(x * m11 + dx, y * m22 + dy) for x, y in ends]
-            if not pts:
+            flat = self._flat_pens.get(rgba)
+            if flat is None:
+                flat = self._flat_pens[rgba] = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
+            entries = []
+            x0 = y0 = math.inf
+            x1 = y1 = -math.inf
+            for i in range(0, len(ends) - 1, 2):
+                k = (ends[i], ends[i + 1], rgba)
+                e = memo.get(k)
+                if e is None:
+                    (sa, ta), (sb, tb) = ends[i], ends[i + 1]
+                    a, b = (sa * m11 + dx, ta * m22 + dy), (sb * m11 + dx, tb * m22 + dy)
+                    box = QRect(math.floor(min(a[0], b[0])) - pad, math.floor(min(a[1], b[1])) - pad,
+                                math.ceil(abs(a[0] - b[0])) + 2 * pad + 1, math.ceil(abs(a[1] - b[1])) + 2 * pad + 1)
+                    e = ((a, b), box, lambda p, a=a, b=b, f=flat, c=rgba: self._draw_band_piece(p, f, c, half, a, b))
+                new[k] = e
+                entries.append(e)
+                box = e[1]
+                x0, y0 = min(x0, box.left()), min(y0, box.top())
+                x1, y1 = max(x1, box.right()), max(y1, box.bottom())
+            if not entries:
                 continue
-            xs, ys = [q[0] for q in pts], [q[1] for q in pts]
             # the layer's area snapped to 64 px, so a piece moving a little does not resize it
             g = 64
-            x0, y0 = (math.floor(min(xs)) - pad) // g * g, (math.floor(min(ys)) - pad) // g * g
-            x1, y1 = (math.ceil(max(xs)) + pad) // g * g + g, (math.ceil(max(ys)) + pad) // g * g + g
+            x0, y0 = x0 // g * g, y0 // g * g
+            x1, y1 = x1 // g * g + g, y1 // g * g + g
             r = QRect(x0, y0, x1 - x0, y1 - y0).intersected(area)
             if r.isEmpty():
                 continue
             total += r.width() * r.height()
             if total > 2 * area.width() * area.height():
                 return None  # zoomed far in with many bands: layers would cost more than they save
-            flat = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
-            entries = []
-            for i in range(0, len(pts) - 1, 2):
-                a, b = pts[i], pts[i + 1]
-                box = QRect(math.floor(min(a[0], b[0])) - pad, math.floor(min(a[1], b[1])) - pad,
-                            math.ceil(abs(a[0] - b[0])) + 2 * pad + 1, math.ceil(abs(a[1] - b[1])) + 2 * pad + 1)
-                entries.append(((a, b), box, lambda p, a=a, b=b: self._draw_band_piece(p, flat, rgba, half, a, b)))
             layer = self._band_layers.get(rgba)
             if layer is None:
                 layer = self._band_layers[rgba] = RetainedLayer()
@@ -946,6 +988,7 @@ class ForceItem(_LayerItem):
             out.append((layer.update((m11, m22, dx, dy, rgba), r, entries), r.topLeft(), alpha))
         for rgba in [k for k in self._band_layers if k not in live]:
             del self._band_layers[rgba]
+        self._band_memo = new
         return out
 
     def _draw_band_piece(self, p: QPainter, flat: QPen, rgba: int, half: float, a, b) -> None:

@@ -95,7 +95,9 @@ def test_the_overlay_after_a_drag_through_the_viewport_matches_the_overlay_drawn
     for layer in item._band_layers.values():
         layer.clear()
     drawn_afresh = pixels(vp.grab().toImage())
-    assert np.abs(patched - drawn_afresh).max() <= ROUNDING
+    d = np.abs(patched - drawn_afresh).max(axis=2)
+    ys, xs = np.nonzero(d > ROUNDING)
+    assert not len(ys), f"{len(ys)} pixels differ, x {xs.min()}-{xs.max()}, y {ys.min()}-{ys.max()}, by up to {d.max()}"
     mouse.release(h.x + 1.8, h.y - 3.0)
 
 
