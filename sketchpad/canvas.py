@@ -81,6 +81,7 @@ class SketchScene(QGraphicsScene):
         self.setItemIndexMethod(QGraphicsScene.NoIndex)  # few items, all moving during drags
         self.items_by_key: dict[tuple, SketchItem] = {}
         self.rig = Rig()
+        self._laid: tuple | None = None  # (ropes, m per px, points by id, rope indices through each point) last laid out
         self.scale_m_per_px = 0.05
         self.background_item: QGraphicsItem | None = None
         self.item_cache_mode = QGraphicsItem.NoCache  # SketchView turns on pixmap caching for the screen
@@ -141,25 +142,43 @@ class SketchScene(QGraphicsScene):
         self.synced.emit(rig)
 
     def _layout_ropes(self, by_id: dict | None = None) -> None:
-        """Rebuild the rope items whose rope, points (position or kind), colour or zoom changed."""
+        """Rebuild the rope items whose rope, points (position or kind), colour or zoom changed.
+
+        When the ropes and the zoom are those of the last layout, only ropes through a point that
+        changed are looked at (a drag step moves one point: one or two ropes, not all of them).
+        """
+        rig = self.rig
         if by_id is None:
-            by_id = {p.id: p for p in self.rig.points}
+            by_id = {p.id: p for p in rig.points}
         k = self.scale_m_per_px
-        positions: dict | None = None
-        kinds: dict | None = None
-        for i, r in enumerate(self.rig.ropes):
+        ropes = rig.ropes
+        last = self._laid
+        if last is not None and last[0] is ropes and last[1] == k:
+            before = last[2]
+            changed = {pid for pid, p in by_id.items() if before.get(pid) is not p}
+            changed.update(pid for pid in before if pid not in by_id)
+            through = last[3]
+            indices = sorted({i for pid in changed for i in through.get(pid, ())})
+        else:
+            through = {}
+            for i, r in enumerate(ropes):
+                for ps in r.path:
+                    through.setdefault(ps.at, set()).add(i)
+            indices = range(len(ropes))
+        for i in indices:
+            r = ropes[i]
             item = self.items_by_key.get(("rope", r.id))
             if item is None:
                 continue
             colour = theme.rope_colour(i)
-            shown = (r, tuple(by_id.get(ps.at) for ps in r.path), colour.rgba(), k)
+            on_path = tuple(by_id.get(ps.at) for ps in r.path)
+            shown = (r, on_path, colour.rgba(), k)
             if item._shown == shown:
                 continue
-            if positions is None:
-                positions = {p.id: to_scene(p.x, p.y) for p in self.rig.points}
-                kinds = {p.id: p.kind for p in self.rig.points}
-            item.set_rope(r, positions, kinds, colour, k)
+            drawn = [p for p in on_path if p is not None]  # a pass at a missing point is left out
+            item.set_rope(r, {p.id: to_scene(p.x, p.y) for p in drawn}, {p.id: p.kind for p in drawn}, colour, k)
             item._shown = shown
+        self._laid = (ropes, k, by_id, through)
 
     def set_scale(self, m_per_px: float) -> None:
         """The view's zoom changed: glyphs drawn in metres are resized to keep their pixel size."""

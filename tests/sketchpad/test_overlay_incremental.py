@@ -189,3 +189,27 @@ def test_labels_reused_between_drag_solves_equal_labels_built_afresh():
     got, _ = build_labels(in_lbf, prev, LAYERS, memo)
     tension_lines = [lab.lines[0] for lab in got if lab.kind == "tension" and lab.lines[0] != "slack"]
     assert tension_lines and all(line.endswith("lbf") for line in tension_lines)
+
+
+def test_rope_items_follow_every_moved_point_when_only_the_ropes_through_it_are_laid_out_again(main_window):
+    from sketchpad.canvas import SketchScene
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    doc, scene = main_window.document, main_window.view.sketch_scene
+    doc.replace_all(fifty_rope_rig())
+    rig = doc.rig
+    for pid, dx, dy in (("H4", 1.0, -2.0), ("M2", -0.5, 0.7), ("H4", 3.0, 1.0), ("R7", 0.0, -1.5)):
+        p = rig.point(pid)
+        rig = rig.moved(pid, p.x + dx, p.y + dy)
+        doc.preview(rig)  # a drag step: same ropes, one point moved
+    fresh = SketchScene()  # the same rig laid out from nothing
+    fresh.set_scale(scene.scale_m_per_px)
+    fresh.sync(rig)
+
+    def outline(item) -> list[tuple[float, float]]:
+        path = item._path
+        return [(round(path.elementAt(i).x, 9), round(path.elementAt(i).y, 9)) for i in range(path.elementCount())]
+
+    for r in rig.ropes:
+        got, want = scene.item_for(("rope", r.id)), fresh.item_for(("rope", r.id))
+        assert outline(got) == outline(want), r.id
