@@ -347,6 +347,14 @@ class _Grid:
         else:
             cell.append((x, y, owner))
 
+    def remove_rect(self, r) -> None:
+        for k in self._cells(*r):
+            self.rects[k].remove(r)
+
+    def remove_point(self, x: float, y: float, owner: object) -> None:
+        c = self.cell
+        self.points[(math.floor(x / c), math.floor(y / c))].remove((x, y, owner))
+
     def hits_rect(self, r) -> bool:
         x, y, w, h = r
         x1, y1 = x + w, y + h
@@ -422,12 +430,68 @@ def _candidates(lab: OverlayLabel, to_px: Callable, w: float, h: float):
                 yield lab.base, (bp[0] + v[0] * d, bp[1] + v[1] * d), bp, leader
 
 
+def _marker_rect(x: float, y: float) -> tuple[float, float, float, float]:
+    return (x - MARKER_CLEAR_PX, y - MARKER_CLEAR_PX, 2 * MARKER_CLEAR_PX, 2 * MARKER_CLEAR_PX)
+
+
+def _piece_samples(pa: tuple[float, float], pb: tuple[float, float]):
+    """Pixel points every ``ROPE_SAMPLE_PX`` along a piece (both ends included)."""
+    length = math.hypot(pb[0] - pa[0], pb[1] - pa[1])
+    n = int(min(MAX_SAMPLES_PER_PIECE, max(1, length // ROPE_SAMPLE_PX)))
+    return [(pa[0] + (pb[0] - pa[0]) * (k / n), pa[1] + (pb[1] - pa[1]) * (k / n)) for k in range(n + 1)]
+
+
+class ObstacleCache:
+    """The placer's obstacles (point names, markers, rope pieces) in pixels, kept between placements at one transform.
+
+    Between two drag steps only the moved part of the rig changes, so the spatial hash is updated by
+    difference (obstacles gone are taken out, new ones put in) instead of being built again.  The
+    grid holds exactly what :func:`place_labels` would build from scratch.
+    """
+
+    def __init__(self) -> None:
+        self.frame: tuple | None = None
+        self.grid = _Grid()
+        self.boxes: set = set()
+        self.markers: set = set()
+        self.pieces: set = set()
+        self._samples: dict = {}
+
+    def update(self, frame: tuple, to_px: Callable, markers, pieces, boxes) -> _Grid:
+        boxes, markers, pieces = set(boxes), set(markers), set(pieces)
+        grid = self.grid
+        if frame != self.frame:
+            self.frame, grid = frame, _Grid()
+            self.grid, self.boxes, self.markers, self.pieces, self._samples = grid, set(), set(), set(), {}
+        for xy, (bx, by, bw, bh) in self.boxes - boxes:
+            x, y = to_px(xy)
+            grid.remove_rect((x + bx, y + by, bw, bh))
+        for xy, (bx, by, bw, bh) in boxes - self.boxes:
+            x, y = to_px(xy)
+            grid.add_rect((x + bx, y + by, bw, bh))
+        for m in self.markers - markers:
+            grid.remove_rect(_marker_rect(*to_px(m)))
+        for m in markers - self.markers:
+            grid.add_rect(_marker_rect(*to_px(m)))
+        for piece in self.pieces - pieces:
+            for x, y in self._samples.pop(piece):
+                grid.remove_point(x, y, piece[0])
+        for piece in pieces - self.pieces:
+            owner, a, b = piece
+            pts = self._samples[piece] = _piece_samples(to_px(a), to_px(b))
+            for x, y in pts:
+                grid.add_point(x, y, owner)
+        self.boxes, self.markers, self.pieces = boxes, markers, pieces
+        return grid
+
+
 def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float]], tuple[float, float]],
                  size_of: Callable[[OverlayLabel], tuple[float, float]],
                  markers: Iterable[tuple[float, float]] = (),
                  pieces: Iterable[tuple[object, tuple[float, float], tuple[float, float]]] = (),
                  boxes: Iterable[tuple[tuple[float, float], tuple[float, float, float, float]]] = (),
-                 previous: Mapping[tuple, tuple] | None = None) -> int:
+                 previous: Mapping[tuple, tuple] | None = None, obstacles: ObstacleCache | None = None,
+                 frame: tuple | None = None) -> int:
     """Greedy placement in screen pixels; returns how many labels were skipped.
 
     Most important first (``priority``).  Each label takes its first candidate that
@@ -439,37 +503,46 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
     ``previous`` (from :func:`placement_memo` at the same zoom) keeps a label where it
     was when its text and its piece or point moved less than ``KEEP_PX``, so labels do
     not jump about during a drag and only the moved ones are placed again.
+    ``obstacles`` (kept by the caller) with ``frame`` (what fixes ``to_px``: zoom and pan) holds the
+    obstacles between calls and updates them by difference; same placement, less work per drag step.
     """
-    grid = _Grid()
-    for xy, (bx, by, bw, bh) in boxes:
-        x, y = to_px(xy)
-        grid.add_rect((x + bx, y + by, bw, bh))
-    for m in markers:
-        x, y = to_px(m)
-        grid.add_rect((x - MARKER_CLEAR_PX, y - MARKER_CLEAR_PX, 2 * MARKER_CLEAR_PX, 2 * MARKER_CLEAR_PX))
-    for owner, a, b in pieces:
-        pa, pb = to_px(a), to_px(b)
-        length = math.hypot(pb[0] - pa[0], pb[1] - pa[1])
-        n = int(min(MAX_SAMPLES_PER_PIECE, max(1, length // ROPE_SAMPLE_PX)))
-        for k in range(n + 1):
-            t = k / n
-            grid.add_point(pa[0] + (pb[0] - pa[0]) * t, pa[1] + (pb[1] - pa[1]) * t, owner)
+    same_frame = obstacles is not None and frame is not None and obstacles.frame == frame
+    if obstacles is not None and frame is not None:
+        grid = obstacles.update(frame, to_px, markers, pieces, boxes)
+        placed = _Grid()  # this call's labels; the obstacles stay as they are for the next call
+    else:
+        grid = placed = _Grid()
+        for xy, (bx, by, bw, bh) in boxes:
+            x, y = to_px(xy)
+            grid.add_rect((x + bx, y + by, bw, bh))
+        for m in markers:
+            grid.add_rect(_marker_rect(*to_px(m)))
+        for owner, a, b in pieces:
+            for x, y in _piece_samples(to_px(a), to_px(b)):
+                grid.add_point(x, y, owner)
+
+    def hits(r) -> bool:
+        return grid.hits_rect(r) or (placed is not grid and placed.hits_rect(r))
+
     skipped = 0
     ordered = sorted(labels, key=lambda l: -l.priority)
     todo = []
     for lab in ordered:
         lab.placed = False
         memo = previous.get((lab.kind, lab.key)) if previous else None
-        if memo is not None and memo[0] == lab.lines and _near(memo[1], to_px(lab.base)) and (
-                lab.end is None or _near(memo[2], to_px(lab.end))):
+        # the very label object of the last call at the same transform sits where it sat (build_labels
+        # hands out the same object only for the same text and position)
+        if memo is not None and ((same_frame and len(memo) > 6 and memo[6] is lab) or (
+                memo[0] == lab.lines and _near(memo[1], to_px(lab.base)) and (
+                lab.end is None or _near(memo[2], to_px(lab.end))))):
             at, rect, leader = memo[3], memo[4], memo[5]
             if at is None:  # it was skipped last time and nothing changed: skip again without searching
                 skipped += 1
                 continue
             ax, ay = to_px(at)
             r = (ax + rect[0], ay + rect[1], rect[2], rect[3])
-            if not grid.hits_rect(r):
-                grid.add_rect(r)
+            if not hits(r):
+                placed.add_rect(r)
                 lab.placed, lab.at, lab.rect, lab.leader = True, at, rect, leader
                 continue
         todo.append(lab)
@@ -479,7 +552,7 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
         own = lab.key if lab.kind == "tension" else None
         for base_s, c, bp, leader in _candidates(lab, to_px, w, h):
             r = (c[0] - w / 2.0, c[1] - h / 2.0, w, h)
-            if grid.hits_rect(r):
+            if hits(r):
                 continue
             crossing = grid.crossings(r, own) > 0
             if not crossing or leader:
@@ -493,7 +566,7 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
             skipped += 1
             continue
         base_s, r, bp, leader = choice
-        grid.add_rect(r)
+        placed.add_rect(r)
         lab.placed = True
         lab.at = base_s
         lab.rect = (r[0] - bp[0], r[1] - bp[1], r[2], r[3])
@@ -532,7 +605,7 @@ def _near(a, b) -> bool:
 def placement_memo(labels: Iterable[OverlayLabel], to_px) -> dict[tuple, tuple]:
     """Where each label went (or that it was skipped), for :func:`place_labels`'s ``previous`` at the same zoom."""
     return {(l.kind, l.key): (l.lines, to_px(l.base), None if l.end is None else to_px(l.end),
-                               l.at if l.placed else None, l.rect, l.leader) for l in labels}
+                               l.at if l.placed else None, l.rect, l.leader, l) for l in labels}
 
 
 # --- shapely -> QPainterPath --------------------------------------------------------------------------
@@ -1299,6 +1372,7 @@ class ResultOverlay(QObject):
         self._memo: dict = {}
         self._memo_scale = 0.0
         self._label_memo: dict = {}  # build_labels' reuse of unchanged labels between solves
+        self._obstacles = ObstacleCache()  # the placer's obstacles, updated by difference between solves
         self._zones_due = True
         self._name_fm = QFontMetricsF(theme.font())
         self._name_box_cache: dict[tuple[str, str], tuple[float, float, float, float]] = {}
@@ -1431,7 +1505,7 @@ class ResultOverlay(QObject):
             markers = list(dict.fromkeys(markers))  # a fixed point's solved place is its drawn one
         previous = self._memo if self._memo_scale == m11 else None
         self.skipped = place_labels(self.force_item.labels, to_px, self.force_item.label_size, markers, self.pieces,
-                                    boxes, previous)
+                                    boxes, previous, self._obstacles, (m11, t.m22(), dx, dy))
         self._memo, self._memo_scale = placement_memo(self.force_item.labels, to_px), m11
         self.force_item.refresh_rect(self._m_per_px())
 

@@ -213,3 +213,35 @@ def test_rope_items_follow_every_moved_point_when_only_the_ropes_through_it_are_
     for r in rig.ropes:
         got, want = scene.item_for(("rope", r.id)), fresh.item_for(("rope", r.id))
         assert outline(got) == outline(want), r.id
+
+
+def test_placement_with_obstacles_kept_between_drag_steps_equals_placement_from_scratch(main_window):
+    import copy
+
+    from sketchpad.overlay import place_labels, placement_memo
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    doc, sched, view = main_window.document, main_window.live.scheduler, main_window.view
+    doc.replace_all(fifty_rope_rig())
+    view.zoom_to_fit()
+    view.zoom_at(2.0, view.viewport().rect().center())  # room for more labels, so some of them move
+    sched.solve_now()
+    ov = main_window.live.overlay
+    rig = doc.rig
+    h = rig.point("H4")
+    kept = 0
+    for i in range(1, 8):
+        doc.preview(rig.moved("H4", h.x + 0.8 * i, h.y - 0.4 * i))
+        previous = copy.copy(ov._memo)
+        sched.fire()  # relayout with the kept obstacles and the memo of the last step
+        t = view.transform()
+        to_px = lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())  # noqa: E731
+        with_cache = [(lab.kind, lab.key, lab.placed, lab.at, lab.rect, lab.leader) for lab in ov.labels]
+        markers = list(dict.fromkeys([(p.x, -p.y) for p in ov.rig.points] +
+                                     [(x, -y) for x, y in ov.result.points.values()]))
+        again = copy.deepcopy(ov.labels)
+        place_labels(again, to_px, ov.force_item.label_size, markers, ov.pieces, ov._name_boxes(ov.rig), previous)
+        assert with_cache == [(lab.kind, lab.key, lab.placed, lab.at, lab.rect, lab.leader) for lab in again], i
+        kept += sum(1 for v in previous.values() if len(v) > 6 and any(v[6] is lab for lab in ov.labels))
+    assert kept > 50  # most labels came through unchanged, by the fast path
+    assert placement_memo(ov.labels, to_px)
