@@ -1374,6 +1374,7 @@ class ResultOverlay(QObject):
         self._label_memo: dict = {}  # build_labels' reuse of unchanged labels between solves
         self._obstacles = ObstacleCache()  # the placer's obstacles, updated by difference between solves
         self._zones_due = True
+        self._summary: list[str] = []  # summary_lines of the result drawn
         self._name_fm = QFontMetricsF(theme.font())
         self._name_box_cache: dict[tuple[str, str], tuple[float, float, float, float]] = {}
 
@@ -1476,14 +1477,19 @@ class ResultOverlay(QObject):
             self.zones = []
             self.zones_item.set_zones(self.zones)
         self._zones_due = True
+        self._summary = summary_lines(rig, result)
         self.relayout()
-        lines = summary_lines(rig, result)
+        self.legend.show()
+
+    def _update_legend(self) -> None:
+        """The legend's lines: the system summary, how many labels the placer hid, and a failed solve."""
+        lines = list(self._summary)
         if self.skipped:
             lines.append(f"{self.skipped} label{'s' if self.skipped != 1 else ''} hidden to avoid overlap: zoom in")
+        grey = self.failed is not None
         if grey:
             lines.append("solve failed: last good result, greyed")
         self.legend.set_content(lines, self.layers["zones"], grey)
-        self.legend.show()
 
     def _m_per_px(self) -> float:
         return 1.0 / max(self.view.px_per_m, 1e-12)
@@ -1508,6 +1514,8 @@ class ResultOverlay(QObject):
                                     boxes, previous, self._obstacles, (m11, t.m22(), dx, dy))
         self._memo, self._memo_scale = placement_memo(self.force_item.labels, to_px), m11
         self.force_item.refresh_rect(self._m_per_px())
+        if self.result is not None and self.rig is not None:
+            self._update_legend()  # after a zoom too: how many labels are hidden changes with it
 
     def _name_boxes(self, rig: Rig) -> list:
         """Pixel rects of the point names the canvas draws beside each marker (sketchpad.items.PointItem)."""

@@ -245,3 +245,22 @@ def test_placement_with_obstacles_kept_between_drag_steps_equals_placement_from_
         kept += sum(1 for v in previous.values() if len(v) > 6 and any(v[6] is lab for lab in ov.labels))
     assert kept > 50  # most labels came through unchanged, by the fast path
     assert placement_memo(ov.labels, to_px)
+
+
+def test_the_legend_counts_the_hidden_labels_again_after_a_zoom(main_window):
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    main_window.document.replace_all(fifty_rope_rig())
+    main_window.view.zoom_to_fit()
+    main_window.live.scheduler.solve_now()
+    ov, view = main_window.live.overlay, main_window.view
+
+    def hidden_line() -> str:
+        return next((line for line in ov.legend.lines if "hidden" in line), "")
+
+    fitted = ov.skipped
+    assert fitted > 0 and hidden_line().startswith(f"{fitted} labels hidden")
+    view.zoom_at(2.5, view.viewport().rect().center())
+    assert ov.skipped != fitted  # zoomed in, there is room for more of them
+    assert hidden_line() == ("" if not ov.skipped else
+                             f"{ov.skipped} label{'s' if ov.skipped != 1 else ''} hidden to avoid overlap: zoom in")
