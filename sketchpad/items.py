@@ -10,6 +10,7 @@ so that pulleys, rings, knots and edge wedges keep a readable size at any zoom.
 
 from __future__ import annotations
 
+import itertools
 import logging
 import math
 from typing import Iterable, Sequence
@@ -98,6 +99,13 @@ _metrics: dict[str, QFontMetricsF] = {}
 _font_keys: dict[int, tuple[object, str]] = {}
 
 
+def drop_oldest(cache: dict, fraction: float = 0.25) -> None:
+    """Forget the oldest ``fraction`` of a full cache (insertion order), not all of it: the glyphs and
+    labels still on screen are not all rendered again in one frame (a hitch in a long drag)."""
+    for key in list(itertools.islice(cache, max(1, int(len(cache) * fraction)))):
+        del cache[key]
+
+
 def font_key(font) -> str:
     """``font.key()``, remembered per font object (theme fonts are long-lived; the entry keeps it alive)."""
     hit = _font_keys.get(id(font))
@@ -161,7 +169,7 @@ def _render(key: tuple, bounds: QRectF, dpr: float, phase: tuple[float, float], 
     if hit is not None:
         return hit
     if len(_pixmaps) > CACHE_MAX:
-        _pixmaps.clear()
+        drop_oldest(_pixmaps)
     left = math.floor(bounds.left() * dpr + phase[0]) - 1
     top = math.floor(bounds.top() * dpr + phase[1]) - 1
     w = max(1, math.ceil(bounds.right() * dpr + phase[0]) + 1 - left)

@@ -49,7 +49,7 @@ from PySide6.QtGui import (
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
 
 from sketchpad import theme
-from sketchpad.items import blit_cached, cached_blit_at, pixel_dpr
+from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr
 from sketchpad.retained import RetainedLayer
 from solver.model import Rig
 from solver.result import Result
@@ -784,7 +784,7 @@ class ForceItem(_LayerItem):
         if pix is not None:
             return pix
         if len(self._pixmap_cache) > PIXMAP_CACHE_MAX:
-            self._pixmap_cache.clear()
+            drop_oldest(self._pixmap_cache)
         w, h = self.label_size(lab)
         pix = QPixmap(int(w) + 1, int(h) + 1)
         pix.fill(Qt.transparent)

@@ -264,3 +264,14 @@ def test_the_legend_counts_the_hidden_labels_again_after_a_zoom(main_window):
     assert ov.skipped != fitted  # zoomed in, there is room for more of them
     assert hidden_line() == ("" if not ov.skipped else
                              f"{ov.skipped} label{'s' if ov.skipped != 1 else ''} hidden to avoid overlap: zoom in")
+
+
+def test_a_full_pixmap_cache_forgets_its_oldest_entries_not_all():
+    from sketchpad.items import drop_oldest
+
+    cache = {i: str(i) for i in range(100)}
+    drop_oldest(cache)
+    assert list(cache) == list(range(25, 100))  # the newest three quarters (what is on screen now) stay
+    one = {"a": 1}
+    drop_oldest(one)
+    assert one == {}
