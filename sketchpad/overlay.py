@@ -509,9 +509,8 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
     same_frame = obstacles is not None and frame is not None and obstacles.frame == frame
     if obstacles is not None and frame is not None:
         grid = obstacles.update(frame, to_px, markers, pieces, boxes)
-        placed = _Grid()  # this call's labels; the obstacles stay as they are for the next call
     else:
-        grid = placed = _Grid()
+        grid = _Grid()
         for xy, (bx, by, bw, bh) in boxes:
             x, y = to_px(xy)
             grid.add_rect((x + bx, y + by, bw, bh))
@@ -520,10 +519,18 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
         for owner, a, b in pieces:
             for x, y in _piece_samples(to_px(a), to_px(b)):
                 grid.add_point(x, y, owner)
+    placed: list = []  # this call's label rects, taken out of a kept obstacle grid again at the end
+    try:
+        return _place(labels, to_px, size_of, previous, grid, placed, same_frame)
+    finally:
+        if obstacles is not None and grid is obstacles.grid:
+            for r in placed:
+                grid.remove_rect(r)
 
-    def hits(r) -> bool:
-        return grid.hits_rect(r) or (placed is not grid and placed.hits_rect(r))
 
+def _place(labels, to_px, size_of, previous, grid: _Grid, placed: list, same_frame: bool) -> int:
+    """:func:`place_labels` once the obstacles are in ``grid``: each label placed is added to it and to ``placed``."""
+    hits = grid.hits_rect
     skipped = 0
     ordered = sorted(labels, key=lambda l: -l.priority)
     todo = []
@@ -542,7 +549,8 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
             ax, ay = to_px(at)
             r = (ax + rect[0], ay + rect[1], rect[2], rect[3])
             if not hits(r):
-                placed.add_rect(r)
+                grid.add_rect(r)
+                placed.append(r)
                 lab.placed, lab.at, lab.rect, lab.leader = True, at, rect, leader
                 continue
         todo.append(lab)
@@ -566,13 +574,13 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
             skipped += 1
             continue
         base_s, r, bp, leader = choice
-        placed.add_rect(r)
+        grid.add_rect(r)
+        placed.append(r)
         lab.placed = True
         lab.at = base_s
         lab.rect = (r[0] - bp[0], r[1] - bp[1], r[2], r[3])
         lab.leader = leader
     return skipped
-
 
 KEEP_PX = 0.75
 LEADER_DOT_PX = 1.8  # radius of the dot a leader starts from
