@@ -14,12 +14,14 @@ import logging
 import math
 from dataclasses import dataclass
 
-from PySide6.QtCore import QEvent, QLineF, QPoint, QPointF, QRectF, Qt, Signal
+from PySide6.QtCore import QEvent, QLineF, QPoint, QPointF, QRect, QRectF, Qt, Signal
 from PySide6.QtGui import (
     QFontMetricsF,
     QKeyEvent,
     QMouseEvent,
     QPainter,
+    QPaintEngine,
+    QPixmap,
     QPixmapCache,
     QWheelEvent,
 )
@@ -79,6 +81,7 @@ class SketchScene(QGraphicsScene):
         self.setItemIndexMethod(QGraphicsScene.NoIndex)  # few items, all moving during drags
         self.items_by_key: dict[tuple, SketchItem] = {}
         self.rig = Rig()
+        self._laid: tuple | None = None  # (ropes, m per px, points by id, rope indices through each point) last laid out
         self.scale_m_per_px = 0.05
         self.background_item: QGraphicsItem | None = None
         self.item_cache_mode = QGraphicsItem.NoCache  # SketchView turns on pixmap caching for the screen
@@ -139,25 +142,43 @@ class SketchScene(QGraphicsScene):
         self.synced.emit(rig)
 
     def _layout_ropes(self, by_id: dict | None = None) -> None:
-        """Rebuild the rope items whose rope, points (position or kind), colour or zoom changed."""
+        """Rebuild the rope items whose rope, points (position or kind), colour or zoom changed.
+
+        When the ropes and the zoom are those of the last layout, only ropes through a point that
+        changed are looked at (a drag step moves one point: one or two ropes, not all of them).
+        """
+        rig = self.rig
         if by_id is None:
-            by_id = {p.id: p for p in self.rig.points}
+            by_id = {p.id: p for p in rig.points}
         k = self.scale_m_per_px
-        positions: dict | None = None
-        kinds: dict | None = None
-        for i, r in enumerate(self.rig.ropes):
+        ropes = rig.ropes
+        last = self._laid
+        if last is not None and last[0] is ropes and last[1] == k:
+            before = last[2]
+            changed = {pid for pid, p in by_id.items() if before.get(pid) is not p}
+            changed.update(pid for pid in before if pid not in by_id)
+            through = last[3]
+            indices = sorted({i for pid in changed for i in through.get(pid, ())})
+        else:
+            through = {}
+            for i, r in enumerate(ropes):
+                for ps in r.path:
+                    through.setdefault(ps.at, set()).add(i)
+            indices = range(len(ropes))
+        for i in indices:
+            r = ropes[i]
             item = self.items_by_key.get(("rope", r.id))
             if item is None:
                 continue
             colour = theme.rope_colour(i)
-            shown = (r, tuple(by_id.get(ps.at) for ps in r.path), colour.rgba(), k)
+            on_path = tuple(by_id.get(ps.at) for ps in r.path)
+            shown = (r, on_path, colour.rgba(), k)
             if item._shown == shown:
                 continue
-            if positions is None:
-                positions = {p.id: to_scene(p.x, p.y) for p in self.rig.points}
-                kinds = {p.id: p.kind for p in self.rig.points}
-            item.set_rope(r, positions, kinds, colour, k)
+            drawn = [p for p in on_path if p is not None]  # a pass at a missing point is left out
+            item.set_rope(r, {p.id: to_scene(p.x, p.y) for p in drawn}, {p.id: p.kind for p in drawn}, colour, k)
             item._shown = shown
+        self._laid = (ropes, k, by_id, through)
 
     def set_scale(self, m_per_px: float) -> None:
         """The view's zoom changed: glyphs drawn in metres are resized to keep their pixel size."""
@@ -277,6 +298,9 @@ class SketchView(QGraphicsView):
         self.snap_to_points = True
         self._panning: QPoint | None = None
         self._space_held = False
+        self._background: QPixmap | None = None  # paper and grid of the last frame (drawBackground)
+        self._background_key: tuple | None = None
+        self._hud_cache: dict[tuple, QPixmap] = {}  # scale bar and north arrow (drawForeground)
         self.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing)
         self.setHorizontalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
         self.setVerticalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
@@ -492,7 +516,41 @@ class SketchView(QGraphicsView):
         super().keyReleaseEvent(event)
 
     # --- grid, scale bar, north arrow ---------------------------------------------------------
+    def _screen_dpr(self, painter: QPainter) -> float | None:
+        """The device pixel ratio when ``painter`` paints this view's viewport as on screen (raster, the
+        view's own transform), else None (a scaled or vector render: draw directly)."""
+        engine = painter.paintEngine()
+        if engine is None or engine.type() != QPaintEngine.Raster or painter.viewTransformEnabled():
+            return None
+        if painter.worldTransform() != self.viewportTransform():
+            return None
+        return float(painter.device().devicePixelRatioF())
+
     def drawBackground(self, painter: QPainter, rect: QRectF) -> None:  # noqa: N802
+        """Paper and grid; on screen blitted from a viewport-sized pixmap drawn again only when the
+        zoom, pan, size or grid changes (a drag step repaints the viewport ~60 times a second)."""
+        dpr = self._screen_dpr(painter)
+        if dpr is None:
+            self._paint_background(painter, rect)
+            return
+        vp = self.viewport()
+        t = self.viewportTransform()
+        key = (t.m11(), t.m22(), t.dx(), t.dy(), vp.width(), vp.height(), dpr, self.grid_visible,
+               self.grid_step_m() if self.grid_visible else 0.0)
+        if key != self._background_key:
+            pix = QPixmap(max(1, round(vp.width() * dpr)), max(1, round(vp.height() * dpr)))
+            pix.setDevicePixelRatio(dpr)
+            p = QPainter(pix)
+            p.setTransform(t)
+            self._paint_background(p, t.inverted()[0].mapRect(QRectF(vp.rect())).adjusted(-1, -1, 1, 1))
+            p.end()
+            self._background, self._background_key = pix, key
+        painter.save()
+        painter.resetTransform()
+        painter.drawPixmap(0, 0, self._background)
+        painter.restore()
+
+    def _paint_background(self, painter: QPainter, rect: QRectF) -> None:
         painter.fillRect(rect, theme.PAPER)
         if not self.grid_visible:
             return
@@ -517,12 +575,63 @@ class SketchView(QGraphicsView):
         painter.drawLine(QPointF(rect.left(), 0), QPointF(rect.right(), 0))
 
     def drawForeground(self, painter: QPainter, rect: QRectF) -> None:  # noqa: N802
+        """Scale bar and north arrow; on screen each is blitted from a small pixmap drawn again only
+        when what it shows changes (its anti-aliased translucent box and text cost ~0.5 ms a frame)."""
+        dpr = self._screen_dpr(painter)
         painter.save()
         painter.resetTransform()
         painter.setRenderHint(QPainter.Antialiasing, True)
-        self._draw_scale_bar(painter)
-        self._draw_orientation(painter)
+        if dpr is None:
+            self._draw_scale_bar(painter)
+            self._draw_orientation(painter)
+        else:
+            vp = self.viewport().rect()
+            length_m = self.scale_bar_length_m()
+            self._blit_hud(painter, dpr, ("scale", length_m, self.px_per_m, self.length_unit, vp.height()),
+                           self._scale_bar_rect(length_m), self._draw_scale_bar)
+            self._blit_hud(painter, dpr, ("orientation", self.sketch_scene.rig.view == "elevation", vp.width()),
+                           self._orientation_rect(), self._draw_orientation)
         painter.restore()
+
+    def _blit_hud(self, painter: QPainter, dpr: float, key: tuple, rect: QRect, draw) -> None:
+        """Blit the HUD part ``draw`` paints inside ``rect`` (viewport px) from a pixmap cached by ``key``."""
+        full = (key, rect.x(), rect.y(), rect.width(), rect.height(), dpr)
+        pix = self._hud_cache.get(full)
+        if pix is None:
+            if len(self._hud_cache) > 16:
+                self._hud_cache.clear()
+            pix = QPixmap(max(1, round(rect.width() * dpr)), max(1, round(rect.height() * dpr)))
+            pix.setDevicePixelRatio(dpr)
+            pix.fill(Qt.transparent)
+            p = QPainter(pix)
+            p.setRenderHint(QPainter.Antialiasing, True)
+            p.translate(-rect.x(), -rect.y())
+            draw(p)
+            p.end()
+            self._hud_cache[full] = pix
+        painter.drawPixmap(rect.x(), rect.y(), pix)
+
+    def _scale_bar_rect(self, length_m: float) -> QRect:
+        """Viewport px the scale bar (box, bar and text) stays inside."""
+        fm = QFontMetricsF(theme.font(theme.HUD_POINT_SIZE))
+        w = length_m * self.px_per_m
+        h = theme.SCALE_BAR_HEIGHT_PX
+        m = theme.HUD_MARGIN_PX
+        x0, y0 = m + 6, self.viewport().height() - m - h
+        text_w = fm.horizontalAdvance(fmt_length(length_m, self.length_unit))
+        box = QRectF(x0 - 6, y0 - fm.height() - 6, max(w, text_w) + 12, h + fm.height() + 10)
+        return box.adjusted(-2, -2, 2, 2).toAlignedRect()
+
+    def _orientation_rect(self) -> QRect:
+        """Viewport px the north arrow (disc, arrow and letter) stays inside."""
+        s = theme.NORTH_ARROW_PX
+        m = theme.HUD_MARGIN_PX
+        cx, top = self.viewport().width() - m - s / 2, m + 4
+        fm = QFontMetricsF(theme.font(theme.HUD_POINT_SIZE, bold=True))
+        r = s * 0.72
+        upper = min(top + s * 0.62 - r, top - 1)  # the disc reaches above the arrow's tip
+        bottom = max(top + s * 0.62 + r, top + s + fm.height() + 1)
+        return QRectF(cx - r, upper, 2 * r, bottom - upper).adjusted(-2, -2, 2, 2).toAlignedRect()
 
     def scale_bar_length_m(self) -> float:
         """The scale bar's length in metres: a round number of display units near the target width."""

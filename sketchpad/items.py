@@ -10,6 +10,7 @@ so that pulleys, rings, knots and edge wedges keep a readable size at any zoom.
 
 from __future__ import annotations
 
+import itertools
 import logging
 import math
 from typing import Iterable, Sequence
@@ -98,6 +99,13 @@ _metrics: dict[str, QFontMetricsF] = {}
 _font_keys: dict[int, tuple[object, str]] = {}
 
 
+def drop_oldest(cache: dict, fraction: float = 0.25) -> None:
+    """Forget the oldest ``fraction`` of a full cache (insertion order), not all of it: the glyphs and
+    labels still on screen are not all rendered again in one frame (a hitch in a long drag)."""
+    for key in list(itertools.islice(cache, max(1, int(len(cache) * fraction)))):
+        del cache[key]
+
+
 def font_key(font) -> str:
     """``font.key()``, remembered per font object (theme fonts are long-lived; the entry keeps it alive)."""
     hit = _font_keys.get(id(font))
@@ -161,7 +169,7 @@ def _render(key: tuple, bounds: QRectF, dpr: float, phase: tuple[float, float], 
     if hit is not None:
         return hit
     if len(_pixmaps) > CACHE_MAX:
-        _pixmaps.clear()
+        drop_oldest(_pixmaps)
     left = math.floor(bounds.left() * dpr + phase[0]) - 1
     top = math.floor(bounds.top() * dpr + phase[1]) - 1
     w = max(1, math.ceil(bounds.right() * dpr + phase[0]) + 1 - left)
@@ -180,12 +188,10 @@ def _render(key: tuple, bounds: QRectF, dpr: float, phase: tuple[float, float], 
     return hit
 
 
-def blit_cached(painter: QPainter, origin: QPointF, dpr: float, key: tuple, bounds: QRectF, draw) -> None:
-    """Draw ``draw``'s shapes (cached by ``key``) with their origin at item point ``origin``, by blitting
-    a pixmap; ``painter`` must pass :func:`pixel_dpr`.  The origin is placed to a quarter device pixel."""
-    t = painter.worldTransform()
-    dx = (t.m11() * origin.x() + t.dx()) * dpr
-    dy = (t.m22() * origin.y() + t.dy()) * dpr
+def cached_blit_at(x: float, y: float, dpr: float, key: tuple, bounds: QRectF, draw) -> tuple[QPixmap, float, float]:
+    """The cached pixmap of ``draw``'s shapes (by ``key``) for their origin at device-independent pixel
+    (x, y), and the logical pixel its top-left corner goes to; the origin is placed to a quarter device pixel."""
+    dx, dy = x * dpr, y * dpr
     fx, fy = math.floor(dx), math.floor(dy)
     phase = (round((dx - fx) * PHASES) / PHASES, round((dy - fy) * PHASES) / PHASES)
     if phase[0] >= 1.0:
@@ -193,9 +199,17 @@ def blit_cached(painter: QPainter, origin: QPointF, dpr: float, key: tuple, boun
     if phase[1] >= 1.0:
         fy, phase = fy + 1, (phase[0], 0.0)
     pix, left, top = _render(key, bounds, dpr, phase, draw)
+    return pix, fx / dpr + left, fy / dpr + top
+
+
+def blit_cached(painter: QPainter, origin: QPointF, dpr: float, key: tuple, bounds: QRectF, draw) -> None:
+    """Draw ``draw``'s shapes (cached by ``key``) with their origin at item point ``origin``, by blitting
+    a pixmap; ``painter`` must pass :func:`pixel_dpr`.  The origin is placed to a quarter device pixel."""
+    t = painter.worldTransform()
+    pix, x, y = cached_blit_at(t.m11() * origin.x() + t.dx(), t.m22() * origin.y() + t.dy(), dpr, key, bounds, draw)
     painter.save()
     painter.setWorldTransform(QTransform())
-    painter.drawPixmap(QPointF(fx / dpr + left, fy / dpr + top), pix)
+    painter.drawPixmap(QPointF(x, y), pix)
     painter.restore()
 
 

@@ -49,7 +49,8 @@ from PySide6.QtGui import (
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
 
 from sketchpad import theme
-from sketchpad.items import blit_cached, pixel_dpr
+from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr
+from sketchpad.retained import RetainedLayer
 from solver.model import Rig
 from solver.result import Result
 from solver.units import format_force
@@ -147,11 +148,23 @@ def fmt_angle(deg: float) -> str:
     return f"{deg:.0f}°" if abs(deg) >= 10 else f"{deg:.1f}°"
 
 
-def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[OverlayLabel], list[AnchorArrow]]:
-    """Labels and anchor arrows for an ok ``result`` of ``rig`` with the ``layers`` shown (numbers from the Result)."""
+def build_labels(rig: Rig, result: Result, layers: Iterable[str],
+                 memo: dict | None = None) -> tuple[list[OverlayLabel], list[AnchorArrow]]:
+    """Labels and anchor arrows for an ok ``result`` of ``rig`` with the ``layers`` shown (numbers from the Result).
+
+    ``memo`` (a dict the caller keeps between calls) reuses the label of a piece, pass or point
+    whose numbers, names and positions are exactly those of the last call: during a drag only the
+    moved part of the rig gets new labels (the rest of the result is bit-for-bit the same).
+    """
     layers = set(layers)
     unit = rig.display.force
     sf = float(rig.settings.min_safety_factor)
+    context = (unit, sf, frozenset(layers))
+    old: dict = {}
+    if memo is not None:
+        if memo.get("_context") == context:
+            old = memo
+        memo_new: dict = {"_context": context}
     points = {p.id: p for p in rig.points}  # dict look-ups: Rig.point() is a linear search
     ropes = {r.id: r for r in rig.ropes}
     pos = {pid: _scene(p.xy) for pid, p in points.items()}
@@ -165,19 +178,25 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[
             if s.from_point not in pos or s.to_point not in pos:
                 continue
             a, b = pos[s.from_point], pos[s.to_point]
-            lines = []
-            slack = s.tension_N <= SLACK_N
-            if "tensions" in layers:
-                lines.append("slack" if slack else format_force(s.tension_N, unit))
-            if "stretch" in layers and not slack:
-                lines.append(f"{s.strain * 100:.1f} % stretch")
-            if not lines:
-                continue
-            labels.append(OverlayLabel(
-                kind="tension", key=(s.rope, s.index), lines=tuple(lines),
-                values={"tension_N": s.tension_N, "strain": s.strain, "utilization": s.utilization},
-                colour=theme.utilization_colour(s.utilization), priority=50.0 + 10.0 * min(s.utilization, 3.0),
-                base=a, end=b))
+            key = ("t", s.rope, s.index, s.tension_N, s.strain, s.utilization, a, b)
+            lab = old.get(key)
+            if lab is None:
+                lines = []
+                slack = s.tension_N <= SLACK_N
+                if "tensions" in layers:
+                    lines.append("slack" if slack else format_force(s.tension_N, unit))
+                if "stretch" in layers and not slack:
+                    lines.append(f"{s.strain * 100:.1f} % stretch")
+                if not lines:
+                    continue
+                lab = OverlayLabel(
+                    kind="tension", key=(s.rope, s.index), lines=tuple(lines),
+                    values={"tension_N": s.tension_N, "strain": s.strain, "utilization": s.utilization},
+                    colour=theme.utilization_colour(s.utilization), priority=50.0 + 10.0 * min(s.utilization, 3.0),
+                    base=a, end=b)
+            if memo is not None:
+                memo_new[key] = lab
+            labels.append(lab)
 
     if "angles" in layers:
         keys = pass_keys(rig)
@@ -192,75 +211,104 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str]) -> tuple[list[
                 continue
             at = pos[ps.at]
             prev, nxt = pos.get(rope.path[j - 1].at, at), pos.get(rope.path[j + 1].at, at)
-            u1, u2 = _unit(prev[0] - at[0], prev[1] - at[1]), _unit(nxt[0] - at[0], nxt[1] - at[1])
-            outward = _unit(-(u1[0] + u2[0]), -(u1[1] + u2[1]))  # away from both legs: outside the bight
             point = points.get(ps.at)
             hand = point is not None and not point.is_fixed and ps.at in forced
-            lines = [f"turn {fmt_angle(turn)}"]
-            values = {"turn_deg": float(turn)}
-            if hand:
-                lines.append(f"off line {fmt_angle(turn / 2.0)}")
-                values["off_line_deg"] = float(turn) / 2.0
-            labels.append(OverlayLabel(kind="angle", key=key, lines=tuple(lines), values=values,
-                                       colour=theme.ANGLE_TEXT, priority=30.0 + (5.0 if hand else 0.0),
-                                       base=at, prefer=outward))
+            mkey = ("a", key, turn, at, prev, nxt, hand)
+            lab = old.get(mkey)
+            if lab is None:
+                u1, u2 = _unit(prev[0] - at[0], prev[1] - at[1]), _unit(nxt[0] - at[0], nxt[1] - at[1])
+                outward = _unit(-(u1[0] + u2[0]), -(u1[1] + u2[1]))  # away from both legs: outside the bight
+                lines = [f"turn {fmt_angle(turn)}"]
+                values = {"turn_deg": float(turn)}
+                if hand:
+                    lines.append(f"off line {fmt_angle(turn / 2.0)}")
+                    values["off_line_deg"] = float(turn) / 2.0
+                lab = OverlayLabel(kind="angle", key=key, lines=tuple(lines), values=values,
+                                   colour=theme.ANGLE_TEXT, priority=30.0 + (5.0 if hand else 0.0),
+                                   base=at, prefer=outward)
+            if memo is not None:
+                memo_new[mkey] = lab
+            labels.append(lab)
 
     if "anchors" in layers:
         for aid, a in result.anchors.items():
             p = points.get(aid)
             if aid not in pos or p is None:
                 continue
-            rad = math.radians(a.direction_deg)
-            d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
-            colour = theme.utilization_colour(a.utilization)
-            lines = [f"{p.name} {format_force(a.force_N, unit)}"]
-            if a.utilization is not None:
-                lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
-            else:
-                lines.append("capacity not known")
             hold = result.hold_anchor_range.get(aid)
-            values = {"force_N": a.force_N, "direction_deg": a.direction_deg}
-            if a.utilization is not None:
-                values["utilization"] = a.utilization
-            if hold is not None:
-                lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
-                values.update(hold_low_N=hold.low, hold_high_N=hold.high)
-            if a.force_N > SLACK_N:
-                arrows.append(AnchorArrow(aid, pos[aid], d, colour))
-            labels.append(OverlayLabel(kind="anchor", key=aid, lines=tuple(lines), values=values, colour=colour,
-                                       priority=90.0 + min(a.utilization or 0.0, 3.0), base=pos[aid], prefer=d))
+            mkey = ("n", aid, a, p.name, hold, pos[aid])
+            hit = old.get(mkey)
+            if hit is None:
+                rad = math.radians(a.direction_deg)
+                d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
+                colour = theme.utilization_colour(a.utilization)
+                lines = [f"{p.name} {format_force(a.force_N, unit)}"]
+                if a.utilization is not None:
+                    lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
+                else:
+                    lines.append("capacity not known")
+                values = {"force_N": a.force_N, "direction_deg": a.direction_deg}
+                if a.utilization is not None:
+                    values["utilization"] = a.utilization
+                if hold is not None:
+                    lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
+                    values.update(hold_low_N=hold.low, hold_high_N=hold.high)
+                arrow = AnchorArrow(aid, pos[aid], d, colour) if a.force_N > SLACK_N else None
+                lab = OverlayLabel(kind="anchor", key=aid, lines=tuple(lines), values=values, colour=colour,
+                                   priority=90.0 + min(a.utilization or 0.0, 3.0), base=pos[aid], prefer=d)
+                hit = (lab, arrow)
+            if memo is not None:
+                memo_new[mkey] = hit
+            if hit[1] is not None:
+                arrows.append(hit[1])
+            labels.append(hit[0])
         for lid, f in result.loads.items():
             p = points.get(lid)
             if lid not in pos or p is None:
                 continue
-            rad = math.radians(f.direction_deg)
-            d = (math.cos(rad), -math.sin(rad))
-            lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
-            values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
-            colour = QColor(theme.UTIL_RAMP[0][1])
-            if p.required_N is not None:
-                enough = f.force_N >= p.required_N
-                lines.append(f"needs {format_force(p.required_N, unit)}" + ("" if enough else " — short"))
-                values["required_N"] = float(p.required_N)
-                colour = QColor(theme.UTIL_RAMP[0][1] if enough else theme.UTIL_RAMP[-1][1])
-            labels.append(OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
-                                       priority=95.0, base=pos[lid], prefer=(-d[0], -d[1])))
+            mkey = ("l", lid, f, p.name, p.required_N, pos[lid])
+            lab = old.get(mkey)
+            if lab is None:
+                rad = math.radians(f.direction_deg)
+                d = (math.cos(rad), -math.sin(rad))
+                lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
+                values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
+                colour = QColor(theme.UTIL_RAMP[0][1])
+                if p.required_N is not None:
+                    enough = f.force_N >= p.required_N
+                    lines.append(f"needs {format_force(p.required_N, unit)}" + ("" if enough else " — short"))
+                    values["required_N"] = float(p.required_N)
+                    colour = QColor(theme.UTIL_RAMP[0][1] if enough else theme.UTIL_RAMP[-1][1])
+                lab = OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
+                                   priority=95.0, base=pos[lid], prefer=(-d[0], -d[1]))
+            if memo is not None:
+                memo_new[mkey] = lab
+            labels.append(lab)
         for hid, force in result.haul.items():
             p = points.get(hid)
             if hid not in pos or p is None:
                 continue
-            lines = [f"haul {format_force(force, unit)}"]
-            values = {"force_N": float(force)}
-            if p.team:
-                each = force / p.team
-                lines.append(f"{p.team} × {format_force(each, unit)} each")
-                values.update(team=float(p.team), per_hauler_N=each)
             hold = result.hold_haul_range.get(hid)
-            if hold is not None:
-                lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
-                values.update(hold_low_N=hold.low, hold_high_N=hold.high)
-            labels.append(OverlayLabel(kind="haul", key=hid, lines=tuple(lines), values=values,
-                                       colour=QColor(theme.POINT_FILL["haul"]), priority=94.0, base=pos[hid]))
+            mkey = ("h", hid, force, p.name, p.team, hold, pos[hid])
+            lab = old.get(mkey)
+            if lab is None:
+                lines = [f"haul {format_force(force, unit)}"]
+                values = {"force_N": float(force)}
+                if p.team:
+                    each = force / p.team
+                    lines.append(f"{p.team} × {format_force(each, unit)} each")
+                    values.update(team=float(p.team), per_hauler_N=each)
+                if hold is not None:
+                    lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
+                    values.update(hold_low_N=hold.low, hold_high_N=hold.high)
+                lab = OverlayLabel(kind="haul", key=hid, lines=tuple(lines), values=values,
+                                   colour=QColor(theme.POINT_FILL["haul"]), priority=94.0, base=pos[hid])
+            if memo is not None:
+                memo_new[mkey] = lab
+            labels.append(lab)
+    if memo is not None:
+        memo.clear()
+        memo.update(memo_new)
     return labels, arrows
 
 
@@ -298,6 +346,14 @@ class _Grid:
             self.points[k] = [(x, y, owner)]
         else:
             cell.append((x, y, owner))
+
+    def remove_rect(self, r) -> None:
+        for k in self._cells(*r):
+            self.rects[k].remove(r)
+
+    def remove_point(self, x: float, y: float, owner: object) -> None:
+        c = self.cell
+        self.points[(math.floor(x / c), math.floor(y / c))].remove((x, y, owner))
 
     def hits_rect(self, r) -> bool:
         x, y, w, h = r
@@ -374,12 +430,68 @@ def _candidates(lab: OverlayLabel, to_px: Callable, w: float, h: float):
                 yield lab.base, (bp[0] + v[0] * d, bp[1] + v[1] * d), bp, leader
 
 
+def _marker_rect(x: float, y: float) -> tuple[float, float, float, float]:
+    return (x - MARKER_CLEAR_PX, y - MARKER_CLEAR_PX, 2 * MARKER_CLEAR_PX, 2 * MARKER_CLEAR_PX)
+
+
+def _piece_samples(pa: tuple[float, float], pb: tuple[float, float]):
+    """Pixel points every ``ROPE_SAMPLE_PX`` along a piece (both ends included)."""
+    length = math.hypot(pb[0] - pa[0], pb[1] - pa[1])
+    n = int(min(MAX_SAMPLES_PER_PIECE, max(1, length // ROPE_SAMPLE_PX)))
+    return [(pa[0] + (pb[0] - pa[0]) * (k / n), pa[1] + (pb[1] - pa[1]) * (k / n)) for k in range(n + 1)]
+
+
+class ObstacleCache:
+    """The placer's obstacles (point names, markers, rope pieces) in pixels, kept between placements at one transform.
+
+    Between two drag steps only the moved part of the rig changes, so the spatial hash is updated by
+    difference (obstacles gone are taken out, new ones put in) instead of being built again.  The
+    grid holds exactly what :func:`place_labels` would build from scratch.
+    """
+
+    def __init__(self) -> None:
+        self.frame: tuple | None = None
+        self.grid = _Grid()
+        self.boxes: set = set()
+        self.markers: set = set()
+        self.pieces: set = set()
+        self._samples: dict = {}
+
+    def update(self, frame: tuple, to_px: Callable, markers, pieces, boxes) -> _Grid:
+        boxes, markers, pieces = set(boxes), set(markers), set(pieces)
+        grid = self.grid
+        if frame != self.frame:
+            self.frame, grid = frame, _Grid()
+            self.grid, self.boxes, self.markers, self.pieces, self._samples = grid, set(), set(), set(), {}
+        for xy, (bx, by, bw, bh) in self.boxes - boxes:
+            x, y = to_px(xy)
+            grid.remove_rect((x + bx, y + by, bw, bh))
+        for xy, (bx, by, bw, bh) in boxes - self.boxes:
+            x, y = to_px(xy)
+            grid.add_rect((x + bx, y + by, bw, bh))
+        for m in self.markers - markers:
+            grid.remove_rect(_marker_rect(*to_px(m)))
+        for m in markers - self.markers:
+            grid.add_rect(_marker_rect(*to_px(m)))
+        for piece in self.pieces - pieces:
+            for x, y in self._samples.pop(piece):
+                grid.remove_point(x, y, piece[0])
+        for piece in pieces - self.pieces:
+            owner, a, b = piece
+            pts = self._samples[piece] = _piece_samples(to_px(a), to_px(b))
+            for x, y in pts:
+                grid.add_point(x, y, owner)
+        self.boxes, self.markers, self.pieces = boxes, markers, pieces
+        return grid
+
+
 def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float]], tuple[float, float]],
                  size_of: Callable[[OverlayLabel], tuple[float, float]],
                  markers: Iterable[tuple[float, float]] = (),
                  pieces: Iterable[tuple[object, tuple[float, float], tuple[float, float]]] = (),
                  boxes: Iterable[tuple[tuple[float, float], tuple[float, float, float, float]]] = (),
-                 previous: Mapping[tuple, tuple] | None = None) -> int:
+                 previous: Mapping[tuple, tuple] | None = None, obstacles: ObstacleCache | None = None,
+                 frame: tuple | None = None) -> int:
     """Greedy placement in screen pixels; returns how many labels were skipped.
 
     Most important first (``priority``).  Each label takes its first candidate that
@@ -391,37 +503,54 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
     ``previous`` (from :func:`placement_memo` at the same zoom) keeps a label where it
     was when its text and its piece or point moved less than ``KEEP_PX``, so labels do
     not jump about during a drag and only the moved ones are placed again.
+    ``obstacles`` (kept by the caller) with ``frame`` (what fixes ``to_px``: zoom and pan) holds the
+    obstacles between calls and updates them by difference; same placement, less work per drag step.
     """
-    grid = _Grid()
-    for xy, (bx, by, bw, bh) in boxes:
-        x, y = to_px(xy)
-        grid.add_rect((x + bx, y + by, bw, bh))
-    for m in markers:
-        x, y = to_px(m)
-        grid.add_rect((x - MARKER_CLEAR_PX, y - MARKER_CLEAR_PX, 2 * MARKER_CLEAR_PX, 2 * MARKER_CLEAR_PX))
-    for owner, a, b in pieces:
-        pa, pb = to_px(a), to_px(b)
-        length = math.hypot(pb[0] - pa[0], pb[1] - pa[1])
-        n = int(min(MAX_SAMPLES_PER_PIECE, max(1, length // ROPE_SAMPLE_PX)))
-        for k in range(n + 1):
-            t = k / n
-            grid.add_point(pa[0] + (pb[0] - pa[0]) * t, pa[1] + (pb[1] - pa[1]) * t, owner)
+    same_frame = obstacles is not None and frame is not None and obstacles.frame == frame
+    if obstacles is not None and frame is not None:
+        grid = obstacles.update(frame, to_px, markers, pieces, boxes)
+    else:
+        grid = _Grid()
+        for xy, (bx, by, bw, bh) in boxes:
+            x, y = to_px(xy)
+            grid.add_rect((x + bx, y + by, bw, bh))
+        for m in markers:
+            grid.add_rect(_marker_rect(*to_px(m)))
+        for owner, a, b in pieces:
+            for x, y in _piece_samples(to_px(a), to_px(b)):
+                grid.add_point(x, y, owner)
+    placed: list = []  # this call's label rects, taken out of a kept obstacle grid again at the end
+    try:
+        return _place(labels, to_px, size_of, previous, grid, placed, same_frame)
+    finally:
+        if obstacles is not None and grid is obstacles.grid:
+            for r in placed:
+                grid.remove_rect(r)
+
+
+def _place(labels, to_px, size_of, previous, grid: _Grid, placed: list, same_frame: bool) -> int:
+    """:func:`place_labels` once the obstacles are in ``grid``: each label placed is added to it and to ``placed``."""
+    hits = grid.hits_rect
     skipped = 0
     ordered = sorted(labels, key=lambda l: -l.priority)
     todo = []
     for lab in ordered:
         lab.placed = False
         memo = previous.get((lab.kind, lab.key)) if previous else None
-        if memo is not None and memo[0] == lab.lines and _near(memo[1], to_px(lab.base)) and (
-                lab.end is None or _near(memo[2], to_px(lab.end))):
+        # the very label object of the last call at the same transform sits where it sat (build_labels
+        # hands out the same object only for the same text and position)
+        if memo is not None and ((same_frame and len(memo) > 6 and memo[6] is lab) or (
+                memo[0] == lab.lines and _near(memo[1], to_px(lab.base)) and (
+                lab.end is None or _near(memo[2], to_px(lab.end))))):
             at, rect, leader = memo[3], memo[4], memo[5]
             if at is None:  # it was skipped last time and nothing changed: skip again without searching
                 skipped += 1
                 continue
             ax, ay = to_px(at)
             r = (ax + rect[0], ay + rect[1], rect[2], rect[3])
-            if not grid.hits_rect(r):
+            if not hits(r):
                 grid.add_rect(r)
+                placed.append(r)
                 lab.placed, lab.at, lab.rect, lab.leader = True, at, rect, leader
                 continue
         todo.append(lab)
@@ -431,7 +560,7 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
         own = lab.key if lab.kind == "tension" else None
         for base_s, c, bp, leader in _candidates(lab, to_px, w, h):
             r = (c[0] - w / 2.0, c[1] - h / 2.0, w, h)
-            if grid.hits_rect(r):
+            if hits(r):
                 continue
             crossing = grid.crossings(r, own) > 0
             if not crossing or leader:
@@ -446,14 +575,35 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
             continue
         base_s, r, bp, leader = choice
         grid.add_rect(r)
+        placed.append(r)
         lab.placed = True
         lab.at = base_s
         lab.rect = (r[0] - bp[0], r[1] - bp[1], r[2], r[3])
         lab.leader = leader
     return skipped
 
-
 KEEP_PX = 0.75
+LEADER_DOT_PX = 1.8  # radius of the dot a leader starts from
+
+
+def _pixmap_entry(kind: str, pix: QPixmap, x: float, y: float) -> tuple:
+    """A retained-layer entry (``sketchpad.retained``) blitting ``pix`` with its top-left at (x, y) device px."""
+    return ((kind, pix.cacheKey(), x, y), QRect(math.floor(x) - 1, math.floor(y) - 1, pix.width() + 3, pix.height() + 3),
+            (pix, QPointF(x, y)))
+
+
+def _arrow_bounds(direction: tuple[float, float]) -> QRectF:
+    """Pixels (relative to the anchor) an anchor arrow along the unit ``direction`` can touch: shaft and head."""
+    dx, dy = direction
+    a = (dx * MARKER_CLEAR_PX, dy * MARKER_CLEAR_PX)
+    b = (dx * theme.ANCHOR_ARROW_PX, dy * theme.ANCHOR_ARROW_PX)
+    m = max(theme.ANCHOR_ARROW_HEAD_PX * 0.5, theme.ANCHOR_ARROW_WIDTH_PX) + 2.0
+    return QRectF(min(a[0], b[0]), min(a[1], b[1]), abs(b[0] - a[0]), abs(b[1] - a[1])).adjusted(-m, -m, m, m)
+
+
+def _leader_end(x: float, y: float, w: float, h: float) -> tuple[float, float]:
+    """The point of a label box (x, y, w, h px, relative to its anchor) nearest the anchor: where the leader ends."""
+    return (min(max(0.0, x), x + w), min(max(0.0, y), y + h))
 
 
 def _near(a, b) -> bool:
@@ -463,7 +613,7 @@ def _near(a, b) -> bool:
 def placement_memo(labels: Iterable[OverlayLabel], to_px) -> dict[tuple, tuple]:
     """Where each label went (or that it was skipped), for :func:`place_labels`'s ``previous`` at the same zoom."""
     return {(l.kind, l.key): (l.lines, to_px(l.base), None if l.end is None else to_px(l.end),
-                               l.at if l.placed else None, l.rect, l.leader) for l in labels}
+                               l.at if l.placed else None, l.rect, l.leader, l) for l in labels}
 
 
 # --- shapely -> QPainterPath --------------------------------------------------------------------------
@@ -577,6 +727,11 @@ class ForceItem(_LayerItem):
         self._fail_pen = theme.pixel_pen(theme.BANNER_BACK, 3.0)
         self._size_cache: dict[str, tuple[float, float]] = {}
         self._pixmap_cache: dict[tuple, QPixmap] = {}
+        self._retained_marks = RetainedLayer()  # rings, arrows, leaders, labels as last painted
+        self._band_layers: dict[int, RetainedLayer] = {}  # per band colour
+        self._entry_memo: dict = {}  # retained-layer entries of the last frame, by what they show
+        self._band_memo: dict = {}
+        self._flat_pens: dict[int, QPen] = {}
 
     # --- building (outside paint) ---------------------------------------------------------------
     def pen_for(self, colour: QColor, width: float) -> QPen:
@@ -637,7 +792,7 @@ class ForceItem(_LayerItem):
         if pix is not None:
             return pix
         if len(self._pixmap_cache) > PIXMAP_CACHE_MAX:
-            self._pixmap_cache.clear()
+            drop_oldest(self._pixmap_cache)
         w, h = self.label_size(lab)
         pix = QPixmap(int(w) + 1, int(h) + 1)
         pix.fill(Qt.transparent)
@@ -674,12 +829,18 @@ class ForceItem(_LayerItem):
 
     def paint_leader(self, painter: QPainter, anchor: QPointF, box: QRectF) -> None:
         """The leader from a label's anchor point to the nearest point of its box, with a dot on the anchor (device px)."""
+        painter.save()
+        painter.translate(anchor)
+        ex, ey = _leader_end(box.left() - anchor.x(), box.top() - anchor.y(), box.width(), box.height())
+        self._draw_leader(painter, ex, ey)
+        painter.restore()
+
+    def _draw_leader(self, painter: QPainter, ex: float, ey: float) -> None:
+        """A leader from the origin (the dot) to (ex, ey) px."""
         painter.setPen(self._leader_pen)
-        cx = min(max(anchor.x(), box.left()), box.right())
-        cy = min(max(anchor.y(), box.top()), box.bottom())
-        painter.drawLine(anchor, QPointF(cx, cy))
+        painter.drawLine(QPointF(0.0, 0.0), QPointF(ex, ey))
         painter.setBrush(theme.OVERLAY_LEADER)
-        painter.drawEllipse(anchor, 1.8, 1.8)
+        painter.drawEllipse(QPointF(0.0, 0.0), LEADER_DOT_PX, LEADER_DOT_PX)
 
     def set_labels(self, labels: list[OverlayLabel], arrows: list[AnchorArrow], m_per_px: float) -> None:
         self.labels, self.arrows = labels, arrows
@@ -711,6 +872,8 @@ class ForceItem(_LayerItem):
     # --- painting -----------------------------------------------------------------------------------
     def paint(self, painter: QPainter, option, widget=None) -> None:
         painter.setRenderHint(QPainter.Antialiasing, True)
+        if not self.grey and self._paint_retained(painter):
+            return
         if self.grey:
             painter.setOpacity(theme.OVERLAY_GREY_OPACITY)
         if self.grey or not self._paint_bands_layered(painter):
@@ -738,7 +901,14 @@ class ForceItem(_LayerItem):
             for ax, ay, x, y, w, h, leader, pix in self._draw:
                 px, py = t.map(ax, ay)
                 if leader:
-                    self.paint_leader(painter, QPointF(px, py), QRectF(px + x, py + y, w, h))
+                    if dpr is None:
+                        self.paint_leader(painter, QPointF(px, py), QRectF(px + x, py + y, w, h))
+                    else:  # a leader depends only on its box offset: blit it (a translucent slanted
+                        # line costs Qt's raster engine ~50 us when drawn directly, a blit ~3 us)
+                        ex, ey = _leader_end(x, y, w, h)
+                        blit_cached(painter, QPointF(px, py), dpr, ("leader", ex, ey),
+                                    QRectF(min(ex, 0.0), min(ey, 0.0), abs(ex), abs(ey)).adjusted(-3, -3, 3, 3),
+                                    lambda p, ex=ex, ey=ey: self._draw_leader(p, ex, ey))
                 painter.drawPixmap(QPointF(px + x, py + y), pix)
             labels = ()
         else:
@@ -756,6 +926,165 @@ class ForceItem(_LayerItem):
             painter.setPen(self._fail_pen)
             painter.setBrush(Qt.NoBrush)
             painter.drawEllipse(t.map(QPointF(*self.fail_point)), theme.FAIL_RING_PX, theme.FAIL_RING_PX)
+
+    def _paint_retained(self, painter: QPainter) -> bool:
+        """On screen: bands, rings, arrows, leaders and labels kept in retained layers (``sketchpad.retained``)
+        and redrawn only where something changed, then laid down in the order :meth:`paint` draws them.
+
+        A drag step changes the labels and bands of the moved part of the rig only, so the frame
+        costs in proportion to that.  Only for raster painting at 1:1 device pixels with a plain
+        zoom (not greyed); returns False (and draws nothing) otherwise.
+        """
+        if self._draw_for is not self.labels or self._draw_grey != self.grey:
+            return False
+        engine = painter.paintEngine()
+        device = painter.device()
+        t = painter.worldTransform()
+        if (engine is None or engine.type() != QPaintEngine.Raster or painter.viewTransformEnabled()
+                or device.devicePixelRatioF() != 1.0 or t.m12() != 0.0 or t.m21() != 0.0 or not t.isAffine()
+                or painter.opacity() != 1.0):
+            return False
+        m11, m22, dx, dy = t.m11(), t.m22(), t.dx(), t.dy()
+        area = QRect(0, 0, device.width(), device.height())
+        bands = self._retained_bands(m11, m22, dx, dy, area)
+        if bands is None:
+            return False
+        marks = self._retained_marks.update((m11, m22, dx, dy), area, self._mark_entries(m11, m22, dx, dy))
+        painter.save()
+        painter.resetTransform()
+        for image, at, alpha in bands:
+            painter.setOpacity(alpha)
+            painter.drawImage(at, image)
+        painter.setOpacity(1.0)
+        painter.drawImage(area.topLeft(), marks)
+        painter.restore()
+        return True
+
+    def _mark_entries(self, m11: float, m22: float, dx: float, dy: float):
+        """(key, device box, op) of the solved-point rings, anchor arrows, leaders and labels, in paint order.
+
+        An entry depends only on the frame's transform and on what it shows, so entries are kept
+        from the last frame (a drag step changes a few of them).
+        """
+        frame = (m11, m22, dx, dy)
+        memo = self._entry_memo if self._entry_memo.get("_frame") == frame else {}
+        new: dict = {"_frame": frame}
+        out = []
+        r = theme.OVERLAY_SOLVED_POINT_PX
+        reach = r + 2.0
+        ring_bounds = QRectF(-reach, -reach, 2 * reach, 2 * reach)
+        for m in self.moved_points:
+            k = ("r", m)
+            e = memo.get(k)
+            if e is None:
+                pix, x, y = cached_blit_at(m[0] * m11 + dx, m[1] * m22 + dy, 1.0, ("solved-ring", r), ring_bounds,
+                                           self._draw_ring)
+                e = _pixmap_entry("ring", pix, x, y)
+            new[k] = e
+            out.append(e)
+        for arrow in self.arrows:
+            colour = arrow.colour
+            k = ("a", arrow.base, arrow.direction, colour.rgba())
+            e = memo.get(k)
+            if e is None:
+                pix, x, y = cached_blit_at(arrow.base[0] * m11 + dx, arrow.base[1] * m22 + dy, 1.0,
+                                           ("anchor-arrow", arrow.direction, colour.rgba()), _arrow_bounds(arrow.direction),
+                                           lambda p, a=arrow, c=colour: self._draw_arrow(p, QPointF(0.0, 0.0), a.direction, c))
+                e = _pixmap_entry("arrow", pix, x, y)
+            new[k] = e
+            out.append(e)
+        for item in self._draw:
+            k = ("l", item)
+            es = memo.get(k)
+            if es is None:
+                ax, ay, x, y, w, h, leader, pix = item
+                px, py = ax * m11 + dx, ay * m22 + dy
+                es = []
+                if leader:
+                    ex, ey = _leader_end(x, y, w, h)
+                    lpix, lx, ly = cached_blit_at(px, py, 1.0, ("leader", ex, ey),
+                                                  QRectF(min(ex, 0.0), min(ey, 0.0), abs(ex), abs(ey)).adjusted(-3, -3, 3, 3),
+                                                  lambda p, ex=ex, ey=ey: self._draw_leader(p, ex, ey))
+                    es.append(_pixmap_entry("leader", lpix, lx, ly))
+                es.append(_pixmap_entry("label", pix, px + x, py + y))
+            new[k] = es
+            out.extend(es)
+        self._entry_memo = new
+        return out
+
+    def _retained_bands(self, m11: float, m22: float, dx: float, dy: float, area: QRect):
+        """(image, top-left, alpha) per utilization band, each a retained layer of opaque pieces laid down
+        at the band's alpha (see :meth:`_paint_bands_layered`); None when the layers would be too large."""
+        if len(self.band_ends) != len(self.bands):
+            return None
+        half = theme.OVERLAY_BAND_PX / 2.0
+        pad = int(math.ceil(half)) + 3
+        frame = (m11, m22, dx, dy)
+        memo = self._band_memo if self._band_memo.get("_frame") == frame else {}
+        new: dict = {"_frame": frame}
+        out = []
+        total = 0
+        live = set()
+        for (pen, _path), ends in zip(self.bands, self.band_ends):
+            colour = QColor(pen.color())
+            alpha = colour.alphaF()
+            colour.setAlpha(255)
+            rgba = colour.rgba()
+            flat = self._flat_pens.get(rgba)
+            if flat is None:
+                flat = self._flat_pens[rgba] = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
+            entries = []
+            x0 = y0 = math.inf
+            x1 = y1 = -math.inf
+            for i in range(0, len(ends) - 1, 2):
+                k = (ends[i], ends[i + 1], rgba)
+                e = memo.get(k)
+                if e is None:
+                    (sa, ta), (sb, tb) = ends[i], ends[i + 1]
+                    a, b = (sa * m11 + dx, ta * m22 + dy), (sb * m11 + dx, tb * m22 + dy)
+                    box = QRect(math.floor(min(a[0], b[0])) - pad, math.floor(min(a[1], b[1])) - pad,
+                                math.ceil(abs(a[0] - b[0])) + 2 * pad + 1, math.ceil(abs(a[1] - b[1])) + 2 * pad + 1)
+                    e = ((a, b), box, lambda p, a=a, b=b, f=flat, c=rgba: self._draw_band_piece(p, f, c, half, a, b))
+                new[k] = e
+                entries.append(e)
+                box = e[1]
+                x0, y0 = min(x0, box.left()), min(y0, box.top())
+                x1, y1 = max(x1, box.right()), max(y1, box.bottom())
+            if not entries:
+                continue
+            # the layer's area snapped to 64 px, so a piece moving a little does not resize it
+            g = 64
+            x0, y0 = x0 // g * g, y0 // g * g
+            x1, y1 = x1 // g * g + g, y1 // g * g + g
+            r = QRect(x0, y0, x1 - x0, y1 - y0).intersected(area)
+            if r.isEmpty():
+                continue
+            total += r.width() * r.height()
+            if total > 2 * area.width() * area.height():
+                return None  # zoomed far in with many bands: layers would cost more than they save
+            layer = self._band_layers.get(rgba)
+            if layer is None:
+                layer = self._band_layers[rgba] = RetainedLayer()
+            live.add(rgba)
+            out.append((layer.update((m11, m22, dx, dy, rgba), r, entries), r.topLeft(), alpha))
+        for rgba in [k for k in self._band_layers if k not in live]:
+            del self._band_layers[rgba]
+        self._band_memo = new
+        return out
+
+    def _draw_band_piece(self, p: QPainter, flat: QPen, rgba: int, half: float, a, b) -> None:
+        """One opaque band piece (device px): a flat-capped stroke and a disc at each end (the round caps)."""
+        p.setPen(flat)
+        p.drawLine(QPointF(*a), QPointF(*b))
+        c = int(math.ceil(half)) + 1
+        for x, y in (a, b):
+            ix, iy = math.floor(x), math.floor(y)
+            fx, fy = round((x - ix) * 4) / 4, round((y - iy) * 4) / 4
+            if fx >= 1.0:
+                ix, fx = ix + 1, 0.0
+            if fy >= 1.0:
+                iy, fy = iy + 1, 0.0
+            p.drawPixmap(ix - c, iy - c, self._band_dot(rgba, fx, fy, half))
 
     def _paint_bands_layered(self, painter: QPainter) -> bool:
         """The utilization bands, drawn opaque into a layer per band and laid down at the band's alpha.
@@ -844,9 +1173,7 @@ class ForceItem(_LayerItem):
         colour = theme.OVERLAY_GREY if self.grey else arrow.colour
         base = t.map(QPointF(*arrow.base))
         if dpr is not None:  # on screen: arrows that did not change (most, during a drag) are blitted
-            reach = theme.ANCHOR_ARROW_PX + theme.ANCHOR_ARROW_WIDTH_PX
-            blit_cached(painter, base, dpr, ("anchor-arrow", arrow.direction, colour.rgba()),
-                        QRectF(-reach, -reach, 2 * reach, 2 * reach),
+            blit_cached(painter, base, dpr, ("anchor-arrow", arrow.direction, colour.rgba()), _arrow_bounds(arrow.direction),
                         lambda p: self._draw_arrow(p, QPointF(0.0, 0.0), arrow.direction, colour))
             return
         self._draw_arrow(painter, base, arrow.direction, colour)
@@ -1052,7 +1379,10 @@ class ResultOverlay(QObject):
         self.layer_actions: dict[str, QAction] = {}
         self._memo: dict = {}
         self._memo_scale = 0.0
+        self._label_memo: dict = {}  # build_labels' reuse of unchanged labels between solves
+        self._obstacles = ObstacleCache()  # the placer's obstacles, updated by difference between solves
         self._zones_due = True
+        self._summary: list[str] = []  # summary_lines of the result drawn
         self._name_fm = QFontMetricsF(theme.font())
         self._name_box_cache: dict[tuple[str, str], tuple[float, float, float, float]] = {}
 
@@ -1138,7 +1468,7 @@ class ResultOverlay(QObject):
             return
         rig, result = self.rig, self.result
         self.pieces = self.force_item.set_bands(rig, result)
-        labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on])
+        labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on], self._label_memo)
         self.force_item.labels, self.force_item.arrows = labels, arrows
         if self.layers["zones"] and not getattr(self, "_zones_due", True):
             pass  # a drag step: zones follow the settled result
@@ -1155,14 +1485,19 @@ class ResultOverlay(QObject):
             self.zones = []
             self.zones_item.set_zones(self.zones)
         self._zones_due = True
+        self._summary = summary_lines(rig, result)
         self.relayout()
-        lines = summary_lines(rig, result)
+        self.legend.show()
+
+    def _update_legend(self) -> None:
+        """The legend's lines: the system summary, how many labels the placer hid, and a failed solve."""
+        lines = list(self._summary)
         if self.skipped:
             lines.append(f"{self.skipped} label{'s' if self.skipped != 1 else ''} hidden to avoid overlap: zoom in")
+        grey = self.failed is not None
         if grey:
             lines.append("solve failed: last good result, greyed")
         self.legend.set_content(lines, self.layers["zones"], grey)
-        self.legend.show()
 
     def _m_per_px(self) -> float:
         return 1.0 / max(self.view.px_per_m, 1e-12)
@@ -1184,9 +1519,11 @@ class ResultOverlay(QObject):
             markers = list(dict.fromkeys(markers))  # a fixed point's solved place is its drawn one
         previous = self._memo if self._memo_scale == m11 else None
         self.skipped = place_labels(self.force_item.labels, to_px, self.force_item.label_size, markers, self.pieces,
-                                    boxes, previous)
+                                    boxes, previous, self._obstacles, (m11, t.m22(), dx, dy))
         self._memo, self._memo_scale = placement_memo(self.force_item.labels, to_px), m11
         self.force_item.refresh_rect(self._m_per_px())
+        if self.result is not None and self.rig is not None:
+            self._update_legend()  # after a zoom too: how many labels are hidden changes with it
 
     def _name_boxes(self, rig: Rig) -> list:
         """Pixel rects of the point names the canvas draws beside each marker (sketchpad.items.PointItem)."""

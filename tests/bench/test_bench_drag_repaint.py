@@ -4,7 +4,9 @@ Goal: p95 <= 16 ms (one frame at 60 Hz) on the 2-core CI machine.  During a drag
 runs the equilibrium alone (``solver.equilibrium.solve``); the safety checks, zones and tables
 follow once the rig is still (``SETTLE_MS``), so that is what one step here measures.  CI runs it once with
 --benchmark-disable (correctness asserted, never time); measure with
-``python -m pytest tests/bench/test_bench_drag_repaint.py --benchmark-enable --benchmark-only``.
+``python -m pytest tests/bench/test_bench_drag_repaint.py --benchmark-enable --benchmark-only -s``:
+the p95 of the rounds and the median of each part of a step (preview, fire = solve + overlay
+rebuild, repaint) are printed and stored in ``extra_info``.
 The parts are tracked on their own by ``test_bench_canvas_repaint.py`` (a frame with nothing
 changed, and one after a zoom) and ``test_bench_analyse.py`` (the settled analysis).  The rig is
 ``fifty_ropes.fifty_rope_rig``; the ``window`` fixture is in ``conftest.py``.
@@ -13,6 +15,14 @@ changed, and one after a zoom) and ``test_bench_analyse.py`` (the settled analys
 from __future__ import annotations
 
 import math
+import statistics
+import time
+
+
+def _p95(values: list[float]) -> float:
+    """The 95th percentile (nearest rank) of ``values``."""
+    ordered = sorted(values)
+    return ordered[max(0, math.ceil(0.95 * len(ordered)) - 1)]
 
 
 def test_drag_step_on_a_50_rope_rig(benchmark, window):
@@ -20,15 +30,22 @@ def test_drag_step_on_a_50_rope_rig(benchmark, window):
     base = doc.rig
     h = base.point("H4")
     step = {"i": 0}
+    parts: dict[str, list[float]] = {"preview": [], "fire": [], "repaint": []}
     # every step counts as part of one drag (changes closer than the settle time), as at 60 Hz
     sched.settle_timer.setInterval(600_000)
 
     def drag_step():
         step["i"] += 1
         a = step["i"] * 0.15
+        t0 = time.perf_counter()
         doc.preview(base.moved("H4", h.x + 1.5 * math.sin(a), h.y + 1.5 * math.cos(a)))  # what the select tool does
+        t1 = time.perf_counter()
         sched.fire()  # what the coalescing timer does (a drag: equilibrium now, checks once still)
+        t2 = time.perf_counter()
         view.viewport().repaint()  # synchronous paint of the whole viewport (overlay included)
+        t3 = time.perf_counter()
+        for name, dt in (("preview", t1 - t0), ("fire", t2 - t1), ("repaint", t3 - t2)):
+            parts[name].append(dt)
 
     benchmark.pedantic(drag_step, rounds=60, iterations=1, warmup_rounds=3)
     assert not sched.settled  # the drag path was measured
@@ -36,3 +53,11 @@ def test_drag_step_on_a_50_rope_rig(benchmark, window):
     assert res.ok and res.revision == doc.revision, res.message
     tens = {lab.key: lab.values["tension_N"] for lab in window.live.overlay.labels if lab.kind == "tension"}
     assert tens == {(s.rope, s.index): s.tension_N for s in res.segments}
+    stats = getattr(benchmark, "stats", None)
+    if stats is not None and stats.stats.data:  # timing on (CI runs with --benchmark-disable: nothing to report)
+        rounds = list(stats.stats.data)
+        benchmark.extra_info["p95_ms"] = round(_p95(rounds) * 1e3, 2)
+        for name, values in parts.items():  # warm-up rounds included; the medians barely notice
+            benchmark.extra_info[f"{name}_median_ms"] = round(statistics.median(values) * 1e3, 2)
+            benchmark.extra_info[f"{name}_p95_ms"] = round(_p95(values) * 1e3, 2)
+        print("\ndrag step on 50 ropes (ms): " + ", ".join(f"{k} {v}" for k, v in benchmark.extra_info.items()))

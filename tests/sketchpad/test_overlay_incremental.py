@@ -1,0 +1,277 @@
+"""Work saved between frames (memoised labels, retained overlay layers, the cached grid and HUD) changes nothing shown."""
+
+from __future__ import annotations
+
+import random
+
+import numpy as np
+import pytest
+from PySide6.QtCore import QPointF, QRect, QRectF, Qt
+from PySide6.QtGui import QColor, QImage, QPainter, QPixmap, QTransform
+from PySide6.QtWidgets import QApplication
+
+from sketchpad.retained import RetainedLayer
+from tests.sketchpad.test_overlay import open_sample
+
+# Compositing the same drawables into a layer first and then onto the canvas, or straight onto the
+# canvas, differs only by 8-bit rounding of premultiplied colours: a channel may be off by a few units.
+ROUNDING = 3
+
+
+def pixels(image: QImage) -> np.ndarray:
+    im = image.convertToFormat(QImage.Format_RGBA8888)
+    rows = np.frombuffer(im.constBits(), np.uint8).reshape(im.height(), im.bytesPerLine() // 4, 4)
+    return rows[:, : im.width()].astype(int)
+
+
+def fresh(size: tuple[int, int], entries) -> QImage:
+    """Every drawable painted afresh, in order, onto a transparent image."""
+    image = QImage(size[0], size[1], QImage.Format_ARGB32_Premultiplied)
+    image.fill(Qt.transparent)
+    p = QPainter(image)
+    p.setRenderHint(QPainter.Antialiasing, True)
+    for _key, _box, (pix, at) in entries:
+        p.drawPixmap(at, pix)
+    p.end()
+    return image
+
+
+def test_a_retained_layer_redrawn_only_where_drawables_changed_equals_one_drawn_afresh():
+    rng = random.Random(5)
+    swatches = []
+    for i in range(6):  # translucent chips that overlap each other
+        pix = QPixmap(14 + 5 * i, 9 + 3 * i)
+        pix.fill(QColor.fromHsv(60 * i, 200, 220, 90 + 25 * i))
+        swatches.append(pix)
+
+    def entry(k, x, y):
+        pix = swatches[k]
+        return ((k, x, y), QRect(int(x) - 1, int(y) - 1, pix.width() + 3, pix.height() + 3), (pix, QPointF(x, y)))
+
+    things = [(rng.randrange(6), rng.uniform(0, 180), rng.uniform(0, 120)) for _ in range(40)]
+    layer = RetainedLayer()
+    area = QRect(0, 0, 220, 150)
+    for step in range(25):
+        for _ in range(rng.randrange(1, 4)):  # a few drawables move, appear or go away, as in a drag
+            i = rng.randrange(len(things))
+            k, x, y = things[i]
+            if rng.random() < 0.7:
+                things[i] = (k, x + rng.uniform(-6, 6), y + rng.uniform(-6, 6))
+            else:
+                things[i] = (rng.randrange(6), rng.uniform(0, 180), rng.uniform(0, 120))
+        entries = [entry(*t) for t in things]
+        got = pixels(layer.update(("frame",), area, entries))
+        want = pixels(fresh((220, 150), entries))
+        assert np.abs(got - want).max() <= ROUNDING, f"step {step}"
+    assert layer.partial_redraws >= 20  # the layer was mostly patched, not redrawn
+
+
+def test_duplicate_drawables_are_each_kept_once_one_of_them_goes():
+    pix = QPixmap(10, 10)
+    pix.fill(QColor(200, 0, 0, 100))
+    e = ((1,), QRect(4, 4, 13, 13), (pix, QPointF(5, 5)))
+    layer = RetainedLayer()
+    area = QRect(0, 0, 30, 30)
+    two = pixels(layer.update(("f",), area, [e, e])).copy()
+    one = pixels(layer.update(("f",), area, [e]))
+    assert np.abs(one - pixels(fresh((30, 30), [e]))).max() <= ROUNDING
+    assert (two[8, 8, 3] > one[8, 8, 3])  # two translucent layers were more opaque than one
+
+
+def test_the_overlay_after_a_drag_through_the_viewport_matches_the_overlay_drawn_afresh(main_window, mouse, qtbot):
+    open_sample(main_window, "two-point-anchor.rig.json")
+    sched, vp = main_window.live.scheduler, main_window.view.viewport()
+    item = main_window.live.overlay.force_item
+    h = main_window.document.rig.point("H1")
+    mouse.press(h.x, h.y)
+    for i in range(1, 7):
+        mouse.move(h.x + 0.3 * i, h.y - 0.5 * i)
+        qtbot.waitUntil(lambda: sched.result is not None and sched.result.revision == main_window.document.revision,
+                        timeout=3000)
+        vp.repaint()  # a frame per step, as the screen shows them
+    assert item._retained_marks.partial_redraws > 0  # drag frames were patched, not drawn afresh
+    patched = pixels(vp.grab().toImage())
+    item._retained_marks.clear()
+    for layer in item._band_layers.values():
+        layer.clear()
+    drawn_afresh = pixels(vp.grab().toImage())
+    d = np.abs(patched - drawn_afresh).max(axis=2)
+    ys, xs = np.nonzero(d > ROUNDING)
+    assert not len(ys), f"{len(ys)} pixels differ, x {xs.min()}-{xs.max()}, y {ys.min()}-{ys.max()}, by up to {d.max()}"
+    mouse.release(h.x + 1.8, h.y - 3.0)
+
+
+def test_the_cached_grid_follows_zoom_and_the_grid_toggle(main_window):
+    view, vp = main_window.view, main_window.view.viewport()
+
+    def direct() -> np.ndarray:
+        """The background drawn straight into an image through the view's transform (no cache)."""
+        image = QImage(vp.width(), vp.height(), QImage.Format_ARGB32_Premultiplied)
+        p = QPainter(image)
+        p.setTransform(view.viewportTransform())
+        view._paint_background(p, view.viewportTransform().inverted()[0].mapRect(QRectF(vp.rect())))
+        p.end()
+        return pixels(image)
+
+    # clear of the scale bar, the north arrow, the banner and the legend (which an empty rig's solve may show)
+    middle = (slice(100, vp.height() - 300), slice(120, vp.width() - 300))
+    for step in ("start", "zoom", "grid off", "grid on", "zoom out"):
+        if step == "zoom":
+            view.zoom_at(1.7, vp.rect().center())
+        elif step == "zoom out":
+            view.zoom_at(0.2, vp.rect().center())
+        elif step.startswith("grid"):
+            main_window.action_grid.setChecked(step == "grid on")
+        shown = pixels(vp.grab().toImage())
+        d = np.abs(shown[middle] - direct()[middle]).max(axis=2)
+        ys, xs = np.nonzero(d)
+        assert not len(ys), (step, len(ys), xs.min(), xs.max(), ys.min(), ys.max(), d.max())
+
+
+@pytest.mark.parametrize("unit", ["metric", "imperial"])
+def test_the_scale_bar_and_north_arrow_fit_the_rects_their_cached_pixmaps_cover(main_window, unit):
+    view, vp = main_window.view, main_window.view.viewport()
+    main_window.set_units(unit)
+    lengths = set()
+    for factor in (1.0, 3.0, 0.25, 11.0):
+        view.zoom_at(factor, vp.rect().center())
+        image = QImage(vp.width(), vp.height(), QImage.Format_ARGB32_Premultiplied)
+        image.fill(Qt.transparent)
+        p = QPainter(image)
+        p.setRenderHint(QPainter.Antialiasing, True)
+        view._draw_scale_bar(p)
+        view._draw_orientation(p)
+        p.end()
+        inked = pixels(image)[:, :, 3] > 0
+        covered = np.zeros_like(inked)
+        for r in (view._scale_bar_rect(view.scale_bar_length_m()), view._orientation_rect()):
+            covered[r.top():r.bottom() + 1, r.left():r.right() + 1] = True
+        assert inked.any() and not (inked & ~covered).any(), f"zoom x{factor}: HUD ink outside its cached rect"
+        lengths.add(view.scale_bar_length_m())
+        bar = view._scale_bar_rect(view.scale_bar_length_m())
+        shown = pixels(vp.grab().toImage())[bar.top():bar.bottom(), bar.left():bar.right()]
+        assert np.abs(shown[:, :, 3] - 255).max() == 0  # drawn over the paper, not left transparent
+    assert len(lengths) >= 3  # the bar's length followed the zoom
+
+
+def _label_fields(lab) -> tuple:
+    return (lab.kind, lab.key, lab.lines, dict(lab.values), lab.colour.rgba(), lab.priority, lab.base, lab.end, lab.prefer)
+
+
+def test_labels_reused_between_drag_solves_equal_labels_built_afresh():
+    from sketchpad.live_solve import warm_start
+    from sketchpad.overlay import LAYERS, build_labels
+    from solver.equilibrium import solve
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    rig = fifty_rope_rig()
+    h = rig.point("H4")
+    memo: dict = {}
+    prev_rig, prev = rig, solve(rig)
+    reused = 0
+    for i in range(1, 6):
+        moved = rig.moved("H4", h.x + 1.5 * i, h.y - 0.5 * i)
+        res = solve(moved, start=warm_start(moved, prev_rig, prev))
+        assert res.ok, res.message
+        before = {id(v[0] if isinstance(v, tuple) else v) for k, v in memo.items() if k != "_context"}
+        got, got_arrows = build_labels(moved, res, LAYERS, memo)
+        want, want_arrows = build_labels(moved, res, LAYERS)
+        assert [_label_fields(a) for a in got] == [_label_fields(b) for b in want]
+        assert [(a.point_id, a.base, a.direction, a.colour.rgba()) for a in got_arrows] == \
+            [(a.point_id, a.base, a.direction, a.colour.rgba()) for a in want_arrows]
+        reused += sum(id(lab) in before for lab in got)
+        prev_rig, prev = moved, res
+    assert reused > 100  # the parts of the rig the drag did not touch kept their labels
+    # a change of display unit builds every label again, in the new unit
+    from sketchpad.tools import set_display
+
+    in_lbf = set_display(prev_rig, "ft", "lbf")
+    got, _ = build_labels(in_lbf, prev, LAYERS, memo)
+    tension_lines = [lab.lines[0] for lab in got if lab.kind == "tension" and lab.lines[0] != "slack"]
+    assert tension_lines and all(line.endswith("lbf") for line in tension_lines)
+
+
+def test_rope_items_follow_every_moved_point_when_only_the_ropes_through_it_are_laid_out_again(main_window):
+    from sketchpad.canvas import SketchScene
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    doc, scene = main_window.document, main_window.view.sketch_scene
+    doc.replace_all(fifty_rope_rig())
+    rig = doc.rig
+    for pid, dx, dy in (("H4", 1.0, -2.0), ("M2", -0.5, 0.7), ("H4", 3.0, 1.0), ("R7", 0.0, -1.5)):
+        p = rig.point(pid)
+        rig = rig.moved(pid, p.x + dx, p.y + dy)
+        doc.preview(rig)  # a drag step: same ropes, one point moved
+    fresh = SketchScene()  # the same rig laid out from nothing
+    fresh.set_scale(scene.scale_m_per_px)
+    fresh.sync(rig)
+
+    def outline(item) -> list[tuple[float, float]]:
+        path = item._path
+        return [(round(path.elementAt(i).x, 9), round(path.elementAt(i).y, 9)) for i in range(path.elementCount())]
+
+    for r in rig.ropes:
+        got, want = scene.item_for(("rope", r.id)), fresh.item_for(("rope", r.id))
+        assert outline(got) == outline(want), r.id
+
+
+def test_placement_with_obstacles_kept_between_drag_steps_equals_placement_from_scratch(main_window):
+    import copy
+
+    from sketchpad.overlay import place_labels, placement_memo
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    doc, sched, view = main_window.document, main_window.live.scheduler, main_window.view
+    doc.replace_all(fifty_rope_rig())
+    view.zoom_to_fit()
+    view.zoom_at(2.0, view.viewport().rect().center())  # room for more labels, so some of them move
+    sched.solve_now()
+    ov = main_window.live.overlay
+    rig = doc.rig
+    h = rig.point("H4")
+    kept = 0
+    for i in range(1, 8):
+        doc.preview(rig.moved("H4", h.x + 0.8 * i, h.y - 0.4 * i))
+        previous = copy.copy(ov._memo)
+        sched.fire()  # relayout with the kept obstacles and the memo of the last step
+        t = view.transform()
+        to_px = lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())  # noqa: E731
+        with_cache = [(lab.kind, lab.key, lab.placed, lab.at, lab.rect, lab.leader) for lab in ov.labels]
+        markers = list(dict.fromkeys([(p.x, -p.y) for p in ov.rig.points] +
+                                     [(x, -y) for x, y in ov.result.points.values()]))
+        again = copy.deepcopy(ov.labels)
+        place_labels(again, to_px, ov.force_item.label_size, markers, ov.pieces, ov._name_boxes(ov.rig), previous)
+        assert with_cache == [(lab.kind, lab.key, lab.placed, lab.at, lab.rect, lab.leader) for lab in again], i
+        kept += sum(1 for v in previous.values() if len(v) > 6 and any(v[6] is lab for lab in ov.labels))
+    assert kept > 50  # most labels came through unchanged, by the fast path
+    assert placement_memo(ov.labels, to_px)
+
+
+def test_the_legend_counts_the_hidden_labels_again_after_a_zoom(main_window):
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    main_window.document.replace_all(fifty_rope_rig())
+    main_window.view.zoom_to_fit()
+    main_window.live.scheduler.solve_now()
+    ov, view = main_window.live.overlay, main_window.view
+
+    def hidden_line() -> str:
+        return next((line for line in ov.legend.lines if "hidden" in line), "")
+
+    fitted = ov.skipped
+    assert fitted > 0 and hidden_line().startswith(f"{fitted} labels hidden")
+    view.zoom_at(2.5, view.viewport().rect().center())
+    assert ov.skipped != fitted  # zoomed in, there is room for more of them
+    assert hidden_line() == ("" if not ov.skipped else
+                             f"{ov.skipped} label{'s' if ov.skipped != 1 else ''} hidden to avoid overlap: zoom in")
+
+
+def test_a_full_pixmap_cache_forgets_its_oldest_entries_not_all():
+    from sketchpad.items import drop_oldest
+
+    cache = {i: str(i) for i in range(100)}
+    drop_oldest(cache)
+    assert list(cache) == list(range(25, 100))  # the newest three quarters (what is on screen now) stay
+    one = {"a": 1}
+    drop_oldest(one)
+    assert one == {}
