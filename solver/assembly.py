@@ -811,6 +811,7 @@ class State:
     # what the potential is computed from, on first use (the friction solve never asks for it)
     potential_from: tuple | None = field(default=None, repr=False, compare=False)
     _energy_terms: tuple | None = field(default=None, repr=False, compare=False)
+    matrices: dict = field(default_factory=dict, repr=False, compare=False)  # tangents at this state, by kind
     _potential: FloatArray | None = field(default=None, repr=False, compare=False)
 
     @property
@@ -951,6 +952,13 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         # bracket; exact for a rope of constant stiffness in the limit of small strain)
         w_mean = np.bincount(owner, lk * wk, minlength=len(runs)) / np.bincount(owner, lk, minlength=len(runs))
         tt = np.clip(t_lam[todo] / w_mean, lo_t, hi_t)
+        # within one solve the last evaluation's tensions are closer still (the geometry moved a
+        # step); the solver clears them when a solve starts, so a solve's numbers do not depend on
+        # what was solved before
+        last = s.__dict__.get("_last_tau")
+        if last is not None and last[0] is w:
+            prev = last[1][runs]
+            tt = np.where((prev > lo_t) & (prev < hi_t), prev, tt)
         for _ in range(100):
             Tk = wk * tt[owner]
             e = by_material(s, mk, Tk, "strain", kk)
@@ -968,6 +976,7 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
             tt = np.where(bad, 0.5 * (lo_t + hi_t), step)
         t[todo] = tt
     tau[strict] = t
+    s._last_tau = (w, tau)
     return tau, taut
 
 

@@ -86,7 +86,16 @@ def _force_scale(s: System, st: State) -> float:
 
 
 def _matrix(s: System, st: State, kc: np.ndarray, dense: bool, exact: bool = False):
-    """The tangent on the free dofs: a dense array for small rigs, else CSC."""
+    """The tangent on the free dofs: a dense array for small rigs, else CSC (kept on the state: never written to)."""
+    key = (dense, exact)
+    K = st.matrices.get(key)
+    if K is not None:
+        return K
+    K = st.matrices[key] = _assembled(s, st, kc, dense, exact)
+    return K
+
+
+def _assembled(s: System, st: State, kc: np.ndarray, dense: bool, exact: bool):
     val = tangent_values(s, st, kc, exact)
     n = s.n_dof
     if dense:
@@ -173,7 +182,7 @@ def _sub(K, idx: np.ndarray, dense: bool):
 
 
 def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symmetric: bool,
-            max_iter: int = MAX_ITER, target: float = TARGET_REL) -> _Outcome:
+            max_iter: int = MAX_ITER, target: float = TARGET_REL, state: State | None = None) -> _Outcome:
     """Damped, shifted Newton iteration for g(x) = 0 at fixed piece weights ``w``, to imbalance ``target`` x force scale.
 
     Every independent part of the rig (``System.n_comp``) keeps its own Levenberg-Marquardt
@@ -181,9 +190,10 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
     without friction, 1/2 |g|^2 with it) is a sum over parts, so a per-part Armijo test is
     exactly the test of that part alone.  A part is solved by the same numbers whether it is
     drawn alone or beside others, and the iteration count is that of the slowest part.
+    ``state``: the state at ``x0`` with these weights when already evaluated.
     """
     dense = s.n_dof <= DENSE_MAX
-    st = evaluate(s, x0, w, kc)
+    st = state if state is not None else evaluate(s, x0, w, kc)
     if s.n_dof == 0:
         return _Outcome(st, 0, True)
     if s.n_comp == 1:
@@ -687,6 +697,7 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) ->
     friction by continuation.  Warm (``x0`` is a nearby solution): friction straight away, and
     the frictionless reference for the ideal MA from there (its iterations are not counted).
     """
+    s.__dict__.pop("_last_tau", None)  # run tensions of an earlier solve are no start for this one
     kc = contact_stiffness(s)
     lonely = _unattached(s)
     if lonely is not None:
@@ -698,11 +709,13 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) ->
         fr, w = _friction_solve(s, evaluate(s, x0, None, kc), motion, kc)
         if fr.runaway is not None or not fr.converged:
             return _Solved(fr.state, fr.state, fr.iterations, False, fr.runaway, w)
-        # held or not is a property of the structure: judged on the frictionless (symmetric) tangent
-        failed = _mechanism_result(s, evaluate(s, fr.state.x, None, kc), kc, fr.iterations)
+        # held or not is a property of the structure: judged on the frictionless (symmetric) tangent,
+        # which is also the first matrix of the frictionless re-solve for the ideal MA
+        frictionless = evaluate(s, fr.state.x, None, kc)
+        failed = _mechanism_result(s, frictionless, kc, fr.iterations)
         if failed is not None:
             return failed
-        ideal = _newton(s, fr.state.x, None, kc, symmetric=True)
+        ideal = _newton(s, fr.state.x, None, kc, symmetric=True, state=frictionless)
         return _Solved(fr.state, ideal.state if ideal.converged else fr.state, fr.iterations, True, None, w)
     # the frictionless state is reported only without friction or as the ideal of a load's MA;
     # otherwise it is just where the friction stage starts, and needs no last digits
