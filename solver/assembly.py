@@ -149,6 +149,11 @@ class System:
     free_at: IntArray = field(default=None)  # indices of the free points
     ones: FloatArray = field(default=None)  # frictionless piece weights (shared, read-only)
     run_tied: NDArray[np.bool_] = field(default=None)  # runs not hauled
+    piece_from: list[str] = field(default=None)  # id of each piece's first point
+    piece_to: list[str] = field(default=None)  # id of each piece's second point
+    piece_run_in_rope: list[int] = field(default=None)  # index of each piece's run within its rope
+    anchor_at: list[int] = field(default=None)  # structural points that are fixed anchors
+    load_at: list[int] = field(default=None)  # structural points that are loads
     point_groups: "Grouping" = field(default=None)  # free points by part (per-part maxima)
     piece_groups: "Grouping" = field(default=None)  # pieces by part (those with a part)
     s_min_on: FloatArray = field(default=None)  # s_min where the contact can act, -inf elsewhere
@@ -457,6 +462,7 @@ def compile_topology(rig: Rig, motion: str | None = None) -> Topology:
     )
     sys_.run_pre = np.array(run_pre, dtype=float)
     _finish_topology(sys_)
+    _report_indices(sys_, [p.kind for p in pts])
     for name in _SYSTEM_FIELDS:  # shared by every System of this topology: none may change them
         value = getattr(sys_, name)
         if isinstance(value, np.ndarray):
@@ -620,6 +626,23 @@ def _finish_topology(s: System) -> None:
     s.piece_mbs = mbs[s.piece_mat] if s.n_pieces else np.zeros(0)
     s.has_edges = bool(np.any(s.pass_kind == PASS_EDGE))
     s.has_friction = s.has_edges or bool(np.any((s.pass_kind == PASS_PULLEY) & (s.pass_eta < 1.0)))
+
+
+def _report_indices(s: System, kinds: list[str]) -> None:
+    """What the result assembly reads per piece and per point, as Python lists (structure only).
+
+    ``kinds``: the kind of every structural point, in order.
+    """
+    ids = s.point_ids
+    s.piece_from = [ids[i] for i in s.a.tolist()]
+    s.piece_to = [ids[i] for i in s.b.tolist()]
+    run_in_rope: list[int] = []
+    for g, rope in enumerate(s.run_rope):  # runs of a rope are consecutive
+        run_in_rope.append(run_in_rope[-1] + 1 if g > 0 and s.run_rope[g - 1] == rope else 0)
+    s.piece_run_in_rope = [run_in_rope[r] for r in s.piece_run.tolist()]
+    free = s.free.tolist()
+    s.anchor_at = [i for i, kind in enumerate(kinds) if kind == "anchor" and not free[i]]
+    s.load_at = [i for i, kind in enumerate(kinds) if kind == "load"]
 
 
 def _topology(s: System) -> None:

@@ -735,6 +735,8 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) ->
 def _all_points(s: System, st: State) -> dict[str, tuple[float, float]]:
     ox, oy = float(s.origin[0]), float(s.origin[1])
     pos = {pid: (x + ox, y + oy) for pid, (x, y) in zip(s.point_ids, st.xy.tolist())}
+    if len(pos) == len(s.rig.points):  # every point is structural: already in the rig's order
+        return pos
     return {p.id: pos.get(p.id, (p.x, p.y)) for p in s.rig.points}
 
 
@@ -764,7 +766,7 @@ def _mech_advantage(s: System, st: State, f: np.ndarray | None = None) -> float 
     ``f``: the rope forces on the points at ``st`` (:func:`_resultants`) when already known.
     """
     rig = s.rig
-    load_ids = [i for i, p in enumerate(s.points) if p.kind == "load"]
+    load_ids = s.load_at
     if not load_ids:
         return None
     if f is None:
@@ -799,26 +801,18 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
     rig = s.rig
     st = sol.state
     sf = rig.settings.min_safety_factor
-    run_in_rope = _runs_in_ropes(s)
-    segments = []
     # whole arrays to Python numbers at once (same values as float()/int() of each element)
     util = (st.T * sf / s.piece_mbs).tolist()
-    ids = s.point_ids
-    for k, (rope, index, ia, ib, t, length, eps, r) in enumerate(zip(
-            s.piece_rope, s.piece_index.tolist(), s.a.tolist(), s.b.tolist(), st.T.tolist(), st.l.tolist(),
-            st.eps.tolist(), s.piece_run.tolist())):
-        segments.append(record(
-            SegmentResult, rope=rope, index=index, from_point=ids[ia], to_point=ids[ib], tension_N=t, length_m=length,
-            strain=eps, utilization=util[k], run=run_in_rope[r]))
+    segments = [record(SegmentResult, rope=rope, index=index, from_point=a, to_point=b, tension_N=t, length_m=length,
+                       strain=eps, utilization=u, run=r)
+                for rope, index, a, b, t, length, eps, u, r in zip(
+                    s.piece_rope, s.piece_index.tolist(), s.piece_from, s.piece_to, st.T.tolist(), st.l.tolist(),
+                    st.eps.tolist(), util, s.piece_run_in_rope)]
     f = _resultants(s, st)
-    anchors, loads = {}, {}
-    f_list, free = f.tolist(), s.free.tolist()  # Python numbers at once (same values as float())
-    for i, p in enumerate(s.points):
-        pid = p.id
-        if p.kind == "anchor" and not free[i]:
-            anchors[pid] = _anchor(f_list[i][0], f_list[i][1], p.capacity_N, sf)
-        if p.kind == "load":
-            loads[pid] = _anchor(f_list[i][0], f_list[i][1], None, sf)
+    f_list = f.tolist()  # Python numbers at once (same values as float())
+    points = s.points
+    anchors = {points[i].id: _anchor(*f_list[i], points[i].capacity_N, sf) for i in s.anchor_at}
+    loads = {points[i].id: _anchor(*f_list[i], None, sf) for i in s.load_at}
     haul = {}
     for hauled, hp, P in zip(s.run_hauled.tolist(), s.run_haul_point, s.run_P.tolist()):
         if hauled:
@@ -852,20 +846,12 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
         message = (f"no equilibrium found after {sol.iterations} iterations: the largest imbalance is "
                    f"{residual:.3g} N at point {_point_name(rig, subject) if subject else ''}; "
                    "check for a part of the rig that nothing holds")
-    ma = _mech_advantage(s, st, f)
+    ma = _mech_advantage(s, st, f)  # (the anchors above are the fixed anchors; loads any load point)
     ma_ideal = _mech_advantage(s, sol.ideal) if s.has_friction and motion != "hold" else ma
     return Result(status=status, message=message, subject=subject, iterations=sol.iterations,
                   residual_N=residual, points=_all_points(s, st), segments=tuple(segments), anchors=anchors,
                   loads=loads, haul=haul, ma_actual=ma, ma_ideal=ma_ideal, deflection_deg=deflection,
                   warnings=tuple(warnings))
-
-
-def _runs_in_ropes(s: System) -> list[int]:
-    """Index of every global run within its rope (runs of a rope are consecutive)."""
-    out: list[int] = []
-    for g, rope in enumerate(s.run_rope):
-        out.append(out[-1] + 1 if g > 0 and s.run_rope[g - 1] == rope else 0)
-    return out
 
 
 def _runaway_result(s: System, sol: _Solved) -> Result:
