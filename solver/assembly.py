@@ -9,9 +9,10 @@ Invalid rigs raise :class:`solver.errors.RigModelError` with the offending id.
 
 from __future__ import annotations
 
+import copy
 import logging
 import math
-from dataclasses import dataclass, field, fields
+from dataclasses import dataclass, field, fields, replace
 
 import numpy as np
 import scipy.sparse
@@ -419,31 +420,8 @@ def compile_topology(rig: Rig, motion: str | None = None) -> Topology:
             middle.append(MiddlePass(key, rope.id, at, path[j].how, first_piece + j - 1, first_piece + j,
                                      path[j].hardware))
 
-    # external forces and weights
-    F = np.zeros(2 * nf)
-    ignored: list[str] = []
-    for f_i, force in enumerate(rig.forces):
-        if force.at not in index:
-            raise RigModelError(f'a force acts at "{force.at}", which is not a point of the rig',
-                                where=f"forces[{f_i}]", subject=force.at)
-        if not (math.isfinite(force.magnitude_N) and math.isfinite(force.direction_deg)):
-            raise RigModelError(f'the force at "{force.at}" has no proper size or direction',
-                                where=f"forces[{f_i}]", subject=force.at)
-        i = index[force.at]
-        if not free[i]:
-            ignored.append(force.at)
-            continue
-        th = math.radians(force.direction_deg)
-        F[dof[i, 0]] += force.magnitude_N * math.cos(th)
-        F[dof[i, 1]] += force.magnitude_N * math.sin(th)
-    if rig.view == "elevation":
-        for i, p in enumerate(pts):
-            if free[i] and p.mass_kg:
-                F[dof[i, 1]] -= float(p.mass_kg) * STANDARD_GRAVITY
-
-    fmag = np.hypot(F[0::2], F[1::2]) if nf else np.zeros(0)
-    pre = [r.rigged.pretension_N or 0.0 for r in rig.ropes]
-    force_scale = float(max([0.0, *fmag, *run_P, *pre]))
+    F, ignored = _external_forces(rig, pts, index, free, dof, nf)
+    force_scale = _overall_force_scale(F, run_P, rig)
 
     sys_ = System(
         rig=None, motion=motion, points=None, point_ids=[p.id for p in pts], xy0=None, free=free, dof=dof,
@@ -484,8 +462,65 @@ def compile_topology(rig: Rig, motion: str | None = None) -> Topology:
                     run_slack=param[slacked], hw_spacing=np.array(s_min, dtype=float))
 
 
-def same_structure(topo: Topology, rig: Rig, motion: str | None = None) -> bool:
-    """True when ``rig`` (solved for ``motion``) differs from ``topo``'s rig at most in coordinates.
+def _external_forces(rig: Rig, pts: list, index: dict[str, int], free: NDArray[np.bool_], dof: IntArray,
+                     nf: int) -> tuple[FloatArray, list[str]]:
+    """(applied force per free dof, ids of fixed points a force was drawn on) of ``rig``, N; weights in elevation."""
+    F = np.zeros(2 * nf)
+    ignored: list[str] = []
+    for f_i, force in enumerate(rig.forces):
+        if force.at not in index:
+            raise RigModelError(f'a force acts at "{force.at}", which is not a point of the rig',
+                                where=f"forces[{f_i}]", subject=force.at)
+        if not (math.isfinite(force.magnitude_N) and math.isfinite(force.direction_deg)):
+            raise RigModelError(f'the force at "{force.at}" has no proper size or direction',
+                                where=f"forces[{f_i}]", subject=force.at)
+        i = index[force.at]
+        if not free[i]:
+            ignored.append(force.at)
+            continue
+        th = math.radians(force.direction_deg)
+        F[dof[i, 0]] += force.magnitude_N * math.cos(th)
+        F[dof[i, 1]] += force.magnitude_N * math.sin(th)
+    if rig.view == "elevation":
+        for i, p in enumerate(pts):
+            if free[i] and p.mass_kg:
+                F[dof[i, 1]] -= float(p.mass_kg) * STANDARD_GRAVITY
+    return F, ignored
+
+
+def _overall_force_scale(F: FloatArray, run_P, rig: Rig) -> float:
+    """The rig's largest applied force, haul force or pretension, N."""
+    fmag = np.hypot(F[0::2], F[1::2]) if len(F) else np.zeros(0)
+    pre = [r.rigged.pretension_N or 0.0 for r in rig.ropes]
+    return float(max([0.0, *fmag, *run_P, *pre]))
+
+
+def with_forces(topo: Topology, rig: Rig) -> Topology:
+    """The topology of ``rig``, a rig of ``topo``'s structure but for its forces (a force slider, a typed force).
+
+    The index arrays are shared; the applied-force vector, the forces on fixed points and the
+    force scales are those of ``rig``.  A force compile_rig would refuse, or a drawing it would
+    refuse first, is compiled afresh, so the error is the very one compile_rig raises.
+    """
+    t = topo.template
+    pts = [rig.points[i] for i in topo.point_index]
+    index = {pid: i for i, pid in enumerate(t.point_ids)}
+    try:
+        F, ignored = _external_forces(rig, pts, index, t.free, t.dof, t.n_dof // 2)
+    except RigModelError:
+        return compile_topology(rig, topo.motion)
+    template = copy.copy(t)  # the template is never solved: nothing cached on it to carry over
+    template.F, template.ignored_forces = F, ignored
+    template.force_scale = _overall_force_scale(F, t.run_P.tolist(), rig)
+    _component_forces(template)
+    for arr in (template.F, template.comp_force_scale):
+        arr.flags.writeable = False
+    return replace(topo, rig=rig, template=template)
+
+
+def same_structure(topo: Topology, rig: Rig, motion: str | None = None, forces: bool = True) -> bool:
+    """True when ``rig`` (solved for ``motion``) differs from ``topo``'s rig at most in coordinates
+    (and in its forces too, when ``forces`` is False: see :func:`with_forces`).
 
     Cheap for a dragged copy: the Rig edit helpers share the unchanged tuples and points, which
     are compared by identity first, by value only when not shared.
@@ -497,7 +532,7 @@ def same_structure(topo: Topology, rig: Rig, motion: str | None = None) -> bool:
         return True
     if rig.view != old.view:
         return False
-    for name in ("ropes", "forces", "materials", "hardware"):
+    for name in ("ropes", "forces", "materials", "hardware") if forces else ("ropes", "materials", "hardware"):
         new_items, old_items = getattr(rig, name), getattr(old, name)
         if new_items is not old_items and new_items != old_items:
             return False

@@ -32,6 +32,7 @@ from solver.assembly import (
     evaluate,
     same_structure,
     tangent_values,
+    with_forces,
     with_geometry,
 )
 from solver.errors import RigModelError
@@ -880,11 +881,15 @@ def _compiled(rig: Rig, motion: str | None) -> System:
             return s
     for _, _, _, topo in _CACHE:
         if same_structure(topo, rig, motion):
-            s = with_geometry(topo, rig)
             break
     else:
-        topo = compile_topology(rig, motion)  # = compile_rig, keeping the topology
-        s = with_geometry(topo, rig)
+        for _, _, _, topo in _CACHE:
+            if same_structure(topo, rig, motion, forces=False):  # a force slider: same index arrays, new forces
+                topo = with_forces(topo, rig)
+                break
+        else:
+            topo = compile_topology(rig, motion)  # = compile_rig, keeping the topology
+    s = with_geometry(topo, rig)
     _CACHE.insert(0, (rig, motion, s, topo))
     del _CACHE[_CACHE_SIZE:]
     return s
