@@ -52,7 +52,7 @@ TARGET_REL = 1e-10
 #: Imbalance at which a cold solve hands the frictionless state on to the friction stage when that
 #: state itself is not reported (no load point needs the ideal MA): the friction stage converges
 #: from there in as many steps as from the exact frictionless equilibrium.
-HANDOVER_REL = 1e-6
+HANDOVER_REL = 1e-3
 ACCEPT_REL = 1e-7
 #: A point farther than this many rig sizes from the sketch has run away.
 RUNAWAY_SIZES = 100.0
