@@ -999,9 +999,7 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
     if len(todo):
         # pieces of the runs still to solve
         runs = strict[todo]
-        counts = s.run_count[runs]
-        pieces = np.repeat(s.run_start[runs] - np.cumsum(counts) + counts, counts) + np.arange(counts.sum())
-        owner = np.repeat(np.arange(len(runs)), counts)
+        pieces, owner = _run_pieces(s, runs)
         lk, wk, mk = l[pieces], w[pieces], s.piece_mat[pieces]
         kk = _kappa(s, pieces=pieces)
         L0 = s.run_L0[runs]
@@ -1028,14 +1026,29 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
             done = (np.abs(f) <= 1e-15 * L0) | (hi_t - lo_t <= 1e-15 * hi_t)
             if done.all():
                 break
-            with np.errstate(divide="ignore", invalid="ignore"):
-                step = tt - f / fp
+            # a flat f (fp = 0) gives no Newton step: inf, refused below like any step off the bracket
+            step = tt - np.divide(f, fp, out=np.full(len(f), np.inf), where=fp != 0.0)
             bad = ~np.isfinite(step) | (step <= lo_t) | (step >= hi_t)
             tt = np.where(bad, 0.5 * (lo_t + hi_t), step)
         t[todo] = tt
     tau[strict] = t
     s._last_tau = (w, tau)
     return tau, taut
+
+
+def _run_pieces(s: System, runs: IntArray) -> tuple[IntArray, IntArray]:
+    """(every piece of the runs ``runs``, in order; the position in ``runs`` of each), kept per System by runs."""
+    memo = s.__dict__.setdefault("_run_pieces_memo", {})
+    key = runs.tobytes()
+    hit = memo.get(key)
+    if hit is None:
+        counts = s.run_count[runs]
+        pieces = np.repeat(s.run_start[runs] - np.cumsum(counts) + counts, counts) + np.arange(counts.sum())
+        owner = np.repeat(np.arange(len(runs)), counts)
+        if len(memo) > 64:
+            memo.clear()
+        hit = memo[key] = (pieces, owner)
+    return hit
 
 
 def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArray | None = None) -> State:

@@ -215,7 +215,10 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
     ok = np.zeros(C, dtype=bool)  # parts that stopped converged
     stall = np.zeros(C, dtype=np.intp)  # iterations without the imbalance halving
     best = np.full(C, np.inf)
-    free_idx = (s.free).nonzero()[0]
+    free_idx = s.free_at
+    # distance of the free points from the drawing's centre (the solver's origin: no subtraction)
+    centre_x = np.tile(s.centre, s.n_dof // 2) if np.any(s.centre) else None
+    debug = log.isEnabledFor(logging.DEBUG)
     evaluations = 0
     it = 0
     for it in range(max_iter):
@@ -317,13 +320,13 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
         if trial is None or not np.array_equal(trial.x, x_new):
             evaluations += 1
             trial = evaluate(s, x_new, w, kc)
-        if log.isEnabledFor(logging.DEBUG):
+        if debug:
             log.debug("it %d res %s mu %s alpha %s cap %s capped %s", it, res, mu, alpha, cap, capped)
         stepped = active & (alpha == 1.0)
         mu[stepped] = np.maximum(mu[stepped] / 10.0, 1e-10)
         cap = np.where(stepped & capped, 2.0 * cap, cap)
         st = trial
-        far = np.hypot(*(st.xy[free_idx] - s.centre).T)
+        far = _point_norms(st.x - centre_x) if centre_x is not None else _point_norms(st.x)
         if far.max() > RUNAWAY_SIZES * s.size:
             return _Outcome(st, it + 1, False, runaway=int(free_idx[np.argmax(far)]))
         if not active.any():
