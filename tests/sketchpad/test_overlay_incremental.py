@@ -225,6 +225,9 @@ def test_placement_with_obstacles_kept_between_drag_steps_equals_placement_from_
     doc.replace_all(fifty_rope_rig())
     view.zoom_to_fit()
     view.zoom_at(2.0, view.viewport().rect().center())  # room for more labels, so some of them move
+    # solve in this thread: a slow first solve (cold imports) would send ``fire`` to the worker thread,
+    # and the overlay compared below would then still be the last step's
+    sched.background, sched.background_after_ms = False, float("inf")
     sched.solve_now()
     ov = main_window.live.overlay
     rig = doc.rig
