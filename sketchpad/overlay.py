@@ -122,6 +122,26 @@ def _scene(xy) -> tuple[float, float]:
     return (float(xy[0]), -float(xy[1]))
 
 
+def scene_positions(rig: Rig, result: Result) -> dict[str, tuple[float, float]]:
+    """Scene position (metres, y down) of every point of ``rig``: where the solver put it, else where it is drawn."""
+    pos = {p.id: (float(p.x), -float(p.y)) for p in rig.points}
+    for pid, xy in result.points.items():
+        pos[pid] = (float(xy[0]), -float(xy[1]))
+    return pos
+
+
+def _bucket_colours() -> tuple[list[int], dict[int, int]]:
+    """Opaque colour (rgba) of each utilization bucket, and for each colour the first bucket that has it."""
+    rgba = [theme.utilization_colour(k / BAND_BUCKETS * BAND_MAX_UTIL).rgba() for k in range(BAND_BUCKETS + 1)]
+    first: dict[int, int] = {}
+    for k, c in enumerate(rgba):
+        first.setdefault(c, k)
+    return rgba, first
+
+
+_BUCKET_RGBA, _BUCKET_ORDER = _bucket_colours()
+
+
 def _unit(dx: float, dy: float) -> tuple[float, float]:
     n = math.hypot(dx, dy)
     return (0.0, -1.0) if n < 1e-12 else (dx / n, dy / n)
@@ -148,13 +168,14 @@ def fmt_angle(deg: float) -> str:
     return f"{deg:.0f}°" if abs(deg) >= 10 else f"{deg:.1f}°"
 
 
-def build_labels(rig: Rig, result: Result, layers: Iterable[str],
-                 memo: dict | None = None) -> tuple[list[OverlayLabel], list[AnchorArrow]]:
+def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | None = None,
+                 pos: Mapping[str, tuple[float, float]] | None = None) -> tuple[list[OverlayLabel], list[AnchorArrow]]:
     """Labels and anchor arrows for an ok ``result`` of ``rig`` with the ``layers`` shown (numbers from the Result).
 
     ``memo`` (a dict the caller keeps between calls) reuses the label of a piece, pass or point
     whose numbers, names and positions are exactly those of the last call: during a drag only the
     moved part of the rig gets new labels (the rest of the result is bit-for-bit the same).
+    ``pos`` is :func:`scene_positions` of ``rig`` and ``result`` when the caller has it.
     """
     layers = set(layers)
     unit = rig.display.force
@@ -167,9 +188,8 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str],
         memo_new: dict = {"_context": context}
     points = {p.id: p for p in rig.points}  # dict look-ups: Rig.point() is a linear search
     ropes = {r.id: r for r in rig.ropes}
-    pos = {pid: _scene(p.xy) for pid, p in points.items()}
-    for pid, xy in result.points.items():
-        pos[pid] = _scene(xy)
+    if pos is None:
+        pos = scene_positions(rig, result)
     labels: list[OverlayLabel] = []
     arrows: list[AnchorArrow] = []
 
@@ -727,11 +747,16 @@ class ForceItem(_LayerItem):
         self._fail_pen = theme.pixel_pen(theme.BANNER_BACK, 3.0)
         self._size_cache: dict[str, tuple[float, float]] = {}
         self._pixmap_cache: dict[tuple, QPixmap] = {}
+        self._box_cache: dict[tuple, QImage] = {}  # label boxes by size and colour (label_pixmap)
         self._retained_marks = RetainedLayer()  # rings, arrows, leaders, labels as last painted
         self._band_layers: dict[int, RetainedLayer] = {}  # per band colour
-        self._entry_memo: dict = {}  # retained-layer entries of the last frame, by what they show
+        # retained-layer entries of the last frame, by what they show: (frame, rings, arrows, labels)
+        self._entry_memo: tuple = (None, {}, {}, {})
+        self._marks_last: tuple | None = None  # the last frame's inputs and entry list
         self._band_memo: dict = {}
         self._flat_pens: dict[int, QPen] = {}
+        self._band_paths: dict[int, tuple] = {}  # per colour: (piece ends, (pen, path)) of the last set_bands
+        self._drawn: tuple = (None, {})
 
     # --- building (outside paint) ---------------------------------------------------------------
     def pen_for(self, colour: QColor, width: float) -> QPen:
@@ -741,39 +766,64 @@ class ForceItem(_LayerItem):
             pen = self._pens[key] = theme.pixel_pen(colour, width)
         return pen
 
-    def set_bands(self, rig: Rig, result: Result) -> list[tuple[object, tuple[float, float], tuple[float, float]]]:
-        """One path per utilization bucket along the solved pieces; returns the pieces (key, a, b) in scene metres."""
-        pos = {p.id: _scene(p.xy) for p in rig.points}
-        for pid, xy in result.points.items():
-            pos[pid] = _scene(xy)
-        buckets: dict[int, QPainterPath] = {}
-        ends: dict[int, list[tuple[float, float]]] = {}
+    def set_bands(self, rig: Rig, result: Result,
+                  pos: Mapping[str, tuple[float, float]] | None = None) -> list[tuple[object, tuple[float, float], tuple[float, float]]]:
+        """One path per utilization colour along the solved pieces; returns the pieces (key, a, b) in scene metres.
+
+        Buckets of the same colour (the ramp stops at its last colour) share one band, drawn once.
+        ``pos`` (scene positions of every point, solved ones solved) saves building them again; a
+        band whose pieces are those of the last call keeps its path.
+        """
+        if pos is None:
+            pos = scene_positions(rig, result)
+        by_colour: dict[int, list[tuple[float, float]]] = {}
         pieces = []
+        colours = _BUCKET_RGBA
+        scale = BAND_BUCKETS / BAND_MAX_UTIL
         for s in result.segments:
-            if s.from_point not in pos or s.to_point not in pos:
+            a, b = pos.get(s.from_point), pos.get(s.to_point)
+            if a is None or b is None:
                 continue
-            a, b = pos[s.from_point], pos[s.to_point]
             pieces.append(((s.rope, s.index), a, b))
             if s.tension_N <= SLACK_N:
                 continue
-            k = int(round(min(max(s.utilization, 0.0), BAND_MAX_UTIL) / BAND_MAX_UTIL * BAND_BUCKETS))
-            path = buckets.get(k)
-            if path is None:
-                path = buckets[k] = QPainterPath()
-            path.moveTo(*a)
-            path.lineTo(*b)
-            ends.setdefault(k, []).extend((a, b))
+            rgba = colours[int(round(min(max(s.utilization, 0.0), BAND_MAX_UTIL) * scale))]
+            ends = by_colour.get(rgba)
+            if ends is None:
+                by_colour[rgba] = [a, b]
+            else:
+                ends.append(a)
+                ends.append(b)
+        old = self._band_paths
+        self._band_paths = {}
         self.bands = []
         self.band_ends = []
-        for k in sorted(buckets):
-            colour = theme.utilization_colour(k / BAND_BUCKETS * BAND_MAX_UTIL)
-            colour.setAlpha(theme.OVERLAY_BAND_ALPHA)
-            self.bands.append((theme.cosmetic_pen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine), buckets[k]))
-            self.band_ends.append(ends[k])
-        drawn = {p.id: _scene(p.xy) for p in rig.points}
+        for rgba in sorted(by_colour, key=_BUCKET_ORDER.__getitem__):
+            ends = by_colour[rgba]
+            kept = old.get(rgba)
+            if kept is not None and kept[0] == ends:
+                band = kept[1]
+            else:
+                path = QPainterPath()
+                for i in range(0, len(ends) - 1, 2):
+                    path.moveTo(*ends[i])
+                    path.lineTo(*ends[i + 1])
+                colour = QColor.fromRgba(rgba)
+                colour.setAlpha(theme.OVERLAY_BAND_ALPHA)
+                band = (theme.cosmetic_pen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine), path)
+            self._band_paths[rgba] = (ends, band)
+            self.bands.append(band)
+            self.band_ends.append(ends)
+        drawn = self._drawn_positions(rig)
         self.moved_points = [pos[pid] for pid in result.points
-                             if pid in drawn and math.dist(pos[pid], drawn[pid]) > 1e-6]
+                             if pid in drawn and pos[pid] != drawn[pid] and math.dist(pos[pid], drawn[pid]) > 1e-6]
         return pieces
+
+    def _drawn_positions(self, rig: Rig) -> dict[str, tuple[float, float]]:
+        """Scene positions of the points as drawn (kept while ``rig.points`` is the same tuple)."""
+        if self._drawn[0] is not rig.points:
+            self._drawn = (rig.points, {p.id: _scene(p.xy) for p in rig.points})
+        return self._drawn[1]
 
     def label_size(self, lab: OverlayLabel) -> tuple[float, float]:
         text = lab.text
@@ -794,25 +844,49 @@ class ForceItem(_LayerItem):
         if len(self._pixmap_cache) > PIXMAP_CACHE_MAX:
             drop_oldest(self._pixmap_cache)
         w, h = self.label_size(lab)
-        pix = QPixmap(int(w) + 1, int(h) + 1)
-        pix.fill(Qt.transparent)
-        p = QPainter(pix)
+        # the box alone (an anti-aliased rounded rect costs ~75 us, the text ~15 us) is shared by every
+        # label of its size and colour: during a drag a changed number mostly keeps the label's size
+        image = self._label_box(w, h, colour).copy()
+        p = QPainter(image)
         p.setRenderHint(QPainter.Antialiasing, True)
         p.setRenderHint(QPainter.TextAntialiasing, True)
-        self.paint_label_vector(p, lab, QRectF(0.0, 0.0, w, h), colour)
+        self._paint_label_text(p, lab, QRectF(0.0, 0.0, w, h))
         p.end()
-        self._pixmap_cache[key] = pix
+        pix = self._pixmap_cache[key] = QPixmap.fromImage(image)
         return pix
+
+    def _label_box(self, w: float, h: float, colour: QColor) -> QImage:
+        """A transparent (w + 1) x (h + 1) px image holding a label's box in ``colour``, cached by size and colour."""
+        key = (w, h, colour.rgba())
+        image = self._box_cache.get(key)
+        if image is None:
+            if len(self._box_cache) > PIXMAP_CACHE_MAX:
+                drop_oldest(self._box_cache)
+            image = QImage(int(w) + 1, int(h) + 1, QImage.Format_ARGB32_Premultiplied)
+            image.fill(Qt.transparent)
+            p = QPainter(image)
+            p.setRenderHint(QPainter.Antialiasing, True)
+            p.setRenderHint(QPainter.TextAntialiasing, True)
+            self._paint_label_box(p, QRectF(0.0, 0.0, w, h), colour)
+            p.end()
+            self._box_cache[key] = image
+        return image
 
     def paint_label_vector(self, painter: QPainter, lab: OverlayLabel, box: QRectF, colour: QColor) -> None:
         """A label's rounded box (border in ``colour``) and its text lines, drawn as vectors in ``box`` (device px).
 
-        Fills :meth:`label_pixmap`'s cache on screen; print and SVG (``sketchpad.export``) draw it directly.
+        :meth:`label_pixmap` draws the same in two steps on screen; print and SVG (``sketchpad.export``) draw it directly.
         """
+        self._paint_label_box(painter, box, colour)
+        self._paint_label_text(painter, lab, box)
+
+    def _paint_label_box(self, painter: QPainter, box: QRectF, colour: QColor) -> None:
         half = theme.OVERLAY_LABEL_BORDER_PX / 2.0
         painter.setPen(self.pen_for(colour, theme.OVERLAY_LABEL_BORDER_PX))
         painter.setBrush(self._back)
         painter.drawRoundedRect(box.adjusted(half, half, -half, -half), 3.0, 3.0)
+
+    def _paint_label_text(self, painter: QPainter, lab: OverlayLabel, box: QRectF) -> None:
         painter.setFont(self.font)
         angle = lab.kind == "angle" and not self.grey
         painter.setPen(self.pen_for(theme.ANGLE_TEXT, 1.0) if angle else self._text_pen)
@@ -960,42 +1034,44 @@ class ForceItem(_LayerItem):
         painter.restore()
         return True
 
-    def _mark_entries(self, m11: float, m22: float, dx: float, dy: float):
+    def _mark_entries(self, m11: float, m22: float, dx: float, dy: float) -> list:
         """(key, device box, op) of the solved-point rings, anchor arrows, leaders and labels, in paint order.
 
         An entry depends only on the frame's transform and on what it shows, so entries are kept
-        from the last frame (a drag step changes a few of them).
+        from the last frame (a drag step changes a few of them); with nothing rebuilt since the last
+        frame (the same lists of rings, arrows and labels) the last frame's list itself is returned.
         """
         frame = (m11, m22, dx, dy)
-        memo = self._entry_memo if self._entry_memo.get("_frame") == frame else {}
-        new: dict = {"_frame": frame}
+        last = self._marks_last
+        if (last is not None and last[0] == frame and last[1] is self.moved_points and last[2] is self.arrows
+                and last[3] is self._draw):
+            return last[4]
+        _frame, rings, arrows, labels = self._entry_memo if self._entry_memo[0] == frame else (None, {}, {}, {})
+        new_rings, new_arrows, new_labels = {}, {}, {}
         out = []
         r = theme.OVERLAY_SOLVED_POINT_PX
         reach = r + 2.0
         ring_bounds = QRectF(-reach, -reach, 2 * reach, 2 * reach)
         for m in self.moved_points:
-            k = ("r", m)
-            e = memo.get(k)
+            e = rings.get(m)
             if e is None:
                 pix, x, y = cached_blit_at(m[0] * m11 + dx, m[1] * m22 + dy, 1.0, ("solved-ring", r), ring_bounds,
                                            self._draw_ring)
                 e = _pixmap_entry("ring", pix, x, y)
-            new[k] = e
+            new_rings[m] = e
             out.append(e)
         for arrow in self.arrows:
-            colour = arrow.colour
-            k = ("a", arrow.base, arrow.direction, colour.rgba())
-            e = memo.get(k)
-            if e is None:
+            hit = arrows.get(id(arrow))  # build_labels hands out the same arrow object while it is unchanged
+            if hit is None or hit[0] is not arrow:
+                colour = arrow.colour
                 pix, x, y = cached_blit_at(arrow.base[0] * m11 + dx, arrow.base[1] * m22 + dy, 1.0,
                                            ("anchor-arrow", arrow.direction, colour.rgba()), _arrow_bounds(arrow.direction),
                                            lambda p, a=arrow, c=colour: self._draw_arrow(p, QPointF(0.0, 0.0), a.direction, c))
-                e = _pixmap_entry("arrow", pix, x, y)
-            new[k] = e
-            out.append(e)
+                hit = (arrow, _pixmap_entry("arrow", pix, x, y))
+            new_arrows[id(arrow)] = hit
+            out.append(hit[1])
         for item in self._draw:
-            k = ("l", item)
-            es = memo.get(k)
+            es = labels.get(item)
             if es is None:
                 ax, ay, x, y, w, h, leader, pix = item
                 px, py = ax * m11 + dx, ay * m22 + dy
@@ -1007,21 +1083,27 @@ class ForceItem(_LayerItem):
                                                   lambda p, ex=ex, ey=ey: self._draw_leader(p, ex, ey))
                     es.append(_pixmap_entry("leader", lpix, lx, ly))
                 es.append(_pixmap_entry("label", pix, px + x, py + y))
-            new[k] = es
+            new_labels[item] = es
             out.extend(es)
-        self._entry_memo = new
+        self._entry_memo = (frame, new_rings, new_arrows, new_labels)
+        self._marks_last = (frame, self.moved_points, self.arrows, self._draw, out)
         return out
 
     def _retained_bands(self, m11: float, m22: float, dx: float, dy: float, area: QRect):
         """(image, top-left, alpha) per utilization band, each a retained layer of opaque pieces laid down
-        at the band's alpha (see :meth:`_paint_bands_layered`); None when the layers would be too large."""
+        at the band's alpha (see :meth:`_paint_bands_layered`); None when the layers would be too large.
+
+        A band whose pieces are those of the last frame keeps its entries and area; within a band that
+        changed, pieces that did not keep theirs (a drag step moves a few pieces of one or two bands).
+        """
         if len(self.band_ends) != len(self.bands):
             return None
         half = theme.OVERLAY_BAND_PX / 2.0
         pad = int(math.ceil(half)) + 3
         frame = (m11, m22, dx, dy)
-        memo = self._band_memo if self._band_memo.get("_frame") == frame else {}
-        new: dict = {"_frame": frame}
+        area_key = (area.x(), area.y(), area.width(), area.height())
+        memo = self._band_memo if self._band_memo.get("_frame") == (frame, area_key) else {}
+        new: dict = {"_frame": (frame, area_key)}
         out = []
         total = 0
         live = set()
@@ -1030,37 +1112,43 @@ class ForceItem(_LayerItem):
             alpha = colour.alphaF()
             colour.setAlpha(255)
             rgba = colour.rgba()
-            flat = self._flat_pens.get(rgba)
-            if flat is None:
-                flat = self._flat_pens[rgba] = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
-            entries = []
-            x0 = y0 = math.inf
-            x1 = y1 = -math.inf
-            for i in range(0, len(ends) - 1, 2):
-                k = (ends[i], ends[i + 1], rgba)
-                e = memo.get(k)
-                if e is None:
-                    (sa, ta), (sb, tb) = ends[i], ends[i + 1]
-                    a, b = (sa * m11 + dx, ta * m22 + dy), (sb * m11 + dx, tb * m22 + dy)
-                    box = QRect(math.floor(min(a[0], b[0])) - pad, math.floor(min(a[1], b[1])) - pad,
-                                math.ceil(abs(a[0] - b[0])) + 2 * pad + 1, math.ceil(abs(a[1] - b[1])) + 2 * pad + 1)
-                    e = ((a, b), box, lambda p, a=a, b=b, f=flat, c=rgba: self._draw_band_piece(p, f, c, half, a, b))
-                new[k] = e
-                entries.append(e)
-                box = e[1]
-                x0, y0 = min(x0, box.left()), min(y0, box.top())
-                x1, y1 = max(x1, box.right()), max(y1, box.bottom())
-            if not entries:
-                continue
-            # the layer's area snapped to 64 px, so a piece moving a little does not resize it
-            g = 64
-            x0, y0 = x0 // g * g, y0 // g * g
-            x1, y1 = x1 // g * g + g, y1 // g * g + g
-            r = QRect(x0, y0, x1 - x0, y1 - y0).intersected(area)
+            kept = memo.get(rgba)
+            if kept is not None and kept[0] == ends:
+                _ends, pieces, entries, r = kept
+            else:
+                flat = self._flat_pens.get(rgba)
+                if flat is None:
+                    flat = self._flat_pens[rgba] = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
+                old_pieces = kept[1] if kept is not None else {}
+                pieces = {}
+                for i in range(0, len(ends) - 1, 2):
+                    k = (ends[i], ends[i + 1])
+                    hit = old_pieces.get(k)
+                    if hit is None:
+                        (sa, ta), (sb, tb) = k
+                        a, b = (sa * m11 + dx, ta * m22 + dy), (sb * m11 + dx, tb * m22 + dy)
+                        x0, y0 = math.floor(min(a[0], b[0])) - pad, math.floor(min(a[1], b[1])) - pad
+                        w, h = math.ceil(abs(a[0] - b[0])) + 2 * pad + 1, math.ceil(abs(a[1] - b[1])) + 2 * pad + 1
+                        hit = (((a, b), QRect(x0, y0, w, h),
+                                lambda p, a=a, b=b, f=flat, c=rgba: self._draw_band_piece(p, f, c, half, a, b)),
+                               x0, y0, x0 + w - 1, y0 + h - 1)
+                    pieces[k] = hit
+                if not pieces:
+                    continue
+                hits = list(pieces.values()) if len(pieces) * 2 == len(ends) else \
+                    [pieces[(ends[i], ends[i + 1])] for i in range(0, len(ends) - 1, 2)]  # a piece drawn twice
+                entries = [h[0] for h in hits]
+                # the layer's area snapped to 64 px, so a piece moving a little does not resize it
+                g = 64
+                x0, y0 = min(h[1] for h in hits) // g * g, min(h[2] for h in hits) // g * g
+                x1, y1 = max(h[3] for h in hits) // g * g + g, max(h[4] for h in hits) // g * g + g
+                r = QRect(x0, y0, x1 - x0, y1 - y0).intersected(area)
+            new[rgba] = (list(ends), pieces, entries, r)
             if r.isEmpty():
                 continue
             total += r.width() * r.height()
             if total > 2 * area.width() * area.height():
+                self._band_memo = new
                 return None  # zoomed far in with many bands: layers would cost more than they save
             layer = self._band_layers.get(rgba)
             if layer is None:
@@ -1467,8 +1555,9 @@ class ResultOverlay(QObject):
             self.legend.hide()
             return
         rig, result = self.rig, self.result
-        self.pieces = self.force_item.set_bands(rig, result)
-        labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on], self._label_memo)
+        pos = scene_positions(rig, result)
+        self.pieces = self.force_item.set_bands(rig, result, pos)
+        labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on], self._label_memo, pos)
         self.force_item.labels, self.force_item.arrows = labels, arrows
         if self.layers["zones"] and not getattr(self, "_zones_due", True):
             pass  # a drag step: zones follow the settled result

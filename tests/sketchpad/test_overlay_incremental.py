@@ -278,3 +278,72 @@ def test_a_full_pixmap_cache_forgets_its_oldest_entries_not_all():
     one = {"a": 1}
     drop_oldest(one)
     assert one == {}
+
+
+def test_a_label_pixmap_from_a_shared_box_equals_the_label_drawn_afresh_as_vectors():
+    from sketchpad import theme
+    from sketchpad.overlay import ForceItem, OverlayLabel
+
+    item = ForceItem()
+    red, green = QColor(theme.UTIL_RAMP[-1][1]), QColor(theme.UTIL_RAMP[0][1])
+    labels = [
+        OverlayLabel("tension", ("r", 0), ("1.23 kN", "0.4 % stretch"), {}, red, 50.0, (0.0, 0.0), (1.0, 0.0)),
+        OverlayLabel("tension", ("r", 1), ("1.24 kN", "0.4 % stretch"), {}, red, 50.0, (0.0, 0.0), (1.0, 0.0)),  # same box
+        OverlayLabel("angle", "r@P", ("turn 37°",), {}, theme.ANGLE_TEXT, 30.0, (0.0, 0.0)),
+        OverlayLabel("anchor", "A", ("A 3.10 kN", "41 % of allowed at 10:1"), {}, green, 90.0, (0.0, 0.0)),
+    ]
+    for grey in (False, True):
+        item.grey = grey
+        for lab in labels:
+            colour = theme.OVERLAY_GREY if grey else lab.colour
+            got = item.label_pixmap(lab, colour).toImage()
+            w, h = item.label_size(lab)
+            want = QImage(got.width(), got.height(), QImage.Format_ARGB32_Premultiplied)
+            want.fill(Qt.transparent)
+            p = QPainter(want)
+            p.setRenderHint(QPainter.Antialiasing, True)
+            p.setRenderHint(QPainter.TextAntialiasing, True)
+            item.paint_label_vector(p, lab, QRectF(0.0, 0.0, w, h), colour)
+            p.end()
+            assert (pixels(got) == pixels(want)).all(), (lab.lines, grey)
+    assert len(item._box_cache) == 6  # 8 labels, 3 sizes, 2 colours each: the two tension labels shared a box
+
+
+def test_bands_of_pieces_past_the_top_of_the_ramp_are_one_band_and_draw_as_laid_down_afresh():
+    from solver.model import Rig
+    from solver.result import Result, SegmentResult
+
+    from sketchpad.overlay import ForceItem
+
+    # utilizations 1.55 and 1.7 fall in the two top buckets, which have the same (last) ramp colour;
+    # the other two pieces cross them in other colours
+    pos = {"a": (0.0, 0.0), "b": (6.0, 4.0), "c": (0.0, 4.0), "d": (6.0, 0.0), "e": (3.0, -1.0), "f": (3.0, 5.0)}
+    segs = tuple(SegmentResult(rope=f"r{i}", index=0, from_point=a, to_point=b, tension_N=1000.0, length_m=5.0,
+                               strain=0.01, utilization=u)
+                 for i, (a, b, u) in enumerate([("a", "b", 1.55), ("c", "d", 1.7), ("e", "f", 0.3), ("a", "f", 0.9)]))
+    item = ForceItem()
+    item.set_bands(Rig(), Result(status="ok", segments=segs), pos)
+    colours = [pen.color().rgba() for pen, _path in item.bands]
+    assert len(item.bands) == 3 and len(set(colours)) == 3
+
+    def draw(how) -> np.ndarray:
+        image = QImage(200, 160, QImage.Format_ARGB32_Premultiplied)
+        image.fill(Qt.transparent)
+        p = QPainter(image)
+        p.setRenderHint(QPainter.Antialiasing, True)
+        p.setTransform(QTransform.fromScale(25.0, 25.0) * QTransform.fromTranslate(15.0, 40.0))
+        how(p)
+        p.end()
+        return pixels(image)
+
+    def retained(p):
+        area = QRect(0, 0, 200, 160)
+        t = p.worldTransform()
+        p.resetTransform()
+        for image, at, alpha in item._retained_bands(t.m11(), t.m22(), t.dx(), t.dy(), area):
+            p.setOpacity(alpha)
+            p.drawImage(at, image)
+
+    got, want = draw(retained), draw(item._paint_bands_layered)
+    assert (want[:, :, 3] > 0).sum() > 2000  # the bands were drawn
+    assert np.abs(got - want).max() <= ROUNDING
