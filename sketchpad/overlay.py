@@ -27,6 +27,7 @@ from __future__ import annotations
 
 import logging
 import math
+import operator
 from dataclasses import dataclass, field
 from typing import Callable, Iterable, Mapping
 
@@ -147,8 +148,13 @@ def _unit(dx: float, dy: float) -> tuple[float, float]:
     return (0.0, -1.0) if n < 1e-12 else (dx / n, dy / n)
 
 
+_pass_keys_for: list = [None, {}]  # (rig.ropes, pass keys) of the last call: a drag keeps the ropes
+
+
 def pass_keys(rig: Rig) -> dict[str, tuple[str, int]]:
     """Deflection keys of ``Result.deflection_deg`` ("rope@point", "rope@point#2") -> (rope id, pass index)."""
+    if _pass_keys_for[0] is rig.ropes:
+        return dict(_pass_keys_for[1])
     out: dict[str, tuple[str, int]] = {}
     for rope in rig.ropes:
         counts: dict[str, int] = {}
@@ -157,6 +163,7 @@ def pass_keys(rig: Rig) -> dict[str, tuple[str, int]]:
             counts[at] = counts.get(at, 0) + 1
             key = f"{rope.id}@{at}" if counts[at] == 1 else f"{rope.id}@{at}#{counts[at]}"
             out[key] = (rope.id, j)
+    _pass_keys_for[:] = [rig.ropes, dict(out)]
     return out
 
 
@@ -256,7 +263,8 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             if aid not in pos or p is None:
                 continue
             hold = result.hold_anchor_range.get(aid)
-            mkey = ("n", aid, a, p.name, hold, pos[aid])
+            # the numbers the label and arrow show (hashing the frozen record itself is slower)
+            mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, p.name, hold, pos[aid])
             hit = old.get(mkey)
             if hit is None:
                 rad = math.radians(a.direction_deg)
@@ -286,7 +294,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             p = points.get(lid)
             if lid not in pos or p is None:
                 continue
-            mkey = ("l", lid, f, p.name, p.required_N, pos[lid])
+            mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid])
             lab = old.get(mkey)
             if lab is None:
                 rad = math.radians(f.direction_deg)
@@ -476,13 +484,21 @@ class ObstacleCache:
         self.markers: set = set()
         self.pieces: set = set()
         self._samples: dict = {}
+        self._lists: tuple = (None, None, None)  # the markers, pieces and boxes lists of the last update
 
     def update(self, frame: tuple, to_px: Callable, markers, pieces, boxes) -> _Grid:
-        boxes, markers, pieces = set(boxes), set(markers), set(pieces)
+        """The grid holding ``markers``, ``pieces`` and ``boxes`` at ``frame``; a list object handed in
+        again (the caller keeps its lists while nothing in them changes) is taken as unchanged."""
         grid = self.grid
         if frame != self.frame:
             self.frame, grid = frame, _Grid()
             self.grid, self.boxes, self.markers, self.pieces, self._samples = grid, set(), set(), set(), {}
+            self._lists = (None, None, None)
+        last_markers, last_pieces, last_boxes = self._lists
+        self._lists = (markers, pieces, boxes)
+        boxes = self.boxes if boxes is last_boxes else set(boxes)
+        markers = self.markers if markers is last_markers else set(markers)
+        pieces = self.pieces if pieces is last_pieces else set(pieces)
         for xy, (bx, by, bw, bh) in self.boxes - boxes:
             x, y = to_px(xy)
             grid.remove_rect((x + bx, y + by, bw, bh))
@@ -511,7 +527,7 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
                  pieces: Iterable[tuple[object, tuple[float, float], tuple[float, float]]] = (),
                  boxes: Iterable[tuple[tuple[float, float], tuple[float, float, float, float]]] = (),
                  previous: Mapping[tuple, tuple] | None = None, obstacles: ObstacleCache | None = None,
-                 frame: tuple | None = None) -> int:
+                 frame: tuple | None = None, keep_hidden: bool = False) -> int:
     """Greedy placement in screen pixels; returns how many labels were skipped.
 
     Most important first (``priority``).  Each label takes its first candidate that
@@ -525,6 +541,9 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
     not jump about during a drag and only the moved ones are placed again.
     ``obstacles`` (kept by the caller) with ``frame`` (what fixes ``to_px``: zoom and pan) holds the
     obstacles between calls and updates them by difference; same placement, less work per drag step.
+    ``keep_hidden`` (during a drag) skips again, without searching, a label ``previous`` skipped: the
+    moved part of a crowded rig would otherwise search every spot for its hidden labels on every
+    step; they get their full search when the drag pauses (``previous`` then leaves them out).
     """
     same_frame = obstacles is not None and frame is not None and obstacles.frame == frame
     if obstacles is not None and frame is not None:
@@ -541,22 +560,26 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
                 grid.add_point(x, y, owner)
     placed: list = []  # this call's label rects, taken out of a kept obstacle grid again at the end
     try:
-        return _place(labels, to_px, size_of, previous, grid, placed, same_frame)
+        return _place(labels, to_px, size_of, previous, grid, placed, same_frame, keep_hidden)
     finally:
         if obstacles is not None and grid is obstacles.grid:
             for r in placed:
                 grid.remove_rect(r)
 
 
-def _place(labels, to_px, size_of, previous, grid: _Grid, placed: list, same_frame: bool) -> int:
+def _place(labels, to_px, size_of, previous, grid: _Grid, placed: list, same_frame: bool,
+           keep_hidden: bool = False) -> int:
     """:func:`place_labels` once the obstacles are in ``grid``: each label placed is added to it and to ``placed``."""
     hits = grid.hits_rect
     skipped = 0
-    ordered = sorted(labels, key=lambda l: -l.priority)
+    ordered = sorted(labels, key=_PRIORITY, reverse=True)  # stable: equal priorities keep their order
     todo = []
     for lab in ordered:
         lab.placed = False
         memo = previous.get((lab.kind, lab.key)) if previous else None
+        if keep_hidden and memo is not None and memo[3] is None:
+            skipped += 1  # hidden at the last drag step: stays hidden until the drag pauses
+            continue
         # the very label object of the last call at the same transform sits where it sat (build_labels
         # hands out the same object only for the same text and position)
         if memo is not None and ((same_frame and len(memo) > 6 and memo[6] is lab) or (
@@ -603,6 +626,7 @@ def _place(labels, to_px, size_of, previous, grid: _Grid, placed: list, same_fra
     return skipped
 
 KEEP_PX = 0.75
+_PRIORITY = operator.attrgetter("priority")
 LEADER_DOT_PX = 1.8  # radius of the dot a leader starts from
 
 
@@ -921,21 +945,32 @@ class ForceItem(_LayerItem):
         self.refresh_rect(m_per_px)
 
     def refresh_rect(self, m_per_px: float) -> None:
-        rect = QRectF()
+        """The item's bounding rect (scene metres) around bands, arrows, placed labels and the failure ring,
+        and the list of label blits :meth:`paint` draws."""
+        xs0, ys0, xs1, ys1 = [], [], [], []  # the union of the parts' rects, in plain floats
         for _pen, path in self.bands:
-            rect = rect.united(path.boundingRect())
+            r = path.boundingRect()
+            if not r.isNull():
+                xs0.append(r.left()), ys0.append(r.top()), xs1.append(r.right()), ys1.append(r.bottom())
         reach = (theme.ANCHOR_ARROW_PX + theme.ANCHOR_ARROW_HEAD_PX) * m_per_px
-        for a in self.arrows:
-            rect = rect.united(QRectF(a.base[0] - reach, a.base[1] - reach, 2 * reach, 2 * reach))
+        if self.arrows and reach > 0:
+            xs, ys = [a.base[0] for a in self.arrows], [a.base[1] for a in self.arrows]
+            xs0.append(min(xs) - reach), ys0.append(min(ys) - reach), xs1.append(max(xs) + reach), ys1.append(max(ys) + reach)
         for lab in self.labels:
             if lab.placed:
                 x, y, w, h = lab.rect
-                rect = rect.united(QRectF(lab.at[0] + x * m_per_px, lab.at[1] + y * m_per_px, w * m_per_px, h * m_per_px))
+                if w > 0 or h > 0:
+                    lx, ly = lab.at[0] + x * m_per_px, lab.at[1] + y * m_per_px
+                    xs0.append(lx), ys0.append(ly), xs1.append(lx + w * m_per_px), ys1.append(ly + h * m_per_px)
         pad = (theme.FAIL_RING_PX + theme.OVERLAY_BAND_PX) * m_per_px
-        if self.fail_point is not None:
+        if self.fail_point is not None and pad > 0:
             fx, fy = self.fail_point
-            rect = rect.united(QRectF(fx - pad, fy - pad, 2 * pad, 2 * pad))
-        self.set_rect(rect.adjusted(-pad, -pad, pad, pad) if not rect.isNull() else QRectF())
+            xs0.append(fx - pad), ys0.append(fy - pad), xs1.append(fx + pad), ys1.append(fy + pad)
+        if xs0:
+            x0, y0, x1, y1 = min(xs0) - pad, min(ys0) - pad, max(xs1) + pad, max(ys1) + pad
+            self.set_rect(QRectF(x0, y0, x1 - x0, y1 - y0))
+        else:
+            self.set_rect(QRectF())
         # what paint() blits for each placed label: anchor (scene), box offset and size (px), leader, pixmap
         self._draw = [(lab.at[0], lab.at[1], *lab.rect, lab.leader,
                        self.label_pixmap(lab, theme.OVERLAY_GREY if self.grey else lab.colour))
@@ -1470,9 +1505,12 @@ class ResultOverlay(QObject):
         self._label_memo: dict = {}  # build_labels' reuse of unchanged labels between solves
         self._obstacles = ObstacleCache()  # the placer's obstacles, updated by difference between solves
         self._zones_due = True
+        self._keep_hidden = False
         self._summary: list[str] = []  # summary_lines of the result drawn
         self._name_fm = QFontMetricsF(theme.font())
         self._name_box_cache: dict[tuple[str, str], tuple[float, float, float, float]] = {}
+        self._name_boxes_for: tuple = (None, [])  # (rig.points, name boxes) of the last call
+        self._markers_for: tuple = (None, None, [])  # (rig.points, result, markers) of the last call
 
     # --- public -------------------------------------------------------------------------------------
     @property
@@ -1496,6 +1534,7 @@ class ResultOverlay(QObject):
         redrawn with the settled result that follows once the drag pauses (``SolveScheduler``).
         """
         self._zones_due = settled or self.result is None
+        self._keep_hidden = not settled  # a drag step: labels hidden at the last step stay hidden
         if settled:  # give labels skipped during a drag another try
             self._memo = {k: v for k, v in self._memo.items() if v[3] is not None}
         from sketchpad.live_solve import failure_text
@@ -1601,21 +1640,33 @@ class ResultOverlay(QObject):
 
         markers, boxes = [], []
         if self.rig is not None:
-            markers = [_scene(p.xy) for p in self.rig.points]
             boxes = self._name_boxes(self.rig)
-            if self.result is not None:
-                markers += [_scene(xy) for xy in self.result.points.values()]
-            markers = list(dict.fromkeys(markers))  # a fixed point's solved place is its drawn one
+            markers = self._markers(self.rig, self.result)
         previous = self._memo if self._memo_scale == m11 else None
         self.skipped = place_labels(self.force_item.labels, to_px, self.force_item.label_size, markers, self.pieces,
-                                    boxes, previous, self._obstacles, (m11, t.m22(), dx, dy))
+                                    boxes, previous, self._obstacles, (m11, t.m22(), dx, dy),
+                                    keep_hidden=self._keep_hidden)
         self._memo, self._memo_scale = placement_memo(self.force_item.labels, to_px), m11
         self.force_item.refresh_rect(self._m_per_px())
         if self.result is not None and self.rig is not None:
             self._update_legend()  # after a zoom too: how many labels are hidden changes with it
 
+    def _markers(self, rig: Rig, result: Result | None) -> list[tuple[float, float]]:
+        """Scene points of every marker: each point where it is drawn and, if the solver moved it, where it was solved."""
+        if self._markers_for[0] is rig.points and self._markers_for[1] is result:
+            return self._markers_for[2]
+        markers = list(self.force_item._drawn_positions(rig).values())
+        if result is not None:
+            markers += [(float(x), -float(y)) for x, y in result.points.values()]
+        markers = list(dict.fromkeys(markers))  # a fixed point's solved place is its drawn one
+        self._markers_for = (rig.points, result, markers)
+        return markers
+
     def _name_boxes(self, rig: Rig) -> list:
-        """Pixel rects of the point names the canvas draws beside each marker (sketchpad.items.PointItem)."""
+        """Pixel rects of the point names the canvas draws beside each marker (sketchpad.items.PointItem);
+        the same list while ``rig.points`` is the same tuple."""
+        if self._name_boxes_for[0] is rig.points:
+            return self._name_boxes_for[1]
         cache = self._name_box_cache
         if len(cache) > 4 * len(rig.points) + 64:
             cache.clear()
@@ -1628,6 +1679,7 @@ class ResultOverlay(QObject):
                 r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
                 box = cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name), fm.height())
             out.append((_scene(p.xy), box))
+        self._name_boxes_for = (rig.points, out)
         return out
 
     def eventFilter(self, obj, event) -> bool:  # noqa: N802

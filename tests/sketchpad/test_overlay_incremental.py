@@ -243,7 +243,8 @@ def test_placement_with_obstacles_kept_between_drag_steps_equals_placement_from_
         markers = list(dict.fromkeys([(p.x, -p.y) for p in ov.rig.points] +
                                      [(x, -y) for x, y in ov.result.points.values()]))
         again = copy.deepcopy(ov.labels)
-        place_labels(again, to_px, ov.force_item.label_size, markers, ov.pieces, ov._name_boxes(ov.rig), previous)
+        place_labels(again, to_px, ov.force_item.label_size, markers, ov.pieces, ov._name_boxes(ov.rig), previous,
+                     keep_hidden=ov._keep_hidden)
         assert with_cache == [(lab.kind, lab.key, lab.placed, lab.at, lab.rect, lab.leader) for lab in again], i
         kept += sum(1 for v in previous.values() if len(v) > 6 and any(v[6] is lab for lab in ov.labels))
     assert kept > 50  # most labels came through unchanged, by the fast path
@@ -347,3 +348,41 @@ def test_bands_of_pieces_past_the_top_of_the_ramp_are_one_band_and_draw_as_laid_
     got, want = draw(retained), draw(item._paint_bands_layered)
     assert (want[:, :, 3] > 0).sum() > 2000  # the bands were drawn
     assert np.abs(got - want).max() <= ROUNDING
+
+
+def test_labels_hidden_during_a_drag_stay_hidden_and_get_a_full_search_once_it_pauses(main_window):
+    import copy
+
+    from sketchpad.overlay import place_labels
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    doc, sched, view = main_window.document, main_window.live.scheduler, main_window.view
+    doc.replace_all(fifty_rope_rig())
+    view.zoom_to_fit()  # crowded: most labels are hidden
+    sched.background, sched.background_after_ms = False, float("inf")
+    sched.solve_now()
+    sched.settle_timer.setInterval(600_000)  # every step below is part of one drag, however slow the machine
+    ov = main_window.live.overlay
+    rig = doc.rig
+    h = rig.point("H4")
+    hidden_before = None
+    for i in range(1, 6):
+        doc.preview(rig.moved("H4", h.x + 0.6 * i, h.y - 0.3 * i))
+        sched.fire()
+        assert not sched.settled and ov._keep_hidden
+        hidden = {(lab.kind, lab.key) for lab in ov.labels if not lab.placed}
+        assert len(hidden) == ov.skipped and any(f"{ov.skipped} labels hidden" in line for line in ov.legend.lines)
+        if hidden_before is not None:
+            assert hidden_before <= hidden  # nothing hidden at the last step popped up mid-drag
+        hidden_before = hidden
+    memo = {k: v for k, v in ov._memo.items() if v[3] is not None}  # what a pause keeps of the drag's placement
+    sched.solve_now()  # the drag paused: the settled result
+    assert sched.settled and not ov._keep_hidden
+    t = view.transform()
+    to_px = lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())  # noqa: E731
+    again = copy.deepcopy(ov.labels)
+    skipped = place_labels(again, to_px, ov.force_item.label_size, ov._markers(ov.rig, ov.result), ov.pieces,
+                           ov._name_boxes(ov.rig), memo)  # every hidden label searched afresh
+    assert skipped == ov.skipped
+    assert [(lab.key, lab.placed, lab.at, lab.rect) for lab in ov.labels] == \
+        [(lab.key, lab.placed, lab.at, lab.rect) for lab in again]
