@@ -1342,7 +1342,12 @@ class Banner(QLabel):
 
 
 class Legend(QWidget):
-    """Bottom-right key: the utilization ramp, zone hatches and the system summary lines."""
+    """Bottom-right key: the utilization ramp, zone hatches and the system summary lines.
+
+    The widget itself is never shown: it holds the key's size and place on the viewport, and the
+    view paints it as part of its own frame (``SketchView.foreground_painters``, :meth:`paint_on`),
+    which saves Qt a second paint pass of a child widget on every frame of a drag.
+    """
 
     def __init__(self, parent: QWidget) -> None:
         super().__init__(parent)
@@ -1355,6 +1360,7 @@ class Legend(QWidget):
         self.fm = QFontMetricsF(self.font)
         self._pixmap: QPixmap | None = None
         self._pixmap_key: tuple | None = None
+        self.shown = False  # whether the view paints the key (the widget stays hidden)
         self.hide()
 
     TITLE = "Rope use: tension × SF ÷ MBS"
@@ -1362,7 +1368,7 @@ class Legend(QWidget):
 
     def set_content(self, lines: list[str], show_zones: bool, grey: bool) -> None:
         lines = list(lines)
-        if (lines, show_zones, grey) == (self.lines, self.show_zones, self.grey) and self.isVisible():
+        if (lines, show_zones, grey) == (self.lines, self.show_zones, self.grey) and self.shown:
             return  # nothing new to say (most drag steps)
         self.lines, self.show_zones, self.grey = lines, show_zones, grey
         self.resize(self.sizeHint())
@@ -1383,9 +1389,23 @@ class Legend(QWidget):
         m = theme.LEGEND_MARGIN_PX
         self.move(vp.width() - self.width() - m, vp.height() - self.height() - m)
 
-    def paintEvent(self, event) -> None:  # noqa: N802
-        # the legend is repainted with every viewport frame but changes rarely: blit it from a pixmap
-        dpr = self.devicePixelRatioF()
+    def set_shown(self, on: bool) -> None:
+        """Show or hide the key (the viewport repaints where it is)."""
+        if bool(on) != self.shown:
+            self.shown = bool(on)
+            self.parentWidget().update(self.geometry())
+
+    def paint_on(self, painter: QPainter, dpr: float | None) -> None:
+        """Paint the key at its place, ``painter`` in viewport pixels: on screen (``dpr``) blitted from a
+        pixmap drawn again only when the key changes, else (a scaled or vector render) as vectors."""
+        if not self.shown:
+            return
+        if dpr is None:
+            painter.save()
+            painter.translate(self.x(), self.y())
+            self._paint(painter)
+            painter.restore()
+            return
         key = (tuple(self.lines), self.show_zones, self.grey, self.width(), self.height(), dpr)
         if self._pixmap is None or self._pixmap_key != key:
             pix = QPixmap(max(1, round(self.width() * dpr)), max(1, round(self.height() * dpr)))
@@ -1395,9 +1415,7 @@ class Legend(QWidget):
             self._paint(p)
             p.end()
             self._pixmap, self._pixmap_key = pix, key
-        p = QPainter(self)
-        p.drawPixmap(0, 0, self._pixmap)
-        p.end()
+        painter.drawPixmap(self.x(), self.y(), self._pixmap)
 
     def _paint(self, p: QPainter) -> None:
         p.setRenderHint(QPainter.Antialiasing, True)
@@ -1491,6 +1509,7 @@ class ResultOverlay(QObject):
         self.scene.add_overlay_item(self.force_item)
         self.banner = Banner(view.viewport())
         self.legend = Legend(view.viewport())
+        view.foreground_painters.append(self.legend.paint_on)
         view.viewport().installEventFilter(self)
         view.scale_changed.connect(lambda _s: self.relayout())
         self.rig: Rig | None = None  # the rig the drawn overlay belongs to
@@ -1591,7 +1610,7 @@ class ResultOverlay(QObject):
             self.force_item.bands, self.force_item.moved_points = [], []
             self.force_item.set_labels([], [], self._m_per_px())
             self.zones_item.set_zones([])
-            self.legend.hide()
+            self.legend.set_shown(False)
             return
         rig, result = self.rig, self.result
         pos = scene_positions(rig, result)
@@ -1615,7 +1634,7 @@ class ResultOverlay(QObject):
         self._zones_due = True
         self._summary = summary_lines(rig, result)
         self.relayout()
-        self.legend.show()
+        self.legend.set_shown(True)
 
     def _update_legend(self) -> None:
         """The legend's lines: the system summary, how many labels the placer hid, and a failed solve."""
