@@ -386,3 +386,28 @@ def test_labels_hidden_during_a_drag_stay_hidden_and_get_a_full_search_once_it_p
     assert skipped == ov.skipped
     assert [(lab.key, lab.placed, lab.at, lab.rect) for lab in ov.labels] == \
         [(lab.key, lab.placed, lab.at, lab.rect) for lab in again]
+
+
+def test_the_legend_painted_by_the_view_shows_in_the_frame_where_its_key_says_and_goes_when_hidden(main_window):
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    main_window.document.replace_all(fifty_rope_rig())
+    main_window.view.zoom_to_fit()
+    main_window.live.scheduler.solve_now()
+    ov, vp = main_window.live.overlay, main_window.view.viewport()
+    legend = ov.legend
+    assert legend.shown and legend.isHidden()  # the widget only holds the key's size and place
+    g = legend.geometry()
+    assert vp.rect().contains(g)
+    shown = pixels(vp.grab().toImage())[g.top():g.bottom() + 1, g.left():g.right() + 1]
+    key = QImage(g.width(), g.height(), QImage.Format_ARGB32_Premultiplied)
+    key.fill(Qt.transparent)
+    p = QPainter(key)
+    legend._paint(p)
+    p.end()
+    ink = pixels(key)
+    text = (ink[:, :, 3] == 255) & (ink[:, :, :3].sum(axis=2) < 150)  # the key's dark text, drawn opaque
+    assert text.sum() > 200 and np.abs(shown[text] - ink[text]).max() <= ROUNDING  # drawn where the key says
+    legend.set_shown(False)  # what the overlay does when there is no result to explain
+    gone = pixels(vp.grab().toImage())[g.top():g.bottom() + 1, g.left():g.right() + 1]
+    assert np.abs(gone[text] - ink[text]).max() > 50
