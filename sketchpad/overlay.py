@@ -933,6 +933,12 @@ class ForceItem(_LayerItem):
         self._draw_leader(painter, ex, ey)
         painter.restore()
 
+    def _draw_leader_at(self, painter: QPainter, x: float, y: float, ex: float, ey: float) -> None:
+        """A leader from (x, y) to (x + ex, y + ey) px."""
+        painter.translate(x, y)
+        self._draw_leader(painter, ex, ey)
+        painter.translate(-x, -y)
+
     def _draw_leader(self, painter: QPainter, ex: float, ey: float) -> None:
         """A leader from the origin (the dot) to (ex, ey) px."""
         painter.setPen(self._leader_pen)
@@ -1095,14 +1101,17 @@ class ForceItem(_LayerItem):
                 e = _pixmap_entry("ring", pix, x, y)
             new_rings[m] = e
             out.append(e)
+        # arrows and leaders differ in direction and length from one to the next and from one drag step
+        # to the next: they are drawn straight into the layer (only where it is redrawn), not rendered
+        # into a pixmap first and blitted (~85 us per new one)
         for arrow in self.arrows:
             hit = arrows.get(id(arrow))  # build_labels hands out the same arrow object while it is unchanged
             if hit is None or hit[0] is not arrow:
                 colour = arrow.colour
-                pix, x, y = cached_blit_at(arrow.base[0] * m11 + dx, arrow.base[1] * m22 + dy, 1.0,
-                                           ("anchor-arrow", arrow.direction, colour.rgba()), _arrow_bounds(arrow.direction),
-                                           lambda p, a=arrow, c=colour: self._draw_arrow(p, QPointF(0.0, 0.0), a.direction, c))
-                hit = (arrow, _pixmap_entry("arrow", pix, x, y))
+                x, y = arrow.base[0] * m11 + dx, arrow.base[1] * m22 + dy
+                box = _arrow_bounds(arrow.direction).translated(x, y).toAlignedRect().adjusted(-1, -1, 1, 1)
+                hit = (arrow, (("arrow", x, y, arrow.direction, colour.rgba()), box,
+                               lambda p, o=QPointF(x, y), d=arrow.direction, c=colour: self._draw_arrow(p, o, d, c)))
             new_arrows[id(arrow)] = hit
             out.append(hit[1])
         for item in self._draw:
@@ -1113,10 +1122,9 @@ class ForceItem(_LayerItem):
                 es = []
                 if leader:
                     ex, ey = _leader_end(x, y, w, h)
-                    lpix, lx, ly = cached_blit_at(px, py, 1.0, ("leader", ex, ey),
-                                                  QRectF(min(ex, 0.0), min(ey, 0.0), abs(ex), abs(ey)).adjusted(-3, -3, 3, 3),
-                                                  lambda p, ex=ex, ey=ey: self._draw_leader(p, ex, ey))
-                    es.append(_pixmap_entry("leader", lpix, lx, ly))
+                    box = QRectF(px + min(ex, 0.0), py + min(ey, 0.0), abs(ex), abs(ey)).adjusted(-3, -3, 3, 3)
+                    es.append((("leader", px, py, ex, ey), box.toAlignedRect(),
+                               lambda p, px=px, py=py, ex=ex, ey=ey: self._draw_leader_at(p, px, py, ex, ey)))
                 es.append(_pixmap_entry("label", pix, px + x, py + y))
             new_labels[item] = es
             out.extend(es)
