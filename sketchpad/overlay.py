@@ -1071,7 +1071,9 @@ class ForceItem(_LayerItem):
             painter.setOpacity(alpha)
             painter.drawImage(at, image)
         painter.setOpacity(1.0)
-        painter.drawImage(area.topLeft(), marks)
+        used = self._retained_marks.used()
+        if not used.isEmpty():
+            painter.drawImage(used.topLeft() + area.topLeft(), marks, used)
         painter.restore()
         return True
 

@@ -12,6 +12,7 @@ where the drawables would have been drawn.  A new frame geometry (zoom, pan, siz
 
 from __future__ import annotations
 
+from functools import reduce
 from typing import Callable, Iterable, Union
 
 from PySide6.QtCore import QPointF, QRect, Qt
@@ -36,6 +37,7 @@ class RetainedLayer:
         self.boxes: dict[tuple, QRect] = {}
         self.keys: list[tuple] = []
         self._entries: list | None = None
+        self._used: QRect | None = None
         self.full_redraws = 0  # counters for tests and benchmarks
         self.partial_redraws = 0
 
@@ -72,6 +74,7 @@ class RetainedLayer:
         dirty = [old[k] for k in old.keys() - boxes.keys()]
         dirty += [boxes[k] for k in boxes.keys() - old.keys()]
         self.boxes = boxes
+        self._used = None
         if not dirty:
             return self.image
         if sum(b.width() * b.height() for b in dirty) > MAX_DIRTY_FRACTION * area.width() * area.height():
@@ -110,11 +113,24 @@ class RetainedLayer:
             _draw(p, op)
         p.end()
         self.image, self.frame, self.boxes = image, full_key, boxes
+        self._used = None
         return image
+
+    def used(self) -> QRect:
+        """The part of the image (image px) any drawable can touch: outside it the layer is transparent,
+        so compositing this part alone is exact (labels on a wide rig cover a band of the view)."""
+        if self._used is None:
+            if not self.boxes or self.image is None or self.frame is None:
+                self._used = QRect()
+            else:
+                _frame, ax, ay, aw, ah = self.frame
+                r = reduce(QRect.united, self.boxes.values())
+                self._used = r.translated(-ax, -ay).intersected(QRect(0, 0, aw, ah))
+        return self._used
 
     def clear(self) -> None:
         """Forget the pixels (the next update redraws everything)."""
-        self.image, self.frame, self.boxes, self.keys, self._entries = None, None, {}, [], None
+        self.image, self.frame, self.boxes, self.keys, self._entries, self._used = None, None, {}, [], None, None
 
 
 def _draw(p: QPainter, op: Op) -> None:

@@ -63,6 +63,10 @@ def test_a_retained_layer_redrawn_only_where_drawables_changed_equals_one_drawn_
         got = pixels(layer.update(("frame",), area, entries))
         want = pixels(fresh((220, 150), entries))
         assert np.abs(got - want).max() <= ROUNDING, f"step {step}"
+        used = layer.used()  # what the overlay composites: everything drawn lies inside it
+        outside = np.ones(got.shape[:2], bool)
+        outside[used.top():used.bottom() + 1, used.left():used.right() + 1] = False
+        assert not got[outside][:, 3].any() and got[~outside][:, 3].any(), f"step {step}"
     assert layer.partial_redraws >= 20  # the layer was mostly patched, not redrawn
 
 
