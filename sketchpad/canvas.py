@@ -301,12 +301,22 @@ class SketchView(QGraphicsView):
         self._background: QPixmap | None = None  # paper and grid of the last frame (drawBackground)
         self._background_key: tuple | None = None
         self._hud_cache: dict[tuple, QPixmap] = {}  # scale bar and north arrow (drawForeground)
+        self._hud_frame: tuple = (None, [])  # (what fixes the HUD, its blits) of the last frame
+        #: Callables ``(painter, dpr or None)`` painting screen-fixed layers over the HUD each frame, in
+        #: viewport pixels (the overlay's legend): part of the viewport's own paint, not a child widget
+        self.foreground_painters: list = []
         self.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing)
         self.setHorizontalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
         self.setVerticalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
         self.setTransformationAnchor(QGraphicsView.NoAnchor)
         self.setResizeAnchor(QGraphicsView.AnchorViewCenter)
         self.setViewportUpdateMode(QGraphicsView.FullViewportUpdate)  # grid and HUD follow every pan
+        # every item sets the pen, brush and hints it draws with, and Qt sets each item's transform and
+        # opacity itself: saving and restoring the painter around each of ~160 items is ~0.3 ms a frame
+        self.setOptimizationFlag(QGraphicsView.DontSavePainterState, True)
+        # drawBackground covers every pixel with paper: no fill with the palette before each frame
+        self.viewport().setAutoFillBackground(False)
+        self.viewport().setAttribute(Qt.WA_OpaquePaintEvent, True)
         self.setDragMode(QGraphicsView.NoDrag)
         self.setMouseTracking(True)
         self.setFocusPolicy(Qt.StrongFocus)
@@ -531,7 +541,9 @@ class SketchView(QGraphicsView):
         zoom, pan, size or grid changes (a drag step repaints the viewport ~60 times a second)."""
         dpr = self._screen_dpr(painter)
         if dpr is None:
+            painter.save()  # the grid turns antialiasing off; the items after it want it on
             self._paint_background(painter, rect)
+            painter.restore()
             return
         vp = self.viewport()
         t = self.viewportTransform()
@@ -585,16 +597,24 @@ class SketchView(QGraphicsView):
             self._draw_scale_bar(painter)
             self._draw_orientation(painter)
         else:
-            vp = self.viewport().rect()
-            length_m = self.scale_bar_length_m()
-            self._blit_hud(painter, dpr, ("scale", length_m, self.px_per_m, self.length_unit, vp.height()),
-                           self._scale_bar_rect(length_m), self._draw_scale_bar)
-            self._blit_hud(painter, dpr, ("orientation", self.sketch_scene.rig.view == "elevation", vp.width()),
-                           self._orientation_rect(), self._draw_orientation)
+            vp = self.viewport()
+            elevation = self.sketch_scene.rig.view == "elevation"
+            frame = (self.px_per_m, self.length_unit, vp.width(), vp.height(), elevation, dpr)
+            if self._hud_frame[0] != frame:  # what the two parts show and where: worked out once per frame kind
+                length_m = self.scale_bar_length_m()
+                blits = [self._hud_pixmap(dpr, ("scale", length_m, self.px_per_m, self.length_unit, vp.height()),
+                                          self._scale_bar_rect(length_m), self._draw_scale_bar),
+                         self._hud_pixmap(dpr, ("orientation", elevation, vp.width()),
+                                          self._orientation_rect(), self._draw_orientation)]
+                self._hud_frame = (frame, blits)
+            for x, y, pix in self._hud_frame[1]:
+                painter.drawPixmap(x, y, pix)
+        for paint_on_top in self.foreground_painters:  # screen-fixed layers of other modules (the legend)
+            paint_on_top(painter, dpr)
         painter.restore()
 
-    def _blit_hud(self, painter: QPainter, dpr: float, key: tuple, rect: QRect, draw) -> None:
-        """Blit the HUD part ``draw`` paints inside ``rect`` (viewport px) from a pixmap cached by ``key``."""
+    def _hud_pixmap(self, dpr: float, key: tuple, rect: QRect, draw) -> tuple[int, int, QPixmap]:
+        """(x, y, pixmap): the HUD part ``draw`` paints inside ``rect`` (viewport px), cached by ``key``."""
         full = (key, rect.x(), rect.y(), rect.width(), rect.height(), dpr)
         pix = self._hud_cache.get(full)
         if pix is None:
@@ -609,7 +629,7 @@ class SketchView(QGraphicsView):
             draw(p)
             p.end()
             self._hud_cache[full] = pix
-        painter.drawPixmap(rect.x(), rect.y(), pix)
+        return rect.x(), rect.y(), pix
 
     def _scale_bar_rect(self, length_m: float) -> QRect:
         """Viewport px the scale bar (box, bar and text) stays inside."""

@@ -27,6 +27,7 @@ from __future__ import annotations
 
 import logging
 import math
+import operator
 from dataclasses import dataclass, field
 from typing import Callable, Iterable, Mapping
 
@@ -122,13 +123,38 @@ def _scene(xy) -> tuple[float, float]:
     return (float(xy[0]), -float(xy[1]))
 
 
+def scene_positions(rig: Rig, result: Result) -> dict[str, tuple[float, float]]:
+    """Scene position (metres, y down) of every point of ``rig``: where the solver put it, else where it is drawn."""
+    pos = {p.id: (float(p.x), -float(p.y)) for p in rig.points}
+    for pid, xy in result.points.items():
+        pos[pid] = (float(xy[0]), -float(xy[1]))
+    return pos
+
+
+def _bucket_colours() -> tuple[list[int], dict[int, int]]:
+    """Opaque colour (rgba) of each utilization bucket, and for each colour the first bucket that has it."""
+    rgba = [theme.utilization_colour(k / BAND_BUCKETS * BAND_MAX_UTIL).rgba() for k in range(BAND_BUCKETS + 1)]
+    first: dict[int, int] = {}
+    for k, c in enumerate(rgba):
+        first.setdefault(c, k)
+    return rgba, first
+
+
+_BUCKET_RGBA, _BUCKET_ORDER = _bucket_colours()
+
+
 def _unit(dx: float, dy: float) -> tuple[float, float]:
     n = math.hypot(dx, dy)
     return (0.0, -1.0) if n < 1e-12 else (dx / n, dy / n)
 
 
+_pass_keys_for: list = [None, {}]  # (rig.ropes, pass keys) of the last call: a drag keeps the ropes
+
+
 def pass_keys(rig: Rig) -> dict[str, tuple[str, int]]:
     """Deflection keys of ``Result.deflection_deg`` ("rope@point", "rope@point#2") -> (rope id, pass index)."""
+    if _pass_keys_for[0] is rig.ropes:
+        return dict(_pass_keys_for[1])
     out: dict[str, tuple[str, int]] = {}
     for rope in rig.ropes:
         counts: dict[str, int] = {}
@@ -137,6 +163,7 @@ def pass_keys(rig: Rig) -> dict[str, tuple[str, int]]:
             counts[at] = counts.get(at, 0) + 1
             key = f"{rope.id}@{at}" if counts[at] == 1 else f"{rope.id}@{at}#{counts[at]}"
             out[key] = (rope.id, j)
+    _pass_keys_for[:] = [rig.ropes, dict(out)]
     return out
 
 
@@ -148,13 +175,14 @@ def fmt_angle(deg: float) -> str:
     return f"{deg:.0f}°" if abs(deg) >= 10 else f"{deg:.1f}°"
 
 
-def build_labels(rig: Rig, result: Result, layers: Iterable[str],
-                 memo: dict | None = None) -> tuple[list[OverlayLabel], list[AnchorArrow]]:
+def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | None = None,
+                 pos: Mapping[str, tuple[float, float]] | None = None) -> tuple[list[OverlayLabel], list[AnchorArrow]]:
     """Labels and anchor arrows for an ok ``result`` of ``rig`` with the ``layers`` shown (numbers from the Result).
 
     ``memo`` (a dict the caller keeps between calls) reuses the label of a piece, pass or point
     whose numbers, names and positions are exactly those of the last call: during a drag only the
     moved part of the rig gets new labels (the rest of the result is bit-for-bit the same).
+    ``pos`` is :func:`scene_positions` of ``rig`` and ``result`` when the caller has it.
     """
     layers = set(layers)
     unit = rig.display.force
@@ -167,9 +195,8 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str],
         memo_new: dict = {"_context": context}
     points = {p.id: p for p in rig.points}  # dict look-ups: Rig.point() is a linear search
     ropes = {r.id: r for r in rig.ropes}
-    pos = {pid: _scene(p.xy) for pid, p in points.items()}
-    for pid, xy in result.points.items():
-        pos[pid] = _scene(xy)
+    if pos is None:
+        pos = scene_positions(rig, result)
     labels: list[OverlayLabel] = []
     arrows: list[AnchorArrow] = []
 
@@ -236,7 +263,8 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str],
             if aid not in pos or p is None:
                 continue
             hold = result.hold_anchor_range.get(aid)
-            mkey = ("n", aid, a, p.name, hold, pos[aid])
+            # the numbers the label and arrow show (hashing the frozen record itself is slower)
+            mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, p.name, hold, pos[aid])
             hit = old.get(mkey)
             if hit is None:
                 rad = math.radians(a.direction_deg)
@@ -266,7 +294,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str],
             p = points.get(lid)
             if lid not in pos or p is None:
                 continue
-            mkey = ("l", lid, f, p.name, p.required_N, pos[lid])
+            mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid])
             lab = old.get(mkey)
             if lab is None:
                 rad = math.radians(f.direction_deg)
@@ -456,13 +484,21 @@ class ObstacleCache:
         self.markers: set = set()
         self.pieces: set = set()
         self._samples: dict = {}
+        self._lists: tuple = (None, None, None)  # the markers, pieces and boxes lists of the last update
 
     def update(self, frame: tuple, to_px: Callable, markers, pieces, boxes) -> _Grid:
-        boxes, markers, pieces = set(boxes), set(markers), set(pieces)
+        """The grid holding ``markers``, ``pieces`` and ``boxes`` at ``frame``; a list object handed in
+        again (the caller keeps its lists while nothing in them changes) is taken as unchanged."""
         grid = self.grid
         if frame != self.frame:
             self.frame, grid = frame, _Grid()
             self.grid, self.boxes, self.markers, self.pieces, self._samples = grid, set(), set(), set(), {}
+            self._lists = (None, None, None)
+        last_markers, last_pieces, last_boxes = self._lists
+        self._lists = (markers, pieces, boxes)
+        boxes = self.boxes if boxes is last_boxes else set(boxes)
+        markers = self.markers if markers is last_markers else set(markers)
+        pieces = self.pieces if pieces is last_pieces else set(pieces)
         for xy, (bx, by, bw, bh) in self.boxes - boxes:
             x, y = to_px(xy)
             grid.remove_rect((x + bx, y + by, bw, bh))
@@ -491,7 +527,7 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
                  pieces: Iterable[tuple[object, tuple[float, float], tuple[float, float]]] = (),
                  boxes: Iterable[tuple[tuple[float, float], tuple[float, float, float, float]]] = (),
                  previous: Mapping[tuple, tuple] | None = None, obstacles: ObstacleCache | None = None,
-                 frame: tuple | None = None) -> int:
+                 frame: tuple | None = None, keep_hidden: bool = False) -> int:
     """Greedy placement in screen pixels; returns how many labels were skipped.
 
     Most important first (``priority``).  Each label takes its first candidate that
@@ -505,6 +541,9 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
     not jump about during a drag and only the moved ones are placed again.
     ``obstacles`` (kept by the caller) with ``frame`` (what fixes ``to_px``: zoom and pan) holds the
     obstacles between calls and updates them by difference; same placement, less work per drag step.
+    ``keep_hidden`` (during a drag) skips again, without searching, a label ``previous`` skipped: the
+    moved part of a crowded rig would otherwise search every spot for its hidden labels on every
+    step; they get their full search when the drag pauses (``previous`` then leaves them out).
     """
     same_frame = obstacles is not None and frame is not None and obstacles.frame == frame
     if obstacles is not None and frame is not None:
@@ -521,22 +560,26 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
                 grid.add_point(x, y, owner)
     placed: list = []  # this call's label rects, taken out of a kept obstacle grid again at the end
     try:
-        return _place(labels, to_px, size_of, previous, grid, placed, same_frame)
+        return _place(labels, to_px, size_of, previous, grid, placed, same_frame, keep_hidden)
     finally:
         if obstacles is not None and grid is obstacles.grid:
             for r in placed:
                 grid.remove_rect(r)
 
 
-def _place(labels, to_px, size_of, previous, grid: _Grid, placed: list, same_frame: bool) -> int:
+def _place(labels, to_px, size_of, previous, grid: _Grid, placed: list, same_frame: bool,
+           keep_hidden: bool = False) -> int:
     """:func:`place_labels` once the obstacles are in ``grid``: each label placed is added to it and to ``placed``."""
     hits = grid.hits_rect
     skipped = 0
-    ordered = sorted(labels, key=lambda l: -l.priority)
+    ordered = sorted(labels, key=_PRIORITY, reverse=True)  # stable: equal priorities keep their order
     todo = []
     for lab in ordered:
         lab.placed = False
         memo = previous.get((lab.kind, lab.key)) if previous else None
+        if keep_hidden and memo is not None and memo[3] is None:
+            skipped += 1  # hidden at the last drag step: stays hidden until the drag pauses
+            continue
         # the very label object of the last call at the same transform sits where it sat (build_labels
         # hands out the same object only for the same text and position)
         if memo is not None and ((same_frame and len(memo) > 6 and memo[6] is lab) or (
@@ -583,6 +626,7 @@ def _place(labels, to_px, size_of, previous, grid: _Grid, placed: list, same_fra
     return skipped
 
 KEEP_PX = 0.75
+_PRIORITY = operator.attrgetter("priority")
 LEADER_DOT_PX = 1.8  # radius of the dot a leader starts from
 
 
@@ -727,11 +771,16 @@ class ForceItem(_LayerItem):
         self._fail_pen = theme.pixel_pen(theme.BANNER_BACK, 3.0)
         self._size_cache: dict[str, tuple[float, float]] = {}
         self._pixmap_cache: dict[tuple, QPixmap] = {}
+        self._box_cache: dict[tuple, QImage] = {}  # label boxes by size and colour (label_pixmap)
         self._retained_marks = RetainedLayer()  # rings, arrows, leaders, labels as last painted
         self._band_layers: dict[int, RetainedLayer] = {}  # per band colour
-        self._entry_memo: dict = {}  # retained-layer entries of the last frame, by what they show
+        # retained-layer entries of the last frame, by what they show: (frame, rings, arrows, labels)
+        self._entry_memo: tuple = (None, {}, {}, {})
+        self._marks_last: tuple | None = None  # the last frame's inputs and entry list
         self._band_memo: dict = {}
         self._flat_pens: dict[int, QPen] = {}
+        self._band_paths: dict[int, tuple] = {}  # per colour: (piece ends, (pen, path)) of the last set_bands
+        self._drawn: tuple = (None, {})
 
     # --- building (outside paint) ---------------------------------------------------------------
     def pen_for(self, colour: QColor, width: float) -> QPen:
@@ -741,39 +790,64 @@ class ForceItem(_LayerItem):
             pen = self._pens[key] = theme.pixel_pen(colour, width)
         return pen
 
-    def set_bands(self, rig: Rig, result: Result) -> list[tuple[object, tuple[float, float], tuple[float, float]]]:
-        """One path per utilization bucket along the solved pieces; returns the pieces (key, a, b) in scene metres."""
-        pos = {p.id: _scene(p.xy) for p in rig.points}
-        for pid, xy in result.points.items():
-            pos[pid] = _scene(xy)
-        buckets: dict[int, QPainterPath] = {}
-        ends: dict[int, list[tuple[float, float]]] = {}
+    def set_bands(self, rig: Rig, result: Result,
+                  pos: Mapping[str, tuple[float, float]] | None = None) -> list[tuple[object, tuple[float, float], tuple[float, float]]]:
+        """One path per utilization colour along the solved pieces; returns the pieces (key, a, b) in scene metres.
+
+        Buckets of the same colour (the ramp stops at its last colour) share one band, drawn once.
+        ``pos`` (scene positions of every point, solved ones solved) saves building them again; a
+        band whose pieces are those of the last call keeps its path.
+        """
+        if pos is None:
+            pos = scene_positions(rig, result)
+        by_colour: dict[int, list[tuple[float, float]]] = {}
         pieces = []
+        colours = _BUCKET_RGBA
+        scale = BAND_BUCKETS / BAND_MAX_UTIL
         for s in result.segments:
-            if s.from_point not in pos or s.to_point not in pos:
+            a, b = pos.get(s.from_point), pos.get(s.to_point)
+            if a is None or b is None:
                 continue
-            a, b = pos[s.from_point], pos[s.to_point]
             pieces.append(((s.rope, s.index), a, b))
             if s.tension_N <= SLACK_N:
                 continue
-            k = int(round(min(max(s.utilization, 0.0), BAND_MAX_UTIL) / BAND_MAX_UTIL * BAND_BUCKETS))
-            path = buckets.get(k)
-            if path is None:
-                path = buckets[k] = QPainterPath()
-            path.moveTo(*a)
-            path.lineTo(*b)
-            ends.setdefault(k, []).extend((a, b))
+            rgba = colours[int(round(min(max(s.utilization, 0.0), BAND_MAX_UTIL) * scale))]
+            ends = by_colour.get(rgba)
+            if ends is None:
+                by_colour[rgba] = [a, b]
+            else:
+                ends.append(a)
+                ends.append(b)
+        old = self._band_paths
+        self._band_paths = {}
         self.bands = []
         self.band_ends = []
-        for k in sorted(buckets):
-            colour = theme.utilization_colour(k / BAND_BUCKETS * BAND_MAX_UTIL)
-            colour.setAlpha(theme.OVERLAY_BAND_ALPHA)
-            self.bands.append((theme.cosmetic_pen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine), buckets[k]))
-            self.band_ends.append(ends[k])
-        drawn = {p.id: _scene(p.xy) for p in rig.points}
+        for rgba in sorted(by_colour, key=_BUCKET_ORDER.__getitem__):
+            ends = by_colour[rgba]
+            kept = old.get(rgba)
+            if kept is not None and kept[0] == ends:
+                band = kept[1]
+            else:
+                path = QPainterPath()
+                for i in range(0, len(ends) - 1, 2):
+                    path.moveTo(*ends[i])
+                    path.lineTo(*ends[i + 1])
+                colour = QColor.fromRgba(rgba)
+                colour.setAlpha(theme.OVERLAY_BAND_ALPHA)
+                band = (theme.cosmetic_pen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine), path)
+            self._band_paths[rgba] = (ends, band)
+            self.bands.append(band)
+            self.band_ends.append(ends)
+        drawn = self._drawn_positions(rig)
         self.moved_points = [pos[pid] for pid in result.points
-                             if pid in drawn and math.dist(pos[pid], drawn[pid]) > 1e-6]
+                             if pid in drawn and pos[pid] != drawn[pid] and math.dist(pos[pid], drawn[pid]) > 1e-6]
         return pieces
+
+    def _drawn_positions(self, rig: Rig) -> dict[str, tuple[float, float]]:
+        """Scene positions of the points as drawn (kept while ``rig.points`` is the same tuple)."""
+        if self._drawn[0] is not rig.points:
+            self._drawn = (rig.points, {p.id: _scene(p.xy) for p in rig.points})
+        return self._drawn[1]
 
     def label_size(self, lab: OverlayLabel) -> tuple[float, float]:
         text = lab.text
@@ -794,25 +868,49 @@ class ForceItem(_LayerItem):
         if len(self._pixmap_cache) > PIXMAP_CACHE_MAX:
             drop_oldest(self._pixmap_cache)
         w, h = self.label_size(lab)
-        pix = QPixmap(int(w) + 1, int(h) + 1)
-        pix.fill(Qt.transparent)
-        p = QPainter(pix)
+        # the box alone (an anti-aliased rounded rect costs ~75 us, the text ~15 us) is shared by every
+        # label of its size and colour: during a drag a changed number mostly keeps the label's size
+        image = self._label_box(w, h, colour).copy()
+        p = QPainter(image)
         p.setRenderHint(QPainter.Antialiasing, True)
         p.setRenderHint(QPainter.TextAntialiasing, True)
-        self.paint_label_vector(p, lab, QRectF(0.0, 0.0, w, h), colour)
+        self._paint_label_text(p, lab, QRectF(0.0, 0.0, w, h))
         p.end()
-        self._pixmap_cache[key] = pix
+        pix = self._pixmap_cache[key] = QPixmap.fromImage(image)
         return pix
+
+    def _label_box(self, w: float, h: float, colour: QColor) -> QImage:
+        """A transparent (w + 1) x (h + 1) px image holding a label's box in ``colour``, cached by size and colour."""
+        key = (w, h, colour.rgba())
+        image = self._box_cache.get(key)
+        if image is None:
+            if len(self._box_cache) > PIXMAP_CACHE_MAX:
+                drop_oldest(self._box_cache)
+            image = QImage(int(w) + 1, int(h) + 1, QImage.Format_ARGB32_Premultiplied)
+            image.fill(Qt.transparent)
+            p = QPainter(image)
+            p.setRenderHint(QPainter.Antialiasing, True)
+            p.setRenderHint(QPainter.TextAntialiasing, True)
+            self._paint_label_box(p, QRectF(0.0, 0.0, w, h), colour)
+            p.end()
+            self._box_cache[key] = image
+        return image
 
     def paint_label_vector(self, painter: QPainter, lab: OverlayLabel, box: QRectF, colour: QColor) -> None:
         """A label's rounded box (border in ``colour``) and its text lines, drawn as vectors in ``box`` (device px).
 
-        Fills :meth:`label_pixmap`'s cache on screen; print and SVG (``sketchpad.export``) draw it directly.
+        :meth:`label_pixmap` draws the same in two steps on screen; print and SVG (``sketchpad.export``) draw it directly.
         """
+        self._paint_label_box(painter, box, colour)
+        self._paint_label_text(painter, lab, box)
+
+    def _paint_label_box(self, painter: QPainter, box: QRectF, colour: QColor) -> None:
         half = theme.OVERLAY_LABEL_BORDER_PX / 2.0
         painter.setPen(self.pen_for(colour, theme.OVERLAY_LABEL_BORDER_PX))
         painter.setBrush(self._back)
         painter.drawRoundedRect(box.adjusted(half, half, -half, -half), 3.0, 3.0)
+
+    def _paint_label_text(self, painter: QPainter, lab: OverlayLabel, box: QRectF) -> None:
         painter.setFont(self.font)
         angle = lab.kind == "angle" and not self.grey
         painter.setPen(self.pen_for(theme.ANGLE_TEXT, 1.0) if angle else self._text_pen)
@@ -835,6 +933,12 @@ class ForceItem(_LayerItem):
         self._draw_leader(painter, ex, ey)
         painter.restore()
 
+    def _draw_leader_at(self, painter: QPainter, x: float, y: float, ex: float, ey: float) -> None:
+        """A leader from (x, y) to (x + ex, y + ey) px."""
+        painter.translate(x, y)
+        self._draw_leader(painter, ex, ey)
+        painter.translate(-x, -y)
+
     def _draw_leader(self, painter: QPainter, ex: float, ey: float) -> None:
         """A leader from the origin (the dot) to (ex, ey) px."""
         painter.setPen(self._leader_pen)
@@ -847,21 +951,32 @@ class ForceItem(_LayerItem):
         self.refresh_rect(m_per_px)
 
     def refresh_rect(self, m_per_px: float) -> None:
-        rect = QRectF()
+        """The item's bounding rect (scene metres) around bands, arrows, placed labels and the failure ring,
+        and the list of label blits :meth:`paint` draws."""
+        xs0, ys0, xs1, ys1 = [], [], [], []  # the union of the parts' rects, in plain floats
         for _pen, path in self.bands:
-            rect = rect.united(path.boundingRect())
+            r = path.boundingRect()
+            if not r.isNull():
+                xs0.append(r.left()), ys0.append(r.top()), xs1.append(r.right()), ys1.append(r.bottom())
         reach = (theme.ANCHOR_ARROW_PX + theme.ANCHOR_ARROW_HEAD_PX) * m_per_px
-        for a in self.arrows:
-            rect = rect.united(QRectF(a.base[0] - reach, a.base[1] - reach, 2 * reach, 2 * reach))
+        if self.arrows and reach > 0:
+            xs, ys = [a.base[0] for a in self.arrows], [a.base[1] for a in self.arrows]
+            xs0.append(min(xs) - reach), ys0.append(min(ys) - reach), xs1.append(max(xs) + reach), ys1.append(max(ys) + reach)
         for lab in self.labels:
             if lab.placed:
                 x, y, w, h = lab.rect
-                rect = rect.united(QRectF(lab.at[0] + x * m_per_px, lab.at[1] + y * m_per_px, w * m_per_px, h * m_per_px))
+                if w > 0 or h > 0:
+                    lx, ly = lab.at[0] + x * m_per_px, lab.at[1] + y * m_per_px
+                    xs0.append(lx), ys0.append(ly), xs1.append(lx + w * m_per_px), ys1.append(ly + h * m_per_px)
         pad = (theme.FAIL_RING_PX + theme.OVERLAY_BAND_PX) * m_per_px
-        if self.fail_point is not None:
+        if self.fail_point is not None and pad > 0:
             fx, fy = self.fail_point
-            rect = rect.united(QRectF(fx - pad, fy - pad, 2 * pad, 2 * pad))
-        self.set_rect(rect.adjusted(-pad, -pad, pad, pad) if not rect.isNull() else QRectF())
+            xs0.append(fx - pad), ys0.append(fy - pad), xs1.append(fx + pad), ys1.append(fy + pad)
+        if xs0:
+            x0, y0, x1, y1 = min(xs0) - pad, min(ys0) - pad, max(xs1) + pad, max(ys1) + pad
+            self.set_rect(QRectF(x0, y0, x1 - x0, y1 - y0))
+        else:
+            self.set_rect(QRectF())
         # what paint() blits for each placed label: anchor (scene), box offset and size (px), leader, pixmap
         self._draw = [(lab.at[0], lab.at[1], *lab.rect, lab.leader,
                        self.label_pixmap(lab, theme.OVERLAY_GREY if self.grey else lab.colour))
@@ -956,72 +1071,84 @@ class ForceItem(_LayerItem):
             painter.setOpacity(alpha)
             painter.drawImage(at, image)
         painter.setOpacity(1.0)
-        painter.drawImage(area.topLeft(), marks)
+        used = self._retained_marks.used()
+        if not used.isEmpty():
+            painter.drawImage(used.topLeft() + area.topLeft(), marks, used)
         painter.restore()
         return True
 
-    def _mark_entries(self, m11: float, m22: float, dx: float, dy: float):
+    def _mark_entries(self, m11: float, m22: float, dx: float, dy: float) -> list:
         """(key, device box, op) of the solved-point rings, anchor arrows, leaders and labels, in paint order.
 
         An entry depends only on the frame's transform and on what it shows, so entries are kept
-        from the last frame (a drag step changes a few of them).
+        from the last frame (a drag step changes a few of them); with nothing rebuilt since the last
+        frame (the same lists of rings, arrows and labels) the last frame's list itself is returned.
         """
         frame = (m11, m22, dx, dy)
-        memo = self._entry_memo if self._entry_memo.get("_frame") == frame else {}
-        new: dict = {"_frame": frame}
+        last = self._marks_last
+        if (last is not None and last[0] == frame and last[1] is self.moved_points and last[2] is self.arrows
+                and last[3] is self._draw):
+            return last[4]
+        _frame, rings, arrows, labels = self._entry_memo if self._entry_memo[0] == frame else (None, {}, {}, {})
+        new_rings, new_arrows, new_labels = {}, {}, {}
         out = []
         r = theme.OVERLAY_SOLVED_POINT_PX
         reach = r + 2.0
         ring_bounds = QRectF(-reach, -reach, 2 * reach, 2 * reach)
         for m in self.moved_points:
-            k = ("r", m)
-            e = memo.get(k)
+            e = rings.get(m)
             if e is None:
                 pix, x, y = cached_blit_at(m[0] * m11 + dx, m[1] * m22 + dy, 1.0, ("solved-ring", r), ring_bounds,
                                            self._draw_ring)
                 e = _pixmap_entry("ring", pix, x, y)
-            new[k] = e
+            new_rings[m] = e
             out.append(e)
+        # arrows and leaders differ in direction and length from one to the next and from one drag step
+        # to the next: they are drawn straight into the layer (only where it is redrawn), not rendered
+        # into a pixmap first and blitted (~85 us per new one)
         for arrow in self.arrows:
-            colour = arrow.colour
-            k = ("a", arrow.base, arrow.direction, colour.rgba())
-            e = memo.get(k)
-            if e is None:
-                pix, x, y = cached_blit_at(arrow.base[0] * m11 + dx, arrow.base[1] * m22 + dy, 1.0,
-                                           ("anchor-arrow", arrow.direction, colour.rgba()), _arrow_bounds(arrow.direction),
-                                           lambda p, a=arrow, c=colour: self._draw_arrow(p, QPointF(0.0, 0.0), a.direction, c))
-                e = _pixmap_entry("arrow", pix, x, y)
-            new[k] = e
-            out.append(e)
+            hit = arrows.get(id(arrow))  # build_labels hands out the same arrow object while it is unchanged
+            if hit is None or hit[0] is not arrow:
+                colour = arrow.colour
+                x, y = arrow.base[0] * m11 + dx, arrow.base[1] * m22 + dy
+                box = _arrow_bounds(arrow.direction).translated(x, y).toAlignedRect().adjusted(-1, -1, 1, 1)
+                hit = (arrow, (("arrow", x, y, arrow.direction, colour.rgba()), box,
+                               lambda p, o=QPointF(x, y), d=arrow.direction, c=colour: self._draw_arrow(p, o, d, c)))
+            new_arrows[id(arrow)] = hit
+            out.append(hit[1])
         for item in self._draw:
-            k = ("l", item)
-            es = memo.get(k)
+            es = labels.get(item)
             if es is None:
                 ax, ay, x, y, w, h, leader, pix = item
                 px, py = ax * m11 + dx, ay * m22 + dy
                 es = []
                 if leader:
                     ex, ey = _leader_end(x, y, w, h)
-                    lpix, lx, ly = cached_blit_at(px, py, 1.0, ("leader", ex, ey),
-                                                  QRectF(min(ex, 0.0), min(ey, 0.0), abs(ex), abs(ey)).adjusted(-3, -3, 3, 3),
-                                                  lambda p, ex=ex, ey=ey: self._draw_leader(p, ex, ey))
-                    es.append(_pixmap_entry("leader", lpix, lx, ly))
+                    box = QRectF(px + min(ex, 0.0), py + min(ey, 0.0), abs(ex), abs(ey)).adjusted(-3, -3, 3, 3)
+                    es.append((("leader", px, py, ex, ey), box.toAlignedRect(),
+                               lambda p, px=px, py=py, ex=ex, ey=ey: self._draw_leader_at(p, px, py, ex, ey)))
                 es.append(_pixmap_entry("label", pix, px + x, py + y))
-            new[k] = es
+            new_labels[item] = es
             out.extend(es)
-        self._entry_memo = new
+        self._entry_memo = (frame, new_rings, new_arrows, new_labels)
+        self._marks_last = (frame, self.moved_points, self.arrows, self._draw, out)
         return out
 
     def _retained_bands(self, m11: float, m22: float, dx: float, dy: float, area: QRect):
         """(image, top-left, alpha) per utilization band, each a retained layer of opaque pieces laid down
-        at the band's alpha (see :meth:`_paint_bands_layered`); None when the layers would be too large."""
+        at the band's alpha (see :meth:`_paint_bands_layered`); None when the layers would be too large.
+
+        A band whose pieces are those of the last frame keeps its entries and area; within a band that
+        changed, pieces that did not keep theirs (a drag step moves a few pieces of one or two bands).
+        """
         if len(self.band_ends) != len(self.bands):
             return None
         half = theme.OVERLAY_BAND_PX / 2.0
         pad = int(math.ceil(half)) + 3
         frame = (m11, m22, dx, dy)
-        memo = self._band_memo if self._band_memo.get("_frame") == frame else {}
-        new: dict = {"_frame": frame}
+        area_key = (area.x(), area.y(), area.width(), area.height())
+        memo = self._band_memo if self._band_memo.get("_frame") == (frame, area_key) else {}
+        new: dict = {"_frame": (frame, area_key)}
         out = []
         total = 0
         live = set()
@@ -1030,37 +1157,43 @@ class ForceItem(_LayerItem):
             alpha = colour.alphaF()
             colour.setAlpha(255)
             rgba = colour.rgba()
-            flat = self._flat_pens.get(rgba)
-            if flat is None:
-                flat = self._flat_pens[rgba] = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
-            entries = []
-            x0 = y0 = math.inf
-            x1 = y1 = -math.inf
-            for i in range(0, len(ends) - 1, 2):
-                k = (ends[i], ends[i + 1], rgba)
-                e = memo.get(k)
-                if e is None:
-                    (sa, ta), (sb, tb) = ends[i], ends[i + 1]
-                    a, b = (sa * m11 + dx, ta * m22 + dy), (sb * m11 + dx, tb * m22 + dy)
-                    box = QRect(math.floor(min(a[0], b[0])) - pad, math.floor(min(a[1], b[1])) - pad,
-                                math.ceil(abs(a[0] - b[0])) + 2 * pad + 1, math.ceil(abs(a[1] - b[1])) + 2 * pad + 1)
-                    e = ((a, b), box, lambda p, a=a, b=b, f=flat, c=rgba: self._draw_band_piece(p, f, c, half, a, b))
-                new[k] = e
-                entries.append(e)
-                box = e[1]
-                x0, y0 = min(x0, box.left()), min(y0, box.top())
-                x1, y1 = max(x1, box.right()), max(y1, box.bottom())
-            if not entries:
-                continue
-            # the layer's area snapped to 64 px, so a piece moving a little does not resize it
-            g = 64
-            x0, y0 = x0 // g * g, y0 // g * g
-            x1, y1 = x1 // g * g + g, y1 // g * g + g
-            r = QRect(x0, y0, x1 - x0, y1 - y0).intersected(area)
+            kept = memo.get(rgba)
+            if kept is not None and kept[0] == ends:
+                _ends, pieces, entries, r = kept
+            else:
+                flat = self._flat_pens.get(rgba)
+                if flat is None:
+                    flat = self._flat_pens[rgba] = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
+                old_pieces = kept[1] if kept is not None else {}
+                pieces = {}
+                for i in range(0, len(ends) - 1, 2):
+                    k = (ends[i], ends[i + 1])
+                    hit = old_pieces.get(k)
+                    if hit is None:
+                        (sa, ta), (sb, tb) = k
+                        a, b = (sa * m11 + dx, ta * m22 + dy), (sb * m11 + dx, tb * m22 + dy)
+                        x0, y0 = math.floor(min(a[0], b[0])) - pad, math.floor(min(a[1], b[1])) - pad
+                        w, h = math.ceil(abs(a[0] - b[0])) + 2 * pad + 1, math.ceil(abs(a[1] - b[1])) + 2 * pad + 1
+                        hit = (((a, b), QRect(x0, y0, w, h),
+                                lambda p, a=a, b=b, f=flat, c=rgba: self._draw_band_piece(p, f, c, half, a, b)),
+                               x0, y0, x0 + w - 1, y0 + h - 1)
+                    pieces[k] = hit
+                if not pieces:
+                    continue
+                hits = list(pieces.values()) if len(pieces) * 2 == len(ends) else \
+                    [pieces[(ends[i], ends[i + 1])] for i in range(0, len(ends) - 1, 2)]  # a piece drawn twice
+                entries = [h[0] for h in hits]
+                # the layer's area snapped to 64 px, so a piece moving a little does not resize it
+                g = 64
+                x0, y0 = min(h[1] for h in hits) // g * g, min(h[2] for h in hits) // g * g
+                x1, y1 = max(h[3] for h in hits) // g * g + g, max(h[4] for h in hits) // g * g + g
+                r = QRect(x0, y0, x1 - x0, y1 - y0).intersected(area)
+            new[rgba] = (list(ends), pieces, entries, r)
             if r.isEmpty():
                 continue
             total += r.width() * r.height()
             if total > 2 * area.width() * area.height():
+                self._band_memo = new
                 return None  # zoomed far in with many bands: layers would cost more than they save
             layer = self._band_layers.get(rgba)
             if layer is None:
@@ -1219,7 +1352,12 @@ class Banner(QLabel):
 
 
 class Legend(QWidget):
-    """Bottom-right key: the utilization ramp, zone hatches and the system summary lines."""
+    """Bottom-right key: the utilization ramp, zone hatches and the system summary lines.
+
+    The widget itself is never shown: it holds the key's size and place on the viewport, and the
+    view paints it as part of its own frame (``SketchView.foreground_painters``, :meth:`paint_on`),
+    which saves Qt a second paint pass of a child widget on every frame of a drag.
+    """
 
     def __init__(self, parent: QWidget) -> None:
         super().__init__(parent)
@@ -1232,6 +1370,7 @@ class Legend(QWidget):
         self.fm = QFontMetricsF(self.font)
         self._pixmap: QPixmap | None = None
         self._pixmap_key: tuple | None = None
+        self.shown = False  # whether the view paints the key (the widget stays hidden)
         self.hide()
 
     TITLE = "Rope use: tension × SF ÷ MBS"
@@ -1239,7 +1378,7 @@ class Legend(QWidget):
 
     def set_content(self, lines: list[str], show_zones: bool, grey: bool) -> None:
         lines = list(lines)
-        if (lines, show_zones, grey) == (self.lines, self.show_zones, self.grey) and self.isVisible():
+        if (lines, show_zones, grey) == (self.lines, self.show_zones, self.grey) and self.shown:
             return  # nothing new to say (most drag steps)
         self.lines, self.show_zones, self.grey = lines, show_zones, grey
         self.resize(self.sizeHint())
@@ -1260,9 +1399,23 @@ class Legend(QWidget):
         m = theme.LEGEND_MARGIN_PX
         self.move(vp.width() - self.width() - m, vp.height() - self.height() - m)
 
-    def paintEvent(self, event) -> None:  # noqa: N802
-        # the legend is repainted with every viewport frame but changes rarely: blit it from a pixmap
-        dpr = self.devicePixelRatioF()
+    def set_shown(self, on: bool) -> None:
+        """Show or hide the key (the viewport repaints where it is)."""
+        if bool(on) != self.shown:
+            self.shown = bool(on)
+            self.parentWidget().update(self.geometry())
+
+    def paint_on(self, painter: QPainter, dpr: float | None) -> None:
+        """Paint the key at its place, ``painter`` in viewport pixels: on screen (``dpr``) blitted from a
+        pixmap drawn again only when the key changes, else (a scaled or vector render) as vectors."""
+        if not self.shown:
+            return
+        if dpr is None:
+            painter.save()
+            painter.translate(self.x(), self.y())
+            self._paint(painter)
+            painter.restore()
+            return
         key = (tuple(self.lines), self.show_zones, self.grey, self.width(), self.height(), dpr)
         if self._pixmap is None or self._pixmap_key != key:
             pix = QPixmap(max(1, round(self.width() * dpr)), max(1, round(self.height() * dpr)))
@@ -1272,9 +1425,7 @@ class Legend(QWidget):
             self._paint(p)
             p.end()
             self._pixmap, self._pixmap_key = pix, key
-        p = QPainter(self)
-        p.drawPixmap(0, 0, self._pixmap)
-        p.end()
+        painter.drawPixmap(self.x(), self.y(), self._pixmap)
 
     def _paint(self, p: QPainter) -> None:
         p.setRenderHint(QPainter.Antialiasing, True)
@@ -1368,6 +1519,7 @@ class ResultOverlay(QObject):
         self.scene.add_overlay_item(self.force_item)
         self.banner = Banner(view.viewport())
         self.legend = Legend(view.viewport())
+        view.foreground_painters.append(self.legend.paint_on)
         view.viewport().installEventFilter(self)
         view.scale_changed.connect(lambda _s: self.relayout())
         self.rig: Rig | None = None  # the rig the drawn overlay belongs to
@@ -1382,9 +1534,12 @@ class ResultOverlay(QObject):
         self._label_memo: dict = {}  # build_labels' reuse of unchanged labels between solves
         self._obstacles = ObstacleCache()  # the placer's obstacles, updated by difference between solves
         self._zones_due = True
+        self._keep_hidden = False
         self._summary: list[str] = []  # summary_lines of the result drawn
         self._name_fm = QFontMetricsF(theme.font())
         self._name_box_cache: dict[tuple[str, str], tuple[float, float, float, float]] = {}
+        self._name_boxes_for: tuple = (None, [])  # (rig.points, name boxes) of the last call
+        self._markers_for: tuple = (None, None, [])  # (rig.points, result, markers) of the last call
 
     # --- public -------------------------------------------------------------------------------------
     @property
@@ -1408,6 +1563,7 @@ class ResultOverlay(QObject):
         redrawn with the settled result that follows once the drag pauses (``SolveScheduler``).
         """
         self._zones_due = settled or self.result is None
+        self._keep_hidden = not settled  # a drag step: labels hidden at the last step stay hidden
         if settled:  # give labels skipped during a drag another try
             self._memo = {k: v for k, v in self._memo.items() if v[3] is not None}
         from sketchpad.live_solve import failure_text
@@ -1464,11 +1620,12 @@ class ResultOverlay(QObject):
             self.force_item.bands, self.force_item.moved_points = [], []
             self.force_item.set_labels([], [], self._m_per_px())
             self.zones_item.set_zones([])
-            self.legend.hide()
+            self.legend.set_shown(False)
             return
         rig, result = self.rig, self.result
-        self.pieces = self.force_item.set_bands(rig, result)
-        labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on], self._label_memo)
+        pos = scene_positions(rig, result)
+        self.pieces = self.force_item.set_bands(rig, result, pos)
+        labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on], self._label_memo, pos)
         self.force_item.labels, self.force_item.arrows = labels, arrows
         if self.layers["zones"] and not getattr(self, "_zones_due", True):
             pass  # a drag step: zones follow the settled result
@@ -1487,7 +1644,7 @@ class ResultOverlay(QObject):
         self._zones_due = True
         self._summary = summary_lines(rig, result)
         self.relayout()
-        self.legend.show()
+        self.legend.set_shown(True)
 
     def _update_legend(self) -> None:
         """The legend's lines: the system summary, how many labels the placer hid, and a failed solve."""
@@ -1512,21 +1669,33 @@ class ResultOverlay(QObject):
 
         markers, boxes = [], []
         if self.rig is not None:
-            markers = [_scene(p.xy) for p in self.rig.points]
             boxes = self._name_boxes(self.rig)
-            if self.result is not None:
-                markers += [_scene(xy) for xy in self.result.points.values()]
-            markers = list(dict.fromkeys(markers))  # a fixed point's solved place is its drawn one
+            markers = self._markers(self.rig, self.result)
         previous = self._memo if self._memo_scale == m11 else None
         self.skipped = place_labels(self.force_item.labels, to_px, self.force_item.label_size, markers, self.pieces,
-                                    boxes, previous, self._obstacles, (m11, t.m22(), dx, dy))
+                                    boxes, previous, self._obstacles, (m11, t.m22(), dx, dy),
+                                    keep_hidden=self._keep_hidden)
         self._memo, self._memo_scale = placement_memo(self.force_item.labels, to_px), m11
         self.force_item.refresh_rect(self._m_per_px())
         if self.result is not None and self.rig is not None:
             self._update_legend()  # after a zoom too: how many labels are hidden changes with it
 
+    def _markers(self, rig: Rig, result: Result | None) -> list[tuple[float, float]]:
+        """Scene points of every marker: each point where it is drawn and, if the solver moved it, where it was solved."""
+        if self._markers_for[0] is rig.points and self._markers_for[1] is result:
+            return self._markers_for[2]
+        markers = list(self.force_item._drawn_positions(rig).values())
+        if result is not None:
+            markers += [(float(x), -float(y)) for x, y in result.points.values()]
+        markers = list(dict.fromkeys(markers))  # a fixed point's solved place is its drawn one
+        self._markers_for = (rig.points, result, markers)
+        return markers
+
     def _name_boxes(self, rig: Rig) -> list:
-        """Pixel rects of the point names the canvas draws beside each marker (sketchpad.items.PointItem)."""
+        """Pixel rects of the point names the canvas draws beside each marker (sketchpad.items.PointItem);
+        the same list while ``rig.points`` is the same tuple."""
+        if self._name_boxes_for[0] is rig.points:
+            return self._name_boxes_for[1]
         cache = self._name_box_cache
         if len(cache) > 4 * len(rig.points) + 64:
             cache.clear()
@@ -1539,6 +1708,7 @@ class ResultOverlay(QObject):
                 r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
                 box = cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name), fm.height())
             out.append((_scene(p.xy), box))
+        self._name_boxes_for = (rig.points, out)
         return out
 
     def eventFilter(self, obj, event) -> bool:  # noqa: N802

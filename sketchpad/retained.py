@@ -12,6 +12,7 @@ where the drawables would have been drawn.  A new frame geometry (zoom, pan, siz
 
 from __future__ import annotations
 
+from functools import reduce
 from typing import Callable, Iterable, Union
 
 from PySide6.QtCore import QPointF, QRect, Qt
@@ -19,6 +20,8 @@ from PySide6.QtGui import QImage, QPainter, QPixmap, QRegion
 
 #: Redraw the whole layer when the changed rectangles cover more than this share of it.
 MAX_DIRTY_FRACTION = 0.35
+
+_DUP = object()  # marks the numbered keys of repeated drawables (never equal to a caller's key)
 
 #: A drawable's operation: a pixmap blitted with its top-left at a point, or a callable painting
 #: (device px, the painter translated to the layer's area).
@@ -33,41 +36,49 @@ class RetainedLayer:
         self.frame: tuple | None = None
         self.boxes: dict[tuple, QRect] = {}
         self.keys: list[tuple] = []
+        self._entries: list | None = None
+        self._used: QRect | None = None
         self.full_redraws = 0  # counters for tests and benchmarks
         self.partial_redraws = 0
 
     def update(self, frame: tuple, area: QRect, entries: Iterable[tuple[tuple, QRect, Op]]) -> QImage:
         """The layer for this frame: ``entries`` are (key, device rect it can touch, op) in paint order.
 
+        The very list object of the last call, handed in again, is taken as unchanged (callers
+        build a new list for a new frame and never change one they handed in).
+
         ``frame`` (with ``area``) names everything besides the keys that fixes the pixels (transform,
         size, colours); a different frame redraws everything.  Equal keys must mean equal pixels.
         """
-        entries = list(entries)
-        keys = [e[0] for e in entries]
+        if not isinstance(entries, list):
+            entries = list(entries)
         full_key = (frame, area.x(), area.y(), area.width(), area.height())
+        if entries is self._entries and self.image is not None and self.frame == full_key:
+            return self.image  # the caller's very list of the last frame (a still frame)
+        keys = [e[0] for e in entries]
         if keys == self.keys and self.image is not None and self.frame == full_key:
-            return self.image  # nothing changed (a still frame)
-        self.keys = keys
-        if len(set(keys)) == len(keys):
-            boxes = {(e[0], 0): e[1] for e in entries}
-        else:  # a second identical drawable at the same place is its own entry
+            self._entries = entries
+            return self.image  # nothing changed
+        self.keys, self._entries = keys, entries
+        boxes = dict(zip(keys, [e[1] for e in entries]))
+        if len(boxes) != len(keys):  # a second identical drawable at the same place is its own entry
             counts: dict[tuple, int] = {}
             boxes = {}
             for key, box, _op in entries:
                 n = counts.get(key, 0)
                 counts[key] = n + 1
-                boxes[(key, n)] = box
-        keyed = [(e[1], e[2]) for e in entries]
+                boxes[(_DUP, key, n)] = box
         if self.image is None or self.frame != full_key:
-            return self._redraw_all(full_key, area, boxes, keyed)
+            return self._redraw_all(full_key, area, boxes, entries)
         old = self.boxes
-        dirty = [b for k, b in old.items() if k not in boxes]
-        dirty += [b for k, b in boxes.items() if k not in old]
+        dirty = [old[k] for k in old.keys() - boxes.keys()]
+        dirty += [boxes[k] for k in boxes.keys() - old.keys()]
         self.boxes = boxes
+        self._used = None
         if not dirty:
             return self.image
         if sum(b.width() * b.height() for b in dirty) > MAX_DIRTY_FRACTION * area.width() * area.height():
-            return self._redraw_all(full_key, area, boxes, keyed)
+            return self._redraw_all(full_key, area, boxes, entries)
         region = QRegion()
         for b in dirty:
             region = region.united(b)
@@ -82,13 +93,14 @@ class RetainedLayer:
         p.fillRect(region.boundingRect(), Qt.transparent)
         p.setCompositionMode(QPainter.CompositionMode_SourceOver)
         p.setRenderHint(QPainter.Antialiasing, True)
-        for box, op in keyed:
-            if region.intersects(box):
+        intersects = region.intersects
+        for _key, box, op in entries:
+            if intersects(box):
                 _draw(p, op)
         p.end()
         return self.image
 
-    def _redraw_all(self, full_key: tuple, area: QRect, boxes: dict, keyed: list) -> QImage:
+    def _redraw_all(self, full_key: tuple, area: QRect, boxes: dict, entries: list) -> QImage:
         self.full_redraws += 1
         image = self.image
         if image is None or image.width() != area.width() or image.height() != area.height():
@@ -97,15 +109,28 @@ class RetainedLayer:
         p = QPainter(image)
         p.translate(-area.x(), -area.y())
         p.setRenderHint(QPainter.Antialiasing, True)
-        for _box, op in keyed:
+        for _key, _box, op in entries:
             _draw(p, op)
         p.end()
         self.image, self.frame, self.boxes = image, full_key, boxes
+        self._used = None
         return image
+
+    def used(self) -> QRect:
+        """The part of the image (image px) any drawable can touch: outside it the layer is transparent,
+        so compositing this part alone is exact (labels on a wide rig cover a band of the view)."""
+        if self._used is None:
+            if not self.boxes or self.image is None or self.frame is None:
+                self._used = QRect()
+            else:
+                _frame, ax, ay, aw, ah = self.frame
+                r = reduce(QRect.united, self.boxes.values())
+                self._used = r.translated(-ax, -ay).intersected(QRect(0, 0, aw, ah))
+        return self._used
 
     def clear(self) -> None:
         """Forget the pixels (the next update redraws everything)."""
-        self.image, self.frame, self.boxes, self.keys = None, None, {}, []
+        self.image, self.frame, self.boxes, self.keys, self._entries, self._used = None, None, {}, [], None, None
 
 
 def _draw(p: QPainter, op: Op) -> None:

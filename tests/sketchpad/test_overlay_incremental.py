@@ -63,6 +63,10 @@ def test_a_retained_layer_redrawn_only_where_drawables_changed_equals_one_drawn_
         got = pixels(layer.update(("frame",), area, entries))
         want = pixels(fresh((220, 150), entries))
         assert np.abs(got - want).max() <= ROUNDING, f"step {step}"
+        used = layer.used()  # what the overlay composites: everything drawn lies inside it
+        outside = np.ones(got.shape[:2], bool)
+        outside[used.top():used.bottom() + 1, used.left():used.right() + 1] = False
+        assert not got[outside][:, 3].any() and got[~outside][:, 3].any(), f"step {step}"
     assert layer.partial_redraws >= 20  # the layer was mostly patched, not redrawn
 
 
@@ -225,6 +229,9 @@ def test_placement_with_obstacles_kept_between_drag_steps_equals_placement_from_
     doc.replace_all(fifty_rope_rig())
     view.zoom_to_fit()
     view.zoom_at(2.0, view.viewport().rect().center())  # room for more labels, so some of them move
+    # solve in this thread: a slow first solve (cold imports) would send ``fire`` to the worker thread,
+    # and the overlay compared below would then still be the last step's
+    sched.background, sched.background_after_ms = False, float("inf")
     sched.solve_now()
     ov = main_window.live.overlay
     rig = doc.rig
@@ -240,7 +247,8 @@ def test_placement_with_obstacles_kept_between_drag_steps_equals_placement_from_
         markers = list(dict.fromkeys([(p.x, -p.y) for p in ov.rig.points] +
                                      [(x, -y) for x, y in ov.result.points.values()]))
         again = copy.deepcopy(ov.labels)
-        place_labels(again, to_px, ov.force_item.label_size, markers, ov.pieces, ov._name_boxes(ov.rig), previous)
+        place_labels(again, to_px, ov.force_item.label_size, markers, ov.pieces, ov._name_boxes(ov.rig), previous,
+                     keep_hidden=ov._keep_hidden)
         assert with_cache == [(lab.kind, lab.key, lab.placed, lab.at, lab.rect, lab.leader) for lab in again], i
         kept += sum(1 for v in previous.values() if len(v) > 6 and any(v[6] is lab for lab in ov.labels))
     assert kept > 50  # most labels came through unchanged, by the fast path
@@ -275,3 +283,135 @@ def test_a_full_pixmap_cache_forgets_its_oldest_entries_not_all():
     one = {"a": 1}
     drop_oldest(one)
     assert one == {}
+
+
+def test_a_label_pixmap_from_a_shared_box_equals_the_label_drawn_afresh_as_vectors():
+    from sketchpad import theme
+    from sketchpad.overlay import ForceItem, OverlayLabel
+
+    item = ForceItem()
+    red, green = QColor(theme.UTIL_RAMP[-1][1]), QColor(theme.UTIL_RAMP[0][1])
+    labels = [
+        OverlayLabel("tension", ("r", 0), ("1.23 kN", "0.4 % stretch"), {}, red, 50.0, (0.0, 0.0), (1.0, 0.0)),
+        OverlayLabel("tension", ("r", 1), ("1.24 kN", "0.4 % stretch"), {}, red, 50.0, (0.0, 0.0), (1.0, 0.0)),  # same box
+        OverlayLabel("angle", "r@P", ("turn 37°",), {}, theme.ANGLE_TEXT, 30.0, (0.0, 0.0)),
+        OverlayLabel("anchor", "A", ("A 3.10 kN", "41 % of allowed at 10:1"), {}, green, 90.0, (0.0, 0.0)),
+    ]
+    for grey in (False, True):
+        item.grey = grey
+        for lab in labels:
+            colour = theme.OVERLAY_GREY if grey else lab.colour
+            got = item.label_pixmap(lab, colour).toImage()
+            w, h = item.label_size(lab)
+            want = QImage(got.width(), got.height(), QImage.Format_ARGB32_Premultiplied)
+            want.fill(Qt.transparent)
+            p = QPainter(want)
+            p.setRenderHint(QPainter.Antialiasing, True)
+            p.setRenderHint(QPainter.TextAntialiasing, True)
+            item.paint_label_vector(p, lab, QRectF(0.0, 0.0, w, h), colour)
+            p.end()
+            assert (pixels(got) == pixels(want)).all(), (lab.lines, grey)
+    assert len(item._box_cache) == 6  # 8 labels, 3 sizes, 2 colours each: the two tension labels shared a box
+
+
+def test_bands_of_pieces_past_the_top_of_the_ramp_are_one_band_and_draw_as_laid_down_afresh():
+    from solver.model import Rig
+    from solver.result import Result, SegmentResult
+
+    from sketchpad.overlay import ForceItem
+
+    # utilizations 1.55 and 1.7 fall in the two top buckets, which have the same (last) ramp colour;
+    # the other two pieces cross them in other colours
+    pos = {"a": (0.0, 0.0), "b": (6.0, 4.0), "c": (0.0, 4.0), "d": (6.0, 0.0), "e": (3.0, -1.0), "f": (3.0, 5.0)}
+    segs = tuple(SegmentResult(rope=f"r{i}", index=0, from_point=a, to_point=b, tension_N=1000.0, length_m=5.0,
+                               strain=0.01, utilization=u)
+                 for i, (a, b, u) in enumerate([("a", "b", 1.55), ("c", "d", 1.7), ("e", "f", 0.3), ("a", "f", 0.9)]))
+    item = ForceItem()
+    item.set_bands(Rig(), Result(status="ok", segments=segs), pos)
+    colours = [pen.color().rgba() for pen, _path in item.bands]
+    assert len(item.bands) == 3 and len(set(colours)) == 3
+
+    def draw(how) -> np.ndarray:
+        image = QImage(200, 160, QImage.Format_ARGB32_Premultiplied)
+        image.fill(Qt.transparent)
+        p = QPainter(image)
+        p.setRenderHint(QPainter.Antialiasing, True)
+        p.setTransform(QTransform.fromScale(25.0, 25.0) * QTransform.fromTranslate(15.0, 40.0))
+        how(p)
+        p.end()
+        return pixels(image)
+
+    def retained(p):
+        area = QRect(0, 0, 200, 160)
+        t = p.worldTransform()
+        p.resetTransform()
+        for image, at, alpha in item._retained_bands(t.m11(), t.m22(), t.dx(), t.dy(), area):
+            p.setOpacity(alpha)
+            p.drawImage(at, image)
+
+    got, want = draw(retained), draw(item._paint_bands_layered)
+    assert (want[:, :, 3] > 0).sum() > 2000  # the bands were drawn
+    assert np.abs(got - want).max() <= ROUNDING
+
+
+def test_labels_hidden_during_a_drag_stay_hidden_and_get_a_full_search_once_it_pauses(main_window):
+    import copy
+
+    from sketchpad.overlay import place_labels
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    doc, sched, view = main_window.document, main_window.live.scheduler, main_window.view
+    doc.replace_all(fifty_rope_rig())
+    view.zoom_to_fit()  # crowded: most labels are hidden
+    sched.background, sched.background_after_ms = False, float("inf")
+    sched.solve_now()
+    sched.settle_timer.setInterval(600_000)  # every step below is part of one drag, however slow the machine
+    ov = main_window.live.overlay
+    rig = doc.rig
+    h = rig.point("H4")
+    hidden_before = None
+    for i in range(1, 6):
+        doc.preview(rig.moved("H4", h.x + 0.6 * i, h.y - 0.3 * i))
+        sched.fire()
+        assert not sched.settled and ov._keep_hidden
+        hidden = {(lab.kind, lab.key) for lab in ov.labels if not lab.placed}
+        assert len(hidden) == ov.skipped and any(f"{ov.skipped} labels hidden" in line for line in ov.legend.lines)
+        if hidden_before is not None:
+            assert hidden_before <= hidden  # nothing hidden at the last step popped up mid-drag
+        hidden_before = hidden
+    memo = {k: v for k, v in ov._memo.items() if v[3] is not None}  # what a pause keeps of the drag's placement
+    sched.solve_now()  # the drag paused: the settled result
+    assert sched.settled and not ov._keep_hidden
+    t = view.transform()
+    to_px = lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())  # noqa: E731
+    again = copy.deepcopy(ov.labels)
+    skipped = place_labels(again, to_px, ov.force_item.label_size, ov._markers(ov.rig, ov.result), ov.pieces,
+                           ov._name_boxes(ov.rig), memo)  # every hidden label searched afresh
+    assert skipped == ov.skipped
+    assert [(lab.key, lab.placed, lab.at, lab.rect) for lab in ov.labels] == \
+        [(lab.key, lab.placed, lab.at, lab.rect) for lab in again]
+
+
+def test_the_legend_painted_by_the_view_shows_in_the_frame_where_its_key_says_and_goes_when_hidden(main_window):
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    main_window.document.replace_all(fifty_rope_rig())
+    main_window.view.zoom_to_fit()
+    main_window.live.scheduler.solve_now()
+    ov, vp = main_window.live.overlay, main_window.view.viewport()
+    legend = ov.legend
+    assert legend.shown and legend.isHidden()  # the widget only holds the key's size and place
+    g = legend.geometry()
+    assert vp.rect().contains(g)
+    shown = pixels(vp.grab().toImage())[g.top():g.bottom() + 1, g.left():g.right() + 1]
+    key = QImage(g.width(), g.height(), QImage.Format_ARGB32_Premultiplied)
+    key.fill(Qt.transparent)
+    p = QPainter(key)
+    legend._paint(p)
+    p.end()
+    ink = pixels(key)
+    text = (ink[:, :, 3] == 255) & (ink[:, :, :3].sum(axis=2) < 150)  # the key's dark text, drawn opaque
+    assert text.sum() > 200 and np.abs(shown[text] - ink[text]).max() <= ROUNDING  # drawn where the key says
+    legend.set_shown(False)  # what the overlay does when there is no result to explain
+    gone = pixels(vp.grab().toImage())[g.top():g.bottom() + 1, g.left():g.right() + 1]
+    assert np.abs(gone[text] - ink[text]).max() > 50
