@@ -74,6 +74,37 @@ def warm_start(rig: Rig, good_rig: Rig | None, good: Result | None) -> dict[str,
     return start or None
 
 
+def moved_points(before: Rig, after: Rig) -> frozenset[str]:
+    """Ids of the points whose drawn position differs between two rigs (added or removed ones too)."""
+    old = {p.id: (p.x, p.y) for p in before.points}
+    new = {p.id: (p.x, p.y) for p in after.points}
+    return frozenset(pid for pid in old.keys() | new.keys() if old.get(pid) != new.get(pid))
+
+
+def predicted_start(rig: Rig, plain: Mapping[str, tuple[float, float]] | None, good_rig: Rig | None,
+                    before_rig: Rig | None, before: Result | None) -> dict[str, tuple[float, float]] | None:
+    """A drag step's start extrapolated from the last two solutions, or None when it does not apply.
+
+    When the planner keeps dragging the same points, the equilibrium moves along a smooth
+    path: a free point starts at 2 x its last solved position - the one before (a secant
+    predictor), which the solver's first Newton step would otherwise have to find.  Applies
+    only when the same points moved from ``before_rig`` to ``good_rig`` as from ``good_rig``
+    to ``rig``.  ``plain``: the :func:`warm_start` from the last good result (solved for
+    ``good_rig``); points without a secant keep it.
+    """
+    if plain is None or good_rig is None or before is None or before_rig is None or not before.ok:
+        return None
+    step = moved_points(good_rig, rig)
+    if not step or step != moved_points(before_rig, good_rig):
+        return None
+    out = dict(plain)
+    for pid, (x, y) in plain.items():
+        if pid in before.points and pid not in step:
+            bx, by = before.points[pid]
+            out[pid] = (2.0 * x - bx, 2.0 * y - by)
+    return out
+
+
 def failure_result(exc: BaseException) -> Result:
     """A failed Result naming an exception the solver should never have raised."""
     return Result(status="diverged",
@@ -137,11 +168,15 @@ class SolveScheduler(QObject):
         self.rig: Rig | None = None  # the rig ``result`` was solved for
         self.last_good: Result | None = None
         self.last_good_rig: Rig | None = None
+        # the good drag-step result before ``last_good`` (for the secant start of the next step)
+        self.before_good: Result | None = None
+        self.before_good_rig: Rig | None = None
         self.solve_count = 0
         self.stale_dropped = 0
         self.last_solve_ms = 0.0
         self.background = False
         self._quick_in_row = 0
+        self._last_settled_good = True  # the last good result came from a full analysis, not a drag step
         self._in_flight: int | None = None  # revision being solved in the worker
         self._executor: concurrent.futures.ThreadPoolExecutor | None = None
         self._closed = False
@@ -207,9 +242,13 @@ class SolveScheduler(QObject):
         ``quick`` (during a drag): the equilibrium alone; the settle timer runs the full analysis later.
         """
         start = warm_start(rig, self.last_good_rig, self.last_good)
+        predicted = predicted_start(rig, start, self.last_good_rig, self.before_good_rig,
+                                    self.before_good) if quick else None
         t0 = time.perf_counter()
         try:
-            result = (self.quick if quick else self.analyse)(rig, start=start)
+            result = (self.quick if quick else self.analyse)(rig, start=predicted or start)
+            if predicted and isinstance(result, Result) and not result.ok:
+                result = self.quick(rig, start=start)  # the extrapolated start misled: from the last answer
             if not isinstance(result, Result):
                 raise TypeError(f"analyse returned {type(result).__name__}, not a Result")
         except Exception as exc:  # noqa: BLE001 - a solver bug must not take the window down
@@ -253,7 +292,11 @@ class SolveScheduler(QObject):
         self.result, self.rig = result, rig
         self.settled = not quick
         if result.ok:
+            # two drag steps in a row give the next step a secant start; anything else starts afresh
+            drag = quick and self.last_good is not None and not self._last_settled_good
+            self.before_good, self.before_good_rig = (self.last_good, self.last_good_rig) if drag else (None, None)
             self.last_good, self.last_good_rig = result, rig
+            self._last_settled_good = not quick
         if not self.settled:
             self.settle_timer.start()  # restarted by every drag step: runs once the rig is still
         self.status_changed.emit(result.status)
