@@ -151,7 +151,9 @@ class DragLayer:
         self.image: QImage | None = None
         self._frame: tuple | None = None  # view transform, size, grid, hints the image was built at
         self._order: list | None = None  # items below the overlay, in stacking order, at the build
-        self._still: list[tuple] = []  # (item, version) painted into the image
+        self._still: list[int] = []  # indices in ``_order`` of the items painted into the image
+        self._built: list = []  # versions of ``_order`` at the build
+        self._stack: tuple | None = None  # (scene items, their z, below, top) of the last frame
         self._steps: list = []  # above the image in stacking order: ("live", item) drawn every frame, ("seg", (image, top-left))
         self._last: tuple | None = None  # (frame, items, versions) of the last frame
         self._last_moved: frozenset | None = None
@@ -160,7 +162,7 @@ class DragLayer:
 
     def drop(self) -> None:
         """Forget the image (the next frames are painted by Qt until a drag pattern shows again)."""
-        self.image, self._frame, self._order, self._still, self._steps = None, None, None, [], []
+        self.image, self._frame, self._order, self._still, self._built, self._steps = None, None, None, [], [], []
 
     def paint(self, view, frame: tuple) -> bool:
         """Paint ``view``'s viewport with the still image when it holds; False: the caller paints normally.
@@ -168,17 +170,24 @@ class DragLayer:
         ``frame`` names everything besides the items that fixes the background (transform, size,
         grid, render hints, device pixel ratio).
         """
-        below, top = [], []
-        for root in stacking_order(view.scene()):
-            (below if root.zValue() < theme.Z_OVERLAY else top).extend(_with_children(root))
-        versions = [item_version(it) for it in below]
+        raw = view.scene().items(Qt.AscendingOrder)
+        zs = [it.zValue() for it in raw]
+        stack = self._stack
+        if stack is not None and stack[0] == raw and stack[1] == zs:  # no item added, removed or restacked
+            below, top = stack[2], stack[3]
+        else:
+            below, top = [], []
+            for root in stacking_order(view.scene()):
+                (below if root.zValue() < theme.Z_OVERLAY else top).extend(_with_children(root))
+            self._stack = (raw, zs, below, top)
+        versions = [it._ver if isinstance(it, Versioned) else item_version(it) for it in below]
         last, self._last = self._last, (frame, below, versions)
         if any(v is None for v in versions):
             self.drop()
             return False
         if self.image is not None:
-            if frame == self._frame and below == self._order and all(
-                    item_version(it) == v for it, v in self._still):
+            built = self._built
+            if frame == self._frame and below is self._order and all(versions[i] == built[i] for i in self._still):
                 self._paint_frame(view, below, top)
                 return True
             self.drop()
@@ -234,7 +243,7 @@ class DragLayer:
         vp = view.viewport()
         image = self.image
         if image is None or image.width() != vp.width() or image.height() != vp.height():
-            image = QImage(max(1, vp.width()), max(1, vp.height()), QImage.Format_ARGB32_Premultiplied)
+            image = QImage(max(1, vp.width()), max(1, vp.height()), QImage.Format_RGB32)  # as the backing store: a plain copy
         vt = view.viewportTransform()
         hints = view.renderHints()
         live = {it for kind, it in plan if kind == "live"}
@@ -246,10 +255,10 @@ class DragLayer:
         view.drawBackground(p, view.mapToScene(vp.rect()).boundingRect())
         p.resetTransform()
         still = []
-        for it, v in zip(below, versions):
+        for i, it in enumerate(below):
             if it in live:
                 continue
-            still.append((it, v))
+            still.append(i)
             if it not in upper and _drawn(it):
                 paint_item(p, it, vt, vp, hints)
         p.end()
@@ -273,7 +282,7 @@ class DragLayer:
                 paint_item(sp, it, vt, vp, hints)
             sp.end()
             steps.append(("seg", (seg, r.topLeft())))
-        self.image, self._frame, self._order, self._still, self._steps = image, frame, below, still, steps
+        self.image, self._frame, self._order, self._still, self._built, self._steps = image, frame, below, still, versions, steps
         self.builds += 1
 
     def _paint_frame(self, view, below: list, top: list) -> None:
@@ -281,7 +290,9 @@ class DragLayer:
         vt = view.viewportTransform()
         hints = view.renderHints()
         p = QPainter(vp)
+        p.setCompositionMode(QPainter.CompositionMode_Source)  # the image is opaque (paper under everything): a copy
         p.drawImage(0, 0, self.image)
+        p.setCompositionMode(QPainter.CompositionMode_SourceOver)
         for kind, what in self._steps:
             if kind == "seg":
                 p.drawImage(what[1], what[0])
