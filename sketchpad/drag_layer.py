@@ -36,6 +36,9 @@ log = logging.getLogger(__name__)
 
 #: Paint normally when more than this share of the items below the overlay would be drawn live.
 MAX_LIVE_FRACTION = 0.4
+#: Qt caches an item wider or taller than this many viewports only where it is visible (qgraphicsscene.cpp,
+#: "partial cache exposure"), and brush patterns then align to that part: such an item turns the layer off.
+PARTIAL_CACHE_FACTOR = 1.1
 #: Device px around an item's bounding box counted as its own (anti-aliased edges).
 EDGE_PAD_PX = 2
 
@@ -139,6 +142,14 @@ def _with_children(item: QGraphicsItem) -> list:
     return out
 
 
+def _partly_cached(item: QGraphicsItem, view_transform, viewport) -> bool:
+    """Whether Qt keeps only the visible part of ``item``'s device cache (see ``PARTIAL_CACHE_FACTOR``)."""
+    if item.cacheMode() != QGraphicsItem.DeviceCoordinateCache or not _drawn(item):
+        return False
+    box = item.deviceTransform(view_transform).mapRect(item.boundingRect())
+    return box.width() + 2 > PARTIAL_CACHE_FACTOR * viewport.width() or box.height() + 2 > PARTIAL_CACHE_FACTOR * viewport.height()
+
+
 def _drawn(item: QGraphicsItem) -> bool:
     return (item.isVisible() and item.effectiveOpacity() > 0.0
             and not (item.flags() & QGraphicsItem.ItemHasNoContents))
@@ -185,6 +196,11 @@ class DragLayer:
         if any(v is None for v in versions):
             self.drop()
             return False
+        vt = view.viewportTransform()
+        vp = view.viewport()
+        if any(_partly_cached(it, vt, vp) for it in top):  # drawn here every frame, as Qt draws them
+            self.drop()
+            return False
         if self.image is not None:
             built = self._built
             if frame == self._frame and below is self._order and all(versions[i] == built[i] for i in self._still):
@@ -212,6 +228,7 @@ class DragLayer:
         """Stacking-order plan of the frame: ("live", item) for each moved item and ("seg", [items]) for each run
         of still items that lie above a moved one and overlap it (or overlap such an item); None: too many."""
         vt = view.viewportTransform()
+        vp = view.viewport()
         plan: list = []
         boxes: list[QRect] = []
         run: list = []
@@ -223,6 +240,8 @@ class DragLayer:
                 continue
             box = it.deviceTransform(vt).mapRect(it.boundingRect()).toAlignedRect().adjusted(
                 -EDGE_PAD_PX, -EDGE_PAD_PX, EDGE_PAD_PX, EDGE_PAD_PX)
+            if _partly_cached(it, vt, vp):
+                return None  # Qt caches only the visible part of it, hatching aligned to that part: not copied here
             if i in moved:
                 if run:
                     plan.append(("seg", run))
