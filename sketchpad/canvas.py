@@ -541,8 +541,13 @@ class SketchView(QGraphicsView):
             frame = (t.m11(), t.m12(), t.m21(), t.m22(), t.dx(), t.dy(), vp.width(), vp.height(), dpr,
                      self.grid_visible, self.grid_step_m() if self.grid_visible else 0.0, self.renderHints().value,
                      self.optimizationFlags().value)
-            if dpr == 1.0 and self.drag_layer.paint(self, frame):
-                return
+            try:
+                if dpr == 1.0 and self.drag_layer.paint(self, frame):
+                    return
+            except Exception:  # never lose the canvas to a cache: paint it as Qt does from now on
+                log.exception("drag layer failed; the view paints without it")
+                self.use_drag_layer = False
+                self.drag_layer.drop()
         super().paintEvent(event)
 
     # --- grid, scale bar, north arrow ---------------------------------------------------------

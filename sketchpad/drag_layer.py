@@ -143,9 +143,12 @@ def _with_children(item: QGraphicsItem) -> list:
 
 
 def _partly_cached(item: QGraphicsItem, view_transform, viewport) -> bool:
-    """Whether Qt keeps only the visible part of ``item``'s device cache (see ``PARTIAL_CACHE_FACTOR``)."""
-    if item.cacheMode() != QGraphicsItem.DeviceCoordinateCache or not _drawn(item):
+    """Whether Qt keeps only the visible part of ``item``'s device cache (see ``PARTIAL_CACHE_FACTOR``), or
+    caches it in item coordinates: either way :func:`paint_item` would not draw it as Qt does."""
+    if item.cacheMode() == QGraphicsItem.NoCache or not _drawn(item):
         return False
+    if item.cacheMode() == QGraphicsItem.ItemCoordinateCache:
+        return True  # drawn at the cache's own resolution: not copied here (no item of ours uses it)
     box = item.deviceTransform(view_transform).mapRect(item.boundingRect())
     return box.width() + 2 > PARTIAL_CACHE_FACTOR * viewport.width() or box.height() + 2 > PARTIAL_CACHE_FACTOR * viewport.height()
 

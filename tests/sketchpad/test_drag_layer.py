@@ -121,3 +121,15 @@ def test_a_drag_through_the_viewport_ends_on_the_frame_a_fresh_repaint_shows(mai
     after = frame(view, True)
     view.drag_layer.drop()
     assert_same(after, frame(view, False))
+
+
+def test_a_failing_drag_layer_leaves_the_view_painting_as_qt_does(main_window, monkeypatch, caplog):
+    doc, sched, view = fifty_rope_window(main_window)
+
+    def broken(*_args):
+        raise RuntimeError("broken cache")
+
+    monkeypatch.setattr(view.drag_layer, "paint", broken)
+    drag_steps(doc, sched, view, "H4", 3)
+    assert not view.use_drag_layer and "drag layer failed" in caplog.text
+    assert_same(pixels(view.viewport().grab().toImage()), frame(view, False))
