@@ -478,6 +478,7 @@ class SketchView(QGraphicsView):
         event.accept()
 
     def mouseReleaseEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+        self.drag_layer.drop()  # a drag ends here: its still image goes (the next frames are Qt's own)
         if self._panning is not None:
             self._panning = None
             self.viewport().setCursor(Qt.OpenHandCursor if self._space_held else (self.tool.cursor if self.tool else Qt.ArrowCursor))

@@ -25,13 +25,18 @@ from tests.sketchpad.test_overlay_incremental import pixels
 ROUNDING = 2
 
 
-def frame(view, layer: bool) -> np.ndarray:
-    """The viewport's pixels as painted with or without the drag layer."""
+def frame(view, layer: bool, through_layer: bool | None = None) -> np.ndarray:
+    """The viewport's pixels as painted with or without the drag layer (``through_layer``: check whether
+    the layer's image was used for them)."""
     view.use_drag_layer = layer
+    before = view.drag_layer.frames
     try:
-        return pixels(view.viewport().grab().toImage())
+        image = pixels(view.viewport().grab().toImage())
     finally:
         view.use_drag_layer = True
+    if through_layer is not None:
+        assert (view.drag_layer.frames > before) == through_layer
+    return image
 
 
 def assert_same(a: np.ndarray, b: np.ndarray) -> None:
@@ -68,7 +73,7 @@ def test_a_mid_drag_frame_through_the_drag_layer_equals_the_frame_qt_paints(main
     drag_steps(doc, sched, view, "H4", 6)
     assert layer.builds == 1 and layer.frames >= 3  # the layer was built once and used
     assert 0 < sum(1 for kind, _ in layer._steps if kind == "live") <= 3  # the dragged point and its rope
-    assert_same(frame(view, True), frame(view, False))
+    assert_same(frame(view, True, through_layer=True), frame(view, False, through_layer=False))
 
 
 def test_the_drag_layer_follows_zoom_pan_selection_and_a_new_dragged_point(main_window):
@@ -78,7 +83,7 @@ def test_the_drag_layer_follows_zoom_pan_selection_and_a_new_dragged_point(main_
     drag_steps(doc, sched, view, "H4", 4)
     view.zoom_at(1.3, QPoint(400, 300))
     drag_steps(doc, sched, view, "H4", 4, start=4)
-    assert_same(frame(view, True), frame(view, False))
+    assert_same(frame(view, True, through_layer=True), frame(view, False))
     view._scroll_by(QPoint(-37, 21))  # a pan
     drag_steps(doc, sched, view, "H4", 4, start=8)
     assert_same(frame(view, True), frame(view, False))
@@ -111,16 +116,15 @@ def test_a_drag_through_the_viewport_ends_on_the_frame_a_fresh_repaint_shows(mai
                         timeout=3000)
         view.viewport().repaint()
     assert layer.frames > 0  # drag frames went through the layer
-    assert_same(frame(view, True), frame(view, False))
+    assert_same(frame(view, True, through_layer=True), frame(view, False))
     mouse.release(h.x + 1.4, h.y - 2.1)
+    assert layer.image is None  # the drag's still image went with the release
     moved = main_window.document.rig.point(pid)
     assert (moved.x, moved.y) != (h.x, h.y)  # the drag was applied
     qtbot.waitUntil(lambda: sched.result is not None and sched.result.revision == main_window.document.revision,
                     timeout=3000)
     view.viewport().repaint()
-    after = frame(view, True)
-    view.drag_layer.drop()
-    assert_same(after, frame(view, False))
+    assert_same(frame(view, True), frame(view, False))
 
 
 def test_a_failing_drag_layer_leaves_the_view_painting_as_qt_does(main_window, monkeypatch, caplog):
