@@ -11,8 +11,10 @@ drawn without Qt's cache step, differed by up to 240 and 10).
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 
 import numpy as np
+import pytest
 from PySide6.QtCore import QPoint
 
 from tests.bench.fifty_ropes import fifty_rope_rig
@@ -137,3 +139,32 @@ def test_a_failing_drag_layer_leaves_the_view_painting_as_qt_does(main_window, m
     drag_steps(doc, sched, view, "H4", 3)
     assert not view.use_drag_layer and "drag layer failed" in caplog.text
     assert_same(pixels(view.viewport().grab().toImage()), frame(view, False))
+
+
+def test_a_site_picture_under_a_drag_is_in_the_still_image_and_a_fade_drops_it(main_window, tmp_path, monkeypatch):
+    from PySide6.QtGui import QColor, QImage, QPainter
+
+    monkeypatch.setenv("ROPEWRIGHT_DATA_DIR", str(tmp_path / "data"))
+    img = QImage(400, 300, QImage.Format.Format_RGB32)
+    img.fill(QColor("#dfe9d0"))
+    p = QPainter(img)
+    p.setPen(QColor("black"))
+    for u in range(0, 400, 25):
+        p.drawLine(u, 0, 400 - u, 300)
+    p.end()
+    path = tmp_path / "site-photo.png"
+    assert img.save(str(path))
+    doc, sched, view = fifty_rope_window(main_window)
+    main_window.background.import_image(path)
+    item = main_window.background.layer.item
+    assert item.isVisible()
+    view.zoom_to_fit()
+    drag_steps(doc, sched, view, "H2", 5)
+    assert_same(frame(view, True, through_layer=True), frame(view, False))
+    built = view.drag_layer.builds
+    rig = doc.rig  # the picture fades mid-drag (the panel's fade, through the model): the still image must follow
+    doc.apply(replace(rig, site=replace(rig.site, image=replace(rig.site.image, opacity=0.3))), "fade")
+    assert item.opacity() == pytest.approx(0.3)
+    drag_steps(doc, sched, view, "H2", 4, start=5)
+    assert view.drag_layer.builds > built
+    assert_same(frame(view, True), frame(view, False))
