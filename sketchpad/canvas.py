@@ -28,6 +28,7 @@ from PySide6.QtGui import (
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsScene, QGraphicsView
 
 from sketchpad import theme
+from sketchpad.drag_layer import DragLayer
 from sketchpad.geometry import to_scene, to_site
 from sketchpad.glyphs import paint_north_arrow
 from sketchpad.items import (
@@ -302,6 +303,10 @@ class SketchView(QGraphicsView):
         self._background_key: tuple | None = None
         self._hud_cache: dict[tuple, QPixmap] = {}  # scale bar and north arrow (drawForeground)
         self._hud_frame: tuple = (None, [])  # (what fixes the HUD, its blits) of the last frame
+        #: Still items of a drag kept in one image (sketchpad.drag_layer); ``use_drag_layer`` off paints every
+        #: frame through Qt alone (tests compare the two)
+        self.drag_layer = DragLayer()
+        self.use_drag_layer = True
         #: Callables ``(painter, dpr or None)`` painting screen-fixed layers over the HUD each frame, in
         #: viewport pixels (the overlay's legend): part of the viewport's own paint, not a child widget
         self.foreground_painters: list = []
@@ -473,6 +478,7 @@ class SketchView(QGraphicsView):
         event.accept()
 
     def mouseReleaseEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+        self.drag_layer.drop()  # a drag ends here: its still image goes (the next frames are Qt's own)
         if self._panning is not None:
             self._panning = None
             self.viewport().setCursor(Qt.OpenHandCursor if self._space_held else (self.tool.cursor if self.tool else Qt.ArrowCursor))
@@ -524,6 +530,26 @@ class SketchView(QGraphicsView):
             event.accept()
             return
         super().keyReleaseEvent(event)
+
+    # --- painting ------------------------------------------------------------------------------
+    def paintEvent(self, event) -> None:  # noqa: N802
+        """A drag frame from the still image of the items that do not move (sketchpad.drag_layer) when
+        it holds, else Qt's own paint of every item."""
+        if self.use_drag_layer:
+            vp = self.viewport()
+            t = self.viewportTransform()
+            dpr = vp.devicePixelRatioF()
+            frame = (t.m11(), t.m12(), t.m21(), t.m22(), t.dx(), t.dy(), vp.width(), vp.height(), dpr,
+                     self.grid_visible, self.grid_step_m() if self.grid_visible else 0.0, self.renderHints().value,
+                     self.optimizationFlags().value)
+            try:
+                if dpr == 1.0 and self.drag_layer.paint(self, frame):
+                    return
+            except Exception:  # never lose the canvas to a cache: paint it as Qt does from now on
+                log.exception("drag layer failed; the view paints without it")
+                self.use_drag_layer = False
+                self.drag_layer.drop()
+        super().paintEvent(event)
 
     # --- grid, scale bar, north arrow ---------------------------------------------------------
     def _screen_dpr(self, painter: QPainter) -> float | None:

@@ -33,6 +33,7 @@ from PySide6.QtGui import (
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsSimpleTextItem, QStyleOptionGraphicsItem
 
 from sketchpad import theme
+from sketchpad.drag_layer import Versioned
 from sketchpad.geometry import to_scene
 from solver.model import Feature, Force, Point, Rope
 
@@ -245,7 +246,7 @@ def _drawn_differs(a: Point, b: Point) -> bool:
     return a.kind != b.kind or a.name != b.name
 
 
-class SketchItem(QGraphicsItem):
+class SketchItem(Versioned, QGraphicsItem):
     """Base of every model view: carries the model ``key`` (kind, id) the scene indexes it by."""
 
     def __init__(self, key: tuple) -> None:

@@ -50,6 +50,7 @@ from PySide6.QtGui import (
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
 
 from sketchpad import theme
+from sketchpad.drag_layer import Versioned
 from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr
 from sketchpad.retained import RetainedLayer
 from solver.model import Rig
@@ -677,7 +678,7 @@ def geometry_path(geom) -> QPainterPath:
 
 
 # --- the items --------------------------------------------------------------------------------------
-class _LayerItem(QGraphicsItem):
+class _LayerItem(Versioned, QGraphicsItem):
     """Base of the overlay items: never selectable, never hit by clicks, scene coordinates in metres."""
 
     def __init__(self) -> None:

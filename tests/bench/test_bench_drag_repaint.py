@@ -49,6 +49,9 @@ def test_drag_step_on_a_50_rope_rig(benchmark, window):
 
     benchmark.pedantic(drag_step, rounds=60, iterations=1, warmup_rounds=3)
     assert not sched.settled  # the drag path was measured
+    # frames blitted the still items' image (sketchpad.drag_layer; from the third step, once the same
+    # items changed twice running: CI's --benchmark-disable runs one step)
+    assert view.drag_layer.frames > 0 or step["i"] < 3
     res = sched.result
     assert res.ok and res.revision == doc.revision, res.message
     tens = {lab.key: lab.values["tension_N"] for lab in window.live.overlay.labels if lab.kind == "tension"}
