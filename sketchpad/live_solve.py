@@ -51,9 +51,10 @@ def _default_analyse(rig: Rig, start: Mapping[str, tuple[float, float]] | None =
 
 
 def _default_quick(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None) -> Result:
+    """A drag step: the equilibrium alone (no ideal-MA re-solve; the full analysis at the pause gives it)."""
     from solver.equilibrium import solve
 
-    return solve(rig, start=start)
+    return solve(rig, start=start, ideal=False)
 
 
 def warm_start(rig: Rig, good_rig: Rig | None, good: Result | None) -> dict[str, tuple[float, float]] | None:

@@ -1482,7 +1482,8 @@ def summary_lines(rig: Rig, result: Result) -> list[str]:
     points = {p.id: p for p in rig.points}
     out = []
     if result.ma_actual is not None:
-        ideal = f" / {result.ma_ideal:.2f} ideal" if result.ma_ideal is not None else ""
+        # a drag step leaves the frictionless re-solve to the analysis at the pause
+        ideal = f" / {result.ma_ideal:.2f} ideal" if result.ma_ideal is not None else " / ideal when still"
         out.append(f"MA {result.ma_actual:.2f} actual{ideal}")
     for hid, force in result.haul.items():
         name = points[hid].name if hid in points else hid

@@ -567,7 +567,7 @@ def _start_x(s: System, start) -> np.ndarray:
 @dataclass
 class _Solved:
     state: State
-    ideal: State
+    ideal: State | None  # the frictionless reference (None: not wanted)
     iterations: int
     converged: bool
     runaway: int | None
@@ -694,12 +694,15 @@ def _mechanism_result(s: System, st: State, kc: np.ndarray, iters: int) -> Resul
                           "with nothing resisting (tie it off, tension its ropes or add a load)")
 
 
-def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) -> _Solved | Result:
+def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
+                  ideal: bool = True) -> _Solved | Result:
     """Equilibrium of ``s`` from ``x0``; a failed Result (mechanism) or the solved states.
 
     Cold: frictionless first (convex, robust from the drawn geometry), mechanism check, then
     friction by continuation.  Warm (``x0`` is a nearby solution): friction straight away, and
     the frictionless reference for the ideal MA from there (its iterations are not counted).
+    ``ideal`` False: no frictionless reference is wanted (the solved ``ideal`` state is None
+    when friction acts).
     """
     s.__dict__.pop("_last_tau", None)  # run tensions of an earlier solve are no start for this one
     kc = contact_stiffness(s)
@@ -719,11 +722,13 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) ->
         failed = _mechanism_result(s, frictionless, kc, fr.iterations)
         if failed is not None:
             return failed
-        ideal = _newton(s, fr.state.x, None, kc, symmetric=True, state=frictionless)
-        return _Solved(fr.state, ideal.state if ideal.converged else fr.state, fr.iterations, True, None, w)
+        if not ideal:
+            return _Solved(fr.state, None, fr.iterations, True, None, w)
+        ref = _newton(s, fr.state.x, None, kc, symmetric=True, state=frictionless)
+        return _Solved(fr.state, ref.state if ref.converged else fr.state, fr.iterations, True, None, w)
     # the frictionless state is reported only without friction or as the ideal of a load's MA;
     # otherwise it is just where the friction stage starts, and needs no last digits
-    handover = frictional and not any(p.kind == "load" for p in s.points)
+    handover = frictional and not (ideal and s.load_at)
     out = _soft_start_newton(s, x0, kc, HANDOVER_REL if handover else TARGET_REL)
     if out.runaway is not None or not out.converged:
         return _Solved(out.state, out.state, out.iterations, False, out.runaway, out.state.w)
@@ -733,7 +738,7 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False) ->
     if not frictional:
         return _Solved(out.state, out.state, out.iterations, True, None, out.state.w)
     fr, w = _friction_solve(s, out.state, motion, kc)
-    return _Solved(fr.state, out.state, out.iterations + fr.iterations, fr.converged, fr.runaway, w)
+    return _Solved(fr.state, out.state if ideal else None, out.iterations + fr.iterations, fr.converged, fr.runaway, w)
 
 
 def _all_points(s: System, st: State) -> dict[str, tuple[float, float]]:
@@ -851,7 +856,10 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
                    f"{residual:.3g} N at point {_point_name(rig, subject) if subject else ''}; "
                    "check for a part of the rig that nothing holds")
     ma = _mech_advantage(s, st, f)  # (the anchors above are the fixed anchors; loads any load point)
-    ma_ideal = _mech_advantage(s, sol.ideal) if s.has_friction and motion != "hold" else ma
+    if not (s.has_friction and motion != "hold"):
+        ma_ideal = ma  # no friction acts: the ideal is the actual
+    else:
+        ma_ideal = _mech_advantage(s, sol.ideal) if sol.ideal is not None else None
     return Result(status=status, message=message, subject=subject, iterations=sol.iterations,
                   residual_N=residual, points=_all_points(s, st), segments=tuple(segments), anchors=anchors,
                   loads=loads, haul=haul, ma_actual=ma, ma_ideal=ma_ideal, deflection_deg=deflection,
@@ -898,8 +906,12 @@ def _compiled(rig: Rig, motion: str | None) -> System:
     return s
 
 
-def solve(rig: Rig, *, start=None, motion: str | None = None) -> Result:
+def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True) -> Result:
     """Solve ``rig`` for static equilibrium; ``start`` = {point_id: (x, y)} warm start, metres.
+
+    ``ideal`` False skips the frictionless re-solve behind ``ma_ideal`` (None then, when friction
+    acts): the live drag asks for the equilibrium alone, and the ideal MA follows with the
+    full analysis once the rig is still.
 
     ``motion`` overrides ``rig.settings.motion`` ("haul", "hold" or "lower").  Never raises for
     a bad rig: the Result's status, message and subject say what is wrong.  ``iterations``
@@ -921,7 +933,7 @@ def solve(rig: Rig, *, start=None, motion: str | None = None) -> Result:
     except RigModelError as exc:
         return Result(status="invalid", message=exc.message, subject=exc.subject or exc.where)
     motion = s.motion
-    sol = _solve_system(s, _start_x(s, start), motion, warm=bool(start))
+    sol = _solve_system(s, _start_x(s, start), motion, warm=bool(start), ideal=ideal)
     if isinstance(sol, Result):
         return sol
     if sol.runaway is not None:

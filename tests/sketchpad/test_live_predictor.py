@@ -93,3 +93,31 @@ def test_a_misleading_prediction_is_solved_again_from_the_last_answer(qtbot):
     assert sched.result.ok, sched.result.message
     assert calls[-1] == warm_start(doc.rig, sched.before_good_rig, sched.before_good)
     sched.close()
+
+
+
+def test_a_drag_step_shows_the_live_actual_mechanical_advantage_and_the_ideal_returns_at_the_pause(qtbot):
+    from pathlib import Path
+
+    from sketchpad.overlay import summary_lines
+    from solver.rigfile import load_rig
+
+    rig = load_rig(Path(__file__).resolve().parents[2] / "samples" / "raft-3to1-redirect.rig.json")
+    doc = Document(rig)
+    sched = SolveScheduler(doc)  # the app's own quick (drag) and full (pause) solves
+    sched.settle_timer.setInterval(600_000)
+    settled = sched.solve_now()
+    assert settled.ok and settled.ma_ideal is not None
+    h = rig.point("H1")
+    doc.preview(rig.moved("H1", h.x - 0.5, h.y + 0.3))
+    sched._change_gap_ms = 1.0
+    sched.fire()
+    drag = sched.result
+    assert drag.ok and not sched.settled and drag.ma_ideal is None
+    line = next(t for t in summary_lines(doc.rig, drag) if t.startswith("MA "))
+    assert line == f"MA {drag.ma_actual:.2f} actual / ideal when still"
+    sched._settle()  # the pause: the full analysis brings the ideal back
+    assert sched.settled and sched.result.ma_ideal is not None
+    assert f"{sched.result.ma_ideal:.2f} ideal" in next(t for t in summary_lines(doc.rig, sched.result)
+                                                        if t.startswith("MA "))
+    sched.close()
