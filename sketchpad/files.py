@@ -261,8 +261,12 @@ class FileController(QObject):
     def update_title(self, *_args) -> None:
         if not self._alive():
             return
-        self.window.setWindowTitle(self.title())
-        self.window.setWindowModified(self.document.is_modified)
+        title, modified = self.title(), self.document.is_modified
+        # set only what changed: every drag step asks, and each Qt title call costs a window update
+        if self.window.windowTitle() != title:
+            self.window.setWindowTitle(title)
+        if self.window.isWindowModified() != modified:
+            self.window.setWindowModified(modified)
 
     def _alive(self) -> bool:
         """False once Qt has deleted the window or document (signals can still arrive while tearing down)."""
