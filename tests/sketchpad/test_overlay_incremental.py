@@ -415,3 +415,47 @@ def test_the_legend_painted_by_the_view_shows_in_the_frame_where_its_key_says_an
     legend.set_shown(False)  # what the overlay does when there is no result to explain
     gone = pixels(vp.grab().toImage())[g.top():g.bottom() + 1, g.left():g.right() + 1]
     assert np.abs(gone[text] - ink[text]).max() > 50
+
+
+def test_placement_memo_lent_between_drag_steps_equals_a_fresh_memo_and_grid_cells_equal_fresh_cells(main_window):
+    """The overlay's placement memo (entries lent on from the last step) equals one made afresh from the
+    labels at every drag step, also after zooms (labels placed afresh); the grid's remembered cells equal a fresh count."""
+    from sketchpad.overlay import _Grid, placement_memo
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    doc, sched, view = main_window.document, main_window.live.scheduler, main_window.view
+    doc.replace_all(fifty_rope_rig())
+    view.zoom_to_fit()
+    sched.background, sched.background_after_ms = False, float("inf")
+    sched.solve_now()
+    ov = main_window.live.overlay
+    rig = doc.rig
+    h = rig.point("H4")
+    lent = 0
+    for i in range(1, 12):
+        if i == 5:
+            view.zoom_at(1.5, view.viewport().rect().center())
+        if i == 8:
+            view.zoom_at(1.5, view.viewport().rect().topLeft())
+        before = dict(ov._memo)
+        doc.preview(rig.moved("H4", h.x + 0.5 * i, h.y - 0.3 * i))
+        sched.fire()
+        t = view.transform()
+        to_px = lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())  # noqa: E731
+        assert ov._memo == placement_memo(ov.labels, to_px), i
+        lent += sum(1 for k, v in ov._memo.items() if before.get(k) is v)
+    assert lent > 50  # the fast path was taken
+    hidden = {k for k, v in ov._memo.items() if v[3] is None}
+    sched.solve_now()  # the drag pauses: labels hidden during it are searched afresh, some now placed
+    assert ov._memo == placement_memo(ov.labels, to_px)
+    assert any(ov._memo[k][3] is not None for k in hidden if k in ov._memo)
+    # a label object that stays but is placed elsewhere, hidden or shown again gets a fresh entry
+    labs = [lab for lab in ov.labels if lab.placed][:3]
+    labs[0].at = (labs[0].at[0] + 1.0, labs[0].at[1])
+    labs[1].placed = False
+    labs[2].rect = (labs[2].rect[0] + 3.0, *labs[2].rect[1:])
+    assert placement_memo(ov.labels, to_px, ov._memo) == placement_memo(ov.labels, to_px)
+    grid = ov._obstacles.grid
+    assert grid._cell_memo  # rects were looked up through the memo
+    for r, cells in grid._cell_memo.items():
+        assert cells == _Grid()._cells(*r)
