@@ -202,29 +202,35 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
     arrows: list[AnchorArrow] = []
 
     if "tensions" in layers or "stretch" in layers:
+        old_get, pos_get, add = old.get, pos.get, labels.append  # ~200 pieces per drag step: bound once
+        keep = memo_new.__setitem__ if memo is not None else None
         for s in result.segments:
-            if s.from_point not in pos or s.to_point not in pos:
+            a, b = pos_get(s.from_point), pos_get(s.to_point)
+            if a is None or b is None:
                 continue
-            a, b = pos[s.from_point], pos[s.to_point]
             key = ("t", s.rope, s.index, s.tension_N, s.strain, s.utilization, a, b)
-            lab = old.get(key)
-            if lab is None:
-                lines = []
-                slack = s.tension_N <= SLACK_N
-                if "tensions" in layers:
-                    lines.append("slack" if slack else format_force(s.tension_N, unit))
-                if "stretch" in layers and not slack:
-                    lines.append(f"{s.strain * 100:.1f} % stretch")
-                if not lines:
-                    continue
-                lab = OverlayLabel(
-                    kind="tension", key=(s.rope, s.index), lines=tuple(lines),
-                    values={"tension_N": s.tension_N, "strain": s.strain, "utilization": s.utilization},
-                    colour=theme.utilization_colour(s.utilization), priority=50.0 + 10.0 * min(s.utilization, 3.0),
-                    base=a, end=b)
-            if memo is not None:
-                memo_new[key] = lab
-            labels.append(lab)
+            lab = old_get(key)
+            if lab is not None:  # the piece's label of the last call: same numbers, same place
+                if keep is not None:
+                    keep(key, lab)
+                add(lab)
+                continue
+            lines = []
+            slack = s.tension_N <= SLACK_N
+            if "tensions" in layers:
+                lines.append("slack" if slack else format_force(s.tension_N, unit))
+            if "stretch" in layers and not slack:
+                lines.append(f"{s.strain * 100:.1f} % stretch")
+            if not lines:
+                continue
+            lab = OverlayLabel(
+                kind="tension", key=(s.rope, s.index), lines=tuple(lines),
+                values={"tension_N": s.tension_N, "strain": s.strain, "utilization": s.utilization},
+                colour=theme.utilization_colour(s.utilization), priority=50.0 + 10.0 * min(s.utilization, 3.0),
+                base=a, end=b)
+            if keep is not None:
+                keep(key, lab)
+            add(lab)
 
     if "angles" in layers:
         keys = pass_keys(rig)
