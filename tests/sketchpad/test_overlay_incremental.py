@@ -70,6 +70,55 @@ def test_a_retained_layer_redrawn_only_where_drawables_changed_equals_one_drawn_
     assert layer.partial_redraws >= 20  # the layer was mostly patched, not redrawn
 
 
+def test_a_retained_layer_fed_kept_entry_objects_equals_one_drawn_afresh():
+    """Entries kept from the last frame (the same objects, as the overlay hands them in), entries rebuilt
+    with equal keys, the same entry object twice, and a few moved, added or removed ones: the layer
+    patched frame by frame equals the drawables painted afresh, and only the changed ones cost a redraw."""
+    rng = random.Random(11)
+    swatches = []
+    for i in range(5):
+        pix = QPixmap(12 + 4 * i, 8 + 3 * i)
+        pix.fill(QColor.fromHsv(70 * i, 180, 230, 80 + 30 * i))
+        swatches.append(pix)
+
+    def entry(k, x, y):
+        pix = swatches[k]
+        return ((k, x, y), QRect(int(x) - 1, int(y) - 1, pix.width() + 3, pix.height() + 3), (pix, QPointF(x, y)))
+
+    entries = [entry(rng.randrange(5), rng.uniform(0, 180), rng.uniform(0, 120)) for _ in range(40)]
+    layer = RetainedLayer()
+    area = QRect(0, 0, 220, 150)
+    layer.update(("frame",), area, entries)
+    for step in range(30):
+        entries = list(entries)  # a new list each frame, most entry objects kept
+        for _ in range(rng.randrange(1, 4)):
+            i = rng.randrange(len(entries))
+            roll = rng.random()
+            if roll < 0.4:  # moved
+                (k, x, y) = entries[i][0]
+                entries[i] = entry(k, x + rng.uniform(-6, 6), y + rng.uniform(-6, 6))
+            elif roll < 0.6:  # rebuilt as it was: an equal key, another object
+                entries[i] = entry(*entries[i][0])
+            elif roll < 0.75:  # shown twice (the same object) or once again
+                j = rng.randrange(len(entries))
+                entries[j] = entries[i]
+            elif roll < 0.9 and len(entries) > 20:
+                del entries[i]
+            else:
+                entries.insert(i, entry(rng.randrange(5), rng.uniform(0, 180), rng.uniform(0, 120)))
+        got = pixels(layer.update(("frame",), area, entries))
+        want = pixels(fresh((220, 150), entries))
+        assert np.abs(got - want).max() <= ROUNDING, f"step {step}"
+        used = layer.used()
+        outside = np.ones(got.shape[:2], bool)
+        outside[used.top():used.bottom() + 1, used.left():used.right() + 1] = False
+        assert not got[outside][:, 3].any(), f"step {step}"
+    assert layer.full_redraws == 1 and layer.partial_redraws >= 15
+    before = layer.partial_redraws
+    layer.update(("frame",), area, [entry(*e[0]) if n % 2 else e for n, e in enumerate(entries)])
+    assert layer.partial_redraws == before  # every entry rebuilt or kept as it was: nothing redrawn
+
+
 def test_duplicate_drawables_are_each_kept_once_one_of_them_goes():
     pix = QPixmap(10, 10)
     pix.fill(QColor(200, 0, 0, 100))
