@@ -202,29 +202,35 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
     arrows: list[AnchorArrow] = []
 
     if "tensions" in layers or "stretch" in layers:
+        old_get, pos_get, add = old.get, pos.get, labels.append  # ~200 pieces per drag step: bound once
+        keep = memo_new.__setitem__ if memo is not None else None
         for s in result.segments:
-            if s.from_point not in pos or s.to_point not in pos:
+            a, b = pos_get(s.from_point), pos_get(s.to_point)
+            if a is None or b is None:
                 continue
-            a, b = pos[s.from_point], pos[s.to_point]
             key = ("t", s.rope, s.index, s.tension_N, s.strain, s.utilization, a, b)
-            lab = old.get(key)
-            if lab is None:
-                lines = []
-                slack = s.tension_N <= SLACK_N
-                if "tensions" in layers:
-                    lines.append("slack" if slack else format_force(s.tension_N, unit))
-                if "stretch" in layers and not slack:
-                    lines.append(f"{s.strain * 100:.1f} % stretch")
-                if not lines:
-                    continue
-                lab = OverlayLabel(
-                    kind="tension", key=(s.rope, s.index), lines=tuple(lines),
-                    values={"tension_N": s.tension_N, "strain": s.strain, "utilization": s.utilization},
-                    colour=theme.utilization_colour(s.utilization), priority=50.0 + 10.0 * min(s.utilization, 3.0),
-                    base=a, end=b)
-            if memo is not None:
-                memo_new[key] = lab
-            labels.append(lab)
+            lab = old_get(key)
+            if lab is not None:  # the piece's label of the last call: same numbers, same place
+                if keep is not None:
+                    keep(key, lab)
+                add(lab)
+                continue
+            lines = []
+            slack = s.tension_N <= SLACK_N
+            if "tensions" in layers:
+                lines.append("slack" if slack else format_force(s.tension_N, unit))
+            if "stretch" in layers and not slack:
+                lines.append(f"{s.strain * 100:.1f} % stretch")
+            if not lines:
+                continue
+            lab = OverlayLabel(
+                kind="tension", key=(s.rope, s.index), lines=tuple(lines),
+                values={"tension_N": s.tension_N, "strain": s.strain, "utilization": s.utilization},
+                colour=theme.utilization_colour(s.utilization), priority=50.0 + 10.0 * min(s.utilization, 3.0),
+                base=a, end=b)
+            if keep is not None:
+                keep(key, lab)
+            add(lab)
 
     if "angles" in layers:
         keys = pass_keys(rig)
@@ -342,6 +348,9 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
 
 
 # --- the greedy placer ----------------------------------------------------------------------------
+CELL_MEMO_SIZE = 4096  # rects whose grid cells a _Grid remembers before it forgets them all
+
+
 class _Grid:
     """Uniform-grid spatial hash of pixel rects and rope sample points."""
 
@@ -349,6 +358,7 @@ class _Grid:
         self.cell = cell
         self.rects: dict[tuple[int, int], list[tuple[float, float, float, float]]] = {}
         self.points: dict[tuple[int, int], list[tuple[float, float, object]]] = {}
+        self._cell_memo: dict[tuple, list[tuple[int, int]]] = {}
 
     def _cells(self, x: float, y: float, w: float, h: float) -> list[tuple[int, int]]:
         c = self.cell
@@ -358,9 +368,19 @@ class _Grid:
             return [(i0, j0)]
         return [(i, j) for i in range(i0, i1 + 1) for j in range(j0, j1 + 1)]
 
+    def cells_of(self, r) -> list[tuple[int, int]]:
+        """:meth:`_cells` of the rect ``r`` (x, y, w, h px), remembered by its numbers: a label that stays put
+        is looked up, added and taken out again at the same rect on every drag step."""
+        cells = self._cell_memo.get(r)
+        if cells is None:
+            if len(self._cell_memo) > CELL_MEMO_SIZE:
+                self._cell_memo.clear()
+            cells = self._cell_memo[r] = self._cells(*r)
+        return cells
+
     def add_rect(self, r) -> None:
         rects = self.rects
-        for k in self._cells(*r):
+        for k in self.cells_of(r):
             cell = rects.get(k)
             if cell is None:
                 rects[k] = [r]
@@ -377,7 +397,7 @@ class _Grid:
             cell.append((x, y, owner))
 
     def remove_rect(self, r) -> None:
-        for k in self._cells(*r):
+        for k in self.cells_of(r):
             self.rects[k].remove(r)
 
     def remove_point(self, x: float, y: float, owner: object) -> None:
@@ -388,16 +408,13 @@ class _Grid:
         x, y, w, h = r
         x1, y1 = x + w, y + h
         rects = self.rects
-        c = self.cell
-        j0, j1 = math.floor(y / c), math.floor(y1 / c)
-        for i in range(math.floor(x / c), math.floor(x1 / c) + 1):
-            for j in range(j0, j1 + 1):
-                cell = rects.get((i, j))
-                if cell is None:
-                    continue
-                for (ox, oy, ow, oh) in cell:
-                    if x < ox + ow and ox < x1 and y < oy + oh and oy < y1:
-                        return True
+        for k in self.cells_of(r):
+            cell = rects.get(k)
+            if cell is None:
+                continue
+            for (ox, oy, ow, oh) in cell:
+                if x < ox + ow and ox < x1 and y < oy + oh and oy < y1:
+                    return True
         return False
 
     def crossings(self, r, own: object) -> int:
@@ -655,10 +672,22 @@ def _near(a, b) -> bool:
     return a is not None and abs(a[0] - b[0]) <= KEEP_PX and abs(a[1] - b[1]) <= KEEP_PX
 
 
-def placement_memo(labels: Iterable[OverlayLabel], to_px) -> dict[tuple, tuple]:
-    """Where each label went (or that it was skipped), for :func:`place_labels`'s ``previous`` at the same zoom."""
-    return {(l.kind, l.key): (l.lines, to_px(l.base), None if l.end is None else to_px(l.end),
-                               l.at if l.placed else None, l.rect, l.leader, l) for l in labels}
+def placement_memo(labels: Iterable[OverlayLabel], to_px, previous: Mapping[tuple, tuple] | None = None) -> dict[tuple, tuple]:
+    """Where each label went (or that it was skipped), for :func:`place_labels`'s ``previous`` at the same zoom.
+
+    ``previous`` (this function's answer for the same ``to_px``) lends its entry to the very label object
+    it was made for when the label sits where the entry says: the same numbers, no ``to_px`` again.
+    """
+    out = {}
+    for l in labels:
+        key = (l.kind, l.key)
+        at = l.at if l.placed else None
+        m = previous.get(key) if previous is not None else None
+        if m is not None and m[6] is l and m[3] == at and m[4] == l.rect and m[5] == l.leader:
+            out[key] = m
+        else:
+            out[key] = (l.lines, to_px(l.base), None if l.end is None else to_px(l.end), at, l.rect, l.leader, l)
+    return out
 
 
 # --- shapely -> QPainterPath --------------------------------------------------------------------------
@@ -1674,10 +1703,13 @@ class ResultOverlay(QObject):
             boxes = self._name_boxes(self.rig)
             markers = self._markers(self.rig, self.result)
         previous = self._memo if self._memo_scale == m11 else None
+        frame = (m11, t.m22(), dx, dy)
+        same = self._obstacles.frame == frame  # the last memo was made with this very to_px
         self.skipped = place_labels(self.force_item.labels, to_px, self.force_item.label_size, markers, self.pieces,
-                                    boxes, previous, self._obstacles, (m11, t.m22(), dx, dy),
+                                    boxes, previous, self._obstacles, frame,
                                     keep_hidden=self._keep_hidden)
-        self._memo, self._memo_scale = placement_memo(self.force_item.labels, to_px), m11
+        self._memo = placement_memo(self.force_item.labels, to_px, previous if same else None)
+        self._memo_scale = m11
         self.force_item.refresh_rect(self._m_per_px())
         if self.result is not None and self.rig is not None:
             self._update_legend()  # after a zoom too: how many labels are hidden changes with it

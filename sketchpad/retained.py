@@ -21,8 +21,6 @@ from PySide6.QtGui import QImage, QPainter, QPixmap, QRegion
 #: Redraw the whole layer when the changed rectangles cover more than this share of it.
 MAX_DIRTY_FRACTION = 0.35
 
-_DUP = object()  # marks the numbered keys of repeated drawables (never equal to a caller's key)
-
 #: A drawable's operation: a pixmap blitted with its top-left at a point, or a callable painting
 #: (device px, the painter translated to the layer's area).
 Op = Union[tuple[QPixmap, QPointF], Callable[[QPainter], None]]
@@ -34,18 +32,24 @@ class RetainedLayer:
     def __init__(self) -> None:
         self.image: QImage | None = None
         self.frame: tuple | None = None
-        self.boxes: dict[tuple, QRect] = {}
-        self.keys: list[tuple] = []
         self._entries: list | None = None
+        self._ids: dict[int, tuple] = {}  # id -> entry of the last frame's entries (the list keeps them alive)
         self._used: QRect | None = None
         self.full_redraws = 0  # counters for tests and benchmarks
         self.partial_redraws = 0
+
+    @property
+    def keys(self) -> list[tuple]:
+        """The last frame's keys in paint order."""
+        return [e[0] for e in self._entries or ()]
 
     def update(self, frame: tuple, area: QRect, entries: Iterable[tuple[tuple, QRect, Op]]) -> QImage:
         """The layer for this frame: ``entries`` are (key, device rect it can touch, op) in paint order.
 
         The very list object of the last call, handed in again, is taken as unchanged (callers
-        build a new list for a new frame and never change one they handed in).
+        build a new list for a new frame and never change one they handed in); so is the very entry
+        object of the last call (callers keep the entries of what did not change), and only the
+        other entries are compared by key.
 
         ``frame`` (with ``area``) names everything besides the keys that fixes the pixels (transform,
         size, colours); a different frame redraws everything.  Equal keys must mean equal pixels.
@@ -55,30 +59,21 @@ class RetainedLayer:
         full_key = (frame, area.x(), area.y(), area.width(), area.height())
         if entries is self._entries and self.image is not None and self.frame == full_key:
             return self.image  # the caller's very list of the last frame (a still frame)
-        keys = [e[0] for e in entries]
-        if keys == self.keys and self.image is not None and self.frame == full_key:
-            self._entries = entries
-            return self.image  # nothing changed
-        self.keys, self._entries = keys, entries
-        boxes = dict(zip(keys, [e[1] for e in entries]))
-        if len(boxes) != len(keys):  # a second identical drawable at the same place is its own entry
-            counts: dict[tuple, int] = {}
-            boxes = {}
-            for key, box, _op in entries:
-                n = counts.get(key, 0)
-                counts[key] = n + 1
-                boxes[(_DUP, key, n)] = box
-        if self.image is None or self.frame != full_key:
-            return self._redraw_all(full_key, area, boxes, entries)
-        old = self.boxes
-        dirty = [old[k] for k in old.keys() - boxes.keys()]
-        dirty += [boxes[k] for k in boxes.keys() - old.keys()]
-        self.boxes = boxes
-        self._used = None
+        last, last_ids = self._entries, self._ids
+        ids = {id(e): e for e in entries}
+        self._entries, self._ids = entries, ids
+        if self.image is None or self.frame != full_key or last is None:
+            return self._redraw_all(full_key, area, entries)
+        if len(ids) == len(entries) and len(last_ids) == len(last):  # no entry object twice in a list
+            dirty = _changed_boxes([e for i, e in last_ids.items() if i not in ids],
+                                   [e for i, e in ids.items() if i not in last_ids])
+        else:
+            dirty = _changed_boxes(last, entries)
         if not dirty:
-            return self.image
+            return self.image  # nothing changed
+        self._used = None
         if sum(b.width() * b.height() for b in dirty) > MAX_DIRTY_FRACTION * area.width() * area.height():
-            return self._redraw_all(full_key, area, boxes, entries)
+            return self._redraw_all(full_key, area, entries)
         region = QRegion()
         for b in dirty:
             region = region.united(b)
@@ -100,7 +95,7 @@ class RetainedLayer:
         p.end()
         return self.image
 
-    def _redraw_all(self, full_key: tuple, area: QRect, boxes: dict, entries: list) -> QImage:
+    def _redraw_all(self, full_key: tuple, area: QRect, entries: list) -> QImage:
         self.full_redraws += 1
         image = self.image
         if image is None or image.width() != area.width() or image.height() != area.height():
@@ -112,7 +107,7 @@ class RetainedLayer:
         for _key, _box, op in entries:
             _draw(p, op)
         p.end()
-        self.image, self.frame, self.boxes = image, full_key, boxes
+        self.image, self.frame = image, full_key
         self._used = None
         return image
 
@@ -120,17 +115,43 @@ class RetainedLayer:
         """The part of the image (image px) any drawable can touch: outside it the layer is transparent,
         so compositing this part alone is exact (labels on a wide rig cover a band of the view)."""
         if self._used is None:
-            if not self.boxes or self.image is None or self.frame is None:
+            if not self._entries or self.image is None or self.frame is None:
                 self._used = QRect()
             else:
                 _frame, ax, ay, aw, ah = self.frame
-                r = reduce(QRect.united, self.boxes.values())
+                r = reduce(QRect.united, [e[1] for e in self._entries])
                 self._used = r.translated(-ax, -ay).intersected(QRect(0, 0, aw, ah))
         return self._used
 
     def clear(self) -> None:
         """Forget the pixels (the next update redraws everything)."""
-        self.image, self.frame, self.boxes, self.keys, self._entries, self._used = None, None, {}, [], None, None
+        self.image, self.frame, self._entries, self._ids, self._used = None, None, None, {}, None
+
+
+def _changed_boxes(gone: list, came: list) -> list[QRect]:
+    """The boxes of the drawables in ``gone`` and ``came`` whose keys the other list does not match, one for one
+    (a drawable shown twice is two drawables: one of them going leaves the other)."""
+    if not gone or not came:
+        return [e[1] for e in gone] + [e[1] for e in came]
+    left: dict = {}
+    for e in gone:
+        k = e[0]
+        left[k] = left.get(k, 0) + 1
+    dirty = []
+    for e in came:
+        k = e[0]
+        n = left.get(k, 0)
+        if n:
+            left[k] = n - 1  # an equal drawable was there: same pixels
+        else:
+            dirty.append(e[1])
+    for e in gone:
+        k = e[0]
+        n = left.get(k, 0)
+        if n:
+            left[k] = n - 1
+            dirty.append(e[1])
+    return dirty
 
 
 def _draw(p: QPainter, op: Op) -> None:

@@ -70,6 +70,55 @@ def test_a_retained_layer_redrawn_only_where_drawables_changed_equals_one_drawn_
     assert layer.partial_redraws >= 20  # the layer was mostly patched, not redrawn
 
 
+def test_a_retained_layer_fed_kept_entry_objects_equals_one_drawn_afresh():
+    """Entries kept from the last frame (the same objects, as the overlay hands them in), entries rebuilt
+    with equal keys, the same entry object twice, and a few moved, added or removed ones: the layer
+    patched frame by frame equals the drawables painted afresh, and only the changed ones cost a redraw."""
+    rng = random.Random(11)
+    swatches = []
+    for i in range(5):
+        pix = QPixmap(12 + 4 * i, 8 + 3 * i)
+        pix.fill(QColor.fromHsv(70 * i, 180, 230, 80 + 30 * i))
+        swatches.append(pix)
+
+    def entry(k, x, y):
+        pix = swatches[k]
+        return ((k, x, y), QRect(int(x) - 1, int(y) - 1, pix.width() + 3, pix.height() + 3), (pix, QPointF(x, y)))
+
+    entries = [entry(rng.randrange(5), rng.uniform(0, 180), rng.uniform(0, 120)) for _ in range(40)]
+    layer = RetainedLayer()
+    area = QRect(0, 0, 220, 150)
+    layer.update(("frame",), area, entries)
+    for step in range(30):
+        entries = list(entries)  # a new list each frame, most entry objects kept
+        for _ in range(rng.randrange(1, 4)):
+            i = rng.randrange(len(entries))
+            roll = rng.random()
+            if roll < 0.4:  # moved
+                (k, x, y) = entries[i][0]
+                entries[i] = entry(k, x + rng.uniform(-6, 6), y + rng.uniform(-6, 6))
+            elif roll < 0.6:  # rebuilt as it was: an equal key, another object
+                entries[i] = entry(*entries[i][0])
+            elif roll < 0.75:  # shown twice (the same object) or once again
+                j = rng.randrange(len(entries))
+                entries[j] = entries[i]
+            elif roll < 0.9 and len(entries) > 20:
+                del entries[i]
+            else:
+                entries.insert(i, entry(rng.randrange(5), rng.uniform(0, 180), rng.uniform(0, 120)))
+        got = pixels(layer.update(("frame",), area, entries))
+        want = pixels(fresh((220, 150), entries))
+        assert np.abs(got - want).max() <= ROUNDING, f"step {step}"
+        used = layer.used()
+        outside = np.ones(got.shape[:2], bool)
+        outside[used.top():used.bottom() + 1, used.left():used.right() + 1] = False
+        assert not got[outside][:, 3].any(), f"step {step}"
+    assert layer.full_redraws == 1 and layer.partial_redraws >= 15
+    before = layer.partial_redraws
+    layer.update(("frame",), area, [entry(*e[0]) if n % 2 else e for n, e in enumerate(entries)])
+    assert layer.partial_redraws == before  # every entry rebuilt or kept as it was: nothing redrawn
+
+
 def test_duplicate_drawables_are_each_kept_once_one_of_them_goes():
     pix = QPixmap(10, 10)
     pix.fill(QColor(200, 0, 0, 100))
@@ -415,3 +464,47 @@ def test_the_legend_painted_by_the_view_shows_in_the_frame_where_its_key_says_an
     legend.set_shown(False)  # what the overlay does when there is no result to explain
     gone = pixels(vp.grab().toImage())[g.top():g.bottom() + 1, g.left():g.right() + 1]
     assert np.abs(gone[text] - ink[text]).max() > 50
+
+
+def test_placement_memo_lent_between_drag_steps_equals_a_fresh_memo_and_grid_cells_equal_fresh_cells(main_window):
+    """The overlay's placement memo (entries lent on from the last step) equals one made afresh from the
+    labels at every drag step, also after zooms (labels placed afresh); the grid's remembered cells equal a fresh count."""
+    from sketchpad.overlay import _Grid, placement_memo
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    doc, sched, view = main_window.document, main_window.live.scheduler, main_window.view
+    doc.replace_all(fifty_rope_rig())
+    view.zoom_to_fit()
+    sched.background, sched.background_after_ms = False, float("inf")
+    sched.solve_now()
+    ov = main_window.live.overlay
+    rig = doc.rig
+    h = rig.point("H4")
+    lent = 0
+    for i in range(1, 12):
+        if i == 5:
+            view.zoom_at(1.5, view.viewport().rect().center())
+        if i == 8:
+            view.zoom_at(1.5, view.viewport().rect().topLeft())
+        before = dict(ov._memo)
+        doc.preview(rig.moved("H4", h.x + 0.5 * i, h.y - 0.3 * i))
+        sched.fire()
+        t = view.transform()
+        to_px = lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())  # noqa: E731
+        assert ov._memo == placement_memo(ov.labels, to_px), i
+        lent += sum(1 for k, v in ov._memo.items() if before.get(k) is v)
+    assert lent > 50  # the fast path was taken
+    hidden = {k for k, v in ov._memo.items() if v[3] is None}
+    sched.solve_now()  # the drag pauses: labels hidden during it are searched afresh, some now placed
+    assert ov._memo == placement_memo(ov.labels, to_px)
+    assert any(ov._memo[k][3] is not None for k in hidden if k in ov._memo)
+    # a label object that stays but is placed elsewhere, hidden or shown again gets a fresh entry
+    labs = [lab for lab in ov.labels if lab.placed][:3]
+    labs[0].at = (labs[0].at[0] + 1.0, labs[0].at[1])
+    labs[1].placed = False
+    labs[2].rect = (labs[2].rect[0] + 3.0, *labs[2].rect[1:])
+    assert placement_memo(ov.labels, to_px, ov._memo) == placement_memo(ov.labels, to_px)
+    grid = ov._obstacles.grid
+    assert grid._cell_memo  # rects were looked up through the memo
+    for r, cells in grid._cell_memo.items():
+        assert cells == _Grid()._cells(*r)
