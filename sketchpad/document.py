@@ -27,6 +27,7 @@ class Document(QObject):
         self._path: pathlib.Path | None = None
         self.revision = 0
         self.sketching = False  # True while a half-drawn shape is shown: not worth solving yet
+        self.previewing = False  # True while the rig shown is a preview (a drag under way), not an edit
         self.undo_stack = QUndoStack(self)
 
     # --- state --------------------------------------------------------------------
@@ -74,10 +75,11 @@ class Document(QObject):
         ``sketching`` marks a half-drawn shape (a rope still being clicked through): the live
         solver waits for the finished edit instead of reporting the unfinished rig as failed.
         """
-        self._set_rig(rig, sketching)
+        self._set_rig(rig, sketching, previewing=True)
 
-    def _set_rig(self, rig: Rig, sketching: bool = False) -> None:
+    def _set_rig(self, rig: Rig, sketching: bool = False, previewing: bool = False) -> None:
         self._rig = rig
+        self.previewing = previewing
         self.sketching = sketching
         self.revision += 1
         self.changed.emit(rig)

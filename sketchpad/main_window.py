@@ -89,6 +89,9 @@ class MainWindow(QMainWindow):
         self._build_docks()
         self._build_status()
         self.document.changed.connect(self._on_rig_changed)
+        from sketchpad.frame_gc import FramePacedCollector
+
+        self.frame_gc = FramePacedCollector(self.document, self)  # no garbage collection inside drag frames
         self.document.path_changed.connect(lambda _p: self._update_title())
         self.document.undo_stack.cleanChanged.connect(lambda _c: self._update_title())
         self.view.escape_pressed.connect(lambda: self.set_tool("select"))
@@ -107,6 +110,11 @@ class MainWindow(QMainWindow):
         self.kit = install_rigging_kit(self)  # Insert ▸ System, load estimate, spec library (issue 6)
         self._on_rig_changed(self.document.rig)
         self.resize(*DEFAULT_SIZE)
+
+    def closeEvent(self, event) -> None:  # noqa: N802 - Qt override
+        super().closeEvent(event)
+        if event.isAccepted():
+            self.frame_gc.resume()  # a window closed mid-drag leaves garbage collection on
 
     # --- actions ---------------------------------------------------------------------------
     def _action(self, text: str, slot=None, shortcut=None, checkable: bool = False, tip: str = "") -> QAction:
