@@ -405,16 +405,21 @@ class _Grid:
         self.points[(math.floor(x / c), math.floor(y / c))].remove((x, y, owner))
 
     def hits_rect(self, r) -> bool:
+        # the cells worked out inline (the same ones :meth:`_cells` gives): the placer tries thousands of
+        # candidate rects per zoom step, most of them once, so remembering them would cost more than it saves
         x, y, w, h = r
         x1, y1 = x + w, y + h
         rects = self.rects
-        for k in self.cells_of(r):
-            cell = rects.get(k)
-            if cell is None:
-                continue
-            for (ox, oy, ow, oh) in cell:
-                if x < ox + ow and ox < x1 and y < oy + oh and oy < y1:
-                    return True
+        c = self.cell
+        j0, j1 = math.floor(y / c), math.floor(y1 / c)
+        for i in range(math.floor(x / c), math.floor(x1 / c) + 1):
+            for j in range(j0, j1 + 1):
+                cell = rects.get((i, j))
+                if cell is None:
+                    continue
+                for (ox, oy, ow, oh) in cell:
+                    if x < ox + ow and ox < x1 and y < oy + oh and oy < y1:
+                        return True
         return False
 
     def crossings(self, r, own: object) -> int:
