@@ -76,6 +76,16 @@ def _point_norms(g: np.ndarray) -> np.ndarray:
     return np.hypot(g[0::2], g[1::2]) if len(g) else np.zeros(0)
 
 
+def _runaway(s: System, st: State) -> int | None:
+    """The free point (index into the System's points) farthest from the drawing when it is more than
+    RUNAWAY_SIZES rig sizes away, else None."""
+    # the drawing's centre is the solver's origin: no subtraction unless it moved
+    far = _point_norms(st.x - np.tile(s.centre, s.n_dof // 2)) if np.any(s.centre) else _point_norms(st.x)
+    if far.max() > RUNAWAY_SIZES * s.size:
+        return int(s.free_at[np.argmax(far)])
+    return None
+
+
 def _max_norm(g: np.ndarray) -> float:
     """Largest per-point force imbalance, N (0 when nothing is free)."""
     return float(_point_norms(g).max()) if len(g) else 0.0
@@ -215,9 +225,6 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
     ok = np.zeros(C, dtype=bool)  # parts that stopped converged
     stall = np.zeros(C, dtype=np.intp)  # iterations without the imbalance halving
     best = np.full(C, np.inf)
-    free_idx = s.free_at
-    # distance of the free points from the drawing's centre (the solver's origin: no subtraction)
-    centre_x = np.tile(s.centre, s.n_dof // 2) if np.any(s.centre) else None
     debug = log.isEnabledFor(logging.DEBUG)
     evaluations = 0
     it = 0
@@ -326,9 +333,9 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
         mu[stepped] = np.maximum(mu[stepped] / 10.0, 1e-10)
         cap = np.where(stepped & capped, 2.0 * cap, cap)
         st = trial
-        far = _point_norms(st.x - centre_x) if centre_x is not None else _point_norms(st.x)
-        if far.max() > RUNAWAY_SIZES * s.size:
-            return _Outcome(st, it + 1, False, runaway=int(free_idx[np.argmax(far)]))
+        runaway = _runaway(s, st)
+        if runaway is not None:
+            return _Outcome(st, it + 1, False, runaway=runaway)
         if not active.any():
             return _Outcome(st, it + 1, bool(ok.all()))
     scale = _comp_scale(s, st)
@@ -365,9 +372,6 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
     ok = False
     stall = 0
     best = np.inf
-    free_idx = s.free_at
-    # distance of the free points from the drawing's centre (the solver's origin: no subtraction)
-    centre_x = np.tile(s.centre, s.n_dof // 2) if np.any(s.centre) else None
     debug = log.isEnabledFor(logging.DEBUG)
     evaluations = 0
     it = 0
@@ -456,9 +460,9 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
             if capped:
                 cap = 2.0 * cap
         st = trial
-        far = _point_norms(st.x - centre_x) if centre_x is not None else _point_norms(st.x)
-        if far.max() > RUNAWAY_SIZES * s.size:
-            return _Outcome(st, it + 1, False, runaway=int(free_idx[np.argmax(far)]))
+        runaway = _runaway(s, st)
+        if runaway is not None:
+            return _Outcome(st, it + 1, False, runaway=runaway)
         if not active:
             return _Outcome(st, it + 1, ok)
     scale = scale_of(st)
