@@ -434,6 +434,18 @@ class _Grid:
         return n
 
 
+def _plain_raster_transform(painter: QPainter):
+    """The painter's world transform when it paints raster pixels 1:1 with a plain zoom and pan (no
+    rotation, view transform, device pixel ratio or opacity), else None: what the retained layers need."""
+    engine = painter.paintEngine()
+    t = painter.worldTransform()
+    if (engine is None or engine.type() != QPaintEngine.Raster or painter.viewTransformEnabled()
+            or painter.device().devicePixelRatioF() != 1.0 or t.m12() != 0.0 or t.m21() != 0.0
+            or not t.isAffine() or painter.opacity() != 1.0):
+        return None
+    return t
+
+
 def _half_extent(nx: float, ny: float, w: float, h: float) -> float:
     """Distance from a w x h rect's centre to its edge along the unit direction (nx, ny)."""
     return abs(nx) * w / 2.0 + abs(ny) * h / 2.0
@@ -1087,13 +1099,10 @@ class ForceItem(_LayerItem):
         """
         if self._draw_for is not self.labels or self._draw_grey != self.grey:
             return False
-        engine = painter.paintEngine()
-        device = painter.device()
-        t = painter.worldTransform()
-        if (engine is None or engine.type() != QPaintEngine.Raster or painter.viewTransformEnabled()
-                or device.devicePixelRatioF() != 1.0 or t.m12() != 0.0 or t.m21() != 0.0 or not t.isAffine()
-                or painter.opacity() != 1.0):
+        t = _plain_raster_transform(painter)
+        if t is None:
             return False
+        device = painter.device()
         m11, m22, dx, dy = t.m11(), t.m22(), t.dx(), t.dy()
         area = QRect(0, 0, device.width(), device.height())
         bands = self._retained_bands(m11, m22, dx, dy, area)
@@ -1265,13 +1274,10 @@ class ForceItem(_LayerItem):
         """
         if len(self.band_ends) != len(self.bands) or not self.bands:
             return False
-        engine = painter.paintEngine()
-        device = painter.device()
-        t = painter.worldTransform()
-        if (engine is None or engine.type() != QPaintEngine.Raster or painter.viewTransformEnabled()
-                or device.devicePixelRatioF() != 1.0 or t.m12() != 0.0 or t.m21() != 0.0 or not t.isAffine()
-                or painter.opacity() != 1.0):
+        t = _plain_raster_transform(painter)
+        if t is None:
             return False
+        device = painter.device()
         area = QRect(0, 0, device.width(), device.height())
         rects = []
         for _pen, path in self.bands:
