@@ -962,20 +962,19 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
     bracketed Newton iteration vectorised over runs; tau = 0 when slack (sum l_k <= L0).
     """
     nr = s.n_runs
-    tau = np.zeros(nr)
-    fixed = s.__dict__.get("_run_tension_fixed")
-    if fixed is None:  # per-System constants of this function, built on first use
-        hauled = s.run_hauled
-        hauled_at = hauled.nonzero()[0]
-        fixed = s._run_tension_fixed = (hauled_at, (s.run_start + s.run_count - 1)[hauled_at],
-                                        s.run_P[hauled_at], ~hauled)
-    hauled_at, hauled_last, hauled_P, tied_run = fixed
+    tied_run = s.run_tied
     taut = tied_run & (L >= s.run_L0)
     if w is s.ones:
         # frictionless: every weight 1, so each tied run's tension is its curve at L / L0 - 1 (the
         # bracket below closes on it at once; a slack run's strain <= 0 gives 0) -- same numbers
         t_all = by_material(s, s.run_mat, L / s.run_L0_div - 1.0, "tension", s.soft)
         return np.where(tied_run, t_all, s.haul_P_or_0), taut
+    fixed = s.__dict__.get("_run_tension_fixed")
+    if fixed is None:  # per-System constants of the weighted case, built on first use
+        hauled_at = s.run_hauled.nonzero()[0]
+        fixed = s._run_tension_fixed = (hauled_at, (s.run_start + s.run_count - 1)[hauled_at], s.run_P[hauled_at])
+    hauled_at, hauled_last, hauled_P = fixed
+    tau = np.zeros(nr)
     tau[hauled_at] = hauled_P / w[hauled_last]
     strict = (tied_run & (L > s.run_L0)).nonzero()[0]
     if len(strict) == 0:
