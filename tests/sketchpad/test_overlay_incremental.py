@@ -36,6 +36,12 @@ def fresh(size: tuple[int, int], entries) -> QImage:
     return image
 
 
+def _chip_entry(swatches: list, k: int, x: float, y: float):
+    """A retained-layer entry (key, device box, blit op) of swatch ``k`` at (x, y) px."""
+    pix = swatches[k]
+    return ((k, x, y), QRect(int(x) - 1, int(y) - 1, pix.width() + 3, pix.height() + 3), (pix, QPointF(x, y)))
+
+
 def test_a_retained_layer_redrawn_only_where_drawables_changed_equals_one_drawn_afresh():
     rng = random.Random(5)
     swatches = []
@@ -45,8 +51,7 @@ def test_a_retained_layer_redrawn_only_where_drawables_changed_equals_one_drawn_
         swatches.append(pix)
 
     def entry(k, x, y):
-        pix = swatches[k]
-        return ((k, x, y), QRect(int(x) - 1, int(y) - 1, pix.width() + 3, pix.height() + 3), (pix, QPointF(x, y)))
+        return _chip_entry(swatches, k, x, y)
 
     things = [(rng.randrange(6), rng.uniform(0, 180), rng.uniform(0, 120)) for _ in range(40)]
     layer = RetainedLayer()
@@ -82,8 +87,7 @@ def test_a_retained_layer_fed_kept_entry_objects_equals_one_drawn_afresh():
         swatches.append(pix)
 
     def entry(k, x, y):
-        pix = swatches[k]
-        return ((k, x, y), QRect(int(x) - 1, int(y) - 1, pix.width() + 3, pix.height() + 3), (pix, QPointF(x, y)))
+        return _chip_entry(swatches, k, x, y)
 
     entries = [entry(rng.randrange(5), rng.uniform(0, 180), rng.uniform(0, 120)) for _ in range(40)]
     layer = RetainedLayer()
