@@ -1411,6 +1411,8 @@ class Legend(QWidget):
         self.fm = QFontMetricsF(self.font)
         self._pixmap: QPixmap | None = None
         self._pixmap_key: tuple | None = None
+        self._frame_pix: tuple | None = None  # (key, pixmap) of the key without its lines
+        self._line_pix: dict = {}  # (text, fraction of a px, dpr) -> pixmap of one summary line
         self.shown = False  # whether the view paints the key (the widget stays hidden)
         self.hide()
 
@@ -1448,7 +1450,11 @@ class Legend(QWidget):
 
     def paint_on(self, painter: QPainter, dpr: float | None) -> None:
         """Paint the key at its place, ``painter`` in viewport pixels: on screen (``dpr``) blitted from a
-        pixmap drawn again only when the key changes, else (a scaled or vector render) as vectors."""
+        pixmap put together again only when the key changes, else (a scaled or vector render) as vectors.
+
+        The pixmap is the key's frame (box, title, ramp, zone swatches) and one cached pixmap per text
+        line: a drag step that changes the MA or a load's force renders that one line, not the whole key.
+        """
         if not self.shown:
             return
         if dpr is None:
@@ -1459,21 +1465,74 @@ class Legend(QWidget):
             return
         key = (tuple(self.lines), self.show_zones, self.grey, self.width(), self.height(), dpr)
         if self._pixmap is None or self._pixmap_key != key:
-            pix = QPixmap(max(1, round(self.width() * dpr)), max(1, round(self.height() * dpr)))
-            pix.setDevicePixelRatio(dpr)
-            pix.fill(Qt.transparent)
-            p = QPainter(pix)
-            self._paint(p)
-            p.end()
-            self._pixmap, self._pixmap_key = pix, key
+            self._pixmap, self._pixmap_key = self._assembled(dpr), key
         painter.drawPixmap(self.x(), self.y(), self._pixmap)
 
+    def _assembled(self, dpr: float) -> QPixmap:
+        """The key as one pixmap: the cached frame with each line's cached pixmap laid over it."""
+        pix = self._blank(self.width(), self.height(), dpr)
+        p = QPainter(pix)
+        frame_key = (self.show_zones, self.grey, self.width(), self.height(), dpr)
+        if self._frame_pix is None or self._frame_pix[0] != frame_key:
+            frame = self._blank(self.width(), self.height(), dpr)
+            fp = QPainter(frame)
+            self._paint_frame(fp)
+            fp.end()
+            self._frame_pix = (frame_key, frame)
+        p.drawPixmap(0, 0, self._frame_pix[1])
+        lines: dict = {}
+        y = self._lines_top()
+        lh = self.fm.height()
+        for line in self.lines:
+            top = math.floor(y)
+            lkey = (line, y - top, dpr)
+            lp = self._line_pix.get(lkey)
+            if lp is None:
+                lp = self._blank(math.ceil(self.LINE_PAD + self.fm.horizontalAdvance(line) + 2), math.ceil(lh) + 2, dpr)
+                tp = QPainter(lp)
+                self._paint_line(tp, line, y - top)
+                tp.end()
+            lines[lkey] = lp
+            p.drawPixmap(0, top, lp)
+            y += lh
+        self._line_pix = lines  # the lines of this key only: a changed number's old line is let go
+        p.end()
+        return pix
+
+    @staticmethod
+    def _blank(w: float, h: float, dpr: float) -> QPixmap:
+        pix = QPixmap(max(1, round(w * dpr)), max(1, round(h * dpr)))
+        pix.setDevicePixelRatio(dpr)
+        pix.fill(Qt.transparent)
+        return pix
+
+    LINE_PAD = 8.0  # px from the key's left edge to its text
+
     def _paint(self, p: QPainter) -> None:
+        """The whole key as vectors (exports, scaled renders): frame, then the lines."""
+        self._paint_frame(p)
+        y = self._lines_top()
+        for line in self.lines:
+            self._paint_line(p, line, y)
+            y += self.fm.height()
+
+    def _lines_top(self) -> float:
+        """Top (px in the key) of the first summary line: below the title, the ramp and the zone swatches."""
+        lh = self.fm.height()
+        y = self.LINE_PAD + lh + 4 + theme.LEGEND_RAMP_H_PX + 3 + lh + 3
+        return y + (lh + 4 if self.show_zones else 0.0)
+
+    def _paint_line(self, p: QPainter, line: str, y: float) -> None:
+        p.setFont(self.font)
+        p.setPen(theme.OVERLAY_LABEL_TEXT)
+        p.drawText(QPointF(self.LINE_PAD, y + self.fm.ascent()), line)
+
+    def _paint_frame(self, p: QPainter) -> None:
         p.setRenderHint(QPainter.Antialiasing, True)
         p.setPen(theme.pixel_pen(theme.LEGEND_EDGE, 1.0))
         p.setBrush(theme.LEGEND_BACK)
         p.drawRoundedRect(QRectF(self.rect()).adjusted(0.5, 0.5, -0.5, -0.5), 5, 5)
-        pad, lh = 8.0, self.fm.height()
+        pad, lh = self.LINE_PAD, self.fm.height()
         y = pad
         p.setFont(self.title_font)
         p.setPen(theme.OVERLAY_LABEL_TEXT)
@@ -1509,11 +1568,6 @@ class Legend(QWidget):
                 p.setPen(theme.OVERLAY_LABEL_TEXT)
                 p.drawText(QPointF(x + 18, y + self.fm.ascent()), name)
                 x += 18 + self.fm.horizontalAdvance(name) + 12
-            y += lh + 4
-        p.setPen(theme.OVERLAY_LABEL_TEXT)
-        for line in self.lines:
-            p.drawText(QPointF(pad, y + self.fm.ascent()), line)
-            y += lh
 
 
 def summary_lines(rig: Rig, result: Result) -> list[str]:
