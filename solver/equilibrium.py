@@ -810,21 +810,73 @@ def _two_blocked(s: System, st: State, kc: np.ndarray) -> list[Warning_]:
     return out
 
 
+#: The records of the last Result built for a structure (its ``piece_rope`` list, shared by every System
+#: compiled from one topology): a drag step re-solves the whole rig but changes the pieces and anchors of
+#: the moved part only, whose numbers are the only ones made into new records.
+_LAST_RECORDS: list = [None]
+
+
+def _segment_records(s: System, st: State, sf: float) -> list[SegmentResult]:
+    """A SegmentResult per piece; a piece whose tension, length and strain are bit for bit those of the
+    last Result of the same structure (and the same safety factor and MBS) keeps that Result's record."""
+    last = _LAST_RECORDS[0]
+    arrays = np.stack((st.T, st.l, st.eps)).view(np.int64)  # bit patterns: -0.0 and 0.0 differ, as they print
+    if (last is not None and last[0] is s.piece_rope and last[1] == sf and last[2] is s.piece_mbs
+            and last[3].shape == arrays.shape):
+        changed = np.flatnonzero((arrays != last[3]).any(axis=0)).tolist()
+        segments = list(last[4])
+    else:
+        changed = range(s.n_pieces)
+        segments = [None] * s.n_pieces
+    if len(changed):
+        idx = np.asarray(changed, dtype=np.intp)
+        T, length, eps = st.T[idx], st.l[idx], st.eps[idx]
+        util = (T * sf / s.piece_mbs[idx]).tolist()  # whole arrays to Python numbers at once (= float())
+        for i, k, t, ln, e, u in zip(changed, s.piece_index[idx].tolist(), T.tolist(), length.tolist(), eps.tolist(),
+                                     util):
+            segments[i] = record(SegmentResult, rope=s.piece_rope[i], index=k,
+                                 from_point=s.piece_from[i], to_point=s.piece_to[i], tension_N=t, length_m=ln,
+                                 strain=e, utilization=u, run=s.piece_run_in_rope[i])
+    _LAST_RECORDS[0] = (s.piece_rope, sf, s.piece_mbs, arrays, segments)
+    return segments
+
+
+def _anchor_records(s: System, f: np.ndarray, f_list: list, sf: float) -> dict[str, AnchorResult]:
+    """An AnchorResult per fixed anchor; one whose force is bit for bit that of the last Result of the same
+    structure, with the same capacity and safety factor, keeps that Result's record."""
+    points, at = s.points, s.anchor_at
+    bits = f[at].view(np.int64) if at else np.zeros((0, 2), dtype=np.int64)
+    last = _LAST_ANCHORS[0]
+    same = [False] * len(at)
+    if last is not None and last[0] is at and last[1] == sf:
+        same = (bits == last[2]).all(axis=1).tolist()
+        old = last[3]
+    anchors = {}
+    kept = []
+    for j, i in enumerate(at):
+        p = points[i]
+        if same[j] and old[j].capacity_N == p.capacity_N:
+            a = old[j]
+        else:
+            a = _anchor(*f_list[i], p.capacity_N, sf)
+        anchors[p.id] = a
+        kept.append(a)
+    _LAST_ANCHORS[0] = (at, sf, bits, kept)
+    return anchors
+
+
+_LAST_ANCHORS: list = [None]  # (anchor_at list, safety factor, force bits, records) of the last Result
+
+
 def _build_result(s: System, sol: _Solved, motion: str) -> Result:
     rig = s.rig
     st = sol.state
     sf = rig.settings.min_safety_factor
-    # whole arrays to Python numbers at once (same values as float()/int() of each element)
-    util = (st.T * sf / s.piece_mbs).tolist()
-    segments = [record(SegmentResult, rope=rope, index=index, from_point=a, to_point=b, tension_N=t, length_m=length,
-                       strain=eps, utilization=u, run=r)
-                for rope, index, a, b, t, length, eps, u, r in zip(
-                    s.piece_rope, s.piece_index.tolist(), s.piece_from, s.piece_to, st.T.tolist(), st.l.tolist(),
-                    st.eps.tolist(), util, s.piece_run_in_rope)]
+    segments = _segment_records(s, st, sf)
     f = _resultants(s, st)
     f_list = f.tolist()  # Python numbers at once (same values as float())
+    anchors = _anchor_records(s, f, f_list, sf)
     points = s.points
-    anchors = {points[i].id: _anchor(*f_list[i], points[i].capacity_N, sf) for i in s.anchor_at}
     loads = {points[i].id: _anchor(*f_list[i], None, sf) for i in s.load_at}
     haul = {}
     for hauled, hp, P in zip(s.run_hauled.tolist(), s.run_haul_point, s.run_P.tolist()):

@@ -1,0 +1,59 @@
+"""Records kept from the last Result of the same structure (a drag step) equal records built afresh."""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+from solver import equilibrium
+from solver.equilibrium import solve
+from tests.bench.fifty_ropes import fifty_rope_rig
+
+
+def _fresh(rig, start, ideal=False):
+    """The same solve with nothing kept from an earlier Result."""
+    equilibrium._LAST_RECORDS[0] = None
+    equilibrium._LAST_ANCHORS[0] = None
+    return solve(rig, start=start, ideal=ideal)
+
+
+def test_drag_steps_keep_the_records_of_the_still_part_and_equal_a_fresh_build():
+    rig = fifty_rope_rig()
+    h = rig.point("H4")
+    last, start, kept = None, None, 0
+    for i in range(8):
+        moved = rig.moved("H4", h.x + 1.5 * math.sin(0.3 * i), h.y + 1.5 * math.cos(0.3 * i))
+        got = solve(moved, start=start, ideal=False)
+        want = _fresh(moved, start)
+        assert got.ok and got == want  # every segment, anchor and load equal to records built afresh
+        if i >= 2:  # (the step after the cold solve still settles the other systems to the last digits)
+            same = [s for s, t in zip(got.segments, last.segments) if s is t]
+            # what the drag does not move (the nine other systems, system 4's tag line on its own hand)
+            # is bit for bit the same: its records are kept...
+            assert same and all(s.rope not in ("main4", "sa4", "sb4", "tie4") for s in same)
+            kept += len(same)
+            # ...and the dragged system's pieces are new records
+            assert all(s is not t for s, t in zip(got.segments, last.segments) if s.rope in ("main4", "sa4"))
+            assert got.anchors["R0"] is last.anchors["R0"] and got.anchors["R4"] is not last.anchors["R4"]
+        solve(moved, start=start, ideal=False)  # the records made again for this rig: the next step is what counts
+        last = solve(moved, start=start, ideal=False)
+        start = {pid: xy for pid, xy in last.points.items() if pid != "H4"}
+    assert kept > 100
+
+
+def test_a_new_safety_factor_or_anchor_capacity_is_never_read_from_kept_records():
+    rig = fifty_rope_rig()
+    first = solve(rig)
+    # same structure, other safety factor: every utilization scales with it
+    sf = rig.settings.min_safety_factor
+    stricter = dataclasses.replace(rig, settings=dataclasses.replace(rig.settings, min_safety_factor=2 * sf))
+    res = solve(stricter)
+    for a, b in zip(first.segments, res.segments):
+        assert math.isclose(b.utilization, 2 * a.utilization, rel_tol=1e-12, abs_tol=1e-15)
+    # same structure, one anchor rated differently: its record says so
+    pts = tuple(dataclasses.replace(p, capacity_N=5000.0) if p.id == "R3" else p for p in rig.points)
+    rated = dataclasses.replace(rig, points=pts)
+    res = solve(rated)
+    assert res.anchors["R3"].capacity_N == 5000.0
+    assert math.isclose(res.anchors["R3"].utilization, res.anchors["R3"].force_N * sf / 5000.0, rel_tol=1e-12)
+    assert res == _fresh(rated, None, ideal=True)
