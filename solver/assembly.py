@@ -1050,8 +1050,8 @@ def _run_pieces(s: System, runs: IntArray) -> tuple[IntArray, IntArray]:
     return hit
 
 
-def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArray | None = None) -> State:
-    """The state at free coordinates ``x`` (m) with piece weights ``w`` (None: frictionless)."""
+def _pieces_at(s: System, x: FloatArray) -> tuple[FloatArray, FloatArray, bool, FloatArray]:
+    """Point positions, piece lengths, whether no piece has zero length, and piece unit vectors at ``x``."""
     xy = s.positions(x)
     d = xy[s.b] - xy[s.a]
     l = np.hypot(d[:, 0], d[:, 1])
@@ -1060,6 +1060,18 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
         u = d / l[:, None]
     else:
         u = np.divide(d, l[:, None], out=np.zeros(d.shape), where=(l > 0)[:, None])
+    return xy, l, no_zero_length, u
+
+
+def directions(s: System, x: FloatArray) -> FloatArray:
+    """The unit vector of every piece at ``x`` (what the friction weights read), as :func:`evaluate` has it,
+    without solving the run tensions."""
+    return _pieces_at(s, x)[3]
+
+
+def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArray | None = None) -> State:
+    """The state at free coordinates ``x`` (m) with piece weights ``w`` (None: frictionless)."""
+    xy, l, no_zero_length, u = _pieces_at(s, x)
     if w is None:
         w = s.ones
     L = np.add.reduceat(l, s.run_start) if s.n_runs else np.zeros(0)

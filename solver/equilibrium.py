@@ -29,6 +29,7 @@ from solver.assembly import (
     Topology,
     compile_topology,
     contact_stiffness,
+    directions,
     evaluate,
     same_structure,
     tangent_values,
@@ -578,38 +579,46 @@ class _Solved:
     w: np.ndarray
 
 
-def _friction_solve(s: System, st: State, motion: str, kc: np.ndarray) -> tuple[_Outcome, np.ndarray]:
-    """Equilibrium with the pass friction of ``motion``, from state ``st``; edge wraps re-evaluated until settled.
+def _friction_solve(s: System, x0: np.ndarray, motion: str, kc: np.ndarray,
+                    start: State | None = None) -> tuple[_Outcome, np.ndarray]:
+    """Equilibrium with the pass friction of ``motion``, from ``x0``; edge wraps re-evaluated until settled.
 
-    Every pass first runs with the ratio of ``motion`` (rig-format.md).  When that finds no
-    equilibrium and passes are two-blocked (at the start or where the iteration stopped), it
-    is solved again with those passes jammed (static ratio 1, see friction.jammed_passes):
+    ``start``: the frictionless state at ``x0`` when already evaluated (a warm drag step has none:
+    the first weights need only the piece directions, and the state is evaluated only if jams are
+    looked for).  Every pass first runs with the ratio of ``motion`` (rig-format.md).  When that
+    finds no equilibrium and passes are two-blocked (at the start or where the iteration stopped),
+    it is solved again with those passes jammed (static ratio 1, see friction.jammed_passes):
     a pulley hauled into a knot would otherwise need the spacing contact to pull.
     """
-    fr, w = _friction_stage(s, st, motion, kc, None)
+    u0 = start.u if start is not None else directions(s, x0)
+    fr, w = _friction_stage(s, x0, u0, motion, kc, None)
     if fr.converged or fr.runaway is not None:
         return fr, w
-    jam = friction.jammed_passes(s, st.pen) | friction.jammed_passes(s, fr.state.pen)
+    if start is None:
+        start = evaluate(s, x0, None, kc)
+    jam = friction.jammed_passes(s, start.pen) | friction.jammed_passes(s, fr.state.pen)
     if not jam.any():
         return fr, w
-    again, w2 = _friction_stage(s, st, motion, kc, jam)
+    again, w2 = _friction_stage(s, x0, u0, motion, kc, jam)
     again.iterations += fr.iterations
     return (again, w2) if again.converged or again.runaway is not None else (fr, w)
 
 
-def _friction_stage(s: System, st: State, motion: str, kc: np.ndarray,
+def _friction_stage(s: System, x0: np.ndarray, u0: np.ndarray, motion: str, kc: np.ndarray,
                     jam: np.ndarray | None) -> tuple[_Outcome, np.ndarray]:
-    """One friction solve with the passes ``jam`` (None: none) jammed."""
+    """One friction solve from ``x0`` (piece directions ``u0`` there) with the passes ``jam`` (None: none) jammed."""
     iters = 0
+    x = x0
     # passes jammed stay jammed and new two-blocked ones join (when jamming at all): the set
     # only grows, so the outer loop cannot cycle between a running and a jammed pass
-    w = friction.weights(s, st.u, motion, jam)
+    w = friction.weights(s, u0, motion, jam)
     for _outer in range(40):
-        fr = _newton(s, st.x, w, kc, symmetric=False)
+        fr = _newton(s, x, w, kc, symmetric=False)
         if not fr.converged and fr.runaway is None:
-            fr = _soft_retry(s, st.x, w, kc, fr)
+            fr = _soft_retry(s, x, w, kc, fr)
         iters += fr.iterations
         st = fr.state
+        x = st.x
         if fr.runaway is not None or not fr.converged:
             return _Outcome(st, iters, False, fr.runaway), w
         if jam is not None:
@@ -717,7 +726,7 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
                       message=f"point {_point_name(s.rig, pid)} is not held: no rope is attached to it")
     frictional = motion != "hold" and s.has_friction
     if warm and frictional:
-        fr, w = _friction_solve(s, evaluate(s, x0, None, kc), motion, kc)
+        fr, w = _friction_solve(s, x0, motion, kc)
         if fr.runaway is not None or not fr.converged:
             return _Solved(fr.state, fr.state, fr.iterations, False, fr.runaway, w)
         # held or not is a property of the structure: judged on the frictionless (symmetric) tangent,
@@ -741,7 +750,7 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
         return failed
     if not frictional:
         return _Solved(out.state, out.state, out.iterations, True, None, out.state.w)
-    fr, w = _friction_solve(s, out.state, motion, kc)
+    fr, w = _friction_solve(s, out.state.x, motion, kc, out.state)
     return _Solved(fr.state, out.state if ideal else None, out.iterations + fr.iterations, fr.converged, fr.runaway, w)
 
 
