@@ -814,18 +814,35 @@ def _components(s: System) -> None:
 
 def _component_sizes(s: System) -> None:
     """Size of each part, m: the box around its free points and every point its pieces reach."""
-    label = s.comp_label
-    lo = np.full((s.n_comp, 2), np.inf)
-    hi = np.full((s.n_comp, 2), -np.inf)
-    pc = label
-    pxy = s.xy0[s.free]
-    np.minimum.at(lo, pc, pxy)
-    np.maximum.at(hi, pc, pxy)
+    if not s.n_comp:
+        s.comp_size = np.zeros(0)
+        return
+    gather, starts = _size_groups(s)
+    pts = s.xy0[gather]  # every point of every part, part by part (a point may appear more than once)
+    lo = np.minimum.reduceat(pts, starts, axis=0)
+    hi = np.maximum.reduceat(pts, starts, axis=0)
+    s.comp_size = np.maximum(np.hypot(*(hi - lo).T), 1e-3)
+
+
+#: (comp_label, piece_comp, gather, starts) of the last structure sized: a moved copy of a rig (a drag
+#: step) has the same parts, whose points are gathered in the same order.
+_SIZE_GROUPS: list = [None]
+
+
+def _size_groups(s: System) -> tuple[IntArray, IntArray]:
+    """Indices into the points of each part's free points and piece ends, grouped by part, and where each
+    part's group starts (every part has a free point, so no group is empty)."""
+    last = _SIZE_GROUPS[0]
+    if last is not None and last[0] is s.comp_label and last[1] is s.piece_comp:
+        return last[2], last[3]
     on = s.piece_comp >= 0
-    for ends in (s.a, s.b):
-        np.minimum.at(lo, s.piece_comp[on], s.xy0[ends[on]])
-        np.maximum.at(hi, s.piece_comp[on], s.xy0[ends[on]])
-    s.comp_size = np.maximum(np.hypot(*(hi - lo).T), 1e-3) if s.n_comp else np.zeros(0)
+    idx = np.concatenate((np.flatnonzero(s.free), s.a[on], s.b[on]))
+    lab = np.concatenate((s.comp_label, s.piece_comp[on], s.piece_comp[on]))
+    order = np.argsort(lab, kind="stable")
+    gather = idx[order]
+    starts = np.searchsorted(lab[order], np.arange(s.n_comp))
+    _SIZE_GROUPS[0] = (s.comp_label, s.piece_comp, gather, starts)
+    return gather, starts
 
 
 def _component_forces(s: System) -> None:
