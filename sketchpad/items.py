@@ -512,8 +512,8 @@ class RopeItem(SketchItem):
                 t_in = self._tangent(c, -u_prev, b, r)
                 t_out = self._tangent(c, u_next, b, r)
                 path.lineTo(t_in)
-                for q in self._arc(c, r, t_in, t_out, b):
-                    path.lineTo(q)
+                for qx, qy in self._arc(c, r, t_in, t_out, b):
+                    path.lineTo(qx, qy)
                 self._glyphs.append((how, c, r, b))
                 continue
             path.lineTo(p)
@@ -552,10 +552,11 @@ class RopeItem(SketchItem):
         return c + n * r
 
     @staticmethod
-    def _arc(c: QPointF, r: float, a: QPointF, b: QPointF, inside: QPointF, steps: int = 10) -> list[QPointF]:
-        """Points along the sheave from ``a`` to ``b`` going round the outside (away from ``inside``)."""
-        a0 = math.atan2(a.y() - c.y(), a.x() - c.x())
-        a1 = math.atan2(b.y() - c.y(), b.x() - c.x())
+    def _arc(c: QPointF, r: float, a: QPointF, b: QPointF, inside: QPointF, steps: int = 10) -> list[tuple[float, float]]:
+        """Points (x, y) along the sheave from ``a`` to ``b`` going round the outside (away from ``inside``)."""
+        cx, cy = c.x(), c.y()
+        a0 = math.atan2(a.y() - cy, a.x() - cx)
+        a1 = math.atan2(b.y() - cy, b.x() - cx)
         sweep = (a1 - a0) % (2 * math.pi)
         outside = math.atan2(-inside.y(), -inside.x())
 
@@ -565,7 +566,9 @@ class RopeItem(SketchItem):
 
         if mid_score(sweep - 2 * math.pi) > mid_score(sweep):
             sweep -= 2 * math.pi
-        return [c + QPointF(math.cos(a0 + sweep * t / steps), math.sin(a0 + sweep * t / steps)) * r for t in range(1, steps + 1)]
+        # plain floats, as QPointF arithmetic rounds (c + unit * r, in doubles), ~10x fewer Qt calls
+        return [(cx + math.cos(a0 + sweep * t / steps) * r, cy + math.sin(a0 + sweep * t / steps) * r)
+                for t in range(1, steps + 1)]
 
     def _finish_bounds(self) -> None:
         k = self._k
