@@ -19,6 +19,19 @@ import statistics
 import time
 
 
+def machine_reference_ms() -> float:
+    """Median time (ms) of a fixed interpreter workload: printed beside the frame times so runs on a VM
+    whose speed drifts between sessions can be compared (a slower reference explains slower frames)."""
+    times = []
+    for _ in range(7):
+        t0 = time.perf_counter()
+        total = 0
+        for i in range(200_000):
+            total += i * i % 7
+        times.append(time.perf_counter() - t0)
+    return statistics.median(times) * 1e3
+
+
 def _p95(values: list[float]) -> float:
     """The 95th percentile (nearest rank) of ``values``."""
     ordered = sorted(values)
@@ -61,6 +74,7 @@ def test_drag_step_on_a_50_rope_rig(benchmark, window):
     if stats is not None and stats.stats.data:  # timing on (CI runs with --benchmark-disable: nothing to report)
         rounds = list(stats.stats.data)
         benchmark.extra_info["p95_ms"] = round(_p95(rounds) * 1e3, 2)
+        benchmark.extra_info["machine_reference_ms"] = round(machine_reference_ms(), 2)
         for name, values in parts.items():  # warm-up rounds included; the medians barely notice
             benchmark.extra_info[f"{name}_median_ms"] = round(statistics.median(values) * 1e3, 2)
             benchmark.extra_info[f"{name}_p95_ms"] = round(_p95(values) * 1e3, 2)
