@@ -125,10 +125,33 @@ def _scene(xy) -> tuple[float, float]:
 
 
 def scene_positions(rig: Rig, result: Result) -> dict[str, tuple[float, float]]:
-    """Scene position (metres, y down) of every point of ``rig``: where the solver put it, else where it is drawn."""
-    pos = {p.id: (float(p.x), -float(p.y)) for p in rig.points}
-    for pid, xy in result.points.items():
-        pos[pid] = (float(xy[0]), -float(xy[1]))
+    """Scene position (metres, y down) of every point of ``rig``: where the solver put it, else where it is drawn.
+
+    A solved position given as the very tuple of the last call keeps its scene tuple (the solver hands
+    on the tuples of points a drag step did not move), so unchanged points keep equal, identical positions.
+    """
+    solved = result.points
+    memo_src, memo_pos = _scene_memo[1], _scene_memo[2]
+    made, src = {}, {}
+    for pid, xy in solved.items():
+        if memo_src.get(pid) is xy:
+            made[pid] = memo_pos[pid]
+        else:
+            made[pid] = (float(xy[0]), -float(xy[1]))
+        src[pid] = xy
+    _scene_memo[:] = [solved, src, made]
+    pos = {}
+    found = 0
+    for p in rig.points:  # in the rig's order: solved where solved, else as drawn
+        pid = p.id
+        hit = made.get(pid)
+        if hit is None:
+            pos[pid] = (float(p.x), -float(p.y))
+        else:
+            pos[pid] = hit
+            found += 1
+    if found != len(made):
+        pos.update(made)  # a solved point the rig no longer has (a greyed result of an older rig) stays
     return pos
 
 
@@ -147,6 +170,34 @@ _BUCKET_RGBA, _BUCKET_ORDER = _bucket_colours()
 def _unit(dx: float, dy: float) -> tuple[float, float]:
     n = math.hypot(dx, dy)
     return (0.0, -1.0) if n < 1e-12 else (dx / n, dy / n)
+
+
+class PerPoint:
+    """One value per point of ``rig.points``, made again only for the points whose Point object changed.
+
+    A drag step hands over a new ``rig.points`` tuple that shares every Point object but the moved
+    one, so a per-point table (scene positions, name boxes) is patched, not rebuilt; the answer is a
+    new list (the last one is never changed in place) equal to making every value afresh.
+    """
+
+    def __init__(self, make: Callable) -> None:
+        self._make = make
+        self._points: tuple | None = None
+        self._values: list = []
+
+    def values(self, points: tuple) -> list:
+        if points is self._points:
+            return self._values
+        old, make = self._points, self._make
+        if old is not None and len(old) == len(points):
+            values = [v if p is q else make(p) for p, q, v in zip(points, old, self._values)]
+        else:
+            values = [make(p) for p in points]
+        self._points, self._values = points, values
+        return values
+
+
+_scene_memo: list = [None, {}, {}]  # (result.points, its scene positions, source tuples) of the last call
 
 
 _pass_keys_for: list = [None, {}]  # (rig.ropes, pass keys) of the last call: a drag keeps the ropes
@@ -208,11 +259,20 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             a, b = pos_get(s.from_point), pos_get(s.to_point)
             if a is None or b is None:
                 continue
+            # the very record at the very positions of the last call (the solver and scene_positions
+            # hand on the objects of what a drag step did not move): its label, without hashing numbers
+            hit = old_get(id(s))
+            if hit is not None and hit[0] is s and hit[1] is a and hit[2] is b:
+                if keep is not None:
+                    keep(id(s), hit)
+                add(hit[3])
+                continue
             key = ("t", s.rope, s.index, s.tension_N, s.strain, s.utilization, a, b)
             lab = old_get(key)
             if lab is not None:  # the piece's label of the last call: same numbers, same place
                 if keep is not None:
                     keep(key, lab)
+                    keep(id(s), (s, a, b, lab))
                 add(lab)
                 continue
             lines = []
@@ -230,6 +290,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
                 base=a, end=b)
             if keep is not None:
                 keep(key, lab)
+                keep(id(s), (s, a, b, lab))
             add(lab)
 
     if "angles" in layers:
@@ -828,6 +889,8 @@ class ForceItem(_LayerItem):
         self._flat_pens: dict[int, QPen] = {}
         self._band_paths: dict[int, tuple] = {}  # per colour: (piece ends, (pen, path)) of the last set_bands
         self._drawn: tuple = (None, {})
+        self._drawn_xy = PerPoint(lambda p: _scene(p.xy))
+        self._point_ids = PerPoint(operator.attrgetter("id"))
 
     # --- building (outside paint) ---------------------------------------------------------------
     def pen_for(self, colour: QColor, width: float) -> QPen:
@@ -893,7 +956,8 @@ class ForceItem(_LayerItem):
     def _drawn_positions(self, rig: Rig) -> dict[str, tuple[float, float]]:
         """Scene positions of the points as drawn (kept while ``rig.points`` is the same tuple)."""
         if self._drawn[0] is not rig.points:
-            self._drawn = (rig.points, {p.id: _scene(p.xy) for p in rig.points})
+            self._drawn = (rig.points, dict(zip(self._point_ids.values(rig.points),
+                                                self._drawn_xy.values(rig.points))))
         return self._drawn[1]
 
     def label_size(self, lab: OverlayLabel) -> tuple[float, float]:
@@ -1634,7 +1698,7 @@ class ResultOverlay(QObject):
         self._summary: list[str] = []  # summary_lines of the result drawn
         self._name_fm = QFontMetricsF(theme.font())
         self._name_box_cache: dict[tuple[str, str], tuple[float, float, float, float]] = {}
-        self._name_boxes_for: tuple = (None, [])  # (rig.points, name boxes) of the last call
+        self._name_box_of = PerPoint(self._name_box)  # name box of each point of the last rig
         self._markers_for: tuple = (None, None, [])  # (rig.points, result, markers) of the last call
 
     # --- public -------------------------------------------------------------------------------------
@@ -1791,24 +1855,21 @@ class ResultOverlay(QObject):
         return markers
 
     def _name_boxes(self, rig: Rig) -> list:
-        """Pixel rects of the point names the canvas draws beside each marker (sketchpad.items.PointItem);
-        the same list while ``rig.points`` is the same tuple."""
-        if self._name_boxes_for[0] is rig.points:
-            return self._name_boxes_for[1]
-        cache = self._name_box_cache
-        if len(cache) > 4 * len(rig.points) + 64:
-            cache.clear()
-        out = []
-        for p in rig.points:
-            key = (p.name, p.kind)
-            box = cache.get(key)
-            if box is None:
-                fm = self._name_fm
-                r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
-                box = cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name), fm.height())
-            out.append((_scene(p.xy), box))
-        self._name_boxes_for = (rig.points, out)
-        return out
+        """Pixel rects of the point names the canvas draws beside each marker (sketchpad.items.PointItem):
+        (scene point, rect relative to it) per point, made again only for points that changed."""
+        if len(self._name_box_cache) > 4 * len(rig.points) + 64:
+            self._name_box_cache.clear()
+        return self._name_box_of.values(rig.points)
+
+    def _name_box(self, p) -> tuple:
+        key = (p.name, p.kind)
+        box = self._name_box_cache.get(key)
+        if box is None:
+            fm = self._name_fm
+            r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
+            box = self._name_box_cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name),
+                                               fm.height())
+        return (_scene(p.xy), box)
 
     def eventFilter(self, obj, event) -> bool:  # noqa: N802
         if event.type() == QEvent.Resize:

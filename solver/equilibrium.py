@@ -754,9 +754,25 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
     return _Solved(fr.state, out.state if ideal else None, out.iterations + fr.iterations, fr.converged, fr.runaway, w)
 
 
+#: (point ids, origin, position bits, position tuples) of the last Result's points
+_LAST_POINTS: list = [None]
+
+
 def _all_points(s: System, st: State) -> dict[str, tuple[float, float]]:
+    """Every point's solved position (site metres); a point at the bit for bit same place as in the last
+    Result of the same structure keeps that Result's tuple (a drag step moves the dragged part only)."""
     ox, oy = float(s.origin[0]), float(s.origin[1])
-    pos = {pid: (x + ox, y + oy) for pid, (x, y) in zip(s.point_ids, st.xy.tolist())}
+    bits = np.ascontiguousarray(st.xy).view(np.int64)
+    last = _LAST_POINTS[0]
+    if last is not None and last[0] is s.point_ids and last[1] == (ox, oy) and last[2].shape == bits.shape:
+        xys = list(last[3])
+        changed = np.flatnonzero((bits != last[2]).any(axis=1)).tolist()
+        for i, (x, y) in zip(changed, st.xy[changed].tolist()):
+            xys[i] = (x + ox, y + oy)
+    else:
+        xys = [(x + ox, y + oy) for x, y in st.xy.tolist()]
+    _LAST_POINTS[0] = (s.point_ids, (ox, oy), bits.copy(), xys)
+    pos = dict(zip(s.point_ids, xys))
     if len(pos) == len(s.rig.points):  # every point is structural: already in the rig's order
         return pos
     return {p.id: pos.get(p.id, (p.x, p.y)) for p in s.rig.points}

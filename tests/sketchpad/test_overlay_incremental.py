@@ -485,6 +485,7 @@ def test_placement_memo_lent_between_drag_steps_equals_a_fresh_memo_and_grid_cel
     view.zoom_to_fit()
     sched.background, sched.background_after_ms = False, float("inf")
     sched.solve_now()
+    sched.settle_timer.setInterval(600_000)  # every step below is part of one drag, however slow the machine
     ov = main_window.live.overlay
     rig = doc.rig
     h = rig.point("H4")
