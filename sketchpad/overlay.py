@@ -1656,8 +1656,10 @@ class ResultOverlay(QObject):
     def rebuild(self) -> None:
         """Labels, bands, zones and legend from the current rig and result, then place labels."""
         grey = self.failed is not None
-        self.force_item.grey = grey
-        self.zones_item.grey = grey
+        for item in (self.force_item, self.zones_item):
+            if item.grey != grey:  # a new look: Qt's cache of the item and the drag layer's still image must follow
+                item.grey = grey
+                item.update()
         if self.result is None or self.rig is None:
             self.force_item.bands, self.force_item.moved_points = [], []
             self.force_item.set_labels([], [], self._m_per_px())
