@@ -194,3 +194,23 @@ def test_a_failed_solve_mid_drag_greys_the_danger_zones_in_every_frame(main_wind
     for item in view.sketch_scene.items():  # nothing cached: every item painted afresh
         item.update()
     assert_same(shown, frame(view, False))
+
+
+@pytest.mark.xfail(strict=True, reason="known: once a failed drag step cleared the danger zones and a good one drew them "
+                                       "again, the layer's frame differs from Qt's in the zones (~2000 px, not stale: a "
+                                       "rebuilt still image differs too); not yet understood")
+def test_the_danger_zones_drawn_again_after_a_failed_drag_step_match_qt(main_window):
+    from solver.model import Point
+
+    doc, sched, view = fifty_rope_window(main_window)
+    drag_steps(doc, sched, view, "H2", 5)
+    base = doc.rig
+    loose = base.with_point(Point("K9", "point", 40.0, 5.0, label="loose karabiner"))  # no rope reaches it: no solve
+    p = base.point("H2")
+    for i in range(10):
+        doc.preview((loose if i < 5 else base).moved("H2", p.x + 0.4 * i, p.y - 0.2 * i))
+        sched._change_gap_ms = 1.0
+        sched.fire()
+        view.viewport().repaint()
+    assert not main_window.live.overlay.greyed and main_window.live.overlay.zones_item.paths
+    assert_same(frame(view, True, through_layer=True), frame(view, False))
