@@ -196,10 +196,11 @@ def test_a_failed_solve_mid_drag_greys_the_danger_zones_in_every_frame(main_wind
     assert_same(shown, frame(view, False))
 
 
-@pytest.mark.xfail(strict=True, reason="known: once a failed drag step cleared the danger zones and a good one drew them "
-                                       "again, the layer's frame differs from Qt's in the zones (~2000 px, not stale: a "
-                                       "rebuilt still image differs too); not yet understood")
-def test_the_danger_zones_drawn_again_after_a_failed_drag_step_match_qt(main_window):
+@pytest.mark.xfail(strict=True, reason="known: after a drag step that added a point and one that took it away, the "
+                                       "layer's frame differs from Qt's (~2300 px, up to 223; a rebuilt still image too): "
+                                       "points of equal z overlap in another order (names 'HS0' over 'H0': S0 drawn over "
+                                       "H0), so stacking_order no longer matches Qt's paint order; not yet fixed")
+def test_the_frame_after_a_point_came_and_went_mid_drag_matches_qt(main_window):
     from solver.model import Point
 
     doc, sched, view = fifty_rope_window(main_window)
