@@ -494,9 +494,9 @@ def _widget_rects(vp: QWidget) -> list[QRect]:
         parent = w.parentWidget()
         if parent is None:
             break
-        kids = parent.children()
+        kids = parent.findChildren(QWidget, "", Qt.FindDirectChildrenOnly)  # in stacking order, bottom first
         for c in kids[kids.index(w) + 1:]:
-            if isinstance(c, QWidget) and c.isVisible() and not c.isWindow():
+            if c.isVisible() and not c.isWindow():
                 r = QRect(vp.mapFrom(parent, c.geometry().topLeft()), c.geometry().size()).intersected(whole)
                 if not r.isEmpty():
                     rects.append(r)

@@ -1448,6 +1448,7 @@ class Legend(QWidget):
         self._pixmap: QPixmap | None = None
         self._pixmap_key: tuple | None = None
         self.shown = False  # whether the view paints the key (the widget stays hidden)
+        self._areas: tuple | None = None  # (lines, frame, areas) of the last call of areas()
         self.hide()
 
     TITLE = "Rope use: tension × SF ÷ MBS"
@@ -1489,12 +1490,16 @@ class Legend(QWidget):
             return []
         g = self.geometry()
         frame = (g.x(), g.y(), g.width(), g.height(), self.show_zones, self.grey, len(self.lines))
+        last = self._areas
+        if last is not None and last[0] is self.lines and last[1] == frame:
+            return last[2]  # set_content hands in a new list when the lines change
         y0 = self._lines_top()
         lh = self.fm.height()
         out = [(g, frame)]
         for i, line in enumerate(self.lines):  # a band per line, a little taller than the line (anti-aliased glyphs)
             top = math.floor(y0 + i * lh) - 2
             out.append((QRect(g.x(), g.y() + top, g.width(), math.ceil(lh) + 4), (frame, line)))
+        self._areas = (self.lines, frame, out)
         return out
 
     def _lines_top(self) -> float:
