@@ -265,3 +265,72 @@ def test_a_selection_change_mid_drag_shows_on_screen(main_window):
     drag_steps(doc, sched, view, "H4", 2, start=11)
     assert step(doc, sched, view, "H4", 13) == (1, 1)
     assert_screen_fresh(view)
+
+
+def test_a_retained_layers_damage_holds_every_pixel_it_changed():
+    """``RetainedLayer.take_damage`` (what a damage frame redraws for the overlay) holds every device pixel whose
+    value changed since it was last taken: over patched frames, frames redrawn whole (many changes, a moved
+    area, a new frame key), frames that were not taken in between, and a ``clear``."""
+    import random
+
+    from PySide6.QtCore import QPointF
+    from PySide6.QtGui import QPixmap, QRegion
+
+    from sketchpad.retained import RetainedLayer
+
+    rng = random.Random(3)
+    swatches = []
+    for i in range(5):
+        pix = QPixmap(12 + 5 * i, 8 + 3 * i)
+        pix.fill(QColor.fromHsv(70 * i, 190, 220, 90 + 30 * i))
+        swatches.append(pix)
+    size = (260, 190)
+
+    def entry(k, x, y):
+        pix = swatches[k]
+        return ((k, x, y), QRect(int(x) - 1, int(y) - 1, pix.width() + 3, pix.height() + 3), (pix, QPointF(x, y)))
+
+    def on_device(layer, area) -> np.ndarray:
+        """The layer as composited on a device of ``size`` (transparent where it has no area)."""
+        out = np.zeros((size[1], size[0], 4), int)
+        if layer.image is not None:
+            got = pixels(layer.image)
+            out[area.top():area.bottom() + 1, area.left():area.right() + 1] = got[:area.height(), :area.width()]
+        return out
+
+    def inside(region: QRegion) -> np.ndarray:
+        mask = np.zeros((size[1], size[0]), bool)
+        for r in region:
+            mask[max(r.top(), 0):r.bottom() + 1, max(r.left(), 0):r.right() + 1] = True
+        return mask
+
+    things = [(rng.randrange(5), rng.uniform(20, 200), rng.uniform(20, 150)) for _ in range(30)]
+    layer = RetainedLayer()
+    area = QRect(10, 10, 230, 170)
+    shown = np.zeros((size[1], size[0], 4), int)  # what the screen holds: the layer when damage was last taken
+    untaken = 0
+    for step in range(40):
+        n = 20 if step % 9 == 4 else rng.randrange(1, 4)  # now and then more than a partial redraw takes
+        for _ in range(n):
+            i = rng.randrange(len(things))
+            k, x, y = things[i]
+            things[i] = (k, x + rng.uniform(-8, 8), y + rng.uniform(-8, 8))
+        if step % 9 == 4:  # and the leftmost drawables go (the used part shrinks), others come at the right
+            things.sort(key=lambda t: t[1])
+            things = things[6:] + [(rng.randrange(5), rng.uniform(150, 200), rng.uniform(20, 150)) for _ in range(6)]
+        if step == 20:
+            area = QRect(0, 4, 250, 180)  # the layer's area moves: redrawn whole
+        if step == 30:
+            layer.clear()
+        frame = ("f", step >= 25)  # a new frame key from step 25 on
+        layer.update(frame, area, [entry(*t) for t in things])
+        if step % 5 == 2:
+            untaken += 1
+            continue  # this frame's damage is taken with the next one's
+        now = on_device(layer, area)
+        changed = np.abs(now - shown).max(axis=2) > 0
+        damage = layer.take_damage()
+        assert not (changed & ~inside(damage)).any(), f"step {step}: changed pixels outside the damage"
+        assert changed.any() and inside(damage).mean() < 0.9 or step in (20, 25, 30), f"step {step}"
+        shown = now
+    assert layer.full_redraws >= 4 and layer.partial_redraws >= 20 and untaken >= 5
