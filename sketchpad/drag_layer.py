@@ -40,7 +40,7 @@ from __future__ import annotations
 import logging
 
 import shiboken6
-from PySide6.QtCore import QPoint, QRect, Qt
+from PySide6.QtCore import QPoint, QRect, QRectF, Qt
 from PySide6.QtGui import QImage, QPainter, QRegion, QTransform
 from PySide6.QtWidgets import (
     QGraphicsItem,
@@ -143,10 +143,24 @@ def paint_item(painter: QPainter, item: QGraphicsItem, view_transform, widget, h
     painter.restore()
 
 
+#: A scene rect holding every item (an empty bounding rect counts as a point where it is).
+_EVERYWHERE = QRectF(-1e15, -1e15, 2e15, 2e15)
+
+
 def stacking_order(scene) -> list:
-    """The scene's top-level items bottom first, as Qt paints them: by z, equal z in insertion order
-    (``QGraphicsScene.items`` of an unindexed scene returns insertion order, whatever sort is asked)."""
-    return sorted((it for it in scene.items(Qt.AscendingOrder) if it.parentItem() is None), key=QGraphicsItem.zValue)
+    """The scene's top-level items bottom first, as Qt paints them: by z, equal z in insertion order.
+
+    Qt sorts a query by area by its stacking order; ``QGraphicsScene.items()`` of an unindexed scene
+    returns its index's list, whose order is no longer the insertion order once an item was removed
+    (seen after a drag step added a point and the next took it away), so it cannot be used here.  An
+    item the query misses (none should) is put in by z alone."""
+    ordered = [it for it in scene.items(_EVERYWHERE, Qt.IntersectsItemBoundingRect, Qt.AscendingOrder)
+               if it.parentItem() is None]
+    everything = [it for it in scene.items() if it.parentItem() is None]
+    if len(ordered) != len(everything):
+        seen = set(map(id, ordered))
+        ordered += [it for it in everything if id(it) not in seen]
+    return sorted(ordered, key=QGraphicsItem.zValue)  # stable: equal z keeps Qt's order
 
 
 def _with_children(item: QGraphicsItem) -> list:
