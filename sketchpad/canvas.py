@@ -310,6 +310,10 @@ class SketchView(QGraphicsView):
         #: Callables ``(painter, dpr or None)`` painting screen-fixed layers over the HUD each frame, in
         #: viewport pixels (the overlay's legend): part of the viewport's own paint, not a child widget
         self.foreground_painters: list = []
+        #: For each foreground painter, a callable giving the viewport rects it paints in, each with a key of
+        #: what it paints there (a list of (QRect, key)): a drag frame repaints a rect when its key changes
+        #: (``foreground_rects``)
+        self.foreground_areas: list = []
         self.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing)
         self.setHorizontalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
         self.setVerticalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
@@ -543,12 +547,13 @@ class SketchView(QGraphicsView):
                      self.grid_visible, self.grid_step_m() if self.grid_visible else 0.0, self.renderHints().value,
                      self.optimizationFlags().value)
             try:
-                if dpr == 1.0 and self.drag_layer.paint(self, frame):
+                if dpr == 1.0 and self.drag_layer.paint(self, frame, event.region()):
                     return
             except Exception:  # never lose the canvas to a cache: paint it as Qt does from now on
                 log.exception("drag layer failed; the view paints without it")
                 self.use_drag_layer = False
                 self.drag_layer.drop()
+        self.drag_layer.painted_by_qt(self.viewport())  # on screen, the next drag frame is painted whole
         super().paintEvent(event)
 
     # --- grid, scale bar, north arrow ---------------------------------------------------------
@@ -623,21 +628,37 @@ class SketchView(QGraphicsView):
             self._draw_scale_bar(painter)
             self._draw_orientation(painter)
         else:
-            vp = self.viewport()
-            elevation = self.sketch_scene.rig.view == "elevation"
-            frame = (self.px_per_m, self.length_unit, vp.width(), vp.height(), elevation, dpr)
-            if self._hud_frame[0] != frame:  # what the two parts show and where: worked out once per frame kind
-                length_m = self.scale_bar_length_m()
-                blits = [self._hud_pixmap(dpr, ("scale", length_m, self.px_per_m, self.length_unit, vp.height()),
-                                          self._scale_bar_rect(length_m), self._draw_scale_bar),
-                         self._hud_pixmap(dpr, ("orientation", elevation, vp.width()),
-                                          self._orientation_rect(), self._draw_orientation)]
-                self._hud_frame = (frame, blits)
-            for x, y, pix in self._hud_frame[1]:
+            for x, y, pix in self._hud_blits(dpr):
                 painter.drawPixmap(x, y, pix)
         for paint_on_top in self.foreground_painters:  # screen-fixed layers of other modules (the legend)
             paint_on_top(painter, dpr)
         painter.restore()
+
+    def _hud_blits(self, dpr: float) -> list[tuple[int, int, QPixmap]]:
+        """(x, y, pixmap) of the scale bar and the north arrow on screen at ``dpr``."""
+        vp = self.viewport()
+        elevation = self.sketch_scene.rig.view == "elevation"
+        frame = (self.px_per_m, self.length_unit, vp.width(), vp.height(), elevation, dpr)
+        if self._hud_frame[0] != frame:  # what the two parts show and where: worked out once per frame kind
+            length_m = self.scale_bar_length_m()
+            blits = [self._hud_pixmap(dpr, ("scale", length_m, self.px_per_m, self.length_unit, vp.height()),
+                                      self._scale_bar_rect(length_m), self._draw_scale_bar),
+                     self._hud_pixmap(dpr, ("orientation", elevation, vp.width()),
+                                      self._orientation_rect(), self._draw_orientation)]
+            self._hud_frame = (frame, blits)
+        return self._hud_frame[1]
+
+    def foreground_rects(self) -> list[tuple] | None:
+        """(x, y, w, h, key) of the viewport px (at a device pixel ratio of 1) that :meth:`drawForeground` paints
+        on screen this frame: the scale bar, the north arrow and each foreground painter's area, each with a
+        key that changes when what it shows there changes; None if a painter does not say where it paints."""
+        if len(self.foreground_areas) != len(self.foreground_painters):
+            return None
+        rects = [(x, y, pix.width(), pix.height(), pix.cacheKey()) for x, y, pix in self._hud_blits(1.0)]
+        for areas in self.foreground_areas:
+            for r, key in areas():
+                rects.append((r.x(), r.y(), r.width(), r.height(), key))
+        return rects
 
     def _hud_pixmap(self, dpr: float, key: tuple, rect: QRect, draw) -> tuple[int, int, QPixmap]:
         """(x, y, pixmap): the HUD part ``draw`` paints inside ``rect`` (viewport px), cached by ``key``."""

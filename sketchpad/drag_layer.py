@@ -18,20 +18,37 @@ drawn into a transparent image over its device box first, as Qt's cache is (text
 differently otherwise).  Where Qt would cache only the visible part of an item (one reaching well
 past the view) the layer is off; so it is at a device pixel ratio other than 1.  The frame equals
 Qt's own to 8-bit rounding of compositing, 2/255 at most at anti-aliased edges (tested).
+
+Damage: Qt's raster backing store keeps the last frame's pixels, so a frame painted into it right
+after one of ours needs redrawing only where the two differ.  Each frame on screen records what
+fixes its pixels beyond the still image: the moving items' versions and device boxes, the items
+at and above the overlay (version and box; the force overlay instead says where its retained
+layers were patched, ``ForceItem.prepare_retained`` before the clip is set), the HUD parts with
+a key of what they show (``SketchView.foreground_rects``) and every widget Qt paints over the
+viewport (each frame, so always redrawn: a translucent banner would be laid down twice).  The
+next frame redraws, clipped to the union of what differs, exactly what a whole frame draws
+there.  Only when the painter's device is the window's backing store (its image, size and the
+viewport's place in it as at the last frame: a ``grab`` or ``render`` into a pixmap gets a whole
+frame), the still image, transform, size and hints are those of the last frame, the last paint
+was one of ours covering the viewport (any paint by Qt itself forgets it), and the paint event's
+region covers the damage.  The backing store after many such frames equals a fresh paint (tested
+on the store's own pixels).
 """
 
 from __future__ import annotations
 
 import logging
 
-from PySide6.QtCore import QRect, Qt
-from PySide6.QtGui import QImage, QPainter, QTransform
+import shiboken6
+from PySide6.QtCore import QPoint, QRect, QRectF, Qt
+from PySide6.QtGui import QImage, QPainter, QRegion, QTransform
 from PySide6.QtWidgets import (
     QGraphicsItem,
     QGraphicsPixmapItem,
     QGraphicsSimpleTextItem,
     QStyle,
     QStyleOptionGraphicsItem,
+    QWidget,
 )
 
 from sketchpad import theme
@@ -126,10 +143,24 @@ def paint_item(painter: QPainter, item: QGraphicsItem, view_transform, widget, h
     painter.restore()
 
 
+#: A scene rect holding every item (an empty bounding rect counts as a point where it is).
+_EVERYWHERE = QRectF(-1e15, -1e15, 2e15, 2e15)
+
+
 def stacking_order(scene) -> list:
-    """The scene's top-level items bottom first, as Qt paints them: by z, equal z in insertion order
-    (``QGraphicsScene.items`` of an unindexed scene returns insertion order, whatever sort is asked)."""
-    return sorted((it for it in scene.items(Qt.AscendingOrder) if it.parentItem() is None), key=QGraphicsItem.zValue)
+    """The scene's top-level items bottom first, as Qt paints them: by z, equal z in insertion order.
+
+    Qt sorts a query by area by its stacking order; ``QGraphicsScene.items()`` of an unindexed scene
+    returns its index's list, whose order is no longer the insertion order once an item was removed
+    (seen after a drag step added a point and the next took it away), so it cannot be used here.  An
+    item the query misses (none should) is put in by z alone."""
+    ordered = [it for it in scene.items(_EVERYWHERE, Qt.IntersectsItemBoundingRect, Qt.AscendingOrder)
+               if it.parentItem() is None]
+    everything = [it for it in scene.items() if it.parentItem() is None]
+    if len(ordered) != len(everything):
+        seen = set(map(id, ordered))
+        ordered += [it for it in everything if id(it) not in seen]
+    return sorted(ordered, key=QGraphicsItem.zValue)  # stable: equal z keeps Qt's order
 
 
 def _with_children(item: QGraphicsItem) -> list:
@@ -175,19 +206,43 @@ class DragLayer:
         self._steps: list = []  # above the image in stacking order: ("live", item) drawn every frame, ("seg", (image, top-left))
         self._last: tuple | None = None  # (frame, items, versions) of the last frame
         self._last_moved: frozenset | None = None
+        self._screen: tuple | None = None  # (key, record) of the frame the backing store holds, if painted here
         self.builds = 0  # counters for tests and benchmarks
         self.frames = 0
+        self.damage_frames = 0  # frames that redrew only where they differ from the last one
+        self.last_damage: QRegion | None = None  # what the last of them redrew
+
+    def forget_screen(self) -> None:
+        """The viewport's pixels on screen may no longer be a frame of this layer: the next frame is painted whole."""
+        self._screen = None
+
+    def painted_by_qt(self, vp: QWidget) -> None:
+        """Qt paints this frame of ``vp`` (from its paint event): if into the backing store, the screen is no longer
+        a frame of this layer (a ``grab`` into a pixmap leaves it as it is)."""
+        if self._screen is None:
+            return
+        p = QPainter(vp)
+        on_screen = _store_key(vp, p) is not None
+        p.end()
+        if on_screen:
+            self._screen = None
 
     def drop(self) -> None:
         """Forget the image (the next frames are painted by Qt until a drag pattern shows again)."""
         self.image, self._frame, self._order, self._still, self._built, self._steps = None, None, None, [], [], []
 
-    def paint(self, view, frame: tuple) -> bool:
+    def paint(self, view, frame: tuple, region: QRegion | None = None) -> bool:
         """Paint ``view``'s viewport with the still image when it holds; False: the caller paints normally.
 
         ``frame`` names everything besides the items that fixes the background (transform, size,
-        grid, render hints, device pixel ratio).
+        grid, render hints, device pixel ratio); ``region`` is the paint event's (None: all of it).
         """
+        painted = self._paint(view, frame, region)
+        if not painted:
+            self._screen = None  # Qt paints this frame
+        return painted
+
+    def _paint(self, view, frame: tuple, region: QRegion | None) -> bool:
         raw = view.scene().items(Qt.AscendingOrder)
         zs = [it.zValue() for it in raw]
         stack = self._stack
@@ -211,7 +266,7 @@ class DragLayer:
         if self.image is not None:
             built = self._built
             if frame == self._frame and below is self._order and all(versions[i] == built[i] for i in self._still):
-                self._paint_frame(view, below, top)
+                self._paint_frame(view, below, top, region)
                 return True
             self.drop()
         # a drag: the same items changed since the last frame as in the frame before, at the same view
@@ -228,7 +283,7 @@ class DragLayer:
         if plan is None:
             return False
         self._build(view, frame, below, versions, plan)
-        self._paint_frame(view, below, top)
+        self._paint_frame(view, below, top, region)
         return True
 
     def _closure(self, view, below: list, moved: frozenset) -> list | None:
@@ -311,14 +366,41 @@ class DragLayer:
         self.image, self._frame, self._order, self._still, self._built, self._steps = image, frame, below, still, versions, steps
         self.builds += 1
 
-    def _paint_frame(self, view, below: list, top: list) -> None:
+    def _paint_frame(self, view, below: list, top: list, region: QRegion | None) -> None:
         vp = view.viewport()
         vt = view.viewportTransform()
         hints = view.renderHints()
         p = QPainter(vp)
-        p.setCompositionMode(QPainter.CompositionMode_Source)  # the image is opaque (paper under everything): a copy
-        p.drawImage(0, 0, self.image)
-        p.setCompositionMode(QPainter.CompositionMode_SourceOver)
+        damage = None
+        store = _store_key(vp, p)
+        if store is not None:  # on screen: what changed since the frame the backing store holds?
+            last, self._screen = self._screen, None
+            whole = QRegion(0, 0, vp.width(), vp.height())
+            full_event = region is None or whole.subtracted(region).isEmpty()
+            key = (store, self._frame, self.builds)
+            record = self._record(view, vt, top)
+            if record is not None and last is not None and last[0] == key and last[1][0] is top:
+                damage = _changed(last[1], record).intersected(whole)
+                if not full_event and not damage.subtracted(region).isEmpty():
+                    damage = None  # the event repaints less than changed: the frame is whole inside it only
+            if record is not None and (full_event or damage is not None):
+                self._screen = (key, record)  # every pixel of the viewport is now this frame's
+        if damage is not None:
+            self.damage_frames += 1
+            self.last_damage = damage
+            if damage.isEmpty():
+                p.end()
+                self.frames += 1
+                return
+            p.setCompositionMode(QPainter.CompositionMode_Source)  # the image is opaque (paper under everything): a copy
+            for r in damage:
+                p.drawImage(r.topLeft(), self.image, r)
+            p.setCompositionMode(QPainter.CompositionMode_SourceOver)
+            p.setClipRegion(damage)  # everything else is as the last frame left it
+        else:
+            p.setCompositionMode(QPainter.CompositionMode_Source)
+            p.drawImage(0, 0, self.image)
+            p.setCompositionMode(QPainter.CompositionMode_SourceOver)
         for kind, what in self._steps:
             if kind == "seg":
                 p.drawImage(what[1], what[0])
@@ -333,6 +415,107 @@ class DragLayer:
         view.drawForeground(p, view.mapToScene(vp.rect()).boundingRect())
         p.end()
         self.frames += 1
+
+    def _record(self, view, vt, top: list) -> tuple | None:
+        """What fixes this frame's pixels beyond the still image, each part with the device box it can touch:
+        (top items, live items' (version, box), top items' (mode, version, box), retained overlay damage,
+        HUD parts' (x, y, w, h, key), rects of widgets over the viewport); None when some of it cannot be told (the frame is then painted whole)."""
+        vp = view.viewport()
+        fixed = view.foreground_rects()
+        if fixed is None:
+            return None
+        live = []
+        for kind, it in self._steps:
+            if kind == "live":
+                live.append((item_version(it), _device_box(it, vt) if _drawn(it) else None))
+        tops = []
+        retained = QRegion()
+        area = QRect(0, 0, vp.width(), vp.height())
+        for it in top:
+            prepare = getattr(it, "prepare_retained", None)
+            if not _drawn(it):
+                tops.append(("hidden", None, None))
+            elif prepare is not None:
+                # the overlay patches its retained layers now (before the clip is set) and says where they changed
+                t = it.deviceTransform(vt)
+                retained_now = (it.effectiveOpacity() == 1.0 and t.m12() == 0.0 and t.m21() == 0.0 and t.isAffine()
+                                and prepare(t, area) is not None)
+                tops.append(("retained" if retained_now else "box", item_version(it), _device_box(it, vt)))
+            else:
+                tops.append(("box", item_version(it), _device_box(it, vt)))
+            if prepare is not None:
+                retained = retained.united(it.take_damage())
+        return (top, live, tops, retained, fixed, _widget_rects(vp))
+
+def _changed(a: tuple, b: tuple) -> QRegion:
+    """Device px where frame record ``b`` may differ from ``a`` (both of :meth:`DragLayer._record`, same top items)."""
+    d = QRegion()
+    for (v0, b0), (v1, b1) in zip(a[1], b[1]):  # the moving items
+        if v0 != v1 or b0 != b1 or v1 is None:
+            for r in (b0, b1):
+                if r is not None:
+                    d = d.united(r)
+    for (m0, v0, b0), (m1, v1, b1) in zip(a[2], b[2]):  # overlay, zones, tool previews
+        if m0 == m1 == "retained":
+            continue  # the overlay's retained layers say where they changed (below)
+        if m0 != m1 or v0 != v1 or b0 != b1 or v1 is None:
+            for r in (b0, b1):
+                if r is not None:
+                    d = d.united(r)
+    d = d.united(b[3])
+    if a[4] != b[4]:  # scale bar, north arrow, legend: where one changed
+        same = set(a[4]) & set(b[4])
+        for x, y, w, h, _key in a[4] + b[4]:
+            if (x, y, w, h, _key) not in same:
+                d = d.united(QRect(x, y, w, h))
+    for r in a[5] + b[5]:  # child widgets: always (Qt paints them over every frame)
+        d = d.united(r)
+    return d
+
+
+def _device_box(item: QGraphicsItem, vt) -> QRect:
+    return item.deviceTransform(vt).mapRect(item.boundingRect()).toAlignedRect().adjusted(
+        -EDGE_PAD_PX, -EDGE_PAD_PX, EDGE_PAD_PX, EDGE_PAD_PX)
+
+
+def _store_key(vp: QWidget, painter: QPainter) -> tuple | None:
+    """What names the pixels ``painter`` paints into when they are the window's backing store (the last frame
+    on screen, kept by Qt between paints): the store's image, its size and the viewport's place in it; None
+    for any other device (a ``grab`` or ``render`` into a pixmap, which must get a whole frame)."""
+    engine = painter.paintEngine()
+    store = vp.backingStore()
+    if engine is None or store is None:
+        return None
+    device, target = engine.paintDevice(), store.paintDevice()
+    if device is None or target is None or shiboken6.getCppPointer(device)[0] != shiboken6.getCppPointer(target)[0]:
+        return None
+    serial = device.cacheKey() >> 32 if isinstance(device, QImage) else 0  # a new image after a resize
+    at = vp.mapTo(vp.window(), QPoint(0, 0))
+    size = store.size()
+    return (shiboken6.getCppPointer(device)[0], serial, size.width(), size.height(), at.x(), at.y())
+
+
+def _widget_rects(vp: QWidget) -> list[QRect]:
+    """Viewport px of every visible widget Qt paints over the viewport after it, every time it paints it (a
+    translucent banner would be laid down twice over pixels a frame left as they were)."""
+    rects = []
+    whole = vp.rect()
+    for c in vp.children():
+        if isinstance(c, QWidget) and c.isVisible() and not c.isWindow():
+            rects.append(c.geometry())
+    w = vp
+    while not w.isWindow():  # widgets stacked above the viewport or one of its ancestors, overlapping it
+        parent = w.parentWidget()
+        if parent is None:
+            break
+        kids = parent.findChildren(QWidget, "", Qt.FindDirectChildrenOnly)  # in stacking order, bottom first
+        for c in kids[kids.index(w) + 1:]:
+            if c.isVisible() and not c.isWindow():
+                r = QRect(vp.mapFrom(parent, c.geometry().topLeft()), c.geometry().size()).intersected(whole)
+                if not r.isEmpty():
+                    rects.append(r)
+        w = parent
+    return rects
 
 
 __all__ = ["DragLayer", "Versioned", "item_version", "paint_item"]

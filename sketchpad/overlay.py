@@ -45,6 +45,7 @@ from PySide6.QtGui import (
     QPen,
     QPixmap,
     QPolygonF,
+    QRegion,
     QTransform,
 )
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
@@ -52,7 +53,7 @@ from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
 from sketchpad import theme
 from sketchpad.drag_layer import Versioned
 from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr
-from sketchpad.retained import RetainedLayer
+from sketchpad.retained import RetainedLayer, add_damage
 from solver.model import Rig
 from solver.result import Result
 from solver.units import format_force
@@ -891,6 +892,8 @@ class ForceItem(_LayerItem):
         self._drawn: tuple = (None, {})
         self._drawn_xy = PerPoint(lambda p: _scene(p.xy))
         self._point_ids = PerPoint(operator.attrgetter("id"))
+        self._prepared: tuple | None = None  # (what it was prepared for, prepare_retained's result) until painted
+        self._lost_damage = QRegion()  # where band layers that went had pixels (take_damage)
 
     # --- building (outside paint) ---------------------------------------------------------------
     def pen_for(self, colour: QColor, width: float) -> QPen:
@@ -1159,31 +1162,62 @@ class ForceItem(_LayerItem):
 
         A drag step changes the labels and bands of the moved part of the rig only, so the frame
         costs in proportion to that.  Only for raster painting at 1:1 device pixels with a plain
-        zoom (not greyed); returns False (and draws nothing) otherwise.
+        zoom (not greyed); returns False (and draws nothing) otherwise.  The layers are brought up
+        to date by :meth:`prepare_retained`, which a drag frame calls before it paints (to learn
+        where the frame changed); here it hands over what it prepared.
         """
-        if self._draw_for is not self.labels or self._draw_grey != self.grey:
-            return False
         t = _plain_raster_transform(painter)
         if t is None:
+            self._prepared = None
             return False
         device = painter.device()
-        m11, m22, dx, dy = t.m11(), t.m22(), t.dx(), t.dy()
-        area = QRect(0, 0, device.width(), device.height())
-        bands = self._retained_bands(m11, m22, dx, dy, area)
-        if bands is None:
+        ready = self.prepare_retained(t, QRect(0, 0, device.width(), device.height()))
+        self._prepared = None  # used once: the next frame prepares again
+        if ready is None:
             return False
-        marks = self._retained_marks.update((m11, m22, dx, dy), area, self._mark_entries(m11, m22, dx, dy))
+        bands, marks, used, origin = ready
         painter.save()
         painter.resetTransform()
         for image, at, alpha in bands:
             painter.setOpacity(alpha)
             painter.drawImage(at, image)
         painter.setOpacity(1.0)
-        used = self._retained_marks.used()
         if not used.isEmpty():
-            painter.drawImage(used.topLeft() + area.topLeft(), marks, used)
+            painter.drawImage(used.topLeft() + origin, marks, used)
         painter.restore()
         return True
+
+    def prepare_retained(self, t: QTransform, area: QRect):
+        """Bring the retained layers up to date for a frame over ``area`` (device px, from 0, 0) at the plain
+        zoom and pan ``t`` (see :func:`_plain_raster_transform`): (band layers, marks image, its used part,
+        the area's top-left), or None when such a frame is painted without them (greyed, labels not prepared, layers too large).
+
+        What changed goes into the layers' damage (:meth:`take_damage`).  The result is kept for the
+        paint of the same frame, which takes it (a second call with nothing changed returns it too).
+        """
+        key = (t.m11(), t.m22(), t.dx(), t.dy(), area.x(), area.y(), area.width(), area.height(), self._ver, self.grey,
+               id(self.labels), id(self.bands), id(self.moved_points), id(self.arrows))
+        prepared = self._prepared
+        if prepared is not None and prepared[0] == key:
+            return prepared[1]
+        ready = None
+        if not self.grey and self._draw_for is self.labels and self._draw_grey == self.grey:
+            m11, m22, dx, dy = t.m11(), t.m22(), t.dx(), t.dy()
+            bands = self._retained_bands(m11, m22, dx, dy, area)
+            if bands is not None:
+                marks = self._retained_marks.update((m11, m22, dx, dy), area, self._mark_entries(m11, m22, dx, dy))
+                ready = (bands, marks, self._retained_marks.used(), area.topLeft())
+        self._prepared = (key, ready)
+        return ready
+
+    def take_damage(self):
+        """Device px where the retained layers' pixels changed since the last call (``RetainedLayer.take_damage``),
+        including the places of band layers that went; then forgotten."""
+        damage = self._retained_marks.take_damage().united(self._lost_damage)
+        for layer in self._band_layers.values():
+            damage = damage.united(layer.take_damage())
+        self._lost_damage = QRegion()
+        return damage
 
     def _mark_entries(self, m11: float, m22: float, dx: float, dy: float) -> list:
         """(key, device box, op) of the solved-point rings, anchor arrows, leaders and labels, in paint order.
@@ -1309,7 +1343,9 @@ class ForceItem(_LayerItem):
             live.add(rgba)
             out.append((layer.update((m11, m22, dx, dy, rgba), r, entries), r.topLeft(), alpha))
         for rgba in [k for k in self._band_layers if k not in live]:
-            del self._band_layers[rgba]
+            gone = self._band_layers.pop(rgba)
+            gone.clear()  # its pixels leave the frame: they are damage
+            self._lost_damage = add_damage(self._lost_damage, gone.take_damage())
         self._band_memo = new
         return out
 
@@ -1478,6 +1514,7 @@ class Legend(QWidget):
         self._frame_pix: tuple | None = None  # (key, pixmap) of the key without its lines
         self._line_pix: dict = {}  # (text, fraction of a px, dpr) -> pixmap of one summary line
         self.shown = False  # whether the view paints the key (the widget stays hidden)
+        self._areas: tuple | None = None  # (lines, frame, areas) of the last call of areas()
         self.hide()
 
     TITLE = "Rope use: tension × SF ÷ MBS"
@@ -1511,6 +1548,25 @@ class Legend(QWidget):
         if bool(on) != self.shown:
             self.shown = bool(on)
             self.parentWidget().update(self.geometry())
+
+    def areas(self) -> list[tuple[QRect, tuple]]:
+        """The viewport px :meth:`paint_on` paints in, in parts, each with what fixes its pixels: the box with the
+        title, ramp and zone key, then one band per summary line (a drag step mostly changes a number or two)."""
+        if not self.shown:
+            return []
+        g = self.geometry()
+        frame = (g.x(), g.y(), g.width(), g.height(), self.show_zones, self.grey, len(self.lines))
+        last = self._areas
+        if last is not None and last[0] is self.lines and last[1] == frame:
+            return last[2]  # set_content hands in a new list when the lines change
+        y0 = self._lines_top()
+        lh = self.fm.height()
+        out = [(g, frame)]
+        for i, line in enumerate(self.lines):  # a band per line, a little taller than the line (anti-aliased glyphs)
+            top = math.floor(y0 + i * lh) - 2
+            out.append((QRect(g.x(), g.y() + top, g.width(), math.ceil(lh) + 4), (frame, line)))
+        self._areas = (self.lines, frame, out)
+        return out
 
     def paint_on(self, painter: QPainter, dpr: float | None) -> None:
         """Paint the key at its place, ``painter`` in viewport pixels: on screen (``dpr``) blitted from a
@@ -1680,6 +1736,7 @@ class ResultOverlay(QObject):
         self.banner = Banner(view.viewport())
         self.legend = Legend(view.viewport())
         view.foreground_painters.append(self.legend.paint_on)
+        view.foreground_areas.append(self.legend.areas)
         view.viewport().installEventFilter(self)
         view.scale_changed.connect(lambda _s: self.relayout())
         self.rig: Rig | None = None  # the rig the drawn overlay belongs to
@@ -1774,8 +1831,10 @@ class ResultOverlay(QObject):
     def rebuild(self) -> None:
         """Labels, bands, zones and legend from the current rig and result, then place labels."""
         grey = self.failed is not None
-        self.force_item.grey = grey
-        self.zones_item.grey = grey
+        for item in (self.force_item, self.zones_item):
+            if item.grey != grey:  # a new look: Qt's cache of the item and the drag layer's still image must follow
+                item.grey = grey
+                item.update()
         if self.result is None or self.rig is None:
             self.force_item.bands, self.force_item.moved_points = [], []
             self.force_item.set_labels([], [], self._m_per_px())

@@ -8,6 +8,10 @@ redraws only the rectangles of drawables that appeared or went away, so a frame 
 proportion to what changed.  The pixels equal those of drawing every drawable afresh in order
 (source-over compositing is associative; up to 8-bit rounding), and the layer is composited
 where the drawables would have been drawn.  A new frame geometry (zoom, pan, size) redraws it all.
+
+Each layer also keeps the device rectangles where its pixels changed since a consumer last took
+them (:meth:`RetainedLayer.take_damage`): a frame drawn over the last one on screen repaints only
+there (``sketchpad.drag_layer``).
 """
 
 from __future__ import annotations
@@ -20,6 +24,8 @@ from PySide6.QtGui import QImage, QPainter, QPixmap, QRegion
 
 #: Redraw the whole layer when the changed rectangles cover more than this share of it.
 MAX_DIRTY_FRACTION = 0.35
+#: Damage kept as more rectangles than this is kept as their bounding rectangle (nobody took it for long).
+MAX_DAMAGE_RECTS = 64
 
 #: A drawable's operation: a pixmap blitted with its top-left at a point, or a callable painting
 #: (device px, the painter translated to the layer's area).
@@ -35,6 +41,7 @@ class RetainedLayer:
         self._entries: list | None = None
         self._ids: dict[int, tuple] = {}  # id -> entry of the last frame's entries (the list keeps them alive)
         self._used: QRect | None = None
+        self._damage = QRegion()  # device px whose pixels changed since take_damage
         self.full_redraws = 0  # counters for tests and benchmarks
         self.partial_redraws = 0
 
@@ -59,11 +66,11 @@ class RetainedLayer:
         full_key = (frame, area.x(), area.y(), area.width(), area.height())
         if entries is self._entries and self.image is not None and self.frame == full_key:
             return self.image  # the caller's very list of the last frame (a still frame)
-        last, last_ids = self._entries, self._ids
+        last, last_ids, last_frame = self._entries, self._ids, self.frame
         ids = {id(e): e for e in entries}
         self._entries, self._ids = entries, ids
         if self.image is None or self.frame != full_key or last is None:
-            return self._redraw_all(full_key, area, entries)
+            return self._redraw_all(full_key, area, entries, last, last_frame)
         if len(ids) == len(entries) and len(last_ids) == len(last):  # no entry object twice in a list
             dirty = _changed_boxes([e for i, e in last_ids.items() if i not in ids],
                                    [e for i, e in ids.items() if i not in last_ids])
@@ -73,7 +80,7 @@ class RetainedLayer:
             return self.image  # nothing changed
         self._used = None
         if sum(b.width() * b.height() for b in dirty) > MAX_DIRTY_FRACTION * area.width() * area.height():
-            return self._redraw_all(full_key, area, entries)
+            return self._redraw_all(full_key, area, entries, last, last_frame)
         region = QRegion()
         for b in dirty:
             region = region.united(b)
@@ -81,6 +88,7 @@ class RetainedLayer:
         if region.isEmpty():
             return self.image
         self.partial_redraws += 1
+        self._add_damage(region)
         p = QPainter(self.image)
         p.translate(-area.x(), -area.y())
         p.setClipRegion(region)
@@ -95,8 +103,11 @@ class RetainedLayer:
         p.end()
         return self.image
 
-    def _redraw_all(self, full_key: tuple, area: QRect, entries: list) -> QImage:
+    def _redraw_all(self, full_key: tuple, area: QRect, entries: list, last: list | None, last_frame: tuple | None) -> QImage:
         self.full_redraws += 1
+        if self.image is not None:  # the old drawables go wherever they were, the new ones come wherever they are
+            self._add_damage(_device_used(last, last_frame))
+        self._add_damage(_device_used(entries, full_key))
         image = self.image
         if image is None or image.width() != area.width() or image.height() != area.height():
             image = QImage(max(1, area.width()), max(1, area.height()), QImage.Format_ARGB32_Premultiplied)
@@ -125,7 +136,39 @@ class RetainedLayer:
 
     def clear(self) -> None:
         """Forget the pixels (the next update redraws everything)."""
+        if self.image is not None:
+            self._add_damage(_device_used(self._entries, self.frame))
         self.image, self.frame, self._entries, self._ids, self._used = None, None, None, {}, None
+
+    def take_damage(self) -> QRegion:
+        """The device px where the layer's pixels changed since the last call (or since it was made), and forget them.
+
+        A frame composited over the last one needs redrawing only there, as far as this layer goes.
+        """
+        damage, self._damage = self._damage, QRegion()
+        return damage
+
+    def _add_damage(self, r) -> None:
+        self._damage = add_damage(self._damage, r)
+
+
+def add_damage(damage: QRegion, r) -> QRegion:
+    """``damage`` with ``r`` (a QRect or QRegion) added; kept as its bounding rectangle past ``MAX_DAMAGE_RECTS``
+    rectangles (damage nobody takes for long must not grow without end)."""
+    if r.isEmpty():
+        return damage
+    d = damage.united(r)
+    if d.rectCount() > MAX_DAMAGE_RECTS:
+        d = QRegion(d.boundingRect())
+    return d
+
+
+def _device_used(entries: list | None, frame: tuple | None) -> QRect:
+    """Device px any of ``entries`` can touch inside the layer's area named by ``frame`` (empty without both)."""
+    if not entries or frame is None:
+        return QRect()
+    _frame, ax, ay, aw, ah = frame
+    return reduce(QRect.united, [e[1] for e in entries]).intersected(QRect(ax, ay, aw, ah))
 
 
 def _changed_boxes(gone: list, came: list) -> list[QRect]:
