@@ -571,51 +571,94 @@ class ObstacleCache:
 
     Between two drag steps only the moved part of the rig changes, so the spatial hash is updated by
     difference (obstacles gone are taken out, new ones put in) instead of being built again.  The
-    grid holds exactly what :func:`place_labels` would build from scratch.
+    grid holds exactly what :func:`place_labels` would build from scratch, each distinct obstacle once.
+    A list as long as the last one is compared entry by entry by identity (the overlay hands on the
+    very tuples of what a drag step did not move), so a step costs in proportion to what it moved.
     """
 
     def __init__(self) -> None:
         self.frame: tuple | None = None
         self.grid = _Grid()
-        self.boxes: set = set()
-        self.markers: set = set()
-        self.pieces: set = set()
         self._samples: dict = {}
-        self._lists: tuple = (None, None, None)  # the markers, pieces and boxes lists of the last update
+        self._kinds = [self._Kind(self._add_box, self._remove_box), self._Kind(self._add_marker, self._remove_marker),
+                       self._Kind(self._add_piece, self._remove_piece)]
+        self._to_px: Callable | None = None
+
+    class _Kind:
+        """One kind of obstacle: the last list handed in and how many times each distinct entry is in it."""
+
+        def __init__(self, add: Callable, remove: Callable) -> None:
+            self.add, self.remove = add, remove
+            self.last: list | None = None
+            self.counts: dict = {}
+
+        def update(self, new: list) -> None:
+            last, counts = self.last, self.counts
+            self.last = new
+            if new is last:
+                return
+            if last is not None and len(last) == len(new):
+                changed = [(o, n) for o, n in zip(last, new) if o is not n]
+                for o, _n in changed:
+                    c = counts[o] - 1
+                    if c:
+                        counts[o] = c
+                    else:
+                        del counts[o]
+                        self.remove(o)
+                for _o, n in changed:
+                    c = counts.get(n, 0)
+                    counts[n] = c + 1
+                    if not c:
+                        self.add(n)
+                return
+            fresh: dict = {}
+            for e in new:
+                fresh[e] = fresh.get(e, 0) + 1
+            for e in counts.keys() - fresh.keys():
+                self.remove(e)
+            for e in fresh.keys() - counts.keys():
+                self.add(e)
+            self.counts = fresh
 
     def update(self, frame: tuple, to_px: Callable, markers, pieces, boxes) -> _Grid:
         """The grid holding ``markers``, ``pieces`` and ``boxes`` at ``frame``; a list object handed in
         again (the caller keeps its lists while nothing in them changes) is taken as unchanged."""
-        grid = self.grid
         if frame != self.frame:
-            self.frame, grid = frame, _Grid()
-            self.grid, self.boxes, self.markers, self.pieces, self._samples = grid, set(), set(), set(), {}
-            self._lists = (None, None, None)
-        last_markers, last_pieces, last_boxes = self._lists
-        self._lists = (markers, pieces, boxes)
-        boxes = self.boxes if boxes is last_boxes else set(boxes)
-        markers = self.markers if markers is last_markers else set(markers)
-        pieces = self.pieces if pieces is last_pieces else set(pieces)
-        for xy, (bx, by, bw, bh) in self.boxes - boxes:
-            x, y = to_px(xy)
-            grid.remove_rect((x + bx, y + by, bw, bh))
-        for xy, (bx, by, bw, bh) in boxes - self.boxes:
-            x, y = to_px(xy)
-            grid.add_rect((x + bx, y + by, bw, bh))
-        for m in self.markers - markers:
-            grid.remove_rect(_marker_rect(*to_px(m)))
-        for m in markers - self.markers:
-            grid.add_rect(_marker_rect(*to_px(m)))
-        for piece in self.pieces - pieces:
-            for x, y in self._samples.pop(piece):
-                grid.remove_point(x, y, piece[0])
-        for piece in pieces - self.pieces:
-            owner, a, b = piece
-            pts = self._samples[piece] = _piece_samples(to_px(a), to_px(b))
-            for x, y in pts:
-                grid.add_point(x, y, owner)
-        self.boxes, self.markers, self.pieces = boxes, markers, pieces
-        return grid
+            self.frame, self.grid, self._samples = frame, _Grid(), {}
+            for kind in self._kinds:
+                kind.last, kind.counts = None, {}
+        self._to_px = to_px
+        for kind, new in zip(self._kinds, (boxes, markers, pieces)):
+            kind.update(new if isinstance(new, list) else list(new))
+        return self.grid
+
+    def _box_rect(self, box) -> tuple:
+        xy, (bx, by, bw, bh) = box
+        x, y = self._to_px(xy)
+        return (x + bx, y + by, bw, bh)
+
+    def _add_box(self, box) -> None:
+        self.grid.add_rect(self._box_rect(box))
+
+    def _remove_box(self, box) -> None:
+        self.grid.remove_rect(self._box_rect(box))
+
+    def _add_marker(self, m) -> None:
+        self.grid.add_rect(_marker_rect(*self._to_px(m)))
+
+    def _remove_marker(self, m) -> None:
+        self.grid.remove_rect(_marker_rect(*self._to_px(m)))
+
+    def _add_piece(self, piece) -> None:
+        owner, a, b = piece
+        pts = self._samples[piece] = _piece_samples(self._to_px(a), self._to_px(b))
+        for x, y in pts:
+            self.grid.add_point(x, y, owner)
+
+    def _remove_piece(self, piece) -> None:
+        for x, y in self._samples.pop(piece):
+            self.grid.remove_point(x, y, piece[0])
 
 
 def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float]], tuple[float, float]],
@@ -889,6 +932,7 @@ class ForceItem(_LayerItem):
         self._band_memo: dict = {}
         self._flat_pens: dict[int, QPen] = {}
         self._band_paths: dict[int, tuple] = {}  # per colour: (piece ends, (pen, path)) of the last set_bands
+        self._piece_memo: dict = {}  # id(segment record) -> (record, a, b, piece, colour) of the last set_bands
         self._drawn: tuple = (None, {})
         self._drawn_xy = PerPoint(lambda p: _scene(p.xy))
         self._point_ids = PerPoint(operator.attrgetter("id"))
@@ -917,14 +961,24 @@ class ForceItem(_LayerItem):
         pieces = []
         colours = _BUCKET_RGBA
         scale = BAND_BUCKETS / BAND_MAX_UTIL
+        last, memo = self._piece_memo, {}
+        pos_get, last_get = pos.get, last.get
         for s in result.segments:
-            a, b = pos.get(s.from_point), pos.get(s.to_point)
+            a, b = pos_get(s.from_point), pos_get(s.to_point)
             if a is None or b is None:
                 continue
-            pieces.append(((s.rope, s.index), a, b))
-            if s.tension_N <= SLACK_N:
+            # the very record at the very positions of the last call keeps its piece tuple and colour (the
+            # same objects: the placer's obstacle cache compares them by identity)
+            hit = last_get(id(s))
+            if hit is None or hit[0] is not s or hit[1] is not a or hit[2] is not b:
+                rgba = None if s.tension_N <= SLACK_N else \
+                    colours[int(round(min(max(s.utilization, 0.0), BAND_MAX_UTIL) * scale))]
+                hit = (s, a, b, ((s.rope, s.index), a, b), rgba)
+            memo[id(s)] = hit
+            pieces.append(hit[3])
+            rgba = hit[4]
+            if rgba is None:
                 continue
-            rgba = colours[int(round(min(max(s.utilization, 0.0), BAND_MAX_UTIL) * scale))]
             ends = by_colour.get(rgba)
             if ends is None:
                 by_colour[rgba] = [a, b]
@@ -933,6 +987,7 @@ class ForceItem(_LayerItem):
                 ends.append(b)
         old = self._band_paths
         self._band_paths = {}
+        self._piece_memo = memo
         self.bands = []
         self.band_ends = []
         for rgba in sorted(by_colour, key=_BUCKET_ORDER.__getitem__):
@@ -1757,6 +1812,7 @@ class ResultOverlay(QObject):
         self._name_box_cache: dict[tuple[str, str], tuple[float, float, float, float]] = {}
         self._name_box_of = PerPoint(self._name_box)  # name box of each point of the last rig
         self._markers_for: tuple = (None, None, [])  # (rig.points, result, markers) of the last call
+        self._pos: tuple = (None, {})  # (result, its scene_positions) of the last rebuild
 
     # --- public -------------------------------------------------------------------------------------
     @property
@@ -1843,6 +1899,7 @@ class ResultOverlay(QObject):
             return
         rig, result = self.rig, self.result
         pos = scene_positions(rig, result)
+        self._pos = (result, pos)
         self.pieces = self.force_item.set_bands(rig, result, pos)
         labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on], self._label_memo, pos)
         self.force_item.labels, self.force_item.arrows = labels, arrows
@@ -1908,7 +1965,11 @@ class ResultOverlay(QObject):
             return self._markers_for[2]
         markers = list(self.force_item._drawn_positions(rig).values())
         if result is not None:
-            markers += [(float(x), -float(y)) for x, y in result.points.values()]
+            if self._pos[0] is result:  # scene_positions' tuples: the same objects for points that did not move
+                pos = self._pos[1]
+                markers += [pos[pid] for pid in result.points]
+            else:
+                markers += [(float(x), -float(y)) for x, y in result.points.values()]
         markers = list(dict.fromkeys(markers))  # a fixed point's solved place is its drawn one
         self._markers_for = (rig.points, result, markers)
         return markers
