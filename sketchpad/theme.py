@@ -202,6 +202,11 @@ LEGEND_RAMP_H_PX = 10
 LEGEND_MARGIN_PX = 12
 
 
+#: The ramp's stops with their channels as floats (QColor.redF() and kin), read once: the overlay colours
+#: every new label of a drag step by its utilization.
+_RAMP_RGBF = [(u, (c.redF(), c.greenF(), c.blueF())) for u, c in UTIL_RAMP]
+
+
 def utilization_colour(u: float | None) -> QColor:
     """Colour of a utilization on the overlay ramp (linear between stops; None = capacity unknown)."""
     if u is None or u != u:
@@ -209,12 +214,10 @@ def utilization_colour(u: float | None) -> QColor:
     stops = UTIL_RAMP
     if u <= stops[0][0]:
         return QColor(stops[0][1])
-    for (u0, c0), (u1, c1) in zip(stops, stops[1:]):
+    for (u0, (r0, g0, b0)), (u1, (r1, g1, b1)) in zip(_RAMP_RGBF, _RAMP_RGBF[1:]):
         if u <= u1:
             t = (u - u0) / (u1 - u0)
-            return QColor.fromRgbF(c0.redF() + t * (c1.redF() - c0.redF()),
-                                   c0.greenF() + t * (c1.greenF() - c0.greenF()),
-                                   c0.blueF() + t * (c1.blueF() - c0.blueF()))
+            return QColor.fromRgbF(r0 + t * (r1 - r0), g0 + t * (g1 - g0), b0 + t * (b1 - b0))
     return QColor(stops[-1][1])
 
 
