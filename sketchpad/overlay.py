@@ -332,8 +332,18 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             if aid not in pos or p is None:
                 continue
             hold = result.hold_anchor_range.get(aid)
+            at = pos[aid]
+            # the very record, point and position of the last call (what a drag step did not move): its label
+            same = old.get(("N", aid))
+            if same is not None and same[0] is a and same[1] is p and same[2] is at and same[3] is hold:
+                if memo is not None:
+                    memo_new[("N", aid)] = same
+                if same[4][1] is not None:
+                    arrows.append(same[4][1])
+                labels.append(same[4][0])
+                continue
             # the numbers the label and arrow show (hashing the frozen record itself is slower)
-            mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, p.name, hold, pos[aid])
+            mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, p.name, hold, at)
             hit = old.get(mkey)
             if hit is None:
                 rad = math.radians(a.direction_deg)
@@ -356,6 +366,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
                 hit = (lab, arrow)
             if memo is not None:
                 memo_new[mkey] = hit
+                memo_new[("N", aid)] = (a, p, at, hold, hit)
             if hit[1] is not None:
                 arrows.append(hit[1])
             labels.append(hit[0])
