@@ -309,6 +309,13 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             prev, nxt = pos.get(rope.path[j - 1].at, at), pos.get(rope.path[j + 1].at, at)
             point = points.get(ps.at)
             hand = point is not None and not point.is_fixed and ps.at in forced
+            same = old.get(("A", key))  # the very turn and positions of the last call: its label, no hashing
+            if (same is not None and same[0] is turn and same[1] is at and same[2] is prev and same[3] is nxt
+                    and same[4] == hand):
+                if memo is not None:
+                    memo_new[("A", key)] = same
+                labels.append(same[5])
+                continue
             mkey = ("a", key, turn, at, prev, nxt, hand)
             lab = old.get(mkey)
             if lab is None:
@@ -324,6 +331,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
                                    base=at, prefer=outward)
             if memo is not None:
                 memo_new[mkey] = lab
+                memo_new[("A", key)] = (turn, at, prev, nxt, hand, lab)
             labels.append(lab)
 
     if "anchors" in layers:

@@ -891,6 +891,30 @@ def _anchor_records(s: System, f: np.ndarray, f_list: list, sf: float) -> dict[s
 
 
 _LAST_ANCHORS: list = [None]  # (anchor_at list, safety factor, force bits, records) of the last Result
+_LAST_TURNS: list = [None]  # (middle passes, piece direction bits, turn per pass) of the last Result
+
+
+def _deflections(s: System, st: State) -> dict[str, float]:
+    """Turn (degrees) of the rope at every middle pass; a pass whose two pieces point bit for bit as in the
+    last Result of the same structure keeps that Result's number (the same float object)."""
+    if not s.middle_passes:
+        return {}
+    bits = np.ascontiguousarray(st.u).view(np.int64)
+    last = _LAST_TURNS[0]
+    moved = None
+    if last is not None and last[0] is s.middle_passes and last[1].shape == bits.shape:
+        moved = (bits != last[1]).any(axis=1).tolist()
+    u_list = st.u.tolist()
+    turns = []
+    for j, mp in enumerate(s.middle_passes):
+        if moved is not None and not moved[mp.piece_in] and not moved[mp.piece_out]:
+            turns.append(last[2][j])
+            continue
+        (ax, ay), (bx, by) = u_list[mp.piece_in], u_list[mp.piece_out]
+        c = ax * bx + ay * by
+        turns.append(math.degrees(math.acos(max(-1.0, min(1.0, c)))))
+    _LAST_TURNS[0] = (s.middle_passes, bits.copy(), turns)
+    return {mp.key: t for mp, t in zip(s.middle_passes, turns)}
 
 
 def _build_result(s: System, sol: _Solved, motion: str) -> Result:
@@ -907,13 +931,7 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
     for hauled, hp, P in zip(s.run_hauled.tolist(), s.run_haul_point, s.run_P.tolist()):
         if hauled:
             haul[hp] = haul.get(hp, 0.0) + P
-    deflection = {}
-    if s.middle_passes:
-        u_list = st.u.tolist()
-        for mp in s.middle_passes:
-            (ax, ay), (bx, by) = u_list[mp.piece_in], u_list[mp.piece_out]
-            c = ax * bx + ay * by
-            deflection[mp.key] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
+    deflection = _deflections(s, st)
     scale = _force_scale(s, st)
     residual = _max_norm(st.g) if s.n_dof else 0.0
     warnings = _two_blocked(s, st, contact_stiffness(s)) if st.closed else []

@@ -15,6 +15,7 @@ def _fresh(rig, start, ideal=False):
     equilibrium._LAST_RECORDS[0] = None
     equilibrium._LAST_ANCHORS[0] = None
     equilibrium._LAST_POINTS[0] = None
+    equilibrium._LAST_TURNS[0] = None
     return solve(rig, start=start, ideal=ideal)
 
 
@@ -37,6 +38,7 @@ def test_drag_steps_keep_the_records_of_the_still_part_and_equal_a_fresh_build()
             assert all(s is not t for s, t in zip(got.segments, last.segments) if s.rope in ("main4", "sa4"))
             assert got.anchors["R0"] is last.anchors["R0"] and got.anchors["R4"] is not last.anchors["R4"]
             assert got.points["G0"] is last.points["G0"] and got.points["G4"] is not last.points["G4"]
+            assert got.deflection_deg["main0@R0"] is last.deflection_deg["main0@R0"]
         solve(moved, start=start, ideal=False)  # the records made again for this rig: the next step is what counts
         last = solve(moved, start=start, ideal=False)
         start = {pid: xy for pid, xy in last.points.items() if pid != "H4"}
