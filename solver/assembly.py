@@ -1034,14 +1034,14 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         for _ in range(100):
             Tk = wk * tt[owner]
             e = by_material(s, mk, Tk, "strain", kk)
-            de = by_material(s, mk, Tk, "dstrain", kk)
             f = np.bincount(owner, lk / (1.0 + e), minlength=len(runs)) - L0
-            fp = -np.bincount(owner, lk * wk * de / (1.0 + e) ** 2, minlength=len(runs))
             lo_t = np.where(f > 0, tt, lo_t)
             hi_t = np.where(f < 0, tt, hi_t)
             done = (np.abs(f) <= 1e-15 * L0) | (hi_t - lo_t <= 1e-15 * hi_t)
             if done.all():
-                break
+                break  # (the slope is needed only for another step)
+            de = by_material(s, mk, Tk, "dstrain", kk)
+            fp = -np.bincount(owner, lk * wk * de / (1.0 + e) ** 2, minlength=len(runs))
             # a flat f (fp = 0) gives no Newton step: inf, refused below like any step off the bracket
             step = tt - np.divide(f, fp, out=np.full(len(f), np.inf), where=fp != 0.0)
             bad = ~np.isfinite(step) | (step <= lo_t) | (step >= hi_t)
