@@ -65,20 +65,52 @@ def warm_start(rig: Rig, good_rig: Rig | None, good: Result | None) -> dict[str,
     """
     if good is None or good_rig is None or not good.ok:
         return None
-    old = {p.id: (p.x, p.y) for p in good_rig.points}
+    solved = good.points
     start = {}
-    for p in rig.points:
-        if p.is_fixed or p.id not in good.points:
-            continue
-        if old.get(p.id) == (p.x, p.y):
-            start[p.id] = tuple(good.points[p.id])
+    for p in _unmoved(good_rig, rig):
+        if not p.is_fixed:
+            xy = solved.get(p.id)
+            if xy is not None:
+                start[p.id] = xy if type(xy) is tuple else tuple(xy)
     return start or None
+
+
+def _unmoved(before: Rig, after: Rig) -> list:
+    """The points of ``after`` drawn where a point of the same id is drawn in ``before``.
+
+    A drag step's rig shares every Point object but the moved one with the last rig, in the same
+    order: those are taken as they are, without building a table of every point.
+    """
+    a, b = before.points, after.points
+    if len(a) == len(b):
+        out = []
+        for p, q in zip(a, b):
+            if p is q or (p.id == q.id and p.x == q.x and p.y == q.y):
+                out.append(q)
+            elif p.id != q.id:
+                break  # another order: look each point up
+        else:
+            return out
+    old = {p.id: (p.x, p.y) for p in a}
+    return [q for q in b if old.get(q.id) == (q.x, q.y)]
 
 
 def moved_points(before: Rig, after: Rig) -> frozenset[str]:
     """Ids of the points whose drawn position differs between two rigs (added or removed ones too)."""
-    old = {p.id: (p.x, p.y) for p in before.points}
-    new = {p.id: (p.x, p.y) for p in after.points}
+    a, b = before.points, after.points
+    if len(a) == len(b):
+        out = []
+        for p, q in zip(a, b):
+            if p is q:
+                continue
+            if p.id != q.id:
+                break  # another order: compare by id
+            if p.x != q.x or p.y != q.y:
+                out.append(p.id)
+        else:
+            return frozenset(out)
+    old = {p.id: (p.x, p.y) for p in a}
+    new = {p.id: (p.x, p.y) for p in b}
     return frozenset(pid for pid in old.keys() | new.keys() if old.get(pid) != new.get(pid))
 
 

@@ -121,3 +121,36 @@ def test_a_drag_step_shows_the_live_actual_mechanical_advantage_and_the_ideal_re
     assert f"{sched.result.ma_ideal:.2f} ideal" in next(t for t in summary_lines(doc.rig, sched.result)
                                                         if t.startswith("MA "))
     sched.close()
+
+
+def test_moved_points_and_warm_start_by_identity_equal_the_tables_of_every_point():
+    """The pairwise shortcut (a drag step shares every Point object but the moved one) gives what tables of
+    every point by id give, also when points are reordered, added or removed."""
+    import dataclasses
+
+    from sketchpad.live_solve import moved_points, warm_start
+    from solver.equilibrium import solve
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    def tables_moved(before, after):
+        old = {p.id: (p.x, p.y) for p in before.points}
+        new = {p.id: (p.x, p.y) for p in after.points}
+        return frozenset(pid for pid in old.keys() | new.keys() if old.get(pid) != new.get(pid))
+
+    def tables_start(rig, good_rig, good):
+        old = {p.id: (p.x, p.y) for p in good_rig.points}
+        return {p.id: tuple(good.points[p.id]) for p in rig.points
+                if not p.is_fixed and p.id in good.points and old.get(p.id) == (p.x, p.y)} or None
+
+    rig = fifty_rope_rig()
+    good = solve(rig)
+    h, g = rig.point("H4"), rig.point("G2")
+    dragged = rig.moved("H4", h.x + 1.0, h.y).moved("G2", g.x, g.y - 0.5)
+    same_place = dataclasses.replace(rig, points=tuple(dataclasses.replace(p) for p in rig.points))  # equal copies
+    reordered = dataclasses.replace(dragged, points=tuple(reversed(dragged.points)))
+    fewer = dataclasses.replace(dragged, points=dragged.points[:-3])
+    for after in (dragged, same_place, reordered, fewer, rig):
+        assert moved_points(rig, after) == tables_moved(rig, after)
+        assert moved_points(after, rig) == tables_moved(after, rig)
+        assert warm_start(after, rig, good) == tables_start(after, rig, good)
+    assert moved_points(rig, dragged) == {"H4", "G2"}
