@@ -1375,36 +1375,48 @@ class ForceItem(_LayerItem):
             rgba = colour.rgba()
             kept = memo.get(rgba)
             if kept is not None and kept[0] == ends:
-                _ends, pieces, entries, r = kept
+                _ends, pieces, entries, r, hits = kept
             else:
                 flat = self._flat_pens.get(rgba)
                 if flat is None:
                     flat = self._flat_pens[rgba] = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
-                old_pieces = kept[1] if kept is not None else {}
-                pieces = {}
-                for i in range(0, len(ends) - 1, 2):
-                    k = (ends[i], ends[i + 1])
-                    hit = old_pieces.get(k)
-                    if hit is None:
-                        (sa, ta), (sb, tb) = k
-                        a, b = (sa * m11 + dx, ta * m22 + dy), (sb * m11 + dx, tb * m22 + dy)
-                        x0, y0 = math.floor(min(a[0], b[0])) - pad, math.floor(min(a[1], b[1])) - pad
-                        w, h = math.ceil(abs(a[0] - b[0])) + 2 * pad + 1, math.ceil(abs(a[1] - b[1])) + 2 * pad + 1
-                        hit = (((a, b), QRect(x0, y0, w, h),
-                                lambda p, a=a, b=b, f=flat, c=rgba: self._draw_band_piece(p, f, c, half, a, b)),
-                               x0, y0, x0 + w - 1, y0 + h - 1)
-                    pieces[k] = hit
-                if not pieces:
+
+                def piece(sa, ta, sb, tb, flat=flat, rgba=rgba):
+                    a, b = (sa * m11 + dx, ta * m22 + dy), (sb * m11 + dx, tb * m22 + dy)
+                    x0, y0 = math.floor(min(a[0], b[0])) - pad, math.floor(min(a[1], b[1])) - pad
+                    w, h = math.ceil(abs(a[0] - b[0])) + 2 * pad + 1, math.ceil(abs(a[1] - b[1])) + 2 * pad + 1
+                    return (((a, b), QRect(x0, y0, w, h),
+                             lambda p, a=a, b=b, f=flat, c=rgba: self._draw_band_piece(p, f, c, half, a, b)),
+                            x0, y0, x0 + w - 1, y0 + h - 1)
+
+                if kept is not None and len(kept[0]) == len(ends):
+                    # the same number of pieces: set_bands hands on the very end tuples of a piece that did
+                    # not move, so only pieces whose ends are other objects are made again
+                    old_ends, hits, pieces = kept[0], list(kept[4]), None
+                    for i in range(0, len(ends) - 1, 2):
+                        ea, eb = ends[i], ends[i + 1]
+                        if ea is not old_ends[i] or eb is not old_ends[i + 1]:
+                            hits[i // 2] = piece(*ea, *eb)
+                else:
+                    old_pieces = (kept[1] or {}) if kept is not None else {}
+                    pieces = {}
+                    for i in range(0, len(ends) - 1, 2):
+                        k = (ends[i], ends[i + 1])
+                        hit = old_pieces.get(k)
+                        if hit is None:
+                            hit = piece(*k[0], *k[1])
+                        pieces[k] = hit
+                    hits = list(pieces.values()) if len(pieces) * 2 == len(ends) else \
+                        [pieces[(ends[i], ends[i + 1])] for i in range(0, len(ends) - 1, 2)]  # a piece drawn twice
+                if not hits:
                     continue
-                hits = list(pieces.values()) if len(pieces) * 2 == len(ends) else \
-                    [pieces[(ends[i], ends[i + 1])] for i in range(0, len(ends) - 1, 2)]  # a piece drawn twice
                 entries = [h[0] for h in hits]
                 # the layer's area snapped to 64 px, so a piece moving a little does not resize it
                 g = 64
                 x0, y0 = min(h[1] for h in hits) // g * g, min(h[2] for h in hits) // g * g
                 x1, y1 = max(h[3] for h in hits) // g * g + g, max(h[4] for h in hits) // g * g + g
                 r = QRect(x0, y0, x1 - x0, y1 - y0).intersected(area)
-            new[rgba] = (list(ends), pieces, entries, r)
+            new[rgba] = (list(ends), pieces, entries, r, hits)
             if r.isEmpty():
                 continue
             total += r.width() * r.height()
