@@ -43,6 +43,7 @@ from PySide6.QtWidgets import (
 )
 
 from sketchpad import theme
+from sketchpad.drag_layer import Tracked
 from sketchpad.fields import QuantityField
 from sketchpad.geometry import to_scene, to_site
 from solver import units
@@ -167,8 +168,9 @@ def default_placement(rig: Rig, size_px: tuple[int, int], centre: tuple[float, f
 
 
 # --- the canvas item ---------------------------------------------------------------------
-class BackgroundItem(QGraphicsPixmapItem):
-    """The site picture, drawn under everything, never selectable, transparent to clicks."""
+class BackgroundItem(Tracked, QGraphicsPixmapItem):
+    """The site picture, drawn under everything, never selectable, transparent to clicks (its z, flags and
+    scene tracked by the drag layer, what it shows fingerprinted: ``drag_layer.item_version``)."""
 
     def __init__(self) -> None:
         super().__init__()

@@ -28,7 +28,7 @@ from PySide6.QtGui import (
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsScene, QGraphicsView
 
 from sketchpad import theme
-from sketchpad.drag_layer import DragLayer
+from sketchpad.drag_layer import DragLayer, note_structure_change
 from sketchpad.geometry import to_scene, to_site
 from sketchpad.glyphs import paint_north_arrow
 from sketchpad.items import (
@@ -75,6 +75,23 @@ class SketchScene(QGraphicsScene):
     """Holds one item per model thing, keyed by ``(kind, id)``, kept in step with the Rig by :meth:`sync`."""
 
     synced = Signal(object)  # the Rig just shown
+
+    #: Every way to put an item into this scene or take one out bumps ``drag_layer``'s structure counter: the
+    #: overrides below (Python's calls; Qt never calls them itself) and a tracked parent's ``itemChange``
+    #: (a child made or reparented under it).  The drag layer may then skip reading the whole scene each frame.
+    tracks_structure = True
+
+    def addItem(self, item) -> None:  # noqa: N802
+        note_structure_change()
+        super().addItem(item)
+
+    def removeItem(self, item) -> None:  # noqa: N802
+        note_structure_change()
+        super().removeItem(item)
+
+    def clear(self) -> None:
+        note_structure_change()
+        super().clear()
 
     def __init__(self, parent=None) -> None:
         super().__init__(parent)
@@ -264,6 +281,24 @@ class SketchScene(QGraphicsScene):
         """Add a result-overlay item above the model items (and below tool previews)."""
         item.setZValue(theme.Z_OVERLAY)
         self.addItem(item)
+
+
+def _noting(name: str):
+    """``QGraphicsScene.<name>`` (it adds, removes or regroups items in C++) bumping the structure counter first."""
+    base = getattr(QGraphicsScene, name)
+
+    def method(self, *args, **kwargs):
+        note_structure_change()
+        return base(self, *args, **kwargs)
+
+    method.__name__ = name
+    method.__doc__ = f"QGraphicsScene.{name}, telling the drag layer the scene's items changed."
+    return method
+
+
+for _name in ("addEllipse", "addLine", "addPath", "addPixmap", "addPolygon", "addRect", "addSimpleText", "addText",
+              "addWidget", "createItemGroup", "destroyItemGroup"):
+    setattr(SketchScene, _name, _noting(_name))
 
 
 @dataclass

@@ -10,14 +10,30 @@ items, the overlay and tool previews, and the HUD, drawn in Qt's stacking order.
 Correctness (a stale pixel would mislead a rigger): every item below the overlay carries a
 version bumped on each change Qt or our code makes to it (:class:`Versioned`), or a fingerprint
 of what it shows; a still item whose version changed, an item added or removed, or a new view
-transform, size, grid or render hints drops the image.  Still items above a changing one in the
-stacking order whose device boxes overlap it (or overlap such an item) go into small cached run
-images laid down after it, so nothing is painted out of order.  Items are painted as Qt paints
-them: device transform, effective opacity, a fresh painter state, and an item with a device cache
-drawn into a transparent image over its device box first, as Qt's cache is (text and edges round
-differently otherwise).  Where Qt would cache only the visible part of an item (one reaching well
-past the view) the layer is off; so it is at a device pixel ratio other than 1.  The frame equals
-Qt's own to 8-bit rounding of compositing, 2/255 at most at anti-aliased edges (tested).
+transform, size, grid or render hints drops the image.
+
+Bookkeeping in proportion to what changed: a frame does not read the whole scene when it need
+not.  Each version bump is logged for every layer (the item's id), so a frame reads the versions
+of the logged items only, plus the fingerprints of the few items without a version (the site
+picture, feature names).  The stacking order found by the last full read (:func:`stacking_order`,
+a query over the whole scene) is kept while a structure counter is unchanged: it is bumped by a
+:class:`Tracked` item's scene, parent, child, z, flags, visibility or opacity change (all reach
+``itemChange`` whoever makes them) or ``stackBefore``, and by the scene's own adds and removes
+(``SketchScene`` says ``tracks_structure``).  Only when the scene says so and every item in it is
+tracked may a frame skip the full read; an untracked item (a tool's preview), more logged changes
+than the log holds, or any bump reads it all again.  Not seen: an item's C++ object destroyed while
+in the scene (``shiboken6.delete``; nothing here does that).
+
+Still items above a changing one in the stacking order whose device boxes overlap it (or overlap
+such an item) go into small cached run images laid down after it, so nothing is painted out of
+order.  Items are painted as Qt paints them: device transform, effective opacity, a fresh painter
+state, and a still item with a device cache drawn into a transparent image over its device box
+first, as Qt's cache is (text and edges round differently otherwise).  A moving item is drawn
+straight onto the frame: a cache image of it would be thrown away each frame, and its pixels stay
+within the same 2/255 of Qt's (tested; our items draw their text from cached pixmaps either way).
+Where Qt would cache only the visible part of an item (one reaching well past the view) the layer
+is off; so it is at a device pixel ratio other than 1.  The frame equals Qt's own to 8-bit
+rounding of compositing, 2/255 at most at anti-aliased edges (tested).
 
 Damage: Qt's raster backing store keeps the last frame's pixels, so a frame painted into it right
 after one of ours needs redrawing only where the two differ.  Each frame on screen records what
@@ -38,6 +54,7 @@ on the store's own pixels).
 from __future__ import annotations
 
 import logging
+import weakref
 
 import shiboken6
 from PySide6.QtCore import QPoint, QRect, QRectF, Qt
@@ -67,23 +84,79 @@ _ALL_HINTS = (QPainter.Antialiasing | QPainter.TextAntialiasing | QPainter.Smoot
               | QPainter.LosslessImageRendering | QPainter.VerticalSubpixelPositioning | QPainter.NonCosmeticBrushPatterns)
 
 
-class Versioned:
+#: Item changes that can alter a scene's item set or stacking order (Qt sends each through ``itemChange``).
+_STRUCTURAL = frozenset({
+    QGraphicsItem.ItemSceneChange, QGraphicsItem.ItemSceneHasChanged, QGraphicsItem.ItemParentChange,
+    QGraphicsItem.ItemParentHasChanged, QGraphicsItem.ItemChildAddedChange, QGraphicsItem.ItemChildRemovedChange,
+    QGraphicsItem.ItemZValueChange, QGraphicsItem.ItemZValueHasChanged, QGraphicsItem.ItemFlagsChange,
+    QGraphicsItem.ItemFlagsHaveChanged,
+    # Qt's query leaves hidden and fully transparent items out, so :func:`stacking_order` places them by z alone:
+    # once shown they need placing again
+    QGraphicsItem.ItemVisibleHasChanged, QGraphicsItem.ItemOpacityHasChanged})
+
+#: Bumped on every change that may alter any scene's item set or stacking order that this module hears of:
+#: a tracked item's structural ``itemChange`` or ``stackBefore``, and the adds and removes of a scene that
+#: says ``tracks_structure`` (:func:`note_structure_change`).  A layer whose scene holds tracked items only
+#: and that saw this counter unchanged knows the stacking order it found last is still Qt's.
+_structure = [0]
+#: Per live :class:`DragLayer` (by id): the ids of ``Versioned`` items whose version changed since its last frame.
+_logs: dict[int, set] = {}
+#: In a log: more ids came than ``MAX_LOGGED`` (nobody painted for long): the next frame looks at every item.
+OVERFLOW = -1
+MAX_LOGGED = 4096
+
+
+def note_structure_change() -> None:
+    """Say that a scene's item set or stacking order may have changed (a scene's addItem, removeItem, ...)."""
+    _structure[0] += 1
+
+
+def _note(item) -> None:
+    k = id(item)
+    for log in _logs.values():
+        log.add(k)
+        if len(log) > MAX_LOGGED:
+            log.clear()
+            log.add(OVERFLOW)
+
+
+class Tracked:
+    """Mixin (before the Qt base) telling this module of every change of a graphics item that may alter the
+    scene's item set or stacking order: its scene, parent, children, z and flags (Qt sends each through
+    ``itemChange``, for any caller) and ``stackBefore`` (which Qt does not).  What it shows is not tracked:
+    a ``Tracked`` item that is not :class:`Versioned` is fingerprinted every frame (:func:`item_version`)."""
+
+    def itemChange(self, change, value):  # noqa: N802
+        if change in _STRUCTURAL:
+            _structure[0] += 1
+        return super().itemChange(change, value)
+
+    def stackBefore(self, sibling) -> None:  # noqa: N802
+        _structure[0] += 1
+        super().stackBefore(sibling)
+
+
+class Versioned(Tracked):
     """Mixin (before the Qt base) giving a graphics item a ``_ver`` bumped on every change: our code's
     ``update()`` and ``prepareGeometryChange()`` and every Qt ``itemChange`` (selection, position,
-    transform, visibility, opacity, z, flags, scene)."""
+    transform, visibility, opacity, z, flags, scene); each bump is also logged for every drag layer
+    (:func:`_note`), so a frame learns what changed without reading every item's version."""
 
     _ver = 0
 
     def update(self, *args) -> None:
         self._ver += 1
+        _note(self)
         super().update(*args)
 
     def prepareGeometryChange(self) -> None:  # noqa: N802
         self._ver += 1
+        _note(self)
         super().prepareGeometryChange()
 
     def itemChange(self, change, value):  # noqa: N802
         self._ver += 1
+        _note(self)
         return super().itemChange(change, value)
 
 
@@ -104,11 +177,12 @@ def item_version(item: QGraphicsItem):
     return None
 
 
-def paint_item(painter: QPainter, item: QGraphicsItem, view_transform, widget, hints) -> None:
+def paint_item(painter: QPainter, item: QGraphicsItem, view_transform, widget, hints, direct: bool = False) -> None:
     """Paint ``item`` as Qt paints it for the view: its device transform, effective opacity and a fresh
     state; an item with a device-coordinate cache is drawn as Qt draws its cache, into a transparent
     image over its device box grown by a pixel, which is then blitted (text and anti-aliased edges
-    round differently when drawn straight onto the frame)."""
+    round differently when drawn straight onto the frame), unless ``direct`` (a moving item, whose
+    image would be made and thrown away every frame: 8-bit rounding at edges only, 2/255 at most)."""
     painter.save()
     painter.setRenderHints(_ALL_HINTS, False)
     painter.setRenderHints(hints, True)
@@ -125,7 +199,7 @@ def paint_item(painter: QPainter, item: QGraphicsItem, view_transform, widget, h
     opt.exposedRect = rect
     opt.rect = rect.toAlignedRect()
     opt.palette = widget.palette()
-    if item.cacheMode() == QGraphicsItem.DeviceCoordinateCache and t.type().value <= QTransform.TxScale.value:
+    if not direct and item.cacheMode() == QGraphicsItem.DeviceCoordinateCache and t.type().value <= QTransform.TxScale.value:
         box = t.mapRect(rect).toRect().adjusted(-1, -1, 1, 1)  # as qgraphicsscene.cpp sizes the cache
         if box.width() > 0 and box.height() > 0:
             cache = QImage(box.width(), box.height(), QImage.Format_ARGB32_Premultiplied)
@@ -202,7 +276,10 @@ class DragLayer:
         self._order: list | None = None  # items below the overlay, in stacking order, at the build
         self._still: list[int] = []  # indices in ``_order`` of the items painted into the image
         self._built: list = []  # versions of ``_order`` at the build
-        self._stack: tuple | None = None  # (scene items, their z, below, top) of the last frame
+        self._still_set: frozenset[int] = frozenset()
+        # (below, top, scene, _structure at the scan, {id: index in below} and indices of the items fingerprinted
+        # every frame -- both None when the scan must be done every frame) of the last scan
+        self._stack: tuple | None = None
         self._steps: list = []  # above the image in stacking order: ("live", item) drawn every frame, ("seg", (image, top-left))
         self._last: tuple | None = None  # (frame, items, versions) of the last frame
         self._last_moved: frozenset | None = None
@@ -211,6 +288,12 @@ class DragLayer:
         self.frames = 0
         self.damage_frames = 0  # frames that redrew only where they differ from the last one
         self.last_damage: QRegion | None = None  # what the last of them redrew
+        self.scans = 0  # frames that read the whole scene (the stacking order or every version could not be known)
+        self._log: set = set()  # ids of Versioned items changed since the last frame (filled by ``_note``)
+        self._since_build: set[int] = set()  # indices in ``_order`` whose version may differ from ``_built``
+        self._partly: dict = {}  # id -> (key, item, answer) of :meth:`_top_partly_cached`
+        _logs[id(self)] = self._log
+        weakref.finalize(self, _logs.pop, id(self), None)
 
     def forget_screen(self) -> None:
         """The viewport's pixels on screen may no longer be a frame of this layer: the next frame is painted whole."""
@@ -243,37 +326,58 @@ class DragLayer:
         return painted
 
     def _paint(self, view, frame: tuple, region: QRegion | None) -> bool:
-        raw = view.scene().items(Qt.AscendingOrder)
-        zs = [it.zValue() for it in raw]
-        stack = self._stack
-        if stack is not None and stack[0] == raw and stack[1] == zs:  # no item added, removed or restacked
-            below, top = stack[2], stack[3]
+        scene = view.scene()
+        log = self._log
+        stack, last = self._stack, self._last
+        if (stack is not None and stack[3] == _structure[0] and stack[2] is scene and stack[4] is not None
+                and last is not None and last[1] is stack[0] and OVERFLOW not in log):
+            # nothing added, removed or restacked (every item tracked, the counter unchanged): read only the
+            # versions that changed (logged) and the fingerprints of items without a version
+            below, top, _scene, _serial, index, fingerprinted = stack
+            changed = [index[k] for k in log if k in index]
+            log.clear()
+            changed.extend(fingerprinted)
+            prev = last[2]
+            versions = list(prev)
+            for i in changed:
+                it = below[i]
+                versions[i] = it._ver if isinstance(it, Versioned) else item_version(it)
+            moved_now = frozenset(i for i in changed if versions[i] != prev[i])
+            unknown = any(versions[i] is None for i in changed)  # only fingerprinted items can be None, all in ``changed``
         else:
-            below, top = [], []
-            for root in stacking_order(view.scene()):
-                (below if root.zValue() < theme.Z_OVERLAY else top).extend(_with_children(root))
-            self._stack = (raw, zs, below, top)
-        versions = [it._ver if isinstance(it, Versioned) else item_version(it) for it in below]
-        last, self._last = self._last, (frame, below, versions)
-        if any(v is None for v in versions):
+            log.clear()  # before reading: a change from here on is seen by the next frame
+            below, top = self._scan(scene)
+            versions = [it._ver if isinstance(it, Versioned) else item_version(it) for it in below]
+            moved_now = None  # not known: computed from the whole lists when needed
+            self._since_build = set(range(len(below)))
+            unknown = any(v is None for v in versions)
+        self._last = (frame, below, versions)
+        if unknown:
             self.drop()
             return False
         vt = view.viewportTransform()
         vp = view.viewport()
-        if any(_partly_cached(it, vt, vp) for it in top):  # drawn here every frame, as Qt draws them
+        if self._top_partly_cached(top, frame, vt, vp):  # drawn here every frame, as Qt draws them
             self.drop()
             return False
+        if moved_now is not None:
+            self._since_build.update(moved_now)
         if self.image is not None:
-            built = self._built
-            if frame == self._frame and below is self._order and all(versions[i] == built[i] for i in self._still):
+            built, still = self._built, self._still_set
+            if frame == self._frame and below is self._order and all(
+                    versions[i] == built[i] for i in self._since_build if i in still):
+                self._since_build.clear()  # every still item is as built: from now on only what changes is looked at
                 self._paint_frame(view, below, top, region)
                 return True
             self.drop()
         # a drag: the same items changed since the last frame as in the frame before, at the same view
-        if last is None or last[0] != frame or last[1] != below:
+        if last is None or last[0] != frame or (last[1] is not below and last[1] != below):
             self._last_moved = None
             return False
-        moved = frozenset(i for i, (v0, v1) in enumerate(zip(last[2], versions)) if v0 != v1)
+        if moved_now is not None:
+            moved = moved_now
+        else:
+            moved = frozenset(i for i, (v0, v1) in enumerate(zip(last[2], versions)) if v0 != v1)
         if not moved:  # a frame for the overlay alone (a solve arriving) keeps the drag's pattern
             return False
         stable, self._last_moved = moved == self._last_moved, moved
@@ -285,6 +389,53 @@ class DragLayer:
         self._build(view, frame, below, versions, plan)
         self._paint_frame(view, below, top, region)
         return True
+
+    def _top_partly_cached(self, top: list, frame: tuple, vt, vp) -> bool:
+        """Whether an item at or above the overlay is cached by Qt only in part (:func:`_partly_cached`).
+
+        A top-level ``Versioned`` item's answer is kept while its version, cache mode and the view
+        (``frame``: transform and size) are: its box, visibility, opacity and flags change only with
+        its version; its cache mode is read each time (``setCacheMode`` is no item change)."""
+        memo, known = self._partly, {}
+        for it in top:
+            if isinstance(it, Versioned) and it.parentItem() is None:
+                key = (frame, it._ver, it.cacheMode())
+                got = memo.get(id(it))
+                if got is not None and got[0] == key and got[1] is it:
+                    part = got[2]
+                else:
+                    part = _partly_cached(it, vt, vp)
+                known[id(it)] = (key, it, part)
+            else:
+                part = _partly_cached(it, vt, vp)
+            if part:
+                self._partly = known
+                return True
+        self._partly = known
+        return False
+
+    def _scan(self, scene) -> tuple[list, list]:
+        """The items below the overlay and at or above it, in Qt's stacking order, read from the whole scene.
+
+        The very lists of the last scan when they hold the same items in the same order.  The stack also notes
+        whether later frames may skip the scan: when ``scene`` says it ``tracks_structure`` and every item in
+        it is :class:`Tracked`, any change of its item set or stacking order bumps ``_structure`` (an item added
+        to or taken from the scene goes through the scene's own methods or a tracked parent's ``itemChange``),
+        and every item's pixels are told by a logged version or a fingerprint read every frame."""
+        self.scans += 1
+        serial = _structure[0]
+        below, top = [], []
+        for root in stacking_order(scene):
+            (below if root.zValue() < theme.Z_OVERLAY else top).extend(_with_children(root))
+        stack = self._stack
+        if stack is not None and stack[2] is scene and stack[0] == below and stack[1] == top:
+            below, top = stack[0], stack[1]  # the same items in the same order: the still image may be kept
+        index = fingerprinted = None
+        if getattr(scene, "tracks_structure", False) and all(isinstance(it, Tracked) for it in below + top):
+            index = {id(it): i for i, it in enumerate(below)}
+            fingerprinted = [i for i, it in enumerate(below) if not isinstance(it, Versioned)]
+        self._stack = (below, top, scene, serial, index, fingerprinted)
+        return below, top
 
     def _closure(self, view, below: list, moved: frozenset) -> list | None:
         """Stacking-order plan of the frame: ("live", item) for each moved item and ("seg", [items]) for each run
@@ -364,6 +515,7 @@ class DragLayer:
             sp.end()
             steps.append(("seg", (seg, r.topLeft())))
         self.image, self._frame, self._order, self._still, self._built, self._steps = image, frame, below, still, versions, steps
+        self._still_set, self._since_build = frozenset(still), set()
         self.builds += 1
 
     def _paint_frame(self, view, below: list, top: list, region: QRegion | None) -> None:
@@ -405,7 +557,7 @@ class DragLayer:
             if kind == "seg":
                 p.drawImage(what[1], what[0])
             elif _drawn(what):
-                paint_item(p, what, vt, vp, hints)
+                paint_item(p, what, vt, vp, hints, direct=True)
         for it in top:
             if _drawn(it):
                 paint_item(p, it, vt, vp, hints)

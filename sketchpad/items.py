@@ -33,7 +33,7 @@ from PySide6.QtGui import (
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsSimpleTextItem, QStyleOptionGraphicsItem
 
 from sketchpad import theme
-from sketchpad.drag_layer import Versioned
+from sketchpad.drag_layer import Tracked, Versioned
 from sketchpad.geometry import to_scene
 from solver.model import Feature, Force, Point, Rope
 
@@ -721,6 +721,11 @@ class ForceItem(SketchItem):
 
 
 # --- site features ----------------------------------------------------------------------------
+class FeatureLabel(Tracked, QGraphicsSimpleTextItem):
+    """A feature's name (a child of its :class:`FeatureItem`): its z, flags and parent are tracked by the drag
+    layer; what it shows is fingerprinted (``drag_layer.item_version``)."""
+
+
 class FeatureItem(SketchItem):
     """A site feature in metres: water, boulder, hazard (polygons), bank or note (lines), with its label."""
 
@@ -730,7 +735,7 @@ class FeatureItem(SketchItem):
         self.feature = feature
         self._path = QPainterPath()
         self._closed = True
-        self._label = QGraphicsSimpleTextItem(self)
+        self._label = FeatureLabel(self)
         self._label.setFlag(QGraphicsItem.ItemIgnoresTransformations, True)
         self._label.setFont(theme.font(theme.SMALL_POINT_SIZE))
         self.set_feature(feature)
