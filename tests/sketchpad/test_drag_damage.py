@@ -19,7 +19,7 @@ from PySide6.QtGui import QColor, QImage, QPainter
 from PySide6.QtWidgets import QApplication
 
 from solver.model import Point
-from tests.sketchpad.test_drag_layer import assert_same, drag_steps, fifty_rope_window, frame
+from tests.sketchpad.test_drag_layer import assert_same, drag_steps, fifty_rope_window, frame, line_steps
 from tests.sketchpad.test_overlay import open_sample
 from tests.sketchpad.test_overlay_incremental import pixels
 
@@ -161,30 +161,16 @@ def test_a_failed_solve_mid_drag_greys_the_overlay_and_shows_the_banner_on_scree
     base = doc.rig
     loose = base.with_point(Point("K9", "point", 40.0, 5.0, label="loose karabiner"))  # no rope reaches it: no solve
     p = base.point("H2")
-    for i in range(8):
-        doc.preview(loose.moved("H2", p.x + 0.4 * i, p.y - 0.2 * i))
-        sched._change_gap_ms = 1.0
-        sched.fire()
-        view.viewport().repaint()
-        if i in (0, 5):
-            QApplication.processEvents()  # the banner's own updates (partial paints of the viewport under it)
+    # the banner's own updates (partial paints of the viewport under it) after steps 0 and 5
+    line_steps(doc, sched, view, loose, "H2", p, range(8), lambda i: i in (0, 5) and QApplication.processEvents())
     assert ov.greyed and not ov.banner.isHidden() and "loose karabiner" in ov.banner_text
     assert layer.damage_frames > 0
     before = layer.damage_frames
-    for i in range(8, 12):
-        doc.preview(loose.moved("H2", p.x + 0.4 * i, p.y - 0.2 * i))
-        sched._change_gap_ms = 1.0
-        sched.fire()
-        view.viewport().repaint()
+    line_steps(doc, sched, view, loose, "H2", p, range(8, 12))
     assert layer.damage_frames - before == 4  # greyed frames redraw their damage only
     assert_screen_fresh(view)  # the translucent banner over the frame, laid down once
-    for i in range(12, 20):  # the point goes: the solve works again, the banner goes
-        doc.preview(base.moved("H2", p.x + 0.4 * i, p.y - 0.2 * i))
-        sched._change_gap_ms = 1.0
-        sched.fire()
-        view.viewport().repaint()
-        if i == 13:
-            QApplication.processEvents()
+    # the point goes: the solve works again, the banner goes (its own updates after step 13)
+    line_steps(doc, sched, view, base, "H2", p, range(12, 20), lambda i: i == 13 and QApplication.processEvents())
     assert not ov.greyed and ov.banner.isHidden()
     assert layer.damage_frames - before > 8
     assert_screen_fresh(view)

@@ -58,6 +58,18 @@ def fifty_rope_window(main_window):
     return doc, sched, view
 
 
+def line_steps(doc, sched, view, rig, pid: str, start, steps, after_step=None) -> None:
+    """Drag steps of point ``pid`` of ``rig`` from ``start`` (a Point) 0.4 m east and 0.2 m south per step ``i``
+    of ``steps``: preview, solve as a drag, repaint; ``after_step(i)`` after each."""
+    for i in steps:
+        doc.preview(rig.moved(pid, start.x + 0.4 * i, start.y - 0.2 * i))
+        sched._change_gap_ms = 1.0
+        sched.fire()
+        view.viewport().repaint()
+        if after_step is not None:
+            after_step(i)
+
+
 def drag_steps(doc, sched, view, pid: str, n: int, start: int = 0) -> None:
     """``n`` drag steps of point ``pid`` round a circle, each solved and painted, as the bench does."""
     base = doc.rig
@@ -182,12 +194,7 @@ def test_a_failed_solve_mid_drag_greys_the_danger_zones_in_every_frame(main_wind
     assert ov.zones_item.paths  # zones are drawn (from the first, settled solve)
     base = doc.rig
     loose = base.with_point(Point("K9", "point", 40.0, 5.0, label="loose karabiner"))  # no rope reaches it: no solve
-    p = base.point("H2")
-    for i in range(6):
-        doc.preview(loose.moved("H2", p.x + 0.4 * i, p.y - 0.2 * i))
-        sched._change_gap_ms = 1.0
-        sched.fire()
-        view.viewport().repaint()
+    line_steps(doc, sched, view, loose, "H2", base.point("H2"), range(6))
     assert ov.greyed and ov.zones_item.grey
     shown = frame(view, True, through_layer=True)
     assert_same(shown, frame(view, False))
