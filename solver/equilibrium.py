@@ -754,24 +754,55 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
     return _Solved(fr.state, out.state if ideal else None, out.iterations + fr.iterations, fr.converged, fr.runaway, w)
 
 
-#: (point ids, origin, position bits, position tuples) of the last Result's points
-_LAST_POINTS: list = [None]
+class _LastRows:
+    """What the last Result of one structure made from each row of an array (records, tuples, numbers).
+
+    A drag step re-solves the whole rig but moves only the dragged part: a row whose bit pattern
+    is unchanged (-0.0 and 0.0 differ, as they print) keeps the last Result's object, so only the
+    moved part's objects are made again, and the overlay can recognise the rest by identity.
+    """
+
+    def __init__(self) -> None:
+        self._last: tuple | None = None
+
+    def changed(self, key: tuple, rows: np.ndarray) -> tuple[list | None, np.ndarray | None]:
+        """(the last values, per row whether its bits changed) when ``key`` is the last call's -- objects the
+        same, numbers equal -- and the rows line up; else (None, None): make every value afresh."""
+        last = self._last
+        if last is None or last[1].shape != rows.shape or len(last[0]) != len(key) or not all(
+                a is b or (isinstance(a, (int, float, tuple)) and a == b) for a, b in zip(last[0], key)):
+            return None, None
+        return last[2], (np.ascontiguousarray(rows).view(np.int64) != last[1]).any(axis=1)
+
+    def keep(self, key: tuple, rows: np.ndarray, values: list) -> None:
+        """Remember ``values`` made from ``rows`` (float, one row per value's inputs) under ``key``."""
+        self._last = (key, np.ascontiguousarray(rows).view(np.int64).copy(), values)
+
+    def forget(self) -> None:
+        self._last = None
+
+
+_POINT_ROWS = _LastRows()  # position tuples per structural point
+_SEGMENT_ROWS = _LastRows()  # SegmentResult per piece
+_ANCHOR_ROWS = _LastRows()  # AnchorResult per fixed anchor
+_TURN_ROWS = _LastRows()  # turn per middle pass, kept by the directions of every piece
 
 
 def _all_points(s: System, st: State) -> dict[str, tuple[float, float]]:
     """Every point's solved position (site metres); a point at the bit for bit same place as in the last
     Result of the same structure keeps that Result's tuple (a drag step moves the dragged part only)."""
     ox, oy = float(s.origin[0]), float(s.origin[1])
-    bits = np.ascontiguousarray(st.xy).view(np.int64)
-    last = _LAST_POINTS[0]
-    if last is not None and last[0] is s.point_ids and last[1] == (ox, oy) and last[2].shape == bits.shape:
-        xys = list(last[3])
-        changed = np.flatnonzero((bits != last[2]).any(axis=1)).tolist()
-        for i, (x, y) in zip(changed, st.xy[changed].tolist()):
-            xys[i] = (x + ox, y + oy)
+    xy = np.ascontiguousarray(st.xy)
+    key = (s.point_ids, (ox, oy))
+    old, moved = _POINT_ROWS.changed(key, xy)
+    if old is None:
+        xys = [(x + ox, y + oy) for x, y in xy.tolist()]
     else:
-        xys = [(x + ox, y + oy) for x, y in st.xy.tolist()]
-    _LAST_POINTS[0] = (s.point_ids, (ox, oy), bits.copy(), xys)
+        xys = list(old)
+        changed = np.flatnonzero(moved).tolist()
+        for i, (x, y) in zip(changed, xy[changed].tolist()):
+            xys[i] = (x + ox, y + oy)
+    _POINT_ROWS.keep(key, xy, xys)
     pos = dict(zip(s.point_ids, xys))
     if len(pos) == len(s.rig.points):  # every point is structural: already in the rig's order
         return pos
@@ -835,24 +866,18 @@ def _two_blocked(s: System, st: State, kc: np.ndarray) -> list[Warning_]:
     return out
 
 
-#: The records of the last Result built for a structure (its ``piece_rope`` list, shared by every System
-#: compiled from one topology): a drag step re-solves the whole rig but changes the pieces and anchors of
-#: the moved part only, whose numbers are the only ones made into new records.
-_LAST_RECORDS: list = [None]
-
-
 def _segment_records(s: System, st: State, sf: float) -> list[SegmentResult]:
     """A SegmentResult per piece; a piece whose tension, length and strain are bit for bit those of the
     last Result of the same structure (and the same safety factor and MBS) keeps that Result's record."""
-    last = _LAST_RECORDS[0]
-    arrays = np.stack((st.T, st.l, st.eps)).view(np.int64)  # bit patterns: -0.0 and 0.0 differ, as they print
-    if (last is not None and last[0] is s.piece_rope and last[1] == sf and last[2] is s.piece_mbs
-            and last[3].shape == arrays.shape):
-        changed = np.flatnonzero((arrays != last[3]).any(axis=0)).tolist()
-        segments = list(last[4])
-    else:
+    rows = np.stack((st.T, st.l, st.eps), axis=1)
+    key = (s.piece_rope, sf, s.piece_mbs)
+    old, moved = _SEGMENT_ROWS.changed(key, rows)
+    if old is None:
         changed = range(s.n_pieces)
         segments = [None] * s.n_pieces
+    else:
+        changed = np.flatnonzero(moved).tolist()
+        segments = list(old)
     if len(changed):
         idx = np.asarray(changed, dtype=np.intp)
         T, length, eps = st.T[idx], st.l[idx], st.eps[idx]
@@ -862,7 +887,7 @@ def _segment_records(s: System, st: State, sf: float) -> list[SegmentResult]:
             segments[i] = record(SegmentResult, rope=s.piece_rope[i], index=k,
                                  from_point=s.piece_from[i], to_point=s.piece_to[i], tension_N=t, length_m=ln,
                                  strain=e, utilization=u, run=s.piece_run_in_rope[i])
-    _LAST_RECORDS[0] = (s.piece_rope, sf, s.piece_mbs, arrays, segments)
+    _SEGMENT_ROWS.keep(key, rows, segments)
     return segments
 
 
@@ -870,28 +895,21 @@ def _anchor_records(s: System, f: np.ndarray, f_list: list, sf: float) -> dict[s
     """An AnchorResult per fixed anchor; one whose force is bit for bit that of the last Result of the same
     structure, with the same capacity and safety factor, keeps that Result's record."""
     points, at = s.points, s.anchor_at
-    bits = f[at].view(np.int64) if at else np.zeros((0, 2), dtype=np.int64)
-    last = _LAST_ANCHORS[0]
-    same = [False] * len(at)
-    if last is not None and last[0] is at and last[1] == sf:
-        same = (bits == last[2]).all(axis=1).tolist()
-        old = last[3]
+    rows = f[at] if at else np.zeros((0, 2))
+    key = (at, sf)
+    old, moved = _ANCHOR_ROWS.changed(key, rows)
     anchors = {}
-    kept = []
+    made = []
     for j, i in enumerate(at):
         p = points[i]
-        if same[j] and old[j].capacity_N == p.capacity_N:
+        if old is not None and not moved[j] and old[j].capacity_N == p.capacity_N:
             a = old[j]
         else:
             a = _anchor(*f_list[i], p.capacity_N, sf)
         anchors[p.id] = a
-        kept.append(a)
-    _LAST_ANCHORS[0] = (at, sf, bits, kept)
+        made.append(a)
+    _ANCHOR_ROWS.keep(key, rows, made)
     return anchors
-
-
-_LAST_ANCHORS: list = [None]  # (anchor_at list, safety factor, force bits, records) of the last Result
-_LAST_TURNS: list = [None]  # (middle passes, piece direction bits, turn per pass) of the last Result
 
 
 def _deflections(s: System, st: State) -> dict[str, float]:
@@ -899,21 +917,19 @@ def _deflections(s: System, st: State) -> dict[str, float]:
     last Result of the same structure keeps that Result's number (the same float object)."""
     if not s.middle_passes:
         return {}
-    bits = np.ascontiguousarray(st.u).view(np.int64)
-    last = _LAST_TURNS[0]
-    moved = None
-    if last is not None and last[0] is s.middle_passes and last[1].shape == bits.shape:
-        moved = (bits != last[1]).any(axis=1).tolist()
+    key = (s.middle_passes,)
+    old, moved = _TURN_ROWS.changed(key, st.u)
+    moved = moved.tolist() if moved is not None else None
     u_list = st.u.tolist()
     turns = []
     for j, mp in enumerate(s.middle_passes):
         if moved is not None and not moved[mp.piece_in] and not moved[mp.piece_out]:
-            turns.append(last[2][j])
+            turns.append(old[j])
             continue
         (ax, ay), (bx, by) = u_list[mp.piece_in], u_list[mp.piece_out]
         c = ax * bx + ay * by
         turns.append(math.degrees(math.acos(max(-1.0, min(1.0, c)))))
-    _LAST_TURNS[0] = (s.middle_passes, bits.copy(), turns)
+    _TURN_ROWS.keep(key, st.u, turns)
     return {mp.key: t for mp, t in zip(s.middle_passes, turns)}
 
 

@@ -12,10 +12,8 @@ from tests.bench.fifty_ropes import fifty_rope_rig
 
 def _fresh(rig, start, ideal=False):
     """The same solve with nothing kept from an earlier Result."""
-    equilibrium._LAST_RECORDS[0] = None
-    equilibrium._LAST_ANCHORS[0] = None
-    equilibrium._LAST_POINTS[0] = None
-    equilibrium._LAST_TURNS[0] = None
+    for rows in (equilibrium._POINT_ROWS, equilibrium._SEGMENT_ROWS, equilibrium._ANCHOR_ROWS, equilibrium._TURN_ROWS):
+        rows.forget()
     return solve(rig, start=start, ideal=ideal)
 
 
