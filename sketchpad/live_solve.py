@@ -97,21 +97,9 @@ def _unmoved(before: Rig, after: Rig) -> list:
 
 def moved_points(before: Rig, after: Rig) -> frozenset[str]:
     """Ids of the points whose drawn position differs between two rigs (added or removed ones too)."""
-    a, b = before.points, after.points
-    if len(a) == len(b):
-        out = []
-        for p, q in zip(a, b):
-            if p is q:
-                continue
-            if p.id != q.id:
-                break  # another order: compare by id
-            if p.x != q.x or p.y != q.y:
-                out.append(p.id)
-        else:
-            return frozenset(out)
-    old = {p.id: (p.x, p.y) for p in a}
-    new = {p.id: (p.x, p.y) for p in b}
-    return frozenset(pid for pid in old.keys() | new.keys() if old.get(pid) != new.get(pid))
+    ids = {p.id for p in before.points}
+    ids.update(q.id for q in after.points)
+    return frozenset(ids.difference(q.id for q in _unmoved(before, after)))
 
 
 def predicted_start(rig: Rig, plain: Mapping[str, tuple[float, float]] | None, good_rig: Rig | None,

@@ -21,7 +21,7 @@ from PySide6.QtWidgets import QApplication
 from solver.model import Point
 from tests.sketchpad.test_drag_layer import assert_same, drag_steps, fifty_rope_window, frame, line_steps
 from tests.sketchpad.test_overlay import open_sample
-from tests.sketchpad.test_overlay_incremental import pixels
+from tests.sketchpad.test_overlay_incremental import _chip_entry, pixels
 
 
 def screen(view) -> np.ndarray:
@@ -257,7 +257,6 @@ def test_a_retained_layers_damage_holds_every_pixel_it_changed():
     area, a new frame key), frames that were not taken in between, and a ``clear``."""
     import random
 
-    from PySide6.QtCore import QPointF
     from PySide6.QtGui import QPixmap, QRegion
 
     from sketchpad.retained import RetainedLayer
@@ -271,8 +270,7 @@ def test_a_retained_layers_damage_holds_every_pixel_it_changed():
     size = (260, 190)
 
     def entry(k, x, y):
-        pix = swatches[k]
-        return ((k, x, y), QRect(int(x) - 1, int(y) - 1, pix.width() + 3, pix.height() + 3), (pix, QPointF(x, y)))
+        return _chip_entry(swatches, k, x, y)
 
     def on_device(layer, area) -> np.ndarray:
         """The layer as composited on a device of ``size`` (transparent where it has no area)."""
