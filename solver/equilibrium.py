@@ -238,13 +238,22 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
         done = active & ((res <= target * scale) | ((scale == 0.0) & (res == 0.0)))
         # at the round-off floor: no progress for several iterations but within the acceptance
         improved = res < 0.5 * best
+        best_before, stall_before = best, stall
         best = np.where(improved, res, best)
         stall = np.where(improved, 0, stall + 1)
         done |= active & (stall >= 4) & (res <= ACCEPT_REL * scale)
         ok |= done
         active &= ~done
-        if not active.any():
-            return _Outcome(st, it, True)
+        left = np.flatnonzero(active)
+        if len(left) == 0:
+            return _Outcome(st, it, bool(ok.all()))
+        if len(left) == 1:  # one part still iterating (a drag step moves one): the plain-number loop, from here
+            c = int(left[0])
+            others_ok = bool(np.delete(ok, c).all())
+            carry = _Carry(it, float(mu[c]), float(cap[c]), int(stall_before[c]), float(best_before[c]), evaluations)
+            out = _newton_one_part(s, st, w, kc, symmetric, max_iter, target, part=c, carry=carry)
+            out.converged = out.converged and others_ok
+            return out
         K = _matrix(s, st, kc, dense, exact=not symmetric)
         diag = K.diagonal()
         base = _comp_max(s, np.maximum(diag[0::2], diag[1::2]))
@@ -344,43 +353,72 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
     return _Outcome(st, it + 1, bool(np.all(ok | (res <= ACCEPT_REL * scale))))
 
 
-def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray, symmetric: bool,
-                     max_iter: int, target: float = TARGET_REL) -> _Outcome:
-    """:func:`_newton` for a rig of one part (``s.n_comp == 1``), from its first state ``st``.
+@dataclass
+class _Carry:
+    """Where the general loop hands its last iterating part over: iteration, that part's shift, step cap,
+    stalled iterations and best imbalance before this iteration's test, and trial evaluations spent."""
 
-    The same iteration, test for test and in the same floating-point operations, with the
-    per-part arrays held as plain numbers: most rigs are one part, and on a small rig the
-    array bookkeeping of the general loop costs more than the linear algebra.
+    it: int
+    mu: float
+    cap: float
+    stall: int
+    best: float
+    evaluations: int
+
+
+def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray, symmetric: bool,
+                     max_iter: int, target: float = TARGET_REL, part: int | None = None,
+                     carry: _Carry | None = None) -> _Outcome:
+    """:func:`_newton` for one part, from its state ``st``: the whole rig (``part`` None, ``s.n_comp == 1``),
+    or part ``part`` of a rig whose other parts have stopped, continuing the general loop from ``carry``.
+
+    The same iteration, test for test and in the same floating-point operations (sums over the
+    part's coordinates in the same order), with the per-part arrays held as plain numbers: most
+    rigs are one part, a drag step moves one part of a larger rig, and on a small rig the array
+    bookkeeping of the general loop costs more than the linear algebra.
     """
     dense = s.n_dof <= DENSE_MAX
-    cd = s.dof_comp
-    size = float(s.comp_size[0])
-    comp_scale0 = float(s.comp_force_scale[0])
+    if part is None:
+        idx = None
+        cd = s.dof_comp
+        size = float(s.comp_size[0])
+        comp_scale0 = float(s.comp_force_scale[0])
+    else:
+        idx, pieces = _part_indices(s, part)
+        cd = np.zeros(len(idx), dtype=np.intp)  # one bin: bincount sums the part's coordinates in order
+        size = float(s.comp_size[part])
+        comp_scale0 = float(s.comp_force_scale[part])
+
+    def on_part(v: np.ndarray) -> np.ndarray:
+        return v if idx is None else v[idx]
 
     def merit(state: State) -> float:
         if symmetric:
-            return state.comp_energy[0]
-        return 0.5 * np.bincount(cd, state.g * state.g, minlength=1)[0]
+            return state.comp_energy[0 if part is None else part]
+        g = on_part(state.g)
+        return 0.5 * np.bincount(cd, g * g, minlength=1)[0]
 
     def nat_norm(v: np.ndarray) -> float:
         return np.sqrt(np.bincount(cd, v * v, minlength=1))[0]
 
     def scale_of(state: State) -> float:
-        return max(comp_scale0, float(np.abs(state.N).max()) if len(state.N) else 0.0)
+        N = state.N if idx is None else state.N[pieces]
+        return max(comp_scale0, float(np.abs(N).max()) if len(N) else 0.0)
 
-    cap = 0.1 * size
-    mu = 1e-10
+    def imbalance(state: State) -> float:
+        return float(_point_norms(on_part(state.g)).max())
+
+    if carry is None:
+        carry = _Carry(0, 1e-10, 0.1 * size, 0, np.inf, 0)
+    cap, mu, stall, best, evaluations = carry.cap, carry.mu, carry.stall, carry.best, carry.evaluations
     ok = False
-    stall = 0
-    best = np.inf
     debug = log.isEnabledFor(logging.DEBUG)
-    evaluations = 0
-    it = 0
-    for it in range(max_iter):
+    it = carry.it
+    for it in range(carry.it, max_iter):
         if evaluations > MAX_EVALUATIONS:
             break
         scale = scale_of(st)
-        res = float(_point_norms(st.g).max())
+        res = imbalance(st)
         done = (res <= target * scale) or (scale == 0.0 and res == 0.0)
         improved = res < 0.5 * best
         if improved:
@@ -392,6 +430,8 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         if done:
             return _Outcome(st, it, True)
         K = _matrix(s, st, kc, dense, exact=not symmetric)
+        if idx is not None:
+            K = _sub(K, idx, dense)
         base = max(float(K.diagonal().max()), scale / size, 1e-12)  # = the largest of the x and y maxima
         m0 = merit(st)
         x_new = st.x.copy()
@@ -399,7 +439,8 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         alpha = 1.0
         capped = False
         trial = None
-        g = st.g
+        g = on_part(st.g)
+        x_part = on_part(st.x)
         for _attempt in range(8):
             if not pending:
                 break
@@ -430,14 +471,18 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
                 if not trying:
                     break
                 evaluations += 1
-                xt = st.x + a * d
+                if idx is None:
+                    xt = st.x + a * d
+                else:
+                    xt = st.x.copy()
+                    xt[idx] = x_part + a * d
                 trial = evaluate(s, xt, w, kc)
                 m1 = merit(trial)
                 good = m1 <= m0 + 1e-4 * a * slope
                 if not symmetric and not good:
-                    good = nat_norm(solver(-trial.g)) <= (1.0 - 1e-4 * a * shrink) * nat0
+                    good = nat_norm(solver(-on_part(trial.g))) <= (1.0 - 1e-4 * a * shrink) * nat0
                 if not good and abs(m1 - m0) <= 1e-13 * (abs(m0) + scale * size):
-                    good = float(_point_norms(trial.g).max()) < 0.9 * res
+                    good = imbalance(trial) < 0.9 * res
                 if good:
                     x_new = xt
                     alpha = a
@@ -467,8 +512,17 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         if not active:
             return _Outcome(st, it + 1, ok)
     scale = scale_of(st)
-    res = float(_point_norms(st.g).max())
+    res = imbalance(st)
     return _Outcome(st, it + 1, bool(ok or res <= ACCEPT_REL * scale))
+
+
+def _part_indices(s: System, part: int) -> tuple[np.ndarray, np.ndarray]:
+    """(free coordinates, pieces) of part ``part``, in order; kept per System."""
+    memo = s.__dict__.setdefault("_part_indices", {})
+    hit = memo.get(part)
+    if hit is None:
+        hit = memo[part] = (np.flatnonzero(s.dof_comp == part), np.flatnonzero(s.piece_comp == part))
+    return hit
 
 
 # --- words -----------------------------------------------------------------------------------------
