@@ -337,6 +337,29 @@ def test_disconnected_copies_solve_like_one_copy():
         assert many.anchors[f"R{k}"].force_N == pytest.approx(one.anchors["R0"].force_N, rel=1e-9)
 
 
+def test_a_drag_step_that_moves_one_part_solves_it_as_if_drawn_alone():
+    # A drag step warm-starts every part at its last equilibrium and moves one: the parts left
+    # still are done at once and the moved part is iterated on its own (the plain-number loop
+    # takes it over).  Statically independent parts: the moved part must take the same
+    # iterations and come out where it does when drawn alone, and the still parts must not move.
+    def drag(r: Rig) -> tuple:
+        first = solve(r)
+        assert first.status == "ok", first.message
+        moved = r.moved("H0", r.point("H0").x + 1.5, r.point("H0").y - 1.0)
+        start = {k: v for k, v in first.points.items() if k != "H0"}
+        return first, solve(moved, start=start, ideal=False)
+
+    _, one = drag(_hauling_copies(1))
+    first, many = drag(_hauling_copies(4))
+    assert one.status == "ok" and many.status == "ok", many.message
+    assert many.iterations == one.iterations > 0
+    for pid in ("M0", "G0", "L0"):
+        assert many.points[pid] == pytest.approx(one.points[pid], abs=1e-9)
+    for k in range(1, 4):
+        for pid in (f"M{k}", f"G{k}"):
+            assert many.points[pid] == first.points[pid]  # still parts: not a bit moved
+
+
 def test_an_anchor_shared_by_two_parts_sums_both():
     # Two points hang from one anchor on separate ropes (two parts of the rig): the anchor carries
     # the vector sum of both rope pulls, i.e. both weights (plan-view forces, statics).
