@@ -900,13 +900,32 @@ def _mech_advantage(s: System, st: State, f: np.ndarray | None = None) -> float 
     return delivered / inp if inp > 0 else None
 
 
+def _blocked_pair(s: System, k: int) -> tuple[str, str]:
+    """(the pass that ran in, the point it ran into) of piece ``k`` closed up to its minimum spacing."""
+    pa, pb = s.point_ids[s.a[k]], s.point_ids[s.b[k]]
+    return (pb, pa) if s.free[s.b[k]] else (pa, pb)
+
+
+#: A pass within this fraction of its minimum spacing from its neighbour counts as jammed there.
+JAM_MARGIN = 0.01
+
+
+def _jammed_piece(s: System, st: State) -> int | None:
+    """The piece between two passes closest to (or deepest into) their minimum spacing, when a pass is
+    jammed or within JAM_MARGIN of it; else None."""
+    if not s.n_pieces or not s.contact_on.any():
+        return None
+    ratio = np.where(s.contact_on, st.l / s.s_min, np.inf)
+    k = int(np.argmin(ratio))
+    return k if ratio[k] <= 1.0 + JAM_MARGIN else None
+
+
 def _two_blocked(s: System, st: State, kc: np.ndarray) -> list[Warning_]:
     """A warning for each pair of passes pressed together at their minimum spacing (out of throw)."""
     out: list[Warning_] = []
     seen: set[str] = set()
     for k in np.flatnonzero(st.pen > 0):
-        pa, pb = s.point_ids[s.a[k]], s.point_ids[s.b[k]]
-        subject = pb if s.free[s.b[k]] else pa
+        subject, other = _blocked_pair(s, int(k))
         if subject in seen:
             continue
         seen.add(subject)
@@ -914,7 +933,7 @@ def _two_blocked(s: System, st: State, kc: np.ndarray) -> list[Warning_]:
         out.append(Warning_(
             code="two-blocked", subject=subject, severity="danger",
             message=f'on rope "{s.piece_rope[k]}" the pass at "{subject}" has run into '
-                    f'"{pa if subject == pb else pb}" ({s.s_min[k] * 100:.0f} cm apart): the system is '
+                    f'"{other}" ({s.s_min[k] * 100:.0f} cm apart): the system is '
                     f"two-blocked (out of throw) and the hardware bears {push:.0f} N against each other "
                     "that no rope carries; hauling further only loads the hardware — reset it"))
     return out
@@ -1021,9 +1040,19 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
         status = "diverged"
         worst = int(np.argmax(_point_norms(st.g))) if s.n_dof else 0
         subject = s.point_ids[np.flatnonzero(s.free)[worst]] if s.n_dof else ""
-        message = (f"no equilibrium found after {sol.iterations} iterations: the largest imbalance is "
-                   f"{residual:.3g} N at point {_point_name(rig, subject) if subject else ''}; "
-                   "check for a part of the rig that nothing holds")
+        jammed = _jammed_piece(s, st)
+        if jammed is not None:  # a pass at its neighbour: name it (that is where the solve stuck)
+            k = jammed
+            runner, other = _blocked_pair(s, k)
+            message = (f"no equilibrium found after {sol.iterations} iterations: on rope \"{s.piece_rope[k]}\" "
+                       f"the pass at {_point_name(rig, runner)} runs into {_point_name(rig, other)} "
+                       "(two-blocked) and the rig could not be settled with it jammed there (largest imbalance "
+                       f"{residual:.3g} N at point {_point_name(rig, subject) if subject else ''}); "
+                       "give that pass room to run, or tie the rope off where it jams")
+        else:
+            message = (f"no equilibrium found after {sol.iterations} iterations: the largest imbalance is "
+                       f"{residual:.3g} N at point {_point_name(rig, subject) if subject else ''}; "
+                       "check for a part of the rig that nothing holds")
     ma = _mech_advantage(s, st, f)  # (the anchors above are the fixed anchors; loads any load point)
     if not (s.has_friction and motion != "hold"):
         ma_ideal = ma  # no friction acts: the ideal is the actual

@@ -376,3 +376,23 @@ def test_straight_through_pulley_pushed_up_its_rope_by_friction_is_named_two_blo
     res = solve(rig)
     assert res.status == "ok", rigs.describe(res)
     assert any(w.code == "two-blocked" for w in res.warnings)
+
+
+# KNOWN LIMITATION (found by the balance property with a random draw, 2026-12; frictionless, so
+# not the friction case above): the sliding pass at P2 hangs its 100 N on rope r5 and slides down
+# it into the knot at P3.  Jammed there, the 2.5 mm between the two passes is held apart by the
+# spacing contact, which pushes and is far stiffer than anything else: the Newton steps zig-zag
+# across the contact and stall (339 N left at P3).  Until the solver can settle a jammed pass,
+# the failure must at least say where it jams, not send the rigger looking for an unheld part.
+def test_a_pass_jammed_into_a_knot_that_cannot_be_settled_is_named():
+    pts = [rigs.anchor("A0", 2.5625, 14.0), rigs.anchor("A1", 0.0, 14.0), rigs.anchor("A2", 5.1875, 14.921875),
+           rigs.free("P0", 0.0, 7.0), rigs.free("P1", 19.61328125, 5.898090272322268), rigs.free("P2", 1.3125, 3.0),
+           rigs.free("P3", 0.0, 0.0)]
+    ropes = [rigs.rope("r0", ["A0", "P0"]), rigs.rope("r1", ["A0", "P1"]), rigs.rope("r2", ["P1", "P2"]),
+             rigs.rope("r3", ["P0", "P3"]), rigs.rope("r4", ["A0", "P3"]),
+             rigs.rope("r5", ["A2", "P3", ("P2", "sliding"), "A1"], pretension_N=365.0)]
+    forces = [rigs.force(p, 100.0, 270.0) for p in ("P0", "P1", "P2")] + [rigs.force("P3", 100.0, 257.75)]
+    res = solve(rigs.make_rig(pts, ropes, forces, motion="hold", ea=2e4))
+    assert res.status == "diverged", rigs.describe(res)  # the day this solves, make it a test of the answer
+    assert 'the pass at "P2" runs into "P3" (two-blocked)' in res.message
+    assert 'rope "r5"' in res.message and "nothing holds" not in res.message
