@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import logging
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -749,6 +750,46 @@ def _soft_start_newton(s: System, x0: np.ndarray, kc: np.ndarray, target: float 
     return out
 
 
+#: A solve that stops with a pass jammed against its neighbour is tried again with the spacing contact
+#: this many times softer, stiffened a decade at a time from each answer to the next (penalty
+#: continuation, Wriggers, Computational Contact Mechanics, 2nd ed. 2006, sec. 6.3): the full
+#: contact is far stiffer than the ropes and Newton zig-zags across it from afar.
+CONTACT_STEPS = (1e-4, 1e-3, 1e-2, 1e-1)
+
+
+def _jam_settled(s: System, x0: np.ndarray, kc: np.ndarray, failed: _Outcome,
+                 solve_at: Callable[[np.ndarray, np.ndarray], _Outcome]) -> _Outcome:
+    """``failed`` (a solve from ``x0``) again through a softer contact when it stopped with a pass jammed
+    (:func:`_jammed_piece`); ``solve_at(x, kc)`` solves from ``x`` with contact stiffness ``kc``.
+    The last step is the full contact; ``failed`` stands when that does not converge."""
+    if failed.converged or failed.runaway is not None or _jammed_piece(s, failed.state) is None:
+        return failed
+    x, iters = x0, 0
+    for factor in CONTACT_STEPS:
+        step = solve_at(x, kc * factor)
+        iters += step.iterations
+        if step.runaway is not None:
+            return failed
+        x = step.state.x
+    out = solve_at(x, kc)
+    out.iterations += iters
+    return out if out.converged else failed
+
+
+def _friction_settled(s: System, x0: np.ndarray, motion: str, kc: np.ndarray, fr: _Outcome,
+                      w: np.ndarray) -> tuple[_Outcome, np.ndarray]:
+    """:func:`_friction_solve`'s answer ``(fr, w)`` from ``x0``, or, when it stopped with a pass jammed, the
+    friction solve again through a softer contact (:func:`_jam_settled`) when that converges."""
+    last_w = [w]
+
+    def solve_at(x: np.ndarray, k: np.ndarray) -> _Outcome:
+        out, last_w[0] = _friction_solve(s, x, motion, k)
+        return out
+
+    out = _jam_settled(s, x0, kc, fr, solve_at)
+    return (fr, w) if out is fr else (out, last_w[0])
+
+
 def _mechanism_result(s: System, st: State, kc: np.ndarray, iters: int) -> Result | None:
     mech = _mechanism(s, st, kc)
     if mech is None:
@@ -780,7 +821,7 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
                       message=f"point {_point_name(s.rig, pid)} is not held: no rope is attached to it")
     frictional = motion != "hold" and s.has_friction
     if warm and frictional:
-        fr, w = _friction_solve(s, x0, motion, kc)
+        fr, w = _friction_settled(s, x0, motion, kc, *_friction_solve(s, x0, motion, kc))
         if fr.runaway is not None or not fr.converged:
             return _Solved(fr.state, fr.state, fr.iterations, False, fr.runaway, w)
         # held or not is a property of the structure: judged on the frictionless (symmetric) tangent,
@@ -796,7 +837,9 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
     # the frictionless state is reported only without friction or as the ideal of a load's MA;
     # otherwise it is just where the friction stage starts, and needs no last digits
     handover = frictional and not (ideal and s.load_at)
-    out = _soft_start_newton(s, x0, kc, HANDOVER_REL if handover else TARGET_REL)
+    target = HANDOVER_REL if handover else TARGET_REL
+    out = _soft_start_newton(s, x0, kc, target)
+    out = _jam_settled(s, x0, kc, out, lambda x, k: _soft_start_newton(s, x, k, target))
     if out.runaway is not None or not out.converged:
         return _Solved(out.state, out.state, out.iterations, False, out.runaway, out.state.w)
     failed = _mechanism_result(s, out.state, kc, out.iterations)
@@ -804,7 +847,7 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
         return failed
     if not frictional:
         return _Solved(out.state, out.state, out.iterations, True, None, out.state.w)
-    fr, w = _friction_solve(s, out.state.x, motion, kc, out.state)
+    fr, w = _friction_settled(s, out.state.x, motion, kc, *_friction_solve(s, out.state.x, motion, kc, out.state))
     return _Solved(fr.state, out.state if ideal else None, out.iterations + fr.iterations, fr.converged, fr.runaway, w)
 
 

@@ -378,13 +378,12 @@ def test_straight_through_pulley_pushed_up_its_rope_by_friction_is_named_two_blo
     assert any(w.code == "two-blocked" for w in res.warnings)
 
 
-# KNOWN LIMITATION (found by the balance property with a random draw, 2026-12; frictionless, so
-# not the friction case above): the sliding pass at P2 hangs its 100 N on rope r5 and slides down
-# it into the knot at P3.  Jammed there, the 2.5 mm between the two passes is held apart by the
-# spacing contact, which pushes and is far stiffer than anything else: the Newton steps zig-zag
-# across the contact and stall (339 N left at P3).  Until the solver can settle a jammed pass,
-# the failure must at least say where it jams, not send the rigger looking for an unheld part.
-def test_a_pass_jammed_into_a_knot_that_cannot_be_settled_is_named():
+# Found by the balance property with a random draw (2026-12; frictionless, so not the friction
+# case above): the sliding pass at P2 hangs its 100 N on rope r5 and slides down it into the knot
+# at P3.  Jammed there, the millimetres between the two passes are held apart by the spacing
+# contact, far stiffer than the ropes, and Newton zig-zagged across it (diverged, 339 N left at
+# P3) until the solve learnt to settle a jam through a softer contact stiffened step by step.
+def _pass_jammed_into_a_knot(motion: str):
     pts = [rigs.anchor("A0", 2.5625, 14.0), rigs.anchor("A1", 0.0, 14.0), rigs.anchor("A2", 5.1875, 14.921875),
            rigs.free("P0", 0.0, 7.0), rigs.free("P1", 19.61328125, 5.898090272322268), rigs.free("P2", 1.3125, 3.0),
            rigs.free("P3", 0.0, 0.0)]
@@ -392,7 +391,39 @@ def test_a_pass_jammed_into_a_knot_that_cannot_be_settled_is_named():
              rigs.rope("r3", ["P0", "P3"]), rigs.rope("r4", ["A0", "P3"]),
              rigs.rope("r5", ["A2", "P3", ("P2", "sliding"), "A1"], pretension_N=365.0)]
     forces = [rigs.force(p, 100.0, 270.0) for p in ("P0", "P1", "P2")] + [rigs.force("P3", 100.0, 257.75)]
-    res = solve(rigs.make_rig(pts, ropes, forces, motion="hold", ea=2e4))
-    assert res.status == "diverged", rigs.describe(res)  # the day this solves, make it a test of the answer
-    assert 'the pass at "P2" runs into "P3" (two-blocked)' in res.message
-    assert 'rope "r5"' in res.message and "nothing holds" not in res.message
+    return rigs.make_rig(pts, ropes, forces, motion=motion, ea=2e4)
+
+
+@pytest.mark.parametrize("motion", ["hold", "haul"])
+def test_a_pass_jammed_into_a_knot_is_settled_and_named_two_blocked(motion):
+    rig = _pass_jammed_into_a_knot(motion)
+    res = solve(rig)
+    assert res.status == "ok", rigs.describe(res)
+    blocked = [w for w in res.warnings if w.code == "two-blocked"]
+    assert [w.subject for w in blocked] == ["P2"] and '"P3"' in blocked[0].message
+    (x2, y2), (x3, y3) = res.points["P2"], res.points["P3"]
+    assert math.hypot(x2 - x3, y2 - y3) <= 0.01  # jammed: millimetres apart
+    # statics of free bodies (Newton's first and third laws): every other free point balances on its
+    # own; the jammed pair balances as one body, the push between its two passes being internal
+    fmax = rigs.largest_force(rig, res)
+    residuals = rigs.free_point_residuals(rig, res)
+    for pid in ("P0", "P1"):
+        assert float(np.linalg.norm(residuals[pid])) <= 1e-9 * fmax
+    assert float(np.linalg.norm(np.add(residuals["P2"], residuals["P3"]))) <= 1e-9 * fmax
+    assert all(s.tension_N >= 0.0 for s in res.segments), "ropes only pull"
+
+
+def test_a_solve_that_stops_at_a_jammed_pass_names_it():
+    # Were the jam not settled, the failure must say where the pass jams, not send the rigger
+    # looking for an unheld part: the Result of the solved state, reported as not converged.
+    from solver.assembly import contact_stiffness, evaluate
+    from solver.equilibrium import _build_result, _compiled, _Solved, _start_x
+
+    rig = _pass_jammed_into_a_knot("hold")
+    res = solve(rig)
+    s = _compiled(rig, "hold")
+    state = evaluate(s, _start_x(s, res.points), None, contact_stiffness(s))
+    failed = _build_result(s, _Solved(state, state, 7, False, None, s.ones), "hold")
+    assert failed.status == "diverged"
+    assert 'on rope "r5" the pass at "P2" runs into "P3" (two-blocked)' in failed.message
+    assert "nothing holds" not in failed.message
