@@ -752,7 +752,7 @@ def _soft_start_newton(s: System, x0: np.ndarray, kc: np.ndarray, target: float 
 
 #: A solve that stops with a pass jammed against its neighbour is tried again with the spacing contact
 #: this many times softer, stiffened a decade at a time from each answer to the next (penalty
-#: continuation, Wriggers, Computational Contact Mechanics, 2nd ed. 2006, sec. 6.3): the full
+#: continuation; Wriggers, Computational Contact Mechanics, 2nd ed. 2006, penalty method, from memory): the full
 #: contact is far stiffer than the ropes and Newton zig-zags across it from afar.
 CONTACT_STEPS = (1e-4, 1e-3, 1e-2, 1e-1)
 
