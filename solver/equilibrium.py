@@ -750,8 +750,9 @@ def _soft_start_newton(s: System, x0: np.ndarray, kc: np.ndarray, target: float 
     return out
 
 
-#: A solve that stops with a pass jammed against its neighbour is tried again with the spacing contact
-#: this many times softer, stiffened a decade at a time from each answer to the next (penalty
+#: A failed solve (a pass jammed against its neighbour, or trial steps overshooting into it) is tried
+#: again with the spacing contact this many times softer, stiffened a decade at a time from each
+#: answer to the next (penalty
 #: continuation; Wriggers, Computational Contact Mechanics, 2nd ed. 2006, penalty method, from memory): the full
 #: contact is far stiffer than the ropes and Newton zig-zags across it from afar.
 CONTACT_STEPS = (1e-4, 1e-3, 1e-2, 1e-1)
@@ -759,10 +760,10 @@ CONTACT_STEPS = (1e-4, 1e-3, 1e-2, 1e-1)
 
 def _jam_settled(s: System, x0: np.ndarray, kc: np.ndarray, failed: _Outcome,
                  solve_at: Callable[[np.ndarray, np.ndarray], _Outcome]) -> _Outcome:
-    """``failed`` (a solve from ``x0``) again through a softer contact when it stopped with a pass jammed
-    (:func:`_jammed_piece`); ``solve_at(x, kc)`` solves from ``x`` with contact stiffness ``kc``.
-    The last step is the full contact; ``failed`` stands when that does not converge."""
-    if failed.converged or failed.runaway is not None or _jammed_piece(s, failed.state) is None:
+    """``failed`` (a solve from ``x0`` that did not converge and did not run away) again through a softer
+    spacing contact; ``solve_at(x, kc)`` solves from ``x`` with contact stiffness ``kc``.  The last
+    step is the full contact; ``failed`` stands when that does not converge."""
+    if failed.converged or failed.runaway is not None or not s.contact_on.any():
         return failed
     x, iters = x0, 0
     for factor in CONTACT_STEPS:
@@ -778,8 +779,8 @@ def _jam_settled(s: System, x0: np.ndarray, kc: np.ndarray, failed: _Outcome,
 
 def _friction_settled(s: System, x0: np.ndarray, motion: str, kc: np.ndarray, fr: _Outcome,
                       w: np.ndarray) -> tuple[_Outcome, np.ndarray]:
-    """:func:`_friction_solve`'s answer ``(fr, w)`` from ``x0``, or, when it stopped with a pass jammed, the
-    friction solve again through a softer contact (:func:`_jam_settled`) when that converges."""
+    """:func:`_friction_solve`'s answer ``(fr, w)`` from ``x0``, or, when that failed, the friction solve
+    again through a softer contact (:func:`_jam_settled`) when that converges."""
     last_w = [w]
 
     def solve_at(x: np.ndarray, k: np.ndarray) -> _Outcome:
