@@ -978,7 +978,8 @@ def _two_blocked(s: System, st: State, kc: np.ndarray) -> list[Warning_]:
             code="two-blocked", subject=subject, severity="danger",
             message=f'on rope "{s.piece_rope[k]}" the pass at "{subject}" has run into '
                     f'"{other}" ({s.s_min[k] * 100:.0f} cm apart): the system is '
-                    f"two-blocked (out of throw) and the hardware bears {push:.0f} N against each other "
+                    f"two-blocked (out of throw) and the hardware bears "
+                    f"{f'{push:.0f} N' if push >= 0.5 else 'under 1 N'} against each other "
                     "that no rope carries; hauling further only loads the hardware — reset it"))
     return out
 

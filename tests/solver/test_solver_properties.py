@@ -373,6 +373,7 @@ def test_straight_through_pulley_pushed_up_its_rope_by_friction_is_named_two_blo
     assert res.status == "ok", rigs.describe(res)
     blocked = [w for w in res.warnings if w.code == "two-blocked"]
     assert [w.subject for w in blocked] == ["P0"] and '"A1"' in blocked[0].message
+    assert "bears under 1 N against each other" in blocked[0].message  # the running rope holds it there
     x0, y0 = res.points["P0"]
     assert math.hypot(x0, y0 - 14.0) <= 0.06  # run up its rope into A1 (jammed: centimetres apart)
     # the rope keeps running through the jammed pulley: across it the tension falls by eta (rig-format.md)
