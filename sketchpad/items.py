@@ -98,6 +98,7 @@ _text_paths: dict[tuple, QPainterPath] = {}
 _pixmaps: dict[tuple, tuple[QPixmap, float, float]] = {}
 _metrics: dict[str, QFontMetricsF] = {}
 _font_keys: dict[int, tuple[object, str]] = {}
+_advances: dict[tuple, float] = {}
 
 
 def drop_oldest(cache: dict, fraction: float = 0.25) -> None:
@@ -124,6 +125,18 @@ def font_metrics(font) -> QFontMetricsF:
     if fm is None:
         fm = _metrics[key] = QFontMetricsF(font)
     return fm
+
+
+def text_advance(text: str, font) -> float:
+    """``QFontMetricsF(font).horizontalAdvance(text)``, remembered per (text, font): a rope laid out again on
+    every drag step measures the same name each time (~40 us of text shaping per call)."""
+    key = (text, font_key(font))
+    w = _advances.get(key)
+    if w is None:
+        if len(_advances) > CACHE_MAX:
+            drop_oldest(_advances)
+        w = _advances[key] = font_metrics(font).horizontalAdvance(text)
+    return w
 
 
 def text_path(text: str, font) -> QPainterPath:
@@ -577,11 +590,11 @@ class RopeItem(SketchItem):
             rect = rect.united(QRectF(c.x() - r * 1.5, c.y() - r * 1.5, r * 3, r * 3))
         rect = rect.united(self._arrow.boundingRect())
         if self._label:
-            fm = font_metrics(theme.font(theme.SMALL_POINT_SIZE))
-            w = fm.horizontalAdvance(self._label) * k
-            h = fm.height() * k
+            small = theme.font(theme.SMALL_POINT_SIZE)
+            w = text_advance(self._label, small) * k
+            h = font_metrics(small).height() * k
             rect = rect.united(QRectF(self._label_pos.x() - w / 2 - k, self._label_pos.y() - h, w + 2 * k, h * 1.5))
-            self._label_w = font_metrics(theme.font(theme.SMALL_POINT_SIZE, bold=True)).horizontalAdvance(self._label)
+            self._label_w = text_advance(self._label, theme.font(theme.SMALL_POINT_SIZE, bold=True))
         m = (theme.SELECTION_WIDTH_PX + theme.ROPE_WIDTH_PX) * k
         self._bounds = rect.adjusted(-m, -m, m, m)
         self._shape_due = True  # the hit shape is stroked when Qt first asks for it

@@ -94,3 +94,26 @@ def test_drag_step_syncs_leave_the_items_a_full_sync_makes(qapp):
         fresh.sync(rig)
         assert shown(scene) == shown(fresh), f"edit {n}"
     assert fast.count(True) >= 8
+
+
+def test_remembered_text_advances_equal_fresh_font_metrics(qapp):
+    """``text_advance`` (what a rope laid out again measures its name with) against a new QFontMetricsF each time,
+    for the same text in several fonts and sizes, asked twice (the second answer is the remembered one)."""
+    from PySide6.QtGui import QFontMetricsF
+
+    from sketchpad import theme
+    from sketchpad.items import text_advance
+
+    for text in ("main4", "tag rope 7", "Ärmel — 12 m", ""):
+        for size in (theme.SMALL_POINT_SIZE, theme.LABEL_POINT_SIZE, 15):
+            for bold in (False, True):
+                for _ in range(2):
+                    font = theme.font(size, bold=bold)
+                    assert text_advance(text, font) == QFontMetricsF(theme.font(size, bold=bold)).horizontalAdvance(text)
+    scene = SketchScene()
+    scene.set_scale(0.04)
+    scene.sync(fifty_rope_rig())
+    for key, item in scene.items_by_key.items():
+        if isinstance(item, RopeItem):
+            bold = QFontMetricsF(theme.font(theme.SMALL_POINT_SIZE, bold=True))
+            assert item._label_w == bold.horizontalAdvance(item._label), key
