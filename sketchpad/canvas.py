@@ -91,6 +91,7 @@ class SketchScene(QGraphicsScene):
 
     def clear(self) -> None:
         note_structure_change()
+        self._items_serial = getattr(self, "_items_serial", 0) + 1  # the next sync is a full one
         super().clear()
 
     def __init__(self, parent=None) -> None:
@@ -100,6 +101,8 @@ class SketchScene(QGraphicsScene):
         self.items_by_key: dict[tuple, SketchItem] = {}
         self.rig = Rig()
         self._laid: tuple | None = None  # (ropes, m per px, points by id, rope indices through each point) last laid out
+        self._synced: tuple | None = None  # (rig, points by id, _items_serial) of the last sync
+        self._items_serial = 0  # bumped by every item added or removed by key
         self.scale_m_per_px = 0.05
         self.background_item: QGraphicsItem | None = None
         self.item_cache_mode = QGraphicsItem.NoCache  # SketchView turns on pixmap caching for the screen
@@ -112,7 +115,11 @@ class SketchScene(QGraphicsScene):
         (or an equal one) as last time: only items whose model data or whose points changed are
         touched, and a moved point is only repositioned.
         """
+        last = self._synced
         self.rig = rig
+        if last is not None and self._sync_moved(rig, *last):
+            self.synced.emit(rig)
+            return
         items = self.items_by_key
         wanted: set[tuple] = set()
         by_id = {}
@@ -157,13 +164,52 @@ class SketchScene(QGraphicsScene):
             for key in [k for k in items if k not in wanted]:
                 self._remove(key)
         self._layout_ropes(by_id)
+        self._synced = (rig, by_id, self._items_serial)
         self.synced.emit(rig)
 
-    def _layout_ropes(self, by_id: dict | None = None) -> None:
+    def _sync_moved(self, rig: Rig, last_rig: Rig, last_by_id: dict, serial: int) -> bool:
+        """Do :meth:`sync`'s work for ``rig`` when it differs from the last synced rig only in points that kept
+        their id and kind (a drag step) and the items are those that sync left: False (nothing done) otherwise.
+
+        The rigs' point tuples are compared in one pass by identity (a Rig is frozen: an unchanged point is
+        the very object), so only the changed points, the forces at them and the ropes through them are
+        touched; what the full sync would do to every other item is nothing (tested equal to a full sync)."""
+        if (serial != self._items_serial or rig.ropes is not last_rig.ropes or rig.forces is not last_rig.forces
+                or rig.site.features is not last_rig.site.features or rig.display.force != last_rig.display.force
+                or len(rig.points) != len(last_rig.points)):
+            return False
+        changed = [(p, q) for p, q in zip(rig.points, last_rig.points) if p is not q]
+        items = self.items_by_key
+        for p, q in changed:
+            if p.id != q.id or p.kind != q.kind or ("point", p.id) not in items:
+                return False
+        by_id = dict(last_by_id)
+        moved = set()
+        for p, _q in changed:
+            by_id[p.id] = p
+            moved.add(p.id)
+        for p, _q in changed:
+            item = items[("point", p.id)]
+            if item.point is not p and item.point != p:
+                item.set_point(p)
+        if moved:
+            unit = rig.display.force
+            for i, f in enumerate(rig.forces):
+                if f.at in moved:
+                    item = items.get(("force", i))
+                    if item is not None:
+                        item.set_force(f, by_id[f.at].xy, unit)
+        self._layout_ropes(by_id, (last_by_id, moved))
+        self._synced = (rig, by_id, serial)
+        return True
+
+    def _layout_ropes(self, by_id: dict | None = None, moved: tuple | None = None) -> None:
         """Rebuild the rope items whose rope, points (position or kind), colour or zoom changed.
 
         When the ropes and the zoom are those of the last layout, only ropes through a point that
         changed are looked at (a drag step moves one point: one or two ropes, not all of them).
+        ``moved`` is (points by id, ids): ``by_id`` is that dict but at those ids, so when it is the
+        last layout's the changed points are known without comparing every point.
         """
         rig = self.rig
         if by_id is None:
@@ -173,8 +219,11 @@ class SketchScene(QGraphicsScene):
         last = self._laid
         if last is not None and last[0] is ropes and last[1] == k:
             before = last[2]
-            changed = {pid for pid, p in by_id.items() if before.get(pid) is not p}
-            changed.update(pid for pid in before if pid not in by_id)
+            if moved is not None and moved[0] is before:
+                changed = moved[1]
+            else:
+                changed = {pid for pid, p in by_id.items() if before.get(pid) is not p}
+                changed.update(pid for pid in before if pid not in by_id)
             through = last[3]
             indices = sorted({i for pid in changed for i in through.get(pid, ())})
         else:
@@ -228,8 +277,10 @@ class SketchScene(QGraphicsScene):
             item.setCacheMode(self.item_cache_mode)
         self.addItem(item)
         self.items_by_key[item.key] = item
+        self._items_serial += 1
 
     def _remove(self, key: tuple) -> None:
+        self._items_serial += 1
         item = self.items_by_key.pop(key)
         self.removeItem(item)
 

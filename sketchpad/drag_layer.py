@@ -69,6 +69,7 @@ from PySide6.QtWidgets import (
 )
 
 from sketchpad import theme
+from sketchpad.widgets_over import WidgetsOver
 
 log = logging.getLogger(__name__)
 
@@ -292,6 +293,7 @@ class DragLayer:
         self._log: set = set()  # ids of Versioned items changed since the last frame (filled by ``_note``)
         self._since_build: set[int] = set()  # indices in ``_order`` whose version may differ from ``_built``
         self._partly: dict = {}  # id -> (key, item, answer) of :meth:`_top_partly_cached`
+        self._widgets: WidgetsOver | None = None  # the widgets over the viewport, kept until a widget event
         _logs[id(self)] = self._log
         weakref.finalize(self, _logs.pop, id(self), None)
 
@@ -597,7 +599,10 @@ class DragLayer:
                 tops.append(("box", item_version(it), _device_box(it, vt)))
             if prepare is not None:
                 retained = retained.united(it.take_damage())
-        return (top, live, tops, retained, fixed, _widget_rects(vp))
+        widgets = self._widgets
+        if widgets is None or widgets.vp is not vp:
+            widgets = self._widgets = WidgetsOver(vp)
+        return (top, live, tops, retained, fixed, widgets.rects())
 
 def _changed(a: tuple, b: tuple) -> QRegion:
     """Device px where frame record ``b`` may differ from ``a`` (both of :meth:`DragLayer._record`, same top items)."""
@@ -645,29 +650,6 @@ def _store_key(vp: QWidget, painter: QPainter) -> tuple | None:
     at = vp.mapTo(vp.window(), QPoint(0, 0))
     size = store.size()
     return (shiboken6.getCppPointer(device)[0], serial, size.width(), size.height(), at.x(), at.y())
-
-
-def _widget_rects(vp: QWidget) -> list[QRect]:
-    """Viewport px of every visible widget Qt paints over the viewport after it, every time it paints it (a
-    translucent banner would be laid down twice over pixels a frame left as they were)."""
-    rects = []
-    whole = vp.rect()
-    for c in vp.children():
-        if isinstance(c, QWidget) and c.isVisible() and not c.isWindow():
-            rects.append(c.geometry())
-    w = vp
-    while not w.isWindow():  # widgets stacked above the viewport or one of its ancestors, overlapping it
-        parent = w.parentWidget()
-        if parent is None:
-            break
-        kids = parent.findChildren(QWidget, "", Qt.FindDirectChildrenOnly)  # in stacking order, bottom first
-        for c in kids[kids.index(w) + 1:]:
-            if c.isVisible() and not c.isWindow():
-                r = QRect(vp.mapFrom(parent, c.geometry().topLeft()), c.geometry().size()).intersected(whole)
-                if not r.isEmpty():
-                    rects.append(r)
-        w = parent
-    return rects
 
 
 __all__ = ["DragLayer", "Versioned", "item_version", "paint_item"]

@@ -789,6 +789,10 @@ _PRIORITY = operator.attrgetter("priority")
 LEADER_DOT_PX = 1.8  # radius of the dot a leader starts from
 
 
+#: The fields of a band piece's (entry, x0, y0, x1, y1) (``ForceItem._retained_bands``).
+_PIECE_FIELDS = tuple(operator.itemgetter(i) for i in range(5))
+
+
 def _pixmap_entry(kind: str, pix: QPixmap, x: float, y: float) -> tuple:
     """A retained-layer entry (``sketchpad.retained``) blitting ``pix`` with its top-left at (x, y) device px."""
     return ((kind, pix.cacheKey(), x, y), QRect(math.floor(x) - 1, math.floor(y) - 1, pix.width() + 3, pix.height() + 3),
@@ -1410,11 +1414,13 @@ class ForceItem(_LayerItem):
                         [pieces[(ends[i], ends[i + 1])] for i in range(0, len(ends) - 1, 2)]  # a piece drawn twice
                 if not hits:
                     continue
-                entries = [h[0] for h in hits]
+                # a piece's (entry, x0, y0, x1, y1) fields, read in C over all pieces (~25 us a frame less)
+                _first, _x0, _y0, _x1, _y1 = _PIECE_FIELDS
+                entries = list(map(_first, hits))
                 # the layer's area snapped to 64 px, so a piece moving a little does not resize it
                 g = 64
-                x0, y0 = min(h[1] for h in hits) // g * g, min(h[2] for h in hits) // g * g
-                x1, y1 = max(h[3] for h in hits) // g * g + g, max(h[4] for h in hits) // g * g + g
+                x0, y0 = min(map(_x0, hits)) // g * g, min(map(_y0, hits)) // g * g
+                x1, y1 = max(map(_x1, hits)) // g * g + g, max(map(_y1, hits)) // g * g + g
                 r = QRect(x0, y0, x1 - x0, y1 - y0).intersected(area)
             new[rgba] = (list(ends), pieces, entries, r, hits)
             if r.isEmpty():

@@ -41,6 +41,7 @@ class RetainedLayer:
         self._entries: list | None = None
         self._ids: dict[int, tuple] = {}  # id -> entry of the last frame's entries (the list keeps them alive)
         self._used: QRect | None = None
+        self._union: QRect | None = None  # the union of the last frame's entry boxes (device px; None: not known)
         self._damage = QRegion()  # device px whose pixels changed since take_damage
         self.full_redraws = 0  # counters for tests and benchmarks
         self.partial_redraws = 0
@@ -72,13 +73,17 @@ class RetainedLayer:
         if self.image is None or self.frame != full_key or last is None:
             return self._redraw_all(full_key, area, entries, last, last_frame)
         if len(ids) == len(entries) and len(last_ids) == len(last):  # no entry object twice in a list
-            dirty = _changed_boxes([e for i, e in last_ids.items() if i not in ids],
-                                   [e for i, e in ids.items() if i not in last_ids])
+            gone = [e for i, e in last_ids.items() if i not in ids]
+            came = [e for i, e in ids.items() if i not in last_ids]
+            dirty = _changed_boxes(gone, came)
+            union = self._union
+            if gone or came:
+                self._union, self._used = _union_after(union, gone, came), None
         else:
             dirty = _changed_boxes(last, entries)
+            self._union, self._used = None, None
         if not dirty:
             return self.image  # nothing changed
-        self._used = None
         if sum(b.width() * b.height() for b in dirty) > MAX_DIRTY_FRACTION * area.width() * area.height():
             return self._redraw_all(full_key, area, entries, last, last_frame)
         region = QRegion()
@@ -119,7 +124,7 @@ class RetainedLayer:
             _draw(p, op)
         p.end()
         self.image, self.frame = image, full_key
-        self._used = None
+        self._used = self._union = None
         return image
 
     def used(self) -> QRect:
@@ -130,15 +135,16 @@ class RetainedLayer:
                 self._used = QRect()
             else:
                 _frame, ax, ay, aw, ah = self.frame
-                r = reduce(QRect.united, [e[1] for e in self._entries])
-                self._used = r.translated(-ax, -ay).intersected(QRect(0, 0, aw, ah))
+                if self._union is None:
+                    self._union = reduce(QRect.united, [e[1] for e in self._entries])
+                self._used = self._union.translated(-ax, -ay).intersected(QRect(0, 0, aw, ah))
         return self._used
 
     def clear(self) -> None:
         """Forget the pixels (the next update redraws everything)."""
         if self.image is not None:
             self._add_damage(_device_used(self._entries, self.frame))
-        self.image, self.frame, self._entries, self._ids, self._used = None, None, None, {}, None
+        self.image, self.frame, self._entries, self._ids, self._used, self._union = None, None, None, {}, None, None
 
     def take_damage(self) -> QRegion:
         """The device px where the layer's pixels changed since the last call (or since it was made), and forget them.
@@ -161,6 +167,28 @@ def add_damage(damage: QRegion, r) -> QRegion:
     if d.rectCount() > MAX_DAMAGE_RECTS:
         d = QRegion(d.boundingRect())
     return d
+
+
+def _union_after(union: QRect | None, gone: list, came: list) -> QRect | None:
+    """The union of the entry boxes after ``gone`` left and ``came`` came, from ``union`` before (None: not known).
+
+    Exact, without reading the entries that stayed: when every box that went lies strictly inside ``union``
+    on all four sides, each side of ``union`` is reached by an entry that stayed, so the union of those is
+    ``union`` itself; otherwise it is not known (None: worked out from all entries when asked)."""
+    if union is None:
+        return None
+    for e in gone:
+        b = e[1]
+        if b.isNull():
+            continue  # QRect.united ignores it
+        if b.isEmpty():
+            return None  # a negative size: its edges are not left() and right() (none of ours)
+        if not (b.left() > union.left() and b.top() > union.top() and b.right() < union.right()
+                and b.bottom() < union.bottom()):
+            return None
+    for e in came:
+        union = union.united(e[1])
+    return union
 
 
 def _device_used(entries: list | None, frame: tuple | None) -> QRect:

@@ -42,6 +42,16 @@ def _chip_entry(swatches: list, k: int, x: float, y: float):
     return ((k, x, y), QRect(int(x) - 1, int(y) - 1, pix.width() + 3, pix.height() + 3), (pix, QPointF(x, y)))
 
 
+def fresh_used(entries, area: QRect) -> QRect:
+    """The part of a layer over ``area`` that ``entries`` can touch (layer px), from all their boxes afresh."""
+    if not entries:
+        return QRect()
+    r = entries[0][1]
+    for e in entries[1:]:
+        r = r.united(e[1])
+    return r.translated(-area.x(), -area.y()).intersected(QRect(0, 0, area.width(), area.height()))
+
+
 def test_a_retained_layer_redrawn_only_where_drawables_changed_equals_one_drawn_afresh():
     rng = random.Random(5)
     swatches = []
@@ -69,6 +79,7 @@ def test_a_retained_layer_redrawn_only_where_drawables_changed_equals_one_drawn_
         want = pixels(fresh((220, 150), entries))
         assert np.abs(got - want).max() <= ROUNDING, f"step {step}"
         used = layer.used()  # what the overlay composites: everything drawn lies inside it
+        assert used == fresh_used(entries, area), f"step {step}"  # kept from the last frame's union
         outside = np.ones(got.shape[:2], bool)
         outside[used.top():used.bottom() + 1, used.left():used.right() + 1] = False
         assert not got[outside][:, 3].any() and got[~outside][:, 3].any(), f"step {step}"
@@ -114,6 +125,7 @@ def test_a_retained_layer_fed_kept_entry_objects_equals_one_drawn_afresh():
         want = pixels(fresh((220, 150), entries))
         assert np.abs(got - want).max() <= ROUNDING, f"step {step}"
         used = layer.used()
+        assert used == fresh_used(entries, area), f"step {step}"
         outside = np.ones(got.shape[:2], bool)
         outside[used.top():used.bottom() + 1, used.left():used.right() + 1] = False
         assert not got[outside][:, 3].any(), f"step {step}"
@@ -121,6 +133,33 @@ def test_a_retained_layer_fed_kept_entry_objects_equals_one_drawn_afresh():
     before = layer.partial_redraws
     layer.update(("frame",), area, [entry(*e[0]) if n % 2 else e for n, e in enumerate(entries)])
     assert layer.partial_redraws == before  # every entry rebuilt or kept as it was: nothing redrawn
+
+
+def test_a_retained_layers_used_part_kept_from_the_last_frame_equals_the_one_of_its_entries_afresh():
+    """The used part follows entries moving inside it (kept: no walk over every entry), the entry that made
+    an edge going (the part shrinks) and entries coming past an edge (it grows)."""
+    pix = QPixmap(10, 8)
+    pix.fill(QColor(0, 120, 200, 150))
+    entries = [_chip_entry([pix], 0, 20 + 30 * i, 15 + 25 * j) for i in range(5) for j in range(4)]
+    layer = RetainedLayer()
+    area = QRect(0, 0, 240, 160)
+    layer.update(("f",), area, entries)
+    assert layer.used() == fresh_used(entries, area)
+    inner = 1 * 4 + 1
+    entries = list(entries)
+    entries[inner] = _chip_entry([pix], 0, 52, 43)  # an inner chip moves: the union is kept, not walked again
+    layer.update(("f",), area, entries)
+    assert layer._union is not None and layer.used() == fresh_used(entries, area)
+    right = layer.used().right()
+    entries = [e for e in entries if e[0][1] < 140]  # the right column goes
+    layer.update(("f",), area, entries)
+    assert layer.used() == fresh_used(entries, area) and layer.used().right() < right
+    entries = entries + [_chip_entry([pix], 0, 3, 140)]  # one comes past the left and bottom edges
+    layer.update(("f",), area, entries)
+    assert layer.used() == fresh_used(entries, area) and layer.used().left() == 2
+    entries = entries[1:]  # the top-left chip goes: its corner made two edges
+    layer.update(("f",), area, entries)
+    assert layer.used() == fresh_used(entries, area)
 
 
 def test_duplicate_drawables_are_each_kept_once_one_of_them_goes():
