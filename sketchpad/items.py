@@ -552,6 +552,8 @@ class RopeItem(SketchItem):
                 self._glyphs.append((how, QPointF(*c), r, QPointF(*b)))
                 continue
             path.lineTo(px, py)
+            if n == 1:
+                continue  # a rope with one drawn pass (the others at missing points): no direction to draw
             if i == 0 or (i < n - 1 and how == "tied") or (i == n - 1 and how != "hauled"):
                 d = u_next if i == 0 else u_prev
                 kr = theme.KNOT_RADIUS_PX * k

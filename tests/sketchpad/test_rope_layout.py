@@ -161,3 +161,12 @@ def test_random_ropes_with_every_pass_kind_are_laid_out_as_with_qpointf_arithmet
             # has no direction for its knot, in either layout)
         rope = Rope(f"r{case}", "m", path)
         assert_laid_out_as_reference(rope, positions, kinds, rng.choice((0.05, 0.02, 0.0071)))
+
+
+def test_a_rope_with_one_drawn_pass_lays_out_without_glyphs(qapp):
+    # The canvas leaves out passes at points it cannot find; a rope left with one pass has no
+    # direction for a knot or an arrow: it must lay out (a bare point, its name) instead of raising.
+    item = RopeItem(Rope(id="r", material="lin", path=(Pass(at="A"), Pass(at="B", how="hauled"))))
+    item.set_rope(item.rope, {"A": to_scene(2.0, 3.0)}, {"A": "anchor"}, QColor("red"), 0.05)
+    assert item._path.elementCount() >= 1 and item._glyphs == [] and item._arrow.isEmpty()
+    assert item.boundingRect().contains(to_scene(2.0, 3.0))
