@@ -183,6 +183,8 @@ class BackgroundItem(Tracked, QGraphicsPixmapItem):
         self._key: tuple | None = None
 
     def set_image(self, image: SiteImage | None, rig_dir: pathlib.Path | None) -> None:
+        if image is None and self.image is None and self._key is None and not self.isVisible():
+            return  # no plan, as before (every edit of a rig without one)
         self.image = image
         if image is None:
             self.setPixmap(QPixmap())  # no size left to count in "zoom to fit"

@@ -335,7 +335,8 @@ class MainWindow(QMainWindow):
         system = "imperial" if rig.display.length == "ft" else "metric"
         with QSignalBlocker(self.unit_group):
             self.unit_actions[system].setChecked(True)
-        self._update_title()
+        if getattr(self, "files", None) is None:  # else the file controller, told of every change, sets it
+            self._update_title()
         self.view.viewport().update()
 
     def _update_title(self) -> None:

@@ -52,7 +52,7 @@ from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
 
 from sketchpad import theme
 from sketchpad.drag_layer import Versioned
-from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr
+from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr, text_advance
 from sketchpad.retained import RetainedLayer, add_damage
 from solver.model import Rig
 from solver.result import Result
@@ -1625,8 +1625,9 @@ class Legend(QWidget):
 
     def sizeHint(self) -> QSize:  # noqa: N802
         pad, lh = 8, self.fm.height()
-        w = max([theme.LEGEND_RAMP_W_PX + 24, QFontMetricsF(self.title_font).horizontalAdvance(self.TITLE)]
-                + [self.fm.horizontalAdvance(t) for t in self.lines])
+        # advances remembered per (text, font): a drag step changes a number or two of the lines
+        w = max([theme.LEGEND_RAMP_W_PX + 24, text_advance(self.TITLE, self.title_font)]
+                + [text_advance(t, self.font) for t in self.lines])
         h = lh + 4 + theme.LEGEND_RAMP_H_PX + lh + 6 + (lh + 4 if self.show_zones else 0) + len(self.lines) * lh
         return QSize(int(w + 2 * pad), int(h + 2 * pad))
 
