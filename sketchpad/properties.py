@@ -641,7 +641,12 @@ class RigPage(_Page):
         if display != rig.display:
             self.apply(replace(rig, display=display), "Change display units")
 
+    def shown_key(self, rig: Rig) -> tuple:
+        """What this page shows of ``rig`` (a drag step, which moves points only, leaves it as it was)."""
+        return rig.title, rig.notes, rig.view, rig.settings, rig.display
+
     def refresh(self, rig: Rig) -> None:
+        self._shown = self.shown_key(rig)
         self.title.set_value(rig.title)
         if not self.notes.hasFocus():
             self.notes.set_text_quietly(rig.notes)
@@ -737,6 +742,8 @@ class PropertiesPanel(QWidget):
             if not exists:
                 self.show_subject(None)
                 return
+        if page is self.rig_page and getattr(page, "_shown", None) == page.shown_key(rig):
+            return  # an edit of something else (every drag step): the rig's fields stay as they are
         if isinstance(page, _Page):
             page.refresh(rig)
 

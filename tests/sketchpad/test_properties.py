@@ -300,3 +300,20 @@ def test_clicking_a_point_on_the_canvas_shows_it_in_the_main_window_panel(main_w
     assert w.document.rig.point(aid).capacity_N is None
     mouse.click(-8.0, -8.0)  # empty space: nothing selected, the rig itself
     assert panel.subject == (None, None)
+
+
+def test_a_drag_elsewhere_leaves_the_rig_page_as_it_is(dock, qtbot):
+    # A drag step changes points only: the rig page keeps what it shows, a refused entry with its
+    # message included (the rigger's typo is not wiped by an unrelated edit); a change of the rig's
+    # own settings (here an undo-able edit from elsewhere) shows the new value.
+    panel = dock.panel
+    doc = panel.document
+    panel.set_selection([])
+    rp = panel.rig_page
+    type_into(qtbot, rp.min_sf, "0.5")
+    rp.min_sf.edit.clearFocus()
+    assert rp.min_sf.has_error
+    doc.preview(doc.rig.moved("P1", 3.0, 5.5))
+    assert rp.min_sf.has_error and rp.min_sf.edit.text() == "0.5"
+    doc.apply(replace(doc.rig, settings=replace(doc.rig.settings, min_safety_factor=8.0)), "Change rig settings")
+    assert not rp.min_sf.has_error and float(rp.min_sf.edit.text().split()[0].rstrip(":1")) == 8.0
