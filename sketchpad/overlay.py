@@ -569,12 +569,18 @@ CELL_MEMO_SIZE = 4096  # rects whose grid cells a _Grid remembers before it forg
 
 
 class _Grid:
-    """Uniform-grid spatial hash of pixel rects and rope sample points."""
+    """Uniform-grid spatial hash of pixel rects and rope sample points.
+
+    Each cell holds its rects (and points) as a dict of how many times each is in it: taking one out is a
+    dict look-up, not a search of the cell's list (a drag step takes out and puts back every label it keeps
+    and the samples of every moved piece), and what the placer asks -- any rect hit, any point inside --
+    does not depend on the order or the counts.
+    """
 
     def __init__(self, cell: float = GRID_CELL_PX) -> None:
         self.cell = cell
-        self.rects: dict[tuple[int, int], list[tuple[float, float, float, float]]] = {}
-        self.points: dict[tuple[int, int], list[tuple[float, float, object]]] = {}
+        self.rects: dict[tuple[int, int], dict[tuple[float, float, float, float], int]] = {}
+        self.points: dict[tuple[int, int], dict[tuple[float, float, object], int]] = {}
         self._cell_memo: dict[tuple, list[tuple[int, int]]] = {}
 
     def _cells(self, x: float, y: float, w: float, h: float) -> list[tuple[int, int]]:
@@ -600,26 +606,36 @@ class _Grid:
         for k in self.cells_of(r):
             cell = rects.get(k)
             if cell is None:
-                rects[k] = [r]
+                rects[k] = {r: 1}
             else:
-                cell.append(r)
+                cell[r] = cell.get(r, 0) + 1
 
     def add_point(self, x: float, y: float, owner: object) -> None:
         c = self.cell
         k = (math.floor(x / c), math.floor(y / c))
         cell = self.points.get(k)
+        e = (x, y, owner)
         if cell is None:
-            self.points[k] = [(x, y, owner)]
+            self.points[k] = {e: 1}
         else:
-            cell.append((x, y, owner))
+            cell[e] = cell.get(e, 0) + 1
+
+    @staticmethod
+    def _take(cell: dict, e) -> None:
+        n = cell[e]  # KeyError: it was never put in (as list.remove's ValueError did)
+        if n == 1:
+            del cell[e]
+        else:
+            cell[e] = n - 1
 
     def remove_rect(self, r) -> None:
+        rects = self.rects
         for k in self.cells_of(r):
-            self.rects[k].remove(r)
+            self._take(rects[k], r)
 
     def remove_point(self, x: float, y: float, owner: object) -> None:
         c = self.cell
-        self.points[(math.floor(x / c), math.floor(y / c))].remove((x, y, owner))
+        self._take(self.points[(math.floor(x / c), math.floor(y / c))], (x, y, owner))
 
     def hits_rect(self, r) -> bool:
         # the cells worked out inline (the same ones :meth:`_cells` gives): the placer tries thousands of
@@ -645,9 +661,12 @@ class _Grid:
         n = 0
         points = self.points
         for k in self._cells(x, y, w, h):
-            for (px, py, owner) in points.get(k, ()):
+            cell = points.get(k)
+            if cell is None:
+                continue
+            for (px, py, owner), m in cell.items():
                 if owner != own and x <= px <= x1 and y <= py <= y1:
-                    n += 1
+                    n += m
         return n
 
 
@@ -753,7 +772,7 @@ class ObstacleCache:
             if new is last:
                 return
             if last is not None and len(last) == len(new):
-                changed = [(o, n) for o, n in zip(last, new) if o is not n]
+                changed = [(last[i], new[i]) for i in compress(range(len(new)), map(is_not, last, new))]
                 for o, _n in changed:
                     c = counts[o] - 1
                     if c:
