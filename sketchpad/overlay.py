@@ -655,6 +655,25 @@ class _Grid:
                         return True
         return False
 
+    def hits_of(self, r) -> dict:
+        """The rects :meth:`hits_rect` finds for ``r``, each with how many times its cell holds it."""
+        x, y, w, h = r
+        x1, y1 = x + w, y + h
+        rects = self.rects
+        c = self.cell
+        out = {}
+        j0, j1 = math.floor(y / c), math.floor(y1 / c)
+        for i in range(math.floor(x / c), math.floor(x1 / c) + 1):
+            for j in range(j0, j1 + 1):
+                cell = rects.get((i, j))
+                if cell is None:
+                    continue
+                for o, count in cell.items():
+                    ox, oy, ow, oh = o
+                    if x < ox + ow and ox < x1 and y < oy + oh and oy < y1:
+                        out[o] = count
+        return out
+
     def crossings(self, r, own: object) -> int:
         x, y, w, h = r
         x1, y1 = x + w, y + h
@@ -757,6 +776,8 @@ class ObstacleCache:
         self._kinds = [self._Kind(self._add_box, self._remove_box), self._Kind(self._add_marker, self._remove_marker),
                        self._Kind(self._add_piece, self._remove_piece)]
         self._to_px: Callable | None = None
+        self.kept = _KeptLabels()  # the labels the last placement left in the grid
+        self.added: list = []  # rects of the boxes and markers put in by the last update
 
     class _Kind:
         """One kind of obstacle: the last list handed in and how many times each distinct entry is in it."""
@@ -802,7 +823,9 @@ class ObstacleCache:
             self.frame, self.grid, self._samples = frame, _Grid(), {}
             for kind in self._kinds:
                 kind.last, kind.counts = None, {}
+            self.kept.reset()
         self._to_px = to_px
+        self.added = []
         for kind, new in zip(self._kinds, (boxes, markers, pieces)):
             kind.update(new if isinstance(new, list) else list(new))
         return self.grid
@@ -813,13 +836,17 @@ class ObstacleCache:
         return (x + bx, y + by, bw, bh)
 
     def _add_box(self, box) -> None:
-        self.grid.add_rect(self._box_rect(box))
+        r = self._box_rect(box)
+        self.grid.add_rect(r)
+        self.added.append(r)
 
     def _remove_box(self, box) -> None:
         self.grid.remove_rect(self._box_rect(box))
 
     def _add_marker(self, m) -> None:
-        self.grid.add_rect(_marker_rect(*self._to_px(m)))
+        r = _marker_rect(*self._to_px(m))
+        self.grid.add_rect(r)
+        self.added.append(r)
 
     def _remove_marker(self, m) -> None:
         self.grid.remove_rect(_marker_rect(*self._to_px(m)))
@@ -861,29 +888,35 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
     """
     same_frame = obstacles is not None and frame is not None and obstacles.frame == frame
     if obstacles is not None and frame is not None:
+        kept = obstacles.kept
         grid = obstacles.update(frame, to_px, markers, pieces, boxes)
-    else:
-        grid = _Grid()
-        for xy, (bx, by, bw, bh) in boxes:
-            x, y = to_px(xy)
-            grid.add_rect((x + bx, y + by, bw, bh))
-        for m in markers:
-            grid.add_rect(_marker_rect(*to_px(m)))
-        for owner, a, b in pieces:
-            for x, y in _piece_samples(to_px(a), to_px(b)):
-                grid.add_point(x, y, owner)
-    placed: list = []  # this call's label rects, taken out of a kept obstacle grid again at the end
-    try:
-        return _place(labels, to_px, size_of, previous, grid, placed, same_frame, keep_hidden)
-    finally:
-        if obstacles is not None and grid is obstacles.grid:
-            for r in placed:
-                grid.remove_rect(r)
+        try:
+            if same_frame and kept.follows(labels, previous):
+                return kept.place(labels, to_px, size_of, previous, grid, obstacles.added, keep_hidden)
+            kept.clear(grid)
+            placed: list = []
+            skipped = _place(labels, to_px, size_of, previous, grid, placed, same_frame, keep_hidden)
+            kept.took(labels, placed, previous)
+            return skipped
+        except BaseException:
+            obstacles.frame = None  # the grid's labels are not known: build it again next time
+            raise
+    grid = _Grid()
+    for xy, (bx, by, bw, bh) in boxes:
+        x, y = to_px(xy)
+        grid.add_rect((x + bx, y + by, bw, bh))
+    for m in markers:
+        grid.add_rect(_marker_rect(*to_px(m)))
+    for owner, a, b in pieces:
+        for x, y in _piece_samples(to_px(a), to_px(b)):
+            grid.add_point(x, y, owner)
+    return _place(labels, to_px, size_of, previous, grid, [], same_frame, keep_hidden)
 
 
 def _place(labels, to_px, size_of, previous, grid: _Grid, placed: list, same_frame: bool,
            keep_hidden: bool = False) -> int:
-    """:func:`place_labels` once the obstacles are in ``grid``: each label placed is added to it and to ``placed``."""
+    """:func:`place_labels` once the obstacles are in ``grid``: each label placed is added to it and to ``placed``
+    as (label, rect, whether it was searched for)."""
     hits = grid.hits_rect
     skipped = 0
     ordered = sorted(labels, key=_PRIORITY, reverse=True)  # stable: equal priorities keep their order
@@ -907,37 +940,195 @@ def _place(labels, to_px, size_of, previous, grid: _Grid, placed: list, same_fra
             r = (ax + rect[0], ay + rect[1], rect[2], rect[3])
             if not hits(r):
                 grid.add_rect(r)
-                placed.append(r)
+                placed.append((lab, r, False))
                 lab.placed, lab.at, lab.rect, lab.leader = True, at, rect, leader
                 continue
         todo.append(lab)
     for lab in todo:
-        w, h = size_of(lab)
-        fallback = None
-        own = lab.key if lab.kind == "tension" else None
-        for base_s, c, bp, leader in _candidates(lab, to_px, w, h):
-            r = (c[0] - w / 2.0, c[1] - h / 2.0, w, h)
-            if hits(r):
-                continue
-            crossing = grid.crossings(r, own) > 0
-            if not crossing or leader:
-                choice = (base_s, r, bp, leader)
-                break
-            if fallback is None:
-                fallback = (base_s, r, bp, leader)
-        else:
-            choice = fallback
-        if choice is None:
+        if _search(lab, to_px, size_of, grid, placed) is None:
             skipped += 1
-            continue
-        base_s, r, bp, leader = choice
-        grid.add_rect(r)
-        placed.append(r)
-        lab.placed = True
-        lab.at = base_s
-        lab.rect = (r[0] - bp[0], r[1] - bp[1], r[2], r[3])
-        lab.leader = leader
     return skipped
+
+
+def _search(lab: OverlayLabel, to_px, size_of, grid: _Grid, placed: list):
+    """Place ``lab`` at its first candidate that hits nothing in ``grid`` and crosses no other rope, else the first
+    that only crosses ropes, else one with a leader; add it to ``grid`` and ``placed``.  Returns its rect or None."""
+    hits = grid.hits_rect
+    w, h = size_of(lab)
+    fallback = None
+    own = lab.key if lab.kind == "tension" else None
+    for base_s, c, bp, leader in _candidates(lab, to_px, w, h):
+        r = (c[0] - w / 2.0, c[1] - h / 2.0, w, h)
+        if hits(r):
+            continue
+        crossing = grid.crossings(r, own) > 0
+        if not crossing or leader:
+            choice = (base_s, r, bp, leader)
+            break
+        if fallback is None:
+            fallback = (base_s, r, bp, leader)
+    else:
+        choice = fallback
+    if choice is None:
+        return None
+    base_s, r, bp, leader = choice
+    grid.add_rect(r)
+    placed.append((lab, r, True))
+    lab.placed = True
+    lab.at = base_s
+    lab.rect = (r[0] - bp[0], r[1] - bp[1], r[2], r[3])
+    lab.leader = leader
+    return r
+
+
+class _KeptLabels:
+    """The labels the last placement left in an :class:`ObstacleCache`'s grid, so that the next placement at the
+    same zoom and pan looks again only at the labels that changed.
+
+    Why that gives the placement :func:`place_labels` makes from scratch with the last call's memo: the
+    labels a placement leaves placed overlap neither each other nor an obstacle (each was tested against
+    all of them).  A label object of the last call (same slot, same entry in the memo) is placed where
+    it was, unless -- when its turn comes, most important first -- its rect hits an obstacle that is new
+    in this call or a label placed before it in this call that is not one of those still rects.  So only
+    the labels that are new objects, and the ones such a label or new obstacle displaces, are tested;
+    the rect of a label that was searched for is not its anchor plus offset to the last bit, so such a
+    label is tested once more at the next call.  Skipped labels of the last call stay skipped.
+    """
+
+    def __init__(self) -> None:
+        self.labels: list | None = None  # the labels of the last call
+        self.memo: dict | None = None  # the placement memo made for them (remember)
+        self.previous: dict | None = None  # the memo the last call was handed
+        self.rects: dict[int, tuple] = {}  # id(label) -> its rect in the grid, for every placed label
+        self.owner: dict[tuple, OverlayLabel] = {}  # rect in the grid -> the placed label
+        self.loose: dict[int, OverlayLabel] = {}  # labels placed by a search at the last call
+        self.slot: dict[int, int] = {}  # id(label) -> its index in labels
+        self.touched: tuple | None = None  # (labels placed again, labels gone) by the last incremental call
+
+    def follows(self, labels: list, previous) -> bool:
+        """Whether ``labels`` and ``previous`` continue the last call: its memo, as many labels."""
+        return self.memo is not None and previous is self.memo and len(labels) == len(self.labels)
+
+    def clear(self, grid: _Grid) -> None:
+        """Take the last call's labels out of ``grid`` (of the same frame) and forget them."""
+        for r in self.rects.values():
+            grid.remove_rect(r)
+        self.reset()
+
+    def reset(self) -> None:
+        self.labels = self.memo = self.previous = self.touched = None
+        self.rects, self.owner, self.loose, self.slot = {}, {}, {}, {}
+
+    def took(self, labels: list, placed: list, previous) -> None:
+        """Remember a placement from scratch: ``placed`` (label, rect, searched) is in the grid."""
+        self.labels, self.previous, self.memo, self.touched = labels, previous, None, None
+        self.rects = {id(lab): r for lab, r, _s in placed}
+        self.owner = {r: lab for lab, r, _s in placed}
+        self.loose = {id(lab): lab for lab, _r, searched in placed if searched}
+        self.slot = dict(zip(map(id, labels), range(len(labels))))
+
+    def remember(self, labels: list, memo: dict) -> None:
+        """``memo`` is :func:`placement_memo` of the last call's ``labels``: the next call may continue from it
+        (only when labels are distinct objects with distinct keys, as build_labels makes them)."""
+        if labels is self.labels and len(memo) == len(labels) == len(self.slot):
+            self.memo = memo
+        else:
+            self.memo = None
+
+    def memo_for(self, labels: list, to_px, previous) -> dict | None:
+        """:func:`placement_memo` of the last call's ``labels`` with ``previous``, made from the labels it placed
+        again (None when the last call was not incremental with these)."""
+        if self.touched is None or labels is not self.labels or previous is not self.previous:
+            return None
+        again, gone = self.touched
+        out = dict(previous)
+        for o in gone:
+            key = (o.kind, o.key)
+            m = out.get(key)
+            if m is not None and m[6] is o:
+                del out[key]
+        out.update(placement_memo(again, to_px, previous))
+        return out if len(out) == len(labels) else None  # keys not distinct: the fresh memo decides which label wins
+
+    def place(self, labels: list, to_px, size_of, previous, grid: _Grid, added: list, keep_hidden: bool) -> int:
+        """:func:`_place` for ``labels`` continuing the last call (see the class docstring); returns how many are skipped."""
+        last, n = self.labels, len(labels)
+        rects, owner, slot = self.rects, self.owner, self.slot
+        changed = list(compress(range(n), map(is_not, labels, last)))
+
+        def drop(lab) -> None:
+            r = rects.pop(id(lab), None)
+            if r is not None:
+                del owner[r]
+                grid.remove_rect(r)
+
+        gone = [last[i] for i in changed]
+        for o in gone:
+            drop(o)
+            self.loose.pop(id(o), None)
+            slot.pop(id(o), None)
+        active = [labels[i] for i in changed]
+        for i in changed:
+            slot[id(labels[i])] = i
+        for lab in self.loose.values():  # searched for last time: tested again
+            drop(lab)
+            active.append(lab)
+        self.loose = loose = {}
+        displaced = {}
+        for r in added:  # new obstacles: a still label they hit goes to the search
+            for hit in grid.hits_of(r):
+                lab = owner.get(hit)
+                if lab is not None:
+                    displaced[id(lab)] = lab
+        for lab in displaced.values():
+            drop(lab)
+
+        def order(lab):
+            return (-lab.priority, slot[id(lab)])
+
+        active.sort(key=order)
+        todo = list(displaced.values())
+        for lab in active:
+            lab.placed = False
+            memo = previous.get((lab.kind, lab.key))
+            if keep_hidden and memo is not None and memo[3] is None:
+                continue
+            if memo is not None and ((len(memo) > 6 and memo[6] is lab) or (
+                    memo[0] == lab.lines and _near(memo[1], to_px(lab.base)) and (
+                    lab.end is None or _near(memo[2], to_px(lab.end))))):
+                at, rect, leader = memo[3], memo[4], memo[5]
+                if at is None:
+                    continue
+                ax, ay = to_px(at)
+                r = (ax + rect[0], ay + rect[1], rect[2], rect[3])
+                mine, later = order(lab), []
+                for hit, count in grid.hits_of(r).items():
+                    other = owner.get(hit)
+                    if other is None or count > 1 or order(other) < mine:
+                        break  # an obstacle, or a label placed before this one
+                    later.append(other)  # a still label after this one: it will not fit where it was
+                else:
+                    grid.add_rect(r)
+                    rects[id(lab)], owner[r] = r, lab
+                    lab.placed, lab.at, lab.rect, lab.leader = True, at, rect, leader
+                    for other in later:
+                        drop(other)
+                        todo.append(other)
+                    continue
+            todo.append(lab)
+        todo.sort(key=order)
+        found: list = []
+        for lab in todo:
+            lab.placed = False
+            r = _search(lab, to_px, size_of, grid, found)
+            if r is not None:
+                rects[id(lab)], owner[r] = r, lab
+                loose[id(lab)] = lab
+        self.labels, self.previous, self.memo = labels, previous, None
+        seen = set(map(id, active))
+        self.touched = (active + [lab for lab in todo if id(lab) not in seen], gone)
+        return n - len(rects)
+
 
 KEEP_PX = 0.75
 _PRIORITY = operator.attrgetter("priority")
@@ -2191,7 +2382,10 @@ class ResultOverlay(QObject):
         self.skipped = place_labels(self.force_item.labels, to_px, self.force_item.label_size, markers, self.pieces,
                                     boxes, previous, self._obstacles, frame,
                                     keep_hidden=self._keep_hidden)
-        self._memo = placement_memo(self.force_item.labels, to_px, previous if same else None)
+        labels, kept = self.force_item.labels, self._obstacles.kept
+        memo = kept.memo_for(labels, to_px, previous if same else None)
+        self._memo = memo if memo is not None else placement_memo(labels, to_px, previous if same else None)
+        kept.remember(labels, self._memo)
         self._memo_scale = m11
         self.force_item.refresh_rect(self._m_per_px())
         if self.result is not None and self.rig is not None:
