@@ -1398,8 +1398,18 @@ class ForceItem(_LayerItem):
         for rgba in sorted(by_colour, key=_BUCKET_ORDER.__getitem__):
             ends = by_colour[rgba]
             kept = old.get(rgba)
+            moved_ends = None if kept is None or len(kept[0]) != len(ends) else \
+                list(compress(range(len(ends)), map(is_not, ends, kept[0])))
             if kept is not None and kept[0] == ends:
                 band = kept[1]
+            elif moved_ends is not None and len(ends) == kept[1][1].elementCount() and all(
+                    ends[k] != ends[k ^ 1] for k in moved_ends):
+                # the same number of pieces and none of zero length (a path drops a line to where it already is;
+                # without one, element k is end k): the kept path with the moved ends set, as one made afresh
+                path = QPainterPath(kept[1][1])
+                for k in moved_ends:
+                    path.setElementPositionAt(k, *ends[k])
+                band = (kept[1][0], path)
             else:
                 path = QPainterPath()
                 for i in range(0, len(ends) - 1, 2):

@@ -43,7 +43,7 @@ def fields(labels, arrows):
 def mutate(rig, res, layers, draw):
     """One change to the rig, the Result or the layers, keeping every object it does not change."""
     kind = draw(st.sampled_from(["segment", "position", "point", "rename", "turn", "anchor", "hold", "haul",
-                                 "copies", "layers", "unit", "shorter", "fewer points", "nothing"]))
+                                 "copies", "layers", "unit", "shorter", "fewer points", "collapse", "nothing"]))
     segs = list(res.segments)
     if kind == "segment" and segs:  # a piece's numbers change (the solver makes a new record)
         i = draw(st.integers(0, len(segs) - 1))
@@ -55,6 +55,11 @@ def mutate(rig, res, layers, draw):
         x, y = res.points[pid]
         points = dict(res.points)
         points[pid] = (x + draw(st.sampled_from([0.5, -1.0, 3.0])), y + draw(st.sampled_from([0.0, 0.7])))
+        res = dataclasses.replace(res, points=points)
+    elif kind == "collapse" and segs:  # a piece of zero length: its far end solved onto its near end
+        s = draw(st.sampled_from(segs))
+        points = dict(res.points)
+        points[s.to_point] = points[s.from_point]
         res = dataclasses.replace(res, points=points)
     elif kind == "point":  # a point is dragged on the sketch (a new Point object)
         p = draw(st.sampled_from(rig.points))
