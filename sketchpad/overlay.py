@@ -29,6 +29,8 @@ import logging
 import math
 import operator
 from dataclasses import dataclass, field
+from itertools import compress
+from operator import is_not
 from typing import Callable, Iterable, Mapping
 
 from PySide6.QtCore import QEvent, QObject, QPointF, QRect, QRectF, QSize, Qt
@@ -228,54 +230,166 @@ def fmt_angle(deg: float) -> str:
     return f"{deg:.0f}°" if abs(deg) >= 10 else f"{deg:.1f}°"
 
 
+class _Entries:
+    """Per entry of a Result's part (by position: the n-th segment, the n-th turn, ...) what the last call made of it.
+
+    Kept for each entry: the record or number it was made from, the ids of the points it reads, what it
+    made (a label, a band piece) with an extra (an anchor arrow, a band colour) and the key of the
+    numbers it shows.  A drag step hands on the records and positions of what it did not move
+    (DEVELOPERS.md, "Unchanged objects are handed on"), so only entries whose record, point or position
+    is another object are made again; the rest keep what they made without a look at their numbers.
+    """
+
+    __slots__ = ("names", "values", "reads", "by_point", "outs", "extras", "keys", "by_key")
+
+    def __init__(self) -> None:
+        self.names: tuple | None = None  # the entries' keys (a dict's keys), or None for a tuple of records
+        self.values: tuple | None = None  # what each entry was made from (records, turns)
+        self.reads: list = []  # per entry: the ids of the points it reads
+        self.by_point: dict[str, list[int]] = {}  # point id -> the entries that read it
+        self.outs: list = []  # per entry: what it made, or None
+        self.extras: list = []  # per entry: its extra, or None
+        self.keys: list = []  # per entry: the key of its numbers, or None
+        self.by_key: dict = {}  # key of numbers -> (out, extra): equal numbers at the same place, the same objects
+
+    def update(self, names, values: tuple, dirty, make: Callable) -> list[int] | None:
+        """Bring the entries up to ``values`` (named ``names``): ``make(i, value, by_key)`` -> (points read, key,
+        out, extra) for each entry whose value is not the last one's object or that reads a ``dirty`` point
+        (None: every entry), ``by_key`` being the last call's (out, extra) by key.  Returns the entries made
+        again, or None when every entry was."""
+        n = len(values)
+        old_by_key = self.by_key
+        if dirty is None or self.values is None or len(self.values) != n or names != self.names:
+            todo = range(n)
+            self.reads, self.outs, self.extras, self.keys = [()] * n, [None] * n, [None] * n, [None] * n
+            by_key, regroup = {}, True
+        else:
+            todo = set(compress(range(n), map(is_not, values, self.values)))
+            by_point = self.by_point
+            for pid in dirty:
+                hit = by_point.get(pid)
+                if hit is not None:
+                    todo.update(hit)
+            self.values = values
+            if not todo:
+                return []
+            todo = sorted(todo)
+            self.reads, self.outs, self.extras, self.keys = list(self.reads), list(self.outs), list(self.extras), \
+                list(self.keys)
+            by_key, regroup = dict(old_by_key), False
+        reads, outs, extras, keys = self.reads, self.outs, self.extras, self.keys
+        for i in todo:
+            read, key, out, extra = make(i, values[i], old_by_key)
+            if not regroup and read != reads[i]:
+                regroup = True
+            if keys[i] is not None:
+                by_key.pop(keys[i], None)
+            reads[i], outs[i], extras[i], keys[i] = read, out, extra, key
+            if key is not None:
+                by_key[key] = (out, extra)
+        if regroup:
+            by_point: dict[str, list[int]] = {}
+            for i, read in enumerate(reads):
+                for pid in read:
+                    by_point.setdefault(pid, []).append(i)
+            self.by_point = by_point
+        self.names, self.values, self.by_key = names, values, by_key
+        return None if isinstance(todo, range) else todo
+
+
+def _moved(names: tuple, values: tuple, old_names: tuple | None, old_values: tuple | None) -> set | None:
+    """The names whose value is not the very object it was (``old_*``, the same names in the same order),
+    or None when the names are others."""
+    if old_names is None or names != old_names:
+        return None
+    return set(compress(names, map(is_not, values, old_values)))
+
+
+class _LabelState:
+    """What :func:`build_labels` keeps between calls in its ``memo``: the rig's points, the scene positions and
+    the parts of the label model as the last call saw them."""
+
+    __slots__ = ("points", "by_id", "pos_names", "pos_values", "ropes", "forces", "holds", "parts")
+
+    def __init__(self) -> None:
+        self.points: tuple | None = None
+        self.by_id: dict = {}
+        self.pos_names: tuple | None = None
+        self.pos_values: tuple | None = None
+        self.ropes = self.forces = None
+        self.holds: tuple = (None, None)  # result.hold_anchor_range, result.hold_haul_range
+        self.parts = {k: _Entries() for k in ("t", "a", "n", "l", "h")}
+
+    def dirty_points(self, rig: Rig, pos: Mapping) -> set | None:
+        """Ids of the points whose Point object or scene position is not the last call's object, or None
+        when the points themselves are others (added, removed, reordered): then every entry is made again."""
+        pts, names, values = rig.points, tuple(pos), tuple(pos.values())
+        old_pts, old_names, old_values = self.points, self.pos_names, self.pos_values
+        self.points, self.pos_names, self.pos_values = pts, names, values
+        dirty = _moved(names, values, old_names, old_values)
+        if dirty is None or old_pts is None or len(old_pts) != len(pts):
+            self.by_id = {p.id: p for p in pts}
+            return None
+        changed = list(compress(range(len(pts)), map(is_not, pts, old_pts)))
+        if changed:
+            if any(pts[i].id != old_pts[i].id for i in changed):
+                self.by_id = {p.id: p for p in pts}
+                return None
+            self.by_id = by_id = dict(self.by_id)
+            for i in changed:
+                p = pts[i]
+                by_id[p.id] = p
+                dirty.add(p.id)
+        return dirty
+
+
+def _changed_keys(new: Mapping, old: Mapping | None) -> set | None:
+    """Keys whose value in ``new`` is not the very object it is in ``old`` (None when there is no ``old``)."""
+    if old is None:
+        return None
+    if new is old or (not new and not old):
+        return set()
+    return {k for k in new.keys() | old.keys() if new.get(k) is not old.get(k)}
+
+
 def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | None = None,
                  pos: Mapping[str, tuple[float, float]] | None = None) -> tuple[list[OverlayLabel], list[AnchorArrow]]:
     """Labels and anchor arrows for an ok ``result`` of ``rig`` with the ``layers`` shown (numbers from the Result).
 
-    ``memo`` (a dict the caller keeps between calls) reuses the label of a piece, pass or point
-    whose numbers, names and positions are exactly those of the last call: during a drag only the
-    moved part of the rig gets new labels (the rest of the result is bit-for-bit the same).
-    ``pos`` is :func:`scene_positions` of ``rig`` and ``result`` when the caller has it.
+    ``memo`` (a dict the caller keeps between calls) keeps what the last call made: an entry whose
+    record (segment, turn, anchor, load, haul force) and points are the very objects of the last call
+    keeps its label without a look at its numbers, so a drag step costs in proportion to the part it
+    moved; an entry made again whose numbers, names and positions are those of a label of the last
+    call gets that label.  ``pos`` is :func:`scene_positions` of ``rig`` and ``result`` when the caller has it.
     """
     layers = set(layers)
     unit = rig.display.force
     sf = float(rig.settings.min_safety_factor)
     context = (unit, sf, frozenset(layers))
-    old: dict = {}
-    if memo is not None:
-        if memo.get("_context") == context:
-            old = memo
-        memo_new: dict = {"_context": context}
-    points = {p.id: p for p in rig.points}  # dict look-ups: Rig.point() is a linear search
-    ropes = {r.id: r for r in rig.ropes}
+    state = memo.get("_state") if memo is not None and memo.get("_context") == context else None
+    if state is None:
+        state = _LabelState()
+        if memo is not None:
+            memo.clear()
+            memo.update(_context=context, _state=state)
     if pos is None:
         pos = scene_positions(rig, result)
+    dirty = state.dirty_points(rig, pos)
+    points = state.by_id
+    pos_get = pos.get
+    parts = state.parts
     labels: list[OverlayLabel] = []
-    arrows: list[AnchorArrow] = []
 
     if "tensions" in layers or "stretch" in layers:
-        old_get, pos_get, add = old.get, pos.get, labels.append  # ~200 pieces per drag step: bound once
-        keep = memo_new.__setitem__ if memo is not None else None
-        for s in result.segments:
-            a, b = pos_get(s.from_point), pos_get(s.to_point)
+        def tension(_i, s, old):
+            read = (s.from_point, s.to_point)
+            a, b = pos_get(read[0]), pos_get(read[1])
             if a is None or b is None:
-                continue
-            # the very record at the very positions of the last call (the solver and scene_positions
-            # hand on the objects of what a drag step did not move): its label, without hashing numbers
-            hit = old_get(id(s))
-            if hit is not None and hit[0] is s and hit[1] is a and hit[2] is b:
-                if keep is not None:
-                    keep(id(s), hit)
-                add(hit[3])
-                continue
+                return read, None, None, None
             key = ("t", s.rope, s.index, s.tension_N, s.strain, s.utilization, a, b)
-            lab = old_get(key)
-            if lab is not None:  # the piece's label of the last call: same numbers, same place
-                if keep is not None:
-                    keep(key, lab)
-                    keep(id(s), (s, a, b, lab))
-                add(lab)
-                continue
+            hit = old.get(key)
+            if hit is not None:  # the piece's label of the last call: same numbers, same place
+                return read, key, hit[0], None
             lines = []
             slack = s.tension_N <= SLACK_N
             if "tensions" in layers:
@@ -283,148 +397,170 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             if "stretch" in layers and not slack:
                 lines.append(f"{s.strain * 100:.1f} % stretch")
             if not lines:
-                continue
+                return read, None, None, None
             lab = OverlayLabel(
                 kind="tension", key=(s.rope, s.index), lines=tuple(lines),
                 values={"tension_N": s.tension_N, "strain": s.strain, "utilization": s.utilization},
                 colour=theme.utilization_colour(s.utilization), priority=50.0 + 10.0 * min(s.utilization, 3.0),
                 base=a, end=b)
-            if keep is not None:
-                keep(key, lab)
-                keep(id(s), (s, a, b, lab))
-            add(lab)
+            return read, key, lab, None
+
+        part = parts["t"]
+        part.update(None, result.segments, dirty, tension)
+        labels += filter(None, part.outs)
 
     if "angles" in layers:
-        keys = pass_keys(rig)
-        forced = {f.at for f in rig.forces if f.magnitude_N > 0}
-        for key, turn in result.deflection_deg.items():
-            if key not in keys or not math.isfinite(turn):
-                continue
-            rope_id, j = keys[key]
-            rope = ropes[rope_id]
-            ps = rope.path[j]
-            if ps.how not in TURNING_HOWS or ps.at not in pos:
-                continue
-            at = pos[ps.at]
-            prev, nxt = pos.get(rope.path[j - 1].at, at), pos.get(rope.path[j + 1].at, at)
-            point = points.get(ps.at)
-            hand = point is not None and not point.is_fixed and ps.at in forced
-            same = old.get(("A", key))  # the very turn and positions of the last call: its label, no hashing
-            if (same is not None and same[0] is turn and same[1] is at and same[2] is prev and same[3] is nxt
-                    and same[4] == hand):
-                if memo is not None:
-                    memo_new[("A", key)] = same
-                labels.append(same[5])
-                continue
-            mkey = ("a", key, turn, at, prev, nxt, hand)
-            lab = old.get(mkey)
-            if lab is None:
-                u1, u2 = _unit(prev[0] - at[0], prev[1] - at[1]), _unit(nxt[0] - at[0], nxt[1] - at[1])
-                outward = _unit(-(u1[0] + u2[0]), -(u1[1] + u2[1]))  # away from both legs: outside the bight
-                lines = [f"turn {fmt_angle(turn)}"]
-                values = {"turn_deg": float(turn)}
-                if hand:
-                    lines.append(f"off line {fmt_angle(turn / 2.0)}")
-                    values["off_line_deg"] = float(turn) / 2.0
-                lab = OverlayLabel(kind="angle", key=key, lines=tuple(lines), values=values,
-                                   colour=theme.ANGLE_TEXT, priority=30.0 + (5.0 if hand else 0.0),
-                                   base=at, prefer=outward)
-            if memo is not None:
-                memo_new[mkey] = lab
-                memo_new[("A", key)] = (turn, at, prev, nxt, hand, lab)
-            labels.append(lab)
+        same = rig.ropes is state.ropes and rig.forces is state.forces
+        state.ropes, state.forces = rig.ropes, rig.forces
+        turns = result.deflection_deg
+        names = tuple(turns)
+        found: dict = {}
 
+        def angle(i, turn, old):
+            if not found:
+                found.update(keys=pass_keys(rig), ropes={r.id: r for r in rig.ropes},
+                             forced={f.at for f in rig.forces if f.magnitude_N > 0})
+            key = names[i]
+            keys = found["keys"]
+            if key not in keys or not math.isfinite(turn):
+                return (), None, None, None
+            rope_id, j = keys[key]
+            rope = found["ropes"][rope_id]
+            ps = rope.path[j]
+            read = (ps.at, rope.path[j - 1].at, rope.path[j + 1].at)
+            if ps.how not in TURNING_HOWS or ps.at not in pos:
+                return read, None, None, None
+            at = pos[ps.at]
+            prev, nxt = pos.get(read[1], at), pos.get(read[2], at)
+            point = points.get(ps.at)
+            hand = point is not None and not point.is_fixed and ps.at in found["forced"]
+            mkey = ("a", key, turn, at, prev, nxt, hand)
+            hit = old.get(mkey)
+            if hit is not None:
+                return read, mkey, hit[0], None
+            u1, u2 = _unit(prev[0] - at[0], prev[1] - at[1]), _unit(nxt[0] - at[0], nxt[1] - at[1])
+            outward = _unit(-(u1[0] + u2[0]), -(u1[1] + u2[1]))  # away from both legs: outside the bight
+            lines = [f"turn {fmt_angle(turn)}"]
+            values = {"turn_deg": float(turn)}
+            if hand:
+                lines.append(f"off line {fmt_angle(turn / 2.0)}")
+                values["off_line_deg"] = float(turn) / 2.0
+            lab = OverlayLabel(kind="angle", key=key, lines=tuple(lines), values=values,
+                               colour=theme.ANGLE_TEXT, priority=30.0 + (5.0 if hand else 0.0),
+                               base=at, prefer=outward)
+            return read, mkey, lab, None
+
+        part = parts["a"]
+        part.update(names, tuple(turns.values()), dirty if same else None, angle)
+        labels += filter(None, part.outs)
+
+    arrows: list[AnchorArrow] = []
     if "anchors" in layers:
-        for aid, a in result.anchors.items():
+        anchor_holds, haul_holds = result.hold_anchor_range, result.hold_haul_range
+        old_anchor_holds, old_haul_holds = state.holds
+        state.holds = (anchor_holds, haul_holds)
+
+        def also(changed: set | None) -> set | None:
+            return None if dirty is None or changed is None else (dirty | changed if changed else dirty)
+
+        anchors = result.anchors
+        names_n = tuple(anchors)
+
+        def anchor(i, a, old):
+            aid = names_n[i]
             p = points.get(aid)
             if aid not in pos or p is None:
-                continue
-            hold = result.hold_anchor_range.get(aid)
+                return (aid,), None, None, None
+            hold = anchor_holds.get(aid)
             at = pos[aid]
-            # the very record, point and position of the last call (what a drag step did not move): its label
-            same = old.get(("N", aid))
-            if same is not None and same[0] is a and same[1] is p and same[2] is at and same[3] is hold:
-                if memo is not None:
-                    memo_new[("N", aid)] = same
-                if same[4][1] is not None:
-                    arrows.append(same[4][1])
-                labels.append(same[4][0])
-                continue
             # the numbers the label and arrow show (hashing the frozen record itself is slower)
             mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, p.name, hold, at)
             hit = old.get(mkey)
-            if hit is None:
-                rad = math.radians(a.direction_deg)
-                d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
-                colour = theme.utilization_colour(a.utilization)
-                lines = [f"{p.name} {format_force(a.force_N, unit)}"]
-                if a.utilization is not None:
-                    lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
-                else:
-                    lines.append("capacity not known")
-                values = {"force_N": a.force_N, "direction_deg": a.direction_deg}
-                if a.utilization is not None:
-                    values["utilization"] = a.utilization
-                if hold is not None:
-                    lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
-                    values.update(hold_low_N=hold.low, hold_high_N=hold.high)
-                arrow = AnchorArrow(aid, pos[aid], d, colour) if a.force_N > SLACK_N else None
-                lab = OverlayLabel(kind="anchor", key=aid, lines=tuple(lines), values=values, colour=colour,
-                                   priority=90.0 + min(a.utilization or 0.0, 3.0), base=pos[aid], prefer=d)
-                hit = (lab, arrow)
-            if memo is not None:
-                memo_new[mkey] = hit
-                memo_new[("N", aid)] = (a, p, at, hold, hit)
-            if hit[1] is not None:
-                arrows.append(hit[1])
-            labels.append(hit[0])
-        for lid, f in result.loads.items():
+            if hit is not None:
+                return (aid,), mkey, hit[0], hit[1]
+            rad = math.radians(a.direction_deg)
+            d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
+            colour = theme.utilization_colour(a.utilization)
+            lines = [f"{p.name} {format_force(a.force_N, unit)}"]
+            if a.utilization is not None:
+                lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
+            else:
+                lines.append("capacity not known")
+            values = {"force_N": a.force_N, "direction_deg": a.direction_deg}
+            if a.utilization is not None:
+                values["utilization"] = a.utilization
+            if hold is not None:
+                lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
+                values.update(hold_low_N=hold.low, hold_high_N=hold.high)
+            arrow = AnchorArrow(aid, at, d, colour) if a.force_N > SLACK_N else None
+            lab = OverlayLabel(kind="anchor", key=aid, lines=tuple(lines), values=values, colour=colour,
+                               priority=90.0 + min(a.utilization or 0.0, 3.0), base=at, prefer=d)
+            return (aid,), mkey, lab, arrow
+
+        part = parts["n"]
+        part.update(names_n, tuple(anchors.values()), also(_changed_keys(anchor_holds, old_anchor_holds)), anchor)
+        labels += filter(None, part.outs)
+        arrows += filter(None, part.extras)
+
+        loads = result.loads
+        names_l = tuple(loads)
+
+        def load(i, f, old):
+            lid = names_l[i]
             p = points.get(lid)
             if lid not in pos or p is None:
-                continue
+                return (lid,), None, None, None
             mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid])
-            lab = old.get(mkey)
-            if lab is None:
-                rad = math.radians(f.direction_deg)
-                d = (math.cos(rad), -math.sin(rad))
-                lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
-                values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
-                colour = QColor(theme.UTIL_RAMP[0][1])
-                if p.required_N is not None:
-                    enough = f.force_N >= p.required_N
-                    lines.append(f"needs {format_force(p.required_N, unit)}" + ("" if enough else " — short"))
-                    values["required_N"] = float(p.required_N)
-                    colour = QColor(theme.UTIL_RAMP[0][1] if enough else theme.UTIL_RAMP[-1][1])
-                lab = OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
-                                   priority=95.0, base=pos[lid], prefer=(-d[0], -d[1]))
-            if memo is not None:
-                memo_new[mkey] = lab
-            labels.append(lab)
-        for hid, force in result.haul.items():
+            hit = old.get(mkey)
+            if hit is not None:
+                return (lid,), mkey, hit[0], None
+            rad = math.radians(f.direction_deg)
+            d = (math.cos(rad), -math.sin(rad))
+            lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
+            values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
+            colour = QColor(theme.UTIL_RAMP[0][1])
+            if p.required_N is not None:
+                enough = f.force_N >= p.required_N
+                lines.append(f"needs {format_force(p.required_N, unit)}" + ("" if enough else " — short"))
+                values["required_N"] = float(p.required_N)
+                colour = QColor(theme.UTIL_RAMP[0][1] if enough else theme.UTIL_RAMP[-1][1])
+            lab = OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
+                               priority=95.0, base=pos[lid], prefer=(-d[0], -d[1]))
+            return (lid,), mkey, lab, None
+
+        part = parts["l"]
+        part.update(names_l, tuple(loads.values()), dirty, load)
+        labels += filter(None, part.outs)
+
+        haul = result.haul
+        names_h = tuple(haul)
+
+        def hauled(i, force, old):
+            hid = names_h[i]
             p = points.get(hid)
             if hid not in pos or p is None:
-                continue
-            hold = result.hold_haul_range.get(hid)
+                return (hid,), None, None, None
+            hold = haul_holds.get(hid)
             mkey = ("h", hid, force, p.name, p.team, hold, pos[hid])
-            lab = old.get(mkey)
-            if lab is None:
-                lines = [f"haul {format_force(force, unit)}"]
-                values = {"force_N": float(force)}
-                if p.team:
-                    each = force / p.team
-                    lines.append(f"{p.team} × {format_force(each, unit)} each")
-                    values.update(team=float(p.team), per_hauler_N=each)
-                if hold is not None:
-                    lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
-                    values.update(hold_low_N=hold.low, hold_high_N=hold.high)
-                lab = OverlayLabel(kind="haul", key=hid, lines=tuple(lines), values=values,
-                                   colour=QColor(theme.POINT_FILL["haul"]), priority=94.0, base=pos[hid])
-            if memo is not None:
-                memo_new[mkey] = lab
-            labels.append(lab)
-    if memo is not None:
-        memo.clear()
-        memo.update(memo_new)
+            hit = old.get(mkey)
+            if hit is not None:
+                return (hid,), mkey, hit[0], None
+            lines = [f"haul {format_force(force, unit)}"]
+            values = {"force_N": float(force)}
+            if p.team:
+                each = force / p.team
+                lines.append(f"{p.team} × {format_force(each, unit)} each")
+                values.update(team=float(p.team), per_hauler_N=each)
+            if hold is not None:
+                lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
+                values.update(hold_low_N=hold.low, hold_high_N=hold.high)
+            lab = OverlayLabel(kind="haul", key=hid, lines=tuple(lines), values=values,
+                               colour=QColor(theme.POINT_FILL["haul"]), priority=94.0, base=pos[hid])
+            return (hid,), mkey, lab, None
+
+        part = parts["h"]
+        part.update(names_h, tuple(haul.values()), also(_changed_keys(haul_holds, old_haul_holds)), hauled)
+        labels += filter(None, part.outs)
     return labels, arrows
 
 
@@ -433,12 +569,18 @@ CELL_MEMO_SIZE = 4096  # rects whose grid cells a _Grid remembers before it forg
 
 
 class _Grid:
-    """Uniform-grid spatial hash of pixel rects and rope sample points."""
+    """Uniform-grid spatial hash of pixel rects and rope sample points.
+
+    Each cell holds its rects (and points) as a dict of how many times each is in it: taking one out is a
+    dict look-up, not a search of the cell's list (a drag step takes out and puts back every label it keeps
+    and the samples of every moved piece), and what the placer asks -- any rect hit, any point inside --
+    does not depend on the order or the counts.
+    """
 
     def __init__(self, cell: float = GRID_CELL_PX) -> None:
         self.cell = cell
-        self.rects: dict[tuple[int, int], list[tuple[float, float, float, float]]] = {}
-        self.points: dict[tuple[int, int], list[tuple[float, float, object]]] = {}
+        self.rects: dict[tuple[int, int], dict[tuple[float, float, float, float], int]] = {}
+        self.points: dict[tuple[int, int], dict[tuple[float, float, object], int]] = {}
         self._cell_memo: dict[tuple, list[tuple[int, int]]] = {}
 
     def _cells(self, x: float, y: float, w: float, h: float) -> list[tuple[int, int]]:
@@ -464,26 +606,36 @@ class _Grid:
         for k in self.cells_of(r):
             cell = rects.get(k)
             if cell is None:
-                rects[k] = [r]
+                rects[k] = {r: 1}
             else:
-                cell.append(r)
+                cell[r] = cell.get(r, 0) + 1
 
     def add_point(self, x: float, y: float, owner: object) -> None:
         c = self.cell
         k = (math.floor(x / c), math.floor(y / c))
         cell = self.points.get(k)
+        e = (x, y, owner)
         if cell is None:
-            self.points[k] = [(x, y, owner)]
+            self.points[k] = {e: 1}
         else:
-            cell.append((x, y, owner))
+            cell[e] = cell.get(e, 0) + 1
+
+    @staticmethod
+    def _take(cell: dict, e) -> None:
+        n = cell[e]  # KeyError: it was never put in (as list.remove's ValueError did)
+        if n == 1:
+            del cell[e]
+        else:
+            cell[e] = n - 1
 
     def remove_rect(self, r) -> None:
+        rects = self.rects
         for k in self.cells_of(r):
-            self.rects[k].remove(r)
+            self._take(rects[k], r)
 
     def remove_point(self, x: float, y: float, owner: object) -> None:
         c = self.cell
-        self.points[(math.floor(x / c), math.floor(y / c))].remove((x, y, owner))
+        self._take(self.points[(math.floor(x / c), math.floor(y / c))], (x, y, owner))
 
     def hits_rect(self, r) -> bool:
         # the cells worked out inline (the same ones :meth:`_cells` gives): the placer tries thousands of
@@ -503,15 +655,37 @@ class _Grid:
                         return True
         return False
 
+    def hits_of(self, r) -> dict:
+        """The rects :meth:`hits_rect` finds for ``r``, each with how many times its cell holds it."""
+        x, y, w, h = r
+        x1, y1 = x + w, y + h
+        rects = self.rects
+        c = self.cell
+        out = {}
+        j0, j1 = math.floor(y / c), math.floor(y1 / c)
+        for i in range(math.floor(x / c), math.floor(x1 / c) + 1):
+            for j in range(j0, j1 + 1):
+                cell = rects.get((i, j))
+                if cell is None:
+                    continue
+                for o, count in cell.items():
+                    ox, oy, ow, oh = o
+                    if x < ox + ow and ox < x1 and y < oy + oh and oy < y1:
+                        out[o] = count
+        return out
+
     def crossings(self, r, own: object) -> int:
         x, y, w, h = r
         x1, y1 = x + w, y + h
         n = 0
         points = self.points
         for k in self._cells(x, y, w, h):
-            for (px, py, owner) in points.get(k, ()):
+            cell = points.get(k)
+            if cell is None:
+                continue
+            for (px, py, owner), m in cell.items():
                 if owner != own and x <= px <= x1 and y <= py <= y1:
-                    n += 1
+                    n += m
         return n
 
 
@@ -602,6 +776,8 @@ class ObstacleCache:
         self._kinds = [self._Kind(self._add_box, self._remove_box), self._Kind(self._add_marker, self._remove_marker),
                        self._Kind(self._add_piece, self._remove_piece)]
         self._to_px: Callable | None = None
+        self.kept = _KeptLabels()  # the labels the last placement left in the grid
+        self.added: list = []  # rects of the boxes and markers put in by the last update
 
     class _Kind:
         """One kind of obstacle: the last list handed in and how many times each distinct entry is in it."""
@@ -617,7 +793,7 @@ class ObstacleCache:
             if new is last:
                 return
             if last is not None and len(last) == len(new):
-                changed = [(o, n) for o, n in zip(last, new) if o is not n]
+                changed = [(last[i], new[i]) for i in compress(range(len(new)), map(is_not, last, new))]
                 for o, _n in changed:
                     c = counts[o] - 1
                     if c:
@@ -647,7 +823,9 @@ class ObstacleCache:
             self.frame, self.grid, self._samples = frame, _Grid(), {}
             for kind in self._kinds:
                 kind.last, kind.counts = None, {}
+            self.kept.reset()
         self._to_px = to_px
+        self.added = []
         for kind, new in zip(self._kinds, (boxes, markers, pieces)):
             kind.update(new if isinstance(new, list) else list(new))
         return self.grid
@@ -658,13 +836,17 @@ class ObstacleCache:
         return (x + bx, y + by, bw, bh)
 
     def _add_box(self, box) -> None:
-        self.grid.add_rect(self._box_rect(box))
+        r = self._box_rect(box)
+        self.grid.add_rect(r)
+        self.added.append(r)
 
     def _remove_box(self, box) -> None:
         self.grid.remove_rect(self._box_rect(box))
 
     def _add_marker(self, m) -> None:
-        self.grid.add_rect(_marker_rect(*self._to_px(m)))
+        r = _marker_rect(*self._to_px(m))
+        self.grid.add_rect(r)
+        self.added.append(r)
 
     def _remove_marker(self, m) -> None:
         self.grid.remove_rect(_marker_rect(*self._to_px(m)))
@@ -706,29 +888,35 @@ def place_labels(labels: list[OverlayLabel], to_px: Callable[[tuple[float, float
     """
     same_frame = obstacles is not None and frame is not None and obstacles.frame == frame
     if obstacles is not None and frame is not None:
+        kept = obstacles.kept
         grid = obstacles.update(frame, to_px, markers, pieces, boxes)
-    else:
-        grid = _Grid()
-        for xy, (bx, by, bw, bh) in boxes:
-            x, y = to_px(xy)
-            grid.add_rect((x + bx, y + by, bw, bh))
-        for m in markers:
-            grid.add_rect(_marker_rect(*to_px(m)))
-        for owner, a, b in pieces:
-            for x, y in _piece_samples(to_px(a), to_px(b)):
-                grid.add_point(x, y, owner)
-    placed: list = []  # this call's label rects, taken out of a kept obstacle grid again at the end
-    try:
-        return _place(labels, to_px, size_of, previous, grid, placed, same_frame, keep_hidden)
-    finally:
-        if obstacles is not None and grid is obstacles.grid:
-            for r in placed:
-                grid.remove_rect(r)
+        try:
+            if same_frame and kept.follows(labels, previous):
+                return kept.place(labels, to_px, size_of, previous, grid, obstacles.added, keep_hidden)
+            kept.clear(grid)
+            placed: list = []
+            skipped = _place(labels, to_px, size_of, previous, grid, placed, same_frame, keep_hidden)
+            kept.took(labels, placed, previous)
+            return skipped
+        except BaseException:
+            obstacles.frame = None  # the grid's labels are not known: build it again next time
+            raise
+    grid = _Grid()
+    for xy, (bx, by, bw, bh) in boxes:
+        x, y = to_px(xy)
+        grid.add_rect((x + bx, y + by, bw, bh))
+    for m in markers:
+        grid.add_rect(_marker_rect(*to_px(m)))
+    for owner, a, b in pieces:
+        for x, y in _piece_samples(to_px(a), to_px(b)):
+            grid.add_point(x, y, owner)
+    return _place(labels, to_px, size_of, previous, grid, [], same_frame, keep_hidden)
 
 
 def _place(labels, to_px, size_of, previous, grid: _Grid, placed: list, same_frame: bool,
            keep_hidden: bool = False) -> int:
-    """:func:`place_labels` once the obstacles are in ``grid``: each label placed is added to it and to ``placed``."""
+    """:func:`place_labels` once the obstacles are in ``grid``: each label placed is added to it and to ``placed``
+    as (label, rect, whether it was searched for)."""
     hits = grid.hits_rect
     skipped = 0
     ordered = sorted(labels, key=_PRIORITY, reverse=True)  # stable: equal priorities keep their order
@@ -752,37 +940,195 @@ def _place(labels, to_px, size_of, previous, grid: _Grid, placed: list, same_fra
             r = (ax + rect[0], ay + rect[1], rect[2], rect[3])
             if not hits(r):
                 grid.add_rect(r)
-                placed.append(r)
+                placed.append((lab, r, False))
                 lab.placed, lab.at, lab.rect, lab.leader = True, at, rect, leader
                 continue
         todo.append(lab)
     for lab in todo:
-        w, h = size_of(lab)
-        fallback = None
-        own = lab.key if lab.kind == "tension" else None
-        for base_s, c, bp, leader in _candidates(lab, to_px, w, h):
-            r = (c[0] - w / 2.0, c[1] - h / 2.0, w, h)
-            if hits(r):
-                continue
-            crossing = grid.crossings(r, own) > 0
-            if not crossing or leader:
-                choice = (base_s, r, bp, leader)
-                break
-            if fallback is None:
-                fallback = (base_s, r, bp, leader)
-        else:
-            choice = fallback
-        if choice is None:
+        if _search(lab, to_px, size_of, grid, placed) is None:
             skipped += 1
-            continue
-        base_s, r, bp, leader = choice
-        grid.add_rect(r)
-        placed.append(r)
-        lab.placed = True
-        lab.at = base_s
-        lab.rect = (r[0] - bp[0], r[1] - bp[1], r[2], r[3])
-        lab.leader = leader
     return skipped
+
+
+def _search(lab: OverlayLabel, to_px, size_of, grid: _Grid, placed: list):
+    """Place ``lab`` at its first candidate that hits nothing in ``grid`` and crosses no other rope, else the first
+    that only crosses ropes, else one with a leader; add it to ``grid`` and ``placed``.  Returns its rect or None."""
+    hits = grid.hits_rect
+    w, h = size_of(lab)
+    fallback = None
+    own = lab.key if lab.kind == "tension" else None
+    for base_s, c, bp, leader in _candidates(lab, to_px, w, h):
+        r = (c[0] - w / 2.0, c[1] - h / 2.0, w, h)
+        if hits(r):
+            continue
+        crossing = grid.crossings(r, own) > 0
+        if not crossing or leader:
+            choice = (base_s, r, bp, leader)
+            break
+        if fallback is None:
+            fallback = (base_s, r, bp, leader)
+    else:
+        choice = fallback
+    if choice is None:
+        return None
+    base_s, r, bp, leader = choice
+    grid.add_rect(r)
+    placed.append((lab, r, True))
+    lab.placed = True
+    lab.at = base_s
+    lab.rect = (r[0] - bp[0], r[1] - bp[1], r[2], r[3])
+    lab.leader = leader
+    return r
+
+
+class _KeptLabels:
+    """The labels the last placement left in an :class:`ObstacleCache`'s grid, so that the next placement at the
+    same zoom and pan looks again only at the labels that changed.
+
+    Why that gives the placement :func:`place_labels` makes from scratch with the last call's memo: the
+    labels a placement leaves placed overlap neither each other nor an obstacle (each was tested against
+    all of them).  A label object of the last call (same slot, same entry in the memo) is placed where
+    it was, unless -- when its turn comes, most important first -- its rect hits an obstacle that is new
+    in this call or a label placed before it in this call that is not one of those still rects.  So only
+    the labels that are new objects, and the ones such a label or new obstacle displaces, are tested;
+    the rect of a label that was searched for is not its anchor plus offset to the last bit, so such a
+    label is tested once more at the next call.  Skipped labels of the last call stay skipped.
+    """
+
+    def __init__(self) -> None:
+        self.labels: list | None = None  # the labels of the last call
+        self.memo: dict | None = None  # the placement memo made for them (remember)
+        self.previous: dict | None = None  # the memo the last call was handed
+        self.rects: dict[int, tuple] = {}  # id(label) -> its rect in the grid, for every placed label
+        self.owner: dict[tuple, OverlayLabel] = {}  # rect in the grid -> the placed label
+        self.loose: dict[int, OverlayLabel] = {}  # labels placed by a search at the last call
+        self.slot: dict[int, int] = {}  # id(label) -> its index in labels
+        self.touched: tuple | None = None  # (labels placed again, labels gone) by the last incremental call
+
+    def follows(self, labels: list, previous) -> bool:
+        """Whether ``labels`` and ``previous`` continue the last call: its memo, as many labels."""
+        return self.memo is not None and previous is self.memo and len(labels) == len(self.labels)
+
+    def clear(self, grid: _Grid) -> None:
+        """Take the last call's labels out of ``grid`` (of the same frame) and forget them."""
+        for r in self.rects.values():
+            grid.remove_rect(r)
+        self.reset()
+
+    def reset(self) -> None:
+        self.labels = self.memo = self.previous = self.touched = None
+        self.rects, self.owner, self.loose, self.slot = {}, {}, {}, {}
+
+    def took(self, labels: list, placed: list, previous) -> None:
+        """Remember a placement from scratch: ``placed`` (label, rect, searched) is in the grid."""
+        self.labels, self.previous, self.memo, self.touched = labels, previous, None, None
+        self.rects = {id(lab): r for lab, r, _s in placed}
+        self.owner = {r: lab for lab, r, _s in placed}
+        self.loose = {id(lab): lab for lab, _r, searched in placed if searched}
+        self.slot = dict(zip(map(id, labels), range(len(labels))))
+
+    def remember(self, labels: list, memo: dict) -> None:
+        """``memo`` is :func:`placement_memo` of the last call's ``labels``: the next call may continue from it
+        (only when labels are distinct objects with distinct keys, as build_labels makes them)."""
+        if labels is self.labels and len(memo) == len(labels) == len(self.slot):
+            self.memo = memo
+        else:
+            self.memo = None
+
+    def memo_for(self, labels: list, to_px, previous) -> dict | None:
+        """:func:`placement_memo` of the last call's ``labels`` with ``previous``, made from the labels it placed
+        again (None when the last call was not incremental with these)."""
+        if self.touched is None or labels is not self.labels or previous is not self.previous:
+            return None
+        again, gone = self.touched
+        out = dict(previous)
+        for o in gone:
+            key = (o.kind, o.key)
+            m = out.get(key)
+            if m is not None and m[6] is o:
+                del out[key]
+        out.update(placement_memo(again, to_px, previous))
+        return out if len(out) == len(labels) else None  # keys not distinct: the fresh memo decides which label wins
+
+    def place(self, labels: list, to_px, size_of, previous, grid: _Grid, added: list, keep_hidden: bool) -> int:
+        """:func:`_place` for ``labels`` continuing the last call (see the class docstring); returns how many are skipped."""
+        last, n = self.labels, len(labels)
+        rects, owner, slot = self.rects, self.owner, self.slot
+        changed = list(compress(range(n), map(is_not, labels, last)))
+
+        def drop(lab) -> None:
+            r = rects.pop(id(lab), None)
+            if r is not None:
+                del owner[r]
+                grid.remove_rect(r)
+
+        gone = [last[i] for i in changed]
+        for o in gone:
+            drop(o)
+            self.loose.pop(id(o), None)
+            slot.pop(id(o), None)
+        active = [labels[i] for i in changed]
+        for i in changed:
+            slot[id(labels[i])] = i
+        for lab in self.loose.values():  # searched for last time: tested again
+            drop(lab)
+            active.append(lab)
+        self.loose = loose = {}
+        displaced = {}
+        for r in added:  # new obstacles: a still label they hit goes to the search
+            for hit in grid.hits_of(r):
+                lab = owner.get(hit)
+                if lab is not None:
+                    displaced[id(lab)] = lab
+        for lab in displaced.values():
+            drop(lab)
+
+        def order(lab):
+            return (-lab.priority, slot[id(lab)])
+
+        active.sort(key=order)
+        todo = list(displaced.values())
+        for lab in active:
+            lab.placed = False
+            memo = previous.get((lab.kind, lab.key))
+            if keep_hidden and memo is not None and memo[3] is None:
+                continue
+            if memo is not None and ((len(memo) > 6 and memo[6] is lab) or (
+                    memo[0] == lab.lines and _near(memo[1], to_px(lab.base)) and (
+                    lab.end is None or _near(memo[2], to_px(lab.end))))):
+                at, rect, leader = memo[3], memo[4], memo[5]
+                if at is None:
+                    continue
+                ax, ay = to_px(at)
+                r = (ax + rect[0], ay + rect[1], rect[2], rect[3])
+                mine, later = order(lab), []
+                for hit, count in grid.hits_of(r).items():
+                    other = owner.get(hit)
+                    if other is None or count > 1 or order(other) < mine:
+                        break  # an obstacle, or a label placed before this one
+                    later.append(other)  # a still label after this one: it will not fit where it was
+                else:
+                    grid.add_rect(r)
+                    rects[id(lab)], owner[r] = r, lab
+                    lab.placed, lab.at, lab.rect, lab.leader = True, at, rect, leader
+                    for other in later:
+                        drop(other)
+                        todo.append(other)
+                    continue
+            todo.append(lab)
+        todo.sort(key=order)
+        found: list = []
+        for lab in todo:
+            lab.placed = False
+            r = _search(lab, to_px, size_of, grid, found)
+            if r is not None:
+                rects[id(lab)], owner[r] = r, lab
+                loose[id(lab)] = lab
+        self.labels, self.previous, self.memo = labels, previous, None
+        seen = set(map(id, active))
+        self.touched = (active + [lab for lab in todo if id(lab) not in seen], gone)
+        return n - len(rects)
+
 
 KEEP_PX = 0.75
 _PRIORITY = operator.attrgetter("priority")
@@ -920,6 +1266,19 @@ class ZoneItem(_LayerItem):
             painter.drawPath(path)
 
 
+class _BandState:
+    """What :meth:`ForceItem.set_bands` keeps between calls: each piece (key, scene ends) with its colour, where its
+    ends sit in its colour's list, and the ring of each solved point the solver moved off its drawn place."""
+
+    def __init__(self) -> None:
+        self.pos_names = self.pos_values = self.drawn_names = self.drawn_values = None
+        self.pieces = _Entries()  # per segment: its piece and colour (rgba, None for slack)
+        self.pieces_out: list | None = None  # the pieces as set_bands last returned them
+        self.where: list[int] = []  # per segment: index of its first end in its colour's list
+        self.by_colour: dict[int, list] = {}
+        self.rings = _Entries()  # per solved point: its solved place when off the drawn one, else None
+
+
 class ForceItem(_LayerItem):
     """Utilization bands, anchor arrows, solved-point rings and every label, painted by one item."""
 
@@ -955,7 +1314,7 @@ class ForceItem(_LayerItem):
         self._band_memo: dict = {}
         self._flat_pens: dict[int, QPen] = {}
         self._band_paths: dict[int, tuple] = {}  # per colour: (piece ends, (pen, path)) of the last set_bands
-        self._piece_memo: dict = {}  # id(segment record) -> (record, a, b, piece, colour) of the last set_bands
+        self._band_state = _BandState()  # what the last set_bands made of each piece and solved point
         self._drawn: tuple = (None, {})
         self._drawn_xy = PerPoint(lambda p: _scene(p.xy))
         self._point_ids = PerPoint(operator.attrgetter("id"))
@@ -980,44 +1339,81 @@ class ForceItem(_LayerItem):
         """
         if pos is None:
             pos = scene_positions(rig, result)
-        by_colour: dict[int, list[tuple[float, float]]] = {}
-        pieces = []
+        st = self._band_state
+        names, values = tuple(pos), tuple(pos.values())
+        moved = _moved(names, values, st.pos_names, st.pos_values)  # points whose scene tuple is another object
+        st.pos_names, st.pos_values = names, values
+        pos_get = pos.get
         colours = _BUCKET_RGBA
         scale = BAND_BUCKETS / BAND_MAX_UTIL
-        last, memo = self._piece_memo, {}
-        pos_get, last_get = pos.get, last.get
-        for s in result.segments:
-            a, b = pos_get(s.from_point), pos_get(s.to_point)
+
+        def piece(_i, s, _old):
+            read = (s.from_point, s.to_point)
+            a, b = pos_get(read[0]), pos_get(read[1])
             if a is None or b is None:
-                continue
-            # the very record at the very positions of the last call keeps its piece tuple and colour (the
-            # same objects: the placer's obstacle cache compares them by identity)
-            hit = last_get(id(s))
-            if hit is None or hit[0] is not s or hit[1] is not a or hit[2] is not b:
-                rgba = None if s.tension_N <= SLACK_N else \
-                    colours[int(round(min(max(s.utilization, 0.0), BAND_MAX_UTIL) * scale))]
-                hit = (s, a, b, ((s.rope, s.index), a, b), rgba)
-            memo[id(s)] = hit
-            pieces.append(hit[3])
-            rgba = hit[4]
-            if rgba is None:
-                continue
-            ends = by_colour.get(rgba)
-            if ends is None:
-                by_colour[rgba] = [a, b]
-            else:
-                ends.append(a)
-                ends.append(b)
+                return read, None, None, None
+            rgba = None if s.tension_N <= SLACK_N else \
+                colours[int(round(min(max(s.utilization, 0.0), BAND_MAX_UTIL) * scale))]
+            return read, None, ((s.rope, s.index), a, b), rgba
+
+        # a piece whose record and ends are the last call's objects keeps its piece tuple and colour (the same
+        # objects: the placer's obstacle cache compares them by identity)
+        entries = st.pieces
+        old_outs, old_extras = entries.outs, entries.extras
+        todo = entries.update(None, result.segments, moved, piece)
+        outs, extras = entries.outs, entries.extras
+        if todo is not None and not todo and st.pieces_out is not None:
+            pieces = st.pieces_out
+        else:
+            pieces = st.pieces_out = list(filter(None, outs))
+        # the ends of each colour's pieces, in the order of the segments; a drag step that keeps every
+        # piece's colour puts the moved ends in place of the old ones
+        if todo is not None and all(extras[i] == old_extras[i] and (outs[i] is None) == (old_outs[i] is None)
+                                    for i in todo):
+            by_colour = dict(st.by_colour)
+            where = st.where
+            copied: set = set()
+            for i in todo:
+                rgba, out = extras[i], outs[i]
+                if rgba is None or out is None:
+                    continue
+                if rgba not in copied:
+                    by_colour[rgba] = list(by_colour[rgba])
+                    copied.add(rgba)
+                k = where[i]
+                by_colour[rgba][k:k + 2] = out[1:]
+        else:
+            by_colour = {}
+            where = st.where = [0] * len(outs)
+            for i, (out, rgba) in enumerate(zip(outs, extras)):
+                if out is None or rgba is None:
+                    continue
+                ends = by_colour.get(rgba)
+                if ends is None:
+                    ends = by_colour[rgba] = []
+                where[i] = len(ends)
+                ends.append(out[1])
+                ends.append(out[2])
+        st.by_colour = by_colour
         old = self._band_paths
         self._band_paths = {}
-        self._piece_memo = memo
         self.bands = []
         self.band_ends = []
         for rgba in sorted(by_colour, key=_BUCKET_ORDER.__getitem__):
             ends = by_colour[rgba]
             kept = old.get(rgba)
+            moved_ends = None if kept is None or len(kept[0]) != len(ends) else \
+                list(compress(range(len(ends)), map(is_not, ends, kept[0])))
             if kept is not None and kept[0] == ends:
                 band = kept[1]
+            elif moved_ends is not None and len(ends) == kept[1][1].elementCount() and all(
+                    ends[k] != ends[k ^ 1] for k in moved_ends):
+                # the same number of pieces and none of zero length (a path drops a line to where it already is;
+                # without one, element k is end k): the kept path with the moved ends set, as one made afresh
+                path = QPainterPath(kept[1][1])
+                for k in moved_ends:
+                    path.setElementPositionAt(k, *ends[k])
+                band = (kept[1][0], path)
             else:
                 path = QPainterPath()
                 for i in range(0, len(ends) - 1, 2):
@@ -1030,8 +1426,20 @@ class ForceItem(_LayerItem):
             self.bands.append(band)
             self.band_ends.append(ends)
         drawn = self._drawn_positions(rig)
-        self.moved_points = [pos[pid] for pid in result.points
-                             if pid in drawn and pos[pid] != drawn[pid] and math.dist(pos[pid], drawn[pid]) > 1e-6]
+        drawn_names, drawn_values = tuple(drawn), tuple(drawn.values())
+        changed = _moved(drawn_names, drawn_values, st.drawn_names, st.drawn_values)
+        st.drawn_names, st.drawn_values = drawn_names, drawn_values
+        solved = tuple(result.points)
+
+        def ring(i, _xy, _old):
+            pid = solved[i]
+            at, was = pos[pid], drawn.get(pid)
+            return (pid,), None, (at if was is not None and at != was and math.dist(at, was) > 1e-6 else None), None
+
+        # a solved point whose solved place (the solver's tuple, which fixes its scene tuple) and drawn place
+        # are the objects of the last call keeps its ring
+        st.rings.update(solved, tuple(result.points.values()), changed, ring)
+        self.moved_points = list(filter(None, st.rings.outs))
         return pieces
 
     def _drawn_positions(self, rig: Rig) -> dict[str, tuple[float, float]]:
@@ -1991,7 +2399,10 @@ class ResultOverlay(QObject):
         self.skipped = place_labels(self.force_item.labels, to_px, self.force_item.label_size, markers, self.pieces,
                                     boxes, previous, self._obstacles, frame,
                                     keep_hidden=self._keep_hidden)
-        self._memo = placement_memo(self.force_item.labels, to_px, previous if same else None)
+        labels, kept = self.force_item.labels, self._obstacles.kept
+        memo = kept.memo_for(labels, to_px, previous if same else None)
+        self._memo = memo if memo is not None else placement_memo(labels, to_px, previous if same else None)
+        kept.remember(labels, self._memo)
         self._memo_scale = m11
         self.force_item.refresh_rect(self._m_per_px())
         if self.result is not None and self.rig is not None:

@@ -30,8 +30,8 @@ def fresh(markers, pieces, boxes) -> _Grid:
 
 def content(grid: _Grid):
     """The grid as a multiset per cell (the order within a cell does not change what the placer finds)."""
-    rects = {k: sorted(v) for k, v in grid.rects.items() if v}
-    points = {k: sorted(v, key=repr) for k, v in grid.points.items() if v}
+    rects = {k: sorted(r for r, n in v.items() for _ in range(n)) for k, v in grid.rects.items() if v}
+    points = {k: sorted((e for e, n in v.items() for _ in range(n)), key=repr) for k, v in grid.points.items() if v}
     return rects, points
 
 
@@ -76,3 +76,20 @@ def test_a_kept_grid_updated_step_by_step_holds_what_a_fresh_grid_holds(sequence
     for markers, pieces, boxes in sequence:
         grid = cache.update(FRAME, to_px, markers, pieces, boxes)
         assert content(grid) == content(fresh(markers, pieces, boxes))
+
+
+def test_a_rect_or_point_put_in_twice_stays_until_taken_out_twice():
+    grid = _Grid()
+    r = (10.0, 10.0, 80.0, 20.0)  # spans two cells
+    grid.add_rect(r)
+    grid.add_rect(r)
+    grid.add_point(12.0, 15.0, "a")
+    grid.add_point(12.0, 15.0, "a")
+    assert grid.crossings(r, "b") == 2 and grid.crossings(r, "a") == 0  # each sample counts, as in a list
+    grid.remove_rect(r)
+    grid.remove_point(12.0, 15.0, "a")
+    assert grid.hits_rect((50.0, 12.0, 5.0, 5.0)) and grid.crossings(r, "b") == 1
+    grid.remove_rect(r)
+    grid.remove_point(12.0, 15.0, "a")
+    assert not grid.hits_rect((50.0, 12.0, 5.0, 5.0)) and grid.crossings(r, "b") == 0
+    assert content(grid) == ({}, {})

@@ -1,0 +1,120 @@
+"""Label placement continued from the last call (labels left in the kept grid) equals placement from scratch.
+
+Crowded scenes of point and piece labels over a few steps: most labels stay the very objects, a few are
+replaced by new ones (moved, other text, other importance), obstacles come and go, and the list sometimes
+changes length; each step's placement through an ObstacleCache (as the overlay does it during a drag) is
+compared with place_labels building its grid afresh from copies of the same labels and the same memo.
+"""
+
+from __future__ import annotations
+
+import copy
+
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from PySide6.QtGui import QColor
+
+from sketchpad.overlay import ObstacleCache, OverlayLabel, place_labels, placement_memo
+
+FRAME = (10.0, 10.0, 0.0, 0.0)  # 10 px per metre, no pan
+
+
+def to_px(p):
+    return (p[0] * FRAME[0] + FRAME[2], p[1] * FRAME[1] + FRAME[3])
+
+
+def size_of(lab):
+    return (8.0 + 6.0 * len(lab.lines[0]), 16.0)
+
+
+coord = st.integers(0, 30).map(float)
+
+
+@st.composite
+def label(draw, key):
+    """A point label, or a piece label (with an end), in a small crowded area."""
+    base = (draw(coord), draw(coord))
+    piece = draw(st.booleans())
+    return OverlayLabel(kind="tension" if piece else "anchor", key=key, lines=(draw(st.sampled_from(["1 kN", "12.5 kN", "x"])),),
+                        values={}, colour=QColor(0, 0, 0), priority=float(draw(st.sampled_from([30, 50, 50, 90]))),
+                        base=base, end=(draw(coord), draw(coord)) if piece else None)
+
+
+def placement(labels):
+    return [(lab.kind, lab.key, lab.placed, lab.at, lab.rect, lab.leader) for lab in labels]
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.data())
+def test_a_placement_continued_from_the_last_one_equals_a_placement_from_scratch(data):
+    draw = data.draw
+    n = draw(st.integers(3, 24))
+    labels = [draw(label(("k", i))) for i in range(n)]
+    markers = [(draw(coord), draw(coord)) for _ in range(draw(st.integers(0, 6)))]
+    pieces = [(("k", 0), (0.0, 0.0), (draw(coord), draw(coord)))]
+    boxes = [((draw(coord), draw(coord)), (3.0, -8.0, 20.0, 12.0)) for _ in range(draw(st.integers(0, 3)))]
+    cache = ObstacleCache()
+    previous = None
+    for step in range(draw(st.integers(2, 7))):
+        if step:
+            labels = list(labels)
+            for j in range(draw(st.integers(0, 4))):  # a few labels become new objects, some with another key
+                i = draw(st.integers(0, len(labels) - 1))
+                how = draw(st.integers(0, 2))
+                key = labels[i].key if how else ("k", 200 + 10 * step + j)
+                labels[i] = draw(label(key)) if how < 2 else copy.copy(labels[i])
+            if draw(st.integers(0, 5)) == 0:  # the list grows (a new key) or shrinks
+                if draw(st.booleans()):
+                    labels.append(draw(label(("k", 100 + step))))
+                elif len(labels) > 1:
+                    labels.pop(draw(st.integers(0, len(labels) - 1)))
+            if draw(st.booleans()):  # obstacles come and go
+                markers = markers[1:] + [(draw(coord), draw(coord))]
+            if draw(st.integers(0, 3)) == 0:
+                boxes = [((draw(coord), draw(coord)), (3.0, -8.0, 20.0, 12.0))] + boxes[1:]
+        keep_hidden = draw(st.booleans())
+        fresh = copy.deepcopy(labels)
+        want = place_labels(fresh, to_px, size_of, markers, pieces, boxes, previous, keep_hidden=keep_hidden)
+        got = place_labels(labels, to_px, size_of, markers, pieces, boxes, previous, cache, FRAME, keep_hidden)
+        assert (got, placement(labels)) == (want, placement(fresh)), step
+        memo = cache.kept.memo_for(labels, to_px, previous)
+        if memo is not None:
+            assert memo == placement_memo(labels, to_px, previous)
+        else:
+            memo = placement_memo(labels, to_px, previous)
+        cache.kept.remember(labels, memo)
+        previous = memo
+
+
+def test_drag_steps_continue_the_last_placement_and_equal_a_placement_from_scratch(main_window):
+    """The overlay during a drag on the 50-rope rig, crowded (fitted) and zoomed in: every step continues the
+    last placement, and labels sit where place_labels from scratch puts copies of them."""
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    doc, sched, view = main_window.document, main_window.live.scheduler, main_window.view
+    doc.replace_all(fifty_rope_rig())
+    view.zoom_to_fit()
+    sched.background, sched.background_after_ms = False, float("inf")
+    sched.settle_timer.setInterval(600_000)  # every step below is part of one drag
+    sched.solve_now()
+    ov = main_window.live.overlay
+    rig = doc.rig
+    h = rig.point("H4")
+    continued = 0
+    for i in range(1, 13):
+        if i == 7:
+            view.zoom_at(2.0, view.viewport().rect().center())  # room for more labels: placed afresh at the zoom
+        previous = ov._memo
+        doc.preview(rig.moved("H4", h.x + 0.6 * (i % 5), h.y - 0.4 * i))
+        follows = ov._obstacles.kept.follows(ov.labels, previous)
+        sched._change_gap_ms = 1.0  # a drag step however long the last one took
+        sched.fire()
+        continued += follows and ov._obstacles.kept.touched is not None
+        t = view.transform()
+        px = lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())  # noqa: E731
+        again = copy.deepcopy(ov.labels)
+        skipped = place_labels(again, px, ov.force_item.label_size, ov._markers(ov.rig, ov.result), ov.pieces,
+                               ov._name_boxes(ov.rig), previous, keep_hidden=ov._keep_hidden)
+        assert (ov.skipped, placement(ov.labels)) == (skipped, placement(again)), i
+        assert ov._memo == placement_memo(ov.labels, px, previous), i
+    assert continued >= 10  # all but the first step (after the settled solve) and maybe the one after the zoom
