@@ -883,6 +883,7 @@ class _LastRows:
 _POINT_ROWS = _LastRows()  # position tuples per structural point
 _SEGMENT_ROWS = _LastRows()  # SegmentResult per piece
 _ANCHOR_ROWS = _LastRows()  # AnchorResult per fixed anchor
+_LOAD_ROWS = _LastRows()  # AnchorResult (force delivered) per load point
 _TURN_ROWS = _LastRows()  # turn per middle pass, kept by the directions of every piece
 
 
@@ -1030,6 +1031,37 @@ def _anchor_records(s: System, f: np.ndarray, f_list: list, sf: float) -> dict[s
     return anchors
 
 
+def _load_records(s: System, f: np.ndarray, f_list: list, sf: float) -> dict[str, AnchorResult]:
+    """The force delivered to each load point (an AnchorResult without capacity); one whose force is bit for
+    bit that of the last Result of the same structure keeps that Result's record."""
+    at = s.load_at
+    rows = f[at] if at else np.zeros((0, 2))
+    key = (at, sf)
+    old, moved = _LOAD_ROWS.changed(key, rows)
+    made = [old[j] if old is not None and not moved[j] else _anchor(*f_list[i], None, sf) for j, i in enumerate(at)]
+    _LOAD_ROWS.keep(key, rows, made)
+    return {s.points[i].id: rec for i, rec in zip(at, made)}
+
+
+#: (hauled runs, their haul points, haul forces, the haul dict) of the last Result: a drag step's rig hauls
+#: with the same forces, so the same dict (and float objects) is handed on.
+_LAST_HAUL: list = [None]
+
+
+def _haul_forces(s: System) -> dict[str, float]:
+    """The haul force at each haul point, N (the sum of the runs hauled there)."""
+    last = _LAST_HAUL[0]
+    if (last is not None and last[0] is s.run_hauled and last[1] is s.run_haul_point
+            and np.array_equal(last[2], s.run_P)):
+        return last[3]
+    haul: dict[str, float] = {}
+    for hauled, hp, P in zip(s.run_hauled.tolist(), s.run_haul_point, s.run_P.tolist()):
+        if hauled:
+            haul[hp] = haul.get(hp, 0.0) + P
+    _LAST_HAUL[0] = (s.run_hauled, s.run_haul_point, s.run_P.copy(), haul)
+    return haul
+
+
 def _deflections(s: System, st: State) -> dict[str, float]:
     """Turn (degrees) of the rope at every middle pass; a pass whose two pieces point bit for bit as in the
     last Result of the same structure keeps that Result's number (the same float object)."""
@@ -1059,12 +1091,8 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
     f = _resultants(s, st)
     f_list = f.tolist()  # Python numbers at once (same values as float())
     anchors = _anchor_records(s, f, f_list, sf)
-    points = s.points
-    loads = {points[i].id: _anchor(*f_list[i], None, sf) for i in s.load_at}
-    haul = {}
-    for hauled, hp, P in zip(s.run_hauled.tolist(), s.run_haul_point, s.run_P.tolist()):
-        if hauled:
-            haul[hp] = haul.get(hp, 0.0) + P
+    loads = _load_records(s, f, f_list, sf)
+    haul = _haul_forces(s)
     deflection = _deflections(s, st)
     scale = _force_scale(s, st)
     residual = _max_norm(st.g) if s.n_dof else 0.0

@@ -12,8 +12,10 @@ from tests.bench.fifty_ropes import fifty_rope_rig
 
 def _fresh(rig, start, ideal=False):
     """The same solve with nothing kept from an earlier Result."""
-    for rows in (equilibrium._POINT_ROWS, equilibrium._SEGMENT_ROWS, equilibrium._ANCHOR_ROWS, equilibrium._TURN_ROWS):
+    for rows in (equilibrium._POINT_ROWS, equilibrium._SEGMENT_ROWS, equilibrium._ANCHOR_ROWS, equilibrium._LOAD_ROWS,
+                 equilibrium._TURN_ROWS):
         rows.forget()
+    equilibrium._LAST_HAUL[0] = None
     return solve(rig, start=start, ideal=ideal)
 
 
@@ -37,6 +39,8 @@ def test_drag_steps_keep_the_records_of_the_still_part_and_equal_a_fresh_build()
             assert got.anchors["R0"] is last.anchors["R0"] and got.anchors["R4"] is not last.anchors["R4"]
             assert got.points["G0"] is last.points["G0"] and got.points["G4"] is not last.points["G4"]
             assert got.deflection_deg["main0@R0"] is last.deflection_deg["main0@R0"]
+            assert got.loads["L0"] is last.loads["L0"] and got.loads["L4"] is not last.loads["L4"]
+            assert got.haul is last.haul  # the same hauls, the same haul forces
         solve(moved, start=start, ideal=False)  # the records made again for this rig: the next step is what counts
         last = solve(moved, start=start, ideal=False)
         start = {pid: xy for pid, xy in last.points.items() if pid != "H4"}
@@ -59,3 +63,12 @@ def test_a_new_safety_factor_or_anchor_capacity_is_never_read_from_kept_records(
     assert res.anchors["R3"].capacity_N == 5000.0
     assert math.isclose(res.anchors["R3"].utilization, res.anchors["R3"].force_N * sf / 5000.0, rel_tol=1e-12)
     assert res == _fresh(rated, None, ideal=True)
+
+
+def test_a_new_haul_force_is_never_read_from_the_kept_haul_forces():
+    rig = fifty_rope_rig()
+    first = solve(rig)
+    pts = tuple(dataclasses.replace(p, force_N=450.0) if p.id == "H3" else p for p in rig.points)
+    res = solve(dataclasses.replace(rig, points=pts))
+    assert res.haul is not first.haul
+    assert res.haul["H3"] == 450.0 and res.haul["H2"] == 600.0  # the haul points' own forces (fifty_rope_rig)
