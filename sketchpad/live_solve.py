@@ -75,8 +75,30 @@ def warm_start(rig: Rig, good_rig: Rig | None, good: Result | None) -> dict[str,
     return start or None
 
 
+#: The last two comparisons of a pair of rigs: (before, after, unmoved points, moved ids or None).  A drag
+#: step compares the new rig with the last solved one for the warm start and for the predictor, and
+#: the predictor compares the last solved rig with the one before, which the previous step compared.
+_PAIRS: list = [None, None]
+
+
+def _pair(before: Rig, after: Rig) -> list:
+    """The memo entry of ``(before, after)`` (a list: [before, after, unmoved, moved or None]), made if new."""
+    for entry in _PAIRS:
+        if entry is not None and entry[0] is before and entry[1] is after:
+            return entry
+    entry = [before, after, _compare(before, after), None]
+    _PAIRS[1], _PAIRS[0] = _PAIRS[0], entry
+    return entry
+
+
 def _unmoved(before: Rig, after: Rig) -> list:
-    """The points of ``after`` drawn where a point of the same id is drawn in ``before``.
+    """The points of ``after`` drawn where a point of the same id is drawn in ``before`` (a list shared with
+    later calls for the same two rigs: never change it)."""
+    return _pair(before, after)[2]
+
+
+def _compare(before: Rig, after: Rig) -> list:
+    """:func:`_unmoved`, computed.
 
     A drag step's rig shares every Point object but the moved one with the last rig, in the same
     order: those are taken as they are, without building a table of every point.
@@ -97,9 +119,12 @@ def _unmoved(before: Rig, after: Rig) -> list:
 
 def moved_points(before: Rig, after: Rig) -> frozenset[str]:
     """Ids of the points whose drawn position differs between two rigs (added or removed ones too)."""
-    ids = {p.id for p in before.points}
-    ids.update(q.id for q in after.points)
-    return frozenset(ids.difference(q.id for q in _unmoved(before, after)))
+    entry = _pair(before, after)
+    if entry[3] is None:
+        ids = {p.id for p in before.points}
+        ids.update(q.id for q in after.points)
+        entry[3] = frozenset(ids.difference(q.id for q in entry[2]))
+    return entry[3]
 
 
 def predicted_start(rig: Rig, plain: Mapping[str, tuple[float, float]] | None, good_rig: Rig | None,

@@ -614,13 +614,21 @@ def _unattached(s: System) -> int | None:
 # --- the solver --------------------------------------------------------------------------------------
 
 def _start_x(s: System, start) -> np.ndarray:
+    """The free coordinates to start from: ``start``'s position (site metres) of each free point it gives
+    with finite coordinates, else the drawn one."""
     xy = s.xy0.copy()
     if start:
-        for i, pid in enumerate(s.point_ids):
-            if s.free[i] and pid in start:
-                px, py = start[pid]
-                if math.isfinite(px) and math.isfinite(py):
-                    xy[i] = (float(px) - s.origin[0], float(py) - s.origin[1])
+        ids = s.point_ids
+        at, given = [], []
+        for i in s.free_at.tolist():
+            v = start.get(ids[i])
+            if v is not None:
+                at.append(i)
+                given.append(v)
+        if at:
+            vals = np.array(given, dtype=float).reshape(-1, 2)
+            ok = np.isfinite(vals).all(axis=1)
+            xy[np.asarray(at)[ok]] = vals[ok] - s.origin
     return s.x_from(xy)
 
 
