@@ -17,6 +17,8 @@ there (``sketchpad.drag_layer``).
 from __future__ import annotations
 
 from functools import reduce
+from itertools import compress
+from operator import is_not, itemgetter, not_
 from typing import Callable, Iterable, Union
 
 from PySide6.QtCore import QPointF, QRect, Qt
@@ -39,7 +41,7 @@ class RetainedLayer:
         self.image: QImage | None = None
         self.frame: tuple | None = None
         self._entries: list | None = None
-        self._ids: dict[int, tuple] = {}  # id -> entry of the last frame's entries (the list keeps them alive)
+        self._ids: dict[int, tuple] | None = {}  # id -> entry of the last frame's entries (None: not made)
         self._used: QRect | None = None
         self._union: QRect | None = None  # the union of the last frame's entry boxes (device px; None: not known)
         self._damage = QRegion()  # device px whose pixels changed since take_damage
@@ -68,20 +70,32 @@ class RetainedLayer:
         if entries is self._entries and self.image is not None and self.frame == full_key:
             return self.image  # the caller's very list of the last frame (a still frame)
         last, last_ids, last_frame = self._entries, self._ids, self.frame
-        ids = {id(e): e for e in entries}
-        self._entries, self._ids = entries, ids
+        self._entries, self._ids = entries, None  # the id map is made when a frame needs it
         if self.image is None or self.frame != full_key or last is None:
             return self._redraw_all(full_key, area, entries, last, last_frame)
-        if len(ids) == len(entries) and len(last_ids) == len(last):  # no entry object twice in a list
-            gone = [e for i, e in last_ids.items() if i not in ids]
-            came = [e for i, e in ids.items() if i not in last_ids]
+        if len(entries) == len(last):
+            # place by place, in C: callers keep the entries of what did not change where they were, so the few
+            # places holding another object are what went and what came.  An entry that only changed place shows
+            # in both with its own key, which _changed_boxes matches: the same difference of keys (a multiset)
+            # as comparing every entry, so the same dirty boxes
+            differ = list(map(is_not, entries, last))
+            gone, came = list(compress(last, differ)), list(compress(entries, differ))
             dirty = _changed_boxes(gone, came)
-            union = self._union
             if gone or came:
-                self._union, self._used = _union_after(union, gone, came), None
+                self._union, self._used = _union_after(self._union, gone, came), None
         else:
-            dirty = _changed_boxes(last, entries)
-            self._union, self._used = None, None
+            if last_ids is None:
+                last_ids = dict(zip(map(id, last), last))
+            ids = self._ids = dict(zip(map(id, entries), entries))
+            if len(ids) == len(entries) and len(last_ids) == len(last):  # no entry object twice in a list
+                gone = list(compress(last_ids.values(), map(not_, map(ids.__contains__, last_ids))))
+                came = list(compress(entries, map(not_, map(last_ids.__contains__, ids))))
+                dirty = _changed_boxes(gone, came)
+                if gone or came:
+                    self._union, self._used = _union_after(self._union, gone, came), None
+            else:
+                dirty = _changed_boxes(last, entries)
+                self._union, self._used = None, None
         if not dirty:
             return self.image  # nothing changed
         if sum(b.width() * b.height() for b in dirty) > MAX_DIRTY_FRACTION * area.width() * area.height():
@@ -101,10 +115,9 @@ class RetainedLayer:
         p.fillRect(region.boundingRect(), Qt.transparent)
         p.setCompositionMode(QPainter.CompositionMode_SourceOver)
         p.setRenderHint(QPainter.Antialiasing, True)
-        intersects = region.intersects
-        for _key, box, op in entries:
-            if intersects(box):
-                _draw(p, op)
+        # the entries whose box meets the region, in paint order, picked in C (most of a frame's entries do not)
+        for op in map(_OP, compress(entries, map(region.intersects, map(_BOX, entries)))):
+            _draw(p, op)
         p.end()
         return self.image
 
@@ -223,6 +236,9 @@ def _changed_boxes(gone: list, came: list) -> list[QRect]:
             left[k] = n - 1
             dirty.append(e[1])
     return dirty
+
+
+_BOX, _OP = itemgetter(1), itemgetter(2)
 
 
 def _draw(p: QPainter, op: Op) -> None:

@@ -135,6 +135,52 @@ def test_a_retained_layer_fed_kept_entry_objects_equals_one_drawn_afresh():
     assert layer.partial_redraws == before  # every entry rebuilt or kept as it was: nothing redrawn
 
 
+def test_a_retained_layer_compares_kept_entries_place_by_place_as_a_full_comparison_of_keys():
+    """A list as long as the last one is compared place by place (an object kept in its place is unchanged).
+    Fed kept objects that move, are rebuilt with equal keys, are shown twice or change places, the layer
+    redraws exactly where a layer fed every entry as a new object (so comparing every key) does, with the
+    same pixels; until an entry changes places both equal the drawables painted afresh."""
+    rng = random.Random(23)
+    swatches = []
+    for i in range(5):
+        pix = QPixmap(12 + 4 * i, 8 + 3 * i)
+        pix.fill(QColor.fromHsv(70 * i, 180, 230, 80 + 30 * i))
+        swatches.append(pix)
+
+    def entry(k, x, y):
+        return _chip_entry(swatches, k, x, y)
+
+    entries = [entry(rng.randrange(5), rng.uniform(0, 180), rng.uniform(0, 120)) for _ in range(40)]
+    kept, afresh = RetainedLayer(), RetainedLayer()
+    area = QRect(0, 0, 220, 150)
+    kept.update(("frame",), area, entries)
+    afresh.update(("frame",), area, [entry(*e[0]) for e in entries])
+    kept.take_damage(), afresh.take_damage()
+    swapped = False  # after a change of places the order of overlapping chips differs from the last redraw (both layers alike)
+    for step in range(40):
+        entries = list(entries)
+        for _ in range(rng.randrange(1, 4)):
+            i, j = rng.randrange(len(entries)), rng.randrange(len(entries))
+            roll = rng.random()
+            if roll < 0.4:
+                (k, x, y) = entries[i][0]
+                entries[i] = entry(k, x + rng.uniform(-6, 6), y + rng.uniform(-6, 6))
+            elif roll < 0.6:
+                entries[i] = entry(*entries[i][0])
+            elif roll < 0.8:
+                entries[j] = entries[i]
+            elif i != j:
+                entries[i], entries[j] = entries[j], entries[i]
+                swapped = True
+        got = pixels(kept.update(("frame",), area, entries))
+        want = pixels(afresh.update(("frame",), area, [entry(*e[0]) for e in entries]))
+        assert kept.take_damage() == afresh.take_damage(), f"step {step}"
+        assert (got == want).all(), f"step {step}"
+        if not swapped:
+            assert np.abs(got - pixels(fresh((220, 150), entries))).max() <= ROUNDING, f"step {step}"
+    assert kept.full_redraws == afresh.full_redraws == 1 and kept.partial_redraws >= 15
+
+
 def test_a_retained_layers_used_part_kept_from_the_last_frame_equals_the_one_of_its_entries_afresh():
     """The used part follows entries moving inside it (kept: no walk over every entry), the entry that made
     an edge going (the part shrinks) and entries coming past an edge (it grows)."""
