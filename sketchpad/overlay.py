@@ -1290,6 +1290,8 @@ class ForceItem(_LayerItem):
         self._draw: list[tuple] = []
         self._draw_for: list | None = None
         self._draw_grey = False
+        # per placed label object: (label, at, rect, leader, grey, m_per_px, its _draw entry, its scene bounds)
+        self._label_draw: dict[int, tuple] = {}
         self._grey_band_pen = theme.cosmetic_pen(theme.OVERLAY_GREY, theme.OVERLAY_BAND_PX)
         self.labels: list[OverlayLabel] = []
         self.arrows: list[AnchorArrow] = []
@@ -1562,12 +1564,10 @@ class ForceItem(_LayerItem):
         if self.arrows and reach > 0:
             xs, ys = [a.base[0] for a in self.arrows], [a.base[1] for a in self.arrows]
             xs0.append(min(xs) - reach), ys0.append(min(ys) - reach), xs1.append(max(xs) + reach), ys1.append(max(ys) + reach)
-        for lab in self.labels:
-            if lab.placed:
-                x, y, w, h = lab.rect
-                if w > 0 or h > 0:
-                    lx, ly = lab.at[0] + x * m_per_px, lab.at[1] + y * m_per_px
-                    xs0.append(lx), ys0.append(ly), xs1.append(lx + w * m_per_px), ys1.append(ly + h * m_per_px)
+        draw, bounds = self._label_entries(m_per_px)
+        if bounds:
+            bx0, by0, bx1, by1 = zip(*bounds)
+            xs0.append(min(bx0)), ys0.append(min(by0)), xs1.append(max(bx1)), ys1.append(max(by1))
         pad = (theme.FAIL_RING_PX + theme.OVERLAY_BAND_PX) * m_per_px
         if self.fail_point is not None and pad > 0:
             fx, fy = self.fail_point
@@ -1577,12 +1577,41 @@ class ForceItem(_LayerItem):
             self.set_rect(QRectF(x0, y0, x1 - x0, y1 - y0))
         else:
             self.set_rect(QRectF())
-        # what paint() blits for each placed label: anchor (scene), box offset and size (px), leader, pixmap
-        self._draw = [(lab.at[0], lab.at[1], *lab.rect, lab.leader,
-                       self.label_pixmap(lab, theme.OVERLAY_GREY if self.grey else lab.colour))
-                      for lab in self.labels if lab.placed]
+        self._draw = draw
         self._draw_for, self._draw_grey = self.labels, self.grey
         self.update()
+
+    def _label_entries(self, m_per_px: float) -> tuple[list[tuple], list[tuple]]:
+        """What paint() blits for each placed label -- anchor (scene), box offset and size (px), leader,
+        pixmap -- and the scene bounds (x0, y0, x1, y1) of each placed label box that has a size.
+
+        A label object placed where it was at the last call, at the same zoom and greyness, keeps its
+        entry and bounds (a label object's lines and colour never change, so neither does its pixmap);
+        only the labels the placer moved and new label objects are worked out again."""
+        grey = self.grey
+        last, kept = self._label_draw, {}
+        draw, bounds = [], []
+        for lab in self.labels:
+            if not lab.placed:
+                continue
+            at, rect, leader = lab.at, lab.rect, lab.leader
+            c = last.get(id(lab))
+            if (c is None or c[0] is not lab or c[1] != at or c[2] != rect or c[3] != leader or c[4] != grey
+                    or c[5] != m_per_px):
+                x, y, w, h = rect
+                entry = (at[0], at[1], x, y, w, h, leader,
+                         self.label_pixmap(lab, theme.OVERLAY_GREY if grey else lab.colour))
+                box = None
+                if w > 0 or h > 0:
+                    lx, ly = at[0] + x * m_per_px, at[1] + y * m_per_px
+                    box = (lx, ly, lx + w * m_per_px, ly + h * m_per_px)
+                c = (lab, at, rect, leader, grey, m_per_px, entry, box)
+            kept[id(lab)] = c
+            draw.append(c[6])
+            if c[7] is not None:
+                bounds.append(c[7])
+        self._label_draw = kept
+        return draw, bounds
 
     # --- painting -----------------------------------------------------------------------------------
     def paint(self, painter: QPainter, option, widget=None) -> None:

@@ -1,0 +1,99 @@
+"""ForceItem.refresh_rect keeps each placed label's blit entry and bounds between drag steps (_label_entries);
+what it keeps must equal what a fresh computation from the labels as they are now gives."""
+
+from __future__ import annotations
+
+import math
+
+from PySide6.QtCore import QRectF
+
+from sketchpad import theme
+from tests.sketchpad.test_drag_layer import fifty_rope_window
+
+
+def fresh_entries_and_rect(item, m_per_px: float):
+    """The blit entries and the item's rect worked out from scratch, as refresh_rect did before it kept entries."""
+    entries = [(lab.at[0], lab.at[1], *lab.rect, lab.leader,
+                item.label_pixmap(lab, theme.OVERLAY_GREY if item.grey else lab.colour).toImage())
+               for lab in item.labels if lab.placed]
+    xs0, ys0, xs1, ys1 = [], [], [], []
+    for _pen, path in item.bands:
+        r = path.boundingRect()
+        if not r.isNull():
+            xs0.append(r.left()), ys0.append(r.top()), xs1.append(r.right()), ys1.append(r.bottom())
+    reach = (theme.ANCHOR_ARROW_PX + theme.ANCHOR_ARROW_HEAD_PX) * m_per_px
+    if item.arrows and reach > 0:
+        xs, ys = [a.base[0] for a in item.arrows], [a.base[1] for a in item.arrows]
+        xs0.append(min(xs) - reach), ys0.append(min(ys) - reach), xs1.append(max(xs) + reach), ys1.append(max(ys) + reach)
+    for lab in item.labels:
+        if lab.placed:
+            x, y, w, h = lab.rect
+            if w > 0 or h > 0:
+                lx, ly = lab.at[0] + x * m_per_px, lab.at[1] + y * m_per_px
+                xs0.append(lx), ys0.append(ly), xs1.append(lx + w * m_per_px), ys1.append(ly + h * m_per_px)
+    pad = (theme.FAIL_RING_PX + theme.OVERLAY_BAND_PX) * m_per_px
+    if item.fail_point is not None and pad > 0:
+        fx, fy = item.fail_point
+        xs0.append(fx - pad), ys0.append(fy - pad), xs1.append(fx + pad), ys1.append(fy + pad)
+    if not xs0:
+        return entries, QRectF()
+    x0, y0, x1, y1 = min(xs0) - pad, min(ys0) - pad, max(xs1) + pad, max(ys1) + pad
+    return entries, QRectF(x0, y0, x1 - x0, y1 - y0)
+
+
+def assert_fresh(ov) -> None:
+    """The item's blit entries and rect equal the fresh ones."""
+    item = ov.force_item
+    entries, rect = fresh_entries_and_rect(item, ov._m_per_px())
+    got = [(*e[:7], e[7].toImage()) for e in item._draw]
+    assert got == entries
+    assert item.boundingRect() == rect
+
+
+def test_label_entries_kept_between_drag_steps_equal_entries_worked_out_afresh(main_window):
+    doc, sched, view = fifty_rope_window(main_window)
+    ov = main_window.live.overlay
+    item = ov.force_item
+    base = doc.rig
+    p = base.point("H7")
+    kept_total = 0
+    for i in range(8):
+        a = (i + 1) * 0.3
+        before = {id(e) for e in item._draw}
+        doc.preview(base.moved("H7", p.x + 1.5 * math.sin(a), p.y + 1.5 * math.cos(a)))
+        sched.fire()
+        view.viewport().repaint()
+        assert_fresh(ov)
+        kept = sum(1 for e in item._draw if id(e) in before)
+        assert kept < len(item._draw)  # the moved part's labels were worked out again
+        kept_total += kept
+    assert kept_total > 0  # and the others were kept: the path under test was taken
+
+    # a label the placer moves, hides or shows again, without a new label object
+    placed = [lab for lab in item.labels if lab.placed]
+    moved, hidden = placed[0], placed[1]
+    moved.at = (moved.at[0] + 0.5, moved.at[1] - 0.25)
+    item.refresh_rect(ov._m_per_px())
+    assert_fresh(ov)
+    moved.rect = (moved.rect[0] + 3.0, moved.rect[1], moved.rect[2], moved.rect[3])
+    item.refresh_rect(ov._m_per_px())
+    assert_fresh(ov)
+    hidden.placed = False
+    item.refresh_rect(ov._m_per_px())
+    assert_fresh(ov)
+    hidden.placed = True
+    moved.leader = not moved.leader
+    item.refresh_rect(ov._m_per_px())
+    assert_fresh(ov)
+
+    # greyed, then a zoom (another scale of pixels to metres), then back
+    item.grey = True
+    item.refresh_rect(ov._m_per_px())
+    assert_fresh(ov)
+    item.grey = False
+    view.scale(1.7, 1.7)
+    ov.relayout()
+    assert_fresh(ov)
+    item.refresh_rect(ov._m_per_px() * 2.0)  # the scale alone changes the bounds
+    entries, rect = fresh_entries_and_rect(item, ov._m_per_px() * 2.0)
+    assert item.boundingRect() == rect
