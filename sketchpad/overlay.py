@@ -193,7 +193,9 @@ class PerPoint:
             return self._values
         old, make = self._points, self._make
         if old is not None and len(old) == len(points):
-            values = [v if p is q else make(p) for p, q, v in zip(points, old, self._values)]
+            values = list(self._values)  # a copy: the last answer is never changed in place
+            for i in compress(range(len(points)), map(is_not, points, old)):  # only the changed Point objects
+                values[i] = make(points[i])
         else:
             values = [make(p) for p in points]
         self._points, self._values = points, values

@@ -97,3 +97,39 @@ def test_label_entries_kept_between_drag_steps_equal_entries_worked_out_afresh(m
     item.refresh_rect(ov._m_per_px() * 2.0)  # the scale alone changes the bounds
     entries, rect = fresh_entries_and_rect(item, ov._m_per_px() * 2.0)
     assert item.boundingRect() == rect
+
+
+def test_per_point_values_patched_for_changed_points_equal_values_made_afresh():
+    import random
+
+    from sketchpad.overlay import PerPoint
+
+    class P:  # a Point stand-in: only its identity and value matter to PerPoint
+        def __init__(self, v: float) -> None:
+            self.v = v
+
+    made = []
+
+    def make(p):
+        made.append(p)
+        return (p.v, -p.v)
+
+    rng = random.Random(5)
+    table = PerPoint(make)
+    points = tuple(P(rng.random()) for _ in range(30))
+    for step in range(40):
+        if step % 10 == 9:  # now and then another count of points: made afresh
+            points = points + (P(rng.random()),)
+            changed = set(range(len(points)))
+        else:
+            changed = set(rng.sample(range(len(points)), rng.randint(0, 4)))
+            points = tuple(P(rng.random()) if i in changed else p for i, p in enumerate(points))
+        last = table._values
+        last_copy = list(last)
+        made.clear()
+        got = table.values(points)
+        assert got == [(p.v, -p.v) for p in points]  # as made afresh
+        assert last == last_copy  # the last answer was not changed in place
+        if step:
+            assert sorted(map(id, made)) == sorted(id(points[i]) for i in changed)  # only the changed ones made
+        assert table.values(points) is got  # the same tuple again: the same answer
