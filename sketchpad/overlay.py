@@ -132,20 +132,43 @@ def scene_positions(rig: Rig, result: Result) -> dict[str, tuple[float, float]]:
 
     A solved position given as the very tuple of the last call keeps its scene tuple (the solver hands
     on the tuples of points a drag step did not move), so unchanged points keep equal, identical positions.
+    When the solved points and the rig's points are the last call's names in the same order, only the
+    solved tuples and Point objects that are other objects are worked out again (a drag step moves a
+    few); the answer is always a new dict, equal to one made afresh (kept for the next call: callers
+    read it and never change it).
     """
     solved = result.points
-    memo_src, memo_pos = _scene_memo[1], _scene_memo[2]
-    made, src = {}, {}
-    for pid, xy in solved.items():
-        if memo_src.get(pid) is xy:
-            made[pid] = memo_pos[pid]
-        else:
-            made[pid] = (float(xy[0]), -float(xy[1]))
-        src[pid] = xy
-    _scene_memo[:] = [solved, src, made]
+    names, values = tuple(solved), tuple(solved.values())
+    pts = rig.points
+    m_names, m_values, m_made, m_pts, m_pos = _scene_memo
+    if m_pos is not None and names == m_names and len(pts) == len(m_pts):
+        made = m_made
+        moved = list(compress(range(len(values)), map(is_not, values, m_values)))
+        if moved:
+            made = dict(m_made)
+            for i in moved:
+                xy = values[i]
+                made[names[i]] = (float(xy[0]), -float(xy[1]))
+        changed = list(compress(range(len(pts)), map(is_not, pts, m_pts)))
+        if all(pts[i].id == m_pts[i].id for i in changed):
+            pos = dict(m_pos)
+            for i in moved:
+                pid = names[i]
+                pos[pid] = made[pid]
+            for i in changed:
+                p = pts[i]
+                if p.id not in made:
+                    pos[p.id] = (float(p.x), -float(p.y))
+            _scene_memo[:] = [names, values, made, pts, pos]
+            return pos
+    else:
+        memo_src = dict(zip(m_names, m_values))
+        made = {}
+        for pid, xy in solved.items():
+            made[pid] = m_made[pid] if memo_src.get(pid) is xy else (float(xy[0]), -float(xy[1]))
     pos = {}
     found = 0
-    for p in rig.points:  # in the rig's order: solved where solved, else as drawn
+    for p in pts:  # in the rig's order: solved where solved, else as drawn
         pid = p.id
         hit = made.get(pid)
         if hit is None:
@@ -155,6 +178,7 @@ def scene_positions(rig: Rig, result: Result) -> dict[str, tuple[float, float]]:
             found += 1
     if found != len(made):
         pos.update(made)  # a solved point the rig no longer has (a greyed result of an older rig) stays
+    _scene_memo[:] = [names, values, made, pts, pos]
     return pos
 
 
@@ -202,7 +226,9 @@ class PerPoint:
         return values
 
 
-_scene_memo: list = [None, {}, {}]  # (result.points, its scene positions, source tuples) of the last call
+#: the last call of scene_positions: names and tuples of result.points, their scene positions (a dict in that
+#: order), rig.points and the answer (None before the first call); nothing in it is changed in place
+_scene_memo: list = [(), (), {}, (), None]
 
 
 _pass_keys_for: list = [None, {}]  # (rig.ropes, pass keys) of the last call: a drag keeps the ropes

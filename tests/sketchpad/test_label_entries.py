@@ -133,3 +133,59 @@ def test_per_point_values_patched_for_changed_points_equal_values_made_afresh():
         if step:
             assert sorted(map(id, made)) == sorted(id(points[i]) for i in changed)  # only the changed ones made
         assert table.values(points) is got  # the same tuple again: the same answer
+
+
+def fresh_scene_positions(rig, result) -> dict:
+    """Scene positions as the docstring says, from nothing kept: solved where solved (y down), else as drawn,
+    in the rig's order, then solved points the rig does not have."""
+    pos = {}
+    for p in rig.points:
+        xy = result.points.get(p.id)
+        pos[p.id] = (float(xy[0]), -float(xy[1])) if xy is not None else (float(p.x), -float(p.y))
+    for pid, xy in result.points.items():
+        if pid not in pos:
+            pos[pid] = (float(xy[0]), -float(xy[1]))
+    return pos
+
+
+def test_scene_positions_patched_between_calls_equal_positions_made_afresh():
+    import random
+    from types import SimpleNamespace as NS
+
+    from sketchpad.overlay import scene_positions
+
+    rng = random.Random(11)
+    point = lambda pid: NS(id=pid, x=rng.uniform(-9, 9), y=rng.uniform(-9, 9))  # noqa: E731
+    points = tuple(point(f"P{i}") for i in range(25))
+    solved = {p.id: (p.x + 0.1, p.y - 0.2) for p in points[:18]}
+    solved["gone"] = (1.0, 2.0)  # a point of an older rig (a greyed result)
+    last = None
+    for step in range(60):
+        kind = step % 12
+        if kind == 5:  # a point added and the order changed
+            points = tuple(reversed(points + (point(f"N{step}"),)))
+        elif kind == 8:  # a point's id changed in its slot
+            i = rng.randrange(len(points))
+            points = points[:i] + (point(f"R{step}"),) + points[i + 1:]
+        elif kind == 10:  # a solved point more and one fewer
+            solved = dict(solved)
+            solved.pop(next(iter(solved)))
+            solved[points[-1].id] = (0.5, 0.25)
+        else:  # a drag step: a few Point objects and solved tuples are new, the rest handed on
+            for i in rng.sample(range(len(points)), 2):
+                p = points[i]
+                points = points[:i] + (NS(id=p.id, x=p.x + 0.3, y=p.y - 0.1),) + points[i + 1:]
+            solved = dict(solved)
+            for pid in rng.sample(sorted(solved), 3):
+                solved[pid] = (solved[pid][0] + 0.2, solved[pid][1])
+        rig, result = NS(points=points), NS(points=solved)
+        got = scene_positions(rig, result)
+        want = fresh_scene_positions(rig, result)
+        assert got == want and list(got) == list(want)  # same positions, same order
+        assert got is not last
+        if last is not None and kind not in (5, 8, 10):
+            same = [pid for pid in got if pid in last and got[pid] is last[pid]]
+            assert same  # positions of what did not move are handed on (the path under test)
+        last = got
+    again = scene_positions(NS(points=points), NS(points=dict(solved)))  # equal tuples, a new dict
+    assert again == fresh_scene_positions(NS(points=points), NS(points=solved))
