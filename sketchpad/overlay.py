@@ -132,20 +132,43 @@ def scene_positions(rig: Rig, result: Result) -> dict[str, tuple[float, float]]:
 
     A solved position given as the very tuple of the last call keeps its scene tuple (the solver hands
     on the tuples of points a drag step did not move), so unchanged points keep equal, identical positions.
+    When the solved points and the rig's points are the last call's names in the same order, only the
+    solved tuples and Point objects that are other objects are worked out again (a drag step moves a
+    few); the answer is always a new dict, equal to one made afresh (kept for the next call: callers
+    read it and never change it).
     """
     solved = result.points
-    memo_src, memo_pos = _scene_memo[1], _scene_memo[2]
-    made, src = {}, {}
-    for pid, xy in solved.items():
-        if memo_src.get(pid) is xy:
-            made[pid] = memo_pos[pid]
-        else:
-            made[pid] = (float(xy[0]), -float(xy[1]))
-        src[pid] = xy
-    _scene_memo[:] = [solved, src, made]
+    names, values = tuple(solved), tuple(solved.values())
+    pts = rig.points
+    m_names, m_values, m_made, m_pts, m_pos = _scene_memo
+    if m_pos is not None and names == m_names and len(pts) == len(m_pts):
+        made = m_made
+        moved = list(compress(range(len(values)), map(is_not, values, m_values)))
+        if moved:
+            made = dict(m_made)
+            for i in moved:
+                xy = values[i]
+                made[names[i]] = (float(xy[0]), -float(xy[1]))
+        changed = list(compress(range(len(pts)), map(is_not, pts, m_pts)))
+        if all(pts[i].id == m_pts[i].id for i in changed):
+            pos = dict(m_pos)
+            for i in moved:
+                pid = names[i]
+                pos[pid] = made[pid]
+            for i in changed:
+                p = pts[i]
+                if p.id not in made:
+                    pos[p.id] = (float(p.x), -float(p.y))
+            _scene_memo[:] = [names, values, made, pts, pos]
+            return pos
+    else:
+        memo_src = dict(zip(m_names, m_values))
+        made = {}
+        for pid, xy in solved.items():
+            made[pid] = m_made[pid] if memo_src.get(pid) is xy else (float(xy[0]), -float(xy[1]))
     pos = {}
     found = 0
-    for p in rig.points:  # in the rig's order: solved where solved, else as drawn
+    for p in pts:  # in the rig's order: solved where solved, else as drawn
         pid = p.id
         hit = made.get(pid)
         if hit is None:
@@ -155,6 +178,7 @@ def scene_positions(rig: Rig, result: Result) -> dict[str, tuple[float, float]]:
             found += 1
     if found != len(made):
         pos.update(made)  # a solved point the rig no longer has (a greyed result of an older rig) stays
+    _scene_memo[:] = [names, values, made, pts, pos]
     return pos
 
 
@@ -193,14 +217,18 @@ class PerPoint:
             return self._values
         old, make = self._points, self._make
         if old is not None and len(old) == len(points):
-            values = [v if p is q else make(p) for p, q, v in zip(points, old, self._values)]
+            values = list(self._values)  # a copy: the last answer is never changed in place
+            for i in compress(range(len(points)), map(is_not, points, old)):  # only the changed Point objects
+                values[i] = make(points[i])
         else:
             values = [make(p) for p in points]
         self._points, self._values = points, values
         return values
 
 
-_scene_memo: list = [None, {}, {}]  # (result.points, its scene positions, source tuples) of the last call
+#: the last call of scene_positions: names and tuples of result.points, their scene positions (a dict in that
+#: order), rig.points and the answer (None before the first call); nothing in it is changed in place
+_scene_memo: list = [(), (), {}, (), None]
 
 
 _pass_keys_for: list = [None, {}]  # (rig.ropes, pass keys) of the last call: a drag keeps the ropes
@@ -1290,6 +1318,8 @@ class ForceItem(_LayerItem):
         self._draw: list[tuple] = []
         self._draw_for: list | None = None
         self._draw_grey = False
+        # per placed label object: (label, at, rect, leader, grey, m_per_px, its _draw entry, its scene bounds)
+        self._label_draw: dict[int, tuple] = {}
         self._grey_band_pen = theme.cosmetic_pen(theme.OVERLAY_GREY, theme.OVERLAY_BAND_PX)
         self.labels: list[OverlayLabel] = []
         self.arrows: list[AnchorArrow] = []
@@ -1562,12 +1592,10 @@ class ForceItem(_LayerItem):
         if self.arrows and reach > 0:
             xs, ys = [a.base[0] for a in self.arrows], [a.base[1] for a in self.arrows]
             xs0.append(min(xs) - reach), ys0.append(min(ys) - reach), xs1.append(max(xs) + reach), ys1.append(max(ys) + reach)
-        for lab in self.labels:
-            if lab.placed:
-                x, y, w, h = lab.rect
-                if w > 0 or h > 0:
-                    lx, ly = lab.at[0] + x * m_per_px, lab.at[1] + y * m_per_px
-                    xs0.append(lx), ys0.append(ly), xs1.append(lx + w * m_per_px), ys1.append(ly + h * m_per_px)
+        draw, bounds = self._label_entries(m_per_px)
+        if bounds:
+            bx0, by0, bx1, by1 = zip(*bounds)
+            xs0.append(min(bx0)), ys0.append(min(by0)), xs1.append(max(bx1)), ys1.append(max(by1))
         pad = (theme.FAIL_RING_PX + theme.OVERLAY_BAND_PX) * m_per_px
         if self.fail_point is not None and pad > 0:
             fx, fy = self.fail_point
@@ -1577,12 +1605,41 @@ class ForceItem(_LayerItem):
             self.set_rect(QRectF(x0, y0, x1 - x0, y1 - y0))
         else:
             self.set_rect(QRectF())
-        # what paint() blits for each placed label: anchor (scene), box offset and size (px), leader, pixmap
-        self._draw = [(lab.at[0], lab.at[1], *lab.rect, lab.leader,
-                       self.label_pixmap(lab, theme.OVERLAY_GREY if self.grey else lab.colour))
-                      for lab in self.labels if lab.placed]
+        self._draw = draw
         self._draw_for, self._draw_grey = self.labels, self.grey
         self.update()
+
+    def _label_entries(self, m_per_px: float) -> tuple[list[tuple], list[tuple]]:
+        """What paint() blits for each placed label -- anchor (scene), box offset and size (px), leader,
+        pixmap -- and the scene bounds (x0, y0, x1, y1) of each placed label box that has a size.
+
+        A label object placed where it was at the last call, at the same zoom and greyness, keeps its
+        entry and bounds (a label object's lines and colour never change, so neither does its pixmap);
+        only the labels the placer moved and new label objects are worked out again."""
+        grey = self.grey
+        last, kept = self._label_draw, {}
+        draw, bounds = [], []
+        for lab in self.labels:
+            if not lab.placed:
+                continue
+            at, rect, leader = lab.at, lab.rect, lab.leader
+            c = last.get(id(lab))
+            if (c is None or c[0] is not lab or c[1] != at or c[2] != rect or c[3] != leader or c[4] != grey
+                    or c[5] != m_per_px):
+                x, y, w, h = rect
+                entry = (at[0], at[1], x, y, w, h, leader,
+                         self.label_pixmap(lab, theme.OVERLAY_GREY if grey else lab.colour))
+                box = None
+                if w > 0 or h > 0:
+                    lx, ly = at[0] + x * m_per_px, at[1] + y * m_per_px
+                    box = (lx, ly, lx + w * m_per_px, ly + h * m_per_px)
+                c = (lab, at, rect, leader, grey, m_per_px, entry, box)
+            kept[id(lab)] = c
+            draw.append(c[6])
+            if c[7] is not None:
+                bounds.append(c[7])
+        self._label_draw = kept
+        return draw, bounds
 
     # --- painting -----------------------------------------------------------------------------------
     def paint(self, painter: QPainter, option, widget=None) -> None:
