@@ -89,14 +89,9 @@ def test_a_placement_continued_from_the_last_one_equals_a_placement_from_scratch
 def test_drag_steps_continue_the_last_placement_and_equal_a_placement_from_scratch(main_window):
     """The overlay during a drag on the 50-rope rig, crowded (fitted) and zoomed in: every step continues the
     last placement, and labels sit where place_labels from scratch puts copies of them."""
-    from tests.bench.fifty_ropes import fifty_rope_rig
+    from tests.sketchpad.test_drag_layer import fifty_rope_window
 
-    doc, sched, view = main_window.document, main_window.live.scheduler, main_window.view
-    doc.replace_all(fifty_rope_rig())
-    view.zoom_to_fit()
-    sched.background, sched.background_after_ms = False, float("inf")
-    sched.settle_timer.setInterval(600_000)  # every step below is part of one drag
-    sched.solve_now()
+    doc, sched, view = fifty_rope_window(main_window)  # every step below is part of one drag
     ov = main_window.live.overlay
     rig = doc.rig
     h = rig.point("H4")

@@ -42,6 +42,16 @@ def _chip_entry(swatches: list, k: int, x: float, y: float):
     return ((k, x, y), QRect(int(x) - 1, int(y) - 1, pix.width() + 3, pix.height() + 3), (pix, QPointF(x, y)))
 
 
+def _five_swatches() -> list:
+    """Five translucent chips of growing size and turning hue (test data for the retained layers)."""
+    swatches = []
+    for i in range(5):
+        pix = QPixmap(12 + 4 * i, 8 + 3 * i)
+        pix.fill(QColor.fromHsv(70 * i, 180, 230, 80 + 30 * i))
+        swatches.append(pix)
+    return swatches
+
+
 def fresh_used(entries, area: QRect) -> QRect:
     """The part of a layer over ``area`` that ``entries`` can touch (layer px), from all their boxes afresh."""
     if not entries:
@@ -91,11 +101,7 @@ def test_a_retained_layer_fed_kept_entry_objects_equals_one_drawn_afresh():
     with equal keys, the same entry object twice, and a few moved, added or removed ones: the layer
     patched frame by frame equals the drawables painted afresh, and only the changed ones cost a redraw."""
     rng = random.Random(11)
-    swatches = []
-    for i in range(5):
-        pix = QPixmap(12 + 4 * i, 8 + 3 * i)
-        pix.fill(QColor.fromHsv(70 * i, 180, 230, 80 + 30 * i))
-        swatches.append(pix)
+    swatches = _five_swatches()
 
     def entry(k, x, y):
         return _chip_entry(swatches, k, x, y)
@@ -141,11 +147,7 @@ def test_a_retained_layer_compares_kept_entries_place_by_place_as_a_full_compari
     redraws exactly where a layer fed every entry as a new object (so comparing every key) does, with the
     same pixels; until an entry changes places both equal the drawables painted afresh."""
     rng = random.Random(23)
-    swatches = []
-    for i in range(5):
-        pix = QPixmap(12 + 4 * i, 8 + 3 * i)
-        pix.fill(QColor.fromHsv(70 * i, 180, 230, 80 + 30 * i))
-        swatches.append(pix)
+    swatches = _five_swatches()
 
     def entry(k, x, y):
         return _chip_entry(swatches, k, x, y)
@@ -564,14 +566,9 @@ def test_placement_memo_lent_between_drag_steps_equals_a_fresh_memo_and_grid_cel
     """The overlay's placement memo (entries lent on from the last step) equals one made afresh from the
     labels at every drag step, also after zooms (labels placed afresh); the grid's remembered cells equal a fresh count."""
     from sketchpad.overlay import _Grid, placement_memo
-    from tests.bench.fifty_ropes import fifty_rope_rig
+    from tests.sketchpad.test_drag_layer import fifty_rope_window
 
-    doc, sched, view = main_window.document, main_window.live.scheduler, main_window.view
-    doc.replace_all(fifty_rope_rig())
-    view.zoom_to_fit()
-    sched.background, sched.background_after_ms = False, float("inf")
-    sched.settle_timer.setInterval(600_000)  # every step below is part of one drag
-    sched.solve_now()
+    doc, sched, view = fifty_rope_window(main_window)  # every step below is part of one drag
     ov = main_window.live.overlay
     rig = doc.rig
     h = rig.point("H4")
