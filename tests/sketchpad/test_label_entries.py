@@ -69,27 +69,26 @@ def test_label_entries_kept_between_drag_steps_equal_entries_worked_out_afresh(m
         kept_total += kept
     assert kept_total > 0  # and the others were kept: the path under test was taken
 
+    def refresh_and_check() -> None:
+        item.refresh_rect(ov._m_per_px())
+        assert_fresh(ov)
+
     # a label the placer moves, hides or shows again, without a new label object
     placed = [lab for lab in item.labels if lab.placed]
     moved, hidden = placed[0], placed[1]
     moved.at = (moved.at[0] + 0.5, moved.at[1] - 0.25)
-    item.refresh_rect(ov._m_per_px())
-    assert_fresh(ov)
+    refresh_and_check()
     moved.rect = (moved.rect[0] + 3.0, moved.rect[1], moved.rect[2], moved.rect[3])
-    item.refresh_rect(ov._m_per_px())
-    assert_fresh(ov)
+    refresh_and_check()
     hidden.placed = False
-    item.refresh_rect(ov._m_per_px())
-    assert_fresh(ov)
+    refresh_and_check()
     hidden.placed = True
     moved.leader = not moved.leader
-    item.refresh_rect(ov._m_per_px())
-    assert_fresh(ov)
+    refresh_and_check()
 
     # greyed, then a zoom (another scale of pixels to metres), then back
     item.grey = True
-    item.refresh_rect(ov._m_per_px())
-    assert_fresh(ov)
+    refresh_and_check()
     item.grey = False
     view.scale(1.7, 1.7)
     ov.relayout()
