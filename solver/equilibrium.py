@@ -760,9 +760,9 @@ def _soft_start_newton(s: System, x0: np.ndarray, kc: np.ndarray, target: float 
 
 #: A failed solve (a pass jammed against its neighbour, or trial steps overshooting into it) is tried
 #: again with the spacing contact this many times softer, stiffened a decade at a time from each
-#: answer to the next (penalty
-#: continuation; Wriggers, Computational Contact Mechanics, 2nd ed. 2006, penalty method, from memory): the full
-#: contact is far stiffer than the ropes and Newton zig-zags across it from afar.
+#: answer to the next (penalty continuation; Wriggers, Computational Contact Mechanics, 2nd ed.
+#: 2006, penalty method, from memory): the full contact is far stiffer than the ropes, and Newton
+#: zig-zags across it from afar.
 CONTACT_STEPS = (1e-4, 1e-3, 1e-2, 1e-1)
 
 
@@ -1018,37 +1018,28 @@ def _segment_records(s: System, st: State, sf: float) -> list[SegmentResult]:
     return segments
 
 
-def _anchor_records(s: System, f: np.ndarray, f_list: list, sf: float) -> dict[str, AnchorResult]:
-    """An AnchorResult per fixed anchor; one whose force is bit for bit that of the last Result of the same
-    structure, with the same capacity and safety factor, keeps that Result's record."""
-    points, at = s.points, s.anchor_at
+def _point_records(s: System, at: list, memo: _LastRows, f: np.ndarray, f_list: list, sf: float,
+                   rated: bool) -> dict[str, AnchorResult]:
+    """An AnchorResult of the rope force on each structural point ``at`` (with the point's capacity when
+    ``rated``); one whose force is bit for bit that of the last Result of the same structure, with the
+    same capacity and safety factor, keeps that Result's record (``memo``)."""
+    points = s.points
     rows = f[at] if at else np.zeros((0, 2))
     key = (at, sf)
-    old, moved = _ANCHOR_ROWS.changed(key, rows)
-    anchors = {}
+    old, moved = memo.changed(key, rows)
+    records = {}
     made = []
     for j, i in enumerate(at):
         p = points[i]
-        if old is not None and not moved[j] and old[j].capacity_N == p.capacity_N:
+        capacity = p.capacity_N if rated else None
+        if old is not None and not moved[j] and old[j].capacity_N == capacity:
             a = old[j]
         else:
-            a = _anchor(*f_list[i], p.capacity_N, sf)
-        anchors[p.id] = a
+            a = _anchor(*f_list[i], capacity, sf)
+        records[p.id] = a
         made.append(a)
-    _ANCHOR_ROWS.keep(key, rows, made)
-    return anchors
-
-
-def _load_records(s: System, f: np.ndarray, f_list: list, sf: float) -> dict[str, AnchorResult]:
-    """The force delivered to each load point (an AnchorResult without capacity); one whose force is bit for
-    bit that of the last Result of the same structure keeps that Result's record."""
-    at = s.load_at
-    rows = f[at] if at else np.zeros((0, 2))
-    key = (at, sf)
-    old, moved = _LOAD_ROWS.changed(key, rows)
-    made = [old[j] if old is not None and not moved[j] else _anchor(*f_list[i], None, sf) for j, i in enumerate(at)]
-    _LOAD_ROWS.keep(key, rows, made)
-    return {s.points[i].id: rec for i, rec in zip(at, made)}
+    memo.keep(key, rows, made)
+    return records
 
 
 #: (hauled runs, their haul points, haul forces, the haul dict) of the last Result: a drag step's rig hauls
@@ -1098,8 +1089,8 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
     segments = _segment_records(s, st, sf)
     f = _resultants(s, st)
     f_list = f.tolist()  # Python numbers at once (same values as float())
-    anchors = _anchor_records(s, f, f_list, sf)
-    loads = _load_records(s, f, f_list, sf)
+    anchors = _point_records(s, s.anchor_at, _ANCHOR_ROWS, f, f_list, sf, rated=True)  # fixed anchors
+    loads = _point_records(s, s.load_at, _LOAD_ROWS, f, f_list, sf, rated=False)  # force delivered to each load
     haul = _haul_forces(s)
     deflection = _deflections(s, st)
     scale = _force_scale(s, st)
