@@ -586,6 +586,7 @@ class RigPage(_Page):
     def __init__(self, panel: "PropertiesPanel") -> None:
         super().__init__(panel)
         self.form.addRow(_heading("Rig"))
+        self._shown: tuple | None = None  # what refresh last showed (shown_key)
         self.title = self.text_field("title")
         self.notes = CommitTextEdit()
         self.notes.setPlaceholderText("Site, team, conditions, what to check…")
@@ -742,7 +743,7 @@ class PropertiesPanel(QWidget):
             if not exists:
                 self.show_subject(None)
                 return
-        if page is self.rig_page and getattr(page, "_shown", None) == page.shown_key(rig):
+        if page is self.rig_page and page._shown == page.shown_key(rig):
             return  # an edit of something else (every drag step): the rig's fields stay as they are
         if isinstance(page, _Page):
             page.refresh(rig)
