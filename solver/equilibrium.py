@@ -664,7 +664,11 @@ def _friction_solve(s: System, x0: np.ndarray, motion: str, kc: np.ndarray,
         return fr, w
     again, w2 = _friction_stage(s, x0, u0, motion, kc, jam)
     again.iterations += fr.iterations
-    return (again, w2) if again.converged or again.runaway is not None else (fr, w)
+    if again.runaway is not None:
+        return again, w2
+    # a pass given ratio 1 that slid off its neighbour again is not jammed: not this model's answer
+    st = again.state
+    return (again, w2) if again.converged and friction.ratios_hold(s, st.u, st.w, st.pen, motion) else (fr, w)
 
 
 def _friction_stage(s: System, x0: np.ndarray, u0: np.ndarray, motion: str, kc: np.ndarray,
@@ -796,7 +800,40 @@ def _friction_settled(s: System, x0: np.ndarray, motion: str, kc: np.ndarray, fr
         return out
 
     out = _jam_settled(s, x0, kc, fr, solve_at)
+    if out is fr:
+        out = _slid_to_its_stop(s, motion, kc, fr, solve_at)
     return (fr, w) if out is fr else (out, last_w[0])
+
+
+#: Passes :func:`_slid_to_its_stop` tries, the most out of balance first (each try costs a contact-continuation
+#: solve; only rigs that failed pay).
+SLIDE_TRIES = 2
+
+
+def _slid_to_its_stop(s: System, motion: str, kc: np.ndarray, failed: _Outcome,
+                      solve_at: Callable[[np.ndarray, np.ndarray], _Outcome]) -> _Outcome:
+    """``failed`` (a friction solve that did not converge) tried again from where it stopped with a pass placed
+    against the neighbour its friction pulls it toward; the answer when that converges, else ``failed``.
+
+    A pulley or edge whose friction outweighs what holds it is drawn along its rope toward the next
+    pass (a pulley climbing its rope to the anchor knot): on the way the imbalance along the rope
+    stays about as large as the friction, and Newton stalls wherever the iteration left it.  The
+    equilibrium is at the far end, jammed, or on the way back from there, so the solve starts at the
+    stop (:func:`friction.pulled_passes`, :func:`friction.placed_against`) through the softened
+    contact (:func:`_jam_settled`).  ``solve_at(x, kc)`` is the friction solve from ``x``.
+    """
+    if failed.runaway is not None:
+        return failed
+    st = failed.state
+    for p, piece in friction.pulled_passes(s, st.T, st.g, motion)[:SLIDE_TRIES]:
+        x = friction.placed_against(s, st.x, p, piece)
+        if x is None:
+            continue
+        out = _jam_settled(s, x, kc, failed, solve_at)
+        if out is not failed:
+            out.iterations += failed.iterations
+            return out
+    return failed
 
 
 def _mechanism_result(s: System, st: State, kc: np.ndarray, iters: int) -> Result | None:

@@ -73,3 +73,56 @@ def weights(s: System, u: FloatArray, motion: str, jammed: NDArray[np.bool_] | N
     cs = np.cumsum(lf)
     start = s.run_start[s.piece_run]
     return np.exp(cs - cs[start])
+
+
+#: A pass placed against its neighbour (see :func:`placed_against`) starts this fraction inside its minimum spacing.
+PLACED_INSIDE = 1e-3
+
+
+def pulled_passes(s: System, T: FloatArray, g: FloatArray, motion: str) -> list[tuple[int, int]]:
+    """(pass point, piece it closes up) for every free pass with friction, the pass with the largest imbalance first.
+
+    Across a pulley or an edge the rope is tighter on one side (the ratio of ``motion``), so
+    friction pulls the pass along its rope toward the tighter side's neighbour; the piece on
+    that side is the one that closes up if nothing else holds the pass.  ``T`` are piece
+    tensions and ``g`` the free-coordinate imbalance of the state the pass is pulled in.
+    """
+    out: list[tuple[float, int, int]] = []
+    for k in np.flatnonzero(~s.piece_first):
+        p = int(s.a[k])
+        kind = s.pass_kind[k]
+        rubs = (kind == PASS_PULLEY and s.pass_eta[k] < 1.0) or (kind == PASS_EDGE and s.pass_mu[k] > 0.0)
+        if motion == "hold" or not rubs or not s.free[p]:
+            continue
+        closing = int(k - 1) if T[k - 1] >= T[k] else int(k)
+        if not s.contact_on[closing]:
+            continue
+        out.append((-float(np.hypot(*g[s.dof[p]])), p, closing))
+    return [(p, c) for _, p, c in sorted(out)]
+
+
+def placed_against(s: System, x: FloatArray, p: int, piece: int) -> FloatArray | None:
+    """Free coordinates ``x`` with point ``p`` moved along ``piece`` to just inside its minimum spacing from the
+    piece's other end (None when the two coincide and the piece has no direction)."""
+    xy = s.positions(x)
+    q = int(s.b[piece]) if int(s.a[piece]) == p else int(s.a[piece])
+    v = xy[p] - xy[q]
+    n = float(np.hypot(*v))
+    if n == 0.0:
+        return None
+    out = x.copy()
+    out[s.dof[p]] = xy[q] + v * (s.s_min[piece] * (1.0 - PLACED_INSIDE) / n)
+    return out
+
+
+def ratios_hold(s: System, u: FloatArray, w: FloatArray, pen: FloatArray, motion: str) -> bool:
+    """Whether weights ``w`` (piece directions ``u``, contact penetrations ``pen``) give every pass the running ratio
+    of ``motion``, or the static ratio 1 where the pass is jammed against a neighbour (:func:`jammed_passes`)."""
+    inner = np.flatnonzero(~s.piece_first)
+    if not len(inner):
+        return True
+    across = np.log(w[inner] / w[inner - 1])
+    running = np.abs(across - log_factors(s, u, motion)[inner]) <= 1e-9
+    jammed = (np.abs(across) <= 1e-9) & jammed_passes(s, pen)[inner]
+    return bool(np.all(running | jammed))
+

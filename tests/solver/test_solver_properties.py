@@ -421,6 +421,78 @@ def test_a_pass_jammed_into_a_knot_is_settled_and_named_two_blocked(motion):
     assert all(s.tension_N >= 0.0 for s in res.segments), "ropes only pull"
 
 
+# Found by the warm-start property with a random draw (2026-12): lowering through the pulley at P1
+# (eta 0.6), the rope on the A0 side is tighter by 1/eta (rig-format.md), and once that difference
+# outweighs what r1 and the load hold, friction draws the pulley up its rope all the way to the knot
+# at A0: no equilibrium on the way (the pull along the rope never drops), so Newton stalled near
+# the drawn place (diverged, 61 N left at P1) until a stalled friction solve learnt to start over
+# with the pass placed against the neighbour it is pulled toward.
+def _pulley_drawn_up_to_its_anchor(eta: float):
+    pts = [rigs.anchor("A0", 6.5, 17.0), rigs.anchor("A2", 0.0, 14.0),
+           rigs.free("P1", 0.0, 2.0), rigs.free("P2", 0.0, 0.0)]
+    ropes = [rigs.rope("r1", ["A0", "P1"]), rigs.rope("r2", ["A0", "P2"]),
+             rigs.rope("r3", ["A0", ("P1", "pulley", "pul"), "P2", "A2"], pretension_N=20.0)]
+    forces = [rigs.force("P1", 100.0, 270.0), rigs.force("P2", 879.0, 249.0)]
+    return rigs.make_rig(pts, ropes, forces, hardware=[rigs.pulley("pul", eta)], motion="lower", ea=2e4)
+
+
+@pytest.mark.parametrize("eta", [0.7, 0.6, 0.5])
+def test_a_pulley_friction_draws_up_its_rope_runs_into_the_anchor_and_is_named_two_blocked(eta):
+    rig = _pulley_drawn_up_to_its_anchor(eta)
+    res = solve(rig)
+    assert res.status == "ok", rigs.describe(res)
+    blocked = [w for w in res.warnings if w.code == "two-blocked"]
+    assert [w.subject for w in blocked] == ["P1"] and '"A0"' in blocked[0].message
+    p1 = np.array(res.points["P1"])
+    to_anchor = np.array([6.5, 17.0]) - p1
+    assert float(np.linalg.norm(to_anchor)) <= 0.06  # run up its rope into A0 (centimetres apart)
+    # the rope keeps running through the jammed pulley: lowering, the tension falls by eta across
+    # it from the A0 side (rig-format.md)
+    assert rigs.tension(res, "r3", 1) == pytest.approx(eta * rigs.tension(res, "r3", 0), rel=1e-9)
+    # statics (Newton's first and third laws): P2 balances on its ropes; on P1 the ropes and the
+    # load leave exactly the push the anchor's knot takes, a force pressing P1 toward A0
+    fmax = rigs.largest_force(rig, res)
+    residuals = rigs.free_point_residuals(rig, res)
+    assert float(np.linalg.norm(residuals["P2"])) <= 1e-9 * fmax
+    push = np.asarray(residuals["P1"], dtype=float)
+    assert float(np.linalg.norm(push)) > 1.0  # the knot bears a real force
+    cos = float(push @ to_anchor) / (float(np.linalg.norm(push)) * float(np.linalg.norm(to_anchor)))
+    assert cos == pytest.approx(1.0, abs=1e-6)  # along the jammed piece, into the knot ...
+    assert rigs.tension(res, "r1", 0) == 0.0  # ... with r1 gone slack below the climbing pulley
+
+
+# Found by the same property next (2026-12): a pulley drawn up its rope that finds a balance on the
+# way, 2.4 m short of the knot, where the kinked rope's pull offsets friction and load.  From
+# the drawn place Newton stalled (diverged, 2.5 N left at P1); from the stop it comes back to it.
+def test_a_pulley_friction_draws_partway_up_its_rope_balances_where_the_kink_holds_it():
+    pts = [rigs.anchor("A0", 6.5, 17.25), rigs.anchor("A1", 0.0, 14.0),
+           rigs.free("P1", 0.0, 5.0), rigs.free("P2", 0.0, 0.0)]
+    ropes = [rigs.rope("r1", ["A0", "P1"]), rigs.rope("r2", ["A0", "P2"]),
+             rigs.rope("r3", ["A0", ("P1", "pulley", "pul"), "P2", "A1"], pretension_N=20.0)]
+    forces = [rigs.force("P1", 100.0, 270.0), rigs.force("P2", 860.0, 249.0)]
+    rig = rigs.make_rig(pts, ropes, forces, hardware=[rigs.pulley("pul", 0.6)], motion="lower", ea=2e4)
+    res = solve(rig)
+    assert res.status == "ok", rigs.describe(res)
+    assert not [w for w in res.warnings if w.code == "two-blocked"]
+    # statics (Newton's first law) on both free points, and the running ratio eta (rig-format.md)
+    fmax = rigs.largest_force(rig, res)
+    for pid, r in rigs.free_point_residuals(rig, res).items():
+        assert float(np.linalg.norm(r)) <= 1e-9 * fmax, pid
+    assert rigs.tension(res, "r3", 1) == pytest.approx(0.6 * rigs.tension(res, "r3", 0), rel=1e-9)
+    assert rigs.tension(res, "r1", 0) == 0.0  # the pulley has climbed above the reach of r1
+    assert float(np.linalg.norm(rigs.xy(res, "P1") - [6.5, 17.25])) > 1.0  # short of the knot
+
+
+def test_a_pulley_friction_cannot_draw_up_stays_where_its_ropes_hold_it():
+    # the same rig with a better pulley: r1 still takes part of the load and nothing jams (the
+    # other side of the case above; hand statics, the ratio eta across the running pulley)
+    res = solve(_pulley_drawn_up_to_its_anchor(0.9))
+    assert res.status == "ok", rigs.describe(res)
+    assert not [w for w in res.warnings if w.code == "two-blocked"]
+    assert rigs.tension(res, "r1", 0) > 0.0
+    assert rigs.tension(res, "r3", 1) == pytest.approx(0.9 * rigs.tension(res, "r3", 0), rel=1e-9)
+
+
 def test_a_solve_that_stops_at_a_jammed_pass_names_it():
     # Were the jam not settled, the failure must say where the pass jams, not send the rigger
     # looking for an unheld part: the Result of the solved state, reported as not converged.
