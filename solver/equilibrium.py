@@ -32,6 +32,8 @@ from solver.assembly import (
     contact_stiffness,
     directions,
     evaluate,
+    part_tangent,
+    reweighted,
     same_structure,
     tangent_values,
     with_forces,
@@ -98,13 +100,23 @@ def _force_scale(s: System, st: State) -> float:
     return max(s.force_scale, t)
 
 
-def _matrix(s: System, st: State, kc: np.ndarray, dense: bool, exact: bool = False):
-    """The tangent on the free dofs: a dense array for small rigs, else CSC (kept on the state: never written to)."""
-    key = (dense, exact)
+def _matrix(s: System, st: State, kc: np.ndarray, dense: bool, exact: bool = False, part: int | None = None):
+    """The tangent on the free dofs: a dense array for small rigs, else CSC (kept on the state: never written to).
+
+    ``part``: only its rows and columns (:func:`_sub` of the whole), the dense block built from the part's
+    own pieces (:func:`solver.assembly.part_tangent`, the same numbers).
+    """
+    key = (dense, exact) if part is None else (dense, exact, part)
     K = st.matrices.get(key)
     if K is not None:
         return K
-    K = st.matrices[key] = _assembled(s, st, kc, dense, exact)
+    if part is None:
+        K = _assembled(s, st, kc, dense, exact)
+    elif dense:
+        K = part_tangent(s, st, kc, exact, part)
+    else:
+        K = _sub(_matrix(s, st, kc, dense, exact), _part_indices(s, part)[0], dense)
+    st.matrices[key] = K
     return K
 
 
@@ -430,9 +442,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         done = done or (stall >= 4 and res <= ACCEPT_REL * scale)
         if done:
             return _Outcome(st, it, True)
-        K = _matrix(s, st, kc, dense, exact=not symmetric)
-        if idx is not None:
-            K = _sub(K, idx, dense)
+        K = _matrix(s, st, kc, dense, exact=not symmetric, part=part)
         base = max(float(K.diagonal().max()), scale / size, 1e-12)  # = the largest of the x and y maxima
         m0 = merit(st)
         x_new = st.x.copy()
@@ -835,7 +845,7 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
             return _Solved(fr.state, fr.state, fr.iterations, False, fr.runaway, w)
         # held or not is a property of the structure: judged on the frictionless (symmetric) tangent,
         # which is also the first matrix of the frictionless re-solve for the ideal MA
-        frictionless = evaluate(s, fr.state.x, None, kc)
+        frictionless = reweighted(s, fr.state, None, kc)  # = evaluate(s, fr.state.x, None, kc)
         failed = _mechanism_result(s, frictionless, kc, fr.iterations)
         if failed is not None:
             return failed
