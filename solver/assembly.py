@@ -559,7 +559,8 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     """:func:`with_geometry`; ``checked``: compile_topology has already checked this rig's geometry."""
     t = topo.template
     pts = [rig.points[i] for i in topo.point_index]
-    xy = np.array([[p.x, p.y] for p in pts], dtype=float).reshape(-1, 2)
+    # the x and y columns as two flat lists (one nested list per point costs a shape discovery per point)
+    xy = np.array([[p.x for p in pts], [p.y for p in pts]], dtype=float).reshape(2, -1).T.copy()
     d = xy[t.b] - xy[t.a]
     # math.hypot, one piece at a time, as the check in compile_topology (np.hypot can differ in the last bit)
     piece_len0 = np.array(list(map(math.hypot, d[:, 0].tolist(), d[:, 1].tolist())), dtype=float)
@@ -573,7 +574,9 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
                             and (run_L0[topo.run_pretensioned] > 0).all() and (run_L0[topo.run_slacked] > 0).all()):
         return compile_rig(rig, topo.motion)  # raises the RigModelError that names the first problem
     s = System.__new__(System)
-    s.__dict__.update({name: t.__dict__[name] for name in _SYSTEM_FIELDS})
+    held = t.__dict__
+    # the template holds its fields alone (it is never solved): copied at once, else field by field
+    s.__dict__.update(held if len(held) == len(_SYSTEM_FIELDS) else {name: held[name] for name in _SYSTEM_FIELDS})
     s.soft = None
     s.rig, s.points = rig, pts
     lo, hi = (xy.min(axis=0), xy.max(axis=0)) if len(pts) else (np.zeros(2), np.zeros(2))
@@ -958,11 +961,17 @@ def by_material(s: System, mats: IntArray, values: FloatArray, method: str,
     return out
 
 
-def _law(s: System, mats: IntArray, kappa: FloatArray | None, method: str) -> Callable[[FloatArray], FloatArray]:
+def _law(s: System, mats: IntArray, kappa: FloatArray | None, method: str,
+         positive: bool = False) -> Callable[[FloatArray], FloatArray | float]:
     """:func:`by_material` with ``method`` for elements of materials ``mats`` (softened by ``kappa``), as a function
-    of the values alone: the curve's own method when there is one curve and no softening (the same numbers)."""
+    of the values alone: the curve's own method when there is one curve and no softening (the same numbers).
+
+    ``positive``: no value it is given is negative, so that the curve's tension-only branch is left
+    out (:meth:`StretchCurve.of_positive`; the same numbers, a compliance perhaps as one number for all).
+    """
     if kappa is None and len(s.curves) == 1:
-        return getattr(s.curves[0], method)
+        curve = s.curves[0]
+        return curve.of_positive(method) if positive else getattr(curve, method)
     return lambda values: by_material(s, mats, values, method, kappa)
 
 
@@ -1042,7 +1051,8 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
             tt = np.where((prev > lo_t) & (prev < hi_t), prev, tt)
         # what every step below reads unchanged, made once (the same products: a * b * c is (a * b) * c)
         n_todo = len(runs)
-        strain, dstrain = _law(s, mk, kk, "strain"), _law(s, mk, kk, "dstrain")
+        # no piece tension below is negative (weights >= 0, tt inside a bracket from t_lam / wmax >= 0)
+        strain, dstrain = _law(s, mk, kk, "strain", positive=True), _law(s, mk, kk, "dstrain", positive=True)
         f_tol = 1e-15 * L0
         lk_wk = lk * wk
         for _ in range(100):
@@ -1057,8 +1067,9 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
             fp = -np.bincount(owner, lk_wk * dstrain(Tk) / one_e ** 2, minlength=n_todo)
             # a flat f (fp = 0) gives no Newton step: inf, refused below like any step off the bracket
             step = tt - np.divide(f, fp, out=np.full(n_todo, np.inf), where=fp != 0.0)
-            bad = ~np.isfinite(step) | (step <= lo_t) | (step >= hi_t)
-            tt = np.where(bad, 0.5 * (lo_t + hi_t), step)
+            # inside the (finite) bracket: a step that is not a number or infinite fails both tests
+            inside = (step > lo_t) & (step < hi_t)
+            tt = np.where(inside, step, 0.5 * (lo_t + hi_t))
         t[todo] = tt
     tau[strict] = t
     s._last_tau = (w, tau)
@@ -1203,15 +1214,16 @@ def _part_pattern(s: System, part: int) -> PartPattern:
     keep = np.flatnonzero(s.dof_comp[s.k_rows] == part)
     n, m, np_, nq = s.n_pieces, len(s.pair_k), len(pieces), len(pairs)
     src = s.k_src[keep]
-    block = src < 3 * n  # a piece's own block value (component src // n of piece src % n), else a pair's
-    q = src - 3 * n
-    local = np.where(block, (src // n) * np_ + local_piece[src % n],
-                     3 * np_ + (q // max(m, 1)) * nq + local_pair[q % max(m, 1)])
+    block = src < 3 * n  # a piece's own block value: component src // n of piece src % n
+    local = np.empty(len(src), dtype=np.intp)
+    local[block] = (src[block] // n) * np_ + local_piece[src[block] % n]
+    q = src[~block] - 3 * n  # else a pair's: component q // m of pair q % m
+    local[~block] = 3 * np_ + (q // max(m, 1)) * nq + local_pair[q % max(m, 1)]
     local_dof = np.full(s.n_dof, -1, dtype=np.intp)
     local_dof[dofs] = np.arange(len(dofs))
     lin = local_dof[s.k_rows[keep]] * len(dofs) + local_dof[s.k_cols[keep]]
     pat = PartPattern(dofs=dofs, pieces=pieces, pair_k=local_piece[s.pair_k[pairs]],
-                      pair_j=local_piece[s.pair_j[pairs]], pair_run=s.pair_run[pairs], src=local.astype(np.intp),
+                      pair_j=local_piece[s.pair_j[pairs]], pair_run=s.pair_run[pairs], src=local,
                       sgn=s.k_sgn[keep], lin=lin.astype(np.intp))
     for arr in (pat.dofs, pat.pieces, pat.pair_k, pat.pair_j, pat.pair_run, pat.src, pat.sgn, pat.lin):
         arr.flags.writeable = False

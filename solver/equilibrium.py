@@ -32,6 +32,7 @@ from solver.assembly import (
     contact_stiffness,
     directions,
     evaluate,
+    part_pattern,
     part_tangent,
     reweighted,
     same_structure,
@@ -115,7 +116,7 @@ def _matrix(s: System, st: State, kc: np.ndarray, dense: bool, exact: bool = Fal
     elif dense:
         K = part_tangent(s, st, kc, exact, part)
     else:
-        K = _sub(_matrix(s, st, kc, dense, exact), _part_indices(s, part)[0], dense)
+        K = _sub(_matrix(s, st, kc, dense, exact), part_pattern(s, part).dofs, dense)
     st.matrices[key] = K
     return K
 
@@ -397,7 +398,8 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         size = float(s.comp_size[0])
         comp_scale0 = float(s.comp_force_scale[0])
     else:
-        idx, pieces = _part_indices(s, part)
+        pat = part_pattern(s, part)  # kept per topology: a drag step's System has it from the last step
+        idx, pieces = pat.dofs, pat.pieces
         cd = np.zeros(len(idx), dtype=np.intp)  # one bin: bincount sums the part's coordinates in order
         size = float(s.comp_size[part])
         comp_scale0 = float(s.comp_force_scale[part])
@@ -525,15 +527,6 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
     scale = scale_of(st)
     res = imbalance(st)
     return _Outcome(st, it + 1, bool(ok or res <= ACCEPT_REL * scale))
-
-
-def _part_indices(s: System, part: int) -> tuple[np.ndarray, np.ndarray]:
-    """(free coordinates, pieces) of part ``part``, in order; kept per System."""
-    memo = s.__dict__.setdefault("_part_indices", {})
-    hit = memo.get(part)
-    if hit is None:
-        hit = memo[part] = (np.flatnonzero(s.dof_comp == part), np.flatnonzero(s.piece_comp == part))
-    return hit
 
 
 # --- words -----------------------------------------------------------------------------------------
