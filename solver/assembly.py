@@ -151,6 +151,7 @@ class System:
     free_at: IntArray = field(default=None)  # indices of the free points
     ones: FloatArray = field(default=None)  # frictionless piece weights (shared, read-only)
     run_tied: NDArray[np.bool_] = field(default=None)  # runs not hauled
+    free_ids: list[str] = field(default=None)  # ids of the free points, in dof order
     piece_from: list[str] = field(default=None)  # id of each piece's first point
     piece_to: list[str] = field(default=None)  # id of each piece's second point
     piece_run_in_rope: list[int] = field(default=None)  # index of each piece's run within its rope
@@ -673,6 +674,7 @@ def _report_indices(s: System, kinds: list[str]) -> None:
     ``kinds``: the kind of every structural point, in order.
     """
     ids = s.point_ids
+    s.free_ids = [ids[i] for i in np.flatnonzero(s.free).tolist()]
     s.piece_from = [ids[i] for i in s.a.tolist()]
     s.piece_to = [ids[i] for i in s.b.tolist()]
     run_in_rope: list[int] = []
@@ -1119,13 +1121,17 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
 
 def reweighted(s: System, st: State, w: FloatArray | None = None, kc: FloatArray | None = None) -> State:
     """:func:`evaluate` at ``st.x`` with piece weights ``w`` (None: frictionless), the geometry (positions, piece
-    lengths and directions, run lengths) taken from ``st``, where it is the same numbers: only the weights differ."""
-    return _loaded(s, st.x, st.xy, st.l, st.no_zero_length, st.u, st.L, w, kc)
+    lengths and directions, run lengths, contact penetrations) taken from ``st``, where it is the same numbers:
+    only the weights differ."""
+    return _loaded(s, st.x, st.xy, st.l, st.no_zero_length, st.u, st.L, w, kc, (st.pen, st.closed))
 
 
 def _loaded(s: System, x: FloatArray, xy: FloatArray, l: FloatArray, no_zero_length: bool, u: FloatArray,
-            L: FloatArray, w: FloatArray | None, kc: FloatArray | None) -> State:
-    """The state at ``x`` of :func:`evaluate` from its geometry: run tensions, piece forces, out-of-balance."""
+            L: FloatArray, w: FloatArray | None, kc: FloatArray | None, contact: tuple | None = None) -> State:
+    """The state at ``x`` of :func:`evaluate` from its geometry: run tensions, piece forces, out-of-balance.
+
+    ``contact``: (penetrations, whether any is closed) at this geometry when known.
+    """
     if w is None:
         w = s.ones
     tau, taut = solve_run_tensions(s, L, l, w)
@@ -1137,8 +1143,11 @@ def _loaded(s: System, x: FloatArray, xy: FloatArray, l: FloatArray, no_zero_len
     eps = by_material(s, s.piece_mat, T, "strain", kappa) if s.n_pieces else np.zeros(0)
     if kc is None:
         kc = contact_stiffness(s)
-    pen = np.maximum(s.s_min_on - l, 0.0)  # 0 where the contact is off (s_min_on = -inf)
-    closed = bool(pen.any())
+    if contact is None:
+        pen = np.maximum(s.s_min_on - l, 0.0)  # 0 where the contact is off (s_min_on = -inf)
+        closed = bool(pen.any())
+    else:
+        pen, closed = contact
     N = T - kc * pen if closed else T
     if s.n_pieces:
         nu = (N[:, None] * u).reshape(-1)  # dPi/dx_a = -N u, dPi/dx_b = +N u

@@ -621,17 +621,16 @@ def _start_x(s: System, start) -> np.ndarray:
     with finite coordinates, else the drawn one."""
     xy = s.xy0.copy()
     if start:
-        ids = s.point_ids
-        at, given = [], []
-        for i in s.free_at.tolist():
-            v = start.get(ids[i])
-            if v is not None:
-                at.append(i)
-                given.append(v)
-        if at:
-            vals = np.array(given, dtype=float).reshape(-1, 2)
+        given = [start.get(pid) for pid in s.free_ids]
+        at = s.free_at
+        if None in given:  # a warm drag step gives every free point (the dragged one is drawn where it is fixed)
+            at = np.array([i for i, v in zip(at.tolist(), given) if v is not None], dtype=np.intp)
+            given = [v for v in given if v is not None]
+        if len(at):
+            # (x, y) pairs as an x and a y column (one sequence per point would be looked at point by point)
+            vals = np.array([[v[0] for v in given], [v[1] for v in given]], dtype=float).T
             ok = np.isfinite(vals).all(axis=1)
-            xy[np.asarray(at)[ok]] = vals[ok] - s.origin
+            xy[at[ok]] = vals[ok] - s.origin
     return s.x_from(xy)
 
 
@@ -1030,6 +1029,8 @@ def _point_records(s: System, at: list, memo: _LastRows, f: np.ndarray, f_list: 
     rows = f[at] if at else np.zeros((0, 2))
     key = (at, sf)
     old, moved = memo.changed(key, rows)
+    if moved is not None:
+        moved = moved.tolist()  # Python bools at once
     records = {}
     made = []
     for j, i in enumerate(at):
@@ -1107,7 +1108,7 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
     bad_len = None
     if s.n_pieces:
         unst = np.add.reduceat(st.l / (1.0 + st.eps), s.run_start)
-        tight = (~s.run_hauled) & (st.tau > 0)
+        tight = s.run_tied & (st.tau > 0)
         err = np.abs(unst - s.run_L0) / s.run_L0
         if (tight & (err > 1e-9)).any():
             bad_len = int(np.flatnonzero(tight & (err > 1e-9))[0])
