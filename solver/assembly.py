@@ -152,6 +152,8 @@ class System:
     ones: FloatArray = field(default=None)  # frictionless piece weights (shared, read-only)
     run_tied: NDArray[np.bool_] = field(default=None)  # runs not hauled
     free_ids: list[str] = field(default=None)  # ids of the free points, in dof order
+    unattached: int | None = None  # a free point that no rope reaches (index into the points), if any
+    piece_ends: IntArray = field(default=None)  # every piece's first point, then every piece's second (a, then b)
     piece_from: list[str] = field(default=None)  # id of each piece's first point
     piece_to: list[str] = field(default=None)  # id of each piece's second point
     piece_run_in_rope: list[int] = field(default=None)  # index of each piece's run within its rope
@@ -675,6 +677,12 @@ def _report_indices(s: System, kinds: list[str]) -> None:
     """
     ids = s.point_ids
     s.free_ids = [ids[i] for i in np.flatnonzero(s.free).tolist()]
+    used = np.zeros(len(ids), dtype=bool)
+    used[s.a] = True
+    used[s.b] = True
+    lonely = np.flatnonzero(s.free & ~used)
+    s.unattached = int(lonely[0]) if len(lonely) else None
+    s.piece_ends = np.concatenate((s.a, s.b))
     s.piece_from = [ids[i] for i in s.a.tolist()]
     s.piece_to = [ids[i] for i in s.b.tolist()]
     run_in_rope: list[int] = []
@@ -1011,19 +1019,20 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         hauled_at = s.run_hauled.nonzero()[0]
         fixed = s._run_tension_fixed = (hauled_at, (s.run_start + s.run_count - 1)[hauled_at], s.run_P[hauled_at])
     hauled_at, hauled_last, hauled_P = fixed
+    w_of, run_wmin, run_wmax, uneven, hauled_tau = s.__dict__.get("_run_weight_range") or (None,) * 5
+    if w_of is not w:  # the weights are fixed through a Newton solve: their per-run range once per array
+        run_wmin = np.minimum.reduceat(w, s.run_start) if nr else w
+        run_wmax = np.maximum.reduceat(w, s.run_start) if nr else w
+        uneven = bool(np.any(tied_run & (run_wmin != run_wmax)))
+        hauled_tau = hauled_P / w[hauled_last]  # a hauled run's first piece: its haul force over the last's weight
+        s._run_weight_range = (w, run_wmin, run_wmax, uneven, hauled_tau)
     tau = np.zeros(nr)
-    tau[hauled_at] = hauled_P / w[hauled_last]
+    tau[hauled_at] = hauled_tau
     strict = (tied_run & (L > s.run_L0)).nonzero()[0]
     if len(strict) == 0:
         return tau, taut
     lam_e = L[strict] / s.run_L0[strict] - 1.0
     t_lam = by_material(s, s.run_mat[strict], lam_e, "tension", _kappa(s, runs=strict))
-    w_of, run_wmin, run_wmax, uneven = s.__dict__.get("_run_weight_range") or (None, None, None, True)
-    if w_of is not w:  # the weights are fixed through a Newton solve: their per-run range once per array
-        run_wmin = np.minimum.reduceat(w, s.run_start) if nr else w
-        run_wmax = np.maximum.reduceat(w, s.run_start) if nr else w
-        uneven = bool(np.any(tied_run & (run_wmin != run_wmax)))
-        s._run_weight_range = (w, run_wmin, run_wmax, uneven)
     if not uneven:  # each tied run's pieces share one weight: the bracket below is closed already
         tau[strict] = t_lam / run_wmax[strict]
         return tau, taut

@@ -605,15 +605,6 @@ def _mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] |
     return int(free_idx[k]), v[2 * k:2 * k + 2]
 
 
-def _unattached(s: System) -> int | None:
-    """A free point that no rope reaches, if any."""
-    used = np.zeros(len(s.point_ids), dtype=bool)
-    used[s.a] = True
-    used[s.b] = True
-    lonely = np.flatnonzero(s.free & ~used)
-    return int(lonely[0]) if len(lonely) else None
-
-
 # --- the solver --------------------------------------------------------------------------------------
 
 def _start_x(s: System, start) -> np.ndarray:
@@ -825,7 +816,7 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
     """
     s.__dict__.pop("_last_tau", None)  # run tensions of an earlier solve are no start for this one
     kc = contact_stiffness(s)
-    lonely = _unattached(s)
+    lonely = s.unattached
     if lonely is not None:
         pid = s.point_ids[lonely]
         return Result(status="mechanism", subject=pid,
@@ -925,9 +916,11 @@ def _resultants(s: System, st: State) -> np.ndarray:
         return np.zeros((n, 2))
     pull = st.N[:, None] * st.u  # rope pulls a toward b and b toward a
     # every a end, then every b end, each added in piece order (the sums np.add.at would make)
-    ends = np.concatenate((s.a, s.b))
     both = np.concatenate((pull, -pull))
-    return np.stack((np.bincount(ends, both[:, 0], minlength=n), np.bincount(ends, both[:, 1], minlength=n)), axis=1)
+    f = np.empty((n, 2))
+    f[:, 0] = np.bincount(s.piece_ends, both[:, 0], minlength=n)
+    f[:, 1] = np.bincount(s.piece_ends, both[:, 1], minlength=n)
+    return f
 
 
 def _anchor(fx: float, fy: float, capacity: float | None, sf: float) -> AnchorResult:
@@ -998,7 +991,8 @@ def _two_blocked(s: System, st: State, kc: np.ndarray) -> list[Warning_]:
 def _segment_records(s: System, st: State, sf: float) -> list[SegmentResult]:
     """A SegmentResult per piece; a piece whose tension, length and strain are bit for bit those of the
     last Result of the same structure (and the same safety factor and MBS) keeps that Result's record."""
-    rows = np.stack((st.T, st.l, st.eps), axis=1)
+    rows = np.empty((s.n_pieces, 3))  # the columns T, l, eps (np.stack's bookkeeping costs more than the copy)
+    rows[:, 0], rows[:, 1], rows[:, 2] = st.T, st.l, st.eps
     key = (s.piece_rope, sf, s.piece_mbs)
     old, moved = _SEGMENT_ROWS.changed(key, rows)
     if old is None:
@@ -1055,13 +1049,15 @@ def _haul_forces(s: System) -> dict[str, float]:
     """The haul force at each haul point, N (the sum of the runs hauled there)."""
     last = _LAST_HAUL[0]
     if (last is not None and last[0] is s.run_hauled and last[1] is s.run_haul_point
-            and np.array_equal(last[2], s.run_P)):
+            and (last[2] is s.run_P or np.array_equal(last[2], s.run_P))):
         return last[3]
     haul: dict[str, float] = {}
     for hauled, hp, P in zip(s.run_hauled.tolist(), s.run_haul_point, s.run_P.tolist()):
         if hauled:
             haul[hp] = haul.get(hp, 0.0) + P
-    _LAST_HAUL[0] = (s.run_hauled, s.run_haul_point, s.run_P.copy(), haul)
+    # a compiled topology's arrays are read-only (shared by every System of it): kept as they are
+    _LAST_HAUL[0] = (s.run_hauled, s.run_haul_point, s.run_P if not s.run_P.flags.writeable else s.run_P.copy(),
+                     haul)
     return haul
 
 
