@@ -1049,9 +1049,11 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         kk = _kappa(s, pieces=pieces)
         L0 = s.run_L0[runs]
         lo_t, hi_t = lo[todo], hi[todo]
+        n_todo = len(runs)
+        lk_wk = lk * wk  # (read by every Newton step below too: a * b * c is (a * b) * c)
         # start at the run's stretch tension over its length-weighted mean weight (inside the
         # bracket; exact for a rope of constant stiffness in the limit of small strain)
-        w_mean = np.bincount(owner, lk * wk, minlength=len(runs)) / np.bincount(owner, lk, minlength=len(runs))
+        w_mean = np.bincount(owner, lk_wk, minlength=n_todo) / np.bincount(owner, lk, minlength=n_todo)
         tt = np.clip(t_lam[todo] / w_mean, lo_t, hi_t)
         # within one solve the last evaluation's tensions are closer still (the geometry moved a
         # step); the solver clears them when a solve starts, so a solve's numbers do not depend on
@@ -1060,12 +1062,10 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         if last is not None and last[0] is w:
             prev = last[1][runs]
             tt = np.where((prev > lo_t) & (prev < hi_t), prev, tt)
-        # what every step below reads unchanged, made once (the same products: a * b * c is (a * b) * c)
-        n_todo = len(runs)
-        # no piece tension below is negative (weights >= 0, tt inside a bracket from t_lam / wmax >= 0)
+        # what every step below reads unchanged, made once; no piece tension below is negative
+        # (weights >= 0, tt inside a bracket from t_lam / wmax >= 0)
         strain, dstrain = _law(s, mk, kk, "strain", positive=True), _law(s, mk, kk, "dstrain", positive=True)
         f_tol = 1e-15 * L0
-        lk_wk = lk * wk
         for _ in range(100):
             Tk = wk * tt[owner]
             one_e = 1.0 + strain(Tk)

@@ -11,7 +11,7 @@ softened ropes and closed spacing contacts; equality is ``np.array_equal`` (ever
 from __future__ import annotations
 
 import glob
-from dataclasses import fields
+from dataclasses import fields, replace
 from pathlib import Path
 
 import numpy as np
@@ -22,6 +22,7 @@ from solver.assembly import compile_rig, contact_stiffness, evaluate, part_tange
 from solver.equilibrium import _soft_factors
 from solver.rigfile import load_rig
 from solver.stretch import StretchCurve
+from tests import rigs
 from tests.bench.fifty_ropes import fifty_rope_rig
 from tests.solver.test_jacobian import NONLINEAR, make_rig
 
@@ -140,3 +141,35 @@ def test_a_curves_positive_tension_law_is_its_law_at_those_tensions(method):
         full = getattr(curve, method)(tensions)
         fast = np.broadcast_to(curve.of_positive(method)(tensions), tensions.shape)
         assert np.array_equal(fast, full) and fast.dtype == full.dtype, method
+
+
+def test_a_drag_steps_part_tangents_and_topology_lists_are_those_of_a_fresh_compile():
+    # a drag step's System comes from the kept topology (with_geometry), its part patterns from the last step;
+    # reference: each moved rig compiled afresh and its tangent assembled whole
+    rig = fifty_rope_rig()
+    topo = assembly.compile_topology(rig)
+    h = rig.point("H4")
+    rng = np.random.default_rng(11)
+    for i in range(4):
+        moved = rig.moved("H4", h.x + 1.5 * np.sin(0.15 * i), h.y + 1.5 * np.cos(0.15 * i))
+        s, fresh = assembly.with_geometry(topo, moved), compile_rig(moved)
+        assert s.free_ids == fresh.free_ids == [fresh.point_ids[i] for i in np.flatnonzero(fresh.free)]
+        assert np.array_equal(s.piece_ends, np.concatenate((fresh.a, fresh.b)))
+        assert s.unattached is None and fresh.unattached is None
+        x = s.x_from(s.xy0) + rng.normal(scale=0.01, size=s.n_dof)
+        kc = contact_stiffness(s)
+        st = evaluate(s, x, friction.weights(s, evaluate(s, x).u, "haul"), kc)
+        K = _full_dense(fresh, evaluate(fresh, x, st.w, kc), kc, True)
+        for part in range(s.n_comp):
+            dofs = np.flatnonzero(fresh.dof_comp == part)
+            assert np.array_equal(part_tangent(s, st, kc, True, part), K[np.ix_(dofs, dofs)]), part
+
+
+def test_the_unattached_point_is_the_first_free_point_no_piece_reaches():
+    # the rule of equilibrium's "no rope is attached" message, computed here from the pieces' ends
+    rig = fifty_rope_rig()
+    lonely = replace(rig, points=rig.points + (rigs.free("X", 3.0, 3.0), rigs.free("Y", 4.0, 3.0)))
+    s = compile_rig(lonely)
+    reached = set(s.a.tolist()) | set(s.b.tolist())
+    first = next(i for i in range(len(s.point_ids)) if s.free[i] and i not in reached)
+    assert s.point_ids[s.unattached] == s.point_ids[first] == "X"
