@@ -154,6 +154,9 @@ class System:
     free_ids: list[str] = field(default=None)  # ids of the free points, in dof order
     unattached: int | None = None  # a free point that no rope reaches (index into the points), if any
     piece_ends: IntArray = field(default=None)  # every piece's first point, then every piece's second (a, then b)
+    middle_keys: list[str] = field(default=None)  # key of each middle pass
+    middle_in: IntArray = field(default=None)  # the piece before each middle pass
+    middle_out: IntArray = field(default=None)  # and the piece after it
     piece_from: list[str] = field(default=None)  # id of each piece's first point
     piece_to: list[str] = field(default=None)  # id of each piece's second point
     piece_run_in_rope: list[int] = field(default=None)  # index of each piece's run within its rope
@@ -683,6 +686,9 @@ def _report_indices(s: System, kinds: list[str]) -> None:
     lonely = np.flatnonzero(s.free & ~used)
     s.unattached = int(lonely[0]) if len(lonely) else None
     s.piece_ends = np.concatenate((s.a, s.b))
+    s.middle_keys = [mp.key for mp in s.middle_passes]
+    s.middle_in = np.array([mp.piece_in for mp in s.middle_passes], dtype=np.intp)
+    s.middle_out = np.array([mp.piece_out for mp in s.middle_passes], dtype=np.intp)
     s.piece_from = [ids[i] for i in s.a.tolist()]
     s.piece_to = [ids[i] for i in s.b.tolist()]
     run_in_rope: list[int] = []

@@ -1023,21 +1023,18 @@ def _point_records(s: System, at: list, memo: _LastRows, f: np.ndarray, f_list: 
     rows = f[at] if at else np.zeros((0, 2))
     key = (at, sf)
     old, moved = memo.changed(key, rows)
-    if moved is not None:
-        moved = moved.tolist()  # Python bools at once
-    records = {}
-    made = []
-    for j, i in enumerate(at):
-        p = points[i]
-        capacity = p.capacity_N if rated else None
-        if old is not None and not moved[j] and old[j].capacity_N == capacity:
-            a = old[j]
-        else:
-            a = _anchor(*f_list[i], capacity, sf)
-        records[p.id] = a
-        made.append(a)
+    caps = [points[i].capacity_N for i in at] if rated else [None] * len(at)
+    if old is None:
+        made = [None] * len(at)
+        redo = range(len(at))
+    else:  # only the points whose force or capacity changed
+        made = list(old)
+        redo = [j for j, (m, a, c) in enumerate(zip(moved.tolist(), old, caps)) if m or a.capacity_N != c]
+    for j in redo:
+        made[j] = _anchor(*f_list[at[j]], caps[j], sf)
     memo.keep(key, rows, made)
-    return records
+    ids = s.point_ids
+    return {ids[i]: a for i, a in zip(at, made)}
 
 
 #: (hauled runs, their haul points, haul forces, the haul dict) of the last Result: a drag step's rig hauls
@@ -1068,18 +1065,21 @@ def _deflections(s: System, st: State) -> dict[str, float]:
         return {}
     key = (s.middle_passes,)
     old, moved = _TURN_ROWS.changed(key, st.u)
-    moved = moved.tolist() if moved is not None else None
-    u_list = st.u.tolist()
-    turns = []
-    for j, mp in enumerate(s.middle_passes):
-        if moved is not None and not moved[mp.piece_in] and not moved[mp.piece_out]:
-            turns.append(old[j])
-            continue
-        (ax, ay), (bx, by) = u_list[mp.piece_in], u_list[mp.piece_out]
-        c = ax * bx + ay * by
-        turns.append(math.degrees(math.acos(max(-1.0, min(1.0, c)))))
+    if old is None:
+        turns = [0.0] * len(s.middle_passes)
+        redo = range(len(s.middle_passes))
+    else:  # only the passes with a piece that turned
+        turns = list(old)
+        redo = np.flatnonzero(moved[s.middle_in] | moved[s.middle_out]).tolist()
+    if redo:
+        u_list = st.u.tolist()
+        for j in redo:
+            mp = s.middle_passes[j]
+            (ax, ay), (bx, by) = u_list[mp.piece_in], u_list[mp.piece_out]
+            c = ax * bx + ay * by
+            turns[j] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
     _TURN_ROWS.keep(key, st.u, turns)
-    return {mp.key: t for mp, t in zip(s.middle_passes, turns)}
+    return dict(zip(s.middle_keys, turns))
 
 
 def _build_result(s: System, sol: _Solved, motion: str) -> Result:
