@@ -12,6 +12,7 @@ from __future__ import annotations
 import copy
 import logging
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, field, fields, replace
 
 import numpy as np
@@ -150,6 +151,12 @@ class System:
     free_at: IntArray = field(default=None)  # indices of the free points
     ones: FloatArray = field(default=None)  # frictionless piece weights (shared, read-only)
     run_tied: NDArray[np.bool_] = field(default=None)  # runs not hauled
+    free_ids: list[str] = field(default=None)  # ids of the free points, in dof order
+    unattached: int | None = None  # a free point that no rope reaches (index into the points), if any
+    piece_ends: IntArray = field(default=None)  # every piece's first point, then every piece's second (a, then b)
+    middle_keys: list[str] = field(default=None)  # key of each middle pass
+    middle_in: IntArray = field(default=None)  # the piece before each middle pass
+    middle_out: IntArray = field(default=None)  # and the piece after it
     piece_from: list[str] = field(default=None)  # id of each piece's first point
     piece_to: list[str] = field(default=None)  # id of each piece's second point
     piece_run_in_rope: list[int] = field(default=None)  # index of each piece's run within its rope
@@ -558,7 +565,8 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     """:func:`with_geometry`; ``checked``: compile_topology has already checked this rig's geometry."""
     t = topo.template
     pts = [rig.points[i] for i in topo.point_index]
-    xy = np.array([[p.x, p.y] for p in pts], dtype=float).reshape(-1, 2)
+    # the x and y columns as two flat lists (one nested list per point costs a shape discovery per point)
+    xy = np.array([[p.x for p in pts], [p.y for p in pts]], dtype=float).reshape(2, -1).T.copy()
     d = xy[t.b] - xy[t.a]
     # math.hypot, one piece at a time, as the check in compile_topology (np.hypot can differ in the last bit)
     piece_len0 = np.array(list(map(math.hypot, d[:, 0].tolist(), d[:, 1].tolist())), dtype=float)
@@ -572,7 +580,9 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
                             and (run_L0[topo.run_pretensioned] > 0).all() and (run_L0[topo.run_slacked] > 0).all()):
         return compile_rig(rig, topo.motion)  # raises the RigModelError that names the first problem
     s = System.__new__(System)
-    s.__dict__.update({name: t.__dict__[name] for name in _SYSTEM_FIELDS})
+    held = t.__dict__
+    # the template holds its fields alone (it is never solved): copied at once, else field by field
+    s.__dict__.update(held if len(held) == len(_SYSTEM_FIELDS) else {name: held[name] for name in _SYSTEM_FIELDS})
     s.soft = None
     s.rig, s.points = rig, pts
     lo, hi = (xy.min(axis=0), xy.max(axis=0)) if len(pts) else (np.zeros(2), np.zeros(2))
@@ -669,6 +679,16 @@ def _report_indices(s: System, kinds: list[str]) -> None:
     ``kinds``: the kind of every structural point, in order.
     """
     ids = s.point_ids
+    s.free_ids = [ids[i] for i in np.flatnonzero(s.free).tolist()]
+    used = np.zeros(len(ids), dtype=bool)
+    used[s.a] = True
+    used[s.b] = True
+    lonely = np.flatnonzero(s.free & ~used)
+    s.unattached = int(lonely[0]) if len(lonely) else None
+    s.piece_ends = np.concatenate((s.a, s.b))
+    s.middle_keys = [mp.key for mp in s.middle_passes]
+    s.middle_in = np.array([mp.piece_in for mp in s.middle_passes], dtype=np.intp)
+    s.middle_out = np.array([mp.piece_out for mp in s.middle_passes], dtype=np.intp)
     s.piece_from = [ids[i] for i in s.a.tolist()]
     s.piece_to = [ids[i] for i in s.b.tolist()]
     run_in_rope: list[int] = []
@@ -957,6 +977,20 @@ def by_material(s: System, mats: IntArray, values: FloatArray, method: str,
     return out
 
 
+def _law(s: System, mats: IntArray, kappa: FloatArray | None, method: str,
+         positive: bool = False) -> Callable[[FloatArray], FloatArray | float]:
+    """:func:`by_material` with ``method`` for elements of materials ``mats`` (softened by ``kappa``), as a function
+    of the values alone: the curve's own method when there is one curve and no softening (the same numbers).
+
+    ``positive``: no value it is given is negative, so that the curve's tension-only branch is left
+    out (:meth:`StretchCurve.of_positive`; the same numbers, a compliance perhaps as one number for all).
+    """
+    if kappa is None and len(s.curves) == 1:
+        curve = s.curves[0]
+        return curve.of_positive(method) if positive else getattr(curve, method)
+    return lambda values: by_material(s, mats, values, method, kappa)
+
+
 def _kappa(s: System, runs: IntArray | None = None, pieces: IntArray | None = None) -> FloatArray | None:
     """Softening factor of the given runs or pieces (None: the real ropes)."""
     if s.soft is None:
@@ -991,19 +1025,20 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         hauled_at = s.run_hauled.nonzero()[0]
         fixed = s._run_tension_fixed = (hauled_at, (s.run_start + s.run_count - 1)[hauled_at], s.run_P[hauled_at])
     hauled_at, hauled_last, hauled_P = fixed
+    w_of, run_wmin, run_wmax, uneven, hauled_tau = s.__dict__.get("_run_weight_range") or (None,) * 5
+    if w_of is not w:  # the weights are fixed through a Newton solve: their per-run range once per array
+        run_wmin = np.minimum.reduceat(w, s.run_start) if nr else w
+        run_wmax = np.maximum.reduceat(w, s.run_start) if nr else w
+        uneven = bool(np.any(tied_run & (run_wmin != run_wmax)))
+        hauled_tau = hauled_P / w[hauled_last]  # a hauled run's first piece: its haul force over the last's weight
+        s._run_weight_range = (w, run_wmin, run_wmax, uneven, hauled_tau)
     tau = np.zeros(nr)
-    tau[hauled_at] = hauled_P / w[hauled_last]
+    tau[hauled_at] = hauled_tau
     strict = (tied_run & (L > s.run_L0)).nonzero()[0]
     if len(strict) == 0:
         return tau, taut
     lam_e = L[strict] / s.run_L0[strict] - 1.0
     t_lam = by_material(s, s.run_mat[strict], lam_e, "tension", _kappa(s, runs=strict))
-    w_of, run_wmin, run_wmax, uneven = s.__dict__.get("_run_weight_range") or (None, None, None, True)
-    if w_of is not w:  # the weights are fixed through a Newton solve: their per-run range once per array
-        run_wmin = np.minimum.reduceat(w, s.run_start) if nr else w
-        run_wmax = np.maximum.reduceat(w, s.run_start) if nr else w
-        uneven = bool(np.any(tied_run & (run_wmin != run_wmax)))
-        s._run_weight_range = (w, run_wmin, run_wmax, uneven)
     if not uneven:  # each tied run's pieces share one weight: the bracket below is closed already
         tau[strict] = t_lam / run_wmax[strict]
         return tau, taut
@@ -1020,9 +1055,11 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         kk = _kappa(s, pieces=pieces)
         L0 = s.run_L0[runs]
         lo_t, hi_t = lo[todo], hi[todo]
+        n_todo = len(runs)
+        lk_wk = lk * wk  # (read by every Newton step below too: a * b * c is (a * b) * c)
         # start at the run's stretch tension over its length-weighted mean weight (inside the
         # bracket; exact for a rope of constant stiffness in the limit of small strain)
-        w_mean = np.bincount(owner, lk * wk, minlength=len(runs)) / np.bincount(owner, lk, minlength=len(runs))
+        w_mean = np.bincount(owner, lk_wk, minlength=n_todo) / np.bincount(owner, lk, minlength=n_todo)
         tt = np.clip(t_lam[todo] / w_mean, lo_t, hi_t)
         # within one solve the last evaluation's tensions are closer still (the geometry moved a
         # step); the solver clears them when a solve starts, so a solve's numbers do not depend on
@@ -1031,21 +1068,25 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
         if last is not None and last[0] is w:
             prev = last[1][runs]
             tt = np.where((prev > lo_t) & (prev < hi_t), prev, tt)
+        # what every step below reads unchanged, made once; no piece tension below is negative
+        # (weights >= 0, tt inside a bracket from t_lam / wmax >= 0)
+        strain, dstrain = _law(s, mk, kk, "strain", positive=True), _law(s, mk, kk, "dstrain", positive=True)
+        f_tol = 1e-15 * L0
         for _ in range(100):
             Tk = wk * tt[owner]
-            e = by_material(s, mk, Tk, "strain", kk)
-            f = np.bincount(owner, lk / (1.0 + e), minlength=len(runs)) - L0
+            one_e = 1.0 + strain(Tk)
+            f = np.bincount(owner, lk / one_e, minlength=n_todo) - L0
             lo_t = np.where(f > 0, tt, lo_t)
             hi_t = np.where(f < 0, tt, hi_t)
-            done = (np.abs(f) <= 1e-15 * L0) | (hi_t - lo_t <= 1e-15 * hi_t)
+            done = (np.abs(f) <= f_tol) | (hi_t - lo_t <= 1e-15 * hi_t)
             if done.all():
                 break  # (the slope is needed only for another step)
-            de = by_material(s, mk, Tk, "dstrain", kk)
-            fp = -np.bincount(owner, lk * wk * de / (1.0 + e) ** 2, minlength=len(runs))
+            fp = -np.bincount(owner, lk_wk * dstrain(Tk) / one_e ** 2, minlength=n_todo)
             # a flat f (fp = 0) gives no Newton step: inf, refused below like any step off the bracket
-            step = tt - np.divide(f, fp, out=np.full(len(f), np.inf), where=fp != 0.0)
-            bad = ~np.isfinite(step) | (step <= lo_t) | (step >= hi_t)
-            tt = np.where(bad, 0.5 * (lo_t + hi_t), step)
+            step = tt - np.divide(f, fp, out=np.full(n_todo, np.inf), where=fp != 0.0)
+            # inside the (finite) bracket: a step that is not a number or infinite fails both tests
+            inside = (step > lo_t) & (step < hi_t)
+            tt = np.where(inside, step, 0.5 * (lo_t + hi_t))
         t[todo] = tt
     tau[strict] = t
     s._last_tau = (w, tau)
@@ -1089,9 +1130,25 @@ def directions(s: System, x: FloatArray) -> FloatArray:
 def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArray | None = None) -> State:
     """The state at free coordinates ``x`` (m) with piece weights ``w`` (None: frictionless)."""
     xy, l, no_zero_length, u = _pieces_at(s, x)
+    L = np.add.reduceat(l, s.run_start) if s.n_runs else np.zeros(0)
+    return _loaded(s, x, xy, l, no_zero_length, u, L, w, kc)
+
+
+def reweighted(s: System, st: State, w: FloatArray | None = None, kc: FloatArray | None = None) -> State:
+    """:func:`evaluate` at ``st.x`` with piece weights ``w`` (None: frictionless), the geometry (positions, piece
+    lengths and directions, run lengths, contact penetrations) taken from ``st``, where it is the same numbers:
+    only the weights differ."""
+    return _loaded(s, st.x, st.xy, st.l, st.no_zero_length, st.u, st.L, w, kc, (st.pen, st.closed))
+
+
+def _loaded(s: System, x: FloatArray, xy: FloatArray, l: FloatArray, no_zero_length: bool, u: FloatArray,
+            L: FloatArray, w: FloatArray | None, kc: FloatArray | None, contact: tuple | None = None) -> State:
+    """The state at ``x`` of :func:`evaluate` from its geometry: run tensions, piece forces, out-of-balance.
+
+    ``contact``: (penetrations, whether any is closed) at this geometry when known.
+    """
     if w is None:
         w = s.ones
-    L = np.add.reduceat(l, s.run_start) if s.n_runs else np.zeros(0)
     tau, taut = solve_run_tensions(s, L, l, w)
     if not s.n_pieces:
         T = np.zeros(0)
@@ -1101,8 +1158,11 @@ def evaluate(s: System, x: FloatArray, w: FloatArray | None = None, kc: FloatArr
     eps = by_material(s, s.piece_mat, T, "strain", kappa) if s.n_pieces else np.zeros(0)
     if kc is None:
         kc = contact_stiffness(s)
-    pen = np.maximum(s.s_min_on - l, 0.0)  # 0 where the contact is off (s_min_on = -inf)
-    closed = bool(pen.any())
+    if contact is None:
+        pen = np.maximum(s.s_min_on - l, 0.0)  # 0 where the contact is off (s_min_on = -inf)
+        closed = bool(pen.any())
+    else:
+        pen, closed = contact
     N = T - kc * pen if closed else T
     if s.n_pieces:
         nu = (N[:, None] * u).reshape(-1)  # dPi/dx_a = -N u, dPi/dx_b = +N u
@@ -1132,22 +1192,106 @@ def tangent_values(s: System, st: State, kc: FloatArray | None = None, exact: bo
         return np.zeros(0)
     if kc is None:
         kc = contact_stiffness(s)
-    u, l = st.u, st.l
+    return np.concatenate(_block_values(s, st, kc, exact, None))[s.k_src] * s.k_sgn
+
+
+@dataclass(frozen=True)
+class PartPattern:
+    """Where one part's tangent entries come from: its pieces and tied-run pairs, and its dense block's layout."""
+
+    dofs: IntArray  # the part's free coordinates, in order (the block's rows and columns)
+    pieces: IntArray  # the part's pieces, in order
+    pair_k: IntArray  # the part's pairs, as positions in ``pieces``
+    pair_j: IntArray
+    pair_run: IntArray  # and their runs (global run numbers)
+    src: IntArray  # per kept entry of the part, in pattern order: its index into the part's packed block values
+    sgn: FloatArray  # and its sign
+    lin: IntArray  # and its place in the part's dense block, row-major
+
+
+#: (the k_src array of the topology they belong to, {part: PartPattern}): a drag step's System shares it.
+_PART_PATTERNS: list = [None, {}]
+
+
+def part_pattern(s: System, part: int) -> PartPattern:
+    """The :class:`PartPattern` of part ``part``, kept per topology (it depends on the index arrays alone)."""
+    if _PART_PATTERNS[0] is not s.k_src:
+        _PART_PATTERNS[:] = [s.k_src, {}]
+    memo = _PART_PATTERNS[1]
+    pat = memo.get(part)
+    if pat is None:
+        if len(memo) >= 64:
+            memo.clear()
+        pat = memo[part] = _part_pattern(s, part)
+    return pat
+
+
+def _part_pattern(s: System, part: int) -> PartPattern:
+    """:func:`part_pattern`, computed: the part's kept entries (every entry on one of its dofs), in the same order."""
+    dofs = np.flatnonzero(s.dof_comp == part)
+    pieces = np.flatnonzero(s.piece_comp == part)
+    local_piece = np.full(s.n_pieces, -1, dtype=np.intp)
+    local_piece[pieces] = np.arange(len(pieces))
+    pairs = np.flatnonzero(s.piece_comp[s.pair_k] == part) if len(s.pair_k) else np.zeros(0, np.intp)
+    local_pair = np.full(len(s.pair_k), -1, dtype=np.intp)
+    local_pair[pairs] = np.arange(len(pairs))
+    keep = np.flatnonzero(s.dof_comp[s.k_rows] == part)
+    n, m, np_, nq = s.n_pieces, len(s.pair_k), len(pieces), len(pairs)
+    src = s.k_src[keep]
+    block = src < 3 * n  # a piece's own block value: component src // n of piece src % n
+    local = np.empty(len(src), dtype=np.intp)
+    local[block] = (src[block] // n) * np_ + local_piece[src[block] % n]
+    q = src[~block] - 3 * n  # else a pair's: component q // m of pair q % m
+    local[~block] = 3 * np_ + (q // max(m, 1)) * nq + local_pair[q % max(m, 1)]
+    local_dof = np.full(s.n_dof, -1, dtype=np.intp)
+    local_dof[dofs] = np.arange(len(dofs))
+    lin = local_dof[s.k_rows[keep]] * len(dofs) + local_dof[s.k_cols[keep]]
+    pat = PartPattern(dofs=dofs, pieces=pieces, pair_k=local_piece[s.pair_k[pairs]],
+                      pair_j=local_piece[s.pair_j[pairs]], pair_run=s.pair_run[pairs], src=local,
+                      sgn=s.k_sgn[keep], lin=lin.astype(np.intp))
+    for arr in (pat.dofs, pat.pieces, pat.pair_k, pat.pair_j, pat.pair_run, pat.src, pat.sgn, pat.lin):
+        arr.flags.writeable = False
+    return pat
+
+
+def part_tangent(s: System, st: State, kc: FloatArray, exact: bool, part: int) -> FloatArray:
+    """The dense block of the tangent on part ``part``'s coordinates (:attr:`PartPattern.dofs`), N/m: bit for bit
+    the full dense tangent's rows and columns of those coordinates (the same values summed in the same order),
+    from the part's own pieces alone (a part's pieces reach only its own coordinates)."""
+    pat = part_pattern(s, part)
+    m = len(pat.dofs)
+    if not len(pat.pieces):
+        return np.zeros((m, m))
+    val = np.concatenate(_block_values(s, st, kc, exact, pat))[pat.src] * pat.sgn
+    return np.bincount(pat.lin, val, minlength=m * m).reshape(m, m)
+
+
+def _block_values(s: System, st: State, kc: FloatArray, exact: bool, on: PartPattern | None) -> list[FloatArray]:
+    """The tangent's packed block values: [axx, axy, ayy] of each piece's 2x2 block, then [xx, xy, yx, yy] of each
+    tied-run pair's rank-one block (see :func:`tangent_values`), of every piece and pair (``on`` None) or of
+    those of one part (each value the same number either way)."""
+    unit = st.w is s.ones  # frictionless: every weight 1, so the products by w are left out (same numbers)
+    if on is None:
+        u, l, N, T, eps, w, pen = st.u, st.l, st.N, st.T, st.eps, st.w, st.pen
+        piece_run, piece_mat, k, j, r = s.piece_run, s.piece_mat, s.pair_k, s.pair_j, s.pair_run
+    else:
+        P = on.pieces
+        u, l, N, T, eps, w, pen, kc = st.u[P], st.l[P], st.N[P], st.T[P], st.eps[P], st.w[P], st.pen[P], kc[P]
+        piece_run, piece_mat, k, j, r = s.piece_run[P], s.piece_mat[P], on.pair_k, on.pair_j, on.pair_run
     # a piece pushed by the spacing contact (N < 0) would add negative stiffness, turning the
     # rope's kink at a two-blocked pass into a saddle for Newton: keep only the pull (PSD tangent)
-    pull = st.N if exact else np.maximum(st.N, 0.0)
+    pull = N if exact else np.maximum(N, 0.0)
     geo = pull / l if st.no_zero_length else np.divide(pull, l, out=np.zeros(l.shape), where=l > 0)
-    unit = st.w is s.ones  # frictionless: every weight 1, so the products by w are left out (same numbers)
     run_coef = None
     if st.taut.any():
-        c = 1.0 / (1.0 + st.eps)
-        de = by_material(s, s.piece_mat, st.T, "dstrain", None if s.soft is None else s.soft[s.piece_run])
-        D = np.bincount(s.piece_run, (l if unit else l * st.w) * de * c * c, minlength=s.n_runs)
+        c = 1.0 / (1.0 + eps)
+        de = by_material(s, piece_mat, T, "dstrain", None if s.soft is None else s.soft[piece_run])
+        D = np.bincount(piece_run, (l if unit else l * w) * de * c * c, minlength=s.n_runs)
         run_coef = np.divide(1.0, D, out=np.zeros(D.shape), where=st.taut & (D > 0))
-        coef = (c if unit else st.w * c) * run_coef[s.piece_run]
-        axial = np.where(st.pen > 0, kc, 0.0) + coef if st.closed else coef
+        coef = (c if unit else w * c) * run_coef[piece_run]
+        axial = np.where(pen > 0, kc, 0.0) + coef if st.closed else coef
     else:
-        axial = np.where(st.pen > 0, kc, 0.0)
+        axial = np.where(pen > 0, kc, 0.0)
     ux, uy = u[:, 0], u[:, 1]
     # 2x2 block A = geo (I - u u^T) + axial u u^T, stored as (xx, xy, yy)
     axx = geo * (1.0 - ux * ux) + axial * ux * ux
@@ -1155,12 +1299,11 @@ def tangent_values(s: System, st: State, kc: FloatArray | None = None, exact: bo
     ayy = geo * (1.0 - uy * uy) + axial * uy * uy
     # every kept entry is one of these block values times +-1 (index map built by _pattern)
     packed = [axx, axy, ayy]
-    if len(s.pair_k):
-        k, j, r = s.pair_k, s.pair_j, s.pair_run
-        cj = 1.0 / (1.0 + st.eps[j])
-        pc = st.w[k] * cj * (run_coef[r] if run_coef is not None else 0.0)
+    if len(k):
+        cj = 1.0 / (1.0 + eps[j])
+        pc = w[k] * cj * (run_coef[r] if run_coef is not None else 0.0)
         packed += [ux[k] * ux[j] * pc, ux[k] * uy[j] * pc, uy[k] * ux[j] * pc, uy[k] * uy[j] * pc]
-    return np.concatenate(packed)[s.k_src] * s.k_sgn
+    return packed
 
 
 _SGN = np.array([1.0, 1.0, -1.0, -1.0])

@@ -32,6 +32,9 @@ from solver.assembly import (
     contact_stiffness,
     directions,
     evaluate,
+    part_pattern,
+    part_tangent,
+    reweighted,
     same_structure,
     tangent_values,
     with_forces,
@@ -98,13 +101,23 @@ def _force_scale(s: System, st: State) -> float:
     return max(s.force_scale, t)
 
 
-def _matrix(s: System, st: State, kc: np.ndarray, dense: bool, exact: bool = False):
-    """The tangent on the free dofs: a dense array for small rigs, else CSC (kept on the state: never written to)."""
-    key = (dense, exact)
+def _matrix(s: System, st: State, kc: np.ndarray, dense: bool, exact: bool = False, part: int | None = None):
+    """The tangent on the free dofs: a dense array for small rigs, else CSC (kept on the state: never written to).
+
+    ``part``: only its rows and columns (:func:`_sub` of the whole), the dense block built from the part's
+    own pieces (:func:`solver.assembly.part_tangent`, the same numbers).
+    """
+    key = (dense, exact) if part is None else (dense, exact, part)
     K = st.matrices.get(key)
     if K is not None:
         return K
-    K = st.matrices[key] = _assembled(s, st, kc, dense, exact)
+    if part is None:
+        K = _assembled(s, st, kc, dense, exact)
+    elif dense:
+        K = part_tangent(s, st, kc, exact, part)
+    else:
+        K = _sub(_matrix(s, st, kc, dense, exact), part_pattern(s, part).dofs, dense)
+    st.matrices[key] = K
     return K
 
 
@@ -385,7 +398,8 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         size = float(s.comp_size[0])
         comp_scale0 = float(s.comp_force_scale[0])
     else:
-        idx, pieces = _part_indices(s, part)
+        pat = part_pattern(s, part)  # kept per topology: a drag step's System has it from the last step
+        idx, pieces = pat.dofs, pat.pieces
         cd = np.zeros(len(idx), dtype=np.intp)  # one bin: bincount sums the part's coordinates in order
         size = float(s.comp_size[part])
         comp_scale0 = float(s.comp_force_scale[part])
@@ -430,9 +444,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
         done = done or (stall >= 4 and res <= ACCEPT_REL * scale)
         if done:
             return _Outcome(st, it, True)
-        K = _matrix(s, st, kc, dense, exact=not symmetric)
-        if idx is not None:
-            K = _sub(K, idx, dense)
+        K = _matrix(s, st, kc, dense, exact=not symmetric, part=part)
         base = max(float(K.diagonal().max()), scale / size, 1e-12)  # = the largest of the x and y maxima
         m0 = merit(st)
         x_new = st.x.copy()
@@ -517,15 +529,6 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
     return _Outcome(st, it + 1, bool(ok or res <= ACCEPT_REL * scale))
 
 
-def _part_indices(s: System, part: int) -> tuple[np.ndarray, np.ndarray]:
-    """(free coordinates, pieces) of part ``part``, in order; kept per System."""
-    memo = s.__dict__.setdefault("_part_indices", {})
-    hit = memo.get(part)
-    if hit is None:
-        hit = memo[part] = (np.flatnonzero(s.dof_comp == part), np.flatnonzero(s.piece_comp == part))
-    return hit
-
-
 # --- words -----------------------------------------------------------------------------------------
 
 def _direction_words(vx: float, vy: float, elevation: bool) -> str:
@@ -602,15 +605,6 @@ def _mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] |
     return int(free_idx[k]), v[2 * k:2 * k + 2]
 
 
-def _unattached(s: System) -> int | None:
-    """A free point that no rope reaches, if any."""
-    used = np.zeros(len(s.point_ids), dtype=bool)
-    used[s.a] = True
-    used[s.b] = True
-    lonely = np.flatnonzero(s.free & ~used)
-    return int(lonely[0]) if len(lonely) else None
-
-
 # --- the solver --------------------------------------------------------------------------------------
 
 def _start_x(s: System, start) -> np.ndarray:
@@ -618,17 +612,16 @@ def _start_x(s: System, start) -> np.ndarray:
     with finite coordinates, else the drawn one."""
     xy = s.xy0.copy()
     if start:
-        ids = s.point_ids
-        at, given = [], []
-        for i in s.free_at.tolist():
-            v = start.get(ids[i])
-            if v is not None:
-                at.append(i)
-                given.append(v)
-        if at:
-            vals = np.array(given, dtype=float).reshape(-1, 2)
+        given = [start.get(pid) for pid in s.free_ids]
+        at = s.free_at
+        if None in given:  # a warm drag step gives every free point (the dragged one is drawn where it is fixed)
+            at = np.array([i for i, v in zip(at.tolist(), given) if v is not None], dtype=np.intp)
+            given = [v for v in given if v is not None]
+        if len(at):
+            # (x, y) pairs as an x and a y column (one sequence per point would be looked at point by point)
+            vals = np.array([[v[0] for v in given], [v[1] for v in given]], dtype=float).T
             ok = np.isfinite(vals).all(axis=1)
-            xy[np.asarray(at)[ok]] = vals[ok] - s.origin
+            xy[at[ok]] = vals[ok] - s.origin
     return s.x_from(xy)
 
 
@@ -860,7 +853,7 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
     """
     s.__dict__.pop("_last_tau", None)  # run tensions of an earlier solve are no start for this one
     kc = contact_stiffness(s)
-    lonely = _unattached(s)
+    lonely = s.unattached
     if lonely is not None:
         pid = s.point_ids[lonely]
         return Result(status="mechanism", subject=pid,
@@ -872,7 +865,7 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
             return _Solved(fr.state, fr.state, fr.iterations, False, fr.runaway, w)
         # held or not is a property of the structure: judged on the frictionless (symmetric) tangent,
         # which is also the first matrix of the frictionless re-solve for the ideal MA
-        frictionless = evaluate(s, fr.state.x, None, kc)
+        frictionless = reweighted(s, fr.state, None, kc)  # = evaluate(s, fr.state.x, None, kc)
         failed = _mechanism_result(s, frictionless, kc, fr.iterations)
         if failed is not None:
             return failed
@@ -960,9 +953,11 @@ def _resultants(s: System, st: State) -> np.ndarray:
         return np.zeros((n, 2))
     pull = st.N[:, None] * st.u  # rope pulls a toward b and b toward a
     # every a end, then every b end, each added in piece order (the sums np.add.at would make)
-    ends = np.concatenate((s.a, s.b))
     both = np.concatenate((pull, -pull))
-    return np.stack((np.bincount(ends, both[:, 0], minlength=n), np.bincount(ends, both[:, 1], minlength=n)), axis=1)
+    f = np.empty((n, 2))
+    f[:, 0] = np.bincount(s.piece_ends, both[:, 0], minlength=n)
+    f[:, 1] = np.bincount(s.piece_ends, both[:, 1], minlength=n)
+    return f
 
 
 def _anchor(fx: float, fy: float, capacity: float | None, sf: float) -> AnchorResult:
@@ -1033,7 +1028,8 @@ def _two_blocked(s: System, st: State, kc: np.ndarray) -> list[Warning_]:
 def _segment_records(s: System, st: State, sf: float) -> list[SegmentResult]:
     """A SegmentResult per piece; a piece whose tension, length and strain are bit for bit those of the
     last Result of the same structure (and the same safety factor and MBS) keeps that Result's record."""
-    rows = np.stack((st.T, st.l, st.eps), axis=1)
+    rows = np.empty((s.n_pieces, 3))  # the columns T, l, eps (np.stack's bookkeeping costs more than the copy)
+    rows[:, 0], rows[:, 1], rows[:, 2] = st.T, st.l, st.eps
     key = (s.piece_rope, sf, s.piece_mbs)
     old, moved = _SEGMENT_ROWS.changed(key, rows)
     if old is None:
@@ -1064,19 +1060,18 @@ def _point_records(s: System, at: list, memo: _LastRows, f: np.ndarray, f_list: 
     rows = f[at] if at else np.zeros((0, 2))
     key = (at, sf)
     old, moved = memo.changed(key, rows)
-    records = {}
-    made = []
-    for j, i in enumerate(at):
-        p = points[i]
-        capacity = p.capacity_N if rated else None
-        if old is not None and not moved[j] and old[j].capacity_N == capacity:
-            a = old[j]
-        else:
-            a = _anchor(*f_list[i], capacity, sf)
-        records[p.id] = a
-        made.append(a)
+    caps = [points[i].capacity_N for i in at] if rated else [None] * len(at)
+    if old is None:
+        made = [None] * len(at)
+        redo = range(len(at))
+    else:  # only the points whose force or capacity changed
+        made = list(old)
+        redo = [j for j, (m, a, c) in enumerate(zip(moved.tolist(), old, caps)) if m or a.capacity_N != c]
+    for j in redo:
+        made[j] = _anchor(*f_list[at[j]], caps[j], sf)
     memo.keep(key, rows, made)
-    return records
+    ids = s.point_ids
+    return {ids[i]: a for i, a in zip(at, made)}
 
 
 #: (hauled runs, their haul points, haul forces, the haul dict) of the last Result: a drag step's rig hauls
@@ -1088,13 +1083,15 @@ def _haul_forces(s: System) -> dict[str, float]:
     """The haul force at each haul point, N (the sum of the runs hauled there)."""
     last = _LAST_HAUL[0]
     if (last is not None and last[0] is s.run_hauled and last[1] is s.run_haul_point
-            and np.array_equal(last[2], s.run_P)):
+            and (last[2] is s.run_P or np.array_equal(last[2], s.run_P))):
         return last[3]
     haul: dict[str, float] = {}
     for hauled, hp, P in zip(s.run_hauled.tolist(), s.run_haul_point, s.run_P.tolist()):
         if hauled:
             haul[hp] = haul.get(hp, 0.0) + P
-    _LAST_HAUL[0] = (s.run_hauled, s.run_haul_point, s.run_P.copy(), haul)
+    # a compiled topology's arrays are read-only (shared by every System of it): kept as they are
+    _LAST_HAUL[0] = (s.run_hauled, s.run_haul_point, s.run_P if not s.run_P.flags.writeable else s.run_P.copy(),
+                     haul)
     return haul
 
 
@@ -1105,18 +1102,21 @@ def _deflections(s: System, st: State) -> dict[str, float]:
         return {}
     key = (s.middle_passes,)
     old, moved = _TURN_ROWS.changed(key, st.u)
-    moved = moved.tolist() if moved is not None else None
-    u_list = st.u.tolist()
-    turns = []
-    for j, mp in enumerate(s.middle_passes):
-        if moved is not None and not moved[mp.piece_in] and not moved[mp.piece_out]:
-            turns.append(old[j])
-            continue
-        (ax, ay), (bx, by) = u_list[mp.piece_in], u_list[mp.piece_out]
-        c = ax * bx + ay * by
-        turns.append(math.degrees(math.acos(max(-1.0, min(1.0, c)))))
+    if old is None:
+        turns = [0.0] * len(s.middle_passes)
+        redo = range(len(s.middle_passes))
+    else:  # only the passes with a piece that turned
+        turns = list(old)
+        redo = np.flatnonzero(moved[s.middle_in] | moved[s.middle_out]).tolist()
+    if redo:
+        u_list = st.u.tolist()
+        for j in redo:
+            mp = s.middle_passes[j]
+            (ax, ay), (bx, by) = u_list[mp.piece_in], u_list[mp.piece_out]
+            c = ax * bx + ay * by
+            turns[j] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
     _TURN_ROWS.keep(key, st.u, turns)
-    return {mp.key: t for mp, t in zip(s.middle_passes, turns)}
+    return dict(zip(s.middle_keys, turns))
 
 
 def _build_result(s: System, sol: _Solved, motion: str) -> Result:
@@ -1141,7 +1141,7 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
     bad_len = None
     if s.n_pieces:
         unst = np.add.reduceat(st.l / (1.0 + st.eps), s.run_start)
-        tight = (~s.run_hauled) & (st.tau > 0)
+        tight = s.run_tied & (st.tau > 0)
         err = np.abs(unst - s.run_L0) / s.run_L0
         if (tight & (err > 1e-9)).any():
             bad_len = int(np.flatnonzero(tight & (err > 1e-9))[0])

@@ -8,7 +8,7 @@ tension-only: a negative strain carries zero tension and stores zero energy.
 
 from __future__ import annotations
 
-from typing import Iterable, Sequence
+from typing import Callable, Iterable, Sequence
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -98,6 +98,24 @@ class StretchCurve:
         if self._linear:
             return np.where(t >= 0.0, 1.0 / self._k0, 0.0)
         return np.where(t >= 0.0, 1.0 / self._k[self._piece_t(t)], 0.0)
+
+    def of_positive(self, method: str) -> Callable[[FloatArray], FloatArray | float]:
+        """``method`` ("strain" or "dstrain") for tensions that are none of them negative: for a linear rope
+        T / k0 and the one number 1 / k0 (the numbers of :meth:`strain` and :meth:`dstrain` there, without
+        their tension-only branch; a tension of -0.0 gives a strain of -0.0), else the method itself."""
+        if not self._linear:
+            return getattr(self, method)
+        if method == "strain":
+            return self._linear_strain
+        if method == "dstrain":
+            return self._linear_compliance
+        raise ValueError(f"no positive-tension form of {method!r}")
+
+    def _linear_strain(self, tension: FloatArray) -> FloatArray:
+        return tension / self._k0
+
+    def _linear_compliance(self, tension: FloatArray) -> float:
+        return 1.0 / self._k0
 
     def energy(self, eps: ArrayLike) -> FloatArray:
         """Strain energy per unstretched metre W(eps) = integral_0^eps T de, in N (J/m)."""
