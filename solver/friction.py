@@ -87,12 +87,14 @@ def pulled_passes(s: System, T: FloatArray, g: FloatArray, motion: str) -> list[
     that side is the one that closes up if nothing else holds the pass.  ``T`` are piece
     tensions and ``g`` the free-coordinate imbalance of the state the pass is pulled in.
     """
+    if motion == "hold":  # hold: every pass frictionless
+        return []
     out: list[tuple[float, int, int]] = []
     for k in np.flatnonzero(~s.piece_first):
         p = int(s.a[k])
         kind = s.pass_kind[k]
         rubs = (kind == PASS_PULLEY and s.pass_eta[k] < 1.0) or (kind == PASS_EDGE and s.pass_mu[k] > 0.0)
-        if motion == "hold" or not rubs or not s.free[p]:
+        if not rubs or not s.free[p]:
             continue
         closing = int(k - 1) if T[k - 1] >= T[k] else int(k)
         if not s.contact_on[closing]:
