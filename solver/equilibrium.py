@@ -890,6 +890,12 @@ def _solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
     return _Solved(fr.state, out.state if ideal else None, out.iterations + fr.iterations, fr.converged, fr.runaway, w)
 
 
+#: Fewer rows than this are made afresh every time rather than kept: for a handful of records the
+#: comparison costs more than the records (~12 us a memo against ~2 us for a 3-point rig's, measured on
+#: the 500-step vector-pull sweep, where a kept record is never reused).
+MIN_ROWS = 8
+
+
 class _LastRows:
     """What the last Result of one structure made from each row of an array (records, tuples, numbers).
 
@@ -911,8 +917,9 @@ class _LastRows:
         return last[2], (np.ascontiguousarray(rows).view(np.int64) != last[1]).any(axis=1)
 
     def keep(self, key: tuple, rows: np.ndarray, values: list) -> None:
-        """Remember ``values`` made from ``rows`` (float, one row per value's inputs) under ``key``."""
-        self._last = (key, np.ascontiguousarray(rows).view(np.int64).copy(), values)
+        """Remember ``values`` made from ``rows`` (float, one row per value's inputs) under ``key``; fewer than
+        MIN_ROWS rows are not kept (see there)."""
+        self._last = (key, np.ascontiguousarray(rows).view(np.int64).copy(), values) if len(rows) >= MIN_ROWS else None
 
     def forget(self) -> None:
         self._last = None
@@ -1033,17 +1040,17 @@ def _segment_records(s: System, st: State, sf: float) -> list[SegmentResult]:
     key = (s.piece_rope, sf, s.piece_mbs)
     old, moved = _SEGMENT_ROWS.changed(key, rows)
     if old is None:
-        changed = range(s.n_pieces)
+        changed: range | list[int] = range(s.n_pieces)
         segments = [None] * s.n_pieces
+        T, length, eps, mbs, index = st.T, st.l, st.eps, s.piece_mbs, s.piece_index
     else:
         changed = np.flatnonzero(moved).tolist()
         segments = list(old)
-    if len(changed):
         idx = np.asarray(changed, dtype=np.intp)
-        T, length, eps = st.T[idx], st.l[idx], st.eps[idx]
-        util = (T * sf / s.piece_mbs[idx]).tolist()  # whole arrays to Python numbers at once (= float())
-        for i, k, t, ln, e, u in zip(changed, s.piece_index[idx].tolist(), T.tolist(), length.tolist(), eps.tolist(),
-                                     util):
+        T, length, eps, mbs, index = st.T[idx], st.l[idx], st.eps[idx], s.piece_mbs[idx], s.piece_index[idx]
+    if len(changed):
+        util = (T * sf / mbs).tolist()  # whole arrays to Python numbers at once (= float())
+        for i, k, t, ln, e, u in zip(changed, index.tolist(), T.tolist(), length.tolist(), eps.tolist(), util):
             segments[i] = record(SegmentResult, rope=s.piece_rope[i], index=k,
                                  from_point=s.piece_from[i], to_point=s.piece_to[i], tension_N=t, length_m=ln,
                                  strain=e, utilization=u, run=s.piece_run_in_rope[i])
@@ -1056,8 +1063,10 @@ def _point_records(s: System, at: list, memo: _LastRows, f: np.ndarray, f_list: 
     """An AnchorResult of the rope force on each structural point ``at`` (with the point's capacity when
     ``rated``); one whose force is bit for bit that of the last Result of the same structure, with the
     same capacity and safety factor, keeps that Result's record (``memo``)."""
+    if not at:
+        return {}
     points = s.points
-    rows = f[at] if at else np.zeros((0, 2))
+    rows = f[at]
     key = (at, sf)
     old, moved = memo.changed(key, rows)
     caps = [points[i].capacity_N for i in at] if rated else [None] * len(at)

@@ -5,9 +5,12 @@ from __future__ import annotations
 import dataclasses
 import math
 
+import numpy as np
+
 from solver import equilibrium
 from solver.equilibrium import solve
 from tests.bench.fifty_ropes import fifty_rope_rig
+from tests.bench.test_bench_solver import vector_pull_rig
 
 
 def _fresh(rig, start, ideal=False):
@@ -72,3 +75,29 @@ def test_a_new_haul_force_is_never_read_from_the_kept_haul_forces():
     res = solve(dataclasses.replace(rig, points=pts))
     assert res.haul is not first.haul
     assert res.haul["H3"] == 450.0 and res.haul["H2"] == 600.0  # the haul points' own forces (fifty_rope_rig)
+
+
+def test_a_few_rows_are_made_afresh_and_enough_rows_are_kept():
+    # a handful of records costs less to make than to compare, so a small rig keeps nothing...
+    memo = equilibrium._LastRows()
+    key = (("P1", "P2"), 1.5)
+    few = np.arange(2.0 * (equilibrium.MIN_ROWS - 1)).reshape(-1, 2)
+    memo.keep(key, few, list(range(len(few))))
+    assert memo.changed(key, few) == (None, None)
+    # ...while a rig with enough rows hands on the values of its unchanged rows
+    rows = np.arange(2.0 * equilibrium.MIN_ROWS).reshape(-1, 2)
+    values = list(range(len(rows)))
+    memo.keep(key, rows, values)
+    moved_rows = rows.copy()
+    moved_rows[3, 1] = -moved_rows[3, 1]
+    old, moved = memo.changed(key, moved_rows)
+    assert old is values and moved.tolist() == [i == 3 for i in range(len(rows))]
+
+
+def test_a_small_rig_swept_by_its_force_equals_fresh_solves():
+    # the vector-pull sweep (3 points, 2 pieces: below MIN_ROWS) read step by step against solves with nothing kept
+    start = None
+    for p in (20.0, 400.0, 401.0, 1500.0):
+        got = solve(vector_pull_rig(p), start=start)
+        assert got.ok and got == _fresh(vector_pull_rig(p), start, ideal=True)
+        start = dict(got.points)
