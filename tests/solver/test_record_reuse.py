@@ -9,6 +9,7 @@ import numpy as np
 
 from solver import equilibrium
 from solver.equilibrium import solve
+from tests import rigs
 from tests.bench.fifty_ropes import fifty_rope_rig
 from tests.bench.test_bench_solver import vector_pull_rig
 
@@ -100,4 +101,4 @@ def test_a_small_rig_swept_by_its_force_equals_fresh_solves():
     for p in (20.0, 400.0, 401.0, 1500.0):
         got = solve(vector_pull_rig(p), start=start)
         assert got.ok and got == _fresh(vector_pull_rig(p), start, ideal=True)
-        start = dict(got.points)
+        start = rigs.start_from(got)
