@@ -9,7 +9,8 @@ a severity (``info``, ``warning``, ``danger``).  Forces are newtons inside and s
 Rules (sources in the tests that hold them):
 
 * Margins: a component with strength S carrying F is ``*-over`` (danger) when F > S and
-  ``*-margin`` (warning) when F x SF > S.  Anchors use their resultant; in ``hold``, the
+  ``*-margin`` (warning) when F x SF > S.  An anchor whose ``capacity_kind`` is ``working``
+  (a rated working load W, :mod:`solver.capacity`) is ``anchor-over`` when F > W, nothing else.  Anchors use their resultant; in ``hold``, the
   high end of ``hold_anchor_range`` when the solver gives it (also for hardware that is
   the only thing on that anchor; rope pieces use the solved tensions).  Rope pieces use their
   tension against the material's MBS.  Hardware at a pass carries the vector sum of the
@@ -61,8 +62,8 @@ log = logging.getLogger(__name__)
 
 #: Every code run_checks can produce, with its meaning (reports and the legend use this).
 CODES: dict[str, str] = {
-    "anchor-over": "an anchor's resultant exceeds its rated capacity",
-    "anchor-margin": "an anchor's resultant times the safety factor exceeds its capacity",
+    "anchor-over": "an anchor's resultant exceeds its breaking strength or rated working load",
+    "anchor-margin": "an anchor's resultant times the safety factor exceeds its breaking strength",
     "anchor-unrated": "a loaded anchor has no capacity entered, so its margin is unknown",
     "rope-over": "a rope, sling or cord piece carries more than its MBS",
     "rope-margin": "a rope, sling or cord piece is below the chosen safety factor",
@@ -188,17 +189,25 @@ def check_anchors(rig: Rig, result: Result) -> list[Warning_]:
                 f"it needs at least {_force(rig, force * sf)} for a {sf:g}:1 safety factor.",
                 "info"))
             continue
+        if p.capacity_kind == "working":  # a rated working load has its factor in it: warn only above it
+            if force > float(cap):
+                out.append(Warning_(
+                    "anchor-over", p.id,
+                    f"{p.name} takes {_force(rig, force)}{held}, more than its rated working load of "
+                    f"{_force(rig, cap)} (no safety factor applied to a working load).",
+                    "danger"))
+            continue
         m = _margin(rig, force, float(cap))
         if m == "over":
             out.append(Warning_(
                 "anchor-over", p.id,
-                f"{p.name} takes {_force(rig, force)}{held}, more than its capacity of {_force(rig, cap)}.",
+                f"{p.name} takes {_force(rig, force)}{held}, more than its breaking strength of {_force(rig, cap)}.",
                 "danger"))
         elif m == "margin":
             out.append(Warning_(
                 "anchor-margin", p.id,
                 f"{p.name} takes {_force(rig, force)}{held}: safety factor {cap / force:.1f}:1, "
-                f"below {sf:g}:1 (capacity {_force(rig, cap)}).",
+                f"below {sf:g}:1 (breaking strength {_force(rig, cap)}).",
                 "warning"))
     return out
 

@@ -24,6 +24,7 @@ import scipy.sparse
 import scipy.sparse.linalg
 
 from solver import friction
+from solver.capacity import utilization as capacity_utilization
 from solver.assembly import (
     State,
     System,
@@ -967,12 +968,12 @@ def _resultants(s: System, st: State) -> np.ndarray:
     return f
 
 
-def _anchor(fx: float, fy: float, capacity: float | None, sf: float) -> AnchorResult:
+def _anchor(fx: float, fy: float, capacity: float | None, sf: float, kind: str = "strength") -> AnchorResult:
     mag = math.hypot(fx, fy)
-    util = mag * sf / capacity if capacity else None
+    util = capacity_utilization(mag, capacity, kind, sf)
     return record(AnchorResult, force_N=mag,
                   direction_deg=math.degrees(math.atan2(fy, fx)) % 360.0 if mag > 0 else 0.0,
-                  capacity_N=capacity, utilization=util, fx_N=fx, fy_N=fy)
+                  capacity_N=capacity, utilization=util, fx_N=fx, fy_N=fy, capacity_kind=kind)
 
 
 def _mech_advantage(s: System, st: State, f: np.ndarray | None = None) -> float | None:
@@ -1070,14 +1071,16 @@ def _point_records(s: System, at: list, memo: _LastRows, f: np.ndarray, f_list: 
     key = (at, sf)
     old, moved = memo.changed(key, rows)
     caps = [points[i].capacity_N for i in at] if rated else [None] * len(at)
+    kinds = [points[i].capacity_kind for i in at] if rated else ["strength"] * len(at)
     if old is None:
         made = [None] * len(at)
         redo = range(len(at))
     else:  # only the points whose force or capacity changed
         made = list(old)
-        redo = [j for j, (m, a, c) in enumerate(zip(moved.tolist(), old, caps)) if m or a.capacity_N != c]
+        redo = [j for j, (m, a, c, k) in enumerate(zip(moved.tolist(), old, caps, kinds))
+                if m or a.capacity_N != c or a.capacity_kind != k]
     for j in redo:
-        made[j] = _anchor(*f_list[at[j]], caps[j], sf)
+        made[j] = _anchor(*f_list[at[j]], caps[j], sf, kinds[j])
     memo.keep(key, rows, made)
     ids = s.point_ids
     return {ids[i]: a for i, a in zip(at, made)}
