@@ -23,8 +23,9 @@ Rules (sources in the tests that hold them):
 * ``abrasion``: a rope piece crossing a ``boulder`` or ``hazard`` feature, other than the
   stretch of that crossing which touches an ``edge`` pass (protected, modelled edge) or an
   anchor standing on the feature (the anchor's own wrap).
-* ``overpull``: potential force at the load = haul force x ideal MA (what the team could
-  deliver if friction vanished, e.g. the moment the load breaks free).  Limit, first that
+* ``overpull``: potential force at the load = haul force x the larger of the nominal and the
+  ideal MA (what the team could deliver if friction vanished, e.g. the moment the load breaks
+  free; the strand count when the drawn angles give less).  Limit, first that
   applies: ``settings.overpull_limit_N``; else the least of ``OVERPULL_FACTOR`` x the
   load's ``required_N`` (common practice, no source) and the working strength
   (MBS / SF) of the weakest rope or hardware attached at the load.  Haul motion only.
@@ -523,6 +524,13 @@ def overpull_limit(rig: Rig, result: Result, load_id: str) -> tuple[float, str] 
     return min(cands, key=lambda c: c[0]) if cands else None
 
 
+def overpull_ma(result: Result) -> tuple[str, float] | None:
+    """(which, MA) the overpull check multiplies by: the larger (more conservative) of nominal and ideal."""
+    cands = [(name, float(v)) for name, v in (("nominal", result.ma_nominal), ("ideal", result.ma_ideal))
+             if v is not None and math.isfinite(v) and v > 0]
+    return max(cands, key=lambda c: c[1]) if cands else None
+
+
 def check_haul(rig: Rig, result: Result) -> list[Warning_]:
     """Overpull (haul force x ideal MA over the limit) and a load not freed (delivered < required)."""
     out: list[Warning_] = []
@@ -540,13 +548,15 @@ def check_haul(rig: Rig, result: Result) -> list[Warning_]:
         if lr is None:
             continue
         delivered = float(lr.force_N)
-        if result.ma_ideal is not None and result.ma_ideal > 0:
-            potential = total * float(result.ma_ideal)
+        ma_used = overpull_ma(result)
+        if ma_used is not None:
+            which, ma_up = ma_used
+            potential = total * ma_up
             lim = overpull_limit(rig, result, ld.id)
             if lim is not None and potential > lim[0]:
                 out.append(Warning_(
                     "overpull", ld.id,
-                    f"The haul team ({_force(rig, total)}) × ideal MA {result.ma_ideal:.2f} could put "
+                    f"The haul team ({_force(rig, total)}) × {which} MA {ma_up:.2f} could put "
                     f"{_force(rig, potential)} on {ld.name}, over {lim[1]} ({_force(rig, lim[0])}). "
                     f"Use fewer haulers or less mechanical advantage, or watch the load's attachment.",
                     "warning"))

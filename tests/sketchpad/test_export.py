@@ -102,7 +102,8 @@ def test_svg_parses_and_holds_paths_labels_and_rope_names(qapp, tmp_path, raft):
     shown = [format_force(s.tension_N, rig.display.force) for s in result.segments
              if format_force(s.tension_N, rig.display.force) in text]
     assert len(shown) >= 3, text[:400]
-    assert f"MA {result.ma_actual:.2f} actual" in text
+    # the three MAs, each named (the raft Z: nominal 3:1 by strand count)
+    assert f"MA nominal 3:1 · ideal {result.ma_ideal:.2f}:1 · actual {result.ma_actual:.2f}:1" in text
     for r in rig.ropes:
         assert r.name in text
 
