@@ -77,7 +77,8 @@ def test_anchor_safety_factor_and_bearing(raft_report):
     anchors = report.tables[1]
     for (aid, a), row in zip(result.anchors.items(), anchors.rows):
         assert row[0] == rig.point(aid).name
-        assert row[-1] == f"{a.capacity_N / a.force_N:.1f}:1"
+        assert row[-1] == f"{a.capacity_N / a.force_N:.1f}:1 on strength"  # the margin says what it used
+        assert row[3].endswith(" strength")
         # bearing clockwise from north of a direction counter-clockwise from east: 90 - angle (mod 360)
         assert f"{(90.0 - a.direction_deg) % 360.0:03.0f}°" in row[2]
 
@@ -194,5 +195,6 @@ def test_directions_read_as_bearings_in_plan():
     assert direction_words(rig, 90.0) == "toward 000° (N)"
     assert direction_words(rig, 225.0) == "toward 225° (SW)"
     elev = replace(rig, view="elevation")
-    assert direction_words(elev, -30.0) == "30° below level, to the right"
-    assert direction_words(elev, 150.0) == "30° above level, to the left"
+    assert direction_words(elev, -30.0) == "down and right, 30° below horizontal"
+    assert direction_words(elev, 150.0) == "up and left, 30° above horizontal"
+    assert direction_words(rig, 45.0, force_N=0.0) == "—"  # no force, no direction
