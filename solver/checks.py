@@ -17,8 +17,10 @@ Rules (sources in the tests that hold them):
   two legs there (redirect resultant R = 2T cos(alpha/2) when the legs are equal).
 * ``wide-anchor``: a free point held by exactly two legs tied to anchors (tied or
   sliding at the point: a master point, an equalising sling; not a rope grab between
-  two redirect pulleys) whose included angle exceeds
-  120 deg -- ASME B30.9 does not recommend more.  Message gives the leg force factor
+  two redirect pulleys; not one rope passing through it: a tensioned line, below) whose included
+  angle exceeds 120 deg -- ASME B30.9 does not recommend more.
+* ``line-leg-factor``: a rope passing through a free point between two anchors with a load across it
+  (a highline) whose legs carry more than ``LINE_FACTOR_WARN`` x that load (:mod:`solver.tensioned_line`).  Message gives the leg force factor
   1 / (2 cos(alpha/2)) (each leg's share of the resultant for symmetric legs).
 * ``abrasion``: a rope piece crossing a ``boulder`` or ``hazard`` feature, other than the
   stretch of that crossing which touches an ``edge`` pass (protected, modelled edge) or an
@@ -58,6 +60,7 @@ from solver.errors import RopewrightError
 from solver.hauling import haulers_needed
 from solver.model import Hardware, Material, Rig
 from solver.result import Result, Warning_
+from solver.tensioned_line import check_tensioned_lines, is_line_leg_pair
 
 log = logging.getLogger(__name__)
 
@@ -71,7 +74,8 @@ CODES: dict[str, str] = {
     "hardware-over": "a pulley, carabiner, ring or edge carries more than its MBS",
     "hardware-margin": "a pulley, carabiner, ring or edge is below the chosen safety factor",
     "spec-unknown": "a rope or hardware spec is missing, so its margin cannot be checked",
-    "wide-anchor": "two anchor legs meet at more than 120 degrees (ASME B30.9)",
+    "wide-anchor": "two anchor legs meet at a master point or sling at more than 120 degrees (ASME B30.9)",
+    "line-leg-factor": "a tensioned line's legs carry more than twice the load across it (T = P / (2 sin θ))",
     "slack-run": "a run of rope carries no load",
     "abrasion": "a rope piece crosses a boulder or hazard without a modelled edge",
     "overpull": "the haul team could pull harder on the load than the set limit",
@@ -376,8 +380,8 @@ def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
             key = frozenset((s.from_point, s.to_point))
             tens[key] = max(tens.get(key, 0.0), float(s.tension_N))
     for here, a1, a2, ang in two_leg_anchors(rig, result):
-        if ang <= WIDE_ANCHOR_DEG:
-            continue
+        if ang <= WIDE_ANCHOR_DEG or is_line_leg_pair(rig, here, a1, a2):
+            continue  # a tensioned line (highline) is checked on its leg-force factor instead
         fac = leg_force_factor(ang) if ang < 179.999 else float("inf")
         fac_txt = f"{fac:.2f}" if math.isfinite(fac) else "an unbounded multiple of"
         t1, t2 = tens.get(frozenset((here, a1))), tens.get(frozenset((here, a2)))
@@ -653,7 +657,7 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
 
 #: Checks that need solved forces, in report order.
 FORCE_CHECKS: tuple[Callable[[Rig, Result], list[Warning_]], ...] = (
-    check_anchors, check_ropes, check_hardware, check_wide_anchors, check_slack,
+    check_anchors, check_ropes, check_hardware, check_wide_anchors, check_tensioned_lines, check_slack,
     check_abrasion, check_haul, check_two_blocked, check_people,
 )
 
