@@ -202,6 +202,8 @@ class SweepResult:
         with open(path, "w", newline="", encoding="utf-8") as fh:
             for line in caution_lines():
                 fh.write(f"# Caution: {line}\n")
+            fh.write(f"# Units: value = {self.vary.text} in {self.vary.unit or 'no unit'}; columns ending _N in "
+                     "newtons, _deg in degrees; MAs and utilization are ratios\n")
             w = csv.writer(fh)
             w.writerow(self.columns)
             for r in self.rows:
