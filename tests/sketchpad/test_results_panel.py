@@ -169,3 +169,22 @@ def test_a_failed_solve_is_named_and_the_tables_keep_the_last_good_numbers(main_
     assert panel.segments.proxy.rowCount() == len(good.segments)
     assert panel.warnings.item(0).text().startswith("DANGER: Solve failed")
     assert panel.warnings.item(0).data(SUBJECT_ROLE) == "K9"
+
+
+def test_the_dock_says_which_capacity_each_anchor_margin_used(main_window):
+    # bank boulder as a rated working load of 4 kN: use = force / 4 kN (no safety factor); the alder
+    # keeps its breaking strength: use = force x 10 / 20 kN (rig-format.md additions, capacity_kind)
+    rig = load_rig(SAMPLES / "raft-3to1-redirect.rig.json")
+    rig = rig.with_point(replace(rig.point("A2"), capacity_kind="working", capacity_N=4000.0))
+    main_window.document.replace_all(rig, pathlib.Path(SAMPLES / "raft-3to1-redirect.rig.json"))
+    result = main_window.live.scheduler.solve_now()
+    QApplication.processEvents()
+    panel = main_window.live.panel
+    names = column_values(panel.anchors, "anchor")
+    boulder = names.index("bank boulder")
+    f = result.anchors["A2"].force_N
+    assert column_values(panel.anchors, "capacity")[boulder] == "4.00 kN working load"
+    assert column_values(panel.anchors, "use")[boulder] == f"{100 * f / 4000.0:.0f} % of working load"
+    alder = names.index("alder")
+    fa = result.anchors["A1"].force_N
+    assert column_values(panel.anchors, "use")[alder] == f"{100 * fa * 10 / 20000.0:.0f} % of strength ÷ 10"
