@@ -49,7 +49,10 @@ def analyse(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None) ->
         result = Result(status="diverged", message=f"The solver failed unexpectedly ({type(exc).__name__}); "
                                                    f"the rig could not be checked.")
     if result.ma_actual is not None:  # the strand count, named beside the ideal and actual MA
-        result = replace(result, ma_nominal=nominal_ma(rig, result.points))
+        try:
+            result = replace(result, ma_nominal=nominal_ma(rig, result.points))
+        except Exception:  # noqa: BLE001 - a missing strand count must not cost the user the forces
+            log.exception("nominal MA failed on rig %r", rig.title)
     try:
         found = run_checks(rig, result)
     except Exception as exc:  # noqa: BLE001 - say so loudly rather than show an unchecked rig as safe
