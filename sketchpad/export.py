@@ -60,8 +60,6 @@ LOGICAL_WIDTH_PX = 1200.0  # a PNG wider than this is drawn at a device pixel ra
 MAX_SIZE_PX = 12000
 MIN_SIZE_PX = 200
 
-FIT_MARGIN_PX = 28.0  # empty paper around the fitted rig
-FIT_PASSES = 4  # re-fit after placing labels, so labels and arrows stay on the page
 SIDEBAR_FRACTION = 0.24  # right-hand panel of a full drawing page
 SIDEBAR_MIN_PX, SIDEBAR_MAX_PX = 250.0, 330.0
 PAD = 10.0  # inner padding of panels
@@ -153,56 +151,12 @@ class Drawing:
             log.warning("the site picture could not be read; exported without it")
 
     # --- layout ----------------------------------------------------------------------------
-    def _core_bounds(self) -> QRectF:
-        """Scene rectangle of the rig's points as drawn and as solved (the site if there are none)."""
-        rect = self.scene.model_bounds(rig_first=True)
-        for x, y in self.result.points.values() if self.result.ok else ():
-            rect = rect.united(QRectF(x - 0.5, -y - 0.5, 1.0, 1.0))
-        if rect.isNull() or (rect.width() < 1e-9 and rect.height() < 1e-9):
-            rect = QRectF(-10, -10, 20, 20)
-        return rect
-
-    def _decorated_bounds(self, k: float) -> QRectF:
-        """Everything the overlay and the items draw at ``k`` px/m (labels, arrows, glyphs), without the site picture."""
-        from PySide6.QtWidgets import QGraphicsItem
-
-        rect = QRectF()
-        for item in self.scene.items():
-            if item is self.scene.background_item or not item.isVisible():
-                continue
-            if item.parentItem() is not None:
-                continue
-            from sketchpad.items import FeatureItem
-
-            if isinstance(item, FeatureItem):  # site features may span the whole river
-                continue
-            if item.flags() & QGraphicsItem.ItemIgnoresTransformations:  # point markers: sized in pixels
-                b, pos = item.boundingRect(), item.scenePos()
-                r = QRectF(pos.x() + b.x() / k, pos.y() + b.y() / k, b.width() / k, b.height() / k)
-            else:
-                r = item.sceneBoundingRect()
-            if not r.isNull():
-                rect = rect.united(r)
-        return rect
-
     def fit_into(self, width: float, height: float) -> Fit:
-        """Choose scale and source rect so the rig, its labels and arrows fill ``width`` x ``height`` px."""
-        width, height = max(width, 40.0), max(height, 40.0)
-        core = self._core_bounds()
-        want = core
-        k = 1.0
-        for _ in range(FIT_PASSES):
-            k = min((width - 2 * FIT_MARGIN_PX) / max(want.width(), 1e-6),
-                    (height - 2 * FIT_MARGIN_PX) / max(want.height(), 1e-6))
-            k = max(k, 1e-3)
-            self._place(k)
-            got = self._decorated_bounds(k).united(core)
-            if got.width() <= want.width() * 1.0001 and got.height() <= want.height() * 1.0001:
-                break
-            want = got
-        c = want.center()
-        w, h = width / k, height / k
-        self.fit = Fit(QRectF(c.x() - w / 2, c.y() - h / 2, w, h), k, (width, height))
+        """Choose scale and source rect so the rig (or the rig's print frame) fills ``width`` x ``height`` px."""
+        from sketchpad.pages.framing import fit_frame
+
+        self.skipped = 0
+        self.fit = fit_frame(self, width, height)
         return self.fit
 
     def _place(self, k: float) -> None:
@@ -253,6 +207,9 @@ class Drawing:
         self._paint_grid(painter, target, fit)
         painter.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing | QPainter.SmoothPixmapTransform)
         self.scene.render(painter, target, fit.source, Qt.IgnoreAspectRatio)
+        from sketchpad.pages.framing import paint_inset
+
+        paint_inset(painter, target, self)
         painter.restore()
 
     def grid_step_m(self, px_per_m: float) -> float:
