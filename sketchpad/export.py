@@ -73,11 +73,6 @@ FAIL_BACK = QColor(163, 29, 24)
 DANGER_TEXT = QColor("#9c1238")
 WARNING_TEXT = QColor("#8a4b00")
 
-#: kinds shown in the key, with the words beside each marker
-KEY_KINDS: tuple[tuple[str, str], ...] = (
-    ("anchor", "anchor"), ("load", "load"), ("haul", "haul team"), ("point", "free point"), ("person", "person"))
-
-
 class ExportError(Exception):
     """An export that cannot be written: unknown format, bad size, folder missing (message in words)."""
 
@@ -208,7 +203,9 @@ class Drawing:
         painter.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing | QPainter.SmoothPixmapTransform)
         self.scene.render(painter, target, fit.source, Qt.IgnoreAspectRatio)
         from sketchpad.pages.framing import paint_inset
+        from sketchpad.pages.greyscale import paint_drawing_rails
 
+        paint_drawing_rails(painter, target, self)
         paint_inset(painter, target, self)
         painter.restore()
 
@@ -363,50 +360,6 @@ def paint_ramp(painter: QPainter, rect: QRectF, grey: bool = False) -> float:
     return ramp.bottom() + 3 + fm.height() - rect.top()
 
 
-def paint_zone_key(painter: QPainter, left: QPointF) -> float:
-    """Swatches of the two danger-zone kinds; returns the height used."""
-    fm = QFontMetricsF(page_font(SMALL_PT))
-    x, y = left.x(), left.y()
-    painter.setFont(page_font(SMALL_PT))
-    for kind, name in (("bight", "inside of bight"), ("recoil", "recoil band")):
-        fill, hatch = theme.zone_brushes(kind)
-        box = QRectF(x, y + 1, 16, fm.height() - 2)
-        painter.setPen(theme.pixel_pen(theme.ZONE_COLOURS[kind], 1.0))
-        painter.setBrush(fill)
-        painter.drawRect(box)
-        painter.setBrush(hatch)
-        painter.drawRect(box)
-        painter.setPen(INK)
-        painter.drawText(QPointF(x + 20, y + fm.ascent()), name)
-        x += 20 + fm.horizontalAdvance(name) + 14
-    return fm.height() + 2
-
-
-def paint_point_key(painter: QPainter, rect: QRectF, kinds: Iterable[str]) -> float:
-    """Each point kind's marker (drawn by its canvas item class) with its name; returns the height used."""
-    from sketchpad.items import make_point_item
-
-    fm = QFontMetricsF(page_font(SMALL_PT))
-    painter.setFont(page_font(SMALL_PT))
-    x, y = rect.left(), rect.top()
-    row_h = 2 * max(theme.POINT_RADIUS_PX.values()) + 4
-    for kind, name in KEY_KINDS:
-        if kind not in kinds:
-            continue
-        w = 2 * theme.POINT_RADIUS_PX[kind] + 6 + fm.horizontalAdvance(name) + 14
-        if x + w > rect.right() and x > rect.left():
-            x, y = rect.left(), y + row_h
-        item = make_point_item(Point(id="key", kind=kind, x=0.0, y=0.0))
-        painter.save()
-        painter.translate(x + theme.POINT_RADIUS_PX[kind], y + row_h / 2)
-        item.paint_marker(painter)
-        painter.restore()
-        painter.setPen(INK)
-        painter.drawText(QPointF(x + 2 * theme.POINT_RADIUS_PX[kind] + 5, y + row_h / 2 + fm.ascent() / 2 - 1), name)
-        x += w
-    return y + row_h - rect.top()
-
-
 def rope_lines(rig: Rig) -> list[tuple[QColor, str]]:
     """(colour, "name: material") of every rope, in the order and colours the canvas uses."""
     from solver.materials import material_for
@@ -504,13 +457,12 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
     painter.setPen(theme.pixel_pen(RULE, 1.0))
     painter.drawLine(QPointF(x, y), QPointF(x + w, y))
     y += 6
-    kinds = {p.kind for p in rig.points}
-    y += paint_point_key(painter, QRectF(x, y, w, 0), kinds) + 4
+    from sketchpad.pages.symbol_key import paint_symbol_key
+
+    y += paint_symbol_key(painter, QRectF(x, y, w, 0)) + 4
     y += paint_rope_key(painter, QRectF(x, y, w, 0), rig) + 6
     if result.ok:
         y += paint_ramp(painter, QRectF(x, y, w, 0)) + 4
-        if drawing.zones:
-            y += paint_zone_key(painter, QPointF(x, y)) + 4
     # caution at the bottom; warnings fill what is left above it
     caution_h = wrap_text(painter, QRectF(x, 0, w, 0), caution, page_font(SMALL_PT, italic=True), draw=False)
     bottom = inner.bottom() - caution_h - 6
@@ -538,7 +490,9 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
 
 
 def paint_key_strip(painter: QPainter, rect: QRectF, drawing: Drawing) -> None:
-    """A one-row key under a drawing (reports): north arrow, scale bar, point kinds, rope-use ramp, zones."""
+    """The key under a drawing (reports): north arrow, scale bar, rope-use ramp, then every symbol in rows."""
+    from sketchpad.pages.symbol_key import paint_symbol_key
+
     rig = drawing.rig
     painter.save()
     s = theme.NORTH_ARROW_PX * 0.8
@@ -551,14 +505,23 @@ def paint_key_strip(painter: QPainter, rect: QRectF, drawing: Drawing) -> None:
         x += paint_scale_bar(painter, QPointF(x, y + fm.height() + 6), drawing.scale_bar_m(), drawing.fit.px_per_m,
                              rig.display.length) + 24
     ramp_w = 200.0
-    kinds = {p.kind for p in rig.points}
-    paint_point_key(painter, QRectF(x, y, rect.right() - x - ramp_w - 10, 0), kinds)
     if drawing.result.ok:
-        rx = rect.right() - ramp_w
-        h = paint_ramp(painter, QRectF(rx, y, ramp_w, 0))
-        if drawing.zones:
-            paint_zone_key(painter, QPointF(rx, y + h + 2))
+        paint_ramp(painter, QRectF(rect.right() - ramp_w, y, ramp_w, 0))
+    paint_symbol_key(painter, QRectF(rect.left(), y + s + fm.height() + 4, rect.width(), 0))
     painter.restore()
+
+
+def key_strip_height(width: float) -> float:
+    """Height :func:`paint_key_strip` takes in ``width`` px."""
+    from sketchpad.pages.symbol_key import symbol_key_height
+
+    image = QImage(8, 8, QImage.Format_ARGB32_Premultiplied)
+    painter = QPainter(image)
+    try:
+        return theme.NORTH_ARROW_PX * 0.8 + QFontMetricsF(page_font(TEXT_PT)).height() + 4 + \
+            symbol_key_height(painter, width)
+    finally:
+        painter.end()
 
 
 def paint_page(painter: QPainter, rect: QRectF, drawing: Drawing, title: str, subtitle: str) -> None:
@@ -762,6 +725,10 @@ def run_file_command(command: str, args, check_output, write, failed_note: str) 
 
 def render_cli(args) -> int:
     """``ropewright render RIG -o OUT.(png|svg|pdf) [--size WxH]``: exit 0 written, 2 bad input, 3 solve failed."""
+    if getattr(args, "schematic", False) or getattr(args, "greyscale", False):
+        from sketchpad.pages.output import render_pages_cli
+
+        return render_pages_cli(args)
     sized = getattr(args, "size", None)
     fmt_size: list = []
 

@@ -38,6 +38,7 @@ from sketchpad.export import (
     failure_sentence,
     page_font,
     page_size_for,
+    key_strip_height,
     paint_key_strip,
     pdf_writer,
     run_file_command,
@@ -55,9 +56,9 @@ log = logging.getLogger(__name__)
 MARGIN_IN = 0.6  # page margin, inches
 DPI = 96.0
 BODY_PT, SMALL_PT, TABLE_PT, HEAD_PT, TITLE_PT = 9.0, 7.5, 8.0, 11.0, 16.0
-#: (drawing height, plot height) tried in turn until the report fits on two pages
+#: (drawing height, plot height) tried in turn until the report fits on PAGES_WANTED pages
 LAYOUTS = ((400.0, 240.0), (360.0, 220.0), (320.0, 200.0), (280.0, 180.0))
-KEY_H_PX = 46.0
+PAGES_WANTED = 3  # the layouts shrink until the report fits on this many pages (if it can)
 PLOT_DPI = 200
 SWEEP_STEPS = 13
 SWEEP_FROM, SWEEP_TO = 0.25, 2.0  # haul force range as fractions of the drawn haul force
@@ -541,16 +542,18 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
     if rig.notes:
         flow.text("Notes: " + rig.notes, page_font(BODY_PT, italic=True), gap=6)
 
+    key_h = key_strip_height(flow.width) + 8
+
     def paint_drawing(p: QPainter, r: QRectF) -> None:
-        draw_r = QRectF(r.left(), r.top(), r.width(), r.height() - KEY_H_PX)
+        draw_r = QRectF(r.left(), r.top(), r.width(), r.height() - key_h)
         drawing.paint(p, draw_r)
         p.setPen(RULE)
         p.setBrush(Qt.NoBrush)
         p.drawRect(draw_r)
-        paint_key_strip(p, QRectF(r.left(), draw_r.bottom() + 6, r.width(), KEY_H_PX - 6), drawing)
+        paint_key_strip(p, QRectF(r.left(), draw_r.bottom() + 6, r.width(), key_h - 6), drawing)
 
-    drawing_h = min(sizes[0] + KEY_H_PX, max(flow.room() - 150, 260.0))
-    drawing.fit_into(flow.width, drawing_h - KEY_H_PX)  # before measuring: the fit decides skipped labels
+    drawing_h = min(sizes[0] + key_h, max(flow.room() - 150, 260.0 + key_h - 46))
+    drawing.fit_into(flow.width, drawing_h - key_h)  # before measuring: the fit decides skipped labels
     flow.block(drawing_h, paint_drawing)
     flow.y += 4
     if drawing.skipped and result.ok:
@@ -636,7 +639,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
         _compose(counter, rig, result, drawing, when, source, plot_for(sizes[1]), sizes)
         total = counter.finish()
-        if total <= 2:
+        if total <= PAGES_WANTED:
             break
 
     def footer(p: QPainter, n: int) -> None:

@@ -228,3 +228,19 @@ def zone_brushes(kind: str) -> tuple[QBrush, QBrush]:
     fill.setAlpha(ZONE_FILL_ALPHA)
     hatch.setAlpha(ZONE_HATCH_ALPHA)
     return QBrush(fill), QBrush(hatch, Qt.BDiagPattern if kind == "bight" else Qt.FDiagPattern)
+
+
+# --- printed pages (sketchpad.pages) -----------------------------------------------------------
+#: Rope-use classes as line patterns (so a black-and-white print keeps what the ramp colours say):
+#: (lowest utilization, words, rail pen style, rail width px). Class bounds are the ramp's stops.
+UTIL_CLASSES: tuple[tuple[float, str, Qt.PenStyle, float], ...] = (
+    (0.0, "under 50 %", Qt.NoPen, 0.0),
+    (0.5, "50–80 %", Qt.DotLine, 1.2),
+    (0.8, "80–100 %", Qt.DashLine, 1.4),
+    (1.0, "100 % or more", Qt.SolidLine, 2.2),
+)
+UTIL_RAIL = QColor("#1d1d1a")  # rails beside a loaded piece's band
+SCHEMATIC_GAP_PX = 13.0  # between side-by-side strands of one rope in the schematic
+SCHEMATIC_STRAND_PX = 2.2
+SCHEMATIC_T_TEXT = QColor("#1d1d1a")
+PRINT_FRAME_EDGE = QColor("#c23b22")  # the print frame drawn on the canvas (dashed)

@@ -68,6 +68,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("rig")
     p.add_argument("-o", "--output", required=True)
     p.add_argument("--size", default=None, help="WxH pixels for PNG (default 1600x1100)")
+    p.add_argument("--schematic", action="store_true",
+                   help="draw the schematic: strands side by side, pulleys as sheaves, tensions in units of the haul force")
+    p.add_argument("--greyscale", action="store_true", help="write in grey levels (every meaning kept by pattern)")
 
     p = sub.add_parser("report", epilog=HELP_EPILOG, formatter_class=_RAW, help="write a PDF report of the rig")
     p.add_argument("rig")

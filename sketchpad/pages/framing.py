@@ -71,7 +71,7 @@ def fit_frame(drawing, width: float, height: float):
 
     width, height = max(width, 40.0), max(height, 40.0)
     frame = rig_frame(drawing.rig, drawing.result)
-    room = min(LABEL_ROOM_PX, 0.2 * min(width, height))
+    room = min(LABEL_ROOM_PX, 0.12 * min(width, height))
     k = min((width - 2 * room) / max(frame.width(), 1e-6), (height - 2 * room) / max(frame.height(), 1e-6))
     k = max(k, 1e-3)
     drawing._place(k)
