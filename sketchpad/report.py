@@ -589,6 +589,9 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
                 flow.block(sizes[1], paint_plot)
                 flow.y += 2
             flow.text(caption, page_font(SMALL_PT, italic=True), MUTED)
+    from sketchpad.pages.sections import add_sections
+
+    add_sections(flow, rig, result)  # schematic, people and roles, rope lengths, gear list
     flow.heading("Assumptions")
     for line in assumption_lines(rig):
         flow.text("• " + line, page_font(SMALL_PT), indent=4, gap=2)
@@ -599,7 +602,7 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
 
 def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = None,
                  rig_dir: pathlib.Path | None = None, source: str | None = None,
-                 now: _dt.datetime | None = None) -> Report:
+                 now: _dt.datetime | None = None, greyscale: bool = False) -> Report:
     """Write the PDF report of ``rig`` (``result`` defaults to ``analyse(rig)``); ExportError in words on failure."""
     path = pathlib.Path(path)
     if path.suffix.lower() != ".pdf":
@@ -615,6 +618,10 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     when = (now or _dt.datetime.now()).strftime("%Y-%m-%d %H:%M")
     title = rig.title or "Untitled rig"
     writer = pdf_writer(path, page_size_for(rig), QPageLayout.Portrait, f"Ropewright report: {title}")
+    if greyscale:
+        from sketchpad.pages.greyscale import set_pdf_grey
+
+        set_pdf_grey(writer)
     page_w, page_h = writer.width(), writer.height()
     m = MARGIN_IN * DPI
     footer_h = 28.0
@@ -672,7 +679,7 @@ def report_cli(args) -> int:
             raise ExportError(f"a report is a PDF: end the file name '{pathlib.Path(args.output).name}' in .pdf")
 
     def write(rig, result, rig_dir) -> None:
-        write_report(rig, args.output, result, rig_dir, source=args.rig)
+        write_report(rig, args.output, result, rig_dir, source=args.rig, greyscale=getattr(args, "greyscale", False))
 
     return run_file_command("report", args, check_output, write, "but the rig did not solve")
 

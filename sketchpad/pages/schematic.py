@@ -22,9 +22,9 @@ from sketchpad import theme
 from solver.model import Rig
 from solver.result import Result
 
-MARGIN_PX = 36.0
-LABEL_PT = 7.0
-T_STEPS = (0.5, 0.36, 0.64, 0.24, 0.76, 0.15, 0.85)
+MARGIN_PX = 28.0
+LABEL_PT = 6.5
+T_STEPS = (0.5, 0.36, 0.64, 0.24, 0.76, 0.15, 0.85, 0.3, 0.7)
 
 
 @dataclass
