@@ -90,7 +90,7 @@ def paint_force_symbol(painter: QPainter, centre: QPointF) -> None:
     from sketchpad.items import ForceItem
 
     item = ForceItem(0, Force(at="key", magnitude_N=1.0, direction_deg=0.0))
-    item._text = ""
+    item._text = "F"  # an empty label would write an empty text path into a PDF
     painter.save()
     painter.translate(centre.x() - GLYPH_W / 2 + 1, centre.y())
     painter.scale(0.5, 0.5)
