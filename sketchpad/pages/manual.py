@@ -91,38 +91,31 @@ def chapters_of(rigs: Sequence[tuple[Rig, str | None, pathlib.Path | None]]) -> 
 
 
 def _measure(writer, content: QRectF, chapter: Chapter, when: str) -> None:
-    """Pick the chapter's layout as the report does and count its pages."""
+    """Pick the chapter's layout as the report does, count its pages, and draw its plot once at that size.
+
+    Counting needs only the plot's height, so each layout tried is measured with a stand-in image
+    and the sweep plot is rendered (matplotlib, the slow part) for the chosen layout alone."""
+    from PySide6.QtGui import QImage
+
     from sketchpad.export import Drawing
-    from sketchpad.report import LAYOUTS, PAGES_WANTED, Flow, _compose
+    from sketchpad.report import LAYOUTS, PAGES_WANTED, Flow, _compose, haul_sweep, plot_caption, plot_image
 
     chapter.drawing = Drawing(chapter.rig, chapter.result, chapter.rig_dir)
-    sweep = None
+    table, drawn, words = haul_sweep(chapter.rig) if chapter.result.ok else (None, 0.0, "")
+    stand_in = None
+    if chapter.result.ok:
+        stand_in = (None, words) if table is None else (QImage(1, 1, QImage.Format_RGB32),
+                                                         plot_caption(chapter.rig, table, drawn, words))
     for sizes in LAYOUTS:
-        if sweep is None:
-            sweep = _sweep_for(chapter)
-        plot = _plot_from(chapter, sweep, content.width(), sizes[1])
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
-        _compose(counter, chapter.rig, chapter.result, chapter.drawing, when, chapter.source, plot, sizes)
-        chapter.pages, chapter.sizes, chapter.plot = counter.finish(), sizes, plot
+        _compose(counter, chapter.rig, chapter.result, chapter.drawing, when, chapter.source, stand_in, sizes)
+        chapter.pages, chapter.sizes = counter.finish(), sizes
         if chapter.pages <= PAGES_WANTED:
             break
-
-
-def _sweep_for(chapter: Chapter):
-    from sketchpad.report import haul_sweep
-
-    return haul_sweep(chapter.rig) if chapter.result.ok else (None, 0.0, "")
-
-
-def _plot_from(chapter: Chapter, sweep, width: float, h: float):
-    from sketchpad.report import plot_caption, plot_image
-
-    if not chapter.result.ok:
-        return None
-    table, drawn, words = sweep
-    if table is None:
-        return None, words
-    return plot_image(chapter.rig, table, drawn, words, width * 0.92, h), plot_caption(chapter.rig, table, drawn, words)
+    chapter.plot = stand_in
+    if stand_in is not None and table is not None:
+        chapter.plot = (plot_image(chapter.rig, table, drawn, words, content.width() * 0.92, chapter.sizes[1]),
+                        stand_in[1])
 
 
 def contents_per_page(content: QRectF) -> int:
