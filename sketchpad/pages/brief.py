@@ -229,8 +229,8 @@ def paint_brief(painter: QPainter, page: QRectF, rig: Rig, result: Result, rig_d
     right.lines(worst_lines(rig, result))
     right.heading("What to watch")
     right.lines(watch_lines(rig, result))
-    right.heading("Cautions")
-    right.lines([(SHORT_CAUTION, True), (LIMITS_CAUTION, False),
+    left.heading("Cautions")
+    left.lines([(SHORT_CAUTION, True), (LIMITS_CAUTION, False),
                  ("Never stand in a marked danger zone or in line with a loaded rope, redirect or anchor.", True)])
     paint_sign_off(painter, QRectF(x, bottom + 6, w, SIGN_OFF_H))
     painter.setFont(page_font(SMALL_PT))
