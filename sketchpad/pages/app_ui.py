@@ -230,9 +230,17 @@ class DockTabs:
         live.panel.tabs.addTab(self.lengths, "Rope lengths")
         live.panel.tabs.addTab(self.gear, "Gear")
         live.scheduler.result_ready.connect(self._result)
+        self._shown: tuple | None = None
         window.document.changed.connect(self._edited)  # a carried length or tail needs no new solve
 
     def _edited(self, *_args) -> None:
+        doc = self.window.document
+        if doc.previewing:
+            return  # a drag frame: the settled result fills the tabs
+        rig = doc.rig
+        if self._shown is not None and self._shown[0] is rig.ropes and self._shown[1] is rig.settings:
+            return  # neither the ropes nor the tails changed
+        self._shown = (rig.ropes, rig.settings)
         s = self.window.live.scheduler
         result = s.result if s.result is not None and s.result.ok else None
         self.show(self.window.document.rig, result)
