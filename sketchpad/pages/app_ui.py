@@ -14,9 +14,10 @@ from dataclasses import replace
 
 from PySide6.QtCore import QRectF, Qt
 from PySide6.QtGui import QAction, QPainter, QStandardItem, QStandardItemModel
-from PySide6.QtWidgets import QComboBox, QGraphicsRectItem, QTableView, QWidget
+from PySide6.QtWidgets import QComboBox, QGraphicsItem, QTableView, QWidget
 
 from sketchpad import theme
+from sketchpad.drag_layer import Versioned
 from solver.model import PERSON_ROLES, Rig
 from solver.result import Result
 
@@ -101,27 +102,44 @@ def _chained(first, then):
 
 
 # --- the print frame ------------------------------------------------------------------------------
-class PrintFrameItem(QGraphicsRectItem):
-    """The print frame on the canvas: a dashed rectangle (scene metres), hidden when the rig has none."""
+class PrintFrameItem(Versioned, QGraphicsItem):
+    """The print frame on the canvas: a dashed rectangle (scene metres), hidden when the rig has none.
+
+    Versioned (sketchpad.drag_layer): every change is counted, so drag frames keep their still layer."""
 
     def __init__(self) -> None:
         super().__init__()
-        self.setPen(theme.cosmetic_pen(theme.PRINT_FRAME_EDGE, 1.6, Qt.DashLine))
-        self.setBrush(Qt.NoBrush)
+        self._rect = QRectF()
+        self._pen = theme.cosmetic_pen(theme.PRINT_FRAME_EDGE, 1.6, Qt.DashLine)
         self.setZValue(theme.Z_OVERLAY - 0.5)
         self.setAcceptedMouseButtons(Qt.NoButton)
         self.setVisible(False)
+
+    def rect(self) -> QRectF:
+        return QRectF(self._rect)
+
+    def boundingRect(self) -> QRectF:  # noqa: N802 - Qt name
+        return self._rect.adjusted(-0.05, -0.05, 0.05, 0.05) if not self._rect.isNull() else QRectF()
+
+    def paint(self, painter, option, widget=None) -> None:
+        painter.setPen(self._pen)
+        painter.setBrush(Qt.NoBrush)
+        painter.drawRect(self._rect)
 
     def show_rig(self, rig: Rig) -> None:
         from sketchpad.pages.framing import site_rect_of_frame
 
         if rig.print_frame is None:
-            self.setVisible(False)
+            if self.isVisible():
+                self.setVisible(False)
             return
         r = site_rect_of_frame(rig.print_frame)
-        if r != self.rect():
-            self.setRect(r)
-        self.setVisible(True)
+        if r != self._rect:
+            self.prepareGeometryChange()
+            self._rect = r
+            self.update()
+        if not self.isVisible():
+            self.setVisible(True)
 
 
 class PrintFrameActions:
