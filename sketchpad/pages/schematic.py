@@ -217,9 +217,11 @@ def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | 
         if how == "capture":
             painter.drawEllipse(centre + QPointF(0, -radius - 3), 3.0, 3.0)
         layout.sheaves.append((centre, radius))
+    _paint_rings_and_edges(painter, rig, px)
     structural = [p for p in rig.points if p.is_structural]
     for p in structural:
         paint_point_symbol(painter, px[p.id], p.kind)
+    force_boxes = _paint_forces(painter, rig, px)
     # hauled ends: an arrow showing the pull
     for ri, r in enumerate(rig.ropes):
         if r.is_hauled and len(r.path) >= 2 and r.path[-1].at in px and r.path[-2].at in px:
@@ -247,6 +249,10 @@ def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | 
     for centre, radius in layout.sheaves:
         ob = QPainterPath()
         ob.addEllipse(centre, radius + 1, radius + 1)
+        obstacles.append(ob)
+    for box in force_boxes:
+        ob = QPainterPath()
+        ob.addRect(box)
         obstacles.append(ob)
     # point names first (most important), beside their marker, avoiding strands' labels placed later
     painter.setFont(name_font)
@@ -310,6 +316,57 @@ def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | 
 
     layout.ma_nominal = nominal_ma(rig)
     return layout
+
+
+def _paint_rings_and_edges(painter: QPainter, rig: Rig, px: dict[str, QPointF]) -> None:
+    """A ring round each sliding pass and a wedge under each edge pass, in the rope's colour."""
+    for ri, r in enumerate(rig.ropes):
+        colour = theme.rope_colour(ri)
+        for ps in r.path[1:-1]:
+            if ps.at not in px:
+                continue
+            c = px[ps.at]
+            if ps.how == "sliding":
+                painter.setPen(theme.pixel_pen(colour, 1.8))
+                painter.setBrush(Qt.NoBrush)
+                painter.drawEllipse(c, theme.RING_RADIUS_PX + 2, theme.RING_RADIUS_PX + 2)
+            elif ps.how == "edge":
+                painter.setPen(theme.pixel_pen(theme.POINT_OUTLINE, 1.0))
+                painter.setBrush(theme.EDGE_FILL)
+                h = theme.EDGE_SIZE_PX * 0.8
+                painter.drawPolygon(QPolygonF([c, c + QPointF(-h * 0.45, h), c + QPointF(h * 0.45, h)]))
+
+
+def _paint_forces(painter: QPainter, rig: Rig, px: dict[str, QPointF]) -> list[QRectF]:
+    """Each drawn force as the plan's arrow with its size; returns the boxes they take (label obstacles)."""
+    from sketchpad.export import page_font
+    from solver.units import format_force
+
+    boxes = []
+    font = page_font(LABEL_PT)
+    fm = QFontMetricsF(font)
+    for f in rig.forces:
+        if f.at not in px or f.magnitude_N <= 0:
+            continue
+        a = math.radians(f.direction_deg)
+        u = QPointF(math.cos(a), -math.sin(a))
+        start = px[f.at] + u * 8
+        tip = start + u * theme.FORCE_LENGTH_PX
+        painter.setPen(theme.pixel_pen(theme.FORCE_COLOUR, theme.FORCE_WIDTH_PX))
+        painter.drawLine(start, tip - u * theme.FORCE_HEAD_PX * 0.8)
+        side = QPointF(-u.y(), u.x()) * (theme.FORCE_HEAD_PX * 0.45)
+        painter.setPen(Qt.NoPen)
+        painter.setBrush(theme.FORCE_COLOUR)
+        painter.drawPolygon(QPolygonF([tip, tip - u * theme.FORCE_HEAD_PX + side, tip - u * theme.FORCE_HEAD_PX - side]))
+        text = format_force(f.magnitude_N, rig.display.force) + (f" {f.label}" if f.label else "")
+        box = QRectF(tip.x() + (4 if u.x() >= 0 else -fm.horizontalAdvance(text) - 4), tip.y() - fm.height() / 2,
+                     fm.horizontalAdvance(text), fm.height())
+        painter.setFont(font)
+        painter.setPen(theme.FORCE_COLOUR)
+        painter.drawText(box, int(Qt.AlignLeft | Qt.AlignVCenter), text)
+        line = QRectF(start, tip).normalized().adjusted(-4, -4, 4, 4)
+        boxes += [box, line]
+    return boxes
 
 
 def caption(rig: Rig, result: Result | None) -> str:

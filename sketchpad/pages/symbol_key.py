@@ -92,7 +92,9 @@ def paint_force_symbol(painter: QPainter, centre: QPointF) -> None:
     item = ForceItem(0, Force(at="key", magnitude_N=1.0, direction_deg=0.0))
     item._text = "F"  # an empty label would write an empty text path into a PDF
     painter.save()
-    painter.translate(centre.x() - GLYPH_W / 2 + 1, centre.y())
+    left = centre.x() - GLYPH_W / 2 + 1
+    painter.setClipRect(QRectF(left - 1, centre.y() - ROW_H / 2, theme.FORCE_LENGTH_PX * 0.5 + 2, ROW_H))  # arrow only
+    painter.translate(left, centre.y())
     painter.scale(0.5, 0.5)
     item.paint(painter, None)
     painter.restore()
