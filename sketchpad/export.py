@@ -44,7 +44,7 @@ from PySide6.QtGui import (
 
 from sketchpad import theme
 from sketchpad.glyphs import paint_north_arrow
-from solver.model import Point, Rig
+from solver.model import Rig
 from solver.result import Result
 
 log = logging.getLogger(__name__)
@@ -548,8 +548,9 @@ def _titles(rig: Rig, source: str | None, now: _dt.datetime | None) -> tuple[str
     return title, sub
 
 
-def render_png(drawing: Drawing, path: pathlib.Path, size: tuple[int, int], title: str, subtitle: str) -> None:
-    """``size`` pixels; wider than 1200 px the layout is drawn at a device pixel ratio above 1."""
+def write_png(path: pathlib.Path, size: tuple[int, int], paint, grey: bool = False) -> None:
+    """``paint(painter, rect)`` into a PNG of ``size`` pixels (wider than 1200 px at a device pixel ratio above 1),
+    8-bit grey when ``grey``."""
     w, h = size
     dpr = max(1.0, w / LOGICAL_WIDTH_PX)
     image = QImage(w, h, QImage.Format_ARGB32_Premultiplied)
@@ -559,16 +560,18 @@ def render_png(drawing: Drawing, path: pathlib.Path, size: tuple[int, int], titl
     image.setDevicePixelRatio(dpr)
     painter = QPainter(image)
     try:
-        paint_page(painter, QRectF(0, 0, w / dpr, h / dpr), drawing, title, subtitle)
+        paint(painter, QRectF(0, 0, w / dpr, h / dpr))
     finally:
         painter.end()
     image.setDevicePixelRatio(1.0)
+    if grey:
+        image = image.convertToFormat(QImage.Format_Grayscale8)
     if not image.save(str(path), "PNG"):
         raise ExportError(f"could not write the picture to {path}")
 
 
-def render_svg(drawing: Drawing, path: pathlib.Path, size: tuple[int, int], title: str, subtitle: str) -> None:
-    """An SVG of ``size`` pixels at 96 dpi (QSvgGenerator)."""
+def write_svg(path: pathlib.Path, size: tuple[int, int], paint, title: str, description: str = "") -> None:
+    """``paint(painter, rect)`` into an SVG of ``size`` pixels at 96 dpi (QSvgGenerator)."""
     from PySide6.QtSvg import QSvgGenerator
 
     w, h = size
@@ -579,14 +582,24 @@ def render_svg(drawing: Drawing, path: pathlib.Path, size: tuple[int, int], titl
     gen.setSize(QSize(w, h))
     gen.setViewBox(QRectF(0, 0, lw, lh))
     gen.setTitle(title)
-    gen.setDescription(subtitle)
+    gen.setDescription(description)
     painter = QPainter()
     if not painter.begin(gen):
         raise ExportError(f"could not write the drawing to {path}")
     try:
-        paint_page(painter, QRectF(0, 0, lw, lh), drawing, title, subtitle)
+        paint(painter, QRectF(0, 0, lw, lh))
     finally:
         painter.end()
+
+
+def render_png(drawing: Drawing, path: pathlib.Path, size: tuple[int, int], title: str, subtitle: str) -> None:
+    """The drawing page as a PNG of ``size`` pixels."""
+    write_png(path, size, lambda p, r: paint_page(p, r, drawing, title, subtitle))
+
+
+def render_svg(drawing: Drawing, path: pathlib.Path, size: tuple[int, int], title: str, subtitle: str) -> None:
+    """The drawing page as an SVG of ``size`` pixels at 96 dpi."""
+    write_svg(path, size, lambda p, r: paint_page(p, r, drawing, title, subtitle), title, subtitle)
 
 
 def pdf_writer(path: pathlib.Path, page: QPageSize, orientation, title: str):
@@ -601,18 +614,36 @@ def pdf_writer(path: pathlib.Path, page: QPageSize, orientation, title: str):
     return writer
 
 
-def render_pdf(drawing: Drawing, path: pathlib.Path, title: str, subtitle: str) -> None:
-    """One landscape page (A4, or Letter for imperial rigs), zero margins."""
-    writer = pdf_writer(path, page_size_for(drawing.rig), QPageLayout.Landscape, title)
+def portrait_writer(path: pathlib.Path, rig: Rig, title: str, grey: bool = False):
+    """A portrait page writer (A4, or Letter for imperial rigs), writing grey levels when ``grey``."""
+    writer = pdf_writer(path, page_size_for(rig), QPageLayout.Portrait, title)
+    if grey:
+        from sketchpad.pages.greyscale import set_pdf_grey
+
+        set_pdf_grey(writer)
+    return writer
+
+
+def write_landscape_pdf(path: pathlib.Path, rig: Rig, paint, title: str, grey: bool = False) -> None:
+    """``paint(painter, rect)`` on one landscape page (A4, or Letter for imperial rigs) inside a printer margin."""
+    writer = pdf_writer(path, page_size_for(rig), QPageLayout.Landscape, title)
+    if grey:
+        from sketchpad.pages.greyscale import set_pdf_grey
+
+        set_pdf_grey(writer)
     painter = QPainter()
     if not painter.begin(writer):
         raise ExportError(f"could not write the PDF to {path}")
     try:
         margin = 0.3 * SCREEN_DPI  # printers cannot print to the very edge
-        r = QRectF(0, 0, writer.width(), writer.height()).adjusted(margin, margin, -margin, -margin)
-        paint_page(painter, r, drawing, title, subtitle)
+        paint(painter, QRectF(0, 0, writer.width(), writer.height()).adjusted(margin, margin, -margin, -margin))
     finally:
         painter.end()
+
+
+def render_pdf(drawing: Drawing, path: pathlib.Path, title: str, subtitle: str) -> None:
+    """One landscape page (A4, or Letter for imperial rigs), zero margins."""
+    write_landscape_pdf(path, drawing.rig, lambda p, r: paint_page(p, r, drawing, title, subtitle), title)
 
 
 def format_of(path: pathlib.Path | str) -> str:
@@ -838,16 +869,21 @@ class ExportActions:
             self._say(f"Drawing saved to {path} without forces: {failure_sentence(doc.rig, drawing.result)}")
         return path
 
+    def pdf_path(self, path, title: str, suffix: str, filters: str = REPORT_FILTER) -> pathlib.Path | None:
+        """``path``, or the one the user picks (None if cancelled), ending in .pdf."""
+        path = path or self.ask_path(self.window, title, self._start(suffix), filters)
+        if not path:
+            return None
+        path = pathlib.Path(path)
+        return path if path.suffix.lower() == ".pdf" else path.with_name(path.name + ".pdf")
+
     def export_report(self, path: pathlib.Path | str | None = None) -> pathlib.Path | None:
         """Ask where (unless given) and write the PDF report; None if cancelled or failed."""
         from sketchpad.report import write_report
 
-        path = path or self.ask_path(self.window, "Export report", self._start("-report.pdf"), REPORT_FILTER)
-        if not path:
+        path = self.pdf_path(path, "Export report", "-report.pdf")
+        if path is None:
             return None
-        path = pathlib.Path(path)
-        if path.suffix.lower() != ".pdf":
-            path = path.with_name(path.name + ".pdf")
         doc = self.window.document
         try:
             report = write_report(doc.rig, path, rig_dir=self._rig_dir(),

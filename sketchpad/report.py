@@ -29,7 +29,7 @@ from dataclasses import dataclass, field
 from typing import Callable
 
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QColor, QFont, QFontMetricsF, QImage, QPageLayout, QPainter
+from PySide6.QtGui import QColor, QFont, QFontMetricsF, QImage, QPainter
 
 from sketchpad.export import (
     Drawing,
@@ -37,10 +37,9 @@ from sketchpad.export import (
     ensure_app,
     failure_sentence,
     page_font,
-    page_size_for,
     key_strip_height,
     paint_key_strip,
-    pdf_writer,
+    portrait_writer,
     run_file_command,
     units_line,
 )
@@ -600,6 +599,12 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
         flow.text(para, page_font(BODY_PT, bold=True), gap=4)
 
 
+def page_frame(writer) -> tuple[float, float, QRectF]:
+    """(margin, footer height, content rect) of a report page, logical px."""
+    m, footer_h = MARGIN_IN * DPI, 28.0
+    return m, footer_h, QRectF(m, m, writer.width() - 2 * m, writer.height() - 2 * m - footer_h)
+
+
 def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = None,
                  rig_dir: pathlib.Path | None = None, source: str | None = None,
                  now: _dt.datetime | None = None, greyscale: bool = False) -> Report:
@@ -617,15 +622,9 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     drawing = Drawing(rig, result, rig_dir)
     when = (now or _dt.datetime.now()).strftime("%Y-%m-%d %H:%M")
     title = rig.title or "Untitled rig"
-    writer = pdf_writer(path, page_size_for(rig), QPageLayout.Portrait, f"Ropewright report: {title}")
-    if greyscale:
-        from sketchpad.pages.greyscale import set_pdf_grey
-
-        set_pdf_grey(writer)
+    writer = portrait_writer(path, rig, f"Ropewright report: {title}", greyscale)
     page_w, page_h = writer.width(), writer.height()
-    m = MARGIN_IN * DPI
-    footer_h = 28.0
-    content = QRectF(m, m, page_w - 2 * m, page_h - 2 * m - footer_h)
+    m, footer_h, content = page_frame(writer)
     sweep_data = haul_sweep(rig) if result.ok else (None, 0.0, "")
     plots: dict[float, tuple[QImage | None, str]] = {}
 

@@ -27,8 +27,6 @@ class PageFields:
     """Adds the role (people), the carried length (ropes) and the tail length (rig settings) to the panel."""
 
     def __init__(self, panel) -> None:
-        from sketchpad.fields import QuantityField
-
         self.panel = panel
         pp, rp, gp = panel.point_page, panel.rope_page, panel.rig_page
         self.role = QComboBox()
@@ -142,6 +140,14 @@ class PrintFrameItem(Versioned, QGraphicsItem):
             self.setVisible(True)
 
 
+def menu_action(window, text: str, tip: str, slot) -> QAction:
+    """A QAction of ``window`` with a status tip, calling ``slot()`` when triggered."""
+    action = QAction(text, window)
+    action.setStatusTip(tip)
+    action.triggered.connect(lambda _c=False: slot())
+    return action
+
+
 class PrintFrameActions:
     """View ▸ Print frame: set it to what the view shows, or clear it (both undoable)."""
 
@@ -150,12 +156,10 @@ class PrintFrameActions:
         self.item = PrintFrameItem()
         window.canvas.addItem(self.item)
         menu = window.menu_view.addMenu("&Print frame")
-        self.action_set = QAction("&Set to this view", window)
-        self.action_set.setStatusTip("Print and export exactly what the view shows now")
-        self.action_set.triggered.connect(lambda _c=False: self.set_to_view())
-        self.action_clear = QAction("&Clear (frame the rig)", window)
-        self.action_clear.setStatusTip("Print and export the rig with a margin, as when no frame is set")
-        self.action_clear.triggered.connect(lambda _c=False: self.clear())
+        self.action_set = menu_action(window, "&Set to this view", "Print and export exactly what the view shows now",
+                                      self.set_to_view)
+        self.action_clear = menu_action(window, "&Clear (frame the rig)",
+                                        "Print and export the rig with a margin, as when no frame is set", self.clear)
         menu.addAction(self.action_set)
         menu.addAction(self.action_clear)
         window.document.changed.connect(self._changed)
@@ -301,28 +305,25 @@ class BookActions:
         self.ask_rigs = ask_rigs or _ask_open_paths
         self.last_manual = None
         self.progress_seen: list[tuple[int, int]] = []
-        self.action_brief = QAction("Export &briefing sheet…", window)
-        self.action_brief.setStatusTip("Save the one-page briefing: rig, commands, roles, worst loads, sign-off")
-        self.action_brief.triggered.connect(lambda _c=False: self.export_brief())
-        self.action_manual = QAction("Export &manual…", window)
-        self.action_manual.setStatusTip("Save many rigs in one PDF with a title page, contents and page numbers")
-        self.action_manual.triggered.connect(lambda _c=False: self.export_manual())
+        self.action_brief = menu_action(window, "Export &briefing sheet…",
+                                        "Save the one-page briefing: rig, commands, roles, worst loads, sign-off",
+                                        self.export_brief)
+        self.action_manual = menu_action(window, "Export &manual…",
+                                         "Save many rigs in one PDF with a title page, contents and page numbers",
+                                         self.export_manual)
         menu, before = window.menu_file, getattr(window, "action_quit", None)
         menu.insertAction(before, self.action_brief)
         menu.insertAction(before, self.action_manual)
         menu.insertSeparator(before)
 
     def export_brief(self, path=None):
-        from sketchpad.export import REPORT_FILTER, ExportError
+        from sketchpad.export import ExportError
         from sketchpad.pages.brief import write_brief
 
         ex = self.exports
-        path = path or ex.ask_path(self.window, "Export briefing sheet", ex._start("-brief.pdf"), REPORT_FILTER)
-        if not path:
+        path = ex.pdf_path(path, "Export briefing sheet", "-brief.pdf")
+        if path is None:
             return None
-        path = pathlib.Path(path)
-        if path.suffix.lower() != ".pdf":
-            path = path.with_name(path.name + ".pdf")
         doc = self.window.document
         try:
             write_brief(doc.rig, path, rig_dir=ex._rig_dir(), source=str(doc.path) if getattr(doc, "path", None) else None)
@@ -345,12 +346,9 @@ class BookActions:
         others = rig_paths if rig_paths is not None else self.ask_rigs(self.window, "Rigs for the manual", start)
         if doc.path is not None:
             others = [p for p in others if pathlib.Path(p).resolve() != pathlib.Path(doc.path).resolve()]
-        path = path or ex.ask_path(self.window, "Export manual", ex._start("-manual.pdf"), MANUAL_FILTER)
-        if not path:
+        path = ex.pdf_path(path, "Export manual", "-manual.pdf", MANUAL_FILTER)
+        if path is None:
             return None
-        path = pathlib.Path(path)
-        if path.suffix.lower() != ".pdf":
-            path = path.with_name(path.name + ".pdf")
         steps = 2 * (1 + len(others))
         dialog = QProgressDialog("Making the manual…", "Cancel", 0, steps, self.window)
         dialog.setWindowTitle("Export manual")

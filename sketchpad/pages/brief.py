@@ -15,7 +15,7 @@ import pathlib
 from dataclasses import dataclass, field
 
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QFontMetricsF, QPageLayout, QPainter
+from PySide6.QtGui import QFontMetricsF, QPainter
 
 from sketchpad import theme
 from solver.model import Rig
@@ -246,8 +246,7 @@ def paint_brief(painter: QPainter, page: QRectF, rig: Rig, result: Result, rig_d
 def write_brief(rig: Rig, path: pathlib.Path | str, result: Result | None = None, rig_dir: pathlib.Path | None = None,
                 source: str | None = None, now: _dt.datetime | None = None, greyscale: bool = False) -> BriefLayout:
     """Write the one-page briefing sheet PDF; ExportError in words when it cannot be written."""
-    from sketchpad.export import ExportError, ensure_app, page_size_for, pdf_writer
-    from sketchpad.pages.greyscale import set_pdf_grey
+    from sketchpad.export import ExportError, ensure_app, portrait_writer
 
     path = pathlib.Path(path)
     if path.suffix.lower() != ".pdf":
@@ -259,9 +258,7 @@ def write_brief(rig: Rig, path: pathlib.Path | str, result: Result | None = None
         from solver.analysis import analyse
 
         result = analyse(rig)
-    writer = pdf_writer(path, page_size_for(rig), QPageLayout.Portrait, f"Ropewright briefing: {rig.title or 'rig'}")
-    if greyscale:
-        set_pdf_grey(writer)
+    writer = portrait_writer(path, rig, f"Ropewright briefing: {rig.title or 'rig'}", greyscale)
     painter = QPainter()
     if not painter.begin(writer):
         raise ExportError(f"could not write the briefing sheet to {path}")

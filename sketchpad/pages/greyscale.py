@@ -18,7 +18,7 @@ import math
 import re
 
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QColor, QImage, QPainter
+from PySide6.QtGui import QColor, QPainter
 
 from sketchpad import theme
 
@@ -102,11 +102,6 @@ def paint_drawing_rails(painter: QPainter, target: QRectF, drawing) -> int:
 
 
 # --- greyscale output ------------------------------------------------------------------------
-def grey_image(image: QImage) -> QImage:
-    """``image`` as 8-bit grey (luminance)."""
-    return image.convertToFormat(QImage.Format_Grayscale8)
-
-
 def set_pdf_grey(writer) -> None:
     """Write a QPdfWriter's colours as grey levels."""
     from PySide6.QtGui import QPdfWriter
@@ -128,5 +123,5 @@ def grey_svg_text(text: str) -> str:
     return _HEX.sub(grey, text)
 
 
-__all__ = ["util_class", "class_entries", "paint_rails", "paint_class_swatch", "paint_drawing_rails", "grey_image",
+__all__ = ["util_class", "class_entries", "paint_rails", "paint_class_swatch", "paint_drawing_rails",
            "set_pdf_grey", "grey_svg_text"]

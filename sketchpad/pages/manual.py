@@ -17,7 +17,7 @@ from dataclasses import dataclass, field
 from typing import Callable, Sequence
 
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QPageLayout, QPainter
+from PySide6.QtGui import QPainter
 
 from solver.model import Rig
 from solver.result import Result
@@ -167,8 +167,8 @@ def _paint_contents(painter: QPainter, content: QRectF, rows: list[tuple[str, in
 def write_manual(chapters: list[Chapter], path: pathlib.Path | str, title: str = "Rigging manual",
                  now: _dt.datetime | None = None, greyscale: bool = False, progress: Progress | None = None) -> Manual:
     """Write the manual of ``chapters`` to ``path`` (a PDF); ExportError or ManualError in words on failure."""
-    from sketchpad.export import MUTED, ExportError, ensure_app, page_font, page_size_for, pdf_writer
-    from sketchpad.report import DPI, MARGIN_IN, SMALL_PT, Flow, _compose
+    from sketchpad.export import MUTED, ExportError, ensure_app, page_font, portrait_writer
+    from sketchpad.report import SMALL_PT, Flow, _compose, page_frame
     from solver.cautions import SHORT_CAUTION
 
     path = pathlib.Path(path)
@@ -180,15 +180,9 @@ def write_manual(chapters: list[Chapter], path: pathlib.Path | str, title: str =
         raise ManualError("a manual needs at least one rig")
     ensure_app()
     when = (now or _dt.datetime.now()).strftime("%Y-%m-%d %H:%M")
-    writer = pdf_writer(path, page_size_for(chapters[0].rig), QPageLayout.Portrait, title)
-    if greyscale:
-        from sketchpad.pages.greyscale import set_pdf_grey
-
-        set_pdf_grey(writer)
+    writer = portrait_writer(path, chapters[0].rig, title, greyscale)
     page_w, page_h = writer.width(), writer.height()
-    m = MARGIN_IN * DPI
-    footer_h = 28.0
-    content = QRectF(m, m, page_w - 2 * m, page_h - 2 * m - footer_h)
+    m, footer_h, content = page_frame(writer)
     # pass 1: count pages
     per_page = contents_per_page(content)
     contents_pages = -(-len(chapters) // per_page)

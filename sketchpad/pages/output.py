@@ -11,8 +11,8 @@ from __future__ import annotations
 import pathlib
 from typing import Callable
 
-from PySide6.QtCore import QPointF, QRectF, QSize
-from PySide6.QtGui import QImage, QPageLayout, QPainter
+from PySide6.QtCore import QPointF, QRectF
+from PySide6.QtGui import QPainter
 
 from sketchpad import theme
 from solver.model import Rig
@@ -24,61 +24,18 @@ Paint = Callable[[QPainter, QRectF], None]
 def write_page(path: pathlib.Path, paint: Paint, size: tuple[int, int], rig: Rig, title: str,
                greyscale: bool = False) -> None:
     """Paint one page into ``path`` (.png, .svg or .pdf by its suffix)."""
-    from sketchpad.export import (LOGICAL_WIDTH_PX, SCREEN_DPI, DPM_96, ExportError, format_of, page_size_for,
-                                  pdf_writer)
-    from sketchpad.pages.greyscale import grey_image, grey_svg_text, set_pdf_grey
+    from sketchpad.export import format_of, write_landscape_pdf, write_png, write_svg
+    from sketchpad.pages.greyscale import grey_svg_text
 
     fmt = format_of(path)
-    w, h = size
     if fmt == "png":
-        dpr = max(1.0, w / LOGICAL_WIDTH_PX)
-        image = QImage(w, h, QImage.Format_ARGB32_Premultiplied)
-        image.setDotsPerMeterX(DPM_96)
-        image.setDotsPerMeterY(DPM_96)
-        image.fill(theme.PAPER)
-        image.setDevicePixelRatio(dpr)
-        painter = QPainter(image)
-        try:
-            paint(painter, QRectF(0, 0, w / dpr, h / dpr))
-        finally:
-            painter.end()
-        image.setDevicePixelRatio(1.0)
-        if greyscale:
-            image = grey_image(image)
-        if not image.save(str(path), "PNG"):
-            raise ExportError(f"could not write the picture to {path}")
+        write_png(path, size, paint, grey=greyscale)
     elif fmt == "svg":
-        from PySide6.QtSvg import QSvgGenerator
-
-        scale = max(1.0, w / LOGICAL_WIDTH_PX)
-        lw, lh = w / scale, h / scale
-        gen = QSvgGenerator()
-        gen.setFileName(str(path))
-        gen.setResolution(int(SCREEN_DPI))
-        gen.setSize(QSize(w, h))
-        gen.setViewBox(QRectF(0, 0, lw, lh))
-        gen.setTitle(title)
-        painter = QPainter()
-        if not painter.begin(gen):
-            raise ExportError(f"could not write the drawing to {path}")
-        try:
-            paint(painter, QRectF(0, 0, lw, lh))
-        finally:
-            painter.end()
+        write_svg(path, size, paint, title)
         if greyscale:
             path.write_text(grey_svg_text(path.read_text(encoding="utf-8")), encoding="utf-8")
     else:
-        writer = pdf_writer(path, page_size_for(rig), QPageLayout.Landscape, title)
-        if greyscale:
-            set_pdf_grey(writer)
-        painter = QPainter()
-        if not painter.begin(writer):
-            raise ExportError(f"could not write the PDF to {path}")
-        try:
-            margin = 0.3 * SCREEN_DPI
-            paint(painter, QRectF(0, 0, writer.width(), writer.height()).adjusted(margin, margin, -margin, -margin))
-        finally:
-            painter.end()
+        write_landscape_pdf(path, rig, paint, title, grey=greyscale)
 
 
 def paint_schematic_page(painter: QPainter, rect: QRectF, rig: Rig, result: Result, title: str, subtitle: str):
