@@ -1,0 +1,86 @@
+"""``ropewright failures RIG [--json] [--units si|imperial]``: what happens if each component lets go.
+
+A row per component (anchor, pass, rope piece, sling leg): whether the rest holds or runs
+free, the worst new load and where, how far things move, the shock estimate; then what
+each failure does in words, the people standing in a failure's path, and the cautions.
+``--json`` prints ``{"failures": [...]}`` (rig-format.md).  Exit codes as ``solve``:
+0 scanned, 2 bad file, 3 the intact rig does not solve (no scan; the message says why).
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from dataclasses import replace
+from typing import TextIO
+
+from solver import units
+from solver.cautions import SHORT_CAUTION
+from solver.cli_solve import EXIT_OK, EXIT_SOLVE_FAILED, _finite, _table, _units_for
+from solver.failure_shock import SHOCK_CAUTION
+from solver.failure_zones import FLIGHT_MARGIN_M
+from solver.failures import Failure, Scan, scan, scan_json
+
+def zone_assumption(length_unit: str) -> str:
+    """Where the zone numbers come from, and which constant is the project's own choice."""
+    return (f"Danger areas are computed: what each failure sweeps (rope pieces, swings, hardware flight), "
+            f"with a margin of {units.format_length(FLIGHT_MARGIN_M, length_unit)} around it — that margin is "
+            f"Ropewright's own choice, not a published value.")
+
+
+def failure_row(f: Failure, force_unit: str, length_unit: str) -> list[str]:
+    """One table row: component, kind, outcome, worst new load (where, use), farthest move, shock estimate."""
+    fmt = lambda n: units.format_force(n, force_unit)  # noqa: E731
+    worst = f.worst()
+    worst_text = "—" if worst is None else (
+        f"{fmt(worst[0])} at {worst[1]}" + (f" ({100 * worst[2]:.0f}%)" if worst[2] is not None else ""))
+    far = max(f.moved, key=lambda m: m.distance_m, default=None)
+    moved = "—" if far is None else f"{far.point} {units.format_length(far.distance_m, length_unit)}"
+    shock = "—" if f.peak is None else f"{fmt(f.peak.force_N)} at {f.peak.at} ({f.peak.how})"
+    return [f.component.id, f.component.kind, f.status, worst_text, moved, shock]
+
+
+HEADERS = ["component", "kind", "then", "worst new load (use)", "moves most", "shock estimate"]
+
+
+def format_scan(s: Scan, length_unit: str, force_unit: str) -> str:
+    """The scan as a table and a list of what each failure does, with the cautions."""
+    from solver.failure_warnings import people_at_risk
+
+    rig = s.rig
+    parts = [f"{rig.title or 'Untitled rig'}  —  if something lets go (motion: {rig.settings.motion})"]
+    if not s.ok:
+        parts.append(f"NO SCAN: {s.reason}")
+    else:
+        parts.append(_table(HEADERS, [failure_row(f, force_unit, length_unit) for f in s.failures]))
+        parts.append("\nWhat happens")
+        parts += [f"  {f.component.id}: {f.message}." for f in s.failures]
+        people = people_at_risk(s)
+        if people:
+            parts.append("\nPeople in a failure's path")
+            parts += [f"  [{w.code}] {w.message}" for w in people]
+        parts.append("\n" + SHOCK_CAUTION)
+        parts.append(zone_assumption(length_unit))
+    parts.append("\n" + SHORT_CAUTION)
+    return "\n".join(parts)
+
+
+def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
+    """Load a rig, scan every failure and print it; returns the exit code."""
+    from solver.rigfile import load_rig
+
+    out = out or sys.stdout
+    rig = load_rig(args.rig)  # RigFileError -> exit 2 via solver.cli.main
+    length_unit, force_unit = _units_for(rig, args.units)
+    rig = replace(rig, display=replace(rig.display, length=length_unit, force=force_unit))
+    result = scan(rig)
+    if args.json:
+        json.dump(_finite(scan_json(result)), out, indent=2, allow_nan=False)
+        out.write("\n")
+    else:
+        out.write(format_scan(result, length_unit, force_unit) + "\n")
+    if not result.ok:
+        print(f"ropewright: {args.rig}: {result.reason}", file=sys.stderr)
+        return EXIT_SOLVE_FAILED
+    return EXIT_OK

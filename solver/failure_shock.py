@@ -1,0 +1,157 @@
+"""Shock when something lets go: peak forces from energy balances, estimates without damping.
+
+Two yardsticks, both undamped (no energy lost in knots, rope hysteresis or air), so they
+over-estimate a real arrest and say nothing about how the load is hurt:
+
+* **Drop or extension** (a load falls onto slack, a master point runs out a sling): the
+  remaining rig is released at rest from where it was held and moves straight toward its
+  new equilibrium.  With no damping it overshoots until the potential is back at its
+  starting value, Pi(x*) = Pi(x0), Pi = sum of the runs' strain energies (each rope's own
+  stretch curve, :meth:`solver.stretch.StretchCurve.energy`) - applied forces and weights . x
+  (the frictionless potential of the solver notes).  A haul team is taken to hold its rope
+  where it was during the shock (it neither feeds nor takes rope: the hauled run is a tied
+  run stretched to the haul force at the start), so the energy comes from weights, applied
+  forces and the stretch stored in the ropes -- not from people running back with the rope.  The forces at x*
+  are the peak.  For one mass on one linear rope this is the undamped-spring energy balance
+  F = mg + sqrt((mg)^2 + 2 mg h k) (check-values.md, "When something lets go"); h = 0 gives 2 mg.
+* **Swing** (a point held sideways now hangs from one rope): it swings on a circle about
+  where that rope is held; at the bottom of the swing a rigid rope carries
+  T = T_eq (3 - 2 cos theta0), T_eq the hanging tension and theta0 the angle it swings
+  through (pendulum: energy m g r (1 - cos theta0) = m v^2 / 2, T = m g + m v^2 / r; any
+  mechanics text).  In plan view the constant resultant pull plays the part of gravity.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.optimize import brentq, minimize_scalar
+
+from solver.failure_rig import Strand
+from solver.materials import material_for
+from solver.model import STANDARD_GRAVITY, Rig
+from solver.stretch import StretchCurve
+
+#: The caution every shock number carries.
+SHOCK_CAUTION = ("Shock forces are estimates without damping (no energy lost in knots, rope or anchors): "
+                 "a real arrest differs; treat them as a yardstick, not a rating.")
+
+
+def pendulum_peak_factor(theta0_deg: float) -> float:
+    """Peak rope tension at the bottom of a swing over the hanging tension: 3 - 2 cos(theta0), rigid rope."""
+    return 3.0 - 2.0 * math.cos(math.radians(theta0_deg))
+
+
+@dataclass(frozen=True)
+class Peak:
+    """The highest force a remaining piece or anchor sees on the way (N), where, and how it came."""
+
+    force_N: float
+    at: str  # "ROPE#INDEX" for a piece, the point id for an anchor
+    how: str  # "drop" or "swing"
+    overshoot_m: float = 0.0  # how far past the new equilibrium the fastest point runs, m
+    positions: dict | None = None  # point positions at the peak (drop only), m
+
+
+class Potential:
+    """The frictionless potential of a remaining rig (J) and its forces, on its free points' positions.
+
+    ``strands`` are the runs the remaining rig's ropes were built from, in the same order: their
+    unstretched lengths, and the original (rope id, piece index) that names each piece.  With
+    ``held_at`` (free-point positions, m) every hauled run is held there: a tied run whose
+    unstretched length gives the haul force at those positions.
+    """
+
+    def __init__(self, rig: Rig, strands: list[Strand], held_at: np.ndarray | None = None) -> None:
+        self.free = [p.id for p in rig.points if p.is_structural and not p.is_fixed]
+        self.index = {pid: i for i, pid in enumerate(self.free)}
+        self.fixed = {p.id: np.array([p.x, p.y], float) for p in rig.points if p.is_structural and p.is_fixed}
+        self.F = np.zeros((len(self.free), 2))
+        for f in rig.forces:
+            if f.at in self.index:
+                th = math.radians(f.direction_deg)
+                self.F[self.index[f.at]] += f.magnitude_N * np.array([math.cos(th), math.sin(th)])
+        if rig.view == "elevation":
+            for p in rig.points:
+                if p.id in self.index and p.mass_kg:
+                    self.F[self.index[p.id], 1] -= float(p.mass_kg) * STANDARD_GRAVITY
+        self.runs = []  # (ids, L0 or None, haul P, curve, names)
+        for rope, strand in zip(rig.ropes, strands):
+            ids = [ps.at for ps in rope.path]
+            curve = StretchCurve(material_for(rig, rope.material).stretch)
+            P = (rig.point(ids[-1]).haul_force or 0.0) if strand.hauled else 0.0
+            names = [(strand.rope.id, i) for i, _ in strand.passes[:-1]]
+            self.runs.append((ids, strand.L0, P, curve, names))
+        if held_at is not None:
+            for k, (ids, L0, P, curve, names) in enumerate(self.runs):
+                if L0 is None:
+                    ends = [self._xy(held_at, pid) for pid in ids]
+                    L = float(sum(np.hypot(*(b - a)) for a, b in zip(ends, ends[1:])))
+                    self.runs[k] = (ids, L / (1.0 + float(curve.strain(P))), 0.0, curve, names)
+
+    def _xy(self, x: np.ndarray, pid: str) -> np.ndarray:
+        i = self.index.get(pid)
+        return self.fixed[pid] if i is None else x[i]
+
+    def _run(self, x: np.ndarray, run) -> tuple[float, float, list[tuple[str, np.ndarray, np.ndarray]]]:
+        """(stored energy J, tension N, pieces (from id, from xy, to xy)) of one run at ``x``."""
+        ids, L0, P, curve, _ = run
+        ends = [self._xy(x, pid) for pid in ids]
+        L = float(sum(np.hypot(*(b - a)) for a, b in zip(ends, ends[1:])))
+        if L0 is None:
+            return P * L, P, list(zip(ids, ends, ends[1:]))
+        eps = L / L0 - 1.0
+        return float(L0 * curve.energy(eps)), float(curve.tension(eps)), list(zip(ids, ends, ends[1:]))
+
+    def energy(self, x: np.ndarray) -> float:
+        """Total potential (J) at free-point positions ``x`` (n_free, 2)."""
+        return sum(self._run(x, r)[0] for r in self.runs) - float((self.F * x).sum())
+
+    def forces(self, x: np.ndarray) -> list[tuple[float, str]]:
+        """Every piece's tension and every fixed point's resultant at ``x``: (force N, name)."""
+        out: list[tuple[float, str]] = []
+        at_fixed: dict[str, np.ndarray] = {}
+        for r in self.runs:
+            _, T, pcs = self._run(x, r)
+            names = r[4]
+            for n, (pid_a, a, b) in enumerate(pcs):
+                out.append((T, f"{names[n][0]}#{names[n][1]}" if n < len(names) else ""))
+                d = b - a
+                norm = float(np.hypot(*d))
+                if norm == 0.0:
+                    continue
+                u = d / norm
+                pid_b = r[0][n + 1]
+                if pid_a in self.fixed:
+                    at_fixed[pid_a] = at_fixed.get(pid_a, np.zeros(2)) + T * u
+                if pid_b in self.fixed:
+                    at_fixed[pid_b] = at_fixed.get(pid_b, np.zeros(2)) - T * u
+        out += [(float(np.hypot(*v)), pid) for pid, v in at_fixed.items()]
+        return out
+
+
+def drop_peak(pot: Potential, x0: np.ndarray, x1: np.ndarray) -> Peak | None:
+    """Peak force when the rig is released at rest at ``x0`` and runs straight toward ``x1`` (undamped).
+
+    None when nothing moves or nothing is gained on the way (x0 is already the lowest energy).
+    """
+    d = x1 - x0
+    if not np.any(d):
+        return None
+    e = lambda s: pot.energy(x0 + s * d)  # noqa: E731
+    e0 = e(0.0)
+    hi = 2.0
+    while e(hi) <= e0 and hi < 1e4:
+        hi *= 2.0
+    low = minimize_scalar(e, bounds=(0.0, hi), method="bounded", options={"xatol": 1e-10})
+    s_min = float(low.x)
+    scale = max(abs(e0), 1.0)
+    if e0 - float(low.fun) <= 1e-9 * scale or e(hi) <= e0:
+        return None
+    s_star = brentq(lambda s: e(s) - e0, s_min, hi, xtol=1e-12, rtol=1e-12)
+    x_star = x0 + s_star * d
+    force, at = max(pot.forces(x_star), key=lambda t: t[0])
+    over = float(np.max(np.hypot(*((s_star - 1.0) * d).T))) if len(d) else 0.0
+    return Peak(force, at, "drop", max(over, 0.0), {pid: tuple(x_star[i]) for i, pid in enumerate(pot.free)})
