@@ -50,7 +50,7 @@ class Peak:
 
     force_N: float
     at: str  # "ROPE#INDEX" for a piece, the point id for an anchor
-    how: str  # "drop" or "swing"
+    how: str  # "drop", "swing", or "jam" (runs into the next pass on its rope first: the impact is not rated)
     overshoot_m: float = 0.0  # how far past the new equilibrium the fastest point runs, m
     positions: dict | None = None  # point positions at the peak (drop only), m
 
@@ -105,6 +105,14 @@ class Potential:
         eps = L / L0 - 1.0
         return float(L0 * curve.energy(eps)), float(curve.tension(eps)), list(zip(ids, ends, ends[1:]))
 
+    def piece_lengths(self, x: np.ndarray) -> np.ndarray:
+        """Length (m) of every piece of every run at ``x``, in run order."""
+        out = []
+        for ids, *_ in self.runs:
+            ends = [self._xy(x, pid) for pid in ids]
+            out += [float(np.hypot(*(b - a))) for a, b in zip(ends, ends[1:])]
+        return np.array(out)
+
     def energy(self, x: np.ndarray) -> float:
         """Total potential (J) at free-point positions ``x`` (n_free, 2)."""
         return sum(self._run(x, r)[0] for r in self.runs) - float((self.F * x).sum())
@@ -151,7 +159,30 @@ def drop_peak(pot: Potential, x0: np.ndarray, x1: np.ndarray) -> Peak | None:
     if e0 - float(low.fun) <= 1e-9 * scale or e(hi) <= e0:
         return None
     s_star = brentq(lambda s: e(s) - e0, s_min, hi, xtol=1e-12, rtol=1e-12)
+    s_jam = _runs_into(pot, x0, d, s_star)
+    how = "jam" if s_jam < s_star else "drop"
+    s_star = min(s_star, s_jam)
     x_star = x0 + s_star * d
     force, at = max(pot.forces(x_star), key=lambda t: t[0])
     over = float(np.max(np.hypot(*((s_star - 1.0) * d).T))) if len(d) else 0.0
-    return Peak(force, at, "drop", max(over, 0.0), {pid: tuple(x_star[i]) for i, pid in enumerate(pot.free)})
+    return Peak(force, at, how, max(over, 0.0), {pid: tuple(x_star[i]) for i, pid in enumerate(pot.free)})
+
+
+#: Closest two passes of a rope come on the way (m): the hardware's size; a point running into the
+#: next pass on its rope stops there (the rest of its energy goes into the impact, which this model does not rate).
+JAM_GAP_M = 0.1
+
+
+def _runs_into(pot: Potential, x0: np.ndarray, d: np.ndarray, s_end: float) -> float:
+    """The first step s in (0, s_end] at which a piece that was longer than JAM_GAP_M shortens to it (else s_end)."""
+    steps = np.linspace(0.0, s_end, 401)
+    lengths = np.array([pot.piece_lengths(x0 + s * d) for s in steps])
+    if lengths.size == 0:
+        return s_end
+    watch = lengths[0] > JAM_GAP_M
+    short = (lengths[:, watch] <= JAM_GAP_M).any(axis=1)
+    if not short.any():
+        return s_end
+    k = int(np.argmax(short))
+    f = lambda s: float(np.min(pot.piece_lengths(x0 + s * d)[watch])) - JAM_GAP_M  # noqa: E731
+    return brentq(f, steps[k - 1], steps[k], xtol=1e-9) if f(steps[k - 1]) > 0 else float(steps[k])

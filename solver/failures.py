@@ -130,17 +130,18 @@ def _name(rig: Rig, pid: str) -> str:
         return pid
 
 
-def _master_points(rig: Rig) -> set[str]:
-    """Free points joined by rope pieces straight to two or more anchors: the master points of multi-point anchors."""
+def _anchor_legs(rig: Rig) -> set[tuple[str, int]]:
+    """(rope, piece) of every leg of a multi-point anchor: a piece tied at an anchor and running to a free
+    master point that two or more anchors' legs reach."""
     anchors = {p.id for p in rig.points if p.kind == "anchor" and p.is_fixed}
     free = {p.id for p in rig.points if p.is_structural and not p.is_fixed}
-    legs: dict[str, set[str]] = {}
+    legs: dict[str, list[tuple[str, str, int]]] = {}
     for rope in rig.ropes:
-        for a, b in zip(rope.path, rope.path[1:]):
-            for x, y in ((a.at, b.at), (b.at, a.at)):
-                if x in free and y in anchors:
-                    legs.setdefault(x, set()).add(y)
-    return {pid for pid, ids in legs.items() if len(ids) >= 2}
+        for j, (a, b) in enumerate(zip(rope.path, rope.path[1:])):
+            for anchor_pass, other in ((a, b), (b, a)):
+                if anchor_pass.at in anchors and anchor_pass.how == "tied" and other.at in free:
+                    legs.setdefault(other.at, []).append((anchor_pass.at, rope.id, j))
+    return {(rid, j) for found in legs.values() if len({a for a, _, _ in found}) >= 2 for _, rid, j in found}
 
 
 def components(rig: Rig) -> list[Component]:
@@ -154,8 +155,7 @@ def components(rig: Rig) -> list[Component]:
             what = "redirect" if ps.how != "tied" else "rope grab"
             out.append(Component(pass_key(rope, j), kind, f'the {what} of {rope.name} at "{_name(rig, ps.at)}"',
                                  rope.id, j))
-    masters = _master_points(rig)
-    anchors = {p.id for p in rig.points if p.kind == "anchor" and p.is_fixed}
+    legs = _anchor_legs(rig)
     for rope in rig.ropes:
         try:
             sling = material_for(rig, rope.material).kind == "sling"
@@ -163,8 +163,7 @@ def components(rig: Rig) -> list[Component]:
             sling = False
         for j in range(len(rope.path) - 1):
             a, b = _name(rig, rope.path[j].at), _name(rig, rope.path[j + 1].at)
-            ends = {rope.path[j].at, rope.path[j + 1].at}
-            kind = "sling leg" if sling or (ends & masters and ends & anchors) else "rope piece"
+            kind = "sling leg" if sling or (rope.id, j) in legs else "rope piece"
             out.append(Component(f"{rope.id}#{j}", kind, f'the {kind} of {rope.name} from "{a}" to "{b}"',
                                  rope.id, j))
     return out
@@ -296,6 +295,11 @@ class _Scanner:
                 x1 = np.array([after.points[pid] for pid in pot.free], float).reshape(-1, 2)
                 peak = drop_peak(Potential(rem.rig, rem.strands, held_at=x0), x0, x1)
                 peak_pts = peak.positions if peak is not None else None
+                if peak is not None and peak.how == "jam":  # at least what it comes to rest with
+                    rest = max([(a.force_N, pid) for pid, a in named.anchors.items()]
+                               + [(sg.tension_N, f"{sg.rope}#{sg.index}") for sg in named.segments])
+                    if rest[0] > peak.force_N:
+                        peak = replace(peak, force_N=rest[0], at=rest[1])
         pivots = {m.point: (s.to_point if s.from_point == m.point else s.from_point) for m in moved
                   for s in [next((x[4] for x in swings if x[0] == m.point), None)] if s is not None}
         return self._finish(c, rem, named, unheld, moved, peak,
@@ -351,6 +355,8 @@ class _Scanner:
             parts.append(f'{effect}; "{_name(self.rig, far.point)}" moves {self._len(far.distance_m)} and the rest holds')
         else:
             parts.append(f"{effect}; the rest holds where it is" if effect else "the rest holds where it is")
+        if peak is not None and peak.how == "jam":
+            parts.append("it runs into the next pulley or knot on its rope (two-blocked): the impact is not estimated")
         parts += self._load_changes(after)
         if c.kind == "sling leg":
             parts.append(self._anchor_system(c, status, moved, peak))
