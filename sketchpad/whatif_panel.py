@@ -268,6 +268,8 @@ class WhatIf(QObject):
         result, rig = sched.result, sched.rig
         if result is None or rig is None or not sched.settled or result.revision != self.window.document.revision:
             return None
+        if sched.pending:  # a newer solve is on its way: scan that one
+            return None
         try:
             self.scan = scan(rig, result)
         except Exception:  # noqa: BLE001 - a scan bug must not take the drawing down
