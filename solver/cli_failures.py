@@ -10,14 +10,12 @@ each failure does in words, the people standing in a failure's path, and the cau
 from __future__ import annotations
 
 import argparse
-import json
 import sys
-from dataclasses import replace
 from typing import TextIO
 
 from solver import units
 from solver.cautions import SHORT_CAUTION
-from solver.cli_solve import EXIT_OK, EXIT_SOLVE_FAILED, _finite, _table, _units_for
+from solver.cli_solve import EXIT_OK, EXIT_SOLVE_FAILED, _table, load_in_units, write_json
 from solver.failure_shock import SHOCK_CAUTION
 from solver.failure_zones import FLIGHT_MARGIN_M
 from solver.failures import Failure, Scan, scan, scan_json
@@ -68,16 +66,11 @@ def format_scan(s: Scan, length_unit: str, force_unit: str) -> str:
 
 def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
     """Load a rig, scan every failure and print it; returns the exit code."""
-    from solver.rigfile import load_rig
-
     out = out or sys.stdout
-    rig = load_rig(args.rig)  # RigFileError -> exit 2 via solver.cli.main
-    length_unit, force_unit = _units_for(rig, args.units)
-    rig = replace(rig, display=replace(rig.display, length=length_unit, force=force_unit))
+    rig, length_unit, force_unit = load_in_units(args)
     result = scan(rig)
     if args.json:
-        json.dump(_finite(scan_json(result)), out, indent=2, allow_nan=False)
-        out.write("\n")
+        write_json(scan_json(result), out)
     else:
         out.write(format_scan(result, length_unit, force_unit) + "\n")
     if not result.ok:

@@ -131,6 +131,10 @@ class Breaker:
         self.points = dict(points)
         self.strands = strands_of(rig)
 
+    def nothing(self) -> Remaining:
+        """The rig rebuilt from its strands with nothing let go: it solves to the intact state (checks the rebuild)."""
+        return self._finish(self._copy())
+
     # --- the failures ---------------------------------------------------------------------------------
     def anchor(self, point_id: str) -> Remaining:
         """The anchor ``point_id`` lets go: its point is free, rated for nothing."""

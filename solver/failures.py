@@ -29,8 +29,8 @@ from solver.failure_rig import Breaker, Loose, Remaining, pass_key
 from solver.failure_shock import SHOCK_CAUTION, Peak, Potential, drop_peak, pendulum_peak_factor
 from solver.failure_zones import ZonePart, failure_zone
 from solver.materials import material_for
-from solver.model import Rig
-from solver.result import AnchorResult, Result, SegmentResult
+from solver.model import STANDARD_GRAVITY, Rig
+from solver.result import Result, SegmentResult
 
 #: A point moving less than this (m) has not moved.
 MOVED_MIN_M = 0.01
@@ -337,7 +337,7 @@ class _Scanner:
         fx = sum(f.magnitude_N * math.cos(math.radians(f.direction_deg)) for f in forces)
         fy = sum(f.magnitude_N * math.sin(math.radians(f.direction_deg)) for f in forces)
         if self.elevation and p.mass_kg:
-            fy -= p.mass_kg * 9.80665
+            fy -= p.mass_kg * STANDARD_GRAVITY
         d = math.degrees(math.atan2(fy, fx)) if (fx or fy) else None
         toward = f" and goes {_heading(d, self.elevation)}" if d is not None else ""
         return Unheld(lo.subject, d, f"{p.name} is no longer held by any rope{toward}")
@@ -465,9 +465,3 @@ def scan_json(s: Scan) -> dict:
 
     return {"failures": [failure_json(f) for f in s.failures], "reason": s.reason or None,
             "shock_caution": SHOCK_CAUTION, "cautions": SHORT_CAUTION}
-
-
-def anchor_margin(a: AnchorResult) -> str:
-    """An anchor's use of its strength as a percentage, "unrated" when it has no capacity."""
-    return "unrated" if a.utilization is None else f"{100 * a.utilization:.0f}%"
-

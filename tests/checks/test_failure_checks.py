@@ -17,7 +17,7 @@ from scipy.optimize import brentq
 from solver.failures import scan
 from solver.materials import LIBRARY_MATERIALS
 from solver.model import STANDARD_GRAVITY
-from tests.rigs import STIFF_EA, anchor, free, haul, linear_material, load, make_rig, ps, rope
+from tests.rigs import STIFF_EA, anchor, free, haul, linear_material, load, make_rig, rope
 
 
 def _by_id(s, component: str):

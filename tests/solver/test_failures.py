@@ -191,3 +191,21 @@ def test_swing_sector_reaches_the_mirror_position():
     assert sector.contains(ShPoint(-4.0, -4.5)) and not sector.contains(ShPoint(-5.5, -4.0))
     assert sector.area == pytest.approx(0.5 * 50.0 * math.pi / 2, rel=1e-2)  # a quarter circle of r^2 = 50
 
+
+
+@pytest.mark.parametrize("path", SAMPLE_FILES, ids=lambda p: p.name)
+def test_the_rebuilt_rig_with_nothing_let_go_solves_to_the_intact_state(path):
+    # ropes split at their tied passes with each run's length kept are the same ropes: same tensions
+    from solver.equilibrium import solve
+
+    rig = load_rig(path)
+    intact = solve(rig)
+    rem = Breaker(rig, intact.points).nothing()
+    again = solve(rem.rig, start=rem.start)
+    assert again.ok, again.message
+    by_id = dict(zip(rem.strand_ids, rem.strands))
+    got = {(by_id[s.rope].rope.id, by_id[s.rope].passes[s.index][0]): s.tension_N for s in again.segments}
+    want = {(s.rope, s.index): s.tension_N for s in intact.segments}
+    assert got.keys() == want.keys()
+    for k, t in want.items():
+        assert got[k] == pytest.approx(t, rel=1e-6, abs=1e-6), k
