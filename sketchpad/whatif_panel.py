@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import logging
 import math
+import time
 
 from PySide6.QtCore import QObject, QPointF, QRectF, Qt, QTimer, Signal
 from PySide6.QtGui import QPainterPath
@@ -32,7 +33,7 @@ from PySide6.QtWidgets import (
 
 from sketchpad import theme
 from sketchpad.geometry import to_scene
-from solver.failures import Failure, Scan
+from solver.failures import Failure, Scan, components
 from solver.model import Rig
 from solver.result import Result
 from solver.units import format_force, format_length
@@ -41,6 +42,8 @@ log = logging.getLogger(__name__)
 
 #: Wait this long (ms) after a settled result before scanning, so a quick run of edits scans once.
 SCAN_DELAY_MS = 150
+#: A long scan runs in slices of about this long (ms), the window's events handled in between.
+SLICE_MS = 40.0
 HEADERS = ["component", "then", "worst new load", "shock (estimate)"]
 
 
@@ -239,7 +242,12 @@ class WhatIf(QObject):
         self.timer = QTimer(self)
         self.timer.setSingleShot(True)
         self.timer.setInterval(SCAN_DELAY_MS)
-        self.timer.timeout.connect(self.run_scan)
+        self.timer.timeout.connect(lambda: self.run_scan(SLICE_MS))
+        self.ticks = QTimer(self)  # the next slice of a long scan, after the window's pending events
+        self.ticks.setSingleShot(True)
+        self.ticks.setInterval(0)
+        self.ticks.timeout.connect(lambda: self._continue(SLICE_MS))
+        self._steps = None
         self.scan: Scan | None = None
         self.scans = 0
         self.panel.failure_selected.connect(self._ghost)
@@ -249,6 +257,8 @@ class WhatIf(QObject):
         sched = self.live.scheduler
         self.ghost.show_failure(None, None, None)
         self._legend(theme.DRAWN_ZONE_NAMES)  # the overlay drew this result's fixed shapes
+        self._steps = None  # a new result: any scan under way was for an older rig
+        self.ticks.stop()
         if not sched.settled:
             self.timer.stop()  # a drag: never scan now
             self.panel.show_waiting("Dragging: the scan runs when the rig is still.")
@@ -259,31 +269,60 @@ class WhatIf(QObject):
             return
         self.timer.start()
 
-    def run_scan(self) -> Scan | None:
-        """Scan the scheduler's settled result if it is still the document's current one."""
-        from solver.failure_warnings import plan_zones
-        from solver.failures import scan
+    def run_scan(self, budget_ms: float | None = None) -> Scan | None:
+        """Scan the scheduler's settled result if it is still the document's current one.
 
+        With ``budget_ms`` the scan goes in slices of about that long between the window's events (a large
+        rig takes a while; any change cancels it); without, it runs to the end at once. Returns the scan
+        once finished, else None.
+        """
         sched = self.live.scheduler
         result, rig = sched.result, sched.rig
         if result is None or rig is None or not sched.settled or result.revision != self.window.document.revision:
             return None
         if sched.pending:  # a newer solve is on its way: scan that one
             return None
+        from solver.failures import scan_steps
+
+        self._steps = (rig, result, scan_steps(rig, result), [], len(components(rig)))
+        return self._continue(budget_ms)
+
+    def _continue(self, budget_ms: float | None = None) -> Scan | None:
+        """Scan on for about ``budget_ms`` (None: to the end); finish, or come back on the next tick."""
+        if self._steps is None:
+            return None
+        rig, result, steps, done, total = self._steps
+        if result.revision != self.window.document.revision or not self.live.scheduler.settled:
+            self._steps = None  # the rig changed under the scan: the next settled result starts again
+            return None
+        t0 = time.perf_counter()
         try:
-            self.scan = scan(rig, result)
+            for f in steps:
+                done.append(f)
+                if budget_ms is not None and (time.perf_counter() - t0) * 1e3 > budget_ms:
+                    self.panel.show_waiting(f"Letting each component go: {len(done)} of {total} …")
+                    self.ticks.start()
+                    return None
         except Exception:  # noqa: BLE001 - a scan bug must not take the drawing down
             log.exception("failure scan failed")
+            self._steps = None
             self.panel.show_waiting("The failure scan could not run: treat every failure as unchecked.")
             return None
+        self._steps = None
+        return self._show(Scan(rig, result, tuple(done)))
+
+    def _show(self, s: Scan) -> Scan:
+        from solver.failure_warnings import plan_zones
+
+        self.scan = s
         self.scans += 1
-        self.panel.show_scan(self.scan)
+        self.panel.show_scan(s)
         overlay = self.live.overlay
-        if self.scan.ok and overlay.layers.get("zones", True):
-            overlay.zones = plan_zones(self.scan)
+        if s.ok and overlay.layers.get("zones", True):
+            overlay.zones = plan_zones(s)
             overlay.zones_item.set_zones(overlay.zones)
             self._legend(theme.COMPUTED_ZONE_NAMES)
-        return self.scan
+        return s
 
     def _legend(self, names) -> None:
         legend = self.live.overlay.legend

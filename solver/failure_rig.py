@@ -46,6 +46,7 @@ class Strand:
     rope: Rope
     passes: list[tuple[int, Pass]]
     L0: float | None
+    origin: frozenset[int] = frozenset()  # the intact rig's strands (by number) it was made from
 
     @property
     def hauled(self) -> bool:
@@ -81,6 +82,7 @@ class Remaining:
     removed_passes: list[tuple[str, str, str, str]] = field(default_factory=list)  # (rope, prev, at, next)
     start: dict[str, tuple[float, float]] = field(default_factory=dict)
     freed: set[str] = field(default_factory=set)  # anchors that let go
+    affected: frozenset[int] = frozenset()  # the intact strands (by number) in the parts the failure reaches
 
 
 def run_lengths(rig: Rig) -> dict[tuple[str, int], float | None]:
@@ -112,8 +114,30 @@ def run_lengths(rig: Rig) -> dict[tuple[str, int], float | None]:
 def strands_of(rig: Rig) -> list[Strand]:
     """The rig's ropes as strands, one per run, with the runs' unstretched lengths."""
     lengths = run_lengths(rig)
-    return [Strand(rope, [(i, rope.path[i]) for i in range(run.first, run.last + 1)], lengths[(rope.id, run.index)])
-            for rope in rig.ropes for run in rope.runs()]
+    runs = [(rope, run) for rope in rig.ropes for run in rope.runs()]
+    return [Strand(rope, [(i, rope.path[i]) for i in range(run.first, run.last + 1)], lengths[(rope.id, run.index)],
+                   frozenset({k})) for k, (rope, run) in enumerate(runs)]
+
+
+def parts_of(rig: Rig, strands: list[Strand]) -> list[int]:
+    """The part (a number) of each strand: strands meeting at a free point move together; fixed points
+    separate parts, so a failure in one part leaves the others exactly as they were."""
+    free = {p.id for p in rig.points if p.is_structural and not p.is_fixed}
+    parent = list(range(len(strands)))
+
+    def root(i: int) -> int:
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    first_at: dict[str, int] = {}
+    for k, s in enumerate(strands):
+        for pid in s.ids():
+            if pid in free:
+                j = first_at.setdefault(pid, k)
+                parent[root(k)] = root(j)
+    return [root(k) for k in range(len(strands))]
 
 
 def pass_key(rope: Rope, index: int) -> str:
@@ -126,10 +150,12 @@ def pass_key(rope: Rope, index: int) -> str:
 class Breaker:
     """Builds the remaining rig for one failure of ``rig``, solved as ``points`` (id -> solved x, y in m)."""
 
-    def __init__(self, rig: Rig, points: Mapping[str, tuple[float, float]]) -> None:
+    def __init__(self, rig: Rig, points: Mapping[str, tuple[float, float]], by_parts: bool = True) -> None:
         self.rig = rig
         self.points = dict(points)
         self.strands = strands_of(rig)
+        # by_parts=False keeps the whole rig in every remaining rig (the same answer, slower: a test's reference)
+        self.parts = parts_of(rig, self.strands) if by_parts else [0] * len(self.strands)
 
     def nothing(self) -> Remaining:
         """The rig rebuilt from its strands with nothing let go: it solves to the intact state (checks the rebuild)."""
@@ -138,7 +164,8 @@ class Breaker:
     # --- the failures ---------------------------------------------------------------------------------
     def anchor(self, point_id: str) -> Remaining:
         """The anchor ``point_id`` lets go: its point is free, rated for nothing."""
-        return self._finish([s for s in self._copy()], freed={point_id})
+        touched = {k for k, s in enumerate(self.strands) if point_id in s.ids()}
+        return self._finish(self._copy(), freed={point_id}, affected=self._reach(touched))
 
     def pass_(self, rope_id: str, index: int) -> Remaining:
         """The middle pass ``index`` of rope ``rope_id`` lets go (a redirect's anchor or sling, or a grab)."""
@@ -158,25 +185,30 @@ class Breaker:
                 removed.append((rope_id, s.passes[-2][1].at, s.passes[-1][1].at, nxt.passes[1][1].at))
                 s.passes = s.passes[:-1] + nxt.passes[1:]
                 s.L0 = None if (s.L0 is None or nxt.L0 is None) else s.L0 + nxt.L0
+                s.origin = s.origin | nxt.origin
                 del strands[k + 1]
                 break
-        return self._finish(strands, removed=removed)
+        touched = {k for k, s in enumerate(self.strands)
+                   if s.rope.id == rope_id and s.passes[0][0] <= index <= s.passes[-1][0]}
+        return self._finish(strands, removed=removed, affected=self._reach(touched))
 
     def piece(self, rope_id: str, index: int) -> Remaining:
         """Piece ``index`` of rope ``rope_id`` (path[index] -> path[index + 1]) is cut: its run carries nothing."""
         strands = self._copy()
         loose: list[Loose] = []
+        touched: set[int] = set()
         for k, s in enumerate(strands):
             idx = [i for i, _ in s.passes]
             if s.rope.id == rope_id and idx[0] <= index < idx[-1]:
                 loose += self._let_go(s)
+                touched = set(s.origin)
                 del strands[k]
                 break
-        return self._finish(strands, loose=loose)
+        return self._finish(strands, loose=loose, affected=self._reach(touched))
 
     def slackened(self, rem: Remaining, point_id: str) -> Remaining:
         """``rem`` with every run touching ``point_id`` gone slack: a point nothing pulls hangs loose on them."""
-        strands = [Strand(s.rope, list(s.passes), s.L0) for s in rem.strands]
+        strands = [Strand(s.rope, list(s.passes), s.L0, s.origin) for s in rem.strands]
         keep, loose = [], list(rem.loose)
         for s in strands:
             if point_id in s.ids():
@@ -185,11 +217,17 @@ class Breaker:
                     loose.append(Loose("runs free", s.passes[-1][1].at, tuple(s.ids()[-2:])))
             else:
                 keep.append(s)
-        return self._finish(keep, freed=rem.freed, loose=loose, removed=list(rem.removed_passes))
+        return self._finish(keep, freed=rem.freed, loose=loose, removed=list(rem.removed_passes),
+                            affected=rem.affected)
 
     # --- clearing what is loose -----------------------------------------------------------------------
+    def _reach(self, touched: set[int]) -> frozenset[int]:
+        """Every intact strand in a part that one of ``touched`` belongs to: what a failure there can move."""
+        parts = {self.parts[k] for k in touched}
+        return frozenset(k for k, part in enumerate(self.parts) if part in parts)
+
     def _copy(self) -> list[Strand]:
-        return [Strand(s.rope, list(s.passes), s.L0) for s in self.strands]
+        return [Strand(s.rope, list(s.passes), s.L0, s.origin) for s in self.strands]
 
     def _let_go(self, s: Strand) -> list[Loose]:
         """A run that loses an end: its rope whips free; a hauled one leaves its haul team unheld."""
@@ -199,11 +237,17 @@ class Breaker:
         return out
 
     def _finish(self, strands: list[Strand], freed: set[str] | None = None, loose: list[Loose] | None = None,
-                removed: list[tuple[str, str, str, str]] | None = None) -> Remaining:
+                removed: list[tuple[str, str, str, str]] | None = None,
+                affected: frozenset[int] | None = None) -> Remaining:
+        """The remaining rig of the strands in the ``affected`` parts (None: all), loose parts cleared."""
         freed = set(freed or ())
         loose = list(loose or [])
         removed = list(removed or [])
-        points = {p.id: p for p in self.rig.points}
+        if affected is None:
+            affected = frozenset(range(len(self.strands)))
+        strands = [s for s in strands if s.origin & affected]
+        near = {pid for k in affected for pid in self.strands[k].ids()} | freed
+        points = {p.id: p for p in self.rig.points if not p.is_structural or p.id in near}
         for pid in freed:
             p = points[pid]
             points[pid] = replace(p, kind="point", fixed=False, capacity_N=None, anchor_type=None)
@@ -249,7 +293,7 @@ class Breaker:
                 loose.append(Loose("runs free", pid))
             del points[pid]
         out = self._build(strands, points, loose, removed)
-        out.freed = freed
+        out.freed, out.affected = freed, affected
         return out
 
     @staticmethod

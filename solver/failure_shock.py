@@ -61,13 +61,23 @@ class Potential:
     ``strands`` are the runs the remaining rig's ropes were built from, in the same order: their
     unstretched lengths, and the original (rope id, piece index) that names each piece.  With
     ``held_at`` (free-point positions, m) every hauled run is held there: a tied run whose
-    unstretched length gives the haul force at those positions.
+    unstretched length gives the haul force at those positions.  Coordinates live in one array,
+    the fixed points first, so every piece's length is one vectorised expression (also over many
+    positions at once, :meth:`piece_lengths`).  ``others``: what parts of the rig left out of this one
+    keep pulling on its fixed points (N, vectors), added to their forces.
     """
 
-    def __init__(self, rig: Rig, strands: list[Strand], held_at: np.ndarray | None = None) -> None:
-        self.free = [p.id for p in rig.points if p.is_structural and not p.is_fixed]
+    def __init__(self, rig: Rig, strands: list[Strand], held_at: np.ndarray | None = None,
+                 others: dict[str, np.ndarray] | None = None) -> None:
+        structural = [p for p in rig.points if p.is_structural]
+        fixed = [p for p in structural if p.is_fixed]
+        self.free = [p.id for p in structural if not p.is_fixed]
         self.index = {pid: i for i, pid in enumerate(self.free)}
-        self.fixed = {p.id: np.array([p.x, p.y], float) for p in rig.points if p.is_structural and p.is_fixed}
+        self.fixed_ids = [p.id for p in fixed]
+        self.fixed_xy = np.array([[p.x, p.y] for p in fixed], float).reshape(-1, 2)
+        slot = {pid: i for i, pid in enumerate(self.fixed_ids)}
+        slot.update({pid: len(fixed) + i for i, pid in enumerate(self.free)})
+        self.others = np.array([(others or {}).get(pid, np.zeros(2)) for pid in self.fixed_ids], float).reshape(-1, 2)
         self.F = np.zeros((len(self.free), 2))
         for f in rig.forces:
             if f.at in self.index:
@@ -77,66 +87,79 @@ class Potential:
             for p in rig.points:
                 if p.id in self.index and p.mass_kg:
                     self.F[self.index[p.id], 1] -= float(p.mass_kg) * STANDARD_GRAVITY
-        self.runs = []  # (ids, L0 or None, haul P, curve, names)
-        for rope, strand in zip(rig.ropes, strands):
+        a, b, run, names, mat_of = [], [], [], [], []
+        by_material: dict[str, StretchCurve] = {}
+        self.L0, self.P, self.curves = [], [], []
+        for k, (rope, strand) in enumerate(zip(rig.ropes, strands)):
             ids = [ps.at for ps in rope.path]
-            curve = StretchCurve(material_for(rig, rope.material).stretch)
-            P = (rig.point(ids[-1]).haul_force or 0.0) if strand.hauled else 0.0
-            names = [(strand.rope.id, i) for i, _ in strand.passes[:-1]]
-            self.runs.append((ids, strand.L0, P, curve, names))
-        if held_at is not None:
-            for k, (ids, L0, P, curve, names) in enumerate(self.runs):
-                if L0 is None:
-                    ends = [self._xy(held_at, pid) for pid in ids]
-                    L = float(sum(np.hypot(*(b - a)) for a, b in zip(ends, ends[1:])))
-                    self.runs[k] = (ids, L / (1.0 + float(curve.strain(P))), 0.0, curve, names)
+            a += [slot[i] for i in ids[:-1]]
+            b += [slot[i] for i in ids[1:]]
+            run += [k] * (len(ids) - 1)
+            names += [f"{strand.rope.id}#{i}" for i, _ in strand.passes[:-1]]
+            if rope.material not in by_material:
+                by_material[rope.material] = StretchCurve(material_for(rig, rope.material).stretch)
+            self.curves.append(by_material[rope.material])
+            mat_of.append(rope.material)
+            self.P.append((rig.point(ids[-1]).haul_force or 0.0) if strand.hauled else 0.0)
+            self.L0.append(np.nan if strand.L0 is None else strand.L0)
+        self.a, self.b, self.run = np.array(a, int), np.array(b, int), np.array(run, int)
+        self.names = names
+        self.L0, self.P = np.array(self.L0, float), np.array(self.P, float)
+        self.n_runs = len(self.L0)
+        if held_at is not None:  # the haul teams hold: hauled runs become tied runs stretched to the haul force
+            L = self.run_lengths(held_at)
+            for k in np.flatnonzero(np.isnan(self.L0)):
+                self.L0[k] = L[k] / (1.0 + float(self.curves[k].strain(self.P[k])))
+                self.P[k] = 0.0
+        self.tied = ~np.isnan(self.L0)
+        mats = np.array(mat_of, dtype=object)
+        self.groups = [(curve, np.flatnonzero(self.tied & (mats == mid))) for mid, curve in by_material.items()]
 
-    def _xy(self, x: np.ndarray, pid: str) -> np.ndarray:
-        i = self.index.get(pid)
-        return self.fixed[pid] if i is None else x[i]
-
-    def _run(self, x: np.ndarray, run) -> tuple[float, float, list[tuple[str, np.ndarray, np.ndarray]]]:
-        """(stored energy J, tension N, pieces (from id, from xy, to xy)) of one run at ``x``."""
-        ids, L0, P, curve, _ = run
-        ends = [self._xy(x, pid) for pid in ids]
-        L = float(sum(np.hypot(*(b - a)) for a, b in zip(ends, ends[1:])))
-        if L0 is None:
-            return P * L, P, list(zip(ids, ends, ends[1:]))
-        eps = L / L0 - 1.0
-        return float(L0 * curve.energy(eps)), float(curve.tension(eps)), list(zip(ids, ends, ends[1:]))
+    def _coords(self, x: np.ndarray) -> np.ndarray:
+        """All coordinates (..., n_fixed + n_free, 2) for free positions ``x`` (..., n_free, 2)."""
+        x = np.asarray(x, float)
+        fixed = np.broadcast_to(self.fixed_xy, x.shape[:-2] + self.fixed_xy.shape)
+        return np.concatenate([fixed, x], axis=-2)
 
     def piece_lengths(self, x: np.ndarray) -> np.ndarray:
-        """Length (m) of every piece of every run at ``x``, in run order."""
-        out = []
-        for ids, *_ in self.runs:
-            ends = [self._xy(x, pid) for pid in ids]
-            out += [float(np.hypot(*(b - a))) for a, b in zip(ends, ends[1:])]
-        return np.array(out)
+        """Length (m) of every piece at ``x`` (n_free, 2), or at many positions at once (k, n_free, 2) -> (k, n)."""
+        c = self._coords(x)
+        d = c[..., self.b, :] - c[..., self.a, :]
+        return np.hypot(d[..., 0], d[..., 1])
+
+    def run_lengths(self, x: np.ndarray) -> np.ndarray:
+        """Length (m) of every run at ``x``."""
+        return np.bincount(self.run, self.piece_lengths(x), minlength=self.n_runs)
+
+    def _tensions(self, L: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(energy J, tension N) of every run at lengths ``L``: hauled P L and P, tied L0 W(eps) and T(eps)."""
+        U, T = self.P * L, self.P.copy()
+        for curve, k in self.groups:  # one vectorised call per material
+            eps = L[k] / self.L0[k] - 1.0
+            U[k] = self.L0[k] * curve.energy(eps)
+            T[k] = curve.tension(eps)
+        return U, T
 
     def energy(self, x: np.ndarray) -> float:
         """Total potential (J) at free-point positions ``x`` (n_free, 2)."""
-        return sum(self._run(x, r)[0] for r in self.runs) - float((self.F * x).sum())
+        U, _ = self._tensions(self.run_lengths(x))
+        return float(U.sum()) - float((self.F * x).sum())
 
     def forces(self, x: np.ndarray) -> list[tuple[float, str]]:
         """Every piece's tension and every fixed point's resultant at ``x``: (force N, name)."""
-        out: list[tuple[float, str]] = []
-        at_fixed: dict[str, np.ndarray] = {}
-        for r in self.runs:
-            _, T, pcs = self._run(x, r)
-            names = r[4]
-            for n, (pid_a, a, b) in enumerate(pcs):
-                out.append((T, f"{names[n][0]}#{names[n][1]}" if n < len(names) else ""))
-                d = b - a
-                norm = float(np.hypot(*d))
-                if norm == 0.0:
-                    continue
-                u = d / norm
-                pid_b = r[0][n + 1]
-                if pid_a in self.fixed:
-                    at_fixed[pid_a] = at_fixed.get(pid_a, np.zeros(2)) + T * u
-                if pid_b in self.fixed:
-                    at_fixed[pid_b] = at_fixed.get(pid_b, np.zeros(2)) - T * u
-        out += [(float(np.hypot(*v)), pid) for pid, v in at_fixed.items()]
+        c = self._coords(x)
+        d = c[self.b] - c[self.a]
+        n = np.hypot(d[:, 0], d[:, 1])
+        _, T_run = self._tensions(np.bincount(self.run, n, minlength=self.n_runs))
+        T = T_run[self.run]
+        pull = np.divide(d, n[:, None], out=np.zeros_like(d), where=n[:, None] > 0) * T[:, None]
+        at = np.zeros((len(c), 2))
+        at[: len(self.fixed_ids)] = self.others
+        np.add.at(at, self.a, pull)
+        np.add.at(at, self.b, -pull)
+        out = list(zip(T.tolist(), self.names))
+        out += [(float(np.hypot(*at[i])), pid) for i, pid in enumerate(self.fixed_ids)
+                if np.any(self.a == i) or np.any(self.b == i)]
         return out
 
 
@@ -176,7 +199,7 @@ JAM_GAP_M = 0.1
 def _runs_into(pot: Potential, x0: np.ndarray, d: np.ndarray, s_end: float) -> float:
     """The first step s in (0, s_end] at which a piece that was longer than JAM_GAP_M shortens to it (else s_end)."""
     steps = np.linspace(0.0, s_end, 401)
-    lengths = np.array([pot.piece_lengths(x0 + s * d) for s in steps])
+    lengths = pot.piece_lengths(x0[None] + steps[:, None, None] * d[None])
     if lengths.size == 0:
         return s_end
     watch = lengths[0] > JAM_GAP_M

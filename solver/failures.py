@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field, replace
+from typing import Iterator
 import numpy as np
 from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
@@ -30,7 +31,7 @@ from solver.failure_shock import SHOCK_CAUTION, Peak, Potential, drop_peak, pend
 from solver.failure_zones import ZonePart, failure_zone
 from solver.materials import material_for
 from solver.model import STANDARD_GRAVITY, Rig
-from solver.result import Result, SegmentResult
+from solver.result import AnchorResult, Result, SegmentResult
 
 #: A point moving less than this (m) has not moved.
 MOVED_MIN_M = 0.01
@@ -254,10 +255,62 @@ def _swing_peak(swings, after_named: Result) -> Peak:
 class _Scanner:
     """Runs every failure of one solved rig."""
 
-    def __init__(self, rig: Rig, intact: Result) -> None:
+    def __init__(self, rig: Rig, intact: Result, by_parts: bool = True) -> None:
         self.rig, self.intact = rig, intact
-        self.breaker = Breaker(rig, intact.points)
+        self.breaker = Breaker(rig, intact.points, by_parts)
         self.elevation = rig.view == "elevation"
+        self.strand_of = {(st.rope.id, i): k for k, st in enumerate(self.breaker.strands) for i, _ in st.passes[:-1]}
+
+    def _reached_pull(self, rem: Remaining) -> dict[str, np.ndarray]:
+        """What the intact pieces of the reached parts pulled on each point (vector sums, N)."""
+        pts = self.intact.points
+        out: dict[str, np.ndarray] = {}
+        for sg in self.intact.segments:
+            if self.strand_of.get((sg.rope, sg.index)) not in rem.affected:
+                continue
+            a, b = np.asarray(pts[sg.from_point], float), np.asarray(pts[sg.to_point], float)
+            n = float(np.hypot(*(b - a)))
+            if n == 0.0:
+                continue
+            u = (b - a) / n * sg.tension_N
+            out[sg.from_point] = out.get(sg.from_point, np.zeros(2)) + u
+            out[sg.to_point] = out.get(sg.to_point, np.zeros(2)) - u
+        return out
+
+    def _others_pull(self, rem: Remaining) -> dict[str, np.ndarray]:
+        """What the parts a failure does not reach keep pulling on each fixed point (N): intact less reached."""
+        reached = self._reached_pull(rem)
+        return {pid: np.array([a.fx_N, a.fy_N]) - reached.get(pid, np.zeros(2))
+                for pid, a in {**self.intact.anchors, **self.intact.loads}.items() if pid not in rem.freed}
+
+    def _merged(self, sub: Result, rem: Remaining) -> Result:
+        """The whole rig after the failure: the parts it reaches as solved (``sub``), the others as they were.
+
+        Fixed points are shared between parts: their force is the intact resultant less what the reached
+        parts' pieces pulled there, plus what the reached parts pull now (vector sums, N).
+        """
+        intact, pts = self.intact, self.intact.points
+        kept = [sg for sg in intact.segments if self.strand_of.get((sg.rope, sg.index)) not in rem.affected]
+        before = self._reached_pull(rem)
+        sf = self.rig.settings.min_safety_factor
+
+        def records(old: dict, new: dict) -> dict:
+            out = {}
+            for pid, o in old.items():
+                if pid in rem.freed:
+                    continue
+                n = new.get(pid)
+                fx = o.fx_N - before.get(pid, np.zeros(2))[0] + (n.fx_N if n is not None else 0.0)
+                fy = o.fy_N - before.get(pid, np.zeros(2))[1] + (n.fy_N if n is not None else 0.0)
+                mag = math.hypot(fx, fy)
+                out[pid] = AnchorResult(mag, math.degrees(math.atan2(fy, fx)) % 360.0 if mag > 0 else 0.0,
+                                        o.capacity_N, mag * sf / o.capacity_N if o.capacity_N else None, fx, fy)
+            return out
+
+        order = {r.id: n for n, r in enumerate(self.rig.ropes)}
+        segs = sorted([*sub.segments, *kept], key=lambda sg: (order.get(sg.rope, 0), sg.index))
+        return replace(sub, segments=tuple(segs), anchors=records(intact.anchors, sub.anchors),
+                       loads=records(intact.loads, sub.loads), points={**pts, **sub.points})
 
     def remaining(self, c: Component) -> Remaining:
         if c.kind == "anchor":
@@ -293,13 +346,14 @@ class _Scanner:
                 peak = _swing_peak(swings, named)
             else:
                 x1 = np.array([after.points[pid] for pid in pot.free], float).reshape(-1, 2)
-                peak = drop_peak(Potential(rem.rig, rem.strands, held_at=x0), x0, x1)
+                peak = drop_peak(Potential(rem.rig, rem.strands, held_at=x0, others=self._others_pull(rem)), x0, x1)
                 peak_pts = peak.positions if peak is not None else None
                 if peak is not None and peak.how == "jam":  # at least what it comes to rest with
                     rest = max([(a.force_N, pid) for pid, a in named.anchors.items()]
                                + [(sg.tension_N, f"{sg.rope}#{sg.index}") for sg in named.segments])
                     if rest[0] > peak.force_N:
                         peak = replace(peak, force_N=rest[0], at=rest[1])
+        named = self._merged(named, rem)
         pivots = {m.point: (s.to_point if s.from_point == m.point else s.from_point) for m in moved
                   for s in [next((x[4] for x in swings if x[0] == m.point), None)] if s is not None}
         return self._finish(c, rem, named, unheld, moved, peak,
@@ -421,17 +475,33 @@ def _has_rope(rig: Rig, rope_id: str) -> bool:
     return any(r.id == rope_id for r in rig.ropes)
 
 
-def scan(rig: Rig, intact: Result | None = None) -> Scan:
-    """Every component of ``rig`` let go in turn (see the module docstring); ``intact`` = the rig's own solve if given."""
+def scan_steps(rig: Rig, intact: Result, by_parts: bool = True) -> Iterator[Failure]:
+    """The failures of a rig solved ``intact`` (ok), one at a time: lets the app scan between its own events."""
+    sc = _Scanner(rig, intact, by_parts)
+    for c in components(rig):
+        yield sc.fail(c)
+
+
+def no_scan_reason(intact: Result) -> str:
+    """Why a rig that does not solve intact gets no scan, in words."""
+    return (f"The rig does not hold as drawn ({intact.status}: {intact.message}), so there is nothing to let go "
+            f"from: fix the rig first.")
+
+
+def scan(rig: Rig, intact: Result | None = None, by_parts: bool = True) -> Scan:
+    """Every component of ``rig`` let go in turn (see the module docstring); ``intact`` = the rig's own solve if given.
+
+    Each failure re-solves only the parts of the rig it reaches (free points joined by rope; anchors and
+    other fixed points separate parts) and hands on the others' records; ``by_parts=False`` re-solves
+    the whole rig every time (the same numbers, slower).
+    """
     from solver.equilibrium import solve
 
     if intact is None or not intact.points:
         intact = solve(rig)
     if not intact.ok:
-        return Scan(rig, intact, (), f"The rig does not hold as drawn ({intact.status}: {intact.message}), so there "
-                                     f"is nothing to let go from: fix the rig first.")
-    sc = _Scanner(rig, intact)
-    return Scan(rig, intact, tuple(sc.fail(c) for c in components(rig)))
+        return Scan(rig, intact, (), no_scan_reason(intact))
+    return Scan(rig, intact, tuple(scan_steps(rig, intact, by_parts)))
 
 
 def failure_json(f: Failure) -> dict:

@@ -70,3 +70,17 @@ def test_a_rig_that_does_not_hold_shows_why_there_is_no_scan(main_window, qtbot)
     main_window.document.apply(broken, "remove the alder")
     qtbot.waitUntil(lambda: "No scan" in main_window.what_if.panel.status.text(), timeout=10000)
     assert not main_window.what_if.panel.table.isEnabled()
+
+
+def test_a_long_scan_goes_in_slices_and_a_change_cancels_it(main_window, qtbot):
+    rig = _open(main_window, qtbot, RAFT)
+    what_if = main_window.what_if
+    scans = what_if.scans
+    assert what_if.run_scan(budget_ms=0.0) is None  # one failure, then back to the window's events
+    assert what_if._steps is not None and len(what_if._steps[3]) == 1
+    assert "1 of 11" in what_if.panel.status.text()
+    what_if.ticks.stop()
+    main_window.document.apply(rig.moved("A2", 7.0, 12.0), "move the boulder anchor")
+    assert what_if._continue(0.0) is None and what_if._steps is None  # cancelled: the rig changed
+    qtbot.waitUntil(lambda: what_if.scans > scans and what_if.scan.rig is main_window.document.rig, timeout=10000)
+    assert len(what_if.scan.failures) == 11

@@ -209,3 +209,39 @@ def test_the_rebuilt_rig_with_nothing_let_go_solves_to_the_intact_state(path):
     assert got.keys() == want.keys()
     for k, t in want.items():
         assert got[k] == pytest.approx(t, rel=1e-6, abs=1e-6), k
+
+
+def _two_systems_rig():
+    """The raft sample with the two-point anchor sample beside it (ids prefixed): two independent parts."""
+    from dataclasses import replace as rep
+
+    raft, other = load_rig(SAMPLES / "raft-3to1-redirect.rig.json"), load_rig(SAMPLES / "two-point-anchor.rig.json")
+    pts = tuple(rep(p, id="b" + p.id, x=p.x + 40.0) for p in other.points)
+    ropes = tuple(rep(r, id="b" + r.id, path=tuple(rep(ps, at="b" + ps.at) for ps in r.path)) for r in other.ropes)
+    return rep(raft, points=raft.points + pts, ropes=raft.ropes + ropes,
+               materials=raft.materials + tuple(m for m in other.materials if m.id not in {x.id for x in raft.materials}))
+
+
+@pytest.mark.parametrize("which", ["raft", "both"])
+def test_solving_only_the_parts_a_failure_reaches_gives_the_whole_rigs_numbers(which):
+    rig = load_rig(SAMPLES / "raft-3to1-redirect.rig.json") if which == "raft" else _two_systems_rig()
+    fast, whole = scan(rig), scan(rig, by_parts=False)
+    assert [f.component.id for f in fast.failures] == [f.component.id for f in whole.failures]
+    for a, b in zip(fast.failures, whole.failures):
+        assert a.status == b.status, a.component.id
+        if not a.holds:
+            continue
+        ta = {(s.rope, s.index): s.tension_N for s in a.after.segments}
+        tb = {(s.rope, s.index): s.tension_N for s in b.after.segments}
+        assert ta.keys() == tb.keys(), a.component.id
+        for k in ta:
+            assert ta[k] == pytest.approx(tb[k], rel=1e-6, abs=1e-6), (a.component.id, k)
+        assert a.after.anchors.keys() == b.after.anchors.keys()
+        for k, an in a.after.anchors.items():
+            assert an.force_N == pytest.approx(b.after.anchors[k].force_N, rel=1e-6, abs=1e-6), (a.component.id, k)
+        assert (a.peak is None) == (b.peak is None)
+        if a.peak is not None:  # the whole rig's peak may be a piece the failure never reaches
+            if which == "raft":
+                assert a.peak.force_N == pytest.approx(b.peak.force_N, rel=1e-6)
+            else:
+                assert a.peak.force_N <= b.peak.force_N * (1 + 1e-9)
