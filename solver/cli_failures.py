@@ -14,7 +14,7 @@ import sys
 from typing import TextIO
 
 from solver import units
-from solver.cautions import SHORT_CAUTION
+from solver.cautions import caution_lines
 from solver.cli_solve import EXIT_OK, EXIT_SOLVE_FAILED, _table, load_in_units, write_json
 from solver.failure_shock import SHOCK_CAUTION
 from solver.failure_zones import FLIGHT_MARGIN_M
@@ -60,7 +60,8 @@ def format_scan(s: Scan, length_unit: str, force_unit: str) -> str:
             parts += [f"  [{w.code}] {w.message}" for w in people]
         parts.append("\n" + SHOCK_CAUTION)
         parts.append(zone_assumption(length_unit))
-    parts.append("\n" + SHORT_CAUTION)
+    parts.append("")
+    parts += [f"Caution: {line}" for line in caution_lines()]
     return "\n".join(parts)
 
 

@@ -25,7 +25,9 @@ from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
 
 from solver import units
+from solver.capacity import utilization as capacity_utilization
 from solver.danger import LOADED_MIN_N
+from solver.directions import direction_text
 from solver.failure_rig import Breaker, Loose, Remaining, pass_key
 from solver.failure_shock import SHOCK_CAUTION, Peak, Potential, drop_peak, pendulum_peak_factor
 from solver.failure_zones import ZonePart, failure_zone
@@ -170,13 +172,6 @@ def components(rig: Rig) -> list[Component]:
     return out
 
 
-def _heading(deg: float, elevation: bool) -> str:
-    """A direction in words: a compass point in plan, up/down/left/right in elevation."""
-    names = (["right", "up and right", "up", "up and left", "left", "down and left", "down", "down and right"]
-             if elevation else ["east", "northeast", "north", "northwest", "west", "southwest", "south", "southeast"])
-    return names[int(((deg % 360.0) + 22.5) % 360.0 // 45.0)]
-
-
 def _relabel(after: Result, remaining: Remaining) -> Result:
     """The remaining rig's Result with every piece named by its original rope and piece index."""
     by_id = dict(zip(remaining.strand_ids, remaining.strands))
@@ -304,7 +299,8 @@ class _Scanner:
                 fy = o.fy_N - before.get(pid, np.zeros(2))[1] + (n.fy_N if n is not None else 0.0)
                 mag = math.hypot(fx, fy)
                 out[pid] = AnchorResult(mag, math.degrees(math.atan2(fy, fx)) % 360.0 if mag > 0 else 0.0,
-                                        o.capacity_N, mag * sf / o.capacity_N if o.capacity_N else None, fx, fy)
+                                        o.capacity_N, capacity_utilization(mag, o.capacity_N, o.capacity_kind, sf),
+                                        fx, fy, o.capacity_kind)
             return out
 
         order = {r.id: n for n, r in enumerate(self.rig.ropes)}
@@ -385,7 +381,7 @@ class _Scanner:
             a, b = pos[lo.path[0]], pos[lo.path[1]]
             d = math.degrees(math.atan2(b[1] - a[1], b[0] - a[0]))
             return Unheld(lo.subject, d, f"{_name(self.rig, lo.subject)} is no longer held: the rope runs "
-                                         f"out toward them ({_heading(d, self.elevation)}); the team falls back")
+                                         f"out toward them ({direction_text(d, self.rig.view)}); the team falls back")
         forces = [f for f in self.rig.forces if f.at == lo.subject]
         p = self.rig.point(lo.subject)
         fx = sum(f.magnitude_N * math.cos(math.radians(f.direction_deg)) for f in forces)
@@ -393,7 +389,7 @@ class _Scanner:
         if self.elevation and p.mass_kg:
             fy -= p.mass_kg * STANDARD_GRAVITY
         d = math.degrees(math.atan2(fy, fx)) if (fx or fy) else None
-        toward = f" and goes {_heading(d, self.elevation)}" if d is not None else ""
+        toward = f" and goes {direction_text(d, self.rig.view)}" if d is not None else ""
         return Unheld(lo.subject, d, f"{p.name} is no longer held by any rope{toward}")
 
     def _finish(self, c: Component, rem: Remaining, after: Result, unheld: list[Unheld], moved: list[Moved],
@@ -504,10 +500,12 @@ def scan(rig: Rig, intact: Result | None = None, by_parts: bool = True) -> Scan:
     return Scan(rig, intact, tuple(scan_steps(rig, intact, by_parts)))
 
 
-def failure_json(f: Failure) -> dict:
-    """One entry of ``ropewright failures --json``: the solve records after the failure, peak and zone."""
+def failure_json(f: Failure, view: str = "plan") -> dict:
+    """One entry of ``ropewright failures --json``: the solve records after the failure (as ``solve --json``
+    writes them: bearings in plan), peak and zone."""
     from solver.failure_zones import rings
 
+    records = f.after.to_json(view)
     worst = f.worst()
     return {
         "component": f.component.id,
@@ -515,9 +513,9 @@ def failure_json(f: Failure) -> dict:
         "name": f.component.name,
         "status": f.status,
         "message": f.message,
-        "anchors": {k: a.to_json() for k, a in f.after.anchors.items()},
-        "loads": {k: {"force_N": a.force_N, "direction_deg": a.direction_deg} for k, a in f.after.loads.items()},
-        "segments": [s.to_json() for s in f.after.segments],
+        "anchors": records["anchors"],
+        "loads": records["loads"],
+        "segments": records["segments"],
         "moved": [{"point": m.point, "from": list(m.before), "to": list(m.after), "distance_m": m.distance_m}
                   for m in f.moved],
         "runs_free": [{"point": u.point, "direction_deg": u.direction_deg, "message": u.words} for u in f.unheld],
@@ -530,8 +528,9 @@ def failure_json(f: Failure) -> dict:
 
 
 def scan_json(s: Scan) -> dict:
-    """The whole scan as JSON: ``{"failures": [...], "reason", "shock_caution", "cautions"}``."""
-    from solver.cautions import SHORT_CAUTION
+    """The whole scan as JSON: ``{"failures": [...], "reason", "shock_caution", "cautions"}`` (cautions as
+    ``solve --json`` gives them)."""
+    from solver.cautions import CAUTION_PARAGRAPHS
 
-    return {"failures": [failure_json(f) for f in s.failures], "reason": s.reason or None,
-            "shock_caution": SHOCK_CAUTION, "cautions": SHORT_CAUTION}
+    return {"failures": [failure_json(f, s.rig.view) for f in s.failures], "reason": s.reason or None,
+            "shock_caution": SHOCK_CAUTION, "cautions": list(CAUTION_PARAGRAPHS)}
