@@ -282,6 +282,8 @@ class WhatIf(QObject):
             return None
         if sched.pending:  # a newer solve is on its way: scan that one
             return None
+        if self.scan is not None and self.scan.intact is result:
+            return self.scan  # already scanned (a repeat delivery of the same answer)
         from solver.failures import scan_steps
 
         self._steps = (rig, result, scan_steps(rig, result), [], len(components(rig)))

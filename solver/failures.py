@@ -389,7 +389,7 @@ class _Scanner:
         if self.elevation and p.mass_kg:
             fy -= p.mass_kg * STANDARD_GRAVITY
         d = math.degrees(math.atan2(fy, fx)) if (fx or fy) else None
-        toward = f" and goes {direction_text(d, self.rig.view)}" if d is not None else ""
+        toward = f" and goes toward {direction_text(d, self.rig.view)}" if d is not None else ""
         return Unheld(lo.subject, d, f"{p.name} is no longer held by any rope{toward}")
 
     def _finish(self, c: Component, rem: Remaining, after: Result, unheld: list[Unheld], moved: list[Moved],
