@@ -626,6 +626,8 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     from sketchpad.report_failures import failure_section
 
     failures = failure_section(rig, result)
+    if failures is not None:
+        failures.draw_zones_on(drawing)
     plots: dict[float, tuple[QImage | None, str]] = {}
 
     def plot_for(h: float) -> tuple[QImage | None, str] | None:
