@@ -32,6 +32,7 @@ from PySide6.QtWidgets import (
 )
 
 from sketchpad import theme
+from sketchpad.drag_layer import Versioned
 from sketchpad.geometry import to_scene
 from solver.failures import Failure, Scan, components
 from solver.model import Rig
@@ -56,8 +57,11 @@ def row_texts(f: Failure, force_unit: str) -> list[str]:
     return [f"{f.component.id} · {f.component.kind}", f.status, worst_text, shock]
 
 
-class FailureGhost(QGraphicsItem):
-    """One failure's outcome drawn over the rig: its area outlined, the remaining rig dashed, moves and runaways."""
+class FailureGhost(Versioned, QGraphicsItem):
+    """One failure's outcome drawn over the rig: its area outlined, the remaining rig dashed, moves and runaways.
+
+    ``Versioned`` tells the drag layer of every change, so a drag frame need not read the item to know it is still.
+    """
 
     def __init__(self) -> None:
         super().__init__()
@@ -80,6 +84,8 @@ class FailureGhost(QGraphicsItem):
         """Draw ``f`` (None: nothing)."""
         from sketchpad.overlay import geometry_path
 
+        if f is None and self._rect.isEmpty():
+            return  # nothing shown, nothing to clear: a drag step's result leaves the scene untouched
         self.prepareGeometryChange()
         self.zone, self.pieces, self.moves, self.arrows, self.marks = QPainterPath(), [], [], [], []
         if f is not None and rig is not None and intact is not None:
@@ -102,7 +108,7 @@ class FailureGhost(QGraphicsItem):
             rect = rect.united(QRectF(a, b).normalized())
         for m in self.marks:
             rect = rect.united(QRectF(m.x() - 1, m.y() - 1, 2, 2))
-        self._rect = rect.adjusted(-2, -2, 2, 2)
+        self._rect = rect.adjusted(-2, -2, 2, 2) if not rect.isEmpty() else QRectF()
         self.update()
 
     def paint(self, painter, option, widget=None) -> None:
