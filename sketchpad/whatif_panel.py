@@ -72,6 +72,8 @@ class FailureGhost(Versioned, QGraphicsItem):
         self.moves: list[tuple[QPointF, QPointF]] = []
         self.arrows: list[tuple[QPointF, QPointF]] = []
         self.marks: list[QPointF] = []
+        self.label: tuple[QPointF, str] | None = None  # the area's name, at a point inside it
+        self._font = theme.font(theme.OVERLAY_POINT_SIZE, bold=True)
         self._rect = QRectF()
 
     def boundingRect(self) -> QRectF:  # noqa: N802
@@ -88,8 +90,12 @@ class FailureGhost(Versioned, QGraphicsItem):
             return  # nothing shown, nothing to clear: a drag step's result leaves the scene untouched
         self.prepareGeometryChange()
         self.zone, self.pieces, self.moves, self.arrows, self.marks = QPainterPath(), [], [], [], []
+        self.label = None
         if f is not None and rig is not None and intact is not None:
             self.zone = geometry_path(f.zone)
+            if not f.zone.is_empty:
+                inside = f.zone.representative_point()
+                self.label = (to_scene(inside.x, inside.y), f"if {f.component.id} lets go")
             pts = f.after.points
             self.pieces = [(to_scene(*pts[s.from_point]), to_scene(*pts[s.to_point])) for s in f.after.segments
                            if s.from_point in pts and s.to_point in pts]
@@ -136,6 +142,14 @@ class FailureGhost(Versioned, QGraphicsItem):
         for m in self.marks:  # the component that let go: a cross
             painter.drawLine(QPointF(m.x() - r, m.y() - r), QPointF(m.x() + r, m.y() + r))
             painter.drawLine(QPointF(m.x() - r, m.y() + r), QPointF(m.x() + r, m.y() - r))
+        if self.label is not None:  # the legend of this shape, on it (in pixels, whatever the zoom)
+            at = painter.worldTransform().map(self.label[0])
+            painter.save()
+            painter.resetTransform()
+            painter.setFont(self._font)
+            painter.setPen(theme.GHOST_ZONE_EDGE)
+            painter.drawText(at, self.label[1])
+            painter.restore()
 
     @staticmethod
     def _head(painter, a: QPointF, b: QPointF, r: float) -> None:

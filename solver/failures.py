@@ -103,10 +103,12 @@ class Failure:
         return self.status == "holds"
 
     def worst(self) -> tuple[float, str, float | None] | None:
-        """The remaining anchor or piece with the highest use of its strength: (force N, where, use)."""
+        """The remaining anchor or piece with the highest use of its strength: (force N, where, use); None when
+        nothing remaining carries a load."""
         rows: list[tuple[float, str, float | None]] = [
             (a.force_N, pid, a.utilization) for pid, a in self.after.anchors.items()]
         rows += [(s.tension_N, f"{s.rope}#{s.index}", s.utilization) for s in self.after.segments]
+        rows = [r for r in rows if r[0] > LOADED_MIN_N]  # nothing loaded: no worst load to name
         if not rows:
             return None
         return max(rows, key=lambda r: (r[2] if r[2] is not None and math.isfinite(r[2]) else -1.0, r[0]))
