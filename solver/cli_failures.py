@@ -18,7 +18,7 @@ from solver.cautions import caution_lines
 from solver.cli_solve import EXIT_OK, EXIT_SOLVE_FAILED, _table, load_in_units, write_json
 from solver.failure_shock import SHOCK_CAUTION
 from solver.failure_zones import FLIGHT_MARGIN_M
-from solver.failures import Failure, Scan, scan, scan_json
+from solver.failures import Failure, Scan, scan
 
 def zone_assumption(length_unit: str) -> str:
     """Where the zone numbers come from, and which constant is the project's own choice."""
@@ -78,3 +78,39 @@ def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
         print(f"ropewright: {args.rig}: {result.reason}", file=sys.stderr)
         return EXIT_SOLVE_FAILED
     return EXIT_OK
+
+
+def failure_json(f: Failure, view: str = "plan") -> dict:
+    """One entry of ``ropewright failures --json``: the solve records after the failure (as ``solve --json``
+    writes them: bearings in plan), peak and zone."""
+    from solver.failure_zones import rings
+
+    records = f.after.to_json(view)
+    worst = f.worst()
+    return {
+        "component": f.component.id,
+        "kind": f.component.kind,
+        "name": f.component.name,
+        "status": f.status,
+        "message": f.message,
+        "anchors": records["anchors"],
+        "loads": records["loads"],
+        "segments": records["segments"],
+        "moved": [{"point": m.point, "from": list(m.before), "to": list(m.after), "distance_m": m.distance_m}
+                  for m in f.moved],
+        "runs_free": [{"point": u.point, "direction_deg": u.direction_deg, "message": u.words} for u in f.unheld],
+        "worst": None if worst is None else {"force_N": worst[0], "at": worst[1], "utilization": worst[2]},
+        "peak_force_N": None if f.peak is None else f.peak.force_N,
+        "peak_at": None if f.peak is None else f.peak.at,
+        "peak_how": None if f.peak is None else f.peak.how,
+        "zone": rings(f.zone),
+    }
+
+
+def scan_json(s: Scan) -> dict:
+    """The whole scan as JSON: ``{"failures": [...], "reason", "shock_caution", "cautions"}`` (cautions as
+    ``solve --json`` gives them)."""
+    from solver.cautions import CAUTION_PARAGRAPHS
+
+    return {"failures": [failure_json(f, s.rig.view) for f in s.failures], "reason": s.reason or None,
+            "shock_caution": SHOCK_CAUTION, "cautions": list(CAUTION_PARAGRAPHS)}

@@ -20,6 +20,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field, replace
 from typing import Iterator
+
 import numpy as np
 from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
@@ -29,7 +30,7 @@ from solver.capacity import utilization as capacity_utilization
 from solver.danger import LOADED_MIN_N
 from solver.directions import direction_text
 from solver.failure_rig import Breaker, Loose, Remaining, pass_key
-from solver.failure_shock import SHOCK_CAUTION, Peak, Potential, drop_peak, pendulum_peak_factor
+from solver.failure_shock import Peak, Potential, drop_peak, pendulum_peak_factor
 from solver.failure_zones import ZonePart, failure_zone
 from solver.materials import material_for
 from solver.model import STANDARD_GRAVITY, Rig
@@ -500,39 +501,3 @@ def scan(rig: Rig, intact: Result | None = None, by_parts: bool = True) -> Scan:
     if not intact.ok:
         return Scan(rig, intact, (), no_scan_reason(intact))
     return Scan(rig, intact, tuple(scan_steps(rig, intact, by_parts)))
-
-
-def failure_json(f: Failure, view: str = "plan") -> dict:
-    """One entry of ``ropewright failures --json``: the solve records after the failure (as ``solve --json``
-    writes them: bearings in plan), peak and zone."""
-    from solver.failure_zones import rings
-
-    records = f.after.to_json(view)
-    worst = f.worst()
-    return {
-        "component": f.component.id,
-        "kind": f.component.kind,
-        "name": f.component.name,
-        "status": f.status,
-        "message": f.message,
-        "anchors": records["anchors"],
-        "loads": records["loads"],
-        "segments": records["segments"],
-        "moved": [{"point": m.point, "from": list(m.before), "to": list(m.after), "distance_m": m.distance_m}
-                  for m in f.moved],
-        "runs_free": [{"point": u.point, "direction_deg": u.direction_deg, "message": u.words} for u in f.unheld],
-        "worst": None if worst is None else {"force_N": worst[0], "at": worst[1], "utilization": worst[2]},
-        "peak_force_N": None if f.peak is None else f.peak.force_N,
-        "peak_at": None if f.peak is None else f.peak.at,
-        "peak_how": None if f.peak is None else f.peak.how,
-        "zone": rings(f.zone),
-    }
-
-
-def scan_json(s: Scan) -> dict:
-    """The whole scan as JSON: ``{"failures": [...], "reason", "shock_caution", "cautions"}`` (cautions as
-    ``solve --json`` gives them)."""
-    from solver.cautions import CAUTION_PARAGRAPHS
-
-    return {"failures": [failure_json(f, s.rig.view) for f in s.failures], "reason": s.reason or None,
-            "shock_caution": SHOCK_CAUTION, "cautions": list(CAUTION_PARAGRAPHS)}
