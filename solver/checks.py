@@ -48,6 +48,7 @@ import math
 from typing import Callable, Iterable
 
 import numpy as np
+import shapely
 from shapely.geometry import LineString, Point as ShPoint, Polygon
 from shapely.geometry.base import BaseGeometry
 
@@ -213,22 +214,28 @@ def check_unrated_drawn(rig: Rig) -> list[Warning_]:
     ]
 
 
-def check_ropes(rig: Rig, result: Result) -> list[Warning_]:
-    """Each rope piece's tension against its material's MBS; one warning per rope (its worst piece)."""
+def check_ropes(rig: Rig, result: Result, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
+    """Each rope piece's tension against its material's MBS; one warning per rope (its worst piece).
+
+    ``pcs``: the rig's :func:`~solver.danger.pieces` for this result if already made (``run_checks``).
+    """
     out: list[Warning_] = []
     sf = _sf(rig)
     worst: dict[str, Piece] = {}
-    for pc in pieces(rig, result):
+    for pc in pieces(rig, result) if pcs is None else pcs:
         if pc.tension_N is None:
             continue
         if pc.rope.id not in worst or pc.tension_N > (worst[pc.rope.id].tension_N or 0.0):
             worst[pc.rope.id] = pc
+    specs: dict[str, Material | None] = {}  # each material looked up once, not once per rope
     for rope in rig.ropes:
         pc = worst.get(rope.id)
         if pc is None or not pc.loaded:
             continue
         t = float(pc.tension_N or 0.0)
-        mat = _material(rig, rope.material)
+        if rope.material not in specs:
+            specs[rope.material] = _material(rig, rope.material)
+        mat = specs[rope.material]
         where = f"between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}"
         if mat is None:
             out.append(Warning_("spec-unknown", rope.id,
@@ -289,9 +296,10 @@ def check_hardware(rig: Rig, result: Result) -> list[Warning_]:
     for r in rig.ropes:
         for ps in r.path:
             passes_at[ps.at] = passes_at.get(ps.at, 0) + 1
+    pushed = {fc.at for fc in rig.forces}
     for rope_id, k, at, f in pass_loads(rig, result):
         rng = result.hold_anchor_range.get(at)
-        if rng is not None and passes_at.get(at) == 1 and not any(fc.at == at for fc in rig.forces):
+        if rng is not None and passes_at.get(at) == 1 and at not in pushed:
             f = max(f, float(rng.high))
         if f <= 0.0:
             continue
@@ -324,17 +332,18 @@ def leg_force_factor(included_deg: float) -> float:
     return 1.0 / (2.0 * math.cos(math.radians(included_deg) / 2.0))
 
 
-def two_leg_anchors(rig: Rig, result: Result | None) -> list[tuple[str, str, str, float]]:
+def two_leg_anchors(rig: Rig, result: Result | None,
+                    pcs: Iterable[Piece] | None = None) -> list[tuple[str, str, str, float]]:
     """Free points held by exactly two legs to anchors: (point id, anchor 1, anchor 2, included angle deg)."""
     pos = positions(rig, result)
     kinds = {p.id: p.kind for p in rig.points}
     legs: dict[str, list[tuple[str, Piece]]] = {}
-    for pc in pieces(rig, result):
+    for pc in pieces(rig, result) if pcs is None else pcs:
         for here, there, k, k_there in ((pc.a_id, pc.b_id, pc.index, pc.index + 1),
                                         (pc.b_id, pc.a_id, pc.index + 1, pc.index)):
             if kinds.get(there) != "anchor":
                 continue
-            pt = next((p for p in rig.points if p.id == here), None)
+            pt = rig.point(here) if rig.has_point(here) else None
             if pt is None or pt.is_fixed or not pt.is_structural:
                 continue
             # a leg is tied to its anchor and tied (or slides, equalising) at the junction;
@@ -357,7 +366,7 @@ def two_leg_anchors(rig: Rig, result: Result | None) -> list[tuple[str, str, str
     return out
 
 
-def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
+def check_wide_anchors(rig: Rig, result: Result | None, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
     """Two-leg anchors with an included angle over 120 degrees (ASME B30.9)."""
     out = []
     tens: dict[frozenset[str], float] = {}
@@ -365,7 +374,7 @@ def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
         for s in result.segments:
             key = frozenset((s.from_point, s.to_point))
             tens[key] = max(tens.get(key, 0.0), float(s.tension_N))
-    for here, a1, a2, ang in two_leg_anchors(rig, result):
+    for here, a1, a2, ang in two_leg_anchors(rig, result, pcs):
         if ang <= WIDE_ANCHOR_DEG:
             continue
         fac = leg_force_factor(ang) if ang < 179.999 else float("inf")
@@ -386,8 +395,18 @@ def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
 def check_slack(rig: Rig, result: Result) -> list[Warning_]:
     """Runs whose pieces all carry (practically) nothing."""
     out = []
+    # only ropes with a run whose solved pieces all carry (practically) nothing are walked run by run
+    quiet: dict[tuple[str, int], bool] = {}
+    for s in result.segments:
+        key = (s.rope, s.run)
+        quiet[key] = quiet.get(key, True) and float(s.tension_N) <= SLACK_MAX_N
+    candidates = {rope_id for (rope_id, _), q in quiet.items() if q}
+    if not candidates:
+        return out
     tens = {(s.rope, s.index): float(s.tension_N) for s in result.segments}
     for rope in rig.ropes:
+        if rope.id not in candidates:
+            continue
         for run in rope.runs():
             ts = [tens.get((rope.id, i)) for i in run.piece_indices]
             if not ts or any(t is None for t in ts):
@@ -561,14 +580,14 @@ def check_haul(rig: Rig, result: Result) -> list[Warning_]:
     return out
 
 
-def check_two_blocked(rig: Rig, result: Result) -> list[Warning_]:
+def check_two_blocked(rig: Rig, result: Result, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
     """Pieces with a free end that have shrunk to the hardware size: out of throw."""
     out: list[Warning_] = []
     if any(w.code == "two-blocked" for w in result.warnings):
         return out  # the solver found it with its own contact model; do not say it twice
     pts = {p.id: p for p in rig.points}
     seen = set()
-    for pc in pieces(rig, result):
+    for pc in pieces(rig, result) if pcs is None else pcs:
         if pc.a_id == pc.b_id or pc.a_id not in pts or pc.b_id not in pts:
             continue
         if pts[pc.a_id].is_fixed and pts[pc.b_id].is_fixed:
@@ -595,14 +614,15 @@ def check_two_blocked(rig: Rig, result: Result) -> list[Warning_]:
 def people_in_zones(rig: Rig, zones: Iterable[DangerZone]) -> list[tuple[str, DangerZone]]:
     """(point id, zone) for every person or haul point inside a zone, haul teams excused from their own rope end."""
     zones = list(zones)
+    people = [p for p in rig.points if p.kind in ("person", "haul")]
+    if not zones or not people:
+        return []
+    geoms = np.array([z.geometry for z in zones], dtype=object)
     out = []
-    for p in rig.points:
-        if p.kind not in ("person", "haul"):
-            continue
-        pt = ShPoint(p.x, p.y)
-        for z in zones:
-            if not z.geometry.contains(pt):  # strictly inside: a leg's far end is not in its own bight
-                continue
+    for p in people:
+        # strictly inside (shapely "contains"): a leg's far end is not in its own bight; all zones at once
+        for i in np.flatnonzero(shapely.contains_xy(geoms, p.x, p.y)):
+            z = zones[i]
             if p.kind == "haul" and z.kind == "recoil" and _piece_ends_at(rig, z.rope, z.piece, p.id):
                 continue
             out.append((p.id, z))
@@ -619,6 +639,8 @@ def _piece_ends_at(rig: Rig, rope_id: str, piece: int, point_id: str) -> bool:
 
 def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None) -> list[Warning_]:
     """Person and haul points inside bight or recoil zones."""
+    if not any(p.kind in ("person", "haul") for p in rig.points):
+        return []  # nobody to warn: the zones are left for whoever draws them
     if zones is None:
         zones = danger_zones(rig, result)
     out = []
@@ -639,6 +661,10 @@ FORCE_CHECKS: tuple[Callable[[Rig, Result], list[Warning_]], ...] = (
 )
 
 
+#: The checks that accept the rig's pieces already made (their third argument).
+_TAKE_PIECES = frozenset({check_ropes, check_wide_anchors, check_two_blocked})
+
+
 def run_checks(rig: Rig, result: Result) -> tuple[Warning_, ...]:
     """All safety findings for ``rig`` solved as ``result`` (geometry-only checks when it did not solve)."""
     if not result.ok:
@@ -648,6 +674,7 @@ def run_checks(rig: Rig, result: Result) -> tuple[Warning_, ...]:
         found += check_wide_anchors(rig, None) + check_abrasion(rig, None) + check_unrated_drawn(rig)
         return tuple(found)
     found = []
+    pcs = list(pieces(rig, result))  # made once for the checks that walk every piece
     for chk in FORCE_CHECKS:
-        found += chk(rig, result)
+        found += chk(rig, result, pcs) if chk in _TAKE_PIECES else chk(rig, result)
     return tuple(found)

@@ -9,6 +9,7 @@ helpers here (``with_point``, ``without_point`` ...), which keeps undo simple
 from __future__ import annotations
 
 from dataclasses import dataclass, field, replace
+from functools import cached_property
 from typing import Any, Iterator, Literal, Mapping
 
 PointKind = Literal["anchor", "load", "haul", "point", "person"]
@@ -275,20 +276,31 @@ class Rig:
     extra: Mapping[str, Any] = field(default_factory=dict)  # unknown top-level keys, kept
 
     # --- look-ups -----------------------------------------------------------------
+    @cached_property
+    def _index(self) -> "_Index":
+        """Points and ropes by id, built once per Rig on first look-up (the Rig is immutable).
+
+        ``cached_property`` writes straight into the instance ``__dict__`` (so a frozen
+        dataclass takes it) under a lock, and a Rig made by ``replace`` starts without one:
+        two threads looking up ids at once build it once and share it.  Not a field: equality,
+        hashing, ``repr`` and saving never see it.  A list with an id given twice keeps its
+        first (what the linear search found); rig files refuse duplicates anyway.
+        """
+        return _Index.of(self)
+
     def point(self, point_id: str) -> Point:
-        for p in self.points:
-            if p.id == point_id:
-                return p
-        raise KeyError(point_id)
+        """The point with this id (KeyError if there is none), by the Rig's id index: O(1)."""
+        return self._index.points[point_id]
 
     def has_point(self, point_id: str) -> bool:
-        return any(p.id == point_id for p in self.points)
+        return point_id in self._index.points
 
     def rope(self, rope_id: str) -> Rope:
-        for r in self.ropes:
-            if r.id == rope_id:
-                return r
-        raise KeyError(rope_id)
+        """The rope with this id (KeyError if there is none), by the Rig's id index: O(1)."""
+        return self._index.ropes[rope_id]
+
+    def has_rope(self, rope_id: str) -> bool:
+        return rope_id in self._index.ropes
 
     def embedded_material(self, material_id: str) -> Material | None:
         return next((m for m in self.materials if m.id == material_id), None)
@@ -353,3 +365,21 @@ class Rig:
     def moved(self, point_id: str, x: float, y: float) -> "Rig":
         """The same rig with one point moved to (x, y) metres."""
         return self.with_point(replace(self.point(point_id), x=float(x), y=float(y)))
+
+
+@dataclass(frozen=True)
+class _Index:
+    """A Rig's points and ropes by id (first of any repeated id), for :meth:`Rig.point` / :meth:`Rig.rope`."""
+
+    points: Mapping[str, Point]
+    ropes: Mapping[str, Rope]
+
+    @staticmethod
+    def of(rig: Rig) -> "_Index":
+        points: dict[str, Point] = {}
+        for p in rig.points:
+            points.setdefault(p.id, p)
+        ropes: dict[str, Rope] = {}
+        for r in rig.ropes:
+            ropes.setdefault(r.id, r)
+        return _Index(points, ropes)
