@@ -161,9 +161,11 @@ def bight_triangle(
 def _to_chord_m(p: np.ndarray, b: np.ndarray, c1: np.ndarray, c2: np.ndarray) -> float:
     """Distance (m) from ``p`` along unit vector ``b`` to the chord c1-c2 (to the nearer corner if the chord is a point)."""
     chord = c2 - c1
-    m = np.column_stack([b, -chord])
-    if abs(float(np.linalg.det(m))) > 1e-12 * max(1.0, float(np.hypot(*chord))):
-        t, _ = np.linalg.solve(m, c1 - p)
+    # p + t b = c1 + s chord, a 2 x 2 system [b, -chord] (t, s) = c1 - p, by Cramer's rule
+    det = float(-b[0] * chord[1] + chord[0] * b[1])
+    if abs(det) > 1e-12 * max(1.0, float(np.hypot(*chord))):
+        r = c1 - p
+        t = (-r[0] * chord[1] + chord[0] * r[1]) / det
         return max(0.0, float(t))
     return max(0.0, min(float(np.dot(c1 - p, b)), float(np.dot(c2 - p, b))))
 
