@@ -236,14 +236,16 @@ def check_ropes(rig: Rig, result: Result, pcs: Iterable[Piece] | None = None) ->
         if rope.material not in specs:
             specs[rope.material] = _material(rig, rope.material)
         mat = specs[rope.material]
-        where = f"between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}"
         if mat is None:
             out.append(Warning_("spec-unknown", rope.id,
                                 f"{rope.name}: material '{rope.material}' is not known, so its margin is not checked.",
                                 "warning"))
             continue
-        what = {"sling": "sling", "cord": "cord"}.get(mat.kind, "rope")
         m = _margin(rig, t, float(mat.mbs_N))
+        if m is None:
+            continue
+        what = {"sling": "sling", "cord": "cord"}.get(mat.kind, "rope")
+        where = f"between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}"
         if m == "over":
             out.append(Warning_("rope-over", rope.id,
                                 f"{rope.name} ({what}) carries {_force(rig, t)} {where}, more than its "
@@ -369,14 +371,13 @@ def two_leg_anchors(rig: Rig, result: Result | None,
 def check_wide_anchors(rig: Rig, result: Result | None, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
     """Two-leg anchors with an included angle over 120 degrees (ASME B30.9)."""
     out = []
+    wide = [found for found in two_leg_anchors(rig, result, pcs) if found[3] > WIDE_ANCHOR_DEG]
     tens: dict[frozenset[str], float] = {}
-    if result is not None and result.ok:
+    if wide and result is not None and result.ok:
         for s in result.segments:
             key = frozenset((s.from_point, s.to_point))
             tens[key] = max(tens.get(key, 0.0), float(s.tension_N))
-    for here, a1, a2, ang in two_leg_anchors(rig, result, pcs):
-        if ang <= WIDE_ANCHOR_DEG:
-            continue
+    for here, a1, a2, ang in wide:
         fac = leg_force_factor(ang) if ang < 179.999 else float("inf")
         fac_txt = f"{fac:.2f}" if math.isfinite(fac) else "an unbounded multiple of"
         t1, t2 = tens.get(frozenset((here, a1))), tens.get(frozenset((here, a2)))
@@ -585,20 +586,25 @@ def check_two_blocked(rig: Rig, result: Result, pcs: Iterable[Piece] | None = No
     out: list[Warning_] = []
     if any(w.code == "two-blocked" for w in result.warnings):
         return out  # the solver found it with its own contact model; do not say it twice
-    pts = {p.id: p for p in rig.points}
+    fixed = {p.id: p.is_fixed for p in rig.points}
+    size_of: dict[str, float] = {}  # hardware id -> size (m), each spec looked up once
+
+    def size(hw_id: str | None) -> float:
+        if not hw_id:
+            return 0.0
+        if hw_id not in size_of:
+            hw = _hardware(rig, hw_id)
+            size_of[hw_id] = float(hw.size_m) if hw is not None and hw.size_m else 0.0
+        return size_of[hw_id]
+
     seen = set()
     for pc in pieces(rig, result) if pcs is None else pcs:
-        if pc.a_id == pc.b_id or pc.a_id not in pts or pc.b_id not in pts:
+        if pc.a_id == pc.b_id or pc.a_id not in fixed or pc.b_id not in fixed:
             continue
-        if pts[pc.a_id].is_fixed and pts[pc.b_id].is_fixed:
+        if fixed[pc.a_id] and fixed[pc.b_id]:
             continue
-        sizes = [0.0]
-        for k in (pc.index, pc.index + 1):
-            hw_id = pc.rope.path[k].hardware
-            hw = _hardware(rig, hw_id) if hw_id else None
-            if hw is not None and hw.size_m:
-                sizes.append(float(hw.size_m))
-        if pc.length_m <= max(sizes) + TWO_BLOCK_TOL_M:
+        path = pc.rope.path
+        if pc.length_m <= max(size(path[pc.index].hardware), size(path[pc.index + 1].hardware)) + TWO_BLOCK_TOL_M:
             key = frozenset((pc.a_id, pc.b_id))
             if key in seen:
                 continue
