@@ -21,6 +21,7 @@ from __future__ import annotations
 
 import base64
 import binascii
+import dataclasses
 import gc
 import json
 import logging
@@ -746,6 +747,39 @@ def _convert(value: Any, kind: str) -> Any:
     return value
 
 
+@lru_cache(maxsize=None)
+def _plain_defaults(cls: type) -> tuple[dict[str, Any], frozenset[str]] | None:
+    """(fields with a plain default and their values, fields that must be given) of a frozen dataclass,
+    or None when only its ``__init__`` may build it (it has a ``__post_init__``)."""
+    if hasattr(cls, "__post_init__"):
+        return None
+    defaults: dict[str, Any] = {}
+    needed: set[str] = set()
+    for f in dataclasses.fields(cls):
+        if f.default is not dataclasses.MISSING:
+            defaults[f.name] = f.default
+        else:  # no default, or a default_factory: the caller gives it
+            needed.add(f.name)
+    return defaults, frozenset(needed)
+
+
+def _new(cls: type, kwargs: dict[str, Any]) -> Any:
+    """``cls(**kwargs)`` for a frozen dataclass, filled in one step when every field without a plain
+    default is given (a big rig file has ~80,000 objects; the frozen ``__init__`` sets field by field)."""
+    plain = _plain_defaults(cls)
+    if plain is None or not plain[1] <= kwargs.keys() or not kwargs.keys() <= _field_names(cls):
+        return cls(**kwargs)
+    obj = object.__new__(cls)
+    obj.__dict__.update(plain[0])
+    obj.__dict__.update(kwargs)
+    return obj
+
+
+@lru_cache(maxsize=None)
+def _field_names(cls: type) -> frozenset[str]:
+    return frozenset(f.name for f in dataclasses.fields(cls))
+
+
 def _make(cls: type, d: dict[str, Any], spec: _Spec, where: str, strict: bool, **more: Any) -> Any:
     """The dataclass read from ``d``, remembering the optional keys the file gave at their default.
 
@@ -756,7 +790,7 @@ def _make(cls: type, d: dict[str, Any], spec: _Spec, where: str, strict: bool, *
     at_default: list[str] = []
     kwargs, _ = _from_simple(d, spec, where, strict, at_default)
     kwargs.update(more)
-    obj = cls(**kwargs)
+    obj = _new(cls, kwargs)
     return _remember(obj, at_default) if at_default else obj
 
 
@@ -805,7 +839,7 @@ _PASS_KEYS = frozenset(key for key, _, _ in _PASS)
 def _read_pass(x: dict[str, Any], where: str, j: int, strict: bool) -> m.Pass:
     """One pass of a rope's path; a pass with only known keys (all text) is built directly."""
     if x.keys() <= _PASS_KEYS:
-        ps = m.Pass(**x, extra={})
+        ps = _new(m.Pass, {**x, "extra": {}})
         at_default = [key for key in ("how", "hardware") if key in x and x[key] == (None if key == "hardware"
                                                                                    else "tied")]
         return _remember(ps, at_default) if at_default else ps
@@ -823,7 +857,8 @@ def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
         more["rigged"] = _make(m.Rigging, rg, _RIGGING, f"{where}.rigged", strict)
     kwargs, _ = _from_simple({k: v for k, v in d.items() if k not in ("path", "rigged")}, _ROPE, where, strict)
     kwargs.update(more)
-    rope = m.Rope(**kwargs)
+    kwargs.setdefault("rigged", m.Rigging())
+    rope = _new(m.Rope, kwargs)
     # saving writes label and rigged when set; remember them only when the file gave them at their default
     at_default = [key for key in ("label", "rigged") if key in d and getattr(rope, key) == _ROPE_DEFAULTS[key]]
     return _remember(rope, at_default) if at_default else rope
