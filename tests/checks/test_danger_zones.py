@@ -21,6 +21,7 @@ from solver.danger import (
     bight_zone,
     danger_zones,
     recoil_band,
+    recoil_bands,
     recoil_half_width_m,
     stored_energy_J,
 )
@@ -100,6 +101,15 @@ def test_recoil_band_area_is_2wL_plus_pi_w_squared():
     assert band.area == pytest.approx(2 * w * length + math.pi * w * w, rel=2e-3)
     # same as shapely's own buffer of the segment
     assert band.symmetric_difference(LineString([a, b]).buffer(w)).area < 1e-9
+
+
+def test_recoil_bands_made_together_equal_bands_made_one_by_one():
+    pieces = [((1.0, 2.0), (9.0, 8.0), 1.3), ((0.0, 0.0), (0.0, 0.0), 0.7), ((-3.0, 4.0), (5.0, -1.0), 0.5)]
+    together = recoil_bands(pieces)
+    assert len(together) == len(pieces)
+    for (a, b, w), band in zip(pieces, together):
+        alone = recoil_band(a, b, w)
+        assert band.equals_exact(alone, 0.0), (a, b, w)  # the same vertices, not just the same area
 
 
 def test_triangle_rule_energy_is_exact_for_a_linear_rope():
