@@ -55,6 +55,11 @@ _PLAIN_TYPES: Mapping[str, frozenset[type]] = {
 }
 
 
+_COMPARE: Mapping[str, Callable[[Any, Any], bool]] = {
+    "minimum": lambda v, x: v >= x, "maximum": lambda v, x: v <= x, "exclusiveMinimum": lambda v, x: v > x,
+}
+
+
 def _scalar_equal(a: Any, b: Any) -> bool:
     """JSON equality of two scalars: true/false are not the numbers 1/0, 1 equals 1.0."""
     if isinstance(a, bool) or isinstance(b, bool):
@@ -96,8 +101,7 @@ def compile_schema(schema: Any) -> Check:
         allowed = _scalars(list(schema["enum"]))
         checks.append(lambda v, ws=tuple(allowed): not isinstance(v, (dict, list))
                       and any(_scalar_equal(v, w) for w in ws))
-    for key, cmp in (("minimum", lambda v, x: v >= x), ("maximum", lambda v, x: v <= x),
-                     ("exclusiveMinimum", lambda v, x: v > x)):
+    for key, cmp in _COMPARE.items():
         if key in schema:
             checks.append(lambda v, x=schema[key], c=cmp: not _is_number(v) or c(v, x))
     if "minLength" in schema:
@@ -116,25 +120,9 @@ def compile_schema(schema: Any) -> Check:
 
         checks.append(required)
     if "properties" in schema:
-        # a property whose schema is only a plain type is tested by the value's Python type, no call
-        plain = {k: _PLAIN_TYPES[sub["type"]] for k, sub in schema["properties"].items()
-                 if isinstance(sub, dict) and sub.keys() == {"type"} and sub["type"] in _PLAIN_TYPES}
-        props = {k: compile_schema(sub) for k, sub in schema["properties"].items() if k not in plain}
-
-        def properties(v: Any, plain: dict[str, frozenset[type]] = plain, props: dict[str, Check] = props) -> bool:
-            if isinstance(v, dict):  # walk the value's keys: a point has 4 of the 13 a point may have
-                for k, x in v.items():
-                    types = plain.get(k)
-                    if types is not None:
-                        if type(x) not in types:
-                            return False
-                        continue
-                    check = props.get(k)
-                    if check is not None and not check(x):
-                        return False
-            return True
-
-        checks.append(properties)
+        plain, props = _split_properties(schema["properties"])
+        checks.append(lambda v, plain=plain, props=props: not isinstance(v, dict)
+                      or _properties_hold(v, plain, props))
     prefix = tuple(compile_schema(sub) for sub in schema.get("prefixItems", ()))
     rest = compile_schema(schema["items"]) if "items" in schema else None
     if prefix or rest is not None:
@@ -168,9 +156,26 @@ def compile_schema(schema: Any) -> Check:
 
 # --- one closure for the common shapes (an object of typed fields, a typed number or text) -----------
 
-_COMPARE: Mapping[str, Callable[[Any, Any], bool]] = {
-    "minimum": lambda v, x: v >= x, "maximum": lambda v, x: v <= x, "exclusiveMinimum": lambda v, x: v > x,
-}
+
+def _split_properties(subs: Mapping[str, Any]) -> tuple[dict[str, frozenset[type]], dict[str, Check]]:
+    """Property schemas as (key -> Python types, for a schema that is only a plain type; key -> test, the rest)."""
+    plain = {k: _PLAIN_TYPES[sub["type"]] for k, sub in subs.items()
+             if isinstance(sub, dict) and sub.keys() == {"type"} and sub["type"] in _PLAIN_TYPES}
+    return plain, {k: compile_schema(sub) for k, sub in subs.items() if k not in plain}
+
+
+def _properties_hold(v: dict, plain: dict[str, frozenset[type]], props: dict[str, Check]) -> bool:
+    """Every key of ``v`` that has a schema meets it (walks the value's keys: a point has 4 of its 13)."""
+    for k, x in v.items():
+        types = plain.get(k)
+        if types is not None:
+            if type(x) not in types:
+                return False
+            continue
+        check = props.get(k)
+        if check is not None and not check(x):
+            return False
+    return True
 
 
 def _leaf_check(schema: dict[str, Any]) -> Check | None:
@@ -201,10 +206,7 @@ def _object_check(schema: dict[str, Any]) -> Check | None:
     if schema.get("type") != "object" or set(schema) - _ANNOTATIONS - {"type", "required", "properties"}:
         return None
     required = tuple(schema.get("required", ()))
-    subs = schema.get("properties", {})
-    plain = {k: _PLAIN_TYPES[sub["type"]] for k, sub in subs.items()
-             if isinstance(sub, dict) and sub.keys() == {"type"} and sub["type"] in _PLAIN_TYPES}
-    props = {k: compile_schema(sub) for k, sub in subs.items() if k not in plain}
+    plain, props = _split_properties(schema.get("properties", {}))
 
     def obj(v: Any) -> bool:
         if type(v) is not dict:
@@ -212,16 +214,7 @@ def _object_check(schema: dict[str, Any]) -> Check | None:
         for k in required:
             if k not in v:
                 return False
-        for k, x in v.items():
-            types = plain.get(k)
-            if types is not None:
-                if type(x) not in types:
-                    return False
-                continue
-            check = props.get(k)
-            if check is not None and not check(x):
-                return False
-        return True
+        return _properties_hold(v, plain, props)
 
     def _slow_object(v: Any) -> bool:
         return obj(dict(v))
