@@ -21,8 +21,6 @@ from __future__ import annotations
 
 import base64
 import binascii
-import dataclasses
-import gc
 import json
 import logging
 import math
@@ -31,16 +29,18 @@ import os
 import pathlib
 import posixpath
 import tempfile
-import threading
 import weakref
-from contextlib import contextmanager
 from dataclasses import replace
 from functools import lru_cache
-from importlib import resources
-from typing import Any, Callable, Iterable, Iterator, Mapping, Sequence
+from typing import Any, Callable, Iterable, Mapping, Sequence
 
 from solver import materials
 from solver import model as m
+from solver.bulk_read import collector_paused, filled, plain_data_ok
+from solver.rigfile_schema import check_schema as _check_schema
+from solver.rigfile_schema import field_path as _where
+from solver.rigfile_schema import schema  # noqa: F401 - part of this module's API (__all__)
+from solver.rigfile_schema import show_value as _show
 from solver.errors import RigFileError
 
 log = logging.getLogger(__name__)
@@ -151,39 +151,9 @@ def loads_rig(text: str | bytes, base_dir: str | os.PathLike[str] | None = None,
             raise _too_big(size)
     if text.startswith("\ufeff"):  # a byte-order mark some editors add
         text = text[1:]
-    with _collector_paused():  # parsing and building allocate an object per JSON value, freed by refcount
+    with collector_paused():  # parsing and building allocate an object per JSON value, freed by refcount
         data = _parse_json(text)
         return rig_from_dict(data, strict=strict, base_dir=base_dir)
-
-
-_gc_lock = threading.Lock()
-_gc_pauses = 0  # loads under way with the collector paused
-_gc_resume = False  # whether the first of them found it enabled
-
-
-@contextmanager
-def _collector_paused() -> Iterator[None]:
-    """Automatic cyclic garbage collection off while a rig is read, back as it was after.
-
-    A 10,000-point rig file makes ~300,000 containers; the collector would otherwise run a
-    few hundred young and several full collections over them (about half the load time).
-    Nothing read makes reference cycles, so reference counting frees it all the same.
-    Thread-safe: concurrent loads count themselves, and the last one out restores the state
-    the first one found.
-    """
-    global _gc_pauses, _gc_resume
-    with _gc_lock:
-        if _gc_pauses == 0:
-            _gc_resume = gc.isenabled()
-            gc.disable()
-        _gc_pauses += 1
-    try:
-        yield
-    finally:
-        with _gc_lock:
-            _gc_pauses -= 1
-            if _gc_pauses == 0 and _gc_resume:
-                gc.enable()
 
 
 def rig_from_dict(d: Any, strict: bool = False, *, base_dir: str | os.PathLike[str] | None = None) -> m.Rig:
@@ -428,27 +398,6 @@ def _kind_of(value: Any) -> str:
     return type(value).__name__
 
 
-def _show(value: Any, limit: int = 40) -> str:
-    """A value as a person would type it in the file, shortened."""
-    if isinstance(value, float) and not math.isfinite(value):
-        return "NaN" if math.isnan(value) else ("Infinity" if value > 0 else "-Infinity")
-    try:
-        s = json.dumps(value, ensure_ascii=False)
-    except (TypeError, ValueError):
-        s = repr(value)
-    return s if len(s) <= limit else s[: limit - 1] + "…"
-
-
-def _where(path: Iterable[Any]) -> str:
-    out = ""
-    for part in path:
-        if isinstance(part, int):
-            out += f"[{part}]"
-        else:
-            out += f".{part}" if out else str(part)
-    return out or "(top level)"
-
-
 # --------------------------------------------------------------------------------------
 # Checks on the parsed dict
 
@@ -485,7 +434,7 @@ def _check_plain_data(d: Any) -> None:
     A quick walk that keeps no field paths answers first; only a file it finds a problem
     in is walked again with paths, to name the place.
     """
-    if _plain_data_ok(d):
+    if plain_data_ok(d, _DUPLICATE):
         return
     stack: list[tuple[Any, tuple[Any, ...]]] = [(d, ())]
     while stack:
@@ -513,186 +462,11 @@ def _check_plain_data(d: Any) -> None:
             _check_text(value, path)
 
 
-def _plain_data_ok(d: Any) -> bool:
-    """True when :func:`_check_plain_data` has nothing to say about ``d`` (no paths kept: fast)."""
-    stack = [d]
-    pop, extend = stack.pop, stack.extend
-    isfinite = math.isfinite
-    while stack:
-        value = pop()
-        kind = type(value)
-        if kind is dict:
-            if _DUPLICATE in value:
-                return False
-            for k in value:
-                if not k.isascii() and not _encodes(k):
-                    return False
-            extend(value.values())
-        elif kind is list:
-            extend(value)
-        elif kind is float:
-            if not isfinite(value):
-                return False
-        elif kind is str:
-            if not value.isascii() and not _encodes(value):
-                return False
-        elif kind is int:
-            if abs(value) > 1e300:
-                return False
-        elif kind is not bool and value is not None:
-            return False  # not a type JSON makes: let the full walk decide
-    return True
-
-
-def _encodes(s: str) -> bool:
-    try:
-        s.encode("utf-8")
-    except UnicodeEncodeError:
-        return False
-    return True
-
-
 def _check_text(s: str, path: tuple[Any, ...]) -> None:
     try:
         s.encode("utf-8")
     except UnicodeEncodeError:
         raise RigFileError("holds a broken \\u escape (half of a character pair)", where=_where(path)) from None
-
-
-@lru_cache(maxsize=1)
-def _validator() -> Any:
-    import jsonschema
-
-    text = resources.files("solver").joinpath("schema/rig-v1.schema.json").read_text(encoding="utf-8")
-    schema = json.loads(text)
-    cls = jsonschema.Draft202012Validator
-    cls.check_schema(schema)
-    return cls(_inline_refs(schema, schema.get("$defs", {})))
-
-
-@lru_cache(maxsize=1)
-def _gate() -> Callable[[Any], bool] | None:
-    """The schema compiled to a fast valid-or-not test (:mod:`solver.schema_gate`), or None if it cannot be."""
-    from solver.schema_gate import Unsupported, compile_schema
-
-    s = schema()
-    try:
-        return compile_schema(_inline_refs(s, s.get("$defs", {})))
-    except Unsupported as exc:  # a schema keyword the gate lacks: every file goes through jsonschema
-        log.warning("rig schema uses %s: validating with jsonschema only", exc)
-        return None
-
-
-def _inline_refs(node: Any, defs: Mapping[str, Any]) -> Any:
-    """The schema with every local ``{"$ref": "#/$defs/x"}`` replaced by its definition.
-
-    The rig schema is not recursive, so this is finite; it spares the validator a
-    reference look-up per object (about half its time on a large rig).
-    """
-    if isinstance(node, dict):
-        ref = node.get("$ref")
-        if isinstance(ref, str) and ref.startswith("#/$defs/") and len(node) == 1:
-            return _inline_refs(defs[ref[len("#/$defs/"):]], defs)
-        return {k: _inline_refs(v, defs) for k, v in node.items() if k != "$defs"}
-    if isinstance(node, list):
-        return [_inline_refs(v, defs) for v in node]
-    return node
-
-
-def schema() -> dict[str, Any]:
-    """The JSON Schema (draft 2020-12) of a version-1 rig file."""
-    text = resources.files("solver").joinpath("schema/rig-v1.schema.json").read_text(encoding="utf-8")
-    return json.loads(text)
-
-
-_NOUNS = {"points": "point", "ropes": "rope", "path": "pass", "materials": "material",
-          "hardware": "hardware spec", "forces": "force", "features": "site feature", "image": "site image",
-          "stretch": "stretch point"}
-_TYPE_WORDS = {"number": "a number", "integer": "a whole number", "string": "text in double quotes",
-               "array": "a list [...]", "object": "an object {...}", "boolean": "true or false", "null": "null"}
-
-
-def _noun_for(path: Sequence[Any]) -> str:
-    for part in reversed(path):
-        if isinstance(part, str):
-            return _NOUNS.get(part, part)
-    return "rig file"
-
-
-def _check_schema(d: dict[str, Any]) -> None:
-    """Raise the best-matching schema error in a rigger's words; a file the fast gate passes is valid as is."""
-    gate = _gate()
-    if gate is not None and gate(d):
-        return
-    from jsonschema.exceptions import best_match
-
-    errors = list(_validator().iter_errors(d))
-    if not errors:
-        return
-    err = best_match(errors)
-    where, message = _translate(err)
-    if len(errors) > 1:
-        more = len(errors) - 1
-        message += f" (and {more} more problem{'s' if more > 1 else ''} in the file)"
-    raise RigFileError(message, where=where)
-
-
-def _translate(err: Any) -> tuple[str, str]:
-    """A jsonschema error as (field path, message in a rigger's words)."""
-    path = list(err.absolute_path)
-    kw = err.validator
-    val = err.validator_value
-    inst = err.instance
-    where = _where(path)
-    if kw == "type":
-        wanted = [val] if isinstance(val, str) else list(val)
-        words = " or ".join(_TYPE_WORDS.get(w, w) for w in wanted)
-        msg = f"must be {words}, got {_show(inst)}"
-        if "number" in wanted and isinstance(inst, str):
-            fixed = inst.strip().replace(",", ".", 1) if inst.count(",") == 1 else inst.strip()
-            try:
-                num = float(fixed)
-            except ValueError:
-                pass
-            else:
-                if math.isfinite(num):
-                    msg += f" (write {fixed} with a decimal point and no quotes)"
-        return where, msg
-    if kw == "required":
-        missing = [k for k in val if isinstance(inst, dict) and k not in inst]
-        key = missing[0] if missing else val[0]
-        noun = _noun_for(path)
-        needs = ", ".join(val[:-1]) + f" and {val[-1]}" if len(val) > 1 else val[0]
-        return _where(path + [key]), f"is missing (every {noun} needs {needs})"
-    if kw == "enum":
-        choices = ", ".join(_show(c) for c in val)
-        return where, f"must be one of {choices}; got {_show(inst)}"
-    if kw == "const":
-        return where, f"must be {_show(val)}, got {_show(inst)}"
-    if kw == "minimum":
-        return where, f"must be at least {val:g}, got {_show(inst)}"
-    if kw == "exclusiveMinimum":
-        return where, f"must be more than {val:g}, got {_show(inst)}"
-    if kw == "maximum":
-        return where, f"must be at most {val:g}, got {_show(inst)}"
-    if kw == "exclusiveMaximum":
-        return where, f"must be less than {val:g}, got {_show(inst)}"
-    if kw in ("minItems", "maxItems", "items") and _is_pair_schema(err):
-        return where, f"must be a pair of numbers [x, y], got {_show(inst)}"
-    if kw == "minItems":
-        if path and path[-1] == "path":
-            return where, (f"a rope needs at least {val} passes (where it starts and where it ends); "
-                           f"this one has {len(inst)}")
-        item = _NOUNS.get(str(path[-1]), "item") if path else "item"
-        return where, f"needs at least {val} {item}{'s' if val != 1 else ''}, has {len(inst)}"
-    if kw == "minLength":
-        return where, "must not be empty"
-    return where, f"is not valid here ({_show(inst)})"
-
-
-def _is_pair_schema(err: Any) -> bool:
-    sch = err.schema if isinstance(err.schema, dict) else {}
-    return "prefixItems" in sch or sch is False
 
 
 # --------------------------------------------------------------------------------------
@@ -747,39 +521,6 @@ def _convert(value: Any, kind: str) -> Any:
     return value
 
 
-@lru_cache(maxsize=None)
-def _plain_defaults(cls: type) -> tuple[dict[str, Any], frozenset[str]] | None:
-    """(fields with a plain default and their values, fields that must be given) of a frozen dataclass,
-    or None when only its ``__init__`` may build it (it has a ``__post_init__``)."""
-    if hasattr(cls, "__post_init__"):
-        return None
-    defaults: dict[str, Any] = {}
-    needed: set[str] = set()
-    for f in dataclasses.fields(cls):
-        if f.default is not dataclasses.MISSING:
-            defaults[f.name] = f.default
-        else:  # no default, or a default_factory: the caller gives it
-            needed.add(f.name)
-    return defaults, frozenset(needed)
-
-
-def _new(cls: type, kwargs: dict[str, Any]) -> Any:
-    """``cls(**kwargs)`` for a frozen dataclass, filled in one step when every field without a plain
-    default is given (a big rig file has ~80,000 objects; the frozen ``__init__`` sets field by field)."""
-    plain = _plain_defaults(cls)
-    if plain is None or not plain[1] <= kwargs.keys() or not kwargs.keys() <= _field_names(cls):
-        return cls(**kwargs)
-    obj = object.__new__(cls)
-    obj.__dict__.update(plain[0])
-    obj.__dict__.update(kwargs)
-    return obj
-
-
-@lru_cache(maxsize=None)
-def _field_names(cls: type) -> frozenset[str]:
-    return frozenset(f.name for f in dataclasses.fields(cls))
-
-
 def _make(cls: type, d: dict[str, Any], spec: _Spec, where: str, strict: bool, **more: Any) -> Any:
     """The dataclass read from ``d``, remembering the optional keys the file gave at their default.
 
@@ -790,7 +531,7 @@ def _make(cls: type, d: dict[str, Any], spec: _Spec, where: str, strict: bool, *
     at_default: list[str] = []
     kwargs, _ = _from_simple(d, spec, where, strict, at_default)
     kwargs.update(more)
-    obj = _new(cls, kwargs)
+    obj = filled(cls, kwargs)
     return _remember(obj, at_default) if at_default else obj
 
 
@@ -839,7 +580,7 @@ _PASS_KEYS = frozenset(key for key, _, _ in _PASS)
 def _read_pass(x: dict[str, Any], where: str, j: int, strict: bool) -> m.Pass:
     """One pass of a rope's path; a pass with only known keys (all text) is built directly."""
     if x.keys() <= _PASS_KEYS:
-        ps = _new(m.Pass, {**x, "extra": {}})
+        ps = filled(m.Pass, {**x, "extra": {}})
         at_default = [key for key in ("how", "hardware") if key in x and x[key] == (None if key == "hardware"
                                                                                    else "tied")]
         return _remember(ps, at_default) if at_default else ps
@@ -858,7 +599,7 @@ def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
     kwargs, _ = _from_simple({k: v for k, v in d.items() if k not in ("path", "rigged")}, _ROPE, where, strict)
     kwargs.update(more)
     kwargs.setdefault("rigged", m.Rigging())
-    rope = _new(m.Rope, kwargs)
+    rope = filled(m.Rope, kwargs)
     # saving writes label and rigged when set; remember them only when the file gave them at their default
     at_default = [key for key in ("label", "rigged") if key in d and getattr(rope, key) == _ROPE_DEFAULTS[key]]
     return _remember(rope, at_default) if at_default else rope

@@ -6,7 +6,9 @@ import dataclasses
 
 from solver import model as m
 from solver import rigfile
-from solver.rigfile import _new, _plain_data_ok, _read_pass
+from solver.bulk_read import filled
+from solver.bulk_read import plain_data_ok
+from solver.rigfile import _DUPLICATE, _read_pass
 
 
 def test_filled_dataclasses_equal_their_init():
@@ -18,7 +20,7 @@ def test_filled_dataclasses_equal_their_init():
                   "extra": {}}),
     ]
     for cls, kwargs in cases:
-        fast, plain = _new(cls, dict(kwargs)), cls(**kwargs)
+        fast, plain = filled(cls, dict(kwargs)), cls(**kwargs)
         assert type(fast) is cls and fast == plain and repr(fast) == repr(plain)
         assert {f.name: getattr(fast, f.name) for f in dataclasses.fields(cls)} == \
                {f.name: getattr(plain, f.name) for f in dataclasses.fields(cls)}
@@ -26,10 +28,10 @@ def test_filled_dataclasses_equal_their_init():
 
 def test_a_missing_field_or_an_unknown_one_goes_through_init():
     # Rope without "extra" (a default_factory field): __init__ makes a fresh dict
-    rope = _new(m.Rope, {"id": "r", "material": "kern-11", "path": (), "rigged": m.Rigging()})
+    rope = filled(m.Rope, {"id": "r", "material": "kern-11", "path": (), "rigged": m.Rigging()})
     assert rope.extra == {} and rope == m.Rope("r", "kern-11", ())
     try:
-        _new(m.Pass, {"at": "A", "nonsense": 1, "extra": {}})
+        filled(m.Pass, {"at": "A", "nonsense": 1, "extra": {}})
     except TypeError:
         pass  # the dataclass's own complaint, as cls(**kwargs) gives it
     else:
@@ -45,7 +47,7 @@ def test_a_class_with_post_init_is_built_by_its_init():
         def __post_init__(self):
             self.seen.append(self.x)
 
-    obj = _new(Checked, {"x": 1.0, "seen": []})
+    obj = filled(Checked, {"x": 1.0, "seen": []})
     assert obj.seen == [1.0]
 
 
@@ -58,6 +60,7 @@ def test_a_pass_read_directly_equals_one_read_field_by_field():
 
 
 def test_the_quick_plain_data_walk_finds_what_the_full_walk_reports():
-    assert _plain_data_ok({"a": [1, 2.5, "x", None, True, {"b": "é"}]})
+    assert plain_data_ok({"a": [1, 2.5, "x", None, True, {"b": "é"}]}, _DUPLICATE)
+    assert not plain_data_ok({"a": 1, _DUPLICATE: "a"}, _DUPLICATE)
     for bad in ({"a": float("nan")}, {"a": [float("inf")]}, {"a": 10**301}, {"a": "\ud800"}, {"\ud800": 1}):
-        assert not _plain_data_ok(bad)
+        assert not plain_data_ok(bad, _DUPLICATE)

@@ -16,17 +16,17 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from solver import rigfile
+from solver import rigfile_schema
 from solver.schema_gate import Unsupported, compile_schema
 from tests.solver.test_rigfile_fuzz import SAMPLE_DOCS, _mutate
 
 
 def _jsonschema_says_valid(doc) -> bool:
-    return not any(True for _ in rigfile._validator().iter_errors(doc))
+    return not any(True for _ in rigfile_schema.validator().iter_errors(doc))
 
 
 def test_every_sample_passes_both():
-    gate = rigfile._gate()
+    gate = rigfile_schema.gate()
     assert gate is not None
     for doc in SAMPLE_DOCS:
         assert gate(doc) and _jsonschema_says_valid(doc)
@@ -38,7 +38,7 @@ def test_a_mutated_sample_gets_the_same_answer_from_both(data):
     doc = json.loads(json.dumps(data.draw(st.sampled_from(SAMPLE_DOCS))))
     for _ in range(data.draw(st.integers(1, 4))):
         _mutate(data, doc)
-    assert rigfile._gate()(doc) == _jsonschema_says_valid(doc)
+    assert rigfile_schema.gate()(doc) == _jsonschema_says_valid(doc)
 
 
 @pytest.mark.parametrize("schema, value", [
