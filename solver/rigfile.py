@@ -153,7 +153,9 @@ def loads_rig(text: str | bytes, base_dir: str | os.PathLike[str] | None = None,
         text = text[1:]
     with collector_paused():  # parsing and building allocate an object per JSON value, freed by refcount
         data = _parse_json(text)
-        return rig_from_dict(data, strict=strict, base_dir=base_dir)
+        rig = rig_from_dict(data, strict=strict, base_dir=base_dir)
+        del data  # the parsed tree freed before the collector's next pass would walk it
+    return rig
 
 
 def rig_from_dict(d: Any, strict: bool = False, *, base_dir: str | os.PathLike[str] | None = None) -> m.Rig:
