@@ -8,8 +8,8 @@ helpers here (``with_point``, ``without_point`` ...), which keeps undo simple
 
 from __future__ import annotations
 
+import threading
 from dataclasses import dataclass, field, replace
-from functools import cached_property
 from typing import Any, Iterator, Literal, Mapping
 
 PointKind = Literal["anchor", "load", "haul", "point", "person"]
@@ -27,6 +27,10 @@ FORCE_UNITS: tuple[str, ...] = ("N", "kN", "lbf")
 
 #: Kinds that are fixed unless the file says ``"fixed": false``.
 FIXED_BY_DEFAULT: frozenset[str] = frozenset({"anchor", "load", "haul"})
+
+#: Where a Rig keeps its id index (``Rig._index``), and the lock it is built under.
+_INDEX_KEY = "_id_index"
+_INDEX_LOCK = threading.Lock()
 
 #: Standard gravity, m/s^2 (NIST SP 811 / CGPM 1901).
 STANDARD_GRAVITY = 9.80665
@@ -276,17 +280,24 @@ class Rig:
     extra: Mapping[str, Any] = field(default_factory=dict)  # unknown top-level keys, kept
 
     # --- look-ups -----------------------------------------------------------------
-    @cached_property
+    @property
     def _index(self) -> "_Index":
         """Points and ropes by id, built once per Rig on first look-up (the Rig is immutable).
 
-        ``cached_property`` writes straight into the instance ``__dict__`` (so a frozen
-        dataclass takes it) under a lock, and a Rig made by ``replace`` starts without one:
-        two threads looking up ids at once build it once and share it.  Not a field: equality,
-        hashing, ``repr`` and saving never see it.  A list with an id given twice keeps its
-        first (what the linear search found); rig files refuse duplicates anyway.
+        Kept in the instance ``__dict__`` under ``_INDEX_KEY`` (a frozen dataclass allows that), built
+        under a lock so that threads looking up at once build it once and share it; a Rig made by
+        ``replace`` starts without one.  Not a field: equality, hashing, ``repr`` and saving never see
+        it.  A list with an id given twice keeps its first (what a linear search finds); rig files
+        refuse duplicates anyway.
         """
-        return _Index.of(self)
+        index = self.__dict__.get(_INDEX_KEY)
+        if index is None:
+            with _INDEX_LOCK:
+                index = self.__dict__.get(_INDEX_KEY)
+                if index is None:
+                    index = _Index.of(self)
+                    self.__dict__[_INDEX_KEY] = index
+        return index
 
     def point(self, point_id: str) -> Point:
         """The point with this id (KeyError if there is none), by the Rig's id index: O(1)."""
