@@ -598,8 +598,8 @@ def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
             raise RigFileError("give slack_m or pretension_N, not both: a run is either hand-tight plus slack, "
                                "or tensioned", where=f"{where}.rigged")
         more["rigged"] = _make(m.Rigging, rg, _RIGGING, f"{where}.rigged", strict)
-    kwargs, _ = _from_simple({k: v for k, v in d.items() if k not in ("path", "rigged")}, _ROPE, where, strict)
-    kwargs.update(more)
+    kwargs, _ = _from_simple(d, _ROPE_READ, where, strict)
+    kwargs.update(more)  # path and rigged as read above
     kwargs.setdefault("rigged", m.Rigging())
     rope = filled(m.Rope, kwargs)
     # saving writes label and rigged when set; remember them only when the file gave them at their default
@@ -608,6 +608,8 @@ def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
 
 
 _ROPE_DEFAULTS: dict[str, Any] = {"label": "", "rigged": m.Rigging()}
+#: A rope's keys as _from_simple reads them: path and rigged known (not extra), each read on its own.
+_ROPE_READ: _Spec = _ROPE + (("path", "str", _REQUIRED), ("rigged", "str", None))
 
 
 # --------------------------------------------------------------------------------------
