@@ -360,6 +360,26 @@ def paint_ramp(painter: QPainter, rect: QRectF, grey: bool = False) -> float:
     return ramp.bottom() + 3 + fm.height() - rect.top()
 
 
+def paint_zone_key(painter: QPainter, left: QPointF, zones: Iterable = ()) -> float:
+    """Swatches of the danger-zone kinds drawn (computed failure areas once scanned); returns the height used."""
+    fm = QFontMetricsF(page_font(SMALL_PT))
+    x, y = left.x(), left.y()
+    painter.setFont(page_font(SMALL_PT))
+    computed = any(z.kind == "failure" for z in zones)
+    for kind, name in (theme.COMPUTED_ZONE_NAMES if computed else theme.DRAWN_ZONE_NAMES):
+        fill, hatch = theme.zone_brushes(kind)
+        box = QRectF(x, y + 1, 16, fm.height() - 2)
+        painter.setPen(theme.pixel_pen(theme.ZONE_COLOURS[kind], 1.0))
+        painter.setBrush(fill)
+        painter.drawRect(box)
+        painter.setBrush(hatch)
+        painter.drawRect(box)
+        painter.setPen(INK)
+        painter.drawText(QPointF(x + 20, y + fm.ascent()), name)
+        x += 20 + fm.horizontalAdvance(name) + 14
+    return fm.height() + 2
+
+
 def rope_lines(rig: Rig) -> list[tuple[QColor, str]]:
     """(colour, "name: material") of every rope, in the order and colours the canvas uses."""
     from solver.materials import material_for
@@ -463,6 +483,8 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
     y += paint_rope_key(painter, QRectF(x, y, w, 0), rig) + 6
     if result.ok:
         y += paint_ramp(painter, QRectF(x, y, w, 0)) + 4
+        if any(z.kind == "failure" for z in drawing.zones):  # computed failure areas: not in the symbol key
+            y += paint_zone_key(painter, QPointF(x, y), drawing.zones) + 4
     # caution at the bottom; warnings fill what is left above it
     caution_h = wrap_text(painter, QRectF(x, 0, w, 0), caution, page_font(SMALL_PT, italic=True), draw=False)
     bottom = inner.bottom() - caution_h - 6
@@ -506,7 +528,10 @@ def paint_key_strip(painter: QPainter, rect: QRectF, drawing: Drawing) -> None:
                              rig.display.length) + 24
     ramp_w = 200.0
     if drawing.result.ok:
-        paint_ramp(painter, QRectF(rect.right() - ramp_w, y, ramp_w, 0))
+        rx = rect.right() - ramp_w
+        h = paint_ramp(painter, QRectF(rx, y, ramp_w, 0))
+        if any(z.kind == "failure" for z in drawing.zones):  # computed failure areas: not in the symbol key
+            paint_zone_key(painter, QPointF(rx, y + h + 2), drawing.zones)
     paint_symbol_key(painter, QRectF(rect.left(), y + s + fm.height() + 4, rect.width(), 0))
     painter.restore()
 

@@ -108,6 +108,9 @@ class MainWindow(QMainWindow):
         from sketchpad.templates_ui import install_rigging_kit
 
         self.kit = install_rigging_kit(self)  # Insert ▸ System, load estimate, spec library (issue 6)
+        from sketchpad.whatif_panel import install_what_if
+
+        self.what_if = install_what_if(self)  # What if: the failure scan dock and its ghost (issue 19)
         from sketchpad.pages.app_ui import install_pages
 
         self.pages = install_pages(self)  # print frame, schematic, rope lengths, roles, briefing, manual (issue 21)

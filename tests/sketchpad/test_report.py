@@ -12,6 +12,7 @@ import re
 import unicodedata
 from dataclasses import replace
 
+import pypdf
 import pytest
 
 from solver.analysis import analyse
@@ -24,7 +25,6 @@ from solver.units import format_force, format_length
 from tests.conftest import SAMPLES
 from tests.sketchpad.test_export import LOOSE_RIG
 
-pypdf = pytest.importorskip("pypdf")
 
 RAFT = SAMPLES / "raft-3to1-redirect.rig.json"
 
@@ -129,7 +129,8 @@ def test_report_is_a_few_pages_with_a_plot(raft_report):
     from sketchpad.report import PAGES_WANTED
 
     rig, result, report, text = raft_report
-    assert report.pages <= PAGES_WANTED  # with the schematic, roles, rope lengths and gear list: three
+    # forces, the plot, "If something lets go" (issue 19), the schematic, roles, rope lengths and gear (issue 21)
+    assert report.pages <= PAGES_WANTED + 1
     assert len(pypdf.PdfReader(report.path).pages) == report.pages
     assert f"page {report.pages} of {report.pages}" in text
     assert "Mechanical advantage and peak anchor load as the haul force" in text
@@ -223,3 +224,14 @@ def test_a_working_load_anchor_is_named_and_its_margin_is_the_share_used(qapp, t
     text = pdf_text(out)
     assert "working load" in text and "rated working load" in text  # table and the assumptions
     assert "nominal 3:1" in text  # the three MAs, each named
+
+
+def test_report_has_the_if_something_lets_go_table_with_each_failure(raft_report):
+    from solver.failures import components
+
+    rig, result, report, text = raft_report
+    assert "If something lets go" in text
+    for c in components(rig):  # every component is named in a row (rows with the same outcome are shared)
+        assert f"{c.id} ({c.kind})" in text
+    assert "estimates without damping" in text
+    assert "Ropewright's own choices" in text  # the zone constants that remain, labelled as ours
