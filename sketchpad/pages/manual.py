@@ -40,6 +40,7 @@ class Chapter:
     pages: int = 0
     first_page: int = 0
     drawing: object = None
+    failures: object = None  # the report's "If something lets go" section (sketchpad.report_failures)
 
 
 @dataclass
@@ -100,7 +101,12 @@ def _measure(writer, content: QRectF, chapter: Chapter, when: str) -> None:
     from sketchpad.export import Drawing
     from sketchpad.report import LAYOUTS, PAGES_WANTED, Flow, _compose, haul_sweep, plot_caption, plot_image
 
+    from sketchpad.report_failures import failure_section
+
     chapter.drawing = Drawing(chapter.rig, chapter.result, chapter.rig_dir)
+    chapter.failures = failure_section(chapter.rig, chapter.result)
+    if chapter.failures is not None:
+        chapter.failures.draw_zones_on(chapter.drawing)
     table, drawn, words = haul_sweep(chapter.rig) if chapter.result.ok else (None, 0.0, "")
     stand_in = None
     if chapter.result.ok:
@@ -108,7 +114,8 @@ def _measure(writer, content: QRectF, chapter: Chapter, when: str) -> None:
                                                          plot_caption(chapter.rig, table, drawn, words))
     for sizes in LAYOUTS:
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
-        _compose(counter, chapter.rig, chapter.result, chapter.drawing, when, chapter.source, stand_in, sizes)
+        _compose(counter, chapter.rig, chapter.result, chapter.drawing, when, chapter.source, stand_in, sizes,
+                 chapter.failures)
         chapter.pages, chapter.sizes = counter.finish(), sizes
         if chapter.pages <= PAGES_WANTED:
             break
@@ -221,7 +228,7 @@ def write_manual(chapters: list[Chapter], path: pathlib.Path | str, title: str =
             writer.newPage()
             flow = Flow(writer, painter, content, footer_for(ch.title), writer.newPage)
             flow.page = ch.first_page
-            _compose(flow, ch.rig, ch.result, ch.drawing, when, ch.source, ch.plot, ch.sizes)
+            _compose(flow, ch.rig, ch.result, ch.drawing, when, ch.source, ch.plot, ch.sizes, ch.failures)
             last = flow.finish()
             if last != ch.first_page + ch.pages - 1:
                 raise ExportError(f"the manual's page count changed while writing {ch.title}; nothing usable was written")

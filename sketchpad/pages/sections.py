@@ -109,9 +109,9 @@ def add_sections(flow, rig: Rig, result: Result | None) -> None:
     from sketchpad.export import page_font
     from sketchpad.pages.schematic import caption
 
-    flow.heading("Schematic: strands side by side, tensions in units of the haul force (T)")
     h = schematic_block_height(flow.width)
-    flow.need(h)
+    flow.need(h + 40)  # the heading stays with its figure
+    flow.heading("Schematic: strands side by side, tensions in units of the haul force (T)")
     flow.block(h, lambda p, r: paint_schematic_block(p, r, rig, result))
     flow.y += 3
     flow.text(caption(rig, result), page_font(7.5, italic=True))
