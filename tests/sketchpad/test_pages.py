@@ -307,3 +307,23 @@ def test_schematic_render_writes_every_format(qapp, tmp_path):
     assert colours and all(c[0:2] == c[2:4] == c[4:6] for c in colours)
     text = norm(" ".join(page_texts(tmp_path / "s.pdf")))
     assert "3T" in text and has_key(text)
+
+
+def test_greyscale_pdf_pages_render_without_colour(qapp, tmp_path):
+    """Rasterised by poppler's pdftoppm (an independent PDF renderer): a --greyscale briefing has no colour
+    at all, the colour one has some."""
+    import shutil
+    import subprocess
+
+    if shutil.which("pdftoppm") is None:
+        pytest.skip("poppler-utils (pdftoppm) is not installed")
+    spread = {}
+    for grey in (True, False):
+        out = tmp_path / f"brief-{grey}.pdf"
+        assert main(["brief", str(RAFT), "-o", str(out)] + (["--greyscale"] if grey else [])) == 0
+        subprocess.run(["pdftoppm", "-png", "-r", "30", str(out), str(tmp_path / f"p{grey}")], check=True)
+        image = QImage(str(next(tmp_path.glob(f"p{grey}*.png"))))
+        spread[grey] = max(max(c.red(), c.green(), c.blue()) - min(c.red(), c.green(), c.blue())
+                           for c in (image.pixelColor(x, y) for x in range(0, image.width(), 2)
+                                     for y in range(0, image.height(), 2)))
+    assert spread[True] == 0 and spread[False] > 60
