@@ -240,10 +240,11 @@ def write_manual(chapters: list[Chapter], path: pathlib.Path | str, title: str =
 
 
 def manual_cli(args) -> int:
-    """``ropewright manual RIG... -o OUT.pdf [--title T] [--greyscale]``: exit 0 written, 2 bad input or a file unread."""
+    """``ropewright manual RIG... -o OUT.pdf [--title T] [--greyscale]``: exit 0 written, 2 bad input or a file unread,
+    3 written but a rig did not solve (its pages say so)."""
     import sys
 
-    from sketchpad.export import EXIT_BAD_INPUT, EXIT_OK, ExportError
+    from sketchpad.export import EXIT_BAD_INPUT, EXIT_OK, EXIT_SOLVE_FAILED, ExportError
 
     def say(done: int, total: int, what: str) -> None:
         if not args.no_progress:
@@ -258,10 +259,11 @@ def manual_cli(args) -> int:
         print(f"ropewright manual: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
     failed = [ch.title for ch in chapters if not ch.result.ok]
-    if failed:
-        print(f"ropewright manual: these rigs did not solve; their pages say so and give no forces: "
-              f"{'; '.join(failed)}", file=sys.stderr)
     print(f"wrote {args.output}: {manual.pages} pages, {len(chapters)} rigs")
+    if failed:
+        print(f"ropewright manual: wrote {args.output}, but these rigs did not solve; their pages say so and give "
+              f"no forces: {'; '.join(failed)}", file=sys.stderr)
+        return EXIT_SOLVE_FAILED
     return EXIT_OK
 
 

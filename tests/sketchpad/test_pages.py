@@ -327,3 +327,20 @@ def test_greyscale_pdf_pages_render_without_colour(qapp, tmp_path):
                            for c in (image.pixelColor(x, y) for x in range(0, image.width(), 2)
                                      for y in range(0, image.height(), 2)))
     assert spread[True] == 0 and spread[False] > 60
+
+
+def test_a_rig_that_does_not_solve_gets_pages_that_say_so(qapp, tmp_path, capsys):
+    import json
+
+    from tests.sketchpad.test_export import LOOSE_RIG
+
+    loose = tmp_path / "loose.rig.json"
+    loose.write_text(json.dumps(LOOSE_RIG))
+    out = tmp_path / "m.pdf"
+    assert main(["manual", str(RAFT), str(loose), "-o", str(out), "--no-progress"]) == 3  # written, a rig failed
+    assert "loose point" in capsys.readouterr().err
+    text = " ".join(page_texts(out))
+    assert "THE RIG DID NOT SOLVE" in text
+    brief = tmp_path / "b.pdf"
+    assert main(["brief", str(loose), "-o", str(brief)]) == 3
+    assert "did not solve" in " ".join(page_texts(brief))
