@@ -173,8 +173,10 @@ class Drawing:
             return (p[0] * k, p[1] * k)
 
         markers = [(p.x, -p.y) for p in rig.points] + [(x, -y) for x, y in result.points.values()]
+        from sketchpad.pages.framing import feature_label_boxes
+
         self.skipped = place_labels(labels, to_px, self.force_item.label_size, markers, self.pieces,
-                                    name_boxes(rig) + self._rope_name_boxes())
+                                    name_boxes(rig) + self._rope_name_boxes() + feature_label_boxes(self.scene, k))
         self.force_item.refresh_rect(m_per_px)
 
     def _rope_name_boxes(self) -> list:

@@ -83,6 +83,26 @@ def fit_frame(drawing, width: float, height: float):
     return Fit(source, k, (width, height))
 
 
+def feature_label_boxes(scene, k: float) -> list:
+    """(scene point, pixel rect relative to it) of every shown site-feature label at ``k`` px/m, as Qt draws it
+    (the label ignores the view's scale), so force labels keep off them."""
+    from PySide6.QtGui import QTransform
+
+    from sketchpad.items import FeatureItem
+
+    view = QTransform.fromScale(k, k)
+    out = []
+    for item in scene.items():
+        if not isinstance(item, FeatureItem) or not item.isVisible():
+            continue
+        for child in item.childItems():
+            if not child.isVisible() or not hasattr(child, "text") or not child.text():
+                continue
+            r = child.deviceTransform(view).mapRect(child.boundingRect())
+            out.append(((r.left() / k, r.top() / k), (0.0, 0.0, r.width(), r.height())))
+    return out
+
+
 def label_boxes_px(labels, source: QRectF, k: float) -> list[QRectF]:
     """Boxes of the placed labels in page px (origin at the drawing's top-left)."""
     out = []
@@ -228,5 +248,5 @@ def frame_in_px(frame: QRectF, source: QRectF, k: float) -> QRectF:
                   frame.width() * k, frame.height() * k)
 
 
-__all__ = ["rig_frame", "fit_frame", "paint_inset", "paint_locator", "needs_inset", "site_rect_of_frame",
+__all__ = ["rig_frame", "fit_frame", "feature_label_boxes", "paint_inset", "paint_locator", "needs_inset", "site_rect_of_frame",
            "frame_of_scene_rect", "hide_labels_outside", "label_boxes_px"]

@@ -66,6 +66,14 @@ def test_the_drawing_frames_the_rig_and_its_labels_do_not_overlap(qapp, path):
     for i, a in enumerate(boxes):
         for b in boxes[i + 1:]:
             assert not a.adjusted(0.5, 0.5, -0.5, -0.5).intersects(b.adjusted(0.5, 0.5, -0.5, -0.5))
+    # nor does any force label cover a site feature's name (water, banks) as Qt draws it
+    from sketchpad.pages.framing import feature_label_boxes
+
+    k, src = fit.px_per_m, fit.source
+    names = [QRectF((x - src.left()) * k + bx, (y - src.top()) * k + by, bw, bh)
+             for (x, y), (bx, by, bw, bh) in feature_label_boxes(d.scene, k)]
+    assert names or not rig.site.features
+    assert not [(a, b) for a in boxes for b in names if a.adjusted(0.5, 0.5, -0.5, -0.5).intersects(b)]
 
 
 def test_a_print_frame_is_what_the_drawing_shows(qapp):
