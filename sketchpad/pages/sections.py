@@ -15,6 +15,7 @@ from solver.result import Result
 from solver.units import format_length
 
 SCHEMATIC_H_PX = 330.0
+SCHEMATIC_MAX_H_PX = 520.0
 
 
 def rope_budget_table(rig: Rig, result: Result | None):
@@ -93,13 +94,20 @@ def paint_schematic_block(painter: QPainter, rect: QRectF, rig: Rig, result: Res
     paint_symbol_key(painter, QRectF(rect.left(), draw.bottom() + 4, rect.width(), key_h), with_classes=False)
 
 
-def schematic_block_height(width: float) -> float:
+def schematic_block_height(width: float, rig: Rig | None = None, result: Result | None = None) -> float:
+    """Height of the schematic figure with its key: as tall as the rig's frame asks at ``width`` (px),
+    between ``SCHEMATIC_H_PX`` and ``SCHEMATIC_MAX_H_PX``, so a tall rig's strands have room for their labels."""
+    from sketchpad.pages.framing import rig_frame
     from sketchpad.pages.symbol_key import symbol_key_height
 
+    h = SCHEMATIC_H_PX
+    if rig is not None:
+        frame = rig_frame(rig, result)
+        h = min(max(width * frame.height() / max(frame.width(), 1e-6), SCHEMATIC_H_PX), SCHEMATIC_MAX_H_PX)
     image = QImage(8, 8, QImage.Format_ARGB32_Premultiplied)
     p = QPainter(image)
     try:
-        return SCHEMATIC_H_PX + symbol_key_height(p, width, with_classes=False) + 4
+        return h + symbol_key_height(p, width, with_classes=False) + 4
     finally:
         p.end()
 
@@ -109,7 +117,7 @@ def add_sections(flow, rig: Rig, result: Result | None) -> None:
     from sketchpad.export import page_font
     from sketchpad.pages.schematic import caption
 
-    h = schematic_block_height(flow.width)
+    h = schematic_block_height(flow.width, rig, result)
     flow.need(h + 40)  # the heading stays with its figure
     flow.heading("Schematic: strands side by side, tensions in units of the haul force (T)")
     flow.block(h, lambda p, r: paint_schematic_block(p, r, rig, result))
