@@ -1,6 +1,7 @@
 """The schematic: the rig drawn the way the trade teaches mechanical advantage, generated from the rig and its Result.
 
-Points sit where the solver put them (as drawn when the solve failed), but every strand of rope
+Points sit where the solver put them (as drawn when the solve failed; a narrow rig is spread across the box,
+up to ``STRETCH`` times, so it is not to scale), and every strand of rope
 between the same two points is drawn beside the others (``theme.SCHEMATIC_GAP_PX`` apart), so a
 Z shows its three strands; a pulley or capture is a sheave the strands wrap; each strand is
 labelled along its length with its tension in units of the haul force by the strand count
@@ -24,6 +25,7 @@ from solver.result import Result
 
 MARGIN_PX = 28.0
 LABEL_PT = 6.5
+STRETCH = 3.0  # largest ratio of the two axes' scales (the schematic is not to scale)
 T_STEPS = (0.5, 0.36, 0.64, 0.24, 0.76, 0.15, 0.85, 0.3, 0.7)
 
 
@@ -85,14 +87,16 @@ def _page_transform(rig: Rig, result: Result | None, rect: QRectF):
     from sketchpad.pages.framing import rig_frame
 
     frame = rig_frame(rig, result)
-    k = min((rect.width() - 2 * MARGIN_PX) / max(frame.width(), 1e-6),
-            (rect.height() - 2 * MARGIN_PX) / max(frame.height(), 1e-6))
+    kx = (rect.width() - 2 * MARGIN_PX) / max(frame.width(), 1e-6)
+    ky = (rect.height() - 2 * MARGIN_PX) / max(frame.height(), 1e-6)
+    # not to scale: a narrow rig is spread across the box (at most STRETCH times), so its strands have room
+    kx, ky = min(kx, STRETCH * ky), min(ky, STRETCH * kx)
     cx, cy = frame.center().x(), frame.center().y()
 
     def to_px(x: float, y: float) -> QPointF:
-        return QPointF(rect.center().x() + (x - cx) * k, rect.center().y() + (-y - cy) * k)
+        return QPointF(rect.center().x() + (x - cx) * kx, rect.center().y() + (-y - cy) * ky)
 
-    return to_px, k
+    return to_px, min(kx, ky)
 
 
 def strands_of(rig: Rig, result: Result | None, to_px) -> tuple[list[Strand], dict[str, QPointF]]:
@@ -373,7 +377,7 @@ def caption(rig: Rig, result: Result | None) -> str:
     """The sentence under a schematic: what T means and the three MAs."""
     from solver.readouts import ma_long
 
-    t = ("T = the haul team's pull. Each strand shows its tension by strand count (frictionless, "
+    t = ("Not to scale. T = the haul team's pull. Each strand shows its tension by strand count (frictionless, "
          "parallel strands) beside the tension the solver found with friction and stretch.")
     if result is not None and result.ok:
         try:
