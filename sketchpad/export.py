@@ -158,8 +158,11 @@ class Drawing:
         """Overlay labels and glyph sizes for ``k`` px per metre (the canvas does this on every zoom)."""
         from sketchpad.overlay import build_labels, place_labels
 
+        from sketchpad.pages.names import declutter_names, name_boxes_of
+
         m_per_px = 1.0 / k
         self.scene.set_scale(m_per_px)
+        declutter_names(self.scene, self.rig, k)  # a page cannot be zoomed: names kept apart
         if not self.result.ok:
             self.force_item.bands, self.force_item.moved_points = [], []
             self.force_item.set_labels([], [], m_per_px)
@@ -176,7 +179,7 @@ class Drawing:
         from sketchpad.pages.framing import feature_label_boxes
 
         self.skipped = place_labels(labels, to_px, self.force_item.label_size, markers, self.pieces,
-                                    name_boxes(rig) + self._rope_name_boxes() + feature_label_boxes(self.scene, k))
+                                    name_boxes_of(self.scene, rig) + self._rope_name_boxes() + feature_label_boxes(self.scene, k))
         self.force_item.refresh_rect(m_per_px)
 
     def _rope_name_boxes(self) -> list:
@@ -280,16 +283,6 @@ def print_force_item():
                 painter.restore()
 
     return PrintForceItem()
-
-
-def name_boxes(rig: Rig) -> list:
-    """Pixel rects of the point names beside each marker (as :class:`sketchpad.items.PointItem` draws them)."""
-    fm = QFontMetricsF(theme.font())
-    out = []
-    for p in rig.points:
-        r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
-        out.append(((p.x, -p.y), (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name), fm.height())))
-    return out
 
 
 # --- page furniture ------------------------------------------------------------------------

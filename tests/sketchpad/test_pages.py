@@ -76,6 +76,23 @@ def test_the_drawing_frames_the_rig_and_its_labels_do_not_overlap(qapp, path):
     assert not [(a, b) for a in boxes for b in names if a.adjusted(0.5, 0.5, -0.5, -0.5).intersects(b)]
 
 
+@pytest.mark.parametrize("path", ALL, ids=lambda p: p.name)
+def test_printed_names_keep_apart(qapp, path):
+    from sketchpad.export import Drawing
+    from sketchpad.pages.names import name_boxes_of
+
+    rig = load_rig(path)
+    d = Drawing(rig)
+    fit = d.fit_into(680.0, 300.0)
+    k = fit.px_per_m
+    names = [QRectF(x * k + bx, y * k + by, bw, bh) for (x, y), (bx, by, bw, bh) in name_boxes_of(d.scene, rig)]
+    names += [QRectF(x * k + bx, y * k + by, bw, bh) for (x, y), (bx, by, bw, bh) in d._rope_name_boxes()]
+    assert len(names) >= len(rig.points)
+    for i, a in enumerate(names):
+        for b in names[i + 1:]:
+            assert not a.adjusted(1, 1, -1, -1).intersects(b.adjusted(1, 1, -1, -1)), (a, b)
+
+
 def test_a_print_frame_is_what_the_drawing_shows(qapp):
     from sketchpad.export import Drawing
 
