@@ -186,7 +186,8 @@ def paint_sign_off(painter: QPainter, rect: QRectF) -> None:
 def paint_brief(painter: QPainter, page: QRectF, rig: Rig, result: Result, rig_dir: pathlib.Path | None = None,
                 when: str = "", source: str | None = None, page_text: str = "page 1 of 1") -> BriefLayout:
     """The whole sheet into ``page`` (logical px, margins included)."""
-    from sketchpad.export import Drawing, MUTED, RULE, key_strip_height, page_font, paint_key_strip, units_line, wrap_text
+    from sketchpad.export import (DANGER_TEXT, MUTED, RULE, Drawing, key_strip_height, page_font, paint_key_strip,
+                                  units_line, wrap_text)
     from solver.cautions import LIMITS_CAUTION, SHORT_CAUTION
 
     layout = BriefLayout()
@@ -198,7 +199,7 @@ def paint_brief(painter: QPainter, page: QRectF, rig: Rig, result: Result, rig_d
     y += wrap_text(painter, QRectF(x, y, w, 0), f"{when} · " + units_line(rig) +
                    (f" · {pathlib.Path(source).name}" if source else ""), page_font(SMALL_PT), MUTED) + 4
     # the rig up close, with its key
-    body_h = content.bottom() - FOOTER_H - SIGN_OFF_H - 8 - y
+    body_h = content.bottom() - FOOTER_H - SIGN_OFF_H - 60 - y
     key_h = key_strip_height(w) + 6
     draw_h = max(body_h * DRAWING_FRACTION, 180.0)
     drawing = Drawing(rig, result, rig_dir)
@@ -213,8 +214,11 @@ def paint_brief(painter: QPainter, page: QRectF, rig: Rig, result: Result, rig_d
     if drawing.skipped and result.ok:
         y += wrap_text(painter, QRectF(x, y, w, 0), f"{drawing.skipped} force labels left off the drawing to avoid "
                        "overlap: the report's tables hold every number.", page_font(SMALL_PT, italic=True), MUTED)
-    # two columns
-    bottom = content.bottom() - FOOTER_H - SIGN_OFF_H - 8
+    # two columns, above the cautions and the sign-off
+    caution = (f"{SHORT_CAUTION} {LIMITS_CAUTION} Never stand in a marked danger zone or in line with a loaded "
+               "rope, redirect or anchor.")
+    caution_h = wrap_text(painter, QRectF(x, 0, w, 0), caution, page_font(TEXT_PT, bold=True), draw=False)
+    bottom = content.bottom() - FOOTER_H - SIGN_OFF_H - caution_h - 16
     gap = 14.0
     col_w = (w - gap) / 2
     left = _Column(painter, QRectF(x, y, col_w, bottom - y), layout)
@@ -229,10 +233,11 @@ def paint_brief(painter: QPainter, page: QRectF, rig: Rig, result: Result, rig_d
     right.lines(worst_lines(rig, result))
     right.heading("What to watch")
     right.lines(watch_lines(rig, result))
-    left.heading("Cautions")
-    left.lines([(SHORT_CAUTION, True), (LIMITS_CAUTION, False),
-                 ("Never stand in a marked danger zone or in line with a loaded rope, redirect or anchor.", True)])
-    paint_sign_off(painter, QRectF(x, bottom + 6, w, SIGN_OFF_H))
+    # the cautions: always whole, across the page above the sign-off
+    painter.setPen(RULE)
+    painter.drawLine(QPointF(x, bottom + 3), QPointF(x + w, bottom + 3))
+    wrap_text(painter, QRectF(x, bottom + 6, w, 0), caution, page_font(TEXT_PT, bold=True), DANGER_TEXT)
+    paint_sign_off(painter, QRectF(x, bottom + caution_h + 12, w, SIGN_OFF_H))
     painter.setFont(page_font(SMALL_PT))
     painter.setPen(MUTED)
     foot = QRectF(x, content.bottom() - FOOTER_H + 6, w, FOOTER_H)

@@ -261,7 +261,7 @@ def test_brief_is_one_page_with_every_part(qapp, tmp_path):
     assert len(pages) == 1
     t = pages[0]
     rig = load_rig(RAFT)
-    for part in ("Commands", "Roles and where they stand", "Worst loads and margins", "What to watch", "Cautions",
+    for part in ("Commands", "Roles and where they stand", "Worst loads and margins", "What to watch",
                  "Planned by", "Checked by", "Date and time", "safety officer", norm(SHORT_CAUTION)):
         assert part in t, part
     assert has_key(t)
