@@ -24,6 +24,7 @@ from solver.errors import RigModelError
 from solver.materials import hardware_for, material_for
 from solver.model import MIDDLE_HOWS, MOTIONS, STANDARD_GRAVITY, Hardware, Material, Rig
 from solver.stretch import StretchCurve
+from solver.weak_links import piece_efficiency
 
 log = logging.getLogger(__name__)
 
@@ -447,6 +448,7 @@ def compile_topology(rig: Rig, motion: str | None = None) -> Topology:
     )
     sys_.run_pre = np.array(run_pre, dtype=float)
     _finish_topology(sys_)
+    sys_.piece_mbs = sys_.piece_mbs * piece_efficiency(rig, piece_rope, sys_.piece_index)  # knots: weak links
     _report_indices(sys_, [p.kind for p in pts])
     for name in _SYSTEM_FIELDS:  # shared by every System of this topology: none may change them
         value = getattr(sys_, name)
