@@ -3,7 +3,7 @@
 ``write_report(rig, path)`` lays out, on A4 (metric rigs) or US Letter (imperial
 rigs): title, date and notes; the drawing with its forces (the same offscreen
 scene as :mod:`sketchpad.export`, so it matches the screen); the mechanical
-advantage (actual and ideal), haulers needed (:mod:`solver.hauling`) and the
+advantage (actual and ideal), the pull and pullers needed (:mod:`solver.pull_needed`) and the
 warnings; tables of rope pieces (tension, stretch, safety factor = MBS ÷
 tension), anchors (resultant, direction, capacity, safety factor) and hardware
 (load at each pulley, carabiner or edge against its MBS); a plot of MA and peak
@@ -221,9 +221,9 @@ def ma_sentence(result: Result) -> str:
 
 
 def haul_sentences(rig: Rig, result: Result) -> list[str]:
-    """Haul force, what reaches each load, and haulers needed for each load with a force needed."""
-    from solver.errors import RopewrightError
-    from solver.hauling import DEFAULT_PER_PERSON_N, plan_for_result
+    """Haul force, what reaches each load, and the pull (solved) and pullers each load with a force needed takes."""
+    from solver.hauling import DEFAULT_PER_PERSON_N
+    from solver.pull_needed import need_sentence
 
     fu = rig.display.force
     out = []
@@ -240,16 +240,15 @@ def haul_sentences(rig: Rig, result: Result) -> list[str]:
         out.append(f"Force reaching {_pname(rig, lid)}: {format_force(a.force_N, fu)}{need}.")
         if p is None:
             continue
-        try:
-            plan = plan_for_result(rig, result, lid)
-        except RopewrightError as exc:
-            out.append(f"Haulers needed for {p.name}: cannot be worked out ({exc}).")
-            continue
-        if plan is not None:
-            out.append(f"Haulers needed for {p.name}: {plan.haulers}. " + plan.text(fu))
+        need_of = result.needs.get(lid)
+        if need_of is not None:
+            out.append(f"Pull needed for {p.name}, found by solving the rig at a larger pull (every haul team and "
+                       f"pulling force scaled together, the friction of the motion counted): "
+                       + need_sentence(rig, need_of) + " The pull per person is a sustained long-haul figure: "
+                       "if the load does not move, stop and re-assess rather than pull harder.")
         elif p.required_N is None:
-            out.append(f"No force needed is entered for {p.name}, so haulers needed is not worked out "
-                       f"(each hauler is taken as {format_force(DEFAULT_PER_PERSON_N, fu)} sustained).")
+            out.append(f"No force needed is entered for {p.name}, so the pull needed is not worked out "
+                       f"(each puller is taken as {format_force(DEFAULT_PER_PERSON_N, fu)} sustained).")
     return out
 
 

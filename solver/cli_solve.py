@@ -62,8 +62,10 @@ def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -
                     for aid, a in result.anchors.items()]
             parts.append("\nAnchors\n" + _table(["anchor", "resultant", "toward", "capacity", "use"], rows))
         if result.loads:
-            rows = [[lid, f(a.force_N), f"{a.direction_deg:.0f}°"] for lid, a in result.loads.items()]
-            parts.append("\nLoads\n" + _table(["load", "force delivered", "toward"], rows))
+            rows = [[lid, f(a.force_N), f"{a.direction_deg:.0f}°", *_need_cells(rig, result, lid, f)]
+                    for lid, a in result.loads.items()]
+            parts.append("\nLoads (pull needed: solved on the rig, every haul team and pulling force scaled together)\n"
+                         + _table(["load", "force delivered", "toward", "needed", "short", "pull needed"], rows))
         if result.haul:
             parts.append("\nHaul: " + ", ".join(f"{hid} {f(v)}" for hid, v in result.haul.items()))
         if result.ma_actual is not None:
@@ -77,6 +79,16 @@ def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -
         parts += [f"  [{w.code}] {w.subject}: {w.message}" for w in result.warnings]
     parts.append("\n" + SHORT_CAUTION)
     return "\n".join(parts)
+
+
+def _need_cells(rig: Rig, result: Result, load_id: str, f) -> list[str]:
+    """(needed, short, pull needed) cells of one load: "—" where it has no required force."""
+    from solver.pull_needed import need_phrase
+
+    need = result.needs.get(load_id)
+    if need is None:
+        return ["—", "—", "—"]
+    return [f(need.required_N), f(need.short_N) if need.short_N > 0 else "enough", need_phrase(rig, need)]
 
 
 def run(args: argparse.Namespace, out: TextIO | None = None) -> int:

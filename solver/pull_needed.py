@@ -312,3 +312,24 @@ def check_short(rig: Rig, result: Result) -> list:
             f"{load.name} gets {f(lr.force_N)} of the {f(load.required_N)} needed to free it "
             f"({f(load.required_N - lr.force_N)} short). {how}", "warning"))
     return out
+
+
+_LIMIT_SHORT = {"stops-holding": "the rig stops holding first", "two-blocked": "it two-blocks first",
+                "ma-collapses": "the MA collapses first", "no-pull": "nothing pulls"}
+
+
+def need_phrase(rig: Rig, need: LoadNeed) -> str:
+    """The pull needed in a few words for tables and labels: "pull 0.88 kN = 4 pullers" or what stops it."""
+    from solver.units import format_force
+
+    if need.pull_needed_N is not None:
+        n = need.pullers_needed or 0
+        return f"pull {format_force(need.pull_needed_N, rig.display.force)} = {n} puller{'s' if n != 1 else ''}"
+    if need.limit in ("anchor-fails", "rope-fails"):
+        who = need.limit_subject
+        if rig.has_point(who):
+            who = rig.point(who).name
+        elif who in {r.id for r in rig.ropes}:
+            who = rig.rope(who).name
+        return f"no pull reaches it: {who} fails first"
+    return f"no pull reaches it: {_LIMIT_SHORT.get(need.limit, need.limit)}"
