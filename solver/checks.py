@@ -56,7 +56,7 @@ from shapely.geometry.base import BaseGeometry
 from solver.danger import DangerZone, Piece, danger_zones, pieces, positions
 from solver.errors import RopewrightError
 from solver.pull_needed import check_short
-from solver.weak_links import check_grabs
+from solver.weak_links import check_grabs, weakest_ends
 from solver.model import Hardware, Material, Rig
 from solver.result import Result, Warning_
 
@@ -218,14 +218,17 @@ def check_unrated_drawn(rig: Rig) -> list[Warning_]:
 
 
 def check_ropes(rig: Rig, result: Result) -> list[Warning_]:
-    """Each rope piece's tension against its material's MBS; one warning per rope (its worst piece)."""
+    """Each rope piece's tension against its strength (MBS × a knot's efficiency, :mod:`solver.weak_links`);
+    one warning per rope (its worst piece)."""
     out: list[Warning_] = []
     sf = _sf(rig)
     worst: dict[str, Piece] = {}
+    kept = weakest_ends(rig)  # (rope, piece) -> (termination, point): the share of MBS a knot keeps
+    eff = lambda pc: kept[(pc.rope.id, pc.index)][0].efficiency if (pc.rope.id, pc.index) in kept else 1.0  # noqa: E731
     for pc in pieces(rig, result):
         if pc.tension_N is None:
             continue
-        if pc.rope.id not in worst or pc.tension_N > (worst[pc.rope.id].tension_N or 0.0):
+        if pc.rope.id not in worst or pc.tension_N / eff(pc) > (worst[pc.rope.id].tension_N or 0.0) / eff(worst[pc.rope.id]):
             worst[pc.rope.id] = pc
     for rope in rig.ropes:
         pc = worst.get(rope.id)
@@ -240,15 +243,19 @@ def check_ropes(rig: Rig, result: Result) -> list[Warning_]:
                                 "warning"))
             continue
         what = {"sling": "sling", "cord": "cord"}.get(mat.kind, "rope")
-        m = _margin(rig, t, float(mat.mbs_N))
+        knot = kept.get((rope.id, pc.index))
+        strength = float(mat.mbs_N) * (knot[0].efficiency if knot else 1.0)
+        of = (f"strength there of {_force(rig, strength)} (MBS {_force(rig, mat.mbs_N)} × {knot[0].efficiency:.0%} "
+              f"for the {knot[0].label} at {_name(rig, knot[1])})") if knot else f"MBS of {_force(rig, mat.mbs_N)}"
+        m = _margin(rig, t, strength)
         if m == "over":
             out.append(Warning_("rope-over", rope.id,
-                                f"{rope.name} ({what}) carries {_force(rig, t)} {where}, more than its "
-                                f"MBS of {_force(rig, mat.mbs_N)}.", "danger"))
+                                f"{rope.name} ({what}) carries {_force(rig, t)} {where}, more than its {of}.",
+                                "danger"))
         elif m == "margin":
             out.append(Warning_("rope-margin", rope.id,
                                 f"{rope.name} ({what}) carries {_force(rig, t)} {where}: safety factor "
-                                f"{mat.mbs_N / t:.1f}:1, below {sf:g}:1 (MBS {_force(rig, mat.mbs_N)}).", "warning"))
+                                f"{strength / t:.1f}:1, below {sf:g}:1 ({of}).", "warning"))
     return out
 
 

@@ -1,0 +1,111 @@
+"""Weak links (solver.weak_links): a knot's efficiency in every margin of the pieces ending there; grabs that slip.
+
+Efficiencies: check-values.md "Knots and grabs" (figure-8 loop 75-80 %, bowline 65-75 %,
+common practice, from memory; the low end is used).  Held force of a grab: statics of the
+tied pass (the difference of the tensions either side), worked by hand below.
+"""
+
+from __future__ import annotations
+
+import json
+from dataclasses import replace
+
+import pytest
+
+from solver.analysis import analyse
+from solver.errors import RigFileError
+from solver.model import Hardware, Material, Pass, Point, Rig, Rope, Rigging, Settings
+from solver.rigfile import dumps_rig, loads_rig
+from solver.weak_links import TERMINATIONS, grab_holds, weak_links
+
+ROPE = Material(id="k11", kind="rope", mbs_N=30000.0, stretch=((3000.0, 0.03),), label="11 mm rope")
+PULLEY = Hardware(id="pul", kind="pulley", efficiency=0.9, mbs_N=36000.0, size_m=0.1, label="rescue pulley")
+GRAB = Hardware(id="pr", kind="grab", slip_N=7000.0, mbs_N=20000.0, label="3-wrap prusik")
+
+
+def pulley_rig(pull: float, term: str | None) -> Rig:
+    """A fixed load hauled through a pulley at a fixed anchor; the rope tied to the load with ``term``."""
+    pts = (Point("L", "load", 0.0, 0.0, label="raft"), Point("A", "anchor", 0.0, 20.0, capacity_N=1e9),
+           Point("H", "haul", 5.0, 20.0, force_N=pull, label="haul team"))
+    rope = Rope("m", "k11", (Pass("L", termination=term), Pass("A", "pulley", "pul"), Pass("H", "hauled")))
+    return Rig(points=pts, ropes=(rope,), materials=(ROPE,), hardware=(PULLEY,))
+
+
+def test_figure_8_loop_takes_a_quarter_off_the_margin_of_the_piece_ending_there():
+    # the load piece carries 0.9 x pull (T-method, check-values.md) = 2500 N: plain rope SF 30/2.5 = 12:1 (fine);
+    # with a figure-8 loop at the load (75 %, from memory) its strength is 22.5 kN: SF 9:1 < 10:1
+    pull = 2500.0 / 0.9
+    plain = analyse(pulley_rig(pull, None))
+    assert not [w for w in plain.warnings if w.code.startswith("rope-")]
+    knot = analyse(pulley_rig(pull, "figure-8-loop"))
+    seg = knot.segments_of("m")
+    assert seg[0].tension_N == pytest.approx(2500.0, rel=1e-9)
+    assert seg[0].utilization == pytest.approx(2500.0 * 10 / (30000.0 * 0.75), rel=1e-9)
+    assert seg[1].utilization == pytest.approx(pull * 10 / 30000.0, rel=1e-9)  # the haul side has no knot
+    ws = [w for w in knot.warnings if w.code == "rope-margin"]
+    assert len(ws) == 1 and "9.0:1" in ws[0].message and "figure-8 loop" in ws[0].message
+
+
+def test_every_termination_keeps_a_share_of_mbs_and_says_where_it_comes_from():
+    assert TERMINATIONS["figure-8-loop"].efficiency == 0.75 and TERMINATIONS["bowline"].efficiency == 0.65
+    for t in TERMINATIONS.values():
+        assert 0 < t.efficiency <= 1 and "from memory" in t.source
+
+
+def grab_rig(pull: float) -> Rig:
+    """Main line L -> A pretensioned to 500 N, held at A by a rope grab; the haul side beyond it pulled."""
+    pts = (Point("L", "load", 0.0, 0.0), Point("A", "anchor", 0.0, 20.0, capacity_N=1e9, label="alder"),
+           Point("H", "haul", 0.0, 30.0, force_N=pull, label="haul team"))
+    rope = Rope("m", "k11", (Pass("L"), Pass("A", hardware="pr"), Pass("H", "hauled")),
+                rigged=Rigging(pretension_N=500.0), label="main line")
+    return Rig(points=pts, ropes=(rope,), materials=(ROPE,), hardware=(GRAB,), settings=Settings(motion="hold"))
+
+
+@pytest.mark.parametrize("pull, slips", [(7000.0, False), (8000.0, True)])
+def test_grab_slips_when_the_difference_of_the_tensions_beside_it_passes_its_slip_force(pull, slips):
+    # hand: the tied run L-A keeps its 500 N pretension (both ends fixed), the hauled side carries the pull;
+    # the grab holds the difference, pull - 500 N: 6.5 kN (holds) or 7.5 kN (> 7 kN: slides)
+    res = analyse(grab_rig(pull))
+    (g,) = grab_holds(grab_rig(pull), res)
+    assert g.held_N == pytest.approx(pull - 500.0, rel=1e-6)
+    ws = [w for w in res.warnings if w.code == "grab-slips"]
+    assert bool(ws) is slips
+    if slips:
+        assert "7.50 kN" in ws[0].message and "7.00 kN" in ws[0].message
+        assert f"margin {7000.0 / 7500.0:.2f}" in ws[0].message and "designed slip point" in ws[0].message
+
+
+def test_weak_links_list_each_knot_and_grab_with_the_figure_used():
+    rig = grab_rig(8000.0)
+    rope = rig.ropes[0]
+    rig = rig.with_rope(replace(rope, path=(replace(rope.path[0], termination="bowline"),) + rope.path[1:]))
+    links = weak_links(rig, analyse(rig))
+    kinds = {(w.kind, w.at): w for w in links}
+    assert kinds[("termination", "L")].efficiency == 0.65
+    assert kinds[("termination", "L")].strength_N == pytest.approx(0.65 * 30000.0)
+    assert kinds[("grab", "A")].slip_N == 7000.0 and kinds[("grab", "A")].force_N == pytest.approx(7500.0, rel=1e-6)
+
+
+def test_rig_file_keeps_terminations_and_grabs_and_refuses_misplaced_ones():
+    rig = grab_rig(8000.0)
+    rope = rig.ropes[0]
+    rig = rig.with_rope(replace(rope, path=(replace(rope.path[0], termination="sewn-eye"),) + rope.path[1:]))
+    text = dumps_rig(rig)
+    back = loads_rig(text)
+    assert back.ropes[0].path[0].termination == "sewn-eye"
+    assert next(h for h in back.hardware if h.id == "pr").slip_N == 7000.0
+    data = json.loads(text)
+    data["ropes"][0]["path"][0]["termination"] = "granny-knot"
+    with pytest.raises(RigFileError) as exc:
+        loads_rig(json.dumps(data))
+    assert "termination" in str(exc.value)
+    data["ropes"][0]["path"][0].pop("termination")
+    data["ropes"][0]["path"][1]["how"] = "sliding"
+    with pytest.raises(RigFileError) as exc:
+        loads_rig(json.dumps(data))
+    assert "rope grab" in str(exc.value)
+    data["ropes"][0]["path"][1]["how"] = "tied"
+    data["hardware"] = [{"id": "pr", "kind": "grab", "mbs_N": 20000, "label": "no slip given"}]
+    with pytest.raises(RigFileError) as exc:
+        loads_rig(json.dumps(data))
+    assert "slip" in str(exc.value)
