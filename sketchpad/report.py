@@ -252,6 +252,28 @@ def haul_sentences(rig: Rig, result: Result) -> list[str]:
     return out
 
 
+def weak_link_lines(rig: Rig, result: Result) -> list[str]:
+    """Each knot and rope grab (solver.weak_links), with the efficiency or slip force its margin used."""
+    from solver.weak_links import weak_links
+
+    fu = rig.display.force
+    out = []
+    for w in weak_links(rig, result):
+        rope, at = (rig.rope(w.rope).name if w.rope in {r.id for r in rig.ropes} else w.rope), _pname(rig, w.at)
+        carried = f"; it carries {format_force(w.force_N, fu)}" if w.force_N is not None else ""
+        if w.kind == "termination":
+            strength = f" = {format_force(w.strength_N, fu)}" if w.strength_N is not None else ""
+            out.append(f"{w.label.capitalize()} on {rope} at {at}: the pieces ending there are taken at "
+                       f"{w.efficiency:.0%} of the rope's MBS{strength}{carried} ({w.source}).")
+        else:
+            held = f"; it holds {format_force(w.force_N, fu)}" if w.force_N is not None else ""
+            slips = " — IT WILL SLIDE" if w.force_N is not None and w.slip_N and w.force_N > w.slip_N else ""
+            mbs = f", MBS {format_force(w.strength_N, fu)}" if w.strength_N else ""
+            out.append(f"Rope grab {w.label} on {rope} at {at}: slips at {format_force(w.slip_N, fu)}{mbs}{held}"
+                       f"{slips} ({w.source}).")
+    return out
+
+
 def assumption_lines(rig: Rig) -> list[str]:
     """The model behind the numbers: view, motion and friction, safety factor, and every spec with its source."""
     fu = rig.display.force
@@ -585,6 +607,11 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
                 flow.block(sizes[1], paint_plot)
                 flow.y += 2
             flow.text(caption, page_font(SMALL_PT, italic=True), MUTED)
+    links = weak_link_lines(rig, result)
+    if links:
+        flow.heading("Weak links (knots and rope grabs)")
+        for line in links:
+            flow.text("• " + line, page_font(BODY_PT), indent=4, gap=2)
     flow.heading("Assumptions")
     for line in assumption_lines(rig):
         flow.text("• " + line, page_font(SMALL_PT), indent=4, gap=2)
@@ -674,4 +701,4 @@ def report_cli(args) -> int:
 
 
 __all__ = ["write_report", "report_cli", "Report", "Table", "rope_table", "anchor_table", "hardware_table",
-           "haul_sentences", "ma_sentence", "assumption_lines", "sweep_plot", "direction_words", "sf_text"]
+           "haul_sentences", "ma_sentence", "assumption_lines", "weak_link_lines", "sweep_plot", "direction_words", "sf_text"]
