@@ -147,8 +147,11 @@ def _start_of(rig: Rig, res: Result) -> dict[str, tuple[float, float]] | None:
 
 
 def need_for_load(rig: Rig, result: Result, load_id: str, required_N: float | None = None,
-                  solve: Solve | None = None) -> LoadNeed | None:
-    """The pull that brings ``load_id`` to ``required_N`` (its own by default), solved; None when not asked."""
+                  solve: Solve | None = None, per_person_N: float | None = None) -> LoadNeed | None:
+    """The pull that brings ``load_id`` to ``required_N`` (its own by default), solved; None when not asked.
+
+    ``per_person_N`` overrides the rig's pull per person (:func:`pull_per_person`).
+    """
     if solve is None:
         from solver.equilibrium import solve as solve_
         solve = solve_
@@ -158,7 +161,7 @@ def need_for_load(rig: Rig, result: Result, load_id: str, required_N: float | No
     if not req or not result.ok or lr is None:
         return None
     delivered = float(lr.force_N)
-    per = pull_per_person(rig)
+    per = float(per_person_N) if per_person_N else pull_per_person(rig)
     pulls = _Pulls(rig, result)
     base = LoadNeed(load=load_id, required_N=req, delivered_N=delivered, short_N=max(0.0, req - delivered),
                     pull_now_N=pulls.now, pull_needed_N=None, per_person_N=per, pullers_needed=None)
