@@ -9,18 +9,22 @@ from the load and the load over-loaded by the stretch of a rope that has been pu
 its anchor.
 
 Here each piece carries an *order direction* ``r`` (unit vector, from its first pass toward
-its second): the direction the piece had in the last accepted state.  The contact measures
-the piece's length *along* ``r``, ``gap = (x_b - x_a) · r``, and pushes with
-``k_c · max(s_min - gap, 0)`` along ``r``: a pass that has crossed its neighbour has a
-negative gap and is pushed back the way it came, however far it jumped.  At an accepted
-state ``r`` follows the piece as it turns (a short piece by less than 60° a step: a turn that
-large on a piece near its contact is a jump, not a swing; a long piece always), so at the solution ``r`` is the piece's own direction
-and the contact is the disc's, pushing along the line between the two passes.
+its second), and the contact measures the piece's length *along* it, ``gap = (x_b - x_a) · r``,
+pushing with ``k_c · max(s_min - gap, 0)`` along ``r``: a signed separation in arc length.  A
+pass carried across its neighbour has a negative gap and is pushed back the way it came,
+however far it jumped, and the Newton line searches refuse any trial step that leaves a pass
+beyond its neighbour (:func:`crossed`), so even the softened contact of the jammed-pass
+continuation cannot be stepped through.
 
-``start`` sets the directions from the positions a Newton iteration starts from (the
-drawing, a warm start or an earlier stage's accepted answer: each in order); ``follow``
-carries them along after each accepted step.  Both replace the array (never changed in
-place), so a System's directions are safe to read from a state evaluated earlier.
+``r`` follows each piece from accepted state to accepted state: a piece clear of its contact
+along ``r`` (longer than ``SHORT`` × its spacing) takes its own direction; a piece at or near
+its contact takes it only when it turned by less than 60° (a jammed pair rolling round as one
+body, as a pulley run into a knot swings on its rope), never the flip of a jump.  At the
+solution ``r`` is then the piece's own direction and the contact pushes along the line between
+the two passes.  ``start`` sets the directions where a Newton iteration starts (the drawing,
+a warm start or an earlier stage's accepted answer: each in order; a piece at its contact keeps
+its direction, which a pass pushed right onto its neighbour no longer shows); ``follow``
+carries them after each accepted step.  Both replace the array, never change it in place.
 """
 
 from __future__ import annotations
@@ -37,6 +41,9 @@ SHORT = 2.0
 #: Near its contact a piece follows its own direction when it turned by less than acos(FOLLOW_COS) = 60 deg
 #: since the last accepted state: a jammed pair rolls round as one body; a bigger turn is a jump across.
 FOLLOW_COS = 0.5
+#: Pieces all within acos(QUIET_COS) = 5 deg of their order directions and clear of contact need no update
+#: (a piece's turn is measured from its order direction, so small turns add up until one is carried).
+QUIET_COS = 0.9962
 
 
 def unit_rows(d: np.ndarray, fallback: np.ndarray | None = None) -> np.ndarray:
@@ -55,10 +62,15 @@ def drawn(xy0: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
 
 
 def _dot(u: np.ndarray, r: np.ndarray) -> np.ndarray:
-    return u[:, 0] * r[:, 0] + u[:, 1] * r[:, 1]
+    return np.einsum("ij,ij->i", u, r)
 
 
-def _update(s: "System", l: np.ndarray, u: np.ndarray) -> bool:
+def cosines(s: "System", u: np.ndarray) -> np.ndarray:
+    """Per piece: the cosine between its direction ``u`` and its order direction."""
+    return _dot(u, s.order_ref)
+
+
+def _update(s: "System", l: np.ndarray, u: np.ndarray, c: np.ndarray | None = None) -> bool:
     """Move the directions to pieces of lengths ``l`` and directions ``u``; True if a short piece's changed.
 
     A piece clear of its contact along its order direction takes its own direction; a piece near
@@ -66,8 +78,12 @@ def _update(s: "System", l: np.ndarray, u: np.ndarray) -> bool:
     it keeps the last one: it has been carried across, and the contact pushes it back.
     """
     r = s.order_ref
-    c = _dot(u, r)
-    clear = l * c >= SHORT * s.s_min
+    if c is None:
+        c = _dot(u, r)
+    short = SHORT * s.s_min
+    if c.min() > QUIET_COS and not (l < short).any():
+        return False  # every piece within a few degrees of its order and clear of its contact: nothing to carry
+    clear = l * c >= short
     near = ~clear & (l > 0) & (c > FOLLOW_COS)
     take = (clear | near) & (c < 1.0)
     if not take.any():
@@ -97,7 +113,7 @@ def follow(s: "System", st: "State") -> bool:
     direction (the state's contact forces were then worked out along the old one: evaluate it again)."""
     if not s.n_pieces:
         return False
-    return _update(s, st.l, st.u) and st.closed
+    return _update(s, st.l, st.u, st.order_cos) and st.closed
 
 
 def crossed(s: "System", st: "State") -> np.ndarray:
