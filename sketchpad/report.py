@@ -131,12 +131,17 @@ class Table:
 
 
 def rope_table(rig: Rig, result: Result) -> Table:
-    """One row per straight piece of rope: tension, length, stretch, MBS and safety factor MBS ÷ tension."""
+    """One row per straight piece of rope: tension, length, stretch, MBS (× a knot's efficiency where the piece
+    ends at a termination, solver.weak_links) and safety factor = that strength ÷ tension."""
+    from solver.weak_links import piece_strengths
+
     fu, lu = rig.display.force, rig.display.length
+    strengths = piece_strengths(rig)
     t = Table("Rope pieces", ("Rope", "Piece", "Tension", "Length", "Stretch", "MBS", "Safety factor"), [],
               (1.5, 2.4, 1.0, 0.9, 0.8, 1.0, 1.0), frozenset({2, 3, 4, 5, 6}),
-              note=f"Safety factor = rope MBS ÷ tension; the rig asks for at least "
-                   f"{rig.settings.min_safety_factor:g}:1 (red below it). Knots and bends weaken a rope further.")
+              note=f"Safety factor = rope MBS (× the efficiency of a named knot or termination at the piece's end, "
+                   f"listed under Weak links) ÷ tension; the rig asks for at least "
+                   f"{rig.settings.min_safety_factor:g}:1 (red below it). Knots not named weaken a rope further.")
     for s in result.segments:
         try:
             rope = rig.rope(s.rope)
@@ -144,11 +149,14 @@ def rope_table(rig: Rig, result: Result) -> Table:
             continue
         mat = _material(rig, rope.material)
         mbs = mat.mbs_N if mat is not None else None
+        piece = strengths.get((s.rope, s.index))
+        mbs_text = format_force(mbs, fu) if mbs is not None else "not known"
+        if piece is not None and piece.termination is not None:
+            mbs, mbs_text = piece.strength_N, f"{mbs_text} × {piece.efficiency:.0%}"
         slack = s.tension_N <= 1.0
         t.rows.append((rope.name, f"{_pname(rig, s.from_point)} → {_pname(rig, s.to_point)}",
                        "slack" if slack else format_force(s.tension_N, fu), format_length(s.length_m, lu),
-                       "—" if slack else f"{s.strain * 100:.1f} %",
-                       format_force(mbs, fu) if mbs is not None else "not known", sf_text(mbs, s.tension_N)))
+                       "—" if slack else f"{s.strain * 100:.1f} %", mbs_text, sf_text(mbs, s.tension_N)))
         if sf_low(rig, mbs, s.tension_N):
             t.flagged.add(len(t.rows) - 1)
     return t
@@ -242,7 +250,7 @@ def haul_sentences(rig: Rig, result: Result) -> list[str]:
             continue
         need_of = result.needs.get(lid)
         if need_of is not None:
-            out.append(f"Pull needed for {p.name}, found by solving the rig at a larger pull (every haul team and "
+            out.append(f"Pull needed for {p.name}, found by solving the rig at trial pulls (every haul team and "
                        f"pulling force scaled together, the friction of the motion counted): "
                        + need_sentence(rig, need_of) + " The pull per person is a sustained long-haul figure: "
                        "if the load does not move, stop and re-assess rather than pull harder.")

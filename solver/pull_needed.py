@@ -290,7 +290,7 @@ def need_sentence(rig: Rig, need: LoadNeed) -> str:
         if need.pull_needed_N == 0:
             return "No pull is needed: the rig as rigged already gives it."
         people = need.pullers_needed or 0
-        return (f"Solving the rig at a larger pull: a total pull of {f(need.pull_needed_N)} gets it there, "
+        return (f"Solved on the rig: a total pull of {f(need.pull_needed_N)} gets it there, "
                 f"{people} puller{'s' if people != 1 else ''} at {f(need.per_person_N)} each "
                 f"(pull drawn now: {f(need.pull_now_N)}).")
     at = f" at a total pull of {f(need.limit_pull_N)}" if need.limit_pull_N is not None else ""
