@@ -11,7 +11,7 @@ from the nearest solved geometry (the start a force sweep uses).
 
 When no pull reaches the force the answer says what comes first, at what pull: the rig stops
 solving (a point is no longer held), two passes jam together (two-blocking), an anchor or a
-rope piece would carry more than its strength, or the mechanism stops giving (more pull
+rope piece would carry more than its strength, a rope grab would slide, or the mechanism stops giving (more pull
 delivers less).  Pullers needed = ceil(pull ÷ pull per person); the pull per person is the
 haul teams' own figure (the smallest, when teams differ), else 0.22 kN sustained
 (:data:`solver.hauling.DEFAULT_PER_PERSON_N`, common practice, no source).
@@ -48,7 +48,7 @@ Solve = Callable[..., Result]
 class _Limit:
     """Something that stops a larger pull from helping: its kind, the id it is about, the numbers or words."""
 
-    kind: str  # "stops-holding", "two-blocked", "anchor-fails", "rope-fails", "ma-collapses", "no-pull"
+    kind: str  # "stops-holding", "two-blocked", "anchor-fails", "grab-slips", "rope-fails", "ma-collapses", "no-pull"
     subject: str = ""
     force_N: float | None = None
     strength_N: float | None = None
@@ -116,15 +116,16 @@ def _limit(rig: Rig, res: Result, delivered: float | None, last: float | None) -
 
 
 def over_strength(rig: Rig, res: Result) -> list[tuple[str, str, float, float, str]]:
-    """(kind, id, force N, strength N, which piece) for every rated anchor and every rope piece.
+    """(kind, id, force N, strength N, which) for every rated anchor, rope grab (its slip force) and rope piece.
 
     A rope piece's strength is its weakest end's (MBS × the termination's efficiency there,
     :func:`solver.weak_links.piece_strengths`).
     """
-    from solver.weak_links import piece_strengths
+    from solver.weak_links import grab_holds, piece_strengths
 
     out = [("anchor-fails", aid, float(a.force_N), float(a.capacity_N), "")
            for aid, a in res.anchors.items() if a.capacity_N]
+    out += [("grab-slips", g.at, g.held_N, float(g.hardware.slip_N), g.hardware.name) for g in grab_holds(rig, res)]
     strengths = piece_strengths(rig)
     for s in res.segments:
         st = strengths.get((s.rope, s.index))
@@ -271,6 +272,9 @@ def _limit_words(rig: Rig, need: LoadNeed) -> str:
         rope = rig.rope(need.limit_subject).name if need.limit_subject in {r.id for r in rig.ropes} else ""
         return (f"{rope} would carry {f(need.limit_force_N)} ({need.limit_message}), over its strength of "
                 f"{f(need.limit_strength_N)}")
+    if kind == "grab-slips":
+        return (f"{need.limit_message} at {name} would hold {f(need.limit_force_N)}, over the "
+                f"{f(need.limit_strength_N)} at which it slides")
     if kind == "two-blocked":
         return f"the system two-blocks: {need.limit_message}"
     if kind == "stops-holding":
@@ -328,6 +332,8 @@ def need_phrase(rig: Rig, need: LoadNeed) -> str:
     if need.pull_needed_N is not None:
         n = need.pullers_needed or 0
         return f"pull {format_force(need.pull_needed_N, rig.display.force)} = {n} puller{'s' if n != 1 else ''}"
+    if need.limit == "grab-slips":
+        return "no pull reaches it: a rope grab slides first"
     if need.limit in ("anchor-fails", "rope-fails"):
         who = need.limit_subject
         if rig.has_point(who):

@@ -96,7 +96,7 @@ class LoadNeed:
     """The pull a load with a ``required_N`` really needs, found by solving the rig (solver.pull_needed), N.
 
     ``pull_needed_N`` is None when no pull reaches ``required_N``; then ``limit`` names what comes
-    first (``stops-holding``, ``two-blocked``, ``anchor-fails``, ``rope-fails``, ``ma-collapses``,
+    first (``stops-holding``, ``two-blocked``, ``anchor-fails``, ``grab-slips``, ``rope-fails``, ``ma-collapses``,
     ``no-pull``), about ``limit_subject``, at a total pull of ``limit_pull_N``, with the force there
     and the strength it passed (``limit_force_N``, ``limit_strength_N``) or the solver's words.
     """

@@ -109,3 +109,25 @@ def test_rig_file_keeps_terminations_and_grabs_and_refuses_misplaced_ones():
     with pytest.raises(RigFileError) as exc:
         loads_rig(json.dumps(data))
     assert "slip" in str(exc.value)
+
+
+def test_a_grab_that_would_slide_first_is_what_stops_the_pull_needed():
+    # the 3:1 sample with its rope grab given a low slip force (1.5 kN, demo figure): the grab holds the
+    # difference of the main line's tensions either side; hauling hard enough for 3 kN at the raft makes
+    # it hold more than 1.5 kN, so it slides before the raft gets what it needs
+    from pathlib import Path
+
+    from solver.rigfile import load_rig
+
+    rig = load_rig(Path(__file__).resolve().parents[2] / "samples" / "raft-3to1-redirect.rig.json")
+    weak = Hardware(id="weak-grab", kind="grab", slip_N=1500.0, mbs_N=20000.0, label="weak grab")
+    rope = rig.ropes[0]
+    path = tuple(replace(p, hardware="weak-grab") if p.at == "G1" and p.how == "tied" else p for p in rope.path)
+    rig = replace(rig.with_rope(replace(rope, path=path)), hardware=rig.hardware + (weak,))
+    rig = rig.with_point(replace(rig.point("L1"), required_N=3000.0))
+    res = analyse(rig)
+    need = res.needs["L1"]
+    assert need.pull_needed_N is None and need.limit == "grab-slips" and need.limit_subject == "G1"
+    assert need.limit_strength_N == 1500.0 and need.limit_force_N > 1500.0
+    msg = next(w.message for w in res.warnings if w.code == "load-stuck")
+    assert "weak grab" in msg and "slides" in msg
