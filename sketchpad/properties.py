@@ -465,25 +465,20 @@ class RopePage(_Page):
         self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: {HOW_NAMES[how].lower()} at {ps.at}")
 
     def _hw_changed(self, index: int) -> None:
-        r = self._rope()
-        _, hw_box = self._pass_widgets[index]
-        hw = hw_box.currentData()
-        ps = r.path[index]
-        if hw == ps.hardware:
-            return
-        path = list(r.path)
-        path[index] = replace(ps, hardware=hw)
-        self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: hardware at {ps.at}")
+        self._set_pass_field(index, "hardware", self._pass_widgets[index][1].currentData())
 
     def _termination_changed(self, index: int) -> None:
+        self._set_pass_field(index, "termination", self._term_widgets[index].currentData())
+
+    def _set_pass_field(self, index: int, name: str, value) -> None:
+        """One undoable edit setting field ``name`` of pass ``index`` (nothing when it already has ``value``)."""
         r = self._rope()
-        term = self._term_widgets[index].currentData()
         ps = r.path[index]
-        if term == ps.termination:
+        if getattr(ps, name) == value:
             return
         path = list(r.path)
-        path[index] = replace(ps, termination=term)
-        self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: termination at {ps.at}")
+        path[index] = replace(ps, **{name: value})
+        self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: {name} at {ps.at}")
 
     def refresh(self, rig: Rig) -> None:
         if self.rope_id is None or not any(r.id == self.rope_id for r in rig.ropes):
