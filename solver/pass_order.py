@@ -29,12 +29,12 @@ carries them after each accepted step.  Both replace the array, never change it 
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
+from typing import Any
 
 import numpy as np
 
-if TYPE_CHECKING:
-    from solver.assembly import State, System
+#: solver.assembly's System and State (not imported: assembly uses this module)
+System = State = Any
 
 #: A piece shorter than SHORT x its minimum spacing (along its approach) is at or near its contact.
 SHORT = 2.0
@@ -65,12 +65,12 @@ def _dot(u: np.ndarray, r: np.ndarray) -> np.ndarray:
     return np.einsum("ij,ij->i", u, r)
 
 
-def cosines(s: "System", u: np.ndarray) -> np.ndarray:
+def cosines(s: System, u: np.ndarray) -> np.ndarray:
     """Per piece: the cosine between its direction ``u`` and its order direction."""
     return _dot(u, s.order_ref)
 
 
-def _update(s: "System", l: np.ndarray, u: np.ndarray, c: np.ndarray | None = None) -> bool:
+def _update(s: System, l: np.ndarray, u: np.ndarray, c: np.ndarray | None = None) -> bool:
     """Move the directions to pieces of lengths ``l`` and directions ``u``; True if a short piece's changed.
 
     A piece clear of its contact along its order direction takes its own direction; a piece near
@@ -92,7 +92,7 @@ def _update(s: "System", l: np.ndarray, u: np.ndarray, c: np.ndarray | None = No
     return bool((near & take).any())
 
 
-def start(s: "System", x: np.ndarray) -> None:
+def start(s: System, x: np.ndarray) -> None:
     """Order directions from the positions at free coordinates ``x`` (m), where an iteration starts
     (the drawing, a warm start or an earlier stage's accepted answer: each in order)."""
     if not s.n_pieces:
@@ -103,12 +103,12 @@ def start(s: "System", x: np.ndarray) -> None:
     _update(s, l, unit_rows(d, s.order_ref))
 
 
-def gap(s: "System", l: np.ndarray, u: np.ndarray) -> np.ndarray:
+def gap(s: System, l: np.ndarray, u: np.ndarray) -> np.ndarray:
     """Each piece's length along its order direction, m (negative when its passes have crossed)."""
     return l * _dot(u, s.order_ref)
 
 
-def follow(s: "System", st: "State") -> bool:
+def follow(s: System, st: State) -> bool:
     """Carry the order directions to accepted state ``st``; True when a piece near its contact changed
     direction (the state's contact forces were then worked out along the old one: evaluate it again)."""
     if not s.n_pieces:
@@ -116,7 +116,7 @@ def follow(s: "System", st: "State") -> bool:
     return _update(s, st.l, st.u, st.order_cos) and st.closed
 
 
-def crossed(s: "System", st: "State") -> np.ndarray:
+def crossed(s: System, st: State) -> np.ndarray:
     """Per free part: True when a trial state has a pass beyond its neighbour (a piece pointing against its
     order direction).  The Newton line searches refuse such a step and try a shorter one, so a pass is
     never carried across its neighbour, however soft the contact of the moment."""
