@@ -163,3 +163,33 @@ def test_a_handful_of_solves_and_never_on_a_drag_step():
     assert all(c.get("start") for c in calls[1:]), "each solve after the first starts from a solved geometry"
     # the live drag step solves the equilibrium alone (sketchpad.live_solve._default_quick): no loads' needs
     assert solve(rig, ideal=False).needs == {}
+
+
+def test_two_blocking_that_comes_first_is_named():
+    # a 3:1 on a soft rope (EA 9 kN) with its grab drawn 1 m below the anchor pulley: the grab jams at the
+    # pulley's size (0.1 m) once the load rope has stretched 0.9 m, T = 9 kN x 0.9 / 19 = 426 N (Hooke),
+    # whatever the pull, so 1 kN at the load is out of reach
+    from solver.templates import place_template
+
+    soft = Material(id="soft", kind="rope", mbs_N=30000.0, stretch=((900.0, 0.1),), label="soft rope")
+    rig = Rig(points=(Point("L1", "load", 0.0, 0.0, required_N=1000.0), Point("A1", "anchor", 0.0, 20.0)),
+              materials=(soft,))
+    rig = place_template(rig, "3:1", load_id="L1", anchor_id="A1", haul_at=(0.0, 26.0), hardware="pulley-large")
+    rig = replace(rig, ropes=tuple(replace(r, material="soft") for r in rig.ropes)).moved("G1", 0.0, 19.0)
+    res = analyse(rig)
+    assert res.loads["L1"].force_N == pytest.approx(9000.0 * (19.9 / 19.0 - 1.0), rel=1e-3)
+    need = res.needs["L1"]
+    assert need.pull_needed_N is None and need.limit == "two-blocked"
+    assert "two-blocks" in next(w.message for w in res.warnings if w.code == "load-stuck")
+
+
+def test_a_load_more_pull_cannot_reach_says_the_mechanism_stops_giving():
+    # the load hangs on its own pretensioned line (500 N); the haul pulls the far side of a knot at the
+    # anchor, so no pull changes what the load gets (statics: the fixed anchor takes the difference)
+    pts = (Point("L", "load", 0.0, 0.0, required_N=600.0), Point("A", "anchor", 0.0, 20.0, capacity_N=1e9),
+           Point("H", "haul", 0.0, 30.0, force_N=300.0))
+    rope = Rope("m", "lin", (Pass("L"), Pass("A"), Pass("H", "hauled")), rigged=Rigging(pretension_N=500.0))
+    res = analyse(Rig(points=pts, ropes=(rope,), materials=(LINEAR,)))
+    need = res.needs["L"]
+    assert res.loads["L"].force_N == pytest.approx(500.0, rel=1e-9)
+    assert need.pull_needed_N is None and need.limit == "ma-collapses"
