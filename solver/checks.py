@@ -9,21 +9,25 @@ a severity (``info``, ``warning``, ``danger``).  Forces are newtons inside and s
 Rules (sources in the tests that hold them):
 
 * Margins: a component with strength S carrying F is ``*-over`` (danger) when F > S and
-  ``*-margin`` (warning) when F x SF > S.  Anchors use their resultant; in ``hold``, the
+  ``*-margin`` (warning) when F x SF > S.  An anchor whose ``capacity_kind`` is ``working``
+  (a rated working load W, :mod:`solver.capacity`) is ``anchor-over`` when F > W, nothing else.  Anchors use their resultant; in ``hold``, the
   high end of ``hold_anchor_range`` when the solver gives it (also for hardware that is
   the only thing on that anchor; rope pieces use the solved tensions).  Rope pieces use their
   tension against the material's MBS.  Hardware at a pass carries the vector sum of the
   two legs there (redirect resultant R = 2T cos(alpha/2) when the legs are equal).
 * ``wide-anchor``: a free point held by exactly two legs tied to anchors (tied or
   sliding at the point: a master point, an equalising sling; not a rope grab between
-  two redirect pulleys) whose included angle exceeds
-  120 deg -- ASME B30.9 does not recommend more.  Message gives the leg force factor
+  two redirect pulleys; not one rope passing through it: a tensioned line, below) whose included
+  angle exceeds 120 deg -- ASME B30.9 does not recommend more.
+* ``line-leg-factor``: a rope passing through a free point between two anchors with a load across it
+  (a highline) whose legs carry more than ``LINE_FACTOR_WARN`` x that load (:mod:`solver.tensioned_line`).  Message gives the leg force factor
   1 / (2 cos(alpha/2)) (each leg's share of the resultant for symmetric legs).
 * ``abrasion``: a rope piece crossing a ``boulder`` or ``hazard`` feature, other than the
   stretch of that crossing which touches an ``edge`` pass (protected, modelled edge) or an
   anchor standing on the feature (the anchor's own wrap).
-* ``overpull``: potential force at the load = haul force x ideal MA (what the team could
-  deliver if friction vanished, e.g. the moment the load breaks free).  Limit, first that
+* ``overpull``: potential force at the load = haul force x the larger of the nominal and the
+  ideal MA (what the team could deliver if friction vanished, e.g. the moment the load breaks
+  free; the strand count when the drawn angles give less).  Limit, first that
   applies: ``settings.overpull_limit_N``; else the least of ``OVERPULL_FACTOR`` x the
   load's ``required_N`` (common practice, no source) and the working strength
   (MBS / SF) of the weakest rope or hardware attached at the load.  Haul motion only.
@@ -50,6 +54,7 @@ import math
 from typing import Callable, Iterable
 
 import numpy as np
+import shapely
 from shapely.geometry import LineString, Point as ShPoint, Polygon
 from shapely.geometry.base import BaseGeometry
 
@@ -59,20 +64,22 @@ from solver.pull_needed import check_short
 from solver.weak_links import check_grabs, weakest_ends
 from solver.model import Hardware, Material, Rig
 from solver.result import Result, Warning_
+from solver.tensioned_line import check_tensioned_lines, is_line_leg_pair
 
 log = logging.getLogger(__name__)
 
 #: Every code run_checks can produce, with its meaning (reports and the legend use this).
 CODES: dict[str, str] = {
-    "anchor-over": "an anchor's resultant exceeds its rated capacity",
-    "anchor-margin": "an anchor's resultant times the safety factor exceeds its capacity",
+    "anchor-over": "an anchor's resultant exceeds its breaking strength or rated working load",
+    "anchor-margin": "an anchor's resultant times the safety factor exceeds its breaking strength",
     "anchor-unrated": "a loaded anchor has no capacity entered, so its margin is unknown",
     "rope-over": "a rope, sling or cord piece carries more than its MBS",
     "rope-margin": "a rope, sling or cord piece is below the chosen safety factor",
     "hardware-over": "a pulley, carabiner, ring or edge carries more than its MBS",
     "hardware-margin": "a pulley, carabiner, ring or edge is below the chosen safety factor",
     "spec-unknown": "a rope or hardware spec is missing, so its margin cannot be checked",
-    "wide-anchor": "two anchor legs meet at more than 120 degrees (ASME B30.9)",
+    "wide-anchor": "two anchor legs meet at a master point or sling at more than 120 degrees (ASME B30.9)",
+    "line-leg-factor": "a tensioned line's legs carry more than twice the load across it (T = P / (2 sin θ))",
     "slack-run": "a run of rope carries no load",
     "abrasion": "a rope piece crosses a boulder or hazard without a modelled edge",
     "overpull": "the haul team could pull harder on the load than the set limit",
@@ -192,17 +199,25 @@ def check_anchors(rig: Rig, result: Result) -> list[Warning_]:
                 f"it needs at least {_force(rig, force * sf)} for a {sf:g}:1 safety factor.",
                 "info"))
             continue
+        if p.capacity_kind == "working":  # a rated working load has its factor in it: warn only above it
+            if force > float(cap):
+                out.append(Warning_(
+                    "anchor-over", p.id,
+                    f"{p.name} takes {_force(rig, force)}{held}, more than its rated working load of "
+                    f"{_force(rig, cap)} (no safety factor applied to a working load).",
+                    "danger"))
+            continue
         m = _margin(rig, force, float(cap))
         if m == "over":
             out.append(Warning_(
                 "anchor-over", p.id,
-                f"{p.name} takes {_force(rig, force)}{held}, more than its capacity of {_force(rig, cap)}.",
+                f"{p.name} takes {_force(rig, force)}{held}, more than its breaking strength of {_force(rig, cap)}.",
                 "danger"))
         elif m == "margin":
             out.append(Warning_(
                 "anchor-margin", p.id,
                 f"{p.name} takes {_force(rig, force)}{held}: safety factor {cap / force:.1f}:1, "
-                f"below {sf:g}:1 (capacity {_force(rig, cap)}).",
+                f"below {sf:g}:1 (breaking strength {_force(rig, cap)}).",
                 "warning"))
     return out
 
@@ -217,37 +232,45 @@ def check_unrated_drawn(rig: Rig) -> list[Warning_]:
     ]
 
 
-def check_ropes(rig: Rig, result: Result) -> list[Warning_]:
+def check_ropes(rig: Rig, result: Result, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
     """Each rope piece's tension against its strength (MBS × a knot's efficiency, :mod:`solver.weak_links`);
-    one warning per rope (its worst piece)."""
+    one warning per rope (its worst piece).
+
+    ``pcs``: the rig's :func:`~solver.danger.pieces` for this result if already made (``run_checks``).
+    """
     out: list[Warning_] = []
     sf = _sf(rig)
     worst: dict[str, Piece] = {}
     kept = weakest_ends(rig)  # (rope, piece) -> (termination, point): the share of MBS a knot keeps
     eff = lambda pc: kept[(pc.rope.id, pc.index)][0].efficiency if (pc.rope.id, pc.index) in kept else 1.0  # noqa: E731
-    for pc in pieces(rig, result):
+    for pc in pieces(rig, result) if pcs is None else pcs:
         if pc.tension_N is None:
             continue
         if pc.rope.id not in worst or pc.tension_N / eff(pc) > (worst[pc.rope.id].tension_N or 0.0) / eff(worst[pc.rope.id]):
             worst[pc.rope.id] = pc
+    specs: dict[str, Material | None] = {}  # each material looked up once, not once per rope
     for rope in rig.ropes:
         pc = worst.get(rope.id)
         if pc is None or not pc.loaded:
             continue
         t = float(pc.tension_N or 0.0)
-        mat = _material(rig, rope.material)
-        where = f"between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}"
+        if rope.material not in specs:
+            specs[rope.material] = _material(rig, rope.material)
+        mat = specs[rope.material]
         if mat is None:
             out.append(Warning_("spec-unknown", rope.id,
                                 f"{rope.name}: material '{rope.material}' is not known, so its margin is not checked.",
                                 "warning"))
             continue
-        what = {"sling": "sling", "cord": "cord"}.get(mat.kind, "rope")
         knot = kept.get((rope.id, pc.index))
         strength = float(mat.mbs_N) * (knot[0].efficiency if knot else 1.0)
+        m = _margin(rig, t, strength)
+        if m is None:
+            continue
         of = (f"strength there of {_force(rig, strength)} (MBS {_force(rig, mat.mbs_N)} × {knot[0].efficiency:.0%} "
               f"for the {knot[0].label} at {_name(rig, knot[1])})") if knot else f"MBS of {_force(rig, mat.mbs_N)}"
-        m = _margin(rig, t, strength)
+        what = {"sling": "sling", "cord": "cord"}.get(mat.kind, "rope")
+        where = f"between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}"
         if m == "over":
             out.append(Warning_("rope-over", rope.id,
                                 f"{rope.name} ({what}) carries {_force(rig, t)} {where}, more than its {of}.",
@@ -300,9 +323,10 @@ def check_hardware(rig: Rig, result: Result) -> list[Warning_]:
     for r in rig.ropes:
         for ps in r.path:
             passes_at[ps.at] = passes_at.get(ps.at, 0) + 1
+    pushed = {fc.at for fc in rig.forces}
     for rope_id, k, at, f in pass_loads(rig, result):
         rng = result.hold_anchor_range.get(at)
-        if rng is not None and passes_at.get(at) == 1 and not any(fc.at == at for fc in rig.forces):
+        if rng is not None and passes_at.get(at) == 1 and at not in pushed:
             f = max(f, float(rng.high))
         if f <= 0.0:
             continue
@@ -335,17 +359,18 @@ def leg_force_factor(included_deg: float) -> float:
     return 1.0 / (2.0 * math.cos(math.radians(included_deg) / 2.0))
 
 
-def two_leg_anchors(rig: Rig, result: Result | None) -> list[tuple[str, str, str, float]]:
+def two_leg_anchors(rig: Rig, result: Result | None,
+                    pcs: Iterable[Piece] | None = None) -> list[tuple[str, str, str, float]]:
     """Free points held by exactly two legs to anchors: (point id, anchor 1, anchor 2, included angle deg)."""
     pos = positions(rig, result)
     kinds = {p.id: p.kind for p in rig.points}
     legs: dict[str, list[tuple[str, Piece]]] = {}
-    for pc in pieces(rig, result):
+    for pc in pieces(rig, result) if pcs is None else pcs:
         for here, there, k, k_there in ((pc.a_id, pc.b_id, pc.index, pc.index + 1),
                                         (pc.b_id, pc.a_id, pc.index + 1, pc.index)):
             if kinds.get(there) != "anchor":
                 continue
-            pt = next((p for p in rig.points if p.id == here), None)
+            pt = rig.point(here) if rig.has_point(here) else None
             if pt is None or pt.is_fixed or not pt.is_structural:
                 continue
             # a leg is tied to its anchor and tied (or slides, equalising) at the junction;
@@ -368,17 +393,18 @@ def two_leg_anchors(rig: Rig, result: Result | None) -> list[tuple[str, str, str
     return out
 
 
-def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
+def check_wide_anchors(rig: Rig, result: Result | None, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
     """Two-leg anchors with an included angle over 120 degrees (ASME B30.9)."""
     out = []
+    # a tensioned line (highline) is checked on its leg-force factor instead
+    wide = [(here, a1, a2, ang) for here, a1, a2, ang in two_leg_anchors(rig, result, pcs)
+            if ang > WIDE_ANCHOR_DEG and not is_line_leg_pair(rig, here, a1, a2)]
     tens: dict[frozenset[str], float] = {}
-    if result is not None and result.ok:
+    if wide and result is not None and result.ok:
         for s in result.segments:
             key = frozenset((s.from_point, s.to_point))
             tens[key] = max(tens.get(key, 0.0), float(s.tension_N))
-    for here, a1, a2, ang in two_leg_anchors(rig, result):
-        if ang <= WIDE_ANCHOR_DEG:
-            continue
+    for here, a1, a2, ang in wide:
         fac = leg_force_factor(ang) if ang < 179.999 else float("inf")
         fac_txt = f"{fac:.2f}" if math.isfinite(fac) else "an unbounded multiple of"
         t1, t2 = tens.get(frozenset((here, a1))), tens.get(frozenset((here, a2)))
@@ -397,8 +423,18 @@ def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
 def check_slack(rig: Rig, result: Result) -> list[Warning_]:
     """Runs whose pieces all carry (practically) nothing."""
     out = []
+    # only ropes with a run whose solved pieces all carry (practically) nothing are walked run by run
+    quiet: dict[tuple[str, int], bool] = {}
+    for s in result.segments:
+        key = (s.rope, s.run)
+        quiet[key] = quiet.get(key, True) and float(s.tension_N) <= SLACK_MAX_N
+    candidates = {rope_id for (rope_id, _), q in quiet.items() if q}
+    if not candidates:
+        return out
     tens = {(s.rope, s.index): float(s.tension_N) for s in result.segments}
     for rope in rig.ropes:
+        if rope.id not in candidates:
+            continue
         for run in rope.runs():
             ts = [tens.get((rope.id, i)) for i in run.piece_indices]
             if not ts or any(t is None for t in ts):
@@ -517,6 +553,13 @@ def overpull_limit(rig: Rig, result: Result, load_id: str) -> tuple[float, str] 
     return min(cands, key=lambda c: c[0]) if cands else None
 
 
+def overpull_ma(result: Result) -> tuple[str, float] | None:
+    """(which, MA) the overpull check multiplies by: the larger (more conservative) of nominal and ideal."""
+    cands = [(name, float(v)) for name, v in (("nominal", result.ma_nominal), ("ideal", result.ma_ideal))
+             if v is not None and math.isfinite(v) and v > 0]
+    return max(cands, key=lambda c: c[1]) if cands else None
+
+
 def check_haul(rig: Rig, result: Result) -> list[Warning_]:
     """Overpull (haul force x ideal MA over the limit); a load not freed is :func:`solver.pull_needed.check_short`."""
     out: list[Warning_] = []
@@ -529,38 +572,45 @@ def check_haul(rig: Rig, result: Result) -> list[Warning_]:
     for ld in rig.points_of_kind("load"):
         if ld.id not in result.loads:
             continue
-        if result.ma_ideal is not None and result.ma_ideal > 0:
-            potential = total * float(result.ma_ideal)
+        ma_used = overpull_ma(result)
+        if ma_used is not None:
+            which, ma_up = ma_used
+            potential = total * ma_up
             lim = overpull_limit(rig, result, ld.id)
             if lim is not None and potential > lim[0]:
                 out.append(Warning_(
                     "overpull", ld.id,
-                    f"The haul team ({_force(rig, total)}) × ideal MA {result.ma_ideal:.2f} could put "
+                    f"The haul team ({_force(rig, total)}) × {which} MA {ma_up:.2f} could put "
                     f"{_force(rig, potential)} on {ld.name}, over {lim[1]} ({_force(rig, lim[0])}). "
                     f"Use fewer haulers or less mechanical advantage, or watch the load's attachment.",
                     "warning"))
     return out
 
 
-def check_two_blocked(rig: Rig, result: Result) -> list[Warning_]:
+def check_two_blocked(rig: Rig, result: Result, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
     """Pieces with a free end that have shrunk to the hardware size: out of throw."""
     out: list[Warning_] = []
     if any(w.code == "two-blocked" for w in result.warnings):
         return out  # the solver found it with its own contact model; do not say it twice
-    pts = {p.id: p for p in rig.points}
+    fixed = {p.id: p.is_fixed for p in rig.points}
+    size_of: dict[str, float] = {}  # hardware id -> size (m), each spec looked up once
+
+    def size(hw_id: str | None) -> float:
+        if not hw_id:
+            return 0.0
+        if hw_id not in size_of:
+            hw = _hardware(rig, hw_id)
+            size_of[hw_id] = float(hw.size_m) if hw is not None and hw.size_m else 0.0
+        return size_of[hw_id]
+
     seen = set()
-    for pc in pieces(rig, result):
-        if pc.a_id == pc.b_id or pc.a_id not in pts or pc.b_id not in pts:
+    for pc in pieces(rig, result) if pcs is None else pcs:
+        if pc.a_id == pc.b_id or pc.a_id not in fixed or pc.b_id not in fixed:
             continue
-        if pts[pc.a_id].is_fixed and pts[pc.b_id].is_fixed:
+        if fixed[pc.a_id] and fixed[pc.b_id]:
             continue
-        sizes = [0.0]
-        for k in (pc.index, pc.index + 1):
-            hw_id = pc.rope.path[k].hardware
-            hw = _hardware(rig, hw_id) if hw_id else None
-            if hw is not None and hw.size_m:
-                sizes.append(float(hw.size_m))
-        if pc.length_m <= max(sizes) + TWO_BLOCK_TOL_M:
+        path = pc.rope.path
+        if pc.length_m <= max(size(path[pc.index].hardware), size(path[pc.index + 1].hardware)) + TWO_BLOCK_TOL_M:
             key = frozenset((pc.a_id, pc.b_id))
             if key in seen:
                 continue
@@ -576,14 +626,15 @@ def check_two_blocked(rig: Rig, result: Result) -> list[Warning_]:
 def people_in_zones(rig: Rig, zones: Iterable[DangerZone]) -> list[tuple[str, DangerZone]]:
     """(point id, zone) for every person or haul point inside a zone, haul teams excused from their own rope end."""
     zones = list(zones)
+    people = [p for p in rig.points if p.kind in ("person", "haul")]
+    if not zones or not people:
+        return []
+    geoms = np.array([z.geometry for z in zones], dtype=object)
     out = []
-    for p in rig.points:
-        if p.kind not in ("person", "haul"):
-            continue
-        pt = ShPoint(p.x, p.y)
-        for z in zones:
-            if not z.geometry.contains(pt):  # strictly inside: a leg's far end is not in its own bight
-                continue
+    for p in people:
+        # strictly inside (shapely "contains"): a leg's far end is not in its own bight; all zones at once
+        for i in np.flatnonzero(shapely.contains_xy(geoms, p.x, p.y)):
+            z = zones[i]
             if p.kind == "haul" and z.kind == "recoil" and _piece_ends_at(rig, z.rope, z.piece, p.id):
                 continue
             out.append((p.id, z))
@@ -600,6 +651,8 @@ def _piece_ends_at(rig: Rig, rope_id: str, piece: int, point_id: str) -> bool:
 
 def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None) -> list[Warning_]:
     """Person and haul points inside bight or recoil zones."""
+    if not any(p.kind in ("person", "haul") for p in rig.points):
+        return []  # nobody to warn: the zones are left for whoever draws them
     if zones is None:
         zones = danger_zones(rig, result)
     out = []
@@ -615,9 +668,13 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
 
 #: Checks that need solved forces, in report order.
 FORCE_CHECKS: tuple[Callable[[Rig, Result], list[Warning_]], ...] = (
-    check_anchors, check_ropes, check_hardware, check_wide_anchors, check_slack,
+    check_anchors, check_ropes, check_hardware, check_wide_anchors, check_tensioned_lines, check_slack,
     check_abrasion, check_haul, check_short, check_two_blocked, check_people, check_grabs,
 )
+
+
+#: The checks that accept the rig's pieces already made (their third argument).
+_TAKE_PIECES = frozenset({check_ropes, check_wide_anchors, check_two_blocked})
 
 
 def run_checks(rig: Rig, result: Result) -> tuple[Warning_, ...]:
@@ -629,6 +686,7 @@ def run_checks(rig: Rig, result: Result) -> tuple[Warning_, ...]:
         found += check_wide_anchors(rig, None) + check_abrasion(rig, None) + check_unrated_drawn(rig)
         return tuple(found)
     found = []
+    pcs = list(pieces(rig, result))  # made once for the checks that walk every piece
     for chk in FORCE_CHECKS:
-        found += chk(rig, result)
+        found += chk(rig, result, pcs) if chk in _TAKE_PIECES else chk(rig, result)
     return tuple(found)
