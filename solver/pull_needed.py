@@ -267,7 +267,9 @@ def _limit_words(rig: Rig, need: LoadNeed) -> str:
     name = rig.point(need.limit_subject).name if need.limit_subject and rig.has_point(need.limit_subject) else ""
     kind = need.limit
     if kind == "anchor-fails":
-        return f"{name} would take {f(need.limit_force_N)}, over its capacity of {f(need.limit_strength_N)}"
+        working = rig.has_point(need.limit_subject) and rig.point(need.limit_subject).capacity_kind == "working"
+        what = "rated working load" if working else "capacity (breaking strength)"
+        return f"{name} would take {f(need.limit_force_N)}, over its {what} of {f(need.limit_strength_N)}"
     if kind == "rope-fails":
         rope = rig.rope(need.limit_subject).name if need.limit_subject in {r.id for r in rig.ropes} else ""
         return (f"{rope} would carry {f(need.limit_force_N)} ({need.limit_message}), over its strength of "

@@ -193,3 +193,12 @@ def test_a_load_more_pull_cannot_reach_says_the_mechanism_stops_giving():
     need = res.needs["L"]
     assert res.loads["L"].force_N == pytest.approx(500.0, rel=1e-9)
     assert need.pull_needed_N is None and need.limit == "ma-collapses"
+
+
+def test_an_anchor_rated_by_working_load_stops_the_pull_at_that_load_and_says_so():
+    # a working load is the most the anchor may take (solver.capacity): the pull stops there too
+    rig = vector_rig(2000.0, capacity=1500.0)
+    rig = rig.with_point(replace(rig.point("A"), capacity_kind="working"))
+    res = analyse(rig)
+    assert res.needs["L"].limit == "anchor-fails"
+    assert "rated working load of 1.50 kN" in next(w.message for w in res.warnings if w.code == "load-stuck")
