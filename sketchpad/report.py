@@ -247,8 +247,8 @@ def haul_sentences(rig: Rig, result: Result) -> list[str]:
             continue
         need_of = result.needs.get(lid)
         if need_of is not None:
-            out.append(f"Pull needed for {p.name}, found by solving the rig at trial pulls (every haul team and "
-                       f"pulling force scaled together, the friction of the motion counted): "
+            out.append(f"Pull needed for {p.name} (the rig solved at trial pulls, every haul team and pulling force "
+                       f"scaled together, the friction of the motion counted). "
                        + need_sentence(rig, need_of) + " The pull per person is a sustained long-haul figure: "
                        "if the load does not move, stop and re-assess rather than pull harder.")
         elif p.required_N is None:
