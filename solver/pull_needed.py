@@ -32,6 +32,8 @@ from solver.result import LoadNeed, Result
 
 #: Relative accuracy of the pull found (on log pull), well inside the 0.5 % a rigger can act on.
 PULL_RTOL = 2e-4
+#: The first trial pull: this much above the straight-line guess (required ÷ delivered × today's pull).
+FIRST_OVER = 1.05
 #: The bracket grows by this factor a step while the load is short.
 GROW = 2.0
 #: Give up growing the pull after this many steps (2^14 ≈ 16 000 × the first guess): "no pull reaches it".
@@ -200,8 +202,10 @@ def need_for_load(rig: Rig, result: Result, load_id: str, required_N: float | No
         p = pulls.now if pulls.now > 0 else per
         lo_f = delivered if pulls.now > 0 else None
         lo = pulls.now if pulls.now > 0 else None
-        # first guess: straight-line scaling (what "required ÷ MA" assumes), then double until enough
-        p = p * max(GROW, req / delivered) if delivered > 0 and pulls.now > 0 else p
+        # first guess: a little above straight-line scaling (what "required ÷ MA" assumes: the MA of a moving
+        # geometry usually falls as the pull grows), then double until enough; a load given nothing yet: double
+        if pulls.now > 0:
+            p = p * (max(FIRST_OVER, FIRST_OVER * req / delivered) if delivered > 0 else GROW)
         for _ in range(MAX_GROW_STEPS):
             res, f = at(p)
             lim = _limit(rig, res, f, lo_f)
