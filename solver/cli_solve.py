@@ -76,6 +76,10 @@ def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -
                      + (f" ({fc.label})" if fc.label else ""), f(fc.magnitude_N),
                      direction_text(fc.direction_deg, rig.view, fc.magnitude_N)] for fc in rig.forces]
             parts.append("\nForces drawn\n" + _table(["on", "size", direction_heading(rig.view, "toward")], rows))
+        links = _weak_link_rows(rig, result, f)
+        if links:
+            parts.append("\nWeak links (knots: share of MBS kept, in the margins above; grabs: slip force)\n"
+                         + _table(["rope", "at", "what", "figure used", "carries"], links))
         if result.haul:
             parts.append("\nHaul: " + ", ".join(f"{hid} {f(v)}" for hid, v in result.haul.items()))
         if result.ma_actual is not None:
@@ -89,6 +93,21 @@ def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -
     parts.append("")
     parts += [f"Caution: {line}" for line in caution_lines()]
     return "\n".join(parts)
+
+
+def _weak_link_rows(rig: Rig, result: Result, f) -> list[list[str]]:
+    """One row per knot or rope grab (solver.weak_links): where, what, the figure its margin used, the force."""
+    from solver.weak_links import weak_links
+
+    rows = []
+    for w in weak_links(rig, result):
+        figure = (f"{w.efficiency:.0%} of MBS = {f(w.strength_N)}" if w.kind == "termination" and w.strength_N
+                  else f"{w.efficiency:.0%} of MBS" if w.kind == "termination" else f"slips at {f(w.slip_N)}")
+        carried = "—" if w.force_N is None else f(w.force_N)
+        if w.kind == "grab" and w.force_N is not None and w.slip_N and w.force_N > w.slip_N:
+            carried += " (slides)"
+        rows.append([w.rope, w.at, w.label, figure, carried])
+    return rows
 
 
 def _need_cells(rig: Rig, result: Result, load_id: str, f) -> list[str]:

@@ -131,3 +131,15 @@ def test_a_grab_that_would_slide_first_is_what_stops_the_pull_needed():
     assert need.limit_strength_N == 1500.0 and need.limit_force_N > 1500.0
     msg = next(w.message for w in res.warnings if w.code == "load-stuck")
     assert "weak grab" in msg and "slides" in msg
+
+
+def test_cli_table_lists_each_weak_link_with_the_figure_its_margin_used():
+    from solver.cli_solve import format_result
+
+    rig = grab_rig(8000.0)
+    rope = rig.ropes[0]
+    rig = rig.with_rope(replace(rope, path=(replace(rope.path[0], termination="bowline"),) + rope.path[1:]))
+    text = format_result(rig, analyse(rig), "m", "kN")
+    table = text[text.index("Weak links"):]
+    # bowline 65 % of 30 kN = 19.5 kN (check-values.md, from memory); the grab holds 8 - 0.5 = 7.5 kN > 7 kN
+    assert "65% of MBS = 19.5 kN" in table and "slips at 7.00 kN" in table and "7.50 kN (slides)" in table
