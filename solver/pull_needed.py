@@ -30,6 +30,9 @@ from solver.hauling import DEFAULT_PER_PERSON_N
 from solver.model import Rig
 from solver.result import LoadNeed, Result
 
+#: The solver: (rig, start=..., ideal=...) -> Result (solver.equilibrium.solve unless a test counts its calls).
+Solve = Callable[..., Result]
+
 #: Relative accuracy of the pull found (on log pull), well inside the 0.5 % a rigger can act on.
 PULL_RTOL = 2e-4
 #: The first trial pull: this much above the straight-line guess (required ÷ delivered × today's pull).
@@ -43,8 +46,6 @@ MAX_SHRINK_STEPS = 12
 #: Brent iterations at most (each is one solve).
 MAX_ROOT_SOLVES = 30
 
-Solve = Callable[..., Result]
-
 
 @dataclass(frozen=True)
 class _Limit:
@@ -55,6 +56,14 @@ class _Limit:
     force_N: float | None = None
     strength_N: float | None = None
     message: str = ""
+
+
+class _Stopped(Exception):
+    """A trial pull at which the rig did not solve (raised out of the root finder)."""
+
+    def __init__(self, log_pull: float) -> None:
+        super().__init__(log_pull)
+        self.log_pull = log_pull
 
 
 class _Pulls:
@@ -232,10 +241,16 @@ def need_for_load(rig: Rig, result: Result, load_id: str, required_N: float | No
     from scipy.optimize import brentq
 
     def gap(log_pull: float) -> float:
-        _, f = at_log(log_pull)
-        return (f if f is not None else math.nan) - req
+        res, f = at_log(log_pull)
+        if f is None:  # the rig stopped solving inside the bracket: that comes first
+            raise _Stopped(log_pull)
+        return f - req
 
-    log_p = brentq(gap, math.log(lo), math.log(hi), xtol=PULL_RTOL, rtol=1e-10, maxiter=MAX_ROOT_SOLVES)
+    try:
+        log_p = brentq(gap, math.log(lo), math.log(hi), xtol=PULL_RTOL, rtol=1e-10, maxiter=MAX_ROOT_SOLVES)
+    except _Stopped as stop:
+        res, _ = at_log(stop.log_pull)
+        return _unreachable(base, _limit(rig, res, None, None) or _Limit("stops-holding"), math.exp(stop.log_pull))
     pull = math.exp(log_p)
     res, f = at_log(log_p)
     lim = _limit(rig, res, None, None)
