@@ -303,7 +303,7 @@ def _limit_words(rig: Rig, need: LoadNeed) -> str:
     if kind == "ma-collapses":
         got = f" beyond {f(need.limit_force_N)}" if need.limit_force_N is not None else ""
         return f"the mechanical advantage collapses: more pull delivers no more to the load{got}"
-    return "nothing in the rig pulls (no haul team and no pulling force)"
+    return kind
 
 
 def need_sentence(rig: Rig, need: LoadNeed) -> str:
@@ -318,6 +318,8 @@ def need_sentence(rig: Rig, need: LoadNeed) -> str:
         return (f"Solved on the rig: a total pull of {f(need.pull_needed_N)} gets it there, "
                 f"{people} puller{'s' if people != 1 else ''} at {f(need.per_person_N)} each "
                 f"(pull drawn now: {f(need.pull_now_N)}).")
+    if need.limit == "no-pull":
+        return "Nothing in the rig pulls (no haul team and no pulling force), so no pull can be worked out."
     at = f" at a total pull of {f(need.limit_pull_N)}" if need.limit_pull_N is not None else ""
     return f"No pull gets it there: {_limit_words(rig, need)}{at} comes first."
 

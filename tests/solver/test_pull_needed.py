@@ -202,3 +202,11 @@ def test_an_anchor_rated_by_working_load_stops_the_pull_at_that_load_and_says_so
     res = analyse(rig)
     assert res.needs["L"].limit == "anchor-fails"
     assert "rated working load of 1.50 kN" in next(w.message for w in res.warnings if w.code == "load-stuck")
+
+
+def test_a_load_on_a_pretensioned_line_with_nothing_pulling_says_no_pull_can_be_worked_out():
+    pts = (Point("L", "load", 0.0, 0.0, required_N=900.0), Point("A", "anchor", 0.0, 20.0))
+    rope = Rope("m", "lin", (Pass("L"), Pass("A")), rigged=Rigging(pretension_N=500.0))
+    res = analyse(Rig(points=pts, ropes=(rope,), materials=(LINEAR,)))
+    assert res.needs["L"].limit == "no-pull" and res.needs["L"].pull_needed_N is None
+    assert "no pull can be worked out" in next(w.message for w in res.warnings if w.code == "load-stuck")
