@@ -210,3 +210,19 @@ def test_a_load_on_a_pretensioned_line_with_nothing_pulling_says_no_pull_can_be_
     res = analyse(Rig(points=pts, ropes=(rope,), materials=(LINEAR,)))
     assert res.needs["L"].limit == "no-pull" and res.needs["L"].pull_needed_N is None
     assert "no pull can be worked out" in next(w.message for w in res.warnings if w.code == "load-stuck")
+
+
+def test_a_rig_that_stops_solving_inside_the_bracket_is_named_not_passed_to_the_root_finder():
+    from solver.result import Result
+
+    rig = pulley_rig(2500.0, "hold")  # frictionless: the load gets the pull itself (440 N today)
+
+    def failing_between(r, **kwargs):
+        pull = next(r.points_of_kind("haul")).force_N
+        if 441.0 < pull < 2624.0:  # inside the bracket [440, 1.05 x 2500] the first guess makes
+            return Result(status="diverged", message="no equilibrium (test)", subject="H")
+        return solve(r, **kwargs)
+
+    need = need_for_load(rig, solve(rig), "L", solve=failing_between)
+    assert need.pull_needed_N is None and need.limit == "stops-holding"
+    assert need.limit_message == "no equilibrium (test)" and 441.0 < need.limit_pull_N < 2624.0
