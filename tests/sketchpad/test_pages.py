@@ -369,3 +369,19 @@ def test_a_rig_that_does_not_solve_gets_pages_that_say_so(qapp, tmp_path, capsys
     brief = tmp_path / "b.pdf"
     assert main(["brief", str(loose), "-o", str(brief)]) == 3
     assert "did not solve" in " ".join(page_texts(brief))
+
+
+def test_manual_contents_read_the_same_with_poppler(manual, tmp_path):
+    """pdftotext (poppler, an independent PDF reader) finds each title on the contents page with its page number."""
+    import shutil
+    import subprocess
+
+    if shutil.which("pdftotext") is None:
+        pytest.skip("poppler-utils (pdftotext) is not installed")
+    m, chapters, _, _ = manual
+    text = subprocess.run(["pdftotext", "-layout", "-f", "2", "-l", str(1 + m.contents_pages), str(m.path), "-"],
+                          check=True, capture_output=True, text=True).stdout
+    lines = [norm(line) for line in text.splitlines()]
+    for ch in chapters:
+        row = next(line for line in lines if line.startswith(norm(ch.title)))
+        assert row.split()[-1] == str(ch.first_page)
