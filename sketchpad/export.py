@@ -26,7 +26,6 @@ import math
 import os
 import pathlib
 import sys
-from dataclasses import dataclass
 from typing import Iterable
 
 from PySide6.QtCore import QMarginsF, QPointF, QRectF, QSize, Qt
@@ -44,6 +43,7 @@ from PySide6.QtGui import (
 
 from sketchpad import theme
 from sketchpad.glyphs import paint_north_arrow
+from sketchpad.pages.framing import Fit
 from solver.model import Rig
 from solver.result import Result
 
@@ -65,9 +65,9 @@ SIDEBAR_MIN_PX, SIDEBAR_MAX_PX = 250.0, 330.0
 PAD = 10.0  # inner padding of panels
 TITLE_PT, HEAD_PT, TEXT_PT, SMALL_PT = 13, 9, 8, 7
 MAX_SIDEBAR_WARNINGS = 8
-INK = QColor("#1d1d1a")
-MUTED = QColor("#55554f")
-RULE = QColor("#b9ae97")
+INK = theme.PAGE_INK
+MUTED = theme.PAGE_MUTED
+RULE = theme.PAGE_RULE
 PANEL_BACK = QColor("#fffefa")
 FAIL_BACK = QColor(163, 29, 24)
 DANGER_TEXT = QColor("#9c1238")
@@ -78,13 +78,6 @@ class ExportError(Exception):
 
 
 # --- the drawing ---------------------------------------------------------------------------
-@dataclass
-class Fit:
-    """Where the scene goes: ``source`` (scene metres) drawn into a target of ``size`` logical px."""
-
-    source: QRectF
-    px_per_m: float
-    size: tuple[float, float]
 
 
 class Drawing:
@@ -286,13 +279,7 @@ def print_force_item():
 
 
 # --- page furniture ------------------------------------------------------------------------
-def page_font(size: float, bold: bool = False, italic: bool = False) -> QFont:
-    """A fresh copy of the app's face at ``size`` points (fractions allowed), for drawings and reports."""
-    f = QFont(theme.FONT_FAMILY)
-    f.setPointSizeF(size)
-    f.setBold(bold)
-    f.setItalic(italic)
-    return f
+page_font = theme.page_font  # a fresh copy of the app's face at a size in points, for drawings and reports
 
 
 def wrap_text(painter: QPainter, rect: QRectF, text: str, font: QFont, colour: QColor = INK,
@@ -776,10 +763,6 @@ def run_file_command(command: str, args, check_output, write, failed_note: str) 
 
 def render_cli(args) -> int:
     """``ropewright render RIG -o OUT.(png|svg|pdf) [--size WxH]``: exit 0 written, 2 bad input, 3 solve failed."""
-    if getattr(args, "schematic", False) or getattr(args, "greyscale", False):
-        from sketchpad.pages.output import render_pages_cli
-
-        return render_pages_cli(args)
     sized = getattr(args, "size", None)
     fmt_size: list = []
 

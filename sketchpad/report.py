@@ -25,7 +25,7 @@ import io
 import logging
 import math
 import pathlib
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Callable
 
 from PySide6.QtCore import QPointF, QRectF, Qt
@@ -43,6 +43,7 @@ from sketchpad.export import (
     run_file_command,
     units_line,
 )
+from sketchpad.pages.table import Table
 from solver.materials import used_hardware_ids, used_material_ids
 from solver.model import Rig
 from solver.result import Result
@@ -119,17 +120,6 @@ def _hardware(rig: Rig, hw_id: str):
         return None
 
 
-@dataclass
-class Table:
-    """Header, rows of cell text, relative column widths, right-aligned columns, rows to flag red."""
-
-    title: str
-    header: tuple[str, ...]
-    rows: list[tuple[str, ...]]
-    widths: tuple[float, ...]
-    right: frozenset[int] = frozenset()
-    flagged: set[int] = field(default_factory=set)
-    note: str = ""
 
 
 def rope_table(rig: Rig, result: Result) -> Table:

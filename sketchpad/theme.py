@@ -245,7 +245,21 @@ def zone_brushes(kind: str) -> tuple[QBrush, QBrush]:
     return QBrush(fill), QBrush(hatch, Qt.FDiagPattern if kind == "recoil" else Qt.BDiagPattern)
 
 
-# --- printed pages (sketchpad.pages) -----------------------------------------------------------
+# --- printed pages (sketchpad.export, sketchpad.report, sketchpad.pages) --------------------------------
+PAGE_INK = QColor("#1d1d1a")  # body text and lines on paper
+PAGE_MUTED = QColor("#55554f")  # secondary text
+PAGE_RULE = QColor("#b9ae97")  # rules and frames
+
+
+def page_font(size: float, bold: bool = False, italic: bool = False) -> QFont:
+    """A fresh copy of the app's face at ``size`` points (fractions allowed), for drawings and reports."""
+    f = QFont(FONT_FAMILY)
+    f.setPointSizeF(size)
+    f.setBold(bold)
+    f.setItalic(italic)
+    return f
+
+
 #: Rope-use classes as line patterns (so a black-and-white print keeps what the ramp colours say):
 #: (lowest utilization, words, rail pen style, rail width px). Class bounds are the ramp's stops.
 UTIL_CLASSES: tuple[tuple[float, str, Qt.PenStyle, float], ...] = (

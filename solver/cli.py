@@ -31,7 +31,7 @@ HANDLERS: dict[str, str] = {
     "solve": "solver.cli_solve:run",
     "failures": "solver.cli_failures:run",
     "sweep": "solver.sweep:run_cli",
-    "render": "sketchpad.export:render_cli",
+    "render": "sketchpad.pages.output:render_cli",
     "report": "sketchpad.report:report_cli",
     "brief": "sketchpad.pages.brief:brief_cli",
     "manual": "sketchpad.pages.manual:manual_cli",

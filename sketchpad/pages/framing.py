@@ -9,6 +9,8 @@ put outside the page is left off (and counted, so the page says the tables hold 
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QPainter, QPainterPath, QPolygonF
 
@@ -26,6 +28,15 @@ MIN_SIDE_M = 4.0
 INSET_FRACTION, INSET_MAX_PX = 0.30, 170.0
 #: The inset is drawn only when the site reaches this much beyond the frame (fraction of the frame's size).
 INSET_WHEN_SITE_BEYOND = 0.15
+
+
+@dataclass
+class Fit:
+    """Where the scene goes: ``source`` (scene metres) drawn into a target of ``size`` logical px."""
+
+    source: QRectF
+    px_per_m: float
+    size: tuple[float, float]
 
 
 def site_rect_of_frame(frame: tuple[float, float, float, float]) -> QRectF:
@@ -67,8 +78,6 @@ def rig_frame(rig: Rig, result: Result | None = None) -> QRectF:
 def fit_frame(drawing, width: float, height: float):
     """Scale and source rectangle so ``rig_frame`` fills ``width`` x ``height`` px with room for labels;
     labels placed beyond the page are left off and counted in ``drawing.skipped``."""
-    from sketchpad.export import Fit
-
     width, height = max(width, 40.0), max(height, 40.0)
     frame = rig_frame(drawing.rig, drawing.result)
     room = min(LABEL_ROOM_PX, 0.12 * min(width, height))
@@ -225,9 +234,7 @@ def paint_locator(painter: QPainter, rect: QRectF, rig: Rig, source: QRectF) -> 
     painter.setBrush(Qt.NoBrush)
     painter.drawRect(frame)
     painter.setClipping(False)
-    from sketchpad.export import page_font
-
-    painter.setFont(page_font(6.5, italic=True))
+    painter.setFont(theme.page_font(6.5, italic=True))
     painter.setPen(theme.HUD_TEXT)
     painter.drawText(QPointF(rect.left(), rect.bottom() + 12), "whole site; dashed: this drawing")
     painter.restore()
@@ -248,5 +255,5 @@ def frame_in_px(frame: QRectF, source: QRectF, k: float) -> QRectF:
                   frame.width() * k, frame.height() * k)
 
 
-__all__ = ["rig_frame", "fit_frame", "feature_label_boxes", "paint_inset", "paint_locator", "needs_inset", "site_rect_of_frame",
+__all__ = ["Fit", "rig_frame", "fit_frame", "feature_label_boxes", "paint_inset", "paint_locator", "needs_inset", "site_rect_of_frame",
            "frame_of_scene_rect", "hide_labels_outside", "label_boxes_px"]

@@ -77,6 +77,16 @@ def paint_schematic_page(painter: QPainter, rect: QRectF, rig: Rig, result: Resu
     return layout
 
 
+def render_cli(args) -> int:
+    """``ropewright render``: the plain drawing by :func:`sketchpad.export.render_cli`; with ``--schematic`` or
+    ``--greyscale`` by :func:`render_pages_cli`."""
+    if getattr(args, "schematic", False) or getattr(args, "greyscale", False):
+        return render_pages_cli(args)
+    from sketchpad.export import render_cli as plain
+
+    return plain(args)
+
+
 def render_pages_cli(args) -> int:
     """``ropewright render RIG -o OUT [--schematic] [--greyscale]``: the drawing or the schematic, colour or grey."""
     from sketchpad.export import (DEFAULT_SIZE, Drawing, _titles, ensure_app, format_of, paint_page, parse_size,
@@ -104,4 +114,4 @@ def render_pages_cli(args) -> int:
     return run_file_command("render", args, check_output, write, "without forces")
 
 
-__all__ = ["write_page", "paint_schematic_page", "render_pages_cli"]
+__all__ = ["write_page", "paint_schematic_page", "render_cli", "render_pages_cli"]

@@ -196,8 +196,9 @@ def _overlaps(poly: QPolygonF, others: list[QPainterPath]) -> bool:
 
 def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | None) -> SchematicLayout:
     """The schematic of ``rig`` into ``rect`` (page px); returns what was drawn (labels for checks)."""
-    from sketchpad.export import INK, page_font
     from sketchpad.pages.symbol_key import paint_point_symbol
+
+    page_font, INK = theme.page_font, theme.PAGE_INK
 
     layout = SchematicLayout()
     to_px, _k = _page_transform(rig, result, rect)
@@ -343,11 +344,10 @@ def _paint_rings_and_edges(painter: QPainter, rig: Rig, px: dict[str, QPointF]) 
 
 def _paint_forces(painter: QPainter, rig: Rig, px: dict[str, QPointF]) -> list[QRectF]:
     """Each drawn force as the plan's arrow with its size; returns the boxes they take (label obstacles)."""
-    from sketchpad.export import page_font
     from solver.units import format_force
 
     boxes = []
-    font = page_font(LABEL_PT)
+    font = theme.page_font(LABEL_PT)
     fm = QFontMetricsF(font)
     for f in rig.forces:
         if f.at not in px or f.magnitude_N <= 0:

@@ -10,6 +10,7 @@ from __future__ import annotations
 from PySide6.QtCore import QRectF, Qt
 from PySide6.QtGui import QImage, QPainter
 
+from sketchpad import theme
 from solver.model import Rig
 from solver.result import Result
 from solver.units import format_length
@@ -20,7 +21,7 @@ SCHEMATIC_MAX_H_PX = 520.0
 
 def rope_budget_table(rig: Rig, result: Result | None):
     """One row per rope: length used (stretched + tails) against the length carried; short ropes flagged."""
-    from sketchpad.report import Table
+    from sketchpad.pages.table import Table
     from solver.gear import rope_budget
 
     lu = rig.display.length
@@ -46,7 +47,7 @@ def rope_budget_table(rig: Rig, result: Result | None):
 
 def gear_table(rig: Rig, result: Result | None):
     """The gear list: pulleys, captures, grabs, carabiners, slings and ropes by kind, with how they were counted."""
-    from sketchpad.report import Table
+    from sketchpad.pages.table import Table
     from solver.gear import gear_list
 
     g = gear_list(rig, result)
@@ -66,7 +67,7 @@ def gear_table(rig: Rig, result: Result | None):
 
 def roles_table(rig: Rig, result: Result | None):
     """Every person on the plan: role, where they stand, and whether that is inside a danger zone (flagged)."""
-    from sketchpad.report import Table
+    from sketchpad.pages.table import Table
     from solver.roles import placements
 
     t = Table("People and roles", ("Person", "Role", "Stands", "Danger zones"), [], (1.4, 1.4, 2.6, 2.2),
@@ -81,14 +82,13 @@ def roles_table(rig: Rig, result: Result | None):
 
 def paint_schematic_block(painter: QPainter, rect: QRectF, rig: Rig, result: Result | None) -> None:
     """The schematic with the key under it, framed (a figure for reports and the manual)."""
-    from sketchpad.export import RULE
     from sketchpad.pages.schematic import paint_schematic
     from sketchpad.pages.symbol_key import paint_symbol_key, symbol_key_height
 
     key_h = symbol_key_height(painter, rect.width(), with_classes=False)
     draw = QRectF(rect.left(), rect.top(), rect.width(), rect.height() - key_h - 4)
     paint_schematic(painter, draw, rig, result)
-    painter.setPen(RULE)
+    painter.setPen(theme.PAGE_RULE)
     painter.setBrush(Qt.NoBrush)
     painter.drawRect(draw)
     paint_symbol_key(painter, QRectF(rect.left(), draw.bottom() + 4, rect.width(), key_h), with_classes=False)
@@ -114,7 +114,6 @@ def schematic_block_height(width: float, rig: Rig | None = None, result: Result 
 
 def add_sections(flow, rig: Rig, result: Result | None) -> None:
     """The schematic, people and roles, rope lengths and the gear list, flowed into a report."""
-    from sketchpad.export import page_font
     from sketchpad.pages.schematic import caption
 
     h = schematic_block_height(flow.width, rig, result)
@@ -122,7 +121,7 @@ def add_sections(flow, rig: Rig, result: Result | None) -> None:
     flow.heading("Schematic: strands side by side, tensions in units of the haul force (T)")
     flow.block(h, lambda p, r: paint_schematic_block(p, r, rig, result))
     flow.y += 3
-    flow.text(caption(rig, result), page_font(7.5, italic=True))
+    flow.text(caption(rig, result), theme.page_font(7.5, italic=True))
     for t in (roles_table(rig, result), rope_budget_table(rig, result), gear_table(rig, result)):
         flow.table(t)
 

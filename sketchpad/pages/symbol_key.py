@@ -31,9 +31,7 @@ PASS_KINDS = ("pulley", "capture", "grab", "sliding", "edge")
 
 
 def _font():
-    from sketchpad.export import page_font
-
-    return page_font(TEXT_PT)
+    return theme.page_font(TEXT_PT)
 
 
 def paint_point_symbol(painter: QPainter, centre: QPointF, kind: str) -> None:
@@ -139,8 +137,6 @@ def entries(with_classes: bool = True) -> list[tuple[str, str]]:
 
 def paint_symbol_key(painter: QPainter, rect: QRectF, with_classes: bool = True, draw: bool = True) -> float:
     """The key in rows inside ``rect``'s width from its top; returns the height used (px)."""
-    from sketchpad.export import INK
-
     font = _font()
     fm = QFontMetricsF(font)
     x, y = rect.left(), rect.top()
@@ -153,7 +149,7 @@ def paint_symbol_key(painter: QPainter, rect: QRectF, with_classes: bool = True,
         if draw:
             paint_symbol(painter, QPointF(x + GLYPH_W / 2, y + ROW_H / 2), kind)
             painter.setFont(font)
-            painter.setPen(INK)
+            painter.setPen(theme.PAGE_INK)
             painter.drawText(QPointF(x + GLYPH_W + 3, y + ROW_H / 2 + fm.ascent() / 2 - 1), words)
         x += w
     painter.restore()
