@@ -16,7 +16,7 @@ from PySide6.QtCore import QPointF, QRectF
 from PySide6.QtGui import QImage, QPainter, QPainterPath
 
 from solver.analysis import analyse
-from solver.cautions import SHORT_CAUTION
+from solver.cautions import LIMITS_CAUTION, SHORT_CAUTION
 from solver.cli import main
 from solver.rigfile import load_rig
 from tests.conftest import SAMPLES
@@ -262,7 +262,8 @@ def test_brief_is_one_page_with_every_part(qapp, tmp_path):
     t = pages[0]
     rig = load_rig(RAFT)
     for part in ("Commands", "Roles and where they stand", "Worst loads and margins", "What to watch",
-                 "Planned by", "Checked by", "Date and time", "safety officer", norm(SHORT_CAUTION)):
+                 "Planned by", "Checked by", "Date and time", "safety officer", norm(SHORT_CAUTION),
+                 norm(LIMITS_CAUTION)):
         assert part in t, part
     assert has_key(t)
     assert norm(rig.title) in t
