@@ -17,7 +17,7 @@ ANCHOR_TYPES: tuple[str, ...] = ("tree", "boulder", "vehicle", "picket", "bolt",
 PASS_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge", "hauled")
 MIDDLE_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge")
 MATERIAL_KINDS: tuple[str, ...] = ("rope", "sling", "cord")
-HARDWARE_KINDS: tuple[str, ...] = ("pulley", "carabiner", "edge", "ring")
+HARDWARE_KINDS: tuple[str, ...] = ("pulley", "carabiner", "edge", "ring", "grab")
 FEATURE_KINDS: tuple[str, ...] = ("water", "boulder", "bank", "hazard", "note")
 MOTIONS: tuple[str, ...] = ("haul", "hold", "lower")
 VIEWS: tuple[str, ...] = ("plan", "elevation")
@@ -179,7 +179,7 @@ class Material:
 
 @dataclass(frozen=True)
 class Hardware:
-    """A pulley, carabiner, edge or ring: efficiency or friction coefficient, and strength."""
+    """A pulley, carabiner, edge, ring or rope grab: efficiency, friction coefficient or slip force, and strength."""
 
     id: str
     kind: str
@@ -189,6 +189,7 @@ class Hardware:
     label: str = ""
     source: str = ""
     size_m: float | None = None  # closest two passes may come (two-blocking), optional
+    slip_N: float | None = None  # rope grab: held force at which it starts to slide along the rope, N
     extra: Mapping[str, Any] = field(default_factory=dict)
 
     @property

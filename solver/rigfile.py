@@ -69,6 +69,7 @@ _MATERIAL: _Spec = (
 _HARDWARE: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("efficiency", "float", None), ("mbs_N", "float", None),
     ("friction_coefficient", "float", None), ("size_m", "float", None), ("label", "str", ""), ("source", "str", ""),
+    ("slip_N", "float", None),
 )
 _FORCE: _Spec = (
     ("at", "str", _REQUIRED), ("magnitude_N", "float", _REQUIRED), ("direction_deg", "float", _REQUIRED),
