@@ -64,6 +64,7 @@ HOW_NAMES = {
     "pulley": "Over a pulley",
     "sliding": "Sliding (frictionless)",
     "edge": "Over an edge",
+    "capture": "Progress capture (pulley + grab)",
     "hauled": "Hauled end",
 }
 #: hardware kinds that make sense for each way a rope passes a point
@@ -72,6 +73,7 @@ HARDWARE_FOR_HOW = {
     "pulley": ("pulley", "carabiner", "ring"),
     "sliding": ("ring", "carabiner"),
     "edge": ("edge",),
+    "capture": ("pulley", "carabiner"),
     "hauled": (),
 }
 MOTION_NAMES = {"haul": "Hauling", "hold": "Holding", "lower": "Lowering"}
@@ -403,7 +405,7 @@ class RopePage(_Page):
     def _hw_options(self, rig: Rig, how: str, current: str | None) -> list[tuple[str, str | None]]:
         kinds = HARDWARE_FOR_HOW.get(how, ())
         # a pulley or edge pass must name its spec (rig-format.md), so "(none)" is not offered there
-        items = [] if how in ("pulley", "edge") and current is not None else [(NONE_TEXT, None)]
+        items = [] if how in ("pulley", "edge", "capture") and current is not None else [(NONE_TEXT, None)]
         for hid, hw in hardware_for(rig).items():
             if hw.kind in kinds or hid == current:
                 items.append((hw.name, hid))
@@ -445,11 +447,11 @@ class RopePage(_Page):
         known = hardware_for(self.rig)
         if hw is not None and (hw not in known or known[hw].kind not in kinds):
             hw = None
-        if hw is None and how in ("pulley", "edge"):
+        if hw is None and how in ("pulley", "edge", "capture"):
             # a rope over a pulley or edge needs a spec: start with the first of that kind
             hw = next((hid for hid, h in known.items() if h.kind == kinds[0]), None)
         path = list(r.path)
-        path[index] = replace(ps, how=how, hardware=hw)
+        path[index] = replace(ps, how=how, hardware=hw, grab=ps.grab if how == "capture" else None)
         self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: {HOW_NAMES[how].lower()} at {ps.at}")
 
     def _hw_changed(self, index: int) -> None:

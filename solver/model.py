@@ -14,8 +14,10 @@ from typing import Any, Iterator, Literal, Mapping
 PointKind = Literal["anchor", "load", "haul", "point", "person"]
 POINT_KINDS: tuple[str, ...] = ("anchor", "load", "haul", "point", "person")
 ANCHOR_TYPES: tuple[str, ...] = ("tree", "boulder", "vehicle", "picket", "bolt", "other")
-PASS_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge", "hauled")
-MIDDLE_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge")
+PASS_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge", "hauled", "capture")
+MIDDLE_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge", "capture")
+#: Passes over a sheave: a pulley, and a progress capture (a pulley that holds the rope when it runs back).
+SHEAVE_HOWS: frozenset[str] = frozenset({"pulley", "capture"})
 MATERIAL_KINDS: tuple[str, ...] = ("rope", "sling", "cord")
 HARDWARE_KINDS: tuple[str, ...] = ("pulley", "carabiner", "edge", "ring", "grab")
 FEATURE_KINDS: tuple[str, ...] = ("water", "boulder", "bank", "hazard", "note")
@@ -83,12 +85,17 @@ class Point:
 
 @dataclass(frozen=True)
 class Pass:
-    """One place a rope goes through: tied, over a pulley, sliding, over an edge or hauled."""
+    """One place a rope goes through: tied, over a pulley, sliding, over an edge, a progress capture or hauled.
+
+    A ``capture`` runs like its pulley (``hardware``) while the rope is hauled in and holds like
+    its rope grab (``grab``, optional) when it runs back.
+    """
 
     at: str
     how: str = "tied"
     hardware: str | None = None
     extra: Mapping[str, Any] = field(default_factory=dict)
+    grab: str | None = None  # capture: the rope grab that holds the rope (hardware id)
 
 
 @dataclass(frozen=True)
