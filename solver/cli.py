@@ -20,11 +20,12 @@ EXIT_OK = 0
 EXIT_BAD_INPUT = 2
 EXIT_SOLVE_FAILED = 3
 
-SUBCOMMANDS = ("solve", "sweep", "render", "report", "screenshot", "open")
+SUBCOMMANDS = ("solve", "haul", "sweep", "render", "report", "screenshot", "open")
 
 #: subcommand -> "module:function" taking the parsed args and returning an exit code
 HANDLERS: dict[str, str] = {
     "solve": "solver.cli_solve:run",
+    "haul": "solver.cli_haul:run",
     "sweep": "solver.sweep:run_cli",
     "render": "sketchpad.export:render_cli",
     "report": "sketchpad.report:report_cli",
@@ -46,6 +47,10 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="print the result JSON (rig-format.md)")
     p.add_argument("--units", choices=("si", "imperial"), default=None,
                    help="display units (default: the rig's own display setting)")
+
+    from solver.cli_haul import add_parser as add_haul_parser
+
+    add_haul_parser(sub)
 
     p = sub.add_parser("sweep", help="solve a rig over a range of one parameter; write CSV and a plot")
     p.add_argument("rig")

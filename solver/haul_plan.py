@@ -405,17 +405,20 @@ class _Run:
                 self.paid_total += stroke.paid_in_m
                 if stroke.ended_by == "target":
                     break
-                if stroke.load_travel_m < NO_PROGRESS_M:
-                    why = ("two-blocked before the load moved" if stroke.ended_by == "two-blocked"
-                           else "used the whole throw before the load moved")
-                    raise _Stop("unreachable", f"stroke {self.stroke_no}: the haul {why}: stretch takes up more "
-                                "rope than a stroke gives, so every stroke would end the same way "
-                                "(set the travelling pulley farther out, or use a longer throw)")
                 if self.stroke_no >= MAX_STROKES:
                     raise _Stop("unreachable", f"stroke {self.stroke_no}: {MAX_STROKES} strokes brought the load "
                                 f"only {self.travel_total:.2f} m of {self.target:.2f} m")
+                held_before = self.strokes[-2].capture_N if len(self.strokes) > 1 else 0.0
                 capture_N, slip = self._reset()
                 self.strokes[-1] = replace(stroke, capture_N=capture_N, capture_slip_m=slip)
+                if stroke.load_travel_m < NO_PROGRESS_M and capture_N <= (held_before or 0.0) * (1 + 1e-9) + 1e-6:
+                    # nothing moved and the capture keeps no more than before: every stroke would end the same way
+                    why = ("two-blocked before the load moved" if stroke.ended_by == "two-blocked"
+                           else "used the whole throw before the load moved")
+                    held = "" if self.h.capture is not None else " and nothing keeps the stretch while the team resets"
+                    raise _Stop("unreachable", f"stroke {self.stroke_no}: the haul {why}{held}: stretch takes up "
+                                "more rope than a stroke gives, so every stroke would end the same way (set the "
+                                "travelling pulley farther out, use a longer throw or add a progress capture)")
                 self.stroke_no += 1
         except _Stop as stop:
             status, message, subject = stop.status, stop.message, stop.subject
