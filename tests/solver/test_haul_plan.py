@@ -1,0 +1,164 @@
+"""The haul plan's behaviour: strokes, resets, what stops a haul (in words, naming the stroke), the CLI."""
+
+from __future__ import annotations
+
+import io
+import json
+from argparse import Namespace
+from dataclasses import replace
+from pathlib import Path
+
+import pytest
+
+from solver import cli
+from solver.haul_plan import plan_haul
+from solver.model import Hardware, Pass
+from solver.rigfile import load_rig, save_rig
+from solver.templates import place_template
+from tests.rigs import anchor, free, haul, load, make_rig, pulley, rope
+
+SAMPLE = Path(__file__).resolve().parents[2] / "samples" / "raft-three-strokes.rig.json"
+EA = 2.0e5
+
+
+def z_with_capture(required=3000.0, grab_at=10.0, cap_kN=None, ea=EA):
+    """3:1 in line with a frictionless capture at the anchor: load 0, grab ``grab_at``, anchor 20, team 25 m."""
+    grab = Hardware("g", "grab", mbs_N=1e12, slip_N=1e9, label="grab")
+    a = anchor("A", 0, 20, capacity_N=cap_kN * 1000 if cap_kN else None)
+    return make_rig([load("L", 0, 0, required_N=required), free("G", 0, grab_at), a, haul("H", 0, 25, 100.0)],
+                    [rope("m", ["L", "G", Pass("A", "capture", "pul", grab="g"), ("G", "pulley", "pul"),
+                                ("H", "hauled")])],
+                    hardware=[pulley("pul", 1.0), grab], ea=ea)
+
+
+def test_strokes_add_up_and_the_capture_keeps_the_stretch_between_strokes():
+    plan = plan_haul(z_with_capture(), travel_m=2.0, throw_m=1.5)
+    assert plan.ok, plan.message
+    assert plan.load_travel_m == pytest.approx(2.0, abs=1e-6)
+    assert plan.resets == len(plan.strokes) - 1 >= 2
+    # after the first stroke the capture holds: the next stroke loses far less rope to stretch
+    assert plan.strokes[1].stretch_m < 0.5 * plan.strokes[0].stretch_m
+    # each row: rope paid in = ideal MA x load travel + what stretch took (the row's own definition)
+    for s in plan.strokes:
+        assert s.paid_in_m == pytest.approx(3.0 * s.load_travel_m + s.stretch_m, abs=1e-9)
+    # the frames run monotonically through the haul, one per step plus the start and each reset
+    paid = [f.paid_in_m for f in plan.frames]
+    assert paid == sorted(paid) and paid[-1] == pytest.approx(plan.paid_in_m)
+
+
+def test_the_travelling_grab_goes_back_to_its_starting_spacing_at_each_reset():
+    plan = plan_haul(z_with_capture(), travel_m=2.0, throw_m=1.5)
+    for f in plan.frames:
+        if f.phase == "reset":
+            assert f.points["A"][1] - f.points["G"][1] == pytest.approx(10.0, abs=1e-3)
+
+
+def test_a_stroke_ends_two_blocked_at_the_chosen_spacing():
+    # grab 2 m from the anchor pulley, 3:1: the grab reaches 0.5 m spacing after about 4.5 m of rope
+    plan = plan_haul(z_with_capture(required=500.0, grab_at=18.0, ea=1e8), travel_m=3.0, throw_m=10.0,
+                     spacing_m=0.5)
+    assert plan.ok, plan.message
+    first = plan.strokes[0]
+    assert first.ended_by == "two-blocked"
+    assert first.paid_in_m == pytest.approx(3 * 1.5, rel=1e-3)  # rope travel = MA x grab travel (1.5 m)
+    assert any("two-blocked" in w for w in plan.warnings)
+
+
+@pytest.mark.parametrize("edit, words", [
+    (lambda r: r.without_point("H"), "no rope is hauled"),
+    (lambda r: replace(r, points=tuple(replace(p, kind="point", fixed=True) if p.id == "L" else p
+                                       for p in r.points)), "no load"),
+])
+def test_a_rig_that_cannot_be_hauled_says_why(edit, words):
+    plan = plan_haul(edit(z_with_capture()), travel_m=1.0)
+    assert plan.status == "invalid" and words in plan.message
+    assert not plan.strokes
+
+
+@pytest.mark.parametrize("throw", [0.0, -1.0])
+def test_a_throw_of_zero_or_less_is_refused(throw):
+    plan = plan_haul(z_with_capture(), travel_m=1.0, throw_m=throw)
+    assert plan.status == "invalid" and "throw" in plan.message and plan.subject == "throw"
+
+
+def test_a_load_that_would_pass_its_anchor_stops_with_partial_strokes():
+    # 1:1 through the capture: the load is 20 m from the anchor and asked to come 30 m
+    grab = Hardware("g", "grab", mbs_N=1e12, slip_N=1e9)
+    rig = make_rig([load("L", 0, 0, required_N=500.0), anchor("A", 0, 20, label="alder"), haul("H", 0, 24, 100)],
+                   [rope("r", ["L", Pass("A", "capture", "pul", grab="g"), ("H", "hauled")])],
+                   hardware=[pulley("pul", 1.0), grab], ea=1e8)
+    plan = plan_haul(rig, travel_m=30.0, throw_m=4.0)
+    assert plan.status == "unreachable"
+    assert "would pass 'alder'" in plan.message and plan.message.startswith("stroke ")
+    assert plan.strokes and 19.0 < plan.load_travel_m < 20.0
+
+
+def test_every_stroke_two_blocked_at_once_is_unreachable():
+    # no capture, and the grab starts 0.25 m from the anchor pulley: the stretch takes more rope than
+    # the grab can travel, and with nothing to keep it every stroke starts again from nothing
+    rig = z_with_capture(required=3000.0, grab_at=19.75)
+    main = rig.ropes[0]
+    rig = rig.with_rope(replace(main, path=tuple(replace(p, how="pulley", grab=None) if p.how == "capture" else p
+                                                 for p in main.path)))
+    plan = plan_haul(rig, travel_m=1.0, throw_m=3.0, spacing_m=0.2)
+    assert plan.status == "unreachable"
+    assert plan.message.startswith("stroke 1:") and "two-blocked before the load moved" in plan.message
+    assert len(plan.strokes) == 1 and plan.load_travel_m == 0.0  # the stroke made is still reported
+
+
+def test_a_system_two_blocked_before_the_first_stroke_is_unreachable():
+    plan = plan_haul(z_with_capture(grab_at=19.85), travel_m=1.0, throw_m=3.0, spacing_m=0.2)
+    assert plan.status == "unreachable" and plan.message.startswith("stroke 1:")
+    assert "two-blocked before the first stroke" in plan.message
+
+
+def test_an_anchor_that_would_fail_first_is_named_with_its_stroke():
+    # the anchor pulley takes two strands of the 3:1: about 2/3 of the 3 kN needed, above 1.5 kN
+    plan = plan_haul(z_with_capture(required=3000.0, cap_kN=1.5), travel_m=1.0, throw_m=3.0)
+    assert plan.status == "unreachable"
+    assert "anchor 'A' would fail first" in plan.message and plan.message.startswith("stroke 1:")
+
+
+def test_kit_three_to_one_with_capture_hauls_on_library_specs():
+    from solver.model import Point, Rig
+
+    base = Rig(points=(Point("L", "load", 0, 0, required_N=2000.0), Point("A", "anchor", 0, 20)))
+    rig = place_template(base, "3:1", load_id="L", anchor_id="A", team=4)
+    plan = plan_haul(rig, travel_m=1.0, throw_m=3.0)
+    assert plan.ok, plan.message
+    assert plan.ma_ideal == pytest.approx(3.0, rel=1e-3)
+    assert plan.paid_in_before_move_m is not None and plan.paid_in_before_move_m > 0
+
+
+def test_sample_hauls_in_three_strokes_and_the_cli_prints_it(capsys):
+    rig = load_rig(SAMPLE)
+    travel = rig.extra["haul_plan"]["travel_m"]
+    plan = plan_haul(rig, travel_m=travel, throw_m=rig.extra["haul_plan"]["throw_m"])
+    assert plan.ok and len(plan.strokes) == 3, plan.message
+    code = cli.main(["haul", str(SAMPLE), "--travel", f"{travel}m", "--json"])
+    doc = json.loads(capsys.readouterr().out)
+    assert code == 0
+    for key in ("status", "message", "paid_in_before_move_m", "load_travel_m", "resets", "strokes", "cautions"):
+        assert key in doc
+    assert set(doc["strokes"][0]) >= {"paid_in_m", "load_travel_m", "haul_force_max_N", "stretch_m", "capture_N"}
+    assert doc["resets"] == 2 and doc["load_travel_m"] == pytest.approx(travel)
+
+
+def test_cli_reads_distances_with_units_and_prints_a_table(capsys):
+    code = cli.main(["haul", str(SAMPLE), "--travel", "3ft", "--units", "imperial"])
+    out = capsys.readouterr().out
+    assert code == 0
+    assert "rope paid in" in out and "Resets:" in out and "ft" in out and "Planning aid" in out
+
+
+def test_cli_exit_codes_follow_solve(tmp_path, capsys):
+    assert cli.main(["haul", str(SAMPLE), "--travel", "1", "--throw", "0"]) == 2
+    assert cli.main(["haul", str(SAMPLE), "--travel", "six metres"]) == 2
+    far = cli.main(["haul", str(SAMPLE), "--travel", "40m"])
+    err = capsys.readouterr().err
+    assert far == 3 and "stroke" in err
+    bad = tmp_path / "no-haul.rig.json"
+    rig = load_rig(SAMPLE)
+    save_rig(rig.without_point(next(p.id for p in rig.points if p.kind == "haul")), bad)
+    assert cli.main(["haul", str(bad), "--travel", "1m"]) == 3
+    assert "no rope is hauled" in capsys.readouterr().err
