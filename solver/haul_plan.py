@@ -20,7 +20,7 @@ from typing import Callable, Mapping
 
 from solver.equilibrium import solve
 from solver.errors import RigModelError
-from solver.haul_strands import HAUL, LOAD, TAIL, Strand, as_rig, cut_at_capture, joined, strands_of
+from solver.haul_strands import HAUL, LOAD, TAIL, Strand, as_rig, cut_at_capture, joined, lengths, strands_of
 from solver.materials import hardware_for
 from solver.model import Force, Pass, Point, Rig
 from solver.result import Result
@@ -153,6 +153,8 @@ class _Haul:
     pull_dir: tuple[float, float] = (0.0, 0.0)
     last: Result | None = None
     warnings: list[str] = field(default_factory=list)
+    _kept: tuple | None = None
+    prev_pos: dict | None = None  # positions one step back within a stroke (None after a reset or a jump)
 
     # --- one solve ---------------------------------------------------------------------------
     def solve(self, strands: list[Strand], moving: bool) -> Result:
@@ -160,8 +162,25 @@ class _Haul:
         if moving and self.resist_N is not None:
             ang = math.degrees(math.atan2(-self.pull_dir[1], -self.pull_dir[0]))
             against = Force(self.load.id, self.resist_N, ang, "resistance of the stuck load")
-        rig = as_rig(self.base, strands, self.pos, self.load, against)
-        return solve(rig, start=dict(self.pos), ideal=False)
+        return solve(self._rig(strands, against), start=self._predicted(), ideal=False,
+                     unstretched_m=lengths(strands))
+
+    def _predicted(self) -> dict[str, tuple[float, float]]:
+        """Warm start: the last step's positions carried on by the last step's motion (a secant predictor)."""
+        if self.prev_pos is None:
+            return dict(self.pos)
+        prev = self.prev_pos
+        return {k: (2 * x - prev[k][0], 2 * y - prev[k][1]) if k in prev else (x, y)
+                for k, (x, y) in self.pos.items()}
+
+    def _rig(self, strands: list[Strand], against: Force | None) -> Rig:
+        """The rig to solve, kept while its structure, the stuck load's place and its resistance stay
+        (the solver then reuses its compiled form and only the lengths change)."""
+        key = (tuple((s.key, s.passes) for s in strands), against,
+               None if against is not None else self.pos[self.load.id])
+        if self._kept is None or self._kept[0] != key:
+            self._kept = (key, as_rig(self.base, strands, self.pos, self.load, against))
+        return self._kept[1]
 
     def haul_strand(self, strands: list[Strand]) -> Strand:
         return next(s for s in strands if s.role == HAUL)
@@ -383,6 +402,7 @@ class _Run:
         x0, y0 = h.pos[h.load.id]
         x1, y1 = result.points[h.load.id]
         moved = math.hypot(x1 - x0, y1 - y0)
+        h.prev_pos = dict(h.pos) if phase == "stroke" else None
         h.pos.update(result.points)
         h.strands = strands
         self.travel_total += moved
@@ -559,7 +579,7 @@ class _Run:
             if pid not in result.points and not self.rig.point(pid).is_fixed:
                 h.pos[pid] = xy
         h.strands = held_side + self._rebuilt(held_side)
-        h.last = result
+        h.last, h.prev_pos = result, None
         self.frames.append(HaulFrame(self.stroke_no, "reset", self.paid_total, self.travel_total, 0.0, dict(h.pos)))
         return capture_N, slip
 
@@ -652,6 +672,6 @@ class _Run:
             pos[pid] = self.start_pos[pid]
         h.strands = [replace(s, L0=s.drawn_length(pos)) for s in h.strands]
         h.pos = pos
-        h.last = None
+        h.last, h.prev_pos = None, None
         self.frames.append(HaulFrame(self.stroke_no, "reset", self.paid_total, self.travel_total, 0.0, dict(pos)))
         return 0.0, 0.0

@@ -17,7 +17,7 @@ from typing import Mapping
 
 from solver.assembly import compile_rig
 from solver.errors import RigModelError
-from solver.model import Force, Pass, Point, Rig, Rigging, Rope
+from solver.model import Force, Pass, Point, Rig, Rope
 
 Positions = Mapping[str, tuple[float, float]]
 
@@ -68,7 +68,8 @@ def as_rig(base: Rig, strands: list[Strand], pos: Positions, load: Point, moving
 
     Points no strand uses are left out (a travelling pulley whose ropes went slack).  The
     load is held fixed (stuck) unless ``moving_against`` is given: then it is free, with that
-    force resisting its motion (or it is a free load as the file says).
+    force resisting its motion (or it is a free load as the file says).  Each rope is rigged
+    hand-tight as drawn; solve it with ``unstretched_m=lengths(strands)`` for the strands' lengths.
     """
     used = {ps.at for st in strands for ps in st.passes}
     points = []
@@ -84,10 +85,14 @@ def as_rig(base: Rig, strands: list[Strand], pos: Positions, load: Point, moving
     forces = tuple(f for f in base.forces if f.at in used or f.at == load.id)
     if moving_against is not None:
         forces += (moving_against,)
-    ropes = tuple(Rope(st.key, st.material, st.passes, Rigging(slack_m=st.L0 - st.drawn_length(pos)))
-                  for st in strands)
+    ropes = tuple(Rope(st.key, st.material, st.passes) for st in strands)
     settings = replace(base.settings, motion="haul")
     return replace(base, points=tuple(points), ropes=ropes, forces=forces, settings=settings)
+
+
+def lengths(strands: list[Strand]) -> dict[str, float]:
+    """Unstretched length of each strand by its rope id in :func:`as_rig`, m."""
+    return {st.key: st.L0 for st in strands}
 
 
 def cut_at_capture(st: Strand, piece_l0: list[float]) -> tuple[Strand, Strand]:

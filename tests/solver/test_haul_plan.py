@@ -162,3 +162,40 @@ def test_cli_exit_codes_follow_solve(tmp_path, capsys):
     save_rig(rig.without_point(next(p.id for p in rig.points if p.kind == "haul")), bad)
     assert cli.main(["haul", str(bad), "--travel", "1m"]) == 3
     assert "no rope is hauled" in capsys.readouterr().err
+
+
+def test_lengths_handed_to_the_solver_equal_the_same_lengths_rigged_as_slack():
+    # solver.run_lengths sets unstretched lengths on a copy of the cached compiled rig: the result
+    # must equal a fresh solve of the same rig with those lengths rigged as slack (rig-format.md)
+    from solver.equilibrium import solve
+    from solver.haul_strands import as_rig, lengths, strands_of
+    from solver.model import Rigging
+
+    rig = z_with_capture()
+    strands = strands_of(rig)
+    strands = [replace(s, L0=s.L0 - (0.4 if s.role == "haul" else 0.0)) for s in strands]
+    pos = {p.id: (p.x, p.y) for p in rig.points}
+    solvable = as_rig(rig, strands, pos, rig.point("L"), None)
+    fast = solve(solvable, unstretched_m=lengths(strands))
+    slack = replace(solvable, ropes=tuple(replace(r, rigged=Rigging(slack_m=st.L0 - st.drawn_length(pos)))
+                                          for r, st in zip(solvable.ropes, strands)))
+    fresh = solve(slack)
+    assert fast.ok and fresh.ok
+    assert [s.tension_N for s in fast.segments] == pytest.approx([s.tension_N for s in fresh.segments], rel=1e-9)
+    assert fast.points["G"] == pytest.approx(fresh.points["G"], abs=1e-9)
+    # and the cached compiled rig is untouched: other lengths in between leave the first answer as it was
+    other = {k: v - 0.3 for k, v in lengths(strands).items()}
+    assert solve(solvable, unstretched_m=other).segments[-1].tension_N > fast.segments[-1].tension_N
+    again = solve(solvable, unstretched_m=lengths(strands))
+    assert [s.tension_N for s in again.segments] == [s.tension_N for s in fast.segments]
+
+
+def test_a_length_the_solver_cannot_use_is_named():
+    from solver.equilibrium import solve
+    from solver.haul_strands import as_rig, strands_of
+
+    rig = z_with_capture()
+    strands = strands_of(rig)
+    pos = {p.id: (p.x, p.y) for p in rig.points}
+    r = solve(as_rig(rig, strands, pos, rig.point("L"), None), unstretched_m={strands[1].key: -1.0})
+    assert r.status == "invalid" and "no rope left" in r.message and r.subject == strands[1].key
