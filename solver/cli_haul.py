@@ -12,7 +12,6 @@ from __future__ import annotations
 
 import argparse
 import json
-import math
 import sys
 from dataclasses import replace
 from typing import TextIO
@@ -22,11 +21,11 @@ from solver.cautions import SHORT_CAUTION
 from solver.cli_solve import EXIT_BAD_INPUT, EXIT_OK, EXIT_SOLVE_FAILED, _finite, _table, _units_for
 from solver.errors import UnitError
 from solver.haul_plan import DEFAULT_SPACING_M, DEFAULT_STEPS, HaulPlan, plan_haul
+from solver.haul_table import HEADER, stroke_rows, summary_lines
 from solver.model import Rig
 
 #: Subjects of a plan refused for an option typed on the command line (exit 2, not 3).
 OPTION_SUBJECTS = frozenset({"travel", "throw", "steps"})
-ENDED_WORDS = {"throw": "throw used", "two-blocked": "two-blocked", "target": "travel reached", "stopped": "stopped"}
 
 
 def add_parser(sub) -> None:
@@ -46,26 +45,14 @@ def add_parser(sub) -> None:
 def format_plan(rig: Rig, plan: HaulPlan, length_unit: str, force_unit: str) -> str:
     """The plan as a plain-text table and totals a rigging lead reads at a glance."""
     L = lambda m: units.format_length(m, length_unit)  # noqa: E731
-    F = lambda n: units.format_force(n, force_unit)  # noqa: E731
     load = rig.point(plan.load).name if plan.load else "the load"
     parts = [f"{rig.title or 'Untitled rig'}  —  haul of {load}: {L(plan.target_m)} in strokes of "
              f"{L(plan.throw_m)} of rope"]
-    rows = [[str(i), L(s.paid_in_m), L(s.load_travel_m), F(s.haul_force_max_N),
-             L(s.stretch_m) if math.isfinite(s.stretch_m) else "—",
-             F(s.capture_N) if s.capture_N is not None else "—", ENDED_WORDS.get(s.ended_by, s.ended_by)]
-            for i, s in enumerate(plan.strokes, start=1)]
+    rows = [list(r) for r in stroke_rows(plan, length_unit, force_unit)]
     if rows:
-        parts.append("\n" + _table(["stroke", "rope paid in", "load travel", "haul force peak", "taken by stretch",
-                                    "capture holds at reset", "ended"], rows))
-    before = L(plan.paid_in_before_move_m) if plan.paid_in_before_move_m is not None else "the load did not move"
+        parts.append("\n" + _table(list(HEADER), rows))
     parts.append("")
-    parts.append(f"Rope paid in before the load first moves: {before}")
-    parts.append(f"Load travel: {L(plan.load_travel_m)} of {L(plan.target_m)}")
-    parts.append(f"Resets: {plan.resets}")
-    parts.append(f"Rope through the team's hands: {L(plan.paid_in_m)}")
-    if plan.ma_ideal:
-        parts.append(f"Ideal mechanical advantage {plan.ma_ideal:.2f}:1 "
-                     f"(without stretch the team would take in {L(plan.ma_ideal * plan.load_travel_m)})")
+    parts += summary_lines(rig, plan, length_unit, force_unit)
     if not plan.ok:
         parts.append(f"\nHAUL STOPS SHORT ({plan.status}): {plan.message}")
     if plan.warnings:
