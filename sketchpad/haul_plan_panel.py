@@ -164,7 +164,7 @@ class HaulPlanPanel(QWidget):
             for c, text in enumerate(row):
                 item = QTableWidgetItem(text)
                 if 0 < c < len(row) - 1:
-                    item.setTextAlignment(int(Qt.AlignRight | Qt.AlignVCenter))
+                    item.setTextAlignment(Qt.AlignRight | Qt.AlignVCenter)
                 self.table.setItem(r, c, item)
         self.plot.plan, self.plot.unit = plan, lu
         self.slider.blockSignals(True)
