@@ -115,9 +115,11 @@ def hardware_options(rig: Rig, how: str) -> tuple[tuple[str, str], ...]:
 def pass_hardware(rig: Rig, how: str, defaults: ToolDefaults, wanted: str | None = None) -> str | None:
     """Hardware a new ``how`` pass names: ``wanted`` if it fits, else the toolbar's, else the first that fits.
 
-    Pulley and edge passes always name hardware (rig-format.md); tied, sliding and
-    hauled passes name none.
+    Pulley, capture (its pulley) and edge passes always name hardware (rig-format.md); tied,
+    sliding and hauled passes name none.
     """
+    if how == "capture":
+        how = "pulley"
     if how not in ("pulley", "edge"):
         return None
     fallback = "pulley-large" if how == "pulley" else "edge-rock"
