@@ -33,6 +33,7 @@ from PySide6.QtWidgets import (
 
 from sketchpad.fields import CommitTextEdit, QuantityField
 from solver import units
+from solver.templates import capture_grab_for
 from solver.model import (
     ANCHOR_TYPES,
     FEATURE_KINDS,
@@ -418,12 +419,18 @@ class RopePage(_Page):
             if w is not None:
                 w.deleteLater()
         self._pass_widgets = []
+        self._grab_widgets: list[QComboBox] = []
         n = len(r.path)
         for i, ps in enumerate(r.path):
             name = rig.point(ps.at).name if rig.has_point(ps.at) else ps.at
             where = QLabel(f"{i + 1}. <b>{name}</b>" + (f" ({ps.at})" if name != ps.at else ""))
             where.setTextFormat(Qt.TextFormat.RichText)
-            self.passes_grid.addWidget(where, 2 * i, 0, 1, 2)
+            self.passes_grid.addWidget(where, 2 * i, 0)
+            grab = _narrow(QComboBox())  # a progress capture's rope grab: shown on capture passes only
+            grab.setToolTip("The rope grab that holds the rope when the team lets go (its slip force counts)")
+            grab.currentIndexChanged.connect(lambda _x, k=i: self._grab_changed(k))
+            self.passes_grid.addWidget(grab, 2 * i, 1)
+            self._grab_widgets.append(grab)
             how = _combo([(HOW_NAMES[h], h) for h in self._how_options(i, n)])
             how.setEnabled(how.count() > 1)
             how.setToolTip("How the rope goes through this point")
@@ -451,8 +458,19 @@ class RopePage(_Page):
             # a rope over a pulley or edge needs a spec: start with the first of that kind
             hw = next((hid for hid, h in known.items() if h.kind == kinds[0]), None)
         path = list(r.path)
-        path[index] = replace(ps, how=how, hardware=hw, grab=ps.grab if how == "capture" else None)
+        grab = (ps.grab or capture_grab_for(self.rig)) if how == "capture" else None
+        path[index] = replace(ps, how=how, hardware=hw, grab=grab)
         self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: {HOW_NAMES[how].lower()} at {ps.at}")
+
+    def _grab_changed(self, index: int) -> None:
+        r = self._rope()
+        grab = self._grab_widgets[index].currentData()
+        ps = r.path[index]
+        if grab == ps.grab or ps.how != "capture":
+            return
+        path = list(r.path)
+        path[index] = replace(ps, grab=grab)
+        self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: capture grab at {ps.at}")
 
     def _hw_changed(self, index: int) -> None:
         r = self._rope()
@@ -502,6 +520,15 @@ class RopePage(_Page):
                     hw_box.addItem(text, data)
             _set_combo(hw_box, ps.hardware)
             hw_box.setEnabled(ps.how != "hauled")
+        for grab_box, ps in zip(self._grab_widgets, r.path):
+            with QSignalBlocker(grab_box):
+                grab_box.clear()
+                grab_box.addItem("(no rated grab)", None)
+                for hid, hw in hardware_for(rig).items():
+                    if hw.kind == "grab" or hid == ps.grab:
+                        grab_box.addItem(hw.name, hid)
+            _set_combo(grab_box, ps.grab)
+            grab_box.setVisible(ps.how == "capture")
 
 
 # --- forces and features ---------------------------------------------------------------

@@ -22,6 +22,7 @@ from sketchpad import theme
 from sketchpad.geometry import to_scene
 from sketchpad.items import fmt_length
 from solver.model import MIDDLE_HOWS, Feature, Force, Pass, Point, Rig, Rope
+from solver.templates import capture_grab_for
 
 log = logging.getLogger(__name__)
 
@@ -165,7 +166,8 @@ def finish_passes(rig: Rig, picks, defaults: ToolDefaults) -> tuple[Pass, ...]:
             how = "hauled" if rig.has_point(pid) and rig.point(pid).kind == "haul" else "tied"
         elif how not in MIDDLE_HOWS:
             how = "tied"
-        passes.append(Pass(pid, how, pass_hardware(rig, how, defaults, hw)))
+        grab = capture_grab_for(rig) if how == "capture" else None
+        passes.append(Pass(pid, how, pass_hardware(rig, how, defaults, hw), grab=grab))
     return tuple(passes)
 
 

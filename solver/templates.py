@@ -141,6 +141,18 @@ def _hauled(at: str) -> Pass:
 DEFAULT_CAPTURE_GRAB = "grab-prusik"
 
 
+def capture_grab_for(rig: Rig) -> str | None:
+    """The rope grab a new progress capture holds with: the kit's, when the rig or the library has it."""
+    if rig.embedded_hardware(DEFAULT_CAPTURE_GRAB) is not None:
+        return DEFAULT_CAPTURE_GRAB
+    try:
+        from solver.materials import hardware_for
+
+        return hardware_for(rig, DEFAULT_CAPTURE_GRAB).id
+    except (ImportError, RigModelError, KeyError):
+        return None
+
+
 def _capture(at: str, hardware: str, grab: str | None) -> Pass:
     """A progress capture at the anchor pulley: runs as the pulley, holds with the grab when the team lets go."""
     return Pass(at, "capture", hardware, grab=grab)
