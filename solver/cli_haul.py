@@ -18,7 +18,7 @@ from typing import TextIO
 
 from solver import units
 from solver.cautions import SHORT_CAUTION
-from solver.cli_solve import EXIT_BAD_INPUT, EXIT_OK, EXIT_SOLVE_FAILED, _finite, _table, _units_for
+from solver.cli_solve import EXIT_BAD_INPUT, EXIT_OK, EXIT_SOLVE_FAILED, _finite, _table, _units_for, closing
 from solver.errors import UnitError
 from solver.haul_plan import DEFAULT_SPACING_M, DEFAULT_STEPS, HaulPlan, plan_haul
 from solver.haul_table import HEADER, stroke_rows, summary_lines
@@ -55,11 +55,7 @@ def format_plan(rig: Rig, plan: HaulPlan, length_unit: str, force_unit: str) -> 
     parts += summary_lines(rig, plan, length_unit, force_unit)
     if not plan.ok:
         parts.append(f"\nHAUL STOPS SHORT ({plan.status}): {plan.message}")
-    if plan.warnings:
-        parts.append("\nWarnings")
-        parts += [f"  {w}" for w in plan.warnings]
-    parts.append("\n" + SHORT_CAUTION)
-    return "\n".join(parts)
+    return closing(parts, list(plan.warnings))
 
 
 class _Bar:

@@ -148,7 +148,7 @@ def test_cli_reads_distances_with_units_and_prints_a_table(capsys):
     code = cli.main(["haul", str(SAMPLE), "--travel", "3ft", "--units", "imperial"])
     out = capsys.readouterr().out
     assert code == 0
-    assert "rope paid in" in out and "Resets:" in out and "ft" in out and "Planning aid" in out
+    assert "rope paid in" in out and "resets:" in out and " ft" in out and "Planning aid" in out
 
 
 def test_cli_exit_codes_follow_solve(tmp_path, capsys):
