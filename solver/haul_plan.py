@@ -43,14 +43,16 @@ class HaulStroke:
     load_travel_m: float
     haul_force_max_N: float
     stretch_m: float
-    capture_N: float | None  # None: the haul ended with this stroke (no reset after it)
+    capture_N: float | None  # None: no reset after this stroke, or no progress capture to hold the load
     ended_by: str  # "throw", "two-blocked", "target", "stopped"
     capture_slip_m: float = 0.0
+    reset: bool = False  # the team reset after this stroke
 
     def to_json(self) -> dict:
         return {"paid_in_m": self.paid_in_m, "load_travel_m": self.load_travel_m,
                 "haul_force_max_N": self.haul_force_max_N, "stretch_m": self.stretch_m,
-                "capture_N": self.capture_N, "ended_by": self.ended_by, "capture_slip_m": self.capture_slip_m}
+                "capture_N": self.capture_N, "ended_by": self.ended_by, "capture_slip_m": self.capture_slip_m,
+                "reset": self.reset}
 
 
 @dataclass(frozen=True)
@@ -97,7 +99,7 @@ class HaulPlan:
 
     @property
     def resets(self) -> int:
-        return sum(1 for s in self.strokes if s.capture_N is not None)
+        return sum(1 for s in self.strokes if s.reset)
 
     def to_json(self) -> dict:
         return {"status": self.status, "message": self.message, "load": self.load, "haul": self.haul,
@@ -428,10 +430,10 @@ class _Run:
                 if self.stroke_no >= MAX_STROKES:
                     raise _Stop("unreachable", f"stroke {self.stroke_no}: {MAX_STROKES} strokes brought the load "
                                 f"only {self.travel_total:.2f} m of {self.target:.2f} m")
-                held_before = self.strokes[-2].capture_N if len(self.strokes) > 1 else 0.0
+                held_before = (self.strokes[-2].capture_N or 0.0) if len(self.strokes) > 1 else 0.0
                 capture_N, slip = self._reset()
-                self.strokes[-1] = replace(stroke, capture_N=capture_N, capture_slip_m=slip)
-                if stroke.load_travel_m < NO_PROGRESS_M and capture_N <= (held_before or 0.0) * (1 + 1e-9) + 1e-6:
+                self.strokes[-1] = replace(stroke, capture_N=capture_N, capture_slip_m=slip, reset=True)
+                if stroke.load_travel_m < NO_PROGRESS_M and (capture_N or 0.0) <= held_before * (1 + 1e-9) + 1e-6:
                     # nothing moved and the capture keeps no more than before: every stroke would end the same way
                     why = ("two-blocked before the load moved" if stroke.ended_by == "two-blocked"
                            else "used the whole throw before the load moved")
@@ -447,7 +449,7 @@ class _Run:
                 self.paid_total += self._partial.paid_in_m
         if status == "ok":
             message = (f"load hauled {self.travel_total:.2f} m in {len(self.strokes)} stroke(s) with "
-                       f"{sum(1 for s in self.strokes if s.capture_N is not None)} reset(s)")
+                       f"{sum(1 for s in self.strokes if s.reset)} reset(s)")
         return HaulPlan(status, message, self.h.load.id, self.h.haul_id, self.target, self.throw,
                         self.before_move, tuple(self.strokes), tuple(self.frames), self.ma_ideal,
                         tuple(self.h.warnings), subject)
@@ -660,21 +662,23 @@ class _Run:
             self._templates = tpl
         return self._templates
 
-    def _reset_without_capture(self) -> tuple[float, float]:
-        """No capture: everything goes slack; the stuck load stays; the rig is taken in hand-tight again."""
+    def _reset_without_capture(self) -> tuple[float | None, float]:
+        """No capture: everything goes slack; the stuck load stays; the travelling grabs and pulleys go back
+        to where they started (slid along their ropes) and the rig is taken in hand-tight again."""
         h = self.h
         if h.resist_N is None:
             raise _Stop("unreachable", f"stroke {self.stroke_no}: the load is free and there is no progress "
                         "capture: it would run back when the team lets go")
         h.moving = False
         pos = dict(h.pos)
-        for pid in self.start_spacing:
-            pos[pid] = self.start_pos[pid]
+        for pid, xy in self.start_pos.items():
+            if pid != h.load.id and not self.rig.point(pid).is_fixed:
+                pos[pid] = xy
         h.strands = [replace(s, L0=s.drawn_length(pos)) for s in h.strands]
         h.pos = pos
         h.last, h.prev_pos = None, None
         self.frames.append(HaulFrame(self.stroke_no, "reset", self.paid_total, self.travel_total, 0.0, dict(pos)))
-        return 0.0, 0.0
+        return None, 0.0
 
 
 # --- the haul a rig file asks for -------------------------------------------------------------

@@ -25,7 +25,7 @@ def stroke_rows(plan: HaulPlan, length_unit: str, force_unit: str) -> list[tuple
     F = lambda n: units.format_force(n, force_unit)  # noqa: E731
     rows = []
     for i, s in enumerate(plan.strokes, start=1):
-        held = F(s.capture_N) if s.capture_N is not None else "—"
+        held = F(s.capture_N) if s.capture_N is not None else ("no capture" if s.reset else "—")
         if s.capture_slip_m > 0:
             held += f" (slid {L(s.capture_slip_m)})"
         rows.append((str(i), L(s.paid_in_m), L(s.load_travel_m), F(s.haul_force_max_N),

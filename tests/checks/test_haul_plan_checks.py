@@ -85,7 +85,7 @@ def test_a_capture_holding_more_than_its_grab_slip_force_slides():
     # check-values.md "Knots and grabs": a 3-wrap prusik begins to slip around 7-9.5 kN (common
     # practice); the grab is a designed slip point, so a held force above it slides instead of holding.
     plan = plan_haul(_one_to_one_with_capture(10_000.0, slip=8_000.0), travel_m=1.0, throw_m=0.5)
-    reset = [s for s in plan.strokes if s.capture_N is not None]
+    reset = [s for s in plan.strokes if s.reset]
     below = [s for s in reset if s.haul_force_max_N < 8_000.0]
     above = [s for s in reset if s.haul_force_max_N > 8_000.0 * 1.01]
     assert below and above, "the haul must build the held force past the slip force"

@@ -199,3 +199,54 @@ def test_a_length_the_solver_cannot_use_is_named():
     pos = {p.id: (p.x, p.y) for p in rig.points}
     r = solve(as_rig(rig, strands, pos, rig.point("L"), None), unstretched_m={strands[1].key: -1.0})
     assert r.status == "invalid" and "no rope left" in r.message and r.subject == strands[1].key
+
+
+def test_without_a_capture_each_reset_lets_everything_go_slack_and_slides_the_grabs_back():
+    rig = z_with_capture(grab_at=12.0)
+    main = rig.ropes[0]
+    rig = rig.with_rope(replace(main, path=tuple(replace(p, how="pulley", grab=None) if p.how == "capture" else p
+                                                 for p in main.path)))
+    plan = plan_haul(rig, travel_m=1.5, throw_m=2.0)
+    assert plan.ok, plan.message
+    assert any("no progress capture" in w for w in plan.warnings)
+    resets = [f for f in plan.frames if f.phase == "reset"]
+    assert resets and all(f.points["G"] == pytest.approx((0.0, 12.0)) for f in resets)
+    assert all(s.capture_N is None for s in plan.strokes) and plan.to_json()["strokes"][0]["capture_N"] is None
+    # nothing keeps the stretch, so every stroke loses about the same rope to it again
+    full = [s for s in plan.strokes if s.ended_by == "throw"]
+    assert len(full) >= 2 and full[1].stretch_m == pytest.approx(full[0].stretch_m, rel=0.05)
+
+
+def test_compound_from_the_kit_resets_its_grab_to_the_starting_spacing():
+    from solver.model import Point, Rig
+
+    base = Rig(points=(Point("L", "load", 0, 0, required_N=2000.0), Point("A", "anchor", 0, 20)))
+    rig = place_template(base, "6:1", load_id="L", anchor_id="A", team=4)
+    plan = plan_haul(rig, travel_m=0.5, throw_m=3.0)
+    assert plan.ok, plan.message
+    assert plan.ma_ideal == pytest.approx(6.0, rel=1e-3)
+    grab = rig.ropes[0].path[1].at
+    start = rig.point(grab).y
+    for f in plan.frames:
+        if f.phase == "reset":
+            assert f.points[grab][1] == pytest.approx(start, abs=2e-3)
+
+
+def test_progress_bar_is_drawn_only_on_a_terminal():
+    from solver.cli_haul import _Bar
+
+    class Stream(io.StringIO):
+        def __init__(self, tty: bool) -> None:
+            super().__init__()
+            self.tty = tty
+
+        def isatty(self) -> bool:
+            return self.tty
+
+    for tty in (True, False):
+        stream = Stream(tty)
+        bar = _Bar(stream)
+        for k in range(11):
+            bar(k / 10)
+        bar.done()
+        assert ("100%" in stream.getvalue()) is tty
