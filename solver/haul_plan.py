@@ -230,8 +230,10 @@ def _check_input(rig: Rig, travel_m: float, throw_m: float, steps: int) -> tuple
     return load, hauled[0].path[-1].at
 
 
-def _ideal_ma(rig: Rig, haul_id: str) -> float | None:
-    """The rig's ideal MA (rope travel per load travel without stretch), from a force-controlled solve."""
+def _ideal_ma(rig: Rig, haul_id: str, load: Point) -> float | None:
+    """The rig's ideal MA (rope travel per load travel without stretch), from a force-controlled solve
+    with the load held where it is (a free load would run to the pulleys under a set haul force)."""
+    rig = rig.with_point(replace(load, fixed=True))
     hp = rig.point(haul_id)
     if hp.haul_force is None or hp.haul_force <= 0:
         rig = rig.with_point(replace(hp, force_N=1000.0, team=None, force_per_person_N=None))
@@ -278,7 +280,7 @@ class _Run:
         self.paid_total = 0.0
         self.travel_total = 0.0
         self.before_move: float | None = None
-        self.ma_ideal = _ideal_ma(rig, haul_id)
+        self.ma_ideal = _ideal_ma(rig, haul_id, load)
 
     # --- what the plan watches -----------------------------------------------------------------
     def _grab_spacings(self, strands: list[Strand], pos) -> dict[str, float]:
@@ -401,9 +403,7 @@ class _Run:
     def _accept(self, result: Result, strands: list[Strand], paid_stroke: float, phase: str = "stroke") -> float:
         """Take the step's geometry as the new state; returns the load's travel in this step, m."""
         h = self.h
-        x0, y0 = h.pos[h.load.id]
-        x1, y1 = result.points[h.load.id]
-        moved = math.hypot(x1 - x0, y1 - y0)
+        moved = self._step_travel(result)
         h.prev_pos = dict(h.pos) if phase == "stroke" else None
         h.pos.update(result.points)
         h.strands = strands
@@ -418,6 +418,7 @@ class _Run:
         status, message, subject = "ok", "", ""
         self.stroke_no = 1
         try:
+            self._settle_free_load()
             self.frames.append(HaulFrame(1, "start", 0.0, 0.0, 0.0, dict(self.h.pos)))
             first = self._preflight()
             while True:
@@ -455,6 +456,21 @@ class _Run:
                         tuple(self.h.warnings), subject)
 
     _partial: HaulStroke | None = None
+
+    def _settle_free_load(self) -> None:
+        """A free load hangs where the rig as drawn holds it before any rope is paid in (no travel counted);
+        it moves as soon as the team pays in rope."""
+        h = self.h
+        if h.resist_N is not None:
+            return
+        result = h.solve(h.strands, False)
+        if not result.ok:
+            raise _Stop("failed", f"stroke 1: the rig as drawn cannot hold the free load: {result.message}",
+                        result.subject)
+        h.pos.update(result.points)
+        h.last = result
+        self.start_pos = dict(h.pos)
+        self.before_move = 0.0
 
     def _preflight(self) -> bool:
         """Check the start: the travelling pulleys are not already two-blocked."""
@@ -523,8 +539,14 @@ class _Run:
         return HaulStroke(paid, travel, peak, stretch, capture_N, ended)
 
     def _step_travel(self, result: Result) -> float:
+        """How far the load came this step toward where the rig pulls it (negative: it went back), m."""
         lid = self.h.load.id
-        return math.dist(result.points[lid], self.h.pos[lid])
+        (x0, y0), (x1, y1) = self.h.pos[lid], result.points[lid]
+        fx, fy = self.h.load_pull(result)
+        pull = math.hypot(fx, fy)
+        if pull == 0.0:
+            return math.hypot(x1 - x0, y1 - y0)
+        return ((x1 - x0) * fx + (y1 - y0) * fy) / pull
 
     def _current_pull(self) -> float:
         if self.h.last is None:

@@ -250,3 +250,20 @@ def test_progress_bar_is_drawn_only_on_a_terminal():
             bar(k / 10)
         bar.done()
         assert ("100%" in stream.getvalue()) is tty
+
+
+def test_a_free_load_hangs_first_then_moves_at_once_with_rope_travel_three_times_its_travel():
+    # elevation: a 100 kg load hanging on a kit 3:1 (free: it moves as soon as rope is paid in).  Once it
+    # hangs, the rope's stretch changes only with the friction of the motion, so rope travel stays close
+    # to ideal MA x load travel (check-values.md "Pulley friction ...": rope travel = MA x load travel)
+    from solver.model import Point, Rig
+
+    base = Rig(points=(Point("L", "load", 0, 0, fixed=False, mass_kg=100.0), Point("A", "anchor", 0, 20)),
+               view="elevation")
+    rig = place_template(base, "3:1", load_id="L", anchor_id="A", team=4)
+    plan = plan_haul(rig, travel_m=1.5, throw_m=3.0)
+    assert plan.ok, plan.message
+    assert plan.paid_in_before_move_m == 0.0 and plan.ma_ideal == pytest.approx(3.0, rel=1e-6)
+    assert plan.paid_in_m == pytest.approx(3.0 * 1.5, rel=0.05)
+    # the capture holds the load's weight while the team resets (100 kg x standard gravity)
+    assert plan.strokes[0].capture_N == pytest.approx(100.0 * 9.80665, rel=1e-3)
