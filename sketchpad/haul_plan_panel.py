@@ -96,7 +96,7 @@ class HaulPlanPanel(QWidget):
         self.slider.valueChanged.connect(self.show_frame)
         self.step_label = QLabel("")
         self.table = QTableWidget(0, len(HEADER))
-        self.table.setHorizontalHeaderLabels(list(HEADER))
+        self.table.setHorizontalHeaderLabels([h.replace(" ", "\n", 1) for h in HEADER])  # two lines: narrower
         self.table.verticalHeader().setVisible(False)
         self.table.setEditTriggers(QAbstractItemView.NoEditTriggers)
         self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeToContents)

@@ -109,7 +109,7 @@ def paint_haul_plot(p: QPainter, rect: QRectF, plan: HaulPlan, length_unit: str 
         p.setBrush(Qt.NoBrush)
         p.setPen(QPen(theme.HAUL_CURVE if plan.ok else theme.HAUL_STOP, 2.0))
         p.drawPath(path)
-    _legend(p, area, fm)
+    _legend(p, area, fm, yt)
     if cursor is not None and plan.frames:
         f = plan.frames[max(0, min(cursor, len(plan.frames) - 1))]
         c = at(f.paid_in_m, f.load_travel_m)
@@ -121,12 +121,15 @@ def paint_haul_plot(p: QPainter, rect: QRectF, plan: HaulPlan, length_unit: str 
     p.restore()
 
 
-def _legend(p: QPainter, area: QRectF, fm: QFontMetricsF) -> None:
-    """A one-line key in the plot's bottom-right corner (below a haul's rising curve): haul, reset,
-    first movement, no stretch."""
+def _legend(p: QPainter, area: QRectF, fm: QFontMetricsF, target_y: float) -> None:
+    """A one-line key on a paper box in the top-left corner, just under the target line (where a haul's
+    rising curve has not yet come): haul, reset, no stretch, first movement."""
     width = sum(30 + fm.horizontalAdvance(t) for t in ("haul", "reset", "no stretch")) + 14 + fm.horizontalAdvance(
         "load moves")
-    x, y = max(area.left() + 8, area.right() - width - 8), area.bottom() - 8
+    x, y = area.left() + 8, target_y + 6 + fm.ascent()
+    p.setPen(Qt.NoPen)
+    p.setBrush(theme.HAUL_PLOT_BACK)
+    p.drawRect(QRectF(x - 4, y - fm.ascent() - 3, width + 8, fm.height() + 6))
     entries = ((theme.HAUL_CURVE, Qt.SolidLine, "haul"), (theme.HAUL_RESET, Qt.DashLine, "reset"),
                (theme.HAUL_IDEAL, Qt.DotLine, "no stretch"))
     for colour, style, text in entries:

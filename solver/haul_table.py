@@ -49,7 +49,9 @@ def summary_lines(rig: Rig, plan: HaulPlan, length_unit: str, force_unit: str) -
                      f"{L(plan.ma_ideal * plan.load_travel_m)}")
     team = rig.point(plan.haul).haul_force if plan.haul and rig.has_point(plan.haul) else None
     peak = max((s.haul_force_max_N for s in plan.strokes), default=0.0)
-    if team and peak:
+    if team and peak and plan.ok:
         verdict = "enough" if team >= peak else "NOT enough: add haulers or mechanical advantage"
         lines.append(f"Haul team gives {F(team)}; the haul needs up to {F(peak)}: {verdict}")
+    elif team and peak:
+        lines.append(f"Haul team gives {F(team)}; the most the haul asked of them before it stopped: {F(peak)}")
     return lines
