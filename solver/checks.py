@@ -51,6 +51,7 @@ import numpy as np
 from shapely.geometry import LineString, Point as ShPoint, Polygon
 from shapely.geometry.base import BaseGeometry
 
+from solver.capture_checks import check_captures
 from solver.danger import DangerZone, Piece, danger_zones, pieces, positions
 from solver.errors import RopewrightError
 from solver.hauling import haulers_needed
@@ -635,7 +636,7 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
 #: Checks that need solved forces, in report order.
 FORCE_CHECKS: tuple[Callable[[Rig, Result], list[Warning_]], ...] = (
     check_anchors, check_ropes, check_hardware, check_wide_anchors, check_slack,
-    check_abrasion, check_haul, check_two_blocked, check_people,
+    check_abrasion, check_haul, check_two_blocked, check_people, check_captures,
 )
 
 
