@@ -17,7 +17,7 @@ from dataclasses import replace
 from typing import TextIO
 
 from solver import units
-from solver.cautions import SHORT_CAUTION
+from solver.cautions import CAUTION_PARAGRAPHS
 from solver.cli_solve import EXIT_BAD_INPUT, EXIT_OK, EXIT_SOLVE_FAILED, _finite, _table, _units_for, closing
 from solver.errors import UnitError
 from solver.haul_plan import DEFAULT_SPACING_M, DEFAULT_STEPS, HaulPlan, plan_haul
@@ -28,9 +28,9 @@ from solver.model import Rig
 OPTION_SUBJECTS = frozenset({"travel", "throw", "steps"})
 
 
-def add_parser(sub) -> None:
-    """The ``haul`` subcommand's arguments."""
-    p = sub.add_parser("haul", help="plan a haul stroke by stroke: rope paid in, stretch, resets")
+def add_parser(sub, **kwargs) -> None:
+    """The ``haul`` subcommand's arguments (``kwargs`` as every subcommand's: the caution epilog)."""
+    p = sub.add_parser("haul", help="plan a haul stroke by stroke: rope paid in, stretch, resets", **kwargs)
     p.add_argument("rig", help="a .rig.json file")
     p.add_argument("--travel", required=True, help="how far the load must come, e.g. 6m or 20ft (plain: metres)")
     p.add_argument("--throw", default="3m", help="rope the team takes in per stroke (default 3m)")
@@ -99,7 +99,7 @@ def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
     bar.done()
     if args.json:
         doc = plan.to_json()
-        doc["cautions"] = SHORT_CAUTION
+        doc["cautions"] = list(CAUTION_PARAGRAPHS)  # as solve --json
         json.dump(_finite(doc), out, indent=2, allow_nan=False)
         out.write("\n")
     else:
