@@ -12,7 +12,7 @@ from __future__ import annotations
 from dataclasses import replace
 
 from PySide6.QtCore import QRectF, Qt
-from PySide6.QtGui import QPainter
+from PySide6.QtGui import QAction, QPainter
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QFormLayout,
@@ -197,8 +197,17 @@ class HaulPlanPanel(QWidget):
 
 
 def install_haul_plan(window) -> HaulPlanPanel:
-    """Add the Haul plan dock along the bottom of ``window`` (a MainWindow): wide enough for plot and table."""
+    """Add the Haul plan dock along the bottom of ``window`` (a MainWindow; wide enough for plot and table),
+    closed until asked for (View > Panels, or Tools > Plan the haul, which also plans it); closing it
+    takes the preview off the canvas."""
     panel = HaulPlanPanel(window.document, window.canvas, window)
     dock = window.add_panel(panel, "Haul plan", "dock_haul_plan", Qt.BottomDockWidgetArea)
+    dock.hide()
+    dock.visibilityChanged.connect(lambda shown: None if shown else panel.ghost.hide())
     window.haul_dock = dock
+    act = QAction("Plan the haul stroke by stroke", window)
+    act.setStatusTip("Rope paid in, stretch, resets: how far each stroke brings the load")
+    act.triggered.connect(lambda: (dock.show(), dock.raise_(), panel.replan()))
+    window.menu_tools.addAction(act)
+    window.action_plan_haul = act
     return panel

@@ -28,8 +28,8 @@ def test_scrubber_step_on_a_sample(benchmark, qtbot, name):
     w.view.zoom_to_fit()
     w.live.scheduler.solve_now()
     panel = w.haul_plan
-    w.haul_dock.raise_()
-    plan = panel.replan()
+    w.action_plan_haul.trigger()  # Tools > Plan the haul: opens the dock and plans
+    plan = panel.plan
     n = len(plan.frames)
     assert n > 50
     step = {"i": 0}

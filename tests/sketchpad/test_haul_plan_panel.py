@@ -18,10 +18,14 @@ SAMPLE = "raft-three-strokes.rig.json"
 
 
 def open_sample(window):
+    """The sample opened and the Haul plan dock opened from Tools > Plan the haul (which plans it once)."""
     rig = load_rig(SAMPLES / SAMPLE)
     window.document.replace_all(rig, pathlib.Path(SAMPLES / SAMPLE))
     window.view.zoom_to_fit()
+    assert not window.haul_dock.isVisible()  # closed until asked for: the canvas keeps its room
+    window.action_plan_haul.trigger()
     QApplication.processEvents()
+    assert window.haul_dock.isVisible() and window.haul_plan.plan is not None
     return rig
 
 
@@ -60,7 +64,6 @@ def test_plan_fills_the_table_and_totals_as_the_command_line_words_them(main_win
 def test_dragging_the_scrubber_moves_the_preview_not_the_drawing(main_window, qtbot):
     rig = open_sample(main_window)
     panel = main_window.haul_plan
-    main_window.haul_dock.raise_()
     qtbot.mouseClick(panel.plan_button, Qt.LeftButton)
     depth = main_window.document.undo_stack.count()
     slider = panel.slider
@@ -93,3 +96,13 @@ def test_a_drawing_changed_after_planning_says_the_plan_is_stale(main_window, qt
     rig = main_window.document.rig
     main_window.document.apply(rig.moved("A1", -2.0, 26.0), "move the anchor")
     assert "plan the haul again" in panel.status.text()
+
+
+def test_closing_the_dock_takes_the_preview_off_the_canvas(main_window, qtbot):
+    open_sample(main_window)
+    panel = main_window.haul_plan
+    panel.slider.setValue(panel.slider.maximum() // 2)
+    assert panel.ghost.ropes.isVisible()
+    main_window.haul_dock.close()
+    QApplication.processEvents()
+    assert not panel.ghost.ropes.isVisible()

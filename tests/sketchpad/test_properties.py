@@ -319,7 +319,6 @@ def test_a_drag_elsewhere_leaves_the_rig_page_as_it_is(dock, qtbot):
     assert not rp.min_sf.has_error and float(rp.min_sf.edit.text().split()[0].rstrip(":1")) == 8.0
 
 
-
 def test_a_pass_turned_into_a_capture_holds_with_the_kits_grab_and_the_grab_can_be_changed(dock, qtbot, tmp_path):
     # issue 22: a progress capture runs as its pulley and holds with a rope grab (its slip force counts)
     from solver.model import Hardware
