@@ -32,7 +32,7 @@ from sketchpad.fields import QuantityField
 from sketchpad.haul_ghost import HaulGhost
 from sketchpad.haul_plot import paint_haul_plot, plot_key
 from solver import units
-from solver.cautions import SHORT_CAUTION
+from solver.cautions import caution_lines
 from solver.haul_plan import HaulPlan, haul_settings, plan_haul, with_haul_settings
 from solver.haul_table import HEADER, stroke_rows, summary_lines
 from solver.model import Rig
@@ -103,7 +103,7 @@ class HaulPlanPanel(QWidget):
         self.table.setMinimumHeight(110)
         self.table.setMinimumWidth(320)
         self.plot = HaulPlotWidget()
-        caution = QLabel(SHORT_CAUTION)
+        caution = QLabel(" ".join(caution_lines()))
         caution.setWordWrap(True)
         caution.setStyleSheet("color: #55554f; font-size: 8pt")
         left = QVBoxLayout()
