@@ -490,7 +490,7 @@ class _Run:
         travel0 = self.travel_total
         peak = 0.0
         prev = (0.0, self._current_pull(), self._closest_at(h.pos, pieces))  # paid, pull on load, closest spacing
-        self._last_state = (h.last, h.moving)
+        self._last_state = self._snapshot()
         self._partial = HaulStroke(0.0, 0.0, 0.0, 0.0, None, "stopped")
         paid = 0.0
         ended = "throw"
@@ -501,16 +501,19 @@ class _Run:
             closest, which = self._closest(result, pieces)
             over = self.travel_total + self._step_travel(result) - self.target
             if over >= 0 or closest <= h.spacing:
-                # finish exactly at the target or at the spacing: interpolate the rope paid in, solve there
+                # finish exactly at the target or at the spacing: the rope paid in where that happens
                 f_t = 1.0 if over < 0 else 1.0 - over / max(self._step_travel(result), 1e-12)
                 f_s = 1.0
                 if closest <= h.spacing and math.isfinite(prev[2]) and prev[2] > closest:
                     f_s = (prev[2] - h.spacing) / (prev[2] - closest)
-                f = min(max(min(f_t, f_s), 0.0), 1.0)
-                p = prev[0] + f * (p - prev[0])
                 ended = "target" if f_t <= f_s and over >= 0 else "two-blocked"
-                h.last, h.moving = self._last_state
-                result, strands = self._solve_at(self._with_haul_L0(h.strands, p))
+                if ended == "target":
+                    result, strands, p = self._finish_at_target(prev[0], prev[1], p, over)
+                else:
+                    p = prev[0] + min(max(f_s, 0.0), 1.0) * (p - prev[0])
+                    self._restore(self._last_state)
+                    self._step_pulls = (prev[0], prev[1], p)
+                    result, strands = self._solve_at(self._with_haul_L0(h.strands, p))
                 peak = max(peak, h.haul_force(result, strands))
                 self._accept(result, strands, p)
                 paid = p
@@ -520,7 +523,7 @@ class _Run:
                 break
             self._check_load_reach(result)
             peak = max(peak, h.haul_force(result, strands))
-            self._last_state = (h.last, h.moving)
+            self._last_state = self._snapshot()
             self._accept(result, strands, p)
             paid = p
             prev = (p, self._current_pull(), closest)
@@ -530,7 +533,40 @@ class _Run:
         self._partial = None
         return self._row(paid, travel0, peak, None, ended)
 
-    _last_state: tuple = (None, False)
+    _last_state: tuple = ()
+
+    def _finish_at_target(self, p_lo: float, pull_lo: float, p_hi: float, over_hi: float):
+        """(result, strands, rope paid in) of the step where the load reaches the target travel exactly:
+        regula falsi (Illinois) on the rope paid in between the last step (short) and this one (past)."""
+        h = self.h
+        lo, f_lo, hi, f_hi = p_lo, self.travel_total - self.target, p_hi, over_hi
+        side = 0
+        for _ in range(8):
+            p = hi - f_hi * (hi - lo) / (f_hi - f_lo) if f_hi != f_lo else 0.5 * (lo + hi)
+            self._restore(self._last_state)
+            self._step_pulls = (p_lo, pull_lo, p)
+            result, strands = self._solve_at(self._with_haul_L0(h.strands, p))
+            f = self.travel_total + self._step_travel(result) - self.target
+            if abs(f) <= 1e-9 * max(self.target, 1.0) or hi - lo <= 1e-12:
+                break
+            if f > 0:
+                hi, f_hi = p, f
+                f_lo = f_lo / 2 if side == 1 else f_lo
+                side = 1
+            else:
+                lo, f_lo = p, f
+                f_hi = f_hi / 2 if side == -1 else f_hi
+                side = -1
+        return result, strands, p
+
+    def _snapshot(self) -> tuple:
+        """What a step may change before it is accepted: a finishing step solves again from here."""
+        h = self.h
+        return (h.last, h.moving, h.pull_dir, self._base_L0, self.before_move)
+
+    def _restore(self, snap: tuple) -> None:
+        h = self.h
+        h.last, h.moving, h.pull_dir, self._base_L0, self.before_move = snap
     _step_pulls: tuple = (0.0, 0.0, 0.0)
 
     def _row(self, paid, travel0, peak, capture_N, ended) -> HaulStroke:
