@@ -59,7 +59,7 @@ from solver.capture_checks import check_captures
 from solver.danger import DangerZone, Piece, danger_zones, pieces, positions
 from solver.errors import RopewrightError
 from solver.hauling import haulers_needed
-from solver.model import Hardware, Material, Rig
+from solver.model import Hardware, Material, Rig, is_tended_tail
 from solver.result import Result, Warning_
 from solver.tensioned_line import check_tensioned_lines, is_line_leg_pair
 
@@ -402,8 +402,11 @@ def check_slack(rig: Rig, result: Result) -> list[Warning_]:
     """Runs whose pieces all carry (practically) nothing."""
     out = []
     tens = {(s.rope, s.index): float(s.tension_N) for s in result.segments}
+    pts = {p.id: p for p in rig.points}
     for rope in rig.ropes:
         for run in rope.runs():
+            if is_tended_tail(rope, run, pts):
+                continue  # slack by design until the capture holds it
             ts = [tens.get((rope.id, i)) for i in run.piece_indices]
             if not ts or any(t is None for t in ts):
                 continue

@@ -296,10 +296,11 @@ class _Run:
         return out
 
     def _blocking_pieces(self, strands: list[Strand]) -> list[tuple[str, str]]:
-        """Pieces of the haul system that close up as it is hauled (not at the team, not at the load)."""
+        """Pieces that close up as the system is hauled: those of ropes running over pulleys (not a plain
+        tie such as a sling or a load line), not at the team, not at the load, not between two fixed points."""
         out = []
         for st in strands:
-            if st.role == LOAD and st.capture_index() is None and not st.key.endswith("<"):
+            if len(st.passes) < 3 and not st.key.endswith(("<", ">")):
                 continue
             for a, b in zip(st.passes, st.passes[1:]):
                 ends = {a.at, b.at}
@@ -613,14 +614,18 @@ class _Run:
         h = self.h
         if h.capture is None:
             return self._reset_without_capture()
-        # the strands beyond the capture and the hauled one go slack: keep the load side, cut at the capture
-        held_side: list[Strand] = []
+        # everything beyond the capture goes slack: keep what hangs from the load to the capture
+        candidates: list[Strand] = []
         for st in h.strands:
             if st.capture_index() is not None:
-                held, _ = cut_at_capture(st, _piece_l0(h.last, st.key))
-                held_side.append(held)
-            elif st.key.endswith("<") or st.role == LOAD:
-                held_side.append(st)
+                candidates.append(cut_at_capture(st, _piece_l0(h.last, st.key))[0])
+            elif not st.key.endswith(">"):
+                candidates.append(st)
+        held_side = self._load_chain(candidates)
+        if not any(s.key.endswith("<") for s in held_side):
+            raise _Stop("unreachable", f"stroke {self.stroke_no}: the progress capture at "
+                        f"'{self._name(h.capture.at)}' is not on the rope that holds the load, so nothing holds it "
+                        "while the team resets", h.capture.at)
         h.moving = False
         result = self._held(held_side)
         capture_N = self._capture_load(result, held_side)
@@ -642,6 +647,22 @@ class _Run:
         h.last, h.prev_pos = result, None
         self.frames.append(HaulFrame(self.stroke_no, "reset", self.paid_total, self.travel_total, 0.0, dict(h.pos)))
         return capture_N, slip
+
+    def _load_chain(self, strands: list[Strand]) -> list[Strand]:
+        """The strands that hang from the load end to end through free points (a knot, a grab, a master
+        point) as far as fixed points: what holds the load once everything else has gone slack."""
+        load = self.h.load.id
+        remaining, keep, frontier, seen = list(strands), [], [load], {load}
+        while frontier:
+            at = frontier.pop()
+            for st in [s for s in remaining if at in (s.passes[0].at, s.passes[-1].at)]:
+                remaining.remove(st)
+                keep.append(st)
+                for end in (st.passes[0].at, st.passes[-1].at):
+                    if end not in seen and not self.rig.point(end).is_fixed:
+                        seen.add(end)
+                        frontier.append(end)
+        return keep
 
     def _held(self, strands: list[Strand]) -> Result:
         result = self.h.solve(strands, False)
@@ -683,8 +704,7 @@ class _Run:
         held = next(s for s in held_side if s.key.endswith("<"))
         grab = held.passes[0].at
         want = self.start_spacing.get(grab)
-        before = next((s for s in held_side if s.rope == held.rope and s.passes[-1].at == grab and s is not held),
-                      None)
+        before = next((s for s in held_side if s.passes[-1].at == grab and s is not held), None)
         if want is None or before is None:
             return held_side, result
         for _ in range(3):  # the spacing follows the unstretched split closely: a few corrections settle it
@@ -701,24 +721,18 @@ class _Run:
         return held_side, result
 
     def _rebuilt(self, held_side: list[Strand]) -> list[Strand]:
-        """The slack strands beyond the capture and the hauled one, taken in hand-tight at the reset geometry."""
+        """Every strand that went slack (beyond the capture, the haul system's own ropes), taken in
+        hand-tight at the reset geometry."""
         h = self.h
+        held = {s.key for s in held_side}
         out = []
-        for st in self._slack_templates():
+        for st in strands_of(self.rig):
+            if st.capture_index() is not None:
+                st = cut_at_capture(st, [0.0] * (len(st.passes) - 1))[1]
+            elif st.key in held:
+                continue
             out.append(replace(st, L0=st.drawn_length(h.pos)))
         return out
-
-    def _slack_templates(self) -> list[Strand]:
-        if not hasattr(self, "_templates"):
-            tpl = []
-            for st in strands_of(self.rig):
-                if st.capture_index() is not None:
-                    _, beyond = cut_at_capture(st, [0.0] * (len(st.passes) - 1))
-                    tpl.append(beyond)
-                elif st.role == HAUL:
-                    tpl.append(st)
-            self._templates = tpl
-        return self._templates
 
     def _reset_without_capture(self) -> tuple[float | None, float]:
         """No capture: everything goes slack; the stuck load stays; the travelling grabs and pulleys go back

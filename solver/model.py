@@ -163,6 +163,16 @@ class Rope:
         return self.label or self.id
 
 
+def is_tended_tail(rope: Rope, run: Run, points: Mapping[str, "Point"]) -> bool:
+    """True for a main line's tail run through a progress capture to a tender at the haul team (tied
+    there, not hauled): it is kept hand-tight and carries nothing while hauling; the capture holds it
+    when the team lets go."""
+    path = rope.path[run.first:run.last + 1]
+    end = points.get(path[-1].at)
+    return (not run.hauled and end is not None and end.kind == "haul"
+            and any(ps.how == "capture" for ps in path[1:-1]))
+
+
 @dataclass(frozen=True)
 class Material:
     """A rope, sling or cord spec: strength (MBS) and a monotone tension-strain curve.

@@ -137,6 +137,8 @@ def _hauled(at: str) -> Pass:
     return Pass(at, "hauled")
 
 
+#: Slack left in a tended main-line tail (the 4:1's), m: it carries nothing until a capture holds it.
+TAIL_SLACK_M = 1.0
 #: The rope grab a kit's progress capture holds with unless another is chosen (library id).
 DEFAULT_CAPTURE_GRAB = "grab-prusik"
 
@@ -306,6 +308,10 @@ def _build_4to1(b: _Builder, s: _Site) -> None:
     b.rope("ma", o["material"], [_tied(s.anchor.id), _pulley(g, o["hardware"]), _tied(t)], "first 2:1 rope")
     h = _haul_point(b, s, s.u, _team_default(s, "4:1"))
     b.rope("ma", o["material"], [_tied(_second_anchor(s)), _pulley(t, o["hardware"]), _hauled(h)], "second 2:1 rope")
+    # the main line's tail runs on from the grab through the progress capture on the anchor to a tender
+    # by the team, with slack: it carries nothing while hauling and holds the load at a reset
+    b.rope("tail", o["material"], [_tied(g), _capture(s.anchor.id, o["hardware"], o["grab"]), _tied(h)],
+           "main line tail through the capture (tended)", Rigging(slack_m=TAIL_SLACK_M))
 
 
 def _z_to(b: _Builder, s: _Site, g: str, t: str) -> None:

@@ -267,3 +267,20 @@ def test_a_free_load_hangs_first_then_moves_at_once_with_rope_travel_three_times
     assert plan.paid_in_m == pytest.approx(3.0 * 1.5, rel=0.05)
     # the capture holds the load's weight while the team resets (100 kg x standard gravity)
     assert plan.strokes[0].capture_N == pytest.approx(100.0 * 9.80665, rel=1e-3)
+
+
+def test_kit_four_to_one_captures_on_its_tended_tail_and_keeps_what_each_stroke_gained():
+    # the 4:1 (2:1 on 2:1) holds on the main line's tail through the capture at the anchor; with the
+    # capture keeping the stretch, a stroke brings the load farther than the same system without one
+    from solver.model import Point, Rig
+
+    base = Rig(points=(Point("L", "load", 0, 0, required_N=2000.0), Point("A", "anchor", 0, 20)))
+    rig = place_template(base, "4:1", load_id="L", anchor_id="A", team=4)
+    tail = next(r for r in rig.ropes if any(p.how == "capture" for p in r.path))
+    with_capture = plan_haul(rig, travel_m=1.0, throw_m=3.0)
+    assert with_capture.ok, with_capture.message
+    assert all(s.capture_N and s.capture_N > 0 for s in with_capture.strokes if s.reset)
+    bare = rig.without_rope(tail.id)
+    without = plan_haul(bare, travel_m=1.0, throw_m=3.0)
+    assert without.ok, without.message
+    assert with_capture.strokes[1].load_travel_m > 1.5 * without.strokes[1].load_travel_m
