@@ -119,12 +119,16 @@ def test_an_anchor_that_would_fail_first_is_named_with_its_stroke():
     assert "anchor 'A' would fail first" in plan.message and plan.message.startswith("stroke 1:")
 
 
-def test_kit_three_to_one_with_capture_hauls_on_library_specs():
+def kit(name: str):
+    """Kit system ``name`` from the load at the origin to an anchor 20 m north, a 2 kN stuck load, 4 haulers."""
     from solver.model import Point, Rig
 
     base = Rig(points=(Point("L", "load", 0, 0, required_N=2000.0), Point("A", "anchor", 0, 20)))
-    rig = place_template(base, "3:1", load_id="L", anchor_id="A", team=4)
-    plan = plan_haul(rig, travel_m=1.0, throw_m=3.0)
+    return place_template(base, name, load_id="L", anchor_id="A", team=4)
+
+
+def test_kit_three_to_one_with_capture_hauls_on_library_specs():
+    plan = plan_haul(kit("3:1"), travel_m=1.0, throw_m=3.0)
     assert plan.ok, plan.message
     assert plan.ma_ideal == pytest.approx(3.0, rel=1e-3)
     assert plan.paid_in_before_move_m is not None and plan.paid_in_before_move_m > 0
@@ -218,10 +222,7 @@ def test_without_a_capture_each_reset_lets_everything_go_slack_and_slides_the_gr
 
 
 def test_compound_from_the_kit_resets_its_grab_to_the_starting_spacing():
-    from solver.model import Point, Rig
-
-    base = Rig(points=(Point("L", "load", 0, 0, required_N=2000.0), Point("A", "anchor", 0, 20)))
-    rig = place_template(base, "6:1", load_id="L", anchor_id="A", team=4)
+    rig = kit("6:1")
     plan = plan_haul(rig, travel_m=0.5, throw_m=3.0)
     assert plan.ok, plan.message
     assert plan.ma_ideal == pytest.approx(6.0, rel=1e-3)
@@ -272,10 +273,7 @@ def test_a_free_load_hangs_first_then_moves_at_once_with_rope_travel_three_times
 def test_kit_four_to_one_captures_on_its_tended_tail_and_keeps_what_each_stroke_gained():
     # the 4:1 (2:1 on 2:1) holds on the main line's tail through the capture at the anchor; with the
     # capture keeping the stretch, a stroke brings the load farther than the same system without one
-    from solver.model import Point, Rig
-
-    base = Rig(points=(Point("L", "load", 0, 0, required_N=2000.0), Point("A", "anchor", 0, 20)))
-    rig = place_template(base, "4:1", load_id="L", anchor_id="A", team=4)
+    rig = kit("4:1")
     tail = next(r for r in rig.ropes if any(p.how == "capture" for p in r.path))
     with_capture = plan_haul(rig, travel_m=1.0, throw_m=3.0)
     assert with_capture.ok, with_capture.message
