@@ -94,6 +94,8 @@ def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
     except UnitError as exc:
         print(f"ropewright: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
+    # display units never change a number; the plan's sentences are worded in the units asked for
+    rig = replace(rig, display=replace(rig.display, length=length_unit, force=force_unit))
     bar = _Bar(sys.stderr)
     plan = plan_haul(rig, travel, throw, spacing_m=spacing, steps=args.steps, progress=bar)
     bar.done()
@@ -103,7 +105,6 @@ def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
         json.dump(_finite(doc), out, indent=2, allow_nan=False)
         out.write("\n")
     else:
-        rig = replace(rig, display=replace(rig.display, length=length_unit, force=force_unit))
         out.write(format_plan(rig, plan, length_unit, force_unit) + "\n")
     if plan.status == "invalid" and plan.subject in OPTION_SUBJECTS:
         print(f"ropewright: {plan.message}", file=sys.stderr)

@@ -18,6 +18,7 @@ import math
 from dataclasses import dataclass, field, replace
 from typing import Callable, Mapping
 
+from solver import units
 from solver.equilibrium import solve
 from solver.errors import RigModelError
 from solver.haul_strands import HAUL, LOAD, TAIL, Strand, as_rig, cut_at_capture, joined, lengths, strands_of
@@ -325,6 +326,14 @@ class _Run:
     def _name(self, pid: str) -> str:
         return self.rig.point(pid).name
 
+    def _L(self, metres: float) -> str:
+        """A length in the rig's display unit, as every surface writes it."""
+        return units.format_length(metres, self.rig.display.length)
+
+    def _F(self, newtons: float) -> str:
+        """A force in the rig's display unit, as every surface writes it."""
+        return units.format_force(newtons, self.rig.display.force)
+
     # --- one step ------------------------------------------------------------------------------
     def _running(self, strands: list[Strand]) -> list[Strand]:
         """The strands with the capture's two halves joined when the haul side has lifted the load off it."""
@@ -389,7 +398,7 @@ class _Run:
             p = self.rig.point(aid)
             if p.kind == "anchor" and p.capacity_N and a.force_N > p.capacity_N:
                 raise _Stop("unreachable", f"stroke {self.stroke_no}: the anchor '{p.name}' would fail first: "
-                            f"it would take {a.force_N / 1000:.1f} kN, more than its {p.capacity_N / 1000:.1f} kN "
+                            f"it would take {self._F(a.force_N)}, more than its {self._F(p.capacity_N)} "
                             "capacity", aid)
         sf = self.rig.settings.min_safety_factor
         for s in result.segments:
@@ -398,7 +407,7 @@ class _Run:
                 rope = self.rig.rope(st.rope)
                 raise _Stop("unreachable", f"stroke {self.stroke_no}: the rope '{rope.name}' would break between "
                             f"'{self._name(s.from_point)}' and '{self._name(s.to_point)}' "
-                            f"({s.tension_N / 1000:.1f} kN, above its MBS)", rope.id)
+                            f"({self._F(s.tension_N)}, above its MBS)", rope.id)
         return result
 
     def _accept(self, result: Result, strands: list[Strand], paid_stroke: float, phase: str = "stroke") -> float:
@@ -431,7 +440,7 @@ class _Run:
                     break
                 if self.stroke_no >= MAX_STROKES:
                     raise _Stop("unreachable", f"stroke {self.stroke_no}: {MAX_STROKES} strokes brought the load "
-                                f"only {self.travel_total:.2f} m of {self.target:.2f} m")
+                                f"only {self._L(self.travel_total)} of {self._L(self.target)}")
                 held_before = (self.strokes[-2].capture_N or 0.0) if len(self.strokes) > 1 else 0.0
                 capture_N, slip = self._reset()
                 self.strokes[-1] = replace(stroke, capture_N=capture_N, capture_slip_m=slip, reset=True)
@@ -442,7 +451,8 @@ class _Run:
                     held = "" if self.h.capture is not None else " and nothing keeps the stretch while the team resets"
                     raise _Stop("unreachable", f"stroke {self.stroke_no}: the haul {why}{held}: stretch takes up "
                                 "more rope than a stroke gives, so every stroke would end the same way (set the "
-                                "travelling pulley farther out, use a longer throw or add a progress capture)")
+                                "travelling pulley farther out, use a longer throw or add a progress capture)"
+                                + self._one_pull_words())
                 self.stroke_no += 1
         except _Stop as stop:
             status, message, subject = stop.status, stop.message, stop.subject
@@ -450,13 +460,24 @@ class _Run:
                 self.strokes.append(self._partial)
                 self.paid_total += self._partial.paid_in_m
         if status == "ok":
-            message = (f"load hauled {self.travel_total:.2f} m in {len(self.strokes)} stroke(s) with "
+            message = (f"load hauled {self._L(self.travel_total)} in {len(self.strokes)} stroke(s) with "
                        f"{sum(1 for s in self.strokes if s.reset)} reset(s)")
         return HaulPlan(status, message, self.h.load.id, self.h.haul_id, self.target, self.throw,
                         self.before_move, tuple(self.strokes), tuple(self.frames), self.ma_ideal,
                         tuple(self.h.warnings), subject)
 
     _partial: HaulStroke | None = None
+
+    def _one_pull_words(self) -> str:
+        """How much rope one unbroken pull would take before the load moves (a sentence), if it ever does
+        within twenty throws; the travelling pulleys' spacing still applies."""
+        if self.stroke_no != 1 or self.h.resist_N is None:
+            return ""
+        probe = plan_haul(self.rig, 1e-3, 20 * self.throw, spacing_m=self.h.spacing, steps=4 * self.steps)
+        if probe.paid_in_before_move_m is None:
+            return ""
+        return (f"; in one unbroken pull the load would first move after "
+                f"{self._L(probe.paid_in_before_move_m)} of rope")
 
     def _settle_free_load(self) -> None:
         """A free load hangs where the rig as drawn holds it before any rope is paid in (no travel counted);
@@ -480,7 +501,7 @@ class _Run:
         for a, b in pieces:
             if math.dist(pos[a], pos[b]) <= self.h.spacing:
                 raise _Stop("unreachable", f"stroke 1: '{self._name(a)}' and '{self._name(b)}' start within the "
-                            f"{self.h.spacing:.2f} m spacing: the system is two-blocked before the first stroke",
+                            f"{self._L(self.h.spacing)} spacing: the system is two-blocked before the first stroke",
                             a)
         return True
 
@@ -606,7 +627,7 @@ class _Run:
             other = s.to_point if s.from_point == lid else s.from_point
             if self.rig.point(other).is_fixed and s.length_m <= self.h.spacing:
                 raise _Stop("unreachable", f"stroke {self.stroke_no}: the load would pass '{self._name(other)}' "
-                            f"after {self.travel_total:.2f} m of travel; {self.target:.2f} m cannot be reached",
+                            f"after {self._L(self.travel_total)} of travel; {self._L(self.target)} cannot be reached",
                             other)
 
     def _reset(self) -> tuple[float, float]:
@@ -634,8 +655,8 @@ class _Run:
             held_side, result, slip = self._slid(held_side, capture_N)
             grab = hardware_for(self.rig, h.capture.grab)
             h.warnings.append(f"stroke {self.stroke_no}: the capture's grab ({grab.name}) slips: it would hold "
-                              f"{capture_N / 1000:.1f} kN, above its {h.grab_slip_N / 1000:.1f} kN slip force; "
-                              f"it slides {slip:.2f} m before it holds")
+                              f"{self._F(capture_N)}, above its {self._F(h.grab_slip_N)} slip force; "
+                              f"it slides {self._L(slip)} before it holds")
             capture_N = self._capture_load(result, held_side)
         h.pos.update(result.points)
         held_side, result = self._grabs_back(held_side, result)

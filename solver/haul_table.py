@@ -44,7 +44,7 @@ def summary_lines(rig: Rig, plan: HaulPlan, length_unit: str, force_unit: str) -
              f"Load travel: {L(plan.load_travel_m)} of {L(plan.target_m)}",
              f"Strokes: {len(plan.strokes)}; resets: {plan.resets}",
              f"Rope through the team's hands: {L(plan.paid_in_m)}"]
-    if plan.ma_ideal:
+    if plan.ma_ideal and plan.load_travel_m > 0:
         lines.append(f"Ideal mechanical advantage {plan.ma_ideal:.2f}:1: without stretch the team would take in "
                      f"{L(plan.ma_ideal * plan.load_travel_m)}")
     team = rig.point(plan.haul).haul_force if plan.haul and rig.has_point(plan.haul) else None

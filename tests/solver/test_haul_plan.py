@@ -282,3 +282,12 @@ def test_kit_four_to_one_captures_on_its_tended_tail_and_keeps_what_each_stroke_
     without = plan_haul(bare, travel_m=1.0, throw_m=3.0)
     assert without.ok, without.message
     assert with_capture.strokes[1].load_travel_m > 1.5 * without.strokes[1].load_travel_m
+
+
+def test_a_haul_that_never_moves_the_load_says_how_much_rope_one_pull_would_need():
+    rig = load_rig(SAMPLE.parent / "raft-3to1-redirect.rig.json")  # no capture; 3 m of throw is not enough
+    plan = plan_haul(rig, travel_m=2.0, throw_m=3.0)
+    assert plan.status == "unreachable" and plan.message.startswith("stroke 1:")
+    one_pull = plan_haul(rig, travel_m=0.01, throw_m=30.0)
+    assert one_pull.ok and one_pull.paid_in_before_move_m > 3.0
+    assert f"first move after {one_pull.paid_in_before_move_m:.2f} m of rope" in plan.message
