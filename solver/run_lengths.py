@@ -25,9 +25,12 @@ def with_unstretched(s: System, lengths: Mapping[str, float]) -> System:
     Raises RigModelError naming the rope when a length is not above 0, a rope is unknown, or a rope
     has more than one run (its length would be ambiguous).
     """
-    index = {}
-    for i, rope in enumerate(s.run_rope):
-        index[rope] = -1 if rope in index else i
+    index = s.__dict__.get("_run_of_rope")
+    if index is None:  # per System (its ropes never change): rope id -> its one run, -1 for several
+        index = {}
+        for i, rope in enumerate(s.run_rope):
+            index[rope] = -1 if rope in index else i
+        s._run_of_rope = index
     run_L0 = s.run_L0.copy()
     for rope, L0 in lengths.items():
         i = index.get(rope)

@@ -6,6 +6,8 @@ from project numerics.  Units: m, N.
 from __future__ import annotations
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy.optimize import brentq
 
 from solver.haul_plan import plan_haul
@@ -111,3 +113,13 @@ def test_a_capture_below_its_slip_force_holds_what_the_team_gained():
     assert plan.ok, plan.message
     assert all(s.capture_slip_m == 0.0 for s in plan.strokes)
     assert plan.strokes[0].capture_N == pytest.approx(plan.strokes[0].haul_force_max_N, rel=1e-3)
+
+
+@settings(max_examples=15, deadline=None)
+@given(ea=st.floats(5e4, 5e6), force=st.floats(200.0, 8000.0), length=st.floats(5.0, 60.0))
+def test_hookes_law_holds_for_any_straight_rope_load_and_stiffness(ea, force, length):
+    # Hooke's law as above, over ropes 5-60 m long, EA 50 kN-5 MN and loads 0.2-8 kN: p = F (L - p) / EA
+    expected = brentq(lambda p: p - force * (length - p) / ea, 0.0, length, xtol=1e-14)
+    plan = plan_haul(one_to_one(force, ea=ea, length=length), travel_m=0.05, throw_m=expected * 1.5 + 0.1)
+    assert plan.ok, plan.message
+    assert plan.paid_in_before_move_m == pytest.approx(expected, rel=2e-4)
