@@ -18,12 +18,20 @@ from solver.model import Rig
 
 #: A point that moved less than this at the scrubbed step gets no dot, m.
 MOVED_M = 1e-3
+#: Length of the stub each dot is drawn as (a zero-length line draws nothing), m.
+DOT_STUB_M = 1e-4
 
 
 class HaulGhost:
     """Items in ``scene`` showing one haul frame of ``rig``; :meth:`show` moves them, :meth:`hide` hides them."""
 
     def __init__(self, scene: QGraphicsScene) -> None:
+        self.halo = QGraphicsPathItem()  # a paper-coloured edge under the preview so it reads over the drawing
+        halo_pen = QPen(theme.HAUL_GHOST_HALO, theme.HAUL_GHOST_WIDTH_PX + 2 * theme.HAUL_GHOST_HALO_PX)
+        halo_pen.setCosmetic(True)
+        halo_pen.setCapStyle(Qt.RoundCap)
+        halo_pen.setJoinStyle(Qt.RoundJoin)
+        self.halo.setPen(halo_pen)
         self.ropes = QGraphicsPathItem()
         pen = QPen(theme.HAUL_GHOST, theme.HAUL_GHOST_WIDTH_PX)
         pen.setCosmetic(True)
@@ -39,7 +47,8 @@ class HaulGhost:
         self.label.setFont(theme.font(theme.LABEL_POINT_SIZE, bold=True))
         self.label.setBrush(QBrush(theme.HAUL_GHOST))
         self.label.setFlag(QGraphicsItem.ItemIgnoresTransformations, True)
-        for item in (self.ropes, self.dots, self.label):
+        self.items = (self.halo, self.ropes, self.dots, self.label)
+        for item in self.items:
             item.setZValue(theme.Z_HAUL_GHOST)
             item.setAcceptedMouseButtons(Qt.NoButton)
             item.setVisible(False)
@@ -63,7 +72,8 @@ class HaulGhost:
             if abs(x - x0) + abs(y - y0) > MOVED_M:
                 c = to_scene(x, y)
                 dots.moveTo(c)
-                dots.lineTo(c)
+                dots.lineTo(c.x() + DOT_STUB_M, c.y())  # a round-capped stub: a dot of the pen's width
+        self.halo.setPath(ropes)
         self.ropes.setPath(ropes)
         self.dots.setPath(dots)
         self.label.setText(caption)
@@ -71,9 +81,9 @@ class HaulGhost:
             self.label.setPos(to_scene(*at[load_id]))
             # beside the load marker, on the side away from its own name label (ignores the view's zoom)
             self.label.setTransform(QTransform.fromTranslate(-self.label.boundingRect().width() - 14, -6))
-        for item in (self.ropes, self.dots, self.label):
+        for item in self.items:
             item.setVisible(True)
 
     def hide(self) -> None:
-        for item in (self.ropes, self.dots, self.label):
+        for item in self.items:
             item.setVisible(False)

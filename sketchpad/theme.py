@@ -231,7 +231,9 @@ def zone_brushes(kind: str) -> tuple[QBrush, QBrush]:
 
 # --- haul plan (preview of the rig part-way through a haul, and its plot) -----------------------
 HAUL_GHOST = QColor(28, 100, 168, 200)  # the rig as it stands at the scrubbed step
-HAUL_GHOST_WIDTH_PX = 2.6
+HAUL_GHOST_WIDTH_PX = 3.0
+HAUL_GHOST_HALO = QColor(246, 244, 238, 230)  # paper, under the preview
+HAUL_GHOST_HALO_PX = 2.0
 HAUL_GHOST_POINT_PX = 4.5
 Z_HAUL_GHOST = 45.0  # above the result overlay, below what a tool is drawing
 HAUL_CURVE = QColor("#1c64a8")  # load travel against rope paid in
