@@ -106,3 +106,29 @@ def test_closing_the_dock_takes_the_preview_off_the_canvas(main_window, qtbot):
     main_window.haul_dock.close()
     QApplication.processEvents()
     assert not panel.ghost.ropes.isVisible()
+
+
+def test_the_preview_paints_a_dot_where_the_travelling_grab_is_at_that_step(main_window, qtbot):
+    from sketchpad import theme
+    from sketchpad.geometry import to_scene
+
+    open_sample(main_window)
+    panel = main_window.haul_plan
+    plan = panel.plan
+    k = next(i for i, f in enumerate(plan.frames) if f.phase == "stroke" and f.stroke == 2)
+    panel.slider.setValue(k)
+    grab = plan.frames[k].points["G1"]
+    view = main_window.view
+    view.centerOn(to_scene(*grab))
+    QApplication.processEvents()
+    image = view.viewport().grab().toImage()
+    at = view.mapFromScene(to_scene(*grab))
+    want = theme.HAUL_GHOST
+
+    def close(c) -> bool:  # the preview's blue, drawn part-transparent over paper or the drawing
+        return c.blue() - c.red() > 0.6 * (want.blue() - want.red()) and c.blue() > c.green()
+
+    # the rope here runs nearly north-south and is 3 px wide: 3 px either side of it only the dot is blue
+    assert close(image.pixelColor(at.x(), at.y()))
+    assert close(image.pixelColor(at.x() - 3, at.y())) and close(image.pixelColor(at.x() + 3, at.y())), \
+        "the preview's dot is painted where the grab is at that step"
