@@ -138,7 +138,10 @@ class HaulPlanPanel(QWidget):
         self.throw.set_value(s.throw_m)
         self.spacing.set_value(s.spacing_m)
         if self.plan is not None and rig is not self.planned_rig:
+            # the preview showed another drawing: take it away until the haul is planned again
             self.status.setText("The drawing changed since this plan: plan the haul again.")
+            self.ghost.hide()
+            self.slider.setEnabled(False)
 
     # --- planning -----------------------------------------------------------------------------
     def replan(self) -> HaulPlan:

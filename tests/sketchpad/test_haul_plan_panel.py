@@ -94,8 +94,11 @@ def test_a_drawing_changed_after_planning_says_the_plan_is_stale(main_window, qt
     panel = main_window.haul_plan
     qtbot.mouseClick(panel.plan_button, Qt.LeftButton)
     rig = main_window.document.rig
+    panel.slider.setValue(panel.slider.maximum())
+    assert panel.ghost.ropes.isVisible()
     main_window.document.apply(rig.moved("A1", -2.0, 26.0), "move the anchor")
     assert "plan the haul again" in panel.status.text()
+    assert not panel.ghost.ropes.isVisible() and not panel.slider.isEnabled()
 
 
 def test_closing_the_dock_takes_the_preview_off_the_canvas(main_window, qtbot):
