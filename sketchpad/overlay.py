@@ -1277,7 +1277,7 @@ class ZoneItem(_LayerItem):
         self.update()
 
     def paint(self, painter: QPainter, option, widget=None) -> None:
-        for kind in ("recoil", "bight"):
+        for kind in theme.ZONE_COLOURS:  # recoil under bight / failure areas
             path = self.paths.get(kind)
             if path is None:
                 continue
@@ -2065,6 +2065,7 @@ class Legend(QWidget):
         self.lines: list[str] = []
         self.show_zones = True
         self.grey = False
+        self.zone_names = theme.DRAWN_ZONE_NAMES  # (kind, name) of each zone swatch in the key
         self.font = theme.font(theme.OVERLAY_POINT_SIZE)
         self.title_font = theme.font(theme.OVERLAY_POINT_SIZE, bold=True)
         self.fm = QFontMetricsF(self.font)
@@ -2115,7 +2116,7 @@ class Legend(QWidget):
         if not self.shown:
             return []
         g = self.geometry()
-        frame = (g.x(), g.y(), g.width(), g.height(), self.show_zones, self.grey, len(self.lines))
+        frame = (g.x(), g.y(), g.width(), g.height(), self.show_zones, self.zone_names, self.grey, len(self.lines))
         last = self._areas
         if last is not None and last[0] is self.lines and last[1] == frame:
             return last[2]  # set_content hands in a new list when the lines change
@@ -2143,7 +2144,7 @@ class Legend(QWidget):
             self._paint(painter)
             painter.restore()
             return
-        key = (tuple(self.lines), self.show_zones, self.grey, self.width(), self.height(), dpr)
+        key = (tuple(self.lines), self.show_zones, self.zone_names, self.grey, self.width(), self.height(), dpr)
         if self._pixmap is None or self._pixmap_key != key:
             self._pixmap, self._pixmap_key = self._assembled(dpr), key
         painter.drawPixmap(self.x(), self.y(), self._pixmap)
@@ -2152,7 +2153,7 @@ class Legend(QWidget):
         """The key as one pixmap: the cached frame with each line's cached pixmap laid over it."""
         pix = self._blank(self.width(), self.height(), dpr)
         p = QPainter(pix)
-        frame_key = (self.show_zones, self.grey, self.width(), self.height(), dpr)
+        frame_key = (self.show_zones, self.zone_names, self.grey, self.width(), self.height(), dpr)
         if self._frame_pix is None or self._frame_pix[0] != frame_key:
             frame = self._blank(self.width(), self.height(), dpr)
             fp = QPainter(frame)
@@ -2237,7 +2238,7 @@ class Legend(QWidget):
         y = ramp.bottom() + 3 + lh + 3
         if self.show_zones:
             x = pad
-            for kind, name in (("bight", "inside of bight"), ("recoil", "recoil band")):
+            for kind, name in self.zone_names:
                 fill, hatch = theme.zone_brushes(kind)
                 box = QRectF(x, y + 1, 14, lh - 3)
                 p.setPen(theme.pixel_pen(theme.ZONE_COLOURS[kind], 1.0))

@@ -24,12 +24,13 @@ EXIT_SOLVE_FAILED = 3
 #: keeps the caution epilog on its one line
 _RAW = argparse.RawDescriptionHelpFormatter
 
-SUBCOMMANDS = ("solve", "haul", "sweep", "render", "report", "screenshot", "open")
+SUBCOMMANDS = ("solve", "haul", "failures", "sweep", "render", "report", "screenshot", "open")
 
 #: subcommand -> "module:function" taking the parsed args and returning an exit code
 HANDLERS: dict[str, str] = {
     "solve": "solver.cli_solve:run",
     "haul": "solver.cli_haul:run",
+    "failures": "solver.cli_failures:run",
     "sweep": "solver.sweep:run_cli",
     "render": "sketchpad.export:render_cli",
     "report": "sketchpad.report:report_cli",
@@ -57,6 +58,13 @@ def build_parser() -> argparse.ArgumentParser:
     from solver.cli_haul import add_parser as add_haul_parser
 
     add_haul_parser(sub, epilog=HELP_EPILOG, formatter_class=_RAW)
+
+    p = sub.add_parser("failures", epilog=HELP_EPILOG, formatter_class=_RAW,
+                       help="let each component go in turn: what holds, what runs free, where not to stand")
+    p.add_argument("rig", help="a .rig.json file")
+    p.add_argument("--json", action="store_true", help='print {"failures": [...]} (rig-format.md)')
+    p.add_argument("--units", choices=("si", "imperial"), default=None,
+                   help="display units (default: the rig's own display setting)")
 
     p = sub.add_parser("sweep", epilog=HELP_EPILOG, formatter_class=_RAW, help="solve a rig over a range of one parameter; write CSV and a plot")
     p.add_argument("rig")
@@ -101,6 +109,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         args_list = ["open", *args_list]
     parser = build_parser()
     args = parser.parse_args(args_list)
+    args.whole_process = argv is None  # the console script itself, not a call from Python
     try:
         code = _handler(args.command)(args)
     except RopewrightError as exc:

@@ -8,6 +8,7 @@ file, 3 the solve failed (the message says why, in words).
 from __future__ import annotations
 
 import argparse
+import gc
 import json
 import math
 import sys
@@ -91,20 +92,40 @@ def closing(parts: list[str], warnings: list[str]) -> str:
     return "\n".join(parts + [""] + [f"Caution: {line}" for line in caution_lines()])
 
 
+def load_in_units(args: argparse.Namespace) -> tuple[Rig, str, str]:
+    """The rig file ``args.rig`` shown in the ``--units`` asked for: (rig, length unit, force unit).
+
+    Display units never change a number; warnings are worded in the units asked for.
+    RigFileError reaches solver.cli.main (exit 2).
+    """
+    from solver.rigfile import load_rig
+
+    rig = load_rig(args.rig)
+    length_unit, force_unit = _units_for(rig, args.units)
+    return replace(rig, display=replace(rig.display, length=length_unit, force=force_unit)), length_unit, force_unit
+
+
+def write_json(data: dict, out: TextIO) -> None:
+    """Strict JSON (NaN and infinities as null), indented, with a final newline."""
+    json.dump(_finite(data), out, indent=2, allow_nan=False)
+    out.write("\n")
+
+
 def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
     """Load, solve and print one rig; returns the exit code."""
     from solver.analysis import analyse
-    from solver.rigfile import load_rig
 
+    if getattr(args, "whole_process", False):
+        # the command is the whole process: what the imports made lives until it ends, so the cyclic
+        # collector need not walk it (its first full pass cost about 10 ms of the first solve)
+        import solver.equilibrium  # noqa: F401 - imported here so that the freeze covers it
+
+        gc.freeze()
     out = out or sys.stdout
-    rig = load_rig(args.rig)  # RigFileError -> exit 2 via solver.cli.main
-    length_unit, force_unit = _units_for(rig, args.units)
-    # display units never change a number; warnings are worded in the units asked for
-    rig = replace(rig, display=replace(rig.display, length=length_unit, force=force_unit))
+    rig, length_unit, force_unit = load_in_units(args)
     result = analyse(rig)
     if args.json:
-        json.dump(_finite(result_document(rig, result)), out, indent=2, allow_nan=False)
-        out.write("\n")
+        write_json(result_document(rig, result), out)
     else:
         out.write(format_result(rig, result, length_unit, force_unit) + "\n")
     if not result.ok:
