@@ -5,6 +5,8 @@ from project numerics.  Units: m, N.
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -123,3 +125,26 @@ def test_hookes_law_holds_for_any_straight_rope_load_and_stiffness(ea, force, le
     plan = plan_haul(one_to_one(force, ea=ea, length=length), travel_m=0.05, throw_m=expected * 1.5 + 0.1)
     assert plan.ok, plan.message
     assert plan.paid_in_before_move_m == pytest.approx(expected, rel=2e-4)
+
+
+def test_what_the_capture_holds_at_a_reset_follows_from_hookes_law_on_the_held_rope():
+    # Derived here (Hooke's law, statics of a two-force point): a frictionless linear 3:1 drawn in line
+    # (load 0, grab G 10 m, capture A 20 m, team 25 m), the load stuck throughout the first stroke of p.
+    # During the stroke G moves u toward A: the load strand (L0 = 10 m) stretches by u, the hauled run
+    # (L0 = 35 - p, drawn 35 - 3u) by p - 3u, and G balances 3 strands: EA u / 10 = 3 EA (p - 3u) / (35 - p).
+    # At the reset the capture grips the rope at A: G-A holds l / (1 + T/EA) of rope with l = 10 - u.
+    # Then L-G-A is one straight 20 m line of L0 = 10 + that, at one tension T' = EA (20 / L0 - 1).
+    F, p = 20_000.0, 0.5  # far more than the first stroke can pull: the load stays stuck
+    u = brentq(lambda u: u / 10.0 - 3.0 * (p - 3.0 * u) / (35.0 - p), 0.0, p / 3.0, xtol=1e-15)
+    T = EA * (p - 3.0 * u) / (35.0 - p)
+    held = (10.0 - u) / (1.0 + T / EA)
+    expected = EA * (20.0 / (10.0 + held) - 1.0)
+    rig = z_in_line(F)
+    grab = Hardware("g", "grab", mbs_N=1e12, slip_N=1e12, label="grab")
+    main = rig.ropes[0]
+    path = tuple(Pass("A", "capture", "pul", grab="g") if ps.at == "A" else ps for ps in main.path)
+    rig = replace(rig.with_rope(replace(main, path=path)), hardware=rig.hardware + (grab,))
+    plan = plan_haul(rig, travel_m=0.01, throw_m=p)
+    first = plan.strokes[0]
+    assert first.load_travel_m == 0.0 and first.haul_force_max_N == pytest.approx(T, rel=1e-6)
+    assert first.capture_N == pytest.approx(expected, rel=1e-6)
