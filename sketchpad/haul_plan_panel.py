@@ -11,14 +11,16 @@ from __future__ import annotations
 
 from dataclasses import replace
 
-from PySide6.QtCore import QRectF, Qt
+from PySide6.QtCore import QEventLoop, QRectF, Qt
 from PySide6.QtGui import QAction, QPainter
 from PySide6.QtWidgets import (
     QAbstractItemView,
+    QApplication,
     QFormLayout,
     QHBoxLayout,
     QHeaderView,
     QLabel,
+    QProgressBar,
     QPushButton,
     QSizePolicy,
     QSlider,
@@ -84,6 +86,10 @@ class HaulPlanPanel(QWidget):
             field.committed.connect(lambda v, n=name: self._set(n, v))
         self.plan_button = QPushButton("Plan the haul")
         self.plan_button.clicked.connect(self.replan)
+        self.progress = QProgressBar()
+        self.progress.setRange(0, 100)
+        self.progress.setFormat("planning the haul … %p %")
+        self.progress.setVisible(False)
         self.status = QLabel("")
         self.status.setWordWrap(True)
         self.summary = QLabel("")
@@ -109,6 +115,7 @@ class HaulPlanPanel(QWidget):
         left = QVBoxLayout()
         left.addLayout(form)
         left.addWidget(self.plan_button)
+        left.addWidget(self.progress)
         left.addWidget(self.status)
         left.addWidget(self.summary)
         left.addStretch(1)
@@ -148,9 +155,23 @@ class HaulPlanPanel(QWidget):
         """Plan the haul of the document's rig now and show it."""
         rig = self.document.rig
         s = haul_settings(rig)
-        plan = plan_haul(rig, s.travel_m, s.throw_m, spacing_m=s.spacing_m)
+        self.plan_button.setEnabled(False)
+        self.progress.setValue(0)
+        self.progress.setVisible(True)
+        try:
+            plan = plan_haul(rig, s.travel_m, s.throw_m, spacing_m=s.spacing_m, progress=self._progressed)
+        finally:
+            self.progress.setVisible(False)
+            self.plan_button.setEnabled(True)
         self.show_plan(rig, plan)
         return plan
+
+    def _progressed(self, fraction: float) -> None:
+        """Show how far the plan has come and keep the window painting (no user input meanwhile)."""
+        value = int(100 * fraction)
+        if value != self.progress.value():
+            self.progress.setValue(value)
+            QApplication.processEvents(QEventLoop.ExcludeUserInputEvents)
 
     def show_plan(self, rig: Rig, plan: HaulPlan) -> None:
         self.plan, self.planned_rig = plan, rig

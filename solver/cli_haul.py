@@ -20,7 +20,7 @@ from solver import units
 from solver.cautions import CAUTION_PARAGRAPHS
 from solver.cli_solve import EXIT_BAD_INPUT, EXIT_OK, EXIT_SOLVE_FAILED, _finite, _table, _units_for, closing
 from solver.errors import UnitError
-from solver.haul_plan import DEFAULT_SPACING_M, DEFAULT_STEPS, HaulPlan, plan_haul
+from solver.haul_plan import DEFAULT_STEPS, HaulPlan, haul_settings, plan_haul
 from solver.haul_table import HEADER, stroke_rows, summary_lines
 from solver.model import Rig
 
@@ -33,9 +33,11 @@ def add_parser(sub, **kwargs) -> None:
     p = sub.add_parser("haul", help="plan a haul stroke by stroke: rope paid in, stretch, resets", **kwargs)
     p.add_argument("rig", help="a .rig.json file")
     p.add_argument("--travel", required=True, help="how far the load must come, e.g. 6m or 20ft (plain: metres)")
-    p.add_argument("--throw", default="3m", help="rope the team takes in per stroke (default 3m)")
-    p.add_argument("--spacing", default=f"{DEFAULT_SPACING_M}m",
-                   help="closest a travelling pulley may come to the next before a reset (default 0.2m)")
+    p.add_argument("--throw", default=None,
+                   help="rope the team takes in per stroke (default: the rig's planned haul, else 3m)")
+    p.add_argument("--spacing", default=None,
+                   help="closest a travelling pulley may come to the next before a reset "
+                        "(default: the rig's planned haul, else 0.2m)")
     p.add_argument("--steps", type=int, default=DEFAULT_STEPS, help="solved steps per stroke (default 100)")
     p.add_argument("--json", action="store_true", help="print the plan as JSON")
     p.add_argument("--units", choices=("si", "imperial"), default=None,
@@ -89,8 +91,9 @@ def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
     length_unit, force_unit = _units_for(rig, args.units)
     try:
         travel = units.parse_length(str(args.travel), "m")
-        throw = units.parse_length(str(args.throw), "m")
-        spacing = units.parse_length(str(args.spacing), "m")
+        planned = haul_settings(rig)
+        throw = units.parse_length(str(args.throw), "m") if args.throw is not None else planned.throw_m
+        spacing = units.parse_length(str(args.spacing), "m") if args.spacing is not None else planned.spacing_m
     except UnitError as exc:
         print(f"ropewright: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT

@@ -291,3 +291,14 @@ def test_a_haul_that_never_moves_the_load_says_how_much_rope_one_pull_would_need
     one_pull = plan_haul(rig, travel_m=0.01, throw_m=30.0)
     assert one_pull.ok and one_pull.paid_in_before_move_m > 3.0
     assert f"first move after {one_pull.paid_in_before_move_m:.2f} m of rope" in plan.message
+
+
+def test_cli_takes_throw_and_spacing_from_the_rigs_planned_haul_unless_given(tmp_path, capsys):
+    from solver.haul_plan import HaulSettings, with_haul_settings
+
+    path = tmp_path / "planned.rig.json"
+    save_rig(with_haul_settings(load_rig(SAMPLE), HaulSettings(1.0, 1.5, 0.3)), path)
+    assert cli.main(["haul", str(path), "--travel", "0.5", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["throw_m"] == pytest.approx(1.5)
+    assert cli.main(["haul", str(path), "--travel", "0.5", "--throw", "2m", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["throw_m"] == pytest.approx(2.0)
