@@ -180,3 +180,15 @@ def test_export_with_nothing_embedded_or_imported_says_so(editor, tmp_path):
     assert not editor.export_library(tmp_path / "empty.json")
     assert "Nothing to export" in editor.message.text()
     assert not (tmp_path / "empty.json").exists()
+
+
+def test_a_rope_grab_keeps_its_slip_force_through_the_editor_and_a_typed_one_is_embedded(main_window, editor, qtbot):
+    # the rope grab kind carries slip_N (rig-format.md additions); editing must never drop it
+    ed = editor
+    ed.select("builtin", "hardware", "grab-prusik")
+    form = ed.hardware_form
+    assert form.spec().slip_N == LIBRARY_HARDWARE["grab-prusik"].slip_N
+    type_into(qtbot, form.slip, "7.5 kN")
+    assert ed.embed()
+    grab = next(h for h in main_window.document.rig.hardware if h.id == "grab-prusik")
+    assert (grab.kind, grab.slip_N) == ("grab", 7500.0)
