@@ -5,7 +5,10 @@ capture load at the reset), the number of resets, the rope paid in before the lo
 moves and the rope through the team's hands; or the plan's JSON.  Distances take a unit
 (``6m``, ``20 ft``; plain numbers are metres).  Exit codes as ``solve``: 0 the travel is
 reached, 2 a file or option it cannot read, 3 the haul stops short (the message says at which
-stroke and why; the strokes made are still shown).
+stroke and why; the strokes made are still shown).  The JSON's ``status`` is ``ok``, ``unreachable``
+(the travel cannot be reached: the load would pass its anchor, every stroke two-blocks or uses its
+throw before the load moves, an anchor or rope would fail first), ``failed`` (a step would not
+solve) or ``invalid`` (no hauled rope, no load, a throw of 0 or less ...).
 """
 
 from __future__ import annotations

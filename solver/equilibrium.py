@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import logging
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -1231,7 +1231,7 @@ def _compiled(rig: Rig, motion: str | None) -> System:
 
 @solving_on_one_blas_thread  # small dense problems: one BLAS thread (solver/blas_threads.py)
 def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True,
-          unstretched_m=None) -> Result:
+          unstretched_m: Mapping[str, float] | None = None) -> Result:
     """Solve ``rig`` for static equilibrium; ``start`` = {point_id: (x, y)} warm start, metres.
 
     ``unstretched_m`` = {rope_id: m} sets the unstretched length of one-run tied ropes instead of
