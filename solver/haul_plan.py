@@ -84,6 +84,8 @@ class HaulPlan:
     ma_ideal: float | None = None
     warnings: tuple[str, ...] = ()
     subject: str = ""
+    peak_anchor: str = ""  # the anchor loaded most at any step of the haul (resets included)
+    peak_anchor_N: float = 0.0
 
     @property
     def ok(self) -> bool:
@@ -107,7 +109,8 @@ class HaulPlan:
                 "travel_m": self.target_m, "throw_m": self.throw_m,
                 "paid_in_before_move_m": self.paid_in_before_move_m, "load_travel_m": self.load_travel_m,
                 "paid_in_m": self.paid_in_m, "resets": self.resets, "ma_ideal": self.ma_ideal,
-                "strokes": [s.to_json() for s in self.strokes], "warnings": list(self.warnings)}
+                "strokes": [s.to_json() for s in self.strokes], "warnings": list(self.warnings),
+                "peak_anchor": self.peak_anchor or None, "peak_anchor_N": self.peak_anchor_N}
 
 
 class _Stop(Exception):
@@ -277,6 +280,7 @@ class _Run:
         self.start_pos = dict(pos)
         self.start_spacing = self._grab_spacings(strands, pos)
         self.frames: list = []
+        self.peak_anchor: tuple[str, float] = ("", 0.0)
         self.strokes: list[HaulStroke] = []
         self.paid_total = 0.0
         self.travel_total = 0.0
@@ -396,6 +400,8 @@ class _Run:
                         result.subject)
         for aid, a in result.anchors.items():
             p = self.rig.point(aid)
+            if p.kind == "anchor" and a.force_N > self.peak_anchor[1]:
+                self.peak_anchor = (aid, a.force_N)
             if p.kind == "anchor" and p.capacity_N and a.force_N > p.capacity_N:
                 raise _Stop("unreachable", f"stroke {self.stroke_no}: the anchor '{p.name}' would fail first: "
                             f"it would take {self._F(a.force_N)}, more than its {self._F(p.capacity_N)} "
@@ -464,7 +470,7 @@ class _Run:
                        f"{sum(1 for s in self.strokes if s.reset)} reset(s)")
         return HaulPlan(status, message, self.h.load.id, self.h.haul_id, self.target, self.throw,
                         self.before_move, tuple(self.strokes), tuple(self.frames), self.ma_ideal,
-                        tuple(self.h.warnings), subject)
+                        tuple(self.h.warnings), subject, *self.peak_anchor)
 
     _partial: HaulStroke | None = None
 
@@ -690,7 +696,7 @@ class _Run:
         if not result.ok:
             raise _Stop("failed", f"stroke {self.stroke_no}: when the team lets go the capture cannot hold the "
                         f"load: {result.message}", result.subject)
-        return result
+        return self._checked(result, strands)
 
     def _capture_load(self, result: Result, held_side: list[Strand]) -> float:
         held = next(s for s in held_side if s.key.endswith("<"))

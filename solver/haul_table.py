@@ -47,6 +47,10 @@ def summary_lines(rig: Rig, plan: HaulPlan, length_unit: str, force_unit: str) -
     if plan.ma_ideal and plan.load_travel_m > 0:
         lines.append(f"Ideal mechanical advantage {plan.ma_ideal:.2f}:1: without stretch the team would take in "
                      f"{L(plan.ma_ideal * plan.load_travel_m)}")
+    if plan.peak_anchor and rig.has_point(plan.peak_anchor):
+        a = rig.point(plan.peak_anchor)
+        cap = f" (capacity {F(a.capacity_N)})" if a.capacity_N else " (capacity not entered)"
+        lines.append(f"Largest anchor load in the haul, resets included: {F(plan.peak_anchor_N)} at {a.name}{cap}")
     team = rig.point(plan.haul).haul_force if plan.haul and rig.has_point(plan.haul) else None
     peak = max((s.haul_force_max_N for s in plan.strokes), default=0.0)
     if team and peak and plan.ok:
