@@ -44,7 +44,7 @@ def test_strokes_add_up_and_the_capture_keeps_the_stretch_between_strokes():
     # the anchor pulley carries two strands of the 3:1 while hauling (2 x F/3 at breakout, frictionless)
     # and the whole held force at a reset: the plan names the larger (statics of the pulley)
     assert plan.peak_anchor == "A"
-    assert plan.peak_anchor_N >= max(2 * 3000.0 / 3, *(s.capture_N for s in plan.strokes if s.reset)) - 1e-6
+    assert plan.peak_anchor_N >= max(2 * 3000.0 / 3, *(s.capture_N for s in plan.strokes if s.reset)) * (1 - 1e-7)
     # the frames run monotonically through the haul, one per step plus the start and each reset
     paid = [f.paid_in_m for f in plan.frames]
     assert paid == sorted(paid) and paid[-1] == pytest.approx(plan.paid_in_m)
