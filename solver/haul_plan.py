@@ -21,7 +21,7 @@ from typing import Callable, Mapping
 from solver import units
 from solver.equilibrium import solve
 from solver.errors import RigModelError
-from solver.haul_strands import HAUL, LOAD, TAIL, Strand, as_rig, cut_at_capture, joined, lengths, strands_of
+from solver.haul_strands import HAUL, Strand, as_rig, cut_at_capture, joined, lengths, strands_of
 from solver.materials import hardware_for
 from solver.model import Force, Pass, Point, Rig
 from solver.result import Result

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import io
 import json
-from argparse import Namespace
 from dataclasses import replace
 from pathlib import Path
 
