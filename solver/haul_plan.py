@@ -436,10 +436,9 @@ class _Run:
         try:
             self._settle_free_load()
             self.frames.append(HaulFrame(1, "start", 0.0, 0.0, 0.0, dict(self.h.pos)))
-            first = self._preflight()
+            self._preflight()
             while True:
-                stroke = self._stroke(first)
-                first = False
+                stroke = self._stroke()
                 self.strokes.append(stroke)
                 self.paid_total += stroke.paid_in_m
                 if stroke.ended_by == "target":
@@ -500,7 +499,7 @@ class _Run:
         self.start_pos = dict(h.pos)
         self.before_move = 0.0
 
-    def _preflight(self) -> bool:
+    def _preflight(self) -> None:
         """Check the start: the travelling pulleys are not already two-blocked."""
         pieces = self._blocking_pieces(self.h.strands)
         pos = self.h.pos
@@ -509,9 +508,9 @@ class _Run:
                 raise _Stop("unreachable", f"stroke 1: '{self._name(a)}' and '{self._name(b)}' start within the "
                             f"{self._L(self.h.spacing)} spacing: the system is two-blocked before the first stroke",
                             a)
-        return True
 
-    def _stroke(self, first: bool) -> HaulStroke:
+    def _stroke(self) -> HaulStroke:
+        """Pay in one throw step by step (or until two-blocked, or the target travel); the stroke's row."""
         h = self.h
         self._base_L0 = h.haul_strand(h.strands).L0  # the hauled strand's unstretched length before the stroke
         pieces = self._blocking_pieces(h.strands)
