@@ -13,7 +13,7 @@ from PySide6.QtWidgets import QGraphicsItem, QGraphicsPathItem, QGraphicsScene, 
 
 from sketchpad import theme
 from sketchpad.geometry import to_scene
-from solver.haul_plan import HaulFrame
+from solver.haul_result import HaulFrame
 from solver.model import Rig
 
 #: A point that moved less than this at the scrubbed step gets no dot, m.

@@ -35,7 +35,9 @@ from sketchpad.haul_ghost import HaulGhost
 from sketchpad.haul_plot import paint_haul_plot, plot_key
 from solver import units
 from solver.cautions import caution_lines
-from solver.haul_plan import HaulPlan, haul_settings, plan_haul, with_haul_settings
+from solver.haul_plan import plan_haul
+from solver.haul_result import HaulPlan
+from solver.haul_settings import haul_settings, with_haul_settings
 from solver.haul_table import HEADER, stroke_rows, summary_lines
 from solver.model import Rig
 

@@ -14,7 +14,7 @@ from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QFontMetricsF, QPainter, QPainterPath, QPen
 
 from sketchpad import theme
-from solver.haul_plan import HaulPlan
+from solver.haul_result import HaulPlan
 from solver.units import length_to
 
 #: Room for the axis labels and ticks inside the plot rectangle, px.

@@ -14,7 +14,9 @@ from PySide6.QtGui import QPainter
 from sketchpad.haul_plot import paint_haul_plot, plot_key
 from sketchpad.report import BODY_PT, LOW_SF, MUTED, SMALL_PT, Flow, Table, page_font
 from solver import units
-from solver.haul_plan import HaulPlan, haul_settings, has_load_to_haul, plan_haul
+from solver.haul_plan import has_load_to_haul, plan_haul
+from solver.haul_result import HaulPlan
+from solver.haul_settings import haul_settings
 from solver.haul_table import HEADER, stroke_rows, summary_lines
 from solver.model import Rig
 

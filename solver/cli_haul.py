@@ -23,7 +23,9 @@ from solver import units
 from solver.cautions import CAUTION_PARAGRAPHS
 from solver.cli_solve import EXIT_BAD_INPUT, EXIT_OK, EXIT_SOLVE_FAILED, _finite, _table, _units_for, closing
 from solver.errors import UnitError
-from solver.haul_plan import DEFAULT_STEPS, HaulPlan, haul_settings, plan_haul
+from solver.haul_plan import DEFAULT_STEPS, plan_haul
+from solver.haul_result import HaulPlan
+from solver.haul_settings import haul_settings
 from solver.haul_table import HEADER, stroke_rows, summary_lines
 from solver.model import Rig
 

@@ -16,11 +16,13 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field, replace
-from typing import Callable, Mapping
+from typing import Callable
 
 from solver import units
 from solver.equilibrium import solve
 from solver.errors import RigModelError
+from solver.haul_result import HaulFrame, HaulPlan, HaulStroke
+from solver.haul_settings import DEFAULT_SPACING_M
 from solver.haul_strands import HAUL, Strand, as_rig, cut_at_capture, joined, lengths, strands_of
 from solver.materials import hardware_for
 from solver.model import Force, Pass, Point, Rig
@@ -30,87 +32,8 @@ from solver.result import Result
 MAX_STROKES = 60
 #: Load travel below which a stroke made no progress, m.
 NO_PROGRESS_M = 1e-4
-#: Default closest spacing of a travelling pulley to the one it runs toward before the team resets, m.
-DEFAULT_SPACING_M = 0.2
 #: Default steps per stroke.
 DEFAULT_STEPS = 100
-
-
-@dataclass(frozen=True)
-class HaulStroke:
-    """One stroke: rope paid in, load travel, peak haul force, throw eaten by stretch, capture load at its reset."""
-
-    paid_in_m: float
-    load_travel_m: float
-    haul_force_max_N: float
-    stretch_m: float
-    capture_N: float | None  # None: no reset after this stroke, or no progress capture to hold the load
-    ended_by: str  # "throw", "two-blocked", "target", "stopped"
-    capture_slip_m: float = 0.0
-    reset: bool = False  # the team reset after this stroke
-
-    def to_json(self) -> dict:
-        return {"paid_in_m": self.paid_in_m, "load_travel_m": self.load_travel_m,
-                "haul_force_max_N": self.haul_force_max_N, "stretch_m": self.stretch_m,
-                "capture_N": self.capture_N, "ended_by": self.ended_by, "capture_slip_m": self.capture_slip_m,
-                "reset": self.reset}
-
-
-@dataclass(frozen=True)
-class HaulFrame:
-    """One solved step of the haul, for the scrubber and the plot: totals so far and where every point is."""
-
-    stroke: int  # 1-based
-    phase: str  # "stroke" or "reset"
-    paid_in_m: float  # rope through the team's hands so far
-    load_travel_m: float  # load travel so far
-    haul_force_N: float
-    points: Mapping[str, tuple[float, float]]
-
-
-@dataclass(frozen=True)
-class HaulPlan:
-    """The whole haul: per-stroke rows, totals, frames, and a status with a sentence saying why it stopped."""
-
-    status: str  # "ok", "unreachable", "failed", "invalid"
-    message: str
-    load: str = ""
-    haul: str = ""
-    target_m: float = 0.0
-    throw_m: float = 0.0
-    paid_in_before_move_m: float | None = None
-    strokes: tuple[HaulStroke, ...] = ()
-    frames: tuple[HaulFrame, ...] = ()
-    ma_ideal: float | None = None
-    warnings: tuple[str, ...] = ()
-    subject: str = ""
-    peak_anchor: str = ""  # the anchor loaded most at any step of the haul (resets included)
-    peak_anchor_N: float = 0.0
-
-    @property
-    def ok(self) -> bool:
-        return self.status == "ok"
-
-    @property
-    def load_travel_m(self) -> float:
-        return sum(s.load_travel_m for s in self.strokes)
-
-    @property
-    def paid_in_m(self) -> float:
-        """Total rope through the team's hands, m."""
-        return sum(s.paid_in_m for s in self.strokes)
-
-    @property
-    def resets(self) -> int:
-        return sum(1 for s in self.strokes if s.reset)
-
-    def to_json(self) -> dict:
-        return {"status": self.status, "message": self.message, "load": self.load, "haul": self.haul,
-                "travel_m": self.target_m, "throw_m": self.throw_m,
-                "paid_in_before_move_m": self.paid_in_before_move_m, "load_travel_m": self.load_travel_m,
-                "paid_in_m": self.paid_in_m, "resets": self.resets, "ma_ideal": self.ma_ideal,
-                "strokes": [s.to_json() for s in self.strokes], "warnings": list(self.warnings),
-                "peak_anchor": self.peak_anchor or None, "peak_anchor_N": self.peak_anchor_N}
 
 
 class _Stop(Exception):
@@ -777,44 +700,6 @@ class _Run:
         h.last, h.prev_pos = None, None
         self.frames.append(HaulFrame(self.stroke_no, "reset", self.paid_total, self.travel_total, 0.0, dict(pos)))
         return None, 0.0
-
-
-# --- the haul a rig file asks for -------------------------------------------------------------
-
-#: Top-level rig-file key holding the planned haul: {"travel_m", "throw_m", "spacing_m"} (all optional).
-HAUL_KEY = "haul_plan"
-#: Default travel and throw when a rig names none, m.
-DEFAULT_TRAVEL_M = 2.0
-DEFAULT_THROW_M = 3.0
-
-
-@dataclass(frozen=True)
-class HaulSettings:
-    """The haul asked for: load travel, throw per stroke and closest pulley spacing, m."""
-
-    travel_m: float = DEFAULT_TRAVEL_M
-    throw_m: float = DEFAULT_THROW_M
-    spacing_m: float = DEFAULT_SPACING_M
-
-
-def haul_settings(rig: Rig) -> HaulSettings:
-    """The rig's planned haul (its ``haul_plan`` entry), defaults where it names none."""
-    raw = rig.extra.get(HAUL_KEY)
-    if not isinstance(raw, Mapping):
-        return HaulSettings()
-    out = HaulSettings()
-    for name in ("travel_m", "throw_m", "spacing_m"):
-        v = raw.get(name)
-        if isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v):
-            out = replace(out, **{name: float(v)})
-    return out
-
-
-def with_haul_settings(rig: Rig, settings: HaulSettings) -> Rig:
-    """``rig`` with its planned haul set (kept in the file as the ``haul_plan`` entry)."""
-    extra = dict(rig.extra)
-    extra[HAUL_KEY] = {"travel_m": settings.travel_m, "throw_m": settings.throw_m, "spacing_m": settings.spacing_m}
-    return replace(rig, extra=extra)
 
 
 def has_load_to_haul(rig: Rig) -> bool:

@@ -11,7 +11,7 @@ from __future__ import annotations
 import math
 
 from solver import units
-from solver.haul_plan import HaulPlan
+from solver.haul_result import HaulPlan
 from solver.model import Rig
 
 HEADER = ("stroke", "rope paid in", "load travel", "haul force peak", "taken by stretch",

@@ -9,7 +9,7 @@ from PySide6.QtCore import QPoint, QPointF, Qt
 from PySide6.QtWidgets import QApplication, QStyle, QStyleOptionSlider
 
 from sketchpad.geometry import to_site
-from solver.haul_plan import haul_settings
+from solver.haul_settings import haul_settings
 from solver.haul_table import stroke_rows
 from solver.rigfile import load_rig
 from tests.conftest import SAMPLES

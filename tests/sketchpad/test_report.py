@@ -228,7 +228,8 @@ def test_a_working_load_anchor_is_named_and_its_margin_is_the_share_used(qapp, t
 def test_report_has_a_haul_page_with_the_plot_and_the_stroke_table(qapp, tmp_path):
     # issue 22: a page with the haul plot and table when the rig has a load to move
     from sketchpad.report import write_report
-    from solver.haul_plan import haul_settings, plan_haul
+    from solver.haul_plan import plan_haul
+    from solver.haul_settings import haul_settings
     from solver.haul_table import stroke_rows
 
     sample = RAFT.parent / "raft-three-strokes.rig.json"

@@ -297,7 +297,7 @@ def test_a_haul_that_never_moves_the_load_says_how_much_rope_one_pull_would_need
 
 
 def test_cli_takes_throw_and_spacing_from_the_rigs_planned_haul_unless_given(tmp_path, capsys):
-    from solver.haul_plan import HaulSettings, with_haul_settings
+    from solver.haul_settings import HaulSettings, with_haul_settings
 
     path = tmp_path / "planned.rig.json"
     save_rig(with_haul_settings(load_rig(SAMPLE), HaulSettings(1.0, 1.5, 0.3)), path)
