@@ -30,6 +30,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from sketchpad import theme
 from sketchpad.fields import QuantityField
 from sketchpad.haul_ghost import HaulGhost
 from sketchpad.haul_plot import paint_haul_plot, plot_key
@@ -113,7 +114,7 @@ class HaulPlanPanel(QWidget):
         self.plot = HaulPlotWidget()
         caution = QLabel(" ".join(caution_lines()))
         caution.setWordWrap(True)
-        caution.setStyleSheet("color: #55554f; font-size: 8pt")
+        caution.setStyleSheet(theme.HAUL_CAUTION_STYLE)
         left = QVBoxLayout()
         left.addLayout(form)
         left.addWidget(self.plan_button)
@@ -181,7 +182,7 @@ class HaulPlanPanel(QWidget):
         if plan.ok:
             self.status.setText(f"<b>{plan.message}.</b>")
         else:
-            self.status.setText(f"<b style='color:#b3122e'>Haul stops short: {plan.message}</b>")
+            self.status.setText(f"<b style='color:{theme.HAUL_STOP.name()}'>Haul stops short: {plan.message}</b>")
         notes = summary_lines(rig, plan, lu, fu) + [f"Note: {w}" for w in plan.warnings]
         self.summary.setText("<br>".join(notes))
         rows = stroke_rows(plan, lu, fu)

@@ -260,3 +260,4 @@ HAUL_PLOT_BACK = QColor("#fbfaf6")
 HAUL_PLOT_GRID = QColor("#e7e3d8")
 HAUL_PLOT_TEXT = QColor("#3a3a36")
 HAUL_STOP = QColor("#b3122e")  # a haul that stops short
+HAUL_CAUTION_STYLE = "color: #55554f; font-size: 8pt"  # the cautions under the haul plan
