@@ -352,7 +352,7 @@ class HardwareForm(_SpecForm):
         self.mbs = QuantityField("MBS", "force", unit=force_unit, optional=True, minimum=0.0, strict=True)
         self.size = QuantityField("size", "length", unit=lambda: "m", optional=True, minimum=0.0)
         self.slip = QuantityField("slip force", "force", unit=force_unit, optional=True, minimum=0.0, strict=True,
-                                  placeholder="rope grab: the held force at which it slides")
+                                  placeholder="rope grab: where it starts to slide, e.g. 7 kN")
         self.form.addRow("Efficiency (0–1)", self.efficiency)
         self.form.addRow("Friction coefficient", self.friction)
         self.form.addRow("MBS", self.mbs)

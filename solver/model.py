@@ -101,6 +101,7 @@ class Pass:
     how: str = "tied"
     hardware: str | None = None
     extra: Mapping[str, Any] = field(default_factory=dict)
+    termination: str | None = None  # tied pass: how the rope ends or is knotted there (solver.weak_links)
     grab: str | None = None  # capture: the rope grab that holds the rope (hardware id)
 
 
@@ -212,8 +213,8 @@ class Hardware:
     label: str = ""
     source: str = ""
     size_m: float | None = None  # closest two passes may come (two-blocking), optional
-    slip_N: float | None = None  # rope grab: held force at which it starts to slide along the rope, N
     extra: Mapping[str, Any] = field(default_factory=dict)
+    slip_N: float | None = None  # grab: held force above which it slides along the rope (a designed slip point)
 
     @property
     def name(self) -> str:

@@ -140,7 +140,7 @@ def _hauled(at: str) -> Pass:
 #: Slack left in a tended main-line tail (the 4:1's), m: it carries nothing until a capture holds it.
 TAIL_SLACK_M = 1.0
 #: The rope grab a kit's progress capture holds with unless another is chosen (library id).
-DEFAULT_CAPTURE_GRAB = "grab-prusik"
+DEFAULT_CAPTURE_GRAB = "prusik-3-wrap"
 
 
 def capture_grab_for(rig: Rig) -> str | None:

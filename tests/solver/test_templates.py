@@ -83,7 +83,7 @@ def test_three_to_one_is_a_z_on_a_grab_halfway_to_the_anchor():
     g = rope.path[1].at
     assert [(p.at, p.how) for p in rope.path] == [("L", "tied"), (g, "tied"), ("A", "capture"), (g, "pulley"),
                                                    (rope.path[-1].at, "hauled")]
-    assert rope.path[2].grab == "grab-prusik"  # the kit's progress capture holds with a prusik
+    assert rope.path[2].grab == "prusik-3-wrap"  # the kit's progress capture holds with a prusik
     assert after.point(g).xy == pytest.approx((0.0, 10.0))  # grab_fraction 0.5 of 20 m
     # haul team 5 m beyond the anchor on the load-anchor line, pulling the set force
     h = after.point(rope.path[-1].at)
