@@ -656,6 +656,10 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     page_w, page_h = writer.width(), writer.height()
     m, footer_h, content = page_frame(writer)
     sweep_data = haul_sweep(rig) if result.ok else (None, 0.0, "")
+    from sketchpad.haul_report import add_haul_page, haul_table, plan_for_report
+
+    haul = plan_for_report(rig) if result.ok else None  # a page of its own when there is a load to move
+
     from sketchpad.report_failures import failure_section
 
     failures = failure_section(rig, result)
@@ -679,8 +683,10 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     for sizes in LAYOUTS:
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
         _compose(counter, rig, result, drawing, when, source, plot_for(sizes[1]), sizes, failures)
+        if haul is not None:
+            add_haul_page(counter, rig, haul)
         total = counter.finish()
-        if total <= PAGES_WANTED:
+        if total <= PAGES_WANTED + (haul is not None):
             break
 
     def footer(p: QPainter, n: int) -> None:
@@ -698,11 +704,14 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
         painter.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing | QPainter.SmoothPixmapTransform)
         flow = Flow(writer, painter, content, footer, writer.newPage)
         _compose(flow, rig, result, drawing, when, source, plot_for(sizes[1]), sizes, failures)
+        if haul is not None:
+            add_haul_page(flow, rig, haul)
         pages = flow.finish()
     finally:
         painter.end()
     log.info("wrote report %s (%d pages)", path, pages)
     tables = [rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result)] if result.ok else []
+    tables += [haul_table(rig, haul)] if haul is not None else []
     return Report(path, pages, result, tables)
 
 

@@ -27,7 +27,7 @@ from typing import Mapping
 
 import numpy as np
 
-from solver.model import Rig
+from solver.model import Rig, is_tended_tail
 
 #: Relative size below which a residual or a null-space component counts as zero.
 TOL = 1e-9
@@ -99,6 +99,8 @@ def strand_count(rig: Rig, positions: Mapping[str, tuple[float, float]] | None =
             return rope.path[j].at
 
         for run in rope.runs():
+            if is_tended_tail(rope, run, pts):
+                continue  # carries nothing while hauling: no strand of the system
             r = n_runs
             n_runs += 1
             run_keys.append((rope.id, run.index))

@@ -41,6 +41,7 @@ class Chapter:
     first_page: int = 0
     drawing: object = None
     failures: object = None  # the report's "If something lets go" section (sketchpad.report_failures)
+    haul: object = None  # the report's haul plan page (sketchpad.haul_report), when there is a load to move
 
 
 @dataclass
@@ -101,9 +102,11 @@ def _measure(writer, content: QRectF, chapter: Chapter, when: str) -> None:
     from sketchpad.export import Drawing
     from sketchpad.report import LAYOUTS, PAGES_WANTED, Flow, _compose, haul_sweep, plot_caption, plot_image
 
+    from sketchpad.haul_report import add_haul_page, plan_for_report
     from sketchpad.report_failures import failure_section
 
     chapter.drawing = Drawing(chapter.rig, chapter.result, chapter.rig_dir)
+    chapter.haul = plan_for_report(chapter.rig) if chapter.result.ok else None
     chapter.failures = failure_section(chapter.rig, chapter.result)
     if chapter.failures is not None:
         chapter.failures.draw_zones_on(chapter.drawing)
@@ -116,8 +119,10 @@ def _measure(writer, content: QRectF, chapter: Chapter, when: str) -> None:
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
         _compose(counter, chapter.rig, chapter.result, chapter.drawing, when, chapter.source, stand_in, sizes,
                  chapter.failures)
+        if chapter.haul is not None:
+            add_haul_page(counter, chapter.rig, chapter.haul)
         chapter.pages, chapter.sizes = counter.finish(), sizes
-        if chapter.pages <= PAGES_WANTED:
+        if chapter.pages <= PAGES_WANTED + (chapter.haul is not None):
             break
     chapter.plot = stand_in
     if stand_in is not None and table is not None:
@@ -175,6 +180,7 @@ def write_manual(chapters: list[Chapter], path: pathlib.Path | str, title: str =
                  now: _dt.datetime | None = None, greyscale: bool = False, progress: Progress | None = None) -> Manual:
     """Write the manual of ``chapters`` to ``path`` (a PDF); ExportError or ManualError in words on failure."""
     from sketchpad.export import MUTED, ExportError, ensure_app, page_font, portrait_writer
+    from sketchpad.haul_report import add_haul_page
     from sketchpad.report import SMALL_PT, Flow, _compose, page_frame
     from solver.cautions import SHORT_CAUTION
 
@@ -229,6 +235,8 @@ def write_manual(chapters: list[Chapter], path: pathlib.Path | str, title: str =
             flow = Flow(writer, painter, content, footer_for(ch.title), writer.newPage)
             flow.page = ch.first_page
             _compose(flow, ch.rig, ch.result, ch.drawing, when, ch.source, ch.plot, ch.sizes, ch.failures)
+            if ch.haul is not None:
+                add_haul_page(flow, ch.rig, ch.haul)
             last = flow.finish()
             if last != ch.first_page + ch.pages - 1:
                 raise ExportError(f"the manual's page count changed while writing {ch.title}; nothing usable was written")
