@@ -30,6 +30,9 @@ HAND_COUNTS = {
     "raft-3to1-redirect.rig.json": (3, 0, 1, 5, 2, {"kern-11": 1}),
     # main: L1 end, pulley M1; s1 and s2: both ends tied -> 6; the two webbing slings drawn
     "two-point-anchor.rig.json": (1, 0, 0, 6, 2, {"webbing-25": 2, "kern-11": 1}),
+    # main1: L1 end, grab at G1, capture at A1 (its sheave and its grab), pulley at G1 -> 5 carabiners;
+    # grabs: the one at G1 and the capture's; a sling at A1 for the capture
+    "raft-three-strokes.rig.json": (2, 1, 2, 5, 1, {"kern-11": 1}),
     # line: both ends tied; the hand (sliding, no hardware) takes no carabiner
     "vector-pull.rig.json": (0, 0, 0, 2, 0, {"kern-11": 1}),
 }
