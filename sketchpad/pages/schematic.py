@@ -25,6 +25,8 @@ from solver.result import Result
 
 MARGIN_PX = 28.0
 LABEL_PT = 6.5
+BUNDLE_ANGLE_DEG = 4.0  # pieces this close to parallel ...
+BUNDLE_APART_PX = 6.0  # ... and this close to one line are drawn side by side
 STRETCH = 3.0  # largest ratio of the two axes' scales (the schematic is not to scale)
 T_STEPS = (0.5, 0.36, 0.64, 0.24, 0.76, 0.15, 0.85, 0.3, 0.7)
 
@@ -99,33 +101,65 @@ def _page_transform(rig: Rig, result: Result | None, rect: QRectF):
     return to_px, min(kx, ky)
 
 
+def _bundles(ends: list[tuple[QPointF, QPointF]]) -> list[list[int]]:
+    """Indices of pieces drawn on one line and overlapping along it (a Z drawn straight, or strands between the
+    same two points): each group is drawn side by side."""
+    parent = list(range(len(ends)))
+
+    def root(i: int) -> int:
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    sin_max = math.sin(math.radians(BUNDLE_ANGLE_DEG))
+    for i, (a, b) in enumerate(ends):
+        d = b - a
+        n = math.hypot(d.x(), d.y())
+        if n < 1e-9:
+            continue
+        u = d / n
+        for j in range(i + 1, len(ends)):
+            c, e = ends[j]
+            f = e - c
+            m = math.hypot(f.x(), f.y())
+            if m < 1e-9 or abs(u.x() * f.y() - u.y() * f.x()) / m > sin_max:
+                continue  # not parallel
+            mid = (c + e) / 2 - a
+            if abs(u.x() * mid.y() - u.y() * mid.x()) > BUNDLE_APART_PX:
+                continue  # parallel but on another line
+            t0, t1 = sorted((QPointF.dotProduct(c - a, u), QPointF.dotProduct(e - a, u)))
+            if min(t1, n) - max(t0, 0.0) > 0.1 * min(n, m):
+                parent[root(j)] = root(i)
+    groups: dict[int, list[int]] = {}
+    for i in range(len(ends)):
+        groups.setdefault(root(i), []).append(i)
+    return list(groups.values())
+
+
 def strands_of(rig: Rig, result: Result | None, to_px) -> tuple[list[Strand], dict[str, QPointF]]:
-    """Every piece as a strand offset sideways from the others between the same two points."""
+    """Every piece as a strand, offset sideways from the others drawn on the same line."""
     from solver.units import format_force
 
     pos = positions(rig, result)
     px = {pid: to_px(*xy) for pid, xy in pos.items()}
     units = t_units(rig)
     seg = {(s.rope, s.index): s for s in result.segments} if result is not None and result.ok else {}
-    groups: dict[frozenset, list[tuple[int, object, int]]] = {}
-    for ri, r in enumerate(rig.ropes):
-        for i in range(len(r.path) - 1):
-            a, b = r.path[i].at, r.path[i + 1].at
-            if a in px and b in px and a != b:
-                groups.setdefault(frozenset((a, b)), []).append((ri, r, i))
+    pieces = [(ri, r, i) for ri, r in enumerate(rig.ropes) for i in range(len(r.path) - 1)
+              if r.path[i].at in px and r.path[i + 1].at in px and r.path[i].at != r.path[i + 1].at]
+    ends = [(px[r.path[i].at], px[r.path[i + 1].at]) for _, r, i in pieces]
     out = []
     gap = theme.SCHEMATIC_GAP_PX
-    for bundle, members in enumerate(groups.values()):
+    for bundle, members in enumerate(_bundles(ends)):
         n = len(members)
-        first = members[0][1].path[members[0][2]].at
-        second = members[0][1].path[members[0][2] + 1].at
-        pa, pb = px[first], px[second]
-        d = pb - pa
+        a0, b0 = ends[members[0]]
+        d = b0 - a0
         length = math.hypot(d.x(), d.y()) or 1.0
         normal = QPointF(-d.y() / length, d.x() / length)
-        for j, (ri, r, i) in enumerate(members):
+        for j, k in enumerate(members):
+            ri, r, i = pieces[k]
             off = normal * ((j - (n - 1) / 2) * gap)
-            a, b = px[r.path[i].at] + off, px[r.path[i + 1].at] + off
+            a, b = ends[k][0] + off, ends[k][1] + off
             parts = [t_text(units.get((r.id, i)))]
             s = seg.get((r.id, i))
             if s is not None:
