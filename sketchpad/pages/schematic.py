@@ -196,10 +196,10 @@ def _sheaves(rig: Rig, strands: list[Strand], px: dict[str, QPointF]) -> list[tu
             off_in, off_out = s_in.b - here, s_out.a - here
             radius = max(math.hypot((off_in - off_out).x(), (off_in - off_out).y()) / 2, theme.SCHEMATIC_GAP_PX * 0.45)
             marker = theme.POINT_RADIUS_PX.get(kinds.get(ps.at, "point"), 5.0)
-            centre = here + away * (marker + 2.0 + radius)
-            mid = (off_in + off_out) / 2
-            s_in.b = centre + off_in - mid
-            s_out.a = centre + off_out - mid
+            shift = away * (marker + 2.0 + radius)  # both strands carried on alike: side-by-side strands stay parallel
+            centre = here + (off_in + off_out) / 2 + shift
+            s_in.b = here + off_in + shift
+            s_out.a = here + off_out + shift
             out.append((centre, radius, theme.rope_colour(ri), ps.how))
     return out
 

@@ -386,3 +386,20 @@ def test_manual_contents_read_the_same_with_poppler(manual, tmp_path):
     for ch in chapters:
         row = next(line for line in lines if line.startswith(norm(ch.title)))
         assert row.split()[-1] == str(ch.first_page)
+
+
+def test_a_z_sketched_in_one_line_is_drawn_side_by_side(qapp):
+    """The three-strokes sample draws its Z straight (load, grab, anchor and haul team on one line): the two
+    strands between grab and anchor and the haul strand past the anchor are spread across that line."""
+    from sketchpad import theme
+
+    rig = load_rig(SAMPLES / "raft-three-strokes.rig.json")
+    layout, _ = _schematic(rig)
+    by_piece = {(s.rope, s.index): s for s in layout.strands}
+    z = [by_piece[("main1", i)] for i in (1, 2, 3)]  # grab -> anchor, anchor -> grab, grab -> haul team
+    assert len({s.bundle for s in z}) == 1
+    d = z[0].b - z[0].a
+    n = QPointF(-d.y(), d.x()) / math.hypot(d.x(), d.y())
+    offsets = sorted(QPointF.dotProduct((s.a + s.b) / 2 - (z[0].a + z[0].b) / 2, n) for s in z)
+    assert all(b - a > 0.6 * theme.SCHEMATIC_GAP_PX for a, b in zip(offsets, offsets[1:]))
+    assert by_piece[("main1", 0)].bundle != z[0].bundle  # the load's strand ends where the Z starts
