@@ -114,6 +114,9 @@ class MainWindow(QMainWindow):
         from sketchpad.whatif_panel import install_what_if
 
         self.what_if = install_what_if(self)  # What if: the failure scan dock and its ghost (issue 19)
+        from sketchpad.pages.app_ui import install_pages
+
+        self.pages = install_pages(self)  # print frame, schematic, rope lengths, roles, briefing, manual (issue 21)
         self._on_rig_changed(self.document.rig)
         self.resize(*DEFAULT_SIZE)
 

@@ -26,6 +26,9 @@ MOTIONS: tuple[str, ...] = ("haul", "hold", "lower")
 VIEWS: tuple[str, ...] = ("plan", "elevation")
 LENGTH_UNITS: tuple[str, ...] = ("m", "ft")
 FORCE_UNITS: tuple[str, ...] = ("N", "kN", "lbf")
+#: What a person on the plan is there to do (trade roles; the words the briefing sheet prints).
+PERSON_ROLES: tuple[str, ...] = ("haul team lead", "safety officer", "upstream spotter", "downstream safety",
+                                 "edge attendant")
 
 #: Kinds that are fixed unless the file says ``"fixed": false``.
 FIXED_BY_DEFAULT: frozenset[str] = frozenset({"anchor", "load", "haul"})
@@ -56,6 +59,7 @@ class Point:
     team: int | None = None  # haul: number of haulers
     force_per_person_N: float | None = None  # haul: force each hauler gives
     capacity_kind: str = "strength"  # anchor: "strength" (÷ safety factor) or "working" (rated working load)
+    role: str | None = None  # person: one of PERSON_ROLES (what they are there to do)
     extra: Mapping[str, Any] = field(default_factory=dict, compare=True)
 
     @property
@@ -146,6 +150,7 @@ class Rope:
     path: tuple[Pass, ...]
     rigged: Rigging = field(default_factory=Rigging)
     label: str = ""
+    length_m: float | None = None  # the rope actually carried, m (the budget warns when the drawn rope will not reach)
     extra: Mapping[str, Any] = field(default_factory=dict)
 
     @property
@@ -272,6 +277,7 @@ class Site:
 class Settings:
     motion: str = "haul"
     min_safety_factor: float = 10.0
+    tail_m: float = 1.0  # rope left beyond each end of a rope (knot tails, the haul team's grip), m
     extra: Mapping[str, Any] = field(default_factory=dict)
 
 
@@ -297,6 +303,7 @@ class Rig:
     view: str = "plan"
     settings: Settings = field(default_factory=Settings)
     site: Site = field(default_factory=Site)
+    print_frame: tuple[float, float, float, float] | None = None  # (x0, y0, x1, y1) site metres printed; None: the rig
     extra: Mapping[str, Any] = field(default_factory=dict)  # unknown top-level keys, kept
 
     # --- look-ups -----------------------------------------------------------------

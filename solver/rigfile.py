@@ -61,12 +61,13 @@ _POINT: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("x", "float", _REQUIRED), ("y", "float", _REQUIRED),
     ("label", "str", ""), ("fixed", "bool", None), ("capacity_N", "float", None), ("anchor_type", "str", None),
     ("required_N", "float", None), ("mass_kg", "float", None), ("force_N", "float", None), ("team", "int", None),
-    ("force_per_person_N", "float", None), ("capacity_kind", "str", "strength"),
+    ("force_per_person_N", "float", None), ("capacity_kind", "str", "strength"), ("role", "str", None),
 )
 _PASS: _Spec = (("at", "str", _REQUIRED), ("how", "str", "tied"), ("hardware", "str", None), ("termination", "str", None),
           ("grab", "str", None))
 _RIGGING: _Spec = (("slack_m", "float", 0.0), ("pretension_N", "float", None))
-_ROPE: _Spec = (("id", "str", _REQUIRED), ("material", "str", _REQUIRED), ("label", "str", ""))
+_ROPE: _Spec = (("id", "str", _REQUIRED), ("material", "str", _REQUIRED), ("label", "str", ""),
+                 ("length_m", "float", None))
 _MATERIAL: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("mbs_N", "float", _REQUIRED),
     ("stretch", "pairs", _REQUIRED), ("diameter_mm", "float", None), ("label", "str", ""), ("source", "str", ""),
@@ -86,11 +87,12 @@ _IMAGE: _Spec = (
 )
 _FEATURE: _Spec = (("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("polygon", "pairs", None),
                    ("line", "pairs", None), ("label", "str", ""))
-_SETTINGS: _Spec = (("motion", "str", "haul"), ("min_safety_factor", "float", 10.0))
+_SETTINGS: _Spec = (("motion", "str", "haul"), ("min_safety_factor", "float", 10.0), ("tail_m", "float", 1.0))
 _DISPLAY: _Spec = (("length", "str", "m"), ("force", "str", "kN"))
 _SITE_KEYS = ("image", "features")
 _TOP_KEYS = ("format", "version", "display", "view", "title", "notes", "settings", "site",
-             "materials", "hardware", "points", "forces", "ropes")
+             "materials", "hardware", "points", "forces", "ropes", "print_frame")
+_FRAME_KEYS = ("x0", "y0", "x1", "y1")
 
 # --------------------------------------------------------------------------------------
 # Which optional keys a loaded object had, so that saving writes back exactly those
@@ -206,6 +208,8 @@ def rig_to_dict(rig: m.Rig, *, embed: bool = True) -> dict[str, Any]:
     if "forces" in pres or rig.forces:
         out["forces"] = [_to_simple(x, _FORCE) for x in rig.forces]
     out["ropes"] = [_rope_to(x) for x in rig.ropes]
+    if rig.print_frame is not None:
+        out["print_frame"] = dict(zip(_FRAME_KEYS, (float(v) for v in rig.print_frame)))
     for key, value in rig.extra.items():
         if key not in out and key not in _TOP_KEYS:
             out[key] = value
@@ -550,6 +554,8 @@ def _build_rig(d: dict[str, Any], strict: bool) -> m.Rig:
     for key in ("view", "title", "notes"):
         if key in d:
             kw[key] = d[key]
+    if "print_frame" in d:
+        kw["print_frame"] = _print_frame(d["print_frame"])
     # spec sheets stay open to extension even in strict mode: the built-in library
     # itself carries extra properties (e.g. a webbing's width_mm) that saving embeds
     kw["materials"] = tuple(_make(m.Material, x, _MATERIAL, f"materials[{i}]", False)
@@ -562,6 +568,16 @@ def _build_rig(d: dict[str, Any], strict: bool) -> m.Rig:
     kw["ropes"] = tuple(_build_rope(x, f"ropes[{i}]", strict) for i, x in enumerate(d["ropes"]))
     kw["extra"] = {k: v for k, v in d.items() if k not in _TOP_KEYS}
     return _remember(m.Rig(**kw), d.keys())
+
+
+def _print_frame(d: Mapping[str, Any]) -> tuple[float, float, float, float]:
+    """The print frame rectangle (x0, y0, x1, y1), site metres, corners in any order; an empty one is an error."""
+    x0, y0, x1, y1 = (float(d[k]) for k in _FRAME_KEYS)
+    frame = (min(x0, x1), min(y0, y1), max(x0, x1), max(y0, y1))
+    if frame[2] - frame[0] <= 0 or frame[3] - frame[1] <= 0:
+        raise RigFileError("the print frame has no area: give two opposite corners that differ in x and in y",
+                           where="print_frame")
+    return frame
 
 
 def _build_site(d: dict[str, Any], strict: bool) -> m.Site:
@@ -668,10 +684,12 @@ def _rope_to(rope: m.Rope) -> dict[str, Any]:
     out: dict[str, Any] = {"id": str(rope.id), "material": str(rope.material)}
     if "label" in pres or rope.label:
         out["label"] = str(rope.label)
+    if rope.length_m is not None:
+        out["length_m"] = float(rope.length_m)
     if "rigged" in pres or rope.rigged != m.Rigging():
         out["rigged"] = _to_simple(rope.rigged, _RIGGING)
     out["path"] = [_to_simple(ps, _PASS) for ps in rope.path]
-    _write_extra(out, rope.extra, ("id", "material", "label", "rigged", "path"))
+    _write_extra(out, rope.extra, ("id", "material", "label", "length_m", "rigged", "path"))
     return out
 
 
@@ -719,6 +737,8 @@ def _check_semantics(rig: m.Rig, base_dir: str | os.PathLike[str] | None) -> Non
     for i, p in enumerate(rig.points):
         _check_coordinate(p.x, f"points[{i}].x")
         _check_coordinate(p.y, f"points[{i}].y")
+        if p.role is not None and p.kind != "person":
+            raise RigFileError(f'"{p.name}" is a {p.kind}: only a person has a role', where=f"points[{i}].role")
     for i, f in enumerate(rig.forces):
         if f.at not in points:
             raise RigFileError(f'point "{f.at}" does not exist', where=f"forces[{i}].at")
