@@ -32,10 +32,9 @@ import tempfile
 import weakref
 from dataclasses import replace
 from functools import lru_cache
-from importlib import resources
 from typing import Any, Callable, Iterable, Mapping, Sequence
 
-from solver import materials
+from solver import limits, materials
 from solver import model as m
 from solver.errors import RigFileError
 
@@ -45,10 +44,12 @@ FORMAT = "ropewright-rig"
 #: The version this module reads and writes.
 VERSION = 1
 #: Largest rig file read or written, bytes, embedded background image included.
-MAX_FILE_BYTES = 20 * 1024 * 1024
+MAX_FILE_BYTES = limits.MAX_FILE_BYTES
 #: Largest distance of any point or site coordinate from the site origin, m: a
-#: sanity bound far beyond any rescue site (ours, not from a standard).
-MAX_COORDINATE_M = 100_000.0
+#: sanity bound far beyond any rescue site (ours, not from a standard; in the schema).
+MAX_COORDINATE_M = limits.MAX_COORDINATE_M
+#: Prefix and suffix of the hidden temp file a save writes beside the rig before renaming it.
+TEMP_PREFIX, TEMP_SUFFIX = ".", ".tmp"
 _REQUIRED = object()  # marks a field every file must have
 
 # (json key == attribute name, kind, default); kinds: str, float, int, bool, pair, pairs
@@ -148,7 +149,17 @@ def loads_rig(text: str | bytes, base_dir: str | os.PathLike[str] | None = None,
     if text.startswith("\ufeff"):  # a byte-order mark some editors add
         text = text[1:]
     data = _parse_json(text)
-    return rig_from_dict(data, strict=strict, base_dir=base_dir)
+    rig = rig_from_dict(data, strict=strict, base_dir=base_dir)
+    if len(text) * _MAX_GROWTH + _SPEC_ALLOWANCE > MAX_FILE_BYTES:
+        size = len(_file_bytes(rig))  # a compact file can grow when written back: it must still fit
+        if size > MAX_FILE_BYTES:
+            raise _too_big(size, saving=True, opened=True)
+    return rig
+
+
+#: A rig file written back is at most this many times its text's length (a number such as 1e15
+#: becomes 1000000000000000.0), plus the library specs saving embeds; below that no check is needed.
+_MAX_GROWTH, _SPEC_ALLOWANCE = 5, 1024 * 1024
 
 
 def rig_from_dict(d: Any, strict: bool = False, *, base_dir: str | os.PathLike[str] | None = None) -> m.Rig:
@@ -164,6 +175,7 @@ def rig_from_dict(d: Any, strict: bool = False, *, base_dir: str | os.PathLike[s
                            where="(top level)")
     _check_format_and_version(d)
     d = migrate(d)
+    _check_sizes(d)
     _check_plain_data(d)
     _check_schema(d)
     rig = _build_rig(d, strict)
@@ -203,10 +215,11 @@ def rig_to_dict(rig: m.Rig, *, embed: bool = True) -> dict[str, Any]:
     return out
 
 
-def dumps_rig(rig: m.Rig, *, embed: bool = True) -> str:
-    """The rig as rig-file text: indented UTF-8 JSON ending in a newline."""
+def dumps_rig(rig: m.Rig, *, embed: bool = True, compact: bool = False) -> str:
+    """The rig as rig-file text: indented (or ``compact``) UTF-8 JSON ending in a newline."""
+    layout: dict[str, Any] = {"separators": (",", ":")} if compact else {"indent": 2}
     try:
-        return json.dumps(rig_to_dict(rig, embed=embed), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+        return json.dumps(rig_to_dict(rig, embed=embed), ensure_ascii=False, allow_nan=False, **layout) + "\n"
     except ValueError as exc:  # NaN or infinity somewhere in the rig
         raise RigFileError(f"the rig holds a number that is not finite ({exc}); it cannot be saved",
                            where="(rig)") from None
@@ -222,8 +235,7 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
     always opens again; a rig that would not is refused with the place named.
     """
     p = pathlib.Path(path)
-    text = dumps_rig(rig)
-    data = text.encode("utf-8", "surrogatepass")
+    data = _file_bytes(rig)
     if len(data) > MAX_FILE_BYTES:
         raise _too_big(len(data), saving=True)
     if check:
@@ -258,6 +270,14 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
                 os.unlink(tmp_name)
             except OSError:
                 log.warning("could not remove the temporary file %s", tmp_name)
+
+
+def _file_bytes(rig: m.Rig) -> bytes:
+    """What a save writes: indented JSON, or compact JSON when the indented text would pass the size cap."""
+    data = dumps_rig(rig).encode("utf-8", "surrogatepass")
+    if len(data) > MAX_FILE_BYTES:
+        data = dumps_rig(rig, compact=True).encode("utf-8", "surrogatepass")
+    return data
 
 
 def migrate(d: dict[str, Any]) -> dict[str, Any]:
@@ -304,10 +324,12 @@ def embed_specs(rig: m.Rig) -> m.Rig:
 # Bytes and JSON
 
 
-def _too_big(size: int, saving: bool = False) -> RigFileError:
+def _too_big(size: int, saving: bool = False, opened: bool = False) -> RigFileError:
     mb = size / (1024 * 1024)
     limit = MAX_FILE_BYTES // (1024 * 1024)
     verb = "would be" if saving else "is"
+    if opened:
+        verb = "is written so tightly that saved again it would be"
     return RigFileError(
         f"the rig file {verb} {mb:.1f} MB; a rig file may be at most {limit} MB including an embedded "
         "background image (keep a large image as a file beside the rig instead)",
@@ -440,11 +462,50 @@ def _check_format_and_version(d: dict[str, Any]) -> None:
         raise RigFileError(f"there is no rig format version {version}", where="version")
 
 
+#: Lists checked for size before anything else reads the file (a huge list is refused at once).
+_SIZED_LISTS = (("rig", "points"), ("rig", "ropes"), ("rig", "forces"), ("rig", "materials"), ("rig", "hardware"),
+                ("site", "features"))
+
+
+def _too_many(path: Sequence[Any], count: int, limit: int) -> str:
+    noun = _NOUNS.get(str(path[-1]), "entrie") if path else "entrie"
+    return (f"holds {count:,} {noun}s; Ropewright handles at most {limit:,} in one rig "
+            "(split the site into several rigs)")
+
+
+def _check_sizes(d: dict[str, Any]) -> None:
+    """Refuse, before any slow step, a rig with more entries than the app can handle (limits.py)."""
+    for obj, key in _SIZED_LISTS:
+        holder = d.get("site") if obj == "site" else d
+        value = holder.get(key) if isinstance(holder, dict) else None
+        if isinstance(value, list) and len(value) > limits.max_items(obj, key):
+            path = ("site", key) if obj == "site" else (key,)
+            raise RigFileError(_too_many(path, len(value), limits.max_items(obj, key)), where=_where(path))
+    ropes, site = d.get("ropes"), d.get("site")
+    features = site.get("features") if isinstance(site, dict) else None
+    passes = sum(len(r["path"]) for r in ropes if isinstance(r, dict) and isinstance(r.get("path"), list)) \
+        if isinstance(ropes, list) else 0
+    if passes > limits.MAX_PASSES_IN_ALL:
+        raise RigFileError(f"the ropes pass points {passes:,} times in all; Ropewright handles at most "
+                           f"{limits.MAX_PASSES_IN_ALL:,} passes in one rig (split the site into several rigs)",
+                           where="ropes")
+    corners = sum(len(f.get(k) or ()) for f in features if isinstance(f, dict) for k in ("polygon", "line")
+                  if isinstance(f.get(k), list)) if isinstance(features, list) else 0
+    if corners > limits.MAX_CORNERS_IN_ALL:
+        raise RigFileError(f"the site features have {corners:,} corners in all; Ropewright handles at most "
+                           f"{limits.MAX_CORNERS_IN_ALL:,} (simplify the outlines)", where="site.features")
+
+
 def _check_plain_data(d: Any) -> None:
     """Every number finite and within float range, every text valid Unicode (iterative walk)."""
     stack: list[tuple[Any, tuple[Any, ...]]] = [(d, ())]
+    seen = 0
     while stack:
         value, path = stack.pop()
+        seen += 1
+        if seen > limits.MAX_VALUES:
+            raise RigFileError(f"the file holds more than {limits.MAX_VALUES:,} values (numbers, texts, lists); "
+                               "Ropewright cannot handle a rig this large", where=_where(path[:1]))
         if isinstance(value, dict):
             if _DUPLICATE in value:
                 key = value[_DUPLICATE]
@@ -479,8 +540,7 @@ def _check_text(s: str, path: tuple[Any, ...]) -> None:
 def _validator() -> Any:
     import jsonschema
 
-    text = resources.files("solver").joinpath("schema/rig-v1.schema.json").read_text(encoding="utf-8")
-    schema = json.loads(text)
+    schema = limits.schema()
     cls = jsonschema.Draft202012Validator
     cls.check_schema(schema)
     return cls(_inline_refs(schema, schema.get("$defs", {})))
@@ -503,9 +563,8 @@ def _inline_refs(node: Any, defs: Mapping[str, Any]) -> Any:
 
 
 def schema() -> dict[str, Any]:
-    """The JSON Schema (draft 2020-12) of a version-1 rig file."""
-    text = resources.files("solver").joinpath("schema/rig-v1.schema.json").read_text(encoding="utf-8")
-    return json.loads(text)
+    """The JSON Schema (draft 2020-12) of a version-1 rig file (a fresh copy)."""
+    return json.loads(json.dumps(limits.schema()))
 
 
 _NOUNS = {"points": "point", "ropes": "rope", "path": "pass", "materials": "material",
@@ -568,6 +627,9 @@ def _translate(err: Any) -> tuple[str, str]:
         return where, f"must be one of {choices}; got {_show(inst)}"
     if kw == "const":
         return where, f"must be {_show(val)}, got {_show(inst)}"
+    if kw in ("minimum", "maximum") and abs(val) == MAX_COORDINATE_M and isinstance(inst, (int, float)):
+        return where, (f"{inst:g} m is more than {MAX_COORDINATE_M / 1000:g} km from the site origin; "
+                       "is the unit right?")
     if kw == "minimum":
         return where, f"must be at least {val:g}, got {_show(inst)}"
     if kw == "exclusiveMinimum":
@@ -586,6 +648,10 @@ def _translate(err: Any) -> tuple[str, str]:
         return where, f"needs at least {val} {item}{'s' if val != 1 else ''}, has {len(inst)}"
     if kw == "minLength":
         return where, "must not be empty"
+    if kw == "maxLength":
+        return where, f"is {len(inst):,} characters long; at most {val:,} fit here - shorten it"
+    if kw == "maxItems":
+        return where, _too_many(path, len(inst), val)
     return where, f"is not valid here ({_show(inst)})"
 
 
