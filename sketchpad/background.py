@@ -49,6 +49,7 @@ from sketchpad.geometry import to_scene, to_site
 from solver import units
 from solver.errors import UnitError
 from solver.model import Rig, SiteImage
+from sketchpad.plain_text import plain_label
 
 log = logging.getLogger(__name__)
 
@@ -497,12 +498,13 @@ def _ask_image_path(parent) -> pathlib.Path | None:
 
 def _report_error(parent, text: str) -> None:
     from PySide6.QtGui import QGuiApplication
-    from PySide6.QtWidgets import QMessageBox
+
+    from sketchpad.plain_text import warn
 
     if QGuiApplication.platformName() in ("offscreen", "minimal"):
         log.info("background: %s", text)
         return
-    QMessageBox.warning(parent, "Background picture", text)
+    warn(parent, "Background picture", text)
 
 
 class BackgroundPanel(QWidget):
@@ -512,7 +514,7 @@ class BackgroundPanel(QWidget):
         super().__init__(parent)
         self.controller = controller
         doc = controller.document
-        self.state = QLabel()
+        self.state = plain_label()
         self.state.setWordWrap(True)
         self.import_button = QPushButton("Import…")
         self.calibrate_button = QPushButton("Calibrate…")

@@ -836,12 +836,13 @@ def _ask_save_path(parent, title: str, start: str, filters: str) -> pathlib.Path
 
 def _show_message(parent, title: str, text: str, error: bool) -> None:
     from PySide6.QtGui import QGuiApplication
-    from PySide6.QtWidgets import QMessageBox
+
+    from sketchpad.plain_text import inform, warn
 
     if QGuiApplication.platformName() in ("offscreen", "minimal"):
         (log.warning if error else log.info)("%s: %s", title, text)
         return
-    (QMessageBox.warning if error else QMessageBox.information)(parent, title, text)
+    (warn if error else inform)(parent, title, text)
 
 
 class ExportActions:

@@ -19,6 +19,7 @@ from PySide6.QtWidgets import QLabel, QLineEdit, QPlainTextEdit, QSizePolicy, QV
 
 from solver import units
 from solver.errors import UnitError
+from sketchpad.plain_text import plain_label
 
 ERROR_STYLE = "color: #c62828;"  # red that reads on light and dark panel backgrounds
 
@@ -121,7 +122,7 @@ class QuantityField(QWidget):
         self.edit = _CommitLineEdit(self)
         self.edit.setObjectName(f"field:{what}")
         self.edit.setPlaceholderText(placeholder or ("not set" if optional else ""))
-        self.error = QLabel(self)
+        self.error = plain_label(parent=self)
         self.error.setStyleSheet(ERROR_STYLE)
         self.error.setWordWrap(True)
         self.error.setVisible(False)

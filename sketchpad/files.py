@@ -31,6 +31,7 @@ from PySide6.QtWidgets import QFileDialog, QMenu, QMessageBox, QWidget
 
 from solver.errors import RopewrightError
 from solver.model import Rig
+from sketchpad.plain_text import message_box, tip
 
 log = logging.getLogger(__name__)
 
@@ -127,15 +128,12 @@ class Dialogs:
         if _headless():
             log.info("no screen: unsaved changes to %s discarded without asking", name)
             return "discard"
-        box = QMessageBox(parent)
-        box.setIcon(QMessageBox.Icon.Warning)
-        box.setWindowTitle("Unsaved changes")
-        box.setText(f"“{name}” has changes that are not saved.")
-        box.setInformativeText("Save them before going on?")
-        box.setStandardButtons(
-            QMessageBox.StandardButton.Save | QMessageBox.StandardButton.Discard | QMessageBox.StandardButton.Cancel
+        box = message_box(
+            parent, QMessageBox.Icon.Warning, "Unsaved changes", f"“{name}” has changes that are not saved.",
+            "Save them before going on?",
+            QMessageBox.StandardButton.Save | QMessageBox.StandardButton.Discard | QMessageBox.StandardButton.Cancel,
+            QMessageBox.StandardButton.Save,
         )
-        box.setDefaultButton(QMessageBox.StandardButton.Save)
         answer = box.exec()
         return {
             QMessageBox.StandardButton.Save: "save",
@@ -163,25 +161,15 @@ class Dialogs:
         if _headless():
             log.info("%s: %s %s", title, text, detail)
             return
-        box = QMessageBox(parent)
-        box.setIcon(QMessageBox.Icon.Warning)
-        box.setWindowTitle(title)
-        box.setText(text)
-        if detail:
-            box.setInformativeText(detail)
-        box.exec()
+        message_box(parent, QMessageBox.Icon.Warning, title, text, detail).exec()
 
     def ask_recover(self, parent: QWidget | None, description: str) -> bool:
         if _headless():
             return False
-        answer = QMessageBox.question(
-            parent,
-            "Recover unsaved work?",
-            description,
-            QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No,
-            QMessageBox.StandardButton.Yes,
-        )
-        return answer == QMessageBox.StandardButton.Yes
+        box = message_box(parent, QMessageBox.Icon.Question, "Recover unsaved work?", description, "",
+                          QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No,
+                          QMessageBox.StandardButton.Yes)
+        return box.exec() == QMessageBox.StandardButton.Yes
 
 
 def describe_error(exc: BaseException) -> str:
@@ -310,7 +298,7 @@ class FileController(QObject):
         recent = self.recent_files()
         for path in recent:
             act = self.recent_menu.addAction(display_name(path))
-            act.setToolTip(str(path))
+            act.setToolTip(tip(str(path)))
             act.setStatusTip(str(path))
             act.triggered.connect(lambda _c=False, p=path: self.open(p))
         if not recent:

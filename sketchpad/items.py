@@ -36,6 +36,7 @@ from sketchpad import theme
 from sketchpad.drag_layer import Tracked, Versioned
 from sketchpad.geometry import to_scene
 from solver.model import Feature, Force, Point, Rope
+from sketchpad.plain_text import tip as plain_tip
 
 log = logging.getLogger(__name__)
 
@@ -333,7 +334,7 @@ class PointItem(SketchItem):
         tip = f"{point.name} ({point.kind})"
         if tip != self._tip:
             self._tip = tip
-            self.setToolTip(tip)
+            self.setToolTip(plain_tip(tip))
         if moved or (old is not point and _drawn_differs(old, point)):
             self.update()  # also renews a device-coordinate cache drawn at the old sub-pixel offset
 
@@ -495,7 +496,7 @@ class RopeItem(SketchItem):
         tip = f"{rope.name} ({rope.material})"
         if tip != self._tip:
             self._tip = tip
-            self.setToolTip(tip)
+            self.setToolTip(plain_tip(tip))
         self.update()
 
     def pen(self, colour: QColor, width: float) -> QPen:
@@ -781,7 +782,7 @@ class FeatureItem(SketchItem):
             else:  # just below the line's middle vertex
                 self._label.setPos(coords[len(coords) // 2])
                 self._label.setTransform(QTransform.fromTranslate(0, 2))
-        self.setToolTip(f"{feature.label or feature.id} ({feature.kind})")
+        self.setToolTip(plain_tip(f"{feature.label or feature.id} ({feature.kind})"))
         self.update()
 
     def boundingRect(self) -> QRectF:  # noqa: N802

@@ -53,6 +53,7 @@ from solver.materials import (
     material_problem,
 )
 from solver.model import HARDWARE_KINDS, MATERIAL_KINDS, Hardware, Material, Rig
+from sketchpad.plain_text import plain_label, tip
 
 log = logging.getLogger(__name__)
 
@@ -163,7 +164,7 @@ class MaterialForm(_SpecForm):
         self.table.horizontalHeader().setSectionResizeMode(QHeaderView.Stretch)
         self.table.setSelectionBehavior(QAbstractItemView.SelectRows)
         self.table.setMinimumHeight(220)
-        self.table_error = QLabel()
+        self.table_error = plain_label()
         self.table_error.setObjectName("stretch_error")
         self.table_error.setStyleSheet(ERROR_STYLE)
         self.table_error.setWordWrap(True)
@@ -427,10 +428,10 @@ class LibraryEditor(QDialog):
         self.stack = QStackedWidget()
         for w in (self.empty, self.material_form, self.hardware_form):
             self.stack.addWidget(w)
-        self.where = QLabel()
+        self.where = plain_label()
         self.where.setObjectName("spec_where")
         self.where.setWordWrap(True)
-        self.message = QLabel()
+        self.message = plain_label()
         self.message.setObjectName("library_message")
         self.message.setWordWrap(True)
         self.embed_button = QPushButton("Embed in rig")
@@ -495,7 +496,7 @@ class LibraryEditor(QDialog):
                     used = users_of(rig, kind, spec.id)
                     what = spec.kind + (f", used by {len(used)}" if used else "")
                     item = QTreeWidgetItem([spec.id, what])
-                    item.setToolTip(0, spec.label)
+                    item.setToolTip(0, tip(spec.label))
                     item.setData(0, Qt.UserRole, (group, kind, spec.id))
                     top.addChild(item)
             top.setExpanded(True)

@@ -38,6 +38,7 @@ from solver.hauling import DEFAULT_PER_PERSON_N, haul_plan
 from solver.loads import DRAG_SHAPES, EXTRA_KEY, LoadEstimate, apply_load_estimate
 from solver.model import Rig
 from solver.result import Result
+from sketchpad.plain_text import plain_label
 
 log = logging.getLogger(__name__)
 
@@ -122,16 +123,16 @@ class LoadEstimateDialog(QDialog):
         self.per_person = QuantityField("force per hauler", "force", unit=lambda: self.document.rig.display.force,
                                         minimum=0.0, strict=True)
         self.per_person.set_value(self._default_per_person())
-        self.force_label = QLabel("—")
+        self.force_label = plain_label("—")
         self.force_label.setObjectName("force_label")
         self.force_label.setFont(theme.font(theme.LABEL_POINT_SIZE + 5, bold=True))
-        self.assumptions = QLabel()
+        self.assumptions = plain_label()
         self.assumptions.setObjectName("assumptions")
         self.assumptions.setWordWrap(True)
-        self.haulers = QLabel()
+        self.haulers = plain_label()
         self.haulers.setObjectName("haulers_label")
         self.haulers.setWordWrap(True)
-        self.error = QLabel()
+        self.error = plain_label()
         self.error.setObjectName("estimate_error")
         self.error.setStyleSheet(ERROR_STYLE)
         self.error.setWordWrap(True)

@@ -32,6 +32,7 @@ from sketchpad.items import fmt_length
 from sketchpad.tools import delete_keys, make_tools, set_display
 from solver.errors import RopewrightError
 from solver.model import FEATURE_KINDS, MIDDLE_HOWS, Rig
+from sketchpad.plain_text import inform, plain_label, warn
 
 log = logging.getLogger(__name__)
 
@@ -250,7 +251,7 @@ class MainWindow(QMainWindow):
         return dock
 
     def _build_status(self) -> None:
-        self.cursor_label = QLabel("")
+        self.cursor_label = plain_label("")
         self.cursor_label.setMinimumWidth(220)
         self.statusBar().addPermanentWidget(self.cursor_label)
 
@@ -361,7 +362,7 @@ class MainWindow(QMainWindow):
         except (RopewrightError, OSError) as exc:
             log.warning("could not open %s: %s", path, exc)
             if show_errors:
-                QMessageBox.warning(self, APP_NAME, f"Could not open {path}:\n{exc}")
+                warn(self, APP_NAME, f"Could not open {path}:\n{exc}")
             return False
         self.document.replace_all(rig, pathlib.Path(path))
         self.view.zoom_to_fit()
@@ -374,7 +375,7 @@ class MainWindow(QMainWindow):
             self.view.zoom_to_fit()
 
     def show_drawing_help(self) -> None:
-        QMessageBox.information(
+        inform(
             self,
             f"{APP_NAME}: drawing keys",
             "Tools: V select, A anchor, L load, H haul team, J free point, P person, R rope, F force, "

@@ -48,6 +48,7 @@ from solver.model import (
     Rigging,
     Settings,
 )
+from sketchpad.plain_text import bold, escaped, plain_label, rich_label
 
 log = logging.getLogger(__name__)
 
@@ -138,9 +139,7 @@ def _set_combo(box: QComboBox, data) -> None:
 
 
 def _heading(text: str) -> QLabel:
-    lab = QLabel(f"<b>{text}</b>")
-    lab.setTextFormat(Qt.TextFormat.RichText)
-    return lab
+    return rich_label(bold(text))
 
 
 class _Page(QWidget):
@@ -201,7 +200,7 @@ class PointPage(_Page):
         self.team = QuantityField("team size", "integer", minimum=1, optional=True)
         self.per_person = self.force_field("pull per person", minimum=0, strict=True, optional=True)
         self.total = self.force_field("total pull", minimum=0, strict=True, optional=True)
-        self.haul_hint = QLabel()
+        self.haul_hint = plain_label()
         self.haul_hint.setWordWrap(True)
         self.mass = QuantityField("mass", "number", minimum=0, strict=True, optional=True, suffixes=("kg",))
         self.rows: dict[str, QWidget] = {}
@@ -287,7 +286,7 @@ class PointPage(_Page):
         if self.point_id is None or not rig.has_point(self.point_id):
             return
         p = rig.point(self.point_id)
-        self.header.setText(f"<b>{POINT_KIND_NAMES[p.kind].split(' (')[0]}</b> {p.id}")
+        self.header.setText(f"{bold(POINT_KIND_NAMES[p.kind].split(' (')[0])} {escaped(p.id)}")
         self.label.set_value(p.label)
         _set_combo(self.kind, p.kind)
         self.x.set_value(p.x)
@@ -337,7 +336,7 @@ class RopePage(_Page):
         self.form.addRow(self.header)
         self.label = self.text_field("label")
         self.material = _narrow(QComboBox())
-        self.material_info = QLabel()
+        self.material_info = plain_label()
         self.material_info.setWordWrap(True)
         self.setup = _combo([("Hand-tight as drawn, plus slack", "slack"), ("Pretensioned", "pretension")])
         self.slack = self.length_field("slack", minimum=0)
@@ -419,8 +418,7 @@ class RopePage(_Page):
         n = len(r.path)
         for i, ps in enumerate(r.path):
             name = rig.point(ps.at).name if rig.has_point(ps.at) else ps.at
-            where = QLabel(f"{i + 1}. <b>{name}</b>" + (f" ({ps.at})" if name != ps.at else ""))
-            where.setTextFormat(Qt.TextFormat.RichText)
+            where = rich_label(f"{i + 1}. {bold(name)}" + (f" ({escaped(ps.at)})" if name != ps.at else ""))
             self.passes_grid.addWidget(where, 2 * i, 0, 1, 2)
             how = _combo([(HOW_NAMES[h], h) for h in self._how_options(i, n)])
             how.setEnabled(how.count() > 1)
@@ -467,7 +465,7 @@ class RopePage(_Page):
         if self.rope_id is None or not any(r.id == self.rope_id for r in rig.ropes):
             return
         r = rig.rope(self.rope_id)
-        self.header.setText(f"<b>Rope</b> {r.id}")
+        self.header.setText(f"{bold('Rope')} {escaped(r.id)}")
         self.label.set_value(r.label)
         mats = materials_for(rig)
         with QSignalBlocker(self.material):
@@ -510,7 +508,7 @@ class ForcePage(_Page):
         self.header = _heading("Force")
         self.form.addRow(self.header)
         self.label = self.text_field("label")
-        self.at = QLabel()
+        self.at = plain_label()
         self.magnitude = self.force_field("force", minimum=0, strict=True)
         self.direction = QuantityField("direction", "number", suffixes=("°", "deg", "degrees"))
         self.form.addRow("Label", self.label)
@@ -576,7 +574,7 @@ class FeaturePage(_Page):
         f = next((f for f in rig.site.features if f.id == self.feature_id), None)
         if f is None:
             return
-        self.header.setText(f"<b>Site feature</b> {f.id}")
+        self.header.setText(f"{bold('Site feature')} {escaped(f.id)}")
         self.label.set_value(f.label)
         _set_combo(self.kind, f.kind)
 
@@ -677,7 +675,7 @@ class PropertiesPanel(QWidget):
         self.rope_page = RopePage(self)
         self.force_page = ForcePage(self)
         self.feature_page = FeaturePage(self)
-        self.multi_page = QLabel("Several things are selected: select one to edit it.")
+        self.multi_page = plain_label("Several things are selected: select one to edit it.")
         self.multi_page.setWordWrap(True)
         self.multi_page.setAlignment(Qt.AlignmentFlag.AlignTop)
         for page in (self.rig_page, self.point_page, self.rope_page, self.force_page, self.feature_page, self.multi_page):

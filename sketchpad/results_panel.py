@@ -34,6 +34,7 @@ from sketchpad import theme
 from solver.model import Rig
 from solver.result import Result
 from solver.units import force_to, format_force
+from sketchpad.plain_text import plain_label, tip
 
 log = logging.getLogger(__name__)
 
@@ -111,10 +112,10 @@ class ResultsPanel(QWidget):
 
     def __init__(self, parent=None) -> None:
         super().__init__(parent)
-        self.summary = QLabel("No result yet.")
+        self.summary = plain_label("No result yet.")
         self.summary.setWordWrap(True)
         self.summary.setTextInteractionFlags(Qt.TextSelectableByMouse)
-        self.status = QLabel("")
+        self.status = plain_label("")
         self.status.setWordWrap(True)
         self.segments = _Table(["rope", "piece", "tension", "stretch", "use"])
         self.anchors = _Table(["anchor", "force", "direction", "capacity", "use", "hold range"])
@@ -250,7 +251,7 @@ class ResultsPanel(QWidget):
         for severity, subject, message in items:
             item = QListWidgetItem(f"{SEVERITY_MARK.get(severity, '•')} {message}")
             item.setData(SUBJECT_ROLE, subject)
-            item.setToolTip(f"{severity}: about {subject or 'the whole rig'}")
+            item.setToolTip(tip(f"{severity}: about {subject or 'the whole rig'}"))
             if severity == "danger":
                 item.setForeground(theme.BANNER_BACK)
             self.warnings.addItem(item)
