@@ -49,6 +49,7 @@ from sketchpad.geometry import to_scene, to_site
 from solver import units
 from solver.errors import UnitError
 from solver.model import Rig, SiteImage
+from sketchpad.picture_file import PictureFileError, read_picture_bytes
 from sketchpad.plain_text import plain_label
 
 log = logging.getLogger(__name__)
@@ -131,7 +132,7 @@ def image_reference(path: pathlib.Path, rig_dir: pathlib.Path | None) -> dict:
             return {"file": rel.as_posix(), "data_base64": None}
         except ValueError:
             pass
-    return {"file": None, "data_base64": base64.b64encode(path.read_bytes()).decode("ascii")}
+    return {"file": None, "data_base64": base64.b64encode(read_picture_bytes(path)).decode("ascii")}
 
 
 def read_qimage(image: SiteImage | None, rig_dir: pathlib.Path | None) -> QImage | None:
@@ -148,7 +149,11 @@ def read_qimage(image: SiteImage | None, rig_dir: pathlib.Path | None) -> QImage
         q.loadFromData(data)
     elif image.file:
         base = rig_dir if rig_dir is not None else pathlib.Path.cwd()
-        q.load(str(pathlib.Path(base) / image.file))
+        try:
+            q.loadFromData(read_picture_bytes(pathlib.Path(base) / image.file))
+        except PictureFileError as exc:
+            log.warning("background picture %s", exc)
+            return None
     return None if q.isNull() else q
 
 
@@ -416,7 +421,11 @@ class BackgroundController(QObject):
             if path is None:
                 return False
         path = pathlib.Path(path)
-        q = QImage(str(path))
+        try:
+            q = QImage.fromData(read_picture_bytes(path))
+        except PictureFileError as exc:
+            self.report_error(self.window, f"“{path.name}” {exc.message}.")
+            return False
         if q.isNull():
             self.report_error(self.window, f"“{path.name}” is not a picture Ropewright can read (use PNG or JPEG).")
             return False

@@ -31,6 +31,7 @@ from PySide6.QtWidgets import QFileDialog, QMenu, QMessageBox, QWidget
 
 from solver.errors import RopewrightError
 from solver.model import Rig
+from sketchpad.picture_file import PictureFileError, read_picture_bytes
 from sketchpad.plain_text import message_box, tip
 
 log = logging.getLogger(__name__)
@@ -102,8 +103,8 @@ def embed_image_file(rig: Rig, base_dir: pathlib.Path | None) -> Rig:
         return rig
     src = pathlib.Path(base_dir) / image.file
     try:
-        data = src.read_bytes()
-    except OSError as exc:
+        data = read_picture_bytes(src)
+    except PictureFileError as exc:
         log.warning("background image %s could not be read: %s", src, exc)
         return rig
     new_image = replace(image, file=None, data_base64=base64.b64encode(data).decode("ascii"))

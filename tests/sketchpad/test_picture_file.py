@@ -1,0 +1,79 @@
+"""A site picture is read only from a regular file of a sane size, without ever blocking.
+
+A FIFO named as ``site.image.file`` used to block ``render`` and the window for ever (opening a
+FIFO for reading waits for a writer); a device such as /dev/zero reads without end.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+import sys
+
+import pytest
+from PySide6.QtGui import QColor, QImage
+
+from sketchpad import picture_file
+from sketchpad.background import read_qimage
+from solver.model import SiteImage
+from tests.conftest import ROOT, SAMPLES
+
+
+def _rig_naming(tmp_path, name: str):
+    d = json.loads((SAMPLES / "vector-pull.rig.json").read_text(encoding="utf-8"))
+    d.setdefault("site", {})["image"] = {"file": name, "origin": [0, 0], "metres_per_pixel": 0.05}
+    path = tmp_path / "site.rig.json"
+    path.write_text(json.dumps(d), encoding="utf-8")
+    return path
+
+
+def test_render_of_a_rig_whose_picture_is_a_fifo_finishes_and_says_why(tmp_path):
+    os.mkfifo(tmp_path / "plan.png")
+    rig = _rig_naming(tmp_path, "plan.png")
+    env = dict(os.environ, PYTHONPATH=str(ROOT), QT_QPA_PLATFORM="offscreen")
+    try:
+        run = subprocess.run([sys.executable, "-m", "solver.cli", "render", str(rig), "-o", str(tmp_path / "o.png")],
+                             env=env, capture_output=True, text=True, timeout=60)
+    except subprocess.TimeoutExpired:
+        pytest.fail("render blocked on a FIFO named as the site picture")
+    assert run.returncode == 0, run.stderr
+    assert (tmp_path / "o.png").stat().st_size > 0
+    assert "not a regular file" in run.stderr
+
+
+@pytest.mark.parametrize("make", ["fifo", "folder", "device"])
+def test_only_regular_files_are_read_as_pictures(tmp_path, make):
+    target = tmp_path / "plan.png"
+    if make == "fifo":
+        os.mkfifo(target)
+    elif make == "folder":
+        target.mkdir()
+    else:
+        target = "/dev/zero"
+    with pytest.raises(picture_file.PictureFileError) as info:
+        picture_file.read_picture_bytes(target)
+    assert "not a regular file" in info.value.message
+    assert read_qimage(SiteImage(file=os.path.basename(target)), pathlib_parent(target)) is None
+
+
+def pathlib_parent(target):
+    import pathlib
+
+    return pathlib.Path(target).parent
+
+
+def test_a_picture_larger_than_the_cap_is_refused_in_words(tmp_path, monkeypatch):
+    monkeypatch.setattr(picture_file, "MAX_PICTURE_BYTES", 1000)
+    (tmp_path / "big.png").write_bytes(b"\0" * 1001)
+    with pytest.raises(picture_file.PictureFileError) as info:
+        picture_file.read_picture_bytes(tmp_path / "big.png")
+    assert "MB" in info.value.message and "at most" in info.value.message
+
+
+def test_a_regular_picture_still_reads(tmp_path):
+    image = QImage(6, 4, QImage.Format_RGB32)
+    image.fill(QColor("blue"))
+    image.save(str(tmp_path / "plan.png"))
+    q = read_qimage(SiteImage(file="plan.png"), tmp_path)
+    assert q is not None and (q.width(), q.height()) == (6, 4)
