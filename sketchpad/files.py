@@ -7,7 +7,12 @@
 left exactly as it was.  While the sketch has unsaved changes a copy is written
 every few seconds to the user's data folder (``ROPEWRIGHT_DATA_DIR`` overrides
 it, for tests); the copy is removed on a clean save or close, so finding one at
-start means the last session ended without saving and recovery is offered.
+start means the last session ended without saving and recovery is offered.  Each
+running session holds a lock beside its copy that the kernel drops when the process
+ends (:mod:`sketchpad.run_lock`), so a copy whose lock is free was left by a run that
+is gone, whatever process now has its id.  A copy is deleted only when the user
+answered the recovery question.  When an autosave fails (a full disk, a rig that
+cannot be written) :attr:`FileController.protection` says so at once, in words.
 
 Every question to the user goes through a :class:`Dialogs` object so tests can
 answer them without a real modal dialog.
@@ -25,7 +30,7 @@ from dataclasses import replace
 from typing import Callable
 
 import shiboken6
-from PySide6.QtCore import QEvent, QObject, QSettings, QStandardPaths, QTimer
+from PySide6.QtCore import QEvent, QObject, QSettings, QStandardPaths, QTimer, Signal
 from PySide6.QtGui import QAction, QGuiApplication, QKeySequence
 from PySide6.QtWidgets import QFileDialog, QMenu, QMessageBox, QWidget
 
@@ -33,6 +38,7 @@ from solver.errors import RopewrightError
 from solver.model import Rig
 from sketchpad.picture_file import PictureFileError, read_picture_bytes
 from sketchpad.plain_text import message_box, tip
+from sketchpad.run_lock import RunLock, available as locks_available, is_held
 
 log = logging.getLogger(__name__)
 
@@ -164,9 +170,11 @@ class Dialogs:
             return
         message_box(parent, QMessageBox.Icon.Warning, title, text, detail).exec()
 
-    def ask_recover(self, parent: QWidget | None, description: str) -> bool:
+    def ask_recover(self, parent: QWidget | None, description: str) -> bool | None:
+        """True to recover, False when the user declined, None when nobody could be asked (no screen)."""
         if _headless():
-            return False
+            log.info("no screen: recovery not offered; the kept copy stays for the next start")
+            return None
         box = message_box(parent, QMessageBox.Icon.Question, "Recover unsaved work?", description, "",
                           QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No,
                           QMessageBox.StandardButton.Yes)
@@ -193,7 +201,13 @@ def describe_error(exc: BaseException) -> str:
 
 # --- the controller --------------------------------------------------------------------
 class FileController(QObject):
-    """File menu behaviour for one main window and its document (see module docstring)."""
+    """File menu behaviour for one main window and its document (see module docstring).
+
+    ``protection`` is emitted with a sentence when crash protection (autosave) has stopped
+    and why, and with "" once an autosave works again.
+    """
+
+    protection = Signal(str)
 
     def __init__(
         self,
@@ -215,6 +229,8 @@ class FileController(QObject):
         self.on_loaded = on_loaded
         self._autosaved_revision: int | None = None
         self.autosave_path = self.autosave_dir / f"{AUTOSAVE_PREFIX}{os.getpid()}-{id(self):x}{RIG_SUFFIX}"
+        self._lock: RunLock | None = None
+        self.protection_problem = ""  # why autosave last failed, "" while it works
         self.recent_menu: QMenu | None = None
         self.samples_menu: QMenu | None = None
         self.actions: dict[str, QAction] = {}
@@ -417,7 +433,9 @@ class FileController(QObject):
         from solver import rigfile
 
         try:
-            return rigfile.load_rig(path)
+            rig = rigfile.load_rig(path)
+            rigfile.clean_stale_temps(rigfile._write_target(path).parent)
+            return rig
         except (RopewrightError, OSError, UnicodeError, ValueError) as exc:
             log.info("refused to open %s: %s", path, exc)
             self.dialogs.error(
@@ -481,6 +499,8 @@ class FileController(QObject):
             rig = embed_image_file(rig, self.document.path.parent)
         try:
             self.autosave_dir.mkdir(parents=True, exist_ok=True)
+            if self._lock is None:
+                self._lock = RunLock(self._lock_path(self.autosave_path))
             rigfile.save_rig(rig, self.autosave_path)
             meta = {
                 "original_path": str(self.document.path) if self.document.path else None,
@@ -490,9 +510,18 @@ class FileController(QObject):
             self._meta_path(self.autosave_path).write_text(json.dumps(meta), encoding="utf-8")
         except (RopewrightError, OSError, ValueError, TypeError) as exc:
             log.warning("autosave to %s failed: %s", self.autosave_path, exc)
+            self._set_protection(
+                "Crash protection has stopped: the automatic copy of this sketch could not be written ("
+                + describe_error(exc) + "). Save your work now (File ▸ Save as…) or undo the last edit.")
             return None
         self._autosaved_revision = self.document.revision
+        self._set_protection("")
         return self.autosave_path
+
+    def _set_protection(self, problem: str) -> None:
+        if problem != self.protection_problem:
+            self.protection_problem = problem
+            self.protection.emit(problem)
 
     def remove_autosave(self) -> None:
         for p in (self.autosave_path, self._meta_path(self.autosave_path)):
@@ -508,17 +537,32 @@ class FileController(QObject):
     def _meta_path(rig_path: pathlib.Path) -> pathlib.Path:
         return rig_path.with_name(rig_path.name[: -len(RIG_SUFFIX)] + ".meta.json")
 
+    @staticmethod
+    def _lock_path(rig_path: pathlib.Path) -> pathlib.Path:
+        return rig_path.with_name(rig_path.name[: -len(RIG_SUFFIX)] + ".lock")
+
+    def _owner_is_running(self, copy: pathlib.Path) -> bool:
+        """True while the session that wrote ``copy`` still runs (it holds the copy's lock)."""
+        lock = self._lock_path(copy)
+        if locks_available() and lock.exists():
+            return is_held(lock)
+        pid = _pid_of(copy)  # a copy from before locks: its process id is all there is
+        return pid is not None and pid != os.getpid() and _pid_alive(pid)
+
+    def release_lock(self) -> None:
+        """End of session: the lock beside our copy goes too."""
+        if self._lock is not None:
+            self._lock.release()
+            self._lock = None
+
     def leftover_autosaves(self) -> list[pathlib.Path]:
         """Autosaves left by sessions that did not close cleanly (newest first), not our own."""
         if not self.autosave_dir.is_dir():
             return []
         found = []
         for p in self.autosave_dir.glob(AUTOSAVE_PREFIX + "*" + RIG_SUFFIX):
-            if p == self.autosave_path:
-                continue
-            pid = _pid_of(p)
-            if pid is not None and pid != os.getpid() and _pid_alive(pid):
-                continue  # another Ropewright still running owns it
+            if p == self.autosave_path or self._owner_is_running(p):
+                continue  # ours, or another Ropewright still running owns it
             found.append(p)
         return sorted(found, key=lambda q: q.stat().st_mtime, reverse=True)
 
@@ -527,7 +571,8 @@ class FileController(QObject):
 
         The recovered sketch comes in as one undoable edit on top of its last
         saved version (or an empty sketch), so it shows as modified and a single
-        undo returns to what was on disk.  Leftover autosaves are removed either way.
+        undo returns to what was on disk.  Leftover copies are removed once the user
+        answered (recovered or declined); unasked (no screen) they stay for the next start.
         """
         leftovers = self.leftover_autosaves()
         if not leftovers:
@@ -547,7 +592,10 @@ class FileController(QObject):
             + ". Recover it?"
         )
         restored = False
-        if self.dialogs.ask_recover(self.window, description):
+        answer = self.dialogs.ask_recover(self.window, description)
+        if answer is None:
+            return False  # nobody was asked: keep every copy
+        if answer:
             from solver import rigfile
 
             try:
@@ -565,8 +613,10 @@ class FileController(QObject):
                 self.document.apply(rig, "Recover unsaved changes")
                 self.update_title()
                 restored = True
+        if answer and not restored:
+            return False  # the copy could not be read: it stays, for the user to look at
         for p in leftovers:
-            for q in (p, self._meta_path(p)):
+            for q in (p, self._meta_path(p), self._lock_path(p)):
                 try:
                     q.unlink()
                 except OSError:
@@ -583,6 +633,7 @@ class FileController(QObject):
                 return True
             self.timer.stop()
             self.remove_autosave()
+            self.release_lock()
         return False
 
 

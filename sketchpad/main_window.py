@@ -26,13 +26,14 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from sketchpad import theme
 from sketchpad.canvas import SketchScene, SketchView
 from sketchpad.document import Document
 from sketchpad.items import fmt_length
+from sketchpad.plain_text import inform, plain_label, warn
 from sketchpad.tools import delete_keys, make_tools, set_display
 from solver.errors import RopewrightError
 from solver.model import FEATURE_KINDS, MIDDLE_HOWS, Rig
-from sketchpad.plain_text import inform, plain_label, warn
 
 log = logging.getLogger(__name__)
 
@@ -267,6 +268,14 @@ class MainWindow(QMainWindow):
 
         self.files = FileController(self, self.document, on_loaded=lambda _rig: self.view.zoom_to_fit())
         self.files.install_menu(self.menu_file, before=self.action_quit)
+        self.protection_label = plain_label("")
+        self.protection_label.setObjectName("crash_protection_stopped")
+        self.protection_label.setWordWrap(True)
+        self.protection_label.setStyleSheet(f"QLabel {{ background: {theme.BANNER_BACK.name()}; "
+                                            f"color: {theme.BANNER_TEXT.name()}; padding: 3px 8px; }}")
+        self.protection_label.hide()
+        self.statusBar().insertWidget(0, self.protection_label, 1)
+        self.files.protection.connect(self._show_protection)
         self.background = BackgroundController(self.document, self.view, self, say)
         self.background.install_menus(self.menu_insert, self.menu_tools)
         self.properties_dock = PropertiesDock(self.document, self)
@@ -276,6 +285,11 @@ class MainWindow(QMainWindow):
         self.properties_dock.follow_scene(self.canvas)
         self.properties_dock.panel.rig_page.add_section("Background picture", self.background.make_panel())
         self.caution_label = install_caution(self, self.menu_help)
+
+    def _show_protection(self, problem: str) -> None:
+        """Crash protection stopped (``problem`` says why) or works again (""): shown at once, in red."""
+        self.protection_label.setText(problem)
+        self.protection_label.setVisible(bool(problem))
 
     # --- behaviour --------------------------------------------------------------------------
     def set_tool(self, name: str) -> None:

@@ -28,7 +28,9 @@ import ntpath
 import os
 import pathlib
 import posixpath
+import re
 import tempfile
+import time
 import weakref
 from dataclasses import replace
 from functools import lru_cache
@@ -37,6 +39,11 @@ from typing import Any, Callable, Iterable, Mapping, Sequence
 from solver import limits, materials
 from solver import model as m
 from solver.errors import RigFileError
+
+try:
+    import fcntl
+except ImportError:  # pragma: no cover - not POSIX
+    fcntl = None  # type: ignore[assignment]
 
 log = logging.getLogger(__name__)
 
@@ -233,8 +240,10 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
 
     With ``check`` (default) the text is first loaded back, so a file on disk
     always opens again; a rig that would not is refused with the place named.
+    A symbolic link is written through: its target is replaced, the link stays.
+    Temp files an interrupted save left in that folder are removed first.
     """
-    p = pathlib.Path(path)
+    p = _write_target(pathlib.Path(path))
     data = _file_bytes(rig)
     if len(data) > MAX_FILE_BYTES:
         raise _too_big(len(data), saving=True)
@@ -246,9 +255,11 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
         mode = os.stat(p).st_mode & 0o7777
     except OSError:
         pass
+    clean_stale_temps(folder)
     tmp_name = None
     try:
-        fd, tmp_name = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=folder)
+        fd, tmp_name = tempfile.mkstemp(prefix=f"{TEMP_PREFIX}{p.name}.", suffix=TEMP_SUFFIX, dir=folder)
+        _hold(fd)  # marks the temp file as in use, so another save's clean-up leaves it alone
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
@@ -270,6 +281,59 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
                 os.unlink(tmp_name)
             except OSError:
                 log.warning("could not remove the temporary file %s", tmp_name)
+
+
+def _write_target(p: pathlib.Path) -> pathlib.Path:
+    """The file a save to ``p`` replaces: the final target when ``p`` is a symbolic link (a chain too)."""
+    if not p.is_symlink():
+        return p
+    return pathlib.Path(os.path.realpath(p))
+
+
+#: The hidden temp file of a save: "." + rig file name + "." + 8 random characters + ".tmp".
+_TEMP_NAME = re.compile(r"^\.(?P<rig>.+\.json)\.[a-z0-9_]{8}\.tmp$")
+#: Without locks (not POSIX), a temp file this old (s) is taken as left by a killed save.
+_STALE_TEMP_S = 3600.0
+
+
+def _hold(fd: int) -> None:
+    if fcntl is not None:
+        fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+
+
+def clean_stale_temps(folder: str | os.PathLike[str]) -> list[str]:
+    """Remove the temp files killed saves of rig files left in ``folder``; the names removed.
+
+    Only our own naming is touched, only regular files, and only when no save still writes
+    one (a running save holds a lock on its temp file; without locks, when older than an hour).
+    """
+    removed: list[str] = []
+    try:
+        names = [e for e in os.scandir(folder) if _TEMP_NAME.match(e.name)]
+    except OSError:
+        return removed
+    for entry in names:
+        try:
+            if not entry.is_file(follow_symlinks=False):
+                continue
+            if fcntl is None:
+                if time.time() - entry.stat().st_mtime < _STALE_TEMP_S:
+                    continue
+            else:
+                fd = os.open(entry.path, os.O_RDONLY | os.O_NONBLOCK | getattr(os, "O_NOFOLLOW", 0))
+                try:
+                    fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                except BlockingIOError:
+                    continue  # a save is writing it right now
+                finally:
+                    os.close(fd)
+            os.unlink(entry.path)
+            removed.append(entry.name)
+        except OSError as exc:
+            log.info("left the temp file %s: %s", entry.path, exc)
+    if removed:
+        log.info("removed %d temp file(s) left by an interrupted save in %s", len(removed), folder)
+    return removed
 
 
 def _file_bytes(rig: m.Rig) -> bytes:
@@ -1025,5 +1089,5 @@ def _fsync_folder(folder: pathlib.Path) -> None:
 
 __all__ = [
     "FORMAT", "VERSION", "MAX_FILE_BYTES", "load_rig", "loads_rig", "rig_from_dict", "rig_to_dict",
-    "dumps_rig", "save_rig", "migrate", "embed_specs", "check_rig", "schema", "RigFileError",
+    "dumps_rig", "save_rig", "clean_stale_temps", "migrate", "embed_specs", "check_rig", "schema", "RigFileError",
 ]
