@@ -44,9 +44,9 @@ from PySide6.QtWidgets import (
 
 from sketchpad import theme
 from sketchpad.drag_layer import Tracked
-from sketchpad.fields import QuantityField
+from sketchpad.fields import QuantityField, decimal_mark
 from sketchpad.geometry import to_scene, to_site
-from solver import units
+from solver import limits, units
 from solver.errors import UnitError
 from solver.model import Rig, SiteImage
 from sketchpad.picture_file import PictureFileError, read_picture_bytes
@@ -374,8 +374,11 @@ class CalibrateTool(TwoClickTool):
                 self.status("Calibration cancelled.")
                 return
             try:
-                real = units.parse_length(text, unit)
+                real = units.parse_length(text, unit, decimal=decimal_mark())
                 new = calibrated(image, p1, p2, real)
+                problem = limits.number_range("image", "metres_per_pixel").problem(new.metres_per_pixel)
+                if problem:
+                    raise ValueError(f"that makes a scale of {new.metres_per_pixel:g} m per pixel, which {problem}")
             except (UnitError, ValueError) as exc:
                 msg = exc.message if isinstance(exc, UnitError) else str(exc)
                 prompt = f"{msg[:1].upper()}{msg[1:]}.\nReal distance between the two points:"
@@ -532,9 +535,10 @@ class BackgroundPanel(QWidget):
         for b in (self.import_button, self.calibrate_button, self.remove_button):
             buttons.addWidget(b)
         unit = lambda: doc.rig.display.length  # noqa: E731
-        self.rotation = QuantityField("rotation", "number", suffixes=("°", "deg", "degrees"))
-        self.origin_x = QuantityField("east offset", "length", unit=unit)
-        self.origin_y = QuantityField("north offset", "length", unit=unit)
+        self.rotation = QuantityField("rotation", "number", suffixes=("°", "deg", "degrees"),
+                                      limit=("image", "rotation_deg"))
+        self.origin_x = QuantityField("east offset", "length", unit=unit, limit=("point", "x"))
+        self.origin_y = QuantityField("north offset", "length", unit=unit, limit=("point", "y"))
         self.fade = QSlider(Qt.Orientation.Horizontal)
         self.fade.setRange(0, 100)
         self.fade.setToolTip("How strongly the picture shows under the sketch")

@@ -31,7 +31,7 @@ from PySide6.QtWidgets import (
 )
 
 from sketchpad import theme
-from sketchpad.fields import ERROR_STYLE, QuantityField
+from sketchpad.fields import ERROR_STYLE, QuantityField, decimal_mark
 from solver import units
 from solver.errors import RopewrightError, UnitError
 from solver.hauling import DEFAULT_PER_PERSON_N, haul_plan
@@ -65,10 +65,10 @@ class UnitNumberField(QuantityField):
         if value is None:
             return ""
         v = float(value) / self.table[self.unit()]
-        return f"{v:.4g} {self.unit()}"
+        return f"{v:.4g}".replace(".", decimal_mark()) + f" {self.unit()}"
 
     def parse(self, text: str):
-        value = units.parse_in_table(text, self.unit(), self.table, self.aliases, self.what)
+        value = units.parse_in_table(text, self.unit(), self.table, self.aliases, self.what, decimal_mark())
         self._check_bounds(value, text.strip())
         return value
 
@@ -121,7 +121,7 @@ class LoadEstimateDialog(QDialog):
         self.factor = QuantityField("extra factor", "number", minimum=0.0, strict=True)
         self.factor.set_value(1.0)
         self.per_person = QuantityField("force per hauler", "force", unit=lambda: self.document.rig.display.force,
-                                        minimum=0.0, strict=True)
+                                        minimum=0.0, strict=True, limit=("point", "force_per_person_N"))
         self.per_person.set_value(self._default_per_person())
         self.force_label = plain_label("—")
         self.force_label.setObjectName("force_label")

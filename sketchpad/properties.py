@@ -31,8 +31,8 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from sketchpad.fields import CommitTextEdit, QuantityField
-from solver import units
+from sketchpad.fields import ERROR_STYLE, CommitTextEdit, QuantityField
+from solver import limits, units
 from solver.model import (
     ANCHOR_TYPES,
     FEATURE_KINDS,
@@ -169,8 +169,8 @@ class _Page(QWidget):
     def apply(self, new_rig: Rig, text: str, merge_key: str | None = None) -> None:
         self.panel.document.apply(new_rig, text, merge_key=merge_key)
 
-    def text_field(self, what: str, optional: bool = True) -> QuantityField:
-        return QuantityField(what, "text", optional=optional)
+    def text_field(self, what: str, optional: bool = True, limit: tuple[str, str] | None = None) -> QuantityField:
+        return QuantityField(what, "text", optional=optional, limit=limit)
 
     def force_field(self, what: str, **kw) -> QuantityField:
         return QuantityField(what, "force", unit=self.force_unit, **kw)
@@ -189,20 +189,23 @@ class PointPage(_Page):
         self.point_id: str | None = None
         self.header = _heading("Point")
         self.form.addRow(self.header)
-        self.label = self.text_field("label")
+        self.label = self.text_field("label", limit=("point", "label"))
         self.kind = _combo([(POINT_KIND_NAMES[k], k) for k in POINT_KINDS])
-        self.x = self.length_field("east (x)")
-        self.y = self.length_field("north (y)")
+        self.x = self.length_field("east (x)", limit=("point", "x"))
+        self.y = self.length_field("north (y)", limit=("point", "y"))
         self.fixed = QCheckBox("Held still (fixed)")
         self.anchor_type = _combo([(NONE_TEXT, None)] + [(ANCHOR_TYPE_NAMES[t], t) for t in ANCHOR_TYPES])
-        self.capacity = self.force_field("capacity", minimum=0, strict=True, optional=True)
-        self.required = self.force_field("force needed", minimum=0, strict=True, optional=True)
-        self.team = QuantityField("team size", "integer", minimum=1, optional=True)
-        self.per_person = self.force_field("pull per person", minimum=0, strict=True, optional=True)
-        self.total = self.force_field("total pull", minimum=0, strict=True, optional=True)
+        self.capacity = self.force_field("capacity", minimum=0, strict=True, optional=True, limit=("point", "capacity_N"))
+        self.required = self.force_field("force needed", minimum=0, strict=True, optional=True,
+                                         limit=("point", "required_N"))
+        self.team = QuantityField("team size", "integer", minimum=1, optional=True, limit=("point", "team"))
+        self.per_person = self.force_field("pull per person", minimum=0, strict=True, optional=True,
+                                           limit=("point", "force_per_person_N"))
+        self.total = self.force_field("total pull", minimum=0, strict=True, optional=True, limit=("point", "force_N"))
         self.haul_hint = plain_label()
         self.haul_hint.setWordWrap(True)
-        self.mass = QuantityField("mass", "number", minimum=0, strict=True, optional=True, suffixes=("kg",))
+        self.mass = QuantityField("mass", "number", minimum=0, strict=True, optional=True, suffixes=("kg",),
+                                  limit=("point", "mass_kg"))
         self.rows: dict[str, QWidget] = {}
         for key, text, w in (
             ("label", "Label", self.label),
@@ -334,13 +337,13 @@ class RopePage(_Page):
         self.rope_id: str | None = None
         self.header = _heading("Rope")
         self.form.addRow(self.header)
-        self.label = self.text_field("label")
+        self.label = self.text_field("label", limit=("rope", "label"))
         self.material = _narrow(QComboBox())
         self.material_info = plain_label()
         self.material_info.setWordWrap(True)
         self.setup = _combo([("Hand-tight as drawn, plus slack", "slack"), ("Pretensioned", "pretension")])
-        self.slack = self.length_field("slack", minimum=0)
-        self.pretension = self.force_field("pretension", minimum=0, strict=True)
+        self.slack = self.length_field("slack", minimum=0, limit=("rigged", "slack_m"))
+        self.pretension = self.force_field("pretension", minimum=0, strict=True, limit=("rigged", "pretension_N"))
         self.form.addRow("Label", self.label)
         self.form.addRow("Material", self.material)
         self.form.addRow("", self.material_info)
@@ -507,10 +510,11 @@ class ForcePage(_Page):
         self.index: int | None = None
         self.header = _heading("Force")
         self.form.addRow(self.header)
-        self.label = self.text_field("label")
+        self.label = self.text_field("label", limit=("force", "label"))
         self.at = plain_label()
-        self.magnitude = self.force_field("force", minimum=0, strict=True)
-        self.direction = QuantityField("direction", "number", suffixes=("°", "deg", "degrees"))
+        self.magnitude = self.force_field("force", minimum=0, strict=True, limit=("force", "magnitude_N"))
+        self.direction = QuantityField("direction", "number", suffixes=("°", "deg", "degrees"),
+                                       limit=("force", "direction_deg"))
         self.form.addRow("Label", self.label)
         self.form.addRow("Acts on", self.at)
         self.form.addRow("Size", self.magnitude)
@@ -548,7 +552,7 @@ class FeaturePage(_Page):
         self.feature_id: str | None = None
         self.header = _heading("Site feature")
         self.form.addRow(self.header)
-        self.label = self.text_field("label")
+        self.label = self.text_field("label", limit=("feature", "label"))
         self.kind = _combo([(FEATURE_KIND_NAMES[k], k) for k in FEATURE_KINDS])
         self.form.addRow("Label", self.label)
         self.form.addRow("Kind", self.kind)
@@ -585,24 +589,31 @@ class RigPage(_Page):
         super().__init__(panel)
         self.form.addRow(_heading("Rig"))
         self._shown: tuple | None = None  # what refresh last showed (shown_key)
-        self.title = self.text_field("title")
+        self.title = self.text_field("title", limit=("rig", "title"))
         self.notes = CommitTextEdit()
         self.notes.setPlaceholderText("Site, team, conditions, what to check…")
         self.notes.setMaximumHeight(90)
         self.view = _combo([(VIEW_NAMES[v], v) for v in ("plan", "elevation")])
         self.motion = _combo([(MOTION_NAMES[m], m) for m in MOTIONS])
-        self.min_sf = QuantityField("minimum safety factor", "number", minimum=1, suffixes=(":1",))
+        self.min_sf = QuantityField("minimum safety factor", "number", minimum=1, suffixes=(":1",),
+                                    limit=("settings", "min_safety_factor"))
         self.length_unit_box = _combo([(u, u) for u in LENGTH_UNITS])
         self.force_unit_box = _combo([(u, u) for u in FORCE_UNITS])
         self.form.addRow("Title", self.title)
         self.form.addRow("Notes", self.notes)
+        self.notes_error = plain_label()
+        self.notes_error.setObjectName("error:notes")
+        self.notes_error.setStyleSheet(ERROR_STYLE)
+        self.notes_error.setWordWrap(True)
+        self.notes_error.hide()
+        self.form.addRow("", self.notes_error)
         self.form.addRow("View", self.view)
         self.form.addRow("Rope is", self.motion)
         self.form.addRow("Min. safety factor", self.min_sf)
         self.form.addRow("Lengths in", self.length_unit_box)
         self.form.addRow("Forces in", self.force_unit_box)
         self.title.committed.connect(lambda v: self._set_top(title=v or ""))
-        self.notes.commit.connect(lambda: self._set_top(notes=self.notes.toPlainText()))
+        self.notes.commit.connect(self._commit_notes)
         self.view.currentIndexChanged.connect(lambda _i: self._set_top(view=self.view.currentData()))
         self.motion.currentIndexChanged.connect(lambda _i: self._set_settings(motion=self.motion.currentData()))
         self.min_sf.committed.connect(lambda v: self._set_settings(min_safety_factor=float(v)))
@@ -620,6 +631,15 @@ class RigPage(_Page):
         lay.setContentsMargins(4, 4, 4, 4)
         lay.addWidget(widget)
         self.form.addRow(box)
+
+    def _commit_notes(self) -> None:
+        """Notes as typed, or an inline message (nothing changed) when they are longer than a rig file holds."""
+        text = self.notes.toPlainText()
+        problem = limits.text_problem("rig", "notes", text)
+        self.notes_error.setText(f"Notes {problem}: shorten them to save." if problem else "")
+        self.notes_error.setVisible(bool(problem))
+        if not problem:
+            self._set_top(notes=text)
 
     def _set_top(self, **kw) -> None:
         rig = self.rig
