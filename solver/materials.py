@@ -166,6 +166,12 @@ def _percent(strain: float) -> str:
     return f"{100.0 * strain:.3g} %"
 
 
+#: Bounds of a stretch table's slope (tension per unit strain, N): far beyond the stiffest steel rope
+#: (about 1e9 N) and the softest cord; a table outside them is a typing slip (ours, not from a standard).
+MIN_STIFFNESS_N = 1.0
+MAX_STIFFNESS_N = 1e15
+
+
 def material_problem(m: Material) -> tuple[str, str] | None:
     """The first thing wrong with a material as ``(field, message)``, or None if it is sound.
 
@@ -202,6 +208,14 @@ def material_problem(m: Material) -> tuple[str, str] | None:
             return field, (
                 f"{name}: the stretch table must rise in both tension and strain, but point {i + 1} "
                 f"({t:g} N, {_percent(e)}) does not come after point {i} ({prev_t:g} N, {_percent(prev_e)})"
+            )
+        slope = (t - prev_t) / (e - prev_e)
+        if not MIN_STIFFNESS_N <= slope <= MAX_STIFFNESS_N:
+            which = "stiffer" if not slope < MAX_STIFFNESS_N else "softer"
+            return field, (
+                f"{name}: up to point {i + 1} ({t:g} N, {_percent(e)}) the stretch table rises {slope:.3g} N per "
+                f"unit of strain, {which} than any rope, sling or cord can be (between {MIN_STIFFNESS_N:g} N and "
+                f"{MAX_STIFFNESS_N:g} N); strain is a fraction (0.05 = 5 %): check both columns"
             )
         prev_t, prev_e = t, e
     return None
