@@ -46,11 +46,11 @@ from sketchpad import theme
 from sketchpad.drag_layer import Tracked
 from sketchpad.fields import QuantityField, decimal_mark
 from sketchpad.geometry import to_scene, to_site
+from sketchpad.picture_file import PictureFileError, read_picture_bytes
+from sketchpad.plain_text import plain_label
 from solver import limits, units
 from solver.errors import UnitError
 from solver.model import Rig, SiteImage
-from sketchpad.picture_file import PictureFileError, read_picture_bytes
-from sketchpad.plain_text import plain_label
 
 log = logging.getLogger(__name__)
 

@@ -186,8 +186,15 @@ class Drawing:
         return rect
 
     def fit_into(self, width: float, height: float) -> Fit:
-        """Choose scale and source rect so the rig, its labels and arrows fill ``width`` x ``height`` px."""
+        """Choose scale and source rect so the rig, its labels and arrows fill ``width`` x ``height`` px.
+
+        Asked again for the size it last fitted, it keeps that fit (placing a large rig's labels is the
+        slow part of a page: a report measures its pages with the same fit it then draws).
+        """
         width, height = max(width, 40.0), max(height, 40.0)
+        last = getattr(self, "fit", None)
+        if last is not None and last.size == (width, height):
+            return last
         core = self._core_bounds()
         want = core
         k = 1.0

@@ -22,9 +22,9 @@ from PySide6.QtCore import QLocale, QSignalBlocker, Qt, QTimer, Signal
 from PySide6.QtGui import QFocusEvent, QKeyEvent
 from PySide6.QtWidgets import QLabel, QLineEdit, QPlainTextEdit, QSizePolicy, QVBoxLayout, QWidget
 
+from sketchpad.plain_text import plain_label
 from solver import limits, units
 from solver.errors import UnitError
-from sketchpad.plain_text import plain_label
 
 ERROR_STYLE = "color: #c62828;"  # red that reads on light and dark panel backgrounds
 

@@ -34,11 +34,11 @@ from PySide6.QtCore import QEvent, QObject, QSettings, QStandardPaths, QTimer, S
 from PySide6.QtGui import QAction, QGuiApplication, QKeySequence
 from PySide6.QtWidgets import QFileDialog, QMenu, QMessageBox, QWidget
 
-from solver.errors import RopewrightError
-from solver.model import Rig
 from sketchpad.picture_file import PictureFileError, read_picture_bytes
 from sketchpad.plain_text import message_box, tip
 from sketchpad.run_lock import RunLock, available as locks_available, is_held
+from solver.errors import RopewrightError
+from solver.model import Rig
 
 log = logging.getLogger(__name__)
 

@@ -35,8 +35,9 @@ from PySide6.QtWidgets import QGraphicsItem, QGraphicsSimpleTextItem, QStyleOpti
 from sketchpad import theme
 from sketchpad.drag_layer import Tracked, Versioned
 from sketchpad.geometry import to_scene
-from solver.model import Feature, Force, Point, Rope
 from sketchpad.plain_text import tip as plain_tip
+from sketchpad.short_text import drawn
+from solver.model import Feature, Force, Point, Rope
 
 log = logging.getLogger(__name__)
 
@@ -169,6 +170,25 @@ def text_path(text: str, font) -> QPainterPath:
     return path
 
 
+def _paint_halo_outline(painter: QPainter, path: QPainterPath, text: str, font, colour: QColor) -> None:
+    """The halo as the text drawn in paper colour around itself (8 offsets of half the halo width), then the text.
+
+    A vector page stroking each label's glyph outline with a wide pen costs its writer far more
+    than the labels' number (the stroke is clipped as a path: 900 labels of 48 characters took
+    8 s in a PDF); text stays text, linear and small, and is selectable in the PDF.
+    """
+    painter.setFont(font)
+    painter.setPen(theme.LABEL_HALO)
+    for dx, dy in _HALO_OFFSETS:
+        painter.drawText(QPointF(dx, dy), text)
+    painter.setPen(colour)
+    painter.drawText(QPointF(0.0, 0.0), text)
+
+
+_HALO_OFFSETS = tuple((0.5 * HALO_WIDTH_PX * math.cos(k * math.pi / 4), 0.5 * HALO_WIDTH_PX * math.sin(k * math.pi / 4))
+                      for k in range(8))
+
+
 def _paint_halo_path(painter: QPainter, path: QPainterPath, colour: QColor) -> None:
     painter.setPen(_HALO_PEN)
     painter.setBrush(Qt.NoBrush)
@@ -259,12 +279,12 @@ def _draw_halo_text(painter: QPainter, pos: QPointF, text: str, colour: QColor, 
     path = text_path(text, font)
     if dpr == _NO_DPR:
         dpr = pixel_dpr(painter, scale)
-    if dpr is None:
+    if dpr is None:  # vectors (PDF, SVG, scaled renders): the halo stroked, the text as text
         painter.save()
         painter.translate(pos)
         if scale != 1.0:
             painter.scale(scale, scale)
-        _paint_halo_path(painter, path, colour)
+        _paint_halo_outline(painter, path, text, font, colour)
         painter.restore()
         return
     m = HALO_WIDTH_PX
@@ -316,7 +336,7 @@ class PointItem(SketchItem):
         """Show ``point``: move to its position and relabel if needed (a move alone repaints nothing else)."""
         old = self.point
         self.point = point
-        label = point.name
+        label = drawn(point.name)
         if label != self._label:
             self.prepareGeometryChange()
             self._label = label
@@ -576,7 +596,7 @@ class RopeItem(SketchItem):
                 g = h * 0.2
                 self._arrow = QPolygonF([QPointF(tx + dx * g, ty + dy * g), QPointF(bx + sx, by + sy), QPointF(bx - sx, by - sy)])
         self._path = path
-        self._label = self.rope.name
+        self._label = drawn(self.rope.name)
         _, a, b2 = longest
         mx, my = (a[0] + b2[0]) * 0.5, (a[1] + b2[1]) * 0.5
         ux, uy = _unit_xy(b2[0] - a[0], b2[1] - a[1])
@@ -772,7 +792,7 @@ class FeatureItem(SketchItem):
                 for c in coords[1:]:
                     path.lineTo(c)
         self._path = path
-        self._label.setText(feature.label)
+        self._label.setText(drawn(feature.label))
         self._label.setBrush(theme.FEATURE_LABEL.get(feature.kind, theme.LABEL_TEXT))
         self._label.setFont(theme.font(theme.SMALL_POINT_SIZE, italic=True))
         if coords:

@@ -42,6 +42,7 @@ from PySide6.QtWidgets import (
 )
 
 from sketchpad.fields import ERROR_STYLE, QuantityField, decimal_mark
+from sketchpad.plain_text import plain_label, tip
 from solver import units
 from solver.errors import RigFileError, RopewrightError, UnitError
 from solver.materials import (
@@ -53,7 +54,6 @@ from solver.materials import (
     material_problem,
 )
 from solver.model import HARDWARE_KINDS, MATERIAL_KINDS, Hardware, Material, Rig
-from sketchpad.plain_text import plain_label, tip
 
 log = logging.getLogger(__name__)
 

@@ -32,13 +32,13 @@ from PySide6.QtWidgets import (
 
 from sketchpad import theme
 from sketchpad.fields import ERROR_STYLE, QuantityField, decimal_mark
+from sketchpad.plain_text import plain_label
 from solver import units
 from solver.errors import RopewrightError, UnitError
 from solver.hauling import DEFAULT_PER_PERSON_N, haul_plan
 from solver.loads import DRAG_SHAPES, EXTRA_KEY, LoadEstimate, apply_load_estimate
 from solver.model import Rig
 from solver.result import Result
-from sketchpad.plain_text import plain_label
 
 log = logging.getLogger(__name__)
 

@@ -56,6 +56,7 @@ from sketchpad import theme
 from sketchpad.drag_layer import Versioned
 from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr, text_advance
 from sketchpad.retained import RetainedLayer, add_damage
+from sketchpad.short_text import drawn
 from solver.model import Rig
 from solver.result import Result
 from solver.units import format_force
@@ -509,7 +510,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             rad = math.radians(a.direction_deg)
             d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
             colour = theme.utilization_colour(a.utilization)
-            lines = [f"{p.name} {format_force(a.force_N, unit)}"]
+            lines = [f"{drawn(p.name)} {format_force(a.force_N, unit)}"]
             if a.utilization is not None:
                 lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
             else:
@@ -544,7 +545,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
                 return (lid,), mkey, hit[0], None
             rad = math.radians(f.direction_deg)
             d = (math.cos(rad), -math.sin(rad))
-            lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
+            lines = [f"to {drawn(p.name)} {format_force(f.force_N, unit)}"]
             values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
             colour = QColor(theme.UTIL_RAMP[0][1])
             if p.required_N is not None:
@@ -2258,7 +2259,7 @@ def summary_lines(rig: Rig, result: Result) -> list[str]:
         ideal = f" / {result.ma_ideal:.2f} ideal" if result.ma_ideal is not None else " / ideal when still"
         out.append(f"MA {result.ma_actual:.2f} actual{ideal}")
     for hid, force in result.haul.items():
-        name = points[hid].name if hid in points else hid
+        name = drawn(points[hid].name if hid in points else hid)
         hold = result.hold_haul_range.get(hid)
         text = f"{name}: {format_force(force, unit)}"
         if hold is not None:
@@ -2268,7 +2269,7 @@ def summary_lines(rig: Rig, result: Result) -> list[str]:
         p = points.get(lid)
         if p is None:
             continue
-        text = f"to {p.name}: {format_force(f.force_N, unit)}"
+        text = f"to {drawn(p.name)}: {format_force(f.force_N, unit)}"
         if p.required_N is not None:
             text += f" of {format_force(p.required_N, unit)} needed"
         out.append(text)
@@ -2493,7 +2494,7 @@ class ResultOverlay(QObject):
         if box is None:
             fm = self._name_fm
             r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
-            box = self._name_box_cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name),
+            box = self._name_box_cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(drawn(p.name)),
                                                fm.height())
         return (_scene(p.xy), box)
 

@@ -32,6 +32,7 @@ from PySide6.QtWidgets import (
 )
 
 from sketchpad.fields import ERROR_STYLE, CommitTextEdit, QuantityField
+from sketchpad.plain_text import bold, escaped, plain_label, rich_label
 from solver import limits, units
 from solver.model import (
     ANCHOR_TYPES,
@@ -48,7 +49,6 @@ from solver.model import (
     Rigging,
     Settings,
 )
-from sketchpad.plain_text import bold, escaped, plain_label, rich_label
 
 log = logging.getLogger(__name__)
 

@@ -636,7 +636,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
         _compose(counter, rig, result, drawing, when, source, plot_for(sizes[1]), sizes)
         total = counter.finish()
-        if total <= 2:
+        if total <= 2 or total >= 4:  # the smaller layouts save well under a page: 4 pages stay 3 or more
             break
 
     def footer(p: QPainter, n: int) -> None:

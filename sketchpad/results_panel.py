@@ -31,10 +31,10 @@ from PySide6.QtWidgets import (
 )
 
 from sketchpad import theme
+from sketchpad.plain_text import plain_label, tip
 from solver.model import Rig
 from solver.result import Result
 from solver.units import force_to, format_force
-from sketchpad.plain_text import plain_label, tip
 
 log = logging.getLogger(__name__)
 

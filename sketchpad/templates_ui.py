@@ -38,11 +38,11 @@ from PySide6.QtWidgets import (
 from sketchpad import theme
 from sketchpad.fields import ERROR_STYLE
 from sketchpad.geometry import to_scene
+from sketchpad.plain_text import bold, escaped, plain_label, rich_label
 from sketchpad.tools import Tool
 from solver.errors import RopewrightError
 from solver.model import Point, Rig
 from solver.templates import TEMPLATES, Template, new_ids, place_template
-from sketchpad.plain_text import bold, escaped, plain_label, rich_label
 
 log = logging.getLogger(__name__)
 
