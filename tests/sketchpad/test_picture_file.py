@@ -42,18 +42,27 @@ def test_render_of_a_rig_whose_picture_is_a_fifo_finishes_and_says_why(tmp_path)
     assert "not a regular file" in run.stderr
 
 
-@pytest.mark.parametrize("make", ["fifo", "folder", "device"])
+@pytest.mark.parametrize("make", ["fifo", "folder", "device", "null", "link-to-fifo", "socket"])
 def test_only_regular_files_are_read_as_pictures(tmp_path, make):
     target = tmp_path / "plan.png"
-    if make == "fifo":
-        os.mkfifo(target)
+    if make in ("fifo", "link-to-fifo"):
+        os.mkfifo(tmp_path / "pipe")
+        if make == "fifo":
+            target = tmp_path / "pipe"
+        else:
+            target.symlink_to(tmp_path / "pipe")
     elif make == "folder":
         target.mkdir()
+    elif make == "socket":
+        import socket
+
+        sock = socket.socket(socket.AF_UNIX)
+        sock.bind(str(target))
     else:
-        target = "/dev/zero"
+        target = "/dev/zero" if make == "device" else "/dev/null"
     with pytest.raises(picture_file.PictureFileError) as info:
         picture_file.read_picture_bytes(target)
-    assert "not a regular file" in info.value.message
+    assert "not a regular file" in info.value.message or "cannot be read" in info.value.message
     assert read_qimage(SiteImage(file=os.path.basename(target)), pathlib_parent(target)) is None
 
 

@@ -138,3 +138,21 @@ def test_numbers_are_read_by_the_locales_decimal_mark(text, decimal, expected_N)
 def test_what_the_two_habits_read_differently_is_refused_in_words(text, decimal, words):
     with pytest.raises(UnitError, match=words):
         units.parse_force(text, "kN", decimal=decimal)
+
+
+_TYPED = st.text(alphabet="0123456789.,,..e- ", min_size=1, max_size=12)
+
+
+@settings(max_examples=300, deadline=None)
+@given(_TYPED)
+def test_no_typed_number_means_different_things_in_the_two_locales(text):
+    """Fuzz: anything typed is refused in words or read, and a text both a decimal-point and a decimal-comma
+    reader accept is the same number to both (no silent factor of a thousand)."""
+    read = {}
+    for mark in (".", ","):
+        try:
+            read[mark] = units.parse_force(text, "kN", decimal=mark)
+        except UnitError as exc:
+            assert exc.message
+    if len(read) == 2:
+        assert read["."] == read[","], (text, read)
