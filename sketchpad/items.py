@@ -105,15 +105,13 @@ def _arc_xy(cx: float, cy: float, r: float, a: tuple, b: tuple, inside: tuple, s
 
 
 # --- cached text and glyph rendering ----------------------------------------------------------
-# Stroking a text outline costs ~0.1 ms per label, and a 50-rope rig has 150 labels on screen, so
-# labels and point markers are rendered once into small pixmaps (keyed by what they show and by the
-# quarter-pixel phase they land on) and blitted on every repaint.  Only screen-like raster painting
-# at pixel scale uses the pixmaps; SVG/PDF exports and scaled renders draw the same shapes as vectors.
+# A haloed label is nine text draws, and a 50-rope rig has 150 labels on screen, so labels and point
+# markers are rendered once into small pixmaps (keyed by what they show and by the quarter-pixel phase
+# they land on) and blitted on every repaint.  Only screen-like raster painting at pixel scale uses the
+# pixmaps; SVG/PDF exports and scaled renders draw the same text as vectors.
 HALO_WIDTH_PX = 3.0
 PHASES = 4  # sub-pixel positions per pixel a cached pixmap is rendered for (keeps markers centred)
 CACHE_MAX = 4000  # cached paths/pixmaps kept before the caches are cleared
-_HALO_PEN = QPen(theme.LABEL_HALO, HALO_WIDTH_PX, Qt.SolidLine, Qt.RoundCap, Qt.RoundJoin)
-_text_paths: dict[tuple, QPainterPath] = {}
 _pixmaps: dict[tuple, tuple[QPixmap, float, float]] = {}
 _metrics: dict[str, QFontMetricsF] = {}
 _font_keys: dict[int, tuple[object, str]] = {}
@@ -158,24 +156,12 @@ def text_advance(text: str, font) -> float:
     return w
 
 
-def text_path(text: str, font) -> QPainterPath:
-    """The outline of ``text`` in ``font`` with its baseline origin at (0, 0), built once per (text, font)."""
-    key = (text, font_key(font))
-    path = _text_paths.get(key)
-    if path is None:
-        if len(_text_paths) > CACHE_MAX:
-            _text_paths.clear()
-        path = _text_paths[key] = QPainterPath()
-        path.addText(QPointF(0.0, 0.0), font, text)
-    return path
-
-
-def _paint_halo_outline(painter: QPainter, path: QPainterPath, text: str, font, colour: QColor) -> None:
+def _paint_halo_text(painter: QPainter, text: str, font, colour: QColor) -> None:
     """The halo as the text drawn in paper colour around itself (8 offsets of half the halo width), then the text.
 
-    A vector page stroking each label's glyph outline with a wide pen costs its writer far more
-    than the labels' number (the stroke is clipped as a path: 900 labels of 48 characters took
-    8 s in a PDF); text stays text, linear and small, and is selectable in the PDF.
+    Stroking each label's glyph outline with a wide pen cost far more than the labels' number: a PDF
+    clips the stroke as a path (900 labels of 48 characters took 8 s) and a screen pixmap of a long
+    label took 3 ms; text stays text (linear, small, selectable in a PDF).
     """
     painter.setFont(font)
     painter.setPen(theme.LABEL_HALO)
@@ -187,15 +173,6 @@ def _paint_halo_outline(painter: QPainter, path: QPainterPath, text: str, font, 
 
 _HALO_OFFSETS = tuple((0.5 * HALO_WIDTH_PX * math.cos(k * math.pi / 4), 0.5 * HALO_WIDTH_PX * math.sin(k * math.pi / 4))
                       for k in range(8))
-
-
-def _paint_halo_path(painter: QPainter, path: QPainterPath, colour: QColor) -> None:
-    painter.setPen(_HALO_PEN)
-    painter.setBrush(Qt.NoBrush)
-    painter.drawPath(path)
-    painter.setPen(Qt.NoPen)
-    painter.setBrush(colour)
-    painter.drawPath(path)
 
 
 def pixel_dpr(painter: QPainter, scale: float = 1.0) -> float | None:
@@ -276,20 +253,20 @@ def _draw_halo_text(painter: QPainter, pos: QPointF, text: str, colour: QColor, 
     items in metres that scale the painter to pixels themselves); ``dpr`` is :func:`pixel_dpr`'s
     answer when the caller already has it.
     """
-    path = text_path(text, font)
     if dpr == _NO_DPR:
         dpr = pixel_dpr(painter, scale)
-    if dpr is None:  # vectors (PDF, SVG, scaled renders): the halo stroked, the text as text
+    if dpr is None:  # vectors (PDF, SVG, scaled renders): drawn as text each time
         painter.save()
         painter.translate(pos)
         if scale != 1.0:
             painter.scale(scale, scale)
-        _paint_halo_outline(painter, path, text, font, colour)
+        _paint_halo_text(painter, text, font, colour)
         painter.restore()
         return
     m = HALO_WIDTH_PX
     blit_cached(painter, pos, dpr, ("halo", text, font_key(font), colour.rgba()),
-                path.boundingRect().adjusted(-m, -m, m, m), lambda p: _paint_halo_path(p, path, colour))
+                font_metrics(font).boundingRect(text).adjusted(-m, -m, m, m),
+                lambda p: _paint_halo_text(p, text, font, colour))
 
 
 def _drawn_differs(a: Point, b: Point) -> bool:
