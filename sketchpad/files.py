@@ -434,7 +434,7 @@ class FileController(QObject):
 
         try:
             rig = rigfile.load_rig(path)
-            rigfile.clean_stale_temps(rigfile._write_target(path).parent)
+            rigfile.clean_stale_temps(rigfile.write_target(path).parent)
             return rig
         except (RopewrightError, OSError, UnicodeError, ValueError) as exc:
             log.info("refused to open %s: %s", path, exc)

@@ -18,6 +18,8 @@ from solver.model import Material, Rig
 STIFF_N = 1e11
 #: ... or whose steepest piece is this many times its softest, is named when a solve fails.
 SPREAD = 1e6
+#: ... as is one whose softest piece stretches a rope by its whole length under less than this (N).
+SOFT_N = 1.0
 
 
 def _slopes(m: Material) -> tuple[float, float]:
@@ -39,7 +41,7 @@ def extreme_material(rig: Rig) -> tuple[Material, float, float] | None:
         except RopewrightError:
             continue
         lo, hi = _slopes(mat)
-        if hi > STIFF_N or hi > SPREAD * lo:
+        if hi > STIFF_N or hi > SPREAD * lo or lo < SOFT_N:
             return mat, lo, hi
     return None
 

@@ -168,8 +168,8 @@ def _percent(strain: float) -> str:
 
 #: Bounds of a stretch table's slope (tension per unit strain, N): far beyond the stiffest steel rope
 #: (about 1e9 N) and the softest cord; a table outside them is a typing slip (ours, not from a standard).
-MIN_STIFFNESS_N = 1.0
-MAX_STIFFNESS_N = 1e15
+MIN_STIFFNESS_N = 1e-3
+MAX_STIFFNESS_N = 1e18
 
 
 def material_problem(m: Material) -> tuple[str, str] | None:

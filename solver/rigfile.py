@@ -243,7 +243,7 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
     A symbolic link is written through: its target is replaced, the link stays.
     Temp files an interrupted save left in that folder are removed first.
     """
-    p = _write_target(pathlib.Path(path))
+    p = write_target(pathlib.Path(path))
     data = _file_bytes(rig)
     if len(data) > MAX_FILE_BYTES:
         raise _too_big(len(data), saving=True)
@@ -283,7 +283,7 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
                 log.warning("could not remove the temporary file %s", tmp_name)
 
 
-def _write_target(p: pathlib.Path) -> pathlib.Path:
+def write_target(p: pathlib.Path) -> pathlib.Path:
     """The file a save to ``p`` replaces: the final target when ``p`` is a symbolic link (a chain too)."""
     if not p.is_symlink():
         return p
@@ -1089,5 +1089,5 @@ def _fsync_folder(folder: pathlib.Path) -> None:
 
 __all__ = [
     "FORMAT", "VERSION", "MAX_FILE_BYTES", "load_rig", "loads_rig", "rig_from_dict", "rig_to_dict",
-    "dumps_rig", "save_rig", "clean_stale_temps", "migrate", "embed_specs", "check_rig", "schema", "RigFileError",
+    "dumps_rig", "save_rig", "write_target", "clean_stale_temps", "migrate", "embed_specs", "check_rig", "schema", "RigFileError",
 ]

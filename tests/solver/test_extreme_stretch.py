@@ -3,7 +3,7 @@
 A table rising 1e12 N over a strain of 1e-300 has an infinite slope: numpy printed "overflow
 encountered in divide" (with source lines) thousands of times and the solve blamed "a part of
 the rig that nothing holds".  Such a table is refused when the file is read, naming the
-material; a valid but extreme one (1e15 N per unit strain) fails its solve naming the material.
+material; a valid but extreme one (1e15 N per unit strain; the format allows 1e-3 to 1e18) fails its solve naming the material.
 """
 
 from __future__ import annotations
@@ -39,7 +39,7 @@ def test_an_infinitely_steep_table_is_refused_on_reading_naming_the_material(cap
 
 
 def test_a_valid_but_extreme_table_fails_its_solve_naming_the_material_without_warnings(capfd):
-    rig = loads_rig(_raft_with([[1e12, 1e-3]]))  # 1e15 N per unit strain: the format's stiffest
+    rig = loads_rig(_raft_with([[1e12, 1e-3]]))  # 1e15 N per unit strain: valid, far stiffer than steel
     with warnings.catch_warnings():
         warnings.simplefilter("error")
         result = analyse(rig)
