@@ -106,13 +106,18 @@ def format_length(metres: float, unit: str = "m", digits: int | None = None) -> 
     return f"{v:.{d}f} {unit}"
 
 
+#: Thousands are grouped with a narrow no-break space, never a comma or a point, which readers of the
+#: two decimal habits take a thousand times apart (SI Brochure, 9th ed., BIPM 2019, 5.4.4).
+GROUP_SPACE = "\u202f"
+
+
 def format_force(newtons: float, unit: str = "kN", digits: int | None = None) -> str:
-    """A force for people, e.g. ``"2.71 kN"``, ``"610 lbf"``, ``"850 N"``."""
+    """A force for people, e.g. ``"2.71 kN"``, ``"610 lbf"``, ``"12 500 N"`` (thousands spaced)."""
     v = force_to(newtons, unit)
     if not math.isfinite(v):
         return "—"
     d = _digits(v, unit, "force") if digits is None else digits
-    text = f"{v:,.{d}f}" if unit != "kN" else f"{v:.{d}f}"
+    text = f"{v:,.{d}f}".replace(",", GROUP_SPACE) if unit != "kN" else f"{v:.{d}f}"
     return f"{text} {unit}"
 
 

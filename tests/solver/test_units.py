@@ -80,7 +80,7 @@ def test_length_field_refuses_a_force():
 
 def test_formatting_shows_unit_and_sensible_digits():
     assert units.format_force(2710.0, "kN") == "2.71 kN"
-    assert units.format_force(2710.0, "lbf") == f"{2710.0 / 4.4482216152605:,.0f} lbf"
+    assert units.format_force(2710.0, "lbf") == f"{2710.0 / 4.4482216152605:,.0f} lbf".replace(",", "\u202f")
     assert units.format_length(12.345, "m") == "12.3 m"
     assert units.format_length(3.048, "ft") == "10.0 ft"
     assert units.format_force(math.nan, "kN") == "—"
@@ -156,3 +156,12 @@ def test_no_typed_number_means_different_things_in_the_two_locales(text):
             assert exc.message
     if len(read) == 2:
         assert read["."] == read[","], (text, read)
+
+
+def test_shown_thousands_are_spaced_and_read_back_the_same_in_both_locales():
+    """A shown force is never "1,250 lbf" (1.25 to a decimal-comma reader): thousands are grouped with a
+    narrow space (SI Brochure, 9th ed., BIPM 2019, 5.4.4), and typed back it reads the same in both habits."""
+    shown = units.format_force(12_500.0, "N")
+    assert shown == "12\u202f500 N"
+    for mark in (".", ","):
+        assert units.parse_force(shown, "kN", decimal=mark) == 12_500.0
