@@ -33,7 +33,7 @@ from PySide6.QtWidgets import (
 from sketchpad import theme
 from sketchpad.fields import ERROR_STYLE, QuantityField, decimal_mark
 from sketchpad.plain_text import plain_label
-from solver import units
+from solver import limits, units
 from solver.errors import RopewrightError, UnitError
 from solver.hauling import DEFAULT_PER_PERSON_N, haul_plan
 from solver.loads import DRAG_SHAPES, EXTRA_KEY, LoadEstimate, apply_load_estimate
@@ -324,6 +324,11 @@ class LoadEstimateDialog(QDialog):
         est = self.estimate()
         if bad or est is None:
             self.error.setText("Fix the field marked in red first; nothing was changed.")
+            return False
+        problem = limits.number_range("point", "required_N").problem(est.force_N)
+        if problem:  # the rig file could not hold it: say so instead of making the rig unsaveable
+            self.error.setText(f"The estimated force {units.format_force(est.force_N, self.force_unit)} {problem} "
+                               "newtons a rig file holds; check the speed and the area. Nothing was changed.")
             return False
         try:
             new = apply_load_estimate(self.document.rig, pid, est)

@@ -168,6 +168,8 @@ def _percent(strain: float) -> str:
 
 #: Bounds of a stretch table's slope (tension per unit strain, N): far beyond the stiffest steel rope
 #: (about 1e9 N) and the softest cord; a table outside them is a typing slip (ours, not from a standard).
+#: Largest tension in a stretch table, N: the rig format's limit on every force (schema, solver.limits).
+MAX_TENSION_N = 1e12
 MIN_STIFFNESS_N = 1e-3
 MAX_STIFFNESS_N = 1e18
 
@@ -194,6 +196,9 @@ def material_problem(m: Material) -> tuple[str, str] | None:
         if len(point) != 2 or not all(_is_number(v) and math.isfinite(v) for v in point):
             return field, f"{name}: each stretch point must be [tension_N, strain], not {point!r}"
         t, e = float(point[0]), float(point[1])
+        if t > MAX_TENSION_N:
+            return field, (f"{name}: tension {t:g} N is beyond the {MAX_TENSION_N:g} N a rig file holds; "
+                           "is the unit right?")
         if e >= 1.0:
             return field, (
                 f"{name}: strain {e:g} at {t:g} N means the rope more than doubles in length; "

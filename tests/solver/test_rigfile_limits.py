@@ -137,3 +137,15 @@ def test_every_sample_is_well_inside_the_limits_and_saves(tmp_path):
         rig = rigfile.load_rig(path)
         save_rig(rig, tmp_path / path.name)
         assert len(dumps_rig(rig)) < rigfile.MAX_FILE_BYTES
+
+
+def test_a_spec_the_library_editor_accepts_is_one_the_file_holds():
+    """materials.material_problem (the spec editor's check) keeps the schema's stretch-table limits."""
+    from solver import materials
+    from solver.model import Material
+
+    top = limits.schema()["$defs"]["stretch_point"]["prefixItems"][0]["maximum"]
+    assert materials.MAX_TENSION_N == top
+    too_strong = Material("m", "rope", 1e9, ((top * 2, 0.5),))
+    field, message = materials.material_problem(too_strong)
+    assert field == "stretch[0]" and "rig file holds" in message
