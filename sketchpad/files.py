@@ -26,6 +26,7 @@ import json
 import logging
 import os
 import pathlib
+import stat
 from dataclasses import replace
 from typing import Callable
 
@@ -433,6 +434,7 @@ class FileController(QObject):
         from solver import rigfile
 
         try:
+            _must_be_regular(path)  # reading a pipe or a device would hang the window
             rig = rigfile.load_rig(path)
             rigfile.clean_stale_temps(rigfile.write_target(path).parent)
             return rig
@@ -599,6 +601,7 @@ class FileController(QObject):
             from solver import rigfile
 
             try:
+                _must_be_regular(newest)
                 rig = rigfile.load_rig(newest)
             except (RopewrightError, OSError, UnicodeError, ValueError) as exc:
                 self.dialogs.error(self.window, "Cannot recover", "The kept copy could not be read.", describe_error(exc))
@@ -635,6 +638,22 @@ class FileController(QObject):
             self.remove_autosave()
             self.release_lock()
         return False
+
+
+def _must_be_regular(path: pathlib.Path) -> None:
+    """RigFileError in words unless ``path`` is a regular file (checked without opening it, so never blocking)."""
+    from solver.errors import RigFileError
+
+    try:
+        mode = os.stat(path).st_mode
+    except FileNotFoundError:
+        raise RigFileError("there is no such file", where=str(path)) from None
+    except OSError as exc:
+        raise RigFileError(f"the file cannot be read ({exc.strerror or exc})", where=str(path)) from None
+    if stat.S_ISDIR(mode):
+        raise RigFileError("this is a folder, not a rig file", where=str(path))
+    if not stat.S_ISREG(mode):
+        raise RigFileError("this is a pipe, device or socket, not a rig file", where=str(path))
 
 
 def _sentence(text: str) -> str:

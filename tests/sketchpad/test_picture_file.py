@@ -10,6 +10,7 @@ import json
 import os
 import subprocess
 import sys
+import threading
 
 import pytest
 from PySide6.QtGui import QColor, QImage
@@ -86,3 +87,31 @@ def test_a_regular_picture_still_reads(tmp_path):
     image.save(str(tmp_path / "plan.png"))
     q = read_qimage(SiteImage(file="plan.png"), tmp_path)
     assert q is not None and (q.width(), q.height()) == (6, 4)
+
+
+def test_opening_a_pipe_as_a_rig_is_refused_in_words_without_blocking(qtbot, tmp_path):
+    from PySide6.QtWidgets import QMainWindow
+
+    from sketchpad.document import Document
+    from sketchpad.files import FileController
+    from tests.sketchpad.test_files import FakeDialogs
+
+    os.mkfifo(tmp_path / "rig.rig.json")
+    window = QMainWindow()
+    qtbot.addWidget(window)
+    dialogs = FakeDialogs()
+    ctl = FileController(window, Document(parent=window), dialogs=dialogs, autosave_seconds=3600.0)
+    unblock = threading.Timer(10.0, _free_a_blocked_reader, (tmp_path / "rig.rig.json",))
+    unblock.start()  # should the read block after all, the test fails instead of hanging the suite
+    try:
+        assert not ctl.open(tmp_path / "rig.rig.json")
+    finally:
+        unblock.cancel()
+    assert dialogs.asked[0][0] == "error" and "pipe" in dialogs.asked[0][3]
+
+
+def _free_a_blocked_reader(fifo) -> None:
+    try:
+        os.close(os.open(fifo, os.O_WRONLY | os.O_NONBLOCK))  # a writer that goes at once: the reader sees EOF
+    except OSError:
+        pass  # no reader is waiting
