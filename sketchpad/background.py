@@ -35,7 +35,6 @@ from PySide6.QtWidgets import (
     QGraphicsSimpleTextItem,
     QHBoxLayout,
     QInputDialog,
-    QLabel,
     QMenu,
     QPushButton,
     QSlider,

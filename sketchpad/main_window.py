@@ -20,7 +20,6 @@ from PySide6.QtWidgets import (
     QDockWidget,
     QLabel,
     QMainWindow,
-    QMessageBox,
     QToolBar,
     QUndoView,
     QWidget,
@@ -110,6 +109,9 @@ class MainWindow(QMainWindow):
         from sketchpad.templates_ui import install_rigging_kit
 
         self.kit = install_rigging_kit(self)  # Insert ▸ System, load estimate, spec library (issue 6)
+        from sketchpad.whatif_panel import install_what_if
+
+        self.what_if = install_what_if(self)  # What if: the failure scan dock and its ghost (issue 19)
         self._on_rig_changed(self.document.rig)
         self.resize(*DEFAULT_SIZE)
 

@@ -57,7 +57,9 @@ from sketchpad.drag_layer import Versioned
 from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr, text_advance
 from sketchpad.retained import RetainedLayer, add_damage
 from sketchpad.short_text import drawn
+from solver.directions import direction_text
 from solver.model import Rig
+from solver.readouts import ma_short, use_text
 from solver.result import Result
 from solver.units import format_force
 
@@ -394,7 +396,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
     layers = set(layers)
     unit = rig.display.force
     sf = float(rig.settings.min_safety_factor)
-    context = (unit, sf, frozenset(layers))
+    context = (unit, sf, frozenset(layers), rig.view)
     state = memo.get("_state") if memo is not None and memo.get("_context") == context else None
     if state is None:
         state = _LabelState()
@@ -503,16 +505,16 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             hold = anchor_holds.get(aid)
             at = pos[aid]
             # the numbers the label and arrow show (hashing the frozen record itself is slower)
-            mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, p.name, hold, at)
+            mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, a.capacity_kind, p.name, hold, at, rig.view)
             hit = old.get(mkey)
             if hit is not None:
                 return (aid,), mkey, hit[0], hit[1]
             rad = math.radians(a.direction_deg)
             d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
             colour = theme.utilization_colour(a.utilization)
-            lines = [f"{drawn(p.name)} {format_force(a.force_N, unit)}"]
+            lines = [f"{drawn(p.name)} {format_force(a.force_N, unit)}", "toward " + direction_text(a.direction_deg, rig.view, a.force_N)]
             if a.utilization is not None:
-                lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
+                lines.append(use_text(a, sf))
             else:
                 lines.append("capacity not known")
             values = {"force_N": a.force_N, "direction_deg": a.direction_deg}
@@ -539,13 +541,13 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             p = points.get(lid)
             if lid not in pos or p is None:
                 return (lid,), None, None, None
-            mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid])
+            mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid], rig.view)
             hit = old.get(mkey)
             if hit is not None:
                 return (lid,), mkey, hit[0], None
             rad = math.radians(f.direction_deg)
             d = (math.cos(rad), -math.sin(rad))
-            lines = [f"to {drawn(p.name)} {format_force(f.force_N, unit)}"]
+            lines = [f"to {drawn(p.name)} {format_force(f.force_N, unit)}", "toward " + direction_text(f.direction_deg, rig.view, f.force_N)]
             values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
             colour = QColor(theme.UTIL_RAMP[0][1])
             if p.required_N is not None:
@@ -1276,7 +1278,7 @@ class ZoneItem(_LayerItem):
         self.update()
 
     def paint(self, painter: QPainter, option, widget=None) -> None:
-        for kind in ("recoil", "bight"):
+        for kind in theme.ZONE_COLOURS:  # recoil under bight / failure areas
             path = self.paths.get(kind)
             if path is None:
                 continue
@@ -2064,6 +2066,7 @@ class Legend(QWidget):
         self.lines: list[str] = []
         self.show_zones = True
         self.grey = False
+        self.zone_names = theme.DRAWN_ZONE_NAMES  # (kind, name) of each zone swatch in the key
         self.font = theme.font(theme.OVERLAY_POINT_SIZE)
         self.title_font = theme.font(theme.OVERLAY_POINT_SIZE, bold=True)
         self.fm = QFontMetricsF(self.font)
@@ -2114,7 +2117,7 @@ class Legend(QWidget):
         if not self.shown:
             return []
         g = self.geometry()
-        frame = (g.x(), g.y(), g.width(), g.height(), self.show_zones, self.grey, len(self.lines))
+        frame = (g.x(), g.y(), g.width(), g.height(), self.show_zones, self.zone_names, self.grey, len(self.lines))
         last = self._areas
         if last is not None and last[0] is self.lines and last[1] == frame:
             return last[2]  # set_content hands in a new list when the lines change
@@ -2142,7 +2145,7 @@ class Legend(QWidget):
             self._paint(painter)
             painter.restore()
             return
-        key = (tuple(self.lines), self.show_zones, self.grey, self.width(), self.height(), dpr)
+        key = (tuple(self.lines), self.show_zones, self.zone_names, self.grey, self.width(), self.height(), dpr)
         if self._pixmap is None or self._pixmap_key != key:
             self._pixmap, self._pixmap_key = self._assembled(dpr), key
         painter.drawPixmap(self.x(), self.y(), self._pixmap)
@@ -2151,7 +2154,7 @@ class Legend(QWidget):
         """The key as one pixmap: the cached frame with each line's cached pixmap laid over it."""
         pix = self._blank(self.width(), self.height(), dpr)
         p = QPainter(pix)
-        frame_key = (self.show_zones, self.grey, self.width(), self.height(), dpr)
+        frame_key = (self.show_zones, self.zone_names, self.grey, self.width(), self.height(), dpr)
         if self._frame_pix is None or self._frame_pix[0] != frame_key:
             frame = self._blank(self.width(), self.height(), dpr)
             fp = QPainter(frame)
@@ -2236,7 +2239,7 @@ class Legend(QWidget):
         y = ramp.bottom() + 3 + lh + 3
         if self.show_zones:
             x = pad
-            for kind, name in (("bight", "inside of bight"), ("recoil", "recoil band")):
+            for kind, name in self.zone_names:
                 fill, hatch = theme.zone_brushes(kind)
                 box = QRectF(x, y + 1, 14, lh - 3)
                 p.setPen(theme.pixel_pen(theme.ZONE_COLOURS[kind], 1.0))
@@ -2250,14 +2253,12 @@ class Legend(QWidget):
 
 
 def summary_lines(rig: Rig, result: Result) -> list[str]:
-    """The system in a few lines: MA actual/ideal, haul force and haulers, load delivered vs needed."""
+    """The system in a few lines: MA nominal/ideal/actual, haul force and haulers, load delivered vs needed."""
     unit = rig.display.force
     points = {p.id: p for p in rig.points}
     out = []
-    if result.ma_actual is not None:
-        # a drag step leaves the frictionless re-solve to the analysis at the pause
-        ideal = f" / {result.ma_ideal:.2f} ideal" if result.ma_ideal is not None else " / ideal when still"
-        out.append(f"MA {result.ma_actual:.2f} actual{ideal}")
+    if result.ma_actual is not None:  # a drag step leaves nominal and ideal to the analysis at the pause
+        out.append(ma_short(result))
     for hid, force in result.haul.items():
         name = drawn(points[hid].name if hid in points else hid)
         hold = result.hold_haul_range.get(hid)

@@ -121,6 +121,14 @@ def format_force(newtons: float, unit: str = "kN", digits: int | None = None) ->
     return f"{text} {unit}"
 
 
+def format_force_sig(newtons: float, unit: str = "kN", sig: int = 3) -> str:
+    """A force to ``sig`` significant figures (a residual, an imbalance), e.g. ``"3.2e-05 kN"``, ``"12.4 lbf"``."""
+    v = force_to(newtons, unit)
+    if not math.isfinite(v):
+        return "—"
+    return f"{v:.{sig}g} {unit}"
+
+
 def _grouped(digits: str, mark: str) -> bool:
     """True if ``digits`` is thousands grouped with ``mark``: 1-3 digits, then groups of exactly 3."""
     parts = digits.lstrip("+-").split(mark)
