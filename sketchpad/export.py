@@ -84,6 +84,15 @@ class ExportError(Exception):
     """An export that cannot be written: unknown format, bad size, folder missing (message in words)."""
 
 
+def refuse_undrawable(rig: Rig) -> None:
+    """ExportError in words for a rig too big to draw in reasonable time (solver.limits.drawing_problem)."""
+    from solver import limits
+
+    problem = limits.drawing_problem(len(rig.points), len(rig.ropes))
+    if problem:
+        raise ExportError(problem)
+
+
 # --- the drawing ---------------------------------------------------------------------------
 @dataclass
 class Fit:
@@ -739,6 +748,7 @@ def export_drawing(rig: Rig, path: pathlib.Path | str, size: tuple[int, int] | N
     fmt = format_of(path)
     if not path.parent.exists():
         raise ExportError(f"the folder {path.parent} does not exist")
+    refuse_undrawable(rig)
     ensure_app()
     drawing = Drawing(rig, result, rig_dir, layers)
     title, subtitle = _titles(rig, source, now)

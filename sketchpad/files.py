@@ -436,6 +436,7 @@ class FileController(QObject):
         try:
             _must_be_regular(path)  # reading a pipe or a device would hang the window
             rig = rigfile.load_rig(path)
+            _must_be_drawable(rig, path)
             rigfile.clean_stale_temps(rigfile.write_target(path).parent)
             return rig
         except (RopewrightError, OSError, UnicodeError, ValueError) as exc:
@@ -654,6 +655,16 @@ def _must_be_regular(path: pathlib.Path) -> None:
         raise RigFileError("this is a folder, not a rig file", where=str(path))
     if not stat.S_ISREG(mode):
         raise RigFileError("this is a pipe, device or socket, not a rig file", where=str(path))
+
+
+def _must_be_drawable(rig: Rig, path: pathlib.Path) -> None:
+    """RigFileError in words for a rig too big for the window to draw in reasonable time (solver.limits)."""
+    from solver import limits
+    from solver.errors import RigFileError
+
+    problem = limits.drawing_problem(len(rig.points), len(rig.ropes))
+    if problem:
+        raise RigFileError(problem, where=str(path))
 
 
 def _sentence(text: str) -> str:

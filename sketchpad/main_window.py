@@ -31,7 +31,8 @@ from sketchpad.document import Document
 from sketchpad.items import fmt_length
 from sketchpad.plain_text import inform, plain_label, warn
 from sketchpad.tools import delete_keys, make_tools, set_display
-from solver.errors import RopewrightError
+from solver import limits
+from solver.errors import RigFileError, RopewrightError
 from solver.model import FEATURE_KINDS, MIDDLE_HOWS, Rig
 
 log = logging.getLogger(__name__)
@@ -375,6 +376,9 @@ class MainWindow(QMainWindow):
             from solver.rigfile import load_rig
 
             rig = load_rig(pathlib.Path(path))
+            problem = limits.drawing_problem(len(rig.points), len(rig.ropes))
+            if problem:
+                raise RigFileError(problem, where=str(path))
         except (RopewrightError, OSError) as exc:
             log.warning("could not open %s: %s", path, exc)
             if show_errors:

@@ -40,6 +40,7 @@ from sketchpad.export import (
     page_size_for,
     paint_key_strip,
     pdf_writer,
+    refuse_undrawable,
     run_file_command,
     units_line,
 )
@@ -609,6 +610,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
         raise ExportError(f"a report is a PDF: end the file name '{path.name}' in .pdf")
     if not path.parent.exists():
         raise ExportError(f"the folder {path.parent} does not exist")
+    refuse_undrawable(rig)
     ensure_app()
     if result is None:
         from solver.analysis import analyse

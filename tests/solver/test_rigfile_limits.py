@@ -77,17 +77,25 @@ def test_a_million_character_notes_is_refused_in_a_moment():
     assert time.perf_counter() - start < 1.0  # generous: a refusal must not freeze (measured ~10 ms)
 
 
-def test_twenty_thousand_person_markers_are_refused_with_a_size_message():
+def test_more_points_than_the_format_holds_are_refused_with_a_size_message():
     d = _sample()
-    d["points"] += [{"id": f"P{i}", "kind": "person", "x": i % 100, "y": i // 100} for i in range(20_000)]
+    top = limits.max_items("rig", "points")
+    d["points"] += [{"id": f"P{i}", "kind": "person", "x": i % 100, "y": i // 100} for i in range(top)]
     err = _refused(d)
-    assert err.where == "points" and "at most 2,000" in err.message and "20,0" in err.message, str(err)
+    assert err.where == "points" and f"at most {top:,}" in err.message and f"{top + len(_sample()['points']):,}" \
+        in err.message, str(err)
+
+
+def test_the_drawing_cap_says_what_is_too_big_to_draw():
+    assert limits.drawing_problem(limits.DRAWN_POINTS, limits.DRAWN_ROPES) is None
+    words = limits.drawing_problem(20_000, 5)
+    assert "20,000 points" in words and f"at most {limits.DRAWN_POINTS:,} points" in words
 
 
 def test_too_many_passes_in_all_are_refused():
     d = _sample()
-    rope = dict(d["ropes"][0], path=[{"at": at} for at in ["L1", "A1"] * 11])  # 22 passes
-    d["ropes"] = [dict(copy.deepcopy(rope), id=f"R{i}") for i in range(limits.MAX_PASSES_IN_ALL // 22 + 1)]
+    rope = dict(d["ropes"][0], path=[{"at": at} for at in ["L1", "A1"] * 100])  # 200 passes
+    d["ropes"] = [dict(copy.deepcopy(rope), id=f"R{i}") for i in range(limits.MAX_PASSES_IN_ALL // 200 + 1)]
     err = _refused(d)
     assert err.where == "ropes" and f"{limits.MAX_PASSES_IN_ALL:,}" in err.message, str(err)
 
@@ -127,7 +135,7 @@ def test_the_limits_module_reads_the_schema_the_reader_uses():
     assert limits.number_range("point", "team") == limits.Range(1.0, 1000.0, False, True)
     assert limits.number_range("point", "capacity_N").low_open
     assert limits.max_chars("point", "label") == rigfile.schema()["$defs"]["text"]["maxLength"]
-    assert limits.max_items("rig", "points") == 2000
+    assert limits.max_items("rig", "points") == 20_000
     assert limits.MAX_COORDINATE_M == rigfile.MAX_COORDINATE_M == 100_000.0
     assert limits.Range(0.0, 10.0).problem(float("inf")) == "must be a finite number"
 
