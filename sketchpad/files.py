@@ -27,6 +27,7 @@ import logging
 import os
 import pathlib
 import stat
+import weakref
 from dataclasses import replace
 from typing import Callable
 
@@ -239,12 +240,14 @@ class FileController(QObject):
 
         self.timer = QTimer(self)
         self.timer.setInterval(max(1, int(autosave_seconds * 1000)))
-        self.timer.timeout.connect(self.autosave_now)
+        # through a weak reference: a timer or document that outlives this controller's Python side (a window
+        # closed but not yet deleted) must find nothing to call rather than a slot that is gone
+        self.timer.timeout.connect(_weakly(self, "autosave_now"))
         self.timer.start()
 
-        document.undo_stack.cleanChanged.connect(self.update_title)
-        document.path_changed.connect(self.update_title)
-        document.changed.connect(self.update_title)
+        document.undo_stack.cleanChanged.connect(_weakly(self, "update_title"))
+        document.path_changed.connect(_weakly(self, "update_title"))
+        document.changed.connect(_weakly(self, "update_title"))
         window.installEventFilter(self)
         self.update_title()
 
@@ -276,7 +279,9 @@ class FileController(QObject):
 
     def _alive(self) -> bool:
         """False once Qt has deleted the window or document (signals can still arrive while tearing down)."""
-        return shiboken6.isValid(self.window) and shiboken6.isValid(self.document.undo_stack)
+        window, document = getattr(self, "window", None), getattr(self, "document", None)
+        return (window is not None and document is not None and shiboken6.isValid(window)
+                and shiboken6.isValid(document.undo_stack))
 
     # --- menu -------------------------------------------------------------------------
     def install_menu(self, menu: QMenu, before: QAction | None = None) -> None:
@@ -631,7 +636,8 @@ class FileController(QObject):
 
     # --- closing ------------------------------------------------------------------------
     def eventFilter(self, obj, event) -> bool:  # noqa: N802 - Qt's name
-        if obj is self.window and event.type() == QEvent.Type.Close:
+        # a wrapper Qt made afresh for a controller whose Python side is gone has no attributes
+        if obj is getattr(self, "window", None) and event.type() == QEvent.Type.Close:
             if not self.maybe_save():
                 event.ignore()
                 return True
@@ -639,6 +645,18 @@ class FileController(QObject):
             self.remove_autosave()
             self.release_lock()
         return False
+
+
+def _weakly(obj: QObject, method: str) -> Callable[..., None]:
+    """A callable for a signal that calls ``obj.method`` while ``obj``'s Python side lives, else does nothing."""
+    ref = weakref.ref(obj)
+
+    def call(*args) -> None:
+        target = ref()
+        if target is not None and hasattr(target, "document"):
+            getattr(target, method)(*args)
+
+    return call
 
 
 def _must_be_regular(path: pathlib.Path) -> None:
