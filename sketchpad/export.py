@@ -44,6 +44,7 @@ from PySide6.QtGui import (
 
 from sketchpad import theme
 from sketchpad.glyphs import paint_north_arrow
+from sketchpad.short_text import drawn
 from solver.model import Point, Rig
 from solver.result import Result
 
@@ -478,7 +479,7 @@ def rope_lines(rig: Rig) -> list[tuple[QColor, str]]:
             mat = material_for(rig, r.material).name
         except (RopewrightError, KeyError):
             mat = f"{r.material} (spec not known)"
-        out.append((theme.rope_colour(i), f"{r.name}: {mat}"))
+        out.append((theme.rope_colour(i), f"{drawn(r.name)}: {mat}"))
     return out
 
 
