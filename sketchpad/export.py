@@ -44,6 +44,7 @@ from PySide6.QtGui import (
 from sketchpad import theme
 from sketchpad.glyphs import paint_north_arrow
 from sketchpad.pages.framing import Fit
+from sketchpad.short_text import drawn
 from solver.model import Rig
 from solver.result import Result
 
@@ -75,6 +76,15 @@ WARNING_TEXT = QColor("#8a4b00")
 
 class ExportError(Exception):
     """An export that cannot be written: unknown format, bad size, folder missing (message in words)."""
+
+
+def refuse_undrawable(rig: Rig) -> None:
+    """ExportError in words for a rig too big to draw in reasonable time (solver.limits.drawing_problem)."""
+    from solver import limits
+
+    problem = limits.drawing_problem(len(rig.points), len(rig.ropes))
+    if problem:
+        raise ExportError(problem)
 
 
 # --- the drawing ---------------------------------------------------------------------------
@@ -140,9 +150,17 @@ class Drawing:
 
     # --- layout ----------------------------------------------------------------------------
     def fit_into(self, width: float, height: float) -> Fit:
-        """Choose scale and source rect so the rig (or the rig's print frame) fills ``width`` x ``height`` px."""
+        """Choose scale and source rect so the rig (or the rig's print frame) fills ``width`` x ``height`` px.
+
+        Asked again for the size it last fitted, it keeps that fit (placing a large rig's labels is the
+        slow part of a page: a report measures its pages with the same fit it then draws).
+        """
         from sketchpad.pages.framing import fit_frame
 
+        width, height = max(width, 40.0), max(height, 40.0)
+        last = getattr(self, "fit", None)
+        if last is not None and last.size == (width, height):
+            return last
         self.skipped = 0
         self.fit = fit_frame(self, width, height)
         return self.fit
@@ -373,7 +391,7 @@ def rope_lines(rig: Rig) -> list[tuple[QColor, str]]:
             mat = material_for(rig, r.material).name
         except (RopewrightError, KeyError):
             mat = f"{r.material} (spec not known)"
-        out.append((theme.rope_colour(i), f"{r.name}: {mat}"))
+        out.append((theme.rope_colour(i), f"{drawn(r.name)}: {mat}"))
     return out
 
 
@@ -689,6 +707,7 @@ def export_drawing(rig: Rig, path: pathlib.Path | str, size: tuple[int, int] | N
     fmt = format_of(path)
     if not path.parent.exists():
         raise ExportError(f"the folder {path.parent} does not exist")
+    refuse_undrawable(rig)
     ensure_app()
     drawing = Drawing(rig, result, rig_dir, layers)
     title, subtitle = _titles(rig, source, now)
@@ -795,12 +814,13 @@ def _ask_save_path(parent, title: str, start: str, filters: str) -> pathlib.Path
 
 def _show_message(parent, title: str, text: str, error: bool) -> None:
     from PySide6.QtGui import QGuiApplication
-    from PySide6.QtWidgets import QMessageBox
+
+    from sketchpad.plain_text import inform, warn
 
     if QGuiApplication.platformName() in ("offscreen", "minimal"):
         (log.warning if error else log.info)("%s: %s", title, text)
         return
-    (QMessageBox.warning if error else QMessageBox.information)(parent, title, text)
+    (warn if error else inform)(parent, title, text)
 
 
 class ExportActions:

@@ -40,6 +40,7 @@ from sketchpad.export import (
     key_strip_height,
     paint_key_strip,
     portrait_writer,
+    refuse_undrawable,
     run_file_command,
     units_line,
 )
@@ -644,6 +645,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
         raise ExportError(f"a report is a PDF: end the file name '{path.name}' in .pdf")
     if not path.parent.exists():
         raise ExportError(f"the folder {path.parent} does not exist")
+    refuse_undrawable(rig)
     ensure_app()
     if result is None:
         from solver.analysis import analyse
@@ -686,7 +688,8 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
         if haul is not None:
             add_haul_page(counter, rig, haul)
         total = counter.finish()
-        if total <= PAGES_WANTED + (haul is not None):
+        fits = PAGES_WANTED + (haul is not None)  # pages the report aims for
+        if total <= fits or total >= fits + 2:  # the smaller layouts save well under a page: that many more stay
             break
 
     def footer(p: QPainter, n: int) -> None:

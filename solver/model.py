@@ -377,10 +377,14 @@ class Rig:
         return replace(self, ropes=tuple(ropes) + (rope,))
 
     def without_point(self, point_id: str) -> "Rig":
-        """Remove a point and what depends on it: its passes, its forces, ropes left with < 2 passes."""
+        """Remove a point and what depends on it: its passes, its forces, ropes left with < 2 passes.
+
+        Passes that become neighbours at one point (A, B, A without B) merge into one: the rope's
+        end if one of them is its end, else the first; a rope never passes a point twice in a row.
+        """
         ropes = []
         for r in self.ropes:
-            path = tuple(ps for ps in r.path if ps.at != point_id)
+            path = _merged_neighbours(tuple(ps for ps in r.path if ps.at != point_id))
             if len(path) >= 2:
                 if path != r.path:
                     # the new ends must be tied (or hauled at the end) to stay valid
@@ -403,6 +407,22 @@ class Rig:
     def moved(self, point_id: str, x: float, y: float) -> "Rig":
         """The same rig with one point moved to (x, y) metres."""
         return self.with_point(replace(self.point(point_id), x=float(x), y=float(y)))
+
+
+def _merged_neighbours(path: tuple[Pass, ...]) -> tuple[Pass, ...]:
+    """``path`` with each run of consecutive passes at one point merged into one pass.
+
+    The merged pass is the run's last when the run ends the rope (its end, tied or hauled,
+    stays), else the run's first.
+    """
+    out: list[Pass] = []
+    for j, ps in enumerate(path):
+        if out and out[-1].at == ps.at:
+            if j == len(path) - 1:
+                out[-1] = ps
+            continue
+        out.append(ps)
+    return tuple(out)
 
 
 @dataclass(frozen=True)
