@@ -225,3 +225,36 @@ def test_more_changes_than_the_log_holds_between_frames_make_the_next_frame_read
     check_against_full_scan(view)
     drag_steps(doc, sched, view, "H4", 3, start=6)
     assert_screen_fresh(view)
+
+
+def test_the_haul_preview_shown_mid_drag_keeps_frames_from_reading_the_scene_and_the_screen_fresh(main_window):
+    """The Haul plan dock's scrubber preview (sketchpad.haul_ghost) lives in the scene: its items are tracked, so
+    a drag with it shown, moved or hidden reads the scene only when it was added or restacked (shown, hidden),
+    and what it shows on screen is what Qt paints (demo frames: points of the test rig moved by hand)."""
+    from solver.haul_result import HaulFrame
+
+    doc, sched, view = fifty_rope_window(main_window)
+    layer, ghost = view.drag_layer, main_window.haul_plan.ghost
+    drag_steps(doc, sched, view, "H4", 4)
+    scans = layer.scans
+    drag_steps(doc, sched, view, "H4", 4, start=4)
+    assert layer.scans == scans  # the hidden preview is in the scene and costs no full read
+    rig = doc.rig
+    frames = layer.frames
+    for i in range(4):
+        moved = {p.id: (p.x + 0.3 * (i + 1), p.y - 0.2 * (i + 1)) for p in rig.points[:6]}
+        ghost.show(rig, HaulFrame(i + 1, "stroke", 0.5 * i, 0.1 * i, 900.0, moved), "H4", f"stroke {i + 1}")
+        drag_steps(doc, sched, view, "H4", 2, start=8 + 2 * i)
+        box = view.mapFromScene(ghost.ropes.sceneBoundingRect()).boundingRect()
+        assert box.intersects(view.viewport().rect())  # the preview is on screen, drawn in the layer's frames
+        check_against_full_scan(view)
+        assert_screen_fresh(view)
+    assert all(it.isVisible() for it in ghost.items) and layer.frames >= frames + 6
+    scans = layer.scans
+    drag_steps(doc, sched, view, "H4", 3, start=16)
+    assert layer.scans == scans  # shown and still: no full read
+    ghost.hide()
+    drag_steps(doc, sched, view, "H4", 3, start=19)
+    assert layer.scans <= scans + 1  # hiding restacks once
+    check_against_full_scan(view)
+    assert_screen_fresh(view)
