@@ -38,6 +38,7 @@ from typing import Any, Callable, Iterable, Mapping, Sequence
 from solver import materials
 from solver import model as m
 from solver.errors import RigFileError
+from solver.water_site import water_feature_problem, wetted_point_problem
 
 log = logging.getLogger(__name__)
 
@@ -58,6 +59,7 @@ _POINT: _Spec = (
     ("label", "str", ""), ("fixed", "bool", None), ("capacity_N", "float", None), ("anchor_type", "str", None),
     ("required_N", "float", None), ("mass_kg", "float", None), ("force_N", "float", None), ("team", "int", None),
     ("force_per_person_N", "float", None), ("capacity_kind", "str", "strength"),
+    ("wetted_area_m2", "float", None), ("drag_shape", "str", None),
 )
 _PASS: _Spec = (("at", "str", _REQUIRED), ("how", "str", "tied"), ("hardware", "str", None))
 _RIGGING: _Spec = (("slack_m", "float", 0.0), ("pretension_N", "float", None))
@@ -65,6 +67,7 @@ _ROPE: _Spec = (("id", "str", _REQUIRED), ("material", "str", _REQUIRED), ("labe
 _MATERIAL: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("mbs_N", "float", _REQUIRED),
     ("stretch", "pairs", _REQUIRED), ("diameter_mm", "float", None), ("label", "str", ""), ("source", "str", ""),
+    ("diameter_m", "float", None),
 )
 _HARDWARE: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("efficiency", "float", None), ("mbs_N", "float", None),
@@ -79,7 +82,7 @@ _IMAGE: _Spec = (
     ("metres_per_pixel", "float", 0.01), ("rotation_deg", "float", 0.0), ("opacity", "float", 1.0),
 )
 _FEATURE: _Spec = (("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("polygon", "pairs", None),
-                   ("line", "pairs", None), ("label", "str", ""))
+                   ("line", "pairs", None), ("label", "str", ""), ("flow", "flow", None))
 _SETTINGS: _Spec = (("motion", "str", "haul"), ("min_safety_factor", "float", 10.0))
 _DISPLAY: _Spec = (("length", "str", "m"), ("force", "str", "kN"))
 _SITE_KEYS = ("image", "features")
@@ -625,6 +628,8 @@ def _convert(value: Any, kind: str) -> Any:
         return (float(value[0]), float(value[1]))
     if kind == "pairs":
         return tuple((float(a), float(b)) for a, b in value)
+    if kind == "flow":
+        return m.Flow(speed_m_s=float(value["speed_m_s"]), bearing_deg=float(value["bearing_deg"]))
     return value
 
 
@@ -722,6 +727,8 @@ def _encode(value: Any, kind: str) -> Any:
         return [float(value[0]), float(value[1])]
     if kind == "pairs":
         return [[float(a), float(b)] for a, b in value]
+    if kind == "flow":
+        return {"speed_m_s": float(value.speed_m_s), "bearing_deg": float(value.bearing_deg)}
     return str(value)
 
 
@@ -792,6 +799,7 @@ def _check_semantics(rig: m.Rig, base_dir: str | os.PathLike[str] | None) -> Non
     for i, p in enumerate(rig.points):
         _check_coordinate(p.x, f"points[{i}].x")
         _check_coordinate(p.y, f"points[{i}].y")
+        _raise_problem(wetted_point_problem(p), f"points[{i}]")
     for i, f in enumerate(rig.forces):
         if f.at not in points:
             raise RigFileError(f'point "{f.at}" does not exist', where=f"forces[{i}].at")
@@ -896,6 +904,7 @@ def _check_site(site: m.Site, base_dir: str | os.PathLike[str] | None) -> None:
         if feat.polygon is not None and len(feat.polygon) < 3:
             raise RigFileError(f"a polygon needs at least 3 points, has {len(feat.polygon)}",
                                where=f"{here}.polygon")
+        _raise_problem(water_feature_problem(feat), here)
         for key in ("polygon", "line"):
             for k, (x, y) in enumerate(getattr(feat, key) or ()):
                 _check_coordinate(x, f"{here}.{key}[{k}][0]")
