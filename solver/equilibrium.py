@@ -45,6 +45,7 @@ from solver.assembly import (
 from solver.errors import RigModelError
 from solver.model import Rig
 from solver.result import AnchorResult, HoldRange, Result, SegmentResult, Warning_, record
+from solver.water import in_water, solve_in_water
 
 log = logging.getLogger(__name__)
 
@@ -1249,6 +1250,8 @@ def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True
     on the least-squares weighting.  The frictionless re-solve is a true equilibrium; its
     geometry differs from the friction geometry only by the small swing friction causes.
     """
+    if rig.site.features and in_water(rig):  # currents push on ropes and bodies: solver.water
+        return solve_in_water(rig, start=start, motion=motion, ideal=ideal)
     try:
         s = _compiled(rig, motion)
     except RigModelError as exc:

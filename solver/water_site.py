@@ -121,20 +121,32 @@ class FlowField:
 
 
 def flow_field(rig: Rig) -> FlowField:
-    """The rig's currents (kept per site: a drag step reuses it while the site is unchanged)."""
-    return _field_of(rig.site.features)
+    """The rig's currents.
+
+    Built once per set of moving-water features (``functools.lru_cache``, thread-safe, keyed by the
+    features' ids, polygons and flows, which are immutable): a drag step reuses the shapely polygons while
+    the site is unchanged; tests check it equals a fresh build.
+    """
+    key = tuple((f.id, f.polygon, f.flow) for f in rig.site.features
+                if f.kind == "water" and f.flow is not None and f.polygon is not None)
+    return _field_of(key) if key else _NO_FLOW
 
 
-@lru_cache(maxsize=16)
-def _field_of(features: tuple[Feature, ...]) -> FlowField:
-    moving = [f for f in features if f.kind == "water" and f.flow is not None and f.polygon is not None]
-    moving.reverse()  # drawn on top (later in the list) is looked up first
-    polys = tuple(Polygon(f.polygon).buffer(0) if not Polygon(f.polygon).is_valid else Polygon(f.polygon)
-                  for f in moving)
+def build_field(moving: tuple) -> FlowField:
+    """A fresh FlowField from ``(id, polygon, flow)`` of each moving-water feature in drawing order."""
+    moving = list(reversed(moving))  # drawn on top (later in the list) is looked up first
+    polys = []
+    for _, ring, _ in moving:
+        poly = Polygon(ring)
+        polys.append(poly if poly.is_valid else poly.buffer(0))
     for p in polys:
         shapely.prepare(p)
-    vel = np.array([f.flow.velocity for f in moving], dtype=float).reshape(-1, 2)
-    return FlowField(polygons=polys, velocities=vel, ids=tuple(f.id for f in moving))
+    vel = np.array([flow.velocity for _, _, flow in moving], dtype=float).reshape(-1, 2)
+    return FlowField(polygons=tuple(polys), velocities=vel, ids=tuple(fid for fid, _, _ in moving))
+
+
+_field_of = lru_cache(maxsize=16)(build_field)
+_NO_FLOW = FlowField(polygons=(), velocities=np.zeros((0, 2)), ids=())
 
 
 def river_sides(bearing_deg: float) -> tuple[float, float]:
