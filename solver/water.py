@@ -40,9 +40,9 @@ from solver.water_site import FlowField, flow_field
 log = logging.getLogger(__name__)
 
 #: Length of one hidden segment in the water, m, and the fewest/most per wet piece (accuracy vs speed: ours).
-SEGMENT_M = 1.0
-MIN_SEGMENTS = 8
-MAX_SEGMENTS = 40
+SEGMENT_M = 2.0
+MIN_SEGMENTS = 6
+MAX_SEGMENTS = 24
 #: Outer iterations (drag from the solved directions) before giving up.
 MAX_ROUNDS = 60
 #: Drag mismatch aimed for, times the rig's force scale (the solver's own target, equilibrium.TARGET_REL).
@@ -107,7 +107,7 @@ def _fractions(wet: list[tuple[float, float]], length: float) -> list[float]:
     n_total = int(min(MAX_SEGMENTS, max(MIN_SEGMENTS, math.ceil(wet_len / SEGMENT_M))))
     ts: set[float] = set()
     for t0, t1 in wet:
-        n = max(2, round(n_total * (t1 - t0) * length / max(wet_len, 1e-12)))
+        n = 2 * max(1, round(n_total * (t1 - t0) * length / max(wet_len, 1e-12) / 2))  # even: a node mid-way
         ts.update(np.linspace(t0, t1, n + 1).tolist())
     return sorted(t for t in ts if 1e-9 < t < 1 - 1e-9)
 
@@ -256,12 +256,16 @@ def solve_in_water(rig: Rig, *, start=None, motion: str | None = None, ideal: bo
     at = {p.id: p.xy for p in plan.rig.points}
     if start:
         at.update({k: tuple(v) for k, v in start.items() if k in at})
+        at.update(_LAST_BOW.start(plan, at))
     forces, _ = _drag_forces(plan, ff, at)
-    warm = dict(start) if start else None
+    warm = dict(at) if start else None
     result = None
     gap = math.inf
+    iterations = 0
     for rounds in range(1, MAX_ROUNDS + 1):
-        result = solve(_with_forces(plan, forces), start=warm, motion=motion, ideal=False)
+        result = solve(_with_forces(plan, forces), start=warm, motion=motion, ideal=ideal)
+        iterations += result.iterations
+        log.debug("round %d: %d iterations, %s", rounds, result.iterations, result.status)
         if not result.points or result.status not in ("ok", "diverged"):
             break
         at = _positions(result, plan, at)
@@ -271,12 +275,50 @@ def solve_in_water(rig: Rig, *, start=None, motion: str | None = None, ideal: bo
         warm = at
         if gap <= ROUND_REL * _scale(rig, forces, result):
             break
-    if ideal and result is not None and result.points:
-        result = solve(_with_forces(plan, forces), start=at, motion=motion, ideal=True)
-        at = _positions(result, plan, at)
-        new, _ = _drag_forces(plan, ff, at)
-        gap = _mismatch(forces, new, fixed)
+    if result is not None and result.ok:
+        _LAST_BOW.keep(plan, at)
+    result = replace(result, iterations=iterations)
     return _mapped(rig, plan, ff, result, forces, gap, rounds)
+
+
+class _BowMemo:
+    """The last solved bow of each cut rope, to start the next warm solve from (drag speed only).
+
+    Keyed by the hidden point ids of a cut piece; a warm solve places each hidden point at its chord
+    fraction between the (possibly moved) ends plus the offset it had from the old chord.  Guarded by a
+    lock (live solves run off the GUI thread); it only chooses a starting point, never an answer: the
+    solve is iterated to the same tolerance from any start (tested against a cold solve).
+    """
+
+    def __init__(self) -> None:
+        import threading
+
+        self._lock = threading.Lock()
+        self._bows: dict[tuple[str, ...], tuple[np.ndarray, np.ndarray]] = {}
+
+    def keep(self, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> None:
+        with self._lock:
+            if len(self._bows) > 64:
+                self._bows.clear()
+            for c in plan.chains:
+                a, b = np.array(at[c.a]), np.array(at[c.b])
+                nodes = np.array([at[h] for h in c.hidden])
+                self._bows[c.hidden] = (np.array(c.ts), nodes - (a + np.outer(c.ts, b - a)))
+
+    def start(self, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> dict[str, tuple[float, float]]:
+        out: dict[str, tuple[float, float]] = {}
+        with self._lock:
+            for c in plan.chains:
+                kept = self._bows.get(c.hidden)
+                if kept is None or len(kept[0]) != len(c.ts) or not np.allclose(kept[0], c.ts):
+                    continue
+                a, b = np.array(at[c.a]), np.array(at[c.b])
+                nodes = a + np.outer(c.ts, b - a) + kept[1]
+                out.update({h: (float(x), float(y)) for h, (x, y) in zip(c.hidden, nodes)})
+        return out
+
+
+_LAST_BOW = _BowMemo()
 
 
 def _mapped(rig: Rig, plan: _Plan, ff: FlowField, aug: Result, forces: Mapping[str, np.ndarray],

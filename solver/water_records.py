@@ -103,7 +103,7 @@ def _wet_ropes(plan, ff, at, by_chain, segments: list[SegmentResult]) -> list[We
         a, b = nodes[0], nodes[-1]
         chord = b - a
         L = float(np.hypot(*chord)) or 1.0
-        sag = float(np.max(np.abs(np.cross(chord, nodes - a)) / L)) if len(nodes) else 0.0
+        sag = float(np.max(np.abs(chord[0] * (nodes[:, 1] - a[1]) - chord[1] * (nodes[:, 0] - a[0])) / L)) if len(nodes) else 0.0
         f = seg_f.sum(axis=0)
         out.append(WetRope(c.rope, c.piece, c.a, c.b, tuple(map(tuple, nodes.tolist())), i0, i1,
                            tens[min(i0, len(tens) - 1)], tens[min(max(i1 - 1, 0), len(tens) - 1)],
