@@ -61,6 +61,7 @@ from solver.hauling import haulers_needed
 from solver.model import Hardware, Material, Rig
 from solver.result import Result, Warning_
 from solver.tensioned_line import check_tensioned_lines, is_line_leg_pair
+from solver.water_warnings import check_water
 
 log = logging.getLogger(__name__)
 
@@ -658,7 +659,7 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
 #: Checks that need solved forces, in report order.
 FORCE_CHECKS: tuple[Callable[[Rig, Result], list[Warning_]], ...] = (
     check_anchors, check_ropes, check_hardware, check_wide_anchors, check_tensioned_lines, check_slack,
-    check_abrasion, check_haul, check_two_blocked, check_people,
+    check_abrasion, check_haul, check_two_blocked, check_people, check_water,
 )
 
 

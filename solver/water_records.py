@@ -39,6 +39,23 @@ def _user_id(plan, aug_id: str) -> str:
     return aug_id
 
 
+def _told(rig, plan, text: str) -> str:
+    """``text`` with every hidden point named as a place on its rope (hidden ids never reach a person)."""
+    import re
+
+    from solver.water import HIDDEN
+
+    if HIDDEN not in text:
+        return text
+
+    def name(m: "re.Match[str]") -> str:
+        rope = _user_id(plan, m.group(1))
+        return f'a point of rope "{rig.rope(rope).name}" in the water' if rope != m.group(1) else "a point in the water"
+
+    text = re.sub(r'point "(' + re.escape(HIDDEN) + r'[^"]*)"( \(rope "[^"]*" in the water\))?', name, text)
+    return re.sub(re.escape(HIDDEN) + r"[^\s\"]*", "the rope in the water", text)
+
+
 def _segments(rig, plan, aug: Result) -> tuple[list[SegmentResult], dict]:
     subs = {sid: c for c in plan.chains for sid in c.sub_ropes}
     by_chain: dict[tuple[str, int], list[SegmentResult]] = {}
@@ -148,13 +165,20 @@ def user_result(rig, plan, ff, aug: Result, forces: Mapping[str, np.ndarray], ga
             if pid in table:
                 old = table[pid]
                 table[pid] = _anchor(old.fx_N + float(f[0]), old.fy_N + float(f[1]), old, sf)
-    warnings = [replace(w, subject=_user_id(plan, w.subject)) for w in aug.warnings]
-    status, message, subject = aug.status, aug.message, _user_id(plan, aug.subject)
+    warnings = [replace(w, subject=_user_id(plan, w.subject), message=_told(rig, plan, w.message))
+                for w in aug.warnings]
+    status, message, subject = aug.status, _told(rig, plan, aug.message), _user_id(plan, aug.subject)
     residual = max(aug.residual_N, gap) if math.isfinite(aug.residual_N) else aug.residual_N
     if status == "ok" and gap > ACCEPT_REL * _scale(rig, forces, aug):
         status = "diverged"
         message = (f"the current's push on the ropes did not settle after {rounds} solves (the drag of the solved "
                    f"shape still differs by {gap:.3g} N from the drag used); the bowed ropes are not reliable")
+    if status in ("mechanism", "diverged"):
+        gone = [p.name for p in plan.wet_bodies if not p.is_fixed and ff.feature_at(p.x, p.y) is not None
+                and ff.feature_at(*at[p.id]) is None]
+        if gone:
+            message = (f"{', '.join(gone)} swings out of the moving water (downstream of its tether, like a pendulum "
+                       f"to the bank) where the current no longer holds its rope out: {message}")
     bodies = []
     for p in plan.wet_bodies:
         v = ff.velocity_at(np.array(at[p.id]))[0]

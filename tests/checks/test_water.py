@@ -188,3 +188,25 @@ def test_warm_drag_step_equals_a_cold_solve():
     b = solve(moved)
     assert a.ok and b.ok
     assert np.abs(np.array(a.water.ropes[0].polyline) - np.array(b.water.ropes[0].polyline)).max() < 1e-6
+
+
+def test_warnings_for_a_tethered_body_and_a_bowed_rope():
+    # a swimmer-sized body tied to the middle of a rope across 2.5 m/s water: the rope's drag dwarfs the body's
+    from solver.analysis import analyse
+    from solver.water_warnings import BOW_SHARE, TETHER_RATIO
+
+    rig = Rig(points=(Point("A", "anchor", 0, 15), Point("C", "anchor", 0, -15),
+                      Point("B", "point", 0, 0, label="swimmer", wetted_area_m2=0.1, drag_shape="panel-square")),
+              ropes=(Rope("R", "r", (Pass("A"), Pass("B"), Pass("C")), rigged=Rigging(slack_m=0.5)),),
+              materials=(rope_mat(ea=4e5),), site=river(2.5, 90.0, box=(-60, -14, 60, 14)))
+    r = analyse(rig)
+    assert r.ok, r.message
+    codes = {w.code: w for w in r.warnings}
+    wet = r.water.ropes[0]
+    body = r.water.bodies[0]
+    assert wet.tension_out_N > TETHER_RATIO * body.force_N  # the premise, from the solve
+    assert codes["rope-in-current"].severity == "danger" and "person" in codes["rope-in-current"].message
+    assert (wet.drag_N > BOW_SHARE * wet.tension_in_N) == ("rope-bowed" in codes)
+    # no current: no water warnings
+    dry = analyse(replace(rig, site=Site()))
+    assert not {"rope-in-current", "rope-bowed"} & {w.code for w in dry.warnings}
