@@ -18,6 +18,7 @@ import numpy as np
 from solver.result import Result, SegmentResult, Warning_, record
 from solver.water_drag import body_drag
 from solver.water_result import BodyDrag, WaterResult, WetRope
+from solver.water_site import point_sides
 
 
 def _anchor(fx: float, fy: float, old, sf: float):
@@ -186,7 +187,7 @@ def user_result(rig, plan, ff, aug: Result, forces: Mapping[str, np.ndarray], ga
         bodies.append(BodyDrag(p.id, float(np.hypot(*f)), float(f[0]), float(f[1]), float(np.hypot(*v)),
                                ff.feature_at(*at[p.id])))
     water = WaterResult(tuple(_wet_ropes(plan, ff, at, by_chain, segments)) if aug.points else (),
-                        tuple(bodies), rounds, gap)
+                        tuple(bodies), rounds, gap, tuple(point_sides(rig).items()))
     return replace(aug, status=status, message=message, subject=subject, residual_N=residual, points=points,
                    segments=tuple(segments), anchors=anchors, loads=loads,
                    deflection_deg=_deflections(rig, plan, aug, at) if aug.points else {},

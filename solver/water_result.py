@@ -62,6 +62,7 @@ class WaterResult:
     bodies: tuple[BodyDrag, ...] = ()
     rounds: int = 0  # solves taken to settle the drag directions
     drag_mismatch_N: float = 0.0  # drag used vs drag of the solved geometry, largest per point
+    sides: tuple[tuple[str, str], ...] = ()  # (point id, "river left"/"river right") of anchors, haul teams, people
 
     def to_json(self) -> dict[str, Any]:
         from solver.directions import bearing_or_none
@@ -70,4 +71,4 @@ class WaterResult:
                 "bodies": {b.point: {"force_N": b.force_N, "bearing_deg": bearing_or_none(b.direction_deg, "plan",
                                                                                           b.force_N),
                                      "speed_m_s": b.speed_m_s, "feature": b.feature} for b in self.bodies},
-                "rounds": self.rounds, "drag_mismatch_N": self.drag_mismatch_N}
+                "rounds": self.rounds, "drag_mismatch_N": self.drag_mismatch_N, "sides": dict(self.sides)}

@@ -164,3 +164,31 @@ def side_of_river(flow_bearing_deg: float, dx: float, dy: float) -> str:
     fx, fy = math.sin(b), math.cos(b)
     cross = fx * dy - fy * dx  # > 0: to the left of the flow direction
     return "river left" if cross > 0 else "river right"
+
+
+def main_current(rig: Rig) -> Feature | None:
+    """The river's main current: the largest moving-water feature not drawn over another (eddies are)."""
+    best, best_area = None, 0.0
+    below: list[Polygon] = []
+    for f in rig.site.features:
+        if f.kind != "water" or f.flow is None or f.polygon is None:
+            continue
+        poly = Polygon(f.polygon)
+        over = any(poly.intersects(p) for p in below)
+        below.append(poly)
+        if not over and f.flow.speed_m_s > 0 and poly.area > best_area:
+            best, best_area = f, poly.area
+    return best
+
+
+def point_sides(rig: Rig) -> dict[str, str]:
+    """"river left" / "river right" of every anchor, haul team and person, facing downstream of the main current.
+
+    The side is that of the point from the main current's centre line (through its centroid along its flow).
+    """
+    main = main_current(rig)
+    if main is None:
+        return {}
+    c = Polygon(main.polygon).centroid
+    return {p.id: side_of_river(main.flow.bearing_deg, p.x - c.x, p.y - c.y)
+            for p in rig.points if p.kind in ("anchor", "haul", "person")}

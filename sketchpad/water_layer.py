@@ -1,0 +1,173 @@
+"""The plan's moving water: an arrow field over each current, river left / right, and ropes bowed by the water.
+
+One QGraphicsItem drawn in scene metres from the rig's features and the Result's ``water``
+(:mod:`solver.water_result`): arrows on a grid over each moving-water feature (length by speed, the
+topmost feature's current where they overlap), the speed and "river left" / "river right" (facing
+downstream, the trade's convention) on each main current, each bowed rope as the solver shaped it, and
+the tension at both ends of its wet part in the rig's force unit.  Text keeps its screen size at any zoom.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import QPainter, QPainterPath, QPolygonF
+from PySide6.QtWidgets import QGraphicsItem
+
+from sketchpad import theme
+from solver.model import Rig
+from solver.result import Result
+from solver.directions import bearing_text
+from solver.units import format_force
+from solver.water_site import flow_field, river_sides
+
+#: Arrows across the larger side of a feature's box (ours: dense enough to read, sparse enough to see through).
+ARROWS_ACROSS = 10
+
+
+def _scene(x: float, y: float) -> QPointF:
+    return QPointF(float(x), -float(y))
+
+
+def flow_arrows(rig: Rig) -> list[tuple[tuple[float, float], tuple[float, float]]]:
+    """(tail, head) of each arrow of the current field, site metres: a grid over every moving-water feature."""
+    ff = flow_field(rig)
+    if ff.empty:
+        return []
+    out = []
+    vmax = float(np.hypot(*ff.velocities.T).max()) or 1.0
+    for poly in ff.polygons:
+        x0, y0, x1, y1 = poly.bounds
+        step = max(x1 - x0, y1 - y0) / ARROWS_ACROSS
+        xs = np.arange(x0 + step / 2, x1, step)
+        ys = np.arange(y0 + step / 2, y1, step)
+        grid = np.array([(x, y) for x in xs for y in ys])
+        if not len(grid):
+            continue
+        import shapely
+
+        grid = grid[shapely.covers(poly, shapely.points(grid))]
+        vel = ff.velocity_at(grid)
+        for (x, y), (vx, vy) in zip(grid, vel):
+            s = math.hypot(vx, vy)
+            if s <= 0:
+                continue
+            half = 0.35 * step * (0.4 + 0.6 * s / vmax) / s
+            out.append(((x - vx * half, y - vy * half), (x + vx * half, y + vy * half)))
+    return out
+
+
+def river_side_labels(rig: Rig) -> list[tuple[str, tuple[float, float]]]:
+    """("river left"/"river right", site point) inside each main current, across its flow from its middle.
+
+    An eddy (a current drawn over another) keeps the river's sides: they are named once, on the main current.
+    """
+    from shapely.geometry import LineString, Polygon
+
+    out = []
+    below: list = []
+    for f in rig.site.features:
+        if f.kind != "water" or f.flow is None or f.polygon is None:
+            continue
+        poly = Polygon(f.polygon)
+        over = any(poly.intersects(p) for p in below)
+        below.append(poly)
+        if over or f.flow.speed_m_s <= 0:
+            continue
+        c = poly.representative_point()
+        span = math.hypot(poly.bounds[2] - poly.bounds[0], poly.bounds[3] - poly.bounds[1])
+        for word, bearing in zip(("river left", "river right"), river_sides(f.flow.bearing_deg)):
+            b = math.radians(bearing)
+            ray = LineString([(c.x, c.y), (c.x + span * math.sin(b), c.y + span * math.cos(b))])
+            hit = ray.intersection(poly)
+            line = max(getattr(hit, "geoms", [hit]), key=lambda g: g.length)
+            if line.is_empty:
+                continue
+            far = line.interpolate(0.85, normalized=True)
+            out.append((word, (far.x, far.y)))
+    return out
+
+
+class WaterItem(QGraphicsItem):
+    """The current's arrows, river sides, bowed ropes and wet-end tensions (scene metres, overlay z)."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.setZValue(theme.Z_OVERLAY - 1.0)
+        self._arrows: list = []
+        self._texts: list[tuple[str, QPointF, object]] = []
+        self._ropes: list[tuple[QPainterPath, object]] = []
+        self._bounds = QRectF()
+
+    def show(self, rig: Rig | None, result: Result | None) -> None:
+        """Draw ``rig``'s currents and ``result``'s bowed ropes (nothing when either is None or dry)."""
+        self.prepareGeometryChange()
+        self._arrows, self._texts, self._ropes = [], [], []
+        if rig is not None and rig.view == "plan":
+            self._arrows = [(_scene(*a), _scene(*b)) for a, b in flow_arrows(rig)]
+            for f in rig.site.features:
+                if f.flow is not None and f.polygon is not None and f.kind == "water":
+                    from shapely.geometry import Polygon
+
+                    c = Polygon(f.polygon).representative_point()
+                    self._texts.append((f"{f.flow.speed_m_s:.1f} m/s toward {bearing_text(f.flow.bearing_deg)}",
+                                        _scene(c.x, c.y), theme.FLOW_LABEL))
+            self._texts += [(w, _scene(*p), theme.FLOW_LABEL) for w, p in river_side_labels(rig)]
+            water = getattr(result, "water", None) if result is not None and result.ok else None
+            if water is not None:
+                unit = rig.display.force
+                order = {r.id: i for i, r in enumerate(rig.ropes)}
+                for w in water.ropes:
+                    if not w.bowed:
+                        continue
+                    path = QPainterPath(_scene(*w.polyline[0]))
+                    for p in w.polyline[1:]:
+                        path.lineTo(_scene(*p))
+                    self._ropes.append((path, theme.rope_colour(order.get(w.rope, 0))))
+                    for idx, t in ((w.wet_from, w.tension_in_N), (w.wet_to, w.tension_out_N)):
+                        self._texts.append((format_force(t, unit), _scene(*w.polyline[idx]), theme.WET_TENSION))
+        pts = [p for a in self._arrows for p in a] + [t[1] for t in self._texts]
+        rect = QRectF()
+        for path, _ in self._ropes:
+            rect = rect.united(path.boundingRect())
+        if pts:
+            xs, ys = [p.x() for p in pts], [p.y() for p in pts]
+            rect = rect.united(QRectF(min(xs), min(ys), max(xs) - min(xs), max(ys) - min(ys)))
+        self._bounds = rect.adjusted(-8, -8, 8, 8)
+        self.update()
+
+    def boundingRect(self) -> QRectF:
+        return self._bounds
+
+    def paint(self, painter: QPainter, option, widget=None) -> None:
+        t = painter.worldTransform()
+        k = 1.0 / math.sqrt(abs(t.m11() * t.m22() - t.m12() * t.m21()) or 1.0)  # metres per pixel
+        painter.setRenderHint(QPainter.Antialiasing)
+        painter.setPen(theme.cosmetic_pen(theme.FLOW_ARROW, theme.FLOW_ARROW_PX))
+        head = 6.0 * k
+        for a, b in self._arrows:
+            painter.drawLine(a, b)
+            dx, dy = b.x() - a.x(), b.y() - a.y()
+            n = math.hypot(dx, dy) or 1.0
+            ux, uy = dx / n, dy / n
+            painter.drawPolyline(QPolygonF([QPointF(b.x() - ux * head - uy * head * 0.5, b.y() - uy * head + ux * head * 0.5),
+                                            b, QPointF(b.x() - ux * head + uy * head * 0.5, b.y() - uy * head - ux * head * 0.5)]))
+        for path, colour in self._ropes:
+            painter.setPen(theme.cosmetic_pen(colour, theme.BOWED_ROPE_PX))
+            painter.setBrush(Qt.NoBrush)
+            painter.drawPath(path)
+        fnt = theme.font(theme.SMALL_POINT_SIZE, bold=True)
+        painter.setFont(fnt)
+        for text, at, colour in self._texts:
+            painter.save()
+            painter.translate(at)
+            painter.scale(k, k)
+            w = painter.fontMetrics().horizontalAdvance(text)
+            painter.setPen(theme.PAPER if hasattr(theme, "PAPER") else Qt.white)
+            for ox, oy in ((-1, 0), (1, 0), (0, -1), (0, 1)):
+                painter.drawText(QPointF(-w / 2 + ox, -4 + oy), text)
+            painter.setPen(colour)
+            painter.drawText(QPointF(-w / 2, -4), text)
+            painter.restore()
