@@ -166,12 +166,14 @@ def _plan(rig: Rig, ff: FlowField) -> _Plan:
                                                y=a.y + (b.y - a.y) * t, label=f'rope "{rope.name}" in the water'))
                 ends = (rope.path[k],) + tuple(Pass(at=h) for h in hid) + (rope.path[k + 1],)
                 n = len(ends) - 1
-                rigged = rope.rigged if rope.rigged.pretension_N is not None else \
-                    replace(rope.rigged, slack_m=rope.rigged.slack_m / n)
+                cuts = (0.0, *ts, 1.0)
                 subs = []
                 for j in range(n):
                     sid = f"{HIDDEN}{rope.id}~{k}~s{j}"
                     subs.append(sid)
+                    # each segment keeps its share of the run's unstretched length: slack in proportion too
+                    rigged = rope.rigged if rope.rigged.pretension_N is not None else \
+                        replace(rope.rigged, slack_m=rope.rigged.slack_m * (cuts[j + 1] - cuts[j]))
                     first = replace(ends[j], how="tied") if j else ends[j]
                     last = replace(ends[j + 1], how="tied", hardware=None) if j < n - 1 else ends[j + 1]
                     ropes.append(Rope(id=sid, material=rope.material, path=(first, last), rigged=rigged,

@@ -77,8 +77,11 @@ def _segments(rig, plan, aug: Result) -> tuple[list[SegmentResult], dict]:
         if not parts:
             continue
         worst = max(parts, key=lambda s: s.tension_N)
+        length = sum(s.length_m for s in parts)
+        unstretched = sum(s.length_m / (1.0 + s.strain) for s in parts)
+        # the piece's mean strain: its length over its unstretched length (so length / (1 + strain) = L0)
         out.append(record(SegmentResult, rope=c.rope, index=c.piece, from_point=c.a, to_point=c.b,
-                          tension_N=worst.tension_N, length_m=sum(s.length_m for s in parts), strain=worst.strain,
+                          tension_N=worst.tension_N, length_m=length, strain=length / unstretched - 1.0,
                           utilization=worst.utilization, run=c.run))
     order = {r.id: i for i, r in enumerate(rig.ropes)}
     out.sort(key=lambda s: (order.get(s.rope, len(order)), s.index))
