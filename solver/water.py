@@ -286,8 +286,8 @@ def solve_in_water(rig: Rig, *, start=None, motion: str | None = None, ideal: bo
 class _BowMemo:
     """The last solved bow of each cut rope, to start the next warm solve from (drag speed only).
 
-    Keyed by the hidden point ids of a cut piece; a warm solve places each hidden point at its chord
-    fraction between the (possibly moved) ends plus the offset it had from the old chord.  Guarded by a
+    Keyed by (rope, piece); a warm solve places each hidden point at its chord fraction between the
+    (possibly moved) ends plus the old bow's offset from its chord at that fraction.  Guarded by a
     lock (live solves run off the GUI thread); it only chooses a starting point, never an answer: the
     solve is iterated to the same tolerance from any start (tested against a cold solve).
     """
@@ -296,7 +296,7 @@ class _BowMemo:
         import threading
 
         self._lock = threading.Lock()
-        self._bows: dict[tuple[str, ...], tuple[np.ndarray, np.ndarray]] = {}
+        self._bows: dict[tuple[str, int], tuple[np.ndarray, np.ndarray]] = {}
 
     def keep(self, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> None:
         with self._lock:
@@ -305,17 +305,23 @@ class _BowMemo:
             for c in plan.chains:
                 a, b = np.array(at[c.a]), np.array(at[c.b])
                 nodes = np.array([at[h] for h in c.hidden])
-                self._bows[c.hidden] = (np.array(c.ts), nodes - (a + np.outer(c.ts, b - a)))
+                self._bows[(c.rope, c.piece)] = (np.array(c.ts), nodes - (a + np.outer(c.ts, b - a)))
 
     def start(self, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> dict[str, tuple[float, float]]:
         out: dict[str, tuple[float, float]] = {}
         with self._lock:
             for c in plan.chains:
-                kept = self._bows.get(c.hidden)
-                if kept is None or len(kept[0]) != len(c.ts) or not np.allclose(kept[0], c.ts):
+                kept = self._bows.get((c.rope, c.piece))
+                if kept is None:
                     continue
+                ts_old, off = kept
+                grid = np.concatenate(([0.0], ts_old, [1.0]))
+                ts = np.array(c.ts)
+                # the old bow's offset from its chord, read at the new fractions (the water's edge may have moved)
+                shift = np.column_stack([np.interp(ts, grid, np.concatenate(([0.0], off[:, i], [0.0])))
+                                         for i in (0, 1)])
                 a, b = np.array(at[c.a]), np.array(at[c.b])
-                nodes = a + np.outer(c.ts, b - a) + kept[1]
+                nodes = a + np.outer(ts, b - a) + shift
                 out.update({h: (float(x), float(y)) for h, (x, y) in zip(c.hidden, nodes)})
         return out
 
