@@ -76,8 +76,14 @@ def river_side_labels(rig: Rig) -> list[tuple[str, tuple[float, float]]]:
         below.append(poly)
         if over or f.flow.speed_m_s <= 0:
             continue
-        c = poly.representative_point()
         span = math.hypot(poly.bounds[2] - poly.bounds[0], poly.bounds[3] - poly.bounds[1])
+        # upstream of the middle (where ropes and labels of a rig rarely are), inside the water
+        mid = poly.representative_point()
+        fb = math.radians(f.flow.bearing_deg)
+        up = LineString([(mid.x, mid.y), (mid.x - span * math.sin(fb), mid.y - span * math.cos(fb))])
+        reach = up.intersection(poly)
+        reach = max(getattr(reach, "geoms", [reach]), key=lambda g: g.length)
+        c = reach.interpolate(0.7, normalized=True) if not reach.is_empty else mid
         for word, bearing in zip(("river left", "river right"), river_sides(f.flow.bearing_deg)):
             b = math.radians(bearing)
             ray = LineString([(c.x, c.y), (c.x + span * math.sin(b), c.y + span * math.cos(b))])
@@ -118,6 +124,15 @@ class WaterItem(QGraphicsItem):
             water = getattr(result, "water", None) if result is not None and result.ok else None
             if water is not None:
                 unit = rig.display.force
+                for b in water.bodies:  # the current's push on each body, as an arrow downstream of it
+                    if b.force_N <= 0 or b.point not in result.points:
+                        continue
+                    x, y = result.points[b.point]
+                    n = math.hypot(b.fx_N, b.fy_N)
+                    tip = (x + 3.0 * b.fx_N / n, y + 3.0 * b.fy_N / n)
+                    self._arrows.append((_scene(x, y), _scene(*tip)))
+                    self._texts.append((f"current {format_force(b.force_N, unit)}", _scene(tip[0], tip[1] - 0.8),
+                                        theme.FLOW_LABEL))
                 order = {r.id: i for i, r in enumerate(rig.ropes)}
                 for w in water.ropes:
                     if not w.bowed:

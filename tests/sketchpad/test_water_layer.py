@@ -1,0 +1,52 @@
+"""The plan in moving water: the current's arrows, river sides, bowed ropes, and a dragged tether (pytest-qt)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from solver.rigfile import dumps_rig, load_rig
+from solver.water import HIDDEN
+
+SAMPLE = Path(__file__).resolve().parents[2] / "samples" / "tethered-boat-eddy.rig.json"
+
+
+def test_flow_arrows_follow_the_topmost_current_and_sides_face_downstream():
+    from sketchpad.water_layer import flow_arrows, river_side_labels
+
+    rig = load_rig(SAMPLE)
+    arrows = flow_arrows(rig)
+    assert arrows
+    east = [a for a in arrows if a[1][0] > a[0][0]]
+    west = [a for a in arrows if a[1][0] < a[0][0]]
+    assert east and west  # the main current east, the eddy back upstream
+    for (x0, y0), (x1, y1) in west:  # every westward arrow sits in the eddy drawn on top
+        assert 1.5 <= (x0 + x1) / 2 <= 18 and (y0 + y1) / 2 >= 3.5
+    sides = dict(river_side_labels(rig))
+    assert set(sides) == {"river left", "river right"}  # named once, on the main current, not on the eddy
+    assert sides["river left"][1] > 0 > sides["river right"][1]  # flowing east: left is north
+
+
+def test_dragging_a_tether_anchor_redraws_the_bowed_rope_and_keeps_hidden_points_out(main_window, mouse, qtbot):
+    w = main_window
+    rig = load_rig(SAMPLE)
+    w.document.replace_all(rig)
+    live = w.live
+    item = live.overlay.water_item
+    qtbot.waitUntil(lambda: bool(item._ropes), timeout=10000)
+    a2 = rig.point("A2")
+    mouse.drag(a2.x, a2.y, a2.x - 4.0, a2.y, steps=5, release=False)
+    qtbot.wait(200)
+    mouse.release(a2.x - 4.0, a2.y)
+    moved = w.document.rig.point("A2")
+    assert moved.x == pytest.approx(a2.x - 4.0, abs=0.1)
+    qtbot.waitUntil(lambda: live.overlay.result is not None and live.overlay.result.ok
+                    and live.overlay.result.points["A2"] == pytest.approx((moved.x, moved.y)), timeout=10000)
+    res = live.overlay.result
+    wet = next(r for r in res.water.ropes if r.rope == "T2")
+    assert wet.polyline[0] == pytest.approx((moved.x, moved.y))  # the bow starts at the moved anchor
+    assert wet.sag_m > 0.1
+    text = dumps_rig(w.document.rig)
+    assert HIDDEN not in text and not any(p.id.startswith(HIDDEN) for p in w.document.rig.points)
+    assert not any(HIDDEN in k for k in res.points) and not any(HIDDEN in s.rope for s in res.segments)
