@@ -200,19 +200,30 @@ def _positions(result: Result, plan: _Plan, base: Mapping[str, tuple[float, floa
 def _drag_forces(plan: _Plan, ff: FlowField, at: Mapping[str, tuple[float, float]]) -> tuple[dict[str, np.ndarray], dict]:
     """Drag (N) on every point at positions ``at``: lumped rope drag and body drag; and each chain's details."""
     forces: dict[str, np.ndarray] = {}
+    chain_info = {}
+    if plan.chains:  # every cut rope at once: one flow lookup for all segment middles
+        ids = [pid for c in plan.chains for pid in (c.a, *c.hidden, c.b)]
+        nodes = np.array([at[pid] for pid in ids], dtype=float)
+        bounds = np.cumsum([0] + [len(c.hidden) + 2 for c in plan.chains])
+        inner = np.ones(len(ids) - 1, dtype=bool)
+        inner[bounds[1:-1] - 1] = False  # no segment from one chain's last node to the next chain's first
+        mid = 0.5 * (nodes[1:] + nodes[:-1])
+        vel = np.zeros_like(mid)
+        vel[inner] = ff.velocity_at(mid[inner])
+        seg = np.diff(nodes, axis=0)
+        for c, i0, i1 in zip(plan.chains, bounds[:-1], bounds[1:]):
+            seg_f = rope_drag(nodes[i0:i1], vel[i0:i1 - 1], c.diameter_m)
+            shares = node_shares(seg_f)
+            for pid, f in zip(ids[i0:i1], shares):
+                old = forces.get(pid)
+                forces[pid] = f if old is None else old + f
+            chain_info[(c.rope, c.piece)] = (nodes[i0:i1], seg_f)
+        del seg
 
     def add(pid: str, f: np.ndarray) -> None:
-        forces[pid] = forces.get(pid, 0.0) + f
+        old = forces.get(pid)
+        forces[pid] = f if old is None else old + f
 
-    chain_info = {}
-    for c in plan.chains:
-        nodes = np.array([at[c.a], *(at[h] for h in c.hidden), at[c.b]], dtype=float)
-        mid = 0.5 * (nodes[1:] + nodes[:-1])
-        seg_f = rope_drag(nodes, ff.velocity_at(mid), c.diameter_m)
-        shares = node_shares(seg_f)
-        for pid, f in zip((c.a, *c.hidden, c.b), shares):
-            add(pid, f)
-        chain_info[(c.rope, c.piece)] = (nodes, seg_f)
     for lp in plan.lumped:
         a, b = np.array(at[lp.a]), np.array(at[lp.b])
         wet = ff.wet_intervals(tuple(a), tuple(b))

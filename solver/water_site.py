@@ -63,6 +63,7 @@ class FlowField:
     polygons: tuple[Polygon, ...]  # water features with a flow, topmost first
     velocities: np.ndarray  # (n, 2) m/s, same order
     ids: tuple[str, ...]
+    edges: tuple = ()  # each polygon's boundary, prepared (the water's edges a rope is split at)
 
     @property
     def empty(self) -> bool:
@@ -99,8 +100,10 @@ class FlowField:
         line = LineString([a, b])
         length = line.length
         cuts = {0.0, 1.0}
-        for poly in self.polygons:
-            hit = line.intersection(poly.boundary)
+        for poly, edge in zip(self.polygons, self.edges):
+            if not shapely.intersects(edge, line):
+                continue
+            hit = line.intersection(edge)
             for g in getattr(hit, "geoms", [hit]):
                 if g.is_empty:
                     continue
@@ -142,7 +145,10 @@ def build_field(moving: tuple) -> FlowField:
     for p in polys:
         shapely.prepare(p)
     vel = np.array([flow.velocity for _, _, flow in moving], dtype=float).reshape(-1, 2)
-    return FlowField(polygons=tuple(polys), velocities=vel, ids=tuple(fid for fid, _, _ in moving))
+    edges = tuple(p.boundary for p in polys)
+    for e in edges:
+        shapely.prepare(e)
+    return FlowField(polygons=tuple(polys), velocities=vel, ids=tuple(fid for fid, _, _ in moving), edges=edges)
 
 
 _field_of = lru_cache(maxsize=16)(build_field)
