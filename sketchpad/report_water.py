@@ -9,7 +9,7 @@ from __future__ import annotations
 from solver.directions import bearing_text
 from solver.model import Rig
 from solver.result import Result
-from solver.units import format_force, format_length
+from solver.units import format_force, format_length, format_speed
 from solver.water_drag import ROPE_CD
 from solver.water_warnings import BOW_SHARE, TETHER_RATIO
 
@@ -29,7 +29,7 @@ def water_table(rig: Rig, result: Result):
     rows: list[tuple[str, ...]] = []
     for f in rig.site.features:
         if f.kind == "water" and f.flow is not None:
-            rows.append(("current", f.label or f.id, f"{f.flow.speed_m_s:.1f} m/s toward "
+            rows.append(("current", f.label or f.id, f"{format_speed(f.flow.speed_m_s, lu)} toward "
                                                       f"{bearing_text(f.flow.bearing_deg)}", ""))
     for pid, side in water.sides:
         rows.append(("bank", _name(rig, pid), side, ""))
@@ -42,7 +42,7 @@ def water_table(rig: Rig, result: Result):
                      f"{format_force(w.tension_in_N, fu)} / {format_force(w.tension_out_N, fu)}"))
     for b in water.bodies:
         rows.append(("in the water", _name(rig, b.point),
-                     f"current's push {format_force(b.force_N, fu)} at {b.speed_m_s:.1f} m/s", ""))
+                     f"current's push {format_force(b.force_N, fu)} at {format_speed(b.speed_m_s, lu)}", ""))
     return Table("Moving water (river left / right facing downstream)",
                  ("what", "where", "the current", "tension at the wet ends"), rows, (1.2, 3.0, 3.6, 2.2),
                  note=water_note())

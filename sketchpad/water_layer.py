@@ -20,7 +20,7 @@ from sketchpad import theme
 from solver.model import Rig
 from solver.result import Result
 from solver.directions import bearing_text
-from solver.units import format_force
+from solver.units import format_force, format_speed
 from solver.water_site import flow_field, river_sides
 
 #: Arrows across the larger side of a feature's box (ours: dense enough to read, sparse enough to see through).
@@ -118,7 +118,7 @@ class WaterItem(QGraphicsItem):
                     from shapely.geometry import Polygon
 
                     c = Polygon(f.polygon).representative_point()
-                    self._texts.append((f"{f.flow.speed_m_s:.1f} m/s toward {bearing_text(f.flow.bearing_deg)}",
+                    self._texts.append((f"{format_speed(f.flow.speed_m_s, rig.display.length)} toward {bearing_text(f.flow.bearing_deg)}",
                                         _scene(c.x, c.y), theme.FLOW_LABEL))
             self._texts += [(w, _scene(*p), theme.FLOW_LABEL) for w, p in river_side_labels(rig)]
             water = getattr(result, "water", None) if result is not None and result.ok else None

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from solver.model import Rig
 from solver.result import Result, Warning_
-from solver.units import format_force
+from solver.units import format_force, format_speed
 from solver.water_site import FAST_WATER_M_S
 
 #: A rope pulling harder than this many times the body's own drag is "far beyond" it (ours).
@@ -40,7 +40,7 @@ def check_water(rig: Rig, result: Result) -> list[Warning_]:
             who = rig.point(end).name
             out.append(Warning_(
                 "rope-in-current", f"{w.rope},{end}",
-                f'rope "{name}" lies in {b.speed_m_s:.1f} m/s water and pulls on {who} with '
+                f'rope "{name}" lies in {format_speed(b.speed_m_s, rig.display.length)} water and pulls on {who} with '
                 f"{format_force(pull, unit)}, {pull / max(b.force_N, 1e-9):.1f} times the current's push on "
                 f"{who} itself ({format_force(b.force_N, unit)}): the water on the rope is the load. Never tie a "
                 f"rope to a person in current (the trade's rule); keep tethers out of the water or short "
