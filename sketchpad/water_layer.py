@@ -21,7 +21,7 @@ from solver.model import Rig
 from solver.result import Result
 from solver.directions import bearing_text
 from solver.units import format_force, format_speed
-from solver.water_site import flow_field, river_sides
+from solver.water_site import flow_field, main_current, river_sides
 
 #: Arrows across the larger side of a feature's box (ours: dense enough to read, sparse enough to see through).
 ARROWS_ACROSS = 10
@@ -60,22 +60,16 @@ def flow_arrows(rig: Rig) -> list[tuple[tuple[float, float], tuple[float, float]
 
 
 def river_side_labels(rig: Rig) -> list[tuple[str, tuple[float, float]]]:
-    """("river left"/"river right", site point) inside each main current, across its flow from its middle.
+    """("river left"/"river right", site point) inside the main current, across its flow upstream of its middle.
 
     An eddy (a current drawn over another) keeps the river's sides: they are named once, on the main current.
     """
     from shapely.geometry import LineString, Polygon
 
-    out = []
-    below: list = []
-    for f in rig.site.features:
-        if f.kind != "water" or f.flow is None or f.polygon is None:
-            continue
+    out: list[tuple[str, tuple[float, float]]] = []
+    f = main_current(rig)
+    if f is not None:
         poly = Polygon(f.polygon)
-        over = any(poly.intersects(p) for p in below)
-        below.append(poly)
-        if over or f.flow.speed_m_s <= 0:
-            continue
         span = math.hypot(poly.bounds[2] - poly.bounds[0], poly.bounds[3] - poly.bounds[1])
         # upstream of the middle (where ropes and labels of a rig rarely are), inside the water
         mid = poly.representative_point()
