@@ -25,16 +25,15 @@ from __future__ import annotations
 
 import logging
 import math
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 from typing import Mapping
 
 import numpy as np
 
 from solver.materials import material_for
-from solver.model import Feature, Force, Pass, Point, Rig, Rigging, Rope, Site
-from solver.result import Result, SegmentResult, Warning_
+from solver.model import Force, Pass, Point, Rig, Rope, Site
+from solver.result import Result, Warning_
 from solver.water_drag import body_drag, node_shares, rope_drag
-from solver.water_result import BodyDrag, WaterResult, WetRope
 from solver.water_site import FlowField, flow_field
 
 log = logging.getLogger(__name__)

@@ -15,7 +15,7 @@ from typing import Mapping
 
 import numpy as np
 
-from solver.result import Result, SegmentResult, Warning_, record
+from solver.result import Result, SegmentResult, record
 from solver.water_drag import body_drag
 from solver.water_result import BodyDrag, WaterResult, WetRope
 from solver.water_site import point_sides

@@ -8,8 +8,6 @@ Goal (issue: moving water): a 30 m rope across a 2 m/s current with a tethered b
 
 from __future__ import annotations
 
-import pytest
-
 from solver.equilibrium import solve
 from solver.model import Feature, Flow, Material, Pass, Point, Rig, Rigging, Rope, Site
 
