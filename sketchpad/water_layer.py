@@ -71,13 +71,7 @@ def river_side_labels(rig: Rig) -> list[tuple[str, tuple[float, float]]]:
     if f is not None:
         poly = Polygon(f.polygon)
         span = math.hypot(poly.bounds[2] - poly.bounds[0], poly.bounds[3] - poly.bounds[1])
-        # upstream of the middle (where ropes and labels of a rig rarely are), inside the water
-        mid = poly.representative_point()
-        fb = math.radians(f.flow.bearing_deg)
-        up = LineString([(mid.x, mid.y), (mid.x - span * math.sin(fb), mid.y - span * math.cos(fb))])
-        reach = up.intersection(poly)
-        reach = max(getattr(reach, "geoms", [reach]), key=lambda g: g.length)
-        c = reach.interpolate(0.7, normalized=True) if not reach.is_empty else mid
+        c = _upstream_point(poly, f.flow.bearing_deg)
         for word, bearing in zip(("river left", "river right"), river_sides(f.flow.bearing_deg)):
             b = math.radians(bearing)
             ray = LineString([(c.x, c.y), (c.x + span * math.sin(b), c.y + span * math.cos(b))])
@@ -85,9 +79,30 @@ def river_side_labels(rig: Rig) -> list[tuple[str, tuple[float, float]]]:
             line = max(getattr(hit, "geoms", [hit]), key=lambda g: g.length)
             if line.is_empty:
                 continue
-            far = line.interpolate(0.85, normalized=True)
+            far = line.interpolate(0.6, normalized=True)
             out.append((word, (far.x, far.y)))
     return out
+
+
+def _upstream_point(poly, bearing_deg: float):
+    """A point inside ``poly`` upstream of its middle (where a rig's ropes and labels rarely are)."""
+    from shapely.geometry import LineString
+
+    span = math.hypot(poly.bounds[2] - poly.bounds[0], poly.bounds[3] - poly.bounds[1])
+    mid = poly.representative_point()
+    fb = math.radians(bearing_deg)
+    up = LineString([(mid.x, mid.y), (mid.x - span * math.sin(fb), mid.y - span * math.cos(fb))])
+    reach = up.intersection(poly)
+    reach = max(getattr(reach, "geoms", [reach]), key=lambda g: g.length)
+    return reach.interpolate(0.7, normalized=True) if not reach.is_empty else mid
+
+
+def _speed_label_at(f, main):
+    """Where a current's speed is written: upstream on the main current, in the middle of an eddy."""
+    from shapely.geometry import Polygon
+
+    poly = Polygon(f.polygon)
+    return _upstream_point(poly, f.flow.bearing_deg) if f is main else poly.representative_point()
 
 
 class WaterItem(QGraphicsItem):
@@ -107,11 +122,12 @@ class WaterItem(QGraphicsItem):
         self._arrows, self._texts, self._ropes = [], [], []
         if rig is not None and rig.view == "plan":
             self._arrows = [(_scene(*a), _scene(*b)) for a, b in flow_arrows(rig)]
+            main = main_current(rig)
             for f in rig.site.features:
                 if f.flow is not None and f.polygon is not None and f.kind == "water":
                     from shapely.geometry import Polygon
 
-                    c = Polygon(f.polygon).representative_point()
+                    c = _speed_label_at(f, main)
                     self._texts.append((f"{format_speed(f.flow.speed_m_s, rig.display.length)} toward {bearing_text(f.flow.bearing_deg)}",
                                         _scene(c.x, c.y), theme.FLOW_LABEL))
             self._texts += [(w, _scene(*p), theme.FLOW_LABEL) for w, p in river_side_labels(rig)]

@@ -275,7 +275,7 @@ def solve_in_water(rig: Rig, *, start=None, motion: str | None = None, ideal: bo
     gap = math.inf
     iterations = 0
     for rounds in range(1, MAX_ROUNDS + 1):
-        result = solve(_with_forces(plan, forces), start=warm, motion=motion, ideal=ideal)
+        result = solve(_with_forces(plan, forces), start=warm, motion=motion, ideal=False)
         iterations += result.iterations
         log.debug("round %d: %d iterations, %s", rounds, result.iterations, result.status)
         if not result.points or result.status not in ("ok", "diverged"):
@@ -287,6 +287,10 @@ def solve_in_water(rig: Rig, *, start=None, motion: str | None = None, ideal: bo
         warm = at
         if gap <= ROUND_REL * _scale(rig, forces, result):
             break
+    if ideal and result is not None and result.ok and result.ma_ideal is None:
+        # friction acts: the frictionless re-solve behind the ideal MA, once, with the settled drag
+        ma_ideal = solve(_with_forces(plan, forces), start=at, motion=motion, ideal=True).ma_ideal
+        result = replace(result, ma_ideal=ma_ideal)
     if result is not None and result.ok:
         _LAST_BOW.keep(plan, at)
     result = replace(result, iterations=iterations)
