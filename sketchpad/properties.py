@@ -582,6 +582,9 @@ class FeaturePage(_Page):
         self.form.addRow("Kind", self.kind)
         self.label.committed.connect(lambda v: self._set(label=v or ""))
         self.kind.currentIndexChanged.connect(lambda _i: self._set(kind=self.kind.currentData()))
+        from sketchpad.water_fields import FlowFields
+
+        self.flow = FlowFields(self)  # a water feature's current
 
     def show_feature(self, feature_id: str) -> None:
         self.feature_id = feature_id
@@ -592,6 +595,8 @@ class FeaturePage(_Page):
         feats = list(rig.site.features)
         for i, f in enumerate(feats):
             if f.id == self.feature_id:
+                if kw.get("kind", f.kind) != "water":
+                    kw["flow"] = None  # only water carries a current
                 new = replace(f, **kw)
                 if new != f:
                     feats[i] = new
@@ -605,6 +610,7 @@ class FeaturePage(_Page):
         self.header.setText(f"<b>Site feature</b> {f.id}")
         self.label.set_value(f.label)
         _set_combo(self.kind, f.kind)
+        self.flow.refresh(f, rig)
 
 
 # --- the rig (nothing selected) ---------------------------------------------------------

@@ -50,3 +50,42 @@ def test_dragging_a_tether_anchor_redraws_the_bowed_rope_and_keeps_hidden_points
     text = dumps_rig(w.document.rig)
     assert HIDDEN not in text and not any(p.id.startswith(HIDDEN) for p in w.document.rig.points)
     assert not any(HIDDEN in k for k in res.points) and not any(HIDDEN in s.rope for s in res.segments)
+
+
+def test_current_fields_on_a_water_feature_set_the_flow_as_one_undoable_edit(qtbot):
+    from dataclasses import replace
+
+    from sketchpad.document import Document
+    from sketchpad.properties import PropertiesDock
+    from solver.model import Display
+    from tests.sketchpad.test_properties import type_into
+
+    rig = load_rig(SAMPLE)
+    doc = Document(rig)
+    dock = PropertiesDock(doc)
+    qtbot.addWidget(dock)
+    dock.show()
+    qtbot.waitExposed(dock)
+    dock.activateWindow()
+    panel = dock.panel
+    panel.show_subject("feature", "W1")
+    page = panel.feature_page
+    assert page.flow.speed.isVisible() and page.flow.speed.edit.text().startswith("2.2")
+    type_into(qtbot, page.flow.speed, "3")
+    assert doc.rig.site.features[0].flow.speed_m_s == pytest.approx(3.0)
+    type_into(qtbot, page.flow.toward, "120")
+    assert doc.rig.site.features[0].flow.bearing_deg == pytest.approx(120.0)
+    assert doc.undo_stack.count() == 2
+    doc.undo_stack.undo()
+    doc.undo_stack.undo()
+    assert doc.rig.site.features[0].flow == rig.site.features[0].flow
+    type_into(qtbot, page.flow.speed, "")  # cleared: still water
+    assert doc.rig.site.features[0].flow is None
+    # feet: speeds in mph (1 mph = 0.44704 m/s, NIST SP 811), as the load estimate
+    doc.apply(replace(doc.rig, display=Display("ft", "lbf")), "units")
+    panel.show_subject("feature", "W1")
+    type_into(qtbot, page.flow.speed, "5")
+    assert doc.rig.site.features[0].flow.speed_m_s == pytest.approx(5 * 0.44704)
+    # a boulder carries no current: the rows hide
+    panel.show_subject("feature", "R1")
+    assert not page.flow.speed.isVisible()
