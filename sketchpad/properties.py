@@ -247,6 +247,9 @@ class PointPage(_Page):
         self.per_person.committed.connect(lambda v: self._set_haul(force_per_person_N=v))
         self.total.committed.connect(lambda v: self._set("force_N", v, "Set total pull"))
         self.mass.committed.connect(lambda v: self._set("mass_kg", v, "Set mass"))
+        from sketchpad.water_fields import BodyFields
+
+        self.body = BodyFields(self)  # in moving water: wetted area and shape
 
     def show_point(self, point_id: str) -> None:
         self.point_id = point_id
@@ -340,6 +343,7 @@ class PointPage(_Page):
         }
         for key, show in visible.items():
             self.form.setRowVisible(self.rows[key], show)
+        self.body.refresh(p, rig)
 
 
 # --- ropes -----------------------------------------------------------------------------

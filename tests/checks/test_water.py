@@ -210,3 +210,12 @@ def test_warnings_for_a_tethered_body_and_a_bowed_rope():
     # no current: no water warnings
     dry = analyse(replace(rig, site=Site()))
     assert not {"rope-in-current", "rope-bowed"} & {w.code for w in dry.warnings}
+
+
+def test_elevation_view_has_no_current():
+    # the side view is untouched: a current drawn on the site pushes nothing there
+    rig = replace(across(), view="elevation")
+    r = solve(rig)
+    assert r.water is None
+    dry = solve(replace(rig, site=Site()))
+    assert r.segments == dry.segments

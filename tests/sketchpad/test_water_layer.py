@@ -5,6 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
+from PySide6.QtCore import Qt
 
 from solver.rigfile import dumps_rig, load_rig
 from solver.water import HIDDEN
@@ -89,3 +90,32 @@ def test_current_fields_on_a_water_feature_set_the_flow_as_one_undoable_edit(qtb
     # a boulder carries no current: the rows hide
     panel.show_subject("feature", "R1")
     assert not page.flow.speed.isVisible()
+
+
+def test_wetted_area_and_shape_fields_and_the_force_from_the_current(qtbot):
+    from sketchpad.document import Document
+    from sketchpad.properties import PropertiesDock
+    from tests.sketchpad.test_properties import type_into
+
+    rig = load_rig(Path(__file__).resolve().parents[2] / "samples" / "raft-3to1-redirect.rig.json")
+    doc = Document(rig)
+    dock = PropertiesDock(doc)
+    qtbot.addWidget(dock)
+    dock.show()
+    qtbot.waitExposed(dock)
+    dock.activateWindow()
+    panel = dock.panel
+    panel.show_subject("point", "L1")
+    body = panel.point_page.body
+    assert body.area.isVisible() and not body.from_current.isVisible()
+    type_into(qtbot, body.area, "1.5")
+    p = doc.rig.point("L1")
+    assert p.wetted_area_m2 == pytest.approx(1.5) and p.drag_shape == "raft-broadside"  # a shape comes with it
+    body.shape.setCurrentIndex(body.shape.findData("hull-side-on"))
+    assert doc.rig.point("L1").drag_shape == "hull-side-on"
+    assert body.from_current.isVisible()
+    qtbot.mouseClick(body.from_current, Qt.MouseButton.LeftButton)
+    # drag equation, Matthews: long flat plate 1.98; 2.0 m/s; rho 1000 kg/m^3
+    assert doc.rig.point("L1").required_N == pytest.approx(0.5 * 1000 * 1.98 * 1.5 * 2.0 ** 2)
+    body.shape.setCurrentIndex(0)  # "—": out of the water
+    assert doc.rig.point("L1").wetted_area_m2 is None and doc.rig.point("L1").drag_shape is None
