@@ -53,21 +53,28 @@ def test_dragging_a_tether_anchor_redraws_the_bowed_rope_and_keeps_hidden_points
     assert not any(HIDDEN in k for k in res.points) and not any(HIDDEN in s.rope for s in res.segments)
 
 
-def test_current_fields_on_a_water_feature_set_the_flow_as_one_undoable_edit(qtbot):
-    from dataclasses import replace
-
+def _panel(qtbot, rig):
+    """A shown property dock on a new Document of ``rig``: (document, dock); the caller keeps the dock alive."""
     from sketchpad.document import Document
     from sketchpad.properties import PropertiesDock
-    from solver.model import Display
-    from tests.sketchpad.test_properties import type_into
 
-    rig = load_rig(SAMPLE)
     doc = Document(rig)
     dock = PropertiesDock(doc)
     qtbot.addWidget(dock)
     dock.show()
     qtbot.waitExposed(dock)
     dock.activateWindow()
+    return doc, dock
+
+
+def test_current_fields_on_a_water_feature_set_the_flow_as_one_undoable_edit(qtbot):
+    from dataclasses import replace
+
+    from solver.model import Display
+    from tests.sketchpad.test_properties import type_into
+
+    rig = load_rig(SAMPLE)
+    doc, dock = _panel(qtbot, rig)
     panel = dock.panel
     panel.show_subject("feature", "W1")
     page = panel.feature_page
@@ -93,17 +100,10 @@ def test_current_fields_on_a_water_feature_set_the_flow_as_one_undoable_edit(qtb
 
 
 def test_wetted_area_and_shape_fields_and_the_force_from_the_current(qtbot):
-    from sketchpad.document import Document
-    from sketchpad.properties import PropertiesDock
     from tests.sketchpad.test_properties import type_into
 
     rig = load_rig(Path(__file__).resolve().parents[2] / "samples" / "raft-3to1-redirect.rig.json")
-    doc = Document(rig)
-    dock = PropertiesDock(doc)
-    qtbot.addWidget(dock)
-    dock.show()
-    qtbot.waitExposed(dock)
-    dock.activateWindow()
+    doc, dock = _panel(qtbot, rig)
     panel = dock.panel
     panel.show_subject("point", "L1")
     body = panel.point_page.body
