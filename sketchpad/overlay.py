@@ -60,6 +60,7 @@ from solver.directions import direction_text
 from solver.model import Rig
 from solver.readouts import ma_short, use_text
 from solver.result import Result
+from solver.pull_needed import need_phrase
 from solver.units import format_force
 
 log = logging.getLogger(__name__)
@@ -540,7 +541,8 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             p = points.get(lid)
             if lid not in pos or p is None:
                 return (lid,), None, None, None
-            mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid], rig.view)
+            need = needs.get(lid)  # the pull needed: solved once the drawing is still
+            mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid], rig.view, need, unit)
             hit = old.get(mkey)
             if hit is not None:
                 return (lid,), mkey, hit[0], None
@@ -552,14 +554,18 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             if p.required_N is not None:
                 enough = f.force_N >= p.required_N
                 lines.append(f"needs {format_force(p.required_N, unit)}" + ("" if enough else " — short"))
+                if need is not None and not enough:
+                    lines.append(need_phrase(rig, need))
                 values["required_N"] = float(p.required_N)
                 colour = QColor(theme.UTIL_RAMP[0][1] if enough else theme.UTIL_RAMP[-1][1])
             lab = OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
                                priority=95.0, base=pos[lid], prefer=(-d[0], -d[1]))
             return (lid,), mkey, lab, None
 
+        needs = result.needs
         part = parts["l"]
-        part.update(names_l, tuple(loads.values()), dirty, load)
+        # the needs arrive with the analysis at a pause, on load records a drag step may share: remake when they do
+        part.update(names_l, tuple(loads.values()), dirty if not needs else None, load)
         labels += filter(None, part.outs)
 
         haul = result.haul
@@ -2252,7 +2258,8 @@ class Legend(QWidget):
 
 
 def summary_lines(rig: Rig, result: Result) -> list[str]:
-    """The system in a few lines: MA nominal/ideal/actual, haul force and haulers, load delivered vs needed."""
+    """The system in a few lines: MA nominal/ideal/actual, haul force, load delivered vs needed and the pull that
+    needs."""
     unit = rig.display.force
     points = {p.id: p for p in rig.points}
     out = []
@@ -2272,6 +2279,8 @@ def summary_lines(rig: Rig, result: Result) -> list[str]:
         text = f"to {p.name}: {format_force(f.force_N, unit)}"
         if p.required_N is not None:
             text += f" of {format_force(p.required_N, unit)} needed"
+            if lid in result.needs:  # solved once the drawing is still (solver.pull_needed)
+                text += f" → {need_phrase(rig, result.needs[lid])}"
         out.append(text)
     out.append(f"safety factor {rig.settings.min_safety_factor:g}:1 · {rig.settings.motion}")
     return out

@@ -18,7 +18,7 @@ ANCHOR_TYPES: tuple[str, ...] = ("tree", "boulder", "vehicle", "picket", "bolt",
 PASS_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge", "hauled")
 MIDDLE_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge")
 MATERIAL_KINDS: tuple[str, ...] = ("rope", "sling", "cord")
-HARDWARE_KINDS: tuple[str, ...] = ("pulley", "carabiner", "edge", "ring")
+HARDWARE_KINDS: tuple[str, ...] = ("pulley", "carabiner", "edge", "ring", "grab")
 FEATURE_KINDS: tuple[str, ...] = ("water", "boulder", "bank", "hazard", "note")
 MOTIONS: tuple[str, ...] = ("haul", "hold", "lower")
 VIEWS: tuple[str, ...] = ("plan", "elevation")
@@ -97,6 +97,7 @@ class Pass:
     how: str = "tied"
     hardware: str | None = None
     extra: Mapping[str, Any] = field(default_factory=dict)
+    termination: str | None = None  # tied pass: how the rope ends or is knotted there (solver.weak_links)
 
 
 @dataclass(frozen=True)
@@ -208,6 +209,7 @@ class Hardware:
     source: str = ""
     size_m: float | None = None  # closest two passes may come (two-blocking), optional
     extra: Mapping[str, Any] = field(default_factory=dict)
+    slip_N: float | None = None  # grab: held force above which it slides along the rope (a designed slip point)
 
     @property
     def name(self) -> str:

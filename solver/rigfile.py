@@ -65,7 +65,7 @@ _POINT: _Spec = (
     ("force_per_person_N", "float", None), ("capacity_kind", "str", "strength"),
     ("wetted_area_m2", "float", None), ("drag_shape", "str", None),
 )
-_PASS: _Spec = (("at", "str", _REQUIRED), ("how", "str", "tied"), ("hardware", "str", None))
+_PASS: _Spec = (("at", "str", _REQUIRED), ("how", "str", "tied"), ("hardware", "str", None), ("termination", "str", None))
 _RIGGING: _Spec = (("slack_m", "float", 0.0), ("pretension_N", "float", None))
 _ROPE: _Spec = (("id", "str", _REQUIRED), ("material", "str", _REQUIRED), ("label", "str", ""))
 _MATERIAL: _Spec = (
@@ -76,6 +76,7 @@ _MATERIAL: _Spec = (
 _HARDWARE: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("efficiency", "float", None), ("mbs_N", "float", None),
     ("friction_coefficient", "float", None), ("size_m", "float", None), ("label", "str", ""), ("source", "str", ""),
+    ("slip_N", "float", None),
 )
 _FORCE: _Spec = (
     ("at", "str", _REQUIRED), ("magnitude_N", "float", _REQUIRED), ("direction_deg", "float", _REQUIRED),
@@ -795,6 +796,7 @@ def _check_rope(rig: m.Rig, rope: m.Rope, points: Mapping[str, m.Point], where: 
         if ps.how not in m.PASS_HOWS:
             raise RigFileError(f'unknown pass kind "{ps.how}"', where=f"{here}.how")
         _check_pass_hardware(rig, ps, f"{here}.hardware")
+        _check_weak_link(rig, ps, here)
 
 
 def _check_pass_hardware(rig: m.Rig, ps: m.Pass, where: str) -> None:
@@ -815,6 +817,23 @@ def _check_pass_hardware(rig: m.Rig, ps: m.Pass, where: str) -> None:
         raise RigFileError(f'"{hw.id}" has no efficiency, so it cannot be used as a pulley', where=where)
     if ps.how == "edge" and hw.friction_coefficient is None:
         raise RigFileError(f'"{hw.id}" has no friction_coefficient, so it cannot be used as an edge', where=where)
+
+
+def _check_weak_link(rig: m.Rig, ps: m.Pass, where: str) -> None:
+    """A termination or a rope grab belongs on a tied pass, and a termination must be one we know."""
+    from solver.weak_links import TERMINATIONS
+
+    if ps.termination is not None:
+        if ps.termination not in TERMINATIONS:
+            raise RigFileError(f'unknown termination "{ps.termination}"; use one of {", ".join(TERMINATIONS)}',
+                               where=f"{where}.termination")
+        if ps.how != "tied":
+            raise RigFileError(f'a termination says how the rope is tied at a point; this pass is "{ps.how}"',
+                               where=f"{where}.termination")
+    hw = _hardware(rig, ps.hardware) if ps.hardware else None
+    if hw is not None and hw.kind == "grab" and ps.how != "tied":
+        raise RigFileError(f'"{hw.id}" is a rope grab: it holds the rope where it is tied (how "tied"), '
+                           f'not as a "{ps.how}" pass', where=f"{where}.hardware")
 
 
 def _check_site(site: m.Site, base_dir: str | os.PathLike[str] | None) -> None:

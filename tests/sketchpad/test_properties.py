@@ -215,6 +215,33 @@ def test_rope_material_slack_and_pass_hardware(dock, qtbot, tmp_path):
     rigfile.save_rig(doc.rig, tmp_path / "edited.rig.json")  # every edit left a rig the file format accepts
 
 
+def test_tied_pass_takes_a_termination_and_a_rope_grab_each_undoable(dock, qtbot, tmp_path):
+    panel = dock.panel
+    doc = panel.document
+    panel.show_subject("rope", "R1")
+    page = panel.rope_page
+    term = page._term_widgets[0]  # the rope's first pass: always tied
+    assert not term.isHidden()
+    term.setCurrentIndex(term.findData("figure-8-loop"))
+    assert doc.rig.rope("R1").path[0].termination == "figure-8-loop"
+    assert "75 % of MBS" in term.currentText().replace("%", " %").replace("  ", " ")
+    _, hw = page._pass_widgets[0]
+    assert hw.findData("prusik-3-wrap") >= 0  # a tied pass offers the rope grabs
+    hw.setCurrentIndex(hw.findData("prusik-3-wrap"))
+    assert doc.rig.rope("R1").path[0].hardware == "prusik-3-wrap"
+    doc.undo_stack.undo()
+    assert doc.rig.rope("R1").path[0].hardware != "prusik-3-wrap"
+    doc.undo_stack.undo()
+    assert doc.rig.rope("R1").path[0].termination is None
+    doc.undo_stack.redo()
+    assert doc.rig.rope("R1").path[0].termination == "figure-8-loop"
+    how, _ = page._pass_widgets[1]
+    if how.findData("pulley") >= 0:  # a middle pass over a pulley hides the termination choice
+        how.setCurrentIndex(how.findData("pulley"))
+        assert page._term_widgets[1].isHidden()
+    rigfile.save_rig(doc.rig, tmp_path / "edited.rig.json")
+
+
 def test_force_magnitude_and_direction(dock, qtbot):
     panel = dock.panel
     doc = panel.document
