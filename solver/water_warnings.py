@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from solver.model import Rig
 from solver.result import Result, Warning_
-from solver.units import format_force, format_speed
+from solver.units import format_force, format_length, format_speed
 from solver.water_site import FAST_WATER_M_S
 
 #: A rope pulling harder than this many times the body's own drag is "far beyond" it (ours).
@@ -49,8 +49,8 @@ def check_water(rig: Rig, result: Result) -> list[Warning_]:
         if w.bowed and w.drag_N > BOW_SHARE * top:
             out.append(Warning_(
                 "rope-bowed", w.rope,
-                f'rope "{name}" is bowed {w.sag_m:.1f} m downstream: the current pushes on it with '
-                f"{format_force(w.drag_N, unit)}, more than {BOW_SHARE:.0%} of its tension "
+                f'rope "{name}" is bowed {format_length(w.sag_m, rig.display.length)} off its straight line: '
+                f"the current pushes on it with {format_force(w.drag_N, unit)}, more than {BOW_SHARE:.0%} of its tension "
                 f"({format_force(top, unit)}; our threshold). The river, not the rig, sets its load: "
                 f"expect it to swing and strum, and re-check if the water rises.", "warning"))
     return out

@@ -83,3 +83,18 @@ def test_stuck_load_gets_its_required_force_from_the_current_when_asked():
     assert asked.point("B").extra["load_estimate"]["speed_m_s"] == pytest.approx(2.0)
     with pytest.raises(RigModelError, match="not in moving water"):
         required_from_current(rig.moved("B", 0, 30), "B")
+
+
+def test_solve_table_names_currents_river_sides_and_wet_ropes():
+    # the CLI table carries the same moving-water rows as the report, in the rig's units
+    from pathlib import Path
+
+    from solver.analysis import analyse
+    from solver.cli_solve import format_result
+    from solver.rigfile import load_rig
+
+    rig = load_rig(Path(__file__).resolve().parents[2] / "samples" / "tethered-boat-eddy.rig.json")
+    text = format_result(rig, analyse(rig), "ft", "lbf")
+    assert "Moving water (river left / right facing downstream)" in text
+    assert "4.9 mph toward 090° (E)" in text  # 2.2 m/s / 0.44704 (NIST SP 811)
+    assert "river left" in text and "river right" in text and "river-right tether" in text
