@@ -74,7 +74,7 @@ LAYERS: dict[str, str] = {
     "stretch": "Rope &stretch",
 }
 #: Middle passes whose turn is labelled (tied passes are knots and grabs, not redirects).
-TURNING_HOWS = frozenset({"pulley", "sliding", "edge"})
+TURNING_HOWS = frozenset({"pulley", "sliding", "edge", "capture"})
 #: Pieces carrying less than this (N) are labelled "slack".
 SLACK_N = 1.0
 #: Utilization buckets for the band paths (one path and pen per bucket).

@@ -661,6 +661,10 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     footer_h = 28.0
     content = QRectF(m, m, page_w - 2 * m, page_h - 2 * m - footer_h)
     sweep_data = haul_sweep(rig) if result.ok else (None, 0.0, "")
+    from sketchpad.haul_report import add_haul_page, haul_table, plan_for_report
+
+    haul = plan_for_report(rig) if result.ok else None  # a page of its own when there is a load to move
+
     from sketchpad.report_failures import failure_section
 
     failures = failure_section(rig, result)
@@ -684,8 +688,10 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     for sizes in LAYOUTS:
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
         _compose(counter, rig, result, drawing, when, source, plot_for(sizes[1]), sizes, failures)
+        if haul is not None:
+            add_haul_page(counter, rig, haul)
         total = counter.finish()
-        if total <= 2:
+        if total <= 2 + (haul is not None):
             break
 
     def footer(p: QPainter, n: int) -> None:
@@ -703,11 +709,14 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
         painter.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing | QPainter.SmoothPixmapTransform)
         flow = Flow(writer, painter, content, footer, writer.newPage)
         _compose(flow, rig, result, drawing, when, source, plot_for(sizes[1]), sizes, failures)
+        if haul is not None:
+            add_haul_page(flow, rig, haul)
         pages = flow.finish()
     finally:
         painter.end()
     log.info("wrote report %s (%d pages)", path, pages)
     tables = [rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result)] if result.ok else []
+    tables += [haul_table(rig, haul)] if haul is not None else []
     return Report(path, pages, result, tables)
 
 

@@ -22,7 +22,7 @@ from numpy.typing import NDArray
 
 from solver.errors import RigModelError
 from solver.materials import hardware_for, material_for
-from solver.model import MIDDLE_HOWS, MOTIONS, STANDARD_GRAVITY, Hardware, Material, Rig
+from solver.model import MIDDLE_HOWS, MOTIONS, SHEAVE_HOWS, STANDARD_GRAVITY, Hardware, Material, Rig
 from solver.stretch import StretchCurve
 from solver import pass_order
 from solver.weak_links import piece_efficiency
@@ -614,7 +614,7 @@ def _pass_factor(rope_name: str, ps, hardware, where: str) -> tuple[int, float, 
     """(kind, efficiency, friction coefficient, hardware id) of a middle pass of a run."""
     if ps.how == "sliding":
         return PASS_SLIDING, 1.0, 0.0, ps.hardware
-    if ps.how == "pulley":
+    if ps.how in SHEAVE_HOWS:  # a capture runs like its pulley while the rope is hauled in
         if not ps.hardware:
             raise RigModelError(f'the pulley at "{ps.at}" on rope "{rope_name}" has no hardware chosen: '
                                 "pick a pulley or carabiner so its efficiency is known", where=where, subject=ps.at)

@@ -58,11 +58,13 @@ import shapely
 from shapely.geometry import LineString, Point as ShPoint, Polygon
 from shapely.geometry.base import BaseGeometry
 
+from solver.capture_checks import check_captures
 from solver.danger import DangerZone, Piece, danger_zones, pieces, positions
 from solver.errors import RopewrightError
+from solver.hauling import haulers_needed
 from solver.pull_needed import check_short
 from solver.weak_links import check_grabs, weakest_ends
-from solver.model import Hardware, Material, Rig
+from solver.model import Hardware, Material, Rig, is_tended_tail
 from solver.result import Result, Warning_
 from solver.tensioned_line import check_tensioned_lines, is_line_leg_pair
 from solver.water_warnings import check_water
@@ -433,10 +435,13 @@ def check_slack(rig: Rig, result: Result) -> list[Warning_]:
     if not candidates:
         return out
     tens = {(s.rope, s.index): float(s.tension_N) for s in result.segments}
+    pts = {p.id: p for p in rig.points}
     for rope in rig.ropes:
         if rope.id not in candidates:
             continue
         for run in rope.runs():
+            if is_tended_tail(rope, run, pts):
+                continue  # slack by design until the capture holds it
             ts = [tens.get((rope.id, i)) for i in run.piece_indices]
             if not ts or any(t is None for t in ts):
                 continue
@@ -670,7 +675,8 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
 #: Checks that need solved forces, in report order.
 FORCE_CHECKS: tuple[Callable[[Rig, Result], list[Warning_]], ...] = (
     check_anchors, check_ropes, check_hardware, check_wide_anchors, check_tensioned_lines, check_slack,
-    check_abrasion, check_haul, check_short, check_two_blocked, check_people, check_grabs, check_water,
+    check_abrasion, check_haul, check_short, check_two_blocked, check_people, check_grabs, check_captures,
+    check_water,
 )
 
 

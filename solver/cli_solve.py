@@ -92,12 +92,14 @@ def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -
         for rng_name, rng in (("haul", result.hold_haul_range), ("anchor", result.hold_anchor_range)):
             for k, r in rng.items():
                 parts.append(f"Hold range, {rng_name} {k}: {f(r.low)} to {f(r.high)}")
-    if result.warnings:
-        parts.append("\nWarnings")
-        parts += [f"  [{w.code}] {w.subject}: {w.message}" for w in result.warnings]
-    parts.append("")
-    parts += [f"Caution: {line}" for line in caution_lines()]
-    return "\n".join(parts)
+    return closing(parts, [f"[{w.code}] {w.subject}: {w.message}" for w in result.warnings])
+
+
+def closing(parts: list[str], warnings: list[str]) -> str:
+    """``parts`` and the warnings (if any) and the caution lines, as the text a command prints."""
+    if warnings:
+        parts = parts + ["\nWarnings"] + [f"  {w}" for w in warnings]
+    return "\n".join(parts + [""] + [f"Caution: {line}" for line in caution_lines()])
 
 
 def _weak_link_rows(rig: Rig, result: Result, f) -> list[list[str]]:

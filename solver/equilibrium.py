@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import logging
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -46,7 +46,8 @@ from solver.assembly import (
 from solver.errors import RigModelError
 from solver.model import Rig
 from solver.result import AnchorResult, HoldRange, Result, SegmentResult, Warning_, record
-from solver.water import in_water, solve_in_water
+from solver.run_lengths import with_unstretched
+from solver.water import dry_site, in_water, solve_in_water, without_current
 
 log = logging.getLogger(__name__)
 
@@ -1233,8 +1234,12 @@ def _compiled(rig: Rig, motion: str | None) -> System:
 
 
 @solving_on_one_blas_thread  # small dense problems: one BLAS thread (solver/blas_threads.py)
-def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True) -> Result:
+def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True,
+          unstretched_m: Mapping[str, float] | None = None) -> Result:
     """Solve ``rig`` for static equilibrium; ``start`` = {point_id: (x, y)} warm start, metres.
+
+    ``unstretched_m`` = {rope_id: m} sets the unstretched length of one-run tied ropes instead of
+    their rigging (the haul plan's rope paid in; :func:`solver.run_lengths.with_unstretched`).
 
     ``ideal`` False skips the frictionless re-solve behind ``ma_ideal`` (None then, when friction
     acts): the live drag asks for the equilibrium alone, and the ideal MA follows with the
@@ -1256,9 +1261,14 @@ def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True
     geometry differs from the friction geometry only by the small swing friction causes.
     """
     if rig.site.features and in_water(rig):  # currents push on ropes and bodies: solver.water
-        return solve_in_water(rig, start=start, motion=motion, ideal=ideal)
+        if unstretched_m is None:
+            return solve_in_water(rig, start=start, motion=motion, ideal=ideal)
+        return without_current(solve(dry_site(rig), start=start, motion=motion, ideal=ideal,
+                                     unstretched_m=unstretched_m))
     try:
         s = _compiled(rig, motion)
+        if unstretched_m:
+            s = with_unstretched(s, unstretched_m)
     except RigModelError as exc:
         return Result(status="invalid", message=exc.message, subject=exc.subject or exc.where)
     motion = s.motion

@@ -57,6 +57,19 @@ def in_water(rig: Rig) -> bool:
     return rig.view == "plan" and not flow_field(rig).empty
 
 
+def dry_site(rig: Rig) -> Rig:
+    """``rig`` with every current taken off its water features (still water)."""
+    feats = tuple(replace(f, flow=None) for f in rig.site.features)
+    return replace(rig, site=replace(rig.site, features=feats))
+
+
+def without_current(result: Result) -> Result:
+    """A still-water ``result`` that says so: the stroke-by-stroke haul (unstretched lengths given) has no current yet."""
+    note = Warning_("water-left-out", "", "The current's push is left out of this stroke-by-stroke haul: its "
+                                          "ropes and loads are solved in still water.", "warning")
+    return replace(result, warnings=tuple(result.warnings) + (note,))
+
+
 @dataclass(frozen=True)
 class _Chain:
     """One subdivided piece: rope ``rope`` piece ``piece`` from ``a`` to ``b``, hidden points at fractions ``ts``."""

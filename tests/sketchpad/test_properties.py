@@ -346,6 +346,30 @@ def test_a_drag_elsewhere_leaves_the_rig_page_as_it_is(dock, qtbot):
     assert not rp.min_sf.has_error and float(rp.min_sf.edit.text().split()[0].rstrip(":1")) == 8.0
 
 
+def test_a_pass_turned_into_a_capture_holds_with_the_kits_grab_and_the_grab_can_be_changed(dock, qtbot, tmp_path):
+    # issue 22: a progress capture runs as its pulley and holds with a rope grab (its slip force counts)
+    from solver.model import Hardware
+
+    panel = dock.panel
+    doc = panel.document
+    strong = Hardware("g-strong", "grab", mbs_N=30000.0, slip_N=12000.0, label="strong grab")
+    doc.replace_all(replace(doc.rig, hardware=doc.rig.hardware + (strong,)))
+    panel.show_subject("rope", "R1")
+    page = panel.rope_page
+    how, _hw = page._pass_widgets[1]
+    grab_box = page._grab_widgets[1]
+    assert not grab_box.isVisibleTo(page)  # only a capture holds with a grab
+    how.setCurrentIndex(how.findData("capture"))
+    ps = doc.rig.rope("R1").path[1]
+    assert (ps.how, ps.grab) == ("capture", "prusik-3-wrap") and ps.hardware
+    assert grab_box.isVisibleTo(page)
+    grab_box.setCurrentIndex(grab_box.findData("g-strong"))
+    assert doc.rig.rope("R1").path[1].grab == "g-strong"
+    doc.undo_stack.undo()
+    assert doc.rig.rope("R1").path[1].grab == "prusik-3-wrap"
+    rigfile.save_rig(doc.rig, tmp_path / "capture.rig.json")  # the file format accepts it
+
+
 def test_capacity_kind_is_chosen_in_the_panel_and_names_the_field(dock, qtbot):
     # The panel says which number is being entered: a breaking strength (÷ safety factor) or a rated
     # working load (no factor); choosing one is one undoable edit.

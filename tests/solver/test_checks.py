@@ -520,3 +520,23 @@ def test_hold_uses_the_anchor_range_for_the_redirect_pulley_alone_on_it():
     assert "hardware-margin" not in codes(run_checks(rig, res))
     held = replace(res, hold_anchor_range={"A": HoldRange(low=1800.0, high=3700.0)})
     assert "hardware-margin" in codes(run_checks(rig, held))
+
+
+def test_capture_warnings_for_lowering_and_a_grab_below_the_held_force():
+    # check-values.md "Knots and grabs": a 3-wrap prusik begins to slip around 7-9.5 kN (common practice);
+    # a capture holding more than its grab's slip force slides instead of holding
+    from solver.analysis import analyse
+    from solver.model import Hardware, Pass, Point, Rig, Rope, Settings
+
+    def rig_with(slip: float, motion: str = "haul") -> Rig:
+        grab = Hardware("g", "grab", mbs_N=20000.0, slip_N=slip, label="test grab")
+        return Rig(points=(Point("L", "load", 0, 0), Point("A", "anchor", 0, 10), Point("H", "haul", 0, 14, force_N=9000.0)),
+                   ropes=(Rope("r", "kern-11", (Pass("L"), Pass("A", "capture", "pulley-large", grab="g"),
+                                                 Pass("H", "hauled"))),),
+                   hardware=(grab,), settings=Settings(motion=motion))
+
+    codes = lambda rig: {w.code for w in analyse(rig).warnings}  # noqa: E731
+    assert "capture-slips" in codes(rig_with(8000.0))  # 9 kN x 0.95 held > 8 kN
+    assert "capture-slips" not in codes(rig_with(9500.0))
+    assert "capture-lowering" in codes(rig_with(9500.0, "lower"))
+    assert "capture-lowering" not in codes(rig_with(9500.0))

@@ -303,3 +303,14 @@ def test_a_table_with_any_point_out_of_order_is_refused_at_that_point(steps, dat
     m = Material("prop", "rope", 20000.0, tuple(zip(t.tolist(), e.tolist())))
     problem = mat.material_problem(m)
     assert problem is not None and problem[0] == f"stretch[{i}]"
+
+
+def test_rope_grab_kind_round_trips_and_needs_its_slip_force():
+    # rig-format.md additions: a hardware kind for a rope grab with slip_N
+    from solver.materials import hardware_from_dict, hardware_to_dict
+    d = {"id": "g1", "kind": "grab", "slip_N": 8000.0, "mbs_N": 20000.0, "label": "prusik"}
+    assert hardware_to_dict(hardware_from_dict(d)) == d
+    with pytest.raises(RigFileError, match="slips"):
+        hardware_from_dict({"id": "g2", "kind": "grab", "mbs_N": 20000.0})
+    # a 3-wrap prusik slips around 7-9.5 kN (check-values.md "Knots and grabs": common practice)
+    assert 7000.0 <= LIBRARY_HARDWARE["prusik-3-wrap"].slip_N <= 9500.0

@@ -27,6 +27,7 @@ from solver.errors import RigModelError
 from solver.model import Point, Rig
 from solver.rigfile import load_rig
 from tests import rigs
+from solver.water import dry_site
 from tests.bench.fifty_ropes import fifty_rope_rig
 from tests.bench.test_bench_solver import thirty_point_rig
 
@@ -42,16 +43,10 @@ def elevation_edge_rig() -> Rig:
     return replace(rig, view="elevation")
 
 
-def _dry(rig: Rig) -> Rig:
-    """``rig`` with every current taken off its water features."""
-    feats = tuple(replace(f, flow=None) for f in rig.site.features)
-    return replace(rig, site=replace(rig.site, features=feats))
-
-
 def _all_rigs() -> dict[str, Rig]:
     # the samples as dry sites: a rig in moving water goes through solver.water, which re-reads the drag each
     # round (its own warm/cold equality is tested in tests/checks/test_water.py)
-    out = {Path(f).name: _dry(load_rig(f)) for f in SAMPLES}
+    out = {Path(f).name: dry_site(load_rig(f)) for f in SAMPLES}
     out["fifty-ropes"] = fifty_rope_rig()
     out["thirty-points"] = thirty_point_rig()
     out["elevation-edge"] = elevation_edge_rig()
