@@ -219,3 +219,13 @@ def test_elevation_view_has_no_current():
     assert r.water is None
     dry = solve(replace(rig, site=Site()))
     assert r.segments == dry.segments
+
+
+def test_unstretched_lengths_given_solve_in_still_water_and_say_so():
+    # the stroke-by-stroke haul sets ropes' unstretched lengths; that path has no current yet: it must say so
+    rig = across(slack=0.5, ea=4e5)
+    r = solve(rig, unstretched_m={"R": 30.2})
+    assert r.ok and r.water is None
+    assert any(w.code == "water-left-out" for w in r.warnings)
+    still = solve(replace(rig, site=Site()), unstretched_m={"R": 30.2})
+    assert r.segments == still.segments
