@@ -258,3 +258,34 @@ def test_the_haul_preview_shown_mid_drag_keeps_frames_from_reading_the_scene_and
     assert layer.scans <= scans + 1  # hiding restacks once
     check_against_full_scan(view)
     assert_screen_fresh(view)
+
+
+@pytest.mark.parametrize("pid", ["A2", "H4"])
+def test_the_water_layer_is_kept_or_drawn_live_by_the_drag_layer_as_qt_paints_it(main_window, pid):
+    """The plan's water item (sketchpad.water_layer) is versioned and changes only when what it draws changes: in
+    the tethered-boat sample a drag of the tether anchor A2 redraws its bowed rope (drawn live), and in the dry
+    fifty-rope rig it stays still; either way the layer builds, reads the scene once and shows what Qt paints."""
+    from pathlib import Path
+
+    from solver.rigfile import load_rig
+
+    if pid == "A2":
+        doc, view, sched = main_window.document, main_window.view, main_window.live.scheduler
+        doc.replace_all(load_rig(Path(__file__).resolve().parents[2] / "samples" / "tethered-boat-eddy.rig.json"))
+        view.zoom_to_fit()
+        sched.background, sched.background_after_ms = False, float("inf")
+        sched.settle_timer.setInterval(600_000)
+        assert sched.solve_now().ok
+    else:
+        doc, sched, view = fifty_rope_window(main_window)
+    water, layer = main_window.live.overlay.water_item, view.drag_layer
+    wet = bool(water._ropes)
+    assert wet == (pid == "A2")
+    drag_steps(doc, sched, view, pid, 4)
+    scans, version = layer.scans, water._ver
+    drag_steps(doc, sched, view, pid, 6, start=4)
+    assert layer.builds >= 1 and layer.scans == scans
+    assert (water._ver != version) == wet  # a bowed rope moves with the anchor; a dry plan's item is untouched
+    check_against_full_scan(view)
+    assert_screen_fresh(view)
+    assert_same(frame(view, True, through_layer=True), frame(view, False))
