@@ -56,6 +56,7 @@ from sketchpad import theme
 from sketchpad.drag_layer import Versioned
 from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr, text_advance
 from sketchpad.retained import RetainedLayer, add_damage
+from sketchpad.short_text import drawn
 from solver.directions import direction_text
 from solver.model import Rig
 from solver.readouts import ma_short, use_text
@@ -512,7 +513,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             rad = math.radians(a.direction_deg)
             d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
             colour = theme.utilization_colour(a.utilization)
-            lines = [f"{p.name} {format_force(a.force_N, unit)}", "toward " + direction_text(a.direction_deg, rig.view, a.force_N)]
+            lines = [f"{drawn(p.name)} {format_force(a.force_N, unit)}", "toward " + direction_text(a.direction_deg, rig.view, a.force_N)]
             if a.utilization is not None:
                 lines.append(use_text(a, sf))
             else:
@@ -548,7 +549,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
                 return (lid,), mkey, hit[0], None
             rad = math.radians(f.direction_deg)
             d = (math.cos(rad), -math.sin(rad))
-            lines = [f"to {p.name} {format_force(f.force_N, unit)}", "toward " + direction_text(f.direction_deg, rig.view, f.force_N)]
+            lines = [f"to {drawn(p.name)} {format_force(f.force_N, unit)}", "toward " + direction_text(f.direction_deg, rig.view, f.force_N)]
             values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
             colour = QColor(theme.UTIL_RAMP[0][1])
             if p.required_N is not None:
@@ -2266,7 +2267,7 @@ def summary_lines(rig: Rig, result: Result) -> list[str]:
     if result.ma_actual is not None:  # a drag step leaves nominal and ideal to the analysis at the pause
         out.append(ma_short(result))
     for hid, force in result.haul.items():
-        name = points[hid].name if hid in points else hid
+        name = drawn(points[hid].name if hid in points else hid)
         hold = result.hold_haul_range.get(hid)
         text = f"{name}: {format_force(force, unit)}"
         if hold is not None:
@@ -2276,7 +2277,7 @@ def summary_lines(rig: Rig, result: Result) -> list[str]:
         p = points.get(lid)
         if p is None:
             continue
-        text = f"to {p.name}: {format_force(f.force_N, unit)}"
+        text = f"to {drawn(p.name)}: {format_force(f.force_N, unit)}"
         if p.required_N is not None:
             text += f" of {format_force(p.required_N, unit)} needed"
             if lid in result.needs:  # solved once the drawing is still (solver.pull_needed)
@@ -2503,7 +2504,7 @@ class ResultOverlay(QObject):
         if box is None:
             fm = self._name_fm
             r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
-            box = self._name_box_cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name),
+            box = self._name_box_cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(drawn(p.name)),
                                                fm.height())
         return (_scene(p.xy), box)
 

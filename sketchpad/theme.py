@@ -261,3 +261,32 @@ HAUL_PLOT_GRID = QColor("#e7e3d8")
 HAUL_PLOT_TEXT = QColor("#3a3a36")
 HAUL_STOP = QColor("#b3122e")  # a haul that stops short
 HAUL_CAUTION_STYLE = "color: #55554f; font-size: 8pt"  # the cautions under the haul plan
+
+# --- printed pages (sketchpad.export, sketchpad.report, sketchpad.pages) --------------------------------
+PAGE_INK = QColor("#1d1d1a")  # body text and lines on paper
+PAGE_MUTED = QColor("#55554f")  # secondary text
+PAGE_RULE = QColor("#b9ae97")  # rules and frames
+
+
+def page_font(size: float, bold: bool = False, italic: bool = False) -> QFont:
+    """A fresh copy of the app's face at ``size`` points (fractions allowed), for drawings and reports."""
+    f = QFont(FONT_FAMILY)
+    f.setPointSizeF(size)
+    f.setBold(bold)
+    f.setItalic(italic)
+    return f
+
+
+#: Rope-use classes as line patterns (so a black-and-white print keeps what the ramp colours say):
+#: (lowest utilization, words, rail pen style, rail width px). Class bounds are the ramp's stops.
+UTIL_CLASSES: tuple[tuple[float, str, Qt.PenStyle, float], ...] = (
+    (0.0, "under 50 %", Qt.NoPen, 0.0),
+    (0.5, "50–80 %", Qt.DotLine, 1.2),
+    (0.8, "80–100 %", Qt.DashLine, 1.4),
+    (1.0, "100 % or more", Qt.SolidLine, 2.2),
+)
+UTIL_RAIL = QColor("#1d1d1a")  # rails beside a loaded piece's band
+SCHEMATIC_GAP_PX = 13.0  # between side-by-side strands of one rope in the schematic
+SCHEMATIC_STRAND_PX = 2.2
+SCHEMATIC_T_TEXT = QColor("#1d1d1a")
+PRINT_FRAME_EDGE = QColor("#c23b22")  # the print frame drawn on the canvas (dashed)

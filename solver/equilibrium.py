@@ -44,6 +44,7 @@ from solver.assembly import (
     with_geometry,
 )
 from solver.errors import RigModelError
+from solver.extreme_specs import unsettled_words
 from solver.model import Rig
 from solver.result import AnchorResult, HoldRange, Result, SegmentResult, Warning_, record
 from solver.run_lengths import with_unstretched
@@ -1180,7 +1181,7 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
         else:
             message = (f"no equilibrium found after {sol.iterations} iterations: the largest imbalance is "
                        f"{format_force_sig(residual, rig.display.force)} at point {_point_name(rig, subject) if subject else ''}; "
-                       "check for a part of the rig that nothing holds")
+                       + unsettled_words(rig))
     ma = _mech_advantage(s, st, f)  # (the anchors above are the fixed anchors; loads any load point)
     if not (s.has_friction and motion != "hold"):
         ma_ideal = ma  # no friction acts: the ideal is the actual

@@ -167,6 +167,14 @@ def _percent(strain: float) -> str:
     return f"{100.0 * strain:.3g} %"
 
 
+#: Bounds of a stretch table's slope (tension per unit strain, N): far beyond the stiffest steel rope
+#: (about 1e9 N) and the softest cord; a table outside them is a typing slip (ours, not from a standard).
+#: Largest tension in a stretch table, N: the rig format's limit on every force (schema, solver.limits).
+MAX_TENSION_N = 1e12
+MIN_STIFFNESS_N = 1e-3
+MAX_STIFFNESS_N = 1e18
+
+
 def material_problem(m: Material) -> tuple[str, str] | None:
     """The first thing wrong with a material as ``(field, message)``, or None if it is sound.
 
@@ -189,6 +197,9 @@ def material_problem(m: Material) -> tuple[str, str] | None:
         if len(point) != 2 or not all(_is_number(v) and math.isfinite(v) for v in point):
             return field, f"{name}: each stretch point must be [tension_N, strain], not {point!r}"
         t, e = float(point[0]), float(point[1])
+        if t > MAX_TENSION_N:
+            return field, (f"{name}: tension {t:g} N is beyond the {MAX_TENSION_N:g} N a rig file holds; "
+                           "is the unit right?")
         if e >= 1.0:
             return field, (
                 f"{name}: strain {e:g} at {t:g} N means the rope more than doubles in length; "
@@ -203,6 +214,14 @@ def material_problem(m: Material) -> tuple[str, str] | None:
             return field, (
                 f"{name}: the stretch table must rise in both tension and strain, but point {i + 1} "
                 f"({t:g} N, {_percent(e)}) does not come after point {i} ({prev_t:g} N, {_percent(prev_e)})"
+            )
+        slope = (t - prev_t) / (e - prev_e)
+        if not MIN_STIFFNESS_N <= slope <= MAX_STIFFNESS_N:
+            which = "stiffer" if not slope < MAX_STIFFNESS_N else "softer"
+            return field, (
+                f"{name}: up to point {i + 1} ({t:g} N, {_percent(e)}) the stretch table rises {slope:.3g} N per "
+                f"unit of strain, {which} than any rope, sling or cord can be (between {MIN_STIFFNESS_N:g} N and "
+                f"{MAX_STIFFNESS_N:g} N); strain is a fraction (0.05 = 5 %): check both columns"
             )
         prev_t, prev_e = t, e
     return None
