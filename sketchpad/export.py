@@ -118,6 +118,11 @@ class Drawing:
         self.scene.addItem(self.zones_item)
         self.force_item = print_force_item()
         self.scene.add_overlay_item(self.force_item)
+        from sketchpad.water_layer import WaterItem
+
+        self.water_item = WaterItem()  # the current's arrows and the ropes it bows
+        self.scene.addItem(self.water_item)
+        self.water_item.show(rig, result)
         self.zones: list = []
         self.pieces: list = []
         self.skipped = 0

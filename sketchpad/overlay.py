@@ -2302,6 +2302,10 @@ class ResultOverlay(QObject):
         self.scene.addItem(self.zones_item)
         self.force_item = ForceItem()
         self.scene.add_overlay_item(self.force_item)
+        from sketchpad.water_layer import WaterItem
+
+        self.water_item = WaterItem()  # the current's arrows and the ropes it bows
+        self.scene.addItem(self.water_item)
         self.banner = Banner(view.viewport())
         self.legend = Legend(view.viewport())
         view.foreground_painters.append(self.legend.paint_on)
@@ -2369,6 +2373,7 @@ class ResultOverlay(QObject):
         if not result.ok and result.subject and rig.has_point(result.subject):
             fail_point = _scene(rig.point(result.subject).xy)
         self.force_item.fail_point = fail_point
+        self.water_item.show(rig, self.result)
         self.rebuild()
 
     def set_layer(self, name: str, on: bool) -> None:

@@ -256,6 +256,9 @@ class PointPage(_Page):
         self.per_person.committed.connect(lambda v: self._set_haul(force_per_person_N=v))
         self.total.committed.connect(lambda v: self._set("force_N", v, "Set total pull"))
         self.mass.committed.connect(lambda v: self._set("mass_kg", v, "Set mass"))
+        from sketchpad.water_fields import BodyFields
+
+        self.body = BodyFields(self)  # in moving water: wetted area and shape
 
     def show_point(self, point_id: str) -> None:
         self.point_id = point_id
@@ -349,6 +352,7 @@ class PointPage(_Page):
         }
         for key, show in visible.items():
             self.form.setRowVisible(self.rows[key], show)
+        self.body.refresh(p, rig)
 
 
 # --- ropes -----------------------------------------------------------------------------
@@ -629,6 +633,9 @@ class FeaturePage(_Page):
         self.form.addRow("Kind", self.kind)
         self.label.committed.connect(lambda v: self._set(label=v or ""))
         self.kind.currentIndexChanged.connect(lambda _i: self._set(kind=self.kind.currentData()))
+        from sketchpad.water_fields import FlowFields
+
+        self.flow = FlowFields(self)  # a water feature's current
 
     def show_feature(self, feature_id: str) -> None:
         self.feature_id = feature_id
@@ -639,6 +646,8 @@ class FeaturePage(_Page):
         feats = list(rig.site.features)
         for i, f in enumerate(feats):
             if f.id == self.feature_id:
+                if kw.get("kind", f.kind) != "water":
+                    kw["flow"] = None  # only water carries a current
                 new = replace(f, **kw)
                 if new != f:
                     feats[i] = new
@@ -652,6 +661,7 @@ class FeaturePage(_Page):
         self.header.setText(f"{bold('Site feature')} {escaped(f.id)}")
         self.label.set_value(f.label)
         _set_combo(self.kind, f.kind)
+        self.flow.refresh(f, rig)
 
 
 # --- the rig (nothing selected) ---------------------------------------------------------

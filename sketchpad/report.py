@@ -597,7 +597,11 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
         flow.text(f"{tag}: {w.message}", page_font(BODY_PT, bold=w.severity == "danger"), colour, indent=8)
 
     if result.ok:
-        for t in (rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result)):
+        from sketchpad.report_water import water_table
+
+        tables = (rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result),
+                  water_table(rig, result))
+        for t in (t for t in tables if t is not None):
             flow.table(t)
         if plot is not None:
             image, caption = plot

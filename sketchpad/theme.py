@@ -127,6 +127,12 @@ FEATURE_EDGE: dict[str, QColor] = {
 }
 FEATURE_LABEL_INSET_PX = 5.0  # polygon labels sit this far inside the top-left corner
 FEATURE_EDGE_PX: dict[str, float] = {"water": 1.2, "boulder": 1.4, "bank": 2.6, "hazard": 1.6, "note": 1.0}
+# --- moving water (sketchpad.water_layer) ----------------------------------------------------
+FLOW_ARROW = QColor(31, 84, 140, 150)  # the current's arrow field over water features
+FLOW_ARROW_PX = 1.1
+FLOW_LABEL = QColor("#1f548c")  # speed and river left / river right
+BOWED_ROPE_PX = 3.0  # the rope as the current bows it, in its rope colour
+WET_TENSION = QColor("#12355a")  # tension at the ends of a rope's wet part
 FEATURE_LABEL: dict[str, QColor] = {
     "water": QColor("#2f5f8a"),
     "boulder": QColor("#4b4237"),

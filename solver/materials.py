@@ -33,7 +33,7 @@ EFFICIENCY_KINDS: frozenset[str] = frozenset({"pulley", "carabiner", "ring"})
 #: Largest friction coefficient accepted for an edge; rope on any real edge is well below 1.
 MAX_FRICTION_COEFFICIENT = 2.0
 
-_MATERIAL_KEYS = ("id", "kind", "label", "diameter_mm", "mbs_N", "source", "stretch")
+_MATERIAL_KEYS = ("id", "kind", "label", "diameter_mm", "diameter_m", "mbs_N", "source", "stretch")
 _HARDWARE_KEYS = ("id", "kind", "label", "efficiency", "friction_coefficient", "mbs_N", "size_m", "source", "slip_N")
 
 
@@ -123,6 +123,7 @@ def material_from_dict(d: Any, where: str = "material", *, strict: bool = False)
         mbs_N=_number(d, "mbs_N", where, name, required=True),  # type: ignore[arg-type]
         stretch=_stretch_table(d.get("stretch"), where, name),
         diameter_mm=_number(d, "diameter_mm", where, name, required=False),
+        diameter_m=_number(d, "diameter_m", where, name, required=False),
         label=_text(d, "label", where, name),
         source=_text(d, "source", where, name),
         extra=_extra(d, _MATERIAL_KEYS, where, name, strict),
@@ -189,6 +190,11 @@ def material_problem(m: Material) -> tuple[str, str] | None:
         return "mbs_N", f"{name}: MBS must be a strength above 0 N, not {m.mbs_N!r}"
     if m.diameter_mm is not None and not (math.isfinite(m.diameter_mm) and m.diameter_mm > 0):
         return "diameter_mm", f"{name}: diameter must be above 0 mm, not {m.diameter_mm!r}"
+    if m.diameter_m is not None and not (math.isfinite(m.diameter_m) and m.diameter_m > 0):
+        return "diameter_m", f"{name}: diameter must be above 0 m, not {m.diameter_m!r}"
+    if m.diameter_m is not None and m.diameter_mm is not None and abs(m.diameter_m * 1000 - m.diameter_mm) > 0.05:
+        return "diameter_m", (f"{name}: diameter_m {m.diameter_m:g} m and diameter_mm {m.diameter_mm:g} mm "
+                              f"disagree; they are one diameter, give one or make them match")
     if not m.stretch:
         return "stretch", f"{name} needs a stretch table: a list of [tension_N, strain] points"
     prev_t, prev_e = 0.0, 0.0
@@ -287,6 +293,8 @@ def material_to_dict(m: Material) -> dict[str, Any]:
         d["label"] = m.label
     if m.diameter_mm is not None:
         d["diameter_mm"] = m.diameter_mm
+    if m.diameter_m is not None:
+        d["diameter_m"] = m.diameter_m
     d["mbs_N"] = m.mbs_N
     if m.source:
         d["source"] = m.source

@@ -60,6 +60,8 @@ class Point:
     force_per_person_N: float | None = None  # haul: force each hauler gives
     capacity_kind: str = "strength"  # anchor: "strength" (÷ safety factor) or "working" (rated working load)
     role: str | None = None  # person: one of PERSON_ROLES (what they are there to do)
+    wetted_area_m2: float | None = None  # load or free point in water: area facing the flow, m^2
+    drag_shape: str | None = None  # its shape in the drag table (solver.loads.DRAG_SHAPES)
     extra: Mapping[str, Any] = field(default_factory=dict, compare=True)
 
     @property
@@ -199,11 +201,21 @@ class Material:
     diameter_mm: float | None = None
     label: str = ""
     source: str = ""
+    diameter_m: float | None = None  # the same diameter in metres (rig-format.md additions); either may be given
     extra: Mapping[str, Any] = field(default_factory=dict)
 
     @property
     def name(self) -> str:
         return self.label or self.id
+
+    @property
+    def diameter(self) -> float | None:
+        """The rope's diameter in metres: ``diameter_m``, else ``diameter_mm`` / 1000 (one meaning, two spellings)."""
+        if self.diameter_m is not None:
+            return float(self.diameter_m)
+        if self.diameter_mm is not None:
+            return float(self.diameter_mm) / 1000.0
+        return None
 
 
 @dataclass(frozen=True)
@@ -251,6 +263,22 @@ class SiteImage:
 
 
 @dataclass(frozen=True)
+class Flow:
+    """Moving water in a water feature: speed (m/s) and the bearing it flows toward (degrees clockwise from north)."""
+
+    speed_m_s: float
+    bearing_deg: float
+
+    @property
+    def velocity(self) -> tuple[float, float]:
+        """The flow velocity in site coordinates (+x east, +y north), m/s."""
+        import math
+
+        b = math.radians(self.bearing_deg)
+        return (self.speed_m_s * math.sin(b), self.speed_m_s * math.cos(b))
+
+
+@dataclass(frozen=True)
 class Feature:
     """A drawn site feature: water, boulder, bank, hazard (polygon or line) or a note."""
 
@@ -259,6 +287,7 @@ class Feature:
     polygon: tuple[tuple[float, float], ...] | None = None
     line: tuple[tuple[float, float], ...] | None = None
     label: str = ""
+    flow: Flow | None = None  # water only: the current; a later feature drawn over it wins
     extra: Mapping[str, Any] = field(default_factory=dict)
 
     @property

@@ -45,6 +45,7 @@ from solver.rigfile_schema import schema  # noqa: F401 - part of this module's A
 from solver.rigfile_schema import show_value as _show
 from solver.rigfile_schema import too_many
 from solver.errors import RigFileError
+from solver.water_site import water_feature_problem, wetted_point_problem
 
 try:
     import fcntl
@@ -72,6 +73,7 @@ _POINT: _Spec = (
     ("label", "str", ""), ("fixed", "bool", None), ("capacity_N", "float", None), ("anchor_type", "str", None),
     ("required_N", "float", None), ("mass_kg", "float", None), ("force_N", "float", None), ("team", "int", None),
     ("force_per_person_N", "float", None), ("capacity_kind", "str", "strength"), ("role", "str", None),
+    ("wetted_area_m2", "float", None), ("drag_shape", "str", None),
 )
 _PASS: _Spec = (("at", "str", _REQUIRED), ("how", "str", "tied"), ("hardware", "str", None), ("termination", "str", None),
           ("grab", "str", None))
@@ -81,6 +83,7 @@ _ROPE: _Spec = (("id", "str", _REQUIRED), ("material", "str", _REQUIRED), ("labe
 _MATERIAL: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("mbs_N", "float", _REQUIRED),
     ("stretch", "pairs", _REQUIRED), ("diameter_mm", "float", None), ("label", "str", ""), ("source", "str", ""),
+    ("diameter_m", "float", None),
 )
 _HARDWARE: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("efficiency", "float", None), ("mbs_N", "float", None),
@@ -96,7 +99,7 @@ _IMAGE: _Spec = (
     ("metres_per_pixel", "float", 0.01), ("rotation_deg", "float", 0.0), ("opacity", "float", 1.0),
 )
 _FEATURE: _Spec = (("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("polygon", "pairs", None),
-                   ("line", "pairs", None), ("label", "str", ""))
+                   ("line", "pairs", None), ("label", "str", ""), ("flow", "flow", None))
 _SETTINGS: _Spec = (("motion", "str", "haul"), ("min_safety_factor", "float", 10.0), ("tail_m", "float", 1.0))
 _DISPLAY: _Spec = (("length", "str", "m"), ("force", "str", "kN"))
 _SITE_KEYS = ("image", "features")
@@ -657,6 +660,8 @@ def _convert(value: Any, kind: str) -> Any:
         return (float(value[0]), float(value[1]))
     if kind == "pairs":
         return tuple((float(a), float(b)) for a, b in value)
+    if kind == "flow":
+        return m.Flow(speed_m_s=float(value["speed_m_s"]), bearing_deg=float(value["bearing_deg"]))
     return value
 
 
@@ -796,6 +801,8 @@ def _encode(value: Any, kind: str) -> Any:
         return [float(value[0]), float(value[1])]
     if kind == "pairs":
         return [[float(a), float(b)] for a, b in value]
+    if kind == "flow":
+        return {"speed_m_s": float(value.speed_m_s), "bearing_deg": float(value.bearing_deg)}
     return str(value)
 
 
@@ -870,6 +877,7 @@ def _check_semantics(rig: m.Rig, base_dir: str | os.PathLike[str] | None) -> Non
         _check_coordinate(p.y, f"points[{i}].y")
         if p.role is not None and p.kind != "person":
             raise RigFileError(f'"{p.name}" is a {p.kind}: only a person has a role', where=f"points[{i}].role")
+        _raise_problem(wetted_point_problem(p), f"points[{i}]")
     for i, f in enumerate(rig.forces):
         if f.at not in points:
             raise RigFileError(f'point "{f.at}" does not exist', where=f"forces[{i}].at")
@@ -1008,6 +1016,7 @@ def _check_site(site: m.Site, base_dir: str | os.PathLike[str] | None) -> None:
         if feat.polygon is not None and len(feat.polygon) < 3:
             raise RigFileError(f"a polygon needs at least 3 points, has {len(feat.polygon)}",
                                where=f"{here}.polygon")
+        _raise_problem(water_feature_problem(feat), here)
         for key in ("polygon", "line"):
             for k, (x, y) in enumerate(getattr(feat, key) or ()):
                 _check_coordinate(x, f"{here}.{key}[{k}][0]")

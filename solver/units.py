@@ -226,6 +226,17 @@ def parse_in_table(text: str, default_unit: str, factors: dict[str, float], alia
     return number * factors[unit]
 
 
+def speed_unit_for(length_unit: str) -> str:
+    """The speed unit people read beside a length unit: m/s with metres, mph with feet (as the load estimate)."""
+    return "mph" if length_unit == "ft" else "m/s"
+
+
+def format_speed(m_s: float, length_unit: str = "m") -> str:
+    """A current speed for people in the rig's unit system, e.g. ``"2.0 m/s"``, ``"4.5 mph"``."""
+    unit = speed_unit_for(length_unit)
+    return f"{m_s / SPEED_FACTORS[unit]:.1f} {unit}"
+
+
 def parse_speed(text: str, unit: str = "m/s", decimal: str = ".") -> float:
     """Typed current speed (``"2"``, ``"4.5 mph"``, ``"7 km/h"``) in m/s."""
     return parse_in_table(text, unit, SPEED_FACTORS, SPEED_ALIASES, "speed", decimal)
