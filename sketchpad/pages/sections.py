@@ -65,15 +65,19 @@ def gear_table(rig: Rig, result: Result | None):
     return t
 
 
-def roles_table(rig: Rig, result: Result | None):
-    """Every person on the plan: role, where they stand, and whether that is inside a danger zone (flagged)."""
+def roles_table(rig: Rig, result: Result | None, zones: list | None = None):
+    """Every person on the plan: role, where they stand, and whether that is inside a danger zone (flagged).
+
+    ``zones``: the zones the drawing shows (the computed failure areas once scanned); default the quick shapes."""
     from sketchpad.pages.table import Table
     from solver.roles import placements
 
+    which = ("the area each component's failure sweeps (If something lets go)" if zones is not None
+             else "inside of a loaded bight (a quick estimate from a fixed shape)")
     t = Table("People and roles", ("Person", "Role", "Stands", "Danger zones"), [], (1.4, 1.4, 2.6, 2.2),
-              note="Zones: inside of a loaded bight, and the recoil band along loaded rope (see the drawing). "
+              note=f"Zones: {which}, and the recoil band along loaded rope (see the drawing). "
                    "Nobody stands in one while the rig is loaded.")
-    for n, pl in enumerate(placements(rig, result)):
+    for n, pl in enumerate(placements(rig, result, zones)):
         t.rows.append((pl.name, pl.role, pl.where, pl.zone_text))
         if pl.in_zone:
             t.flagged.add(n)
@@ -112,7 +116,7 @@ def schematic_block_height(width: float, rig: Rig | None = None, result: Result 
         p.end()
 
 
-def add_sections(flow, rig: Rig, result: Result | None) -> None:
+def add_sections(flow, rig: Rig, result: Result | None, zones: list | None = None) -> None:
     """The schematic, people and roles, rope lengths and the gear list, flowed into a report."""
     from sketchpad.pages.schematic import caption
 
@@ -122,7 +126,7 @@ def add_sections(flow, rig: Rig, result: Result | None) -> None:
     flow.block(h, lambda p, r: paint_schematic_block(p, r, rig, result))
     flow.y += 3
     flow.text(caption(rig, result), theme.page_font(7.5, italic=True))
-    for t in (roles_table(rig, result), rope_budget_table(rig, result), gear_table(rig, result)):
+    for t in (roles_table(rig, result, zones), rope_budget_table(rig, result), gear_table(rig, result)):
         flow.table(t)
 
 
