@@ -8,6 +8,8 @@ A drawing without a scan says its bight shapes are the quick estimate instead.
 
 from __future__ import annotations
 
+import re
+
 from PySide6.QtCore import QRectF
 from PySide6.QtGui import QPainter
 
@@ -20,7 +22,7 @@ TEXT_PT = 7.0
 
 def failure_key_text(zones) -> str:
     """One sentence naming each computed failure area of ``zones`` (DangerZone list); "" when none is computed."""
-    names = [z.label for z in zones if z.kind == "failure"]
+    names = _grouped([z.label for z in zones if z.kind == "failure"])
     if not names:
         if any(z.kind == "bight" for z in zones):
             return ("Bight shapes: a quick estimate from a fixed shape, not computed — "
@@ -30,6 +32,33 @@ def failure_key_text(zones) -> str:
     more = len(names) - len(shown)
     tail = f"; and {more} more (see If something lets go / `ropewright failures`)" if more else ""
     return "Failure areas (each component let go alone): " + "; ".join(shown) + tail + "."
+
+
+_PIECE = re.compile(r'^if the (rope piece|sling leg) of (.+?) from ".*" to ".*" lets go$')
+
+
+def _grouped(labels: list[str]) -> list[str]:
+    """The labels in order, with every piece of one rope said once ("if any of the 5 rope pieces of main line
+    lets go"), so a long rope does not crowd the key."""
+    pieces: dict[tuple[str, str], int] = {}
+    for lab in labels:
+        m = _PIECE.match(lab)
+        if m:
+            pieces[(m.group(1), m.group(2))] = pieces.get((m.group(1), m.group(2)), 0) + 1
+    out, said = [], set()
+    for lab in labels:
+        m = _PIECE.match(lab)
+        if m is None:
+            out.append(lab)
+            continue
+        key = (m.group(1), m.group(2))
+        n = pieces[key]
+        if n == 1:
+            out.append(lab)
+        elif key not in said:
+            said.add(key)
+            out.append(f"if any of the {n} {key[0]}s of {key[1]} lets go")
+    return out
 
 
 def paint_failure_key(painter: QPainter, rect: QRectF, zones, draw: bool = True) -> float:
