@@ -498,7 +498,8 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
     # caution at the bottom; warnings fill what is left above it
     caution_h = wrap_text(painter, QRectF(x, 0, w, 0), caution, page_font(SMALL_PT, italic=True), draw=False)
     bottom = inner.bottom() - caution_h - 6
-    warnings = list(result.warnings)
+    # danger first (a person in a failure's path), then warnings, then notes: the room may run out
+    warnings = sorted(result.warnings, key=lambda wn: {"danger": 0, "warning": 1}.get(wn.severity, 2))
     if warnings:
         y += 4
         painter.setPen(theme.pixel_pen(RULE, 1.0))

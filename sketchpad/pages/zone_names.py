@@ -16,7 +16,7 @@ from PySide6.QtGui import QPainter
 from sketchpad import theme
 
 #: Names listed before "and N more": a big rig's key stays a key (the report's table lists every one).
-MAX_NAMED = 14
+MAX_NAMED = 8
 TEXT_PT = 7.0
 
 
