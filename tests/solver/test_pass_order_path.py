@@ -1,0 +1,55 @@
+"""The spacing contact gives one answer whatever path the iteration took (solver.pass_order).
+
+A ring sliding on a line between two anchors, pulled down past the far anchor (the force slider
+of the vector-pull bench): warm-started from the step before (the ring above the line) the solve
+used to wrap the ring past anchor A2 and report ``ok`` with the line at a third of its tension,
+held by a spacing contact pushing 74 deg off the rope -- a force no hardware can give.  Checks:
+* a warm-started and a cold solve of the same rig are the same equilibrium (the model is
+  path-independent where its equilibrium is unique);
+* statics of the reported state, any mechanics text: the ring balances T (u1 + u2) + P + C = 0,
+  where C is the push of the hardware it rests on, which acts along the line between the two
+  passes (two bodies touching push along the line of their centres), so
+  (T (u1 + u2) + P) x u2 = 0.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import replace
+
+import numpy as np
+import pytest
+
+from solver import equilibrium
+from tests.bench.test_bench_solver import vector_pull_rig
+
+
+def _start(res) -> dict:
+    return {k: (float(v[0]), float(v[1])) for k, v in res.points.items()}
+
+
+@pytest.mark.parametrize("magnitude", [2000.0, 2762.0, 3000.0])
+@pytest.mark.parametrize("direction", [-67.0, -80.0, -60.0])
+def test_a_ring_pulled_past_an_anchor_warm_and_cold_agree_and_balance_along_the_rope(magnitude, direction):
+    rig = vector_pull_rig(200.0)
+    first = equilibrium.solve(rig)  # the ring above the line, as the slider's previous step leaves it
+    f0 = rig.forces[0]
+    step = replace(rig, forces=(replace(f0, magnitude_N=magnitude, direction_deg=direction),))
+    warm = equilibrium.solve(step, start=_start(first))
+    equilibrium._CACHE.clear()
+    cold = equilibrium.solve(step)
+    assert cold.ok and warm.ok, (cold.message, warm.message)
+    for res in (warm, cold):
+        v = np.asarray(res.points["V"])
+        a1, a2 = (np.asarray(res.points[a]) for a in ("A1", "A2"))
+        u1, u2 = (a1 - v) / np.linalg.norm(a1 - v), (a2 - v) / np.linalg.norm(a2 - v)
+        t = [s.tension_N for s in res.segments_of("line")]
+        p = magnitude * np.array([math.cos(math.radians(direction)), math.sin(math.radians(direction))])
+        rest = t[0] * u1 + t[1] * u2 + p
+        # whatever is left is the hardware's push, along the rope piece V-A2 (cross product 0)
+        assert abs(rest[0] * u2[1] - rest[1] * u2[0]) <= 1e-6 * magnitude
+        # the ring never passes A2 along the line (A2 is at x = 20 m)
+        assert v[0] < 20.0
+    np.testing.assert_allclose(warm.points["V"], cold.points["V"], atol=1e-6)
+    np.testing.assert_allclose([s.tension_N for s in warm.segments_of("line")],
+                               [s.tension_N for s in cold.segments_of("line")], rtol=1e-6)
