@@ -53,3 +53,57 @@ def test_a_ring_pulled_past_an_anchor_warm_and_cold_agree_and_balance_along_the_
     np.testing.assert_allclose(warm.points["V"], cold.points["V"], atol=1e-6)
     np.testing.assert_allclose([s.tension_N for s in warm.segments_of("line")],
                                [s.tension_N for s in cold.segments_of("line")], rtol=1e-6)
+
+
+# --- the last guard: a state held by a contact that is no equilibrium is never "ok" ------------------------
+
+def _guard_rig():
+    rig = vector_pull_rig(200.0)
+    f0 = rig.forces[0]
+    return replace(rig, forces=(replace(f0, magnitude_N=2762.0, direction_deg=-67.0),))
+
+
+def test_inconsistent_names_a_closed_contact_whose_passes_have_crossed():
+    from solver import pass_order
+    from solver.assembly import compile_rig, evaluate
+    s = compile_rig(_guard_rig())
+    v = s.point_ids.index("V")
+    k = next(i for i in range(s.n_pieces) if {s.point_ids[s.a[i]], s.point_ids[s.b[i]]} == {"V", "A2"})
+    x = np.zeros(s.n_dof)
+    # the ring inside A2's spacing, on the line: consistent with its order direction it is a plain contact ...
+    xy = s.xy0.copy()
+    xy[v] = s.xy0[s.point_ids.index("A2")] - np.array([0.5 * s.s_min[k], 0.0])
+    x[s.dof[v]] = xy[v]
+    pass_order.start(s, x)
+    st = evaluate(s, x, None, None)
+    assert st.pen[k] > 0 and len(pass_order.inconsistent(s, st)) == 0
+    # ... but held there with its order turned round it has been carried across A2: named
+    s.order_ref = s.order_ref.copy()
+    s.order_ref[k] *= -1.0
+    assert list(pass_order.inconsistent(s, st)) == [k]
+
+
+def test_a_warm_result_the_guard_refuses_is_solved_cold(monkeypatch):
+    from solver import pass_order
+    rig = _guard_rig()
+    cold = equilibrium.solve(rig)
+    before = _start(equilibrium.solve(vector_pull_rig(200.0)))
+    equilibrium._CACHE.clear()
+    calls = []
+    real = pass_order.inconsistent
+
+    def first_refused(s, st):
+        calls.append(1)
+        return np.array([0]) if len(calls) == 1 else real(s, st)
+
+    monkeypatch.setattr(pass_order, "inconsistent", first_refused)
+    warm = equilibrium.solve(rig, start=before)
+    assert len(calls) >= 2 and warm.ok
+    assert repr(warm.points) == repr(cold.points)
+
+
+def test_a_result_the_guard_refuses_twice_is_reported_failed_not_ok(monkeypatch):
+    from solver import pass_order
+    monkeypatch.setattr(pass_order, "inconsistent", lambda s, st: np.array([0]))
+    res = equilibrium.solve(_guard_rig())
+    assert res.status != "ok" and "not along their rope" in res.message

@@ -266,14 +266,10 @@ def test_rotating_the_rig_rotates_the_answer(rig, angle):
     same_tensions(a, b, rigs.largest_force(rig, a))
 
 
-# Known, not yet mended (found by the rotation property; the same numbers on the code before this
-# test): two knots tied on one rope, the piece between them slack, each swinging under its own
-# anchor past the other.  Drawn as is, the solve lets them pass (the slack piece folds; no contact,
-# every point balanced by its ropes); turned 1 deg, the iteration brings them within the spacing
-# contact first and the order direction of the slack piece (solver.pass_order) then holds them
-# jammed: "ok" with a two-blocked warning, 9.3 N of contact and tensions 12 % off.  strict: it
-# fails as soon as the solve no longer depends on the path, so this marker is then removed.
-@pytest.mark.xfail(strict=True, reason="a slack piece's order direction holds two knots that swing past each other")
+# Found by the rotation property: two knots tied on one rope, the piece between them slack, each
+# swinging under its own anchor past the other.  Drawn as is they pass (the slack piece folds); turned
+# 1 deg the spacing contact used to hold them jammed, "ok" with 9.3 N of contact and tensions 12 % off.
+# Two bare tied passes carry no spacing contact (solver.pass_order): knots on a slack rope pass.
 def test_two_knots_swinging_past_each_other_on_a_slack_piece_solve_alike_turned():
     pts = [rigs.anchor("A0", 2.0, 14.0), rigs.anchor("A1", 0.0, 14.0), rigs.free("P0", 15.0, 3.0),
            rigs.free("P1", 14.0, 0.0)]
