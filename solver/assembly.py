@@ -911,7 +911,6 @@ class State:
     g: FloatArray  # out-of-balance: internal resistance minus external force, per dof, N
     closed: bool = False  # some contact is closed (pen > 0 somewhere)
     no_zero_length: bool = True  # every piece has a length > 0
-    order_cos: FloatArray | None = None  # per piece: cosine of its direction with its order direction (pass_order)
     # what the potential is computed from, on first use (the friction solve never asks for it)
     potential_from: tuple | None = field(default=None, repr=False, compare=False)
     _energy_terms: tuple | None = field(default=None, repr=False, compare=False)
@@ -1167,7 +1166,6 @@ def _loaded(s: System, x: FloatArray, xy: FloatArray, l: FloatArray, no_zero_len
     eps = by_material(s, s.piece_mat, T, "strain", kappa) if s.n_pieces else np.zeros(0)
     if kc is None:
         kc = contact_stiffness(s)
-    order_cos = pass_order.cosines(s, u)
     if contact is None:
         # 0 where the contact is off (s_min_on = -inf); the passes' order is kept by the line searches (pass_order)
         pen = np.maximum(s.s_min_on - l, 0.0)
@@ -1182,7 +1180,7 @@ def _loaded(s: System, x: FloatArray, xy: FloatArray, l: FloatArray, no_zero_len
     else:
         g = -s.F
     return State(x=x, xy=xy, l=l, u=u, w=w, L=L, tau=tau, taut=taut, T=T, eps=eps, pen=pen, N=N, g=g,
-                 closed=closed, no_zero_length=no_zero_length, order_cos=order_cos,
+                 closed=closed, no_zero_length=no_zero_length,
                  potential_from=(s, s.soft, x, L, kc, pen))
 
 

@@ -69,11 +69,6 @@ def _dot(u: np.ndarray, r: np.ndarray) -> np.ndarray:
     return np.einsum("ij,ij->i", u, r)
 
 
-def cosines(s: System, u: np.ndarray) -> np.ndarray:
-    """Per piece: the cosine between its direction ``u`` and its order direction."""
-    return _dot(u, s.order_ref)
-
-
 def contact_pieces(s: System, hardware: np.ndarray) -> np.ndarray:
     """Per piece: True where the spacing contact can act -- ``s.contact_on`` (a free pass at one end) except
     a piece alone in its tied run with no ``hardware`` at either end: two knots (or a knot and its tie-off)
