@@ -107,3 +107,19 @@ def test_a_result_the_guard_refuses_twice_is_reported_failed_not_ok(monkeypatch)
     monkeypatch.setattr(pass_order, "inconsistent", lambda s, st: np.array([0]))
     res = equilibrium.solve(_guard_rig())
     assert res.status != "ok" and "not along their rope" in res.message
+
+
+def test_a_force_slider_turned_full_circle_step_by_step_solves_each_step_as_a_cold_solve():
+    # the slider dragged round, each step warm-started from the last (as the sketchpad does): the ring
+    # slides round both anchors and back, and every step is the cold solve's equilibrium
+    rig = vector_pull_rig(200.0)
+    f0 = rig.forces[0]
+    start = None
+    for magnitude in (300.0, 2762.0):
+        for direction in np.arange(80.0, -280.0, -7.0):
+            step = replace(rig, forces=(replace(f0, magnitude_N=magnitude, direction_deg=float(direction)),))
+            warm = equilibrium.solve(step, start=start)
+            cold = equilibrium.solve(step)
+            assert warm.ok and cold.ok, (direction, warm.message, cold.message)
+            np.testing.assert_allclose(warm.points["V"], cold.points["V"], atol=1e-6, err_msg=str(direction))
+            start = _start(warm)
