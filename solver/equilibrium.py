@@ -507,7 +507,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
                     good = nat_norm(solver(-on_part(trial.g))) <= (1.0 - 1e-4 * a * shrink) * nat0
                 if not good and abs(m1 - m0) <= 1e-13 * (abs(m0) + scale * size):
                     good = imbalance(trial) < 0.9 * res
-                if good and trial.closed:  # never carry a pass across its neighbour
+                if good:  # never carry a pass across its neighbour (outside the contact too)
                     good = not pass_order.crossed(s, trial)[0 if part is None else part]
                 if good:
                     x_new = xt
@@ -1194,6 +1194,22 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
                   warnings=tuple(warnings))
 
 
+def _contact_off(s: System, sol: _Solved | Result) -> np.ndarray:
+    """The pieces of a solved state held by a contact that is no equilibrium of the model (solver.pass_order)."""
+    if isinstance(sol, _Solved) and sol.converged:
+        return pass_order.inconsistent(s, sol.state)
+    return np.zeros(0, dtype=np.intp)
+
+
+def _contact_failed(s: System, sol: _Solved, k: int) -> Result:
+    """The words for a state whose contact on piece ``k`` :func:`_contact_off` refused: never reported ``ok``."""
+    a, b = _blocked_pair(s, k)
+    return Result(status="diverged", subject=a, iterations=sol.iterations,
+                  message=f"no trustworthy answer: point {_point_name(s.rig, a)} ended held against "
+                          f"{_point_name(s.rig, b)} by a contact that is not along their rope (it was carried "
+                          "across it); move it back to its side and solve again")
+
+
 def _runaway_result(s: System, sol: _Solved) -> Result:
     rig = s.rig
     i = sol.runaway
@@ -1274,6 +1290,10 @@ def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True
         return Result(status="invalid", message=exc.message, subject=exc.subject or exc.where)
     motion = s.motion
     sol = _solve_system(s, _start_x(s, start), motion, warm=bool(start), ideal=ideal)
+    if start and len(_contact_off(s, sol)):  # last guard: a warm start that ends so is solved again cold
+        sol = _solve_system(s, _start_x(s, None), motion, ideal=ideal)
+    if len(bad := _contact_off(s, sol)):
+        return _contact_failed(s, sol, int(bad[0]))
     if isinstance(sol, Result):
         return sol
     if sol.runaway is not None:

@@ -1,30 +1,39 @@
-"""Passes keep their order along their rope: the two-blocking contact is one-sided in arc length.
+"""Passes keep their order along their rope, and the spacing contact pushes only along the rope.
 
-Two consecutive passes on a rope (a rope grab and the anchor pulley of a Z, a pulley and a
-knot) may close up to their minimum spacing ``s_min`` and no further.  Measured as the
-straight distance between them, that contact is a disc: a Newton step that jumps the grab
-right across the pulley lands outside the disc again, where nothing pushes back, and the
-solver reports a state in which the grab sits beyond the pulley -- the anchor pulled away
-from the load and the load over-loaded by the stretch of a rope that has been pulled past
-its anchor.
+The physical model.  Two consecutive passes on a rope where the rope slides through at least one
+of them (a rope grab and the anchor pulley of a Z, a ring and the anchor it runs into) are bodies
+riding on the rope between them: they may close up to their minimum spacing ``s_min`` and no
+further, and when they touch, each pushes the other along the line between them -- the piece of
+rope joining them (two bodies in contact push along the line of their centres; any mechanics
+text).  The contact is the disc ``l >= s_min`` with force ``k_c · max(s_min - l, 0)`` along the
+piece's own direction ``u``: the gradient of ``k_c/2 · pen²``, so every state the solver accepts
+is a plain equilibrium of ropes, loads and that push, whatever path the iteration took.
 
-Here each piece carries an *order direction* ``r`` (unit vector, from its first pass toward
-its second), and the contact measures the piece's length *along* it, ``gap = (x_b - x_a) · r``,
-pushing with ``k_c · max(s_min - gap, 0)`` along ``r``: a signed separation in arc length.  A
-pass carried across its neighbour has a negative gap and is pushed back the way it came,
-however far it jumped, and the Newton line searches refuse any trial step that leaves a pass
-beyond its neighbour (:func:`crossed`), so even the softened contact of the jammed-pass
-continuation cannot be stepped through.
+What the disc alone does not keep is the order: a pass can only reach the far side of its
+neighbour by going *through* it along the rope (the piece shrinking to nothing and flipping),
+yet a Newton step can jump a grab right across its anchor pulley and land outside the disc again,
+where nothing pushes back -- the anchor pulled away from the load and the load over-loaded by the
+stretch of rope pulled past its anchor.  So each piece carries an *order direction* ``r`` (unit
+vector, from its first pass toward its second): the direction it had in the last accepted state.
+The Newton line searches refuse any trial step that turns a contact piece by more than 90°
+from it (:func:`crossed`) and try a shorter one; a pass may still swing round its neighbour (a
+pair rolling round as one body, a ring sliding round an anchor) in steps of less than 90°.
+``r`` only ever guards steps: it never enters a force, so it cannot hold a state that is no
+equilibrium (it used to carry the contact force, and a remembered direction 74° off the rope
+held a ring at a third of its line tension).
 
-``r`` follows each piece from accepted state to accepted state: a piece clear of its contact
-along ``r`` (longer than ``SHORT`` × its spacing) takes its own direction; a piece at or near
-its contact takes it only when it turned by less than 60° (a jammed pair rolling round as one
-body, as a pulley run into a knot swings on its rope), never the flip of a jump.  At the
-solution ``r`` is then the piece's own direction and the contact pushes along the line between
-the two passes.  ``start`` sets the directions where a Newton iteration starts (the drawing,
-a warm start or an earlier stage's accepted answer: each in order; a piece at its contact keeps
-its direction, which a pass pushed right onto its neighbour no longer shows); ``follow``
-carries them after each accepted step.  Both replace the array, never change it in place.
+Two bare tied passes with no hardware at either (two knots, a knot and the anchor its rope is tied
+to) carry no spacing contact: the rope between them has a fixed length, nothing rides on it, and
+when it is slack the two are free bodies joined by a rope that folds -- on site they pass each
+other side by side.  Taut, their piece is at least its own length apart, far beyond ``s_min``.
+So knots on a slack rope may pass; hardware (a pulley, a capture, a grab's pulley) two-blocks,
+whether the rope slides through it or is held by it (a Z's grab hauled into the capture pulley
+slackens the rope between them and is stopped by the pulley's bulk).
+
+``start`` sets the directions where a Newton iteration starts (the drawing, a warm start or an
+earlier stage's accepted answer: each an ordered state); ``follow`` carries them after each
+accepted step.  Both replace the array, never change it in place.  :func:`inconsistent` is the
+last guard: a solved state with a contact closed where none may act, or across its neighbour.
 """
 
 from __future__ import annotations
@@ -36,14 +45,9 @@ import numpy as np
 #: solver.assembly's System and State (not imported: assembly uses this module)
 System = State = Any
 
-#: A piece shorter than SHORT x its minimum spacing (along its approach) is at or near its contact.
-SHORT = 2.0
-#: Near its contact a piece follows its own direction when it turned by less than acos(FOLLOW_COS) = 60 deg
-#: since the last accepted state: a jammed pair rolls round as one body; a bigger turn is a jump across.
-FOLLOW_COS = 0.5
-#: Pieces all within acos(QUIET_COS) = 5 deg of their order directions and clear of contact need no update
-#: (a piece's turn is measured from its order direction, so small turns add up until one is carried).
-QUIET_COS = 0.9962
+#: A piece shorter than KEEP x its minimum spacing keeps its last order direction: pushed that far into its
+#: neighbour, its own direction no longer shows which side the passes are on.
+KEEP = 0.25
 
 
 def unit_rows(d: np.ndarray, fallback: np.ndarray | None = None) -> np.ndarray:
@@ -65,31 +69,20 @@ def _dot(u: np.ndarray, r: np.ndarray) -> np.ndarray:
     return np.einsum("ij,ij->i", u, r)
 
 
-def cosines(s: System, u: np.ndarray) -> np.ndarray:
-    """Per piece: the cosine between its direction ``u`` and its order direction."""
-    return _dot(u, s.order_ref)
+def contact_pieces(s: System, hardware: np.ndarray) -> np.ndarray:
+    """Per piece: True where the spacing contact can act -- ``s.contact_on`` (a free pass at one end) except
+    a piece alone in its tied run with no ``hardware`` at either end: two knots (or a knot and its tie-off)
+    joined by a rope of fixed length, which fold past each other when it is slack (module docstring)."""
+    if not s.n_pieces:
+        return s.contact_on
+    alone = (~s.run_hauled & (s.run_count == 1))[s.piece_run]
+    return s.contact_on & ~(alone & ~hardware)
 
 
-def _update(s: System, l: np.ndarray, u: np.ndarray, c: np.ndarray | None = None) -> bool:
-    """Move the directions to pieces of lengths ``l`` and directions ``u``; True if a short piece's changed.
-
-    A piece clear of its contact along its order direction takes its own direction; a piece near
-    its contact takes it only when it turned by less than 60 deg (rolling round its neighbour), else
-    it keeps the last one: it has been carried across, and the contact pushes it back.
-    """
-    r = s.order_ref
-    if c is None:
-        c = _dot(u, r)
-    short = SHORT * s.s_min
-    if c.min() > QUIET_COS and not (l < short).any():
-        return False  # every piece within a few degrees of its order and clear of its contact: nothing to carry
-    clear = l * c >= short
-    near = ~clear & (l > 0) & (c > FOLLOW_COS)
-    take = (clear | near) & (c < 1.0)
-    if not take.any():
-        return False
-    s.order_ref = np.where(take[:, None], u, r)
-    return bool((near & take).any())
+def _take(s: System, l: np.ndarray, u: np.ndarray) -> None:
+    """Each piece takes its own direction unless it is pushed into its neighbour beyond ``KEEP``."""
+    keep = l <= KEEP * s.s_min
+    s.order_ref = np.where(keep[:, None], s.order_ref, u) if keep.any() else u.copy()
 
 
 def start(s: System, x: np.ndarray) -> None:
@@ -100,13 +93,7 @@ def start(s: System, x: np.ndarray) -> None:
     xy = s.positions(x)
     d = xy[s.b] - xy[s.a]
     l = np.hypot(d[:, 0], d[:, 1])
-    u = unit_rows(d, s.order_ref)
-    # a piece clear of its contact by its own length takes its own direction, however far it turned from
-    # the last one: a warm start (a free end swung round its anchor by a new force) is an answer, not a jump
-    clear = l >= SHORT * s.s_min
-    if clear.any():
-        s.order_ref = np.where(clear[:, None], u, s.order_ref)
-    _update(s, l, u)
+    _take(s, l, unit_rows(d, s.order_ref))
 
 
 def gap(s: System, l: np.ndarray, u: np.ndarray) -> np.ndarray:
@@ -115,21 +102,31 @@ def gap(s: System, l: np.ndarray, u: np.ndarray) -> np.ndarray:
 
 
 def follow(s: System, st: State) -> bool:
-    """Carry the order directions to accepted state ``st``; True when a piece near its contact changed
-    direction (the state's contact forces were then worked out along the old one: evaluate it again)."""
-    if not s.n_pieces:
-        return False
-    return _update(s, st.l, st.u, st.order_cos) and st.closed
+    """Carry the order directions to accepted state ``st``.  False: the state's forces never depend on them
+    (kept as a bool so the Newton loops need not re-evaluate)."""
+    if s.n_pieces:
+        _take(s, st.l, st.u)
+    return False
 
 
 def crossed(s: System, st: State) -> np.ndarray:
-    """Per free part: True when a trial state has a pass beyond its neighbour (a piece pointing against its
-    order direction).  The Newton line searches refuse such a step and try a shorter one, so a pass is
-    never carried across its neighbour, however soft the contact of the moment."""
+    """Per free part: True when a trial state has a pass beyond its neighbour (a contact piece turned more than
+    90 deg from its order direction since the last accepted state).  The Newton line searches refuse such a
+    step and try a shorter one, so a pass is never carried across its neighbour."""
     out = np.zeros(s.n_comp, dtype=bool)
-    if not s.n_pieces or not st.closed:
+    if not s.n_pieces:
         return out
     bad = s.contact_on & (gap(s, st.l, st.u) < 0.0)
     if bad.any():
         out[s.piece_comp[bad]] = True
     return out
+
+
+def inconsistent(s: System, st: State) -> np.ndarray:
+    """Indices of the pieces whose closed contact is no equilibrium of the model: closed where no contact
+    may act, or with its passes crossed over (a piece pointing against its order direction)."""
+    if not s.n_pieces or not st.closed:
+        return np.zeros(0, dtype=np.intp)
+    on = st.pen > 0
+    bad = on & (~s.contact_on | (gap(s, st.l, st.u) < 0.0) | (st.l <= 0.0))
+    return np.flatnonzero(bad)

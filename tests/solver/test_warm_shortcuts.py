@@ -60,7 +60,8 @@ def _states(s, motion, rng):
     x0 = s.x_from(s.xy0)
     kc = contact_stiffness(s)
     out = []
-    for closed in (False, True):
+    can_close = bool(s.contact_on.any())  # a rig of bare knots only (a tethered boat) has no spacing contact
+    for closed in (False, True) if can_close else (False,):
         x = x0 + rng.normal(scale=0.02 * s.size, size=s.n_dof)
         if closed:
             x = _closed_up(s, x)
@@ -72,7 +73,7 @@ def _states(s, motion, rng):
                 out.append((evaluate(s, x, w, kc), soft))
             finally:
                 s.soft = None
-    assert any(st.closed for st, _ in out), "the check needs a closed contact"
+    assert any(st.closed for st, _ in out) or not can_close, "the check needs a closed contact"
     return out, kc
 
 
