@@ -1,0 +1,62 @@
+"""Whether the structure holds every free point: a zero-stiffness mode of the frictionless tangent."""
+
+from __future__ import annotations
+
+import numpy as np
+import scipy.linalg
+import scipy.sparse
+import scipy.sparse.linalg
+
+from solver.evaluate import State
+from solver.newton import DENSE_MAX, POTRF, force_scale, point_norms, tangent_matrix
+from solver.system import System
+
+#: Smallest tangent eigenvalue, relative to the largest diagonal, that still holds a point.
+MECHANISM_REL = 1e-11
+
+
+def mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] | None:
+    """(free point index, direction) of a zero-stiffness mode of the symmetric tangent, or None."""
+    if s.n_dof == 0:
+        return None
+    dense = s.n_dof <= DENSE_MAX
+    K = tangent_matrix(s, st, kc, dense)
+    diag = np.asarray(K.diagonal())
+    top = max(float(diag.max()), force_scale(s, st) / s.size, 1e-12)
+    if dense:
+        Ks = 0.5 * (K + K.T)
+        # Ks - threshold I positive definite (its Cholesky factor exists) means every eigenvalue is
+        # above the threshold: held, at a fraction of the cost of the eigenvalues
+        M = Ks.copy()
+        M.ravel()[::len(M) + 1] -= MECHANISM_REL * top
+        if POTRF(M, lower=False, overwrite_a=True, clean=False)[1] == 0:
+            return None
+        lam = float(np.linalg.eigvalsh(Ks)[0])  # values only: fast; the vector only on failure
+        if lam > MECHANISM_REL * top:
+            return None
+        vals, vecs = scipy.linalg.eigh(Ks, subset_by_index=[0, 0])
+        lam, v = float(vals[0]), vecs[:, 0]
+    else:
+        # inverse iteration from a fixed pseudo-random start: a near-zero eigenvalue dominates at once
+        Ks = (0.5 * (K + K.T)).tocsc()
+        n = Ks.shape[0]
+        shift = 1e-3 * MECHANISM_REL * top
+        try:
+            lu = scipy.sparse.linalg.splu((Ks + shift * scipy.sparse.identity(n, format="csc")).tocsc(),
+                                          permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                                          options={"SymmetricMode": True})
+        except RuntimeError:
+            lam, v = 0.0, np.zeros(n)
+            v[int(np.argmin(np.abs(Ks.diagonal())))] = 1.0
+        else:
+            v = np.random.default_rng(12345).standard_normal(n)
+            for _ in range(4):
+                v = lu.solve(v)
+                v /= np.linalg.norm(v)
+            lam = float(v @ (Ks @ v))
+    if lam > MECHANISM_REL * top:
+        return None
+    mag = point_norms(v)
+    k = int(np.argmax(mag))
+    free_idx = np.flatnonzero(s.free)
+    return int(free_idx[k]), v[2 * k:2 * k + 2]
