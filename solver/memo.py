@@ -14,7 +14,9 @@ is kept between solves, and why:
   of the rig, and every record whose numbers are bit for bit those of the last Result of the same
   structure is handed on as the same object, so that the overlay recognises what did not move by
   identity and redraws only the moved part.  The objects handed on are immutable and equal to the
-  ones a fresh solve makes; only their identity is shared.
+  ones a fresh solve makes; only their identity is shared.  They stay in the solver, not the
+  sketchpad, because only here are the rows compared as raw arrays before any record is made: the
+  sketchpad could only compare finished records field by field, paying for every record twice.
 
 Every cache here is bounded, holds immutable values (or values its users never change), and is
 safe under threads: a lock guards each read-modify-write, and a value is looked up and used from a
