@@ -53,6 +53,7 @@ from PySide6.QtGui import (
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
 
 from sketchpad import theme
+from sketchpad.messages import failure_text
 from sketchpad.drag_layer import Versioned
 from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr, text_advance
 from sketchpad.retained import RetainedLayer, add_damage
@@ -2342,8 +2343,6 @@ class ResultOverlay(QObject):
         self._keep_hidden = not settled  # a drag step: labels hidden at the last step stay hidden
         if settled:  # give labels skipped during a drag another try
             self._memo = {k: v for k, v in self._memo.items() if v[3] is not None}
-        from sketchpad.live_solve import failure_text
-
         if result.ok:
             self.failed = None
             self.rig, self.result = rig, result

@@ -35,7 +35,6 @@ from sketchpad.export import (
     Drawing,
     ExportError,
     ensure_app,
-    failure_sentence,
     page_font,
     page_size_for,
     paint_key_strip,
@@ -43,6 +42,7 @@ from sketchpad.export import (
     run_file_command,
     units_line,
 )
+from sketchpad.messages import failure_sentence
 from solver.materials import used_hardware_ids, used_material_ids
 from solver.model import Rig
 from solver.result import Result
