@@ -235,13 +235,6 @@ class _Parts:
         chosen[which] = True
         return chosen[self.cd]
 
-    def per_coordinate(self, values: list[float], cd: np.ndarray, parts: list[int]) -> np.ndarray | float:
-        """``values`` (one per part) spread over coordinates of part positions ``cd``: one number when only one
-        part (``parts``) is concerned (the same numbers in every product)."""
-        if len(parts) == 1:
-            return values[parts[0]]
-        return np.asarray(values)[cd]
-
 
 def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symmetric: bool,
            max_iter: int = MAX_ITER, target: float = TARGET_REL, state: State | None = None) -> Outcome:
@@ -281,6 +274,7 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
             break
         scale = parts.scales(s, st)
         res = parts.maxima(s, point_norms(parts.on(st.g)))
+        left = []  # the parts still iterating after this test
         for j in range(n):
             if active[j]:
                 done = res[j] <= target * scale[j] or (scale[j] == 0.0 and res[j] == 0.0)
@@ -291,7 +285,8 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
                 # at the round-off floor: no progress for several iterations but within the acceptance
                 if done or (stall[j] >= 4 and res[j] <= ACCEPT_REL * scale[j]):
                     ok[j], active[j] = True, False
-        left = [j for j in range(n) if active[j]]
+                else:
+                    left.append(j)
         if not left:
             return Outcome(st, it, all(ok) and others_ok)
         if n > 1 and len(left) == 1:  # one part still iterating (a drag step moves one): that part alone, from here
@@ -303,12 +298,16 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
         K = tangent_matrix(s, st, kc, dense, exact=not symmetric, part=parts.part)
         diag = K.diagonal()
         # each part's largest diagonal entry (= the largest of its x and y maxima)
-        top = [float(diag.max())] if n == 1 else parts.maxima(s, np.maximum(diag[0::2], diag[1::2]))
-        base = [max(t, sc / z, 1e-12) for t, sc, z in zip(top, scale, parts.size)]
+        if n == 1:
+            base = [max(float(diag.max()), scale[0] / parts.size[0], 1e-12)]
+        else:
+            top = parts.maxima(s, np.maximum(diag[0::2], diag[1::2]))
+            base = [max(t, sc / z, 1e-12) for t, sc, z in zip(top, scale, parts.size)]
         m0 = parts.merits(st, symmetric)
         g = parts.on(st.g)
         cd = parts.cd
-        x_part = None if parts.idx is None else st.x[parts.idx]
+        whole = parts.idx is None  # the parts' coordinates are every free coordinate
+        x_part = None if whole else st.x[parts.idx]
         x_new = st.x.copy()
         pending = left  # parts still looking for a step (a list of its own: changed below)
         alpha = [1.0] * n
@@ -321,7 +320,11 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
             sub = None if every else np.flatnonzero(parts.among(pending))  # the pending parts' coordinates
             Ks = K if every else _sub(K, sub, dense)
             cd_sub = cd if every else cd[sub]
-            lam = parts.per_coordinate([m * b for m, b in zip(mu, base)] if n > 1 else [mu[0] * base[0]], cd_sub, pending)
+            # the shift of each coordinate's part (one number when one part is pending)
+            if len(pending) == 1:
+                lam = mu[pending[0]] * base[pending[0]]
+            else:
+                lam = np.asarray([m * b for m, b in zip(mu, base)])[cd_sub]
             d_sub, solver = shifted_solve(Ks, lam, -(g if every else g[sub]), dense, symmetric)
             if d_sub is None:
                 for j in pending:
@@ -340,10 +343,13 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
                     shrink[j] = cap[j] / max(step[j], 1e-300)
             if not symmetric:  # the full Newton correction, for the natural monotonicity test below
                 nat0 = [math.sqrt(v) for v in parts.sums(cd_sub, d_sub * d_sub)]
-            d = d * parts.per_coordinate(shrink, cd, pending)
+            d = d * (shrink[pending[0]] if len(pending) == 1 else np.asarray(shrink)[cd])
             if symmetric:
                 slope = parts.sums(cd, g * d)
-                uphill = [j for j in pending if slope[j] >= 0.0]
+                uphill = []
+                for j in pending:
+                    if slope[j] >= 0.0:
+                        uphill.append(j)
             else:
                 Kd = Ks @ d if every else np.zeros(len(g))
                 if not every:
@@ -352,7 +358,10 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
                 # slope of 1/2 |K^-1 g|^2 along d (K with its shift: the level function's own matrix)
                 nat_slope = parts.sums(cd_sub, d_sub * solver(Kd if every else Kd[sub]))
                 # uphill for the residual merit and for the natural level function too
-                uphill = [j for j in pending if slope[j] >= 0.0 and nat_slope[j] >= 0.0]
+                uphill = []
+                for j in pending:
+                    if slope[j] >= 0.0 and nat_slope[j] >= 0.0:
+                        uphill.append(j)
                 slope = [min(v, 0.0) for v in slope]  # Armijo on |g|^2 only where it is a descent direction
             for j in uphill:
                 mu[j] *= 100.0
@@ -365,7 +374,7 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
                     break
                 evaluations += 1
                 if n == 1:  # one part, every coordinate of it moving
-                    if parts.idx is None:
+                    if whole:
                         xt = st.x + a[0] * d
                     else:
                         xt = st.x.copy()
@@ -376,7 +385,9 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
                     xt[tdofs] = st.x[tdofs] + (np.asarray(a)[cd] * d)[tdofs]
                 trial = evaluate(s, xt, w, kc)
                 m1 = parts.merits(trial, symmetric)
-                passed = [m1[j] <= m0[j] + 1e-4 * a[j] * slope[j] for j in trying]  # per trying part
+                passed = []  # per trying part: whether its step is taken
+                for j in trying:
+                    passed.append(m1[j] <= m0[j] + 1e-4 * a[j] * slope[j])
                 if not symmetric and not all(passed):
                     # natural monotonicity test (Deuflhard, Newton Methods for Nonlinear Problems,
                     # 2004, sec. 3.3): the Newton correction from the trial point, with this
@@ -387,13 +398,15 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
                     passed = [p or nat1[j] <= (1.0 - 1e-4 * a[j] * shrink[j]) * nat0[j] for p, j in zip(passed, trying)]
                 # round-off: merit flat to machine precision but the imbalance still shrinks
                 now = None
+                taken = 0
                 for i, j in enumerate(trying):
                     if not passed[i] and abs(m1[j] - m0[j]) <= 1e-13 * (abs(m0[j]) + scale[j] * parts.size[j]):
                         if now is None:
                             now = parts.maxima(s, point_norms(parts.on(trial.g)))
                         passed[i] = now[j] < 0.9 * res[j]
-                if any(passed):
-                    if all(passed):
+                    taken += passed[i]
+                if taken:
+                    if taken == len(trying):
                         x_new = xt  # (xt is x_new with every trying part's step)
                     else:
                         gd = parts.among([j for p, j in zip(passed, trying) if p])

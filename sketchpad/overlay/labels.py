@@ -337,85 +337,11 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
     if pos is None:
         pos = scene_positions(rig, result)
     dirty = state.dirty_points(rig, pos)
-    points = state.by_id
-    pos_get = pos.get
-    parts = state.parts
     labels: list[OverlayLabel] = []
-
     if "tensions" in layers or "stretch" in layers:
-        def tension(_i, s, old):
-            read = (s.from_point, s.to_point)
-            a, b = pos_get(read[0]), pos_get(read[1])
-            if a is None or b is None:
-                return read, None, None, None
-            key = ("t", s.rope, s.index, s.tension_N, s.strain, s.utilization, a, b)
-            hit = old.get(key)
-            if hit is not None:  # the piece's label of the last call: same numbers, same place
-                return read, key, hit[0], None
-            lines = []
-            slack = s.tension_N <= SLACK_N
-            if "tensions" in layers:
-                lines.append("slack" if slack else format_force(s.tension_N, unit))
-            if "stretch" in layers and not slack:
-                lines.append(f"{s.strain * 100:.1f} % stretch")
-            if not lines:
-                return read, None, None, None
-            lab = OverlayLabel(
-                kind="tension", key=(s.rope, s.index), lines=tuple(lines),
-                values={"tension_N": s.tension_N, "strain": s.strain, "utilization": s.utilization},
-                colour=theme.utilization_colour(s.utilization), priority=50.0 + 10.0 * min(s.utilization, 3.0),
-                base=a, end=b)
-            return read, key, lab, None
-
-        part = parts["t"]
-        part.update(None, result.segments, dirty, tension)
-        labels += filter(None, part.outs)
-
+        labels += _tension_labels(state, result, layers, unit, pos, dirty)
     if "angles" in layers:
-        same = rig.ropes is state.ropes and rig.forces is state.forces
-        state.ropes, state.forces = rig.ropes, rig.forces
-        turns = result.deflection_deg
-        names = tuple(turns)
-        found: dict = {}
-
-        def angle(i, turn, old):
-            if not found:
-                found.update(keys=pass_keys(rig), ropes={r.id: r for r in rig.ropes},
-                             forced={f.at for f in rig.forces if f.magnitude_N > 0})
-            key = names[i]
-            keys = found["keys"]
-            if key not in keys or not math.isfinite(turn):
-                return (), None, None, None
-            rope_id, j = keys[key]
-            rope = found["ropes"][rope_id]
-            ps = rope.path[j]
-            read = (ps.at, rope.path[j - 1].at, rope.path[j + 1].at)
-            if ps.how not in TURNING_HOWS or ps.at not in pos:
-                return read, None, None, None
-            at = pos[ps.at]
-            prev, nxt = pos.get(read[1], at), pos.get(read[2], at)
-            point = points.get(ps.at)
-            hand = point is not None and not point.is_fixed and ps.at in found["forced"]
-            mkey = ("a", key, turn, at, prev, nxt, hand)
-            hit = old.get(mkey)
-            if hit is not None:
-                return read, mkey, hit[0], None
-            u1, u2 = unit_vector(prev[0] - at[0], prev[1] - at[1]), unit_vector(nxt[0] - at[0], nxt[1] - at[1])
-            outward = unit_vector(-(u1[0] + u2[0]), -(u1[1] + u2[1]))  # away from both legs: outside the bight
-            lines = [f"turn {fmt_angle(turn)}"]
-            values = {"turn_deg": float(turn)}
-            if hand:
-                lines.append(f"off line {fmt_angle(turn / 2.0)}")
-                values["off_line_deg"] = float(turn) / 2.0
-            lab = OverlayLabel(kind="angle", key=key, lines=tuple(lines), values=values,
-                               colour=theme.ANGLE_TEXT, priority=30.0 + (5.0 if hand else 0.0),
-                               base=at, prefer=outward)
-            return read, mkey, lab, None
-
-        part = parts["a"]
-        part.update(names, tuple(turns.values()), dirty if same else None, angle)
-        labels += filter(None, part.outs)
-
+        labels += _angle_labels(state, rig, result, pos, dirty)
     arrows: list[AnchorArrow] = []
     if "anchors" in layers:
         anchor_holds, haul_holds = result.hold_anchor_range, result.hold_haul_range
@@ -425,102 +351,203 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
         def also(changed: set | None) -> set | None:
             return None if dirty is None or changed is None else (dirty | changed if changed else dirty)
 
-        anchors = result.anchors
-        names_n = tuple(anchors)
-
-        def anchor(i, a, old):
-            aid = names_n[i]
-            p = points.get(aid)
-            if aid not in pos or p is None:
-                return (aid,), None, None, None
-            hold = anchor_holds.get(aid)
-            at = pos[aid]
-            # the numbers the label and arrow show (hashing the frozen record itself is slower)
-            mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, p.name, hold, at)
-            hit = old.get(mkey)
-            if hit is not None:
-                return (aid,), mkey, hit[0], hit[1]
-            rad = math.radians(a.direction_deg)
-            d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
-            colour = theme.utilization_colour(a.utilization)
-            lines = [f"{p.name} {format_force(a.force_N, unit)}"]
-            if a.utilization is not None:
-                lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
-            else:
-                lines.append("capacity not known")
-            values = {"force_N": a.force_N, "direction_deg": a.direction_deg}
-            if a.utilization is not None:
-                values["utilization"] = a.utilization
-            if hold is not None:
-                lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
-                values.update(hold_low_N=hold.low, hold_high_N=hold.high)
-            arrow = AnchorArrow(aid, at, d, colour) if a.force_N > SLACK_N else None
-            lab = OverlayLabel(kind="anchor", key=aid, lines=tuple(lines), values=values, colour=colour,
-                               priority=90.0 + min(a.utilization or 0.0, 3.0), base=at, prefer=d)
-            return (aid,), mkey, lab, arrow
-
-        part = parts["n"]
-        part.update(names_n, tuple(anchors.values()), also(_changed_keys(anchor_holds, old_anchor_holds)), anchor)
-        labels += filter(None, part.outs)
-        arrows += filter(None, part.extras)
-
-        loads = result.loads
-        names_l = tuple(loads)
-
-        def load(i, f, old):
-            lid = names_l[i]
-            p = points.get(lid)
-            if lid not in pos or p is None:
-                return (lid,), None, None, None
-            mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid])
-            hit = old.get(mkey)
-            if hit is not None:
-                return (lid,), mkey, hit[0], None
-            rad = math.radians(f.direction_deg)
-            d = (math.cos(rad), -math.sin(rad))
-            lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
-            values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
-            colour = QColor(theme.UTIL_RAMP[0][1])
-            if p.required_N is not None:
-                enough = f.force_N >= p.required_N
-                lines.append(f"needs {format_force(p.required_N, unit)}" + ("" if enough else " — short"))
-                values["required_N"] = float(p.required_N)
-                colour = QColor(theme.UTIL_RAMP[0][1] if enough else theme.UTIL_RAMP[-1][1])
-            lab = OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
-                               priority=95.0, base=pos[lid], prefer=(-d[0], -d[1]))
-            return (lid,), mkey, lab, None
-
-        part = parts["l"]
-        part.update(names_l, tuple(loads.values()), dirty, load)
-        labels += filter(None, part.outs)
-
-        haul = result.haul
-        names_h = tuple(haul)
-
-        def hauled(i, force, old):
-            hid = names_h[i]
-            p = points.get(hid)
-            if hid not in pos or p is None:
-                return (hid,), None, None, None
-            hold = haul_holds.get(hid)
-            mkey = ("h", hid, force, p.name, p.team, hold, pos[hid])
-            hit = old.get(mkey)
-            if hit is not None:
-                return (hid,), mkey, hit[0], None
-            lines = [f"haul {format_force(force, unit)}"]
-            values = {"force_N": float(force)}
-            if p.team:
-                each = force / p.team
-                lines.append(f"{p.team} × {format_force(each, unit)} each")
-                values.update(team=float(p.team), per_hauler_N=each)
-            if hold is not None:
-                lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
-                values.update(hold_low_N=hold.low, hold_high_N=hold.high)
-            lab = OverlayLabel(kind="haul", key=hid, lines=tuple(lines), values=values,
-                               colour=QColor(theme.POINT_FILL["haul"]), priority=94.0, base=pos[hid])
-            return (hid,), mkey, lab, None
-
-        part = parts["h"]
-        part.update(names_h, tuple(haul.values()), also(_changed_keys(haul_holds, old_haul_holds)), hauled)
-        labels += filter(None, part.outs)
+        labels += _anchor_labels(state, result, unit, sf, pos, also(_changed_keys(anchor_holds, old_anchor_holds)),
+                                 arrows)
+        labels += _load_labels(state, result, unit, pos, dirty)
+        labels += _haul_labels(state, result, unit, pos, also(_changed_keys(haul_holds, old_haul_holds)))
     return labels, arrows
+
+
+def _tension_labels(state: _LabelState, result: Result, layers: set, unit: str, pos: Mapping, dirty: set | None) -> list:
+    """The tension (and stretch) label of every rope piece (see :func:`build_labels`)."""
+    pos_get = pos.get
+
+    def tension(_i, s, old):
+        read = (s.from_point, s.to_point)
+        a, b = pos_get(read[0]), pos_get(read[1])
+        if a is None or b is None:
+            return read, None, None, None
+        key = ("t", s.rope, s.index, s.tension_N, s.strain, s.utilization, a, b)
+        hit = old.get(key)
+        if hit is not None:  # the piece's label of the last call: same numbers, same place
+            return read, key, hit[0], None
+        lines = []
+        slack = s.tension_N <= SLACK_N
+        if "tensions" in layers:
+            lines.append("slack" if slack else format_force(s.tension_N, unit))
+        if "stretch" in layers and not slack:
+            lines.append(f"{s.strain * 100:.1f} % stretch")
+        if not lines:
+            return read, None, None, None
+        lab = OverlayLabel(
+            kind="tension", key=(s.rope, s.index), lines=tuple(lines),
+            values={"tension_N": s.tension_N, "strain": s.strain, "utilization": s.utilization},
+            colour=theme.utilization_colour(s.utilization), priority=50.0 + 10.0 * min(s.utilization, 3.0),
+            base=a, end=b)
+        return read, key, lab, None
+
+    part = state.parts["t"]
+    part.update(None, result.segments, dirty, tension)
+    return list(filter(None, part.outs))
+
+
+def _angle_labels(state: _LabelState, rig: Rig, result: Result, pos: Mapping, dirty: set | None) -> list:
+    """The turn label of every redirect (and the angle off the line at a vector-pull hand)."""
+    points = state.by_id
+    same = rig.ropes is state.ropes and rig.forces is state.forces
+    state.ropes, state.forces = rig.ropes, rig.forces
+    turns = result.deflection_deg
+    names = tuple(turns)
+    found: dict = {}
+
+    def angle(i, turn, old):
+        if not found:
+            found.update(keys=pass_keys(rig), ropes={r.id: r for r in rig.ropes},
+                         forced={f.at for f in rig.forces if f.magnitude_N > 0})
+        key = names[i]
+        keys = found["keys"]
+        if key not in keys or not math.isfinite(turn):
+            return (), None, None, None
+        rope_id, j = keys[key]
+        rope = found["ropes"][rope_id]
+        ps = rope.path[j]
+        read = (ps.at, rope.path[j - 1].at, rope.path[j + 1].at)
+        if ps.how not in TURNING_HOWS or ps.at not in pos:
+            return read, None, None, None
+        at = pos[ps.at]
+        prev, nxt = pos.get(read[1], at), pos.get(read[2], at)
+        point = points.get(ps.at)
+        hand = point is not None and not point.is_fixed and ps.at in found["forced"]
+        mkey = ("a", key, turn, at, prev, nxt, hand)
+        hit = old.get(mkey)
+        if hit is not None:
+            return read, mkey, hit[0], None
+        u1, u2 = unit_vector(prev[0] - at[0], prev[1] - at[1]), unit_vector(nxt[0] - at[0], nxt[1] - at[1])
+        outward = unit_vector(-(u1[0] + u2[0]), -(u1[1] + u2[1]))  # away from both legs: outside the bight
+        lines = [f"turn {fmt_angle(turn)}"]
+        values = {"turn_deg": float(turn)}
+        if hand:
+            lines.append(f"off line {fmt_angle(turn / 2.0)}")
+            values["off_line_deg"] = float(turn) / 2.0
+        lab = OverlayLabel(kind="angle", key=key, lines=tuple(lines), values=values,
+                           colour=theme.ANGLE_TEXT, priority=30.0 + (5.0 if hand else 0.0),
+                           base=at, prefer=outward)
+        return read, mkey, lab, None
+
+    part = state.parts["a"]
+    part.update(names, tuple(turns.values()), dirty if same else None, angle)
+    return list(filter(None, part.outs))
+
+
+def _anchor_labels(state: _LabelState, result: Result, unit: str, sf: float, pos: Mapping, dirty: set | None,
+                   arrows: list) -> list:
+    """The label of every anchor's resultant (its arrow added to ``arrows``); ``dirty`` includes changed holds."""
+    points = state.by_id
+    anchor_holds = result.hold_anchor_range
+    anchors = result.anchors
+    names_n = tuple(anchors)
+
+    def anchor(i, a, old):
+        aid = names_n[i]
+        p = points.get(aid)
+        if aid not in pos or p is None:
+            return (aid,), None, None, None
+        hold = anchor_holds.get(aid)
+        at = pos[aid]
+        # the numbers the label and arrow show (hashing the frozen record itself is slower)
+        mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, p.name, hold, at)
+        hit = old.get(mkey)
+        if hit is not None:
+            return (aid,), mkey, hit[0], hit[1]
+        rad = math.radians(a.direction_deg)
+        d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
+        colour = theme.utilization_colour(a.utilization)
+        lines = [f"{p.name} {format_force(a.force_N, unit)}"]
+        if a.utilization is not None:
+            lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
+        else:
+            lines.append("capacity not known")
+        values = {"force_N": a.force_N, "direction_deg": a.direction_deg}
+        if a.utilization is not None:
+            values["utilization"] = a.utilization
+        if hold is not None:
+            lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
+            values.update(hold_low_N=hold.low, hold_high_N=hold.high)
+        arrow = AnchorArrow(aid, at, d, colour) if a.force_N > SLACK_N else None
+        lab = OverlayLabel(kind="anchor", key=aid, lines=tuple(lines), values=values, colour=colour,
+                           priority=90.0 + min(a.utilization or 0.0, 3.0), base=at, prefer=d)
+        return (aid,), mkey, lab, arrow
+
+    part = state.parts["n"]
+    part.update(names_n, tuple(anchors.values()), dirty, anchor)
+    arrows += filter(None, part.extras)
+    return list(filter(None, part.outs))
+
+
+def _load_labels(state: _LabelState, result: Result, unit: str, pos: Mapping, dirty: set | None) -> list:
+    """The label of the force delivered to every load, against the force it needs."""
+    points = state.by_id
+    loads = result.loads
+    names_l = tuple(loads)
+
+    def load(i, f, old):
+        lid = names_l[i]
+        p = points.get(lid)
+        if lid not in pos or p is None:
+            return (lid,), None, None, None
+        mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid])
+        hit = old.get(mkey)
+        if hit is not None:
+            return (lid,), mkey, hit[0], None
+        rad = math.radians(f.direction_deg)
+        d = (math.cos(rad), -math.sin(rad))
+        lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
+        values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
+        colour = QColor(theme.UTIL_RAMP[0][1])
+        if p.required_N is not None:
+            enough = f.force_N >= p.required_N
+            lines.append(f"needs {format_force(p.required_N, unit)}" + ("" if enough else " — short"))
+            values["required_N"] = float(p.required_N)
+            colour = QColor(theme.UTIL_RAMP[0][1] if enough else theme.UTIL_RAMP[-1][1])
+        lab = OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
+                           priority=95.0, base=pos[lid], prefer=(-d[0], -d[1]))
+        return (lid,), mkey, lab, None
+
+    part = state.parts["l"]
+    part.update(names_l, tuple(loads.values()), dirty, load)
+    return list(filter(None, part.outs))
+
+
+def _haul_labels(state: _LabelState, result: Result, unit: str, pos: Mapping, dirty: set | None) -> list:
+    """The label of every haul force, with what each hauler gives; ``dirty`` includes changed holds."""
+    points = state.by_id
+    haul_holds = result.hold_haul_range
+    haul = result.haul
+    names_h = tuple(haul)
+
+    def hauled(i, force, old):
+        hid = names_h[i]
+        p = points.get(hid)
+        if hid not in pos or p is None:
+            return (hid,), None, None, None
+        hold = haul_holds.get(hid)
+        mkey = ("h", hid, force, p.name, p.team, hold, pos[hid])
+        hit = old.get(mkey)
+        if hit is not None:
+            return (hid,), mkey, hit[0], None
+        lines = [f"haul {format_force(force, unit)}"]
+        values = {"force_N": float(force)}
+        if p.team:
+            each = force / p.team
+            lines.append(f"{p.team} × {format_force(each, unit)} each")
+            values.update(team=float(p.team), per_hauler_N=each)
+        if hold is not None:
+            lines.append(f"{HOLD_LABEL} {format_force(hold.low, unit)} – {format_force(hold.high, unit)}")
+            values.update(hold_low_N=hold.low, hold_high_N=hold.high)
+        lab = OverlayLabel(kind="haul", key=hid, lines=tuple(lines), values=values,
+                           colour=QColor(theme.POINT_FILL["haul"]), priority=94.0, base=pos[hid])
+        return (hid,), mkey, lab, None
+
+    part = state.parts["h"]
+    part.update(names_h, tuple(haul.values()), dirty, hauled)
+    return list(filter(None, part.outs))
