@@ -10,7 +10,8 @@ from __future__ import annotations
 
 import copy
 import math
-from dataclasses import dataclass, fields, replace
+from collections.abc import Callable
+from dataclasses import dataclass, field, fields, replace
 
 import numpy as np
 from numpy.typing import NDArray
@@ -90,6 +91,38 @@ def _point_key(p) -> tuple:
     return (p.id, p.kind, p.fixed, p.force_N, p.team, p.force_per_person_N, p.mass_kg)
 
 
+@dataclass
+class _Layout:
+    """What :func:`compile_topology` collects rope by rope: pieces, the passes before them, runs, materials."""
+
+    materials: list[Material] = field(default_factory=list)
+    curves: list[StretchCurve] = field(default_factory=list)
+    a: list[int] = field(default_factory=list)
+    b: list[int] = field(default_factory=list)
+    piece_rope: list[str] = field(default_factory=list)
+    piece_index: list[int] = field(default_factory=list)
+    piece_run: list[int] = field(default_factory=list)
+    piece_mat: list[int] = field(default_factory=list)
+    piece_first: list[bool] = field(default_factory=list)
+    pass_kind: list[int] = field(default_factory=list)
+    pass_eta: list[float] = field(default_factory=list)
+    pass_mu: list[float] = field(default_factory=list)
+    pass_hw: list[str | None] = field(default_factory=list)
+    pass_point: list[str] = field(default_factory=list)
+    s_min: list[float] = field(default_factory=list)
+    run_start: list[int] = field(default_factory=list)
+    run_count: list[int] = field(default_factory=list)
+    run_hauled: list[bool] = field(default_factory=list)
+    run_P: list[float] = field(default_factory=list)
+    run_mode: list[int] = field(default_factory=list)  # 0 hauled, 1 pretensioned, 2 slack
+    run_param: list[float] = field(default_factory=list)  # 1 + pre-strain (pretensioned), slack in m (slack), 0 (hauled)
+    run_mat: list[int] = field(default_factory=list)
+    run_rope: list[str] = field(default_factory=list)
+    run_haul_point: list[str | None] = field(default_factory=list)
+    run_pre: list[float] = field(default_factory=list)
+    middle: list[MiddlePass] = field(default_factory=list)
+
+
 def compile_topology(rig: Rig, motion: str | None = None) -> Topology:
     """The coordinate-free part of :func:`compile_rig`; raises RigModelError naming what is wrong.
 
@@ -119,39 +152,14 @@ def compile_topology(rig: Rig, motion: str | None = None) -> Topology:
     dof[free] = np.arange(2 * nf).reshape(-1, 2)
 
     mat_index: dict[str, int] = {}
-    materials: list[Material] = []
-    curves: list[StretchCurve] = []
-    a: list[int] = []
-    b: list[int] = []
-    piece_rope: list[str] = []
-    piece_index: list[int] = []
-    piece_run: list[int] = []
-    piece_mat: list[int] = []
-    piece_first: list[bool] = []
-    pass_kind: list[int] = []
-    pass_eta: list[float] = []
-    pass_mu: list[float] = []
-    pass_hw: list[str | None] = []
-    pass_point: list[str] = []
-    s_min: list[float] = []
-    run_start: list[int] = []
-    run_count: list[int] = []
-    run_hauled: list[bool] = []
-    run_P: list[float] = []
-    run_mode: list[int] = []  # 0 hauled, 1 pretensioned, 2 slack
-    run_param: list[float] = []  # 1 + pre-strain (pretensioned), slack in m (slack), 0 (hauled)
-    run_mat: list[int] = []
-    run_rope: list[str] = []
-    run_haul_point: list[str | None] = []
-    run_pre: list[float] = []
-    middle: list[MiddlePass] = []
+    lay = _Layout()
     hw_cache: dict[str, Hardware] = {}
 
     strain_cache: dict[tuple[int, float], float] = {}
 
     def pre_strain(m: int, tension: float) -> float:
         if (m, tension) not in strain_cache:
-            strain_cache[(m, tension)] = float(curves[m].strain(tension))
+            strain_cache[(m, tension)] = float(lay.curves[m].strain(tension))
         return strain_cache[(m, tension)]
 
     def hardware(hid: str) -> Hardware:
@@ -169,160 +177,187 @@ def compile_topology(rig: Rig, motion: str | None = None) -> Topology:
         if len(path) < 2:
             raise RigModelError(f'rope "{rope.name}" needs at least two passes (a start and an end)',
                                 where=f"{where}.path", subject=rope.id)
-        for j, ps in enumerate(path):
-            if ps.at not in all_ids:
-                raise RigModelError(f'rope "{rope.name}" goes to point "{ps.at}", which is not on the sketch',
-                                    where=f"{where}.path[{j}]", subject=ps.at)
-            if ps.at not in index:
-                raise RigModelError(f'rope "{rope.name}" goes to "{ps.at}", a person marker, not part of the rig',
-                                    where=f"{where}.path[{j}]", subject=ps.at)
-            if j == 0 and ps.how != "tied":
-                raise RigModelError(f'rope "{rope.name}" must start tied at "{ps.at}"',
-                                    where=f"{where}.path[0]", subject=rope.id)
-            if j == len(path) - 1 and ps.how not in ("tied", "hauled"):
-                raise RigModelError(f'rope "{rope.name}" must end tied or hauled at "{ps.at}"',
-                                    where=f"{where}.path[{j}]", subject=rope.id)
-            if 0 < j < len(path) - 1 and ps.how not in MIDDLE_HOWS:
-                raise RigModelError(f'rope "{rope.name}" cannot be "{ps.how}" at "{ps.at}" in the middle of its path',
-                                    where=f"{where}.path[{j}]", subject=rope.id)
-            if j > 0:
-                prev = path[j - 1].at
-                (x1, y1), (x2, y2) = coords[index[prev]], coords[index[ps.at]]
-                if prev == ps.at or math.hypot(x2 - x1, y2 - y1) < COINCIDENT_M:
-                    raise RigModelError(
-                        f'rope "{rope.name}" goes from "{prev}" to "{ps.at}", which are at the same spot: '
-                        "move one of them or remove the pass", where=f"{where}.path[{j}]", subject=ps.at)
-        m_i = mat_index.get(rope.material)
-        if m_i is None:
-            spec = material_for(rig, rope.material)
-            try:
-                curve = _curve(spec.stretch)
-            except ValueError as exc:
-                raise RigModelError(f'material "{spec.name}": {exc}', where=f"materials.{spec.id}",
-                                    subject=spec.id) from None
-            if not spec.mbs_N or spec.mbs_N <= 0:
-                raise RigModelError(f'material "{spec.name}" needs a positive breaking strength (MBS)',
-                                    where=f"materials.{spec.id}", subject=spec.id)
-            m_i = mat_index[rope.material] = len(materials)
-            materials.append(spec)
-            curves.append(curve)
-        rig_i = rope.rigged
+        _check_path(rope, where, all_ids, index, coords)
+        m_i = _material_index(rig, rope, mat_index, lay)
         for run in rope.runs():
-            g = len(run_start)
-            run_start.append(len(a))
-            run_count.append(run.last - run.first)
-            run_mat.append(m_i)
-            run_rope.append(rope.id)
-            run_pre.append(float(rig_i.pretension_N or 0.0))
-            length = 0.0
-            for k in range(run.first, run.last):
-                pa, pb = path[k], path[k + 1]
-                ia, ib = index[pa.at], index[pb.at]
-                a.append(ia)
-                b.append(ib)
-                piece_rope.append(rope.id)
-                piece_index.append(k)
-                piece_run.append(g)
-                piece_mat.append(m_i)
-                piece_first.append(k == run.first)
-                lk = math.hypot(coords[ib][0] - coords[ia][0], coords[ib][1] - coords[ia][1])
-                length += lk
-                hw_size = 0.0  # 0: bare passes (knot, hand), spaced relative to the rig size below
-                for ps in (pa, pb):
-                    if ps.hardware and ps.how != "tied":
-                        sz = hardware(ps.hardware).size_m
-                        hw_size = max(hw_size, float(sz) if sz else DEFAULT_MIN_SPACING_M)
-                s_min.append(hw_size)
-                kind, eta, mu, hw = PASS_NONE, 1.0, 0.0, None
-                if k > run.first:  # pass pa is a middle pass of this run
-                    kind, eta, mu, hw = _pass_factor(rope.name, pa, hardware, f"{where}.path[{k}]")
-                pass_kind.append(kind)
-                pass_eta.append(eta)
-                pass_mu.append(mu)
-                pass_hw.append(hw)
-                pass_point.append(pa.at)
-            if run.hauled:
-                hp = pts[index[path[run.last].at]]
-                P = hp.haul_force
-                if P is None or not math.isfinite(P) or P < 0:
-                    raise RigModelError(
-                        f'rope "{rope.name}" is hauled at "{hp.name}" but no haul force is set there: '
-                        "give the team's total force, or the team size and force per person",
-                        where=f"{where}.path[{run.last}]", subject=hp.id)
-                run_hauled.append(True)
-                run_P.append(float(P))
-                run_mode.append(0)
-                run_param.append(0.0)
-                run_haul_point.append(hp.id)
-            else:
-                if rig_i.pretension_N is not None:
-                    if not (math.isfinite(rig_i.pretension_N) and rig_i.pretension_N >= 0):
-                        raise RigModelError(f'rope "{rope.name}" has a negative pretension',
-                                            where=f"{where}.rigged", subject=rope.id)
-                    stretch = 1.0 + pre_strain(m_i, float(rig_i.pretension_N))
-                    L0 = length / stretch  # checked here; set from the coordinates in with_geometry
-                    run_mode.append(1)
-                    run_param.append(stretch)
-                else:
-                    L0 = length + float(rig_i.slack_m)
-                    run_mode.append(2)
-                    run_param.append(float(rig_i.slack_m))
-                if not L0 > 0:
-                    raise RigModelError(f'rope "{rope.name}" has a run of no length', where=f"{where}.rigged",
-                                        subject=rope.id)
-                run_hauled.append(False)
-                run_P.append(0.0)
-                run_haul_point.append(None)
-        # middle passes of the rope, for deflection angles
-        first_piece = len(a) - (len(path) - 1)
-        counts: dict[str, int] = {}
-        for j in range(1, len(path) - 1):
-            at = path[j].at
-            counts[at] = counts.get(at, 0) + 1
-            key = f"{rope.id}@{at}" if counts[at] == 1 else f"{rope.id}@{at}#{counts[at]}"
-            middle.append(MiddlePass(key, rope.id, at, path[j].how, first_piece + j - 1, first_piece + j,
-                                     path[j].hardware))
+            _add_run(lay, rope, run, where, m_i, pts, index, coords, hardware, pre_strain)
+        lay.middle += _middle_passes(rope, len(lay.a) - (len(path) - 1))
 
     F, ignored = _external_forces(rig, pts, index, free, dof, nf)
-    force_scale = _overall_force_scale(F, run_P, rig)
+    force_scale = _overall_force_scale(F, lay.run_P, rig)
 
     sys_ = System(
         rig=None, motion=motion, points=None, point_ids=[p.id for p in pts], xy0=None, free=free, dof=dof,
         n_dof=2 * nf,
-        a=np.array(a, dtype=np.intp), b=np.array(b, dtype=np.intp), piece_rope=piece_rope,
-        piece_index=np.array(piece_index, dtype=np.intp), piece_run=np.array(piece_run, dtype=np.intp),
-        piece_mat=np.array(piece_mat, dtype=np.intp), piece_first=np.array(piece_first, dtype=bool),
-        pass_kind=np.array(pass_kind, dtype=np.intp), pass_eta=np.array(pass_eta, dtype=float),
-        pass_mu=np.array(pass_mu, dtype=float), pass_hw=pass_hw, pass_point=pass_point,
-        s_min=None, contact_on=np.zeros(len(a), dtype=bool),
-        run_start=np.array(run_start, dtype=np.intp), run_count=np.array(run_count, dtype=np.intp),
-        run_hauled=np.array(run_hauled, dtype=bool), run_P=np.array(run_P, dtype=float),
-        run_L0=None, run_mat=np.array(run_mat, dtype=np.intp), run_rope=run_rope,
-        run_haul_point=run_haul_point, curves=curves, materials=materials, F=F, size=None,
-        centre=np.zeros(2), origin=None, force_scale=force_scale, middle_passes=middle, ignored_forces=ignored,
+        a=np.array(lay.a, dtype=np.intp), b=np.array(lay.b, dtype=np.intp), piece_rope=lay.piece_rope,
+        piece_index=np.array(lay.piece_index, dtype=np.intp), piece_run=np.array(lay.piece_run, dtype=np.intp),
+        piece_mat=np.array(lay.piece_mat, dtype=np.intp), piece_first=np.array(lay.piece_first, dtype=bool),
+        pass_kind=np.array(lay.pass_kind, dtype=np.intp), pass_eta=np.array(lay.pass_eta, dtype=float),
+        pass_mu=np.array(lay.pass_mu, dtype=float), pass_hw=lay.pass_hw, pass_point=lay.pass_point,
+        s_min=None, contact_on=np.zeros(len(lay.a), dtype=bool),
+        run_start=np.array(lay.run_start, dtype=np.intp), run_count=np.array(lay.run_count, dtype=np.intp),
+        run_hauled=np.array(lay.run_hauled, dtype=bool), run_P=np.array(lay.run_P, dtype=float),
+        run_L0=None, run_mat=np.array(lay.run_mat, dtype=np.intp), run_rope=lay.run_rope,
+        run_haul_point=lay.run_haul_point, curves=lay.curves, materials=lay.materials, F=F, size=None,
+        centre=np.zeros(2), origin=None, force_scale=force_scale, middle_passes=lay.middle, ignored_forces=ignored,
     )
-    sys_.run_pre = np.array(run_pre, dtype=float)
+    sys_.run_pre = np.array(lay.run_pre, dtype=float)
     finish_topology(sys_)
     report_indices(sys_, [p.kind for p in pts])
     for name in _SYSTEM_FIELDS:  # shared by every System of this topology: none may change them
         value = getattr(sys_, name)
         if isinstance(value, np.ndarray):
             value.flags.writeable = False
-    nr = len(run_start)
-    longest = max(run_count, default=0)
-    run_pieces = np.full((nr, longest), len(a), dtype=np.intp)
+    nr = len(lay.run_start)
+    longest = max(lay.run_count, default=0)
+    run_pieces = np.full((nr, longest), len(lay.a), dtype=np.intp)
     if nr:
         counts = sys_.run_count
-        run_pieces[np.repeat(np.arange(nr), counts), np.arange(len(a)) - np.repeat(sys_.run_start, counts)] = \
-            np.arange(len(a))
-    mode = np.array(run_mode, dtype=np.intp)
-    param = np.array(run_param, dtype=float)
+        run_pieces[np.repeat(np.arange(nr), counts), np.arange(len(lay.a)) - np.repeat(sys_.run_start, counts)] = \
+            np.arange(len(lay.a))
+    mode = np.array(lay.run_mode, dtype=np.intp)
+    param = np.array(lay.run_param, dtype=float)
     pretensioned, slacked = np.flatnonzero(mode == 1), np.flatnonzero(mode == 2)
     structural = [i for i, p in enumerate(rig.points) if p.is_structural]
     return Topology(rig=rig, motion=motion, template=sys_, point_index=structural,
                     point_keys=tuple(_point_key(p) for p in rig.points), run_pieces=run_pieces,
                     run_pretensioned=pretensioned, run_stretch=param[pretensioned], run_slacked=slacked,
-                    run_slack=param[slacked], hw_spacing=np.array(s_min, dtype=float))
+                    run_slack=param[slacked], hw_spacing=np.array(lay.s_min, dtype=float))
+
+
+def _check_path(rope, where: str, all_ids: set, index: dict[str, int], coords: list) -> None:
+    """Raise RigModelError for the first pass of ``rope`` that is not on the sketch, not part of the rig, of a kind
+    its place in the path does not allow, or at the same spot as the pass before it."""
+    path = rope.path
+    for j, ps in enumerate(path):
+        if ps.at not in all_ids:
+            raise RigModelError(f'rope "{rope.name}" goes to point "{ps.at}", which is not on the sketch',
+                                where=f"{where}.path[{j}]", subject=ps.at)
+        if ps.at not in index:
+            raise RigModelError(f'rope "{rope.name}" goes to "{ps.at}", a person marker, not part of the rig',
+                                where=f"{where}.path[{j}]", subject=ps.at)
+        if j == 0 and ps.how != "tied":
+            raise RigModelError(f'rope "{rope.name}" must start tied at "{ps.at}"',
+                                where=f"{where}.path[0]", subject=rope.id)
+        if j == len(path) - 1 and ps.how not in ("tied", "hauled"):
+            raise RigModelError(f'rope "{rope.name}" must end tied or hauled at "{ps.at}"',
+                                where=f"{where}.path[{j}]", subject=rope.id)
+        if 0 < j < len(path) - 1 and ps.how not in MIDDLE_HOWS:
+            raise RigModelError(f'rope "{rope.name}" cannot be "{ps.how}" at "{ps.at}" in the middle of its path',
+                                where=f"{where}.path[{j}]", subject=rope.id)
+        if j > 0:
+            prev = path[j - 1].at
+            (x1, y1), (x2, y2) = coords[index[prev]], coords[index[ps.at]]
+            if prev == ps.at or math.hypot(x2 - x1, y2 - y1) < COINCIDENT_M:
+                raise RigModelError(
+                    f'rope "{rope.name}" goes from "{prev}" to "{ps.at}", which are at the same spot: '
+                    "move one of them or remove the pass", where=f"{where}.path[{j}]", subject=ps.at)
+
+
+def _material_index(rig: Rig, rope, mat_index: dict[str, int], lay: _Layout) -> int:
+    """The number of ``rope``'s material in ``lay.materials``, added (with its stretch curve) on first use."""
+    m_i = mat_index.get(rope.material)
+    if m_i is None:
+        spec = material_for(rig, rope.material)
+        try:
+            curve = _curve(spec.stretch)
+        except ValueError as exc:
+            raise RigModelError(f'material "{spec.name}": {exc}', where=f"materials.{spec.id}",
+                                subject=spec.id) from None
+        if not spec.mbs_N or spec.mbs_N <= 0:
+            raise RigModelError(f'material "{spec.name}" needs a positive breaking strength (MBS)',
+                                where=f"materials.{spec.id}", subject=spec.id)
+        m_i = mat_index[rope.material] = len(lay.materials)
+        lay.materials.append(spec)
+        lay.curves.append(curve)
+    return m_i
+
+
+def _add_run(lay: _Layout, rope, run, where: str, m_i: int, pts: list, index: dict[str, int], coords: list,
+             hardware: Callable[[str], Hardware], pre_strain: Callable[[int, float], float]) -> None:
+    """Add run ``run`` of ``rope`` (material number ``m_i``) to ``lay``: its pieces, the passes before them, and its
+    haul force or the rule of its unstretched length (pretension or slack); raises RigModelError naming what is wrong."""
+    path = rope.path
+    rig_i = rope.rigged
+    g = len(lay.run_start)
+    lay.run_start.append(len(lay.a))
+    lay.run_count.append(run.last - run.first)
+    lay.run_mat.append(m_i)
+    lay.run_rope.append(rope.id)
+    lay.run_pre.append(float(rig_i.pretension_N or 0.0))
+    length = 0.0
+    for k in range(run.first, run.last):
+        pa, pb = path[k], path[k + 1]
+        ia, ib = index[pa.at], index[pb.at]
+        lay.a.append(ia)
+        lay.b.append(ib)
+        lay.piece_rope.append(rope.id)
+        lay.piece_index.append(k)
+        lay.piece_run.append(g)
+        lay.piece_mat.append(m_i)
+        lay.piece_first.append(k == run.first)
+        lk = math.hypot(coords[ib][0] - coords[ia][0], coords[ib][1] - coords[ia][1])
+        length += lk
+        hw_size = 0.0  # 0: bare passes (knot, hand), spaced relative to the rig size below
+        for ps in (pa, pb):
+            if ps.hardware and ps.how != "tied":
+                sz = hardware(ps.hardware).size_m
+                hw_size = max(hw_size, float(sz) if sz else DEFAULT_MIN_SPACING_M)
+        lay.s_min.append(hw_size)
+        kind, eta, mu, hw = PASS_NONE, 1.0, 0.0, None
+        if k > run.first:  # pass pa is a middle pass of this run
+            kind, eta, mu, hw = _pass_factor(rope.name, pa, hardware, f"{where}.path[{k}]")
+        lay.pass_kind.append(kind)
+        lay.pass_eta.append(eta)
+        lay.pass_mu.append(mu)
+        lay.pass_hw.append(hw)
+        lay.pass_point.append(pa.at)
+    if run.hauled:
+        hp = pts[index[path[run.last].at]]
+        P = hp.haul_force
+        if P is None or not math.isfinite(P) or P < 0:
+            raise RigModelError(
+                f'rope "{rope.name}" is hauled at "{hp.name}" but no haul force is set there: '
+                "give the team's total force, or the team size and force per person",
+                where=f"{where}.path[{run.last}]", subject=hp.id)
+        lay.run_hauled.append(True)
+        lay.run_P.append(float(P))
+        lay.run_mode.append(0)
+        lay.run_param.append(0.0)
+        lay.run_haul_point.append(hp.id)
+    else:
+        if rig_i.pretension_N is not None:
+            if not (math.isfinite(rig_i.pretension_N) and rig_i.pretension_N >= 0):
+                raise RigModelError(f'rope "{rope.name}" has a negative pretension',
+                                    where=f"{where}.rigged", subject=rope.id)
+            stretch = 1.0 + pre_strain(m_i, float(rig_i.pretension_N))
+            L0 = length / stretch  # checked here; set from the coordinates in with_geometry
+            lay.run_mode.append(1)
+            lay.run_param.append(stretch)
+        else:
+            L0 = length + float(rig_i.slack_m)
+            lay.run_mode.append(2)
+            lay.run_param.append(float(rig_i.slack_m))
+        if not L0 > 0:
+            raise RigModelError(f'rope "{rope.name}" has a run of no length', where=f"{where}.rigged",
+                                subject=rope.id)
+        lay.run_hauled.append(False)
+        lay.run_P.append(0.0)
+        lay.run_haul_point.append(None)
+
+
+def _middle_passes(rope, first_piece: int) -> list[MiddlePass]:
+    """The middle passes of ``rope`` (whose first piece is number ``first_piece``), for deflection angles."""
+    path = rope.path
+    out: list[MiddlePass] = []
+    counts: dict[str, int] = {}
+    for j in range(1, len(path) - 1):
+        at = path[j].at
+        counts[at] = counts.get(at, 0) + 1
+        key = f"{rope.id}@{at}" if counts[at] == 1 else f"{rope.id}@{at}#{counts[at]}"
+        out.append(MiddlePass(key, rope.id, at, path[j].how, first_piece + j - 1, first_piece + j,
+                                 path[j].hardware))
+    return out
 
 
 def _external_forces(rig: Rig, pts: list, index: dict[str, int], free: NDArray[np.bool_], dof: IntArray,
