@@ -20,7 +20,9 @@ from PySide6.QtGui import QColor
 
 from sketchpad import theme
 from sketchpad.overlay.placement import unit_vector
+from solver.directions import direction_text
 from solver.model import Rig
+from solver.readouts import use_text
 from solver.result import Result
 from solver.units import format_force
 
@@ -327,7 +329,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
     layers = set(layers)
     unit = rig.display.force
     sf = float(rig.settings.min_safety_factor)
-    context = (unit, sf, frozenset(layers))
+    context = (unit, sf, frozenset(layers), rig.view)
     state = memo.get("_state") if memo is not None and memo.get("_context") == context else None
     if state is None:
         state = _LabelState()
@@ -351,9 +353,9 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
         def also(changed: set | None) -> set | None:
             return None if dirty is None or changed is None else (dirty | changed if changed else dirty)
 
-        labels += _anchor_labels(state, result, unit, sf, pos, also(_changed_keys(anchor_holds, old_anchor_holds)),
-                                 arrows)
-        labels += _load_labels(state, result, unit, pos, dirty)
+        labels += _anchor_labels(state, result, unit, sf, rig.view, pos,
+                                 also(_changed_keys(anchor_holds, old_anchor_holds)), arrows)
+        labels += _load_labels(state, result, unit, rig.view, pos, dirty)
         labels += _haul_labels(state, result, unit, pos, also(_changed_keys(haul_holds, old_haul_holds)))
     return labels, arrows
 
@@ -439,8 +441,8 @@ def _angle_labels(state: _LabelState, rig: Rig, result: Result, pos: Mapping, di
     return list(filter(None, part.outs))
 
 
-def _anchor_labels(state: _LabelState, result: Result, unit: str, sf: float, pos: Mapping, dirty: set | None,
-                   arrows: list) -> list:
+def _anchor_labels(state: _LabelState, result: Result, unit: str, sf: float, view: str, pos: Mapping,
+                   dirty: set | None, arrows: list) -> list:
     """The label of every anchor's resultant (its arrow added to ``arrows``); ``dirty`` includes changed holds."""
     points = state.by_id
     anchor_holds = result.hold_anchor_range
@@ -455,16 +457,16 @@ def _anchor_labels(state: _LabelState, result: Result, unit: str, sf: float, pos
         hold = anchor_holds.get(aid)
         at = pos[aid]
         # the numbers the label and arrow show (hashing the frozen record itself is slower)
-        mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, p.name, hold, at)
+        mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, a.capacity_kind, p.name, hold, at, view)
         hit = old.get(mkey)
         if hit is not None:
             return (aid,), mkey, hit[0], hit[1]
         rad = math.radians(a.direction_deg)
         d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
         colour = theme.utilization_colour(a.utilization)
-        lines = [f"{p.name} {format_force(a.force_N, unit)}"]
+        lines = [f"{p.name} {format_force(a.force_N, unit)}", "toward " + direction_text(a.direction_deg, view, a.force_N)]
         if a.utilization is not None:
-            lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
+            lines.append(use_text(a, sf))
         else:
             lines.append("capacity not known")
         values = {"force_N": a.force_N, "direction_deg": a.direction_deg}
@@ -484,7 +486,7 @@ def _anchor_labels(state: _LabelState, result: Result, unit: str, sf: float, pos
     return list(filter(None, part.outs))
 
 
-def _load_labels(state: _LabelState, result: Result, unit: str, pos: Mapping, dirty: set | None) -> list:
+def _load_labels(state: _LabelState, result: Result, unit: str, view: str, pos: Mapping, dirty: set | None) -> list:
     """The label of the force delivered to every load, against the force it needs."""
     points = state.by_id
     loads = result.loads
@@ -495,13 +497,13 @@ def _load_labels(state: _LabelState, result: Result, unit: str, pos: Mapping, di
         p = points.get(lid)
         if lid not in pos or p is None:
             return (lid,), None, None, None
-        mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid])
+        mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid], view)
         hit = old.get(mkey)
         if hit is not None:
             return (lid,), mkey, hit[0], None
         rad = math.radians(f.direction_deg)
         d = (math.cos(rad), -math.sin(rad))
-        lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
+        lines = [f"to {p.name} {format_force(f.force_N, unit)}", "toward " + direction_text(f.direction_deg, view, f.force_N)]
         values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
         colour = QColor(theme.UTIL_RAMP[0][1])
         if p.required_N is not None:

@@ -12,6 +12,7 @@ from PySide6.QtWidgets import QLabel, QWidget
 from sketchpad import theme
 from sketchpad.items import text_advance
 from solver.model import Rig
+from solver.readouts import ma_short
 from solver.result import Result
 from solver.units import format_force
 
@@ -239,14 +240,12 @@ class Legend(QWidget):
 
 
 def summary_lines(rig: Rig, result: Result) -> list[str]:
-    """The system in a few lines: MA actual/ideal, haul force and haulers, load delivered vs needed."""
+    """The system in a few lines: MA nominal/ideal/actual, haul force and haulers, load delivered vs needed."""
     unit = rig.display.force
     points = {p.id: p for p in rig.points}
     out = []
-    if result.ma_actual is not None:
-        # a drag step leaves the frictionless re-solve to the analysis at the pause
-        ideal = f" / {result.ma_ideal:.2f} ideal" if result.ma_ideal is not None else " / ideal when still"
-        out.append(f"MA {result.ma_actual:.2f} actual{ideal}")
+    if result.ma_actual is not None:  # a drag step leaves nominal and ideal to the analysis at the pause
+        out.append(ma_short(result))
     for hid, force in result.haul.items():
         name = points[hid].name if hid in points else hid
         hold = result.hold_haul_range.get(hid)

@@ -145,11 +145,12 @@ def result_data(res) -> dict[str, Any]:
         "points": {k: list(v) for k, v in res.points.items()},
         "segments": [[s.rope, s.index, s.from_point, s.to_point, s.run, s.tension_N, s.length_m, s.strain,
                       s.utilization] for s in res.segments],
-        "anchors": {k: [a.force_N, a.direction_deg, a.capacity_N, a.utilization, a.fx_N, a.fy_N]
+        "anchors": {k: [a.force_N, a.direction_deg, a.capacity_N, a.utilization, a.fx_N, a.fy_N, a.capacity_kind]
                     for k, a in res.anchors.items()},
-        "loads": {k: [a.force_N, a.direction_deg, a.capacity_N, a.utilization, a.fx_N, a.fy_N]
+        "loads": {k: [a.force_N, a.direction_deg, a.capacity_N, a.utilization, a.fx_N, a.fy_N, a.capacity_kind]
                   for k, a in res.loads.items()},
-        "haul": dict(res.haul), "ma": [res.ma_actual, res.ma_ideal], "deflection_deg": dict(res.deflection_deg),
+        "haul": dict(res.haul), "ma": [res.ma_actual, res.ma_ideal, res.ma_nominal],
+        "deflection_deg": dict(res.deflection_deg),
         "warnings": [[w.code, w.subject, w.severity, w.message] for w in res.warnings],
         "hold_haul_range": {k: [r.low, r.high] for k, r in res.hold_haul_range.items()},
         "hold_anchor_range": {k: [r.low, r.high] for k, r in res.hold_anchor_range.items()},
