@@ -248,7 +248,7 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
     own pieces (:meth:`_Parts.one`): the same numbers, at the cost of that part drawn alone.
     ``state``: the state at ``x0`` with these weights when already evaluated.
 
-    One piece on purpose (about 180 lines): the test, the matrix, the shifted solve, the step cap,
+    One piece on purpose (about 200 lines): the test, the matrix, the shifted solve, the step cap,
     the line search and the shift update of one iteration share a dozen per-part quantities, and the
     order of their floating-point operations is what keeps results bit for bit the same; split into
     functions they would pass all of them back and forth.
