@@ -12,7 +12,6 @@ from __future__ import annotations
 
 import logging
 import math
-from dataclasses import dataclass
 
 import numpy as np
 import scipy.linalg
@@ -169,8 +168,6 @@ def _sub(K, idx: np.ndarray, dense: bool):
     return K[idx][:, idx]
 
 
-
-@dataclass(frozen=True)
 class _Parts:
     """The parts one Newton iteration moves together, as data: every part of the rig, or one part alone.
 
@@ -181,13 +178,18 @@ class _Parts:
     it gets among the others.
     """
 
-    ids: tuple[int, ...]  # the parts, by number
-    part: int | None  # the one part when these are not the whole rig's coordinates, else None
-    idx: IntArray | None  # the parts' free coordinates (None: every free coordinate)
-    pieces: IntArray | None  # the one part's pieces (None: every piece)
-    cd: IntArray  # per coordinate (of ``idx``): the position in ``ids`` of its part
-    size: list[float]  # the parts' sizes, m
-    scale0: float  # the one part's largest applied force, haul or pretension, N (several parts: unused)
+    __slots__ = ("ids", "part", "idx", "pieces", "cd", "size", "scale0", "single")
+
+    def __init__(self, ids: tuple[int, ...], part: int | None, idx: IntArray | None, pieces: IntArray | None,
+                 cd: IntArray, size: list[float], scale0: float) -> None:
+        self.ids = ids  # the parts, by number
+        self.part = part  # the one part when these are not the whole rig's coordinates, else None
+        self.idx = idx  # the parts' free coordinates (None: every free coordinate)
+        self.pieces = pieces  # the one part's pieces (None: every piece)
+        self.cd = cd  # per coordinate (of ``idx``): the position in ``ids`` of its part
+        self.size = size  # the parts' sizes, m
+        self.scale0 = scale0  # the one part's largest applied force, haul or pretension, N (several parts: unused)
+        self.single = len(ids) == 1
 
     @classmethod
     def every(cls, s: System) -> _Parts:
@@ -207,7 +209,7 @@ class _Parts:
 
     def maxima(self, s: System, per_point: np.ndarray) -> list[float]:
         """Each part's largest value of ``per_point`` (one value per free point of these parts)."""
-        if len(self.ids) == 1:
+        if self.single:
             return [float(per_point.max()) if len(per_point) else 0.0]
         return _comp_max(s, per_point).tolist()
 
@@ -217,7 +219,7 @@ class _Parts:
 
     def scales(self, s: System, st: State) -> list[float]:
         """Each part's force scale: its largest applied force, haul, pretension or piece pull, N."""
-        if len(self.ids) > 1:
+        if not self.single:
             return _comp_scale(s, st).tolist()
         N = st.N if self.pieces is None else st.N[self.pieces]
         return [max(self.scale0, float(np.abs(N).max()) if len(N) else 0.0)]
@@ -225,7 +227,7 @@ class _Parts:
     def merits(self, st: State, symmetric: bool) -> list[float]:
         """Each part's merit: its potential (frictionless) or 1/2 |g|^2 over its coordinates."""
         if symmetric:
-            return st.comp_energy.tolist() if len(self.ids) > 1 else [float(st.comp_energy[self.ids[0]])]
+            return [float(st.comp_energy[self.ids[0]])] if self.single else st.comp_energy.tolist()
         g = self.on(st.g)
         return [0.5 * v for v in self.sums(self.cd, g * g)]
 
