@@ -29,15 +29,23 @@ def _application(offscreen: bool = False):
     return app
 
 
-def run_app(path: str | os.PathLike | None = None) -> int:
-    """Open the main window (with ``path`` loaded if given) and run the event loop; returns the exit code."""
-    app = _application()
+def start_window(path: str | os.PathLike | None = None):
+    """The shown main window (with ``path`` loaded if given), its first solve waiting for its first paint."""
     from sketchpad.main_window import MainWindow
 
     window = MainWindow()
+    # the drawing appears at once; the forces follow from the worker thread (imports and warm-up)
+    window.live.scheduler.first_solve_after_paint(window.view.viewport())
     if path is not None:
         window.open_path(path)  # a bad file shows a message and leaves an empty sketch
     window.show()
+    return window
+
+
+def run_app(path: str | os.PathLike | None = None) -> int:
+    """Open the main window (with ``path`` loaded if given) and run the event loop; returns the exit code."""
+    app = _application()
+    window = start_window(path)
     window.files.offer_recovery()  # unsaved work left by a session that did not close cleanly
     return int(app.exec())
 
@@ -65,10 +73,15 @@ def parse_size(text: str) -> tuple[int, int]:
 def render_window(rig_path, size: tuple[int, int]):
     """The main window with ``rig_path`` open, laid out at ``size`` and grabbed to a QPixmap."""
     app = _application(offscreen=True)
-    from solver.rigfile import load_rig
     from sketchpad.main_window import MainWindow
+    from solver import limits
+    from solver.errors import RigFileError
+    from solver.rigfile import load_rig
 
     rig = load_rig(pathlib.Path(rig_path))  # RigFileError reaches the CLI, which prints it
+    problem = limits.drawing_problem(len(rig.points), len(rig.ropes))
+    if problem:
+        raise RigFileError(problem, where=str(rig_path))
     window = MainWindow()
     window.document.replace_all(rig, pathlib.Path(rig_path))
     window.resize(*size)

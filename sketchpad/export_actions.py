@@ -32,12 +32,13 @@ def _ask_save_path(parent, title: str, start: str, filters: str) -> pathlib.Path
 
 def _show_message(parent, title: str, text: str, error: bool) -> None:
     from PySide6.QtGui import QGuiApplication
-    from PySide6.QtWidgets import QMessageBox
+
+    from sketchpad.plain_text import inform, warn
 
     if QGuiApplication.platformName() in ("offscreen", "minimal"):
         (log.warning if error else log.info)("%s: %s", title, text)
         return
-    (QMessageBox.warning if error else QMessageBox.information)(parent, title, text)
+    (warn if error else inform)(parent, title, text)
 
 
 class ExportActions:
@@ -109,14 +110,19 @@ class ExportActions:
             self._say(f"Drawing saved to {path} without forces: {failure_sentence(doc.rig, drawing.result)}")
         return path
 
-    def export_report(self, path: pathlib.Path | str | None = None) -> pathlib.Path | None:
-        """Ask where (unless given) and write the PDF report; None if cancelled or failed."""
-        path = path or self.ask_path(self.window, "Export report", self._start("-report.pdf"), REPORT_FILTER)
+    def pdf_path(self, path, title: str, suffix: str, filters: str = REPORT_FILTER) -> pathlib.Path | None:
+        """``path``, or the one the user picks (None if cancelled), ending in .pdf."""
+        path = path or self.ask_path(self.window, title, self._start(suffix), filters)
         if not path:
             return None
         path = pathlib.Path(path)
-        if path.suffix.lower() != ".pdf":
-            path = path.with_name(path.name + ".pdf")
+        return path if path.suffix.lower() == ".pdf" else path.with_name(path.name + ".pdf")
+
+    def export_report(self, path: pathlib.Path | str | None = None) -> pathlib.Path | None:
+        """Ask where (unless given) and write the PDF report; None if cancelled or failed."""
+        path = self.pdf_path(path, "Export report", "-report.pdf")
+        if path is None:
+            return None
         doc = self.window.document
         try:
             report = write_report(doc.rig, path, rig_dir=self._rig_dir(),

@@ -6,8 +6,8 @@ picks a drag shape (or types C_d).  The force F = ½ ρ C_d A v² from
 :func:`solver.loads.drag_force` is shown as they type, with its assumptions in
 words.  "Apply to load" sets the load's ``required_N`` through
 :func:`solver.loads.apply_load_estimate` as one undoable edit.  Beside the force,
-the haulers needed through the current solve's *actual* MA
-(:func:`solver.hauling.haul_plan`).  The dialog computes nothing itself.
+the pull and haulers that force needs, solved on the current rig
+(:func:`solver.pull_needed.need_for_load`).  The dialog computes nothing itself.
 """
 
 from __future__ import annotations
@@ -31,10 +31,11 @@ from PySide6.QtWidgets import (
 )
 
 from sketchpad import theme
-from sketchpad.fields import ERROR_STYLE, QuantityField
-from solver import units
+from sketchpad.fields import ERROR_STYLE, QuantityField, decimal_mark
+from sketchpad.plain_text import plain_label
+from solver import limits, units
 from solver.errors import RopewrightError, UnitError
-from solver.hauling import DEFAULT_PER_PERSON_N, haul_plan
+from solver.hauling import DEFAULT_PER_PERSON_N
 from solver.loads import DRAG_SHAPES, EXTRA_KEY, LoadEstimate, apply_load_estimate
 from solver.model import Rig
 from solver.result import Result
@@ -64,10 +65,10 @@ class UnitNumberField(QuantityField):
         if value is None:
             return ""
         v = float(value) / self.table[self.unit()]
-        return f"{v:.4g} {self.unit()}"
+        return f"{v:.4g}".replace(".", decimal_mark()) + f" {self.unit()}"
 
     def parse(self, text: str):
-        value = units.parse_in_table(text, self.unit(), self.table, self.aliases, self.what)
+        value = units.parse_in_table(text, self.unit(), self.table, self.aliases, self.what, decimal_mark())
         self._check_bounds(value, text.strip())
         return value
 
@@ -120,18 +121,18 @@ class LoadEstimateDialog(QDialog):
         self.factor = QuantityField("extra factor", "number", minimum=0.0, strict=True)
         self.factor.set_value(1.0)
         self.per_person = QuantityField("force per hauler", "force", unit=lambda: self.document.rig.display.force,
-                                        minimum=0.0, strict=True)
+                                        minimum=0.0, strict=True, limit=("point", "force_per_person_N"))
         self.per_person.set_value(self._default_per_person())
-        self.force_label = QLabel("—")
+        self.force_label = plain_label("—")
         self.force_label.setObjectName("force_label")
         self.force_label.setFont(theme.font(theme.LABEL_POINT_SIZE + 5, bold=True))
-        self.assumptions = QLabel()
+        self.assumptions = plain_label()
         self.assumptions.setObjectName("assumptions")
         self.assumptions.setWordWrap(True)
-        self.haulers = QLabel()
+        self.haulers = plain_label()
         self.haulers.setObjectName("haulers_label")
         self.haulers.setWordWrap(True)
-        self.error = QLabel()
+        self.error = plain_label()
         self.error.setObjectName("estimate_error")
         self.error.setStyleSheet(ERROR_STYLE)
         self.error.setWordWrap(True)
@@ -296,10 +297,20 @@ class LoadEstimateDialog(QDialog):
             return "Haulers: the rig has not been solved yet."
         if rig != self.document.rig:
             return "Haulers: solving the changed rig…"
-        if not result.ok or not result.ma_actual:
+        lid = self.load_box.currentData()
+        if not result.ok or not result.ma_actual or lid not in result.loads:
             return "Haulers: the rig does not solve to a mechanical advantage yet (draw a haul system to the load)."
-        plan = haul_plan(force, float(result.ma_actual), per)
-        return plan.text(self.force_unit)
+        from dataclasses import replace
+
+        from solver.pull_needed import need_for_load, need_sentence
+
+        shown = replace(rig, display=replace(rig.display, force=self.force_unit))
+        need = need_for_load(shown, result, lid, required_N=force, per_person_N=per)
+        if need is None:
+            return "Haulers: nothing to work out for no force."
+        return (f"Haulers for {units.format_force(force, self.force_unit)} at the load (actual MA now "
+                f"{result.ma_actual:.2f}:1): " + need_sentence(shown, need) + " The per-hauler force is a "
+                "sustained long-haul figure: if the load does not move, stop and re-assess rather than pull harder.")
 
     def refresh_result(self, *_args) -> None:
         """A new solve arrived: the haulers line uses its actual MA."""
@@ -323,6 +334,11 @@ class LoadEstimateDialog(QDialog):
         est = self.estimate()
         if bad or est is None:
             self.error.setText("Fix the field marked in red first; nothing was changed.")
+            return False
+        problem = limits.number_range("point", "required_N").problem(est.force_N)
+        if problem:  # the rig file could not hold it: say so instead of making the rig unsaveable
+            self.error.setText(f"The estimated force {units.format_force(est.force_N, self.force_unit)} {problem} "
+                               "newtons a rig file holds; check the speed and the area. Nothing was changed.")
             return False
         try:
             new = apply_load_estimate(self.document.rig, pid, est)

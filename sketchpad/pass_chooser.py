@@ -24,6 +24,7 @@ from PySide6.QtGui import QAction, QKeyEvent
 from PySide6.QtWidgets import QLabel, QMenu, QWidget, QWidgetAction
 
 from sketchpad import theme
+from sketchpad.plain_text import bold, rich_label
 
 log = logging.getLogger(__name__)
 
@@ -33,6 +34,7 @@ PASS_OPTIONS: tuple[tuple[str, int, int, str, str], ...] = (
     ("pulley", Qt.Key_2, Qt.Key_P, "Pulley", ""),
     ("sliding", Qt.Key_3, Qt.Key_S, "Sliding", "ring or hand, no friction"),
     ("edge", Qt.Key_4, Qt.Key_E, "Edge", ""),
+    ("capture", Qt.Key_6, Qt.Key_C, "Capture", "pulley that holds the rope when the team lets go"),
 )
 END_KEYS = (Qt.Key_5, Qt.Key_F)
 CURSOR_OFFSET_PX = 14  # the menu opens below-right of the click so the point stays in sight
@@ -82,7 +84,7 @@ class PassMenu(QMenu):
         self._emitted = False
         self.choice_actions: dict[str, QAction] = {}
         self.setFont(theme.font(theme.LABEL_POINT_SIZE + 1))
-        title = QLabel(f"Rope at <b>{request.point_name}</b>: how does it pass?")
+        title = rich_label(f"Rope at {bold(request.point_name)}: how does it pass?")
         title.setContentsMargins(10, 6, 10, 4)
         title.setStyleSheet("QLabel:disabled { color: palette(window-text); }")  # a heading, not a greyed item
         header = QWidgetAction(self)
@@ -91,8 +93,9 @@ class PassMenu(QMenu):
         self.addAction(header)
         self.addSeparator()
         for how, digit, letter, name, meaning in PASS_OPTIONS:
-            hw = {"pulley": request.pulley_hardware, "edge": request.edge_hardware}.get(how)
-            if hw is not None:
+            hw = {"pulley": request.pulley_hardware, "edge": request.edge_hardware,
+                  "capture": request.pulley_hardware}.get(how)
+            if hw is not None and how != "capture":
                 meaning = _name_of(request.pulley_options if how == "pulley" else request.edge_options, hw)
             key_hint = f"{chr(digit)}  {chr(letter)}" + ("  Enter" if how == request.default_how else "")
             act = self.addAction(f"{name} — {meaning}\t{key_hint}")

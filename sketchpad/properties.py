@@ -31,10 +31,13 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from sketchpad.fields import CommitTextEdit, QuantityField
-from solver import units
+from sketchpad.fields import ERROR_STYLE, CommitTextEdit, QuantityField
+from sketchpad.plain_text import bold, escaped, plain_label, rich_label
+from solver import limits, units
 from solver.capacity import CAPACITY_KINDS, KIND_WORDS
 from solver.directions import bearing_deg, direction_from_bearing, direction_text
+from solver.weak_links import TERMINATIONS
+from solver.templates import capture_grab_for
 from solver.model import (
     ANCHOR_TYPES,
     FEATURE_KINDS,
@@ -66,20 +69,25 @@ HOW_NAMES = {
     "pulley": "Over a pulley",
     "sliding": "Sliding (frictionless)",
     "edge": "Over an edge",
+    "capture": "Progress capture (pulley + grab)",
     "hauled": "Hauled end",
 }
 #: hardware kinds that make sense for each way a rope passes a point
 HARDWARE_FOR_HOW = {
-    "tied": ("carabiner", "ring"),
+    "tied": ("grab", "carabiner", "ring"),
     "pulley": ("pulley", "carabiner", "ring"),
     "sliding": ("ring", "carabiner"),
     "edge": ("edge",),
+    "capture": ("pulley", "carabiner"),
     "hauled": (),
 }
 MOTION_NAMES = {"haul": "Hauling", "hold": "Holding", "lower": "Lowering"}
 VIEW_NAMES = {"plan": "Plan (from above)", "elevation": "Elevation (side, with gravity)"}
 FEATURE_KIND_NAMES = {k: k.capitalize() for k in FEATURE_KINDS}
 NONE_TEXT = "(none)"
+#: a tied pass's termination (solver.weak_links): what the property panel offers, with the share of MBS kept
+TERMINATION_ITEMS = [("No knot named (full MBS)", None)] + [
+    (f"{t.label.capitalize()} ({t.efficiency:.0%} of MBS)", t.id) for t in TERMINATIONS.values()]
 
 
 def library_materials() -> dict[str, Material]:
@@ -140,9 +148,7 @@ def _set_combo(box: QComboBox, data) -> None:
 
 
 def _heading(text: str) -> QLabel:
-    lab = QLabel(f"<b>{text}</b>")
-    lab.setTextFormat(Qt.TextFormat.RichText)
-    return lab
+    return rich_label(bold(text))
 
 
 class _Page(QWidget):
@@ -172,8 +178,8 @@ class _Page(QWidget):
     def apply(self, new_rig: Rig, text: str, merge_key: str | None = None) -> None:
         self.panel.document.apply(new_rig, text, merge_key=merge_key)
 
-    def text_field(self, what: str, optional: bool = True) -> QuantityField:
-        return QuantityField(what, "text", optional=optional)
+    def text_field(self, what: str, optional: bool = True, limit: tuple[str, str] | None = None) -> QuantityField:
+        return QuantityField(what, "text", optional=optional, limit=limit)
 
     def force_field(self, what: str, **kw) -> QuantityField:
         return QuantityField(what, "force", unit=self.force_unit, **kw)
@@ -192,24 +198,27 @@ class PointPage(_Page):
         self.point_id: str | None = None
         self.header = _heading("Point")
         self.form.addRow(self.header)
-        self.label = self.text_field("label")
+        self.label = self.text_field("label", limit=("point", "label"))
         self.kind = _combo([(POINT_KIND_NAMES[k], k) for k in POINT_KINDS])
-        self.x = self.length_field("east (x)")
-        self.y = self.length_field("north (y)")
+        self.x = self.length_field("east (x)", limit=("point", "x"))
+        self.y = self.length_field("north (y)", limit=("point", "y"))
         self.fixed = QCheckBox("Held still (fixed)")
         self.anchor_type = _combo([(NONE_TEXT, None)] + [(ANCHOR_TYPE_NAMES[t], t) for t in ANCHOR_TYPES])
-        self.capacity = self.force_field("capacity", minimum=0, strict=True, optional=True)
+        self.capacity = self.force_field("capacity", minimum=0, strict=True, optional=True, limit=("point", "capacity_N"))
         self.capacity_kind = _combo([(f"{KIND_WORDS[k]} ({'÷ safety factor' if k == 'strength' else 'no factor'})", k)
                                      for k in CAPACITY_KINDS])
         self.capacity_kind.setToolTip("Breaking strength: the margin divides it by the rig's safety factor. "
                                       "Rated working load: already has its factor; warned only above it.")
-        self.required = self.force_field("force needed", minimum=0, strict=True, optional=True)
-        self.team = QuantityField("team size", "integer", minimum=1, optional=True)
-        self.per_person = self.force_field("pull per person", minimum=0, strict=True, optional=True)
-        self.total = self.force_field("total pull", minimum=0, strict=True, optional=True)
-        self.haul_hint = QLabel()
+        self.required = self.force_field("force needed", minimum=0, strict=True, optional=True,
+                                         limit=("point", "required_N"))
+        self.team = QuantityField("team size", "integer", minimum=1, optional=True, limit=("point", "team"))
+        self.per_person = self.force_field("pull per person", minimum=0, strict=True, optional=True,
+                                           limit=("point", "force_per_person_N"))
+        self.total = self.force_field("total pull", minimum=0, strict=True, optional=True, limit=("point", "force_N"))
+        self.haul_hint = plain_label()
         self.haul_hint.setWordWrap(True)
-        self.mass = QuantityField("mass", "number", minimum=0, strict=True, optional=True, suffixes=("kg",))
+        self.mass = QuantityField("mass", "number", minimum=0, strict=True, optional=True, suffixes=("kg",),
+                                  limit=("point", "mass_kg"))
         self.rows: dict[str, QWidget] = {}
         for key, text, w in (
             ("label", "Label", self.label),
@@ -247,6 +256,9 @@ class PointPage(_Page):
         self.per_person.committed.connect(lambda v: self._set_haul(force_per_person_N=v))
         self.total.committed.connect(lambda v: self._set("force_N", v, "Set total pull"))
         self.mass.committed.connect(lambda v: self._set("mass_kg", v, "Set mass"))
+        from sketchpad.water_fields import BodyFields
+
+        self.body = BodyFields(self)  # in moving water: wetted area and shape
 
     def show_point(self, point_id: str) -> None:
         self.point_id = point_id
@@ -297,7 +309,7 @@ class PointPage(_Page):
         if self.point_id is None or not rig.has_point(self.point_id):
             return
         p = rig.point(self.point_id)
-        self.header.setText(f"<b>{POINT_KIND_NAMES[p.kind].split(' (')[0]}</b> {p.id}")
+        self.header.setText(f"{bold(POINT_KIND_NAMES[p.kind].split(' (')[0])} {escaped(p.id)}")
         self.label.set_value(p.label)
         _set_combo(self.kind, p.kind)
         self.x.set_value(p.x)
@@ -340,6 +352,7 @@ class PointPage(_Page):
         }
         for key, show in visible.items():
             self.form.setRowVisible(self.rows[key], show)
+        self.body.refresh(p, rig)
 
 
 # --- ropes -----------------------------------------------------------------------------
@@ -349,13 +362,13 @@ class RopePage(_Page):
         self.rope_id: str | None = None
         self.header = _heading("Rope")
         self.form.addRow(self.header)
-        self.label = self.text_field("label")
+        self.label = self.text_field("label", limit=("rope", "label"))
         self.material = _narrow(QComboBox())
-        self.material_info = QLabel()
+        self.material_info = plain_label()
         self.material_info.setWordWrap(True)
         self.setup = _combo([("Hand-tight as drawn, plus slack", "slack"), ("Pretensioned", "pretension")])
-        self.slack = self.length_field("slack", minimum=0)
-        self.pretension = self.force_field("pretension", minimum=0, strict=True)
+        self.slack = self.length_field("slack", minimum=0, limit=("rigged", "slack_m"))
+        self.pretension = self.force_field("pretension", minimum=0, strict=True, limit=("rigged", "pretension_N"))
         self.form.addRow("Label", self.label)
         self.form.addRow("Material", self.material)
         self.form.addRow("", self.material_info)
@@ -366,6 +379,8 @@ class RopePage(_Page):
         self.passes_grid = QGridLayout(self.passes_box)
         self.form.addRow(self.passes_box)
         self._pass_widgets: list[tuple[QComboBox, QComboBox]] = []
+        self._term_widgets: list[QComboBox] = []
+        self._grab_widgets: list[QComboBox] = []
         self._pass_signature: tuple | None = None
 
         self.label.committed.connect(self._set_label)
@@ -417,7 +432,7 @@ class RopePage(_Page):
     def _hw_options(self, rig: Rig, how: str, current: str | None) -> list[tuple[str, str | None]]:
         kinds = HARDWARE_FOR_HOW.get(how, ())
         # a pulley or edge pass must name its spec (rig-format.md), so "(none)" is not offered there
-        items = [] if how in ("pulley", "edge") and current is not None else [(NONE_TEXT, None)]
+        items = [] if how in ("pulley", "edge", "capture") and current is not None else [(NONE_TEXT, None)]
         for hid, hw in hardware_for(rig).items():
             if hw.kind in kinds or hid == current:
                 items.append((hw.name, hid))
@@ -430,12 +445,13 @@ class RopePage(_Page):
             if w is not None:
                 w.deleteLater()
         self._pass_widgets = []
+        self._grab_widgets = []
+        self._term_widgets = []
         n = len(r.path)
         for i, ps in enumerate(r.path):
             name = rig.point(ps.at).name if rig.has_point(ps.at) else ps.at
-            where = QLabel(f"{i + 1}. <b>{name}</b>" + (f" ({ps.at})" if name != ps.at else ""))
-            where.setTextFormat(Qt.TextFormat.RichText)
-            self.passes_grid.addWidget(where, 2 * i, 0, 1, 2)
+            where = rich_label(f"{i + 1}. {bold(name)}" + (f" ({escaped(ps.at)})" if name != ps.at else ""))
+            self.passes_grid.addWidget(where, 3 * i, 0, 1, 2)
             how = _combo([(HOW_NAMES[h], h) for h in self._how_options(i, n)])
             how.setEnabled(how.count() > 1)
             how.setToolTip("How the rope goes through this point")
@@ -443,9 +459,20 @@ class RopePage(_Page):
             hw.setToolTip("The pulley, carabiner, ring or edge it goes over")
             how.currentIndexChanged.connect(lambda _x, k=i: self._how_changed(k))
             hw.currentIndexChanged.connect(lambda _x, k=i: self._hw_changed(k))
-            self.passes_grid.addWidget(how, 2 * i + 1, 0)
-            self.passes_grid.addWidget(hw, 2 * i + 1, 1)
+            self.passes_grid.addWidget(how, 3 * i + 1, 0)
+            self.passes_grid.addWidget(hw, 3 * i + 1, 1)
+            term = _combo(TERMINATION_ITEMS)
+            term.setToolTip("How the rope is tied here: a knot keeps only part of the rope's MBS, "
+                            "and the pieces ending here use that in their margin")
+            term.currentIndexChanged.connect(lambda _x, k=i: self._termination_changed(k))
+            self.passes_grid.addWidget(term, 3 * i + 2, 0, 1, 2)
+            grab = _narrow(QComboBox())  # a progress capture's rope grab: in the same row, shown on captures only
+            grab.setToolTip("The rope grab that holds the rope when the team lets go (its slip force counts)")
+            grab.currentIndexChanged.connect(lambda _x, k=i: self._grab_changed(k))
+            self.passes_grid.addWidget(grab, 3 * i + 2, 0, 1, 2)
             self._pass_widgets.append((how, hw))
+            self._term_widgets.append(term)
+            self._grab_widgets.append(grab)
 
     def _how_changed(self, index: int) -> None:
         r = self._rope()
@@ -459,29 +486,40 @@ class RopePage(_Page):
         known = hardware_for(self.rig)
         if hw is not None and (hw not in known or known[hw].kind not in kinds):
             hw = None
-        if hw is None and how in ("pulley", "edge"):
+        if hw is None and how in ("pulley", "edge", "capture"):
             # a rope over a pulley or edge needs a spec: start with the first of that kind
             hw = next((hid for hid, h in known.items() if h.kind == kinds[0]), None)
         path = list(r.path)
-        path[index] = replace(ps, how=how, hardware=hw)
+        grab = (ps.grab or capture_grab_for(self.rig)) if how == "capture" else None
+        path[index] = replace(ps, how=how, hardware=hw, termination=ps.termination if how == "tied" else None,
+                              grab=grab)
         self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: {HOW_NAMES[how].lower()} at {ps.at}")
 
+    def _grab_changed(self, index: int) -> None:
+        if self._rope().path[index].how == "capture":
+            self._set_pass_field(index, "grab", self._grab_widgets[index].currentData())
+
     def _hw_changed(self, index: int) -> None:
+        self._set_pass_field(index, "hardware", self._pass_widgets[index][1].currentData())
+
+    def _termination_changed(self, index: int) -> None:
+        self._set_pass_field(index, "termination", self._term_widgets[index].currentData())
+
+    def _set_pass_field(self, index: int, name: str, value) -> None:
+        """One undoable edit setting field ``name`` of pass ``index`` (nothing when it already has ``value``)."""
         r = self._rope()
-        _, hw_box = self._pass_widgets[index]
-        hw = hw_box.currentData()
         ps = r.path[index]
-        if hw == ps.hardware:
+        if getattr(ps, name) == value:
             return
         path = list(r.path)
-        path[index] = replace(ps, hardware=hw)
-        self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: hardware at {ps.at}")
+        path[index] = replace(ps, **{name: value})
+        self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: {name} at {ps.at}")
 
     def refresh(self, rig: Rig) -> None:
         if self.rope_id is None or not any(r.id == self.rope_id for r in rig.ropes):
             return
         r = rig.rope(self.rope_id)
-        self.header.setText(f"<b>Rope</b> {r.id}")
+        self.header.setText(f"{bold('Rope')} {escaped(r.id)}")
         self.label.set_value(r.label)
         mats = materials_for(rig)
         with QSignalBlocker(self.material):
@@ -514,6 +552,18 @@ class RopePage(_Page):
                     hw_box.addItem(text, data)
             _set_combo(hw_box, ps.hardware)
             hw_box.setEnabled(ps.how != "hauled")
+        for term_box, ps in zip(self._term_widgets, r.path):
+            _set_combo(term_box, ps.termination)
+            term_box.setVisible(ps.how == "tied")
+        for grab_box, ps in zip(self._grab_widgets, r.path):
+            with QSignalBlocker(grab_box):
+                grab_box.clear()
+                grab_box.addItem("(no rated grab)", None)
+                for hid, hw in hardware_for(rig).items():
+                    if hw.kind == "grab" or hid == ps.grab:
+                        grab_box.addItem(hw.name, hid)
+            _set_combo(grab_box, ps.grab)
+            grab_box.setVisible(ps.how == "capture")
 
 
 # --- forces and features ---------------------------------------------------------------
@@ -527,10 +577,11 @@ class ForcePage(_Page):
         self.index: int | None = None
         self.header = _heading("Force")
         self.form.addRow(self.header)
-        self.label = self.text_field("label")
-        self.at = QLabel()
-        self.magnitude = self.force_field("force", minimum=0, strict=True)
-        self.direction = QuantityField("direction", "number", suffixes=("°", "deg", "degrees"))
+        self.label = self.text_field("label", limit=("force", "label"))
+        self.at = plain_label()
+        self.magnitude = self.force_field("force", minimum=0, strict=True, limit=("force", "magnitude_N"))
+        self.direction = QuantityField("direction", "number", suffixes=("°", "deg", "degrees"),
+                                       limit=("force", "direction_deg"))
         self.form.addRow("Label", self.label)
         self.form.addRow("Acts on", self.at)
         self.form.addRow("Size", self.magnitude)
@@ -576,12 +627,15 @@ class FeaturePage(_Page):
         self.feature_id: str | None = None
         self.header = _heading("Site feature")
         self.form.addRow(self.header)
-        self.label = self.text_field("label")
+        self.label = self.text_field("label", limit=("feature", "label"))
         self.kind = _combo([(FEATURE_KIND_NAMES[k], k) for k in FEATURE_KINDS])
         self.form.addRow("Label", self.label)
         self.form.addRow("Kind", self.kind)
         self.label.committed.connect(lambda v: self._set(label=v or ""))
         self.kind.currentIndexChanged.connect(lambda _i: self._set(kind=self.kind.currentData()))
+        from sketchpad.water_fields import FlowFields
+
+        self.flow = FlowFields(self)  # a water feature's current
 
     def show_feature(self, feature_id: str) -> None:
         self.feature_id = feature_id
@@ -592,6 +646,8 @@ class FeaturePage(_Page):
         feats = list(rig.site.features)
         for i, f in enumerate(feats):
             if f.id == self.feature_id:
+                if kw.get("kind", f.kind) != "water":
+                    kw["flow"] = None  # only water carries a current
                 new = replace(f, **kw)
                 if new != f:
                     feats[i] = new
@@ -602,9 +658,10 @@ class FeaturePage(_Page):
         f = next((f for f in rig.site.features if f.id == self.feature_id), None)
         if f is None:
             return
-        self.header.setText(f"<b>Site feature</b> {f.id}")
+        self.header.setText(f"{bold('Site feature')} {escaped(f.id)}")
         self.label.set_value(f.label)
         _set_combo(self.kind, f.kind)
+        self.flow.refresh(f, rig)
 
 
 # --- the rig (nothing selected) ---------------------------------------------------------
@@ -613,24 +670,31 @@ class RigPage(_Page):
         super().__init__(panel)
         self.form.addRow(_heading("Rig"))
         self._shown: tuple | None = None  # what refresh last showed (shown_key)
-        self.title = self.text_field("title")
+        self.title = self.text_field("title", limit=("rig", "title"))
         self.notes = CommitTextEdit()
         self.notes.setPlaceholderText("Site, team, conditions, what to check…")
         self.notes.setMaximumHeight(90)
         self.view = _combo([(VIEW_NAMES[v], v) for v in ("plan", "elevation")])
         self.motion = _combo([(MOTION_NAMES[m], m) for m in MOTIONS])
-        self.min_sf = QuantityField("minimum safety factor", "number", minimum=1, suffixes=(":1",))
+        self.min_sf = QuantityField("minimum safety factor", "number", minimum=1, suffixes=(":1",),
+                                    limit=("settings", "min_safety_factor"))
         self.length_unit_box = _combo([(u, u) for u in LENGTH_UNITS])
         self.force_unit_box = _combo([(u, u) for u in FORCE_UNITS])
         self.form.addRow("Title", self.title)
         self.form.addRow("Notes", self.notes)
+        self.notes_error = plain_label()
+        self.notes_error.setObjectName("error:notes")
+        self.notes_error.setStyleSheet(ERROR_STYLE)
+        self.notes_error.setWordWrap(True)
+        self.notes_error.hide()
+        self.form.addRow("", self.notes_error)
         self.form.addRow("View", self.view)
         self.form.addRow("Rope is", self.motion)
         self.form.addRow("Min. safety factor", self.min_sf)
         self.form.addRow("Lengths in", self.length_unit_box)
         self.form.addRow("Forces in", self.force_unit_box)
         self.title.committed.connect(lambda v: self._set_top(title=v or ""))
-        self.notes.commit.connect(lambda: self._set_top(notes=self.notes.toPlainText()))
+        self.notes.commit.connect(self._commit_notes)
         self.view.currentIndexChanged.connect(lambda _i: self._set_top(view=self.view.currentData()))
         self.motion.currentIndexChanged.connect(lambda _i: self._set_settings(motion=self.motion.currentData()))
         self.min_sf.committed.connect(lambda v: self._set_settings(min_safety_factor=float(v)))
@@ -648,6 +712,15 @@ class RigPage(_Page):
         lay.setContentsMargins(4, 4, 4, 4)
         lay.addWidget(widget)
         self.form.addRow(box)
+
+    def _commit_notes(self) -> None:
+        """Notes as typed, or an inline message (nothing changed) when they are longer than a rig file holds."""
+        text = self.notes.toPlainText()
+        problem = limits.text_problem("rig", "notes", text)
+        self.notes_error.setText(f"Notes {problem}: shorten them to save." if problem else "")
+        self.notes_error.setVisible(bool(problem))
+        if not problem:
+            self._set_top(notes=text)
 
     def _set_top(self, **kw) -> None:
         rig = self.rig
@@ -703,7 +776,7 @@ class PropertiesPanel(QWidget):
         self.rope_page = RopePage(self)
         self.force_page = ForcePage(self)
         self.feature_page = FeaturePage(self)
-        self.multi_page = QLabel("Several things are selected: select one to edit it.")
+        self.multi_page = plain_label("Several things are selected: select one to edit it.")
         self.multi_page.setWordWrap(True)
         self.multi_page.setAlignment(Qt.AlignmentFlag.AlignTop)
         for page in (self.rig_page, self.point_page, self.rope_page, self.force_page, self.feature_page, self.multi_page):

@@ -3,7 +3,7 @@
 ``write_report(rig, path)`` lays out, on A4 (metric rigs) or US Letter (imperial
 rigs): title, date and notes; the drawing with its forces (the same offscreen
 scene as :mod:`sketchpad.export`, so it matches the screen); the mechanical
-advantage (nominal, ideal and actual), haulers needed (:mod:`solver.hauling`) and the
+advantage (nominal, ideal and actual), the pull and pullers needed (:mod:`solver.pull_needed`) and the
 warnings; tables of rope pieces (tension, stretch, safety factor = MBS ÷
 tension), anchors (resultant, bearing, capacity and its kind, the margin it gives) and hardware
 (load at each pulley, carabiner or edge against its MBS); a plot of MA and peak
@@ -25,24 +25,26 @@ import io
 import logging
 import math
 import pathlib
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Callable
 
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QColor, QFont, QFontMetricsF, QImage, QPageLayout, QPainter
+from PySide6.QtGui import QColor, QFont, QFontMetricsF, QImage, QPainter
 
 from sketchpad.export import (
     Drawing,
     ExportError,
     ensure_app,
     page_font,
-    page_size_for,
+    key_strip_height,
     paint_key_strip,
-    pdf_writer,
+    portrait_writer,
+    refuse_undrawable,
     run_file_command,
     units_line,
 )
 from sketchpad.messages import failure_sentence
+from sketchpad.pages.table import Table
 from solver.materials import used_hardware_ids, used_material_ids
 from solver.model import Rig
 from solver.result import Result
@@ -55,9 +57,9 @@ log = logging.getLogger(__name__)
 MARGIN_IN = 0.6  # page margin, inches
 DPI = 96.0
 BODY_PT, SMALL_PT, TABLE_PT, HEAD_PT, TITLE_PT = 9.0, 7.5, 8.0, 11.0, 16.0
-#: (drawing height, plot height) tried in turn until the report fits on two pages
+#: (drawing height, plot height) tried in turn until the report fits on PAGES_WANTED pages
 LAYOUTS = ((400.0, 240.0), (360.0, 220.0), (320.0, 200.0), (280.0, 180.0))
-KEY_H_PX = 46.0
+PAGES_WANTED = 3  # the layouts shrink until the report fits on this many pages (if it can)
 PLOT_DPI = 200
 SWEEP_STEPS = 13
 SWEEP_FROM, SWEEP_TO = 0.25, 2.0  # haul force range as fractions of the drawn haul force
@@ -119,26 +121,20 @@ def _hardware(rig: Rig, hw_id: str):
         return None
 
 
-@dataclass
-class Table:
-    """Header, rows of cell text, relative column widths, right-aligned columns, rows to flag red."""
-
-    title: str
-    header: tuple[str, ...]
-    rows: list[tuple[str, ...]]
-    widths: tuple[float, ...]
-    right: frozenset[int] = frozenset()
-    flagged: set[int] = field(default_factory=set)
-    note: str = ""
 
 
 def rope_table(rig: Rig, result: Result) -> Table:
-    """One row per straight piece of rope: tension, length, stretch, MBS and safety factor MBS ÷ tension."""
+    """One row per straight piece of rope: tension, length, stretch, MBS (× a knot's efficiency where the piece
+    ends at a termination, solver.weak_links) and safety factor = that strength ÷ tension."""
+    from solver.weak_links import piece_strengths
+
     fu, lu = rig.display.force, rig.display.length
+    strengths = piece_strengths(rig)
     t = Table("Rope pieces", ("Rope", "Piece", "Tension", "Length", "Stretch", "MBS", "Safety factor"), [],
               (1.5, 2.4, 1.0, 0.9, 0.8, 1.0, 1.0), frozenset({2, 3, 4, 5, 6}),
-              note=f"Safety factor = rope MBS ÷ tension; the rig asks for at least "
-                   f"{rig.settings.min_safety_factor:g}:1 (red below it). Knots and bends weaken a rope further.")
+              note=f"Safety factor = rope MBS (× the efficiency of a named knot or termination at the piece's end, "
+                   f"listed under Weak links) ÷ tension; the rig asks for at least "
+                   f"{rig.settings.min_safety_factor:g}:1 (red below it). Knots not named weaken a rope further.")
     for s in result.segments:
         try:
             rope = rig.rope(s.rope)
@@ -146,11 +142,14 @@ def rope_table(rig: Rig, result: Result) -> Table:
             continue
         mat = _material(rig, rope.material)
         mbs = mat.mbs_N if mat is not None else None
+        piece = strengths.get((s.rope, s.index))
+        mbs_text = format_force(mbs, fu) if mbs is not None else "not known"
+        if piece is not None and piece.termination is not None:
+            mbs, mbs_text = piece.strength_N, f"{mbs_text} × {piece.efficiency:.0%}"
         slack = s.tension_N <= 1.0
         t.rows.append((rope.name, f"{_pname(rig, s.from_point)} → {_pname(rig, s.to_point)}",
                        "slack" if slack else format_force(s.tension_N, fu), format_length(s.length_m, lu),
-                       "—" if slack else f"{s.strain * 100:.1f} %",
-                       format_force(mbs, fu) if mbs is not None else "not known", sf_text(mbs, s.tension_N)))
+                       "—" if slack else f"{s.strain * 100:.1f} %", mbs_text, sf_text(mbs, s.tension_N)))
         if sf_low(rig, mbs, s.tension_N):
             t.flagged.add(len(t.rows) - 1)
     return t
@@ -218,9 +217,9 @@ def ma_sentence(result: Result) -> str:
 
 
 def haul_sentences(rig: Rig, result: Result) -> list[str]:
-    """Haul force, what reaches each load, and haulers needed for each load with a force needed."""
-    from solver.errors import RopewrightError
-    from solver.hauling import DEFAULT_PER_PERSON_N, plan_for_result
+    """Haul force, what reaches each load, and the pull (solved) and pullers each load with a force needed takes."""
+    from solver.hauling import DEFAULT_PER_PERSON_N
+    from solver.pull_needed import need_sentence
 
     fu = rig.display.force
     out = []
@@ -237,16 +236,37 @@ def haul_sentences(rig: Rig, result: Result) -> list[str]:
         out.append(f"Force reaching {_pname(rig, lid)}: {format_force(a.force_N, fu)}{need}.")
         if p is None:
             continue
-        try:
-            plan = plan_for_result(rig, result, lid)
-        except RopewrightError as exc:
-            out.append(f"Haulers needed for {p.name}: cannot be worked out ({exc}).")
-            continue
-        if plan is not None:
-            out.append(f"Haulers needed for {p.name}: {plan.haulers}. " + plan.text(fu))
+        need_of = result.needs.get(lid)
+        if need_of is not None:
+            out.append(f"Pull needed for {p.name} (the rig solved at trial pulls, every haul team and pulling force "
+                       f"scaled together, the friction of the motion counted). "
+                       + need_sentence(rig, need_of) + " The pull per person is a sustained long-haul figure: "
+                       "if the load does not move, stop and re-assess rather than pull harder.")
         elif p.required_N is None:
-            out.append(f"No force needed is entered for {p.name}, so haulers needed is not worked out "
-                       f"(each hauler is taken as {format_force(DEFAULT_PER_PERSON_N, fu)} sustained).")
+            out.append(f"No force needed is entered for {p.name}, so the pull needed is not worked out "
+                       f"(each puller is taken as {format_force(DEFAULT_PER_PERSON_N, fu)} sustained).")
+    return out
+
+
+def weak_link_lines(rig: Rig, result: Result) -> list[str]:
+    """Each knot and rope grab (solver.weak_links), with the efficiency or slip force its margin used."""
+    from solver.weak_links import weak_links
+
+    fu = rig.display.force
+    out = []
+    for w in weak_links(rig, result):
+        rope, at = (rig.rope(w.rope).name if w.rope in {r.id for r in rig.ropes} else w.rope), _pname(rig, w.at)
+        carried = f"; it carries {format_force(w.force_N, fu)}" if w.force_N is not None else ""
+        if w.kind == "termination":
+            strength = f" = {format_force(w.strength_N, fu)}" if w.strength_N is not None else ""
+            out.append(f"{w.label.capitalize()} on {rope} at {at}: the pieces ending there are taken at "
+                       f"{w.efficiency:.0%} of the rope's MBS{strength}{carried} ({w.source}).")
+        else:
+            held = f"; it holds {format_force(w.force_N, fu)}" if w.force_N is not None else ""
+            slips = " — IT WILL SLIDE" if w.force_N is not None and w.slip_N and w.force_N > w.slip_N else ""
+            mbs = f", MBS {format_force(w.strength_N, fu)}" if w.strength_N else ""
+            out.append(f"Rope grab {w.label} on {rope} at {at}: slips at {format_force(w.slip_N, fu)}{mbs}{held}"
+                       f"{slips} ({w.source}).")
     return out
 
 
@@ -265,6 +285,9 @@ def assumption_lines(rig: Rig) -> list[str]:
         "Ropes are elastic and tension-only (stretch from each material's curve); anchors do not move; each "
         "straight piece carries one tension.",
     ]
+    from sketchpad.report_failures import recoil_assumption
+
+    out.append(recoil_assumption(rig.display.length))
     for mat_id in used_material_ids(rig):
         m = _material(rig, mat_id)
         if m is None:
@@ -519,7 +542,8 @@ class Report:
 
 
 def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, source: str | None,
-             plot: tuple[QImage | None, str] | None, sizes: tuple[float, float] = LAYOUTS[0]) -> None:
+             plot: tuple[QImage | None, str] | None, sizes: tuple[float, float] = LAYOUTS[0],
+             failures=None) -> None:
     from solver.cautions import FULL_CAUTION
 
     fu = rig.display.force
@@ -541,16 +565,18 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
     if rig.notes:
         flow.text("Notes: " + rig.notes, page_font(BODY_PT, italic=True), gap=6)
 
+    key_h = key_strip_height(flow.width) + 8
+
     def paint_drawing(p: QPainter, r: QRectF) -> None:
-        draw_r = QRectF(r.left(), r.top(), r.width(), r.height() - KEY_H_PX)
+        draw_r = QRectF(r.left(), r.top(), r.width(), r.height() - key_h)
         drawing.paint(p, draw_r)
         p.setPen(RULE)
         p.setBrush(Qt.NoBrush)
         p.drawRect(draw_r)
-        paint_key_strip(p, QRectF(r.left(), draw_r.bottom() + 6, r.width(), KEY_H_PX - 6), drawing)
+        paint_key_strip(p, QRectF(r.left(), draw_r.bottom() + 6, r.width(), key_h - 6), drawing)
 
-    drawing_h = min(sizes[0] + KEY_H_PX, max(flow.room() - 150, 260.0))
-    drawing.fit_into(flow.width, drawing_h - KEY_H_PX)  # before measuring: the fit decides skipped labels
+    drawing_h = min(sizes[0] + key_h, max(flow.room() - 150, 260.0 + key_h - 46))
+    drawing.fit_into(flow.width, drawing_h - key_h)  # before measuring: the fit decides skipped labels
     flow.block(drawing_h, paint_drawing)
     flow.y += 4
     if drawing.skipped and result.ok:
@@ -571,7 +597,11 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
         flow.text(f"{tag}: {w.message}", page_font(BODY_PT, bold=w.severity == "danger"), colour, indent=8)
 
     if result.ok:
-        for t in (rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result)):
+        from sketchpad.report_water import water_table
+
+        tables = (rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result),
+                  water_table(rig, result))
+        for t in (t for t in tables if t is not None):
             flow.table(t)
         if plot is not None:
             image, caption = plot
@@ -586,6 +616,16 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
                 flow.block(sizes[1], paint_plot)
                 flow.y += 2
             flow.text(caption, page_font(SMALL_PT, italic=True), MUTED)
+    links = weak_link_lines(rig, result)
+    if links:
+        flow.heading("Weak links (knots and rope grabs)")
+        for line in links:
+            flow.text("• " + line, page_font(BODY_PT), indent=4, gap=2)
+    if failures is not None:  # "If something lets go" (sketchpad.report_failures)
+        failures.add_to(flow)
+    from sketchpad.pages.sections import add_sections
+
+    add_sections(flow, rig, result)  # schematic, people and roles, rope lengths, gear list
     flow.heading("Assumptions")
     for line in assumption_lines(rig):
         flow.text("• " + line, page_font(SMALL_PT), indent=4, gap=2)
@@ -594,15 +634,22 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
         flow.text(para, page_font(BODY_PT, bold=True), gap=4)
 
 
+def page_frame(writer) -> tuple[float, float, QRectF]:
+    """(margin, footer height, content rect) of a report page, logical px."""
+    m, footer_h = MARGIN_IN * DPI, 28.0
+    return m, footer_h, QRectF(m, m, writer.width() - 2 * m, writer.height() - 2 * m - footer_h)
+
+
 def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = None,
                  rig_dir: pathlib.Path | None = None, source: str | None = None,
-                 now: _dt.datetime | None = None) -> Report:
+                 now: _dt.datetime | None = None, greyscale: bool = False) -> Report:
     """Write the PDF report of ``rig`` (``result`` defaults to ``analyse(rig)``); ExportError in words on failure."""
     path = pathlib.Path(path)
     if path.suffix.lower() != ".pdf":
         raise ExportError(f"a report is a PDF: end the file name '{path.name}' in .pdf")
     if not path.parent.exists():
         raise ExportError(f"the folder {path.parent} does not exist")
+    refuse_undrawable(rig)
     ensure_app()
     if result is None:
         from solver.analysis import analyse
@@ -611,12 +658,19 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     drawing = Drawing(rig, result, rig_dir)
     when = (now or _dt.datetime.now()).strftime("%Y-%m-%d %H:%M")
     title = rig.title or "Untitled rig"
-    writer = pdf_writer(path, page_size_for(rig), QPageLayout.Portrait, f"Ropewright report: {title}")
+    writer = portrait_writer(path, rig, f"Ropewright report: {title}", greyscale)
     page_w, page_h = writer.width(), writer.height()
-    m = MARGIN_IN * DPI
-    footer_h = 28.0
-    content = QRectF(m, m, page_w - 2 * m, page_h - 2 * m - footer_h)
+    m, footer_h, content = page_frame(writer)
     sweep_data = haul_sweep(rig) if result.ok else (None, 0.0, "")
+    from sketchpad.haul_report import add_haul_page, haul_table, plan_for_report
+
+    haul = plan_for_report(rig) if result.ok else None  # a page of its own when there is a load to move
+
+    from sketchpad.report_failures import failure_section
+
+    failures = failure_section(rig, result)
+    if failures is not None:
+        failures.draw_zones_on(drawing)
     plots: dict[float, tuple[QImage | None, str]] = {}
 
     def plot_for(h: float) -> tuple[QImage | None, str] | None:
@@ -634,9 +688,12 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     # pass 1: count pages, shrinking the drawing and the plot until two pages hold it all (if they can)
     for sizes in LAYOUTS:
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
-        _compose(counter, rig, result, drawing, when, source, plot_for(sizes[1]), sizes)
+        _compose(counter, rig, result, drawing, when, source, plot_for(sizes[1]), sizes, failures)
+        if haul is not None:
+            add_haul_page(counter, rig, haul)
         total = counter.finish()
-        if total <= 2:
+        fits = PAGES_WANTED + (haul is not None)  # pages the report aims for
+        if total <= fits or total >= fits + 2:  # the smaller layouts save well under a page: that many more stay
             break
 
     def footer(p: QPainter, n: int) -> None:
@@ -653,12 +710,15 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     try:
         painter.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing | QPainter.SmoothPixmapTransform)
         flow = Flow(writer, painter, content, footer, writer.newPage)
-        _compose(flow, rig, result, drawing, when, source, plot_for(sizes[1]), sizes)
+        _compose(flow, rig, result, drawing, when, source, plot_for(sizes[1]), sizes, failures)
+        if haul is not None:
+            add_haul_page(flow, rig, haul)
         pages = flow.finish()
     finally:
         painter.end()
     log.info("wrote report %s (%d pages)", path, pages)
     tables = [rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result)] if result.ok else []
+    tables += [haul_table(rig, haul)] if haul is not None else []
     return Report(path, pages, result, tables)
 
 
@@ -669,10 +729,10 @@ def report_cli(args) -> int:
             raise ExportError(f"a report is a PDF: end the file name '{pathlib.Path(args.output).name}' in .pdf")
 
     def write(rig, result, rig_dir) -> None:
-        write_report(rig, args.output, result, rig_dir, source=args.rig)
+        write_report(rig, args.output, result, rig_dir, source=args.rig, greyscale=getattr(args, "greyscale", False))
 
     return run_file_command("report", args, check_output, write, "but the rig did not solve")
 
 
 __all__ = ["write_report", "report_cli", "Report", "Table", "rope_table", "anchor_table", "hardware_table",
-           "haul_sentences", "ma_sentence", "assumption_lines", "sweep_plot", "direction_words", "sf_text"]
+           "haul_sentences", "ma_sentence", "assumption_lines", "weak_link_lines", "sweep_plot", "direction_words", "sf_text"]

@@ -5,7 +5,7 @@ direction as a bearing from north in plan or words in elevation, capacity with i
 use with the margin it was taken against; in ``hold`` the range static friction allows) and hardware
 (load on each pulley, carabiner or edge against its MBS, from
 :func:`solver.checks.pass_loads`).  The summary gives the mechanical advantage nominal /
-ideal / actual, haul force, haulers needed and the force delivered to each load against the
+ideal / actual, haul force, the pull needed (solved) and the force delivered to each load against the
 force it needs.  Clicking a warning emits ``subject_activated(subject)``; the window
 selects and centres that item on the canvas.  The panel only shows numbers: it
 never computes forces itself beyond unit conversion and ratios of Result values.
@@ -21,7 +21,6 @@ from PySide6.QtGui import QColor, QStandardItem, QStandardItemModel
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QHeaderView,
-    QLabel,
     QListWidget,
     QListWidgetItem,
     QSplitter,
@@ -33,6 +32,7 @@ from PySide6.QtWidgets import (
 
 from sketchpad import theme
 from sketchpad.messages import failure_text
+from sketchpad.plain_text import plain_label, tip
 from solver.directions import bearing_deg, direction_heading, direction_text
 from solver.model import Rig
 from solver.readouts import capacity_text, ma_short, use_text
@@ -107,10 +107,10 @@ class ResultsPanel(QWidget):
 
     def __init__(self, parent=None) -> None:
         super().__init__(parent)
-        self.summary = QLabel("No result yet.")
+        self.summary = plain_label("No result yet.")
         self.summary.setWordWrap(True)
         self.summary.setTextInteractionFlags(Qt.TextSelectableByMouse)
-        self.status = QLabel("")
+        self.status = plain_label("")
         self.status.setWordWrap(True)
         self.segments = _Table(["rope", "piece", "tension", "stretch", "use"])
         self.anchors = _Table(["anchor", "force", direction_heading("plan"), "capacity", "use", "hold range"])
@@ -246,7 +246,7 @@ class ResultsPanel(QWidget):
         for severity, subject, message in items:
             item = QListWidgetItem(f"{SEVERITY_MARK.get(severity, '•')} {message}")
             item.setData(SUBJECT_ROLE, subject)
-            item.setToolTip(f"{severity}: about {subject or 'the whole rig'}")
+            item.setToolTip(tip(f"{severity}: about {subject or 'the whole rig'}"))
             if severity == "danger":
                 item.setForeground(theme.BANNER_BACK)
             self.warnings.addItem(item)
@@ -258,7 +258,10 @@ class ResultsPanel(QWidget):
 
 
 def summary_text(rig: Rig, result: Result) -> str:
-    """MA nominal/ideal/actual, haul force and haulers needed, load delivered vs needed — one short paragraph."""
+    """MA nominal/ideal/actual, haul force, load delivered vs needed and the pull that needs (solved) — one short
+    paragraph."""
+    from solver.pull_needed import need_phrase
+
     unit = rig.display.force
     parts = []
     if result.ma_actual is not None:
@@ -277,30 +280,9 @@ def summary_text(rig: Rig, result: Result) -> str:
         text = f"to {p.name if p else lid} {format_force(f.force_N, unit)}"
         if p is not None and p.required_N is not None:
             text += f" of {format_force(p.required_N, unit)} needed"
-            needed = haulers_for(rig, result, p.required_N)
-            if needed is not None:
-                text += f" → {needed} hauler{'s' if needed != 1 else ''} needed"
+            need = result.needs.get(lid)
+            if need is not None:
+                text += f" → {need_phrase(rig, need)}"
         parts.append(text)
     parts.append(f"SF {rig.settings.min_safety_factor:g}:1, {rig.settings.motion}")
     return " · ".join(parts)
-
-
-def haulers_for(rig: Rig, result: Result, required_N: float) -> int | None:
-    """Haulers needed to deliver ``required_N`` through the actual MA (solver.hauling), None if not computable."""
-    if result.ma_actual is None or not result.haul:
-        return None
-    from solver.errors import RopewrightError
-    from solver.hauling import DEFAULT_PER_PERSON_N, haulers_needed
-
-    per = DEFAULT_PER_PERSON_N
-    for hid in result.haul:
-        if rig.has_point(hid):
-            p = rig.point(hid)
-            if p.force_per_person_N:
-                per = float(p.force_per_person_N)
-            elif p.force_N and p.team:
-                per = float(p.force_N) / p.team
-    try:
-        return haulers_needed(float(required_N), float(result.ma_actual), per)
-    except RopewrightError:
-        return None

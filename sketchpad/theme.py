@@ -129,6 +129,12 @@ FEATURE_EDGE: dict[str, QColor] = {
 }
 FEATURE_LABEL_INSET_PX = 5.0  # polygon labels sit this far inside the top-left corner
 FEATURE_EDGE_PX: dict[str, float] = {"water": 1.2, "boulder": 1.4, "bank": 2.6, "hazard": 1.6, "note": 1.0}
+# --- moving water (sketchpad.water_layer) ----------------------------------------------------
+FLOW_ARROW = QColor(31, 84, 140, 150)  # the current's arrow field over water features
+FLOW_ARROW_PX = 1.1
+FLOW_LABEL = QColor("#1f548c")  # speed and river left / river right
+BOWED_ROPE_PX = 3.0  # the rope as the current bows it, in its rope colour
+WET_TENSION = QColor("#12355a")  # tension at the ends of a rope's wet part
 FEATURE_LABEL: dict[str, QColor] = {
     "water": QColor("#2f5f8a"),
     "boulder": QColor("#4b4237"),
@@ -185,7 +191,22 @@ OVERLAY_SOLVED_POINT_PX = 4.0  # ring where the solver moved a free point
 ANGLE_TEXT = QColor("#2c3e8c")
 ANCHOR_ARROW_HEAD_PX = 11.0
 ANCHOR_ARROW_WIDTH_PX = 3.2
-ZONE_COLOURS: dict[str, QColor] = {"bight": QColor(196, 28, 36), "recoil": QColor(224, 120, 20)}
+ZONE_COLOURS: dict[str, QColor] = {"recoil": QColor(224, 120, 20), "bight": QColor(196, 28, 36),
+                                   "failure": QColor(176, 20, 120)}  # painted in this order
+#: The zone key of the legend: the drawn shapes, and once the failure scan has run, the computed ones.
+DRAWN_ZONE_NAMES: tuple[tuple[str, str], ...] = (("bight", "inside of bight"), ("recoil", "recoil band"))
+COMPUTED_ZONE_NAMES: tuple[tuple[str, str], ...] = (("failure", "failure areas"),
+                                                    ("recoil", "recoil band"))
+# the What-if ghost: one failure's outcome over the rig
+GHOST_ZONE_EDGE = QColor(25, 35, 120)
+GHOST_ZONE_FILL = QColor(40, 70, 200, 45)
+GHOST_ZONE_PX = 2.5
+GHOST_ROPE = QColor(40, 60, 150)
+GHOST_MOVE = QColor(40, 60, 150)
+GHOST_ROPE_PX = 2.0
+GHOST_MARK_PX = 6.0
+DANGER_TEXT = QColor(163, 29, 24)
+MUTED_TEXT = QColor(100, 100, 96)
 ZONE_FILL_ALPHA = 28
 ZONE_HATCH_ALPHA = 95
 ZONE_EDGE_PX = 1.0
@@ -227,4 +248,51 @@ def zone_brushes(kind: str) -> tuple[QBrush, QBrush]:
     fill, hatch = QColor(base), QColor(base)
     fill.setAlpha(ZONE_FILL_ALPHA)
     hatch.setAlpha(ZONE_HATCH_ALPHA)
-    return QBrush(fill), QBrush(hatch, Qt.BDiagPattern if kind == "bight" else Qt.FDiagPattern)
+    return QBrush(fill), QBrush(hatch, Qt.FDiagPattern if kind == "recoil" else Qt.BDiagPattern)
+
+# --- haul plan (preview of the rig part-way through a haul, and its plot) -----------------------
+HAUL_GHOST = QColor(28, 100, 168, 200)  # the rig as it stands at the scrubbed step
+HAUL_GHOST_WIDTH_PX = 3.0
+HAUL_GHOST_HALO = QColor(246, 244, 238, 230)  # paper, under the preview
+HAUL_GHOST_HALO_PX = 2.0
+HAUL_GHOST_POINT_PX = 4.5
+Z_HAUL_GHOST = 45.0  # above the result overlay, below what a tool is drawing
+HAUL_CURVE = QColor("#1c64a8")  # load travel against rope paid in
+HAUL_IDEAL = QColor("#55554f")  # the same haul without stretch (ideal MA)
+HAUL_RESET = QColor("#b9ae97")  # a reset between strokes
+HAUL_MOVE = QColor("#2f8a57")  # where the load first moves
+HAUL_CURSOR = QColor("#c2362b")  # the scrubbed step
+HAUL_PLOT_BACK = QColor("#fbfaf6")
+HAUL_PLOT_GRID = QColor("#e7e3d8")
+HAUL_PLOT_TEXT = QColor("#3a3a36")
+HAUL_STOP = QColor("#b3122e")  # a haul that stops short
+HAUL_CAUTION_STYLE = "color: #55554f; font-size: 8pt"  # the cautions under the haul plan
+
+# --- printed pages (sketchpad.export, sketchpad.report, sketchpad.pages) --------------------------------
+PAGE_INK = QColor("#1d1d1a")  # body text and lines on paper
+PAGE_MUTED = QColor("#55554f")  # secondary text
+PAGE_RULE = QColor("#b9ae97")  # rules and frames
+
+
+def page_font(size: float, bold: bool = False, italic: bool = False) -> QFont:
+    """A fresh copy of the app's face at ``size`` points (fractions allowed), for drawings and reports."""
+    f = QFont(FONT_FAMILY)
+    f.setPointSizeF(size)
+    f.setBold(bold)
+    f.setItalic(italic)
+    return f
+
+
+#: Rope-use classes as line patterns (so a black-and-white print keeps what the ramp colours say):
+#: (lowest utilization, words, rail pen style, rail width px). Class bounds are the ramp's stops.
+UTIL_CLASSES: tuple[tuple[float, str, Qt.PenStyle, float], ...] = (
+    (0.0, "under 50 %", Qt.NoPen, 0.0),
+    (0.5, "50–80 %", Qt.DotLine, 1.2),
+    (0.8, "80–100 %", Qt.DashLine, 1.4),
+    (1.0, "100 % or more", Qt.SolidLine, 2.2),
+)
+UTIL_RAIL = QColor("#1d1d1a")  # rails beside a loaded piece's band
+SCHEMATIC_GAP_PX = 13.0  # between side-by-side strands of one rope in the schematic
+SCHEMATIC_STRAND_PX = 2.2
+SCHEMATIC_T_TEXT = QColor("#1d1d1a")
+PRINT_FRAME_EDGE = QColor("#c23b22")  # the print frame drawn on the canvas (dashed)

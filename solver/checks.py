@@ -31,8 +31,10 @@ Rules (sources in the tests that hold them):
   applies: ``settings.overpull_limit_N``; else the least of ``OVERPULL_FACTOR`` x the
   load's ``required_N`` (common practice, no source) and the working strength
   (MBS / SF) of the weakest rope or hardware attached at the load.  Haul motion only.
-* ``load-stuck``: in ``haul``, force delivered < ``required_N``; haulers needed =
-  ceil(required / (actual MA x force per hauler)).
+* ``load-stuck``: in every motion, force delivered < ``required_N``, with the total pull that
+  delivers it found by solving the rig (:mod:`solver.pull_needed`) and pullers =
+  ceil(pull / pull per person), or what comes first when no pull reaches it.
+* ``grab-slips``: a rope grab holding more than its ``slip_N`` (:mod:`solver.weak_links`).
 * ``two-blocked``: a piece with a free end shorter than the hardware size there plus
   ``TWO_BLOCK_TOL_M``: the system has run out of throw (skipped when the solver already
   reported it from its contact model).
@@ -52,15 +54,20 @@ import math
 from typing import Callable, Iterable
 
 import numpy as np
+import shapely
 from shapely.geometry import LineString, Point as ShPoint, Polygon
 from shapely.geometry.base import BaseGeometry
 
+from solver.capture_checks import check_captures
 from solver.danger import DangerZone, Piece, danger_zones, pieces, positions
 from solver.errors import RopewrightError
 from solver.hauling import haulers_needed
-from solver.model import Hardware, Material, Rig
+from solver.pull_needed import check_short
+from solver.weak_links import check_grabs, weakest_ends
+from solver.model import Hardware, Material, Rig, is_tended_tail
 from solver.result import Result, Warning_
 from solver.tensioned_line import check_tensioned_lines, is_line_leg_pair
+from solver.water_warnings import check_water
 
 log = logging.getLogger(__name__)
 
@@ -81,6 +88,7 @@ CODES: dict[str, str] = {
     "overpull": "the haul team could pull harder on the load than the set limit",
     "load-stuck": "the force delivered to the load is below the force needed to free it",
     "two-blocked": "two passes have come together: the system is out of throw",
+    "grab-slips": "a rope grab holds more than its slip force: it will slide (a designed slip point)",
     "person-in-zone": "a person or haul team stands in a bight or recoil zone",
     "checks-skipped": "the rig did not solve, so force checks were skipped",
     "checks-failed": "the checks themselves crashed (analyse): treat the rig as unchecked",
@@ -227,38 +235,53 @@ def check_unrated_drawn(rig: Rig) -> list[Warning_]:
     ]
 
 
-def check_ropes(rig: Rig, result: Result) -> list[Warning_]:
-    """Each rope piece's tension against its material's MBS; one warning per rope (its worst piece)."""
+def check_ropes(rig: Rig, result: Result, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
+    """Each rope piece's tension against its strength (MBS × a knot's efficiency, :mod:`solver.weak_links`);
+    one warning per rope (its worst piece).
+
+    ``pcs``: the rig's :func:`~solver.danger.pieces` for this result if already made (``run_checks``).
+    """
     out: list[Warning_] = []
     sf = _sf(rig)
     worst: dict[str, Piece] = {}
-    for pc in pieces(rig, result):
+    kept = weakest_ends(rig)  # (rope, piece) -> (termination, point): the share of MBS a knot keeps
+    eff = lambda pc: kept[(pc.rope.id, pc.index)][0].efficiency if (pc.rope.id, pc.index) in kept else 1.0  # noqa: E731
+    for pc in pieces(rig, result) if pcs is None else pcs:
         if pc.tension_N is None:
             continue
-        if pc.rope.id not in worst or pc.tension_N > (worst[pc.rope.id].tension_N or 0.0):
+        if pc.rope.id not in worst or pc.tension_N / eff(pc) > (worst[pc.rope.id].tension_N or 0.0) / eff(worst[pc.rope.id]):
             worst[pc.rope.id] = pc
+    specs: dict[str, Material | None] = {}  # each material looked up once, not once per rope
     for rope in rig.ropes:
         pc = worst.get(rope.id)
         if pc is None or not pc.loaded:
             continue
         t = float(pc.tension_N or 0.0)
-        mat = _material(rig, rope.material)
-        where = f"between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}"
+        if rope.material not in specs:
+            specs[rope.material] = _material(rig, rope.material)
+        mat = specs[rope.material]
         if mat is None:
             out.append(Warning_("spec-unknown", rope.id,
                                 f"{rope.name}: material '{rope.material}' is not known, so its margin is not checked.",
                                 "warning"))
             continue
+        knot = kept.get((rope.id, pc.index))
+        strength = float(mat.mbs_N) * (knot[0].efficiency if knot else 1.0)
+        m = _margin(rig, t, strength)
+        if m is None:
+            continue
+        of = (f"strength there of {_force(rig, strength)} (MBS {_force(rig, mat.mbs_N)} × {knot[0].efficiency:.0%} "
+              f"for the {knot[0].label} at {_name(rig, knot[1])})") if knot else f"MBS of {_force(rig, mat.mbs_N)}"
         what = {"sling": "sling", "cord": "cord"}.get(mat.kind, "rope")
-        m = _margin(rig, t, float(mat.mbs_N))
+        where = f"between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}"
         if m == "over":
             out.append(Warning_("rope-over", rope.id,
-                                f"{rope.name} ({what}) carries {_force(rig, t)} {where}, more than its "
-                                f"MBS of {_force(rig, mat.mbs_N)}.", "danger"))
+                                f"{rope.name} ({what}) carries {_force(rig, t)} {where}, more than its {of}.",
+                                "danger"))
         elif m == "margin":
             out.append(Warning_("rope-margin", rope.id,
                                 f"{rope.name} ({what}) carries {_force(rig, t)} {where}: safety factor "
-                                f"{mat.mbs_N / t:.1f}:1, below {sf:g}:1 (MBS {_force(rig, mat.mbs_N)}).", "warning"))
+                                f"{strength / t:.1f}:1, below {sf:g}:1 ({of}).", "warning"))
     return out
 
 
@@ -303,9 +326,10 @@ def check_hardware(rig: Rig, result: Result) -> list[Warning_]:
     for r in rig.ropes:
         for ps in r.path:
             passes_at[ps.at] = passes_at.get(ps.at, 0) + 1
+    pushed = {fc.at for fc in rig.forces}
     for rope_id, k, at, f in pass_loads(rig, result):
         rng = result.hold_anchor_range.get(at)
-        if rng is not None and passes_at.get(at) == 1 and not any(fc.at == at for fc in rig.forces):
+        if rng is not None and passes_at.get(at) == 1 and at not in pushed:
             f = max(f, float(rng.high))
         if f <= 0.0:
             continue
@@ -338,17 +362,18 @@ def leg_force_factor(included_deg: float) -> float:
     return 1.0 / (2.0 * math.cos(math.radians(included_deg) / 2.0))
 
 
-def two_leg_anchors(rig: Rig, result: Result | None) -> list[tuple[str, str, str, float]]:
+def two_leg_anchors(rig: Rig, result: Result | None,
+                    pcs: Iterable[Piece] | None = None) -> list[tuple[str, str, str, float]]:
     """Free points held by exactly two legs to anchors: (point id, anchor 1, anchor 2, included angle deg)."""
     pos = positions(rig, result)
     kinds = {p.id: p.kind for p in rig.points}
     legs: dict[str, list[tuple[str, Piece]]] = {}
-    for pc in pieces(rig, result):
+    for pc in pieces(rig, result) if pcs is None else pcs:
         for here, there, k, k_there in ((pc.a_id, pc.b_id, pc.index, pc.index + 1),
                                         (pc.b_id, pc.a_id, pc.index + 1, pc.index)):
             if kinds.get(there) != "anchor":
                 continue
-            pt = next((p for p in rig.points if p.id == here), None)
+            pt = rig.point(here) if rig.has_point(here) else None
             if pt is None or pt.is_fixed or not pt.is_structural:
                 continue
             # a leg is tied to its anchor and tied (or slides, equalising) at the junction;
@@ -371,17 +396,18 @@ def two_leg_anchors(rig: Rig, result: Result | None) -> list[tuple[str, str, str
     return out
 
 
-def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
+def check_wide_anchors(rig: Rig, result: Result | None, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
     """Two-leg anchors with an included angle over 120 degrees (ASME B30.9)."""
     out = []
+    # a tensioned line (highline) is checked on its leg-force factor instead
+    wide = [(here, a1, a2, ang) for here, a1, a2, ang in two_leg_anchors(rig, result, pcs)
+            if ang > WIDE_ANCHOR_DEG and not is_line_leg_pair(rig, here, a1, a2)]
     tens: dict[frozenset[str], float] = {}
-    if result is not None and result.ok:
+    if wide and result is not None and result.ok:
         for s in result.segments:
             key = frozenset((s.from_point, s.to_point))
             tens[key] = max(tens.get(key, 0.0), float(s.tension_N))
-    for here, a1, a2, ang in two_leg_anchors(rig, result):
-        if ang <= WIDE_ANCHOR_DEG or is_line_leg_pair(rig, here, a1, a2):
-            continue  # a tensioned line (highline) is checked on its leg-force factor instead
+    for here, a1, a2, ang in wide:
         fac = leg_force_factor(ang) if ang < 179.999 else float("inf")
         fac_txt = f"{fac:.2f}" if math.isfinite(fac) else "an unbounded multiple of"
         t1, t2 = tens.get(frozenset((here, a1))), tens.get(frozenset((here, a2)))
@@ -400,9 +426,22 @@ def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
 def check_slack(rig: Rig, result: Result) -> list[Warning_]:
     """Runs whose pieces all carry (practically) nothing."""
     out = []
+    # only ropes with a run whose solved pieces all carry (practically) nothing are walked run by run
+    quiet: dict[tuple[str, int], bool] = {}
+    for s in result.segments:
+        key = (s.rope, s.run)
+        quiet[key] = quiet.get(key, True) and float(s.tension_N) <= SLACK_MAX_N
+    candidates = {rope_id for (rope_id, _), q in quiet.items() if q}
+    if not candidates:
+        return out
     tens = {(s.rope, s.index): float(s.tension_N) for s in result.segments}
+    pts = {p.id: p for p in rig.points}
     for rope in rig.ropes:
+        if rope.id not in candidates:
+            continue
         for run in rope.runs():
+            if is_tended_tail(rope, run, pts):
+                continue  # slack by design until the capture holds it
             ts = [tens.get((rope.id, i)) for i in run.piece_indices]
             if not ts or any(t is None for t in ts):
                 continue
@@ -496,14 +535,6 @@ def _haul_points(rig: Rig, result: Result):
             yield p, float(f)
 
 
-def _per_person(p) -> float | None:
-    if p.force_per_person_N is not None:
-        return float(p.force_per_person_N)
-    if p.force_N is not None and p.team:
-        return float(p.force_N) / float(p.team)
-    return None
-
-
 def overpull_limit(rig: Rig, result: Result, load_id: str) -> tuple[float, str] | None:
     """The overpull limit for one load (N) and what set it, or None if nothing does (rule in module doc)."""
     s = rig.settings.extra.get("overpull_limit_N")
@@ -536,7 +567,7 @@ def overpull_ma(result: Result) -> tuple[str, float] | None:
 
 
 def check_haul(rig: Rig, result: Result) -> list[Warning_]:
-    """Overpull (haul force x ideal MA over the limit) and a load not freed (delivered < required)."""
+    """Overpull (haul force x ideal MA over the limit); a load not freed is :func:`solver.pull_needed.check_short`."""
     out: list[Warning_] = []
     if rig.settings.motion != "haul":
         return out
@@ -544,14 +575,9 @@ def check_haul(rig: Rig, result: Result) -> list[Warning_]:
     if not hauls:
         return out
     total = sum(f for _, f in hauls)
-    team = sum(p.team or 0 for p, _ in hauls)
-    pps = [pp for p, _ in hauls if (pp := _per_person(p)) is not None]
-    per_person = min(pps) if pps else None
     for ld in rig.points_of_kind("load"):
-        lr = result.loads.get(ld.id)
-        if lr is None:
+        if ld.id not in result.loads:
             continue
-        delivered = float(lr.force_N)
         ma_used = overpull_ma(result)
         if ma_used is not None:
             which, ma_up = ma_used
@@ -564,45 +590,33 @@ def check_haul(rig: Rig, result: Result) -> list[Warning_]:
                     f"{_force(rig, potential)} on {ld.name}, over {lim[1]} ({_force(rig, lim[0])}). "
                     f"Use fewer haulers or less mechanical advantage, or watch the load's attachment.",
                     "warning"))
-        req = ld.required_N
-        if req and delivered < float(req):
-            ma = result.ma_actual if result.ma_actual else (delivered / total if total > 0 else 0.0)
-            if per_person and ma > 0:
-                need = haulers_needed(float(req), ma, per_person)
-                have = f" (team of {team})" if team else ""
-                advice = (f"With actual MA {ma:.2f} and {_force(rig, per_person)} per hauler it takes "
-                          f"{need} haulers{have}, or more mechanical advantage.")
-            elif ma > 0:
-                advice = (f"With actual MA {ma:.2f} the haul needs {_force(rig, float(req) / ma)} "
-                          f"instead of {_force(rig, total)}, or more mechanical advantage.")
-            else:
-                advice = "The haul delivers nothing to it."
-            out.append(Warning_(
-                "load-stuck", ld.id,
-                f"{ld.name} gets {_force(rig, delivered)} of the {_force(rig, req)} needed to free it. {advice}",
-                "warning"))
     return out
 
 
-def check_two_blocked(rig: Rig, result: Result) -> list[Warning_]:
+def check_two_blocked(rig: Rig, result: Result, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
     """Pieces with a free end that have shrunk to the hardware size: out of throw."""
     out: list[Warning_] = []
     if any(w.code == "two-blocked" for w in result.warnings):
         return out  # the solver found it with its own contact model; do not say it twice
-    pts = {p.id: p for p in rig.points}
+    fixed = {p.id: p.is_fixed for p in rig.points}
+    size_of: dict[str, float] = {}  # hardware id -> size (m), each spec looked up once
+
+    def size(hw_id: str | None) -> float:
+        if not hw_id:
+            return 0.0
+        if hw_id not in size_of:
+            hw = _hardware(rig, hw_id)
+            size_of[hw_id] = float(hw.size_m) if hw is not None and hw.size_m else 0.0
+        return size_of[hw_id]
+
     seen = set()
-    for pc in pieces(rig, result):
-        if pc.a_id == pc.b_id or pc.a_id not in pts or pc.b_id not in pts:
+    for pc in pieces(rig, result) if pcs is None else pcs:
+        if pc.a_id == pc.b_id or pc.a_id not in fixed or pc.b_id not in fixed:
             continue
-        if pts[pc.a_id].is_fixed and pts[pc.b_id].is_fixed:
+        if fixed[pc.a_id] and fixed[pc.b_id]:
             continue
-        sizes = [0.0]
-        for k in (pc.index, pc.index + 1):
-            hw_id = pc.rope.path[k].hardware
-            hw = _hardware(rig, hw_id) if hw_id else None
-            if hw is not None and hw.size_m:
-                sizes.append(float(hw.size_m))
-        if pc.length_m <= max(sizes) + TWO_BLOCK_TOL_M:
+        path = pc.rope.path
+        if pc.length_m <= max(size(path[pc.index].hardware), size(path[pc.index + 1].hardware)) + TWO_BLOCK_TOL_M:
             key = frozenset((pc.a_id, pc.b_id))
             if key in seen:
                 continue
@@ -618,14 +632,15 @@ def check_two_blocked(rig: Rig, result: Result) -> list[Warning_]:
 def people_in_zones(rig: Rig, zones: Iterable[DangerZone]) -> list[tuple[str, DangerZone]]:
     """(point id, zone) for every person or haul point inside a zone, haul teams excused from their own rope end."""
     zones = list(zones)
+    people = [p for p in rig.points if p.kind in ("person", "haul")]
+    if not zones or not people:
+        return []
+    geoms = np.array([z.geometry for z in zones], dtype=object)
     out = []
-    for p in rig.points:
-        if p.kind not in ("person", "haul"):
-            continue
-        pt = ShPoint(p.x, p.y)
-        for z in zones:
-            if not z.geometry.contains(pt):  # strictly inside: a leg's far end is not in its own bight
-                continue
+    for p in people:
+        # strictly inside (shapely "contains"): a leg's far end is not in its own bight; all zones at once
+        for i in np.flatnonzero(shapely.contains_xy(geoms, p.x, p.y)):
+            z = zones[i]
             if p.kind == "haul" and z.kind == "recoil" and _piece_ends_at(rig, z.rope, z.piece, p.id):
                 continue
             out.append((p.id, z))
@@ -642,6 +657,8 @@ def _piece_ends_at(rig: Rig, rope_id: str, piece: int, point_id: str) -> bool:
 
 def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None) -> list[Warning_]:
     """Person and haul points inside bight or recoil zones."""
+    if not any(p.kind in ("person", "haul") for p in rig.points):
+        return []  # nobody to warn: the zones are left for whoever draws them
     if zones is None:
         zones = danger_zones(rig, result)
     out = []
@@ -658,8 +675,13 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
 #: Checks that need solved forces, in report order.
 FORCE_CHECKS: tuple[Callable[[Rig, Result], list[Warning_]], ...] = (
     check_anchors, check_ropes, check_hardware, check_wide_anchors, check_tensioned_lines, check_slack,
-    check_abrasion, check_haul, check_two_blocked, check_people,
+    check_abrasion, check_haul, check_short, check_two_blocked, check_people, check_grabs, check_captures,
+    check_water,
 )
+
+
+#: The checks that accept the rig's pieces already made (their third argument).
+_TAKE_PIECES = frozenset({check_ropes, check_wide_anchors, check_two_blocked})
 
 
 def run_checks(rig: Rig, result: Result) -> tuple[Warning_, ...]:
@@ -671,6 +693,7 @@ def run_checks(rig: Rig, result: Result) -> tuple[Warning_, ...]:
         found += check_wide_anchors(rig, None) + check_abrasion(rig, None) + check_unrated_drawn(rig)
         return tuple(found)
     found = []
+    pcs = list(pieces(rig, result))  # made once for the checks that walk every piece
     for chk in FORCE_CHECKS:
-        found += chk(rig, result)
+        found += chk(rig, result, pcs) if chk in _TAKE_PIECES else chk(rig, result)
     return tuple(found)

@@ -24,14 +24,18 @@ EXIT_SOLVE_FAILED = 3
 #: keeps the caution epilog on its one line
 _RAW = argparse.RawDescriptionHelpFormatter
 
-SUBCOMMANDS = ("solve", "sweep", "render", "report", "screenshot", "open")
+SUBCOMMANDS = ("solve", "haul", "failures", "sweep", "render", "report", "brief", "manual", "screenshot", "open")
 
 #: subcommand -> "module:function" taking the parsed args and returning an exit code
 HANDLERS: dict[str, str] = {
     "solve": "solver.cli_solve:run",
+    "haul": "solver.cli_haul:run",
+    "failures": "solver.cli_failures:run",
     "sweep": "solver.sweep:run_cli",
-    "render": "sketchpad.export:render_cli",
+    "render": "sketchpad.pages.output:render_cli",
     "report": "sketchpad.report:report_cli",
+    "brief": "sketchpad.pages.brief:brief_cli",
+    "manual": "sketchpad.pages.manual:manual_cli",
     "screenshot": "sketchpad.app:screenshot_cli",
     "open": "sketchpad.app:open_cli",
 }
@@ -53,6 +57,17 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--units", choices=("si", "imperial"), default=None,
                    help="display units (default: the rig's own display setting)")
 
+    from solver.cli_haul import add_parser as add_haul_parser
+
+    add_haul_parser(sub, epilog=HELP_EPILOG, formatter_class=_RAW)
+
+    p = sub.add_parser("failures", epilog=HELP_EPILOG, formatter_class=_RAW,
+                       help="let each component go in turn: what holds, what runs free, where not to stand")
+    p.add_argument("rig", help="a .rig.json file")
+    p.add_argument("--json", action="store_true", help='print {"failures": [...]} (rig-format.md)')
+    p.add_argument("--units", choices=("si", "imperial"), default=None,
+                   help="display units (default: the rig's own display setting)")
+
     p = sub.add_parser("sweep", epilog=HELP_EPILOG, formatter_class=_RAW, help="solve a rig over a range of one parameter; write CSV and a plot")
     p.add_argument("rig")
     p.add_argument("--vary", required=True,
@@ -68,10 +83,28 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("rig")
     p.add_argument("-o", "--output", required=True)
     p.add_argument("--size", default=None, help="WxH pixels for PNG (default 1600x1100)")
+    p.add_argument("--schematic", action="store_true",
+                   help="draw the schematic: strands side by side, pulleys as sheaves, tensions in units of the haul force")
+    p.add_argument("--greyscale", action="store_true", help="write in grey levels (every meaning kept by pattern)")
 
     p = sub.add_parser("report", epilog=HELP_EPILOG, formatter_class=_RAW, help="write a PDF report of the rig")
     p.add_argument("rig")
     p.add_argument("-o", "--output", required=True)
+    p.add_argument("--greyscale", action="store_true", help="write in grey levels (every meaning kept by pattern)")
+
+    p = sub.add_parser("brief", epilog=HELP_EPILOG, formatter_class=_RAW,
+                       help="write the one-page briefing sheet: rig, commands, roles, worst loads, sign-off")
+    p.add_argument("rig")
+    p.add_argument("-o", "--output", required=True)
+    p.add_argument("--greyscale", action="store_true", help="write in grey levels (every meaning kept by pattern)")
+
+    p = sub.add_parser("manual", epilog=HELP_EPILOG, formatter_class=_RAW,
+                       help="write many rigs into one PDF manual: title page, contents, each rig's pages")
+    p.add_argument("rigs", nargs="+", metavar="RIG")
+    p.add_argument("-o", "--output", required=True)
+    p.add_argument("--title", default="Rigging manual", help="the manual's title (title page and footers)")
+    p.add_argument("--greyscale", action="store_true", help="write in grey levels (every meaning kept by pattern)")
+    p.add_argument("--no-progress", action="store_true", help="do not print progress")
 
     p = sub.add_parser("screenshot", epilog=HELP_EPILOG, formatter_class=_RAW, help="render the whole main window offscreen with a rig open")
     p.add_argument("rig")
@@ -96,6 +129,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         args_list = ["open", *args_list]
     parser = build_parser()
     args = parser.parse_args(args_list)
+    args.whole_process = argv is None  # the console script itself, not a call from Python
     try:
         code = _handler(args.command)(args)
     except RopewrightError as exc:

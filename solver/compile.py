@@ -16,14 +16,15 @@ from dataclasses import dataclass, field, fields, replace
 import numpy as np
 from numpy.typing import NDArray
 
-from solver import memo
+from solver import memo, pass_order
 from solver.errors import RigModelError
 from solver.materials import hardware_for, material_for
-from solver.model import MIDDLE_HOWS, MOTIONS, STANDARD_GRAVITY, Hardware, Material, Rig
+from solver.model import MIDDLE_HOWS, MOTIONS, SHEAVE_HOWS, STANDARD_GRAVITY, Hardware, Material, Rig
 from solver.stretch import StretchCurve
 from solver.structure import component_forces, component_sizes, finish_topology, report_indices
 from solver.system import (PASS_EDGE, PASS_NONE, PASS_PULLEY, PASS_SLIDING, FloatArray, IntArray, MiddlePass,
                            System, per_piece)
+from solver.weak_links import piece_efficiency
 
 #: Closest two passes may come along a rope when the hardware gives no size, m.
 DEFAULT_MIN_SPACING_M = 0.05
@@ -203,6 +204,7 @@ def compile_topology(rig: Rig, motion: str | None = None) -> Topology:
     )
     sys_.run_pre = np.array(lay.run_pre, dtype=float)
     finish_topology(sys_)
+    sys_.piece_mbs = sys_.piece_mbs * piece_efficiency(rig, lay.piece_rope, sys_.piece_index)  # knots: weak links
     report_indices(sys_, [p.kind for p in pts])
     for name in _SYSTEM_FIELDS:  # shared by every System of this topology: none may change them
         value = getattr(sys_, name)
@@ -492,6 +494,7 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     s.s_min = np.minimum(s_min, 0.5 * s.piece_len0)
     # the spacing contact only where a piece can close up: -inf elsewhere makes its penetration 0
     s.s_min_on = np.where(s.contact_on, s.s_min, -np.inf)
+    s.order_ref = pass_order.drawn(s.xy0, s.a, s.b)
     s.run_L0_div = np.where(s.run_hauled, 1.0, s.run_L0) if s.n_runs else np.zeros(0)  # no 0 / 0 on hauled runs
     return s
 
@@ -500,7 +503,7 @@ def _pass_factor(rope_name: str, ps, hardware, where: str) -> tuple[int, float, 
     """(kind, efficiency, friction coefficient, hardware id) of a middle pass of a run."""
     if ps.how == "sliding":
         return PASS_SLIDING, 1.0, 0.0, ps.hardware
-    if ps.how == "pulley":
+    if ps.how in SHEAVE_HOWS:  # a capture runs like its pulley while the rope is hauled in
         if not ps.hardware:
             raise RigModelError(f'the pulley at "{ps.at}" on rope "{rope_name}" has no hardware chosen: '
                                 "pick a pulley or carabiner so its efficiency is known", where=where, subject=ps.at)

@@ -17,19 +17,23 @@ The solver reads top-down: :mod:`solver.compile` (Rig -> System) -> :mod:`solver
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import replace
 
 import numpy as np
 
 from solver import memo
+from solver.blas_threads import solving_on_one_blas_thread
 from solver.compile import compile_topology, same_structure, with_forces, with_geometry
 from solver.errors import RigModelError
 from solver.model import Rig
 from solver.outcome import Solved
 from solver.records import build_result, runaway_result
 from solver.result import HoldRange, Result
+from solver.run_lengths import with_unstretched
 from solver.strategies import solve_system
 from solver.system import System
+from solver.water import dry_site, in_water, solve_in_water, without_current
 
 
 def _compiled(rig: Rig, motion: str | None) -> System:
@@ -76,8 +80,13 @@ def _start_x(s: System, start) -> np.ndarray:
 
 
 
-def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True) -> Result:
+@solving_on_one_blas_thread  # small dense problems: one BLAS thread (solver/blas_threads.py)
+def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True,
+          unstretched_m: Mapping[str, float] | None = None) -> Result:
     """Solve ``rig`` for static equilibrium; ``start`` = {point_id: (x, y)} warm start, metres.
+
+    ``unstretched_m`` = {rope_id: m} sets the unstretched length of one-run tied ropes instead of
+    their rigging (the haul plan's rope paid in; :func:`solver.run_lengths.with_unstretched`).
 
     ``ideal`` False skips the frictionless re-solve behind ``ma_ideal`` (None then, when friction
     acts): the live drag asks for the equilibrium alone, and the ideal MA follows with the
@@ -98,8 +107,15 @@ def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True
     on the least-squares weighting.  The frictionless re-solve is a true equilibrium; its
     geometry differs from the friction geometry only by the small swing friction causes.
     """
+    if rig.site.features and in_water(rig):  # currents push on ropes and bodies: solver.water
+        if unstretched_m is None:
+            return solve_in_water(rig, start=start, motion=motion, ideal=ideal)
+        return without_current(solve(dry_site(rig), start=start, motion=motion, ideal=ideal,
+                                     unstretched_m=unstretched_m))
     try:
         s = _compiled(rig, motion)
+        if unstretched_m:
+            s = with_unstretched(s, unstretched_m)
     except RigModelError as exc:
         return Result(status="invalid", message=exc.message, subject=exc.subject or exc.where)
     motion = s.motion

@@ -7,6 +7,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from numpy.typing import NDArray
 
+from solver import pass_order
 from solver.laws import by_material
 from solver.runs import solve_run_tensions
 from solver.system import FloatArray, System, per_piece
@@ -34,6 +35,7 @@ class State:
     g: FloatArray  # out-of-balance: internal resistance minus external force, per dof, N
     closed: bool = False  # some contact is closed (pen > 0 somewhere)
     no_zero_length: bool = True  # every piece has a length > 0
+    order_cos: FloatArray | None = None  # per piece: cosine of its direction with its order direction (pass_order)
     # what the potential is computed from, on first use (the friction solve never asks for it)
     potential_from: tuple | None = field(default=None, repr=False, compare=False)
     _energy_terms: tuple | None = field(default=None, repr=False, compare=False)
@@ -143,18 +145,21 @@ def _loaded(s: System, x: FloatArray, xy: FloatArray, l: FloatArray, no_zero_len
     eps = by_material(s, s.piece_mat, T, "strain", kappa) if s.n_pieces else np.zeros(0)
     if kc is None:
         kc = contact_stiffness(s)
+    order_cos = pass_order.cosines(s, u)
     if contact is None:
-        pen = np.maximum(s.s_min_on - l, 0.0)  # 0 where the contact is off (s_min_on = -inf)
+        # 0 where the contact is off (s_min_on = -inf); one-sided along the piece's order (solver.pass_order)
+        pen = np.maximum(s.s_min_on - l * order_cos, 0.0)
         closed = bool(pen.any())
     else:
         pen, closed = contact
     N = T - kc * pen if closed else T
     if s.n_pieces:
-        nu = (N[:, None] * u).reshape(-1)  # dPi/dx_a = -N u, dPi/dx_b = +N u
+        # dPi/dx_a = -N u, dPi/dx_b = +N u; a closed contact pushes along the piece's order direction
+        nu = (T[:, None] * u - (kc * pen)[:, None] * s.order_ref if closed else N[:, None] * u).reshape(-1)
         g = np.bincount(s.g_idx, nu[s.g_src] * s.g_sgn, minlength=s.n_dof) - s.F
     else:
         g = -s.F
     return State(x=x, xy=xy, l=l, u=u, w=w, L=L, tau=tau, taut=taut, T=T, eps=eps, pen=pen, N=N, g=g,
-                 closed=closed, no_zero_length=no_zero_length,
+                 closed=closed, no_zero_length=no_zero_length, order_cos=order_cos,
                  potential_from=(s, s.soft, x, L, kc, pen))
 

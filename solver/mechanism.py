@@ -7,8 +7,9 @@ import scipy.linalg
 import scipy.sparse
 import scipy.sparse.linalg
 
+from solver import free_directions
 from solver.evaluate import State
-from solver.newton import DENSE_MAX, POTRF, force_scale, point_norms, tangent_matrix
+from solver.newton import DENSE_MAX, POTRF, force_scale, tangent_matrix
 from solver.system import System
 
 #: Smallest tangent eigenvalue, relative to the largest diagonal, that still holds a point.
@@ -16,7 +17,7 @@ MECHANISM_REL = 1e-11
 
 
 def mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] | None:
-    """(free point index, direction) of a zero-stiffness mode of the symmetric tangent, or None."""
+    """(free point index, its x and y in each zero-stiffness mode of the symmetric tangent), or None."""
     if s.n_dof == 0:
         return None
     dense = s.n_dof <= DENSE_MAX
@@ -34,8 +35,11 @@ def mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] | 
         lam = float(np.linalg.eigvalsh(Ks)[0])  # values only: fast; the vector only on failure
         if lam > MECHANISM_REL * top:
             return None
-        vals, vecs = scipy.linalg.eigh(Ks, subset_by_index=[0, 0])
-        lam, v = float(vals[0]), vecs[:, 0]
+        # every near-zero mode: a point free in two independent ways is free in every direction
+        vals, vecs = scipy.linalg.eigh(Ks, subset_by_value=(-np.inf, MECHANISM_REL * top))
+        if not len(vals):
+            vals, vecs = scipy.linalg.eigh(Ks, subset_by_index=[0, 0])
+        lam, v = float(vals[0]), vecs
     else:
         # inverse iteration from a fixed pseudo-random start: a near-zero eigenvalue dominates at once
         Ks = (0.5 * (K + K.T)).tocsc()
@@ -56,7 +60,10 @@ def mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] | 
             lam = float(v @ (Ks @ v))
     if lam > MECHANISM_REL * top:
         return None
-    mag = point_norms(v)
-    k = int(np.argmax(mag))
+    k = free_directions.most_moving(v)
     free_idx = np.flatnonzero(s.free)
-    return int(free_idx[k]), v[2 * k:2 * k + 2]
+    share = free_directions.point_share(v, k)
+    if not dense:
+        share = free_directions.with_own_block(share, Ks[2 * k:2 * k + 2, 2 * k:2 * k + 2].toarray(),
+                                               MECHANISM_REL * top)
+    return int(free_idx[k]), share

@@ -8,24 +8,34 @@ helpers here (``with_point``, ``without_point`` ...), which keeps undo simple
 
 from __future__ import annotations
 
+import threading
 from dataclasses import dataclass, field, replace
 from typing import Any, Iterator, Literal, Mapping
 
 PointKind = Literal["anchor", "load", "haul", "point", "person"]
 POINT_KINDS: tuple[str, ...] = ("anchor", "load", "haul", "point", "person")
 ANCHOR_TYPES: tuple[str, ...] = ("tree", "boulder", "vehicle", "picket", "bolt", "other")
-PASS_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge", "hauled")
-MIDDLE_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge")
+PASS_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge", "hauled", "capture")
+MIDDLE_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge", "capture")
+#: Passes over a sheave: a pulley, and a progress capture (a pulley that holds the rope when it runs back).
+SHEAVE_HOWS: frozenset[str] = frozenset({"pulley", "capture"})
 MATERIAL_KINDS: tuple[str, ...] = ("rope", "sling", "cord")
-HARDWARE_KINDS: tuple[str, ...] = ("pulley", "carabiner", "edge", "ring")
+HARDWARE_KINDS: tuple[str, ...] = ("pulley", "carabiner", "edge", "ring", "grab")
 FEATURE_KINDS: tuple[str, ...] = ("water", "boulder", "bank", "hazard", "note")
 MOTIONS: tuple[str, ...] = ("haul", "hold", "lower")
 VIEWS: tuple[str, ...] = ("plan", "elevation")
 LENGTH_UNITS: tuple[str, ...] = ("m", "ft")
 FORCE_UNITS: tuple[str, ...] = ("N", "kN", "lbf")
+#: What a person on the plan is there to do (trade roles; the words the briefing sheet prints).
+PERSON_ROLES: tuple[str, ...] = ("haul team lead", "safety officer", "upstream spotter", "downstream safety",
+                                 "edge attendant")
 
 #: Kinds that are fixed unless the file says ``"fixed": false``.
 FIXED_BY_DEFAULT: frozenset[str] = frozenset({"anchor", "load", "haul"})
+
+#: Where a Rig keeps its id index (``Rig._index``), and the lock it is built under.
+_INDEX_KEY = "_id_index"
+_INDEX_LOCK = threading.Lock()
 
 #: Standard gravity, m/s^2 (NIST SP 811 / CGPM 1901).
 STANDARD_GRAVITY = 9.80665
@@ -49,6 +59,9 @@ class Point:
     team: int | None = None  # haul: number of haulers
     force_per_person_N: float | None = None  # haul: force each hauler gives
     capacity_kind: str = "strength"  # anchor: "strength" (÷ safety factor) or "working" (rated working load)
+    role: str | None = None  # person: one of PERSON_ROLES (what they are there to do)
+    wetted_area_m2: float | None = None  # load or free point in water: area facing the flow, m^2
+    drag_shape: str | None = None  # its shape in the drag table (solver.loads.DRAG_SHAPES)
     extra: Mapping[str, Any] = field(default_factory=dict, compare=True)
 
     @property
@@ -84,12 +97,18 @@ class Point:
 
 @dataclass(frozen=True)
 class Pass:
-    """One place a rope goes through: tied, over a pulley, sliding, over an edge or hauled."""
+    """One place a rope goes through: tied, over a pulley, sliding, over an edge, a progress capture or hauled.
+
+    A ``capture`` runs like its pulley (``hardware``) while the rope is hauled in and holds like
+    its rope grab (``grab``, optional) when it runs back.
+    """
 
     at: str
     how: str = "tied"
     hardware: str | None = None
     extra: Mapping[str, Any] = field(default_factory=dict)
+    termination: str | None = None  # tied pass: how the rope ends or is knotted there (solver.weak_links)
+    grab: str | None = None  # capture: the rope grab that holds the rope (hardware id)
 
 
 @dataclass(frozen=True)
@@ -133,6 +152,7 @@ class Rope:
     path: tuple[Pass, ...]
     rigged: Rigging = field(default_factory=Rigging)
     label: str = ""
+    length_m: float | None = None  # the rope actually carried, m (the budget warns when the drawn rope will not reach)
     extra: Mapping[str, Any] = field(default_factory=dict)
 
     @property
@@ -156,6 +176,16 @@ class Rope:
         return self.label or self.id
 
 
+def is_tended_tail(rope: Rope, run: Run, points: Mapping[str, "Point"]) -> bool:
+    """True for a main line's tail run through a progress capture to a tender at the haul team (tied
+    there, not hauled): it is kept hand-tight and carries nothing while hauling; the capture holds it
+    when the team lets go."""
+    path = rope.path[run.first:run.last + 1]
+    end = points.get(path[-1].at)
+    return (not run.hauled and end is not None and end.kind == "haul"
+            and any(ps.how == "capture" for ps in path[1:-1]))
+
+
 @dataclass(frozen=True)
 class Material:
     """A rope, sling or cord spec: strength (MBS) and a monotone tension-strain curve.
@@ -171,16 +201,26 @@ class Material:
     diameter_mm: float | None = None
     label: str = ""
     source: str = ""
+    diameter_m: float | None = None  # the same diameter in metres (rig-format.md additions); either may be given
     extra: Mapping[str, Any] = field(default_factory=dict)
 
     @property
     def name(self) -> str:
         return self.label or self.id
 
+    @property
+    def diameter(self) -> float | None:
+        """The rope's diameter in metres: ``diameter_m``, else ``diameter_mm`` / 1000 (one meaning, two spellings)."""
+        if self.diameter_m is not None:
+            return float(self.diameter_m)
+        if self.diameter_mm is not None:
+            return float(self.diameter_mm) / 1000.0
+        return None
+
 
 @dataclass(frozen=True)
 class Hardware:
-    """A pulley, carabiner, edge or ring: efficiency or friction coefficient, and strength."""
+    """A pulley, carabiner, edge, ring or rope grab: efficiency, friction coefficient or slip force, and strength."""
 
     id: str
     kind: str
@@ -191,6 +231,7 @@ class Hardware:
     source: str = ""
     size_m: float | None = None  # closest two passes may come (two-blocking), optional
     extra: Mapping[str, Any] = field(default_factory=dict)
+    slip_N: float | None = None  # grab: held force above which it slides along the rope (a designed slip point)
 
     @property
     def name(self) -> str:
@@ -222,6 +263,22 @@ class SiteImage:
 
 
 @dataclass(frozen=True)
+class Flow:
+    """Moving water in a water feature: speed (m/s) and the bearing it flows toward (degrees clockwise from north)."""
+
+    speed_m_s: float
+    bearing_deg: float
+
+    @property
+    def velocity(self) -> tuple[float, float]:
+        """The flow velocity in site coordinates (+x east, +y north), m/s."""
+        import math
+
+        b = math.radians(self.bearing_deg)
+        return (self.speed_m_s * math.sin(b), self.speed_m_s * math.cos(b))
+
+
+@dataclass(frozen=True)
 class Feature:
     """A drawn site feature: water, boulder, bank, hazard (polygon or line) or a note."""
 
@@ -230,6 +287,7 @@ class Feature:
     polygon: tuple[tuple[float, float], ...] | None = None
     line: tuple[tuple[float, float], ...] | None = None
     label: str = ""
+    flow: Flow | None = None  # water only: the current; a later feature drawn over it wins
     extra: Mapping[str, Any] = field(default_factory=dict)
 
     @property
@@ -248,6 +306,7 @@ class Site:
 class Settings:
     motion: str = "haul"
     min_safety_factor: float = 10.0
+    tail_m: float = 1.0  # rope left beyond each end of a rope (knot tails, the haul team's grip), m
     extra: Mapping[str, Any] = field(default_factory=dict)
 
 
@@ -273,23 +332,42 @@ class Rig:
     view: str = "plan"
     settings: Settings = field(default_factory=Settings)
     site: Site = field(default_factory=Site)
+    print_frame: tuple[float, float, float, float] | None = None  # (x0, y0, x1, y1) site metres printed; None: the rig
     extra: Mapping[str, Any] = field(default_factory=dict)  # unknown top-level keys, kept
 
     # --- look-ups -----------------------------------------------------------------
+    @property
+    def _index(self) -> "_Index":
+        """Points and ropes by id, built once per Rig on first look-up (the Rig is immutable).
+
+        Kept in the instance ``__dict__`` under ``_INDEX_KEY`` (a frozen dataclass allows that), built
+        under a lock so that threads looking up at once build it once and share it; a Rig made by
+        ``replace`` starts without one.  Not a field: equality, hashing, ``repr`` and saving never see
+        it.  A list with an id given twice keeps its first (what a linear search finds); rig files
+        refuse duplicates anyway.
+        """
+        index = self.__dict__.get(_INDEX_KEY)
+        if index is None:
+            with _INDEX_LOCK:
+                index = self.__dict__.get(_INDEX_KEY)
+                if index is None:
+                    index = _Index.of(self)
+                    self.__dict__[_INDEX_KEY] = index
+        return index
+
     def point(self, point_id: str) -> Point:
-        for p in self.points:
-            if p.id == point_id:
-                return p
-        raise KeyError(point_id)
+        """The point with this id (KeyError if there is none), by the Rig's id index: O(1)."""
+        return self._index.points[point_id]
 
     def has_point(self, point_id: str) -> bool:
-        return any(p.id == point_id for p in self.points)
+        return point_id in self._index.points
 
     def rope(self, rope_id: str) -> Rope:
-        for r in self.ropes:
-            if r.id == rope_id:
-                return r
-        raise KeyError(rope_id)
+        """The rope with this id (KeyError if there is none), by the Rig's id index: O(1)."""
+        return self._index.ropes[rope_id]
+
+    def has_rope(self, rope_id: str) -> bool:
+        return rope_id in self._index.ropes
 
     def embedded_material(self, material_id: str) -> Material | None:
         return next((m for m in self.materials if m.id == material_id), None)
@@ -328,10 +406,14 @@ class Rig:
         return replace(self, ropes=tuple(ropes) + (rope,))
 
     def without_point(self, point_id: str) -> "Rig":
-        """Remove a point and what depends on it: its passes, its forces, ropes left with < 2 passes."""
+        """Remove a point and what depends on it: its passes, its forces, ropes left with < 2 passes.
+
+        Passes that become neighbours at one point (A, B, A without B) merge into one: the rope's
+        end if one of them is its end, else the first; a rope never passes a point twice in a row.
+        """
         ropes = []
         for r in self.ropes:
-            path = tuple(ps for ps in r.path if ps.at != point_id)
+            path = _merged_neighbours(tuple(ps for ps in r.path if ps.at != point_id))
             if len(path) >= 2:
                 if path != r.path:
                     # the new ends must be tied (or hauled at the end) to stay valid
@@ -354,3 +436,37 @@ class Rig:
     def moved(self, point_id: str, x: float, y: float) -> "Rig":
         """The same rig with one point moved to (x, y) metres."""
         return self.with_point(replace(self.point(point_id), x=float(x), y=float(y)))
+
+
+def _merged_neighbours(path: tuple[Pass, ...]) -> tuple[Pass, ...]:
+    """``path`` with each run of consecutive passes at one point merged into one pass.
+
+    The merged pass is the run's last when the run ends the rope (its end, tied or hauled,
+    stays), else the run's first.
+    """
+    out: list[Pass] = []
+    for j, ps in enumerate(path):
+        if out and out[-1].at == ps.at:
+            if j == len(path) - 1:
+                out[-1] = ps
+            continue
+        out.append(ps)
+    return tuple(out)
+
+
+@dataclass(frozen=True)
+class _Index:
+    """A Rig's points and ropes by id (first of any repeated id), for :meth:`Rig.point` / :meth:`Rig.rope`."""
+
+    points: Mapping[str, Point]
+    ropes: Mapping[str, Rope]
+
+    @staticmethod
+    def of(rig: Rig) -> "_Index":
+        points: dict[str, Point] = {}
+        for p in rig.points:
+            points.setdefault(p.id, p)
+        ropes: dict[str, Rope] = {}
+        for r in rig.ropes:
+            ropes.setdefault(r.id, r)
+        return _Index(points, ropes)

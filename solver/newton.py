@@ -18,6 +18,7 @@ import scipy.linalg
 import scipy.sparse
 import scipy.sparse.linalg
 
+from solver import pass_order
 from solver.evaluate import State, evaluate
 from solver.outcome import Outcome
 from solver.system import IntArray, System
@@ -256,9 +257,14 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
     functions they would pass all of them back and forth.
     """
     dense = s.n_dof <= DENSE_MAX
-    st = state if state is not None else evaluate(s, x0, w, kc)
+    pass_order.start(s, x0)  # passes keep the order they have here (one-sided spacing contact)
+    st = state if state is not None and not state.closed else evaluate(s, x0, w, kc)
     if s.n_dof == 0:
         return Outcome(st, 0, True)
+    if s.n_comp == 1:  # one part from the start: its order taken again from the state (as it always was)
+        pass_order.start(s, st.x)
+        if st.closed:
+            st = evaluate(s, st.x, w, kc)
     parts = _Parts.every(s)
     n = len(parts.ids)
     mu = [1e-10] * n  # shift per part, relative to its largest diagonal
@@ -400,13 +406,15 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
                     passed = [p or nat1[j] <= (1.0 - 1e-4 * a[j] * shrink[j]) * nat0[j] for p, j in zip(passed, trying)]
                 # round-off: merit flat to machine precision but the imbalance still shrinks
                 now = None
-                taken = 0
                 for i, j in enumerate(trying):
                     if not passed[i] and abs(m1[j] - m0[j]) <= 1e-13 * (abs(m0[j]) + scale[j] * parts.size[j]):
                         if now is None:
                             now = parts.maxima(s, point_norms(parts.on(trial.g)))
                         passed[i] = now[j] < 0.9 * res[j]
-                    taken += passed[i]
+                if trial.closed:  # never carry a pass across its neighbour
+                    crossed = pass_order.crossed(s, trial)
+                    passed = [p and not crossed[parts.ids[j]] for p, j in zip(passed, trying)]
+                taken = sum(passed)
                 if taken:
                     if taken == len(trying):
                         x_new = xt  # (xt is x_new with every trying part's step)
@@ -435,7 +443,7 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
                 mu[j] = max(mu[j] / 10.0, 1e-10)
                 if capped[j]:
                     cap[j] = 2.0 * cap[j]
-        st = trial
+        st = trial if not pass_order.follow(s, trial) else evaluate(s, trial.x, w, kc)
         runaway = runaway_point(s, st)
         if runaway is not None:
             return Outcome(st, it + 1, False, runaway=runaway)

@@ -10,16 +10,17 @@ import math
 
 import numpy as np
 
-from solver import memo
+from solver import free_directions, memo
 from solver.capacity import utilization as capacity_utilization
 from solver.evaluate import State, contact_stiffness
+from solver.extreme_specs import unsettled_words
 from solver.mechanism import mechanism
 from solver.newton import ACCEPT_REL, force_scale, max_norm, point_norms
 from solver.outcome import Solved
 from solver.result import AnchorResult, Result, SegmentResult, Warning_, record
 from solver.system import System
 from solver.units import format_force_sig, format_length
-from solver.wording import direction_words, heading_words, point_name
+from solver.wording import heading_words, point_name
 
 #: A pass within this fraction of its minimum spacing from its neighbour counts as jammed there.
 JAM_MARGIN = 0.01
@@ -60,7 +61,8 @@ def _resultants(s: System, st: State) -> np.ndarray:
     return f
 
 
-def _anchor(fx: float, fy: float, capacity: float | None, sf: float, kind: str = "strength") -> AnchorResult:
+def anchor_record(fx: float, fy: float, capacity: float | None, sf: float, kind: str = "strength") -> AnchorResult:
+    """The AnchorResult of a rope force (fx, fy) N on a point of ``capacity`` (of ``kind``) at safety factor ``sf``."""
     mag = math.hypot(fx, fy)
     util = capacity_utilization(mag, capacity, kind, sf)
     return record(AnchorResult, force_N=mag,
@@ -172,7 +174,7 @@ def _point_records(s: System, at: list, kept: memo.LastRows, f: np.ndarray, f_li
         redo = [j for j, (m, a, c, k) in enumerate(zip(moved.tolist(), old, caps, kinds))
                 if m or a.capacity_N != c or a.capacity_kind != k]
     for j in redo:
-        made[j] = _anchor(*f_list[at[j]], caps[j], sf, kinds[j])
+        made[j] = anchor_record(*f_list[at[j]], caps[j], sf, kinds[j])
     kept.keep(key, rows, made)
     ids = s.point_ids
     return {ids[i]: a for i, a in zip(at, made)}
@@ -262,7 +264,7 @@ def build_result(s: System, sol: Solved, motion: str) -> Result:
         else:
             message = (f"no equilibrium found after {sol.iterations} iterations: the largest imbalance is "
                        f"{format_force_sig(residual, rig.display.force)} at point {point_name(rig, subject) if subject else ''}; "
-                       "check for a part of the rig that nothing holds")
+                       + unsettled_words(rig))
     ma = _mech_advantage(s, st, f)  # (the anchors above are the fixed anchors; loads any load point)
     if not (s.has_friction and motion != "hold"):
         ma_ideal = ma  # no friction acts: the ideal is the actual
@@ -292,9 +294,9 @@ def mechanism_result(s: System, st: State, kc: np.ndarray, iters: int) -> Result
     mech = mechanism(s, st, kc)
     if mech is None:
         return None
-    i, v = mech
+    i, share = mech
     pid = s.point_ids[i]
-    words = direction_words(float(v[0]), float(v[1]), s.rig.view == "elevation")
+    words = free_directions.free_words(share, s.rig.view == "elevation")
     return Result(status="mechanism", subject=pid, iterations=iters, points=all_points(s, st),
-                  message=f"point {point_name(s.rig, pid)} is not held: it can move {words} "
+                  message=f"point {point_name(s.rig, pid)} is not held: it {words} "
                           "with nothing resisting (tie it off, tension its ropes or add a load)")

@@ -28,16 +28,29 @@ import ntpath
 import os
 import pathlib
 import posixpath
+import re
 import tempfile
+import time
 import weakref
 from dataclasses import replace
 from functools import lru_cache
-from importlib import resources
 from typing import Any, Callable, Iterable, Mapping, Sequence
 
-from solver import materials
+from solver import limits, materials
 from solver import model as m
+from solver.bulk_read import collector_paused, filled, plain_data_ok
+from solver.rigfile_schema import check_schema as _check_schema
+from solver.rigfile_schema import field_path as _where
+from solver.rigfile_schema import schema  # noqa: F401 - part of this module's API (__all__)
+from solver.rigfile_schema import show_value as _show
+from solver.rigfile_schema import too_many
 from solver.errors import RigFileError
+from solver.water_site import water_feature_problem, wetted_point_problem
+
+try:
+    import fcntl
+except ImportError:  # pragma: no cover - not POSIX
+    fcntl = None  # type: ignore[assignment]
 
 log = logging.getLogger(__name__)
 
@@ -45,10 +58,12 @@ FORMAT = "ropewright-rig"
 #: The version this module reads and writes.
 VERSION = 1
 #: Largest rig file read or written, bytes, embedded background image included.
-MAX_FILE_BYTES = 20 * 1024 * 1024
+MAX_FILE_BYTES = limits.MAX_FILE_BYTES
 #: Largest distance of any point or site coordinate from the site origin, m: a
-#: sanity bound far beyond any rescue site (ours, not from a standard).
-MAX_COORDINATE_M = 100_000.0
+#: sanity bound far beyond any rescue site (ours, not from a standard; in the schema).
+MAX_COORDINATE_M = limits.MAX_COORDINATE_M
+#: Prefix and suffix of the hidden temp file a save writes beside the rig before renaming it.
+TEMP_PREFIX, TEMP_SUFFIX = ".", ".tmp"
 _REQUIRED = object()  # marks a field every file must have
 
 # (json key == attribute name, kind, default); kinds: str, float, int, bool, pair, pairs
@@ -57,18 +72,23 @@ _POINT: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("x", "float", _REQUIRED), ("y", "float", _REQUIRED),
     ("label", "str", ""), ("fixed", "bool", None), ("capacity_N", "float", None), ("anchor_type", "str", None),
     ("required_N", "float", None), ("mass_kg", "float", None), ("force_N", "float", None), ("team", "int", None),
-    ("force_per_person_N", "float", None), ("capacity_kind", "str", "strength"),
+    ("force_per_person_N", "float", None), ("capacity_kind", "str", "strength"), ("role", "str", None),
+    ("wetted_area_m2", "float", None), ("drag_shape", "str", None),
 )
-_PASS: _Spec = (("at", "str", _REQUIRED), ("how", "str", "tied"), ("hardware", "str", None))
+_PASS: _Spec = (("at", "str", _REQUIRED), ("how", "str", "tied"), ("hardware", "str", None), ("termination", "str", None),
+          ("grab", "str", None))
 _RIGGING: _Spec = (("slack_m", "float", 0.0), ("pretension_N", "float", None))
-_ROPE: _Spec = (("id", "str", _REQUIRED), ("material", "str", _REQUIRED), ("label", "str", ""))
+_ROPE: _Spec = (("id", "str", _REQUIRED), ("material", "str", _REQUIRED), ("label", "str", ""),
+                 ("length_m", "float", None))
 _MATERIAL: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("mbs_N", "float", _REQUIRED),
     ("stretch", "pairs", _REQUIRED), ("diameter_mm", "float", None), ("label", "str", ""), ("source", "str", ""),
+    ("diameter_m", "float", None),
 )
 _HARDWARE: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("efficiency", "float", None), ("mbs_N", "float", None),
     ("friction_coefficient", "float", None), ("size_m", "float", None), ("label", "str", ""), ("source", "str", ""),
+    ("slip_N", "float", None),
 )
 _FORCE: _Spec = (
     ("at", "str", _REQUIRED), ("magnitude_N", "float", _REQUIRED), ("direction_deg", "float", _REQUIRED),
@@ -79,12 +99,13 @@ _IMAGE: _Spec = (
     ("metres_per_pixel", "float", 0.01), ("rotation_deg", "float", 0.0), ("opacity", "float", 1.0),
 )
 _FEATURE: _Spec = (("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("polygon", "pairs", None),
-                   ("line", "pairs", None), ("label", "str", ""))
-_SETTINGS: _Spec = (("motion", "str", "haul"), ("min_safety_factor", "float", 10.0))
+                   ("line", "pairs", None), ("label", "str", ""), ("flow", "flow", None))
+_SETTINGS: _Spec = (("motion", "str", "haul"), ("min_safety_factor", "float", 10.0), ("tail_m", "float", 1.0))
 _DISPLAY: _Spec = (("length", "str", "m"), ("force", "str", "kN"))
 _SITE_KEYS = ("image", "features")
 _TOP_KEYS = ("format", "version", "display", "view", "title", "notes", "settings", "site",
-             "materials", "hardware", "points", "forces", "ropes")
+             "materials", "hardware", "points", "forces", "ropes", "print_frame")
+_FRAME_KEYS = ("x0", "y0", "x1", "y1")
 
 # --------------------------------------------------------------------------------------
 # Which optional keys a loaded object had, so that saving writes back exactly those
@@ -147,8 +168,31 @@ def loads_rig(text: str | bytes, base_dir: str | os.PathLike[str] | None = None,
             raise _too_big(size)
     if text.startswith("\ufeff"):  # a byte-order mark some editors add
         text = text[1:]
-    data = _parse_json(text)
-    return rig_from_dict(data, strict=strict, base_dir=base_dir)
+    with collector_paused():  # parsing and building allocate an object per JSON value, freed by refcount
+        data = _parse_json(text)
+        rig = rig_from_dict(data, strict=strict, base_dir=base_dir)
+        del data  # the parsed tree freed before the collector's next pass would walk it
+    if _written_size_bound(text) > MAX_FILE_BYTES:
+        size = len(_file_bytes(rig))  # a compact file can grow when written back: it must still fit
+        if size > MAX_FILE_BYTES:
+            raise _too_big(size, saving=True, opened=True)
+    return rig
+
+
+#: The most characters one JSON value can gain when written back (a number such as 1e15 becomes
+#: 1000000000000000.0; a float's repr is at most 24 characters), and room for the library specs
+#: saving embeds, bytes.
+_GROWTH_PER_VALUE, _SPEC_ALLOWANCE = 23, 1024 * 1024
+
+
+def _written_size_bound(text: str) -> int:
+    """An upper bound of the bytes a save of this text's rig writes (compact when need be), in C-speed counts.
+
+    Written back compact, only numbers can grow, and every JSON value but the first follows a
+    "[", "," or ":"; text and structure never grow (UTF-8 text is not escaped).
+    """
+    values = text.count(",") + text.count("[") + text.count(":") + 1
+    return len(text.encode("utf-8", "surrogatepass")) + _GROWTH_PER_VALUE * values + _SPEC_ALLOWANCE
 
 
 def rig_from_dict(d: Any, strict: bool = False, *, base_dir: str | os.PathLike[str] | None = None) -> m.Rig:
@@ -164,6 +208,7 @@ def rig_from_dict(d: Any, strict: bool = False, *, base_dir: str | os.PathLike[s
                            where="(top level)")
     _check_format_and_version(d)
     d = migrate(d)
+    _check_sizes(d)
     _check_plain_data(d)
     _check_schema(d)
     rig = _build_rig(d, strict)
@@ -197,16 +242,19 @@ def rig_to_dict(rig: m.Rig, *, embed: bool = True) -> dict[str, Any]:
     if "forces" in pres or rig.forces:
         out["forces"] = [_to_simple(x, _FORCE) for x in rig.forces]
     out["ropes"] = [_rope_to(x) for x in rig.ropes]
+    if rig.print_frame is not None:
+        out["print_frame"] = dict(zip(_FRAME_KEYS, (float(v) for v in rig.print_frame)))
     for key, value in rig.extra.items():
         if key not in out and key not in _TOP_KEYS:
             out[key] = value
     return out
 
 
-def dumps_rig(rig: m.Rig, *, embed: bool = True) -> str:
-    """The rig as rig-file text: indented UTF-8 JSON ending in a newline."""
+def dumps_rig(rig: m.Rig, *, embed: bool = True, compact: bool = False) -> str:
+    """The rig as rig-file text: indented (or ``compact``) UTF-8 JSON ending in a newline."""
+    layout: dict[str, Any] = {"separators": (",", ":")} if compact else {"indent": 2}
     try:
-        return json.dumps(rig_to_dict(rig, embed=embed), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+        return json.dumps(rig_to_dict(rig, embed=embed), ensure_ascii=False, allow_nan=False, **layout) + "\n"
     except ValueError as exc:  # NaN or infinity somewhere in the rig
         raise RigFileError(f"the rig holds a number that is not finite ({exc}); it cannot be saved",
                            where="(rig)") from None
@@ -220,10 +268,11 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
 
     With ``check`` (default) the text is first loaded back, so a file on disk
     always opens again; a rig that would not is refused with the place named.
+    A symbolic link is written through: its target is replaced, the link stays.
+    Temp files an interrupted save left in that folder are removed first.
     """
-    p = pathlib.Path(path)
-    text = dumps_rig(rig)
-    data = text.encode("utf-8", "surrogatepass")
+    p = write_target(pathlib.Path(path))
+    data = _file_bytes(rig)
     if len(data) > MAX_FILE_BYTES:
         raise _too_big(len(data), saving=True)
     if check:
@@ -234,9 +283,11 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
         mode = os.stat(p).st_mode & 0o7777
     except OSError:
         pass
+    clean_stale_temps(folder)
     tmp_name = None
     try:
-        fd, tmp_name = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=folder)
+        fd, tmp_name = tempfile.mkstemp(prefix=f"{TEMP_PREFIX}{p.name}.", suffix=TEMP_SUFFIX, dir=folder)
+        _hold(fd)  # marks the temp file as in use, so another save's clean-up leaves it alone
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
@@ -258,6 +309,67 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
                 os.unlink(tmp_name)
             except OSError:
                 log.warning("could not remove the temporary file %s", tmp_name)
+
+
+def write_target(p: pathlib.Path) -> pathlib.Path:
+    """The file a save to ``p`` replaces: the final target when ``p`` is a symbolic link (a chain too)."""
+    if not p.is_symlink():
+        return p
+    return pathlib.Path(os.path.realpath(p))
+
+
+#: The hidden temp file of a save: "." + rig file name + "." + 8 random characters + ".tmp".
+_TEMP_NAME = re.compile(r"^\.(?P<rig>.+\.json)\.[a-z0-9_]{8}\.tmp$")
+#: Without locks (not POSIX), a temp file this old (s) is taken as left by a killed save.
+_STALE_TEMP_S = 3600.0
+
+
+def _hold(fd: int) -> None:
+    if fcntl is not None:
+        fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+
+
+def clean_stale_temps(folder: str | os.PathLike[str]) -> list[str]:
+    """Remove the temp files killed saves of rig files left in ``folder``; the names removed.
+
+    Only our own naming is touched, only regular files, and only when no save still writes
+    one (a running save holds a lock on its temp file; without locks, when older than an hour).
+    """
+    removed: list[str] = []
+    try:
+        names = [e for e in os.scandir(folder) if _TEMP_NAME.match(e.name)]
+    except OSError:
+        return removed
+    for entry in names:
+        try:
+            if not entry.is_file(follow_symlinks=False):
+                continue
+            if fcntl is None:
+                if time.time() - entry.stat().st_mtime < _STALE_TEMP_S:
+                    continue
+            else:
+                fd = os.open(entry.path, os.O_RDONLY | os.O_NONBLOCK | getattr(os, "O_NOFOLLOW", 0))
+                try:
+                    fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                except BlockingIOError:
+                    continue  # a save is writing it right now
+                finally:
+                    os.close(fd)
+            os.unlink(entry.path)
+            removed.append(entry.name)
+        except OSError as exc:
+            log.info("left the temp file %s: %s", entry.path, exc)
+    if removed:
+        log.info("removed %d temp file(s) left by an interrupted save in %s", len(removed), folder)
+    return removed
+
+
+def _file_bytes(rig: m.Rig) -> bytes:
+    """What a save writes: indented JSON, or compact JSON when the indented text would pass the size cap."""
+    data = dumps_rig(rig).encode("utf-8", "surrogatepass")
+    if len(data) > MAX_FILE_BYTES:
+        data = dumps_rig(rig, compact=True).encode("utf-8", "surrogatepass")
+    return data
 
 
 def migrate(d: dict[str, Any]) -> dict[str, Any]:
@@ -290,10 +402,10 @@ def embed_specs(rig: m.Rig) -> m.Rig:
         if rope.material not in have_m and rope.material in lib_materials:
             add_m.append(lib_materials[rope.material])
             have_m.add(rope.material)
-        for ps in rope.path:
-            if ps.hardware and ps.hardware not in have_h and ps.hardware in lib_hardware:
-                add_h.append(lib_hardware[ps.hardware])
-                have_h.add(ps.hardware)
+        for hid in (h for ps in rope.path for h in (ps.hardware, ps.grab) if h):
+            if hid not in have_h and hid in lib_hardware:
+                add_h.append(lib_hardware[hid])
+                have_h.add(hid)
     if not add_m and not add_h:
         return rig
     new = replace(rig, materials=rig.materials + tuple(add_m), hardware=rig.hardware + tuple(add_h))
@@ -304,10 +416,12 @@ def embed_specs(rig: m.Rig) -> m.Rig:
 # Bytes and JSON
 
 
-def _too_big(size: int, saving: bool = False) -> RigFileError:
+def _too_big(size: int, saving: bool = False, opened: bool = False) -> RigFileError:
     mb = size / (1024 * 1024)
     limit = MAX_FILE_BYTES // (1024 * 1024)
     verb = "would be" if saving else "is"
+    if opened:
+        verb = "is written so tightly that saved again it would be"
     return RigFileError(
         f"the rig file {verb} {mb:.1f} MB; a rig file may be at most {limit} MB including an embedded "
         "background image (keep a large image as a file beside the rig instead)",
@@ -365,11 +479,15 @@ _DUPLICATE = object()
 
 
 def _object_noting_duplicates(pairs: list[tuple[str, Any]]) -> dict[Any, Any]:
-    out: dict[Any, Any] = {}
-    for key, value in pairs:
-        if key in out and _DUPLICATE not in out:
+    out: dict[Any, Any] = dict(pairs)
+    if len(out) == len(pairs):
+        return out
+    seen: set[str] = set()
+    for key, _value in pairs:  # a key given twice: note the first repeated one
+        if key in seen:
             out[_DUPLICATE] = key
-        out[key] = value
+            break
+        seen.add(key)
     return out
 
 
@@ -387,27 +505,6 @@ def _kind_of(value: Any) -> str:
     if isinstance(value, dict):
         return "an object"
     return type(value).__name__
-
-
-def _show(value: Any, limit: int = 40) -> str:
-    """A value as a person would type it in the file, shortened."""
-    if isinstance(value, float) and not math.isfinite(value):
-        return "NaN" if math.isnan(value) else ("Infinity" if value > 0 else "-Infinity")
-    try:
-        s = json.dumps(value, ensure_ascii=False)
-    except (TypeError, ValueError):
-        s = repr(value)
-    return s if len(s) <= limit else s[: limit - 1] + "…"
-
-
-def _where(path: Iterable[Any]) -> str:
-    out = ""
-    for part in path:
-        if isinstance(part, int):
-            out += f"[{part}]"
-        else:
-            out += f".{part}" if out else str(part)
-    return out or "(top level)"
 
 
 # --------------------------------------------------------------------------------------
@@ -440,11 +537,50 @@ def _check_format_and_version(d: dict[str, Any]) -> None:
         raise RigFileError(f"there is no rig format version {version}", where="version")
 
 
+#: Lists checked for size before anything else reads the file (a huge list is refused at once).
+_SIZED_LISTS = (("rig", "points"), ("rig", "ropes"), ("rig", "forces"), ("rig", "materials"), ("rig", "hardware"),
+                ("site", "features"))
+
+
+def _check_sizes(d: dict[str, Any]) -> None:
+    """Refuse, before any slow step, a rig with more entries than the app can handle (limits.py)."""
+    for obj, key in _SIZED_LISTS:
+        holder = d.get("site") if obj == "site" else d
+        value = holder.get(key) if isinstance(holder, dict) else None
+        if isinstance(value, list) and len(value) > limits.max_items(obj, key):
+            path = ("site", key) if obj == "site" else (key,)
+            raise RigFileError(too_many(path, len(value), limits.max_items(obj, key)), where=_where(path))
+    ropes, site = d.get("ropes"), d.get("site")
+    features = site.get("features") if isinstance(site, dict) else None
+    passes = sum(len(r["path"]) for r in ropes if isinstance(r, dict) and isinstance(r.get("path"), list)) \
+        if isinstance(ropes, list) else 0
+    if passes > limits.MAX_PASSES_IN_ALL:
+        raise RigFileError(f"the ropes pass points {passes:,} times in all; Ropewright handles at most "
+                           f"{limits.MAX_PASSES_IN_ALL:,} passes in one rig (split the site into several rigs)",
+                           where="ropes")
+    corners = sum(len(f.get(k) or ()) for f in features if isinstance(f, dict) for k in ("polygon", "line")
+                  if isinstance(f.get(k), list)) if isinstance(features, list) else 0
+    if corners > limits.MAX_CORNERS_IN_ALL:
+        raise RigFileError(f"the site features have {corners:,} corners in all; Ropewright handles at most "
+                           f"{limits.MAX_CORNERS_IN_ALL:,} (simplify the outlines)", where="site.features")
+
+
 def _check_plain_data(d: Any) -> None:
-    """Every number finite and within float range, every text valid Unicode (iterative walk)."""
+    """Every number finite and within float range, every text valid Unicode (iterative walk).
+
+    A quick walk that keeps no field paths answers first; only a file it finds a problem
+    in is walked again with paths, to name the place.
+    """
+    if plain_data_ok(d, _DUPLICATE):
+        return
     stack: list[tuple[Any, tuple[Any, ...]]] = [(d, ())]
+    seen = 0
     while stack:
         value, path = stack.pop()
+        seen += 1
+        if seen > limits.MAX_VALUES:
+            raise RigFileError(f"the file holds more than {limits.MAX_VALUES:,} values (numbers, texts, lists); "
+                               "Ropewright cannot handle a rig this large", where=_where(path[:1]))
         if isinstance(value, dict):
             if _DUPLICATE in value:
                 key = value[_DUPLICATE]
@@ -475,137 +611,36 @@ def _check_text(s: str, path: tuple[Any, ...]) -> None:
         raise RigFileError("holds a broken \\u escape (half of a character pair)", where=_where(path)) from None
 
 
-@lru_cache(maxsize=1)
-def _validator() -> Any:
-    import jsonschema
-
-    text = resources.files("solver").joinpath("schema/rig-v1.schema.json").read_text(encoding="utf-8")
-    schema = json.loads(text)
-    cls = jsonschema.Draft202012Validator
-    cls.check_schema(schema)
-    return cls(_inline_refs(schema, schema.get("$defs", {})))
-
-
-def _inline_refs(node: Any, defs: Mapping[str, Any]) -> Any:
-    """The schema with every local ``{"$ref": "#/$defs/x"}`` replaced by its definition.
-
-    The rig schema is not recursive, so this is finite; it spares the validator a
-    reference look-up per object (about half its time on a large rig).
-    """
-    if isinstance(node, dict):
-        ref = node.get("$ref")
-        if isinstance(ref, str) and ref.startswith("#/$defs/") and len(node) == 1:
-            return _inline_refs(defs[ref[len("#/$defs/"):]], defs)
-        return {k: _inline_refs(v, defs) for k, v in node.items() if k != "$defs"}
-    if isinstance(node, list):
-        return [_inline_refs(v, defs) for v in node]
-    return node
-
-
-def schema() -> dict[str, Any]:
-    """The JSON Schema (draft 2020-12) of a version-1 rig file."""
-    text = resources.files("solver").joinpath("schema/rig-v1.schema.json").read_text(encoding="utf-8")
-    return json.loads(text)
-
-
-_NOUNS = {"points": "point", "ropes": "rope", "path": "pass", "materials": "material",
-          "hardware": "hardware spec", "forces": "force", "features": "site feature", "image": "site image",
-          "stretch": "stretch point"}
-_TYPE_WORDS = {"number": "a number", "integer": "a whole number", "string": "text in double quotes",
-               "array": "a list [...]", "object": "an object {...}", "boolean": "true or false", "null": "null"}
-
-
-def _noun_for(path: Sequence[Any]) -> str:
-    for part in reversed(path):
-        if isinstance(part, str):
-            return _NOUNS.get(part, part)
-    return "rig file"
-
-
-def _check_schema(d: dict[str, Any]) -> None:
-    from jsonschema.exceptions import best_match
-
-    errors = list(_validator().iter_errors(d))
-    if not errors:
-        return
-    err = best_match(errors)
-    where, message = _translate(err)
-    if len(errors) > 1:
-        more = len(errors) - 1
-        message += f" (and {more} more problem{'s' if more > 1 else ''} in the file)"
-    raise RigFileError(message, where=where)
-
-
-def _translate(err: Any) -> tuple[str, str]:
-    """A jsonschema error as (field path, message in a rigger's words)."""
-    path = list(err.absolute_path)
-    kw = err.validator
-    val = err.validator_value
-    inst = err.instance
-    where = _where(path)
-    if kw == "type":
-        wanted = [val] if isinstance(val, str) else list(val)
-        words = " or ".join(_TYPE_WORDS.get(w, w) for w in wanted)
-        msg = f"must be {words}, got {_show(inst)}"
-        if "number" in wanted and isinstance(inst, str):
-            fixed = inst.strip().replace(",", ".", 1) if inst.count(",") == 1 else inst.strip()
-            try:
-                num = float(fixed)
-            except ValueError:
-                pass
-            else:
-                if math.isfinite(num):
-                    msg += f" (write {fixed} with a decimal point and no quotes)"
-        return where, msg
-    if kw == "required":
-        missing = [k for k in val if isinstance(inst, dict) and k not in inst]
-        key = missing[0] if missing else val[0]
-        noun = _noun_for(path)
-        needs = ", ".join(val[:-1]) + f" and {val[-1]}" if len(val) > 1 else val[0]
-        return _where(path + [key]), f"is missing (every {noun} needs {needs})"
-    if kw == "enum":
-        choices = ", ".join(_show(c) for c in val)
-        return where, f"must be one of {choices}; got {_show(inst)}"
-    if kw == "const":
-        return where, f"must be {_show(val)}, got {_show(inst)}"
-    if kw == "minimum":
-        return where, f"must be at least {val:g}, got {_show(inst)}"
-    if kw == "exclusiveMinimum":
-        return where, f"must be more than {val:g}, got {_show(inst)}"
-    if kw == "maximum":
-        return where, f"must be at most {val:g}, got {_show(inst)}"
-    if kw == "exclusiveMaximum":
-        return where, f"must be less than {val:g}, got {_show(inst)}"
-    if kw in ("minItems", "maxItems", "items") and _is_pair_schema(err):
-        return where, f"must be a pair of numbers [x, y], got {_show(inst)}"
-    if kw == "minItems":
-        if path and path[-1] == "path":
-            return where, (f"a rope needs at least {val} passes (where it starts and where it ends); "
-                           f"this one has {len(inst)}")
-        item = _NOUNS.get(str(path[-1]), "item") if path else "item"
-        return where, f"needs at least {val} {item}{'s' if val != 1 else ''}, has {len(inst)}"
-    if kw == "minLength":
-        return where, "must not be empty"
-    return where, f"is not valid here ({_show(inst)})"
-
-
-def _is_pair_schema(err: Any) -> bool:
-    sch = err.schema if isinstance(err.schema, dict) else {}
-    return "prefixItems" in sch or sch is False
-
-
 # --------------------------------------------------------------------------------------
 # Building the dataclasses
 
 
-def _from_simple(d: dict[str, Any], spec: _Spec, where: str, strict: bool) -> tuple[dict[str, Any], dict[str, Any]]:
-    """kwargs for a dataclass from a checked dict, and its unknown keys (``extra``)."""
+@lru_cache(maxsize=None)
+def _spec_fields(spec: _Spec) -> dict[str, tuple[str, Any]]:
+    """A spec as {json key: (kind, default)}, for reading an object key by key."""
+    return {key: (kind, default) for key, kind, default in spec}
+
+
+def _from_simple(d: dict[str, Any], spec: _Spec, where: str, strict: bool,
+                 at_default: list[str] | None = None) -> tuple[dict[str, Any], dict[str, Any]]:
+    """kwargs for a dataclass from a checked dict, and its unknown keys (``extra``).
+
+    ``at_default`` collects the optional keys the file gave at their default value.
+    """
+    fields = _spec_fields(spec)
     kwargs: dict[str, Any] = {}
-    for key, kind, _default in spec:
-        if key in d:
-            kwargs[key] = _convert(d[key], kind)
-    known = {k for k, _, _ in spec}
-    extra = {k: v for k, v in d.items() if k not in known}
+    extra: dict[str, Any] = {}
+    for key, value in d.items():
+        field = fields.get(key)
+        if field is None:
+            extra[key] = value
+            continue
+        kind, default = field
+        if kind != "str":
+            value = _convert(value, kind)
+        kwargs[key] = value
+        if at_default is not None and default is not _REQUIRED and value == default:
+            at_default.append(key)
     if strict and extra:
         key = next(iter(extra))
         raise RigFileError(f'unknown field "{key}" (strict mode allows only the fields of rig-format.md)',
@@ -625,13 +660,23 @@ def _convert(value: Any, kind: str) -> Any:
         return (float(value[0]), float(value[1]))
     if kind == "pairs":
         return tuple((float(a), float(b)) for a, b in value)
+    if kind == "flow":
+        return m.Flow(speed_m_s=float(value["speed_m_s"]), bearing_deg=float(value["bearing_deg"]))
     return value
 
 
 def _make(cls: type, d: dict[str, Any], spec: _Spec, where: str, strict: bool, **more: Any) -> Any:
-    kwargs, _ = _from_simple(d, spec, where, strict)
+    """The dataclass read from ``d``, remembering the optional keys the file gave at their default.
+
+    Saving writes a required key, a key whose value differs from its default, and a remembered
+    key (``_to_simple``); so only a key given at its default needs remembering, and most
+    objects of a big rig (a pass ``{"at": "n1"}``) need no entry at all.
+    """
+    at_default: list[str] = []
+    kwargs, _ = _from_simple(d, spec, where, strict, at_default)
     kwargs.update(more)
-    return _remember(cls(**kwargs), d.keys())
+    obj = filled(cls, kwargs)
+    return _remember(obj, at_default) if at_default else obj
 
 
 def _build_rig(d: dict[str, Any], strict: bool) -> m.Rig:
@@ -645,6 +690,8 @@ def _build_rig(d: dict[str, Any], strict: bool) -> m.Rig:
     for key in ("view", "title", "notes"):
         if key in d:
             kw[key] = d[key]
+    if "print_frame" in d:
+        kw["print_frame"] = _print_frame(d["print_frame"])
     # spec sheets stay open to extension even in strict mode: the built-in library
     # itself carries extra properties (e.g. a webbing's width_mm) that saving embeds
     kw["materials"] = tuple(_make(m.Material, x, _MATERIAL, f"materials[{i}]", False)
@@ -657,6 +704,16 @@ def _build_rig(d: dict[str, Any], strict: bool) -> m.Rig:
     kw["ropes"] = tuple(_build_rope(x, f"ropes[{i}]", strict) for i, x in enumerate(d["ropes"]))
     kw["extra"] = {k: v for k, v in d.items() if k not in _TOP_KEYS}
     return _remember(m.Rig(**kw), d.keys())
+
+
+def _print_frame(d: Mapping[str, Any]) -> tuple[float, float, float, float]:
+    """The print frame rectangle (x0, y0, x1, y1), site metres, corners in any order; an empty one is an error."""
+    x0, y0, x1, y1 = (float(d[k]) for k in _FRAME_KEYS)
+    frame = (min(x0, x1), min(y0, y1), max(x0, x1), max(y0, y1))
+    if frame[2] - frame[0] <= 0 or frame[3] - frame[1] <= 0:
+        raise RigFileError("the print frame has no area: give two opposite corners that differ in x and in y",
+                           where="print_frame")
+    return frame
 
 
 def _build_site(d: dict[str, Any], strict: bool) -> m.Site:
@@ -673,8 +730,21 @@ def _build_site(d: dict[str, Any], strict: bool) -> m.Site:
     return _remember(m.Site(extra=extra, **kw), d.keys())
 
 
+_PASS_KEYS = frozenset(key for key, _, _ in _PASS)
+
+
+def _read_pass(x: dict[str, Any], where: str, j: int, strict: bool) -> m.Pass:
+    """One pass of a rope's path; a pass with only known keys (all text) is built directly."""
+    if x.keys() <= _PASS_KEYS:
+        ps = filled(m.Pass, {**x, "extra": {}})
+        at_default = [key for key in ("how", "hardware") if key in x and x[key] == (None if key == "hardware"
+                                                                                   else "tied")]
+        return _remember(ps, at_default) if at_default else ps
+    return _make(m.Pass, x, _PASS, f"{where}.path[{j}]", strict)
+
+
 def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
-    path = tuple(_make(m.Pass, x, _PASS, f"{where}.path[{j}]", strict) for j, x in enumerate(d["path"]))
+    path = tuple(_read_pass(x, where, j, strict) for j, x in enumerate(d["path"]))
     more: dict[str, Any] = {"path": path}
     if "rigged" in d:
         rg = d["rigged"]
@@ -682,9 +752,18 @@ def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
             raise RigFileError("give slack_m or pretension_N, not both: a run is either hand-tight plus slack, "
                                "or tensioned", where=f"{where}.rigged")
         more["rigged"] = _make(m.Rigging, rg, _RIGGING, f"{where}.rigged", strict)
-    kwargs, _ = _from_simple({k: v for k, v in d.items() if k not in ("path", "rigged")}, _ROPE, where, strict)
-    kwargs.update(more)
-    return _remember(m.Rope(**kwargs), d.keys())
+    kwargs, _ = _from_simple(d, _ROPE_READ, where, strict)
+    kwargs.update(more)  # path and rigged as read above
+    kwargs.setdefault("rigged", m.Rigging())
+    rope = filled(m.Rope, kwargs)
+    # saving writes label and rigged when set; remember them only when the file gave them at their default
+    at_default = [key for key in ("label", "rigged") if key in d and getattr(rope, key) == _ROPE_DEFAULTS[key]]
+    return _remember(rope, at_default) if at_default else rope
+
+
+_ROPE_DEFAULTS: dict[str, Any] = {"label": "", "rigged": m.Rigging()}
+#: A rope's keys as _from_simple reads them: path and rigged known (not extra), each read on its own.
+_ROPE_READ: _Spec = _ROPE + (("path", "str", _REQUIRED), ("rigged", "str", None))
 
 
 # --------------------------------------------------------------------------------------
@@ -722,6 +801,8 @@ def _encode(value: Any, kind: str) -> Any:
         return [float(value[0]), float(value[1])]
     if kind == "pairs":
         return [[float(a), float(b)] for a, b in value]
+    if kind == "flow":
+        return {"speed_m_s": float(value.speed_m_s), "bearing_deg": float(value.bearing_deg)}
     return str(value)
 
 
@@ -741,10 +822,12 @@ def _rope_to(rope: m.Rope) -> dict[str, Any]:
     out: dict[str, Any] = {"id": str(rope.id), "material": str(rope.material)}
     if "label" in pres or rope.label:
         out["label"] = str(rope.label)
+    if rope.length_m is not None:
+        out["length_m"] = float(rope.length_m)
     if "rigged" in pres or rope.rigged != m.Rigging():
         out["rigged"] = _to_simple(rope.rigged, _RIGGING)
     out["path"] = [_to_simple(ps, _PASS) for ps in rope.path]
-    _write_extra(out, rope.extra, ("id", "material", "label", "rigged", "path"))
+    _write_extra(out, rope.extra, ("id", "material", "label", "length_m", "rigged", "path"))
     return out
 
 
@@ -792,6 +875,9 @@ def _check_semantics(rig: m.Rig, base_dir: str | os.PathLike[str] | None) -> Non
     for i, p in enumerate(rig.points):
         _check_coordinate(p.x, f"points[{i}].x")
         _check_coordinate(p.y, f"points[{i}].y")
+        if p.role is not None and p.kind != "person":
+            raise RigFileError(f'"{p.name}" is a {p.kind}: only a person has a role', where=f"points[{i}].role")
+        _raise_problem(wetted_point_problem(p), f"points[{i}]")
     for i, f in enumerate(rig.forces):
         if f.at not in points:
             raise RigFileError(f'point "{f.at}" does not exist', where=f"forces[{i}].at")
@@ -862,11 +948,13 @@ def _check_rope(rig: m.Rig, rope: m.Rope, points: Mapping[str, m.Point], where: 
         if ps.how not in m.PASS_HOWS:
             raise RigFileError(f'unknown pass kind "{ps.how}"', where=f"{here}.how")
         _check_pass_hardware(rig, ps, f"{here}.hardware")
+        _check_weak_link(rig, ps, here)
 
 
 def _check_pass_hardware(rig: m.Rig, ps: m.Pass, where: str) -> None:
-    if ps.how in ("pulley", "edge") and not ps.hardware:
-        what = "which pulley or carabiner" if ps.how == "pulley" else "which edge (rock, concrete, ...)"
+    _check_capture_grab(rig, ps, where.rsplit(".", 1)[0] + ".grab")
+    if ps.how in ("pulley", "edge", "capture") and not ps.hardware:
+        what = "which pulley or carabiner" if ps.how != "edge" else "which edge (rock, concrete, ...)"
         raise RigFileError(f"a {ps.how} pass must name its hardware ({what})", where=where)
     if not ps.hardware:
         return
@@ -876,12 +964,44 @@ def _check_pass_hardware(rig: m.Rig, ps: m.Pass, where: str) -> None:
                            "library", where=where)
     if ps.how == "edge" and hw.kind != "edge":
         raise RigFileError(f'"{hw.id}" is a {hw.kind}; an edge pass needs an edge spec', where=where)
-    if ps.how == "pulley" and hw.kind == "edge":
-        raise RigFileError(f'"{hw.id}" is an edge; a pulley pass needs a pulley, carabiner or ring', where=where)
-    if ps.how == "pulley" and hw.efficiency is None:
+    if ps.how in m.SHEAVE_HOWS and hw.kind in ("edge", "grab"):
+        raise RigFileError(f'"{hw.id}" is a {hw.kind}; a {ps.how} pass needs a pulley, carabiner or ring', where=where)
+    if ps.how in m.SHEAVE_HOWS and hw.efficiency is None:
         raise RigFileError(f'"{hw.id}" has no efficiency, so it cannot be used as a pulley', where=where)
     if ps.how == "edge" and hw.friction_coefficient is None:
         raise RigFileError(f'"{hw.id}" has no friction_coefficient, so it cannot be used as an edge', where=where)
+
+
+def _check_capture_grab(rig: m.Rig, ps: m.Pass, where: str) -> None:
+    """A pass's ``grab``: only on a progress capture, and a rope grab spec."""
+    if ps.grab is None:
+        return
+    if ps.how != "capture":
+        raise RigFileError(f'only a progress capture ("how": "capture") holds the rope with a grab, not a "{ps.how}" '
+                           "pass", where=where)
+    hw = _hardware(rig, ps.grab)
+    if hw is None:
+        raise RigFileError(f'rope grab "{ps.grab}" is neither in this file\'s hardware nor in the built-in library',
+                           where=where)
+    if hw.kind != "grab":
+        raise RigFileError(f'"{hw.id}" is a {hw.kind}; a capture holds with a rope grab', where=where)
+
+
+def _check_weak_link(rig: m.Rig, ps: m.Pass, where: str) -> None:
+    """A termination or a rope grab belongs on a tied pass, and a termination must be one we know."""
+    from solver.weak_links import TERMINATIONS
+
+    if ps.termination is not None:
+        if ps.termination not in TERMINATIONS:
+            raise RigFileError(f'unknown termination "{ps.termination}"; use one of {", ".join(TERMINATIONS)}',
+                               where=f"{where}.termination")
+        if ps.how != "tied":
+            raise RigFileError(f'a termination says how the rope is tied at a point; this pass is "{ps.how}"',
+                               where=f"{where}.termination")
+    hw = _hardware(rig, ps.hardware) if ps.hardware else None
+    if hw is not None and hw.kind == "grab" and ps.how != "tied":
+        raise RigFileError(f'"{hw.id}" is a rope grab: it holds the rope where it is tied (how "tied"), '
+                           f'not as a "{ps.how}" pass', where=f"{where}.hardware")
 
 
 def _check_site(site: m.Site, base_dir: str | os.PathLike[str] | None) -> None:
@@ -896,6 +1016,7 @@ def _check_site(site: m.Site, base_dir: str | os.PathLike[str] | None) -> None:
         if feat.polygon is not None and len(feat.polygon) < 3:
             raise RigFileError(f"a polygon needs at least 3 points, has {len(feat.polygon)}",
                                where=f"{here}.polygon")
+        _raise_problem(water_feature_problem(feat), here)
         for key in ("polygon", "line"):
             for k, (x, y) in enumerate(getattr(feat, key) or ()):
                 _check_coordinate(x, f"{here}.{key}[{k}][0]")
@@ -959,5 +1080,5 @@ def _fsync_folder(folder: pathlib.Path) -> None:
 
 __all__ = [
     "FORMAT", "VERSION", "MAX_FILE_BYTES", "load_rig", "loads_rig", "rig_from_dict", "rig_to_dict",
-    "dumps_rig", "save_rig", "migrate", "embed_specs", "check_rig", "schema", "RigFileError",
+    "dumps_rig", "save_rig", "write_target", "clean_stale_temps", "migrate", "embed_specs", "check_rig", "schema", "RigFileError",
 ]

@@ -102,15 +102,16 @@ def _block_values(s: System, st: State, kc: FloatArray, exact: bool, on: PartPat
     those of one part (each value the same number either way)."""
     unit = st.w is s.ones  # frictionless: every weight 1, so the products by w are left out (same numbers)
     if on is None:
-        u, l, N, T, eps, w, pen = st.u, st.l, st.N, st.T, st.eps, st.w, st.pen
+        u, l, N, T, eps, w, pen, ref = st.u, st.l, st.N, st.T, st.eps, st.w, st.pen, s.order_ref
         piece_run, piece_mat, k, j, r = s.piece_run, s.piece_mat, s.pair_k, s.pair_j, s.pair_run
     else:
         P = on.pieces
         u, l, N, T, eps, w, pen, kc = st.u[P], st.l[P], st.N[P], st.T[P], st.eps[P], st.w[P], st.pen[P], kc[P]
+        ref = s.order_ref[P]
         piece_run, piece_mat, k, j, r = s.piece_run[P], s.piece_mat[P], on.pair_k, on.pair_j, on.pair_run
-    # a piece pushed by the spacing contact (N < 0) would add negative stiffness, turning the
-    # rope's kink at a two-blocked pass into a saddle for Newton: keep only the pull (PSD tangent)
-    pull = N if exact else np.maximum(N, 0.0)
+    # the spacing contact pushes along the piece's fixed order direction (solver.pass_order), so it adds no
+    # geometric stiffness: the rope's own pull T does (T = N wherever no contact is closed)
+    pull = T if st.closed else (N if exact else np.maximum(N, 0.0))
     geo = pull / l if st.no_zero_length else np.divide(pull, l, out=np.zeros(l.shape), where=l > 0)
     run_coef = None
     if st.taut.any():
@@ -118,15 +119,18 @@ def _block_values(s: System, st: State, kc: FloatArray, exact: bool, on: PartPat
         de = by_material(s, piece_mat, T, "dstrain", None if s.soft is None else s.soft[piece_run])
         D = np.bincount(piece_run, (l if unit else l * w) * de * c * c, minlength=s.n_runs)
         run_coef = np.divide(1.0, D, out=np.zeros(D.shape), where=st.taut & (D > 0))
-        coef = (c if unit else w * c) * run_coef[piece_run]
-        axial = np.where(pen > 0, kc, 0.0) + coef if st.closed else coef
+        axial = (c if unit else w * c) * run_coef[piece_run]
     else:
-        axial = np.where(pen > 0, kc, 0.0)
+        axial = 0.0
     ux, uy = u[:, 0], u[:, 1]
-    # 2x2 block A = geo (I - u u^T) + axial u u^T, stored as (xx, xy, yy)
+    # 2x2 block A = geo (I - u u^T) + axial u u^T + contact r r^T (r: the order direction), stored as (xx, xy, yy)
     axx = geo * (1.0 - ux * ux) + axial * ux * ux
     axy = (axial - geo) * ux * uy
     ayy = geo * (1.0 - uy * uy) + axial * uy * uy
+    if st.closed:
+        kcp = np.where(pen > 0, kc, 0.0)
+        rx, ry = ref[:, 0], ref[:, 1]
+        axx, axy, ayy = axx + kcp * rx * rx, axy + kcp * rx * ry, ayy + kcp * ry * ry
     # every kept entry is one of these block values times +-1 (index map built by _pattern)
     packed = [axx, axy, ayy]
     if len(k):

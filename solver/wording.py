@@ -7,16 +7,6 @@ import math
 from solver.model import Rig
 
 
-def direction_words(vx: float, vy: float, elevation: bool) -> str:
-    """Name the axis a point can move along ("east–west" ...)."""
-    ang = math.degrees(math.atan2(vy, vx)) % 180.0
-    if elevation:
-        names = ["sideways", "diagonally (up to the right)", "up and down", "diagonally (up to the left)"]
-    else:
-        names = ["east–west", "northeast–southwest", "north–south", "northwest–southeast"]
-    return names[int(((ang + 22.5) % 180.0) // 45.0)]
-
-
 def heading_words(vx: float, vy: float, elevation: bool) -> str:
     ang = math.degrees(math.atan2(vy, vx)) % 360.0
     if elevation:

@@ -17,6 +17,8 @@ from sketchpad.overlay.labels import LAYERS, OverlayLabel, PerPoint, build_label
 from sketchpad.overlay.legend import Banner, Legend, summary_lines
 from sketchpad.overlay.placement import ObstacleCache, place_labels, placement_memo
 from sketchpad.overlay.zones import ZoneItem
+from sketchpad.short_text import drawn
+from sketchpad.water_layer import WaterItem
 from solver.model import Rig
 from solver.result import Result
 
@@ -37,6 +39,8 @@ class ResultOverlay(QObject):
         self.scene.addItem(self.zones_item)
         self.force_item = ForceItem()
         self.scene.add_overlay_item(self.force_item)
+        self.water_item = WaterItem()  # the current's arrows and the ropes it bows
+        self.scene.addItem(self.water_item)
         self.banner = Banner(view.viewport())
         self.legend = Legend(view.viewport())
         view.foreground_painters.append(self.legend.paint_on)
@@ -102,6 +106,7 @@ class ResultOverlay(QObject):
         if not result.ok and result.subject and rig.has_point(result.subject):
             fail_point = scene_xy(rig.point(result.subject).xy)
         self.force_item.fail_point = fail_point
+        self.water_item.show(rig, self.result)
         self.rebuild()
 
     def set_layer(self, name: str, on: bool) -> None:
@@ -237,7 +242,7 @@ class ResultOverlay(QObject):
         if box is None:
             fm = self._name_fm
             r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
-            box = self._name_box_cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name),
+            box = self._name_box_cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(drawn(p.name)),
                                                fm.height())
         return (scene_xy(p.xy), box)
 

@@ -20,8 +20,10 @@ from PySide6.QtGui import QColor
 
 from sketchpad import theme
 from sketchpad.overlay.placement import unit_vector
+from sketchpad.short_text import drawn
 from solver.directions import direction_text
 from solver.model import Rig
+from solver.pull_needed import need_phrase
 from solver.readouts import use_text
 from solver.result import Result
 from solver.units import format_force
@@ -35,7 +37,7 @@ LAYERS: dict[str, str] = {
     "stretch": "Rope &stretch",
 }
 #: Middle passes whose turn is labelled (tied passes are knots and grabs, not redirects).
-TURNING_HOWS = frozenset({"pulley", "sliding", "edge"})
+TURNING_HOWS = frozenset({"pulley", "sliding", "edge", "capture"})
 #: Pieces carrying less than this (N) are labelled "slack".
 SLACK_N = 1.0
 HOLD_LABEL = "hold"
@@ -355,7 +357,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
 
         labels += _anchor_labels(state, result, unit, sf, rig.view, pos,
                                  also(_changed_keys(anchor_holds, old_anchor_holds)), arrows)
-        labels += _load_labels(state, result, unit, rig.view, pos, dirty)
+        labels += _load_labels(state, rig, result, unit, pos, dirty)
         labels += _haul_labels(state, result, unit, pos, also(_changed_keys(haul_holds, old_haul_holds)))
     return labels, arrows
 
@@ -464,7 +466,7 @@ def _anchor_labels(state: _LabelState, result: Result, unit: str, sf: float, vie
         rad = math.radians(a.direction_deg)
         d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
         colour = theme.utilization_colour(a.utilization)
-        lines = [f"{p.name} {format_force(a.force_N, unit)}", "toward " + direction_text(a.direction_deg, view, a.force_N)]
+        lines = [f"{drawn(p.name)} {format_force(a.force_N, unit)}", "toward " + direction_text(a.direction_deg, view, a.force_N)]
         if a.utilization is not None:
             lines.append(use_text(a, sf))
         else:
@@ -486,9 +488,10 @@ def _anchor_labels(state: _LabelState, result: Result, unit: str, sf: float, vie
     return list(filter(None, part.outs))
 
 
-def _load_labels(state: _LabelState, result: Result, unit: str, view: str, pos: Mapping, dirty: set | None) -> list:
-    """The label of the force delivered to every load, against the force it needs."""
+def _load_labels(state: _LabelState, rig: Rig, result: Result, unit: str, pos: Mapping, dirty: set | None) -> list:
+    """The label of the force delivered to every load, against the force it needs (and the pull that needs)."""
     points = state.by_id
+    view = rig.view
     loads = result.loads
     names_l = tuple(loads)
 
@@ -497,26 +500,31 @@ def _load_labels(state: _LabelState, result: Result, unit: str, view: str, pos: 
         p = points.get(lid)
         if lid not in pos or p is None:
             return (lid,), None, None, None
-        mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid], view)
+        need = needs.get(lid)  # the pull needed: solved once the drawing is still
+        mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid], view, need, unit)
         hit = old.get(mkey)
         if hit is not None:
             return (lid,), mkey, hit[0], None
         rad = math.radians(f.direction_deg)
         d = (math.cos(rad), -math.sin(rad))
-        lines = [f"to {p.name} {format_force(f.force_N, unit)}", "toward " + direction_text(f.direction_deg, view, f.force_N)]
+        lines = [f"to {drawn(p.name)} {format_force(f.force_N, unit)}", "toward " + direction_text(f.direction_deg, view, f.force_N)]
         values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
         colour = QColor(theme.UTIL_RAMP[0][1])
         if p.required_N is not None:
             enough = f.force_N >= p.required_N
             lines.append(f"needs {format_force(p.required_N, unit)}" + ("" if enough else " — short"))
+            if need is not None and not enough:
+                lines.append(need_phrase(rig, need))
             values["required_N"] = float(p.required_N)
             colour = QColor(theme.UTIL_RAMP[0][1] if enough else theme.UTIL_RAMP[-1][1])
         lab = OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
                            priority=95.0, base=pos[lid], prefer=(-d[0], -d[1]))
         return (lid,), mkey, lab, None
 
+    needs = result.needs
     part = state.parts["l"]
-    part.update(names_l, tuple(loads.values()), dirty, load)
+    # the needs arrive with the analysis at a pause, on load records a drag step may share: remake when they do
+    part.update(names_l, tuple(loads.values()), dirty if not needs else None, load)
     return list(filter(None, part.outs))
 
 

@@ -11,7 +11,9 @@ from PySide6.QtWidgets import QLabel, QWidget
 
 from sketchpad import theme
 from sketchpad.items import text_advance
+from sketchpad.short_text import drawn
 from solver.model import Rig
+from solver.pull_needed import need_phrase
 from solver.readouts import ma_short
 from solver.result import Result
 from solver.units import format_force
@@ -54,6 +56,7 @@ class Legend(QWidget):
         self.lines: list[str] = []
         self.show_zones = True
         self.grey = False
+        self.zone_names = theme.DRAWN_ZONE_NAMES  # (kind, name) of each zone swatch in the key
         self.font = theme.font(theme.OVERLAY_POINT_SIZE)
         self.title_font = theme.font(theme.OVERLAY_POINT_SIZE, bold=True)
         self.fm = QFontMetricsF(self.font)
@@ -104,7 +107,7 @@ class Legend(QWidget):
         if not self.shown:
             return []
         g = self.geometry()
-        frame = (g.x(), g.y(), g.width(), g.height(), self.show_zones, self.grey, len(self.lines))
+        frame = (g.x(), g.y(), g.width(), g.height(), self.show_zones, self.zone_names, self.grey, len(self.lines))
         last = self._areas
         if last is not None and last[0] is self.lines and last[1] == frame:
             return last[2]  # set_content hands in a new list when the lines change
@@ -132,7 +135,7 @@ class Legend(QWidget):
             self._paint(painter)
             painter.restore()
             return
-        key = (tuple(self.lines), self.show_zones, self.grey, self.width(), self.height(), dpr)
+        key = (tuple(self.lines), self.show_zones, self.zone_names, self.grey, self.width(), self.height(), dpr)
         if self._pixmap is None or self._pixmap_key != key:
             self._pixmap, self._pixmap_key = self._assembled(dpr), key
         painter.drawPixmap(self.x(), self.y(), self._pixmap)
@@ -141,7 +144,7 @@ class Legend(QWidget):
         """The key as one pixmap: the cached frame with each line's cached pixmap laid over it."""
         pix = self._blank(self.width(), self.height(), dpr)
         p = QPainter(pix)
-        frame_key = (self.show_zones, self.grey, self.width(), self.height(), dpr)
+        frame_key = (self.show_zones, self.zone_names, self.grey, self.width(), self.height(), dpr)
         if self._frame_pix is None or self._frame_pix[0] != frame_key:
             frame = self._blank(self.width(), self.height(), dpr)
             fp = QPainter(frame)
@@ -226,7 +229,7 @@ class Legend(QWidget):
         y = ramp.bottom() + 3 + lh + 3
         if self.show_zones:
             x = pad
-            for kind, name in (("bight", "inside of bight"), ("recoil", "recoil band")):
+            for kind, name in self.zone_names:
                 fill, hatch = theme.zone_brushes(kind)
                 box = QRectF(x, y + 1, 14, lh - 3)
                 p.setPen(theme.pixel_pen(theme.ZONE_COLOURS[kind], 1.0))
@@ -240,14 +243,15 @@ class Legend(QWidget):
 
 
 def summary_lines(rig: Rig, result: Result) -> list[str]:
-    """The system in a few lines: MA nominal/ideal/actual, haul force and haulers, load delivered vs needed."""
+    """The system in a few lines: MA nominal/ideal/actual, haul force, load delivered vs needed and the pull that
+    needs."""
     unit = rig.display.force
     points = {p.id: p for p in rig.points}
     out = []
     if result.ma_actual is not None:  # a drag step leaves nominal and ideal to the analysis at the pause
         out.append(ma_short(result))
     for hid, force in result.haul.items():
-        name = points[hid].name if hid in points else hid
+        name = drawn(points[hid].name if hid in points else hid)
         hold = result.hold_haul_range.get(hid)
         text = f"{name}: {format_force(force, unit)}"
         if hold is not None:
@@ -257,9 +261,11 @@ def summary_lines(rig: Rig, result: Result) -> list[str]:
         p = points.get(lid)
         if p is None:
             continue
-        text = f"to {p.name}: {format_force(f.force_N, unit)}"
+        text = f"to {drawn(p.name)}: {format_force(f.force_N, unit)}"
         if p.required_N is not None:
             text += f" of {format_force(p.required_N, unit)} needed"
+            if lid in result.needs:  # solved once the drawing is still (solver.pull_needed)
+                text += f" → {need_phrase(rig, result.needs[lid])}"
         out.append(text)
     out.append(f"safety factor {rig.settings.min_safety_factor:g}:1 · {rig.settings.motion}")
     return out

@@ -51,7 +51,7 @@ class ZoneItem(LayerItem):
         self.update()
 
     def paint(self, painter: QPainter, option, widget=None) -> None:
-        for kind in ("recoil", "bight"):
+        for kind in theme.ZONE_COLOURS:  # recoil under bight / failure areas
             path = self.paths.get(kind)
             if path is None:
                 continue

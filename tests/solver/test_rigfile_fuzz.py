@@ -1,8 +1,9 @@
 """Mangled rig files never crash the reader: only a RigFileError naming a place, or a Rig that round-trips.
 
 Hypothesis mutates the real sample files: deletes keys, swaps types, swaps and
-duplicates ids, drops in huge numbers and NaN/Infinity tokens, then optionally
-truncates the text or splices in random bytes.
+duplicates ids, drops in huge numbers and NaN/Infinity tokens, hostile text (markup
+that loads files, overlong labels, decimal commas), then optionally truncates the
+text or splices in random bytes.
 """
 
 from __future__ import annotations
@@ -10,9 +11,11 @@ from __future__ import annotations
 import json
 from typing import Any
 
+import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from solver import limits
 from solver.errors import RigFileError
 from solver.model import Rig
 from solver.rigfile import dumps_rig, loads_rig
@@ -29,6 +32,10 @@ _SCALARS = st.one_of(
     st.text(max_size=12),
     st.sampled_from(["", "L1", "A1", "G1", "H1", "P1", "tied", "pulley", "hauled", "edge", "kern-11",
                      "pulley-large", "../x.png", "/etc/passwd", "12,5", "NaN", "\u0000", "\ud7ff"]),
+    # hostile text: markup that loads files, overlong labels and ids, decimal commas, numbers as text
+    st.sampled_from(['<img src="/dev/zero">', '<img src="/etc/passwd"><b>x</b>', "&lt;img&gt;", "x" * 201,
+                     "y" * 101, "z" * 20_001, "1,000", "1.000", "1,2345", "2.500,5", "1e308"]),
+    st.sampled_from([1e12, 1e13, -1e5, 100_001.0, 1000, 1001, 10**309 // 10**300]),
 )
 _VALUES = st.recursive(_SCALARS, lambda inner: st.one_of(st.lists(inner, max_size=3),
                                                          st.dictionaries(st.text(max_size=6), inner, max_size=3)),
@@ -99,9 +106,8 @@ def _bytes_damage(data: st.DataObject, blob: bytes) -> bytes:
     return blob[:i] + junk + blob[i + len(junk):]
 
 
-@settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(data=st.data())
-def test_a_mangled_sample_gives_a_named_error_or_a_rig_that_round_trips(data):
+def _load_mangled(data: st.DataObject) -> str:
+    """Load one mangled sample; "error" for a RigFileError naming a place, "rig" for a Rig that round-trips."""
     doc = json.loads(json.dumps(data.draw(st.sampled_from(SAMPLE_DOCS))))
     for _ in range(data.draw(st.integers(0, 4))):
         _mutate(data, doc)
@@ -116,22 +122,47 @@ def test_a_mangled_sample_gives_a_named_error_or_a_rig_that_round_trips(data):
         assert err.message.strip(), "an error without a message"
         assert err.where.strip(), f"an error without a place: {err.message}"
         assert "Traceback" not in str(err)
-        return
+        return "error"
     assert isinstance(rig, Rig)
-    # whatever loads must save and load back to the very same rig
+    # whatever loads must save and load back to the very same rig: the reader and writer share one set of limits
     again = loads_rig(dumps_rig(rig, embed=False), strict=strict)
     assert again == rig
     assert loads_rig(dumps_rig(rig), strict=strict) is not None
+    # ... and whatever loads stays within the limits the app's fields and drawing rely on
+    assert len(rig.points) <= limits.max_items("rig", "points") and len(rig.notes) <= limits.max_chars("rig", "notes")
+    assert all(len(p.label) <= limits.max_chars("point", "label") for p in rig.points)
+    assert all(p.team is None or p.team <= 1000 for p in rig.points)
+    return "rig"
+
+
+@settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(data=st.data())
+def test_a_mangled_sample_gives_a_named_error_or_a_rig_that_round_trips(data):
+    _load_mangled(data)
 
 
 def test_the_fuzzer_reaches_both_outcomes():
-    """Guard against a fuzz test that only ever sees errors (or only ever valid rigs)."""
+    """The fuzzer itself (same strategies, a fixed seed) produces both rigs that load and named errors.
+
+    Guards against a fuzz test that only ever sees errors (every mutation fatal) or only
+    ever valid rigs (mutations that change nothing).
+    """
+    seen: dict[str, int] = {"error": 0, "rig": 0}
+
+    @settings(max_examples=60, deadline=None, database=None, derandomize=True,
+              suppress_health_check=[HealthCheck.too_slow])
+    @given(data=st.data())
+    def run(data):
+        seen[_load_mangled(data)] += 1
+
+    run()
+    assert seen["error"] > 0 and seen["rig"] > 0, seen
+
+
+def test_a_nan_coordinate_is_refused_at_its_place():
     doc = json.loads(json.dumps(SAMPLE_DOCS[0]))
     assert isinstance(loads_rig(json.dumps(doc)), Rig)
     doc["points"][0]["x"] = float("nan")
-    try:
+    with pytest.raises(RigFileError) as err:
         loads_rig(json.dumps(doc, allow_nan=True))
-    except RigFileError as err:
-        assert err.where == "points[0].x"
-    else:  # pragma: no cover - the assertion below explains
-        raise AssertionError("NaN coordinate was accepted")
+    assert err.value.where == "points[0].x"
