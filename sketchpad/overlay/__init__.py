@@ -30,7 +30,7 @@ _HOME = {
     "scene_positions": "labels",
     "Legend": "legend", "summary_lines": "legend",
     "ObstacleCache": "placement", "place_labels": "placement", "placement_memo": "placement",
-    "ZoneItem": "zones",
+    "ZoneItem": "zones", "geometry_path": "zones",
 }
 
 __all__ = sorted(_HOME)
