@@ -109,7 +109,7 @@ def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True
     """
     if rig.site.features and in_water(rig):  # currents push on ropes and bodies: solver.water
         if unstretched_m is None:
-            return solve_in_water(rig, start=start, motion=motion, ideal=ideal)
+            return solve_in_water(rig, solve, start=start, motion=motion, ideal=ideal)
         return without_current(solve(dry_site(rig), start=start, motion=motion, ideal=ideal,
                                      unstretched_m=unstretched_m))
     try:
