@@ -411,7 +411,7 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
                         if now is None:
                             now = parts.maxima(s, point_norms(parts.on(trial.g)))
                         passed[i] = now[j] < 0.9 * res[j]
-                if trial.closed:  # never carry a pass across its neighbour
+                if trial.closed and any(passed):  # never carry a pass across its neighbour
                     crossed = pass_order.crossed(s, trial)
                     passed = [p and not crossed[parts.ids[j]] for p, j in zip(passed, trying)]
                 taken = sum(passed)
