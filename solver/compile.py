@@ -21,7 +21,8 @@ from solver.errors import RigModelError
 from solver.materials import hardware_for, material_for
 from solver.model import MIDDLE_HOWS, MOTIONS, SHEAVE_HOWS, STANDARD_GRAVITY, Hardware, Material, Rig
 from solver.stretch import StretchCurve
-from solver.structure import component_forces, component_sizes, finish_topology, report_indices
+from solver.part_span import part_spans
+from solver.structure import component_forces, component_sizes, finish_topology, report_indices, size_groups
 from solver.system import (PASS_EDGE, PASS_NONE, PASS_PULLEY, PASS_SLIDING, FloatArray, IntArray, MiddlePass,
                            System, per_piece)
 from solver.weak_links import piece_efficiency
@@ -488,8 +489,8 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     s.run_L0 = run_L0
     component_sizes(s)
     # bare passes (a knot, a hand) are spaced relative to the size of their part of the rig, so a
-    # part solves to the same numbers whether it is drawn alone or beside others
-    part_size = per_piece(s, s.comp_size, s.size)
+    # part solves to the same numbers whether it is drawn alone or beside others, and turned on the page
+    part_size = per_piece(s, part_spans(s.xy0, *size_groups(s)), s.size)
     s_min = np.where(topo.hw_spacing > 0, topo.hw_spacing, BARE_MIN_SPACING * part_size)
     s.s_min = np.minimum(s_min, 0.5 * s.piece_len0)
     # the spacing contact only where a piece can close up: -inf elsewhere makes its penetration 0

@@ -177,16 +177,16 @@ def component_sizes(s: System) -> None:
     if not s.n_comp:
         s.comp_size = np.zeros(0)
         return
-    gather, starts = _size_groups(s)
+    gather, starts = size_groups(s)
     pts = s.xy0[gather]  # every point of every part, part by part (a point may appear more than once)
     lo = np.minimum.reduceat(pts, starts, axis=0)
     hi = np.maximum.reduceat(pts, starts, axis=0)
     s.comp_size = np.maximum(np.hypot(*(hi - lo).T), 1e-3)
 
 
-def _size_groups(s: System) -> tuple[IntArray, IntArray]:
-    """Indices into the points of each part's free points and piece ends, grouped by part, and where each
-    part's group starts (every part has a free point, so no group is empty).  Kept for the last structure
+def size_groups(s: System) -> tuple[IntArray, IntArray]:
+    """Indices into the points of each part's free points and piece ends, each once, grouped by part, and
+    where each part's group starts (every part has a free point, so no group is empty).  Kept for the last structure
     sized (:data:`solver.memo.SIZE_GROUPS`): a moved copy of a rig (a drag step) has the same parts."""
     kept = memo.SIZE_GROUPS.get(s.comp_label, s.piece_comp)
     if kept is not None:
@@ -194,9 +194,10 @@ def _size_groups(s: System) -> tuple[IntArray, IntArray]:
     on = s.piece_comp >= 0
     idx = np.concatenate((np.flatnonzero(s.free), s.a[on], s.b[on]))
     lab = np.concatenate((s.comp_label, s.piece_comp[on], s.piece_comp[on]))
-    order = np.argsort(lab, kind="stable")
-    gather = idx[order]
-    starts = np.searchsorted(lab[order], np.arange(s.n_comp))
+    n = len(s.free)
+    key = np.unique(lab * n + idx)  # distinct (part, point) pairs, part by part
+    gather = key % n
+    starts = np.searchsorted(key // n, np.arange(s.n_comp))
     memo.SIZE_GROUPS.put((s.comp_label, s.piece_comp), (gather, starts))
     return gather, starts
 
