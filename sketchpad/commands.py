@@ -7,14 +7,17 @@ same ``Document.changed`` signal.  Nudges and typed-field edits merge by ``merge
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
+from typing import Protocol
 
 from PySide6.QtGui import QUndoCommand
 
 from solver.model import Rig
 
-if TYPE_CHECKING:  # pragma: no cover
-    from sketchpad.document import Document
+
+class RigHolder(Protocol):
+    """What a command edits: the document, which swaps in a Rig and says so (sketchpad.document.Document)."""
+
+    def _set_rig(self, rig: Rig) -> None: ...
 
 _MERGE_IDS: dict[str, int] = {}
 
@@ -27,7 +30,7 @@ def merge_id_for(key: str) -> int:
 class RigEdit(QUndoCommand):
     """Swap the document's rig from ``before`` to ``after``; merges with the next edit of the same key."""
 
-    def __init__(self, document: "Document", before: Rig, after: Rig, text: str, merge_key: str | None = None):
+    def __init__(self, document: RigHolder, before: Rig, after: Rig, text: str, merge_key: str | None = None):
         super().__init__(text)
         self._document = document
         self.before = before

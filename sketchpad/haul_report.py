@@ -12,7 +12,9 @@ from PySide6.QtCore import QRectF
 from PySide6.QtGui import QPainter
 
 from sketchpad.haul_plot import paint_haul_plot, plot_key
-from sketchpad.report import BODY_PT, LOW_SF, MUTED, SMALL_PT, Flow, Table, page_font
+from sketchpad.export import page_font
+from sketchpad.pages.table import Table
+from sketchpad.report_flow import BODY_PT, LOW_SF, MUTED, SMALL_PT, Flow
 from solver import units
 from solver.haul_plan import has_load_to_haul, plan_haul
 from solver.haul_result import HaulPlan

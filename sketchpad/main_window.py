@@ -104,7 +104,7 @@ class MainWindow(QMainWindow):
         from sketchpad.live_solve import install_live_forces
 
         self.live = install_live_forces(self)  # live solve, force overlay, Forces dock (issue 5)
-        from sketchpad.export import install_export_actions
+        from sketchpad.export_actions import install_export_actions
 
         self.exports = install_export_actions(self)  # File > Export drawing / report (issue 7)
         from sketchpad.templates_ui import install_rigging_kit

@@ -44,7 +44,8 @@ class FailureSection:
 
     def add_to(self, flow) -> None:
         """Append the section to a report page flow (sketchpad.report.Flow)."""
-        from sketchpad.report import INK, LOW_SF, page_font
+        from sketchpad.export import page_font
+        from sketchpad.report_flow import INK, LOW_SF
 
         if not self.scan.ok:
             flow.heading("If something lets go")
@@ -58,7 +59,7 @@ class FailureSection:
 def failure_table(rig: Rig, s: Scan):
     """One row per outcome: the components whose failure ends the same way share a row (then, worst new load
     and where, farthest move, shock estimate), so the table stays short enough to read at a glance."""
-    from sketchpad.report import Table
+    from sketchpad.pages.table import Table
 
     fu, lu = rig.display.force, rig.display.length
     t = Table("If something lets go", ("If this lets go", "Then", "Worst new load (use)", "Moves most",

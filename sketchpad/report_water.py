@@ -9,7 +9,7 @@ from solver.water_text import WATER_HEADER, WATER_TITLE, water_note, water_rows
 
 def water_table(rig: Rig, result: Result):
     """A report Table of what the current does to the rig, or None for a rig not in moving water."""
-    from sketchpad.report import Table
+    from sketchpad.pages.table import Table
 
     if result.water is None:
         return None

@@ -31,6 +31,7 @@ from PySide6.QtWidgets import (
 )
 
 from sketchpad import theme
+from sketchpad.messages import failure_text
 from sketchpad.plain_text import plain_label, tip
 from solver.directions import bearing_deg, direction_heading, direction_text
 from solver.model import Rig
@@ -143,8 +144,6 @@ class ResultsPanel(QWidget):
             self.status.hide()
             shown_rig, shown = rig, result
         else:
-            from sketchpad.live_solve import failure_text
-
             self.status.setText(failure_text(result, rig)
                                 + ("\nThe tables show the last good result." if good is not None else ""))
             self.status.setStyleSheet(f"color: {theme.BANNER_BACK.name()}; font-weight: bold;")

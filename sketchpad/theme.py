@@ -14,6 +14,8 @@ from functools import lru_cache
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QBrush, QColor, QFont, QPen
 
+from sketchpad.glyph_sizes import ANCHOR_ARROW_PX, OVERLAY_LABEL_GAP_PX  # noqa: F401 (part of the theme)
+
 # --- z-order plan (higher draws on top) ------------------------------------------------
 Z_BACKGROUND = 0.0  # site image (sketchpad.background)
 Z_FEATURE = 10.0  # water, boulders, banks, hazards, notes
@@ -182,13 +184,11 @@ OVERLAY_LABEL_TEXT = QColor("#1d1d1a")
 OVERLAY_LABEL_BACK = QColor(255, 254, 250, 235)
 OVERLAY_LABEL_PAD_PX = 3.0
 OVERLAY_LABEL_BORDER_PX = 1.6
-OVERLAY_LABEL_GAP_PX = 6.0  # from the rope to the nearest label edge
 OVERLAY_LEADER = QColor(60, 60, 56, 170)
 OVERLAY_BAND_PX = 7.0  # translucent utilization band along each solved piece
 OVERLAY_BAND_ALPHA = 125
 OVERLAY_SOLVED_POINT_PX = 4.0  # ring where the solver moved a free point
 ANGLE_TEXT = QColor("#2c3e8c")
-ANCHOR_ARROW_PX = 56.0
 ANCHOR_ARROW_HEAD_PX = 11.0
 ANCHOR_ARROW_WIDTH_PX = 3.2
 ZONE_COLOURS: dict[str, QColor] = {"recoil": QColor(224, 120, 20), "bight": QColor(196, 28, 36),

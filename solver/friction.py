@@ -12,7 +12,7 @@ from __future__ import annotations
 import numpy as np
 from numpy.typing import NDArray
 
-from solver.assembly import PASS_EDGE, PASS_PULLEY, System
+from solver.system import PASS_EDGE, PASS_PULLEY, System
 
 FloatArray = NDArray[np.float64]
 

@@ -17,7 +17,7 @@ import numpy as np
 
 def part_spans(xy: np.ndarray, gather: np.ndarray, starts: np.ndarray) -> np.ndarray:
     """Span (m) of each part, at least 1 mm as the part sizes: the points of part c are
-    ``xy[gather[starts[c]:starts[c + 1]]]``, each listed once (``assembly._size_groups``)."""
+    ``xy[gather[starts[c]:starts[c + 1]]]``, each listed once (``solver.structure.size_groups``)."""
     if len(starts) == 0:
         return np.zeros(0)
     pts = xy[gather]

@@ -18,6 +18,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from solver.danger import pieces, positions
+from solver.errors import RopewrightError
+from solver.materials import material_for
 from solver.model import Rig
 from solver.result import Result, Warning_
 
@@ -42,10 +44,11 @@ class LinePoint:
 
 
 def _kind(rig: Rig, material_id: str) -> str | None:
-    from solver.checks import _material  # the spec lookup the other checks use (embedded, then library)
-
-    mat = _material(rig, material_id)
-    return None if mat is None else mat.kind
+    """The kind of a rope's material (embedded spec first, then the library), or None when it is not known."""
+    try:
+        return material_for(rig, material_id).kind
+    except RopewrightError:
+        return None
 
 
 def line_points(rig: Rig) -> list[LinePoint]:

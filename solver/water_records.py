@@ -15,6 +15,7 @@ from typing import Mapping
 
 import numpy as np
 
+from solver.records import anchor_record
 from solver.result import Result, SegmentResult, record
 from solver.water_drag import body_drag
 from solver.water_result import BodyDrag, WaterResult, WetRope
@@ -22,13 +23,11 @@ from solver.water_site import point_sides
 
 
 def _anchor(fx: float, fy: float, old, sf: float):
-    from solver.equilibrium import _anchor as anchor_record
-
     return anchor_record(fx, fy, old.capacity_N, sf, old.capacity_kind)
 
 
 def _user_id(plan, aug_id: str) -> str:
-    from solver.water import HIDDEN
+    from solver.water_forces import HIDDEN
 
     if not aug_id.startswith(HIDDEN):
         return aug_id
@@ -44,7 +43,7 @@ def _told(rig, plan, text: str) -> str:
     """``text`` with every hidden point named as a place on its rope (hidden ids never reach a person)."""
     import re
 
-    from solver.water import HIDDEN
+    from solver.water_forces import HIDDEN
 
     if HIDDEN not in text:
         return text
@@ -110,7 +109,7 @@ def _deflections(rig, plan, aug: Result, at: Mapping[str, tuple[float, float]]) 
 
 
 def _wet_ropes(plan, ff, at, by_chain, segments: list[SegmentResult]) -> list[WetRope]:
-    from solver.water import _drag_forces
+    from solver.water_forces import _drag_forces
 
     _, info = _drag_forces(plan, ff, at)
     out = []
@@ -144,7 +143,7 @@ def _wet_ropes(plan, ff, at, by_chain, segments: list[SegmentResult]) -> list[We
 
 def user_result(rig, plan, ff, aug: Result, forces: Mapping[str, np.ndarray], gap: float, rounds: int) -> Result:
     """``aug`` (the augmented rig's Result) told in ``rig``'s own points and ropes, with ``Result.water``."""
-    from solver.water import ACCEPT_REL, _scale
+    from solver.water_forces import ACCEPT_REL, _scale
 
     user_ids = {p.id for p in rig.points}
     at = dict(aug.points) if aug.points else {p.id: p.xy for p in plan.rig.points}

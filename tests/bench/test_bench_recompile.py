@@ -8,7 +8,7 @@ before, for comparison.  Goal: a whole drag step (solve + overlay) within a 16 m
 
 from __future__ import annotations
 
-from solver import equilibrium
+from solver import equilibrium, memo
 from solver.assembly import compile_rig, compile_topology, with_geometry
 from tests.bench.fifty_ropes import fifty_rope_rig
 
@@ -28,7 +28,7 @@ def _drag_steps():
 
 def _bench_drag(benchmark):
     rig, steps = _drag_steps()
-    equilibrium._CACHE.clear()
+    memo.COMPILED.clear()
     first = equilibrium.solve(rig)
     assert first.ok, first.message
     start0 = {k: (float(v[0]), float(v[1])) for k, v in first.points.items()}
@@ -45,10 +45,10 @@ def _bench_drag(benchmark):
     assert all(r.ok for r in results), next(r.message for r in results if not r.ok)
     # the last step solved through the cache equals a fresh solve of that rig from the same start
     before = results[-2]
-    equilibrium._CACHE.clear()
+    memo.COMPILED.clear()
     fresh = equilibrium.solve(steps[-1], start={k: (float(v[0]), float(v[1])) for k, v in before.points.items()})
     assert repr(fresh) == repr(results[-1])
-    equilibrium._CACHE.clear()
+    memo.COMPILED.clear()
 
 
 def test_bench_drag_fifty_ropes_geometry_update(benchmark):

@@ -8,7 +8,8 @@ from dataclasses import replace
 import pytest
 
 from sketchpad.document import Document
-from sketchpad.live_solve import MAX_DELAY_MS, SolveScheduler, failure_text, subject_keys, warm_start
+from sketchpad.live_solve import MAX_DELAY_MS, SolveScheduler, subject_keys, warm_start
+from sketchpad.messages import failure_text
 from solver.analysis import analyse
 from solver.result import Result
 from tests import rigs

@@ -5,7 +5,7 @@ from __future__ import annotations
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from sketchpad.overlay import ObstacleCache, _Grid, _marker_rect, _piece_samples
+from sketchpad.overlay.placement import ObstacleCache, _Grid, _marker_rect, _piece_samples
 
 FRAME = (20.0, 20.0, 300.0, 200.0)
 

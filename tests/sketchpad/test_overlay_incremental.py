@@ -565,7 +565,7 @@ def test_the_legend_painted_by_the_view_shows_in_the_frame_where_its_key_says_an
 def test_placement_memo_lent_between_drag_steps_equals_a_fresh_memo_and_grid_cells_equal_fresh_cells(main_window):
     """The overlay's placement memo (entries lent on from the last step) equals one made afresh from the
     labels at every drag step, also after zooms (labels placed afresh); the grid's remembered cells equal a fresh count."""
-    from sketchpad.overlay import _Grid, placement_memo
+    from sketchpad.overlay.placement import _Grid, placement_memo
     from tests.sketchpad.test_drag_layer import fifty_rope_window
 
     doc, sched, view = fifty_rope_window(main_window)  # every step below is part of one drag

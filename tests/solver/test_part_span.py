@@ -15,7 +15,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from solver import equilibrium
-from solver.assembly import _size_groups
+from solver.structure import size_groups as _size_groups
 from solver.part_span import part_spans
 from tests import rigs
 from tests.solver.test_solver_properties import random_rigs

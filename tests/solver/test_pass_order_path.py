@@ -20,7 +20,7 @@ from dataclasses import replace
 import numpy as np
 import pytest
 
-from solver import equilibrium
+from solver import equilibrium, memo
 from tests.bench.test_bench_solver import vector_pull_rig
 
 
@@ -36,7 +36,7 @@ def test_a_ring_pulled_past_an_anchor_warm_and_cold_agree_and_balance_along_the_
     f0 = rig.forces[0]
     step = replace(rig, forces=(replace(f0, magnitude_N=magnitude, direction_deg=direction),))
     warm = equilibrium.solve(step, start=_start(first))
-    equilibrium._CACHE.clear()
+    memo.COMPILED.clear()
     cold = equilibrium.solve(step)
     assert cold.ok and warm.ok, (cold.message, warm.message)
     for res in (warm, cold):
@@ -88,7 +88,7 @@ def test_a_warm_result_the_guard_refuses_is_solved_cold(monkeypatch):
     rig = _guard_rig()
     cold = equilibrium.solve(rig)
     before = _start(equilibrium.solve(vector_pull_rig(200.0)))
-    equilibrium._CACHE.clear()
+    memo.COMPILED.clear()
     calls = []
     real = pass_order.inconsistent
 

@@ -21,7 +21,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from solver import assembly, equilibrium
+from solver import equilibrium, memo
 from solver.assembly import GEOMETRY_FIELDS, System, compile_rig, compile_topology, same_structure, with_geometry
 from solver.errors import RigModelError
 from solver.model import Point, Rig
@@ -58,9 +58,9 @@ RIGS = _all_rigs()
 
 @pytest.fixture(autouse=True)
 def _fresh_cache():
-    equilibrium._CACHE.clear()
+    memo.COMPILED.clear()
     yield
-    equilibrium._CACHE.clear()
+    memo.COMPILED.clear()
 
 
 def assert_same_system(got: System, want: System) -> None:
@@ -80,11 +80,11 @@ def assert_same_system(got: System, want: System) -> None:
 
 def fresh_solve(rig: Rig, **kw):
     """``solve`` with nothing cached, i.e. after a full compile."""
-    equilibrium._CACHE.clear()
+    memo.COMPILED.clear()
     try:
         return equilibrium.solve(rig, **kw)
     finally:
-        equilibrium._CACHE.clear()
+        memo.COMPILED.clear()
 
 
 def structural_ids(rig: Rig) -> list[str]:
@@ -124,24 +124,24 @@ def test_solving_a_moved_copy_after_the_original_gives_the_result_of_a_fresh_sol
         for start in (None, warm(base)) if base.ok else (None,):  # cold, and warm-started as a drag step is
             want = fresh_solve(moved, start=start)
             equilibrium.solve(rig)  # the original is compiled and cached ...
-            topo = equilibrium._CACHE[0][3]
+            topo = memo.COMPILED[0][3]
             got = equilibrium.solve(moved, start=start)  # ... and the moved copy is solved from its topology
-            assert equilibrium._CACHE[0][3] is topo, "the moved copy was compiled from scratch"
+            assert memo.COMPILED[0][3] is topo, "the moved copy was compiled from scratch"
             assert repr(got) == repr(want)
-            equilibrium._CACHE.clear()
+            memo.COMPILED.clear()
 
 
 def test_a_drag_of_successive_moved_copies_solves_each_step_as_a_fresh_solve_would():
     rig = fifty_rope_rig()
     first = equilibrium.solve(rig)
     assert first.ok, first.message
-    topo = equilibrium._CACHE[0][3]
+    topo = memo.COMPILED[0][3]
     start, current, steps = warm(first), rig, []
     for k in range(6):
         g = current.point("G4")
         current = current.moved("G4", g.x + 0.05, g.y - 0.04)  # each step moved from the last, as a drag does
         res = equilibrium.solve(current, start=start)
-        assert equilibrium._CACHE[0][3] is topo
+        assert memo.COMPILED[0][3] is topo
         steps.append((current, dict(start), res))
         start = warm(res)
     for moved, begin, res in steps:
@@ -151,11 +151,11 @@ def test_a_drag_of_successive_moved_copies_solves_each_step_as_a_fresh_solve_wou
 def test_the_rebuilt_system_carries_no_state_the_solver_left_on_an_earlier_one():
     rig = fifty_rope_rig()
     assert equilibrium.solve(rig).ok
-    old = equilibrium._CACHE[0][2]
+    old = memo.COMPILED[0][2]
     assert "_run_tension_fixed" in old.__dict__  # the solver cached its constants on that System
     old.soft = np.full(old.n_runs, 0.5)  # as if a soft start had been left in force
     moved = rig.moved("G2", 59.0, 14.2)
-    new = with_geometry(equilibrium._CACHE[0][3], moved)
+    new = with_geometry(memo.COMPILED[0][3], moved)
     assert new is not old and new.soft is None
     assert set(new.__dict__) == {f.name for f in fields(System)}
     assert new.rig is moved and new.points[structural_ids(moved).index("G2")] is moved.point("G2")
@@ -274,12 +274,12 @@ def test_a_change_of_structure_is_compiled_afresh(change):
     rig = RIGS["thirty-points"]
     changed, motion = _structure_changes(rig)[change]
     equilibrium.solve(rig)
-    topo = equilibrium._CACHE[0][3]
+    topo = memo.COMPILED[0][3]
     assert not same_structure(topo, changed, motion)
     moved = changed.moved("G", 5.6, 3.4)  # moved as well: still not the cached structure
     assert not same_structure(topo, moved, motion)
     got = equilibrium.solve(moved, motion=motion)
-    assert equilibrium._CACHE[0][3] is not topo
+    assert memo.COMPILED[0][3] is not topo
     assert repr(got) == repr(fresh_solve(moved, motion=motion))
 
 
@@ -295,11 +295,11 @@ def test_a_weighted_rig_turned_from_elevation_to_plan_is_compiled_afresh():
 def test_a_structure_compiled_for_one_motion_is_reused_for_that_motion_only():
     rig = RIGS["thirty-points"]
     equilibrium.solve(rig, motion="hold")
-    topo = equilibrium._CACHE[0][3]
+    topo = memo.COMPILED[0][3]
     moved = rig.moved("G", 5.6, 3.4)
     assert same_structure(topo, moved, "hold") and not same_structure(topo, moved, None)  # the file says haul
     equilibrium.solve(moved)
-    assert equilibrium._CACHE[0][3] is not topo and equilibrium._CACHE[0][3].motion == "haul"
+    assert memo.COMPILED[0][3] is not topo and memo.COMPILED[0][3].motion == "haul"
 
 
 # --- random moves ----------------------------------------------------------------------
@@ -346,10 +346,10 @@ def test_random_moves_solve_to_the_result_of_a_fresh_solve(case):
     rig, moved = case
     want = fresh_solve(moved)
     equilibrium.solve(rig)
-    topo = equilibrium._CACHE[0][3]
+    topo = memo.COMPILED[0][3]
     got = equilibrium.solve(moved)
     if got.status != "invalid":
-        assert equilibrium._CACHE[0][3] is topo
+        assert memo.COMPILED[0][3] is topo
     assert repr(got) == repr(want)
 
 
@@ -357,5 +357,5 @@ def test_the_cache_stays_small():
     rig = RIGS["thirty-points"]
     for k in range(10):
         equilibrium.solve(rig.moved("G", 5.5 + 0.01 * k, 3.5))
-    assert len(equilibrium._CACHE) <= equilibrium._CACHE_SIZE
-    assert len(assembly._TOPOLOGY_CACHE) <= assembly._TOPOLOGY_CACHE_SIZE
+    assert len(memo.COMPILED) <= memo.COMPILED.size
+    assert len(memo.TOPOLOGIES) <= memo.TOPOLOGIES.size

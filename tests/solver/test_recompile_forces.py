@@ -16,7 +16,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from solver import equilibrium
+from solver import equilibrium, memo
 from solver.assembly import compile_rig, compile_topology, same_structure, with_forces, with_geometry
 from solver.model import Force
 from tests.bench.test_bench_solver import thirty_point_rig, vector_pull_rig
@@ -25,9 +25,9 @@ from tests.solver.test_recompile import RIGS, assert_same_system, fresh_solve
 
 @pytest.fixture(autouse=True)
 def _fresh_cache():
-    equilibrium._CACHE.clear()
+    memo.COMPILED.clear()
     yield
-    equilibrium._CACHE.clear()
+    memo.COMPILED.clear()
 
 
 def _force_edits(rig):
@@ -65,11 +65,11 @@ def test_a_force_edit_is_served_from_the_cached_structure_and_solves_as_a_fresh_
     assert base.ok, base.message
     for label, edited in _force_edits(rig).items():
         equilibrium.solve(rig)
-        template = equilibrium._CACHE[0][3].template
+        template = memo.COMPILED[0][3].template
         got = equilibrium.solve(edited, start=dict(base.points))
-        assert equilibrium._CACHE[0][3].template.a is template.a, f"{label}: compiled from scratch"
+        assert memo.COMPILED[0][3].template.a is template.a, f"{label}: compiled from scratch"
         assert repr(got) == repr(fresh_solve(edited, start=dict(base.points))), label
-        equilibrium._CACHE.clear()
+        memo.COMPILED.clear()
 
 
 def test_a_force_with_no_proper_size_is_refused_in_the_same_words():

@@ -7,7 +7,7 @@ import math
 
 import numpy as np
 
-from solver import equilibrium
+from solver import memo
 from solver.equilibrium import solve
 from tests import rigs
 from tests.bench.fifty_ropes import fifty_rope_rig
@@ -16,10 +16,7 @@ from tests.bench.test_bench_solver import vector_pull_rig
 
 def _fresh(rig, start, ideal=False):
     """The same solve with nothing kept from an earlier Result."""
-    for rows in (equilibrium._POINT_ROWS, equilibrium._SEGMENT_ROWS, equilibrium._ANCHOR_ROWS, equilibrium._LOAD_ROWS,
-                 equilibrium._TURN_ROWS):
-        rows.forget()
-    equilibrium._LAST_HAUL[0] = None
+    memo.forget_results()
     return solve(rig, start=start, ideal=ideal)
 
 
@@ -80,18 +77,18 @@ def test_a_new_haul_force_is_never_read_from_the_kept_haul_forces():
 
 def test_a_few_rows_are_made_afresh_and_enough_rows_are_kept():
     # a handful of records costs less to make than to compare, so a small rig keeps nothing...
-    memo = equilibrium._LastRows()
+    kept = memo.LastRows()
     key = (("P1", "P2"), 1.5)
-    few = np.arange(2.0 * (equilibrium.MIN_ROWS - 1)).reshape(-1, 2)
-    memo.keep(key, few, list(range(len(few))))
-    assert memo.changed(key, few) == (None, None)
+    few = np.arange(2.0 * (memo.MIN_ROWS - 1)).reshape(-1, 2)
+    kept.keep(key, few, list(range(len(few))))
+    assert kept.changed(key, few) == (None, None)
     # ...while a rig with enough rows hands on the values of its unchanged rows
-    rows = np.arange(2.0 * equilibrium.MIN_ROWS).reshape(-1, 2)
+    rows = np.arange(2.0 * memo.MIN_ROWS).reshape(-1, 2)
     values = list(range(len(rows)))
-    memo.keep(key, rows, values)
+    kept.keep(key, rows, values)
     moved_rows = rows.copy()
     moved_rows[3, 1] = -moved_rows[3, 1]
-    old, moved = memo.changed(key, moved_rows)
+    old, moved = kept.changed(key, moved_rows)
     assert old is values and moved.tolist() == [i == 3 for i in range(len(rows))]
 
 

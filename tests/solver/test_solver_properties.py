@@ -533,14 +533,16 @@ def test_a_pulley_friction_cannot_draw_up_stays_where_its_ropes_hold_it():
 def test_a_solve_that_stops_at_a_jammed_pass_names_it():
     # Were the jam not settled, the failure must say where the pass jams, not send the rigger
     # looking for an unheld part: the Result of the solved state, reported as not converged.
-    from solver.assembly import contact_stiffness, evaluate
-    from solver.equilibrium import _build_result, _compiled, _Solved, _start_x
+    from solver.equilibrium import _compiled, _start_x
+    from solver.evaluate import contact_stiffness, evaluate
+    from solver.outcome import Solved
+    from solver.records import build_result
 
     rig = _pass_jammed_into_a_knot("hold")
     res = solve(rig)
     s = _compiled(rig, "hold")
     state = evaluate(s, _start_x(s, res.points), None, contact_stiffness(s))
-    failed = _build_result(s, _Solved(state, state, 7, False, None, s.ones), "hold")
+    failed = build_result(s, Solved(state, state, 7, False, None, s.ones), "hold")
     assert failed.status == "diverged"
     assert 'on rope "r5" the pass at "P2" runs into "P3" (two-blocked)' in failed.message
     assert "nothing holds" not in failed.message

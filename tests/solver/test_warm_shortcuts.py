@@ -3,7 +3,7 @@
 A drag step moves one part of a rig; the solver then builds the tangent of that part alone
 (``assembly.part_tangent``) instead of the whole matrix sliced to the part, re-evaluates the
 frictionless state at the friction answer from that answer's geometry (``assembly.reweighted``)
-and, in the run-tension iteration, reads the curve's law directly (``assembly._law``).  The
+and, in the run-tension iteration, reads the curve's law directly (``solver.laws.law``).  The
 reference of each is the full computation it replaces, at random geometries, with friction,
 softened ropes and closed spacing contacts; equality is ``np.array_equal`` (every bit).
 """
@@ -17,10 +17,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from solver import assembly, friction
+from solver import assembly, friction, laws
 from solver.assembly import compile_rig, contact_stiffness, evaluate, part_tangent, reweighted, tangent_values
-from solver.equilibrium import _soft_factors
 from solver.rigfile import load_rig
+from solver.strategies import soft_factors
 from solver.stretch import StretchCurve
 from tests import rigs
 from tests.bench.fifty_ropes import fifty_rope_rig
@@ -66,7 +66,7 @@ def _states(s, motion, rng):
         if closed:
             x = _closed_up(s, x)
         w = friction.weights(s, evaluate(s, x).u, motion)
-        for soft in (None, _soft_factors(s)):
+        for soft in (None, soft_factors(s)):
             s.soft = soft
             try:
                 out.append((evaluate(s, x, None, kc), soft))
@@ -128,7 +128,7 @@ def test_a_materials_law_as_a_function_is_by_material(method):
             for kappa in (None, rng.uniform(0.01, 1.0, size=s.n_pieces)):
                 if positive and method == "tension":
                     continue
-                got = assembly._law(s, s.piece_mat, kappa, method, positive)(values)
+                got = laws.law(s, s.piece_mat, kappa, method, positive)(values)
                 want = assembly.by_material(s, s.piece_mat, values, method, kappa)
                 assert np.array_equal(np.broadcast_to(got, want.shape), want), (method, positive)
 

@@ -1,0 +1,143 @@
+"""File > "Export drawing…" and "Export report…": the menu actions, their save dialogs and messages.
+
+The drawing (:mod:`sketchpad.export`) and the report (:mod:`sketchpad.report`) are written by their
+own modules; this one only asks where and says how it went.
+"""
+
+from __future__ import annotations
+
+import logging
+import pathlib
+
+from sketchpad.export import ExportError, export_drawing
+from sketchpad.messages import failure_sentence
+from sketchpad.report import write_report
+
+log = logging.getLogger(__name__)
+
+DRAWING_FILTER = "PNG picture (*.png);;SVG drawing (*.svg);;PDF page (*.pdf)"
+REPORT_FILTER = "PDF report (*.pdf)"
+
+
+def _ask_save_path(parent, title: str, start: str, filters: str) -> pathlib.Path | None:
+    """A save dialog (nothing without a screen: a modal box would wait forever)."""
+    from PySide6.QtGui import QGuiApplication
+    from PySide6.QtWidgets import QFileDialog
+
+    if QGuiApplication.platformName() in ("offscreen", "minimal"):
+        return None
+    path, _ = QFileDialog.getSaveFileName(parent, title, start, filters)
+    return pathlib.Path(path) if path else None
+
+
+def _show_message(parent, title: str, text: str, error: bool) -> None:
+    from PySide6.QtGui import QGuiApplication
+
+    from sketchpad.plain_text import inform, warn
+
+    if QGuiApplication.platformName() in ("offscreen", "minimal"):
+        (log.warning if error else log.info)("%s: %s", title, text)
+        return
+    (warn if error else inform)(parent, title, text)
+
+
+class ExportActions:
+    """File > "Export drawing…" and "Export report…" for a main window.
+
+    ``ask_path(parent, title, start, filters) -> Path | None`` and
+    ``show(parent, title, text, error)`` are the dialogs; tests replace them.
+    Exports use the document's current rig, analysed afresh, and never change it.
+    """
+
+    def __init__(self, window, ask_path=None, show=None) -> None:
+        from PySide6.QtGui import QAction
+
+        self.window = window
+        self.ask_path = ask_path or _ask_save_path
+        self.show = show or _show_message
+        self.last_message = ""
+        self.action_drawing = QAction("Export &drawing…", window)
+        self.action_drawing.setStatusTip("Save the sketch with its forces as a PNG, SVG or PDF page")
+        self.action_drawing.triggered.connect(lambda _c=False: self.export_drawing())
+        self.action_report = QAction("Export &report…", window)
+        self.action_report.setStatusTip("Save a PDF report: drawing, forces, safety factors, assumptions")
+        self.action_report.triggered.connect(lambda _c=False: self.export_report())
+        menu, before = window.menu_file, getattr(window, "action_quit", None)
+        menu.insertSeparator(before)
+        menu.insertAction(before, self.action_drawing)
+        menu.insertAction(before, self.action_report)
+        menu.insertSeparator(before)
+
+    def _start(self, suffix: str) -> str:
+        doc = self.window.document
+        path = getattr(doc, "path", None)
+        if path is not None:
+            name = path.name[: -len(".rig.json")] if path.name.endswith(".rig.json") else path.stem
+            return str(path.with_name(name + suffix))
+        return str(pathlib.Path.home() / ("rig" + suffix))
+
+    def _rig_dir(self) -> pathlib.Path | None:
+        path = getattr(self.window.document, "path", None)
+        return path.parent if path is not None else None
+
+    def _say(self, text: str, error: bool = False) -> None:
+        self.last_message = text
+        try:
+            self.window.statusBar().showMessage(text, 8000)
+        except RuntimeError:
+            pass
+        if error:
+            self.show(self.window, "Export", text, True)
+
+    def export_drawing(self, path: pathlib.Path | str | None = None) -> pathlib.Path | None:
+        """Ask where (unless given) and write the drawing; None if cancelled or failed (the user is told why)."""
+        path = path or self.ask_path(self.window, "Export drawing", self._start(".png"), DRAWING_FILTER)
+        if not path:
+            return None
+        path = pathlib.Path(path)
+        if not path.suffix:
+            path = path.with_suffix(".png")
+        doc = self.window.document
+        try:
+            drawing = export_drawing(doc.rig, path, rig_dir=self._rig_dir(),
+                                     source=str(doc.path) if getattr(doc, "path", None) else None)
+        except (ExportError, OSError) as exc:
+            self._say(f"Could not export the drawing: {exc}", error=True)
+            return None
+        if drawing.result.ok:
+            self._say(f"Drawing saved to {path}")
+        else:
+            self._say(f"Drawing saved to {path} without forces: {failure_sentence(doc.rig, drawing.result)}")
+        return path
+
+    def pdf_path(self, path, title: str, suffix: str, filters: str = REPORT_FILTER) -> pathlib.Path | None:
+        """``path``, or the one the user picks (None if cancelled), ending in .pdf."""
+        path = path or self.ask_path(self.window, title, self._start(suffix), filters)
+        if not path:
+            return None
+        path = pathlib.Path(path)
+        return path if path.suffix.lower() == ".pdf" else path.with_name(path.name + ".pdf")
+
+    def export_report(self, path: pathlib.Path | str | None = None) -> pathlib.Path | None:
+        """Ask where (unless given) and write the PDF report; None if cancelled or failed."""
+        path = self.pdf_path(path, "Export report", "-report.pdf")
+        if path is None:
+            return None
+        doc = self.window.document
+        try:
+            report = write_report(doc.rig, path, rig_dir=self._rig_dir(),
+                                  source=str(doc.path) if getattr(doc, "path", None) else None)
+        except (ExportError, OSError) as exc:
+            self._say(f"Could not write the report: {exc}", error=True)
+            return None
+        extra = "" if report.result.ok else " (the rig did not solve: the report says so and gives no forces)"
+        self._say(f"Report saved to {path}, {report.pages} page{'s' if report.pages != 1 else ''}{extra}")
+        return path
+
+
+def install_export_actions(window, ask_path=None, show=None) -> ExportActions:
+    """Add "Export drawing…" and "Export report…" to ``window``'s File menu (above Quit)."""
+    return ExportActions(window, ask_path, show)
+
+
+__all__ = ["ExportActions", "install_export_actions"]
