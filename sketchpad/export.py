@@ -100,7 +100,7 @@ class Drawing:
     """
 
     def __init__(self, rig: Rig, result: Result | None = None, rig_dir: pathlib.Path | None = None,
-                 layers: Iterable[str] | None = None) -> None:
+                 layers: Iterable[str] | None = None, scan_failures: bool = False) -> None:
         from sketchpad.canvas import SketchScene
         from sketchpad.overlay import LAYERS, ZoneItem
 
@@ -125,6 +125,7 @@ class Drawing:
         self.scene.addItem(self.water_item)
         self.water_item.show(rig, result)
         self.zones: list = []
+        self.scan = None  # the failure scan drawn (solver.failures.Scan), once one is
         self.pieces: list = []
         self.skipped = 0
         self.fit: Fit | None = None
@@ -137,9 +138,32 @@ class Drawing:
                 except Exception:  # noqa: BLE001 - a zone bug must not hide the forces
                     log.exception("danger zones failed")
             self.zones_item.set_zones(self.zones)
+            if scan_failures:
+                from solver.failures import scan
+
+                self.use_scan(scan(rig, result))
         elif result.subject and rig.has_point(result.subject):
             p = rig.point(result.subject)
             self.force_item.fail_point = (p.x, -p.y)
+
+    @property
+    def computed_zones(self) -> bool:
+        """Whether the zones drawn are a failure scan's computed areas (not the fixed quick shapes)."""
+        return any(z.kind == "failure" for z in self.zones)
+
+    def use_scan(self, scan) -> None:
+        """Draw a failure scan's computed areas (solver.failures.Scan) in place of the fixed bight shapes, and
+        give the person warnings the failures' names, so drawing, key and warnings tell one story."""
+        from solver.failure_warnings import plan_zones
+        from solver.scan_warnings import scanned_result
+
+        if not scan.ok:
+            return  # no scan (the reason is the scan's): the quick shapes stay, worded as the quick estimate
+        self.scan = scan
+        self.result = scanned_result(self.result, scan)
+        if "zones" in self.layers:
+            self.zones = plan_zones(scan)
+            self.zones_item.set_zones(self.zones)
 
     def _background(self, rig: Rig, rig_dir: pathlib.Path | None) -> None:
         if rig.site.image is None:
@@ -366,26 +390,6 @@ def paint_ramp(painter: QPainter, rect: QRectF, grey: bool = False) -> float:
     return ramp.bottom() + 3 + fm.height() - rect.top()
 
 
-def paint_zone_key(painter: QPainter, left: QPointF, zones: Iterable = ()) -> float:
-    """Swatches of the danger-zone kinds drawn (computed failure areas once scanned); returns the height used."""
-    fm = QFontMetricsF(page_font(SMALL_PT))
-    x, y = left.x(), left.y()
-    painter.setFont(page_font(SMALL_PT))
-    computed = any(z.kind == "failure" for z in zones)
-    for kind, name in (theme.COMPUTED_ZONE_NAMES if computed else theme.DRAWN_ZONE_NAMES):
-        fill, hatch = theme.zone_brushes(kind)
-        box = QRectF(x, y + 1, 16, fm.height() - 2)
-        painter.setPen(theme.pixel_pen(theme.ZONE_COLOURS[kind], 1.0))
-        painter.setBrush(fill)
-        painter.drawRect(box)
-        painter.setBrush(hatch)
-        painter.drawRect(box)
-        painter.setPen(INK)
-        painter.drawText(QPointF(x + 20, y + fm.ascent()), name)
-        x += 20 + fm.horizontalAdvance(name) + 14
-    return fm.height() + 2
-
-
 def rope_lines(rig: Rig) -> list[tuple[QColor, str]]:
     """(colour, "name: material") of every rope, in the order and colours the canvas uses."""
     from solver.materials import material_for
@@ -474,16 +478,18 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
     y += 6
     from sketchpad.pages.symbol_key import paint_symbol_key
 
-    y += paint_symbol_key(painter, QRectF(x, y, w, 0)) + 4
+    from sketchpad.pages.zone_names import paint_failure_key
+
+    y += paint_symbol_key(painter, QRectF(x, y, w, 0), computed=drawing.computed_zones) + 4
+    y += paint_failure_key(painter, QRectF(x, y, w, 0), drawing.zones) + 2
     y += paint_rope_key(painter, QRectF(x, y, w, 0), rig) + 6
     if result.ok:
         y += paint_ramp(painter, QRectF(x, y, w, 0)) + 4
-        if any(z.kind == "failure" for z in drawing.zones):  # computed failure areas: not in the symbol key
-            y += paint_zone_key(painter, QPointF(x, y), drawing.zones) + 4
     # caution at the bottom; warnings fill what is left above it
     caution_h = wrap_text(painter, QRectF(x, 0, w, 0), caution, page_font(SMALL_PT, italic=True), draw=False)
     bottom = inner.bottom() - caution_h - 6
-    warnings = list(result.warnings)
+    # danger first (a person in a failure's path), then warnings, then notes: the room may run out
+    warnings = sorted(result.warnings, key=lambda wn: {"danger": 0, "warning": 1}.get(wn.severity, 2))
     if warnings:
         y += 4
         painter.setPen(theme.pixel_pen(RULE, 1.0))
@@ -523,23 +529,27 @@ def paint_key_strip(painter: QPainter, rect: QRectF, drawing: Drawing) -> None:
                              rig.display.length) + 24
     ramp_w = 200.0
     if drawing.result.ok:
-        rx = rect.right() - ramp_w
-        h = paint_ramp(painter, QRectF(rx, y, ramp_w, 0))
-        if any(z.kind == "failure" for z in drawing.zones):  # computed failure areas: not in the symbol key
-            paint_zone_key(painter, QPointF(rx, y + h + 2), drawing.zones)
-    paint_symbol_key(painter, QRectF(rect.left(), y + s + fm.height() + 4, rect.width(), 0))
+        paint_ramp(painter, QRectF(rect.right() - ramp_w, y, ramp_w, 0))
+    from sketchpad.pages.zone_names import paint_failure_key
+
+    y += s + fm.height() + 4
+    y += paint_symbol_key(painter, QRectF(rect.left(), y, rect.width(), 0), computed=drawing.computed_zones)
+    paint_failure_key(painter, QRectF(rect.left(), y, rect.width(), 0), drawing.zones)
     painter.restore()
 
 
-def key_strip_height(width: float) -> float:
-    """Height :func:`paint_key_strip` takes in ``width`` px."""
+def key_strip_height(width: float, drawing: Drawing | None = None) -> float:
+    """Height :func:`paint_key_strip` takes in ``width`` px (with ``drawing``'s failure-area names, if any)."""
     from sketchpad.pages.symbol_key import symbol_key_height
+    from sketchpad.pages.zone_names import paint_failure_key
 
     image = QImage(8, 8, QImage.Format_ARGB32_Premultiplied)
     painter = QPainter(image)
     try:
+        computed = drawing is not None and drawing.computed_zones
+        names = 0.0 if drawing is None else paint_failure_key(painter, QRectF(0, 0, width, 0), drawing.zones, False)
         return theme.NORTH_ARROW_PX * 0.8 + QFontMetricsF(page_font(TEXT_PT)).height() + 4 + \
-            symbol_key_height(painter, width)
+            symbol_key_height(painter, width, computed=computed) + names
     finally:
         painter.end()
 
@@ -704,7 +714,7 @@ def export_drawing(rig: Rig, path: pathlib.Path | str, size: tuple[int, int] | N
         raise ExportError(f"the folder {path.parent} does not exist")
     refuse_undrawable(rig)
     ensure_app()
-    drawing = Drawing(rig, result, rig_dir, layers)
+    drawing = Drawing(rig, result, rig_dir, layers, scan_failures=True)
     title, subtitle = _titles(rig, source, now)
     if fmt == "png":
         render_png(drawing, path, size or DEFAULT_SIZE, title, subtitle)

@@ -421,7 +421,7 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
     if rig.notes:
         flow.text("Notes: " + rig.notes, page_font(BODY_PT, italic=True), gap=6)
 
-    key_h = key_strip_height(flow.width) + 8
+    key_h = key_strip_height(flow.width, drawing) + 8
 
     def paint_drawing(p: QPainter, r: QRectF) -> None:
         draw_r = QRectF(r.left(), r.top(), r.width(), r.height() - key_h)
@@ -481,7 +481,7 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
         failures.add_to(flow)
     from sketchpad.pages.sections import add_sections
 
-    add_sections(flow, rig, result)  # schematic, people and roles, rope lengths, gear list
+    add_sections(flow, rig, result, drawing.zones if drawing.scan else None)  # schematic, people and roles, rope lengths, gear list
     flow.heading("Assumptions")
     for line in assumption_lines(rig):
         flow.text("• " + line, page_font(SMALL_PT), indent=4, gap=2)
@@ -527,6 +527,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     failures = failure_section(rig, result)
     if failures is not None:
         failures.draw_zones_on(drawing)
+        result = drawing.result  # person warnings named by the failure that puts them in a zone
     plots: dict[float, tuple[QImage | None, str]] = {}
 
     def plot_for(h: float) -> tuple[QImage | None, str] | None:

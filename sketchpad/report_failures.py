@@ -38,12 +38,9 @@ class FailureSection:
     people: list[Warning_]
 
     def draw_zones_on(self, drawing) -> None:
-        """Give the report's drawing (sketchpad.export.Drawing) the computed zones the app's plan shows."""
-        from solver.failure_warnings import plan_zones
-
-        if self.scan.ok and drawing.zones:  # only where the drawing shows zones at all
-            drawing.zones = plan_zones(self.scan)
-            drawing.zones_item.set_zones(drawing.zones)
+        """Give the report's drawing (sketchpad.export.Drawing) the computed zones the app's plan shows, and its
+        result the failure-named person warnings (read the result back from ``drawing.result``)."""
+        drawing.use_scan(self.scan)
 
     def add_to(self, flow) -> None:
         """Append the section to a report page flow (sketchpad.report.Flow)."""

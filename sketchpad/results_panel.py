@@ -161,6 +161,10 @@ class ResultsPanel(QWidget):
             self._fill_hardware(shown_rig, shown)
         self._fill_warnings(result if result.ok or shown is None else shown, failed=None if result.ok else result)
 
+    def show_warnings(self, result: Result) -> None:
+        """Refill only the warnings list from a solved ``result`` (the failure scan renames the person warnings)."""
+        self._fill_warnings(result, failed=None)
+
     def _fill_segments(self, rig: Rig, result: Result) -> None:
         unit = rig.display.force
         rows = []

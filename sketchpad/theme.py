@@ -194,7 +194,7 @@ ANCHOR_ARROW_WIDTH_PX = 3.2
 ZONE_COLOURS: dict[str, QColor] = {"recoil": QColor(224, 120, 20), "bight": QColor(196, 28, 36),
                                    "failure": QColor(176, 20, 120)}  # painted in this order
 #: The zone key of the legend: the drawn shapes, and once the failure scan has run, the computed ones.
-DRAWN_ZONE_NAMES: tuple[tuple[str, str], ...] = (("bight", "inside of bight"), ("recoil", "recoil band"))
+DRAWN_ZONE_NAMES: tuple[tuple[str, str], ...] = (("bight", "bight (quick estimate)"), ("recoil", "recoil band"))
 COMPUTED_ZONE_NAMES: tuple[tuple[str, str], ...] = (("failure", "failure areas"),
                                                     ("recoil", "recoil band"))
 # the What-if ghost: one failure's outcome over the rig

@@ -3,7 +3,8 @@
 The scan (:func:`solver.failures.scan`) runs once the rig is still: after a settled result
 (the live solve's full analysis once a drag pauses), through a short single-shot timer,
 never during a drag.  Its computed areas replace the fixed bight shapes on the plan
-(:func:`solver.failure_warnings.plan_zones`); the rows are the legend of those shapes:
+(:func:`solver.failure_warnings.plan_zones`) and the Forces dock's person warnings name the failure
+that puts each person in a zone (:func:`solver.scan_warnings.scanned_result`); the rows are the legend of those shapes:
 selecting one outlines its area, draws the rig as it would hang after that failure
 (dashed), where points move, and what runs free.  People in a failure's path are listed
 with the failure that puts them there.  The panel shows numbers only; the solver computes them.
@@ -303,7 +304,7 @@ class WhatIf(QObject):
         if sched.pending:  # a newer solve is on its way: scan that one
             return None
         if self.scan is not None and self.scan.intact is result:
-            return self.scan  # already scanned (a repeat delivery of the same answer)
+            return self._show(self.scan, again=True)  # a repeat delivery of the same answer: no new scan
         from solver.failures import scan_steps
 
         self._steps = (rig, result, scan_steps(rig, result), [], len(components(rig)))
@@ -333,18 +334,28 @@ class WhatIf(QObject):
         self._steps = None
         return self._show(Scan(rig, result, tuple(done)))
 
-    def _show(self, s: Scan) -> Scan:
+    def _show(self, s: Scan, again: bool = False) -> Scan:
         from solver.failure_warnings import plan_zones
 
         self.scan = s
-        self.scans += 1
-        self.panel.show_scan(s)
+        if not again:
+            self.scans += 1
+            self.panel.show_scan(s)
         overlay = self.live.overlay
         if s.ok and overlay.layers.get("zones", True):
             overlay.zones = plan_zones(s)
             overlay.zones_item.set_zones(overlay.zones)
             self._legend(theme.COMPUTED_ZONE_NAMES)
+        self._dock_warnings(s)
         return s
+
+    def _dock_warnings(self, s: Scan) -> None:
+        """The Forces dock's warnings with the fixed-bight person warnings swapped for the scan's failure-named ones."""
+        from solver.scan_warnings import scanned_result
+
+        sched = self.live.scheduler
+        if s.ok and sched.result is s.intact:
+            self.live.panel.show_warnings(scanned_result(s.intact, s))
 
     def _legend(self, names) -> None:
         legend = self.live.overlay.legend

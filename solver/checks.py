@@ -661,15 +661,19 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
         return []  # nobody to warn: the zones are left for whoever draws them
     if zones is None:
         zones = danger_zones(rig, result)
-    out = []
-    for pid, z in people_in_zones(rig, zones):
-        why = ("if the redirect or its anchor fails, the pulley and rope fly through there" if z.kind == "bight"
-               else "a failing or released rope whips through there")
-        out.append(Warning_(
-            "person-in-zone", f"{pid},{z.subject}",
-            f"{_name(rig, pid)} stands in the {z.label}: {why}. Move out of it.",
-            z.severity))
-    return out
+    return [person_zone_warning(rig, pid, z) for pid, z in people_in_zones(rig, zones)]
+
+
+def person_zone_warning(rig: Rig, pid: str, z: DangerZone) -> Warning_:
+    """The warning for person ``pid`` inside zone ``z``; a fixed bight shape says it is the quick estimate."""
+    from solver.scan_warnings import QUICK_ESTIMATE_NOTE
+
+    if z.kind == "bight":
+        text = (f"{_name(rig, pid)} stands in the {z.label}: if the redirect or its anchor fails, the pulley and "
+                f"rope fly through there ({QUICK_ESTIMATE_NOTE}). Move out of it.")
+    else:
+        text = f"{_name(rig, pid)} stands in the {z.label}: a failing or released rope whips through there. Move out of it."
+    return Warning_("person-in-zone", f"{pid},{z.subject}", text, z.severity)
 
 
 #: Checks that need solved forces, in report order.

@@ -92,7 +92,16 @@ def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -
         for rng_name, rng in (("haul", result.hold_haul_range), ("anchor", result.hold_anchor_range)):
             for k, r in rng.items():
                 parts.append(f"Hold range, {rng_name} {k}: {f(r.low)} to {f(r.high)}")
+        parts.append("\n" + quick_zone_line(rig, result))
     return closing(parts, [f"[{w.code}] {w.subject}: {w.message}" for w in result.warnings])
+
+
+def quick_zone_line(rig: Rig, result: Result) -> str:
+    """The fast path's zone legend: which shapes the person checks used, and where the computed ones are."""
+    from solver.scan_warnings import QUICK_ESTIMATE_NOTE
+
+    return (f"Danger zones checked here: a recoil band along each loaded piece and the inside of the bight at each "
+            f"loaded redirect — the bight is a {QUICK_ESTIMATE_NOTE}.")
 
 
 def closing(parts: list[str], warnings: list[str]) -> str:

@@ -60,13 +60,18 @@ def where_text(rig: Rig, pid: str) -> str:
     return f"{dist} {side} and {level} {q.name}"
 
 
-def placements(rig: Rig, result: Result | None) -> list[Placement]:
-    """Every person on the plan, in file order, with role, place and the zones around them."""
+def placements(rig: Rig, result: Result | None, zones: list | None = None) -> list[Placement]:
+    """Every person on the plan, in file order, with role, place and the zones around them.
+
+    ``zones`` are the zones drawn (the computed ones once a failure scan has run); by default the quick
+    shapes of :func:`solver.danger.danger_zones`.
+    """
     from shapely.geometry import Point as ShapelyPoint
 
-    zones = []
     known = result is not None and result.ok
-    if known:
+    if not known:
+        zones = []
+    elif zones is None:
         from solver.danger import danger_zones
 
         zones = danger_zones(rig, result)

@@ -83,14 +83,14 @@ def worst_lines(rig: Rig, result: Result) -> list[tuple[str, bool]]:
     return out
 
 
-def watch_lines(rig: Rig, result: Result) -> list[tuple[str, bool]]:
+def watch_lines(rig: Rig, result: Result, zones: list | None = None) -> list[tuple[str, bool]]:
     """(sentence, flagged) of what the team must watch: warnings, short ropes, people in a zone, edges."""
     from solver.gear import short_ropes
     from solver.roles import placements
     from solver.units import format_length
 
     out: list[tuple[str, bool]] = []
-    for pl in placements(rig, result):
+    for pl in placements(rig, result, zones):
         if pl.in_zone:
             out.append((f"{pl.name} ({pl.role}) stands INSIDE a danger zone: {', '.join(pl.zones)}. Move them.", True))
     for b in short_ropes(rig, result):
@@ -105,10 +105,10 @@ def watch_lines(rig: Rig, result: Result) -> list[tuple[str, bool]]:
     return out
 
 
-def role_lines(rig: Rig, result: Result) -> list[tuple[str, bool]]:
+def role_lines(rig: Rig, result: Result, zones: list | None = None) -> list[tuple[str, bool]]:
     from solver.roles import placements
 
-    out = [(f"{pl.name} — {pl.role}: {pl.where}; {pl.zone_text}.", pl.in_zone) for pl in placements(rig, result)]
+    out = [(f"{pl.name} — {pl.role}: {pl.where}; {pl.zone_text}.", pl.in_zone) for pl in placements(rig, result, zones)]
     return out or [("No people placed on the plan: give each role a place before hauling.", False)]
 
 
@@ -200,9 +200,10 @@ def paint_brief(painter: QPainter, page: QRectF, rig: Rig, result: Result, rig_d
                    (f" · {pathlib.Path(source).name}" if source else ""), page_font(SMALL_PT), MUTED) + 4
     # the rig up close, with its key
     body_h = content.bottom() - FOOTER_H - SIGN_OFF_H - 60 - y
-    key_h = key_strip_height(w) + 6
+    drawing = Drawing(rig, result, rig_dir, scan_failures=True)
+    result = drawing.result  # person warnings named by the failure that puts them in a zone
+    key_h = key_strip_height(w, drawing) + 6
     draw_h = max(body_h * DRAWING_FRACTION, 180.0)
-    drawing = Drawing(rig, result, rig_dir)
     layout.drawing = drawing
     draw_r = QRectF(x, y, w, draw_h)
     drawing.paint(painter, draw_r)
@@ -226,13 +227,13 @@ def paint_brief(painter: QPainter, page: QRectF, rig: Rig, result: Result, rig_d
     left.heading("Commands")
     left.lines([(f"{word} — {meaning}", False) for word, meaning in COMMANDS])
     left.heading("Roles and where they stand")
-    left.lines(role_lines(rig, result))
+    left.lines(role_lines(rig, result, drawing.zones if drawing.scan else None))
     left.heading("Gear")
     left.lines([(gear_line(rig, result), False)])
     right.heading("Worst loads and margins")
     right.lines(worst_lines(rig, result))
     right.heading("What to watch")
-    right.lines(watch_lines(rig, result))
+    right.lines(watch_lines(rig, result, drawing.zones if drawing.scan else None))
     # the cautions: always whole, across the page above the sign-off
     painter.setPen(RULE)
     painter.drawLine(QPointF(x, bottom + 3), QPointF(x + w, bottom + 3))

@@ -110,6 +110,7 @@ def _measure(writer, content: QRectF, chapter: Chapter, when: str) -> None:
     chapter.failures = failure_section(chapter.rig, chapter.result)
     if chapter.failures is not None:
         chapter.failures.draw_zones_on(chapter.drawing)
+        chapter.result = chapter.drawing.result  # person warnings named by the failure that puts them there
     table, drawn, words = haul_sweep(chapter.rig) if chapter.result.ok else (None, 0.0, "")
     stand_in = None
     if chapter.result.ok:

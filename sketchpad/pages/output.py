@@ -104,7 +104,7 @@ def render_pages_cli(args) -> int:
             def paint(p: QPainter, r: QRectF) -> None:
                 paint_schematic_page(p, r, rig, result, title, subtitle)
         else:
-            drawing = Drawing(rig, result, rig_dir)
+            drawing = Drawing(rig, result, rig_dir, scan_failures=True)
 
             def paint(p: QPainter, r: QRectF) -> None:
                 paint_page(p, r, drawing, title, subtitle)

@@ -65,36 +65,44 @@ def gear_table(rig: Rig, result: Result | None):
     return t
 
 
-def roles_table(rig: Rig, result: Result | None):
-    """Every person on the plan: role, where they stand, and whether that is inside a danger zone (flagged)."""
+def roles_table(rig: Rig, result: Result | None, zones: list | None = None):
+    """Every person on the plan: role, where they stand, and whether that is inside a danger zone (flagged).
+
+    ``zones``: the zones the drawing shows (the computed failure areas once scanned); default the quick shapes."""
     from sketchpad.pages.table import Table
     from solver.roles import placements
 
+    which = ("the area each component's failure sweeps (If something lets go)" if zones is not None
+             else "inside of a loaded bight (a quick estimate from a fixed shape)")
     t = Table("People and roles", ("Person", "Role", "Stands", "Danger zones"), [], (1.4, 1.4, 2.6, 2.2),
-              note="Zones: inside of a loaded bight, and the recoil band along loaded rope (see the drawing). "
+              note=f"Zones: {which}, and the recoil band along loaded rope (see the drawing). "
                    "Nobody stands in one while the rig is loaded.")
-    for n, pl in enumerate(placements(rig, result)):
+    for n, pl in enumerate(placements(rig, result, zones)):
         t.rows.append((pl.name, pl.role, pl.where, pl.zone_text))
         if pl.in_zone:
             t.flagged.add(n)
     return t
 
 
-def paint_schematic_block(painter: QPainter, rect: QRectF, rig: Rig, result: Result | None) -> None:
-    """The schematic with the key under it, framed (a figure for reports and the manual)."""
+def paint_schematic_block(painter: QPainter, rect: QRectF, rig: Rig, result: Result | None,
+                          computed: bool = False) -> None:
+    """The schematic with the key under it, framed (a figure for reports and the manual); ``computed``: the
+    document's drawing shows computed failure areas, so the key names them as its drawing's key does."""
     from sketchpad.pages.schematic import paint_schematic
     from sketchpad.pages.symbol_key import paint_symbol_key, symbol_key_height
 
-    key_h = symbol_key_height(painter, rect.width(), with_classes=False)
+    key_h = symbol_key_height(painter, rect.width(), with_classes=False, computed=computed)
     draw = QRectF(rect.left(), rect.top(), rect.width(), rect.height() - key_h - 4)
     paint_schematic(painter, draw, rig, result)
     painter.setPen(theme.PAGE_RULE)
     painter.setBrush(Qt.NoBrush)
     painter.drawRect(draw)
-    paint_symbol_key(painter, QRectF(rect.left(), draw.bottom() + 4, rect.width(), key_h), with_classes=False)
+    paint_symbol_key(painter, QRectF(rect.left(), draw.bottom() + 4, rect.width(), key_h), with_classes=False,
+                     computed=computed)
 
 
-def schematic_block_height(width: float, rig: Rig | None = None, result: Result | None = None) -> float:
+def schematic_block_height(width: float, rig: Rig | None = None, result: Result | None = None,
+                           computed: bool = False) -> float:
     """Height of the schematic figure with its key: as tall as the rig's frame asks at ``width`` (px),
     between ``SCHEMATIC_H_PX`` and ``SCHEMATIC_MAX_H_PX``, so a tall rig's strands have room for their labels."""
     from sketchpad.pages.framing import rig_frame
@@ -107,22 +115,23 @@ def schematic_block_height(width: float, rig: Rig | None = None, result: Result 
     image = QImage(8, 8, QImage.Format_ARGB32_Premultiplied)
     p = QPainter(image)
     try:
-        return h + symbol_key_height(p, width, with_classes=False) + 4
+        return h + symbol_key_height(p, width, with_classes=False, computed=computed) + 4
     finally:
         p.end()
 
 
-def add_sections(flow, rig: Rig, result: Result | None) -> None:
+def add_sections(flow, rig: Rig, result: Result | None, zones: list | None = None) -> None:
     """The schematic, people and roles, rope lengths and the gear list, flowed into a report."""
     from sketchpad.pages.schematic import caption
 
-    h = schematic_block_height(flow.width, rig, result)
+    computed = zones is not None and any(z.kind == "failure" for z in zones)
+    h = schematic_block_height(flow.width, rig, result, computed)
     flow.need(h + 40)  # the heading stays with its figure
     flow.heading("Schematic: strands side by side, tensions in units of the haul force (T)")
-    flow.block(h, lambda p, r: paint_schematic_block(p, r, rig, result))
+    flow.block(h, lambda p, r: paint_schematic_block(p, r, rig, result, computed))
     flow.y += 3
     flow.text(caption(rig, result), theme.page_font(7.5, italic=True))
-    for t in (roles_table(rig, result), rope_budget_table(rig, result), gear_table(rig, result)):
+    for t in (roles_table(rig, result, zones), rope_budget_table(rig, result), gear_table(rig, result)):
         flow.table(t)
 
 

@@ -22,6 +22,8 @@ ENTRIES: tuple[tuple[str, str], ...] = (
     ("pulley", "pulley"), ("capture", "capture"), ("grab", "rope grab / knot"), ("sliding", "sliding ring"),
     ("edge", "edge"), ("force", "force"), ("bight", "inside of bight"), ("recoil", "recoil band"),
 )
+#: The entry that takes the bight's place once a drawing shows a failure scan's computed areas.
+COMPUTED_ENTRY: tuple[str, str] = ("failure", "failure area (computed)")
 KEY_TITLE = "Key"
 GLYPH_W = 26.0  # px given to each symbol
 ROW_H = 22.0
@@ -120,7 +122,7 @@ def paint_symbol(painter: QPainter, centre: QPointF, kind: str) -> None:
         paint_pass_symbol(painter, centre, kind)
     elif kind == "force":
         paint_force_symbol(painter, centre)
-    elif kind in ("bight", "recoil"):
+    elif kind in ("bight", "recoil", "failure"):
         paint_zone_symbol(painter, centre, kind)
     else:
         from sketchpad.pages.greyscale import paint_class_swatch
@@ -128,21 +130,24 @@ def paint_symbol(painter: QPainter, centre: QPointF, kind: str) -> None:
         paint_class_swatch(painter, QRectF(centre.x() - 11, centre.y() - 5, 22, 10), kind)
 
 
-def entries(with_classes: bool = True) -> list[tuple[str, str]]:
-    """Every key entry (kind, words): the symbols, then the rope-use classes."""
+def entries(with_classes: bool = True, computed: bool = False) -> list[tuple[str, str]]:
+    """Every key entry (kind, words): the symbols, then the rope-use classes; ``computed``: the drawing shows
+    computed failure areas, so their swatch stands where the fixed bight's would."""
     from sketchpad.pages.greyscale import class_entries
 
-    return list(ENTRIES) + (class_entries() if with_classes else [])
+    symbols = [COMPUTED_ENTRY if computed and kind == "bight" else (kind, words) for kind, words in ENTRIES]
+    return symbols + (class_entries() if with_classes else [])
 
 
-def paint_symbol_key(painter: QPainter, rect: QRectF, with_classes: bool = True, draw: bool = True) -> float:
+def paint_symbol_key(painter: QPainter, rect: QRectF, with_classes: bool = True, draw: bool = True,
+                     computed: bool = False) -> float:
     """The key in rows inside ``rect``'s width from its top; returns the height used (px)."""
     font = _font()
     fm = QFontMetricsF(font)
     x, y = rect.left(), rect.top()
     painter.save()
     painter.setFont(font)
-    for kind, words in entries(with_classes):
+    for kind, words in entries(with_classes, computed):
         w = GLYPH_W + 3 + fm.horizontalAdvance(words) + 10
         if x + w > rect.right() and x > rect.left():
             x, y = rect.left(), y + ROW_H
@@ -156,9 +161,9 @@ def paint_symbol_key(painter: QPainter, rect: QRectF, with_classes: bool = True,
     return y + ROW_H - rect.top()
 
 
-def symbol_key_height(painter: QPainter, width: float, with_classes: bool = True) -> float:
+def symbol_key_height(painter: QPainter, width: float, with_classes: bool = True, computed: bool = False) -> float:
     """Height the key takes in ``width`` px."""
-    return paint_symbol_key(painter, QRectF(0, 0, width, 0), with_classes, draw=False)
+    return paint_symbol_key(painter, QRectF(0, 0, width, 0), with_classes, draw=False, computed=computed)
 
 
 __all__ = ["ENTRIES", "paint_symbol_key", "symbol_key_height", "paint_symbol", "entries"]

@@ -27,3 +27,15 @@ def test_scan_the_raft_sample_warm(benchmark):
     assert s.ok and len(s.failures) == 11
     assert all(not f.zone.is_empty for f in s.failures)
     assert {z.kind for z in zones} == {"failure", "recoil"}
+
+
+def test_scan_the_fifty_rope_rig_as_render_brief_and_report_do(benchmark):
+    # the cost those pages now pay to draw computed failure areas (no speed goal of its own: compare
+    # with test_bench_analyse's fifty-rope solve; measured, never asserted)
+    from tests.bench.fifty_ropes import fifty_rope_rig
+
+    rig = fifty_rope_rig()
+    intact = solve(rig)
+    assert intact.ok, intact.message
+    s, zones = benchmark.pedantic(_scan_with_zones, args=(rig, intact), rounds=2, iterations=1, warmup_rounds=1)
+    assert s.ok and any(z.kind == "failure" for z in zones)
