@@ -39,6 +39,14 @@ def ensure_env() -> None:
     STAMP.write_text(digest)
 
 
+def run_command(rest: list[str]) -> list[str]:
+    """The app's command line for ``dev.py run [RIG]``: the default sample opens as an untitled copy,
+    so Save never overwrites the repository's file."""
+    if rest:
+        return [str(BIN / "ropewright"), *rest]
+    return [str(BIN / "ropewright"), "open", "--copy", str(DEFAULT_SAMPLE)]
+
+
 def main(argv: list[str]) -> int:
     if not argv or argv[0] not in {"run", "test", "bench"}:
         print(__doc__)
@@ -47,8 +55,7 @@ def main(argv: list[str]) -> int:
     command, rest = argv[0], argv[1:]
     env = dict(os.environ)
     if command == "run":
-        rig = rest[0] if rest else str(DEFAULT_SAMPLE)
-        return subprocess.call([str(BIN / "ropewright"), rig], env=env, cwd=ROOT)
+        return subprocess.call(run_command(rest), env=env, cwd=ROOT)
     env.setdefault("QT_QPA_PLATFORM", "offscreen")
     if command == "test":
         return subprocess.call([str(PY), "-m", "pytest", *rest], env=env, cwd=ROOT)

@@ -29,14 +29,35 @@ def _application(offscreen: bool = False):
     return app
 
 
-def run_app(path: str | os.PathLike | None = None) -> int:
+def is_sample(path: str | os.PathLike) -> bool:
+    """True if ``path`` is one of the demo rigs shipped in ``samples/`` (never to be overwritten by Save)."""
+    from sketchpad.files import samples_dir
+
+    folder = samples_dir()
+    if folder is None:
+        return False
+    try:
+        return pathlib.Path(path).resolve().parent == folder.resolve()
+    except OSError:
+        return False
+
+
+def open_in_window(window, path: str | os.PathLike, copy: bool = False) -> bool:
+    """Load ``path`` into ``window``: a sample (or ``copy``) as an untitled copy, as File ▸ Samples does,
+    so Save asks for a new file instead of overwriting it; anything else as the document's file."""
+    if copy or is_sample(path):
+        return window.files.open_sample(pathlib.Path(path))
+    return window.open_path(path)  # a bad file shows a message and leaves an empty sketch
+
+
+def run_app(path: str | os.PathLike | None = None, copy: bool = False) -> int:
     """Open the main window (with ``path`` loaded if given) and run the event loop; returns the exit code."""
     app = _application()
     from sketchpad.main_window import MainWindow
 
     window = MainWindow()
     if path is not None:
-        window.open_path(path)  # a bad file shows a message and leaves an empty sketch
+        open_in_window(window, path, copy)
     window.show()
     window.files.offer_recovery()  # unsaved work left by a session that did not close cleanly
     return int(app.exec())
@@ -48,7 +69,7 @@ def open_cli(args) -> int:
     if path is not None and not pathlib.Path(path).exists():
         print(f"ropewright: no such file: {path}", file=sys.stderr)
         return EXIT_BAD_INPUT
-    return run_app(path)
+    return run_app(path, copy=bool(getattr(args, "copy", False)))
 
 
 def parse_size(text: str) -> tuple[int, int]:

@@ -71,6 +71,27 @@ def _library_ids() -> tuple[tuple[str, ...], tuple[str, ...], tuple[str, ...]]:
     return tuple(LIBRARY_MATERIALS), pulleys or FALLBACK_PULLEYS, edges or FALLBACK_EDGES
 
 
+def history_start(rig: Rig, path: pathlib.Path | None) -> str:
+    """The History panel's first row: where this history starts (a new sketch, a file, a copy of a sample)."""
+    if path is not None:
+        return f"Opened {path.name}"
+    if rig.points or rig.ropes or rig.site.features:
+        return f"Opened a copy of {rig.title.strip()}" if (rig.title or "").strip() else "Opened a copy"
+    return "New sketch"
+
+
+def redo_keys() -> list[QKeySequence]:
+    """The platform's redo key first, then the other usual one (Ctrl+Y / Ctrl+Shift+Z), each exactly once.
+
+    Binding a key twice makes Qt call the shortcut ambiguous and do nothing.
+    """
+    keys: list[QKeySequence] = []
+    for key in (QKeySequence(QKeySequence.Redo), QKeySequence("Ctrl+Shift+Z"), QKeySequence("Ctrl+Y")):
+        if not key.isEmpty() and key not in keys:
+            keys.append(key)
+    return keys
+
+
 class MainWindow(QMainWindow):
     """Ropewright's main window around one Document."""
 
@@ -132,7 +153,7 @@ class MainWindow(QMainWindow):
     def _build_actions(self) -> None:
         stack = self.document.undo_stack
         self.action_undo = self._action("&Undo", self.undo, [QKeySequence(QKeySequence.Undo)])
-        self.action_redo = self._action("&Redo", self.redo, [QKeySequence(QKeySequence.Redo), QKeySequence("Ctrl+Y")])
+        self.action_redo = self._action("&Redo", self.redo, redo_keys())
         stack.canUndoChanged.connect(self.action_undo.setEnabled)
         stack.canRedoChanged.connect(self.action_redo.setEnabled)
         stack.undoTextChanged.connect(lambda t: self.action_undo.setText(f"&Undo {t}".strip()))
@@ -236,7 +257,8 @@ class MainWindow(QMainWindow):
 
     def _build_docks(self) -> None:
         self.history_view = QUndoView(self.document.undo_stack)
-        self.history_view.setEmptyLabel("Opened sketch")
+        self.history_view.setEmptyLabel(history_start(self.document.rig, self.document.path))
+        self.document.started.connect(lambda rig: self.history_view.setEmptyLabel(history_start(rig, self.document.path)))
         self.history_dock = self.add_panel(self.history_view, "History", "dock_history")
 
     def add_panel(self, widget: QWidget, title: str, object_name: str | None = None,
@@ -296,11 +318,19 @@ class MainWindow(QMainWindow):
 
     def undo(self) -> None:
         self._cancel_tool()
-        self.document.undo_stack.undo()
+        stack = self.document.undo_stack
+        text = stack.undoText()
+        stack.undo()
+        if text:  # replaces a tool's message about the edit just undone ("Moving H1 ...")
+            self.statusBar().showMessage(f"Undid: {text}", STATUS_MESSAGE_MS)
 
     def redo(self) -> None:
         self._cancel_tool()
-        self.document.undo_stack.redo()
+        stack = self.document.undo_stack
+        text = stack.redoText()
+        stack.redo()
+        if text:
+            self.statusBar().showMessage(f"Redid: {text}", STATUS_MESSAGE_MS)
 
     def delete_selection(self) -> None:
         """Delete what is selected and everything depending on it, as one undoable step."""

@@ -187,6 +187,11 @@ def set_display(rig: Rig, length: str, force: str) -> Rig:
     return replace(rig, display=replace(rig.display, length=length, force=force))
 
 
+def with_article(noun: str) -> str:
+    """``noun`` with "a" or "an" before it ("an anchor", "a load")."""
+    return ("an " if noun[:1].lower() in "aeiou" else "a ") + noun
+
+
 def how_for_modifiers(modifiers, default: str) -> str:
     """How a rope passes a clicked point: Ctrl tied, Shift pulley, Alt sliding, Ctrl+Shift edge, else ``default``."""
     ctrl = bool(modifiers & Qt.ControlModifier)
@@ -344,7 +349,9 @@ class SelectTool(Tool):
         if self._grab is not None and self._before is not None:
             before, self._before, self._grab = self._before, None, None
             if self._moved:
-                self.document.apply(self.document.rig, f"Move {self._describe_ids(before)}", before=before)
+                what = self._describe_ids(before)
+                self.document.apply(self.document.rig, f"Move {what}", before=before)
+                self.status(f"Moved {what}.")
             self._drag_ids = []
             return
         if self._band is not None:
@@ -382,7 +389,7 @@ class PlacePointTool(Tool):
         self.kind = kind
         self.name = f"place-{kind}"
         self.label = f"Place {KIND_NAMES[kind]}"
-        self.hint = f"Click to place a {KIND_NAMES[kind]}. Esc returns to select."
+        self.hint = f"Click to place {with_article(KIND_NAMES[kind])}. Esc returns to select."
 
     def press(self, ev) -> None:
         if ev.button != Qt.LeftButton:
