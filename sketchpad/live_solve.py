@@ -396,9 +396,21 @@ class LiveForces(QObject):
 
     def _show(self, result: Result) -> None:
         s = self.scheduler
+        gap = None
+        if not result.ok:  # a half-drawn rig gets a calm hint instead of the failure alarm
+            from solver.completeness import sketch_gap
+
+            gap = sketch_gap(s.rig)
+        self.overlay.grey_reason = ("sketch incomplete: last complete result, greyed" if gap
+                                    else "solve failed: last good result, greyed")
         self.overlay.show_result(s.rig, result, s.last_good_rig, s.last_good, settled=s.settled)
+        if gap is not None:
+            self.overlay.banner.hide()
+        hints = getattr(self.window, "hints", None)
+        if hints is not None:
+            hints.place()  # under the banner, or at the top when there is none
         if s.settled or not result.ok:  # tables and warnings follow once a drag pauses
-            self.panel.show_result(s.rig, result, s.last_good_rig, s.last_good)
+            self.panel.show_result(s.rig, result, s.last_good_rig, s.last_good, gap=gap)
 
     def select_subject(self, subject: str) -> None:
         """Select and centre the canvas item a warning is about (point, rope, ``rope@point``, ``a,b,c``)."""

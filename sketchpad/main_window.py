@@ -58,17 +58,22 @@ TOOL_KEYS: dict[str, tuple[str, str]] = {
     "measure": ("tools", "M"),
 }
 UNIT_SYSTEMS = {"metric": ("m", "kN"), "imperial": ("ft", "lbf")}
+#: what the "Passes points as" drop-down shows for each middle-pass kind
+HOW_NAMES = {"pulley": "pulley", "tied": "tied (knot, rope grab)", "sliding": "sliding (ring, hand)", "edge": "edge"}
 
 
-def _library_ids() -> tuple[tuple[str, ...], tuple[str, ...], tuple[str, ...]]:
-    """Material, pulley-like and edge hardware ids from the library (or the documented fallback list)."""
+def _library_ids() -> tuple[tuple[tuple[str, str], ...], tuple[tuple[str, str], ...], tuple[tuple[str, str], ...]]:
+    """(id, name) of the materials, pulley-like and edge hardware in the library (or the documented fallback ids)."""
     try:
         from solver.materials import LIBRARY_HARDWARE, LIBRARY_MATERIALS
     except ImportError:
-        return FALLBACK_MATERIALS, FALLBACK_PULLEYS, FALLBACK_EDGES
-    pulleys = tuple(k for k, h in LIBRARY_HARDWARE.items() if h.kind != "edge")
-    edges = tuple(k for k, h in LIBRARY_HARDWARE.items() if h.kind == "edge")
-    return tuple(LIBRARY_MATERIALS), pulleys or FALLBACK_PULLEYS, edges or FALLBACK_EDGES
+        return tuple((i, i) for i in FALLBACK_MATERIALS), tuple((i, i) for i in FALLBACK_PULLEYS), \
+            tuple((i, i) for i in FALLBACK_EDGES)
+    pulleys = tuple((k, h.name) for k, h in LIBRARY_HARDWARE.items() if h.kind != "edge")
+    edges = tuple((k, h.name) for k, h in LIBRARY_HARDWARE.items() if h.kind == "edge")
+    materials = tuple((k, m.name) for k, m in LIBRARY_MATERIALS.items())
+    return (materials or tuple((i, i) for i in FALLBACK_MATERIALS), pulleys or tuple((i, i) for i in FALLBACK_PULLEYS),
+            edges or tuple((i, i) for i in FALLBACK_EDGES))
 
 
 def history_start(rig: Rig, path: pathlib.Path | None) -> str:
@@ -129,6 +134,9 @@ class MainWindow(QMainWindow):
         from sketchpad.templates_ui import install_rigging_kit
 
         self.kit = install_rigging_kit(self)  # Insert ▸ System, load estimate, spec library (issue 6)
+        from sketchpad.hint_bar import install_hints
+
+        self.hints = install_hints(self)  # what the sketch still needs and the tool's hint, over the canvas
         self._on_rig_changed(self.document.rig)
         self.resize(*DEFAULT_SIZE)
 
@@ -233,26 +241,34 @@ class MainWindow(QMainWindow):
         self.toolbar_options.setObjectName("toolbar_options")
         materials, pulleys, edges = _library_ids()
         d = self.view.defaults
-        self.combo_how = self._combo(MIDDLE_HOWS, d.how, "how", "How a rope passes a middle point unless a modifier says otherwise")
+        self.combo_how = self._combo([(h, HOW_NAMES.get(h, h)) for h in MIDDLE_HOWS], d.how, "how",
+                                     "Pulleys: how a drawn rope passes each point you click between its ends "
+                                     "(Shift+click pulley, Ctrl tied, Alt sliding, Ctrl+Shift edge override it)")
         self.combo_material = self._combo(materials, d.material, "material", "Material of new ropes")
         self.combo_pulley = self._combo(pulleys, d.pulley_hardware, "pulley_hardware", "Hardware at new pulley passes")
         self.combo_edge = self._combo(edges, d.edge_hardware, "edge_hardware", "Edge at new edge passes")
-        self.combo_feature = self._combo(FEATURE_KINDS, d.feature_kind, "feature_kind", "Kind of new site features")
-        for label, combo in (("Passes", self.combo_how), ("Rope", self.combo_material), ("Pulley", self.combo_pulley),
-                             ("Edge", self.combo_edge), ("Feature", self.combo_feature)):
+        self.combo_feature = self._combo([(k, k) for k in FEATURE_KINDS], d.feature_kind, "feature_kind",
+                                         "Kind of new site features")
+        for label, combo in (("Passes points as", self.combo_how), ("Rope", self.combo_material),
+                             ("Pulley", self.combo_pulley), ("Edge", self.combo_edge), ("Feature", self.combo_feature)):
             self.toolbar_options.addWidget(QLabel(f" {label} "))
             self.toolbar_options.addWidget(combo)
         self.addToolBar(Qt.TopToolBarArea, self.toolbar_options)
 
     def _combo(self, items, current: str, field: str, tip: str) -> QComboBox:
+        """A drop-down showing names, keeping the id (``itemData``) it sets on ``view.defaults.<field>``."""
         combo = QComboBox(self)
-        combo.addItems(list(items))
-        if current not in items:
-            combo.addItem(current)
-        combo.setCurrentText(current)
+        for key, name in items:
+            combo.addItem(name, key)
+        if combo.findData(current) < 0:
+            combo.addItem(current, current)
+        combo.setCurrentIndex(combo.findData(current))
         combo.setToolTip(tip)
         combo.setFocusPolicy(Qt.ClickFocus)
-        combo.currentTextChanged.connect(lambda text: setattr(self.view.defaults, field, text))
+        combo.setSizeAdjustPolicy(QComboBox.AdjustToMinimumContentsLengthWithIcon)
+        combo.setMinimumContentsLength(min(22, max(len(n) for _k, n in items) if items else 8))
+        combo.view().setMinimumWidth(combo.view().sizeHintForColumn(0) + 24)  # the list shows whole names
+        combo.currentIndexChanged.connect(lambda _i: setattr(self.view.defaults, field, combo.currentData()))
         return combo
 
     def _build_docks(self) -> None:

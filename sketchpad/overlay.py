@@ -2432,7 +2432,7 @@ class ResultOverlay(QObject):
             lines.append(f"{self.skipped} label{'s' if self.skipped != 1 else ''} hidden to avoid overlap: zoom in")
         grey = self.failed is not None
         if grey:
-            lines.append("solve failed: last good result, greyed")
+            lines.append(getattr(self, "grey_reason", "solve failed: last good result, greyed"))
         self.legend.set_content(lines, self.layers["zones"], grey)
 
     def _m_per_px(self) -> float:

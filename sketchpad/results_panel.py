@@ -141,12 +141,22 @@ class ResultsPanel(QWidget):
         self.result: Result | None = None
 
     # --- filling ------------------------------------------------------------------------------------
-    def show_result(self, rig: Rig, result: Result, good_rig: Rig | None = None, good: Result | None = None) -> None:
-        """Show ``result``; on a failure show why, and keep the tables of the last good result (marked old)."""
+    def show_result(self, rig: Rig, result: Result, good_rig: Rig | None = None, good: Result | None = None,
+                    gap=None) -> None:
+        """Show ``result``; on a failure show why, and keep the tables of the last good result (marked old).
+
+        ``gap`` (a :class:`solver.completeness.SketchGap`): the rig is still being drawn, so a failure is
+        shown as that calm note, not as an alarm.
+        """
         if result.ok:
             self.status.setText("")
             self.status.hide()
             shown_rig, shown = rig, result
+        elif gap is not None:
+            self.status.setText(gap.message)
+            self.status.setStyleSheet(f"color: {theme.HINT_STATE_TEXT.name()}; font-weight: bold;")
+            self.status.show()
+            shown_rig, shown = (good_rig, good) if good is not None and good.ok else (rig, None)
         else:
             from sketchpad.live_solve import failure_text
 
@@ -157,7 +167,8 @@ class ResultsPanel(QWidget):
             shown_rig, shown = (good_rig, good) if good is not None and good.ok else (rig, None)
         self.rig, self.result = shown_rig, shown
         if shown is None:
-            self.summary.setText("No forces: the rig has not solved yet.")
+            self.summary.setText("No forces yet: the sketch is not finished." if gap is not None
+                                 else "No forces: the rig has not solved yet.")
             for t in (self.segments, self.anchors, self.hardware):
                 t.set_rows([])
         else:
@@ -165,7 +176,8 @@ class ResultsPanel(QWidget):
             self._fill_segments(shown_rig, shown)
             self._fill_anchors(shown_rig, shown)
             self._fill_hardware(shown_rig, shown)
-        self._fill_warnings(result if result.ok or shown is None else shown, failed=None if result.ok else result)
+        self._fill_warnings(result if result.ok or shown is None else shown,
+                            failed=None if result.ok or gap is not None else result)
 
     def _fill_segments(self, rig: Rig, result: Result) -> None:
         unit = rig.display.force

@@ -94,3 +94,21 @@ def test_dev_run_opens_the_default_sample_as_a_copy():
 
     args = build_parser().parse_args(argv[1:])
     assert args.copy and args.rig == argv[-1]
+
+
+def test_system_menu_entries_say_each_ma_once_and_never_a_bare_dash(main_window):
+    menu = main_window.kit.templates.menu
+    texts = [a.text() for a in menu.actions() if not a.isSeparator()]
+    assert "3:1 (Z)" in texts and "Redirect (1:1)" in texts
+    for t in texts:
+        ma = t.split(" ")[0]
+        assert "—" not in t, t
+        assert not (":" in ma and t.endswith(f"({ma})")), t  # "3:1 (Z) (3:1)": the MA said twice
+
+
+def test_toolbar_drop_downs_show_names_and_set_ids(main_window):
+    w = main_window
+    assert w.combo_material.currentText() != "kern-11" and "kernmantle" in w.combo_material.currentText()
+    assert "pulley" in w.combo_pulley.currentText() and w.combo_pulley.currentText() != "pulley-large"
+    w.combo_pulley.setCurrentIndex(w.combo_pulley.findData("pulley-small"))
+    assert w.view.defaults.pulley_hardware == "pulley-small"

@@ -142,9 +142,14 @@ def test_every_warning_of_the_result_is_listed(main_window):
 def test_a_failed_solve_is_named_and_the_tables_keep_the_last_good_numbers(main_window, qtbot):
     good = open_sample(main_window, "vector-pull.rig.json")
     doc = main_window.document
-    from solver.model import Point
+    from solver.result import Result
 
-    doc.apply(doc.rig.with_point(Point("K9", "point", -20.0, 5.0)), "Place free point")
+    # a finished rig whose solve fails: the solver's answer is injected (no drawn rig here fails on purpose)
+    def fails(rig, start=None):
+        return Result(status="diverged", message="no equilibrium within 200 iterations", subject="V1")
+
+    main_window.live.scheduler.analyse = main_window.live.scheduler.quick = fails
+    doc.apply(doc.rig.moved("V1", 1.0, 2.0), "Move hand")
     with qtbot.waitSignal(main_window.live.scheduler.result_ready, timeout=3000) as got:
         pass
     failed = got.args[0]
@@ -153,4 +158,24 @@ def test_a_failed_solve_is_named_and_the_tables_keep_the_last_good_numbers(main_
     assert failed.message in panel.status.text() and not panel.status.isHidden()
     assert panel.segments.proxy.rowCount() == len(good.segments)
     assert panel.warnings.item(0).text().startswith("DANGER: Solve failed")
-    assert panel.warnings.item(0).data(SUBJECT_ROLE) == "K9"
+    assert panel.warnings.item(0).data(SUBJECT_ROLE) == "V1"
+    assert main_window.live.overlay.banner_text  # the red banner: a finished rig that fails
+
+
+def test_a_point_no_rope_holds_yet_is_a_calm_note_not_an_alarm(main_window, qtbot):
+    good = open_sample(main_window, "vector-pull.rig.json")
+    doc = main_window.document
+    from solver.model import Point
+
+    doc.apply(doc.rig.with_point(Point("K9", "point", -20.0, 5.0)), "Place free point")
+    with qtbot.waitSignal(main_window.live.scheduler.result_ready, timeout=3000) as got:
+        pass
+    assert not got.args[0].ok  # the solver cannot hold K9 ...
+    panel = main_window.live.panel
+    # ... but the rig is still being drawn: a note saying what to do, no red banner, no DANGER line
+    assert panel.status.text().startswith("Sketch incomplete: K9 is not held by any rope yet")
+    assert main_window.live.overlay.banner_text == ""
+    assert main_window.hints.shown_text().startswith("Sketch incomplete: K9")
+    texts = [panel.warnings.item(i).text() for i in range(panel.warnings.count())]
+    assert not any(t.startswith("DANGER") for t in texts)
+    assert panel.segments.proxy.rowCount() == len(good.segments)  # the last complete numbers stay, greyed
