@@ -408,6 +408,13 @@ class LiveForces(QObject):
             self.overlay.banner.hide()
         hints = getattr(self.window, "hints", None)
         if hints is not None:
+            if gap is not None:
+                hints.set_state(gap.message)
+            elif result.ok and hints.state and not self.window.document.sketching:
+                from solver.completeness import sketch_gap  # only while a state is shown: a drag step costs nothing
+
+                found = sketch_gap(s.rig)
+                hints.set_state(found.message if found else "")
             hints.place()  # under the banner, or at the top when there is none
         if s.settled or not result.ok:  # tables and warnings follow once a drag pauses
             self.panel.show_result(s.rig, result, s.last_good_rig, s.last_good, gap=gap)
