@@ -40,7 +40,6 @@ from PySide6.QtGui import (
     QColor,
     QFontMetricsF,
     QImage,
-    QLinearGradient,
     QPaintEngine,
     QPainter,
     QPainterPath,
@@ -52,7 +51,7 @@ from PySide6.QtGui import (
 )
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QWidget
 
-from sketchpad import theme
+from sketchpad import legend_key, theme
 from sketchpad.drag_layer import Versioned
 from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr, text_advance
 from sketchpad.retained import RetainedLayer, add_damage
@@ -192,6 +191,8 @@ def _bucket_colours() -> tuple[list[int], dict[int, int]]:
 
 
 _BUCKET_RGBA, _BUCKET_ORDER = _bucket_colours()
+#: band width (px) of each bucket colour: heavier with use, so greyscale keeps the meaning (theme.band_width_px)
+_BUCKET_WIDTH = {c: theme.band_width_px(k / BAND_BUCKETS * BAND_MAX_UTIL) for c, k in _BUCKET_ORDER.items()}
 
 
 def _unit(dx: float, dy: float) -> tuple[float, float]:
@@ -1451,7 +1452,7 @@ class ForceItem(_LayerItem):
                     path.lineTo(*ends[i + 1])
                 colour = QColor.fromRgba(rgba)
                 colour.setAlpha(theme.OVERLAY_BAND_ALPHA)
-                band = (theme.cosmetic_pen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine), path)
+                band = (theme.cosmetic_pen(colour, _BUCKET_WIDTH[rgba], Qt.SolidLine), path)
             self._band_paths[rgba] = (ends, band)
             self.bands.append(band)
             self.band_ends.append(ends)
@@ -1596,7 +1597,7 @@ class ForceItem(_LayerItem):
         if bounds:
             bx0, by0, bx1, by1 = zip(*bounds)
             xs0.append(min(bx0)), ys0.append(min(by0)), xs1.append(max(bx1)), ys1.append(max(by1))
-        pad = (theme.FAIL_RING_PX + theme.OVERLAY_BAND_PX) * m_per_px
+        pad = (theme.FAIL_RING_PX + theme.BAND_MAX_PX) * m_per_px
         if self.fail_point is not None and pad > 0:
             fx, fy = self.fail_point
             xs0.append(fx - pad), ys0.append(fy - pad), xs1.append(fx + pad), ys1.append(fy + pad)
@@ -1828,8 +1829,6 @@ class ForceItem(_LayerItem):
         """
         if len(self.band_ends) != len(self.bands):
             return None
-        half = theme.OVERLAY_BAND_PX / 2.0
-        pad = int(math.ceil(half)) + 3
         frame = (m11, m22, dx, dy)
         area_key = (area.x(), area.y(), area.width(), area.height())
         memo = self._band_memo if self._band_memo.get("_frame") == (frame, area_key) else {}
@@ -1843,14 +1842,17 @@ class ForceItem(_LayerItem):
             colour.setAlpha(255)
             rgba = colour.rgba()
             kept = memo.get(rgba)
+            width = _BUCKET_WIDTH.get(rgba, theme.OVERLAY_BAND_PX)
+            half = width / 2.0
+            pad = int(math.ceil(half)) + 3
             if kept is not None and kept[0] == ends:
                 _ends, pieces, entries, r, hits = kept
             else:
                 flat = self._flat_pens.get(rgba)
                 if flat is None:
-                    flat = self._flat_pens[rgba] = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
+                    flat = self._flat_pens[rgba] = QPen(colour, width, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
 
-                def piece(sa, ta, sb, tb, flat=flat, rgba=rgba):
+                def piece(sa, ta, sb, tb, flat=flat, rgba=rgba, half=half, pad=pad):
                     a, b = (sa * m11 + dx, ta * m22 + dy), (sb * m11 + dx, tb * m22 + dy)
                     x0, y0 = math.floor(min(a[0], b[0])) - pad, math.floor(min(a[1], b[1])) - pad
                     w, h = math.ceil(abs(a[0] - b[0])) + 2 * pad + 1, math.ceil(abs(a[1] - b[1])) + 2 * pad + 1
@@ -1938,14 +1940,14 @@ class ForceItem(_LayerItem):
         area = QRect(0, 0, device.width(), device.height())
         rects = []
         for _pen, path in self.bands:
-            r = t.mapRect(path.controlPointRect()).toAlignedRect().adjusted(-6, -6, 6, 6).intersected(area)
+            r = t.mapRect(path.controlPointRect()).toAlignedRect().adjusted(-10, -10, 10, 10).intersected(area)
             rects.append(r)
         if sum(r.width() * r.height() for r in rects) > 2 * area.width() * area.height():
             return False  # zoomed far in with many bands: layers would cost more than they save
-        half = theme.OVERLAY_BAND_PX / 2.0
         for (pen, path), ends, r in zip(self.bands, self.band_ends, rects):
             if r.isEmpty():
                 continue
+            half = pen.widthF() / 2.0
             colour = QColor(pen.color())
             alpha = colour.alphaF()
             colour.setAlpha(255)
@@ -1954,7 +1956,7 @@ class ForceItem(_LayerItem):
             lp = QPainter(layer)
             lp.setRenderHint(QPainter.Antialiasing, True)
             lp.setTransform(t * QTransform.fromTranslate(-r.left(), -r.top()))
-            flat = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
+            flat = QPen(colour, pen.widthF(), Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
             flat.setCosmetic(True)
             lp.setPen(flat)
             lp.drawPath(path)
@@ -2074,7 +2076,7 @@ class Legend(QWidget):
         self._areas: tuple | None = None  # (lines, frame, areas) of the last call of areas()
         self.hide()
 
-    TITLE = "Rope use: tension × SF ÷ MBS"
+    TITLE = legend_key.TITLE
     TICKS = (0.0, 0.5, 1.0, 1.5)
 
     def set_content(self, lines: list[str], show_zones: bool, grey: bool) -> None:
@@ -2092,8 +2094,9 @@ class Legend(QWidget):
         pad, lh = 8, self.fm.height()
         # advances remembered per (text, font): a drag step changes a number or two of the lines
         w = max([theme.LEGEND_RAMP_W_PX + 24, text_advance(self.TITLE, self.title_font)]
-                + [text_advance(t, self.font) for t in self.lines])
-        h = lh + 4 + theme.LEGEND_RAMP_H_PX + lh + 6 + (lh + 4 if self.show_zones else 0) + len(self.lines) * lh
+                + [text_advance(t, self.font) for t in self.lines]
+                + ([legend_key.rows_width(lambda t: text_advance(t, self.font))] if self.show_zones else []))
+        h = lh + 4 + theme.LEGEND_RAMP_H_PX + lh + 6 + legend_key.rows_height(lh, self.show_zones) + len(self.lines) * lh
         return QSize(int(w + 2 * pad), int(h + 2 * pad))
 
     def place(self) -> None:
@@ -2198,7 +2201,7 @@ class Legend(QWidget):
         """Top (px in the key) of the first summary line: below the title, the ramp and the zone swatches."""
         lh = self.fm.height()
         y = self.LINE_PAD + lh + 4 + theme.LEGEND_RAMP_H_PX + 3 + lh + 3
-        return y + (lh + 4 if self.show_zones else 0.0)
+        return y + legend_key.rows_height(lh, self.show_zones)
 
     def _paint_line(self, p: QPainter, line: str, y: float) -> None:
         p.setFont(self.font)
@@ -2218,12 +2221,7 @@ class Legend(QWidget):
         y += lh + 4
         ramp = QRectF(pad, y, theme.LEGEND_RAMP_W_PX, theme.LEGEND_RAMP_H_PX)
         top = self.TICKS[-1]
-        grad = QLinearGradient(ramp.topLeft(), ramp.topRight())
-        for u, c in theme.UTIL_RAMP:
-            grad.setColorAt(min(u / top, 1.0), theme.OVERLAY_GREY if self.grey else c)
-        p.setPen(Qt.NoPen)
-        p.setBrush(grad)
-        p.drawRect(ramp)
+        legend_key.paint_wedge(p, ramp, top, self.grey)
         p.setFont(self.font)
         p.setPen(theme.pixel_pen(theme.OVERLAY_LABEL_TEXT, 1.0))
         for u in self.TICKS:
@@ -2234,46 +2232,19 @@ class Legend(QWidget):
             p.drawText(QPointF(min(max(x - tw / 2, 2), self.width() - tw - 2), ramp.bottom() + 3 + self.fm.ascent()), text)
         y = ramp.bottom() + 3 + lh + 3
         if self.show_zones:
-            x = pad
-            for kind, name in (("bight", "inside of bight"), ("recoil", "recoil band")):
-                fill, hatch = theme.zone_brushes(kind)
-                box = QRectF(x, y + 1, 14, lh - 3)
-                p.setPen(theme.pixel_pen(theme.ZONE_COLOURS[kind], 1.0))
-                p.setBrush(fill)
-                p.drawRect(box)
-                p.setBrush(hatch)
-                p.drawRect(box)
-                p.setPen(theme.OVERLAY_LABEL_TEXT)
-                p.drawText(QPointF(x + 18, y + self.fm.ascent()), name)
-                x += 18 + self.fm.horizontalAdvance(name) + 12
+            legend_key.paint_rows(p, pad, y, lh, self.fm.ascent())
 
 
 def summary_lines(rig: Rig, result: Result) -> list[str]:
-    """The system in a few lines: MA actual/ideal, haul force and haulers, load delivered vs needed."""
-    unit = rig.display.force
-    points = {p.id: p for p in rig.points}
+    """The system in a few lines: MA actual/ideal, then sentences (sketchpad.summary_words)."""
+    from sketchpad.summary_words import sentences
+
     out = []
     if result.ma_actual is not None:
         # a drag step leaves the frictionless re-solve to the analysis at the pause
         ideal = f" / {result.ma_ideal:.2f} ideal" if result.ma_ideal is not None else " / ideal when still"
         out.append(f"MA {result.ma_actual:.2f} actual{ideal}")
-    for hid, force in result.haul.items():
-        name = points[hid].name if hid in points else hid
-        hold = result.hold_haul_range.get(hid)
-        text = f"{name}: {format_force(force, unit)}"
-        if hold is not None:
-            text += f" (hold {format_force(hold.low, unit)} – {format_force(hold.high, unit)})"
-        out.append(text)
-    for lid, f in result.loads.items():
-        p = points.get(lid)
-        if p is None:
-            continue
-        text = f"to {p.name}: {format_force(f.force_N, unit)}"
-        if p.required_N is not None:
-            text += f" of {format_force(p.required_N, unit)} needed"
-        out.append(text)
-    out.append(f"safety factor {rig.settings.min_safety_factor:g}:1 · {rig.settings.motion}")
-    return out
+    return out + sentences(rig, result)
 
 
 # --- the controller -----------------------------------------------------------------------------------

@@ -274,50 +274,11 @@ class ResultsPanel(QWidget):
 
 
 def summary_text(rig: Rig, result: Result) -> str:
-    """MA actual/ideal, haul force and haulers needed, load delivered vs needed — one short paragraph."""
-    unit = rig.display.force
+    """MA actual (ideal), then the summary sentences (load reached against needed, haulers, safety factor)."""
+    from sketchpad.summary_words import sentences
+
     parts = []
     if result.ma_actual is not None:
         ideal = f" (ideal {result.ma_ideal:.2f})" if result.ma_ideal is not None else ""
-        parts.append(f"MA {result.ma_actual:.2f}{ideal}")
-    for hid, force in result.haul.items():
-        p = rig.point(hid) if rig.has_point(hid) else None
-        text = f"haul {format_force(force, unit)}"
-        if p is not None and p.team:
-            text += f" = {p.team} × {format_force(force / p.team, unit)}"
-        hold = result.hold_haul_range.get(hid)
-        if hold is not None:
-            text += f"; hold allows {format_force(hold.low, unit)} – {format_force(hold.high, unit)}"
-        parts.append(text)
-    for lid, f in result.loads.items():
-        p = rig.point(lid) if rig.has_point(lid) else None
-        text = f"to {p.name if p else lid} {format_force(f.force_N, unit)}"
-        if p is not None and p.required_N is not None:
-            text += f" of {format_force(p.required_N, unit)} needed"
-            needed = haulers_for(rig, result, p.required_N)
-            if needed is not None:
-                text += f" → {needed} hauler{'s' if needed != 1 else ''} needed"
-        parts.append(text)
-    parts.append(f"SF {rig.settings.min_safety_factor:g}:1, {rig.settings.motion}")
-    return " · ".join(parts)
-
-
-def haulers_for(rig: Rig, result: Result, required_N: float) -> int | None:
-    """Haulers needed to deliver ``required_N`` through the actual MA (solver.hauling), None if not computable."""
-    if result.ma_actual is None or not result.haul:
-        return None
-    from solver.errors import RopewrightError
-    from solver.hauling import DEFAULT_PER_PERSON_N, haulers_needed
-
-    per = DEFAULT_PER_PERSON_N
-    for hid in result.haul:
-        if rig.has_point(hid):
-            p = rig.point(hid)
-            if p.force_per_person_N:
-                per = float(p.force_per_person_N)
-            elif p.force_N and p.team:
-                per = float(p.force_N) / p.team
-    try:
-        return haulers_needed(float(required_N), float(result.ma_actual), per)
-    except RopewrightError:
-        return None
+        parts.append(f"MA {result.ma_actual:.2f}{ideal}.")
+    return " ".join(parts + sentences(rig, result))

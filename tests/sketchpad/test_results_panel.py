@@ -92,8 +92,14 @@ def test_summary_gives_ma_haul_haulers_and_load_delivered(main_window):
     assert f"MA {result.ma_actual:.2f} (ideal {result.ma_ideal:.2f})" in text
     load = rig.point("L1")
     n = haulers_needed(load.required_N, result.ma_actual, load.force_per_person_N or rig.point("H1").force_per_person_N)
-    assert f"→ {n} haulers needed" in text or f"→ {n} hauler needed" in text
-    assert format_force(result.loads["L1"].force_N, rig.display.force) in text
+    unit = rig.display.force
+    # sentences, not a formula: what the load gets against what it needs, then who pulls
+    assert (f"Reaches {load.name}: {format_force(result.loads['L1'].force_N, unit)} "
+            f"(needs {format_force(load.required_N, unit)}).") in text
+    team = rig.point("H1").team
+    assert f"{team} haulers pulling" in text
+    assert (f"; {n} needed" in text) == (n != team)  # the head count needed only when it differs
+    assert "→" not in text
 
 
 def test_hold_mode_shows_the_range_static_friction_allows(main_window):

@@ -1,0 +1,99 @@
+"""The system summary as sentences a lead reads in five seconds: what the load gets against what it needs,
+who is pulling, and the safety factor.  Shared by the plan's key, the Forces dock and drawing exports.
+
+"2.37 kN of 2.00 kN needed -> 4 haulers needed" read as a contradiction; here each fact is its
+own sentence: "Reaches pinned raft: 2.37 kN (needs 2.00 kN)." "4 haulers pulling."  The mechanical
+advantage line stays where the overlay and the dock write it.
+"""
+
+from __future__ import annotations
+
+from solver.model import Rig
+from solver.result import Result
+from solver.units import format_force
+
+MOTION_WORDS = {"haul": "hauling", "hold": "holding", "lower": "lowering"}
+
+
+def haul_sentences(rig: Rig, result: Result) -> list[str]:
+    """One sentence per haul team: what it pulls in total and per hauler, and the range a hold allows."""
+    unit = rig.display.force
+    out = []
+    for hid, force in result.haul.items():
+        p = rig.point(hid) if rig.has_point(hid) else None
+        name = p.name if p is not None else hid
+        text = f"{name[:1].upper()}{name[1:]} pulls {format_force(force, unit)}"
+        if p is not None and p.team:
+            text += f" ({p.team} × {format_force(force / p.team, unit)})"
+        hold = result.hold_haul_range.get(hid)
+        if hold is not None:
+            text += f"; a hold allows {format_force(hold.low, unit)} – {format_force(hold.high, unit)}"
+        out.append(text + ".")
+    return out
+
+
+def load_sentences(rig: Rig, result: Result) -> list[str]:
+    """One sentence per load: the force it gets and, when known, what it needs and by how much it falls short."""
+    unit = rig.display.force
+    out = []
+    for lid, f in result.loads.items():
+        p = rig.point(lid) if rig.has_point(lid) else None
+        name = p.name if p is not None else lid
+        text = f"Reaches {name}: {format_force(f.force_N, unit)}"
+        if p is not None and p.required_N is not None:
+            text += f" (needs {format_force(p.required_N, unit)})"
+            short = float(p.required_N) - float(f.force_N)
+            if short > 0:
+                text += f", short by {format_force(short, unit)}"
+        out.append(text + ".")
+    return out
+
+
+def haulers_sentence(rig: Rig, result: Result) -> str | None:
+    """How many haulers pull now and, when a load says what it needs, how many it takes (None: no haul team)."""
+    pulling = sum(int(rig.point(h).team or 0) for h in result.haul if rig.has_point(h))
+    if not pulling:
+        return None
+    text = f"{pulling} hauler{'s' if pulling != 1 else ''} pulling"
+    needed = [n for n in (haulers_for(rig, result, rig.point(lid).required_N) for lid in result.loads
+                          if rig.has_point(lid) and rig.point(lid).required_N is not None) if n is not None]
+    if needed and max(needed) != pulling:
+        text += f"; {max(needed)} needed"
+    return text + "."
+
+
+def safety_sentence(rig: Rig) -> str:
+    motion = MOTION_WORDS.get(rig.settings.motion, rig.settings.motion)
+    return f"Safety factor {rig.settings.min_safety_factor:g}:1, {motion}."
+
+
+def haulers_for(rig: Rig, result: Result, required_N: float) -> int | None:
+    """Haulers needed to deliver ``required_N`` through the actual MA (solver.hauling), None if not computable."""
+    if result.ma_actual is None or not result.haul:
+        return None
+    from solver.errors import RopewrightError
+    from solver.hauling import DEFAULT_PER_PERSON_N, haulers_needed
+
+    per = DEFAULT_PER_PERSON_N
+    for hid in result.haul:
+        if rig.has_point(hid):
+            p = rig.point(hid)
+            if p.force_per_person_N:
+                per = float(p.force_per_person_N)
+            elif p.force_N and p.team:
+                per = float(p.force_N) / p.team
+    try:
+        return haulers_needed(float(required_N), float(result.ma_actual), per)
+    except RopewrightError:
+        return None
+
+
+def sentences(rig: Rig, result: Result) -> list[str]:
+    """Everything after the MA line, in reading order: loads, haulers, haul teams, safety factor."""
+    out = load_sentences(rig, result)
+    who = haulers_sentence(rig, result)
+    if who:
+        out.append(who)
+    out += haul_sentences(rig, result)
+    out.append(safety_sentence(rig))
+    return out

@@ -1,0 +1,69 @@
+"""Reading the plan: rope colours apart from the load colours, utilization by band weight too (greyscale),
+the key's words, and the summary as sentences."""
+
+from __future__ import annotations
+
+import pathlib
+
+import pytest
+from PySide6.QtGui import QColor
+
+from sketchpad import legend_key, theme
+from sketchpad.summary_words import sentences
+from solver.analysis import analyse
+from solver.rigfile import load_rig
+
+SAMPLES = pathlib.Path(__file__).resolve().parents[2] / "samples"
+
+
+def _hue_gap(a: QColor, b: QColor) -> float:
+    d = abs(a.hsvHueF() - b.hsvHueF()) * 360.0
+    return min(d, 360.0 - d)
+
+
+def test_no_rope_colour_shares_a_hue_with_the_use_ramp_or_the_danger_zones():
+    alarm = [c for _u, c in theme.UTIL_RAMP] + list(theme.ZONE_COLOURS.values())
+    for rope in theme.ROPE_COLOURS:
+        # 30 degrees of hue apart at least: red, amber and green never stand for a rope (our own design rule)
+        assert min(_hue_gap(rope, c) for c in alarm) >= 30.0, rope.name()
+
+
+def test_band_weight_grows_with_use_so_greyscale_keeps_the_meaning():
+    widths = [theme.band_width_px(u) for u in (0.0, 0.3, 0.8, 1.0, 1.5, 3.0)]
+    assert widths == sorted(widths) and len(set(widths[:5])) == 5
+    assert widths[0] == theme.BAND_MIN_PX and widths[-1] == theme.BAND_MAX_PX
+    assert theme.band_width_px(1.0) - theme.band_width_px(0.3) >= 4.0  # visibly heavier past the limit
+
+
+def test_drawn_bands_on_the_raft_are_heavier_where_the_rope_is_used_more(main_window):
+    from tests.sketchpad.test_overlay import open_sample
+
+    open_sample(main_window, "raft-3to1-redirect.rig.json")
+    bands = main_window.live.overlay.force_item.bands
+    colours_and_widths = {QColor(pen.color()).rgb(): pen.widthF() for pen, _path in bands}
+    assert len(set(colours_and_widths.values())) >= 2  # several uses: several weights
+    # a band of a higher bucket (later on the ramp, by its rgba order) is never thinner
+    from sketchpad.overlay import _BUCKET_ORDER
+
+    order = sorted((_BUCKET_ORDER[QColor(pen.color()).rgba() | 0xFF000000], pen.widthF()) for pen, _ in bands)
+    assert [w for _k, w in order] == sorted(w for _k, w in order)
+
+
+def test_the_key_names_its_meaning_and_every_zone_shape():
+    assert legend_key.TITLE == "Rope use: share of allowed load"
+    words = " ".join(text for _k, _s, text in legend_key.ZONE_ROWS)
+    assert "inside of bight" in words and "recoil band" in words
+    assert "arm from a bight" in words and "anchor fails" in words  # the flight-path strip explained
+
+
+@pytest.mark.parametrize("name", ["raft-3to1-redirect.rig.json", "vector-pull.rig.json"])
+def test_summary_sentences_say_what_the_load_gets_against_what_it_needs(name):
+    rig = load_rig(SAMPLES / name)
+    result = analyse(rig)
+    lines = sentences(rig, result)
+    load = next(p for p in rig.points if p.kind == "load")
+    first = lines[0]
+    assert first.startswith(f"Reaches {load.name}: ") and f"(needs " in first and first.endswith(".")
+    short = load.required_N - result.loads[load.id].force_N
+    assert ("short by" in first) == (short > 0)
+    assert all(line.endswith(".") for line in lines) and not any("→" in line for line in lines)
