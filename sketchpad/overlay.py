@@ -2376,6 +2376,12 @@ class ResultOverlay(QObject):
         self._pos = (result, pos)
         self.pieces = self.force_item.set_bands(rig, result, pos)
         labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on], self._label_memo, pos)
+        if self.layers["anchors"]:  # overloaded pulleys and edges marked like anchors (made again once a drag pauses)
+            from sketchpad.hardware_marks import hardware_labels
+
+            if getattr(self, "_zones_due", True) or not hasattr(self, "_hw_labels"):
+                self._hw_labels = hardware_labels(rig, result, pos)
+            labels = labels + self._hw_labels if self._hw_labels else labels
         self.force_item.labels, self.force_item.arrows = labels, arrows
         if self.layers["zones"] and not getattr(self, "_zones_due", True):
             pass  # a drag step: zones follow the settled result

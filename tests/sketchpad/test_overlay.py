@@ -160,7 +160,8 @@ def test_layer_toggles_in_the_view_menu_hide_and_show_labels(main_window):
     assert live.overlay.labels == [] and live.overlay.force_item.arrows == []
     for name in LAYERS:
         live.layer_actions[name].trigger()
-    assert {lab.kind for lab in live.overlay.labels} == {"tension", "angle", "anchor", "load", "haul"}
+    # the raft's overloaded redirect pulley is marked with the anchors' layer ("hardware")
+    assert {lab.kind for lab in live.overlay.labels} == {"tension", "angle", "anchor", "load", "haul", "hardware"}
 
 
 def test_danger_zones_are_drawn_where_solver_danger_puts_them(main_window):

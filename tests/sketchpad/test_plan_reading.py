@@ -67,3 +67,23 @@ def test_summary_sentences_say_what_the_load_gets_against_what_it_needs(name):
     short = load.required_N - result.loads[load.id].force_N
     assert ("short by" in first) == (short > 0)
     assert all(line.endswith(".") for line in lines) and not any("→" in line for line in lines)
+
+
+def test_the_overloaded_pulley_of_the_raft_is_marked_on_the_plan(main_window):
+    from solver.checks import pass_loads
+    from solver.materials import hardware_for
+    from tests.sketchpad.test_overlay import open_sample
+
+    result = open_sample(main_window, "raft-3to1-redirect.rig.json")
+    rig = main_window.document.rig
+    sf = rig.settings.min_safety_factor
+    # independent of the label code: load x SF / MBS per pass, from the checks' pass loads (vector sum of the legs)
+    over = [(r, at, f) for r, k, at, f in pass_loads(rig, result)
+            if f * sf / hardware_for(rig, rig.rope(r).path[k].hardware).mbs_N >= 1.0]
+    assert over, "the raft sample's redirect pulley is past its allowed load"
+    marks = [lab for lab in main_window.live.overlay.labels if lab.kind == "hardware"]
+    assert sorted(lab.key for lab in marks) == sorted(f"{r}@{at}#hw" for r, at, _f in over)
+    for lab in marks:
+        assert lab.placed  # on the plan, not hidden by the placer
+        assert lab.values["utilization"] >= 1.0 and lab.lines[1].endswith(f"of allowed at {sf:g}:1")
+        assert lab.colour.rgb() == theme.utilization_colour(lab.values["utilization"]).rgb()
