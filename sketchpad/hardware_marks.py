@@ -23,7 +23,7 @@ MARK_FROM_UTIL = 1.0
 
 
 def overloaded_hardware(rig: Rig, result: Result) -> list[tuple[str, str, str, float, float]]:
-    """(rope id, point id, hardware name, load N, use) of every pass whose hardware is at or past its limit."""
+    """(rope id, point id, hardware kind, load N, use) of every pass whose hardware is at or past its limit."""
     from solver.checks import pass_loads
     from solver.errors import RopewrightError
     from solver.materials import hardware_for
@@ -39,7 +39,7 @@ def overloaded_hardware(rig: Rig, result: Result) -> list[tuple[str, str, str, f
             continue
         use = force * sf / float(hw.mbs_N)
         if use >= MARK_FROM_UTIL:
-            out.append((rope_id, at, hw.name, force, use))
+            out.append((rope_id, at, hw.kind, force, use))
     return out
 
 
@@ -56,13 +56,12 @@ def hardware_labels(rig: Rig, result: Result, pos: Mapping[str, tuple[float, flo
         return []
     unit, sf = rig.display.force, float(rig.settings.min_safety_factor)
     labels = []
-    for rope_id, at, name, force, use in marks:
+    for rope_id, at, kind, force, use in marks:
         if at not in pos:
             continue
-        where = rig.point(at).name if rig.has_point(at) else at
-        labels.append(OverlayLabel(
+        labels.append(OverlayLabel(  # short, like an anchor's: the point's own name is beside it
             kind="hardware", key=f"{rope_id}@{at}#hw",
-            lines=(f"{name} at {where} {format_force(force, unit)}", f"{fmt_percent(use)} of allowed at {sf:g}:1"),
+            lines=(f"{kind} {format_force(force, unit)}", f"{fmt_percent(use)} of allowed at {sf:g}:1"),
             values={"force_N": force, "utilization": use}, colour=theme.utilization_colour(use),
             priority=93.0 + min(use, 3.0), base=pos[at], prefer=(0.0, 1.0)))
     return labels
