@@ -38,6 +38,7 @@ log = logging.getLogger(__name__)
 APP_NAME = "Ropewright"
 DEFAULT_SIZE = (1400, 900)
 STATUS_MESSAGE_MS = 6000
+RIGHT_COLUMN_PX = 440  # the docks' width at start: the Forces tables show every column
 
 #: material and hardware ids offered before solver.materials is importable (rig-format library ids)
 FALLBACK_MATERIALS = ("kern-11", "kern-12.5", "throwline-pp-8", "dynamic-10.5", "cord-8", "webbing-25", "sling-hmpe")
@@ -139,6 +140,7 @@ class MainWindow(QMainWindow):
         self.hints = install_hints(self)  # what the sketch still needs and the tool's hint, over the canvas
         self._on_rig_changed(self.document.rig)
         self.resize(*DEFAULT_SIZE)
+        self.resizeDocks([self.properties_dock], [RIGHT_COLUMN_PX], Qt.Horizontal)
 
     def closeEvent(self, event) -> None:  # noqa: N802 - Qt override
         super().closeEvent(event)
@@ -308,7 +310,8 @@ class MainWindow(QMainWindow):
         self.background.install_menus(self.menu_insert, self.menu_tools)
         self.properties_dock = PropertiesDock(self.document, self)
         self.addDockWidget(Qt.RightDockWidgetArea, self.properties_dock)
-        self.splitDockWidget(self.properties_dock, self.history_dock, Qt.Vertical)
+        self.tabifyDockWidget(self.properties_dock, self.history_dock)  # History a tab: the Forces tables get the room
+        self.properties_dock.raise_()
         self.menu_panels.addAction(self.properties_dock.toggleViewAction())
         self.properties_dock.follow_scene(self.canvas)
         self.properties_dock.panel.rig_page.add_section("Background picture", self.background.make_panel())

@@ -52,6 +52,7 @@ def compass(direction_deg: float) -> str:
 def _cell(text: str, sort_value=None, colour: QColor | None = None) -> QStandardItem:
     item = QStandardItem(text)
     item.setEditable(False)
+    item.setToolTip(text)  # a narrow column elides its text
     item.setData(sort_value if sort_value is not None else text, SORT_ROLE)
     if isinstance(sort_value, (int, float)):
         item.setTextAlignment(Qt.AlignRight | Qt.AlignVCenter)
@@ -67,7 +68,9 @@ def _pct(u: float | None) -> str:
 class _Table(QTableView):
     """A read-only table sorted by numeric values (not text) through a proxy model."""
 
-    def __init__(self, headers: list[str], parent=None) -> None:
+    def __init__(self, headers: list[str], parent=None, stretch: str | None = None) -> None:
+        """``stretch``: the one column (a name) that takes the spare width and elides, so every column stays
+        in view in a narrow dock; the others fit their contents."""
         super().__init__(parent)
         self.source = QStandardItemModel(0, len(headers), self)
         self.source.setHorizontalHeaderLabels(headers)
@@ -80,8 +83,13 @@ class _Table(QTableView):
         self.setEditTriggers(QAbstractItemView.NoEditTriggers)
         self.setAlternatingRowColors(True)
         self.verticalHeader().setVisible(False)
-        self.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeToContents)
-        self.horizontalHeader().setStretchLastSection(True)
+        header = self.horizontalHeader()
+        header.setSectionResizeMode(QHeaderView.ResizeToContents)
+        header.setStretchLastSection(stretch is None)
+        if stretch is not None:
+            header.setSectionResizeMode(headers.index(stretch), QHeaderView.Stretch)
+        self.setTextElideMode(Qt.ElideMiddle)
+        self.setWordWrap(False)
 
     def set_rows(self, rows: list[list[QStandardItem]]) -> None:
         header = self.horizontalHeader()
@@ -116,9 +124,9 @@ class ResultsPanel(QWidget):
         self.summary.setTextInteractionFlags(Qt.TextSelectableByMouse)
         self.status = QLabel("")
         self.status.setWordWrap(True)
-        self.segments = _Table(["rope", "piece", "tension", "stretch", "use"])
-        self.anchors = _Table(["anchor", "force", "direction", "capacity", "use", "hold range"])
-        self.hardware = _Table(["hardware", "rope", "at", "load", "MBS", "use"])
+        self.segments = _Table(["rope", "piece", "tension", "stretch", "use"], stretch="piece")
+        self.anchors = _Table(["anchor", "force", "direction", "capacity", "use", "hold range"], stretch="anchor")
+        self.hardware = _Table(["hardware", "rope", "at", "load", "MBS", "use"], stretch="hardware")
         self.tabs = QTabWidget()
         self.tabs.addTab(self.segments, "Rope pieces")
         self.tabs.addTab(self.anchors, "Anchors")
