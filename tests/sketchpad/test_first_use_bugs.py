@@ -112,3 +112,21 @@ def test_toolbar_drop_downs_show_names_and_set_ids(main_window):
     assert "pulley" in w.combo_pulley.currentText() and w.combo_pulley.currentText() != "pulley-large"
     w.combo_pulley.setCurrentIndex(w.combo_pulley.findData("pulley-small"))
     assert w.view.defaults.pulley_hardware == "pulley-small"
+
+
+def _dev():
+    spec = importlib.util.spec_from_file_location("dev_script", ROOT / "dev.py")
+    dev = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(dev)
+    return dev
+
+
+def test_dev_run_says_what_is_missing_before_qt_fails():
+    dev = _dev()
+    found, missing = (lambda _name: "libxcb-cursor.so.0"), (lambda _name: None)
+    no_display = dev.display_problem({}, "linux", found)
+    assert "no display" in no_display and "ropewright screenshot" in no_display
+    assert "libxcb-cursor0" in dev.display_problem({"DISPLAY": ":0"}, "linux", missing)
+    assert dev.display_problem({"DISPLAY": ":0"}, "linux", found) is None
+    assert dev.display_problem({"QT_QPA_PLATFORM": "offscreen"}, "linux", missing) is None
+    assert dev.display_problem({}, "darwin", missing) is None
