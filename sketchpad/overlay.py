@@ -2267,7 +2267,9 @@ class ResultOverlay(QObject):
         view.foreground_painters.append(self.legend.paint_on)
         view.foreground_areas.append(self.legend.areas)
         view.viewport().installEventFilter(self)
-        view.scale_changed.connect(lambda _s: self.relayout())
+        from sketchpad.zoom_pacing import ZoomPacer
+
+        self.zoom_pacer = ZoomPacer(self)  # a wheel gesture re-places the labels once, when it stops
         self.rig: Rig | None = None  # the rig the drawn overlay belongs to
         self.result: Result | None = None  # the result drawn (the last good one when greyed)
         self.failed: Result | None = None  # the current failed result, if any
