@@ -106,6 +106,7 @@ class SketchScene(QGraphicsScene):
         self.scale_m_per_px = 0.05
         self.background_item: QGraphicsItem | None = None
         self.item_cache_mode = QGraphicsItem.NoCache  # SketchView turns on pixmap caching for the screen
+        self.rope_names_in_overlay = False  # True while the force overlay places the rope names (sketchpad.rope_names)
 
     # --- model -> items -----------------------------------------------------------------
     def sync(self, rig: Rig) -> None:
@@ -327,6 +328,14 @@ class SketchScene(QGraphicsScene):
         if item is not None:
             item.setZValue(theme.Z_BACKGROUND)
             self.addItem(item)
+
+    def set_rope_names_in_overlay(self, on: bool) -> None:
+        """Let the force overlay place the rope names (True) or the rope items draw them (False)."""
+        if bool(on) != self.rope_names_in_overlay:
+            self.rope_names_in_overlay = bool(on)
+            for key, item in self.items_by_key.items():
+                if key[0] == "rope":
+                    item.update()
 
     def add_overlay_item(self, item: QGraphicsItem) -> None:
         """Add a result-overlay item above the model items (and below tool previews)."""

@@ -2372,6 +2372,7 @@ class ResultOverlay(QObject):
             self.force_item.set_labels([], [], self._m_per_px())
             self.zones_item.set_zones([])
             self.legend.set_shown(False)
+            self.scene.set_rope_names_in_overlay(False)  # the rope items name themselves again
             return
         rig, result = self.rig, self.result
         pos = scene_positions(rig, result)
@@ -2384,6 +2385,12 @@ class ResultOverlay(QObject):
             if getattr(self, "_zones_due", True) or not hasattr(self, "_hw_labels"):
                 self._hw_labels = hardware_labels(rig, result, pos)
             labels = labels + self._hw_labels if self._hw_labels else labels
+        from sketchpad.rope_names import rope_name_labels  # names placed with the numbers, never under them
+
+        pieces_labelled = self.layers["tensions"] or self.layers["stretch"]
+        if pieces_labelled:
+            labels = labels + rope_name_labels(rig, pos, self.__dict__.setdefault("_name_memo", {}))
+        self.scene.set_rope_names_in_overlay(pieces_labelled)
         self.force_item.labels, self.force_item.arrows = labels, arrows
         if self.layers["zones"] and not getattr(self, "_zones_due", True):
             pass  # a drag step: zones follow the settled result

@@ -161,7 +161,8 @@ def test_layer_toggles_in_the_view_menu_hide_and_show_labels(main_window):
     for name in LAYERS:
         live.layer_actions[name].trigger()
     # the raft's overloaded redirect pulley is marked with the anchors' layer ("hardware")
-    assert {lab.kind for lab in live.overlay.labels} == {"tension", "angle", "anchor", "load", "haul", "hardware"}
+    # ... and the rope names are placed with the piece labels ("rope")
+    assert {lab.kind for lab in live.overlay.labels} == {"tension", "angle", "anchor", "load", "haul", "hardware", "rope"}
 
 
 def test_danger_zones_are_drawn_where_solver_danger_puts_them(main_window):

@@ -87,3 +87,44 @@ def test_the_overloaded_pulley_of_the_raft_is_marked_on_the_plan(main_window):
         assert lab.placed  # on the plan, not hidden by the placer
         assert lab.values["utilization"] >= 1.0 and lab.lines[1].endswith(f"of allowed at {sf:g}:1")
         assert lab.colour.rgb() == theme.utilization_colour(lab.values["utilization"]).rgb()
+
+
+@pytest.mark.parametrize("name", ["raft-3to1-redirect.rig.json", "vector-pull.rig.json", "compound-2on3.rig.json",
+                                  "two-point-anchor.rig.json"])
+def test_rope_names_are_placed_clear_of_the_tension_labels(main_window, name):
+    from tests.sketchpad.test_overlay import open_sample
+
+    open_sample(main_window, name)
+    ov = main_window.live.overlay
+    rig = main_window.document.rig
+    assert main_window.canvas.rope_names_in_overlay  # the rope items leave their own names out
+    names = [lab for lab in ov.labels if lab.kind == "rope"]
+    assert sorted(lab.lines[0] for lab in names) == sorted(r.name for r in rig.ropes)
+    m = 1.0 / main_window.view.px_per_m
+
+    def box(lab):
+        x, y, w, h = lab.rect
+        return (lab.at[0] + x * m, lab.at[1] + y * m, lab.at[0] + (x + w) * m, lab.at[1] + (y + h) * m)
+
+    placed = [lab for lab in ov.labels if lab.placed]
+    assert any(lab.kind == "rope" for lab in placed)
+    for lab in placed:
+        if lab.kind != "rope":
+            continue
+        a = box(lab)
+        for other in placed:
+            if other is lab:
+                continue
+            b = box(other)
+            assert a[2] <= b[0] or b[2] <= a[0] or a[3] <= b[1] or b[3] <= a[1], (lab.text, other.text)
+
+
+def test_with_the_piece_labels_off_the_rope_items_name_themselves(main_window):
+    from tests.sketchpad.test_overlay import open_sample
+
+    open_sample(main_window, "raft-3to1-redirect.rig.json")
+    ov = main_window.live.overlay
+    ov.set_layer("tensions", False)
+    ov.set_layer("stretch", False)
+    assert not main_window.canvas.rope_names_in_overlay
+    assert not any(lab.kind == "rope" for lab in ov.labels)
