@@ -15,11 +15,13 @@ from PySide6.QtGui import QLinearGradient, QPainter, QPolygonF
 from sketchpad import theme
 
 TITLE = "Rope use: share of allowed load"
-#: (zone kind whose colours the swatch uses, swatch shape, words); every shape the zone layer draws
+#: (zone kind whose colours the swatch uses, swatch shape, words): every shape the zone layer draws, and the
+#: ring the force layer draws where the solver moved a free point
 ZONE_ROWS: tuple[tuple[str, str, str], ...] = (
     ("bight", "box", "inside of bight: rope snaps in if a redirect fails"),
     ("bight", "arm", "arm from a bight: pulley's flight if its anchor fails"),
     ("recoil", "box", "recoil band: a broken rope whips here"),
+    ("", "ring", "ring: where the solver moved a free point"),
 )
 ROW_GAP_PX = 2.0
 
@@ -54,6 +56,15 @@ def paint_wedge(p: QPainter, ramp: QRectF, top_util: float, grey: bool) -> None:
 def paint_rows(p: QPainter, x: float, y: float, line_height: float, ascent: float) -> None:
     """The zone rows from (x, y) down: a swatch in the zone's fill and hatch, then its words."""
     for kind, shape, text in ZONE_ROWS:
+        if shape == "ring":  # as ForceItem draws it: the solved place beside the marker drawn where it was put
+            p.setPen(theme.pixel_pen(theme.OVERLAY_LEADER, 1.3))
+            p.setBrush(Qt.NoBrush)
+            p.drawEllipse(QPointF(x + 7, y + line_height / 2), theme.OVERLAY_SOLVED_POINT_PX,
+                          theme.OVERLAY_SOLVED_POINT_PX)
+            p.setPen(theme.OVERLAY_LABEL_TEXT)
+            p.drawText(QPointF(x + 18, y + ascent), text)
+            y += line_height + ROW_GAP_PX
+            continue
         fill, hatch = theme.zone_brushes(kind)
         if shape == "arm":  # a narrow strip standing out of a triangle's tip, as drawn on the plan
             box = QRectF(x + 4, y + 1, 6, line_height - 3)
