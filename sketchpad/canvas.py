@@ -153,9 +153,9 @@ class SketchScene(QGraphicsScene):
             wanted.add(key)
             item = items.get(key)
             if item is None:
-                item = ForceItem(i, f, unit)
+                item = ForceItem(i, f, unit, rig.view)
                 self._add(item)
-            item.set_force(f, at.xy, unit)
+            item.set_force(f, at.xy, unit, rig.view)
         for r in rig.ropes:
             key = ("rope", r.id)
             wanted.add(key)
@@ -177,7 +177,7 @@ class SketchScene(QGraphicsScene):
         touched; what the full sync would do to every other item is nothing (tested equal to a full sync)."""
         if (serial != self._items_serial or rig.ropes is not last_rig.ropes or rig.forces is not last_rig.forces
                 or rig.site.features is not last_rig.site.features or rig.display.force != last_rig.display.force
-                or len(rig.points) != len(last_rig.points)):
+                or rig.view != last_rig.view or len(rig.points) != len(last_rig.points)):
             return False
         changed = [(p, q) for p, q in zip(rig.points, last_rig.points) if p is not q]
         items = self.items_by_key
@@ -199,7 +199,7 @@ class SketchScene(QGraphicsScene):
                 if f.at in moved:
                     item = items.get(("force", i))
                     if item is not None:
-                        item.set_force(f, by_id[f.at].xy, unit)
+                        item.set_force(f, by_id[f.at].xy, unit, rig.view)
         self._layout_ropes(by_id, (last_by_id, moved))
         self._synced = (rig, by_id, serial)
         return True

@@ -9,7 +9,7 @@ overlay's label builder and placer, and the scene is painted with
 this module paints what the screen shows in the view's corners and what a page
 needs: a grid, a scale bar, a north arrow, a key (point kinds, ropes, the
 utilization ramp, danger zones), a title block with the system summary and the
-warnings, and the short safety caution.
+warnings, and the two caution lines (solver.cautions.caution_lines).
 
 Every device is laid out at 96 logical pixels per inch (the screen's scale), so
 theme sizes given in pixels and fonts in points keep their proportions: a PNG
@@ -503,8 +503,9 @@ def units_line(rig: Rig) -> str:
 
 def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str, subtitle: str) -> None:
     """The right-hand panel of a drawing page: title block, solve summary, scale, key, warnings, caution."""
-    from solver.cautions import SHORT_CAUTION
+    from solver.cautions import caution_lines
 
+    caution = " ".join(caution_lines())
     rig, result = drawing.rig, drawing.result
     painter.save()
     painter.setPen(theme.pixel_pen(RULE, 1.0))
@@ -554,7 +555,7 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
         if drawing.zones:
             y += paint_zone_key(painter, QPointF(x, y)) + 4
     # caution at the bottom; warnings fill what is left above it
-    caution_h = wrap_text(painter, QRectF(x, 0, w, 0), SHORT_CAUTION, page_font(SMALL_PT, italic=True), draw=False)
+    caution_h = wrap_text(painter, QRectF(x, 0, w, 0), caution, page_font(SMALL_PT, italic=True), draw=False)
     bottom = inner.bottom() - caution_h - 6
     warnings = list(result.warnings)
     if warnings:
@@ -575,7 +576,7 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
         if shown < len(warnings):
             wrap_text(painter, QRectF(x, y, w, 0), f"… and {len(warnings) - shown} more in the report.",
                       page_font(SMALL_PT, italic=True), MUTED)
-    wrap_text(painter, QRectF(x, inner.bottom() - caution_h, w, 0), SHORT_CAUTION, page_font(SMALL_PT, italic=True), INK)
+    wrap_text(painter, QRectF(x, inner.bottom() - caution_h, w, 0), caution, page_font(SMALL_PT, italic=True), INK)
     painter.restore()
 
 

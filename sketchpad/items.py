@@ -669,7 +669,7 @@ class RopeItem(SketchItem):
 class ForceItem(SketchItem):
     """An external force the planner put on a free point: an arrow and its size, in screen pixels."""
 
-    def __init__(self, index: int, force: Force, unit: str = "kN") -> None:
+    def __init__(self, index: int, force: Force, unit: str = "kN", view: str = "plan") -> None:
         super().__init__(("force", index))
         self.setFlag(QGraphicsItem.ItemIgnoresTransformations, True)
         self.setZValue(theme.Z_FORCE)
@@ -677,15 +677,20 @@ class ForceItem(SketchItem):
         self._text = ""
         self._bounds = QRectF()
         self._shown: tuple | None = None
-        self.set_force(force, (0.0, 0.0), unit)
+        self.set_force(force, (0.0, 0.0), unit, view)
 
-    def set_force(self, force: Force, at_xy: tuple[float, float], unit: str) -> None:
-        """Show ``force`` at ``at_xy`` (site metres); a move alone only repositions the item."""
-        shown = (force, unit)
+    def set_force(self, force: Force, at_xy: tuple[float, float], unit: str, view: str = "plan") -> None:
+        """Show ``force`` at ``at_xy`` (site metres), its size and, in plan, its bearing from north; a move
+        alone only repositions the item."""
+        shown = (force, unit, view)
         if shown != self._shown:
             self._shown = shown
             self.force = force
             text = fmt_force(force.magnitude_N, unit)
+            if view == "plan" and force.magnitude_N > 0:
+                from solver.directions import bearing_deg, bearing_text
+
+                text += f" → {bearing_text(bearing_deg(force.direction_deg))}"
             self._text = f"{text}  {force.label}".strip() if force.label else text
             d = self._direction()
             tip = d * theme.FORCE_LENGTH_PX

@@ -55,7 +55,9 @@ from sketchpad import legend_key, theme
 from sketchpad.drag_layer import Versioned
 from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr, text_advance
 from sketchpad.retained import RetainedLayer, add_damage
+from solver.directions import direction_text
 from solver.model import Rig
+from solver.readouts import ma_short, use_text
 from solver.result import Result
 from solver.units import format_force
 
@@ -394,7 +396,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
     layers = set(layers)
     unit = rig.display.force
     sf = float(rig.settings.min_safety_factor)
-    context = (unit, sf, frozenset(layers))
+    context = (unit, sf, frozenset(layers), rig.view)
     state = memo.get("_state") if memo is not None and memo.get("_context") == context else None
     if state is None:
         state = _LabelState()
@@ -503,16 +505,16 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             hold = anchor_holds.get(aid)
             at = pos[aid]
             # the numbers the label and arrow show (hashing the frozen record itself is slower)
-            mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, p.name, hold, at)
+            mkey = ("n", aid, a.force_N, a.direction_deg, a.utilization, a.capacity_kind, p.name, hold, at, rig.view)
             hit = old.get(mkey)
             if hit is not None:
                 return (aid,), mkey, hit[0], hit[1]
             rad = math.radians(a.direction_deg)
             d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
             colour = theme.utilization_colour(a.utilization)
-            lines = [f"{p.name} {format_force(a.force_N, unit)}"]
+            lines = [f"{p.name} {format_force(a.force_N, unit)}", "toward " + direction_text(a.direction_deg, rig.view, a.force_N)]
             if a.utilization is not None:
-                lines.append(f"{fmt_percent(a.utilization)} of allowed at {sf:g}:1")
+                lines.append(use_text(a, sf))
             else:
                 lines.append("capacity not known")
             values = {"force_N": a.force_N, "direction_deg": a.direction_deg}
@@ -539,13 +541,13 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             p = points.get(lid)
             if lid not in pos or p is None:
                 return (lid,), None, None, None
-            mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid])
+            mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid], rig.view)
             hit = old.get(mkey)
             if hit is not None:
                 return (lid,), mkey, hit[0], None
             rad = math.radians(f.direction_deg)
             d = (math.cos(rad), -math.sin(rad))
-            lines = [f"to {p.name} {format_force(f.force_N, unit)}"]
+            lines = [f"to {p.name} {format_force(f.force_N, unit)}", "toward " + direction_text(f.direction_deg, rig.view, f.force_N)]
             values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
             colour = QColor(theme.UTIL_RAMP[0][1])
             if p.required_N is not None:
@@ -2236,14 +2238,12 @@ class Legend(QWidget):
 
 
 def summary_lines(rig: Rig, result: Result) -> list[str]:
-    """The system in a few lines: MA actual/ideal, then sentences (sketchpad.summary_words)."""
+    """The system in a few lines: MA nominal/ideal/actual, then sentences (sketchpad.summary_words)."""
     from sketchpad.summary_words import sentences
 
     out = []
-    if result.ma_actual is not None:
-        # a drag step leaves the frictionless re-solve to the analysis at the pause
-        ideal = f" / {result.ma_ideal:.2f} ideal" if result.ma_ideal is not None else " / ideal when still"
-        out.append(f"MA {result.ma_actual:.2f} actual{ideal}")
+    if result.ma_actual is not None:  # a drag step leaves nominal and ideal to the analysis at the pause
+        out.append(ma_short(result))
     return out + sentences(rig, result)
 
 

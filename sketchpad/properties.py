@@ -33,6 +33,8 @@ from PySide6.QtWidgets import (
 
 from sketchpad.fields import CommitTextEdit, QuantityField
 from solver import units
+from solver.capacity import CAPACITY_KINDS, KIND_WORDS
+from solver.directions import bearing_deg, direction_from_bearing, direction_text
 from solver.model import (
     ANCHOR_TYPES,
     FEATURE_KINDS,
@@ -197,6 +199,10 @@ class PointPage(_Page):
         self.fixed = QCheckBox("Held still (fixed)")
         self.anchor_type = _combo([(NONE_TEXT, None)] + [(ANCHOR_TYPE_NAMES[t], t) for t in ANCHOR_TYPES])
         self.capacity = self.force_field("capacity", minimum=0, strict=True, optional=True)
+        self.capacity_kind = _combo([(f"{KIND_WORDS[k]} ({'÷ safety factor' if k == 'strength' else 'no factor'})", k)
+                                     for k in CAPACITY_KINDS])
+        self.capacity_kind.setToolTip("Breaking strength: the margin divides it by the rig's safety factor. "
+                                      "Rated working load: already has its factor; warned only above it.")
         self.required = self.force_field("force needed", minimum=0, strict=True, optional=True)
         self.team = QuantityField("team size", "integer", minimum=1, optional=True)
         self.per_person = self.force_field("pull per person", minimum=0, strict=True, optional=True)
@@ -212,6 +218,7 @@ class PointPage(_Page):
             ("y", "North (y)", self.y),
             ("fixed", "", self.fixed),
             ("anchor_type", "Anchor type", self.anchor_type),
+            ("capacity_kind", "Capacity is", self.capacity_kind),
             ("capacity", "Capacity", self.capacity),
             ("required", "Force to free it", self.required),
             ("team", "Team size", self.team),
@@ -232,6 +239,9 @@ class PointPage(_Page):
             lambda _i: self._set("anchor_type", self.anchor_type.currentData(), "Set anchor type")
         )
         self.capacity.committed.connect(lambda v: self._set("capacity_N", v, "Set capacity"))
+        self.capacity_kind.currentIndexChanged.connect(
+            lambda _i: self._set("capacity_kind", self.capacity_kind.currentData(), "Set capacity kind of")
+        )
         self.required.committed.connect(lambda v: self._set("required_N", v, "Set force to free"))
         self.team.committed.connect(lambda v: self._set_haul(team=v))
         self.per_person.committed.connect(lambda v: self._set_haul(force_per_person_N=v))
@@ -269,7 +279,7 @@ class PointPage(_Page):
             return
         new = replace(p, kind=kind)
         if kind != "anchor":
-            new = replace(new, capacity_N=None, anchor_type=None)
+            new = replace(new, capacity_N=None, anchor_type=None, capacity_kind="strength")
         if kind != "load":
             new = replace(new, required_N=None)
         if kind != "haul":
@@ -296,6 +306,9 @@ class PointPage(_Page):
             self.fixed.setChecked(p.is_fixed)
         _set_combo(self.anchor_type, p.anchor_type)
         self.capacity.set_value(p.capacity_N)
+        _set_combo(self.capacity_kind, p.capacity_kind)
+        self.form.labelForField(self.capacity).setText(
+            "Working load" if p.capacity_kind == "working" else "Breaking strength")
         self.required.set_value(p.required_N)
         self.team.set_value(p.team)
         self.per_person.set_value(p.force_per_person_N)
@@ -316,6 +329,7 @@ class PointPage(_Page):
         visible = {
             "anchor_type": p.kind == "anchor",
             "capacity": p.kind == "anchor",
+            "capacity_kind": p.kind == "anchor",
             "required": p.kind == "load",
             "team": p.kind == "haul",
             "per_person": p.kind == "haul",
@@ -503,6 +517,10 @@ class RopePage(_Page):
 
 
 # --- forces and features ---------------------------------------------------------------
+PLAN_DIRECTION_LABEL = "Toward (bearing °, clockwise from north)"
+SIDE_DIRECTION_LABEL = "Toward (° anticlockwise from right; 90 up)"
+
+
 class ForcePage(_Page):
     def __init__(self, panel: "PropertiesPanel") -> None:
         super().__init__(panel)
@@ -516,10 +534,15 @@ class ForcePage(_Page):
         self.form.addRow("Label", self.label)
         self.form.addRow("Acts on", self.at)
         self.form.addRow("Size", self.magnitude)
-        self.form.addRow("Direction (° from east, anticlockwise)", self.direction)
+        self.form.addRow(PLAN_DIRECTION_LABEL, self.direction)
         self.label.committed.connect(lambda v: self._set(label=v or ""))
         self.magnitude.committed.connect(lambda v: self._set(magnitude_N=v))
-        self.direction.committed.connect(lambda v: self._set(direction_deg=float(v) % 360.0))
+        self.direction.committed.connect(self._direction_typed)
+
+    def _direction_typed(self, value) -> None:
+        """A typed direction: a bearing clockwise from north in plan (the file keeps its maths angle)."""
+        v = float(value)
+        self._set(direction_deg=direction_from_bearing(v) if self.rig.view == "plan" else v % 360.0)
 
     def show_force(self, index: int) -> None:
         self.index = index
@@ -541,7 +564,10 @@ class ForcePage(_Page):
         self.label.set_value(f.label)
         self.at.setText(rig.point(f.at).name if rig.has_point(f.at) else f.at)
         self.magnitude.set_value(f.magnitude_N)
-        self.direction.set_value(f.direction_deg)
+        plan = rig.view == "plan"
+        self.form.labelForField(self.direction).setText(PLAN_DIRECTION_LABEL if plan else SIDE_DIRECTION_LABEL)
+        self.direction.set_value(round(bearing_deg(f.direction_deg), 1) % 360.0 if plan else f.direction_deg)
+        self.direction.setToolTip(direction_text(f.direction_deg, rig.view, f.magnitude_N))
 
 
 class FeaturePage(_Page):

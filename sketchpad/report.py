@@ -3,9 +3,9 @@
 ``write_report(rig, path)`` lays out, on A4 (metric rigs) or US Letter (imperial
 rigs): title, date and notes; the drawing with its forces (the same offscreen
 scene as :mod:`sketchpad.export`, so it matches the screen); the mechanical
-advantage (actual and ideal), haulers needed (:mod:`solver.hauling`) and the
+advantage (nominal, ideal and actual), haulers needed (:mod:`solver.hauling`) and the
 warnings; tables of rope pieces (tension, stretch, safety factor = MBS ÷
-tension), anchors (resultant, direction, capacity, safety factor) and hardware
+tension), anchors (resultant, bearing, capacity and its kind, the margin it gives) and hardware
 (load at each pulley, carabiner or edge against its MBS); a plot of MA and peak
 anchor load against the haul force (:mod:`solver.sweep`, matplotlib Agg); the
 assumptions (specs and their sources, friction, motion, safety factor); and the
@@ -46,6 +46,8 @@ from sketchpad.export import (
 from solver.materials import used_hardware_ids, used_material_ids
 from solver.model import Rig
 from solver.result import Result
+from solver.directions import NO_DIRECTION, direction_heading, direction_text
+from solver.readouts import capacity_text, ma_long
 from solver.units import format_force, format_length, force_to
 
 log = logging.getLogger(__name__)
@@ -54,7 +56,7 @@ MARGIN_IN = 0.6  # page margin, inches
 DPI = 96.0
 BODY_PT, SMALL_PT, TABLE_PT, HEAD_PT, TITLE_PT = 9.0, 7.5, 8.0, 11.0, 16.0
 #: (drawing height, plot height) tried in turn until the report fits on two pages
-LAYOUTS = ((400.0, 240.0), (360.0, 220.0), (320.0, 200.0))
+LAYOUTS = ((400.0, 240.0), (360.0, 220.0), (320.0, 200.0), (280.0, 180.0))
 KEY_H_PX = 46.0
 PLOT_DPI = 200
 SWEEP_STEPS = 13
@@ -154,36 +156,33 @@ def rope_table(rig: Rig, result: Result) -> Table:
     return t
 
 
-def direction_words(rig: Rig, direction_deg: float) -> str:
-    """Which way an anchor is pulled: a compass bearing in plan, above/below horizontal in elevation."""
-    if rig.view == "elevation":
-        a = (direction_deg + 180.0) % 360.0 - 180.0  # (-180, 180]
-        side = "right" if abs(a) < 90 else "left"
-        elev = a if abs(a) <= 90 else (180.0 - a if a > 0 else -180.0 - a)
-        if abs(elev) < 0.5:
-            return f"level, to the {side}"
-        return f"{abs(elev):.0f}° {'above' if elev > 0 else 'below'} level, to the {side}"
-    bearing = (90.0 - direction_deg) % 360.0
-    names = ("N", "NNE", "NE", "ENE", "E", "ESE", "SE", "SSE", "S", "SSW", "SW", "WSW", "W", "WNW", "NW", "NNW")
-    return f"toward {bearing:03.0f}° ({names[int((bearing + 11.25) // 22.5) % 16]})"
+def direction_words(rig: Rig, direction_deg: float, force_N: float | None = None) -> str:
+    """Which way an anchor is pulled: a bearing from north in plan, words in elevation (solver.directions)."""
+    text = direction_text(direction_deg, rig.view, force_N)
+    return text if text == NO_DIRECTION or rig.view == "elevation" else f"toward {text}"
 
 
 def anchor_table(rig: Rig, result: Result) -> Table:
     """One row per anchor: resultant, which way it pulls, capacity and safety factor capacity ÷ resultant."""
     fu = rig.display.force
-    t = Table("Anchors", ("Anchor", "Resultant", "Pulled", "Capacity", "Safety factor"), [],
-              (1.6, 1.1, 1.9, 1.1, 1.0), frozenset({1, 3, 4}),
-              note="Resultant = vector sum of everything attached. Bearings are clockwise from north (up the page)."
-              if rig.view == "plan" else "Resultant = vector sum of everything attached.")
+    t = Table("Anchors", ("Anchor", "Resultant", direction_heading(rig.view, "Pulled"), "Capacity", "Margin"), [],
+              (1.5, 1.1, 1.7, 1.3, 1.3), frozenset({1, 3, 4}),
+              note="Resultant = vector sum of everything attached. "
+                   + ("Bearings are clockwise from north (up the page). " if rig.view == "plan" else "")
+                   + f"Margin on a breaking strength: strength ÷ resultant (red below "
+                   f"{rig.settings.min_safety_factor:g}:1); on a rated working load: the share used, no factor "
+                   "applied (red above 100 %).")
     for aid, a in result.anchors.items():
         extra = ""
         hold = result.hold_anchor_range.get(aid)
         if hold is not None:
             extra = f" (hold {format_force(hold.low, fu)} – {format_force(hold.high, fu)})"
-        t.rows.append((_pname(rig, aid), format_force(a.force_N, fu) + extra, direction_words(rig, a.direction_deg),
-                       format_force(a.capacity_N, fu) if a.capacity_N is not None else "not given",
-                       sf_text(a.capacity_N, a.force_N)))
-        if sf_low(rig, a.capacity_N, a.force_N):
+        working = a.capacity_kind == "working" and a.capacity_N is not None
+        margin = (f"{100 * a.force_N / a.capacity_N:.0f} % of working load" if working
+                  else sf_text(a.capacity_N, a.force_N) + (" on strength" if a.capacity_N is not None else ""))
+        t.rows.append((_pname(rig, aid), format_force(a.force_N, fu) + extra,
+                       direction_words(rig, a.direction_deg, a.force_N), capacity_text(a, fu), margin))
+        if (a.force_N > a.capacity_N) if working else sf_low(rig, a.capacity_N, a.force_N):
             t.flagged.add(len(t.rows) - 1)
     return t
 
@@ -214,10 +213,8 @@ def hardware_table(rig: Rig, result: Result) -> Table:
 
 
 def ma_sentence(result: Result) -> str:
-    if result.ma_actual is None:
-        return "No mechanical advantage: the rig has no haul team pulling a load."
-    ideal = f", ideal {result.ma_ideal:.2f}:1 (every pass frictionless, same geometry)" if result.ma_ideal else ""
-    return f"Mechanical advantage: actual {result.ma_actual:.2f}:1 (with the friction of the rig){ideal}."
+    """The three mechanical advantages, each named (solver.readouts)."""
+    return ma_long(result)
 
 
 def haul_sentences(rig: Rig, result: Result) -> list[str]:
@@ -263,7 +260,8 @@ def assumption_lines(rig: Rig) -> list[str]:
         if rig.view == "plan" else "Elevation view: seen from the side, gravity acts downward on loads with a mass.",
         "Motion and friction — " + MOTION_WORDS.get(rig.settings.motion, rig.settings.motion),
         f"Minimum safety factor: {rig.settings.min_safety_factor:g}:1 (strength ÷ load) for ropes, hardware "
-        "and anchors; anchors without a capacity are not checked.",
+        "and anchors given a breaking strength; an anchor given a rated working load is held to that load "
+        "with no further factor; anchors without a capacity are not checked.",
         "Ropes are elastic and tension-only (stretch from each material's curve); anchors do not move; each "
         "straight piece carries one tension.",
     ]
@@ -332,6 +330,8 @@ def plot_image(rig: Rig, table, drawn: float, words: str, width_px: float, heigh
     ax1, ax2 = fig.subplots(1, 2)
     ax1.plot(x, table.column("ma_actual"), "o-", ms=3, color="#1c64a8", label="actual MA")
     ax1.plot(x, table.column("ma_ideal"), "--", color="#55554f", label="ideal MA")
+    if any(math.isfinite(v) for v in table.column("ma_nominal")):
+        ax1.plot(x, table.column("ma_nominal"), ":", color="#1d1d1a", label="nominal MA")
     ax1.set_ylabel("mechanical advantage (:1)")
     ax1.legend(loc="best", fontsize=7)
     peak = [force_to(v, fu) if math.isfinite(v) else math.nan for v in table.column("peak_anchor_N")]

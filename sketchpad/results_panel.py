@@ -1,10 +1,11 @@
 """The Forces dock: the solver's numbers in sortable tables, a summary line, and the warnings to act on.
 
 Tabs list rope pieces (rope, piece, tension, stretch, utilization), anchors (force,
-direction, capacity, use; in ``hold`` the range static friction allows) and hardware
+direction as a bearing from north in plan or words in elevation, capacity with its kind,
+use with the margin it was taken against; in ``hold`` the range static friction allows) and hardware
 (load on each pulley, carabiner or edge against its MBS, from
-:func:`solver.checks.pass_loads`).  The summary gives mechanical advantage actual /
-ideal, haul force, haulers needed and the force delivered to each load against the
+:func:`solver.checks.pass_loads`).  The summary gives the mechanical advantage nominal /
+ideal / actual, haul force, haulers needed and the force delivered to each load against the
 force it needs.  Clicking a warning emits ``subject_activated(subject)``; the window
 selects and centres that item on the canvas.  The panel only shows numbers: it
 never computes forces itself beyond unit conversion and ratios of Result values.
@@ -31,7 +32,9 @@ from PySide6.QtWidgets import (
 )
 
 from sketchpad import theme
+from solver.directions import bearing_deg, direction_heading, direction_text
 from solver.model import Rig
+from solver.readouts import capacity_text, ma_short, use_text
 from solver.result import Result
 from solver.units import force_to, format_force
 
@@ -41,14 +44,6 @@ SORT_ROLE = Qt.UserRole + 1
 SUBJECT_ROLE = Qt.UserRole + 2
 SEVERITY_ORDER = {"danger": 0, "warning": 1, "info": 2}
 SEVERITY_MARK = {"danger": "DANGER:", "warning": "Warning:", "info": "Note:"}  # words: DejaVu has no sign glyphs
-COMPASS = ("E", "ENE", "NE", "NNE", "N", "NNW", "NW", "WNW", "W", "WSW", "SW", "SSW", "S", "SSE", "SE", "ESE")
-
-
-def compass(direction_deg: float) -> str:
-    """The 16-point compass name of a direction given CCW from east (plan view, y north)."""
-    return COMPASS[int(round((direction_deg % 360.0) / 22.5)) % 16]
-
-
 def _cell(text: str, sort_value=None, colour: QColor | None = None) -> QStandardItem:
     item = QStandardItem(text)
     item.setEditable(False)
@@ -125,7 +120,8 @@ class ResultsPanel(QWidget):
         self.status = QLabel("")
         self.status.setWordWrap(True)
         self.segments = _Table(["rope", "piece", "tension", "stretch", "use"], stretch="piece")
-        self.anchors = _Table(["anchor", "force", "direction", "capacity", "use", "hold range"], stretch="anchor")
+        self.anchors = _Table(["anchor", "force", direction_heading("plan"), "capacity", "use", "hold range"],
+                              stretch="anchor")
         self.hardware = _Table(["hardware", "rope", "at", "load", "MBS", "use"], stretch="hardware")
         self.tabs = QTabWidget()
         self.tabs.addTab(self.segments, "Rope pieces")
@@ -205,6 +201,8 @@ class ResultsPanel(QWidget):
 
     def _fill_anchors(self, rig: Rig, result: Result) -> None:
         unit = rig.display.force
+        sf = float(rig.settings.min_safety_factor)
+        self.anchors.source.setHeaderData(2, Qt.Horizontal, direction_heading(rig.view))
         rows = []
         for aid, a in result.anchors.items():
             name = rig.point(aid).name if rig.has_point(aid) else aid
@@ -213,11 +211,11 @@ class ResultsPanel(QWidget):
             rows.append([
                 _cell(name),
                 _cell(format_force(a.force_N, unit), force_to(a.force_N, unit)),
-                _cell(f"{a.direction_deg:.0f}° ({compass(a.direction_deg)})" if rig.view == "plan"
-                      else f"{a.direction_deg:.0f}°", a.direction_deg),
-                _cell("not known" if a.capacity_N is None else format_force(a.capacity_N, unit),
+                _cell(direction_text(a.direction_deg, rig.view, a.force_N),
+                      bearing_deg(a.direction_deg) if rig.view == "plan" else a.direction_deg),
+                _cell("not known" if a.capacity_N is None else capacity_text(a, unit),
                       -1.0 if a.capacity_N is None else force_to(a.capacity_N, unit)),
-                _cell(_pct(a.utilization), -1.0 if a.utilization is None else a.utilization,
+                _cell(use_text(a, sf), -1.0 if a.utilization is None else a.utilization,
                       theme.utilization_colour(a.utilization)),
                 _cell(hold_text, hold.high if hold else -1.0),
             ])
@@ -282,11 +280,10 @@ class ResultsPanel(QWidget):
 
 
 def summary_text(rig: Rig, result: Result) -> str:
-    """MA actual (ideal), then the summary sentences (load reached against needed, haulers, safety factor)."""
+    """MA nominal/ideal/actual, then the summary sentences (load reached against needed, haulers, safety factor)."""
     from sketchpad.summary_words import sentences
 
     parts = []
     if result.ma_actual is not None:
-        ideal = f" (ideal {result.ma_ideal:.2f})" if result.ma_ideal is not None else ""
-        parts.append(f"MA {result.ma_actual:.2f}{ideal}.")
+        parts.append(ma_short(result, pending="—") + ".")
     return " ".join(parts + sentences(rig, result))

@@ -6,7 +6,7 @@ status bar says what to click next and Esc drops the picks without touching the
 rig.  The system is built by :func:`solver.templates.place_template` and pushed as
 one undoable ``Document.apply`` edit, after which it is an ordinary drawing.
 :class:`SystemDialog` does the same from the keyboard: a list of systems with
-their ideal mechanical advantage and description, and combos for the points.
+their nominal mechanical advantage (strand count) and description, and combos for the points.
 """
 
 from __future__ import annotations
@@ -50,7 +50,8 @@ PICK_MARK_PX = 13.0  # ring drawn round each picked point, pixels
 
 
 def ma_text(tpl: Template) -> str:
-    """The ideal mechanical advantage as a planner writes it ("3:1"), or a dash when it depends on the geometry."""
+    """The nominal mechanical advantage (the strand count, solver.nominal_ma) as a planner writes it ("3:1"),
+    or words when it depends on the geometry."""
     if tpl.ma_ideal is None:
         return "depends on angle" if tpl.name.startswith("vector") else "—"
     return f"{tpl.ma_ideal:g}:1"
@@ -303,7 +304,7 @@ DEFAULT_HAUL = "a few metres beyond the anchor (default)"
 
 
 class SystemDialog(QDialog):
-    """Choose a system from a list (ideal MA and description) and its points from combos; Place makes one edit."""
+    """Choose a system from a list (nominal MA and description) and its points from combos; Place makes one edit."""
 
     def __init__(self, document, defaults, parent: QWidget | None = None, select=None, start_pick=None) -> None:
         super().__init__(parent)
@@ -315,7 +316,7 @@ class SystemDialog(QDialog):
         self._start_pick = start_pick
         self.list = QTreeWidget()
         self.list.setObjectName("system_list")
-        self.list.setHeaderLabels(["System", "Ideal MA"])
+        self.list.setHeaderLabels(["System", "Nominal MA"])
         self.list.setRootIsDecorated(False)
         for tpl in TEMPLATES.values():
             item = QTreeWidgetItem([tpl.title, ma_text(tpl)])
@@ -335,7 +336,7 @@ class SystemDialog(QDialog):
         self.extra_boxes = [QComboBox(), QComboBox()]
         self.haul_box = QComboBox()
         form = QFormLayout()
-        form.addRow("Ideal MA", self.ma_label)
+        form.addRow("Nominal MA (strand count)", self.ma_label)
         form.addRow("Load", self.load_box)
         form.addRow("Anchor", self.anchor_box)
         self.extra_labels = [QLabel("Anchor 2"), QLabel("Anchor 3")]

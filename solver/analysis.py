@@ -1,6 +1,7 @@
 """Solve a rig and run its safety checks: the one call the app, the CLI and reports use.
 
-``analyse(rig)`` = :func:`solver.equilibrium.solve` + :func:`solver.checks.run_checks`,
+``analyse(rig)`` = :func:`solver.equilibrium.solve` + the nominal MA (:mod:`solver.nominal_ma`)
++ :func:`solver.checks.run_checks`,
 returning a new frozen :class:`Result` whose ``warnings`` are the solver's own first,
 then the checks' (a finding with the same code, subject and message is kept once).
 It never raises for a bad rig: a failed solve keeps its status and message, and only
@@ -16,6 +17,7 @@ from typing import Mapping
 from solver.checks import run_checks
 from solver.errors import RigModelError, RopewrightError
 from solver.model import Rig
+from solver.nominal_ma import nominal_ma
 from solver.result import Result, Warning_
 
 log = logging.getLogger(__name__)
@@ -46,6 +48,11 @@ def analyse(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None) ->
         log.exception("solver crashed on rig %r", rig.title)
         result = Result(status="diverged", message=f"The solver failed unexpectedly ({type(exc).__name__}); "
                                                    f"the rig could not be checked.")
+    if result.ma_actual is not None:  # the strand count, named beside the ideal and actual MA
+        try:
+            result = replace(result, ma_nominal=nominal_ma(rig, result.points))
+        except Exception:  # noqa: BLE001 - a missing strand count must not cost the user the forces
+            log.exception("nominal MA failed on rig %r", rig.title)
     try:
         found = run_checks(rig, result)
     except Exception as exc:  # noqa: BLE001 - say so loudly rather than show an unchecked rig as safe

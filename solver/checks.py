@@ -9,21 +9,25 @@ a severity (``info``, ``warning``, ``danger``).  Forces are newtons inside and s
 Rules (sources in the tests that hold them):
 
 * Margins: a component with strength S carrying F is ``*-over`` (danger) when F > S and
-  ``*-margin`` (warning) when F x SF > S.  Anchors use their resultant; in ``hold``, the
+  ``*-margin`` (warning) when F x SF > S.  An anchor whose ``capacity_kind`` is ``working``
+  (a rated working load W, :mod:`solver.capacity`) is ``anchor-over`` when F > W, nothing else.  Anchors use their resultant; in ``hold``, the
   high end of ``hold_anchor_range`` when the solver gives it (also for hardware that is
   the only thing on that anchor; rope pieces use the solved tensions).  Rope pieces use their
   tension against the material's MBS.  Hardware at a pass carries the vector sum of the
   two legs there (redirect resultant R = 2T cos(alpha/2) when the legs are equal).
 * ``wide-anchor``: a free point held by exactly two legs tied to anchors (tied or
   sliding at the point: a master point, an equalising sling; not a rope grab between
-  two redirect pulleys) whose included angle exceeds
-  120 deg -- ASME B30.9 does not recommend more.  Message gives the leg force factor
+  two redirect pulleys; not one rope passing through it: a tensioned line, below) whose included
+  angle exceeds 120 deg -- ASME B30.9 does not recommend more.
+* ``line-leg-factor``: a rope passing through a free point between two anchors with a load across it
+  (a highline) whose legs carry more than ``LINE_FACTOR_WARN`` x that load (:mod:`solver.tensioned_line`).  Message gives the leg force factor
   1 / (2 cos(alpha/2)) (each leg's share of the resultant for symmetric legs).
 * ``abrasion``: a rope piece crossing a ``boulder`` or ``hazard`` feature, other than the
   stretch of that crossing which touches an ``edge`` pass (protected, modelled edge) or an
   anchor standing on the feature (the anchor's own wrap).
-* ``overpull``: potential force at the load = haul force x ideal MA (what the team could
-  deliver if friction vanished, e.g. the moment the load breaks free).  Limit, first that
+* ``overpull``: potential force at the load = haul force x the larger of the nominal and the
+  ideal MA (what the team could deliver if friction vanished, e.g. the moment the load breaks
+  free; the strand count when the drawn angles give less).  Limit, first that
   applies: ``settings.overpull_limit_N``; else the least of ``OVERPULL_FACTOR`` x the
   load's ``required_N`` (common practice, no source) and the working strength
   (MBS / SF) of the weakest rope or hardware attached at the load.  Haul motion only.
@@ -56,20 +60,22 @@ from solver.errors import RopewrightError
 from solver.hauling import haulers_needed
 from solver.model import Hardware, Material, Rig
 from solver.result import Result, Warning_
+from solver.tensioned_line import check_tensioned_lines, is_line_leg_pair
 
 log = logging.getLogger(__name__)
 
 #: Every code run_checks can produce, with its meaning (reports and the legend use this).
 CODES: dict[str, str] = {
-    "anchor-over": "an anchor's resultant exceeds its rated capacity",
-    "anchor-margin": "an anchor's resultant times the safety factor exceeds its capacity",
+    "anchor-over": "an anchor's resultant exceeds its breaking strength or rated working load",
+    "anchor-margin": "an anchor's resultant times the safety factor exceeds its breaking strength",
     "anchor-unrated": "a loaded anchor has no capacity entered, so its margin is unknown",
     "rope-over": "a rope, sling or cord piece carries more than its MBS",
     "rope-margin": "a rope, sling or cord piece is below the chosen safety factor",
     "hardware-over": "a pulley, carabiner, ring or edge carries more than its MBS",
     "hardware-margin": "a pulley, carabiner, ring or edge is below the chosen safety factor",
     "spec-unknown": "a rope or hardware spec is missing, so its margin cannot be checked",
-    "wide-anchor": "two anchor legs meet at more than 120 degrees (ASME B30.9)",
+    "wide-anchor": "two anchor legs meet at a master point or sling at more than 120 degrees (ASME B30.9)",
+    "line-leg-factor": "a tensioned line's legs carry more than twice the load across it (T = P / (2 sin θ))",
     "slack-run": "a run of rope carries no load",
     "abrasion": "a rope piece crosses a boulder or hazard without a modelled edge",
     "overpull": "the haul team could pull harder on the load than the set limit",
@@ -188,17 +194,25 @@ def check_anchors(rig: Rig, result: Result) -> list[Warning_]:
                 f"it needs at least {_force(rig, force * sf)} for a {sf:g}:1 safety factor.",
                 "info"))
             continue
+        if p.capacity_kind == "working":  # a rated working load has its factor in it: warn only above it
+            if force > float(cap):
+                out.append(Warning_(
+                    "anchor-over", p.id,
+                    f"{p.name} takes {_force(rig, force)}{held}, more than its rated working load of "
+                    f"{_force(rig, cap)} (no safety factor applied to a working load).",
+                    "danger"))
+            continue
         m = _margin(rig, force, float(cap))
         if m == "over":
             out.append(Warning_(
                 "anchor-over", p.id,
-                f"{p.name} takes {_force(rig, force)}{held}, more than its capacity of {_force(rig, cap)}.",
+                f"{p.name} takes {_force(rig, force)}{held}, more than its breaking strength of {_force(rig, cap)}.",
                 "danger"))
         elif m == "margin":
             out.append(Warning_(
                 "anchor-margin", p.id,
                 f"{p.name} takes {_force(rig, force)}{held}: safety factor {cap / force:.1f}:1, "
-                f"below {sf:g}:1 (capacity {_force(rig, cap)}).",
+                f"below {sf:g}:1 (breaking strength {_force(rig, cap)}).",
                 "warning"))
     return out
 
@@ -366,8 +380,8 @@ def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
             key = frozenset((s.from_point, s.to_point))
             tens[key] = max(tens.get(key, 0.0), float(s.tension_N))
     for here, a1, a2, ang in two_leg_anchors(rig, result):
-        if ang <= WIDE_ANCHOR_DEG:
-            continue
+        if ang <= WIDE_ANCHOR_DEG or is_line_leg_pair(rig, here, a1, a2):
+            continue  # a tensioned line (highline) is checked on its leg-force factor instead
         fac = leg_force_factor(ang) if ang < 179.999 else float("inf")
         fac_txt = f"{fac:.2f}" if math.isfinite(fac) else "an unbounded multiple of"
         t1, t2 = tens.get(frozenset((here, a1))), tens.get(frozenset((here, a2)))
@@ -514,6 +528,13 @@ def overpull_limit(rig: Rig, result: Result, load_id: str) -> tuple[float, str] 
     return min(cands, key=lambda c: c[0]) if cands else None
 
 
+def overpull_ma(result: Result) -> tuple[str, float] | None:
+    """(which, MA) the overpull check multiplies by: the larger (more conservative) of nominal and ideal."""
+    cands = [(name, float(v)) for name, v in (("nominal", result.ma_nominal), ("ideal", result.ma_ideal))
+             if v is not None and math.isfinite(v) and v > 0]
+    return max(cands, key=lambda c: c[1]) if cands else None
+
+
 def check_haul(rig: Rig, result: Result) -> list[Warning_]:
     """Overpull (haul force x ideal MA over the limit) and a load not freed (delivered < required)."""
     out: list[Warning_] = []
@@ -531,13 +552,15 @@ def check_haul(rig: Rig, result: Result) -> list[Warning_]:
         if lr is None:
             continue
         delivered = float(lr.force_N)
-        if result.ma_ideal is not None and result.ma_ideal > 0:
-            potential = total * float(result.ma_ideal)
+        ma_used = overpull_ma(result)
+        if ma_used is not None:
+            which, ma_up = ma_used
+            potential = total * ma_up
             lim = overpull_limit(rig, result, ld.id)
             if lim is not None and potential > lim[0]:
                 out.append(Warning_(
                     "overpull", ld.id,
-                    f"The haul team ({_force(rig, total)}) × ideal MA {result.ma_ideal:.2f} could put "
+                    f"The haul team ({_force(rig, total)}) × {which} MA {ma_up:.2f} could put "
                     f"{_force(rig, potential)} on {ld.name}, over {lim[1]} ({_force(rig, lim[0])}). "
                     f"Use fewer haulers or less mechanical advantage, or watch the load's attachment.",
                     "warning"))
@@ -634,7 +657,7 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
 
 #: Checks that need solved forces, in report order.
 FORCE_CHECKS: tuple[Callable[[Rig, Result], list[Warning_]], ...] = (
-    check_anchors, check_ropes, check_hardware, check_wide_anchors, check_slack,
+    check_anchors, check_ropes, check_hardware, check_wide_anchors, check_tensioned_lines, check_slack,
     check_abrasion, check_haul, check_two_blocked, check_people,
 )
 

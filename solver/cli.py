@@ -14,11 +14,15 @@ import logging
 import sys
 from typing import Callable, Sequence
 
+from solver.cautions import HELP_EPILOG
 from solver.errors import RopewrightError
 
 EXIT_OK = 0
 EXIT_BAD_INPUT = 2
 EXIT_SOLVE_FAILED = 3
+
+#: keeps the caution epilog on its one line
+_RAW = argparse.RawDescriptionHelpFormatter
 
 SUBCOMMANDS = ("solve", "sweep", "render", "report", "screenshot", "open")
 
@@ -38,16 +42,18 @@ def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="ropewright",
         description="Rope-rescue rigging sketchpad and solver. A planning aid only.",
+        epilog=HELP_EPILOG,
+        formatter_class=_RAW,
     )
     sub = parser.add_subparsers(dest="command")
 
-    p = sub.add_parser("solve", help="solve a rig and print its forces")
+    p = sub.add_parser("solve", epilog=HELP_EPILOG, formatter_class=_RAW, help="solve a rig and print its forces")
     p.add_argument("rig", help="a .rig.json file")
     p.add_argument("--json", action="store_true", help="print the result JSON (rig-format.md)")
     p.add_argument("--units", choices=("si", "imperial"), default=None,
                    help="display units (default: the rig's own display setting)")
 
-    p = sub.add_parser("sweep", help="solve a rig over a range of one parameter; write CSV and a plot")
+    p = sub.add_parser("sweep", epilog=HELP_EPILOG, formatter_class=_RAW, help="solve a rig over a range of one parameter; write CSV and a plot")
     p.add_argument("rig")
     p.add_argument("--vary", required=True,
                    help="what to vary, e.g. force:F1, point:A2.x, haul:H1, hardware:pulley-large.efficiency")
@@ -58,21 +64,21 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--plot", default=None, help="plot path (.png/.svg/.pdf; default beside the CSV)")
     p.add_argument("--no-progress", action="store_true")
 
-    p = sub.add_parser("render", help="draw the rig and its forces to PNG, SVG or PDF")
+    p = sub.add_parser("render", epilog=HELP_EPILOG, formatter_class=_RAW, help="draw the rig and its forces to PNG, SVG or PDF")
     p.add_argument("rig")
     p.add_argument("-o", "--output", required=True)
     p.add_argument("--size", default=None, help="WxH pixels for PNG (default 1600x1100)")
 
-    p = sub.add_parser("report", help="write a PDF report of the rig")
+    p = sub.add_parser("report", epilog=HELP_EPILOG, formatter_class=_RAW, help="write a PDF report of the rig")
     p.add_argument("rig")
     p.add_argument("-o", "--output", required=True)
 
-    p = sub.add_parser("screenshot", help="render the whole main window offscreen with a rig open")
+    p = sub.add_parser("screenshot", epilog=HELP_EPILOG, formatter_class=_RAW, help="render the whole main window offscreen with a rig open")
     p.add_argument("rig")
     p.add_argument("-o", "--output", required=True)
     p.add_argument("--size", default="1400x900", help="WxH pixels")
 
-    p = sub.add_parser("open", help="open the app (default when only a file is given)")
+    p = sub.add_parser("open", epilog=HELP_EPILOG, formatter_class=_RAW, help="open the app (default when only a file is given)")
     p.add_argument("rig", nargs="?", default=None)
     p.add_argument("--copy", action="store_true",
                    help="open the file as an untitled copy (Save asks where; samples always open this way)")

@@ -15,8 +15,10 @@ from dataclasses import replace
 from typing import TextIO
 
 from solver import units
-from solver.cautions import SHORT_CAUTION
+from solver.cautions import CAUTION_PARAGRAPHS, caution_lines
+from solver.directions import bearing_or_none, direction_heading, direction_text
 from solver.model import Rig
+from solver.readouts import capacity_text, ma_long, use_text
 from solver.result import Result
 
 EXIT_OK, EXIT_BAD_INPUT, EXIT_SOLVE_FAILED = 0, 2, 3
@@ -56,26 +58,34 @@ def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -
                  units.format_length(s.length_m, length_unit), f"{100 * s.strain:.2f}%", _pct(s.utilization)]
                 for s in result.segments]
         parts.append("\nRope pieces\n" + _table(["rope", "piece", "tension", "length", "stretch", "use of MBS/SF"], rows))
+        toward = direction_heading(rig.view, "pulled toward")
         if result.anchors:
-            rows = [[aid, f(a.force_N), f"{a.direction_deg:.0f}°",
-                     f(a.capacity_N) if a.capacity_N else "unrated", _pct(a.utilization)]
+            sf = float(rig.settings.min_safety_factor)
+            rows = [[aid, f(a.force_N), direction_text(a.direction_deg, rig.view, a.force_N),
+                     capacity_text(a, force_unit), use_text(a, sf)]
                     for aid, a in result.anchors.items()]
-            parts.append("\nAnchors\n" + _table(["anchor", "resultant", "toward", "capacity", "use"], rows))
+            parts.append("\nAnchors\n" + _table(["anchor", "resultant", toward, "capacity", "use"], rows))
         if result.loads:
-            rows = [[lid, f(a.force_N), f"{a.direction_deg:.0f}°"] for lid, a in result.loads.items()]
-            parts.append("\nLoads\n" + _table(["load", "force delivered", "toward"], rows))
+            rows = [[lid, f(a.force_N), direction_text(a.direction_deg, rig.view, a.force_N)]
+                    for lid, a in result.loads.items()]
+            parts.append("\nLoads\n" + _table(["load", "force delivered", toward], rows))
+        if rig.forces:
+            rows = [[f"{rig.point(fc.at).name if rig.has_point(fc.at) else fc.at}"
+                     + (f" ({fc.label})" if fc.label else ""), f(fc.magnitude_N),
+                     direction_text(fc.direction_deg, rig.view, fc.magnitude_N)] for fc in rig.forces]
+            parts.append("\nForces drawn\n" + _table(["on", "size", direction_heading(rig.view, "toward")], rows))
         if result.haul:
             parts.append("\nHaul: " + ", ".join(f"{hid} {f(v)}" for hid, v in result.haul.items()))
         if result.ma_actual is not None:
-            ideal = f"{result.ma_ideal:.2f}" if result.ma_ideal is not None else "—"
-            parts.append(f"Mechanical advantage: actual {result.ma_actual:.2f}:1, ideal {ideal}:1")
+            parts.append("\n" + ma_long(result))
         for rng_name, rng in (("haul", result.hold_haul_range), ("anchor", result.hold_anchor_range)):
             for k, r in rng.items():
                 parts.append(f"Hold range, {rng_name} {k}: {f(r.low)} to {f(r.high)}")
     if result.warnings:
         parts.append("\nWarnings")
         parts += [f"  [{w.code}] {w.subject}: {w.message}" for w in result.warnings]
-    parts.append("\n" + SHORT_CAUTION)
+    parts.append("")
+    parts += [f"Caution: {line}" for line in caution_lines()]
     return "\n".join(parts)
 
 
@@ -91,7 +101,7 @@ def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
     rig = replace(rig, display=replace(rig.display, length=length_unit, force=force_unit))
     result = analyse(rig)
     if args.json:
-        json.dump(_finite(result.to_json()), out, indent=2, allow_nan=False)
+        json.dump(_finite(result_document(rig, result)), out, indent=2, allow_nan=False)
         out.write("\n")
     else:
         out.write(format_result(rig, result, length_unit, force_unit) + "\n")
@@ -99,6 +109,17 @@ def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
         print(f"ropewright: {args.rig}: {result.message}", file=sys.stderr)
         return EXIT_SOLVE_FAILED
     return EXIT_OK
+
+
+def result_document(rig: Rig, result: Result) -> dict:
+    """The ``solve --json`` object: the Result JSON (bearings in plan), the forces drawn, and the cautions."""
+    out = result.to_json(rig.view)
+    out["forces"] = [{"at": fc.at, "label": fc.label, "magnitude_N": fc.magnitude_N,
+                      "direction_deg": fc.direction_deg,
+                      "bearing_deg": bearing_or_none(fc.direction_deg, rig.view, fc.magnitude_N)}
+                     for fc in rig.forces]
+    out["cautions"] = list(CAUTION_PARAGRAPHS)
+    return out
 
 
 def _finite(obj: object) -> object:

@@ -24,6 +24,8 @@ import scipy.sparse
 import scipy.sparse.linalg
 
 from solver import friction
+from solver.capacity import utilization as capacity_utilization
+from solver.units import format_force_sig, format_length
 from solver.assembly import (
     State,
     System,
@@ -967,12 +969,12 @@ def _resultants(s: System, st: State) -> np.ndarray:
     return f
 
 
-def _anchor(fx: float, fy: float, capacity: float | None, sf: float) -> AnchorResult:
+def _anchor(fx: float, fy: float, capacity: float | None, sf: float, kind: str = "strength") -> AnchorResult:
     mag = math.hypot(fx, fy)
-    util = mag * sf / capacity if capacity else None
+    util = capacity_utilization(mag, capacity, kind, sf)
     return record(AnchorResult, force_N=mag,
                   direction_deg=math.degrees(math.atan2(fy, fx)) % 360.0 if mag > 0 else 0.0,
-                  capacity_N=capacity, utilization=util, fx_N=fx, fy_N=fy)
+                  capacity_N=capacity, utilization=util, fx_N=fx, fy_N=fy, capacity_kind=kind)
 
 
 def _mech_advantage(s: System, st: State, f: np.ndarray | None = None) -> float | None:
@@ -1022,13 +1024,14 @@ def _two_blocked(s: System, st: State, kc: np.ndarray) -> list[Warning_]:
             continue
         seen.add(subject)
         push = float(kc[k] * st.pen[k])
+        shown = s.rig.display  # every message in the user's units
         out.append(Warning_(
             code="two-blocked", subject=subject, severity="danger",
             message=f'on rope "{s.piece_rope[k]}" the pass at "{subject}" has run into '
-                    f'"{other}" ({s.s_min[k] * 100:.0f} cm apart): the system is '
-                    f"two-blocked (out of throw) and the hardware bears "
-                    f"{f'{push:.0f} N' if push >= 0.5 else 'under 1 N'} against each other "
-                    "that no rope carries; hauling further only loads the hardware — reset it"))
+                    f'"{other}" ({format_length(float(s.s_min[k]), shown.length)} apart): the system is '
+                    f"two-blocked (out of throw) and the hardware bears {'' if push >= 0.5 else 'under '}"
+                    f"{format_force_sig(push if push >= 0.5 else 1.0, shown.force, 2 if push >= 0.5 else 1)} "
+                    "against each other that no rope carries; hauling further only loads the hardware — reset it"))
     return out
 
 
@@ -1070,14 +1073,16 @@ def _point_records(s: System, at: list, memo: _LastRows, f: np.ndarray, f_list: 
     key = (at, sf)
     old, moved = memo.changed(key, rows)
     caps = [points[i].capacity_N for i in at] if rated else [None] * len(at)
+    kinds = [points[i].capacity_kind for i in at] if rated else ["strength"] * len(at)
     if old is None:
         made = [None] * len(at)
         redo = range(len(at))
     else:  # only the points whose force or capacity changed
         made = list(old)
-        redo = [j for j, (m, a, c) in enumerate(zip(moved.tolist(), old, caps)) if m or a.capacity_N != c]
+        redo = [j for j, (m, a, c, k) in enumerate(zip(moved.tolist(), old, caps, kinds))
+                if m or a.capacity_N != c or a.capacity_kind != k]
     for j in redo:
-        made[j] = _anchor(*f_list[at[j]], caps[j], sf)
+        made[j] = _anchor(*f_list[at[j]], caps[j], sf, kinds[j])
     memo.keep(key, rows, made)
     ids = s.point_ids
     return {ids[i]: a for i, a in zip(at, made)}
@@ -1165,11 +1170,11 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
             message = (f"no equilibrium found after {sol.iterations} iterations: on rope \"{s.piece_rope[k]}\" "
                        f"the pass at {_point_name(rig, runner)} runs into {_point_name(rig, other)} "
                        "(two-blocked) and the rig could not be settled with it jammed there (largest imbalance "
-                       f"{residual:.3g} N at point {_point_name(rig, subject) if subject else ''}); "
+                       f"{format_force_sig(residual, rig.display.force)} at point {_point_name(rig, subject) if subject else ''}); "
                        "give that pass room to run, or tie the rope off where it jams")
         else:
             message = (f"no equilibrium found after {sol.iterations} iterations: the largest imbalance is "
-                       f"{residual:.3g} N at point {_point_name(rig, subject) if subject else ''}; "
+                       f"{format_force_sig(residual, rig.display.force)} at point {_point_name(rig, subject) if subject else ''}; "
                        "check for a part of the rig that nothing holds")
     ma = _mech_advantage(s, st, f)  # (the anchors above are the fixed anchors; loads any load point)
     if not (s.has_friction and motion != "hold"):

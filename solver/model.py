@@ -41,13 +41,14 @@ class Point:
     y: float
     label: str = ""
     fixed: bool | None = None  # None: the kind's default
-    capacity_N: float | None = None  # anchor: rated strength
+    capacity_N: float | None = None  # anchor: rated capacity (its meaning: capacity_kind)
     anchor_type: str | None = None  # anchor: tree, boulder, ...
     required_N: float | None = None  # load: force needed to free it
     mass_kg: float | None = None  # free load in elevation view
     force_N: float | None = None  # haul: total force
     team: int | None = None  # haul: number of haulers
     force_per_person_N: float | None = None  # haul: force each hauler gives
+    capacity_kind: str = "strength"  # anchor: "strength" (÷ safety factor) or "working" (rated working load)
     extra: Mapping[str, Any] = field(default_factory=dict, compare=True)
 
     @property

@@ -57,15 +57,20 @@ class AnchorResult:
     force_N: float
     direction_deg: float  # direction the anchor is pulled toward, CCW from +x
     capacity_N: float | None
-    utilization: float | None  # force x min_safety_factor / capacity, None if capacity unknown
+    utilization: float | None  # force / force allowed (solver.capacity), None if capacity unknown
     fx_N: float = 0.0
     fy_N: float = 0.0
+    capacity_kind: str = "strength"  # what capacity_N is: "strength" (÷ safety factor) or "working"
 
-    def to_json(self) -> dict[str, Any]:
+    def to_json(self, view: str = "plan") -> dict[str, Any]:
+        from solver.directions import bearing_or_none
+
         return {
             "force_N": self.force_N,
             "direction_deg": self.direction_deg,
+            "bearing_deg": bearing_or_none(self.direction_deg, view, self.force_N),
             "capacity_N": self.capacity_N,
+            "capacity_kind": self.capacity_kind,
             "utilization": self.utilization,
         }
 
@@ -106,6 +111,7 @@ class Result:
     haul: Mapping[str, float] = field(default_factory=dict)
     ma_actual: float | None = None
     ma_ideal: float | None = None
+    ma_nominal: float | None = None  # strand count of the topology (solver.nominal_ma), set by analyse
     deflection_deg: Mapping[str, float] = field(default_factory=dict)
     warnings: tuple[Warning_, ...] = ()
     subject: str = ""  # id of the point or rope a failure is about
@@ -120,8 +126,10 @@ class Result:
     def segments_of(self, rope_id: str) -> list[SegmentResult]:
         return [s for s in self.segments if s.rope == rope_id]
 
-    def to_json(self) -> dict[str, Any]:
-        """The result JSON of rig-format.md, plus hold ranges when present."""
+    def to_json(self, view: str = "plan") -> dict[str, Any]:
+        """The result JSON of rig-format.md, plus hold ranges when present (``view``: the rig's, for bearings)."""
+        from solver.directions import bearing_or_none
+
         out: dict[str, Any] = {
             "status": self.status,
             "message": self.message,
@@ -129,10 +137,12 @@ class Result:
             "residual_N": self.residual_N,
             "points": {k: {"x": v[0], "y": v[1]} for k, v in self.points.items()},
             "segments": [s.to_json() for s in self.segments],
-            "anchors": {k: a.to_json() for k, a in self.anchors.items()},
-            "loads": {k: {"force_N": a.force_N, "direction_deg": a.direction_deg} for k, a in self.loads.items()},
+            "anchors": {k: a.to_json(view) for k, a in self.anchors.items()},
+            "loads": {k: {"force_N": a.force_N, "direction_deg": a.direction_deg,
+                          "bearing_deg": bearing_or_none(a.direction_deg, view, a.force_N)}
+                      for k, a in self.loads.items()},
             "haul": {k: {"force_N": f} for k, f in self.haul.items()},
-            "mechanical_advantage": {"actual": self.ma_actual, "ideal": self.ma_ideal},
+            "mechanical_advantage": {"actual": self.ma_actual, "ideal": self.ma_ideal, "nominal": self.ma_nominal},
             "deflection_deg": dict(self.deflection_deg),
             "warnings": [w.to_json() for w in self.warnings],
         }

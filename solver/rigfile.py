@@ -57,7 +57,7 @@ _POINT: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("x", "float", _REQUIRED), ("y", "float", _REQUIRED),
     ("label", "str", ""), ("fixed", "bool", None), ("capacity_N", "float", None), ("anchor_type", "str", None),
     ("required_N", "float", None), ("mass_kg", "float", None), ("force_N", "float", None), ("team", "int", None),
-    ("force_per_person_N", "float", None),
+    ("force_per_person_N", "float", None), ("capacity_kind", "str", "strength"),
 )
 _PASS: _Spec = (("at", "str", _REQUIRED), ("how", "str", "tied"), ("hardware", "str", None))
 _RIGGING: _Spec = (("slack_m", "float", 0.0), ("pretension_N", "float", None))

@@ -2,10 +2,11 @@
 
 ``sweep(rig, "haul:H1", values)`` solves the rig once per value, each solve warm-started
 from the last good geometry, and returns a table with one row per value: status,
-actual and ideal mechanical advantage, anchor forces (N), largest rope tension (N) and
+nominal, ideal and actual mechanical advantage, anchor forces (N), largest rope tension (N) and
 utilisation (tension x safety factor / MBS), deflection angles (degrees) and the force
 delivered to each load (N).  The command
-``ropewright sweep`` writes that table as CSV and plots MA and peak anchor force.
+``ropewright sweep`` writes that table as CSV (after the cautions as ``#`` lines) and plots MA and
+peak anchor force in the rig's display units, with the cautions as a footnote.
 
 What can vary (``--vary``), values in SI:
 ``force:SEL`` an external force's magnitude (SEL = its label, the point it acts on,
@@ -27,6 +28,7 @@ from typing import Callable, Iterable
 
 from solver.errors import RigModelError, RopewrightError
 from solver.model import Hardware, Material, Rig, Rigging
+from solver.nominal_ma import nominal_ma
 from solver.result import Result
 
 log = logging.getLogger(__name__)
@@ -193,8 +195,15 @@ class SweepResult:
         return [r for r in self.rows if r["status"] != "ok"]
 
     def write_csv(self, path: str | Path) -> None:
-        """The table as CSV (SI units in the headers; empty cells where a solve failed)."""
+        """The table as CSV (SI units in the headers; empty cells where a solve failed), after the cautions
+        as ``#`` comment lines (``csv`` readers: skip lines starting with ``#``, e.g. pandas ``comment="#"``)."""
+        from solver.cautions import caution_lines
+
         with open(path, "w", newline="", encoding="utf-8") as fh:
+            for line in caution_lines():
+                fh.write(f"# Caution: {line}\n")
+            fh.write(f"# Units: value = {self.vary.text} in {self.vary.unit or 'no unit'}; columns ending _N in "
+                     "newtons, _deg in degrees; MAs and utilization are ratios\n")
             w = csv.writer(fh)
             w.writerow(self.columns)
             for r in self.rows:
@@ -209,6 +218,7 @@ def _row(value: float, res: Result) -> dict[str, float | str]:
     nan = math.nan
     row["ma_actual"] = res.ma_actual if res.ma_actual is not None else nan
     row["ma_ideal"] = res.ma_ideal if res.ma_ideal is not None else nan
+    row["ma_nominal"] = res.ma_nominal if res.ma_nominal is not None else nan
     anchors = {k: a.force_N for k, a in res.anchors.items()}
     row["peak_anchor_N"] = max(anchors.values()) if anchors else nan
     row["max_tension_N"] = max((s.tension_N for s in res.segments), default=nan)
@@ -244,6 +254,8 @@ def sweep(rig: Rig, vary: str | Vary, values: Iterable[float], progress: Progres
         try:
             r = make(x)
             res = solve(r, start=start)
+            if res.ma_actual is not None and res.ma_nominal is None:
+                res = replace(res, ma_nominal=nominal_ma(r, res.points))
         except RopewrightError as exc:  # a value the rig cannot take (e.g. efficiency 0): a failed row
             res = Result(status="invalid", message=str(exc))
         if res.ok:
@@ -254,7 +266,8 @@ def sweep(rig: Rig, vary: str | Vary, values: Iterable[float], progress: Progres
         results.append(res)
         if progress is not None:
             progress(i + 1, len(vals))
-    cols = ["value", "status", "ma_actual", "ma_ideal", "peak_anchor_N", "max_tension_N", "max_utilization"]
+    cols = ["value", "status", "ma_nominal", "ma_ideal", "ma_actual", "peak_anchor_N", "max_tension_N",
+            "max_utilization"]
     extra: list[str] = []
     for row in rows:
         for k in row:
@@ -285,33 +298,52 @@ class _TextBar:
         self.stream.flush()
 
 
-def plot(result: SweepResult, path: str | Path, force_unit: str = "kN", title: str = "") -> None:
-    """Plot actual/ideal MA and peak anchor force against the varied value (matplotlib, Agg)."""
+def axis_values(vary: Vary, values: list[float], force_unit: str, length_unit: str) -> tuple[list[float], str]:
+    """The varied values in the display units and the axis label naming that unit (forces and lengths
+    follow the rig's units, like every other axis; efficiencies and friction coefficients have none)."""
+    from solver.units import force_to, length_to
+
+    if vary.unit == "N":
+        return [force_to(v, force_unit) for v in values], f"{vary.text} ({force_unit})"
+    if vary.unit == "m":
+        return [length_to(v, length_unit) for v in values], f"{vary.text} ({length_unit})"
+    return list(values), vary.label
+
+
+def plot(result: SweepResult, path: str | Path, force_unit: str = "kN", title: str = "",
+         length_unit: str = "m") -> None:
+    """Plot nominal/ideal/actual MA and peak anchor force against the varied value (matplotlib, Agg),
+    every axis in the display units, with the cautions as a footnote."""
     from matplotlib.figure import Figure  # no pyplot: no global backend, nothing Qt
     from matplotlib.backends.backend_agg import FigureCanvasAgg
 
+    from solver.cautions import caution_lines
     from solver.units import force_to
 
-    x = result.values
-    fig = Figure(figsize=(8, 6), dpi=100)
+    x, x_label = axis_values(result.vary, result.values, force_unit, length_unit)
+    fig = Figure(figsize=(8, 6.4), dpi=100)
     FigureCanvasAgg(fig)
     ax1, ax2 = fig.subplots(2, 1, sharex=True)
-    ax1.plot(x, result.column("ma_actual"), "o-", label="actual MA", markersize=3)
-    ax1.plot(x, result.column("ma_ideal"), "--", label="ideal MA")
+    ax1.plot(x, result.column("ma_actual"), "o-", label="actual MA (friction, stretch)", markersize=3)
+    ax1.plot(x, result.column("ma_ideal"), "--", label="ideal MA (frictionless, drawn angles)")
+    if any(math.isfinite(v) for v in result.column("ma_nominal")):
+        ax1.plot(x, result.column("ma_nominal"), ":", color="black", label="nominal MA (strand count)")
     ax1.set_ylabel("mechanical advantage (:1)")
     ax1.legend(loc="best")
     ax1.grid(True, alpha=0.3)
     peak = [force_to(f, force_unit) if math.isfinite(f) else math.nan for f in result.column("peak_anchor_N")]
     ax2.plot(x, peak, "o-", color="tab:red", markersize=3, label="peak anchor force")
     ax2.set_ylabel(f"peak anchor force ({force_unit})")
-    ax2.set_xlabel(result.vary.label)
+    ax2.set_xlabel(x_label)
     ax2.grid(True, alpha=0.3)
-    failed = [r["value"] for r in result.failed]
+    failed = [x[i] for i, r in enumerate(result.rows) if r["status"] != "ok"]
     for xv in failed:
         for ax in (ax1, ax2):
             ax.axvline(float(xv), color="grey", alpha=0.3, linewidth=4)
     fig.suptitle(title or f"Sweep of {result.vary.text}" + (" (grey: did not solve)" if failed else ""))
-    fig.tight_layout()
+    fig.tight_layout(rect=(0, 0.07, 1, 1))
+    fig.text(0.01, 0.01, "\n".join(f"Caution: {line}" for line in caution_lines()), fontsize=7,
+             ha="left", va="bottom", style="italic")
     fig.savefig(str(path))
 
 
@@ -347,7 +379,8 @@ def run_cli(args: argparse.Namespace) -> int:
         return EXIT_BAD_INPUT
     try:
         result.write_csv(csv_path)
-        plot(result, plot_path, rig.display.force, f"{rig.title or Path(args.rig).name}: {vary.text}")
+        plot(result, plot_path, rig.display.force, f"{rig.title or Path(args.rig).name}: {vary.text}",
+             rig.display.length)
     except OSError as exc:
         print(f"ropewright sweep: cannot write the output: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT

@@ -110,6 +110,14 @@ def format_force(newtons: float, unit: str = "kN", digits: int | None = None) ->
     return f"{text} {unit}"
 
 
+def format_force_sig(newtons: float, unit: str = "kN", sig: int = 3) -> str:
+    """A force to ``sig`` significant figures (a residual, an imbalance), e.g. ``"3.2e-05 kN"``, ``"12.4 lbf"``."""
+    v = force_to(newtons, unit)
+    if not math.isfinite(v):
+        return "—"
+    return f"{v:.{sig}g} {unit}"
+
+
 def _read_number(text: str, default_unit: str, what: str) -> tuple[float, str, str]:
     """Split typed text into (number, unit text, raw text); UnitError in words if it is not a number."""
     raw = (text or "").strip()

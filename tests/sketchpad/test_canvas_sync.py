@@ -117,3 +117,17 @@ def test_remembered_text_advances_equal_fresh_font_metrics(qapp):
         if isinstance(item, RopeItem):
             bold = QFontMetricsF(theme.font(theme.SMALL_POINT_SIZE, bold=True))
             assert item._label_w == bold.horizontalAdvance(item._label), key
+
+
+def test_a_force_arrow_reads_its_bearing_in_plan_and_follows_a_view_change(qapp):
+    # the sample's sideways pull points due east: 0 deg from east (rig-format.md) = bearing 090 (E)
+    from solver.rigfile import load_rig
+    from tests.conftest import SAMPLES
+
+    rig = load_rig(SAMPLES / "vector-pull.rig.json")
+    scene = SketchScene()
+    scene.sync(rig)
+    item = scene.items_by_key[("force", 0)]
+    assert "0.40 kN → 090° (E)" in item._text
+    scene.sync(dataclasses.replace(rig, view="elevation"))  # a side view has no bearing: the arrow shows it
+    assert "→" not in item._text and item._text.startswith("0.40 kN")

@@ -15,6 +15,7 @@ from PySide6.QtGui import QImage
 
 from solver.analysis import analyse
 from solver.cli import main
+from solver.directions import direction_text
 from solver.model import Display
 from solver.rigfile import load_rig, rig_from_dict
 from solver.units import format_force
@@ -102,9 +103,16 @@ def test_svg_parses_and_holds_paths_labels_and_rope_names(qapp, tmp_path, raft):
     shown = [format_force(s.tension_N, rig.display.force) for s in result.segments
              if format_force(s.tension_N, rig.display.force) in text]
     assert len(shown) >= 3, text[:400]
-    assert f"MA {result.ma_actual:.2f} actual" in text
+    # the three MAs, each named (the raft Z: nominal 3:1 by strand count)
+    assert f"MA nominal 3:1 · ideal {result.ma_ideal:.2f}:1 · actual {result.ma_actual:.2f}:1" in text
     for r in rig.ropes:
         assert r.name in text
+    # both caution lines: the planning-aid one and the one on engineered systems and what is not modelled
+    assert "Planning aid only" in text and "qualified engineer" in text and "not modelled" in text
+    # the labels read as bearings from north, the same numbers the dock and the report print
+    # (the alder is pulled toward the grab: atan2(9, -2.6) = 106° as drawn, 103° solved -- ESE either way)
+    for aid, a in result.anchors.items():
+        assert f"toward {direction_text(a.direction_deg, 'plan', a.force_N)}" in text, aid
 
 
 def test_pdf_page_is_landscape_a4_for_metric_and_letter_for_imperial(qapp, tmp_path, raft):
@@ -212,3 +220,4 @@ def test_cancelled_export_writes_nothing_and_a_bad_folder_is_reported(main_windo
     exports.ask_path = lambda *a: tmp_path / "missing" / "x.png"
     assert exports.export_drawing() is None
     assert shown and "does not exist" in shown[0]
+

@@ -115,10 +115,10 @@ def test_a_drag_step_shows_the_live_actual_mechanical_advantage_and_the_ideal_re
     drag = sched.result
     assert drag.ok and not sched.settled and drag.ma_ideal is None
     line = next(t for t in summary_lines(doc.rig, drag) if t.startswith("MA "))
-    assert line == f"MA {drag.ma_actual:.2f} actual / ideal when still"
+    assert line == f"MA nominal when still · ideal when still · actual {drag.ma_actual:.2f}:1"
     sched._settle()  # the pause: the full analysis brings the ideal back
     assert sched.settled and sched.result.ma_ideal is not None
-    assert f"{sched.result.ma_ideal:.2f} ideal" in next(t for t in summary_lines(doc.rig, sched.result)
+    assert f"ideal {sched.result.ma_ideal:.2f}:1" in next(t for t in summary_lines(doc.rig, sched.result)
                                                         if t.startswith("MA "))
     sched.close()
 

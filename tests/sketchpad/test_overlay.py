@@ -71,8 +71,11 @@ def test_anchor_load_and_haul_labels_carry_the_result_numbers(main_window, path)
         lab = anchors[aid]
         assert lab.values["force_N"] == a.force_N and lab.values["direction_deg"] == a.direction_deg
         assert format_force(a.force_N, unit) in lab.lines[0]
-        if a.utilization is not None:
-            assert lab.lines[1].startswith(f"{a.utilization * 100:.0f} %")
+        # the direction reads as a bearing from north, worked independently: atan2(east, north)
+        bearing = round(math.degrees(math.atan2(a.fx_N, a.fy_N)) % 360.0) % 360
+        assert lab.lines[1].startswith(f"toward {bearing:03d}° (")
+        if a.utilization is not None:  # and the margin says what it was taken against
+            assert lab.lines[2] == f"{a.utilization * 100:.0f} % of strength ÷ {rig.settings.min_safety_factor:g}"
     arrows = {ar.point_id: ar for ar in main_window.live.overlay.force_item.arrows}
     for aid, ar in arrows.items():
         rad = math.radians(result.anchors[aid].direction_deg)
@@ -81,6 +84,7 @@ def test_anchor_load_and_haul_labels_carry_the_result_numbers(main_window, path)
     for lid, f in result.loads.items():
         assert loads[lid].values["force_N"] == f.force_N
         assert format_force(f.force_N, unit) in loads[lid].lines[0]
+        assert loads[lid].lines[1].startswith("toward ") and loads[lid].lines[1].endswith(")")
     hauls = labels_of(main_window, "haul")
     for hid, force in result.haul.items():
         lab = hauls[hid]

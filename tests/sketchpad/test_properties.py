@@ -221,9 +221,9 @@ def test_force_magnitude_and_direction(dock, qtbot):
     panel.show_subject("force", 0)
     page = panel.force_page
     type_into(qtbot, page.magnitude, "0.3 kN")
-    type_into(qtbot, page.direction, "-90°")
+    type_into(qtbot, page.direction, "-90°")  # a bearing: -90 = 270 = west = 180 deg from east, anticlockwise
     f = doc.rig.forces[0]
-    assert f.magnitude_N == pytest.approx(300.0) and f.direction_deg == 270.0
+    assert f.magnitude_N == pytest.approx(300.0) and f.direction_deg == 180.0
 
 
 def test_rig_page_when_nothing_selected(dock, qtbot):
@@ -317,3 +317,38 @@ def test_a_drag_elsewhere_leaves_the_rig_page_as_it_is(dock, qtbot):
     assert rp.min_sf.has_error and rp.min_sf.edit.text() == "0.5"
     doc.apply(replace(doc.rig, settings=replace(doc.rig.settings, min_safety_factor=8.0)), "Change rig settings")
     assert not rp.min_sf.has_error and float(rp.min_sf.edit.text().split()[0].rstrip(":1")) == 8.0
+
+
+def test_capacity_kind_is_chosen_in_the_panel_and_names_the_field(dock, qtbot):
+    # The panel says which number is being entered: a breaking strength (÷ safety factor) or a rated
+    # working load (no factor); choosing one is one undoable edit.
+    panel = dock.panel
+    panel.show_subject("point", "A1")
+    page = panel.point_page
+    assert page.capacity_kind.currentData() == "strength"
+    assert page.form.labelForField(page.capacity).text() == "Breaking strength"
+    page.capacity_kind.setCurrentIndex(page.capacity_kind.findData("working"))
+    assert panel.document.rig.point("A1").capacity_kind == "working"
+    assert page.form.labelForField(page.capacity).text() == "Working load"
+    assert panel.document.undo_stack.count() == 1
+    panel.document.undo_stack.undo()
+    assert panel.document.rig.point("A1").capacity_kind == "strength"
+    assert page.capacity_kind.currentData() == "strength"
+
+
+def test_a_force_direction_is_typed_and_shown_as_a_bearing_from_north(dock, qtbot):
+    # The file keeps direction_deg counter-clockwise from east (rig-format.md); the panel reads and takes a
+    # bearing clockwise from north. Worked by hand: east is bearing 090 = 0 deg maths; the test force points
+    # north (90 deg maths) = bearing 000; typing 225 (south-west) stores 90 - 225 = -135 = 225 deg maths.
+    panel = dock.panel
+    panel.show_subject("force", 0)
+    page = panel.force_page
+    assert page.direction.edit.text() == "0"
+    assert "bearing" in page.form.labelForField(page.direction).text()
+    type_into(qtbot, page.direction, "90")
+    assert panel.document.rig.forces[0].direction_deg == pytest.approx(0.0)
+    type_into(qtbot, page.direction, "225")
+    assert panel.document.rig.forces[0].direction_deg == pytest.approx(225.0)
+    type_into(qtbot, page.direction, "300°")
+    assert panel.document.rig.forces[0].direction_deg == pytest.approx(150.0)  # WNW: 90 - 300 + 360
+    assert page.direction.toolTip() == "300° (WNW)"

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import pathlib
 from dataclasses import replace
 
@@ -9,7 +10,7 @@ import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QApplication
 
-from sketchpad.results_panel import SUBJECT_ROLE, compass, summary_text
+from sketchpad.results_panel import SUBJECT_ROLE, summary_text
 from solver.checks import pass_loads
 from solver.hauling import haulers_needed
 from solver.rigfile import load_rig
@@ -67,12 +68,25 @@ def test_anchor_table_shows_force_direction_capacity_and_use(main_window):
         aid = next(a for a in result.anchors if rig.point(a).name == name)
         a = result.anchors[aid]
         assert panel.anchors.cell_text(row, 1) == format_force(a.force_N, rig.display.force)
-        assert panel.anchors.cell_text(row, 2) == f"{a.direction_deg:.0f}° ({compass(a.direction_deg)})"
-        assert panel.anchors.cell_text(row, 4) == f"{a.utilization * 100:.0f} %"
+        # bearing clockwise from north of the resultant (fx east, fy north): atan2(fx, fy), worked here
+        # independently of solver.directions; the word is checked against solver/directions tests
+        bearing = round(math.degrees(math.atan2(a.fx_N, a.fy_N)) % 360.0) % 360
+        assert panel.anchors.cell_text(row, 2).startswith(f"{bearing:03d}° (")
+        assert panel.anchors.cell_text(row, 3).endswith(" strength")  # the samples enter breaking strengths
+        assert panel.anchors.cell_text(row, 4) == f"{a.utilization * 100:.0f} % of strength ÷ 10"
+    # the table says the convention once, in its heading
+    assert panel.anchors.source.headerData(2, Qt.Horizontal) == "direction (bearing from north)"
 
 
-def test_compass_names_follow_counter_clockwise_degrees_from_east():
-    assert [compass(d) for d in (0, 90, 180, 270, 45, 359)] == ["E", "N", "W", "S", "NE", "E"]
+def test_the_raft_anchors_read_as_the_bearings_of_their_pull(main_window):
+    # Hand check on the sample's drawn geometry: the alder A1 (-14, 18) is pulled by the Z toward the grab
+    # G1 (-5, 15.4) and the haul team; east of south-east of it: bearing atan2(dx, dy) of (9, -2.6) = 106 deg,
+    # i.e. ESE (101.25..123.75). The solved resultant swings a few degrees: still ESE.
+    open_sample(main_window, "raft-3to1-redirect.rig.json")
+    panel = main_window.live.panel
+    names = column_values(panel.anchors, "anchor")
+    row = names.index(main_window.document.rig.point("A1").name)
+    assert panel.anchors.cell_text(row, 2).endswith("(ESE)")
 
 
 def test_hardware_table_holds_pulley_loads_from_the_checks(main_window):
@@ -89,7 +103,8 @@ def test_summary_gives_ma_haul_haulers_and_load_delivered(main_window):
     rig = main_window.document.rig
     text = main_window.live.panel.summary.text()
     assert text == summary_text(rig, result)
-    assert f"MA {result.ma_actual:.2f} (ideal {result.ma_ideal:.2f})" in text
+    # the three MAs, each named: the Z counts 3 strands (T-method: 1 + 1 + 1)
+    assert f"MA nominal 3:1 · ideal {result.ma_ideal:.2f}:1 · actual {result.ma_actual:.2f}:1" in text
     load = rig.point("L1")
     n = haulers_needed(load.required_N, result.ma_actual, load.force_per_person_N or rig.point("H1").force_per_person_N)
     unit = rig.display.force
@@ -185,3 +200,22 @@ def test_a_point_no_rope_holds_yet_is_a_calm_note_not_an_alarm(main_window, qtbo
     texts = [panel.warnings.item(i).text() for i in range(panel.warnings.count())]
     assert not any(t.startswith("DANGER") for t in texts)
     assert panel.segments.proxy.rowCount() == len(good.segments)  # the last complete numbers stay, greyed
+
+
+def test_the_dock_says_which_capacity_each_anchor_margin_used(main_window):
+    # bank boulder as a rated working load of 4 kN: use = force / 4 kN (no safety factor); the alder
+    # keeps its breaking strength: use = force x 10 / 20 kN (rig-format.md additions, capacity_kind)
+    rig = load_rig(SAMPLES / "raft-3to1-redirect.rig.json")
+    rig = rig.with_point(replace(rig.point("A2"), capacity_kind="working", capacity_N=4000.0))
+    main_window.document.replace_all(rig, pathlib.Path(SAMPLES / "raft-3to1-redirect.rig.json"))
+    result = main_window.live.scheduler.solve_now()
+    QApplication.processEvents()
+    panel = main_window.live.panel
+    names = column_values(panel.anchors, "anchor")
+    boulder = names.index("bank boulder")
+    f = result.anchors["A2"].force_N
+    assert column_values(panel.anchors, "capacity")[boulder] == "4.00 kN working load"
+    assert column_values(panel.anchors, "use")[boulder] == f"{100 * f / 4000.0:.0f} % of working load"
+    alder = names.index("alder")
+    fa = result.anchors["A1"].force_N
+    assert column_values(panel.anchors, "use")[alder] == f"{100 * fa * 10 / 20000.0:.0f} % of strength ÷ 10"

@@ -82,6 +82,28 @@ def test_anchor_over_is_danger_and_names_the_anchor_in_display_units():
     assert f"{21000.0 / 4.4482216152605:,.0f} lbf" in w.message
 
 
+@pytest.mark.parametrize(
+    "force, expected",
+    # A rated working load of 2 kN (capacity_kind "working") already has its factor in it: no safety
+    # factor is applied (rig-format.md additions). Worked by hand: 1.9 kN < 2 kN -> nothing, where the
+    # same 2 kN read as a breaking strength gives 2 kN / 1.9 kN = 1.05:1 < 10:1, a margin warning;
+    # 2.1 kN > 2 kN -> over, danger, either way.
+    [(1900.0, []), (2100.0, ["anchor-over"])],
+)
+def test_a_working_load_capacity_warns_only_above_it(force, expected):
+    rig = line_rig(cap=2000.0)
+    rig = rig.with_point(replace(rig.point("A"), capacity_kind="working"))
+    res = hand_result(rig, {("r", 0): 1.0}, anchors={"A": anchor_result(force, 2000.0)})
+    found = [w for w in run_checks(rig, res) if w.code.startswith("anchor")]
+    assert [w.code for w in found] == expected
+    if found:
+        assert "rated working load" in found[0].message and found[0].severity == "danger"
+    strength = line_rig(cap=2000.0)  # the same number as a breaking strength: 2 kN / 10 = 0.2 kN allowed
+    res_s = hand_result(strength, {("r", 0): 1.0}, anchors={"A": anchor_result(force, 2000.0)})
+    assert [c for c in codes(run_checks(strength, res_s)) if c.startswith("anchor")] == \
+        (["anchor-margin"] if force <= 2000.0 else ["anchor-over"])
+
+
 def test_unrated_anchor_is_info_when_loaded_and_silent_when_not():
     rig = line_rig(cap=None)
     loaded = hand_result(rig, {("r", 0): 1.0}, anchors={"A": anchor_result(1000.0, None)})
@@ -287,6 +309,20 @@ def test_overpull_when_team_times_ideal_ma_exceeds_twice_required():
     assert 4 * 220.0 * 3.0 > OVERPULL_FACTOR * 1000.0
     safe = haul_rig(required=2000.0)  # limit 4000 N > 2640 N
     assert "overpull" not in codes(run_checks(safe, haul_result(safe, 2385.0, 2.71, 3.0)))
+
+
+def test_overpull_uses_the_larger_of_nominal_and_ideal_ma():
+    # A Z drawn at angles: ideal 2.2 at the drawn angles, nominal 3:1 by strand count. The overpull check
+    # takes the more conservative (larger) one: 4 x 220 N x 3 = 2640 N > 2 x 1200 N = 2400 N (rule in
+    # solver/checks.py, common practice, no source), while 4 x 220 N x 2.2 = 1936 N would pass.
+    rig = haul_rig(required=1200.0)
+    res = replace(haul_result(rig, 1500.0, 1.9, 2.2), ma_nominal=3.0)
+    ws = [w for w in run_checks(rig, res) if w.code == "overpull"]
+    assert len(ws) == 1 and "nominal MA 3.00" in ws[0].message and "2.64 kN" in ws[0].message
+    assert "overpull" not in codes(run_checks(rig, haul_result(rig, 1500.0, 1.9, 2.2)))  # ideal alone: fine
+    # the other way round (ideal above nominal, e.g. a vector-pull stage) the ideal is used
+    res2 = replace(haul_result(rig, 1500.0, 1.9, 3.0), ma_nominal=2.0)
+    assert "ideal MA 3.00" in next(w for w in run_checks(rig, res2) if w.code == "overpull").message
 
 
 def test_overpull_limit_setting_overrides_the_rule():

@@ -373,7 +373,14 @@ def test_straight_through_pulley_pushed_up_its_rope_by_friction_is_named_two_blo
     assert res.status == "ok", rigs.describe(res)
     blocked = [w for w in res.warnings if w.code == "two-blocked"]
     assert [w.subject for w in blocked] == ["P0"] and '"A1"' in blocked[0].message
-    assert "bears under 1 N against each other" in blocked[0].message  # the running rope holds it there
+    assert "bears under 0.001 kN against each other" in blocked[0].message  # the running rope holds it there
+    # the message follows the display units (1 N = 0.22 lbf, NIST SP 811): no N or cm in an imperial rig
+    from dataclasses import replace as _replace
+
+    from solver.model import Display
+    imperial = solve(_replace(rig, display=Display(length="ft", force="lbf")))
+    msg = next(w.message for w in imperial.warnings if w.code == "two-blocked")
+    assert "bears under 0.2 lbf" in msg and " ft apart" in msg and " cm " not in msg and " N " not in msg
     x0, y0 = res.points["P0"]
     assert math.hypot(x0, y0 - 14.0) <= 0.06  # run up its rope into A1 (jammed: centimetres apart)
     # the rope keeps running through the jammed pulley: across it the tension falls by eta (rig-format.md)

@@ -209,7 +209,9 @@ def test_command_writes_a_parseable_csv_and_a_png(tmp_path, solve, capsys):
     assert code == 0, capsys.readouterr().err
     csv_path = tmp_path / "pull-sweep.csv"
     with open(csv_path, newline="") as fh:
-        rows = list(csv.DictReader(fh))
+        lines = fh.read().splitlines()
+    assert lines[0].startswith("# Caution: Planning aid only")  # the cautions come first, as comment lines
+    rows = list(csv.DictReader(line for line in lines if not line.startswith("#")))
     assert len(rows) == 8 and all(r["status"] == "ok" for r in rows)
     assert [float(r["value"]) for r in rows] == pytest.approx(values_between(50, 400, 8))
     ma = [float(r["ma_actual"]) for r in rows]
@@ -241,6 +243,6 @@ def test_command_exits_3_when_some_values_do_not_solve(tmp_path, solve, capsys):
                  "--steps", "3", "-o", str(out), "--plot", str(tmp_path / "z.svg"), "--no-progress"])
     assert code == 3
     assert "did not solve" in capsys.readouterr().err
-    rows = list(csv.DictReader(open(out, newline="")))
+    rows = list(csv.DictReader(line for line in open(out, newline="") if not line.startswith("#")))
     assert [r["status"] == "ok" for r in rows] == [False, True, True]
     assert (tmp_path / "z.svg").stat().st_size > 1000
