@@ -16,7 +16,7 @@ from __future__ import annotations
 import logging
 import math
 
-from PySide6.QtCore import QSortFilterProxyModel, Qt, Signal
+from PySide6.QtCore import Qt, Signal
 from PySide6.QtGui import QColor, QStandardItem, QStandardItemModel
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -47,7 +47,7 @@ SEVERITY_MARK = {"danger": "DANGER:", "warning": "Warning:", "info": "Note:"}  #
 def _cell(text: str, sort_value=None, colour: QColor | None = None) -> QStandardItem:
     item = QStandardItem(text)
     item.setEditable(False)
-    item.setToolTip(text)  # a narrow column elides its text
+    item.setToolTip(text)
     item.setData(sort_value if sort_value is not None else text, SORT_ROLE)
     if isinstance(sort_value, (int, float)):
         item.setTextAlignment(Qt.AlignRight | Qt.AlignVCenter)
@@ -63,13 +63,13 @@ def _pct(u: float | None) -> str:
 class _Table(QTableView):
     """A read-only table sorted by numeric values (not text) through a proxy model."""
 
-    def __init__(self, headers: list[str], parent=None, stretch: str | None = None) -> None:
-        """``stretch``: the one column (a name) that takes the spare width and elides, so every column stays
-        in view in a narrow dock; the others fit their contents."""
+    def __init__(self, headers: list[str], parent=None) -> None:
         super().__init__(parent)
+        from sketchpad.table_fit import WrappedHeadings
+
         self.source = QStandardItemModel(0, len(headers), self)
         self.source.setHorizontalHeaderLabels(headers)
-        self.proxy = QSortFilterProxyModel(self)
+        self.proxy = WrappedHeadings(self)
         self.proxy.setSourceModel(self.source)
         self.proxy.setSortRole(SORT_ROLE)
         self.setModel(self.proxy)
@@ -78,13 +78,18 @@ class _Table(QTableView):
         self.setEditTriggers(QAbstractItemView.NoEditTriggers)
         self.setAlternatingRowColors(True)
         self.verticalHeader().setVisible(False)
-        header = self.horizontalHeader()
-        header.setSectionResizeMode(QHeaderView.ResizeToContents)
-        header.setStretchLastSection(stretch is None)
-        if stretch is not None:
-            header.setSectionResizeMode(headers.index(stretch), QHeaderView.Stretch)
-        self.setTextElideMode(Qt.ElideMiddle)
-        self.setWordWrap(False)
+        # every column in view in a narrow dock: long texts wrap at spaces (sketchpad.table_fit)
+        self.horizontalHeader().setSectionResizeMode(QHeaderView.Interactive)
+        self.setWordWrap(True)
+
+    def resizeEvent(self, event) -> None:  # noqa: N802 - Qt override
+        super().resizeEvent(event)
+        self.fit()
+
+    def fit(self) -> None:
+        from sketchpad.table_fit import fit_columns
+
+        fit_columns(self)
 
     def set_rows(self, rows: list[list[QStandardItem]]) -> None:
         header = self.horizontalHeader()
@@ -96,6 +101,7 @@ class _Table(QTableView):
         self.setSortingEnabled(True)
         if col >= 0:
             self.sortByColumn(col, order)
+        self.fit()
 
     def cell_text(self, row: int, col: int) -> str:
         return self.proxy.index(row, col).data()
@@ -119,10 +125,9 @@ class ResultsPanel(QWidget):
         self.summary.setTextInteractionFlags(Qt.TextSelectableByMouse)
         self.status = QLabel("")
         self.status.setWordWrap(True)
-        self.segments = _Table(["rope", "piece", "tension", "stretch", "use"], stretch="piece")
-        self.anchors = _Table(["anchor", "force", direction_heading("plan"), "capacity", "use", "hold range"],
-                              stretch="anchor")
-        self.hardware = _Table(["hardware", "rope", "at", "load", "MBS", "use"], stretch="hardware")
+        self.segments = _Table(["rope", "piece", "tension", "stretch", "use"])
+        self.anchors = _Table(["anchor", "force", direction_heading("plan"), "capacity", "use", "hold range"])
+        self.hardware = _Table(["hardware", "rope", "at", "load", "MBS", "use"])
         self.tabs = QTabWidget()
         self.tabs.addTab(self.segments, "Rope pieces")
         self.tabs.addTab(self.anchors, "Anchors")

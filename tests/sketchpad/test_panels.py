@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QApplication
 
@@ -23,9 +24,11 @@ def test_forces_tables_show_every_column_at_the_default_window_size(main_window,
         right = max(header.sectionViewportPosition(c) + header.sectionSize(c) for c in range(header.count()))
         assert right <= table.viewport().width() + 1, f"table {i}: columns need {right} px of {table.viewport().width()}"
         assert table.horizontalScrollBar().maximum() == 0
-        for c in range(header.count()):
-            assert header.sectionSize(c) >= header.fontMetrics().horizontalAdvance(
-                table.model().headerData(c, Qt.Horizontal)) * 0.8  # a column never squeezed to nothing
+        model, fm = table.model(), table.fontMetrics()
+        for c in range(header.count()):  # wrapped at spaces, never a word cut: each column holds its widest word
+            texts = [table.source.headerData(c, Qt.Horizontal)] + [model.index(r, c).data() for r in range(model.rowCount())]
+            widest = max(fm.horizontalAdvance(w) for t in texts for w in str(t).split(" ") if w)
+            assert header.sectionSize(c) >= widest, (i, c, texts)
 
 
 def test_history_is_a_tab_behind_properties_not_a_third_of_the_column(main_window):
@@ -33,3 +36,13 @@ def test_history_is_a_tab_behind_properties_not_a_third_of_the_column(main_windo
     tabbed = w.tabifiedDockWidgets(w.properties_dock)
     assert w.history_dock in tabbed
     assert not w.history_dock.isHidden()  # still there, one click away
+
+
+def test_shrink_keeps_natural_widths_that_fit_and_never_goes_below_the_widest_word():
+    from sketchpad.table_fit import shrink
+
+    assert shrink([50, 60], [20, 30], 200) == [50, 60]
+    got = shrink([100, 60, 40], [40, 50, 40], 170)  # 30 px to find in 60 + 10 px of room, in proportion
+    assert got == pytest.approx([100 - 60 * 30 / 70, 60 - 10 * 30 / 70, 40])
+    assert all(g >= m for g, m in zip(got, [40, 50, 40]))
+    assert shrink([100, 60], [90, 55], 100) == [90, 55]  # not enough room to give: the widest words, then scroll
