@@ -14,6 +14,7 @@ from typing import Mapping
 from sketchpad import theme
 from solver.model import Rig
 from solver.result import Result
+from solver.capacity import margin_words
 from solver.units import format_force
 
 log = logging.getLogger(__name__)
@@ -61,7 +62,7 @@ def hardware_labels(rig: Rig, result: Result, pos: Mapping[str, tuple[float, flo
             continue
         labels.append(OverlayLabel(  # short, like an anchor's: the point's own name is beside it
             kind="hardware", key=f"{rope_id}@{at}#hw",
-            lines=(f"{kind} {format_force(force, unit)}", f"{fmt_percent(use)} of allowed at {sf:g}:1"),
+            lines=(f"{kind} {format_force(force, unit)}", f"{fmt_percent(use)} {margin_words('strength', sf)}"),
             values={"force_N": force, "utilization": use}, colour=theme.utilization_colour(use),
             priority=93.0 + min(use, 3.0), base=pos[at], prefer=(0.0, 1.0)))
     return labels

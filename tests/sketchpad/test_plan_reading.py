@@ -85,7 +85,8 @@ def test_the_overloaded_pulley_of_the_raft_is_marked_on_the_plan(main_window):
     assert sorted(lab.key for lab in marks) == sorted(f"{r}@{at}#hw" for r, at, _f in over)
     for lab in marks:
         assert lab.placed  # on the plan, not hidden by the placer
-        assert lab.values["utilization"] >= 1.0 and lab.lines[1].endswith(f"of allowed at {sf:g}:1")
+        # worded as the anchors' labels are: share of the MBS divided by the safety factor
+        assert lab.values["utilization"] >= 1.0 and lab.lines[1].endswith(f"of strength ÷ {sf:g}")
         assert lab.colour.rgb() == theme.utilization_colour(lab.values["utilization"]).rgb()
 
 
