@@ -107,6 +107,8 @@ class SketchScene(QGraphicsScene):
         self.background_item: QGraphicsItem | None = None
         self.item_cache_mode = QGraphicsItem.NoCache  # SketchView turns on pixmap caching for the screen
         self.rope_names_in_overlay = False  # True while the force overlay places the rope names (sketchpad.rope_names)
+        self.shown_at: dict[str, tuple[float, float]] = {}  # free points drawn where the solver put them (site m)
+        self.ghosts = None  # sketchpad.ghosts.GhostItem, made on the first solved places
 
     # --- model -> items -----------------------------------------------------------------
     def sync(self, rig: Rig) -> None:
@@ -118,7 +120,12 @@ class SketchScene(QGraphicsScene):
         """
         last = self._synced
         self.rig = rig
+        if self.shown_at:  # a point drawn elsewhere (dragged, edited, gone) is shown where it is drawn again
+            old = last[1] if last is not None else {}
+            now = {p.id: p for p in rig.points}
+            self.shown_at = {k: v for k, v in self.shown_at.items() if now.get(k) is not None and now[k] is old.get(k)}
         if last is not None and self._sync_moved(rig, *last):
+            self._show_solved()
             self.synced.emit(rig)
             return
         items = self.items_by_key
@@ -166,6 +173,7 @@ class SketchScene(QGraphicsScene):
                 self._remove(key)
         self._layout_ropes(by_id)
         self._synced = (rig, by_id, self._items_serial)
+        self._show_solved()
         self.synced.emit(rig)
 
     def _sync_moved(self, rig: Rig, last_rig: Rig, last_by_id: dict, serial: int) -> bool:
@@ -240,11 +248,14 @@ class SketchScene(QGraphicsScene):
                 continue
             colour = theme.rope_colour(i)
             on_path = tuple(by_id.get(ps.at) for ps in r.path)
-            shown = (r, on_path, colour.rgba(), k)
+            solved = tuple(self.shown_at.get(ps.at) for ps in r.path) if self.shown_at else ()
+            shown = (r, on_path, colour.rgba(), k, solved)
             if item._shown == shown:
                 continue
             drawn = [p for p in on_path if p is not None]  # a pass at a missing point is left out
-            item.set_rope(r, {p.id: to_scene(p.x, p.y) for p in drawn}, {p.id: p.kind for p in drawn}, colour, k)
+            at = self.shown_at
+            item.set_rope(r, {p.id: to_scene(*at.get(p.id, (p.x, p.y))) for p in drawn},
+                          {p.id: p.kind for p in drawn}, colour, k)
             item._shown = shown
         self._laid = (ropes, k, by_id, through)
 
@@ -328,6 +339,55 @@ class SketchScene(QGraphicsScene):
         if item is not None:
             item.setZValue(theme.Z_BACKGROUND)
             self.addItem(item)
+
+    def set_solved(self, places) -> None:
+        """Draw the free points in ``places`` (id -> site metres, :func:`sketchpad.ghosts.moved_free_points`) where
+        the solver put them, with their ropes and forces, and a ghost where they are drawn; None or {}: as drawn."""
+        places = dict(places or {})
+        if places == self.shown_at:
+            return
+        gone = set(self.shown_at) - set(places)
+        self.shown_at = places
+        for pid in gone:  # back to the drawn place
+            item = self.items_by_key.get(("point", pid))
+            if item is not None and self.rig.has_point(pid):
+                p = self.rig.point(pid)
+                item.setPos(to_scene(p.x, p.y))
+        unit = self.rig.display.force
+        for i, f in enumerate(self.rig.forces):
+            if f.at in gone and self.rig.has_point(f.at):
+                item = self.items_by_key.get(("force", i))
+                if item is not None:
+                    item.set_force(f, self.rig.point(f.at).xy, unit, self.rig.view)
+        self._laid = None
+        self._layout_ropes()
+        self._show_solved()
+
+    def _show_solved(self) -> None:
+        """Put the points (and forces) of ``shown_at`` at their solved places and the ghosts at their drawn ones."""
+        from sketchpad.ghosts import GhostItem, ghost_pairs
+
+        at = self.shown_at
+        if at:
+            unit = self.rig.display.force
+            for pid, xy in at.items():
+                item = self.items_by_key.get(("point", pid))
+                pos = to_scene(*xy)
+                if item is not None and item.pos() != pos:
+                    item.setPos(pos)
+            for i, f in enumerate(self.rig.forces):
+                if f.at in at:
+                    item = self.items_by_key.get(("force", i))
+                    if item is not None:
+                        item.set_force(f, at[f.at], unit, self.rig.view)
+        if self.ghosts is None:
+            if not at:
+                return
+            self.ghosts = GhostItem()
+            self.addItem(self.ghosts)
+        pairs = ghost_pairs(self.rig, at)
+        if pairs != self.ghosts.pairs:
+            self.ghosts.set_pairs(pairs)
 
     def set_rope_names_in_overlay(self, on: bool) -> None:
         """Let the force overlay place the rope names (True) or the rope items draw them (False)."""
@@ -502,13 +562,15 @@ class SketchView(QGraphicsView):
     def pick_point(self, view_pos: QPoint, exclude=(), kinds=None) -> str | None:
         """The id of the point nearest ``view_pos`` within the pick radius, or None."""
         best, best_d = None, PICK_RADIUS_PX
+        shown_at = self.sketch_scene.shown_at
         for p in self.sketch_scene.rig.points:
             if p.id in exclude or (kinds is not None and p.kind not in kinds):
                 continue
-            q = self.mapFromScene(to_scene(p.x, p.y))
-            d = math.hypot(q.x() - view_pos.x(), q.y() - view_pos.y())
-            if d <= best_d:
-                best, best_d = p.id, d
+            for xy in ((p.x, p.y), shown_at[p.id]) if p.id in shown_at else ((p.x, p.y),):  # marker or its ghost
+                q = self.mapFromScene(to_scene(*xy))
+                d = math.hypot(q.x() - view_pos.x(), q.y() - view_pos.y())
+                if d <= best_d:
+                    best, best_d = p.id, d
         return best
 
     def item_at(self, view_pos: QPoint) -> SketchItem | None:

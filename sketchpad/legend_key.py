@@ -16,12 +16,12 @@ from sketchpad import theme
 
 TITLE = "Rope use: share of allowed load"
 #: (zone kind whose colours the swatch uses, swatch shape, words): every shape the zone layer draws, and the
-#: ring the force layer draws where the solver moved a free point
+#: ghost left where a point the solver moved was drawn
 ZONE_ROWS: tuple[tuple[str, str, str], ...] = (
     ("bight", "box", "inside of bight: rope snaps in if a redirect fails"),
     ("bight", "arm", "arm from a bight: pulley's flight if its anchor fails"),
     ("recoil", "box", "recoil band: a broken rope whips here"),
-    ("", "ring", "ring: where the solver moved a free point"),
+    ("", "ghost", "dashed ring: where a point was drawn; the solver moved it"),
 )
 ROW_GAP_PX = 2.0
 
@@ -56,11 +56,11 @@ def paint_wedge(p: QPainter, ramp: QRectF, top_util: float, grey: bool) -> None:
 def paint_rows(p: QPainter, x: float, y: float, line_height: float, ascent: float) -> None:
     """The zone rows from (x, y) down: a swatch in the zone's fill and hatch, then its words."""
     for kind, shape, text in ZONE_ROWS:
-        if shape == "ring":  # as ForceItem draws it: the solved place beside the marker drawn where it was put
-            p.setPen(theme.pixel_pen(theme.OVERLAY_LEADER, 1.3))
+        if shape == "ghost":  # as sketchpad.ghosts draws it at the drawn place of a point the solver moved
+            p.setPen(theme.pixel_pen(theme.GHOST, 1.2, Qt.DashLine))
             p.setBrush(Qt.NoBrush)
-            p.drawEllipse(QPointF(x + 7, y + line_height / 2), theme.OVERLAY_SOLVED_POINT_PX,
-                          theme.OVERLAY_SOLVED_POINT_PX)
+            r = min(theme.GHOST_RADIUS_PX, line_height / 2 - 1)
+            p.drawEllipse(QPointF(x + 7, y + line_height / 2), r, r)
             p.setPen(theme.OVERLAY_LABEL_TEXT)
             p.drawText(QPointF(x + 18, y + ascent), text)
             y += line_height + ROW_GAP_PX

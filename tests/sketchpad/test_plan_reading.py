@@ -3,10 +3,12 @@ the key's words, and the summary as sentences."""
 
 from __future__ import annotations
 
+import math
 import pathlib
 
 import pytest
 from PySide6.QtGui import QColor
+from PySide6.QtWidgets import QApplication
 
 from sketchpad import legend_key, theme
 from sketchpad.summary_words import sentences
@@ -129,3 +131,46 @@ def test_with_the_piece_labels_off_the_rope_items_name_themselves(main_window):
     ov.set_layer("stretch", False)
     assert not main_window.canvas.rope_names_in_overlay
     assert not any(lab.kind == "rope" for lab in ov.labels)
+
+
+def test_a_point_the_solver_moved_is_drawn_where_it_ended_with_a_ghost_where_it_was_drawn(main_window, mouse, qtbot):
+    from sketchpad.geometry import to_scene
+    from tests.sketchpad.test_overlay import open_sample
+
+    result = open_sample(main_window, "vector-pull.rig.json")
+    canvas, view = main_window.canvas, main_window.view
+    rig = main_window.document.rig
+    hand = rig.point("V1")
+    solved = result.points["V1"]
+    assert math.dist(solved, hand.xy) > 0.5  # the sideways pull moves the ring along and off the line
+    assert canvas.item_for(("point", "V1")).pos() == to_scene(*solved)
+    force = next(i for i, f in enumerate(rig.forces) if f.at == "V1")
+    assert canvas.item_for(("force", force)).pos() == to_scene(*solved)  # the pull arrow starts at the ring
+    rope = canvas.item_for(("rope", rig.ropes[0].id))
+    assert rope.shape().contains(to_scene(*solved)) or rope.boundingRect().contains(to_scene(*solved))
+    assert canvas.ghosts.pairs == [(to_scene(*hand.xy), to_scene(*solved))]
+    # the marker at its solved place is what a click picks
+    assert view.pick_point(view.mapFromScene(to_scene(*solved))) == "V1"
+    # dragged, the point is shown at its drawn place again (under the cursor) until a settled result says otherwise
+    from sketchpad.ghosts import moved_free_points
+
+    mouse.drag(*solved, solved[0] + 1.0, solved[1])
+    moved = main_window.document.rig.point("V1")
+    assert moved.xy != hand.xy
+    sched = main_window.live.scheduler
+    sched.solve_now()
+    QApplication.processEvents()
+    assert canvas.shown_at == moved_free_points(main_window.document.rig, sched.result)
+    where = canvas.shown_at.get("V1", moved.xy)
+    assert canvas.item_for(("point", "V1")).pos() == to_scene(*where)
+
+
+def test_moved_free_points_are_the_free_points_past_the_threshold():
+    from sketchpad.ghosts import MOVED_M, moved_free_points
+
+    rig = load_rig(SAMPLES / "vector-pull.rig.json")
+    result = analyse(rig)
+    got = moved_free_points(rig, result)
+    for p in rig.points:  # independent of the function: every free point the solve moved past the threshold
+        far = p.id in result.points and math.dist(result.points[p.id], p.xy) > MOVED_M
+        assert (p.id in got) == (far and not p.is_fixed and p.kind != "person")
