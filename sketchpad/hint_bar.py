@@ -19,6 +19,12 @@ from PySide6.QtWidgets import QLabel, QWidget
 from sketchpad import theme
 
 
+def top_strip_width(viewport_width: int) -> int:
+    """Width (px) of a strip across the top of the canvas (the hint, the failure banner), clear of the north arrow."""
+    right = theme.NORTH_ARROW_PX + 2 * theme.HUD_MARGIN_PX
+    return max(160, viewport_width - theme.BANNER_MARGIN_PX - right)
+
+
 class HintBar(QLabel):
     """A word-wrapped strip at the top of the viewport with the sketch state and the tool's hint."""
 
@@ -73,15 +79,12 @@ class HintBar(QLabel):
 
     def place(self) -> None:
         """Top left of the canvas, clear of the north arrow, below the failure banner when it is shown."""
-        vp = self.parentWidget().rect()
-        m = theme.BANNER_MARGIN_PX
-        right = theme.NORTH_ARROW_PX + 2 * theme.HUD_MARGIN_PX
-        w = max(160, vp.width() - m - right)
+        w = top_strip_width(self.parentWidget().rect().width())
         self.resize(w, self.heightForWidth(w))
-        top = m
+        top = theme.BANNER_MARGIN_PX
         if self.banner is not None and not self.banner.isHidden():
             top = self.banner.geometry().bottom() + 4
-        self.move(m, top)
+        self.move(theme.BANNER_MARGIN_PX, top)
 
     def eventFilter(self, obj: QObject, event) -> bool:  # noqa: N802 - Qt override
         if event.type() == QEvent.Resize and obj is self.parentWidget() and not self.isHidden():

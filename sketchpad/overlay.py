@@ -2044,11 +2044,10 @@ class Banner(QLabel):
         self.hide()
 
     def place(self) -> None:
-        vp = self.parentWidget().rect()
+        from sketchpad.hint_bar import top_strip_width
+
         m = theme.BANNER_MARGIN_PX
-        right = theme.NORTH_ARROW_PX + 2 * theme.HUD_MARGIN_PX
-        w = max(160, vp.width() - m - right)
-        self.setFixedWidth(w)
+        self.setFixedWidth(top_strip_width(self.parentWidget().rect().width()))
         self.adjustSize()
         self.move(m, m)
 

@@ -15,38 +15,47 @@ from solver.units import format_force
 MOTION_WORDS = {"haul": "hauling", "hold": "holding", "lower": "lowering"}
 
 
+def _point_and_name(rig: Rig, pid: str):
+    """The rig's point ``pid`` (None if gone) and what a person calls it."""
+    p = rig.point(pid) if rig.has_point(pid) else None
+    return p, (p.name if p is not None else pid)
+
+
+def _each(rig: Rig, records, sentence) -> list[str]:
+    """``sentence(point or None, name, record)`` for each (point id, record), each ending in a full stop."""
+    return [sentence(*_point_and_name(rig, pid), record) + "." for pid, record in records.items()]
+
+
 def haul_sentences(rig: Rig, result: Result) -> list[str]:
     """One sentence per haul team: what it pulls in total and per hauler, and the range a hold allows."""
     unit = rig.display.force
-    out = []
-    for hid, force in result.haul.items():
-        p = rig.point(hid) if rig.has_point(hid) else None
-        name = p.name if p is not None else hid
+
+    def pulls(p, name: str, force: float) -> str:
         text = f"{name[:1].upper()}{name[1:]} pulls {format_force(force, unit)}"
         if p is not None and p.team:
             text += f" ({p.team} × {format_force(force / p.team, unit)})"
-        hold = result.hold_haul_range.get(hid)
+        hold = result.hold_haul_range.get(p.id if p is not None else "")
         if hold is not None:
             text += f"; a hold allows {format_force(hold.low, unit)} – {format_force(hold.high, unit)}"
-        out.append(text + ".")
-    return out
+        return text
+
+    return _each(rig, result.haul, pulls)
 
 
 def load_sentences(rig: Rig, result: Result) -> list[str]:
     """One sentence per load: the force it gets and, when known, what it needs and by how much it falls short."""
     unit = rig.display.force
-    out = []
-    for lid, f in result.loads.items():
-        p = rig.point(lid) if rig.has_point(lid) else None
-        name = p.name if p is not None else lid
+
+    def reaches(p, name: str, f) -> str:
         text = f"Reaches {name}: {format_force(f.force_N, unit)}"
         if p is not None and p.required_N is not None:
             text += f" (needs {format_force(p.required_N, unit)})"
             short = float(p.required_N) - float(f.force_N)
             if short > 0:
                 text += f", short by {format_force(short, unit)}"
-        out.append(text + ".")
-    return out
+        return text
+
+    return _each(rig, result.loads, reaches)
 
 
 def haulers_sentence(rig: Rig, result: Result) -> str | None:
