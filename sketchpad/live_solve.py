@@ -403,6 +403,10 @@ class LiveForces(QObject):
             gap = sketch_gap(s.rig)
         self.overlay.grey_reason = ("sketch incomplete: last complete result, greyed" if gap
                                     else "solve failed: last good result, greyed")
+        if s.settled and s.rig is self.window.document.rig:  # points drawn where the solver put them (first: the
+            from sketchpad.ghosts import moved_free_points  # labels are placed clear of their names there)
+
+            self.window.canvas.set_solved(moved_free_points(s.rig, result) if result.ok else None)
         self.overlay.show_result(s.rig, result, s.last_good_rig, s.last_good, settled=s.settled)
         if gap is not None:
             self.overlay.banner.hide()
@@ -418,10 +422,7 @@ class LiveForces(QObject):
             hints.place()  # under the banner, or at the top when there is none
         if s.settled or not result.ok:  # tables and warnings follow once a drag pauses
             self.panel.show_result(s.rig, result, s.last_good_rig, s.last_good, gap=gap)
-        if s.settled and s.rig is self.window.document.rig:  # points drawn where the solver put them
-            from sketchpad.ghosts import moved_free_points
 
-            self.window.canvas.set_solved(moved_free_points(s.rig, result) if result.ok else None)
 
     def select_subject(self, subject: str) -> None:
         """Select and centre the canvas item a warning is about (point, rope, ``rope@point``, ``a,b,c``)."""

@@ -168,6 +168,7 @@ class MainWindow(QMainWindow):
         stack.canRedoChanged.connect(self.action_redo.setEnabled)
         stack.undoTextChanged.connect(lambda t: self.action_undo.setText(f"&Undo {t}".strip()))
         stack.redoTextChanged.connect(lambda t: self.action_redo.setText(f"&Redo {t}".strip()))
+        stack.indexChanged.connect(self._drop_stale_move_message)  # History clicks too
         self.action_undo.setEnabled(False)
         self.action_redo.setEnabled(False)
         self.action_delete = self._action("&Delete", self.delete_selection,
@@ -342,6 +343,11 @@ class MainWindow(QMainWindow):
         stack.undo()
         if text:  # replaces a tool's message about the edit just undone ("Moving H1 ...")
             self.statusBar().showMessage(f"Undid: {text}", STATUS_MESSAGE_MS)
+
+    def _drop_stale_move_message(self, _index: int = 0) -> None:
+        """An undo or redo (menu, keys or a History click) makes a tool's message about a move stale."""
+        if self.statusBar().currentMessage().startswith(("Moving ", "Moved ")):
+            self.statusBar().clearMessage()
 
     def redo(self) -> None:
         self._cancel_tool()

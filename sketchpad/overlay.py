@@ -2470,7 +2470,11 @@ class ResultOverlay(QObject):
         (scene point, rect relative to it) per point, made again only for points that changed."""
         if len(self._name_box_cache) > 4 * len(rig.points) + 64:
             self._name_box_cache.clear()
-        return self._name_box_of.values(rig.points)
+        boxes = self._name_box_of.values(rig.points)
+        at = getattr(self.scene, "shown_at", None)  # points drawn where the solver put them (sketchpad.ghosts)
+        if at:
+            boxes = [(_scene(at[p.id]), b[1]) if p.id in at else b for p, b in zip(rig.points, boxes)]
+        return boxes
 
     def _name_box(self, p) -> tuple:
         key = (p.name, p.kind)

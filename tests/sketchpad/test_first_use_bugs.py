@@ -130,3 +130,13 @@ def test_dev_run_says_what_is_missing_before_qt_fails():
     assert dev.display_problem({"DISPLAY": ":0"}, "linux", found) is None
     assert dev.display_problem({"QT_QPA_PLATFORM": "offscreen"}, "linux", missing) is None
     assert dev.display_problem({}, "darwin", missing) is None
+
+
+def test_a_history_click_also_drops_the_move_message(main_window, mouse):
+    w = main_window
+    _place_anchor(w, mouse, 0.0, 0.0)
+    mouse.drag(0.0, 0.0, 4.0, 0.0)
+    assert w.statusBar().currentMessage().startswith("Moved ")
+    w.document.undo_stack.setIndex(1)  # what clicking the History row "Place anchor A1" does
+    assert w.document.rig.points[0].x == 0.0
+    assert not w.statusBar().currentMessage().startswith(("Moving", "Moved"))
