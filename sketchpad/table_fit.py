@@ -2,7 +2,7 @@
 
 Each column wants its natural width (its widest cell or heading on one line); when they do not all fit,
 the columns with room to give are narrowed in proportion to what they can give, never below their
-widest single word, and their texts wrap onto a second line (headings too, through the model's
+widest single word (a number and its unit count as one), and their texts wrap onto a second line (headings too, through the model's
 ``wrapped`` headings).  Only when even the widest words do not fit does the table scroll.
 """
 
@@ -24,6 +24,12 @@ class WrappedHeadings(QSortFilterProxyModel):
         if orientation == Qt.Horizontal and role == Qt.ToolTipRole:
             return super().headerData(section, orientation, Qt.DisplayRole)
         return super().headerData(section, orientation, role)
+
+
+def is_quantity(text: str) -> bool:
+    """True for a number with a short unit ("41 %", "2.37 kN", "450 lbf"): kept on one line."""
+    words = text.split()
+    return len(words) == 2 and words[0][:1].isdigit() and len(words[1]) <= 3
 
 
 def shrink(natural: list[float], minimal: list[float], available: float) -> list[float]:
@@ -69,7 +75,9 @@ def fit_columns(table) -> None:
         heads.append(head)
         texts = [head] + [str(model.index(r, c).data() or "") for r in range(model.rowCount())]
         longest = max(advance(t) for t in texts)
-        widest_word = max(advance(w) for t in texts for w in t.split(" ") if w) if any(texts) else 0
+        # a number with its unit ("41 %", "2.37 kN") never breaks; longer texts wrap at any space
+        unbroken = [t for t in texts[1:] if is_quantity(t)]
+        widest_word = max([advance(w) for t in texts for w in t.split(" ") if w] + [advance(t) for t in unbroken] + [0])
         extra = max(table.sizeHintForColumn(c) - longest, 0) if model.rowCount() else 0
         pad = max(extra, 18)  # cell margins, a colour swatch, the sort arrow
         natural.append(longest + pad)

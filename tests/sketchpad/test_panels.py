@@ -6,6 +6,7 @@ import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QApplication
 
+from sketchpad.table_fit import is_quantity
 from tests.sketchpad.test_overlay import open_sample
 
 
@@ -28,6 +29,8 @@ def test_forces_tables_show_every_column_at_the_default_window_size(main_window,
         for c in range(header.count()):  # wrapped at spaces, never a word cut: each column holds its widest word
             texts = [table.source.headerData(c, Qt.Horizontal)] + [model.index(r, c).data() for r in range(model.rowCount())]
             widest = max(fm.horizontalAdvance(w) for t in texts for w in str(t).split(" ") if w)
+            numbers = [str(t) for t in texts[1:] if is_quantity(str(t))]  # "41 %", "2.37 kN": one piece
+            widest = max([widest] + [fm.horizontalAdvance(t) for t in numbers])
             assert header.sectionSize(c) >= widest, (i, c, texts)
 
 
@@ -46,3 +49,8 @@ def test_shrink_keeps_natural_widths_that_fit_and_never_goes_below_the_widest_wo
     assert got == pytest.approx([100 - 60 * 30 / 70, 60 - 10 * 30 / 70, 40])
     assert all(g >= m for g, m in zip(got, [40, 50, 40]))
     assert shrink([100, 60], [90, 55], 100) == [90, 55]  # not enough room to give: the widest words, then scroll
+
+
+def test_a_number_and_its_unit_stay_on_one_line():
+    assert is_quantity("41 %") and is_quantity("2.37 kN") and is_quantity("1,250 lbf")
+    assert not is_quantity("bank boulder") and not is_quantity("40.0 kN strength") and not is_quantity("250° (WSW)")
