@@ -108,7 +108,7 @@ class SketchScene(QGraphicsScene):
         self.item_cache_mode = QGraphicsItem.NoCache  # SketchView turns on pixmap caching for the screen
         self.rope_names_in_overlay = False  # True while the force overlay places the rope names (sketchpad.rope_names)
         self.shown_at: dict[str, tuple[float, float]] = {}  # free points drawn where the solver put them (site m)
-        self.ghosts = None  # sketchpad.ghosts.GhostItem, made on the first solved places
+        self.drawn_places = None  # sketchpad.solved_places.DrawnPlaceItem, made on the first solved places
 
     # --- model -> items -----------------------------------------------------------------
     def sync(self, rig: Rig) -> None:
@@ -341,8 +341,8 @@ class SketchScene(QGraphicsScene):
             self.addItem(item)
 
     def set_solved(self, places) -> None:
-        """Draw the free points in ``places`` (id -> site metres, :func:`sketchpad.ghosts.moved_free_points`) where
-        the solver put them, with their ropes and forces, and a ghost where they are drawn; None or {}: as drawn."""
+        """Draw the free points in ``places`` (id -> site metres, :func:`sketchpad.solved_places.moved_free_points`) where
+        the solver put them, with their ropes and forces, and a faint ring where they are drawn; None or {}: as drawn."""
         places = dict(places or {})
         if places == self.shown_at:
             return
@@ -364,8 +364,8 @@ class SketchScene(QGraphicsScene):
         self._show_solved()
 
     def _show_solved(self) -> None:
-        """Put the points (and forces) of ``shown_at`` at their solved places and the ghosts at their drawn ones."""
-        from sketchpad.ghosts import GhostItem, ghost_pairs
+        """Put the points (and forces) of ``shown_at`` at their solved places and faint rings at their drawn ones."""
+        from sketchpad.solved_places import DrawnPlaceItem, drawn_place_pairs
 
         at = self.shown_at
         if at:
@@ -380,14 +380,14 @@ class SketchScene(QGraphicsScene):
                     item = self.items_by_key.get(("force", i))
                     if item is not None:
                         item.set_force(f, at[f.at], unit, self.rig.view)
-        if self.ghosts is None:
+        if self.drawn_places is None:
             if not at:
                 return
-            self.ghosts = GhostItem()
-            self.addItem(self.ghosts)
-        pairs = ghost_pairs(self.rig, at)
-        if pairs != self.ghosts.pairs:
-            self.ghosts.set_pairs(pairs)
+            self.drawn_places = DrawnPlaceItem()
+            self.addItem(self.drawn_places)
+        pairs = drawn_place_pairs(self.rig, at)
+        if pairs != self.drawn_places.pairs:
+            self.drawn_places.set_pairs(pairs)
 
     def set_rope_names_in_overlay(self, on: bool) -> None:
         """Let the force overlay place the rope names (True) or the rope items draw them (False)."""
@@ -566,7 +566,7 @@ class SketchView(QGraphicsView):
         for p in self.sketch_scene.rig.points:
             if p.id in exclude or (kinds is not None and p.kind not in kinds):
                 continue
-            for xy in ((p.x, p.y), shown_at[p.id]) if p.id in shown_at else ((p.x, p.y),):  # marker or its ghost
+            for xy in ((p.x, p.y), shown_at[p.id]) if p.id in shown_at else ((p.x, p.y),):  # marker or its drawn place
                 q = self.mapFromScene(to_scene(*xy))
                 d = math.hypot(q.x() - view_pos.x(), q.y() - view_pos.y())
                 if d <= best_d:

@@ -406,12 +406,13 @@ def paint_ramp(painter: QPainter, rect: QRectF, grey: bool = False) -> float:
     return ramp.bottom() + 3 + fm.height() - rect.top()
 
 
-def paint_zone_key(painter: QPainter, left: QPointF) -> float:
-    """Swatches of the two danger-zone kinds; returns the height used."""
+def paint_zone_key(painter: QPainter, left: QPointF, zones: Iterable = ()) -> float:
+    """Swatches of the danger-zone kinds drawn (computed failure areas once scanned); returns the height used."""
     fm = QFontMetricsF(page_font(SMALL_PT))
     x, y = left.x(), left.y()
     painter.setFont(page_font(SMALL_PT))
-    for kind, name in (("bight", "inside of bight"), ("recoil", "recoil band")):
+    computed = any(z.kind == "failure" for z in zones)
+    for kind, name in (theme.COMPUTED_ZONE_NAMES if computed else theme.DRAWN_ZONE_NAMES):
         fill, hatch = theme.zone_brushes(kind)
         box = QRectF(x, y + 1, 16, fm.height() - 2)
         painter.setPen(theme.pixel_pen(theme.ZONE_COLOURS[kind], 1.0))
@@ -553,7 +554,7 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
     if result.ok:
         y += paint_ramp(painter, QRectF(x, y, w, 0)) + 4
         if drawing.zones:
-            y += paint_zone_key(painter, QPointF(x, y)) + 4
+            y += paint_zone_key(painter, QPointF(x, y), drawing.zones) + 4
     # caution at the bottom; warnings fill what is left above it
     caution_h = wrap_text(painter, QRectF(x, 0, w, 0), caution, page_font(SMALL_PT, italic=True), draw=False)
     bottom = inner.bottom() - caution_h - 6
@@ -600,7 +601,7 @@ def paint_key_strip(painter: QPainter, rect: QRectF, drawing: Drawing) -> None:
         rx = rect.right() - ramp_w
         h = paint_ramp(painter, QRectF(rx, y, ramp_w, 0))
         if drawing.zones:
-            paint_zone_key(painter, QPointF(rx, y + h + 2))
+            paint_zone_key(painter, QPointF(rx, y + h + 2), drawing.zones)
     painter.restore()
 
 

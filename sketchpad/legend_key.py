@@ -16,24 +16,33 @@ from sketchpad import theme
 
 TITLE = "Rope use: share of allowed load"
 #: (zone kind whose colours the swatch uses, swatch shape, words): every shape the zone layer draws, and the
-#: ghost left where a point the solver moved was drawn
+#: ring left where a point the solver moved was drawn
 ZONE_ROWS: tuple[tuple[str, str, str], ...] = (
     ("bight", "box", "inside of bight: rope snaps in if a redirect fails"),
     ("bight", "arm", "arm from a bight: pulley's flight if its anchor fails"),
     ("recoil", "box", "recoil band: a broken rope whips here"),
-    ("", "ghost", "dashed ring: where a point was drawn; the solver moved it"),
+    ("", "drawn", "dashed ring: where a point was drawn; the solver moved it"),
 )
+DRAWN_PLACE_ROW = ZONE_ROWS[-1]
 ROW_GAP_PX = 2.0
 
 
-def rows_height(line_height: float, show_zones: bool) -> float:
+def rows_for(zone_names) -> tuple[tuple[str, str, str], ...]:
+    """The key's rows for the zone swatches it shows (``Legend.zone_names``): the drawn shapes each named
+    by what they mean, or, once a failure scan has computed the areas, those areas' own names."""
+    if tuple(zone_names) == tuple(theme.DRAWN_ZONE_NAMES):
+        return ZONE_ROWS
+    return tuple((kind, "box", name) for kind, name in zone_names) + (DRAWN_PLACE_ROW,)
+
+
+def rows_height(rows, line_height: float, show_zones: bool) -> float:
     """Height (px) of the zone rows (none when the zone layer is off)."""
-    return len(ZONE_ROWS) * (line_height + ROW_GAP_PX) if show_zones else 0.0
+    return len(rows) * (line_height + ROW_GAP_PX) if show_zones else 0.0
 
 
-def rows_width(advance) -> float:
+def rows_width(rows, advance) -> float:
     """Width (px) of the widest zone row; ``advance(text)`` measures text in the key's font."""
-    return max(18.0 + advance(text) for _k, _s, text in ZONE_ROWS)
+    return max(18.0 + advance(text) for _k, _s, text in rows)
 
 
 def paint_wedge(p: QPainter, ramp: QRectF, top_util: float, grey: bool) -> None:
@@ -53,13 +62,13 @@ def paint_wedge(p: QPainter, ramp: QRectF, top_util: float, grey: bool) -> None:
     p.drawPolygon(poly)
 
 
-def paint_rows(p: QPainter, x: float, y: float, line_height: float, ascent: float) -> None:
+def paint_rows(p: QPainter, rows, x: float, y: float, line_height: float, ascent: float) -> None:
     """The zone rows from (x, y) down: a swatch in the zone's fill and hatch, then its words."""
-    for kind, shape, text in ZONE_ROWS:
-        if shape == "ghost":  # as sketchpad.ghosts draws it at the drawn place of a point the solver moved
-            p.setPen(theme.pixel_pen(theme.GHOST, 1.2, Qt.DashLine))
+    for kind, shape, text in rows:
+        if shape == "drawn":  # as sketchpad.solved_places draws it at the drawn place of a point the solver moved
+            p.setPen(theme.pixel_pen(theme.DRAWN_PLACE, 1.2, Qt.DashLine))
             p.setBrush(Qt.NoBrush)
-            r = min(theme.GHOST_RADIUS_PX, line_height / 2 - 1)
+            r = min(theme.DRAWN_PLACE_RADIUS_PX, line_height / 2 - 1)
             p.drawEllipse(QPointF(x + 7, y + line_height / 2), r, r)
             p.setPen(theme.OVERLAY_LABEL_TEXT)
             p.drawText(QPointF(x + 18, y + ascent), text)

@@ -404,7 +404,7 @@ class LiveForces(QObject):
         self.overlay.grey_reason = ("sketch incomplete: last complete result, greyed" if gap
                                     else "solve failed: last good result, greyed")
         if s.settled and s.rig is self.window.document.rig:  # points drawn where the solver put them (first: the
-            from sketchpad.ghosts import moved_free_points  # labels are placed clear of their names there)
+            from sketchpad.solved_places import moved_free_points  # labels are placed clear of their names there)
 
             self.window.canvas.set_solved(moved_free_points(s.rig, result) if result.ok else None)
         self.overlay.show_result(s.rig, result, s.last_good_rig, s.last_good, settled=s.settled)

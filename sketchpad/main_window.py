@@ -135,6 +135,9 @@ class MainWindow(QMainWindow):
         from sketchpad.templates_ui import install_rigging_kit
 
         self.kit = install_rigging_kit(self)  # Insert ▸ System, load estimate, spec library (issue 6)
+        from sketchpad.whatif_panel import install_what_if
+
+        self.what_if = install_what_if(self)  # What if: the failure scan dock and its ghost (issue 19)
         from sketchpad.hint_bar import install_hints
 
         self.hints = install_hints(self)  # what the sketch still needs and the tool's hint, over the canvas

@@ -1278,7 +1278,7 @@ class ZoneItem(_LayerItem):
         self.update()
 
     def paint(self, painter: QPainter, option, widget=None) -> None:
-        for kind in ("recoil", "bight"):
+        for kind in theme.ZONE_COLOURS:  # recoil under bight / failure areas
             path = self.paths.get(kind)
             if path is None:
                 continue
@@ -2066,6 +2066,7 @@ class Legend(QWidget):
         self.lines: list[str] = []
         self.show_zones = True
         self.grey = False
+        self.zone_names = theme.DRAWN_ZONE_NAMES  # (kind, name) of each zone swatch in the key
         self.font = theme.font(theme.OVERLAY_POINT_SIZE)
         self.title_font = theme.font(theme.OVERLAY_POINT_SIZE, bold=True)
         self.fm = QFontMetricsF(self.font)
@@ -2096,8 +2097,10 @@ class Legend(QWidget):
         # advances remembered per (text, font): a drag step changes a number or two of the lines
         w = max([theme.LEGEND_RAMP_W_PX + 24, text_advance(self.TITLE, self.title_font)]
                 + [text_advance(t, self.font) for t in self.lines]
-                + ([legend_key.rows_width(lambda t: text_advance(t, self.font))] if self.show_zones else []))
-        h = lh + 4 + theme.LEGEND_RAMP_H_PX + lh + 6 + legend_key.rows_height(lh, self.show_zones) + len(self.lines) * lh
+                + ([legend_key.rows_width(legend_key.rows_for(self.zone_names), lambda t: text_advance(t, self.font))]
+                   if self.show_zones else []))
+        rows = legend_key.rows_height(legend_key.rows_for(self.zone_names), lh, self.show_zones)
+        h = lh + 4 + theme.LEGEND_RAMP_H_PX + lh + 6 + rows + len(self.lines) * lh
         return QSize(int(w + 2 * pad), int(h + 2 * pad))
 
     def place(self) -> None:
@@ -2117,7 +2120,7 @@ class Legend(QWidget):
         if not self.shown:
             return []
         g = self.geometry()
-        frame = (g.x(), g.y(), g.width(), g.height(), self.show_zones, self.grey, len(self.lines))
+        frame = (g.x(), g.y(), g.width(), g.height(), self.show_zones, self.zone_names, self.grey, len(self.lines))
         last = self._areas
         if last is not None and last[0] is self.lines and last[1] == frame:
             return last[2]  # set_content hands in a new list when the lines change
@@ -2145,7 +2148,7 @@ class Legend(QWidget):
             self._paint(painter)
             painter.restore()
             return
-        key = (tuple(self.lines), self.show_zones, self.grey, self.width(), self.height(), dpr)
+        key = (tuple(self.lines), self.show_zones, self.zone_names, self.grey, self.width(), self.height(), dpr)
         if self._pixmap is None or self._pixmap_key != key:
             self._pixmap, self._pixmap_key = self._assembled(dpr), key
         painter.drawPixmap(self.x(), self.y(), self._pixmap)
@@ -2154,7 +2157,7 @@ class Legend(QWidget):
         """The key as one pixmap: the cached frame with each line's cached pixmap laid over it."""
         pix = self._blank(self.width(), self.height(), dpr)
         p = QPainter(pix)
-        frame_key = (self.show_zones, self.grey, self.width(), self.height(), dpr)
+        frame_key = (self.show_zones, self.zone_names, self.grey, self.width(), self.height(), dpr)
         if self._frame_pix is None or self._frame_pix[0] != frame_key:
             frame = self._blank(self.width(), self.height(), dpr)
             fp = QPainter(frame)
@@ -2202,7 +2205,7 @@ class Legend(QWidget):
         """Top (px in the key) of the first summary line: below the title, the ramp and the zone swatches."""
         lh = self.fm.height()
         y = self.LINE_PAD + lh + 4 + theme.LEGEND_RAMP_H_PX + 3 + lh + 3
-        return y + legend_key.rows_height(lh, self.show_zones)
+        return y + legend_key.rows_height(legend_key.rows_for(self.zone_names), lh, self.show_zones)
 
     def _paint_line(self, p: QPainter, line: str, y: float) -> None:
         p.setFont(self.font)
@@ -2233,7 +2236,7 @@ class Legend(QWidget):
             p.drawText(QPointF(min(max(x - tw / 2, 2), self.width() - tw - 2), ramp.bottom() + 3 + self.fm.ascent()), text)
         y = ramp.bottom() + 3 + lh + 3
         if self.show_zones:
-            legend_key.paint_rows(p, pad, y, lh, self.fm.ascent())
+            legend_key.paint_rows(p, legend_key.rows_for(self.zone_names), pad, y, lh, self.fm.ascent())
 
 
 def summary_lines(rig: Rig, result: Result) -> list[str]:

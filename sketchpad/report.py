@@ -265,6 +265,9 @@ def assumption_lines(rig: Rig) -> list[str]:
         "Ropes are elastic and tension-only (stretch from each material's curve); anchors do not move; each "
         "straight piece carries one tension.",
     ]
+    from sketchpad.report_failures import recoil_assumption
+
+    out.append(recoil_assumption(rig.display.length))
     for mat_id in used_material_ids(rig):
         m = _material(rig, mat_id)
         if m is None:
@@ -519,7 +522,8 @@ class Report:
 
 
 def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, source: str | None,
-             plot: tuple[QImage | None, str] | None, sizes: tuple[float, float] = LAYOUTS[0]) -> None:
+             plot: tuple[QImage | None, str] | None, sizes: tuple[float, float] = LAYOUTS[0],
+             failures=None) -> None:
     from solver.cautions import FULL_CAUTION
 
     fu = rig.display.force
@@ -586,6 +590,8 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
                 flow.block(sizes[1], paint_plot)
                 flow.y += 2
             flow.text(caption, page_font(SMALL_PT, italic=True), MUTED)
+    if failures is not None:  # "If something lets go" (sketchpad.report_failures)
+        failures.add_to(flow)
     flow.heading("Assumptions")
     for line in assumption_lines(rig):
         flow.text("• " + line, page_font(SMALL_PT), indent=4, gap=2)
@@ -617,6 +623,11 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     footer_h = 28.0
     content = QRectF(m, m, page_w - 2 * m, page_h - 2 * m - footer_h)
     sweep_data = haul_sweep(rig) if result.ok else (None, 0.0, "")
+    from sketchpad.report_failures import failure_section
+
+    failures = failure_section(rig, result)
+    if failures is not None:
+        failures.draw_zones_on(drawing)
     plots: dict[float, tuple[QImage | None, str]] = {}
 
     def plot_for(h: float) -> tuple[QImage | None, str] | None:
@@ -634,7 +645,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     # pass 1: count pages, shrinking the drawing and the plot until two pages hold it all (if they can)
     for sizes in LAYOUTS:
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
-        _compose(counter, rig, result, drawing, when, source, plot_for(sizes[1]), sizes)
+        _compose(counter, rig, result, drawing, when, source, plot_for(sizes[1]), sizes, failures)
         total = counter.finish()
         if total <= 2:
             break
@@ -653,7 +664,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     try:
         painter.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing | QPainter.SmoothPixmapTransform)
         flow = Flow(writer, painter, content, footer, writer.newPage)
-        _compose(flow, rig, result, drawing, when, source, plot_for(sizes[1]), sizes)
+        _compose(flow, rig, result, drawing, when, source, plot_for(sizes[1]), sizes, failures)
         pages = flow.finish()
     finally:
         painter.end()

@@ -188,13 +188,28 @@ BAND_MAX_PX = 14.0
 BAND_FULL_UTIL = 1.5
 OVERLAY_BAND_ALPHA = 125
 OVERLAY_SOLVED_POINT_PX = 4.0  # ring where the solver moved a free point
-GHOST = QColor(90, 90, 86, 150)  # where a free point was drawn when the solver moved it (sketchpad.ghosts)
-GHOST_RADIUS_PX = 6.0
+GHOST = QColor(90, 90, 86, 150)  # where a free point was drawn when the solver moved it (sketchpad.solved_places)
+DRAWN_PLACE_RADIUS_PX = 6.0
 ANGLE_TEXT = QColor("#2c3e8c")
 ANCHOR_ARROW_PX = 56.0
 ANCHOR_ARROW_HEAD_PX = 11.0
 ANCHOR_ARROW_WIDTH_PX = 3.2
-ZONE_COLOURS: dict[str, QColor] = {"bight": QColor(196, 28, 36), "recoil": QColor(224, 120, 20)}
+ZONE_COLOURS: dict[str, QColor] = {"recoil": QColor(224, 120, 20), "bight": QColor(196, 28, 36),
+                                   "failure": QColor(176, 20, 120)}  # painted in this order
+#: The zone key of the legend: the drawn shapes, and once the failure scan has run, the computed ones.
+DRAWN_ZONE_NAMES: tuple[tuple[str, str], ...] = (("bight", "inside of bight"), ("recoil", "recoil band"))
+COMPUTED_ZONE_NAMES: tuple[tuple[str, str], ...] = (("failure", "failure areas"),
+                                                    ("recoil", "recoil band"))
+# the What-if ghost: one failure's outcome over the rig
+GHOST_ZONE_EDGE = QColor(25, 35, 120)
+GHOST_ZONE_FILL = QColor(40, 70, 200, 45)
+GHOST_ZONE_PX = 2.5
+GHOST_ROPE = QColor(40, 60, 150)
+GHOST_MOVE = QColor(40, 60, 150)
+GHOST_ROPE_PX = 2.0
+GHOST_MARK_PX = 6.0
+DANGER_TEXT = QColor(163, 29, 24)
+MUTED_TEXT = QColor(100, 100, 96)
 ZONE_FILL_ALPHA = 28
 ZONE_HATCH_ALPHA = 95
 ZONE_EDGE_PX = 1.0
@@ -246,4 +261,4 @@ def zone_brushes(kind: str) -> tuple[QBrush, QBrush]:
     fill, hatch = QColor(base), QColor(base)
     fill.setAlpha(ZONE_FILL_ALPHA)
     hatch.setAlpha(ZONE_HATCH_ALPHA)
-    return QBrush(fill), QBrush(hatch, Qt.BDiagPattern if kind == "bight" else Qt.FDiagPattern)
+    return QBrush(fill), QBrush(hatch, Qt.FDiagPattern if kind == "recoil" else Qt.BDiagPattern)

@@ -24,11 +24,12 @@ EXIT_SOLVE_FAILED = 3
 #: keeps the caution epilog on its one line
 _RAW = argparse.RawDescriptionHelpFormatter
 
-SUBCOMMANDS = ("solve", "sweep", "render", "report", "screenshot", "open")
+SUBCOMMANDS = ("solve", "failures", "sweep", "render", "report", "screenshot", "open")
 
 #: subcommand -> "module:function" taking the parsed args and returning an exit code
 HANDLERS: dict[str, str] = {
     "solve": "solver.cli_solve:run",
+    "failures": "solver.cli_failures:run",
     "sweep": "solver.sweep:run_cli",
     "render": "sketchpad.export:render_cli",
     "report": "sketchpad.report:report_cli",
@@ -50,6 +51,13 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("solve", epilog=HELP_EPILOG, formatter_class=_RAW, help="solve a rig and print its forces")
     p.add_argument("rig", help="a .rig.json file")
     p.add_argument("--json", action="store_true", help="print the result JSON (rig-format.md)")
+    p.add_argument("--units", choices=("si", "imperial"), default=None,
+                   help="display units (default: the rig's own display setting)")
+
+    p = sub.add_parser("failures", epilog=HELP_EPILOG, formatter_class=_RAW,
+                       help="let each component go in turn: what holds, what runs free, where not to stand")
+    p.add_argument("rig", help="a .rig.json file")
+    p.add_argument("--json", action="store_true", help='print {"failures": [...]} (rig-format.md)')
     p.add_argument("--units", choices=("si", "imperial"), default=None,
                    help="display units (default: the rig's own display setting)")
 

@@ -89,20 +89,34 @@ def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -
     return "\n".join(parts)
 
 
+def load_in_units(args: argparse.Namespace) -> tuple[Rig, str, str]:
+    """The rig file ``args.rig`` shown in the ``--units`` asked for: (rig, length unit, force unit).
+
+    Display units never change a number; warnings are worded in the units asked for.
+    RigFileError reaches solver.cli.main (exit 2).
+    """
+    from solver.rigfile import load_rig
+
+    rig = load_rig(args.rig)
+    length_unit, force_unit = _units_for(rig, args.units)
+    return replace(rig, display=replace(rig.display, length=length_unit, force=force_unit)), length_unit, force_unit
+
+
+def write_json(data: dict, out: TextIO) -> None:
+    """Strict JSON (NaN and infinities as null), indented, with a final newline."""
+    json.dump(_finite(data), out, indent=2, allow_nan=False)
+    out.write("\n")
+
+
 def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
     """Load, solve and print one rig; returns the exit code."""
     from solver.analysis import analyse
-    from solver.rigfile import load_rig
 
     out = out or sys.stdout
-    rig = load_rig(args.rig)  # RigFileError -> exit 2 via solver.cli.main
-    length_unit, force_unit = _units_for(rig, args.units)
-    # display units never change a number; warnings are worded in the units asked for
-    rig = replace(rig, display=replace(rig.display, length=length_unit, force=force_unit))
+    rig, length_unit, force_unit = load_in_units(args)
     result = analyse(rig)
     if args.json:
-        json.dump(_finite(result_document(rig, result)), out, indent=2, allow_nan=False)
-        out.write("\n")
+        write_json(result_document(rig, result), out)
     else:
         out.write(format_result(rig, result, length_unit, force_unit) + "\n")
     if not result.ok:

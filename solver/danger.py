@@ -13,14 +13,15 @@ Two kinds, both drawn from the solved geometry and tensions of a :class:`Result`
   longer than the shorter cut leg.  So a doubled-back rope (3:1 pulleys, 180 deg turn)
   still has a zone with width, and a shallow vector pull only a short one.
   The "inside of the bight" rule is common practice, no source; reach and margin are
-  our own choice (common practice, no source).
+  the project's own choice (no source, not common practice).  Once the failure scan has
+  run (:mod:`solver.failures`) the plan shows the computed failure areas instead.
 * ``recoil`` -- a band along every loaded straight piece of rope, for the whip of a
   failed rope or a released end.  Half-width ``w = RECOIL_MIN_M + RECOIL_M_PER_J * E``
   capped at ``RECOIL_MAX_M``, where ``E = 1/2 * T * delta`` is the elastic energy stored
   in the piece (triangle rule; an upper bound for static rope, whose tension-strain
   curve stiffens with load) and ``delta = L * eps / (1 + eps)`` the metres it has
   stretched.  So the band widens with both tension and stretch.  The constants are
-  common practice, no source: 0.5 m at any load, about +1 m per 400 J (2 kN on 20 m of
+  the project's own choice, no source: 0.5 m at any load, about +1 m per 400 J (2 kN on 20 m of
   rope at 2 %), at most 5 m.  Pieces below ``LOADED_MIN_N`` get no band.
 
 The band's ends are round (a buffer), so it also reaches ``w`` past each end of the piece.
@@ -46,11 +47,11 @@ log = logging.getLogger(__name__)
 LOADED_MIN_N = 1.0
 #: A redirect turning the rope by less than this (degrees) has no bight zone worth drawing.
 BIGHT_MIN_DEFLECTION_DEG = 5.0
-#: Longest part of each leg the bight triangle takes (m). Common practice, no source.
+#: Longest part of each leg the bight triangle takes (m). The project's own choice, no source.
 BIGHT_REACH_M = 15.0
-#: Margin around the bight triangle (m). Common practice, no source.
+#: Margin around the bight triangle (m). The project's own choice, no source.
 BIGHT_MARGIN_M = 0.5
-#: Recoil band half-width at any load (m), growth per joule stored, and cap. Common practice, no source.
+#: Recoil band half-width at any load (m), growth per joule stored, and cap. The project's own choice, no source.
 RECOIL_MIN_M = 0.5
 RECOIL_M_PER_J = 1.0 / 400.0
 RECOIL_MAX_M = 5.0

@@ -111,7 +111,7 @@ def test_triangle_rule_energy_is_exact_for_a_linear_rope():
 
 
 def test_recoil_width_grows_with_tension_and_stretch_and_is_capped():
-    # rule in solver/danger.py (common practice, no source): w = 0.5 m + E / 400 J, at most 5 m
+    # rule in solver/danger.py (the project's own choice, no source): w = 0.5 m + E / 400 J, at most 5 m
     # 2 kN on 20 m at 2 %: delta = 20 * 0.02 / 1.02 m, E = 2000 * delta / 2
     delta = 20.0 * 0.02 / 1.02
     assert recoil_half_width_m(2000.0, 20.0, 0.02) == pytest.approx(0.5 + 0.5 * 2000.0 * delta / 400.0)

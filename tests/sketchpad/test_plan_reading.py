@@ -148,11 +148,11 @@ def test_a_point_the_solver_moved_is_drawn_where_it_ended_with_a_ghost_where_it_
     assert canvas.item_for(("force", force)).pos() == to_scene(*solved)  # the pull arrow starts at the ring
     rope = canvas.item_for(("rope", rig.ropes[0].id))
     assert rope.shape().contains(to_scene(*solved)) or rope.boundingRect().contains(to_scene(*solved))
-    assert canvas.ghosts.pairs == [(to_scene(*hand.xy), to_scene(*solved))]
+    assert canvas.drawn_places.pairs == [(to_scene(*hand.xy), to_scene(*solved))]
     # the marker at its solved place is what a click picks
     assert view.pick_point(view.mapFromScene(to_scene(*solved))) == "V1"
     # dragged, the point is shown at its drawn place again (under the cursor) until a settled result says otherwise
-    from sketchpad.ghosts import moved_free_points
+    from sketchpad.solved_places import moved_free_points
 
     mouse.drag(*solved, solved[0] + 1.0, solved[1])
     moved = main_window.document.rig.point("V1")
@@ -166,7 +166,7 @@ def test_a_point_the_solver_moved_is_drawn_where_it_ended_with_a_ghost_where_it_
 
 
 def test_moved_free_points_are_the_free_points_past_the_threshold():
-    from sketchpad.ghosts import MOVED_M, moved_free_points
+    from sketchpad.solved_places import MOVED_M, moved_free_points
 
     rig = load_rig(SAMPLES / "vector-pull.rig.json")
     result = analyse(rig)

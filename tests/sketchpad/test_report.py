@@ -127,7 +127,8 @@ def test_report_names_haulers_warnings_assumptions_and_the_full_caution(raft_rep
 
 def test_report_is_one_or_two_pages_with_a_plot(raft_report):
     rig, result, report, text = raft_report
-    assert report.pages <= 2
+    # two pages of forces and the plot; the "If something lets go" table (issue 19) may take a third
+    assert report.pages <= 3
     assert len(pypdf.PdfReader(report.path).pages) == report.pages
     assert f"page {report.pages} of {report.pages}" in text
     assert "Mechanical advantage and peak anchor load as the haul force" in text
@@ -221,3 +222,14 @@ def test_a_working_load_anchor_is_named_and_its_margin_is_the_share_used(qapp, t
     text = pdf_text(out)
     assert "working load" in text and "rated working load" in text  # table and the assumptions
     assert "nominal 3:1" in text  # the three MAs, each named
+
+
+def test_report_has_the_if_something_lets_go_table_with_each_failure(raft_report):
+    from solver.failures import components
+
+    rig, result, report, text = raft_report
+    assert "If something lets go" in text
+    for c in components(rig):  # every component is named in a row (rows with the same outcome are shared)
+        assert f"{c.id} ({c.kind})" in text
+    assert "estimates without damping" in text
+    assert "Ropewright's own choices" in text  # the zone constants that remain, labelled as ours

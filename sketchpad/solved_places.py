@@ -1,8 +1,8 @@
 """Where the solver moved a free point: the point, its glyphs, ropes and forces are drawn at the solved place, and
-the place it was drawn at stays as a faint dashed ghost joined to it (named in the force overlay's key).
+the place it was drawn at stays as a faint dashed ring joined to it (named in the force overlay's key).
 
 ``SketchScene.set_solved`` takes the solved places (site metres) of the free points a settled result moved;
-this item paints the ghosts.  A point being dragged is shown under the cursor again until the next
+this item paints those rings.  A point being dragged is shown under the cursor again until the next
 settled result (the scene drops it from the solved places as soon as its drawn place changes).
 """
 
@@ -20,7 +20,7 @@ from sketchpad.geometry import to_scene
 MOVED_M = 0.05
 
 
-class GhostItem(Versioned, QGraphicsItem):
+class DrawnPlaceItem(Versioned, QGraphicsItem):
     """Faint dashed rings at the drawn places of the points shown where the solver put them, each joined to it."""
 
     def __init__(self) -> None:
@@ -28,7 +28,7 @@ class GhostItem(Versioned, QGraphicsItem):
         self.pairs: list[tuple[QPointF, QPointF]] = []  # (drawn, solved) scene points
         self._rect = QRectF()
         self.setZValue(theme.Z_POINT - 1.0)
-        self._pen = theme.pixel_pen(theme.GHOST, 1.2, Qt.DashLine)
+        self._pen = theme.pixel_pen(theme.DRAWN_PLACE, 1.2, Qt.DashLine)
 
     def set_pairs(self, pairs: list[tuple[QPointF, QPointF]]) -> None:
         self.prepareGeometryChange()
@@ -53,7 +53,7 @@ class GhostItem(Versioned, QGraphicsItem):
         painter.setRenderHint(QPainter.Antialiasing, True)
         painter.setPen(self._pen)
         painter.setBrush(Qt.NoBrush)
-        r = theme.GHOST_RADIUS_PX
+        r = theme.DRAWN_PLACE_RADIUS_PX
         for a, b in self.pairs:
             pa, pb = t.map(a), t.map(b)
             painter.drawEllipse(pa, r, r)
@@ -65,7 +65,7 @@ class GhostItem(Versioned, QGraphicsItem):
         painter.restore()
 
 
-def ghost_pairs(rig, shown_at) -> list[tuple[QPointF, QPointF]]:
+def drawn_place_pairs(rig, shown_at) -> list[tuple[QPointF, QPointF]]:
     """(drawn, solved) scene points of every point shown where the solver put it."""
     out = []
     for p in rig.points:
