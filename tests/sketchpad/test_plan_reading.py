@@ -133,7 +133,7 @@ def test_with_the_piece_labels_off_the_rope_items_name_themselves(main_window):
     assert not any(lab.kind == "rope" for lab in ov.labels)
 
 
-def test_a_point_the_solver_moved_is_drawn_where_it_ended_with_a_ghost_where_it_was_drawn(main_window, mouse, qtbot):
+def test_a_point_the_solver_moved_is_drawn_where_it_ended_with_a_ring_where_it_was_drawn(main_window, mouse, qtbot):
     from sketchpad.geometry import to_scene
     from tests.sketchpad.test_overlay import open_sample
 
