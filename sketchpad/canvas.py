@@ -469,6 +469,9 @@ class SketchView(QGraphicsView):
         #: what it paints there (a list of (QRect, key)): a drag frame repaints a rect when its key changes
         #: (``foreground_rects``)
         self.foreground_areas: list = []
+        #: callables giving the (width, height) px of a box kept clear in the bottom-right corner by
+        #: zoom_to_fit (the force overlay's key), so the fitted rig is not hidden under it
+        self.fit_reserves: list = []
         self.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing)
         self.setHorizontalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
         self.setVerticalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
@@ -531,11 +534,16 @@ class SketchView(QGraphicsView):
         vp = self.viewport().rect()
         if vp.width() < 10 or vp.height() < 10:
             return
-        s = min(vp.width() / rect.width(), vp.height() / rect.height())
-        s = min(max(s, MIN_SCALE_PX_PER_M), MAX_SCALE_PX_PER_M)
+        bw, bh = max([f() for f in self.fit_reserves] or [(0, 0)], key=lambda wh: wh[0] * wh[1])
+        w, h = vp.width(), vp.height()
+        # beside the kept box or above it, whichever leaves the rig larger
+        beside = min(max(w - bw, 10) / rect.width(), h / rect.height())
+        above = min(w / rect.width(), max(h - bh, 10) / rect.height())
+        s = min(max(max(beside, above), MIN_SCALE_PX_PER_M), MAX_SCALE_PX_PER_M)
+        shift = QPointF(bw / (2 * s), 0.0) if beside >= above else QPointF(0.0, bh / (2 * s))
         self.resetTransform()
         self.scale(s, s)
-        self.centerOn(rect.center())
+        self.centerOn(rect.center() + shift)
         self._scale_changed()
 
     def _scale_changed(self) -> None:

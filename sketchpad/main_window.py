@@ -141,6 +141,8 @@ class MainWindow(QMainWindow):
         from sketchpad.hint_bar import install_hints
 
         self.hints = install_hints(self)  # what the sketch still needs and the tool's hint, over the canvas
+        self.tabifyDockWidget(self.live.dock, self.history_dock)  # History a tab beside Forces: the tables get the room
+        self.live.dock.raise_()
         self._on_rig_changed(self.document.rig)
         self.resize(*DEFAULT_SIZE)
         self.resizeDocks([self.properties_dock], [RIGHT_COLUMN_PX], Qt.Horizontal)
@@ -314,8 +316,7 @@ class MainWindow(QMainWindow):
         self.background.install_menus(self.menu_insert, self.menu_tools)
         self.properties_dock = PropertiesDock(self.document, self)
         self.addDockWidget(Qt.RightDockWidgetArea, self.properties_dock)
-        self.tabifyDockWidget(self.properties_dock, self.history_dock)  # History a tab: the Forces tables get the room
-        self.properties_dock.raise_()
+        self.splitDockWidget(self.properties_dock, self.history_dock, Qt.Vertical)
         self.menu_panels.addAction(self.properties_dock.toggleViewAction())
         self.properties_dock.follow_scene(self.canvas)
         self.properties_dock.panel.rig_page.add_section("Background picture", self.background.make_panel())

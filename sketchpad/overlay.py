@@ -2268,6 +2268,8 @@ class ResultOverlay(QObject):
         self.legend = Legend(view.viewport())
         view.foreground_painters.append(self.legend.paint_on)
         view.foreground_areas.append(self.legend.areas)
+        view.fit_reserves.append(lambda: (self.legend.width() + theme.LEGEND_MARGIN_PX,
+                                          self.legend.height() + theme.LEGEND_MARGIN_PX) if self.legend.shown else (0, 0))
         view.viewport().installEventFilter(self)
         from sketchpad.zoom_pacing import ZoomPacer
 

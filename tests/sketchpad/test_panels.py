@@ -34,9 +34,9 @@ def test_forces_tables_show_every_column_at_the_default_window_size(main_window,
             assert header.sectionSize(c) >= widest, (i, c, texts)
 
 
-def test_history_is_a_tab_behind_properties_not_a_third_of_the_column(main_window):
+def test_history_is_a_tab_beside_forces_not_a_third_of_the_column(main_window):
     w = main_window
-    tabbed = w.tabifiedDockWidgets(w.properties_dock)
+    tabbed = w.tabifiedDockWidgets(w.live.dock)
     assert w.history_dock in tabbed
     assert not w.history_dock.isHidden()  # still there, one click away
 
