@@ -33,6 +33,7 @@ class HintBar(QLabel):
         self.banner = banner
         self.state = ""
         self.tool_text = ""
+        self.state_muted = False  # True while a tool's own prompt leads (picking a system's points)
         self.setWordWrap(True)
         self.setTextFormat(Qt.RichText)
         self.setFont(theme.font(theme.LABEL_POINT_SIZE + 1))
@@ -62,11 +63,11 @@ class HintBar(QLabel):
         """The strip's words as a reader sees them (empty when hidden)."""
         if self.isHidden():
             return ""
-        return "\n".join(t for t in (self.state, self.tool_text) if t)
+        return "\n".join(t for t in ("" if self.state_muted else self.state, self.tool_text) if t)
 
     def _refresh(self) -> None:
         parts = []
-        if self.state:
+        if self.state and not self.state_muted:
             parts.append(f"<b style='color:{theme.HINT_STATE_TEXT.name()}'>{html.escape(self.state)}</b>")
         if self.tool_text:
             parts.append(html.escape(self.tool_text))
@@ -102,6 +103,8 @@ def install_hints(window) -> HintBar:
     def on_message(text: str) -> None:
         tool = view.tool
         bar.set_tool_text("" if tool is None or tool.name == "select" else text)
+        bar.state_muted = tool is not None and tool.name == "place-system"  # its own prompt says what comes next
+        bar._refresh()
 
     def on_rig(rig) -> None:
         if document.sketching:

@@ -84,3 +84,23 @@ def test_picking_a_system_shows_what_to_click_next_on_the_canvas(main_window, mo
     assert w.hints.isVisible() and "3:1 (Z): click the load" in w.hints.shown_text()
     mouse.click(0, 0)
     assert "click the anchor" in w.hints.shown_text()
+
+
+def test_points_without_a_rope_show_no_zero_force_labels(main_window):
+    w = main_window
+    w.document.replace_all(SITE)
+    settle(w)
+    ov = w.live.overlay
+    assert ov.labels == [] and not ov.legend.shown and ov.banner_text == ""
+    assert w.live.panel.summary.text() == "No forces yet: the sketch is not finished."
+    assert "L1 is not held by any rope yet" in w.hints.shown_text()
+
+
+def test_while_picking_a_system_its_prompt_leads_the_strip(main_window, mouse):
+    w = main_window
+    w.document.replace_all(SITE)
+    w.kit.templates.actions["3:1"].trigger()
+    assert w.hints.shown_text().startswith("3:1 (Z): click the load")
+    assert "Sketch incomplete" not in w.hints.shown_text()
+    w.set_tool("select")
+    assert "Sketch incomplete" in w.hints.shown_text()
