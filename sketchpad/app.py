@@ -50,15 +50,23 @@ def open_in_window(window, path: str | os.PathLike, copy: bool = False) -> bool:
     return window.open_path(path)  # a bad file shows a message and leaves an empty sketch
 
 
-def run_app(path: str | os.PathLike | None = None, copy: bool = False) -> int:
-    """Open the main window (with ``path`` loaded if given) and run the event loop; returns the exit code."""
-    app = _application()
+def start_window(path: str | os.PathLike | None = None, copy: bool = False):
+    """The shown main window (with ``path`` loaded if given), its first solve waiting for its first paint."""
     from sketchpad.main_window import MainWindow
 
     window = MainWindow()
+    # the drawing appears at once; the forces follow from the worker thread (imports and warm-up)
+    window.live.scheduler.first_solve_after_paint(window.view.viewport())
     if path is not None:
         open_in_window(window, path, copy)
     window.show()
+    return window
+
+
+def run_app(path: str | os.PathLike | None = None, copy: bool = False) -> int:
+    """Open the main window (with ``path`` loaded if given) and run the event loop; returns the exit code."""
+    app = _application()
+    window = start_window(path, copy)
     window.files.offer_recovery()  # unsaved work left by a session that did not close cleanly
     return int(app.exec())
 

@@ -23,7 +23,7 @@ import time
 from dataclasses import replace
 from typing import Callable, Mapping
 
-from PySide6.QtCore import QObject, Qt, QTimer, Signal
+from PySide6.QtCore import QEvent, QObject, Qt, QTimer, Signal
 
 from solver.model import Rig
 from solver.result import Result
@@ -193,9 +193,12 @@ class SolveScheduler(QObject):
 
     def __init__(self, document, parent: QObject | None = None, *, delay_ms: int = DEFAULT_DELAY_MS,
                  analyse: Analyse | None = None, quick: Analyse | None = None,
-                 background_after_ms: float = BACKGROUND_AFTER_MS, settle_ms: int = SETTLE_MS) -> None:
+                 background_after_ms: float = BACKGROUND_AFTER_MS, settle_ms: int = SETTLE_MS,
+                 clock: Callable[[], float] = time.perf_counter) -> None:
         super().__init__(parent)
         self.document = document
+        self.clock = clock  # seconds, monotonic: times solves and the gaps between changes (tests pass their own)
+        self._held: QObject | None = None  # a widget whose first paint the first solve waits for
         self.analyse: Analyse = analyse or _default_analyse
         self.quick: Analyse = quick or analyse or _default_quick
         self.settle_timer = QTimer(self)
@@ -240,7 +243,7 @@ class SolveScheduler(QObject):
         file right after the window is built gets the full analysis at once.
         """
         if _args:
-            now = time.perf_counter()
+            now = self.clock()
             self._change_gap_ms = (now - self._last_change) * 1e3
             self._last_change = now
         if not self._closed and not self.timer.isActive():
@@ -261,7 +264,7 @@ class SolveScheduler(QObject):
 
     def fire(self) -> None:
         """What the coalescing timer does: solve the current revision (quickly if changes are streaming)."""
-        if self._closed:
+        if self._closed or self._held is not None:  # held: the first paint re-arms the timer
             return
         if self._in_flight is not None:  # the worker is busy; its return re-arms the timer
             return
@@ -290,7 +293,7 @@ class SolveScheduler(QObject):
         start = warm_start(rig, self.last_good_rig, self.last_good)
         predicted = predicted_start(rig, start, self.last_good_rig, self.before_good_rig,
                                     self.before_good) if quick else None
-        t0 = time.perf_counter()
+        t0 = self.clock()
         try:
             result = (self.quick if quick else self.analyse)(rig, start=predicted or start)
             if predicted and isinstance(result, Result) and not result.ok:
@@ -300,7 +303,7 @@ class SolveScheduler(QObject):
         except Exception as exc:  # noqa: BLE001 - a solver bug must not take the window down
             log.exception("live solve failed")
             result = failure_result(exc)
-        self.last_solve_ms = (time.perf_counter() - t0) * 1e3
+        self.last_solve_ms = (self.clock() - t0) * 1e3
         self.solve_count += 1
         return replace(result, revision=rev)
 
@@ -319,6 +322,27 @@ class SolveScheduler(QObject):
                     pass
 
         self._executor.submit(work)
+
+    def first_solve_after_paint(self, widget) -> None:
+        """Start-up: no solve until ``widget`` has painted once, and that first solve in the worker thread.
+
+        The first solve of a session imports the numerical libraries and warms them up (a few
+        hundred ms); the window shows the drawing first and the forces follow.  Later solves
+        return to the GUI thread as soon as they are quick (``QUICK_SOLVES_TO_RETURN``).
+        """
+        self._held = widget
+        self.background = True
+        widget.installEventFilter(self)
+
+    def eventFilter(self, watched, event) -> bool:  # noqa: N802 - Qt's name
+        if watched is self._held and event.type() == QEvent.Paint:
+            watched.removeEventFilter(self)
+            QTimer.singleShot(0, self._release)  # after this paint has finished
+        return False
+
+    def _release(self) -> None:
+        self._held = None
+        self.schedule()
 
     # --- delivery -------------------------------------------------------------------------------
     def _deliver(self, rev: int, rig: Rig, result: Result, quick: bool = False) -> None:

@@ -52,6 +52,7 @@ import math
 from typing import Callable, Iterable
 
 import numpy as np
+import shapely
 from shapely.geometry import LineString, Point as ShPoint, Polygon
 from shapely.geometry.base import BaseGeometry
 
@@ -227,30 +228,38 @@ def check_unrated_drawn(rig: Rig) -> list[Warning_]:
     ]
 
 
-def check_ropes(rig: Rig, result: Result) -> list[Warning_]:
-    """Each rope piece's tension against its material's MBS; one warning per rope (its worst piece)."""
+def check_ropes(rig: Rig, result: Result, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
+    """Each rope piece's tension against its material's MBS; one warning per rope (its worst piece).
+
+    ``pcs``: the rig's :func:`~solver.danger.pieces` for this result if already made (``run_checks``).
+    """
     out: list[Warning_] = []
     sf = _sf(rig)
     worst: dict[str, Piece] = {}
-    for pc in pieces(rig, result):
+    for pc in pieces(rig, result) if pcs is None else pcs:
         if pc.tension_N is None:
             continue
         if pc.rope.id not in worst or pc.tension_N > (worst[pc.rope.id].tension_N or 0.0):
             worst[pc.rope.id] = pc
+    specs: dict[str, Material | None] = {}  # each material looked up once, not once per rope
     for rope in rig.ropes:
         pc = worst.get(rope.id)
         if pc is None or not pc.loaded:
             continue
         t = float(pc.tension_N or 0.0)
-        mat = _material(rig, rope.material)
-        where = f"between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}"
+        if rope.material not in specs:
+            specs[rope.material] = _material(rig, rope.material)
+        mat = specs[rope.material]
         if mat is None:
             out.append(Warning_("spec-unknown", rope.id,
                                 f"{rope.name}: material '{rope.material}' is not known, so its margin is not checked.",
                                 "warning"))
             continue
-        what = {"sling": "sling", "cord": "cord"}.get(mat.kind, "rope")
         m = _margin(rig, t, float(mat.mbs_N))
+        if m is None:
+            continue
+        what = {"sling": "sling", "cord": "cord"}.get(mat.kind, "rope")
+        where = f"between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}"
         if m == "over":
             out.append(Warning_("rope-over", rope.id,
                                 f"{rope.name} ({what}) carries {_force(rig, t)} {where}, more than its "
@@ -303,9 +312,10 @@ def check_hardware(rig: Rig, result: Result) -> list[Warning_]:
     for r in rig.ropes:
         for ps in r.path:
             passes_at[ps.at] = passes_at.get(ps.at, 0) + 1
+    pushed = {fc.at for fc in rig.forces}
     for rope_id, k, at, f in pass_loads(rig, result):
         rng = result.hold_anchor_range.get(at)
-        if rng is not None and passes_at.get(at) == 1 and not any(fc.at == at for fc in rig.forces):
+        if rng is not None and passes_at.get(at) == 1 and at not in pushed:
             f = max(f, float(rng.high))
         if f <= 0.0:
             continue
@@ -338,17 +348,18 @@ def leg_force_factor(included_deg: float) -> float:
     return 1.0 / (2.0 * math.cos(math.radians(included_deg) / 2.0))
 
 
-def two_leg_anchors(rig: Rig, result: Result | None) -> list[tuple[str, str, str, float]]:
+def two_leg_anchors(rig: Rig, result: Result | None,
+                    pcs: Iterable[Piece] | None = None) -> list[tuple[str, str, str, float]]:
     """Free points held by exactly two legs to anchors: (point id, anchor 1, anchor 2, included angle deg)."""
     pos = positions(rig, result)
     kinds = {p.id: p.kind for p in rig.points}
     legs: dict[str, list[tuple[str, Piece]]] = {}
-    for pc in pieces(rig, result):
+    for pc in pieces(rig, result) if pcs is None else pcs:
         for here, there, k, k_there in ((pc.a_id, pc.b_id, pc.index, pc.index + 1),
                                         (pc.b_id, pc.a_id, pc.index + 1, pc.index)):
             if kinds.get(there) != "anchor":
                 continue
-            pt = next((p for p in rig.points if p.id == here), None)
+            pt = rig.point(here) if rig.has_point(here) else None
             if pt is None or pt.is_fixed or not pt.is_structural:
                 continue
             # a leg is tied to its anchor and tied (or slides, equalising) at the junction;
@@ -371,17 +382,18 @@ def two_leg_anchors(rig: Rig, result: Result | None) -> list[tuple[str, str, str
     return out
 
 
-def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
+def check_wide_anchors(rig: Rig, result: Result | None, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
     """Two-leg anchors with an included angle over 120 degrees (ASME B30.9)."""
     out = []
+    # a tensioned line (highline) is checked on its leg-force factor instead
+    wide = [(here, a1, a2, ang) for here, a1, a2, ang in two_leg_anchors(rig, result, pcs)
+            if ang > WIDE_ANCHOR_DEG and not is_line_leg_pair(rig, here, a1, a2)]
     tens: dict[frozenset[str], float] = {}
-    if result is not None and result.ok:
+    if wide and result is not None and result.ok:
         for s in result.segments:
             key = frozenset((s.from_point, s.to_point))
             tens[key] = max(tens.get(key, 0.0), float(s.tension_N))
-    for here, a1, a2, ang in two_leg_anchors(rig, result):
-        if ang <= WIDE_ANCHOR_DEG or is_line_leg_pair(rig, here, a1, a2):
-            continue  # a tensioned line (highline) is checked on its leg-force factor instead
+    for here, a1, a2, ang in wide:
         fac = leg_force_factor(ang) if ang < 179.999 else float("inf")
         fac_txt = f"{fac:.2f}" if math.isfinite(fac) else "an unbounded multiple of"
         t1, t2 = tens.get(frozenset((here, a1))), tens.get(frozenset((here, a2)))
@@ -400,8 +412,18 @@ def check_wide_anchors(rig: Rig, result: Result | None) -> list[Warning_]:
 def check_slack(rig: Rig, result: Result) -> list[Warning_]:
     """Runs whose pieces all carry (practically) nothing."""
     out = []
+    # only ropes with a run whose solved pieces all carry (practically) nothing are walked run by run
+    quiet: dict[tuple[str, int], bool] = {}
+    for s in result.segments:
+        key = (s.rope, s.run)
+        quiet[key] = quiet.get(key, True) and float(s.tension_N) <= SLACK_MAX_N
+    candidates = {rope_id for (rope_id, _), q in quiet.items() if q}
+    if not candidates:
+        return out
     tens = {(s.rope, s.index): float(s.tension_N) for s in result.segments}
     for rope in rig.ropes:
+        if rope.id not in candidates:
+            continue
         for run in rope.runs():
             ts = [tens.get((rope.id, i)) for i in run.piece_indices]
             if not ts or any(t is None for t in ts):
@@ -584,25 +606,30 @@ def check_haul(rig: Rig, result: Result) -> list[Warning_]:
     return out
 
 
-def check_two_blocked(rig: Rig, result: Result) -> list[Warning_]:
+def check_two_blocked(rig: Rig, result: Result, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
     """Pieces with a free end that have shrunk to the hardware size: out of throw."""
     out: list[Warning_] = []
     if any(w.code == "two-blocked" for w in result.warnings):
         return out  # the solver found it with its own contact model; do not say it twice
-    pts = {p.id: p for p in rig.points}
+    fixed = {p.id: p.is_fixed for p in rig.points}
+    size_of: dict[str, float] = {}  # hardware id -> size (m), each spec looked up once
+
+    def size(hw_id: str | None) -> float:
+        if not hw_id:
+            return 0.0
+        if hw_id not in size_of:
+            hw = _hardware(rig, hw_id)
+            size_of[hw_id] = float(hw.size_m) if hw is not None and hw.size_m else 0.0
+        return size_of[hw_id]
+
     seen = set()
-    for pc in pieces(rig, result):
-        if pc.a_id == pc.b_id or pc.a_id not in pts or pc.b_id not in pts:
+    for pc in pieces(rig, result) if pcs is None else pcs:
+        if pc.a_id == pc.b_id or pc.a_id not in fixed or pc.b_id not in fixed:
             continue
-        if pts[pc.a_id].is_fixed and pts[pc.b_id].is_fixed:
+        if fixed[pc.a_id] and fixed[pc.b_id]:
             continue
-        sizes = [0.0]
-        for k in (pc.index, pc.index + 1):
-            hw_id = pc.rope.path[k].hardware
-            hw = _hardware(rig, hw_id) if hw_id else None
-            if hw is not None and hw.size_m:
-                sizes.append(float(hw.size_m))
-        if pc.length_m <= max(sizes) + TWO_BLOCK_TOL_M:
+        path = pc.rope.path
+        if pc.length_m <= max(size(path[pc.index].hardware), size(path[pc.index + 1].hardware)) + TWO_BLOCK_TOL_M:
             key = frozenset((pc.a_id, pc.b_id))
             if key in seen:
                 continue
@@ -618,14 +645,15 @@ def check_two_blocked(rig: Rig, result: Result) -> list[Warning_]:
 def people_in_zones(rig: Rig, zones: Iterable[DangerZone]) -> list[tuple[str, DangerZone]]:
     """(point id, zone) for every person or haul point inside a zone, haul teams excused from their own rope end."""
     zones = list(zones)
+    people = [p for p in rig.points if p.kind in ("person", "haul")]
+    if not zones or not people:
+        return []
+    geoms = np.array([z.geometry for z in zones], dtype=object)
     out = []
-    for p in rig.points:
-        if p.kind not in ("person", "haul"):
-            continue
-        pt = ShPoint(p.x, p.y)
-        for z in zones:
-            if not z.geometry.contains(pt):  # strictly inside: a leg's far end is not in its own bight
-                continue
+    for p in people:
+        # strictly inside (shapely "contains"): a leg's far end is not in its own bight; all zones at once
+        for i in np.flatnonzero(shapely.contains_xy(geoms, p.x, p.y)):
+            z = zones[i]
             if p.kind == "haul" and z.kind == "recoil" and _piece_ends_at(rig, z.rope, z.piece, p.id):
                 continue
             out.append((p.id, z))
@@ -642,6 +670,8 @@ def _piece_ends_at(rig: Rig, rope_id: str, piece: int, point_id: str) -> bool:
 
 def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None) -> list[Warning_]:
     """Person and haul points inside bight or recoil zones."""
+    if not any(p.kind in ("person", "haul") for p in rig.points):
+        return []  # nobody to warn: the zones are left for whoever draws them
     if zones is None:
         zones = danger_zones(rig, result)
     out = []
@@ -662,6 +692,10 @@ FORCE_CHECKS: tuple[Callable[[Rig, Result], list[Warning_]], ...] = (
 )
 
 
+#: The checks that accept the rig's pieces already made (their third argument).
+_TAKE_PIECES = frozenset({check_ropes, check_wide_anchors, check_two_blocked})
+
+
 def run_checks(rig: Rig, result: Result) -> tuple[Warning_, ...]:
     """All safety findings for ``rig`` solved as ``result`` (geometry-only checks when it did not solve)."""
     if not result.ok:
@@ -671,6 +705,7 @@ def run_checks(rig: Rig, result: Result) -> tuple[Warning_, ...]:
         found += check_wide_anchors(rig, None) + check_abrasion(rig, None) + check_unrated_drawn(rig)
         return tuple(found)
     found = []
+    pcs = list(pieces(rig, result))  # made once for the checks that walk every piece
     for chk in FORCE_CHECKS:
-        found += chk(rig, result)
+        found += chk(rig, result, pcs) if chk in _TAKE_PIECES else chk(rig, result)
     return tuple(found)

@@ -106,6 +106,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         args_list = ["open", *args_list]
     parser = build_parser()
     args = parser.parse_args(args_list)
+    args.whole_process = argv is None  # the console script itself, not a call from Python
     try:
         code = _handler(args.command)(args)
     except RopewrightError as exc:

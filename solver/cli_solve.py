@@ -8,6 +8,7 @@ file, 3 the solve failed (the message says why, in words).
 from __future__ import annotations
 
 import argparse
+import gc
 import json
 import math
 import sys
@@ -112,6 +113,12 @@ def run(args: argparse.Namespace, out: TextIO | None = None) -> int:
     """Load, solve and print one rig; returns the exit code."""
     from solver.analysis import analyse
 
+    if getattr(args, "whole_process", False):
+        # the command is the whole process: what the imports made lives until it ends, so the cyclic
+        # collector need not walk it (its first full pass cost about 10 ms of the first solve)
+        import solver.equilibrium  # noqa: F401 - imported here so that the freeze covers it
+
+        gc.freeze()
     out = out or sys.stdout
     rig, length_unit, force_unit = load_in_units(args)
     result = analyse(rig)

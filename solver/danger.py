@@ -35,11 +35,12 @@ from dataclasses import dataclass
 from typing import Iterator, Mapping
 
 import numpy as np
+import shapely
 from shapely.geometry import LineString, MultiPolygon, Polygon
 from shapely.geometry.base import BaseGeometry
 
 from solver.model import Rig, Rope
-from solver.result import Result, SegmentResult
+from solver.result import Result, SegmentResult, record
 
 log = logging.getLogger(__name__)
 
@@ -119,22 +120,16 @@ def pieces(rig: Rig, result: Result | None) -> Iterator[Piece]:
     if result is not None and result.ok:
         segs = {(s.rope, s.index): s for s in result.segments}
     for rope in rig.ropes:
-        for i in range(len(rope.path) - 1):
-            a_id, b_id = rope.path[i].at, rope.path[i + 1].at
+        path = rope.path
+        for i in range(len(path) - 1):
+            a_id, b_id = path[i].at, path[i + 1].at
             if a_id not in pos or b_id not in pos:
                 continue
             seg = segs.get((rope.id, i))
-            yield Piece(
-                rope=rope,
-                index=i,
-                a_id=a_id,
-                b_id=b_id,
-                a=pos[a_id],
-                b=pos[b_id],
-                tension_N=None if seg is None else float(seg.tension_N),
-                strain=0.0 if seg is None else float(seg.strain),
-                segment=seg,
-            )
+            # record(): the same frozen Piece as Piece(...), made in one step (a big net has thousands)
+            yield record(Piece, rope=rope, index=i, a_id=a_id, b_id=b_id, a=pos[a_id], b=pos[b_id],
+                         tension_N=None if seg is None else float(seg.tension_N),
+                         strain=0.0 if seg is None else float(seg.strain), segment=seg)
 
 
 def turn_deg(prev: tuple[float, float], at: tuple[float, float], nxt: tuple[float, float]) -> float:
@@ -167,9 +162,11 @@ def bight_triangle(
 def _to_chord_m(p: np.ndarray, b: np.ndarray, c1: np.ndarray, c2: np.ndarray) -> float:
     """Distance (m) from ``p`` along unit vector ``b`` to the chord c1-c2 (to the nearer corner if the chord is a point)."""
     chord = c2 - c1
-    m = np.column_stack([b, -chord])
-    if abs(float(np.linalg.det(m))) > 1e-12 * max(1.0, float(np.hypot(*chord))):
-        t, _ = np.linalg.solve(m, c1 - p)
+    # p + t b = c1 + s chord, a 2 x 2 system [b, -chord] (t, s) = c1 - p, by Cramer's rule
+    det = float(-b[0] * chord[1] + chord[0] * b[1])
+    if abs(det) > 1e-12 * max(1.0, float(np.hypot(*chord))):
+        r = c1 - p
+        t = (-r[0] * chord[1] + chord[0] * r[1]) / det
         return max(0.0, float(t))
     return max(0.0, min(float(np.dot(c1 - p, b)), float(np.dot(c2 - p, b))))
 
@@ -256,30 +253,21 @@ def danger_zones(rig: Rig, result: Result) -> list[DangerZone]:
 
 
 def _build_zones(rig: Rig, result: Result) -> list[DangerZone]:
-    zones: list[DangerZone] = []
+    """Recoil bands then bights, rope by rope; the bands' shapely buffers are made in one vectorised call."""
+    zones: list[DangerZone | None] = []
+    bands: list[tuple[int, Piece, float]] = []  # (slot in zones, piece, half-width m)
     by_rope: dict[str, list[Piece]] = {}
     for pc in pieces(rig, result):
         by_rope.setdefault(pc.rope.id, []).append(pc)
 
     for rope in rig.ropes:
         pcs = {pc.index: pc for pc in by_rope.get(rope.id, [])}
-        # recoil bands along loaded pieces
+        # recoil bands along loaded pieces (geometry filled in below)
         for i in sorted(pcs):
             pc = pcs[i]
-            if not pc.loaded:
-                continue
-            w = recoil_half_width_m(pc.tension_N or 0.0, pc.length_m, pc.strain)
-            zones.append(
-                DangerZone(
-                    kind="recoil",
-                    subject=rope.id,
-                    label=f"recoil band of {rope.name} between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}",
-                    geometry=recoil_band(pc.a, pc.b, w),
-                    severity="warning",
-                    rope=rope.id,
-                    piece=i,
-                )
-            )
+            if pc.loaded:
+                bands.append((len(zones), pc, recoil_half_width_m(pc.tension_N or 0.0, pc.length_m, pc.strain)))
+                zones.append(None)
         # bights at loaded redirects
         for k in range(1, len(rope.path) - 1):
             ps = rope.path[k]
@@ -305,7 +293,30 @@ def _build_zones(rig: Rig, result: Result) -> list[DangerZone]:
                     piece=k - 1,
                 )
             )
-    return zones
+    for (slot, pc, _w), geom in zip(bands, recoil_bands([(pc.a, pc.b, w) for _, pc, w in bands])):
+        zones[slot] = DangerZone(
+            kind="recoil",
+            subject=pc.rope.id,
+            label=f"recoil band of {pc.rope.name} between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}",
+            geometry=geom,
+            severity="warning",
+            rope=pc.rope.id,
+            piece=pc.index,
+        )
+    return zones  # type: ignore[return-value]  # every slot filled
+
+
+def recoil_bands(pieces_: list[tuple[tuple[float, float], tuple[float, float], float]]) -> list[BaseGeometry]:
+    """:func:`recoil_band` of many ``(a, b, half_width_m)`` at once (one shapely call, the same polygons)."""
+    if not pieces_:
+        return []
+    ends = np.array([(a, b) for a, b, _ in pieces_], dtype=float).reshape(len(pieces_), 2, 2)
+    widths = np.array([w for _, _, w in pieces_], dtype=float)
+    lines = shapely.linestrings(ends)
+    dots = np.all(ends[:, 0] == ends[:, 1], axis=1)  # a zero-length piece: a disc round its point
+    if dots.any():
+        lines[dots] = shapely.points(ends[dots, 0])
+    return list(shapely.buffer(lines, widths, quad_segs=QUAD_SEGS))
 
 
 def union_of(zones: list[DangerZone]) -> Polygon | MultiPolygon:

@@ -24,6 +24,7 @@ import scipy.sparse
 import scipy.sparse.linalg
 
 from solver import friction
+from solver.blas_threads import solving_on_one_blas_thread
 from solver.capacity import utilization as capacity_utilization
 from solver.units import format_force_sig, format_length
 from solver.assembly import (
@@ -1227,6 +1228,7 @@ def _compiled(rig: Rig, motion: str | None) -> System:
     return s
 
 
+@solving_on_one_blas_thread  # small dense problems: one BLAS thread (solver/blas_threads.py)
 def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True) -> Result:
     """Solve ``rig`` for static equilibrium; ``start`` = {point_id: (x, y)} warm start, metres.
 

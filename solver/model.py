@@ -8,6 +8,7 @@ helpers here (``with_point``, ``without_point`` ...), which keeps undo simple
 
 from __future__ import annotations
 
+import threading
 from dataclasses import dataclass, field, replace
 from typing import Any, Iterator, Literal, Mapping
 
@@ -26,6 +27,10 @@ FORCE_UNITS: tuple[str, ...] = ("N", "kN", "lbf")
 
 #: Kinds that are fixed unless the file says ``"fixed": false``.
 FIXED_BY_DEFAULT: frozenset[str] = frozenset({"anchor", "load", "haul"})
+
+#: Where a Rig keeps its id index (``Rig._index``), and the lock it is built under.
+_INDEX_KEY = "_id_index"
+_INDEX_LOCK = threading.Lock()
 
 #: Standard gravity, m/s^2 (NIST SP 811 / CGPM 1901).
 STANDARD_GRAVITY = 9.80665
@@ -276,20 +281,38 @@ class Rig:
     extra: Mapping[str, Any] = field(default_factory=dict)  # unknown top-level keys, kept
 
     # --- look-ups -----------------------------------------------------------------
+    @property
+    def _index(self) -> "_Index":
+        """Points and ropes by id, built once per Rig on first look-up (the Rig is immutable).
+
+        Kept in the instance ``__dict__`` under ``_INDEX_KEY`` (a frozen dataclass allows that), built
+        under a lock so that threads looking up at once build it once and share it; a Rig made by
+        ``replace`` starts without one.  Not a field: equality, hashing, ``repr`` and saving never see
+        it.  A list with an id given twice keeps its first (what a linear search finds); rig files
+        refuse duplicates anyway.
+        """
+        index = self.__dict__.get(_INDEX_KEY)
+        if index is None:
+            with _INDEX_LOCK:
+                index = self.__dict__.get(_INDEX_KEY)
+                if index is None:
+                    index = _Index.of(self)
+                    self.__dict__[_INDEX_KEY] = index
+        return index
+
     def point(self, point_id: str) -> Point:
-        for p in self.points:
-            if p.id == point_id:
-                return p
-        raise KeyError(point_id)
+        """The point with this id (KeyError if there is none), by the Rig's id index: O(1)."""
+        return self._index.points[point_id]
 
     def has_point(self, point_id: str) -> bool:
-        return any(p.id == point_id for p in self.points)
+        return point_id in self._index.points
 
     def rope(self, rope_id: str) -> Rope:
-        for r in self.ropes:
-            if r.id == rope_id:
-                return r
-        raise KeyError(rope_id)
+        """The rope with this id (KeyError if there is none), by the Rig's id index: O(1)."""
+        return self._index.ropes[rope_id]
+
+    def has_rope(self, rope_id: str) -> bool:
+        return rope_id in self._index.ropes
 
     def embedded_material(self, material_id: str) -> Material | None:
         return next((m for m in self.materials if m.id == material_id), None)
@@ -354,3 +377,21 @@ class Rig:
     def moved(self, point_id: str, x: float, y: float) -> "Rig":
         """The same rig with one point moved to (x, y) metres."""
         return self.with_point(replace(self.point(point_id), x=float(x), y=float(y)))
+
+
+@dataclass(frozen=True)
+class _Index:
+    """A Rig's points and ropes by id (first of any repeated id), for :meth:`Rig.point` / :meth:`Rig.rope`."""
+
+    points: Mapping[str, Point]
+    ropes: Mapping[str, Rope]
+
+    @staticmethod
+    def of(rig: Rig) -> "_Index":
+        points: dict[str, Point] = {}
+        for p in rig.points:
+            points.setdefault(p.id, p)
+        ropes: dict[str, Rope] = {}
+        for r in rig.ropes:
+            ropes.setdefault(r.id, r)
+        return _Index(points, ropes)

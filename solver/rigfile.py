@@ -32,11 +32,15 @@ import tempfile
 import weakref
 from dataclasses import replace
 from functools import lru_cache
-from importlib import resources
 from typing import Any, Callable, Iterable, Mapping, Sequence
 
 from solver import materials
 from solver import model as m
+from solver.bulk_read import collector_paused, filled, plain_data_ok
+from solver.rigfile_schema import check_schema as _check_schema
+from solver.rigfile_schema import field_path as _where
+from solver.rigfile_schema import schema  # noqa: F401 - part of this module's API (__all__)
+from solver.rigfile_schema import show_value as _show
 from solver.errors import RigFileError
 
 log = logging.getLogger(__name__)
@@ -147,8 +151,11 @@ def loads_rig(text: str | bytes, base_dir: str | os.PathLike[str] | None = None,
             raise _too_big(size)
     if text.startswith("\ufeff"):  # a byte-order mark some editors add
         text = text[1:]
-    data = _parse_json(text)
-    return rig_from_dict(data, strict=strict, base_dir=base_dir)
+    with collector_paused():  # parsing and building allocate an object per JSON value, freed by refcount
+        data = _parse_json(text)
+        rig = rig_from_dict(data, strict=strict, base_dir=base_dir)
+        del data  # the parsed tree freed before the collector's next pass would walk it
+    return rig
 
 
 def rig_from_dict(d: Any, strict: bool = False, *, base_dir: str | os.PathLike[str] | None = None) -> m.Rig:
@@ -365,11 +372,15 @@ _DUPLICATE = object()
 
 
 def _object_noting_duplicates(pairs: list[tuple[str, Any]]) -> dict[Any, Any]:
-    out: dict[Any, Any] = {}
-    for key, value in pairs:
-        if key in out and _DUPLICATE not in out:
+    out: dict[Any, Any] = dict(pairs)
+    if len(out) == len(pairs):
+        return out
+    seen: set[str] = set()
+    for key, _value in pairs:  # a key given twice: note the first repeated one
+        if key in seen:
             out[_DUPLICATE] = key
-        out[key] = value
+            break
+        seen.add(key)
     return out
 
 
@@ -387,27 +398,6 @@ def _kind_of(value: Any) -> str:
     if isinstance(value, dict):
         return "an object"
     return type(value).__name__
-
-
-def _show(value: Any, limit: int = 40) -> str:
-    """A value as a person would type it in the file, shortened."""
-    if isinstance(value, float) and not math.isfinite(value):
-        return "NaN" if math.isnan(value) else ("Infinity" if value > 0 else "-Infinity")
-    try:
-        s = json.dumps(value, ensure_ascii=False)
-    except (TypeError, ValueError):
-        s = repr(value)
-    return s if len(s) <= limit else s[: limit - 1] + "…"
-
-
-def _where(path: Iterable[Any]) -> str:
-    out = ""
-    for part in path:
-        if isinstance(part, int):
-            out += f"[{part}]"
-        else:
-            out += f".{part}" if out else str(part)
-    return out or "(top level)"
 
 
 # --------------------------------------------------------------------------------------
@@ -441,7 +431,13 @@ def _check_format_and_version(d: dict[str, Any]) -> None:
 
 
 def _check_plain_data(d: Any) -> None:
-    """Every number finite and within float range, every text valid Unicode (iterative walk)."""
+    """Every number finite and within float range, every text valid Unicode (iterative walk).
+
+    A quick walk that keeps no field paths answers first; only a file it finds a problem
+    in is walked again with paths, to name the place.
+    """
+    if plain_data_ok(d, _DUPLICATE):
+        return
     stack: list[tuple[Any, tuple[Any, ...]]] = [(d, ())]
     while stack:
         value, path = stack.pop()
@@ -475,137 +471,36 @@ def _check_text(s: str, path: tuple[Any, ...]) -> None:
         raise RigFileError("holds a broken \\u escape (half of a character pair)", where=_where(path)) from None
 
 
-@lru_cache(maxsize=1)
-def _validator() -> Any:
-    import jsonschema
-
-    text = resources.files("solver").joinpath("schema/rig-v1.schema.json").read_text(encoding="utf-8")
-    schema = json.loads(text)
-    cls = jsonschema.Draft202012Validator
-    cls.check_schema(schema)
-    return cls(_inline_refs(schema, schema.get("$defs", {})))
-
-
-def _inline_refs(node: Any, defs: Mapping[str, Any]) -> Any:
-    """The schema with every local ``{"$ref": "#/$defs/x"}`` replaced by its definition.
-
-    The rig schema is not recursive, so this is finite; it spares the validator a
-    reference look-up per object (about half its time on a large rig).
-    """
-    if isinstance(node, dict):
-        ref = node.get("$ref")
-        if isinstance(ref, str) and ref.startswith("#/$defs/") and len(node) == 1:
-            return _inline_refs(defs[ref[len("#/$defs/"):]], defs)
-        return {k: _inline_refs(v, defs) for k, v in node.items() if k != "$defs"}
-    if isinstance(node, list):
-        return [_inline_refs(v, defs) for v in node]
-    return node
-
-
-def schema() -> dict[str, Any]:
-    """The JSON Schema (draft 2020-12) of a version-1 rig file."""
-    text = resources.files("solver").joinpath("schema/rig-v1.schema.json").read_text(encoding="utf-8")
-    return json.loads(text)
-
-
-_NOUNS = {"points": "point", "ropes": "rope", "path": "pass", "materials": "material",
-          "hardware": "hardware spec", "forces": "force", "features": "site feature", "image": "site image",
-          "stretch": "stretch point"}
-_TYPE_WORDS = {"number": "a number", "integer": "a whole number", "string": "text in double quotes",
-               "array": "a list [...]", "object": "an object {...}", "boolean": "true or false", "null": "null"}
-
-
-def _noun_for(path: Sequence[Any]) -> str:
-    for part in reversed(path):
-        if isinstance(part, str):
-            return _NOUNS.get(part, part)
-    return "rig file"
-
-
-def _check_schema(d: dict[str, Any]) -> None:
-    from jsonschema.exceptions import best_match
-
-    errors = list(_validator().iter_errors(d))
-    if not errors:
-        return
-    err = best_match(errors)
-    where, message = _translate(err)
-    if len(errors) > 1:
-        more = len(errors) - 1
-        message += f" (and {more} more problem{'s' if more > 1 else ''} in the file)"
-    raise RigFileError(message, where=where)
-
-
-def _translate(err: Any) -> tuple[str, str]:
-    """A jsonschema error as (field path, message in a rigger's words)."""
-    path = list(err.absolute_path)
-    kw = err.validator
-    val = err.validator_value
-    inst = err.instance
-    where = _where(path)
-    if kw == "type":
-        wanted = [val] if isinstance(val, str) else list(val)
-        words = " or ".join(_TYPE_WORDS.get(w, w) for w in wanted)
-        msg = f"must be {words}, got {_show(inst)}"
-        if "number" in wanted and isinstance(inst, str):
-            fixed = inst.strip().replace(",", ".", 1) if inst.count(",") == 1 else inst.strip()
-            try:
-                num = float(fixed)
-            except ValueError:
-                pass
-            else:
-                if math.isfinite(num):
-                    msg += f" (write {fixed} with a decimal point and no quotes)"
-        return where, msg
-    if kw == "required":
-        missing = [k for k in val if isinstance(inst, dict) and k not in inst]
-        key = missing[0] if missing else val[0]
-        noun = _noun_for(path)
-        needs = ", ".join(val[:-1]) + f" and {val[-1]}" if len(val) > 1 else val[0]
-        return _where(path + [key]), f"is missing (every {noun} needs {needs})"
-    if kw == "enum":
-        choices = ", ".join(_show(c) for c in val)
-        return where, f"must be one of {choices}; got {_show(inst)}"
-    if kw == "const":
-        return where, f"must be {_show(val)}, got {_show(inst)}"
-    if kw == "minimum":
-        return where, f"must be at least {val:g}, got {_show(inst)}"
-    if kw == "exclusiveMinimum":
-        return where, f"must be more than {val:g}, got {_show(inst)}"
-    if kw == "maximum":
-        return where, f"must be at most {val:g}, got {_show(inst)}"
-    if kw == "exclusiveMaximum":
-        return where, f"must be less than {val:g}, got {_show(inst)}"
-    if kw in ("minItems", "maxItems", "items") and _is_pair_schema(err):
-        return where, f"must be a pair of numbers [x, y], got {_show(inst)}"
-    if kw == "minItems":
-        if path and path[-1] == "path":
-            return where, (f"a rope needs at least {val} passes (where it starts and where it ends); "
-                           f"this one has {len(inst)}")
-        item = _NOUNS.get(str(path[-1]), "item") if path else "item"
-        return where, f"needs at least {val} {item}{'s' if val != 1 else ''}, has {len(inst)}"
-    if kw == "minLength":
-        return where, "must not be empty"
-    return where, f"is not valid here ({_show(inst)})"
-
-
-def _is_pair_schema(err: Any) -> bool:
-    sch = err.schema if isinstance(err.schema, dict) else {}
-    return "prefixItems" in sch or sch is False
-
-
 # --------------------------------------------------------------------------------------
 # Building the dataclasses
 
 
-def _from_simple(d: dict[str, Any], spec: _Spec, where: str, strict: bool) -> tuple[dict[str, Any], dict[str, Any]]:
-    """kwargs for a dataclass from a checked dict, and its unknown keys (``extra``)."""
+@lru_cache(maxsize=None)
+def _spec_fields(spec: _Spec) -> dict[str, tuple[str, Any]]:
+    """A spec as {json key: (kind, default)}, for reading an object key by key."""
+    return {key: (kind, default) for key, kind, default in spec}
+
+
+def _from_simple(d: dict[str, Any], spec: _Spec, where: str, strict: bool,
+                 at_default: list[str] | None = None) -> tuple[dict[str, Any], dict[str, Any]]:
+    """kwargs for a dataclass from a checked dict, and its unknown keys (``extra``).
+
+    ``at_default`` collects the optional keys the file gave at their default value.
+    """
+    fields = _spec_fields(spec)
     kwargs: dict[str, Any] = {}
-    for key, kind, _default in spec:
-        if key in d:
-            kwargs[key] = _convert(d[key], kind)
-    known = {k for k, _, _ in spec}
-    extra = {k: v for k, v in d.items() if k not in known}
+    extra: dict[str, Any] = {}
+    for key, value in d.items():
+        field = fields.get(key)
+        if field is None:
+            extra[key] = value
+            continue
+        kind, default = field
+        if kind != "str":
+            value = _convert(value, kind)
+        kwargs[key] = value
+        if at_default is not None and default is not _REQUIRED and value == default:
+            at_default.append(key)
     if strict and extra:
         key = next(iter(extra))
         raise RigFileError(f'unknown field "{key}" (strict mode allows only the fields of rig-format.md)',
@@ -629,9 +524,17 @@ def _convert(value: Any, kind: str) -> Any:
 
 
 def _make(cls: type, d: dict[str, Any], spec: _Spec, where: str, strict: bool, **more: Any) -> Any:
-    kwargs, _ = _from_simple(d, spec, where, strict)
+    """The dataclass read from ``d``, remembering the optional keys the file gave at their default.
+
+    Saving writes a required key, a key whose value differs from its default, and a remembered
+    key (``_to_simple``); so only a key given at its default needs remembering, and most
+    objects of a big rig (a pass ``{"at": "n1"}``) need no entry at all.
+    """
+    at_default: list[str] = []
+    kwargs, _ = _from_simple(d, spec, where, strict, at_default)
     kwargs.update(more)
-    return _remember(cls(**kwargs), d.keys())
+    obj = filled(cls, kwargs)
+    return _remember(obj, at_default) if at_default else obj
 
 
 def _build_rig(d: dict[str, Any], strict: bool) -> m.Rig:
@@ -673,8 +576,21 @@ def _build_site(d: dict[str, Any], strict: bool) -> m.Site:
     return _remember(m.Site(extra=extra, **kw), d.keys())
 
 
+_PASS_KEYS = frozenset(key for key, _, _ in _PASS)
+
+
+def _read_pass(x: dict[str, Any], where: str, j: int, strict: bool) -> m.Pass:
+    """One pass of a rope's path; a pass with only known keys (all text) is built directly."""
+    if x.keys() <= _PASS_KEYS:
+        ps = filled(m.Pass, {**x, "extra": {}})
+        at_default = [key for key in ("how", "hardware") if key in x and x[key] == (None if key == "hardware"
+                                                                                   else "tied")]
+        return _remember(ps, at_default) if at_default else ps
+    return _make(m.Pass, x, _PASS, f"{where}.path[{j}]", strict)
+
+
 def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
-    path = tuple(_make(m.Pass, x, _PASS, f"{where}.path[{j}]", strict) for j, x in enumerate(d["path"]))
+    path = tuple(_read_pass(x, where, j, strict) for j, x in enumerate(d["path"]))
     more: dict[str, Any] = {"path": path}
     if "rigged" in d:
         rg = d["rigged"]
@@ -682,9 +598,18 @@ def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
             raise RigFileError("give slack_m or pretension_N, not both: a run is either hand-tight plus slack, "
                                "or tensioned", where=f"{where}.rigged")
         more["rigged"] = _make(m.Rigging, rg, _RIGGING, f"{where}.rigged", strict)
-    kwargs, _ = _from_simple({k: v for k, v in d.items() if k not in ("path", "rigged")}, _ROPE, where, strict)
-    kwargs.update(more)
-    return _remember(m.Rope(**kwargs), d.keys())
+    kwargs, _ = _from_simple(d, _ROPE_READ, where, strict)
+    kwargs.update(more)  # path and rigged as read above
+    kwargs.setdefault("rigged", m.Rigging())
+    rope = filled(m.Rope, kwargs)
+    # saving writes label and rigged when set; remember them only when the file gave them at their default
+    at_default = [key for key in ("label", "rigged") if key in d and getattr(rope, key) == _ROPE_DEFAULTS[key]]
+    return _remember(rope, at_default) if at_default else rope
+
+
+_ROPE_DEFAULTS: dict[str, Any] = {"label": "", "rigged": m.Rigging()}
+#: A rope's keys as _from_simple reads them: path and rigged known (not extra), each read on its own.
+_ROPE_READ: _Spec = _ROPE + (("path", "str", _REQUIRED), ("rigged", "str", None))
 
 
 # --------------------------------------------------------------------------------------

@@ -30,7 +30,8 @@ def linear_material(mat_id: str = "lin", ea: float = 1.0e5, mbs: float = BIG_MBS
 
 
 def pulley(hw_id: str = "pul", efficiency: float = 1.0) -> Hardware:
-    """A pulley with efficiency eta = tension leaving / tension entering (rig-format.md)."""
+    """A pulley with efficiency eta = tension on the side the rope comes from / on the side it goes to
+    (check-values.md; at most 1: the pulled side is the higher)."""
     return Hardware(id=hw_id, kind="pulley", efficiency=efficiency, mbs_N=BIG_MBS, label=f"pulley eta {efficiency:g}")
 
 

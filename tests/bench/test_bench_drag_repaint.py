@@ -61,11 +61,13 @@ def test_drag_step_on_a_50_rope_rig(benchmark, window):
         for name, dt in (("preview", t1 - t0), ("fire", t2 - t1), ("repaint", t3 - t2)):
             parts[name].append(dt)
 
+    for _ in range(3):  # a drag under way before the measured steps, also when timing is off (one step)
+        drag_step()
     benchmark.pedantic(drag_step, rounds=200, iterations=1, warmup_rounds=5)
     assert not sched.settled  # the drag path was measured
     # frames blitted the still items' image (sketchpad.drag_layer; from the third step, once the same
-    # items changed twice running: CI's --benchmark-disable runs one step)
-    assert view.drag_layer.frames > 0 or step["i"] < 3
+    # items changed twice running)
+    assert view.drag_layer.frames > 0
     res = sched.result
     assert res.ok and res.revision == doc.revision, res.message
     tens = {lab.key: lab.values["tension_N"] for lab in window.live.overlay.labels if lab.kind == "tension"}

@@ -12,11 +12,10 @@ import math
 from dataclasses import replace
 
 import numpy as np
-import pytest
 
+from solver import equilibrium
 from tests import rigs
 
-equilibrium = pytest.importorskip("solver.equilibrium")
 solve = equilibrium.solve
 
 

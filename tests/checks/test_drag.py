@@ -139,7 +139,7 @@ def test_haul_planning_refuses_nonsense(args):
 
 
 def test_plan_for_a_solved_3_to_1_uses_its_actual_ma():
-    equilibrium = pytest.importorskip("solver.equilibrium")
+    from solver import equilibrium
     from solver.hauling import plan_for_result
     from solver.templates import place_template
     from tests import rigs

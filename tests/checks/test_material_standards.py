@@ -72,23 +72,32 @@ def test_kern_12_5_is_strong_enough_for_nfpa_general_use():
 # --- nonlinearity of static rope ---------------------------------------------------------------
 
 
-@pytest.mark.parametrize("mid", STATIC_KERNMANTLE)
-def test_static_rope_is_two_to_three_times_stiffer_at_working_load_than_at_50_to_150_kg(mid):
-    # check-values.md (from memory): static rope is soft at low load and stiffer at working
-    # load, the stiffness at 10 % MBS being 2-3x that in the EN 1891 50-150 kg window;
-    # a single linear EA cannot fit it.  "Stiffness at 10 % MBS" is read as the secant
-    # (chord) over 5-15 % MBS, centred on 10 % MBS.  (A secant from the origin cannot mean
-    # it: for any stiffening curve T/eps at 10 % MBS is at most ~2.04x the window chord.)
+def _working_over_window_stiffness(mid: str) -> float:
+    """Chord stiffness over 5-15 % MBS (centred on 10 % MBS) over the chord in the EN 1891 50-150 kg window."""
     mbs = LIBRARY_MATERIALS[mid].mbs_N
-    window = chord_stiffness(mid, 50.0 * G, 150.0 * G)
-    working = chord_stiffness(mid, 0.05 * mbs, 0.15 * mbs)
-    ratio = working / window
-    assert 2.0 <= ratio <= 3.0, f"{mid}: {working / 1e3:.0f} kN vs {window / 1e3:.0f} kN, ratio {ratio:.2f}"
+    return chord_stiffness(mid, 0.05 * mbs, 0.15 * mbs) / chord_stiffness(mid, 50.0 * G, 150.0 * G)
+
+
+@pytest.mark.parametrize("mid", STATIC_KERNMANTLE)
+def test_static_rope_is_stiffer_at_working_load_than_at_50_to_150_kg(mid):
+    # check-values.md (from memory, no figure given): static rope is not linear, soft at low
+    # load and stiffer at working load.  "Working load" is read as the chord over 5-15 % MBS.
+    assert _working_over_window_stiffness(mid) > 1.0
+
+
+@pytest.mark.parametrize("mid", STATIC_KERNMANTLE)
+def test_static_rope_curves_have_the_shape_the_library_states(mid):
+    # Our own figure, from memory (the library's source text, solver/data/library.json): "2-3 times
+    # stiffer at working load".  Not a published value: this holds the data to its own description.
+    # (A secant from the origin cannot be meant: for any stiffening curve T/eps at 10 % MBS is at most
+    # ~2.04x the window chord, so the chord over 5-15 % MBS is used.)
+    ratio = _working_over_window_stiffness(mid)
+    assert 2.0 <= ratio <= 3.0, f"{mid}: ratio {ratio:.2f}"
 
 
 @pytest.mark.parametrize("mid", STATIC_KERNMANTLE)
 def test_a_straight_line_through_the_origin_cannot_fit_static_rope(mid):
-    # Same source as above: one linear EA misses the curve.  Least-squares EA over the
+    # check-values.md (from memory): a single linear EA cannot fit a real rope's curve.  Least-squares EA over the
     # table (independent numpy.linalg.lstsq) leaves a strain error above 0.5 % somewhere
     # (0.5 % strain on a 30 m haul is 15 cm of travel).
     table = np.asarray(LIBRARY_MATERIALS[mid].stretch, dtype=float)
@@ -196,7 +205,8 @@ def test_bushing_pulley_sits_between_a_small_pulley_and_a_carabiner():
 
 
 def test_every_efficiency_is_above_0_and_at_most_1():
-    # Definition (check-values.md): eta = tension leaving / tension entering, 0 < eta <= 1.
+    # Definition (check-values.md): eta = tension on the side the rope comes from / tension on the
+    # side it goes to, as the rope moves over the sheave; the side being pulled is the higher, so 0 < eta <= 1.
     for h in LIBRARY_HARDWARE.values():
         if h.efficiency is not None:
             assert 0.0 < h.efficiency <= 1.0, h.id

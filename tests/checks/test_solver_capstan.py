@@ -12,9 +12,9 @@ import math
 import numpy as np
 import pytest
 
+from solver import equilibrium
 from tests import rigs
 
-equilibrium = pytest.importorskip("solver.equilibrium")
 solve = equilibrium.solve
 
 F = 600.0  # N, haul force

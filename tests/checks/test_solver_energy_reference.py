@@ -16,9 +16,9 @@ import numpy as np
 import pytest
 from scipy.optimize import minimize, root
 
+from solver import equilibrium
 from tests import rigs
 
-equilibrium = pytest.importorskip("solver.equilibrium")
 solve = equilibrium.solve
 
 BOX = 20.0  # m, size of the random site

@@ -11,9 +11,9 @@ from __future__ import annotations
 
 import pytest
 
+from solver import equilibrium
 from tests import rigs
 
-equilibrium = pytest.importorskip("solver.equilibrium")
 solve = equilibrium.solve
 
 F = 500.0  # N, haul force

@@ -14,9 +14,9 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
+from solver import equilibrium
 from tests import rigs
 
-equilibrium = pytest.importorskip("solver.equilibrium")
 solve = equilibrium.solve
 
 T = 800.0  # N, haul force on the redirected rope

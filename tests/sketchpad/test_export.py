@@ -116,7 +116,8 @@ def test_svg_parses_and_holds_paths_labels_and_rope_names(qapp, tmp_path, raft):
 
 
 def test_pdf_page_is_landscape_a4_for_metric_and_letter_for_imperial(qapp, tmp_path, raft):
-    pypdf = pytest.importorskip("pypdf")
+    import pypdf
+
     from sketchpad.export import export_drawing
 
     rig, result = raft

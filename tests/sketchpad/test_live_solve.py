@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import threading
-import time
 from dataclasses import replace
 
 import pytest
@@ -167,14 +166,40 @@ def test_subject_keys_map_warning_subjects_to_canvas_items():
     assert subject_keys(rig, "nothing") == []
 
 
-def test_timing_is_measured_and_slow_solves_move_to_the_background(doc):
-    def slowish(rig, start=None):
-        time.sleep(0.02)
+class _Clock:
+    """A clock the test moves by hand (seconds), standing in for ``time.perf_counter``."""
+
+    def __init__(self) -> None:
+        self.now = 1000.0
+
+    def __call__(self) -> float:
+        return self.now
+
+
+def test_a_slow_solve_is_timed_by_the_scheduler_clock_and_moves_later_solves_to_the_background(doc):
+    clock = _Clock()
+
+    def slow(rig, start=None):
+        clock.now += 0.2  # this solve takes 200 ms by the scheduler's clock
         return analyse(rig, start=start)
 
-    s = SolveScheduler(doc, analyse=slowish, background_after_ms=5.0)
+    s = SolveScheduler(doc, analyse=slow, background_after_ms=120.0, clock=clock)
     s.fire()
-    assert s.last_solve_ms >= 20.0
+    assert s.last_solve_ms == pytest.approx(200.0)
     assert s.background
+    assert isinstance(s.result, Result) and s.result.ok
     s.close()
-    assert isinstance(s.result, Result)
+
+
+def test_a_quick_solve_stays_in_the_gui_thread(doc):
+    clock = _Clock()
+
+    def quick(rig, start=None):
+        clock.now += 0.005
+        return analyse(rig, start=start)
+
+    s = SolveScheduler(doc, analyse=quick, background_after_ms=120.0, clock=clock)
+    s.fire()
+    assert s.last_solve_ms == pytest.approx(5.0)
+    assert not s.background
+    s.close()

@@ -12,6 +12,7 @@ import re
 import unicodedata
 from dataclasses import replace
 
+import pypdf
 import pytest
 
 from solver.analysis import analyse
@@ -24,7 +25,6 @@ from solver.units import format_force, format_length
 from tests.conftest import SAMPLES
 from tests.sketchpad.test_export import LOOSE_RIG
 
-pypdf = pytest.importorskip("pypdf")
 
 RAFT = SAMPLES / "raft-3to1-redirect.rig.json"
 

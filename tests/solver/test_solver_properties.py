@@ -15,9 +15,9 @@ import pytest
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
+from solver import equilibrium
 from tests import rigs
 
-equilibrium = pytest.importorskip("solver.equilibrium")
 solve = equilibrium.solve
 
 PROP = settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])

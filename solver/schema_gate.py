@@ -1,0 +1,222 @@
+"""A fast yes/no check of a parsed rig file against its JSON Schema, for big rigs.
+
+``jsonschema`` walks a 10,000-point rig file in about 2 s (a validator object per
+value); this module compiles the same schema once into nested Python closures that
+answer only "valid or not" in a small fraction of that.  It understands exactly the
+keywords the rig schema uses (draft 2020-12: ``type``, ``properties``, ``required``,
+``items``, ``prefixItems``, ``minItems``, ``minLength``, ``enum``, ``const``,
+``minimum``, ``maximum``, ``exclusiveMinimum``, and local ``$ref`` already inlined);
+a schema with any other keyword does not compile (:class:`Unsupported`), so the caller
+falls back to ``jsonschema`` rather than pass something unchecked.  When the answer is
+"not valid", the caller asks ``jsonschema`` for the error to show (its wording and
+field path), so this gate never has to explain anything.
+"""
+
+from __future__ import annotations
+
+from typing import Any, Callable, Mapping
+
+Check = Callable[[Any], bool]
+
+#: Keywords that only annotate a schema and never change what is valid.
+_ANNOTATIONS = frozenset({"$schema", "$id", "title", "description", "$comment", "default", "examples"})
+_SUPPORTED = frozenset({"type", "properties", "required", "items", "prefixItems", "minItems", "minLength",
+                        "enum", "const", "minimum", "maximum", "exclusiveMinimum"}) | _ANNOTATIONS
+
+
+class Unsupported(ValueError):
+    """The schema uses a keyword this gate does not implement."""
+
+
+def _is_number(v: Any) -> bool:
+    return isinstance(v, (int, float)) and not isinstance(v, bool)
+
+
+def _is_integer(v: Any) -> bool:
+    # JSON Schema 2020-12: a number with a zero fractional part is an integer (1.0 is)
+    return _is_number(v) and (isinstance(v, int) or v.is_integer())
+
+
+_TYPES: Mapping[str, Check] = {
+    "object": lambda v: isinstance(v, dict),
+    "array": lambda v: isinstance(v, list),
+    "string": lambda v: isinstance(v, str),
+    "number": _is_number,
+    "integer": _is_integer,
+    "boolean": lambda v: isinstance(v, bool),
+    "null": lambda v: v is None,
+}
+
+
+#: JSON types a value's exact Python type decides (json.loads makes only these types; bool is not a number).
+_PLAIN_TYPES: Mapping[str, frozenset[type]] = {
+    "string": frozenset({str}), "number": frozenset({int, float}), "boolean": frozenset({bool}),
+    "object": frozenset({dict}), "array": frozenset({list}), "null": frozenset({type(None)}),
+}
+
+
+_COMPARE: Mapping[str, Callable[[Any, Any], bool]] = {
+    "minimum": lambda v, x: v >= x, "maximum": lambda v, x: v <= x, "exclusiveMinimum": lambda v, x: v > x,
+}
+
+
+def _scalar_equal(a: Any, b: Any) -> bool:
+    """JSON equality of two scalars: true/false are not the numbers 1/0, 1 equals 1.0."""
+    if isinstance(a, bool) or isinstance(b, bool):
+        return isinstance(a, bool) and isinstance(b, bool) and a == b
+    if _is_number(a) and _is_number(b):
+        return a == b
+    return type(a) is type(b) and a == b
+
+
+def _scalars(values: list[Any]) -> list[Any]:
+    if any(isinstance(v, (dict, list)) for v in values):
+        raise Unsupported("enum/const with an object or list value")
+    return values
+
+
+def compile_schema(schema: Any) -> Check:
+    """A function telling whether a JSON value satisfies ``schema`` (refs inlined; see module doc)."""
+    if schema is True:
+        return lambda v: True
+    if schema is False:
+        return lambda v: False
+    if not isinstance(schema, dict):
+        raise Unsupported(f"schema node {schema!r}")
+    unknown = set(schema) - _SUPPORTED
+    if unknown:
+        raise Unsupported(", ".join(sorted(unknown)))
+    fast = _object_check(schema) or _leaf_check(schema)
+    if fast is not None:
+        return fast
+    checks: list[Check] = []
+    if "type" in schema:
+        names = [schema["type"]] if isinstance(schema["type"], str) else list(schema["type"])
+        tests = [_TYPES[n] for n in names]
+        checks.append(tests[0] if len(tests) == 1 else (lambda v, ts=tuple(tests): any(t(v) for t in ts)))
+    if "const" in schema:
+        (want,) = _scalars([schema["const"]])
+        checks.append(lambda v, w=want: not isinstance(v, (dict, list)) and _scalar_equal(v, w))
+    if "enum" in schema:
+        allowed = _scalars(list(schema["enum"]))
+        checks.append(lambda v, ws=tuple(allowed): not isinstance(v, (dict, list))
+                      and any(_scalar_equal(v, w) for w in ws))
+    for key, cmp in _COMPARE.items():
+        if key in schema:
+            checks.append(lambda v, x=schema[key], c=cmp: not _is_number(v) or c(v, x))
+    if "minLength" in schema:
+        checks.append(lambda v, n=schema["minLength"]: not isinstance(v, str) or len(v) >= n)
+    if "minItems" in schema:
+        checks.append(lambda v, n=schema["minItems"]: not isinstance(v, list) or len(v) >= n)
+    if "required" in schema:
+        keys = tuple(schema["required"])
+
+        def required(v: Any, keys: tuple[str, ...] = keys) -> bool:
+            if isinstance(v, dict):
+                for k in keys:
+                    if k not in v:
+                        return False
+            return True
+
+        checks.append(required)
+    if "properties" in schema:
+        plain, props = _split_properties(schema["properties"])
+        checks.append(lambda v, plain=plain, props=props: not isinstance(v, dict)
+                      or _properties_hold(v, plain, props))
+    prefix = tuple(compile_schema(sub) for sub in schema.get("prefixItems", ()))
+    rest = compile_schema(schema["items"]) if "items" in schema else None
+    if prefix or rest is not None:
+
+        def items(v: Any, prefix: tuple[Check, ...] = prefix, rest: Check | None = rest) -> bool:
+            if isinstance(v, list):
+                for check, x in zip(prefix, v):
+                    if not check(x):
+                        return False
+                if rest is not None:
+                    for x in v[len(prefix):] if prefix else v:
+                        if not rest(x):
+                            return False
+            return True
+
+        checks.append(items)
+    if not checks:
+        return lambda v: True
+    if len(checks) == 1:
+        return checks[0]
+    cs = tuple(checks)
+
+    def every(v: Any, cs: tuple[Check, ...] = cs) -> bool:
+        for c in cs:
+            if not c(v):
+                return False
+        return True
+
+    return every
+
+
+# --- one closure for the common shapes (an object of typed fields, a typed number or text) -----------
+
+
+def _split_properties(subs: Mapping[str, Any]) -> tuple[dict[str, frozenset[type]], dict[str, Check]]:
+    """Property schemas as (key -> Python types, for a schema that is only a plain type; key -> test, the rest)."""
+    plain = {k: _PLAIN_TYPES[sub["type"]] for k, sub in subs.items()
+             if isinstance(sub, dict) and sub.keys() == {"type"} and sub["type"] in _PLAIN_TYPES}
+    return plain, {k: compile_schema(sub) for k, sub in subs.items() if k not in plain}
+
+
+def _properties_hold(v: dict, plain: dict[str, frozenset[type]], props: dict[str, Check]) -> bool:
+    """Every key of ``v`` that has a schema meets it (walks the value's keys: a point has 4 of its 13)."""
+    for k, x in v.items():
+        types = plain.get(k)
+        if types is not None:
+            if type(x) not in types:
+                return False
+            continue
+        check = props.get(k)
+        if check is not None and not check(x):
+            return False
+    return True
+
+
+def _leaf_check(schema: dict[str, Any]) -> Check | None:
+    """``{"type": "number", "minimum": 0}`` or ``{"type": "string", "minLength": 1}`` as one test, else None."""
+    kind = schema.get("type")
+    rest = set(schema) - _ANNOTATIONS - {"type"}
+    if kind in ("number", "integer") and rest <= set(_COMPARE):
+        bounds = tuple((_COMPARE[k], schema[k]) for k in _COMPARE if k in schema)
+        is_kind = _TYPES[kind]
+
+        def number(v: Any, bounds: tuple = bounds, is_kind: Check = is_kind) -> bool:
+            if not is_kind(v):
+                return False
+            for cmp, x in bounds:
+                if not cmp(v, x):
+                    return False
+            return True
+
+        return number
+    if kind == "string" and rest <= {"minLength"}:
+        n = schema.get("minLength", 0)
+        return lambda v, n=n: type(v) is str and len(v) >= n
+    return None
+
+
+def _object_check(schema: dict[str, Any]) -> Check | None:
+    """An object schema (type, required, properties) as one test of the value's keys, else None."""
+    if schema.get("type") != "object" or set(schema) - _ANNOTATIONS - {"type", "required", "properties"}:
+        return None
+    required = tuple(schema.get("required", ()))
+    plain, props = _split_properties(schema.get("properties", {}))
+
+    def obj(v: Any) -> bool:
+        if type(v) is not dict:
+            return isinstance(v, dict) and _slow_object(v)
+        for k in required:
+            if k not in v:
+                return False
+        return _properties_hold(v, plain, props)
+
+    def _slow_object(v: Any) -> bool:
+        return obj(dict(v))
+
+    return obj
