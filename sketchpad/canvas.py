@@ -472,6 +472,7 @@ class SketchView(QGraphicsView):
         #: callables giving the (width, height) px of a box kept clear in the bottom-right corner by
         #: zoom_to_fit (the force overlay's key), so the fitted rig is not hidden under it
         self.fit_reserves: list = []
+        self.wheel_zooming = False  # True only while a wheel notch zooms (sketchpad.zoom_pacing defers labels)
         self.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing)
         self.setHorizontalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
         self.setVerticalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
@@ -554,7 +555,11 @@ class SketchView(QGraphicsView):
     def wheelEvent(self, event: QWheelEvent) -> None:  # noqa: N802
         degrees = event.angleDelta().y() / 8.0
         if degrees:
-            self.zoom_at(WHEEL_ZOOM_PER_DEGREE**degrees, event.position().toPoint())
+            self.wheel_zooming = True  # a notch of a wheel gesture (sketchpad.zoom_pacing); fits and menu zooms are not
+            try:
+                self.zoom_at(WHEEL_ZOOM_PER_DEGREE**degrees, event.position().toPoint())
+            finally:
+                self.wheel_zooming = False
         event.accept()
 
     # --- snapping and picking --------------------------------------------------------------

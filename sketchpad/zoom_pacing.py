@@ -3,9 +3,9 @@
 Placing the force overlay's labels is the largest part of a zoom frame on a crowded rig (the
 placer searches candidate spots for each of ~200 labels).  A label hangs from a scene point
 with a box offset in pixels, so at the next notch it still sits beside what it names; only
-overlaps may change.  So the first zoom step places labels at once (a single step, a fit, a
-zoom from the menu: exact as before), and the notches that follow it within ``STREAM_MS`` keep
-the placement, only refreshing the overlay's extent for the new scale; once the wheel has been
+overlaps may change.  So every zoom that is not a wheel notch (a fit, a zoom from the menu or
+keys) and the first notch of a gesture place labels at once, exact as before; the wheel notches
+that follow within ``STREAM_MS`` keep the placement, only refreshing the overlay's extent for the new scale; once the wheel has been
 still for ``SETTLE_MS`` the labels are placed again for the zoom reached.  Nothing is cached
 here: the placer's own memo and obstacle cache are the overlay's.
 """
@@ -43,8 +43,9 @@ class ZoomPacer(QObject):
 
     def on_zoom(self, _px_per_m: float = 0.0) -> None:
         now = time.perf_counter()
-        streaming = (now - self._last) * 1e3 < STREAM_MS
-        self._last = now
+        wheel = bool(getattr(self.overlay.view, "wheel_zooming", False))
+        streaming = wheel and (now - self._last) * 1e3 < STREAM_MS
+        self._last = now if wheel else -1e9
         ov = self.overlay
         if not streaming:
             ov.relayout()

@@ -12,7 +12,8 @@ from __future__ import annotations
 import pathlib
 
 import pytest
-from PySide6.QtCore import QPoint
+from PySide6.QtCore import QPoint, QPointF, Qt
+from PySide6.QtGui import QWheelEvent
 from PySide6.QtWidgets import QApplication
 
 from solver.rigfile import load_rig
@@ -20,14 +21,22 @@ from solver.rigfile import load_rig
 SAMPLES = sorted((pathlib.Path(__file__).resolve().parents[2] / "samples").glob("*.rig.json"))
 
 
+def wheel(view, up: bool) -> None:
+    """One wheel notch (15 degrees) at the viewport's centre, sent as the mouse wheel sends it."""
+    vp = view.viewport()
+    centre = QPointF(vp.rect().center())
+    delta = QPoint(0, 120 if up else -120)
+    QApplication.sendEvent(vp, QWheelEvent(centre, QPointF(vp.mapToGlobal(centre.toPoint())), QPoint(), delta,
+                                           Qt.NoButton, Qt.NoModifier, Qt.NoScrollPhase, False))
+
+
 def _notches(window):
     view, vp = window.view, window.view.viewport()
-    centre = QPoint(vp.rect().center())
     step = {"i": 0}
 
     def zoom_and_paint():
         step["i"] += 1
-        view.zoom_at(1.02 if step["i"] % 2 else 1 / 1.02, centre)
+        wheel(view, step["i"] % 2 == 1)  # in and out, as a hand on the wheel does
         vp.repaint()
 
     return zoom_and_paint

@@ -17,15 +17,15 @@ def placement(ov) -> dict:
 def test_notches_keep_the_placement_and_the_pause_places_afresh(main_window, qtbot):
     open_sample(main_window, "raft-3to1-redirect.rig.json")
     ov, view = main_window.live.overlay, main_window.view
-    centre = QPoint(view.viewport().rect().center())
     from sketchpad.zoom_pacing import STREAM_MS
+    from tests.bench.test_bench_zoom import wheel
 
-    qtbot.wait(int(STREAM_MS) + 50)  # apart from the fit that opening did
-    view.zoom_at(1.1, centre)  # a lone step: placed at once
+    qtbot.wait(int(STREAM_MS) + 50)
+    wheel(view, True)  # the first notch of a gesture: placed at once
     assert not ov.zoom_pacer.pending
     first = placement(ov)
-    for _ in range(3):  # the notches of one gesture
-        view.zoom_at(1.1, centre)
+    for _ in range(3):  # the notches that follow it
+        wheel(view, True)
     assert ov.zoom_pacer.pending and ov.zoom_pacer.deferred >= 3
     assert placement(ov) == first  # boxes keep their pixel offsets from what they name
     item = ov.force_item
@@ -42,3 +42,15 @@ def test_notches_keep_the_placement_and_the_pause_places_afresh(main_window, qtb
     ov.relayout()
     assert placement(ov) == settled
     QApplication.processEvents()
+
+
+def test_a_fit_right_after_another_zoom_places_the_labels_at_once(main_window):
+    open_sample(main_window, "two-point-anchor.rig.json")
+    ov, view = main_window.live.overlay, main_window.view
+    view.zoom_at(1.3, QPoint(view.viewport().rect().center()))
+    view.zoom_to_fit()  # not a wheel notch: never deferred, however soon it follows
+    assert not ov.zoom_pacer.pending
+    settled = placement(ov)
+    ov._memo, ov._obstacles = {}, ObstacleCache()
+    ov.relayout()
+    assert placement(ov) == settled
