@@ -44,6 +44,9 @@ def _notches(window):
 
 def _ends_placed(window, qtbot):
     ov = window.live.overlay
+    notch = _notches(window)
+    for _ in range(3):  # a gesture's notches (the benchmark runs the frame once when timing is off)
+        notch()
     qtbot.waitUntil(lambda: not ov.zoom_pacer.pending, timeout=5000)
     assert ov.zoom_pacer.deferred > 0  # the gesture's notches kept the placement
     assert any(lab.placed for lab in ov.labels)
