@@ -538,8 +538,8 @@ class RopeItem(SketchItem):
                 seg = hypot(px - xy[i - 1][0], py - xy[i - 1][1])
                 if seg > longest[0]:
                     longest = (seg, xy[i - 1], xy[i])
-            if 0 < i < n - 1 and how in ("pulley", "sliding"):
-                r = (theme.PULLEY_RADIUS_PX if how == "pulley" else theme.RING_RADIUS_PX) * k
+            if 0 < i < n - 1 and how in ("pulley", "sliding", "capture"):
+                r = (theme.RING_RADIUS_PX if how == "sliding" else theme.PULLEY_RADIUS_PX) * k
                 sx, sy = u_prev[0] + u_next[0], u_prev[1] + u_next[1]
                 b = (-u_next[1], u_next[0]) if hypot(sx, sy) < 1e-6 else _unit_xy(sx, sy)
                 f = marker + gap + r
@@ -631,7 +631,7 @@ class RopeItem(SketchItem):
         painter.setBrush(Qt.NoBrush)
         painter.drawPath(self._path)
         for kind, c, r, d in self._glyphs:
-            if kind == "pulley":
+            if kind in ("pulley", "capture"):
                 painter.setPen(pen(colour, 1.6))
                 painter.setBrush(theme.PULLEY_FILL)
                 painter.drawEllipse(c, r * 0.82, r * 0.82)
@@ -639,6 +639,8 @@ class RopeItem(SketchItem):
                 painter.setBrush(colour)
                 a = theme.PULLEY_AXLE_PX * k
                 painter.drawEllipse(c, a, a)
+                if kind == "capture":  # the grab's cam: a filled block beside the sheave, away from the rope
+                    painter.drawEllipse(c + d * (r * 1.05), r * 0.42, r * 0.42)
             elif kind == "sliding":
                 painter.setPen(pen(colour, 1.8))
                 painter.setBrush(Qt.NoBrush)

@@ -339,7 +339,7 @@ def _row_of(field: str, table: QTableWidget) -> int | None:
 
 
 class HardwareForm(_SpecForm):
-    """Fields of a pulley, carabiner, ring or edge."""
+    """Fields of a pulley, carabiner, ring, edge or rope grab."""
 
     kinds = HARDWARE_KINDS
 
@@ -351,15 +351,18 @@ class HardwareForm(_SpecForm):
                                       placeholder="edge: e.g. 0.44 for concrete")
         self.mbs = QuantityField("MBS", "force", unit=force_unit, optional=True, minimum=0.0, strict=True)
         self.size = QuantityField("size", "length", unit=lambda: "m", optional=True, minimum=0.0)
+        self.slip = QuantityField("slip force", "force", unit=force_unit, optional=True, minimum=0.0, strict=True,
+                                  placeholder="rope grab: where it starts to slide, e.g. 7 kN")
         self.form.addRow("Efficiency (0–1)", self.efficiency)
         self.form.addRow("Friction coefficient", self.friction)
         self.form.addRow("MBS", self.mbs)
         self.form.addRow("Size (m)", self.size)
+        self.form.addRow("Slip force (grab)", self.slip)
         self.form.addRow("Source", self.source)
         self._extra: dict = {}
 
     def fields(self) -> list[QuantityField]:
-        return super().fields() + [self.efficiency, self.friction, self.mbs, self.size]
+        return super().fields() + [self.efficiency, self.friction, self.mbs, self.size, self.slip]
 
     def show_spec(self, h: Hardware) -> None:
         for f in self.fields():
@@ -372,6 +375,7 @@ class HardwareForm(_SpecForm):
         self.friction.set_value(h.friction_coefficient)
         self.mbs.set_value(h.mbs_N)
         self.size.set_value(h.size_m)
+        self.slip.set_value(h.slip_N)
         self._extra = dict(h.extra)
 
     def spec(self) -> Hardware:
@@ -382,7 +386,8 @@ class HardwareForm(_SpecForm):
 
         h = Hardware(id=values[self.id_field], kind=self.kind.currentText(), efficiency=num(self.efficiency),
                      mbs_N=num(self.mbs), friction_coefficient=num(self.friction), label=values[self.label] or "",
-                     source=values[self.source] or "", size_m=num(self.size), extra=self._extra)
+                     source=values[self.source] or "", size_m=num(self.size), slip_N=num(self.slip),
+                     extra=self._extra)
         problem = hardware_problem(h)
         if problem is not None:
             self.show_problem(*problem)
@@ -391,7 +396,7 @@ class HardwareForm(_SpecForm):
 
     def show_problem(self, field: str, message: str) -> None:
         target = {"efficiency": self.efficiency, "friction_coefficient": self.friction, "mbs_N": self.mbs,
-                  "size_m": self.size}.get(field, self.id_field)
+                  "size_m": self.size, "slip_N": self.slip}.get(field, self.id_field)
         target.show_error(message)
 
 

@@ -6,8 +6,8 @@ picks a drag shape (or types C_d).  The force F = ½ ρ C_d A v² from
 :func:`solver.loads.drag_force` is shown as they type, with its assumptions in
 words.  "Apply to load" sets the load's ``required_N`` through
 :func:`solver.loads.apply_load_estimate` as one undoable edit.  Beside the force,
-the haulers needed through the current solve's *actual* MA
-(:func:`solver.hauling.haul_plan`).  The dialog computes nothing itself.
+the pull and haulers that force needs, solved on the current rig
+(:func:`solver.pull_needed.need_for_load`).  The dialog computes nothing itself.
 """
 
 from __future__ import annotations
@@ -34,7 +34,7 @@ from sketchpad import theme
 from sketchpad.fields import ERROR_STYLE, QuantityField
 from solver import units
 from solver.errors import RopewrightError, UnitError
-from solver.hauling import DEFAULT_PER_PERSON_N, haul_plan
+from solver.hauling import DEFAULT_PER_PERSON_N
 from solver.loads import DRAG_SHAPES, EXTRA_KEY, LoadEstimate, apply_load_estimate
 from solver.model import Rig
 from solver.result import Result
@@ -296,10 +296,20 @@ class LoadEstimateDialog(QDialog):
             return "Haulers: the rig has not been solved yet."
         if rig != self.document.rig:
             return "Haulers: solving the changed rig…"
-        if not result.ok or not result.ma_actual:
+        lid = self.load_box.currentData()
+        if not result.ok or not result.ma_actual or lid not in result.loads:
             return "Haulers: the rig does not solve to a mechanical advantage yet (draw a haul system to the load)."
-        plan = haul_plan(force, float(result.ma_actual), per)
-        return plan.text(self.force_unit)
+        from dataclasses import replace
+
+        from solver.pull_needed import need_for_load, need_sentence
+
+        shown = replace(rig, display=replace(rig.display, force=self.force_unit))
+        need = need_for_load(shown, result, lid, required_N=force, per_person_N=per)
+        if need is None:
+            return "Haulers: nothing to work out for no force."
+        return (f"Haulers for {units.format_force(force, self.force_unit)} at the load (actual MA now "
+                f"{result.ma_actual:.2f}:1): " + need_sentence(shown, need) + " The per-hauler force is a "
+                "sustained long-haul figure: if the load does not move, stop and re-assess rather than pull harder.")
 
     def refresh_result(self, *_args) -> None:
         """A new solve arrived: the haulers line uses its actual MA."""

@@ -135,6 +135,9 @@ class MainWindow(QMainWindow):
         from sketchpad.templates_ui import install_rigging_kit
 
         self.kit = install_rigging_kit(self)  # Insert ▸ System, load estimate, spec library (issue 6)
+        from sketchpad.haul_plan_panel import install_haul_plan
+
+        self.haul_plan = install_haul_plan(self)  # Haul plan dock: strokes, resets, scrubber (issue 22)
         from sketchpad.whatif_panel import install_what_if
 
         self.what_if = install_what_if(self)  # What if: the failure scan dock and its ghost (issue 19)

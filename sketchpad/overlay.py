@@ -59,6 +59,7 @@ from solver.directions import direction_text
 from solver.model import Rig
 from solver.readouts import ma_short, use_text
 from solver.result import Result
+from solver.pull_needed import need_phrase
 from solver.units import format_force
 
 log = logging.getLogger(__name__)
@@ -72,7 +73,7 @@ LAYERS: dict[str, str] = {
     "stretch": "Rope &stretch",
 }
 #: Middle passes whose turn is labelled (tied passes are knots and grabs, not redirects).
-TURNING_HOWS = frozenset({"pulley", "sliding", "edge"})
+TURNING_HOWS = frozenset({"pulley", "sliding", "edge", "capture"})
 #: Pieces carrying less than this (N) are labelled "slack".
 SLACK_N = 1.0
 #: Utilization buckets for the band paths (one path and pen per bucket).
@@ -541,7 +542,8 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             p = points.get(lid)
             if lid not in pos or p is None:
                 return (lid,), None, None, None
-            mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid], rig.view)
+            need = needs.get(lid)  # the pull needed: solved once the drawing is still
+            mkey = ("l", lid, f.force_N, f.direction_deg, p.name, p.required_N, pos[lid], rig.view, need, unit)
             hit = old.get(mkey)
             if hit is not None:
                 return (lid,), mkey, hit[0], None
@@ -553,14 +555,18 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             if p.required_N is not None:
                 enough = f.force_N >= p.required_N
                 lines.append(f"needs {format_force(p.required_N, unit)}" + ("" if enough else " — short"))
+                if need is not None and not enough:
+                    lines.append(need_phrase(rig, need))
                 values["required_N"] = float(p.required_N)
                 colour = QColor(theme.UTIL_RAMP[0][1] if enough else theme.UTIL_RAMP[-1][1])
             lab = OverlayLabel(kind="load", key=lid, lines=tuple(lines), values=values, colour=colour,
                                priority=95.0, base=pos[lid], prefer=(-d[0], -d[1]))
             return (lid,), mkey, lab, None
 
+        needs = result.needs
         part = parts["l"]
-        part.update(names_l, tuple(loads.values()), dirty, load)
+        # the needs arrive with the analysis at a pause, on load records a drag step may share: remake when they do
+        part.update(names_l, tuple(loads.values()), dirty if not needs else None, load)
         labels += filter(None, part.outs)
 
         haul = result.haul

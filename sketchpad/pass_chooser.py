@@ -33,6 +33,7 @@ PASS_OPTIONS: tuple[tuple[str, int, int, str, str], ...] = (
     ("pulley", Qt.Key_2, Qt.Key_P, "Pulley", ""),
     ("sliding", Qt.Key_3, Qt.Key_S, "Sliding", "ring or hand, no friction"),
     ("edge", Qt.Key_4, Qt.Key_E, "Edge", ""),
+    ("capture", Qt.Key_6, Qt.Key_C, "Capture", "pulley that holds the rope when the team lets go"),
 )
 END_KEYS = (Qt.Key_5, Qt.Key_F)
 CURSOR_OFFSET_PX = 14  # the menu opens below-right of the click so the point stays in sight
@@ -91,8 +92,9 @@ class PassMenu(QMenu):
         self.addAction(header)
         self.addSeparator()
         for how, digit, letter, name, meaning in PASS_OPTIONS:
-            hw = {"pulley": request.pulley_hardware, "edge": request.edge_hardware}.get(how)
-            if hw is not None:
+            hw = {"pulley": request.pulley_hardware, "edge": request.edge_hardware,
+                  "capture": request.pulley_hardware}.get(how)
+            if hw is not None and how != "capture":
                 meaning = _name_of(request.pulley_options if how == "pulley" else request.edge_options, hw)
             key_hint = f"{chr(digit)}  {chr(letter)}" + ("  Enter" if how == request.default_how else "")
             act = self.addAction(f"{name} — {meaning}\t{key_hint}")

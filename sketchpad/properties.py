@@ -35,6 +35,8 @@ from sketchpad.fields import CommitTextEdit, QuantityField
 from solver import units
 from solver.capacity import CAPACITY_KINDS, KIND_WORDS
 from solver.directions import bearing_deg, direction_from_bearing, direction_text
+from solver.weak_links import TERMINATIONS
+from solver.templates import capture_grab_for
 from solver.model import (
     ANCHOR_TYPES,
     FEATURE_KINDS,
@@ -66,20 +68,25 @@ HOW_NAMES = {
     "pulley": "Over a pulley",
     "sliding": "Sliding (frictionless)",
     "edge": "Over an edge",
+    "capture": "Progress capture (pulley + grab)",
     "hauled": "Hauled end",
 }
 #: hardware kinds that make sense for each way a rope passes a point
 HARDWARE_FOR_HOW = {
-    "tied": ("carabiner", "ring"),
+    "tied": ("grab", "carabiner", "ring"),
     "pulley": ("pulley", "carabiner", "ring"),
     "sliding": ("ring", "carabiner"),
     "edge": ("edge",),
+    "capture": ("pulley", "carabiner"),
     "hauled": (),
 }
 MOTION_NAMES = {"haul": "Hauling", "hold": "Holding", "lower": "Lowering"}
 VIEW_NAMES = {"plan": "Plan (from above)", "elevation": "Elevation (side, with gravity)"}
 FEATURE_KIND_NAMES = {k: k.capitalize() for k in FEATURE_KINDS}
 NONE_TEXT = "(none)"
+#: a tied pass's termination (solver.weak_links): what the property panel offers, with the share of MBS kept
+TERMINATION_ITEMS = [("No knot named (full MBS)", None)] + [
+    (f"{t.label.capitalize()} ({t.efficiency:.0%} of MBS)", t.id) for t in TERMINATIONS.values()]
 
 
 def library_materials() -> dict[str, Material]:
@@ -366,6 +373,8 @@ class RopePage(_Page):
         self.passes_grid = QGridLayout(self.passes_box)
         self.form.addRow(self.passes_box)
         self._pass_widgets: list[tuple[QComboBox, QComboBox]] = []
+        self._term_widgets: list[QComboBox] = []
+        self._grab_widgets: list[QComboBox] = []
         self._pass_signature: tuple | None = None
 
         self.label.committed.connect(self._set_label)
@@ -417,7 +426,7 @@ class RopePage(_Page):
     def _hw_options(self, rig: Rig, how: str, current: str | None) -> list[tuple[str, str | None]]:
         kinds = HARDWARE_FOR_HOW.get(how, ())
         # a pulley or edge pass must name its spec (rig-format.md), so "(none)" is not offered there
-        items = [] if how in ("pulley", "edge") and current is not None else [(NONE_TEXT, None)]
+        items = [] if how in ("pulley", "edge", "capture") and current is not None else [(NONE_TEXT, None)]
         for hid, hw in hardware_for(rig).items():
             if hw.kind in kinds or hid == current:
                 items.append((hw.name, hid))
@@ -430,12 +439,14 @@ class RopePage(_Page):
             if w is not None:
                 w.deleteLater()
         self._pass_widgets = []
+        self._grab_widgets = []
+        self._term_widgets = []
         n = len(r.path)
         for i, ps in enumerate(r.path):
             name = rig.point(ps.at).name if rig.has_point(ps.at) else ps.at
             where = QLabel(f"{i + 1}. <b>{name}</b>" + (f" ({ps.at})" if name != ps.at else ""))
             where.setTextFormat(Qt.TextFormat.RichText)
-            self.passes_grid.addWidget(where, 2 * i, 0, 1, 2)
+            self.passes_grid.addWidget(where, 3 * i, 0, 1, 2)
             how = _combo([(HOW_NAMES[h], h) for h in self._how_options(i, n)])
             how.setEnabled(how.count() > 1)
             how.setToolTip("How the rope goes through this point")
@@ -443,9 +454,20 @@ class RopePage(_Page):
             hw.setToolTip("The pulley, carabiner, ring or edge it goes over")
             how.currentIndexChanged.connect(lambda _x, k=i: self._how_changed(k))
             hw.currentIndexChanged.connect(lambda _x, k=i: self._hw_changed(k))
-            self.passes_grid.addWidget(how, 2 * i + 1, 0)
-            self.passes_grid.addWidget(hw, 2 * i + 1, 1)
+            self.passes_grid.addWidget(how, 3 * i + 1, 0)
+            self.passes_grid.addWidget(hw, 3 * i + 1, 1)
+            term = _combo(TERMINATION_ITEMS)
+            term.setToolTip("How the rope is tied here: a knot keeps only part of the rope's MBS, "
+                            "and the pieces ending here use that in their margin")
+            term.currentIndexChanged.connect(lambda _x, k=i: self._termination_changed(k))
+            self.passes_grid.addWidget(term, 3 * i + 2, 0, 1, 2)
+            grab = _narrow(QComboBox())  # a progress capture's rope grab: in the same row, shown on captures only
+            grab.setToolTip("The rope grab that holds the rope when the team lets go (its slip force counts)")
+            grab.currentIndexChanged.connect(lambda _x, k=i: self._grab_changed(k))
+            self.passes_grid.addWidget(grab, 3 * i + 2, 0, 1, 2)
             self._pass_widgets.append((how, hw))
+            self._term_widgets.append(term)
+            self._grab_widgets.append(grab)
 
     def _how_changed(self, index: int) -> None:
         r = self._rope()
@@ -459,23 +481,34 @@ class RopePage(_Page):
         known = hardware_for(self.rig)
         if hw is not None and (hw not in known or known[hw].kind not in kinds):
             hw = None
-        if hw is None and how in ("pulley", "edge"):
+        if hw is None and how in ("pulley", "edge", "capture"):
             # a rope over a pulley or edge needs a spec: start with the first of that kind
             hw = next((hid for hid, h in known.items() if h.kind == kinds[0]), None)
         path = list(r.path)
-        path[index] = replace(ps, how=how, hardware=hw)
+        grab = (ps.grab or capture_grab_for(self.rig)) if how == "capture" else None
+        path[index] = replace(ps, how=how, hardware=hw, termination=ps.termination if how == "tied" else None,
+                              grab=grab)
         self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: {HOW_NAMES[how].lower()} at {ps.at}")
 
+    def _grab_changed(self, index: int) -> None:
+        if self._rope().path[index].how == "capture":
+            self._set_pass_field(index, "grab", self._grab_widgets[index].currentData())
+
     def _hw_changed(self, index: int) -> None:
+        self._set_pass_field(index, "hardware", self._pass_widgets[index][1].currentData())
+
+    def _termination_changed(self, index: int) -> None:
+        self._set_pass_field(index, "termination", self._term_widgets[index].currentData())
+
+    def _set_pass_field(self, index: int, name: str, value) -> None:
+        """One undoable edit setting field ``name`` of pass ``index`` (nothing when it already has ``value``)."""
         r = self._rope()
-        _, hw_box = self._pass_widgets[index]
-        hw = hw_box.currentData()
         ps = r.path[index]
-        if hw == ps.hardware:
+        if getattr(ps, name) == value:
             return
         path = list(r.path)
-        path[index] = replace(ps, hardware=hw)
-        self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: hardware at {ps.at}")
+        path[index] = replace(ps, **{name: value})
+        self.apply(self.rig.with_rope(replace(r, path=tuple(path))), f"{r.name}: {name} at {ps.at}")
 
     def refresh(self, rig: Rig) -> None:
         if self.rope_id is None or not any(r.id == self.rope_id for r in rig.ropes):
@@ -514,6 +547,18 @@ class RopePage(_Page):
                     hw_box.addItem(text, data)
             _set_combo(hw_box, ps.hardware)
             hw_box.setEnabled(ps.how != "hauled")
+        for term_box, ps in zip(self._term_widgets, r.path):
+            _set_combo(term_box, ps.termination)
+            term_box.setVisible(ps.how == "tied")
+        for grab_box, ps in zip(self._grab_widgets, r.path):
+            with QSignalBlocker(grab_box):
+                grab_box.clear()
+                grab_box.addItem("(no rated grab)", None)
+                for hid, hw in hardware_for(rig).items():
+                    if hw.kind == "grab" or hid == ps.grab:
+                        grab_box.addItem(hw.name, hid)
+            _set_combo(grab_box, ps.grab)
+            grab_box.setVisible(ps.how == "capture")
 
 
 # --- forces and features ---------------------------------------------------------------

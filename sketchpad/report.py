@@ -3,7 +3,7 @@
 ``write_report(rig, path)`` lays out, on A4 (metric rigs) or US Letter (imperial
 rigs): title, date and notes; the drawing with its forces (the same offscreen
 scene as :mod:`sketchpad.export`, so it matches the screen); the mechanical
-advantage (nominal, ideal and actual), haulers needed (:mod:`solver.hauling`) and the
+advantage (nominal, ideal and actual), the pull and pullers needed (:mod:`solver.pull_needed`) and the
 warnings; tables of rope pieces (tension, stretch, safety factor = MBS ÷
 tension), anchors (resultant, bearing, capacity and its kind, the margin it gives) and hardware
 (load at each pulley, carabiner or edge against its MBS); a plot of MA and peak
@@ -133,12 +133,17 @@ class Table:
 
 
 def rope_table(rig: Rig, result: Result) -> Table:
-    """One row per straight piece of rope: tension, length, stretch, MBS and safety factor MBS ÷ tension."""
+    """One row per straight piece of rope: tension, length, stretch, MBS (× a knot's efficiency where the piece
+    ends at a termination, solver.weak_links) and safety factor = that strength ÷ tension."""
+    from solver.weak_links import piece_strengths
+
     fu, lu = rig.display.force, rig.display.length
+    strengths = piece_strengths(rig)
     t = Table("Rope pieces", ("Rope", "Piece", "Tension", "Length", "Stretch", "MBS", "Safety factor"), [],
               (1.5, 2.4, 1.0, 0.9, 0.8, 1.0, 1.0), frozenset({2, 3, 4, 5, 6}),
-              note=f"Safety factor = rope MBS ÷ tension; the rig asks for at least "
-                   f"{rig.settings.min_safety_factor:g}:1 (red below it). Knots and bends weaken a rope further.")
+              note=f"Safety factor = rope MBS (× the efficiency of a named knot or termination at the piece's end, "
+                   f"listed under Weak links) ÷ tension; the rig asks for at least "
+                   f"{rig.settings.min_safety_factor:g}:1 (red below it). Knots not named weaken a rope further.")
     for s in result.segments:
         try:
             rope = rig.rope(s.rope)
@@ -146,11 +151,14 @@ def rope_table(rig: Rig, result: Result) -> Table:
             continue
         mat = _material(rig, rope.material)
         mbs = mat.mbs_N if mat is not None else None
+        piece = strengths.get((s.rope, s.index))
+        mbs_text = format_force(mbs, fu) if mbs is not None else "not known"
+        if piece is not None and piece.termination is not None:
+            mbs, mbs_text = piece.strength_N, f"{mbs_text} × {piece.efficiency:.0%}"
         slack = s.tension_N <= 1.0
         t.rows.append((rope.name, f"{_pname(rig, s.from_point)} → {_pname(rig, s.to_point)}",
                        "slack" if slack else format_force(s.tension_N, fu), format_length(s.length_m, lu),
-                       "—" if slack else f"{s.strain * 100:.1f} %",
-                       format_force(mbs, fu) if mbs is not None else "not known", sf_text(mbs, s.tension_N)))
+                       "—" if slack else f"{s.strain * 100:.1f} %", mbs_text, sf_text(mbs, s.tension_N)))
         if sf_low(rig, mbs, s.tension_N):
             t.flagged.add(len(t.rows) - 1)
     return t
@@ -218,9 +226,9 @@ def ma_sentence(result: Result) -> str:
 
 
 def haul_sentences(rig: Rig, result: Result) -> list[str]:
-    """Haul force, what reaches each load, and haulers needed for each load with a force needed."""
-    from solver.errors import RopewrightError
-    from solver.hauling import DEFAULT_PER_PERSON_N, plan_for_result
+    """Haul force, what reaches each load, and the pull (solved) and pullers each load with a force needed takes."""
+    from solver.hauling import DEFAULT_PER_PERSON_N
+    from solver.pull_needed import need_sentence
 
     fu = rig.display.force
     out = []
@@ -237,16 +245,37 @@ def haul_sentences(rig: Rig, result: Result) -> list[str]:
         out.append(f"Force reaching {_pname(rig, lid)}: {format_force(a.force_N, fu)}{need}.")
         if p is None:
             continue
-        try:
-            plan = plan_for_result(rig, result, lid)
-        except RopewrightError as exc:
-            out.append(f"Haulers needed for {p.name}: cannot be worked out ({exc}).")
-            continue
-        if plan is not None:
-            out.append(f"Haulers needed for {p.name}: {plan.haulers}. " + plan.text(fu))
+        need_of = result.needs.get(lid)
+        if need_of is not None:
+            out.append(f"Pull needed for {p.name} (the rig solved at trial pulls, every haul team and pulling force "
+                       f"scaled together, the friction of the motion counted). "
+                       + need_sentence(rig, need_of) + " The pull per person is a sustained long-haul figure: "
+                       "if the load does not move, stop and re-assess rather than pull harder.")
         elif p.required_N is None:
-            out.append(f"No force needed is entered for {p.name}, so haulers needed is not worked out "
-                       f"(each hauler is taken as {format_force(DEFAULT_PER_PERSON_N, fu)} sustained).")
+            out.append(f"No force needed is entered for {p.name}, so the pull needed is not worked out "
+                       f"(each puller is taken as {format_force(DEFAULT_PER_PERSON_N, fu)} sustained).")
+    return out
+
+
+def weak_link_lines(rig: Rig, result: Result) -> list[str]:
+    """Each knot and rope grab (solver.weak_links), with the efficiency or slip force its margin used."""
+    from solver.weak_links import weak_links
+
+    fu = rig.display.force
+    out = []
+    for w in weak_links(rig, result):
+        rope, at = (rig.rope(w.rope).name if w.rope in {r.id for r in rig.ropes} else w.rope), _pname(rig, w.at)
+        carried = f"; it carries {format_force(w.force_N, fu)}" if w.force_N is not None else ""
+        if w.kind == "termination":
+            strength = f" = {format_force(w.strength_N, fu)}" if w.strength_N is not None else ""
+            out.append(f"{w.label.capitalize()} on {rope} at {at}: the pieces ending there are taken at "
+                       f"{w.efficiency:.0%} of the rope's MBS{strength}{carried} ({w.source}).")
+        else:
+            held = f"; it holds {format_force(w.force_N, fu)}" if w.force_N is not None else ""
+            slips = " — IT WILL SLIDE" if w.force_N is not None and w.slip_N and w.force_N > w.slip_N else ""
+            mbs = f", MBS {format_force(w.strength_N, fu)}" if w.strength_N else ""
+            out.append(f"Rope grab {w.label} on {rope} at {at}: slips at {format_force(w.slip_N, fu)}{mbs}{held}"
+                       f"{slips} ({w.source}).")
     return out
 
 
@@ -590,6 +619,11 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
                 flow.block(sizes[1], paint_plot)
                 flow.y += 2
             flow.text(caption, page_font(SMALL_PT, italic=True), MUTED)
+    links = weak_link_lines(rig, result)
+    if links:
+        flow.heading("Weak links (knots and rope grabs)")
+        for line in links:
+            flow.text("• " + line, page_font(BODY_PT), indent=4, gap=2)
     if failures is not None:  # "If something lets go" (sketchpad.report_failures)
         failures.add_to(flow)
     flow.heading("Assumptions")
@@ -623,6 +657,10 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     footer_h = 28.0
     content = QRectF(m, m, page_w - 2 * m, page_h - 2 * m - footer_h)
     sweep_data = haul_sweep(rig) if result.ok else (None, 0.0, "")
+    from sketchpad.haul_report import add_haul_page, haul_table, plan_for_report
+
+    haul = plan_for_report(rig) if result.ok else None  # a page of its own when there is a load to move
+
     from sketchpad.report_failures import failure_section
 
     failures = failure_section(rig, result)
@@ -646,8 +684,10 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     for sizes in LAYOUTS:
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
         _compose(counter, rig, result, drawing, when, source, plot_for(sizes[1]), sizes, failures)
+        if haul is not None:
+            add_haul_page(counter, rig, haul)
         total = counter.finish()
-        if total <= 2:
+        if total <= 2 + (haul is not None):
             break
 
     def footer(p: QPainter, n: int) -> None:
@@ -665,11 +705,14 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
         painter.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing | QPainter.SmoothPixmapTransform)
         flow = Flow(writer, painter, content, footer, writer.newPage)
         _compose(flow, rig, result, drawing, when, source, plot_for(sizes[1]), sizes, failures)
+        if haul is not None:
+            add_haul_page(flow, rig, haul)
         pages = flow.finish()
     finally:
         painter.end()
     log.info("wrote report %s (%d pages)", path, pages)
     tables = [rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result)] if result.ok else []
+    tables += [haul_table(rig, haul)] if haul is not None else []
     return Report(path, pages, result, tables)
 
 
@@ -686,4 +729,4 @@ def report_cli(args) -> int:
 
 
 __all__ = ["write_report", "report_cli", "Report", "Table", "rope_table", "anchor_table", "hardware_table",
-           "haul_sentences", "ma_sentence", "assumption_lines", "sweep_plot", "direction_words", "sf_text"]
+           "haul_sentences", "ma_sentence", "assumption_lines", "weak_link_lines", "sweep_plot", "direction_words", "sf_text"]

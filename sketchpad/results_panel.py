@@ -5,7 +5,7 @@ direction as a bearing from north in plan or words in elevation, capacity with i
 use with the margin it was taken against; in ``hold`` the range static friction allows) and hardware
 (load on each pulley, carabiner or edge against its MBS, from
 :func:`solver.checks.pass_loads`).  The summary gives the mechanical advantage nominal /
-ideal / actual, haul force, haulers needed and the force delivered to each load against the
+ideal / actual, haul force, the pull needed (solved) and the force delivered to each load against the
 force it needs.  Clicking a warning emits ``subject_activated(subject)``; the window
 selects and centres that item on the canvas.  The panel only shows numbers: it
 never computes forces itself beyond unit conversion and ratios of Result values.

@@ -59,16 +59,18 @@ def load_sentences(rig: Rig, result: Result) -> list[str]:
 
 
 def haulers_sentence(rig: Rig, result: Result) -> str | None:
-    """How many haulers pull now and, when a load says what it needs, how many it takes (None: no haul team)."""
+    """How many haulers pull now (None: no haul team)."""
     pulling = sum(int(rig.point(h).team or 0) for h in result.haul if rig.has_point(h))
     if not pulling:
         return None
-    text = f"{pulling} hauler{'s' if pulling != 1 else ''} pulling"
-    needed = [n for n in (haulers_for(rig, result, rig.point(lid).required_N) for lid in result.loads
-                          if rig.has_point(lid) and rig.point(lid).required_N is not None) if n is not None]
-    if needed and max(needed) != pulling:
-        text += f"; {max(needed)} needed"
-    return text + "."
+    return f"{pulling} hauler{'s' if pulling != 1 else ''} pulling."
+
+
+def need_sentences(rig: Rig, result: Result) -> list[str]:
+    """What freeing each load takes, as the solver found it (solver.pull_needed; after the drawing is still)."""
+    from solver.pull_needed import need_phrase
+
+    return _each(rig, result.needs, lambda _p, name, need: f"To free {name}: {need_phrase(rig, need)}")
 
 
 def safety_sentence(rig: Rig) -> str:
@@ -76,30 +78,10 @@ def safety_sentence(rig: Rig) -> str:
     return f"Safety factor {rig.settings.min_safety_factor:g}:1, {motion}."
 
 
-def haulers_for(rig: Rig, result: Result, required_N: float) -> int | None:
-    """Haulers needed to deliver ``required_N`` through the actual MA (solver.hauling), None if not computable."""
-    if result.ma_actual is None or not result.haul:
-        return None
-    from solver.errors import RopewrightError
-    from solver.hauling import DEFAULT_PER_PERSON_N, haulers_needed
-
-    per = DEFAULT_PER_PERSON_N
-    for hid in result.haul:
-        if rig.has_point(hid):
-            p = rig.point(hid)
-            if p.force_per_person_N:
-                per = float(p.force_per_person_N)
-            elif p.force_N and p.team:
-                per = float(p.force_N) / p.team
-    try:
-        return haulers_needed(float(required_N), float(result.ma_actual), per)
-    except RopewrightError:
-        return None
-
-
 def sentences(rig: Rig, result: Result) -> list[str]:
-    """Everything after the MA line, in reading order: loads, haulers, haul teams, safety factor."""
-    out = load_sentences(rig, result)
+    """Everything after the MA line, in reading order: loads, what freeing them takes, haulers, haul teams,
+    safety factor."""
+    out = load_sentences(rig, result) + need_sentences(rig, result)
     who = haulers_sentence(rig, result)
     if who:
         out.append(who)

@@ -262,3 +262,21 @@ def zone_brushes(kind: str) -> tuple[QBrush, QBrush]:
     fill.setAlpha(ZONE_FILL_ALPHA)
     hatch.setAlpha(ZONE_HATCH_ALPHA)
     return QBrush(fill), QBrush(hatch, Qt.FDiagPattern if kind == "recoil" else Qt.BDiagPattern)
+
+# --- haul plan (preview of the rig part-way through a haul, and its plot) -----------------------
+HAUL_GHOST = QColor(28, 100, 168, 200)  # the rig as it stands at the scrubbed step
+HAUL_GHOST_WIDTH_PX = 3.0
+HAUL_GHOST_HALO = QColor(246, 244, 238, 230)  # paper, under the preview
+HAUL_GHOST_HALO_PX = 2.0
+HAUL_GHOST_POINT_PX = 4.5
+Z_HAUL_GHOST = 45.0  # above the result overlay, below what a tool is drawing
+HAUL_CURVE = QColor("#1c64a8")  # load travel against rope paid in
+HAUL_IDEAL = QColor("#55554f")  # the same haul without stretch (ideal MA)
+HAUL_RESET = QColor("#b9ae97")  # a reset between strokes
+HAUL_MOVE = QColor("#2f8a57")  # where the load first moves
+HAUL_CURSOR = QColor("#c2362b")  # the scrubbed step
+HAUL_PLOT_BACK = QColor("#fbfaf6")
+HAUL_PLOT_GRID = QColor("#e7e3d8")
+HAUL_PLOT_TEXT = QColor("#3a3a36")
+HAUL_STOP = QColor("#b3122e")  # a haul that stops short
+HAUL_CAUTION_STYLE = "color: #55554f; font-size: 8pt"  # the cautions under the haul plan

@@ -22,6 +22,7 @@ from sketchpad import theme
 from sketchpad.geometry import to_scene
 from sketchpad.items import fmt_length
 from solver.model import MIDDLE_HOWS, Feature, Force, Pass, Point, Rig, Rope
+from solver.templates import capture_grab_for
 
 log = logging.getLogger(__name__)
 
@@ -115,9 +116,11 @@ def hardware_options(rig: Rig, how: str) -> tuple[tuple[str, str], ...]:
 def pass_hardware(rig: Rig, how: str, defaults: ToolDefaults, wanted: str | None = None) -> str | None:
     """Hardware a new ``how`` pass names: ``wanted`` if it fits, else the toolbar's, else the first that fits.
 
-    Pulley and edge passes always name hardware (rig-format.md); tied, sliding and
-    hauled passes name none.
+    Pulley, capture (its pulley) and edge passes always name hardware (rig-format.md); tied,
+    sliding and hauled passes name none.
     """
+    if how == "capture":
+        how = "pulley"
     if how not in ("pulley", "edge"):
         return None
     fallback = "pulley-large" if how == "pulley" else "edge-rock"
@@ -163,7 +166,8 @@ def finish_passes(rig: Rig, picks, defaults: ToolDefaults) -> tuple[Pass, ...]:
             how = "hauled" if rig.has_point(pid) and rig.point(pid).kind == "haul" else "tied"
         elif how not in MIDDLE_HOWS:
             how = "tied"
-        passes.append(Pass(pid, how, pass_hardware(rig, how, defaults, hw)))
+        grab = capture_grab_for(rig) if how == "capture" else None
+        passes.append(Pass(pid, how, pass_hardware(rig, how, defaults, hw), grab=grab))
     return tuple(passes)
 
 

@@ -35,6 +35,19 @@ def merge_warnings(first: tuple[Warning_, ...], then: tuple[Warning_, ...]) -> t
     return tuple(out)
 
 
+def with_needs(rig: Rig, result: Result) -> Result:
+    """``result`` with the pull each load with a ``required_N`` really needs, solved (solver.pull_needed)."""
+    from solver.pull_needed import load_needs
+
+    if not result.ok:
+        return result
+    try:
+        return replace(result, needs=load_needs(rig, result))
+    except Exception:  # noqa: BLE001 - the forces stand without it; the load check then says nothing more
+        log.exception("pull needed failed on rig %r", rig.title)
+        return result
+
+
 def analyse(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None) -> Result:
     """Equilibrium of ``rig`` (warm-started from ``start`` if given) with every safety finding merged in."""
     from solver.equilibrium import solve
@@ -48,6 +61,7 @@ def analyse(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None) ->
         log.exception("solver crashed on rig %r", rig.title)
         result = Result(status="diverged", message=f"The solver failed unexpectedly ({type(exc).__name__}); "
                                                    f"the rig could not be checked.")
+    result = with_needs(rig, result)
     if result.ma_actual is not None:  # the strand count, named beside the ideal and actual MA
         try:
             result = replace(result, ma_nominal=nominal_ma(rig, result.points))

@@ -22,8 +22,10 @@ from numpy.typing import NDArray
 
 from solver.errors import RigModelError
 from solver.materials import hardware_for, material_for
-from solver.model import MIDDLE_HOWS, MOTIONS, STANDARD_GRAVITY, Hardware, Material, Rig
+from solver.model import MIDDLE_HOWS, MOTIONS, SHEAVE_HOWS, STANDARD_GRAVITY, Hardware, Material, Rig
 from solver.stretch import StretchCurve
+from solver import pass_order
+from solver.weak_links import piece_efficiency
 
 log = logging.getLogger(__name__)
 
@@ -165,6 +167,7 @@ class System:
     point_groups: "Grouping" = field(default=None)  # free points by part (per-part maxima)
     piece_groups: "Grouping" = field(default=None)  # pieces by part (those with a part)
     s_min_on: FloatArray = field(default=None)  # s_min where the contact can act, -inf elsewhere
+    order_ref: FloatArray = field(default=None)  # per piece: the direction its passes keep (solver.pass_order)
     haul_P_or_0: FloatArray = field(default=None)  # run_P on hauled runs, 0 on tied ones
     run_L0_div: FloatArray = field(default=None)  # run_L0 on tied runs, 1 on hauled ones
     piece_mbs: FloatArray = field(default=None)  # minimum breaking strength of each piece's rope, N
@@ -447,6 +450,7 @@ def compile_topology(rig: Rig, motion: str | None = None) -> Topology:
     )
     sys_.run_pre = np.array(run_pre, dtype=float)
     _finish_topology(sys_)
+    sys_.piece_mbs = sys_.piece_mbs * piece_efficiency(rig, piece_rope, sys_.piece_index)  # knots: weak links
     _report_indices(sys_, [p.kind for p in pts])
     for name in _SYSTEM_FIELDS:  # shared by every System of this topology: none may change them
         value = getattr(sys_, name)
@@ -601,6 +605,7 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     s.s_min = np.minimum(s_min, 0.5 * s.piece_len0)
     # the spacing contact only where a piece can close up: -inf elsewhere makes its penetration 0
     s.s_min_on = np.where(s.contact_on, s.s_min, -np.inf)
+    s.order_ref = pass_order.drawn(s.xy0, s.a, s.b)
     s.run_L0_div = np.where(s.run_hauled, 1.0, s.run_L0) if s.n_runs else np.zeros(0)  # no 0 / 0 on hauled runs
     return s
 
@@ -609,7 +614,7 @@ def _pass_factor(rope_name: str, ps, hardware, where: str) -> tuple[int, float, 
     """(kind, efficiency, friction coefficient, hardware id) of a middle pass of a run."""
     if ps.how == "sliding":
         return PASS_SLIDING, 1.0, 0.0, ps.hardware
-    if ps.how == "pulley":
+    if ps.how in SHEAVE_HOWS:  # a capture runs like its pulley while the rope is hauled in
         if not ps.hardware:
             raise RigModelError(f'the pulley at "{ps.at}" on rope "{rope_name}" has no hardware chosen: '
                                 "pick a pulley or carabiner so its efficiency is known", where=where, subject=ps.at)
@@ -903,6 +908,7 @@ class State:
     g: FloatArray  # out-of-balance: internal resistance minus external force, per dof, N
     closed: bool = False  # some contact is closed (pen > 0 somewhere)
     no_zero_length: bool = True  # every piece has a length > 0
+    order_cos: FloatArray | None = None  # per piece: cosine of its direction with its order direction (pass_order)
     # what the potential is computed from, on first use (the friction solve never asks for it)
     potential_from: tuple | None = field(default=None, repr=False, compare=False)
     _energy_terms: tuple | None = field(default=None, repr=False, compare=False)
@@ -1158,19 +1164,22 @@ def _loaded(s: System, x: FloatArray, xy: FloatArray, l: FloatArray, no_zero_len
     eps = by_material(s, s.piece_mat, T, "strain", kappa) if s.n_pieces else np.zeros(0)
     if kc is None:
         kc = contact_stiffness(s)
+    order_cos = pass_order.cosines(s, u)
     if contact is None:
-        pen = np.maximum(s.s_min_on - l, 0.0)  # 0 where the contact is off (s_min_on = -inf)
+        # 0 where the contact is off (s_min_on = -inf); one-sided along the piece's order (solver.pass_order)
+        pen = np.maximum(s.s_min_on - l * order_cos, 0.0)
         closed = bool(pen.any())
     else:
         pen, closed = contact
     N = T - kc * pen if closed else T
     if s.n_pieces:
-        nu = (N[:, None] * u).reshape(-1)  # dPi/dx_a = -N u, dPi/dx_b = +N u
+        # dPi/dx_a = -N u, dPi/dx_b = +N u; a closed contact pushes along the piece's order direction
+        nu = (T[:, None] * u - (kc * pen)[:, None] * s.order_ref if closed else N[:, None] * u).reshape(-1)
         g = np.bincount(s.g_idx, nu[s.g_src] * s.g_sgn, minlength=s.n_dof) - s.F
     else:
         g = -s.F
     return State(x=x, xy=xy, l=l, u=u, w=w, L=L, tau=tau, taut=taut, T=T, eps=eps, pen=pen, N=N, g=g,
-                 closed=closed, no_zero_length=no_zero_length,
+                 closed=closed, no_zero_length=no_zero_length, order_cos=order_cos,
                  potential_from=(s, s.soft, x, L, kc, pen))
 
 
@@ -1272,15 +1281,16 @@ def _block_values(s: System, st: State, kc: FloatArray, exact: bool, on: PartPat
     those of one part (each value the same number either way)."""
     unit = st.w is s.ones  # frictionless: every weight 1, so the products by w are left out (same numbers)
     if on is None:
-        u, l, N, T, eps, w, pen = st.u, st.l, st.N, st.T, st.eps, st.w, st.pen
+        u, l, N, T, eps, w, pen, ref = st.u, st.l, st.N, st.T, st.eps, st.w, st.pen, s.order_ref
         piece_run, piece_mat, k, j, r = s.piece_run, s.piece_mat, s.pair_k, s.pair_j, s.pair_run
     else:
         P = on.pieces
         u, l, N, T, eps, w, pen, kc = st.u[P], st.l[P], st.N[P], st.T[P], st.eps[P], st.w[P], st.pen[P], kc[P]
+        ref = s.order_ref[P]
         piece_run, piece_mat, k, j, r = s.piece_run[P], s.piece_mat[P], on.pair_k, on.pair_j, on.pair_run
-    # a piece pushed by the spacing contact (N < 0) would add negative stiffness, turning the
-    # rope's kink at a two-blocked pass into a saddle for Newton: keep only the pull (PSD tangent)
-    pull = N if exact else np.maximum(N, 0.0)
+    # the spacing contact pushes along the piece's fixed order direction (solver.pass_order), so it adds no
+    # geometric stiffness: the rope's own pull T does (T = N wherever no contact is closed)
+    pull = T if st.closed else (N if exact else np.maximum(N, 0.0))
     geo = pull / l if st.no_zero_length else np.divide(pull, l, out=np.zeros(l.shape), where=l > 0)
     run_coef = None
     if st.taut.any():
@@ -1288,15 +1298,18 @@ def _block_values(s: System, st: State, kc: FloatArray, exact: bool, on: PartPat
         de = by_material(s, piece_mat, T, "dstrain", None if s.soft is None else s.soft[piece_run])
         D = np.bincount(piece_run, (l if unit else l * w) * de * c * c, minlength=s.n_runs)
         run_coef = np.divide(1.0, D, out=np.zeros(D.shape), where=st.taut & (D > 0))
-        coef = (c if unit else w * c) * run_coef[piece_run]
-        axial = np.where(pen > 0, kc, 0.0) + coef if st.closed else coef
+        axial = (c if unit else w * c) * run_coef[piece_run]
     else:
-        axial = np.where(pen > 0, kc, 0.0)
+        axial = 0.0
     ux, uy = u[:, 0], u[:, 1]
-    # 2x2 block A = geo (I - u u^T) + axial u u^T, stored as (xx, xy, yy)
+    # 2x2 block A = geo (I - u u^T) + axial u u^T + contact r r^T (r: the order direction), stored as (xx, xy, yy)
     axx = geo * (1.0 - ux * ux) + axial * ux * ux
     axy = (axial - geo) * ux * uy
     ayy = geo * (1.0 - uy * uy) + axial * uy * uy
+    if st.closed:
+        kcp = np.where(pen > 0, kc, 0.0)
+        rx, ry = ref[:, 0], ref[:, 1]
+        axx, axy, ayy = axx + kcp * rx * rx, axy + kcp * rx * ry, ayy + kcp * ry * ry
     # every kept entry is one of these block values times +-1 (index map built by _pattern)
     packed = [axx, axy, ayy]
     if len(k):

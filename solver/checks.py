@@ -31,8 +31,10 @@ Rules (sources in the tests that hold them):
   applies: ``settings.overpull_limit_N``; else the least of ``OVERPULL_FACTOR`` x the
   load's ``required_N`` (common practice, no source) and the working strength
   (MBS / SF) of the weakest rope or hardware attached at the load.  Haul motion only.
-* ``load-stuck``: in ``haul``, force delivered < ``required_N``; haulers needed =
-  ceil(required / (actual MA x force per hauler)).
+* ``load-stuck``: in every motion, force delivered < ``required_N``, with the total pull that
+  delivers it found by solving the rig (:mod:`solver.pull_needed`) and pullers =
+  ceil(pull / pull per person), or what comes first when no pull reaches it.
+* ``grab-slips``: a rope grab holding more than its ``slip_N`` (:mod:`solver.weak_links`).
 * ``two-blocked``: a piece with a free end shorter than the hardware size there plus
   ``TWO_BLOCK_TOL_M``: the system has run out of throw (skipped when the solver already
   reported it from its contact model).
@@ -56,10 +58,13 @@ import shapely
 from shapely.geometry import LineString, Point as ShPoint, Polygon
 from shapely.geometry.base import BaseGeometry
 
+from solver.capture_checks import check_captures
 from solver.danger import DangerZone, Piece, danger_zones, pieces, positions
 from solver.errors import RopewrightError
 from solver.hauling import haulers_needed
-from solver.model import Hardware, Material, Rig
+from solver.pull_needed import check_short
+from solver.weak_links import check_grabs, weakest_ends
+from solver.model import Hardware, Material, Rig, is_tended_tail
 from solver.result import Result, Warning_
 from solver.tensioned_line import check_tensioned_lines, is_line_leg_pair
 
@@ -82,6 +87,7 @@ CODES: dict[str, str] = {
     "overpull": "the haul team could pull harder on the load than the set limit",
     "load-stuck": "the force delivered to the load is below the force needed to free it",
     "two-blocked": "two passes have come together: the system is out of throw",
+    "grab-slips": "a rope grab holds more than its slip force: it will slide (a designed slip point)",
     "person-in-zone": "a person or haul team stands in a bight or recoil zone",
     "checks-skipped": "the rig did not solve, so force checks were skipped",
     "checks-failed": "the checks themselves crashed (analyse): treat the rig as unchecked",
@@ -229,17 +235,20 @@ def check_unrated_drawn(rig: Rig) -> list[Warning_]:
 
 
 def check_ropes(rig: Rig, result: Result, pcs: Iterable[Piece] | None = None) -> list[Warning_]:
-    """Each rope piece's tension against its material's MBS; one warning per rope (its worst piece).
+    """Each rope piece's tension against its strength (MBS × a knot's efficiency, :mod:`solver.weak_links`);
+    one warning per rope (its worst piece).
 
     ``pcs``: the rig's :func:`~solver.danger.pieces` for this result if already made (``run_checks``).
     """
     out: list[Warning_] = []
     sf = _sf(rig)
     worst: dict[str, Piece] = {}
+    kept = weakest_ends(rig)  # (rope, piece) -> (termination, point): the share of MBS a knot keeps
+    eff = lambda pc: kept[(pc.rope.id, pc.index)][0].efficiency if (pc.rope.id, pc.index) in kept else 1.0  # noqa: E731
     for pc in pieces(rig, result) if pcs is None else pcs:
         if pc.tension_N is None:
             continue
-        if pc.rope.id not in worst or pc.tension_N > (worst[pc.rope.id].tension_N or 0.0):
+        if pc.rope.id not in worst or pc.tension_N / eff(pc) > (worst[pc.rope.id].tension_N or 0.0) / eff(worst[pc.rope.id]):
             worst[pc.rope.id] = pc
     specs: dict[str, Material | None] = {}  # each material looked up once, not once per rope
     for rope in rig.ropes:
@@ -255,19 +264,23 @@ def check_ropes(rig: Rig, result: Result, pcs: Iterable[Piece] | None = None) ->
                                 f"{rope.name}: material '{rope.material}' is not known, so its margin is not checked.",
                                 "warning"))
             continue
-        m = _margin(rig, t, float(mat.mbs_N))
+        knot = kept.get((rope.id, pc.index))
+        strength = float(mat.mbs_N) * (knot[0].efficiency if knot else 1.0)
+        m = _margin(rig, t, strength)
         if m is None:
             continue
+        of = (f"strength there of {_force(rig, strength)} (MBS {_force(rig, mat.mbs_N)} × {knot[0].efficiency:.0%} "
+              f"for the {knot[0].label} at {_name(rig, knot[1])})") if knot else f"MBS of {_force(rig, mat.mbs_N)}"
         what = {"sling": "sling", "cord": "cord"}.get(mat.kind, "rope")
         where = f"between {_name(rig, pc.a_id)} and {_name(rig, pc.b_id)}"
         if m == "over":
             out.append(Warning_("rope-over", rope.id,
-                                f"{rope.name} ({what}) carries {_force(rig, t)} {where}, more than its "
-                                f"MBS of {_force(rig, mat.mbs_N)}.", "danger"))
+                                f"{rope.name} ({what}) carries {_force(rig, t)} {where}, more than its {of}.",
+                                "danger"))
         elif m == "margin":
             out.append(Warning_("rope-margin", rope.id,
                                 f"{rope.name} ({what}) carries {_force(rig, t)} {where}: safety factor "
-                                f"{mat.mbs_N / t:.1f}:1, below {sf:g}:1 (MBS {_force(rig, mat.mbs_N)}).", "warning"))
+                                f"{strength / t:.1f}:1, below {sf:g}:1 ({of}).", "warning"))
     return out
 
 
@@ -421,10 +434,13 @@ def check_slack(rig: Rig, result: Result) -> list[Warning_]:
     if not candidates:
         return out
     tens = {(s.rope, s.index): float(s.tension_N) for s in result.segments}
+    pts = {p.id: p for p in rig.points}
     for rope in rig.ropes:
         if rope.id not in candidates:
             continue
         for run in rope.runs():
+            if is_tended_tail(rope, run, pts):
+                continue  # slack by design until the capture holds it
             ts = [tens.get((rope.id, i)) for i in run.piece_indices]
             if not ts or any(t is None for t in ts):
                 continue
@@ -518,14 +534,6 @@ def _haul_points(rig: Rig, result: Result):
             yield p, float(f)
 
 
-def _per_person(p) -> float | None:
-    if p.force_per_person_N is not None:
-        return float(p.force_per_person_N)
-    if p.force_N is not None and p.team:
-        return float(p.force_N) / float(p.team)
-    return None
-
-
 def overpull_limit(rig: Rig, result: Result, load_id: str) -> tuple[float, str] | None:
     """The overpull limit for one load (N) and what set it, or None if nothing does (rule in module doc)."""
     s = rig.settings.extra.get("overpull_limit_N")
@@ -558,7 +566,7 @@ def overpull_ma(result: Result) -> tuple[str, float] | None:
 
 
 def check_haul(rig: Rig, result: Result) -> list[Warning_]:
-    """Overpull (haul force x ideal MA over the limit) and a load not freed (delivered < required)."""
+    """Overpull (haul force x ideal MA over the limit); a load not freed is :func:`solver.pull_needed.check_short`."""
     out: list[Warning_] = []
     if rig.settings.motion != "haul":
         return out
@@ -566,14 +574,9 @@ def check_haul(rig: Rig, result: Result) -> list[Warning_]:
     if not hauls:
         return out
     total = sum(f for _, f in hauls)
-    team = sum(p.team or 0 for p, _ in hauls)
-    pps = [pp for p, _ in hauls if (pp := _per_person(p)) is not None]
-    per_person = min(pps) if pps else None
     for ld in rig.points_of_kind("load"):
-        lr = result.loads.get(ld.id)
-        if lr is None:
+        if ld.id not in result.loads:
             continue
-        delivered = float(lr.force_N)
         ma_used = overpull_ma(result)
         if ma_used is not None:
             which, ma_up = ma_used
@@ -586,23 +589,6 @@ def check_haul(rig: Rig, result: Result) -> list[Warning_]:
                     f"{_force(rig, potential)} on {ld.name}, over {lim[1]} ({_force(rig, lim[0])}). "
                     f"Use fewer haulers or less mechanical advantage, or watch the load's attachment.",
                     "warning"))
-        req = ld.required_N
-        if req and delivered < float(req):
-            ma = result.ma_actual if result.ma_actual else (delivered / total if total > 0 else 0.0)
-            if per_person and ma > 0:
-                need = haulers_needed(float(req), ma, per_person)
-                have = f" (team of {team})" if team else ""
-                advice = (f"With actual MA {ma:.2f} and {_force(rig, per_person)} per hauler it takes "
-                          f"{need} haulers{have}, or more mechanical advantage.")
-            elif ma > 0:
-                advice = (f"With actual MA {ma:.2f} the haul needs {_force(rig, float(req) / ma)} "
-                          f"instead of {_force(rig, total)}, or more mechanical advantage.")
-            else:
-                advice = "The haul delivers nothing to it."
-            out.append(Warning_(
-                "load-stuck", ld.id,
-                f"{ld.name} gets {_force(rig, delivered)} of the {_force(rig, req)} needed to free it. {advice}",
-                "warning"))
     return out
 
 
@@ -688,7 +674,7 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
 #: Checks that need solved forces, in report order.
 FORCE_CHECKS: tuple[Callable[[Rig, Result], list[Warning_]], ...] = (
     check_anchors, check_ropes, check_hardware, check_wide_anchors, check_tensioned_lines, check_slack,
-    check_abrasion, check_haul, check_two_blocked, check_people,
+    check_abrasion, check_haul, check_short, check_two_blocked, check_people, check_grabs, check_captures,
 )
 
 

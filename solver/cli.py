@@ -24,11 +24,12 @@ EXIT_SOLVE_FAILED = 3
 #: keeps the caution epilog on its one line
 _RAW = argparse.RawDescriptionHelpFormatter
 
-SUBCOMMANDS = ("solve", "failures", "sweep", "render", "report", "screenshot", "open")
+SUBCOMMANDS = ("solve", "haul", "failures", "sweep", "render", "report", "screenshot", "open")
 
 #: subcommand -> "module:function" taking the parsed args and returning an exit code
 HANDLERS: dict[str, str] = {
     "solve": "solver.cli_solve:run",
+    "haul": "solver.cli_haul:run",
     "failures": "solver.cli_failures:run",
     "sweep": "solver.sweep:run_cli",
     "render": "sketchpad.export:render_cli",
@@ -53,6 +54,10 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="print the result JSON (rig-format.md)")
     p.add_argument("--units", choices=("si", "imperial"), default=None,
                    help="display units (default: the rig's own display setting)")
+
+    from solver.cli_haul import add_parser as add_haul_parser
+
+    add_haul_parser(sub, epilog=HELP_EPILOG, formatter_class=_RAW)
 
     p = sub.add_parser("failures", epilog=HELP_EPILOG, formatter_class=_RAW,
                        help="let each component go in turn: what holds, what runs free, where not to stand")

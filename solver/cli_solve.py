@@ -67,14 +67,19 @@ def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -
                     for aid, a in result.anchors.items()]
             parts.append("\nAnchors\n" + _table(["anchor", "resultant", toward, "capacity", "use"], rows))
         if result.loads:
-            rows = [[lid, f(a.force_N), direction_text(a.direction_deg, rig.view, a.force_N)]
-                    for lid, a in result.loads.items()]
-            parts.append("\nLoads\n" + _table(["load", "force delivered", toward], rows))
+            rows = [[lid, f(a.force_N), direction_text(a.direction_deg, rig.view, a.force_N),
+                     *_need_cells(rig, result, lid, f)] for lid, a in result.loads.items()]
+            parts.append("\nLoads (pull needed: solved on the rig, every haul team and pulling force scaled together)\n"
+                         + _table(["load", "force delivered", toward, "needed", "short", "pull needed"], rows))
         if rig.forces:
             rows = [[f"{rig.point(fc.at).name if rig.has_point(fc.at) else fc.at}"
                      + (f" ({fc.label})" if fc.label else ""), f(fc.magnitude_N),
                      direction_text(fc.direction_deg, rig.view, fc.magnitude_N)] for fc in rig.forces]
             parts.append("\nForces drawn\n" + _table(["on", "size", direction_heading(rig.view, "toward")], rows))
+        links = _weak_link_rows(rig, result, f)
+        if links:
+            parts.append("\nWeak links (knots: share of MBS kept, in the margins above; grabs: slip force)\n"
+                         + _table(["rope", "at", "what", "figure used", "carries"], links))
         if result.haul:
             parts.append("\nHaul: " + ", ".join(f"{hid} {f(v)}" for hid, v in result.haul.items()))
         if result.ma_actual is not None:
@@ -82,12 +87,39 @@ def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -
         for rng_name, rng in (("haul", result.hold_haul_range), ("anchor", result.hold_anchor_range)):
             for k, r in rng.items():
                 parts.append(f"Hold range, {rng_name} {k}: {f(r.low)} to {f(r.high)}")
-    if result.warnings:
-        parts.append("\nWarnings")
-        parts += [f"  [{w.code}] {w.subject}: {w.message}" for w in result.warnings]
-    parts.append("")
-    parts += [f"Caution: {line}" for line in caution_lines()]
-    return "\n".join(parts)
+    return closing(parts, [f"[{w.code}] {w.subject}: {w.message}" for w in result.warnings])
+
+
+def closing(parts: list[str], warnings: list[str]) -> str:
+    """``parts`` and the warnings (if any) and the caution lines, as the text a command prints."""
+    if warnings:
+        parts = parts + ["\nWarnings"] + [f"  {w}" for w in warnings]
+    return "\n".join(parts + [""] + [f"Caution: {line}" for line in caution_lines()])
+
+
+def _weak_link_rows(rig: Rig, result: Result, f) -> list[list[str]]:
+    """One row per knot or rope grab (solver.weak_links): where, what, the figure its margin used, the force."""
+    from solver.weak_links import weak_links
+
+    rows = []
+    for w in weak_links(rig, result):
+        figure = (f"{w.efficiency:.0%} of MBS = {f(w.strength_N)}" if w.kind == "termination" and w.strength_N
+                  else f"{w.efficiency:.0%} of MBS" if w.kind == "termination" else f"slips at {f(w.slip_N)}")
+        carried = "—" if w.force_N is None else f(w.force_N)
+        if w.kind == "grab" and w.force_N is not None and w.slip_N and w.force_N > w.slip_N:
+            carried += " (slides)"
+        rows.append([w.rope, w.at, w.label, figure, carried])
+    return rows
+
+
+def _need_cells(rig: Rig, result: Result, load_id: str, f) -> list[str]:
+    """(needed, short, pull needed) cells of one load: "—" where it has no required force."""
+    from solver.pull_needed import need_phrase
+
+    need = result.needs.get(load_id)
+    if need is None:
+        return ["—", "—", "—"]
+    return [f(need.required_N), f(need.short_N) if need.short_N > 0 else "enough", need_phrase(rig, need)]
 
 
 def load_in_units(args: argparse.Namespace) -> tuple[Rig, str, str]:

@@ -60,7 +60,7 @@ RECOIL_MAX_M = 5.0
 QUAD_SEGS = 16
 
 #: Passes that turn a running rope: the places a bight zone is drawn.
-REDIRECT_HOWS = frozenset({"pulley", "sliding", "edge"})
+REDIRECT_HOWS = frozenset({"pulley", "sliding", "edge", "capture"})
 
 
 @dataclass(frozen=True)

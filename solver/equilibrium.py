@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import logging
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -23,7 +23,7 @@ import scipy.linalg
 import scipy.sparse
 import scipy.sparse.linalg
 
-from solver import friction
+from solver import free_directions, friction, pass_order
 from solver.blas_threads import solving_on_one_blas_thread
 from solver.capacity import utilization as capacity_utilization
 from solver.units import format_force_sig, format_length
@@ -46,6 +46,7 @@ from solver.assembly import (
 from solver.errors import RigModelError
 from solver.model import Rig
 from solver.result import AnchorResult, HoldRange, Result, SegmentResult, Warning_, record
+from solver.run_lengths import with_unstretched
 
 log = logging.getLogger(__name__)
 
@@ -222,7 +223,8 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
     ``state``: the state at ``x0`` with these weights when already evaluated.
     """
     dense = s.n_dof <= DENSE_MAX
-    st = state if state is not None else evaluate(s, x0, w, kc)
+    pass_order.start(s, x0)  # passes keep the order they have here (one-sided spacing contact)
+    st = state if state is not None and not state.closed else evaluate(s, x0, w, kc)
     if s.n_dof == 0:
         return _Outcome(st, 0, True)
     if s.n_comp == 1:
@@ -340,6 +342,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
                 flat = trying & (np.abs(m1 - m0) <= 1e-13 * (np.abs(m0) + scale * size))
                 if flat.any():
                     good |= flat & (_comp_max(s, _point_norms(trial.g)) < 0.9 * res)
+                good &= ~pass_order.crossed(s, trial)  # never carry a pass across its neighbour
                 if good.any():
                     gd = good[cd]
                     x_new[gd] = xt[gd]
@@ -359,7 +362,7 @@ def _newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, sym
         stepped = active & (alpha == 1.0)
         mu[stepped] = np.maximum(mu[stepped] / 10.0, 1e-10)
         cap = np.where(stepped & capped, 2.0 * cap, cap)
-        st = trial
+        st = trial if not pass_order.follow(s, trial) else evaluate(s, trial.x, w, kc)
         runaway = _runaway(s, st)
         if runaway is not None:
             return _Outcome(st, it + 1, False, runaway=runaway)
@@ -428,6 +431,9 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
 
     if carry is None:
         carry = _Carry(0, 1e-10, 0.1 * size, 0, np.inf, 0)
+        pass_order.start(s, st.x)  # passes keep the order they have here (one-sided spacing contact)
+        if st.closed:
+            st = evaluate(s, st.x, w, kc)
     cap, mu, stall, best, evaluations = carry.cap, carry.mu, carry.stall, carry.best, carry.evaluations
     ok = False
     debug = log.isEnabledFor(logging.DEBUG)
@@ -499,6 +505,8 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
                     good = nat_norm(solver(-on_part(trial.g))) <= (1.0 - 1e-4 * a * shrink) * nat0
                 if not good and abs(m1 - m0) <= 1e-13 * (abs(m0) + scale * size):
                     good = imbalance(trial) < 0.9 * res
+                if good and trial.closed:  # never carry a pass across its neighbour
+                    good = not pass_order.crossed(s, trial)[0 if part is None else part]
                 if good:
                     x_new = xt
                     alpha = a
@@ -521,7 +529,7 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
             mu = max(mu / 10.0, 1e-10)
             if capped:
                 cap = 2.0 * cap
-        st = trial
+        st = trial if not pass_order.follow(s, trial) else evaluate(s, trial.x, w, kc)
         runaway = _runaway(s, st)
         if runaway is not None:
             return _Outcome(st, it + 1, False, runaway=runaway)
@@ -533,16 +541,6 @@ def _newton_one_part(s: System, st: State, w: np.ndarray | None, kc: np.ndarray,
 
 
 # --- words -----------------------------------------------------------------------------------------
-
-def _direction_words(vx: float, vy: float, elevation: bool) -> str:
-    """Name the axis a point can move along ("east–west" ...)."""
-    ang = math.degrees(math.atan2(vy, vx)) % 180.0
-    if elevation:
-        names = ["sideways", "diagonally (up to the right)", "up and down", "diagonally (up to the left)"]
-    else:
-        names = ["east–west", "northeast–southwest", "north–south", "northwest–southeast"]
-    return names[int(((ang + 22.5) % 180.0) // 45.0)]
-
 
 def _heading_words(vx: float, vy: float, elevation: bool) -> str:
     ang = math.degrees(math.atan2(vy, vx)) % 360.0
@@ -562,7 +560,7 @@ def _point_name(rig: Rig, pid: str) -> str:
 # --- checks ----------------------------------------------------------------------------------------
 
 def _mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] | None:
-    """(free point index, direction) of a zero-stiffness mode of the symmetric tangent, or None."""
+    """(free point index, its x and y in each zero-stiffness mode of the symmetric tangent), or None."""
     if s.n_dof == 0:
         return None
     dense = s.n_dof <= DENSE_MAX
@@ -580,8 +578,11 @@ def _mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] |
         lam = float(np.linalg.eigvalsh(Ks)[0])  # values only: fast; the vector only on failure
         if lam > MECHANISM_REL * top:
             return None
-        vals, vecs = scipy.linalg.eigh(Ks, subset_by_index=[0, 0])
-        lam, v = float(vals[0]), vecs[:, 0]
+        # every near-zero mode: a point free in two independent ways is free in every direction
+        vals, vecs = scipy.linalg.eigh(Ks, subset_by_value=(-np.inf, MECHANISM_REL * top))
+        if not len(vals):
+            vals, vecs = scipy.linalg.eigh(Ks, subset_by_index=[0, 0])
+        lam, v = float(vals[0]), vecs
     else:
         # inverse iteration from a fixed pseudo-random start: a near-zero eigenvalue dominates at once
         Ks = (0.5 * (K + K.T)).tocsc()
@@ -602,10 +603,13 @@ def _mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] |
             lam = float(v @ (Ks @ v))
     if lam > MECHANISM_REL * top:
         return None
-    mag = _point_norms(v)
-    k = int(np.argmax(mag))
+    k = free_directions.most_moving(v)
     free_idx = np.flatnonzero(s.free)
-    return int(free_idx[k]), v[2 * k:2 * k + 2]
+    share = free_directions.point_share(v, k)
+    if not dense:
+        share = free_directions.with_own_block(share, Ks[2 * k:2 * k + 2, 2 * k:2 * k + 2].toarray(),
+                                               MECHANISM_REL * top)
+    return int(free_idx[k]), share
 
 
 # --- the solver --------------------------------------------------------------------------------------
@@ -836,11 +840,11 @@ def _mechanism_result(s: System, st: State, kc: np.ndarray, iters: int) -> Resul
     mech = _mechanism(s, st, kc)
     if mech is None:
         return None
-    i, v = mech
+    i, share = mech
     pid = s.point_ids[i]
-    words = _direction_words(float(v[0]), float(v[1]), s.rig.view == "elevation")
+    words = free_directions.free_words(share, s.rig.view == "elevation")
     return Result(status="mechanism", subject=pid, iterations=iters, points=_all_points(s, st),
-                  message=f"point {_point_name(s.rig, pid)} is not held: it can move {words} "
+                  message=f"point {_point_name(s.rig, pid)} is not held: it {words} "
                           "with nothing resisting (tie it off, tension its ropes or add a load)")
 
 
@@ -1229,8 +1233,12 @@ def _compiled(rig: Rig, motion: str | None) -> System:
 
 
 @solving_on_one_blas_thread  # small dense problems: one BLAS thread (solver/blas_threads.py)
-def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True) -> Result:
+def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True,
+          unstretched_m: Mapping[str, float] | None = None) -> Result:
     """Solve ``rig`` for static equilibrium; ``start`` = {point_id: (x, y)} warm start, metres.
+
+    ``unstretched_m`` = {rope_id: m} sets the unstretched length of one-run tied ropes instead of
+    their rigging (the haul plan's rope paid in; :func:`solver.run_lengths.with_unstretched`).
 
     ``ideal`` False skips the frictionless re-solve behind ``ma_ideal`` (None then, when friction
     acts): the live drag asks for the equilibrium alone, and the ideal MA follows with the
@@ -1253,6 +1261,8 @@ def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True
     """
     try:
         s = _compiled(rig, motion)
+        if unstretched_m:
+            s = with_unstretched(s, unstretched_m)
     except RigModelError as exc:
         return Result(status="invalid", message=exc.message, subject=exc.subject or exc.where)
     motion = s.motion

@@ -1,6 +1,9 @@
-"""Haul team planning: how many haulers a system needs for a load, and the plan in words.
+"""Haul team arithmetic at a fixed mechanical advantage: ceil(force / (MA x force per hauler)).
 
-Haulers needed = ceil(required force / (actual MA x force per hauler)).  The default
+This is exact only where the MA does not change with the pull (a rig whose geometry stays put).
+What a rig really needs is solved on the rig itself: :mod:`solver.pull_needed` (every surface
+shows that).  Here: the per-hauler default and the fixed-MA arithmetic a new system's default
+team size starts from (:mod:`solver.templates`).  The default
 per-hauler force is 0.22 kN (about 50 lbf), what one person sustains on a long haul
 (common practice, no source); a short hard pull can be near body weight.
 """
@@ -9,14 +12,9 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import TYPE_CHECKING
 
 from solver.errors import RigModelError
 from solver.units import format_force
-
-if TYPE_CHECKING:
-    from solver.model import Rig
-    from solver.result import Result
 
 #: Force one hauler sustains on a long haul, N (common practice, no source).
 DEFAULT_PER_PERSON_N = 220.0
@@ -67,22 +65,3 @@ def haul_plan(required_N: float, ma_actual: float, per_person_N: float = DEFAULT
     n = haulers_needed(required_N, ma_actual, per_person_N)
     return HaulPlan(float(required_N), float(ma_actual), float(per_person_N), n,
                     n * per_person_N, n * per_person_N * ma_actual)
-
-
-def plan_for_result(rig: "Rig", result: "Result", load_id: str,
-                    per_person_N: float | None = None) -> HaulPlan | None:
-    """The haul plan for a solved rig: the load's ``required_N`` through the solved actual MA.
-
-    None when the load has no required force or the solve gave no MA (failed, or no haul).
-    ``per_person_N`` defaults to the first haul team's ``force_per_person_N``, else 220 N.
-    """
-    try:
-        load = rig.point(load_id)
-    except KeyError:
-        raise RigModelError(f"The load '{load_id}' is not in the drawing", subject=load_id) from None
-    if load.required_N is None or not result.ok or not result.ma_actual:
-        return None
-    if per_person_N is None:
-        per_person_N = next((p.force_per_person_N for p in rig.points
-                             if p.kind == "haul" and p.force_per_person_N), DEFAULT_PER_PERSON_N)
-    return haul_plan(float(load.required_N), float(result.ma_actual), float(per_person_N))

@@ -34,7 +34,7 @@ EFFICIENCY_KINDS: frozenset[str] = frozenset({"pulley", "carabiner", "ring"})
 MAX_FRICTION_COEFFICIENT = 2.0
 
 _MATERIAL_KEYS = ("id", "kind", "label", "diameter_mm", "mbs_N", "source", "stretch")
-_HARDWARE_KEYS = ("id", "kind", "label", "efficiency", "friction_coefficient", "mbs_N", "size_m", "source")
+_HARDWARE_KEYS = ("id", "kind", "label", "efficiency", "friction_coefficient", "mbs_N", "size_m", "source", "slip_N")
 
 
 # --- reading one spec from plain JSON data ---------------------------------------------
@@ -150,6 +150,7 @@ def hardware_from_dict(d: Any, where: str = "hardware", *, strict: bool = False)
         label=_text(d, "label", where, name),
         source=_text(d, "source", where, name),
         size_m=_number(d, "size_m", where, name, required=False),
+        slip_N=_number(d, "slip_N", where, name, required=False),
         extra=_extra(d, _HARDWARE_KEYS, where, name, strict),
     )
     problem = hardware_problem(hardware)
@@ -232,6 +233,10 @@ def hardware_problem(h: Hardware) -> tuple[str, str] | None:
         )
     if h.mbs_N is not None and not (math.isfinite(h.mbs_N) and h.mbs_N > 0):
         return "mbs_N", f"{name}: MBS must be a strength above 0 N, not {h.mbs_N:g}"
+    if h.slip_N is None and h.kind == "grab":
+        return "slip_N", f"{name}: a rope grab needs the force at which it slips (slip_N; a 3-wrap prusik about 7 kN)"
+    if h.slip_N is not None and not (math.isfinite(h.slip_N) and h.slip_N > 0):
+        return "slip_N", f"{name}: the slip force must be above 0 N, not {h.slip_N:g}"
     if h.size_m is not None and not (math.isfinite(h.size_m) and h.size_m >= 0):
         return "size_m", f"{name}: size must be 0 m or more, not {h.size_m:g}"
     return None
@@ -276,7 +281,7 @@ def hardware_to_dict(h: Hardware) -> dict[str, Any]:
     d: dict[str, Any] = {"id": h.id, "kind": h.kind}
     if h.label:
         d["label"] = h.label
-    for key in ("efficiency", "friction_coefficient", "mbs_N", "size_m"):
+    for key in ("efficiency", "friction_coefficient", "mbs_N", "size_m", "slip_N"):
         value = getattr(h, key)
         if value is not None:
             d[key] = value

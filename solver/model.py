@@ -15,10 +15,12 @@ from typing import Any, Iterator, Literal, Mapping
 PointKind = Literal["anchor", "load", "haul", "point", "person"]
 POINT_KINDS: tuple[str, ...] = ("anchor", "load", "haul", "point", "person")
 ANCHOR_TYPES: tuple[str, ...] = ("tree", "boulder", "vehicle", "picket", "bolt", "other")
-PASS_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge", "hauled")
-MIDDLE_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge")
+PASS_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge", "hauled", "capture")
+MIDDLE_HOWS: tuple[str, ...] = ("tied", "pulley", "sliding", "edge", "capture")
+#: Passes over a sheave: a pulley, and a progress capture (a pulley that holds the rope when it runs back).
+SHEAVE_HOWS: frozenset[str] = frozenset({"pulley", "capture"})
 MATERIAL_KINDS: tuple[str, ...] = ("rope", "sling", "cord")
-HARDWARE_KINDS: tuple[str, ...] = ("pulley", "carabiner", "edge", "ring")
+HARDWARE_KINDS: tuple[str, ...] = ("pulley", "carabiner", "edge", "ring", "grab")
 FEATURE_KINDS: tuple[str, ...] = ("water", "boulder", "bank", "hazard", "note")
 MOTIONS: tuple[str, ...] = ("haul", "hold", "lower")
 VIEWS: tuple[str, ...] = ("plan", "elevation")
@@ -89,12 +91,18 @@ class Point:
 
 @dataclass(frozen=True)
 class Pass:
-    """One place a rope goes through: tied, over a pulley, sliding, over an edge or hauled."""
+    """One place a rope goes through: tied, over a pulley, sliding, over an edge, a progress capture or hauled.
+
+    A ``capture`` runs like its pulley (``hardware``) while the rope is hauled in and holds like
+    its rope grab (``grab``, optional) when it runs back.
+    """
 
     at: str
     how: str = "tied"
     hardware: str | None = None
     extra: Mapping[str, Any] = field(default_factory=dict)
+    termination: str | None = None  # tied pass: how the rope ends or is knotted there (solver.weak_links)
+    grab: str | None = None  # capture: the rope grab that holds the rope (hardware id)
 
 
 @dataclass(frozen=True)
@@ -161,6 +169,16 @@ class Rope:
         return self.label or self.id
 
 
+def is_tended_tail(rope: Rope, run: Run, points: Mapping[str, "Point"]) -> bool:
+    """True for a main line's tail run through a progress capture to a tender at the haul team (tied
+    there, not hauled): it is kept hand-tight and carries nothing while hauling; the capture holds it
+    when the team lets go."""
+    path = rope.path[run.first:run.last + 1]
+    end = points.get(path[-1].at)
+    return (not run.hauled and end is not None and end.kind == "haul"
+            and any(ps.how == "capture" for ps in path[1:-1]))
+
+
 @dataclass(frozen=True)
 class Material:
     """A rope, sling or cord spec: strength (MBS) and a monotone tension-strain curve.
@@ -185,7 +203,7 @@ class Material:
 
 @dataclass(frozen=True)
 class Hardware:
-    """A pulley, carabiner, edge or ring: efficiency or friction coefficient, and strength."""
+    """A pulley, carabiner, edge, ring or rope grab: efficiency, friction coefficient or slip force, and strength."""
 
     id: str
     kind: str
@@ -196,6 +214,7 @@ class Hardware:
     source: str = ""
     size_m: float | None = None  # closest two passes may come (two-blocking), optional
     extra: Mapping[str, Any] = field(default_factory=dict)
+    slip_N: float | None = None  # grab: held force above which it slides along the rope (a designed slip point)
 
     @property
     def name(self) -> str:

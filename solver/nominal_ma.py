@@ -26,7 +26,7 @@ from typing import Mapping
 
 import numpy as np
 
-from solver.model import Rig
+from solver.model import Rig, is_tended_tail
 
 #: Relative size below which a residual or a null-space component counts as zero.
 TOL = 1e-9
@@ -79,6 +79,8 @@ def nominal_ma(rig: Rig, positions: Mapping[str, tuple[float, float]] | None = N
             return rope.path[j].at
 
         for run in rope.runs():
+            if is_tended_tail(rope, run, pts):
+                continue  # carries nothing while hauling: no strand of the system
             r = n_runs
             n_runs += 1
             for k in run.piece_indices:

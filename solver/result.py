@@ -97,6 +97,41 @@ class HoldRange:
 
 
 @dataclass(frozen=True)
+class LoadNeed:
+    """The pull a load with a ``required_N`` really needs, found by solving the rig (solver.pull_needed), N.
+
+    ``pull_needed_N`` is None when no pull reaches ``required_N``; then ``limit`` names what comes
+    first (``stops-holding``, ``two-blocked``, ``anchor-fails``, ``grab-slips``, ``rope-fails``, ``ma-collapses``,
+    ``no-pull``), about ``limit_subject``, at a total pull of ``limit_pull_N``, with the force there
+    and the strength it passed (``limit_force_N``, ``limit_strength_N``) or the solver's words.
+    """
+
+    load: str
+    required_N: float
+    delivered_N: float
+    short_N: float  # 0 when enough
+    pull_now_N: float  # total pull drawn today (every haul team and pulling force)
+    pull_needed_N: float | None
+    per_person_N: float
+    pullers_needed: int | None
+    limit: str = ""
+    limit_subject: str = ""
+    limit_pull_N: float | None = None
+    limit_force_N: float | None = None
+    limit_strength_N: float | None = None
+    limit_message: str = ""
+
+    def to_json(self) -> dict[str, Any]:
+        out: dict[str, Any] = {"required_N": self.required_N, "short_N": self.short_N,
+                               "pull_needed_N": self.pull_needed_N, "pullers_needed": self.pullers_needed}
+        if self.limit:
+            out["pull_limit"] = {"kind": self.limit, "subject": self.limit_subject, "pull_N": self.limit_pull_N,
+                                 "force_N": self.limit_force_N, "strength_N": self.limit_strength_N,
+                                 "message": self.limit_message}
+        return out
+
+
+@dataclass(frozen=True)
 class Result:
     """Equilibrium of one rig, or a named failure (status != "ok", message says why)."""
 
@@ -118,6 +153,7 @@ class Result:
     hold_haul_range: Mapping[str, HoldRange] = field(default_factory=dict)
     hold_anchor_range: Mapping[str, HoldRange] = field(default_factory=dict)
     revision: int = 0  # the document revision this result was solved for (app use)
+    needs: Mapping[str, LoadNeed] = field(default_factory=dict)  # loads with a required_N (analysis only)
 
     @property
     def ok(self) -> bool:
@@ -139,7 +175,7 @@ class Result:
             "segments": [s.to_json() for s in self.segments],
             "anchors": {k: a.to_json(view) for k, a in self.anchors.items()},
             "loads": {k: {"force_N": a.force_N, "direction_deg": a.direction_deg,
-                          "bearing_deg": bearing_or_none(a.direction_deg, view, a.force_N)}
+                          "bearing_deg": bearing_or_none(a.direction_deg, view, a.force_N), **self._need_json(k)}
                       for k, a in self.loads.items()},
             "haul": {k: {"force_N": f} for k, f in self.haul.items()},
             "mechanical_advantage": {"actual": self.ma_actual, "ideal": self.ma_ideal, "nominal": self.ma_nominal},
@@ -154,3 +190,10 @@ class Result:
                 "anchors": {k: {"low_N": r.low, "high_N": r.high} for k, r in self.hold_anchor_range.items()},
             }
         return out
+
+    def _need_json(self, load_id: str) -> dict[str, Any]:
+        """The pull-needed fields of one load (all null when it has no required force or was not analysed)."""
+        need = self.needs.get(load_id)
+        if need is None:
+            return {"required_N": None, "short_N": None, "pull_needed_N": None, "pullers_needed": None}
+        return need.to_json()

@@ -63,7 +63,8 @@ _POINT: _Spec = (
     ("required_N", "float", None), ("mass_kg", "float", None), ("force_N", "float", None), ("team", "int", None),
     ("force_per_person_N", "float", None), ("capacity_kind", "str", "strength"),
 )
-_PASS: _Spec = (("at", "str", _REQUIRED), ("how", "str", "tied"), ("hardware", "str", None))
+_PASS: _Spec = (("at", "str", _REQUIRED), ("how", "str", "tied"), ("hardware", "str", None), ("termination", "str", None),
+          ("grab", "str", None))
 _RIGGING: _Spec = (("slack_m", "float", 0.0), ("pretension_N", "float", None))
 _ROPE: _Spec = (("id", "str", _REQUIRED), ("material", "str", _REQUIRED), ("label", "str", ""))
 _MATERIAL: _Spec = (
@@ -73,6 +74,7 @@ _MATERIAL: _Spec = (
 _HARDWARE: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("efficiency", "float", None), ("mbs_N", "float", None),
     ("friction_coefficient", "float", None), ("size_m", "float", None), ("label", "str", ""), ("source", "str", ""),
+    ("slip_N", "float", None),
 )
 _FORCE: _Spec = (
     ("at", "str", _REQUIRED), ("magnitude_N", "float", _REQUIRED), ("direction_deg", "float", _REQUIRED),
@@ -297,10 +299,10 @@ def embed_specs(rig: m.Rig) -> m.Rig:
         if rope.material not in have_m and rope.material in lib_materials:
             add_m.append(lib_materials[rope.material])
             have_m.add(rope.material)
-        for ps in rope.path:
-            if ps.hardware and ps.hardware not in have_h and ps.hardware in lib_hardware:
-                add_h.append(lib_hardware[ps.hardware])
-                have_h.add(ps.hardware)
+        for hid in (h for ps in rope.path for h in (ps.hardware, ps.grab) if h):
+            if hid not in have_h and hid in lib_hardware:
+                add_h.append(lib_hardware[hid])
+                have_h.add(hid)
     if not add_m and not add_h:
         return rig
     new = replace(rig, materials=rig.materials + tuple(add_m), hardware=rig.hardware + tuple(add_h))
@@ -787,11 +789,13 @@ def _check_rope(rig: m.Rig, rope: m.Rope, points: Mapping[str, m.Point], where: 
         if ps.how not in m.PASS_HOWS:
             raise RigFileError(f'unknown pass kind "{ps.how}"', where=f"{here}.how")
         _check_pass_hardware(rig, ps, f"{here}.hardware")
+        _check_weak_link(rig, ps, here)
 
 
 def _check_pass_hardware(rig: m.Rig, ps: m.Pass, where: str) -> None:
-    if ps.how in ("pulley", "edge") and not ps.hardware:
-        what = "which pulley or carabiner" if ps.how == "pulley" else "which edge (rock, concrete, ...)"
+    _check_capture_grab(rig, ps, where.rsplit(".", 1)[0] + ".grab")
+    if ps.how in ("pulley", "edge", "capture") and not ps.hardware:
+        what = "which pulley or carabiner" if ps.how != "edge" else "which edge (rock, concrete, ...)"
         raise RigFileError(f"a {ps.how} pass must name its hardware ({what})", where=where)
     if not ps.hardware:
         return
@@ -801,12 +805,44 @@ def _check_pass_hardware(rig: m.Rig, ps: m.Pass, where: str) -> None:
                            "library", where=where)
     if ps.how == "edge" and hw.kind != "edge":
         raise RigFileError(f'"{hw.id}" is a {hw.kind}; an edge pass needs an edge spec', where=where)
-    if ps.how == "pulley" and hw.kind == "edge":
-        raise RigFileError(f'"{hw.id}" is an edge; a pulley pass needs a pulley, carabiner or ring', where=where)
-    if ps.how == "pulley" and hw.efficiency is None:
+    if ps.how in m.SHEAVE_HOWS and hw.kind in ("edge", "grab"):
+        raise RigFileError(f'"{hw.id}" is a {hw.kind}; a {ps.how} pass needs a pulley, carabiner or ring', where=where)
+    if ps.how in m.SHEAVE_HOWS and hw.efficiency is None:
         raise RigFileError(f'"{hw.id}" has no efficiency, so it cannot be used as a pulley', where=where)
     if ps.how == "edge" and hw.friction_coefficient is None:
         raise RigFileError(f'"{hw.id}" has no friction_coefficient, so it cannot be used as an edge', where=where)
+
+
+def _check_capture_grab(rig: m.Rig, ps: m.Pass, where: str) -> None:
+    """A pass's ``grab``: only on a progress capture, and a rope grab spec."""
+    if ps.grab is None:
+        return
+    if ps.how != "capture":
+        raise RigFileError(f'only a progress capture ("how": "capture") holds the rope with a grab, not a "{ps.how}" '
+                           "pass", where=where)
+    hw = _hardware(rig, ps.grab)
+    if hw is None:
+        raise RigFileError(f'rope grab "{ps.grab}" is neither in this file\'s hardware nor in the built-in library',
+                           where=where)
+    if hw.kind != "grab":
+        raise RigFileError(f'"{hw.id}" is a {hw.kind}; a capture holds with a rope grab', where=where)
+
+
+def _check_weak_link(rig: m.Rig, ps: m.Pass, where: str) -> None:
+    """A termination or a rope grab belongs on a tied pass, and a termination must be one we know."""
+    from solver.weak_links import TERMINATIONS
+
+    if ps.termination is not None:
+        if ps.termination not in TERMINATIONS:
+            raise RigFileError(f'unknown termination "{ps.termination}"; use one of {", ".join(TERMINATIONS)}',
+                               where=f"{where}.termination")
+        if ps.how != "tied":
+            raise RigFileError(f'a termination says how the rope is tied at a point; this pass is "{ps.how}"',
+                               where=f"{where}.termination")
+    hw = _hardware(rig, ps.hardware) if ps.hardware else None
+    if hw is not None and hw.kind == "grab" and ps.how != "tied":
+        raise RigFileError(f'"{hw.id}" is a rope grab: it holds the rope where it is tied (how "tied"), '
+                           f'not as a "{ps.how}" pass', where=f"{where}.hardware")
 
 
 def _check_site(site: m.Site, base_dir: str | os.PathLike[str] | None) -> None:

@@ -137,6 +137,29 @@ def _hauled(at: str) -> Pass:
     return Pass(at, "hauled")
 
 
+#: Slack left in a tended main-line tail (the 4:1's), m: it carries nothing until a capture holds it.
+TAIL_SLACK_M = 1.0
+#: The rope grab a kit's progress capture holds with unless another is chosen (library id).
+DEFAULT_CAPTURE_GRAB = "prusik-3-wrap"
+
+
+def capture_grab_for(rig: Rig) -> str | None:
+    """The rope grab a new progress capture holds with: the kit's, when the rig or the library has it."""
+    if rig.embedded_hardware(DEFAULT_CAPTURE_GRAB) is not None:
+        return DEFAULT_CAPTURE_GRAB
+    try:
+        from solver.materials import hardware_for
+
+        return hardware_for(rig, DEFAULT_CAPTURE_GRAB).id
+    except (ImportError, RigModelError, KeyError):
+        return None
+
+
+def _capture(at: str, hardware: str, grab: str | None) -> Pass:
+    """A progress capture at the anchor pulley: runs as the pulley, holds with the grab when the team lets go."""
+    return Pass(at, "capture", hardware, grab=grab)
+
+
 @dataclass(frozen=True)
 class _Site:
     """The picked points and the derived directions a template builds from."""
@@ -261,8 +284,9 @@ def _build_z(b: _Builder, s: _Site, strands: int) -> None:
     g = _grab(b, s, "rope grab + travelling pulley")
     h = _haul_point(b, s, s.u, _team_default(s, f"{strands}:1"))
     path = [_tied(s.load.id), _tied(g)]
-    for _ in range((strands - 1) // 2):
-        path += [_pulley(s.anchor.id, o["hardware"]), _pulley(g, o["hardware"])]
+    for k in range((strands - 1) // 2):
+        at_anchor = _capture(s.anchor.id, o["hardware"], o["grab"]) if k == 0 else _pulley(s.anchor.id, o["hardware"])
+        path += [at_anchor, _pulley(g, o["hardware"])]
     path.append(_hauled(h))
     b.rope("main", o["material"], path, f"{strands}:1 main line")
 
@@ -284,6 +308,10 @@ def _build_4to1(b: _Builder, s: _Site) -> None:
     b.rope("ma", o["material"], [_tied(s.anchor.id), _pulley(g, o["hardware"]), _tied(t)], "first 2:1 rope")
     h = _haul_point(b, s, s.u, _team_default(s, "4:1"))
     b.rope("ma", o["material"], [_tied(_second_anchor(s)), _pulley(t, o["hardware"]), _hauled(h)], "second 2:1 rope")
+    # the main line's tail runs on from the grab through the progress capture on the anchor to a tender
+    # by the team, with slack: it carries nothing while hauling and holds the load at a reset
+    b.rope("tail", o["material"], [_tied(g), _capture(s.anchor.id, o["hardware"], o["grab"]), _tied(h)],
+           "main line tail through the capture (tended)", Rigging(slack_m=TAIL_SLACK_M))
 
 
 def _z_to(b: _Builder, s: _Site, g: str, t: str) -> None:
@@ -291,7 +319,8 @@ def _z_to(b: _Builder, s: _Site, g: str, t: str) -> None:
     o = s.opts
     hw = o["hardware"]
     b.rope("main", o["material"],
-           [_tied(s.load.id), _tied(g), _pulley(s.anchor.id, hw), _pulley(g, hw), _tied(t)], "3:1 main line")
+           [_tied(s.load.id), _tied(g), _capture(s.anchor.id, hw, o["grab"]), _pulley(g, hw), _tied(t)],
+           "3:1 main line")
 
 
 def _build_2on3(b: _Builder, s: _Site) -> None:
@@ -371,6 +400,14 @@ def _build_vector_capture(b: _Builder, s: _Site) -> None:
         b.point("P", "person", person_at, "puller")
     b.rope("line", o["material"], [_tied(s.load.id), _sliding(v), _tied(c)], "vector-pull line", _line_rigging(s))
     b.rope("cord", o.get("capture_material") or "cord-8", [_tied(c), _tied(s.anchor.id)], "capture cord to anchor")
+
+
+def _build_capture_1to1(b: _Builder, s: _Site) -> None:
+    """The load line over a progress capture on the picked anchor, straight on to the haul team (1:1)."""
+    o = s.opts
+    h = _haul_point(b, s, s.u, _team_default(s, "redirect"))
+    b.rope("main", o["material"], [_tied(s.load.id), _capture(s.anchor.id, o["hardware"], o["grab"]), _hauled(h)],
+           "1:1 main line through a progress capture")
 
 
 def _build_redirect(b: _Builder, s: _Site) -> None:
@@ -483,6 +520,11 @@ TEMPLATES: dict[str, Template] = {t.name: t for t in (
              "anchor on a short cord, so slack gained by each pull can be taken in and kept. Drawn as the "
              "line tied at the grab; taking in slack is a new drawing (shorten the line, pull again).",
              None, ("load", "anchor", "haul?"), (0, 0), _build_vector_capture),
+    Template("1:1-capture", "1:1 with progress capture",
+             "The main line runs from the load over a capture pulley on the anchor straight to the haul team. "
+             "The team pulls hand over hand; when they let go the capture's grab holds what they gained. "
+             "No mechanical advantage: the team pulls the whole load force.",
+             1.0, _MA_NEEDS, (0, 0), _build_capture_1to1),
     Template("redirect", "Redirect",
              "The main line from the load turns through a pulley on the picked anchor toward the haul "
              "team. It changes the direction of pull, not the force; the anchor takes the resultant of "
@@ -537,9 +579,13 @@ def place_template(
     extra_anchor_ids: Sequence[str] = (),
     material: str = "kern-11",
     hardware: str = "pulley-large",
+    grab: str | None = DEFAULT_CAPTURE_GRAB,
     **options: Any,
 ) -> Rig:
     """A new Rig with template ``name`` attached to the picked points, sized to the site (metres).
+
+    The 3:1, 5:1 and the compounds' 3:1 stages, and the 1:1 with capture, put a progress capture at
+    the anchor pulley, holding with rope grab ``grab`` (None: a capture pulley without a rated grab).
 
     Options by template: ``grab_fraction`` (0.5), ``haul_distance_m`` (5), ``haul_force_N`` or
     ``team`` / ``per_person_N`` (220 N), ``pull_force_N``, ``hand_fraction`` (0.5),
@@ -573,10 +619,12 @@ def place_template(
     if load is not None and load.id in {anchor.id, *(p.id for p in extras)}:
         raise RigModelError("The load and an anchor are the same point", subject=load.id)
     _check_spec(rig, "material", material)
-    if (tpl.ma_ideal is not None and tpl.ma_ideal > 1) or name == "redirect":
+    if (tpl.ma_ideal is not None and tpl.ma_ideal > 1) or name in ("redirect", "1:1-capture"):
         _check_spec(rig, "hardware", hardware)
+    if grab is not None:
+        _check_spec(rig, "hardware", grab)
     opts = dict(options, haul_at=haul_at, haul_direction_deg=haul_direction_deg, haul_id=haul_id,
-                material=material, hardware=hardware)
+                material=material, hardware=hardware, grab=grab)
     site = _Site(rig, load, anchor, extras, opts)
     if load is not None:
         _ = site.u  # coincident load and anchor: say so before building

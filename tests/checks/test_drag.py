@@ -138,9 +138,9 @@ def test_haul_planning_refuses_nonsense(args):
         haulers_needed(*args)
 
 
-def test_plan_for_a_solved_3_to_1_uses_its_actual_ma():
+def test_pull_needed_for_a_solved_3_to_1_matches_its_actual_ma():
     from solver import equilibrium
-    from solver.hauling import plan_for_result
+    from solver.pull_needed import need_for_load
     from solver.templates import place_template
     from tests import rigs
 
@@ -149,8 +149,9 @@ def test_plan_for_a_solved_3_to_1_uses_its_actual_ma():
     rig = place_template(rig, "3:1", load_id="L", anchor_id="A", material="lin", hardware="p")
     res = equilibrium.solve(rig)
     assert res.ok, res.message
-    plan = plan_for_result(rig, res, "L")
-    # 6900 N / (2.710 x 220 N) = 11.6 -> 12 (T-method, check-values.md; 220 N common practice, no source)
-    assert plan is not None and plan.ma_actual == pytest.approx(2.71, rel=1e-6) and plan.haulers == 12
+    need = need_for_load(rig, res, "L")
+    # an in-line 3:1 keeps its geometry, so the solved pull is 6900 N / 2.710 (T-method, check-values.md)
+    # and 12 pullers at 220 N (common practice, no source)
+    assert need.pull_needed_N == pytest.approx(6900.0 / 2.71, rel=1e-3) and need.pullers_needed == 12
     # the template sized its own team the same way, from the pulley's efficiency
     assert next(p.team for p in rig.points if p.kind == "haul") == 12

@@ -20,6 +20,7 @@ from tests import rigs
 from tests.conftest import SAMPLES
 
 HAND_COUNTS = {"2:1": 2, "3:1": 1 + 1 + 1, "4:1": 2 * 2, "5:1": 5, "6:1": 2 * 3, "9:1": 3 * 3, "redirect": 1,
+               "1:1-capture": 1,  # one strand on the load; the capture only holds what the team gains
                "vector-pull": None, "vector-pull-capture": None, "anchor-shared": None,
                "anchor-equalising": None, "tensioned-line": None}
 

@@ -111,6 +111,22 @@ def test_bad_hardware_efficiency_is_shown_under_the_field_and_nothing_is_embedde
     assert main_window.document.rig.hardware[0].id == "pulley-large"  # same id: the rig's copy wins
 
 
+def test_a_rope_grab_shows_its_slip_force_and_an_edited_one_is_embedded(main_window, editor, qtbot):
+    ed = editor
+    ed.select("builtin", "hardware", "prusik-3-wrap")
+    form = ed.hardware_form
+    assert form.kind.currentText() == "grab" and form.slip.edit.text().startswith("7")  # 7 kN (library)
+    qtbot.mouseClick(form.slip.edit, Qt.LeftButton)  # a grab with no slip force is refused, the field named
+    form.slip.edit.selectAll()
+    qtbot.keyClick(form.slip.edit, Qt.Key_Delete)
+    qtbot.keyClick(form.slip.edit, Qt.Key_Return)
+    assert not ed.embed() and form.slip.has_error and "slip" in form.slip.error.text()
+    type_into(qtbot, form.slip, "8.5 kN")
+    assert ed.embed()
+    grab = next(h for h in main_window.document.rig.hardware if h.id == "prusik-3-wrap")
+    assert grab.kind == "grab" and grab.slip_N == 8500.0
+
+
 def test_removing_an_embedded_spec_a_rope_needs_is_refused_with_the_rope_named(main_window, editor):
     w = main_window
     ed = editor

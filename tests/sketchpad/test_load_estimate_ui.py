@@ -116,12 +116,12 @@ def test_haulers_needed_use_the_solved_actual_ma_and_the_per_hauler_force(main_w
     type_into(qtbot, d.area, "1.5")
     d.shape.setCurrentIndex(d.shape.findData("flat-plate-square"))
     type_into(qtbot, d.per_person, "0.22")
-    # 3510 N through actual MA 2.710 at 220 N each: 3510 / (2.71 * 220) = 5.89 -> 6 haulers
-    # (haulers = ceil(F / (MA x per-person)); per-hauler 0.22 kN is common practice, no source)
+    # 3510 N through actual MA 2.710 (an in-line 3:1 keeps it as the pull grows) at 220 N each:
+    # 3510 / (2.71 * 220) = 5.89 -> 6 (per-hauler 0.22 kN is common practice, no source); solved on the rig
     text = d.haulers.text()
-    assert "2.71:1" in text and "so 6 haulers" in text, text
+    assert "2.71:1" in text and "6 pullers" in text, text
     type_into(qtbot, d.per_person, "0.6")  # a short hard pull: 3510 / (2.71 * 600) = 2.16 -> 3
-    assert "so 3 haulers" in d.haulers.text()
+    assert "3 pullers" in d.haulers.text()
     d.close()
 
 

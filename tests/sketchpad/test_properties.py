@@ -215,6 +215,33 @@ def test_rope_material_slack_and_pass_hardware(dock, qtbot, tmp_path):
     rigfile.save_rig(doc.rig, tmp_path / "edited.rig.json")  # every edit left a rig the file format accepts
 
 
+def test_tied_pass_takes_a_termination_and_a_rope_grab_each_undoable(dock, qtbot, tmp_path):
+    panel = dock.panel
+    doc = panel.document
+    panel.show_subject("rope", "R1")
+    page = panel.rope_page
+    term = page._term_widgets[0]  # the rope's first pass: always tied
+    assert not term.isHidden()
+    term.setCurrentIndex(term.findData("figure-8-loop"))
+    assert doc.rig.rope("R1").path[0].termination == "figure-8-loop"
+    assert "75 % of MBS" in term.currentText().replace("%", " %").replace("  ", " ")
+    _, hw = page._pass_widgets[0]
+    assert hw.findData("prusik-3-wrap") >= 0  # a tied pass offers the rope grabs
+    hw.setCurrentIndex(hw.findData("prusik-3-wrap"))
+    assert doc.rig.rope("R1").path[0].hardware == "prusik-3-wrap"
+    doc.undo_stack.undo()
+    assert doc.rig.rope("R1").path[0].hardware != "prusik-3-wrap"
+    doc.undo_stack.undo()
+    assert doc.rig.rope("R1").path[0].termination is None
+    doc.undo_stack.redo()
+    assert doc.rig.rope("R1").path[0].termination == "figure-8-loop"
+    how, _ = page._pass_widgets[1]
+    if how.findData("pulley") >= 0:  # a middle pass over a pulley hides the termination choice
+        how.setCurrentIndex(how.findData("pulley"))
+        assert page._term_widgets[1].isHidden()
+    rigfile.save_rig(doc.rig, tmp_path / "edited.rig.json")
+
+
 def test_force_magnitude_and_direction(dock, qtbot):
     panel = dock.panel
     doc = panel.document
@@ -317,6 +344,30 @@ def test_a_drag_elsewhere_leaves_the_rig_page_as_it_is(dock, qtbot):
     assert rp.min_sf.has_error and rp.min_sf.edit.text() == "0.5"
     doc.apply(replace(doc.rig, settings=replace(doc.rig.settings, min_safety_factor=8.0)), "Change rig settings")
     assert not rp.min_sf.has_error and float(rp.min_sf.edit.text().split()[0].rstrip(":1")) == 8.0
+
+
+def test_a_pass_turned_into_a_capture_holds_with_the_kits_grab_and_the_grab_can_be_changed(dock, qtbot, tmp_path):
+    # issue 22: a progress capture runs as its pulley and holds with a rope grab (its slip force counts)
+    from solver.model import Hardware
+
+    panel = dock.panel
+    doc = panel.document
+    strong = Hardware("g-strong", "grab", mbs_N=30000.0, slip_N=12000.0, label="strong grab")
+    doc.replace_all(replace(doc.rig, hardware=doc.rig.hardware + (strong,)))
+    panel.show_subject("rope", "R1")
+    page = panel.rope_page
+    how, _hw = page._pass_widgets[1]
+    grab_box = page._grab_widgets[1]
+    assert not grab_box.isVisibleTo(page)  # only a capture holds with a grab
+    how.setCurrentIndex(how.findData("capture"))
+    ps = doc.rig.rope("R1").path[1]
+    assert (ps.how, ps.grab) == ("capture", "prusik-3-wrap") and ps.hardware
+    assert grab_box.isVisibleTo(page)
+    grab_box.setCurrentIndex(grab_box.findData("g-strong"))
+    assert doc.rig.rope("R1").path[1].grab == "g-strong"
+    doc.undo_stack.undo()
+    assert doc.rig.rope("R1").path[1].grab == "prusik-3-wrap"
+    rigfile.save_rig(doc.rig, tmp_path / "capture.rig.json")  # the file format accepts it
 
 
 def test_capacity_kind_is_chosen_in_the_panel_and_names_the_field(dock, qtbot):

@@ -109,12 +109,11 @@ def test_hardware_load_is_the_vector_sum_of_the_two_legs(raft_report):
 
 
 def test_report_names_haulers_warnings_assumptions_and_the_full_caution(raft_report):
-    from solver.hauling import plan_for_result
+    from solver.pull_needed import need_sentence
 
     rig, result, report, text = raft_report
     load = next(p for p in rig.points if p.kind == "load")
-    plan = plan_for_result(rig, result, load.id)
-    assert f"Haulers needed for {load.name}: {plan.haulers}." in text
+    assert f"Pull needed for {load.name}" in text and " ".join(need_sentence(rig, result.needs[load.id]).split()) in text
     for w in result.warnings:
         assert " ".join(w.message.split()) in text
     for r in rig.ropes:
@@ -127,8 +126,9 @@ def test_report_names_haulers_warnings_assumptions_and_the_full_caution(raft_rep
 
 def test_report_is_one_or_two_pages_with_a_plot(raft_report):
     rig, result, report, text = raft_report
-    # two pages of forces and the plot; the "If something lets go" table (issue 19) may take a third
-    assert report.pages <= 3
+    # two pages of forces and the plot; the "If something lets go" table (issue 19) may take a third;
+    # the haul plan (issue 22) has a page of its own: the raft is a load to move
+    assert report.pages <= 3 + 1
     assert len(pypdf.PdfReader(report.path).pages) == report.pages
     assert f"page {report.pages} of {report.pages}" in text
     assert "Mechanical advantage and peak anchor load as the haul force" in text
@@ -222,6 +222,38 @@ def test_a_working_load_anchor_is_named_and_its_margin_is_the_share_used(qapp, t
     text = pdf_text(out)
     assert "working load" in text and "rated working load" in text  # table and the assumptions
     assert "nominal 3:1" in text  # the three MAs, each named
+
+
+def test_report_has_a_haul_page_with_the_plot_and_the_stroke_table(qapp, tmp_path):
+    # issue 22: a page with the haul plot and table when the rig has a load to move
+    from sketchpad.report import write_report
+    from solver.haul_plan import plan_haul
+    from solver.haul_settings import haul_settings
+    from solver.haul_table import stroke_rows
+
+    sample = RAFT.parent / "raft-three-strokes.rig.json"
+    rig = load_rig(sample)
+    out = tmp_path / "haul.pdf"
+    report = write_report(rig, out)
+    text = pdf_text(out)
+    page = " ".join(pypdf.PdfReader(out).pages[-1].extract_text().split())
+    assert "Haul plan:" in page and "Strokes" in page and "rope paid in by the haul team (m)" in page
+    s = haul_settings(rig)
+    plan = plan_haul(rig, s.travel_m, s.throw_m, spacing_m=s.spacing_m)
+    for row in stroke_rows(plan, "m", rig.display.force):
+        for cell in row[1:5]:
+            assert cell in page
+    assert report.tables[-1].title == "Strokes" and len(report.tables[-1].rows) == len(plan.strokes)
+    assert "Planning aid only" in text
+
+
+def test_report_of_a_rig_without_a_load_to_move_has_no_haul_page(qapp, tmp_path):
+    from sketchpad.report import write_report
+
+    rig = load_rig(RAFT.parent / "vector-pull.rig.json")
+    out = tmp_path / "vector.pdf"
+    write_report(rig, out)
+    assert "Haul plan:" not in pdf_text(out)
 
 
 def test_report_has_the_if_something_lets_go_table_with_each_failure(raft_report):

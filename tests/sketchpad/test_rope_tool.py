@@ -181,6 +181,7 @@ def test_the_real_popup_takes_keys_enter_and_esc(rope_window, mouse, qtbot):
 @pytest.mark.parametrize("key, how", [
     (Qt.Key_1, "tied"), (Qt.Key_T, "tied"), (Qt.Key_2, "pulley"), (Qt.Key_P, "pulley"),
     (Qt.Key_3, "sliding"), (Qt.Key_S, "sliding"), (Qt.Key_4, "edge"), (Qt.Key_E, "edge"),
+    (Qt.Key_6, "capture"), (Qt.Key_C, "capture"),
 ])
 def test_each_chooser_key_picks_its_pass(qtbot, key, how):
     req = PassRequest("A1", "A1", "pulley", "pulley-large", "edge-concrete",
@@ -192,7 +193,7 @@ def test_each_chooser_key_picks_its_pass(qtbot, key, how):
     qtbot.waitUntil(menu.isVisible)
     qtbot.keyClick(menu, key)
     qtbot.waitUntil(lambda: bool(got))
-    hw = {"pulley": "pulley-large", "edge": "edge-concrete"}.get(how)
+    hw = {"pulley": "pulley-large", "edge": "edge-concrete", "capture": "pulley-large"}.get(how)
     assert got == [PassChoice(how, hw)]
     menu.deleteLater()
 

@@ -47,7 +47,7 @@ def test_three_to_one_placed_by_clicking_load_anchor_and_haul_solves_to_ideal_3_
     haul = next(p for p in rig.points if p.kind == "haul")
     assert (haul.x, haul.y) == pytest.approx((0.0, 16.0), abs=0.05)  # one pixel at 20 px/m
     assert [(p.at, p.how, p.hardware) for p in rig.ropes[0].path] == [
-        ("L1", "tied", None), (grab.id, "tied", None), ("A1", "pulley", "pulley-90"),
+        ("L1", "tied", None), (grab.id, "tied", None), ("A1", "capture", "pulley-90"),
         (grab.id, "pulley", "pulley-90"), (haul.id, "hauled", None)]
     from solver.analysis import analyse
 

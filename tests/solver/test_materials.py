@@ -31,6 +31,7 @@ BRIEF_MATERIALS = {"kern-11", "kern-12.5", "throwline-pp-8", "dynamic-10.5", "co
 BRIEF_HARDWARE = {
     "pulley-large", "pulley-small", "pulley-bushing", "carabiner", "ring",
     "edge-rock", "edge-concrete", "edge-timber", "edge-steel",
+    "prusik-3-wrap", "cam-grab",  # rope grabs (issue 15: weak links)
 }
 
 
@@ -94,6 +95,10 @@ def test_every_hardware_has_its_friction_value_label_and_a_source(hid):
     if h.kind == "edge":
         assert h.friction_coefficient is not None and h.efficiency is None
         assert "Delaney" in h.source or "no source" in h.source
+    elif h.kind == "grab":
+        # a grab holds by friction up to its slip force (a designed slip point): slip below its MBS
+        assert h.slip_N is not None and 0 < h.slip_N < h.mbs_N
+        assert "from memory" in h.source or "common practice" in h.source
     else:
         assert h.efficiency is not None and 0 < h.efficiency <= 1
         assert h.mbs_N is not None and h.mbs_N > 0
@@ -108,7 +113,8 @@ def test_no_spec_is_named_after_a_maker():
         "mm low-stretch kernmantle (en 1891 type a) (nfpa general use) floating polypropylene throw line "
         "dynamic climbing rope nylon accessory cord tubular webbing hmpe sewn sling large ball-bearing "
         "rescue pulley small plain-bushing locking carabiner used as a redirect sliding ring (or a hand on "
-        "the rope) rock edge concrete timber steel or tube".split()
+        "the rope) rock edge concrete timber steel or tube "
+        "3-wrap prusik (8 cord loop) toothless cam grab".split()  # prusik: the trade's generic friction hitch
     )
     for spec in list(LIBRARY_MATERIALS.values()) + list(LIBRARY_HARDWARE.values()):
         words = [w for w in spec.label.lower().split() if not w.replace(".", "").isdigit()]
@@ -297,3 +303,14 @@ def test_a_table_with_any_point_out_of_order_is_refused_at_that_point(steps, dat
     m = Material("prop", "rope", 20000.0, tuple(zip(t.tolist(), e.tolist())))
     problem = mat.material_problem(m)
     assert problem is not None and problem[0] == f"stretch[{i}]"
+
+
+def test_rope_grab_kind_round_trips_and_needs_its_slip_force():
+    # rig-format.md additions: a hardware kind for a rope grab with slip_N
+    from solver.materials import hardware_from_dict, hardware_to_dict
+    d = {"id": "g1", "kind": "grab", "slip_N": 8000.0, "mbs_N": 20000.0, "label": "prusik"}
+    assert hardware_to_dict(hardware_from_dict(d)) == d
+    with pytest.raises(RigFileError, match="slips"):
+        hardware_from_dict({"id": "g2", "kind": "grab", "mbs_N": 20000.0})
+    # a 3-wrap prusik slips around 7-9.5 kN (check-values.md "Knots and grabs": common practice)
+    assert 7000.0 <= LIBRARY_HARDWARE["prusik-3-wrap"].slip_N <= 9500.0

@@ -100,8 +100,8 @@ def test_sample_load_save_load_gives_the_same_rig_plus_the_embedded_library_spec
     save_rig(rig, out)
     again = load_rig(out)
     used_m = list(dict.fromkeys(r.material for r in rig.ropes))
-    used_h = list(dict.fromkeys(p.hardware for r in rig.ropes for p in r.path if p.hardware))
-    # rig-format.md: "saving embeds every spec the rig uses"
+    used_h = list(dict.fromkeys(h for r in rig.ropes for p in r.path for h in (p.hardware, p.grab) if h))
+    # rig-format.md: "saving embeds every spec the rig uses" (a capture's rope grab too)
     expected = replace(rig, materials=tuple(materials.LIBRARY_MATERIALS[i] for i in used_m),
                        hardware=tuple(materials.LIBRARY_HARDWARE[i] for i in used_h))
     assert again == expected

@@ -72,8 +72,8 @@ def test_template_adds_valid_ropes_on_existing_or_new_points(name):
         assert all(ps.at in ids for ps in r.path)
         assert r.path[0].how == "tied"
         assert r.path[-1].how in ("tied", "hauled")
-        assert all(ps.how in ("tied", "pulley", "sliding") for ps in r.path[1:-1])
-        assert all(ps.hardware == "p" for ps in r.path if ps.how == "pulley")
+        assert all(ps.how in ("tied", "pulley", "sliding", "capture") for ps in r.path[1:-1])
+        assert all(ps.hardware == "p" for ps in r.path if ps.how in ("pulley", "capture"))
     assert len(ids) == len(after.points), "ids stay unique"
 
 
@@ -81,8 +81,9 @@ def test_three_to_one_is_a_z_on_a_grab_halfway_to_the_anchor():
     after = place(site(), "3:1", load_id="L", anchor_id="A")
     (rope,) = after.ropes
     g = rope.path[1].at
-    assert [(p.at, p.how) for p in rope.path] == [("L", "tied"), (g, "tied"), ("A", "pulley"), (g, "pulley"),
+    assert [(p.at, p.how) for p in rope.path] == [("L", "tied"), (g, "tied"), ("A", "capture"), (g, "pulley"),
                                                    (rope.path[-1].at, "hauled")]
+    assert rope.path[2].grab == "prusik-3-wrap"  # the kit's progress capture holds with a prusik
     assert after.point(g).xy == pytest.approx((0.0, 10.0))  # grab_fraction 0.5 of 20 m
     # haul team 5 m beyond the anchor on the load-anchor line, pulling the set force
     h = after.point(rope.path[-1].at)
