@@ -94,10 +94,15 @@ def parse_size(text: str) -> tuple[int, int]:
 def render_window(rig_path, size: tuple[int, int]):
     """The main window with ``rig_path`` open, laid out at ``size`` and grabbed to a QPixmap."""
     app = _application(offscreen=True)
-    from solver.rigfile import load_rig
     from sketchpad.main_window import MainWindow
+    from solver import limits
+    from solver.errors import RigFileError
+    from solver.rigfile import load_rig
 
     rig = load_rig(pathlib.Path(rig_path))  # RigFileError reaches the CLI, which prints it
+    problem = limits.drawing_problem(len(rig.points), len(rig.ropes))
+    if problem:
+        raise RigFileError(problem, where=str(rig_path))
     window = MainWindow()
     window.document.replace_all(rig, pathlib.Path(rig_path))
     window.resize(*size)

@@ -35,7 +35,6 @@ from PySide6.QtWidgets import (
     QGraphicsSimpleTextItem,
     QHBoxLayout,
     QInputDialog,
-    QLabel,
     QMenu,
     QPushButton,
     QSlider,
@@ -44,9 +43,11 @@ from PySide6.QtWidgets import (
 
 from sketchpad import theme
 from sketchpad.drag_layer import Tracked
-from sketchpad.fields import QuantityField
+from sketchpad.fields import QuantityField, decimal_mark
 from sketchpad.geometry import to_scene, to_site
-from solver import units
+from sketchpad.picture_file import PictureFileError, read_picture_bytes
+from sketchpad.plain_text import plain_label
+from solver import limits, units
 from solver.errors import UnitError
 from solver.model import Rig, SiteImage
 
@@ -130,7 +131,7 @@ def image_reference(path: pathlib.Path, rig_dir: pathlib.Path | None) -> dict:
             return {"file": rel.as_posix(), "data_base64": None}
         except ValueError:
             pass
-    return {"file": None, "data_base64": base64.b64encode(path.read_bytes()).decode("ascii")}
+    return {"file": None, "data_base64": base64.b64encode(read_picture_bytes(path)).decode("ascii")}
 
 
 def read_qimage(image: SiteImage | None, rig_dir: pathlib.Path | None) -> QImage | None:
@@ -147,7 +148,11 @@ def read_qimage(image: SiteImage | None, rig_dir: pathlib.Path | None) -> QImage
         q.loadFromData(data)
     elif image.file:
         base = rig_dir if rig_dir is not None else pathlib.Path.cwd()
-        q.load(str(pathlib.Path(base) / image.file))
+        try:
+            q.loadFromData(read_picture_bytes(pathlib.Path(base) / image.file))
+        except PictureFileError as exc:
+            log.warning("background picture %s", exc)
+            return None
     return None if q.isNull() else q
 
 
@@ -368,8 +373,11 @@ class CalibrateTool(TwoClickTool):
                 self.status("Calibration cancelled.")
                 return
             try:
-                real = units.parse_length(text, unit)
+                real = units.parse_length(text, unit, decimal=decimal_mark())
                 new = calibrated(image, p1, p2, real)
+                problem = limits.number_range("image", "metres_per_pixel").problem(new.metres_per_pixel)
+                if problem:
+                    raise ValueError(f"that makes a scale of {new.metres_per_pixel:g} m per pixel, which {problem}")
             except (UnitError, ValueError) as exc:
                 msg = exc.message if isinstance(exc, UnitError) else str(exc)
                 prompt = f"{msg[:1].upper()}{msg[1:]}.\nReal distance between the two points:"
@@ -415,7 +423,11 @@ class BackgroundController(QObject):
             if path is None:
                 return False
         path = pathlib.Path(path)
-        q = QImage(str(path))
+        try:
+            q = QImage.fromData(read_picture_bytes(path))
+        except PictureFileError as exc:
+            self.report_error(self.window, f"“{path.name}” {exc.message}.")
+            return False
         if q.isNull():
             self.report_error(self.window, f"“{path.name}” is not a picture Ropewright can read (use PNG or JPEG).")
             return False
@@ -497,12 +509,13 @@ def _ask_image_path(parent) -> pathlib.Path | None:
 
 def _report_error(parent, text: str) -> None:
     from PySide6.QtGui import QGuiApplication
-    from PySide6.QtWidgets import QMessageBox
+
+    from sketchpad.plain_text import warn
 
     if QGuiApplication.platformName() in ("offscreen", "minimal"):
         log.info("background: %s", text)
         return
-    QMessageBox.warning(parent, "Background picture", text)
+    warn(parent, "Background picture", text)
 
 
 class BackgroundPanel(QWidget):
@@ -512,7 +525,7 @@ class BackgroundPanel(QWidget):
         super().__init__(parent)
         self.controller = controller
         doc = controller.document
-        self.state = QLabel()
+        self.state = plain_label()
         self.state.setWordWrap(True)
         self.import_button = QPushButton("Import…")
         self.calibrate_button = QPushButton("Calibrate…")
@@ -521,9 +534,10 @@ class BackgroundPanel(QWidget):
         for b in (self.import_button, self.calibrate_button, self.remove_button):
             buttons.addWidget(b)
         unit = lambda: doc.rig.display.length  # noqa: E731
-        self.rotation = QuantityField("rotation", "number", suffixes=("°", "deg", "degrees"))
-        self.origin_x = QuantityField("east offset", "length", unit=unit)
-        self.origin_y = QuantityField("north offset", "length", unit=unit)
+        self.rotation = QuantityField("rotation", "number", suffixes=("°", "deg", "degrees"),
+                                      limit=("image", "rotation_deg"))
+        self.origin_x = QuantityField("east offset", "length", unit=unit, limit=("point", "x"))
+        self.origin_y = QuantityField("north offset", "length", unit=unit, limit=("point", "y"))
         self.fade = QSlider(Qt.Orientation.Horizontal)
         self.fade.setRange(0, 100)
         self.fade.setToolTip("How strongly the picture shows under the sketch")

@@ -26,7 +26,6 @@ import math
 import os
 import pathlib
 import sys
-from dataclasses import dataclass
 from typing import Iterable
 
 from PySide6.QtCore import QMarginsF, QPointF, QRectF, QSize, Qt
@@ -44,7 +43,9 @@ from PySide6.QtGui import (
 
 from sketchpad import theme
 from sketchpad.glyphs import paint_north_arrow
-from solver.model import Point, Rig
+from sketchpad.pages.framing import Fit
+from sketchpad.short_text import drawn
+from solver.model import Rig
 from solver.result import Result
 
 log = logging.getLogger(__name__)
@@ -60,38 +61,33 @@ LOGICAL_WIDTH_PX = 1200.0  # a PNG wider than this is drawn at a device pixel ra
 MAX_SIZE_PX = 12000
 MIN_SIZE_PX = 200
 
-FIT_MARGIN_PX = 28.0  # empty paper around the fitted rig
-FIT_PASSES = 4  # re-fit after placing labels, so labels and arrows stay on the page
 SIDEBAR_FRACTION = 0.24  # right-hand panel of a full drawing page
 SIDEBAR_MIN_PX, SIDEBAR_MAX_PX = 250.0, 330.0
 PAD = 10.0  # inner padding of panels
 TITLE_PT, HEAD_PT, TEXT_PT, SMALL_PT = 13, 9, 8, 7
 MAX_SIDEBAR_WARNINGS = 8
-INK = QColor("#1d1d1a")
-MUTED = QColor("#55554f")
-RULE = QColor("#b9ae97")
+INK = theme.PAGE_INK
+MUTED = theme.PAGE_MUTED
+RULE = theme.PAGE_RULE
 PANEL_BACK = QColor("#fffefa")
 FAIL_BACK = QColor(163, 29, 24)
 DANGER_TEXT = QColor("#9c1238")
 WARNING_TEXT = QColor("#8a4b00")
 
-#: kinds shown in the key, with the words beside each marker
-KEY_KINDS: tuple[tuple[str, str], ...] = (
-    ("anchor", "anchor"), ("load", "load"), ("haul", "haul team"), ("point", "free point"), ("person", "person"))
-
-
 class ExportError(Exception):
     """An export that cannot be written: unknown format, bad size, folder missing (message in words)."""
 
 
-# --- the drawing ---------------------------------------------------------------------------
-@dataclass
-class Fit:
-    """Where the scene goes: ``source`` (scene metres) drawn into a target of ``size`` logical px."""
+def refuse_undrawable(rig: Rig) -> None:
+    """ExportError in words for a rig too big to draw in reasonable time (solver.limits.drawing_problem)."""
+    from solver import limits
 
-    source: QRectF
-    px_per_m: float
-    size: tuple[float, float]
+    problem = limits.drawing_problem(len(rig.points), len(rig.ropes))
+    if problem:
+        raise ExportError(problem)
+
+
+# --- the drawing ---------------------------------------------------------------------------
 
 
 class Drawing:
@@ -122,6 +118,11 @@ class Drawing:
         self.scene.addItem(self.zones_item)
         self.force_item = print_force_item()
         self.scene.add_overlay_item(self.force_item)
+        from sketchpad.water_layer import WaterItem
+
+        self.water_item = WaterItem()  # the current's arrows and the ropes it bows
+        self.scene.addItem(self.water_item)
+        self.water_item.show(rig, result)
         self.zones: list = []
         self.pieces: list = []
         self.skipped = 0
@@ -153,64 +154,31 @@ class Drawing:
             log.warning("the site picture could not be read; exported without it")
 
     # --- layout ----------------------------------------------------------------------------
-    def _core_bounds(self) -> QRectF:
-        """Scene rectangle of the rig's points as drawn and as solved (the site if there are none)."""
-        rect = self.scene.model_bounds(rig_first=True)
-        for x, y in self.result.points.values() if self.result.ok else ():
-            rect = rect.united(QRectF(x - 0.5, -y - 0.5, 1.0, 1.0))
-        if rect.isNull() or (rect.width() < 1e-9 and rect.height() < 1e-9):
-            rect = QRectF(-10, -10, 20, 20)
-        return rect
-
-    def _decorated_bounds(self, k: float) -> QRectF:
-        """Everything the overlay and the items draw at ``k`` px/m (labels, arrows, glyphs), without the site picture."""
-        from PySide6.QtWidgets import QGraphicsItem
-
-        rect = QRectF()
-        for item in self.scene.items():
-            if item is self.scene.background_item or not item.isVisible():
-                continue
-            if item.parentItem() is not None:
-                continue
-            from sketchpad.items import FeatureItem
-
-            if isinstance(item, FeatureItem):  # site features may span the whole river
-                continue
-            if item.flags() & QGraphicsItem.ItemIgnoresTransformations:  # point markers: sized in pixels
-                b, pos = item.boundingRect(), item.scenePos()
-                r = QRectF(pos.x() + b.x() / k, pos.y() + b.y() / k, b.width() / k, b.height() / k)
-            else:
-                r = item.sceneBoundingRect()
-            if not r.isNull():
-                rect = rect.united(r)
-        return rect
-
     def fit_into(self, width: float, height: float) -> Fit:
-        """Choose scale and source rect so the rig, its labels and arrows fill ``width`` x ``height`` px."""
+        """Choose scale and source rect so the rig (or the rig's print frame) fills ``width`` x ``height`` px.
+
+        Asked again for the size it last fitted, it keeps that fit (placing a large rig's labels is the
+        slow part of a page: a report measures its pages with the same fit it then draws).
+        """
+        from sketchpad.pages.framing import fit_frame
+
         width, height = max(width, 40.0), max(height, 40.0)
-        core = self._core_bounds()
-        want = core
-        k = 1.0
-        for _ in range(FIT_PASSES):
-            k = min((width - 2 * FIT_MARGIN_PX) / max(want.width(), 1e-6),
-                    (height - 2 * FIT_MARGIN_PX) / max(want.height(), 1e-6))
-            k = max(k, 1e-3)
-            self._place(k)
-            got = self._decorated_bounds(k).united(core)
-            if got.width() <= want.width() * 1.0001 and got.height() <= want.height() * 1.0001:
-                break
-            want = got
-        c = want.center()
-        w, h = width / k, height / k
-        self.fit = Fit(QRectF(c.x() - w / 2, c.y() - h / 2, w, h), k, (width, height))
+        last = getattr(self, "fit", None)
+        if last is not None and last.size == (width, height):
+            return last
+        self.skipped = 0
+        self.fit = fit_frame(self, width, height)
         return self.fit
 
     def _place(self, k: float) -> None:
         """Overlay labels and glyph sizes for ``k`` px per metre (the canvas does this on every zoom)."""
         from sketchpad.overlay import build_labels, place_labels
 
+        from sketchpad.pages.names import declutter_names, name_boxes_of
+
         m_per_px = 1.0 / k
         self.scene.set_scale(m_per_px)
+        declutter_names(self.scene, self.rig, k)  # a page cannot be zoomed: names kept apart
         if not self.result.ok:
             self.force_item.bands, self.force_item.moved_points = [], []
             self.force_item.set_labels([], [], m_per_px)
@@ -224,8 +192,10 @@ class Drawing:
             return (p[0] * k, p[1] * k)
 
         markers = [(p.x, -p.y) for p in rig.points] + [(x, -y) for x, y in result.points.values()]
+        from sketchpad.pages.framing import feature_label_boxes
+
         self.skipped = place_labels(labels, to_px, self.force_item.label_size, markers, self.pieces,
-                                    name_boxes(rig) + self._rope_name_boxes())
+                                    name_boxes_of(self.scene, rig) + self._rope_name_boxes() + feature_label_boxes(self.scene, k))
         self.force_item.refresh_rect(m_per_px)
 
     def _rope_name_boxes(self) -> list:
@@ -253,6 +223,11 @@ class Drawing:
         self._paint_grid(painter, target, fit)
         painter.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing | QPainter.SmoothPixmapTransform)
         self.scene.render(painter, target, fit.source, Qt.IgnoreAspectRatio)
+        from sketchpad.pages.framing import paint_inset
+        from sketchpad.pages.greyscale import paint_drawing_rails
+
+        paint_drawing_rails(painter, target, self)
+        paint_inset(painter, target, self)
         painter.restore()
 
     def grid_step_m(self, px_per_m: float) -> float:
@@ -326,24 +301,8 @@ def print_force_item():
     return PrintForceItem()
 
 
-def name_boxes(rig: Rig) -> list:
-    """Pixel rects of the point names beside each marker (as :class:`sketchpad.items.PointItem` draws them)."""
-    fm = QFontMetricsF(theme.font())
-    out = []
-    for p in rig.points:
-        r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
-        out.append(((p.x, -p.y), (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name), fm.height())))
-    return out
-
-
 # --- page furniture ------------------------------------------------------------------------
-def page_font(size: float, bold: bool = False, italic: bool = False) -> QFont:
-    """A fresh copy of the app's face at ``size`` points (fractions allowed), for drawings and reports."""
-    f = QFont(theme.FONT_FAMILY)
-    f.setPointSizeF(size)
-    f.setBold(bold)
-    f.setItalic(italic)
-    return f
+page_font = theme.page_font  # a fresh copy of the app's face at a size in points, for drawings and reports
 
 
 def wrap_text(painter: QPainter, rect: QRectF, text: str, font: QFont, colour: QColor = INK,
@@ -426,31 +385,6 @@ def paint_zone_key(painter: QPainter, left: QPointF, zones: Iterable = ()) -> fl
     return fm.height() + 2
 
 
-def paint_point_key(painter: QPainter, rect: QRectF, kinds: Iterable[str]) -> float:
-    """Each point kind's marker (drawn by its canvas item class) with its name; returns the height used."""
-    from sketchpad.items import make_point_item
-
-    fm = QFontMetricsF(page_font(SMALL_PT))
-    painter.setFont(page_font(SMALL_PT))
-    x, y = rect.left(), rect.top()
-    row_h = 2 * max(theme.POINT_RADIUS_PX.values()) + 4
-    for kind, name in KEY_KINDS:
-        if kind not in kinds:
-            continue
-        w = 2 * theme.POINT_RADIUS_PX[kind] + 6 + fm.horizontalAdvance(name) + 14
-        if x + w > rect.right() and x > rect.left():
-            x, y = rect.left(), y + row_h
-        item = make_point_item(Point(id="key", kind=kind, x=0.0, y=0.0))
-        painter.save()
-        painter.translate(x + theme.POINT_RADIUS_PX[kind], y + row_h / 2)
-        item.paint_marker(painter)
-        painter.restore()
-        painter.setPen(INK)
-        painter.drawText(QPointF(x + 2 * theme.POINT_RADIUS_PX[kind] + 5, y + row_h / 2 + fm.ascent() / 2 - 1), name)
-        x += w
-    return y + row_h - rect.top()
-
-
 def rope_lines(rig: Rig) -> list[tuple[QColor, str]]:
     """(colour, "name: material") of every rope, in the order and colours the canvas uses."""
     from solver.materials import material_for
@@ -462,7 +396,7 @@ def rope_lines(rig: Rig) -> list[tuple[QColor, str]]:
             mat = material_for(rig, r.material).name
         except (RopewrightError, KeyError):
             mat = f"{r.material} (spec not known)"
-        out.append((theme.rope_colour(i), f"{r.name}: {mat}"))
+        out.append((theme.rope_colour(i), f"{drawn(r.name)}: {mat}"))
     return out
 
 
@@ -548,12 +482,13 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
     painter.setPen(theme.pixel_pen(RULE, 1.0))
     painter.drawLine(QPointF(x, y), QPointF(x + w, y))
     y += 6
-    kinds = {p.kind for p in rig.points}
-    y += paint_point_key(painter, QRectF(x, y, w, 0), kinds) + 4
+    from sketchpad.pages.symbol_key import paint_symbol_key
+
+    y += paint_symbol_key(painter, QRectF(x, y, w, 0)) + 4
     y += paint_rope_key(painter, QRectF(x, y, w, 0), rig) + 6
     if result.ok:
         y += paint_ramp(painter, QRectF(x, y, w, 0)) + 4
-        if drawing.zones:
+        if any(z.kind == "failure" for z in drawing.zones):  # computed failure areas: not in the symbol key
             y += paint_zone_key(painter, QPointF(x, y), drawing.zones) + 4
     # caution at the bottom; warnings fill what is left above it
     caution_h = wrap_text(painter, QRectF(x, 0, w, 0), caution, page_font(SMALL_PT, italic=True), draw=False)
@@ -582,7 +517,9 @@ def paint_sidebar(painter: QPainter, rect: QRectF, drawing: Drawing, title: str,
 
 
 def paint_key_strip(painter: QPainter, rect: QRectF, drawing: Drawing) -> None:
-    """A one-row key under a drawing (reports): north arrow, scale bar, point kinds, rope-use ramp, zones."""
+    """The key under a drawing (reports): north arrow, scale bar, rope-use ramp, then every symbol in rows."""
+    from sketchpad.pages.symbol_key import paint_symbol_key
+
     rig = drawing.rig
     painter.save()
     s = theme.NORTH_ARROW_PX * 0.8
@@ -595,14 +532,26 @@ def paint_key_strip(painter: QPainter, rect: QRectF, drawing: Drawing) -> None:
         x += paint_scale_bar(painter, QPointF(x, y + fm.height() + 6), drawing.scale_bar_m(), drawing.fit.px_per_m,
                              rig.display.length) + 24
     ramp_w = 200.0
-    kinds = {p.kind for p in rig.points}
-    paint_point_key(painter, QRectF(x, y, rect.right() - x - ramp_w - 10, 0), kinds)
     if drawing.result.ok:
         rx = rect.right() - ramp_w
         h = paint_ramp(painter, QRectF(rx, y, ramp_w, 0))
-        if drawing.zones:
+        if any(z.kind == "failure" for z in drawing.zones):  # computed failure areas: not in the symbol key
             paint_zone_key(painter, QPointF(rx, y + h + 2), drawing.zones)
+    paint_symbol_key(painter, QRectF(rect.left(), y + s + fm.height() + 4, rect.width(), 0))
     painter.restore()
+
+
+def key_strip_height(width: float) -> float:
+    """Height :func:`paint_key_strip` takes in ``width`` px."""
+    from sketchpad.pages.symbol_key import symbol_key_height
+
+    image = QImage(8, 8, QImage.Format_ARGB32_Premultiplied)
+    painter = QPainter(image)
+    try:
+        return theme.NORTH_ARROW_PX * 0.8 + QFontMetricsF(page_font(TEXT_PT)).height() + 4 + \
+            symbol_key_height(painter, width)
+    finally:
+        painter.end()
 
 
 def paint_page(painter: QPainter, rect: QRectF, drawing: Drawing, title: str, subtitle: str) -> None:
@@ -629,8 +578,9 @@ def _titles(rig: Rig, source: str | None, now: _dt.datetime | None) -> tuple[str
     return title, sub
 
 
-def render_png(drawing: Drawing, path: pathlib.Path, size: tuple[int, int], title: str, subtitle: str) -> None:
-    """``size`` pixels; wider than 1200 px the layout is drawn at a device pixel ratio above 1."""
+def write_png(path: pathlib.Path, size: tuple[int, int], paint, grey: bool = False) -> None:
+    """``paint(painter, rect)`` into a PNG of ``size`` pixels (wider than 1200 px at a device pixel ratio above 1),
+    8-bit grey when ``grey``."""
     w, h = size
     dpr = max(1.0, w / LOGICAL_WIDTH_PX)
     image = QImage(w, h, QImage.Format_ARGB32_Premultiplied)
@@ -640,16 +590,18 @@ def render_png(drawing: Drawing, path: pathlib.Path, size: tuple[int, int], titl
     image.setDevicePixelRatio(dpr)
     painter = QPainter(image)
     try:
-        paint_page(painter, QRectF(0, 0, w / dpr, h / dpr), drawing, title, subtitle)
+        paint(painter, QRectF(0, 0, w / dpr, h / dpr))
     finally:
         painter.end()
     image.setDevicePixelRatio(1.0)
+    if grey:
+        image = image.convertToFormat(QImage.Format_Grayscale8)
     if not image.save(str(path), "PNG"):
         raise ExportError(f"could not write the picture to {path}")
 
 
-def render_svg(drawing: Drawing, path: pathlib.Path, size: tuple[int, int], title: str, subtitle: str) -> None:
-    """An SVG of ``size`` pixels at 96 dpi (QSvgGenerator)."""
+def write_svg(path: pathlib.Path, size: tuple[int, int], paint, title: str, description: str = "") -> None:
+    """``paint(painter, rect)`` into an SVG of ``size`` pixels at 96 dpi (QSvgGenerator)."""
     from PySide6.QtSvg import QSvgGenerator
 
     w, h = size
@@ -660,14 +612,24 @@ def render_svg(drawing: Drawing, path: pathlib.Path, size: tuple[int, int], titl
     gen.setSize(QSize(w, h))
     gen.setViewBox(QRectF(0, 0, lw, lh))
     gen.setTitle(title)
-    gen.setDescription(subtitle)
+    gen.setDescription(description)
     painter = QPainter()
     if not painter.begin(gen):
         raise ExportError(f"could not write the drawing to {path}")
     try:
-        paint_page(painter, QRectF(0, 0, lw, lh), drawing, title, subtitle)
+        paint(painter, QRectF(0, 0, lw, lh))
     finally:
         painter.end()
+
+
+def render_png(drawing: Drawing, path: pathlib.Path, size: tuple[int, int], title: str, subtitle: str) -> None:
+    """The drawing page as a PNG of ``size`` pixels."""
+    write_png(path, size, lambda p, r: paint_page(p, r, drawing, title, subtitle))
+
+
+def render_svg(drawing: Drawing, path: pathlib.Path, size: tuple[int, int], title: str, subtitle: str) -> None:
+    """The drawing page as an SVG of ``size`` pixels at 96 dpi."""
+    write_svg(path, size, lambda p, r: paint_page(p, r, drawing, title, subtitle), title, subtitle)
 
 
 def pdf_writer(path: pathlib.Path, page: QPageSize, orientation, title: str):
@@ -682,18 +644,36 @@ def pdf_writer(path: pathlib.Path, page: QPageSize, orientation, title: str):
     return writer
 
 
-def render_pdf(drawing: Drawing, path: pathlib.Path, title: str, subtitle: str) -> None:
-    """One landscape page (A4, or Letter for imperial rigs), zero margins."""
-    writer = pdf_writer(path, page_size_for(drawing.rig), QPageLayout.Landscape, title)
+def portrait_writer(path: pathlib.Path, rig: Rig, title: str, grey: bool = False):
+    """A portrait page writer (A4, or Letter for imperial rigs), writing grey levels when ``grey``."""
+    writer = pdf_writer(path, page_size_for(rig), QPageLayout.Portrait, title)
+    if grey:
+        from sketchpad.pages.greyscale import set_pdf_grey
+
+        set_pdf_grey(writer)
+    return writer
+
+
+def write_landscape_pdf(path: pathlib.Path, rig: Rig, paint, title: str, grey: bool = False) -> None:
+    """``paint(painter, rect)`` on one landscape page (A4, or Letter for imperial rigs) inside a printer margin."""
+    writer = pdf_writer(path, page_size_for(rig), QPageLayout.Landscape, title)
+    if grey:
+        from sketchpad.pages.greyscale import set_pdf_grey
+
+        set_pdf_grey(writer)
     painter = QPainter()
     if not painter.begin(writer):
         raise ExportError(f"could not write the PDF to {path}")
     try:
         margin = 0.3 * SCREEN_DPI  # printers cannot print to the very edge
-        r = QRectF(0, 0, writer.width(), writer.height()).adjusted(margin, margin, -margin, -margin)
-        paint_page(painter, r, drawing, title, subtitle)
+        paint(painter, QRectF(0, 0, writer.width(), writer.height()).adjusted(margin, margin, -margin, -margin))
     finally:
         painter.end()
+
+
+def render_pdf(drawing: Drawing, path: pathlib.Path, title: str, subtitle: str) -> None:
+    """One landscape page (A4, or Letter for imperial rigs), zero margins."""
+    write_landscape_pdf(path, drawing.rig, lambda p, r: paint_page(p, r, drawing, title, subtitle), title)
 
 
 def format_of(path: pathlib.Path | str) -> str:
@@ -732,6 +712,7 @@ def export_drawing(rig: Rig, path: pathlib.Path | str, size: tuple[int, int] | N
     fmt = format_of(path)
     if not path.parent.exists():
         raise ExportError(f"the folder {path.parent} does not exist")
+    refuse_undrawable(rig)
     ensure_app()
     drawing = Drawing(rig, result, rig_dir, layers)
     title, subtitle = _titles(rig, source, now)
@@ -838,12 +819,13 @@ def _ask_save_path(parent, title: str, start: str, filters: str) -> pathlib.Path
 
 def _show_message(parent, title: str, text: str, error: bool) -> None:
     from PySide6.QtGui import QGuiApplication
-    from PySide6.QtWidgets import QMessageBox
+
+    from sketchpad.plain_text import inform, warn
 
     if QGuiApplication.platformName() in ("offscreen", "minimal"):
         (log.warning if error else log.info)("%s: %s", title, text)
         return
-    (QMessageBox.warning if error else QMessageBox.information)(parent, title, text)
+    (warn if error else inform)(parent, title, text)
 
 
 class ExportActions:
@@ -915,16 +897,21 @@ class ExportActions:
             self._say(f"Drawing saved to {path} without forces: {failure_sentence(doc.rig, drawing.result)}")
         return path
 
+    def pdf_path(self, path, title: str, suffix: str, filters: str = REPORT_FILTER) -> pathlib.Path | None:
+        """``path``, or the one the user picks (None if cancelled), ending in .pdf."""
+        path = path or self.ask_path(self.window, title, self._start(suffix), filters)
+        if not path:
+            return None
+        path = pathlib.Path(path)
+        return path if path.suffix.lower() == ".pdf" else path.with_name(path.name + ".pdf")
+
     def export_report(self, path: pathlib.Path | str | None = None) -> pathlib.Path | None:
         """Ask where (unless given) and write the PDF report; None if cancelled or failed."""
         from sketchpad.report import write_report
 
-        path = path or self.ask_path(self.window, "Export report", self._start("-report.pdf"), REPORT_FILTER)
-        if not path:
+        path = self.pdf_path(path, "Export report", "-report.pdf")
+        if path is None:
             return None
-        path = pathlib.Path(path)
-        if path.suffix.lower() != ".pdf":
-            path = path.with_name(path.name + ".pdf")
         doc = self.window.document
         try:
             report = write_report(doc.rig, path, rig_dir=self._rig_dir(),

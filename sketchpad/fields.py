@@ -5,19 +5,25 @@ message under itself naming the problem in words, keeps the keyboard focus and
 waits; Esc puts the model's value back.  A good entry emits ``committed`` with
 the SI value (newtons, metres, or the plain number), or None when the field is
 optional and was cleared.
+
+Numbers are read and shown with the decimal mark of the user's locale (QLocale);
+what a decimal-point and a decimal-comma reader would take a thousand times apart
+is refused in words (:func:`solver.units.plain_number`).  A field tied to a field
+of the rig format (``limit=("point", "capacity_N")``) refuses what the file could
+not hold, with the same limits the reader and writer use (:mod:`solver.limits`).
 """
 
 from __future__ import annotations
 
 import math
-import re
 from typing import Callable
 
-from PySide6.QtCore import QSignalBlocker, Qt, QTimer, Signal
+from PySide6.QtCore import QLocale, QSignalBlocker, Qt, QTimer, Signal
 from PySide6.QtGui import QFocusEvent, QKeyEvent
-from PySide6.QtWidgets import QLabel, QLineEdit, QPlainTextEdit, QSizePolicy, QVBoxLayout, QWidget
+from PySide6.QtWidgets import QLineEdit, QPlainTextEdit, QSizePolicy, QVBoxLayout, QWidget
 
-from solver import units
+from sketchpad.plain_text import plain_label
+from solver import limits, units
 from solver.errors import UnitError
 
 ERROR_STYLE = "color: #c62828;"  # red that reads on light and dark panel backgrounds
@@ -65,23 +71,24 @@ class CommitTextEdit(QPlainTextEdit):
                 self.setPlainText(text)
 
 
-def _parse_number(text: str, suffixes: tuple[str, ...], what: str) -> float:
+def decimal_mark() -> str:
+    """The decimal mark of the user's locale: "." or "," (anything else is read as ".")."""
+    mark = QLocale().decimalPoint()
+    return mark if mark in (".", ",") else "."
+
+
+def _parse_number(text: str, suffixes: tuple[str, ...], what: str, decimal: str = ".") -> float:
     """A plain number, optionally followed by one of ``suffixes`` (e.g. kg, °); UnitError in words."""
     raw = text.strip()
-    if re.search(r"\d,\d", raw) and "." not in raw:
-        raise UnitError(f"{raw!r}: use a point for decimals (e.g. 12.5), not a comma")
     cleaned = raw.replace("\u2212", "-")
     for s in sorted(suffixes, key=len, reverse=True):
         if s and cleaned.lower().endswith(s.lower()):
             cleaned = cleaned[: -len(s)].strip()
             break
     try:
-        value = float(cleaned)
-    except ValueError:
-        raise UnitError(f"{raw!r} is not a number") from None
-    if not math.isfinite(value):
-        raise UnitError(f"{raw!r} is not a finite number")
-    return value
+        return units.read_plain_number(cleaned, decimal, what)
+    except UnitError as exc:
+        raise UnitError(exc.message.replace(repr(cleaned), repr(raw))) from None
 
 
 class QuantityField(QWidget):
@@ -107,6 +114,7 @@ class QuantityField(QWidget):
         optional: bool = False,
         suffixes: tuple[str, ...] = (),
         placeholder: str = "",
+        limit: tuple[str, str] | None = None,
         parent: QWidget | None = None,
     ) -> None:
         super().__init__(parent)
@@ -118,10 +126,12 @@ class QuantityField(QWidget):
         self.maximum = maximum
         self.optional = optional
         self.suffixes = suffixes
+        #: (object, field) of the rig format whose limits this field keeps (solver.limits)
+        self.limit = limit
         self.edit = _CommitLineEdit(self)
         self.edit.setObjectName(f"field:{what}")
         self.edit.setPlaceholderText(placeholder or ("not set" if optional else ""))
-        self.error = QLabel(self)
+        self.error = plain_label(parent=self)
         self.error.setStyleSheet(ERROR_STYLE)
         self.error.setWordWrap(True)
         self.error.setVisible(False)
@@ -141,14 +151,15 @@ class QuantityField(QWidget):
     def format(self, value) -> str:
         if value is None:
             return ""
+        mark = decimal_mark()
         if self.kind == "force":  # the precision the plan, dock and reports show (an untouched field keeps the exact value)
-            return units.format_force(float(value), self.unit())
+            return units.format_force(float(value), self.unit()).replace(".", mark)
         if self.kind == "length":
-            return units.format_length(float(value), self.unit())
+            return units.format_length(float(value), self.unit()).replace(".", mark)
         if self.kind == "integer":
             return str(int(value))
         if self.kind == "number":
-            return f"{float(value):g}"
+            return f"{float(value):g}".replace(".", mark)
         return str(value)
 
     def set_value(self, value) -> None:
@@ -187,13 +198,18 @@ class QuantityField(QWidget):
                 return None
             raise UnitError(f"{self.what} cannot be empty")
         if self.kind == "text":
+            if self.limit is not None:
+                problem = limits.text_problem(*self.limit, raw)
+                if problem:
+                    raise UnitError(f"{self.what} {problem}")
             return raw
+        mark = decimal_mark()
         if self.kind == "force":
-            value = units.parse_force(raw, self.unit())
+            value = units.parse_force(raw, self.unit(), decimal=mark)
         elif self.kind == "length":
-            value = units.parse_length(raw, self.unit())
+            value = units.parse_length(raw, self.unit(), decimal=mark)
         else:
-            value = _parse_number(raw, self.suffixes, self.what)
+            value = _parse_number(raw, self.suffixes, self.what, mark)
             if self.kind == "integer":
                 if value != int(value):
                     raise UnitError(f"{self.what} must be a whole number (you typed {raw!r})")
@@ -212,6 +228,14 @@ class QuantityField(QWidget):
                 raise UnitError(f"{self.what} cannot be less than {bound} (you typed {raw!r})")
         if self.maximum is not None and value > self.maximum:
             raise UnitError(f"{self.what} cannot be more than {self._fmt_bound(self.maximum)} (you typed {raw!r})")
+        if self.limit is not None and self.kind != "text":
+            span = limits.number_range(*self.limit)
+            if value > span.high:
+                raise UnitError(f"{self.what} cannot be more than {self._fmt_bound(span.high)}, the most a rig "
+                                f"file holds (you typed {raw!r})")
+            if value < span.low or (span.low_open and value == span.low):
+                raise UnitError(f"{self.what} cannot be less than {self._fmt_bound(span.low)}, the least a rig "
+                                f"file holds (you typed {raw!r})")
 
     def _fmt_bound(self, v: float) -> str:
         if self.kind == "force":
@@ -256,11 +280,11 @@ class QuantityField(QWidget):
         return not self.error.isHidden()
 
 
-def _edit_number(v: float) -> str:
-    """A number for an editable field: five significant digits, no exponent, no trailing zeros."""
+def _edit_number(v: float, mark: str = ".") -> str:
+    """A number for an editable field: five significant digits, no exponent, no trailing zeros, no grouping."""
     if abs(v) >= 1e5:
         return f"{v:.0f}"
     text = f"{v:.5g}"
     if "e" in text:  # tiny values
         text = f"{v:.6f}".rstrip("0").rstrip(".")
-    return text
+    return text.replace(".", mark)

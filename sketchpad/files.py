@@ -7,7 +7,12 @@
 left exactly as it was.  While the sketch has unsaved changes a copy is written
 every few seconds to the user's data folder (``ROPEWRIGHT_DATA_DIR`` overrides
 it, for tests); the copy is removed on a clean save or close, so finding one at
-start means the last session ended without saving and recovery is offered.
+start means the last session ended without saving and recovery is offered.  Each
+running session holds a lock beside its copy that the kernel drops when the process
+ends (:mod:`sketchpad.run_lock`), so a copy whose lock is free was left by a run that
+is gone, whatever process now has its id.  A copy is deleted only when the user
+answered the recovery question.  When an autosave fails (a full disk, a rig that
+cannot be written) :attr:`FileController.protection` says so at once, in words.
 
 Every question to the user goes through a :class:`Dialogs` object so tests can
 answer them without a real modal dialog.
@@ -21,14 +26,19 @@ import json
 import logging
 import os
 import pathlib
+import stat
+import weakref
 from dataclasses import replace
 from typing import Callable
 
 import shiboken6
-from PySide6.QtCore import QEvent, QObject, QSettings, QStandardPaths, QTimer
+from PySide6.QtCore import QEvent, QObject, QSettings, QStandardPaths, QTimer, Signal
 from PySide6.QtGui import QAction, QGuiApplication, QKeySequence
 from PySide6.QtWidgets import QFileDialog, QMenu, QMessageBox, QWidget
 
+from sketchpad.picture_file import PictureFileError, read_picture_bytes
+from sketchpad.plain_text import message_box, tip
+from sketchpad.run_lock import RunLock, available as locks_available, is_held
 from solver.errors import RopewrightError
 from solver.model import Rig
 
@@ -101,8 +111,8 @@ def embed_image_file(rig: Rig, base_dir: pathlib.Path | None) -> Rig:
         return rig
     src = pathlib.Path(base_dir) / image.file
     try:
-        data = src.read_bytes()
-    except OSError as exc:
+        data = read_picture_bytes(src)
+    except PictureFileError as exc:
         log.warning("background image %s could not be read: %s", src, exc)
         return rig
     new_image = replace(image, file=None, data_base64=base64.b64encode(data).decode("ascii"))
@@ -127,15 +137,12 @@ class Dialogs:
         if _headless():
             log.info("no screen: unsaved changes to %s discarded without asking", name)
             return "discard"
-        box = QMessageBox(parent)
-        box.setIcon(QMessageBox.Icon.Warning)
-        box.setWindowTitle("Unsaved changes")
-        box.setText(f"“{name}” has changes that are not saved.")
-        box.setInformativeText("Save them before going on?")
-        box.setStandardButtons(
-            QMessageBox.StandardButton.Save | QMessageBox.StandardButton.Discard | QMessageBox.StandardButton.Cancel
+        box = message_box(
+            parent, QMessageBox.Icon.Warning, "Unsaved changes", f"“{name}” has changes that are not saved.",
+            "Save them before going on?",
+            QMessageBox.StandardButton.Save | QMessageBox.StandardButton.Discard | QMessageBox.StandardButton.Cancel,
+            QMessageBox.StandardButton.Save,
         )
-        box.setDefaultButton(QMessageBox.StandardButton.Save)
         answer = box.exec()
         return {
             QMessageBox.StandardButton.Save: "save",
@@ -163,25 +170,17 @@ class Dialogs:
         if _headless():
             log.info("%s: %s %s", title, text, detail)
             return
-        box = QMessageBox(parent)
-        box.setIcon(QMessageBox.Icon.Warning)
-        box.setWindowTitle(title)
-        box.setText(text)
-        if detail:
-            box.setInformativeText(detail)
-        box.exec()
+        message_box(parent, QMessageBox.Icon.Warning, title, text, detail).exec()
 
-    def ask_recover(self, parent: QWidget | None, description: str) -> bool:
+    def ask_recover(self, parent: QWidget | None, description: str) -> bool | None:
+        """True to recover, False when the user declined, None when nobody could be asked (no screen)."""
         if _headless():
-            return False
-        answer = QMessageBox.question(
-            parent,
-            "Recover unsaved work?",
-            description,
-            QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No,
-            QMessageBox.StandardButton.Yes,
-        )
-        return answer == QMessageBox.StandardButton.Yes
+            log.info("no screen: recovery not offered; the kept copy stays for the next start")
+            return None
+        box = message_box(parent, QMessageBox.Icon.Question, "Recover unsaved work?", description, "",
+                          QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No,
+                          QMessageBox.StandardButton.Yes)
+        return box.exec() == QMessageBox.StandardButton.Yes
 
 
 def describe_error(exc: BaseException) -> str:
@@ -204,7 +203,13 @@ def describe_error(exc: BaseException) -> str:
 
 # --- the controller --------------------------------------------------------------------
 class FileController(QObject):
-    """File menu behaviour for one main window and its document (see module docstring)."""
+    """File menu behaviour for one main window and its document (see module docstring).
+
+    ``protection`` is emitted with a sentence when crash protection (autosave) has stopped
+    and why, and with "" once an autosave works again.
+    """
+
+    protection = Signal(str)
 
     def __init__(
         self,
@@ -226,6 +231,8 @@ class FileController(QObject):
         self.on_loaded = on_loaded
         self._autosaved_revision: int | None = None
         self.autosave_path = self.autosave_dir / f"{AUTOSAVE_PREFIX}{os.getpid()}-{id(self):x}{RIG_SUFFIX}"
+        self._lock: RunLock | None = None
+        self.protection_problem = ""  # why autosave last failed, "" while it works
         self.recent_menu: QMenu | None = None
         self.samples_menu: QMenu | None = None
         self.actions: dict[str, QAction] = {}
@@ -233,12 +240,14 @@ class FileController(QObject):
 
         self.timer = QTimer(self)
         self.timer.setInterval(max(1, int(autosave_seconds * 1000)))
-        self.timer.timeout.connect(self.autosave_now)
+        # through a weak reference: a timer or document that outlives this controller's Python side (a window
+        # closed but not yet deleted) must find nothing to call rather than a slot that is gone
+        self.timer.timeout.connect(_weakly(self, "autosave_now"))
         self.timer.start()
 
-        document.undo_stack.cleanChanged.connect(self.update_title)
-        document.path_changed.connect(self.update_title)
-        document.changed.connect(self.update_title)
+        document.undo_stack.cleanChanged.connect(_weakly(self, "update_title"))
+        document.path_changed.connect(_weakly(self, "update_title"))
+        document.changed.connect(_weakly(self, "update_title"))
         window.installEventFilter(self)
         self.update_title()
 
@@ -270,7 +279,9 @@ class FileController(QObject):
 
     def _alive(self) -> bool:
         """False once Qt has deleted the window or document (signals can still arrive while tearing down)."""
-        return shiboken6.isValid(self.window) and shiboken6.isValid(self.document.undo_stack)
+        window, document = getattr(self, "window", None), getattr(self, "document", None)
+        return (window is not None and document is not None and shiboken6.isValid(window)
+                and shiboken6.isValid(document.undo_stack))
 
     # --- menu -------------------------------------------------------------------------
     def install_menu(self, menu: QMenu, before: QAction | None = None) -> None:
@@ -310,7 +321,7 @@ class FileController(QObject):
         recent = self.recent_files()
         for path in recent:
             act = self.recent_menu.addAction(display_name(path))
-            act.setToolTip(str(path))
+            act.setToolTip(tip(str(path)))
             act.setStatusTip(str(path))
             act.triggered.connect(lambda _c=False, p=path: self.open(p))
         if not recent:
@@ -428,7 +439,11 @@ class FileController(QObject):
         from solver import rigfile
 
         try:
-            return rigfile.load_rig(path)
+            _must_be_regular(path)  # reading a pipe or a device would hang the window
+            rig = rigfile.load_rig(path)
+            _must_be_drawable(rig, path)
+            rigfile.clean_stale_temps(rigfile.write_target(path).parent)
+            return rig
         except (RopewrightError, OSError, UnicodeError, ValueError) as exc:
             log.info("refused to open %s: %s", path, exc)
             self.dialogs.error(
@@ -492,6 +507,8 @@ class FileController(QObject):
             rig = embed_image_file(rig, self.document.path.parent)
         try:
             self.autosave_dir.mkdir(parents=True, exist_ok=True)
+            if self._lock is None:
+                self._lock = RunLock(self._lock_path(self.autosave_path))
             rigfile.save_rig(rig, self.autosave_path)
             meta = {
                 "original_path": str(self.document.path) if self.document.path else None,
@@ -501,9 +518,18 @@ class FileController(QObject):
             self._meta_path(self.autosave_path).write_text(json.dumps(meta), encoding="utf-8")
         except (RopewrightError, OSError, ValueError, TypeError) as exc:
             log.warning("autosave to %s failed: %s", self.autosave_path, exc)
+            self._set_protection(
+                "Crash protection has stopped: the automatic copy of this sketch could not be written ("
+                + describe_error(exc) + "). Save your work now (File ▸ Save as…) or undo the last edit.")
             return None
         self._autosaved_revision = self.document.revision
+        self._set_protection("")
         return self.autosave_path
+
+    def _set_protection(self, problem: str) -> None:
+        if problem != self.protection_problem:
+            self.protection_problem = problem
+            self.protection.emit(problem)
 
     def remove_autosave(self) -> None:
         for p in (self.autosave_path, self._meta_path(self.autosave_path)):
@@ -519,17 +545,32 @@ class FileController(QObject):
     def _meta_path(rig_path: pathlib.Path) -> pathlib.Path:
         return rig_path.with_name(rig_path.name[: -len(RIG_SUFFIX)] + ".meta.json")
 
+    @staticmethod
+    def _lock_path(rig_path: pathlib.Path) -> pathlib.Path:
+        return rig_path.with_name(rig_path.name[: -len(RIG_SUFFIX)] + ".lock")
+
+    def _owner_is_running(self, copy: pathlib.Path) -> bool:
+        """True while the session that wrote ``copy`` still runs (it holds the copy's lock)."""
+        lock = self._lock_path(copy)
+        if locks_available() and lock.exists():
+            return is_held(lock)
+        pid = _pid_of(copy)  # a copy from before locks: its process id is all there is
+        return pid is not None and pid != os.getpid() and _pid_alive(pid)
+
+    def release_lock(self) -> None:
+        """End of session: the lock beside our copy goes too."""
+        if self._lock is not None:
+            self._lock.release()
+            self._lock = None
+
     def leftover_autosaves(self) -> list[pathlib.Path]:
         """Autosaves left by sessions that did not close cleanly (newest first), not our own."""
         if not self.autosave_dir.is_dir():
             return []
         found = []
         for p in self.autosave_dir.glob(AUTOSAVE_PREFIX + "*" + RIG_SUFFIX):
-            if p == self.autosave_path:
-                continue
-            pid = _pid_of(p)
-            if pid is not None and pid != os.getpid() and _pid_alive(pid):
-                continue  # another Ropewright still running owns it
+            if p == self.autosave_path or self._owner_is_running(p):
+                continue  # ours, or another Ropewright still running owns it
             found.append(p)
         return sorted(found, key=lambda q: q.stat().st_mtime, reverse=True)
 
@@ -538,7 +579,8 @@ class FileController(QObject):
 
         The recovered sketch comes in as one undoable edit on top of its last
         saved version (or an empty sketch), so it shows as modified and a single
-        undo returns to what was on disk.  Leftover autosaves are removed either way.
+        undo returns to what was on disk.  Leftover copies are removed once the user
+        answered (recovered or declined); unasked (no screen) they stay for the next start.
         """
         leftovers = self.leftover_autosaves()
         if not leftovers:
@@ -558,10 +600,14 @@ class FileController(QObject):
             + ". Recover it?"
         )
         restored = False
-        if self.dialogs.ask_recover(self.window, description):
+        answer = self.dialogs.ask_recover(self.window, description)
+        if answer is None:
+            return False  # nobody was asked: keep every copy
+        if answer:
             from solver import rigfile
 
             try:
+                _must_be_regular(newest)
                 rig = rigfile.load_rig(newest)
             except (RopewrightError, OSError, UnicodeError, ValueError) as exc:
                 self.dialogs.error(self.window, "Cannot recover", "The kept copy could not be read.", describe_error(exc))
@@ -576,8 +622,10 @@ class FileController(QObject):
                 self.document.apply(rig, "Recover unsaved changes")
                 self.update_title()
                 restored = True
+        if answer and not restored:
+            return False  # the copy could not be read: it stays, for the user to look at
         for p in leftovers:
-            for q in (p, self._meta_path(p)):
+            for q in (p, self._meta_path(p), self._lock_path(p)):
                 try:
                     q.unlink()
                 except OSError:
@@ -588,13 +636,53 @@ class FileController(QObject):
 
     # --- closing ------------------------------------------------------------------------
     def eventFilter(self, obj, event) -> bool:  # noqa: N802 - Qt's name
-        if obj is self.window and event.type() == QEvent.Type.Close:
+        # a wrapper Qt made afresh for a controller whose Python side is gone has no attributes
+        if obj is getattr(self, "window", None) and event.type() == QEvent.Type.Close:
             if not self.maybe_save():
                 event.ignore()
                 return True
             self.timer.stop()
             self.remove_autosave()
+            self.release_lock()
         return False
+
+
+def _weakly(obj: QObject, method: str) -> Callable[..., None]:
+    """A callable for a signal that calls ``obj.method`` while ``obj``'s Python side lives, else does nothing."""
+    ref = weakref.ref(obj)
+
+    def call(*args) -> None:
+        target = ref()
+        if target is not None and hasattr(target, "document"):
+            getattr(target, method)(*args)
+
+    return call
+
+
+def _must_be_regular(path: pathlib.Path) -> None:
+    """RigFileError in words unless ``path`` is a regular file (checked without opening it, so never blocking)."""
+    from solver.errors import RigFileError
+
+    try:
+        mode = os.stat(path).st_mode
+    except FileNotFoundError:
+        raise RigFileError("there is no such file", where=str(path)) from None
+    except OSError as exc:
+        raise RigFileError(f"the file cannot be read ({exc.strerror or exc})", where=str(path)) from None
+    if stat.S_ISDIR(mode):
+        raise RigFileError("this is a folder, not a rig file", where=str(path))
+    if not stat.S_ISREG(mode):
+        raise RigFileError("this is a pipe, device or socket, not a rig file", where=str(path))
+
+
+def _must_be_drawable(rig: Rig, path: pathlib.Path) -> None:
+    """RigFileError in words for a rig too big for the window to draw in reasonable time (solver.limits)."""
+    from solver import limits
+    from solver.errors import RigFileError
+
+    problem = limits.drawing_problem(len(rig.points), len(rig.ropes))
+    if problem:
+        raise RigFileError(problem, where=str(path))
 
 
 def _sentence(text: str) -> str:

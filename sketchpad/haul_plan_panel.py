@@ -19,7 +19,6 @@ from PySide6.QtWidgets import (
     QFormLayout,
     QHBoxLayout,
     QHeaderView,
-    QLabel,
     QProgressBar,
     QPushButton,
     QSizePolicy,
@@ -34,6 +33,7 @@ from sketchpad import theme
 from sketchpad.fields import QuantityField
 from sketchpad.haul_ghost import HaulGhost
 from sketchpad.haul_plot import paint_haul_plot, plot_key
+from sketchpad.plain_text import plain_label
 from solver import units
 from solver.cautions import caution_lines
 from solver.haul_plan import plan_haul
@@ -75,9 +75,9 @@ class HaulPlanPanel(QWidget):
         self.plan: HaulPlan | None = None
         self.planned_rig: Rig | None = None
         unit = lambda: self.document.rig.display.length  # noqa: E731
-        self.travel = QuantityField("travel", "length", unit=unit, minimum=0.0, strict=True)
-        self.throw = QuantityField("throw", "length", unit=unit, minimum=0.0, strict=True)
-        self.spacing = QuantityField("spacing", "length", unit=unit, minimum=0.0, strict=True)
+        self.travel = QuantityField("travel", "length", unit=unit, minimum=0.0, strict=True, limit=("point", "x"))
+        self.throw = QuantityField("throw", "length", unit=unit, minimum=0.0, strict=True, limit=("point", "x"))
+        self.spacing = QuantityField("spacing", "length", unit=unit, minimum=0.0, strict=True, limit=("point", "x"))
         self.travel.setToolTip("How far the load must come")
         self.throw.setToolTip("Rope the team takes in per stroke before they must reset")
         self.spacing.setToolTip("Closest a travelling pulley may come to the next before the team resets")
@@ -93,9 +93,9 @@ class HaulPlanPanel(QWidget):
         self.progress.setRange(0, 100)
         self.progress.setFormat("planning the haul … %p %")
         self.progress.setVisible(False)
-        self.status = QLabel("")
+        self.status = plain_label("")
         self.status.setWordWrap(True)
-        self.summary = QLabel("")
+        self.summary = plain_label("")
         self.summary.setWordWrap(True)
         self.summary.setTextInteractionFlags(Qt.TextSelectableByMouse)
         self.summary.setMinimumWidth(260)
@@ -103,7 +103,7 @@ class HaulPlanPanel(QWidget):
         self.slider.setEnabled(False)
         self.slider.setToolTip("Drag through the haul: the rig is shown at that step over the drawing")
         self.slider.valueChanged.connect(self.show_frame)
-        self.step_label = QLabel("")
+        self.step_label = plain_label("")
         self.table = QTableWidget(0, len(HEADER))
         self.table.setHorizontalHeaderLabels([h.replace(" ", "\n", 1) for h in HEADER])  # two lines: narrower
         self.table.verticalHeader().setVisible(False)
@@ -112,7 +112,7 @@ class HaulPlanPanel(QWidget):
         self.table.setMinimumHeight(110)
         self.table.setMinimumWidth(320)
         self.plot = HaulPlotWidget()
-        caution = QLabel(" ".join(caution_lines()))
+        caution = plain_label(" ".join(caution_lines()))
         caution.setWordWrap(True)
         caution.setStyleSheet(theme.HAUL_CAUTION_STYLE)
         left = QVBoxLayout()

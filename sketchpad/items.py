@@ -35,6 +35,8 @@ from PySide6.QtWidgets import QGraphicsItem, QGraphicsSimpleTextItem, QStyleOpti
 from sketchpad import theme
 from sketchpad.drag_layer import Tracked, Versioned
 from sketchpad.geometry import to_scene
+from sketchpad.plain_text import tip as plain_tip
+from sketchpad.short_text import drawn
 from solver.model import Feature, Force, Point, Rope
 
 log = logging.getLogger(__name__)
@@ -103,15 +105,13 @@ def _arc_xy(cx: float, cy: float, r: float, a: tuple, b: tuple, inside: tuple, s
 
 
 # --- cached text and glyph rendering ----------------------------------------------------------
-# Stroking a text outline costs ~0.1 ms per label, and a 50-rope rig has 150 labels on screen, so
-# labels and point markers are rendered once into small pixmaps (keyed by what they show and by the
-# quarter-pixel phase they land on) and blitted on every repaint.  Only screen-like raster painting
-# at pixel scale uses the pixmaps; SVG/PDF exports and scaled renders draw the same shapes as vectors.
+# A haloed label is nine text draws, and a 50-rope rig has 150 labels on screen, so labels and point
+# markers are rendered once into small pixmaps (keyed by what they show and by the quarter-pixel phase
+# they land on) and blitted on every repaint.  Only screen-like raster painting at pixel scale uses the
+# pixmaps; SVG/PDF exports and scaled renders draw the same text as vectors.
 HALO_WIDTH_PX = 3.0
 PHASES = 4  # sub-pixel positions per pixel a cached pixmap is rendered for (keeps markers centred)
 CACHE_MAX = 4000  # cached paths/pixmaps kept before the caches are cleared
-_HALO_PEN = QPen(theme.LABEL_HALO, HALO_WIDTH_PX, Qt.SolidLine, Qt.RoundCap, Qt.RoundJoin)
-_text_paths: dict[tuple, QPainterPath] = {}
 _pixmaps: dict[tuple, tuple[QPixmap, float, float]] = {}
 _metrics: dict[str, QFontMetricsF] = {}
 _font_keys: dict[int, tuple[object, str]] = {}
@@ -156,25 +156,23 @@ def text_advance(text: str, font) -> float:
     return w
 
 
-def text_path(text: str, font) -> QPainterPath:
-    """The outline of ``text`` in ``font`` with its baseline origin at (0, 0), built once per (text, font)."""
-    key = (text, font_key(font))
-    path = _text_paths.get(key)
-    if path is None:
-        if len(_text_paths) > CACHE_MAX:
-            _text_paths.clear()
-        path = _text_paths[key] = QPainterPath()
-        path.addText(QPointF(0.0, 0.0), font, text)
-    return path
+def _paint_halo_text(painter: QPainter, text: str, font, colour: QColor) -> None:
+    """The halo as the text drawn in paper colour around itself (8 offsets of half the halo width), then the text.
+
+    Stroking each label's glyph outline with a wide pen cost far more than the labels' number: a PDF
+    clips the stroke as a path (900 labels of 48 characters took 8 s) and a screen pixmap of a long
+    label took 3 ms; text stays text (linear, small, selectable in a PDF).
+    """
+    painter.setFont(font)
+    painter.setPen(theme.LABEL_HALO)
+    for dx, dy in _HALO_OFFSETS:
+        painter.drawText(QPointF(dx, dy), text)
+    painter.setPen(colour)
+    painter.drawText(QPointF(0.0, 0.0), text)
 
 
-def _paint_halo_path(painter: QPainter, path: QPainterPath, colour: QColor) -> None:
-    painter.setPen(_HALO_PEN)
-    painter.setBrush(Qt.NoBrush)
-    painter.drawPath(path)
-    painter.setPen(Qt.NoPen)
-    painter.setBrush(colour)
-    painter.drawPath(path)
+_HALO_OFFSETS = tuple((0.5 * HALO_WIDTH_PX * math.cos(k * math.pi / 4), 0.5 * HALO_WIDTH_PX * math.sin(k * math.pi / 4))
+                      for k in range(8))
 
 
 def pixel_dpr(painter: QPainter, scale: float = 1.0) -> float | None:
@@ -255,20 +253,20 @@ def _draw_halo_text(painter: QPainter, pos: QPointF, text: str, colour: QColor, 
     items in metres that scale the painter to pixels themselves); ``dpr`` is :func:`pixel_dpr`'s
     answer when the caller already has it.
     """
-    path = text_path(text, font)
     if dpr == _NO_DPR:
         dpr = pixel_dpr(painter, scale)
-    if dpr is None:
+    if dpr is None:  # vectors (PDF, SVG, scaled renders): drawn as text each time
         painter.save()
         painter.translate(pos)
         if scale != 1.0:
             painter.scale(scale, scale)
-        _paint_halo_path(painter, path, colour)
+        _paint_halo_text(painter, text, font, colour)
         painter.restore()
         return
     m = HALO_WIDTH_PX
     blit_cached(painter, pos, dpr, ("halo", text, font_key(font), colour.rgba()),
-                path.boundingRect().adjusted(-m, -m, m, m), lambda p: _paint_halo_path(p, path, colour))
+                font_metrics(font).boundingRect(text).adjusted(-m, -m, m, m),
+                lambda p: _paint_halo_text(p, text, font, colour))
 
 
 def _drawn_differs(a: Point, b: Point) -> bool:
@@ -315,7 +313,7 @@ class PointItem(SketchItem):
         """Show ``point``: move to its position and relabel if needed (a move alone repaints nothing else)."""
         old = self.point
         self.point = point
-        label = point.name
+        label = drawn(point.name)
         if label != self._label:
             self.prepareGeometryChange()
             self._label = label
@@ -333,7 +331,7 @@ class PointItem(SketchItem):
         tip = f"{point.name} ({point.kind})"
         if tip != self._tip:
             self._tip = tip
-            self.setToolTip(tip)
+            self.setToolTip(plain_tip(tip))
         if moved or (old is not point and _drawn_differs(old, point)):
             self.update()  # also renews a device-coordinate cache drawn at the old sub-pixel offset
 
@@ -495,7 +493,7 @@ class RopeItem(SketchItem):
         tip = f"{rope.name} ({rope.material})"
         if tip != self._tip:
             self._tip = tip
-            self.setToolTip(tip)
+            self.setToolTip(plain_tip(tip))
         self.update()
 
     def pen(self, colour: QColor, width: float) -> QPen:
@@ -575,7 +573,7 @@ class RopeItem(SketchItem):
                 g = h * 0.2
                 self._arrow = QPolygonF([QPointF(tx + dx * g, ty + dy * g), QPointF(bx + sx, by + sy), QPointF(bx - sx, by - sy)])
         self._path = path
-        self._label = self.rope.name
+        self._label = drawn(self.rope.name)
         _, a, b2 = longest
         mx, my = (a[0] + b2[0]) * 0.5, (a[1] + b2[1]) * 0.5
         ux, uy = _unit_xy(b2[0] - a[0], b2[1] - a[1])
@@ -778,7 +776,7 @@ class FeatureItem(SketchItem):
                 for c in coords[1:]:
                     path.lineTo(c)
         self._path = path
-        self._label.setText(feature.label)
+        self._label.setText(drawn(feature.label))
         self._label.setBrush(theme.FEATURE_LABEL.get(feature.kind, theme.LABEL_TEXT))
         self._label.setFont(theme.font(theme.SMALL_POINT_SIZE, italic=True))
         if coords:
@@ -788,7 +786,7 @@ class FeatureItem(SketchItem):
             else:  # just below the line's middle vertex
                 self._label.setPos(coords[len(coords) // 2])
                 self._label.setTransform(QTransform.fromTranslate(0, 2))
-        self.setToolTip(f"{feature.label or feature.id} ({feature.kind})")
+        self.setToolTip(plain_tip(f"{feature.label or feature.id} ({feature.kind})"))
         self.update()
 
     def boundingRect(self) -> QRectF:  # noqa: N802

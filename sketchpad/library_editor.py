@@ -41,7 +41,8 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from sketchpad.fields import ERROR_STYLE, QuantityField
+from sketchpad.fields import ERROR_STYLE, QuantityField, decimal_mark
+from sketchpad.plain_text import plain_label, tip
 from solver import units
 from solver.errors import RigFileError, RopewrightError, UnitError
 from solver.materials import (
@@ -121,11 +122,11 @@ class _SpecForm(QWidget):
         super().__init__(parent)
         self.force_unit = force_unit
         self.form = QFormLayout(self)
-        self.id_field = QuantityField("id", "text")
+        self.id_field = QuantityField("id", "text", limit=("material", "id"))
         self.kind = QComboBox()
         self.kind.addItems(list(self.kinds))
-        self.label = QuantityField("label", "text", optional=True)
-        self.source = QuantityField("source", "text", optional=True)
+        self.label = QuantityField("label", "text", optional=True, limit=("material", "label"))
+        self.source = QuantityField("source", "text", optional=True, limit=("material", "source"))
         self.form.addRow("Id", self.id_field)
         self.form.addRow("Kind", self.kind)
         self.form.addRow("Label", self.label)
@@ -156,14 +157,15 @@ class MaterialForm(_SpecForm):
 
     def __init__(self, force_unit, parent: QWidget | None = None) -> None:
         super().__init__(force_unit, parent)
-        self.diameter = QuantityField("diameter", "number", optional=True, minimum=0.0, strict=True, suffixes=("mm",))
-        self.mbs = QuantityField("MBS", "force", unit=force_unit, minimum=0.0, strict=True)
+        self.diameter = QuantityField("diameter", "number", optional=True, minimum=0.0, strict=True, suffixes=("mm",),
+                                      limit=("material", "diameter_mm"))
+        self.mbs = QuantityField("MBS", "force", unit=force_unit, minimum=0.0, strict=True, limit=("material", "mbs_N"))
         self.table = QTableWidget(0, 2)
         self.table.setObjectName("stretch_table")
         self.table.horizontalHeader().setSectionResizeMode(QHeaderView.Stretch)
         self.table.setSelectionBehavior(QAbstractItemView.SelectRows)
         self.table.setMinimumHeight(220)
-        self.table_error = QLabel()
+        self.table_error = plain_label()
         self.table_error.setObjectName("stretch_error")
         self.table_error.setStyleSheet(ERROR_STYLE)
         self.table_error.setWordWrap(True)
@@ -208,8 +210,9 @@ class MaterialForm(_SpecForm):
         self.table.setRowCount(len(m.stretch))
         unit = self.force_unit()
         self._shown = {}
+        mark = decimal_mark()
         for i, (t, e) in enumerate(m.stretch):
-            texts = (f"{units.force_to(t, unit):.6g}", f"{100.0 * e:.6g}")
+            texts = (f"{units.force_to(t, unit):.6g}".replace(".", mark), f"{100.0 * e:.6g}".replace(".", mark))
             for c, (text, value) in enumerate(zip(texts, (t, e))):
                 self.table.setItem(i, c, QTableWidgetItem(text))
                 self._shown[(c, text)] = value  # an untouched cell gives back the exact stored value
@@ -238,6 +241,7 @@ class MaterialForm(_SpecForm):
     def stretch(self) -> tuple[tuple[float, float], ...]:
         """The table as (tension N, strain fraction) points; UnitError naming the row if a cell cannot be read."""
         unit = self.force_unit()
+        mark = decimal_mark()
         points = []
         for r in range(self.table.rowCount()):
             cells = [self.table.item(r, c) for c in (0, 1)]
@@ -247,12 +251,15 @@ class MaterialForm(_SpecForm):
             if not all(texts):
                 raise UnitError(f"Stretch table row {r + 1}: type both the tension and the strain", str(r))
             try:
-                t = self._shown.get((0, texts[0])) or units.parse_force(texts[0], unit)
+                t = self._shown.get((0, texts[0])) or units.parse_force(texts[0], unit, decimal=mark)
             except UnitError as exc:
                 raise UnitError(f"Stretch table row {r + 1}: {exc.message}", str(r)) from None
             try:
                 # Decimal: "0.65" % is exactly the float nearest 0.0065, not 0.65 / 100
-                e = self._shown.get((1, texts[1])) or float(Decimal(texts[1].rstrip("%").strip()) / 100)
+                e = self._shown.get((1, texts[1])) or float(
+                    Decimal(units.plain_number(texts[1].rstrip("%").strip(), texts[1], mark)) / 100)
+            except UnitError as exc:
+                raise UnitError(f"Stretch table row {r + 1}: strain {exc.message}", str(r)) from None
             except (InvalidOperation, ValueError):
                 raise UnitError(f"Stretch table row {r + 1}: strain {texts[1]!r} is not a number of %", str(r)) from None
             if not math.isfinite(e):
@@ -346,13 +353,16 @@ class HardwareForm(_SpecForm):
     def __init__(self, force_unit, parent: QWidget | None = None) -> None:
         super().__init__(force_unit, parent)
         self.efficiency = QuantityField("efficiency", "number", optional=True, minimum=0.0, strict=True, maximum=1.0,
-                                        placeholder="pulley, carabiner, ring: e.g. 0.9")
+                                        placeholder="pulley, carabiner, ring: e.g. 0.9", limit=("hardware", "efficiency"))
         self.friction = QuantityField("friction coefficient", "number", optional=True, minimum=0.0,
-                                      placeholder="edge: e.g. 0.44 for concrete")
-        self.mbs = QuantityField("MBS", "force", unit=force_unit, optional=True, minimum=0.0, strict=True)
-        self.size = QuantityField("size", "length", unit=lambda: "m", optional=True, minimum=0.0)
+                                      placeholder="edge: e.g. 0.44 for concrete",
+                                      limit=("hardware", "friction_coefficient"))
+        self.mbs = QuantityField("MBS", "force", unit=force_unit, optional=True, minimum=0.0, strict=True,
+                                 limit=("hardware", "mbs_N"))
+        self.size = QuantityField("size", "length", unit=lambda: "m", optional=True, minimum=0.0,
+                                  limit=("hardware", "size_m"))
         self.slip = QuantityField("slip force", "force", unit=force_unit, optional=True, minimum=0.0, strict=True,
-                                  placeholder="rope grab: where it starts to slide, e.g. 7 kN")
+                                  placeholder="rope grab: where it starts to slide, e.g. 7 kN", limit=("hardware", "slip_N"))
         self.form.addRow("Efficiency (0–1)", self.efficiency)
         self.form.addRow("Friction coefficient", self.friction)
         self.form.addRow("MBS", self.mbs)
@@ -432,10 +442,10 @@ class LibraryEditor(QDialog):
         self.stack = QStackedWidget()
         for w in (self.empty, self.material_form, self.hardware_form):
             self.stack.addWidget(w)
-        self.where = QLabel()
+        self.where = plain_label()
         self.where.setObjectName("spec_where")
         self.where.setWordWrap(True)
-        self.message = QLabel()
+        self.message = plain_label()
         self.message.setObjectName("library_message")
         self.message.setWordWrap(True)
         self.embed_button = QPushButton("Embed in rig")
@@ -500,7 +510,7 @@ class LibraryEditor(QDialog):
                     used = users_of(rig, kind, spec.id)
                     what = spec.kind + (f", used by {len(used)}" if used else "")
                     item = QTreeWidgetItem([spec.id, what])
-                    item.setToolTip(0, spec.label)
+                    item.setToolTip(0, tip(spec.label))
                     item.setData(0, Qt.UserRole, (group, kind, spec.id))
                     top.addChild(item)
             top.setExpanded(True)

@@ -31,8 +31,9 @@ from PySide6.QtWidgets import (
 )
 
 from sketchpad import theme
-from sketchpad.fields import ERROR_STYLE, QuantityField
-from solver import units
+from sketchpad.fields import ERROR_STYLE, QuantityField, decimal_mark
+from sketchpad.plain_text import plain_label
+from solver import limits, units
 from solver.errors import RopewrightError, UnitError
 from solver.hauling import DEFAULT_PER_PERSON_N
 from solver.loads import DRAG_SHAPES, EXTRA_KEY, LoadEstimate, apply_load_estimate
@@ -64,10 +65,10 @@ class UnitNumberField(QuantityField):
         if value is None:
             return ""
         v = float(value) / self.table[self.unit()]
-        return f"{v:.4g} {self.unit()}"
+        return f"{v:.4g}".replace(".", decimal_mark()) + f" {self.unit()}"
 
     def parse(self, text: str):
-        value = units.parse_in_table(text, self.unit(), self.table, self.aliases, self.what)
+        value = units.parse_in_table(text, self.unit(), self.table, self.aliases, self.what, decimal_mark())
         self._check_bounds(value, text.strip())
         return value
 
@@ -120,18 +121,18 @@ class LoadEstimateDialog(QDialog):
         self.factor = QuantityField("extra factor", "number", minimum=0.0, strict=True)
         self.factor.set_value(1.0)
         self.per_person = QuantityField("force per hauler", "force", unit=lambda: self.document.rig.display.force,
-                                        minimum=0.0, strict=True)
+                                        minimum=0.0, strict=True, limit=("point", "force_per_person_N"))
         self.per_person.set_value(self._default_per_person())
-        self.force_label = QLabel("—")
+        self.force_label = plain_label("—")
         self.force_label.setObjectName("force_label")
         self.force_label.setFont(theme.font(theme.LABEL_POINT_SIZE + 5, bold=True))
-        self.assumptions = QLabel()
+        self.assumptions = plain_label()
         self.assumptions.setObjectName("assumptions")
         self.assumptions.setWordWrap(True)
-        self.haulers = QLabel()
+        self.haulers = plain_label()
         self.haulers.setObjectName("haulers_label")
         self.haulers.setWordWrap(True)
-        self.error = QLabel()
+        self.error = plain_label()
         self.error.setObjectName("estimate_error")
         self.error.setStyleSheet(ERROR_STYLE)
         self.error.setWordWrap(True)
@@ -333,6 +334,11 @@ class LoadEstimateDialog(QDialog):
         est = self.estimate()
         if bad or est is None:
             self.error.setText("Fix the field marked in red first; nothing was changed.")
+            return False
+        problem = limits.number_range("point", "required_N").problem(est.force_N)
+        if problem:  # the rig file could not hold it: say so instead of making the rig unsaveable
+            self.error.setText(f"The estimated force {units.format_force(est.force_N, self.force_unit)} {problem} "
+                               "newtons a rig file holds; check the speed and the area. Nothing was changed.")
             return False
         try:
             new = apply_load_estimate(self.document.rig, pid, est)

@@ -20,17 +20,19 @@ from PySide6.QtWidgets import (
     QDockWidget,
     QLabel,
     QMainWindow,
-    QMessageBox,
     QToolBar,
     QUndoView,
     QWidget,
 )
 
+from sketchpad import theme
 from sketchpad.canvas import SketchScene, SketchView
 from sketchpad.document import Document
 from sketchpad.items import fmt_length
+from sketchpad.plain_text import inform, plain_label, warn
 from sketchpad.tools import delete_keys, make_tools, set_display
-from solver.errors import RopewrightError
+from solver import limits
+from solver.errors import RigFileError, RopewrightError
 from solver.model import FEATURE_KINDS, MIDDLE_HOWS, Rig
 
 log = logging.getLogger(__name__)
@@ -141,6 +143,9 @@ class MainWindow(QMainWindow):
         from sketchpad.whatif_panel import install_what_if
 
         self.what_if = install_what_if(self)  # What if: the failure scan dock and its ghost (issue 19)
+        from sketchpad.pages.app_ui import install_pages
+
+        self.pages = install_pages(self)  # print frame, schematic, rope lengths, roles, briefing, manual (issue 21)
         from sketchpad.hint_bar import install_hints
 
         self.hints = install_hints(self)  # what the sketch still needs and the tool's hint, over the canvas
@@ -299,7 +304,7 @@ class MainWindow(QMainWindow):
         return dock
 
     def _build_status(self) -> None:
-        self.cursor_label = QLabel("")
+        self.cursor_label = plain_label("")
         self.cursor_label.setMinimumWidth(220)
         self.statusBar().addPermanentWidget(self.cursor_label)
 
@@ -315,6 +320,14 @@ class MainWindow(QMainWindow):
 
         self.files = FileController(self, self.document, on_loaded=lambda _rig: self.view.zoom_to_fit())
         self.files.install_menu(self.menu_file, before=self.action_quit)
+        self.protection_label = plain_label("")
+        self.protection_label.setObjectName("crash_protection_stopped")
+        self.protection_label.setWordWrap(True)
+        self.protection_label.setStyleSheet(f"QLabel {{ background: {theme.BANNER_BACK.name()}; "
+                                            f"color: {theme.BANNER_TEXT.name()}; padding: 3px 8px; }}")
+        self.protection_label.hide()
+        self.statusBar().insertWidget(0, self.protection_label, 1)
+        self.files.protection.connect(self._show_protection)
         self.background = BackgroundController(self.document, self.view, self, say)
         self.background.install_menus(self.menu_insert, self.menu_tools)
         self.properties_dock = PropertiesDock(self.document, self)
@@ -324,6 +337,11 @@ class MainWindow(QMainWindow):
         self.properties_dock.follow_scene(self.canvas)
         self.properties_dock.panel.rig_page.add_section("Background picture", self.background.make_panel())
         self.caution_label = install_caution(self, self.menu_help)
+
+    def _show_protection(self, problem: str) -> None:
+        """Crash protection stopped (``problem`` says why) or works again (""): shown at once, in red."""
+        self.protection_label.setText(problem)
+        self.protection_label.setVisible(bool(problem))
 
     # --- behaviour --------------------------------------------------------------------------
     def set_tool(self, name: str) -> None:
@@ -420,10 +438,13 @@ class MainWindow(QMainWindow):
             from solver.rigfile import load_rig
 
             rig = load_rig(pathlib.Path(path))
+            problem = limits.drawing_problem(len(rig.points), len(rig.ropes))
+            if problem:
+                raise RigFileError(problem, where=str(path))
         except (RopewrightError, OSError) as exc:
             log.warning("could not open %s: %s", path, exc)
             if show_errors:
-                QMessageBox.warning(self, APP_NAME, f"Could not open {path}:\n{exc}")
+                warn(self, APP_NAME, f"Could not open {path}:\n{exc}")
             return False
         self.document.replace_all(rig, pathlib.Path(path))
         self.view.zoom_to_fit()
@@ -436,7 +457,7 @@ class MainWindow(QMainWindow):
             self.view.zoom_to_fit()
 
     def show_drawing_help(self) -> None:
-        QMessageBox.information(
+        inform(
             self,
             f"{APP_NAME}: drawing keys",
             "Tools: V select, A anchor, L load, H haul team, J free point, P person, R rope, F force, "

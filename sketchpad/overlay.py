@@ -55,6 +55,7 @@ from sketchpad import legend_key, theme
 from sketchpad.drag_layer import Versioned
 from sketchpad.items import blit_cached, cached_blit_at, drop_oldest, pixel_dpr, text_advance
 from sketchpad.retained import RetainedLayer, add_damage
+from sketchpad.short_text import drawn
 from solver.directions import direction_text
 from solver.model import Rig
 from solver.readouts import ma_short, use_text
@@ -513,7 +514,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
             rad = math.radians(a.direction_deg)
             d = (math.cos(rad), -math.sin(rad))  # site CCW-from-east -> scene (y down)
             colour = theme.utilization_colour(a.utilization)
-            lines = [f"{p.name} {format_force(a.force_N, unit)}", "toward " + direction_text(a.direction_deg, rig.view, a.force_N)]
+            lines = [f"{drawn(p.name)} {format_force(a.force_N, unit)}", "toward " + direction_text(a.direction_deg, rig.view, a.force_N)]
             if a.utilization is not None:
                 lines.append(use_text(a, sf))
             else:
@@ -549,7 +550,7 @@ def build_labels(rig: Rig, result: Result, layers: Iterable[str], memo: dict | N
                 return (lid,), mkey, hit[0], None
             rad = math.radians(f.direction_deg)
             d = (math.cos(rad), -math.sin(rad))
-            lines = [f"to {p.name} {format_force(f.force_N, unit)}", "toward " + direction_text(f.direction_deg, rig.view, f.force_N)]
+            lines = [f"to {drawn(p.name)} {format_force(f.force_N, unit)}", "toward " + direction_text(f.direction_deg, rig.view, f.force_N)]
             values = {"force_N": f.force_N, "direction_deg": f.direction_deg}
             colour = QColor(theme.UTIL_RAMP[0][1])
             if p.required_N is not None:
@@ -2270,6 +2271,10 @@ class ResultOverlay(QObject):
         self.scene.addItem(self.zones_item)
         self.force_item = ForceItem()
         self.scene.add_overlay_item(self.force_item)
+        from sketchpad.water_layer import WaterItem
+
+        self.water_item = WaterItem()  # the current's arrows and the ropes it bows
+        self.scene.addItem(self.water_item)
         self.banner = Banner(view.viewport())
         self.legend = Legend(view.viewport())
         view.foreground_painters.append(self.legend.paint_on)
@@ -2341,6 +2346,7 @@ class ResultOverlay(QObject):
         if not result.ok and result.subject and rig.has_point(result.subject):
             fail_point = _scene(rig.point(result.subject).xy)
         self.force_item.fail_point = fail_point
+        self.water_item.show(rig, self.result)
         self.rebuild()
 
     def set_layer(self, name: str, on: bool) -> None:
@@ -2493,7 +2499,7 @@ class ResultOverlay(QObject):
         if box is None:
             fm = self._name_fm
             r = theme.POINT_RADIUS_PX.get(p.kind, 5.0)
-            box = self._name_box_cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(p.name),
+            box = self._name_box_cache[key] = (r + theme.LABEL_GAP_PX, -r - fm.ascent(), fm.horizontalAdvance(drawn(p.name)),
                                                fm.height())
         return (_scene(p.xy), box)
 

@@ -24,6 +24,7 @@ from PySide6.QtGui import QAction, QKeyEvent
 from PySide6.QtWidgets import QLabel, QMenu, QWidget, QWidgetAction
 
 from sketchpad import theme
+from sketchpad.plain_text import bold, rich_label
 
 log = logging.getLogger(__name__)
 
@@ -83,7 +84,7 @@ class PassMenu(QMenu):
         self._emitted = False
         self.choice_actions: dict[str, QAction] = {}
         self.setFont(theme.font(theme.LABEL_POINT_SIZE + 1))
-        title = QLabel(f"Rope at <b>{request.point_name}</b>: how does it pass?")
+        title = rich_label(f"Rope at {bold(request.point_name)}: how does it pass?")
         title.setContentsMargins(10, 6, 10, 4)
         title.setStyleSheet("QLabel:disabled { color: palette(window-text); }")  # a heading, not a greyed item
         header = QWidgetAction(self)

@@ -31,8 +31,9 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from sketchpad.fields import CommitTextEdit, QuantityField
-from solver import units
+from sketchpad.fields import ERROR_STYLE, CommitTextEdit, QuantityField
+from sketchpad.plain_text import bold, escaped, plain_label, rich_label
+from solver import limits, units
 from solver.capacity import CAPACITY_KINDS, KIND_WORDS
 from solver.directions import bearing_deg, direction_from_bearing, direction_text
 from solver.weak_links import TERMINATIONS
@@ -147,9 +148,7 @@ def _set_combo(box: QComboBox, data) -> None:
 
 
 def _heading(text: str) -> QLabel:
-    lab = QLabel(f"<b>{text}</b>")
-    lab.setTextFormat(Qt.TextFormat.RichText)
-    return lab
+    return rich_label(bold(text))
 
 
 class _Page(QWidget):
@@ -179,8 +178,8 @@ class _Page(QWidget):
     def apply(self, new_rig: Rig, text: str, merge_key: str | None = None) -> None:
         self.panel.document.apply(new_rig, text, merge_key=merge_key)
 
-    def text_field(self, what: str, optional: bool = True) -> QuantityField:
-        return QuantityField(what, "text", optional=optional)
+    def text_field(self, what: str, optional: bool = True, limit: tuple[str, str] | None = None) -> QuantityField:
+        return QuantityField(what, "text", optional=optional, limit=limit)
 
     def force_field(self, what: str, **kw) -> QuantityField:
         return QuantityField(what, "force", unit=self.force_unit, **kw)
@@ -199,24 +198,27 @@ class PointPage(_Page):
         self.point_id: str | None = None
         self.header = _heading("Point")
         self.form.addRow(self.header)
-        self.label = self.text_field("label")
+        self.label = self.text_field("label", limit=("point", "label"))
         self.kind = _combo([(POINT_KIND_NAMES[k], k) for k in POINT_KINDS])
-        self.x = self.length_field("east (x)")
-        self.y = self.length_field("north (y)")
+        self.x = self.length_field("east (x)", limit=("point", "x"))
+        self.y = self.length_field("north (y)", limit=("point", "y"))
         self.fixed = QCheckBox("Held still (fixed)")
         self.anchor_type = _combo([(NONE_TEXT, None)] + [(ANCHOR_TYPE_NAMES[t], t) for t in ANCHOR_TYPES])
-        self.capacity = self.force_field("capacity", minimum=0, strict=True, optional=True)
+        self.capacity = self.force_field("capacity", minimum=0, strict=True, optional=True, limit=("point", "capacity_N"))
         self.capacity_kind = _combo([(f"{KIND_WORDS[k]} ({'÷ safety factor' if k == 'strength' else 'no factor'})", k)
                                      for k in CAPACITY_KINDS])
         self.capacity_kind.setToolTip("Breaking strength: the margin divides it by the rig's safety factor. "
                                       "Rated working load: already has its factor; warned only above it.")
-        self.required = self.force_field("force needed", minimum=0, strict=True, optional=True)
-        self.team = QuantityField("team size", "integer", minimum=1, optional=True)
-        self.per_person = self.force_field("pull per person", minimum=0, strict=True, optional=True)
-        self.total = self.force_field("total pull", minimum=0, strict=True, optional=True)
-        self.haul_hint = QLabel()
+        self.required = self.force_field("force needed", minimum=0, strict=True, optional=True,
+                                         limit=("point", "required_N"))
+        self.team = QuantityField("team size", "integer", minimum=1, optional=True, limit=("point", "team"))
+        self.per_person = self.force_field("pull per person", minimum=0, strict=True, optional=True,
+                                           limit=("point", "force_per_person_N"))
+        self.total = self.force_field("total pull", minimum=0, strict=True, optional=True, limit=("point", "force_N"))
+        self.haul_hint = plain_label()
         self.haul_hint.setWordWrap(True)
-        self.mass = QuantityField("mass", "number", minimum=0, strict=True, optional=True, suffixes=("kg",))
+        self.mass = QuantityField("mass", "number", minimum=0, strict=True, optional=True, suffixes=("kg",),
+                                  limit=("point", "mass_kg"))
         self.rows: dict[str, QWidget] = {}
         for key, text, w in (
             ("label", "Label", self.label),
@@ -254,6 +256,9 @@ class PointPage(_Page):
         self.per_person.committed.connect(lambda v: self._set_haul(force_per_person_N=v))
         self.total.committed.connect(lambda v: self._set("force_N", v, "Set total pull"))
         self.mass.committed.connect(lambda v: self._set("mass_kg", v, "Set mass"))
+        from sketchpad.water_fields import BodyFields
+
+        self.body = BodyFields(self)  # in moving water: wetted area and shape
 
     def show_point(self, point_id: str) -> None:
         self.point_id = point_id
@@ -304,7 +309,7 @@ class PointPage(_Page):
         if self.point_id is None or not rig.has_point(self.point_id):
             return
         p = rig.point(self.point_id)
-        self.header.setText(f"<b>{POINT_KIND_NAMES[p.kind].split(' (')[0]}</b> {p.id}")
+        self.header.setText(f"{bold(POINT_KIND_NAMES[p.kind].split(' (')[0])} {escaped(p.id)}")
         self.label.set_value(p.label)
         _set_combo(self.kind, p.kind)
         self.x.set_value(p.x)
@@ -347,6 +352,7 @@ class PointPage(_Page):
         }
         for key, show in visible.items():
             self.form.setRowVisible(self.rows[key], show)
+        self.body.refresh(p, rig)
 
 
 # --- ropes -----------------------------------------------------------------------------
@@ -356,13 +362,13 @@ class RopePage(_Page):
         self.rope_id: str | None = None
         self.header = _heading("Rope")
         self.form.addRow(self.header)
-        self.label = self.text_field("label")
+        self.label = self.text_field("label", limit=("rope", "label"))
         self.material = _narrow(QComboBox())
-        self.material_info = QLabel()
+        self.material_info = plain_label()
         self.material_info.setWordWrap(True)
         self.setup = _combo([("Hand-tight as drawn, plus slack", "slack"), ("Pretensioned", "pretension")])
-        self.slack = self.length_field("slack", minimum=0)
-        self.pretension = self.force_field("pretension", minimum=0, strict=True)
+        self.slack = self.length_field("slack", minimum=0, limit=("rigged", "slack_m"))
+        self.pretension = self.force_field("pretension", minimum=0, strict=True, limit=("rigged", "pretension_N"))
         self.form.addRow("Label", self.label)
         self.form.addRow("Material", self.material)
         self.form.addRow("", self.material_info)
@@ -444,8 +450,7 @@ class RopePage(_Page):
         n = len(r.path)
         for i, ps in enumerate(r.path):
             name = rig.point(ps.at).name if rig.has_point(ps.at) else ps.at
-            where = QLabel(f"{i + 1}. <b>{name}</b>" + (f" ({ps.at})" if name != ps.at else ""))
-            where.setTextFormat(Qt.TextFormat.RichText)
+            where = rich_label(f"{i + 1}. {bold(name)}" + (f" ({escaped(ps.at)})" if name != ps.at else ""))
             self.passes_grid.addWidget(where, 3 * i, 0, 1, 2)
             how = _combo([(HOW_NAMES[h], h) for h in self._how_options(i, n)])
             how.setEnabled(how.count() > 1)
@@ -514,7 +519,7 @@ class RopePage(_Page):
         if self.rope_id is None or not any(r.id == self.rope_id for r in rig.ropes):
             return
         r = rig.rope(self.rope_id)
-        self.header.setText(f"<b>Rope</b> {r.id}")
+        self.header.setText(f"{bold('Rope')} {escaped(r.id)}")
         self.label.set_value(r.label)
         mats = materials_for(rig)
         with QSignalBlocker(self.material):
@@ -572,10 +577,11 @@ class ForcePage(_Page):
         self.index: int | None = None
         self.header = _heading("Force")
         self.form.addRow(self.header)
-        self.label = self.text_field("label")
-        self.at = QLabel()
-        self.magnitude = self.force_field("force", minimum=0, strict=True)
-        self.direction = QuantityField("direction", "number", suffixes=("°", "deg", "degrees"))
+        self.label = self.text_field("label", limit=("force", "label"))
+        self.at = plain_label()
+        self.magnitude = self.force_field("force", minimum=0, strict=True, limit=("force", "magnitude_N"))
+        self.direction = QuantityField("direction", "number", suffixes=("°", "deg", "degrees"),
+                                       limit=("force", "direction_deg"))
         self.form.addRow("Label", self.label)
         self.form.addRow("Acts on", self.at)
         self.form.addRow("Size", self.magnitude)
@@ -621,12 +627,15 @@ class FeaturePage(_Page):
         self.feature_id: str | None = None
         self.header = _heading("Site feature")
         self.form.addRow(self.header)
-        self.label = self.text_field("label")
+        self.label = self.text_field("label", limit=("feature", "label"))
         self.kind = _combo([(FEATURE_KIND_NAMES[k], k) for k in FEATURE_KINDS])
         self.form.addRow("Label", self.label)
         self.form.addRow("Kind", self.kind)
         self.label.committed.connect(lambda v: self._set(label=v or ""))
         self.kind.currentIndexChanged.connect(lambda _i: self._set(kind=self.kind.currentData()))
+        from sketchpad.water_fields import FlowFields
+
+        self.flow = FlowFields(self)  # a water feature's current
 
     def show_feature(self, feature_id: str) -> None:
         self.feature_id = feature_id
@@ -637,6 +646,8 @@ class FeaturePage(_Page):
         feats = list(rig.site.features)
         for i, f in enumerate(feats):
             if f.id == self.feature_id:
+                if kw.get("kind", f.kind) != "water":
+                    kw["flow"] = None  # only water carries a current
                 new = replace(f, **kw)
                 if new != f:
                     feats[i] = new
@@ -647,9 +658,10 @@ class FeaturePage(_Page):
         f = next((f for f in rig.site.features if f.id == self.feature_id), None)
         if f is None:
             return
-        self.header.setText(f"<b>Site feature</b> {f.id}")
+        self.header.setText(f"{bold('Site feature')} {escaped(f.id)}")
         self.label.set_value(f.label)
         _set_combo(self.kind, f.kind)
+        self.flow.refresh(f, rig)
 
 
 # --- the rig (nothing selected) ---------------------------------------------------------
@@ -658,24 +670,31 @@ class RigPage(_Page):
         super().__init__(panel)
         self.form.addRow(_heading("Rig"))
         self._shown: tuple | None = None  # what refresh last showed (shown_key)
-        self.title = self.text_field("title")
+        self.title = self.text_field("title", limit=("rig", "title"))
         self.notes = CommitTextEdit()
         self.notes.setPlaceholderText("Site, team, conditions, what to check…")
         self.notes.setMaximumHeight(90)
         self.view = _combo([(VIEW_NAMES[v], v) for v in ("plan", "elevation")])
         self.motion = _combo([(MOTION_NAMES[m], m) for m in MOTIONS])
-        self.min_sf = QuantityField("minimum safety factor", "number", minimum=1, suffixes=(":1",))
+        self.min_sf = QuantityField("minimum safety factor", "number", minimum=1, suffixes=(":1",),
+                                    limit=("settings", "min_safety_factor"))
         self.length_unit_box = _combo([(u, u) for u in LENGTH_UNITS])
         self.force_unit_box = _combo([(u, u) for u in FORCE_UNITS])
         self.form.addRow("Title", self.title)
         self.form.addRow("Notes", self.notes)
+        self.notes_error = plain_label()
+        self.notes_error.setObjectName("error:notes")
+        self.notes_error.setStyleSheet(ERROR_STYLE)
+        self.notes_error.setWordWrap(True)
+        self.notes_error.hide()
+        self.form.addRow("", self.notes_error)
         self.form.addRow("View", self.view)
         self.form.addRow("Rope is", self.motion)
         self.form.addRow("Min. safety factor", self.min_sf)
         self.form.addRow("Lengths in", self.length_unit_box)
         self.form.addRow("Forces in", self.force_unit_box)
         self.title.committed.connect(lambda v: self._set_top(title=v or ""))
-        self.notes.commit.connect(lambda: self._set_top(notes=self.notes.toPlainText()))
+        self.notes.commit.connect(self._commit_notes)
         self.view.currentIndexChanged.connect(lambda _i: self._set_top(view=self.view.currentData()))
         self.motion.currentIndexChanged.connect(lambda _i: self._set_settings(motion=self.motion.currentData()))
         self.min_sf.committed.connect(lambda v: self._set_settings(min_safety_factor=float(v)))
@@ -693,6 +712,15 @@ class RigPage(_Page):
         lay.setContentsMargins(4, 4, 4, 4)
         lay.addWidget(widget)
         self.form.addRow(box)
+
+    def _commit_notes(self) -> None:
+        """Notes as typed, or an inline message (nothing changed) when they are longer than a rig file holds."""
+        text = self.notes.toPlainText()
+        problem = limits.text_problem("rig", "notes", text)
+        self.notes_error.setText(f"Notes {problem}: shorten them to save." if problem else "")
+        self.notes_error.setVisible(bool(problem))
+        if not problem:
+            self._set_top(notes=text)
 
     def _set_top(self, **kw) -> None:
         rig = self.rig
@@ -748,7 +776,7 @@ class PropertiesPanel(QWidget):
         self.rope_page = RopePage(self)
         self.force_page = ForcePage(self)
         self.feature_page = FeaturePage(self)
-        self.multi_page = QLabel("Several things are selected: select one to edit it.")
+        self.multi_page = plain_label("Several things are selected: select one to edit it.")
         self.multi_page.setWordWrap(True)
         self.multi_page.setAlignment(Qt.AlignmentFlag.AlignTop)
         for page in (self.rig_page, self.point_page, self.rope_page, self.force_page, self.feature_page, self.multi_page):

@@ -25,11 +25,11 @@ import io
 import logging
 import math
 import pathlib
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Callable
 
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QColor, QFont, QFontMetricsF, QImage, QPageLayout, QPainter
+from PySide6.QtGui import QColor, QFont, QFontMetricsF, QImage, QPainter
 
 from sketchpad.export import (
     Drawing,
@@ -37,12 +37,14 @@ from sketchpad.export import (
     ensure_app,
     failure_sentence,
     page_font,
-    page_size_for,
+    key_strip_height,
     paint_key_strip,
-    pdf_writer,
+    portrait_writer,
+    refuse_undrawable,
     run_file_command,
     units_line,
 )
+from sketchpad.pages.table import Table
 from solver.materials import used_hardware_ids, used_material_ids
 from solver.model import Rig
 from solver.result import Result
@@ -55,9 +57,9 @@ log = logging.getLogger(__name__)
 MARGIN_IN = 0.6  # page margin, inches
 DPI = 96.0
 BODY_PT, SMALL_PT, TABLE_PT, HEAD_PT, TITLE_PT = 9.0, 7.5, 8.0, 11.0, 16.0
-#: (drawing height, plot height) tried in turn until the report fits on two pages
+#: (drawing height, plot height) tried in turn until the report fits on PAGES_WANTED pages
 LAYOUTS = ((400.0, 240.0), (360.0, 220.0), (320.0, 200.0), (280.0, 180.0))
-KEY_H_PX = 46.0
+PAGES_WANTED = 3  # the layouts shrink until the report fits on this many pages (if it can)
 PLOT_DPI = 200
 SWEEP_STEPS = 13
 SWEEP_FROM, SWEEP_TO = 0.25, 2.0  # haul force range as fractions of the drawn haul force
@@ -119,17 +121,6 @@ def _hardware(rig: Rig, hw_id: str):
         return None
 
 
-@dataclass
-class Table:
-    """Header, rows of cell text, relative column widths, right-aligned columns, rows to flag red."""
-
-    title: str
-    header: tuple[str, ...]
-    rows: list[tuple[str, ...]]
-    widths: tuple[float, ...]
-    right: frozenset[int] = frozenset()
-    flagged: set[int] = field(default_factory=set)
-    note: str = ""
 
 
 def rope_table(rig: Rig, result: Result) -> Table:
@@ -574,16 +565,18 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
     if rig.notes:
         flow.text("Notes: " + rig.notes, page_font(BODY_PT, italic=True), gap=6)
 
+    key_h = key_strip_height(flow.width) + 8
+
     def paint_drawing(p: QPainter, r: QRectF) -> None:
-        draw_r = QRectF(r.left(), r.top(), r.width(), r.height() - KEY_H_PX)
+        draw_r = QRectF(r.left(), r.top(), r.width(), r.height() - key_h)
         drawing.paint(p, draw_r)
         p.setPen(RULE)
         p.setBrush(Qt.NoBrush)
         p.drawRect(draw_r)
-        paint_key_strip(p, QRectF(r.left(), draw_r.bottom() + 6, r.width(), KEY_H_PX - 6), drawing)
+        paint_key_strip(p, QRectF(r.left(), draw_r.bottom() + 6, r.width(), key_h - 6), drawing)
 
-    drawing_h = min(sizes[0] + KEY_H_PX, max(flow.room() - 150, 260.0))
-    drawing.fit_into(flow.width, drawing_h - KEY_H_PX)  # before measuring: the fit decides skipped labels
+    drawing_h = min(sizes[0] + key_h, max(flow.room() - 150, 260.0 + key_h - 46))
+    drawing.fit_into(flow.width, drawing_h - key_h)  # before measuring: the fit decides skipped labels
     flow.block(drawing_h, paint_drawing)
     flow.y += 4
     if drawing.skipped and result.ok:
@@ -604,7 +597,11 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
         flow.text(f"{tag}: {w.message}", page_font(BODY_PT, bold=w.severity == "danger"), colour, indent=8)
 
     if result.ok:
-        for t in (rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result)):
+        from sketchpad.report_water import water_table
+
+        tables = (rope_table(rig, result), anchor_table(rig, result), hardware_table(rig, result),
+                  water_table(rig, result))
+        for t in (t for t in tables if t is not None):
             flow.table(t)
         if plot is not None:
             image, caption = plot
@@ -626,6 +623,9 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
             flow.text("• " + line, page_font(BODY_PT), indent=4, gap=2)
     if failures is not None:  # "If something lets go" (sketchpad.report_failures)
         failures.add_to(flow)
+    from sketchpad.pages.sections import add_sections
+
+    add_sections(flow, rig, result)  # schematic, people and roles, rope lengths, gear list
     flow.heading("Assumptions")
     for line in assumption_lines(rig):
         flow.text("• " + line, page_font(SMALL_PT), indent=4, gap=2)
@@ -634,15 +634,22 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
         flow.text(para, page_font(BODY_PT, bold=True), gap=4)
 
 
+def page_frame(writer) -> tuple[float, float, QRectF]:
+    """(margin, footer height, content rect) of a report page, logical px."""
+    m, footer_h = MARGIN_IN * DPI, 28.0
+    return m, footer_h, QRectF(m, m, writer.width() - 2 * m, writer.height() - 2 * m - footer_h)
+
+
 def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = None,
                  rig_dir: pathlib.Path | None = None, source: str | None = None,
-                 now: _dt.datetime | None = None) -> Report:
+                 now: _dt.datetime | None = None, greyscale: bool = False) -> Report:
     """Write the PDF report of ``rig`` (``result`` defaults to ``analyse(rig)``); ExportError in words on failure."""
     path = pathlib.Path(path)
     if path.suffix.lower() != ".pdf":
         raise ExportError(f"a report is a PDF: end the file name '{path.name}' in .pdf")
     if not path.parent.exists():
         raise ExportError(f"the folder {path.parent} does not exist")
+    refuse_undrawable(rig)
     ensure_app()
     if result is None:
         from solver.analysis import analyse
@@ -651,11 +658,9 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     drawing = Drawing(rig, result, rig_dir)
     when = (now or _dt.datetime.now()).strftime("%Y-%m-%d %H:%M")
     title = rig.title or "Untitled rig"
-    writer = pdf_writer(path, page_size_for(rig), QPageLayout.Portrait, f"Ropewright report: {title}")
+    writer = portrait_writer(path, rig, f"Ropewright report: {title}", greyscale)
     page_w, page_h = writer.width(), writer.height()
-    m = MARGIN_IN * DPI
-    footer_h = 28.0
-    content = QRectF(m, m, page_w - 2 * m, page_h - 2 * m - footer_h)
+    m, footer_h, content = page_frame(writer)
     sweep_data = haul_sweep(rig) if result.ok else (None, 0.0, "")
     from sketchpad.haul_report import add_haul_page, haul_table, plan_for_report
 
@@ -687,7 +692,8 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
         if haul is not None:
             add_haul_page(counter, rig, haul)
         total = counter.finish()
-        if total <= 2 + (haul is not None):
+        fits = PAGES_WANTED + (haul is not None)  # pages the report aims for
+        if total <= fits or total >= fits + 2:  # the smaller layouts save well under a page: that many more stay
             break
 
     def footer(p: QPainter, n: int) -> None:
@@ -723,7 +729,7 @@ def report_cli(args) -> int:
             raise ExportError(f"a report is a PDF: end the file name '{pathlib.Path(args.output).name}' in .pdf")
 
     def write(rig, result, rig_dir) -> None:
-        write_report(rig, args.output, result, rig_dir, source=args.rig)
+        write_report(rig, args.output, result, rig_dir, source=args.rig, greyscale=getattr(args, "greyscale", False))
 
     return run_file_command("report", args, check_output, write, "but the rig did not solve")
 

@@ -21,7 +21,6 @@ from PySide6.QtGui import QColor, QStandardItem, QStandardItemModel
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QHeaderView,
-    QLabel,
     QListWidget,
     QListWidgetItem,
     QSplitter,
@@ -32,6 +31,7 @@ from PySide6.QtWidgets import (
 )
 
 from sketchpad import theme
+from sketchpad.plain_text import plain_label, tip
 from solver.directions import bearing_deg, direction_heading, direction_text
 from solver.model import Rig
 from solver.readouts import capacity_text, ma_short, use_text
@@ -120,10 +120,10 @@ class ResultsPanel(QWidget):
 
     def __init__(self, parent=None) -> None:
         super().__init__(parent)
-        self.summary = QLabel("No result yet.")
+        self.summary = plain_label("No result yet.")
         self.summary.setWordWrap(True)
         self.summary.setTextInteractionFlags(Qt.TextSelectableByMouse)
-        self.status = QLabel("")
+        self.status = plain_label("")
         self.status.setWordWrap(True)
         self.segments = _Table(["rope", "piece", "tension", "stretch", "use"])
         self.anchors = _Table(["anchor", "force", direction_heading("plan"), "capacity", "use", "hold range"])
@@ -273,7 +273,7 @@ class ResultsPanel(QWidget):
         for severity, subject, message in items:
             item = QListWidgetItem(f"{SEVERITY_MARK.get(severity, '•')} {message}")
             item.setData(SUBJECT_ROLE, subject)
-            item.setToolTip(f"{severity}: about {subject or 'the whole rig'}")
+            item.setToolTip(tip(f"{severity}: about {subject or 'the whole rig'}"))
             if severity == "danger":
                 item.setForeground(theme.BANNER_BACK)
             self.warnings.addItem(item)

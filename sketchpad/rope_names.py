@@ -37,6 +37,7 @@ def rope_name_labels(rig: Rig, pos: Mapping[str, tuple[float, float]], memo: dic
     """One label per rope (kind "rope"); a rope whose name, colour and piece are those of the last call keeps
     its label object (``memo``: rope id -> (inputs, label), kept by the caller), as the placer's caches want."""
     from sketchpad.overlay import OverlayLabel
+    from sketchpad.short_text import drawn
 
     out, seen = [], set()
     for i, rope in enumerate(rig.ropes):
@@ -44,12 +45,13 @@ def rope_name_labels(rig: Rig, pos: Mapping[str, tuple[float, float]], memo: dic
         if ends is None:
             continue
         colour = theme.rope_colour(i)
-        inputs = (rope.name, colour.rgba(), ends)
+        name = drawn(rope.name)
+        inputs = (name, colour.rgba(), ends)
         kept = memo.get(rope.id)
         if kept is not None and kept[0] == inputs:
             lab = kept[1]
         else:
-            lab = OverlayLabel(kind="rope", key=("rope", rope.id), lines=(rope.name,), values={},
+            lab = OverlayLabel(kind="rope", key=("rope", rope.id), lines=(name,), values={},
                                colour=colour, priority=NAME_PRIORITY, base=ends[0], end=ends[1])
             memo[rope.id] = (inputs, lab)
         seen.add(rope.id)

@@ -16,9 +16,11 @@ MOTION_WORDS = {"haul": "hauling", "hold": "holding", "lower": "lowering"}
 
 
 def _point_and_name(rig: Rig, pid: str):
-    """The rig's point ``pid`` (None if gone) and what a person calls it."""
+    """The rig's point ``pid`` (None if gone) and what a person calls it (as drawn)."""
+    from sketchpad.short_text import drawn  # a very long name is cut as on the plan
+
     p = rig.point(pid) if rig.has_point(pid) else None
-    return p, (p.name if p is not None else pid)
+    return p, drawn(p.name if p is not None else pid)
 
 
 def _each(rig: Rig, records, sentence) -> list[str]:

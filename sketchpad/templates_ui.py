@@ -38,6 +38,7 @@ from PySide6.QtWidgets import (
 from sketchpad import theme
 from sketchpad.fields import ERROR_STYLE
 from sketchpad.geometry import to_scene
+from sketchpad.plain_text import bold, escaped, plain_label, rich_label
 from sketchpad.tools import Tool
 from solver.errors import RopewrightError
 from solver.model import Point, Rig
@@ -325,11 +326,11 @@ class SystemDialog(QDialog):
             self.list.addTopLevelItem(item)
         self.list.header().setSectionResizeMode(0, QHeaderView.ResizeToContents)
         self.list.setMinimumWidth(380)
-        self.description = QLabel()
+        self.description = rich_label()
         self.description.setWordWrap(True)
         self.description.setObjectName("system_description")
         self.description.setMinimumWidth(340)
-        self.ma_label = QLabel()
+        self.ma_label = plain_label()
         self.ma_label.setObjectName("system_ma")
         self.load_box = QComboBox()
         self.anchor_box = QComboBox()
@@ -343,7 +344,7 @@ class SystemDialog(QDialog):
         for lab, box in zip(self.extra_labels, self.extra_boxes):
             form.addRow(lab, box)
         form.addRow("Haul team", self.haul_box)
-        self.error = QLabel()
+        self.error = plain_label()
         self.error.setStyleSheet(ERROR_STYLE)
         self.error.setWordWrap(True)
         self.error.setObjectName("system_error")
@@ -387,7 +388,7 @@ class SystemDialog(QDialog):
     def _show_template(self) -> None:
         tpl = TEMPLATES[self.template]
         rig = self.document.rig
-        self.description.setText(f"<b>{tpl.title}</b><br>{tpl.description}")
+        self.description.setText(f"{bold(tpl.title)}<br>{escaped(tpl.description)}")
         self.ma_label.setText(ma_text(tpl))
         loads = [p for p in rig.points if p.kind == "load"]
         anchors = [p for p in rig.points if can_anchor(p)]

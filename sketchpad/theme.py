@@ -129,6 +129,12 @@ FEATURE_EDGE: dict[str, QColor] = {
 }
 FEATURE_LABEL_INSET_PX = 5.0  # polygon labels sit this far inside the top-left corner
 FEATURE_EDGE_PX: dict[str, float] = {"water": 1.2, "boulder": 1.4, "bank": 2.6, "hazard": 1.6, "note": 1.0}
+# --- moving water (sketchpad.water_layer) ----------------------------------------------------
+FLOW_ARROW = QColor(31, 84, 140, 150)  # the current's arrow field over water features
+FLOW_ARROW_PX = 1.1
+FLOW_LABEL = QColor("#1f548c")  # speed and river left / river right
+BOWED_ROPE_PX = 3.0  # the rope as the current bows it, in its rope colour
+WET_TENSION = QColor("#12355a")  # tension at the ends of a rope's wet part
 FEATURE_LABEL: dict[str, QColor] = {
     "water": QColor("#2f5f8a"),
     "boulder": QColor("#4b4237"),
@@ -280,3 +286,32 @@ HAUL_PLOT_GRID = QColor("#e7e3d8")
 HAUL_PLOT_TEXT = QColor("#3a3a36")
 HAUL_STOP = QColor("#b3122e")  # a haul that stops short
 HAUL_CAUTION_STYLE = "color: #55554f; font-size: 8pt"  # the cautions under the haul plan
+
+# --- printed pages (sketchpad.export, sketchpad.report, sketchpad.pages) --------------------------------
+PAGE_INK = QColor("#1d1d1a")  # body text and lines on paper
+PAGE_MUTED = QColor("#55554f")  # secondary text
+PAGE_RULE = QColor("#b9ae97")  # rules and frames
+
+
+def page_font(size: float, bold: bool = False, italic: bool = False) -> QFont:
+    """A fresh copy of the app's face at ``size`` points (fractions allowed), for drawings and reports."""
+    f = QFont(FONT_FAMILY)
+    f.setPointSizeF(size)
+    f.setBold(bold)
+    f.setItalic(italic)
+    return f
+
+
+#: Rope-use classes as line patterns (so a black-and-white print keeps what the ramp colours say):
+#: (lowest utilization, words, rail pen style, rail width px). Class bounds are the ramp's stops.
+UTIL_CLASSES: tuple[tuple[float, str, Qt.PenStyle, float], ...] = (
+    (0.0, "under 50 %", Qt.NoPen, 0.0),
+    (0.5, "50–80 %", Qt.DotLine, 1.2),
+    (0.8, "80–100 %", Qt.DashLine, 1.4),
+    (1.0, "100 % or more", Qt.SolidLine, 2.2),
+)
+UTIL_RAIL = QColor("#1d1d1a")  # rails beside a loaded piece's band
+SCHEMATIC_GAP_PX = 13.0  # between side-by-side strands of one rope in the schematic
+SCHEMATIC_STRAND_PX = 2.2
+SCHEMATIC_T_TEXT = QColor("#1d1d1a")
+PRINT_FRAME_EDGE = QColor("#c23b22")  # the print frame drawn on the canvas (dashed)

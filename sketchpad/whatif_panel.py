@@ -21,7 +21,6 @@ from PySide6.QtWidgets import (
     QAbstractItemView,
     QGraphicsItem,
     QHeaderView,
-    QLabel,
     QListWidget,
     QListWidgetItem,
     QSplitter,
@@ -34,6 +33,7 @@ from PySide6.QtWidgets import (
 from sketchpad import theme
 from sketchpad.drag_layer import Versioned
 from sketchpad.geometry import to_scene
+from sketchpad.plain_text import plain_label, tip
 from solver.failures import Failure, Scan, components
 from solver.model import Rig
 from solver.result import Result
@@ -171,7 +171,7 @@ class WhatIfPanel(QWidget):
         super().__init__(parent)
         from solver.failure_shock import SHOCK_CAUTION
 
-        self.status = QLabel("Scans once the rig is still.")
+        self.status = plain_label("Scans once the rig is still.")
         self.status.setWordWrap(True)
         self.table = QTableWidget(0, len(HEADERS))
         self.table.setHorizontalHeaderLabels(HEADERS)
@@ -184,7 +184,7 @@ class WhatIfPanel(QWidget):
         self.table.itemSelectionChanged.connect(self._selected)
         self.people = QListWidget()
         self.people.setWordWrap(True)
-        self.note = QLabel(SHOCK_CAUTION)
+        self.note = plain_label(SHOCK_CAUTION)
         self.note.setWordWrap(True)
         self.note.setStyleSheet(f"color: {theme.MUTED_TEXT.name()};")
         split = QSplitter(Qt.Vertical)
@@ -218,7 +218,7 @@ class WhatIfPanel(QWidget):
         for r, f in enumerate(s.failures):
             for c, text in enumerate(row_texts(f, unit)):
                 item = QTableWidgetItem(text)
-                item.setToolTip(f.message)
+                item.setToolTip(tip(f.message))
                 if c == 1 and not f.holds:
                     item.setForeground(theme.DANGER_TEXT)
                 self.table.setItem(r, c, item)

@@ -14,7 +14,7 @@ SHORT_CAUTION = (
 
 LIMITS_CAUTION = (
     "Engineered systems (highlines, structural or vehicle anchors) may need a qualified engineer; "
-    "rope weight and water on the ropes are not modelled."
+    "rope weight is not modelled, and water on the ropes only where a current is drawn (simple drag)."
 )
 
 CAUTION_PARAGRAPHS: tuple[str, ...] = (
@@ -26,7 +26,8 @@ CAUTION_PARAGRAPHS: tuple[str, ...] = (
     "protocols and the codes and standards that apply where you work.",
     "Engineered systems (highlines and other tensioned lines, structural anchors, vehicle "
     "anchors) may need design or approval by a qualified engineer. The weight of the ropes "
-    "and the push of moving water on ropes are not modelled: both add to the forces shown.",
+    "is not modelled, and the push of moving water on ropes and loads only where a current is drawn, "
+    "from simple drag coefficients: surges, waves and debris add to the forces shown.",
     "Never stand in a marked danger zone or in line with a loaded rope, redirect or "
     "anchor. Keep the whole-system safety factor your team requires, and stop and "
     "re-assess when anything moves, slips or sounds wrong.",

@@ -67,6 +67,7 @@ from solver.weak_links import check_grabs, weakest_ends
 from solver.model import Hardware, Material, Rig, is_tended_tail
 from solver.result import Result, Warning_
 from solver.tensioned_line import check_tensioned_lines, is_line_leg_pair
+from solver.water_warnings import check_water
 
 log = logging.getLogger(__name__)
 
@@ -675,6 +676,7 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
 FORCE_CHECKS: tuple[Callable[[Rig, Result], list[Warning_]], ...] = (
     check_anchors, check_ropes, check_hardware, check_wide_anchors, check_tensioned_lines, check_slack,
     check_abrasion, check_haul, check_short, check_two_blocked, check_people, check_grabs, check_captures,
+    check_water,
 )
 
 

@@ -24,7 +24,7 @@ EXIT_SOLVE_FAILED = 3
 #: keeps the caution epilog on its one line
 _RAW = argparse.RawDescriptionHelpFormatter
 
-SUBCOMMANDS = ("solve", "haul", "failures", "sweep", "render", "report", "screenshot", "open")
+SUBCOMMANDS = ("solve", "haul", "failures", "sweep", "render", "report", "brief", "manual", "screenshot", "open")
 
 #: subcommand -> "module:function" taking the parsed args and returning an exit code
 HANDLERS: dict[str, str] = {
@@ -32,8 +32,10 @@ HANDLERS: dict[str, str] = {
     "haul": "solver.cli_haul:run",
     "failures": "solver.cli_failures:run",
     "sweep": "solver.sweep:run_cli",
-    "render": "sketchpad.export:render_cli",
+    "render": "sketchpad.pages.output:render_cli",
     "report": "sketchpad.report:report_cli",
+    "brief": "sketchpad.pages.brief:brief_cli",
+    "manual": "sketchpad.pages.manual:manual_cli",
     "screenshot": "sketchpad.app:screenshot_cli",
     "open": "sketchpad.app:open_cli",
 }
@@ -81,10 +83,28 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("rig")
     p.add_argument("-o", "--output", required=True)
     p.add_argument("--size", default=None, help="WxH pixels for PNG (default 1600x1100)")
+    p.add_argument("--schematic", action="store_true",
+                   help="draw the schematic: strands side by side, pulleys as sheaves, tensions in units of the haul force")
+    p.add_argument("--greyscale", action="store_true", help="write in grey levels (every meaning kept by pattern)")
 
     p = sub.add_parser("report", epilog=HELP_EPILOG, formatter_class=_RAW, help="write a PDF report of the rig")
     p.add_argument("rig")
     p.add_argument("-o", "--output", required=True)
+    p.add_argument("--greyscale", action="store_true", help="write in grey levels (every meaning kept by pattern)")
+
+    p = sub.add_parser("brief", epilog=HELP_EPILOG, formatter_class=_RAW,
+                       help="write the one-page briefing sheet: rig, commands, roles, worst loads, sign-off")
+    p.add_argument("rig")
+    p.add_argument("-o", "--output", required=True)
+    p.add_argument("--greyscale", action="store_true", help="write in grey levels (every meaning kept by pattern)")
+
+    p = sub.add_parser("manual", epilog=HELP_EPILOG, formatter_class=_RAW,
+                       help="write many rigs into one PDF manual: title page, contents, each rig's pages")
+    p.add_argument("rigs", nargs="+", metavar="RIG")
+    p.add_argument("-o", "--output", required=True)
+    p.add_argument("--title", default="Rigging manual", help="the manual's title (title page and footers)")
+    p.add_argument("--greyscale", action="store_true", help="write in grey levels (every meaning kept by pattern)")
+    p.add_argument("--no-progress", action="store_true", help="do not print progress")
 
     p = sub.add_parser("screenshot", epilog=HELP_EPILOG, formatter_class=_RAW, help="render the whole main window offscreen with a rig open")
     p.add_argument("rig")

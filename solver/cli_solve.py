@@ -80,6 +80,11 @@ def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -
         if links:
             parts.append("\nWeak links (knots: share of MBS kept, in the margins above; grabs: slip force)\n"
                          + _table(["rope", "at", "what", "figure used", "carries"], links))
+        from solver.water_text import WATER_HEADER, WATER_TITLE, water_rows
+
+        wet = water_rows(rig, result, length_unit, force_unit)
+        if wet:
+            parts.append(f"\n{WATER_TITLE}\n" + _table(list(WATER_HEADER), [list(r) for r in wet]))
         if result.haul:
             parts.append("\nHaul: " + ", ".join(f"{hid} {f(v)}" for hid, v in result.haul.items()))
         if result.ma_actual is not None:

@@ -44,9 +44,11 @@ from solver.assembly import (
     with_geometry,
 )
 from solver.errors import RigModelError
+from solver.extreme_specs import unsettled_words
 from solver.model import Rig
 from solver.result import AnchorResult, HoldRange, Result, SegmentResult, Warning_, record
 from solver.run_lengths import with_unstretched
+from solver.water import dry_site, in_water, solve_in_water, without_current
 
 log = logging.getLogger(__name__)
 
@@ -1180,7 +1182,7 @@ def _build_result(s: System, sol: _Solved, motion: str) -> Result:
         else:
             message = (f"no equilibrium found after {sol.iterations} iterations: the largest imbalance is "
                        f"{format_force_sig(residual, rig.display.force)} at point {_point_name(rig, subject) if subject else ''}; "
-                       "check for a part of the rig that nothing holds")
+                       + unsettled_words(rig))
     ma = _mech_advantage(s, st, f)  # (the anchors above are the fixed anchors; loads any load point)
     if not (s.has_friction and motion != "hold"):
         ma_ideal = ma  # no friction acts: the ideal is the actual
@@ -1259,6 +1261,11 @@ def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True
     on the least-squares weighting.  The frictionless re-solve is a true equilibrium; its
     geometry differs from the friction geometry only by the small swing friction causes.
     """
+    if rig.site.features and in_water(rig):  # currents push on ropes and bodies: solver.water
+        if unstretched_m is None:
+            return solve_in_water(rig, start=start, motion=motion, ideal=ideal)
+        return without_current(solve(dry_site(rig), start=start, motion=motion, ideal=ideal,
+                                     unstretched_m=unstretched_m))
     try:
         s = _compiled(rig, motion)
         if unstretched_m:

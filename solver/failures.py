@@ -255,6 +255,11 @@ class _Scanner:
 
     def __init__(self, rig: Rig, intact: Result, by_parts: bool = True) -> None:
         self.rig, self.intact = rig, intact
+        from solver.water import in_water
+
+        # in moving water the ropes bow and carry drag to their ends, which the parts' hand-on (straight pieces)
+        # does not know: the whole remaining rig is solved again
+        by_parts = by_parts and not in_water(rig)
         self.breaker = Breaker(rig, intact.points, by_parts)
         self.elevation = rig.view == "elevation"
         self.strand_of = {(st.rope.id, i): k for k, st in enumerate(self.breaker.strands) for i, _ in st.passes[:-1]}

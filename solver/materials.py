@@ -33,7 +33,7 @@ EFFICIENCY_KINDS: frozenset[str] = frozenset({"pulley", "carabiner", "ring"})
 #: Largest friction coefficient accepted for an edge; rope on any real edge is well below 1.
 MAX_FRICTION_COEFFICIENT = 2.0
 
-_MATERIAL_KEYS = ("id", "kind", "label", "diameter_mm", "mbs_N", "source", "stretch")
+_MATERIAL_KEYS = ("id", "kind", "label", "diameter_mm", "diameter_m", "mbs_N", "source", "stretch")
 _HARDWARE_KEYS = ("id", "kind", "label", "efficiency", "friction_coefficient", "mbs_N", "size_m", "source", "slip_N")
 
 
@@ -123,6 +123,7 @@ def material_from_dict(d: Any, where: str = "material", *, strict: bool = False)
         mbs_N=_number(d, "mbs_N", where, name, required=True),  # type: ignore[arg-type]
         stretch=_stretch_table(d.get("stretch"), where, name),
         diameter_mm=_number(d, "diameter_mm", where, name, required=False),
+        diameter_m=_number(d, "diameter_m", where, name, required=False),
         label=_text(d, "label", where, name),
         source=_text(d, "source", where, name),
         extra=_extra(d, _MATERIAL_KEYS, where, name, strict),
@@ -167,6 +168,14 @@ def _percent(strain: float) -> str:
     return f"{100.0 * strain:.3g} %"
 
 
+#: Bounds of a stretch table's slope (tension per unit strain, N): far beyond the stiffest steel rope
+#: (about 1e9 N) and the softest cord; a table outside them is a typing slip (ours, not from a standard).
+#: Largest tension in a stretch table, N: the rig format's limit on every force (schema, solver.limits).
+MAX_TENSION_N = 1e12
+MIN_STIFFNESS_N = 1e-3
+MAX_STIFFNESS_N = 1e18
+
+
 def material_problem(m: Material) -> tuple[str, str] | None:
     """The first thing wrong with a material as ``(field, message)``, or None if it is sound.
 
@@ -181,6 +190,11 @@ def material_problem(m: Material) -> tuple[str, str] | None:
         return "mbs_N", f"{name}: MBS must be a strength above 0 N, not {m.mbs_N!r}"
     if m.diameter_mm is not None and not (math.isfinite(m.diameter_mm) and m.diameter_mm > 0):
         return "diameter_mm", f"{name}: diameter must be above 0 mm, not {m.diameter_mm!r}"
+    if m.diameter_m is not None and not (math.isfinite(m.diameter_m) and m.diameter_m > 0):
+        return "diameter_m", f"{name}: diameter must be above 0 m, not {m.diameter_m!r}"
+    if m.diameter_m is not None and m.diameter_mm is not None and abs(m.diameter_m * 1000 - m.diameter_mm) > 0.05:
+        return "diameter_m", (f"{name}: diameter_m {m.diameter_m:g} m and diameter_mm {m.diameter_mm:g} mm "
+                              f"disagree; they are one diameter, give one or make them match")
     if not m.stretch:
         return "stretch", f"{name} needs a stretch table: a list of [tension_N, strain] points"
     prev_t, prev_e = 0.0, 0.0
@@ -189,6 +203,9 @@ def material_problem(m: Material) -> tuple[str, str] | None:
         if len(point) != 2 or not all(_is_number(v) and math.isfinite(v) for v in point):
             return field, f"{name}: each stretch point must be [tension_N, strain], not {point!r}"
         t, e = float(point[0]), float(point[1])
+        if t > MAX_TENSION_N:
+            return field, (f"{name}: tension {t:g} N is beyond the {MAX_TENSION_N:g} N a rig file holds; "
+                           "is the unit right?")
         if e >= 1.0:
             return field, (
                 f"{name}: strain {e:g} at {t:g} N means the rope more than doubles in length; "
@@ -203,6 +220,14 @@ def material_problem(m: Material) -> tuple[str, str] | None:
             return field, (
                 f"{name}: the stretch table must rise in both tension and strain, but point {i + 1} "
                 f"({t:g} N, {_percent(e)}) does not come after point {i} ({prev_t:g} N, {_percent(prev_e)})"
+            )
+        slope = (t - prev_t) / (e - prev_e)
+        if not MIN_STIFFNESS_N <= slope <= MAX_STIFFNESS_N:
+            which = "stiffer" if not slope < MAX_STIFFNESS_N else "softer"
+            return field, (
+                f"{name}: up to point {i + 1} ({t:g} N, {_percent(e)}) the stretch table rises {slope:.3g} N per "
+                f"unit of strain, {which} than any rope, sling or cord can be (between {MIN_STIFFNESS_N:g} N and "
+                f"{MAX_STIFFNESS_N:g} N); strain is a fraction (0.05 = 5 %): check both columns"
             )
         prev_t, prev_e = t, e
     return None
@@ -268,6 +293,8 @@ def material_to_dict(m: Material) -> dict[str, Any]:
         d["label"] = m.label
     if m.diameter_mm is not None:
         d["diameter_mm"] = m.diameter_mm
+    if m.diameter_m is not None:
+        d["diameter_m"] = m.diameter_m
     d["mbs_N"] = m.mbs_N
     if m.source:
         d["source"] = m.source

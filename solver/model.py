@@ -26,6 +26,9 @@ MOTIONS: tuple[str, ...] = ("haul", "hold", "lower")
 VIEWS: tuple[str, ...] = ("plan", "elevation")
 LENGTH_UNITS: tuple[str, ...] = ("m", "ft")
 FORCE_UNITS: tuple[str, ...] = ("N", "kN", "lbf")
+#: What a person on the plan is there to do (trade roles; the words the briefing sheet prints).
+PERSON_ROLES: tuple[str, ...] = ("haul team lead", "safety officer", "upstream spotter", "downstream safety",
+                                 "edge attendant")
 
 #: Kinds that are fixed unless the file says ``"fixed": false``.
 FIXED_BY_DEFAULT: frozenset[str] = frozenset({"anchor", "load", "haul"})
@@ -56,6 +59,9 @@ class Point:
     team: int | None = None  # haul: number of haulers
     force_per_person_N: float | None = None  # haul: force each hauler gives
     capacity_kind: str = "strength"  # anchor: "strength" (÷ safety factor) or "working" (rated working load)
+    role: str | None = None  # person: one of PERSON_ROLES (what they are there to do)
+    wetted_area_m2: float | None = None  # load or free point in water: area facing the flow, m^2
+    drag_shape: str | None = None  # its shape in the drag table (solver.loads.DRAG_SHAPES)
     extra: Mapping[str, Any] = field(default_factory=dict, compare=True)
 
     @property
@@ -146,6 +152,7 @@ class Rope:
     path: tuple[Pass, ...]
     rigged: Rigging = field(default_factory=Rigging)
     label: str = ""
+    length_m: float | None = None  # the rope actually carried, m (the budget warns when the drawn rope will not reach)
     extra: Mapping[str, Any] = field(default_factory=dict)
 
     @property
@@ -194,11 +201,21 @@ class Material:
     diameter_mm: float | None = None
     label: str = ""
     source: str = ""
+    diameter_m: float | None = None  # the same diameter in metres (rig-format.md additions); either may be given
     extra: Mapping[str, Any] = field(default_factory=dict)
 
     @property
     def name(self) -> str:
         return self.label or self.id
+
+    @property
+    def diameter(self) -> float | None:
+        """The rope's diameter in metres: ``diameter_m``, else ``diameter_mm`` / 1000 (one meaning, two spellings)."""
+        if self.diameter_m is not None:
+            return float(self.diameter_m)
+        if self.diameter_mm is not None:
+            return float(self.diameter_mm) / 1000.0
+        return None
 
 
 @dataclass(frozen=True)
@@ -246,6 +263,22 @@ class SiteImage:
 
 
 @dataclass(frozen=True)
+class Flow:
+    """Moving water in a water feature: speed (m/s) and the bearing it flows toward (degrees clockwise from north)."""
+
+    speed_m_s: float
+    bearing_deg: float
+
+    @property
+    def velocity(self) -> tuple[float, float]:
+        """The flow velocity in site coordinates (+x east, +y north), m/s."""
+        import math
+
+        b = math.radians(self.bearing_deg)
+        return (self.speed_m_s * math.sin(b), self.speed_m_s * math.cos(b))
+
+
+@dataclass(frozen=True)
 class Feature:
     """A drawn site feature: water, boulder, bank, hazard (polygon or line) or a note."""
 
@@ -254,6 +287,7 @@ class Feature:
     polygon: tuple[tuple[float, float], ...] | None = None
     line: tuple[tuple[float, float], ...] | None = None
     label: str = ""
+    flow: Flow | None = None  # water only: the current; a later feature drawn over it wins
     extra: Mapping[str, Any] = field(default_factory=dict)
 
     @property
@@ -272,6 +306,7 @@ class Site:
 class Settings:
     motion: str = "haul"
     min_safety_factor: float = 10.0
+    tail_m: float = 1.0  # rope left beyond each end of a rope (knot tails, the haul team's grip), m
     extra: Mapping[str, Any] = field(default_factory=dict)
 
 
@@ -297,6 +332,7 @@ class Rig:
     view: str = "plan"
     settings: Settings = field(default_factory=Settings)
     site: Site = field(default_factory=Site)
+    print_frame: tuple[float, float, float, float] | None = None  # (x0, y0, x1, y1) site metres printed; None: the rig
     extra: Mapping[str, Any] = field(default_factory=dict)  # unknown top-level keys, kept
 
     # --- look-ups -----------------------------------------------------------------
@@ -370,10 +406,14 @@ class Rig:
         return replace(self, ropes=tuple(ropes) + (rope,))
 
     def without_point(self, point_id: str) -> "Rig":
-        """Remove a point and what depends on it: its passes, its forces, ropes left with < 2 passes."""
+        """Remove a point and what depends on it: its passes, its forces, ropes left with < 2 passes.
+
+        Passes that become neighbours at one point (A, B, A without B) merge into one: the rope's
+        end if one of them is its end, else the first; a rope never passes a point twice in a row.
+        """
         ropes = []
         for r in self.ropes:
-            path = tuple(ps for ps in r.path if ps.at != point_id)
+            path = _merged_neighbours(tuple(ps for ps in r.path if ps.at != point_id))
             if len(path) >= 2:
                 if path != r.path:
                     # the new ends must be tied (or hauled at the end) to stay valid
@@ -396,6 +436,22 @@ class Rig:
     def moved(self, point_id: str, x: float, y: float) -> "Rig":
         """The same rig with one point moved to (x, y) metres."""
         return self.with_point(replace(self.point(point_id), x=float(x), y=float(y)))
+
+
+def _merged_neighbours(path: tuple[Pass, ...]) -> tuple[Pass, ...]:
+    """``path`` with each run of consecutive passes at one point merged into one pass.
+
+    The merged pass is the run's last when the run ends the rope (its end, tied or hauled,
+    stays), else the run's first.
+    """
+    out: list[Pass] = []
+    for j, ps in enumerate(path):
+        if out and out[-1].at == ps.at:
+            if j == len(path) - 1:
+                out[-1] = ps
+            continue
+        out.append(ps)
+    return tuple(out)
 
 
 @dataclass(frozen=True)

@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import math
 from collections import deque
+from dataclasses import dataclass
 from typing import Mapping
 
 import numpy as np
@@ -55,8 +56,26 @@ def _ranks(strands: list[tuple[int, str, str, str, str]], travelling: set[str], 
     return rank
 
 
+@dataclass(frozen=True)
+class StrandCount:
+    """The T-method's answer: each run's tension in units of the total haul force, and the MA.
+
+    ``run_units[(rope id, run index)]`` is the run's tension ÷ the total haul force (1.0 for the
+    hauled run of a single haul team, 2.0, 3.0 ... along a Z), or None for a run nothing fixes.
+    """
+
+    ma: float
+    run_units: Mapping[tuple[str, int], float | None]
+
+
 def nominal_ma(rig: Rig, positions: Mapping[str, tuple[float, float]] | None = None) -> float | None:
     """The strand-count MA of ``rig`` (force on the loads ÷ haul force, frictionless parallel strands), or None."""
+    count = strand_count(rig, positions)
+    return None if count is None else count.ma
+
+
+def strand_count(rig: Rig, positions: Mapping[str, tuple[float, float]] | None = None) -> StrandCount | None:
+    """The T-method on ``rig``: the nominal MA and every run's tension in haul-force units, or None (see module)."""
     loads = {p.id for p in rig.points if p.kind == "load"}
     if not loads:
         return None
@@ -67,6 +86,7 @@ def nominal_ma(rig: Rig, positions: Mapping[str, tuple[float, float]] | None = N
     # runs: one unknown tension each; hauled runs carry their haul team's force
     strands: list[tuple[int, str, str, str, str]] = []  # (run, point a, point b, far end from a, from b)
     hauled: dict[int, float] = {}
+    run_keys: list[tuple[str, int]] = []
     n_runs = 0
     for rope in rig.ropes:
         if any(ps.at not in pts or not pts[ps.at].is_structural for ps in rope.path):
@@ -83,6 +103,7 @@ def nominal_ma(rig: Rig, positions: Mapping[str, tuple[float, float]] | None = N
                 continue  # carries nothing while hauling: no strand of the system
             r = n_runs
             n_runs += 1
+            run_keys.append((rope.id, run.index))
             for k in run.piece_indices:
                 a, b = rope.path[k].at, rope.path[k + 1].at
                 if a != b:
@@ -153,12 +174,20 @@ def nominal_ma(rig: Rig, positions: Mapping[str, tuple[float, float]] | None = N
         if null.size and np.abs(null @ load_u).max() > 1e-6:
             return None  # the load's share depends on a run nothing fixes
         delivered = load_known + float(load_u @ t)
+        free = np.abs(null).max(axis=0) > 1e-6 if null.size else np.zeros(len(unknown), dtype=bool)
     else:
-        delivered = load_known
+        delivered, t, free = load_known, np.zeros(0), np.zeros(0, dtype=bool)
     if not math.isfinite(delivered) or delivered <= 0 or total_in <= 0:
         return None
     ma = delivered / total_in
-    return float(round(ma)) if abs(ma - round(ma)) <= 1e-9 * ma else ma
+    units: dict[tuple[str, int], float | None] = {}
+    for r, key in enumerate(run_keys):
+        if r in hauled:
+            units[key] = hauled[r] / total_in
+        else:
+            j = col[r]
+            units[key] = None if free[j] else float(t[j]) / total_in
+    return StrandCount(float(round(ma)) if abs(ma - round(ma)) <= 1e-9 * ma else ma, units)
 
 
 def ma_text(ma: float | None) -> str:

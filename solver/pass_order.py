@@ -100,7 +100,13 @@ def start(s: System, x: np.ndarray) -> None:
     xy = s.positions(x)
     d = xy[s.b] - xy[s.a]
     l = np.hypot(d[:, 0], d[:, 1])
-    _update(s, l, unit_rows(d, s.order_ref))
+    u = unit_rows(d, s.order_ref)
+    # a piece clear of its contact by its own length takes its own direction, however far it turned from
+    # the last one: a warm start (a free end swung round its anchor by a new force) is an answer, not a jump
+    clear = l >= SHORT * s.s_min
+    if clear.any():
+        s.order_ref = np.where(clear[:, None], u, s.order_ref)
+    _update(s, l, u)
 
 
 def gap(s: System, l: np.ndarray, u: np.ndarray) -> np.ndarray:

@@ -154,6 +154,7 @@ class Result:
     hold_anchor_range: Mapping[str, HoldRange] = field(default_factory=dict)
     revision: int = 0  # the document revision this result was solved for (app use)
     needs: Mapping[str, LoadNeed] = field(default_factory=dict)  # loads with a required_N (analysis only)
+    water: Any = None  # solver.water_result.WaterResult when the rig lies in moving water, else None
 
     @property
     def ok(self) -> bool:
@@ -184,6 +185,8 @@ class Result:
         }
         if self.subject:
             out["subject"] = self.subject
+        if self.water is not None:
+            out["water"] = self.water.to_json()
         if self.hold_haul_range or self.hold_anchor_range:
             out["hold_range"] = {
                 "haul": {k: {"low_N": r.low, "high_N": r.high} for k, r in self.hold_haul_range.items()},

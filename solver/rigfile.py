@@ -28,20 +28,29 @@ import ntpath
 import os
 import pathlib
 import posixpath
+import re
 import tempfile
+import time
 import weakref
 from dataclasses import replace
 from functools import lru_cache
 from typing import Any, Callable, Iterable, Mapping, Sequence
 
-from solver import materials
+from solver import limits, materials
 from solver import model as m
 from solver.bulk_read import collector_paused, filled, plain_data_ok
 from solver.rigfile_schema import check_schema as _check_schema
 from solver.rigfile_schema import field_path as _where
 from solver.rigfile_schema import schema  # noqa: F401 - part of this module's API (__all__)
 from solver.rigfile_schema import show_value as _show
+from solver.rigfile_schema import too_many
 from solver.errors import RigFileError
+from solver.water_site import water_feature_problem, wetted_point_problem
+
+try:
+    import fcntl
+except ImportError:  # pragma: no cover - not POSIX
+    fcntl = None  # type: ignore[assignment]
 
 log = logging.getLogger(__name__)
 
@@ -49,10 +58,12 @@ FORMAT = "ropewright-rig"
 #: The version this module reads and writes.
 VERSION = 1
 #: Largest rig file read or written, bytes, embedded background image included.
-MAX_FILE_BYTES = 20 * 1024 * 1024
+MAX_FILE_BYTES = limits.MAX_FILE_BYTES
 #: Largest distance of any point or site coordinate from the site origin, m: a
-#: sanity bound far beyond any rescue site (ours, not from a standard).
-MAX_COORDINATE_M = 100_000.0
+#: sanity bound far beyond any rescue site (ours, not from a standard; in the schema).
+MAX_COORDINATE_M = limits.MAX_COORDINATE_M
+#: Prefix and suffix of the hidden temp file a save writes beside the rig before renaming it.
+TEMP_PREFIX, TEMP_SUFFIX = ".", ".tmp"
 _REQUIRED = object()  # marks a field every file must have
 
 # (json key == attribute name, kind, default); kinds: str, float, int, bool, pair, pairs
@@ -61,15 +72,18 @@ _POINT: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("x", "float", _REQUIRED), ("y", "float", _REQUIRED),
     ("label", "str", ""), ("fixed", "bool", None), ("capacity_N", "float", None), ("anchor_type", "str", None),
     ("required_N", "float", None), ("mass_kg", "float", None), ("force_N", "float", None), ("team", "int", None),
-    ("force_per_person_N", "float", None), ("capacity_kind", "str", "strength"),
+    ("force_per_person_N", "float", None), ("capacity_kind", "str", "strength"), ("role", "str", None),
+    ("wetted_area_m2", "float", None), ("drag_shape", "str", None),
 )
 _PASS: _Spec = (("at", "str", _REQUIRED), ("how", "str", "tied"), ("hardware", "str", None), ("termination", "str", None),
           ("grab", "str", None))
 _RIGGING: _Spec = (("slack_m", "float", 0.0), ("pretension_N", "float", None))
-_ROPE: _Spec = (("id", "str", _REQUIRED), ("material", "str", _REQUIRED), ("label", "str", ""))
+_ROPE: _Spec = (("id", "str", _REQUIRED), ("material", "str", _REQUIRED), ("label", "str", ""),
+                 ("length_m", "float", None))
 _MATERIAL: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("mbs_N", "float", _REQUIRED),
     ("stretch", "pairs", _REQUIRED), ("diameter_mm", "float", None), ("label", "str", ""), ("source", "str", ""),
+    ("diameter_m", "float", None),
 )
 _HARDWARE: _Spec = (
     ("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("efficiency", "float", None), ("mbs_N", "float", None),
@@ -85,12 +99,13 @@ _IMAGE: _Spec = (
     ("metres_per_pixel", "float", 0.01), ("rotation_deg", "float", 0.0), ("opacity", "float", 1.0),
 )
 _FEATURE: _Spec = (("id", "str", _REQUIRED), ("kind", "str", _REQUIRED), ("polygon", "pairs", None),
-                   ("line", "pairs", None), ("label", "str", ""))
-_SETTINGS: _Spec = (("motion", "str", "haul"), ("min_safety_factor", "float", 10.0))
+                   ("line", "pairs", None), ("label", "str", ""), ("flow", "flow", None))
+_SETTINGS: _Spec = (("motion", "str", "haul"), ("min_safety_factor", "float", 10.0), ("tail_m", "float", 1.0))
 _DISPLAY: _Spec = (("length", "str", "m"), ("force", "str", "kN"))
 _SITE_KEYS = ("image", "features")
 _TOP_KEYS = ("format", "version", "display", "view", "title", "notes", "settings", "site",
-             "materials", "hardware", "points", "forces", "ropes")
+             "materials", "hardware", "points", "forces", "ropes", "print_frame")
+_FRAME_KEYS = ("x0", "y0", "x1", "y1")
 
 # --------------------------------------------------------------------------------------
 # Which optional keys a loaded object had, so that saving writes back exactly those
@@ -157,7 +172,27 @@ def loads_rig(text: str | bytes, base_dir: str | os.PathLike[str] | None = None,
         data = _parse_json(text)
         rig = rig_from_dict(data, strict=strict, base_dir=base_dir)
         del data  # the parsed tree freed before the collector's next pass would walk it
+    if _written_size_bound(text) > MAX_FILE_BYTES:
+        size = len(_file_bytes(rig))  # a compact file can grow when written back: it must still fit
+        if size > MAX_FILE_BYTES:
+            raise _too_big(size, saving=True, opened=True)
     return rig
+
+
+#: The most characters one JSON value can gain when written back (a number such as 1e15 becomes
+#: 1000000000000000.0; a float's repr is at most 24 characters), and room for the library specs
+#: saving embeds, bytes.
+_GROWTH_PER_VALUE, _SPEC_ALLOWANCE = 23, 1024 * 1024
+
+
+def _written_size_bound(text: str) -> int:
+    """An upper bound of the bytes a save of this text's rig writes (compact when need be), in C-speed counts.
+
+    Written back compact, only numbers can grow, and every JSON value but the first follows a
+    "[", "," or ":"; text and structure never grow (UTF-8 text is not escaped).
+    """
+    values = text.count(",") + text.count("[") + text.count(":") + 1
+    return len(text.encode("utf-8", "surrogatepass")) + _GROWTH_PER_VALUE * values + _SPEC_ALLOWANCE
 
 
 def rig_from_dict(d: Any, strict: bool = False, *, base_dir: str | os.PathLike[str] | None = None) -> m.Rig:
@@ -173,6 +208,7 @@ def rig_from_dict(d: Any, strict: bool = False, *, base_dir: str | os.PathLike[s
                            where="(top level)")
     _check_format_and_version(d)
     d = migrate(d)
+    _check_sizes(d)
     _check_plain_data(d)
     _check_schema(d)
     rig = _build_rig(d, strict)
@@ -206,16 +242,19 @@ def rig_to_dict(rig: m.Rig, *, embed: bool = True) -> dict[str, Any]:
     if "forces" in pres or rig.forces:
         out["forces"] = [_to_simple(x, _FORCE) for x in rig.forces]
     out["ropes"] = [_rope_to(x) for x in rig.ropes]
+    if rig.print_frame is not None:
+        out["print_frame"] = dict(zip(_FRAME_KEYS, (float(v) for v in rig.print_frame)))
     for key, value in rig.extra.items():
         if key not in out and key not in _TOP_KEYS:
             out[key] = value
     return out
 
 
-def dumps_rig(rig: m.Rig, *, embed: bool = True) -> str:
-    """The rig as rig-file text: indented UTF-8 JSON ending in a newline."""
+def dumps_rig(rig: m.Rig, *, embed: bool = True, compact: bool = False) -> str:
+    """The rig as rig-file text: indented (or ``compact``) UTF-8 JSON ending in a newline."""
+    layout: dict[str, Any] = {"separators": (",", ":")} if compact else {"indent": 2}
     try:
-        return json.dumps(rig_to_dict(rig, embed=embed), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+        return json.dumps(rig_to_dict(rig, embed=embed), ensure_ascii=False, allow_nan=False, **layout) + "\n"
     except ValueError as exc:  # NaN or infinity somewhere in the rig
         raise RigFileError(f"the rig holds a number that is not finite ({exc}); it cannot be saved",
                            where="(rig)") from None
@@ -229,10 +268,11 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
 
     With ``check`` (default) the text is first loaded back, so a file on disk
     always opens again; a rig that would not is refused with the place named.
+    A symbolic link is written through: its target is replaced, the link stays.
+    Temp files an interrupted save left in that folder are removed first.
     """
-    p = pathlib.Path(path)
-    text = dumps_rig(rig)
-    data = text.encode("utf-8", "surrogatepass")
+    p = write_target(pathlib.Path(path))
+    data = _file_bytes(rig)
     if len(data) > MAX_FILE_BYTES:
         raise _too_big(len(data), saving=True)
     if check:
@@ -243,9 +283,11 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
         mode = os.stat(p).st_mode & 0o7777
     except OSError:
         pass
+    clean_stale_temps(folder)
     tmp_name = None
     try:
-        fd, tmp_name = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=folder)
+        fd, tmp_name = tempfile.mkstemp(prefix=f"{TEMP_PREFIX}{p.name}.", suffix=TEMP_SUFFIX, dir=folder)
+        _hold(fd)  # marks the temp file as in use, so another save's clean-up leaves it alone
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
@@ -267,6 +309,67 @@ def save_rig(rig: m.Rig, path: str | os.PathLike[str], *, check: bool = True) ->
                 os.unlink(tmp_name)
             except OSError:
                 log.warning("could not remove the temporary file %s", tmp_name)
+
+
+def write_target(p: pathlib.Path) -> pathlib.Path:
+    """The file a save to ``p`` replaces: the final target when ``p`` is a symbolic link (a chain too)."""
+    if not p.is_symlink():
+        return p
+    return pathlib.Path(os.path.realpath(p))
+
+
+#: The hidden temp file of a save: "." + rig file name + "." + 8 random characters + ".tmp".
+_TEMP_NAME = re.compile(r"^\.(?P<rig>.+\.json)\.[a-z0-9_]{8}\.tmp$")
+#: Without locks (not POSIX), a temp file this old (s) is taken as left by a killed save.
+_STALE_TEMP_S = 3600.0
+
+
+def _hold(fd: int) -> None:
+    if fcntl is not None:
+        fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+
+
+def clean_stale_temps(folder: str | os.PathLike[str]) -> list[str]:
+    """Remove the temp files killed saves of rig files left in ``folder``; the names removed.
+
+    Only our own naming is touched, only regular files, and only when no save still writes
+    one (a running save holds a lock on its temp file; without locks, when older than an hour).
+    """
+    removed: list[str] = []
+    try:
+        names = [e for e in os.scandir(folder) if _TEMP_NAME.match(e.name)]
+    except OSError:
+        return removed
+    for entry in names:
+        try:
+            if not entry.is_file(follow_symlinks=False):
+                continue
+            if fcntl is None:
+                if time.time() - entry.stat().st_mtime < _STALE_TEMP_S:
+                    continue
+            else:
+                fd = os.open(entry.path, os.O_RDONLY | os.O_NONBLOCK | getattr(os, "O_NOFOLLOW", 0))
+                try:
+                    fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                except BlockingIOError:
+                    continue  # a save is writing it right now
+                finally:
+                    os.close(fd)
+            os.unlink(entry.path)
+            removed.append(entry.name)
+        except OSError as exc:
+            log.info("left the temp file %s: %s", entry.path, exc)
+    if removed:
+        log.info("removed %d temp file(s) left by an interrupted save in %s", len(removed), folder)
+    return removed
+
+
+def _file_bytes(rig: m.Rig) -> bytes:
+    """What a save writes: indented JSON, or compact JSON when the indented text would pass the size cap."""
+    data = dumps_rig(rig).encode("utf-8", "surrogatepass")
+    if len(data) > MAX_FILE_BYTES:
+        data = dumps_rig(rig, compact=True).encode("utf-8", "surrogatepass")
+    return data
 
 
 def migrate(d: dict[str, Any]) -> dict[str, Any]:
@@ -313,10 +416,12 @@ def embed_specs(rig: m.Rig) -> m.Rig:
 # Bytes and JSON
 
 
-def _too_big(size: int, saving: bool = False) -> RigFileError:
+def _too_big(size: int, saving: bool = False, opened: bool = False) -> RigFileError:
     mb = size / (1024 * 1024)
     limit = MAX_FILE_BYTES // (1024 * 1024)
     verb = "would be" if saving else "is"
+    if opened:
+        verb = "is written so tightly that saved again it would be"
     return RigFileError(
         f"the rig file {verb} {mb:.1f} MB; a rig file may be at most {limit} MB including an embedded "
         "background image (keep a large image as a file beside the rig instead)",
@@ -432,6 +537,34 @@ def _check_format_and_version(d: dict[str, Any]) -> None:
         raise RigFileError(f"there is no rig format version {version}", where="version")
 
 
+#: Lists checked for size before anything else reads the file (a huge list is refused at once).
+_SIZED_LISTS = (("rig", "points"), ("rig", "ropes"), ("rig", "forces"), ("rig", "materials"), ("rig", "hardware"),
+                ("site", "features"))
+
+
+def _check_sizes(d: dict[str, Any]) -> None:
+    """Refuse, before any slow step, a rig with more entries than the app can handle (limits.py)."""
+    for obj, key in _SIZED_LISTS:
+        holder = d.get("site") if obj == "site" else d
+        value = holder.get(key) if isinstance(holder, dict) else None
+        if isinstance(value, list) and len(value) > limits.max_items(obj, key):
+            path = ("site", key) if obj == "site" else (key,)
+            raise RigFileError(too_many(path, len(value), limits.max_items(obj, key)), where=_where(path))
+    ropes, site = d.get("ropes"), d.get("site")
+    features = site.get("features") if isinstance(site, dict) else None
+    passes = sum(len(r["path"]) for r in ropes if isinstance(r, dict) and isinstance(r.get("path"), list)) \
+        if isinstance(ropes, list) else 0
+    if passes > limits.MAX_PASSES_IN_ALL:
+        raise RigFileError(f"the ropes pass points {passes:,} times in all; Ropewright handles at most "
+                           f"{limits.MAX_PASSES_IN_ALL:,} passes in one rig (split the site into several rigs)",
+                           where="ropes")
+    corners = sum(len(f.get(k) or ()) for f in features if isinstance(f, dict) for k in ("polygon", "line")
+                  if isinstance(f.get(k), list)) if isinstance(features, list) else 0
+    if corners > limits.MAX_CORNERS_IN_ALL:
+        raise RigFileError(f"the site features have {corners:,} corners in all; Ropewright handles at most "
+                           f"{limits.MAX_CORNERS_IN_ALL:,} (simplify the outlines)", where="site.features")
+
+
 def _check_plain_data(d: Any) -> None:
     """Every number finite and within float range, every text valid Unicode (iterative walk).
 
@@ -441,8 +574,13 @@ def _check_plain_data(d: Any) -> None:
     if plain_data_ok(d, _DUPLICATE):
         return
     stack: list[tuple[Any, tuple[Any, ...]]] = [(d, ())]
+    seen = 0
     while stack:
         value, path = stack.pop()
+        seen += 1
+        if seen > limits.MAX_VALUES:
+            raise RigFileError(f"the file holds more than {limits.MAX_VALUES:,} values (numbers, texts, lists); "
+                               "Ropewright cannot handle a rig this large", where=_where(path[:1]))
         if isinstance(value, dict):
             if _DUPLICATE in value:
                 key = value[_DUPLICATE]
@@ -522,6 +660,8 @@ def _convert(value: Any, kind: str) -> Any:
         return (float(value[0]), float(value[1]))
     if kind == "pairs":
         return tuple((float(a), float(b)) for a, b in value)
+    if kind == "flow":
+        return m.Flow(speed_m_s=float(value["speed_m_s"]), bearing_deg=float(value["bearing_deg"]))
     return value
 
 
@@ -550,6 +690,8 @@ def _build_rig(d: dict[str, Any], strict: bool) -> m.Rig:
     for key in ("view", "title", "notes"):
         if key in d:
             kw[key] = d[key]
+    if "print_frame" in d:
+        kw["print_frame"] = _print_frame(d["print_frame"])
     # spec sheets stay open to extension even in strict mode: the built-in library
     # itself carries extra properties (e.g. a webbing's width_mm) that saving embeds
     kw["materials"] = tuple(_make(m.Material, x, _MATERIAL, f"materials[{i}]", False)
@@ -562,6 +704,16 @@ def _build_rig(d: dict[str, Any], strict: bool) -> m.Rig:
     kw["ropes"] = tuple(_build_rope(x, f"ropes[{i}]", strict) for i, x in enumerate(d["ropes"]))
     kw["extra"] = {k: v for k, v in d.items() if k not in _TOP_KEYS}
     return _remember(m.Rig(**kw), d.keys())
+
+
+def _print_frame(d: Mapping[str, Any]) -> tuple[float, float, float, float]:
+    """The print frame rectangle (x0, y0, x1, y1), site metres, corners in any order; an empty one is an error."""
+    x0, y0, x1, y1 = (float(d[k]) for k in _FRAME_KEYS)
+    frame = (min(x0, x1), min(y0, y1), max(x0, x1), max(y0, y1))
+    if frame[2] - frame[0] <= 0 or frame[3] - frame[1] <= 0:
+        raise RigFileError("the print frame has no area: give two opposite corners that differ in x and in y",
+                           where="print_frame")
+    return frame
 
 
 def _build_site(d: dict[str, Any], strict: bool) -> m.Site:
@@ -649,6 +801,8 @@ def _encode(value: Any, kind: str) -> Any:
         return [float(value[0]), float(value[1])]
     if kind == "pairs":
         return [[float(a), float(b)] for a, b in value]
+    if kind == "flow":
+        return {"speed_m_s": float(value.speed_m_s), "bearing_deg": float(value.bearing_deg)}
     return str(value)
 
 
@@ -668,10 +822,12 @@ def _rope_to(rope: m.Rope) -> dict[str, Any]:
     out: dict[str, Any] = {"id": str(rope.id), "material": str(rope.material)}
     if "label" in pres or rope.label:
         out["label"] = str(rope.label)
+    if rope.length_m is not None:
+        out["length_m"] = float(rope.length_m)
     if "rigged" in pres or rope.rigged != m.Rigging():
         out["rigged"] = _to_simple(rope.rigged, _RIGGING)
     out["path"] = [_to_simple(ps, _PASS) for ps in rope.path]
-    _write_extra(out, rope.extra, ("id", "material", "label", "rigged", "path"))
+    _write_extra(out, rope.extra, ("id", "material", "label", "length_m", "rigged", "path"))
     return out
 
 
@@ -719,6 +875,9 @@ def _check_semantics(rig: m.Rig, base_dir: str | os.PathLike[str] | None) -> Non
     for i, p in enumerate(rig.points):
         _check_coordinate(p.x, f"points[{i}].x")
         _check_coordinate(p.y, f"points[{i}].y")
+        if p.role is not None and p.kind != "person":
+            raise RigFileError(f'"{p.name}" is a {p.kind}: only a person has a role', where=f"points[{i}].role")
+        _raise_problem(wetted_point_problem(p), f"points[{i}]")
     for i, f in enumerate(rig.forces):
         if f.at not in points:
             raise RigFileError(f'point "{f.at}" does not exist', where=f"forces[{i}].at")
@@ -857,6 +1016,7 @@ def _check_site(site: m.Site, base_dir: str | os.PathLike[str] | None) -> None:
         if feat.polygon is not None and len(feat.polygon) < 3:
             raise RigFileError(f"a polygon needs at least 3 points, has {len(feat.polygon)}",
                                where=f"{here}.polygon")
+        _raise_problem(water_feature_problem(feat), here)
         for key in ("polygon", "line"):
             for k, (x, y) in enumerate(getattr(feat, key) or ()):
                 _check_coordinate(x, f"{here}.{key}[{k}][0]")
@@ -920,5 +1080,5 @@ def _fsync_folder(folder: pathlib.Path) -> None:
 
 __all__ = [
     "FORMAT", "VERSION", "MAX_FILE_BYTES", "load_rig", "loads_rig", "rig_from_dict", "rig_to_dict",
-    "dumps_rig", "save_rig", "migrate", "embed_specs", "check_rig", "schema", "RigFileError",
+    "dumps_rig", "save_rig", "write_target", "clean_stale_temps", "migrate", "embed_specs", "check_rig", "schema", "RigFileError",
 ]

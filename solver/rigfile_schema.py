@@ -15,6 +15,7 @@ from importlib import resources
 from typing import Any, Callable, Iterable, Mapping, Sequence
 
 from solver.errors import RigFileError
+from solver.limits import MAX_COORDINATE_M
 
 log = logging.getLogger(__name__)
 
@@ -150,6 +151,9 @@ def _translate(err: Any) -> tuple[str, str]:
         return where, f"must be one of {choices}; got {show_value(inst)}"
     if kw == "const":
         return where, f"must be {show_value(val)}, got {show_value(inst)}"
+    if kw in ("minimum", "maximum") and abs(val) == MAX_COORDINATE_M and isinstance(inst, (int, float)):
+        return where, (f"{inst:g} m is more than {MAX_COORDINATE_M / 1000:g} km from the site origin; "
+                       "is the unit right?")
     if kw == "minimum":
         return where, f"must be at least {val:g}, got {show_value(inst)}"
     if kw == "exclusiveMinimum":
@@ -168,7 +172,18 @@ def _translate(err: Any) -> tuple[str, str]:
         return where, f"needs at least {val} {item}{'s' if val != 1 else ''}, has {len(inst)}"
     if kw == "minLength":
         return where, "must not be empty"
+    if kw == "maxLength":
+        return where, f"is {len(inst):,} characters long; at most {val:,} fit here - shorten it"
+    if kw == "maxItems":
+        return where, too_many(path, len(inst), val)
     return where, f"is not valid here ({show_value(inst)})"
+
+
+def too_many(path: Sequence[Any], count: int, limit: int) -> str:
+    """Words for a list longer than the app handles (``limit`` entries; solver.limits)."""
+    noun = _NOUNS.get(str(path[-1]), "entrie") if path else "entrie"
+    return (f"holds {count:,} {noun}s; Ropewright handles at most {limit:,} in one rig "
+            "(split the site into several rigs)")
 
 
 def _is_pair_schema(err: Any) -> bool:

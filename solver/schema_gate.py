@@ -4,7 +4,7 @@
 value); this module compiles the same schema once into nested Python closures that
 answer only "valid or not" in a small fraction of that.  It understands exactly the
 keywords the rig schema uses (draft 2020-12: ``type``, ``properties``, ``required``,
-``items``, ``prefixItems``, ``minItems``, ``minLength``, ``enum``, ``const``,
+``items``, ``prefixItems``, ``minItems``, ``maxItems``, ``minLength``, ``maxLength``, ``enum``, ``const``,
 ``minimum``, ``maximum``, ``exclusiveMinimum``, and local ``$ref`` already inlined);
 a schema with any other keyword does not compile (:class:`Unsupported`), so the caller
 falls back to ``jsonschema`` rather than pass something unchecked.  When the answer is
@@ -20,8 +20,9 @@ Check = Callable[[Any], bool]
 
 #: Keywords that only annotate a schema and never change what is valid.
 _ANNOTATIONS = frozenset({"$schema", "$id", "title", "description", "$comment", "default", "examples"})
-_SUPPORTED = frozenset({"type", "properties", "required", "items", "prefixItems", "minItems", "minLength",
-                        "enum", "const", "minimum", "maximum", "exclusiveMinimum"}) | _ANNOTATIONS
+_SUPPORTED = frozenset({"type", "properties", "required", "items", "prefixItems", "minItems", "maxItems",
+                        "minLength", "maxLength", "enum", "const", "minimum", "maximum",
+                        "exclusiveMinimum"}) | _ANNOTATIONS
 
 
 class Unsupported(ValueError):
@@ -106,8 +107,12 @@ def compile_schema(schema: Any) -> Check:
             checks.append(lambda v, x=schema[key], c=cmp: not _is_number(v) or c(v, x))
     if "minLength" in schema:
         checks.append(lambda v, n=schema["minLength"]: not isinstance(v, str) or len(v) >= n)
+    if "maxLength" in schema:
+        checks.append(lambda v, n=schema["maxLength"]: not isinstance(v, str) or len(v) <= n)
     if "minItems" in schema:
         checks.append(lambda v, n=schema["minItems"]: not isinstance(v, list) or len(v) >= n)
+    if "maxItems" in schema:
+        checks.append(lambda v, n=schema["maxItems"]: not isinstance(v, list) or len(v) <= n)
     if "required" in schema:
         keys = tuple(schema["required"])
 
@@ -195,9 +200,9 @@ def _leaf_check(schema: dict[str, Any]) -> Check | None:
             return True
 
         return number
-    if kind == "string" and rest <= {"minLength"}:
-        n = schema.get("minLength", 0)
-        return lambda v, n=n: type(v) is str and len(v) >= n
+    if kind == "string" and rest <= {"minLength", "maxLength"}:
+        lo, hi = schema.get("minLength", 0), schema.get("maxLength", float("inf"))
+        return lambda v, lo=lo, hi=hi: type(v) is str and lo <= len(v) <= hi
     return None
 
 

@@ -38,9 +38,13 @@ class StretchCurve:
             )
         self._t = t  # knots, tension (N)
         self._e = e  # knots, strain
-        self._k = np.diff(t) / np.diff(e)  # slope of each piece, N per unit strain
-        # energy at each knot: trapezoid areas
-        self._w = np.concatenate(([0.0], np.cumsum(0.5 * (t[1:] + t[:-1]) * np.diff(e))))
+        with np.errstate(over="ignore", divide="ignore", invalid="ignore"):  # checked just below, in words
+            self._k = np.diff(t) / np.diff(e)  # slope of each piece, N per unit strain
+            # energy at each knot: trapezoid areas
+            self._w = np.concatenate(([0.0], np.cumsum(0.5 * (t[1:] + t[:-1]) * np.diff(e))))
+        if not (np.all(np.isfinite(self._k)) and np.all(self._k > 0.0) and np.all(np.isfinite(self._w))):
+            raise ValueError("the stretch table rises too steeply (or too little) to compute with: "
+                             "check its numbers, strain is a fraction (0.05 = 5 %)")
         # one straight piece from (0, 0): the piecewise formulas reduce to T = k0 eps exactly
         self._linear = len(self._k) == 1
         self._k0 = float(self._k[0])

@@ -3,8 +3,11 @@
 Everything inside Ropewright is SI (metres, newtons).  Conversion happens only
 where a person reads or types a number.  Factors are the exact ones of
 NIST SP 811 (2008), Appendix B: 1 ft = 0.3048 m, 1 lbf = 4.4482216152605 N.
-Typed text is parsed with pint, so "12 ft", "3.5kN", "800 lbf" and "2,500 N"
-all work; a bare number is taken in the field's own unit.
+Typed text is parsed with pint, so "12 ft", "3.5kN", "800 lbf" and "2,500,000 N"
+all work; a bare number is taken in the field's own unit.  Numbers are read by the
+rules of the user's locale, given as its decimal mark (``decimal``, "." or ","): the
+other mark may only group thousands.  What two habits read a thousand times apart
+("1,000" is 1000 with a decimal point and 1.0 with a decimal comma) is refused in words.
 """
 
 from __future__ import annotations
@@ -43,7 +46,10 @@ _UNIT_ALIASES: dict[str, str] = {
     "lbf": "force_pound", "lb": "force_pound", "lbs": "force_pound", "pound": "force_pound", "pounds": "force_pound",
     "kgf": "kilogram_force", "kg": "kilogram_force",
 }
-_NUMBER_UNIT = re.compile(r"^\s*([-+]?(?:\d[\d_]*\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([A-Za-z'/²^0-9 ]*?)\s*$")
+_NUMBER_UNIT = re.compile(r"^\s*([-+]?(?:\d[\d_.,]*|[.,]\d+)(?:[eE][-+]?\d+)?)\s*([A-Za-z'/²^0-9 ]*?)\s*$")
+#: spaces some locales group thousands with, allowed between digits
+_SPACE_GROUPS = re.compile(r"(?<=\d)[\u00a0\u202f\u2009](?=\d)")
+_MARK_NAMES = {".": "point", ",": "comma"}
 
 
 @lru_cache(maxsize=1)
@@ -100,13 +106,18 @@ def format_length(metres: float, unit: str = "m", digits: int | None = None) -> 
     return f"{v:.{d}f} {unit}"
 
 
+#: Thousands are grouped with a narrow no-break space, never a comma or a point, which readers of the
+#: two decimal habits take a thousand times apart (SI Brochure, 9th ed., BIPM 2019, 5.4.4).
+GROUP_SPACE = "\u202f"
+
+
 def format_force(newtons: float, unit: str = "kN", digits: int | None = None) -> str:
-    """A force for people, e.g. ``"2.71 kN"``, ``"610 lbf"``, ``"850 N"``."""
+    """A force for people, e.g. ``"2.71 kN"``, ``"610 lbf"``, ``"12 500 N"`` (thousands spaced)."""
     v = force_to(newtons, unit)
     if not math.isfinite(v):
         return "—"
     d = _digits(v, unit, "force") if digits is None else digits
-    text = f"{v:,.{d}f}" if unit != "kN" else f"{v:.{d}f}"
+    text = f"{v:,.{d}f}".replace(",", GROUP_SPACE) if unit != "kN" else f"{v:.{d}f}"
     return f"{text} {unit}"
 
 
@@ -118,27 +129,75 @@ def format_force_sig(newtons: float, unit: str = "kN", sig: int = 3) -> str:
     return f"{v:.{sig}g} {unit}"
 
 
-def _read_number(text: str, default_unit: str, what: str) -> tuple[float, str, str]:
+def _grouped(digits: str, mark: str) -> bool:
+    """True if ``digits`` is thousands grouped with ``mark``: 1-3 digits, then groups of exactly 3."""
+    parts = digits.lstrip("+-").split(mark)
+    return (1 <= len(parts[0]) <= 3 and all(p.isdigit() for p in parts)
+            and all(len(p) == 3 for p in parts[1:]))
+
+
+def plain_number(token: str, raw: str, decimal: str = ".") -> str:
+    """A typed number ``token`` (digits, marks, exponent) as Python float text, read with ``decimal``.
+
+    The other mark ("," when ``decimal`` is ".") may only group thousands, in groups of three.
+    UnitError in words for a wrong decimal mark, and for a single group ("1,000", "1.000"),
+    which the two habits read a thousand times apart.
+    """
+    if decimal not in _MARK_NAMES:
+        raise UnitError(f"unknown decimal mark {decimal!r}")
+    group = "," if decimal == "." else "."
+    mantissa, exp = re.match(r"^([^eE]*)(.*)$", token).groups()
+    mantissa = mantissa.replace("_", "")
+    if mantissa.count(decimal) > 1:
+        raise UnitError(f"{raw!r} has more than one decimal {_MARK_NAMES[decimal]}")
+    whole, _, frac = mantissa.partition(decimal)
+    if group in frac:
+        raise UnitError(f"{raw!r} is not a number as your settings write them "
+                        f"(a {_MARK_NAMES[decimal]} marks decimals, e.g. 1{group}250{decimal}5)")
+    if group in whole:
+        if not _grouped(whole, group):
+            raise UnitError(f"{raw!r}: use a {_MARK_NAMES[decimal]} for decimals "
+                            f"(e.g. 12{decimal}5), as your settings do")
+        if whole.count(group) == 1 and decimal not in mantissa:
+            head, tail = whole.split(group)
+            raise UnitError(f"{raw!r} is ambiguous: it could be {head}{tail} or {head}{decimal}{tail}; "
+                            f"type {head}{tail} or {head}{decimal}{tail} (no thousands "
+                            f"{_MARK_NAMES[group]})")
+        whole = whole.replace(group, "")
+    return whole + ("." + frac if decimal in mantissa else "") + exp
+
+
+def _read_number(text: str, default_unit: str, what: str, decimal: str = ".") -> tuple[float, str, str]:
     """Split typed text into (number, unit text, raw text); UnitError in words if it is not a number."""
     raw = (text or "").strip()
     if not raw:
-        raise UnitError(f"enter a {what}, e.g. 2.5 {default_unit}")
-    cleaned = raw.replace("\u2212", "-")
-    if re.search(r"\d,\d{1,2}(\D|$)", cleaned) and "." not in cleaned:
-        raise UnitError(f"{raw!r}: use a point for decimals (e.g. 12.5), not a comma")
-    m = _NUMBER_UNIT.match(cleaned.replace(",", ""))
+        raise UnitError(f"enter a {what}, e.g. 2{decimal}5 {default_unit}")
+    cleaned = _SPACE_GROUPS.sub("", raw.replace("\u2212", "-"))
+    m = _NUMBER_UNIT.match(cleaned)
     if not m:
-        raise UnitError(f"{raw!r} is not a number: type a {what} like 2.5 or 2.5 {default_unit}")
-    number = float(m.group(1).replace("_", ""))
+        raise UnitError(f"{raw!r} is not a number: type a {what} like 2{decimal}5 or 2{decimal}5 {default_unit}")
+    try:
+        number = float(plain_number(m.group(1), raw, decimal))
+    except ValueError:
+        raise UnitError(f"{raw!r} is not a number: type a {what} like 2{decimal}5") from None
     if not math.isfinite(number):
         raise UnitError(f"{raw!r} is not a finite number")
     return number, m.group(2), raw
 
 
-def _parse(text: str, default_unit: str, dimension: str, factors: dict[str, float], what: str) -> float:
+def read_plain_number(text: str, decimal: str = ".", what: str = "number") -> float:
+    """A typed plain number (no unit), read with the locale's ``decimal`` mark; UnitError in words."""
+    number, unit_text, raw = _read_number(text, "", what, decimal)
+    if unit_text:
+        raise UnitError(f"{raw!r} is not a number")
+    return number
+
+
+def _parse(text: str, default_unit: str, dimension: str, factors: dict[str, float], what: str,
+           decimal: str = ".") -> float:
     """Read typed text as an SI quantity of ``dimension``; bare numbers are in ``default_unit``."""
     _check_unit(default_unit, factors, what)
-    number, unit_text, raw = _read_number(text, default_unit, what)
+    number, unit_text, raw = _read_number(text, default_unit, what, decimal)
     if not unit_text:
         return number * factors[default_unit]
     if unit_text in factors:
@@ -155,10 +214,10 @@ def _parse(text: str, default_unit: str, dimension: str, factors: dict[str, floa
 
 
 def parse_in_table(text: str, default_unit: str, factors: dict[str, float], aliases: dict[str, str],
-                   what: str) -> float:
+                   what: str, decimal: str = ".") -> float:
     """Typed text in one of a few named units (speed, area) as SI; bare numbers are in ``default_unit``."""
     _check_unit(default_unit, factors, what)
-    number, unit_text, raw = _read_number(text, default_unit, what)
+    number, unit_text, raw = _read_number(text, default_unit, what, decimal)
     if not unit_text:
         return number * factors[default_unit]
     unit = aliases.get(unit_text.replace(" ", "").lower()) or aliases.get(unit_text)
@@ -167,24 +226,35 @@ def parse_in_table(text: str, default_unit: str, factors: dict[str, float], alia
     return number * factors[unit]
 
 
-def parse_speed(text: str, unit: str = "m/s") -> float:
+def speed_unit_for(length_unit: str) -> str:
+    """The speed unit people read beside a length unit: m/s with metres, mph with feet (as the load estimate)."""
+    return "mph" if length_unit == "ft" else "m/s"
+
+
+def format_speed(m_s: float, length_unit: str = "m") -> str:
+    """A current speed for people in the rig's unit system, e.g. ``"2.0 m/s"``, ``"4.5 mph"``."""
+    unit = speed_unit_for(length_unit)
+    return f"{m_s / SPEED_FACTORS[unit]:.1f} {unit}"
+
+
+def parse_speed(text: str, unit: str = "m/s", decimal: str = ".") -> float:
     """Typed current speed (``"2"``, ``"4.5 mph"``, ``"7 km/h"``) in m/s."""
-    return parse_in_table(text, unit, SPEED_FACTORS, SPEED_ALIASES, "speed")
+    return parse_in_table(text, unit, SPEED_FACTORS, SPEED_ALIASES, "speed", decimal)
 
 
-def parse_area(text: str, unit: str = "m²") -> float:
+def parse_area(text: str, unit: str = "m²", decimal: str = ".") -> float:
     """Typed area (``"1.5"``, ``"16 ft2"``) in m²."""
-    return parse_in_table(text, unit, AREA_FACTORS, AREA_ALIASES, "area")
+    return parse_in_table(text, unit, AREA_FACTORS, AREA_ALIASES, "area", decimal)
 
 
-def parse_length(text: str, unit: str = "m") -> float:
+def parse_length(text: str, unit: str = "m", decimal: str = ".") -> float:
     """Typed length text (``"12"``, ``"40 ft"``, ``"3.2 m"``) in metres; UnitError in words if unreadable."""
-    return _parse(text, unit, "[length]", LENGTH_FACTORS, "length")
+    return _parse(text, unit, "[length]", LENGTH_FACTORS, "length", decimal)
 
 
-def parse_force(text: str, unit: str = "kN") -> float:
+def parse_force(text: str, unit: str = "kN", decimal: str = ".") -> float:
     """Typed force text (``"2.5"``, ``"2.5 kN"``, ``"600 lbf"``) in newtons; UnitError in words if unreadable."""
-    return _parse(text, unit, "[force]", FORCE_FACTORS, "force")
+    return _parse(text, unit, "[force]", FORCE_FACTORS, "force", decimal)
 
 
 def system_units(system: str) -> tuple[str, str]:

@@ -16,6 +16,14 @@ from sketchpad.geometry import to_scene
 
 
 @pytest.fixture(scope="session", autouse=True)
+def decimal_point_locale():
+    """Fields read numbers by the user's locale; tests type with a decimal point unless one sets another."""
+    from PySide6.QtCore import QLocale
+
+    QLocale.setDefault(QLocale(QLocale.English, QLocale.UnitedStates))
+
+
+@pytest.fixture(scope="session", autouse=True)
 def font_renders_text(qapp):
     """Missing fonts fail silently (empty boxes): make sure the theme's face has an "A"."""
     assert QFontMetrics(QFont(theme.FONT_FAMILY)).inFont("A"), f"font {theme.FONT_FAMILY!r} cannot draw 'A'"

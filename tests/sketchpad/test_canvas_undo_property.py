@@ -119,3 +119,40 @@ def test_200_random_edit_sequences_undo_to_the_opened_rig_exactly(main_window, e
         w.redo()
     assert w.document.rig == top
     _assert_canvas_shows(w, top)
+
+
+DELETION_HEAVY = st.one_of(
+    st.tuples(st.just("delete"), st.lists(index, min_size=1, max_size=3)),
+    st.tuples(st.just("rope"), st.lists(st.tuples(index, st.sampled_from(MIDDLE_HOWS)), min_size=2, max_size=6)),
+    st.tuples(st.just("add"), st.sampled_from(POINT_KINDS), coord, coord),
+    st.tuples(st.just("undo")),
+)
+
+
+@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(edits=st.lists(DELETION_HEAVY, min_size=1, max_size=12))
+def test_no_edit_leaves_a_rig_that_cannot_be_saved(main_window, edits):
+    """Deleting a point between two passes at one point (A, B, A) used to leave a rope passing A twice in a
+    row: the rig could no longer be saved or autosaved.  Every edit leaves a rig the file format accepts."""
+    from solver.rigfile import dumps_rig, loads_rig
+
+    w = main_window
+    w.document.replace_all(BASE)
+    for edit in edits:
+        _apply(w, edit)
+        loads_rig(dumps_rig(w.document.rig))  # raises RigFileError naming the place if it cannot be saved
+
+
+def test_deleting_the_point_between_two_passes_at_one_point_merges_them(main_window):
+    from solver.model import Pass, Rope
+    from solver.rigfile import dumps_rig, loads_rig
+
+    w = main_window
+    rope = Rope("R9", "kern-11", (Pass("L1"), Pass("A1", "pulley", "pulley-large"), Pass("G1", "sliding"),
+                                  Pass("A1", "tied"), Pass("H1", "hauled")))
+    w.document.replace_all(BASE.with_rope(rope))
+    w.canvas.select_keys([("point", "G1")])
+    w.delete_selection()
+    new = w.document.rig.rope("R9")
+    assert [ps.at for ps in new.path] == ["L1", "A1", "H1"] and new.path[-1].how == "hauled"
+    loads_rig(dumps_rig(w.document.rig))

@@ -81,6 +81,13 @@ def make_window(qtbot, data_dir):
     return make
 
 
+def _crash(ctl) -> None:
+    """What a crash leaves: the copy on disk, no timer, and the lock let go (the kernel drops it)."""
+    ctl.timer.stop()
+    if ctl._lock is not None:
+        ctl._lock.drop()
+
+
 def _edited(rig: Rig) -> Rig:
     """The rig with one anchor added (what a user would draw)."""
     return rig.with_point(Point(id=rig.new_id("A"), kind="anchor", x=3.0, y=7.5, label="new tree", capacity_N=12000.0))
@@ -188,8 +195,8 @@ def test_autosave_writes_a_file_and_recovery_restores_it_after_a_crash(make_wind
     path = ctl.autosave_now()
     assert path is not None and path.exists() and data_dir in path.parents
     assert rigfile.load_rig(path).points == drawn.points
-    # "crash": the window is never closed cleanly; a new session starts
-    ctl.timer.stop()
+    # "crash": the window is never closed cleanly and the kernel drops its lock; a new session starts
+    _crash(ctl)
     window2, doc2, ctl2, dialogs2 = make_window()
     assert ctl2.offer_recovery()
     assert dialogs2.kinds() == ["recover"]
@@ -228,7 +235,7 @@ def test_declining_recovery_keeps_the_empty_sketch_and_removes_the_copy(make_win
     window, doc, ctl, dialogs = make_window()
     doc.apply(_edited(doc.rig), "Add anchor")
     path = ctl.autosave_now()
-    ctl.timer.stop()
+    _crash(ctl)
     window2, doc2, ctl2, dialogs2 = make_window()
     dialogs2.recover_answer = False
     assert not ctl2.offer_recovery()

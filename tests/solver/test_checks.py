@@ -79,7 +79,7 @@ def test_anchor_over_is_danger_and_names_the_anchor_in_display_units():
     w = next(w for w in run_checks(rig, res) if w.code == "anchor-over")
     assert w.severity == "danger" and w.subject == "A" and "alder" in w.message
     # 21 kN = 4721 lbf (NIST SP 811: 1 lbf = 4.4482216152605 N)
-    assert f"{21000.0 / 4.4482216152605:,.0f} lbf" in w.message
+    assert f"{21000.0 / 4.4482216152605:,.0f} lbf".replace(",", "\u202f") in w.message  # thousands spaced
 
 
 @pytest.mark.parametrize(

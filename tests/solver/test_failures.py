@@ -66,8 +66,11 @@ def test_a_grab_letting_go_keeps_the_rope_length_of_both_runs():
 
 def test_raft_grab_letting_go_leaves_a_one_to_one_through_both_redirects():
     # T-method (check-values.md): hauling through two pulleys of efficiency 0.95 (library pulley-large)
-    # the load gets P * 0.95^2
+    # the load gets P * 0.95^2 (the sample's current taken off: the rope's drag would add to the load)
+    from dataclasses import replace as rep
+
     rig = load_rig(SAMPLES / "raft-3to1-redirect.rig.json")
+    rig = rep(rig, site=rep(rig.site, features=tuple(rep(f, flow=None) for f in rig.site.features)))
     f = next(f for f in scan(rig).failures if f.component.id == "main@G1")
     assert f.status == "holds"
     haul = rig.point("H1").haul_force
@@ -207,8 +210,13 @@ def test_the_rebuilt_rig_with_nothing_let_go_solves_to_the_intact_state(path):
     got = {(by_id[s.rope].rope.id, by_id[s.rope].passes[s.index][0]): s.tension_N for s in again.segments}
     want = {(s.rope, s.index): s.tension_N for s in intact.segments}
     assert got.keys() == want.keys()
+    from solver.water import in_water
+
+    # in moving water a bowed rope is cut afresh along its new chord: the same rope to the accuracy of the
+    # cut (tests/checks/test_water.py::test_segment_count_is_enough), not to round-off
+    rel = 1e-3 if in_water(rig) else 1e-6
     for k, t in want.items():
-        assert got[k] == pytest.approx(t, rel=1e-6, abs=1e-6), k
+        assert got[k] == pytest.approx(t, rel=rel, abs=1e-6), k
 
 
 def _two_systems_rig():

@@ -1,8 +1,9 @@
 """Mangled rig files never crash the reader: only a RigFileError naming a place, or a Rig that round-trips.
 
 Hypothesis mutates the real sample files: deletes keys, swaps types, swaps and
-duplicates ids, drops in huge numbers and NaN/Infinity tokens, then optionally
-truncates the text or splices in random bytes.
+duplicates ids, drops in huge numbers and NaN/Infinity tokens, hostile text (markup
+that loads files, overlong labels, decimal commas), then optionally truncates the
+text or splices in random bytes.
 """
 
 from __future__ import annotations
@@ -14,6 +15,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from solver import limits
 from solver.errors import RigFileError
 from solver.model import Rig
 from solver.rigfile import dumps_rig, loads_rig
@@ -30,6 +32,10 @@ _SCALARS = st.one_of(
     st.text(max_size=12),
     st.sampled_from(["", "L1", "A1", "G1", "H1", "P1", "tied", "pulley", "hauled", "edge", "kern-11",
                      "pulley-large", "../x.png", "/etc/passwd", "12,5", "NaN", "\u0000", "\ud7ff"]),
+    # hostile text: markup that loads files, overlong labels and ids, decimal commas, numbers as text
+    st.sampled_from(['<img src="/dev/zero">', '<img src="/etc/passwd"><b>x</b>', "&lt;img&gt;", "x" * 201,
+                     "y" * 101, "z" * 20_001, "1,000", "1.000", "1,2345", "2.500,5", "1e308"]),
+    st.sampled_from([1e12, 1e13, -1e5, 100_001.0, 1000, 1001, 10**309 // 10**300]),
 )
 _VALUES = st.recursive(_SCALARS, lambda inner: st.one_of(st.lists(inner, max_size=3),
                                                          st.dictionaries(st.text(max_size=6), inner, max_size=3)),
@@ -118,10 +124,14 @@ def _load_mangled(data: st.DataObject) -> str:
         assert "Traceback" not in str(err)
         return "error"
     assert isinstance(rig, Rig)
-    # whatever loads must save and load back to the very same rig
+    # whatever loads must save and load back to the very same rig: the reader and writer share one set of limits
     again = loads_rig(dumps_rig(rig, embed=False), strict=strict)
     assert again == rig
     assert loads_rig(dumps_rig(rig), strict=strict) is not None
+    # ... and whatever loads stays within the limits the app's fields and drawing rely on
+    assert len(rig.points) <= limits.max_items("rig", "points") and len(rig.notes) <= limits.max_chars("rig", "notes")
+    assert all(len(p.label) <= limits.max_chars("point", "label") for p in rig.points)
+    assert all(p.team is None or p.team <= 1000 for p in rig.points)
     return "rig"
 
 

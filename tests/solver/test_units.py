@@ -43,7 +43,8 @@ def test_length_round_trip_is_exact_to_rounding(value, unit):
         ("2.5", "kN", 2500.0),
         ("2.5 kN", "N", 2500.0),
         ("600 lbf", "kN", 600 * 4.4482216152605),  # NIST SP 811
-        ("2,500 N", "kN", 2500.0),
+        ("2,500,000 N", "kN", 2.5e6),
+        ("1,250.5 N", "kN", 1250.5),
         ("−1.5 kN", "kN", -1500.0),
         ("100 kgf", "kN", 100 * 9.80665),  # kilogram-force, NIST SP 811
     ],
@@ -79,7 +80,7 @@ def test_length_field_refuses_a_force():
 
 def test_formatting_shows_unit_and_sensible_digits():
     assert units.format_force(2710.0, "kN") == "2.71 kN"
-    assert units.format_force(2710.0, "lbf") == f"{2710.0 / 4.4482216152605:,.0f} lbf"
+    assert units.format_force(2710.0, "lbf") == f"{2710.0 / 4.4482216152605:,.0f} lbf".replace(",", "\u202f")
     assert units.format_length(12.345, "m") == "12.3 m"
     assert units.format_length(3.048, "ft") == "10.0 ft"
     assert units.format_force(math.nan, "kN") == "—"
@@ -107,3 +108,60 @@ def test_parse_area_in_square_feet_uses_the_exact_foot():
 def test_unknown_speed_unit_names_the_choices():
     with pytest.raises(UnitError, match="m/s, mph, km/h"):
         units.parse_speed("3 knots")
+
+
+# --- numbers by the locale's rules: a decimal point or a decimal comma ----------------------------
+@pytest.mark.parametrize("text, decimal, expected_N", [
+    ("1,2345", ",", 1234.5),  # 1.2345 kN: a comma user's decimal (was read as 12,345 kN)
+    ("2,5", ",", 2500.0),
+    ("1.250,5 N", ",", 1250.5),
+    ("1.250.000 N", ",", 1.25e6),
+    ("1\u202f250,5 N", ",", 1250.5),  # narrow no-break space groups thousands in some locales
+    ("1,000", ",", 1000.0),  # 1.000 kN with a decimal comma
+    ("1.5e3 N", ".", 1500.0),
+    ("1,5e3 N", ",", 1500.0),
+])
+def test_numbers_are_read_by_the_locales_decimal_mark(text, decimal, expected_N):
+    assert units.parse_force(text, "kN", decimal=decimal) == pytest.approx(expected_N, rel=1e-12)
+
+
+@pytest.mark.parametrize("text, decimal, words", [
+    ("1,000", ".", "ambiguous"),  # 1000 with a decimal point, 1.0 with a decimal comma
+    ("1.000", ",", "ambiguous"),
+    ("2,500 N", ".", "ambiguous"),
+    ("1,2345", ".", "point for decimals"),  # was read as 12,345 kN
+    ("12,5", ".", "point for decimals"),
+    ("2.5", ",", "comma for decimals"),
+    ("1.000,5", ".", "not a number as your settings write them"),
+    ("1,5,5", ",", "more than one decimal comma"),
+])
+def test_what_the_two_habits_read_differently_is_refused_in_words(text, decimal, words):
+    with pytest.raises(UnitError, match=words):
+        units.parse_force(text, "kN", decimal=decimal)
+
+
+_TYPED = st.text(alphabet="0123456789.,,..e- ", min_size=1, max_size=12)
+
+
+@settings(max_examples=300, deadline=None)
+@given(_TYPED)
+def test_no_typed_number_means_different_things_in_the_two_locales(text):
+    """Fuzz: anything typed is refused in words or read, and a text both a decimal-point and a decimal-comma
+    reader accept is the same number to both (no silent factor of a thousand)."""
+    read = {}
+    for mark in (".", ","):
+        try:
+            read[mark] = units.parse_force(text, "kN", decimal=mark)
+        except UnitError as exc:
+            assert exc.message
+    if len(read) == 2:
+        assert read["."] == read[","], (text, read)
+
+
+def test_shown_thousands_are_spaced_and_read_back_the_same_in_both_locales():
+    """A shown force is never "1,250 lbf" (1.25 to a decimal-comma reader): thousands are grouped with a
+    narrow space (SI Brochure, 9th ed., BIPM 2019, 5.4.4), and typed back it reads the same in both habits."""
+    shown = units.format_force(12_500.0, "N")
+    assert shown == "12\u202f500 N"
+    for mark in (".", ","):
+        assert units.parse_force(shown, "kN", decimal=mark) == 12_500.0

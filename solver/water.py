@@ -1,0 +1,364 @@
+"""Solving a rig in moving water: ropes bowed by the current and things in the water pushed downstream.
+
+How it works (plan view only; the elevation view has no current):
+
+* A free load or point with a wetted area and a shape gets the drag force at its position, along
+  the local flow (``solver.water_drag.body_drag``); a fixed one reports the current's push.
+* A rope piece that crosses moving water and is a run of its own (tied at both ends: a tether,
+  a line across the river) is split at the water's edge and its wet part cut into short segments
+  by hidden points.  Each hidden point is a tied pass, so it keeps its place along the rope (fixed
+  in arc length: each segment keeps its share of the run's unstretched length) and carries the
+  tension straight through up to the tangential share of the lumped drag, which the cross-flow
+  principle neglects.  This is the lumped-mass cable of the textbooks (Irvine, Cable Structures, ch. 1):
+  equal lumped loads on a string put its nodes on the funicular curve of the distributed load.
+* A wet piece of a longer run (through a pulley or an edge) stays straight: its drag is split
+  between its two ends by the lever rule and a warning says so.
+* The drag on a segment follows the segment's direction, so the rig is solved, the drag updated from
+  the solved directions and the rig solved again (warm) until the drag used and the drag of the
+  solved geometry agree to the solver's tolerance; the reported residual includes that mismatch.
+
+The hidden points never leave this module: the Result names only the user's points and ropes, and
+``Result.water`` carries each bowed rope (its polyline and the tension at both ends of its wet part).
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+from dataclasses import dataclass, replace
+from typing import Mapping
+
+import numpy as np
+
+from solver.materials import material_for
+from solver.model import Force, Pass, Point, Rig, Rope, Site
+from solver.result import Result, Warning_
+from solver.water_drag import body_drag, node_shares, rope_drag
+from solver.water_site import FlowField, flow_field
+
+log = logging.getLogger(__name__)
+
+#: Length of one hidden segment in the water, m, and the fewest/most per wet piece (accuracy vs speed: ours).
+SEGMENT_M = 2.0
+MIN_SEGMENTS = 6
+MAX_SEGMENTS = 24
+#: Outer iterations (drag from the solved directions) before giving up.
+MAX_ROUNDS = 60
+#: Drag mismatch aimed for, times the rig's force scale (the solver's own target, equilibrium.TARGET_REL).
+ROUND_REL = 1e-10
+#: Mismatch accepted, times the force scale (equilibrium.ACCEPT_REL).
+ACCEPT_REL = 1e-7
+#: Marks hidden ids; a user id never starts with it (checked).
+HIDDEN = "~water~"
+
+
+def in_water(rig: Rig) -> bool:
+    """True when the rig is drawn in plan over at least one moving water feature."""
+    return rig.view == "plan" and not flow_field(rig).empty
+
+
+def dry_site(rig: Rig) -> Rig:
+    """``rig`` with every current taken off its water features (still water)."""
+    feats = tuple(replace(f, flow=None) for f in rig.site.features)
+    return replace(rig, site=replace(rig.site, features=feats))
+
+
+def without_current(result: Result) -> Result:
+    """A still-water ``result`` that says so: the stroke-by-stroke haul (unstretched lengths given) has no current yet."""
+    note = Warning_("water-left-out", "", "The current's push is left out of this stroke-by-stroke haul: its "
+                                          "ropes and loads are solved in still water.", "warning")
+    return replace(result, warnings=tuple(result.warnings) + (note,))
+
+
+@dataclass(frozen=True)
+class _Chain:
+    """One subdivided piece: rope ``rope`` piece ``piece`` from ``a`` to ``b``, hidden points at fractions ``ts``."""
+
+    rope: str
+    piece: int
+    run: int
+    a: str
+    b: str
+    ts: tuple[float, ...]  # fractions of the drawn piece, strictly inside (0, 1)
+    hidden: tuple[str, ...]
+    sub_ropes: tuple[str, ...]
+    diameter_m: float
+    wet: tuple[tuple[float, float], ...]  # wet intervals of the drawn piece
+
+
+@dataclass(frozen=True)
+class _Lumped:
+    """A wet piece left straight (part of a run through a pulley or edge): drag split to its ends."""
+
+    rope: str
+    piece: int
+    a: str
+    b: str
+    diameter_m: float
+
+
+@dataclass
+class _Plan:
+    """The augmented rig's structure: the user's rig with wet runs cut into hidden segments."""
+
+    rig: Rig  # augmented, hidden points on their chords, no site features
+    chains: list[_Chain]
+    lumped: list[_Lumped]
+    rope_map: dict[str, tuple[str, int, int]]  # augmented rope id -> (user rope, piece offset, run; -1 kept)
+    notes: list[Warning_]
+    wet_bodies: list[Point]
+
+
+def _hidden_id(rope: str, piece: int, j: int) -> str:
+    return f"{HIDDEN}{rope}~{piece}~{j}"
+
+
+def _fractions(wet: list[tuple[float, float]], length: float) -> list[float]:
+    """Node fractions along a piece: the water's edges, and each wet interval cut into short segments."""
+    wet_len = sum(t1 - t0 for t0, t1 in wet) * length
+    n_total = int(min(MAX_SEGMENTS, max(MIN_SEGMENTS, math.ceil(wet_len / SEGMENT_M))))
+    ts: set[float] = set()
+    for t0, t1 in wet:
+        n = 2 * max(1, round(n_total * (t1 - t0) * length / max(wet_len, 1e-12) / 2))  # even: a node mid-way
+        ts.update(np.linspace(t0, t1, n + 1).tolist())
+    return sorted(t for t in ts if 1e-9 < t < 1 - 1e-9)
+
+
+def _plan(rig: Rig, ff: FlowField) -> _Plan:
+    """Cut every wet single-piece run of ``rig`` into hidden tied segments; note the wet pieces left straight."""
+    pts = {p.id: p for p in rig.points}
+    ropes: list[Rope] = []
+    hidden_points: list[Point] = []
+    chains: list[_Chain] = []
+    lumped: list[_Lumped] = []
+    rope_map: dict[str, tuple[str, int]] = {}
+    notes: list[Warning_] = []
+    for rope in rig.ropes:
+        try:
+            mat = material_for(rig, rope.material)
+            diameter = mat.diameter
+        except Exception:  # noqa: BLE001 - an unknown material is the solver's error to name
+            diameter = None
+        cut_runs: dict[int, tuple[float, ...]] = {}
+        for run in rope.runs():
+            for k in run.piece_indices:
+                a, b = pts.get(rope.path[k].at), pts.get(rope.path[k + 1].at)
+                if a is None or b is None:
+                    continue
+                wet = ff.wet_intervals(a.xy, b.xy)
+                if not wet:
+                    continue
+                if diameter is None:
+                    notes.append(Warning_("rope-drag-unknown", rope.id,
+                                          f'rope "{rope.name}" crosses moving water but its material has no '
+                                          f'diameter: the water\'s push on it is left out', "warning"))
+                    continue
+                if run.last - run.first == 1 and not run.hauled:
+                    cut_runs[k] = tuple(_fractions(wet, math.dist(a.xy, b.xy)))
+                    chains.append(_Chain(rope.id, k, run.index, a.id, b.id, cut_runs[k], (), (), diameter,
+                                         tuple(wet)))
+                else:
+                    lumped.append(_Lumped(rope.id, k, a.id, b.id, diameter))
+                    notes.append(Warning_("rope-drag-straight", rope.id,
+                                          f'rope "{rope.name}" between {a.name} and {b.name} runs through a pulley '
+                                          f'or edge and crosses moving water: its drag is carried to its two ends '
+                                          f'and the piece is drawn straight (its bow is not modelled)', "info"))
+        if not cut_runs:
+            ropes.append(rope)
+            rope_map[rope.id] = (rope.id, 0, -1)
+            continue
+        for run in rope.runs():  # one rope per run (a tied pass fixes the rope there: the same rope)
+            k = run.first
+            if k in cut_runs:
+                ts = cut_runs[k]
+                a, b = pts[rope.path[k].at], pts[rope.path[k + 1].at]
+                hid = tuple(_hidden_id(rope.id, k, j) for j in range(len(ts)))
+                for h, t in zip(hid, ts):
+                    hidden_points.append(Point(id=h, kind="point", x=a.x + (b.x - a.x) * t,
+                                               y=a.y + (b.y - a.y) * t, label=f'rope "{rope.name}" in the water'))
+                ends = (rope.path[k],) + tuple(Pass(at=h) for h in hid) + (rope.path[k + 1],)
+                n = len(ends) - 1
+                cuts = (0.0, *ts, 1.0)
+                subs = []
+                for j in range(n):
+                    sid = f"{HIDDEN}{rope.id}~{k}~s{j}"
+                    subs.append(sid)
+                    # each segment keeps its share of the run's unstretched length: slack in proportion too
+                    rigged = rope.rigged if rope.rigged.pretension_N is not None else \
+                        replace(rope.rigged, slack_m=rope.rigged.slack_m * (cuts[j + 1] - cuts[j]))
+                    first = replace(ends[j], how="tied") if j else ends[j]
+                    last = replace(ends[j + 1], how="tied", hardware=None) if j < n - 1 else ends[j + 1]
+                    ropes.append(Rope(id=sid, material=rope.material, path=(first, last), rigged=rigged,
+                                      label=rope.name, extra=rope.extra))
+                    rope_map[sid] = (rope.id, k, run.index)
+                i = next(i for i, c in enumerate(chains) if c.rope == rope.id and c.piece == k)
+                chains[i] = replace(chains[i], hidden=hid, sub_ropes=tuple(subs))
+            else:
+                rid = f"{HIDDEN}{rope.id}~r{run.index}"
+                ropes.append(Rope(id=rid, material=rope.material, path=rope.path[run.first:run.last + 1],
+                                  rigged=rope.rigged, label=rope.name, extra=rope.extra))
+                rope_map[rid] = (rope.id, run.first, run.index)
+    bodies = [p for p in rig.points if p.wetted_area_m2 and p.drag_shape and ff.feature_at(p.x, p.y) is not None
+              or (p.wetted_area_m2 and p.drag_shape and not p.is_fixed)]
+    aug = replace(rig, points=rig.points + tuple(hidden_points), ropes=tuple(ropes),
+                  site=Site(image=None, features=(), extra={}))
+    return _Plan(aug, chains, lumped, rope_map, notes, bodies)
+
+
+def _positions(result: Result, plan: _Plan, base: Mapping[str, tuple[float, float]]) -> dict[str, tuple[float, float]]:
+    return {**base, **result.points} if result.points else dict(base)
+
+
+def _drag_forces(plan: _Plan, ff: FlowField, at: Mapping[str, tuple[float, float]]) -> tuple[dict[str, np.ndarray], dict]:
+    """Drag (N) on every point at positions ``at``: lumped rope drag and body drag; and each chain's details."""
+    forces: dict[str, np.ndarray] = {}
+    chain_info = {}
+    if plan.chains:  # every cut rope at once: one flow lookup for all segment middles
+        ids = [pid for c in plan.chains for pid in (c.a, *c.hidden, c.b)]
+        nodes = np.array([at[pid] for pid in ids], dtype=float)
+        bounds = np.cumsum([0] + [len(c.hidden) + 2 for c in plan.chains])
+        inner = np.ones(len(ids) - 1, dtype=bool)
+        inner[bounds[1:-1] - 1] = False  # no segment from one chain's last node to the next chain's first
+        mid = 0.5 * (nodes[1:] + nodes[:-1])
+        vel = np.zeros_like(mid)
+        vel[inner] = ff.velocity_at(mid[inner])
+        seg = np.diff(nodes, axis=0)
+        for c, i0, i1 in zip(plan.chains, bounds[:-1], bounds[1:]):
+            seg_f = rope_drag(nodes[i0:i1], vel[i0:i1 - 1], c.diameter_m)
+            shares = node_shares(seg_f)
+            for pid, f in zip(ids[i0:i1], shares):
+                old = forces.get(pid)
+                forces[pid] = f if old is None else old + f
+            chain_info[(c.rope, c.piece)] = (nodes[i0:i1], seg_f)
+        del seg
+
+    def add(pid: str, f: np.ndarray) -> None:
+        old = forces.get(pid)
+        forces[pid] = f if old is None else old + f
+
+    for lp in plan.lumped:
+        a, b = np.array(at[lp.a]), np.array(at[lp.b])
+        wet = ff.wet_intervals(tuple(a), tuple(b))
+        for t0, t1 in wet:
+            p0, p1 = a + (b - a) * t0, b + (b - a) * (t1 - 1)
+            f = rope_drag(np.array([p0, p1]), ff.velocity_at(0.5 * (p0 + p1)), lp.diameter_m)[0]
+            tm = 0.5 * (t0 + t1)
+            add(lp.a, (1 - tm) * f)
+            add(lp.b, tm * f)
+    for p in plan.wet_bodies:
+        add(p.id, body_drag(ff.velocity_at(np.array(at[p.id]))[0], float(p.wetted_area_m2), str(p.drag_shape)))
+    return forces, chain_info
+
+
+def _with_forces(plan: _Plan, forces: Mapping[str, np.ndarray]) -> Rig:
+    fixed = {p.id for p in plan.rig.points if p.is_fixed}
+    extra = tuple(Force(at=pid, magnitude_N=float(math.hypot(*f)), direction_deg=math.degrees(math.atan2(f[1], f[0])),
+                        label="water") for pid, f in forces.items() if pid not in fixed and (f[0] or f[1]))
+    return replace(plan.rig, forces=plan.rig.forces + extra)
+
+
+def _mismatch(old: Mapping[str, np.ndarray], new: Mapping[str, np.ndarray], fixed: set[str]) -> float:
+    keys = (set(old) | set(new)) - fixed
+    return max((float(np.hypot(*(np.asarray(new.get(k, 0.0)) - np.asarray(old.get(k, 0.0)) + np.zeros(2))))
+                for k in keys), default=0.0)
+
+
+def _scale(rig: Rig, forces: Mapping[str, np.ndarray], result: Result) -> float:
+    vals = [float(np.hypot(*f)) for f in forces.values()]
+    vals += [f.magnitude_N for f in rig.forces] + [s.tension_N for s in result.segments]
+    return max(vals + [1e-9])
+
+
+def solve_in_water(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True) -> Result:
+    """Equilibrium of ``rig`` with the current's drag on ropes and bodies (see the module docstring)."""
+    from solver.equilibrium import solve
+
+    if any(p.id.startswith(HIDDEN) for p in rig.points) or any(r.id.startswith(HIDDEN) for r in rig.ropes):
+        return Result(status="invalid", message=f'ids may not begin with "{HIDDEN}"')
+    ff = flow_field(rig)
+    plan = _plan(rig, ff)
+    fixed = {p.id for p in plan.rig.points if p.is_fixed}
+    at = {p.id: p.xy for p in plan.rig.points}
+    if start:
+        at.update({k: tuple(v) for k, v in start.items() if k in at})
+        at.update(_LAST_BOW.start(plan, at))
+    forces, _ = _drag_forces(plan, ff, at)
+    warm = dict(at) if start else None
+    result = None
+    gap = math.inf
+    iterations = 0
+    for rounds in range(1, MAX_ROUNDS + 1):
+        result = solve(_with_forces(plan, forces), start=warm, motion=motion, ideal=False)
+        iterations += result.iterations
+        log.debug("round %d: %d iterations, %s", rounds, result.iterations, result.status)
+        if not result.points or result.status not in ("ok", "diverged"):
+            break
+        at = _positions(result, plan, at)
+        new, _ = _drag_forces(plan, ff, at)
+        gap = _mismatch(forces, new, fixed)
+        forces = new
+        warm = at
+        if gap <= ROUND_REL * _scale(rig, forces, result):
+            break
+    if ideal and result is not None and result.ok and result.ma_ideal is None:
+        # friction acts: the frictionless re-solve behind the ideal MA, once, with the settled drag
+        ma_ideal = solve(_with_forces(plan, forces), start=at, motion=motion, ideal=True).ma_ideal
+        result = replace(result, ma_ideal=ma_ideal)
+    if result is not None and result.ok:
+        _LAST_BOW.keep(plan, at)
+    result = replace(result, iterations=iterations)
+    return _mapped(rig, plan, ff, result, forces, gap, rounds)
+
+
+class _BowMemo:
+    """The last solved bow of each cut rope, to start the next warm solve from (drag speed only).
+
+    Keyed by (rope, piece); a warm solve places each hidden point at its chord fraction between the
+    (possibly moved) ends plus the old bow's offset from its chord at that fraction.  Guarded by a
+    lock (live solves run off the GUI thread); it only chooses a starting point, never an answer: the
+    solve is iterated to the same tolerance from any start (tested against a cold solve).
+    """
+
+    def __init__(self) -> None:
+        import threading
+
+        self._lock = threading.Lock()
+        self._bows: dict[tuple[str, int], tuple[np.ndarray, np.ndarray]] = {}
+
+    def keep(self, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> None:
+        with self._lock:
+            if len(self._bows) > 64:
+                self._bows.clear()
+            for c in plan.chains:
+                a, b = np.array(at[c.a]), np.array(at[c.b])
+                nodes = np.array([at[h] for h in c.hidden])
+                self._bows[(c.rope, c.piece)] = (np.array(c.ts), nodes - (a + np.outer(c.ts, b - a)))
+
+    def start(self, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> dict[str, tuple[float, float]]:
+        out: dict[str, tuple[float, float]] = {}
+        with self._lock:
+            for c in plan.chains:
+                kept = self._bows.get((c.rope, c.piece))
+                if kept is None:
+                    continue
+                ts_old, off = kept
+                grid = np.concatenate(([0.0], ts_old, [1.0]))
+                ts = np.array(c.ts)
+                # the old bow's offset from its chord, read at the new fractions (the water's edge may have moved)
+                shift = np.column_stack([np.interp(ts, grid, np.concatenate(([0.0], off[:, i], [0.0])))
+                                         for i in (0, 1)])
+                a, b = np.array(at[c.a]), np.array(at[c.b])
+                nodes = a + np.outer(ts, b - a) + shift
+                out.update({h: (float(x), float(y)) for h, (x, y) in zip(c.hidden, nodes)})
+        return out
+
+
+_LAST_BOW = _BowMemo()
+
+
+def _mapped(rig: Rig, plan: _Plan, ff: FlowField, aug: Result, forces: Mapping[str, np.ndarray],
+            gap: float, rounds: int) -> Result:
+    """The augmented Result in the user's terms: hidden points folded into their ropes, water details attached."""
+    from solver.water_records import user_result
+
+    return user_result(rig, plan, ff, aug, forces, gap, rounds)
