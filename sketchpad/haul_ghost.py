@@ -12,6 +12,7 @@ from PySide6.QtGui import QBrush, QPainterPath, QPen, QTransform
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsPathItem, QGraphicsScene, QGraphicsSimpleTextItem
 
 from sketchpad import theme
+from sketchpad.drag_layer import Tracked
 from sketchpad.geometry import to_scene
 from solver.haul_result import HaulFrame
 from solver.model import Rig
@@ -22,28 +23,38 @@ MOVED_M = 1e-3
 DOT_STUB_M = 1e-4
 
 
+class GhostPath(Tracked, QGraphicsPathItem):
+    """A path of the haul preview: ``Tracked`` tells the drag layer when it is added, shown, hidden or restacked,
+    so a drag frame need not read the whole scene because the preview exists (what it shows is drawn again
+    in every frame's changed area: a path item has no version)."""
+
+
+class GhostLabel(Tracked, QGraphicsSimpleTextItem):
+    """The haul preview's caption: tracked as :class:`GhostPath` is; what it shows is fingerprinted by the drag layer."""
+
+
 class HaulGhost:
     """Items in ``scene`` showing one haul frame of ``rig``; :meth:`show` moves them, :meth:`hide` hides them."""
 
     def __init__(self, scene: QGraphicsScene) -> None:
-        self.halo = QGraphicsPathItem()  # a paper-coloured edge under the preview so it reads over the drawing
+        self.halo = GhostPath()  # a paper-coloured edge under the preview so it reads over the drawing
         halo_pen = QPen(theme.HAUL_GHOST_HALO, theme.HAUL_GHOST_WIDTH_PX + 2 * theme.HAUL_GHOST_HALO_PX)
         halo_pen.setCosmetic(True)
         halo_pen.setCapStyle(Qt.RoundCap)
         halo_pen.setJoinStyle(Qt.RoundJoin)
         self.halo.setPen(halo_pen)
-        self.ropes = QGraphicsPathItem()
+        self.ropes = GhostPath()
         pen = QPen(theme.HAUL_GHOST, theme.HAUL_GHOST_WIDTH_PX)
         pen.setCosmetic(True)
         pen.setCapStyle(Qt.RoundCap)
         pen.setJoinStyle(Qt.RoundJoin)
         self.ropes.setPen(pen)
-        self.dots = QGraphicsPathItem()
+        self.dots = GhostPath()
         dot_pen = QPen(theme.HAUL_GHOST, theme.HAUL_GHOST_POINT_PX * 2)
         dot_pen.setCosmetic(True)
         dot_pen.setCapStyle(Qt.RoundCap)
         self.dots.setPen(dot_pen)
-        self.label = QGraphicsSimpleTextItem()
+        self.label = GhostLabel()
         self.label.setFont(theme.font(theme.LABEL_POINT_SIZE, bold=True))
         self.label.setBrush(QBrush(theme.HAUL_GHOST))
         self.label.setFlag(QGraphicsItem.ItemIgnoresTransformations, True)

@@ -17,6 +17,7 @@ from PySide6.QtGui import QPainter, QPainterPath, QPolygonF
 from PySide6.QtWidgets import QGraphicsItem
 
 from sketchpad import theme
+from sketchpad.drag_layer import Versioned
 from solver.model import Rig
 from solver.result import Result
 from solver.directions import bearing_text
@@ -105,8 +106,12 @@ def _speed_label_at(f, main):
     return _upstream_point(poly, f.flow.bearing_deg) if f is main else poly.representative_point()
 
 
-class WaterItem(QGraphicsItem):
-    """The current's arrows, river sides, bowed ropes and wet-end tensions (scene metres, overlay z)."""
+class WaterItem(Versioned, QGraphicsItem):
+    """The current's arrows, river sides, bowed ropes and wet-end tensions (scene metres, overlay z).
+
+    ``Versioned`` tells the drag layer of every change, and :meth:`show` changes the item only when what it
+    draws changed: a drag frame then keeps it in the still image (a dry rig, a current no drag step moves)
+    or draws it live (ropes the water bows), instead of painting every frame the slow way."""
 
     def __init__(self) -> None:
         super().__init__()
@@ -118,7 +123,7 @@ class WaterItem(QGraphicsItem):
 
     def show(self, rig: Rig | None, result: Result | None) -> None:
         """Draw ``rig``'s currents and ``result``'s bowed ropes (nothing when either is None or dry)."""
-        self.prepareGeometryChange()
+        arrows, texts, ropes = self._arrows, self._texts, self._ropes
         self._arrows, self._texts, self._ropes = [], [], []
         if rig is not None and rig.view == "plan":
             self._arrows = [(_scene(*a), _scene(*b)) for a, b in flow_arrows(rig)]
@@ -153,6 +158,9 @@ class WaterItem(QGraphicsItem):
                     self._ropes.append((path, theme.rope_colour(order.get(w.rope, 0))))
                     for idx, t in ((w.wet_from, w.tension_in_N), (w.wet_to, w.tension_out_N)):
                         self._texts.append((format_force(t, unit), _scene(*w.polyline[idx]), theme.WET_TENSION))
+        if (self._arrows, self._texts, self._ropes) == (arrows, texts, ropes):
+            return  # the same drawing: the item and its version stay as they were
+        self.prepareGeometryChange()
         pts = [p for a in self._arrows for p in a] + [t[1] for t in self._texts]
         rect = QRectF()
         for path, _ in self._ropes:

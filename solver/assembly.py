@@ -25,6 +25,7 @@ from solver.materials import hardware_for, material_for
 from solver.model import MIDDLE_HOWS, MOTIONS, SHEAVE_HOWS, STANDARD_GRAVITY, Hardware, Material, Rig
 from solver.stretch import StretchCurve
 from solver import pass_order
+from solver.part_span import part_spans
 from solver.weak_links import piece_efficiency
 
 log = logging.getLogger(__name__)
@@ -599,8 +600,8 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     s.run_L0 = run_L0
     _component_sizes(s)
     # bare passes (a knot, a hand) are spaced relative to the size of their part of the rig, so a
-    # part solves to the same numbers whether it is drawn alone or beside others
-    part_size = _per_piece(s, s.comp_size, s.size)
+    # part solves to the same numbers whether it is drawn alone or beside others, and turned on the page
+    part_size = _per_piece(s, part_spans(s.xy0, *_size_groups(s)), s.size)
     s_min = np.where(topo.hw_spacing > 0, topo.hw_spacing, BARE_MIN_SPACING * part_size)
     s.s_min = np.minimum(s_min, 0.5 * s.piece_len0)
     # the spacing contact only where a piece can close up: -inf elsewhere makes its penetration 0
@@ -855,17 +856,18 @@ _SIZE_GROUPS: list = [None]
 
 
 def _size_groups(s: System) -> tuple[IntArray, IntArray]:
-    """Indices into the points of each part's free points and piece ends, grouped by part, and where each
-    part's group starts (every part has a free point, so no group is empty)."""
+    """Indices into the points of each part's free points and piece ends, each once, grouped by part, and
+    where each part's group starts (every part has a free point, so no group is empty)."""
     last = _SIZE_GROUPS[0]
     if last is not None and last[0] is s.comp_label and last[1] is s.piece_comp:
         return last[2], last[3]
     on = s.piece_comp >= 0
     idx = np.concatenate((np.flatnonzero(s.free), s.a[on], s.b[on]))
     lab = np.concatenate((s.comp_label, s.piece_comp[on], s.piece_comp[on]))
-    order = np.argsort(lab, kind="stable")
-    gather = idx[order]
-    starts = np.searchsorted(lab[order], np.arange(s.n_comp))
+    n = len(s.free)
+    key = np.unique(lab * n + idx)  # distinct (part, point) pairs, part by part
+    gather = key % n
+    starts = np.searchsorted(key // n, np.arange(s.n_comp))
     _SIZE_GROUPS[0] = (s.comp_label, s.piece_comp, gather, starts)
     return gather, starts
 

@@ -315,12 +315,8 @@ class Breaker:
         ropes, ids = [], []
         for n, s in enumerate(strands):
             path = [ps for _, ps in s.passes]
-            first = path[0] if path[0].how == "tied" else replace(path[0], how="tied")
-            last = path[-1]
-            if s.hauled:
-                last = replace(last, how="hauled")
-            elif last.how != "tied":
-                last = replace(last, how="tied")
+            first = path[0].as_end("tied")
+            last = path[-1].as_end("hauled" if s.hauled else "tied")
             path = [first, *path[1:-1], last]
             if s.L0 is None:
                 rigged = Rigging()

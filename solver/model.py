@@ -110,6 +110,10 @@ class Pass:
     termination: str | None = None  # tied pass: how the rope ends or is knotted there (solver.weak_links)
     grab: str | None = None  # capture: the rope grab that holds the rope (hardware id)
 
+    def as_end(self, how: str = "tied") -> "Pass":
+        """This pass made a rope end (``tied`` or ``hauled``): only a capture holds with a grab, so it goes."""
+        return self if self.how == how and self.grab is None else replace(self, how=how, grab=None)
+
 
 @dataclass(frozen=True)
 class Rigging:
@@ -417,10 +421,9 @@ class Rig:
             if len(path) >= 2:
                 if path != r.path:
                     # the new ends must be tied (or hauled at the end) to stay valid
-                    first = replace(path[0], how="tied") if path[0].how != "tied" else path[0]
+                    first = path[0].as_end("tied")
                     last = path[-1]
-                    if last.how not in ("tied", "hauled"):
-                        last = replace(last, how="tied")
+                    last = last.as_end(last.how if last.how in ("tied", "hauled") else "tied")
                     path = (first,) + path[1:-1] + (last,)
                 ropes.append(replace(r, path=path))
         return replace(

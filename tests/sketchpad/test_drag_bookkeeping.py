@@ -225,3 +225,67 @@ def test_more_changes_than_the_log_holds_between_frames_make_the_next_frame_read
     check_against_full_scan(view)
     drag_steps(doc, sched, view, "H4", 3, start=6)
     assert_screen_fresh(view)
+
+
+def test_the_haul_preview_shown_mid_drag_keeps_frames_from_reading_the_scene_and_the_screen_fresh(main_window):
+    """The Haul plan dock's scrubber preview (sketchpad.haul_ghost) lives in the scene: its items are tracked, so
+    a drag with it shown, moved or hidden reads the scene only when it was added or restacked (shown, hidden),
+    and what it shows on screen is what Qt paints (demo frames: points of the test rig moved by hand)."""
+    from solver.haul_result import HaulFrame
+
+    doc, sched, view = fifty_rope_window(main_window)
+    layer, ghost = view.drag_layer, main_window.haul_plan.ghost
+    drag_steps(doc, sched, view, "H4", 4)
+    scans = layer.scans
+    drag_steps(doc, sched, view, "H4", 4, start=4)
+    assert layer.scans == scans  # the hidden preview is in the scene and costs no full read
+    rig = doc.rig
+    frames = layer.frames
+    for i in range(4):
+        moved = {p.id: (p.x + 0.3 * (i + 1), p.y - 0.2 * (i + 1)) for p in rig.points[:6]}
+        ghost.show(rig, HaulFrame(i + 1, "stroke", 0.5 * i, 0.1 * i, 900.0, moved), "H4", f"stroke {i + 1}")
+        drag_steps(doc, sched, view, "H4", 2, start=8 + 2 * i)
+        box = view.mapFromScene(ghost.ropes.sceneBoundingRect()).boundingRect()
+        assert box.intersects(view.viewport().rect())  # the preview is on screen, drawn in the layer's frames
+        check_against_full_scan(view)
+        assert_screen_fresh(view)
+    assert all(it.isVisible() for it in ghost.items) and layer.frames >= frames + 6
+    scans = layer.scans
+    drag_steps(doc, sched, view, "H4", 3, start=16)
+    assert layer.scans == scans  # shown and still: no full read
+    ghost.hide()
+    drag_steps(doc, sched, view, "H4", 3, start=19)
+    assert layer.scans <= scans + 1  # hiding restacks once
+    check_against_full_scan(view)
+    assert_screen_fresh(view)
+
+
+@pytest.mark.parametrize("pid", ["A2", "H4"])
+def test_the_water_layer_is_kept_or_drawn_live_by_the_drag_layer_as_qt_paints_it(main_window, pid):
+    """The plan's water item (sketchpad.water_layer) is versioned and changes only when what it draws changes: in
+    the tethered-boat sample a drag of the tether anchor A2 redraws its bowed rope (drawn live), and in the dry
+    fifty-rope rig it stays still; either way the layer builds, reads the scene once and shows what Qt paints."""
+    from pathlib import Path
+
+    from solver.rigfile import load_rig
+
+    if pid == "A2":
+        doc, view, sched = main_window.document, main_window.view, main_window.live.scheduler
+        doc.replace_all(load_rig(Path(__file__).resolve().parents[2] / "samples" / "tethered-boat-eddy.rig.json"))
+        view.zoom_to_fit()
+        sched.background, sched.background_after_ms = False, float("inf")
+        sched.settle_timer.setInterval(600_000)
+        assert sched.solve_now().ok
+    else:
+        doc, sched, view = fifty_rope_window(main_window)
+    water, layer = main_window.live.overlay.water_item, view.drag_layer
+    wet = bool(water._ropes)
+    assert wet == (pid == "A2")
+    drag_steps(doc, sched, view, pid, 4)
+    scans, version = layer.scans, water._ver
+    drag_steps(doc, sched, view, pid, 6, start=4)
+    assert layer.builds >= 1 and layer.scans == scans
+    assert (water._ver != version) == wet  # a bowed rope moves with the anchor; a dry plan's item is untouched
+    check_against_full_scan(view)
+    assert_screen_fresh(view)
+    assert_same(frame(view, True, through_layer=True), frame(view, False))

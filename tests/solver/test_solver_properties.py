@@ -12,7 +12,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import HealthCheck, assume, given, settings
+from hypothesis import HealthCheck, assume, example, given, settings
 from hypothesis import strategies as st
 
 from solver import equilibrium
@@ -241,14 +241,47 @@ def test_translating_the_rig_translates_the_answer(rig, dx, dy):
     same_tensions(a, b, rigs.largest_force(rig, a))
 
 
+def _passes_jammed_on_a_sliding_rope():
+    """A rig of the random family in which two sliding passes on one rope are pulled into each other
+    and rest two-blocked at their bare spacing (found by the property below, angle 1 deg): that spacing
+    was a fraction of the diagonal of the box around the part, which a turn changes, so the turned rig
+    solved 4.6 um and 1e-4 of its tensions away (solver.part_span)."""
+    pts = [rigs.anchor("A0", 0.0, 14.0), rigs.anchor("A1", 7.0, 14.0), rigs.anchor("A2", 0.0, 16.0),
+           rigs.free("P0", 1.0, 9.0), rigs.free("P1", 3.0, 8.0), rigs.free("P2", 0.0, 0.0)]
+    ropes = [rigs.rope("r0", ["A1", "P0"]), rigs.rope("r1", ["A0", "P1"]), rigs.rope("r2", ["A0", "P2"]),
+             rigs.rope("r3", ["A0", ("P0", "sliding"), ("P1", "sliding"), "A1"], pretension_N=20.0)]
+    forces = [rigs.force(pid, 100.0, 270.0) for pid in ("P0", "P1", "P2")]
+    return rigs.make_rig(pts, ropes, forces, hardware=[rigs.pulley("pul", 1.0)], motion="haul", ea=2e4)
+
+
 @PROP
 @given(rig=random_rigs(), angle=st.floats(0.0, 360.0))
+@example(rig=_passes_jammed_on_a_sliding_rope(), angle=1.0)
+@example(rig=_passes_jammed_on_a_sliding_rope(), angle=45.0)
 def test_rotating_the_rig_rotates_the_answer(rig, angle):
     a = solved(rig)
     b = solved(rigs.transformed(rig, angle_deg=angle))
     for pid in a.points:
         np.testing.assert_allclose(b.points[pid], rigs.map_point(a.points[pid], angle_deg=angle), atol=1e-7 * BOX)
     same_tensions(a, b, rigs.largest_force(rig, a))
+
+
+# Known, not yet mended (found by the rotation property; the same numbers on the code before this
+# test): two knots tied on one rope, the piece between them slack, each swinging under its own
+# anchor past the other.  Drawn as is, the solve lets them pass (the slack piece folds; no contact,
+# every point balanced by its ropes); turned 1 deg, the iteration brings them within the spacing
+# contact first and the order direction of the slack piece (solver.pass_order) then holds them
+# jammed: "ok" with a two-blocked warning, 9.3 N of contact and tensions 12 % off.  strict: it
+# fails as soon as the solve no longer depends on the path, so this marker is then removed.
+@pytest.mark.xfail(strict=True, reason="a slack piece's order direction holds two knots that swing past each other")
+def test_two_knots_swinging_past_each_other_on_a_slack_piece_solve_alike_turned():
+    pts = [rigs.anchor("A0", 2.0, 14.0), rigs.anchor("A1", 0.0, 14.0), rigs.free("P0", 15.0, 3.0),
+           rigs.free("P1", 14.0, 0.0)]
+    ropes = [rigs.rope("r0", ["A1", "P0"]), rigs.rope("r1", ["A0", "P1"]),
+             rigs.rope("r2", ["A0", "P1", "P0", "A1"], pretension_N=21.0)]
+    forces = [rigs.force("P0", 100.0, 271.0), rigs.force("P1", 100.0, 270.0)]
+    rig = rigs.make_rig(pts, ropes, forces, hardware=[rigs.pulley("pul", 1.0)], motion="haul", ea=2e4)
+    test_rotating_the_rig_rotates_the_answer.hypothesis.inner_test(rig, 1.0)
 
 
 @PROP
