@@ -15,8 +15,8 @@ from typing import Mapping
 from sketchpad import theme
 from solver.model import Rig
 
-#: below the labels that carry numbers for a piece in use, above an idle piece's (tension labels: 50-80)
-NAME_PRIORITY = 58.0
+#: below every label that carries a number (tension labels: 50-80): names are placed last
+NAME_PRIORITY = 40.0
 
 
 def longest_piece(rope, pos: Mapping[str, tuple[float, float]]):

@@ -10,6 +10,8 @@ from __future__ import annotations
 from dataclasses import replace
 
 import pytest
+
+from solver.units import format_force
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QGraphicsScene
 
@@ -117,7 +119,7 @@ def test_imperial_display_shows_and_reads_feet_and_pounds(dock, qtbot):
     panel.show_subject("point", "A1")
     page = panel.point_page
     # 20 000 N / 4.4482216152605 N/lbf = 4496.18 lbf (NIST SP 811 factor)
-    assert page.capacity.edit.text() == f"{20000.0 / LBF:,.0f} lbf"  # as the plan and dock print it
+    assert page.capacity.edit.text() == format_force(20000.0, "lbf")  # as the plan and dock print it: 4 496 lbf
     # 10 m / 0.3048 m/ft = 32.808 ft
     assert page.y.edit.text() == "32.8 ft"  # 10 m / 0.3048 m/ft = 32.808 ft, at the plan's precision
     type_into(qtbot, page.capacity, "1000")  # bare number: pounds-force
