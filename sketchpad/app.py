@@ -29,7 +29,28 @@ def _application(offscreen: bool = False):
     return app
 
 
-def start_window(path: str | os.PathLike | None = None):
+def is_sample(path: str | os.PathLike) -> bool:
+    """True if ``path`` is one of the demo rigs shipped in ``samples/`` (never to be overwritten by Save)."""
+    from sketchpad.files import samples_dir
+
+    folder = samples_dir()
+    if folder is None:
+        return False
+    try:
+        return pathlib.Path(path).resolve().parent == folder.resolve()
+    except OSError:
+        return False
+
+
+def open_in_window(window, path: str | os.PathLike, copy: bool = False) -> bool:
+    """Load ``path`` into ``window``: a sample (or ``copy``) as an untitled copy, as File ▸ Samples does,
+    so Save asks for a new file instead of overwriting it; anything else as the document's file."""
+    if copy or is_sample(path):
+        return window.files.open_sample(pathlib.Path(path))
+    return window.open_path(path)  # a bad file shows a message and leaves an empty sketch
+
+
+def start_window(path: str | os.PathLike | None = None, copy: bool = False):
     """The shown main window (with ``path`` loaded if given), its first solve waiting for its first paint."""
     from sketchpad.main_window import MainWindow
 
@@ -37,15 +58,15 @@ def start_window(path: str | os.PathLike | None = None):
     # the drawing appears at once; the forces follow from the worker thread (imports and warm-up)
     window.live.scheduler.first_solve_after_paint(window.view.viewport())
     if path is not None:
-        window.open_path(path)  # a bad file shows a message and leaves an empty sketch
+        open_in_window(window, path, copy)
     window.show()
     return window
 
 
-def run_app(path: str | os.PathLike | None = None) -> int:
+def run_app(path: str | os.PathLike | None = None, copy: bool = False) -> int:
     """Open the main window (with ``path`` loaded if given) and run the event loop; returns the exit code."""
     app = _application()
-    window = start_window(path)
+    window = start_window(path, copy)
     window.files.offer_recovery()  # unsaved work left by a session that did not close cleanly
     return int(app.exec())
 
@@ -56,7 +77,7 @@ def open_cli(args) -> int:
     if path is not None and not pathlib.Path(path).exists():
         print(f"ropewright: no such file: {path}", file=sys.stderr)
         return EXIT_BAD_INPUT
-    return run_app(path)
+    return run_app(path, copy=bool(getattr(args, "copy", False)))
 
 
 def parse_size(text: str) -> tuple[int, int]:

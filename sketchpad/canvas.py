@@ -106,6 +106,9 @@ class SketchScene(QGraphicsScene):
         self.scale_m_per_px = 0.05
         self.background_item: QGraphicsItem | None = None
         self.item_cache_mode = QGraphicsItem.NoCache  # SketchView turns on pixmap caching for the screen
+        self.rope_names_in_overlay = False  # True while the force overlay places the rope names (sketchpad.rope_names)
+        self.shown_at: dict[str, tuple[float, float]] = {}  # free points drawn where the solver put them (site m)
+        self.drawn_places = None  # sketchpad.solved_places.DrawnPlaceItem, made on the first solved places
 
     # --- model -> items -----------------------------------------------------------------
     def sync(self, rig: Rig) -> None:
@@ -117,7 +120,12 @@ class SketchScene(QGraphicsScene):
         """
         last = self._synced
         self.rig = rig
+        if self.shown_at:  # a point drawn elsewhere (dragged, edited, gone) is shown where it is drawn again
+            old = last[1] if last is not None else {}
+            now = {p.id: p for p in rig.points}
+            self.shown_at = {k: v for k, v in self.shown_at.items() if now.get(k) is not None and now[k] is old.get(k)}
         if last is not None and self._sync_moved(rig, *last):
+            self._show_solved()
             self.synced.emit(rig)
             return
         items = self.items_by_key
@@ -165,6 +173,7 @@ class SketchScene(QGraphicsScene):
                 self._remove(key)
         self._layout_ropes(by_id)
         self._synced = (rig, by_id, self._items_serial)
+        self._show_solved()
         self.synced.emit(rig)
 
     def _sync_moved(self, rig: Rig, last_rig: Rig, last_by_id: dict, serial: int) -> bool:
@@ -239,11 +248,14 @@ class SketchScene(QGraphicsScene):
                 continue
             colour = theme.rope_colour(i)
             on_path = tuple(by_id.get(ps.at) for ps in r.path)
-            shown = (r, on_path, colour.rgba(), k)
+            solved = tuple(self.shown_at.get(ps.at) for ps in r.path) if self.shown_at else ()
+            shown = (r, on_path, colour.rgba(), k, solved)
             if item._shown == shown:
                 continue
             drawn = [p for p in on_path if p is not None]  # a pass at a missing point is left out
-            item.set_rope(r, {p.id: to_scene(p.x, p.y) for p in drawn}, {p.id: p.kind for p in drawn}, colour, k)
+            at = self.shown_at
+            item.set_rope(r, {p.id: to_scene(*at.get(p.id, (p.x, p.y))) for p in drawn},
+                          {p.id: p.kind for p in drawn}, colour, k)
             item._shown = shown
         self._laid = (ropes, k, by_id, through)
 
@@ -328,6 +340,63 @@ class SketchScene(QGraphicsScene):
             item.setZValue(theme.Z_BACKGROUND)
             self.addItem(item)
 
+    def set_solved(self, places) -> None:
+        """Draw the free points in ``places`` (id -> site metres, :func:`sketchpad.solved_places.moved_free_points`) where
+        the solver put them, with their ropes and forces, and a faint ring where they are drawn; None or {}: as drawn."""
+        places = dict(places or {})
+        if places == self.shown_at:
+            return
+        gone = set(self.shown_at) - set(places)
+        self.shown_at = places
+        for pid in gone:  # back to the drawn place
+            item = self.items_by_key.get(("point", pid))
+            if item is not None and self.rig.has_point(pid):
+                p = self.rig.point(pid)
+                item.setPos(to_scene(p.x, p.y))
+        unit = self.rig.display.force
+        for i, f in enumerate(self.rig.forces):
+            if f.at in gone and self.rig.has_point(f.at):
+                item = self.items_by_key.get(("force", i))
+                if item is not None:
+                    item.set_force(f, self.rig.point(f.at).xy, unit, self.rig.view)
+        self._laid = None
+        self._layout_ropes()
+        self._show_solved()
+
+    def _show_solved(self) -> None:
+        """Put the points (and forces) of ``shown_at`` at their solved places and faint rings at their drawn ones."""
+        from sketchpad.solved_places import DrawnPlaceItem, drawn_place_pairs
+
+        at = self.shown_at
+        if at:
+            unit = self.rig.display.force
+            for pid, xy in at.items():
+                item = self.items_by_key.get(("point", pid))
+                pos = to_scene(*xy)
+                if item is not None and item.pos() != pos:
+                    item.setPos(pos)
+            for i, f in enumerate(self.rig.forces):
+                if f.at in at:
+                    item = self.items_by_key.get(("force", i))
+                    if item is not None:
+                        item.set_force(f, at[f.at], unit, self.rig.view)
+        if self.drawn_places is None:
+            if not at:
+                return
+            self.drawn_places = DrawnPlaceItem()
+            self.addItem(self.drawn_places)
+        pairs = drawn_place_pairs(self.rig, at)
+        if pairs != self.drawn_places.pairs:
+            self.drawn_places.set_pairs(pairs)
+
+    def set_rope_names_in_overlay(self, on: bool) -> None:
+        """Let the force overlay place the rope names (True) or the rope items draw them (False)."""
+        if bool(on) != self.rope_names_in_overlay:
+            self.rope_names_in_overlay = bool(on)
+            for key, item in self.items_by_key.items():
+                if key[0] == "rope":
+                    item.update()
+
     def add_overlay_item(self, item: QGraphicsItem) -> None:
         """Add a result-overlay item above the model items (and below tool previews)."""
         item.setZValue(theme.Z_OVERLAY)
@@ -400,6 +469,10 @@ class SketchView(QGraphicsView):
         #: what it paints there (a list of (QRect, key)): a drag frame repaints a rect when its key changes
         #: (``foreground_rects``)
         self.foreground_areas: list = []
+        #: callables giving the (width, height) px of a box kept clear in the bottom-right corner by
+        #: zoom_to_fit (the force overlay's key), so the fitted rig is not hidden under it
+        self.fit_reserves: list = []
+        self.wheel_zooming = False  # True only while a wheel notch zooms (sketchpad.zoom_pacing defers labels)
         self.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing)
         self.setHorizontalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
         self.setVerticalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
@@ -462,11 +535,16 @@ class SketchView(QGraphicsView):
         vp = self.viewport().rect()
         if vp.width() < 10 or vp.height() < 10:
             return
-        s = min(vp.width() / rect.width(), vp.height() / rect.height())
-        s = min(max(s, MIN_SCALE_PX_PER_M), MAX_SCALE_PX_PER_M)
+        bw, bh = max([f() for f in self.fit_reserves] or [(0, 0)], key=lambda wh: wh[0] * wh[1])
+        w, h = vp.width(), vp.height()
+        # beside the kept box or above it, whichever leaves the rig larger
+        beside = min(max(w - bw, 10) / rect.width(), h / rect.height())
+        above = min(w / rect.width(), max(h - bh, 10) / rect.height())
+        s = min(max(max(beside, above), MIN_SCALE_PX_PER_M), MAX_SCALE_PX_PER_M)
+        shift = QPointF(bw / (2 * s), 0.0) if beside >= above else QPointF(0.0, bh / (2 * s))
         self.resetTransform()
         self.scale(s, s)
-        self.centerOn(rect.center())
+        self.centerOn(rect.center() + shift)
         self._scale_changed()
 
     def _scale_changed(self) -> None:
@@ -477,7 +555,11 @@ class SketchView(QGraphicsView):
     def wheelEvent(self, event: QWheelEvent) -> None:  # noqa: N802
         degrees = event.angleDelta().y() / 8.0
         if degrees:
-            self.zoom_at(WHEEL_ZOOM_PER_DEGREE**degrees, event.position().toPoint())
+            self.wheel_zooming = True  # a notch of a wheel gesture (sketchpad.zoom_pacing); fits and menu zooms are not
+            try:
+                self.zoom_at(WHEEL_ZOOM_PER_DEGREE**degrees, event.position().toPoint())
+            finally:
+                self.wheel_zooming = False
         event.accept()
 
     # --- snapping and picking --------------------------------------------------------------
@@ -493,13 +575,15 @@ class SketchView(QGraphicsView):
     def pick_point(self, view_pos: QPoint, exclude=(), kinds=None) -> str | None:
         """The id of the point nearest ``view_pos`` within the pick radius, or None."""
         best, best_d = None, PICK_RADIUS_PX
+        shown_at = self.sketch_scene.shown_at
         for p in self.sketch_scene.rig.points:
             if p.id in exclude or (kinds is not None and p.kind not in kinds):
                 continue
-            q = self.mapFromScene(to_scene(p.x, p.y))
-            d = math.hypot(q.x() - view_pos.x(), q.y() - view_pos.y())
-            if d <= best_d:
-                best, best_d = p.id, d
+            for xy in ((p.x, p.y), shown_at[p.id]) if p.id in shown_at else ((p.x, p.y),):  # marker or its drawn place
+                q = self.mapFromScene(to_scene(*xy))
+                d = math.hypot(q.x() - view_pos.x(), q.y() - view_pos.y())
+                if d <= best_d:
+                    best, best_d = p.id, d
         return best
 
     def item_at(self, view_pos: QPoint) -> SketchItem | None:

@@ -20,6 +20,7 @@ class Document(QObject):
 
     changed = Signal(object)  # the new Rig
     path_changed = Signal(object)  # pathlib.Path | None
+    started = Signal(object)  # the Rig a new history starts from (new, open, sample): ``replace_all``
 
     def __init__(self, rig: Rig | None = None, parent: QObject | None = None) -> None:
         super().__init__(parent)
@@ -68,6 +69,7 @@ class Document(QObject):
         self._set_rig(rig)
         self.set_path(path)
         self.undo_stack.setClean()
+        self.started.emit(rig)
 
     def preview(self, rig: Rig, sketching: bool = False) -> None:
         """Show ``rig`` without touching the undo stack (live drag); the drag's release pushes the command.

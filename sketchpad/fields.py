@@ -152,10 +152,10 @@ class QuantityField(QWidget):
         if value is None:
             return ""
         mark = decimal_mark()
-        if self.kind == "force":
-            return f"{_edit_number(units.force_to(float(value), self.unit()), mark)} {self.unit()}"
+        if self.kind == "force":  # the precision the plan, dock and reports show (an untouched field keeps the exact value)
+            return units.format_force(float(value), self.unit()).replace(".", mark)
         if self.kind == "length":
-            return f"{_edit_number(units.length_to(float(value), self.unit()), mark)} {self.unit()}"
+            return units.format_length(float(value), self.unit()).replace(".", mark)
         if self.kind == "integer":
             return str(int(value))
         if self.kind == "number":

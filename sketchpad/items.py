@@ -660,7 +660,7 @@ class RopeItem(SketchItem):
             painter.setPen(pen(colour, 1.0))
             painter.setBrush(colour)
             painter.drawPolygon(self._arrow)
-        if self._label:
+        if self._label and not getattr(self.scene(), "rope_names_in_overlay", False):  # else the overlay places it
             origin = QPointF(self._label_pos.x() - self._label_w / 2 * k, self._label_pos.y())
             _draw_halo_text(painter, origin, self._label, colour, theme.font(theme.SMALL_POINT_SIZE, bold=True), k)
 

@@ -399,9 +399,52 @@ class LiveForces(QObject):
 
     def _show(self, result: Result) -> None:
         s = self.scheduler
+        if not s.rig.ropes:  # points and no rope yet: no forces to show (zero-force labels would be noise)
+            self._show_nothing(s.rig)
+            return
+        gap = None
+        if not result.ok:  # a half-drawn rig gets a calm hint instead of the failure alarm
+            from solver.completeness import sketch_gap
+
+            gap = sketch_gap(s.rig)
+        self.overlay.grey_reason = ("sketch incomplete: last complete result, greyed" if gap
+                                    else "solve failed: last good result, greyed")
+        if s.settled and s.rig is self.window.document.rig:  # points drawn where the solver put them (first: the
+            from sketchpad.solved_places import moved_free_points  # labels are placed clear of their names there)
+
+            self.window.canvas.set_solved(moved_free_points(s.rig, result) if result.ok else None)
         self.overlay.show_result(s.rig, result, s.last_good_rig, s.last_good, settled=s.settled)
+        if gap is not None:
+            self.overlay.banner.hide()
+        hints = getattr(self.window, "hints", None)
+        if hints is not None:
+            if gap is not None:
+                hints.set_state(gap.message)
+            elif result.ok and hints.state and not self.window.document.sketching:
+                from solver.completeness import sketch_gap  # only while a state is shown: a drag step costs nothing
+
+                found = sketch_gap(s.rig)
+                hints.set_state(found.message if found else "")
+            hints.place()  # under the banner, or at the top when there is none
         if s.settled or not result.ok:  # tables and warnings follow once a drag pauses
-            self.panel.show_result(s.rig, result, s.last_good_rig, s.last_good)
+            self.panel.show_result(s.rig, result, s.last_good_rig, s.last_good, gap=gap)
+
+
+    def _show_nothing(self, rig: Rig) -> None:
+        """A sketch without ropes: the overlay and the tables empty, the hint strip saying what to draw."""
+        ov = self.overlay
+        ov.rig = ov.result = ov.failed = None
+        ov.banner.hide()
+        ov.rebuild()
+        from solver.completeness import sketch_gap
+
+        gap = sketch_gap(rig)
+        self.panel.show_result(rig, Result(status="invalid", message=gap.message if gap else "no rope"),
+                               gap=gap or _NO_ROPE)
+        self.window.canvas.set_solved(None)
+        hints = getattr(self.window, "hints", None)
+        if hints is not None:
+            hints.place()
 
     def select_subject(self, subject: str) -> None:
         """Select and centre the canvas item a warning is about (point, rope, ``rope@point``, ``a,b,c``)."""
@@ -420,6 +463,15 @@ class LiveForces(QObject):
         if rect is not None:
             view.centerOn(rect.center())
             view.viewport().update()
+
+
+def _no_rope_gap():
+    from solver.completeness import SketchGap
+
+    return SketchGap(None, "No rope yet: draw one from the load (R).")
+
+
+_NO_ROPE = _no_rope_gap()
 
 
 def subject_keys(rig: Rig, subject: str) -> list[tuple]:

@@ -40,6 +40,7 @@ log = logging.getLogger(__name__)
 APP_NAME = "Ropewright"
 DEFAULT_SIZE = (1400, 900)
 STATUS_MESSAGE_MS = 6000
+RIGHT_COLUMN_PX = 440  # the docks' width at start: the Forces tables show every column
 
 #: material and hardware ids offered before solver.materials is importable (rig-format library ids)
 FALLBACK_MATERIALS = ("kern-11", "kern-12.5", "throwline-pp-8", "dynamic-10.5", "cord-8", "webbing-25", "sling-hmpe")
@@ -60,17 +61,43 @@ TOOL_KEYS: dict[str, tuple[str, str]] = {
     "measure": ("tools", "M"),
 }
 UNIT_SYSTEMS = {"metric": ("m", "kN"), "imperial": ("ft", "lbf")}
+#: what the "Passes points as" drop-down shows for each middle-pass kind
+HOW_NAMES = {"pulley": "pulley", "tied": "tied (knot, rope grab)", "sliding": "sliding (ring, hand)", "edge": "edge"}
 
 
-def _library_ids() -> tuple[tuple[str, ...], tuple[str, ...], tuple[str, ...]]:
-    """Material, pulley-like and edge hardware ids from the library (or the documented fallback list)."""
+def _library_ids() -> tuple[tuple[tuple[str, str], ...], tuple[tuple[str, str], ...], tuple[tuple[str, str], ...]]:
+    """(id, name) of the materials, pulley-like and edge hardware in the library (or the documented fallback ids)."""
     try:
         from solver.materials import LIBRARY_HARDWARE, LIBRARY_MATERIALS
     except ImportError:
-        return FALLBACK_MATERIALS, FALLBACK_PULLEYS, FALLBACK_EDGES
-    pulleys = tuple(k for k, h in LIBRARY_HARDWARE.items() if h.kind != "edge")
-    edges = tuple(k for k, h in LIBRARY_HARDWARE.items() if h.kind == "edge")
-    return tuple(LIBRARY_MATERIALS), pulleys or FALLBACK_PULLEYS, edges or FALLBACK_EDGES
+        return tuple((i, i) for i in FALLBACK_MATERIALS), tuple((i, i) for i in FALLBACK_PULLEYS), \
+            tuple((i, i) for i in FALLBACK_EDGES)
+    pulleys = tuple((k, h.name) for k, h in LIBRARY_HARDWARE.items() if h.kind != "edge")
+    edges = tuple((k, h.name) for k, h in LIBRARY_HARDWARE.items() if h.kind == "edge")
+    materials = tuple((k, m.name) for k, m in LIBRARY_MATERIALS.items())
+    return (materials or tuple((i, i) for i in FALLBACK_MATERIALS), pulleys or tuple((i, i) for i in FALLBACK_PULLEYS),
+            edges or tuple((i, i) for i in FALLBACK_EDGES))
+
+
+def history_start(rig: Rig, path: pathlib.Path | None) -> str:
+    """The History panel's first row: where this history starts (a new sketch, a file, a copy of a sample)."""
+    if path is not None:
+        return f"Opened {path.name}"
+    if rig.points or rig.ropes or rig.site.features:
+        return f"Opened a copy of {rig.title.strip()}" if (rig.title or "").strip() else "Opened a copy"
+    return "New sketch"
+
+
+def redo_keys() -> list[QKeySequence]:
+    """The platform's redo key first, then the other usual one (Ctrl+Y / Ctrl+Shift+Z), each exactly once.
+
+    Binding a key twice makes Qt call the shortcut ambiguous and do nothing.
+    """
+    keys: list[QKeySequence] = []
+    for key in (QKeySequence(QKeySequence.Redo), QKeySequence("Ctrl+Shift+Z"), QKeySequence("Ctrl+Y")):
+        if not key.isEmpty() and key not in keys:
+            keys.append(key)
+    return keys
 
 
 class MainWindow(QMainWindow):
@@ -119,8 +146,14 @@ class MainWindow(QMainWindow):
         from sketchpad.pages.app_ui import install_pages
 
         self.pages = install_pages(self)  # print frame, schematic, rope lengths, roles, briefing, manual (issue 21)
+        from sketchpad.hint_bar import install_hints
+
+        self.hints = install_hints(self)  # what the sketch still needs and the tool's hint, over the canvas
+        self.tabifyDockWidget(self.live.dock, self.history_dock)  # History a tab beside Forces: the tables get the room
+        self.live.dock.raise_()
         self._on_rig_changed(self.document.rig)
         self.resize(*DEFAULT_SIZE)
+        self.resizeDocks([self.properties_dock], [RIGHT_COLUMN_PX], Qt.Horizontal)
 
     def closeEvent(self, event) -> None:  # noqa: N802 - Qt override
         super().closeEvent(event)
@@ -143,11 +176,12 @@ class MainWindow(QMainWindow):
     def _build_actions(self) -> None:
         stack = self.document.undo_stack
         self.action_undo = self._action("&Undo", self.undo, [QKeySequence(QKeySequence.Undo)])
-        self.action_redo = self._action("&Redo", self.redo, [QKeySequence(QKeySequence.Redo), QKeySequence("Ctrl+Y")])
+        self.action_redo = self._action("&Redo", self.redo, redo_keys())
         stack.canUndoChanged.connect(self.action_undo.setEnabled)
         stack.canRedoChanged.connect(self.action_redo.setEnabled)
         stack.undoTextChanged.connect(lambda t: self.action_undo.setText(f"&Undo {t}".strip()))
         stack.redoTextChanged.connect(lambda t: self.action_redo.setText(f"&Redo {t}".strip()))
+        stack.indexChanged.connect(self._drop_stale_move_message)  # History clicks too
         self.action_undo.setEnabled(False)
         self.action_redo.setEnabled(False)
         self.action_delete = self._action("&Delete", self.delete_selection,
@@ -223,31 +257,40 @@ class MainWindow(QMainWindow):
         self.toolbar_options.setObjectName("toolbar_options")
         materials, pulleys, edges = _library_ids()
         d = self.view.defaults
-        self.combo_how = self._combo(MIDDLE_HOWS, d.how, "how", "How a rope passes a middle point unless a modifier says otherwise")
+        self.combo_how = self._combo([(h, HOW_NAMES.get(h, h)) for h in MIDDLE_HOWS], d.how, "how",
+                                     "Pulleys: how a drawn rope passes each point you click between its ends "
+                                     "(Shift+click pulley, Ctrl tied, Alt sliding, Ctrl+Shift edge override it)")
         self.combo_material = self._combo(materials, d.material, "material", "Material of new ropes")
         self.combo_pulley = self._combo(pulleys, d.pulley_hardware, "pulley_hardware", "Hardware at new pulley passes")
         self.combo_edge = self._combo(edges, d.edge_hardware, "edge_hardware", "Edge at new edge passes")
-        self.combo_feature = self._combo(FEATURE_KINDS, d.feature_kind, "feature_kind", "Kind of new site features")
-        for label, combo in (("Passes", self.combo_how), ("Rope", self.combo_material), ("Pulley", self.combo_pulley),
-                             ("Edge", self.combo_edge), ("Feature", self.combo_feature)):
+        self.combo_feature = self._combo([(k, k) for k in FEATURE_KINDS], d.feature_kind, "feature_kind",
+                                         "Kind of new site features")
+        for label, combo in (("Passes points as", self.combo_how), ("Rope", self.combo_material),
+                             ("Pulley", self.combo_pulley), ("Edge", self.combo_edge), ("Feature", self.combo_feature)):
             self.toolbar_options.addWidget(QLabel(f" {label} "))
             self.toolbar_options.addWidget(combo)
         self.addToolBar(Qt.TopToolBarArea, self.toolbar_options)
 
     def _combo(self, items, current: str, field: str, tip: str) -> QComboBox:
+        """A drop-down showing names, keeping the id (``itemData``) it sets on ``view.defaults.<field>``."""
         combo = QComboBox(self)
-        combo.addItems(list(items))
-        if current not in items:
-            combo.addItem(current)
-        combo.setCurrentText(current)
+        for key, name in items:
+            combo.addItem(name, key)
+        if combo.findData(current) < 0:
+            combo.addItem(current, current)
+        combo.setCurrentIndex(combo.findData(current))
         combo.setToolTip(tip)
         combo.setFocusPolicy(Qt.ClickFocus)
-        combo.currentTextChanged.connect(lambda text: setattr(self.view.defaults, field, text))
+        combo.setSizeAdjustPolicy(QComboBox.AdjustToMinimumContentsLengthWithIcon)
+        combo.setMinimumContentsLength(min(22, max(len(n) for _k, n in items) if items else 8))
+        combo.view().setMinimumWidth(combo.view().sizeHintForColumn(0) + 24)  # the list shows whole names
+        combo.currentIndexChanged.connect(lambda _i: setattr(self.view.defaults, field, combo.currentData()))
         return combo
 
     def _build_docks(self) -> None:
         self.history_view = QUndoView(self.document.undo_stack)
-        self.history_view.setEmptyLabel("Opened sketch")
+        self.history_view.setEmptyLabel(history_start(self.document.rig, self.document.path))
+        self.document.started.connect(lambda rig: self.history_view.setEmptyLabel(history_start(rig, self.document.path)))
         self.history_dock = self.add_panel(self.history_view, "History", "dock_history")
 
     def add_panel(self, widget: QWidget, title: str, object_name: str | None = None,
@@ -320,11 +363,24 @@ class MainWindow(QMainWindow):
 
     def undo(self) -> None:
         self._cancel_tool()
-        self.document.undo_stack.undo()
+        stack = self.document.undo_stack
+        text = stack.undoText()
+        stack.undo()
+        if text:  # replaces a tool's message about the edit just undone ("Moving H1 ...")
+            self.statusBar().showMessage(f"Undid: {text}", STATUS_MESSAGE_MS)
+
+    def _drop_stale_move_message(self, _index: int = 0) -> None:
+        """An undo or redo (menu, keys or a History click) makes a tool's message about a move stale."""
+        if self.statusBar().currentMessage().startswith(("Moving ", "Moved ")):
+            self.statusBar().clearMessage()
 
     def redo(self) -> None:
         self._cancel_tool()
-        self.document.undo_stack.redo()
+        stack = self.document.undo_stack
+        text = stack.redoText()
+        stack.redo()
+        if text:
+            self.statusBar().showMessage(f"Redid: {text}", STATUS_MESSAGE_MS)
 
     def delete_selection(self) -> None:
         """Delete what is selected and everything depending on it, as one undoable step."""

@@ -16,7 +16,7 @@ from __future__ import annotations
 import logging
 import math
 
-from PySide6.QtCore import QSortFilterProxyModel, Qt, Signal
+from PySide6.QtCore import Qt, Signal
 from PySide6.QtGui import QColor, QStandardItem, QStandardItemModel
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -48,6 +48,7 @@ SEVERITY_MARK = {"danger": "DANGER:", "warning": "Warning:", "info": "Note:"}  #
 def _cell(text: str, sort_value=None, colour: QColor | None = None) -> QStandardItem:
     item = QStandardItem(text)
     item.setEditable(False)
+    item.setToolTip(text)
     item.setData(sort_value if sort_value is not None else text, SORT_ROLE)
     if isinstance(sort_value, (int, float)):
         item.setTextAlignment(Qt.AlignRight | Qt.AlignVCenter)
@@ -65,9 +66,11 @@ class _Table(QTableView):
 
     def __init__(self, headers: list[str], parent=None) -> None:
         super().__init__(parent)
+        from sketchpad.table_fit import WrappedHeadings
+
         self.source = QStandardItemModel(0, len(headers), self)
         self.source.setHorizontalHeaderLabels(headers)
-        self.proxy = QSortFilterProxyModel(self)
+        self.proxy = WrappedHeadings(self)
         self.proxy.setSourceModel(self.source)
         self.proxy.setSortRole(SORT_ROLE)
         self.setModel(self.proxy)
@@ -76,8 +79,18 @@ class _Table(QTableView):
         self.setEditTriggers(QAbstractItemView.NoEditTriggers)
         self.setAlternatingRowColors(True)
         self.verticalHeader().setVisible(False)
-        self.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeToContents)
-        self.horizontalHeader().setStretchLastSection(True)
+        # every column in view in a narrow dock: long texts wrap at spaces (sketchpad.table_fit)
+        self.horizontalHeader().setSectionResizeMode(QHeaderView.Interactive)
+        self.setWordWrap(True)
+
+    def resizeEvent(self, event) -> None:  # noqa: N802 - Qt override
+        super().resizeEvent(event)
+        self.fit()
+
+    def fit(self) -> None:
+        from sketchpad.table_fit import fit_columns
+
+        fit_columns(self)
 
     def set_rows(self, rows: list[list[QStandardItem]]) -> None:
         header = self.horizontalHeader()
@@ -89,6 +102,7 @@ class _Table(QTableView):
         self.setSortingEnabled(True)
         if col >= 0:
             self.sortByColumn(col, order)
+        self.fit()
 
     def cell_text(self, row: int, col: int) -> str:
         return self.proxy.index(row, col).data()
@@ -137,12 +151,22 @@ class ResultsPanel(QWidget):
         self.result: Result | None = None
 
     # --- filling ------------------------------------------------------------------------------------
-    def show_result(self, rig: Rig, result: Result, good_rig: Rig | None = None, good: Result | None = None) -> None:
-        """Show ``result``; on a failure show why, and keep the tables of the last good result (marked old)."""
+    def show_result(self, rig: Rig, result: Result, good_rig: Rig | None = None, good: Result | None = None,
+                    gap=None) -> None:
+        """Show ``result``; on a failure show why, and keep the tables of the last good result (marked old).
+
+        ``gap`` (a :class:`solver.completeness.SketchGap`): the rig is still being drawn, so a failure is
+        shown as that calm note, not as an alarm.
+        """
         if result.ok:
             self.status.setText("")
             self.status.hide()
             shown_rig, shown = rig, result
+        elif gap is not None:
+            self.status.setText(gap.message)
+            self.status.setStyleSheet(f"color: {theme.HINT_STATE_TEXT.name()}; font-weight: bold;")
+            self.status.show()
+            shown_rig, shown = (good_rig, good) if good is not None and good.ok else (rig, None)
         else:
             self.status.setText(failure_text(result, rig)
                                 + ("\nThe tables show the last good result." if good is not None else ""))
@@ -151,7 +175,8 @@ class ResultsPanel(QWidget):
             shown_rig, shown = (good_rig, good) if good is not None and good.ok else (rig, None)
         self.rig, self.result = shown_rig, shown
         if shown is None:
-            self.summary.setText("No forces: the rig has not solved yet.")
+            self.summary.setText("No forces yet: the sketch is not finished." if gap is not None
+                                 else "No forces: the rig has not solved yet.")
             for t in (self.segments, self.anchors, self.hardware):
                 t.set_rows([])
         else:
@@ -159,7 +184,8 @@ class ResultsPanel(QWidget):
             self._fill_segments(shown_rig, shown)
             self._fill_anchors(shown_rig, shown)
             self._fill_hardware(shown_rig, shown)
-        self._fill_warnings(result if result.ok or shown is None else shown, failed=None if result.ok else result)
+        self._fill_warnings(result if result.ok or shown is None else shown,
+                            failed=None if result.ok or gap is not None else result)
 
     def show_warnings(self, result: Result) -> None:
         """Refill only the warnings list from a solved ``result`` (the failure scan renames the person warnings)."""
@@ -262,31 +288,10 @@ class ResultsPanel(QWidget):
 
 
 def summary_text(rig: Rig, result: Result) -> str:
-    """MA nominal/ideal/actual, haul force, load delivered vs needed and the pull that needs (solved) — one short
-    paragraph."""
-    from solver.pull_needed import need_phrase
+    """MA nominal/ideal/actual, then the summary sentences (load reached against needed, haulers, safety factor)."""
+    from sketchpad.summary_words import sentences
 
-    unit = rig.display.force
     parts = []
     if result.ma_actual is not None:
-        parts.append(ma_short(result, pending="—"))
-    for hid, force in result.haul.items():
-        p = rig.point(hid) if rig.has_point(hid) else None
-        text = f"haul {format_force(force, unit)}"
-        if p is not None and p.team:
-            text += f" = {p.team} × {format_force(force / p.team, unit)}"
-        hold = result.hold_haul_range.get(hid)
-        if hold is not None:
-            text += f"; hold allows {format_force(hold.low, unit)} – {format_force(hold.high, unit)}"
-        parts.append(text)
-    for lid, f in result.loads.items():
-        p = rig.point(lid) if rig.has_point(lid) else None
-        text = f"to {p.name if p else lid} {format_force(f.force_N, unit)}"
-        if p is not None and p.required_N is not None:
-            text += f" of {format_force(p.required_N, unit)} needed"
-            need = result.needs.get(lid)
-            if need is not None:
-                text += f" → {need_phrase(rig, need)}"
-        parts.append(text)
-    parts.append(f"SF {rig.settings.min_safety_factor:g}:1, {rig.settings.motion}")
-    return " · ".join(parts)
+        parts.append(ma_short(result, pending="—") + ".")
+    return " ".join(parts + sentences(rig, result))

@@ -58,6 +58,14 @@ def ma_text(tpl: Template) -> str:
     return f"{tpl.ma_ideal:g}:1"
 
 
+def menu_text(tpl: Template) -> str:
+    """A system's menu entry: its title, with its MA when the title does not already say it ("Redirect (1:1)")."""
+    ma = ma_text(tpl)
+    if tpl.ma_ideal is None:
+        return f"{tpl.title}, MA {ma}" if tpl.name.startswith("vector") else tpl.title
+    return tpl.title if tpl.title.startswith(ma) else f"{tpl.title} ({ma})"
+
+
 def needs_load(tpl: Template) -> bool:
     return "load" in tpl.needs
 
@@ -458,7 +466,7 @@ class TemplatesController:
         self.menu.setObjectName("menu_system")
         self.actions: dict[str, QAction] = {}
         for tpl in TEMPLATES.values():
-            a = QAction(f"{tpl.title}  ({ma_text(tpl)})", window)
+            a = QAction(menu_text(tpl), window)
             a.setStatusTip(tpl.description)
             a.setToolTip(tpl.description)
             a.triggered.connect(lambda _c=False, n=tpl.name: self.start(n))

@@ -83,13 +83,15 @@ POINT_OUTLINE_PX = 1.4
 POINT_MARK = QColor("#ffffff")  # the small sign inside a marker
 
 # --- ropes ----------------------------------------------------------------------------
+#: Rope identity colours: blues and violets only (hues 190-290 deg), well away from every hue of the utilization
+#: ramp and the danger zones (green through amber and red to crimson), so a rope's own colour never reads as its load.
 ROPE_COLOURS: tuple[QColor, ...] = (
-    QColor("#c2362b"),  # signal red
     QColor("#1c64a8"),  # deep blue
-    QColor("#8a3fa0"),  # purple
-    QColor("#0f7f6f"),  # teal
-    QColor("#b86b10"),  # ochre
-    QColor("#4d5a12"),  # olive
+    QColor("#6a3fb0"),  # violet
+    QColor("#137e9c"),  # cerulean
+    QColor("#3a3f94"),  # indigo
+    QColor("#9348bf"),  # orchid
+    QColor("#36566e"),  # slate blue
 )
 ROPE_WIDTH_PX = 2.4
 ROPE_HIT_PX = 8.0  # how close a click must be to pick a rope
@@ -185,9 +187,16 @@ OVERLAY_LABEL_BACK = QColor(255, 254, 250, 235)
 OVERLAY_LABEL_PAD_PX = 3.0
 OVERLAY_LABEL_BORDER_PX = 1.6
 OVERLAY_LEADER = QColor(60, 60, 56, 170)
-OVERLAY_BAND_PX = 7.0  # translucent utilization band along each solved piece
+OVERLAY_BAND_PX = 7.0  # translucent band along each solved piece of a stale (greyed) result
+#: A live band's width grows with utilization, so a greyscale print keeps the meaning the colour gives:
+#: BAND_MIN_PX at no load, BAND_MAX_PX from BAND_FULL_UTIL (150 % of allowed) on.
+BAND_MIN_PX = 4.0
+BAND_MAX_PX = 14.0
+BAND_FULL_UTIL = 1.5
 OVERLAY_BAND_ALPHA = 125
 OVERLAY_SOLVED_POINT_PX = 4.0  # ring where the solver moved a free point
+DRAWN_PLACE = QColor(90, 90, 86, 150)  # where a free point was drawn when the solver moved it (sketchpad.solved_places)
+DRAWN_PLACE_RADIUS_PX = 6.0
 ANGLE_TEXT = QColor("#2c3e8c")
 ANCHOR_ARROW_HEAD_PX = 11.0
 ANCHOR_ARROW_WIDTH_PX = 3.2
@@ -214,12 +223,16 @@ OVERLAY_GREY = QColor("#9d9d98")  # last good overlay while the current solve ha
 OVERLAY_GREY_OPACITY = 0.55
 FAIL_RING_PX = 15.0
 BANNER_BACK = QColor(163, 29, 24, 235)
+HINT_BACK = QColor(236, 241, 247, 235)  # the hint strip over the canvas: calm slate blue, never an alarm colour
+HINT_EDGE = QColor("#9fb3c8")
+HINT_TEXT = QColor("#1f2d3d")
+HINT_STATE_TEXT = QColor("#24507a")  # "sketch incomplete: ..." and the empty sketch's first message
 BANNER_TEXT = QColor("#ffffff")
 BANNER_MARGIN_PX = 10
 LEGEND_BACK = QColor(255, 254, 250, 232)
 LEGEND_EDGE = QColor("#b9ae97")
 LEGEND_RAMP_W_PX = 150
-LEGEND_RAMP_H_PX = 10
+LEGEND_RAMP_H_PX = 14  # the wedge's tallest end: as tall as the widest band
 LEGEND_MARGIN_PX = 12
 
 
@@ -240,6 +253,12 @@ def utilization_colour(u: float | None) -> QColor:
             t = (u - u0) / (u1 - u0)
             return QColor.fromRgbF(r0 + t * (r1 - r0), g0 + t * (g1 - g0), b0 + t * (b1 - b0))
     return QColor(stops[-1][1])
+
+
+def band_width_px(u: float) -> float:
+    """Width (px) of the utilization band of a piece at utilization ``u`` (1.0 = at the safety factor)."""
+    t = min(max(float(u), 0.0), BAND_FULL_UTIL) / BAND_FULL_UTIL
+    return round(BAND_MIN_PX + t * (BAND_MAX_PX - BAND_MIN_PX), 1)
 
 
 def zone_brushes(kind: str) -> tuple[QBrush, QBrush]:

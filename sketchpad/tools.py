@@ -191,6 +191,11 @@ def set_display(rig: Rig, length: str, force: str) -> Rig:
     return replace(rig, display=replace(rig.display, length=length, force=force))
 
 
+def with_article(noun: str) -> str:
+    """``noun`` with "a" or "an" before it ("an anchor", "a load")."""
+    return ("an " if noun[:1].lower() in "aeiou" else "a ") + noun
+
+
 def how_for_modifiers(modifiers, default: str) -> str:
     """How a rope passes a clicked point: Ctrl tied, Shift pulley, Alt sliding, Ctrl+Shift edge, else ``default``."""
     ctrl = bool(modifiers & Qt.ControlModifier)
@@ -348,7 +353,9 @@ class SelectTool(Tool):
         if self._grab is not None and self._before is not None:
             before, self._before, self._grab = self._before, None, None
             if self._moved:
-                self.document.apply(self.document.rig, f"Move {self._describe_ids(before)}", before=before)
+                what = self._describe_ids(before)
+                self.document.apply(self.document.rig, f"Move {what}", before=before)
+                self.status(f"Moved {what}.")
             self._drag_ids = []
             return
         if self._band is not None:
@@ -386,7 +393,7 @@ class PlacePointTool(Tool):
         self.kind = kind
         self.name = f"place-{kind}"
         self.label = f"Place {KIND_NAMES[kind]}"
-        self.hint = f"Click to place a {KIND_NAMES[kind]}. Esc returns to select."
+        self.hint = f"Click to place {with_article(KIND_NAMES[kind])}. Esc returns to select."
 
     def press(self, ev) -> None:
         if ev.button != Qt.LeftButton:
@@ -414,10 +421,11 @@ class RopeTool(Tool):
 
     name = "rope"
     label = "Draw rope"
-    hint = ("Click the points the rope goes through, from the load end; empty space makes a free point. "
-            "A click on a point asks how the rope passes it (Shift pulley, Ctrl tied, Alt sliding, Ctrl+Shift edge "
-            "skip the question). Enter or double-click ends; a haul team ends it hauled. "
-            "Right-click or Backspace takes back the last pass.")
+    hint = ("Draw from the load end: click the load, then each point the rope runs over, then the haul team. "
+            "At each point choose how the rope passes it: over a pulley (Shift+click), tied (Ctrl), through a "
+            "ring (Alt), over an edge (Ctrl+Shift), or pick in the menu a plain click opens; 'Passes points as' "
+            "in the tool bar sets the usual choice. Empty space makes a free point. Enter or double-click ends; "
+            "right-click or Backspace takes back the last pass.")
 
     def __init__(self, view) -> None:
         super().__init__(view)
@@ -489,12 +497,20 @@ class RopeTool(Tool):
             self._add_pick(pid, "hauled")
             self.finish()
             return
+        if point.kind == "load" and self._started_at_haul():
+            self._add_pick(pid, "tied")  # drawn from the haul team: the load ends it (turned round on finishing)
+            self.finish()
+            return
         how = how_for_modifiers(ev.modifiers, "")
         if how:
             self._add_pick(pid, how)
             return
         self._add_pick(pid, self.defaults.how)  # shown as the default while the chooser asks
         self._ask_later(ev)
+
+    def _started_at_haul(self) -> bool:
+        """True if the rope being drawn began at a haul team (drawn toward the load)."""
+        return bool(self._picks) and self._work.point(self._picks[0][0]).kind == "haul"
 
     @staticmethod
     def _point_at(rig: Rig, x: float, y: float) -> str | None:
@@ -680,13 +696,21 @@ class RopeTool(Tool):
             self.cancel()
             self.status("A rope needs at least two points: nothing was drawn.")
             return
+        turned = self._started_at_haul() and self._work.point(self._picks[-1][0]).kind != "haul"
+        if turned:  # ropes run from the load end to the haul team: the same rope, one edit
+            self._picks.reverse()
         rig = self._with_rope()
         start = self._start
         self._reset()
         rid = rig.ropes[-1].id
         self.document.apply(rig, f"Draw rope {rid}", before=start)
         self.scene.select_keys([("rope", rid)])
-        self.status(f"Drew {rid}. Click the start of the next rope, or Esc.")
+        if turned:
+            rope = rig.ropes[-1]
+            self.status(f"Drew {rid} from {rig.point(rope.path[0].at).name} to the haul team at "
+                        f"{rig.point(rope.path[-1].at).name}: ropes run from the load end, so it was turned round.")
+        else:
+            self.status(f"Drew {rid}. Click the start of the next rope, or Esc.")
 
     def _reset(self) -> None:
         self._drop_question()

@@ -113,6 +113,8 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = sub.add_parser("open", epilog=HELP_EPILOG, formatter_class=_RAW, help="open the app (default when only a file is given)")
     p.add_argument("rig", nargs="?", default=None)
+    p.add_argument("--copy", action="store_true",
+                   help="open the file as an untitled copy (Save asks where; samples always open this way)")
     return parser
 
 

@@ -36,6 +36,8 @@ def _bucket_colours() -> tuple[list[int], dict[int, int]]:
 
 
 _BUCKET_RGBA, _BUCKET_ORDER = _bucket_colours()
+#: band width (px) of each bucket colour: heavier with use, so greyscale keeps the meaning (theme.band_width_px)
+_BUCKET_WIDTH = {c: theme.band_width_px(k / BAND_BUCKETS * BAND_MAX_UTIL) for c, k in _BUCKET_ORDER.items()}
 
 
 #: The fields of a band piece's (entry, x0, y0, x1, y1) (``ForceItem._retained_bands``).
@@ -150,7 +152,7 @@ class BandPainting:
                     path.lineTo(*ends[i + 1])
                 colour = QColor.fromRgba(rgba)
                 colour.setAlpha(theme.OVERLAY_BAND_ALPHA)
-                band = (theme.cosmetic_pen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine), path)
+                band = (theme.cosmetic_pen(colour, _BUCKET_WIDTH[rgba], Qt.SolidLine), path)
             self._band_paths[rgba] = (ends, band)
             self.bands.append(band)
             self.band_ends.append(ends)
@@ -187,8 +189,6 @@ class BandPainting:
         """
         if len(self.band_ends) != len(self.bands):
             return None
-        half = theme.OVERLAY_BAND_PX / 2.0
-        pad = int(math.ceil(half)) + 3
         frame = (m11, m22, dx, dy)
         area_key = (area.x(), area.y(), area.width(), area.height())
         memo = self._band_memo if self._band_memo.get("_frame") == (frame, area_key) else {}
@@ -202,14 +202,17 @@ class BandPainting:
             colour.setAlpha(255)
             rgba = colour.rgba()
             kept = memo.get(rgba)
+            width = _BUCKET_WIDTH.get(rgba, theme.OVERLAY_BAND_PX)
+            half = width / 2.0
+            pad = int(math.ceil(half)) + 3
             if kept is not None and kept[0] == ends:
                 _ends, pieces, entries, r, hits = kept
             else:
                 flat = self._flat_pens.get(rgba)
                 if flat is None:
-                    flat = self._flat_pens[rgba] = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
+                    flat = self._flat_pens[rgba] = QPen(colour, width, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
 
-                def piece(sa, ta, sb, tb, flat=flat, rgba=rgba):
+                def piece(sa, ta, sb, tb, flat=flat, rgba=rgba, half=half, pad=pad):
                     a, b = (sa * m11 + dx, ta * m22 + dy), (sb * m11 + dx, tb * m22 + dy)
                     x0, y0 = math.floor(min(a[0], b[0])) - pad, math.floor(min(a[1], b[1])) - pad
                     w, h = math.ceil(abs(a[0] - b[0])) + 2 * pad + 1, math.ceil(abs(a[1] - b[1])) + 2 * pad + 1
@@ -297,14 +300,14 @@ class BandPainting:
         area = QRect(0, 0, device.width(), device.height())
         rects = []
         for _pen, path in self.bands:
-            r = t.mapRect(path.controlPointRect()).toAlignedRect().adjusted(-6, -6, 6, 6).intersected(area)
+            r = t.mapRect(path.controlPointRect()).toAlignedRect().adjusted(-10, -10, 10, 10).intersected(area)
             rects.append(r)
         if sum(r.width() * r.height() for r in rects) > 2 * area.width() * area.height():
             return False  # zoomed far in with many bands: layers would cost more than they save
-        half = theme.OVERLAY_BAND_PX / 2.0
         for (pen, path), ends, r in zip(self.bands, self.band_ends, rects):
             if r.isEmpty():
                 continue
+            half = pen.widthF() / 2.0
             colour = QColor(pen.color())
             alpha = colour.alphaF()
             colour.setAlpha(255)
@@ -313,7 +316,7 @@ class BandPainting:
             lp = QPainter(layer)
             lp.setRenderHint(QPainter.Antialiasing, True)
             lp.setTransform(t * QTransform.fromTranslate(-r.left(), -r.top()))
-            flat = QPen(colour, theme.OVERLAY_BAND_PX, Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
+            flat = QPen(colour, pen.widthF(), Qt.SolidLine, Qt.FlatCap, Qt.RoundJoin)
             flat.setCosmetic(True)
             lp.setPen(flat)
             lp.drawPath(path)

@@ -45,8 +45,12 @@ class ResultOverlay(QObject):
         self.legend = Legend(view.viewport())
         view.foreground_painters.append(self.legend.paint_on)
         view.foreground_areas.append(self.legend.areas)
+        view.fit_reserves.append(lambda: (self.legend.width() + theme.LEGEND_MARGIN_PX,
+                                          self.legend.height() + theme.LEGEND_MARGIN_PX) if self.legend.shown else (0, 0))
         view.viewport().installEventFilter(self)
-        view.scale_changed.connect(lambda _s: self.relayout())
+        from sketchpad.zoom_pacing import ZoomPacer
+
+        self.zoom_pacer = ZoomPacer(self)  # a wheel gesture re-places the labels once, when it stops
         self.rig: Rig | None = None  # the rig the drawn overlay belongs to
         self.result: Result | None = None  # the result drawn (the last good one when greyed)
         self.failed: Result | None = None  # the current failed result, if any
@@ -148,12 +152,25 @@ class ResultOverlay(QObject):
             self.force_item.set_labels([], [], self._m_per_px())
             self.zones_item.set_zones([])
             self.legend.set_shown(False)
+            self.scene.set_rope_names_in_overlay(False)  # the rope items name themselves again
             return
         rig, result = self.rig, self.result
         pos = scene_positions(rig, result)
         self._pos = (result, pos)
         self.pieces = self.force_item.set_bands(rig, result, pos)
         labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on], self._label_memo, pos)
+        if self.layers["anchors"]:  # overloaded pulleys and edges marked like anchors (made again once a drag pauses)
+            from sketchpad.hardware_marks import hardware_labels
+
+            if getattr(self, "_zones_due", True) or not hasattr(self, "_hw_labels"):
+                self._hw_labels = hardware_labels(rig, result, pos)
+            labels = labels + self._hw_labels if self._hw_labels else labels
+        from sketchpad.rope_names import rope_name_labels  # names placed with the numbers, never under them
+
+        pieces_labelled = self.layers["tensions"] or self.layers["stretch"]
+        if pieces_labelled:
+            labels = labels + rope_name_labels(rig, pos, self.__dict__.setdefault("_name_memo", {}))
+        self.scene.set_rope_names_in_overlay(pieces_labelled)
         self.force_item.labels, self.force_item.arrows = labels, arrows
         if self.layers["zones"] and not getattr(self, "_zones_due", True):
             pass  # a drag step: zones follow the settled result
@@ -181,7 +198,7 @@ class ResultOverlay(QObject):
             lines.append(f"{self.skipped} label{'s' if self.skipped != 1 else ''} hidden to avoid overlap: zoom in")
         grey = self.failed is not None
         if grey:
-            lines.append("solve failed: last good result, greyed")
+            lines.append(getattr(self, "grey_reason", "solve failed: last good result, greyed"))
         self.legend.set_content(lines, self.layers["zones"], grey)
 
     def _m_per_px(self) -> float:
@@ -234,7 +251,11 @@ class ResultOverlay(QObject):
         (scene point, rect relative to it) per point, made again only for points that changed."""
         if len(self._name_box_cache) > 4 * len(rig.points) + 64:
             self._name_box_cache.clear()
-        return self._name_box_of.values(rig.points)
+        boxes = self._name_box_of.values(rig.points)
+        at = getattr(self.scene, "shown_at", None)  # points drawn where the solver put them (sketchpad.ghosts)
+        if at:
+            boxes = [(scene_xy(at[p.id]), b[1]) if p.id in at else b for p, b in zip(rig.points, boxes)]
+        return boxes
 
     def _name_box(self, p) -> tuple:
         key = (p.name, p.kind)

@@ -209,7 +209,7 @@ class ForceItem(BandPainting, LayerItem):
         if bounds:
             bx0, by0, bx1, by1 = zip(*bounds)
             xs0.append(min(bx0)), ys0.append(min(by0)), xs1.append(max(bx1)), ys1.append(max(by1))
-        pad = (theme.FAIL_RING_PX + theme.OVERLAY_BAND_PX) * m_per_px
+        pad = (theme.FAIL_RING_PX + theme.BAND_MAX_PX) * m_per_px
         if self.fail_point is not None and pad > 0:
             fx, fy = self.fail_point
             xs0.append(fx - pad), ys0.append(fy - pad), xs1.append(fx + pad), ys1.append(fy + pad)

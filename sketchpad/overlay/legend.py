@@ -6,17 +6,14 @@ from __future__ import annotations
 import math
 
 from PySide6.QtCore import QPointF, QRect, QRectF, QSize, Qt
-from PySide6.QtGui import QColor, QFontMetricsF, QLinearGradient, QPainter, QPixmap
+from PySide6.QtGui import QColor, QFontMetricsF, QPainter, QPixmap
 from PySide6.QtWidgets import QLabel, QWidget
 
-from sketchpad import theme
+from sketchpad import legend_key, theme
 from sketchpad.items import text_advance
-from sketchpad.short_text import drawn
 from solver.model import Rig
-from solver.pull_needed import need_phrase
 from solver.readouts import ma_short
 from solver.result import Result
-from solver.units import format_force
 
 # --- screen-fixed widgets on the viewport ------------------------------------------------------------------
 class Banner(QLabel):
@@ -33,11 +30,10 @@ class Banner(QLabel):
         self.hide()
 
     def place(self) -> None:
-        vp = self.parentWidget().rect()
+        from sketchpad.hint_bar import top_strip_width
+
         m = theme.BANNER_MARGIN_PX
-        right = theme.NORTH_ARROW_PX + 2 * theme.HUD_MARGIN_PX
-        w = max(160, vp.width() - m - right)
-        self.setFixedWidth(w)
+        self.setFixedWidth(top_strip_width(self.parentWidget().rect().width()))
         self.adjustSize()
         self.move(m, m)
 
@@ -68,7 +64,7 @@ class Legend(QWidget):
         self._areas: tuple | None = None  # (lines, frame, areas) of the last call of areas()
         self.hide()
 
-    TITLE = "Rope use: tension × SF ÷ MBS"
+    TITLE = legend_key.TITLE
     TICKS = (0.0, 0.5, 1.0, 1.5)
 
     def set_content(self, lines: list[str], show_zones: bool, grey: bool) -> None:
@@ -86,8 +82,11 @@ class Legend(QWidget):
         pad, lh = 8, self.fm.height()
         # advances remembered per (text, font): a drag step changes a number or two of the lines
         w = max([theme.LEGEND_RAMP_W_PX + 24, text_advance(self.TITLE, self.title_font)]
-                + [text_advance(t, self.font) for t in self.lines])
-        h = lh + 4 + theme.LEGEND_RAMP_H_PX + lh + 6 + (lh + 4 if self.show_zones else 0) + len(self.lines) * lh
+                + [text_advance(t, self.font) for t in self.lines]
+                + ([legend_key.rows_width(legend_key.rows_for(self.zone_names), lambda t: text_advance(t, self.font))]
+                   if self.show_zones else []))
+        rows = legend_key.rows_height(legend_key.rows_for(self.zone_names), lh, self.show_zones)
+        h = lh + 4 + theme.LEGEND_RAMP_H_PX + lh + 6 + rows + len(self.lines) * lh
         return QSize(int(w + 2 * pad), int(h + 2 * pad))
 
     def place(self) -> None:
@@ -192,7 +191,7 @@ class Legend(QWidget):
         """Top (px in the key) of the first summary line: below the title, the ramp and the zone swatches."""
         lh = self.fm.height()
         y = self.LINE_PAD + lh + 4 + theme.LEGEND_RAMP_H_PX + 3 + lh + 3
-        return y + (lh + 4 if self.show_zones else 0.0)
+        return y + legend_key.rows_height(legend_key.rows_for(self.zone_names), lh, self.show_zones)
 
     def _paint_line(self, p: QPainter, line: str, y: float) -> None:
         p.setFont(self.font)
@@ -212,12 +211,7 @@ class Legend(QWidget):
         y += lh + 4
         ramp = QRectF(pad, y, theme.LEGEND_RAMP_W_PX, theme.LEGEND_RAMP_H_PX)
         top = self.TICKS[-1]
-        grad = QLinearGradient(ramp.topLeft(), ramp.topRight())
-        for u, c in theme.UTIL_RAMP:
-            grad.setColorAt(min(u / top, 1.0), theme.OVERLAY_GREY if self.grey else c)
-        p.setPen(Qt.NoPen)
-        p.setBrush(grad)
-        p.drawRect(ramp)
+        legend_key.paint_wedge(p, ramp, top, self.grey)
         p.setFont(self.font)
         p.setPen(theme.pixel_pen(theme.OVERLAY_LABEL_TEXT, 1.0))
         for u in self.TICKS:
@@ -228,44 +222,14 @@ class Legend(QWidget):
             p.drawText(QPointF(min(max(x - tw / 2, 2), self.width() - tw - 2), ramp.bottom() + 3 + self.fm.ascent()), text)
         y = ramp.bottom() + 3 + lh + 3
         if self.show_zones:
-            x = pad
-            for kind, name in self.zone_names:
-                fill, hatch = theme.zone_brushes(kind)
-                box = QRectF(x, y + 1, 14, lh - 3)
-                p.setPen(theme.pixel_pen(theme.ZONE_COLOURS[kind], 1.0))
-                p.setBrush(fill)
-                p.drawRect(box)
-                p.setBrush(hatch)
-                p.drawRect(box)
-                p.setPen(theme.OVERLAY_LABEL_TEXT)
-                p.drawText(QPointF(x + 18, y + self.fm.ascent()), name)
-                x += 18 + self.fm.horizontalAdvance(name) + 12
+            legend_key.paint_rows(p, legend_key.rows_for(self.zone_names), pad, y, lh, self.fm.ascent())
 
 
 def summary_lines(rig: Rig, result: Result) -> list[str]:
-    """The system in a few lines: MA nominal/ideal/actual, haul force, load delivered vs needed and the pull that
-    needs."""
-    unit = rig.display.force
-    points = {p.id: p for p in rig.points}
+    """The system in a few lines: MA nominal/ideal/actual, then sentences (sketchpad.summary_words)."""
+    from sketchpad.summary_words import sentences
+
     out = []
     if result.ma_actual is not None:  # a drag step leaves nominal and ideal to the analysis at the pause
         out.append(ma_short(result))
-    for hid, force in result.haul.items():
-        name = drawn(points[hid].name if hid in points else hid)
-        hold = result.hold_haul_range.get(hid)
-        text = f"{name}: {format_force(force, unit)}"
-        if hold is not None:
-            text += f" (hold {format_force(hold.low, unit)} – {format_force(hold.high, unit)})"
-        out.append(text)
-    for lid, f in result.loads.items():
-        p = points.get(lid)
-        if p is None:
-            continue
-        text = f"to {drawn(p.name)}: {format_force(f.force_N, unit)}"
-        if p.required_N is not None:
-            text += f" of {format_force(p.required_N, unit)} needed"
-            if lid in result.needs:  # solved once the drawing is still (solver.pull_needed)
-                text += f" → {need_phrase(rig, result.needs[lid])}"
-        out.append(text)
-    out.append(f"safety factor {rig.settings.min_safety_factor:g}:1 · {rig.settings.motion}")
-    return out
+    return out + sentences(rig, result)

@@ -60,7 +60,7 @@ def test_draw_three_to_one_from_nothing_builds_the_rig_and_solves_to_ideal_ma_3(
 def test_rope_passes_follow_the_toolbar_default_and_double_click_ends_tied(main_window, mouse):
     w = main_window
     w.document.replace_all(Rig(points=(Point("A1", "anchor", -10, 0), Point("A2", "anchor", 10, 0))))
-    w.combo_how.setCurrentText("sliding")
+    w.combo_how.setCurrentIndex(w.combo_how.findData("sliding"))
     w.set_tool("rope")
     mouse.click(-10, 0)
     mouse.click(0, -5)  # a free point in the middle: sliding from the toolbar default
@@ -118,7 +118,7 @@ def test_force_tool_drag_east_gives_zero_degrees_and_north_ninety(main_window, m
 
 def test_feature_tool_closes_a_polygon_on_enter(main_window, mouse):
     w = main_window
-    w.combo_feature.setCurrentText("boulder")
+    w.combo_feature.setCurrentIndex(w.combo_feature.findData("boulder"))
     w.set_tool("feature")
     for x, y in ((0, 0), (4, 0), (4, 3)):
         mouse.click(x, y)

@@ -153,7 +153,7 @@ def test_a_drag_through_the_viewport_with_qt_scheduling_the_paints_keeps_the_scr
     assert_screen_fresh(view)
 
 
-def test_a_failed_solve_mid_drag_greys_the_overlay_and_shows_the_banner_on_screen(main_window):
+def test_a_failed_solve_mid_drag_greys_the_overlay_and_shows_the_hint_on_screen(main_window):
     doc, sched, view = fifty_rope_window(main_window)
     ov = main_window.live.overlay
     layer = view.drag_layer
@@ -161,17 +161,18 @@ def test_a_failed_solve_mid_drag_greys_the_overlay_and_shows_the_banner_on_scree
     base = doc.rig
     loose = base.with_point(Point("K9", "point", 40.0, 5.0, label="loose karabiner"))  # no rope reaches it: no solve
     p = base.point("H2")
-    # the banner's own updates (partial paints of the viewport under it) after steps 0 and 5
+    # the hint strip's own updates (partial paints of the viewport under it) after steps 0 and 5
     line_steps(doc, sched, view, loose, "H2", p, range(8), lambda i: i in (0, 5) and QApplication.processEvents())
-    assert ov.greyed and not ov.banner.isHidden() and "loose karabiner" in ov.banner_text
+    # a point no rope reaches is a sketch being drawn: greyed, with the calm hint (translucent, over the frame)
+    assert ov.greyed and ov.banner.isHidden() and "loose karabiner" in main_window.hints.shown_text()
     assert layer.damage_frames > 0
     before = layer.damage_frames
     line_steps(doc, sched, view, loose, "H2", p, range(8, 12))
     assert layer.damage_frames - before == 4  # greyed frames redraw their damage only
-    assert_screen_fresh(view)  # the translucent banner over the frame, laid down once
-    # the point goes: the solve works again, the banner goes (its own updates after step 13)
+    assert_screen_fresh(view)  # the translucent hint over the frame, laid down once
+    # the point goes: the solve works again, the hint goes (its own updates after step 13)
     line_steps(doc, sched, view, base, "H2", p, range(12, 20), lambda i: i == 13 and QApplication.processEvents())
-    assert not ov.greyed and ov.banner.isHidden()
+    assert not ov.greyed and main_window.hints.isHidden()
     assert layer.damage_frames - before > 8
     assert_screen_fresh(view)
 

@@ -12,6 +12,7 @@ import pytest
 from PySide6.QtCore import QLocale
 
 from solver.rigfile import dumps_rig, loads_rig
+from solver.units import format_force
 from tests.sketchpad.test_properties import dock, type_into  # noqa: F401 - the fixture is used by name
 
 
@@ -35,7 +36,8 @@ def test_a_decimal_comma_user_gets_the_force_they_typed(dock, qtbot, locale, typ
     type_into(qtbot, panel.point_page.capacity, typed)
     assert not panel.point_page.capacity.has_error, panel.point_page.capacity.error.text()
     assert panel.document.rig.point("A1").capacity_N == pytest.approx(expected_N, rel=1e-12)
-    assert panel.point_page.capacity.edit.text().startswith(f"{expected_N / 1000:g}".replace(".", ","))
+    # shown at the plan's precision (solver.units.format_force) with the user's decimal comma
+    assert panel.point_page.capacity.edit.text() == format_force(expected_N, "kN").replace(".", ",")
 
 
 @pytest.mark.parametrize("language, country, typed, words", [

@@ -21,10 +21,11 @@ def force_field(qtbot):
 
 def test_a_field_showing_its_stored_value_is_untouched_and_its_text_is_rounded(force_field):
     field, _unit = force_field
-    assert field.edit.text() == "1.2346 kN"  # five significant digits of 1.2345678 kN (1 kN = 1000 N, SI brochure)
+    # the precision the plan and the dock show for a force (solver.units.format_force): 1.2345678 kN -> 1.23 kN
+    assert field.edit.text() == "1.23 kN"  # 1 kN = 1000 N, SI brochure
     assert field.is_untouched()
-    assert field.value() == 1234.5678  # the exact stored value
-    assert field.parse(field.edit.text()) == pytest.approx(1234.6, abs=1e-9)  # what re-reading the text would give
+    assert field.value() == 1234.5678  # the exact stored value, kept while the text is not edited
+    assert field.parse(field.edit.text()) == pytest.approx(1230.0, abs=1e-9)  # what re-reading the text would give
 
 
 def test_typing_another_value_makes_the_field_touched(force_field, qtbot):

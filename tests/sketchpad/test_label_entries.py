@@ -31,7 +31,7 @@ def fresh_entries_and_rect(item, m_per_px: float):
             if w > 0 or h > 0:
                 lx, ly = lab.at[0] + x * m_per_px, lab.at[1] + y * m_per_px
                 xs0.append(lx), ys0.append(ly), xs1.append(lx + w * m_per_px), ys1.append(ly + h * m_per_px)
-    pad = (theme.FAIL_RING_PX + theme.OVERLAY_BAND_PX) * m_per_px
+    pad = (theme.FAIL_RING_PX + theme.BAND_MAX_PX) * m_per_px
     if item.fail_point is not None and pad > 0:
         fx, fy = item.fail_point
         xs0.append(fx - pad), ys0.append(fy - pad), xs1.append(fx + pad), ys1.append(fy + pad)

@@ -116,7 +116,9 @@ def test_labels_never_overlap_and_none_is_hidden_at_the_fitted_zoom(main_window,
     open_sample(main_window, path.name)
     ov = main_window.live.overlay
     placed = [lab for lab in ov.labels if lab.placed]
-    assert ov.skipped == 0 and len(placed) == len(ov.labels)
+    # every label with a number is shown; a rope's name (placed last) may give way on a crowded plan
+    numbers = [lab for lab in ov.labels if lab.kind != "rope"]
+    assert all(lab.placed for lab in numbers) and ov.skipped == len(ov.labels) - len(placed)
     to_px = view_to_px(main_window.view)
     for i, a in enumerate(placed):
         for b in placed[i + 1:]:
@@ -164,7 +166,9 @@ def test_layer_toggles_in_the_view_menu_hide_and_show_labels(main_window):
     assert live.overlay.labels == [] and live.overlay.force_item.arrows == []
     for name in LAYERS:
         live.layer_actions[name].trigger()
-    assert {lab.kind for lab in live.overlay.labels} == {"tension", "angle", "anchor", "load", "haul"}
+    # the raft's overloaded redirect pulley is marked with the anchors' layer ("hardware")
+    # ... and the rope names are placed with the piece labels ("rope")
+    assert {lab.kind for lab in live.overlay.labels} == {"tension", "angle", "anchor", "load", "haul", "hardware", "rope"}
 
 
 def test_danger_zones_are_drawn_where_solver_danger_puts_them(main_window):
@@ -195,8 +199,9 @@ def test_a_failed_solve_shows_its_reason_and_keeps_the_last_overlay_greyed(main_
     assert not failed.ok and failed.subject == "K9"
     ov = main_window.live.overlay
     assert ov.greyed and ov.zones_item.grey
-    assert "loose karabiner" in ov.banner_text and failed.message in ov.banner_text
-    assert not ov.banner.isHidden()
+    # a point no rope reaches yet is a sketch still being drawn: a calm hint naming it, not the red banner
+    assert ov.banner.isHidden() and ov.banner_text == ""
+    assert "loose karabiner is not held by any rope yet" in main_window.hints.shown_text()
     after = {lab.key: lab.values["tension_N"] for lab in ov.labels if lab.kind == "tension"}
     assert after == before == {(s.rope, s.index): s.tension_N for s in good.segments}
     main_window.document.undo_stack.undo()

@@ -250,7 +250,7 @@ def test_every_report_page_with_a_drawing_has_the_key(qapp, tmp_path):
 
     rep = write_report(load_rig(RAFT), tmp_path / "r.pdf")
     pages = page_texts(rep.path)
-    drawing_pages = [t for t in pages if "Rope use: tension" in t or "Schematic: strands side by side" in t]
+    drawing_pages = [t for t in pages if "Rope use: share of allowed load" in t or "Schematic: strands side by side" in t]
     assert len(drawing_pages) >= 2
     for t in drawing_pages:
         assert has_key(t), [w for w in key_words() if w not in t]
@@ -312,7 +312,7 @@ def test_manual_numbers_every_page_once_through_the_book(manual):
 
 def test_manual_pages_with_drawings_have_the_key_and_progress_counts_up(manual):
     m, chapters, pages, seen = manual
-    drawing_pages = [t for t in pages if "Rope use: tension" in t or "Schematic: strands side by side" in t]
+    drawing_pages = [t for t in pages if "Rope use: share of allowed load" in t or "Schematic: strands side by side" in t]
     assert len(drawing_pages) >= 2 * len(chapters)
     assert all(has_key(t) for t in drawing_pages)
     assert [s[0] for s in seen] == list(range(1, 2 * len(chapters) + 1))

@@ -144,8 +144,8 @@ def test_the_question_comes_after_the_double_click_time(rope_window, mouse, qtbo
 def test_the_real_popup_takes_keys_enter_and_esc(rope_window, mouse, qtbot):
     w = rope_window
     tool = use_chooser(w, None)  # None: the real popup menu
-    w.combo_how.setCurrentText("sliding")
-    w.combo_pulley.setCurrentText("pulley-bushing")
+    w.combo_how.setCurrentIndex(w.combo_how.findData("sliding"))
+    w.combo_pulley.setCurrentIndex(w.combo_pulley.findData("pulley-bushing"))
 
     def popup() -> PassMenu:
         qtbot.waitUntil(lambda: isinstance(QApplication.activePopupWidget(), PassMenu))

@@ -154,7 +154,9 @@ def test_insert_system_menu_lists_every_template_with_its_ideal_ma(main_window):
     assert kit.menu.menuAction() in main_window.menu_insert.actions()
     for name, tpl in TEMPLATES.items():
         assert any(t.startswith(tpl.title) for t in texts), name
-    assert "(3:1)" in kit.actions["3:1"].text() and "(9:1)" in kit.actions["9:1"].text()
+    # each entry says its ideal MA once: in the title, else in brackets after it
+    assert kit.actions["3:1"].text() == "3:1 (Z)" and kit.actions["9:1"].text().startswith("9:1 ")
+    assert kit.actions["redirect"].text() == "Redirect (1:1)"
     kit.actions["5:1"].trigger()
     assert main_window.tool.name == TOOL_NAME and main_window.tool.template == "5:1"
 

@@ -1,0 +1,56 @@
+"""A wheel gesture re-places the overlay's labels once, when it stops; the placement it then makes equals one
+made afresh, and between notches every label still lies inside the overlay item's extent."""
+
+from __future__ import annotations
+
+from PySide6.QtCore import QPoint
+from PySide6.QtWidgets import QApplication
+
+from sketchpad.overlay import ObstacleCache
+from tests.sketchpad.test_overlay import open_sample
+
+
+def placement(ov) -> dict:
+    return {lab.key: (lab.placed, lab.at, lab.rect) for lab in ov.labels}
+
+
+def test_notches_keep_the_placement_and_the_pause_places_afresh(main_window, qtbot):
+    open_sample(main_window, "raft-3to1-redirect.rig.json")
+    ov, view = main_window.live.overlay, main_window.view
+    from sketchpad.zoom_pacing import STREAM_MS
+    from tests.bench.test_bench_zoom import wheel
+
+    qtbot.wait(int(STREAM_MS) + 50)
+    wheel(view, True)  # the first notch of a gesture: placed at once
+    assert not ov.zoom_pacer.pending
+    first = placement(ov)
+    for _ in range(3):  # the notches that follow it
+        wheel(view, True)
+    assert ov.zoom_pacer.pending and ov.zoom_pacer.deferred >= 3
+    assert placement(ov) == first  # boxes keep their pixel offsets from what they name
+    item = ov.force_item
+    m = 1.0 / view.px_per_m
+    bounds = item.boundingRect()
+    for lab in ov.labels:  # every label inside the item's extent at the new scale (so Qt repaints it)
+        if lab.placed:
+            x, y, w, h = lab.rect
+            assert bounds.contains(lab.at[0] + x * m, lab.at[1] + y * m)
+            assert bounds.contains(lab.at[0] + (x + w) * m, lab.at[1] + (y + h) * m)
+    qtbot.waitUntil(lambda: not ov.zoom_pacer.pending, timeout=3000)  # the wheel stops
+    settled = placement(ov)
+    ov._memo, ov._obstacles = {}, ObstacleCache()  # a placement made afresh at the same zoom
+    ov.relayout()
+    assert placement(ov) == settled
+    QApplication.processEvents()
+
+
+def test_a_fit_right_after_another_zoom_places_the_labels_at_once(main_window):
+    open_sample(main_window, "two-point-anchor.rig.json")
+    ov, view = main_window.live.overlay, main_window.view
+    view.zoom_at(1.3, QPoint(view.viewport().rect().center()))
+    view.zoom_to_fit()  # not a wheel notch: never deferred, however soon it follows
+    assert not ov.zoom_pacer.pending
+    settled = placement(ov)
+    ov._memo, ov._obstacles = {}, ObstacleCache()
+    ov.relayout()
+    assert placement(ov) == settled
