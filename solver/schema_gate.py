@@ -56,8 +56,10 @@ _PLAIN_TYPES: Mapping[str, frozenset[type]] = {
 }
 
 
+#: written as jsonschema tests them (an error only when ``v < x``, ``v > x``, ``v <= x``), so a NaN, which
+#: compares false with everything, passes here as it passes there (the reader refuses it after the schema)
 _COMPARE: Mapping[str, Callable[[Any, Any], bool]] = {
-    "minimum": lambda v, x: v >= x, "maximum": lambda v, x: v <= x, "exclusiveMinimum": lambda v, x: v > x,
+    "minimum": lambda v, x: not v < x, "maximum": lambda v, x: not v > x, "exclusiveMinimum": lambda v, x: not v <= x,
 }
 
 

@@ -51,6 +51,8 @@ def test_a_mutated_sample_gets_the_same_answer_from_both(data):
     ({"enum": ["m", "ft"]}, "ft"),
     ({"type": "number", "exclusiveMinimum": 0}, 0),
     ({"type": "number", "minimum": 0}, -0.0),
+    ({"type": "number", "minimum": -1e5, "maximum": 1e5}, float("nan")),  # a NaN compares false: not an error
+    ({"type": "number", "exclusiveMinimum": 0}, float("nan")),
     ({"type": "string", "minLength": 1}, ""),
     ({"type": "array", "prefixItems": [{"type": "number"}, {"type": "number"}], "items": False,
       "minItems": 2}, [1, 2, 3]),
