@@ -15,12 +15,11 @@ from PySide6.QtGui import QLinearGradient, QPainter, QPolygonF
 from sketchpad import theme
 
 TITLE = "Rope use: share of allowed load"
-#: (zone kind whose colours the swatch uses, swatch shape, words): every shape the zone layer draws before a
-#: failure scan has computed the areas (so the bight shapes say they are the quick estimate), and the ring left
-#: where a point the solver moved was drawn
+#: (zone kind whose colours the swatch uses, swatch shape, words): every shape the zone layer draws, and the
+#: ring left where a point the solver moved was drawn
 ZONE_ROWS: tuple[tuple[str, str, str], ...] = (
-    ("bight", "box", "inside of bight (quick estimate): rope snaps in if a redirect fails"),
-    ("bight", "arm", "arm from a bight (quick estimate): pulley's flight if its anchor fails"),
+    ("bight", "box", "inside of bight: rope snaps in if a redirect fails"),
+    ("bight", "arm", "arm from a bight: pulley's flight if its anchor fails"),
     ("recoil", "box", "recoil band: a broken rope whips here"),
     ("", "drawn", "dashed ring: where a point was drawn; the solver moved it"),
 )
