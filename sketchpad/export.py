@@ -755,6 +755,14 @@ def rig_error_text(rig_path: str, exc: Exception) -> str:
     return text if name in text else f"{rig_path}: {text}"
 
 
+def require_pdf_name(path, what: str) -> pathlib.Path:
+    """``path`` as a Path; ExportError in words (``what``: "a report", "a manual", ...) unless it ends in .pdf."""
+    path = pathlib.Path(path)
+    if path.suffix.lower() != ".pdf":
+        raise ExportError(f"{what} is a PDF: end the file name '{path.name}' in .pdf")
+    return path
+
+
 def run_file_command(command: str, args, check_output, write, failed_note: str) -> int:
     """Shared shell of ``render`` and ``report``: load and solve ``args.rig``, write ``args.output``.
 

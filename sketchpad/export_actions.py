@@ -80,6 +80,11 @@ class ExportActions:
         path = getattr(self.window.document, "path", None)
         return path.parent if path is not None else None
 
+    def _source(self) -> str | None:
+        """The rig file the drawing or report says it came from (None for an unsaved sketch)."""
+        path = getattr(self.window.document, "path", None)
+        return str(path) if path else None
+
     def _say(self, text: str, error: bool = False) -> None:
         self.last_message = text
         try:
@@ -100,7 +105,7 @@ class ExportActions:
         doc = self.window.document
         try:
             drawing = export_drawing(doc.rig, path, rig_dir=self._rig_dir(),
-                                     source=str(doc.path) if getattr(doc, "path", None) else None)
+                                     source=self._source())
         except (ExportError, OSError) as exc:
             self._say(f"Could not export the drawing: {exc}", error=True)
             return None
@@ -126,7 +131,7 @@ class ExportActions:
         doc = self.window.document
         try:
             report = write_report(doc.rig, path, rig_dir=self._rig_dir(),
-                                  source=str(doc.path) if getattr(doc, "path", None) else None)
+                                  source=self._source())
         except (ExportError, OSError) as exc:
             self._say(f"Could not write the report: {exc}", error=True)
             return None

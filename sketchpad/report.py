@@ -39,6 +39,7 @@ from sketchpad.export import (
     paint_key_strip,
     portrait_writer,
     refuse_undrawable,
+    require_pdf_name,
     run_file_command,
     units_line,
 )
@@ -500,9 +501,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
                  rig_dir: pathlib.Path | None = None, source: str | None = None,
                  now: _dt.datetime | None = None, greyscale: bool = False) -> Report:
     """Write the PDF report of ``rig`` (``result`` defaults to ``analyse(rig)``); ExportError in words on failure."""
-    path = pathlib.Path(path)
-    if path.suffix.lower() != ".pdf":
-        raise ExportError(f"a report is a PDF: end the file name '{path.name}' in .pdf")
+    path = require_pdf_name(path, "a report")
     if not path.parent.exists():
         raise ExportError(f"the folder {path.parent} does not exist")
     refuse_undrawable(rig)
@@ -582,8 +581,7 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
 def report_cli(args) -> int:
     """``ropewright report RIG -o OUT.pdf``: exit 0 written, 2 bad input, 3 written but the rig did not solve."""
     def check_output() -> None:
-        if pathlib.Path(args.output).suffix.lower() != ".pdf":
-            raise ExportError(f"a report is a PDF: end the file name '{pathlib.Path(args.output).name}' in .pdf")
+        require_pdf_name(args.output, "a report")
 
     def write(rig, result, rig_dir) -> None:
         write_report(rig, args.output, result, rig_dir, source=args.rig, greyscale=getattr(args, "greyscale", False))

@@ -252,11 +252,9 @@ def paint_brief(painter: QPainter, page: QRectF, rig: Rig, result: Result, rig_d
 def write_brief(rig: Rig, path: pathlib.Path | str, result: Result | None = None, rig_dir: pathlib.Path | None = None,
                 source: str | None = None, now: _dt.datetime | None = None, greyscale: bool = False) -> BriefLayout:
     """Write the one-page briefing sheet PDF; ExportError in words when it cannot be written."""
-    from sketchpad.export import ExportError, ensure_app, portrait_writer
+    from sketchpad.export import ExportError, ensure_app, portrait_writer, require_pdf_name
 
-    path = pathlib.Path(path)
-    if path.suffix.lower() != ".pdf":
-        raise ExportError(f"a briefing sheet is a PDF: end the file name '{path.name}' in .pdf")
+    path = require_pdf_name(path, "a briefing sheet")
     if not path.parent.exists():
         raise ExportError(f"the folder {path.parent} does not exist")
     ensure_app()
@@ -278,11 +276,10 @@ def write_brief(rig: Rig, path: pathlib.Path | str, result: Result | None = None
 
 def brief_cli(args) -> int:
     """``ropewright brief RIG -o OUT.pdf [--greyscale]``: exit 0 written, 2 bad input, 3 written but the rig did not solve."""
-    from sketchpad.export import ExportError, run_file_command
+    from sketchpad.export import require_pdf_name, run_file_command
 
     def check_output() -> None:
-        if pathlib.Path(args.output).suffix.lower() != ".pdf":
-            raise ExportError(f"a briefing sheet is a PDF: end the file name '{pathlib.Path(args.output).name}' in .pdf")
+        require_pdf_name(args.output, "a briefing sheet")
 
     def write(rig, result, rig_dir) -> None:
         write_brief(rig, args.output, result, rig_dir, source=args.rig, greyscale=getattr(args, "greyscale", False))

@@ -180,14 +180,12 @@ def _paint_contents(painter: QPainter, content: QRectF, rows: list[tuple[str, in
 def write_manual(chapters: list[Chapter], path: pathlib.Path | str, title: str = "Rigging manual",
                  now: _dt.datetime | None = None, greyscale: bool = False, progress: Progress | None = None) -> Manual:
     """Write the manual of ``chapters`` to ``path`` (a PDF); ExportError or ManualError in words on failure."""
-    from sketchpad.export import MUTED, ExportError, ensure_app, page_font, portrait_writer
+    from sketchpad.export import MUTED, ExportError, ensure_app, page_font, portrait_writer, require_pdf_name
     from sketchpad.haul_report import add_haul_page
     from sketchpad.report import SMALL_PT, Flow, _compose, page_frame
     from solver.cautions import SHORT_CAUTION
 
-    path = pathlib.Path(path)
-    if path.suffix.lower() != ".pdf":
-        raise ExportError(f"a manual is a PDF: end the file name '{path.name}' in .pdf")
+    path = require_pdf_name(path, "a manual")
     if not path.parent.exists():
         raise ExportError(f"the folder {path.parent} does not exist")
     if not chapters:
