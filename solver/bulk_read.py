@@ -89,7 +89,7 @@ def _encodes(s: str) -> bool:
 
 
 @lru_cache(maxsize=None)
-def _plain_defaults(cls: type) -> tuple[dict[str, Any], frozenset[str]] | None:
+def plain_defaults(cls: type) -> tuple[dict[str, Any], frozenset[str]] | None:
     """(fields with a plain default and their values, fields that must be given) of a frozen dataclass,
     or None when only its ``__init__`` may build it (it has a ``__post_init__``)."""
     if hasattr(cls, "__post_init__"):
@@ -107,7 +107,7 @@ def _plain_defaults(cls: type) -> tuple[dict[str, Any], frozenset[str]] | None:
 def filled(cls: type, kwargs: dict[str, Any]) -> Any:
     """``cls(**kwargs)`` for a frozen dataclass, filled in one step when every field without a plain
     default is given (a big rig file has ~80,000 objects; the frozen ``__init__`` sets field by field)."""
-    plain = _plain_defaults(cls)
+    plain = plain_defaults(cls)
     if plain is None or not plain[1] <= kwargs.keys() or not kwargs.keys() <= _field_names(cls):
         return cls(**kwargs)
     obj = object.__new__(cls)

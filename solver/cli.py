@@ -57,7 +57,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--units", choices=("si", "imperial"), default=None,
                    help="display units (default: the rig's own display setting)")
 
-    from solver.cli_haul import add_parser as add_haul_parser
+    from solver.cli_haul_args import add_parser as add_haul_parser
 
     add_haul_parser(sub, epilog=HELP_EPILOG, formatter_class=_RAW)
 

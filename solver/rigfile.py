@@ -38,6 +38,8 @@ from typing import Any, Callable, Iterable, Mapping, Sequence
 
 from solver import limits, materials
 from solver import model as m
+from solver.bulk_build import object_reader, rope_reader
+from solver.bulk_checks import all_unique, points_to_check, ropes_to_check
 from solver.bulk_read import collector_paused, filled, plain_data_ok
 from solver.rigfile_schema import check_schema as _check_schema
 from solver.rigfile_schema import field_path as _where
@@ -672,6 +674,11 @@ def _make(cls: type, d: dict[str, Any], spec: _Spec, where: str, strict: bool, *
     key (``_to_simple``); so only a key given at its default needs remembering, and most
     objects of a big rig (a pass ``{"at": "n1"}``) need no entry at all.
     """
+    read = None if more else object_reader(cls, spec, _REQUIRED)
+    got = read(d) if read is not None else None
+    if got is not None:  # known keys only: built in one step (solver.bulk_build)
+        obj, at_default = got
+        return _remember(obj, at_default) if at_default else obj
     at_default: list[str] = []
     kwargs, _ = _from_simple(d, spec, where, strict, at_default)
     kwargs.update(more)
@@ -744,6 +751,9 @@ def _read_pass(x: dict[str, Any], where: str, j: int, strict: bool) -> m.Pass:
 
 
 def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
+    rope = _ROPE_FAST(d) if _ROPE_FAST is not None else None
+    if rope is not None:  # known keys only: solver.bulk_build
+        return rope
     path = tuple(_read_pass(x, where, j, strict) for j, x in enumerate(d["path"]))
     more: dict[str, Any] = {"path": path}
     if "rigged" in d:
@@ -764,6 +774,7 @@ def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
 _ROPE_DEFAULTS: dict[str, Any] = {"label": "", "rigged": m.Rigging()}
 #: A rope's keys as _from_simple reads them: path and rigged known (not extra), each read on its own.
 _ROPE_READ: _Spec = _ROPE + (("path", "str", _REQUIRED), ("rigged", "str", None))
+_ROPE_FAST = rope_reader(_ROPE, _PASS, _RIGGING, _REQUIRED, _remember)
 
 
 # --------------------------------------------------------------------------------------
@@ -866,13 +877,14 @@ def _check_coordinate(value: float, where: str) -> None:
 
 
 def _check_semantics(rig: m.Rig, base_dir: str | os.PathLike[str] | None) -> None:
-    _unique(rig.points, "points")
-    _unique(rig.ropes, "ropes")
-    _unique(rig.materials, "materials")
-    _unique(rig.hardware, "hardware")
-    _unique(rig.site.features, "site.features")
+    # the solver.bulk_checks tests clear what plainly meets a rule; the rest is checked in full, in order
+    for items, where in ((rig.points, "points"), (rig.ropes, "ropes"), (rig.materials, "materials"),
+                         (rig.hardware, "hardware"), (rig.site.features, "site.features")):
+        if not all_unique(items):
+            _unique(items, where)
     points = {p.id: p for p in rig.points}
-    for i, p in enumerate(rig.points):
+    for i in points_to_check(rig.points, MAX_COORDINATE_M):
+        p = rig.points[i]
         _check_coordinate(p.x, f"points[{i}].x")
         _check_coordinate(p.y, f"points[{i}].y")
         if p.role is not None and p.kind != "person":
@@ -886,9 +898,20 @@ def _check_semantics(rig: m.Rig, base_dir: str | os.PathLike[str] | None) -> Non
         _check_stretch(mat, f"materials[{i}]")
     for i, hw in enumerate(rig.hardware):
         _raise_problem(materials.hardware_problem(hw), f"hardware[{i}]")
-    for i, rope in enumerate(rig.ropes):
-        _check_rope(rig, rope, points, f"ropes[{i}]")
+    for i in ropes_to_check(rig.ropes, points, lambda mat: _material(rig, mat) is not None,
+                            lambda ps: _pass_fits(rig, ps)):
+        _check_rope(rig, rig.ropes[i], points, f"ropes[{i}]")
     _check_site(rig.site, base_dir)
+
+
+def _pass_fits(rig: m.Rig, ps: m.Pass) -> bool:
+    """True when a pass's hardware, grab and termination pass their checks (solver.bulk_checks asks)."""
+    try:
+        _check_pass_hardware(rig, ps, "")
+        _check_weak_link(rig, ps, "")
+    except RigFileError:
+        return False
+    return True
 
 
 def _raise_problem(problem: tuple[str, str] | None, where: str) -> None:
