@@ -70,7 +70,7 @@ def object_reader(cls: type, spec: tuple[tuple[str, str, Any], ...], required: o
 
 def rope_reader(rope_spec: tuple[tuple[str, str, Any], ...], pass_spec: tuple[tuple[str, str, Any], ...],
                 rigging_spec: tuple[tuple[str, str, Any], ...], required: object,
-                remember: Callable[[Any, list[str]], Any]) -> Callable[[dict], Any] | None:
+                remember: Callable[[Any, list[str]], Any]) -> Reader | None:
     """A reader of whole ropes (their passes and rigging too) with known keys only, or None.
 
     ``remember(obj, keys)`` notes the optional keys an object gave at their default (the
@@ -86,7 +86,7 @@ def rope_reader(rope_spec: tuple[tuple[str, str, Any], ...], pass_spec: tuple[tu
         return None
     default_rigging = m.Rigging()
 
-    def read(d: dict) -> Any:
+    def read(d: dict) -> tuple[Any, list[str]] | None:
         rigged = d.get("rigged", default_rigging)
         if rigged is not default_rigging:
             if type(rigged) is not dict or "slack_m" in rigged and "pretension_N" in rigged:
@@ -108,6 +108,27 @@ def rope_reader(rope_spec: tuple[tuple[str, str, Any], ...], pass_spec: tuple[tu
         values = rope.__dict__
         values["path"] = tuple(path)
         values["rigged"] = rigged
-        return rope
+        return got
 
     return read
+
+
+def read_all(items: list, read: Reader | None, remember: Callable[[Any, list[str]], Any],
+             slow: Callable[[int, Any], Any]) -> tuple:
+    """Every item read by ``read`` (a reader of :func:`object_reader`), the ones it declines by ``slow(index, item)``.
+
+    ``remember(obj, keys)`` notes the keys an object gave at their default.
+    """
+    if read is None:
+        return tuple(slow(i, x) for i, x in enumerate(items))
+    out = []
+    append = out.append
+    for i, x in enumerate(items):
+        got = read(x) if type(x) is dict else None
+        if got is None:
+            append(slow(i, x))
+        elif got[1]:
+            append(remember(*got))
+        else:
+            append(got[0])
+    return tuple(out)

@@ -38,7 +38,7 @@ from typing import Any, Callable, Iterable, Mapping, Sequence
 
 from solver import limits, materials
 from solver import model as m
-from solver.bulk_build import object_reader, rope_reader
+from solver.bulk_build import object_reader, read_all, rope_reader
 from solver.bulk_checks import all_unique, points_to_check, ropes_to_check
 from solver.bulk_read import collector_paused, filled, plain_data_ok
 from solver.rigfile_schema import check_schema as _check_schema
@@ -705,10 +705,12 @@ def _build_rig(d: dict[str, Any], strict: bool) -> m.Rig:
                             for i, x in enumerate(d.get("materials", ())))
     kw["hardware"] = tuple(_make(m.Hardware, x, _HARDWARE, f"hardware[{i}]", False)
                            for i, x in enumerate(d.get("hardware", ())))
-    kw["points"] = tuple(_make(m.Point, x, _POINT, f"points[{i}]", strict) for i, x in enumerate(d["points"]))
-    kw["forces"] = tuple(_make(m.Force, x, _FORCE, f"forces[{i}]", strict)
-                         for i, x in enumerate(d.get("forces", ())))
-    kw["ropes"] = tuple(_build_rope(x, f"ropes[{i}]", strict) for i, x in enumerate(d["ropes"]))
+    # the many points, forces and ropes: known keys read in one step (solver.bulk_build), the rest one by one
+    kw["points"] = read_all(d["points"], object_reader(m.Point, _POINT, _REQUIRED), _remember,
+                            lambda i, x: _make(m.Point, x, _POINT, f"points[{i}]", strict))
+    kw["forces"] = read_all(d.get("forces", ()), object_reader(m.Force, _FORCE, _REQUIRED), _remember,
+                            lambda i, x: _make(m.Force, x, _FORCE, f"forces[{i}]", strict))
+    kw["ropes"] = read_all(d["ropes"], _ROPE_FAST, _remember, lambda i, x: _build_rope(x, f"ropes[{i}]", strict))
     kw["extra"] = {k: v for k, v in d.items() if k not in _TOP_KEYS}
     return _remember(m.Rig(**kw), d.keys())
 
@@ -751,9 +753,6 @@ def _read_pass(x: dict[str, Any], where: str, j: int, strict: bool) -> m.Pass:
 
 
 def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
-    rope = _ROPE_FAST(d) if _ROPE_FAST is not None else None
-    if rope is not None:  # known keys only: solver.bulk_build
-        return rope
     path = tuple(_read_pass(x, where, j, strict) for j, x in enumerate(d["path"]))
     more: dict[str, Any] = {"path": path}
     if "rigged" in d:
