@@ -84,11 +84,16 @@ def rope_reader(rope_spec: tuple[tuple[str, str, Any], ...], pass_spec: tuple[tu
                               frozenset({"path", "rigged"}))
     if read_pass is None or read_rigging is None or read_rope is None:
         return None
-    default_rigging = m.Rigging()
+    pass_defaults = plain_defaults(m.Pass)[0]
+    new = object.__new__
+    Pass = m.Pass
+    absent = object()
 
     def read(d: dict) -> tuple[Any, list[str]] | None:
-        rigged = d.get("rigged", default_rigging)
-        if rigged is not default_rigging:
+        rigged = d.get("rigged", absent)
+        if rigged is absent:
+            rigged = read_rigging({})[0]  # a fresh default rigging, as the general reader makes one
+        else:
             if type(rigged) is not dict or "slack_m" in rigged and "pretension_N" in rigged:
                 return None
             got = read_rigging(rigged) if rigged else None  # {} is the default rigging, spelled out
@@ -97,6 +102,14 @@ def rope_reader(rope_spec: tuple[tuple[str, str, Any], ...], pass_spec: tuple[tu
             rigged = got[0]
         path = []
         for x in d["path"]:
+            if type(x) is dict and len(x) == 1 and "at" in x:  # the common pass, {"at": id}: built here
+                ps = new(Pass)
+                values = ps.__dict__
+                values.update(pass_defaults)
+                values["at"] = x["at"]
+                values["extra"] = {}
+                path.append(ps)
+                continue
             got = read_pass(x)
             if got is None:
                 return None
