@@ -124,7 +124,7 @@ def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True
     if start and len(contact_off(s, sol)):  # last guard: a warm start that ends so is solved again cold
         sol = solve_system(s, _start_x(s, None), motion, ideal=ideal)
     # a jammed pair balanced on the wrong side of its pulley is left for the stable side (solver.stability)
-    sol = stable(s, sol, lambda x: solve_system(s, x, motion, warm=True, ideal=ideal), lambda o: contact_off(s, o))
+    sol = stable(s, sol, lambda x: solve_system(s, x, motion, ideal=ideal), lambda o: contact_off(s, o))
     if len(bad := contact_off(s, sol)):
         return contact_failed(s, sol, int(bad[0]))
     if isinstance(sol, Result):

@@ -25,6 +25,7 @@ and is stable, else the first answer stands (``solve`` reports whatever it then 
 from __future__ import annotations
 
 from collections.abc import Callable
+from typing import NamedTuple
 
 import numpy as np
 
@@ -41,25 +42,42 @@ UNSTABLE_REL = 1e-9
 NUDGE = 0.5
 
 
-def unstable_mode(s: System, st: State) -> np.ndarray | None:
-    """A unit displacement of the free coordinates along which ``st`` loses stiffness, or None when it is stable.
+class Softest(NamedTuple):
+    """The softest mode of a solved state's contact-holding parts."""
 
-    Only the parts holding a closed contact are looked at (elsewhere the tangent is positive semidefinite);
-    each part's dense tangent block is built from its own pieces (``tangent.part_tangent``).
+    stiffness: float  # smallest eigenvalue of the tangent's symmetric part, N/m
+    relative: float  # the same / its part's largest diagonal stiffness
+    mode: np.ndarray  # its unit eigenvector, on every free coordinate (0 outside its part)
+
+
+def softest(s: System, st: State) -> Softest | None:
+    """The softest mode over the parts of ``st`` holding a closed contact; None when no contact is closed.
+
+    Elsewhere the tangent is positive semidefinite (module docstring); each part's dense block is built from its
+    own pieces (``tangent.part_tangent``).
     """
     if not st.closed or not s.n_pieces:
         return None
     kc = contact_stiffness(s)
     shut = (st.pen > 0) & (s.piece_comp >= 0)
+    best: Softest | None = None
     for part in np.unique(s.piece_comp[shut]).tolist():
         K = part_tangent(s, st, kc, True, part)
         K = 0.5 * (K + K.T)
         lam, vec = np.linalg.eigh(K)
-        if lam[0] < -UNSTABLE_REL * float(np.abs(np.diag(K)).max()):
+        rel = float(lam[0]) / max(float(np.abs(np.diag(K)).max()), 1e-300)
+        if best is None or rel < best.relative:
             mode = np.zeros(s.n_dof)
             mode[part_pattern(s, part).dofs] = vec[:, 0]
-            return mode
-    return None
+            best = Softest(float(lam[0]), rel, mode)
+    return best
+
+
+def unstable_mode(s: System, st: State) -> np.ndarray | None:
+    """A unit displacement of the free coordinates along which ``st`` loses stiffness, or None when it is stable
+    (its smallest eigenvalue above -UNSTABLE_REL x its part's largest diagonal stiffness)."""
+    soft = softest(s, st)
+    return soft.mode if soft is not None and soft.relative < -UNSTABLE_REL else None
 
 
 def stable(s: System, sol: Solved | Result, solve_from: Callable[[np.ndarray], Solved | Result],
