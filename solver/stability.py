@@ -15,8 +15,11 @@ The test.  An equilibrium of a conservative system is stable when the second var
 potential is positive definite, i.e. the smallest eigenvalue of the tangent stiffness is > 0
 (energy criterion, Bazant & Cedolin, *Stability of Structures*, ch. 4, from memory).  With
 friction the tangent is not symmetric; its symmetric part is the second variation of the work
-along a small displacement, and we ask the same of it.  Only a state with a closed contact can
-fail it (convexity above), so a drag step without one pays a single flag test.  A state that fails
+along a small displacement, and we ask the same of it.  Only a piece the contact pushes (N < 0)
+brings negative stiffness: every other term of the tangent is positive semidefinite (a rope's
+geometric stiffness N/l across it, its axial stiffness and the contact's along it, a tied run's
+coupling).  So the eigenvalues are looked at only when some piece is pushed; a drag step without
+one pays one comparison (a Z swung over its anchor rests with every piece pulled).  A state that fails
 is left along the eigenvector of the negative eigenvalue and solved again from there (either sign:
 off a saddle both sides go down); the answer is kept when it converges, passes the contact guard
 and is stable, else the first answer stands (``solve`` reports whatever it then is).
@@ -75,7 +78,10 @@ def softest(s: System, st: State) -> Softest | None:
 
 def unstable_mode(s: System, st: State) -> np.ndarray | None:
     """A unit displacement of the free coordinates along which ``st`` loses stiffness, or None when it is stable
-    (its smallest eigenvalue above -UNSTABLE_REL x its part's largest diagonal stiffness)."""
+    (its smallest eigenvalue above -UNSTABLE_REL x its part's largest diagonal stiffness; no piece pushed by the
+    contact: nothing to look at, module docstring)."""
+    if not st.closed or not (st.N < 0.0).any():
+        return None
     soft = softest(s, st)
     return soft.mode if soft is not None and soft.relative < -UNSTABLE_REL else None
 

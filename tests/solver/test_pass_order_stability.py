@@ -86,29 +86,37 @@ def _roll_stiffness(st, s, sign: float) -> float:
 def test_the_pair_balanced_below_its_pulley_is_unstable_and_the_answer_swung_over_it_is_stable(monkeypatch):
     # a Z exactly in line, soft rope, 16 kN haul: Newton lands on the balanced state below the pulley first
     seen = []
-    real = stability.softest
+    real = stability.unstable_mode
 
     def spy(s, st):
-        out = real(s, st)
-        seen.append((s, st, out))
-        return out
+        seen.append((s, st))
+        return real(s, st)
 
-    monkeypatch.setattr(stability, "softest", spy)
+    monkeypatch.setattr(stability, "unstable_mode", spy)
     res = solve(z_rig(9_000.0, (0.0, 26.0), 19.0, 16_000.0))
     assert res.ok
-    (s, below, first), (_, above, last) = seen[0], seen[-1]
+    (s, below), (_, above) = seen[0], seen[-1]
+    first, last = stability.softest(s, below), stability.softest(s, above)
     g = s.point_ids.index("G1")
     assert below.xy[g][1] < above.xy[g][1]  # the first answer below the anchor pulley, the last above it
     assert first.stiffness == pytest.approx(_roll_stiffness(below, s, -1.0), rel=1e-3) and first.stiffness < 0
     assert abs(first.mode[2 * s.free_ids.index("G1")]) == pytest.approx(1.0, abs=1e-6)  # sideways, along x
     assert last.stiffness == pytest.approx(_roll_stiffness(above, s, 1.0), rel=1e-3) and last.stiffness > 0
+    # below, the contact pushes a piece (negative stiffness across it); swung over, every piece pulls
+    assert (below.N < 0).any() and (above.N >= 0).all()
 
 
 def test_a_free_rig_pays_no_stability_test(monkeypatch):
-    # no contact closed: the tangent is positive semidefinite (a convex potential) and nothing is computed
-    monkeypatch.setattr(stability, "part_tangent", lambda *a: pytest.fail("a free rig needs no stability test"))
+    # no piece pushed by a contact: the tangent is positive semidefinite and no eigenvalue is computed, for a
+    # free Z, nor for one jammed and swung over its anchor (every piece pulls)
+    monkeypatch.setattr(stability, "part_tangent", lambda *a: pytest.fail("no stability test needed"))
     res = solve(z_rig(200_000.0, (0.0, 26.0), 15.0, 4_000.0))
     assert res.ok and "two-blocked" not in {w.code for w in res.warnings}
+    start = None
+    for angle in (70.0, 75.0, 80.0):  # a drag of the haul point of a jammed Z, each step warm
+        res = solve(z_rig(9_000.0, haul_at(angle), 19.0, 16_000.0), start=start)
+        assert res.ok and "two-blocked" in {w.code for w in res.warnings}
+        start = dict(res.points)
 
 
 # --- the pinned case and its variants: a Z's haul point swung in line -------------------------------------
