@@ -16,6 +16,7 @@ from solver import limits, rigfile
 from solver.errors import RigFileError
 from solver.model import Point, Rig
 from solver.rigfile import dumps_rig, loads_rig, save_rig
+from solver.rigfile_schema import field_path
 from tests.conftest import SAMPLES
 
 RAFT = SAMPLES / "raft-3to1-redirect.rig.json"
@@ -64,7 +65,7 @@ def test_overlong_text_is_refused_naming_the_field_and_its_length(place, limit):
         holder = holder[key]
     holder[place[-1]] = "x" * (limit + 1)
     err = _refused(d)
-    assert err.where == rigfile._where(place), str(err)
+    assert err.where == field_path(place), str(err)
     assert f"{limit + 1:,} characters" in err.message and f"at most {limit:,}" in err.message, str(err)
 
 
