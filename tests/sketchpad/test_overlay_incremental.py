@@ -236,9 +236,7 @@ def test_the_overlay_after_a_drag_through_the_viewport_matches_the_overlay_drawn
         vp.repaint()  # a frame per step, as the screen shows them
     assert item._retained_marks.partial_redraws > 0  # drag frames were patched, not drawn afresh
     patched = pixels(vp.grab().toImage())
-    item._retained_marks.clear()
-    for layer in item._band_layers.values():
-        layer.clear()
+    item.forget_kept()
     drawn_afresh = pixels(vp.grab().toImage())
     d = np.abs(patched - drawn_afresh).max(axis=2)
     ys, xs = np.nonzero(d > ROUNDING)
