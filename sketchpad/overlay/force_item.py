@@ -261,6 +261,11 @@ class ForceItem(BandPainting, LayerItem):
         self.entry_counts["kept"] += len(kept) - made
         return draw, bounds
 
+    @property
+    def marks_redraws(self) -> dict[str, int]:
+        """How often the layer of rings, arrows, leaders and labels was drawn whole and patched in place."""
+        return {"full": self._retained_marks.full_redraws, "partial": self._retained_marks.partial_redraws}
+
     def forget_kept(self) -> None:
         """Drop every label entry, pixmap and painted layer kept between calls: the next :meth:`refresh_rect`
         and paint work everything out afresh (the same pixels, by contract)."""

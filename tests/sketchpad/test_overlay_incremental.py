@@ -234,7 +234,7 @@ def test_the_overlay_after_a_drag_through_the_viewport_matches_the_overlay_drawn
         qtbot.waitUntil(lambda: sched.result is not None and sched.result.revision == main_window.document.revision,
                         timeout=3000)
         vp.repaint()  # a frame per step, as the screen shows them
-    assert item._retained_marks.partial_redraws > 0  # drag frames were patched, not drawn afresh
+    assert item.marks_redraws["partial"] > 0  # drag frames were patched, not drawn afresh
     patched = pixels(vp.grab().toImage())
     item.forget_kept()
     drawn_afresh = pixels(vp.grab().toImage())
@@ -532,7 +532,8 @@ def test_the_legend_painted_by_the_view_shows_in_the_frame_where_its_key_says_an
     key = QImage(g.width(), g.height(), QImage.Format_ARGB32_Premultiplied)
     key.fill(Qt.transparent)
     p = QPainter(key)
-    legend._paint(p)
+    p.translate(-legend.x(), -legend.y())
+    legend.paint_on(p, None)  # the key as vectors, at its place
     p.end()
     ink = pixels(key)
     text = (ink[:, :, 3] == 255) & (ink[:, :, :3].sum(axis=2) < 150)  # the key's dark text, drawn opaque
