@@ -261,6 +261,10 @@ class ForceItem(BandPainting, LayerItem):
         self.entry_counts["kept"] += len(kept) - made
         return draw, bounds
 
+    def cache_sizes(self) -> dict[str, int]:
+        """How many label boxes (by size and colour) and label pixmaps the item keeps now."""
+        return {"boxes": len(self._box_cache), "pixmaps": len(self._pixmap_cache)}
+
     @property
     def marks_redraws(self) -> dict[str, int]:
         """How often the layer of rings, arrows, leaders and labels was drawn whole and patched in place."""

@@ -444,7 +444,7 @@ def test_a_label_pixmap_from_a_shared_box_equals_the_label_drawn_afresh_as_vecto
             item.paint_label_vector(p, lab, QRectF(0.0, 0.0, w, h), colour)
             p.end()
             assert (pixels(got) == pixels(want)).all(), (lab.lines, grey)
-    assert len(item._box_cache) == 6  # 8 labels, 3 sizes, 2 colours each: the two tension labels shared a box
+    assert item.cache_sizes()["boxes"] == 6  # 8 labels, 3 sizes, 2 colours each: the two tension labels shared a box
 
 
 def test_bands_of_pieces_past_the_top_of_the_ramp_are_one_band_and_draw_as_laid_down_afresh():
