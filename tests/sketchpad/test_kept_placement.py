@@ -103,8 +103,11 @@ def placed_from_scratch(ov, to_px, previous, keep_hidden: bool):
     """Copies of the overlay's labels placed by place_labels from scratch (a fresh grid) after ``previous``:
     (labels left off, their placement)."""
     again = copy.deepcopy(ov.labels)
-    skipped = place_labels(again, to_px, ov.force_item.label_size, ov._markers(ov.rig, ov.result), ov.pieces,
-                           ov._name_boxes(ov.rig), previous, keep_hidden=keep_hidden)
+    # every point's marker where it is drawn and where it was solved (scene y is down), made here afresh
+    markers = list(dict.fromkeys([(p.x, -p.y) for p in ov.rig.points] +
+                                 [(float(x), -float(y)) for x, y in ov.result.points.values()]))
+    skipped = place_labels(again, to_px, ov.force_item.label_size, markers, ov.pieces, ov._name_boxes(ov.rig),
+                           previous, keep_hidden=keep_hidden)
     return skipped, placement(again)
 
 
