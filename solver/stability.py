@@ -22,7 +22,9 @@ coupling).  So the eigenvalues are looked at only when some piece is pushed; a d
 one pays one comparison (a Z swung over its anchor rests with every piece pulled).  A state that fails
 is left along the eigenvector of the negative eigenvalue and solved again from there (either sign:
 off a saddle both sides go down); the answer is kept when it converges, passes the contact guard
-and is stable, else the first answer stands (``solve`` reports whatever it then is).
+and is stable, else the first answer stands (``solve`` reports whatever it then is).  A rig drawn
+exactly symmetric whose pair rests part way round (the two pulls nearly equal) has two mirror-image
+rests with the same forces: a warm solve keeps the side it came from.
 """
 
 from __future__ import annotations
@@ -38,8 +40,9 @@ from solver.result import Result
 from solver.system import System
 from solver.tangent import part_pattern, part_tangent
 
-#: An eigenvalue below -UNSTABLE_REL x the part's largest diagonal stiffness is unstable (far above round-off:
-#: a jammed Z's roll is about -1e-4 of the contact's stiffness, the roll of a pair pulled 1 % harder one way).
+#: An eigenvalue below -UNSTABLE_REL x the part's largest diagonal stiffness is unstable: far above round-off
+#: (1e-16), and a jammed pair's roll -(P - T)/r against the contact's 1e4 F/r (evaluate.CONTACT_STIFFNESS) is
+#: seen once one side outpulls the other by 0.001 % of the force scale F.
 UNSTABLE_REL = 1e-9
 #: How far a rejected state is moved along its unstable mode before solving again, x the contact's spacing.
 NUDGE = 0.5
