@@ -15,6 +15,7 @@ from typing import Mapping
 
 import numpy as np
 
+from solver.failure_rig import pass_key
 from solver.records import anchor_record
 from solver.result import Result, SegmentResult, record
 from solver.water_drag import body_drag
@@ -106,7 +107,7 @@ def _deflections(rig, plan, aug: Result, at: Mapping[str, tuple[float, float]]) 
             nu, nw = float(np.hypot(*u)), float(np.hypot(*w))
             if nu > 0 and nw > 0:
                 c = float(np.dot(u, w)) / (nu * nw)
-                turns[f"{rope.id}@{rope.path[k].at}"] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
+                turns[pass_key(rope, k)] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
     return turns
 
 
