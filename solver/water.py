@@ -35,7 +35,7 @@ from solver.model import Force, Pass, Point, Rig, Rope, Site
 from solver.result import Result, Warning_
 from solver.water_forces import HIDDEN, _drag_forces, _scale
 from solver.water_site import FlowField, flow_field
-from solver.water_slide import MESH_REL, cut_run, remesh, start_mesh
+from solver.water_slide import MESH_REL, cut_run, remesh, start_mesh, warm_lengths
 
 log = logging.getLogger(__name__)
 
@@ -95,6 +95,7 @@ class _Plan:
     notes: list[Warning_]
     wet_bodies: list[Point]
     sliding_parts: set[str] = field(default_factory=set)  # augmented ropes of the cut sliding runs
+    slide_groups: list[tuple[tuple[str, ...], bool]] = field(default_factory=list)  # per run: kept parts, hauled
 
     @property
     def sliding(self) -> list[_Chain]:
@@ -125,6 +126,7 @@ def _plan(rig: Rig, ff: FlowField) -> _Plan:
     rope_map: dict[str, tuple[str, int]] = {}
     notes: list[Warning_] = []
     sliding_parts: set[str] = set()
+    slide_groups: list[tuple[tuple[str, ...], bool]] = []
     for rope in rig.ropes:
         try:
             mat = material_for(rig, rope.material)
@@ -167,6 +169,8 @@ def _plan(rig: Rig, ff: FlowField) -> _Plan:
                 hidden_points.extend(cut.points)
                 rope_map.update(cut.rope_map)
                 sliding_parts.update(r.id for r in cut.ropes)
+                slide_groups.append((tuple(r.id for r in cut.ropes if r.id != cut.hauled_part),
+                                     cut.hauled_part is not None))
                 for piece, (hid, parts) in cut.pieces.items():
                     i = next(i for i, c in enumerate(chains) if c.rope == rope.id and c.piece == piece)
                     chains[i] = replace(chains[i], hidden=hid, parts=parts)
@@ -203,7 +207,7 @@ def _plan(rig: Rig, ff: FlowField) -> _Plan:
               or (p.wetted_area_m2 and p.drag_shape and not p.is_fixed)]
     aug = replace(rig, points=rig.points + tuple(hidden_points), ropes=tuple(ropes),
                   site=Site(image=None, features=(), extra={}))
-    return _Plan(aug, chains, rope_map, notes, bodies, sliding_parts)
+    return _Plan(aug, chains, rope_map, notes, bodies, sliding_parts, slide_groups)
 
 
 def _positions(result: Result, plan: _Plan, base: Mapping[str, tuple[float, float]]) -> dict[str, tuple[float, float]]:
@@ -242,6 +246,8 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
     gap = math.inf
     iterations = 0
     mesh = start_mesh(plan.rig, plan.sliding_parts, motion)  # the sliding runs' cut parts (water_slide)
+    if start:
+        warm_lengths(mesh, _LAST_BOW.mesh(), plan.slide_groups)
     for rounds in range(1, MAX_ROUNDS + 1):
         result = solve(_with_forces(plan, forces), start=warm, motion=motion, ideal=False, **mesh.kwargs())
         iterations += result.iterations
@@ -261,7 +267,7 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
         ma_ideal = solve(_with_forces(plan, forces), start=at, motion=motion, ideal=True, **mesh.kwargs()).ma_ideal
         result = replace(result, ma_ideal=ma_ideal)
     if result is not None and result.ok:
-        _LAST_BOW.keep(plan, at)
+        _LAST_BOW.keep(plan, at, mesh.lengths)
     result = replace(result, iterations=iterations)
     return _mapped(rig, plan, ff, result, forces, gap, rounds)
 
@@ -280,15 +286,24 @@ class _BowMemo:
 
         self._lock = threading.Lock()
         self._bows: dict[tuple[str, int], tuple[np.ndarray, np.ndarray]] = {}
+        self._lengths: dict[str, float] = {}  # unstretched length of each cut part of a sliding run, m
 
-    def keep(self, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> None:
+    def keep(self, plan: _Plan, at: Mapping[str, tuple[float, float]], lengths: Mapping[str, float]) -> None:
         with self._lock:
             if len(self._bows) > 64:
                 self._bows.clear()
+            if len(self._lengths) > 1024:
+                self._lengths.clear()
+            self._lengths.update(lengths)
             for c in plan.chains:
                 a, b = np.array(at[c.a]), np.array(at[c.b])
                 nodes = np.array([at[h] for h in c.hidden])
                 self._bows[(c.rope, c.piece)] = (np.array(c.ts), nodes - (a + np.outer(c.ts, b - a)))
+
+    def mesh(self) -> dict[str, float]:
+        """The kept lengths of the sliding runs' cut parts (a copy)."""
+        with self._lock:
+            return dict(self._lengths)
 
     def start(self, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> dict[str, tuple[float, float]]:
         out: dict[str, tuple[float, float]] = {}

@@ -189,3 +189,20 @@ def _unstretched(mesh: Mesh, segments, key: tuple[str, int]) -> float:
     if seg is None:
         return math.nan
     return seg.length_m / (1.0 + seg.strain)
+
+
+def warm_lengths(mesh: Mesh, kept: Mapping[str, float], groups) -> None:
+    """Start a warm solve from the last solve's split of each sliding run's rope between its cut parts.
+
+    ``groups``: per run, (its parts that keep a length, whether it has a hauled part).  A run whose parts
+    were all kept gets their last lengths, scaled to this rig's rope in the run (a hauled run's rope is
+    the team's: unscaled).  Only a start: :func:`remesh` and the solve reach the same answer from any.
+    """
+    for parts, hauled in groups:
+        if not parts or not all(p in kept and p in mesh.lengths for p in parts):
+            continue
+        old = sum(kept[p] for p in parts)
+        new = sum(mesh.lengths[p] for p in parts)
+        scale = 1.0 if hauled or old <= 0 else new / old
+        for p in parts:
+            mesh.lengths[p] = kept[p] * scale
