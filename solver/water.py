@@ -11,8 +11,11 @@ How it works (plan view only; the elevation view has no current):
   tension straight through up to the tangential share of the lumped drag, which the cross-flow
   principle neglects.  This is the lumped-mass cable of the textbooks (Irvine, Cable Structures, ch. 1):
   equal lumped loads on a string put its nodes on the funicular curve of the distributed load.
-* A wet piece of a longer run (through a pulley or an edge) stays straight: its drag is split
-  between its two ends by the lever rule and a warning says so.
+* A wet piece of a longer run (through a pulley or an edge) is cut the same way, but the rope slides
+  through its hidden points: the run is cut into parts at them, the parts together keep the run's
+  rope and hand it between them after each solve so that every hidden point stays at its share of the
+  wet rope, and the drag at a hidden point is normal to the rope, so the tension is the same on both
+  sides of it (``solver.water_slide``).
 * The drag on a segment follows the segment's direction, so the rig is solved, the drag updated from
   the solved directions and the rig solved again (warm) until the drag used and the drag of the
   solved geometry agree to the solver's tolerance; the reported residual includes that mismatch.
