@@ -195,3 +195,19 @@ def test_bowed_run_through_a_pulley_matches_scipy_energy_minimisation():
     seg = {(s.rope, s.index): s for s in r.segments}
     assert seg[("R", 1)].tension_N == pytest.approx(seg[("R", 0)].tension_N, rel=1e-9)
     assert ea * seg[("R", 0)].strain == pytest.approx(seg[("R", 0)].tension_N, rel=1e-8)
+
+
+def test_friction_steps_the_tension_at_the_real_pulley_only():
+    # hauling through a pulley of efficiency eta, the rope beyond it carries eta x the haul force (rig-format.md:
+    # a pulley multiplies by its efficiency against the rope's travel); the hidden points add no friction, so
+    # the whole bowed piece carries that one tension.
+    eta, P = PULLEY.efficiency, 2000.0
+    rig = redirect(haul_N=P, ea=4.0e5)
+    r = solve(rig, motion="haul")
+    assert r.ok, r.message
+    wet = next(w for w in r.water.ropes if w.index == 0)
+    assert wet.tension_in_N == pytest.approx(eta * P, rel=1e-9)
+    assert wet.tension_out_N == pytest.approx(eta * P, rel=1e-9)
+    seg = {(s.rope, s.index): s for s in r.segments}
+    assert seg[("R", 1)].tension_N == pytest.approx(P, rel=1e-9)
+    assert 4.0e5 * seg[("R", 0)].strain == pytest.approx(eta * P, rel=1e-8)  # every segment at eta P
