@@ -153,14 +153,16 @@ def test_warm_solve_of_a_sliding_run_equals_a_cold_one():
 
 def test_bowed_run_through_a_pulley_matches_scipy_energy_minimisation():
     # A slack stretchy rope tied on the north bank, across an oblique current to a pulley, then on along the
-    # flow (no drag there) to a tie: a deep bow. Reference: minimise the run's elastic energy (the wet piece's segments each
-    # a share c_j of the wet rope L_w, the rest of the run L0 - L_w, both free: the rope slides through the
-    # pulley) minus the work of the drag as a dead load at the converged nodes.
+    # flow (no drag there) to a tie: a deep bow. Reference: minimise the run's elastic energy (the wet piece's
+    # segments each a share c_j of the wet rope L_w, the rest of the run L0 - L_w, both free: the rope slides
+    # through the pulley) minus the work of the drag as a dead load at the converged nodes.
     ea, slack, bearing = 4.0e5, 1.0, 60.0
     B = (20 * math.sin(math.radians(bearing)), -15 + 20 * math.cos(math.radians(bearing)))
     rig = Rig(points=(Point("A", "anchor", 0, 15), Point("P", "anchor", 0, -15), Point("B", "anchor", *B)),
-              ropes=(Rope("R", "r", (Pass("A"), Pass("P", "pulley", "pul"), Pass("B")), rigged=Rigging(slack_m=slack)),),
-              materials=(rope_mat(ea),), hardware=(PULLEY,), site=river(bearing=bearing), settings=Settings(motion="hold"))
+              ropes=(Rope("R", "r", (Pass("A"), Pass("P", "pulley", "pul"), Pass("B")),
+                          rigged=Rigging(slack_m=slack)),),
+              materials=(rope_mat(ea),), hardware=(PULLEY,), site=river(bearing=bearing),
+              settings=Settings(motion="hold"))
     r = solve(rig)
     assert r.ok, r.message
     wet = next(w for w in r.water.ropes if w.index == 0)
