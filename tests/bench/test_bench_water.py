@@ -23,12 +23,16 @@ def boat_across_the_current() -> Rig:
                materials=(rope,), site=Site(features=(water,)))
 
 
-def test_bench_boat_across_a_current_warm(benchmark):
-    rig = boat_across_the_current()
+def warm_solves(benchmark, rig: Rig):
+    """Benchmark re-solves of ``rig`` from its own cold answer (a live edit's warm solve); the last Result."""
     first = solve(rig)
     assert first.ok, first.message
     start = dict(first.points)
-    result = benchmark(lambda: solve(rig, start=start))
+    return benchmark(lambda: solve(rig, start=start))
+
+
+def test_bench_boat_across_a_current_warm(benchmark):
+    result = warm_solves(benchmark, boat_across_the_current())
     assert result.ok and result.points["B"][0] > 0  # swung downstream
 
 
@@ -62,9 +66,5 @@ def haul_line_across_the_current() -> Rig:
 
 
 def test_bench_haul_line_through_a_pulley_warm(benchmark):
-    rig = haul_line_across_the_current()
-    first = solve(rig)
-    assert first.ok, first.message
-    start = dict(first.points)
-    result = benchmark(lambda: solve(rig, start=start))
+    result = warm_solves(benchmark, haul_line_across_the_current())
     assert result.ok and result.water.ropes[0].bowed
