@@ -31,6 +31,8 @@ from typing import Mapping
 
 import numpy as np
 
+from solver.compile import compile_rig
+from solver.errors import RigModelError
 from solver.model import Pass, Point, Rig, Rope, Run
 
 #: Spacing mismatch accepted, as a fraction of a wet piece's unstretched rope (the points sit at their shares).
@@ -127,9 +129,6 @@ class Mesh:
 
 def start_mesh(aug: Rig, parts: set[str], motion: str | None) -> Mesh:
     """The cut parts' unstretched lengths from their rigging (as the solver compiles them): the first solve's."""
-    from solver.compile import compile_rig
-    from solver.errors import RigModelError
-
     if not parts:
         return Mesh()
     try:
