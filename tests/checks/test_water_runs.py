@@ -213,3 +213,18 @@ def test_friction_steps_the_tension_at_the_real_pulley_only():
     seg = {(s.rope, s.index): s for s in r.segments}
     assert seg[("R", 1)].tension_N == pytest.approx(P, rel=1e-9)
     assert 4.0e5 * seg[("R", 0)].strain == pytest.approx(eta * P, rel=1e-8)  # every segment at eta P
+
+
+def test_segment_count_is_enough_on_a_sliding_run(monkeypatch):
+    # the bow of a 2:1 strand with the chosen count against four times as many segments (convergence check)
+    import solver.water as water
+
+    rig = two_to_one(ea=4.0e5, load_N=1500.0)
+    coarse = solve(rig).water.ropes[0]
+    monkeypatch.setattr(water, "SEGMENT_M", 0.1)
+    monkeypatch.setattr(water, "MIN_SEGMENTS", 4 * len(coarse.polyline))
+    monkeypatch.setattr(water, "MAX_SEGMENTS", 400)
+    fine = solve(rig).water.ropes[0]
+    assert len(fine.polyline) > 3 * len(coarse.polyline)
+    assert (coarse.sag_m, coarse.tension_in_N, coarse.drag_N) == pytest.approx(
+        (fine.sag_m, fine.tension_in_N, fine.drag_N), rel=5e-3)
