@@ -18,7 +18,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from solver import model as m
-from solver import rigfile
+from solver import rigfile, rigfile_build, rigfile_checks, rigfile_fields
 from solver.errors import RigFileError
 from tests.bench.test_bench_solver import net
 from tests.solver.test_rigfile_fuzz import SAMPLE_DOCS, _mutate
@@ -28,11 +28,11 @@ from tests.solver.test_rigfile_fuzz import SAMPLE_DOCS, _mutate
 def _no_shortcuts(monkeypatch: pytest.MonkeyPatch) -> Iterator[None]:
     """Every object read key by key and every point and rope checked in full."""
     with monkeypatch.context() as mp:
-        mp.setattr(rigfile, "object_reader", lambda *a, **k: None)
-        mp.setattr(rigfile, "_ROPE_FAST", None)
-        mp.setattr(rigfile, "all_unique", lambda items: False)
-        mp.setattr(rigfile, "points_to_check", lambda points, limit: range(len(points)))
-        mp.setattr(rigfile, "ropes_to_check", lambda ropes, *a: range(len(ropes)))
+        mp.setattr(rigfile_build, "object_reader", lambda *a, **k: None)
+        mp.setattr(rigfile_build, "_ROPE_FAST", None)
+        mp.setattr(rigfile_checks, "all_unique", lambda items: False)
+        mp.setattr(rigfile_checks, "points_to_check", lambda points, limit: range(len(points)))
+        mp.setattr(rigfile_checks, "ropes_to_check", lambda ropes, *a: range(len(ropes)))
         yield
 
 
@@ -42,7 +42,7 @@ def _memory(rig: m.Rig) -> list[tuple[str, frozenset[str]]]:
                        *rig.hardware, *rig.site.features]
     for rope in rig.ropes:
         objs += [rope, rope.rigged, *rope.path]
-    return [(type(o).__name__, rigfile._present(o)) for o in objs]
+    return [(type(o).__name__, rigfile_fields._present(o)) for o in objs]
 
 
 def _outcome(text: str, strict: bool) -> Any:
