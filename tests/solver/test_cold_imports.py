@@ -43,3 +43,24 @@ def test_solving_a_sample_imports_nothing_the_command_does_not_use():
     assert seen["searches"] >= 1  # the pull really needed was searched (solver.brent), not skipped
     loaded = [m for m in seen["modules"] if any(m == bad or m.startswith(bad + ".") for bad in NOT_FOR_SOLVE)]
     assert not loaded, loaded
+
+
+_COLLECTOR = """
+import contextlib, gc, io, json, sys
+from solver.cli import main
+with contextlib.redirect_stdout(io.StringIO()):
+    main(["solve", sys.argv[1]])  # called from Python: the caller's collector is left alone
+    in_process = gc.isenabled()
+    sys.argv = ["ropewright", "solve", sys.argv[1]]
+    main()  # the console script: one solve, then the process ends
+print(json.dumps({"in_process": in_process, "whole_process": gc.isenabled()}))
+"""
+
+
+def test_only_the_solve_command_as_a_whole_process_switches_the_collector_off():
+    sample = SAMPLES / "raft-3to1-redirect.rig.json"
+    env = dict(os.environ, PYTHONPATH=str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    done = subprocess.run([sys.executable, "-c", _COLLECTOR, str(sample)], env=env, cwd=ROOT, capture_output=True,
+                          text=True, timeout=120)
+    assert done.returncode == 0, done.stderr
+    assert json.loads(done.stdout) == {"in_process": True, "whole_process": False}
