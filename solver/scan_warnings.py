@@ -16,8 +16,10 @@ from dataclasses import replace
 from solver.model import Rig
 from solver.result import Result, Warning_
 
-#: What the quick (fixed-shape) zones are, and where the computed ones are: one wording for CLI, dock and pages.
-QUICK_ESTIMATE_NOTE = ("quick estimate from a fixed shape, not computed: `ropewright failures` (or the What if "
+#: What the quick (fixed-shape) zones are: one wording for the CLI, the dock, the pages and the plan's key.
+QUICK_ESTIMATE = "quick estimate from a fixed shape, not computed"
+#: ... and where the computed ones are.
+QUICK_ESTIMATE_NOTE = (f"{QUICK_ESTIMATE}: `ropewright failures` (or the What if "
                        "dock) lets each component go and shows where things actually fly")
 
 
