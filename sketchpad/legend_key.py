@@ -13,7 +13,7 @@ from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QFont, QLinearGradient, QPainter, QPolygonF
 
 from sketchpad import theme
-from solver.scan_warnings import QUICK_ESTIMATE
+from solver.danger import QUICK_ESTIMATE
 
 TITLE = "Rope use: share of allowed load"
 #: The marker on a row whose shape is the quick estimate, explained once in the key's last line (a longer

@@ -59,7 +59,7 @@ from shapely.geometry import LineString, Point as ShPoint, Polygon
 from shapely.geometry.base import BaseGeometry
 
 from solver.capture_checks import check_captures
-from solver.danger import DangerZone, Piece, danger_zones, pieces, positions
+from solver.danger import QUICK_ESTIMATE_NOTE, DangerZone, Piece, danger_zones, pieces, positions
 from solver.errors import RopewrightError
 from solver.hauling import haulers_needed
 from solver.pull_needed import check_short
@@ -666,8 +666,6 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
 
 def person_zone_warning(rig: Rig, pid: str, z: DangerZone) -> Warning_:
     """The warning for person ``pid`` inside zone ``z``; a fixed bight shape says it is the quick estimate."""
-    from solver.scan_warnings import QUICK_ESTIMATE_NOTE
-
     if z.kind == "bight":
         text = (f"{_name(rig, pid)} stands in the {z.label}: if the redirect or its anchor fails, the pulley and "
                 f"rope fly through there ({QUICK_ESTIMATE_NOTE}). Move out of it.")

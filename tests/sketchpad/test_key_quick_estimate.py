@@ -2,7 +2,7 @@
 without growing wider (a wider key covered the middle of a small viewport).
 
 Before a failure scan has computed the areas, the two bight rows carry a short marker and one
-footnote line explains it with the shared phrase (solver.scan_warnings.QUICK_ESTIMATE); once the
+footnote line explains it with the shared phrase (solver.danger.QUICK_ESTIMATE); once the
 scan's areas are drawn the key names those instead, with no marker.
 """
 
@@ -14,7 +14,7 @@ from sketchpad import legend_key, theme
 from solver.analysis import analyse
 from solver.cli_solve import quick_zone_line
 from solver.rigfile import load_rig
-from solver.scan_warnings import QUICK_ESTIMATE
+from solver.danger import QUICK_ESTIMATE
 from tests.conftest import SAMPLES
 
 RAFT = SAMPLES / "raft-3to1-redirect.rig.json"
