@@ -15,7 +15,7 @@ import pytest
 from sketchpad.report_flow import Flow
 from tests.conftest import SAMPLES
 
-SAMPLE_NAMES = ("raft-3to1-redirect", "tethered-boat-eddy", "vector-pull", "compound-2on3")
+SAMPLE_NAMES = tuple(sorted(p.name[: -len(".rig.json")] for p in SAMPLES.glob("*.rig.json")))
 
 
 def _words(text: str) -> str:
