@@ -491,6 +491,17 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
         flow.text(para, page_font(BODY_PT, bold=True), gap=4)
 
 
+def plot_stand_in(rig: Rig, result: Result, sweep_data) -> tuple[QImage | None, str] | None:
+    """What counting pages needs of the sweep plot without drawing it (matplotlib, the slow part): a 1-px
+    image with the plot's caption, (None, why there is no plot), or None for a rig that did not solve."""
+    table, drawn, words = sweep_data
+    if not result.ok:
+        return None
+    if table is None:
+        return None, words
+    return QImage(1, 1, QImage.Format_RGB32), plot_caption(rig, table, drawn, words)
+
+
 def choose_layout(count, aim: int) -> tuple[tuple[float, float], int]:
     """(drawing, plot) sizes and page count: the first of LAYOUTS that fits ``aim`` pages, else the largest one
     that takes the fewest pages (a smaller drawing that saves no page is not chosen); ``count(sizes)`` -> pages."""
@@ -540,23 +551,19 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     if failures is not None:
         failures.draw_zones_on(drawing)
         result = drawing.result  # person warnings named by the failure that puts them in a zone
-    plots: dict[float, tuple[QImage | None, str]] = {}
 
-    def plot_for(h: float) -> tuple[QImage | None, str] | None:
+    def plot_for(h: float) -> tuple[QImage | None, str] | None:  # the plot drawn at the chosen layout's height
         table, drawn, words = sweep_data
-        if not result.ok:
-            return None
-        if table is None:
-            return None, words
-        if h not in plots:
-            plots[h] = (plot_image(rig, table, drawn, words, content.width() * 0.92, h),
-                        plot_caption(rig, table, drawn, words))
-        return plots[h]
+        if table is None or not result.ok:
+            return stand_in
+        return plot_image(rig, table, drawn, words, content.width() * 0.92, h), stand_in[1]
     from solver.cautions import SHORT_CAUTION
 
-    def count(sizes: tuple[float, float]) -> int:  # pass 1: the pages a layout takes
+    stand_in = plot_stand_in(rig, result, sweep_data)  # after the failure section: its result is the one shown
+
+    def count(sizes: tuple[float, float]) -> int:  # pass 1: the pages a layout takes (the plot not drawn)
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
-        _compose(counter, rig, result, drawing, when, source, plot_for(sizes[1]), sizes, failures)
+        _compose(counter, rig, result, drawing, when, source, stand_in, sizes, failures)
         if haul is not None:
             add_haul_page(counter, rig, haul)
         return counter.finish()
