@@ -106,7 +106,7 @@ class ExportActions:
         this rig, else one run on the solve worker, the drawing written when it is back (``busy`` meanwhile) and
         the window answering all the while (sketchpad.export_scan)."""
         from sketchpad.export import format_of, refuse_undrawable
-        from sketchpad.export_scan import ExportScans, finished_scan
+        from sketchpad.export_scan import ExportScans, finished_scan, settled_result
 
         path = path or self.ask_path(self.window, "Export drawing", self._start(".png"), DRAWING_FILTER)
         if not path:
@@ -128,7 +128,8 @@ class ExportActions:
             if self._scans is None:
                 live = getattr(self.window, "live", None)
                 self._scans = ExportScans(getattr(live, "scheduler", None), self.window)
-            if self._scans.start(rig, lambda outcome: self._write_drawing(rig, path, rig_dir, source, outcome)):
+            if self._scans.start(rig, lambda outcome: self._write_drawing(rig, path, rig_dir, source, outcome),
+                                 settled_result(self.window, rig)):
                 self._say("Exporting the drawing: the failure scan runs first …")
                 return path
         self._write_drawing(rig, path, rig_dir, source, done)
@@ -149,6 +150,10 @@ class ExportActions:
             self._say(f"Drawing saved to {path}")
         else:
             self._say(f"Drawing saved to {path} without forces: {failure_sentence(rig, drawing.result)}")
+        if outcome is not None:
+            from sketchpad.export_scan import offer_to_what_if
+
+            offer_to_what_if(self.window, outcome)
 
     def pdf_path(self, path, title: str, suffix: str, filters: str = REPORT_FILTER) -> pathlib.Path | None:
         """``path``, or the one the user picks (None if cancelled), ending in .pdf."""

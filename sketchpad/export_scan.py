@@ -3,10 +3,12 @@
 An exported drawing shows the failure scan's computed areas (what flies where when an anchor, a
 pulley or a rope piece lets go, :func:`solver.failures.scan`). A big rig takes seconds to scan,
 and run on the GUI thread it froze the window. The export now uses the What-if dock's finished
-scan of the very rig being exported when there is one; otherwise the analysis and the scan are
+scan of the very rig being exported when there is one; otherwise the scan (and the analysis, unless
+the live solve has the full one of this rig: the numbers on screen) is
 queued on the live solve's worker thread (:meth:`sketchpad.live_solve.SolveScheduler.worker`, so
 there is never more than one solve at a time) and the drawing is written on the GUI thread (Qt
-paints only there) when they are back. The window answers all the while.
+paints only there) when they are back, and the What-if dock is given the scan (no second scan of the
+same rig). The window answers all the while.
 """
 
 from __future__ import annotations
@@ -40,13 +42,29 @@ def finished_scan(window, rig: Rig) -> ScanOutcome | None:
     return ScanOutcome(s.intact, s)
 
 
-def analyse_and_scan(rig: Rig) -> ScanOutcome:
-    """What the worker runs: the full analysis, then every component let go (a rig that does not solve: no scan)."""
+def settled_result(window, rig: Rig) -> Result | None:
+    """The live solve's full analysis of this very ``rig`` (the numbers on screen), or None."""
+    sched = getattr(getattr(window, "live", None), "scheduler", None)
+    if sched is None or sched.rig is not rig or not sched.settled:
+        return None
+    return sched.result
+
+
+def analyse_and_scan(rig: Rig, intact: Result | None = None) -> ScanOutcome:
+    """What the worker runs: the full analysis (unless given as ``intact``), then every component let go
+    (a rig that does not solve: no scan)."""
     from solver import failures
     from solver.analysis import analyse
 
-    result = analyse(rig)
+    result = intact if intact is not None else analyse(rig)
     return ScanOutcome(result, failures.scan(rig, result) if result.ok else None)
+
+
+def offer_to_what_if(window, outcome: ScanOutcome) -> None:
+    """Give the What-if dock an export's finished scan, so it does not scan the same rig again."""
+    what_if = getattr(window, "what_if", None)
+    if what_if is not None and outcome.scan is not None:
+        what_if.adopt(outcome.scan)
 
 
 class _Bridge(QObject):
@@ -64,8 +82,9 @@ class ExportScans:
         self._bridge = _Bridge(parent)
         self._bridge.finished.connect(self._done, Qt.QueuedConnection)
 
-    def start(self, rig: Rig, on_done: Callable[[ScanOutcome], None]) -> bool:
-        """Queue the analysis and scan of ``rig``; False when there is no worker (then the caller scans itself)."""
+    def start(self, rig: Rig, on_done: Callable[[ScanOutcome], None], intact: Result | None = None) -> bool:
+        """Queue the analysis (unless given as ``intact``) and scan of ``rig``; False when there is no worker
+        (then the caller scans itself)."""
         worker = self.scheduler.worker() if self.scheduler is not None else None
         if worker is None:
             return False
@@ -73,7 +92,7 @@ class ExportScans:
 
         def work() -> None:
             try:
-                outcome = analyse_and_scan(rig)
+                outcome = analyse_and_scan(rig, intact)
             except Exception as exc:  # noqa: BLE001 - a scan bug must not take the window down
                 log.exception("export scan failed")
                 outcome = ScanOutcome(None, None, exc)
@@ -91,4 +110,4 @@ class ExportScans:
         on_done(outcome)
 
 
-__all__ = ["ScanOutcome", "ExportScans", "finished_scan", "analyse_and_scan"]
+__all__ = ["ScanOutcome", "ExportScans", "finished_scan", "settled_result", "analyse_and_scan", "offer_to_what_if"]

@@ -87,3 +87,32 @@ def test_a_drawing_refused_up_front_starts_no_scan(main_window, tmp_path, monkey
     main_window.exports.show = lambda parent, title, text, error: shown.append(text)
     assert main_window.exports.export_drawing(tmp_path / "x.bmp") is None
     assert shown and ".png, .svg or .pdf" in shown[0] and not events and not main_window.exports.busy
+
+
+def test_the_worker_scans_the_settled_result_on_screen_and_the_what_if_dock_adopts_that_scan(
+        main_window, qtbot, tmp_path, monkeypatch):
+    from solver import analysis
+
+    main_window.document.replace_all(load_rig(RAFT), RAFT)
+    what_if = main_window.what_if
+    monkeypatch.setattr(what_if, "run_scan", lambda *a, **k: None)  # the dock has not scanned yet
+    sched = main_window.live.scheduler
+    sched.solve_now()
+    qtbot.waitUntil(lambda: not sched.pending, timeout=30000)
+    on_screen = sched.result
+    assert on_screen.ok and sched.settled and what_if.scan is None
+    worker_analyses = []
+    real = analysis.analyse
+
+    def counted(rig, start=None):
+        if threading.current_thread() is not threading.main_thread():
+            worker_analyses.append(rig)
+        return real(rig, start)
+
+    monkeypatch.setattr(analysis, "analyse", counted)
+    out = tmp_path / "raft.png"
+    assert main_window.exports.export_drawing(out) == out
+    qtbot.waitUntil(lambda: not main_window.exports.busy, timeout=60000)
+    assert out.exists() and not worker_analyses  # the worker scanned the result on screen, not a fresh analysis
+    assert what_if.scan is not None and what_if.scan.intact is on_screen  # the dock shows that scan: no second one
+    assert main_window.live.overlay.zones and all(z.kind != "bight" for z in main_window.live.overlay.zones)
