@@ -90,12 +90,15 @@ def _next_step(x: float, fx: float, x_prev: float, f_prev: float, x_far: float, 
                step_before: float, step: float, half_bracket: float, half_tol: float) -> tuple[float, float]:
     """(the step to remember as the one before, the step to take): interpolation if it is short enough, else bisection."""
     if abs(step_before) > half_tol and abs(fx) < abs(f_prev):
-        if x_prev == x_far:  # two points: secant
-            trial = -fx * (x - x_prev) / (fx - f_prev)
-        else:  # three points: inverse quadratic interpolation
-            slope_prev = (f_prev - fx) / (x_prev - x)
-            slope_far = (f_far - fx) / (x_far - x)
-            trial = -fx * (f_far * slope_far - f_prev * slope_prev) / (slope_far * slope_prev * (f_far - f_prev))
+        try:
+            if x_prev == x_far:  # two points: secant
+                trial = -fx * (x - x_prev) / (fx - f_prev)
+            else:  # three points: inverse quadratic interpolation
+                slope_prev = (f_prev - fx) / (x_prev - x)
+                slope_far = (f_far - fx) / (x_far - x)
+                trial = -fx * (f_far * slope_far - f_prev * slope_prev) / (slope_far * slope_prev * (f_far - f_prev))
+        except ZeroDivisionError:  # values equal to the last bit (IEEE: an infinite or NaN step): bisect
+            trial = math.inf
         if 2 * abs(trial) < min(abs(step_before), 3 * abs(half_bracket) - half_tol):
             return step, trial
     return half_bracket, half_bracket

@@ -80,6 +80,14 @@ def test_bracket_given_the_other_way_round(name, f, a, b, exact):
     assert our_calls == their_calls and ours == theirs
 
 
+def test_values_equal_to_the_last_bit_bisect_as_scipy_does():
+    # found by the random polynomials: f(x) = c (1 + x) with c ~ 1e-272, whose differences underflow to 0
+    # (a division by zero that C turns into an infinite step, which Brent's rule refuses: bisection)
+    c = 2.8405653065695356e-272
+    ours, our_calls, theirs, their_calls = _both(lambda x: c + c * x, -2.125, 0.875)
+    assert our_calls == their_calls and ours == theirs
+
+
 def test_a_root_at_either_end_is_returned_at_once():
     assert brent_root(lambda x: x - 1.0, 1.0, 3.0) == brentq(lambda x: x - 1.0, 1.0, 3.0) == 1.0
     assert brent_root(lambda x: x - 3.0, 1.0, 3.0) == brentq(lambda x: x - 3.0, 1.0, 3.0) == 3.0
