@@ -32,13 +32,18 @@ print(json.dumps({"code": code, "text": out.getvalue(), "searches": len(searches
 """
 
 
-def test_solving_a_sample_imports_nothing_the_command_does_not_use():
+def _run(script: str) -> dict:
+    """What a fresh Python process running ``script`` on the sample prints (one JSON object)."""
     sample = SAMPLES / "raft-3to1-redirect.rig.json"
     env = dict(os.environ, PYTHONPATH=str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", ""))
-    done = subprocess.run([sys.executable, "-c", _SCRIPT, str(sample)], env=env, cwd=ROOT, capture_output=True,
+    done = subprocess.run([sys.executable, "-c", script, str(sample)], env=env, cwd=ROOT, capture_output=True,
                           text=True, timeout=120)
     assert done.returncode == 0, done.stderr
-    seen = json.loads(done.stdout)
+    return json.loads(done.stdout)
+
+
+def test_solving_a_sample_imports_nothing_the_command_does_not_use():
+    seen = _run(_SCRIPT)
     assert seen["code"] == 0 and "pullers" in seen["text"]
     assert seen["searches"] >= 1  # the pull really needed was searched (solver.brent), not skipped
     loaded = [m for m in seen["modules"] if any(m == bad or m.startswith(bad + ".") for bad in NOT_FOR_SOLVE)]
@@ -58,9 +63,4 @@ print(json.dumps({"in_process": in_process, "whole_process": gc.isenabled()}))
 
 
 def test_only_the_solve_command_as_a_whole_process_switches_the_collector_off():
-    sample = SAMPLES / "raft-3to1-redirect.rig.json"
-    env = dict(os.environ, PYTHONPATH=str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", ""))
-    done = subprocess.run([sys.executable, "-c", _COLLECTOR, str(sample)], env=env, cwd=ROOT, capture_output=True,
-                          text=True, timeout=120)
-    assert done.returncode == 0, done.stderr
-    assert json.loads(done.stdout) == {"in_process": True, "whole_process": False}
+    assert _run(_COLLECTOR) == {"in_process": True, "whole_process": False}
