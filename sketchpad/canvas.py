@@ -14,7 +14,7 @@ import logging
 import math
 from dataclasses import dataclass
 
-from PySide6.QtCore import QEvent, QLineF, QPoint, QPointF, QRect, QRectF, Qt, Signal
+from PySide6.QtCore import QEvent, QLineF, QPoint, QPointF, QRect, QRectF, QSize, Qt, Signal
 from PySide6.QtGui import (
     QFontMetricsF,
     QKeyEvent,
@@ -31,6 +31,7 @@ from sketchpad import theme
 from sketchpad.drag_layer import DragLayer, note_structure_change
 from sketchpad.geometry import to_scene, to_site
 from sketchpad.glyphs import paint_north_arrow
+from sketchpad.grid_pixels import paint_grid_pixels
 from sketchpad.items import (
     FeatureItem,
     ForceItem,
@@ -751,11 +752,22 @@ class SketchView(QGraphicsView):
         key = (t.m11(), t.m22(), t.dx(), t.dy(), vp.width(), vp.height(), dpr, self.grid_visible,
                self.grid_step_m() if self.grid_visible else 0.0)
         if key != self._background_key:
-            pix = QPixmap(max(1, round(vp.width() * dpr)), max(1, round(vp.height() * dpr)))
-            pix.setDevicePixelRatio(dpr)
+            pix = self._background  # painted over whole (a zoom step would otherwise allocate a viewport's pixmap)
+            if pix is None or pix.size() != QSize(max(1, round(vp.width() * dpr)), max(1, round(vp.height() * dpr))) \
+                    or pix.devicePixelRatio() != dpr:
+                pix = QPixmap(max(1, round(vp.width() * dpr)), max(1, round(vp.height() * dpr)))
+                pix.setDevicePixelRatio(dpr)
             p = QPainter(pix)
-            p.setTransform(t)
-            self._paint_background(p, t.inverted()[0].mapRect(QRectF(vp.rect())).adjusted(-1, -1, 1, 1))
+            area = t.inverted()[0].mapRect(QRectF(vp.rect())).adjusted(-1, -1, 1, 1)
+            if dpr == 1.0:  # the grid as the pixels its aliased lines light, filled (sketchpad.grid_pixels)
+                p.fillRect(pix.rect(), theme.PAPER)
+                if self.grid_visible:
+                    step = self.grid_step_m()
+                    paint_grid_pixels(p, t, area, [(step, theme.GRID_MINOR), (step * theme.GRID_MAJOR_EVERY, theme.GRID_MAJOR)],
+                                      theme.GRID_AXIS, (pix.width(), pix.height()))
+            else:
+                p.setTransform(t)
+                self._paint_background(p, area)
             p.end()
             self._background, self._background_key = pix, key
         painter.save()

@@ -628,7 +628,20 @@ class RopeItem(SketchItem):
         painter.setPen(pen(colour, theme.ROPE_WIDTH_PX))
         painter.setBrush(Qt.NoBrush)
         painter.drawPath(self._path)
+        dpr = pixel_dpr(painter, k) if self._glyphs else None
         for kind, c, r, d in self._glyphs:
+            if dpr is not None and kind in _BLITTED_GLYPHS:  # on screen: the round part blitted (see _paint_round_glyph)
+                blit_cached(painter, c, dpr, ("rope-glyph", kind, colour.rgba()), _GLYPH_BOUNDS[kind],
+                            lambda p, kind=kind: self._paint_round_glyph(p, kind, colour))
+                if kind == "tied":
+                    painter.setPen(pen(theme.POINT_MARK, 1.0))
+                    side = _left(d) * (r * 0.6)
+                    painter.drawLine(c + side, c - side)
+                elif kind == "capture":
+                    painter.setPen(Qt.NoPen)
+                    painter.setBrush(colour)
+                    painter.drawEllipse(c + d * (r * 1.05), r * 0.42, r * 0.42)
+                continue
             if kind in ("pulley", "capture"):
                 painter.setPen(pen(colour, 1.6))
                 painter.setBrush(theme.PULLEY_FILL)
@@ -663,6 +676,45 @@ class RopeItem(SketchItem):
         if self._label and not getattr(self.scene(), "rope_names_in_overlay", False):  # else the overlay places it
             origin = QPointF(self._label_pos.x() - self._label_w / 2 * k, self._label_pos.y())
             _draw_halo_text(painter, origin, self._label, colour, theme.font(theme.SMALL_POINT_SIZE, bold=True), k)
+
+
+    def _paint_round_glyph(self, painter: QPainter, kind: str, colour: QColor) -> None:
+        """The part of a pass glyph that looks the same whatever the rope's direction (sheave and axle, ring,
+        knot disc), drawn in pixels around the origin as :meth:`paint` draws it in metres.
+
+        A glyph keeps its pixel size, so on screen it is rendered once per look (kind, colour) and sub-pixel
+        phase into the glyph pixmaps (:func:`blit_cached`) and blitted: an anti-aliased ellipse drawn
+        afresh costs Qt ~30 us, and a zoom step repaints every rope (~150 glyphs on a 50-rope rig)."""
+        pen = self.pen
+        if kind in ("pulley", "capture"):
+            r = theme.PULLEY_RADIUS_PX
+            painter.setPen(pen(colour, 1.6))
+            painter.setBrush(theme.PULLEY_FILL)
+            painter.drawEllipse(QPointF(), r * 0.82, r * 0.82)
+            painter.setPen(Qt.NoPen)
+            painter.setBrush(colour)
+            painter.drawEllipse(QPointF(), theme.PULLEY_AXLE_PX, theme.PULLEY_AXLE_PX)
+        elif kind == "sliding":
+            r = theme.RING_RADIUS_PX
+            painter.setPen(pen(colour, 1.8))
+            painter.setBrush(Qt.NoBrush)
+            painter.drawEllipse(QPointF(), r, r)
+        else:  # tied
+            r = theme.KNOT_RADIUS_PX
+            painter.setPen(pen(theme.POINT_OUTLINE, 1.0))
+            painter.setBrush(colour)
+            painter.drawEllipse(QPointF(), r, r)
+
+
+def _glyph_bounds(radius_px: float) -> QRectF:
+    """Pixels around a glyph's centre its round part can touch (the widest pen is 1.8 px, plus anti-aliasing)."""
+    m = radius_px + 2.0
+    return QRectF(-m, -m, 2 * m, 2 * m)
+
+
+_GLYPH_BOUNDS = {"pulley": _glyph_bounds(theme.PULLEY_RADIUS_PX), "capture": _glyph_bounds(theme.PULLEY_RADIUS_PX),
+                 "sliding": _glyph_bounds(theme.RING_RADIUS_PX), "tied": _glyph_bounds(theme.KNOT_RADIUS_PX)}
+_BLITTED_GLYPHS = frozenset(_GLYPH_BOUNDS)
 
 
 # --- forces --------------------------------------------------------------------------------
