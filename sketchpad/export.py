@@ -31,7 +31,6 @@ from typing import Iterable
 from PySide6.QtCore import QMarginsF, QPointF, QRectF, QSize, Qt
 from PySide6.QtGui import (
     QColor,
-    QFont,
     QFontMetricsF,
     QImage,
     QLinearGradient,
@@ -45,6 +44,7 @@ from sketchpad import theme
 from sketchpad.glyphs import paint_north_arrow
 from sketchpad.messages import failure_sentence
 from sketchpad.pages.framing import Fit
+from sketchpad.pages.wrapped_text import wrap_text
 from sketchpad.short_text import drawn
 from solver.model import Rig
 from solver.result import Result
@@ -328,18 +328,6 @@ def print_force_item():
 
 # --- page furniture ------------------------------------------------------------------------
 page_font = theme.page_font  # a fresh copy of the app's face at a size in points, for drawings and reports
-
-
-def wrap_text(painter: QPainter, rect: QRectF, text: str, font: QFont, colour: QColor = INK,
-              align=Qt.AlignLeft, draw: bool = True) -> float:
-    """Draw ``text`` word-wrapped in ``rect``'s width from its top; returns the height used (px)."""
-    painter.setFont(font)
-    flags = int(align) | int(Qt.AlignTop) | int(Qt.TextWordWrap)
-    bound = painter.boundingRect(QRectF(rect.left(), rect.top(), rect.width(), 100000.0), flags, text)
-    if draw:
-        painter.setPen(colour)
-        painter.drawText(QRectF(rect.left(), rect.top(), rect.width(), bound.height() + 2), flags, text)
-    return bound.height()
 
 
 def paint_scale_bar(painter: QPainter, left: QPointF, length_m: float, px_per_m: float, unit: str) -> float:
@@ -702,10 +690,11 @@ def parse_size(text: str | None) -> tuple[int, int]:
 def export_drawing(rig: Rig, path: pathlib.Path | str, size: tuple[int, int] | None = None,
                    result: Result | None = None, rig_dir: pathlib.Path | None = None,
                    source: str | None = None, now: _dt.datetime | None = None,
-                   layers: Iterable[str] | None = None) -> Drawing:
+                   layers: Iterable[str] | None = None, scan=None) -> Drawing:
     """Write the rig, its site and its forces to ``path`` (.png, .svg or .pdf); returns the Drawing used.
 
-    ``result`` defaults to ``analyse(rig)``; ``size`` (pixels) applies to PNG and SVG.
+    ``result`` defaults to ``analyse(rig)``; ``size`` (pixels) applies to PNG and SVG; ``scan``: a finished
+    failure scan of ``rig`` solved as ``result`` (solver.failures.Scan) to draw, else the scan runs here.
     Raises ExportError in words if the format is unknown or the file cannot be written.
     """
     path = pathlib.Path(path)
@@ -714,7 +703,9 @@ def export_drawing(rig: Rig, path: pathlib.Path | str, size: tuple[int, int] | N
         raise ExportError(f"the folder {path.parent} does not exist")
     refuse_undrawable(rig)
     ensure_app()
-    drawing = Drawing(rig, result, rig_dir, layers, scan_failures=True)
+    drawing = Drawing(rig, result, rig_dir, layers, scan_failures=scan is None)
+    if scan is not None and drawing.result.ok:
+        drawing.use_scan(scan)
     title, subtitle = _titles(rig, source, now)
     if fmt == "png":
         render_png(drawing, path, size or DEFAULT_SIZE, title, subtitle)
