@@ -84,7 +84,7 @@ class Topology:
 
 #: System fields that :func:`with_geometry` rebuilds from the coordinates (all others come from the topology).
 GEOMETRY_FIELDS = ("rig", "points", "xy0", "origin", "size", "piece_len0", "run_L0", "s_min", "comp_size",
-                   "s_min_on", "run_L0_div")
+                   "s_min_on", "keep_len", "run_L0_div")
 _SYSTEM_FIELDS = tuple(f.name for f in fields(System))
 
 
@@ -497,6 +497,7 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     # the spacing contact only where a piece can close up: -inf elsewhere makes its penetration 0
     s.s_min_on = np.where(s.contact_on, s.s_min, -np.inf)
     s.order_ref = pass_order.drawn(s.xy0, s.a, s.b)
+    s.keep_len = pass_order.KEEP * s.s_min
     s.run_L0_div = np.where(s.run_hauled, 1.0, s.run_L0) if s.n_runs else np.zeros(0)  # no 0 / 0 on hauled runs
     return s
 

@@ -55,7 +55,7 @@ def unit_rows(d: np.ndarray, fallback: np.ndarray | None = None) -> np.ndarray:
     n = np.hypot(d[:, 0], d[:, 1])
     out = np.divide(d, n[:, None], out=np.zeros(d.shape), where=(n > 0)[:, None])
     zero = n <= 0
-    if zero.any():
+    if np.count_nonzero(zero):
         out[zero] = fallback[zero] if fallback is not None else np.array([1.0, 0.0])
     return out
 
@@ -81,8 +81,9 @@ def contact_pieces(s: System, hardware: np.ndarray) -> np.ndarray:
 
 def _take(s: System, l: np.ndarray, u: np.ndarray) -> None:
     """Each piece takes its own direction unless it is pushed into its neighbour beyond ``KEEP``."""
-    keep = l <= KEEP * s.s_min
-    s.order_ref = np.where(keep[:, None], s.order_ref, u) if keep.any() else u.copy()
+    keep = l <= s.keep_len
+    # (a state's directions are never changed in place: the order takes the array itself)
+    s.order_ref = np.where(keep[:, None], s.order_ref, u) if np.count_nonzero(keep) else u
 
 
 def start(s: System, x: np.ndarray) -> None:
@@ -94,6 +95,14 @@ def start(s: System, x: np.ndarray) -> None:
     d = xy[s.b] - xy[s.a]
     l = np.hypot(d[:, 0], d[:, 1])
     _take(s, l, unit_rows(d, s.order_ref))
+
+
+def start_at(s: System, st: State) -> None:
+    """:func:`start` at an evaluated state's coordinates, from its piece lengths and directions (the same
+    numbers: a state's directions are its pieces over their lengths; a zero-length piece takes the last one)."""
+    if not s.n_pieces:
+        return
+    _take(s, st.l, st.u if st.no_zero_length else unit_rows(st.xy[s.b] - st.xy[s.a], s.order_ref))
 
 
 def gap(s: System, l: np.ndarray, u: np.ndarray) -> np.ndarray:
@@ -117,7 +126,7 @@ def crossed(s: System, st: State) -> np.ndarray:
     if not s.n_pieces:
         return out
     bad = s.contact_on & (gap(s, st.l, st.u) < 0.0)
-    if bad.any():
+    if np.count_nonzero(bad):
         out[s.piece_comp[bad]] = True
     return out
 
