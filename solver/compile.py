@@ -206,6 +206,7 @@ def compile_topology(rig: Rig, motion: str | None = None) -> Topology:
     sys_.run_pre = np.array(lay.run_pre, dtype=float)
     finish_topology(sys_)
     sys_.contact_on = pass_order.contact_pieces(sys_, np.array(lay.s_min, dtype=float) > 0)  # no contact between knots
+    sys_.crossed_below = np.where(sys_.contact_on, 0.0, -np.inf)  # pass_order.crossed
     sys_.piece_mbs = sys_.piece_mbs * piece_efficiency(rig, lay.piece_rope, sys_.piece_index)  # knots: weak links
     report_indices(sys_, [p.kind for p in pts])
     for name in _SYSTEM_FIELDS:  # shared by every System of this topology: none may change them

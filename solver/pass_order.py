@@ -125,7 +125,7 @@ def crossed(s: System, st: State) -> np.ndarray:
     out = np.zeros(s.n_comp, dtype=bool)
     if not s.n_pieces:
         return out
-    bad = s.contact_on & (gap(s, st.l, st.u) < 0.0)
+    bad = gap(s, st.l, st.u) < s.crossed_below  # (= contact_on & (gap < 0): -inf where no contact acts)
     if np.count_nonzero(bad):
         out[s.piece_comp[bad]] = True
     return out
