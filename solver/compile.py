@@ -497,7 +497,7 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     s.s_min = np.minimum(s_min, 0.5 * s.piece_len0)
     # the spacing contact only where a piece can close up: -inf elsewhere makes its penetration 0
     s.s_min_on = np.where(s.contact_on, s.s_min, -np.inf)
-    s.order_ref = pass_order.drawn(s.xy0, s.a, s.b)
+    s.order_ref = None  # the drawing's order directions, made when a solve first needs them (solver.pass_order)
     s.keep_len = pass_order.KEEP * s.s_min
     s.run_L0_div = np.where(s.run_hauled, 1.0, s.run_L0) if s.n_runs else np.zeros(0)  # no 0 / 0 on hauled runs
     return s

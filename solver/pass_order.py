@@ -79,11 +79,19 @@ def contact_pieces(s: System, hardware: np.ndarray) -> np.ndarray:
     return s.contact_on & ~(alone & ~hardware)
 
 
+def _ref(s: System) -> np.ndarray:
+    """The order directions in force: the drawing's (:func:`drawn`, made on first use) until an iteration starts."""
+    ref = s.order_ref
+    if ref is None:
+        ref = s.order_ref = drawn(s.xy0, s.a, s.b)
+    return ref
+
+
 def _take(s: System, l: np.ndarray, u: np.ndarray) -> None:
     """Each piece takes its own direction unless it is pushed into its neighbour beyond ``KEEP``."""
     keep = l <= s.keep_len
     # (a state's directions are never changed in place: the order takes the array itself)
-    s.order_ref = np.where(keep[:, None], s.order_ref, u) if np.count_nonzero(keep) else u
+    s.order_ref = np.where(keep[:, None], _ref(s), u) if np.count_nonzero(keep) else u
 
 
 def start(s: System, x: np.ndarray) -> None:
@@ -94,7 +102,7 @@ def start(s: System, x: np.ndarray) -> None:
     xy = s.positions(x)
     d = xy[s.b] - xy[s.a]
     l = np.hypot(d[:, 0], d[:, 1])
-    _take(s, l, unit_rows(d, s.order_ref))
+    _take(s, l, unit_rows(d, _ref(s)))
 
 
 def start_at(s: System, st: State) -> None:
@@ -102,12 +110,12 @@ def start_at(s: System, st: State) -> None:
     numbers: a state's directions are its pieces over their lengths; a zero-length piece takes the last one)."""
     if not s.n_pieces:
         return
-    _take(s, st.l, st.u if st.no_zero_length else unit_rows(st.xy[s.b] - st.xy[s.a], s.order_ref))
+    _take(s, st.l, st.u if st.no_zero_length else unit_rows(st.xy[s.b] - st.xy[s.a], _ref(s)))
 
 
 def gap(s: System, l: np.ndarray, u: np.ndarray) -> np.ndarray:
     """Each piece's length along its order direction, m (negative when its passes have crossed)."""
-    return l * _dot(u, s.order_ref)
+    return l * _dot(u, _ref(s))
 
 
 def follow(s: System, st: State) -> bool:
