@@ -45,19 +45,22 @@ def _compiled(rig: Rig, motion: str | None) -> System:
     recent = memo.COMPILED.entries()
     for r, m, s, _ in recent:
         if r is rig and m == motion:
+            memo.SYSTEM_SOURCES.add("same rig")
             return s
+    source = "same structure"
     for _, _, _, topo in recent:
         if same_structure(topo, rig, motion):
             break
     else:
         for _, _, _, topo in recent:
             if same_structure(topo, rig, motion, forces=False):  # a force slider: same index arrays, new forces
-                topo = with_forces(topo, rig)
+                topo, source = with_forces(topo, rig), "new forces"
                 break
         else:
-            topo = compile_topology(rig, motion)  # = compile_rig, keeping the topology
+            topo, source = compile_topology(rig, motion), "compiled"  # = compile_rig, keeping the topology
     s = with_geometry(topo, rig)
     memo.COMPILED.add((rig, motion, s, topo))
+    memo.SYSTEM_SOURCES.add(source)
     return s
 
 

@@ -36,7 +36,7 @@ def test_a_ring_pulled_past_an_anchor_warm_and_cold_agree_and_balance_along_the_
     f0 = rig.forces[0]
     step = replace(rig, forces=(replace(f0, magnitude_N=magnitude, direction_deg=direction),))
     warm = equilibrium.solve(step, start=_start(first))
-    memo.COMPILED.clear()
+    memo.forget_all()
     cold = equilibrium.solve(step)
     assert cold.ok and warm.ok, (cold.message, warm.message)
     for res in (warm, cold):
@@ -88,7 +88,7 @@ def test_a_warm_result_the_guard_refuses_is_solved_cold(monkeypatch):
     rig = _guard_rig()
     cold = equilibrium.solve(rig)
     before = _start(equilibrium.solve(vector_pull_rig(200.0)))
-    memo.COMPILED.clear()
+    memo.forget_all()
     calls = []
     real = pass_order.inconsistent
 
