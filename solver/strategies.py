@@ -213,7 +213,7 @@ def _slid_to_its_stop(s: System, motion: str, kc: np.ndarray, failed: Outcome,
     stop (:func:`friction.pulled_passes`, :func:`friction.placed_against`) through the softened
     contact (:func:`_jam_settled`).  ``solve_at(x, kc)`` is the friction solve from ``x``.
     """
-    if failed.runaway is not None:
+    if failed.converged or failed.runaway is not None:  # (a settled solve: nothing to try, as _jam_settled says)
         return failed
     st = failed.state
     for p, piece in friction.pulled_passes(s, st.T, st.g, motion)[:SLIDE_TRIES]:
