@@ -18,6 +18,7 @@ from numpy.typing import NDArray
 
 from solver import memo, pass_order
 from solver.errors import RigModelError
+from solver.evaluate import contact_stiffness
 from solver.materials import hardware_for, material_for
 from solver.model import MIDDLE_HOWS, MOTIONS, SHEAVE_HOWS, STANDARD_GRAVITY, Hardware, Material, Rig
 from solver.stretch import StretchCurve
@@ -84,7 +85,7 @@ class Topology:
 
 #: System fields that :func:`with_geometry` rebuilds from the coordinates (all others come from the topology).
 GEOMETRY_FIELDS = ("rig", "points", "xy0", "origin", "size", "piece_len0", "run_L0", "s_min", "comp_size",
-                   "s_min_on", "keep_len", "run_L0_div")
+                   "s_min_on", "keep_len", "contact_k", "run_L0_div")
 _SYSTEM_FIELDS = tuple(f.name for f in fields(System))
 
 
@@ -499,6 +500,8 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     s.s_min_on = np.where(s.contact_on, s.s_min, -np.inf)
     s.order_ref = None  # the drawing's order directions, made when a solve first needs them (solver.pass_order)
     s.keep_len = pass_order.KEEP * s.s_min
+    s.contact_k = contact_stiffness(s)  # what every solve of this System starts from (made once, not per solve)
+    s.contact_k.flags.writeable = False
     s.run_L0_div = np.where(s.run_hauled, 1.0, s.run_L0) if s.n_runs else np.zeros(0)  # no 0 / 0 on hauled runs
     return s
 

@@ -238,7 +238,7 @@ def solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
     when friction acts).
     """
     s.__dict__.pop("_last_tau", None)  # run tensions of an earlier solve are no start for this one
-    kc = contact_stiffness(s)
+    kc = contact_stiffness(s) if s.contact_k is None else s.contact_k  # (made with the System's geometry)
     lonely = s.unattached
     if lonely is not None:
         pid = s.point_ids[lonely]
