@@ -59,7 +59,7 @@ def max_norm(g: np.ndarray) -> float:
 
 
 def force_scale(s: System, st: State) -> float:
-    t = float(np.max(np.abs(st.N))) if len(st.N) else 0.0
+    t = float(np.abs(st.N).max()) if len(st.N) else 0.0
     return max(s.force_scale, t)
 
 

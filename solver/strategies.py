@@ -84,7 +84,7 @@ def _friction_stage(s: System, x0: np.ndarray, u0: np.ndarray, motion: str, kc: 
         elif not s.has_edges:  # pulley ratios do not depend on the geometry: these weights are final
             return Outcome(st, iters, max_norm(st.g) <= ACCEPT_REL * force_scale(s, st)), w
         w_new = friction.weights(s, st.u, motion, jam)
-        if np.max(np.abs(w_new / w - 1.0), initial=0.0) <= 1e-12:
+        if np.abs(w_new / w - 1.0).max(initial=0.0) <= 1e-12:
             if s.has_edges:
                 st = evaluate(s, st.x, w_new, kc)
                 w = w_new
