@@ -18,6 +18,7 @@ from numpy.typing import NDArray
 
 from solver import memo, pass_order
 from solver.errors import RigModelError
+from solver.evaluate import contact_stiffness
 from solver.materials import hardware_for, material_for
 from solver.model import MIDDLE_HOWS, MOTIONS, SHEAVE_HOWS, STANDARD_GRAVITY, Hardware, Material, Rig
 from solver.stretch import StretchCurve
@@ -84,7 +85,7 @@ class Topology:
 
 #: System fields that :func:`with_geometry` rebuilds from the coordinates (all others come from the topology).
 GEOMETRY_FIELDS = ("rig", "points", "xy0", "origin", "size", "piece_len0", "run_L0", "s_min", "comp_size",
-                   "s_min_on", "run_L0_div")
+                   "s_min_on", "keep_len", "contact_k", "run_L0_div")
 _SYSTEM_FIELDS = tuple(f.name for f in fields(System))
 
 
@@ -206,6 +207,7 @@ def compile_topology(rig: Rig, motion: str | None = None) -> Topology:
     sys_.run_pre = np.array(lay.run_pre, dtype=float)
     finish_topology(sys_)
     sys_.contact_on = pass_order.contact_pieces(sys_, np.array(lay.s_min, dtype=float) > 0)  # no contact between knots
+    sys_.crossed_below = np.where(sys_.contact_on, 0.0, -np.inf)  # pass_order.crossed
     sys_.piece_mbs = sys_.piece_mbs * piece_efficiency(rig, lay.piece_rope, sys_.piece_index)  # knots: weak links
     report_indices(sys_, [p.kind for p in pts])
     for name in _SYSTEM_FIELDS:  # shared by every System of this topology: none may change them
@@ -496,7 +498,10 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     s.s_min = np.minimum(s_min, 0.5 * s.piece_len0)
     # the spacing contact only where a piece can close up: -inf elsewhere makes its penetration 0
     s.s_min_on = np.where(s.contact_on, s.s_min, -np.inf)
-    s.order_ref = pass_order.drawn(s.xy0, s.a, s.b)
+    s.order_ref = None  # the drawing's order directions, made when a solve first needs them (solver.pass_order)
+    s.keep_len = pass_order.KEEP * s.s_min
+    s.contact_k = contact_stiffness(s)  # what every solve of this System starts from (made once, not per solve)
+    s.contact_k.flags.writeable = False
     s.run_L0_div = np.where(s.run_hauled, 1.0, s.run_L0) if s.n_runs else np.zeros(0)  # no 0 / 0 on hauled runs
     return s
 

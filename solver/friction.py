@@ -39,7 +39,7 @@ def log_factors(s: System, u: FloatArray, motion: str) -> FloatArray:
     pul = s.pass_kind == PASS_PULLEY
     lf[pul] = -sign * np.log(s.pass_eta[pul])
     edge = s.pass_kind == PASS_EDGE
-    if np.any(edge):
+    if np.count_nonzero(edge):
         lf[edge] = sign * s.pass_mu[edge] * turn_angles(s, u)[edge]
     return lf
 
@@ -126,5 +126,5 @@ def ratios_hold(s: System, u: FloatArray, w: FloatArray, pen: FloatArray, motion
     across = np.log(w[inner] / w[inner - 1])
     running = np.abs(across - log_factors(s, u, motion)[inner]) <= 1e-9
     jammed = (np.abs(across) <= 1e-9) & jammed_passes(s, pen)[inner]
-    return bool(np.all(running | jammed))
+    return np.count_nonzero(running | jammed) == len(inner)
 

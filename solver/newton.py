@@ -46,7 +46,7 @@ def runaway_point(s: System, st: State) -> int | None:
     """The free point (index into the System's points) farthest from the drawing when it is more than
     RUNAWAY_SIZES rig sizes away, else None."""
     # the drawing's centre is the solver's origin: no subtraction unless it moved
-    far = point_norms(st.x - np.tile(s.centre, s.n_dof // 2)) if np.any(s.centre) else point_norms(st.x)
+    far = point_norms(st.x - np.tile(s.centre, s.n_dof // 2)) if np.count_nonzero(s.centre) else point_norms(st.x)
     if far.max() > RUNAWAY_SIZES * s.size:
         return int(s.free_at[np.argmax(far)])
     return None
@@ -58,7 +58,7 @@ def max_norm(g: np.ndarray) -> float:
 
 
 def force_scale(s: System, st: State) -> float:
-    t = float(np.max(np.abs(st.N))) if len(st.N) else 0.0
+    t = float(np.abs(st.N).max()) if len(st.N) else 0.0
     return max(s.force_scale, t)
 
 
@@ -143,7 +143,7 @@ def shifted_solve(K, lam: np.ndarray | float, rhs: np.ndarray, dense: bool, symm
         d = solver(rhs)
     except (np.linalg.LinAlgError, scipy.linalg.LinAlgError, RuntimeError, ValueError):
         return None, None
-    return (d, solver) if np.isfinite(d).all() else (None, None)
+    return (d, solver) if np.count_nonzero(np.isfinite(d)) == d.size else (None, None)
 
 
 def _comp_max(s: System, values: np.ndarray) -> np.ndarray:
@@ -257,12 +257,19 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
     functions they would pass all of them back and forth.
     """
     dense = s.n_dof <= DENSE_MAX
-    pass_order.start(s, x0)  # passes keep the order they have here (one-sided spacing contact)
+    # passes keep the order they have at x0 (one-sided spacing contact); the order never enters a force,
+    # so it is taken after the state at x0 is evaluated, from that state's pieces (the same numbers)
     st = state if state is not None and not state.closed else evaluate(s, x0, w, kc)
+    at_x0 = st.x is x0
+    if at_x0:
+        pass_order.start_at(s, st)
+    else:
+        pass_order.start(s, x0)
     if s.n_dof == 0:
         return Outcome(st, 0, True)
     if s.n_comp == 1:  # one part from the start: its order taken again from the state (as it always was)
-        pass_order.start(s, st.x)
+        if not at_x0:
+            pass_order.start(s, st.x)
         if st.closed:
             st = evaluate(s, st.x, w, kc)
     parts = _Parts.every(s)

@@ -21,8 +21,11 @@ def part_spans(xy: np.ndarray, gather: np.ndarray, starts: np.ndarray) -> np.nda
     if len(starts) == 0:
         return np.zeros(0)
     pts = xy[gather]
-    counts = np.diff(np.append(starts, len(gather)))
-    centre = np.add.reduceat(pts, starts, axis=0) / counts[:, None]
-    off = pts - np.repeat(centre, counts, axis=0)
+    if len(starts) == 1:  # one part (most rigs): the same numbers, its centre taken from every point at once
+        off = pts - np.add.reduceat(pts, starts, axis=0) / len(gather)
+    else:
+        counts = np.diff(np.append(starts, len(gather)))
+        centre = np.add.reduceat(pts, starts, axis=0) / counts[:, None]
+        off = pts - np.repeat(centre, counts, axis=0)
     reach = np.maximum.reduceat(np.hypot(off[:, 0], off[:, 1]), starts)
     return np.maximum(2.0 * reach, 1e-3)

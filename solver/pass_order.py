@@ -55,7 +55,7 @@ def unit_rows(d: np.ndarray, fallback: np.ndarray | None = None) -> np.ndarray:
     n = np.hypot(d[:, 0], d[:, 1])
     out = np.divide(d, n[:, None], out=np.zeros(d.shape), where=(n > 0)[:, None])
     zero = n <= 0
-    if zero.any():
+    if np.count_nonzero(zero):
         out[zero] = fallback[zero] if fallback is not None else np.array([1.0, 0.0])
     return out
 
@@ -79,10 +79,19 @@ def contact_pieces(s: System, hardware: np.ndarray) -> np.ndarray:
     return s.contact_on & ~(alone & ~hardware)
 
 
+def _ref(s: System) -> np.ndarray:
+    """The order directions in force: the drawing's (:func:`drawn`, made on first use) until an iteration starts."""
+    ref = s.order_ref
+    if ref is None:
+        ref = s.order_ref = drawn(s.xy0, s.a, s.b)
+    return ref
+
+
 def _take(s: System, l: np.ndarray, u: np.ndarray) -> None:
     """Each piece takes its own direction unless it is pushed into its neighbour beyond ``KEEP``."""
-    keep = l <= KEEP * s.s_min
-    s.order_ref = np.where(keep[:, None], s.order_ref, u) if keep.any() else u.copy()
+    keep = l <= s.keep_len
+    # (a state's directions are never changed in place: the order takes the array itself)
+    s.order_ref = np.where(keep[:, None], _ref(s), u) if np.count_nonzero(keep) else u
 
 
 def start(s: System, x: np.ndarray) -> None:
@@ -93,12 +102,20 @@ def start(s: System, x: np.ndarray) -> None:
     xy = s.positions(x)
     d = xy[s.b] - xy[s.a]
     l = np.hypot(d[:, 0], d[:, 1])
-    _take(s, l, unit_rows(d, s.order_ref))
+    _take(s, l, unit_rows(d, _ref(s)))
+
+
+def start_at(s: System, st: State) -> None:
+    """:func:`start` at an evaluated state's coordinates, from its piece lengths and directions (the same
+    numbers: a state's directions are its pieces over their lengths; a zero-length piece takes the last one)."""
+    if not s.n_pieces:
+        return
+    _take(s, st.l, st.u if st.no_zero_length else unit_rows(st.xy[s.b] - st.xy[s.a], _ref(s)))
 
 
 def gap(s: System, l: np.ndarray, u: np.ndarray) -> np.ndarray:
     """Each piece's length along its order direction, m (negative when its passes have crossed)."""
-    return l * _dot(u, s.order_ref)
+    return l * _dot(u, _ref(s))
 
 
 def follow(s: System, st: State) -> bool:
@@ -116,8 +133,8 @@ def crossed(s: System, st: State) -> np.ndarray:
     out = np.zeros(s.n_comp, dtype=bool)
     if not s.n_pieces:
         return out
-    bad = s.contact_on & (gap(s, st.l, st.u) < 0.0)
-    if bad.any():
+    bad = gap(s, st.l, st.u) < s.crossed_below  # (= contact_on & (gap < 0): -inf where no contact acts)
+    if np.count_nonzero(bad):
         out[s.piece_comp[bad]] = True
     return out
 

@@ -31,7 +31,7 @@ def solve_run_tensions(s: System, L: FloatArray, l: FloatArray, w: FloatArray) -
     if w_of is not w:  # the weights are fixed through a Newton solve: their per-run range once per array
         run_wmin = np.minimum.reduceat(w, s.run_start) if nr else w
         run_wmax = np.maximum.reduceat(w, s.run_start) if nr else w
-        uneven = bool(np.any(tied_run & (run_wmin != run_wmax)))
+        uneven = np.count_nonzero(tied_run & (run_wmin != run_wmax)) > 0
         hauled_tau = hauled_P / w[hauled_last]  # a hauled run's first piece: its haul force over the last's weight
         s._run_weight_range = (w, run_wmin, run_wmax, uneven, hauled_tau)
     tau = np.zeros(nr)

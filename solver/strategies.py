@@ -84,7 +84,7 @@ def _friction_stage(s: System, x0: np.ndarray, u0: np.ndarray, motion: str, kc: 
         elif not s.has_edges:  # pulley ratios do not depend on the geometry: these weights are final
             return Outcome(st, iters, max_norm(st.g) <= ACCEPT_REL * force_scale(s, st)), w
         w_new = friction.weights(s, st.u, motion, jam)
-        if np.max(np.abs(w_new / w - 1.0), initial=0.0) <= 1e-12:
+        if np.abs(w_new / w - 1.0).max(initial=0.0) <= 1e-12:
             if s.has_edges:
                 st = evaluate(s, st.x, w_new, kc)
                 w = w_new
@@ -213,7 +213,7 @@ def _slid_to_its_stop(s: System, motion: str, kc: np.ndarray, failed: Outcome,
     stop (:func:`friction.pulled_passes`, :func:`friction.placed_against`) through the softened
     contact (:func:`_jam_settled`).  ``solve_at(x, kc)`` is the friction solve from ``x``.
     """
-    if failed.runaway is not None:
+    if failed.converged or failed.runaway is not None:  # (a settled solve: nothing to try, as _jam_settled says)
         return failed
     st = failed.state
     for p, piece in friction.pulled_passes(s, st.T, st.g, motion)[:SLIDE_TRIES]:
@@ -238,7 +238,7 @@ def solve_system(s: System, x0: np.ndarray, motion: str, warm: bool = False,
     when friction acts).
     """
     s.__dict__.pop("_last_tau", None)  # run tensions of an earlier solve are no start for this one
-    kc = contact_stiffness(s)
+    kc = contact_stiffness(s) if s.contact_k is None else s.contact_k  # (made with the System's geometry)
     lonely = s.unattached
     if lonely is not None:
         pid = s.point_ids[lonely]

@@ -130,6 +130,9 @@ class System:
     piece_groups: "Grouping" = field(default=None)  # pieces by part (those with a part)
     s_min_on: FloatArray = field(default=None)  # s_min where the contact can act, -inf elsewhere
     order_ref: FloatArray = field(default=None)  # per piece: the direction its passes keep (solver.pass_order)
+    crossed_below: FloatArray = field(default=None)  # per piece: 0 where the contact acts, else -inf (pass_order.crossed)
+    contact_k: FloatArray = field(default=None)  # per piece: the spacing contact's stiffness, N/m (evaluate.contact_stiffness)
+    keep_len: FloatArray = field(default=None)  # per piece: shorter than this it keeps its order direction (pass_order.KEEP x s_min)
     haul_P_or_0: FloatArray = field(default=None)  # run_P on hauled runs, 0 on tied ones
     run_L0_div: FloatArray = field(default=None)  # run_L0 on tied runs, 1 on hauled ones
     piece_mbs: FloatArray = field(default=None)  # minimum breaking strength of each piece's rope, N

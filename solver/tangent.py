@@ -113,7 +113,7 @@ def _block_values(s: System, st: State, kc: FloatArray, exact: bool, on: PartPat
     pull = N if exact else np.maximum(N, 0.0)
     geo = pull / l if st.no_zero_length else np.divide(pull, l, out=np.zeros(l.shape), where=l > 0)
     run_coef = None
-    if st.taut.any():
+    if np.count_nonzero(st.taut):
         c = 1.0 / (1.0 + eps)
         de = by_material(s, piece_mat, T, "dstrain", None if s.soft is None else s.soft[piece_run])
         D = np.bincount(piece_run, (l if unit else l * w) * de * c * c, minlength=s.n_runs)

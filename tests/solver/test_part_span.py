@@ -57,3 +57,15 @@ def test_bare_pass_spacing_is_the_same_for_the_rig_turned_on_the_page(rig, angle
     a = equilibrium._compiled(rig, None).s_min.copy()
     b = equilibrium._compiled(rigs.transformed(rig, angle_deg=angle), None).s_min
     np.testing.assert_allclose(b, a, rtol=1e-12)
+
+
+@settings(max_examples=40, deadline=None)
+@given(pts=st.lists(st.tuples(st.floats(-1e4, 1e4), st.floats(-1e4, 1e4)), min_size=2, max_size=12))
+def test_one_part_is_spanned_bit_for_bit_as_it_is_beside_another_part(pts):
+    # a rig of one part takes a shorter path (its centre from every point at once): the same numbers as the
+    # per-part path gives that part beside a second one (exact equality: a spacing is part of the answer)
+    xy = np.array(pts)
+    n = len(xy)
+    alone = part_spans(xy, np.arange(n), np.array([0]))
+    beside = part_spans(np.vstack([xy, xy[::-1] + 1.0]), np.arange(2 * n), np.array([0, n]))
+    assert alone.tolist() == beside[:1].tolist()
