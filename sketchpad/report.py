@@ -306,6 +306,10 @@ def assumption_lines(rig: Rig) -> list[str]:
 
 
 # --- the haul-force sweep plot -----------------------------------------------------------------
+#: The one plain line that stands in the plot section's place when there is no plot (its reason follows).
+NO_PLOT = "No plot of mechanical advantage and anchor load against the pulling force"
+
+
 def sweep_target(rig: Rig) -> tuple[str, float, str] | None:
     """(vary text, drawn value N, axis words) for the plot: the first haul team's force, else the first force."""
     for p in rig.points:
@@ -324,14 +328,14 @@ def haul_sweep(rig: Rig):
 
     target = sweep_target(rig)
     if target is None:
-        return None, 0.0, "No plot: the rig has no haul force or external force to vary."
+        return None, 0.0, f"{NO_PLOT}: the rig has no haul force or external force to vary."
     vary, drawn, words = target
     try:
         table = sweep(rig, vary, values_between(drawn * SWEEP_FROM, drawn * SWEEP_TO, SWEEP_STEPS))
     except RopewrightError as exc:
-        return None, 0.0, f"No plot: {exc}"
+        return None, 0.0, f"{NO_PLOT}: {exc}"
     if all(r["status"] != "ok" for r in table.rows):
-        return None, 0.0, "No plot: the rig did not solve at any haul force in the range."
+        return None, 0.0, f"{NO_PLOT}: the rig did not solve at any haul force in the range."
     return table, drawn, words
 
 
@@ -460,7 +464,9 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
                   water_table(rig, result))
         for t in (t for t in tables if t is not None):
             flow.table(t)
-        if plot is not None:
+        if plot is not None and plot[0] is None:  # no plot: one plain line in the section's place, no heading
+            flow.text(plot[1], page_font(BODY_PT), MUTED, gap=6)
+        elif plot is not None:
             image, caption = plot
             flow.heading(f"Mechanical advantage and peak anchor load against the pulling force ({fu})")
             if image is not None:
@@ -523,8 +529,11 @@ def page_frame(writer) -> tuple[float, float, QRectF]:
 
 def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = None,
                  rig_dir: pathlib.Path | None = None, source: str | None = None,
-                 now: _dt.datetime | None = None, greyscale: bool = False) -> Report:
-    """Write the PDF report of ``rig`` (``result`` defaults to ``analyse(rig)``); ExportError in words on failure."""
+                 now: _dt.datetime | None = None, greyscale: bool = False, scan=None, sweep=None) -> Report:
+    """Write the PDF report of ``rig`` (``result`` defaults to ``analyse(rig)``); ExportError in words on failure.
+
+    ``scan`` (solver.failures.Scan of ``rig`` solved as ``result``) and ``sweep`` (what :func:`haul_sweep` returns)
+    are the slow parts computed beforehand (the app's solve worker, sketchpad.export_scan); else they run here."""
     path = require_pdf_name(path, "a report")
     if not path.parent.exists():
         raise ExportError(f"the folder {path.parent} does not exist")
@@ -540,14 +549,14 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     writer = portrait_writer(path, rig, f"Ropewright report: {title}", greyscale)
     page_w, page_h = writer.width(), writer.height()
     m, footer_h, content = page_frame(writer)
-    sweep_data = haul_sweep(rig) if result.ok else (None, 0.0, "")
+    sweep_data = (sweep if sweep is not None else haul_sweep(rig)) if result.ok else (None, 0.0, "")
     from sketchpad.haul_report import add_haul_page, haul_table, plan_for_report
 
     haul = plan_for_report(rig) if result.ok else None  # a page of its own when there is a load to move
 
     from sketchpad.report_failures import failure_section
 
-    failures = failure_section(rig, result)
+    failures = failure_section(rig, result, scan)
     if failures is not None:
         failures.draw_zones_on(drawing)
         result = drawing.result  # person warnings named by the failure that puts them in a zone

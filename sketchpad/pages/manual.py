@@ -42,6 +42,8 @@ class Chapter:
     drawing: object = None
     failures: object = None  # the report's "If something lets go" section (sketchpad.report_failures)
     haul: object = None  # the report's haul plan page (sketchpad.haul_report), when there is a load to move
+    scan: object = None  # the failure scan made beforehand (the app's solve worker), else made when measured
+    sweep: object = None  # the haul sweep made beforehand (sketchpad.report.haul_sweep), else made when measured
 
 
 @dataclass
@@ -105,11 +107,12 @@ def _measure(writer, content: QRectF, chapter: Chapter, when: str) -> None:
 
     chapter.drawing = Drawing(chapter.rig, chapter.result, chapter.rig_dir)
     chapter.haul = plan_for_report(chapter.rig) if chapter.result.ok else None
-    chapter.failures = failure_section(chapter.rig, chapter.result)
+    chapter.failures = failure_section(chapter.rig, chapter.result, chapter.scan)
     if chapter.failures is not None:
         chapter.failures.draw_zones_on(chapter.drawing)
         chapter.result = chapter.drawing.result  # person warnings named by the failure that puts them there
-    table, drawn, words = haul_sweep(chapter.rig) if chapter.result.ok else (None, 0.0, "")
+    table, drawn, words = ((chapter.sweep if chapter.sweep is not None else haul_sweep(chapter.rig))
+                           if chapter.result.ok else (None, 0.0, ""))
     stand_in = plot_stand_in(chapter.rig, chapter.result, (table, drawn, words))
 
     def count(sizes: tuple[float, float]) -> int:
