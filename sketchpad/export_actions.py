@@ -112,36 +112,45 @@ class ExportActions:
         return why is not None
 
     def compute_then_write(self, what: str, path: pathlib.Path, compute: Callable, write: Callable[[Any], str],
-                           ready: Any = None, scans_rig=None, waiting: str = "the failure scan runs first",
-                           progress: Callable | None = None) -> bool:
+                           ready: Any = None, scans_rig=None, waiting: str = "failure scan runs first",
+                           progress: Callable | None = None, ended: Callable[[], None] | None = None) -> bool:
         """Every export's one path: ``compute()`` (the slow part: analysis, failure scan, sweep) on the solve worker,
         then ``write(value)`` on the GUI thread (it returns the status message); with ``ready`` (the value at hand)
         it writes at once. ``scans_rig``: the rig whose scan the worker makes (the What-if dock stands down
-        meanwhile). ``progress``: called on the GUI thread with what ``compute(report)`` reports. The status bar
+        meanwhile). ``progress``: called on the GUI thread with what ``compute(report)`` reports; ``ended()`` once it is over, written or not. The status bar
         says what runs until the export ends; a failure is told in a message box. True while under way (``busy``)."""
         from sketchpad.export_scan import ExportScans, dock_stands_down
 
         if ready is not None:
-            self._written(what, path, write, ready, None)
+            self._written(what, path, write, ready, None, ended)
             return False
         if self._scans is None:
             live = getattr(self.window, "live", None)
             self._scans = ExportScans(getattr(live, "scheduler", None), self.window)
         if scans_rig is not None:
             dock_stands_down(self.window, scans_rig)
-        if self._scans.run(compute, lambda value, error: self._written(what, path, write, value, error), progress):
-            self._say(f"Exporting the {what} to {path.name}: {waiting} …", stay=True)
+        if self._scans.run(compute, lambda value, error: self._written(what, path, write, value, error, ended),
+                           progress):
+            self._say(f"Exporting the {what}: {waiting} …", stay=True)  # short: the cautions share the status bar
             return True
         try:  # no worker (the window closing): compute here
             value, error = (compute(progress) if progress is not None else compute()), None
         except Exception as exc:  # noqa: BLE001 - told to the user below
             log.exception("export computation failed")
             value, error = None, exc
-        self._written(what, path, write, value, error)
+        self._written(what, path, write, value, error, ended)
         return False
 
-    def _written(self, what: str, path: pathlib.Path, write: Callable[[Any], str], value, error) -> None:
+    def _written(self, what: str, path: pathlib.Path, write: Callable[[Any], str], value, error,
+                 ended: Callable[[], None] | None = None) -> None:
         """Write the export from its computed ``value`` (GUI thread), or tell why it could not be."""
+        try:
+            self._write_or_tell(what, path, write, value, error)
+        finally:
+            if ended is not None:
+                ended()
+
+    def _write_or_tell(self, what: str, path: pathlib.Path, write: Callable[[Any], str], value, error) -> None:
         from sketchpad.export_scan import Cancelled, dock_resumes, offer_to_what_if
 
         if error is None:
@@ -224,7 +233,7 @@ class ExportActions:
 
         ready, job = ready_or_job(self.window, rig, sweep=True)
         self.compute_then_write("report", path, job, write, ready, rig,
-                                "the failure scan and the haul-force sweep run first")
+                                "failure scan and sweep run first")
         return path
 
 

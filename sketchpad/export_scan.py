@@ -150,6 +150,8 @@ class ExportScans:
             value, error = None, None
             try:
                 value = compute(report) if progress is not None else compute()
+            except Cancelled as exc:  # the user's choice, told in the status bar
+                error = exc
             except Exception as exc:  # noqa: BLE001 - a scan bug must not take the window down: the user is told
                 log.exception("export computation failed")
                 error = exc

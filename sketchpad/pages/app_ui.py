@@ -304,6 +304,7 @@ class BookActions:
         self.window, self.exports = window, exports
         self.ask_rigs = ask_rigs or _ask_open_paths
         self.last_manual = None
+        self.dialog = None  # the manual's progress dialog, while one is made
         self.progress_seen: list[tuple[int, int]] = []
         self.action_brief = menu_action(window, "Export &briefing sheet…",
                                         "Save the one-page briefing: rig, commands, roles, worst loads, sign-off",
@@ -361,7 +362,6 @@ class BookActions:
                 manual = write_manual(chapters, path, "Rigging manual",
                                       progress=lambda d, t, w: progress(min(steps, d), steps, w))
             except Exception:
-                dialog.reset()
                 if cancelled and path.exists():
                     path.unlink()
                 raise
@@ -378,7 +378,7 @@ class BookActions:
                 pass  # the worker sees ``cancelled`` before its next rig
 
         ex.compute_then_write("manual", path, compute, write, scans_rig=doc.rig, progress=computed,
-                              waiting=f"{1 + len(others)} rigs analysed and scanned first")
+                              waiting=f"{1 + len(others)} rig{'s' if others else ''} scanned first", ended=dialog.reset)
         return path
 
     def _progress_dialog(self, steps: int):
@@ -395,6 +395,7 @@ class BookActions:
         self.progress_seen = []
         cancelled: list[bool] = []
         dialog.canceled.connect(lambda: cancelled.append(True))
+        self.dialog = dialog
 
         def progress(done: int, total: int, what: str) -> None:
             self.progress_seen.append((done, total))

@@ -238,3 +238,29 @@ def test_the_held_boats_report_prints_one_plain_line_for_its_missing_plot(tmp_pa
     assert "no haul force" in lines[at]
     assert not any("against the pulling force (" in ln for ln in lines)  # the plot section's heading is gone
     assert "Mechanical advantage" not in lines[at - 1]
+
+
+def test_a_manual_cancelled_while_the_worker_scans_writes_nothing_and_asks_nothing(main_window, qtbot, tmp_path,
+                                                                                  monkeypatch):
+    _open(main_window, qtbot)
+    monkeypatch.setattr(main_window.what_if, "run_scan", lambda *a, **k: None)
+    events: list = []
+    gate = threading.Event()
+    _held(monkeypatch, events, gate)
+    shown = []
+    main_window.exports.show = lambda parent, title, text, error: shown.append(text)
+    books = main_window.pages.books
+    out = tmp_path / "book.pdf"
+    try:
+        assert books.export_manual(out, [VECTOR]) == out
+        qtbot.waitUntil(lambda: any(e[0] == "scan" for e in events), timeout=20000)
+        from PySide6.QtWidgets import QPushButton
+
+        books.dialog.findChild(QPushButton).click()  # the user presses Cancel while the open rig is scanned
+        gate.set()
+        qtbot.waitUntil(lambda: not main_window.exports.busy, timeout=120000)
+    finally:
+        gate.set()
+    assert not out.exists() and not shown
+    assert "cancelled" in main_window.exports.last_message and not books.dialog.isVisible()
+    assert [e for e in events if e[0] == "scan"] == [("scan", False)]  # the next rig was never started
