@@ -114,7 +114,7 @@ class ExportActions:
     def compute_then_write(self, what: str, path: pathlib.Path, compute: Callable, write: Callable[[Any], str],
                            ready: Any = None, scans_rig=None, waiting: str = "failure scan runs first",
                            progress: Callable | None = None, ended: Callable[[], None] | None = None) -> bool:
-        """Every export's one path: ``compute()`` (the slow part: analysis, failure scan, sweep) on the solve worker,
+        """Every export's one path: ``compute()`` (the slow part: analysis, failure scan, haul sweep and plan) on the solve worker,
         then ``write(value)`` on the GUI thread (it returns the status message); with ``ready`` (the value at hand)
         it writes at once. ``scans_rig``: the rig whose scan the worker makes (the What-if dock stands down
         meanwhile). ``progress``: called on the GUI thread with what ``compute(report)`` reports; ``ended()`` once it is over, written or not. The status bar
@@ -208,7 +208,7 @@ class ExportActions:
 
     def export_report(self, path: pathlib.Path | str | None = None) -> pathlib.Path | None:
         """Ask where (unless given) and write the PDF report; None if cancelled or refused. The failure scan and the
-        haul-force sweep run on the solve worker (the What-if dock's finished scan reused), the pages are written
+        haul-force sweep and plan run on the solve worker (the What-if dock's finished scan reused), the pages are written
         when they are back (``busy`` meanwhile)."""
         from sketchpad.export import refuse_undrawable
         from sketchpad.export_scan import ready_or_job
@@ -227,13 +227,13 @@ class ExportActions:
 
         def write(outcome) -> str:
             report = write_report(rig, path, outcome.result, rig_dir=rig_dir, source=source, scan=outcome.scan,
-                                  sweep=outcome.sweep)
+                                  solves=outcome.solves)
             extra = "" if report.result.ok else " (the rig did not solve: the report says so and gives no forces)"
             return f"Report saved to {path}, {report.pages} page{'s' if report.pages != 1 else ''}{extra}"
 
-        ready, job = ready_or_job(self.window, rig, sweep=True)
+        ready, job = ready_or_job(self.window, rig, report=True)
         self.compute_then_write("report", path, job, write, ready, rig,
-                                "failure scan and sweep run first")
+                                "failure scan and haul runs first")
         return path
 
 

@@ -1,8 +1,8 @@
-"""An export's slow parts (analysis, failure scan, haul sweep) kept off the GUI thread.
+"""An export's slow parts (analysis, failure scan, haul sweep and plan) kept off the GUI thread.
 
 Every File ▸ Export (drawing, report, briefing sheet, manual) shows the failure scan's computed
 areas (what flies where when an anchor, a pulley or a rope piece lets go, :func:`solver.failures.scan`);
-the report and the manual also plot a haul-force sweep. A big rig takes seconds for these, and run on
+the report and the manual also plot a haul-force sweep and plan the haul stroke by stroke. A big rig takes seconds for these, and run on
 the GUI thread they froze the window. An export now goes in two steps: *compute* on the live solve's
 worker thread (:meth:`sketchpad.live_solve.SolveScheduler.worker`, so there is never more than one
 solve at a time), then *write* on the GUI thread (Qt paints only there) when the numbers are back.
@@ -32,12 +32,12 @@ class Cancelled(Exception):
 
 @dataclass(frozen=True)
 class ScanOutcome:
-    """The rig's analysis, its failure scan (None when the rig did not solve) and its haul sweep (what
-    :func:`sketchpad.report.haul_sweep` returns; None when not asked for or the rig did not solve)."""
+    """The rig's analysis, its failure scan (None when the rig did not solve) and the report's haul sweep and plan
+    (:class:`sketchpad.report.ReportSolves`; None when not asked for or the rig did not solve)."""
 
     result: Result | None
     scan: Any = None  # solver.failures.Scan
-    sweep: Any = None
+    solves: Any = None
 
 
 def finished_scan(window, rig: Rig) -> ScanOutcome | None:
@@ -56,9 +56,9 @@ def settled_result(window, rig: Rig) -> Result | None:
     return sched.result
 
 
-def prepare(rig: Rig, intact: Result | None = None, scan=None, sweep: bool = False) -> ScanOutcome:
+def prepare(rig: Rig, intact: Result | None = None, scan=None, report: bool = False) -> ScanOutcome:
     """What the worker runs for one rig: the full analysis (unless given as ``intact``), every component let go
-    (unless given as ``scan``; a rig that does not solve: no scan) and, with ``sweep``, the report's haul sweep."""
+    (unless given as ``scan``; a rig that does not solve: no scan) and, for a ``report``, its haul sweep and plan."""
     from solver import failures
     from solver.analysis import analyse
 
@@ -67,22 +67,22 @@ def prepare(rig: Rig, intact: Result | None = None, scan=None, sweep: bool = Fal
         return ScanOutcome(result)
     if scan is None:
         scan = failures.scan(rig, result)
-    if not sweep:
+    if not report:
         return ScanOutcome(result, scan)
-    from sketchpad.report import haul_sweep
+    from sketchpad.report import report_solves
 
-    return ScanOutcome(result, scan, haul_sweep(rig))
+    return ScanOutcome(result, scan, report_solves(rig))
 
 
-def ready_or_job(window, rig: Rig, sweep: bool = False) -> tuple[ScanOutcome | None, Callable[[], ScanOutcome]]:
+def ready_or_job(window, rig: Rig, report: bool = False) -> tuple[ScanOutcome | None, Callable[[], ScanOutcome]]:
     """(everything an export of ``rig`` needs when the What-if dock has it already, else None; the job that
     computes what is missing, reusing the dock's scan and the analysis on screen)."""
     done = finished_scan(window, rig)
-    if done is not None and not sweep:
+    if done is not None and not report:
         return done, lambda: done
     intact = done.result if done is not None else settled_result(window, rig)
     made = done.scan if done is not None else None
-    return None, lambda: prepare(rig, intact, made, sweep)
+    return None, lambda: prepare(rig, intact, made, report)
 
 
 def offer_to_what_if(window, outcome) -> None:

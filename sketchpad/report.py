@@ -339,6 +339,23 @@ def haul_sweep(rig: Rig):
     return table, drawn, words
 
 
+@dataclass(frozen=True)
+class ReportSolves:
+    """The report's solver work besides the analysis and the failure scan, made beforehand (the app's solve
+    worker, sketchpad.export_scan): the haul sweep (what :func:`haul_sweep` returns) and the haul plan
+    (sketchpad.haul_report.plan_for_report; None when there is no load to move)."""
+
+    sweep: tuple
+    haul: object
+
+
+def report_solves(rig: Rig) -> ReportSolves:
+    """The haul sweep and the haul plan of a rig that solved (both are many solves: seconds on a big rig)."""
+    from sketchpad.haul_report import plan_for_report
+
+    return ReportSolves(haul_sweep(rig), plan_for_report(rig))
+
+
 def plot_image(rig: Rig, table, drawn: float, words: str, width_px: float, height_px: float) -> QImage | None:
     """MA (actual, ideal) and peak anchor load against the varied force, as a QImage (matplotlib Agg)."""
     from matplotlib.backends.backend_agg import FigureCanvasAgg
@@ -529,10 +546,11 @@ def page_frame(writer) -> tuple[float, float, QRectF]:
 
 def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = None,
                  rig_dir: pathlib.Path | None = None, source: str | None = None,
-                 now: _dt.datetime | None = None, greyscale: bool = False, scan=None, sweep=None) -> Report:
+                 now: _dt.datetime | None = None, greyscale: bool = False, scan=None,
+                 solves: ReportSolves | None = None) -> Report:
     """Write the PDF report of ``rig`` (``result`` defaults to ``analyse(rig)``); ExportError in words on failure.
 
-    ``scan`` (solver.failures.Scan of ``rig`` solved as ``result``) and ``sweep`` (what :func:`haul_sweep` returns)
+    ``scan`` (solver.failures.Scan of ``rig`` solved as ``result``) and ``solves`` (:func:`report_solves`)
     are the slow parts computed beforehand (the app's solve worker, sketchpad.export_scan); else they run here."""
     path = require_pdf_name(path, "a report")
     if not path.parent.exists():
@@ -549,10 +567,12 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     writer = portrait_writer(path, rig, f"Ropewright report: {title}", greyscale)
     page_w, page_h = writer.width(), writer.height()
     m, footer_h, content = page_frame(writer)
-    sweep_data = (sweep if sweep is not None else haul_sweep(rig)) if result.ok else (None, 0.0, "")
-    from sketchpad.haul_report import add_haul_page, haul_table, plan_for_report
+    if result.ok and solves is None:
+        solves = report_solves(rig)
+    sweep_data = solves.sweep if result.ok else (None, 0.0, "")
+    from sketchpad.haul_report import add_haul_page, haul_table
 
-    haul = plan_for_report(rig) if result.ok else None  # a page of its own when there is a load to move
+    haul = solves.haul if result.ok else None  # a page of its own when there is a load to move
 
     from sketchpad.report_failures import failure_section
 
@@ -617,4 +637,4 @@ def report_cli(args) -> int:
 
 
 __all__ = ["write_report", "report_cli", "Report", "Table", "rope_table", "anchor_table", "hardware_table",
-           "haul_sentences", "ma_sentence", "assumption_lines", "weak_link_lines", "sweep_plot", "direction_words", "sf_text"]
+           "haul_sentences", "ma_sentence", "assumption_lines", "weak_link_lines", "sweep_plot", "direction_words", "sf_text", "ReportSolves", "report_solves"]

@@ -1,5 +1,5 @@
 """The manual's slow part, run on the solve worker: every rig read, analysed, let go component by component
-(the failure scan) and swept over its haul force, ready for :func:`sketchpad.pages.manual.write_manual`.
+(the failure scan), swept over its haul force and its haul planned, ready for :func:`sketchpad.pages.manual.write_manual`.
 
 The open rig reuses the What-if dock's finished scan and the analysis on screen
 (:func:`sketchpad.export_scan.ready_or_job`); each other rig file is read and worked through in turn,
@@ -21,7 +21,7 @@ def manual_chapters(window, rig: Rig, source: str | None, rig_dir: pathlib.Path 
     ``cancelled`` has an entry; ExportError naming a file that cannot be read."""
     from sketchpad.export_scan import ready_or_job
 
-    ready, own_job = ready_or_job(window, rig, sweep=True)
+    ready, own_job = ready_or_job(window, rig, report=True)
 
     def compute(report: Callable[[int, int, str], None]) -> list:
         from sketchpad.export import ExportError
@@ -31,7 +31,7 @@ def manual_chapters(window, rig: Rig, source: str | None, rig_dir: pathlib.Path 
         total = 1 + len(others)
         own = ready or own_job()
         title = rig.title or (pathlib.Path(source).name if source else "Untitled rig")
-        chapters = [Chapter(rig, own.result, source, rig_dir, title, scan=own.scan, sweep=own.sweep)]
+        chapters = [Chapter(rig, own.result, source, rig_dir, title, scan=own.scan, solves=own.solves)]
         report(1, total, title)
         for i, p in enumerate(others):
             if cancelled:
@@ -40,8 +40,8 @@ def manual_chapters(window, rig: Rig, source: str | None, rig_dir: pathlib.Path 
                 (ch,) = load_chapters([p])
             except ManualError as exc:
                 raise ExportError(str(exc)) from exc
-            done = prepare(ch.rig, ch.result, sweep=True)
-            ch.scan, ch.sweep = done.scan, done.sweep
+            done = prepare(ch.rig, ch.result, report=True)
+            ch.scan, ch.solves = done.scan, done.solves
             chapters.append(ch)
             report(2 + i, total, ch.title)
         if cancelled:

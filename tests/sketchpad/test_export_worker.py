@@ -28,10 +28,12 @@ needs_poppler = pytest.mark.skipif(shutil.which("pdftotext") is None, reason="pd
 
 
 def _held(monkeypatch, events: list, gate: threading.Event) -> None:
-    """solver.failures.scan and solver.sweep.sweep wait for ``gate`` (at most 20 s) and note the thread they ran on."""
+    """solver.failures.scan, solver.sweep.sweep and solver.haul_plan.plan_haul wait for ``gate`` (at most 20 s) and
+    note the thread they ran on."""
+    from sketchpad import haul_report
     from solver import failures, sweep
 
-    real_scan, real_sweep = failures.scan, sweep.sweep
+    real_scan, real_sweep, real_plan = failures.scan, sweep.sweep, haul_report.plan_haul
 
     def scan(rig, intact=None, by_parts=True):
         events.append(("scan", threading.current_thread() is threading.main_thread()))
@@ -44,8 +46,14 @@ def _held(monkeypatch, events: list, gate: threading.Event) -> None:
         gate.wait(timeout=20.0)
         return real_sweep(*a, **k)
 
+    def planned(*a, **k):
+        events.append(("haul plan", threading.current_thread() is threading.main_thread()))
+        gate.wait(timeout=20.0)
+        return real_plan(*a, **k)
+
     monkeypatch.setattr(failures, "scan", scan)
     monkeypatch.setattr(sweep, "sweep", swept)
+    monkeypatch.setattr(haul_report, "plan_haul", planned)  # as haul_report imported it
 
 
 def _open(window, qtbot, path=RAFT) -> None:
@@ -126,9 +134,9 @@ def test_each_export_returns_to_the_event_loop_while_its_scan_runs(kind, main_wi
         gate.set()
         timer.stop()
     assert events.index(("returned", None)) < events.index(("scan ends", None))
-    assert all(not on_gui for what, on_gui in events if what in ("scan", "sweep"))  # all on the solve worker
+    assert all(not on_gui for what, on_gui in events if what in ("scan", "sweep", "haul plan"))  # on the worker
     if kind in ("report", "manual"):
-        assert ("sweep", False) in events
+        assert ("sweep", False) in events and ("haul plan", False) in events
     assert out.exists() and "saved to" in exports.last_message
     assert calls[-1][0] == exports.last_message and calls[-1][1] > 0  # ... then says it is done
 
