@@ -1,14 +1,15 @@
-"""File ▸ Export drawing's failure scan, kept off the GUI thread.
+"""An export's slow parts (analysis, failure scan, haul sweep and plan) kept off the GUI thread.
 
-An exported drawing shows the failure scan's computed areas (what flies where when an anchor, a
-pulley or a rope piece lets go, :func:`solver.failures.scan`). A big rig takes seconds to scan,
-and run on the GUI thread it froze the window. The export now uses the What-if dock's finished
-scan of the very rig being exported when there is one; otherwise the scan (and the analysis, unless
-the live solve has the full one of this rig: the numbers on screen) is
-queued on the live solve's worker thread (:meth:`sketchpad.live_solve.SolveScheduler.worker`, so
-there is never more than one solve at a time) and the drawing is written on the GUI thread (Qt
-paints only there) when they are back, and the What-if dock is given the scan (no second scan of the
-same rig). The window answers all the while.
+Every File ▸ Export (drawing, report, briefing sheet, manual) shows the failure scan's computed
+areas (what flies where when an anchor, a pulley or a rope piece lets go, :func:`solver.failures.scan`);
+the report and the manual also plot a haul-force sweep and plan the haul stroke by stroke. A big rig takes seconds for these, and run on
+the GUI thread they froze the window. An export now goes in two steps: *compute* on the live solve's
+worker thread (:meth:`sketchpad.live_solve.SolveScheduler.worker`, so there is never more than one
+solve at a time), then *write* on the GUI thread (Qt paints only there) when the numbers are back.
+The What-if dock's finished scan of the very rig being exported is used when there is one, and the
+live solve's full analysis of it (the numbers on screen) is never done again. While the worker scans
+the rig on screen, the What-if dock stands down (no second scan of the same rig at once) and shows
+the export's scan when it is back. The window answers all the while.
 """
 
 from __future__ import annotations
@@ -25,13 +26,18 @@ from solver.result import Result
 log = logging.getLogger(__name__)
 
 
+class Cancelled(Exception):
+    """The user cancelled an export while its slow part ran: nothing is written."""
+
+
 @dataclass(frozen=True)
 class ScanOutcome:
-    """The rig's analysis and its failure scan (None when the rig did not solve), or the error that stopped them."""
+    """The rig's analysis, its failure scan (None when the rig did not solve) and the report's haul sweep and plan
+    (:class:`sketchpad.report.ReportSolves`; None when not asked for or the rig did not solve)."""
 
     result: Result | None
     scan: Any = None  # solver.failures.Scan
-    error: BaseException | None = None
+    solves: Any = None
 
 
 def finished_scan(window, rig: Rig) -> ScanOutcome | None:
@@ -50,54 +56,107 @@ def settled_result(window, rig: Rig) -> Result | None:
     return sched.result
 
 
-def analyse_and_scan(rig: Rig, intact: Result | None = None) -> ScanOutcome:
-    """What the worker runs: the full analysis (unless given as ``intact``), then every component let go
-    (a rig that does not solve: no scan)."""
+def prepare(rig: Rig, intact: Result | None = None, scan=None, report: bool = False) -> ScanOutcome:
+    """What the worker runs for one rig: the full analysis (unless given as ``intact``), every component let go
+    (unless given as ``scan``; a rig that does not solve: no scan) and, for a ``report``, its haul sweep and plan."""
     from solver import failures
     from solver.analysis import analyse
 
     result = intact if intact is not None else analyse(rig)
-    return ScanOutcome(result, failures.scan(rig, result) if result.ok else None)
+    if not result.ok:
+        return ScanOutcome(result)
+    if scan is None:
+        scan = failures.scan(rig, result)
+    if not report:
+        return ScanOutcome(result, scan)
+    from sketchpad.report import report_solves
+
+    return ScanOutcome(result, scan, report_solves(rig))
 
 
-def offer_to_what_if(window, outcome: ScanOutcome) -> None:
+def ready_or_job(window, rig: Rig, report: bool = False) -> tuple[ScanOutcome | None, Callable[[], ScanOutcome]]:
+    """(everything an export of ``rig`` needs when the What-if dock has it already, else None; the job that
+    computes what is missing, reusing the dock's scan and the analysis on screen)."""
+    done = finished_scan(window, rig)
+    if done is not None and not report:
+        return done, lambda: done
+    intact = done.result if done is not None else settled_result(window, rig)
+    made = done.scan if done is not None else None
+    return None, lambda: prepare(rig, intact, made, report)
+
+
+def offer_to_what_if(window, outcome) -> None:
     """Give the What-if dock an export's finished scan, so it does not scan the same rig again."""
     what_if = getattr(window, "what_if", None)
-    if what_if is not None and outcome.scan is not None:
-        what_if.adopt(outcome.scan)
+    scan = getattr(outcome, "scan", None)
+    if what_if is not None and scan is not None:
+        what_if.adopt(scan)
+
+
+def dock_stands_down(window, rig: Rig) -> None:
+    """The export is about to scan the rig on screen on the worker: the What-if dock stops its own scan of it (one
+    scan at a time) and waits for the export's."""
+    what_if = getattr(window, "what_if", None)
+    intact = settled_result(window, rig)
+    if what_if is not None and intact is not None and hasattr(what_if, "await_export"):
+        what_if.await_export(intact)
+
+
+def dock_resumes(window) -> None:
+    """The export's scan did not come back: the What-if dock scans for itself again."""
+    what_if = getattr(window, "what_if", None)
+    if what_if is not None and hasattr(what_if, "export_gone"):
+        what_if.export_gone()
 
 
 class _Bridge(QObject):
-    """Carries a finished job from the worker thread to the GUI thread (queued signal)."""
+    """Carries a finished job and its progress from the worker thread to the GUI thread (queued signals)."""
 
-    finished = Signal(object, object)  # the GUI-thread callback, ScanOutcome
+    finished = Signal(object, object, object)  # the GUI-thread callback, the value, the error (or None)
+    progress = Signal(object, object)  # the GUI-thread callback, its arguments
 
 
 class ExportScans:
-    """Runs export scans on the solve worker and calls back on the GUI thread; ``running`` counts those under way."""
+    """Runs exports' slow parts on the solve worker and calls back on the GUI thread; ``running`` counts those under
+    way."""
 
     def __init__(self, scheduler, parent: QObject) -> None:
         self.scheduler = scheduler
         self.running = 0
         self._bridge = _Bridge(parent)
         self._bridge.finished.connect(self._done, Qt.QueuedConnection)
+        self._bridge.progress.connect(lambda cb, args: cb(*args), Qt.QueuedConnection)
 
-    def start(self, rig: Rig, on_done: Callable[[ScanOutcome], None], intact: Result | None = None) -> bool:
-        """Queue the analysis (unless given as ``intact``) and scan of ``rig``; False when there is no worker
-        (then the caller scans itself)."""
+    def available(self) -> bool:
+        """Whether there is a worker to run on (none once the window closed, or without a live solve)."""
+        return self.scheduler is not None and self.scheduler.worker() is not None
+
+    def run(self, compute: Callable[..., Any], on_done: Callable[[Any, BaseException | None], None],
+            progress: Callable[..., None] | None = None) -> bool:
+        """Queue ``compute()`` (given ``report(*args)`` when ``progress`` is, which calls ``progress(*args)`` on the
+        GUI thread); ``on_done(value, error)`` on the GUI thread after. False when there is no worker."""
         worker = self.scheduler.worker() if self.scheduler is not None else None
         if worker is None:
             return False
         bridge = self._bridge
 
+        def report(*args) -> None:
+            try:
+                bridge.progress.emit(progress, args)
+            except RuntimeError:  # the window closed
+                pass
+
         def work() -> None:
+            value, error = None, None
             try:
-                outcome = analyse_and_scan(rig, intact)
-            except Exception as exc:  # noqa: BLE001 - a scan bug must not take the window down
-                log.exception("export scan failed")
-                outcome = ScanOutcome(None, None, exc)
+                value = compute(report) if progress is not None else compute()
+            except Cancelled as exc:  # the user's choice, told in the status bar
+                error = exc
+            except Exception as exc:  # noqa: BLE001 - a scan bug must not take the window down: the user is told
+                log.exception("export computation failed")
+                error = exc
             try:
-                bridge.finished.emit(on_done, outcome)
+                bridge.finished.emit(on_done, value, error)
             except RuntimeError:  # the window closed while scanning
                 pass
 
@@ -105,9 +164,10 @@ class ExportScans:
         worker.submit(work)
         return True
 
-    def _done(self, on_done: Callable[[ScanOutcome], None], outcome: ScanOutcome) -> None:
+    def _done(self, on_done: Callable[[Any, BaseException | None], None], value, error) -> None:
         self.running -= 1
-        on_done(outcome)
+        on_done(value, error)
 
 
-__all__ = ["ScanOutcome", "ExportScans", "finished_scan", "settled_result", "analyse_and_scan", "offer_to_what_if"]
+__all__ = ["ScanOutcome", "ExportScans", "finished_scan", "settled_result", "prepare", "Cancelled",
+           "ready_or_job", "offer_to_what_if", "dock_stands_down", "dock_resumes"]

@@ -306,6 +306,10 @@ def assumption_lines(rig: Rig) -> list[str]:
 
 
 # --- the haul-force sweep plot -----------------------------------------------------------------
+#: The one plain line that stands in the plot section's place when there is no plot (its reason follows).
+NO_PLOT = "No plot of mechanical advantage and anchor load against the pulling force"
+
+
 def sweep_target(rig: Rig) -> tuple[str, float, str] | None:
     """(vary text, drawn value N, axis words) for the plot: the first haul team's force, else the first force."""
     for p in rig.points:
@@ -324,15 +328,32 @@ def haul_sweep(rig: Rig):
 
     target = sweep_target(rig)
     if target is None:
-        return None, 0.0, "No plot: the rig has no haul force or external force to vary."
+        return None, 0.0, f"{NO_PLOT}: the rig has no haul force or external force to vary."
     vary, drawn, words = target
     try:
         table = sweep(rig, vary, values_between(drawn * SWEEP_FROM, drawn * SWEEP_TO, SWEEP_STEPS))
     except RopewrightError as exc:
-        return None, 0.0, f"No plot: {exc}"
+        return None, 0.0, f"{NO_PLOT}: {exc}"
     if all(r["status"] != "ok" for r in table.rows):
-        return None, 0.0, "No plot: the rig did not solve at any haul force in the range."
+        return None, 0.0, f"{NO_PLOT}: the rig did not solve at any haul force in the range."
     return table, drawn, words
+
+
+@dataclass(frozen=True)
+class ReportSolves:
+    """The report's solver work besides the analysis and the failure scan, made beforehand (the app's solve
+    worker, sketchpad.export_scan): the haul sweep (what :func:`haul_sweep` returns) and the haul plan
+    (sketchpad.haul_report.plan_for_report; None when there is no load to move)."""
+
+    sweep: tuple
+    haul: object
+
+
+def report_solves(rig: Rig) -> ReportSolves:
+    """The haul sweep and the haul plan of a rig that solved (both are many solves: seconds on a big rig)."""
+    from sketchpad.haul_report import plan_for_report
+
+    return ReportSolves(haul_sweep(rig), plan_for_report(rig))
 
 
 def plot_image(rig: Rig, table, drawn: float, words: str, width_px: float, height_px: float) -> QImage | None:
@@ -460,7 +481,9 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
                   water_table(rig, result))
         for t in (t for t in tables if t is not None):
             flow.table(t)
-        if plot is not None:
+        if plot is not None and plot[0] is None:  # no plot: one plain line in the section's place, no heading
+            flow.text(plot[1], page_font(BODY_PT), MUTED, gap=6)
+        elif plot is not None:
             image, caption = plot
             flow.heading(f"Mechanical advantage and peak anchor load against the pulling force ({fu})")
             if image is not None:
@@ -523,8 +546,12 @@ def page_frame(writer) -> tuple[float, float, QRectF]:
 
 def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = None,
                  rig_dir: pathlib.Path | None = None, source: str | None = None,
-                 now: _dt.datetime | None = None, greyscale: bool = False) -> Report:
-    """Write the PDF report of ``rig`` (``result`` defaults to ``analyse(rig)``); ExportError in words on failure."""
+                 now: _dt.datetime | None = None, greyscale: bool = False, scan=None,
+                 solves: ReportSolves | None = None) -> Report:
+    """Write the PDF report of ``rig`` (``result`` defaults to ``analyse(rig)``); ExportError in words on failure.
+
+    ``scan`` (solver.failures.Scan of ``rig`` solved as ``result``) and ``solves`` (:func:`report_solves`)
+    are the slow parts computed beforehand (the app's solve worker, sketchpad.export_scan); else they run here."""
     path = require_pdf_name(path, "a report")
     if not path.parent.exists():
         raise ExportError(f"the folder {path.parent} does not exist")
@@ -540,14 +567,16 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     writer = portrait_writer(path, rig, f"Ropewright report: {title}", greyscale)
     page_w, page_h = writer.width(), writer.height()
     m, footer_h, content = page_frame(writer)
-    sweep_data = haul_sweep(rig) if result.ok else (None, 0.0, "")
-    from sketchpad.haul_report import add_haul_page, haul_table, plan_for_report
+    if result.ok and solves is None:
+        solves = report_solves(rig)
+    sweep_data = solves.sweep if result.ok else (None, 0.0, "")
+    from sketchpad.haul_report import add_haul_page, haul_table
 
-    haul = plan_for_report(rig) if result.ok else None  # a page of its own when there is a load to move
+    haul = solves.haul if result.ok else None  # a page of its own when there is a load to move
 
     from sketchpad.report_failures import failure_section
 
-    failures = failure_section(rig, result)
+    failures = failure_section(rig, result, scan)
     if failures is not None:
         failures.draw_zones_on(drawing)
         result = drawing.result  # person warnings named by the failure that puts them in a zone
@@ -608,4 +637,4 @@ def report_cli(args) -> int:
 
 
 __all__ = ["write_report", "report_cli", "Report", "Table", "rope_table", "anchor_table", "hardware_table",
-           "haul_sentences", "ma_sentence", "assumption_lines", "weak_link_lines", "sweep_plot", "direction_words", "sf_text"]
+           "haul_sentences", "ma_sentence", "assumption_lines", "weak_link_lines", "sweep_plot", "direction_words", "sf_text", "ReportSolves", "report_solves"]

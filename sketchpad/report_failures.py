@@ -86,11 +86,12 @@ def failure_table(rig: Rig, s: Scan):
     return t
 
 
-def failure_section(rig: Rig, result: Result) -> FailureSection | None:
-    """The section for a solved rig (scanned once per report); None when the rig did not solve."""
+def failure_section(rig: Rig, result: Result, finished: Scan | None = None) -> FailureSection | None:
+    """The section for a solved rig (scanned once per report, unless ``finished`` is a scan of it made already);
+    None when the rig did not solve."""
     from solver.failure_warnings import people_at_risk
 
     if not result.ok:
         return None
-    s = scan(rig, result)
+    s = finished if finished is not None else scan(rig, result)
     return FailureSection(s, failure_table(rig, s), people_at_risk(s) if s.ok else [])

@@ -271,6 +271,7 @@ class WhatIf(QObject):
         self._steps = None
         self.scan: Scan | None = None
         self.scans = 0
+        self.awaited: Result | None = None  # the settled result an export scans on the solve worker (adopted after)
         self.panel.failure_selected.connect(self._ghost)
         live.scheduler.result_ready.connect(self._on_result)
 
@@ -279,6 +280,7 @@ class WhatIf(QObject):
         self.ghost.show_failure(None, None, None)
         self._legend(theme.DRAWN_ZONE_NAMES)  # the overlay drew this result's fixed shapes
         self._steps = None  # a new result: any scan under way was for an older rig
+        self.awaited = None
         self.ticks.stop()
         if not sched.settled:
             self.timer.stop()  # a drag: never scan now
@@ -305,6 +307,8 @@ class WhatIf(QObject):
             return None
         if self.scan is not None and self.scan.intact is result:
             return self._show(self.scan, again=True)  # a repeat delivery of the same answer: no new scan
+        if self.awaited is result:
+            return None  # an export is scanning this very result on the worker: its scan is adopted when back
         from solver.failures import scan_steps
 
         self._steps = (rig, result, scan_steps(rig, result), [], len(components(rig)))
@@ -321,8 +325,28 @@ class WhatIf(QObject):
         self.timer.stop()
         self.ticks.stop()
         self._steps = None
+        self.awaited = None
         self._show(s)
         return True
+
+    def await_export(self, intact: Result) -> None:
+        """An export is about to scan ``intact`` (the scheduler's settled result) on the solve worker: a scan of it
+        here (part-way, or about to start) stops, so the same rig is never scanned twice at once; the export's scan
+        is adopted when it is back (:meth:`adopt`), or this dock scans again if it fails (:meth:`export_gone`)."""
+        sched = self.live.scheduler
+        if intact is not sched.result or (self.scan is not None and self.scan.intact is intact):
+            return
+        self.timer.stop()
+        self.ticks.stop()
+        self._steps = None
+        self.awaited = intact
+        self.panel.show_waiting("The export is letting each component go; its scan shows here when it is done …")
+
+    def export_gone(self) -> None:
+        """The awaited export's scan did not come back: scan here again (if the rig is still the same)."""
+        if self.awaited is not None:
+            self.awaited = None
+            self.timer.start()
 
     def _continue(self, budget_ms: float | None = None) -> Scan | None:
         """Scan on for about ``budget_ms`` (None: to the end); finish, or come back on the next tick."""

@@ -304,6 +304,7 @@ class BookActions:
         self.window, self.exports = window, exports
         self.ask_rigs = ask_rigs or _ask_open_paths
         self.last_manual = None
+        self.dialog = None  # the manual's progress dialog, while one is made
         self.progress_seen: list[tuple[int, int]] = []
         self.action_brief = menu_action(window, "Export &briefing sheet…",
                                         "Save the one-page briefing: rig, commands, roles, worst loads, sign-off",
@@ -317,28 +318,31 @@ class BookActions:
         menu.insertSeparator(before)
 
     def export_brief(self, path=None):
-        from sketchpad.export import ExportError
+        """Ask where (unless given) and write the briefing sheet; its failure scan runs on the solve worker (the
+        What-if dock's finished scan reused) and the sheet is written when it is back (sketchpad.export_scan)."""
+        from sketchpad.export_scan import ready_or_job
         from sketchpad.pages.brief import write_brief
 
         ex = self.exports
         path = ex.pdf_path(path, "Export briefing sheet", "-brief.pdf")
-        if path is None:
+        if path is None or ex.refuse_target(path, "briefing sheet"):
             return None
-        doc = self.window.document
-        try:
-            write_brief(doc.rig, path, rig_dir=ex._rig_dir(), source=str(doc.path) if getattr(doc, "path", None) else None)
-        except (ExportError, OSError) as exc:
-            ex._say(f"Could not write the briefing sheet: {exc}", error=True)
-            return None
-        ex._say(f"Briefing sheet saved to {path}")
+        rig, rig_dir, source = self.window.document.rig, ex._rig_dir(), ex._source()
+
+        def write(outcome) -> str:
+            write_brief(rig, path, outcome.result, rig_dir=rig_dir, source=source, scan=outcome.scan)
+            return f"Briefing sheet saved to {path}"
+
+        ready, job = ready_or_job(self.window, rig)
+        ex.compute_then_write("briefing sheet", path, job, write, ready, rig)
         return path
 
     def export_manual(self, path=None, rig_paths=None):
-        """Ask for rig files and where to save, then write the manual with a progress dialog."""
-        from PySide6.QtWidgets import QApplication, QProgressDialog
-
-        from sketchpad.export import ExportError
-        from sketchpad.pages.manual import ManualError, chapters_of, load_chapters, write_manual
+        """Ask for rig files and where to save, then make the manual with a progress dialog: every rig read,
+        analysed, scanned and swept on the solve worker (the open rig's dock scan reused), the pages written on
+        the GUI thread when they are back (sketchpad.export_scan)."""
+        from sketchpad.pages.manual_jobs import manual_chapters
+        from sketchpad.pages.manual import write_manual
 
         ex = self.exports
         doc = self.window.document
@@ -347,42 +351,62 @@ class BookActions:
         if doc.path is not None:
             others = [p for p in others if pathlib.Path(p).resolve() != pathlib.Path(doc.path).resolve()]
         path = ex.pdf_path(path, "Export manual", "-manual.pdf", MANUAL_FILTER)
-        if path is None:
+        if path is None or ex.refuse_target(path, "manual"):
             return None
         steps = 2 * (1 + len(others))
+        dialog, progress, cancelled = self._progress_dialog(steps)
+        compute = manual_chapters(self.window, doc.rig, ex._source(), ex._rig_dir(), others, cancelled)
+
+        def write(chapters) -> str:
+            try:
+                manual = write_manual(chapters, path, "Rigging manual",
+                                      progress=lambda d, t, w: progress(min(steps, d), steps, w))
+            except Exception:
+                if cancelled and path.exists():
+                    path.unlink()
+                raise
+            dialog.setValue(steps)
+            self.last_manual = manual
+            return f"Manual saved to {path}, {manual.pages} pages, {len(manual.contents)} rigs"
+
+        def computed(d: int, t: int, what: str) -> None:  # the worker's steps: one per rig
+            from sketchpad.export_scan import Cancelled
+
+            try:
+                progress(d, steps, what)
+            except Cancelled:
+                pass  # the worker sees ``cancelled`` before its next rig
+
+        ex.compute_then_write("manual", path, compute, write, scans_rig=doc.rig, progress=computed,
+                              waiting=f"{1 + len(others)} rig{'s' if others else ''} scanned first", ended=dialog.reset)
+        return path
+
+    def _progress_dialog(self, steps: int):
+        """(the manual's progress dialog, ``progress(done, total, what)`` for it, the list that gets an entry once
+        the user cancels: the worker and the writer stop at their next step)."""
+        from PySide6.QtWidgets import QApplication, QProgressDialog
+
+        from sketchpad.export_scan import Cancelled
+
         dialog = QProgressDialog("Making the manual…", "Cancel", 0, steps, self.window)
         dialog.setWindowTitle("Export manual")
         dialog.setWindowModality(Qt.WindowModal)
         dialog.setMinimumDuration(300)
         self.progress_seen = []
-        cancelled = []
+        cancelled: list[bool] = []
+        dialog.canceled.connect(lambda: cancelled.append(True))
+        self.dialog = dialog
 
         def progress(done: int, total: int, what: str) -> None:
             self.progress_seen.append((done, total))
             dialog.setLabelText(f"{what} ({done} of {total})")
             dialog.setValue(min(done, steps))
             QApplication.processEvents()
-            if dialog.wasCanceled():
+            if cancelled or dialog.wasCanceled():
                 cancelled.append(True)
-                raise ManualError("cancelled: no manual was written")
+                raise Cancelled("cancelled: no manual was written")
 
-        try:
-            own = chapters_of([(doc.rig, str(doc.path) if doc.path else None, ex._rig_dir())])
-            progress(1, steps, own[0].title)
-            rest = load_chapters(others, lambda d, t, w: progress(1 + d, steps, w)) if others else []
-            # load_chapters counts its own two steps per rig; the writer counts the second half
-            manual = write_manual(own + rest, path, "Rigging manual",
-                                  progress=lambda d, t, w: progress(min(steps, d + (t // 2)), steps, w))
-        except (ExportError, ManualError, OSError) as exc:
-            dialog.reset()
-            if cancelled and path.exists():
-                path.unlink()
-            ex._say(f"Could not write the manual: {exc}", error=not cancelled)
-            return None
-        dialog.setValue(steps)
-        self.last_manual = manual
-        ex._say(f"Manual saved to {path}, {manual.pages} pages, {len(manual.contents)} rigs")
-        return path
+        return dialog, progress, cancelled
 
 
 class Pages:

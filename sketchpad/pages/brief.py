@@ -184,8 +184,9 @@ def paint_sign_off(painter: QPainter, rect: QRectF) -> None:
 
 
 def paint_brief(painter: QPainter, page: QRectF, rig: Rig, result: Result, rig_dir: pathlib.Path | None = None,
-                when: str = "", source: str | None = None, page_text: str = "page 1 of 1") -> BriefLayout:
-    """The whole sheet into ``page`` (logical px, margins included)."""
+                when: str = "", source: str | None = None, page_text: str = "page 1 of 1", scan=None) -> BriefLayout:
+    """The whole sheet into ``page`` (logical px, margins included); ``scan``: a finished failure scan of ``rig``
+    solved as ``result`` (solver.failures.Scan) to draw, else the scan runs here."""
     from sketchpad.export import (DANGER_TEXT, MUTED, RULE, Drawing, key_strip_height, page_font, paint_key_strip,
                                   units_line, wrap_text)
     from solver.cautions import LIMITS_CAUTION, SHORT_CAUTION
@@ -200,7 +201,9 @@ def paint_brief(painter: QPainter, page: QRectF, rig: Rig, result: Result, rig_d
                    (f" · {pathlib.Path(source).name}" if source else ""), page_font(SMALL_PT), MUTED) + 4
     # the rig up close, with its key
     body_h = content.bottom() - FOOTER_H - SIGN_OFF_H - 60 - y
-    drawing = Drawing(rig, result, rig_dir, scan_failures=True)
+    drawing = Drawing(rig, result, rig_dir, scan_failures=scan is None)
+    if scan is not None and drawing.result.ok:
+        drawing.use_scan(scan)
     result = drawing.result  # person warnings named by the failure that puts them in a zone
     key_h = key_strip_height(w, drawing) + 6
     draw_h = max(body_h * DRAWING_FRACTION, 180.0)
@@ -250,8 +253,10 @@ def paint_brief(painter: QPainter, page: QRectF, rig: Rig, result: Result, rig_d
 
 
 def write_brief(rig: Rig, path: pathlib.Path | str, result: Result | None = None, rig_dir: pathlib.Path | None = None,
-                source: str | None = None, now: _dt.datetime | None = None, greyscale: bool = False) -> BriefLayout:
-    """Write the one-page briefing sheet PDF; ExportError in words when it cannot be written."""
+                source: str | None = None, now: _dt.datetime | None = None, greyscale: bool = False,
+                scan=None) -> BriefLayout:
+    """Write the one-page briefing sheet PDF (``scan``: the rig's failure scan made already, else it runs here);
+    ExportError in words when it cannot be written."""
     from sketchpad.export import ExportError, ensure_app, portrait_writer, require_pdf_name
 
     path = require_pdf_name(path, "a briefing sheet")
@@ -269,7 +274,8 @@ def write_brief(rig: Rig, path: pathlib.Path | str, result: Result | None = None
     try:
         painter.setRenderHints(QPainter.Antialiasing | QPainter.TextAntialiasing)
         when = (now or _dt.datetime.now()).strftime("%Y-%m-%d %H:%M")
-        return paint_brief(painter, QRectF(0, 0, writer.width(), writer.height()), rig, result, rig_dir, when, source)
+        return paint_brief(painter, QRectF(0, 0, writer.width(), writer.height()), rig, result, rig_dir, when, source,
+                           scan=scan)
     finally:
         painter.end()
 

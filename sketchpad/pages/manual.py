@@ -42,6 +42,8 @@ class Chapter:
     drawing: object = None
     failures: object = None  # the report's "If something lets go" section (sketchpad.report_failures)
     haul: object = None  # the report's haul plan page (sketchpad.haul_report), when there is a load to move
+    scan: object = None  # the failure scan made beforehand (the app's solve worker), else made when measured
+    solves: object = None  # the haul sweep and plan made beforehand (sketchpad.report.report_solves), else when measured
 
 
 @dataclass
@@ -98,18 +100,20 @@ def _measure(writer, content: QRectF, chapter: Chapter, when: str) -> None:
     Counting needs only the plot's height, so each layout tried is measured with a stand-in image
     and the sweep plot is rendered (matplotlib, the slow part) for the chosen layout alone."""
     from sketchpad.export import Drawing
-    from sketchpad.report import PAGES_WANTED, Flow, _compose, choose_layout, haul_sweep, plot_image, plot_stand_in
+    from sketchpad.report import PAGES_WANTED, Flow, _compose, choose_layout, plot_image, plot_stand_in, report_solves
 
-    from sketchpad.haul_report import add_haul_page, plan_for_report
+    from sketchpad.haul_report import add_haul_page
     from sketchpad.report_failures import failure_section
 
     chapter.drawing = Drawing(chapter.rig, chapter.result, chapter.rig_dir)
-    chapter.haul = plan_for_report(chapter.rig) if chapter.result.ok else None
-    chapter.failures = failure_section(chapter.rig, chapter.result)
+    if chapter.result.ok and chapter.solves is None:
+        chapter.solves = report_solves(chapter.rig)
+    chapter.haul = chapter.solves.haul if chapter.result.ok else None
+    chapter.failures = failure_section(chapter.rig, chapter.result, chapter.scan)
     if chapter.failures is not None:
         chapter.failures.draw_zones_on(chapter.drawing)
         chapter.result = chapter.drawing.result  # person warnings named by the failure that puts them there
-    table, drawn, words = haul_sweep(chapter.rig) if chapter.result.ok else (None, 0.0, "")
+    table, drawn, words = chapter.solves.sweep if chapter.result.ok else (None, 0.0, "")
     stand_in = plot_stand_in(chapter.rig, chapter.result, (table, drawn, words))
 
     def count(sizes: tuple[float, float]) -> int:

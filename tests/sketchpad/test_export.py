@@ -208,6 +208,7 @@ def test_file_menu_exports_drawing_and_report_to_the_chosen_paths(main_window, t
     assert "Drawing saved" in exports.last_message
     exports.ask_path = lambda *a: tmp_path / "menu-report"
     exports.action_report.trigger()
+    qtbot.waitUntil(lambda: not exports.busy, timeout=60000)  # the scan and sweep run on the solve worker
     assert (tmp_path / "menu-report.pdf").exists()
     assert "Report saved" in exports.last_message
 

@@ -81,11 +81,12 @@ def test_schematic_panel_shows_the_strands(raft_window, qtbot):
     assert len(view.layout_drawn.strands) == 5 and len(view.layout_drawn.sheaves) == 3
 
 
-def test_export_manual_writes_a_book_with_progress(raft_window, tmp_path):
+def test_export_manual_writes_a_book_with_progress(raft_window, tmp_path, qtbot):
     w = raft_window
     out = tmp_path / "book.pdf"
     others = [SAMPLES / "vector-pull.rig.json", SAMPLES / "compound-2on3.rig.json"]
     assert w.pages.books.export_manual(out, others) == out
+    qtbot.waitUntil(lambda: not w.exports.busy, timeout=120000)  # read, scanned and swept on the solve worker
     reader = pypdf.PdfReader(out)
     assert len(reader.pages) == w.pages.books.last_manual.pages
     seen = [d for d, _ in w.pages.books.progress_seen]
@@ -95,6 +96,7 @@ def test_export_manual_writes_a_book_with_progress(raft_window, tmp_path):
         assert title in contents
 
 
-def test_export_briefing_from_the_menu(raft_window, tmp_path):
+def test_export_briefing_from_the_menu(raft_window, tmp_path, qtbot):
     out = raft_window.pages.books.export_brief(tmp_path / "b.pdf")
+    qtbot.waitUntil(lambda: not raft_window.exports.busy, timeout=60000)
     assert out is not None and len(pypdf.PdfReader(out).pages) == 1
