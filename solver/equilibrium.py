@@ -120,6 +120,7 @@ def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True
         s = _compiled(rig, motion)
         if unstretched_m:
             s = with_unstretched(s, unstretched_m)
+        s.order_ref = None  # each solve starts from the drawing's pass order, never a former solve's (solver.pass_order)
     except RigModelError as exc:
         return Result(status="invalid", message=exc.message, subject=exc.subject or exc.where)
     motion = s.motion
