@@ -1,4 +1,5 @@
-"""Speed of one drag step on a 50-rope rig: preview + solve + overlay update + viewport repaint (offscreen).
+"""Speed of one drag step on a 50-rope rig, and on a boat tethered across a current: preview + solve + overlay
+update + viewport repaint (offscreen).
 
 Goal: p95 <= 16 ms (one frame at 60 Hz) on the 2-core CI machine.  During a drag the scheduler
 runs the equilibrium alone (``solver.equilibrium.solve``); the safety checks, zones and tables
@@ -38,10 +39,12 @@ def _p95(values: list[float]) -> float:
     return ordered[max(0, math.ceil(0.95 * len(ordered)) - 1)]
 
 
-def test_drag_step_on_a_50_rope_rig(benchmark, window):
+def measure_drag(benchmark, window, pid: str, place, title: str) -> None:
+    """Benchmark drag steps of point ``pid`` to ``place(i)`` (site metres, step ``i``), each one preview + solve as a
+    drag + synchronous repaint, as the select tool and the scheduler do; assert the drag path was measured and the
+    labels show the last step's result; print and store the p95 of the rounds and each part's median."""
     doc, sched, view = window.document, window.live.scheduler, window.view
     base = doc.rig
-    h = base.point("H4")
     step = {"i": 0}
     parts: dict[str, list[float]] = {"preview": [], "fire": [], "repaint": []}
     # every step counts as part of one drag (changes closer than the settle time), as at 60 Hz
@@ -49,9 +52,8 @@ def test_drag_step_on_a_50_rope_rig(benchmark, window):
 
     def drag_step():
         step["i"] += 1
-        a = step["i"] * 0.15
         t0 = time.perf_counter()
-        doc.preview(base.moved("H4", h.x + 1.5 * math.sin(a), h.y + 1.5 * math.cos(a)))  # what the select tool does
+        doc.preview(base.moved(pid, *place(step["i"])))  # what the select tool does
         t1 = time.perf_counter()
         sched._change_gap_ms = 1.0  # changes streaming, as at 60 Hz (a slow step on a busy machine stays a drag)
         sched.fire()  # what the coalescing timer does (a drag: equilibrium now, checks once still)
@@ -80,4 +82,26 @@ def test_drag_step_on_a_50_rope_rig(benchmark, window):
         for name, values in parts.items():  # warm-up rounds included; the medians barely notice
             benchmark.extra_info[f"{name}_median_ms"] = round(statistics.median(values) * 1e3, 2)
             benchmark.extra_info[f"{name}_p95_ms"] = round(_p95(values) * 1e3, 2)
-        print("\ndrag step on 50 ropes (ms): " + ", ".join(f"{k} {v}" for k, v in benchmark.extra_info.items()))
+        print(f"\n{title} (ms): " + ", ".join(f"{k} {v}" for k, v in benchmark.extra_info.items()))
+
+
+def test_drag_step_on_a_50_rope_rig(benchmark, window):
+    h = window.document.rig.point("H4")
+
+    def place(i: int) -> tuple[float, float]:
+        a = i * 0.15
+        return h.x + 1.5 * math.sin(a), h.y + 1.5 * math.cos(a)
+
+    measure_drag(benchmark, window, "H4", place, "drag step on 50 ropes")
+
+
+def test_drag_frame_on_a_boat_across_a_current(benchmark, water_window):
+    """Issue 20's frame budget: on a 30 m rope across a 2 m/s current with a tethered boat
+    (``test_bench_water.boat_across_the_current``), its far bank anchor dragged to and fro along the bank;
+    each frame solves the bowed rope (hidden points) and draws the bows, the overlay and the still arrows."""
+    c = water_window.document.rig.point("C")
+    measure_drag(benchmark, water_window, "C", lambda i: (c.x + 1.5 * math.sin(0.15 * i), c.y),
+                 "drag frame, boat across a current")
+    water = water_window.live.overlay.water_item
+    live = [it for kind, it in water_window.view.drag_layer._steps if kind == "live"]
+    assert water.bows.marks.lines and water not in live  # the arrows stay in the still image
