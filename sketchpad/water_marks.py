@@ -80,8 +80,9 @@ def marks_bounds(marks: Marks, m_per_px: float, fm: QFontMetricsF | None = None)
     return QRectF(x0, y0, x1 - x0, y1 - y0)
 
 
-def paint_marks(painter: QPainter, marks: Marks, polygons: list[QPolygonF]) -> None:
-    """Draw ``marks`` (``polygons``: its lines as QPolygonFs, in order) with ``painter`` in scene metres."""
+def paint_marks(painter: QPainter, marks: Marks, polygons: list[QPolygonF], font=None) -> None:
+    """Draw ``marks`` (``polygons``: its lines as QPolygonFs, in order; ``font``: :func:`text_font`, made here when
+    not given) with ``painter`` in scene metres."""
     t = painter.worldTransform()
     k = 1.0 / math.sqrt(abs(t.m11() * t.m22() - t.m12() * t.m21()) or 1.0)  # metres per pixel
     painter.setRenderHint(QPainter.Antialiasing)
@@ -101,7 +102,7 @@ def paint_marks(painter: QPainter, marks: Marks, polygons: list[QPolygonF]) -> N
         painter.setPen(theme.cosmetic_pen(colour, width))
         painter.drawPolyline(poly)
     if marks.texts:
-        painter.setFont(text_font())
+        painter.setFont(font or text_font())
         fm = painter.fontMetrics()
         for text, (x, y), colour in marks.texts:
             painter.save()
@@ -130,6 +131,8 @@ class MarkItem(Versioned, QGraphicsItem):
         self._polygons: list[QPolygonF] = []
         self._m_per_px = 0.05
         self._bounds = QRectF()
+        self._font = text_font()  # made once: a font is slow to make
+        self._fm = QFontMetricsF(self._font)  # the texts' metrics, for the rect
 
     @property
     def m_per_px(self) -> float:
@@ -152,7 +155,7 @@ class MarkItem(Versioned, QGraphicsItem):
 
     def _refresh(self) -> None:
         self.prepareGeometryChange()
-        self._bounds = marks_bounds(self.marks, self._m_per_px)
+        self._bounds = marks_bounds(self.marks, self._m_per_px, self._fm)
         self.update()
 
     def boundingRect(self) -> QRectF:  # noqa: N802
@@ -162,4 +165,4 @@ class MarkItem(Versioned, QGraphicsItem):
         return QPainterPath()  # never hit: the sketch underneath takes the clicks
 
     def paint(self, painter: QPainter, option, widget=None) -> None:
-        paint_marks(painter, self.marks, self._polygons)
+        paint_marks(painter, self.marks, self._polygons, self._font)
