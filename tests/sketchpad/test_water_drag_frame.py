@@ -20,7 +20,8 @@ from PySide6.QtWidgets import QApplication, QGraphicsScene
 from sketchpad.drag_layer import Tracked, item_version, paint_item
 from sketchpad.water_layer import WaterItem, field_marks
 from solver.equilibrium import solve
-from solver.model import Feature, Flow, Material, Pass, Point, Rig, Rigging, Rope, Site
+from solver.model import Rig
+from tests.bench.test_bench_water import boat_across_the_current
 from tests.sketchpad.test_drag_bookkeeping import check_against_full_scan, fresh_stack
 from tests.sketchpad.test_drag_damage import assert_screen_fresh
 from tests.sketchpad.test_drag_layer import assert_same, frame
@@ -172,14 +173,11 @@ def test_a_render_after_a_drag_equals_a_fresh_render_pixel_by_pixel(main_window,
 
 
 def small_crossing() -> Rig:
-    """A 12 m rope across a 2 m/s current with a tethered boat, compact enough to paint at 100 px/m (demo data)."""
-    water = Feature(id="W", kind="water", polygon=((-6, -4), (6, -4), (6, 4), (-6, 4)), flow=Flow(2.0, 90.0))
-    rope = Material(id="r11", kind="rope", mbs_N=30000.0, stretch=((1000.0, 0.012), (10000.0, 0.04)),
-                    diameter_m=0.011)
-    return Rig(points=(Point("A", "anchor", 0, 6), Point("C", "anchor", 0, -6),
-                       Point("B", "point", 0, 0, wetted_area_m2=0.3, drag_shape="hull-side-on")),
-               ropes=(Rope("R", "r11", (Pass("A"), Pass("B"), Pass("C")), rigged=Rigging(pretension_N=200.0)),),
-               materials=(rope,), site=Site(features=(water,)))
+    """The benchmark's boat across a current (``test_bench_water``) shrunk to a 12 m crossing, compact enough to
+    paint at 100 px/m (demo data)."""
+    rig = boat_across_the_current().moved("A", 0.0, 6.0).moved("C", 0.0, -6.0)
+    water = replace(rig.site.features[0], polygon=((-6, -4), (6, -4), (6, 4), (-6, 4)))
+    return replace(rig, site=replace(rig.site, features=(water,)))
 
 
 @pytest.mark.parametrize("m_per_px", [0.01, 0.05, 0.4, 3.0])
