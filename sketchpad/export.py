@@ -31,7 +31,6 @@ from typing import Iterable
 from PySide6.QtCore import QMarginsF, QPointF, QRectF, QSize, Qt
 from PySide6.QtGui import (
     QColor,
-    QFont,
     QFontMetricsF,
     QImage,
     QLinearGradient,
@@ -45,6 +44,7 @@ from sketchpad import theme
 from sketchpad.glyphs import paint_north_arrow
 from sketchpad.messages import failure_sentence
 from sketchpad.pages.framing import Fit
+from sketchpad.pages.wrapped_text import wrap_text
 from sketchpad.short_text import drawn
 from solver.model import Rig
 from solver.result import Result
@@ -329,18 +329,6 @@ def print_force_item():
 
 # --- page furniture ------------------------------------------------------------------------
 page_font = theme.page_font  # a fresh copy of the app's face at a size in points, for drawings and reports
-
-
-def wrap_text(painter: QPainter, rect: QRectF, text: str, font: QFont, colour: QColor = INK,
-              align=Qt.AlignLeft, draw: bool = True) -> float:
-    """Draw ``text`` word-wrapped in ``rect``'s width from its top; returns the height used (px)."""
-    painter.setFont(font)
-    flags = int(align) | int(Qt.AlignTop) | int(Qt.TextWordWrap)
-    bound = painter.boundingRect(QRectF(rect.left(), rect.top(), rect.width(), 100000.0), flags, text)
-    if draw:
-        painter.setPen(colour)
-        painter.drawText(QRectF(rect.left(), rect.top(), rect.width(), bound.height() + 2), flags, text)
-    return bound.height()
 
 
 def paint_scale_bar(painter: QPainter, left: QPointF, length_m: float, px_per_m: float, unit: str) -> float:

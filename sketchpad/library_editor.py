@@ -134,6 +134,15 @@ class _SpecForm(QWidget):
     def fields(self) -> list[QuantityField]:
         return [self.id_field, self.label, self.source]
 
+    def _show_common(self, spec: Material | Hardware) -> None:
+        """Every field's error cleared, and the id, kind, label and source of ``spec`` shown."""
+        for f in self.fields():
+            f.clear_error()
+        self.id_field.set_value(spec.id)
+        self.kind.setCurrentText(spec.kind)
+        self.label.set_value(spec.label)
+        self.source.set_value(spec.source)
+
     def read(self, field: QuantityField):
         """The value typed in ``field``; UnitError (also shown under the field) if it cannot be read."""
         try:
@@ -196,12 +205,7 @@ class MaterialForm(_SpecForm):
         self.table.setHorizontalHeaderLabels([f"Tension ({self.force_unit()})", "Strain (%)"])
 
     def show_spec(self, m: Material) -> None:
-        for f in self.fields():
-            f.clear_error()
-        self.id_field.set_value(m.id)
-        self.kind.setCurrentText(m.kind)
-        self.label.set_value(m.label)
-        self.source.set_value(m.source)
+        self._show_common(m)
         self.diameter.set_value(m.diameter_mm)
         self.mbs.set_value(m.mbs_N)
         self._extra = dict(m.extra)
@@ -375,12 +379,7 @@ class HardwareForm(_SpecForm):
         return super().fields() + [self.efficiency, self.friction, self.mbs, self.size, self.slip]
 
     def show_spec(self, h: Hardware) -> None:
-        for f in self.fields():
-            f.clear_error()
-        self.id_field.set_value(h.id)
-        self.kind.setCurrentText(h.kind)
-        self.label.set_value(h.label)
-        self.source.set_value(h.source)
+        self._show_common(h)
         self.efficiency.set_value(h.efficiency)
         self.friction.set_value(h.friction_coefficient)
         self.mbs.set_value(h.mbs_N)

@@ -46,7 +46,7 @@ def collector_paused() -> Iterator[None]:
 
 
 def plain_data_ok(d: Any, duplicate: object) -> bool:
-    """True when ``rigfile._check_plain_data`` has nothing to say about ``d`` (no paths kept: fast).
+    """True when ``rigfile_precheck._check_plain_data`` has nothing to say about ``d`` (no paths kept: fast).
 
     Every number finite and within float range, every text valid Unicode, no object holding
     the ``duplicate`` marker key (a key given twice), nothing but the types JSON makes.

@@ -59,7 +59,7 @@ from shapely.geometry import LineString, Point as ShPoint, Polygon
 from shapely.geometry.base import BaseGeometry
 
 from solver.capture_checks import check_captures
-from solver.danger import DangerZone, Piece, danger_zones, pieces, positions
+from solver.danger import QUICK_ESTIMATE_NOTE, DangerZone, Piece, danger_zones, pieces, positions
 from solver.errors import RopewrightError
 from solver.hauling import haulers_needed
 from solver.pull_needed import check_short
@@ -288,10 +288,12 @@ def check_ropes(rig: Rig, result: Result, pcs: Iterable[Piece] | None = None) ->
 def pass_loads(rig: Rig, result: Result) -> list[tuple[str, int, str, float]]:
     """Force (N) on the hardware at each pass that has hardware: (rope id, pass index, point id, |F|).
 
-    F is the vector sum of the pieces meeting there, each pulling toward its far end.
+    F is the vector sum of the pieces meeting there, each pulling toward its far end (a rope bowed by the
+    current pulls along its bow, toward the next point of its solved polyline).
     """
     pos = positions(rig, result)
     tens = {(s.rope, s.index): float(s.tension_N) for s in result.segments}
+    bows = {(w.rope, w.index): w.polyline for w in result.water.ropes} if result.water is not None else {}
     out = []
     for rope in rig.ropes:
         n = len(rope.path)
@@ -306,7 +308,9 @@ def pass_loads(rig: Rig, result: Result) -> list[tuple[str, int, str, float]]:
                 far = rope.path[other].at
                 if far not in pos:
                     continue
-                d = np.asarray(pos[far]) - here
+                bow = bows.get((rope.id, piece))
+                toward = (bow[-2] if piece < k else bow[1]) if bow and len(bow) > 2 else pos[far]
+                d = np.asarray(toward) - here
                 nd = float(np.hypot(*d))
                 if nd > 0:
                     f += tens[(rope.id, piece)] * d / nd
@@ -666,8 +670,6 @@ def check_people(rig: Rig, result: Result, zones: list[DangerZone] | None = None
 
 def person_zone_warning(rig: Rig, pid: str, z: DangerZone) -> Warning_:
     """The warning for person ``pid`` inside zone ``z``; a fixed bight shape says it is the quick estimate."""
-    from solver.scan_warnings import QUICK_ESTIMATE_NOTE
-
     if z.kind == "bight":
         text = (f"{_name(rig, pid)} stands in the {z.label}: if the redirect or its anchor fails, the pulley and "
                 f"rope fly through there ({QUICK_ESTIMATE_NOTE}). Move out of it.")

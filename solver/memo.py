@@ -22,7 +22,8 @@ Every cache here is bounded, holds immutable values (or values its users never c
 safe under threads: a lock guards each read-modify-write, and a value is looked up and used from a
 local snapshot, so another thread's replacement can cost a reuse but never give a wrong value.
 Each is tested equal to a fresh computation (tests/solver/test_record_reuse.py, test_recompile.py,
-test_threads.py).  :func:`forget_all` empties every one (tests, and a fresh start).
+test_threads.py).  :func:`forget_all` empties every one (tests, and a fresh start); :func:`stats`
+tells their sizes and how solves were served, so tests check behaviour without reading the contents.
 """
 
 from __future__ import annotations
@@ -160,12 +161,32 @@ class LastRows:
         self._last = None
 
 
+class Tally:
+    """How often each way of getting a value was taken, by name; thread-safe (read through :func:`stats`)."""
+
+    def __init__(self) -> None:
+        self._counts: dict[str, int] = {}
+        self._lock = threading.Lock()
+
+    def add(self, what: str) -> None:
+        with self._lock:
+            self._counts[what] = self._counts.get(what, 0) + 1
+
+    def counts(self) -> dict[str, int]:
+        with self._lock:
+            return dict(self._counts)
+
+
 #: Stretch curves of recently compiled materials, by stretch table (a curve is never modified).
 CURVES = Bounded(64)
 #: Index arrays of recently compiled structures (solver.structure.finish_topology), by structure key.
 TOPOLOGIES = Bounded(16)
 #: (rig, motion, System, Topology) of the last rigs this thread solved (solver.equilibrium).
 COMPILED = PerThreadRecent(4)
+#: How each solve got its System (solver.equilibrium): "same rig" (this thread solved that Rig object last),
+#: "same structure" (geometry rebuilt on kept index arrays: a drag step), "new forces" (forces rebuilt too: a
+#: force slider), "compiled" (compiled afresh).  Counted since the process started; forget_all leaves it.
+SYSTEM_SOURCES = Tally()
 #: Per structure: the points of each part gathered for its size (solver.structure.component_sizes).
 SIZE_GROUPS = LastOf()
 #: Per structure (its tangent pattern): {part: PartPattern} (solver.tangent.part_pattern).
@@ -197,3 +218,16 @@ def forget_all() -> None:
         cache.clear()
     SIZE_GROUPS.forget()
     PART_PATTERNS.forget()
+
+
+def stats() -> dict[str, Any]:
+    """What is remembered now and how it served: ``sizes`` maps each bounded cache to (entries, limit) (the
+    compiled Systems: this thread's), ``systems`` counts how solves got their System (:data:`SYSTEM_SOURCES`).
+
+    For tests and diagnostics: they read the caches' behaviour here, never the caches' contents.
+    """
+    return {
+        "sizes": {"curves": (len(CURVES), CURVES.size), "topologies": (len(TOPOLOGIES), TOPOLOGIES.size),
+                  "compiled": (len(COMPILED), COMPILED.size)},
+        "systems": SYSTEM_SOURCES.counts(),
+    }

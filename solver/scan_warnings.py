@@ -13,12 +13,10 @@ from __future__ import annotations
 
 from dataclasses import replace
 
+from solver.danger import QUICK_ESTIMATE_NOTE  # noqa: F401 - its wording, named here too
 from solver.model import Rig
 from solver.result import Result, Warning_
 
-#: What the quick (fixed-shape) zones are, and where the computed ones are: one wording for CLI, dock and pages.
-QUICK_ESTIMATE_NOTE = ("quick estimate from a fixed shape, not computed: `ropewright failures` (or the What if "
-                       "dock) lets each component go and shows where things actually fly")
 
 
 def quick_bight_warnings(rig: Rig, result: Result) -> list[Warning_]:

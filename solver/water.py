@@ -11,8 +11,11 @@ How it works (plan view only; the elevation view has no current):
   tension straight through up to the tangential share of the lumped drag, which the cross-flow
   principle neglects.  This is the lumped-mass cable of the textbooks (Irvine, Cable Structures, ch. 1):
   equal lumped loads on a string put its nodes on the funicular curve of the distributed load.
-* A wet piece of a longer run (through a pulley or an edge) stays straight: its drag is split
-  between its two ends by the lever rule and a warning says so.
+* A wet piece of a longer run (through a pulley or an edge) is cut the same way, but the rope slides
+  through its hidden points: the run is cut into parts at them, the parts together keep the run's
+  rope and hand it between them after each solve so that every hidden point stays at its share of the
+  wet rope, and the drag at a hidden point is normal to the rope, so the tension is the same on both
+  sides of it (``solver.water_slide``).
 * The drag on a segment follows the segment's direction, so the rig is solved, the drag updated from
   the solved directions and the rig solved again (warm) until the drag used and the drag of the
   solved geometry agree to the solver's tolerance; the reported residual includes that mismatch.
@@ -25,7 +28,7 @@ from __future__ import annotations
 
 import logging
 import math
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from typing import Callable, Mapping
 
 import numpy as np
@@ -35,6 +38,7 @@ from solver.model import Force, Pass, Point, Rig, Rope, Site
 from solver.result import Result, Warning_
 from solver.water_forces import HIDDEN, _drag_forces, _scale
 from solver.water_site import FlowField, flow_field
+from solver.water_slide import MESH_REL, cut_run, remesh, start_mesh, warm_lengths
 
 log = logging.getLogger(__name__)
 
@@ -80,17 +84,8 @@ class _Chain:
     sub_ropes: tuple[str, ...]
     diameter_m: float
     wet: tuple[tuple[float, float], ...]  # wet intervals of the drawn piece
-
-
-@dataclass(frozen=True)
-class _Lumped:
-    """A wet piece left straight (part of a run through a pulley or edge): drag split to its ends."""
-
-    rope: str
-    piece: int
-    a: str
-    b: str
-    diameter_m: float
+    sliding: bool = False  # a piece of a run through a pulley or edge (solver.water_slide)
+    parts: tuple[tuple[str, int], ...] = ()  # (augmented rope, its piece index) of each segment, in order
 
 
 @dataclass
@@ -99,10 +94,15 @@ class _Plan:
 
     rig: Rig  # augmented, hidden points on their chords, no site features
     chains: list[_Chain]
-    lumped: list[_Lumped]
     rope_map: dict[str, tuple[str, int, int]]  # augmented rope id -> (user rope, piece offset, run; -1 kept)
     notes: list[Warning_]
     wet_bodies: list[Point]
+    sliding_parts: set[str] = field(default_factory=set)  # augmented ropes of the cut sliding runs
+    slide_groups: list[tuple[tuple[str, ...], bool]] = field(default_factory=list)  # per run: kept parts, hauled
+
+    @property
+    def sliding(self) -> list[_Chain]:
+        return [c for c in self.chains if c.sliding]
 
 
 def _hidden_id(rope: str, piece: int, j: int) -> str:
@@ -138,9 +138,10 @@ def _plan(rig: Rig, ff: FlowField) -> _Plan:
     ropes: list[Rope] = []
     hidden_points: list[Point] = []
     chains: list[_Chain] = []
-    lumped: list[_Lumped] = []
     rope_map: dict[str, tuple[str, int]] = {}
     notes: list[Warning_] = []
+    sliding_parts: set[str] = set()
+    slide_groups: list[tuple[tuple[str, ...], bool]] = []
     for rope in rig.ropes:
         try:
             mat = material_for(rig, rope.material)
@@ -148,6 +149,7 @@ def _plan(rig: Rig, ff: FlowField) -> _Plan:
         except Exception:  # noqa: BLE001 - an unknown material is the solver's error to name
             diameter = None
         cut_runs: dict[int, tuple[float, ...]] = {}
+        slide: dict[int, dict[int, tuple[float, ...]]] = {}  # run -> wet piece -> hidden fractions
         for run in rope.runs():
             for k in run.piece_indices:
                 a, b = pts.get(rope.path[k].at), pts.get(rope.path[k + 1].at)
@@ -165,19 +167,29 @@ def _plan(rig: Rig, ff: FlowField) -> _Plan:
                     cut_runs[k] = tuple(_fractions(wet, math.dist(a.xy, b.xy)))
                     chains.append(_Chain(rope.id, k, run.index, a.id, b.id, cut_runs[k], (), (), diameter,
                                          tuple(wet)))
-                else:
-                    lumped.append(_Lumped(rope.id, k, a.id, b.id, diameter))
-                    notes.append(Warning_("rope-drag-straight", rope.id,
-                                          f'rope "{rope.name}" between {a.name} and {b.name} runs through a pulley '
-                                          f'or edge and crosses moving water: its drag is carried to its two ends '
-                                          f'and the piece is drawn straight (its bow is not modelled)', "info"))
-        if not cut_runs:
+                else:  # a piece of a run through pulleys or edges: cut too, the rope sliding (water_slide)
+                    ts = tuple(_fractions(wet, math.dist(a.xy, b.xy)))
+                    slide.setdefault(run.index, {})[k] = ts
+                    chains.append(_Chain(rope.id, k, run.index, a.id, b.id, ts, (), (), diameter, tuple(wet),
+                                         sliding=True))
+        if not cut_runs and not slide:
             ropes.append(rope)
             rope_map[rope.id] = (rope.id, 0, -1)
             continue
         for run in rope.runs():  # one rope per run (a tied pass fixes the rope there: the same rope)
             k = run.first
-            if k in cut_runs:
+            if run.index in slide:
+                cut = cut_run(rope, run, pts, slide[run.index], _hidden_id, HIDDEN)
+                ropes.extend(cut.ropes)
+                hidden_points.extend(cut.points)
+                rope_map.update(cut.rope_map)
+                sliding_parts.update(r.id for r in cut.ropes)
+                slide_groups.append((tuple(r.id for r in cut.ropes if r.id != cut.hauled_part),
+                                     cut.hauled_part is not None))
+                for piece, (hid, parts) in cut.pieces.items():
+                    i = next(i for i, c in enumerate(chains) if c.rope == rope.id and c.piece == piece)
+                    chains[i] = replace(chains[i], hidden=hid, parts=parts)
+            elif k in cut_runs:
                 ts = cut_runs[k]
                 a, b = pts[rope.path[k].at], pts[rope.path[k + 1].at]
                 hid = tuple(_hidden_id(rope.id, k, j) for j in range(len(ts)))
@@ -200,7 +212,7 @@ def _plan(rig: Rig, ff: FlowField) -> _Plan:
                                       label=rope.name, extra=rope.extra))
                     rope_map[sid] = (rope.id, k, run.index)
                 i = next(i for i, c in enumerate(chains) if c.rope == rope.id and c.piece == k)
-                chains[i] = replace(chains[i], hidden=hid, sub_ropes=tuple(subs))
+                chains[i] = replace(chains[i], hidden=hid, sub_ropes=tuple(subs), parts=tuple((s, 0) for s in subs))
             else:
                 rid = f"{HIDDEN}{rope.id}~r{run.index}"
                 ropes.append(Rope(id=rid, material=rope.material, path=rope.path[run.first:run.last + 1],
@@ -210,7 +222,7 @@ def _plan(rig: Rig, ff: FlowField) -> _Plan:
               or (p.wetted_area_m2 and p.drag_shape and not p.is_fixed)]
     aug = replace(rig, points=rig.points + tuple(hidden_points), ropes=tuple(ropes),
                   site=Site(image=None, features=(), extra={}))
-    return _Plan(aug, chains, lumped, rope_map, notes, bodies)
+    return _Plan(aug, chains, rope_map, notes, bodies, sliding_parts, slide_groups)
 
 
 def _positions(result: Result, plan: _Plan, base: Mapping[str, tuple[float, float]]) -> dict[str, tuple[float, float]]:
@@ -248,25 +260,29 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
     result = None
     gap = math.inf
     iterations = 0
+    mesh = start_mesh(plan.rig, plan.sliding_parts, motion)  # the sliding runs' cut parts (water_slide)
+    if start:
+        warm_lengths(mesh, _LAST_BOW.mesh(), plan.slide_groups)
     for rounds in range(1, MAX_ROUNDS + 1):
-        result = solve(_with_forces(plan, forces), start=warm, motion=motion, ideal=False)
+        result = solve(_with_forces(plan, forces), start=warm, motion=motion, ideal=False, **mesh.kwargs())
         iterations += result.iterations
         log.debug("round %d: %d iterations, %s", rounds, result.iterations, result.status)
         if not result.points or result.status not in ("ok", "diverged"):
             break
         at = _positions(result, plan, at)
+        spacing = remesh(mesh, plan.sliding, result.segments, at)  # moves hidden points only when off their shares
         new, _ = _drag_forces(plan, ff, at)
         gap = _mismatch(forces, new, fixed)
         forces = new
         warm = at
-        if gap <= ROUND_REL * _scale(rig, forces, result):
+        if gap <= ROUND_REL * _scale(rig, forces, result) and spacing <= MESH_REL:
             break
     if ideal and result is not None and result.ok and result.ma_ideal is None:
         # friction acts: the frictionless re-solve behind the ideal MA, once, with the settled drag
-        ma_ideal = solve(_with_forces(plan, forces), start=at, motion=motion, ideal=True).ma_ideal
+        ma_ideal = solve(_with_forces(plan, forces), start=at, motion=motion, ideal=True, **mesh.kwargs()).ma_ideal
         result = replace(result, ma_ideal=ma_ideal)
     if result is not None and result.ok:
-        _LAST_BOW.keep(plan, at)
+        _LAST_BOW.keep(plan, at, mesh.lengths)
     result = replace(result, iterations=iterations)
     return _mapped(rig, plan, ff, result, forces, gap, rounds)
 
@@ -285,15 +301,24 @@ class _BowMemo:
 
         self._lock = threading.Lock()
         self._bows: dict[tuple[str, int], tuple[np.ndarray, np.ndarray]] = {}
+        self._lengths: dict[str, float] = {}  # unstretched length of each cut part of a sliding run, m
 
-    def keep(self, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> None:
+    def keep(self, plan: _Plan, at: Mapping[str, tuple[float, float]], lengths: Mapping[str, float]) -> None:
         with self._lock:
             if len(self._bows) > 64:
                 self._bows.clear()
+            if len(self._lengths) > 1024:
+                self._lengths.clear()
+            self._lengths.update(lengths)
             for c in plan.chains:
                 a, b = np.array(at[c.a]), np.array(at[c.b])
                 nodes = np.array([at[h] for h in c.hidden])
                 self._bows[(c.rope, c.piece)] = (np.array(c.ts), nodes - (a + np.outer(c.ts, b - a)))
+
+    def mesh(self) -> dict[str, float]:
+        """The kept lengths of the sliding runs' cut parts (a copy)."""
+        with self._lock:
+            return dict(self._lengths)
 
     def start(self, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> dict[str, tuple[float, float]]:
         out: dict[str, tuple[float, float]] = {}

@@ -44,3 +44,23 @@ def body_drag(velocity: np.ndarray, area_m2: float, shape: str, rho: float = FRE
     """Drag force (N, 2-vector) on a body of wetted area ``area_m2`` and drag-table ``shape`` in ``velocity`` m/s."""
     v = np.asarray(velocity, dtype=float)
     return 0.5 * rho * DRAG_SHAPES[shape].cd * area_m2 * float(np.hypot(v[0], v[1])) * v
+
+
+def bend_normal_shares(nodes: np.ndarray, seg_force: np.ndarray) -> np.ndarray:
+    """:func:`node_shares` with each inner node's share made normal to the rope there (N, (n+1, 2)).
+
+    The rope's direction at an inner node is the bisector of its two segments; the cross-flow drag has no
+    part along the rope, so the part of the lumped share along that bisector (a discretisation remainder,
+    of the order of the share times the bend) is left out: the rope bends freely through the node and its
+    tension is the same on both sides.  The end nodes keep their whole shares.
+    """
+    out = node_shares(seg_force)
+    seg = np.diff(nodes, axis=0)
+    length = np.hypot(seg[:, 0], seg[:, 1])
+    u = seg / np.where(length > 0, length, 1.0)[:, None]
+    t = u[:-1] + u[1:]
+    norm = np.hypot(t[:, 0], t[:, 1])
+    t = t / np.where(norm > 0, norm, 1.0)[:, None]
+    inner = out[1:-1]
+    out[1:-1] = inner - (inner * t).sum(axis=1)[:, None] * t
+    return out

@@ -9,7 +9,7 @@ import numpy as np
 
 from solver.model import Rig
 from solver.result import Result
-from solver.water_drag import body_drag, node_shares, rope_drag
+from solver.water_drag import bend_normal_shares, body_drag, node_shares, rope_drag
 from solver.water_site import FlowField
 
 #: Mismatch accepted, times the force scale (equilibrium.ACCEPT_REL).
@@ -34,7 +34,7 @@ def _drag_forces(plan: Any, ff: FlowField, at: Mapping[str, tuple[float, float]]
         seg = np.diff(nodes, axis=0)
         for c, i0, i1 in zip(plan.chains, bounds[:-1], bounds[1:]):
             seg_f = rope_drag(nodes[i0:i1], vel[i0:i1 - 1], c.diameter_m)
-            shares = node_shares(seg_f)
+            shares = bend_normal_shares(nodes[i0:i1], seg_f) if c.sliding else node_shares(seg_f)
             for pid, f in zip(ids[i0:i1], shares):
                 old = forces.get(pid)
                 forces[pid] = f if old is None else old + f
@@ -45,15 +45,6 @@ def _drag_forces(plan: Any, ff: FlowField, at: Mapping[str, tuple[float, float]]
         old = forces.get(pid)
         forces[pid] = f if old is None else old + f
 
-    for lp in plan.lumped:
-        a, b = np.array(at[lp.a]), np.array(at[lp.b])
-        wet = ff.wet_intervals(tuple(a), tuple(b))
-        for t0, t1 in wet:
-            p0, p1 = a + (b - a) * t0, b + (b - a) * (t1 - 1)
-            f = rope_drag(np.array([p0, p1]), ff.velocity_at(0.5 * (p0 + p1)), lp.diameter_m)[0]
-            tm = 0.5 * (t0 + t1)
-            add(lp.a, (1 - tm) * f)
-            add(lp.b, tm * f)
     for p in plan.wet_bodies:
         add(p.id, body_drag(ff.velocity_at(np.array(at[p.id]))[0], float(p.wetted_area_m2), str(p.drag_shape)))
     return forces, chain_info

@@ -15,6 +15,7 @@ from typing import Mapping
 
 import numpy as np
 
+from solver.failure_rig import pass_key
 from solver.records import anchor_record
 from solver.result import Result, SegmentResult, record
 from solver.water_drag import body_drag
@@ -57,13 +58,14 @@ def _told(rig, plan, text: str) -> str:
 
 
 def _segments(rig, plan, aug: Result) -> tuple[list[SegmentResult], dict]:
-    subs = {sid: c for c in plan.chains for sid in c.sub_ropes}
-    by_chain: dict[tuple[str, int], list[SegmentResult]] = {}
+    part_of = {key: ((c.rope, c.piece), j) for c in plan.chains for j, key in enumerate(c.parts)}
+    found: dict[tuple[str, int], list[tuple[int, SegmentResult]]] = {}
     out: list[SegmentResult] = []
     for seg in aug.segments:
         user, offset, run = plan.rope_map.get(seg.rope, (seg.rope, 0, -1))
-        if seg.rope in subs:
-            by_chain.setdefault((user, offset), []).append(seg)
+        chain = part_of.get((seg.rope, seg.index))
+        if chain is not None:  # a segment of a cut piece, in its place along the piece
+            found.setdefault(chain[0], []).append((chain[1], seg))
             continue
         if run < 0:
             out.append(seg)
@@ -71,6 +73,7 @@ def _segments(rig, plan, aug: Result) -> tuple[list[SegmentResult], dict]:
             out.append(record(SegmentResult, rope=user, index=seg.index + offset, from_point=seg.from_point,
                               to_point=seg.to_point, tension_N=seg.tension_N, length_m=seg.length_m,
                               strain=seg.strain, utilization=seg.utilization, run=run))
+    by_chain = {key: [seg for _, seg in sorted(parts, key=lambda p: p[0])] for key, parts in found.items()}
     for c in plan.chains:
         parts = by_chain.get((c.rope, c.piece), [])
         if not parts:
@@ -104,7 +107,7 @@ def _deflections(rig, plan, aug: Result, at: Mapping[str, tuple[float, float]]) 
             nu, nw = float(np.hypot(*u)), float(np.hypot(*w))
             if nu > 0 and nw > 0:
                 c = float(np.dot(u, w)) / (nu * nw)
-                turns[f"{rope.id}@{rope.path[k].at}"] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
+                turns[pass_key(rope, k)] = math.degrees(math.acos(max(-1.0, min(1.0, c))))
     return turns
 
 
@@ -128,16 +131,6 @@ def _wet_ropes(plan, ff, at, by_chain, segments: list[SegmentResult]) -> list[We
         out.append(WetRope(c.rope, c.piece, c.a, c.b, tuple(map(tuple, nodes.tolist())), i0, i1,
                            tens[min(i0, len(tens) - 1)], tens[min(max(i1 - 1, 0), len(tens) - 1)],
                            float(np.hypot(*f)), float(f[0]), float(f[1]), True, sag))
-    for lp in plan.lumped:
-        a, b = np.array(at[lp.a]), np.array(at[lp.b])
-        total = np.zeros(2)
-        from solver.water_drag import rope_drag
-        for t0, t1 in ff.wet_intervals(tuple(a), tuple(b)):
-            p0, p1 = a + (b - a) * t0, a + (b - a) * t1
-            total += rope_drag(np.array([p0, p1]), ff.velocity_at(0.5 * (p0 + p1)), lp.diameter_m)[0]
-        t = next((s.tension_N for s in segments if s.rope == lp.rope and s.index == lp.piece), 0.0)
-        out.append(WetRope(lp.rope, lp.piece, lp.a, lp.b, (tuple(a), tuple(b)), 0, 1, t, t,
-                           float(np.hypot(*total)), float(total[0]), float(total[1]), False, 0.0))
     return out
 
 

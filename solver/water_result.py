@@ -28,7 +28,7 @@ class WetRope:
     drag_N: float  # the water's push on the whole piece, N (resultant of the segment drags)
     drag_x_N: float
     drag_y_N: float
-    bowed: bool  # False: a piece of a longer run, drawn straight, drag carried to its ends
+    bowed: bool  # cut and bowed by the solver (every wet piece with a rope diameter is, through pulleys too)
     sag_m: float  # largest distance of the rope from its chord, m
 
     def to_json(self) -> dict[str, Any]:

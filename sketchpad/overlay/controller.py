@@ -71,12 +71,20 @@ class ResultOverlay(QObject):
         self._name_box_of = PerPoint(self._name_box)  # name box of each point of the last rig
         self._markers_for: tuple = (None, None, [])  # (rig.points, result, markers) of the last call
         self._pos: tuple = (None, {})  # (result, its scene_positions) of the last rebuild
+        #: How many placements continued the last one (only the labels that changed looked at again) and how
+        #: many were made afresh: what tests read to see the fast path taken, never the placer's memo.
+        self.placement_counts: dict[str, int] = {"continued": 0, "afresh": 0}
 
     # --- public -------------------------------------------------------------------------------------
     @property
     def labels(self) -> list[OverlayLabel]:
         """The label model (numbers and texts as drawn), for tests and reports."""
         return self.force_item.labels
+
+    def forget_placement(self) -> None:
+        """Drop what label placement keeps between calls (its memo, obstacles and kept labels): the next
+        placement is made from scratch, as a freshly opened rig's is."""
+        self._memo, self._obstacles = {}, ObstacleCache()
 
     @property
     def greyed(self) -> bool:
@@ -224,6 +232,7 @@ class ResultOverlay(QObject):
                                     boxes, previous, self._obstacles, frame,
                                     keep_hidden=self._keep_hidden)
         labels, kept = self.force_item.labels, self._obstacles.kept
+        self.placement_counts["continued" if kept.touched is not None else "afresh"] += 1
         memo = kept.memo_for(labels, to_px, previous if same else None)
         self._memo = memo if memo is not None else placement_memo(labels, to_px, previous if same else None)
         kept.remember(labels, self._memo)

@@ -53,6 +53,9 @@ class ForceItem(BandPainting, LayerItem):
         self._draw_grey = False
         # per placed label object: (label, at, rect, leader, grey, m_per_px, its _draw entry, its scene bounds)
         self._label_draw: dict[int, tuple] = {}
+        #: How many label blit entries refresh_rect kept from its last call and how many it worked out again:
+        #: what tests read to see the kept path taken (never the entries themselves).
+        self.entry_counts: dict[str, int] = {"kept": 0, "made": 0}
         self._grey_band_pen = theme.cosmetic_pen(theme.OVERLAY_GREY, theme.OVERLAY_BAND_PX)
         self.labels: list[OverlayLabel] = []
         self.arrows: list[AnchorArrow] = []
@@ -232,6 +235,7 @@ class ForceItem(BandPainting, LayerItem):
         grey = self.grey
         last, kept = self._label_draw, {}
         draw, bounds = [], []
+        made = 0
         for lab in self.labels:
             if not lab.placed:
                 continue
@@ -247,12 +251,36 @@ class ForceItem(BandPainting, LayerItem):
                     lx, ly = at[0] + x * m_per_px, at[1] + y * m_per_px
                     box = (lx, ly, lx + w * m_per_px, ly + h * m_per_px)
                 c = (lab, at, rect, leader, grey, m_per_px, entry, box)
+                made += 1
             kept[id(lab)] = c
             draw.append(c[6])
             if c[7] is not None:
                 bounds.append(c[7])
         self._label_draw = kept
+        self.entry_counts["made"] += made
+        self.entry_counts["kept"] += len(kept) - made
         return draw, bounds
+
+    def cache_sizes(self) -> dict[str, int]:
+        """How many label boxes (by size and colour) and label pixmaps the item keeps now."""
+        return {"boxes": len(self._box_cache), "pixmaps": len(self._pixmap_cache)}
+
+    @property
+    def marks_redraws(self) -> dict[str, int]:
+        """How often the layer of rings, arrows, leaders and labels was drawn whole and patched in place."""
+        return {"full": self._retained_marks.full_redraws, "partial": self._retained_marks.partial_redraws}
+
+    def forget_kept(self) -> None:
+        """Drop every label entry, pixmap and painted layer kept between calls: the next :meth:`refresh_rect`
+        and paint work everything out afresh (the same pixels, by contract)."""
+        self._label_draw = {}
+        self._pixmap_cache.clear()
+        self._box_cache.clear()
+        self._entry_memo = (None, {}, {}, {})
+        self._marks_last = None
+        self._retained_marks.clear()
+        for layer in self._band_layers.values():
+            layer.clear()
 
     # --- painting -----------------------------------------------------------------------------------
     def paint(self, painter: QPainter, option, widget=None) -> None:

@@ -60,6 +60,8 @@ class Legend(QWidget):
         self._pixmap_key: tuple | None = None
         self._frame_pix: tuple | None = None  # (key, pixmap) of the key without its lines
         self._line_pix: dict = {}  # (text, fraction of a px, dpr) -> pixmap of one summary line
+        #: How many frames and text lines were rendered into pixmaps (the rest were reused): what tests read.
+        self.render_counts: dict[str, int] = {"frames": 0, "lines": 0}
         self.shown = False  # whether the view paints the key (the widget stays hidden)
         self._areas: tuple | None = None  # (lines, frame, areas) of the last call of areas()
         self.hide()
@@ -150,6 +152,7 @@ class Legend(QWidget):
             self._paint_frame(fp)
             fp.end()
             self._frame_pix = (frame_key, frame)
+            self.render_counts["frames"] += 1
         p.drawPixmap(0, 0, self._frame_pix[1])
         lines: dict = {}
         y = self._lines_top()
@@ -163,6 +166,7 @@ class Legend(QWidget):
                 tp = QPainter(lp)
                 self._paint_line(tp, line, y - top)
                 tp.end()
+                self.render_counts["lines"] += 1
             lines[lkey] = lp
             p.drawPixmap(0, top, lp)
             y += lh

@@ -232,8 +232,6 @@ def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | 
     """The schematic of ``rig`` into ``rect`` (page px); returns what was drawn (labels for checks)."""
     from sketchpad.pages.symbol_key import paint_point_symbol
 
-    page_font, INK = theme.page_font, theme.PAGE_INK
-
     layout = SchematicLayout()
     to_px, _k = _page_transform(rig, result, rect)
     strands, px = strands_of(rig, result, to_px)
@@ -243,9 +241,35 @@ def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | 
     painter.setClipRect(rect)
     painter.fillRect(rect, theme.PAPER)
     painter.setRenderHint(QPainter.Antialiasing, True)
+    _paint_strands(painter, strands)
+    layout.sheaves.extend(_paint_sheaves(painter, sheaves))
+    _paint_rings_and_edges(painter, rig, px)
+    structural = [p for p in rig.points if p.is_structural]
+    for p in structural:
+        paint_point_symbol(painter, px[p.id], p.kind)
+    force_boxes = _paint_forces(painter, rig, px)
+    _paint_haul_arrows(painter, rig, px)
+    obstacles = _label_obstacles(structural, px, layout.sheaves, force_boxes)
+    placed: list[QPainterPath] = []
+    _place_point_names(painter, structural, px, obstacles, placed, layout)
+    _place_strand_labels(painter, strands, obstacles, placed, layout)
+    painter.restore()
+    from solver.nominal_ma import nominal_ma
+
+    layout.ma_nominal = nominal_ma(rig)
+    return layout
+
+
+def _paint_strands(painter: QPainter, strands: list[Strand]) -> None:
+    """Every strand as a straight line in its rope's colour."""
     for s in strands:
         painter.setPen(theme.pixel_pen(s.colour, theme.SCHEMATIC_STRAND_PX))
         painter.drawLine(s.a, s.b)
+
+
+def _paint_sheaves(painter: QPainter, sheaves: list[tuple[QPointF, float, QColor, str]]) -> list[tuple[QPointF, float]]:
+    """Each sheave as a wheel with its axle (a capture with its grab's dot); returns (centre, radius px) of each."""
+    drawn = []
     for centre, radius, colour, how in sheaves:
         painter.setPen(theme.pixel_pen(colour, 1.6))
         painter.setBrush(theme.PULLEY_FILL)
@@ -255,13 +279,12 @@ def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | 
         painter.drawEllipse(centre, theme.PULLEY_AXLE_PX, theme.PULLEY_AXLE_PX)
         if how == "capture":
             painter.drawEllipse(centre + QPointF(0, -radius - 3), 3.0, 3.0)
-        layout.sheaves.append((centre, radius))
-    _paint_rings_and_edges(painter, rig, px)
-    structural = [p for p in rig.points if p.is_structural]
-    for p in structural:
-        paint_point_symbol(painter, px[p.id], p.kind)
-    force_boxes = _paint_forces(painter, rig, px)
-    # hauled ends: an arrow showing the pull
+        drawn.append((centre, radius))
+    return drawn
+
+
+def _paint_haul_arrows(painter: QPainter, rig: Rig, px: dict[str, QPointF]) -> None:
+    """An arrow past each hauled end, along its last strand, showing the pull."""
     for ri, r in enumerate(rig.ropes):
         if r.is_hauled and len(r.path) >= 2 and r.path[-1].at in px and r.path[-2].at in px:
             tip_from, end = px[r.path[-2].at], px[r.path[-1].at]
@@ -274,10 +297,11 @@ def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | 
             side = QPointF(-u.y(), u.x()) * 4.5
             painter.setBrush(theme.rope_colour(ri))
             painter.drawPolygon(QPolygonF([tip + u * 3, tip - u * 6 + side, tip - u * 6 - side]))
-    # obstacles for labels: point markers, names and sheaves
-    font = page_font(LABEL_PT, bold=True)
-    name_font = page_font(LABEL_PT + 0.5)
-    fm, nfm = QFontMetricsF(font), QFontMetricsF(name_font)
+
+
+def _label_obstacles(structural: list, px: dict[str, QPointF], sheaves: list[tuple[QPointF, float]],
+                     force_boxes: list[QRectF]) -> list[QPainterPath]:
+    """What no label may cover: point markers, sheaves and the forces' arrows and texts (page px)."""
     obstacles: list[QPainterPath] = []
     for p in structural:
         c = px[p.id]
@@ -285,7 +309,7 @@ def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | 
         ob = QPainterPath()
         ob.addEllipse(c, r + 1, r + 1)
         obstacles.append(ob)
-    for centre, radius in layout.sheaves:
+    for centre, radius in sheaves:
         ob = QPainterPath()
         ob.addEllipse(centre, radius + 1, radius + 1)
         obstacles.append(ob)
@@ -293,9 +317,16 @@ def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | 
         ob = QPainterPath()
         ob.addRect(box)
         obstacles.append(ob)
-    # point names first (most important), beside their marker, avoiding strands' labels placed later
+    return obstacles
+
+
+def _place_point_names(painter: QPainter, structural: list, px: dict[str, QPointF], obstacles: list[QPainterPath],
+                       placed: list[QPainterPath], layout: SchematicLayout) -> None:
+    """Point names first (most important), beside their marker in the first free of six places, else counted
+    as left off; each drawn name is added to ``placed``."""
+    name_font = theme.page_font(LABEL_PT + 0.5)
+    nfm = QFontMetricsF(name_font)
     painter.setFont(name_font)
-    placed: list[QPainterPath] = []
     for p in structural:
         c = px[p.id]
         r = theme.POINT_RADIUS_PX.get(p.kind, 5.0) + 3
@@ -305,7 +336,7 @@ def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | 
             path = QPainterPath()
             path.addRect(box)
             if not any(path.intersects(o) for o in obstacles + placed):
-                painter.setPen(INK)
+                painter.setPen(theme.PAGE_INK)
                 painter.drawText(box.adjusted(2, 0, 0, 0), int(Qt.AlignLeft | Qt.AlignVCenter), p.name)
                 placed.append(path)
                 layout.labels.append(QPolygonF(box))
@@ -313,7 +344,14 @@ def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | 
                 break
         else:
             layout.skipped += 1
-    # strand labels, along their strand
+
+
+def _place_strand_labels(painter: QPainter, strands: list[Strand], obstacles: list[QPainterPath],
+                         placed: list[QPainterPath], layout: SchematicLayout) -> None:
+    """Each strand's label along its strand, at the first of ``T_STEPS`` (on it, then beside it) that covers
+    nothing placed and no other bundle's strand; a strand too short or with no free place is counted as left off."""
+    font = theme.page_font(LABEL_PT, bold=True)
+    fm = QFontMetricsF(font)
     painter.setFont(font)
     strand_paths = []
     for s in strands:
@@ -350,11 +388,6 @@ def paint_schematic(painter: QPainter, rect: QRectF, rig: Rig, result: Result | 
             break
         else:
             layout.skipped += 1
-    painter.restore()
-    from solver.nominal_ma import nominal_ma
-
-    layout.ma_nominal = nominal_ma(rig)
-    return layout
 
 
 def _paint_rings_and_edges(painter: QPainter, rig: Rig, px: dict[str, QPointF]) -> None:

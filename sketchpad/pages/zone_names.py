@@ -14,6 +14,7 @@ from PySide6.QtCore import QRectF
 from PySide6.QtGui import QPainter
 
 from sketchpad import theme
+from sketchpad.pages.wrapped_text import wrap_text
 
 #: Names listed before "and N more": a big rig's key stays a key (the report's table lists every one).
 MAX_NAMED = 8
@@ -63,8 +64,6 @@ def _grouped(labels: list[str]) -> list[str]:
 
 def paint_failure_key(painter: QPainter, rect: QRectF, zones, draw: bool = True) -> float:
     """:func:`failure_key_text` wrapped into ``rect``'s width from its top; returns the height used (px)."""
-    from sketchpad.export import wrap_text
-
     text = failure_key_text(zones)
     if not text:
         return 0.0

@@ -23,12 +23,16 @@ def boat_across_the_current() -> Rig:
                materials=(rope,), site=Site(features=(water,)))
 
 
-def test_bench_boat_across_a_current_warm(benchmark):
-    rig = boat_across_the_current()
+def warm_solves(benchmark, rig: Rig):
+    """Benchmark re-solves of ``rig`` from its own cold answer (a live edit's warm solve); the last Result."""
     first = solve(rig)
     assert first.ok, first.message
     start = dict(first.points)
-    result = benchmark(lambda: solve(rig, start=start))
+    return benchmark(lambda: solve(rig, start=start))
+
+
+def test_bench_boat_across_a_current_warm(benchmark):
+    result = warm_solves(benchmark, boat_across_the_current())
     assert result.ok and result.points["B"][0] > 0  # swung downstream
 
 
@@ -44,3 +48,23 @@ def test_bench_boat_drag_step(benchmark):
 
     result = benchmark(step)
     assert result.ok, result.message
+
+
+def haul_line_across_the_current() -> Rig:
+    """A haul line from the north bank across a 2 m/s current to a bank pulley and along the bank to a
+    haul team (demo data): a wet piece of a run through a pulley, bowed while the rope slides."""
+    from solver.model import Hardware, Settings
+
+    water = Feature(id="W", kind="water", polygon=((-60, -16), (60, -16), (60, 16), (-60, 16)), flow=Flow(2.0, 90.0))
+    rope = Material(id="r11", kind="rope", mbs_N=30000.0, stretch=((1000.0, 0.012), (10000.0, 0.04)),
+                    diameter_m=0.011)
+    pulley = Hardware(id="p", kind="pulley", efficiency=0.9, mbs_N=36000.0, size_m=0.1)
+    return Rig(points=(Point("A", "anchor", 0, 15), Point("P", "anchor", 0, -15),
+                       Point("H", "haul", 20, -18, force_N=2000.0)),
+               ropes=(Rope("R", "r11", (Pass("A"), Pass("P", "pulley", "p"), Pass("H", "hauled"))),),
+               materials=(rope,), hardware=(pulley,), site=Site(features=(water,)), settings=Settings(motion="haul"))
+
+
+def test_bench_haul_line_through_a_pulley_warm(benchmark):
+    result = warm_solves(benchmark, haul_line_across_the_current())
+    assert result.ok and result.water.ropes[0].bowed

@@ -86,30 +86,50 @@ def test_a_placement_continued_from_the_last_one_equals_a_placement_from_scratch
         previous = memo
 
 
+def view_px(view):
+    """The view's scene -> viewport pixel map as the placer takes it."""
+    t = view.transform()
+    return lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())
+
+
+def shown_memo(ov, to_px, placed_only: bool = False) -> dict:
+    """The placement memo of the labels the overlay shows, made afresh from copies of them (``placed_only``: of
+    the placed ones, what a settled result keeps of a drag's placement)."""
+    labels = copy.deepcopy(ov.labels)
+    return placement_memo([lab for lab in labels if lab.placed] if placed_only else labels, to_px)
+
+
+def placed_from_scratch(ov, to_px, previous, keep_hidden: bool):
+    """Copies of the overlay's labels placed by place_labels from scratch (a fresh grid) after ``previous``:
+    (labels left off, their placement)."""
+    again = copy.deepcopy(ov.labels)
+    # every point's marker where it is drawn and where it was solved (scene y is down), made here afresh
+    markers = list(dict.fromkeys([(p.x, -p.y) for p in ov.rig.points] +
+                                 [(float(x), -float(y)) for x, y in ov.result.points.values()]))
+    skipped = place_labels(again, to_px, ov.force_item.label_size, markers, ov.pieces, ov._name_boxes(ov.rig),
+                           previous, keep_hidden=keep_hidden)
+    return skipped, placement(again)
+
+
 def test_drag_steps_continue_the_last_placement_and_equal_a_placement_from_scratch(main_window):
     """The overlay during a drag on the 50-rope rig, crowded (fitted) and zoomed in: every step continues the
-    last placement, and labels sit where place_labels from scratch puts copies of them."""
+    last placement, and labels sit where place_labels from scratch puts copies of them, handed the memo of
+    what was shown before the step (made afresh, never the overlay's own)."""
     from tests.sketchpad.test_drag_layer import fifty_rope_window
 
     doc, sched, view = fifty_rope_window(main_window)  # every step below is part of one drag
     ov = main_window.live.overlay
     rig = doc.rig
     h = rig.point("H4")
-    continued = 0
+    counts = dict(ov.placement_counts)
     for i in range(1, 13):
         if i == 7:
             view.zoom_at(2.0, view.viewport().rect().center())  # room for more labels: placed afresh at the zoom
-        previous = ov._memo
+        previous = shown_memo(ov, view_px(view))
         doc.preview(rig.moved("H4", h.x + 0.6 * (i % 5), h.y - 0.4 * i))
-        follows = ov._obstacles.kept.follows(ov.labels, previous)
         sched._change_gap_ms = 1.0  # a drag step however long the last one took
         sched.fire()
-        continued += follows and ov._obstacles.kept.touched is not None
-        t = view.transform()
-        px = lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())  # noqa: E731
-        again = copy.deepcopy(ov.labels)
-        skipped = place_labels(again, px, ov.force_item.label_size, ov._markers(ov.rig, ov.result), ov.pieces,
-                               ov._name_boxes(ov.rig), previous, keep_hidden=ov._keep_hidden)
-        assert (ov.skipped, placement(ov.labels)) == (skipped, placement(again)), i
-        assert ov._memo == placement_memo(ov.labels, px, previous), i
+        assert not sched.settled
+        assert (ov.skipped, placement(ov.labels)) == placed_from_scratch(ov, view_px(view), previous, True), i
+    continued = ov.placement_counts["continued"] - counts["continued"]
     assert continued >= 10  # all but the first step (after the settled solve) and maybe the one after the zoom

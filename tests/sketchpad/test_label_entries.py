@@ -1,14 +1,16 @@
-"""ForceItem.refresh_rect keeps each placed label's blit entry and bounds between drag steps (_label_entries);
-what it keeps must equal what a fresh computation from the labels as they are now gives."""
+"""ForceItem.refresh_rect keeps each placed label's blit entry and bounds between drag steps; what it keeps must
+draw what a fresh computation from the labels as they are now draws (``forget_kept``), within the same bounds."""
 
 from __future__ import annotations
 
 import math
 
+import numpy as np
 from PySide6.QtCore import QRectF
 
 from sketchpad import theme
 from tests.sketchpad.test_drag_layer import fifty_rope_window
+from tests.sketchpad.test_overlay_incremental import ROUNDING, pixels
 
 
 def fresh_entries_and_rect(item, m_per_px: float):
@@ -41,16 +43,22 @@ def fresh_entries_and_rect(item, m_per_px: float):
     return entries, QRectF(x0, y0, x1 - x0, y1 - y0)
 
 
-def assert_fresh(ov) -> None:
-    """The item's blit entries and rect equal the fresh ones."""
-    item = ov.force_item
-    entries, rect = fresh_entries_and_rect(item, ov._m_per_px())
-    got = [(*e[:7], e[7].toImage()) for e in item._draw]
-    assert got == entries
-    assert item.boundingRect() == rect
+def assert_as_drawn_afresh(ov, view) -> None:
+    """The overlay painted with the entries the item kept looks as it does once everything is worked out afresh
+    (``ForceItem.forget_kept``), and the item's bounds are the fresh ones."""
+    item, vp = ov.force_item, view.viewport()
+    m_per_px = 1.0 / view.px_per_m
+    assert item.boundingRect() == fresh_entries_and_rect(item, m_per_px)[1]
+    kept = pixels(vp.grab().toImage())
+    item.forget_kept()
+    item.refresh_rect(m_per_px)
+    afresh = pixels(vp.grab().toImage())
+    d = np.abs(kept - afresh).max(axis=2)
+    assert (kept[:, :, :3] != kept[0, 0, :3]).any(axis=2).sum() > 1000  # the overlay is there to compare
+    assert d.max() <= ROUNDING, f"{(d > ROUNDING).sum()} pixels differ"
 
 
-def test_label_entries_kept_between_drag_steps_equal_entries_worked_out_afresh(main_window):
+def test_label_entries_kept_between_drag_steps_draw_as_entries_worked_out_afresh(main_window):
     doc, sched, view = fifty_rope_window(main_window)
     ov = main_window.live.overlay
     item = ov.force_item
@@ -59,19 +67,19 @@ def test_label_entries_kept_between_drag_steps_equal_entries_worked_out_afresh(m
     kept_total = 0
     for i in range(8):
         a = (i + 1) * 0.3
-        before = {id(e) for e in item._draw}
+        before = dict(item.entry_counts)
         doc.preview(base.moved("H7", p.x + 1.5 * math.sin(a), p.y + 1.5 * math.cos(a)))
         sched.fire()
         view.viewport().repaint()
-        assert_fresh(ov)
-        kept = sum(1 for e in item._draw if id(e) in before)
-        assert kept < len(item._draw)  # the moved part's labels were worked out again
-        kept_total += kept
+        made = item.entry_counts["made"] - before["made"]
+        kept_total += item.entry_counts["kept"] - before["kept"]
+        assert made > 0  # the moved part's labels were worked out again
+        assert_as_drawn_afresh(ov, view)
     assert kept_total > 0  # and the others were kept: the path under test was taken
 
     def refresh_and_check() -> None:
-        item.refresh_rect(ov._m_per_px())
-        assert_fresh(ov)
+        item.refresh_rect(1.0 / view.px_per_m)
+        assert_as_drawn_afresh(ov, view)
 
     # a label the placer moves, hides or shows again, without a new label object
     placed = [lab for lab in item.labels if lab.placed]
@@ -92,9 +100,10 @@ def test_label_entries_kept_between_drag_steps_equal_entries_worked_out_afresh(m
     item.grey = False
     view.scale(1.7, 1.7)
     ov.relayout()
-    assert_fresh(ov)
-    item.refresh_rect(ov._m_per_px() * 2.0)  # the scale alone changes the bounds
-    entries, rect = fresh_entries_and_rect(item, ov._m_per_px() * 2.0)
+    assert_as_drawn_afresh(ov, view)
+    m_per_px = 2.0 / view.px_per_m
+    item.refresh_rect(m_per_px)  # the scale alone changes the bounds
+    entries, rect = fresh_entries_and_rect(item, m_per_px)
     assert item.boundingRect() == rect
 
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import copy
 import random
 
 import numpy as np
@@ -233,11 +234,9 @@ def test_the_overlay_after_a_drag_through_the_viewport_matches_the_overlay_drawn
         qtbot.waitUntil(lambda: sched.result is not None and sched.result.revision == main_window.document.revision,
                         timeout=3000)
         vp.repaint()  # a frame per step, as the screen shows them
-    assert item._retained_marks.partial_redraws > 0  # drag frames were patched, not drawn afresh
+    assert item.marks_redraws["partial"] > 0  # drag frames were patched, not drawn afresh
     patched = pixels(vp.grab().toImage())
-    item._retained_marks.clear()
-    for layer in item._band_layers.values():
-        layer.clear()
+    item.forget_kept()
     drawn_afresh = pixels(vp.grab().toImage())
     d = np.abs(patched - drawn_afresh).max(axis=2)
     ys, xs = np.nonzero(d > ROUNDING)
@@ -361,10 +360,8 @@ def test_rope_items_follow_every_moved_point_when_only_the_ropes_through_it_are_
 
 
 def test_placement_with_obstacles_kept_between_drag_steps_equals_placement_from_scratch(main_window):
-    import copy
-
-    from sketchpad.overlay import place_labels, placement_memo
     from tests.bench.fifty_ropes import fifty_rope_rig
+    from tests.sketchpad.test_kept_placement import placed_from_scratch, placement, shown_memo, view_px
 
     doc, sched, view = main_window.document, main_window.live.scheduler, main_window.view
     doc.replace_all(fifty_rope_rig())
@@ -378,26 +375,17 @@ def test_placement_with_obstacles_kept_between_drag_steps_equals_placement_from_
     ov = main_window.live.overlay
     rig = doc.rig
     h = rig.point("H4")
-    kept = 0
+    counts = dict(ov.placement_counts)
     for i in range(1, 8):
+        previous = shown_memo(ov, view_px(view))  # what was shown before the step, its memo made afresh
         doc.preview(rig.moved("H4", h.x + 0.8 * i, h.y - 0.4 * i))
-        previous = copy.copy(ov._memo)
         # a drag step however long the last one took (a slow step on a busy machine would otherwise be
         # solved as a pause, whose full analysis first drops the hidden labels from the memo)
         sched._change_gap_ms = 1.0
         sched.fire()  # relayout with the kept obstacles and the memo of the last step
-        t = view.transform()
-        to_px = lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())  # noqa: E731
-        with_cache = [(lab.kind, lab.key, lab.placed, lab.at, lab.rect, lab.leader) for lab in ov.labels]
-        markers = list(dict.fromkeys([(p.x, -p.y) for p in ov.rig.points] +
-                                     [(x, -y) for x, y in ov.result.points.values()]))
-        again = copy.deepcopy(ov.labels)
-        place_labels(again, to_px, ov.force_item.label_size, markers, ov.pieces, ov._name_boxes(ov.rig), previous,
-                     keep_hidden=ov._keep_hidden)
-        assert with_cache == [(lab.kind, lab.key, lab.placed, lab.at, lab.rect, lab.leader) for lab in again], i
-        kept += sum(1 for v in previous.values() if len(v) > 6 and any(v[6] is lab for lab in ov.labels))
-    assert kept > 50  # most labels came through unchanged, by the fast path
-    assert placement_memo(ov.labels, to_px)
+        assert (ov.skipped, placement(ov.labels)) == placed_from_scratch(ov, view_px(view), previous, True), i
+    assert ov.placement_counts["continued"] - counts["continued"] >= 6  # by the fast path: all but the first
+    assert sum(lab.placed for lab in ov.labels) > 50
 
 
 def test_the_legend_counts_the_hidden_labels_again_after_a_zoom(main_window):
@@ -456,7 +444,7 @@ def test_a_label_pixmap_from_a_shared_box_equals_the_label_drawn_afresh_as_vecto
             item.paint_label_vector(p, lab, QRectF(0.0, 0.0, w, h), colour)
             p.end()
             assert (pixels(got) == pixels(want)).all(), (lab.lines, grey)
-    assert len(item._box_cache) == 6  # 8 labels, 3 sizes, 2 colours each: the two tension labels shared a box
+    assert item.cache_sizes()["boxes"] == 6  # 8 labels, 3 sizes, 2 colours each: the two tension labels shared a box
 
 
 def test_bands_of_pieces_past_the_top_of_the_ramp_are_one_band_and_draw_as_laid_down_afresh():
@@ -500,10 +488,8 @@ def test_bands_of_pieces_past_the_top_of_the_ramp_are_one_band_and_draw_as_laid_
 
 
 def test_labels_hidden_during_a_drag_stay_hidden_and_get_a_full_search_once_it_pauses(main_window):
-    import copy
-
-    from sketchpad.overlay import place_labels
     from tests.bench.fifty_ropes import fifty_rope_rig
+    from tests.sketchpad.test_kept_placement import placed_from_scratch, placement, shown_memo, view_px
 
     doc, sched, view = main_window.document, main_window.live.scheduler, main_window.view
     doc.replace_all(fifty_rope_rig())
@@ -518,23 +504,17 @@ def test_labels_hidden_during_a_drag_stay_hidden_and_get_a_full_search_once_it_p
     for i in range(1, 6):
         doc.preview(rig.moved("H4", h.x + 0.6 * i, h.y - 0.3 * i))
         sched.fire()
-        assert not sched.settled and ov._keep_hidden
+        assert not sched.settled
         hidden = {(lab.kind, lab.key) for lab in ov.labels if not lab.placed}
         assert len(hidden) == ov.skipped and any(f"{ov.skipped} labels hidden" in line for line in ov.legend.lines)
         if hidden_before is not None:
             assert hidden_before <= hidden  # nothing hidden at the last step popped up mid-drag
         hidden_before = hidden
-    memo = {k: v for k, v in ov._memo.items() if v[3] is not None}  # what a pause keeps of the drag's placement
+    memo = shown_memo(ov, view_px(view), placed_only=True)  # what a pause keeps of the drag's placement
     sched.solve_now()  # the drag paused: the settled result
-    assert sched.settled and not ov._keep_hidden
-    t = view.transform()
-    to_px = lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())  # noqa: E731
-    again = copy.deepcopy(ov.labels)
-    skipped = place_labels(again, to_px, ov.force_item.label_size, ov._markers(ov.rig, ov.result), ov.pieces,
-                           ov._name_boxes(ov.rig), memo)  # every hidden label searched afresh
-    assert skipped == ov.skipped
-    assert [(lab.key, lab.placed, lab.at, lab.rect) for lab in ov.labels] == \
-        [(lab.key, lab.placed, lab.at, lab.rect) for lab in again]
+    assert sched.settled
+    # every hidden label searched afresh
+    assert (ov.skipped, placement(ov.labels)) == placed_from_scratch(ov, view_px(view), memo, False)
 
 
 def test_the_legend_painted_by_the_view_shows_in_the_frame_where_its_key_says_and_goes_when_hidden(main_window):
@@ -552,7 +532,8 @@ def test_the_legend_painted_by_the_view_shows_in_the_frame_where_its_key_says_an
     key = QImage(g.width(), g.height(), QImage.Format_ARGB32_Premultiplied)
     key.fill(Qt.transparent)
     p = QPainter(key)
-    legend._paint(p)
+    p.translate(-legend.x(), -legend.y())
+    legend.paint_on(p, None)  # the key as vectors, at its place
     p.end()
     ink = pixels(key)
     text = (ink[:, :, 3] == 255) & (ink[:, :, :3].sum(axis=2) < 150)  # the key's dark text, drawn opaque
@@ -562,13 +543,15 @@ def test_the_legend_painted_by_the_view_shows_in_the_frame_where_its_key_says_an
     assert np.abs(gone[text] - ink[text]).max() > 50
 
 
-def test_placement_memo_lent_between_drag_steps_equals_a_fresh_memo_and_grid_cells_equal_fresh_cells(main_window):
-    """The overlay's placement memo (entries lent on from the last step) equals one made afresh from the
-    labels at every drag step, also after zooms (labels placed afresh); the grid's remembered cells equal a fresh count."""
-    from sketchpad.overlay.placement import _Grid, placement_memo
+def test_placement_continued_through_drag_steps_and_zooms_equals_placement_from_scratch(main_window):
+    """At every drag step, also after zooms (labels placed afresh), the overlay's placement equals place_labels
+    from scratch handed the memo of what was shown before (made afresh); when the drag pauses, labels hidden
+    during it are searched again and some are placed; a memo lent a changed label makes that label's entry afresh."""
     from tests.sketchpad.test_drag_layer import fifty_rope_window
+    from tests.sketchpad.test_kept_placement import placed_from_scratch, placement, shown_memo, view_px
 
     from sketchpad.main_window import DEFAULT_SIZE
+    from sketchpad.overlay.placement import placement_memo
 
     main_window.resize(*DEFAULT_SIZE)  # the canvas the app opens with (room for the labels hidden mid-drag)
     QApplication.processEvents()
@@ -576,7 +559,7 @@ def test_placement_memo_lent_between_drag_steps_equals_a_fresh_memo_and_grid_cel
     ov = main_window.live.overlay
     rig = doc.rig
     h = rig.point("H4")
-    lent = 0
+    counts = dict(ov.placement_counts)
     for i in range(1, 12):
         if i == 5:
             view.zoom_at(1.5, view.viewport().rect().center())
@@ -584,28 +567,27 @@ def test_placement_memo_lent_between_drag_steps_equals_a_fresh_memo_and_grid_cel
             view.zoom_at(1.5, view.viewport().rect().topLeft())
             if ov.zoom_pacer.pending:  # a second zoom this soon is one wheel gesture: let it end (labels placed afresh)
                 ov.zoom_pacer.settle()
-        before = dict(ov._memo)
+        previous = shown_memo(ov, view_px(view))
         doc.preview(rig.moved("H4", h.x + 0.5 * i, h.y - 0.3 * i))
         # a drag step however long the last one took (a slow step on a busy machine would otherwise be
         # solved as a pause, which first drops the hidden labels the end of this test looks for)
         sched._change_gap_ms = 1.0
         sched.fire()
-        t = view.transform()
-        to_px = lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())  # noqa: E731
-        assert ov._memo == placement_memo(ov.labels, to_px), i
-        lent += sum(1 for k, v in ov._memo.items() if before.get(k) is v)
-    assert lent > 50  # the fast path was taken
-    hidden = {k for k, v in ov._memo.items() if v[3] is None}
+        assert (ov.skipped, placement(ov.labels)) == placed_from_scratch(ov, view_px(view), previous, True), i
+    assert ov.placement_counts["continued"] - counts["continued"] >= 8  # the fast path was taken
+    hidden = {(lab.kind, lab.key) for lab in ov.labels if not lab.placed}
+    memo = shown_memo(ov, view_px(view), placed_only=True)
     sched.solve_now()  # the drag pauses: labels hidden during it are searched afresh, some now placed
-    assert ov._memo == placement_memo(ov.labels, to_px)
-    assert any(ov._memo[k][3] is not None for k in hidden if k in ov._memo)
+    assert (ov.skipped, placement(ov.labels)) == placed_from_scratch(ov, view_px(view), memo, False)
+    assert any(lab.placed for lab in ov.labels if (lab.kind, lab.key) in hidden)
     # a label object that stays but is placed elsewhere, hidden or shown again gets a fresh entry
-    labs = [lab for lab in ov.labels if lab.placed][:3]
+    to_px = view_px(view)
+    labels = copy.deepcopy(ov.labels)
+    lent = placement_memo(labels, to_px)
+    labs = [lab for lab in labels if lab.placed][:3]
     labs[0].at = (labs[0].at[0] + 1.0, labs[0].at[1])
     labs[1].placed = False
     labs[2].rect = (labs[2].rect[0] + 3.0, *labs[2].rect[1:])
-    assert placement_memo(ov.labels, to_px, ov._memo) == placement_memo(ov.labels, to_px)
-    grid = ov._obstacles.grid
-    assert grid._cell_memo  # rects were looked up through the memo
-    for r, cells in grid._cell_memo.items():
-        assert cells == _Grid()._cells(*r)
+    assert placement_memo(labels, to_px, lent) == placement_memo(labels, to_px)
+
+

@@ -11,6 +11,7 @@ import re
 import unicodedata
 from dataclasses import replace
 
+import pypdf
 import pytest
 from PySide6.QtCore import QPointF, QRectF
 from PySide6.QtGui import QImage, QPainter, QPainterPath
@@ -20,8 +21,6 @@ from solver.cautions import LIMITS_CAUTION, SHORT_CAUTION
 from solver.cli import main
 from solver.rigfile import load_rig
 from tests.conftest import SAMPLES
-
-pypdf = pytest.importorskip("pypdf")
 
 RAFT = SAMPLES / "raft-3to1-redirect.rig.json"
 ALL = sorted(SAMPLES.glob("*.rig.json"))

@@ -3,14 +3,13 @@ the schematic panel, the Forces dock's rope-length and gear tabs, and File ▸ E
 
 from __future__ import annotations
 
+import pypdf
 import pytest
 from PySide6.QtCore import QRectF, Qt
 
 from solver.rigfile import load_rig
 from tests.conftest import SAMPLES
 from tests.sketchpad.test_properties import type_into
-
-pypdf = pytest.importorskip("pypdf")
 
 RAFT = SAMPLES / "raft-3to1-redirect.rig.json"
 

@@ -119,3 +119,31 @@ def test_wetted_area_and_shape_fields_and_the_force_from_the_current(qtbot):
     assert doc.rig.point("L1").required_N == pytest.approx(0.5 * 1000 * 1.98 * 1.5 * 2.0 ** 2)
     body.shape.setCurrentIndex(0)  # "—": out of the water
     assert doc.rig.point("L1").wetted_area_m2 is None and doc.rig.point("L1").drag_shape is None
+
+
+def test_dragging_the_bank_pulley_redraws_the_bowed_haul_line(main_window, mouse, qtbot):
+    # the raft sample's main line runs from the raft through the bank boulder's pulley: its wet piece is bowed
+    # (the rope sliding through the pulley), drawn by the plan, and follows the pulley's anchor when dragged
+    w = main_window
+    rig = load_rig(Path(__file__).resolve().parents[2] / "samples" / "raft-3to1-redirect.rig.json")
+    w.document.replace_all(rig)
+    live = w.live
+    item = live.overlay.water_item
+    qtbot.waitUntil(lambda: bool(item._ropes), timeout=10000)
+    a2 = rig.point("A2")
+    mouse.drag(a2.x, a2.y, a2.x + 3.0, a2.y, steps=5, release=False)
+    qtbot.wait(200)
+    mouse.release(a2.x + 3.0, a2.y)
+    moved = w.document.rig.point("A2")
+    assert moved.x == pytest.approx(a2.x + 3.0, abs=0.1)
+    qtbot.waitUntil(lambda: live.overlay.result is not None and live.overlay.result.ok
+                    and live.overlay.result.points["A2"] == pytest.approx((moved.x, moved.y)), timeout=10000)
+    res = live.overlay.result
+    wet = next(r for r in res.water.ropes if r.rope == "main" and r.index == 0)
+    assert wet.bowed and wet.polyline[-1] == pytest.approx((moved.x, moved.y))
+    assert wet.sag_m > 0.05 and len(wet.polyline) > 6
+    assert wet.tension_in_N == pytest.approx(wet.tension_out_N, rel=1e-9)  # frictionless bends
+    assert "rope-drag-straight" not in {x.code for x in res.warnings}
+    qtbot.waitUntil(lambda: len(item._ropes) >= 1 and any(p.elementCount() == len(wet.polyline)
+                                                          for p, _ in item._ropes), timeout=10000)
+    assert not any(HIDDEN in k for k in res.points) and not any(HIDDEN in s.rope for s in res.segments)

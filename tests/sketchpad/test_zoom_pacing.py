@@ -6,7 +6,6 @@ from __future__ import annotations
 from PySide6.QtCore import QPoint
 from PySide6.QtWidgets import QApplication
 
-from sketchpad.overlay import ObstacleCache
 from tests.sketchpad.test_overlay import open_sample
 
 
@@ -38,7 +37,7 @@ def test_notches_keep_the_placement_and_the_pause_places_afresh(main_window, qtb
             assert bounds.contains(lab.at[0] + (x + w) * m, lab.at[1] + (y + h) * m)
     qtbot.waitUntil(lambda: not ov.zoom_pacer.pending, timeout=3000)  # the wheel stops
     settled = placement(ov)
-    ov._memo, ov._obstacles = {}, ObstacleCache()  # a placement made afresh at the same zoom
+    ov.forget_placement()  # a placement made afresh at the same zoom
     ov.relayout()
     assert placement(ov) == settled
     QApplication.processEvents()
@@ -51,6 +50,6 @@ def test_a_fit_right_after_another_zoom_places_the_labels_at_once(main_window):
     view.zoom_to_fit()  # not a wheel notch: never deferred, however soon it follows
     assert not ov.zoom_pacer.pending
     settled = placement(ov)
-    ov._memo, ov._obstacles = {}, ObstacleCache()
+    ov.forget_placement()
     ov.relayout()
     assert placement(ov) == settled

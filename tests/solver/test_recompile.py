@@ -25,6 +25,7 @@ from solver import equilibrium, memo
 from solver.assembly import GEOMETRY_FIELDS, System, compile_rig, compile_topology, same_structure, with_geometry
 from solver.errors import RigModelError
 from solver.model import Point, Rig
+from solver.result import Result
 from solver.rigfile import load_rig
 from tests import rigs
 from solver.water import dry_site
@@ -58,9 +59,9 @@ RIGS = _all_rigs()
 
 @pytest.fixture(autouse=True)
 def _fresh_cache():
-    memo.COMPILED.clear()
+    memo.forget_all()
     yield
-    memo.COMPILED.clear()
+    memo.forget_all()
 
 
 def assert_same_system(got: System, want: System) -> None:
@@ -79,12 +80,21 @@ def assert_same_system(got: System, want: System) -> None:
 
 
 def fresh_solve(rig: Rig, **kw):
-    """``solve`` with nothing cached, i.e. after a full compile."""
-    memo.COMPILED.clear()
+    """``solve`` with nothing remembered (``memo.forget_all``), i.e. after a full compile."""
+    memo.forget_all()
     try:
         return equilibrium.solve(rig, **kw)
     finally:
-        memo.COMPILED.clear()
+        memo.forget_all()
+
+
+def served(rig: Rig, **kw):
+    """``solve(rig)`` and how it got its System: the solver's public counts (``memo.stats()["systems"]``) that
+    this call raised, e.g. {"same structure": 1} for a drag step built on kept index arrays."""
+    before = memo.stats()["systems"]
+    res = equilibrium.solve(rig, **kw)
+    after = memo.stats()["systems"]
+    return res, {k: n - before.get(k, 0) for k, n in after.items() if n != before.get(k, 0)}
 
 
 def structural_ids(rig: Rig) -> list[str]:
@@ -123,25 +133,24 @@ def test_solving_a_moved_copy_after_the_original_gives_the_result_of_a_fresh_sol
         moved = rig.moved(pid, p.x - 0.29, p.y + 0.43)
         for start in (None, warm(base)) if base.ok else (None,):  # cold, and warm-started as a drag step is
             want = fresh_solve(moved, start=start)
-            equilibrium.solve(rig)  # the original is compiled and cached ...
-            topo = memo.COMPILED[0][3]
-            got = equilibrium.solve(moved, start=start)  # ... and the moved copy is solved from its topology
-            assert memo.COMPILED[0][3] is topo, "the moved copy was compiled from scratch"
+            _, how = served(rig)  # the original is compiled and remembered ...
+            assert how == {"compiled": 1}, how
+            got, how = served(moved, start=start)  # ... and the moved copy is solved on its index arrays
+            assert how == {"same structure": 1}, "the moved copy was compiled from scratch"
             assert repr(got) == repr(want)
-            memo.COMPILED.clear()
+            memo.forget_all()
 
 
 def test_a_drag_of_successive_moved_copies_solves_each_step_as_a_fresh_solve_would():
     rig = fifty_rope_rig()
     first = equilibrium.solve(rig)
     assert first.ok, first.message
-    topo = memo.COMPILED[0][3]
     start, current, steps = warm(first), rig, []
     for k in range(6):
         g = current.point("G4")
         current = current.moved("G4", g.x + 0.05, g.y - 0.04)  # each step moved from the last, as a drag does
-        res = equilibrium.solve(current, start=start)
-        assert memo.COMPILED[0][3] is topo
+        res, how = served(current, start=start)
+        assert how == {"same structure": 1}, how
         steps.append((current, dict(start), res))
         start = warm(res)
     for moved, begin, res in steps:
@@ -149,13 +158,16 @@ def test_a_drag_of_successive_moved_copies_solves_each_step_as_a_fresh_solve_wou
 
 
 def test_the_rebuilt_system_carries_no_state_the_solver_left_on_an_earlier_one():
+    from solver.strategies import solve_system
+
     rig = fifty_rope_rig()
-    assert equilibrium.solve(rig).ok
-    old = memo.COMPILED[0][2]
-    assert "_run_tension_fixed" in old.__dict__  # the solver cached its constants on that System
+    topo = compile_topology(rig)
+    old = with_geometry(topo, rig)
+    assert not isinstance(solve_system(old, old.x_from(old.xy0), "haul"), Result)  # the solver ran on that System
+    assert "_run_tension_fixed" in old.__dict__  # ... and cached its constants on it
     old.soft = np.full(old.n_runs, 0.5)  # as if a soft start had been left in force
     moved = rig.moved("G2", 59.0, 14.2)
-    new = with_geometry(memo.COMPILED[0][3], moved)
+    new = with_geometry(topo, moved)
     assert new is not old and new.soft is None
     assert set(new.__dict__) == {f.name for f in fields(System)}
     assert new.rig is moved and new.points[structural_ids(moved).index("G2")] is moved.point("G2")
@@ -274,12 +286,12 @@ def test_a_change_of_structure_is_compiled_afresh(change):
     rig = RIGS["thirty-points"]
     changed, motion = _structure_changes(rig)[change]
     equilibrium.solve(rig)
-    topo = memo.COMPILED[0][3]
+    topo = compile_topology(rig)
     assert not same_structure(topo, changed, motion)
     moved = changed.moved("G", 5.6, 3.4)  # moved as well: still not the cached structure
     assert not same_structure(topo, moved, motion)
-    got = equilibrium.solve(moved, motion=motion)
-    assert memo.COMPILED[0][3] is not topo
+    got, how = served(moved, motion=motion)
+    assert how in ({"compiled": 1}, {"new forces": 1}), how  # never the kept arrays as they were
     assert repr(got) == repr(fresh_solve(moved, motion=motion))
 
 
@@ -295,11 +307,13 @@ def test_a_weighted_rig_turned_from_elevation_to_plan_is_compiled_afresh():
 def test_a_structure_compiled_for_one_motion_is_reused_for_that_motion_only():
     rig = RIGS["thirty-points"]
     equilibrium.solve(rig, motion="hold")
-    topo = memo.COMPILED[0][3]
+    topo = compile_topology(rig, "hold")
     moved = rig.moved("G", 5.6, 3.4)
     assert same_structure(topo, moved, "hold") and not same_structure(topo, moved, None)  # the file says haul
-    equilibrium.solve(moved)
-    assert memo.COMPILED[0][3] is not topo and memo.COMPILED[0][3].motion == "haul"
+    got, how = served(moved)
+    assert how == {"compiled": 1}, how
+    assert served(moved.moved("G", 5.7, 3.4), motion="hold")[1] == {"same structure": 1}  # hold's still kept
+    assert repr(got) == repr(fresh_solve(moved))
 
 
 # --- random moves ----------------------------------------------------------------------
@@ -346,10 +360,9 @@ def test_random_moves_solve_to_the_result_of_a_fresh_solve(case):
     rig, moved = case
     want = fresh_solve(moved)
     equilibrium.solve(rig)
-    topo = memo.COMPILED[0][3]
-    got = equilibrium.solve(moved)
+    got, how = served(moved)
     if got.status != "invalid":
-        assert memo.COMPILED[0][3] is topo
+        assert how == {"same structure": 1}, how
     assert repr(got) == repr(want)
 
 
@@ -357,5 +370,5 @@ def test_the_cache_stays_small():
     rig = RIGS["thirty-points"]
     for k in range(10):
         equilibrium.solve(rig.moved("G", 5.5 + 0.01 * k, 3.5))
-    assert len(memo.COMPILED) <= memo.COMPILED.size
-    assert len(memo.TOPOLOGIES) <= memo.TOPOLOGIES.size
+    for kept, limit in memo.stats()["sizes"].values():
+        assert 0 < kept <= limit

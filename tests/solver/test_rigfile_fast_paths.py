@@ -5,10 +5,11 @@ from __future__ import annotations
 import dataclasses
 
 from solver import model as m
-from solver import rigfile
+from solver import rigfile_build, rigfile_fields
 from solver.bulk_read import filled
 from solver.bulk_read import plain_data_ok
-from solver.rigfile import _DUPLICATE, _read_pass
+from solver.rigfile_build import _read_pass
+from solver.rigfile_json import _DUPLICATE
 
 
 def test_filled_dataclasses_equal_their_init():
@@ -55,8 +56,8 @@ def test_a_pass_read_directly_equals_one_read_field_by_field():
     for x in ({"at": "A"}, {"at": "A", "how": "tied"}, {"at": "A", "how": "pulley", "hardware": "pulley-large"},
               {"at": "A", "hardware": None}):
         fast = _read_pass(dict(x), "ropes[0]", 0, False)
-        plain = rigfile._make(m.Pass, dict(x), rigfile._PASS, "ropes[0].path[0]", False)
-        assert fast == plain and rigfile._present(fast) == rigfile._present(plain)
+        plain = rigfile_build._make(m.Pass, dict(x), rigfile_fields._PASS, "ropes[0].path[0]", False)
+        assert fast == plain and rigfile_fields._present(fast) == rigfile_fields._present(plain)
 
 
 def test_the_quick_plain_data_walk_finds_what_the_full_walk_reports():

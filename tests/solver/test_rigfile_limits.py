@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import copy
 import json
-import time
 
 import pytest
 
@@ -16,6 +15,7 @@ from solver import limits, rigfile
 from solver.errors import RigFileError
 from solver.model import Point, Rig
 from solver.rigfile import dumps_rig, loads_rig, save_rig
+from solver.rigfile_schema import field_path
 from tests.conftest import SAMPLES
 
 RAFT = SAMPLES / "raft-3to1-redirect.rig.json"
@@ -64,17 +64,16 @@ def test_overlong_text_is_refused_naming_the_field_and_its_length(place, limit):
         holder = holder[key]
     holder[place[-1]] = "x" * (limit + 1)
     err = _refused(d)
-    assert err.where == rigfile._where(place), str(err)
+    assert err.where == field_path(place), str(err)
     assert f"{limit + 1:,} characters" in err.message and f"at most {limit:,}" in err.message, str(err)
 
 
-def test_a_million_character_notes_is_refused_in_a_moment():
+def test_a_million_character_notes_is_refused_naming_the_field():
+    # how quickly: tests/bench/test_bench_refusals.py
     d = _sample()
     d["notes"] = "n" * 1_000_000
-    start = time.perf_counter()
     err = _refused(d)
     assert err.where == "notes" and "1,000,000 characters" in err.message
-    assert time.perf_counter() - start < 1.0  # generous: a refusal must not freeze (measured ~10 ms)
 
 
 def test_more_points_than_the_format_holds_are_refused_with_a_size_message():

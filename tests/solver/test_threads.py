@@ -62,7 +62,7 @@ def _work_a(shared: list) -> list:
 
 def _work_b(shared: list) -> list:
     out = [repr(solve(r)) for r in shared]
-    out += [repr(solve(r)) for r in _many_structures(memo.TOPOLOGIES.size + 6)]
+    out += [repr(solve(r)) for r in _many_structures(memo.stats()["sizes"]["topologies"][1] + 6)]
     start = None
     for p in (20.0, 300.0, 900.0, 1500.0):  # a force slider (vector pull of the bench)
         rig = rigs.make_rig([rigs.anchor("A1", 0, 0), rigs.anchor("A2", 20, 0), rigs.free("V", 9, 0)],
@@ -110,7 +110,8 @@ def test_two_threads_solving_at_once_get_what_one_thread_gets(busy_switching):
         assert got["a"] == want_a
         assert got["b"] == want_b
     # the caches stayed within their bounds
-    assert len(memo.TOPOLOGIES) <= memo.TOPOLOGIES.size and len(memo.CURVES) <= memo.CURVES.size
+    for kept, limit in memo.stats()["sizes"].values():
+        assert kept <= limit
 
 
 def test_a_bounded_cache_used_by_many_threads_stays_bounded_and_never_fails(busy_switching):
@@ -138,13 +139,18 @@ def test_a_bounded_cache_used_by_many_threads_stays_bounded_and_never_fails(busy
 
 def test_each_thread_keeps_its_own_compiled_systems():
     # a System carries the scratch of the solve running on it: no two threads may hold the same one
+    # (seen through the solver's public counts: the other thread's solve of the very same Rig is not served
+    # this thread's System, and this thread's next solve of it still is)
     rig = fifty_rope_rig()
-    memo.COMPILED.clear()
-    solve(rig)
-    mine = memo.COMPILED[0][2]
+    memo.forget_all()
+    want = repr(solve(rig))
+    counts = memo.stats()["systems"]
     theirs = []
-    t = threading.Thread(target=lambda: (solve(rig), theirs.append(memo.COMPILED[0][2])))
+    t = threading.Thread(target=lambda: theirs.append((repr(solve(rig)), memo.stats()["systems"])))
     t.start()
     t.join()
-    assert theirs and theirs[0] is not mine
-    assert memo.COMPILED[0][2] is mine  # this thread's own list is as it was
+    assert theirs and theirs[0][0] == want
+    assert theirs[0][1].get("same rig", 0) == counts.get("same rig", 0)  # built its own System
+    assert theirs[0][1].get("compiled", 0) == counts.get("compiled", 0) + 1  # from its own, empty list
+    assert repr(solve(rig)) == want
+    assert memo.stats()["systems"]["same rig"] == counts.get("same rig", 0) + 1  # this thread's own list as it was
