@@ -178,11 +178,6 @@ class WaterItem(MarkItem):
         if under is not None:
             self.bows.stackBefore(under)
 
-    @property
-    def _ropes(self) -> tuple:
-        """The bowed ropes drawn (scene polylines with colour and pen px)."""
-        return self.bows.marks.lines
-
     def set_scale(self, m_per_px: float) -> None:
         super().set_scale(m_per_px)
         self.bows.set_scale(m_per_px)
