@@ -33,6 +33,7 @@ from typing import Callable, Mapping
 
 import numpy as np
 
+from solver.ma_input import drawn_pull_N, hauls, rescaled_to_user
 from solver.materials import material_for
 from solver.model import Force, Pass, Point, Rig, Rope, Site
 from solver.result import Result, Warning_
@@ -283,6 +284,10 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
         result = replace(result, ma_ideal=ma_ideal)
     if result is not None and result.ok:
         _LAST_BOW.keep(plan, at, mesh.lengths)
+        if not hauls(rig):  # the MA is over the user's own pull, never over the current's drag
+            solved, own = drawn_pull_N(_with_forces(plan, forces)), drawn_pull_N(rig)
+            result = replace(result, ma_actual=rescaled_to_user(result.ma_actual, solved, own),
+                             ma_ideal=rescaled_to_user(result.ma_ideal, solved, own))
     result = replace(result, iterations=iterations)
     return _mapped(rig, plan, ff, result, forces, gap, rounds)
 
