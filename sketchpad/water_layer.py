@@ -1,6 +1,6 @@
 """The plan's moving water: an arrow field over each current, river left / right, and ropes bowed by the water.
 
-Two QGraphicsItems (:class:`WaterItem` and its child) drawn in scene metres from the rig's features and the
+Two QGraphicsItems (:class:`WaterItem` and its ``bows``) drawn in scene metres from the rig's features and the
 Result's ``water`` (:mod:`solver.water_result`): arrows on a grid over each moving-water feature (length by speed, the
 topmost feature's current where they overlap), the speed and "river left" / "river right" (facing
 downstream, the trade's convention) on each main current, each bowed rope as the solver shaped it, and

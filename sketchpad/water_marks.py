@@ -44,6 +44,7 @@ NO_MARKS = Marks()
 
 
 def text_font():
+    """The water texts' font (speeds, river sides, wet-end tensions): small and bold."""
     return theme.font(theme.SMALL_POINT_SIZE, bold=True)
 
 
