@@ -117,8 +117,8 @@ def field_marks(rig: Rig) -> Marks:
         if f.flow is not None and f.polygon is not None and f.kind == "water":
             c = _speed_label_at(f, main)
             texts.append((f"{format_speed(f.flow.speed_m_s, rig.display.length)} toward {bearing_text(f.flow.bearing_deg)}",
-                          _scene(c.x, c.y), theme.FLOW_LABEL))
-    texts += [(w, _scene(*p), theme.FLOW_LABEL) for w, p in river_side_labels(rig)]
+                          _scene(c.x, c.y), theme.FLOW_LABEL, (0.0, 0.0)))
+    texts += [(w, _scene(*p), theme.FLOW_LABEL, (0.0, 0.0)) for w, p in river_side_labels(rig)]
     return Marks(arrows=arrows, texts=tuple(texts))
 
 
@@ -137,15 +137,32 @@ def bow_marks(rig: Rig, result: Result | None) -> Marks:
         n = math.hypot(b.fx_N, b.fy_N)
         tip = (x + 3.0 * b.fx_N / n, y + 3.0 * b.fy_N / n)
         arrows.append((_scene(x, y), _scene(*tip)))
-        texts.append((f"current {format_force(b.force_N, unit)}", _scene(tip[0], tip[1] - 0.8), theme.FLOW_LABEL))
+        texts.append((f"current {format_force(b.force_N, unit)}", _scene(tip[0], tip[1] - 0.8), theme.FLOW_LABEL,
+                      (0.0, 0.0)))
     order = {r.id: i for i, r in enumerate(rig.ropes)}
     for w in water.ropes:
         if not w.bowed:
             continue
-        lines.append((tuple(_scene(*p) for p in w.polyline), theme.rope_colour(order.get(w.rope, 0)), theme.BOWED_ROPE_PX))
-        for idx, t in ((w.wet_from, w.tension_in_N), (w.wet_to, w.tension_out_N)):
-            texts.append((format_force(t, unit), _scene(*w.polyline[idx]), theme.WET_TENSION))
+        line = tuple(_scene(*p) for p in w.polyline)
+        lines.append((line, theme.rope_colour(order.get(w.rope, 0)), theme.BOWED_ROPE_PX))
+        for idx, inward, t in ((w.wet_from, 1, w.tension_in_N), (w.wet_to, -1, w.tension_out_N)):
+            texts.append((format_force(t, unit), line[idx], theme.WET_TENSION, _along(line, idx, inward)))
     return Marks(arrows=tuple(arrows), lines=tuple(lines), texts=tuple(texts))
+
+
+#: How far (px) a wet-end tension sits from its end along its own rope: two ropes ending at one body (a V of
+#: tethers) would otherwise write their tensions over each other there (ours: about two text heights).
+WET_LABEL_PX = 26.0
+
+
+def _along(line: tuple, idx: int, inward: int) -> tuple[float, float]:
+    """The px offset ``WET_LABEL_PX`` from ``line[idx]`` toward its neighbour ``inward`` (+1 / -1) along the line."""
+    j = idx + inward
+    if not 0 <= j < len(line):
+        return (0.0, 0.0)
+    dx, dy = line[j][0] - line[idx][0], line[j][1] - line[idx][1]
+    n = math.hypot(dx, dy)
+    return (WET_LABEL_PX * dx / n, WET_LABEL_PX * dy / n) if n > 0 else (0.0, 0.0)
 
 
 class WaterItem(MarkItem):

@@ -33,11 +33,12 @@ HALO = ((-1, 0), (1, 0), (0, -1), (0, 1))
 @dataclass(frozen=True)
 class Marks:
     """One water drawing in scene metres (y down): arrows (tail, head) with a head at the head end, polylines
-    with their colour and pen width (px), and texts centred on their scene point (text, (x, y), colour)."""
+    with their colour and pen width (px), and texts (text, (x, y), colour, (dx, dy)) centred (dx, dy) px from
+    their scene point (a wet-end tension is moved along its own rope, clear of another rope's end there)."""
 
     arrows: tuple[tuple[tuple[float, float], tuple[float, float]], ...] = ()
     lines: tuple[tuple[tuple[tuple[float, float], ...], QColor, float], ...] = ()
-    texts: tuple[tuple[str, tuple[float, float], QColor], ...] = ()
+    texts: tuple[tuple[str, tuple[float, float], QColor, tuple[float, float]], ...] = ()
 
 
 NO_MARKS = Marks()
@@ -73,8 +74,9 @@ def marks_bounds(marks: Marks, m_per_px: float, fm: QFontMetricsF | None = None)
         x0, y0, x1, y1 = min(x0, min(xs) - pad), min(y0, min(ys) - pad), max(x1, max(xs) + pad), max(y1, max(ys) + pad)
     if marks.texts:
         fm = fm or QFontMetricsF(text_font())
-        for text, (x, y), _colour in marks.texts:
+        for text, (x, y), _colour, (dx, dy) in marks.texts:
             bx0, by0, bx1, by1 = _text_box_px(fm, text)
+            bx0, bx1, by0, by1 = bx0 + dx, bx1 + dx, by0 + dy, by1 + dy
             x0, y0, x1, y1 = min(x0, x + bx0 * k), min(y0, y + by0 * k), max(x1, x + bx1 * k), max(y1, y + by1 * k)
     if x0 > x1:
         return QRectF()
@@ -105,16 +107,16 @@ def paint_marks(painter: QPainter, marks: Marks, polygons: list[QPolygonF], font
     if marks.texts:
         painter.setFont(font or text_font())
         fm = painter.fontMetrics()
-        for text, (x, y), colour in marks.texts:
+        for text, (x, y), colour, (dx, dy) in marks.texts:
             painter.save()
             painter.translate(x, y)
             painter.scale(k, k)
             w = fm.horizontalAdvance(text)
             painter.setPen(theme.PAPER)
             for ox, oy in HALO:
-                painter.drawText(QPointF(-w / 2 + ox, -TEXT_RISE_PX + oy), text)
+                painter.drawText(QPointF(dx - w / 2 + ox, dy - TEXT_RISE_PX + oy), text)
             painter.setPen(colour)
-            painter.drawText(QPointF(-w / 2, -TEXT_RISE_PX), text)
+            painter.drawText(QPointF(dx - w / 2, dy - TEXT_RISE_PX), text)
             painter.restore()
 
 

@@ -131,14 +131,14 @@ def test_after_a_drag_the_water_items_draw_what_fresh_items_draw(main_window, mo
     doc.apply(replace(rig, site=replace(rig.site, features=(faster, *rig.site.features[1:]))), "current speed")
     qtbot.waitUntil(lambda: sched.result is not None and sched.result.revision == doc.revision, timeout=5000)
     assert water.marks == field_marks(doc.rig) != start
-    assert any(t.startswith("3.1 m/s") for t, _at, _c in water.marks.texts)
+    assert any(t.startswith("3.1 m/s") for t, _at, _c, _off in water.marks.texts)
     # feet: speeds in mph (1 mph = 0.44704 m/s, NIST SP 811): the kept field follows the length unit too
     from solver.model import Display
 
     doc.apply(replace(doc.rig, display=Display("ft", "lbf")), "units")
     qtbot.waitUntil(lambda: sched.result is not None and sched.result.revision == doc.revision, timeout=5000)
     assert water.marks == field_marks(doc.rig)
-    assert any(t.startswith(f"{3.1 / 0.44704:.1f} mph") for t, _at, _c in water.marks.texts)
+    assert any(t.startswith(f"{3.1 / 0.44704:.1f} mph") for t, _at, _c, _off in water.marks.texts)
 
 
 def test_a_render_after_a_drag_equals_a_fresh_render_pixel_by_pixel(main_window, mouse, qtbot):
