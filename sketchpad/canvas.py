@@ -14,7 +14,7 @@ import logging
 import math
 from dataclasses import dataclass
 
-from PySide6.QtCore import QEvent, QLineF, QPoint, QPointF, QRect, QRectF, Qt, Signal
+from PySide6.QtCore import QEvent, QLineF, QPoint, QPointF, QRect, QRectF, QSize, Qt, Signal
 from PySide6.QtGui import (
     QFontMetricsF,
     QKeyEvent,
@@ -31,6 +31,7 @@ from sketchpad import theme
 from sketchpad.drag_layer import DragLayer, note_structure_change
 from sketchpad.geometry import to_scene, to_site
 from sketchpad.glyphs import paint_north_arrow
+from sketchpad.grid_pixels import paint_grid_pixels
 from sketchpad.items import (
     FeatureItem,
     ForceItem,
@@ -456,6 +457,7 @@ class SketchView(QGraphicsView):
         self._space_held = False
         self._background: QPixmap | None = None  # paper and grid of the last frame (drawBackground)
         self._background_key: tuple | None = None
+        self._background_seen: tuple | None = None  # the last frame's key, painted without the pixmap
         self._hud_cache: dict[tuple, QPixmap] = {}  # scale bar and north arrow (drawForeground)
         self._hud_frame: tuple = (None, [])  # (what fixes the HUD, its blits) of the last frame
         #: Still items of a drag kept in one image (sketchpad.drag_layer); ``use_drag_layer`` off paints every
@@ -750,18 +752,43 @@ class SketchView(QGraphicsView):
         t = self.viewportTransform()
         key = (t.m11(), t.m22(), t.dx(), t.dy(), vp.width(), vp.height(), dpr, self.grid_visible,
                self.grid_step_m() if self.grid_visible else 0.0)
+        if key != self._background_key and dpr == 1.0 and key != self._background_seen:
+            # a frame at a new zoom or pan (a wheel step) paints it straight onto the frame; a second frame
+            # showing the same keeps it in the pixmap (one viewport-sized blit less per zoom step)
+            self._background_seen = key
+            painter.save()
+            painter.resetTransform()
+            self._paint_screen_background(painter, t, vp.width(), vp.height())
+            painter.restore()
+            return
         if key != self._background_key:
-            pix = QPixmap(max(1, round(vp.width() * dpr)), max(1, round(vp.height() * dpr)))
-            pix.setDevicePixelRatio(dpr)
+            pix = self._background  # painted over whole (a zoom step would otherwise allocate a viewport's pixmap)
+            if pix is None or pix.size() != QSize(max(1, round(vp.width() * dpr)), max(1, round(vp.height() * dpr))) \
+                    or pix.devicePixelRatio() != dpr:
+                pix = QPixmap(max(1, round(vp.width() * dpr)), max(1, round(vp.height() * dpr)))
+                pix.setDevicePixelRatio(dpr)
             p = QPainter(pix)
-            p.setTransform(t)
-            self._paint_background(p, t.inverted()[0].mapRect(QRectF(vp.rect())).adjusted(-1, -1, 1, 1))
+            if dpr == 1.0:
+                self._paint_screen_background(p, t, pix.width(), pix.height())
+            else:
+                p.setTransform(t)
+                self._paint_background(p, t.inverted()[0].mapRect(QRectF(vp.rect())).adjusted(-1, -1, 1, 1))
             p.end()
             self._background, self._background_key = pix, key
         painter.save()
         painter.resetTransform()
         painter.drawPixmap(0, 0, self._background)
         painter.restore()
+
+    def _paint_screen_background(self, painter: QPainter, t, width: int, height: int) -> None:
+        """Paper and grid over ``width`` x ``height`` device px from the painter's origin (no transform) at the view's
+        zoom and pan ``t``: the grid as the pixels its aliased lines light, filled (``sketchpad.grid_pixels``)."""
+        painter.fillRect(QRect(0, 0, width, height), theme.PAPER)
+        if self.grid_visible:
+            step = self.grid_step_m()
+            area = t.inverted()[0].mapRect(QRectF(self.viewport().rect())).adjusted(-1, -1, 1, 1)
+            paint_grid_pixels(painter, t, area, [(step, theme.GRID_MINOR), (step * theme.GRID_MAJOR_EVERY, theme.GRID_MAJOR)],
+                              theme.GRID_AXIS, (width, height))
 
     def _paint_background(self, painter: QPainter, rect: QRectF) -> None:
         painter.fillRect(rect, theme.PAPER)

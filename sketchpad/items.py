@@ -236,10 +236,14 @@ def blit_cached(painter: QPainter, origin: QPointF, dpr: float, key: tuple, boun
     a pixmap; ``painter`` must pass :func:`pixel_dpr`.  The origin is placed to a quarter device pixel."""
     t = painter.worldTransform()
     pix, x, y = cached_blit_at(t.m11() * origin.x() + t.dx(), t.m22() * origin.y() + t.dy(), dpr, key, bounds, draw)
-    painter.save()
-    painter.setWorldTransform(QTransform())
+    # only the transform changes for the blit: set it back rather than save and restore the painter's whole
+    # state (pen, brush, font, clip), which costs more than the blit (a zoom step blits ~400 pixmaps)
+    painter.setWorldTransform(_IDENTITY)
     painter.drawPixmap(QPointF(x, y), pix)
-    painter.restore()
+    painter.setWorldTransform(t)
+
+
+_IDENTITY = QTransform()
 
 
 _NO_DPR = -1.0
@@ -263,10 +267,14 @@ def _draw_halo_text(painter: QPainter, pos: QPointF, text: str, colour: QColor, 
         _paint_halo_text(painter, text, font, colour)
         painter.restore()
         return
+    blit_cached(painter, pos, dpr, *halo_blit(text, colour, font))
+
+
+def halo_blit(text: str, colour: QColor, font) -> tuple:
+    """(key, bounds, draw) of haloed ``text`` for :func:`blit_cached` (the bounds measure the text: ~15 us)."""
     m = HALO_WIDTH_PX
-    blit_cached(painter, pos, dpr, ("halo", text, font_key(font), colour.rgba()),
-                font_metrics(font).boundingRect(text).adjusted(-m, -m, m, m),
-                lambda p: _paint_halo_text(p, text, font, colour))
+    return (("halo", text, font_key(font), colour.rgba()), font_metrics(font).boundingRect(text).adjusted(-m, -m, m, m),
+            lambda p: _paint_halo_text(p, text, font, colour))
 
 
 def _drawn_differs(a: Point, b: Point) -> bool:
@@ -322,6 +330,7 @@ class PointItem(SketchItem):
             w = fm.horizontalAdvance(label)
             self._label_rect = QRectF(r + theme.LABEL_GAP_PX, -r - fm.ascent(), w, fm.height())
             self._baseline = QPointF(self._label_rect.left(), self._label_rect.top() + fm.ascent())
+            self._halo = halo_blit(label, theme.LABEL_TEXT, theme.font())
             m = theme.SELECTION_WIDTH_PX + 2
             self._bounds = self.marker_rect().adjusted(-m, -m, m, m).united(self._label_rect.adjusted(-3, -3, 3, 3))
         pos = to_scene(point.x, point.y)
@@ -358,8 +367,13 @@ class PointItem(SketchItem):
             r = self.radius + m
             blit_cached(painter, QPointF(), dpr, ("marker", type(self), self.radius, selected),
                         QRectF(-r, -r, 2 * r, 2 * r), lambda p: self._paint_glyph(p, selected))
-        if self._label:
+        if not self._label:
+            return
+        if dpr is None:
             _draw_halo_text(painter, self._baseline, self._label, theme.LABEL_TEXT, theme.font(), dpr=dpr)
+        else:  # the name's pixmap key and bounds were worked out with the name (a zoom repaints every marker)
+            key, bounds, draw = self._halo
+            blit_cached(painter, self._baseline, dpr, key, bounds, draw)
 
     def _paint_glyph(self, painter: QPainter, selected: bool) -> None:
         if selected:
@@ -475,6 +489,7 @@ class RopeItem(SketchItem):
         self._tip = ""
         self._pens: dict[tuple, QPen] = {}
         self._label_w = 0.0
+        self._label_px: tuple = (None, 0.0, 0.0, 0.0)  # (name, width, height, bold width) in pixels
         self._shown: tuple | None = None  # what the scene last built this item from (sketchpad.canvas)
 
     def set_rope(self, rope: Rope, positions: dict, kinds: dict, colour: QColor, scale_m_per_px: float) -> None:
@@ -591,11 +606,13 @@ class RopeItem(SketchItem):
             rect = rect.united(QRectF(c.x() - r * 1.5, c.y() - r * 1.5, r * 3, r * 3))
         rect = rect.united(self._arrow.boundingRect())
         if self._label:
-            small = theme.font(theme.SMALL_POINT_SIZE)
-            w = text_advance(self._label, small) * k
-            h = font_metrics(small).height() * k
+            if self._label_px[0] != self._label:  # the name's size in pixels, measured when the name changes
+                small = theme.font(theme.SMALL_POINT_SIZE)
+                self._label_px = (self._label, text_advance(self._label, small), font_metrics(small).height(),
+                                  text_advance(self._label, theme.font(theme.SMALL_POINT_SIZE, bold=True)))
+            _name, w, h, self._label_w = self._label_px
+            w, h = w * k, h * k
             rect = rect.united(QRectF(self._label_pos.x() - w / 2 - k, self._label_pos.y() - h, w + 2 * k, h * 1.5))
-            self._label_w = text_advance(self._label, theme.font(theme.SMALL_POINT_SIZE, bold=True))
         m = (theme.SELECTION_WIDTH_PX + theme.ROPE_WIDTH_PX) * k
         self._bounds = rect.adjusted(-m, -m, m, m)
         self._shape_due = True  # the hit shape is stroked when Qt first asks for it
@@ -628,7 +645,20 @@ class RopeItem(SketchItem):
         painter.setPen(pen(colour, theme.ROPE_WIDTH_PX))
         painter.setBrush(Qt.NoBrush)
         painter.drawPath(self._path)
+        dpr = pixel_dpr(painter, k) if self._glyphs else None
         for kind, c, r, d in self._glyphs:
+            if dpr is not None and kind in _BLITTED_GLYPHS:  # on screen: the round part blitted (see _paint_round_glyph)
+                blit_cached(painter, c, dpr, ("rope-glyph", kind, colour.rgba()), _GLYPH_BOUNDS[kind],
+                            lambda p, kind=kind: self._paint_round_glyph(p, kind, colour))
+                if kind == "tied":
+                    painter.setPen(pen(theme.POINT_MARK, 1.0))
+                    side = _left(d) * (r * 0.6)
+                    painter.drawLine(c + side, c - side)
+                elif kind == "capture":
+                    painter.setPen(Qt.NoPen)
+                    painter.setBrush(colour)
+                    painter.drawEllipse(c + d * (r * 1.05), r * 0.42, r * 0.42)
+                continue
             if kind in ("pulley", "capture"):
                 painter.setPen(pen(colour, 1.6))
                 painter.setBrush(theme.PULLEY_FILL)
@@ -665,6 +695,45 @@ class RopeItem(SketchItem):
             _draw_halo_text(painter, origin, self._label, colour, theme.font(theme.SMALL_POINT_SIZE, bold=True), k)
 
 
+    def _paint_round_glyph(self, painter: QPainter, kind: str, colour: QColor) -> None:
+        """The part of a pass glyph that looks the same whatever the rope's direction (sheave and axle, ring,
+        knot disc), drawn in pixels around the origin as :meth:`paint` draws it in metres.
+
+        A glyph keeps its pixel size, so on screen it is rendered once per look (kind, colour) and sub-pixel
+        phase into the glyph pixmaps (:func:`blit_cached`) and blitted: an anti-aliased ellipse drawn
+        afresh costs Qt ~30 us, and a zoom step repaints every rope (~150 glyphs on a 50-rope rig)."""
+        pen = self.pen
+        if kind in ("pulley", "capture"):
+            r = theme.PULLEY_RADIUS_PX
+            painter.setPen(pen(colour, 1.6))
+            painter.setBrush(theme.PULLEY_FILL)
+            painter.drawEllipse(QPointF(), r * 0.82, r * 0.82)
+            painter.setPen(Qt.NoPen)
+            painter.setBrush(colour)
+            painter.drawEllipse(QPointF(), theme.PULLEY_AXLE_PX, theme.PULLEY_AXLE_PX)
+        elif kind == "sliding":
+            r = theme.RING_RADIUS_PX
+            painter.setPen(pen(colour, 1.8))
+            painter.setBrush(Qt.NoBrush)
+            painter.drawEllipse(QPointF(), r, r)
+        else:  # tied
+            r = theme.KNOT_RADIUS_PX
+            painter.setPen(pen(theme.POINT_OUTLINE, 1.0))
+            painter.setBrush(colour)
+            painter.drawEllipse(QPointF(), r, r)
+
+
+def _glyph_bounds(radius_px: float) -> QRectF:
+    """Pixels around a glyph's centre its round part can touch (the widest pen is 1.8 px, plus anti-aliasing)."""
+    m = radius_px + 2.0
+    return QRectF(-m, -m, 2 * m, 2 * m)
+
+
+_GLYPH_BOUNDS = {"pulley": _glyph_bounds(theme.PULLEY_RADIUS_PX), "capture": _glyph_bounds(theme.PULLEY_RADIUS_PX),
+                 "sliding": _glyph_bounds(theme.RING_RADIUS_PX), "tied": _glyph_bounds(theme.KNOT_RADIUS_PX)}
+_BLITTED_GLYPHS = frozenset(_GLYPH_BOUNDS)
+
+
 # --- forces --------------------------------------------------------------------------------
 class ForceItem(SketchItem):
     """An external force the planner put on a free point: an arrow and its size, in screen pixels."""
@@ -694,8 +763,11 @@ class ForceItem(SketchItem):
             self._text = f"{text}  {force.label}".strip() if force.label else text
             d = self._direction()
             tip = d * theme.FORCE_LENGTH_PX
-            fm = font_metrics(theme.font(theme.SMALL_POINT_SIZE))
+            small = theme.font(theme.SMALL_POINT_SIZE)
+            fm = font_metrics(small)
             label = QRectF(tip.x() + 4, tip.y() - fm.ascent(), fm.horizontalAdvance(self._text) + 4, fm.height())
+            self._label_at = QPointF(tip.x() + 5, tip.y() + fm.ascent() / 2 - 1)
+            self._halo = halo_blit(self._text, theme.FORCE_COLOUR, small)
             m = theme.FORCE_HEAD_PX + theme.SELECTION_WIDTH_PX
             bounds = QRectF(QPointF(0, 0), tip).normalized().adjusted(-m, -m, m, m).united(label)
             if bounds != self._bounds:
@@ -736,9 +808,12 @@ class ForceItem(SketchItem):
         painter.setBrush(theme.FORCE_COLOUR)
         painter.setPen(Qt.NoPen)
         painter.drawPolygon(QPolygonF([tip, tip - d * h + side, tip - d * h - side]))
-        fm = font_metrics(theme.font(theme.SMALL_POINT_SIZE))
-        _draw_halo_text(painter, QPointF(tip.x() + 5, tip.y() + fm.ascent() / 2 - 1), self._text,
-                        theme.FORCE_COLOUR, theme.font(theme.SMALL_POINT_SIZE))
+        dpr = pixel_dpr(painter)
+        if dpr is None:
+            _draw_halo_text(painter, self._label_at, self._text, theme.FORCE_COLOUR, theme.font(theme.SMALL_POINT_SIZE),
+                            dpr=None)
+        else:  # its pixmap key and bounds were worked out with the text
+            blit_cached(painter, self._label_at, dpr, *self._halo)
 
 
 # --- site features ----------------------------------------------------------------------------

@@ -15,6 +15,7 @@ from PySide6.QtWidgets import QGraphicsItem
 from sketchpad import theme
 from sketchpad.drag_layer import Versioned
 from sketchpad.geometry import to_scene
+from sketchpad.items import cached_blit_at, pixel_dpr
 
 #: a free point counts as moved by the solver past this distance (m): below it the marker covers both places
 MOVED_M = 0.05
@@ -54,15 +55,32 @@ class DrawnPlaceItem(Versioned, QGraphicsItem):
         painter.setPen(self._pen)
         painter.setBrush(Qt.NoBrush)
         r = theme.DRAWN_PLACE_RADIUS_PX
+        dpr = pixel_dpr(painter)
         for a, b in self.pairs:
             pa, pb = t.map(a), t.map(b)
-            painter.drawEllipse(pa, r, r)
+            if dpr is None:
+                painter.drawEllipse(pa, r, r)
+            else:  # on screen the ring is blitted from the glyph pixmaps (a dashed ellipse costs Qt ~30 us, and a
+                # zoom step draws every ring again)
+                pix, x, y = cached_blit_at(pa.x(), pa.y(), dpr, ("drawn-place", r), _RING_BOUNDS, self._draw_ring)
+                painter.drawPixmap(QPointF(x, y), pix)
             d = pb - pa
             n = (d.x() ** 2 + d.y() ** 2) ** 0.5
             if n > r + theme.POINT_RADIUS_PX["point"]:
                 u = d / n
                 painter.drawLine(pa + u * r, pb - u * theme.POINT_RADIUS_PX["point"])
         painter.restore()
+
+
+    def _draw_ring(self, painter: QPainter) -> None:
+        r = theme.DRAWN_PLACE_RADIUS_PX
+        painter.setPen(self._pen)
+        painter.setBrush(Qt.NoBrush)
+        painter.drawEllipse(QPointF(0.0, 0.0), r, r)
+
+
+_RING_BOUNDS = QRectF(-theme.DRAWN_PLACE_RADIUS_PX - 2.0, -theme.DRAWN_PLACE_RADIUS_PX - 2.0,
+                      2 * theme.DRAWN_PLACE_RADIUS_PX + 4.0, 2 * theme.DRAWN_PLACE_RADIUS_PX + 4.0)
 
 
 def drawn_place_pairs(rig, shown_at) -> list[tuple[QPointF, QPointF]]:
