@@ -122,7 +122,7 @@ class Drawing:
         from sketchpad.water_layer import WaterItem
 
         self.water_item = WaterItem()  # the current's arrows and the ropes it bows
-        self.scene.addItem(self.water_item)
+        self.water_item.add_to(self.scene, under=self.force_item)
         self.water_item.show(rig, result)
         self.zones: list = []
         self.scan = None  # the failure scan drawn (solver.failures.Scan), once one is
@@ -203,6 +203,7 @@ class Drawing:
 
         m_per_px = 1.0 / k
         self.scene.set_scale(m_per_px)
+        self.water_item.set_scale(m_per_px)
         declutter_names(self.scene, self.rig, k)  # a page cannot be zoomed: names kept apart
         if not self.result.ok:
             self.force_item.bands, self.force_item.moved_points = [], []

@@ -1,7 +1,7 @@
 """The plan's moving water: an arrow field over each current, river left / right, and ropes bowed by the water.
 
-One QGraphicsItem drawn in scene metres from the rig's features and the Result's ``water``
-(:mod:`solver.water_result`): arrows on a grid over each moving-water feature (length by speed, the
+Two QGraphicsItems (:class:`WaterItem` and its ``bows``) drawn in scene metres from the rig's features and the
+Result's ``water`` (:mod:`solver.water_result`): arrows on a grid over each moving-water feature (length by speed, the
 topmost feature's current where they overlap), the speed and "river left" / "river right" (facing
 downstream, the trade's convention) on each main current, each bowed rope as the solver shaped it, and
 the tension at both ends of its wet part in the rig's force unit.  Text keeps its screen size at any zoom.
@@ -10,14 +10,13 @@ the tension at both ends of its wet part in the rig's force unit.  Text keeps it
 from __future__ import annotations
 
 import math
+import threading
 
 import numpy as np
-from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QPainter, QPainterPath, QPolygonF
 from PySide6.QtWidgets import QGraphicsItem
 
 from sketchpad import theme
-from sketchpad.drag_layer import Versioned
+from sketchpad.water_marks import NO_MARKS, MarkItem, Marks
 from solver.model import Rig
 from solver.result import Result
 from solver.directions import bearing_text
@@ -28,8 +27,8 @@ from solver.water_site import flow_field, main_current, river_sides
 ARROWS_ACROSS = 10
 
 
-def _scene(x: float, y: float) -> QPointF:
-    return QPointF(float(x), -float(y))
+def _scene(x: float, y: float) -> tuple[float, float]:
+    return (float(x), -float(y))
 
 
 def flow_arrows(rig: Rig) -> list[tuple[tuple[float, float], tuple[float, float]]]:
@@ -106,101 +105,121 @@ def _speed_label_at(f, main):
     return _upstream_point(poly, f.flow.bearing_deg) if f is main else poly.representative_point()
 
 
-class WaterItem(Versioned, QGraphicsItem):
-    """The current's arrows, river sides, bowed ropes and wet-end tensions (scene metres, overlay z).
+def field_marks(rig: Rig) -> Marks:
+    """The currents of ``rig`` as drawn (scene metres): the arrow field, each current's speed and bearing, and
+    river left / right on the main current; what depends on the site's features and the length unit alone."""
+    if rig.view != "plan":
+        return NO_MARKS
+    arrows = tuple((_scene(*a), _scene(*b)) for a, b in flow_arrows(rig))
+    main = main_current(rig)
+    texts = []
+    for f in rig.site.features:
+        if f.flow is not None and f.polygon is not None and f.kind == "water":
+            c = _speed_label_at(f, main)
+            texts.append((f"{format_speed(f.flow.speed_m_s, rig.display.length)} toward {bearing_text(f.flow.bearing_deg)}",
+                          _scene(c.x, c.y), theme.FLOW_LABEL, (0.0, 0.0)))
+    texts += [(w, _scene(*p), theme.FLOW_LABEL, (0.0, 0.0)) for w, p in river_side_labels(rig)]
+    return Marks(arrows=arrows, texts=tuple(texts))
 
-    ``Versioned`` tells the drag layer of every change, and :meth:`show` changes the item only when what it
-    draws changed: a drag frame then keeps it in the still image (a dry rig, a current no drag step moves)
-    or draws it live (ropes the water bows), instead of painting every frame the slow way."""
+
+def bow_marks(rig: Rig, result: Result | None) -> Marks:
+    """What ``result``'s water adds to the plan (scene metres): each bowed rope in its rope colour with the
+    tension at both ends of its wet part, and the current's push on each body as an arrow downstream of it."""
+    water = getattr(result, "water", None) if result is not None and result.ok and rig.view == "plan" else None
+    if water is None:
+        return NO_MARKS
+    unit = rig.display.force
+    arrows, lines, texts = [], [], []
+    for b in water.bodies:
+        if b.force_N <= 0 or b.point not in result.points:
+            continue
+        x, y = result.points[b.point]
+        n = math.hypot(b.fx_N, b.fy_N)
+        tip = (x + 3.0 * b.fx_N / n, y + 3.0 * b.fy_N / n)
+        arrows.append((_scene(x, y), _scene(*tip)))
+        texts.append((f"current {format_force(b.force_N, unit)}", _scene(tip[0], tip[1] - 0.8), theme.FLOW_LABEL,
+                      (0.0, 0.0)))
+    order = {r.id: i for i, r in enumerate(rig.ropes)}
+    for w in water.ropes:
+        if not w.bowed:
+            continue
+        line = tuple(_scene(*p) for p in w.polyline)
+        lines.append((line, theme.rope_colour(order.get(w.rope, 0)), theme.BOWED_ROPE_PX))
+        for idx, inward, t in ((w.wet_from, 1, w.tension_in_N), (w.wet_to, -1, w.tension_out_N)):
+            texts.append((format_force(t, unit), line[idx], theme.WET_TENSION, _along(line, idx, inward)))
+    return Marks(arrows=tuple(arrows), lines=tuple(lines), texts=tuple(texts))
+
+
+#: How far (px) a wet-end tension sits from its end along its own rope: two ropes ending at one body (a V of
+#: tethers) would otherwise write their tensions over each other there (ours: about two text heights).
+WET_LABEL_PX = 26.0
+
+
+def _along(line: tuple, idx: int, inward: int) -> tuple[float, float]:
+    """The px offset ``WET_LABEL_PX`` from ``line[idx]`` toward its neighbour ``inward`` (+1 / -1) along the line."""
+    j = idx + inward
+    if not 0 <= j < len(line):
+        return (0.0, 0.0)
+    dx, dy = line[j][0] - line[idx][0], line[j][1] - line[idx][1]
+    n = math.hypot(dx, dy)
+    return (WET_LABEL_PX * dx / n, WET_LABEL_PX * dy / n) if n > 0 else (0.0, 0.0)
+
+
+class WaterItem(MarkItem):
+    """The current's arrows, speeds and river sides (scene metres, just under the overlay), and in :attr:`bows`
+    (an item of its own in the overlay's place, under the force labels) the ropes the water bows, their wet-end
+    tensions and the current's push on bodies.
+
+    Two items because they change at different times: a drag step changes the bows with its solve but not the
+    currents.  The field stays in the drag layer's still image (``sketchpad.drag_layer``); the bows, a solver
+    result like the force overlay, sit at the overlay's z and are drawn in every frame, so the frame after a
+    mouse move (the dragged point and its ropes changed) and the frame after its solve (the overlay and the
+    bows changed) keep the same set of changing items below the overlay, which is what lets the layer build.
+    The field's drawing is kept for the last (site features, view, length unit) it was made from
+    (:meth:`_field`), so a drag step does not lay the arrows out again; ``tests/sketchpad/test_water_drag_frame.py``
+    checks it equals a fresh drawing."""
 
     def __init__(self) -> None:
         super().__init__()
         self.setZValue(theme.Z_OVERLAY - 1.0)
-        self._arrows: list = []
-        self._texts: list[tuple[str, QPointF, object]] = []
-        self._ropes: list[tuple[QPainterPath, object]] = []
-        self._bounds = QRectF()
+        self.bows = MarkItem()
+        self.bows.setZValue(theme.Z_OVERLAY)
+        self._lock = threading.Lock()  # the field's memo (GUI thread today; locked so a worker could draw too)
+        self._field_for: tuple | None = None  # (features, view, length unit, Marks) of the last field drawn
+
+    def add_to(self, scene, under: QGraphicsItem | None = None) -> None:
+        """Put the field and the bows in ``scene``, the bows stacked just under ``under`` (the force overlay item,
+        at the same z) so the labels stay readable over a bowed rope."""
+        scene.addItem(self)
+        scene.addItem(self.bows)
+        if under is not None:
+            self.bows.stackBefore(under)
+
+    def set_scale(self, m_per_px: float) -> None:
+        super().set_scale(m_per_px)
+        self.bows.set_scale(m_per_px)
+
+    def follow_zoom(self, px_per_m: float) -> None:
+        """A view's zoom changed (its ``scale_changed``, pixels per metre)."""
+        if px_per_m > 0:
+            self.set_scale(1.0 / px_per_m)
 
     def show(self, rig: Rig | None, result: Result | None) -> None:
         """Draw ``rig``'s currents and ``result``'s bowed ropes (nothing when either is None or dry)."""
-        arrows, texts, ropes = self._arrows, self._texts, self._ropes
-        self._arrows, self._texts, self._ropes = [], [], []
-        if rig is not None and rig.view == "plan":
-            self._arrows = [(_scene(*a), _scene(*b)) for a, b in flow_arrows(rig)]
-            main = main_current(rig)
-            for f in rig.site.features:
-                if f.flow is not None and f.polygon is not None and f.kind == "water":
-                    from shapely.geometry import Polygon
+        scale = getattr(self.scene(), "scale_m_per_px", None)
+        if scale:
+            self.set_scale(scale)
+        self.set_marks(self._field(rig) if rig is not None else NO_MARKS)
+        self.bows.set_marks(bow_marks(rig, result) if rig is not None else NO_MARKS)
 
-                    c = _speed_label_at(f, main)
-                    self._texts.append((f"{format_speed(f.flow.speed_m_s, rig.display.length)} toward {bearing_text(f.flow.bearing_deg)}",
-                                        _scene(c.x, c.y), theme.FLOW_LABEL))
-            self._texts += [(w, _scene(*p), theme.FLOW_LABEL) for w, p in river_side_labels(rig)]
-            water = getattr(result, "water", None) if result is not None and result.ok else None
-            if water is not None:
-                unit = rig.display.force
-                for b in water.bodies:  # the current's push on each body, as an arrow downstream of it
-                    if b.force_N <= 0 or b.point not in result.points:
-                        continue
-                    x, y = result.points[b.point]
-                    n = math.hypot(b.fx_N, b.fy_N)
-                    tip = (x + 3.0 * b.fx_N / n, y + 3.0 * b.fy_N / n)
-                    self._arrows.append((_scene(x, y), _scene(*tip)))
-                    self._texts.append((f"current {format_force(b.force_N, unit)}", _scene(tip[0], tip[1] - 0.8),
-                                        theme.FLOW_LABEL))
-                order = {r.id: i for i, r in enumerate(rig.ropes)}
-                for w in water.ropes:
-                    if not w.bowed:
-                        continue
-                    path = QPainterPath(_scene(*w.polyline[0]))
-                    for p in w.polyline[1:]:
-                        path.lineTo(_scene(*p))
-                    self._ropes.append((path, theme.rope_colour(order.get(w.rope, 0))))
-                    for idx, t in ((w.wet_from, w.tension_in_N), (w.wet_to, w.tension_out_N)):
-                        self._texts.append((format_force(t, unit), _scene(*w.polyline[idx]), theme.WET_TENSION))
-        if (self._arrows, self._texts, self._ropes) == (arrows, texts, ropes):
-            return  # the same drawing: the item and its version stay as they were
-        self.prepareGeometryChange()
-        pts = [p for a in self._arrows for p in a] + [t[1] for t in self._texts]
-        rect = QRectF()
-        for path, _ in self._ropes:
-            rect = rect.united(path.boundingRect())
-        if pts:
-            xs, ys = [p.x() for p in pts], [p.y() for p in pts]
-            rect = rect.united(QRectF(min(xs), min(ys), max(xs) - min(xs), max(ys) - min(ys)))
-        self._bounds = rect.adjusted(-8, -8, 8, 8)
-        self.update()
-
-    def boundingRect(self) -> QRectF:
-        return self._bounds
-
-    def paint(self, painter: QPainter, option, widget=None) -> None:
-        t = painter.worldTransform()
-        k = 1.0 / math.sqrt(abs(t.m11() * t.m22() - t.m12() * t.m21()) or 1.0)  # metres per pixel
-        painter.setRenderHint(QPainter.Antialiasing)
-        painter.setPen(theme.cosmetic_pen(theme.FLOW_ARROW, theme.FLOW_ARROW_PX))
-        head = 6.0 * k
-        for a, b in self._arrows:
-            painter.drawLine(a, b)
-            dx, dy = b.x() - a.x(), b.y() - a.y()
-            n = math.hypot(dx, dy) or 1.0
-            ux, uy = dx / n, dy / n
-            painter.drawPolyline(QPolygonF([QPointF(b.x() - ux * head - uy * head * 0.5, b.y() - uy * head + ux * head * 0.5),
-                                            b, QPointF(b.x() - ux * head + uy * head * 0.5, b.y() - uy * head - ux * head * 0.5)]))
-        for path, colour in self._ropes:
-            painter.setPen(theme.cosmetic_pen(colour, theme.BOWED_ROPE_PX))
-            painter.setBrush(Qt.NoBrush)
-            painter.drawPath(path)
-        fnt = theme.font(theme.SMALL_POINT_SIZE, bold=True)
-        painter.setFont(fnt)
-        for text, at, colour in self._texts:
-            painter.save()
-            painter.translate(at)
-            painter.scale(k, k)
-            w = painter.fontMetrics().horizontalAdvance(text)
-            painter.setPen(theme.PAPER if hasattr(theme, "PAPER") else Qt.white)
-            for ox, oy in ((-1, 0), (1, 0), (0, -1), (0, 1)):
-                painter.drawText(QPointF(-w / 2 + ox, -4 + oy), text)
-            painter.setPen(colour)
-            painter.drawText(QPointF(-w / 2, -4), text)
-            painter.restore()
+    def _field(self, rig: Rig) -> Marks:
+        """:func:`field_marks` of ``rig``, made again only when its features, view or length unit changed."""
+        key = (rig.site.features, rig.view, rig.display.length)
+        with self._lock:
+            last = self._field_for
+            if last is not None and (last[0] is key[0] or last[0] == key[0]) and last[1:3] == key[1:]:
+                return last[3]
+        marks = field_marks(rig)
+        with self._lock:
+            self._field_for = (*key, marks)
+        return marks

@@ -40,7 +40,8 @@ class ResultOverlay(QObject):
         self.force_item = ForceItem()
         self.scene.add_overlay_item(self.force_item)
         self.water_item = WaterItem()  # the current's arrows and the ropes it bows
-        self.scene.addItem(self.water_item)
+        self.water_item.add_to(self.scene, under=self.force_item)
+        view.scale_changed.connect(self.water_item.follow_zoom)  # its pixel-sized texts reach further zoomed out
         self.banner = Banner(view.viewport())
         self.legend = Legend(view.viewport())
         view.foreground_painters.append(self.legend.paint_on)

@@ -1,4 +1,4 @@
-"""Shared set-up of the canvas benchmarks: a shown main window with the 50-rope rig solved once."""
+"""Shared set-up of the canvas benchmarks: a shown main window with a rig (the 50-rope rig by default) solved once."""
 
 from __future__ import annotations
 
@@ -9,15 +9,12 @@ from sketchpad.main_window import MainWindow
 from tests.bench.fifty_ropes import fifty_rope_rig
 
 
-@pytest.fixture
-def window(qtbot):
-    """A 1400 x 900 main window showing :func:`fifty_rope_rig` zoomed to fit, its first solve done."""
+def shown_window(qtbot, rig) -> MainWindow:
+    """A 1400 x 900 main window showing ``rig`` zoomed to fit, its first solve done (close it with :func:`closed`)."""
     w = MainWindow()
     w.resize(1400, 900)
     w.show()
     qtbot.waitExposed(w)
-    rig = fifty_rope_rig()
-    assert len(rig.ropes) == 50
     w.document.replace_all(rig)
     w.view.zoom_to_fit()
     sched = w.live.scheduler
@@ -27,7 +24,30 @@ def window(qtbot):
     sched.background, sched.background_after_ms = False, float("inf")
     first = sched.solve_now()
     assert first.ok, first.message
-    yield w
+    return w
+
+
+def closed(w: MainWindow) -> None:
     w.close()
     w.deleteLater()
     QApplication.processEvents()
+
+
+@pytest.fixture
+def window(qtbot):
+    """A 1400 x 900 main window showing :func:`fifty_rope_rig` zoomed to fit, its first solve done."""
+    rig = fifty_rope_rig()
+    assert len(rig.ropes) == 50
+    w = shown_window(qtbot, rig)
+    yield w
+    closed(w)
+
+
+@pytest.fixture
+def water_window(qtbot):
+    """A 1400 x 900 main window showing ``test_bench_water.boat_across_the_current`` zoomed to fit, solved once."""
+    from tests.bench.test_bench_water import boat_across_the_current
+
+    w = shown_window(qtbot, boat_across_the_current())
+    yield w
+    closed(w)

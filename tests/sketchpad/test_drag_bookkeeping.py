@@ -262,9 +262,10 @@ def test_the_haul_preview_shown_mid_drag_keeps_frames_from_reading_the_scene_and
 
 @pytest.mark.parametrize("pid", ["A2", "H4"])
 def test_the_water_layer_is_kept_or_drawn_live_by_the_drag_layer_as_qt_paints_it(main_window, pid):
-    """The plan's water item (sketchpad.water_layer) is versioned and changes only when what it draws changes: in
-    the tethered-boat sample a drag of the tether anchor A2 redraws its bowed rope (drawn live), and in the dry
-    fifty-rope rig it stays still; either way the layer builds, reads the scene once and shows what Qt paints."""
+    """The plan's water items (sketchpad.water_layer) are versioned and change only when what they draw changes: in
+    the tethered-boat sample a drag of the tether anchor A2 redraws its bowed rope (``bows``, at the overlay's z)
+    while the current's arrows stay in the still image, and in the dry fifty-rope rig both stay still; either way
+    the layer builds, reads the scene once and shows what Qt paints."""
     from pathlib import Path
 
     from solver.rigfile import load_rig
@@ -279,13 +280,16 @@ def test_the_water_layer_is_kept_or_drawn_live_by_the_drag_layer_as_qt_paints_it
     else:
         doc, sched, view = fifty_rope_window(main_window)
     water, layer = main_window.live.overlay.water_item, view.drag_layer
-    wet = bool(water._ropes)
+    wet = bool(water.bows.marks.lines)
     assert wet == (pid == "A2")
     drag_steps(doc, sched, view, pid, 4)
-    scans, version = layer.scans, water._ver
+    scans, version, bows = layer.scans, water._ver, water.bows._ver
     drag_steps(doc, sched, view, pid, 6, start=4)
     assert layer.builds >= 1 and layer.scans == scans
-    assert (water._ver != version) == wet  # a bowed rope moves with the anchor; a dry plan's item is untouched
+    assert water._ver == version  # the current's arrows: the same drawing all drag long
+    assert (water.bows._ver != bows) == wet  # a bowed rope moves with the anchor; a dry plan's item is untouched
+    assert water not in [it for kind, it in layer._steps if kind == "live"]  # in the still image
+    assert water.bows in layer._stack[1]  # with the force overlay: drawn in every frame
     check_against_full_scan(view)
     assert_screen_fresh(view)
     assert_same(frame(view, True, through_layer=True), frame(view, False))
