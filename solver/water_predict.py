@@ -1,0 +1,83 @@
+"""Where a warm water solve starts its outer rounds: the last two settled states, extrapolated along the drag.
+
+The outer rounds of :func:`solver.water.solve_in_water` (drag from the solved directions, rope handed
+between the cut parts of a sliding run) gain a fixed factor per round, so their count is set by how far
+the first round starts from the answer.  A live drag moves one part of the rig by a few centimetres a
+step, mostly in the same direction: the change between the last two answers, scaled by how far the fixed
+points moved now against then, predicts this answer's free points (hidden ones too) and cut-part lengths
+to second order in the step (a secant predictor, as in the continuation methods of Allgower & Georg,
+"Numerical Continuation Methods", Springer 1990, ch. 2).  Only a start: the rounds end on the same test
+whatever the start, so the answer is the same to the solve's tolerance (tested against cold solves).
+A sliding run not hauled keeps its rope: the predicted lengths of its parts are scaled back to its total.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Mapping
+
+import numpy as np
+
+from solver import memo
+
+#: Largest extrapolation factor used (a step much longer than the last is not trusted to continue it).
+MAX_STRETCH = 1.5
+
+
+@dataclass(frozen=True)
+class WaterState:
+    """A settled water solve: fixed and free positions (m) by id, cut-part lengths (m) by augmented rope."""
+
+    fixed: dict[str, tuple[float, float]]
+    free: dict[str, tuple[float, float]]
+    lengths: dict[str, float]
+
+
+def keep(fixed: set[str], at: Mapping[str, tuple[float, float]], lengths: Mapping[str, float]) -> None:
+    """Remember a settled solve (``at``: every point's position, ``fixed``: which are fixed)."""
+    memo.WATER_STATES.put(WaterState({k: tuple(v) for k, v in at.items() if k in fixed},
+                                     {k: tuple(v) for k, v in at.items() if k not in fixed}, dict(lengths)))
+
+
+def factor(fixed_now: Mapping[str, tuple[float, float]], older: WaterState, newer: WaterState) -> float:
+    """How far the fixed points moved since ``newer`` in units of their move from ``older`` to ``newer``
+    (projected; 0 when they did not move then or the points differ), at most :data:`MAX_STRETCH`."""
+    ids = sorted(fixed_now)
+    if not ids or set(ids) != set(older.fixed) or set(ids) != set(newer.fixed):
+        return 0.0
+    a, b, c = (np.array([s[k] for k in ids], dtype=float) for s in (older.fixed, newer.fixed, fixed_now))
+    then, now = (b - a).ravel(), (c - b).ravel()
+    norm = float(then @ then)
+    if norm <= 1e-18:
+        return 0.0
+    return float(np.clip((now @ then) / norm, 0.0, MAX_STRETCH))
+
+
+def predict(fixed_now: Mapping[str, tuple[float, float]], at: dict[str, tuple[float, float]], hidden: set[str],
+            lengths: dict[str, float], groups) -> None:
+    """Move the warm start ``at`` (free points) and ``lengths`` along the last step's change, in place.
+
+    Only a start from the newest state (every free user point of ``at`` where that state has it) is moved;
+    a ``hidden`` point starts at its newest place plus the change.  ``groups``: per sliding run, (its kept
+    parts, whether it is hauled) -- a run not hauled keeps its total rope.
+    """
+    states = memo.WATER_STATES.get()
+    if len(states) < 2:
+        return
+    older, newer = states
+    alpha = factor(fixed_now, older, newer)
+    users = [k for k in at if k in newer.free and k not in hidden]
+    if alpha == 0.0 or not all(at[k] == newer.free[k] and k in older.free for k in users):
+        return
+    for k in [*users, *(h for h in hidden if h in newer.free and h in older.free)]:
+        n, o = newer.free[k], older.free[k]
+        at[k] = (n[0] + alpha * (n[0] - o[0]), n[1] + alpha * (n[1] - o[1]))
+    for parts, hauled in groups:
+        if not parts or not all(p in lengths and p in newer.lengths and p in older.lengths for p in parts):
+            continue
+        total = sum(lengths[p] for p in parts)
+        moved = {p: lengths[p] + alpha * (newer.lengths[p] - older.lengths[p]) for p in parts}
+        if any(v <= 0 for v in moved.values()):
+            continue
+        scale = 1.0 if hauled else total / sum(moved.values())
+        lengths.update({p: v * scale for p, v in moved.items()})
