@@ -38,8 +38,8 @@ from solver.model import Force, Pass, Point, Rig, Rope, Site
 from solver.result import Result, Warning_
 from solver.water_forces import HIDDEN, _drag_forces, _scale
 from solver.water_site import FlowField, flow_field
-from solver.water_predict import keep, predict
-from solver.water_slide import MESH_REL, cut_run, remesh, start_mesh, warm_lengths
+from solver.water_predict import drive, keep, predict
+from solver.water_slide import MESH_REL, cut_run, remesh, start_mesh, warm_mesh
 
 log = logging.getLogger(__name__)
 
@@ -245,11 +245,12 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
         # a fixed point stays where the rig has it now (a dragged anchor): the start's is where it was
         at.update({k: tuple(v) for k, v in start.items() if k in at and k not in fixed})
         at.update(_LAST_BOW.start(plan, at))
-    mesh = start_mesh(plan.rig, plan.sliding_parts, motion)  # the sliding runs' cut parts (water_slide)
-    if start:
-        warm_lengths(mesh, _LAST_BOW.mesh(), plan.slide_groups)
-        predict({k: at[k] for k in fixed}, at, {h for c in plan.chains for h in c.hidden}, mesh.lengths,
+    if start:  # the sliding runs' cut parts (water_slide)
+        mesh = warm_mesh(plan.rig, plan.sliding_parts, motion, _LAST_BOW.mesh(), plan.slide_groups)
+        predict({k: at[k] for k in fixed}, drive(rig), at, {h for c in plan.chains for h in c.hidden}, mesh.lengths,
                 plan.slide_groups)  # a steady drag: along the last step (water_predict)
+    else:
+        mesh = start_mesh(plan.rig, plan.sliding_parts, motion)
     forces, _ = _drag_forces(plan, ff, at)
     warm = dict(at) if start else None
     result = None
@@ -275,7 +276,7 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
         result = replace(result, ma_ideal=ma_ideal)
     if result is not None and result.ok:
         _LAST_BOW.keep(plan, at, mesh.lengths)
-        keep(fixed, at, mesh.lengths)
+        keep(fixed, at, mesh.lengths, drive(rig))
     result = replace(result, iterations=iterations)
     return _mapped(rig, plan, ff, result, forces, gap, rounds)
 

@@ -139,6 +139,19 @@ def start_mesh(aug: Rig, parts: set[str], motion: str | None) -> Mesh:
                  if r in parts and not hauled})
 
 
+def warm_mesh(aug: Rig, parts: set[str], motion: str | None, kept: Mapping[str, float], groups) -> Mesh:
+    """The cut parts' lengths for a warm solve: the last split (:func:`warm_lengths`) of each run.
+
+    A hauled run's kept parts need nothing from the rigging (the team's rope is free), so when every
+    sliding run is hauled and was kept the rig is not compiled for its lengths (a drag step's cost).
+    """
+    if parts and all(hauled and all(p in kept for p in group) for group, hauled in groups):
+        return Mesh({p: float(kept[p]) for group, _ in groups for p in group})
+    mesh = start_mesh(aug, parts, motion)
+    warm_lengths(mesh, kept, groups)
+    return mesh
+
+
 def remesh(mesh: Mesh, sliding, segments, at: dict[str, tuple[float, float]]) -> float:
     """Hand unstretched rope between the cut parts so each hidden point is back at its share; returns the
     largest spacing mismatch found (fraction of a piece's rope).  When it is above :data:`MESH_REL` the
