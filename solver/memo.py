@@ -237,17 +237,19 @@ def stats() -> dict[str, Any]:
 
 
 class LastTwo:
-    """The last two values kept, oldest first: one tuple, replaced whole (thread-safe as :class:`LastOf`)."""
+    """The last two values kept, oldest first: one tuple, replaced whole under a lock (read as :class:`LastOf`)."""
 
     def __init__(self) -> None:
         self._pair: tuple = ()
+        self._lock = threading.Lock()
 
     def get(self) -> tuple:
         """() before anything is kept, (newest,) after one value, else (older, newest)."""
         return self._pair
 
     def put(self, value: Any) -> None:
-        self._pair = (*self._pair[-1:], value)
+        with self._lock:
+            self._pair = (*self._pair[-1:], value)
 
     def forget(self) -> None:
         self._pair = ()
