@@ -80,8 +80,9 @@ def predict(fixed_now: Mapping[str, tuple[float, float]], loads_now: tuple[float
             at: dict[str, tuple[float, float]], hidden: set[str], lengths: dict[str, float], groups) -> None:
     """Move the warm start ``at`` (free points) and ``lengths`` along the last step's change, in place.
 
-    Only a start from the newest state (every free user point of ``at`` where that state has it) is moved;
-    a ``hidden`` point starts at its newest place plus the change.  ``groups``: per sliding run, (its kept
+    A drag step moves only a start from the newest state (every free user point of ``at`` where that state
+    has it); a change of the loads alone (the pull-needed search starts from its nearest trial) starts from
+    the two states' line whatever it was given.  A ``hidden`` point starts at its newest place plus the change.  ``groups``: per sliding run, (its kept
     parts, whether it is hauled) -- a run not hauled keeps its total rope.
     """
     states = memo.WATER_STATES.get()
@@ -90,7 +91,8 @@ def predict(fixed_now: Mapping[str, tuple[float, float]], loads_now: tuple[float
     older, newer = states
     alpha = factor(fixed_now, loads_now, older, newer)
     users = [k for k in at if k in newer.free and k not in hidden]
-    if alpha == 0.0 or not all(at[k] == newer.free[k] and k in older.free for k in users):
+    pulled = all(tuple(fixed_now[k]) == newer.fixed[k] for k in fixed_now)  # only the loads changed
+    if alpha == 0.0 or not all(k in older.free and (pulled or at[k] == newer.free[k]) for k in users):
         return
     for k in [*users, *(h for h in hidden if h in newer.free and h in older.free)]:
         n, o = newer.free[k], older.free[k]

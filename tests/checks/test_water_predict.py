@@ -60,20 +60,10 @@ def assert_same(a, b) -> None:
 
 
 def drag_sequence(rig, pid: str, moves):
-    """Warm solves of ``rig`` with point ``pid`` dragged by each (dx, dy) in turn (as the live drag does)."""
+    """Warm solves of ``rig`` with point ``pid`` dragged by each (dx, dy) in turn (as the live drag does), from
+    nothing remembered."""
     forget_water()
-    last = solve(rig)
-    assert last.ok, last.message
-    p = rig.point(pid)
-    x, y = p.x, p.y
-    out = []
-    for dx, dy in moves:
-        x, y = x + dx, y + dy
-        moved = rig.moved(pid, x, y)
-        last = solve(moved, start=dict(last.points), ideal=False)
-        assert last.ok, last.message
-        out.append((moved, last))
-    return out
+    return drag_sequence_no_forget(rig, pid, moves)
 
 
 # steady 2 cm steps (the prediction's case), then a turn back and a sideways jerk (where it must not mislead)
@@ -147,3 +137,40 @@ def test_prediction_keeps_a_run_s_rope_and_moves_only_a_start_from_the_newest_st
     predict({"A": (0.2, 0.0)}, (), at, {"h"}, {"p": 4.5, "q": 5.5}, [(("p", "q"), False)])
     assert at == {"A": (0.2, 0.0), "L": (0.7, 0.7), "h": (9.0, 9.0)}
     memo.WATER_STATES.forget()
+
+
+def test_two_threads_dragging_at_once_get_the_answers_of_one_thread():
+    # the kept states are shared by the GUI thread and the worker: another thread's state may only cost rounds
+    import threading
+
+    raft = load_rig(SAMPLES / "raft-3to1-redirect.rig.json")
+    moves = [(0.02, 0.0)] * 4
+    alone = [r for _, r in drag_sequence(raft, "A2", moves)]
+    out: dict[int, list] = {}
+
+    def drag(k: int) -> None:
+        out[k] = [r for _, r in drag_sequence_no_forget(raft, "A2", moves)]
+
+    threads = [threading.Thread(target=drag, args=(k,)) for k in range(2)]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join()
+    for k in range(2):
+        for a, b in zip(out[k], alone):
+            assert_same(a, b)
+
+
+def drag_sequence_no_forget(rig, pid: str, moves):
+    """Warm solves of ``rig`` with point ``pid`` dragged by each (dx, dy) in turn, keeping what is remembered."""
+    last = solve(rig)
+    p = rig.point(pid)
+    x, y = p.x, p.y
+    out = []
+    for dx, dy in moves:
+        x, y = x + dx, y + dy
+        moved = rig.moved(pid, x, y)
+        last = solve(moved, start=dict(last.points), ideal=False)
+        assert last.ok, last.message
+        out.append((moved, last))
+    return out
