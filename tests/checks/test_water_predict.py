@@ -174,3 +174,14 @@ def drag_sequence_no_forget(rig, pid: str, moves):
         assert last.ok, last.message
         out.append((moved, last))
     return out
+
+
+def test_a_change_of_the_loads_alone_starts_between_the_last_two_states_whatever_the_start():
+    # the pull-needed search hands the nearest trial's points; the line through the last two trials is nearer
+    memo.WATER_STATES.forget()
+    memo.WATER_STATES.put(WaterState({"A": (0.0, 0.0)}, {"L": (1.0, 1.0)}, {}, (880.0,)))
+    memo.WATER_STATES.put(WaterState({"A": (0.0, 0.0)}, {"L": (1.0, 2.0)}, {}, (440.0,)))
+    at = {"A": (0.0, 0.0), "L": (1.0, 1.0)}  # started from the older trial's answer
+    predict({"A": (0.0, 0.0)}, (660.0,), at, set(), {}, [])
+    assert at["L"] == pytest.approx((1.0, 1.5))  # half-way back along the line
+    memo.WATER_STATES.forget()
