@@ -690,10 +690,11 @@ def parse_size(text: str | None) -> tuple[int, int]:
 def export_drawing(rig: Rig, path: pathlib.Path | str, size: tuple[int, int] | None = None,
                    result: Result | None = None, rig_dir: pathlib.Path | None = None,
                    source: str | None = None, now: _dt.datetime | None = None,
-                   layers: Iterable[str] | None = None) -> Drawing:
+                   layers: Iterable[str] | None = None, scan=None) -> Drawing:
     """Write the rig, its site and its forces to ``path`` (.png, .svg or .pdf); returns the Drawing used.
 
-    ``result`` defaults to ``analyse(rig)``; ``size`` (pixels) applies to PNG and SVG.
+    ``result`` defaults to ``analyse(rig)``; ``size`` (pixels) applies to PNG and SVG; ``scan``: a finished
+    failure scan of ``rig`` solved as ``result`` (solver.failures.Scan) to draw, else the scan runs here.
     Raises ExportError in words if the format is unknown or the file cannot be written.
     """
     path = pathlib.Path(path)
@@ -702,7 +703,9 @@ def export_drawing(rig: Rig, path: pathlib.Path | str, size: tuple[int, int] | N
         raise ExportError(f"the folder {path.parent} does not exist")
     refuse_undrawable(rig)
     ensure_app()
-    drawing = Drawing(rig, result, rig_dir, layers, scan_failures=True)
+    drawing = Drawing(rig, result, rig_dir, layers, scan_failures=scan is None)
+    if scan is not None and drawing.result.ok:
+        drawing.use_scan(scan)
     title, subtitle = _titles(rig, source, now)
     if fmt == "png":
         render_png(drawing, path, size or DEFAULT_SIZE, title, subtitle)

@@ -56,6 +56,7 @@ class ExportActions:
         self.ask_path = ask_path or _ask_save_path
         self.show = show or _show_message
         self.last_message = ""
+        self._scans = None  # sketchpad.export_scan.ExportScans, made on the first export that needs a scan
         self.action_drawing = QAction("Export &drawing…", window)
         self.action_drawing.setStatusTip("Save the sketch with its forces as a PNG, SVG or PDF page")
         self.action_drawing.triggered.connect(lambda _c=False: self.export_drawing())
@@ -94,26 +95,65 @@ class ExportActions:
         if error:
             self.show(self.window, "Export", text, True)
 
+    @property
+    def busy(self) -> bool:
+        """True while an exported drawing waits for its failure scan (sketchpad.export_scan)."""
+        return self._scans is not None and self._scans.running > 0
+
     def export_drawing(self, path: pathlib.Path | str | None = None) -> pathlib.Path | None:
-        """Ask where (unless given) and write the drawing; None if cancelled or failed (the user is told why)."""
+        """Ask where (unless given) and write the drawing of the rig as it is now; None if cancelled or refused
+        (the user is told why). The drawing shows the failure scan's areas: the What-if dock's finished scan of
+        this rig, else one run on the solve worker, the drawing written when it is back (``busy`` meanwhile) and
+        the window answering all the while (sketchpad.export_scan)."""
+        from sketchpad.export import format_of, refuse_undrawable
+        from sketchpad.export_scan import ExportScans, finished_scan, settled_result
+
         path = path or self.ask_path(self.window, "Export drawing", self._start(".png"), DRAWING_FILTER)
         if not path:
             return None
         path = pathlib.Path(path)
         if not path.suffix:
             path = path.with_suffix(".png")
-        doc = self.window.document
-        try:
-            drawing = export_drawing(doc.rig, path, rig_dir=self._rig_dir(),
-                                     source=self._source())
-        except (ExportError, OSError) as exc:
+        rig, rig_dir, source = self.window.document.rig, self._rig_dir(), self._source()
+        try:  # what can be refused at once is refused before any scan
+            format_of(path)
+            if not path.parent.exists():
+                raise ExportError(f"the folder {path.parent} does not exist")
+            refuse_undrawable(rig)
+        except ExportError as exc:
             self._say(f"Could not export the drawing: {exc}", error=True)
             return None
+        done = finished_scan(self.window, rig)
+        if done is None:
+            if self._scans is None:
+                live = getattr(self.window, "live", None)
+                self._scans = ExportScans(getattr(live, "scheduler", None), self.window)
+            if self._scans.start(rig, lambda outcome: self._write_drawing(rig, path, rig_dir, source, outcome),
+                                 settled_result(self.window, rig)):
+                self._say("Exporting the drawing: the failure scan runs first …")
+                return path
+        self._write_drawing(rig, path, rig_dir, source, done)
+        return path
+
+    def _write_drawing(self, rig, path: pathlib.Path, rig_dir, source, outcome) -> None:
+        """Write the drawing (GUI thread) with a finished scan's outcome (None: analyse and scan here)."""
+        try:
+            if outcome is not None and outcome.error is not None:
+                raise ExportError(f"the failure scan stopped ({outcome.error})")
+            drawing = export_drawing(rig, path, rig_dir=rig_dir, source=source,
+                                     result=None if outcome is None else outcome.result,
+                                     scan=None if outcome is None else outcome.scan)
+        except (ExportError, OSError) as exc:
+            self._say(f"Could not export the drawing: {exc}", error=True)
+            return
         if drawing.result.ok:
             self._say(f"Drawing saved to {path}")
         else:
-            self._say(f"Drawing saved to {path} without forces: {failure_sentence(doc.rig, drawing.result)}")
-        return path
+            self._say(f"Drawing saved to {path} without forces: {failure_sentence(rig, drawing.result)}")
+        if outcome is not None:
+            from sketchpad.export_scan import offer_to_what_if
+
+            offer_to_what_if(self.window, outcome)
 
     def pdf_path(self, path, title: str, suffix: str, filters: str = REPORT_FILTER) -> pathlib.Path | None:
         """``path``, or the one the user picks (None if cancelled), ending in .pdf."""

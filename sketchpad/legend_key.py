@@ -10,20 +10,27 @@ and overload as a heavy one.
 from __future__ import annotations
 
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QLinearGradient, QPainter, QPolygonF
+from PySide6.QtGui import QFont, QLinearGradient, QPainter, QPolygonF
 
 from sketchpad import theme
+from solver.danger import QUICK_ESTIMATE
 
 TITLE = "Rope use: share of allowed load"
-#: (zone kind whose colours the swatch uses, swatch shape, words): every shape the zone layer draws, and the
-#: ring left where a point the solver moved was drawn
+#: The marker on a row whose shape is the quick estimate, explained once in the key's last line (a longer
+#: wording in each row widened the key over the middle of a small viewport)
+QUICK_MARK = "*"
+QUICK_FOOTNOTE = f"{QUICK_MARK} {QUICK_ESTIMATE}"
+#: (zone kind whose colours the swatch uses, swatch shape, words): every shape the zone layer draws before a
+#: failure scan has computed the areas (the bight shapes marked as the quick estimate, as solve and the
+#: drawings word them), the ring left where a point the solver moved was drawn, and the marker's footnote
 ZONE_ROWS: tuple[tuple[str, str, str], ...] = (
-    ("bight", "box", "inside of bight: rope snaps in if a redirect fails"),
-    ("bight", "arm", "arm from a bight: pulley's flight if its anchor fails"),
+    ("bight", "box", f"inside of bight{QUICK_MARK}: rope snaps in if a redirect fails"),
+    ("bight", "arm", f"arm from a bight{QUICK_MARK}: pulley's flight if its anchor fails"),
     ("recoil", "box", "recoil band: a broken rope whips here"),
     ("", "drawn", "dashed ring: where a point was drawn; the solver moved it"),
+    ("", "note", QUICK_FOOTNOTE),
 )
-DRAWN_PLACE_ROW = ZONE_ROWS[-1]
+DRAWN_PLACE_ROW = ZONE_ROWS[3]
 ROW_GAP_PX = 2.0
 
 
@@ -65,6 +72,16 @@ def paint_wedge(p: QPainter, ramp: QRectF, top_util: float, grey: bool) -> None:
 def paint_rows(p: QPainter, rows, x: float, y: float, line_height: float, ascent: float) -> None:
     """The zone rows from (x, y) down: a swatch in the zone's fill and hatch, then its words."""
     for kind, shape, text in rows:
+        if shape == "note":  # a footnote to the rows above: no swatch, italic (narrower than the rows it notes)
+            font = p.font()
+            italic = QFont(font)
+            italic.setItalic(True)
+            p.setFont(italic)
+            p.setPen(theme.OVERLAY_LABEL_TEXT)
+            p.drawText(QPointF(x, y + ascent), text)
+            p.setFont(font)
+            y += line_height + ROW_GAP_PX
+            continue
         if shape == "drawn":  # as sketchpad.solved_places draws it at the drawn place of a point the solver moved
             p.setPen(theme.pixel_pen(theme.DRAWN_PLACE, 1.2, Qt.DashLine))
             p.setBrush(Qt.NoBrush)

@@ -286,9 +286,15 @@ class SolveScheduler(QObject):
         self.solve_count += 1
         return replace(result, revision=rev)
 
-    def _submit(self, rig: Rig, rev: int) -> None:
-        if self._executor is None:
+    def worker(self) -> concurrent.futures.ThreadPoolExecutor | None:
+        """The one worker thread background solves run on (made on first use; None once closed). Other slow
+        solver work queues on it too (an export's failure scan, sketchpad.export_scan): one solve at a time."""
+        if self._executor is None and not self._closed:
             self._executor = concurrent.futures.ThreadPoolExecutor(max_workers=1, thread_name_prefix="rw-solve")
+        return self._executor
+
+    def _submit(self, rig: Rig, rev: int) -> None:
+        self.worker()
         self._in_flight = rev
         bridge = self._bridge
 

@@ -465,12 +465,12 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
             flow.heading(f"Mechanical advantage and peak anchor load against the pulling force ({fu})")
             if image is not None:
                 cap_h = flow.text_height(caption, page_font(SMALL_PT, italic=True))
-                flow.need(sizes[1] + cap_h + 6)
-                def paint_plot(p: QPainter, r: QRectF) -> None:
-                    w = min(r.width(), sizes[1] * image.width() / max(image.height(), 1))
-                    p.drawImage(QRectF(r.left() + (r.width() - w) / 2, r.top(), w, sizes[1]), image)
 
-                flow.block(sizes[1], paint_plot)
+                def paint_plot(p: QPainter, r: QRectF) -> None:
+                    w = min(r.width(), r.height() * image.width() / max(image.height(), 1))
+                    p.drawImage(QRectF(r.left() + (r.width() - w) / 2, r.top(), w, r.height()), image)
+
+                flow.block(sizes[1], paint_plot, after=cap_h + 6)  # a picture of text: never drawn smaller
                 flow.y += 2
             flow.text(caption, page_font(SMALL_PT, italic=True), MUTED)
     links = weak_link_lines(rig, result)
@@ -489,6 +489,30 @@ def _compose(flow: Flow, rig: Rig, result: Result, drawing: Drawing, when: str, 
     flow.heading("Safety cautions")
     for para in FULL_CAUTION.split("\n\n"):
         flow.text(para, page_font(BODY_PT, bold=True), gap=4)
+
+
+def plot_stand_in(rig: Rig, result: Result, sweep_data) -> tuple[QImage | None, str] | None:
+    """What counting pages needs of the sweep plot without drawing it (matplotlib, the slow part): a 1-px
+    image with the plot's caption, (None, why there is no plot), or None for a rig that did not solve."""
+    table, drawn, words = sweep_data
+    if not result.ok:
+        return None
+    if table is None:
+        return None, words
+    return QImage(1, 1, QImage.Format_RGB32), plot_caption(rig, table, drawn, words)
+
+
+def choose_layout(count, aim: int) -> tuple[tuple[float, float], int]:
+    """(drawing, plot) sizes and page count: the first of LAYOUTS that fits ``aim`` pages, else the largest one
+    that takes the fewest pages (a smaller drawing that saves no page is not chosen); ``count(sizes)`` -> pages."""
+    best: tuple[tuple[float, float], int] | None = None
+    for sizes in LAYOUTS:
+        total = count(sizes)
+        if best is None or total < best[1]:
+            best = (sizes, total)
+        if total <= aim or total >= aim + 2:  # the smaller layouts save well under a page: that many more stay
+            break
+    return best
 
 
 def page_frame(writer) -> tuple[float, float, QRectF]:
@@ -527,30 +551,24 @@ def write_report(rig: Rig, path: pathlib.Path | str, result: Result | None = Non
     if failures is not None:
         failures.draw_zones_on(drawing)
         result = drawing.result  # person warnings named by the failure that puts them in a zone
-    plots: dict[float, tuple[QImage | None, str]] = {}
 
-    def plot_for(h: float) -> tuple[QImage | None, str] | None:
+    def plot_for(h: float) -> tuple[QImage | None, str] | None:  # the plot drawn at the chosen layout's height
         table, drawn, words = sweep_data
-        if not result.ok:
-            return None
-        if table is None:
-            return None, words
-        if h not in plots:
-            plots[h] = (plot_image(rig, table, drawn, words, content.width() * 0.92, h),
-                        plot_caption(rig, table, drawn, words))
-        return plots[h]
+        if table is None or not result.ok:
+            return stand_in
+        return plot_image(rig, table, drawn, words, content.width() * 0.92, h), stand_in[1]
     from solver.cautions import SHORT_CAUTION
 
-    # pass 1: count pages, shrinking the drawing and the plot until two pages hold it all (if they can)
-    for sizes in LAYOUTS:
+    stand_in = plot_stand_in(rig, result, sweep_data)  # after the failure section: its result is the one shown
+
+    def count(sizes: tuple[float, float]) -> int:  # pass 1: the pages a layout takes (the plot not drawn)
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
-        _compose(counter, rig, result, drawing, when, source, plot_for(sizes[1]), sizes, failures)
+        _compose(counter, rig, result, drawing, when, source, stand_in, sizes, failures)
         if haul is not None:
             add_haul_page(counter, rig, haul)
-        total = counter.finish()
-        fits = PAGES_WANTED + (haul is not None)  # pages the report aims for
-        if total <= fits or total >= fits + 2:  # the smaller layouts save well under a page: that many more stay
-            break
+        return counter.finish()
+
+    sizes, total = choose_layout(count, PAGES_WANTED + (haul is not None))
 
     def footer(p: QPainter, n: int) -> None:
         p.setFont(page_font(SMALL_PT))

@@ -18,6 +18,7 @@ RULE = QColor("#b9ae97")
 HEAD_BACK = QColor("#ece7da")
 ZEBRA = QColor("#f8f6f0")
 LOW_SF = QColor("#b3122e")  # a safety factor below the rig's minimum
+HEAD_ABOVE, HEAD_BELOW = 6.0, 5.0  # space above a heading (not at a page top) and below it, with its rule, px
 
 
 class Flow:
@@ -29,6 +30,7 @@ class Flow:
         self.footer, self._new_page = footer, new_page
         self.page = 1
         self.y = content.top()
+        self._held: list[str] = []  # headings waiting for the first piece of their content (keep-with-next)
 
     @property
     def left(self) -> float:
@@ -42,8 +44,31 @@ class Flow:
         return self.content.bottom() - self.y
 
     def need(self, h: float) -> None:
-        if h > self.room() and self.y > self.content.top() + 1:
+        """Room for ``h`` px of content here, else a new page; a heading waiting for this content is placed
+        with it (on the new page too), so no heading is left alone at a page foot."""
+        if h + self._held_height() > self.room() and self.y > self.content.top() + 1:
             self.break_page()
+        self._place_held()
+
+    def _held_height(self) -> float:
+        font = page_font(HEAD_PT, bold=True)
+        return sum(HEAD_ABOVE + self.text_height(t, font) + HEAD_BELOW for t in self._held)
+
+    def _place_held(self) -> None:
+        held, self._held = self._held, []
+        font = page_font(HEAD_PT, bold=True)
+        for text in held:
+            if self.y > self.content.top() + 1:
+                self.y += HEAD_ABOVE
+            h = self.text_height(text, font)
+            if self.painter is not None:
+                self.painter.setFont(font)
+                self.painter.setPen(INK)
+                self.painter.drawText(QRectF(self.left, self.y, self.width, h + 2),
+                                      int(Qt.AlignLeft | Qt.AlignTop | Qt.TextWordWrap), text)
+                self.painter.setPen(RULE)
+                self.painter.drawLine(QPointF(self.left, self.y + h + 1), QPointF(self.left + self.width, self.y + h + 1))
+            self.y += h + HEAD_BELOW
 
     def break_page(self) -> None:
         if self.painter is not None:
@@ -53,6 +78,7 @@ class Flow:
         self.y = self.content.top()
 
     def finish(self) -> int:
+        self._place_held()
         if self.painter is not None:
             self.footer(self.painter, self.page)
         return self.page
@@ -77,12 +103,9 @@ class Flow:
         return h
 
     def heading(self, text: str) -> None:
-        self.y += 6
-        self.text(text, page_font(HEAD_PT, bold=True), gap=3, keep=40)
-        if self.painter is not None:
-            self.painter.setPen(RULE)
-            self.painter.drawLine(QPointF(self.left, self.y - 2), QPointF(self.left + self.width, self.y - 2))
-        self.y += 2
+        """A section heading with its rule, placed together with the first piece of content that follows it
+        (keep-with-next: a paragraph, a figure, or a table's header and first row)."""
+        self._held.append(text)
 
     def box(self, text: str, font: QFont, back: QColor, colour: QColor) -> None:
         pad = 7.0
@@ -98,11 +121,19 @@ class Flow:
                                   int(Qt.AlignLeft | Qt.AlignTop | Qt.TextWordWrap), text)
         self.y += h + 6
 
-    def block(self, h: float, paint: Callable[[QPainter, QRectF], None]) -> None:
-        self.need(h)
+    def block(self, h: float, paint: Callable[[QPainter, QRectF], None], least: float | None = None,
+              after: float = 0.0) -> float:
+        """A figure ``h`` px tall, kept on one page with the ``after`` px that follow it (its caption); with
+        ``least``, one that does not fit is drawn shorter (down to ``least`` px) in the room left on the page
+        rather than leaving that room blank. Returns the height drawn."""
+        room = self.room() - self._held_height() - after
+        if least is not None and least <= room < h:
+            h = room
+        self.need(h + after)
         if self.painter is not None:
             paint(self.painter, QRectF(self.left, self.y, self.width, h))
         self.y += h
+        return h
 
     def table(self, t: Table) -> None:
         """A table with a shaded header (repeated on a new page), zebra rows, red rows below the safety factor."""
@@ -110,11 +141,7 @@ class Flow:
         total = sum(t.widths)
         cols = [self.width * w / total for w in t.widths]
         pad = 4.0
-        if t.rows:  # keep the heading with the table's header and first row
-            first = max(self.text_height(c, bold, cols[i] - 2 * pad) for i, c in enumerate(t.header)) + \
-                max(self.text_height(c, font, cols[i] - 2 * pad) for i, c in enumerate(t.rows[0])) + 4 * pad
-            self.need(first + self.text_height(t.title, page_font(HEAD_PT, bold=True)) + 16)
-        self.heading(t.title)
+        self.heading(t.title)  # placed with the header and first row (need, below)
         if not t.rows:
             self.text("None in this rig.", page_font(BODY_PT, italic=True), MUTED)
             return

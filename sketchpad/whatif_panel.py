@@ -310,6 +310,20 @@ class WhatIf(QObject):
         self._steps = (rig, result, scan_steps(rig, result), [], len(components(rig)))
         return self._continue(budget_ms)
 
+    def adopt(self, s: Scan) -> bool:
+        """Show a scan made elsewhere (an export's, on the solve worker) when it is of the scheduler's current
+        settled result and this dock has none of that yet; a scan of it under way here stops (no second scan)."""
+        sched = self.live.scheduler
+        if s.intact is not sched.result or not sched.settled or s.rig is not self.window.document.rig:
+            return False
+        if self.scan is not None and self.scan.intact is s.intact:
+            return False
+        self.timer.stop()
+        self.ticks.stop()
+        self._steps = None
+        self._show(s)
+        return True
+
     def _continue(self, budget_ms: float | None = None) -> Scan | None:
         """Scan on for about ``budget_ms`` (None: to the end); finish, or come back on the next tick."""
         if self._steps is None:

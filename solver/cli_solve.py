@@ -87,8 +87,7 @@ def format_result(rig: Rig, result: Result, length_unit: str, force_unit: str) -
             parts.append(f"\n{WATER_TITLE}\n" + _table(list(WATER_HEADER), [list(r) for r in wet]))
         if result.haul:
             parts.append("\nHaul: " + ", ".join(f"{hid} {f(v)}" for hid, v in result.haul.items()))
-        if result.ma_actual is not None:
-            parts.append("\n" + ma_long(result))
+        parts.append("\n" + ma_long(result))  # or why there is none (solver.ma_input)
         for rng_name, rng in (("haul", result.hold_haul_range), ("anchor", result.hold_anchor_range)):
             for k, r in rng.items():
                 parts.append(f"Hold range, {rng_name} {k}: {f(r.low)} to {f(r.high)}")

@@ -62,8 +62,10 @@ QUAD_SEGS = 16
 #: Passes that turn a running rope: the places a bight zone is drawn.
 REDIRECT_HOWS = frozenset({"pulley", "sliding", "edge", "capture"})
 
-#: What the quick (fixed-shape) zones are, and where the computed ones are: one wording for CLI, dock and pages.
-QUICK_ESTIMATE_NOTE = ("quick estimate from a fixed shape, not computed: `ropewright failures` (or the What if "
+#: What the quick (fixed-shape) zones are: one wording for the CLI, the dock, the pages and the plan's key.
+QUICK_ESTIMATE = "quick estimate from a fixed shape, not computed"
+#: ... and where the computed ones are.
+QUICK_ESTIMATE_NOTE = (f"{QUICK_ESTIMATE}: `ropewright failures` (or the What if "
                        "dock) lets each component go and shows where things actually fly")
 
 

@@ -31,6 +31,7 @@ from solver.outcome import Solved
 from solver.records import build_result, contact_failed, contact_off, runaway_result
 from solver.result import HoldRange, Result
 from solver.run_lengths import with_unstretched
+from solver.stability import stable
 from solver.strategies import solve_system
 from solver.system import System
 from solver.water import dry_site, in_water, solve_in_water, without_current
@@ -125,6 +126,8 @@ def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True
     sol = solve_system(s, _start_x(s, start), motion, warm=bool(start), ideal=ideal)
     if start and len(contact_off(s, sol)):  # last guard: a warm start that ends so is solved again cold
         sol = solve_system(s, _start_x(s, None), motion, ideal=ideal)
+    # a jammed pair balanced on the wrong side of its pulley is left for the stable side (solver.stability)
+    sol = stable(s, sol, lambda x: solve_system(s, x, motion, ideal=ideal), lambda o: contact_off(s, o))
     if len(bad := contact_off(s, sol)):
         return contact_failed(s, sol, int(bad[0]))
     if isinstance(sol, Result):

@@ -12,6 +12,7 @@ from __future__ import annotations
 import math
 
 from solver.capacity import KIND_TAGS, kind_of, margin_words
+from solver.ma_input import no_ma_reason
 from solver.nominal_ma import ma_text
 from solver.result import AnchorResult, Result
 from solver.units import format_force
@@ -47,7 +48,7 @@ def ma_short(result: Result, pending: str = "when still") -> str:
 def ma_long(result: Result) -> str:
     """A sentence naming all three with their meaning (CLI, report)."""
     if result.ma_actual is None:
-        return "No mechanical advantage: the rig has no haul team or pull delivering force to a load."
+        return f"Mechanical advantage: none — {no_ma_reason(result.ok, bool(result.loads), None)}."
     nominal, ideal, actual = ma_values(result)
     parts = []
     if result.ma_nominal is not None:

@@ -14,6 +14,7 @@ from solver import free_directions, memo, pass_order
 from solver.capacity import utilization as capacity_utilization
 from solver.evaluate import State, contact_stiffness
 from solver.extreme_specs import unsettled_words
+from solver.ma_input import drawn_pull_N
 from solver.mechanism import mechanism
 from solver.newton import ACCEPT_REL, force_scale, max_norm, point_norms
 from solver.outcome import Solved
@@ -71,7 +72,8 @@ def anchor_record(fx: float, fy: float, capacity: float | None, sf: float, kind:
 
 
 def _mech_advantage(s: System, st: State, f: np.ndarray | None = None) -> float | None:
-    """Force delivered to the load points over the input (haul forces, else external pulls).
+    """Force delivered to the load points over the input (haul forces, else the forces drawn off the loads:
+    :func:`solver.ma_input.drawn_pull_N`); None when nothing pulls (a held load has no MA).
 
     ``f``: the rope forces on the points at ``st`` (:func:`_resultants`) when already known.
     """
@@ -83,7 +85,7 @@ def _mech_advantage(s: System, st: State, f: np.ndarray | None = None) -> float 
         f = _resultants(s, st)
     delivered = float(sum(math.hypot(fx, fy) for fx, fy in f[load_ids].tolist()))
     hauled = s.run_hauled
-    inp = float(s.run_P[hauled].sum()) if hauled.any() else float(sum(abs(fc.magnitude_N) for fc in rig.forces))
+    inp = float(s.run_P[hauled].sum()) if hauled.any() else drawn_pull_N(rig)
     return delivered / inp if inp > 0 else None
 
 

@@ -166,6 +166,7 @@ class Result:
     def to_json(self, view: str = "plan") -> dict[str, Any]:
         """The result JSON of rig-format.md, plus hold ranges when present (``view``: the rig's, for bearings)."""
         from solver.directions import bearing_or_none
+        from solver.ma_input import no_ma_reason
 
         out: dict[str, Any] = {
             "status": self.status,
@@ -179,7 +180,8 @@ class Result:
                           "bearing_deg": bearing_or_none(a.direction_deg, view, a.force_N), **self._need_json(k)}
                       for k, a in self.loads.items()},
             "haul": {k: {"force_N": f} for k, f in self.haul.items()},
-            "mechanical_advantage": {"actual": self.ma_actual, "ideal": self.ma_ideal, "nominal": self.ma_nominal},
+            "mechanical_advantage": {"actual": self.ma_actual, "ideal": self.ma_ideal, "nominal": self.ma_nominal,
+                                     "reason": no_ma_reason(self.ok, bool(self.loads), self.ma_actual)},
             "deflection_deg": dict(self.deflection_deg),
             "warnings": [w.to_json() for w in self.warnings],
         }

@@ -33,12 +33,13 @@ from typing import Callable, Mapping
 
 import numpy as np
 
+from solver.ma_input import drawn_pull_N, hauls, rescaled_to_user
 from solver.materials import material_for
 from solver.model import Force, Pass, Point, Rig, Rope, Site
 from solver.result import Result, Warning_
 from solver.water_forces import HIDDEN, _drag_forces, _scale
-from solver.water_site import FlowField, flow_field
 from solver.water_predict import drive, keep, predict
+from solver.water_site import FlowField, flow_field
 from solver.water_slide import MESH_REL, cut_run, remesh, start_mesh, warm_mesh
 
 log = logging.getLogger(__name__)
@@ -245,7 +246,7 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
         # a fixed point stays where the rig has it now (a dragged anchor): the start's is where it was
         at.update({k: tuple(v) for k, v in start.items() if k in at and k not in fixed})
         at.update(_LAST_BOW.start(plan, at))
-    if start:  # the sliding runs' cut parts (water_slide)
+        # the sliding runs' cut parts (water_slide)
         mesh = warm_mesh(plan.rig, plan.sliding_parts, motion, _LAST_BOW.mesh(), plan.slide_groups)
         predict({k: at[k] for k in fixed}, drive(rig), at, {h for c in plan.chains for h in c.hidden}, mesh.lengths,
                 plan.slide_groups)  # a steady drag: along the last step (water_predict)
@@ -277,6 +278,10 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
     if result is not None and result.ok:
         _LAST_BOW.keep(plan, at, mesh.lengths)
         keep(fixed, at, mesh.lengths, drive(rig))
+        if not hauls(rig):  # the MA is over the user's own pull, never over the current's drag
+            solved, own = drawn_pull_N(_with_forces(plan, forces)), drawn_pull_N(rig)
+            result = replace(result, ma_actual=rescaled_to_user(result.ma_actual, solved, own),
+                             ma_ideal=rescaled_to_user(result.ma_ideal, solved, own))
     result = replace(result, iterations=iterations)
     return _mapped(rig, plan, ff, result, forces, gap, rounds)
 

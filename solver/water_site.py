@@ -10,6 +10,7 @@ one point or many at once, with shapely polygons.
 from __future__ import annotations
 
 import math
+import threading
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -126,13 +127,16 @@ class FlowField:
 def flow_field(rig: Rig) -> FlowField:
     """The rig's currents.
 
-    Built once per set of moving-water features (``functools.lru_cache``, thread-safe, keyed by the
-    features' ids, polygons and flows, which are immutable): a drag step reuses the shapely polygons while
-    the site is unchanged; tests check it equals a fresh build.
+    Built once per set of moving-water features and thread (``functools.lru_cache``, keyed by the
+    features' ids, polygons and flows, which are immutable, and the calling thread): a drag step reuses the
+    shapely polygons while the site is unchanged; tests check it equals a fresh build.  Each thread gets its
+    own: a prepared GEOS geometry builds its index lazily on first use and is not safe to share between
+    threads (two solves at once, such as an export's failure scan on the solve worker beside the What-if
+    scan on the GUI thread, crashed in ``shapely.intersects``).
     """
     key = tuple((f.id, f.polygon, f.flow) for f in rig.site.features
                 if f.kind == "water" and f.flow is not None and f.polygon is not None)
-    return _field_of(key) if key else _NO_FLOW
+    return _field_of(key, threading.get_ident()) if key else _NO_FLOW
 
 
 def build_field(moving: tuple) -> FlowField:
@@ -151,7 +155,9 @@ def build_field(moving: tuple) -> FlowField:
     return FlowField(polygons=tuple(polys), velocities=vel, ids=tuple(fid for fid, _, _ in moving), edges=edges)
 
 
-_field_of = lru_cache(maxsize=16)(build_field)
+@lru_cache(maxsize=16)
+def _field_of(moving: tuple, _thread: int) -> FlowField:
+    return build_field(moving)
 _NO_FLOW = FlowField(polygons=(), velocities=np.zeros((0, 2)), ids=())
 
 

@@ -97,10 +97,8 @@ def _measure(writer, content: QRectF, chapter: Chapter, when: str) -> None:
 
     Counting needs only the plot's height, so each layout tried is measured with a stand-in image
     and the sweep plot is rendered (matplotlib, the slow part) for the chosen layout alone."""
-    from PySide6.QtGui import QImage
-
     from sketchpad.export import Drawing
-    from sketchpad.report import LAYOUTS, PAGES_WANTED, Flow, _compose, haul_sweep, plot_caption, plot_image
+    from sketchpad.report import PAGES_WANTED, Flow, _compose, choose_layout, haul_sweep, plot_image, plot_stand_in
 
     from sketchpad.haul_report import add_haul_page, plan_for_report
     from sketchpad.report_failures import failure_section
@@ -112,19 +110,17 @@ def _measure(writer, content: QRectF, chapter: Chapter, when: str) -> None:
         chapter.failures.draw_zones_on(chapter.drawing)
         chapter.result = chapter.drawing.result  # person warnings named by the failure that puts them there
     table, drawn, words = haul_sweep(chapter.rig) if chapter.result.ok else (None, 0.0, "")
-    stand_in = None
-    if chapter.result.ok:
-        stand_in = (None, words) if table is None else (QImage(1, 1, QImage.Format_RGB32),
-                                                         plot_caption(chapter.rig, table, drawn, words))
-    for sizes in LAYOUTS:
+    stand_in = plot_stand_in(chapter.rig, chapter.result, (table, drawn, words))
+
+    def count(sizes: tuple[float, float]) -> int:
         counter = Flow(writer, None, content, lambda p, n: None, lambda: None)
         _compose(counter, chapter.rig, chapter.result, chapter.drawing, when, chapter.source, stand_in, sizes,
                  chapter.failures)
         if chapter.haul is not None:
             add_haul_page(counter, chapter.rig, chapter.haul)
-        chapter.pages, chapter.sizes = counter.finish(), sizes
-        if chapter.pages <= PAGES_WANTED + (chapter.haul is not None):
-            break
+        return counter.finish()
+
+    chapter.sizes, chapter.pages = choose_layout(count, PAGES_WANTED + (chapter.haul is not None))
     chapter.plot = stand_in
     if stand_in is not None and table is not None:
         chapter.plot = (plot_image(chapter.rig, table, drawn, words, content.width() * 0.92, chapter.sizes[1]),

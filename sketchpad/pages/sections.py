@@ -17,6 +17,7 @@ from solver.units import format_length
 
 SCHEMATIC_H_PX = 330.0
 SCHEMATIC_MAX_H_PX = 520.0
+SCHEMATIC_LEAST_PX = 260.0  # the least height a report draws the schematic at to use the room left on a page
 
 
 def rope_budget_table(rig: Rig, result: Result | None):
@@ -126,11 +127,14 @@ def add_sections(flow, rig: Rig, result: Result | None, zones: list | None = Non
 
     computed = zones is not None and any(z.kind == "failure" for z in zones)
     h = schematic_block_height(flow.width, rig, result, computed)
-    flow.need(h + 40)  # the heading stays with its figure
-    flow.heading("Schematic: strands side by side, tensions in units of the haul force (T)")
-    flow.block(h, lambda p, r: paint_schematic_block(p, r, rig, result, computed))
+    # a drawing (text at full size at any height): drawn shorter, down to SCHEMATIC_LEAST_PX, in the room left
+    least = min(h, schematic_block_height(flow.width, None, None, computed) - SCHEMATIC_H_PX + SCHEMATIC_LEAST_PX)
+    words = caption(rig, result)
+    flow.heading("Schematic: strands side by side, tensions in units of the haul force (T)")  # kept with the figure
+    flow.block(h, lambda p, r: paint_schematic_block(p, r, rig, result, computed), least=least,
+               after=flow.text_height(words, theme.page_font(7.5, italic=True)) + 3)
     flow.y += 3
-    flow.text(caption(rig, result), theme.page_font(7.5, italic=True))
+    flow.text(words, theme.page_font(7.5, italic=True))
     for t in (roles_table(rig, result, zones), rope_budget_table(rig, result), gear_table(rig, result)):
         flow.table(t)
 

@@ -194,7 +194,7 @@ def test_render_cli_on_a_rig_that_does_not_solve_writes_it_and_exits_3(qapp, tmp
 
 
 # --- File menu -------------------------------------------------------------------------------
-def test_file_menu_exports_drawing_and_report_to_the_chosen_paths(main_window, tmp_path):
+def test_file_menu_exports_drawing_and_report_to_the_chosen_paths(main_window, tmp_path, qtbot):
     asked = []
     exports = main_window.exports
     assert exports.action_drawing in main_window.menu_file.actions()
@@ -202,6 +202,7 @@ def test_file_menu_exports_drawing_and_report_to_the_chosen_paths(main_window, t
     main_window.document.replace_all(load_rig(RAFT), RAFT)
     exports.ask_path = lambda parent, title, start, filters: asked.append((title, start)) or tmp_path / "menu.svg"
     exports.action_drawing.trigger()
+    qtbot.waitUntil(lambda: not exports.busy, timeout=60000)  # the failure scan runs on the solve worker
     assert (tmp_path / "menu.svg").exists()
     assert asked[0][1].endswith("raft-3to1-redirect.png")
     assert "Drawing saved" in exports.last_message
