@@ -88,12 +88,14 @@ def test_warm_drag_steps_of_sliding_runs_equal_a_tight_cold_solve(make, pid, mon
         assert_same(warm, tight_cold(moved, monkeypatch))
 
 
-def test_a_steady_drag_needs_fewer_rounds_than_a_cold_start():
-    # the point of the prediction: steady steps settle in fewer outer rounds than the same solves without it
+def test_a_steady_drag_settles_in_fewer_rounds_than_a_cold_solve():
+    # the point of the prediction: steady 2 cm steps of the raft's redirect settle in at most 3 outer rounds
+    # (4 without it, 6 cold): counted, not timed
     rig = load_rig(SAMPLES / "raft-3to1-redirect.rig.json")
     steady = drag_sequence(rig, "A2", [(0.02, 0.0)] * 5)
     rounds = [r.water.rounds for _, r in steady[2:]]
-    assert max(rounds) <= 3, rounds
+    forget_water()
+    assert max(rounds) <= 3 < solve(steady[-1][0]).water.rounds, rounds
 
 
 def state(fixed, free=None, lengths=None) -> WaterState:
