@@ -29,6 +29,13 @@ def collector_paused() -> Iterator[None]:
     Nothing read makes reference cycles, so reference counting frees it all the same.
     Thread-safe: concurrent loads count themselves, and the last one out restores the state
     the first one found.
+
+    Switched back on, the collector would at once walk the ~200,000 objects of the new rig as
+    young objects (about a seventh of a big load) on their way to the oldest generation, where
+    a rig, which lives as long as its document, ends anyway; so they are moved there directly
+    (``gc.freeze`` then ``gc.unfreeze``: every tracked object to the oldest generation, nothing
+    walked).  Skipped while a program keeps objects frozen (the ``solve`` command freezes its
+    imports): unfreezing would release them.
     """
     global _gc_pauses, _gc_resume
     with _gc_lock:
@@ -42,6 +49,9 @@ def collector_paused() -> Iterator[None]:
         with _gc_lock:
             _gc_pauses -= 1
             if _gc_pauses == 0 and _gc_resume:
+                if gc.get_freeze_count() == 0:
+                    gc.freeze()
+                    gc.unfreeze()
                 gc.enable()
 
 
@@ -89,7 +99,7 @@ def _encodes(s: str) -> bool:
 
 
 @lru_cache(maxsize=None)
-def _plain_defaults(cls: type) -> tuple[dict[str, Any], frozenset[str]] | None:
+def plain_defaults(cls: type) -> tuple[dict[str, Any], frozenset[str]] | None:
     """(fields with a plain default and their values, fields that must be given) of a frozen dataclass,
     or None when only its ``__init__`` may build it (it has a ``__post_init__``)."""
     if hasattr(cls, "__post_init__"):
@@ -107,7 +117,7 @@ def _plain_defaults(cls: type) -> tuple[dict[str, Any], frozenset[str]] | None:
 def filled(cls: type, kwargs: dict[str, Any]) -> Any:
     """``cls(**kwargs)`` for a frozen dataclass, filled in one step when every field without a plain
     default is given (a big rig file has ~80,000 objects; the frozen ``__init__`` sets field by field)."""
-    plain = _plain_defaults(cls)
+    plain = plain_defaults(cls)
     if plain is None or not plain[1] <= kwargs.keys() or not kwargs.keys() <= _field_names(cls):
         return cls(**kwargs)
     obj = object.__new__(cls)

@@ -23,7 +23,7 @@ from solver import units
 from solver.cautions import CAUTION_PARAGRAPHS
 from solver.cli_solve import EXIT_BAD_INPUT, EXIT_OK, EXIT_SOLVE_FAILED, _finite, _table, _units_for, closing
 from solver.errors import UnitError
-from solver.haul_plan import DEFAULT_STEPS, plan_haul
+from solver.haul_plan import plan_haul
 from solver.haul_result import HaulPlan
 from solver.haul_settings import haul_settings
 from solver.haul_table import HEADER, stroke_rows, summary_lines
@@ -31,22 +31,6 @@ from solver.model import Rig
 
 #: Subjects of a plan refused for an option typed on the command line (exit 2, not 3).
 OPTION_SUBJECTS = frozenset({"travel", "throw", "steps"})
-
-
-def add_parser(sub, **kwargs) -> None:
-    """The ``haul`` subcommand's arguments (``kwargs`` as every subcommand's: the caution epilog)."""
-    p = sub.add_parser("haul", help="plan a haul stroke by stroke: rope paid in, stretch, resets", **kwargs)
-    p.add_argument("rig", help="a .rig.json file")
-    p.add_argument("--travel", required=True, help="how far the load must come, e.g. 6m or 20ft (plain: metres)")
-    p.add_argument("--throw", default=None,
-                   help="rope the team takes in per stroke (default: the rig's planned haul, else 3m)")
-    p.add_argument("--spacing", default=None,
-                   help="closest a travelling pulley may come to the next before a reset "
-                        "(default: the rig's planned haul, else 0.2m)")
-    p.add_argument("--steps", type=int, default=DEFAULT_STEPS, help="solved steps per stroke (default 100)")
-    p.add_argument("--json", action="store_true", help="print the plan as JSON")
-    p.add_argument("--units", choices=("si", "imperial"), default=None,
-                   help="display units (default: the rig's own display setting)")
 
 
 def format_plan(rig: Rig, plan: HaulPlan, length_unit: str, force_unit: str) -> str:

@@ -19,10 +19,11 @@ from dataclasses import dataclass, field, replace
 from typing import Callable
 
 from solver import units
+from solver.brent import brent_root
 from solver.equilibrium import solve
 from solver.errors import RigModelError
 from solver.haul_result import HaulFrame, HaulPlan, HaulStroke
-from solver.haul_settings import DEFAULT_SPACING_M
+from solver.haul_settings import DEFAULT_SPACING_M, DEFAULT_STEPS
 from solver.haul_strands import HAUL, Strand, as_rig, cut_at_capture, joined, lengths, strands_of
 from solver.materials import hardware_for
 from solver.model import Force, Pass, Point, Rig
@@ -32,8 +33,6 @@ from solver.result import Result
 MAX_STROKES = 60
 #: Load travel below which a stroke made no progress, m.
 NO_PROGRESS_M = 1e-4
-#: Default steps per stroke.
-DEFAULT_STEPS = 100
 
 
 class _Stop(Exception):
@@ -626,8 +625,6 @@ class _Run:
 
     def _slid(self, held_side: list[Strand], capture_N: float) -> tuple[list[Strand], Result, float]:
         """The grab slides until it holds exactly its slip force: the held strand lengthened (secant on L0)."""
-        from scipy.optimize import brentq
-
         held = next(s for s in held_side if s.key.endswith("<"))
         target = self.h.grab_slip_N
 
@@ -643,7 +640,7 @@ class _Run:
             hi *= 2.0
             if hi > held.L0:
                 raise _Stop("unreachable", f"stroke {self.stroke_no}: the capture's grab would slip all the way")
-        extra = brentq(excess, 0.0, hi, xtol=1e-7)
+        extra = brent_root(excess, 0.0, hi, xtol=1e-7)
         trial = [replace(s, L0=s.L0 + extra) if s is held else s for s in held_side]
         return trial, self._held(trial), extra
 

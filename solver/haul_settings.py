@@ -20,6 +20,8 @@ HAUL_KEY = "haul_plan"
 #: Default travel and throw when a rig names none, m.
 DEFAULT_TRAVEL_M = 2.0
 DEFAULT_THROW_M = 3.0
+#: Default solved steps per stroke of a planned haul (``ropewright haul --steps``).
+DEFAULT_STEPS = 100
 
 
 @dataclass(frozen=True)

@@ -5,7 +5,6 @@ from __future__ import annotations
 import numpy as np
 import scipy.linalg
 import scipy.sparse
-import scipy.sparse.linalg
 
 from solver import free_directions
 from solver.evaluate import State
@@ -45,10 +44,11 @@ def mechanism(s: System, st: State, kc: np.ndarray) -> tuple[int, np.ndarray] | 
         Ks = (0.5 * (K + K.T)).tocsc()
         n = Ks.shape[0]
         shift = 1e-3 * MECHANISM_REL * top
+        from scipy.sparse.linalg import splu  # the sparse path (big rigs) only: a small solve skips the import
+
         try:
-            lu = scipy.sparse.linalg.splu((Ks + shift * scipy.sparse.identity(n, format="csc")).tocsc(),
-                                          permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
-                                          options={"SymmetricMode": True})
+            lu = splu((Ks + shift * scipy.sparse.identity(n, format="csc")).tocsc(),
+                      permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0, options={"SymmetricMode": True})
         except RuntimeError:
             lam, v = 0.0, np.zeros(n)
             v[int(np.argmin(np.abs(Ks.diagonal())))] = 1.0

@@ -16,7 +16,6 @@ import math
 import numpy as np
 import scipy.linalg
 import scipy.sparse
-import scipy.sparse.linalg
 
 from solver import pass_order
 from solver.evaluate import State, evaluate
@@ -123,12 +122,13 @@ def _shifted_factor(K, lam: np.ndarray | float, dense: bool, symmetric: bool):
             if info != 0:
                 return None
             return lambda rhs: _lapack_solved(*_GETRS(lu, piv, rhs, trans=0))
+        from scipy.sparse.linalg import splu  # the sparse path (big rigs) only: a small solve skips the import
+
         M = (K + scipy.sparse.diags(np.broadcast_to(lam, (n,)), format="csc")).tocsc()
         if symmetric:  # SPD after the shift: diagonal pivots, symmetric ordering
-            lu = scipy.sparse.linalg.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
-                                          options={"SymmetricMode": True})
+            lu = splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0, options={"SymmetricMode": True})
         else:
-            lu = scipy.sparse.linalg.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.1)
+            lu = splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.1)
         return lu.solve
     except (np.linalg.LinAlgError, scipy.linalg.LinAlgError, RuntimeError, ValueError):
         return None

@@ -6,8 +6,8 @@ redirect that swings): on a vector pull the MA falls as the line comes into line
 pull, so that division promises the load more than it gets.  Here the rig itself is solved
 at trial pulls -- every haul team and every external pulling force scaled together, with the
 friction of the chosen motion -- and the pull that delivers ``required_N`` is bracketed and
-then found by Brent's method (``scipy.optimize.brentq``) on log(pull), each solve warm-started
-from the nearest solved geometry (the start a force sweep uses).
+then found by Brent's method (:func:`solver.brent.brent_root`: the steps of ``scipy.optimize.brentq``)
+on log(pull), each solve warm-started from the nearest solved geometry (the start a force sweep uses).
 
 When no pull reaches the force the answer says what comes first, at what pull: the rig stops
 solving (a point is no longer held), two passes jam together (two-blocking), an anchor or a
@@ -26,6 +26,7 @@ import math
 from dataclasses import dataclass, replace
 from typing import Callable, Mapping
 
+from solver.brent import brent_root
 from solver.hauling import DEFAULT_PER_PERSON_N
 from solver.model import Rig
 from solver.result import LoadNeed, Result
@@ -179,7 +180,7 @@ def need_for_load(rig: Rig, result: Result, load_id: str, required_N: float | No
                     pull_now_N=pulls.now, pull_needed_N=None, per_person_N=per, pullers_needed=None)
     if pulls.count == 0:
         return replace(base, limit="no-pull")
-    cache: dict[float, tuple[Result, float | None]] = {}  # by log(pull): brentq's ends are the bracket's own
+    cache: dict[float, tuple[Result, float | None]] = {}  # by log(pull): the root finder's ends are the bracket's own
     if pulls.now > 0:
         cache[math.log(pulls.now)] = (result, delivered)
 
@@ -238,8 +239,6 @@ def need_for_load(rig: Rig, result: Result, load_id: str, required_N: float | No
                 hi = q
             if lo is None:
                 return replace(base, pull_needed_N=0.0, pullers_needed=0)
-    from scipy.optimize import brentq
-
     def gap(log_pull: float) -> float:
         res, f = at_log(log_pull)
         if f is None:  # the rig stopped solving inside the bracket: that comes first
@@ -247,7 +246,7 @@ def need_for_load(rig: Rig, result: Result, load_id: str, required_N: float | No
         return f - req
 
     try:
-        log_p = brentq(gap, math.log(lo), math.log(hi), xtol=PULL_RTOL, rtol=1e-10, maxiter=MAX_ROOT_SOLVES)
+        log_p = brent_root(gap, math.log(lo), math.log(hi), xtol=PULL_RTOL, rtol=1e-10, maxiter=MAX_ROOT_SOLVES)
     except _Stopped as stop:
         res, _ = at_log(stop.log_pull)
         return _unreachable(base, _limit(rig, res, None, None) or _Limit("stops-holding"), math.exp(stop.log_pull))

@@ -11,6 +11,7 @@ from functools import lru_cache
 from typing import Any, Mapping
 
 from solver import model as m
+from solver.bulk_build import object_reader, read_all, rope_reader
 from solver.bulk_read import filled
 from solver.errors import RigFileError
 from solver.rigfile_fields import (
@@ -76,6 +77,11 @@ def _make(cls: type, d: dict[str, Any], spec: _Spec, where: str, strict: bool, *
     key (``_to_simple``); so only a key given at its default needs remembering, and most
     objects of a big rig (a pass ``{"at": "n1"}``) need no entry at all.
     """
+    read = None if more else object_reader(cls, spec, _REQUIRED)
+    got = read(d) if read is not None else None
+    if got is not None:  # known keys only: built in one step (solver.bulk_build)
+        obj, at_default = got
+        return _remember(obj, at_default) if at_default else obj
     at_default: list[str] = []
     kwargs, _ = _from_simple(d, spec, where, strict, at_default)
     kwargs.update(more)
@@ -102,10 +108,12 @@ def _build_rig(d: dict[str, Any], strict: bool) -> m.Rig:
                             for i, x in enumerate(d.get("materials", ())))
     kw["hardware"] = tuple(_make(m.Hardware, x, _HARDWARE, f"hardware[{i}]", False)
                            for i, x in enumerate(d.get("hardware", ())))
-    kw["points"] = tuple(_make(m.Point, x, _POINT, f"points[{i}]", strict) for i, x in enumerate(d["points"]))
-    kw["forces"] = tuple(_make(m.Force, x, _FORCE, f"forces[{i}]", strict)
-                         for i, x in enumerate(d.get("forces", ())))
-    kw["ropes"] = tuple(_build_rope(x, f"ropes[{i}]", strict) for i, x in enumerate(d["ropes"]))
+    # the many points, forces and ropes: known keys read in one step (solver.bulk_build), the rest one by one
+    kw["points"] = read_all(d["points"], object_reader(m.Point, _POINT, _REQUIRED), _remember,
+                            lambda i, x: _make(m.Point, x, _POINT, f"points[{i}]", strict))
+    kw["forces"] = read_all(d.get("forces", ()), object_reader(m.Force, _FORCE, _REQUIRED), _remember,
+                            lambda i, x: _make(m.Force, x, _FORCE, f"forces[{i}]", strict))
+    kw["ropes"] = read_all(d["ropes"], _ROPE_FAST, _remember, lambda i, x: _build_rope(x, f"ropes[{i}]", strict))
     kw["extra"] = {k: v for k, v in d.items() if k not in _TOP_KEYS}
     return _remember(m.Rig(**kw), d.keys())
 
@@ -168,3 +176,5 @@ def _build_rope(d: dict[str, Any], where: str, strict: bool) -> m.Rope:
 _ROPE_DEFAULTS: dict[str, Any] = {"label": "", "rigged": m.Rigging()}
 #: A rope's keys as _from_simple reads them: path and rigged known (not extra), each read on its own.
 _ROPE_READ: _Spec = _ROPE + (("path", "str", _REQUIRED), ("rigged", "str", None))
+#: Whole ropes with known keys only, read in one step (solver.bulk_build); None: every rope the general way.
+_ROPE_FAST = rope_reader(_ROPE, _PASS, _RIGGING, _REQUIRED, _remember)

@@ -16,6 +16,7 @@ from typing import Any, Mapping, Sequence
 
 from solver import limits, materials
 from solver import model as m
+from solver.bulk_checks import all_unique, points_to_check, ropes_to_check
 from solver.errors import RigFileError
 from solver.water_site import water_feature_problem, wetted_point_problem
 
@@ -55,13 +56,14 @@ def _check_coordinate(value: float, where: str) -> None:
 
 
 def _check_semantics(rig: m.Rig, base_dir: str | os.PathLike[str] | None) -> None:
-    _unique(rig.points, "points")
-    _unique(rig.ropes, "ropes")
-    _unique(rig.materials, "materials")
-    _unique(rig.hardware, "hardware")
-    _unique(rig.site.features, "site.features")
+    # the solver.bulk_checks tests clear what plainly meets a rule; the rest is checked in full, in order
+    for items, where in ((rig.points, "points"), (rig.ropes, "ropes"), (rig.materials, "materials"),
+                         (rig.hardware, "hardware"), (rig.site.features, "site.features")):
+        if not all_unique(items):
+            _unique(items, where)
     points = {p.id: p for p in rig.points}
-    for i, p in enumerate(rig.points):
+    for i in points_to_check(rig.points, MAX_COORDINATE_M):
+        p = rig.points[i]
         _check_coordinate(p.x, f"points[{i}].x")
         _check_coordinate(p.y, f"points[{i}].y")
         if p.role is not None and p.kind != "person":
@@ -75,9 +77,20 @@ def _check_semantics(rig: m.Rig, base_dir: str | os.PathLike[str] | None) -> Non
         _check_stretch(mat, f"materials[{i}]")
     for i, hw in enumerate(rig.hardware):
         _raise_problem(materials.hardware_problem(hw), f"hardware[{i}]")
-    for i, rope in enumerate(rig.ropes):
-        _check_rope(rig, rope, points, f"ropes[{i}]")
+    for i in ropes_to_check(rig.ropes, points, lambda mat: _material(rig, mat) is not None,
+                            lambda ps: _pass_fits(rig, ps)):
+        _check_rope(rig, rig.ropes[i], points, f"ropes[{i}]")
     _check_site(rig.site, base_dir)
+
+
+def _pass_fits(rig: m.Rig, ps: m.Pass) -> bool:
+    """True when a pass's hardware, grab and termination pass their checks (solver.bulk_checks asks)."""
+    try:
+        _check_pass_hardware(rig, ps, "")
+        _check_weak_link(rig, ps, "")
+    except RigFileError:
+        return False
+    return True
 
 
 def _raise_problem(problem: tuple[str, str] | None, where: str) -> None:

@@ -14,6 +14,7 @@ field path), so this gate never has to explain anything.
 
 from __future__ import annotations
 
+import math
 from typing import Any, Callable, Mapping
 
 Check = Callable[[Any], bool]
@@ -78,8 +79,11 @@ def _scalars(values: list[Any]) -> list[Any]:
     return values
 
 
-def compile_schema(schema: Any) -> Check:
-    """A function telling whether a JSON value satisfies ``schema`` (refs inlined; see module doc)."""
+def compile_schema(schema: Any, shortcuts: bool = True) -> Check:
+    """A function telling whether a JSON value satisfies ``schema`` (refs inlined; see module doc).
+
+    ``shortcuts`` False compiles the top node keyword by keyword (what a shortcut falls back to).
+    """
     if schema is True:
         return lambda v: True
     if schema is False:
@@ -89,7 +93,7 @@ def compile_schema(schema: Any) -> Check:
     unknown = set(schema) - _SUPPORTED
     if unknown:
         raise Unsupported(", ".join(sorted(unknown)))
-    fast = _object_check(schema) or _leaf_check(schema)
+    fast = (_object_check(schema) or _leaf_check(schema) or _array_check(schema)) if shortcuts else None
     if fast is not None:
         return fast
     checks: list[Check] = []
@@ -127,9 +131,8 @@ def compile_schema(schema: Any) -> Check:
 
         checks.append(required)
     if "properties" in schema:
-        plain, props = _split_properties(schema["properties"])
-        checks.append(lambda v, plain=plain, props=props: not isinstance(v, dict)
-                      or _properties_hold(v, plain, props))
+        rules = _split_properties(schema["properties"])
+        checks.append(lambda v, rules=rules: not isinstance(v, dict) or _properties_hold(v, rules))
     prefix = tuple(compile_schema(sub) for sub in schema.get("prefixItems", ()))
     rest = compile_schema(schema["items"]) if "items" in schema else None
     if prefix or rest is not None:
@@ -164,23 +167,61 @@ def compile_schema(schema: Any) -> Check:
 # --- one closure for the common shapes (an object of typed fields, a typed number or text) -----------
 
 
-def _split_properties(subs: Mapping[str, Any]) -> tuple[dict[str, frozenset[type]], dict[str, Check]]:
-    """Property schemas as (key -> Python types, for a schema that is only a plain type; key -> test, the rest)."""
-    plain = {k: _PLAIN_TYPES[sub["type"]] for k, sub in subs.items()
-             if isinstance(sub, dict) and sub.keys() == {"type"} and sub["type"] in _PLAIN_TYPES}
-    return plain, {k: compile_schema(sub) for k, sub in subs.items() if k not in plain}
+#: What one property's schema asks, checked inline by _properties_hold (no call for the common shapes):
+#: only plain JSON types; text of a length; a number within bounds; one of some words; anything else.
+_TYPES_ONLY, _TEXT, _NUMBER, _WORDS, _OTHER = range(5)
 
 
-def _properties_hold(v: dict, plain: dict[str, frozenset[type]], props: dict[str, Check]) -> bool:
-    """Every key of ``v`` that has a schema meets it (walks the value's keys: a point has 4 of its 13)."""
+def _property_rule(sub: Any) -> tuple[int, Any]:
+    """(rule code, its data) for one property's schema; the exact-type tests fall back to the compiled
+    schema for a value of another Python type (a subclass), so the answer is always the schema's."""
+    keys = set(sub) - _ANNOTATIONS if isinstance(sub, dict) else None
+    kind = sub.get("type") if keys is not None else None
+    if keys == {"type"} and kind in _PLAIN_TYPES:
+        return _TYPES_ONLY, _PLAIN_TYPES[kind]
+    if kind == "string" and keys <= {"type", "minLength", "maxLength"}:
+        return _TEXT, (sub.get("minLength", 0), sub.get("maxLength", math.inf))
+    if kind == "number" and keys <= {"type", *_COMPARE}:
+        return _NUMBER, (sub.get("minimum", -math.inf), sub.get("maximum", math.inf),
+                         sub.get("exclusiveMinimum", math.nan), compile_schema(sub))  # x <= NaN: never
+    if keys == {"enum"} and all(type(w) is str for w in sub["enum"]):
+        return _WORDS, (frozenset(sub["enum"]), compile_schema(sub))
+    return _OTHER, compile_schema(sub)
+
+
+def _split_properties(subs: Mapping[str, Any]) -> dict[str, tuple[int, Any]]:
+    """Property schemas as key -> (rule code, data) (:func:`_property_rule`)."""
+    return {k: _property_rule(sub) for k, sub in subs.items()}
+
+
+def _properties_hold(v: dict, rules: dict[str, tuple[int, Any]]) -> bool:
+    """Every key of ``v`` that has a schema meets it (walks the value's keys: a point has 4 of its 13).
+
+    Numbers compare as jsonschema compares them (an error only when ``v < minimum``, ``v > maximum``,
+    ``v <= exclusiveMinimum``), so a NaN passes here as there (the reader refuses it after the schema).
+    """
     for k, x in v.items():
-        types = plain.get(k)
-        if types is not None:
-            if type(x) not in types:
-                return False
+        rule = rules.get(k)
+        if rule is None:
             continue
-        check = props.get(k)
-        if check is not None and not check(x):
+        code, data = rule
+        if code == _TYPES_ONLY:
+            if type(x) not in data:
+                return False
+        elif code == _TEXT:
+            if type(x) is not str or not data[0] <= len(x) <= data[1]:
+                return False
+        elif code == _NUMBER:
+            t = type(x)
+            if t is float or t is int:
+                if x < data[0] or x > data[1] or x <= data[2]:
+                    return False
+            elif not data[3](x):
+                return False
+        elif code == _WORDS:
+            if not (x in data[0] if type(x) is str else data[1](x)):
+                return False
+        elif not data(x):
             return False
     return True
 
@@ -213,7 +254,7 @@ def _object_check(schema: dict[str, Any]) -> Check | None:
     if schema.get("type") != "object" or set(schema) - _ANNOTATIONS - {"type", "required", "properties"}:
         return None
     required = tuple(schema.get("required", ()))
-    plain, props = _split_properties(schema.get("properties", {}))
+    rules = _split_properties(schema.get("properties", {}))
 
     def obj(v: Any) -> bool:
         if type(v) is not dict:
@@ -221,9 +262,31 @@ def _object_check(schema: dict[str, Any]) -> Check | None:
         for k in required:
             if k not in v:
                 return False
-        return _properties_hold(v, plain, props)
+        return _properties_hold(v, rules)
 
     def _slow_object(v: Any) -> bool:
         return obj(dict(v))
 
     return obj
+
+
+def _array_check(schema: dict[str, Any]) -> Check | None:
+    """A list schema (type, items, minItems, maxItems) as one test, else None; a list subclass goes the long way."""
+    if schema.get("type") != "array" or "items" not in schema \
+            or set(schema) - _ANNOTATIONS - {"type", "items", "minItems", "maxItems"}:
+        return None
+    item = compile_schema(schema["items"])
+    lo, hi = schema.get("minItems", 0), schema.get("maxItems", math.inf)
+    general = compile_schema(schema, shortcuts=False)
+
+    def array(v: Any) -> bool:
+        if type(v) is not list:
+            return general(v)
+        if not lo <= len(v) <= hi:
+            return False
+        for x in v:
+            if not item(x):
+                return False
+        return True
+
+    return array

@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import numpy as np
 import scipy.sparse
-import scipy.sparse.csgraph
 
 from solver import memo
 from solver.system import PASS_EDGE, PASS_PULLEY, Grouping, IntArray, System
@@ -155,8 +154,10 @@ def _components(s: System) -> None:
         if nf <= 200:  # small rigs: plain union-find beats building a sparse graph
             n_comp, label = _union_find(nf, ends[keep].tolist(), reps[keep].tolist())
         else:
+            from scipy.sparse.csgraph import connected_components  # big rigs only: a small solve skips the import
+
             graph = scipy.sparse.coo_matrix((np.ones(int(keep.sum())), (ends[keep], reps[keep])), shape=(nf, nf))
-            n_comp, label = scipy.sparse.csgraph.connected_components(graph, directed=False)
+            n_comp, label = connected_components(graph, directed=False)
     else:
         rep = np.full(s.n_runs, -1, dtype=np.intp)
         n_comp, label = nf, np.arange(nf)

@@ -12,9 +12,11 @@ on; measure with
 from __future__ import annotations
 
 import os
+import pathlib
 import statistics
 import subprocess
 import sys
+import tempfile
 import time
 
 from tests.conftest import ROOT, SAMPLES
@@ -24,9 +26,17 @@ SOLVE = [sys.executable, "-m", "solver.cli", "solve", str(SAMPLE)]
 FLOOR = [sys.executable, "-c", "import numpy, scipy.sparse"]
 
 
+PYCACHE = pathlib.Path(tempfile.gettempdir()) / "ropewright-bench-pycache"
+
+
 def _env() -> dict[str, str]:
+    """Both commands run as an installed program runs: with Python's bytecode cache (pip compiles the
+    installed numpy and scipy; our modules are compiled on the first run into a cache outside the
+    repository), even where the calling shell turned bytecode writing off."""
     env = dict(os.environ)
     env["PYTHONPATH"] = str(ROOT) + os.pathsep + env.get("PYTHONPATH", "")
+    env.pop("PYTHONDONTWRITEBYTECODE", None)
+    env["PYTHONPYCACHEPREFIX"] = str(PYCACHE)
     return env
 
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 import dataclasses
 
 from solver import model as m
-from solver import rigfile_build, rigfile_fields
+from solver import rigfile, rigfile_build, rigfile_fields
 from solver.bulk_read import filled
 from solver.bulk_read import plain_data_ok
 from solver.rigfile_build import _read_pass
@@ -65,3 +65,31 @@ def test_the_quick_plain_data_walk_finds_what_the_full_walk_reports():
     assert not plain_data_ok({"a": 1, _DUPLICATE: "a"}, _DUPLICATE)
     for bad in ({"a": float("nan")}, {"a": [float("inf")]}, {"a": 10**301}, {"a": "\ud800"}, {"\ud800": 1}):
         assert not plain_data_ok(bad, _DUPLICATE)
+
+
+def test_a_loaded_rig_goes_to_the_oldest_generation_and_the_collector_is_left_as_found():
+    import gc
+
+    from tests.conftest import SAMPLES
+
+    sample = SAMPLES / "raft-3to1-redirect.rig.json"
+    assert gc.isenabled() and gc.get_freeze_count() == 0
+    rig = rigfile.load_rig(sample)
+    assert gc.isenabled() and gc.get_freeze_count() == 0  # nothing left frozen
+    oldest = gc.get_objects(generation=2)
+    assert any(o is rig for o in oldest) and any(o is rig.points[0] for o in oldest)
+    # a program that keeps objects frozen keeps them: the load does not unfreeze them
+    gc.freeze()
+    try:
+        frozen = gc.get_freeze_count()
+        rigfile.load_rig(sample)
+        assert gc.get_freeze_count() == frozen and gc.isenabled()
+    finally:
+        gc.unfreeze()
+    # switched off by the program: left off
+    gc.disable()
+    try:
+        rigfile.load_rig(sample)
+        assert not gc.isenabled()
+    finally:
+        gc.enable()

@@ -61,6 +61,24 @@ def test_a_mutated_sample_gets_the_same_answer_from_both(data):
     ({"type": "object", "required": ["id"], "properties": {"id": {"type": "string"}}}, {"id": 3}),
     ({"type": "object", "required": ["id"], "properties": {"id": {"type": "string"}}}, {"x": "a"}),
     ({"type": "object", "properties": {"x": {"type": "number"}}}, {"x": 1, "other": None}),
+    # the inline property rules (text, bounded number, words) and the list shortcut, at their edges
+    ({"type": "object", "properties": {"x": {"type": "number", "maximum": 5}}}, {"x": float("-inf")}),
+    ({"type": "object", "properties": {"x": {"type": "number", "minimum": 5}}}, {"x": float("inf")}),
+    ({"type": "object", "properties": {"x": {"type": "number", "exclusiveMinimum": 0}}}, {"x": float("inf")}),
+    ({"type": "object", "properties": {"x": {"type": "number", "exclusiveMinimum": 0}}}, {"x": 0}),
+    ({"type": "object", "properties": {"x": {"type": "number", "maximum": 5}}}, {"x": 5}),
+    ({"type": "object", "properties": {"x": {"type": "number", "maximum": 5}}}, {"x": 10**400}),
+    ({"type": "object", "properties": {"x": {"type": "number", "maximum": 5}}}, {"x": True}),
+    ({"type": "object", "properties": {"x": {"type": "number", "maximum": 5}}}, {"x": "4"}),
+    ({"type": "object", "properties": {"x": {"enum": ["a", "b"]}}}, {"x": "b"}),
+    ({"type": "object", "properties": {"x": {"enum": ["a", "b"]}}}, {"x": ["a"]}),
+    ({"type": "object", "properties": {"x": {"enum": ["a", "b"]}}}, {"x": None}),
+    ({"type": "object", "properties": {"x": {"type": "string", "maxLength": 2}}}, {"x": "abc"}),
+    ({"type": "object", "properties": {"x": {"type": "string", "minLength": 1}}}, {"x": 1}),
+    ({"type": "array", "items": {"type": "number"}, "minItems": 1, "maxItems": 2}, []),
+    ({"type": "array", "items": {"type": "number"}, "minItems": 1, "maxItems": 2}, [1, 2, 3]),
+    ({"type": "array", "items": {"type": "number"}, "minItems": 1, "maxItems": 2}, [1, "2"]),
+    ({"type": "array", "items": {"type": "number"}, "minItems": 1, "maxItems": 2}, {"a": 1}),
 ])
 def test_standard_type_rules(schema, value):
     want = jsonschema.Draft202012Validator(schema).is_valid(value)
