@@ -10,6 +10,8 @@ is kept between solves, and why:
   carries the scratch of the solve running on it (its softening during a soft start, the last run
   tensions), so two threads must never solve the same System object at once;
 * small per-structure index maps (:data:`SIZE_GROUPS`, :data:`PART_PATTERNS`);
+* the last two settled states of a solve in moving water (:data:`WATER_STATES`): a warm drag step starts
+  its outer rounds from their extrapolation (``solver.water_predict``), never a change to where they stop;
 * the records of the last Result (:data:`POINT_ROWS` ... :data:`LAST_HAUL`): a drag step moves one part
   of the rig, and every record whose numbers are bit for bit those of the last Result of the same
   structure is handed on as the same object, so that the overlay recognises what did not move by
@@ -218,6 +220,7 @@ def forget_all() -> None:
         cache.clear()
     SIZE_GROUPS.forget()
     PART_PATTERNS.forget()
+    WATER_STATES.forget()
 
 
 def stats() -> dict[str, Any]:
@@ -231,3 +234,26 @@ def stats() -> dict[str, Any]:
                   "compiled": (len(COMPILED), COMPILED.size)},
         "systems": SYSTEM_SOURCES.counts(),
     }
+
+
+class LastTwo:
+    """The last two values kept, oldest first: one tuple, replaced whole under a lock (read as :class:`LastOf`)."""
+
+    def __init__(self) -> None:
+        self._pair: tuple = ()
+        self._lock = threading.Lock()
+
+    def get(self) -> tuple:
+        """() before anything is kept, (newest,) after one value, else (older, newest)."""
+        return self._pair
+
+    def put(self, value: Any) -> None:
+        with self._lock:
+            self._pair = (*self._pair[-1:], value)
+
+    def forget(self) -> None:
+        self._pair = ()
+
+
+#: The last two settled states of a water solve (solver.water_predict): where a warm drag step starts.
+WATER_STATES = LastTwo()

@@ -38,8 +38,9 @@ from solver.materials import material_for
 from solver.model import Force, Pass, Point, Rig, Rope, Site
 from solver.result import Result, Warning_
 from solver.water_forces import HIDDEN, _drag_forces, _scale
+from solver.water_predict import drive, keep, predict
 from solver.water_site import FlowField, flow_field
-from solver.water_slide import MESH_REL, cut_run, remesh, start_mesh, warm_lengths
+from solver.water_slide import MESH_REL, cut_run, remesh, start_mesh, warm_mesh
 
 log = logging.getLogger(__name__)
 
@@ -254,16 +255,20 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
     fixed = {p.id for p in plan.rig.points if p.is_fixed}
     at = {p.id: p.xy for p in plan.rig.points}
     if start:
-        at.update({k: tuple(v) for k, v in start.items() if k in at})
+        # a fixed point stays where the rig has it now (a dragged anchor): the start's is where it was
+        at.update({k: tuple(v) for k, v in start.items() if k in at and k not in fixed})
         at.update(_LAST_BOW.start(plan, at))
+        # the sliding runs' cut parts (water_slide)
+        mesh = warm_mesh(plan.rig, plan.sliding_parts, motion, _LAST_BOW.mesh(), plan.slide_groups)
+        predict({k: at[k] for k in fixed}, drive(rig), at, {h for c in plan.chains for h in c.hidden}, mesh.lengths,
+                plan.slide_groups)  # a steady drag: along the last step (water_predict)
+    else:
+        mesh = start_mesh(plan.rig, plan.sliding_parts, motion)
     forces, _ = _drag_forces(plan, ff, at)
     warm = dict(at) if start else None
     result = None
     gap = math.inf
     iterations = 0
-    mesh = start_mesh(plan.rig, plan.sliding_parts, motion)  # the sliding runs' cut parts (water_slide)
-    if start:
-        warm_lengths(mesh, _LAST_BOW.mesh(), plan.slide_groups)
     for rounds in range(1, MAX_ROUNDS + 1):
         result = solve(_with_forces(plan, forces), start=warm, motion=motion, ideal=False, **mesh.kwargs())
         iterations += result.iterations
@@ -284,6 +289,7 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
         result = replace(result, ma_ideal=ma_ideal)
     if result is not None and result.ok:
         _LAST_BOW.keep(plan, at, mesh.lengths)
+        keep(fixed, at, mesh.lengths, drive(rig))
         if not hauls(rig):  # the MA is over the user's own pull, never over the current's drag
             solved, own = drawn_pull_N(_with_forces(plan, forces)), drawn_pull_N(rig)
             result = replace(result, ma_actual=rescaled_to_user(result.ma_actual, solved, own),

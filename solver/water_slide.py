@@ -31,7 +31,8 @@ from typing import Mapping
 
 import numpy as np
 
-from solver.compile import compile_rig
+from solver import memo
+from solver.compile import compile_rig, same_structure, with_geometry
 from solver.errors import RigModelError
 from solver.model import Pass, Point, Rig, Rope, Run
 
@@ -132,11 +133,33 @@ def start_mesh(aug: Rig, parts: set[str], motion: str | None) -> Mesh:
     if not parts:
         return Mesh()
     try:
-        s = compile_rig(aug, motion)
+        s = _system_of(aug, motion)
     except RigModelError:  # the solve names what is wrong
         return Mesh()
     return Mesh({r: float(L0) for r, L0, hauled in zip(s.run_rope, s.run_L0, s.run_hauled)
                  if r in parts and not hauled})
+
+
+def _system_of(aug: Rig, motion: str | None):
+    """``aug`` compiled: on the index arrays of this thread's last solve of its structure when there is one (a
+    drag step's rounds solved it with other drag forces: :data:`solver.memo.COMPILED`), equal to compile_rig's."""
+    for _, _, _, topo in memo.COMPILED.entries():
+        if same_structure(topo, aug, motion, forces=False):
+            return with_geometry(topo, aug)
+    return compile_rig(aug, motion)
+
+
+def warm_mesh(aug: Rig, parts: set[str], motion: str | None, kept: Mapping[str, float], groups) -> Mesh:
+    """The cut parts' lengths for a warm solve: the last split (:func:`warm_lengths`) of each run.
+
+    A hauled run's kept parts need nothing from the rigging (the team's rope is free), so when every
+    sliding run is hauled and was kept the rig is not compiled for its lengths (a drag step's cost).
+    """
+    if parts and all(hauled and all(p in kept for p in group) for group, hauled in groups):
+        return Mesh({p: float(kept[p]) for group, _ in groups for p in group})
+    mesh = start_mesh(aug, parts, motion)
+    warm_lengths(mesh, kept, groups)
+    return mesh
 
 
 def remesh(mesh: Mesh, sliding, segments, at: dict[str, tuple[float, float]]) -> float:
