@@ -121,12 +121,19 @@ class SketchScene(QGraphicsScene):
         """
         last = self._synced
         self.rig = rig
+        shown_before = self.shown_at
         if self.shown_at:  # a point drawn elsewhere (dragged, edited, gone) is shown where it is drawn again
             old = last[1] if last is not None else {}
             now = {p.id: p for p in rig.points}
-            self.shown_at = {k: v for k, v in self.shown_at.items() if now.get(k) is not None and now[k] is old.get(k)}
+            kept = {k: v for k, v in self.shown_at.items() if now.get(k) is not None and now[k] is old.get(k)}
+            if len(kept) != len(self.shown_at):  # else the same places: the same dict, as _sync_moved's test reads
+                self.shown_at = kept
         if last is not None and self._sync_moved(rig, *last):
-            self._show_solved()
+            # _sync_moved touched only changed points, the forces at them and the ropes through them, and a changed
+            # point has just left shown_at: with the same shown_at every point, force and ring shown at a solved
+            # place is as _show_solved left it (tested equal to a full sync)
+            if self.shown_at is not shown_before:
+                self._show_solved()
             self.synced.emit(rig)
             return
         items = self.items_by_key

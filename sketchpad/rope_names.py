@@ -13,6 +13,8 @@ import math
 from typing import Mapping
 
 from sketchpad import theme
+from sketchpad.overlay.labels import OverlayLabel
+from sketchpad.short_text import drawn
 from solver.model import Rig
 
 #: below every label that carries a number (tension labels: 50-80): names are placed last
@@ -36,9 +38,6 @@ def longest_piece(rope, pos: Mapping[str, tuple[float, float]]):
 def rope_name_labels(rig: Rig, pos: Mapping[str, tuple[float, float]], memo: dict) -> list:
     """One label per rope (kind "rope"); a rope whose name, colour and piece are those of the last call keeps
     its label object (``memo``: rope id -> (inputs, label), kept by the caller), as the placer's caches want."""
-    from sketchpad.overlay import OverlayLabel
-    from sketchpad.short_text import drawn
-
     out, seen = [], set()
     for i, rope in enumerate(rig.ropes):
         ends = longest_piece(rope, pos)
