@@ -14,7 +14,9 @@ import math
 from sketchpad.canvas import SketchScene
 from sketchpad.geometry import to_scene
 from sketchpad.overlay.labels import scene_xy
+from sketchpad.overlay.labels import scene_positions
 from sketchpad.overlay.legend import summary_lines
+from sketchpad.rope_names import rope_name_labels
 from sketchpad.solved_places import drawn_place_pairs
 from tests.sketchpad.test_drag_layer import fifty_rope_window
 
@@ -73,13 +75,18 @@ def test_drag_steps_leave_the_scene_as_a_full_sync_from_scratch_draws_it(main_wi
     assert canvas.item_for(("point", "M4")).pos() == to_scene(*doc.rig.point("M4").xy)
 
 
-def test_drag_steps_place_labels_clear_of_name_boxes_and_write_key_lines_made_afresh(main_window):
+def test_drag_steps_give_name_boxes_rope_names_and_key_lines_made_afresh(main_window):
     doc, sched, view = fifty_rope_window(main_window)
     ov = main_window.live.overlay
 
     def check() -> None:
         assert ov._name_boxes(ov.rig) == fresh_name_boxes(ov)
         assert ov._summary == summary_lines(ov.rig, ov.result)
+        names = [lab for lab in ov.labels if lab.kind == "rope"]
+        fresh = rope_name_labels(ov.rig, dict(scene_positions(ov.rig, ov.result)), {})
+        assert len(names) == len(fresh) == 50
+        assert [(a.key, a.lines, a.base, a.end, a.colour.rgba(), a.priority) for a in names] == \
+            [(b.key, b.lines, b.base, b.end, b.colour.rgba(), b.priority) for b in fresh]
         assert ov.legend.lines[:len(ov._summary)] == ov._summary
 
     circle_steps(doc, sched, view, "H4", 3, check)
