@@ -19,8 +19,11 @@ MOTION_WORDS = {"haul": "hauling", "hold": "holding", "lower": "lowering"}
 
 def _point_and_name(rig: Rig, pid: str):
     """The rig's point ``pid`` (None if gone) and what a person calls it (as drawn)."""
-    p = rig.point(pid) if rig.has_point(pid) else None
-    return p, drawn(p.name if p is not None else pid)
+    try:
+        p = rig.point(pid)  # one look-up: this runs for every load and haul team on every drag step
+    except KeyError:
+        return None, drawn(pid)
+    return p, drawn(p.name)
 
 
 def _each(rig: Rig, records, sentence) -> list[str]:
