@@ -112,6 +112,12 @@ class Drawing:
         self.layers = list(LAYERS) if layers is None else list(layers)
         self.scene = SketchScene()
         self.scene.sync(rig)
+        if result.ok:  # as on the canvas: free points where the solver put them, bowed ropes along their bows
+            from sketchpad.rope_bows import scene_bows
+            from sketchpad.solved_places import moved_free_points
+
+            self.scene.set_solved(moved_free_points(rig, result))
+            self.scene.set_bows(scene_bows(rig, result))
         self.scene.clearSelection()
         self._background(rig, rig_dir)
         self.zones_item = ZoneItem()

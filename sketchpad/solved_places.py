@@ -103,3 +103,19 @@ def moved_free_points(rig, result) -> dict[str, tuple[float, float]]:
         if xy is not None and ((xy[0] - p.x) ** 2 + (xy[1] - p.y) ** 2) ** 0.5 > MOVED_M:
             out[p.id] = (float(xy[0]), float(xy[1]))
     return out
+
+
+def live_places(rig, result, settled_rig=None) -> dict[str, tuple[float, float]] | None:
+    """The solved places to draw for ``result`` of ``rig`` (None when it failed): :func:`moved_free_points`, less,
+    during a drag (``settled_rig``: the rig of the last settled result), the points the drag moves away from it,
+    which stay under the cursor; every other free point (a boat in the current) follows each drag step's solve."""
+    if not result.ok:
+        return None
+    places = moved_free_points(rig, result)
+    if settled_rig is not None and places:
+        before = {p.id: p for p in settled_rig.points}
+        for p in rig.points:
+            was = before.get(p.id)
+            if p.id in places and was is not p and (was is None or (was.x, was.y) != (p.x, p.y)):
+                del places[p.id]
+    return places

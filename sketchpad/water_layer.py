@@ -123,13 +123,14 @@ def field_marks(rig: Rig) -> Marks:
 
 
 def bow_marks(rig: Rig, result: Result | None) -> Marks:
-    """What ``result``'s water adds to the plan (scene metres): each bowed rope in its rope colour with the
-    tension at both ends of its wet part, and the current's push on each body as an arrow downstream of it."""
+    """What ``result``'s water adds to the plan (scene metres): the tension at both ends of each bowed rope's wet
+    part, and the current's push on each body as an arrow downstream of it; the bowed rope itself is drawn by its
+    rope item along the solver's hidden points (``SketchScene.set_bows``), so the plan shows one rope."""
     water = getattr(result, "water", None) if result is not None and result.ok and rig.view == "plan" else None
     if water is None:
         return NO_MARKS
     unit = rig.display.force
-    arrows, lines, texts = [], [], []
+    arrows, texts = [], []
     for b in water.bodies:
         if b.force_N <= 0 or b.point not in result.points:
             continue
@@ -139,15 +140,13 @@ def bow_marks(rig: Rig, result: Result | None) -> Marks:
         arrows.append((_scene(x, y), _scene(*tip)))
         texts.append((f"current {format_force(b.force_N, unit)}", _scene(tip[0], tip[1] - 0.8), theme.FLOW_LABEL,
                       (0.0, 0.0)))
-    order = {r.id: i for i, r in enumerate(rig.ropes)}
     for w in water.ropes:
         if not w.bowed:
             continue
-        line = tuple(_scene(*p) for p in w.polyline)
-        lines.append((line, theme.rope_colour(order.get(w.rope, 0)), theme.BOWED_ROPE_PX))
+        line = tuple(_scene(*p) for p in w.polyline)  # the rope item draws the bow itself (sketchpad.rope_bows)
         for idx, inward, t in ((w.wet_from, 1, w.tension_in_N), (w.wet_to, -1, w.tension_out_N)):
             texts.append((format_force(t, unit), line[idx], theme.WET_TENSION, _along(line, idx, inward)))
-    return Marks(arrows=tuple(arrows), lines=tuple(lines), texts=tuple(texts))
+    return Marks(arrows=tuple(arrows), texts=tuple(texts))
 
 
 #: How far (px) a wet-end tension sits from its end along its own rope: two ropes ending at one body (a V of

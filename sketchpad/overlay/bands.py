@@ -18,6 +18,7 @@ from sketchpad import theme
 from sketchpad.overlay.labels import SLACK_N, Entries, moved_names, scene_positions
 from sketchpad.overlay.layer import plain_raster_transform
 from sketchpad.retained import RetainedLayer, add_damage
+from sketchpad.rope_bows import site_bows
 from solver.model import Rig
 from solver.result import Result
 
@@ -55,6 +56,8 @@ class BandState:
         self.where: list[int] = []  # per segment: index of its first end in its colour's list
         self.by_colour: dict[int, list] = {}
         self.rings = Entries()  # per solved point: its solved place when off the drawn one, else None
+        self.bowed = False  # the last bands followed a bow: the next are laid out afresh
+        self.bows: tuple = (None, {})  # (Result.water, its bows in scene metres) of the last call
 
 
 class BandPainting:
@@ -99,8 +102,9 @@ class BandPainting:
             pieces = st.pieces_out = list(filter(None, outs))
         # the ends of each colour's pieces, in the order of the segments; a drag step that keeps every
         # piece's colour puts the moved ends in place of the old ones
-        if todo is not None and all(extras[i] == old_extras[i] and (outs[i] is None) == (old_outs[i] is None)
-                                    for i in todo):
+        bows = self._band_bows(result)
+        if not bows and not st.bowed and todo is not None and all(
+                extras[i] == old_extras[i] and (outs[i] is None) == (old_outs[i] is None) for i in todo):
             by_colour = dict(st.by_colour)
             where = st.where
             copied: set = set()
@@ -123,8 +127,16 @@ class BandPainting:
                 if ends is None:
                     ends = by_colour[rgba] = []
                 where[i] = len(ends)
+                inner = bows.get(out[0])
+                if inner:  # a piece the current bows: its band follows the bow, piece by piece
+                    run = (out[1], *inner, out[2])
+                    for a, b in zip(run, run[1:]):
+                        ends.append(a)
+                        ends.append(b)
+                    continue
                 ends.append(out[1])
                 ends.append(out[2])
+        st.bowed = bool(bows)
         st.by_colour = by_colour
         old = self._band_paths
         self._band_paths = {}
@@ -172,6 +184,18 @@ class BandPainting:
         st.rings.update(solved, tuple(result.points.values()), changed, ring)
         self.moved_points = list(filter(None, st.rings.outs))
         return pieces
+
+    def _band_bows(self, result: Result) -> dict:
+        """(rope, piece) -> interior scene points of each piece ``result``'s water bowed (kept for the same water)."""
+        water = getattr(result, "water", None)
+        if water is None or not water.ropes:
+            return {}
+        kept = self._band_state.bows
+        if kept[0] is water:
+            return kept[1]
+        bows = {key: tuple((x, -y) for x, y in line[1:-1]) for key, line in site_bows(result).items()}
+        self._band_state.bows = (water, bows)
+        return bows
 
     def _drawn_positions(self, rig: Rig) -> dict[str, tuple[float, float]]:
         """Scene positions of the points as drawn (kept while ``rig.points`` is the same tuple)."""

@@ -70,7 +70,7 @@ def test_every_item_of_a_fresh_window_with_the_water_sample_is_tracked_by_the_dr
     _doc, view, sched = open_water(main_window)
     scene, layer = view.sketch_scene, view.drag_layer
     water = main_window.live.overlay.water_item
-    assert water.marks.arrows and water.bows.marks.lines  # the current drawn, the tethers bowed
+    assert water.marks.arrows and main_window.canvas.bows  # the current drawn, the tethers bowed
     assert scene.tracks_structure and not untracked(scene)
     drag_through_viewport(main_window, mouse, qtbot, "A2", 4, -0.5, 0.0, release=False)
     assert not untracked(scene)  # what a drag adds (solved places, rings) is tracked too
