@@ -111,6 +111,9 @@ class SketchScene(QGraphicsScene):
         self.shown_at: dict[str, tuple[float, float]] = {}  # free points drawn where the solver put them (site m)
         self.drawn_places = None  # sketchpad.solved_places.DrawnPlaceItem, made on the first solved places
         self.bows: dict = {}  # rope id -> {piece: hidden points} the current bows (sketchpad.rope_bows.scene_bows)
+        #: True while a drag's solves move free points (a boat in the current): the drag layer then lets the mouse
+        #: move's frame and the solve's frame change different items (sketchpad.drag_layer)
+        self.points_follow_solve = False
 
     # --- model -> items -----------------------------------------------------------------
     def sync(self, rig: Rig) -> None:

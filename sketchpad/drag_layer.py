@@ -383,14 +383,19 @@ class DragLayer:
             moved = frozenset(i for i, (v0, v1) in enumerate(zip(last[2], versions)) if v0 != v1)
         if not moved:  # a frame for the overlay alone (a solve arriving) keeps the drag's pattern
             return False
-        # stable: the same items as in the frame before, or a drag whose frames alternate between two sets (the
+        # stable: the same items as in the frame before, or (only while the scene says its free points follow each
+        # drag step's solve, ``SketchScene.points_follow_solve``) a drag whose frames alternate between two sets (the
         # mouse move's frame moves the dragged point, its solve's frame the free points that follow the solve:
-        # a boat in the current) with the set of two frames before; the still image then leaves out both sets
+        # a boat in the current) with the set of two frames before, the two sharing an item (the rope between
+        # them) and the items of one set alone drawing live as Qt draws them (``paints_alike_live``: ropes, points,
+        # rings; not a hatched zone); the still image then leaves out both sets
         last_moved, before = self._last_moved, self._moved_before
         self._last_moved, self._moved_before = moved, last_moved
         if moved == last_moved:
             pass
-        elif before is not None and moved == before and last_moved is not None:
+        elif (getattr(scene, "points_follow_solve", False) and before is not None and moved == before
+              and last_moved is not None and moved & last_moved
+              and all(getattr(below[i], "paints_alike_live", False) for i in moved ^ last_moved)):
             moved = moved | last_moved
         else:
             return False

@@ -286,6 +286,9 @@ def _drawn_differs(a: Point, b: Point) -> bool:
 class SketchItem(Versioned, QGraphicsItem):
     """Base of every model view: carries the model ``key`` (kind, id) the scene indexes it by."""
 
+    #: drawn straight onto a drag frame, its pixels are Qt's own (``sketchpad.drag_layer``)
+    paints_alike_live = True
+
     def __init__(self, key: tuple) -> None:
         super().__init__()
         self.key = key

@@ -422,7 +422,10 @@ class LiveForces(QObject):
 
             if s.settled:
                 self._settled_rig = s.rig
-            self.window.canvas.set_solved(live_places(s.rig, result, None if s.settled else self._settled_rig))
+            places = live_places(s.rig, result, None if s.settled else self._settled_rig)
+            if places != "keep":
+                self.window.canvas.set_solved(places)
+            self.window.canvas.points_follow_solve = not s.settled and bool(places) and places != "keep"
             self.window.canvas.set_bows(scene_bows(s.rig, result) if result.ok else {})
         self.overlay.show_result(s.rig, result, s.last_good_rig, s.last_good, settled=s.settled)
         if gap is not None:

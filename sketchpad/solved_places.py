@@ -24,6 +24,9 @@ MOVED_M = 0.05
 class DrawnPlaceItem(Versioned, QGraphicsItem):
     """Faint dashed rings at the drawn places of the points shown where the solver put them, each joined to it."""
 
+    #: drawn straight onto a drag frame, its pixels are Qt's own (``sketchpad.drag_layer``)
+    paints_alike_live = True
+
     def __init__(self) -> None:
         super().__init__()
         self.pairs: list[tuple[QPointF, QPointF]] = []  # (drawn, solved) scene points
@@ -105,12 +108,19 @@ def moved_free_points(rig, result) -> dict[str, tuple[float, float]]:
     return out
 
 
-def live_places(rig, result, settled_rig=None) -> dict[str, tuple[float, float]] | None:
-    """The solved places to draw for ``result`` of ``rig`` (None when it failed): :func:`moved_free_points`, less,
+def live_places(rig, result, settled_rig=None) -> dict[str, tuple[float, float]] | str | None:
+    """The solved places to draw for ``result`` of ``rig`` (None when it failed, "keep" to leave those drawn):
+    :func:`moved_free_points`, less,
     during a drag (``settled_rig``: the rig of the last settled result), the points the drag moves away from it,
-    which stay under the cursor; every other free point (a boat in the current) follows each drag step's solve."""
+    which stay under the cursor; every other free point (a boat in the current) follows each drag step's solve.
+
+    A drag on a dry rig keeps the last settled places until the drag pauses (its frames then move only the dragged
+    point and its ropes, ``sketchpad.drag_layer``); on a rig in moving water the bows drawn from each step's solve
+    end at the free points, so those follow the same solve."""
     if not result.ok:
         return None
+    if settled_rig is not None and getattr(result, "water", None) is None:
+        return "keep"
     places = moved_free_points(rig, result)
     if settled_rig is not None and places:
         before = {p.id: p for p in settled_rig.points}
