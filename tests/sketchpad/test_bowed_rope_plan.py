@@ -16,7 +16,7 @@ import math
 
 import numpy as np
 import pytest
-from PySide6.QtCore import QPointF, Qt
+from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QImage, QPainter
 from shapely.geometry import LineString
 from shapely.geometry import Point as ShapelyPoint
@@ -27,21 +27,17 @@ from sketchpad.drag_layer import paint_item
 from sketchpad.geometry import to_scene
 from tests.sketchpad.test_overlay import open_sample
 from tests.sketchpad.test_overlay_incremental import pixels
+from tests.sketchpad.test_water_drag_frame import drag_through_viewport
 
 BOAT, RAFT = "tethered-boat-eddy.rig.json", "raft-3to1-redirect.rig.json"
 
 
 def drag_without_release(window, mouse, qtbot, pid: str, steps: int, dx: float, dy: float) -> None:
     """Press on ``pid`` and move ``steps`` times by (dx, dy) m, each step's drag solve delivered and painted."""
-    doc, sched, view = window.document, window.live.scheduler, window.view
+    sched = window.live.scheduler
     sched.background, sched.background_after_ms = False, float("inf")
     sched.settle_timer.setInterval(600_000)  # the whole test is one drag: no settled result in between
-    p = doc.rig.point(pid)
-    mouse.press(p.x, p.y)
-    for i in range(1, steps + 1):
-        mouse.move(p.x + dx * i, p.y + dy * i)
-        qtbot.waitUntil(lambda: sched.result is not None and sched.result.revision == doc.revision, timeout=5000)
-        view.viewport().repaint()
+    drag_through_viewport(window, mouse, qtbot, pid, steps, dx, dy, release=False)
     assert not sched.settled and sched.result.ok
 
 
@@ -195,3 +191,37 @@ def test_water_texts_sit_in_the_fitted_view_and_in_the_water(main_window):
 
     fm = water._fm
     assert len(shown_texts(water.marks, water.m_per_px, fm)) < len(water.marks.texts)
+
+
+
+def test_print_rails_follow_the_bow(qapp):
+    """The rope-use rails of a printed drawing (``sketchpad.pages.greyscale``) run along a bowed piece's bow: each
+    railed bowed piece gets two rails per segment of its bowed polyline, none along its chord."""
+    from sketchpad.export import Drawing
+    from sketchpad.pages.greyscale import paint_drawing_rails, util_class
+    from solver.rigfile import load_rig
+    from tests.sketchpad.test_overlay import SAMPLES
+
+    drawing = Drawing(load_rig(SAMPLES / BOAT))
+    assert drawing.result.ok
+    drawing.fit_into(900, 640)
+    wet = {(w.rope, w.index): w for w in drawing.result.water.ropes if w.bowed}
+    util = {(s.rope, s.index): s.utilization for s in drawing.result.segments}
+    railed = [key for key, _a, _b in drawing.pieces if key in wet and util_class(util[key]) not in (None, 0)]
+    assert railed  # the sample's tethers are loaded past half their allowed load
+    lines = []
+
+    class Recorder(QPainter):
+        def drawLine(self, a, b):  # noqa: N802
+            lines.append((QPointF(a), QPointF(b)))
+            super().drawLine(a, b)
+
+    image = QImage(900, 640, QImage.Format_ARGB32_Premultiplied)
+    image.fill(Qt.white)
+    p = Recorder(image)
+    n = paint_drawing_rails(p, QRectF(0, 0, 900, 640), drawing)
+    p.end()
+    assert n >= len(railed)
+    bowed_rails = sum(2 * (len(wet[k].polyline) - 1) for k in railed)
+    straight_rails = 2 * (n - len(railed))
+    assert len(lines) == bowed_rails + straight_rails
