@@ -45,6 +45,31 @@ _BUCKET_WIDTH = {c: theme.band_width_px(k / BAND_BUCKETS * BAND_MAX_UTIL) for c,
 _PIECE_FIELDS = tuple(operator.itemgetter(i) for i in range(5))
 
 
+def _band_ends(outs: list, extras: list, bows: dict) -> tuple[dict[int, list], list[int]]:
+    """Each colour's band ends in the order of the segments (``outs``: per segment (key, a, b) or None; ``extras``:
+    its colour or None), a bowed piece (``bows``: key -> its hidden points) as one short piece per bow segment,
+    and per segment where its first end sits in its colour's list."""
+    by_colour: dict[int, list] = {}
+    where = [0] * len(outs)
+    for i, (out, rgba) in enumerate(zip(outs, extras)):
+        if out is None or rgba is None:
+            continue
+        ends = by_colour.get(rgba)
+        if ends is None:
+            ends = by_colour[rgba] = []
+        where[i] = len(ends)
+        inner = bows.get(out[0])
+        if inner:  # a piece the current bows: its band follows the bow, piece by piece
+            run = (out[1], *inner, out[2])
+            for a, b in zip(run, run[1:]):
+                ends.append(a)
+                ends.append(b)
+            continue
+        ends.append(out[1])
+        ends.append(out[2])
+    return by_colour, where
+
+
 class BandState:
     """What :meth:`ForceItem.set_bands` keeps between calls: each piece (key, scene ends) with its colour, where its
     ends sit in its colour's list, and the ring of each solved point the solver moved off its drawn place."""
@@ -118,24 +143,7 @@ class BandPainting:
                 k = where[i]
                 by_colour[rgba][k:k + 2] = out[1:]
         else:
-            by_colour = {}
-            where = st.where = [0] * len(outs)
-            for i, (out, rgba) in enumerate(zip(outs, extras)):
-                if out is None or rgba is None:
-                    continue
-                ends = by_colour.get(rgba)
-                if ends is None:
-                    ends = by_colour[rgba] = []
-                where[i] = len(ends)
-                inner = bows.get(out[0])
-                if inner:  # a piece the current bows: its band follows the bow, piece by piece
-                    run = (out[1], *inner, out[2])
-                    for a, b in zip(run, run[1:]):
-                        ends.append(a)
-                        ends.append(b)
-                    continue
-                ends.append(out[1])
-                ends.append(out[2])
+            by_colour, st.where = _band_ends(outs, extras, bows)
         st.bowed = bool(bows)
         st.by_colour = by_colour
         old = self._band_paths
