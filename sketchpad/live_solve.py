@@ -422,7 +422,8 @@ class LiveForces(QObject):
 
             if s.settled:
                 self._settled_rig = s.rig
-            places = live_places(s.rig, result, None if s.settled else self._settled_rig)
+            # a drag before any settled result: no point counts as settled, so none jumps off the cursor
+            places = live_places(s.rig, result, None if s.settled else (self._settled_rig or Rig()))
             if places != "keep":
                 self.window.canvas.set_solved(places)
             self.window.canvas.points_follow_solve = not s.settled and bool(places) and places != "keep"

@@ -225,3 +225,29 @@ def test_print_rails_follow_the_bow(qapp):
     bowed_rails = sum(2 * (len(wet[k].polyline) - 1) for k in railed)
     straight_rails = 2 * (n - len(railed))
     assert len(lines) == bowed_rails + straight_rails
+
+
+def test_live_places_keep_the_dragged_point_under_the_cursor():
+    """``live_places``: on a wet rig mid-drag every free point the solve moved is drawn there except one the drag
+    moved (it stays under the cursor); a dry rig mid-drag keeps the places drawn; settled: all of them."""
+    from dataclasses import replace
+
+    from sketchpad.solved_places import live_places, moved_free_points
+    from solver.equilibrium import solve
+    from solver.rigfile import load_rig
+    from tests.sketchpad.test_overlay import SAMPLES
+
+    rig = load_rig(SAMPLES / BOAT)
+    res = solve(rig)
+    assert res.ok and "B1" in moved_free_points(rig, res)
+    b1 = rig.point("B1")
+    dragged = rig.moved("B1", b1.x + 1.0, b1.y)
+    moved = solve(dragged)
+    assert live_places(dragged, moved, None) == moved_free_points(dragged, moved)  # settled: all
+    assert "B1" not in live_places(dragged, moved, rig)  # mid-drag: the dragged boat stays under the cursor
+    a2 = rig.point("A2")
+    anchor_dragged = rig.moved("A2", a2.x - 1.0, a2.y)
+    step = solve(anchor_dragged)
+    assert live_places(anchor_dragged, step, rig)["B1"] == pytest.approx(step.points["B1"])  # the boat follows
+    dry = replace(step, water=None)
+    assert live_places(anchor_dragged, dry, rig) == "keep"
