@@ -227,7 +227,8 @@ class Drawing:
         from sketchpad.pages.framing import feature_label_boxes
 
         self.skipped = place_labels(labels, to_px, self.force_item.label_size, markers, self.pieces,
-                                    name_boxes_of(self.scene, rig) + self._rope_name_boxes() + feature_label_boxes(self.scene, k))
+                                    name_boxes_of(self.scene, rig) + self._rope_name_boxes() + feature_label_boxes(self.scene, k)
+                                    + self.water_item.text_boxes())  # the current's speeds and river sides
         self.force_item.refresh_rect(m_per_px)
 
     def _rope_name_boxes(self) -> list:

@@ -143,6 +143,16 @@ def shown_texts(marks: Marks, m_per_px: float, fm: QFontMetricsF) -> list:
     return kept
 
 
+def text_boxes(marks: Marks, m_per_px: float, fm: QFontMetricsF) -> list:
+    """(scene point, (x, y, w, h) px relative to it) of each text of ``marks`` drawn at ``m_per_px``: what the force
+    labels keep off (``sketchpad.overlay.placement.place_labels``'s ``boxes``)."""
+    out = []
+    for text, at, _colour, (dx, dy) in shown_texts(marks, m_per_px, fm):
+        x0, y0, x1, y1 = _text_box_px(fm, text)
+        out.append((at, (x0 + dx, y0 + dy, x1 - x0, y1 - y0)))
+    return out
+
+
 class MarkItem(Versioned, QGraphicsItem):
     """A water drawing on the plan (scene metres): changed only when what it draws or the zoom changes.
 
@@ -163,6 +173,10 @@ class MarkItem(Versioned, QGraphicsItem):
     @property
     def m_per_px(self) -> float:
         return self._m_per_px
+
+    def text_boxes(self) -> list:
+        """Where this item's texts are, at its zoom (:func:`text_boxes`)."""
+        return text_boxes(self.marks, self._m_per_px, self._fm) if self.marks.texts else []
 
     def set_marks(self, marks: Marks) -> bool:
         """Draw ``marks`` from now on; False (nothing done) when they are the ones drawn."""

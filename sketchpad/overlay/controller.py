@@ -223,7 +223,7 @@ class ResultOverlay(QObject):
 
         markers, boxes = [], []
         if self.rig is not None:
-            boxes = self._name_boxes(self.rig)
+            boxes = self._name_boxes(self.rig) + self.water_item.text_boxes()  # keep off the speeds and sides
             markers = self._markers(self.rig, self.result)
         previous = self._memo if self._memo_scale == m11 else None
         frame = (m11, t.m22(), dx, dy)

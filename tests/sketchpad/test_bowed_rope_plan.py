@@ -184,6 +184,16 @@ def test_water_texts_sit_in_the_fitted_view_and_in_the_water(main_window):
     for text, (x, y), _c, _off in water.marks.texts:
         assert seen.contains(QPointF(x, y)), text
         assert any(p.covers(ShapelyPoint(x, -y)) for p in wet), text
+    # no force label is placed over a speed or a river side (they are the placer's obstacles)
+    k = view.px_per_m
+    texts = [(at[0] * k + x, at[1] * k + y, w, h) for at, (x, y, w, h) in water.text_boxes()]
+    assert len(texts) == len(water.marks.texts)  # all shown at fit zoom
+    for lab in main_window.live.overlay.labels:
+        if lab.placed:
+            x, y, w, h = lab.rect
+            lx, ly = lab.at[0] * k + x, lab.at[1] * k + y
+            for tx, ty, tw, th in texts:
+                assert not (lx < tx + tw and tx < lx + w and ly < ty + th and ty < ly + h), lab.lines
     # zoomed far out the speeds and river sides are left out rather than piled on the river
     view.scale(0.1, 0.1)
     view._scale_changed()
