@@ -222,21 +222,24 @@ class WaterItem(MarkItem):
         if px_per_m > 0:
             self.set_scale(1.0 / px_per_m)
 
-    def show(self, rig: Rig | None, result: Result | None) -> None:
-        """Draw ``rig``'s currents and ``result``'s bowed ropes (nothing when either is None or dry)."""
+    def show(self, rig: Rig | None, result: Result | None, settled: bool = True) -> None:
+        """Draw ``rig``'s currents and ``result``'s bowed ropes (nothing when either is None or dry); during a drag
+        (``settled`` False) the field's texts stay where they are until the drag pauses."""
         scale = getattr(self.scene(), "scale_m_per_px", None)
         if scale:
             self.set_scale(scale)
-        self.set_marks(self._field(rig) if rig is not None else NO_MARKS)
+        self.set_marks(self._field(rig, settled) if rig is not None else NO_MARKS)
         self.bows.set_marks(bow_marks(rig, result) if rig is not None else NO_MARKS)
 
-    def _field(self, rig: Rig) -> Marks:
-        """:func:`field_marks` of ``rig``, made again only when its features, view, length unit or snapped points box
-        (``sketchpad.water_label_places``) changed."""
+    def _field(self, rig: Rig, settled: bool = True) -> Marks:
+        """:func:`field_marks` of ``rig``, made again only when its features, view, length unit or (once a drag
+        pauses: ``settled``) snapped points box (``sketchpad.water_label_places``) changed; so a drag step never
+        lays the field out, and the drag layer keeps it in its still image."""
         key = (rig.site.features, rig.view, rig.display.length, snapped_points_box(rig))  # texts sit in that box
         with self._lock:
             last = self._field_for
-            if last is not None and (last[0] is key[0] or last[0] == key[0]) and last[1:4] == key[1:]:
+            if last is not None and (last[0] is key[0] or last[0] == key[0]) and last[1:3] == key[1:3] and (
+                    last[3] == key[3] or not settled):
                 return last[4]
         marks = field_marks(rig)
         with self._lock:

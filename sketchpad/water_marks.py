@@ -169,14 +169,21 @@ class MarkItem(Versioned, QGraphicsItem):
         self._bounds = QRectF()
         self._font = text_font()  # made once: a font is slow to make
         self._fm = QFontMetricsF(self._font)  # the texts' metrics, for the rect
+        self._boxes_for: tuple | None = None  # (marks, m per px, text boxes) of the last text_boxes call
 
     @property
     def m_per_px(self) -> float:
         return self._m_per_px
 
     def text_boxes(self) -> list:
-        """Where this item's texts are, at its zoom (:func:`text_boxes`)."""
-        return text_boxes(self.marks, self._m_per_px, self._fm) if self.marks.texts else []
+        """Where this item's texts are, at its zoom (:func:`text_boxes`): the very tuples of the last call while the
+        drawing and zoom are the same, so the placer's obstacle cache (which compares them by identity) keeps them."""
+        if not self.marks.texts:
+            return []
+        kept = self._boxes_for
+        if kept is None or kept[0] is not self.marks or kept[1] != self._m_per_px:
+            kept = self._boxes_for = (self.marks, self._m_per_px, text_boxes(self.marks, self._m_per_px, self._fm))
+        return list(kept[2])
 
     def set_marks(self, marks: Marks) -> bool:
         """Draw ``marks`` from now on; False (nothing done) when they are the ones drawn."""

@@ -119,7 +119,7 @@ class ResultOverlay(QObject):
         if not result.ok and result.subject and rig.has_point(result.subject):
             fail_point = scene_xy(rig.point(result.subject).xy)
         self.force_item.fail_point = fail_point
-        self.water_item.show(rig, self.result)
+        self.water_item.show(rig, self.result, settled)
         self.rebuild()
 
     def set_layer(self, name: str, on: bool) -> None:
