@@ -112,6 +112,10 @@ class SketchScene(QGraphicsScene):
         self.rope_names_in_overlay = False  # True while the force overlay places the rope names (sketchpad.rope_names)
         self.shown_at: dict[str, tuple[float, float]] = {}  # free points drawn where the solver put them (site m)
         self.drawn_places = None  # sketchpad.solved_places.DrawnPlaceItem, made on the first solved places
+        self.bows: dict = {}  # rope id -> {piece: hidden points} the current bows (sketchpad.rope_bows.scene_bows)
+        #: True while a drag's solves move free points (a boat in the current): the drag layer then lets the mouse
+        #: move's frame and the solve's frame change different items (sketchpad.drag_layer)
+        self.points_follow_solve = False
 
     # --- model -> items -----------------------------------------------------------------
     def sync(self, rig: Rig) -> None:
@@ -272,13 +276,14 @@ class SketchScene(QGraphicsScene):
             colour = theme.rope_colour(i)
             on_path = tuple(by_id.get(ps.at) for ps in r.path)
             solved = tuple(self.shown_at.get(ps.at) for ps in r.path) if self.shown_at else ()
-            shown = (r, on_path, colour.rgba(), k, solved)
+            bows = self.bows.get(r.id)
+            shown = (r, on_path, colour.rgba(), k, solved, bows)
             if item._shown == shown:
                 continue
             drawn = [p for p in on_path if p is not None]  # a pass at a missing point is left out
             at = self.shown_at
             item.set_rope(r, {p.id: to_scene(*at.get(p.id, (p.x, p.y))) for p in drawn},
-                          {p.id: p.kind for p in drawn}, colour, k)
+                          {p.id: p.kind for p in drawn}, colour, k, bows)
             item._shown = shown
         self._laid = (ropes, k, by_id, through)
 
@@ -376,6 +381,7 @@ class SketchScene(QGraphicsScene):
             if item is not None and self.rig.has_point(pid):
                 p = self.rig.point(pid)
                 item.setPos(to_scene(p.x, p.y))
+                item.update()  # a move tells the drag layer through the item's version (no geometry notices)
         unit = self.rig.display.force
         for i, f in enumerate(self.rig.forces):
             if f.at in gone and self.rig.has_point(f.at):
@@ -385,6 +391,20 @@ class SketchScene(QGraphicsScene):
         self._laid = None
         self._layout_ropes()
         self._show_solved()
+
+    def set_bows(self, bows: dict) -> None:
+        """Draw each rope piece the current bows along its hidden points (rope id -> {piece: scene points},
+        :func:`sketchpad.rope_bows.scene_bows`; {}: every piece straight); only ropes whose bows changed are laid out."""
+        if bows == self.bows:
+            return
+        changed = {r for r in set(bows) | set(self.bows) if bows.get(r) != self.bows.get(r)}
+        self.bows = dict(bows)
+        for r in changed:
+            item = self.items_by_key.get(("rope", r))
+            if item is not None:
+                item._shown = None
+        self._laid = None
+        self._layout_ropes()
 
     def _show_solved(self) -> None:
         """Put the points (and forces) of ``shown_at`` at their solved places and faint rings at their drawn ones."""
@@ -398,6 +418,7 @@ class SketchScene(QGraphicsScene):
                 pos = to_scene(*xy)
                 if item is not None and item.pos() != pos:
                     item.setPos(pos)
+                    item.update()  # a move tells the drag layer through the item's version (no geometry notices)
             for i, f in enumerate(self.rig.forces):
                 if f.at in at:
                     item = self.items_by_key.get(("force", i))

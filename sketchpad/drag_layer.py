@@ -284,6 +284,7 @@ class DragLayer:
         self._steps: list = []  # above the image in stacking order: ("live", item) drawn every frame, ("seg", (image, top-left))
         self._last: tuple | None = None  # (frame, items, versions) of the last frame
         self._last_moved: frozenset | None = None
+        self._moved_before: frozenset | None = None  # the moved set of the frame before the last one
         self._screen: tuple | None = None  # (key, record) of the frame the backing store holds, if painted here
         self.builds = 0  # counters for tests and benchmarks
         self.frames = 0
@@ -374,7 +375,7 @@ class DragLayer:
             self.drop()
         # a drag: the same items changed since the last frame as in the frame before, at the same view
         if last is None or last[0] != frame or (last[1] is not below and last[1] != below):
-            self._last_moved = None
+            self._last_moved = self._moved_before = None
             return False
         if moved_now is not None:
             moved = moved_now
@@ -382,8 +383,21 @@ class DragLayer:
             moved = frozenset(i for i, (v0, v1) in enumerate(zip(last[2], versions)) if v0 != v1)
         if not moved:  # a frame for the overlay alone (a solve arriving) keeps the drag's pattern
             return False
-        stable, self._last_moved = moved == self._last_moved, moved
-        if not stable:
+        # stable: the same items as in the frame before, or (only while the scene says its free points follow each
+        # drag step's solve, ``SketchScene.points_follow_solve``) a drag whose frames alternate between two sets (the
+        # mouse move's frame moves the dragged point, its solve's frame the free points that follow the solve:
+        # a boat in the current) with the set of two frames before, the two sharing an item (the rope between
+        # them) and the items of one set alone drawing live as Qt draws them (``paints_alike_live``: ropes, points,
+        # rings; not a hatched zone); the still image then leaves out both sets
+        last_moved, before = self._last_moved, self._moved_before
+        self._last_moved, self._moved_before = moved, last_moved
+        if moved == last_moved:
+            pass
+        elif (getattr(scene, "points_follow_solve", False) and before is not None and moved == before
+              and last_moved is not None and moved & last_moved
+              and all(getattr(below[i], "paints_alike_live", False) for i in moved ^ last_moved)):
+            moved = moved | last_moved
+        else:
             return False
         plan = self._closure(view, below, moved)
         if plan is None:

@@ -112,6 +112,12 @@ class Drawing:
         self.layers = list(LAYERS) if layers is None else list(layers)
         self.scene = SketchScene()
         self.scene.sync(rig)
+        if result.ok:  # as on the canvas: free points where the solver put them, bowed ropes along their bows
+            from sketchpad.rope_bows import scene_bows
+            from sketchpad.solved_places import moved_free_points
+
+            self.scene.set_solved(moved_free_points(rig, result))
+            self.scene.set_bows(scene_bows(rig, result))
         self.scene.clearSelection()
         self._background(rig, rig_dir)
         self.zones_item = ZoneItem()
@@ -221,7 +227,8 @@ class Drawing:
         from sketchpad.pages.framing import feature_label_boxes
 
         self.skipped = place_labels(labels, to_px, self.force_item.label_size, markers, self.pieces,
-                                    name_boxes_of(self.scene, rig) + self._rope_name_boxes() + feature_label_boxes(self.scene, k))
+                                    name_boxes_of(self.scene, rig) + self._rope_name_boxes() + feature_label_boxes(self.scene, k)
+                                    + self.water_item.text_boxes())  # the current's speeds and river sides
         self.force_item.refresh_rect(m_per_px)
 
     def _rope_name_boxes(self) -> list:

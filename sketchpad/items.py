@@ -36,6 +36,7 @@ from sketchpad import theme
 from sketchpad.drag_layer import Tracked, Versioned
 from sketchpad.geometry import to_scene
 from sketchpad.plain_text import tip as plain_tip
+from sketchpad.rope_bows import with_bows
 from sketchpad.short_text import drawn
 from solver.model import Feature, Force, Point, Rope
 
@@ -285,6 +286,9 @@ def _drawn_differs(a: Point, b: Point) -> bool:
 class SketchItem(Versioned, QGraphicsItem):
     """Base of every model view: carries the model ``key`` (kind, id) the scene indexes it by."""
 
+    #: drawn straight onto a drag frame, its pixels are Qt's own (``sketchpad.drag_layer``)
+    paints_alike_live = True
+
     def __init__(self, key: tuple) -> None:
         super().__init__()
         self.key = key
@@ -491,11 +495,15 @@ class RopeItem(SketchItem):
         self._label_w = 0.0
         self._label_px: tuple = (None, 0.0, 0.0, 0.0)  # (name, width, height, bold width) in pixels
         self._shown: tuple | None = None  # what the scene last built this item from (sketchpad.canvas)
+        self.bows: dict = {}  # piece index -> the solver's hidden points of a piece the current bows (scene m)
 
-    def set_rope(self, rope: Rope, positions: dict, kinds: dict, colour: QColor, scale_m_per_px: float) -> None:
-        """Rebuild the path from ``rope`` and the scene positions of its points."""
+    def set_rope(self, rope: Rope, positions: dict, kinds: dict, colour: QColor, scale_m_per_px: float,
+                 bows: dict | None = None) -> None:
+        """Rebuild the path from ``rope`` and the scene positions of its points; ``bows`` (piece index -> interior
+        scene points, :func:`sketchpad.rope_bows.scene_bows`) draws a piece the current bows along its bow."""
         old_bounds = QRectF(self._bounds)
         self.rope = rope
+        self.bows = bows or {}
         if colour != self.colour or not self._pens:
             self.colour = QColor(colour)
             self._pens = {}
@@ -530,6 +538,8 @@ class RopeItem(SketchItem):
         hypot = math.hypot
         passes = [p for p in self.rope.path if p.at in positions]
         xy = [positions[p.at].toTuple() for p in passes]
+        if self.bows and len(passes) == len(self.rope.path):
+            passes, xy = with_bows(passes, xy, self.bows)
         self._glyphs = []
         self._arrow = QPolygonF()
         path = QPainterPath()
@@ -551,6 +561,9 @@ class RopeItem(SketchItem):
                 seg = hypot(px - xy[i - 1][0], py - xy[i - 1][1])
                 if seg > longest[0]:
                     longest = (seg, xy[i - 1], xy[i])
+            if how is None:  # a hidden point of a bowed piece: the rope runs through it, no glyph
+                path.lineTo(px, py)
+                continue
             if 0 < i < n - 1 and how in ("pulley", "sliding", "capture"):
                 r = (theme.RING_RADIUS_PX if how == "sliding" else theme.PULLEY_RADIUS_PX) * k
                 sx, sy = u_prev[0] + u_next[0], u_prev[1] + u_next[1]

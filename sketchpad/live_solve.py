@@ -25,6 +25,7 @@ from typing import Callable, Mapping
 
 from PySide6.QtCore import QEvent, QObject, Qt, QTimer, Signal
 
+from sketchpad.rope_bows import scene_bows
 from solver.model import Rig
 from solver.result import Result
 
@@ -390,6 +391,7 @@ class LiveForces(QObject):
         from sketchpad.results_panel import ResultsPanel
 
         self.window = window
+        self._settled_rig: Rig | None = None  # the rig of the last settled result: a drag moves points away from it
         self.scheduler = SolveScheduler(window.document, self)
         self.overlay = ResultOverlay(window.view, self)
         self.panel = ResultsPanel()
@@ -415,10 +417,17 @@ class LiveForces(QObject):
             gap = sketch_gap(s.rig)
         self.overlay.grey_reason = ("sketch incomplete: last complete result, greyed" if gap
                                     else "solve failed: last good result, greyed")
-        if s.settled and s.rig is self.window.document.rig:  # points drawn where the solver put them (first: the
-            from sketchpad.solved_places import moved_free_points  # labels are placed clear of their names there)
+        if s.rig is self.window.document.rig:  # points drawn where the solver put them (first: the labels are
+            from sketchpad.solved_places import live_places  # placed clear of their names there), during a drag too
 
-            self.window.canvas.set_solved(moved_free_points(s.rig, result) if result.ok else None)
+            if s.settled:
+                self._settled_rig = s.rig
+            # a drag before any settled result: no point counts as settled, so none jumps off the cursor
+            places = live_places(s.rig, result, None if s.settled else (self._settled_rig or Rig()))
+            if places != "keep":
+                self.window.canvas.set_solved(places)
+            self.window.canvas.points_follow_solve = not s.settled and bool(places) and places != "keep"
+            self.window.canvas.set_bows(scene_bows(s.rig, result) if result.ok else {})
         self.overlay.show_result(s.rig, result, s.last_good_rig, s.last_good, settled=s.settled)
         if gap is not None:
             self.overlay.banner.hide()
@@ -449,6 +458,7 @@ class LiveForces(QObject):
         self.panel.show_result(rig, Result(status="invalid", message=gap.message if gap else "no rope"),
                                gap=gap or _NO_ROPE)
         self.window.canvas.set_solved(None)
+        self.window.canvas.set_bows({})
         hints = getattr(self.window, "hints", None)
         if hints is not None:
             hints.place()

@@ -24,6 +24,9 @@ MOVED_M = 0.05
 class DrawnPlaceItem(Versioned, QGraphicsItem):
     """Faint dashed rings at the drawn places of the points shown where the solver put them, each joined to it."""
 
+    #: drawn straight onto a drag frame, its pixels are Qt's own (``sketchpad.drag_layer``)
+    paints_alike_live = True
+
     def __init__(self) -> None:
         super().__init__()
         self.pairs: list[tuple[QPointF, QPointF]] = []  # (drawn, solved) scene points
@@ -103,3 +106,26 @@ def moved_free_points(rig, result) -> dict[str, tuple[float, float]]:
         if xy is not None and ((xy[0] - p.x) ** 2 + (xy[1] - p.y) ** 2) ** 0.5 > MOVED_M:
             out[p.id] = (float(xy[0]), float(xy[1]))
     return out
+
+
+def live_places(rig, result, settled_rig=None) -> dict[str, tuple[float, float]] | str | None:
+    """The solved places to draw for ``result`` of ``rig`` (None when it failed, "keep" to leave those drawn):
+    :func:`moved_free_points`, less,
+    during a drag (``settled_rig``: the rig of the last settled result), the points the drag moves away from it,
+    which stay under the cursor; every other free point (a boat in the current) follows each drag step's solve.
+
+    A drag on a dry rig keeps the last settled places until the drag pauses (its frames then move only the dragged
+    point and its ropes, ``sketchpad.drag_layer``); on a rig in moving water the bows drawn from each step's solve
+    end at the free points, so those follow the same solve."""
+    if not result.ok:
+        return None
+    if settled_rig is not None and getattr(result, "water", None) is None:
+        return "keep"
+    places = moved_free_points(rig, result)
+    if settled_rig is not None and places:
+        before = {p.id: p for p in settled_rig.points}
+        for p in rig.points:
+            was = before.get(p.id)
+            if p.id in places and was is not p and (was is None or (was.x, was.y) != (p.x, p.y)):
+                del places[p.id]
+    return places

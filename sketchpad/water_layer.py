@@ -16,6 +16,7 @@ import numpy as np
 from PySide6.QtWidgets import QGraphicsItem
 
 from sketchpad import theme
+from sketchpad.water_label_places import label_region, snapped_points_box
 from sketchpad.water_marks import NO_MARKS, MarkItem, Marks
 from solver.model import Rig
 from solver.result import Result
@@ -69,7 +70,7 @@ def river_side_labels(rig: Rig) -> list[tuple[str, tuple[float, float]]]:
     out: list[tuple[str, tuple[float, float]]] = []
     f = main_current(rig)
     if f is not None:
-        poly = Polygon(f.polygon)
+        poly = label_region(rig, Polygon(f.polygon))  # the part of the river a fitted view shows
         span = math.hypot(poly.bounds[2] - poly.bounds[0], poly.bounds[3] - poly.bounds[1])
         c = _upstream_point(poly, f.flow.bearing_deg)
         for word, bearing in zip(("river left", "river right"), river_sides(f.flow.bearing_deg)):
@@ -97,12 +98,13 @@ def _upstream_point(poly, bearing_deg: float):
     return reach.interpolate(0.7, normalized=True) if not reach.is_empty else mid
 
 
-def _speed_label_at(f, main):
-    """Where a current's speed is written: upstream on the main current, in the middle of an eddy."""
+def _speed_label_at(rig, f, main):
+    """Where a current's speed is written (upstream on the main current, in the middle of an eddy) and the width (m)
+    of the water it is written in."""
     from shapely.geometry import Polygon
 
-    poly = Polygon(f.polygon)
-    return _upstream_point(poly, f.flow.bearing_deg) if f is main else poly.representative_point()
+    poly = label_region(rig, Polygon(f.polygon))  # the part of the water a fitted view shows
+    return (_upstream_point(poly, f.flow.bearing_deg) if f is main else poly.representative_point()), _room(poly)
 
 
 def field_marks(rig: Rig) -> Marks:
@@ -112,24 +114,42 @@ def field_marks(rig: Rig) -> Marks:
         return NO_MARKS
     arrows = tuple((_scene(*a), _scene(*b)) for a, b in flow_arrows(rig))
     main = main_current(rig)
-    texts = []
+    texts, rooms = [], []
     for f in rig.site.features:
         if f.flow is not None and f.polygon is not None and f.kind == "water":
-            c = _speed_label_at(f, main)
+            c, room = _speed_label_at(rig, f, main)
             texts.append((f"{format_speed(f.flow.speed_m_s, rig.display.length)} toward {bearing_text(f.flow.bearing_deg)}",
                           _scene(c.x, c.y), theme.FLOW_LABEL, (0.0, 0.0)))
-    texts += [(w, _scene(*p), theme.FLOW_LABEL, (0.0, 0.0)) for w, p in river_side_labels(rig)]
-    return Marks(arrows=arrows, texts=tuple(texts))
+            rooms.append(room)
+    sides = river_side_labels(rig)
+    texts += [(w, _scene(*p), theme.FLOW_LABEL, (0.0, 0.0)) for w, p in sides]
+    if sides:
+        rooms += [_room(label_region(rig, _polygon(main)))] * len(sides)
+    return Marks(arrows=arrows, texts=tuple(texts), rooms=tuple(rooms))
+
+
+def _polygon(f):
+    from shapely.geometry import Polygon
+
+    return Polygon(f.polygon)
+
+
+def _room(poly) -> float:
+    """The width (m) a text written in water part ``poly`` may take: twice its box's larger side (ours: a speed may
+    reach past a small eddy's edge, but a text many times the water's size names nothing readable)."""
+    x0, y0, x1, y1 = poly.bounds
+    return 2.0 * float(max(x1 - x0, y1 - y0))
 
 
 def bow_marks(rig: Rig, result: Result | None) -> Marks:
-    """What ``result``'s water adds to the plan (scene metres): each bowed rope in its rope colour with the
-    tension at both ends of its wet part, and the current's push on each body as an arrow downstream of it."""
+    """What ``result``'s water adds to the plan (scene metres): the tension at both ends of each bowed rope's wet
+    part, and the current's push on each body as an arrow downstream of it; the bowed rope itself is drawn by its
+    rope item along the solver's hidden points (``SketchScene.set_bows``), so the plan shows one rope."""
     water = getattr(result, "water", None) if result is not None and result.ok and rig.view == "plan" else None
     if water is None:
         return NO_MARKS
     unit = rig.display.force
-    arrows, lines, texts = [], [], []
+    arrows, texts = [], []
     for b in water.bodies:
         if b.force_N <= 0 or b.point not in result.points:
             continue
@@ -139,15 +159,13 @@ def bow_marks(rig: Rig, result: Result | None) -> Marks:
         arrows.append((_scene(x, y), _scene(*tip)))
         texts.append((f"current {format_force(b.force_N, unit)}", _scene(tip[0], tip[1] - 0.8), theme.FLOW_LABEL,
                       (0.0, 0.0)))
-    order = {r.id: i for i, r in enumerate(rig.ropes)}
     for w in water.ropes:
         if not w.bowed:
             continue
-        line = tuple(_scene(*p) for p in w.polyline)
-        lines.append((line, theme.rope_colour(order.get(w.rope, 0)), theme.BOWED_ROPE_PX))
+        line = tuple(_scene(*p) for p in w.polyline)  # the rope item draws the bow itself (sketchpad.rope_bows)
         for idx, inward, t in ((w.wet_from, 1, w.tension_in_N), (w.wet_to, -1, w.tension_out_N)):
             texts.append((format_force(t, unit), line[idx], theme.WET_TENSION, _along(line, idx, inward)))
-    return Marks(arrows=tuple(arrows), lines=tuple(lines), texts=tuple(texts))
+    return Marks(arrows=tuple(arrows), texts=tuple(texts))
 
 
 #: How far (px) a wet-end tension sits from its end along its own rope: two ropes ending at one body (a V of
@@ -185,7 +203,7 @@ class WaterItem(MarkItem):
         self.bows = MarkItem()
         self.bows.setZValue(theme.Z_OVERLAY)
         self._lock = threading.Lock()  # the field's memo (GUI thread today; locked so a worker could draw too)
-        self._field_for: tuple | None = None  # (features, view, length unit, Marks) of the last field drawn
+        self._field_for: tuple | None = None  # (features, view, length unit, points box, Marks) of the last field
 
     def add_to(self, scene, under: QGraphicsItem | None = None) -> None:
         """Put the field and the bows in ``scene``, the bows stacked just under ``under`` (the force overlay item,
@@ -204,22 +222,28 @@ class WaterItem(MarkItem):
         if px_per_m > 0:
             self.set_scale(1.0 / px_per_m)
 
-    def show(self, rig: Rig | None, result: Result | None) -> None:
-        """Draw ``rig``'s currents and ``result``'s bowed ropes (nothing when either is None or dry)."""
+    def show(self, rig: Rig | None, result: Result | None, settled: bool = True) -> None:
+        """Draw ``rig``'s currents and ``result``'s bowed ropes (nothing when either is None or dry); during a drag
+        (``settled`` False) the field's texts stay where they are until the drag pauses."""
         scale = getattr(self.scene(), "scale_m_per_px", None)
         if scale:
             self.set_scale(scale)
-        self.set_marks(self._field(rig) if rig is not None else NO_MARKS)
+        self.set_marks(self._field(rig, settled) if rig is not None else NO_MARKS)
         self.bows.set_marks(bow_marks(rig, result) if rig is not None else NO_MARKS)
 
-    def _field(self, rig: Rig) -> Marks:
-        """:func:`field_marks` of ``rig``, made again only when its features, view or length unit changed."""
-        key = (rig.site.features, rig.view, rig.display.length)
+    def _field(self, rig: Rig, settled: bool = True) -> Marks:
+        """:func:`field_marks` of ``rig``, made again only when its features, view, length unit or (once a drag
+        pauses: ``settled``) snapped points box (``sketchpad.water_label_places``) changed; so a drag step never
+        lays the field out, and the drag layer keeps it in its still image."""
+        key = (rig.site.features, rig.view, rig.display.length, snapped_points_box(rig))  # texts sit in that box
         with self._lock:
             last = self._field_for
-            if last is not None and (last[0] is key[0] or last[0] == key[0]) and last[1:3] == key[1:]:
-                return last[3]
+            if last is not None and (last[0] is key[0] or last[0] == key[0]) and last[1:3] == key[1:3] and (
+                    last[3] == key[3] or not settled):
+                return last[4]
         marks = field_marks(rig)
         with self._lock:
+            if last is not None and last[4] == marks:
+                marks = last[4]  # the same drawing: the item stays as it is
             self._field_for = (*key, marks)
         return marks

@@ -14,7 +14,7 @@ import math
 from dataclasses import dataclass
 
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QColor, QFontMetricsF, QPainter, QPainterPath, QPolygonF
+from PySide6.QtGui import QColor, QFontMetricsF, QPainter, QPainterPath, QPolygonF, QTransform
 from PySide6.QtWidgets import QGraphicsItem
 
 from sketchpad import theme
@@ -39,6 +39,9 @@ class Marks:
     arrows: tuple[tuple[tuple[float, float], tuple[float, float]], ...] = ()
     lines: tuple[tuple[tuple[tuple[float, float], ...], QColor, float], ...] = ()
     texts: tuple[tuple[str, tuple[float, float], QColor, tuple[float, float]], ...] = ()
+    #: per text (in order; missing: no limit), the width (m) of the water it is written in: a text wider than
+    #: that on screen (zoomed far out) is not drawn
+    rooms: tuple[float, ...] = ()
 
 
 NO_MARKS = Marks()
@@ -74,7 +77,7 @@ def marks_bounds(marks: Marks, m_per_px: float, fm: QFontMetricsF | None = None)
         x0, y0, x1, y1 = min(x0, min(xs) - pad), min(y0, min(ys) - pad), max(x1, max(xs) + pad), max(y1, max(ys) + pad)
     if marks.texts:
         fm = fm or QFontMetricsF(text_font())
-        for text, (x, y), _colour, (dx, dy) in marks.texts:
+        for text, (x, y), _colour, (dx, dy) in shown_texts(marks, k, fm):
             bx0, by0, bx1, by1 = _text_box_px(fm, text)
             bx0, bx1, by0, by1 = bx0 + dx, bx1 + dx, by0 + dy, by1 + dy
             x0, y0, x1, y1 = min(x0, x + bx0 * k), min(y0, y + by0 * k), max(x1, x + bx1 * k), max(y1, y + by1 * k)
@@ -107,17 +110,47 @@ def paint_marks(painter: QPainter, marks: Marks, polygons: list[QPolygonF], font
     if marks.texts:
         painter.setFont(font or text_font())
         fm = painter.fontMetrics()
-        for text, (x, y), colour, (dx, dy) in marks.texts:
+        for text, (x, y), colour, (dx, dy) in shown_texts(marks, k, QFontMetricsF(painter.font())):
             painter.save()
-            painter.translate(x, y)
-            painter.scale(k, k)
-            w = fm.horizontalAdvance(text)
+            at = t.map(QPointF(x, y))  # the text's origin on a whole device pixel: the same glyphs on every path
+            painter.setWorldTransform(QTransform.fromTranslate(round(at.x()), round(at.y())))
+            w = round(fm.horizontalAdvance(text))
             painter.setPen(theme.PAPER)
             for ox, oy in HALO:
                 painter.drawText(QPointF(dx - w / 2 + ox, dy - TEXT_RISE_PX + oy), text)
             painter.setPen(colour)
             painter.drawText(QPointF(dx - w / 2, dy - TEXT_RISE_PX), text)
             painter.restore()
+
+
+def shown_texts(marks: Marks, m_per_px: float, fm: QFontMetricsF) -> list:
+    """The texts of ``marks`` drawn at ``m_per_px``: in order, each one clear of those before it (zoomed far out the
+    speeds, river sides and tensions would pile on one spot: the first keeps its place, the others are left out),
+    and none wider than the water it names (``Marks.rooms``)."""
+    kept, boxes = [], []
+    rooms = marks.rooms
+    for i, t in enumerate(marks.texts):
+        text, (x, y), _colour, (dx, dy) = t
+        x0, y0, x1, y1 = _text_box_px(fm, text)
+        if i < len(rooms) and (x1 - x0 - 2 * EDGE_PX) * m_per_px > rooms[i]:
+            continue
+        cx, cy = x / m_per_px + dx, y / m_per_px + dy
+        box = (cx + x0, cy + y0, cx + x1, cy + y1)
+        if any(box[0] < b[2] and b[0] < box[2] and box[1] < b[3] and b[1] < box[3] for b in boxes):
+            continue
+        boxes.append(box)
+        kept.append(t)
+    return kept
+
+
+def text_boxes(marks: Marks, m_per_px: float, fm: QFontMetricsF) -> list:
+    """(scene point, (x, y, w, h) px relative to it) of each text of ``marks`` drawn at ``m_per_px``: what the force
+    labels keep off (``sketchpad.overlay.placement.place_labels``'s ``boxes``)."""
+    out = []
+    for text, at, _colour, (dx, dy) in shown_texts(marks, m_per_px, fm):
+        x0, y0, x1, y1 = _text_box_px(fm, text)
+        out.append((at, (x0 + dx, y0 + dy, x1 - x0, y1 - y0)))
+    return out
 
 
 class MarkItem(Versioned, QGraphicsItem):
@@ -136,10 +169,21 @@ class MarkItem(Versioned, QGraphicsItem):
         self._bounds = QRectF()
         self._font = text_font()  # made once: a font is slow to make
         self._fm = QFontMetricsF(self._font)  # the texts' metrics, for the rect
+        self._boxes_for: tuple | None = None  # (marks, m per px, text boxes) of the last text_boxes call
 
     @property
     def m_per_px(self) -> float:
         return self._m_per_px
+
+    def text_boxes(self) -> list:
+        """Where this item's texts are, at its zoom (:func:`text_boxes`): the very tuples of the last call while the
+        drawing and zoom are the same, so the placer's obstacle cache (which compares them by identity) keeps them."""
+        if not self.marks.texts:
+            return []
+        kept = self._boxes_for
+        if kept is None or kept[0] is not self.marks or kept[1] != self._m_per_px:
+            kept = self._boxes_for = (self.marks, self._m_per_px, text_boxes(self.marks, self._m_per_px, self._fm))
+        return list(kept[2])
 
     def set_marks(self, marks: Marks) -> bool:
         """Draw ``marks`` from now on; False (nothing done) when they are the ones drawn."""

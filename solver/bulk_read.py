@@ -30,12 +30,10 @@ def collector_paused() -> Iterator[None]:
     Thread-safe: concurrent loads count themselves, and the last one out restores the state
     the first one found.
 
-    Switched back on, the collector would at once walk the ~200,000 objects of the new rig as
-    young objects (about a seventh of a big load) on their way to the oldest generation, where
-    a rig, which lives as long as its document, ends anyway; so they are moved there directly
-    (``gc.freeze`` then ``gc.unfreeze``: every tracked object to the oldest generation, nothing
-    walked).  Skipped while a program keeps objects frozen (the ``solve`` command freezes its
-    imports): unfreezing would release them.
+    The collector is switched back on with the new rig's objects young, as Python made them: moving
+    every object of the process to the oldest generation instead (``gc.freeze`` then ``gc.unfreeze``,
+    about a seventh of a big load) changed when the GUI's garbage is collected, and a test window's
+    undo stack collected later crashed in Qt; the time is not worth that.
     """
     global _gc_pauses, _gc_resume
     with _gc_lock:
@@ -49,9 +47,6 @@ def collector_paused() -> Iterator[None]:
         with _gc_lock:
             _gc_pauses -= 1
             if _gc_pauses == 0 and _gc_resume:
-                if gc.get_freeze_count() == 0:
-                    gc.freeze()
-                    gc.unfreeze()
                 gc.enable()
 
 

@@ -10,7 +10,7 @@ is kept between solves, and why:
   carries the scratch of the solve running on it (its softening during a soft start, the last run
   tensions), so two threads must never solve the same System object at once;
 * small per-structure index maps (:data:`SIZE_GROUPS`, :data:`PART_PATTERNS`);
-* the last two settled states of a solve in moving water (:data:`WATER_STATES`): a warm drag step starts
+* the last two settled states of this thread's solves in moving water (:data:`WATER_STATES`): a warm drag step starts
   its outer rounds from their extrapolation (``solver.water_predict``), never a change to where they stop;
 * the records of the last Result (:data:`POINT_ROWS` ... :data:`LAST_HAUL`): a drag step moves one part
   of the rig, and every record whose numbers are bit for bit those of the last Result of the same
@@ -237,22 +237,22 @@ def stats() -> dict[str, Any]:
 
 
 class LastTwo:
-    """The last two values kept, oldest first: one tuple, replaced whole under a lock (read as :class:`LastOf`)."""
+    """The last two values kept by this thread, oldest first: a solve on one thread (the What-if scan on the
+    worker) never changes where another thread's next solve starts (the GUI's drag)."""
 
     def __init__(self) -> None:
-        self._pair: tuple = ()
-        self._lock = threading.Lock()
+        self._local = threading.local()
 
     def get(self) -> tuple:
-        """() before anything is kept, (newest,) after one value, else (older, newest)."""
-        return self._pair
+        """() before this thread kept anything, (newest,) after one value, else (older, newest)."""
+        return getattr(self._local, "pair", ())
 
     def put(self, value: Any) -> None:
-        with self._lock:
-            self._pair = (*self._pair[-1:], value)
+        self._local.pair = (*self.get()[-1:], value)
 
     def forget(self) -> None:
-        self._pair = ()
+        """Forget this thread's values."""
+        self._local.pair = ()
 
 
 #: The last two settled states of a water solve (solver.water_predict): where a warm drag step starts.

@@ -90,9 +90,11 @@ def predict(fixed_now: Mapping[str, tuple[float, float]], loads_now: tuple[float
         return
     older, newer = states
     alpha = factor(fixed_now, loads_now, older, newer)
+    if alpha == 0.0:  # (also whenever the states hold other fixed points than now: a part let go, another rig)
+        return
     users = [k for k in at if k in newer.free and k not in hidden]
     pulled = all(tuple(fixed_now[k]) == newer.fixed[k] for k in fixed_now)  # only the loads changed
-    if alpha == 0.0 or not all(k in older.free and (pulled or at[k] == newer.free[k]) for k in users):
+    if not all(k in older.free and (pulled or at[k] == newer.free[k]) for k in users):
         return
     for k in [*users, *(h for h in hidden if h in newer.free and h in older.free)]:
         n, o = newer.free[k], older.free[k]

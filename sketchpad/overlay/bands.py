@@ -18,6 +18,7 @@ from sketchpad import theme
 from sketchpad.overlay.labels import SLACK_N, Entries, moved_names, scene_positions
 from sketchpad.overlay.layer import plain_raster_transform
 from sketchpad.retained import RetainedLayer, add_damage
+from sketchpad.rope_bows import site_bows
 from solver.model import Rig
 from solver.result import Result
 
@@ -44,6 +45,31 @@ _BUCKET_WIDTH = {c: theme.band_width_px(k / BAND_BUCKETS * BAND_MAX_UTIL) for c,
 _PIECE_FIELDS = tuple(operator.itemgetter(i) for i in range(5))
 
 
+def _band_ends(outs: list, extras: list, bows: dict) -> tuple[dict[int, list], list[int]]:
+    """Each colour's band ends in the order of the segments (``outs``: per segment (key, a, b) or None; ``extras``:
+    its colour or None), a bowed piece (``bows``: key -> its hidden points) as one short piece per bow segment,
+    and per segment where its first end sits in its colour's list."""
+    by_colour: dict[int, list] = {}
+    where = [0] * len(outs)
+    for i, (out, rgba) in enumerate(zip(outs, extras)):
+        if out is None or rgba is None:
+            continue
+        ends = by_colour.get(rgba)
+        if ends is None:
+            ends = by_colour[rgba] = []
+        where[i] = len(ends)
+        inner = bows.get(out[0])
+        if inner:  # a piece the current bows: its band follows the bow, piece by piece
+            run = (out[1], *inner, out[2])
+            for a, b in zip(run, run[1:]):
+                ends.append(a)
+                ends.append(b)
+            continue
+        ends.append(out[1])
+        ends.append(out[2])
+    return by_colour, where
+
+
 class BandState:
     """What :meth:`ForceItem.set_bands` keeps between calls: each piece (key, scene ends) with its colour, where its
     ends sit in its colour's list, and the ring of each solved point the solver moved off its drawn place."""
@@ -55,6 +81,8 @@ class BandState:
         self.where: list[int] = []  # per segment: index of its first end in its colour's list
         self.by_colour: dict[int, list] = {}
         self.rings = Entries()  # per solved point: its solved place when off the drawn one, else None
+        self.bowed = False  # the last bands followed a bow: the next are laid out afresh
+        self.bows: tuple = (None, {})  # (Result.water, its bows in scene metres) of the last call
 
 
 class BandPainting:
@@ -99,8 +127,9 @@ class BandPainting:
             pieces = st.pieces_out = list(filter(None, outs))
         # the ends of each colour's pieces, in the order of the segments; a drag step that keeps every
         # piece's colour puts the moved ends in place of the old ones
-        if todo is not None and all(extras[i] == old_extras[i] and (outs[i] is None) == (old_outs[i] is None)
-                                    for i in todo):
+        bows = self._band_bows(result)
+        if not bows and not st.bowed and todo is not None and all(
+                extras[i] == old_extras[i] and (outs[i] is None) == (old_outs[i] is None) for i in todo):
             by_colour = dict(st.by_colour)
             where = st.where
             copied: set = set()
@@ -114,17 +143,8 @@ class BandPainting:
                 k = where[i]
                 by_colour[rgba][k:k + 2] = out[1:]
         else:
-            by_colour = {}
-            where = st.where = [0] * len(outs)
-            for i, (out, rgba) in enumerate(zip(outs, extras)):
-                if out is None or rgba is None:
-                    continue
-                ends = by_colour.get(rgba)
-                if ends is None:
-                    ends = by_colour[rgba] = []
-                where[i] = len(ends)
-                ends.append(out[1])
-                ends.append(out[2])
+            by_colour, st.where = _band_ends(outs, extras, bows)
+        st.bowed = bool(bows)
         st.by_colour = by_colour
         old = self._band_paths
         self._band_paths = {}
@@ -172,6 +192,18 @@ class BandPainting:
         st.rings.update(solved, tuple(result.points.values()), changed, ring)
         self.moved_points = list(filter(None, st.rings.outs))
         return pieces
+
+    def _band_bows(self, result: Result) -> dict:
+        """(rope, piece) -> interior scene points of each piece ``result``'s water bowed (kept for the same water)."""
+        water = getattr(result, "water", None)
+        if water is None or not water.ropes:
+            return {}
+        kept = self._band_state.bows
+        if kept[0] is water:
+            return kept[1]
+        bows = {key: tuple((x, -y) for x, y in line[1:-1]) for key, line in site_bows(result).items()}
+        self._band_state.bows = (water, bows)
+        return bows
 
     def _drawn_positions(self, rig: Rig) -> dict[str, tuple[float, float]]:
         """Scene positions of the points as drawn (kept while ``rig.points`` is the same tuple)."""

@@ -122,7 +122,7 @@ class ResultOverlay(QObject):
         if not result.ok and result.subject and rig.has_point(result.subject):
             fail_point = scene_xy(rig.point(result.subject).xy)
         self.force_item.fail_point = fail_point
-        self.water_item.show(rig, self.result)
+        self.water_item.show(rig, self.result, settled)
         self.rebuild()
 
     def set_layer(self, name: str, on: bool) -> None:
@@ -222,7 +222,7 @@ class ResultOverlay(QObject):
 
         markers, boxes = [], []
         if self.rig is not None:
-            boxes = self._name_boxes(self.rig)
+            boxes = self._name_boxes(self.rig) + self.water_item.text_boxes()  # keep off the speeds and sides
             markers = self._markers(self.rig, self.result)
         previous = self._memo if self._memo_scale == m11 else None
         frame = (m11, t.m22(), dx, dy)

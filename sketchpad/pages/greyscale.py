@@ -21,6 +21,7 @@ from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QPainter
 
 from sketchpad import theme
+from sketchpad.rope_bows import site_bows
 
 
 def util_class(u: float | None) -> int | None:
@@ -83,6 +84,7 @@ def paint_drawing_rails(painter: QPainter, target: QRectF, drawing) -> int:
     fit = drawing.fit
     k, src = fit.px_per_m, fit.source
     util = {(s.rope, s.index): s for s in drawing.result.segments}
+    bows = site_bows(drawing.result) if drawing.rig.view == "plan" else {}  # a bowed piece's rails follow its bow
     painter.save()
     painter.setRenderHint(QPainter.Antialiasing, True)
     n = 0
@@ -93,9 +95,11 @@ def paint_drawing_rails(painter: QPainter, target: QRectF, drawing) -> int:
         i = util_class(s.utilization)
         if i is None:
             continue
-        pa = QPointF(target.left() + (a[0] - src.left()) * k, target.top() + (a[1] - src.top()) * k)
-        pb = QPointF(target.left() + (b[0] - src.left()) * k, target.top() + (b[1] - src.top()) * k)
-        paint_rails(painter, pa, pb, i, theme.OVERLAY_BAND_PX / 2 + 1.2)
+        bow = bows.get(key)
+        run = [a, *((x, -y) for x, y in bow[1:-1]), b] if bow else [a, b]
+        pts = [QPointF(target.left() + (x - src.left()) * k, target.top() + (y - src.top()) * k) for x, y in run]
+        for pa, pb in zip(pts, pts[1:]):
+            paint_rails(painter, pa, pb, i, theme.OVERLAY_BAND_PX / 2 + 1.2)
         n += 1
     painter.restore()
     return n

@@ -187,3 +187,32 @@ def test_a_change_of_the_loads_alone_starts_between_the_last_two_states_whatever
     predict({"A": (0.0, 0.0)}, (660.0,), at, set(), {}, [])
     assert at["L"] == pytest.approx((1.0, 1.5))  # half-way back along the line
     memo.WATER_STATES.forget()
+
+
+def test_a_start_from_states_of_other_fixed_points_is_left_as_given():
+    # the failure scan solves each rig with one part let go, one after another: the kept states (anchor A1 let
+    # go) hold other fixed points than the rig solved now (A1 held, A2 let go), so the start is not moved (it
+    # raised KeyError reading A1's kept place)
+    memo.WATER_STATES.forget()
+    memo.WATER_STATES.put(state({"A2": (5.0, 0.0)}, {"L": (1.0, 1.0)}))
+    memo.WATER_STATES.put(state({"A2": (5.1, 0.0)}, {"L": (1.1, 1.0)}))
+    at = {"L": (1.1, 1.0)}
+    predict({"A1": (0.0, 0.0)}, (), at, set(), {}, [])
+    assert at == {"L": (1.1, 1.0)}
+    memo.WATER_STATES.forget()
+
+
+def test_the_kept_states_are_each_thread_s_own():
+    # the What-if scan on the worker must not move where the GUI thread's next drag step starts
+    import threading
+
+    memo.WATER_STATES.forget()
+    memo.WATER_STATES.put(state({"A": (0.0, 0.0)}))
+    seen: list = []
+    worker = threading.Thread(target=lambda: (seen.append(memo.WATER_STATES.get()),
+                                              memo.WATER_STATES.put(state({"A": (9.0, 9.0)}))))
+    worker.start()
+    worker.join()
+    assert seen == [()]
+    assert [s.fixed for s in memo.WATER_STATES.get()] == [{"A": (0.0, 0.0)}]
+    memo.WATER_STATES.forget()

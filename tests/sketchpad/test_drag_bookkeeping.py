@@ -280,7 +280,7 @@ def test_the_water_layer_is_kept_or_drawn_live_by_the_drag_layer_as_qt_paints_it
     else:
         doc, sched, view = fifty_rope_window(main_window)
     water, layer = main_window.live.overlay.water_item, view.drag_layer
-    wet = bool(water.bows.marks.lines)
+    wet = bool(main_window.canvas.bows)
     assert wet == (pid == "A2")
     drag_steps(doc, sched, view, pid, 4)
     scans, version, bows = layer.scans, water._ver, water.bows._ver

@@ -35,7 +35,7 @@ def test_dragging_a_tether_anchor_redraws_the_bowed_rope_and_keeps_hidden_points
     w.document.replace_all(rig)
     live = w.live
     item = live.overlay.water_item
-    qtbot.waitUntil(lambda: bool(item.bows.marks.lines), timeout=10000)
+    qtbot.waitUntil(lambda: bool(w.canvas.bows), timeout=10000)
     a2 = rig.point("A2")
     mouse.drag(a2.x, a2.y, a2.x - 4.0, a2.y, steps=5, release=False)
     qtbot.wait(200)
@@ -129,7 +129,7 @@ def test_dragging_the_bank_pulley_redraws_the_bowed_haul_line(main_window, mouse
     w.document.replace_all(rig)
     live = w.live
     item = live.overlay.water_item
-    qtbot.waitUntil(lambda: bool(item.bows.marks.lines), timeout=10000)
+    qtbot.waitUntil(lambda: bool(w.canvas.bows), timeout=10000)
     a2 = rig.point("A2")
     mouse.drag(a2.x, a2.y, a2.x + 3.0, a2.y, steps=5, release=False)
     qtbot.wait(200)
@@ -144,6 +144,6 @@ def test_dragging_the_bank_pulley_redraws_the_bowed_haul_line(main_window, mouse
     assert wet.sag_m > 0.05 and len(wet.polyline) > 6
     assert wet.tension_in_N == pytest.approx(wet.tension_out_N, rel=1e-9)  # frictionless bends
     assert "rope-drag-straight" not in {x.code for x in res.warnings}
-    qtbot.waitUntil(lambda: any(len(pts) == len(wet.polyline) for pts, _colour, _px in item.bows.marks.lines),
+    qtbot.waitUntil(lambda: any(len(pts) == len(wet.polyline) - 2 for pts in w.canvas.bows.get("main", {}).values()),
                     timeout=10000)
     assert not any(HIDDEN in k for k in res.points) and not any(HIDDEN in s.rope for s in res.segments)
