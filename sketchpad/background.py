@@ -25,7 +25,7 @@ import pathlib
 from dataclasses import replace
 from typing import Callable
 
-from PySide6.QtCore import QEvent, QLineF, QObject, Qt, Signal
+from PySide6.QtCore import QEvent, QLineF, QObject, QSignalBlocker, Qt, Signal
 from PySide6.QtGui import QAction, QColor, QImage, QPen, QPixmap, QTransform
 from PySide6.QtWidgets import (
     QFileDialog,
@@ -560,8 +560,6 @@ class BackgroundPanel(QWidget):
         self.refresh()
 
     def refresh(self, _rig=None) -> None:
-        from PySide6.QtCore import QSignalBlocker
-
         rig = self.controller.document.rig
         img = rig.site.image
         has = img is not None

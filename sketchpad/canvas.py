@@ -13,6 +13,8 @@ from __future__ import annotations
 import logging
 import math
 from dataclasses import dataclass
+from itertools import compress
+from operator import is_not
 
 from PySide6.QtCore import QEvent, QLineF, QPoint, QPointF, QRect, QRectF, QSize, Qt, Signal
 from PySide6.QtGui import (
@@ -125,12 +127,20 @@ class SketchScene(QGraphicsScene):
         """
         last = self._synced
         self.rig = rig
-        if self.shown_at:  # a point drawn elsewhere (dragged, edited, gone) is shown where it is drawn again
+        shown_before = self.shown_at
+        if self.shown_at and not self._shown_points_kept(rig, last):
+            # a point drawn elsewhere (dragged, edited, gone) is shown where it is drawn again
             old = last[1] if last is not None else {}
             now = {p.id: p for p in rig.points}
-            self.shown_at = {k: v for k, v in self.shown_at.items() if now.get(k) is not None and now[k] is old.get(k)}
+            kept = {k: v for k, v in self.shown_at.items() if now.get(k) is not None and now[k] is old.get(k)}
+            if len(kept) != len(self.shown_at):  # else the same places: the same dict, as _sync_moved's test reads
+                self.shown_at = kept
         if last is not None and self._sync_moved(rig, *last):
-            self._show_solved()
+            # _sync_moved touched only changed points, the forces at them and the ropes through them, and a changed
+            # point has just left shown_at: with the same shown_at every point, force and ring shown at a solved
+            # place is as _show_solved left it (tested equal to a full sync)
+            if self.shown_at is not shown_before:
+                self._show_solved()
             self.synced.emit(rig)
             return
         items = self.items_by_key
@@ -180,6 +190,18 @@ class SketchScene(QGraphicsScene):
         self._synced = (rig, by_id, self._items_serial)
         self._show_solved()
         self.synced.emit(rig)
+
+    def _shown_points_kept(self, rig: Rig, last: tuple | None) -> bool:
+        """True when every point of ``shown_at`` is the very Point object of the last sync (so :meth:`sync`'s filter
+        keeps them all): as many points, and no id of a point that is another object (before or now) in
+        ``shown_at`` -- every point with any other id sits at an index whose object did not change."""
+        if last is None or len(rig.points) != len(last[0].points):
+            return False
+        pts, before, at = rig.points, last[0].points, self.shown_at
+        for i in compress(range(len(pts)), map(is_not, pts, before)):
+            if pts[i].id in at or before[i].id in at:
+                return False
+        return True
 
     def _sync_moved(self, rig: Rig, last_rig: Rig, last_by_id: dict, serial: int) -> bool:
         """Do :meth:`sync`'s work for ``rig`` when it differs from the last synced rig only in points that kept

@@ -440,7 +440,8 @@ class LiveForces(QObject):
 
                 found = sketch_gap(s.rig)
                 hints.set_state(found.message if found else "")
-            hints.place()  # under the banner, or at the top when there is none
+            if not hints.isHidden():  # a hidden strip is placed when it is shown again (HintBar._refresh)
+                hints.place()  # under the banner, or at the top when there is none
         if s.settled or not result.ok:  # tables and warnings follow once a drag pauses
             self.panel.show_result(s.rig, result, s.last_good_rig, s.last_good, gap=gap)
 

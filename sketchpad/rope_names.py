@@ -13,6 +13,8 @@ import math
 from typing import Mapping
 
 from sketchpad import theme
+from sketchpad.overlay.labels import OverlayLabel
+from sketchpad.short_text import drawn
 from solver.model import Rig
 
 #: below every label that carries a number (tension labels: 50-80): names are placed last
@@ -33,29 +35,60 @@ def longest_piece(rope, pos: Mapping[str, tuple[float, float]]):
     return ends
 
 
+#: ``rope_name_labels``' memo key of its last call (no rope id is a tuple)
+_LAST = ("last call",)
+
+
 def rope_name_labels(rig: Rig, pos: Mapping[str, tuple[float, float]], memo: dict) -> list:
     """One label per rope (kind "rope"); a rope whose name, colour and piece are those of the last call keeps
-    its label object (``memo``: rope id -> (inputs, label), kept by the caller), as the placer's caches want."""
-    from sketchpad.overlay import OverlayLabel
-    from sketchpad.short_text import drawn
+    its label object (``memo``: rope id -> (inputs, label), kept by the caller), as the placer's caches want.
 
-    out, seen = [], set()
-    for i, rope in enumerate(rig.ropes):
-        ends = longest_piece(rope, pos)
-        if ends is None:
-            continue
-        colour = theme.rope_colour(i)
-        name = drawn(rope.name)
-        inputs = (name, colour.rgba(), ends)
-        kept = memo.get(rope.id)
-        if kept is not None and kept[0] == inputs:
-            lab = kept[1]
-        else:
-            lab = OverlayLabel(kind="rope", key=("rope", rope.id), lines=(name,), values={},
-                               colour=colour, priority=NAME_PRIORITY, base=ends[0], end=ends[1])
-            memo[rope.id] = (inputs, lab)
-        seen.add(rope.id)
-        out.append(lab)
+    When the ropes are the last call's and ``pos`` hands on the very tuples of points that did not move (as
+    ``scene_positions`` does during a drag), only the ropes through a moved point are looked at again: every
+    other rope has the same points at the same places, so the same longest piece and the same label."""
+    ropes = rig.ropes
+    last = memo.get(_LAST)
+    if last is not None and (last[0] is not ropes or len(last[1]) != len(pos)):
+        last = None
+    if last is not None:
+        _ropes, last_pos, per_rope, through = last
+        moved = [pid for pid, xy in pos.items() if last_pos.get(pid) is not xy]
+        if any(pid not in last_pos for pid in moved):  # other points (as many): every rope afresh
+            last = None
+    if last is not None:
+        if moved:
+            per_rope = list(per_rope)
+            for i in sorted({i for pid in moved for i in through.get(pid, ())}):
+                per_rope[i] = _name_label(memo, i, ropes[i], pos)
+                if per_rope[i] is None:
+                    memo.pop(ropes[i].id, None)  # as the fresh path forgets a rope with no piece drawn
+        memo[_LAST] = (ropes, pos, per_rope, through)
+        return [lab for lab in per_rope if lab is not None]
+    per_rope = [_name_label(memo, i, rope, pos) for i, rope in enumerate(ropes)]
+    seen = {rope.id for rope, lab in zip(ropes, per_rope) if lab is not None}
     for gone in [k for k in memo if k not in seen]:
         del memo[gone]
-    return out
+    through: dict[str, set[int]] = {}
+    for i, rope in enumerate(ropes):
+        for ps in rope.path:
+            through.setdefault(ps.at, set()).add(i)
+    memo[_LAST] = (ropes, pos, per_rope, through)
+    return [lab for lab in per_rope if lab is not None]
+
+
+def _name_label(memo: dict, i: int, rope, pos: Mapping[str, tuple[float, float]]):
+    """The name label of the ``i``-th rope at ``pos`` (None when no piece is drawn): the memo's when its inputs
+    are the same."""
+    ends = longest_piece(rope, pos)
+    if ends is None:
+        return None
+    colour = theme.rope_colour(i)
+    name = drawn(rope.name)
+    inputs = (name, colour.rgba(), ends)
+    kept = memo.get(rope.id)
+    if kept is not None and kept[0] == inputs:
+        return kept[1]
+    lab = OverlayLabel(kind="rope", key=("rope", rope.id), lines=(name,), values={},
+                       colour=colour, priority=NAME_PRIORITY, base=ends[0], end=ends[1])
+    memo[rope.id] = (inputs, lab)
+    return lab

@@ -8,7 +8,9 @@ advantage line stays where the overlay and the dock write it.
 
 from __future__ import annotations
 
+from sketchpad.short_text import drawn  # a very long name is cut as on the plan
 from solver.model import Rig
+from solver.pull_needed import need_phrase
 from solver.result import Result
 from solver.units import format_force
 
@@ -17,10 +19,11 @@ MOTION_WORDS = {"haul": "hauling", "hold": "holding", "lower": "lowering"}
 
 def _point_and_name(rig: Rig, pid: str):
     """The rig's point ``pid`` (None if gone) and what a person calls it (as drawn)."""
-    from sketchpad.short_text import drawn  # a very long name is cut as on the plan
-
-    p = rig.point(pid) if rig.has_point(pid) else None
-    return p, drawn(p.name if p is not None else pid)
+    try:
+        p = rig.point(pid)  # one look-up: this runs for every load and haul team on every drag step
+    except KeyError:
+        return None, drawn(pid)
+    return p, drawn(p.name)
 
 
 def _each(rig: Rig, records, sentence) -> list[str]:
@@ -70,8 +73,6 @@ def haulers_sentence(rig: Rig, result: Result) -> str | None:
 
 def need_sentences(rig: Rig, result: Result) -> list[str]:
     """What freeing each load takes, as the solver found it (solver.pull_needed; after the drawing is still)."""
-    from solver.pull_needed import need_phrase
-
     return _each(rig, result.needs, lambda _p, name, need: f"To free {name}: {need_phrase(rig, need)}")
 
 

@@ -85,10 +85,10 @@ class FailureGhost(Versioned, QGraphicsItem):
 
     def show_failure(self, rig: Rig | None, intact: Result | None, f: Failure | None) -> None:
         """Draw ``f`` (None: nothing)."""
-        from sketchpad.overlay import geometry_path
-
         if f is None and self._rect.isEmpty():
             return  # nothing shown, nothing to clear: a drag step's result leaves the scene untouched
+        from sketchpad.overlay import geometry_path
+
         self.prepareGeometryChange()
         self.zone, self.pieces, self.moves, self.arrows, self.marks = QPainterPath(), [], [], [], []
         self.label = None

@@ -17,6 +17,8 @@ from sketchpad.overlay.labels import LAYERS, OverlayLabel, PerPoint, build_label
 from sketchpad.overlay.legend import Banner, Legend, summary_lines
 from sketchpad.overlay.placement import ObstacleCache, place_labels, placement_memo
 from sketchpad.overlay.zones import ZoneItem
+from sketchpad.hardware_marks import hardware_labels
+from sketchpad.rope_names import rope_name_labels  # names placed with the numbers, never under them
 from sketchpad.short_text import drawn
 from sketchpad.water_layer import WaterItem
 from solver.model import Rig
@@ -69,6 +71,7 @@ class ResultOverlay(QObject):
         self._name_fm = QFontMetricsF(theme.font())
         self._name_box_cache: dict[tuple[str, str], tuple[float, float, float, float]] = {}
         self._name_box_of = PerPoint(self._name_box)  # name box of each point of the last rig
+        self._shown_boxes: tuple = ([], None, [])  # (name boxes, shown_at, boxes moved to shown_at) of the last call
         self._markers_for: tuple = (None, None, [])  # (rig.points, result, markers) of the last call
         self._pos: tuple = (None, {})  # (result, its scene_positions) of the last rebuild
         #: How many placements continued the last one (only the labels that changed looked at again) and how
@@ -169,13 +172,9 @@ class ResultOverlay(QObject):
         self.pieces = self.force_item.set_bands(rig, result, pos)
         labels, arrows = build_labels(rig, result, [k for k, on in self.layers.items() if on], self._label_memo, pos)
         if self.layers["anchors"]:  # overloaded pulleys and edges marked like anchors (made again once a drag pauses)
-            from sketchpad.hardware_marks import hardware_labels
-
             if getattr(self, "_zones_due", True) or not hasattr(self, "_hw_labels"):
                 self._hw_labels = hardware_labels(rig, result, pos)
             labels = labels + self._hw_labels if self._hw_labels else labels
-        from sketchpad.rope_names import rope_name_labels  # names placed with the numbers, never under them
-
         pieces_labelled = self.layers["tensions"] or self.layers["stretch"]
         if pieces_labelled:
             labels = labels + rope_name_labels(rig, pos, self.__dict__.setdefault("_name_memo", {}))
@@ -262,10 +261,22 @@ class ResultOverlay(QObject):
         if len(self._name_box_cache) > 4 * len(rig.points) + 64:
             self._name_box_cache.clear()
         boxes = self._name_box_of.values(rig.points)
-        at = getattr(self.scene, "shown_at", None)  # points drawn where the solver put them (sketchpad.ghosts)
-        if at:
-            boxes = [(scene_xy(at[p.id]), b[1]) if p.id in at else b for p, b in zip(rig.points, boxes)]
-        return boxes
+        at = getattr(self.scene, "shown_at", None)  # points drawn where the solver put them (sketchpad.solved_places)
+        if not at:
+            return boxes
+        # the placer's obstacle cache takes an entry that is the very object of its last list as unchanged: a box
+        # whose point and solved place are those of the last call is handed on as the same tuple (the scene keeps
+        # its shown_at dict while no place in it changes)
+        last_in, last_at, last_out = self._shown_boxes
+        if last_at is at and last_in is boxes:
+            return last_out
+        if last_at is at and len(last_in) == len(boxes):
+            out = [o if b is lb else (scene_xy(at[p.id]), b[1]) if p.id in at else b
+                   for p, b, lb, o in zip(rig.points, boxes, last_in, last_out)]
+        else:
+            out = [(scene_xy(at[p.id]), b[1]) if p.id in at else b for p, b in zip(rig.points, boxes)]
+        self._shown_boxes = (boxes, at, out)
+        return out
 
     def _name_box(self, p) -> tuple:
         key = (p.name, p.kind)

@@ -11,6 +11,7 @@ from PySide6.QtWidgets import QLabel, QWidget
 
 from sketchpad import legend_key, theme
 from sketchpad.items import text_advance
+from sketchpad.summary_words import sentences
 from solver.model import Rig
 from solver.readouts import ma_short
 from solver.result import Result
@@ -231,8 +232,6 @@ class Legend(QWidget):
 
 def summary_lines(rig: Rig, result: Result) -> list[str]:
     """The system in a few lines: MA nominal/ideal/actual, then sentences (sketchpad.summary_words)."""
-    from sketchpad.summary_words import sentences
-
     out = []
     if result.ma_actual is not None:  # a drag step leaves nominal and ideal to the analysis at the pause
         out.append(ma_short(result))

@@ -125,12 +125,12 @@ class PrintFrameItem(Versioned, QGraphicsItem):
         painter.drawRect(self._rect)
 
     def show_rig(self, rig: Rig) -> None:
-        from sketchpad.pages.framing import site_rect_of_frame
-
-        if rig.print_frame is None:
+        if rig.print_frame is None:  # (no import statement before this: one costs Qt's import hook every drag step)
             if self.isVisible():
                 self.setVisible(False)
             return
+        from sketchpad.pages.framing import site_rect_of_frame
+
         r = site_rect_of_frame(rig.print_frame)
         if r != self._rect:
             self.prepareGeometryChange()

@@ -106,7 +106,9 @@ def placed_from_scratch(ov, to_px, previous, keep_hidden: bool):
     # every point's marker where it is drawn and where it was solved (scene y is down), made here afresh
     markers = list(dict.fromkeys([(p.x, -p.y) for p in ov.rig.points] +
                                  [(float(x), -float(y)) for x, y in ov.result.points.values()]))
-    skipped = place_labels(again, to_px, ov.force_item.label_size, markers, ov.pieces, ov._name_boxes(ov.rig),
+    from tests.sketchpad.test_drag_step_fresh import fresh_name_boxes  # made afresh, never the overlay's own
+
+    skipped = place_labels(again, to_px, ov.force_item.label_size, markers, ov.pieces, fresh_name_boxes(ov),
                            previous, keep_hidden=keep_hidden)
     return skipped, placement(again)
 
