@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import concurrent.futures
 import logging
+import sys
 import time
 from dataclasses import replace
 from typing import Callable, Mapping
@@ -26,6 +27,7 @@ from typing import Callable, Mapping
 from PySide6.QtCore import QEvent, QObject, Qt, QTimer, Signal
 
 from sketchpad.rope_bows import scene_bows
+from sketchpad.solved_places import live_places
 from solver.model import Rig
 from solver.result import Result
 
@@ -53,9 +55,17 @@ def _default_analyse(rig: Rig, start: Mapping[str, tuple[float, float]] | None =
 
 def _default_quick(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None) -> Result:
     """A drag step: the equilibrium alone (no ideal-MA re-solve; the full analysis at the pause gives it)."""
-    from solver.equilibrium import solve
+    return _equilibrium().solve(rig, start=start, ideal=False)
 
-    return solve(rig, start=start, ideal=False)
+
+def _equilibrium():
+    """``solver.equilibrium``, imported on the first solve rather than with the window (it brings numpy and
+    scipy), and then read from ``sys.modules``: an import statement on every drag step goes through the Qt
+    binding's import hook each time."""
+    module = sys.modules.get("solver.equilibrium")
+    if module is None:
+        import solver.equilibrium as module
+    return module
 
 
 def warm_start(rig: Rig, good_rig: Rig | None, good: Result | None) -> dict[str, tuple[float, float]] | None:
@@ -418,7 +428,7 @@ class LiveForces(QObject):
         self.overlay.grey_reason = ("sketch incomplete: last complete result, greyed" if gap
                                     else "solve failed: last good result, greyed")
         if s.rig is self.window.document.rig:  # points drawn where the solver put them (first: the labels are
-            from sketchpad.solved_places import live_places  # placed clear of their names there), during a drag too
+            # placed clear of their names there), during a drag too
 
             if s.settled:
                 self._settled_rig = s.rig
