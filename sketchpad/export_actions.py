@@ -103,9 +103,16 @@ class ExportActions:
         """True while an export waits for its slow part on the solve worker (sketchpad.export_scan)."""
         return self._scans is not None and self._scans.running > 0
 
-    def refuse_target(self, path: pathlib.Path, what: str) -> bool:
-        """Refuse, before any computing, a file the export cannot write (no such folder, not writable, a folder by
-        that name); True (and the user told) when refused."""
+    def refuse_target(self, path: pathlib.Path, what: str, *checks: Callable[[], None]) -> bool:
+        """Refuse, before any computing, what ``checks`` refuse (each raises ExportError: a rig nothing can be drawn
+        of, a format the name does not give) and a file the export cannot write (no such folder, not writable, a
+        folder by that name); True (and the user told) when refused."""
+        try:
+            for check in checks:
+                check()
+        except ExportError as exc:
+            self._say(f"Could not export the {what}: {exc}", error=True)
+            return True
         why = target_problem(path)
         if why is not None:
             self._say(f"Could not export the {what}: {why}", error=True)
@@ -178,14 +185,8 @@ class ExportActions:
         if not path.suffix:
             path = path.with_suffix(".png")
         rig, rig_dir, source = self.window.document.rig, self._rig_dir(), self._source()
-        try:  # what can be refused at once is refused before any scan
-            format_of(path)
-            refuse_undrawable(rig)
-        except ExportError as exc:
-            self._say(f"Could not export the drawing: {exc}", error=True)
-            return None
-        if self.refuse_target(path, "drawing"):
-            return None
+        if self.refuse_target(path, "drawing", lambda: format_of(path), lambda: refuse_undrawable(rig)):
+            return None  # what can be refused at once is refused before any scan
 
         def write(outcome) -> str:
             drawing = export_drawing(rig, path, rig_dir=rig_dir, source=source, result=outcome.result,
@@ -217,12 +218,7 @@ class ExportActions:
         if path is None:
             return None
         rig, rig_dir, source = self.window.document.rig, self._rig_dir(), self._source()
-        try:
-            refuse_undrawable(rig)
-        except ExportError as exc:
-            self._say(f"Could not export the report: {exc}", error=True)
-            return None
-        if self.refuse_target(path, "report"):
+        if self.refuse_target(path, "report", lambda: refuse_undrawable(rig)):
             return None
 
         def write(outcome) -> str:
