@@ -6,7 +6,7 @@ exported report say the same thing.
 
 from __future__ import annotations
 
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import QRect, QSize, Qt, Signal
 from PySide6.QtGui import QMouseEvent
 from PySide6.QtWidgets import QDialog, QDialogButtonBox, QLabel, QMainWindow, QSizePolicy, QVBoxLayout, QWidget
 
@@ -72,9 +72,17 @@ def show_about(parent: QWidget | None = None) -> AboutDialog:
 
 
 class CautionLabel(QLabel):
-    """The short caution for the status bar; a click opens the About box with the full text."""
+    """The short caution for the status bar, in two lines; a click opens the About box with the full text.
+
+    On one line the caution took more than half the status bar at the default window width and the
+    select tool's hint beside it was cut off; in two lines the whole caution stays readable and the
+    hint fits.  A narrower window elides it (the tooltip and the About box keep all of it).
+    """
 
     clicked = Signal()
+
+    #: lines the caution is wrapped into
+    LINES = 2
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__("⚠ " + SHORT_CAUTION, parent)
@@ -83,24 +91,37 @@ class CautionLabel(QLabel):
         self.setToolTip(FULL_CAUTION)
         self.setCursor(Qt.CursorShape.PointingHandCursor)
         self.full_text = "⚠ " + SHORT_CAUTION
-        # full width when there is room; shrinks with a narrow window (text elided, tooltip keeps all of it)
-        self.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Preferred)
+        self.setWordWrap(True)
+        self.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Fixed)
         self.setMinimumWidth(240)
 
+    def text_width(self) -> int:
+        """Narrowest text width (px) that holds the whole caution in :attr:`LINES` lines, words unbroken."""
+        fm = self.fontMetrics()
+        lo, hi = 1, fm.horizontalAdvance(self.full_text) + 1
+        while lo < hi:  # the wrapped height only shrinks as the width grows: bisect for the first that fits
+            mid = (lo + hi) // 2
+            lines = fm.boundingRect(QRect(0, 0, mid, 10_000), Qt.TextFlag.TextWordWrap, self.full_text).height()
+            if lines <= self.LINES * fm.lineSpacing():
+                hi = mid
+            else:
+                lo = mid + 1
+        return lo
+
     def sizeHint(self):  # noqa: N802 - Qt's name
-        hint = super().sizeHint()
-        hint.setWidth(self.fontMetrics().horizontalAdvance(self.full_text) + 16)
-        return hint
+        return QSize(self.text_width() + 16, self.LINES * self.fontMetrics().lineSpacing() + 4)
 
     def minimumSizeHint(self):  # noqa: N802 - Qt's name
-        hint = super().minimumSizeHint()
-        hint.setWidth(self.minimumWidth())
-        return hint
+        return QSize(self.minimumWidth(), self.sizeHint().height())
 
     def resizeEvent(self, event) -> None:  # noqa: N802 - Qt's name
         super().resizeEvent(event)
         room = max(0, self.width() - 14)
-        self.setText(self.fontMetrics().elidedText(self.full_text, Qt.TextElideMode.ElideRight, room))
+        if room >= self.text_width():
+            self.setText(self.full_text)
+        else:  # too narrow for the whole caution in its lines: elided, about a line's worth less than it holds
+            self.setText(self.fontMetrics().elidedText(self.full_text, Qt.TextElideMode.ElideRight,
+                                                       self.LINES * room - room // 3))
 
     def mouseReleaseEvent(self, event: QMouseEvent) -> None:  # noqa: N802 - Qt's name
         if event.button() == Qt.MouseButton.LeftButton:

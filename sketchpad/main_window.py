@@ -305,7 +305,8 @@ class MainWindow(QMainWindow):
 
     def _build_status(self) -> None:
         self.cursor_label = plain_label("")
-        self.cursor_label.setMinimumWidth(220)
+        # as wide as a far-off cursor's coordinates, so it does not jitter, and no wider: the tool's hint needs the room
+        self.cursor_label.setMinimumWidth(self.cursor_label.fontMetrics().horizontalAdvance("x −999.99 ft   y −999.99 ft") + 8)
         self.statusBar().addPermanentWidget(self.cursor_label)
 
     def _build_files_and_panels(self) -> None:
