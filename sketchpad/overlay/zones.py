@@ -36,6 +36,17 @@ def hatch_over_fill_tile(fill: QBrush, hatch: QBrush) -> QImage:
     return tile
 
 
+def hatch_phase(device: QTransform) -> QTransform:
+    """Where the hatch tile starts, in device pixels: at the pixel of the scene origin, so on a fixed grid.
+
+    The canvas caches the zones in device pixels (a pixmap the size of the view or the item) and fills that
+    cache all at once or a part at a time, each time with the painter's origin at the pixmap's or the part's
+    corner.  Those origins differ from the screen's by whole pixels, and so does the scene origin's pixel:
+    anchored there, the hatch lands on the same screen pixels however the cache was filled.
+    """
+    return QTransform.fromTranslate(math.floor(device.dx() + 0.5), math.floor(device.dy() + 0.5))
+
+
 def _on_raster(painter: QPainter) -> bool:
     """True when ``painter`` draws raster pixels with a plain zoom and pan (the canvas, its item caches, PNGs)."""
     engine = painter.paintEngine()
@@ -88,10 +99,7 @@ class ZoneItem(LayerItem):
     def paint(self, painter: QPainter, option, widget=None) -> None:
         device = painter.worldTransform() if not self.grey and _on_raster(painter) else None
         if device is not None:
-            # Qt shifts a hatch by the painter's translation in scene units, rounded (found by experiment; the
-            # test holds the one-pass zone to the two-pass one)
-            phase = QTransform.fromTranslate(math.floor(device.dx() / device.m11() + 0.5),
-                                             math.floor(device.dy() / device.m22() + 0.5))
+            phase = hatch_phase(device)
             painter.save()
             painter.resetTransform()
         for kind in theme.ZONE_COLOURS:  # recoil under bight / failure areas
