@@ -97,7 +97,7 @@ class ZoneItem(LayerItem):
         self.update()
 
     def paint(self, painter: QPainter, option, widget=None) -> None:
-        device = painter.worldTransform() if not self.grey and _on_raster(painter) else None
+        device = painter.worldTransform() if _on_raster(painter) else None
         if device is not None:
             phase = hatch_phase(device)
             painter.save()
@@ -107,9 +107,13 @@ class ZoneItem(LayerItem):
             if path is None:
                 continue
             fill, hatch = self._brushes.get(kind, self._brushes["bight"])
-            if self.grey:
+            if self.grey:  # a failed solve: the last zones, greyed, hatched only
                 painter.setPen(self._grey_pen)
-                painter.setBrush(self._grey_brush)
+                brush = QBrush(self._grey_brush)
+                if device is not None:  # on the same fixed grid as the coloured hatch
+                    brush.setTransform(phase)
+                    path = device.map(path)
+                painter.setBrush(brush)
                 painter.drawPath(path)
                 continue
             if device is not None:  # fill and hatch in one pass, in device pixels
