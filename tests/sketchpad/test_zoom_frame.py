@@ -190,7 +190,16 @@ def _open(window, rig) -> None:
     sched = window.live.scheduler
     sched.background, sched.background_after_ms = False, float("inf")
     assert sched.solve_now().ok
+    # the failure scan to its end now (its zones replace the quick ones), not on its timer partway through a test
+    assert window.what_if.run_scan() is not None
     QApplication.processEvents()
+
+
+def _same_zones(fresh, zoomed) -> None:
+    """Give ``fresh`` the zones ``zoomed`` shows: a second failure scan of the same rig in one process can place a
+    zone's outline some 1e-15 m elsewhere (seen on the raft sample), a level or two on its anti-aliased edge."""
+    fresh.live.overlay.zones = zoomed.live.overlay.zones
+    fresh.live.overlay.zones_item.set_zones(zoomed.live.overlay.zones)
 
 
 def _window(qtbot):
@@ -221,6 +230,7 @@ def test_the_screen_after_a_wheel_gesture_equals_a_fresh_paint_at_that_zoom(qtbo
     QPixmapCache.clear()
     fresh = _window(qtbot)
     _open(fresh, make())
+    _same_zones(fresh, zoomed)
     fresh.view.setTransform(view.transform())
     fresh.view.horizontalScrollBar().setValue(view.horizontalScrollBar().value())
     fresh.view.verticalScrollBar().setValue(view.verticalScrollBar().value())
@@ -236,12 +246,14 @@ def test_the_screen_after_a_wheel_gesture_equals_a_fresh_paint_at_that_zoom(qtbo
         w.close()
 
 
-def _fresh_at(qtbot, make, view) -> np.ndarray:
-    """The viewport of a new window showing ``make()`` at ``view``'s transform and scroll, painted once."""
+def _fresh_at(qtbot, make, zoomed) -> np.ndarray:
+    """The viewport of a new window showing ``make()`` at ``zoomed``'s transform and scroll, painted once."""
+    view = zoomed.view
     items._pixmaps.clear()  # nothing drawn for the other window is reused
     QPixmapCache.clear()
     fresh = _window(qtbot)
     _open(fresh, make())
+    _same_zones(fresh, zoomed)
     fresh.view.setTransform(view.transform())
     fresh.view.horizontalScrollBar().setValue(view.horizontalScrollBar().value())
     fresh.view.verticalScrollBar().setValue(view.verticalScrollBar().value())
@@ -299,7 +311,7 @@ def test_the_zones_drawn_again_into_their_cache_equal_a_fresh_paint(qtbot, redra
     vp.repaint()
     shown = pixels(vp.grab().toImage())
     edges = _near_outlines(item, view, (vp.width(), vp.height()), 1.0) if redraw != "whole" else None
-    painted = _fresh_at(qtbot, make, view)
+    painted = _fresh_at(qtbot, make, zoomed)
     d = np.abs(shown - painted).max(axis=2)
     if edges is not None:
         d[edges] = 0
