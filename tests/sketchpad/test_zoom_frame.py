@@ -212,6 +212,27 @@ def _window(qtbot):
     return w
 
 
+def _fresh_at(qtbot, make, zoomed) -> tuple[np.ndarray, int]:
+    """The viewport of a new window showing ``make()`` with ``zoomed``'s zones at its transform and scroll, painted
+    once with its labels placed at once (as after a zoom from the menu), and how many labels it placed."""
+    view = zoomed.view
+    items._pixmaps.clear()  # nothing drawn for the other window is reused
+    QPixmapCache.clear()
+    fresh = _window(qtbot)
+    _open(fresh, make())
+    _same_zones(fresh, zoomed)
+    fresh.view.setTransform(view.transform())
+    fresh.view.horizontalScrollBar().setValue(view.horizontalScrollBar().value())
+    fresh.view.verticalScrollBar().setValue(view.verticalScrollBar().value())
+    fresh.view._scale_changed()  # as a zoom from the menu: labels placed at once
+    QApplication.processEvents()
+    assert fresh.view.viewportTransform() == view.viewportTransform()
+    painted = pixels(fresh.view.viewport().grab().toImage())
+    placed = sum(1 for lab in fresh.live.overlay.labels if lab.placed)
+    fresh.close()
+    return painted, placed
+
+
 @pytest.mark.parametrize("rig", ["fifty", "raft-3to1-redirect.rig.json", "vector-pull.rig.json"])
 def test_the_screen_after_a_wheel_gesture_equals_a_fresh_paint_at_that_zoom(qtbot, rig):
     make = fifty_rope_rig if rig == "fifty" else (lambda: load_rig(SAMPLES / rig))
@@ -226,43 +247,12 @@ def test_the_screen_after_a_wheel_gesture_equals_a_fresh_paint_at_that_zoom(qtbo
     shown = pixels(vp.grab().toImage())
     placed = sum(1 for lab in zoomed.live.overlay.labels if lab.placed)
 
-    items._pixmaps.clear()  # nothing drawn for the zoomed window is reused
-    QPixmapCache.clear()
-    fresh = _window(qtbot)
-    _open(fresh, make())
-    _same_zones(fresh, zoomed)
-    fresh.view.setTransform(view.transform())
-    fresh.view.horizontalScrollBar().setValue(view.horizontalScrollBar().value())
-    fresh.view.verticalScrollBar().setValue(view.verticalScrollBar().value())
-    fresh.view._scale_changed()  # as a zoom from the menu: labels placed at once
-    QApplication.processEvents()
-    assert fresh.view.viewportTransform() == view.viewportTransform()
-    assert sum(1 for lab in fresh.live.overlay.labels if lab.placed) == placed > 0
-    painted = pixels(fresh.view.viewport().grab().toImage())
+    painted, placed_afresh = _fresh_at(qtbot, make, zoomed)
+    assert placed_afresh == placed > 0
     d = np.abs(shown - painted).max(axis=2)
     ys, xs = np.nonzero(d)
     assert not len(ys), f"{len(ys)} pixels differ, x {xs.min()}-{xs.max()}, y {ys.min()}-{ys.max()}, by up to {d.max()}"
-    for w in (zoomed, fresh):
-        w.close()
-
-
-def _fresh_at(qtbot, make, zoomed) -> np.ndarray:
-    """The viewport of a new window showing ``make()`` at ``zoomed``'s transform and scroll, painted once."""
-    view = zoomed.view
-    items._pixmaps.clear()  # nothing drawn for the other window is reused
-    QPixmapCache.clear()
-    fresh = _window(qtbot)
-    _open(fresh, make())
-    _same_zones(fresh, zoomed)
-    fresh.view.setTransform(view.transform())
-    fresh.view.horizontalScrollBar().setValue(view.horizontalScrollBar().value())
-    fresh.view.verticalScrollBar().setValue(view.verticalScrollBar().value())
-    fresh.view._scale_changed()  # as a zoom from the menu: labels placed at once
-    QApplication.processEvents()
-    assert fresh.view.viewportTransform() == view.viewportTransform()
-    painted = pixels(fresh.view.viewport().grab().toImage())
-    fresh.close()
-    return painted
+    zoomed.close()
 
 
 def _near_outlines(item, view, size, px: float) -> np.ndarray:
@@ -311,7 +301,7 @@ def test_the_zones_drawn_again_into_their_cache_equal_a_fresh_paint(qtbot, redra
     vp.repaint()
     shown = pixels(vp.grab().toImage())
     edges = _near_outlines(item, view, (vp.width(), vp.height()), 1.0) if redraw != "whole" else None
-    painted = _fresh_at(qtbot, make, zoomed)
+    painted, _ = _fresh_at(qtbot, make, zoomed)
     d = np.abs(shown - painted).max(axis=2)
     if edges is not None:
         d[edges] = 0
