@@ -85,7 +85,10 @@ class Topology:
 
 #: System fields that :func:`with_geometry` rebuilds from the coordinates (all others come from the topology).
 GEOMETRY_FIELDS = ("rig", "points", "xy0", "origin", "size", "piece_len0", "run_L0", "s_min", "comp_size",
-                   "s_min_on", "keep_len", "contact_k", "run_L0_div")
+                   "s_min_on", "keep_len", "contact_k", "run_L0_div", "drawn_xy")
+#: Those of them that follow from the coordinates and the structure alone (not the forces, not the Rig object):
+#: the same numbers for every rig of one structure drawn at the very same coordinates.
+DRAWING_FIELDS = tuple(f for f in GEOMETRY_FIELDS if f not in ("rig", "points", "contact_k"))
 _SYSTEM_FIELDS = tuple(f.name for f in fields(System))
 
 
@@ -422,48 +425,62 @@ def with_forces(topo: Topology, rig: Rig) -> Topology:
     return replace(topo, rig=rig, template=template)
 
 
+#: :func:`structure_match` levels: no match, the same structure but for the forces, the same structure.
+DIFFERENT, NEW_FORCES, SAME = 0, 1, 2
+
+
 def same_structure(topo: Topology, rig: Rig, motion: str | None = None, forces: bool = True) -> bool:
     """True when ``rig`` (solved for ``motion``) differs from ``topo``'s rig at most in coordinates
-    (and in its forces too, when ``forces`` is False: see :func:`with_forces`).
+    (and in its forces too, when ``forces`` is False: see :func:`with_forces`)."""
+    return structure_match(topo, rig, motion) >= (SAME if forces else NEW_FORCES)
+
+
+def structure_match(topo: Topology, rig: Rig, motion: str | None = None) -> int:
+    """How far ``rig`` (solved for ``motion``) shares ``topo``'s structure: :data:`SAME` when it differs at most
+    in coordinates, :data:`NEW_FORCES` when in its forces too (:func:`with_forces`), else :data:`DIFFERENT`.
 
     Cheap for a dragged copy: the Rig edit helpers share the unchanged tuples and points, which
     are compared by identity first, by value only when not shared.
     """
     old = topo.rig
     if (motion or rig.settings.motion) != topo.motion:
-        return False
+        return DIFFERENT
     if rig is old:
-        return True
+        return SAME
     if rig.view != old.view:
-        return False
-    for name in ("ropes", "forces", "materials", "hardware") if forces else ("ropes", "materials", "hardware"):
+        return DIFFERENT
+    for name in ("ropes", "materials", "hardware"):
         new_items, old_items = getattr(rig, name), getattr(old, name)
         if new_items is not old_items and new_items != old_items:
-            return False
+            return DIFFERENT
     if len(rig.points) != len(old.points):
-        return False
+        return DIFFERENT
     for p, q, key in zip(rig.points, old.points, topo.point_keys):
         if p is not q and _point_key(p) != key:
-            return False
-    return True
+            return DIFFERENT
+    return SAME if rig.forces is old.forces or rig.forces == old.forces else NEW_FORCES
 
 
-def with_geometry(topo: Topology, rig: Rig) -> System:
+def with_geometry(topo: Topology, rig: Rig, like: System | None = None) -> System:
     """The System of ``rig``, a rig of ``topo``'s structure (:func:`same_structure`), equal to compile_rig's.
 
     The topology's arrays are shared; only :data:`GEOMETRY_FIELDS` are built anew, and nothing
     the solver caches on a System (``soft``, per-System constants) is carried over.  Raises
     RigModelError, the very one compile_rig raises, when the coordinates make the rig invalid.
+    ``like``: a System of the same structure (forces aside); when ``rig`` is drawn at bit for bit its
+    coordinates (a force slider, a re-typed force), its :data:`DRAWING_FIELDS` are taken as they are.
     """
-    return _with_geometry(topo, rig, checked=False)
+    return _with_geometry(topo, rig, checked=False, like=like)
 
 
-def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
+def _with_geometry(topo: Topology, rig: Rig, checked: bool, like: System | None = None) -> System:
     """:func:`with_geometry`; ``checked``: compile_topology has already checked this rig's geometry."""
     t = topo.template
     pts = [rig.points[i] for i in topo.point_index]
     # the x and y columns as two flat lists (one nested list per point costs a shape discovery per point)
     xy = np.array([[p.x for p in pts], [p.y for p in pts]], dtype=float).reshape(2, -1).T.copy()
+    if like is not None and _drawn_alike(like, t, xy):
+        return _on_drawing_of(like, t, rig, pts)
     d = xy[t.b] - xy[t.a]
     # math.hypot, one piece at a time, as the check in compile_topology (np.hypot can differ in the last bit)
     piece_len0 = np.array(list(map(math.hypot, d[:, 0].tolist(), d[:, 1].tolist())), dtype=float)
@@ -476,12 +493,8 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     if not checked and not (np.isfinite(xy).all() and (piece_len0 >= COINCIDENT_M).all()
                             and (run_L0[topo.run_pretensioned] > 0).all() and (run_L0[topo.run_slacked] > 0).all()):
         return compile_rig(rig, topo.motion)  # raises the RigModelError that names the first problem
-    s = System.__new__(System)
-    held = t.__dict__
-    # the template holds its fields alone (it is never solved): copied at once, else field by field
-    s.__dict__.update(held if len(held) == len(_SYSTEM_FIELDS) else {name: held[name] for name in _SYSTEM_FIELDS})
-    s.soft = None
-    s.rig, s.points = rig, pts
+    s = _from_template(t, rig, pts)
+    s.drawn_xy = xy
     lo, hi = (xy.min(axis=0), xy.max(axis=0)) if len(pts) else (np.zeros(2), np.zeros(2))
     s.size = float(max(np.hypot(*(hi - lo)), 1e-3))
     # solve about the drawing's centre: round-off then does not grow with the distance from the
@@ -498,11 +511,48 @@ def _with_geometry(topo: Topology, rig: Rig, checked: bool) -> System:
     s.s_min = np.minimum(s_min, 0.5 * s.piece_len0)
     # the spacing contact only where a piece can close up: -inf elsewhere makes its penetration 0
     s.s_min_on = np.where(s.contact_on, s.s_min, -np.inf)
-    s.order_ref = None  # the drawing's order directions, made when a solve first needs them (solver.pass_order)
     s.keep_len = pass_order.KEEP * s.s_min
+    s.run_L0_div = np.where(s.run_hauled, 1.0, s.run_L0) if s.n_runs else np.zeros(0)  # no 0 / 0 on hauled runs
+    for name in DRAWING_FIELDS:  # shared by the Systems of this drawing (:func:`_on_drawing_of`): never changed
+        value = getattr(s, name)
+        if isinstance(value, np.ndarray):
+            value.flags.writeable = False
     s.contact_k = contact_stiffness(s)  # what every solve of this System starts from (made once, not per solve)
     s.contact_k.flags.writeable = False
-    s.run_L0_div = np.where(s.run_hauled, 1.0, s.run_L0) if s.n_runs else np.zeros(0)  # no 0 / 0 on hauled runs
+    return s
+
+
+def _from_template(t: System, rig: Rig, pts: list) -> System:
+    """A System with the fields of topology template ``t``, for ``rig``: its geometry still to be set."""
+    s = System.__new__(System)
+    held = t.__dict__
+    # the template holds its fields alone (it is never solved): copied at once, else field by field
+    s.__dict__.update(held if len(held) == len(_SYSTEM_FIELDS) else {name: held[name] for name in _SYSTEM_FIELDS})
+    s.soft = None
+    s.rig, s.points = rig, pts
+    s.order_ref = None  # the drawing's order directions, made when a solve first needs them (solver.pass_order)
+    return s
+
+
+def _drawn_alike(like: System, t: System, xy: FloatArray) -> bool:
+    """True when System ``like`` is of template ``t``'s structure (the very index arrays) and was drawn at the
+    coordinates ``xy`` bit for bit (so every number of :data:`DRAWING_FIELDS` would come out the same)."""
+    drawn = like.drawn_xy
+    return (drawn is not None and like.a is t.a and like.b is t.b and like.contact_on is t.contact_on
+            and like.piece_dofs is t.piece_dofs and drawn.shape == xy.shape and drawn.tobytes() == xy.tobytes())
+
+
+def _on_drawing_of(like: System, t: System, rig: Rig, pts: list) -> System:
+    """The System of ``rig`` (template ``t``), drawn where ``like`` was (:func:`_drawn_alike`): ``like``'s drawing
+    fields as they are (read-only arrays), the contact stiffness anew when the forces differ."""
+    s = _from_template(t, rig, pts)
+    for name in DRAWING_FIELDS:
+        setattr(s, name, getattr(like, name))
+    if like.comp_force_scale is s.comp_force_scale and like.force_scale == s.force_scale:
+        s.contact_k = like.contact_k
+    else:
+        s.contact_k = contact_stiffness(s)
+        s.contact_k.flags.writeable = False
     return s
 
 

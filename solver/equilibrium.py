@@ -24,7 +24,7 @@ import numpy as np
 
 from solver import memo
 from solver.blas_threads import solving_on_one_blas_thread
-from solver.compile import compile_topology, same_structure, with_forces, with_geometry
+from solver.compile import DIFFERENT, NEW_FORCES, SAME, compile_topology, structure_match, with_forces, with_geometry
 from solver.errors import RigModelError
 from solver.model import Rig
 from solver.outcome import Solved
@@ -48,18 +48,20 @@ def _compiled(rig: Rig, motion: str | None) -> System:
         if r is rig and m == motion:
             memo.SYSTEM_SOURCES.add("same rig")
             return s
-    source = "same structure"
-    for _, _, _, topo in recent:
-        if same_structure(topo, rig, motion):
-            break
-    else:
-        for _, _, _, topo in recent:
-            if same_structure(topo, rig, motion, forces=False):  # a force slider: same index arrays, new forces
-                topo, source = with_forces(topo, rig), "new forces"
+    match, topo, like = DIFFERENT, None, None
+    for _, _, s, kept in recent:  # the same structure first; else the same but for the forces (a force slider)
+        level = structure_match(kept, rig, motion)
+        if level > match:
+            match, topo, like = level, kept, s
+            if level == SAME:
                 break
-        else:
-            topo, source = compile_topology(rig, motion), "compiled"  # = compile_rig, keeping the topology
-    s = with_geometry(topo, rig)
+    if match == SAME:
+        source = "same structure"
+    elif match == NEW_FORCES:
+        topo, source = with_forces(topo, rig), "new forces"  # the same index arrays, new forces
+    else:
+        topo, source = compile_topology(rig, motion), "compiled"  # = compile_rig, keeping the topology
+    s = with_geometry(topo, rig, like)  # a rig drawn where the last one was keeps its drawing's numbers
     memo.COMPILED.add((rig, motion, s, topo))
     memo.SYSTEM_SOURCES.add(source)
     return s

@@ -15,7 +15,7 @@ from solver.system import FloatArray, System, per_piece
 CONTACT_STIFFNESS = 1e4
 
 
-@dataclass
+@dataclass(slots=True)  # (slots: made for every trial step of every Newton iteration, and read field by field)
 class State:
     """Everything at one trial geometry: piece lengths/directions, run tensions, forces."""
 

@@ -8,7 +8,9 @@ is kept between solves, and why:
   or re-forced copy of a rig skips the compile of what did not change;
 * the compiled Systems of the last rigs solved (:data:`COMPILED`), **one list per thread**: a System
   carries the scratch of the solve running on it (its softening during a soft start, the last run
-  tensions), so two threads must never solve the same System object at once;
+  tensions), so two threads must never solve the same System object at once; a rig of the same structure
+  drawn at bit for bit the same coordinates (a force slider) takes the drawing's read-only arrays of the
+  System it matched (``compile.DRAWING_FIELDS``) instead of building them again;
 * small per-structure index maps (:data:`SIZE_GROUPS`, :data:`PART_PATTERNS`);
 * the last two settled states of this thread's solves in moving water (:data:`WATER_STATES`): a warm drag step starts
   its outer rounds from their extrapolation (``solver.water_predict``), never a change to where they stop;

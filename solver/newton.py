@@ -46,7 +46,12 @@ def runaway_point(s: System, st: State) -> int | None:
     """The free point (index into the System's points) farthest from the drawing when it is more than
     RUNAWAY_SIZES rig sizes away, else None."""
     # the drawing's centre is the solver's origin: no subtraction unless it moved
-    far = point_norms(st.x - np.tile(s.centre, s.n_dof // 2)) if np.count_nonzero(s.centre) else point_norms(st.x)
+    off = st.x - np.tile(s.centre, s.n_dof // 2) if np.count_nonzero(s.centre) else st.x
+    # no coordinate beyond reach / sqrt(2) (so no point beyond reach, |(x, y)| <= sqrt(2) max(|x|, |y|)): the
+    # common case, told by one look at the largest coordinate (with room for round-off)
+    if not len(off) or float(np.abs(off).max()) * 1.5 <= RUNAWAY_SIZES * s.size:
+        return None
+    far = point_norms(off)
     if far.max() > RUNAWAY_SIZES * s.size:
         return int(s.free_at[np.argmax(far)])
     return None
@@ -420,7 +425,8 @@ def newton(s: System, x0: np.ndarray, w: np.ndarray | None, kc: np.ndarray, symm
                         passed[i] = now[j] < 0.9 * res[j]
                 if any(passed):  # never carry a pass across its neighbour (outside the contact too)
                     crossed = pass_order.crossed(s, trial)
-                    passed = [p and not crossed[parts.ids[j]] for p, j in zip(passed, trying)]
+                    if crossed is not None:
+                        passed = [p and not crossed[parts.ids[j]] for p, j in zip(passed, trying)]
                 taken = sum(passed)
                 if taken:
                     if taken == len(trying):

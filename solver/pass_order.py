@@ -126,16 +126,19 @@ def follow(s: System, st: State) -> bool:
     return False
 
 
-def crossed(s: System, st: State) -> np.ndarray:
+def crossed(s: System, st: State) -> np.ndarray | None:
     """Per free part: True when a trial state has a pass beyond its neighbour (a contact piece turned more than
-    90 deg from its order direction since the last accepted state).  The Newton line searches refuse such a
-    step and try a shorter one, so a pass is never carried across its neighbour."""
-    out = np.zeros(s.n_comp, dtype=bool)
+    90 deg from its order direction since the last accepted state); None when no part has.  The Newton line
+    searches refuse such a step and try a shorter one, so a pass is never carried across its neighbour."""
     if not s.n_pieces:
-        return out
-    bad = gap(s, st.l, st.u) < s.crossed_below  # (= contact_on & (gap < 0): -inf where no contact acts)
-    if np.count_nonzero(bad):
-        out[s.piece_comp[bad]] = True
+        return None
+    # gap = l (u . r) < 0 exactly where u . r < 0: a piece's length is never negative, and a piece of no
+    # length has u = 0 (crossed_below: 0 where the contact acts, -inf elsewhere)
+    bad = _dot(st.u, _ref(s)) < s.crossed_below
+    if not np.count_nonzero(bad):
+        return None
+    out = np.zeros(s.n_comp, dtype=bool)
+    out[s.piece_comp[bad]] = True
     return out
 
 

@@ -135,6 +135,7 @@ class System:
     keep_len: FloatArray = field(default=None)  # per piece: shorter than this it keeps its order direction (pass_order.KEEP x s_min)
     haul_P_or_0: FloatArray = field(default=None)  # run_P on hauled runs, 0 on tied ones
     run_L0_div: FloatArray = field(default=None)  # run_L0 on tied runs, 1 on hauled ones
+    drawn_xy: FloatArray = field(default=None)  # (n_points, 2) site coordinates as drawn, m (xy0 + origin, bit for bit as read)
     piece_mbs: FloatArray = field(default=None)  # minimum breaking strength of each piece's rope, N
     soft: FloatArray | None = None  # per run: ropes softened to kappa * T(eps) for the solver's soft start
     has_edges: bool = False

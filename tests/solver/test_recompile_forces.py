@@ -18,6 +18,7 @@ from hypothesis import strategies as st
 
 from solver import equilibrium, memo
 from solver.assembly import compile_rig, compile_topology, same_structure, with_forces, with_geometry
+from solver.compile import DRAWING_FIELDS
 from solver.model import Force
 from tests.bench.test_bench_solver import thirty_point_rig, vector_pull_rig
 from tests.solver.test_recompile import RIGS, assert_same_system, fresh_solve, served
@@ -57,6 +58,30 @@ def test_a_force_edit_builds_the_system_a_full_compile_builds(name):
         assert_same_system(with_geometry(with_forces(topo, edited), edited), compile_rig(edited))
         moved = edited.moved(rig.points[0].id, rig.points[0].x + 0.31, rig.points[0].y - 0.17)
         assert_same_system(with_geometry(with_forces(topo, moved), moved), compile_rig(moved))
+
+
+@pytest.mark.parametrize("name", sorted(RIGS))
+def test_a_force_edit_drawn_where_the_last_rig_was_shares_its_drawing_and_equals_a_full_compile(name):
+    # a force slider: the coordinates bit for bit the last rig's, so the drawing's numbers are taken as they are
+    rig = RIGS[name]
+    topo = compile_topology(rig)
+    last = with_geometry(topo, rig)
+    for label, edited in _force_edits(rig).items():
+        s = with_geometry(with_forces(topo, edited), edited, like=last)
+        assert_same_system(s, compile_rig(edited))
+        for field in DRAWING_FIELDS:
+            assert getattr(s, field) is getattr(last, field), f"{label}: {field} built again"
+            value = getattr(s, field)
+            if isinstance(value, np.ndarray) and value.size:
+                with pytest.raises(ValueError):  # shared between Systems, so nobody may write to it
+                    value.reshape(-1)[0] = 1.0
+        p0 = rig.points[0]
+        for dx in (0.31, 1e-12):  # moved, even by a hair: built afresh from its own coordinates
+            moved = edited.moved(p0.id, p0.x + dx, p0.y)
+            s = with_geometry(with_forces(topo, moved), moved, like=last)
+            assert s.xy0 is not last.xy0, label
+            assert_same_system(s, compile_rig(moved))
+        assert_same_system(with_geometry(topo, rig, like=last), compile_rig(rig))
 
 
 def test_a_force_edit_is_served_from_the_cached_structure_and_solves_as_a_fresh_solve():
