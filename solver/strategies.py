@@ -45,7 +45,7 @@ def _friction_solve(s: System, x0: np.ndarray, motion: str, kc: np.ndarray,
     a pulley hauled into a knot would otherwise need the spacing contact to pull.
     """
     u0 = start.u if start is not None else directions(s, x0)
-    fr, w = _friction_stage(s, x0, u0, motion, kc, None)
+    fr, w = _friction_stage(s, x0, u0, motion, kc, None, start)
     if fr.converged or fr.runaway is not None:
         return fr, w
     if start is None:
@@ -53,7 +53,7 @@ def _friction_solve(s: System, x0: np.ndarray, motion: str, kc: np.ndarray,
     jam = friction.jammed_passes(s, start.pen) | friction.jammed_passes(s, fr.state.pen)
     if not jam.any():
         return fr, w
-    again, w2 = _friction_stage(s, x0, u0, motion, kc, jam)
+    again, w2 = _friction_stage(s, x0, u0, motion, kc, jam, start)
     again.iterations += fr.iterations
     if again.runaway is not None:
         return again, w2
@@ -63,15 +63,18 @@ def _friction_solve(s: System, x0: np.ndarray, motion: str, kc: np.ndarray,
 
 
 def _friction_stage(s: System, x0: np.ndarray, u0: np.ndarray, motion: str, kc: np.ndarray,
-                    jam: np.ndarray | None) -> tuple[Outcome, np.ndarray]:
-    """One friction solve from ``x0`` (piece directions ``u0`` there) with the passes ``jam`` (None: none) jammed."""
+                    jam: np.ndarray | None, start: State | None = None) -> tuple[Outcome, np.ndarray]:
+    """One friction solve from ``x0`` (piece directions ``u0`` there) with the passes ``jam`` (None: none) jammed;
+    ``start``: the frictionless state at ``x0`` when evaluated (its geometry is the first state's)."""
     iters = 0
     x = x0
     # passes jammed stay jammed and new two-blocked ones join (when jamming at all): the set
     # only grows, so the outer loop cannot cycle between a running and a jammed pass
     w = friction.weights(s, u0, motion, jam)
     for _outer in range(40):
-        fr = newton(s, x, w, kc, symmetric=False)
+        # the first state re-weighted from the frictionless one at x0: the same numbers as evaluated afresh
+        first = reweighted(s, start, w, kc) if start is not None and x is start.x else None
+        fr = newton(s, x, w, kc, symmetric=False, state=first)
         if not fr.converged and fr.runaway is None:
             fr = _soft_retry(s, x, w, kc, fr)
         iters += fr.iterations
