@@ -6,7 +6,8 @@ with a box offset in pixels, so at the next notch it still sits beside what it n
 overlaps may change.  So every zoom that is not a wheel notch (a fit, a zoom from the menu or
 keys) and the first notch of a gesture place labels at once, exact as before; the wheel notches
 that follow within ``STREAM_MS`` keep the placement, only refreshing the overlay's extent for the new scale; once the wheel has been
-still for ``SETTLE_MS`` the labels are placed again for the zoom reached.  Nothing is cached
+still for ``SETTLE_MS`` the labels are placed again for the zoom reached.  The danger zones are filled
+without anti-aliasing while the notches stream and smoothed again when the wheel stops.  Nothing is cached
 here: the placer's own memo and obstacle cache are the overlay's.
 """
 
@@ -47,6 +48,7 @@ class ZoomPacer(QObject):
         streaming = wheel and (now - self._last) * 1e3 < STREAM_MS
         self._last = now if wheel else -1e9
         ov = self.overlay
+        ov.zones_item.set_streaming(streaming)  # unsmoothed zones while the wheel turns
         if not streaming:
             ov.relayout()
             return
@@ -57,4 +59,5 @@ class ZoomPacer(QObject):
     def settle(self) -> None:
         """The wheel stopped: place the labels for the zoom reached."""
         self.timer.stop()
+        self.overlay.zones_item.set_streaming(False)
         self.overlay.relayout()

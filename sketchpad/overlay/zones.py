@@ -36,6 +36,17 @@ def hatch_over_fill_tile(fill: QBrush, hatch: QBrush) -> QImage:
     return tile
 
 
+def hatch_phase(device: QTransform) -> QTransform:
+    """Where the hatch tile starts, in device pixels: at the pixel of the scene origin, so on a fixed grid.
+
+    The canvas caches the zones in device pixels (a pixmap the size of the view or the item) and fills that
+    cache all at once or a part at a time, each time with the painter's origin at the pixmap's or the part's
+    corner.  Those origins differ from the screen's by whole pixels, and so does the scene origin's pixel:
+    anchored there, the hatch lands on the same screen pixels however the cache was filled.
+    """
+    return QTransform.fromTranslate(math.floor(device.dx() + 0.5), math.floor(device.dy() + 0.5))
+
+
 def _on_raster(painter: QPainter) -> bool:
     """True when ``painter`` draws raster pixels with a plain zoom and pan (the canvas, its item caches, PNGs)."""
     engine = painter.paintEngine()
@@ -71,6 +82,18 @@ class ZoneItem(LayerItem):
         self._pens = {k: theme.cosmetic_pen(c, theme.ZONE_EDGE_PX, Qt.DashLine) for k, c in theme.ZONE_COLOURS.items()}
         self._grey_pen = theme.cosmetic_pen(theme.OVERLAY_GREY, theme.ZONE_EDGE_PX, Qt.DashLine)
         self._tiles = {k: QBrush(hatch_over_fill_tile(*b)) for k, b in self._brushes.items()}
+        self.streaming = False  # a wheel gesture is under way: fill without anti-aliasing (set_streaming)
+
+    def set_streaming(self, on: bool) -> None:
+        """Fill the zones unsmoothed while a wheel gesture streams zoom frames, smoothed again when it stops.
+
+        Anti-aliased filling of the zones' many-sided outlines is most of their cost (~4 of ~5 ms a frame on a
+        50-rope rig); a frame of a gesture in motion is gone before the stair-steps on a translucent edge can be
+        read.  Switching back repaints the zones, so the still screen equals a fresh paint.
+        """
+        if on != self.streaming:
+            self.streaming = on
+            self.update()
 
     def set_zones(self, zones) -> None:
         from shapely.ops import unary_union
@@ -86,22 +109,25 @@ class ZoneItem(LayerItem):
         self.update()
 
     def paint(self, painter: QPainter, option, widget=None) -> None:
-        device = painter.worldTransform() if not self.grey and _on_raster(painter) else None
+        device = painter.worldTransform() if _on_raster(painter) else None
         if device is not None:
-            # Qt shifts a hatch by the painter's translation in scene units, rounded (found by experiment; the
-            # test holds the one-pass zone to the two-pass one)
-            phase = QTransform.fromTranslate(math.floor(device.dx() / device.m11() + 0.5),
-                                             math.floor(device.dy() / device.m22() + 0.5))
+            phase = hatch_phase(device)
             painter.save()
             painter.resetTransform()
+            if self.streaming:
+                painter.setRenderHint(QPainter.Antialiasing, False)
         for kind in theme.ZONE_COLOURS:  # recoil under bight / failure areas
             path = self.paths.get(kind)
             if path is None:
                 continue
             fill, hatch = self._brushes.get(kind, self._brushes["bight"])
-            if self.grey:
+            if self.grey:  # a failed solve: the last zones, greyed, hatched only
                 painter.setPen(self._grey_pen)
-                painter.setBrush(self._grey_brush)
+                brush = QBrush(self._grey_brush)
+                if device is not None:  # on the same fixed grid as the coloured hatch
+                    brush.setTransform(phase)
+                    path = device.map(path)
+                painter.setBrush(brush)
                 painter.drawPath(path)
                 continue
             if device is not None:  # fill and hatch in one pass, in device pixels

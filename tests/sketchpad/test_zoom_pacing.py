@@ -53,3 +53,27 @@ def test_a_fit_right_after_another_zoom_places_the_labels_at_once(main_window):
     ov.forget_placement()
     ov.relayout()
     assert placement(ov) == settled
+
+
+def test_zones_are_filled_unsmoothed_only_while_the_wheel_turns(main_window, qtbot):
+    open_sample(main_window, "raft-3to1-redirect.rig.json")
+    ov, view = main_window.live.overlay, main_window.view
+    from sketchpad.zoom_pacing import STREAM_MS
+    from tests.bench.test_bench_zoom import wheel
+
+    assert ov.zones_item.paths
+    qtbot.wait(int(STREAM_MS) + 50)
+    wheel(view, True)  # the first notch: drawn as a still screen is
+    assert not ov.zones_item.streaming
+    wheel(view, True)
+    wheel(view, False)
+    assert ov.zones_item.streaming and ov.zoom_pacer.pending
+    before = ov.zones_item._ver
+    qtbot.waitUntil(lambda: not ov.zoom_pacer.pending, timeout=3000)  # the wheel stops
+    assert not ov.zones_item.streaming and ov.zones_item._ver > before  # smoothed, and drawn again
+    qtbot.wait(int(STREAM_MS) + 50)
+    wheel(view, True)
+    wheel(view, True)  # a gesture again
+    assert ov.zones_item.streaming
+    view.zoom_to_fit()  # any other zoom: smoothed at once
+    assert not ov.zones_item.streaming
