@@ -1,0 +1,141 @@
+"""The water's numbers on the plan (wet-end tensions, the current's push on a body) are labels placed by the
+overlay's placer: on the wet samples at the default window size no placed label covers another or a site
+feature's name, and each shows the solver's number in the rig's force unit."""
+
+from __future__ import annotations
+
+import pytest
+from PySide6.QtWidgets import QApplication
+
+from sketchpad.feature_names import feature_name_boxes
+from sketchpad.main_window import DEFAULT_SIZE
+from sketchpad.water_labels import CURRENT_PRIORITY, WET_END_PRIORITY, water_labels
+from sketchpad.rope_names import NAME_PRIORITY
+from solver.units import format_force
+from tests.sketchpad.test_overlay import open_sample
+
+WET_SAMPLES = ["tethered-boat-eddy.rig.json", "raft-3to1-redirect.rig.json"]
+
+
+def _open(window, name):
+    window.resize(*DEFAULT_SIZE)
+    QApplication.processEvents()
+    result = open_sample(window, name)
+    assert result.ok and result.water is not None
+    return result
+
+
+def _px_box(lab, to_px):
+    x, y = to_px(lab.at)
+    rx, ry, w, h = lab.rect
+    return (x + rx, y + ry, x + rx + w, y + ry + h)
+
+
+def _to_px(view):
+    """Scene metres -> viewport px, as the view draws them."""
+    t = view.viewportTransform()
+    return lambda p: (p[0] * t.m11() + t.dx(), p[1] * t.m22() + t.dy())
+
+
+def _apart(a, b) -> bool:
+    return a[2] <= b[0] or b[2] <= a[0] or a[3] <= b[1] or b[3] <= a[1]
+
+
+def _expected(rig, result):
+    """(kind, key) -> the text the solver's water result gives (read as ``water_layer.bow_marks`` read it)."""
+    unit = rig.display.force
+    out = {}
+    for b in result.water.bodies:
+        if b.force_N > 0:
+            out[("current", b.point)] = (f"current's push {format_force(b.force_N, unit)}", b.force_N)
+    for w in result.water.ropes:
+        if w.bowed:
+            out[("wet-end", (w.rope, w.index, "in"))] = (f"wet end {format_force(w.tension_in_N, unit)}", w.tension_in_N)
+            out[("wet-end", (w.rope, w.index, "out"))] = (f"wet end {format_force(w.tension_out_N, unit)}",
+                                                         w.tension_out_N)
+    return out
+
+
+@pytest.mark.parametrize("name", WET_SAMPLES)
+def test_wet_numbers_are_placed_labels_with_the_solvers_numbers(main_window, name):
+    result = _open(main_window, name)
+    rig = main_window.document.rig
+    ov = main_window.live.overlay
+    want = _expected(rig, result)
+    assert any(k[0] == "wet-end" for k in want)  # both samples bow a rope through the water
+    got = {(lab.kind, lab.key): lab for lab in ov.labels if lab.kind in ("wet-end", "current")}
+    assert set(got) == set(want)
+    for k, lab in got.items():
+        text, value = want[k]
+        assert lab.lines == (text,)
+        assert next(iter(lab.values.values())) == pytest.approx(value, rel=1e-12)
+    hidden = sum(not lab.placed for lab in ov.labels)
+    assert hidden == ov.skipped  # a label not placed is counted in the key's "N labels hidden" line
+    if hidden:
+        assert any(f"{hidden} label" in line for line in ov.legend.lines) if hasattr(ov.legend, "lines") else True
+    # nothing drawn twice: the water item keeps the arrows and draws no number
+    assert ov.water_item.bows.marks.texts == ()
+
+
+@pytest.mark.parametrize("name", WET_SAMPLES)
+def test_no_placed_label_covers_another_or_a_feature_name(main_window, name):
+    _open(main_window, name)
+    ov, view = main_window.live.overlay, main_window.view
+    to_px = _to_px(view)
+    placed = [lab for lab in ov.labels if lab.placed]
+    assert any(lab.kind == "wet-end" for lab in placed)
+    boxes = [(_px_box(lab, to_px), lab.text) for lab in placed]
+    for i, (a, ta) in enumerate(boxes):
+        for b, tb in boxes[i + 1:]:
+            assert _apart(a, b), (ta, tb)
+    names = feature_name_boxes(main_window.canvas, main_window.document.rig.site.features)
+    assert names  # the samples name their features
+    for xy, (bx, by, bw, bh) in names:
+        x, y = to_px(xy)
+        f = (x + bx, y + by, x + bx + bw, y + by + bh)
+        for b, text in boxes:
+            assert _apart(f, b), text
+
+
+def test_feature_name_boxes_are_where_qt_draws_the_names(main_window):
+    _open(main_window, "tethered-boat-eddy.rig.json")
+    view, canvas = main_window.view, main_window.canvas
+    rig = main_window.document.rig
+    to_px = _to_px(view)
+    boxes = feature_name_boxes(canvas, rig.site.features)
+    for f, (xy, (bx, by, bw, bh)) in zip([f for f in rig.site.features if f.label], boxes):
+        label = [c for c in canvas.item_for(("feature", f.id)).childItems() if hasattr(c, "text")][0]
+        r = label.deviceTransform(view.viewportTransform()).mapRect(label.boundingRect())  # Qt's own mapping
+        x, y = to_px(xy)
+        assert (x + bx, y + by, bw, bh) == pytest.approx((r.x(), r.y(), r.width(), r.height()), abs=1e-6)
+
+
+def test_priorities_keep_the_numbers_before_the_rope_names():
+    from sketchpad.overlay.labels import build_labels  # noqa: F401 - the tension labels' range is 50..80
+
+    assert NAME_PRIORITY < WET_END_PRIORITY < 50.0 and 80.0 < CURRENT_PRIORITY < 90.0
+
+
+def test_a_dry_or_failed_result_gives_no_water_labels():
+    from solver.equilibrium import solve
+    from solver.rigfile import load_rig
+    from tests.conftest import SAMPLES
+
+    rig = load_rig(SAMPLES / "two-point-anchor.rig.json")
+    memo: dict = {}
+    assert water_labels(rig, solve(rig), memo) == [] and memo == {}
+    assert water_labels(rig, None, memo) == []
+
+
+def test_unchanged_water_labels_keep_their_objects():
+    from solver.equilibrium import solve
+    from solver.rigfile import load_rig
+    from tests.conftest import SAMPLES
+
+    rig = load_rig(SAMPLES / "tethered-boat-eddy.rig.json")
+    result = solve(rig)
+    memo: dict = {}
+    first = water_labels(rig, result, memo)
+    again = water_labels(rig, result, memo)
+    assert first and all(a is b for a, b in zip(first, again))
+    assert [lab.lines for lab in water_labels(rig, result, {})] == [lab.lines for lab in first]  # equal to a fresh call
