@@ -164,3 +164,32 @@ def test_the_water_labels_follow_a_drag_of_the_boat(main_window, mouse):
     to_px = _to_px(main_window.view)
     boxes = [_px_box(lab, to_px) for lab in ov.labels if lab.placed]
     assert all(_apart(a, b) for i, a in enumerate(boxes) for b in boxes[i + 1:])
+
+
+def test_the_kept_feature_name_boxes_equal_fresh_ones_after_an_edit(main_window):
+    """The overlay keeps the feature names' boxes while the features are the same; renaming one (an undoable edit)
+    gives the boxes made afresh, and so does undoing it."""
+    import dataclasses
+
+    _open(main_window, "raft-3to1-redirect.rig.json")
+    doc, canvas = main_window.document, main_window.canvas
+    ov = main_window.live.overlay
+    sched = main_window.live.scheduler
+
+    def kept_equals_fresh():
+        sched.solve_now()
+        QApplication.processEvents()
+        kept = ov._feature_boxes.of(canvas, doc.rig)
+        assert kept == feature_name_boxes(canvas, doc.rig.site.features) and kept
+        return kept
+
+    before = kept_equals_fresh()
+    rig = doc.rig
+    named = next(f for f in rig.site.features if f.label)
+    longer = dataclasses.replace(named, label=named.label + " and a much longer name")
+    site = dataclasses.replace(rig.site, features=tuple(longer if f is named else f for f in rig.site.features))
+    assert doc.apply(dataclasses.replace(rig, site=site), "Rename feature")
+    after = kept_equals_fresh()
+    assert after != before  # the renamed feature's box is wider
+    doc.undo_stack.undo()
+    assert kept_equals_fresh() == before
