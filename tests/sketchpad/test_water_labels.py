@@ -193,3 +193,24 @@ def test_the_kept_feature_name_boxes_equal_fresh_ones_after_an_edit(main_window)
     assert after != before  # the renamed feature's box is wider
     doc.undo_stack.undo()
     assert kept_equals_fresh() == before
+
+
+def test_an_exported_drawing_places_the_water_labels_with_the_solvers_numbers(qapp, tmp_path):
+    """A PNG drawing of the eddy sample (as File > Export draws it) places the same wet-end and push labels, clear
+    of the other labels; the water item draws no number of its own there either."""
+    from sketchpad.export import export_drawing
+    from solver.analysis import analyse
+    from solver.rigfile import load_rig
+    from tests.conftest import SAMPLES
+
+    rig = load_rig(SAMPLES / "tethered-boat-eddy.rig.json")
+    result = analyse(rig)
+    drawing = export_drawing(rig, tmp_path / "eddy.png", None, result)
+    want = _expected(rig, result)
+    got = {(lab.kind, lab.key): lab for lab in drawing.force_item.labels if lab.kind in ("wet-end", "current")}
+    assert set(got) == set(want) and all(lab.lines == (want[k][0],) for k, lab in got.items())
+    assert drawing.water_item.bows.marks.texts == ()
+    assert all(lab.placed for lab in got.values())
+    k = drawing.fit.px_per_m  # the page's placer maps scene metres by this scale alone
+    boxes = [_px_box(lab, lambda p: (p[0] * k, p[1] * k)) for lab in drawing.force_item.labels if lab.placed]
+    assert all(_apart(a, b) for i, a in enumerate(boxes) for b in boxes[i + 1:])
