@@ -214,3 +214,29 @@ def test_an_exported_drawing_places_the_water_labels_with_the_solvers_numbers(qa
     k = drawing.fit.px_per_m  # the page's placer maps scene metres by this scale alone
     boxes = [_px_box(lab, lambda p: (p[0] * k, p[1] * k)) for lab in drawing.force_item.labels if lab.placed]
     assert all(_apart(a, b) for i, a in enumerate(boxes) for b in boxes[i + 1:])
+
+
+@pytest.mark.parametrize("degrees", [-60, 60])
+def test_after_a_wheel_zoom_no_label_covers_another_or_a_feature_name(main_window, degrees):
+    """Wheel-zoomed out or in on the eddy sample (the labels re-placed once the wheel settles), the placed labels
+    still keep off each other and off the feature names; the wet labels not placed are counted as hidden."""
+    from PySide6.QtCore import QPoint
+
+    from tests.sketchpad.test_canvas_editing import _wheel
+
+    _open(main_window, "tethered-boat-eddy.rig.json")
+    view, ov = main_window.view, main_window.live.overlay
+    before = view.px_per_m
+    _wheel(view, QPoint(view.viewport().width() // 2, view.viewport().height() // 2), degrees)
+    ov.zoom_pacer.settle()
+    QApplication.processEvents()
+    assert view.px_per_m != pytest.approx(before) and ov._memo_scale == pytest.approx(view.transform().m11())
+    to_px = _to_px(view)
+    boxes = [(_px_box(lab, to_px), lab.text) for lab in ov.labels if lab.placed]
+    for i, (a, ta) in enumerate(boxes):
+        for b, tb in boxes[i + 1:]:
+            assert _apart(a, b), (ta, tb)
+    for xy, (bx, by, bw, bh) in feature_name_boxes(main_window.canvas, main_window.document.rig.site.features):
+        x, y = to_px(xy)
+        assert all(_apart((x + bx, y + by, x + bx + bw, y + by + bh), b) for b, _t in boxes)
+    assert ov.skipped == sum(not lab.placed for lab in ov.labels)
