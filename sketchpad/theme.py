@@ -198,6 +198,9 @@ OVERLAY_SOLVED_POINT_PX = 4.0  # ring where the solver moved a free point
 DRAWN_PLACE = QColor(90, 90, 86, 150)  # where a free point was drawn when the solver moved it (sketchpad.solved_places)
 DRAWN_PLACE_RADIUS_PX = 6.0
 ANGLE_TEXT = QColor("#2c3e8c")
+#: overlay label kinds whose text has a colour of its own (every other label's text is OVERLAY_LABEL_TEXT): turns,
+#: and the water's numbers in the water's colours (sketchpad.water_labels)
+LABEL_KIND_TEXT: dict[str, QColor] = {"angle": ANGLE_TEXT, "wet-end": WET_TENSION, "current": FLOW_LABEL}
 ANCHOR_ARROW_HEAD_PX = 11.0
 ANCHOR_ARROW_WIDTH_PX = 3.2
 ZONE_COLOURS: dict[str, QColor] = {"recoil": QColor(224, 120, 20), "bight": QColor(196, 28, 36),

@@ -3,8 +3,9 @@
 Two QGraphicsItems (:class:`WaterItem` and its ``bows``) drawn in scene metres from the rig's features and the
 Result's ``water`` (:mod:`solver.water_result`): arrows on a grid over each moving-water feature (length by speed, the
 topmost feature's current where they overlap), the speed and "river left" / "river right" (facing
-downstream, the trade's convention) on each main current, each bowed rope as the solver shaped it, and
-the tension at both ends of its wet part in the rig's force unit.  Text keeps its screen size at any zoom.
+downstream, the trade's convention) on each main current, and the current's push on each body as an arrow (its
+size, and the tension at both ends of each bowed rope's wet part, are overlay labels: ``sketchpad.water_labels``).
+Text keeps its screen size at any zoom.
 """
 
 from __future__ import annotations
@@ -17,11 +18,12 @@ from PySide6.QtWidgets import QGraphicsItem
 
 from sketchpad import theme
 from sketchpad.water_label_places import label_region, snapped_points_box
+from sketchpad.water_labels import push_tip, wet_water
 from sketchpad.water_marks import NO_MARKS, MarkItem, Marks
 from solver.model import Rig
 from solver.result import Result
 from solver.directions import bearing_text
-from solver.units import format_force, format_speed
+from solver.units import format_speed
 from solver.water_site import flow_field, main_current, river_sides
 
 #: Arrows across the larger side of a feature's box (ours: dense enough to read, sparse enough to see through).
@@ -142,51 +144,25 @@ def _room(poly) -> float:
 
 
 def bow_marks(rig: Rig, result: Result | None) -> Marks:
-    """What ``result``'s water adds to the plan (scene metres): the tension at both ends of each bowed rope's wet
-    part, and the current's push on each body as an arrow downstream of it; the bowed rope itself is drawn by its
-    rope item along the solver's hidden points (``SketchScene.set_bows``), so the plan shows one rope."""
-    water = getattr(result, "water", None) if result is not None and result.ok and rig.view == "plan" else None
+    """What ``result``'s water adds to the plan's own drawing (scene metres): the current's push on each body as an
+    arrow downstream of it.  The bowed rope itself is drawn by its rope item along the solver's hidden points
+    (``SketchScene.set_bows``), so the plan shows one rope; the wet-end tensions and the push's size are overlay
+    labels (``sketchpad.water_labels``), placed clear of every other label."""
+    water = wet_water(rig, result)
     if water is None:
         return NO_MARKS
-    unit = rig.display.force
-    arrows, texts = [], []
+    arrows = []
     for b in water.bodies:
         if b.force_N <= 0 or b.point not in result.points:
             continue
         x, y = result.points[b.point]
-        n = math.hypot(b.fx_N, b.fy_N)
-        tip = (x + 3.0 * b.fx_N / n, y + 3.0 * b.fy_N / n)
-        arrows.append((_scene(x, y), _scene(*tip)))
-        texts.append((f"current {format_force(b.force_N, unit)}", _scene(tip[0], tip[1] - 0.8), theme.FLOW_LABEL,
-                      (0.0, 0.0)))
-    for w in water.ropes:
-        if not w.bowed:
-            continue
-        line = tuple(_scene(*p) for p in w.polyline)  # the rope item draws the bow itself (sketchpad.rope_bows)
-        for idx, inward, t in ((w.wet_from, 1, w.tension_in_N), (w.wet_to, -1, w.tension_out_N)):
-            texts.append((format_force(t, unit), line[idx], theme.WET_TENSION, _along(line, idx, inward)))
-    return Marks(arrows=tuple(arrows), texts=tuple(texts))
-
-
-#: How far (px) a wet-end tension sits from its end along its own rope: two ropes ending at one body (a V of
-#: tethers) would otherwise write their tensions over each other there (ours: about two text heights).
-WET_LABEL_PX = 26.0
-
-
-def _along(line: tuple, idx: int, inward: int) -> tuple[float, float]:
-    """The px offset ``WET_LABEL_PX`` from ``line[idx]`` toward its neighbour ``inward`` (+1 / -1) along the line."""
-    j = idx + inward
-    if not 0 <= j < len(line):
-        return (0.0, 0.0)
-    dx, dy = line[j][0] - line[idx][0], line[j][1] - line[idx][1]
-    n = math.hypot(dx, dy)
-    return (WET_LABEL_PX * dx / n, WET_LABEL_PX * dy / n) if n > 0 else (0.0, 0.0)
+        arrows.append((_scene(x, y), _scene(*push_tip(x, y, b.fx_N, b.fy_N))))
+    return Marks(arrows=tuple(arrows))
 
 
 class WaterItem(MarkItem):
     """The current's arrows, speeds and river sides (scene metres, just under the overlay), and in :attr:`bows`
-    (an item of its own in the overlay's place, under the force labels) the ropes the water bows, their wet-end
-    tensions and the current's push on bodies.
+    (an item of its own in the overlay's place, under the force labels) the current's push arrows on bodies.
 
     Two items because they change at different times: a drag step changes the bows with its solve but not the
     currents.  The field stays in the drag layer's still image (``sketchpad.drag_layer``); the bows, a solver

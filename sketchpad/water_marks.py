@@ -34,7 +34,7 @@ HALO = ((-1, 0), (1, 0), (0, -1), (0, 1))
 class Marks:
     """One water drawing in scene metres (y down): arrows (tail, head) with a head at the head end, polylines
     with their colour and pen width (px), and texts (text, (x, y), colour, (dx, dy)) centred (dx, dy) px from
-    their scene point (a wet-end tension is moved along its own rope, clear of another rope's end there)."""
+    their scene point."""
 
     arrows: tuple[tuple[tuple[float, float], tuple[float, float]], ...] = ()
     lines: tuple[tuple[tuple[tuple[float, float], ...], QColor, float], ...] = ()
@@ -48,7 +48,7 @@ NO_MARKS = Marks()
 
 
 def text_font():
-    """The water texts' font (speeds, river sides, wet-end tensions): small and bold."""
+    """The water texts' font (speeds, river sides): small and bold."""
     return theme.font(theme.SMALL_POINT_SIZE, bold=True)
 
 

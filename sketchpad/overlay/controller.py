@@ -20,7 +20,9 @@ from sketchpad.overlay.zones import ZoneItem
 from sketchpad.hardware_marks import hardware_labels
 from sketchpad.rope_names import rope_name_labels  # names placed with the numbers, never under them
 from sketchpad.short_text import drawn
+from sketchpad.water_labels import water_labels  # wet-end tensions and the current's push, placed with the rest
 from sketchpad.water_layer import WaterItem
+from sketchpad.feature_names import FeatureNameBoxes
 from solver.model import Rig
 from solver.result import Result
 
@@ -178,6 +180,9 @@ class ResultOverlay(QObject):
         pieces_labelled = self.layers["tensions"] or self.layers["stretch"]
         if pieces_labelled:
             labels = labels + rope_name_labels(rig, pos, self.__dict__.setdefault("_name_memo", {}))
+        wet = water_labels(rig, result, self.__dict__.setdefault("_water_memo", {}), pos)
+        if wet:  # wet-end tensions with the tensions, the current's push with the forces
+            labels = labels + [lab for lab in wet if self.layers["tensions" if lab.kind == "wet-end" else "anchors"]]
         self.scene.set_rope_names_in_overlay(pieces_labelled)
         self.force_item.labels, self.force_item.arrows = labels, arrows
         if self.layers["zones"] and not getattr(self, "_zones_due", True):
@@ -223,6 +228,7 @@ class ResultOverlay(QObject):
         markers, boxes = [], []
         if self.rig is not None:
             boxes = self._name_boxes(self.rig) + self.water_item.text_boxes()  # keep off the speeds and sides
+            boxes += self.__dict__.setdefault("_feature_boxes", FeatureNameBoxes()).of(self.scene, self.rig)
             markers = self._markers(self.rig, self.result)
         previous = self._memo if self._memo_scale == m11 else None
         frame = (m11, t.m22(), dx, dy)

@@ -108,7 +108,8 @@ class ForceItem(BandPainting, LayerItem):
 
     def label_pixmap(self, lab: OverlayLabel, colour: QColor) -> QPixmap:
         """The label's box and text rendered once and blitted on every repaint (cached by text and colour)."""
-        key = (lab.lines, colour.rgba(), lab.kind == "angle" and not self.grey)
+        kind_text = None if self.grey else theme.LABEL_KIND_TEXT.get(lab.kind)
+        key = (lab.lines, colour.rgba(), None if kind_text is None else kind_text.rgba())
         pix = self._pixmap_cache.get(key)
         if pix is not None:
             return pix
@@ -159,8 +160,8 @@ class ForceItem(BandPainting, LayerItem):
 
     def _paint_label_text(self, painter: QPainter, lab: OverlayLabel, box: QRectF) -> None:
         painter.setFont(self.font)
-        angle = lab.kind == "angle" and not self.grey
-        painter.setPen(self.pen_for(theme.ANGLE_TEXT, 1.0) if angle else self._text_pen)
+        kind_text = None if self.grey else theme.LABEL_KIND_TEXT.get(lab.kind)  # turns and the water's numbers
+        painter.setPen(self.pen_for(kind_text, 1.0) if kind_text is not None else self._text_pen)
         pad, lh, ascent = theme.OVERLAY_LABEL_PAD_PX, self.fm.height(), self.fm.ascent()
         for i, line in enumerate(lab.lines):
             painter.drawText(QPointF(box.left() + pad, box.top() + pad + i * lh + ascent), line)

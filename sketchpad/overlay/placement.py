@@ -430,7 +430,7 @@ def _search(lab: Placeable, to_px, size_of, grid: _Grid, placed: list):
     hits = grid.hits_rect
     w, h = size_of(lab)
     fallback = None
-    own = lab.key if lab.kind == "tension" else None
+    own = lab.key if lab.kind == "tension" else lab.key[:2] if lab.kind == "wet-end" else None  # its own piece
     for base_s, c, bp, leader in _candidates(lab, to_px, w, h):
         r = (c[0] - w / 2.0, c[1] - h / 2.0, w, h)
         if hits(r):

@@ -6,6 +6,7 @@ import math
 import pathlib
 
 import pytest
+from PySide6.QtCore import QPointF
 from PySide6.QtWidgets import QApplication
 from shapely.ops import unary_union
 
@@ -41,7 +42,10 @@ def overlaps(a: OverlayLabel, b: OverlayLabel, to_px) -> bool:
 
 
 def view_to_px(view):
-    return lambda p: (view.mapFromScene(*p).x(), view.mapFromScene(*p).y())
+    """Scene metres -> viewport px in floats, as the placer works (mapFromScene rounds each anchor to a whole pixel,
+    which made two boxes placed a fraction of a pixel apart look overlapping)."""
+    t = view.viewportTransform()
+    return lambda p: (t.map(QPointF(*p)).x(), t.map(QPointF(*p)).y())
 
 
 @pytest.mark.parametrize("path", SAMPLE_FILES, ids=lambda p: p.name)
@@ -168,7 +172,9 @@ def test_layer_toggles_in_the_view_menu_hide_and_show_labels(main_window):
         live.layer_actions[name].trigger()
     # the raft's overloaded redirect pulley is marked with the anchors' layer ("hardware")
     # ... and the rope names are placed with the piece labels ("rope")
-    assert {lab.kind for lab in live.overlay.labels} == {"tension", "angle", "anchor", "load", "haul", "hardware", "rope"}
+    # ... and the tension where the main line meets the water ("wet-end")
+    assert {lab.kind for lab in live.overlay.labels} == {"tension", "angle", "anchor", "load", "haul", "hardware", "rope",
+                                                         "wet-end"}
 
 
 def test_danger_zones_are_drawn_where_solver_danger_puts_them(main_window):
