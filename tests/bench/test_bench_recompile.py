@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from solver import equilibrium, memo
 from solver.assembly import compile_rig, compile_topology, with_geometry
+from solver.compile import DIFFERENT
 from tests.bench.fifty_ropes import fifty_rope_rig
 
 #: Steps of one drag: the grab of system 4 pulled 2 cm left and 1 cm down per step.
@@ -58,7 +59,7 @@ def test_bench_drag_fifty_ropes_geometry_update(benchmark):
 
 def test_bench_drag_fifty_ropes_full_compile_each_step(benchmark, monkeypatch):
     # the same drag with the topology never reused (every step compiled whole), for comparison
-    monkeypatch.setattr(equilibrium, "same_structure", lambda *a, **k: False)
+    monkeypatch.setattr(equilibrium, "structure_match", lambda *a, **k: DIFFERENT)
     _bench_drag(benchmark)
 
 
