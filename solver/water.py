@@ -42,6 +42,7 @@ from solver.water_forces import HIDDEN, _drag_forces, _scale
 from solver.water_predict import drive, keep, predict
 from solver.water_site import FlowField, flow_field
 from solver.water_slide import MESH_REL, cut_run, remesh, start_mesh, warm_mesh
+from solver.water_trail import bow_start, keep_bows
 
 log = logging.getLogger(__name__)
 
@@ -263,7 +264,7 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
         # a fixed point stays where the rig has it now (a dragged anchor): the start's is where it was
         at.update({k: tuple(v) for k, v in start.items() if k in at and k not in fixed})
         if trail is not None:
-            at.update(_bow_start(trail, plan, at))
+            at.update(bow_start(trail, plan.chains, at))
         # the sliding runs' cut parts (water_slide)
         mesh = warm_mesh(plan.rig, plan.sliding_parts, motion, trail.lengths() if trail is not None else {},
                          plan.slide_groups)
@@ -296,7 +297,7 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
         ma_ideal = solve(_with_forces(plan, forces), start=at, motion=motion, ideal=True, **mesh.kwargs()).ma_ideal
         result = replace(result, ma_ideal=ma_ideal)
     if result is not None and result.ok and trail is not None:
-        _keep_bows(trail, plan, at)
+        keep_bows(trail, plan.chains, at)
         trail.keep_lengths(mesh.lengths)
         keep(trail, fixed, at, mesh.lengths, drive(rig))
     if result is not None and result.ok:
@@ -306,33 +307,6 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
                              ma_ideal=rescaled_to_user(result.ma_ideal, solved, own))
     result = replace(result, iterations=iterations)
     return _mapped(rig, plan, ff, result, forces, gap, rounds)
-
-
-def _keep_bows(trail: memo.Trail, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> None:
-    """Keep each cut rope's solved bow on ``trail`` (its offsets from its chord at its fractions), by (rope, piece)."""
-    for c in plan.chains:
-        a, b = np.array(at[c.a]), np.array(at[c.b])
-        nodes = np.array([at[h] for h in c.hidden])
-        trail.bows.put((c.rope, c.piece), (np.array(c.ts), nodes - (a + np.outer(c.ts, b - a))))
-
-
-def _bow_start(trail: memo.Trail, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> dict[str, tuple[float, float]]:
-    """Each hidden point of a cut rope ``trail`` kept a bow for: at its chord fraction between the (maybe moved) ends
-    plus the kept bow's offset there -- only a start: the rounds end on the same test from any start."""
-    out: dict[str, tuple[float, float]] = {}
-    for c in plan.chains:
-        kept = trail.bows.get((c.rope, c.piece))
-        if kept is None:
-            continue
-        ts_old, off = kept
-        grid = np.concatenate(([0.0], ts_old, [1.0]))
-        ts = np.array(c.ts)
-        # the old bow's offset from its chord, read at the new fractions (the water's edge may have moved)
-        shift = np.column_stack([np.interp(ts, grid, np.concatenate(([0.0], off[:, i], [0.0]))) for i in (0, 1)])
-        a, b = np.array(at[c.a]), np.array(at[c.b])
-        nodes = a + np.outer(ts, b - a) + shift
-        out.update({h: (float(x), float(y)) for h, (x, y) in zip(c.hidden, nodes)})
-    return out
 
 
 def _mapped(rig: Rig, plan: _Plan, ff: FlowField, aug: Result, forces: Mapping[str, np.ndarray],
