@@ -103,3 +103,29 @@ def test_the_live_trail_is_the_only_one_a_solve_reads():
     assert repr(solve(_moved(rig, 0.05), start=start)) == plain
     memo.forget_all()
     assert memo.LIVE_TRAIL.states() == ()
+
+
+def test_a_trail_seeded_from_a_result_starts_every_hidden_point_on_that_result_s_rope():
+    """The failure scan's and pull-needed search's start in moving water: each hidden point at its place along the
+    drawn piece, moved onto the bowed rope of the Result they start from (it lies on that polyline, to round-off)."""
+    from shapely.geometry import LineString, Point
+
+    from solver.water import _plan
+    from solver.water_site import flow_field
+    from solver.water_trail import bow_start, seeded
+
+    rig = load_rig(SAMPLES / "raft-3to1-redirect.rig.json")
+    result = solve(rig)
+    plan = _plan(rig, flow_field(rig))
+    at = {**{p.id: p.xy for p in plan.rig.points}, **result.points}
+    start = bow_start(seeded(result), plan.chains, at)
+    bowed = [w for w in result.water.ropes if w.bowed]
+    assert bowed and len(start) == sum(len(c.hidden) for c in plan.chains)
+    for w in bowed:
+        rope = LineString(w.polyline)
+        chord = LineString([w.polyline[0], w.polyline[-1]])
+        chain = next(c for c in plan.chains if (c.rope, c.piece) == (w.rope, w.index))
+        for h in chain.hidden:
+            assert rope.distance(Point(start[h])) < 1e-9
+        assert max(chord.distance(Point(start[h])) for h in chain.hidden) > 0.01  # bowed, not on the chord
+    assert bow_start(seeded(None), plan.chains, at) == {}
