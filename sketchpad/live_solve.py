@@ -49,13 +49,16 @@ Analyse = Callable[..., Result]
 
 def _default_analyse(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None) -> Result:
     from solver.analysis import analyse
+    from solver.memo import LIVE_TRAIL
 
-    return analyse(rig, start=start)
+    return analyse(rig, start=start, trail=LIVE_TRAIL)  # the drawn rig's steps follow each other (solver.memo)
 
 
 def _default_quick(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None) -> Result:
     """A drag step: the equilibrium alone (no ideal-MA re-solve; the full analysis at the pause gives it)."""
-    return _equilibrium().solve(rig, start=start, ideal=False)
+    from solver.memo import LIVE_TRAIL
+
+    return _equilibrium().solve(rig, start=start, ideal=False, trail=LIVE_TRAIL)
 
 
 def _equilibrium():

@@ -16,6 +16,7 @@ from typing import Mapping
 
 from solver.checks import run_checks
 from solver.errors import RigModelError, RopewrightError
+from solver.memo import Trail
 from solver.model import Rig
 from solver.nominal_ma import nominal_ma
 from solver.result import Result, Warning_
@@ -48,12 +49,13 @@ def with_needs(rig: Rig, result: Result) -> Result:
         return result
 
 
-def analyse(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None) -> Result:
-    """Equilibrium of ``rig`` (warm-started from ``start`` if given) with every safety finding merged in."""
+def analyse(rig: Rig, start: Mapping[str, tuple[float, float]] | None = None, trail: Trail | None = None) -> Result:
+    """Equilibrium of ``rig`` (warm-started from ``start`` if given) with every safety finding merged in;
+    ``trail``: the live drag's (:func:`solver.equilibrium.solve`), else the answer depends on the arguments alone."""
     from solver.equilibrium import solve
 
     try:
-        result = solve(rig, start=start)
+        result = solve(rig, start=start, trail=trail)
     except RopewrightError as exc:  # solve promises not to raise; keep that promise for callers anyway
         subject = exc.subject if isinstance(exc, RigModelError) else ""
         result = Result(status="invalid", message=exc.message, subject=subject)

@@ -88,8 +88,14 @@ def _start_x(s: System, start) -> np.ndarray:
 
 @solving_on_one_blas_thread  # small dense problems: one BLAS thread (solver/blas_threads.py)
 def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True,
-          unstretched_m: Mapping[str, float] | None = None) -> Result:
+          unstretched_m: Mapping[str, float] | None = None, trail: memo.Trail | None = None) -> Result:
     """Solve ``rig`` for static equilibrium; ``start`` = {point_id: (x, y)} warm start, metres.
+
+    The answer depends on the arguments alone, never on what was solved before.  ``trail``
+    (:class:`solver.memo.Trail`: the live drag's, one search's) is the one exception, made explicit:
+    a rig in moving water warm-started from ``start`` also starts its outer rounds from what the
+    trail kept of the same sequence's last steps (the same equilibrium to the solve's tolerance,
+    not to the bit), and keeps this answer on it.
 
     ``unstretched_m`` = {rope_id: m} sets the unstretched length of one-run tied ropes instead of
     their rigging (the haul plan's rope paid in; :func:`solver.run_lengths.with_unstretched`).
@@ -115,7 +121,7 @@ def solve(rig: Rig, *, start=None, motion: str | None = None, ideal: bool = True
     """
     if rig.site.features and in_water(rig):  # currents push on ropes and bodies: solver.water
         if unstretched_m is None:
-            return solve_in_water(rig, solve, start=start, motion=motion, ideal=ideal)
+            return solve_in_water(rig, solve, start=start, motion=motion, ideal=ideal, trail=trail)
         return without_current(solve(dry_site(rig), start=start, motion=motion, ideal=ideal,
                                      unstretched_m=unstretched_m))
     try:

@@ -35,6 +35,7 @@ from solver.failure_zones import ZonePart, failure_zone
 from solver.materials import material_for
 from solver.model import STANDARD_GRAVITY, Rig
 from solver.result import AnchorResult, Result, SegmentResult
+from solver.water_trail import seeded
 
 #: A point moving less than this (m) has not moved.
 MOVED_MIN_M = 0.01
@@ -363,13 +364,13 @@ class _Scanner:
         return self._finish(c, rem, named, unheld, moved, peak,
                             [(s[0], pivots[s[0]], s[1], s[2], s[3]) for s in swings], peak_pts)
 
-    @staticmethod
-    def _solved(rem: Remaining) -> Result:
-        """The remaining rig solved from where the intact rig was (no ropes left: nothing to solve)."""
+    def _solved(self, rem: Remaining) -> Result:
+        """The remaining rig solved from where the intact rig was (no ropes left: nothing to solve); in moving water
+        its ropes start bowed as the intact rig's were (a trail of the intact Result alone: never a former solve's)."""
         from solver.equilibrium import solve
 
         if rem.rig.ropes:
-            return solve(rem.rig, start=rem.start)
+            return solve(rem.rig, start=rem.start, trail=seeded(self.intact) if self.intact.water else None)
         fixed = {p.id: (p.x, p.y) for p in rem.rig.points if p.is_fixed}
         return Result(status="ok", message="", iterations=0, residual_N=0.0, points=fixed)
 

@@ -12,8 +12,11 @@ is kept between solves, and why:
   drawn at bit for bit the same coordinates (a force slider) takes the drawing's read-only arrays of the
   System it matched (``compile.DRAWING_FIELDS``) instead of building them again;
 * small per-structure index maps (:data:`SIZE_GROUPS`, :data:`PART_PATTERNS`);
-* the last two settled states of this thread's solves in moving water (:data:`WATER_STATES`): a warm drag step starts
-  its outer rounds from their extrapolation (``solver.water_predict``), never a change to where they stop;
+* a :class:`Trail` per sequence of related solves in moving water (the live drag's is :data:`LIVE_TRAIL`): the
+  last two settled states, each cut rope's last bow and the cut parts' lengths, where the next warm step of
+  the same sequence starts its outer rounds (``solver.water_predict``), never a change to where they stop.
+  A trail is read only by a solve handed it (``solve(..., trail=)``): a solve given none (a failure scan,
+  danger zones, a report, the CLI) depends on its arguments alone, never on what was solved before it;
 * the records of the last Result (:data:`POINT_ROWS` ... :data:`LAST_HAUL`): a drag step moves one part
   of the rig, and every record whose numbers are bit for bit those of the last Result of the same
   structure is handed on as the same object, so that the overlay recognises what did not move by
@@ -222,7 +225,7 @@ def forget_all() -> None:
         cache.clear()
     SIZE_GROUPS.forget()
     PART_PATTERNS.forget()
-    WATER_STATES.forget()
+    LIVE_TRAIL.forget()
 
 
 def stats() -> dict[str, Any]:
@@ -238,24 +241,48 @@ def stats() -> dict[str, Any]:
     }
 
 
-class LastTwo:
-    """The last two values kept by this thread, oldest first: a solve on one thread (the What-if scan on the
-    worker) never changes where another thread's next solve starts (the GUI's drag)."""
+class Trail:
+    """What one sequence of related water solves (a live drag, one pull-needed search, one sweep) keeps for its next
+    warm step: the last two settled states (oldest first), the last bow of each cut rope and the cut parts' lengths.
+
+    Explicit by design: a solve reads a trail only when handed one, and a sequence that must give the same numbers
+    every time it runs (a pull-needed search, a sweep) starts a new one, so its answers depend on its own steps
+    alone.  Bounded (64 bows, 1,024 lengths) and thread-safe: each value is replaced whole under a lock and read
+    from a snapshot, so two threads sharing the live trail can cost each other a good start, never a wrong answer.
+    """
 
     def __init__(self) -> None:
-        self._local = threading.local()
+        self._lock = threading.Lock()
+        self._states: tuple = ()
+        self.bows = Bounded(64)  # (rope, piece) -> (chord fractions, offsets from the chord m): solver.water
+        self._lengths: dict[str, float] = {}  # augmented rope -> unstretched length m (solver.water_slide)
 
-    def get(self) -> tuple:
-        """() before this thread kept anything, (newest,) after one value, else (older, newest)."""
-        return getattr(self._local, "pair", ())
+    def states(self) -> tuple:
+        """() before anything was kept, (newest,) after one state, else (older, newest)."""
+        return self._states
 
-    def put(self, value: Any) -> None:
-        self._local.pair = (*self.get()[-1:], value)
+    def keep_state(self, state: Any) -> None:
+        with self._lock:
+            self._states = (*self._states[-1:], state)
+
+    def lengths(self) -> dict[str, float]:
+        """The kept lengths of the sliding runs' cut parts (a copy)."""
+        with self._lock:
+            return dict(self._lengths)
+
+    def keep_lengths(self, lengths: dict[str, float]) -> None:
+        with self._lock:
+            if len(self._lengths) > 1024:
+                self._lengths = {}
+            self._lengths = {**self._lengths, **lengths}
 
     def forget(self) -> None:
-        """Forget this thread's values."""
-        self._local.pair = ()
+        """Forget everything kept: the next step starts cold."""
+        with self._lock:
+            self._states, self._lengths = (), {}
+        self.bows.clear()
 
 
-#: The last two settled states of a water solve (solver.water_predict): where a warm drag step starts.
-WATER_STATES = LastTwo()
+#: The live drag's trail (sketchpad.live_solve): every drag step and settled analysis of the drawn rig reads and
+#: keeps it, on whichever thread it runs.  No other solve touches it.
+LIVE_TRAIL = Trail()

@@ -24,12 +24,14 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, replace
+from functools import partial
 from typing import Callable, Mapping
 
 from solver.brent import brent_root
 from solver.hauling import DEFAULT_PER_PERSON_N
 from solver.model import Rig
 from solver.result import LoadNeed, Result
+from solver.water_trail import seeded
 
 #: The solver: (rig, start=..., ideal=...) -> Result (solver.equilibrium.solve unless a test counts its calls).
 Solve = Callable[..., Result]
@@ -165,9 +167,9 @@ def need_for_load(rig: Rig, result: Result, load_id: str, required_N: float | No
 
     ``per_person_N`` overrides the rig's pull per person (:func:`pull_per_person`).
     """
-    if solve is None:
+    if solve is None:  # the search's own trail, from the rig's solve: its steps follow it, never an earlier solve
         from solver.equilibrium import solve as solve_
-        solve = solve_
+        solve = partial(solve_, trail=seeded(result))
     load = rig.point(load_id)
     req = float(required_N if required_N is not None else (load.required_N or 0.0))
     lr = result.loads.get(load_id)

@@ -23,9 +23,11 @@ import logging
 import math
 import sys
 from dataclasses import dataclass, field, replace
+from functools import partial
 from pathlib import Path
 from typing import Callable, Iterable
 
+from solver import memo
 from solver.errors import RigModelError, RopewrightError
 from solver.model import Hardware, Material, Rig, Rigging
 from solver.nominal_ma import nominal_ma
@@ -233,8 +235,9 @@ def _row(value: float, res: Result) -> dict[str, float | str]:
 
 
 def _default_solve() -> SolveFn:
+    """The solver with a trail of its own: a sweep's warm steps follow each other, never an earlier solve."""
     from solver.equilibrium import solve
-    return solve
+    return partial(solve, trail=memo.Trail())
 
 
 def sweep(rig: Rig, vary: str | Vary, values: Iterable[float], progress: Progress | None = None,

@@ -33,6 +33,7 @@ from typing import Callable, Mapping
 
 import numpy as np
 
+from solver import memo
 from solver.ma_input import drawn_pull_N, hauls, rescaled_to_user
 from solver.materials import material_for
 from solver.model import Force, Pass, Point, Rig, Rope, Site
@@ -41,6 +42,7 @@ from solver.water_forces import HIDDEN, _drag_forces, _scale
 from solver.water_predict import drive, keep, predict
 from solver.water_site import FlowField, flow_field
 from solver.water_slide import MESH_REL, cut_run, remesh, start_mesh, warm_mesh
+from solver.water_trail import bow_start, keep_bows
 
 log = logging.getLogger(__name__)
 
@@ -245,9 +247,13 @@ def _mismatch(old: Mapping[str, np.ndarray], new: Mapping[str, np.ndarray], fixe
 
 
 def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion: str | None = None,
-                   ideal: bool = True) -> Result:
+                   ideal: bool = True, trail: memo.Trail | None = None) -> Result:
     """Equilibrium of ``rig`` with the current's drag on ropes and bodies (see the module docstring); ``solve`` is
-    :func:`solver.equilibrium.solve`, handed in (the equilibrium calls this module: no import circle)."""
+    :func:`solver.equilibrium.solve`, handed in (the equilibrium calls this module: no import circle).
+
+    ``trail`` (a live drag's, a search's): a warm solve also starts from its kept bows, cut-part lengths and the
+    extrapolation of its last two states, and a settled solve is kept on it; without one the answer depends on
+    ``rig`` and ``start`` alone (a failure scan, a report: never on what was solved before)."""
     if any(p.id.startswith(HIDDEN) for p in rig.points) or any(r.id.startswith(HIDDEN) for r in rig.ropes):
         return Result(status="invalid", message=f'ids may not begin with "{HIDDEN}"')
     ff = flow_field(rig)
@@ -257,11 +263,14 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
     if start:
         # a fixed point stays where the rig has it now (a dragged anchor): the start's is where it was
         at.update({k: tuple(v) for k, v in start.items() if k in at and k not in fixed})
-        at.update(_LAST_BOW.start(plan, at))
+        if trail is not None:
+            at.update(bow_start(trail, plan.chains, at))
         # the sliding runs' cut parts (water_slide)
-        mesh = warm_mesh(plan.rig, plan.sliding_parts, motion, _LAST_BOW.mesh(), plan.slide_groups)
-        predict({k: at[k] for k in fixed}, drive(rig), at, {h for c in plan.chains for h in c.hidden}, mesh.lengths,
-                plan.slide_groups)  # a steady drag: along the last step (water_predict)
+        mesh = warm_mesh(plan.rig, plan.sliding_parts, motion, trail.lengths() if trail is not None else {},
+                         plan.slide_groups)
+        if trail is not None:
+            predict(trail, {k: at[k] for k in fixed}, drive(rig), at, {h for c in plan.chains for h in c.hidden},
+                    mesh.lengths, plan.slide_groups)  # a steady drag: along the last step (water_predict)
     else:
         mesh = start_mesh(plan.rig, plan.sliding_parts, motion)
     forces, _ = _drag_forces(plan, ff, at)
@@ -287,70 +296,17 @@ def solve_in_water(rig: Rig, solve: Callable[..., Result], *, start=None, motion
         # friction acts: the frictionless re-solve behind the ideal MA, once, with the settled drag
         ma_ideal = solve(_with_forces(plan, forces), start=at, motion=motion, ideal=True, **mesh.kwargs()).ma_ideal
         result = replace(result, ma_ideal=ma_ideal)
+    if result is not None and result.ok and trail is not None:
+        keep_bows(trail, plan.chains, at)
+        trail.keep_lengths(mesh.lengths)
+        keep(trail, fixed, at, mesh.lengths, drive(rig))
     if result is not None and result.ok:
-        _LAST_BOW.keep(plan, at, mesh.lengths)
-        keep(fixed, at, mesh.lengths, drive(rig))
         if not hauls(rig):  # the MA is over the user's own pull, never over the current's drag
             solved, own = drawn_pull_N(_with_forces(plan, forces)), drawn_pull_N(rig)
             result = replace(result, ma_actual=rescaled_to_user(result.ma_actual, solved, own),
                              ma_ideal=rescaled_to_user(result.ma_ideal, solved, own))
     result = replace(result, iterations=iterations)
     return _mapped(rig, plan, ff, result, forces, gap, rounds)
-
-
-class _BowMemo:
-    """The last solved bow of each cut rope, to start the next warm solve from (drag speed only).
-
-    Keyed by (rope, piece); a warm solve places each hidden point at its chord fraction between the
-    (possibly moved) ends plus the old bow's offset from its chord at that fraction.  Guarded by a
-    lock (live solves run off the GUI thread); it only chooses a starting point, never an answer: the
-    solve is iterated to the same tolerance from any start (tested against a cold solve).
-    """
-
-    def __init__(self) -> None:
-        import threading
-
-        self._lock = threading.Lock()
-        self._bows: dict[tuple[str, int], tuple[np.ndarray, np.ndarray]] = {}
-        self._lengths: dict[str, float] = {}  # unstretched length of each cut part of a sliding run, m
-
-    def keep(self, plan: _Plan, at: Mapping[str, tuple[float, float]], lengths: Mapping[str, float]) -> None:
-        with self._lock:
-            if len(self._bows) > 64:
-                self._bows.clear()
-            if len(self._lengths) > 1024:
-                self._lengths.clear()
-            self._lengths.update(lengths)
-            for c in plan.chains:
-                a, b = np.array(at[c.a]), np.array(at[c.b])
-                nodes = np.array([at[h] for h in c.hidden])
-                self._bows[(c.rope, c.piece)] = (np.array(c.ts), nodes - (a + np.outer(c.ts, b - a)))
-
-    def mesh(self) -> dict[str, float]:
-        """The kept lengths of the sliding runs' cut parts (a copy)."""
-        with self._lock:
-            return dict(self._lengths)
-
-    def start(self, plan: _Plan, at: Mapping[str, tuple[float, float]]) -> dict[str, tuple[float, float]]:
-        out: dict[str, tuple[float, float]] = {}
-        with self._lock:
-            for c in plan.chains:
-                kept = self._bows.get((c.rope, c.piece))
-                if kept is None:
-                    continue
-                ts_old, off = kept
-                grid = np.concatenate(([0.0], ts_old, [1.0]))
-                ts = np.array(c.ts)
-                # the old bow's offset from its chord, read at the new fractions (the water's edge may have moved)
-                shift = np.column_stack([np.interp(ts, grid, np.concatenate(([0.0], off[:, i], [0.0])))
-                                         for i in (0, 1)])
-                a, b = np.array(at[c.a]), np.array(at[c.b])
-                nodes = a + np.outer(ts, b - a) + shift
-                out.update({h: (float(x), float(y)) for h, (x, y) in zip(c.hidden, nodes)})
-        return out
-
-
-_LAST_BOW = _BowMemo()
 
 
 def _mapped(rig: Rig, plan: _Plan, ff: FlowField, aug: Result, forces: Mapping[str, np.ndarray],

@@ -1,4 +1,5 @@
-"""Where a warm water solve starts its outer rounds: the last two settled states, extrapolated along the drag.
+"""Where a warm water solve starts its outer rounds: the last two settled states of its trail (a live drag, a
+pull-needed search: :class:`solver.memo.Trail`), extrapolated along the drag.
 
 The outer rounds of :func:`solver.water.solve_in_water` (drag from the solved directions, rope handed
 between the cut parts of a sliding run) gain a fixed factor per round, so their count is set by how far
@@ -47,10 +48,10 @@ def drive(rig: Rig) -> tuple[float, ...]:
     return tuple(hauls + forces)
 
 
-def keep(fixed: set[str], at: Mapping[str, tuple[float, float]], lengths: Mapping[str, float],
+def keep(trail: memo.Trail, fixed: set[str], at: Mapping[str, tuple[float, float]], lengths: Mapping[str, float],
          loads: tuple[float, ...]) -> None:
-    """Remember a settled solve (``at``: every point's position, ``fixed``: which are fixed)."""
-    memo.WATER_STATES.put(WaterState({k: tuple(v) for k, v in at.items() if k in fixed},
+    """Remember a settled solve on ``trail`` (``at``: every point's position, ``fixed``: which are fixed)."""
+    trail.keep_state(WaterState({k: tuple(v) for k, v in at.items() if k in fixed},
                                      {k: tuple(v) for k, v in at.items() if k not in fixed}, dict(lengths), loads))
 
 
@@ -76,16 +77,16 @@ def factor(fixed_now: Mapping[str, tuple[float, float]], loads_now: tuple[float,
     return float(np.clip((now @ then) / norm, MIN_STRETCH, MAX_STRETCH)) if norm > 0 else 0.0
 
 
-def predict(fixed_now: Mapping[str, tuple[float, float]], loads_now: tuple[float, ...],
+def predict(trail: memo.Trail, fixed_now: Mapping[str, tuple[float, float]], loads_now: tuple[float, ...],
             at: dict[str, tuple[float, float]], hidden: set[str], lengths: dict[str, float], groups) -> None:
-    """Move the warm start ``at`` (free points) and ``lengths`` along the last step's change, in place.
+    """Move the warm start ``at`` (free points) and ``lengths`` along ``trail``'s last step's change, in place.
 
     A drag step moves only a start from the newest state (every free user point of ``at`` where that state
     has it); a change of the loads alone (the pull-needed search starts from its nearest trial) starts from
     the two states' line whatever it was given.  A ``hidden`` point starts at its newest place plus the change.  ``groups``: per sliding run, (its kept
     parts, whether it is hauled) -- a run not hauled keeps its total rope.
     """
-    states = memo.WATER_STATES.get()
+    states = trail.states()
     if len(states) < 2:
         return
     older, newer = states

@@ -28,7 +28,6 @@ REL = 1e-8
 
 def forget_water() -> None:
     memo.forget_all()
-    water._LAST_BOW.__init__()
 
 
 def tight_cold(rig, monkeypatch):
@@ -126,19 +125,18 @@ def test_extrapolation_factor_is_the_projection_of_this_move_on_the_last():
 
 
 def test_prediction_keeps_a_run_s_rope_and_moves_only_a_start_from_the_newest_state():
-    memo.WATER_STATES.forget()
-    memo.WATER_STATES.put(state({"A": (0.0, 0.0)}, {"L": (1.0, 1.0), "h": (2.0, 2.0)}, {"p": 4.0, "q": 6.0}))
-    memo.WATER_STATES.put(state({"A": (0.1, 0.0)}, {"L": (1.1, 1.0), "h": (2.0, 2.2)}, {"p": 4.5, "q": 5.5}))
+    trail = memo.Trail()
+    trail.keep_state(state({"A": (0.0, 0.0)}, {"L": (1.0, 1.0), "h": (2.0, 2.0)}, {"p": 4.0, "q": 6.0}))
+    trail.keep_state(state({"A": (0.1, 0.0)}, {"L": (1.1, 1.0), "h": (2.0, 2.2)}, {"p": 4.5, "q": 5.5}))
     at = {"A": (0.2, 0.0), "L": (1.1, 1.0), "h": (9.0, 9.0)}
     lengths = {"p": 4.5, "q": 5.5}
-    predict({"A": (0.2, 0.0)}, (), at, {"h"}, lengths, [(("p", "q"), False)])
+    predict(trail, {"A": (0.2, 0.0)}, (), at, {"h"}, lengths, [(("p", "q"), False)])
     assert at["L"] == pytest.approx((1.2, 1.0)) and at["h"] == pytest.approx((2.0, 2.4))
     assert lengths["p"] + lengths["q"] == pytest.approx(10.0)  # a run not hauled keeps its rope
     assert lengths["p"] > 4.5
     at = {"A": (0.2, 0.0), "L": (0.7, 0.7), "h": (9.0, 9.0)}  # a start from elsewhere: left alone
-    predict({"A": (0.2, 0.0)}, (), at, {"h"}, {"p": 4.5, "q": 5.5}, [(("p", "q"), False)])
+    predict(trail, {"A": (0.2, 0.0)}, (), at, {"h"}, {"p": 4.5, "q": 5.5}, [(("p", "q"), False)])
     assert at == {"A": (0.2, 0.0), "L": (0.7, 0.7), "h": (9.0, 9.0)}
-    memo.WATER_STATES.forget()
 
 
 def test_two_threads_dragging_at_once_get_the_answers_of_one_thread():
@@ -164,15 +162,16 @@ def test_two_threads_dragging_at_once_get_the_answers_of_one_thread():
 
 
 def drag_sequence_no_forget(rig, pid: str, moves):
-    """Warm solves of ``rig`` with point ``pid`` dragged by each (dx, dy) in turn, keeping what is remembered."""
-    last = solve(rig)
+    """Warm solves of ``rig`` with point ``pid`` dragged by each (dx, dy) in turn on the live trail (as the
+    sketchpad makes them), keeping what is remembered."""
+    last = solve(rig, trail=memo.LIVE_TRAIL)
     p = rig.point(pid)
     x, y = p.x, p.y
     out = []
     for dx, dy in moves:
         x, y = x + dx, y + dy
         moved = rig.moved(pid, x, y)
-        last = solve(moved, start=dict(last.points), ideal=False)
+        last = solve(moved, start=dict(last.points), ideal=False, trail=memo.LIVE_TRAIL)
         assert last.ok, last.message
         out.append((moved, last))
     return out
@@ -180,39 +179,37 @@ def drag_sequence_no_forget(rig, pid: str, moves):
 
 def test_a_change_of_the_loads_alone_starts_between_the_last_two_states_whatever_the_start():
     # the pull-needed search hands the nearest trial's points; the line through the last two trials is nearer
-    memo.WATER_STATES.forget()
-    memo.WATER_STATES.put(WaterState({"A": (0.0, 0.0)}, {"L": (1.0, 1.0)}, {}, (880.0,)))
-    memo.WATER_STATES.put(WaterState({"A": (0.0, 0.0)}, {"L": (1.0, 2.0)}, {}, (440.0,)))
+    trail = memo.Trail()
+    trail.keep_state(WaterState({"A": (0.0, 0.0)}, {"L": (1.0, 1.0)}, {}, (880.0,)))
+    trail.keep_state(WaterState({"A": (0.0, 0.0)}, {"L": (1.0, 2.0)}, {}, (440.0,)))
     at = {"A": (0.0, 0.0), "L": (1.0, 1.0)}  # started from the older trial's answer
-    predict({"A": (0.0, 0.0)}, (660.0,), at, set(), {}, [])
+    predict(trail, {"A": (0.0, 0.0)}, (660.0,), at, set(), {}, [])
     assert at["L"] == pytest.approx((1.0, 1.5))  # half-way back along the line
-    memo.WATER_STATES.forget()
 
 
 def test_a_start_from_states_of_other_fixed_points_is_left_as_given():
     # the failure scan solves each rig with one part let go, one after another: the kept states (anchor A1 let
     # go) hold other fixed points than the rig solved now (A1 held, A2 let go), so the start is not moved (it
     # raised KeyError reading A1's kept place)
-    memo.WATER_STATES.forget()
-    memo.WATER_STATES.put(state({"A2": (5.0, 0.0)}, {"L": (1.0, 1.0)}))
-    memo.WATER_STATES.put(state({"A2": (5.1, 0.0)}, {"L": (1.1, 1.0)}))
+    trail = memo.Trail()
+    trail.keep_state(state({"A2": (5.0, 0.0)}, {"L": (1.0, 1.0)}))
+    trail.keep_state(state({"A2": (5.1, 0.0)}, {"L": (1.1, 1.0)}))
     at = {"L": (1.1, 1.0)}
-    predict({"A1": (0.0, 0.0)}, (), at, set(), {}, [])
+    predict(trail, {"A1": (0.0, 0.0)}, (), at, set(), {}, [])
     assert at == {"L": (1.1, 1.0)}
-    memo.WATER_STATES.forget()
 
 
-def test_the_kept_states_are_each_thread_s_own():
-    # the What-if scan on the worker must not move where the GUI thread's next drag step starts
+def test_a_scan_on_the_worker_never_moves_where_the_drag_starts():
+    # the What-if scan on the worker reads and keeps no trail: the live drag's next step starts where it would have
     import threading
 
-    memo.WATER_STATES.forget()
-    memo.WATER_STATES.put(state({"A": (0.0, 0.0)}))
-    seen: list = []
-    worker = threading.Thread(target=lambda: (seen.append(memo.WATER_STATES.get()),
-                                              memo.WATER_STATES.put(state({"A": (9.0, 9.0)}))))
+    from solver.failures import scan
+
+    raft = load_rig(SAMPLES / "raft-3to1-redirect.rig.json")
+    drag_sequence(raft, "A2", [(0.02, 0.0)] * 2)
+    kept = memo.LIVE_TRAIL.states()
+    worker = threading.Thread(target=lambda: scan(raft))
     worker.start()
     worker.join()
-    assert seen == [()]
-    assert [s.fixed for s in memo.WATER_STATES.get()] == [{"A": (0.0, 0.0)}]
-    memo.WATER_STATES.forget()
+    assert memo.LIVE_TRAIL.states() is kept
+    forget_water()

@@ -28,6 +28,7 @@ from typing import Any, Iterator
 
 import pytest
 
+from solver import memo
 from solver.equilibrium import solve
 from solver.rigfile import embed_specs, load_rig, rig_from_dict, rig_to_dict
 from tests import rigs
@@ -123,14 +124,15 @@ def _solves() -> Iterator[tuple[str, Any, str | None]]:
 
 def _drag_results(rig, pid: str, path: list, motion: str) -> list:
     """The cold solve, then each step moved from the last and warm-started from its Result (ideal MA off, as the
-    live drag asks), then the full solve of the last step."""
-    out = [solve(rig, motion=motion)]
+    live drag asks), then the full solve of the last step: all on one new trail, as the live drag keeps one."""
+    trail = memo.Trail()
+    out = [solve(rig, motion=motion, trail=trail)]
     current = rig
     for x, y in path:
         current = current.moved(pid, x, y)
         start = {k: v for k, v in rigs.start_from(out[-1]).items() if k != pid}
-        out.append(solve(current, start=start, motion=motion, ideal=False))
-    out.append(solve(current, start=rigs.start_from(out[-1]), motion=motion))
+        out.append(solve(current, start=start, motion=motion, ideal=False, trail=trail))
+    out.append(solve(current, start=rigs.start_from(out[-1]), motion=motion, trail=trail))
     return out
 
 
