@@ -377,13 +377,13 @@ def test_analyse_puts_solver_warnings_first_and_keeps_failure_status(monkeypatch
     rig = line_rig(cap=1e9)
     solver_w = Warning_("solver-note", "r", "from the solver", "info")
     fake = types.ModuleType("solver.equilibrium")
-    fake.solve = lambda r, *, start=None, motion=None: hand_result(r, {("r", 0): 0.0}, warnings=(solver_w,))
+    fake.solve = lambda r, *, start=None, motion=None, trail=None: hand_result(r, {("r", 0): 0.0}, warnings=(solver_w,))
     monkeypatch.setitem(sys.modules, "solver.equilibrium", fake)
     from solver.analysis import analyse
 
     res = analyse(rig)
     assert res.ok and res.warnings[0] == solver_w and "slack-run" in codes(res.warnings)
-    fake.solve = lambda r, *, start=None, motion=None: Result(status="invalid", message="bad", subject="r")
+    fake.solve = lambda r, *, start=None, motion=None, trail=None: Result(status="invalid", message="bad", subject="r")
     bad = analyse(rig)
     assert bad.status == "invalid" and bad.message == "bad" and codes(bad.warnings) == ["checks-skipped"]
 
@@ -392,7 +392,7 @@ def test_analyse_does_not_repeat_a_warning_the_solver_already_gave(monkeypatch):
     rig = line_rig(cap=1e9)
     dup = run_checks(rig, hand_result(rig, {("r", 0): 0.0}))
     fake = types.ModuleType("solver.equilibrium")
-    fake.solve = lambda r, *, start=None, motion=None: hand_result(r, {("r", 0): 0.0}, warnings=dup)
+    fake.solve = lambda r, *, start=None, motion=None, trail=None: hand_result(r, {("r", 0): 0.0}, warnings=dup)
     monkeypatch.setitem(sys.modules, "solver.equilibrium", fake)
     from solver.analysis import analyse
 
