@@ -218,10 +218,9 @@ class Drawing:
         rig, result = self.rig, self.result
         self.pieces = self.force_item.set_bands(rig, result)
         labels, arrows = build_labels(rig, result, self.layers)
-        from sketchpad.water_labels import water_labels  # wet-end tensions and the current's push, placed too
+        from sketchpad.water_labels import shown, water_labels  # wet-end tensions and the current's push, placed too
 
-        labels += [lab for lab in water_labels(rig, result, {})
-                   if ("tensions" if lab.kind == "wet-end" else "anchors") in self.layers]
+        labels += shown(water_labels(rig, result, {}), self.layers.__contains__)
         self.force_item.labels, self.force_item.arrows = labels, arrows
 
         def to_px(p: tuple[float, float]) -> tuple[float, float]:

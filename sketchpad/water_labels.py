@@ -33,6 +33,13 @@ CURRENT_PRIORITY = 85.0
 WET_STRETCH_SHARE = 0.35
 #: the current's push arrow, metres downstream of its body (drawn by ``water_layer.bow_marks``)
 PUSH_ARROW_M = 3.0
+#: the overlay layer each water label shows with: wet-end tensions with the rope tensions, the push with the forces
+LAYER_OF_KIND = {"wet-end": "tensions", "current": "anchors"}
+
+
+def shown(labels: list, layer_on) -> list:
+    """The water ``labels`` whose layer (:data:`LAYER_OF_KIND`) ``layer_on(name)`` says is shown."""
+    return [lab for lab in labels if layer_on(LAYER_OF_KIND[lab.kind])]
 
 
 def push_tip(x: float, y: float, fx: float, fy: float) -> tuple[float, float]:

@@ -20,7 +20,7 @@ from sketchpad.overlay.zones import ZoneItem
 from sketchpad.hardware_marks import hardware_labels
 from sketchpad.rope_names import rope_name_labels  # names placed with the numbers, never under them
 from sketchpad.short_text import drawn
-from sketchpad.water_labels import water_labels  # wet-end tensions and the current's push, placed with the rest
+from sketchpad.water_labels import shown, water_labels  # wet-end tensions and the current's push, placed with the rest
 from sketchpad.water_layer import WaterItem
 from sketchpad.feature_names import FeatureNameBoxes
 from solver.model import Rig
@@ -182,7 +182,7 @@ class ResultOverlay(QObject):
             labels = labels + rope_name_labels(rig, pos, self.__dict__.setdefault("_name_memo", {}))
         wet = water_labels(rig, result, self.__dict__.setdefault("_water_memo", {}), pos)
         if wet:  # wet-end tensions with the tensions, the current's push with the forces
-            labels = labels + [lab for lab in wet if self.layers["tensions" if lab.kind == "wet-end" else "anchors"]]
+            labels = labels + shown(wet, self.layers.__getitem__)
         self.scene.set_rope_names_in_overlay(pieces_labelled)
         self.force_item.labels, self.force_item.arrows = labels, arrows
         if self.layers["zones"] and not getattr(self, "_zones_due", True):
